@@ -1,0 +1,27 @@
+// Reading and writing the network file format (spec: network-format.md) and
+// pleat's domain file format (outputs.md). Reading is exact: numbers are taken
+// from their literal text, never through a double.
+#pragma once
+
+#include "core/network.hpp"
+
+#include <filesystem>
+#include <string>
+#include <string_view>
+
+namespace pleat {
+
+// Parses a "pleat-network/1" document. Throws input_error with one message
+// naming the JSON path of the first fault, e.g.
+// "layers[1].weights[2]: expected 3 numbers, found 2". Nothing is returned
+// half-read.
+Network parse_network(std::string_view json_text);
+
+// Reads a file; a missing or unreadable file is an input_error naming it.
+Network read_network_file(const std::filesystem::path& path);
+
+// The canonical document (rationals as strings in lowest terms, name and meta
+// kept). parse_network(write_network(n)) == n.
+std::string write_network(const Network& network);
+
+}  // namespace pleat

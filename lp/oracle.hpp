@@ -1,0 +1,63 @@
+// The polyhedral queries the walker asks, each answered with an exact
+// certificate. GLPK (double) proposes; exact rational arithmetic verifies the
+// proposal; when verification fails an exact rational LP (cddlib, GMP build)
+// decides. Every returned verdict has passed lp/checker.hpp.
+#pragma once
+
+#include "lp/polyhedron.hpp"
+
+#include <cstdint>
+#include <memory>
+
+namespace pleat::lp {
+
+// Working tolerances of the double filter only. They never decide anything:
+// a proposal made with them is checked exactly.
+struct FilterTolerances {
+  double positive_slack = 1e-9;  // a double LP value above this is "clearly > 0"
+};
+
+struct QueryCounts {
+  std::uint64_t lp_queries = 0;       // questions answered (each query counts its sub-questions)
+  std::uint64_t filter_settled = 0;   // answered by a verified double proposal
+  std::uint64_t exact_fallbacks = 0;  // needed the exact solver
+  QueryCounts& operator+=(const QueryCounts& other);
+};
+
+// One solver state. Not shareable between threads: use one Oracle per thread
+// (different Oracles may run concurrently).
+class Oracle {
+ public:
+  explicit Oracle(FilterTolerances tolerances = {});
+  ~Oracle();
+  Oracle(const Oracle&) = delete;
+  Oracle& operator=(const Oracle&) = delete;
+  Oracle(Oracle&&) noexcept;
+  Oracle& operator=(Oracle&&) noexcept;
+
+  // Query 1: is the open cell non-empty? Exact verdict.
+  CellVerdict decide_open_cell(const Polyhedron& cell);
+
+  // Query 4: a well-centred rational point strictly inside a non-empty open
+  // cell, with short denominators (a Chebyshev-style centre in a norm computed
+  // exactly, the radius capped by radius_cap > 0, rounded and re-checked).
+  // Returns EmptinessCertificate when the cell is empty. Exact verdict.
+  CellVerdict find_centre(const Polyhedron& cell, const Rational& radius_cap = Rational(1));
+
+  // Query 2: every group of constraints classified as a facet of the closed
+  // cell (with a relative-interior point) or not (with a Motzkin certificate).
+  // Precondition: interior is an InteriorPoint of cell (checked; usage_error).
+  FacetClassification classify_facets(const Polyhedron& cell, const InteriorPoint& interior);
+
+  // Query 3: is the closed cell bounded? Precondition: the open cell is
+  // non-empty. Exact verdict.
+  BoundednessVerdict decide_boundedness(const Polyhedron& cell);
+
+  const QueryCounts& counts() const;
+
+ private:
+  struct State;
+  std::unique_ptr<State> state_;
+};
+
+}  // namespace pleat::lp

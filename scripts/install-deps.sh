@@ -1,0 +1,25 @@
+#!/usr/bin/env bash
+# Installs the Debian 12 packages pleat needs, only those missing (so a second
+# run does nothing and needs no network). Run as root.
+set -euo pipefail
+packages=(
+  g++ make cmake pkg-config
+  libgmp-dev libmpfr-dev libboost-dev libglpk-dev libeigen3-dev libflint-dev libcdd-dev
+  libgtest-dev nlohmann-json3-dev libcli11-dev
+  python3 python3-numpy python3-sympy python3-scipy python3-torch
+  librsvg2-bin
+)
+missing=()
+for p in "${packages[@]}"; do
+  dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q 'install ok installed' || missing+=("$p")
+done
+if ((${#missing[@]})); then
+  echo "pleat: installing ${missing[*]}" >&2
+  if [ "$(id -u)" -ne 0 ]; then
+    echo "pleat: missing packages; run as root or install them: apt-get install ${missing[*]}" >&2
+    exit 1
+  fi
+  export DEBIAN_FRONTEND=noninteractive
+  apt-get update -qq
+  apt-get install -y -qq --no-install-recommends "${missing[@]}"
+fi
