@@ -1,0 +1,1 @@
+// Translation unit placeholder until the walker lands.
