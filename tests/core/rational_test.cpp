@@ -1,0 +1,127 @@
+// The exact number grammar of spec/network-format.md and the double bridges.
+#include "core/rational.hpp"
+
+#include <gtest/gtest.h>
+
+#include <chrono>
+#include <cmath>
+#include <limits>
+#include <string>
+
+namespace pleat {
+namespace {
+
+Rational fraction(long numerator, long denominator) {
+  Rational value(numerator, denominator);
+  value.canonicalize();
+  return value;
+}
+
+TEST(ParseRational, TenTimesOneTenthIsExactlyOne) {
+  Rational sum = 0;
+  for (int i = 0; i < 10; ++i) sum += parse_rational("0.1");
+  EXPECT_EQ(sum, Rational(1));
+  EXPECT_EQ(parse_rational("0.1"), fraction(1, 10));
+  // The double 0.1 is not 1/10: the bridge from double must show the difference.
+  EXPECT_NE(rational_from_double(0.1), fraction(1, 10));
+}
+
+TEST(ParseRational, DecimalForms) {
+  EXPECT_EQ(parse_rational("7"), Rational(7));
+  EXPECT_EQ(parse_rational("-7"), Rational(-7));
+  EXPECT_EQ(parse_rational("0"), Rational(0));
+  EXPECT_EQ(parse_rational("-0"), Rational(0));
+  EXPECT_EQ(parse_rational("3."), Rational(3));
+  EXPECT_EQ(parse_rational(".25"), fraction(1, 4));
+  EXPECT_EQ(parse_rational("-.5e1"), Rational(-5));
+  EXPECT_EQ(parse_rational("1e-3"), fraction(1, 1000));
+  EXPECT_EQ(parse_rational("1E+3"), Rational(1000));
+  EXPECT_EQ(parse_rational("2.50e-1"), fraction(1, 4));
+  EXPECT_EQ(parse_rational("0012.5"), fraction(25, 2));
+  EXPECT_EQ(parse_rational("1e4000"), Rational(Integer("1" + std::string(4000, '0'))));
+}
+
+TEST(ParseRational, TinyAndHugeStayExact) {
+  Rational tiny = parse_rational("1e-30");
+  EXPECT_EQ(tiny.get_num(), 1);
+  EXPECT_EQ(tiny.get_den(), Integer("1" + std::string(30, '0')));
+  const std::string thirty_digits = "123456789012345678901234567890";
+  EXPECT_EQ(parse_rational(thirty_digits), Rational(Integer(thirty_digits)));
+}
+
+TEST(ParseRational, FractionsAreReduced) {
+  EXPECT_EQ(parse_rational("2/4"), fraction(1, 2));
+  EXPECT_EQ(format_rational(parse_rational("2/4")), "1/2");
+  EXPECT_EQ(parse_rational("-6/3"), Rational(-2));
+  EXPECT_EQ(parse_rational("0/5"), Rational(0));
+}
+
+TEST(ParseRational, RejectsBadGrammar) {
+  for (const char* bad : {"1/0", "1.2.3", " 1", "1 ", "+1", "0x10", "1e", "", "NaN", "nan", "inf",
+                          "Infinity", "-", ".", "-.", "1/", "/2", "1/-2", "-1/+2", "1.5/2", "1/2e3",
+                          "1e+", "1e1.5", "--1", "1,5", "e5", "1_000"}) {
+    EXPECT_THROW(parse_rational(bad), input_error) << "accepted \"" << bad << "\"";
+  }
+}
+
+TEST(ParseRational, ZeroDenominatorMessage) {
+  try {
+    parse_rational("3/0");
+    FAIL() << "3/0 accepted";
+  } catch (const input_error& error) {
+    EXPECT_NE(std::string(error.what()).find("zero denominator"), std::string::npos) << error.what();
+  }
+}
+
+TEST(ParseRational, HugeExponentsRejectedFast) {
+  const auto start = std::chrono::steady_clock::now();
+  EXPECT_THROW(parse_rational("1e999999"), input_error);
+  EXPECT_THROW(parse_rational("1e-999999"), input_error);
+  EXPECT_THROW(parse_rational("1e4001"), input_error);
+  EXPECT_THROW(parse_rational("1e-4001"), input_error);
+  EXPECT_THROW(parse_rational("1e" + std::string(10000, '9')), input_error);
+  const auto elapsed = std::chrono::steady_clock::now() - start;
+  EXPECT_LT(std::chrono::duration<double>(elapsed).count(), 0.05);
+  // Leading zeros in the exponent are harmless: the value is what counts.
+  EXPECT_EQ(parse_rational("1e" + std::string(10000, '0') + "2"), Rational(100));
+  EXPECT_EQ(parse_rational("1e-4000"), Rational(Integer(1), Integer("1" + std::string(4000, '0'))));
+}
+
+TEST(FormatRational, LowestTermsPositiveDenominator) {
+  EXPECT_EQ(format_rational(fraction(6, -16)), "-3/8");
+  EXPECT_EQ(format_rational(Rational(-7)), "-7");
+  EXPECT_EQ(format_rational(Rational(0)), "0");
+  for (const char* text : {"-3/8", "7", "1/1000000000000000000000000000000", "-123456789012345678901234567890"})
+    EXPECT_EQ(format_rational(parse_rational(text)), text);
+}
+
+TEST(Doubles, FromDoubleIsExactDyadic) {
+  EXPECT_EQ(rational_from_double(0.375), fraction(3, 8));
+  EXPECT_EQ(rational_from_double(-2.0), Rational(-2));
+  // 0.1 as a double is 3602879701896397 / 2^55 (IEEE 754 binary64 rounding of 1/10).
+  Rational expected(Integer("3602879701896397"), Integer(1) << 55);
+  expected.canonicalize();
+  EXPECT_EQ(rational_from_double(0.1), expected);
+  EXPECT_THROW(rational_from_double(std::numeric_limits<double>::quiet_NaN()), input_error);
+  EXPECT_THROW(rational_from_double(std::numeric_limits<double>::infinity()), input_error);
+  EXPECT_THROW(rational_from_double(-std::numeric_limits<double>::infinity()), input_error);
+}
+
+TEST(Doubles, ToDoubleRoundsToNearest) {
+  // The double nearest 1/10 lies above it, so a truncating conversion (mpq_get_d)
+  // would return the double below 0.1 and fail here.
+  EXPECT_EQ(to_double(fraction(1, 10)), 0.1);
+  EXPECT_EQ(to_double(fraction(-3, 8)), -0.375);
+  EXPECT_EQ(to_double(fraction(1, 3)), 1.0 / 3.0);
+  EXPECT_EQ(to_double(fraction(2, 3)), 2.0 / 3.0);
+  // Round trip through the exact bridge for awkward doubles.
+  for (double value : {0.1, -1e-300, 1.7976931348623157e308, 4.9406564584124654e-324, 123.456})
+    EXPECT_EQ(to_double(rational_from_double(value)), value);
+  DoubleVector converted = to_double(RationalVector{fraction(1, 2), Rational(-3)});
+  ASSERT_EQ(converted.size(), 2u);
+  EXPECT_EQ(converted[0], 0.5);
+  EXPECT_EQ(converted[1], -3.0);
+}
+
+}  // namespace
+}  // namespace pleat
