@@ -1,0 +1,117 @@
+// Exact and modular rank, and exact kernels, of rational matrices (the
+// functional dimension's arithmetic). Functions on RationalMatrix are exact;
+// everything modulo a prime is a lower bound of the rational rank only.
+//
+// Why a rank modulo p is a lower bound: a rational matrix whose entries have
+// denominators prime to p maps entrywise into Z/p by a ring homomorphism, so
+// every minor maps to the same minor of the reduced matrix. A minor that is
+// zero over Q stays zero mod p; a minor that is nonzero mod p was nonzero over
+// Q. Hence rank_p(M mod p) <= rank_Q(M), and the r accepted rows of a
+// ModularRowBasis, restricted to its pivot columns, are an r x r minor that is
+// nonsingular mod p and therefore over Q (the design's lower-bound certificate).
+#pragma once
+
+#include "core/matrix.hpp"
+#include "core/rational.hpp"
+
+#include <cstddef>
+#include <cstdint>
+#include <optional>
+#include <vector>
+
+namespace pleat {
+
+// Rows of residues in [0, p): the modular image of a rational matrix.
+using ModularMatrix = Matrix<std::uint64_t>;
+using ModularVector = std::vector<std::uint64_t>;
+
+// ---- Exact rank and kernel --------------------------------------------------
+
+// The rank of M over Q. Rows are scaled to primitive integer vectors and
+// handed to FLINT's fmpz_mat_rank (multimodular with an exact fallback).
+// Exact. An empty matrix has rank 0.
+std::size_t rank_exact(const RationalMatrix& matrix);
+
+// Plain Gaussian elimination over GMP rationals. Slow and simple: kept only
+// as a test oracle for rank_exact. Exact.
+std::size_t rank_by_gauss_naive(const RationalMatrix& matrix);
+
+// The canonical basis of the right kernel {v in Q^cols : M v = 0}: the unique
+// reduced row-echelon form (columns in the matrix's column order, i.e. the
+// parameter order for Jacobian rows) of any matrix whose rows span the kernel.
+// Each row's leading entry is 1 and is the only nonzero entry of its column;
+// leading columns increase down the rows. Two runs, or two generating sets of
+// the same row space, give the identical matrix. Result: (cols - rank) x cols
+// (0 x cols when the kernel is trivial). Exact.
+RationalMatrix kernel_basis_exact(const RationalMatrix& matrix);
+
+// The reduced row-echelon form of M with the zero rows removed: the
+// canonical basis of M's row space. Exact.
+RationalMatrix row_space_basis_exact(const RationalMatrix& matrix);
+
+// ---- Primes and reduction modulo p ------------------------------------------
+
+// Fixed word-size primes: the walker's accumulator prime (the first prime
+// above 2^62) and a different screening prime (the first prime above 2^61).
+// Any prime below 2^63 works with every function here.
+std::uint64_t primary_prime();
+std::uint64_t screening_prime();
+// The smallest prime > after (for retrying when a denominator is divisible by
+// the prime in use). Precondition: after < 2^63 (throws usage_error).
+std::uint64_t next_prime_after(std::uint64_t after);
+
+// value mod p as a residue in [0, p), or nullopt when p divides the
+// denominator. Precondition: p is a prime >= 2 (not checked beyond p >= 2).
+std::optional<std::uint64_t> reduce_modulo(const Rational& value, std::uint64_t prime);
+
+// M mod p entrywise, or nullopt when p divides some denominator.
+std::optional<ModularMatrix> reduce_modulo(const RationalMatrix& matrix, std::uint64_t prime);
+
+// The rank of M mod p (FLINT nmod_mat_rank). A lower bound of the rank over Q
+// of any rational matrix that reduces to M (see the top of this header).
+std::size_t rank_modulo(const ModularMatrix& matrix, std::uint64_t prime);
+
+// ---- Incremental modular row basis ------------------------------------------
+
+// The walker's lower-bound accumulator: a semi-echelon basis modulo a prime
+// of the rows added so far. Each kept row has a pivot column where it is 1
+// and every row kept before it is 0, so reducing a new row against the kept
+// rows in order costs one pass per kept row (FLINT's nmod vector helpers).
+// rank() is the rank mod p of all rows ever added: a lower bound of their
+// rank over Q when they are images of rational rows (top of this header).
+class ModularRowBasis {
+ public:
+  // Precondition: prime is a prime in [2, 2^63) (throws usage_error if < 2
+  // or too large).
+  ModularRowBasis(std::uint64_t prime, std::size_t columns);
+
+  // Reduces row (residues in [0, p), size columns()) against the basis; keeps
+  // it when independent. Returns true exactly when the rank rose.
+  // Precondition: row.size() == columns() (throws usage_error).
+  bool add_row(const ModularVector& row);
+
+  // True when row lies in the span mod p of the kept rows (the basis is not
+  // changed). Same precondition as add_row.
+  bool contains(const ModularVector& row) const;
+
+  std::size_t rank() const { return pivot_columns_.size(); }
+  std::size_t columns() const { return columns_; }
+  std::uint64_t prime() const { return prime_; }
+  // Pivot column of each kept row, in the order the rows were kept: with the
+  // kept rows, the nonsingular minor behind rank().
+  const std::vector<std::size_t>& pivot_columns() const { return pivot_columns_; }
+
+ private:
+  // Reduces row in place against every kept row; returns the first nonzero
+  // column or columns_ when the row reduced to zero.
+  std::size_t reduce(ModularVector& row) const;
+
+  std::uint64_t prime_;
+  std::uint64_t prime_inverse_;  // FLINT's precomputed inverse for n_mulmod2_preinv
+  unsigned prime_norm_;          // leading zero bits of prime (FLINT nmod_t layout)
+  std::size_t columns_;
+  std::vector<ModularVector> rows_;  // kept rows, reduced
+  std::vector<std::size_t> pivot_columns_;
+};
+
+}  // namespace pleat

@@ -1,0 +1,278 @@
+// Exact and modular rank: every answer is checked a second way (a naive
+// rational elimination, matrices of known rank built as products, kernel
+// vectors multiplied back).
+#include "core/rank.hpp"
+
+#include <gtest/gtest.h>
+
+#include <cstdint>
+#include <random>
+
+namespace pleat {
+namespace {
+
+RationalMatrix random_integer_matrix(std::mt19937_64& random, std::size_t rows, std::size_t cols,
+                                     int bound) {
+  std::uniform_int_distribution<int> entry(-bound, bound);
+  RationalMatrix m(rows, cols);
+  for (std::size_t r = 0; r < rows; ++r)
+    for (std::size_t c = 0; c < cols; ++c) m(r, c) = entry(random);
+  return m;
+}
+
+RationalMatrix random_rational_matrix(std::mt19937_64& random, std::size_t rows, std::size_t cols) {
+  std::uniform_int_distribution<int> numerator(-9, 9);
+  std::uniform_int_distribution<int> denominator(1, 7);
+  RationalMatrix m(rows, cols);
+  for (std::size_t r = 0; r < rows; ++r)
+    for (std::size_t c = 0; c < cols; ++c) {
+      m(r, c) = Rational(numerator(random), denominator(random));
+      m(r, c).canonicalize();
+    }
+  return m;
+}
+
+// B (rows x inner) times C (inner x cols) with random rational entries: rank
+// is inner with overwhelming probability, and never more. The test asserts
+// the naive oracle agrees, so an unlucky draw cannot pass silently.
+RationalMatrix random_product(std::mt19937_64& random, std::size_t rows, std::size_t inner,
+                              std::size_t cols) {
+  return product(random_rational_matrix(random, rows, inner),
+                 random_rational_matrix(random, inner, cols));
+}
+
+void expect_annihilates(const RationalMatrix& m, const RationalMatrix& kernel) {
+  for (std::size_t k = 0; k < kernel.rows(); ++k) {
+    const RationalVector image = product(m, kernel.row(k));
+    for (std::size_t r = 0; r < image.size(); ++r) ASSERT_EQ(image[r], 0) << "kernel row " << k;
+  }
+}
+
+// The echelon shape kernel_basis_exact promises: leading 1s in increasing
+// columns, each the only nonzero of its column.
+void expect_reduced_echelon(const RationalMatrix& m) {
+  std::size_t previous_lead = 0;
+  for (std::size_t r = 0; r < m.rows(); ++r) {
+    std::size_t lead = 0;
+    while (lead < m.cols() && m(r, lead) == 0) ++lead;
+    ASSERT_LT(lead, m.cols()) << "zero row " << r;
+    if (r > 0) {
+      EXPECT_GT(lead, previous_lead);
+    }
+    EXPECT_EQ(m(r, lead), 1);
+    for (std::size_t other = 0; other < m.rows(); ++other) {
+      if (other != r) {
+        EXPECT_EQ(m(other, lead), 0);
+      }
+    }
+    previous_lead = lead;
+  }
+}
+
+TEST(RankExact, KnownRankProductsAgreeWithNaiveElimination) {
+  std::mt19937_64 random(20240501);
+  for (int trial = 0; trial < 40; ++trial) {
+    const std::size_t rows = 1 + random() % 12;
+    const std::size_t cols = 1 + random() % 14;
+    const std::size_t inner = 1 + random() % std::min(rows, cols);
+    const RationalMatrix m = random_product(random, rows, inner, cols);
+    const std::size_t naive = rank_by_gauss_naive(m);
+    ASSERT_EQ(naive, inner) << "trial " << trial;
+    EXPECT_EQ(rank_exact(m), naive) << "trial " << trial;
+  }
+}
+
+TEST(RankExact, EdgeCases) {
+  EXPECT_EQ(rank_exact(RationalMatrix()), 0u);
+  EXPECT_EQ(rank_exact(RationalMatrix(3, 4)), 0u);
+  EXPECT_EQ(rank_by_gauss_naive(RationalMatrix(3, 4)), 0u);
+  RationalMatrix m(2, 2);
+  m(0, 0) = Rational(1, 3);
+  m(0, 1) = Rational(2, 5);
+  m(1, 0) = Rational(5, 6);  // 5/2 times row 0
+  m(1, 1) = 1;
+  EXPECT_EQ(rank_exact(m), 1u);
+  m(1, 1) = Rational(1000001, 1000000);
+  EXPECT_EQ(rank_exact(m), 2u);
+}
+
+// Huge entries whose tiny difference decides the rank: a float rank would
+// call this 1.
+TEST(RankExact, DecidesNearlyDependentRowsExactly) {
+  RationalMatrix m(2, 2);
+  const Rational big(Integer("123456789012345678901234567890"));
+  m(0, 0) = big;
+  m(0, 1) = big + 1;
+  m(1, 0) = big + 1;
+  m(1, 1) = big + 2;  // det = big*(big+2) - (big+1)^2 = -1
+  EXPECT_EQ(rank_exact(m), 2u);
+  EXPECT_EQ(rank_by_gauss_naive(m), 2u);
+}
+
+TEST(KernelBasisExact, AnnihilatesAndHasComplementaryDimension) {
+  std::mt19937_64 random(7);
+  for (int trial = 0; trial < 30; ++trial) {
+    const std::size_t rows = 1 + random() % 9;
+    const std::size_t cols = 1 + random() % 11;
+    const std::size_t inner = 1 + random() % std::min(rows, cols);
+    const RationalMatrix m = random_product(random, rows, inner, cols);
+    const RationalMatrix kernel = kernel_basis_exact(m);
+    ASSERT_EQ(kernel.cols(), cols);
+    EXPECT_EQ(kernel.rows(), cols - rank_by_gauss_naive(m)) << "trial " << trial;
+    EXPECT_EQ(rank_exact(kernel), kernel.rows());  // a basis, not just a spanning set
+    expect_annihilates(m, kernel);
+    expect_reduced_echelon(kernel);
+  }
+}
+
+// Canonical: a different generating set of the same row space (rows mixed
+// and duplicated) gives the identical kernel matrix.
+TEST(KernelBasisExact, CanonicalForTheRowSpace) {
+  std::mt19937_64 random(11);
+  const RationalMatrix m = random_product(random, 4, 3, 8);
+  const RationalMatrix mixer = random_rational_matrix(random, 6, 4);
+  const RationalMatrix other = product(mixer, m);
+  ASSERT_EQ(rank_exact(other), 3u);
+  EXPECT_EQ(kernel_basis_exact(m), kernel_basis_exact(other));
+  EXPECT_EQ(row_space_basis_exact(m), row_space_basis_exact(other));
+}
+
+TEST(KernelBasisExact, HandWorkedExample) {
+  // Kernel of x + 2y + 3z = 0, worked by hand: spanned by (-2, 1, 0) and
+  // (-3, 0, 1).
+  RationalMatrix m(1, 3);
+  m(0, 0) = 1;
+  m(0, 1) = 2;
+  m(0, 2) = 3;
+  const RationalMatrix kernel = kernel_basis_exact(m);
+  ASSERT_EQ(kernel.rows(), 2u);
+  // RREF of [[-2, 1, 0], [-3, 0, 1]]: row1/(-2) = (1, -1/2, 0);
+  // row2 + 3 row1' = (0, -3/2, 1) -> (0, 1, -2/3); row1' + 1/2 row2' = (1, 0, -1/3).
+  EXPECT_EQ(kernel(0, 0), 1);
+  EXPECT_EQ(kernel(0, 1), 0);
+  EXPECT_EQ(kernel(0, 2), Rational(-1, 3));
+  EXPECT_EQ(kernel(1, 0), 0);
+  EXPECT_EQ(kernel(1, 1), 1);
+  EXPECT_EQ(kernel(1, 2), Rational(-2, 3));
+  EXPECT_EQ(kernel_basis_exact(RationalMatrix(0, 3)).rows(), 3u);
+  RationalMatrix full(2, 2);
+  full(0, 0) = 1;
+  full(1, 1) = 1;
+  EXPECT_EQ(kernel_basis_exact(full).rows(), 0u);
+}
+
+TEST(ReduceModulo, InvertsDenominatorsAndReportsDivisibleOnes) {
+  const std::uint64_t p = 101;
+  EXPECT_EQ(reduce_modulo(Rational(-1), p), 100u);
+  const auto third = reduce_modulo(Rational(1, 3), p);
+  ASSERT_TRUE(third.has_value());
+  EXPECT_EQ((*third * 3) % p, 1u);
+  EXPECT_EQ(reduce_modulo(Rational(-7, 3), p).value(), (p - (7 * *third) % p) % p);
+  EXPECT_FALSE(reduce_modulo(Rational(1, 202), p).has_value());
+  EXPECT_EQ(reduce_modulo(Rational(202, 3), p), 0u);
+}
+
+TEST(Primes, WordSizeDistinctAndPrime) {
+  const std::uint64_t p = primary_prime();
+  const std::uint64_t q = screening_prime();
+  EXPECT_GT(p, std::uint64_t{1} << 62);
+  EXPECT_GT(q, std::uint64_t{1} << 61);
+  EXPECT_NE(p, q);
+  EXPECT_GT(next_prime_after(p), p);
+  // Fermat witness on both primes: 3^(p-1) = 1 mod p, computed by
+  // double-and-add independently of FLINT (p < 2^63, so sums never overflow).
+  for (std::uint64_t prime : {p, q}) {
+    const auto add = [prime](std::uint64_t a, std::uint64_t b) { return (a + b) % prime; };
+    const auto multiply = [&](std::uint64_t a, std::uint64_t b) {
+      std::uint64_t result = 0;
+      for (; b > 0; b >>= 1, a = add(a, a))
+        if (b & 1) result = add(result, a);
+      return result;
+    };
+    std::uint64_t result = 1, base = 3;
+    for (std::uint64_t e = prime - 1; e > 0; e >>= 1, base = multiply(base, base))
+      if (e & 1) result = multiply(result, base);
+    EXPECT_EQ(result, 1u);
+  }
+}
+
+TEST(ModularRowBasis, ReachesTheExactRankOnRandomIntegerMatrices) {
+  std::mt19937_64 random(3);
+  for (int trial = 0; trial < 30; ++trial) {
+    const std::size_t rows = 1 + random() % 15;
+    const std::size_t cols = 1 + random() % 15;
+    const std::size_t inner = 1 + random() % std::min(rows, cols);
+    const RationalMatrix m =
+        product(random_integer_matrix(random, rows, inner, 50), random_integer_matrix(random, inner, cols, 50));
+    const std::size_t exact = rank_exact(m);
+    ASSERT_EQ(exact, rank_by_gauss_naive(m));
+    for (std::uint64_t p : {primary_prime(), screening_prime()}) {
+      const ModularMatrix reduced = reduce_modulo(m, p).value();
+      ModularRowBasis basis(p, cols);
+      std::size_t rises = 0;
+      for (std::size_t r = 0; r < rows; ++r) rises += basis.add_row(reduced.row(r)) ? 1 : 0;
+      EXPECT_EQ(basis.rank(), exact) << "trial " << trial;
+      EXPECT_EQ(rises, basis.rank());
+      EXPECT_EQ(rank_modulo(reduced, p), exact);
+      for (std::size_t r = 0; r < rows; ++r) EXPECT_TRUE(basis.contains(reduced.row(r)));
+    }
+  }
+}
+
+// The certificate behind rank(): the kept original rows at the pivot columns
+// form a minor that is nonsingular over Q.
+TEST(ModularRowBasis, KeptRowsAndPivotsGiveANonsingularMinor) {
+  std::mt19937_64 random(5);
+  const RationalMatrix m = product(random_integer_matrix(random, 9, 5, 9), random_integer_matrix(random, 5, 12, 9));
+  const std::uint64_t p = primary_prime();
+  const ModularMatrix reduced = reduce_modulo(m, p).value();
+  ModularRowBasis basis(p, m.cols());
+  std::vector<std::size_t> kept;
+  for (std::size_t r = 0; r < m.rows(); ++r)
+    if (basis.add_row(reduced.row(r))) kept.push_back(r);
+  ASSERT_EQ(kept.size(), 5u);
+  RationalMatrix minor(kept.size(), kept.size());
+  for (std::size_t i = 0; i < kept.size(); ++i)
+    for (std::size_t j = 0; j < kept.size(); ++j) minor(i, j) = m(kept[i], basis.pivot_columns()[j]);
+  EXPECT_EQ(rank_exact(minor), 5u);
+}
+
+// Lower bound, the direction that matters: entries that are multiples of p
+// make the rank drop mod p, never rise.
+TEST(ModularRowBasis, RankModuloPIsOnlyALowerBound) {
+  const std::uint64_t p = 1000003;
+  RationalMatrix m(3, 3);
+  m(0, 0) = 1;
+  m(1, 1) = p;      // vanishes mod p
+  m(2, 2) = 2 * p;  // vanishes mod p
+  m(2, 0) = 5;
+  ASSERT_EQ(rank_exact(m), 3u);
+  const ModularMatrix reduced = reduce_modulo(m, p).value();
+  ModularRowBasis basis(p, 3);
+  for (std::size_t r = 0; r < 3; ++r) basis.add_row(reduced.row(r));
+  EXPECT_EQ(basis.rank(), 1u);
+  EXPECT_LE(basis.rank(), rank_exact(m));
+  // Same rank over Q, but a 2x2 minor whose determinant is p: rank 2 over Q, 1 mod p.
+  RationalMatrix minor(2, 2);
+  minor(0, 0) = 1;
+  minor(0, 1) = 2;
+  minor(1, 0) = 3;
+  minor(1, 1) = 6 + Rational(p);  // det = p
+  EXPECT_EQ(rank_exact(minor), 2u);
+  EXPECT_EQ(rank_modulo(reduce_modulo(minor, p).value(), p), 1u);
+}
+
+TEST(ModularRowBasis, RejectsMisuse) {
+  EXPECT_THROW(ModularRowBasis(1, 3), usage_error);
+  ModularRowBasis basis(101, 3);
+  EXPECT_THROW(basis.add_row({1, 2}), usage_error);
+  EXPECT_THROW(basis.add_row({1, 2, 101}), usage_error);
+  EXPECT_FALSE(basis.add_row({0, 0, 0}));
+  EXPECT_TRUE(basis.add_row({0, 0, 7}));
+  EXPECT_FALSE(basis.add_row({0, 0, 3}));
+  EXPECT_TRUE(basis.add_row({4, 0, 3}));
+  EXPECT_EQ(basis.rank(), 2u);
+}
+
+}  // namespace
+}  // namespace pleat
