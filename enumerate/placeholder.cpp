@@ -1,1 +1,0 @@
-// Translation unit placeholder until the walker lands.

@@ -1,0 +1,504 @@
+#include "enumerate/walker.hpp"
+
+#include "core/jacobian.hpp"
+
+#include <algorithm>
+#include <chrono>
+#include <limits>
+#include <map>
+#include <mutex>
+#include <numeric>
+#include <set>
+#include <thread>
+#include <unordered_map>
+#include <unordered_set>
+#include <variant>
+
+namespace pleat {
+namespace {
+
+constexpr std::size_t no_index = std::numeric_limits<std::size_t>::max();
+// A crossing point where more than this many neurons are transversal on the far
+// side would need 2^n candidate patterns; no sane network gets close.
+constexpr std::size_t max_branching_neurons = 16;
+
+bool is_zero_row(const RationalMatrix& m, std::size_t row) {
+  for (std::size_t c = 0; c < m.cols(); ++c)
+    if (m(row, c) != 0) return false;
+  return true;
+}
+
+Rational dot(const RationalVector& a, const RationalVector& b) {
+  Rational sum = 0;
+  for (std::size_t i = 0; i < a.size(); ++i) sum += a[i] * b[i];
+  return sum;
+}
+
+// True when row r of m equals lambda * v for some lambda (v != 0).
+bool is_row_parallel(const RationalMatrix& m, std::size_t r, const RationalVector& v) {
+  std::size_t pivot = 0;
+  while (pivot < v.size() && v[pivot] == 0) ++pivot;
+  const Rational lambda = m(r, pivot) / v[pivot];
+  for (std::size_t c = 0; c < v.size(); ++c)
+    if (m(r, c) != lambda * v[c]) return false;
+  return true;
+}
+
+// Scales (normal, offset) by one positive factor so that the normal becomes a
+// primitive integer vector.
+void make_primitive(RationalVector& normal, Rational& offset) {
+  Integer denominators_lcm = 1;
+  for (const auto& v : normal) mpz_lcm(denominators_lcm.get_mpz_t(), denominators_lcm.get_mpz_t(), v.get_den_mpz_t());
+  Integer numerators_gcd = 0;
+  for (const auto& v : normal) {
+    Integer scaled = v.get_num() * (denominators_lcm / v.get_den());
+    mpz_gcd(numerators_gcd.get_mpz_t(), numerators_gcd.get_mpz_t(), scaled.get_mpz_t());
+  }
+  const Rational factor = Rational(denominators_lcm) / Rational(numerators_gcd);
+  for (auto& v : normal) v *= factor;
+  offset *= factor;
+}
+
+std::size_t relu_layers(const Network& network) { return network.relu_layer_count(); }
+
+}  // namespace
+
+std::string to_string(StopReason reason) {
+  switch (reason) {
+    case StopReason::none: return "";
+    case StopReason::time_limit: return "time-limit";
+    case StopReason::max_regions: return "max-regions";
+    case StopReason::interrupted: return "interrupted";
+    case StopReason::requested: return "requested";
+  }
+  return "";
+}
+
+std::optional<PatternCell> build_pattern_cell(const Network& network, const Domain& domain,
+                                              const ActivationPattern& pattern) {
+  if (pattern.states.size() != network.relu_neuron_count())
+    throw usage_error("build_pattern_cell: pattern has the wrong number of neurons");
+  PatternCell result;
+  result.maps = maps_on_pattern(network, pattern);
+  result.cell.dim = network.input_dim;
+  for (std::size_t k = 0; k < relu_layers(network); ++k) {
+    const AffineMap& pre = result.maps.preactivation[k];
+    const std::size_t first = network.first_neuron_of_layer(k);
+    for (std::size_t i = 0; i < pre.offset.size(); ++i) {
+      const NeuronState state = pattern.states[first + i];
+      const bool identically_zero = is_zero_row(pre.linear, i) && pre.offset[i] == 0;
+      if (state == NeuronState::zero_at_point) throw usage_error("build_pattern_cell: '=' is not a region state");
+      if (state == NeuronState::zero_on_region) {
+        if (!identically_zero) return std::nullopt;
+        continue;
+      }
+      if (identically_zero) return std::nullopt;  // canonical pattern would say 'z'
+      const int sign = state == NeuronState::on ? 1 : -1;
+      if (is_zero_row(pre.linear, i)) {
+        if (sign * pre.offset[i] > 0) continue;  // constant and satisfied everywhere
+        return std::nullopt;
+      }
+      lp::Constraint constraint{pre.linear.row(i), pre.offset[i]};
+      if (sign < 0) {
+        for (auto& v : constraint.normal) v = -v;
+        constraint.offset = -constraint.offset;
+      }
+      result.cell.constraints.push_back(std::move(constraint));
+      result.constraint_neuron.push_back(first + i);
+      result.constraint_domain_side.push_back(no_index);
+    }
+  }
+  for (std::size_t s = 0; s < domain.constraints.size(); ++s) {
+    result.cell.constraints.push_back(domain.constraints[s]);
+    result.constraint_neuron.push_back(no_index);
+    result.constraint_domain_side.push_back(s);
+  }
+  return result;
+}
+
+std::optional<ActivationPattern> region_pattern_at(const Network& network, const RationalVector& point) {
+  if (point.size() != network.input_dim) throw usage_error("region_pattern_at: point has the wrong dimension");
+  ActivationPattern pattern;
+  pattern.states.resize(network.relu_neuron_count());
+  AffineMap post = identity_map(network.input_dim);
+  for (std::size_t k = 0; k < relu_layers(network); ++k) {
+    const AffineMap pre = compose_layer(network.layers[k], post);
+    const RationalVector values = pre(point);
+    const std::size_t first = network.first_neuron_of_layer(k);
+    for (std::size_t i = 0; i < values.size(); ++i) {
+      NeuronState& state = pattern.states[first + i];
+      if (values[i] > 0) state = NeuronState::on;
+      else if (values[i] < 0) state = NeuronState::off;
+      else if (is_zero_row(pre.linear, i) && pre.offset[i] == 0) state = NeuronState::zero_on_region;
+      else return std::nullopt;  // on a bent hyperplane
+    }
+    post = apply_states(pre, std::span(pattern.states).subspan(first, values.size()));
+  }
+  return pattern;
+}
+
+namespace {
+
+// Decides the far-side states of layers k, k+1, ... given the states of the
+// layers below (in `pattern`) and their post-activation map `post`; appends
+// every completed pattern to `out`.
+void extend_across(const Network& network, const Evaluation& at_q, const RationalVector& direction,
+                   const RationalVector& facet_normal, std::size_t k, const AffineMap& post,
+                   ActivationPattern& pattern, std::vector<ActivationPattern>& out) {
+  if (k == relu_layers(network)) {
+    out.push_back(pattern);
+    return;
+  }
+  const AffineMap pre = compose_layer(network.layers[k], post);
+  const std::size_t first = network.first_neuron_of_layer(k);
+  std::vector<std::size_t> transversal;
+  for (std::size_t i = 0; i < pre.offset.size(); ++i) {
+    const Rational& value = at_q.preactivation[k][i];
+    NeuronState& state = pattern.states[first + i];
+    if (value > 0) state = NeuronState::on;
+    else if (value < 0) state = NeuronState::off;
+    else if (is_zero_row(pre.linear, i)) state = NeuronState::zero_on_region;
+    else if (is_row_parallel(pre.linear, i, facet_normal))
+      state = dot(pre.linear.row(i), direction) > 0 ? NeuronState::on : NeuronState::off;
+    else transversal.push_back(i);
+  }
+  if (transversal.size() > max_branching_neurons)
+    throw std::runtime_error("crossing: too many bent hyperplanes meet at one facet point");
+  const std::size_t combinations = std::size_t{1} << transversal.size();
+  for (std::size_t mask = 0; mask < combinations; ++mask) {
+    for (std::size_t b = 0; b < transversal.size(); ++b)
+      pattern.states[first + transversal[b]] = (mask >> b) & 1 ? NeuronState::on : NeuronState::off;
+    const AffineMap next = apply_states(pre, std::span(pattern.states).subspan(first, pre.offset.size()));
+    extend_across(network, at_q, direction, facet_normal, k + 1, next, pattern, out);
+  }
+}
+
+}  // namespace
+
+std::vector<ActivationPattern> patterns_across(const Network& network, const ActivationPattern& near_pattern,
+                                               const RationalVector& q, const RationalVector& direction,
+                                               const RationalVector& facet_normal) {
+  const Evaluation at_q = evaluate_exact(network, q);
+  ActivationPattern pattern = near_pattern;
+  std::vector<ActivationPattern> out;
+  extend_across(network, at_q, direction, facet_normal, 0, identity_map(network.input_dim), pattern, out);
+  std::sort(out.begin(), out.end());
+  out.erase(std::unique(out.begin(), out.end()), out.end());
+  return out;
+}
+
+namespace {
+
+// The open cone of a candidate's cell at a point q of its closure: the
+// constraints that vanish at q, made homogeneous. The candidate touches q with
+// interior iff this cone has interior.
+lp::Polyhedron tangent_cone_at(const lp::Polyhedron& cell, const RationalVector& q) {
+  lp::Polyhedron cone{cell.dim, {}};
+  for (const auto& c : cell.constraints)
+    if (dot(c.normal, q) + c.offset == 0) cone.constraints.push_back(lp::Constraint{c.normal, Rational(0)});
+  return cone;
+}
+
+struct Processed {
+  Region region;
+  bool is_region = false;
+  std::size_t degenerate_crossings = 0;
+};
+
+class RegionProcessor {
+ public:
+  RegionProcessor(const Network& network, const Domain& domain, bool keep_certificates)
+      : network_(network), domain_(domain), keep_certificates_(keep_certificates) {}
+
+  Processed process(const ActivationPattern& pattern) {
+    Processed result;
+    auto cell = build_pattern_cell(network_, domain_, pattern);
+    if (!cell) return result;
+    auto centre = oracle_.find_centre(cell->cell, Rational(1));
+    auto* interior = std::get_if<lp::InteriorPoint>(&centre);
+    if (!interior) return result;
+    result.is_region = true;
+    Region& region = result.region;
+    region.pattern = pattern;
+    region.point = interior->point;
+    region.affine = cell->maps.output;
+    lp::FacetClassification classification = oracle_.classify_facets(cell->cell, *interior);
+    for (const auto& group : classification.groups) {
+      if (!group.is_facet()) continue;
+      region.facets.push_back(make_facet(*cell, pattern, group, result.degenerate_crossings));
+      if (region.facets.back().domain_side) region.touches_domain_boundary = true;
+    }
+    std::optional<lp::BoundednessVerdict> boundedness = decide_boundedness(*cell, region.bounded);
+    if (has_zero_on_region(pattern)) region.nonsmooth_neurons = nonsmooth_neurons(network_, pattern);
+    if (keep_certificates_)
+      region.certificates = RegionCertificates{cell->cell, cell->constraint_neuron, std::move(classification),
+                                               std::move(boundedness)};
+    return result;
+  }
+
+  const lp::QueryCounts& counts() const { return oracle_.counts(); }
+
+ private:
+  static bool has_zero_on_region(const ActivationPattern& pattern) {
+    return std::any_of(pattern.states.begin(), pattern.states.end(),
+                       [](NeuronState s) { return s == NeuronState::zero_on_region; });
+  }
+
+  // Boundedness as a subset of R^n0: the neuron constraints only.
+  std::optional<lp::BoundednessVerdict> decide_boundedness(const PatternCell& cell, bool& bounded) {
+    lp::Polyhedron neurons_only{cell.cell.dim, {}};
+    for (std::size_t i = 0; i < cell.cell.constraints.size(); ++i)
+      if (cell.constraint_neuron[i] != no_index) neurons_only.constraints.push_back(cell.cell.constraints[i]);
+    if (neurons_only.constraints.empty()) {  // all of R^n0: any direction recedes
+      bounded = false;
+      RationalVector direction(cell.cell.dim, Rational(0));
+      direction[0] = 1;
+      return lp::BoundednessVerdict{lp::RecessionDirection{direction}};
+    }
+    auto verdict = oracle_.decide_boundedness(neurons_only);
+    bounded = std::holds_alternative<lp::BoundednessCertificate>(verdict);
+    return verdict;
+  }
+
+  RegionFacet make_facet(const PatternCell& cell, const ActivationPattern& pattern, const lp::FacetGroup& group,
+                         std::size_t& degenerate_crossings) {
+    RegionFacet facet;
+    for (std::size_t c : group.constraints) {
+      if (cell.constraint_neuron[c] != no_index) facet.neurons.push_back(cell.constraint_neuron[c]);
+      else if (!facet.domain_side) facet.domain_side = cell.constraint_domain_side[c];
+    }
+    std::sort(facet.neurons.begin(), facet.neurons.end());
+    const lp::Constraint& representative = cell.cell.constraints[group.constraints.front()];
+    facet.normal = representative.normal;
+    facet.offset = representative.offset;
+    make_primitive(facet.normal, facet.offset);
+    facet.point = std::get<lp::FacetPoint>(group.verdict).point;
+    if (facet.domain_side) return facet;  // the far side is outside the domain
+
+    RationalVector direction = representative.normal;
+    for (auto& v : direction) v = -v;
+    std::vector<ActivationPattern> candidates =
+        patterns_across(network_, pattern, facet.point, direction, representative.normal);
+    if (candidates.size() > 1) {
+      ++degenerate_crossings;
+      candidates = keep_touching(candidates, facet.point);
+    }
+    if (!candidates.empty()) {
+      facet.neighbor = candidates.front();
+      facet.other_neighbors.assign(candidates.begin() + 1, candidates.end());
+    }
+    return facet;
+  }
+
+  // Of several far-side candidates at q, those whose cell has interior next to q.
+  std::vector<ActivationPattern> keep_touching(const std::vector<ActivationPattern>& candidates,
+                                               const RationalVector& q) {
+    std::vector<ActivationPattern> kept;
+    for (const auto& candidate : candidates) {
+      auto cell = build_pattern_cell(network_, domain_, candidate);
+      if (!cell) continue;
+      lp::Polyhedron cone = tangent_cone_at(cell->cell, q);
+      if (cone.constraints.empty() ||
+          std::holds_alternative<lp::InteriorPoint>(oracle_.decide_open_cell(cone)))
+        kept.push_back(candidate);
+    }
+    return kept;
+  }
+
+  const Network& network_;
+  const Domain& domain_;
+  bool keep_certificates_;
+  lp::Oracle oracle_;
+};
+
+// Union-find over region ids, for merging adjacent regions with one affine map.
+class DisjointSets {
+ public:
+  explicit DisjointSets(std::size_t n) : parent_(n) { std::iota(parent_.begin(), parent_.end(), 0); }
+  std::size_t find(std::size_t i) {
+    while (parent_[i] != i) i = parent_[i] = parent_[parent_[i]];
+    return i;
+  }
+  void unite(std::size_t a, std::size_t b) { parent_[find(a)] = find(b); }
+  std::size_t count_roots() {
+    std::size_t roots = 0;
+    for (std::size_t i = 0; i < parent_.size(); ++i) roots += find(i) == i;
+    return roots;
+  }
+
+ private:
+  std::vector<std::size_t> parent_;
+};
+
+ActivationPattern start_pattern(const Network& network, const Domain& domain) {
+  const RationalVector centre = domain_centre(domain);
+  // The centre may lie on a bent hyperplane; step off it along a fixed family
+  // of directions with shrinking steps. Each line meets every bent hyperplane
+  // it does not lie in at finitely many points, so this ends quickly.
+  for (unsigned attempt = 0; attempt < 4096; ++attempt) {
+    RationalVector point = centre;
+    if (attempt > 0) {
+      const Rational step(1, 8 * (attempt / 16 + 1) + attempt % 16);
+      Rational coordinate = step;
+      for (std::size_t i = 0; i < point.size(); ++i) {
+        point[i] += coordinate;
+        coordinate *= Rational(attempt % 7 + 2, 11);
+      }
+      // Stay inside the domain.
+      bool inside = true;
+      for (const auto& c : domain.constraints) inside = inside && dot(c.normal, point) + c.offset > 0;
+      if (!inside) continue;
+    }
+    if (auto pattern = region_pattern_at(network, point)) return *pattern;
+  }
+  throw std::runtime_error("walk: could not find a start point off every bent hyperplane");
+}
+
+}  // namespace
+
+WalkSummary walk_regions(const Network& network, const Domain& domain, const WalkOptions& options) {
+  if (domain.dim != network.input_dim) throw usage_error("walk_regions: domain and network dimensions differ");
+  using clock = std::chrono::steady_clock;
+  const auto started = clock::now();
+  auto elapsed = [&] { return std::chrono::duration<double>(clock::now() - started).count(); };
+  const unsigned threads = options.threads ? options.threads : std::max(1u, std::thread::hardware_concurrency());
+
+  std::vector<std::unique_ptr<RegionProcessor>> processors;
+  for (unsigned t = 0; t < threads; ++t)
+    processors.push_back(std::make_unique<RegionProcessor>(network, domain, options.keep_certificates));
+
+  WalkSummary summary;
+  std::unordered_set<ActivationPattern, PatternHash> seen;
+  std::unordered_map<ActivationPattern, std::size_t, PatternHash> id_of;
+  std::vector<AffineMap> affine_of;                                   // by region id
+  std::vector<std::vector<ActivationPattern>> neighbors_of;           // by region id
+  std::vector<ActivationPattern> level{start_pattern(network, domain)};
+  seen.insert(level.front());
+  bool anomaly = false;  // a crossing candidate that turned out not to be a region
+
+  auto stop_requested = [&]() -> StopReason {
+    if (options.interrupt && options.interrupt->load()) return StopReason::interrupted;
+    if (options.time_limit_seconds > 0 && elapsed() > options.time_limit_seconds) return StopReason::time_limit;
+    return StopReason::none;
+  };
+
+  while (!level.empty() && summary.stop_reason == StopReason::none) {
+    // Process the level in parallel; results are placed by index, so the
+    // order of output does not depend on the thread count.
+    std::vector<Processed> results(level.size());
+    std::vector<char> done(level.size(), 0);
+    std::atomic<std::size_t> next{0};
+    std::atomic<std::size_t> finished{0};
+    std::atomic<bool> halt{false};
+    std::mutex error_mutex;
+    std::exception_ptr error;
+    auto work = [&](RegionProcessor& processor) {
+      try {
+        for (std::size_t i; !halt && (i = next++) < level.size();) {
+          results[i] = processor.process(level[i]);
+          done[i] = 1;
+          ++finished;
+        }
+      } catch (...) {
+        std::lock_guard lock(error_mutex);
+        if (!error) error = std::current_exception();
+        halt = true;
+      }
+    };
+    std::vector<std::thread> pool;
+    for (unsigned t = 0; t < threads; ++t) pool.emplace_back(work, std::ref(*processors[t]));
+    while (finished < level.size() && !halt) {
+      std::this_thread::sleep_for(std::chrono::milliseconds(50));
+      if (StopReason reason = stop_requested(); reason != StopReason::none) {
+        summary.stop_reason = reason;
+        halt = true;
+      }
+      if (options.on_progress)
+        options.on_progress(WalkProgress{summary.regions + finished, level.size() - finished, elapsed()});
+    }
+    for (auto& thread : pool) thread.join();
+    if (error) std::rethrow_exception(error);
+
+    std::vector<ActivationPattern> next_level;
+    for (std::size_t i = 0; i < level.size(); ++i) {
+      if (!done[i]) break;  // cut short: keep the processed prefix, in order
+      Processed& processed = results[i];
+      if (!processed.is_region) {
+        anomaly = true;
+        continue;
+      }
+      if (options.max_regions && summary.regions >= options.max_regions) {
+        summary.stop_reason = StopReason::max_regions;
+        break;
+      }
+      Region& region = processed.region;
+      region.id = summary.regions++;
+      summary.bounded_regions += region.bounded;
+      summary.degenerate_crossings += processed.degenerate_crossings;
+      if (!region.nonsmooth_neurons.empty())
+        summary.nonsmooth_regions.emplace_back(region.pattern, region.nonsmooth_neurons);
+      id_of.emplace(region.pattern, region.id);
+      affine_of.push_back(region.affine);
+      neighbors_of.emplace_back();
+      for (const auto& facet : region.facets) {
+        if (!facet.neighbor) continue;
+        std::vector<const ActivationPattern*> across{&*facet.neighbor};
+        for (const auto& other : facet.other_neighbors) across.push_back(&other);
+        for (const ActivationPattern* neighbor : across) {
+          neighbors_of.back().push_back(*neighbor);
+          if (seen.insert(*neighbor).second) next_level.push_back(*neighbor);
+        }
+      }
+      if (options.on_region && !options.on_region(region)) {
+        summary.stop_reason = StopReason::requested;
+        break;
+      }
+    }
+    if (summary.stop_reason == StopReason::none) {
+      if (StopReason reason = stop_requested(); reason != StopReason::none && !next_level.empty())
+        summary.stop_reason = reason;
+    }
+    std::sort(next_level.begin(), next_level.end());
+    level = std::move(next_level);
+  }
+
+  for (const auto& processor : processors) summary.counts += processor->counts();
+  summary.complete = summary.stop_reason == StopReason::none;
+
+  // Adjacency: facets (unordered pairs) and linear regions (merge equal maps).
+  std::set<std::pair<std::size_t, std::size_t>> pairs;
+  DisjointSets pieces(summary.regions);
+  bool all_neighbors_present = true;
+  for (std::size_t id = 0; id < summary.regions; ++id) {
+    for (const auto& neighbor : neighbors_of[id]) {
+      auto found = id_of.find(neighbor);
+      if (found == id_of.end()) {
+        all_neighbors_present = false;
+        continue;
+      }
+      pairs.emplace(std::min(id, found->second), std::max(id, found->second));
+      if (affine_of[id] == affine_of[found->second]) pieces.unite(id, found->second);
+    }
+  }
+  summary.facets = pairs.size();
+  summary.linear_regions = pieces.count_roots();
+
+  summary.patterns.reserve(id_of.size());
+  for (const auto& [pattern, id] : id_of) summary.patterns.push_back(pattern);
+  std::sort(summary.patterns.begin(), summary.patterns.end());
+  for (std::size_t k = 0; k < network.depth(); ++k) {
+    // A linear output layer adds no states: its prefix is the whole pattern.
+    const std::size_t prefix_end = k < relu_layers(network)
+                                       ? network.first_neuron_of_layer(k) + network.layers[k].width()
+                                       : network.relu_neuron_count();
+    std::set<std::vector<NeuronState>> prefixes;
+    for (const auto& pattern : summary.patterns)
+      prefixes.emplace(pattern.states.begin(), pattern.states.begin() + static_cast<std::ptrdiff_t>(prefix_end));
+    summary.regions_per_layer.push_back(prefixes.size());
+  }
+  summary.certified = summary.complete && all_neighbors_present && !anomaly;
+  summary.seconds = elapsed();
+  return summary;
+}
+
+}  // namespace pleat

@@ -1,0 +1,136 @@
+// The region walker: every full-dimensional activation region of a network
+// on a domain, each once, with an exact certificate, its facets and the
+// neighbour across each.
+//
+// Why a walk across facets finds every region: the regions and their faces
+// tile the (convex) domain. Join interior points of two regions by a segment;
+// perturbed slightly it avoids every face of dimension <= n0-2 and so passes
+// from region to region only through relative interiors of facets. The
+// facet-adjacency graph is therefore connected, and a breadth-first walk that
+// crosses every facet of every region it reaches reaches them all.
+//
+// Crossing a facet is exact: at a rational point q in the facet's relative
+// interior every neuron that is nonzero at q keeps its sign; the neurons that
+// vanish at q get their far-side state layer by layer from the far side's own
+// affine map (already-decided earlier layers): identically zero -> 'z'; a
+// linear part parallel to the facet normal -> the sign of its derivative
+// across the facet; any other linear part means the neuron's bent hyperplane
+// passes through q transversally on the far side, so both states occur next to
+// q and both are tried (each candidate is kept only if its cell has interior).
+#pragma once
+
+#include "core/evaluate.hpp"
+#include "core/network.hpp"
+#include "core/pattern.hpp"
+#include "enumerate/domain.hpp"
+#include "lp/oracle.hpp"
+#include "lp/polyhedron.hpp"
+
+#include <atomic>
+#include <cstddef>
+#include <cstdint>
+#include <functional>
+#include <optional>
+#include <string>
+#include <vector>
+
+namespace pleat {
+
+struct RegionFacet {
+  std::vector<std::size_t> neurons;        // neuron ids whose bent hyperplane holds the facet
+  std::optional<std::size_t> domain_side;  // index of the domain constraint it lies on
+  RationalVector normal;                   // primitive integer vector; region is on normal.x + offset > 0
+  Rational offset;
+  std::optional<ActivationPattern> neighbor;  // null on the domain boundary
+  std::vector<ActivationPattern> other_neighbors;  // further regions next to the crossing point (degenerate crossings)
+  RationalVector point;                    // rational point in the facet's relative interior (checked)
+};
+
+// A region's certificates, kept only when WalkOptions::keep_certificates.
+struct RegionCertificates {
+  lp::Polyhedron cell;                     // the region's constraints, neurons then domain sides
+  std::vector<std::size_t> constraint_neuron;  // neuron id per constraint, or SIZE_MAX for a domain side
+  lp::FacetClassification classification;
+  std::optional<lp::BoundednessVerdict> boundedness;  // on the neuron constraints only
+};
+
+struct Region {
+  std::size_t id = 0;  // 0-based, in output order (level by level, patterns sorted within a level)
+  ActivationPattern pattern;
+  RationalVector point;  // strictly inside (checked exactly)
+  bool bounded = false;  // as a subset of R^n0, before domain clipping
+  bool touches_domain_boundary = false;
+  std::vector<RegionFacet> facets;
+  AffineMap affine;      // the network's output on the region, exact
+  std::vector<std::size_t> nonsmooth_neurons;  // 'z' neurons with nonzero backward signal
+  std::optional<RegionCertificates> certificates;
+};
+
+enum class StopReason { none, time_limit, max_regions, interrupted, requested };
+std::string to_string(StopReason reason);  // null-less spec names: "time-limit", ...
+
+struct WalkProgress {
+  std::size_t regions = 0;
+  std::size_t frontier = 0;
+  double seconds = 0;
+};
+
+struct WalkOptions {
+  unsigned threads = 0;                     // 0: all cores
+  std::size_t max_regions = 0;              // 0: no cap
+  double time_limit_seconds = 0;            // 0: none
+  bool keep_certificates = false;
+  const std::atomic<bool>* interrupt = nullptr;  // set from a signal handler to stop cleanly
+  // Called for each region in output order; return false to stop the walk
+  // (StopReason::requested, e.g. a rank that met its bound).
+  std::function<bool(const Region&)> on_region;
+  std::function<void(const WalkProgress&)> on_progress;  // after each level and every ~0.5 s
+};
+
+struct WalkSummary {
+  std::size_t regions = 0;
+  std::size_t bounded_regions = 0;
+  std::size_t linear_regions = 0;
+  std::vector<std::size_t> regions_per_layer;
+  std::vector<std::pair<ActivationPattern, std::vector<std::size_t>>> nonsmooth_regions;
+  std::size_t facets = 0;  // interior facets, each counted once (adjacent region pairs)
+  bool complete = false;
+  StopReason stop_reason = StopReason::none;
+  bool certified = false;  // complete and every certificate checked exactly
+  lp::QueryCounts counts;
+  std::size_t degenerate_crossings = 0;  // crossings where the far side had to be branched
+  double seconds = 0;
+  std::vector<ActivationPattern> patterns;  // sorted, all regions found
+};
+
+// Walks the network's regions on the domain. Regions are delivered to
+// options.on_region in a deterministic order (identical for any thread count).
+// Preconditions: domain.dim == network.input_dim.
+WalkSummary walk_regions(const Network& network, const Domain& domain, const WalkOptions& options);
+
+// The constraints of the cell of one pattern (neurons, then domain sides), or
+// nullopt when the pattern is inconsistent with its own maps (a state '1'/'0'
+// on an identically-zero neuron, 'z' on a nonzero one, or a constant
+// constraint of the wrong sign). Exact.
+struct PatternCell {
+  lp::Polyhedron cell;
+  std::vector<std::size_t> constraint_neuron;  // neuron id, or SIZE_MAX for a domain side
+  std::vector<std::size_t> constraint_domain_side;  // domain index, or SIZE_MAX for a neuron
+  PatternMaps maps;
+};
+std::optional<PatternCell> build_pattern_cell(const Network& network, const Domain& domain,
+                                              const ActivationPattern& pattern);
+
+// The pattern of the region that contains the given point (which must not lie
+// on a bent hyperplane: nullopt then). Exact.
+std::optional<ActivationPattern> region_pattern_at(const Network& network, const RationalVector& point);
+
+// All patterns of regions next to q on the far side of a facet, where q is in
+// the relative interior of a facet of the region with near_pattern and
+// direction points strictly to the far side. Exact; candidates may have empty
+// interior (the caller checks).
+std::vector<ActivationPattern> patterns_across(const Network& network, const ActivationPattern& near_pattern,
+                                               const RationalVector& q, const RationalVector& direction,
+                                               const RationalVector& facet_normal);
+
+}  // namespace pleat

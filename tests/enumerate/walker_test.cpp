@@ -1,0 +1,155 @@
+// The region walker against counts known from outside the project.
+#include "enumerate/walker.hpp"
+
+#include <gtest/gtest.h>
+
+#include <set>
+
+namespace pleat {
+namespace {
+
+Layer make_layer(std::vector<RationalVector> rows, RationalVector bias, Activation activation) {
+  Layer layer;
+  layer.weights = RationalMatrix(rows.size(), rows.front().size());
+  for (std::size_t r = 0; r < rows.size(); ++r) layer.weights.set_row(r, rows[r]);
+  layer.bias = std::move(bias);
+  layer.activation = activation;
+  return layer;
+}
+
+// One hidden layer whose hyperplanes are (t, t^2, ..., t^n) . x + 1 = 0 for
+// t = 1..m: points on the moment curve, so any n+1 of the augmented normals
+// are independent (a Vandermonde determinant) and the arrangement is in
+// general position.
+Network moment_curve_network(std::size_t n, std::size_t m) {
+  std::vector<RationalVector> rows;
+  for (std::size_t t = 1; t <= m; ++t) {
+    RationalVector row;
+    Rational power = 1;
+    for (std::size_t i = 0; i < n; ++i) row.push_back(power *= Rational(static_cast<long>(t)));
+    rows.push_back(row);
+  }
+  Network network;
+  network.input_dim = n;
+  network.layers.push_back(make_layer(rows, RationalVector(m, Rational(1)), Activation::relu));
+  network.layers.push_back(make_layer({RationalVector(m, Rational(1))}, {Rational(0)}, Activation::linear));
+  return network;
+}
+
+std::size_t binomial(std::size_t n, std::size_t k) {
+  if (k > n) return 0;
+  std::size_t result = 1;
+  for (std::size_t i = 1; i <= k; ++i) result = result * (n - k + i) / i;
+  return result;
+}
+
+WalkSummary walk(const Network& network, const Domain& domain, unsigned threads = 1) {
+  WalkOptions options;
+  options.threads = threads;
+  return walk_regions(network, domain, options);
+}
+
+// Zaslavsky's theorem (Buck's count for hyperplanes in general position):
+// m hyperplanes in general position in R^n cut it into sum_{i=0}^{n} C(m,i)
+// regions, C(m-1,n) of them bounded.
+TEST(Walker, GeneralPositionArrangementsMatchZaslavskyCounts) {
+  for (std::size_t n : {1u, 2u, 3u}) {
+    for (std::size_t m : {1u, 3u, 5u, 7u}) {
+      SCOPED_TRACE("n=" + std::to_string(n) + " m=" + std::to_string(m));
+      const WalkSummary summary = walk(moment_curve_network(n, m), make_whole_space(n));
+      std::size_t expected = 0;
+      for (std::size_t i = 0; i <= n; ++i) expected += binomial(m, i);
+      EXPECT_EQ(summary.regions, expected);
+      EXPECT_EQ(summary.bounded_regions, binomial(m - 1, n));
+      EXPECT_EQ(summary.linear_regions, expected);  // neighbours differ by one neuron's nonzero gradient
+      EXPECT_TRUE(summary.complete);
+      EXPECT_TRUE(summary.certified);
+    }
+  }
+}
+
+// The tent map t(x) = 2 relu(x) - 4 relu(x - 1/2) maps [0,1] onto itself;
+// its L-fold composition has 2^L affine pieces on (0,1) (the standard
+// depth-separation construction; value from memory, re-derived: each
+// composition doubles the number of monotone pieces).
+Network tent_network(std::size_t depth) {
+  Network network;
+  network.input_dim = 1;
+  network.layers.push_back(make_layer({{Rational(1)}, {Rational(1)}}, {Rational(0), Rational(-1, 2)},
+                                      Activation::relu));
+  for (std::size_t k = 1; k < depth; ++k)
+    network.layers.push_back(make_layer({{Rational(2), Rational(-4)}, {Rational(2), Rational(-4)}},
+                                        {Rational(0), Rational(-1, 2)}, Activation::relu));
+  network.layers.push_back(make_layer({{Rational(2), Rational(-4)}}, {Rational(0)}, Activation::linear));
+  return network;
+}
+
+TEST(Walker, TentMapCompositionHasTwoToTheLPieces) {
+  for (std::size_t depth = 1; depth <= 8; ++depth) {
+    SCOPED_TRACE("L=" + std::to_string(depth));
+    const WalkSummary summary = walk(tent_network(depth), make_box({Rational(0)}, {Rational(1)}));
+    EXPECT_EQ(summary.regions, std::size_t{1} << depth);
+    EXPECT_EQ(summary.linear_regions, std::size_t{1} << depth);
+    EXPECT_EQ(summary.facets, (std::size_t{1} << depth) - 1);
+    EXPECT_TRUE(summary.certified);
+  }
+}
+
+TEST(Walker, OutputIsIdenticalForAnyThreadCount) {
+  const Network network = moment_curve_network(2, 9);
+  std::vector<std::string> one, two;
+  for (auto [threads, sink] : {std::pair{1u, &one}, std::pair{2u, &two}}) {
+    WalkOptions options;
+    options.threads = threads;
+    options.on_region = [&, sink = sink](const Region& region) {
+      sink->push_back(std::to_string(region.id) + " " + format_pattern(network, region.pattern));
+      return true;
+    };
+    walk_regions(network, make_whole_space(2), options);
+  }
+  EXPECT_EQ(one, two);
+  EXPECT_EQ(one.size(), 1u + 9u + 36u);
+}
+
+TEST(Walker, MaxRegionsStopsWithBoundsNotCertified) {
+  WalkOptions options;
+  options.max_regions = 5;
+  const WalkSummary summary = walk_regions(moment_curve_network(2, 6), make_whole_space(2), options);
+  EXPECT_EQ(summary.regions, 5u);
+  EXPECT_FALSE(summary.complete);
+  EXPECT_FALSE(summary.certified);
+  EXPECT_EQ(summary.stop_reason, StopReason::max_regions);
+}
+
+TEST(Walker, EveryRegionPointHasItsPatternAndFacetsSeeNeighbors) {
+  const Network network = moment_curve_network(2, 6);
+  std::map<std::string, Region> regions;
+  WalkOptions options;
+  options.threads = 1;
+  options.on_region = [&](const Region& region) {
+    regions.emplace(format_pattern(network, region.pattern), region);
+    return true;
+  };
+  walk_regions(network, make_whole_space(2), options);
+  for (const auto& [name, region] : regions) {
+    // The interior point's own pattern is the region's pattern (exact evaluation).
+    auto at_point = region_pattern_at(network, region.point);
+    ASSERT_TRUE(at_point.has_value());
+    EXPECT_EQ(*at_point, region.pattern);
+    for (const auto& facet : region.facets) {
+      ASSERT_TRUE(facet.neighbor.has_value());
+      const auto& neighbor = regions.at(format_pattern(network, *facet.neighbor));
+      // The neighbour lists this region back across one of its facets.
+      bool mutual = false;
+      for (const auto& back : neighbor.facets) mutual = mutual || (back.neighbor && *back.neighbor == region.pattern);
+      EXPECT_TRUE(mutual);
+      // The facet point lies on the facet's hyperplane.
+      Rational value = facet.offset;
+      for (std::size_t i = 0; i < 2; ++i) value += facet.normal[i] * facet.point[i];
+      EXPECT_EQ(value, 0);
+    }
+  }
+}
+
+}  // namespace
+}  // namespace pleat
