@@ -1,1 +1,92 @@
-int main() { return 0; }
+// The pleat executable: parses the command line, runs one subcommand, and
+// turns errors into "pleat: <message>" and an exit code (2 bad input or
+// usage, 1 any other failure). Never a stack trace.
+#include "cli/command.hpp"
+#include "core/rational.hpp"
+
+#include <CLI/CLI.hpp>
+
+#include <exception>
+#include <iostream>
+#include <string>
+
+#ifndef PLEAT_VERSION
+#define PLEAT_VERSION "unknown"
+#endif
+
+namespace pleat::cli {
+// Every subcommand, defined in cli/<name>_command.cpp (see command.hpp).
+// To add one: declare it here and call it in register_all_commands.
+void register_random(CommandTable& commands);
+void register_eval(CommandTable& commands);
+void register_walk(CommandTable& commands);
+
+namespace {
+
+void register_all_commands(CommandTable& commands) {
+  register_random(commands);
+  register_eval(commands);
+  register_walk(commands);
+}
+
+constexpr const char* description =
+    "pleat: the linear regions of a small ReLU network, found exactly.\n"
+    "A ReLU network is piecewise affine: its input space splits into linear regions,\n"
+    "on each of which the network is one affine map x -> A x + c. pleat computes with\n"
+    "exact rational numbers, so what it prints carries no rounding error.";
+
+constexpr const char* top_level_help =
+    "\nExamples:\n"
+    "  pleat random --arch 2,8,8,1 --seed 7 -o net.json   # a reproducible random network\n"
+    "  pleat eval net.json --at 0.5,-1/3                  # exact output and pattern at a point\n"
+    "Run 'pleat COMMAND --help' for what one command does.";
+
+std::string help_hint(const CLI::App& app) {
+  std::string command = "pleat";
+  for (const CLI::App* sub : app.get_subcommands()) command += " " + sub->get_name();
+  return "Run '" + command + " --help' for usage.";
+}
+
+int run(int argc, char** argv) {
+  CLI::App app{description, "pleat"};
+  app.set_version_flag("--version", std::string("pleat ") + PLEAT_VERSION, "Print the version and exit");
+  app.require_subcommand(0, 1);
+  app.get_formatter()->column_width(34);
+  CommandTable commands(app);
+  register_all_commands(commands);
+  app.footer(top_level_help);
+
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::ParseError& error) {
+    if (error.get_exit_code() == 0) return app.exit(error);  // --help, --version
+    std::cerr << "pleat: " << error.what() << "\n" << help_hint(app) << "\n";
+    return 2;
+  }
+  if (app.get_subcommands().empty()) {
+    std::cerr << app.help() << "\npleat: no command given\n";
+    return 2;
+  }
+  return commands.run_selected();
+}
+
+}  // namespace
+}  // namespace pleat::cli
+
+int main(int argc, char** argv) {
+  try {
+    return pleat::cli::run(argc, argv);
+  } catch (const pleat::input_error& error) {
+    std::cerr << "pleat: " << error.what() << "\n";
+    return 2;
+  } catch (const pleat::usage_error& error) {
+    std::cerr << "pleat: " << error.what() << "\n";
+    return 2;
+  } catch (const std::exception& error) {
+    std::cerr << "pleat: internal error: " << error.what() << "\n";
+    return 1;
+  } catch (...) {
+    std::cerr << "pleat: internal error (unknown exception)\n";
+    return 1;
+  }
+}

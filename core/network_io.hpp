@@ -8,6 +8,8 @@
 #include <filesystem>
 #include <string>
 #include <string_view>
+#include <utility>
+#include <vector>
 
 namespace pleat {
 
@@ -25,5 +27,15 @@ Network read_network_file(const std::filesystem::path& path);
 // The canonical document (rationals as strings in lowest terms, name and meta
 // kept). parse_network(write_network(n)) == n.
 std::string write_network(const Network& network);
+
+// A "pleat-domain/1" document: the open polytope {x : normal . x + offset > 0}
+// (shared/spec/outputs.md, Domains). Read exactly, with the same path-first
+// messages as networks; whether it is full-dimensional is the caller's check.
+struct PolytopeDocument {
+  std::size_t input_dim = 0;
+  std::vector<std::pair<RationalVector, Rational>> constraints;  // (normal, offset)
+};
+PolytopeDocument parse_domain(std::string_view json_text);
+PolytopeDocument read_domain_file(const std::filesystem::path& path);
 
 }  // namespace pleat

@@ -1,0 +1,36 @@
+#include "cli/progress.hpp"
+
+#include <unistd.h>
+
+#include <chrono>
+#include <cstdio>
+
+namespace pleat::cli {
+namespace {
+double now_seconds() {
+  return std::chrono::duration<double>(std::chrono::steady_clock::now().time_since_epoch()).count();
+}
+}  // namespace
+
+ProgressLine::ProgressLine(bool is_quiet) : shown_(!is_quiet && isatty(STDERR_FILENO)) {}
+
+ProgressLine::~ProgressLine() { finish(); }
+
+void ProgressLine::update(const std::string& text) {
+  if (!shown_) return;
+  const double now = now_seconds();
+  if (now - last_ < 0.2) return;
+  last_ = now;
+  std::fprintf(stderr, "\r\033[K%s", text.c_str());
+  std::fflush(stderr);
+  dirty_ = true;
+}
+
+void ProgressLine::finish() {
+  if (!shown_ || !dirty_) return;
+  std::fprintf(stderr, "\r\033[K");
+  std::fflush(stderr);
+  dirty_ = false;
+}
+
+}  // namespace pleat::cli
