@@ -1,0 +1,84 @@
+#include "lp/detail/exact_tools.hpp"
+
+#include <string>
+
+namespace pleat::lp::detail {
+
+Rational slack(const Constraint& constraint, const RationalVector& x) {
+  Rational value = constraint.offset;
+  for (std::size_t k = 0; k < x.size(); ++k)
+    if (sgn(constraint.normal[k]) != 0) value += constraint.normal[k] * x[k];
+  return value;
+}
+
+bool is_positive_multiple(const Constraint& first, const Constraint& second) {
+  const std::size_t dim = second.normal.size();
+  if (first.normal.size() != dim) return false;
+  std::size_t k = 0;
+  while (k < dim && sgn(second.normal[k]) == 0) ++k;
+  if (k == dim) return false;
+  if (sgn(first.normal[k]) != sgn(second.normal[k])) return false;
+  // first = (first_k / second_k) * second, checked by cross-multiplication.
+  const Rational& p = first.normal[k];
+  const Rational& q = second.normal[k];
+  for (std::size_t l = 0; l < dim; ++l)
+    if (first.normal[l] * q != second.normal[l] * p) return false;
+  return first.offset * q == second.offset * p;
+}
+
+bool is_well_formed(const Polyhedron& cell) {
+  for (const Constraint& constraint : cell.constraints) {
+    if (constraint.normal.size() != cell.dim) return false;
+    bool is_zero = true;
+    for (const Rational& entry : constraint.normal) is_zero = is_zero && sgn(entry) == 0;
+    if (is_zero) return false;
+  }
+  return true;
+}
+
+void require_well_formed(const Polyhedron& cell, const char* caller) {
+  for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+    const Constraint& constraint = cell.constraints[i];
+    if (constraint.normal.size() != cell.dim)
+      throw usage_error(std::string(caller) + ": constraint " + std::to_string(i) +
+                        " has a normal of the wrong size");
+    bool is_zero = true;
+    for (const Rational& entry : constraint.normal) is_zero = is_zero && sgn(entry) == 0;
+    if (is_zero)
+      throw usage_error(std::string(caller) + ": constraint " + std::to_string(i) +
+                        " has an all-zero normal (drop constant constraints first)");
+  }
+}
+
+RationalVector weighted_normal_sum(const Polyhedron& cell, const RationalVector& weights) {
+  RationalVector sum(cell.dim, Rational(0));
+  for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+    if (sgn(weights[i]) == 0) continue;
+    for (std::size_t k = 0; k < cell.dim; ++k) sum[k] += weights[i] * cell.constraints[i].normal[k];
+  }
+  return sum;
+}
+
+Rational weighted_offset_sum(const Polyhedron& cell, const RationalVector& weights) {
+  Rational sum = 0;
+  for (std::size_t i = 0; i < cell.constraints.size(); ++i)
+    if (sgn(weights[i]) != 0) sum += weights[i] * cell.constraints[i].offset;
+  return sum;
+}
+
+Rational simplest_between(const Rational& low, const Rational& high) {
+  if (sgn(low) <= 0 && sgn(high) >= 0) return Rational(0);
+  if (sgn(high) < 0) return -simplest_between(-high, -low);
+  // 0 < low <= high: continued-fraction descent (Stern-Brocot).
+  Integer floor_low;
+  mpz_fdiv_q(floor_low.get_mpz_t(), low.get_num_mpz_t(), low.get_den_mpz_t());
+  if (Rational(floor_low) == low) return low;
+  if (Rational(floor_low + 1) <= high) return Rational(floor_low + 1);
+  // Both in (floor_low, floor_low + 1): recurse on the reciprocals of the fractional parts.
+  const Rational inner = simplest_between(1 / (high - floor_low), 1 / (low - floor_low));
+  Rational result = Rational(floor_low) + 1 / inner;
+  result.canonicalize();
+  return result;
+}
+
+}  // namespace pleat::lp::detail

@@ -1,0 +1,34 @@
+// Exact helpers shared by the checker and the oracle (no solver in here).
+#pragma once
+
+#include "lp/polyhedron.hpp"
+
+#include <cstddef>
+#include <vector>
+
+namespace pleat::lp::detail {
+
+// normal . x + offset, exactly. Precondition: x.size() == normal.size().
+Rational slack(const Constraint& constraint, const RationalVector& x);
+
+// True when first = lambda * second for some lambda > 0 (normal and offset
+// jointly), exactly. Precondition: second has a nonzero normal.
+bool is_positive_multiple(const Constraint& first, const Constraint& second);
+
+// True when every normal has size dim and none is all zero.
+bool is_well_formed(const Polyhedron& cell);
+
+// Throws usage_error naming the caller unless is_well_formed(cell).
+void require_well_formed(const Polyhedron& cell, const char* caller);
+
+// sum_i weights[i] * normal_i (weights.size() == constraints.size()).
+RationalVector weighted_normal_sum(const Polyhedron& cell, const RationalVector& weights);
+
+// sum_i weights[i] * offset_i.
+Rational weighted_offset_sum(const Polyhedron& cell, const RationalVector& weights);
+
+// The simplest rational (smallest denominator, then numerator) in [low, high].
+// Precondition: low <= high.
+Rational simplest_between(const Rational& low, const Rational& high);
+
+}  // namespace pleat::lp::detail

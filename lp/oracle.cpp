@@ -1,0 +1,800 @@
+// The queries: GLPK proposes on the double image of the cell (detail/double_rows),
+// exact arithmetic verifies each proposal (a point: every constraint evaluated
+// exactly; multipliers: solved exactly on the support GLPK proposes, then signs
+// and the offset inequality checked), and cddlib's exact LP decides whenever a
+// proposal fails. Each LP the code builds is written out above it.
+#include "lp/oracle.hpp"
+
+#include "lp/checker.hpp"
+#include "lp/detail/double_rows.hpp"
+#include "lp/detail/exact_linear.hpp"
+#include "lp/detail/exact_lp.hpp"
+#include "lp/detail/exact_tools.hpp"
+#include "lp/detail/glpk_lp.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <optional>
+#include <stdexcept>
+
+namespace pleat::lp {
+
+QueryCounts& QueryCounts::operator+=(const QueryCounts& other) {
+  lp_queries += other.lp_queries;
+  filter_settled += other.filter_settled;
+  exact_fallbacks += other.exact_fallbacks;
+  return *this;
+}
+
+struct Oracle::State {
+  FilterTolerances tolerances;
+  QueryCounts counts;
+};
+
+namespace {
+
+using detail::BasisStatus;
+using detail::DoubleRows;
+using detail::DoubleStatus;
+using detail::ExactRow;
+using detail::ExactStatus;
+using detail::GlpkLP;
+
+// ---- small exact helpers ----------------------------------------------------
+
+bool is_interior(const Polyhedron& cell, const RationalVector& point) {
+  for (const Constraint& constraint : cell.constraints)
+    if (sgn(detail::slack(constraint, point)) <= 0) return false;
+  return true;
+}
+
+// Each coordinate replaced by the simplest rational within radius of it
+// (radius <= 0: the double's exact value).
+RationalVector round_point(const std::vector<double>& point, double radius) {
+  RationalVector rounded(point.size());
+  for (std::size_t k = 0; k < point.size(); ++k) {
+    if (!(radius > 0.0)) {
+      rounded[k] = Rational(point[k]);
+      continue;
+    }
+    rounded[k] = detail::simplest_between(Rational(point[k] - radius), Rational(point[k] + radius));
+  }
+  return rounded;
+}
+
+// Same, around an exact point.
+RationalVector round_point(const RationalVector& point, const Rational& radius) {
+  RationalVector rounded(point.size());
+  for (std::size_t k = 0; k < point.size(); ++k)
+    rounded[k] = detail::simplest_between(point[k] - radius, point[k] + radius);
+  return rounded;
+}
+
+Rational one_norm(const RationalVector& values) {
+  Rational norm = 0;
+  for (const Rational& value : values) norm += abs(value);
+  return norm;
+}
+
+// Index of the largest |a_k| (exact comparison).
+std::size_t largest_entry(const RationalVector& normal) {
+  std::size_t best = 0;
+  for (std::size_t k = 1; k < normal.size(); ++k)
+    if (abs(normal[k]) > abs(normal[best])) best = k;
+  return best;
+}
+
+// The point with every coordinate but `solved` taken from point, and the
+// `solved` coordinate chosen so that constraint is exactly zero there.
+RationalVector project_onto(const Constraint& constraint, RationalVector point, std::size_t solved) {
+  Rational rest = constraint.offset;
+  for (std::size_t k = 0; k < point.size(); ++k)
+    if (k != solved) rest += constraint.normal[k] * point[k];
+  point[solved] = -rest / constraint.normal[solved];
+  return point;
+}
+
+bool is_facet_point(const Polyhedron& cell, const std::vector<std::size_t>& group,
+                    const RationalVector& point) {
+  std::size_t g = 0;
+  for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+    const int sign = sgn(detail::slack(cell.constraints[i], point));
+    if (g < group.size() && group[g] == i) {
+      ++g;
+      if (sign != 0) return false;
+    } else if (sign <= 0) {
+      return false;
+    }
+  }
+  return true;
+}
+
+std::vector<std::size_t> rows_at_lower_bound(const GlpkLP& lp, std::size_t count) {
+  std::vector<std::size_t> support;
+  for (std::size_t i = 0; i < count; ++i)
+    if (lp.row_status(i) == BasisStatus::at_lower || lp.row_status(i) == BasisStatus::fixed)
+      support.push_back(i);
+  return support;
+}
+
+// Exact Gordan/Motzkin multipliers on a proposed support S: solve
+//   sum_{s in S} y_s a_s = 0,  sum_{s in S} y_s = 1
+// exactly, then require y >= 0 and sum y_s c_s <= 0.
+std::optional<EmptinessCertificate> emptiness_on_support(const Polyhedron& cell,
+                                                         const std::vector<std::size_t>& support) {
+  if (support.empty()) return std::nullopt;
+  RationalMatrix system(cell.dim + 1, support.size());
+  RationalVector rhs(cell.dim + 1, Rational(0));
+  for (std::size_t s = 0; s < support.size(); ++s) {
+    for (std::size_t k = 0; k < cell.dim; ++k) system(k, s) = cell.constraints[support[s]].normal[k];
+    system(cell.dim, s) = 1;
+  }
+  rhs[cell.dim] = 1;
+  const std::optional<RationalVector> y = detail::solve_exact(std::move(system), std::move(rhs));
+  if (!y) return std::nullopt;
+  EmptinessCertificate certificate{RationalVector(cell.constraints.size(), Rational(0))};
+  Rational offset_sum = 0;
+  for (std::size_t s = 0; s < support.size(); ++s) {
+    if (sgn((*y)[s]) < 0) return std::nullopt;
+    certificate.multipliers[support[s]] = (*y)[s];
+    offset_sum += (*y)[s] * cell.constraints[support[s]].offset;
+  }
+  if (sgn(offset_sum) > 0) return std::nullopt;
+  return certificate;
+}
+
+// Exact Motzkin multipliers for "group j = 0, the rest > 0" on a proposed
+// support S (outside the group): solve
+//   mu a_j + sum_{s in S} y_s a_s = 0,  sum_{s in S} y_s = 1
+// exactly, then require y >= 0 and mu c_j + sum y_s c_s <= 0.
+std::optional<NonFacetCertificate> non_facet_on_support(const Polyhedron& cell, std::size_t representative,
+                                                        const std::vector<std::size_t>& support) {
+  if (support.empty()) return std::nullopt;
+  const Constraint& rep = cell.constraints[representative];
+  RationalMatrix system(cell.dim + 1, support.size() + 1);
+  RationalVector rhs(cell.dim + 1, Rational(0));
+  for (std::size_t k = 0; k < cell.dim; ++k) system(k, 0) = rep.normal[k];
+  for (std::size_t s = 0; s < support.size(); ++s) {
+    for (std::size_t k = 0; k < cell.dim; ++k)
+      system(k, s + 1) = cell.constraints[support[s]].normal[k];
+    system(cell.dim, s + 1) = 1;
+  }
+  rhs[cell.dim] = 1;
+  const std::optional<RationalVector> solution = detail::solve_exact(std::move(system), std::move(rhs));
+  if (!solution) return std::nullopt;
+  NonFacetCertificate certificate{(*solution)[0], RationalVector(cell.constraints.size(), Rational(0))};
+  Rational offset_sum = certificate.equality_multiplier * rep.offset;
+  for (std::size_t s = 0; s < support.size(); ++s) {
+    const Rational& y = (*solution)[s + 1];
+    if (sgn(y) < 0) return std::nullopt;
+    certificate.multipliers[support[s]] = y;
+    offset_sum += y * cell.constraints[support[s]].offset;
+  }
+  if (sgn(offset_sum) > 0) return std::nullopt;
+  return certificate;
+}
+
+// The redundancy form of the Motzkin certificate: a_j = sum_{s in S} y_s a_s
+// with y >= 0 and sum y_s c_s <= c_j (equality multiplier -1).
+std::optional<NonFacetCertificate> redundancy_on_support(const Polyhedron& cell, std::size_t representative,
+                                                         const std::vector<std::size_t>& support) {
+  if (support.empty()) return std::nullopt;
+  const Constraint& rep = cell.constraints[representative];
+  RationalMatrix system(cell.dim, support.size());
+  for (std::size_t s = 0; s < support.size(); ++s)
+    for (std::size_t k = 0; k < cell.dim; ++k) system(k, s) = cell.constraints[support[s]].normal[k];
+  const std::optional<RationalVector> y = detail::solve_exact(std::move(system), rep.normal);
+  if (!y) return std::nullopt;
+  NonFacetCertificate certificate{Rational(-1), RationalVector(cell.constraints.size(), Rational(0))};
+  Rational offset_sum = 0;
+  for (std::size_t s = 0; s < support.size(); ++s) {
+    if (sgn((*y)[s]) < 0) return std::nullopt;
+    certificate.multipliers[support[s]] = (*y)[s];
+    offset_sum += (*y)[s] * cell.constraints[support[s]].offset;
+  }
+  if (offset_sum > rep.offset) return std::nullopt;
+  return certificate;
+}
+
+// ---- exact fallbacks (cddlib) ----------------------------------------------
+
+[[noreturn]] void internal_failure(const char* what) {
+  throw std::logic_error(std::string("pleat::lp internal error: ") + what);
+}
+
+// Open cell, exactly.
+CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap) {
+  const std::size_t n = cell.dim;
+  const std::size_t m = cell.constraints.size();
+  // Exact LP (cddlib), variables (x, t):
+  //   maximise t  subject to  a_i . x + c_i - t |a_i|_1 >= 0  (every i),  cap - t >= 0.
+  // With the exact 1-norm, t is the radius of a max-norm ball inside the cell.
+  std::vector<ExactRow> rows(m + 1);
+  for (std::size_t i = 0; i < m; ++i) {
+    rows[i].normal = cell.constraints[i].normal;
+    rows[i].normal.push_back(-one_norm(cell.constraints[i].normal));
+    rows[i].offset = cell.constraints[i].offset;
+  }
+  rows[m].normal.assign(n + 1, Rational(0));
+  rows[m].normal[n] = -1;
+  rows[m].offset = cap;
+  RationalVector objective(n + 1, Rational(0));
+  objective[n] = 1;
+  const detail::ExactSolution primal = detail::maximise_exact(n + 1, rows, objective);
+  if (primal.status != ExactStatus::optimal) internal_failure("exact centre LP not optimal");
+  if (sgn(primal.value) > 0) {
+    RationalVector centre(primal.point.begin(), primal.point.begin() + static_cast<long>(n));
+    // Moving each coordinate by at most t/16 keeps every slack >= 15 t|a_i|_1 / 16 > 0.
+    RationalVector shortened = round_point(centre, primal.value / 16);
+    if (is_interior(cell, shortened)) return InteriorPoint{std::move(shortened)};
+    if (!is_interior(cell, centre)) internal_failure("exact centre not interior");
+    return InteriorPoint{std::move(centre)};
+  }
+  // Exact alternative (Gordan/Motzkin), variables y in Q^m:
+  //   minimise sum_i y_i c_i  subject to  y >= 0,  sum_i y_i = 1,  sum_i y_i a_i = 0.
+  // Feasible with optimum <= 0 exactly when the open cell is empty.
+  std::vector<ExactRow> alternative;
+  alternative.reserve(m + 1 + n);
+  for (std::size_t i = 0; i < m; ++i) {
+    ExactRow row{RationalVector(m, Rational(0)), Rational(0), false};
+    row.normal[i] = 1;
+    alternative.push_back(std::move(row));
+  }
+  alternative.push_back(ExactRow{RationalVector(m, Rational(1)), Rational(-1), true});
+  for (std::size_t k = 0; k < n; ++k) {
+    ExactRow row{RationalVector(m), Rational(0), true};
+    for (std::size_t i = 0; i < m; ++i) row.normal[i] = cell.constraints[i].normal[k];
+    alternative.push_back(std::move(row));
+  }
+  RationalVector cost(m);
+  for (std::size_t i = 0; i < m; ++i) cost[i] = -cell.constraints[i].offset;
+  const detail::ExactSolution dual = detail::maximise_exact(m, alternative, cost);
+  if (dual.status != ExactStatus::optimal) internal_failure("exact Gordan LP not optimal");
+  EmptinessCertificate certificate{dual.point};
+  if (!check_emptiness(cell, certificate)) internal_failure("exact Gordan certificate fails");
+  return certificate;
+}
+
+// One facet group, exactly.
+FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group) {
+  const std::size_t n = cell.dim;
+  const std::size_t m = cell.constraints.size();
+  const std::size_t j = group[0];
+  const Constraint& rep = cell.constraints[j];
+  std::vector<bool> is_member(m, false);
+  for (std::size_t member : group) is_member[member] = true;
+  // Exact mixed LP (cddlib), variables (x, t):
+  //   maximise t  subject to  a_j . x + c_j = 0,
+  //                           a_i . x + c_i - t |a_i|_1 >= 0  (i outside the group),  1 - t >= 0.
+  std::vector<ExactRow> rows;
+  ExactRow equality{rep.normal, rep.offset, true};
+  equality.normal.push_back(Rational(0));
+  rows.push_back(std::move(equality));
+  for (std::size_t i = 0; i < m; ++i) {
+    if (is_member[i]) continue;
+    ExactRow row{cell.constraints[i].normal, cell.constraints[i].offset, false};
+    row.normal.push_back(-one_norm(cell.constraints[i].normal));
+    rows.push_back(std::move(row));
+  }
+  ExactRow cap{RationalVector(n + 1, Rational(0)), Rational(1), false};
+  cap.normal[n] = -1;
+  rows.push_back(std::move(cap));
+  RationalVector objective(n + 1, Rational(0));
+  objective[n] = 1;
+  const detail::ExactSolution primal = detail::maximise_exact(n + 1, rows, objective);
+  if (primal.status != ExactStatus::optimal) internal_failure("exact facet LP not optimal");
+  if (sgn(primal.value) > 0) {
+    RationalVector point(primal.point.begin(), primal.point.begin() + static_cast<long>(n));
+    // Rounding all coordinates but the largest-|a_jk| one by < t/(2n) and
+    // re-solving that one moves the point by < t/2 in max-norm: still a facet point.
+    const std::size_t solved = largest_entry(rep.normal);
+    RationalVector shortened = project_onto(
+        rep, round_point(point, primal.value / Rational(static_cast<long>(2 * n))), solved);
+    if (is_facet_point(cell, group, shortened)) return FacetPoint{std::move(shortened)};
+    if (!is_facet_point(cell, group, point)) internal_failure("exact facet point fails");
+    return FacetPoint{std::move(point)};
+  }
+  // Exact alternative (Motzkin), variables (mu, y over the rows outside the group):
+  //   minimise mu c_j + sum y_i c_i  subject to  y >= 0,  sum y_i = 1,  mu a_j + sum y_i a_i = 0.
+  std::vector<std::size_t> others;
+  for (std::size_t i = 0; i < m; ++i)
+    if (!is_member[i]) others.push_back(i);
+  const std::size_t variables = others.size() + 1;
+  std::vector<ExactRow> alternative;
+  for (std::size_t s = 0; s < others.size(); ++s) {
+    ExactRow row{RationalVector(variables, Rational(0)), Rational(0), false};
+    row.normal[s + 1] = 1;
+    alternative.push_back(std::move(row));
+  }
+  ExactRow sum{RationalVector(variables, Rational(1)), Rational(-1), true};
+  sum.normal[0] = 0;
+  alternative.push_back(std::move(sum));
+  for (std::size_t k = 0; k < n; ++k) {
+    ExactRow row{RationalVector(variables), Rational(0), true};
+    row.normal[0] = rep.normal[k];
+    for (std::size_t s = 0; s < others.size(); ++s) row.normal[s + 1] = cell.constraints[others[s]].normal[k];
+    alternative.push_back(std::move(row));
+  }
+  RationalVector cost(variables);
+  cost[0] = -rep.offset;
+  for (std::size_t s = 0; s < others.size(); ++s) cost[s + 1] = -cell.constraints[others[s]].offset;
+  const detail::ExactSolution dual = detail::maximise_exact(variables, alternative, cost);
+  if (dual.status != ExactStatus::optimal) internal_failure("exact Motzkin LP not optimal");
+  NonFacetCertificate certificate{dual.point[0], RationalVector(m, Rational(0))};
+  for (std::size_t s = 0; s < others.size(); ++s) certificate.multipliers[others[s]] = dual.point[s + 1];
+  if (!check_non_facet(cell, group, certificate)) internal_failure("exact Motzkin certificate fails");
+  return certificate;
+}
+
+// Boundedness, exactly.
+BoundednessVerdict decide_boundedness_exactly(const Polyhedron& cell) {
+  const std::size_t n = cell.dim;
+  const std::size_t m = cell.constraints.size();
+  RationalMatrix normals(m, n);
+  for (std::size_t i = 0; i < m; ++i) normals.set_row(i, cell.constraints[i].normal);
+  // A lineality direction (rank < n) recedes both ways.
+  if (const std::optional<RationalVector> d = detail::null_vector(normals)) {
+    RecessionDirection direction{*d};
+    if (!check_recession_direction(cell, direction)) internal_failure("exact lineality fails");
+    return direction;
+  }
+  // Exact LP (cddlib), variables d:
+  //   maximise (sum_i a_i) . d  subject to  a_i . d >= 0,  -1 <= d_k <= 1.
+  // With rank n every nonzero d in the cone has a positive objective.
+  std::vector<ExactRow> rows;
+  RationalVector objective(n, Rational(0));
+  for (const Constraint& constraint : cell.constraints) {
+    rows.push_back(ExactRow{constraint.normal, Rational(0), false});
+    for (std::size_t k = 0; k < n; ++k) objective[k] += constraint.normal[k];
+  }
+  for (std::size_t k = 0; k < n; ++k) {
+    ExactRow lower{RationalVector(n, Rational(0)), Rational(1), false};
+    lower.normal[k] = 1;
+    ExactRow upper{RationalVector(n, Rational(0)), Rational(1), false};
+    upper.normal[k] = -1;
+    rows.push_back(std::move(lower));
+    rows.push_back(std::move(upper));
+  }
+  const detail::ExactSolution primal = detail::maximise_exact(n, rows, objective);
+  if (primal.status != ExactStatus::optimal) internal_failure("exact recession LP not optimal");
+  if (sgn(primal.value) > 0) {
+    RecessionDirection direction{primal.point};
+    if (!check_recession_direction(cell, direction)) internal_failure("exact recession direction fails");
+    return direction;
+  }
+  // Exact Stiemke LP, variables y in Q^m:
+  //   minimise sum y_i  subject to  y_i >= 1,  sum_i y_i a_i = 0.
+  std::vector<ExactRow> alternative;
+  for (std::size_t i = 0; i < m; ++i) {
+    ExactRow row{RationalVector(m, Rational(0)), Rational(-1), false};
+    row.normal[i] = 1;
+    alternative.push_back(std::move(row));
+  }
+  for (std::size_t k = 0; k < n; ++k) {
+    ExactRow row{RationalVector(m), Rational(0), true};
+    for (std::size_t i = 0; i < m; ++i) row.normal[i] = cell.constraints[i].normal[k];
+    alternative.push_back(std::move(row));
+  }
+  const detail::ExactSolution dual =
+      detail::maximise_exact(m, alternative, RationalVector(m, Rational(-1)));
+  if (dual.status != ExactStatus::optimal) internal_failure("exact Stiemke LP not optimal");
+  BoundednessCertificate certificate{dual.point};
+  if (!check_boundedness(cell, certificate)) internal_failure("exact Stiemke certificate fails");
+  return certificate;
+}
+
+// ---- the double filter --------------------------------------------------------
+
+// Open cell via the filter; nullopt when the proposal does not verify.
+std::optional<CellVerdict> decide_open_cell_filtered(const Polyhedron& cell, const DoubleRows& rows,
+                                                     double cap, double positive_slack) {
+  const std::size_t n = cell.dim;
+  const std::size_t m = cell.constraints.size();
+  // LP0 (GLPK, rows scaled to 1-norm 1 as in DoubleRows), variables (x, t):
+  //   maximise t  subject to  â_i . x - t >= -ĉ_i  (every i),  t <= cap,  x free.
+  // t* > 0 is the radius of a max-norm ball inside the cell; t* <= 0 means
+  // empty, and the rows active at the optimum carry the Gordan multipliers.
+  GlpkLP lp(m, n + 1, true);
+  std::vector<double> row(n + 1);
+  for (std::size_t i = 0; i < m; ++i) {
+    std::copy(rows.normal(i), rows.normal(i) + n, row.begin());
+    row[n] = -1.0;
+    lp.set_row(i, row.data(), n + 1);
+    lp.set_row_lower(i, -rows.offsets[i]);
+  }
+  lp.set_column_upper(n, cap);
+  lp.set_objective(n, 1.0);
+  if (lp.solve() != DoubleStatus::optimal) return std::nullopt;
+  const double radius = lp.objective();
+  std::vector<double> centre(n);
+  for (std::size_t k = 0; k < n; ++k) centre[k] = lp.column_value(k);
+  if (radius > positive_slack) {
+    // A max-norm move below t*/16 keeps every scaled slack above 15 t*/16 and
+    // the point well centred; tighter, then the double's own value, if GLPK's
+    // tolerances ate the margin.
+    for (double shrink : {1.0 / 16.0, 1.0 / 1024.0, 0.0}) {
+      RationalVector point = round_point(centre, radius * shrink);
+      if (is_interior(cell, point)) return InteriorPoint{std::move(point)};
+    }
+    return std::nullopt;
+  }
+  if (std::optional<EmptinessCertificate> certificate =
+          emptiness_on_support(cell, rows_at_lower_bound(lp, m)))
+    return *certificate;
+  return std::nullopt;
+}
+
+CellVerdict decide_open_cell_counted(const Polyhedron& cell, const Rational& cap, double positive_slack,
+                                     QueryCounts& counts) {
+  ++counts.lp_queries;
+  if (cell.constraints.empty()) {
+    ++counts.filter_settled;
+    return InteriorPoint{RationalVector(cell.dim, Rational(0))};
+  }
+  const DoubleRows rows = detail::to_double_rows(cell);
+  const double cap_double = std::min(cap.get_d(), 1e100);
+  if (rows.is_finite) {
+    if (std::optional<CellVerdict> verdict = decide_open_cell_filtered(cell, rows, cap_double, positive_slack)) {
+      ++counts.filter_settled;
+      return *verdict;
+    }
+  }
+  ++counts.exact_fallbacks;
+  return decide_open_cell_exactly(cell, cap);
+}
+
+// Groups of positive multiples, by representative index; each group ascending.
+std::vector<std::vector<std::size_t>> group_positive_multiples(const Polyhedron& cell, const DoubleRows& rows) {
+  const std::size_t m = cell.constraints.size();
+  const std::size_t n = cell.dim;
+  // Screen in double: positive multiples have equal scaled normals (up to
+  // rounding), so sort by the first scaled coordinate and compare neighbours;
+  // the exact test decides.
+  constexpr double screen = 1e-6;
+  std::vector<std::size_t> order(m);
+  for (std::size_t i = 0; i < m; ++i) order[i] = i;
+  std::sort(order.begin(), order.end(),
+            [&](std::size_t a, std::size_t b) { return rows.normal(a)[0] < rows.normal(b)[0]; });
+  std::vector<std::size_t> parent(m);
+  for (std::size_t i = 0; i < m; ++i) parent[i] = i;
+  for (std::size_t a = 0; a < m; ++a) {
+    const std::size_t i = order[a];
+    for (std::size_t b = a + 1; b < m; ++b) {
+      const std::size_t j = order[b];
+      if (rows.normal(j)[0] - rows.normal(i)[0] > screen) break;
+      bool is_close = true;
+      for (std::size_t k = 1; k < n && is_close; ++k)
+        is_close = std::fabs(rows.normal(i)[k] - rows.normal(j)[k]) <= screen;
+      if (!is_close) continue;
+      if (!detail::is_positive_multiple(cell.constraints[i], cell.constraints[j])) continue;
+      // Positive multiples form classes: attach the larger index to the smaller root.
+      std::size_t root_i = i;
+      while (parent[root_i] != root_i) root_i = parent[root_i];
+      std::size_t root_j = j;
+      while (parent[root_j] != root_j) root_j = parent[root_j];
+      if (root_i != root_j) parent[std::max(root_i, root_j)] = std::min(root_i, root_j);
+    }
+  }
+  std::vector<std::vector<std::size_t>> groups;
+  std::vector<std::size_t> group_of(m);
+  for (std::size_t i = 0; i < m; ++i) {
+    std::size_t root = i;
+    while (parent[root] != root) root = parent[root];
+    if (root == i) {
+      group_of[i] = groups.size();
+      groups.push_back({i});
+    } else {
+      groups[group_of[root]].push_back(i);
+    }
+  }
+  return groups;
+}
+
+// The per-region double state for facet classification.
+class FacetFilter {
+ public:
+  FacetFilter(const Polyhedron& cell, const DoubleRows& rows, double positive_slack)
+      : cell_(cell),
+        rows_(rows),
+        positive_slack_(positive_slack),
+        screen_(cell.constraints.size(), cell.dim, false) {
+    build_screen();
+  }
+
+  std::optional<FacetVerdict> classify(const std::vector<std::size_t>& group) {
+    const std::size_t j = group[0];
+    // Screen: the minimum of constraint j over the closed cell.
+    for (std::size_t k = 0; k < cell_.dim; ++k) screen_.set_objective(k, rows_.normal(j)[k]);
+    if (screen_.solve() == DoubleStatus::optimal) {
+      const double minimum = screen_.objective() + rows_.offsets[j];
+      if (minimum > positive_slack_) {
+        std::vector<std::size_t> support = rows_at_lower_bound(screen_, cell_.constraints.size());
+        const bool touches_group = std::any_of(support.begin(), support.end(), [&](std::size_t s) {
+          return std::find(group.begin(), group.end(), s) != group.end();
+        });
+        if (!touches_group)
+          if (std::optional<NonFacetCertificate> certificate = redundancy_on_support(cell_, j, support))
+            return FacetVerdict{*certificate};
+      }
+    }
+    return classify_on_hyperplane(group);
+  }
+
+ private:
+  void build_screen() {
+    const std::size_t n = cell_.dim;
+    const std::size_t m = cell_.constraints.size();
+    // LP1 (GLPK, one per region, objective rewritten per candidate j):
+    //   minimise â_j . x  subject to  â_i . x >= -ĉ_i  (every i),  x free.
+    // Only the objective changes, so each re-solve starts from a primal
+    // feasible basis. The optimum v_j = min(â_j . x + ĉ_j) over the closed
+    // cell is >= 0. v_j > 0: the hyperplane misses the closed cell, and the
+    // dual (a_j = sum y_i a_i over the active rows, sum y_i c_i <= c_j by
+    // duality) is the Motzkin certificate with equality multiplier -1.
+    // v_j ~ 0: the hyperplane touches the cell; LP2 decides.
+    for (std::size_t i = 0; i < m; ++i) {
+      screen_.set_row(i, rows_.normal(i), n);
+      screen_.set_row_lower(i, -rows_.offsets[i]);
+    }
+  }
+
+  void build_hyperplane_lp() {
+    const std::size_t n = cell_.dim;
+    const std::size_t m = cell_.constraints.size();
+    // LP2 (GLPK, one per region, built on the first touching candidate;
+    // row E rewritten per candidate j), variables (x, t):
+    //   maximise t  subject to  â_j . x = -ĉ_j                        (row E = row m),
+    //                           â_i . x - t >= -ĉ_i  (i outside j's group; the group's rows are freed),
+    //                           t <= 1,  x free.
+    // t* > 0: a point on j's hyperplane with every other constraint > 0, a facet.
+    // t* <= 0: the mixed system has no solution; the active rows and E carry
+    // the Motzkin multipliers (E's free in sign).
+    hyperplane_.emplace(m + 1, n + 1, true);
+    std::vector<double> row(n + 1);
+    for (std::size_t i = 0; i < m; ++i) {
+      std::copy(rows_.normal(i), rows_.normal(i) + n, row.begin());
+      row[n] = -1.0;
+      hyperplane_->set_row(i, row.data(), n + 1);
+      hyperplane_->set_row_lower(i, -rows_.offsets[i]);
+    }
+    hyperplane_->set_column_upper(n, 1.0);
+    hyperplane_->set_objective(n, 1.0);
+  }
+
+  std::optional<FacetVerdict> classify_on_hyperplane(const std::vector<std::size_t>& group) {
+    const std::size_t n = cell_.dim;
+    const std::size_t m = cell_.constraints.size();
+    const std::size_t j = group[0];
+    if (!hyperplane_) build_hyperplane_lp();
+    GlpkLP& lp = *hyperplane_;
+    lp.set_row(m, rows_.normal(j), n);
+    lp.set_row_fixed(m, -rows_.offsets[j]);
+    for (std::size_t member : group) lp.set_row_free(member);
+    const DoubleStatus status = lp.solve();
+    std::optional<FacetVerdict> verdict;
+    if (status == DoubleStatus::optimal) verdict = read_hyperplane_lp(group);
+    for (std::size_t member : group) lp.set_row_lower(member, -rows_.offsets[member]);
+    return verdict;
+  }
+
+  std::optional<FacetVerdict> read_hyperplane_lp(const std::vector<std::size_t>& group) const {
+    const std::size_t n = cell_.dim;
+    const std::size_t m = cell_.constraints.size();
+    const GlpkLP& lp = *hyperplane_;
+    const double radius = lp.objective();
+    if (radius > positive_slack_) {
+      std::vector<double> point(n);
+      for (std::size_t k = 0; k < n; ++k) point[k] = lp.column_value(k);
+      const Constraint& rep = cell_.constraints[group[0]];
+      const std::size_t solved = largest_entry(rep.normal);
+      // Rounding the other coordinates by < t/(2n) and solving for the
+      // largest-|a_jk| one moves the point by about t/2 at most in max-norm.
+      for (double shrink : {0.5 / static_cast<double>(n), 1.0 / 64.0 / static_cast<double>(n), 0.0}) {
+        RationalVector candidate = project_onto(rep, round_point(point, radius * shrink), solved);
+        if (is_facet_point(cell_, group, candidate)) return FacetVerdict{FacetPoint{std::move(candidate)}};
+      }
+      return std::nullopt;
+    }
+    std::vector<std::size_t> support;
+    for (std::size_t i = 0; i < m; ++i) {
+      if (std::find(group.begin(), group.end(), i) != group.end()) continue;
+      if (lp.row_status(i) == BasisStatus::at_lower) support.push_back(i);
+    }
+    if (std::optional<NonFacetCertificate> certificate = non_facet_on_support(cell_, group[0], support))
+      return FacetVerdict{*certificate};
+    return std::nullopt;
+  }
+
+  const Polyhedron& cell_;
+  const DoubleRows& rows_;
+  double positive_slack_;
+  GlpkLP screen_;
+  std::optional<GlpkLP> hyperplane_;
+};
+
+// Recession direction from LP3's optimal basis: the active rows (a_i . d = 0)
+// and the columns at a bound (d_k = +-1) determine d; solve exactly.
+std::optional<RecessionDirection> direction_from_basis(const Polyhedron& cell, const GlpkLP& lp) {
+  const std::size_t n = cell.dim;
+  RationalMatrix system(n, n);
+  RationalVector rhs(n, Rational(0));
+  std::size_t equations = 0;
+  for (std::size_t i = 0; i < cell.constraints.size() && equations < n; ++i) {
+    if (lp.row_status(i) != BasisStatus::at_lower) continue;
+    system.set_row(equations++, cell.constraints[i].normal);
+  }
+  for (std::size_t k = 0; k < n && equations < n; ++k) {
+    const BasisStatus status = lp.column_status(k);
+    if (status != BasisStatus::at_lower && status != BasisStatus::at_upper) continue;
+    system(equations, k) = 1;
+    rhs[equations++] = status == BasisStatus::at_upper ? 1 : -1;
+  }
+  if (equations != n) return std::nullopt;
+  std::optional<RationalVector> d = detail::solve_unique(std::move(system), std::move(rhs));
+  if (!d) return std::nullopt;
+  RecessionDirection direction{std::move(*d)};
+  if (!check_recession_direction(cell, direction)) return std::nullopt;
+  return direction;
+}
+
+// Stiemke multipliers from LP3's dual at d = 0: sum_i (1 + y_i) â_i = 0, y >= 0
+// on the n active rows S. Exactly: with exact weights u_i ~ the scaling of row
+// i, solve sum_{s in S} z_s a_s = -sum_i u_i a_i (a_S square, nonsingular),
+// then w = u + z must be > 0 everywhere; rank(a_S) = n comes with the solve.
+std::optional<BoundednessCertificate> stiemke_from_basis(const Polyhedron& cell, const DoubleRows& rows,
+                                                         const GlpkLP& lp) {
+  const std::size_t n = cell.dim;
+  const std::size_t m = cell.constraints.size();
+  const std::vector<std::size_t> support = rows_at_lower_bound(lp, m);
+  if (support.size() != n) return std::nullopt;
+  RationalVector weights(m);
+  for (std::size_t i = 0; i < m; ++i) weights[i] = rows.exact_weight(i);
+  RationalVector rhs = detail::weighted_normal_sum(cell, weights);
+  for (Rational& value : rhs) value = -value;
+  RationalMatrix system(n, n);
+  for (std::size_t s = 0; s < n; ++s)
+    for (std::size_t k = 0; k < n; ++k) system(k, s) = cell.constraints[support[s]].normal[k];
+  const std::optional<RationalVector> z = detail::solve_unique(std::move(system), std::move(rhs));
+  if (!z) return std::nullopt;
+  for (std::size_t s = 0; s < n; ++s) {
+    weights[support[s]] += (*z)[s];
+    if (sgn(weights[support[s]]) <= 0) return std::nullopt;
+  }
+  return BoundednessCertificate{std::move(weights)};
+}
+
+// A lineality direction proposed in double (row space of rank < n by Gram-Schmidt),
+// made exact as a null vector of the independent rows and checked on all rows.
+std::optional<std::optional<RecessionDirection>> lineality_filtered(const Polyhedron& cell, const DoubleRows& rows) {
+  const std::size_t n = cell.dim;
+  std::vector<std::vector<double>> basis;
+  std::vector<std::size_t> independent;
+  for (std::size_t i = 0; i < cell.constraints.size() && basis.size() < n; ++i) {
+    std::vector<double> residual(rows.normal(i), rows.normal(i) + n);
+    for (int pass = 0; pass < 2; ++pass)
+      for (const std::vector<double>& b : basis) {
+        double dot = 0.0;
+        for (std::size_t k = 0; k < n; ++k) dot += residual[k] * b[k];
+        for (std::size_t k = 0; k < n; ++k) residual[k] -= dot * b[k];
+      }
+    double norm = 0.0;
+    for (double value : residual) norm += value * value;
+    norm = std::sqrt(norm);
+    if (norm < 1e-9) continue;
+    for (double& value : residual) value /= norm;
+    basis.push_back(std::move(residual));
+    independent.push_back(i);
+  }
+  if (independent.size() == n) return std::optional<RecessionDirection>();  // full rank: no lineality
+  RationalMatrix system(independent.size(), n);
+  for (std::size_t s = 0; s < independent.size(); ++s) system.set_row(s, cell.constraints[independent[s]].normal);
+  std::optional<RationalVector> d = detail::null_vector(std::move(system));
+  if (!d) return std::nullopt;
+  RecessionDirection direction{std::move(*d)};
+  if (!check_recession_direction(cell, direction)) return std::nullopt;  // wrong proposal
+  return std::optional<RecessionDirection>(std::move(direction));
+}
+
+std::optional<BoundednessVerdict> decide_boundedness_filtered(const Polyhedron& cell, const DoubleRows& rows,
+                                                              double positive_slack) {
+  const std::size_t n = cell.dim;
+  const std::size_t m = cell.constraints.size();
+  const std::optional<std::optional<RecessionDirection>> lineality = lineality_filtered(cell, rows);
+  if (!lineality) return std::nullopt;
+  if (*lineality) return BoundednessVerdict{**lineality};
+  // LP3 (GLPK), variables d:
+  //   maximise g . d, g = sum_i â_i,  subject to  â_i . d >= 0,  -1 <= d_k <= 1.
+  // With rank n, a positive optimum gives a recession direction; a zero
+  // optimum at d = 0 has the dual sum_i (1 + y_i) â_i = 0, y >= 0: Stiemke
+  // multipliers all >= 1.
+  GlpkLP lp(m, n, true);
+  std::vector<double> objective(n, 0.0);
+  for (std::size_t i = 0; i < m; ++i) {
+    lp.set_row(i, rows.normal(i), n);
+    lp.set_row_lower(i, 0.0);
+    for (std::size_t k = 0; k < n; ++k) objective[k] += rows.normal(i)[k];
+  }
+  for (std::size_t k = 0; k < n; ++k) {
+    lp.set_column_bounds(k, -1.0, 1.0);
+    lp.set_objective(k, objective[k]);
+  }
+  if (lp.solve() != DoubleStatus::optimal) return std::nullopt;
+  if (lp.objective() > positive_slack) {
+    if (std::optional<RecessionDirection> direction = direction_from_basis(cell, lp)) return *direction;
+    return std::nullopt;
+  }
+  if (std::optional<BoundednessCertificate> certificate = stiemke_from_basis(cell, rows, lp)) return *certificate;
+  return std::nullopt;
+}
+
+}  // namespace
+
+Oracle::Oracle(FilterTolerances tolerances) : state_(std::make_unique<State>()) {
+  state_->tolerances = tolerances;
+}
+Oracle::~Oracle() = default;
+Oracle::Oracle(Oracle&&) noexcept = default;
+Oracle& Oracle::operator=(Oracle&&) noexcept = default;
+
+const QueryCounts& Oracle::counts() const { return state_->counts; }
+
+CellVerdict Oracle::decide_open_cell(const Polyhedron& cell) {
+  detail::require_well_formed(cell, "decide_open_cell");
+  return decide_open_cell_counted(cell, Rational(1), state_->tolerances.positive_slack, state_->counts);
+}
+
+CellVerdict Oracle::find_centre(const Polyhedron& cell, const Rational& radius_cap) {
+  detail::require_well_formed(cell, "find_centre");
+  if (sgn(radius_cap) <= 0) throw usage_error("find_centre: radius_cap must be > 0");
+  return decide_open_cell_counted(cell, radius_cap, state_->tolerances.positive_slack, state_->counts);
+}
+
+FacetClassification Oracle::classify_facets(const Polyhedron& cell, const InteriorPoint& interior) {
+  detail::require_well_formed(cell, "classify_facets");
+  if (!check_interior_point(cell, interior))
+    throw usage_error("classify_facets: the given point is not strictly inside the cell");
+  FacetClassification classification;
+  if (cell.constraints.empty()) return classification;
+  const DoubleRows rows = detail::to_double_rows(cell);
+  const std::vector<std::vector<std::size_t>> groups = group_positive_multiples(cell, rows);
+  std::optional<FacetFilter> filter;
+  if (rows.is_finite) filter.emplace(cell, rows, state_->tolerances.positive_slack);
+  for (const std::vector<std::size_t>& group : groups) {
+    ++state_->counts.lp_queries;
+    std::optional<FacetVerdict> verdict;
+    if (filter) verdict = filter->classify(group);
+    if (verdict) {
+      ++state_->counts.filter_settled;
+    } else {
+      ++state_->counts.exact_fallbacks;
+      verdict = classify_group_exactly(cell, group);
+    }
+    classification.groups.push_back(FacetGroup{group, std::move(*verdict)});
+  }
+  return classification;
+}
+
+BoundednessVerdict Oracle::decide_boundedness(const Polyhedron& cell) {
+  detail::require_well_formed(cell, "decide_boundedness");
+  ++state_->counts.lp_queries;
+  if (cell.dim == 0) {
+    ++state_->counts.filter_settled;
+    return BoundednessCertificate{RationalVector(cell.constraints.size(), Rational(0))};
+  }
+  if (cell.constraints.empty()) {
+    ++state_->counts.filter_settled;
+    RationalVector direction(cell.dim, Rational(0));
+    direction[0] = 1;
+    return RecessionDirection{std::move(direction)};
+  }
+  const DoubleRows rows = detail::to_double_rows(cell);
+  if (std::optional<BoundednessVerdict> verdict =
+          decide_boundedness_filtered(cell, rows, state_->tolerances.positive_slack)) {
+    ++state_->counts.filter_settled;
+    return *verdict;
+  }
+  ++state_->counts.exact_fallbacks;
+  return decide_boundedness_exactly(cell);
+}
+
+}  // namespace pleat::lp
