@@ -9,10 +9,10 @@
 #include <flint/fmpz_mat.h>
 #include <flint/nmod.h>
 #include <flint/nmod_mat.h>
-#include <flint/nmod_vec.h>
 #include <flint/ulong_extras.h>
 
 #include <algorithm>
+#include <string>
 #include <utility>
 
 namespace pleat {
@@ -198,12 +198,12 @@ RationalMatrix kernel_basis_exact(const RationalMatrix& matrix) {
 // ---- Primes and reduction modulo p ------------------------------------------
 
 std::uint64_t primary_prime() {
-  static const std::uint64_t prime = n_nextprime(std::uint64_t{1} << 62, 1);
+  static const std::uint64_t prime = n_nextprime((std::uint64_t{1} << 62) - (std::uint64_t{1} << 32), 1);
   return prime;
 }
 
 std::uint64_t screening_prime() {
-  static const std::uint64_t prime = n_nextprime(std::uint64_t{1} << 61, 1);
+  static const std::uint64_t prime = n_nextprime((std::uint64_t{1} << 61) - (std::uint64_t{1} << 32), 1);
   return prime;
 }
 
@@ -247,51 +247,112 @@ std::size_t rank_modulo(const ModularMatrix& matrix, std::uint64_t prime) {
 
 // ---- Incremental modular row basis ------------------------------------------
 
-ModularRowBasis::ModularRowBasis(std::uint64_t prime, std::size_t columns)
-    : prime_(prime), prime_inverse_(0), prime_norm_(0), columns_(columns) {
-  check_prime_range(prime, "ModularRowBasis");
-  nmod_t modulus;
-  nmod_init(&modulus, prime);
-  prime_inverse_ = modulus.ninv;
-  prime_norm_ = static_cast<unsigned>(modulus.norm);
+namespace {
+
+__extension__ typedef unsigned __int128 Wide;  // GCC/Clang: exact 64 x 64 -> 128 products
+
+// factor * value mod p by Shoup's method, given precomputed =
+// floor(factor * 2^64 / p); valid for p < 2^63. Branch-free: the operands are
+// random residues, so a branch would be mispredicted half the time.
+inline std::uint64_t multiply_shoup(std::uint64_t factor, std::uint64_t value, std::uint64_t precomputed,
+                                    std::uint64_t prime) {
+  const auto quotient = static_cast<std::uint64_t>((static_cast<Wide>(precomputed) * value) >> 64);
+  const std::uint64_t result = factor * value - quotient * prime;  // in [0, 2p)
+  return result - (prime & (0 - static_cast<std::uint64_t>(result >= prime)));
 }
 
-std::size_t ModularRowBasis::reduce(ModularVector& row) const {
-  const nmod_t modulus{prime_, prime_inverse_, prime_norm_};
-  const auto length = static_cast<slong>(columns_);
-  for (std::size_t k = 0; k < rows_.size(); ++k) {
-    const std::uint64_t factor = row[pivot_columns_[k]];
-    if (factor == 0) continue;
-    // row -= factor * kept row; the kept row is 1 at its pivot, so this
-    // clears the pivot, and it is 0 at every earlier pivot, so those stay 0.
-    _nmod_vec_scalar_addmul_nmod(row.data(), rows_[k].data(), length, prime_ - factor, modulus);
+// target -= factor * source (mod p), entrywise.
+void subtract_multiple(ModularVector& target, const ModularVector& source, std::uint64_t factor,
+                       std::uint64_t prime) {
+  const std::uint64_t precomputed = n_mulmod_precomp_shoup(factor, prime);
+  for (std::size_t j = 0; j < target.size(); ++j) {
+    const std::uint64_t product = multiply_shoup(factor, source[j], precomputed, prime);
+    const std::uint64_t difference = target[j] - product;
+    target[j] = difference + (prime & (0 - static_cast<std::uint64_t>(target[j] < product)));
   }
-  const auto first = std::find_if(row.begin(), row.end(), [](std::uint64_t v) { return v != 0; });
-  return static_cast<std::size_t>(first - row.begin());
+}
+
+void scale(ModularVector& target, std::uint64_t factor, std::uint64_t prime) {
+  const std::uint64_t precomputed = n_mulmod_precomp_shoup(factor, prime);
+  for (std::uint64_t& value : target) value = multiply_shoup(factor, value, precomputed, prime);
+}
+
+}  // namespace
+
+ModularRowBasis::ModularRowBasis(std::uint64_t prime, std::size_t columns)
+    : prime_(prime), prime_inverse_(0), columns_(columns) {
+  check_prime_range(prime, "ModularRowBasis");
+  prime_inverse_ = n_preinvert_limb(prime);
+  free_columns_.resize(columns);
+  for (std::size_t c = 0; c < columns; ++c) free_columns_[c] = c;
+}
+
+void ModularRowBasis::check_row(const ModularVector& row, const char* where) const {
+  if (row.size() != columns_)
+    throw usage_error(std::string(where) + ": the row has " + std::to_string(row.size()) +
+                      " entries, the basis " + std::to_string(columns_) + " columns");
+  for (std::uint64_t value : row)
+    if (value >= prime_) throw usage_error(std::string(where) + ": entry is not a residue");
+}
+
+ModularVector ModularRowBasis::residual(const ModularVector& row) const {
+  // sum_i row[pivot_i] * (kept row i) on the free columns, accumulated
+  // exactly in 192 bits (a 128-bit sum and a count of its wrap-arounds) and
+  // reduced once at the end. Kept row i is 1 at its own pivot and 0 at the
+  // others, so subtracting this sum from row clears every pivot entry at once.
+  const std::size_t free_count = free_columns_.size();
+  std::vector<Wide> sums(free_count, 0);
+  std::vector<std::uint64_t> wraps(free_count, 0);
+  for (std::size_t i = 0; i < pivot_columns_.size(); ++i) {
+    const std::uint64_t factor = row[pivot_columns_[i]];
+    if (factor == 0) continue;
+    const std::uint64_t* part = free_parts_[i].data();
+    for (std::size_t q = 0; q < free_count; ++q) {
+      const Wide product = static_cast<Wide>(factor) * part[q];
+      const Wide sum = sums[q] + product;
+      wraps[q] += static_cast<std::uint64_t>(sum < product);
+      sums[q] = sum;
+    }
+  }
+  ModularVector result(free_count);
+  for (std::size_t q = 0; q < free_count; ++q) {
+    const std::uint64_t value = row[free_columns_[q]];
+    // n_lll_mod_preinv wants the top word reduced mod p: wraps <= rank, and
+    // it is nonzero only when rank * (p-1)^2 >= 2^128, i.e. p >> rank.
+    const std::uint64_t subtrahend =
+        n_lll_mod_preinv(wraps[q], static_cast<std::uint64_t>(sums[q] >> 64), static_cast<std::uint64_t>(sums[q]),
+                         prime_, prime_inverse_);
+    result[q] = value >= subtrahend ? value - subtrahend : value + (prime_ - subtrahend);
+  }
+  return result;
 }
 
 bool ModularRowBasis::add_row(const ModularVector& row) {
-  if (row.size() != columns_) throw usage_error("ModularRowBasis::add_row: wrong row length");
-  if (rank() == columns_) return false;
-  ModularVector work = row;
-  for (std::uint64_t& value : work)
-    if (value >= prime_) throw usage_error("ModularRowBasis::add_row: entry is not a residue");
-  const std::size_t pivot = reduce(work);
-  if (pivot == columns_) return false;
-  const std::uint64_t inverse = n_invmod(work[pivot], prime_);
-  const nmod_t modulus{prime_, prime_inverse_, prime_norm_};
-  _nmod_vec_scalar_mul_nmod(work.data(), work.data(), static_cast<slong>(columns_), inverse, modulus);
-  rows_.push_back(std::move(work));
-  pivot_columns_.push_back(pivot);
+  check_row(row, "ModularRowBasis::add_row");
+  if (free_columns_.empty()) return false;
+  ModularVector reduced = residual(row);
+  const auto nonzero = std::find_if(reduced.begin(), reduced.end(), [](std::uint64_t v) { return v != 0; });
+  if (nonzero == reduced.end()) return false;
+  const auto q = static_cast<std::size_t>(nonzero - reduced.begin());
+  scale(reduced, n_invmod(reduced[q], prime_), prime_);
+  // Clear the new pivot column from the kept rows, then drop it from the
+  // free columns of every stored row.
+  const auto position = static_cast<std::ptrdiff_t>(q);
+  for (ModularVector& part : free_parts_) {
+    if (part[q] != 0) subtract_multiple(part, reduced, part[q], prime_);
+    part.erase(part.begin() + position);
+  }
+  reduced.erase(reduced.begin() + position);
+  pivot_columns_.push_back(free_columns_[q]);
+  free_columns_.erase(free_columns_.begin() + position);
+  free_parts_.push_back(std::move(reduced));
   return true;
 }
 
 bool ModularRowBasis::contains(const ModularVector& row) const {
-  if (row.size() != columns_) throw usage_error("ModularRowBasis::contains: wrong row length");
-  ModularVector work = row;
-  for (std::uint64_t value : work)
-    if (value >= prime_) throw usage_error("ModularRowBasis::contains: entry is not a residue");
-  return reduce(work) == columns_;
+  check_row(row, "ModularRowBasis::contains");
+  const ModularVector reduced = residual(row);
+  return std::all_of(reduced.begin(), reduced.end(), [](std::uint64_t v) { return v == 0; });
 }
 
 }  // namespace pleat

@@ -52,7 +52,8 @@ RationalMatrix row_space_basis_exact(const RationalMatrix& matrix);
 // ---- Primes and reduction modulo p ------------------------------------------
 
 // Fixed word-size primes: the walker's accumulator prime (the first prime
-// above 2^62) and a different screening prime (the first prime above 2^61).
+// above 2^62 - 2^32, so below 2^62) and a different screening prime (the
+// first prime above 2^61 - 2^32).
 // Any prime below 2^63 works with every function here.
 std::uint64_t primary_prime();
 std::uint64_t screening_prime();
@@ -73,21 +74,24 @@ std::size_t rank_modulo(const ModularMatrix& matrix, std::uint64_t prime);
 
 // ---- Incremental modular row basis ------------------------------------------
 
-// The walker's lower-bound accumulator: a semi-echelon basis modulo a prime
-// of the rows added so far. Each kept row has a pivot column where it is 1
-// and every row kept before it is 0, so reducing a new row against the kept
-// rows in order costs one pass per kept row (FLINT's nmod vector helpers).
+// The walker's lower-bound accumulator: the reduced row-echelon basis modulo a
+// prime of the rows added so far. Each kept row is 1 at its pivot column and
+// 0 at every other kept row's pivot, so only its entries at the free
+// (non-pivot) columns are stored. Testing a row then costs rank x (columns -
+// rank) multiply-adds (cheap near full rank, where most rows of a walk are
+// dependent); keeping one costs the same again.
 // rank() is the rank mod p of all rows ever added: a lower bound of their
 // rank over Q when they are images of rational rows (top of this header).
 class ModularRowBasis {
  public:
   // Precondition: prime is a prime in [2, 2^63) (throws usage_error if < 2
-  // or too large).
+  // or too large; primality is not checked).
   ModularRowBasis(std::uint64_t prime, std::size_t columns);
 
   // Reduces row (residues in [0, p), size columns()) against the basis; keeps
   // it when independent. Returns true exactly when the rank rose.
-  // Precondition: row.size() == columns() (throws usage_error).
+  // Precondition: row.size() == columns() and every entry < p (throws
+  // usage_error).
   bool add_row(const ModularVector& row);
 
   // True when row lies in the span mod p of the kept rows (the basis is not
@@ -97,21 +101,24 @@ class ModularRowBasis {
   std::size_t rank() const { return pivot_columns_.size(); }
   std::size_t columns() const { return columns_; }
   std::uint64_t prime() const { return prime_; }
-  // Pivot column of each kept row, in the order the rows were kept: with the
-  // kept rows, the nonsingular minor behind rank().
+  // Pivot column of each kept row, in the order the rows were kept. The
+  // original rows that add_row kept, restricted to these columns, form an
+  // r x r minor that is nonsingular mod p (hence over Q): the certificate
+  // behind rank().
   const std::vector<std::size_t>& pivot_columns() const { return pivot_columns_; }
 
  private:
-  // Reduces row in place against every kept row; returns the first nonzero
-  // column or columns_ when the row reduced to zero.
-  std::size_t reduce(ModularVector& row) const;
+  // row minus its projection on the kept rows, on free_columns_ only (zero
+  // exactly when row is in the span).
+  ModularVector residual(const ModularVector& row) const;
+  void check_row(const ModularVector& row, const char* where) const;
 
   std::uint64_t prime_;
-  std::uint64_t prime_inverse_;  // FLINT's precomputed inverse for n_mulmod2_preinv
-  unsigned prime_norm_;          // leading zero bits of prime (FLINT nmod_t layout)
+  std::uint64_t prime_inverse_;          // FLINT's n_preinvert_limb(prime)
   std::size_t columns_;
-  std::vector<ModularVector> rows_;  // kept rows, reduced
   std::vector<std::size_t> pivot_columns_;
+  std::vector<std::size_t> free_columns_;   // increasing
+  std::vector<ModularVector> free_parts_;   // kept row i at free_columns_
 };
 
 }  // namespace pleat

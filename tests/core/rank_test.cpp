@@ -175,8 +175,10 @@ TEST(ReduceModulo, InvertsDenominatorsAndReportsDivisibleOnes) {
 TEST(Primes, WordSizeDistinctAndPrime) {
   const std::uint64_t p = primary_prime();
   const std::uint64_t q = screening_prime();
-  EXPECT_GT(p, std::uint64_t{1} << 62);
-  EXPECT_GT(q, std::uint64_t{1} << 61);
+  EXPECT_GT(p, (std::uint64_t{1} << 62) - (std::uint64_t{1} << 32));
+  EXPECT_LT(p, std::uint64_t{1} << 62);
+  EXPECT_GT(q, (std::uint64_t{1} << 61) - (std::uint64_t{1} << 32));
+  EXPECT_LT(q, std::uint64_t{1} << 61);
   EXPECT_NE(p, q);
   EXPECT_GT(next_prime_after(p), p);
   // Fermat witness on both primes: 3^(p-1) = 1 mod p, computed by
