@@ -267,3 +267,43 @@ TEST(ReadNetworkFile, ReadsAndPrefixesFaultsWithTheFileName) {
 
 }  // namespace
 }  // namespace pleat
+
+namespace pleat {
+namespace {
+
+std::vector<std::size_t> widths_of(const Network& network) {
+  std::vector<std::size_t> widths = {network.input_dim};
+  for (const Layer& layer : network.layers) widths.push_back(layer.width());
+  return widths;
+}
+
+// The example networks in data/ read, have the shapes data/README.md states,
+// and survive write/read unchanged.
+TEST(DataFiles, ReadAndRoundTrip) {
+  const std::filesystem::path data = std::filesystem::path(PLEAT_SOURCE_DIR) / "data";
+  const std::vector<std::pair<std::string, std::vector<std::size_t>>> expected = {
+      {"fold2d.json", {2, 6, 5, 1}},
+      {"ramp1d.json", {1, 5, 1}},
+      {"sensor3d.json", {3, 6, 4, 1}},
+      {"degenerate2d.json", {2, 4, 3, 1}}};
+  for (const auto& [file, widths] : expected) {
+    SCOPED_TRACE(file);
+    Network network = read_network_file(data / file);
+    EXPECT_EQ(widths_of(network), widths);
+    EXPECT_FALSE(network.has_output_relu());
+    EXPECT_FALSE(network.name.empty());
+    EXPECT_NE(network.meta_json.find("\"scenario\""), std::string::npos);
+    EXPECT_EQ(parse_network(write_network(network)), network);
+  }
+  // Decimals in the files are read as the decimals they spell.
+  Network fold = read_network_file(data / "fold2d.json");
+  EXPECT_EQ(fold.layers[0].weights(0, 0), parse_rational("-11/10"));
+  EXPECT_EQ(fold.layers[0].weights(4, 0), parse_rational("1/20"));
+  // degenerate2d: neurons 1 and 2 are copies (same row, same bias).
+  Network degenerate = read_network_file(data / "degenerate2d.json");
+  EXPECT_EQ(degenerate.layers[0].weights.row(1), degenerate.layers[0].weights.row(2));
+  EXPECT_EQ(degenerate.layers[0].bias[1], degenerate.layers[0].bias[2]);
+}
+
+}  // namespace
+}  // namespace pleat
