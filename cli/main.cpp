@@ -36,7 +36,7 @@ constexpr const char* description =
     "exact rational numbers, so what it prints carries no rounding error.";
 
 constexpr const char* top_level_help =
-    "\nExamples:\n"
+    "Examples:\n"
     "  pleat random --arch 2,8,8,1 --seed 7 -o net.json   # a reproducible random network\n"
     "  pleat eval net.json --at 0.5,-1/3                  # exact output and pattern at a point\n"
     "Run 'pleat COMMAND --help' for what one command does.";

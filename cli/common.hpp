@@ -1,0 +1,84 @@
+// Helpers every pleat subcommand shares: reading inputs with clean messages,
+// exact number lists on the command line, printing rationals, JSON output.
+// Everything here throws pleat::input_error (exit code 2) for bad input, with
+// a message that names the option or file; nothing prints on its own except
+// write_output.
+#pragma once
+
+#include "core/network.hpp"
+#include "core/rational.hpp"
+
+#include <CLI/CLI.hpp>
+#include <nlohmann/json.hpp>
+
+#include <cstddef>
+#include <cstdint>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace pleat::cli {
+
+using Json = nlohmann::ordered_json;  // keys stay in the order written
+
+// ---- Inputs -----------------------------------------------------------------
+
+// Reads a network file; "-" reads standard input. Messages start with the
+// path: "net.json: layers[1].weights[2]: expected 3 numbers, found 2".
+Network load_network(const std::string& path);
+
+// "0.5,-1/3,1e-3" -> exact rationals (the network format's number grammar).
+// `what` names the option in messages: "--at: item 2 ('1/0'): zero denominator".
+RationalVector parse_number_list(std::string_view text, std::string_view what);
+
+// parse_number_list plus a check that there are `dimension` coordinates.
+RationalVector parse_point(std::string_view text, std::size_t dimension, std::string_view what);
+
+// A plain decimal integer 0 .. 2^64-1 (no sign, no hex, no octal: "010" is 10).
+std::uint64_t parse_unsigned(std::string_view text, std::string_view what);
+
+// "2,8,8,1" -> {2, 8, 8, 1}; every entry a positive decimal integer.
+std::vector<std::size_t> parse_width_list(std::string_view text, std::string_view what);
+
+// ---- Options ----------------------------------------------------------------
+
+// Declares an option whose value is a comma-separated list of numbers that may
+// start with a minus sign (`--at -1/3,2`, `--at=-1/3,2`, `--box -2,2`). The
+// value is kept as text for parse_number_list/parse_point. Declare such
+// options only through this helper: it takes exactly one following token
+// whatever it looks like (a std::vector option would stop at "-1/3").
+CLI::Option* add_number_list_option(CLI::App& command, const std::string& name,
+                                    std::string& text, const std::string& description);
+
+// Declares an option taking a plain unsigned integer (parsed by parse_unsigned
+// when the command line is read, so the message names the option).
+CLI::Option* add_unsigned_option(CLI::App& command, const std::string& name,
+                                 std::uint64_t& value, const std::string& description);
+
+// ---- Printing ---------------------------------------------------------------
+
+// ["7/4", "-1"]: exact, in lowest terms, quoted as in the JSON output.
+std::string format_rational_list(const RationalVector& values);
+
+// The shortest decimal that reads back as the same double ("1.75", "-0.1").
+std::string format_double(double value);
+
+// [1.75, -0.1]
+std::string format_double_list(const DoubleVector& values);
+
+// ---- JSON -------------------------------------------------------------------
+
+Json rational_json(const Rational& value);             // "-3/8"
+Json rational_list_json(const RationalVector& values);  // ["-3/8", "1"]
+Json double_list_json(const DoubleVector& values);      // [-0.375, 1.0]
+
+// Pretty (2-space indent) or compact, always ending with a newline.
+std::string json_text(const Json& document, bool is_pretty = true);
+
+// ---- Output -----------------------------------------------------------------
+
+// Writes text to `path`, or to standard output when path is "" or "-".
+// A file that cannot be written is an input_error naming it.
+void write_output(const std::string& path, std::string_view text);
+
+}  // namespace pleat::cli
