@@ -1,0 +1,59 @@
+#!/usr/bin/env bash
+# Bad input gives one clear line "pleat: <message>" on stderr and exit code 2,
+# never a crash, an abort or a stack trace.
+set -u
+pleat=$1
+source_dir=$2
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+
+# run_bad NEEDLE ARGS...: expects exit 2 and NEEDLE in stderr.
+run_bad() {
+  local needle=$1; shift
+  "$pleat" "$@" > "$work/out" 2> "$work/err"
+  local code=$?
+  local err; err=$(cat "$work/err")
+  [ "$code" -eq 2 ] || fail "pleat $*: exit code $code, expected 2 (stderr: $err)"
+  case "$err" in "pleat: "*) ;; *) fail "pleat $*: stderr does not start with 'pleat: ': $err" ;; esac
+  case "$err" in *"$needle"*) ;; *) fail "pleat $*: expected '$needle' in the message: $err" ;; esac
+  case "$err" in *terminate*|*Aborted*|*"core dumped"*|*what\(\)*) fail "pleat $*: crashed: $err" ;; esac
+  [ -s "$work/out" ] && fail "pleat $*: printed to stdout on error: $(cat "$work/out")"
+  return 0
+}
+
+fold=$source_dir/data/fold2d.json
+
+run_bad "$work/missing.json" eval "$work/missing.json" --at 1,2
+run_bad "No such file" eval "$work/missing.json" --at 1,2
+
+printf '{"format": "pleat-network/1", "input_dim": 2,' > "$work/truncated.json"
+run_bad "truncated.json" eval "$work/truncated.json" --at 1,2
+run_bad "malformed JSON" eval "$work/truncated.json" --at 1,2
+
+cat > "$work/shape.json" <<'JSON'
+{ "format": "pleat-network/1", "input_dim": 2,
+  "layers": [ { "weights": [["1", "2"], ["3"]], "bias": ["0", "0"] },
+              { "weights": [["1", "1"]], "bias": ["0"] } ] }
+JSON
+run_bad "layers[0].weights[1]" eval "$work/shape.json" --at 1,2
+
+run_bad "--at" eval "$fold" --at 1,2,3
+run_bad "3 coordinates" eval "$fold" --at 1,2,3
+run_bad "item 2" eval "$fold" --at 1,abc
+run_bad "zero" eval "$fold" --at 1/0,1
+run_bad "--at" eval "$fold"
+run_bad "not expected" eval "$fold" --at 1,2 extra
+run_bad "not expected" no-such-command
+run_bad "--arch" random --arch 2,0,1 --seed 1
+run_bad "--arch" random --arch 2 --seed 1
+run_bad "--seed" random --arch 2,1 --seed -1
+run_bad "--seed" random --arch 2,1 --seed 0x10
+run_bad "--seed" random --arch 2,1
+run_bad "--init" random --arch 2,1 --seed 1 --init glorot
+run_bad "--digits" random --arch 2,1 --seed 1 --digits 0
+run_bad "$work/no/such/dir/x.json" random --arch 2,1 --seed 1 -o "$work/no/such/dir/x.json"
+
+# A directory given as the network.
+run_bad "$work" eval "$work" --at 1,2
+echo "errors: ok"

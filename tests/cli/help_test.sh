@@ -1,0 +1,29 @@
+#!/usr/bin/env bash
+# --help at the top and for every subcommand says what it does and shows an
+# example; --version prints the version.
+set -u
+pleat=$1
+fail() { echo "FAIL: $*" >&2; exit 1; }
+
+top=$("$pleat" --help) || fail "pleat --help exited $?"
+case "$top" in *"Examples:"*) ;; *) fail "pleat --help shows no example" ;; esac
+case "$top" in *"linear region"*) ;; *) fail "pleat --help does not say what pleat is for" ;; esac
+
+# Every subcommand listed in the top-level help.
+commands=$(printf '%s\n' "$top" | awk '/^Subcommands:/ { on = 1; next } on && /^  [a-z]/ { print $1 } on && /^$/ { on = 0 }')
+[ -n "$commands" ] || fail "no subcommands listed in pleat --help"
+for required in random eval; do
+  printf '%s\n' "$commands" | grep -qx "$required" || fail "subcommand $required not listed"
+done
+for command in $commands; do
+  help=$("$pleat" "$command" --help) || fail "pleat $command --help exited $?"
+  case "$help" in *"pleat $command "*) ;; *) fail "pleat $command --help has no example of 'pleat $command ...'" ;; esac
+  case "$help" in *"Usage: pleat $command"*) ;; *) fail "pleat $command --help has no usage line" ;; esac
+done
+
+eval_help=$("$pleat" eval --help)
+case "$eval_help" in *"activation pattern of a point"*) ;; *) fail "eval --help does not explain the activation pattern" ;; esac
+
+version=$("$pleat" --version) || fail "pleat --version exited $?"
+case "$version" in "pleat "[0-9]*) ;; *) fail "unexpected version text: $version" ;; esac
+echo "help: ok"
