@@ -20,6 +20,7 @@ namespace pleat::cli {
 void register_random(CommandTable& commands);
 void register_eval(CommandTable& commands);
 void register_walk(CommandTable& commands);
+void register_certify(CommandTable& commands);
 
 namespace {
 
@@ -27,6 +28,7 @@ void register_all_commands(CommandTable& commands) {
   register_random(commands);
   register_eval(commands);
   register_walk(commands);
+  register_certify(commands);
 }
 
 constexpr const char* description =

@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <chrono>
+#include <condition_variable>
 #include <limits>
 #include <map>
 #include <mutex>
@@ -392,6 +393,8 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
     std::atomic<bool> halt{false};
     std::mutex error_mutex;
     std::exception_ptr error;
+    std::mutex wake_mutex;
+    std::condition_variable wake;
     auto work = [&](RegionProcessor& processor) {
       try {
         for (std::size_t i; !halt && (i = next++) < level.size();) {
@@ -404,17 +407,23 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
         if (!error) error = std::current_exception();
         halt = true;
       }
+      std::lock_guard lock(wake_mutex);
+      wake.notify_all();
     };
     std::vector<std::thread> pool;
     for (unsigned t = 0; t < threads; ++t) pool.emplace_back(work, std::ref(*processors[t]));
-    while (finished < level.size() && !halt) {
-      std::this_thread::sleep_for(std::chrono::milliseconds(50));
-      if (StopReason reason = stop_requested(); reason != StopReason::none) {
-        summary.stop_reason = reason;
-        halt = true;
+    {
+      // Wake when the level is done, or every 0.2 s to report and check limits.
+      std::unique_lock lock(wake_mutex);
+      while (!wake.wait_for(lock, std::chrono::milliseconds(200),
+                            [&] { return finished == level.size() || halt; })) {
+        if (StopReason reason = stop_requested(); reason != StopReason::none) {
+          summary.stop_reason = reason;
+          halt = true;
+        }
+        if (options.on_progress)
+          options.on_progress(WalkProgress{summary.regions + finished, level.size() - finished, elapsed()});
       }
-      if (options.on_progress)
-        options.on_progress(WalkProgress{summary.regions + finished, level.size() - finished, elapsed()});
     }
     for (auto& thread : pool) thread.join();
     if (error) std::rethrow_exception(error);
