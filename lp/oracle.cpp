@@ -11,6 +11,7 @@
 #include "lp/detail/exact_lp.hpp"
 #include "lp/detail/exact_tools.hpp"
 #include "lp/detail/glpk_lp.hpp"
+#include "lp/detail/working_rows.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -39,6 +40,7 @@ using detail::DoubleStatus;
 using detail::ExactRow;
 using detail::ExactStatus;
 using detail::GlpkLP;
+using detail::WorkingRows;
 
 // ---- small exact helpers ----------------------------------------------------
 
@@ -132,7 +134,7 @@ std::optional<EmptinessCertificate> emptiness_on_support(const Polyhedron& cell,
   rhs[cell.dim] = 1;
   const std::optional<RationalVector> y = detail::solve_exact(std::move(system), std::move(rhs));
   if (!y) return std::nullopt;
-  EmptinessCertificate certificate{RationalVector(cell.constraints.size(), Rational(0))};
+  EmptinessCertificate certificate{RationalVector(cell.constraints.size())};
   Rational offset_sum = 0;
   for (std::size_t s = 0; s < support.size(); ++s) {
     if (sgn((*y)[s]) < 0) return std::nullopt;
@@ -162,7 +164,7 @@ std::optional<NonFacetCertificate> non_facet_on_support(const Polyhedron& cell, 
   rhs[cell.dim] = 1;
   const std::optional<RationalVector> solution = detail::solve_exact(std::move(system), std::move(rhs));
   if (!solution) return std::nullopt;
-  NonFacetCertificate certificate{(*solution)[0], RationalVector(cell.constraints.size(), Rational(0))};
+  NonFacetCertificate certificate{(*solution)[0], RationalVector(cell.constraints.size())};
   Rational offset_sum = certificate.equality_multiplier * rep.offset;
   for (std::size_t s = 0; s < support.size(); ++s) {
     const Rational& y = (*solution)[s + 1];
@@ -185,7 +187,7 @@ std::optional<NonFacetCertificate> redundancy_on_support(const Polyhedron& cell,
     for (std::size_t k = 0; k < cell.dim; ++k) system(k, s) = cell.constraints[support[s]].normal[k];
   const std::optional<RationalVector> y = detail::solve_exact(std::move(system), rep.normal);
   if (!y) return std::nullopt;
-  NonFacetCertificate certificate{Rational(-1), RationalVector(cell.constraints.size(), Rational(0))};
+  NonFacetCertificate certificate{Rational(-1), RationalVector(cell.constraints.size())};
   Rational offset_sum = 0;
   for (std::size_t s = 0; s < support.size(); ++s) {
     if (sgn((*y)[s]) < 0) return std::nullopt;
@@ -389,22 +391,18 @@ BoundednessVerdict decide_boundedness_exactly(const Polyhedron& cell) {
 std::optional<CellVerdict> decide_open_cell_filtered(const Polyhedron& cell, const DoubleRows& rows,
                                                      double cap, double positive_slack) {
   const std::size_t n = cell.dim;
-  const std::size_t m = cell.constraints.size();
   // LP0 (GLPK, rows scaled to 1-norm 1 as in DoubleRows), variables (x, t):
   //   maximise t  subject to  â_i . x - t >= -ĉ_i  (every i),  t <= cap,  x free.
   // t* > 0 is the radius of a max-norm ball inside the cell; t* <= 0 means
   // empty, and the rows active at the optimum carry the Gordan multipliers.
-  GlpkLP lp(m, n + 1, true);
-  std::vector<double> row(n + 1);
-  for (std::size_t i = 0; i < m; ++i) {
-    std::copy(rows.normal(i), rows.normal(i) + n, row.begin());
-    row[n] = -1.0;
-    lp.set_row(i, row.data(), n + 1);
-    lp.set_row_lower(i, -rows.offsets[i]);
-  }
+  // Solved by row generation (detail/working_rows.hpp), starting from the
+  // rows nearest the origin.
+  WorkingRows working(rows, 0, true, true);
+  GlpkLP& lp = working.lp();
   lp.set_column_upper(n, cap);
   lp.set_objective(n, 1.0);
-  if (lp.solve() != DoubleStatus::optimal) return std::nullopt;
+  working.add_nearest(std::vector<double>(n, 0.0), 2 * n + 2);
+  if (working.solve([](std::size_t) { return false; }) != DoubleStatus::optimal) return std::nullopt;
   const double radius = lp.objective();
   std::vector<double> centre(n);
   for (std::size_t k = 0; k < n; ++k) centre[k] = lp.column_value(k);
@@ -419,8 +417,8 @@ std::optional<CellVerdict> decide_open_cell_filtered(const Polyhedron& cell, con
     return std::nullopt;
   }
   if (std::optional<EmptinessCertificate> certificate =
-          emptiness_on_support(cell, rows_at_lower_bound(lp, m)))
-    return *certificate;
+          emptiness_on_support(cell, working.active_constraints()))
+    return std::move(*certificate);
   return std::nullopt;
 }
 
@@ -490,126 +488,112 @@ std::vector<std::vector<std::size_t>> group_positive_multiples(const Polyhedron&
   return groups;
 }
 
-// The per-region double state for facet classification.
+// The per-region double state for facet classification: two row-generation
+// LPs kept warm across the region's candidates.
 class FacetFilter {
  public:
-  FacetFilter(const Polyhedron& cell, const DoubleRows& rows, double positive_slack)
-      : cell_(cell),
-        rows_(rows),
-        positive_slack_(positive_slack),
-        screen_(cell.constraints.size(), cell.dim, false) {
-    build_screen();
+  FacetFilter(const Polyhedron& cell, const DoubleRows& rows, const RationalVector& interior,
+              double positive_slack)
+      : cell_(cell), rows_(rows), positive_slack_(positive_slack), screen_(rows, 1, false, false) {
+    // LP1 (GLPK, one per region; row 0 and the objective rewritten per candidate j):
+    //   minimise â_j . x  subject to  â_j . x >= -ĉ_j  (row 0),
+    //                                 â_i . x >= -ĉ_i  (every i, by row generation),  x free.
+    // The optimum v_j = min(â_j . x + ĉ_j) over the closed cell is >= 0.
+    // v_j > 0: the hyperplane misses the closed cell, and the dual
+    // (a_j = sum y_i a_i over the active rows, sum y_i c_i <= c_j by duality)
+    // is the Motzkin certificate with equality multiplier -1.
+    // v_j ~ 0: the hyperplane touches the cell; LP2 decides.
+    std::vector<double> point(cell.dim);
+    for (std::size_t k = 0; k < cell.dim; ++k) point[k] = interior[k].get_d();
+    screen_.add_nearest(point, 2 * cell.dim + 2);
   }
 
   std::optional<FacetVerdict> classify(const std::vector<std::size_t>& group) {
     const std::size_t j = group[0];
-    // Screen: the minimum of constraint j over the closed cell.
-    for (std::size_t k = 0; k < cell_.dim; ++k) screen_.set_objective(k, rows_.normal(j)[k]);
-    if (screen_.solve() == DoubleStatus::optimal) {
-      const double minimum = screen_.objective() + rows_.offsets[j];
+    const auto is_member = [&](std::size_t i) { return std::find(group.begin(), group.end(), i) != group.end(); };
+    GlpkLP& lp = screen_.lp();
+    lp.set_row(0, rows_.normal(j), cell_.dim);
+    lp.set_row_lower(0, -rows_.offsets[j]);
+    for (std::size_t k = 0; k < cell_.dim; ++k) lp.set_objective(k, rows_.normal(j)[k]);
+    if (screen_.solve(is_member) == DoubleStatus::optimal) {
+      const double minimum = lp.objective() + rows_.offsets[j];
       if (minimum > positive_slack_) {
-        std::vector<std::size_t> support = rows_at_lower_bound(screen_, cell_.constraints.size());
-        const bool touches_group = std::any_of(support.begin(), support.end(), [&](std::size_t s) {
-          return std::find(group.begin(), group.end(), s) != group.end();
-        });
-        if (!touches_group)
+        const std::vector<std::size_t> support = screen_.active_constraints();
+        if (std::none_of(support.begin(), support.end(), is_member))
           if (std::optional<NonFacetCertificate> certificate = redundancy_on_support(cell_, j, support))
-            return FacetVerdict{*certificate};
+            return FacetVerdict{std::move(*certificate)};
       }
     }
-    return classify_on_hyperplane(group);
+    return classify_on_hyperplane(group, is_member);
   }
 
  private:
-  void build_screen() {
-    const std::size_t n = cell_.dim;
-    const std::size_t m = cell_.constraints.size();
-    // LP1 (GLPK, one per region, objective rewritten per candidate j):
-    //   minimise â_j . x  subject to  â_i . x >= -ĉ_i  (every i),  x free.
-    // Only the objective changes, so each re-solve starts from a primal
-    // feasible basis. The optimum v_j = min(â_j . x + ĉ_j) over the closed
-    // cell is >= 0. v_j > 0: the hyperplane misses the closed cell, and the
-    // dual (a_j = sum y_i a_i over the active rows, sum y_i c_i <= c_j by
-    // duality) is the Motzkin certificate with equality multiplier -1.
-    // v_j ~ 0: the hyperplane touches the cell; LP2 decides.
-    for (std::size_t i = 0; i < m; ++i) {
-      screen_.set_row(i, rows_.normal(i), n);
-      screen_.set_row_lower(i, -rows_.offsets[i]);
-    }
-  }
-
   void build_hyperplane_lp() {
     const std::size_t n = cell_.dim;
-    const std::size_t m = cell_.constraints.size();
     // LP2 (GLPK, one per region, built on the first touching candidate;
-    // row E rewritten per candidate j), variables (x, t):
-    //   maximise t  subject to  â_j . x = -ĉ_j                        (row E = row m),
-    //                           â_i . x - t >= -ĉ_i  (i outside j's group; the group's rows are freed),
+    // row 0 rewritten per candidate j), variables (x, t):
+    //   maximise t  subject to  â_j . x = -ĉ_j                    (row 0),
+    //                           â_i . x - t >= -ĉ_i  (i outside j's group, by row
+    //                                                 generation; the group's rows are freed),
     //                           t <= 1,  x free.
     // t* > 0: a point on j's hyperplane with every other constraint > 0, a facet.
-    // t* <= 0: the mixed system has no solution; the active rows and E carry
-    // the Motzkin multipliers (E's free in sign).
-    hyperplane_.emplace(m + 1, n + 1, true);
-    std::vector<double> row(n + 1);
-    for (std::size_t i = 0; i < m; ++i) {
-      std::copy(rows_.normal(i), rows_.normal(i) + n, row.begin());
-      row[n] = -1.0;
-      hyperplane_->set_row(i, row.data(), n + 1);
-      hyperplane_->set_row_lower(i, -rows_.offsets[i]);
-    }
-    hyperplane_->set_column_upper(n, 1.0);
-    hyperplane_->set_objective(n, 1.0);
+    // t* <= 0: the mixed system has no solution; the active rows and row 0
+    // carry the Motzkin multipliers (row 0's free in sign).
+    hyperplane_.emplace(rows_, 1, true, true);
+    hyperplane_->lp().set_column_upper(n, 1.0);
+    hyperplane_->lp().set_objective(n, 1.0);
+    for (std::size_t i : screen_.constraints()) hyperplane_->add(i);
   }
 
-  std::optional<FacetVerdict> classify_on_hyperplane(const std::vector<std::size_t>& group) {
-    const std::size_t n = cell_.dim;
-    const std::size_t m = cell_.constraints.size();
+  template <class IsMember>
+  std::optional<FacetVerdict> classify_on_hyperplane(const std::vector<std::size_t>& group,
+                                                     const IsMember& is_member) {
     const std::size_t j = group[0];
     if (!hyperplane_) build_hyperplane_lp();
-    GlpkLP& lp = *hyperplane_;
-    lp.set_row(m, rows_.normal(j), n);
-    lp.set_row_fixed(m, -rows_.offsets[j]);
-    for (std::size_t member : group) lp.set_row_free(member);
-    const DoubleStatus status = lp.solve();
+    GlpkLP& lp = hyperplane_->lp();
+    lp.set_row(0, rows_.normal(j), cell_.dim);
+    lp.set_row_fixed(0, -rows_.offsets[j]);
+    for (std::size_t member : group)
+      if (hyperplane_->contains(member)) lp.set_row_free(hyperplane_->lp_row(member));
     std::optional<FacetVerdict> verdict;
-    if (status == DoubleStatus::optimal) verdict = read_hyperplane_lp(group);
-    for (std::size_t member : group) lp.set_row_lower(member, -rows_.offsets[member]);
+    if (hyperplane_->solve(is_member) == DoubleStatus::optimal) verdict = read_hyperplane_lp(group, is_member);
+    for (std::size_t member : group)
+      if (hyperplane_->contains(member)) lp.set_row_lower(hyperplane_->lp_row(member), -rows_.offsets[member]);
     return verdict;
   }
 
-  std::optional<FacetVerdict> read_hyperplane_lp(const std::vector<std::size_t>& group) const {
+  template <class IsMember>
+  std::optional<FacetVerdict> read_hyperplane_lp(const std::vector<std::size_t>& group,
+                                                 const IsMember& is_member) const {
     const std::size_t n = cell_.dim;
-    const std::size_t m = cell_.constraints.size();
-    const GlpkLP& lp = *hyperplane_;
+    const GlpkLP& lp = hyperplane_->lp();
     const double radius = lp.objective();
     if (radius > positive_slack_) {
       std::vector<double> point(n);
       for (std::size_t k = 0; k < n; ++k) point[k] = lp.column_value(k);
       const Constraint& rep = cell_.constraints[group[0]];
       const std::size_t solved = largest_entry(rep.normal);
-      // Rounding the other coordinates by < t/(2n) and solving for the
-      // largest-|a_jk| one moves the point by about t/2 at most in max-norm.
-      for (double shrink : {0.5 / static_cast<double>(n), 1.0 / 64.0 / static_cast<double>(n), 0.0}) {
+      // Rounding the other coordinates by < t/(16n) and solving for the
+      // largest-|a_jk| one moves the point by < t/16 in max-norm.
+      const double scale = 1.0 / static_cast<double>(n);
+      for (double shrink : {scale / 16.0, scale / 1024.0, 0.0}) {
         RationalVector candidate = project_onto(rep, round_point(point, radius * shrink), solved);
         if (is_facet_point(cell_, group, candidate)) return FacetVerdict{FacetPoint{std::move(candidate)}};
       }
       return std::nullopt;
     }
-    std::vector<std::size_t> support;
-    for (std::size_t i = 0; i < m; ++i) {
-      if (std::find(group.begin(), group.end(), i) != group.end()) continue;
-      if (lp.row_status(i) == BasisStatus::at_lower) support.push_back(i);
-    }
+    std::vector<std::size_t> support = hyperplane_->active_constraints();
+    support.erase(std::remove_if(support.begin(), support.end(), is_member), support.end());
     if (std::optional<NonFacetCertificate> certificate = non_facet_on_support(cell_, group[0], support))
-      return FacetVerdict{*certificate};
+      return FacetVerdict{std::move(*certificate)};
     return std::nullopt;
   }
 
   const Polyhedron& cell_;
   const DoubleRows& rows_;
   double positive_slack_;
-  GlpkLP screen_;
-  std::optional<GlpkLP> hyperplane_;
+  WorkingRows screen_;
+  std::optional<WorkingRows> hyperplane_;
 };
 
 // Recession direction from LP3's optimal basis: the active rows (a_i . d = 0)
@@ -758,7 +742,7 @@ FacetClassification Oracle::classify_facets(const Polyhedron& cell, const Interi
   const DoubleRows rows = detail::to_double_rows(cell);
   const std::vector<std::vector<std::size_t>> groups = group_positive_multiples(cell, rows);
   std::optional<FacetFilter> filter;
-  if (rows.is_finite) filter.emplace(cell, rows, state_->tolerances.positive_slack);
+  if (rows.is_finite) filter.emplace(cell, rows, interior.point, state_->tolerances.positive_slack);
   for (const std::vector<std::size_t>& group : groups) {
     ++state_->counts.lp_queries;
     std::optional<FacetVerdict> verdict;

@@ -54,6 +54,14 @@ GlpkLP::GlpkLP(std::size_t rows, std::size_t columns, bool is_maximise) {
 
 GlpkLP::~GlpkLP() { glp_delete_prob(problem_); }
 
+std::size_t GlpkLP::add_rows(std::size_t count) {
+  const std::size_t first = row_count();
+  if (count > 0) glp_add_rows(problem_, static_cast<int>(count));
+  return first;
+}
+
+std::size_t GlpkLP::row_count() const { return static_cast<std::size_t>(glp_get_num_rows(problem_)); }
+
 void GlpkLP::set_row(std::size_t row, const double* coefficients, std::size_t count) {
   std::vector<int> indices(1, 0);  // GLPK arrays are 1-based
   std::vector<double> values(1, 0.0);

@@ -27,6 +27,10 @@ class GlpkLP {
   GlpkLP(const GlpkLP&) = delete;
   GlpkLP& operator=(const GlpkLP&) = delete;
 
+  // Appends count free rows; returns the index of the first.
+  std::size_t add_rows(std::size_t count);
+  std::size_t row_count() const;
+
   // Dense row: coefficients[k] for column k (zeros skipped).
   void set_row(std::size_t row, const double* coefficients, std::size_t count);
   void set_row_lower(std::size_t row, double lower);
