@@ -49,6 +49,7 @@ run_bad "--arch" random --arch 2,0,1 --seed 1
 run_bad "--arch" random --arch 2 --seed 1
 run_bad "--seed" random --arch 2,1 --seed -1
 run_bad "--seed" random --arch 2,1 --seed 0x10
+run_bad "--seed" random --arch 2,1 --seed 18446744073709551616
 run_bad "--seed" random --arch 2,1
 run_bad "--init" random --arch 2,1 --seed 1 --init glorot
 run_bad "--digits" random --arch 2,1 --seed 1 --digits 0

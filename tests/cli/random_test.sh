@@ -25,6 +25,15 @@ cmp -s "$work/file.json" "$work/he.json" || fail "-o FILE differs from standard 
 "$pleat" random --arch 2,8,8,1 --seed 7 --sample 1 > "$work/sample1.json" || fail "--sample 1 exited $?"
 cmp -s "$work/sample1.json" "$work/he.json" && fail "--sample 1 gave the same network as sample 0"
 
+# Seeds are decimal (no octal: 010 is ten) and span all of 0 .. 2^64-1.
+"$pleat" random --arch 2,3,1 --seed 010 > "$work/s010.json" || fail "--seed 010 exited $?"
+"$pleat" random --arch 2,3,1 --seed 10 > "$work/s10.json" || fail "--seed 10 exited $?"
+cmp -s "$work/s010.json" "$work/s10.json" || fail "--seed 010 is not seed 10"
+"$pleat" random --arch 2,3,1 --seed 18446744073709551615 --sample 18446744073709551615 > /dev/null ||
+  fail "the largest seed and sample are refused"
+"$pleat" random --arch 2,3,1 --seed 5 --digits 2 > "$work/d2.json" || fail "--digits 2 exited $?"
+grep -q '"digits": 2' "$work/d2.json" || fail "meta does not record --digits 2"
+
 # The written network reads back and evaluates.
 "$pleat" eval "$work/he.json" --at 1/2,-1/3 > /dev/null || fail "the random network does not evaluate"
 
