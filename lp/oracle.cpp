@@ -44,9 +44,46 @@ using detail::WorkingRows;
 
 // ---- small exact helpers ----------------------------------------------------
 
+// A point as integers over one common denominator, for fast exact signs.
+struct ScaledPoint {
+  std::vector<Integer> numerators;
+  Integer denominator = 1;
+  explicit ScaledPoint(const RationalVector& point) : numerators(point.size()) {
+    for (const Rational& value : point) mpz_lcm(denominator.get_mpz_t(), denominator.get_mpz_t(), value.get_den_mpz_t());
+    for (std::size_t k = 0; k < point.size(); ++k) {
+      numerators[k] = denominator / point[k].get_den();
+      numerators[k] *= point[k].get_num();
+    }
+  }
+};
+
+// sign(a . x + c), exactly: (a . X + c D) accumulated as one unreduced fraction
+// (no gcd per term; denominators of integer rows stay 1).
+int slack_sign(const Constraint& constraint, const ScaledPoint& point, Integer& numerator, Integer& denominator,
+               Integer& term) {
+  numerator = constraint.offset.get_num() * point.denominator;
+  denominator = constraint.offset.get_den();
+  for (std::size_t k = 0; k < point.numerators.size(); ++k) {
+    const Rational& a = constraint.normal[k];
+    if (sgn(a) == 0 || sgn(point.numerators[k]) == 0) continue;
+    term = a.get_num() * point.numerators[k];
+    if (a.get_den() == 1) {
+      if (denominator != 1) term *= denominator;
+    } else {
+      numerator *= a.get_den();
+      if (denominator != 1) term *= denominator;
+      denominator *= a.get_den();
+    }
+    numerator += term;
+  }
+  return sgn(numerator);  // the denominator is positive
+}
+
 bool is_interior(const Polyhedron& cell, const RationalVector& point) {
+  const ScaledPoint scaled(point);
+  Integer numerator, denominator, term;
   for (const Constraint& constraint : cell.constraints)
-    if (sgn(detail::slack(constraint, point)) <= 0) return false;
+    if (slack_sign(constraint, scaled, numerator, denominator, term) <= 0) return false;
   return true;
 }
 
@@ -98,9 +135,11 @@ RationalVector project_onto(const Constraint& constraint, RationalVector point, 
 
 bool is_facet_point(const Polyhedron& cell, const std::vector<std::size_t>& group,
                     const RationalVector& point) {
+  const ScaledPoint scaled(point);
+  Integer numerator, denominator, term;
   std::size_t g = 0;
   for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
-    const int sign = sgn(detail::slack(cell.constraints[i], point));
+    const int sign = slack_sign(cell.constraints[i], scaled, numerator, denominator, term);
     if (g < group.size() && group[g] == i) {
       ++g;
       if (sign != 0) return false;
