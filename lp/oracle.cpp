@@ -150,14 +150,6 @@ bool is_facet_point(const Polyhedron& cell, const std::vector<std::size_t>& grou
   return true;
 }
 
-std::vector<std::size_t> rows_at_lower_bound(const GlpkLP& lp, std::size_t count) {
-  std::vector<std::size_t> support;
-  for (std::size_t i = 0; i < count; ++i)
-    if (lp.row_status(i) == BasisStatus::at_lower || lp.row_status(i) == BasisStatus::fixed)
-      support.push_back(i);
-  return support;
-}
-
 // Exact Gordan/Motzkin multipliers on a proposed support S: solve
 //   sum_{s in S} y_s a_s = 0,  sum_{s in S} y_s = 1
 // exactly, then require y >= 0 and sum y_s c_s <= 0.
@@ -637,17 +629,17 @@ class FacetFilter {
 
 // Recession direction from LP3's optimal basis: the active rows (a_i . d = 0)
 // and the columns at a bound (d_k = +-1) determine d; solve exactly.
-std::optional<RecessionDirection> direction_from_basis(const Polyhedron& cell, const GlpkLP& lp) {
+std::optional<RecessionDirection> direction_from_basis(const Polyhedron& cell, const WorkingRows& working) {
   const std::size_t n = cell.dim;
   RationalMatrix system(n, n);
   RationalVector rhs(n, Rational(0));
   std::size_t equations = 0;
-  for (std::size_t i = 0; i < cell.constraints.size() && equations < n; ++i) {
-    if (lp.row_status(i) != BasisStatus::at_lower) continue;
+  for (std::size_t i : working.active_constraints()) {
+    if (equations == n) break;
     system.set_row(equations++, cell.constraints[i].normal);
   }
   for (std::size_t k = 0; k < n && equations < n; ++k) {
-    const BasisStatus status = lp.column_status(k);
+    const BasisStatus status = working.lp().column_status(k);
     if (status != BasisStatus::at_lower && status != BasisStatus::at_upper) continue;
     system(equations, k) = 1;
     rhs[equations++] = status == BasisStatus::at_upper ? 1 : -1;
@@ -665,10 +657,10 @@ std::optional<RecessionDirection> direction_from_basis(const Polyhedron& cell, c
 // i, solve sum_{s in S} z_s a_s = -sum_i u_i a_i (a_S square, nonsingular),
 // then w = u + z must be > 0 everywhere; rank(a_S) = n comes with the solve.
 std::optional<BoundednessCertificate> stiemke_from_basis(const Polyhedron& cell, const DoubleRows& rows,
-                                                         const GlpkLP& lp) {
+                                                         const WorkingRows& working) {
   const std::size_t n = cell.dim;
   const std::size_t m = cell.constraints.size();
-  const std::vector<std::size_t> support = rows_at_lower_bound(lp, m);
+  const std::vector<std::size_t> support = working.active_constraints();
   if (support.size() != n) return std::nullopt;
   RationalVector weights(m);
   for (std::size_t i = 0; i < m; ++i) weights[i] = rows.exact_weight(i);
@@ -726,27 +718,29 @@ std::optional<BoundednessVerdict> decide_boundedness_filtered(const Polyhedron& 
   if (!lineality) return std::nullopt;
   if (*lineality) return BoundednessVerdict{**lineality};
   // LP3 (GLPK), variables d:
-  //   maximise g . d, g = sum_i â_i,  subject to  â_i . d >= 0,  -1 <= d_k <= 1.
+  //   maximise g . d, g = sum_i â_i,  subject to  â_i . d >= 0 (every i, by row
+  //   generation, starting from the rows most opposed to g),  -1 <= d_k <= 1.
   // With rank n, a positive optimum gives a recession direction; a zero
   // optimum at d = 0 has the dual sum_i (1 + y_i) â_i = 0, y >= 0: Stiemke
   // multipliers all >= 1.
-  GlpkLP lp(m, n, true);
   std::vector<double> objective(n, 0.0);
-  for (std::size_t i = 0; i < m; ++i) {
-    lp.set_row(i, rows.normal(i), n);
-    lp.set_row_lower(i, 0.0);
+  for (std::size_t i = 0; i < m; ++i)
     for (std::size_t k = 0; k < n; ++k) objective[k] += rows.normal(i)[k];
-  }
+  WorkingRows working(rows, 0, false, true, true);
+  GlpkLP& lp = working.lp();
   for (std::size_t k = 0; k < n; ++k) {
     lp.set_column_bounds(k, -1.0, 1.0);
     lp.set_objective(k, objective[k]);
   }
-  if (lp.solve() != DoubleStatus::optimal) return std::nullopt;
+  // Rows with the smallest slack at the point g: those most opposed to g.
+  working.add_nearest(objective, 2 * n + 2);
+  if (working.solve([](std::size_t) { return false; }) != DoubleStatus::optimal) return std::nullopt;
   if (lp.objective() > positive_slack) {
-    if (std::optional<RecessionDirection> direction = direction_from_basis(cell, lp)) return *direction;
+    if (std::optional<RecessionDirection> direction = direction_from_basis(cell, working)) return *direction;
     return std::nullopt;
   }
-  if (std::optional<BoundednessCertificate> certificate = stiemke_from_basis(cell, rows, lp)) return *certificate;
+  if (std::optional<BoundednessCertificate> certificate = stiemke_from_basis(cell, rows, working))
+    return std::move(*certificate);
   return std::nullopt;
 }
 

@@ -13,9 +13,11 @@ constexpr std::size_t kRounds = 40;
 
 }  // namespace
 
-WorkingRows::WorkingRows(const DoubleRows& rows, std::size_t fixed_rows, bool has_radius, bool is_maximise)
+WorkingRows::WorkingRows(const DoubleRows& rows, std::size_t fixed_rows, bool has_radius, bool is_maximise,
+                         bool is_homogeneous)
     : rows_(rows),
       has_radius_(has_radius),
+      is_homogeneous_(is_homogeneous),
       lp_(fixed_rows, rows.dim + (has_radius ? 1 : 0), is_maximise),
       lp_row_(rows.count, kAbsent),
       fixed_rows_(fixed_rows) {}
@@ -26,7 +28,7 @@ void WorkingRows::add(std::size_t constraint) {
   std::vector<double> coefficients(rows_.normal(constraint), rows_.normal(constraint) + rows_.dim);
   if (has_radius_) coefficients.push_back(-1.0);
   lp_.set_row(row, coefficients.data(), coefficients.size());
-  lp_.set_row_lower(row, -rows_.offsets[constraint]);
+  lp_.set_row_lower(row, -offset(constraint));
   lp_row_[constraint] = row;
   constraint_.push_back(constraint);
 }
@@ -34,7 +36,7 @@ void WorkingRows::add(std::size_t constraint) {
 void WorkingRows::add_nearest(const std::vector<double>& point, std::size_t count) {
   std::vector<double> slack(rows_.count, 0.0);
   for (std::size_t i = 0; i < rows_.count; ++i) {
-    slack[i] = rows_.offsets[i];
+    slack[i] = offset(i);
     for (std::size_t k = 0; k < rows_.dim; ++k) slack[i] += rows_.normal(i)[k] * point[k];
   }
   std::vector<std::size_t> order(rows_.count);
@@ -61,7 +63,7 @@ DoubleStatus WorkingRows::solve(const std::function<bool(std::size_t)>& is_exclu
     violated.clear();
     for (std::size_t i = 0; i < rows_.count; ++i) {
       if (contains(i) || is_excluded(i)) continue;
-      double slack = rows_.offsets[i] - radius;
+      double slack = offset(i) - radius;
       for (std::size_t k = 0; k < dim; ++k) slack += rows_.normal(i)[k] * x[k];
       if (slack < -kViolation) violated.emplace_back(slack, i);
     }

@@ -20,7 +20,9 @@ class WorkingRows {
   // LP rows [0, fixed_rows) are the caller's; constraint i enters as the row
   //   â_i . x + radius_coefficient * t >= -ĉ_i
   // over columns x (dim of them) and, when radius_coefficient != 0, t (column dim).
-  WorkingRows(const DoubleRows& rows, std::size_t fixed_rows, bool has_radius, bool is_maximise);
+  // is_homogeneous drops the offsets (rows a_i . x >= 0, for recession cones).
+  WorkingRows(const DoubleRows& rows, std::size_t fixed_rows, bool has_radius, bool is_maximise,
+              bool is_homogeneous = false);
 
   GlpkLP& lp() { return lp_; }
   const GlpkLP& lp() const { return lp_; }
@@ -43,8 +45,11 @@ class WorkingRows {
   static constexpr std::size_t kAbsent = static_cast<std::size_t>(-1);
 
  private:
+  double offset(std::size_t constraint) const { return is_homogeneous_ ? 0.0 : rows_.offsets[constraint]; }
+
   const DoubleRows& rows_;
   bool has_radius_;
+  bool is_homogeneous_;
   GlpkLP lp_;
   std::vector<std::size_t> lp_row_;      // per constraint, or kAbsent
   std::vector<std::size_t> constraint_;  // per LP row beyond the fixed ones
