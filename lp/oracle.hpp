@@ -1,7 +1,12 @@
 // The polyhedral queries the walker asks, each answered with an exact
 // certificate. GLPK (double) proposes; exact rational arithmetic verifies the
 // proposal; when verification fails an exact rational LP (cddlib, GMP build)
-// decides. Every returned verdict has passed lp/checker.hpp.
+// decides. Every returned verdict is exact: a filter proposal is returned only
+// after the same exact checks lp/checker.hpp makes (points evaluated exactly
+// on every constraint; multipliers solved exactly on GLPK's support, then
+// signs and the offset inequality checked), and fallback results pass
+// lp/checker.hpp itself. Internal inconsistencies (never expected) throw
+// std::logic_error; a cddlib failure throws std::runtime_error.
 #pragma once
 
 #include "lp/polyhedron.hpp"
@@ -17,6 +22,8 @@ struct FilterTolerances {
   double positive_slack = 1e-9;  // a double LP value above this is "clearly > 0"
 };
 
+// decide_open_cell, find_centre and decide_boundedness count one question
+// each; classify_facets counts one per facet group.
 struct QueryCounts {
   std::uint64_t lp_queries = 0;       // questions answered (each query counts its sub-questions)
   std::uint64_t filter_settled = 0;   // answered by a verified double proposal
@@ -25,7 +32,9 @@ struct QueryCounts {
 };
 
 // One solver state. Not shareable between threads: use one Oracle per thread
-// (different Oracles may run concurrently).
+// (different Oracles may run concurrently: GLPK objects live inside one call
+// on the calling thread, GLPK 5 keeps its environment thread-local, and the
+// rare cddlib fallback runs under a process-wide mutex).
 class Oracle {
  public:
   explicit Oracle(FilterTolerances tolerances = {});
