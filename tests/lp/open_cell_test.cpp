@@ -193,6 +193,39 @@ TEST(OpenCell, TwoHundredBitThinCellNeedsTheExactPath) {
   EXPECT_TRUE(check_interior_point(cell, std::get<InteriorPoint>(centre)));
 }
 
+// Coefficients far beyond double range: rows scaled by 2^3000 are still
+// settled by the filter (each row is scaled by a power of two first); a cell
+// 2^3000 away from the origin has offsets no double can hold, and the exact
+// path decides it.
+TEST(OpenCell, HugeCoefficientsBeyondDoubleRange) {
+  const Rational huge = power_of_two(3000);
+  Polyhedron scaled{2, {}};
+  for (const Constraint& c : box(2, 1, 3).constraints) {
+    Constraint big = c;
+    for (Rational& v : big.normal) v *= huge;
+    big.offset *= huge;
+    scaled.constraints.push_back(big);
+  }
+  Oracle oracle;
+  CellVerdict verdict = oracle.find_centre(scaled);
+  ASSERT_TRUE(std::holds_alternative<InteriorPoint>(verdict));
+  EXPECT_EQ(std::get<InteriorPoint>(verdict).point, (RationalVector{Rational(2), Rational(2)}));
+  EXPECT_EQ(oracle.counts().exact_fallbacks, 0u);
+
+  // huge < x < huge + 1, 0 < y < 1.
+  const Polyhedron far{2, {Constraint{{Rational(1), Rational(0)}, -huge}, Constraint{{Rational(-1), Rational(0)}, huge + 1},
+                           constraint({0, 1}, 0), constraint({0, -1}, 1)}};
+  verdict = oracle.decide_open_cell(far);
+  ASSERT_TRUE(std::holds_alternative<InteriorPoint>(verdict));
+  EXPECT_TRUE(check_interior_point(far, std::get<InteriorPoint>(verdict)));
+  EXPECT_EQ(oracle.counts().exact_fallbacks, 1u);
+  const FacetClassification facets = oracle.classify_facets(far, std::get<InteriorPoint>(verdict));
+  EXPECT_TRUE(check_facet_classification(far, facets));
+  const BoundednessVerdict bounded = oracle.decide_boundedness(far);
+  ASSERT_TRUE(std::holds_alternative<BoundednessCertificate>(bounded));
+  EXPECT_TRUE(check_boundedness(far, std::get<BoundednessCertificate>(bounded)));
+}
+
 TEST(Checker, TamperedCellCertificatesFail) {
   const Polyhedron square = box(2, 0, 1);
   EXPECT_TRUE(check_interior_point(square, InteriorPoint{{Rational(1, 2), Rational(1, 2)}}));
