@@ -12,6 +12,7 @@
 #include <flint/ulong_extras.h>
 
 #include <algorithm>
+#include <memory>
 #include <string>
 #include <utility>
 
@@ -150,7 +151,16 @@ std::size_t rank_exact(const RationalMatrix& matrix) {
   if (matrix.rows() == 0 || matrix.cols() == 0) return 0;
   FmpzMatrix integer_rows(matrix.rows(), matrix.cols());
   fill_primitive_integer_rows(matrix, integer_rows);
-  return static_cast<std::size_t>(fmpz_mat_rank(integer_rows.get()));
+  // A rank mod p is a lower bound; when it is already the largest possible
+  // it is the rank.
+  NmodMatrix reduced(matrix.rows(), matrix.cols(), primary_prime());
+  fmpz_mat_get_nmod_mat(reduced.get(), integer_rows.get());
+  const auto lower_bound = static_cast<std::size_t>(nmod_mat_rank(reduced.get()));
+  if (lower_bound == std::min(matrix.rows(), matrix.cols())) return lower_bound;
+  // Small matrices: FLINT's exact integer rank. Large ones: the proven kernel
+  // (kernel_basis_exact), much faster when the entries are large.
+  if (matrix.cols() <= 48) return static_cast<std::size_t>(fmpz_mat_rank(integer_rows.get()));
+  return matrix.cols() - kernel_basis_exact(matrix).rows();
 }
 
 std::size_t rank_by_gauss_naive(const RationalMatrix& matrix) {
@@ -175,7 +185,164 @@ RationalMatrix row_space_basis_exact(const RationalMatrix& matrix) {
   return reduced_echelon_form(matrix).reduced;
 }
 
-RationalMatrix kernel_basis_exact(const RationalMatrix& matrix) {
+namespace {
+
+// The canonical kernel of the integer matrix A modulo p: the RREF of the
+// kernel basis read off A's RREF mod p. Returns A's rank mod p; kernel gets
+// (cols - rank) rows and pivots the kernel RREF's leading columns.
+std::size_t kernel_modulo(FmpzMatrix& integer_rows, std::size_t rows, std::size_t cols, std::uint64_t prime,
+                          std::unique_ptr<NmodMatrix>& kernel, std::vector<std::size_t>& pivots) {
+  NmodMatrix reduced(rows, cols, prime);
+  fmpz_mat_get_nmod_mat(reduced.get(), integer_rows.get());
+  const auto rank = static_cast<std::size_t>(nmod_mat_rref(reduced.get()));
+  std::vector<std::size_t> row_pivots;
+  std::vector<bool> is_pivot(cols, false);
+  for (std::size_t i = 0; i < rank; ++i) {
+    std::size_t c = 0;
+    while (nmod_mat_entry(reduced.get(), static_cast<slong>(i), static_cast<slong>(c)) == 0) ++c;
+    row_pivots.push_back(c);
+    is_pivot[c] = true;
+  }
+  kernel = std::make_unique<NmodMatrix>(cols - rank, cols, prime);
+  std::size_t row = 0;
+  for (std::size_t free = 0; free < cols; ++free) {
+    if (is_pivot[free]) continue;
+    const auto r = static_cast<slong>(row++);
+    nmod_mat_entry(kernel->get(), r, static_cast<slong>(free)) = 1;
+    for (std::size_t i = 0; i < rank; ++i) {
+      const std::uint64_t value = nmod_mat_entry(reduced.get(), static_cast<slong>(i), static_cast<slong>(free));
+      nmod_mat_entry(kernel->get(), r, static_cast<slong>(row_pivots[i])) = value == 0 ? 0 : prime - value;
+    }
+  }
+  nmod_mat_rref(kernel->get());
+  pivots.clear();
+  for (std::size_t i = 0; i < cols - rank; ++i) {
+    std::size_t c = 0;
+    while (nmod_mat_entry(kernel->get(), static_cast<slong>(i), static_cast<slong>(c)) == 0) ++c;
+    pivots.push_back(c);
+  }
+  return rank;
+}
+
+// True when every row of the candidate annihilates every row of A, exactly.
+bool annihilates(FmpzMatrix& integer_rows, std::size_t rows, const RationalMatrix& candidate) {
+  fmpz_t sum;
+  fmpz_init(sum);
+  fmpz_t value;
+  fmpz_init(value);
+  bool is_kernel = true;
+  for (std::size_t k = 0; k < candidate.rows() && is_kernel; ++k) {
+    // The row times the lcm of its denominators: an integer vector, sparse.
+    Integer scale = 1;
+    for (std::size_t c = 0; c < candidate.cols(); ++c)
+      mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), candidate(k, c).get_den_mpz_t());
+    std::vector<std::pair<std::size_t, Integer>> entries;
+    for (std::size_t c = 0; c < candidate.cols(); ++c)
+      if (sgn(candidate(k, c)) != 0)
+        entries.emplace_back(c, candidate(k, c).get_num() * (scale / candidate(k, c).get_den()));
+    for (std::size_t r = 0; r < rows && is_kernel; ++r) {
+      fmpz_zero(sum);
+      for (const auto& [c, entry] : entries) {
+        fmpz_set_mpz(value, entry.get_mpz_t());
+        fmpz_addmul(sum, integer_rows.entry(r, c), value);
+      }
+      is_kernel = fmpz_is_zero(sum);
+    }
+  }
+  fmpz_clear(value);
+  fmpz_clear(sum);
+  return is_kernel;
+}
+
+// Whether the matrix is in reduced row-echelon form with leading entries 1.
+bool is_reduced_echelon(const RationalMatrix& m) {
+  std::size_t previous = 0;
+  for (std::size_t r = 0; r < m.rows(); ++r) {
+    std::size_t lead = 0;
+    while (lead < m.cols() && sgn(m(r, lead)) == 0) ++lead;
+    if (lead == m.cols() || (r > 0 && lead <= previous) || m(r, lead) != 1) return false;
+    for (std::size_t other = 0; other < m.rows(); ++other)
+      if (other != r && sgn(m(other, lead)) != 0) return false;
+    previous = lead;
+  }
+  return true;
+}
+
+// The canonical kernel by one prime and one exact solve. Modulo p: the
+// kernel's RREF gives its leading columns Q (k of them) and the rank r; the
+// other columns N (r of them) and r rows S independent mod p give a square
+// block A[S, N], nonsingular mod p and hence over Q. The kernel vector with
+// 1 at Q_j and 0 at the other columns of Q has v_N = -A[S, N]^-1 A[S, Q_j]:
+// FLINT's fmpq_mat_solve_fmpz_mat (Dixon p-adic lifting for large systems).
+// Proof that the k vectors found span the kernel: each is checked to
+// annihilate every row of A exactly; they are independent (identity on Q);
+// and rank_Q(A) >= rank_p(A) = r (a rank mod p is a lower bound), so the
+// kernel has dimension <= cols - r = k. Their RREF is then the canonical
+// basis (they are in RREF already unless p was unlucky). Returns nullopt when
+// the check fails (an unlucky prime; the caller eliminates exactly).
+std::optional<RationalMatrix> kernel_basis_by_solving(FmpzMatrix& integer_rows, std::size_t rows,
+                                                      std::size_t cols) {
+  const std::uint64_t prime = primary_prime();
+  std::unique_ptr<NmodMatrix> kernel_mod;
+  std::vector<std::size_t> leading;
+  const std::size_t rank = kernel_modulo(integer_rows, rows, cols, prime, kernel_mod, leading);
+  const std::size_t nullity = cols - rank;
+  if (nullity == 0) return RationalMatrix(0, cols);  // full column rank mod p, hence over Q
+  std::vector<bool> is_leading(cols, false);
+  for (std::size_t c : leading) is_leading[c] = true;
+  std::vector<std::size_t> others;
+  for (std::size_t c = 0; c < cols; ++c)
+    if (!is_leading[c]) others.push_back(c);
+  // r rows independent on the columns N: the pivot columns of A[:, N]^T mod p.
+  std::vector<std::size_t> chosen_rows;
+  if (rank > 0) {
+    NmodMatrix transposed(rank, rows, prime);
+    for (std::size_t i = 0; i < rank; ++i)
+      for (std::size_t r = 0; r < rows; ++r)
+        nmod_mat_entry(transposed.get(), static_cast<slong>(i), static_cast<slong>(r)) =
+            fmpz_fdiv_ui(integer_rows.entry(r, others[i]), prime);
+    if (static_cast<std::size_t>(nmod_mat_rref(transposed.get())) != rank) return std::nullopt;
+    std::size_t r = 0;
+    for (std::size_t i = 0; i < rank; ++i) {
+      while (nmod_mat_entry(transposed.get(), static_cast<slong>(i), static_cast<slong>(r)) == 0) ++r;
+      chosen_rows.push_back(r);
+    }
+  }
+  RationalMatrix candidate(nullity, cols);
+  for (std::size_t j = 0; j < nullity; ++j) candidate(j, leading[j]) = 1;
+  // Kernel vectors whose right-hand side A[S, Q_j] is zero have v_N = 0
+  // (typically the columns of parameters that never matter on the rows
+  // given); solve only for the others.
+  std::vector<std::size_t> solved;
+  for (std::size_t j = 0; j < nullity; ++j)
+    for (std::size_t i = 0; i < rank; ++i)
+      if (!fmpz_is_zero(integer_rows.entry(chosen_rows[i], leading[j]))) {
+        solved.push_back(j);
+        break;
+      }
+  if (!solved.empty()) {
+    FmpzMatrix square(rank, rank);
+    FmpzMatrix right(rank, solved.size());
+    for (std::size_t i = 0; i < rank; ++i) {
+      for (std::size_t m = 0; m < rank; ++m)
+        fmpz_set(square.entry(i, m), integer_rows.entry(chosen_rows[i], others[m]));
+      for (std::size_t s = 0; s < solved.size(); ++s)
+        fmpz_neg(right.entry(i, s), integer_rows.entry(chosen_rows[i], leading[solved[s]]));
+    }
+    FmpqMatrix solution(rank, solved.size());
+    if (!fmpq_mat_solve_fmpz_mat(solution.get(), square.get(), right.get())) return std::nullopt;
+    for (std::size_t m = 0; m < rank; ++m)
+      for (std::size_t s = 0; s < solved.size(); ++s)
+        candidate(solved[s], others[m]) = to_rational(solution.entry(m, s));
+  }
+  if (!annihilates(integer_rows, rows, candidate)) return std::nullopt;
+  if (is_reduced_echelon(candidate)) return candidate;
+  return row_space_basis_exact(candidate);
+}
+
+}  // namespace
+
+RationalMatrix kernel_basis_by_rational_elimination(const RationalMatrix& matrix) {
   const std::size_t cols = matrix.cols();
   const EchelonForm echelon = reduced_echelon_form(matrix);
   // One kernel vector per free column f: v_f = 1, v_pivot(i) = -R(i, f).
@@ -193,6 +360,19 @@ RationalMatrix kernel_basis_exact(const RationalMatrix& matrix) {
   // That basis depends on nothing but M's row space, but its own echelon form
   // is the documented canonical one.
   return row_space_basis_exact(kernel);
+}
+
+RationalMatrix kernel_basis_exact(const RationalMatrix& matrix) {
+  const std::size_t cols = matrix.cols();
+  if (matrix.rows() == 0 || cols == 0) {
+    RationalMatrix identity(cols, cols);
+    for (std::size_t c = 0; c < cols; ++c) identity(c, c) = 1;
+    return identity;
+  }
+  FmpzMatrix integer_rows(matrix.rows(), cols);
+  fill_primitive_integer_rows(matrix, integer_rows);
+  if (auto kernel = kernel_basis_by_solving(integer_rows, matrix.rows(), cols)) return std::move(*kernel);
+  return kernel_basis_by_rational_elimination(matrix);
 }
 
 // ---- Primes and reduction modulo p ------------------------------------------

@@ -27,9 +27,11 @@ using ModularVector = std::vector<std::uint64_t>;
 
 // ---- Exact rank and kernel --------------------------------------------------
 
-// The rank of M over Q. Rows are scaled to primitive integer vectors and
-// handed to FLINT's fmpz_mat_rank (multimodular with an exact fallback).
-// Exact. An empty matrix has rank 0.
+// The rank of M over Q. Exact. An empty matrix has rank 0. Rows are scaled
+// to primitive integer vectors; a rank modulo a word prime that reaches
+// min(rows, cols) is returned at once (it is a lower bound); otherwise FLINT's
+// fmpz_mat_rank (up to 48 columns) or cols minus the size of the proven
+// kernel_basis_exact decides.
 std::size_t rank_exact(const RationalMatrix& matrix);
 
 // Plain Gaussian elimination over GMP rationals. Slow and simple: kept only
@@ -43,7 +45,17 @@ std::size_t rank_by_gauss_naive(const RationalMatrix& matrix);
 // leading columns increase down the rows. Two runs, or two generating sets of
 // the same row space, give the identical matrix. Result: (cols - rank) x cols
 // (0 x cols when the kernel is trivial). Exact.
+// How: the kernel's leading columns and M's rank modulo a word prime, then
+// one exact square solve (FLINT, Dixon lifting) for the other columns; the
+// result is proven exactly (every row annihilates M, and rank mod p bounds
+// the kernel's dimension from above; see rank.cpp). When the proof fails (an
+// unlucky prime) it falls back to kernel_basis_by_rational_elimination.
 RationalMatrix kernel_basis_exact(const RationalMatrix& matrix);
+
+// The same canonical basis by exact rational elimination (FLINT fmpq_mat_rref
+// on M, then on the kernel basis read off it). Slow when entries are large:
+// kept as kernel_basis_exact's fallback and as its test oracle. Exact.
+RationalMatrix kernel_basis_by_rational_elimination(const RationalMatrix& matrix);
 
 // The reduced row-echelon form of M with the zero rows removed: the
 // canonical basis of M's row space. Exact.

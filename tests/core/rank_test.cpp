@@ -82,6 +82,20 @@ TEST(RankExact, KnownRankProductsAgreeWithNaiveElimination) {
   }
 }
 
+// Wide rank-deficient matrices take the kernel route (more than 48 columns);
+// full-rank ones the modular shortcut.
+TEST(RankExact, WideMatricesAgreeWithNaiveElimination) {
+  std::mt19937_64 random(17);
+  for (int trial = 0; trial < 6; ++trial) {
+    const std::size_t rows = 4 + random() % 12;
+    const std::size_t inner = trial % 3 == 0 ? rows : 1 + random() % rows;
+    const RationalMatrix m = random_product(random, rows, inner, 50 + random() % 30);
+    const std::size_t naive = rank_by_gauss_naive(m);
+    ASSERT_EQ(naive, inner);
+    EXPECT_EQ(rank_exact(m), naive) << "trial " << trial;
+  }
+}
+
 TEST(RankExact, EdgeCases) {
   EXPECT_EQ(rank_exact(RationalMatrix()), 0u);
   EXPECT_EQ(rank_exact(RationalMatrix(3, 4)), 0u);
@@ -135,6 +149,26 @@ TEST(KernelBasisExact, CanonicalForTheRowSpace) {
   ASSERT_EQ(rank_exact(other), 3u);
   EXPECT_EQ(kernel_basis_exact(m), kernel_basis_exact(other));
   EXPECT_EQ(row_space_basis_exact(m), row_space_basis_exact(other));
+}
+
+// The multimodular kernel against plain rational elimination, including
+// entries far beyond one word (many primes) and rank-deficient shapes.
+TEST(KernelBasisExact, AgreesWithRationalElimination) {
+  std::mt19937_64 random(13);
+  for (int trial = 0; trial < 20; ++trial) {
+    const std::size_t rows = 1 + random() % 10;
+    const std::size_t cols = 1 + random() % 12;
+    const std::size_t inner = 1 + random() % std::min(rows, cols);
+    RationalMatrix m = random_product(random, rows, inner, cols);
+    if (trial % 2 == 1) {  // huge entries: 10^30-scale numerators, 10^20 denominators
+      for (std::size_t r = 0; r < rows; ++r) {
+        const Rational factor(Integer("1000000000000000000000000000007") * Integer(1 + random() % 1000),
+                              Integer("100000000000000000039"));
+        for (std::size_t c = 0; c < cols; ++c) m(r, c) *= factor + Rational(c, 7);
+      }
+    }
+    EXPECT_EQ(kernel_basis_exact(m), kernel_basis_by_rational_elimination(m)) << "trial " << trial;
+  }
 }
 
 TEST(KernelBasisExact, HandWorkedExample) {
