@@ -99,7 +99,7 @@ LayersView<double> view_of(const DoubleNetwork& network) {
     view.weights.push_back(&network.weights[k]);
     view.bias.push_back(&network.bias[k]);
   }
-  view.has_output_relu = network.activation.back() == Activation::relu;
+  view.has_output_relu = !network.activation.empty() && network.activation.back() == Activation::relu;
   return view;
 }
 
