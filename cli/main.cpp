@@ -21,6 +21,7 @@ void register_random(CommandTable& commands);
 void register_eval(CommandTable& commands);
 void register_walk(CommandTable& commands);
 void register_certify(CommandTable& commands);
+void register_sample(CommandTable& commands);
 void register_verify(CommandTable& commands);
 
 namespace {
@@ -30,6 +31,7 @@ void register_all_commands(CommandTable& commands) {
   register_eval(commands);
   register_walk(commands);
   register_certify(commands);
+  register_sample(commands);
   register_verify(commands);
 }
 

@@ -1,0 +1,361 @@
+// pleat sample: the usual floating-point estimate of the functional dimension
+// (double parameter Jacobians at random points, numerical rank from an SVD),
+// printed beside the certified value on the same domain, with how many
+// regions the sample touched out of how many exist.
+//
+// Registration (the only edit this file needs elsewhere): in cli/main.cpp,
+//   void register_sample(CommandTable& commands);   // with the other declarations
+//   register_sample(commands);                      // in register_all_commands
+//
+// What is floating point here and what is not: the points, the Jacobians and
+// the ranks are double (an estimate, as other tools compute it); each point's
+// region is decided exactly (its double coordinates are dyadic rationals), and
+// the certified value comes from certify_functional_dimension (exact).
+#include "cli/command.hpp"
+#include "cli/common.hpp"
+#include "cli/progress.hpp"
+#include "cli/signals.hpp"
+#include "core/evaluate.hpp"
+#include "core/jacobian.hpp"
+#include "core/random_network.hpp"
+#include "enumerate/functional_dimension.hpp"
+#include "enumerate/walker.hpp"
+
+#include <Eigen/SVD>
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <iostream>
+#include <limits>
+#include <memory>
+#include <numbers>
+#include <optional>
+#include <string>
+#include <unordered_set>
+#include <vector>
+
+namespace pleat::cli {
+namespace {
+
+struct SampleArguments {
+  std::string network_path;
+  std::uint64_t batch = 0;
+  std::uint64_t seed = 0;
+  std::string dist = "normal";
+  bool json = false;
+  bool quiet = false;
+  std::uint64_t threads = 0;
+  double time_limit = 0;
+};
+
+// Where the points come from: the standard normal on R^n0, or uniform on an
+// open box (one interval for every axis, or one per axis).
+struct PointDistribution {
+  bool is_box = false;
+  RationalVector lower, upper;  // exact box, only when is_box
+  std::string text;             // as given, for the output
+};
+
+PointDistribution parse_distribution(const std::string& text, std::size_t input_dim) {
+  PointDistribution dist;
+  dist.text = text;
+  if (text == "normal") return dist;
+  const std::string prefix = "box:";
+  if (text.rfind(prefix, 0) != 0)
+    throw input_error("--dist: expected 'normal' or 'box:LO,HI' (e.g. box:-2,2), got '" + text + "'");
+  const RationalVector numbers = parse_number_list(text.substr(prefix.size()), "--dist");
+  dist.is_box = true;
+  if (numbers.size() == 2) {
+    dist.lower.assign(input_dim, numbers[0]);
+    dist.upper.assign(input_dim, numbers[1]);
+  } else if (numbers.size() == 2 * input_dim) {
+    for (std::size_t i = 0; i < input_dim; ++i) {
+      dist.lower.push_back(numbers[2 * i]);
+      dist.upper.push_back(numbers[2 * i + 1]);
+    }
+  } else {
+    throw input_error("--dist: box:LO,HI takes 2 numbers, or 2 per input axis (" + std::to_string(2 * input_dim) +
+                      "), got " + std::to_string(numbers.size()));
+  }
+  for (std::size_t i = 0; i < input_dim; ++i)
+    if (!(dist.lower[i] < dist.upper[i]))
+      throw input_error("--dist: axis " + std::to_string(i) + ": LO must be below HI");
+  return dist;
+}
+
+// The point stream. Words come from pleat::RandomStream(seed, 0), the same
+// generator as `pleat random`; the step from words to doubles uses libm, so
+// the points (unlike random networks) may differ in the last bit between
+// C libraries:
+//   normal:   Box-Muller, cosine branch, in double: u1 = ((w >> 11) + 1) / 2^53
+//             in (0, 1], u2 = (w' >> 11) / 2^53 in [0, 1),
+//             x = sqrt(-2 log u1) cos(2 pi u2); two words per coordinate.
+//   box:      u = ((w >> 11) + 1/2) / 2^53 in (0, 1), x = lo + (hi - lo) u in
+//             double; a coordinate that rounds onto or outside the exact open
+//             interval is drawn again (so every point lies strictly inside).
+// Coordinates are drawn in axis order, points one after another, so the
+// first m points of batch K are the points of batch m.
+class PointStream {
+ public:
+  PointStream(std::uint64_t seed, const PointDistribution& dist) : stream_(seed, 0), dist_(dist) {}
+
+  DoubleVector next_point(std::size_t dimension) {
+    DoubleVector point(dimension);
+    for (std::size_t i = 0; i < dimension; ++i) point[i] = dist_.is_box ? next_box(i) : next_normal();
+    return point;
+  }
+
+ private:
+  static constexpr double two_to_minus_53 = 1.0 / 9007199254740992.0;
+
+  double next_normal() {
+    const double u1 = static_cast<double>((stream_.next_word() >> 11) + 1) * two_to_minus_53;
+    const double u2 = static_cast<double>(stream_.next_word() >> 11) * two_to_minus_53;
+    return std::sqrt(-2.0 * std::log(u1)) * std::cos(2.0 * std::numbers::pi * u2);
+  }
+
+  double next_box(std::size_t axis) {
+    const double lo = to_double(dist_.lower[axis]), hi = to_double(dist_.upper[axis]);
+    for (;;) {
+      const double u = (static_cast<double>(stream_.next_word() >> 11) + 0.5) * two_to_minus_53;
+      const double x = lo + (hi - lo) * u;
+      const Rational exact = rational_from_double(x);
+      if (dist_.lower[axis] < exact && exact < dist_.upper[axis]) return x;
+    }
+  }
+
+  RandomStream stream_;
+  const PointDistribution& dist_;
+};
+
+// Numerical ranks of one stacked Jacobian from its singular values.
+struct NumericalRank {
+  std::size_t customary = 0;  // sigma > sigma_max * max(M, N) * eps (numpy's matrix_rank default)
+  std::size_t relative_1e6 = 0;
+  std::size_t relative_1e10 = 0;
+  double sigma_max = 0;
+};
+
+NumericalRank numerical_rank(const std::vector<DoubleMatrix>& jacobians, std::size_t points,
+                             std::size_t columns) {
+  std::size_t rows = 0;
+  for (std::size_t p = 0; p < points; ++p) rows += jacobians[p].rows();
+  NumericalRank rank;
+  if (rows == 0 || columns == 0) return rank;
+  Eigen::MatrixXd stacked(static_cast<Eigen::Index>(rows), static_cast<Eigen::Index>(columns));
+  Eigen::Index r = 0;
+  for (std::size_t p = 0; p < points; ++p)
+    for (std::size_t i = 0; i < jacobians[p].rows(); ++i, ++r)
+      for (std::size_t c = 0; c < columns; ++c) stacked(r, static_cast<Eigen::Index>(c)) = jacobians[p](i, c);
+  // Singular values only (no U, V), in decreasing order.
+  const Eigen::BDCSVD<Eigen::MatrixXd> svd(stacked);
+  const Eigen::VectorXd sigma = svd.singularValues();
+  rank.sigma_max = sigma.size() ? sigma(0) : 0.0;
+  const double customary = rank.sigma_max * static_cast<double>(std::max(rows, columns)) *
+                           std::numeric_limits<double>::epsilon();
+  for (Eigen::Index i = 0; i < sigma.size(); ++i) {
+    rank.customary += sigma(i) > customary;
+    rank.relative_1e6 += sigma(i) > 1e-6 * rank.sigma_max;
+    rank.relative_1e10 += sigma(i) > 1e-10 * rank.sigma_max;
+  }
+  return rank;
+}
+
+// The smallest m <= points whose prefix rank (customary tolerance) equals
+// target, by binary search for the first m with rank >= target. Exact ranks
+// of prefixes never decrease (more rows), so the search is sound for them;
+// float ranks are monotone too unless rounding moves a singular value across
+// the tolerance, which the search does not guard against (an estimate).
+std::optional<std::size_t> first_batch_reaching(const std::vector<DoubleMatrix>& jacobians, std::size_t columns,
+                                                std::size_t target, std::size_t full_rank) {
+  if (full_rank < target) return std::nullopt;
+  std::size_t low = 0, high = jacobians.size();  // rank(low) < target <= rank(high); rank(0) = 0
+  if (target == 0) return 0;
+  while (high - low > 1) {
+    const std::size_t middle = low + (high - low) / 2;
+    if (numerical_rank(jacobians, middle, columns).customary >= target) high = middle;
+    else low = middle;
+  }
+  if (numerical_rank(jacobians, high, columns).customary != target) return std::nullopt;
+  return high;
+}
+
+struct SampleResult {
+  std::size_t batch = 0;
+  NumericalRank rank;
+  std::size_t regions_touched = 0;
+  std::size_t points_on_bent_hyperplanes = 0;
+  FunctionalDimensionResult certified;
+  std::optional<std::size_t> first_batch_reaching;
+  std::string verdict;  // "" when neither certified nor outside the proved bounds
+  double seconds = 0;
+};
+
+std::string verdict_of(std::size_t rank, const FunctionalDimensionResult& certified) {
+  if (rank > certified.upper_bound) return "above-impossible";
+  if (certified.certified) return rank == certified.lower_bound ? "equal" : "below";
+  if (rank < certified.lower_bound) return "below";
+  return "";
+}
+
+Json result_to_json(const SampleArguments& arguments, const Domain& domain, const SampleResult& result) {
+  Json out;
+  out["format"] = "pleat-sample/1";
+  out["batch"] = result.batch;
+  out["seed"] = arguments.seed;
+  out["dist"] = arguments.dist;
+  out["rank"] = result.rank.customary;
+  out["rank_rtol_1e-6"] = result.rank.relative_1e6;
+  out["rank_rtol_1e-10"] = result.rank.relative_1e10;
+  out["regions_touched"] = result.regions_touched;
+  out["regions_total"] = result.certified.walk_complete ? Json(result.certified.walk.regions) : Json(nullptr);
+  out["certified_value"] =
+      result.certified.functional_dimension ? Json(*result.certified.functional_dimension) : Json(nullptr);
+  out["verdict"] = result.verdict.empty() ? Json(nullptr) : Json(result.verdict);
+  out["first_batch_reaching"] = result.first_batch_reaching ? Json(*result.first_batch_reaching) : Json(nullptr);
+  // Additional keys (the contract allows more): what the verdict rests on.
+  out["domain"] = domain.describe();
+  out["points_on_bent_hyperplanes"] = result.points_on_bent_hyperplanes;
+  out["lower_bound"] = result.certified.lower_bound;
+  out["upper_bound"] = result.certified.upper_bound;
+  out["scaling_bound"] = result.certified.scaling_bound;
+  out["parametric_dimension"] = result.certified.parametric_dimension;
+  out["seconds"] = result.seconds;
+  return out;
+}
+
+void print_result(const Network& network, const Domain& domain, const SampleResult& result, std::ostream& out) {
+  const FunctionalDimensionResult& certified = result.certified;
+  out << "domain                " << domain.describe() << "\n";
+  out << "sampled rank          " << result.rank.customary << "  (double Jacobian at " << result.batch
+      << " points, " << result.batch * network.output_dim() << " x " << certified.parametric_dimension
+      << "; SVD, tolerance sigma_max*max(M,N)*eps)\n";
+  out << "                      " << result.rank.relative_1e6 << " at relative tolerance 1e-6, "
+      << result.rank.relative_1e10 << " at 1e-10\n";
+  if (certified.certified) {
+    out << "certified value       " << *certified.functional_dimension << "  (exact, every region of the domain)\n";
+  } else {
+    out << "certified value       none: the walk stopped early; proved bounds [" << certified.lower_bound << ", "
+        << certified.upper_bound << "]\n";
+  }
+  out << "verdict               ";
+  if (result.verdict == "below")
+    out << "below"
+        << (certified.certified ? " by " + std::to_string(certified.lower_bound - result.rank.customary) : "")
+        << "\n";
+  else
+    out << (result.verdict.empty() ? "undecided (within the proved bounds)" : result.verdict) << "\n";
+  out << "regions touched       " << result.regions_touched << " of "
+      << (certified.walk_complete ? std::to_string(certified.walk.regions) : "at least " + std::to_string(certified.walk.regions));
+  if (result.points_on_bent_hyperplanes)
+    out << "  (" << result.points_on_bent_hyperplanes << " points fell on a bent hyperplane)";
+  out << "\n";
+  out << "first batch reaching  "
+      << (result.first_batch_reaching ? std::to_string(*result.first_batch_reaching) + " points"
+                                      : std::string("none within the batch"))
+      << "\n";
+  out << "The sample touched " << result.regions_touched << " of the "
+      << (certified.walk_complete ? "" : "at least ") << certified.walk.regions
+      << " regions that exist on this domain.\n"
+         "A region no point lands in adds no rows, so a sampled rank can fall short of the\n"
+         "certified value however accurate the SVD is.\n";
+}
+
+int run_sample(const SampleArguments& arguments) {
+  const auto started = std::chrono::steady_clock::now();
+  if (arguments.batch == 0) throw input_error("--batch: give at least 1 point");
+  const Network network = load_network(arguments.network_path);
+  const PointDistribution dist = parse_distribution(arguments.dist, network.input_dim);
+  const Domain domain = dist.is_box ? make_box(dist.lower, dist.upper) : make_whole_space(network.input_dim);
+
+  SampleResult result;
+  result.batch = arguments.batch;
+  const DoubleNetwork double_network = to_double(network);
+  PointStream stream(arguments.seed, dist);
+  std::vector<DoubleMatrix> jacobians;
+  std::unordered_set<ActivationPattern, PatternHash> touched;
+  for (std::uint64_t i = 0; i < arguments.batch; ++i) {
+    const DoubleVector point = stream.next_point(network.input_dim);
+    jacobians.push_back(parameter_jacobian_double(double_network, point));
+    RationalVector exact;
+    for (double coordinate : point) exact.push_back(rational_from_double(coordinate));
+    if (auto pattern = region_pattern_at(network, exact)) touched.insert(*pattern);
+    else ++result.points_on_bent_hyperplanes;
+  }
+  result.regions_touched = touched.size();
+  const std::size_t columns = network.parametric_dimension();
+  result.rank = numerical_rank(jacobians, jacobians.size(), columns);
+
+  ProgressLine progress(arguments.quiet);
+  const InterruptGuard interrupt;
+  FunctionalDimensionOptions options;
+  options.walk.threads = static_cast<unsigned>(arguments.threads);
+  options.walk.time_limit_seconds = arguments.time_limit;
+  options.walk.interrupt = &interrupt.flag();
+  options.walk.on_progress = [&](const WalkProgress& state) {
+    progress.update("sample: certifying, " + std::to_string(state.regions) + " regions walked");
+  };
+  options.stop_at_scaling_bound = false;  // regions_total needs the whole walk
+  result.certified = certify_functional_dimension(network, domain, options);
+  progress.finish();
+  result.verdict = verdict_of(result.rank.customary, result.certified);
+  if (result.certified.certified)
+    result.first_batch_reaching =
+        first_batch_reaching(jacobians, columns, *result.certified.functional_dimension, result.rank.customary);
+  result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+
+  if (arguments.json) std::cout << json_text(result_to_json(arguments, domain, result));
+  else print_result(network, domain, result, std::cout);
+  return result.certified.walk.stop_reason == StopReason::interrupted ? 130 : 0;
+}
+
+constexpr const char* sample_help =
+    "The usual way to estimate a network's functional dimension is to sample: take K\n"
+    "random inputs, stack the K parameter Jacobians (K*nd x D) in double precision and\n"
+    "count singular values above a tolerance. 'sample' does exactly that, then puts the\n"
+    "certified value (an exact walk of the same domain, as 'pleat certify --full-walk')\n"
+    "beside it:\n"
+    "  rank                 at the customary tolerance sigma_max * max(M,N) * eps,\n"
+    "                       also at relative tolerances 1e-6 and 1e-10;\n"
+    "  verdict              equal, below (the sample missed directions) or\n"
+    "                       above-impossible (rounding invented rank);\n"
+    "  regions touched      distinct regions the points landed in (decided exactly),\n"
+    "                       out of all regions of the domain. A sampled rank falls short\n"
+    "                       mostly because points never reach regions far out, not\n"
+    "                       because of rounding;\n"
+    "  first batch reaching the smallest m <= K whose first m points already give the\n"
+    "                       certified rank (binary search over prefixes; rank only grows\n"
+    "                       with m, up to rounding). none: K points were not enough.\n"
+    "Points: --dist normal draws each coordinate from N(0,1) and is judged against\n"
+    "R^n0; --dist box:LO,HI draws uniformly from the open box (LO,HI)^n0 (or\n"
+    "box:L1,H1,L2,H2,... per axis) and is judged against that box. The stream is\n"
+    "seeded (same generator as 'pleat random'; Box-Muller in double), and batch m is\n"
+    "always the first m points of batch K.\n"
+    "\nExamples:\n"
+    "  pleat sample data/fold2d.json --batch 40 --seed 1\n"
+    "  pleat sample net.json --batch 200 --seed 7 --dist box:-2,2 --json";
+
+}  // namespace
+
+void register_sample(CommandTable& commands) {
+  auto arguments = std::make_shared<SampleArguments>();
+  CLI::App& command = commands.add(
+      "sample", "The usual sampled (double, SVD) functional dimension, beside the certified one", sample_help,
+      [arguments] { return run_sample(*arguments); });
+  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")
+      ->required();
+  add_unsigned_option(command, "--batch", arguments->batch, "Number of random input points K")->required();
+  add_unsigned_option(command, "--seed", arguments->seed, "Seed of the point stream")->required();
+  command.add_option("--dist", arguments->dist, "normal (default) or box:LO,HI (uniform on the open box)")
+      ->type_name("DIST")
+      ->allow_extra_args(false);
+  command.add_flag("--json", arguments->json, "Print the result as JSON (pleat-sample/1)");
+  add_unsigned_option(command, "--threads", arguments->threads, "Worker threads for the walk (default: all cores)");
+  command.add_option("--time-limit", arguments->time_limit,
+                     "Stop the certifying walk after this many seconds (then only bounds)")
+      ->check(CLI::NonNegativeNumber);
+  command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
+}
+
+}  // namespace pleat::cli
