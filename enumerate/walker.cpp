@@ -140,27 +140,43 @@ std::optional<ActivationPattern> region_pattern_at(const Network& network, const
 
 namespace {
 
-// Decides the far-side states of layers k, k+1, ... given the states of the
-// layers below (in `pattern`) and their post-activation map `post`; appends
-// every completed pattern to `out`.
-void extend_across(const Network& network, const Evaluation& at_q, const RationalVector& direction,
-                   const RationalVector& facet_normal, std::size_t k, const AffineMap& post,
-                   ActivationPattern& pattern, std::vector<ActivationPattern>& out) {
+// What a crossing at q needs: the near side's pre-activation maps (valid on
+// the near region's closure, so they give every neuron's true value at q) and
+// the direction to the far side.
+struct Crossing {
+  const Network& network;
+  const PatternMaps& near_maps;
+  std::vector<RationalVector> values_at_q;  // per ReLU layer
+  const RationalVector& direction;
+  const RationalVector& facet_normal;
+};
+
+// Decides the far-side states of layers k, k+1, ... given those below (in
+// `pattern`) and appends every completed pattern to `out`. far_post is the
+// far side's post-activation map of layer k-1, or null while every layer
+// below k has its near states (then the near maps serve: no recomputation,
+// which is the common case of a single first-crossed neuron).
+void extend_across(const Crossing& crossing, std::size_t k, const AffineMap* far_post,
+                   const ActivationPattern& near_pattern, ActivationPattern& pattern,
+                   std::vector<ActivationPattern>& out) {
+  const Network& network = crossing.network;
   if (k == relu_layers(network)) {
     out.push_back(pattern);
     return;
   }
-  const AffineMap pre = compose_layer(network.layers[k], post);
+  const RationalVector& values = crossing.values_at_q[k];
   const std::size_t first = network.first_neuron_of_layer(k);
+  std::optional<AffineMap> recomputed;
+  if (far_post) recomputed = compose_layer(network.layers[k], *far_post);
+  const AffineMap& pre = far_post ? *recomputed : crossing.near_maps.preactivation[k];
   std::vector<std::size_t> transversal;
-  for (std::size_t i = 0; i < pre.offset.size(); ++i) {
-    const Rational& value = at_q.preactivation[k][i];
+  for (std::size_t i = 0; i < values.size(); ++i) {
     NeuronState& state = pattern.states[first + i];
-    if (value > 0) state = NeuronState::on;
-    else if (value < 0) state = NeuronState::off;
+    if (values[i] > 0) state = NeuronState::on;
+    else if (values[i] < 0) state = NeuronState::off;
     else if (is_zero_row(pre.linear, i)) state = NeuronState::zero_on_region;
-    else if (is_row_parallel(pre.linear, i, facet_normal))
-      state = dot(pre.linear.row(i), direction) > 0 ? NeuronState::on : NeuronState::off;
+    else if (is_row_parallel(pre.linear, i, crossing.facet_normal))
+      state = dot(pre.linear.row(i), crossing.direction) > 0 ? NeuronState::on : NeuronState::off;
     else transversal.push_back(i);
   }
   if (transversal.size() > max_branching_neurons)
@@ -169,23 +185,37 @@ void extend_across(const Network& network, const Evaluation& at_q, const Rationa
   for (std::size_t mask = 0; mask < combinations; ++mask) {
     for (std::size_t b = 0; b < transversal.size(); ++b)
       pattern.states[first + transversal[b]] = (mask >> b) & 1 ? NeuronState::on : NeuronState::off;
-    const AffineMap next = apply_states(pre, std::span(pattern.states).subspan(first, pre.offset.size()));
-    extend_across(network, at_q, direction, facet_normal, k + 1, next, pattern, out);
+    const auto layer_states = std::span(pattern.states).subspan(first, values.size());
+    const bool is_unchanged =
+        !far_post && std::equal(layer_states.begin(), layer_states.end(), near_pattern.states.begin() + first);
+    if (is_unchanged) {
+      extend_across(crossing, k + 1, nullptr, near_pattern, pattern, out);
+    } else {
+      const AffineMap next = apply_states(pre, layer_states);
+      extend_across(crossing, k + 1, &next, near_pattern, pattern, out);
+    }
   }
 }
 
 }  // namespace
 
 std::vector<ActivationPattern> patterns_across(const Network& network, const ActivationPattern& near_pattern,
-                                               const RationalVector& q, const RationalVector& direction,
-                                               const RationalVector& facet_normal) {
-  const Evaluation at_q = evaluate_exact(network, q);
+                                               const PatternMaps& near_maps, const RationalVector& q,
+                                               const RationalVector& direction, const RationalVector& facet_normal) {
+  Crossing crossing{network, near_maps, {}, direction, facet_normal};
+  for (std::size_t k = 0; k < relu_layers(network); ++k) crossing.values_at_q.push_back(near_maps.preactivation[k](q));
   ActivationPattern pattern = near_pattern;
   std::vector<ActivationPattern> out;
-  extend_across(network, at_q, direction, facet_normal, 0, identity_map(network.input_dim), pattern, out);
+  extend_across(crossing, 0, nullptr, near_pattern, pattern, out);
   std::sort(out.begin(), out.end());
   out.erase(std::unique(out.begin(), out.end()), out.end());
   return out;
+}
+
+std::vector<ActivationPattern> patterns_across(const Network& network, const ActivationPattern& near_pattern,
+                                               const RationalVector& q, const RationalVector& direction,
+                                               const RationalVector& facet_normal) {
+  return patterns_across(network, near_pattern, maps_on_pattern(network, near_pattern), q, direction, facet_normal);
 }
 
 namespace {
@@ -279,7 +309,7 @@ class RegionProcessor {
     RationalVector direction = representative.normal;
     for (auto& v : direction) v = -v;
     std::vector<ActivationPattern> candidates =
-        patterns_across(network_, pattern, facet.point, direction, representative.normal);
+        patterns_across(network_, pattern, cell.maps, facet.point, direction, representative.normal);
     if (candidates.size() > 1) {
       ++degenerate_crossings;
       candidates = keep_touching(candidates, facet.point);
@@ -508,6 +538,15 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   summary.certified = summary.complete && all_neighbors_present && !anomaly;
   summary.seconds = elapsed();
   return summary;
+}
+
+std::optional<Region> describe_region(const Network& network, const Domain& domain,
+                                      const ActivationPattern& pattern, bool keep_certificates) {
+  if (domain.dim != network.input_dim) throw usage_error("describe_region: domain and network dimensions differ");
+  RegionProcessor processor(network, domain, keep_certificates);
+  Processed processed = processor.process(pattern);
+  if (!processed.is_region) return std::nullopt;
+  return std::move(processed.region);
 }
 
 }  // namespace pleat

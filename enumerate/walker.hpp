@@ -108,6 +108,12 @@ struct WalkSummary {
 // Preconditions: domain.dim == network.input_dim.
 WalkSummary walk_regions(const Network& network, const Domain& domain, const WalkOptions& options);
 
+// One region's record as walk_regions would deliver it (id 0), or nullopt
+// when the pattern's cell has empty interior on the domain. Exact; for
+// inspecting a single region without walking.
+std::optional<Region> describe_region(const Network& network, const Domain& domain,
+                                      const ActivationPattern& pattern, bool keep_certificates = false);
+
 // The constraints of the cell of one pattern (neurons, then domain sides), or
 // nullopt when the pattern is inconsistent with its own maps (a state '1'/'0'
 // on an identically-zero neuron, 'z' on a nonzero one, or a constant
@@ -132,5 +138,9 @@ std::optional<ActivationPattern> region_pattern_at(const Network& network, const
 std::vector<ActivationPattern> patterns_across(const Network& network, const ActivationPattern& near_pattern,
                                                const RationalVector& q, const RationalVector& direction,
                                                const RationalVector& facet_normal);
+// The same, given the near pattern's maps (maps_on_pattern), as the walker has them.
+std::vector<ActivationPattern> patterns_across(const Network& network, const ActivationPattern& near_pattern,
+                                               const PatternMaps& near_maps, const RationalVector& q,
+                                               const RationalVector& direction, const RationalVector& facet_normal);
 
 }  // namespace pleat

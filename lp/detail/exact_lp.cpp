@@ -8,7 +8,6 @@
 #include <string>
 
 namespace pleat::lp::detail {
-namespace {
 
 std::mutex& cdd_mutex() {
   static std::mutex mutex;
@@ -19,8 +18,6 @@ void ensure_cdd_constants() {
   static std::once_flag once;
   std::call_once(once, [] { dd_set_global_constants(); });
 }
-
-}  // namespace
 
 ExactSolution maximise_exact(std::size_t dim, const std::vector<ExactRow>& rows,
                              const RationalVector& objective) {

@@ -6,6 +6,7 @@
 #include "core/rational.hpp"
 
 #include <cstddef>
+#include <mutex>
 #include <vector>
 
 namespace pleat::lp::detail {
@@ -24,6 +25,12 @@ struct ExactSolution {
   Rational value;       // the optimum, when optimal
   RationalVector point; // an optimal x, when optimal
 };
+
+// The process-wide lock around every cddlib call, and cddlib's one-time
+// constant set-up (call it with the lock held). For other cddlib users
+// (enumerate/region_geometry.cpp's exact vertex enumeration).
+std::mutex& cdd_mutex();
+void ensure_cdd_constants();
 
 // maximise objective . x over x in Q^dim subject to rows (x free otherwise).
 // Throws std::runtime_error if cddlib reports an internal error.

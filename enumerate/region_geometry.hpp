@@ -1,0 +1,98 @@
+// Exact geometry of single regions: ordered polygons in the plane, vertex
+// enumeration (V-representation) in any dimension, exact volumes, the regions
+// whose closures meet at a point, and a region's rank contribution.
+//
+// Everything here is exact rational arithmetic (cddlib's GMP build for the
+// vertex enumeration); nothing prints. Polyhedra are closed:
+// {x : normal_i . x + offset_i >= 0}.
+#pragma once
+
+#include "core/network.hpp"
+#include "core/pattern.hpp"
+#include "enumerate/domain.hpp"
+#include "lp/polyhedron.hpp"
+
+#include <cstddef>
+#include <vector>
+
+namespace pleat {
+
+// ---- The plane --------------------------------------------------------------
+
+// A closed convex polygon: distinct vertices (each of size 2) in
+// counter-clockwise order, no three consecutive ones collinear. Fewer than
+// three vertices means a degenerate (zero-area) or empty intersection.
+struct Polygon {
+  std::vector<RationalVector> vertices;
+};
+
+// The rectangle [lower_0, upper_0] x [lower_1, upper_1] cut by the closed
+// half-planes (normal . x + offset >= 0), by exact Sutherland-Hodgman clipping.
+// Preconditions: lower_i < upper_i; every normal has size 2 and is nonzero
+// (throws usage_error). Exact.
+Polygon clip_rectangle(const RationalVector& lower, const RationalVector& upper,
+                       const std::vector<lp::Constraint>& half_planes);
+
+// Shoelace area of a counter-clockwise polygon (>= 0). Exact.
+Rational polygon_area(const Polygon& polygon);
+
+// Counter-clockwise order of points around a centre that is strictly inside
+// their convex hull, or strictly inside the unbounded region they bound
+// (exact angular comparison, no trigonometry). Precondition: size-2 points.
+void sort_counter_clockwise(std::vector<RationalVector>& points, const RationalVector& centre);
+
+// ---- Any dimension ----------------------------------------------------------
+
+// P = conv(points) + cone(rays) + span(lines). When lines is empty, points
+// are exactly the vertices of P. Rays and lines are primitive integer vectors
+// (a line's first nonzero entry positive). For dim 2 and a pointed P, points
+// are ordered along the boundary counter-clockwise seen from inside: for an
+// unbounded region the walk starts at the vertex where the boundary comes in
+// from infinity (along -rays.front() when there are two rays) and ends where
+// it leaves (along rays.back()).
+struct VertexRepresentation {
+  std::vector<RationalVector> points;
+  std::vector<RationalVector> rays;
+  std::vector<RationalVector> lines;
+  bool is_bounded() const { return rays.empty() && lines.empty(); }
+};
+
+// The V-representation of the closed polyhedron, by cddlib's exact double
+// description (GMP rationals, under lp's process-wide cddlib lock).
+// Precondition: the closed polyhedron has non-empty interior (a region), and
+// `interior` is a point strictly inside it (used to order 2-D vertices).
+// Throws std::runtime_error if cddlib reports an error. Exact.
+VertexRepresentation vertex_representation(const lp::Polyhedron& closed, const RationalVector& interior);
+
+// The volume of a bounded full-dimensional polytope given by its (possibly
+// redundant) constraints and its vertices: a cone from the vertex centroid
+// over each facet, each facet's volume by the same rule one dimension down
+// after projecting out one coordinate (heights divided by that coordinate's
+// normal entry, so no square roots). Exact; the cost grows quickly with the
+// dimension (meant for dim <= 4). Precondition: vertices are those of the
+// polytope (as vertex_representation returns them).
+Rational polytope_volume(const lp::Polyhedron& closed, const std::vector<RationalVector>& vertices);
+
+// ---- Networks ---------------------------------------------------------------
+
+// The regions whose closures contain the point, and the neurons that vanish
+// there. Candidates come from choosing the states of the vanishing neurons
+// layer by layer ('z' when identically zero under the earlier states, else on
+// and off); a candidate is kept when its cell has interior on the domain. The
+// closure of every kept cell contains the point (the vanishing neurons are 0
+// there whatever their state). Preconditions: point.size() == input_dim ==
+// domain.dim, and the point lies in the closed domain (throws input_error
+// otherwise). At most 16 vanishing neurons (throws input_error). Exact.
+struct PointIncidence {
+  std::vector<std::size_t> vanishing_neurons;  // ids, increasing
+  std::vector<ActivationPattern> regions;      // sorted
+};
+PointIncidence regions_at_point(const Network& network, const Domain& domain, const RationalVector& point);
+
+// How many independent rows a region adds to the functional-dimension rank
+// when it is taken first: the exact rank of its coefficient blocks, 0 for a
+// region that has no smooth points. Precondition: a region pattern ('=' not
+// allowed). Exact.
+std::size_t rank_contribution(const Network& network, const ActivationPattern& pattern);
+
+}  // namespace pleat
