@@ -1,0 +1,127 @@
+#!/usr/bin/env bash
+# pleat certify end to end: the --json keys of shared/spec/outputs.md
+# (pleat-certify/1), --claim verdicts, --points (exact batch dimension, and a
+# point on a bent hyperplane is exit 2 naming the point and the neuron),
+# --rows-out/--kernel-out re-checked here with Python fractions, and the
+# explanation of data/degenerate2d.json.
+set -u
+pleat=$1
+source_dir=$2
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+expect_contains() {  # text, needle, what
+  case "$1" in *"$2"*) ;; *) fail "$3: expected '$2' in:"$'\n'"$1" ;; esac
+}
+python=/usr/bin/python3
+[ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
+# json_get FILE EXPRESSION: prints the Python expression evaluated with d = the document.
+json_get() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }
+
+ramp=$source_dir/data/ramp1d.json
+degenerate=$source_dir/data/degenerate2d.json
+
+# ---- --json keys: exactly the spec's table (outputs.md, "pleat certify --json"),
+# plus stop_reason (the walk's key of the same meaning, also printed here).
+"$pleat" certify "$ramp" --json -q > "$work/ramp.json" || fail "certify --json exited $?"
+keys=$(json_get "$work/ramp.json" '",".join(sorted(d.keys()))')
+spec_keys="certified,early_stop,extra_kernel,format,functional_dimension,lower_bound,nonsmooth_regions,parametric_dimension,regions_contributing,regions_walked,scaling_bound,seconds,stop_reason,upper_bound,walk_complete"
+[ "$keys" = "$spec_keys" ] || fail "certify --json keys: got $keys, spec $spec_keys"
+# ramp1d (data/README.md): 1 -> 5 -> 1, D = 2*5 + 6 = 16; five distinct bends
+# and nonzero outgoing weights: the generic shallow case, 2*5 + 1 = 11 (the
+# derivation is in tests/enumerate/functional_dimension_test.cpp).
+[ "$(json_get "$work/ramp.json" 'd["format"]')" = "pleat-certify/1" ] || fail "format"
+[ "$(json_get "$work/ramp.json" 'd["parametric_dimension"]')" = 16 ] || fail "ramp1d D"
+[ "$(json_get "$work/ramp.json" 'd["scaling_bound"]')" = 11 ] || fail "ramp1d scaling bound"
+[ "$(json_get "$work/ramp.json" 'd["functional_dimension"]')" = 11 ] || fail "ramp1d value"
+[ "$(json_get "$work/ramp.json" '(d["lower_bound"], d["upper_bound"], d["certified"])')" = "(11, 11, True)" ] ||
+  fail "ramp1d bounds"
+[ "$(json_get "$work/ramp.json" 'd["extra_kernel"]')" = "[]" ] || fail "ramp1d has no extra directions"
+
+# ---- --claim on ramp1d (value 11, D = 16)
+claim() {  # value -> "verdict|reason"
+  "$pleat" certify "$ramp" --json -q --claim "$1" > "$work/claim.json" || fail "--claim $1 exited $?"
+  json_get "$work/claim.json" 'd["claim"]["verdict"] + "|" + d["claim"]["reason"]'
+}
+out=$(claim 11); expect_contains "$out" "consistent|" "--claim 11"
+out=$(claim 9);  expect_contains "$out" "too-low|" "--claim 9"; expect_contains "$out" "by 2" "--claim 9"
+out=$(claim 12); expect_contains "$out" "impossible|" "--claim 12"; expect_contains "$out" "scaling bound" "--claim 12"
+out=$(claim 17); expect_contains "$out" "impossible|" "--claim 17"; expect_contains "$out" "parametric dimension 16" "--claim 17"
+out=$(claim 0);  expect_contains "$out" "too-low|" "--claim 0"
+[ "$(json_get "$work/claim.json" 'd["claim"]["value"]')" = 0 ] || fail "claim value echoed"
+out=$("$pleat" certify "$ramp" -q --claim 9) || fail "human --claim exited $?"
+expect_contains "$out" "too-low" "human --claim"
+"$pleat" certify "$ramp" -q --claim -3 > /dev/null 2>&1 && fail "--claim -3 accepted"
+
+# ---- --points: bends of ramp1d at -1/2, -1/3, 3/8, 2/3, 25/6 (data/README.md).
+# Two points in each of the 6 intervals: 12 Jacobian rows, rank 11.
+printf '%s\n' "# two per interval" -1 -2 -5/12 -0.45 0 1/10 1/2 3/5 1 4 5 10 > "$work/good.csv"
+out=$("$pleat" certify "$ramp" --points "$work/good.csv" --json) || fail "--points exited $?"
+echo "$out" > "$work/batch.json"
+[ "$(json_get "$work/batch.json" 'd["batch_functional_dimension"]')" = 11 ] || fail "batch at 12 points: $out"
+printf '%s\n' -1 -2 > "$work/one_region.csv"
+out=$("$pleat" certify "$ramp" --points "$work/one_region.csv") || fail "--points exited $?"
+expect_contains "$out" "batch functional dimension 2" "two points in one interval give its 2 rows"
+# 3/8 is neuron 1's bend (-0.8 x + 0.3 = 0): the third point (0-based index 2).
+printf '%s\n' -1 5 3/8 0 > "$work/bent.csv"
+err=$("$pleat" certify "$ramp" --points "$work/bent.csv" 2>&1 >/dev/null)
+status=$?
+[ "$status" = 2 ] || fail "point on a bent hyperplane: exit $status, expected 2 ($err)"
+expect_contains "$err" "point 2" "the point is named"
+expect_contains "$err" "neuron 1" "the neuron is named"
+printf '%s\n' 1,2 > "$work/wrong_dim.csv"
+"$pleat" certify "$ramp" --points "$work/wrong_dim.csv" > /dev/null 2>&1
+[ $? = 2 ] || fail "a 2-D point for a 1-input network must be exit 2"
+
+# ---- degenerate2d: 17 with 7 named directions (derivation in
+# tests/enumerate/functional_dimension_test.cpp).
+"$pleat" certify "$degenerate" --json -q --rows-out "$work/rows.csv" --kernel-out "$work/kernel.csv" \
+  > "$work/degenerate.json" || fail "certify degenerate2d exited $?"
+[ "$(json_get "$work/degenerate.json" '(d["functional_dimension"], d["scaling_bound"], len(d["extra_kernel"]))')" \
+  = "(17, 24, 7)" ] || fail "degenerate2d: $(cat "$work/degenerate.json")"
+[ "$(json_get "$work/degenerate.json" 'sorted(set((e["mechanism"], tuple(e["neurons"])) for e in d["extra_kernel"]))')" \
+  = "[('dead-neuron', (5,)), ('duplicate-neurons', (1, 2))]" ] || fail "degenerate2d mechanisms"
+out=$("$pleat" certify "$degenerate" -q) || fail "human certify exited $?"
+expect_contains "$out" "functional dimension  17  certified" "human summary"
+expect_contains "$out" "dead-neuron (neuron 5): W2[1,1]: 1" "human explanation"
+expect_contains "$out" "duplicate-neurons (neuron 1 2): W2[0,1]: 1, W2[0,2]: -1" "human explanation"
+
+# The written rows and kernel, re-checked exactly with Python fractions:
+# kernel has D - 17 = 14 rows, every row times every kernel vector is 0, and
+# the rows have rank 17 (fraction-exact Gaussian elimination).
+"$python" - "$work/rows.csv" "$work/kernel.csv" <<'PY' || fail "rows/kernel re-check"
+import sys
+from fractions import Fraction
+def read(path):
+    return [[Fraction(x) for x in line.strip().split(",")] for line in open(path) if line.strip()]
+rows, kernel = read(sys.argv[1]), read(sys.argv[2])
+assert all(len(r) == 31 for r in rows + kernel), "31 columns"
+assert len(kernel) == 14, len(kernel)
+for r in rows:
+    for k in kernel:
+        assert sum(a * b for a, b in zip(r, k)) == 0, "a kernel vector is not orthogonal to a row"
+def rank(m):
+    m = [list(r) for r in m]; rank = 0
+    for c in range(len(m[0]) if m else 0):
+        pivot = next((i for i in range(rank, len(m)) if m[i][c] != 0), None)
+        if pivot is None: continue
+        m[rank], m[pivot] = m[pivot], m[rank]
+        for i in range(len(m)):
+            if i != rank and m[i][c] != 0:
+                f = m[i][c] / m[rank][c]
+                m[i] = [a - f * b for a, b in zip(m[i], m[rank])]
+        rank += 1
+    return rank
+assert rank(rows) == 17, rank(rows)
+assert rank(kernel) == 14
+PY
+
+# ---- a run cut short never says certified (fold2d has 84 regions).
+"$pleat" certify "$source_dir/data/fold2d.json" --json -q --full-walk --time-limit 0.000001 > "$work/cut.json" ||
+  fail "time-limited certify exited $?"
+if [ "$(json_get "$work/cut.json" 'd["walk_complete"]')" = False ]; then
+  [ "$(json_get "$work/cut.json" '(d["certified"], d["functional_dimension"], d["lower_bound"] <= d["upper_bound"])')" \
+    = "(False, None, True)" ] || fail "a cut run: $(cat "$work/cut.json")"
+fi
+
+echo "certify: all checks passed"

@@ -1,0 +1,122 @@
+#!/usr/bin/env bash
+# pleat sample end to end: the --json keys of shared/spec/outputs.md
+# (pleat-sample/1), agreement with `pleat walk` and `pleat certify` on the same
+# domain, the verdict and first_batch_reaching re-derived from separate runs
+# with smaller batches, reproducibility, and bad input.
+set -u
+pleat=$1
+source_dir=$2
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+expect_contains() {  # text, needle, what
+  case "$1" in *"$2"*) ;; *) fail "$3: expected '$2' in:"$'\n'"$1" ;; esac
+}
+python=/usr/bin/python3
+[ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
+json_get() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }
+
+fold=$source_dir/data/fold2d.json
+
+# ---- keys: the spec's list, plus the documented extras (domain,
+# points_on_bent_hyperplanes and the bounds the verdict rests on).
+"$pleat" sample "$fold" --batch 40 --seed 1 --json -q > "$work/s.json" || fail "sample --json exited $?"
+keys=$(json_get "$work/s.json" '",".join(sorted(d.keys()))')
+expected="batch,certified_value,dist,domain,first_batch_reaching,format,lower_bound,parametric_dimension,points_on_bent_hyperplanes,rank,rank_rtol_1e-10,rank_rtol_1e-6,regions_total,regions_touched,scaling_bound,seconds,seed,upper_bound,verdict"
+[ "$keys" = "$expected" ] || fail "sample --json keys: got $keys"
+for key in batch seed dist rank rank_rtol_1e-6 rank_rtol_1e-10 regions_touched regions_total certified_value \
+  verdict first_batch_reaching seconds; do
+  case ",$keys," in *",$key,"*) ;; *) fail "spec key $key missing" ;; esac
+done
+[ "$(json_get "$work/s.json" '(d["format"], d["batch"], d["seed"], d["dist"])')" = "('pleat-sample/1', 40, 1, 'normal')" ] ||
+  fail "echoed settings"
+
+# ---- against walk and certify on the same domain (normal -> R^2)
+"$pleat" walk "$fold" --json -q > "$work/walk.json" || fail "walk exited $?"
+"$pleat" certify "$fold" --json -q > "$work/certify.json" || fail "certify exited $?"
+regions=$(json_get "$work/walk.json" 'd["regions"]')
+value=$(json_get "$work/certify.json" 'd["functional_dimension"]')
+[ "$(json_get "$work/s.json" 'd["regions_total"]')" = "$regions" ] || fail "regions_total differs from pleat walk ($regions)"
+[ "$(json_get "$work/s.json" 'd["certified_value"]')" = "$value" ] || fail "certified_value differs from pleat certify ($value)"
+
+# The verdict and first_batch_reaching, re-derived for several batches and
+# seeds; where a prefix m is reported, batch m reaches the value and batch
+# m - 1 does not (separate runs: the first m points of any batch are the same).
+check_batch() {  # network dist batch seed domain-args...
+  local net=$1 dist=$2 batch=$3 seed=$4
+  shift 4
+  "$pleat" sample "$net" --dist "$dist" --batch "$batch" --seed "$seed" --json -q > "$work/b.json" ||
+    fail "sample $dist $batch $seed exited $?"
+  "$pleat" walk "$net" "$@" --json -q > "$work/w.json" || fail "walk $* exited $?"
+  "$pleat" certify "$net" "$@" --json -q > "$work/c.json" || fail "certify $* exited $?"
+  local rank total touched certified verdict first
+  rank=$(json_get "$work/b.json" 'd["rank"]')
+  total=$(json_get "$work/b.json" 'd["regions_total"]')
+  touched=$(json_get "$work/b.json" 'd["regions_touched"]')
+  certified=$(json_get "$work/b.json" 'd["certified_value"]')
+  verdict=$(json_get "$work/b.json" 'd["verdict"]')
+  first=$(json_get "$work/b.json" 'd["first_batch_reaching"]')
+  [ "$total" = "$(json_get "$work/w.json" 'd["regions"]')" ] || fail "$dist: regions_total $total vs walk"
+  [ "$certified" = "$(json_get "$work/c.json" 'd["functional_dimension"]')" ] || fail "$dist: certified value"
+  [ "$touched" -le "$total" ] || fail "$dist: touched $touched > total $total"
+  [ "$touched" -le "$batch" ] || fail "$dist: touched $touched > batch $batch"
+  [ "$rank" -le "$(json_get "$work/b.json" 'd["rank_rtol_1e-10"]')" ] || fail "looser tolerance lower rank"
+  [ "$(json_get "$work/b.json" 'd["rank_rtol_1e-6"]')" -le "$(json_get "$work/b.json" 'd["rank_rtol_1e-10"]')" ] ||
+    fail "rtol 1e-6 above rtol 1e-10"
+  if [ "$rank" -eq "$certified" ]; then
+    [ "$verdict" = equal ] || fail "rank $rank = certified, verdict $verdict"
+    [ "$first" != None ] || fail "reached but no first batch"
+    [ "$first" -le "$batch" ] || fail "first batch $first > batch $batch"
+    "$pleat" sample "$net" --dist "$dist" --batch "$first" --seed "$seed" --json -q > "$work/m.json"
+    [ "$(json_get "$work/m.json" 'd["rank"]')" = "$certified" ] || fail "batch $first does not reach $certified"
+    if [ "$first" -gt 1 ]; then
+      "$pleat" sample "$net" --dist "$dist" --batch $((first - 1)) --seed "$seed" --json -q > "$work/m.json"
+      [ "$(json_get "$work/m.json" 'd["rank"]')" -lt "$certified" ] || fail "batch $((first - 1)) already reaches"
+    fi
+  elif [ "$rank" -lt "$certified" ]; then
+    [ "$verdict" = below ] || fail "rank $rank < certified $certified, verdict $verdict"
+    [ "$first" = None ] || fail "not reached but first batch $first"
+  else
+    [ "$verdict" = above-impossible ] || fail "rank above the certified value, verdict $verdict"
+  fi
+  echo "$(basename "$net") $dist batch $batch seed $seed: rank $rank, certified $certified, $verdict, touched $touched/$total, first $first"
+}
+check_batch "$fold" normal 40 1
+check_batch "$fold" normal 200 2
+check_batch "$fold" box:-1,1 60 3 --box -1,1
+check_batch "$fold" box:-1,1,-0.5,0.5 30 4 --box -1,1,-0.5,0.5
+check_batch "$fold" box:-30,30 300 5 --box -30,30
+# Cases that reach the certified value (so first_batch_reaching is checked):
+check_batch "$source_dir/data/degenerate2d.json" box:-2,2 60 3 --box -2,2
+check_batch "$source_dir/data/ramp1d.json" box:-5,5 40 6 --box -5,5
+check_batch "$source_dir/data/ramp1d.json" normal 200 7
+
+# ---- reproducible: same seed same document (but seconds), any --threads
+strip() { grep -v '"seconds"' "$1"; }
+"$pleat" sample "$fold" --batch 40 --seed 1 --json -q --threads 1 > "$work/t1.json"
+"$pleat" sample "$fold" --batch 40 --seed 1 --json -q --threads 2 > "$work/t2.json"
+[ "$(strip "$work/t1.json")" = "$(strip "$work/s.json")" ] || fail "same seed, different result"
+[ "$(strip "$work/t1.json")" = "$(strip "$work/t2.json")" ] || fail "--threads changes the result"
+"$pleat" sample "$fold" --batch 40 --seed 9 --json -q > "$work/s9.json"
+[ "$(strip "$work/s9.json")" != "$(strip "$work/s.json")" ] || echo "note: seeds 1 and 9 gave the same summary"
+
+# ---- human output says how many regions were touched out of how many
+out=$("$pleat" sample "$fold" --batch 40 --seed 1 -q) || fail "human sample exited $?"
+expect_contains "$out" "regions touched" "human output"
+expect_contains "$out" "of the $regions regions that exist" "the regions sentence"
+expect_contains "$out" "certified value       $value" "human output"
+
+# ---- bad input: exit 2 with a message naming the option
+for args in "--batch 0 --seed 1" "--batch 5 --seed 1 --dist uniform" "--batch 5 --seed 1 --dist box:2,1" \
+  "--batch 5 --seed 1 --dist box:1,2,3" "--batch -5 --seed 1" "--seed 1"; do
+  # shellcheck disable=SC2086
+  err=$("$pleat" sample "$fold" $args -q 2>&1 >/dev/null)
+  status=$?
+  [ "$status" = 2 ] || fail "'$args': exit $status, expected 2"
+  case "$err" in *--batch*|*--dist*) ;; *) fail "'$args': message does not name the option: $err" ;; esac
+done
+out=$("$pleat" sample --help) || fail "--help exited $?"
+expect_contains "$out" "sigma_max * max(M,N) * eps" "--help names the tolerance"
+expect_contains "$out" "regions touched" "--help explains regions touched"
+
+echo "sample: all checks passed"

@@ -1,0 +1,455 @@
+// The certified functional dimension against values derived by hand, and
+// against independent recomputations from the walk's own regions (exact
+// coefficient blocks of every region, exact Jacobians at interior points).
+#include "enumerate/functional_dimension.hpp"
+
+#include "core/jacobian.hpp"
+#include "core/network_io.hpp"
+#include "core/random_network.hpp"
+#include "core/rank.hpp"
+
+#include <gtest/gtest.h>
+
+#include <map>
+#include <string>
+#include <vector>
+
+namespace pleat {
+namespace {
+
+Layer make_layer(const std::vector<RationalVector>& rows, RationalVector bias, Activation activation) {
+  Layer layer;
+  layer.weights = RationalMatrix(rows.size(), rows.front().size());
+  for (std::size_t r = 0; r < rows.size(); ++r) layer.weights.set_row(r, rows[r]);
+  layer.bias = std::move(bias);
+  layer.activation = activation;
+  return layer;
+}
+
+// F(x) = sum_i v_i relu(w_i x + b_i) + c, optionally followed by a ReLU.
+Network shallow_one_input(const RationalVector& w, const RationalVector& b, const RationalVector& v,
+                          const Rational& c, bool output_relu = false) {
+  std::vector<RationalVector> rows;
+  for (const Rational& weight : w) rows.push_back({weight});
+  Network network;
+  network.input_dim = 1;
+  network.layers.push_back(make_layer(rows, b, Activation::relu));
+  network.layers.push_back(make_layer({v}, {c}, output_relu ? Activation::relu : Activation::linear));
+  network.validate();
+  return network;
+}
+
+// A generic shallow one-input net: breakpoints t_i = i + 1/2 (distinct,
+// nonzero), weights of alternating sign, nonzero outgoing weights and biases.
+Network generic_shallow(std::size_t m) {
+  RationalVector w, b, v;
+  for (std::size_t i = 0; i < m; ++i) {
+    const Rational weight(static_cast<long>(i % 2 ? -(2 + static_cast<long>(i)) : 1 + static_cast<long>(i)), 3);
+    const Rational breakpoint = Rational(static_cast<long>(i)) + Rational(1, 2);
+    w.push_back(weight);
+    b.push_back(-weight * breakpoint);
+    v.push_back(Rational(static_cast<long>(i % 3 == 2 ? -(i + 2) : i + 1), 2));
+  }
+  return shallow_one_input(w, b, v, Rational(1, 3));
+}
+
+FunctionalDimensionResult certify(const Network& network, const Domain& domain, bool stop_at_scaling_bound,
+                                  bool keep_rows = false) {
+  FunctionalDimensionOptions options;
+  options.walk.threads = 1;
+  options.stop_at_scaling_bound = stop_at_scaling_bound;
+  options.keep_rows = keep_rows;
+  return certify_functional_dimension(network, domain, options);
+}
+
+FunctionalDimensionResult certify_on_whole_space(const Network& network, bool stop_at_scaling_bound = true) {
+  return certify(network, make_whole_space(network.input_dim), stop_at_scaling_bound);
+}
+
+// Every region of a complete walk (threads 1, whole space).
+std::vector<Region> all_regions(const Network& network) {
+  std::vector<Region> regions;
+  WalkOptions options;
+  options.threads = 1;
+  options.on_region = [&](const Region& region) {
+    regions.push_back(region);
+    return true;
+  };
+  const WalkSummary summary = walk_regions(network, make_whole_space(network.input_dim), options);
+  EXPECT_TRUE(summary.complete);
+  return regions;
+}
+
+RationalMatrix stack(const std::vector<RationalMatrix>& blocks, std::size_t columns) {
+  std::size_t total = 0;
+  for (const auto& block : blocks) total += block.rows();
+  RationalMatrix out(total, columns);
+  std::size_t r = 0;
+  for (const auto& block : blocks)
+    for (std::size_t i = 0; i < block.rows(); ++i, ++r) out.set_row(r, block.row(i));
+  return out;
+}
+
+std::map<std::string, Rational> named(const Network& network, const RationalVector& vector) {
+  std::map<std::string, Rational> out;
+  for (std::size_t c = 0; c < vector.size(); ++c)
+    if (vector[c] != 0) out[network.parameter_name(c)] = vector[c];
+  return out;
+}
+
+// Small random networks from the project's reproducible generator.
+std::vector<Network> random_networks() {
+  return {random_network({2, 4, 3, 1}, 11), random_network({2, 4, 3, 1}, 12), random_network({2, 5, 1}, 13),
+          random_network({2, 3, 3, 2}, 14), random_network({3, 4, 3, 1}, 15), random_network({1, 3, 3, 3, 1}, 16)};
+}
+
+// ---- Values derived by hand --------------------------------------------------
+
+// One input, one hidden layer of m neurons, linear output:
+//   F(x) = sum_i v_i relu(w_i x + b_i) + c,  D = 3m + 1.
+// F is continuous piecewise affine with breakpoints t_i = -b_i / w_i and a
+// slope change of v_i |w_i| at t_i. With all w_i, v_i nonzero and distinct
+// t_i, F is determined by (a) the m breakpoints, (b) the m slope changes and
+// (c) one offset (say c): the slope far to the left is not free, it is
+// sum_{w_i < 0} v_i w_i = -(sum of the jumps of the neurons with w_i < 0),
+// and the signs of the w_i do not change under small perturbations. So the
+// functions near F form a (2m+1)-dimensional family, the map theta -> F onto
+// it is a submersion (each t_i, jump and c can be moved alone by moving
+// b_i, v_i and c), and the functional dimension is 2m + 1. That is also the
+// scaling bound D - m (the m scaling directions are independent: each one is
+// the only one touching its own w_i), so the value meets it and the walk may
+// stop early; the full walk must give the same value.
+TEST(FunctionalDimension, OneInputShallowGenericIs2mPlus1) {
+  for (std::size_t m = 1; m <= 6; ++m) {
+    SCOPED_TRACE("m = " + std::to_string(m));
+    const Network network = generic_shallow(m);
+    const FunctionalDimensionResult early = certify_on_whole_space(network);
+    ASSERT_TRUE(early.certified);
+    EXPECT_EQ(early.parametric_dimension, 3 * m + 1);
+    EXPECT_EQ(early.scaling_bound, 2 * m + 1);
+    EXPECT_EQ(*early.functional_dimension, 2 * m + 1);
+
+    const FunctionalDimensionResult full = certify_on_whole_space(network, false);
+    ASSERT_TRUE(full.certified);
+    EXPECT_TRUE(full.walk_complete);
+    EXPECT_FALSE(full.early_stop);
+    EXPECT_EQ(*full.functional_dimension, 2 * m + 1);
+    EXPECT_EQ(full.regions_walked, m + 1);  // m distinct breakpoints cut R into m + 1 intervals
+    EXPECT_TRUE(full.extra_kernel.empty());
+  }
+}
+
+// 1 input, 2 hidden neurons, 1 output WITH a ReLU: F = relu(g),
+//   g(x) = c + v1 relu(w1 x + b1) + v2 relu(w2 x + b2),  D = 2*2 + 3 = 7.
+// The output neuron has no scaling symmetry (it is not followed by a layer),
+// only the 2 hidden ones do: scaling bound 7 - 2 = 5, and no case may exceed
+// it. Here h1 = relu(x - 1), h2 = relu(-x - 1) (breakpoints +1 and -1).
+Network relu_output_network(const Rational& v1, const Rational& v2, const Rational& c) {
+  return shallow_one_input({Rational(1), Rational(-1)}, {Rational(-1), Rational(-1)}, {v1, v2}, c, true);
+}
+
+TEST(FunctionalDimension, ReluOutputZeroLevelMissesTheGraph) {
+  // g = 1 + h1 + h2 >= 1 > 0: the output ReLU is on everywhere, F = g, a
+  // generic shallow net with m = 2: 2*2 + 1 = 5 (previous test). 3 regions.
+  const FunctionalDimensionResult result =
+      certify_on_whole_space(relu_output_network(1, 1, 1), false);
+  ASSERT_TRUE(result.certified);
+  EXPECT_EQ(result.parametric_dimension, 7u);
+  EXPECT_EQ(result.scaling_bound, 5u);
+  EXPECT_EQ(*result.functional_dimension, 5u);
+  EXPECT_EQ(result.regions_walked, 3u);
+}
+
+TEST(FunctionalDimension, ReluOutputZeroLevelCutsOutsideTheBreakpoints) {
+  // g = 1 - h1 - h2: 1 on [-1, 1], slope -1 beyond; zero at x = +-2. F is a
+  // trapezoid. g > 0 at both of its breakpoints, so F determines every affine
+  // piece of g (each piece of g meets the set {g > 0} in an interval), hence g
+  // itself: still 5. Regions: cuts at -2, -1, 1, 2 -> 5.
+  const FunctionalDimensionResult result =
+      certify_on_whole_space(relu_output_network(-1, -1, 1), false);
+  ASSERT_TRUE(result.certified);
+  EXPECT_EQ(*result.functional_dimension, 5u);
+  EXPECT_LE(*result.functional_dimension, result.scaling_bound);
+  EXPECT_EQ(result.regions_walked, 5u);
+}
+
+TEST(FunctionalDimension, ReluOutputZeroLevelHidesTheMiddle) {
+  // g = -3 + h1 + h2: -3 on [-1, 1], F = 0 on [-4, 4], F = x - 4 for x > 4
+  // and -x - 4 for x < -4. Only the two outer lines are seen: on x > 4,
+  // F = v1 (w1 x + b1) + c with rows d(v1 w1) = e_w1 + e_v1 and
+  // d(v1 b1 + c) = e_b1 - e_v1 + e_c; on x < -4 likewise
+  // e_w2 - e_v2 and e_b2 - e_v2 + e_c; every other region has F = 0 and zero
+  // rows. These 4 rows are independent: value 4 < 5. The extra flat direction
+  // (beyond the scaling ones e_w1 - e_b1 - e_v1 and -e_w2 - e_b2 - e_v2) is
+  // moving c while both biases follow: e_b1 + e_b2 - e_c (orthogonal to all 4
+  // rows, and already free of the scaling pivots W1[0,0], W1[1,0]).
+  const Network network = relu_output_network(1, 1, -3);
+  const FunctionalDimensionResult result = certify_on_whole_space(network, false);
+  ASSERT_TRUE(result.certified);
+  EXPECT_EQ(*result.functional_dimension, 4u);
+  EXPECT_EQ(result.scaling_bound, 5u);
+  EXPECT_EQ(result.regions_walked, 5u);  // cuts at -4, -1, 1, 4
+  ASSERT_EQ(result.extra_kernel.size(), 1u);
+  const std::map<std::string, Rational> expected{{"b1[0]", 1}, {"b1[1]", 1}, {"b2[0]", -1}};
+  EXPECT_EQ(named(network, result.extra_kernel[0].vector), expected);
+  // Not one of the named mechanisms (the hidden neurons are neither dead nor
+  // always on, nor copies): the explanation must not pretend otherwise.
+  EXPECT_EQ(result.extra_kernel[0].mechanism, "");
+}
+
+TEST(FunctionalDimension, ReluOutputNeverPositiveIsZero) {
+  // g = -1 - h1 - h2 <= -1: F = 0 everywhere, every row is zero: value 0.
+  const FunctionalDimensionResult result =
+      certify_on_whole_space(relu_output_network(-1, -1, -1), false);
+  ASSERT_TRUE(result.certified);
+  EXPECT_EQ(*result.functional_dimension, 0u);
+  EXPECT_EQ(result.regions_walked, 3u);
+}
+
+// A dead neuron in 1-D: m neurons, neuron `dead` with zero incoming weight
+// and bias -2, so its pre-activation is the constant -2: off on all of R.
+// Every row has zero entries in its three parameters (dF/dw = v 1[on] x = 0,
+// dF/db = v 1[on] = 0, dF/dv = relu(-2) = 0), so the rank is that of the other
+// m - 1 generic neurons: 2(m - 1) + 1 (first test). The scaling bound is
+// still 2m + 1 (the dead neuron's scaling direction (0, -2, -v) is nonzero),
+// so 2 directions beyond the scaling ones: its 3-dimensional parameter
+// block minus its scaling direction. Both must be named dead-neuron with
+// that neuron.
+TEST(FunctionalDimension, DeadNeuronIn1DGives2mMinus1) {
+  for (std::size_t m = 2; m <= 5; ++m) {
+    for (std::size_t dead : {std::size_t{0}, m - 1}) {
+      SCOPED_TRACE("m = " + std::to_string(m) + ", dead neuron " + std::to_string(dead));
+      Network network = generic_shallow(m);
+      network.layers[0].weights(dead, 0) = 0;
+      network.layers[0].bias[dead] = -2;
+      const FunctionalDimensionResult result = certify_on_whole_space(network);
+      ASSERT_TRUE(result.certified);
+      EXPECT_EQ(result.scaling_bound, 2 * m + 1);
+      EXPECT_EQ(*result.functional_dimension, 2 * (m - 1) + 1);
+      ASSERT_EQ(result.extra_kernel.size(), 2u);
+      for (const auto& direction : result.extra_kernel) {
+        EXPECT_EQ(direction.mechanism, "dead-neuron");
+        EXPECT_EQ(direction.neurons, std::vector<std::size_t>{dead});
+        // Supported on the dead neuron's own parameters only.
+        for (const auto& [name, value] : named(network, direction.vector)) {
+          const std::string index = std::to_string(dead);
+          EXPECT_TRUE(name == "W1[" + index + ",0]" || name == "b1[" + index + "]" || name == "W2[0," + index + "]")
+              << name;
+        }
+      }
+    }
+  }
+}
+
+// data/degenerate2d.json (2 -> 4 -> 3 -> 1; data/README.md): neurons 1 and 2
+// are copies, neuron 5 (second layer, index 1) is dead.
+// D = 3*4 + 5*3 + 4*1 = 31; 7 hidden neurons, independent scaling directions
+// (each is the only one touching its own first incoming weight): bound 24.
+// By hand: the dead neuron's 6 parameters W2[1,0..3], b2[1], W3[0,1] do
+// not matter (inputs >= 0, incoming weights < 0, bias -0.5; and a small
+// change keeps that so): 6 kernel directions, one of them its scaling
+// direction, 5 beyond. The copies have h1 = h2, so layer 2 sees only
+// W2[o,1] + W2[o,2]: W2[o,1] - W2[o,2] is flat for o = 0, 1, 2, and o = 1
+// (the dead neuron's row) is already counted: 2 more. Remaining live
+// parameters: 31 - 6 = 25, minus 6 live scaling directions = 19, minus 2 = 17.
+// The copies' incoming weights add nothing flat: their backward signals
+// W2[0,i]*1.3*[n4 on] - W2[2,i]*0.7*[n6 on] have ratios -1.5/0.9 and 0.6/0.25
+// for i = 1, 2 in regions where only neuron 4 or only neuron 6 is on, and both
+// neurons change sign (README), so no fixed combination cancels everywhere.
+// The printed basis is the RREF modulo the scaling directions, in parameter
+// order; each scaling direction's pivot is its neuron's first incoming weight,
+// so no vector below has an entry there.
+TEST(FunctionalDimension, Degenerate2dExampleIs17WithSevenNamedDirections) {
+  const Network network = read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json");
+  const FunctionalDimensionResult result = certify_on_whole_space(network);
+  ASSERT_TRUE(result.certified);
+  EXPECT_FALSE(result.early_stop);  // 17 < 24: the kernel side certifies it
+  EXPECT_EQ(result.parametric_dimension, 31u);
+  EXPECT_EQ(result.scaling_bound, 24u);
+  EXPECT_EQ(*result.functional_dimension, 17u);
+  EXPECT_EQ(result.kernel.rows(), 31u - 17u);
+
+  using Named = std::map<std::string, Rational>;
+  const std::vector<std::pair<Named, std::string>> expected{
+      {{{"W2[0,1]", 1}, {"W2[0,2]", -1}}, "duplicate-neurons"},
+      {{{"W2[1,1]", 1}}, "dead-neuron"},
+      {{{"W2[1,2]", 1}}, "dead-neuron"},
+      {{{"W2[1,3]", 1}}, "dead-neuron"},
+      {{{"W2[2,1]", 1}, {"W2[2,2]", -1}}, "duplicate-neurons"},
+      {{{"b2[1]", 1}}, "dead-neuron"},
+      {{{"W3[0,1]", 1}}, "dead-neuron"},
+  };
+  ASSERT_EQ(result.extra_kernel.size(), expected.size());
+  for (std::size_t i = 0; i < expected.size(); ++i) {
+    SCOPED_TRACE("extra direction " + std::to_string(i));
+    EXPECT_EQ(named(network, result.extra_kernel[i].vector), expected[i].first);
+    EXPECT_EQ(result.extra_kernel[i].mechanism, expected[i].second);
+    const std::vector<std::size_t> neurons =
+        expected[i].second == "dead-neuron" ? std::vector<std::size_t>{5} : std::vector<std::size_t>{1, 2};
+    EXPECT_EQ(result.extra_kernel[i].neurons, neurons);
+  }
+  // The directions really are flat: every region's exact rows annihilate them.
+  for (const Region& region : all_regions(network)) {
+    const RationalMatrix blocks = coefficient_blocks(network, region.pattern);
+    for (const auto& direction : result.extra_kernel)
+      for (const Rational& entry : product(blocks, direction.vector)) EXPECT_EQ(entry, 0);
+  }
+}
+
+// ---- Recomputations from the walk ----------------------------------------------
+
+// The raw exact rank of every region's rows, with no clipping: if the code
+// took min(rank, bound) anywhere this is where it would show.
+TEST(FunctionalDimension, RawRankOfTheFullWalkNeverExceedsTheScalingBound) {
+  for (const Network& network : random_networks()) {
+    const FunctionalDimensionResult result =
+        certify(network, make_whole_space(network.input_dim), false, /*keep_rows=*/true);
+    ASSERT_TRUE(result.certified);
+    const std::size_t kept_rank = rank_exact(result.rows);
+    EXPECT_LE(kept_rank, result.scaling_bound);
+    EXPECT_EQ(kept_rank, *result.functional_dimension);
+
+    // Independently: every region's blocks, stacked, from a separate walk.
+    std::vector<RationalMatrix> blocks;
+    for (const Region& region : all_regions(network))
+      if (region.nonsmooth_neurons.empty()) blocks.push_back(coefficient_blocks(network, region.pattern));
+    const std::size_t all_rank = rank_exact(stack(blocks, network.parametric_dimension()));
+    EXPECT_LE(all_rank, result.scaling_bound);
+    EXPECT_EQ(all_rank, *result.functional_dimension);
+    EXPECT_EQ(result.regions_walked, blocks.size() + result.nonsmooth_regions.size());
+  }
+}
+
+TEST(FunctionalDimension, EveryScalingDirectionAnnihilatesEveryRegionsRows) {
+  for (const Network& network : random_networks()) {
+    const RationalMatrix scaling = scaling_directions(network);
+    ASSERT_EQ(scaling.rows(), network.hidden_neuron_count());
+    for (const Region& region : all_regions(network)) {
+      const RationalMatrix blocks = coefficient_blocks(network, region.pattern);
+      bool has_nonzero_row = false;
+      for (std::size_t r = 0; r < blocks.rows(); ++r)
+        for (const Rational& entry : blocks.row(r)) has_nonzero_row = has_nonzero_row || entry != 0;
+      EXPECT_TRUE(has_nonzero_row);  // dc/db_last = 1 always: the check is not vacuous
+      for (std::size_t s = 0; s < scaling.rows(); ++s)
+        for (const Rational& entry : product(blocks, scaling.row(s))) ASSERT_EQ(entry, 0);
+    }
+  }
+}
+
+// n0 + 1 affinely independent points inside the region: its point p and
+// p + delta e_i, delta halved until p + delta e_i is strictly inside every
+// facet (the region is the intersection of its facets' open half-spaces).
+std::vector<RationalVector> interior_points(const Region& region) {
+  std::vector<RationalVector> points{region.point};
+  for (std::size_t i = 0; i < region.point.size(); ++i) {
+    Rational delta(1, 4);
+    for (;;) {
+      RationalVector q = region.point;
+      q[i] += delta;
+      bool is_inside = true;
+      for (const RegionFacet& facet : region.facets) {
+        Rational value = facet.offset;
+        for (std::size_t t = 0; t < q.size(); ++t) value += facet.normal[t] * q[t];
+        is_inside = is_inside && value > 0;
+      }
+      if (is_inside) {
+        points.push_back(q);
+        break;
+      }
+      delta /= 2;
+    }
+  }
+  return points;
+}
+
+TEST(FunctionalDimension, CoefficientBlocksAndInteriorJacobiansGiveIdenticalRanks) {
+  for (const Network& network : random_networks()) {
+    const std::size_t columns = network.parametric_dimension();
+    std::vector<RationalMatrix> all_blocks, all_jacobians;
+    for (const Region& region : all_regions(network)) {
+      std::vector<RationalMatrix> jacobians;
+      for (const RationalVector& x : interior_points(region)) {
+        ASSERT_EQ(region_pattern_at(network, x), region.pattern);  // really inside
+        jacobians.push_back(parameter_jacobian_exact(network, x));
+      }
+      const RationalMatrix blocks = coefficient_blocks(network, region.pattern);
+      const RationalMatrix stacked = stack(jacobians, columns);
+      // Per region: the same row space, not only the same rank.
+      EXPECT_EQ(row_space_basis_exact(blocks), row_space_basis_exact(stacked));
+      all_blocks.push_back(blocks);
+      all_jacobians.push_back(stacked);
+    }
+    const std::size_t from_blocks = rank_exact(stack(all_blocks, columns));
+    EXPECT_EQ(from_blocks, rank_exact(stack(all_jacobians, columns)));
+    EXPECT_EQ(from_blocks, *certify_on_whole_space(network, false).functional_dimension);
+  }
+}
+
+// ---- Runs that stop early ------------------------------------------------------
+
+void expect_uncertified_but_ordered(const FunctionalDimensionResult& result) {
+  EXPECT_FALSE(result.certified);
+  EXPECT_FALSE(result.functional_dimension.has_value());
+  EXPECT_FALSE(result.walk_complete);
+  EXPECT_LE(result.lower_bound, result.upper_bound);
+  EXPECT_LE(result.upper_bound, result.scaling_bound);
+}
+
+TEST(FunctionalDimension, RunCutShortNeverSaysCertified) {
+  // fold2d: 84 regions, value 48 (= its scaling bound); ramp1d: 6 regions,
+  // value 11, reached only with all 6 (each interval adds 2 rows).
+  for (const char* file : {"/data/fold2d.json", "/data/ramp1d.json", "/data/degenerate2d.json"}) {
+    SCOPED_TRACE(file);
+    const Network network = read_network_file(std::string(PLEAT_SOURCE_DIR) + file);
+    const Domain domain = make_whole_space(network.input_dim);
+    for (bool stop_at_bound : {false, true}) {
+      FunctionalDimensionOptions options;
+      options.walk.threads = 1;
+      options.stop_at_scaling_bound = stop_at_bound;
+      options.walk.max_regions = 1;
+      const FunctionalDimensionResult one = certify_functional_dimension(network, domain, options);
+      expect_uncertified_but_ordered(one);
+      EXPECT_EQ(one.walk.stop_reason, StopReason::max_regions);
+      EXPECT_LE(one.regions_walked, 1u);
+      EXPECT_LE(one.lower_bound, (network.input_dim + 1) * network.output_dim());  // one region's rows
+
+      options.walk.max_regions = 3;
+      const FunctionalDimensionResult three = certify_functional_dimension(network, domain, options);
+      expect_uncertified_but_ordered(three);
+      EXPECT_GE(three.lower_bound, one.lower_bound);
+
+      options.walk.max_regions = 0;
+      options.walk.time_limit_seconds = 1e-9;
+      const FunctionalDimensionResult timed = certify_functional_dimension(network, domain, options);
+      if (timed.walk.stop_reason == StopReason::time_limit) expect_uncertified_but_ordered(timed);
+      else EXPECT_TRUE(timed.walk_complete);  // finished before the first check of the clock
+    }
+  }
+}
+
+TEST(FunctionalDimension, Ramp1dIs11AndBatchAtTheBendsIsRejected) {
+  // ramp1d (data/README.md): 5 neurons with distinct bends on the line,
+  // nonzero outgoing weights: the generic shallow case, 2*5 + 1 = 11.
+  const Network network = read_network_file(PLEAT_SOURCE_DIR "/data/ramp1d.json");
+  EXPECT_EQ(*certify_on_whole_space(network).functional_dimension, 11u);
+  // One point per interval between the bends -1/2, -1/3, 3/8, 2/3, 25/6 and
+  // a second point in each: 12 points, batch value 11.
+  std::vector<RationalVector> points;
+  for (const char* text : {"-1", "-2", "-5/12", "-9/20", "0", "1/10", "1/2", "3/5", "1", "4", "5", "10"})
+    points.push_back({parse_rational(text)});
+  EXPECT_EQ(batch_functional_dimension(network, points), 11u);
+  points.resize(2);  // both in x < -1/2: one region, 2 rows
+  EXPECT_EQ(batch_functional_dimension(network, points), 2u);
+  points.push_back({Rational(3, 8)});  // neuron 1's bend
+  try {
+    batch_functional_dimension(network, points);
+    FAIL() << "a point on a bent hyperplane was accepted";
+  } catch (const input_error& fault) {
+    const std::string message = fault.what();
+    EXPECT_NE(message.find("point 2"), std::string::npos) << message;
+    EXPECT_NE(message.find("neuron 1"), std::string::npos) << message;
+  }
+}
+
+}  // namespace
+}  // namespace pleat
