@@ -11,6 +11,8 @@
 #include <cddlib/cdd.h>
 
 #include <algorithm>
+#include <array>
+#include <map>
 #include <mutex>
 #include <set>
 #include <stdexcept>
@@ -211,6 +213,58 @@ void sort_counter_clockwise(std::vector<RationalVector>& points, const RationalV
     if (half_a != half_b) return half_a < half_b;
     return turn(centre, a, b) > 0;
   });
+}
+
+PlanarComplex planar_complex(const std::vector<Polygon>& polygons) {
+  // Group polygon edges by their supporting line a x + b y + c = 0 (scaled
+  // so the first nonzero of a, b is 1); a point on it is placed by x, or by y
+  // on a vertical line.
+  struct EdgeOnLine {
+    Rational low, high;
+    std::size_t polygon;
+  };
+  struct Line {
+    std::vector<EdgeOnLine> edges;
+    std::map<Rational, RationalVector> points;
+  };
+  std::map<std::array<Rational, 3>, Line> lines;
+  std::set<RationalVector> vertices;
+  for (std::size_t index = 0; index < polygons.size(); ++index) {
+    const auto& corners = polygons[index].vertices;
+    if (corners.size() < 3) continue;
+    for (std::size_t i = 0; i < corners.size(); ++i) {
+      const RationalVector& p = corners[i];
+      const RationalVector& q = corners[(i + 1) % corners.size()];
+      vertices.insert(p);
+      Rational a = q[1] - p[1], b = p[0] - q[0];
+      const Rational scale = a != 0 ? a : b;
+      a /= scale;
+      b /= scale;
+      const Rational c = -(a * p[0] + b * p[1]);
+      const std::size_t axis = b != 0 ? 0 : 1;
+      Line& line = lines[{a, b, c}];
+      line.points.emplace(p[axis], p);
+      line.points.emplace(q[axis], q);
+      line.edges.push_back(EdgeOnLine{std::min(p[axis], q[axis]), std::max(p[axis], q[axis]), index});
+    }
+  }
+  PlanarComplex complex;
+  complex.vertices.assign(vertices.begin(), vertices.end());
+  for (const auto& [key, line] : lines) {
+    for (auto it = line.points.begin(); std::next(it) != line.points.end(); ++it) {
+      const auto next = std::next(it);
+      PlanarEdge edge;
+      for (const auto& e : line.edges)
+        if (e.low <= it->first && next->first <= e.high) edge.polygons.push_back(e.polygon);
+      if (edge.polygons.empty()) continue;
+      std::sort(edge.polygons.begin(), edge.polygons.end());
+      edge.polygons.erase(std::unique(edge.polygons.begin(), edge.polygons.end()), edge.polygons.end());
+      edge.from = std::min(it->second, next->second);
+      edge.to = std::max(it->second, next->second);
+      complex.edges.push_back(std::move(edge));
+    }
+  }
+  return complex;
 }
 
 VertexRepresentation vertex_representation(const lp::Polyhedron& closed, const RationalVector& interior) {

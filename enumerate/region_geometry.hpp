@@ -41,6 +41,24 @@ Rational polygon_area(const Polygon& polygon);
 // (exact angular comparison, no trigonometry). Precondition: size-2 points.
 void sort_counter_clockwise(std::vector<RationalVector>& points, const RationalVector& centre);
 
+// The planar subdivision that polygons tiling a domain form (they may meet
+// at T-junctions: a vertex of one polygon in the middle of another's edge).
+// Its vertices are the distinct polygon vertices; its edges are the pieces of
+// polygon edges between consecutive vertices on one line, each listing the
+// polygons whose boundary holds it (two for an interior edge, one on the
+// outer boundary). For a tiling of a convex polygon, V - E + F = 1 with F the
+// number of polygons. Preconditions: polygons as clip_rectangle returns them,
+// with pairwise disjoint interiors. Exact.
+struct PlanarEdge {
+  RationalVector from, to;             // from < to (lexicographic)
+  std::vector<std::size_t> polygons;   // indices into the input, increasing
+};
+struct PlanarComplex {
+  std::vector<RationalVector> vertices;  // sorted
+  std::vector<PlanarEdge> edges;
+};
+PlanarComplex planar_complex(const std::vector<Polygon>& polygons);
+
 // ---- Any dimension ----------------------------------------------------------
 
 // P = conv(points) + cone(rays) + span(lines). When lines is empty, points

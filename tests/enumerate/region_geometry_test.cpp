@@ -167,5 +167,27 @@ TEST(ClipRectangle, WalkedRegionsOfTheExampleTileTheBoxExactly) {
   EXPECT_EQ(total, (upper[0] - lower[0]) * (upper[1] - lower[1]));
 }
 
+TEST(PlanarComplex, TJunctionSplitsTheLongEdgeAndEulerHolds) {
+  // The unit square split by x = 1/2, its right half split by y = 1/2: the
+  // left half's edge x = 1/2 meets two polygons, so it is split at (1/2,1/2).
+  // V = 4 corners + (1/2,0), (1/2,1), (1/2,1/2), (1,1/2) = 8; E = 10; F = 3.
+  const RationalVector lower{Rational(0), Rational(0)}, upper{Rational(1), Rational(1)};
+  const lp::Constraint right{v({2, 0}), Rational(-1)}, left{v({-2, 0}), Rational(1)};
+  const lp::Constraint up{v({0, 2}), Rational(-1)}, down{v({0, -2}), Rational(1)};
+  const std::vector<Polygon> polygons{clip_rectangle(lower, upper, {left}), clip_rectangle(lower, upper, {right, up}),
+                                      clip_rectangle(lower, upper, {right, down})};
+  const PlanarComplex complex = planar_complex(polygons);
+  EXPECT_EQ(complex.vertices.size(), 8u);
+  EXPECT_EQ(complex.edges.size(), 10u);
+  std::size_t interior = 0;
+  for (const auto& edge : complex.edges) {
+    if (edge.polygons.size() == 2) ++interior;
+    if (edge.polygons.size() == 2 && edge.polygons.front() == 0) {  // the two pieces of x = 1/2
+      EXPECT_EQ(edge.from[0], Rational(1, 2));
+    }
+  }
+  EXPECT_EQ(interior, 3u);
+}
+
 }  // namespace
 }  // namespace pleat
