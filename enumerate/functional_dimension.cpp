@@ -281,7 +281,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       contributing.push_back(*failing);
       rows = exact_rows_of(contributing);
     }
-    result.lower_bound = rank_exact(rows);
+    // kernel_basis_exact proves both sides: every kernel row annihilates the
+    // rows exactly (rank <= D - k) and the rows' rank mod p is D - k (rank >= D - k).
+    result.lower_bound = parameters - result.kernel.rows();
     result.upper_bound = parameters - result.kernel.rows();
     result.certified = result.lower_bound == result.upper_bound;
     if (options.keep_rows) result.rows = rows;
