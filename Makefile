@@ -1,5 +1,6 @@
 # Thin wrapper over CMake: the README's two commands.
 #   make demo   install missing Debian packages, build (Release), walk the example
+#               network and certify its functional dimension
 #   make test   the same build, then the whole test suite (ctest)
 BUILD ?= build
 JOBS ?= $(shell nproc)
@@ -17,7 +18,8 @@ build: configure
 	@cmake --build $(BUILD) -j $(JOBS)
 
 demo: build
-	$(BUILD)/cli/pleat eval $(EXAMPLE) --at 1/2,-1/3
+	$(BUILD)/cli/pleat walk $(EXAMPLE)
+	$(BUILD)/cli/pleat certify $(EXAMPLE)
 
 test: build
 	@cd $(BUILD) && ctest --output-on-failure -j $(JOBS)
