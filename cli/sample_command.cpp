@@ -47,6 +47,7 @@ struct SampleArguments {
   bool quiet = false;
   std::uint64_t threads = 0;
   double time_limit = 0;
+  std::string points_path;
 };
 
 // Where the points come from: the standard normal on R^n0, or uniform on an
@@ -275,15 +276,19 @@ int run_sample(const SampleArguments& arguments) {
   PointStream stream(arguments.seed, dist);
   std::vector<DoubleMatrix> jacobians;
   std::unordered_set<ActivationPattern, PatternHash> touched;
+  std::string points_text;  // the points exactly (every double is a dyadic rational)
   for (std::uint64_t i = 0; i < arguments.batch; ++i) {
     const DoubleVector point = stream.next_point(network.input_dim);
     jacobians.push_back(parameter_jacobian_double(double_network, point));
     RationalVector exact;
     for (double coordinate : point) exact.push_back(rational_from_double(coordinate));
+    for (std::size_t c = 0; c < exact.size(); ++c) points_text += (c ? "," : "") + format_rational(exact[c]);
+    points_text += "\n";
     if (auto pattern = region_pattern_at(network, exact)) touched.insert(*pattern);
     else ++result.points_on_bent_hyperplanes;
   }
   result.regions_touched = touched.size();
+  if (!arguments.points_path.empty()) write_output(arguments.points_path, points_text);
   const std::size_t columns = network.parametric_dimension();
   result.rank = numerical_rank(jacobians, jacobians.size(), columns);
 
@@ -331,7 +336,9 @@ constexpr const char* sample_help =
     "R^n0; --dist box:LO,HI draws uniformly from the open box (LO,HI)^n0 (or\n"
     "box:L1,H1,L2,H2,... per axis) and is judged against that box. The stream is\n"
     "seeded (same generator as 'pleat random'; Box-Muller in double), and batch m is\n"
-    "always the first m points of batch K.\n"
+    "always the first m points of batch K. --points-out writes them exactly, so\n"
+    "'pleat certify NET --points FILE' gives the exact rank at the very same points:\n"
+    "when it equals 'rank', rounding was not the reason for a shortfall.\n"
     "\nExamples:\n"
     "  pleat sample data/fold2d.json --batch 40 --seed 1\n"
     "  pleat sample net.json --batch 200 --seed 7 --dist box:-2,2 --json";
@@ -355,6 +362,8 @@ void register_sample(CommandTable& commands) {
   command.add_option("--time-limit", arguments->time_limit,
                      "Stop the certifying walk after this many seconds (then only bounds)")
       ->check(CLI::NonNegativeNumber);
+  command.add_option("--points-out", arguments->points_path,
+                     "Write the sampled points exactly (one per line), e.g. for 'pleat certify --points'");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }
 

@@ -116,6 +116,19 @@ assert rank(rows) == 17, rank(rows)
 assert rank(kernel) == 14
 PY
 
+# ---- an output ReLU whose zero level hides both bends (tests/data): value 4
+# below the scaling bound 5, and the one extra direction (move b2 while both
+# hidden biases follow) has no named mechanism; derivation in
+# tests/enumerate/functional_dimension_test.cpp.
+hidden=$source_dir/tests/data/fd_relu_output_hidden_middle.json
+"$pleat" certify "$hidden" --json -q > "$work/hidden.json" || fail "certify hidden-middle exited $?"
+[ "$(json_get "$work/hidden.json" '(d["parametric_dimension"], d["scaling_bound"], d["functional_dimension"])')" \
+  = "(7, 5, 4)" ] || fail "hidden-middle: $(cat "$work/hidden.json")"
+[ "$(json_get "$work/hidden.json" '[(e["vector"], e["mechanism"]) for e in d["extra_kernel"]]')" \
+  = "[({'b1[0]': '1', 'b1[1]': '1', 'b2[0]': '-1'}, None)]" ] || fail "hidden-middle extra direction"
+out=$("$pleat" certify "$hidden" -q) || fail "human certify exited $?"
+expect_contains "$out" "no recognised mechanism: b1[0]: 1, b1[1]: 1, b2[0]: -1" "unnamed mechanism"
+
 # ---- a run cut short never says certified (fold2d has 84 regions).
 "$pleat" certify "$source_dir/data/fold2d.json" --json -q --full-walk --time-limit 0.000001 > "$work/cut.json" ||
   fail "time-limited certify exited $?"
