@@ -151,12 +151,29 @@ struct Crossing {
   const RationalVector& facet_normal;
 };
 
+// The far side's pre-activation map of layer k, from the near maps below the
+// first layer whose states changed and the far states (in `pattern`) above it.
+AffineMap far_preactivation(const Crossing& crossing, std::size_t k, std::size_t first_changed,
+                            const ActivationPattern& near_pattern, const ActivationPattern& pattern) {
+  const Network& network = crossing.network;
+  AffineMap post = first_changed == 0
+                       ? identity_map(network.input_dim)
+                       : apply_states(crossing.near_maps.preactivation[first_changed - 1],
+                                      std::span(near_pattern.states)
+                                          .subspan(network.first_neuron_of_layer(first_changed - 1),
+                                                   network.layers[first_changed - 1].width()));
+  for (std::size_t j = first_changed; j < k; ++j)
+    post = apply_states(compose_layer(network.layers[j], post),
+                        std::span(pattern.states).subspan(network.first_neuron_of_layer(j), network.layers[j].width()));
+  return compose_layer(network.layers[k], post);
+}
+
 // Decides the far-side states of layers k, k+1, ... given those below (in
-// `pattern`) and appends every completed pattern to `out`. far_post is the
-// far side's post-activation map of layer k-1, or null while every layer
-// below k has its near states (then the near maps serve: no recomputation,
-// which is the common case of a single first-crossed neuron).
-void extend_across(const Crossing& crossing, std::size_t k, const AffineMap* far_post,
+// `pattern`) and appends every completed pattern to `out`. Neurons nonzero at
+// q keep their sign; only a layer with a neuron that vanishes at q needs its
+// far-side map, and that map is the near one while no layer below changed
+// (the common case: no exact map is recomputed at all).
+void extend_across(const Crossing& crossing, std::size_t k, std::size_t first_changed,
                    const ActivationPattern& near_pattern, ActivationPattern& pattern,
                    std::vector<ActivationPattern>& out) {
   const Network& network = crossing.network;
@@ -166,9 +183,11 @@ void extend_across(const Crossing& crossing, std::size_t k, const AffineMap* far
   }
   const RationalVector& values = crossing.values_at_q[k];
   const std::size_t first = network.first_neuron_of_layer(k);
+  const bool has_vanishing = std::any_of(values.begin(), values.end(), [](const Rational& v) { return v == 0; });
   std::optional<AffineMap> recomputed;
-  if (far_post) recomputed = compose_layer(network.layers[k], *far_post);
-  const AffineMap& pre = far_post ? *recomputed : crossing.near_maps.preactivation[k];
+  if (has_vanishing && first_changed < k)
+    recomputed = far_preactivation(crossing, k, first_changed, near_pattern, pattern);
+  const AffineMap& pre = recomputed ? *recomputed : crossing.near_maps.preactivation[k];
   std::vector<std::size_t> transversal;
   for (std::size_t i = 0; i < values.size(); ++i) {
     NeuronState& state = pattern.states[first + i];
@@ -185,15 +204,11 @@ void extend_across(const Crossing& crossing, std::size_t k, const AffineMap* far
   for (std::size_t mask = 0; mask < combinations; ++mask) {
     for (std::size_t b = 0; b < transversal.size(); ++b)
       pattern.states[first + transversal[b]] = (mask >> b) & 1 ? NeuronState::on : NeuronState::off;
-    const auto layer_states = std::span(pattern.states).subspan(first, values.size());
-    const bool is_unchanged =
-        !far_post && std::equal(layer_states.begin(), layer_states.end(), near_pattern.states.begin() + first);
-    if (is_unchanged) {
-      extend_across(crossing, k + 1, nullptr, near_pattern, pattern, out);
-    } else {
-      const AffineMap next = apply_states(pre, layer_states);
-      extend_across(crossing, k + 1, &next, near_pattern, pattern, out);
-    }
+    const bool is_unchanged = std::equal(pattern.states.begin() + static_cast<std::ptrdiff_t>(first),
+                                         pattern.states.begin() + static_cast<std::ptrdiff_t>(first + values.size()),
+                                         near_pattern.states.begin() + static_cast<std::ptrdiff_t>(first));
+    const std::size_t changed = first_changed < k ? first_changed : (is_unchanged ? no_index : k);
+    extend_across(crossing, k + 1, changed, near_pattern, pattern, out);
   }
 }
 
@@ -206,7 +221,7 @@ std::vector<ActivationPattern> patterns_across(const Network& network, const Act
   for (std::size_t k = 0; k < relu_layers(network); ++k) crossing.values_at_q.push_back(near_maps.preactivation[k](q));
   ActivationPattern pattern = near_pattern;
   std::vector<ActivationPattern> out;
-  extend_across(crossing, 0, nullptr, near_pattern, pattern, out);
+  extend_across(crossing, 0, no_index, near_pattern, pattern, out);
   std::sort(out.begin(), out.end());
   out.erase(std::unique(out.begin(), out.end()), out.end());
   return out;
