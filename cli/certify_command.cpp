@@ -217,7 +217,7 @@ int run_certify(const CertifyArguments& arguments) {
   } else {
     print_result(network, domain, result, std::cout);
     if (arguments.claim)
-      std::cout << "claim " << *arguments.claim << "             " << document["claim"]["verdict"].get<std::string>()
+      std::cout << "claim                 " << *arguments.claim << "  " << document["claim"]["verdict"].get<std::string>()
                 << ": " << document["claim"]["reason"].get<std::string>() << "\n";
   }
   return result.walk.stop_reason == StopReason::interrupted ? 130 : 0;
