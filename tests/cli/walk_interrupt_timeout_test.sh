@@ -1,0 +1,30 @@
+#!/usr/bin/env bash
+# KNOWN ISSUE (reported to the owner of cli/signals.cpp): `timeout -s INT T
+# pleat walk ...` must stop the walk cleanly (exit 130, summary printed,
+# regions kept), but in about 1 run in 5 pleat dies silently instead (killed by
+# SIGINT: no summary, no note on stderr). GNU timeout sends the signal to the
+# command and then to its whole process group (without --foreground), so pleat
+# receives SIGINT twice within microseconds; cli/signals.cpp restores SIG_DFL
+# on the first ("a second signal ends the process"), and the second one kills.
+# With `timeout --foreground` (one signal) the walk always stops cleanly
+# (walk_interrupt_test.sh). This test tries up to 20 times and fails at the
+# first silent death.
+set -u
+pleat=$1
+source_dir=$2
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+
+big=$work/big.json
+"$pleat" random --arch 3,12,12,1 --seed 3 -o "$big" || fail "pleat random exited $?"
+for try in $(seq 20); do
+  timeout --preserve-status -s INT 0.4 "$pleat" walk "$big" -o "$work/r.jsonl" --json > "$work/out" 2> "$work/err"
+  status=$?
+  [ $status -eq 130 ] || fail "try $try: exited $status, expected 130"
+  [ -s "$work/out" ] ||
+    fail "KNOWN ISSUE, try $try: pleat died from the second SIGINT sent by timeout: no --json summary" \
+         "($(($(wc -l < "$work/r.jsonl") - 1)) region lines written)"
+  grep -q "interrupted" "$work/err" || fail "try $try: no interruption note on standard error"
+done
+echo "walk under timeout -s INT: 20 clean stops"
