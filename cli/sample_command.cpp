@@ -282,7 +282,10 @@ int run_sample(const SampleArguments& arguments) {
     jacobians.push_back(parameter_jacobian_double(double_network, point));
     RationalVector exact;
     for (double coordinate : point) exact.push_back(rational_from_double(coordinate));
-    for (std::size_t c = 0; c < exact.size(); ++c) points_text += (c ? "," : "") + format_rational(exact[c]);
+    for (std::size_t c = 0; c < exact.size(); ++c) {
+      if (c) points_text += ',';
+      points_text += format_rational(exact[c]);
+    }
     points_text += "\n";
     if (auto pattern = region_pattern_at(network, exact)) touched.insert(*pattern);
     else ++result.points_on_bent_hyperplanes;
