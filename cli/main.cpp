@@ -23,6 +23,7 @@ void register_walk(CommandTable& commands);
 void register_certify(CommandTable& commands);
 void register_sample(CommandTable& commands);
 void register_verify(CommandTable& commands);
+void register_survey(CommandTable& commands);
 
 namespace {
 
@@ -33,6 +34,7 @@ void register_all_commands(CommandTable& commands) {
   register_certify(commands);
   register_sample(commands);
   register_verify(commands);
+  register_survey(commands);
 }
 
 constexpr const char* description =

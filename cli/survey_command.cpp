@@ -1,0 +1,377 @@
+// pleat survey: the certified functional dimension of many random networks of
+// one or more architectures; resumable, shardable, with exact summaries.
+//   pleat survey --arch ... --samples N --seed S -o FILE   run (or resume)
+//   pleat survey summary FILE...                           re-read files
+//   pleat survey plot FILE --out hist.svg|hist.csv         draw the histogram
+//   pleat survey merge A B ... -o ALL                      join shards
+#include "cli/command.hpp"
+#include "cli/common.hpp"
+#include "cli/domain_options.hpp"
+#include "cli/progress.hpp"
+#include "cli/signals.hpp"
+#include "cli/survey_file.hpp"
+#include "cli/survey_report.hpp"
+
+#include <algorithm>
+#include <chrono>
+#include <filesystem>
+#include <iomanip>
+#include <iostream>
+#include <memory>
+#include <optional>
+#include <set>
+#include <sstream>
+
+namespace pleat::cli {
+namespace {
+
+struct SurveyArguments {
+  std::vector<std::string> architectures;
+  std::uint64_t samples = 0;
+  std::optional<std::uint64_t> seed;
+  std::string init = "he";
+  std::uint64_t digits = 6;
+  DomainOptions domain;
+  std::uint64_t threads = 0;
+  double time_limit_each = 0;
+  std::string shard_text = "0/1";
+  std::string output;
+  bool json = false;
+  bool quiet = false;
+  // summary / plot / merge
+  CLI::App* summary_command = nullptr;
+  CLI::App* plot_command = nullptr;
+  CLI::App* merge_command = nullptr;
+  std::vector<std::string> inputs;
+  std::string plot_path;
+  std::string merge_path;
+};
+
+constexpr const char* survey_help =
+    "Sample i of a survey is the network 'pleat random --arch A --seed S --sample i' (same\n"
+    "--init and --digits); each is certified on the domain and written as one JSON line\n"
+    "as soon as it finishes, after a header line with the configuration. Samples run in\n"
+    "parallel, one per thread; every value is the same for any --threads.\n"
+    "Rerunning the same command resumes: samples already in the file are skipped, and a\n"
+    "line cut short by a killed run is rewritten. --shard I/M runs only the samples with\n"
+    "i % M == I, for a cluster job array; 'merge' joins the shards' files.\n"
+    "With --arch given several times, each architecture gets its own file: -o FILE with\n"
+    "'{arch}' in it has that replaced by the widths (2-5-5-1), otherwise the widths are\n"
+    "inserted before the extension (survey.jsonl -> survey.2-5-5-1.jsonl).\n"
+    "Samples cut short by --time-limit-each are kept as bounds, out of the histogram.\n"
+    "\nExamples:\n"
+    "  pleat survey --arch 2,5,5,5,1 --samples 200 --seed 1 -o survey.jsonl\n"
+    "  pleat survey --arch 1,4,1 --arch 1,8,1 --samples 50 --seed 3 -o 'grid-{arch}.jsonl'\n"
+    "  pleat survey --arch 2,10,10,1 --samples 1000 --seed 1 --shard 3/8 -o part3.jsonl\n"
+    "  pleat survey merge part*.jsonl -o survey.jsonl\n"
+    "  pleat survey summary survey.jsonl --json\n"
+    "  pleat survey plot survey.jsonl --out hist.svg";
+
+std::string output_path_for(const std::string& output, const std::vector<std::size_t>& architecture,
+                            bool is_grid) {
+  const std::string widths = architecture_text(architecture, '-');
+  const std::size_t placeholder = output.find("{arch}");
+  if (placeholder != std::string::npos) return std::string(output).replace(placeholder, 6, widths);
+  if (!is_grid) return output;
+  const std::filesystem::path path(output);
+  return (path.parent_path() / (path.stem().string() + "." + widths + path.extension().string())).string();
+}
+
+std::string format_duration(double seconds) {
+  if (seconds < 90) return std::to_string(static_cast<long>(seconds + 0.5)) + " s";
+  if (seconds < 5400) return std::to_string(static_cast<long>(seconds / 60 + 0.5)) + " min";
+  return std::to_string(static_cast<long>(seconds / 3600 + 0.5)) + " h";
+}
+
+std::string format_rate(double rate) {
+  std::ostringstream out;
+  out << std::setprecision(3) << rate;
+  return out.str();
+}
+
+SurveyConfiguration configuration_for(const SurveyArguments& arguments, const std::string& architecture_option) {
+  SurveyConfiguration configuration;
+  configuration.architecture = parse_width_list(architecture_option, "--arch");
+  if (configuration.architecture.size() < 2)
+    throw input_error("--arch: give the input width and at least one layer, e.g. 2,5,5,1");
+  if (arguments.digits < 1 || arguments.digits > 40)
+    throw input_error("--digits: expected 1 to 40, got " + std::to_string(arguments.digits));
+  configuration.init = parse_initialization(arguments.init);
+  configuration.digits = static_cast<int>(arguments.digits);
+  configuration.seed = *arguments.seed;
+  configuration.samples = arguments.samples;
+  configuration.domain = make_domain(arguments.domain, configuration.architecture.front());
+  return configuration;
+}
+
+// Runs (or resumes) one architecture's survey; returns what its file holds.
+SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration& configuration,
+                     const ShardSet& shard, const std::string& path, const std::string& label,
+                     const InterruptGuard& interrupt, ProgressLine& progress, bool& is_interrupted) {
+  SurveyRecord record;
+  record.header = survey_header_json(configuration, shard);
+  record.source = path;
+
+  std::uintmax_t keep_bytes = 0;
+  if (!path.empty() && std::filesystem::exists(path) && std::filesystem::file_size(path) > 0) {
+    SurveyFile existing = read_survey_file(path);
+    if (!existing.header.is_null()) {
+      const std::string difference = header_difference(existing.header, record.header);
+      if (!difference.empty())
+        throw input_error(path + ": holds a different survey ('" + difference + "' is " +
+                          existing.header[difference].dump() + " there, " + record.header[difference].dump() +
+                          " here); use another -o, or delete the file to start over");
+      if (existing.header["shard"] != record.header["shard"])
+        throw input_error(path + ": holds shard " + existing.header["shard"].get<std::string>() +
+                          ", this command runs shard " + format_shard(shard));
+      keep_bytes = existing.complete_bytes;
+      record.samples = std::move(existing.samples);
+      if (existing.has_partial_line)
+        std::cerr << "pleat: " << path << ": dropped a last line cut short by an earlier run\n";
+    }
+  }
+  std::set<std::uint64_t> done;
+  for (const SurveySample& s : record.samples) done.insert(s.sample);
+  std::vector<std::uint64_t> todo;
+  for (std::uint64_t index : shard.indices)
+    for (std::uint64_t i : shard_samples(configuration.samples, index, shard.count))
+      if (!done.count(i)) todo.push_back(i);
+  std::sort(todo.begin(), todo.end());
+
+  std::unique_ptr<SurveyWriter> writer;
+  if (!path.empty()) writer = std::make_unique<SurveyWriter>(path, keep_bytes, record.header);
+  if (!done.empty() && !arguments.quiet)
+    std::cerr << "pleat: " << path << ": resuming, " << done.size() << " samples already there, " << todo.size()
+              << " to run\n";
+
+  const auto started = std::chrono::steady_clock::now();
+  std::size_t finished = 0;
+  SurveyRunOptions options;
+  options.threads = static_cast<unsigned>(arguments.threads);
+  options.time_limit_each = arguments.time_limit_each;
+  options.interrupt = &interrupt.flag();
+  options.on_sample = [&](const SurveySample& sample) {
+    if (writer) writer->write(sample_json(sample));
+    record.samples.push_back(sample);
+    ++finished;
+    const double elapsed = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+    const double rate = static_cast<double>(finished) / std::max(elapsed, 1e-9);
+    progress.update(label + std::to_string(done.size() + finished) + "/" + std::to_string(done.size() + todo.size()) +
+                    " samples, " + format_rate(rate) + "/s, ETA " + format_duration(static_cast<double>(todo.size() - finished) / rate));
+  };
+  const SurveyRunResult result = run_survey(configuration, todo, options);
+  is_interrupted = result.is_interrupted;
+  return record;
+}
+
+int run_survey_command(const SurveyArguments& arguments) {
+  if (arguments.architectures.empty()) throw input_error("--arch is required (e.g. --arch 2,5,5,5,1)");
+  if (!arguments.seed) throw input_error("--seed is required");
+  if (arguments.samples == 0) throw input_error("--samples: give the number of samples (at least 1)");
+  const ShardSet shard = parse_shard(arguments.shard_text, "--shard");
+  if (shard.indices.size() != 1) throw input_error("--shard: give one shard I/M");
+  const bool is_grid = arguments.architectures.size() > 1;
+  if (is_grid && arguments.output == "-") throw input_error("-o: a grid of architectures needs file names");
+
+  // Check every architecture and file name before running anything.
+  std::vector<SurveyConfiguration> configurations;
+  std::vector<std::string> paths;
+  for (const std::string& option : arguments.architectures) {
+    configurations.push_back(configuration_for(arguments, option));
+    paths.push_back(arguments.output.empty() ? "" : output_path_for(arguments.output, configurations.back().architecture, is_grid));
+  }
+  for (std::size_t k = 0; k < paths.size(); ++k)
+    for (std::size_t j = 0; j < k; ++j)
+      if (!paths[k].empty() && paths[k] == paths[j])
+        throw input_error("--arch: " + arguments.architectures[k] + " is given twice");
+
+  ProgressLine progress(arguments.quiet);
+  const InterruptGuard interrupt;
+  std::vector<SurveyRecord> records;
+  bool is_interrupted = false;
+  for (std::size_t k = 0; k < configurations.size() && !is_interrupted; ++k) {
+    const std::string label = "survey " + architecture_text(configurations[k].architecture) +
+                              (is_grid ? " [" + std::to_string(k + 1) + "/" + std::to_string(configurations.size()) + "]" : "") +
+                              ": ";
+    records.push_back(run_one(arguments, configurations[k], shard, paths[k], label, interrupt, progress, is_interrupted));
+  }
+  progress.finish();
+
+  std::vector<SurveySummary> summaries;
+  for (const SurveyRecord& record : records) summaries.push_back(summarize_survey(record.samples));
+  if (arguments.json) {
+    if (records.size() == 1) {
+      std::cout << json_text(summary_to_json(records[0], summaries[0]));
+    } else {
+      Json grid{{"format", "pleat-survey-grid/1"}, {"surveys", Json::array()}};
+      for (std::size_t k = 0; k < records.size(); ++k) grid["surveys"].push_back(summary_to_json(records[k], summaries[k]));
+      std::cout << json_text(grid);
+    }
+  } else if (records.size() == 1) {
+    print_summary(records[0], summaries[0], std::cout);
+  } else {
+    print_grid(records, summaries, std::cout);
+  }
+  if (is_interrupted) {
+    std::cerr << "pleat: interrupted; the finished samples are saved. Run the same command again to resume.\n";
+    return 130;
+  }
+  return 0;
+}
+
+SurveyRecord load_record(const std::string& path) {
+  SurveyFile file = read_survey_file(path);
+  if (file.header.is_null()) throw input_error(path + ": no header line (not a survey file, or empty)");
+  if (file.has_partial_line)
+    std::cerr << "pleat: " << path << ": ignoring a last line cut short (rerun the survey to complete it)\n";
+  return SurveyRecord{std::move(file.header), std::move(file.samples), path};
+}
+
+int run_summary(const SurveyArguments& arguments) {
+  std::vector<SurveyRecord> records;
+  std::vector<SurveySummary> summaries;
+  for (const std::string& path : arguments.inputs) {
+    records.push_back(load_record(path));
+    summaries.push_back(summarize_survey(records.back().samples));
+  }
+  if (arguments.json) {
+    if (records.size() == 1) {
+      std::cout << json_text(summary_to_json(records[0], summaries[0]));
+    } else {
+      Json grid{{"format", "pleat-survey-grid/1"}, {"surveys", Json::array()}};
+      for (std::size_t k = 0; k < records.size(); ++k) grid["surveys"].push_back(summary_to_json(records[k], summaries[k]));
+      std::cout << json_text(grid);
+    }
+  } else if (records.size() == 1) {
+    print_summary(records[0], summaries[0], std::cout);
+  } else {
+    print_grid(records, summaries, std::cout);
+  }
+  return 0;
+}
+
+int run_plot(const SurveyArguments& arguments) {
+  const SurveyRecord record = load_record(arguments.inputs.front());
+  const SurveySummary summary = summarize_survey(record.samples);
+  const std::string extension = std::filesystem::path(arguments.plot_path).extension().string();
+  if (extension == ".svg")
+    write_output(arguments.plot_path, histogram_svg(record, summary));
+  else if (extension == ".csv")
+    write_output(arguments.plot_path, histogram_csv(summary));
+  else
+    throw input_error("--out: expected a file ending in .svg or .csv, got '" + arguments.plot_path + "'");
+  return 0;
+}
+
+// Shards of one survey: equal headers apart from the shard, the same number
+// of shards, no shard twice and no sample twice.
+int run_merge(const SurveyArguments& arguments) {
+  std::vector<SurveyRecord> records;
+  for (const std::string& path : arguments.inputs) records.push_back(load_record(path));
+  const SurveyRecord& first = records.front();
+  const ShardSet first_shard = shard_from_header(first.header, first.source);
+  ShardSet merged;
+  merged.count = first_shard.count;
+  merged.indices.clear();
+  std::vector<SurveySample> samples;
+  std::set<std::uint64_t> seen;
+  for (const SurveyRecord& record : records) {
+    const std::string difference = header_difference(first.header, record.header);
+    if (!difference.empty())
+      throw input_error(record.source + " and " + first.source + " are shards of different surveys ('" +
+                        difference + "' is " + record.header[difference].dump() + " and " +
+                        first.header[difference].dump() + ")");
+    const ShardSet shard = shard_from_header(record.header, record.source);
+    if (shard.count != merged.count)
+      throw input_error(record.source + " splits the survey into " + std::to_string(shard.count) + " shards, " +
+                        first.source + " into " + std::to_string(merged.count) + "; they cannot be merged");
+    for (std::uint64_t index : shard.indices) {
+      if (std::find(merged.indices.begin(), merged.indices.end(), index) != merged.indices.end())
+        throw input_error(record.source + ": shard " + std::to_string(index) + "/" + std::to_string(shard.count) +
+                          " is also in an earlier file (overlapping shards)");
+      merged.indices.push_back(index);
+    }
+    for (const SurveySample& sample : record.samples) {
+      if (!seen.insert(sample.sample).second)
+        throw input_error(record.source + ": sample " + std::to_string(sample.sample) + " is also in an earlier file");
+      samples.push_back(sample);
+    }
+  }
+  std::sort(merged.indices.begin(), merged.indices.end());
+  if (merged.indices.size() == merged.count) merged = ShardSet{};
+  std::sort(samples.begin(), samples.end(),
+            [](const SurveySample& a, const SurveySample& b) { return a.sample < b.sample; });
+  Json header = first.header;
+  header["shard"] = format_shard(merged);
+  std::string text = json_text(header, false);
+  for (const SurveySample& sample : samples) text += json_text(sample_json(sample), false);
+  write_output(arguments.merge_path, text);
+
+  SurveyRecord result{header, samples, arguments.merge_path};
+  const std::uint64_t missing = missing_samples(result);
+  if (!arguments.quiet)
+    std::cerr << "merged " << records.size() << " files: " << samples.size() << " samples, shard "
+              << format_shard(merged) << (missing ? ", " + std::to_string(missing) + " samples still missing" : "")
+              << "\n";
+  return 0;
+}
+
+int run_selected(const SurveyArguments& arguments) {
+  if (arguments.summary_command->parsed()) return run_summary(arguments);
+  if (arguments.plot_command->parsed()) return run_plot(arguments);
+  if (arguments.merge_command->parsed()) return run_merge(arguments);
+  return run_survey_command(arguments);
+}
+
+}  // namespace
+
+void register_survey(CommandTable& commands) {
+  auto arguments = std::make_shared<SurveyArguments>();
+  CLI::App& command = commands.add(
+      "survey", "Certified functional dimension of many random networks: histogram, mean, variance",
+      survey_help, [arguments] { return run_selected(*arguments); });
+  command.add_option("--arch", arguments->architectures,
+                     "Layer widths, input first (repeat for a grid of architectures)")
+      ->allow_extra_args(false)
+      ->type_name("WIDTHS");
+  add_unsigned_option(command, "--samples", arguments->samples, "Number of samples (networks 0 .. N-1)");
+  command
+      .add_option_function<std::string>(
+          "--seed", [arguments](const std::string& text) { arguments->seed = parse_unsigned(text, "--seed"); },
+          "Seed of the generator (0 .. 2^64-1)")
+      ->type_name("N");
+  command.add_option("--init", arguments->init, "Initialization: he (default) or uniform")
+      ->check(CLI::IsMember({"he", "uniform"}))
+      ->type_name("NAME");
+  add_unsigned_option(command, "--digits", arguments->digits,
+                      "Significant decimal digits per parameter, 1 to 40 (default 6)");
+  add_domain_options(command, arguments->domain);
+  add_unsigned_option(command, "--threads", arguments->threads, "Samples run at once (default: all cores)");
+  command.add_option("--time-limit-each", arguments->time_limit_each,
+                     "Stop a sample after this many seconds (kept as bounds)")
+      ->check(CLI::NonNegativeNumber)
+      ->type_name("SECONDS");
+  command.add_option("--shard", arguments->shard_text, "Run only the samples i with i % M == I")
+      ->type_name("I/M");
+  command.add_option("-o,--output", arguments->output, "Write (or resume) the sample lines in FILE")
+      ->type_name("FILE");
+  command.add_flag("--json", arguments->json, "Print the summary as JSON (pleat-survey-summary/1)");
+  command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
+
+  arguments->summary_command = command.add_subcommand("summary", "Summarise survey files (one row per file)");
+  arguments->summary_command->add_option("files", arguments->inputs, "Survey files (pleat-survey/1)")->required();
+  arguments->summary_command->add_flag("--json", arguments->json, "Print the summary as JSON");
+
+  arguments->plot_command = command.add_subcommand("plot", "Draw a survey's histogram as SVG or CSV");
+  arguments->plot_command->add_option("file", arguments->inputs, "Survey file (pleat-survey/1)")
+      ->required()
+      ->expected(1);
+  arguments->plot_command->add_option("--out", arguments->plot_path, "hist.svg or hist.csv")->required();
+
+  arguments->merge_command = command.add_subcommand("merge", "Join the shards of one survey into one file");
+  arguments->merge_command->add_option("files", arguments->inputs, "Shard files (pleat-survey/1)")->required();
+  arguments->merge_command->add_option("-o,--output", arguments->merge_path, "The merged file")->required();
+  arguments->merge_command->add_flag("-q,--quiet", arguments->quiet, "No message on standard error");
+}
+
+}  // namespace pleat::cli

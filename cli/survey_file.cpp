@@ -1,0 +1,240 @@
+#include "cli/survey_file.hpp"
+
+#include "cli/region_json.hpp"
+#include "core/network_io.hpp"
+
+#include <algorithm>
+#include <filesystem>
+#include <fstream>
+#include <set>
+#include <sstream>
+
+namespace pleat::cli {
+
+bool ShardSet::contains(std::uint64_t sample) const {
+  return std::binary_search(indices.begin(), indices.end(), sample % count);
+}
+
+ShardSet parse_shard(std::string_view text, std::string_view what) {
+  const std::string prefix = std::string(what) + ": ";
+  const std::size_t slash = text.find('/');
+  if (slash == std::string_view::npos)
+    throw input_error(prefix + "expected I/M (shard I of M, 0 <= I < M), got '" + std::string(text) + "'");
+  ShardSet shard;
+  shard.count = parse_unsigned(text.substr(slash + 1), what);
+  if (shard.count == 0) throw input_error(prefix + "the number of shards M must be positive");
+  shard.indices.clear();
+  std::string_view list = text.substr(0, slash);
+  while (true) {
+    const std::size_t comma = list.find(',');
+    const std::uint64_t index = parse_unsigned(list.substr(0, comma), what);
+    if (index >= shard.count)
+      throw input_error(prefix + "shard index " + std::to_string(index) + " is not below " +
+                        std::to_string(shard.count) + " (shards are numbered from 0)");
+    shard.indices.push_back(index);
+    if (comma == std::string_view::npos) break;
+    list = list.substr(comma + 1);
+  }
+  std::sort(shard.indices.begin(), shard.indices.end());
+  if (std::adjacent_find(shard.indices.begin(), shard.indices.end()) != shard.indices.end())
+    throw input_error(prefix + "a shard index is repeated");
+  if (shard.indices.size() == shard.count) shard = ShardSet{};  // every shard: the whole survey
+  return shard;
+}
+
+std::string format_shard(const ShardSet& shard) {
+  std::string text;
+  for (std::size_t k = 0; k < shard.indices.size(); ++k) {
+    if (k) text += ',';
+    text += std::to_string(shard.indices[k]);
+  }
+  return text + "/" + std::to_string(shard.count);
+}
+
+std::string architecture_text(const std::vector<std::size_t>& architecture, char separator) {
+  std::string text;
+  for (std::size_t k = 0; k < architecture.size(); ++k) {
+    if (k) text += separator;
+    text += std::to_string(architecture[k]);
+  }
+  return text;
+}
+
+Json survey_header_json(const SurveyConfiguration& configuration, const ShardSet& shard) {
+  Json header;
+  header["format"] = "pleat-survey/1";
+  header["generator"] = "pleat-random/1";
+  header["arch"] = configuration.architecture;
+  header["init"] = std::string(initialization_name(configuration.init));
+  header["digits"] = configuration.digits;
+  header["seed"] = configuration.seed;
+  header["samples"] = configuration.samples;
+  header["domain"] = domain_to_json(configuration.domain);
+  header["shard"] = format_shard(shard);
+  return header;
+}
+
+std::string header_difference(const Json& first, const Json& second) {
+  for (const auto& [key, value] : first.items())
+    if (key != "shard" && (!second.contains(key) || second[key] != value)) return key;
+  for (const auto& [key, value] : second.items())
+    if (key != "shard" && !first.contains(key)) return key;
+  return "";
+}
+
+Json sample_json(const SurveySample& sample) {
+  Json line;
+  line["sample"] = sample.sample;
+  line["functional_dimension"] = sample.functional_dimension ? Json(*sample.functional_dimension) : Json(nullptr);
+  line["certified"] = sample.certified;
+  line["lower_bound"] = sample.lower_bound;
+  line["upper_bound"] = sample.upper_bound;
+  line["scaling_bound"] = sample.scaling_bound;
+  line["parametric_dimension"] = sample.parametric_dimension;
+  line["regions"] = sample.regions;
+  line["early_stop"] = sample.early_stop;
+  line["stop_reason"] = sample.stop_reason.empty() ? Json(nullptr) : Json(sample.stop_reason);
+  line["seconds"] = sample.seconds;
+  return line;
+}
+
+namespace {
+
+template <typename T>
+T required(const Json& document, const char* key, const std::string& where) {
+  if (!document.contains(key)) throw input_error(where + ": missing key '" + key + "'");
+  try {
+    return document.at(key).get<T>();
+  } catch (const Json::exception&) {
+    throw input_error(where + ": key '" + key + "' has the wrong type");
+  }
+}
+
+}  // namespace
+
+SurveySample sample_from_json(const Json& line, const std::string& where) {
+  if (!line.is_object()) throw input_error(where + ": expected a JSON object");
+  SurveySample sample;
+  sample.sample = required<std::uint64_t>(line, "sample", where);
+  if (line.contains("functional_dimension") && !line["functional_dimension"].is_null())
+    sample.functional_dimension = required<std::size_t>(line, "functional_dimension", where);
+  sample.certified = required<bool>(line, "certified", where);
+  if (sample.certified != sample.functional_dimension.has_value())
+    throw input_error(where + ": 'certified' and 'functional_dimension' disagree");
+  sample.lower_bound = required<std::size_t>(line, "lower_bound", where);
+  sample.upper_bound = required<std::size_t>(line, "upper_bound", where);
+  sample.scaling_bound = required<std::size_t>(line, "scaling_bound", where);
+  sample.parametric_dimension = required<std::size_t>(line, "parametric_dimension", where);
+  sample.regions = required<std::size_t>(line, "regions", where);
+  sample.early_stop = required<bool>(line, "early_stop", where);
+  if (line.contains("stop_reason") && !line["stop_reason"].is_null())
+    sample.stop_reason = required<std::string>(line, "stop_reason", where);
+  sample.seconds = required<double>(line, "seconds", where);
+  return sample;
+}
+
+SurveyConfiguration configuration_from_header(const Json& header, const std::string& where) {
+  if (!header.is_object() || !header.contains("format") || header["format"] != "pleat-survey/1")
+    throw input_error(where + ": not a survey file (the first line should have \"format\": \"pleat-survey/1\")");
+  SurveyConfiguration configuration;
+  configuration.architecture = required<std::vector<std::size_t>>(header, "arch", where);
+  if (configuration.architecture.size() < 2) throw input_error(where + ": 'arch' needs at least two widths");
+  configuration.init = parse_initialization(required<std::string>(header, "init", where));
+  configuration.digits = required<int>(header, "digits", where);
+  configuration.seed = required<std::uint64_t>(header, "seed", where);
+  configuration.samples = required<std::uint64_t>(header, "samples", where);
+  const std::size_t dim = configuration.architecture.front();
+  const Json domain = header.contains("domain") ? header["domain"] : Json(nullptr);
+  if (domain.is_string() && domain.get<std::string>() == "R^" + std::to_string(dim)) {
+    configuration.domain = make_whole_space(dim);
+  } else if (domain.is_object() && domain.contains("box")) {
+    RationalVector lower, upper;
+    for (const Json& interval : domain["box"]) {
+      lower.push_back(parse_rational(interval.at(0).get<std::string>()));
+      upper.push_back(parse_rational(interval.at(1).get<std::string>()));
+    }
+    if (lower.size() != dim) throw input_error(where + ": the box's dimension differs from the input width");
+    configuration.domain = make_box(lower, upper);
+  } else if (domain.is_object() && domain.contains("constraints")) {
+    const PolytopeDocument document = parse_domain(domain.dump());
+    std::vector<lp::Constraint> constraints;
+    for (const auto& [normal, offset] : document.constraints) constraints.push_back(lp::Constraint{normal, offset});
+    configuration.domain = make_polytope(dim, std::move(constraints));
+  } else {
+    throw input_error(where + ": unreadable 'domain'");
+  }
+  return configuration;
+}
+
+ShardSet shard_from_header(const Json& header, const std::string& where) {
+  return parse_shard(required<std::string>(header, "shard", where), where + ": shard");
+}
+
+SurveyFile read_survey_file(const std::string& path) {
+  std::ifstream stream(path, std::ios::binary);
+  if (!stream) throw input_error(path + ": cannot open");
+  std::ostringstream buffer;
+  buffer << stream.rdbuf();
+  const std::string text = buffer.str();
+
+  SurveyFile file;
+  SurveyConfiguration configuration;
+  ShardSet shard;
+  std::set<std::uint64_t> seen;
+  std::size_t start = 0;
+  for (std::size_t number = 1; start < text.size(); ++number) {
+    const std::size_t end = text.find('\n', start);
+    const bool is_last = end == std::string::npos || end + 1 == text.size();
+    const std::string where = path + ":" + std::to_string(number);
+    const std::string line = text.substr(start, end == std::string::npos ? std::string::npos : end - start);
+    Json document = Json::parse(line, nullptr, false);
+    if (end == std::string::npos || document.is_discarded()) {
+      // A run killed while writing leaves one cut line at the very end.
+      if (is_last) {
+        file.has_partial_line = true;
+        break;
+      }
+      throw input_error(where + ": not a JSON line (only the last line of a survey file may be cut short)");
+    }
+    if (number == 1) {
+      configuration = configuration_from_header(document, where);
+      shard = shard_from_header(document, where);
+      file.header = std::move(document);
+    } else {
+      SurveySample sample = sample_from_json(document, where);
+      if (sample.sample >= configuration.samples)
+        throw input_error(where + ": sample " + std::to_string(sample.sample) + " is beyond the survey's " +
+                          std::to_string(configuration.samples) + " samples");
+      if (!shard.contains(sample.sample))
+        throw input_error(where + ": sample " + std::to_string(sample.sample) + " does not belong to shard " +
+                          format_shard(shard));
+      if (!seen.insert(sample.sample).second)
+        throw input_error(where + ": sample " + std::to_string(sample.sample) + " appears twice");
+      file.samples.push_back(std::move(sample));
+    }
+    start = end + 1;
+    file.complete_bytes = start;
+  }
+  return file;
+}
+
+SurveyWriter::SurveyWriter(const std::string& path, std::uintmax_t keep_bytes, const Json& header) : path_(path) {
+  std::error_code error;
+  if (keep_bytes > 0) std::filesystem::resize_file(path, keep_bytes, error);
+  if (error) throw input_error(path + ": cannot truncate the cut last line: " + error.message());
+  file_ = std::fopen(path.c_str(), keep_bytes > 0 ? "ab" : "wb");
+  if (!file_) throw input_error(path + ": cannot open for writing");
+  if (keep_bytes == 0) write(header);
+}
+
+SurveyWriter::~SurveyWriter() {
+  if (file_) std::fclose(file_);
+}
+
+void SurveyWriter::write(const Json& line) {
+  const std::string text = json_text(line, false);
+  if (std::fwrite(text.data(), 1, text.size(), file_) != text.size() || std::fflush(file_) != 0)
+    throw input_error(path_ + ": write failed");
+}
+
+}  // namespace pleat::cli

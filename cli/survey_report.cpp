@@ -1,0 +1,263 @@
+#include "cli/survey_report.hpp"
+
+#include "cli/survey_file.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <iomanip>
+#include <sstream>
+
+namespace pleat::cli {
+namespace {
+
+std::string decimal(const Rational& value, int digits = 6) {
+  std::ostringstream out;
+  out << std::setprecision(digits) << to_double(value);
+  return out.str();
+}
+
+Json optional_rational(const std::optional<Rational>& value) {
+  return value ? Json(format_rational(*value)) : Json(nullptr);
+}
+
+// The values the histogram spans: smallest to largest certified value, with
+// the scaling bound included so its marker always has a place.
+std::pair<std::size_t, std::size_t> histogram_range(const SurveySummary& summary) {
+  std::size_t low = SIZE_MAX, high = 0;
+  if (!summary.histogram.empty()) {
+    low = summary.histogram.begin()->first;
+    high = summary.histogram.rbegin()->first;
+  }
+  if (summary.scaling_bound) {
+    low = std::min(low, *summary.scaling_bound);
+    high = std::max(high, *summary.scaling_bound);
+  }
+  return {low, high};
+}
+
+std::string describe_configuration(const Json& header) {
+  std::string domain = header["domain"].is_string() ? header["domain"].get<std::string>() : header["domain"].dump();
+  std::string text = "init " + header["init"].get<std::string>() + ", " + std::to_string(header["digits"].get<int>()) +
+                     " digits, seed " + std::to_string(header["seed"].get<std::uint64_t>()) + ", domain " + domain;
+  if (header["shard"] != "0/1") text += ", shard " + header["shard"].get<std::string>();
+  return text;
+}
+
+std::string escape_xml(const std::string& text) {
+  std::string out;
+  for (char c : text) {
+    switch (c) {
+      case '&': out += "&amp;"; break;
+      case '<': out += "&lt;"; break;
+      case '>': out += "&gt;"; break;
+      case '"': out += "&quot;"; break;
+      default: out += c;
+    }
+  }
+  return out;
+}
+
+// A round step (1, 2 or 5 times a power of ten) giving about five ticks.
+std::size_t tick_step(std::size_t maximum) {
+  std::size_t step = 1;
+  while (true) {
+    for (std::size_t factor : {1, 2, 5})
+      if (maximum / (step * factor) <= 5) return step * factor;
+    step *= 10;
+  }
+}
+
+}  // namespace
+
+std::uint64_t missing_samples(const SurveyRecord& record) {
+  const ShardSet shard = shard_from_header(record.header, record.source);
+  const std::uint64_t total = record.header["samples"].get<std::uint64_t>();
+  std::uint64_t planned = 0;
+  for (std::uint64_t index : shard.indices)
+    if (index < total) planned += (total - index + shard.count - 1) / shard.count;
+  return planned - record.samples.size();
+}
+
+Json summary_to_json(const SurveyRecord& record, const SurveySummary& summary) {
+  Json out;
+  out["format"] = "pleat-survey-summary/1";
+  for (const char* key : {"arch", "init", "digits", "seed", "domain", "shard"}) out[key] = record.header[key];
+  out["samples_planned"] = record.header["samples"];
+  out["samples"] = summary.samples;
+  out["missing"] = missing_samples(record);
+  out["certified"] = summary.certified;
+  out["uncertified"] = summary.uncertified;
+  Json histogram = Json::object();
+  for (const auto& [value, count] : summary.histogram) histogram[std::to_string(value)] = count;
+  out["histogram"] = histogram;
+  out["mean"] = optional_rational(summary.mean);
+  out["variance"] = optional_rational(summary.variance);
+  out["modes"] = summary.modes;
+  out["scaling_bound"] = summary.scaling_bound ? Json(*summary.scaling_bound) : Json(nullptr);
+  out["at_scaling_bound"] = optional_rational(summary.at_scaling_bound_fraction);
+  out["at_scaling_bound_count"] = summary.at_scaling_bound;
+  Json cut = Json::array();
+  for (const SurveySample& s : summary.uncertified_samples)
+    cut.push_back({{"sample", s.sample},
+                   {"lower_bound", s.lower_bound},
+                   {"upper_bound", s.upper_bound},
+                   {"stop_reason", s.stop_reason.empty() ? Json(nullptr) : Json(s.stop_reason)}});
+  out["uncertified_samples"] = cut;
+  double seconds = 0;
+  for (const SurveySample& s : record.samples) seconds += s.seconds;
+  out["sample_seconds"] = seconds;
+  return out;
+}
+
+void print_summary(const SurveyRecord& record, const SurveySummary& summary, std::ostream& out) {
+  const auto& header = record.header;
+  out << "survey                " << architecture_text(header["arch"].get<std::vector<std::size_t>>()) << "  ("
+      << describe_configuration(header) << ")\n";
+  out << "samples               " << summary.samples << " of " << summary.samples + missing_samples(record) << ": "
+      << summary.certified << " certified, " << summary.uncertified << " cut short by the time limit\n";
+  if (summary.scaling_bound) out << "scaling bound         " << *summary.scaling_bound << "\n";
+  if (summary.histogram.empty()) {
+    out << "no certified samples yet\n";
+  } else {
+    out << "functional dimension  count\n";
+    std::size_t most = 0;
+    for (const auto& [value, count] : summary.histogram) most = std::max(most, count);
+    for (const auto& [value, count] : summary.histogram) {
+      const std::size_t bar = (count * 40 + most - 1) / most;
+      out << "  " << std::setw(6) << value << "  " << std::setw(8) << count << "  " << std::string(bar, '#')
+          << (summary.scaling_bound && value == *summary.scaling_bound ? "  <- scaling bound" : "") << "\n";
+    }
+    out << "mean                  " << format_rational(*summary.mean) << "  (" << decimal(*summary.mean) << ")\n";
+    if (summary.variance)
+      out << "variance (n-1)        " << format_rational(*summary.variance) << "  (" << decimal(*summary.variance)
+          << ")\n";
+    out << "modes                ";
+    for (std::size_t mode : summary.modes) out << " " << mode;
+    out << "\n";
+    out << "at the scaling bound  " << summary.at_scaling_bound << " of " << summary.certified
+        << " certified samples (" << decimal(*summary.at_scaling_bound_fraction * 100, 4) << "%)\n";
+  }
+  for (const SurveySample& s : summary.uncertified_samples)
+    out << "cut short             sample " << s.sample << ": between " << s.lower_bound << " and " << s.upper_bound
+        << " (" << (s.stop_reason.empty() ? "stopped" : s.stop_reason) << ")\n";
+}
+
+void print_grid(const std::vector<SurveyRecord>& records, const std::vector<SurveySummary>& summaries,
+                std::ostream& out) {
+  out << std::left << std::setw(20) << "arch" << std::right << std::setw(9) << "samples" << std::setw(11)
+      << "certified" << std::setw(11) << "cut short" << std::setw(12) << "mean" << std::setw(12) << "variance"
+      << std::setw(10) << "modes" << std::setw(9) << "bound" << std::setw(10) << "at bound"
+      << "\n";
+  for (std::size_t k = 0; k < records.size(); ++k) {
+    const SurveySummary& s = summaries[k];
+    std::string modes;
+    for (std::size_t mode : s.modes) {
+      if (!modes.empty()) modes += ',';
+      modes += std::to_string(mode);
+    }
+    out << std::left << std::setw(20) << architecture_text(records[k].header["arch"].get<std::vector<std::size_t>>())
+        << std::right << std::setw(9) << s.samples << std::setw(11) << s.certified << std::setw(11) << s.uncertified
+        << std::setw(12) << (s.mean ? decimal(*s.mean) : "-") << std::setw(12)
+        << (s.variance ? decimal(*s.variance) : "-") << std::setw(10) << (modes.empty() ? "-" : modes)
+        << std::setw(9) << (s.scaling_bound ? std::to_string(*s.scaling_bound) : "-") << std::setw(10)
+        << (s.at_scaling_bound_fraction ? decimal(*s.at_scaling_bound_fraction, 4) : "-") << "\n";
+  }
+  out << "(decimals rounded; --json gives the exact rationals)\n";
+}
+
+std::string histogram_svg(const SurveyRecord& record, const SurveySummary& summary) {
+  // Our palette: a dark slate-teal for bars, a burnt orange dashed line for the
+  // bound; their lightness differs enough to stay apart in greyscale, and the
+  // dash pattern and label say which is which without colour at all.
+  constexpr const char* bar_colour = "#24505a";
+  constexpr const char* bound_colour = "#c05621";
+  constexpr const char* ink = "#222222";
+  constexpr const char* grid = "#d9d9d9";
+  constexpr double width = 720, height = 400;
+  constexpr double left = 64, right = 24, top = 72, bottom = 64;
+  const double plot_width = width - left - right, plot_height = height - top - bottom;
+
+  const auto [low, high] = histogram_range(summary);
+  const bool has_values = low <= high;
+  const std::size_t bins = has_values ? high - low + 1 : 1;
+  std::size_t most = 1;
+  for (const auto& [value, count] : summary.histogram) most = std::max(most, count);
+  const std::size_t step = tick_step(most);
+  // Headroom above the tallest bar for its count.
+  const std::size_t top_count = ((most + most / 10 + step - 1) / step) * step;
+  const double bin_width = plot_width / static_cast<double>(bins);
+  auto x_of = [&](std::size_t value) { return left + (static_cast<double>(value - low) + 0.5) * bin_width; };
+  auto y_of = [&](double count) { return top + plot_height * (1 - count / static_cast<double>(top_count)); };
+
+  std::ostringstream svg;
+  svg << std::fixed << std::setprecision(1);
+  svg << "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" << width << "\" height=\"" << height
+      << "\" viewBox=\"0 0 " << width << " " << height << "\" font-family=\"DejaVu Sans, Arial, sans-serif\">\n";
+  svg << "<rect width=\"100%\" height=\"100%\" fill=\"#ffffff\"/>\n";
+  const std::string arch = architecture_text(record.header["arch"].get<std::vector<std::size_t>>());
+  svg << "<text x=\"" << left << "\" y=\"24\" font-size=\"16\" fill=\"" << ink << "\">Certified functional dimension, "
+      << escape_xml(arch) << " (" << summary.certified << " of " << summary.samples << " samples)</text>\n";
+  svg << "<text x=\"" << left << "\" y=\"42\" font-size=\"12\" fill=\"#555555\">"
+      << escape_xml(describe_configuration(record.header));
+  if (summary.uncertified) svg << "; " << summary.uncertified << " cut short by the time limit, not shown";
+  svg << "</text>\n";
+
+  // Horizontal grid lines and count ticks.
+  for (std::size_t tick = 0; tick <= top_count; tick += step) {
+    const double y = y_of(static_cast<double>(tick));
+    svg << "<line x1=\"" << left << "\" y1=\"" << y << "\" x2=\"" << width - right << "\" y2=\"" << y
+        << "\" stroke=\"" << grid << "\" stroke-width=\"1\"/>\n";
+    svg << "<text x=\"" << left - 8 << "\" y=\"" << y + 4 << "\" font-size=\"12\" text-anchor=\"end\" fill=\"" << ink
+        << "\">" << tick << "</text>\n";
+  }
+  // Bars with their counts.
+  for (const auto& [value, count] : summary.histogram) {
+    const double x = x_of(value) - 0.4 * bin_width, y = y_of(static_cast<double>(count));
+    svg << "<rect x=\"" << x << "\" y=\"" << y << "\" width=\"" << 0.8 * bin_width << "\" height=\""
+        << top + plot_height - y << "\" fill=\"" << bar_colour << "\"><title>" << value << ": " << count
+        << "</title></rect>\n";
+    if (bins <= 40)
+      svg << "<text x=\"" << x_of(value) << "\" y=\"" << y - 4 << "\" font-size=\"11\" text-anchor=\"middle\" fill=\""
+          << ink << "\">" << count << "</text>\n";
+  }
+  // Axes and value ticks (every value when few, else a round step).
+  const double base = top + plot_height;
+  svg << "<line x1=\"" << left << "\" y1=\"" << base << "\" x2=\"" << width - right << "\" y2=\"" << base
+      << "\" stroke=\"" << ink << "\" stroke-width=\"1.5\"/>\n";
+  if (has_values) {
+    const std::size_t value_step = bins <= 24 ? 1 : tick_step(bins / 2);
+    for (std::size_t value = low; value <= high; ++value) {
+      if ((value - low) % value_step != 0 && value != high) continue;
+      svg << "<text x=\"" << x_of(value) << "\" y=\"" << base + 18 << "\" font-size=\"12\" text-anchor=\"middle\" fill=\""
+          << ink << "\">" << value << "</text>\n";
+    }
+  }
+  svg << "<text x=\"" << left + plot_width / 2 << "\" y=\"" << height - 18
+      << "\" font-size=\"13\" text-anchor=\"middle\" fill=\"" << ink << "\">functional dimension (certified)</text>\n";
+  svg << "<text transform=\"translate(18," << top + plot_height / 2 << ") rotate(-90)\" font-size=\"13\" "
+         "text-anchor=\"middle\" fill=\""
+      << ink << "\">samples</text>\n";
+  if (summary.scaling_bound) {
+    const double x = x_of(*summary.scaling_bound) + 0.5 * bin_width;
+    svg << "<line x1=\"" << x << "\" y1=\"" << top << "\" x2=\"" << x << "\" y2=\"" << base << "\" stroke=\""
+        << bound_colour << "\" stroke-width=\"2\" stroke-dasharray=\"6,4\"/>\n";
+    svg << "<text x=\"" << x << "\" y=\"" << top - 8 << "\" font-size=\"12\" text-anchor=\"end\" fill=\""
+        << bound_colour << "\">scaling bound " << *summary.scaling_bound << "</text>\n";
+  }
+  svg << "</svg>\n";
+  return svg.str();
+}
+
+std::string histogram_csv(const SurveySummary& summary) {
+  std::ostringstream csv;
+  csv << "functional_dimension,count,is_scaling_bound\n";
+  const auto [low, high] = histogram_range(summary);
+  for (std::size_t value = low; low <= high && value <= high; ++value) {
+    const auto found = summary.histogram.find(value);
+    csv << value << "," << (found == summary.histogram.end() ? 0 : found->second) << ","
+        << (summary.scaling_bound && value == *summary.scaling_bound ? "true" : "false") << "\n";
+  }
+  return csv.str();
+}
+
+}  // namespace pleat::cli

@@ -1,0 +1,108 @@
+#!/usr/bin/env bash
+# pleat survey: the same lines at --threads 1 and 2; a resumed survey (file cut
+# after some lines and inside a line, or inside the header) equals an
+# uninterrupted one; a different survey in the file is refused; each sample
+# equals 'pleat certify' on 'pleat random --sample i'; the summary's mean and
+# variance equal Python's exact fractions.
+set -u
+pleat=$1
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+[ -x /usr/bin/python3 ] || { echo "no /usr/bin/python3"; exit 77; }
+
+arch=2,4,4,1
+seed=3
+samples=10
+run() { "$pleat" survey --arch $arch --samples $samples --seed $seed -q "$@" > /dev/null; }
+
+# The lines without timing keys, sorted by sample, header first.
+normal() {
+  /usr/bin/python3 - "$1" <<'PY'
+import json, sys
+lines = open(sys.argv[1]).read().splitlines()
+header, rest = json.loads(lines[0]), [json.loads(l) for l in lines[1:]]
+def strip(d):
+    return {k: v for k, v in d.items() if k != "seconds" and not k.endswith("_seconds")}
+print(json.dumps(header, sort_keys=True))
+for d in sorted(rest, key=lambda d: d["sample"]):
+    print(json.dumps(strip(d), sort_keys=True))
+PY
+}
+
+run --threads 1 -o "$work/one.jsonl" || fail "survey at 1 thread exited $?"
+run --threads 2 -o "$work/two.jsonl" || fail "survey at 2 threads exited $?"
+[ "$(wc -l < "$work/one.jsonl")" -eq $((samples + 1)) ] || fail "expected a header and $samples lines"
+normal "$work/one.jsonl" > "$work/one.norm"
+normal "$work/two.jsonl" > "$work/two.norm"
+cmp -s "$work/one.norm" "$work/two.norm" || { diff "$work/one.norm" "$work/two.norm" >&2; fail "1 and 2 threads differ"; }
+
+# Resume after a kill: keep the header, 4 lines and half of the fifth.
+head -n 5 "$work/two.jsonl" > "$work/cut.jsonl"
+sed -n 6p "$work/two.jsonl" | head -c 40 >> "$work/cut.jsonl"
+run --threads 2 -o "$work/cut.jsonl" 2> "$work/cut.err" || fail "resume exited $?"
+grep -q "cut short" "$work/cut.err" || fail "resume did not report the cut line: $(cat "$work/cut.err")"
+[ "$(wc -l < "$work/cut.jsonl")" -eq $((samples + 1)) ] || fail "resumed file has $(wc -l < "$work/cut.jsonl") lines"
+normal "$work/cut.jsonl" > "$work/cut.norm" || fail "resumed file does not parse"
+cmp -s "$work/cut.norm" "$work/one.norm" || { diff "$work/cut.norm" "$work/one.norm" >&2; fail "resumed survey differs"; }
+# The 4 kept lines were not recomputed: they are byte for byte the old ones.
+cmp -s <(head -n 5 "$work/cut.jsonl") <(head -n 5 "$work/two.jsonl") || fail "resume rewrote finished lines"
+
+# A cut exactly at a line end, and a file holding only half a header.
+head -n 3 "$work/one.jsonl" > "$work/end.jsonl"
+run -o "$work/end.jsonl" || fail "resume at a line end exited $?"
+cmp -s <(normal "$work/end.jsonl") "$work/one.norm" || fail "resume at a line end differs"
+head -c 30 "$work/one.jsonl" > "$work/header.jsonl"
+run -o "$work/header.jsonl" || fail "resume from half a header exited $?"
+cmp -s <(normal "$work/header.jsonl") "$work/one.norm" || fail "resume from half a header differs"
+# A complete file: nothing to run, nothing changes.
+cp "$work/one.jsonl" "$work/again.jsonl"
+run -o "$work/again.jsonl" || fail "rerun of a complete survey exited $?"
+cmp -s "$work/again.jsonl" "$work/one.jsonl" || fail "rerunning a complete survey changed its file"
+
+# Another survey's file is refused, and left alone.
+"$pleat" survey --arch $arch --samples $samples --seed 4 -q -o "$work/one.jsonl" > /dev/null 2> "$work/other.err"
+[ $? -eq 2 ] || fail "a different seed on an existing file should exit 2"
+grep -q "different survey" "$work/other.err" || fail "unclear message: $(cat "$work/other.err")"
+grep -q "seed" "$work/other.err" || fail "the message does not name the key that differs"
+cmp -s <(normal "$work/one.jsonl") "$work/one.norm" || fail "the refused run touched the file"
+# A broken line in the middle is an error, not silently dropped.
+sed '3s/.*/{"sample": oops/' "$work/one.jsonl" > "$work/broken.jsonl"
+run -o "$work/broken.jsonl" 2> "$work/broken.err" && fail "a broken middle line was accepted"
+grep -q "broken.jsonl:3" "$work/broken.err" || fail "the message does not name the line: $(cat "$work/broken.err")"
+
+# Each sample equals pleat certify on pleat random --sample i.
+for i in 0 4 7; do
+  "$pleat" random --arch $arch --seed $seed --sample $i -o "$work/net$i.json" || fail "pleat random exited $?"
+  certified=$("$pleat" certify "$work/net$i.json" --json -q | /usr/bin/python3 -c 'import json,sys; print(json.load(sys.stdin)["functional_dimension"])')
+  surveyed=$(/usr/bin/python3 -c '
+import json, sys
+for line in open(sys.argv[1]).read().splitlines()[1:]:
+    d = json.loads(line)
+    if d["sample"] == int(sys.argv[2]): print(d["functional_dimension"])' "$work/one.jsonl" $i)
+  [ -n "$certified" ] && [ "$certified" = "$surveyed" ] || fail "sample $i: survey $surveyed, certify $certified"
+done
+
+# Mean and variance (n - 1) against Python's fractions.Fraction and
+# statistics.variance (the standard library's sample variance, exact on Fractions).
+"$pleat" survey summary "$work/one.jsonl" --json > "$work/summary.json" || fail "summary exited $?"
+/usr/bin/python3 - "$work/one.jsonl" "$work/summary.json" <<'PY' || fail "summary statistics disagree with Python's fractions"
+import json, sys, statistics
+from fractions import Fraction
+values = [Fraction(json.loads(l)["functional_dimension"]) for l in open(sys.argv[1]).read().splitlines()[1:]]
+summary = json.load(open(sys.argv[2]))
+assert summary["format"] == "pleat-survey-summary/1"
+assert Fraction(summary["mean"]) == sum(values) / len(values), (summary["mean"], sum(values) / len(values))
+assert Fraction(summary["variance"]) == statistics.variance(values), (summary["variance"], statistics.variance(values))
+assert "/" in summary["mean"] or Fraction(summary["mean"]).denominator == 1
+counts = {}
+for v in values: counts[str(v)] = counts.get(str(v), 0) + 1
+assert summary["histogram"] == counts, (summary["histogram"], counts)
+top = max(counts.values())
+assert summary["modes"] == sorted(int(k) for k, c in counts.items() if c == top)
+bound = summary["scaling_bound"]
+assert bound == 29  # D = 3*4 + 5*4 + 5 = 37, minus 8 hidden neurons
+assert Fraction(summary["at_scaling_bound"]) == Fraction(sum(1 for v in values if v == bound), len(values))
+assert summary["samples"] == len(values) and summary["missing"] == 0 and summary["uncertified"] == 0
+PY
+echo "survey run: ok"

@@ -1,0 +1,126 @@
+#!/usr/bin/env bash
+# pleat survey: shards merged equal the unsharded run; shards of different
+# surveys, overlapping shards and different splits are refused; a grid of
+# architectures writes one file per architecture (1-D one-hidden-layer nets:
+# every sample at 2m+1); samples cut by the time limit are counted, not in the
+# histogram; plot writes SVG and CSV that agree with the summary.
+set -u
+pleat=$1
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+[ -x /usr/bin/python3 ] || { echo "no /usr/bin/python3"; exit 77; }
+
+normal() {
+  /usr/bin/python3 - "$1" <<'PY'
+import json, sys
+lines = open(sys.argv[1]).read().splitlines()
+print(json.dumps(json.loads(lines[0]), sort_keys=True))
+for d in sorted((json.loads(l) for l in lines[1:]), key=lambda d: d["sample"]):
+    print(json.dumps({k: v for k, v in d.items() if k != "seconds"}, sort_keys=True))
+PY
+}
+
+survey() { "$pleat" survey --arch 2,3,3,1 --samples 9 --seed 5 --box -2,2 -q "$@" > /dev/null; }
+survey -o "$work/all.jsonl" || fail "unsharded survey exited $?"
+for i in 0 1 2; do survey --shard $i/3 -o "$work/part$i.jsonl" || fail "shard $i/3 exited $?"; done
+head -n 1 "$work/part1.jsonl" | grep -q '"shard":"1/3"' || fail "shard not recorded in the header"
+/usr/bin/python3 -c '
+import json, sys
+samples = [json.loads(l)["sample"] for l in open(sys.argv[1]).read().splitlines()[1:]]
+assert sorted(samples) == [1, 4, 7], samples' "$work/part1.jsonl" || fail "shard 1/3 ran the wrong samples"
+
+"$pleat" survey merge "$work/part2.jsonl" "$work/part0.jsonl" "$work/part1.jsonl" -o "$work/merged.jsonl" -q ||
+  fail "merge exited $?"
+cmp -s <(normal "$work/merged.jsonl") <(normal "$work/all.jsonl") || {
+  diff <(normal "$work/merged.jsonl") <(normal "$work/all.jsonl") >&2; fail "merged shards differ from the unsharded run"; }
+# A merged file is a whole survey: rerunning the unsharded command adds nothing.
+cp "$work/merged.jsonl" "$work/merged2.jsonl"
+survey -o "$work/merged2.jsonl" || fail "resuming a merged survey exited $?"
+cmp -s "$work/merged.jsonl" "$work/merged2.jsonl" || fail "resuming a complete merged survey changed it"
+
+# Two of three shards merge into "0,2/3", which the third completes.
+"$pleat" survey merge "$work/part0.jsonl" "$work/part2.jsonl" -o "$work/some.jsonl" -q || fail "partial merge exited $?"
+head -n 1 "$work/some.jsonl" | grep -q '"shard":"0,2/3"' || fail "partial merge header: $(head -n 1 "$work/some.jsonl")"
+"$pleat" survey merge "$work/some.jsonl" "$work/part1.jsonl" -o "$work/full.jsonl" -q || fail "merging a merge exited $?"
+cmp -s <(normal "$work/full.jsonl") <(normal "$work/all.jsonl") || fail "merge of a merge differs"
+
+refuse() {  # refuse MESSAGE-PART ARGS...: merge must exit 2 naming the problem
+  local expected=$1; shift
+  "$pleat" survey merge "$@" -o "$work/bad.jsonl" -q 2> "$work/bad.err" > /dev/null
+  [ $? -eq 2 ] || fail "merge $* should be refused"
+  grep -q "$expected" "$work/bad.err" || fail "merge $*: expected '$expected' in: $(cat "$work/bad.err")"
+}
+"$pleat" survey --arch 2,3,3,1 --samples 9 --seed 6 --box -2,2 --shard 1/3 -q -o "$work/other1.jsonl" > /dev/null ||
+  fail "other survey exited $?"
+refuse "different surveys" "$work/part0.jsonl" "$work/other1.jsonl"
+"$pleat" survey --arch 2,3,3,1 --samples 9 --seed 5 --shard 1/3 -q -o "$work/whole1.jsonl" > /dev/null ||
+  fail "survey on R^2 exited $?"
+refuse "'domain'" "$work/part0.jsonl" "$work/whole1.jsonl"
+refuse "overlapping" "$work/part0.jsonl" "$work/part1.jsonl" "$work/part0.jsonl"
+survey --shard 1/2 -o "$work/half1.jsonl" || fail "shard 1/2 exited $?"
+refuse "cannot be merged" "$work/part0.jsonl" "$work/half1.jsonl"
+"$pleat" survey --arch 2,3,3,1 --samples 9 --seed 5 --box -2,2 --shard 3/3 -q -o "$work/x.jsonl" 2> /dev/null
+[ $? -eq 2 ] || fail "--shard 3/3 should be refused"
+# Resuming a file with another shard is refused.
+survey --shard 2/3 -o "$work/part1.jsonl" 2> "$work/shard.err" && fail "another shard's file was accepted"
+grep -q "shard" "$work/shard.err" || fail "unclear shard message: $(cat "$work/shard.err")"
+
+# A grid: one file per architecture; on R with one hidden layer, 1 input and
+# 1 output, every sample is at the scaling bound 2m+1 (derivation in
+# tests/enumerate/survey_test.cpp).
+"$pleat" survey --arch 1,2,1 --arch 1,5,1 --samples 8 --seed 9 --json -q -o "$work/grid.jsonl" > "$work/grid.json" ||
+  fail "grid survey exited $?"
+[ -f "$work/grid.1-2-1.jsonl" ] && [ -f "$work/grid.1-5-1.jsonl" ] || fail "grid files missing: $(ls "$work")"
+/usr/bin/python3 - "$work/grid.json" <<'PY' || fail "grid summary wrong"
+import json, sys
+grid = json.load(open(sys.argv[1]))
+assert grid["format"] == "pleat-survey-grid/1"
+assert [s["arch"] for s in grid["surveys"]] == [[1, 2, 1], [1, 5, 1]]
+for s, m in zip(grid["surveys"], (2, 5)):
+    assert s["histogram"] == {str(2 * m + 1): 8}, s["histogram"]
+    assert s["scaling_bound"] == 2 * m + 1 and s["at_scaling_bound"] == "1" and s["variance"] == "0"
+PY
+"$pleat" survey --arch 1,3,1 --arch 1,4,1 --samples 2 --seed 9 -q -o "$work/g-{arch}-s.jsonl" > "$work/grid.txt" ||
+  fail "grid with {arch} exited $?"
+[ -f "$work/g-1-3-1-s.jsonl" ] && [ -f "$work/g-1-4-1-s.jsonl" ] || fail "{arch} not replaced: $(ls "$work")"
+grep -q "^1,4,1 " "$work/grid.txt" || fail "no grid row for 1,4,1: $(cat "$work/grid.txt")"
+"$pleat" survey summary "$work/g-1-3-1-s.jsonl" "$work/g-1-4-1-s.jsonl" > "$work/grid2.txt" || fail "summary of two files exited $?"
+cmp -s "$work/grid.txt" "$work/grid2.txt" || fail "summary of the grid files differs from the run's table"
+
+# A per-sample time limit far below a sample's cost: every sample is cut
+# short, kept with its bounds, and out of the histogram.
+"$pleat" survey --arch 2,5,5,5,1 --samples 3 --seed 1 --time-limit-each 0.001 --json -q -o "$work/cut.jsonl" \
+  > "$work/cut.json" || fail "time-limited survey exited $?"
+/usr/bin/python3 - "$work/cut.json" "$work/cut.jsonl" <<'PY' || fail "time-limited samples reported wrongly"
+import json, sys
+s = json.load(open(sys.argv[1]))
+assert s["uncertified"] == 3 and s["certified"] == 0 and s["histogram"] == {} and s["mean"] is None, s
+assert [u["sample"] for u in s["uncertified_samples"]] == [0, 1, 2]
+for line in open(sys.argv[2]).read().splitlines()[1:]:
+    d = json.loads(line)
+    assert d["certified"] is False and d["functional_dimension"] is None and d["stop_reason"] == "time-limit"
+    assert d["lower_bound"] <= d["upper_bound"]
+PY
+
+# Plot: SVG with the bound marked, CSV whose counts are the histogram.
+"$pleat" survey plot "$work/all.jsonl" --out "$work/hist.svg" || fail "plot svg exited $?"
+"$pleat" survey plot "$work/all.jsonl" --out "$work/hist.csv" || fail "plot csv exited $?"
+"$pleat" survey summary "$work/all.jsonl" --json > "$work/all.json" || fail "summary exited $?"
+/usr/bin/python3 - "$work/hist.svg" "$work/hist.csv" "$work/all.json" <<'PY' || fail "plot output wrong"
+import csv, json, sys
+import xml.etree.ElementTree as ET
+root = ET.parse(sys.argv[1]).getroot()  # well-formed XML
+text = open(sys.argv[1]).read()
+summary = json.load(open(sys.argv[3]))
+assert "scaling bound %d" % summary["scaling_bound"] in text
+bars = [e for e in root.iter("{http://www.w3.org/2000/svg}rect") if e.find("{http://www.w3.org/2000/svg}title") is not None]
+assert len(bars) == len(summary["histogram"]), (len(bars), summary["histogram"])
+rows = list(csv.DictReader(open(sys.argv[2])))
+counts = {r["functional_dimension"]: int(r["count"]) for r in rows if int(r["count"])}
+assert counts == summary["histogram"], (counts, summary["histogram"])
+assert [r["functional_dimension"] for r in rows if r["is_scaling_bound"] == "true"] == [str(summary["scaling_bound"])]
+PY
+"$pleat" survey plot "$work/all.jsonl" --out "$work/hist.png" 2> /dev/null
+[ $? -eq 2 ] || fail "plot to .png should be refused"
+echo "survey shards: ok"
