@@ -755,15 +755,55 @@ Oracle& Oracle::operator=(Oracle&&) noexcept = default;
 
 const QueryCounts& Oracle::counts() const { return state_->counts; }
 
+namespace {
+
+// One representative per class of positive multiples. GLPK's factorisation
+// can fail an internal assertion (and abort the process) on a basis with
+// repeated rows, so the double filters only ever see representatives, and
+// certificates are mapped back (duplicates get multiplier 0).
+struct Representatives {
+  Polyhedron cell;
+  std::vector<std::vector<std::size_t>> classes;  // original indices, ascending; front is the representative
+  bool has_duplicates = false;
+};
+
+Representatives reduce_to_representatives(const Polyhedron& cell) {
+  Representatives reduced;
+  reduced.cell.dim = cell.dim;
+  if (cell.constraints.empty()) return reduced;
+  reduced.classes = group_positive_multiples(cell, detail::to_double_rows(cell));
+  reduced.has_duplicates = reduced.classes.size() < cell.constraints.size();
+  for (const auto& members : reduced.classes) reduced.cell.constraints.push_back(cell.constraints[members.front()]);
+  return reduced;
+}
+
+RationalVector expand_multipliers(const RationalVector& reduced, const Representatives& classes, std::size_t size) {
+  RationalVector out(size, Rational(0));
+  for (std::size_t r = 0; r < reduced.size() && r < classes.classes.size(); ++r)
+    out[classes.classes[r].front()] = reduced[r];
+  return out;
+}
+
+CellVerdict expand(CellVerdict verdict, const Representatives& classes, std::size_t size) {
+  if (auto* empty = std::get_if<EmptinessCertificate>(&verdict))
+    empty->multipliers = expand_multipliers(empty->multipliers, classes, size);
+  return verdict;
+}
+
+}  // namespace
+
 CellVerdict Oracle::decide_open_cell(const Polyhedron& cell) {
-  detail::require_well_formed(cell, "decide_open_cell");
-  return decide_open_cell_counted(cell, Rational(1), state_->tolerances.positive_slack, state_->counts);
+  return find_centre(cell, Rational(1));
 }
 
 CellVerdict Oracle::find_centre(const Polyhedron& cell, const Rational& radius_cap) {
   detail::require_well_formed(cell, "find_centre");
   if (sgn(radius_cap) <= 0) throw usage_error("find_centre: radius_cap must be > 0");
-  return decide_open_cell_counted(cell, radius_cap, state_->tolerances.positive_slack, state_->counts);
+  const Representatives reduced = reduce_to_representatives(cell);
+  if (!reduced.has_duplicates)
+    return decide_open_cell_counted(cell, radius_cap, state_->tolerances.positive_slack, state_->counts);
+  return expand(decide_open_cell_counted(reduced.cell, radius_cap, state_->tolerances.positive_slack, state_->counts),
+                reduced, cell.constraints.size());
 }
 
 FacetClassification Oracle::classify_facets(const Polyhedron& cell, const InteriorPoint& interior) {
@@ -772,27 +812,42 @@ FacetClassification Oracle::classify_facets(const Polyhedron& cell, const Interi
     throw usage_error("classify_facets: the given point is not strictly inside the cell");
   FacetClassification classification;
   if (cell.constraints.empty()) return classification;
-  const DoubleRows rows = detail::to_double_rows(cell);
-  const std::vector<std::vector<std::size_t>> groups = group_positive_multiples(cell, rows);
+  // The filter and the exact path work on one representative per class of
+  // positive multiples (see reduce_to_representatives); each verdict is then
+  // stated for the whole class.
+  const Representatives reduced = reduce_to_representatives(cell);
+  const DoubleRows rows = detail::to_double_rows(reduced.cell);
   std::optional<FacetFilter> filter;
-  if (rows.is_finite) filter.emplace(cell, rows, interior.point, state_->tolerances.positive_slack);
-  for (const std::vector<std::size_t>& group : groups) {
+  if (rows.is_finite) filter.emplace(reduced.cell, rows, interior.point, state_->tolerances.positive_slack);
+  for (std::size_t r = 0; r < reduced.classes.size(); ++r) {
     ++state_->counts.lp_queries;
+    const std::vector<std::size_t> single{r};
     std::optional<FacetVerdict> verdict;
-    if (filter) verdict = filter->classify(group);
+    if (filter) verdict = filter->classify(single);
     if (verdict) {
       ++state_->counts.filter_settled;
     } else {
       ++state_->counts.exact_fallbacks;
-      verdict = classify_group_exactly(cell, group);
+      verdict = classify_group_exactly(reduced.cell, single);
     }
-    classification.groups.push_back(FacetGroup{group, std::move(*verdict)});
+    if (auto* proof = std::get_if<NonFacetCertificate>(&*verdict))
+      proof->multipliers = expand_multipliers(proof->multipliers, reduced, cell.constraints.size());
+    classification.groups.push_back(FacetGroup{reduced.classes[r], std::move(*verdict)});
   }
   return classification;
 }
 
 BoundednessVerdict Oracle::decide_boundedness(const Polyhedron& cell) {
   detail::require_well_formed(cell, "decide_boundedness");
+  const Representatives reduced = reduce_to_representatives(cell);
+  if (!reduced.has_duplicates) return decide_boundedness_of_distinct_rows(cell);
+  BoundednessVerdict verdict = decide_boundedness_of_distinct_rows(reduced.cell);
+  if (auto* bounded = std::get_if<BoundednessCertificate>(&verdict))
+    bounded->multipliers = expand_multipliers(bounded->multipliers, reduced, cell.constraints.size());
+  return verdict;
+}
+
+BoundednessVerdict Oracle::decide_boundedness_of_distinct_rows(const Polyhedron& cell) {
   ++state_->counts.lp_queries;
   if (cell.dim == 0) {
     ++state_->counts.filter_settled;

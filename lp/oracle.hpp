@@ -65,6 +65,7 @@ class Oracle {
   const QueryCounts& counts() const;
 
  private:
+  BoundednessVerdict decide_boundedness_of_distinct_rows(const Polyhedron& cell);
   struct State;
   std::unique_ptr<State> state_;
 };
