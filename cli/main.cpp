@@ -24,6 +24,8 @@ void register_certify(CommandTable& commands);
 void register_sample(CommandTable& commands);
 void register_verify(CommandTable& commands);
 void register_survey(CommandTable& commands);
+void register_inspect(CommandTable& commands);
+void register_draw(CommandTable& commands);
 
 namespace {
 
@@ -35,6 +37,8 @@ void register_all_commands(CommandTable& commands) {
   register_sample(commands);
   register_verify(commands);
   register_survey(commands);
+  register_inspect(commands);
+  register_draw(commands);
 }
 
 constexpr const char* description =

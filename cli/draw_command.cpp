@@ -1,0 +1,522 @@
+// pleat draw: figures of the regions of a network with 2 inputs (regions
+// clipped to a view rectangle, bent hyperplanes over them) or the graph of a
+// network with 1 input; SVG, TikZ or CSV. The geometry is exact (clipped
+// polygons, shared edges, counts); only the final drawing coordinates are
+// doubles.
+#include "cli/command.hpp"
+#include "cli/common.hpp"
+#include "cli/figure.hpp"
+#include "cli/figure_region_file.hpp"
+#include "cli/progress.hpp"
+#include "core/jacobian.hpp"
+#include "enumerate/region_geometry.hpp"
+#include "enumerate/walker.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <iostream>
+#include <limits>
+#include <map>
+#include <set>
+#include <sstream>
+
+namespace pleat::cli {
+namespace {
+
+struct DrawArguments {
+  std::string network_path;
+  std::string output_path;
+  std::string view_text;
+  std::string colour_by = "region";
+  std::string from_path;
+  bool labels = false;
+  bool no_lines = false;
+  bool quiet = false;
+  std::uint64_t threads = 0;
+};
+
+enum class Format { svg, tikz, csv };
+
+Format format_of(const std::string& path) {
+  auto ends_with = [&](const std::string& suffix) {
+    return path.size() >= suffix.size() && path.compare(path.size() - suffix.size(), suffix.size(), suffix) == 0;
+  };
+  if (ends_with(".svg")) return Format::svg;
+  if (ends_with(".tex")) return Format::tikz;
+  if (ends_with(".csv")) return Format::csv;
+  throw input_error("--out: " + path + ": the name must end in .svg, .tex or .csv");
+}
+
+struct View {
+  RationalVector lower, upper;
+};
+
+std::string describe_view(const View& view) {
+  std::string text;
+  for (std::size_t i = 0; i < view.lower.size(); ++i)
+    text += (i ? "x" : "") + std::string("[") + format_rational(view.lower[i]) + "," + format_rational(view.upper[i]) + "]";
+  return text;
+}
+
+std::vector<Region> walk_all(const Network& network, const Domain& domain, const DrawArguments& arguments) {
+  std::vector<Region> regions;
+  ProgressLine progress(arguments.quiet);
+  WalkOptions options;
+  options.threads = static_cast<unsigned>(arguments.threads);
+  options.on_region = [&](const Region& region) {
+    regions.push_back(region);
+    return true;
+  };
+  options.on_progress = [&](const WalkProgress& state) {
+    progress.update("walking: " + std::to_string(state.regions) + " regions, frontier " + std::to_string(state.frontier));
+  };
+  const WalkSummary summary = walk_regions(network, domain, options);
+  progress.finish();
+  if (!summary.complete) throw std::runtime_error("the walk stopped early (" + to_string(summary.stop_reason) + ")");
+  return regions;
+}
+
+lp::Polyhedron closed_cell(const Region& region, bool with_domain_sides) {
+  lp::Polyhedron cell{region.point.size(), {}};
+  for (const auto& facet : region.facets)
+    if (with_domain_sides || !facet.domain_side) cell.constraints.push_back(lp::Constraint{facet.normal, facet.offset});
+  return cell;
+}
+
+// A view holding every vertex of the regions (all breakpoints for one input)
+// with a margin, rounded outwards to a tick step.
+View fitted_view(const std::vector<Region>& regions, std::size_t dim) {
+  std::vector<double> low(dim, std::numeric_limits<double>::infinity()), high(dim, -low[0]);
+  auto include = [&](const RationalVector& p) {
+    for (std::size_t i = 0; i < dim; ++i) {
+      low[i] = std::min(low[i], to_double(p[i]));
+      high[i] = std::max(high[i], to_double(p[i]));
+    }
+  };
+  for (const auto& region : regions) {
+    const VertexRepresentation rep = vertex_representation(closed_cell(region, true), region.point);
+    if (rep.lines.empty())  // pointed: its points are vertices of the arrangement
+      for (const auto& p : rep.points) include(p);
+  }
+  if (!(low[0] <= high[0]))  // no vertex at all (parallel hyperplanes): points on the facets
+    for (const auto& region : regions)
+      for (const auto& facet : region.facets)
+        if (!facet.point.empty()) include(facet.point);
+  View view;
+  for (std::size_t i = 0; i < dim; ++i) {
+    if (!(low[i] <= high[i])) low[i] = high[i] = 0;
+    const double margin = std::max(0.2 * (high[i] - low[i]), 0.5);
+    const double lo = low[i] - margin, hi = high[i] + margin;
+    const std::vector<double> ticks = nice_ticks(lo, hi);
+    const double step = ticks.size() >= 2 ? ticks[1] - ticks[0] : 1.0;
+    view.lower.push_back(rational_from_double(std::floor(lo / step) * step));
+    view.upper.push_back(rational_from_double(std::ceil(hi / step) * step));
+  }
+  return view;
+}
+
+// Smallest-last greedy colouring: remove a vertex of least remaining degree
+// until none is left, colour in the reverse order. A planar graph always has a
+// vertex of degree <= 5, so each vertex meets at most 5 coloured neighbours and
+// one of `colours` (>= 6) is free; of the free ones the least used is taken,
+// so the figure uses the whole palette evenly (a region map is often
+// 2-colourable, which would make a dull figure).
+std::vector<std::size_t> smallest_last_colouring(const std::vector<std::set<std::size_t>>& adjacent,
+                                                 std::size_t colours = 6) {
+  const std::size_t n = adjacent.size();
+  std::vector<std::size_t> degree(n);
+  for (std::size_t i = 0; i < n; ++i) degree[i] = adjacent[i].size();
+  std::vector<char> removed(n, 0);
+  std::vector<std::size_t> order;
+  std::set<std::pair<std::size_t, std::size_t>> queue;
+  for (std::size_t i = 0; i < n; ++i) queue.emplace(degree[i], i);
+  while (!queue.empty()) {
+    const std::size_t v = queue.begin()->second;
+    queue.erase(queue.begin());
+    removed[v] = 1;
+    order.push_back(v);
+    for (std::size_t w : adjacent[v])
+      if (!removed[w]) {
+        queue.erase({degree[w], w});
+        queue.emplace(--degree[w], w);
+      }
+  }
+  std::vector<std::size_t> colour(n, 0);
+  std::vector<char> coloured(n, 0);
+  std::vector<std::size_t> uses(colours, 0);
+  for (auto it = order.rbegin(); it != order.rend(); ++it) {
+    std::set<std::size_t> used;
+    for (std::size_t w : adjacent[*it])
+      if (coloured[w]) used.insert(colour[w]);
+    std::size_t best = colours;
+    for (std::size_t c = 0; c < colours; ++c)
+      if (!used.count(c) && (best == colours || uses[c] < uses[best])) best = c;
+    if (best == colours) {  // not planar after all: open a new colour
+      best = uses.size();
+      while (used.count(best)) ++best;
+      uses.resize(best + 1, 0);
+    }
+    ++uses[best];
+    colour[*it] = best;
+    coloured[*it] = 1;
+  }
+  return colour;
+}
+
+FigurePoint point_of(const RationalVector& p) { return FigurePoint{to_double(p[0]), p.size() > 1 ? to_double(p[1]) : 0}; }
+
+std::size_t layer_of_neuron(const Network& network, std::size_t neuron) {
+  std::size_t layer = 0;
+  while (layer + 1 < network.relu_layer_count() && network.first_neuron_of_layer(layer + 1) <= neuron) ++layer;
+  return layer;
+}
+
+// Fills figure.colours / polygon colours / legend for the chosen mode.
+// keys[i] is region i's pattern; adjacent is the region adjacency graph.
+void colour_regions(const Network& network, const std::vector<const Region*>& regions,
+                    const std::vector<std::set<std::size_t>>& adjacent, const std::string& mode, Figure& figure) {
+  const std::size_t n = regions.size();
+  std::vector<std::size_t> colour(n, 0);
+  auto use_palette = [&](std::size_t needed) {
+    figure.colours = categorical_palette();
+    for (std::size_t extra = figure.colours.size(); extra < needed; ++extra)
+      figure.colours.push_back(sequential_colour(static_cast<double>(extra % 7) / 6.0));
+  };
+  if (mode == "region") {
+    colour = smallest_last_colouring(adjacent);
+    use_palette(n ? *std::max_element(colour.begin(), colour.end()) + 1 : 0);
+    figure.legend_title = "Regions";
+    figure.notes.push_back("adjacent regions never share");
+    figure.notes.push_back("a colour (smallest-last greedy)");
+  } else if (mode == "layer1") {
+    const std::size_t width = network.relu_layer_count() ? network.layers[0].width() : 0;
+    std::map<std::vector<NeuronState>, std::size_t> cell_of;
+    std::vector<std::size_t> cell(n);
+    for (std::size_t i = 0; i < n; ++i) {
+      const auto& states = regions[i]->pattern.states;
+      const std::vector<NeuronState> prefix(states.begin(), states.begin() + static_cast<std::ptrdiff_t>(width));
+      cell[i] = cell_of.emplace(prefix, cell_of.size()).first->second;
+    }
+    std::vector<std::set<std::size_t>> cell_adjacent(cell_of.size());
+    for (std::size_t i = 0; i < n; ++i)
+      for (std::size_t j : adjacent[i])
+        if (cell[i] != cell[j]) cell_adjacent[cell[i]].insert(cell[j]);
+    const std::vector<std::size_t> cell_colour = smallest_last_colouring(cell_adjacent);
+    for (std::size_t i = 0; i < n; ++i) colour[i] = cell_colour[cell[i]];
+    use_palette(cell_colour.empty() ? 0 : *std::max_element(cell_colour.begin(), cell_colour.end()) + 1);
+    figure.legend_title = "Layer-1 cells";
+    figure.notes.push_back(std::to_string(cell_of.size()) + " cells of the first layer's");
+    figure.notes.push_back("hyperplanes; neighbours differ");
+  } else if (mode == "gradient") {
+    std::vector<double> norm(n);
+    for (std::size_t i = 0; i < n; ++i) {
+      double sum = 0;
+      for (std::size_t t = 0; t < regions[i]->affine.linear.cols(); ++t) {
+        const double g = to_double(regions[i]->affine.linear(0, t));
+        sum += g * g;
+      }
+      norm[i] = std::sqrt(sum);
+    }
+    const double low = n ? *std::min_element(norm.begin(), norm.end()) : 0;
+    const double high = n ? *std::max_element(norm.begin(), norm.end()) : 1;
+    const double span = high > low ? high - low : 1;
+    std::map<std::string, std::size_t> index_of;
+    for (std::size_t i = 0; i < n; ++i) {
+      const std::string c = sequential_colour((norm[i] - low) / span);
+      colour[i] = index_of.emplace(c, index_of.size()).first->second;
+    }
+    figure.colours.assign(index_of.size(), "");
+    for (const auto& [c, index] : index_of) figure.colours[index] = c;
+    figure.legend_title = network.output_dim() > 1 ? "|grad F_1|" : "|grad F|";
+    for (int step = 0; step <= 4; ++step) {
+      figure.colours.push_back(sequential_colour(step / 4.0));
+      std::ostringstream text;
+      text.precision(3);
+      text << low + (high - low) * step / 4.0;
+      figure.swatches.push_back(FigureSwatch{figure.colours.size() - 1, text.str()});
+    }
+  } else {  // rank
+    const std::size_t most = network.output_dim() * (network.input_dim + 1);
+    std::map<std::size_t, std::size_t> count;
+    std::vector<std::size_t> rank(n);
+    for (std::size_t i = 0; i < n; ++i) ++count[rank[i] = rank_contribution(network, regions[i]->pattern)];
+    for (std::size_t r = 0; r <= most; ++r) figure.colours.push_back(sequential_colour(static_cast<double>(r) / most));
+    for (std::size_t i = 0; i < n; ++i) colour[i] = rank[i];
+    figure.legend_title = "Rank contribution";
+    for (const auto& [r, k] : count)
+      figure.swatches.push_back(
+          FigureSwatch{r, std::to_string(r) + " row" + (r == 1 ? "" : "s") + ": " + std::to_string(k) + " regions"});
+  }
+  for (auto& polygon : figure.polygons) polygon.colour = colour[polygon.region];
+}
+
+struct Drawn {
+  std::string text;
+  std::size_t vertices = 0, edges = 0, regions = 0;
+};
+
+Drawn draw_plane(const Network& network, const std::vector<Region>& regions, const View& view, bool from_file,
+                 const DrawArguments& arguments, Format format) {
+  std::vector<Polygon> polygons;
+  std::vector<const Region*> drawn;
+  for (const auto& region : regions) {
+    Polygon polygon = clip_rectangle(view.lower, view.upper, closed_cell(region, from_file).constraints);
+    if (polygon.vertices.size() < 3) continue;
+    polygons.push_back(std::move(polygon));
+    drawn.push_back(&region);
+  }
+  const PlanarComplex complex = planar_complex(polygons);
+  Drawn result{"", complex.vertices.size(), complex.edges.size(), polygons.size()};
+
+  if (format == Format::csv) {
+    std::ostringstream out;
+    out << "region,pattern,vertex,x,y,x_exact,y_exact\n";
+    for (std::size_t i = 0; i < polygons.size(); ++i)
+      for (std::size_t k = 0; k < polygons[i].vertices.size(); ++k) {
+        const auto& p = polygons[i].vertices[k];
+        out << drawn[i]->id << "," << format_pattern(network, drawn[i]->pattern) << "," << k << ","
+            << format_double(to_double(p[0])) << "," << format_double(to_double(p[1])) << "," << format_rational(p[0])
+            << "," << format_rational(p[1]) << "\n";
+      }
+    result.text = out.str();
+    return result;
+  }
+
+  Figure figure;
+  figure.x_min = to_double(view.lower[0]);
+  figure.x_max = to_double(view.upper[0]);
+  figure.y_min = to_double(view.lower[1]);
+  figure.y_max = to_double(view.upper[1]);
+  figure.x_label = "x1";
+  figure.y_label = "x2";
+  figure.layers = network.hidden_neuron_count() ? network.relu_layer_count() : 0;
+  figure.show_lines = !arguments.no_lines;
+  figure.show_labels = arguments.labels;
+
+  // Adjacency and bent-hyperplane pieces from the exact shared edges.
+  std::vector<std::set<std::size_t>> adjacent(polygons.size());
+  struct Piece {
+    RationalVector from, to;
+    std::size_t layer;
+  };
+  std::vector<Piece> pieces;
+  for (const auto& edge : complex.edges) {
+    if (edge.polygons.size() == 2) {
+      adjacent[edge.polygons[0]].insert(edge.polygons[1]);
+      adjacent[edge.polygons[1]].insert(edge.polygons[0]);
+    }
+    std::size_t layer = std::numeric_limits<std::size_t>::max();
+    for (std::size_t index : edge.polygons)
+      for (const auto& facet : drawn[index]->facets) {
+        if (facet.neurons.empty()) continue;
+        auto value = [&](const RationalVector& p) -> Rational { return facet.normal[0] * p[0] + facet.normal[1] * p[1] + facet.offset; };
+        if (value(edge.from) == 0 && value(edge.to) == 0)
+          layer = std::min(layer, layer_of_neuron(network, facet.neurons.front()));
+      }
+    if (layer == std::numeric_limits<std::size_t>::max()) continue;  // the view's border
+    // Edges come line by line in increasing order: extend the previous piece
+    // when this one continues it on the same line in the same layer.
+    if (!pieces.empty() && pieces.back().layer == layer && pieces.back().to == edge.from) {
+      const auto& a = pieces.back().from;
+      const auto& b = pieces.back().to;
+      if ((b[0] - a[0]) * (edge.to[1] - a[1]) == (b[1] - a[1]) * (edge.to[0] - a[0])) {
+        pieces.back().to = edge.to;
+        continue;
+      }
+    }
+    pieces.push_back(Piece{edge.from, edge.to, layer});
+  }
+  for (const auto& piece : pieces) figure.segments.push_back(FigureSegment{point_of(piece.from), point_of(piece.to), piece.layer});
+
+  for (std::size_t i = 0; i < polygons.size(); ++i) {
+    FigurePolygon polygon;
+    polygon.region = i;  // replaced by the region id below, after colouring
+    polygon.pattern = format_pattern(network, drawn[i]->pattern);
+    FigurePoint centre;
+    for (const auto& p : polygons[i].vertices) {
+      polygon.vertices.push_back(point_of(p));
+      centre.x += polygon.vertices.back().x / static_cast<double>(polygons[i].vertices.size());
+      centre.y += polygon.vertices.back().y / static_cast<double>(polygons[i].vertices.size());
+    }
+    polygon.label = centre;
+    figure.polygons.push_back(std::move(polygon));
+  }
+  colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
+  for (std::size_t i = 0; i < polygons.size(); ++i) figure.polygons[i].region = drawn[i]->id;
+  figure.notes.push_back("");
+  figure.notes.push_back(std::to_string(result.regions) + " regions, " + std::to_string(result.edges) + " edges,");
+  figure.notes.push_back(std::to_string(result.vertices) + " vertices in the view");
+  result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
+  return result;
+}
+
+Drawn draw_line(const Network& network, const std::vector<Region>& regions, const View& view,
+                const DrawArguments& arguments, Format format) {
+  struct Piece {
+    const Region* region;
+    Rational low, high;
+  };
+  std::vector<Piece> pieces;
+  for (const auto& region : regions) {
+    Piece piece{&region, view.lower[0], view.upper[0]};
+    for (const auto& facet : region.facets) {
+      const Rational end = -facet.offset / facet.normal[0];
+      if (facet.normal[0] > 0) piece.low = std::max(piece.low, end);
+      else piece.high = std::min(piece.high, end);
+    }
+    if (piece.low < piece.high) pieces.push_back(piece);
+  }
+  std::sort(pieces.begin(), pieces.end(), [](const Piece& a, const Piece& b) { return a.low < b.low; });
+  Drawn result{"", pieces.size() + 1, pieces.size(), pieces.size()};
+  auto value = [](const Region& region, std::size_t output, const Rational& x) -> Rational {
+    return region.affine.linear(output, 0) * x + region.affine.offset[output];
+  };
+  if (format == Format::csv) {
+    std::ostringstream out;
+    out << "region,pattern,output,x_left,x_right,value_left,value_right,slope,"
+           "x_left_exact,x_right_exact,value_left_exact,value_right_exact,slope_exact\n";
+    for (const auto& piece : pieces)
+      for (std::size_t o = 0; o < network.output_dim(); ++o) {
+        const Rational left = value(*piece.region, o, piece.low), right = value(*piece.region, o, piece.high);
+        const Rational& slope = piece.region->affine.linear(o, 0);
+        out << piece.region->id << "," << format_pattern(network, piece.region->pattern) << "," << o << ","
+            << format_double(to_double(piece.low)) << "," << format_double(to_double(piece.high)) << ","
+            << format_double(to_double(left)) << "," << format_double(to_double(right)) << ","
+            << format_double(to_double(slope)) << "," << format_rational(piece.low) << ","
+            << format_rational(piece.high) << "," << format_rational(left) << "," << format_rational(right) << ","
+            << format_rational(slope) << "\n";
+      }
+    result.text = out.str();
+    return result;
+  }
+  Figure figure;
+  figure.x_min = to_double(view.lower[0]);
+  figure.x_max = to_double(view.upper[0]);
+  figure.x_label = "x";
+  figure.y_label = network.output_dim() > 1 ? "F1" : "F";
+  double low = std::numeric_limits<double>::infinity(), high = -low;
+  for (std::size_t i = 0; i < pieces.size(); ++i) {
+    const auto& piece = pieces[i];
+    const double left = to_double(value(*piece.region, 0, piece.low));
+    const double right = to_double(value(*piece.region, 0, piece.high));
+    figure.graph.push_back(FigurePoint{to_double(piece.low), left});
+    if (i + 1 == pieces.size()) figure.graph.push_back(FigurePoint{to_double(piece.high), right});
+    if (i > 0) figure.breakpoints.push_back(FigurePoint{to_double(piece.low), left});
+    low = std::min({low, left, right});
+    high = std::max({high, left, right});
+  }
+  if (!(low < high)) {
+    low -= 1;
+    high += 1;
+  }
+  figure.y_min = low - 0.08 * (high - low);
+  figure.y_max = high + 0.08 * (high - low);
+  figure.show_lines = false;
+  figure.show_labels = arguments.labels;
+  std::vector<const Region*> drawn;
+  std::vector<std::set<std::size_t>> adjacent(pieces.size());
+  for (std::size_t i = 0; i < pieces.size(); ++i) {
+    drawn.push_back(pieces[i].region);
+    if (i > 0) {
+      adjacent[i].insert(i - 1);
+      adjacent[i - 1].insert(i);
+    }
+    FigurePolygon band;
+    band.region = i;
+    band.pattern = format_pattern(network, pieces[i].region->pattern);
+    const double a = to_double(pieces[i].low), b = to_double(pieces[i].high);
+    band.vertices = {{a, figure.y_min}, {b, figure.y_min}, {b, figure.y_max}, {a, figure.y_max}};
+    band.label = FigurePoint{(a + b) / 2, figure.y_min + 0.04 * (figure.y_max - figure.y_min)};
+    figure.polygons.push_back(std::move(band));
+  }
+  colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
+  for (std::size_t i = 0; i < pieces.size(); ++i) figure.polygons[i].region = pieces[i].region->id;
+  figure.notes.push_back("");
+  figure.notes.push_back(std::to_string(pieces.size()) + " regions, " + std::to_string(figure.breakpoints.size()) +
+                         " breakpoints");
+  result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
+  return result;
+}
+
+int run_draw(const DrawArguments& arguments) {
+  const Network network = load_network(arguments.network_path);
+  const std::size_t dim = network.input_dim;
+  if (dim != 1 && dim != 2)
+    throw input_error("draw: the network has " + std::to_string(dim) + " inputs; draw handles 1 (a graph) or 2 (regions)");
+  const Format format = format_of(arguments.output_path);
+
+  std::optional<View> view;
+  if (!arguments.view_text.empty()) {
+    const RationalVector numbers = parse_number_list(arguments.view_text, "--view");
+    if (numbers.size() != 2 * dim)
+      throw input_error("--view: expected " + std::to_string(2 * dim) + " numbers (" +
+                        (dim == 2 ? "XMIN,XMAX,YMIN,YMAX" : "XMIN,XMAX") + "), found " + std::to_string(numbers.size()));
+    view = View{};
+    for (std::size_t i = 0; i < dim; ++i) {
+      if (!(numbers[2 * i] < numbers[2 * i + 1])) throw input_error("--view: each minimum must be below its maximum");
+      view->lower.push_back(numbers[2 * i]);
+      view->upper.push_back(numbers[2 * i + 1]);
+    }
+  }
+
+  std::vector<Region> regions;
+  const bool from_file = !arguments.from_path.empty();
+  if (from_file) {
+    SavedWalk saved = read_saved_walk(network, arguments.from_path);
+    regions = std::move(saved.regions);
+    if (!view) view = saved.domain.kind == Domain::Kind::box ? View{saved.domain.lower, saved.domain.upper}
+                                                             : fitted_view(regions, dim);
+  } else {
+    if (!view) view = fitted_view(walk_all(network, make_whole_space(dim), arguments), dim);
+    regions = walk_all(network, make_box(view->lower, view->upper), arguments);
+  }
+
+  const Drawn drawn = dim == 2 ? draw_plane(network, regions, *view, from_file, arguments, format)
+                               : draw_line(network, regions, *view, arguments, format);
+  write_output(arguments.output_path, drawn.text);
+  std::cout << "view        " << describe_view(*view) << "\n";
+  if (dim == 2)
+    std::cout << "complex     " << drawn.regions << " regions, " << drawn.edges << " edges, " << drawn.vertices
+              << " vertices (exact, clipped to the view)\n";
+  else
+    std::cout << "graph       " << drawn.regions << " pieces, " << (drawn.regions ? drawn.regions - 1 : 0)
+              << " breakpoints (exact, in the view)\n";
+  std::cout << "written     " << arguments.output_path << "\n";
+  return 0;
+}
+
+}  // namespace
+
+void register_draw(CommandTable& commands) {
+  auto arguments = std::make_shared<DrawArguments>();
+  CLI::App& command = commands.add(
+      "draw", "Draw a network's regions (2 inputs) or graph (1 input) as SVG, TikZ or CSV",
+      "With 2 inputs: every region clipped to the view rectangle as an exact polygon, the\n"
+      "bent hyperplanes (each neuron's zero set; one line style per layer) over them, a legend,\n"
+      "axes, and the counts of regions, edges and vertices. With 1 input: the graph of the\n"
+      "network with its breakpoints; the CSV lists each piece's ends, values and slope exactly.\n"
+      "The format follows the name given to --out: .svg (standalone), .tex (a tikzpicture to\n"
+      "\\input; needs \\usepackage{tikz}), .csv (2 inputs: one row per polygon vertex).\n"
+      "Without --view the view holds every vertex of the arrangement, with a margin.\n\n"
+      "Examples:\n"
+      "  pleat draw data/fold2d.json --out fold2d.svg --view -3,3,-3,3\n"
+      "  pleat draw data/fold2d.json --out fold2d.tex --color-by layer1 --labels\n"
+      "  pleat walk data/fold2d.json --box -3,3 -o regions.jsonl && pleat draw data/fold2d.json --from regions.jsonl --out f.csv",
+      [arguments] { return run_draw(*arguments); });
+  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")->required();
+  command.add_option("--out", arguments->output_path, "Output file: FIG.svg, FIG.tex or FIG.csv")->required();
+  add_number_list_option(command, "--view", arguments->view_text,
+                         "XMIN,XMAX,YMIN,YMAX (XMIN,XMAX for 1 input): the rectangle drawn and walked");
+  command.add_option("--color-by,--colour-by", arguments->colour_by,
+                     "region (neighbours differ), gradient (|grad F|), layer1 (first-layer cell), rank "
+                     "(rows the region adds to the functional-dimension rank)")
+      ->check(CLI::IsMember({"region", "gradient", "layer1", "rank"}));
+  command.add_flag("--labels", arguments->labels, "Write each region's activation pattern inside it");
+  command.add_flag("--no-lines", arguments->no_lines, "Leave out the bent hyperplanes (fills only)");
+  command.add_option("--from", arguments->from_path,
+                     "Draw a saved walk (pleat walk -o FILE) instead of walking; --view clips it");
+  add_unsigned_option(command, "--threads", arguments->threads, "Worker threads for the walk (default: all cores)");
+  command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
+}
+
+}  // namespace pleat::cli

@@ -1,0 +1,74 @@
+// Figures of a network's regions: a plain description (in data coordinates,
+// already decided exactly by the caller) and its writers, standalone SVG and
+// TikZ/PGF. The writers only lay out and print; nothing here decides geometry.
+#pragma once
+
+#include <cstddef>
+#include <string>
+#include <utility>
+#include <vector>
+
+namespace pleat::cli {
+
+struct FigurePoint {
+  double x = 0, y = 0;
+};
+
+struct FigurePolygon {
+  std::size_t region = 0;             // region id (its line in the walk)
+  std::string pattern;                // spec notation
+  std::vector<FigurePoint> vertices;  // counter-clockwise
+  std::size_t colour = 0;             // index into Figure::colours
+  FigurePoint label;                  // where the pattern label goes (inside)
+};
+
+// A piece of a bent hyperplane; layer is 0-based.
+struct FigureSegment {
+  FigurePoint from, to;
+  std::size_t layer = 0;
+};
+
+struct FigureSwatch {
+  std::size_t colour = 0;
+  std::string text;
+};
+
+struct Figure {
+  double x_min = 0, x_max = 1, y_min = 0, y_max = 1;  // the view, data coordinates
+  std::string x_label, y_label;                        // plain text; digits after the letter become subscripts
+  std::vector<std::string> colours;                    // "#rrggbb"
+  std::vector<FigurePolygon> polygons;
+  std::vector<FigureSegment> segments;
+  std::size_t layers = 0;  // hidden ReLU layers (line styles in the legend)
+  std::string legend_title;
+  std::vector<FigureSwatch> swatches;
+  std::vector<std::string> notes;  // counts, shown under the legend
+  bool show_lines = true;
+  bool show_labels = false;
+  // One input: the graph of the network (breakpoints marked) over bands.
+  std::vector<FigurePoint> graph;
+  std::vector<FigurePoint> breakpoints;
+};
+
+// A standalone SVG document. The plot area carries id="plot-area" and
+// data-view="xmin,xmax,ymin,ymax"; each region is <polygon id="region-ID"
+// data-pattern=... fill=...>, so tests can map data points to pixels.
+std::string figure_svg(const Figure& figure);
+
+// A tikzpicture for \input in a LaTeX document that loads tikz (no other
+// package or TikZ library needed).
+std::string figure_tikz(const Figure& figure);
+
+// Our palettes. Categorical: six colours whose CIE L* lightness differs by at
+// least 6 between any two (so they stay apart in greyscale and for
+// colour-blind readers). Sequential: lightness falls monotonically with t.
+const std::vector<std::string>& categorical_palette();
+std::string sequential_colour(double t);  // t in [0, 1]
+
+// Tick positions at 1, 2 or 5 times a power of ten, 4 to 8 of them in [lo, hi].
+std::vector<double> nice_ticks(double lo, double hi);
+
+// The shortest text that reads back as the value, for ticks ("0.5", "-2").
+std::string tick_text(double value);
+
+}  // namespace pleat::cli

@@ -1,0 +1,150 @@
+#include "cli/figure_region_file.hpp"
+
+#include "cli/common.hpp"
+
+#include <fstream>
+
+namespace pleat::cli {
+namespace {
+
+class LineReader {
+ public:
+  LineReader(const Network& network, std::size_t line) : network_(network), line_(line) {}
+  [[noreturn]] void fail(const std::string& what) const {
+    throw input_error("line " + std::to_string(line_) + ": " + what);
+  }
+  const Json& field(const Json& object, const char* key) const {
+    if (!object.is_object() || !object.contains(key)) fail(std::string("missing key \"") + key + "\"");
+    return object.at(key);
+  }
+  Rational rational(const Json& value) const {
+    if (!value.is_string()) fail("expected an exact number as a string, found " + value.dump());
+    try {
+      return parse_rational(value.get<std::string>());
+    } catch (const input_error& fault) {
+      fail(fault.what());
+    }
+  }
+  RationalVector rationals(const Json& value) const {
+    if (!value.is_array()) fail("expected a list of numbers, found " + value.dump());
+    RationalVector out;
+    for (const auto& item : value) out.push_back(rational(item));
+    return out;
+  }
+  ActivationPattern pattern(const Json& value) const {
+    if (!value.is_string()) fail("expected a pattern string, found " + value.dump());
+    try {
+      return parse_pattern(network_, value.get<std::string>());
+    } catch (const input_error& fault) {
+      fail(fault.what());
+    }
+  }
+
+ private:
+  const Network& network_;
+  std::size_t line_;
+};
+
+Domain read_domain(const Json& value, std::size_t input_dim, const LineReader& reader) {
+  if (value.is_string()) {
+    if (value.get<std::string>() != "R^" + std::to_string(input_dim))
+      reader.fail("domain " + value.dump() + " does not match the network's " + std::to_string(input_dim) + " inputs");
+    return make_whole_space(input_dim);
+  }
+  if (value.is_object() && value.contains("box")) {
+    RationalVector lower, upper;
+    for (const auto& interval : value.at("box")) {
+      const RationalVector bounds = reader.rationals(interval);
+      if (bounds.size() != 2) reader.fail("a box interval needs two numbers");
+      lower.push_back(bounds[0]);
+      upper.push_back(bounds[1]);
+    }
+    if (lower.size() != input_dim) reader.fail("the box's dimension differs from the network's");
+    return make_box(lower, upper);
+  }
+  if (value.is_object() && value.contains("constraints")) {
+    std::vector<lp::Constraint> constraints;
+    for (const auto& c : value.at("constraints"))
+      constraints.push_back(lp::Constraint{reader.rationals(reader.field(c, "normal")),
+                                           reader.rational(reader.field(c, "offset"))});
+    return make_polytope(input_dim, std::move(constraints));
+  }
+  reader.fail("unknown domain " + value.dump());
+}
+
+Region read_region(const Network& network, const Json& line, const LineReader& reader) {
+  Region region;
+  const Json& id = reader.field(line, "id");
+  if (!id.is_number_unsigned()) reader.fail("\"id\" must be a non-negative integer");
+  region.id = id.get<std::size_t>();
+  region.pattern = reader.pattern(reader.field(line, "pattern"));
+  region.point = reader.rationals(reader.field(line, "point"));
+  if (region.point.size() != network.input_dim) reader.fail("\"point\" has the wrong dimension");
+  const Json& bounded = reader.field(line, "bounded");
+  if (!bounded.is_boolean()) reader.fail("\"bounded\" must be true or false");
+  region.bounded = bounded.get<bool>();
+  for (const auto& entry : reader.field(line, "facets")) {
+    RegionFacet facet;
+    for (const auto& neuron : reader.field(entry, "neurons")) {
+      if (!neuron.is_number_unsigned() || neuron.get<std::size_t>() >= network.relu_neuron_count())
+        reader.fail("a facet names an unknown neuron " + neuron.dump());
+      facet.neurons.push_back(neuron.get<std::size_t>());
+    }
+    const Json& side = reader.field(entry, "side");
+    if (side.is_number_unsigned()) facet.domain_side = side.get<std::size_t>();
+    else if (!side.is_null()) reader.fail("\"side\" must be null or an index");
+    facet.normal = reader.rationals(reader.field(entry, "normal"));
+    if (facet.normal.size() != network.input_dim) reader.fail("a facet normal has the wrong dimension");
+    facet.offset = reader.rational(reader.field(entry, "offset"));
+    const Json& neighbor = reader.field(entry, "neighbor");
+    if (!neighbor.is_null()) facet.neighbor = reader.pattern(neighbor);
+    if (entry.contains("point")) facet.point = reader.rationals(entry.at("point"));
+    region.touches_domain_boundary = region.touches_domain_boundary || facet.domain_side.has_value();
+    region.facets.push_back(std::move(facet));
+  }
+  const Json& affine = reader.field(line, "affine");
+  const Json& rows = reader.field(affine, "A");
+  region.affine.offset = reader.rationals(reader.field(affine, "c"));
+  region.affine.linear = RationalMatrix(rows.size(), network.input_dim);
+  for (std::size_t r = 0; r < rows.size(); ++r) {
+    const RationalVector row = reader.rationals(rows[r]);
+    if (row.size() != network.input_dim) reader.fail("affine.A has a row of the wrong length");
+    region.affine.linear.set_row(r, row);
+  }
+  if (rows.size() != network.output_dim() || region.affine.offset.size() != network.output_dim())
+    reader.fail("affine map has the wrong number of outputs");
+  return region;
+}
+
+}  // namespace
+
+SavedWalk read_saved_walk(const Network& network, const std::string& path) {
+  std::ifstream file(path);
+  if (!file) throw input_error(path + ": cannot open");
+  SavedWalk walk;
+  bool has_header = false;
+  std::string text;
+  for (std::size_t number = 1; std::getline(file, text); ++number) {
+    if (text.empty()) continue;
+    const LineReader reader(network, number);
+    try {
+      const Json line = Json::parse(text);
+      if (!has_header) {
+        if (!line.is_object() || line.value("format", "") != "pleat-regions/1")
+          reader.fail("expected the header line with \"format\": \"pleat-regions/1\"");
+        walk.domain = read_domain(reader.field(line, "domain"), network.input_dim, reader);
+        has_header = true;
+        continue;
+      }
+      walk.regions.push_back(read_region(network, line, reader));
+    } catch (const input_error& fault) {
+      throw input_error(path + ": " + fault.what());
+    } catch (const Json::exception& fault) {
+      throw input_error(path + ": line " + std::to_string(number) + ": " + fault.what());
+    }
+  }
+  if (!has_header) throw input_error(path + ": empty file (no header line)");
+  return walk;
+}
+
+}  // namespace pleat::cli

@@ -1,0 +1,24 @@
+// Reading a saved walk (pleat-regions/1 lines from `pleat walk -o`) back into
+// the walker's Region records, so `pleat draw --from` draws without walking.
+// Only what drawing needs is read (no certificates); nothing is re-checked
+// here (`pleat verify` does that).
+#pragma once
+
+#include "core/network.hpp"
+#include "enumerate/domain.hpp"
+#include "enumerate/walker.hpp"
+
+#include <string>
+#include <vector>
+
+namespace pleat::cli {
+
+struct SavedWalk {
+  Domain domain;
+  std::vector<Region> regions;  // in file order
+};
+
+// Throws input_error naming the file, the line and the key for any fault.
+SavedWalk read_saved_walk(const Network& network, const std::string& path);
+
+}  // namespace pleat::cli

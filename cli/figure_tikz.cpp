@@ -1,0 +1,148 @@
+// The TikZ writer: the same figure as figure_svg.cpp, in centimetres, using
+// plain TikZ only (no libraries, no pgfplots), for \input in a paper.
+#include "cli/figure.hpp"
+
+#include <algorithm>
+#include <cctype>
+#include <cstdio>
+#include <sstream>
+
+namespace pleat::cli {
+namespace {
+
+constexpr double plot_width_cm = 8.0;
+
+std::string number(double value) {
+  char text[32];
+  std::snprintf(text, sizeof text, "%.3f", value);
+  std::string out = text;
+  while (!out.empty() && out.back() == '0') out.pop_back();
+  if (!out.empty() && out.back() == '.') out.pop_back();
+  return out == "-0" ? "0" : out;
+}
+
+std::string escape(const std::string& text) {
+  std::string out;
+  for (char c : text) {
+    switch (c) {
+      case '#': case '$': case '%': case '&': case '_': case '{': case '}': out += '\\'; out += c; break;
+      case '|': out += "\\textbar{}"; break;
+      case '~': out += "\\textasciitilde{}"; break;
+      case '^': out += "\\textasciicircum{}"; break;
+      case '\\': out += "\\textbackslash{}"; break;
+      case '<': out += "\\textless{}"; break;
+      case '>': out += "\\textgreater{}"; break;
+      default: out += c;
+    }
+  }
+  return out;
+}
+
+std::string axis_label(const std::string& label) {
+  std::size_t digits = label.size();
+  while (digits > 0 && std::isdigit(static_cast<unsigned char>(label[digits - 1]))) --digits;
+  std::string out = "$" + label.substr(0, digits);
+  if (digits < label.size()) out += "_{" + label.substr(digits) + "}";
+  return out + "$";
+}
+
+const char* dash_pattern(std::size_t layer) {
+  static const char* patterns[] = {"line width=0.75pt", "line width=0.6pt, dash pattern=on 2.5pt off 1.25pt",
+                                   "line width=0.65pt, line cap=round, dash pattern=on 0.25pt off 1.3pt",
+                                   "line width=0.55pt, dash pattern=on 3.5pt off 1pt on 0.5pt off 1pt"};
+  return patterns[layer % 4];
+}
+
+}  // namespace
+
+std::string figure_tikz(const Figure& figure) {
+  const double ratio = (figure.y_max - figure.y_min) / (figure.x_max - figure.x_min);
+  const double height_cm = std::clamp(plot_width_cm * ratio, 4.2, 10.6);
+  auto x = [&](double v) { return number((v - figure.x_min) / (figure.x_max - figure.x_min) * plot_width_cm); };
+  auto y = [&](double v) { return number((v - figure.y_min) / (figure.y_max - figure.y_min) * height_cm); };
+  std::ostringstream out;
+  out << "% Linear regions drawn by pleat. Needs \\usepackage{tikz}; use with \\input.\n";
+  out << "\\begin{tikzpicture}[font=\\footnotesize]\n";
+  for (std::size_t i = 0; i < figure.colours.size(); ++i)
+    out << "\\definecolor{pleatcolour" << static_cast<char>('a' + i % 26) << i / 26 << "}{HTML}{"
+        << figure.colours[i].substr(1) << "}\n";
+  auto colour_name = [](std::size_t i) {
+    return std::string("pleatcolour") + static_cast<char>('a' + i % 26) + std::to_string(i / 26);
+  };
+  out << "\\begin{scope}\n\\clip (0,0) rectangle (" << number(plot_width_cm) << "," << number(height_cm) << ");\n";
+  for (const auto& polygon : figure.polygons) {
+    out << "\\fill[" << colour_name(polygon.colour) << "] ";
+    for (const auto& p : polygon.vertices) out << "(" << x(p.x) << "," << y(p.y) << ") -- ";
+    out << "cycle; % region " << polygon.region << "\n";
+  }
+  if (figure.show_lines)
+    for (std::size_t layer = 0; layer < figure.layers; ++layer) {
+      bool any = false;
+      for (const auto& s : figure.segments) {
+        if (s.layer != layer) continue;
+        if (!any) out << "\\draw[black!90, " << dash_pattern(layer) << "]";
+        any = true;
+        out << "\n  (" << x(s.from.x) << "," << y(s.from.y) << ") -- (" << x(s.to.x) << "," << y(s.to.y) << ")";
+      }
+      if (any) out << ";\n";
+    }
+  if (!figure.graph.empty()) {
+    out << "\\draw[line width=0.9pt, line join=round] ";
+    for (std::size_t i = 0; i < figure.graph.size(); ++i)
+      out << (i ? " -- " : "") << "(" << x(figure.graph[i].x) << "," << y(figure.graph[i].y) << ")";
+    out << ";\n";
+    for (const auto& p : figure.breakpoints)
+      out << "\\filldraw[fill=white, draw=black, line width=0.6pt] (" << x(p.x) << "," << y(p.y)
+          << ") circle (1.6pt);\n";
+  }
+  if (figure.show_labels)
+    for (const auto& polygon : figure.polygons)
+      out << "\\node[font=\\ttfamily\\tiny, inner sep=0.5pt, fill=white, fill opacity=0.7, text opacity=1] at ("
+          << x(polygon.label.x) << "," << y(polygon.label.y) << ") {" << escape(polygon.pattern) << "};\n";
+  out << "\\end{scope}\n";
+  // Axes.
+  out << "\\draw[line width=0.45pt] (0,0) rectangle (" << number(plot_width_cm) << "," << number(height_cm) << ");\n";
+  for (double t : nice_ticks(figure.x_min, figure.x_max))
+    out << "\\draw[line width=0.45pt] (" << x(t) << ",0) -- (" << x(t) << ",-0.1) node[below] {$" << tick_text(t)
+        << "$};\n";
+  for (double t : nice_ticks(figure.y_min, figure.y_max))
+    out << "\\draw[line width=0.45pt] (0," << y(t) << ") -- (-0.1," << y(t) << ") node[left] {$" << tick_text(t)
+        << "$};\n";
+  out << "\\node at (" << number(plot_width_cm / 2) << ",-0.85) {" << axis_label(figure.x_label) << "};\n";
+  out << "\\node[rotate=90] at (-1.05," << number(height_cm / 2) << ") {" << axis_label(figure.y_label) << "};\n";
+  // Legend, top-down on the right.
+  const double lx = plot_width_cm + 0.6;
+  double ly = height_cm - 0.1;
+  out << "\\node[anchor=north west, inner sep=0pt, font=\\footnotesize\\bfseries] at (" << number(lx) << ","
+      << number(ly) << ") {" << escape(figure.legend_title) << "};\n";
+  ly -= 0.5;
+  for (const auto& swatch : figure.swatches) {
+    out << "\\filldraw[fill=" << colour_name(swatch.colour) << ", draw=black, line width=0.3pt] (" << number(lx)
+        << "," << number(ly) << ") rectangle ++(0.45,0.3);\n";
+    out << "\\node[anchor=west, inner sep=0pt] at (" << number(lx + 0.6) << "," << number(ly + 0.15) << ") {"
+        << escape(swatch.text) << "};\n";
+    ly -= 0.45;
+  }
+  if (figure.show_lines && figure.layers > 0 && figure.graph.empty()) {
+    ly -= 0.2;
+    out << "\\node[anchor=west, inner sep=0pt, font=\\footnotesize\\bfseries] at (" << number(lx) << ","
+        << number(ly + 0.15) << ") {Bent hyperplanes};\n";
+    ly -= 0.45;
+    for (std::size_t layer = 0; layer < figure.layers; ++layer) {
+      out << "\\draw[" << dash_pattern(layer) << "] (" << number(lx) << "," << number(ly + 0.15) << ") -- ++(0.8,0);\n";
+      out << "\\node[anchor=west, inner sep=0pt] at (" << number(lx + 0.95) << "," << number(ly + 0.15)
+          << ") {layer " << layer + 1 << " neurons};\n";
+      ly -= 0.45;
+    }
+  }
+  ly -= 0.2;
+  for (const auto& note : figure.notes) {
+    out << "\\node[anchor=west, inner sep=0pt] at (" << number(lx) << "," << number(ly + 0.15) << ") {"
+        << escape(note) << "};\n";
+    ly -= 0.42;
+  }
+  out << "\\end{tikzpicture}\n";
+  return out.str();
+}
+
+}  // namespace pleat::cli

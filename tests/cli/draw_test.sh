@@ -1,0 +1,58 @@
+#!/usr/bin/env bash
+# pleat draw end to end: the bundled 2-D example as SVG, TikZ and CSV in every
+# colouring; the 1-D example's CSV is exact (pieces meet at their breakpoints,
+# slope times width equals the rise, breakpoints are the bends listed in
+# data/ramp1d.json's meta, written by hand there); bad arguments exit 2.
+set -u
+pleat=$1
+source_dir=$2
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+fold=$source_dir/data/fold2d.json
+ramp=$source_dir/data/ramp1d.json
+
+out=$("$pleat" draw "$fold" --out "$work/fold.svg" -q) || fail "draw svg failed"
+case "$out" in *"complex "*regions*edges*vertices*) ;; *) fail "no counts printed: $out" ;; esac
+/usr/bin/python3 -c "import sys, xml.etree.ElementTree as E; E.parse(sys.argv[1])" "$work/fold.svg" \
+  || fail "SVG is not XML"
+for mode in region gradient layer1 rank; do
+  "$pleat" draw "$fold" --view -3,3,-3,3 --color-by $mode --labels --out "$work/$mode.svg" -q > /dev/null \
+    || fail "--color-by $mode failed"
+  grep -q '<polygon id="region-' "$work/$mode.svg" || fail "--color-by $mode drew no region"
+  "$pleat" draw "$fold" --view -3,3,-3,3 --color-by $mode --out "$work/$mode.tex" -q > /dev/null \
+    || fail "tikz --color-by $mode failed"
+  grep -q '\\begin{tikzpicture}' "$work/$mode.tex" || fail "no tikzpicture"
+done
+grep -q 'data-pattern="[01|]*"' "$work/rank.svg" || fail "no pattern attribute"
+grep -q 'Rank contribution' "$work/rank.svg" || fail "rank legend missing"
+"$pleat" draw "$fold" --view=-3,3,-3,3 --out "$work/fold.csv" -q > /dev/null || fail "draw csv failed"
+head -1 "$work/fold.csv" | grep -qx 'region,pattern,vertex,x,y,x_exact,y_exact' || fail "CSV header"
+
+# One input: exact pieces.
+"$pleat" draw "$ramp" --view -2,5 --out "$work/ramp.csv" -q > /dev/null || fail "1-D csv failed"
+"$pleat" draw "$ramp" --view -2,5 --out "$work/ramp.svg" -q > /dev/null || fail "1-D svg failed"
+grep -q 'class="breakpoint"' "$work/ramp.svg" || fail "1-D svg has no breakpoints"
+/usr/bin/python3 - "$work/ramp.csv" <<'PY' || fail "1-D CSV not exact"
+import csv, sys
+from fractions import Fraction as F
+rows = list(csv.DictReader(open(sys.argv[1])))
+assert rows[0]["x_left_exact"] == "-2" and rows[-1]["x_right_exact"] == "5", "pieces must span the view"
+for a, b in zip(rows, rows[1:]):
+    assert a["x_right_exact"] == b["x_left_exact"], "gap between pieces"
+    assert a["value_right_exact"] == b["value_left_exact"], "graph not continuous"
+for r in rows:
+    rise = F(r["value_right_exact"]) - F(r["value_left_exact"])
+    assert F(r["slope_exact"]) * (F(r["x_right_exact"]) - F(r["x_left_exact"])) == rise, "slope"
+bends = {F(r["x_left_exact"]) for r in rows[1:]}
+assert bends == {F(-1, 2), F(-1, 3), F(3, 8), F(2, 3), F(25, 6)}, bends
+PY
+
+# Bad arguments.
+"$pleat" draw "$fold" --out "$work/fold.png" > /dev/null 2>&1; [ $? -eq 2 ] || fail ".png accepted"
+"$pleat" draw "$fold" --out "$work/f.svg" --view 1,2,3 > /dev/null 2>&1; [ $? -eq 2 ] || fail "3-number view accepted"
+"$pleat" draw "$fold" --out "$work/f.svg" --view 2,1,0,1 > /dev/null 2>&1; [ $? -eq 2 ] || fail "empty view accepted"
+"$pleat" draw "$fold" --out "$work/f.svg" --color-by hue > /dev/null 2>&1; [ $? -eq 2 ] || fail "bad --color-by accepted"
+"$pleat" draw "$source_dir/data/sensor3d.json" --out "$work/f.svg" > /dev/null 2>&1; [ $? -eq 2 ] \
+  || fail "3 inputs accepted"
+echo ok
