@@ -2,6 +2,7 @@
 #include "cli/common.hpp"
 
 #include "core/network_io.hpp"
+#include "core/onnx_io.hpp"
 
 #include <cerrno>
 #include <charconv>
@@ -33,6 +34,7 @@ std::vector<std::string_view> split_commas(std::string_view text) {
 }  // namespace
 
 Network load_network(const std::string& path) {
+  if (path != "-" && is_onnx_path(path)) return read_onnx_file(path);  // ONNX models by extension
   if (path != "-") return read_network_file(path);
   const std::string text{std::istreambuf_iterator<char>(std::cin), std::istreambuf_iterator<char>()};
   try {

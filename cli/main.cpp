@@ -26,6 +26,8 @@ void register_verify(CommandTable& commands);
 void register_survey(CommandTable& commands);
 void register_inspect(CommandTable& commands);
 void register_draw(CommandTable& commands);
+void register_import(CommandTable& commands);
+void register_export(CommandTable& commands);
 
 namespace {
 
@@ -39,6 +41,8 @@ void register_all_commands(CommandTable& commands) {
   register_survey(commands);
   register_inspect(commands);
   register_draw(commands);
+  register_import(commands);
+  register_export(commands);
 }
 
 constexpr const char* description =
