@@ -228,6 +228,11 @@ Json result_to_json(const SampleArguments& arguments, const Domain& domain, cons
 
 void print_result(const Network& network, const Domain& domain, const SampleResult& result, std::ostream& out) {
   const FunctionalDimensionResult& certified = result.certified;
+  // An incomplete walk proves only a lower count: the regions it saw, or the
+  // distinct ones the points landed in, whichever is larger.
+  const std::string total = certified.walk_complete
+                                ? std::to_string(certified.walk.regions)
+                                : "at least " + std::to_string(std::max(certified.walk.regions, result.regions_touched));
   out << "domain                " << domain.describe() << "\n";
   out << "sampled rank          " << result.rank.customary << "  (double Jacobian at " << result.batch
       << " points, " << result.batch * network.output_dim() << " x " << certified.parametric_dimension
@@ -247,8 +252,7 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
         << "\n";
   else
     out << (result.verdict.empty() ? "undecided (within the proved bounds)" : result.verdict) << "\n";
-  out << "regions touched       " << result.regions_touched << " of "
-      << (certified.walk_complete ? std::to_string(certified.walk.regions) : "at least " + std::to_string(certified.walk.regions));
+  out << "regions touched       " << result.regions_touched << " of " << total;
   if (result.points_on_bent_hyperplanes)
     out << "  (" << result.points_on_bent_hyperplanes << " points fell on a bent hyperplane)";
   out << "\n";
@@ -256,8 +260,7 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
       << (result.first_batch_reaching ? std::to_string(*result.first_batch_reaching) + " points"
                                       : std::string("none within the batch"))
       << "\n";
-  out << "The sample touched " << result.regions_touched << " of the "
-      << (certified.walk_complete ? "" : "at least ") << certified.walk.regions
+  out << "The sample touched " << result.regions_touched << " of " << (certified.walk_complete ? "the " : "") << total
       << " regions that exist on this domain.\n"
          "A region no point lands in adds no rows, so a sampled rank can fall short of the\n"
          "certified value however accurate the SVD is.\n";
