@@ -9,9 +9,12 @@
 namespace pleat::cli {
 
 const std::vector<std::string>& categorical_palette() {
-  // Our own: straw, sky, apricot, teal, plum, slate; CIE L* about
-  // 92, 84, 72, 60, 50, 40 (checked by tests/reference/draw_svg_test.py).
-  static const std::vector<std::string> palette{"#fbe7a1", "#a6d8ea", "#ee9f5e", "#4e9e9a", "#9c5e93", "#35608f"};
+  // Our own: cream, sky, apricot, teal, lilac, slate. Light enough that black
+  // lines and labels read on all of them; CIE L* about 95, 87, 77, 69, 61, 54
+  // (at least 7 apart, checked by tests/reference/draw_plane_test.py), warm
+  // and cool hues alternating, so greyscale prints and colour-blind readers
+  // still tell neighbours apart by lightness.
+  static const std::vector<std::string> palette{"#fdf0c2", "#b9e0f0", "#f0b07c", "#74b5aa", "#b085bd", "#5f82b8"};
   return palette;
 }
 
