@@ -1,15 +1,32 @@
 #include "cli/signals.hpp"
 
 #include <csignal>
+#include <ctime>
 
 namespace pleat::cli {
 namespace {
 
 std::atomic<bool> interrupted{false};
+std::atomic<long long> first_signal_nanoseconds{0};
 
+long long monotonic_nanoseconds() {
+  timespec now{};
+  clock_gettime(CLOCK_MONOTONIC, &now);  // async-signal-safe (POSIX)
+  return static_cast<long long>(now.tv_sec) * 1000000000LL + now.tv_nsec;
+}
+
+// The first signal asks for a clean stop. A repeat within a second is the
+// same request delivered twice (timeout(1) signals the child and then its
+// process group), so it is ignored; a later one ends the process at once.
 extern "C" void on_interrupt(int signal_number) {
-  interrupted.store(true);
-  std::signal(signal_number, SIG_DFL);  // a second signal ends the process
+  if (!interrupted.exchange(true)) {
+    first_signal_nanoseconds.store(monotonic_nanoseconds());
+    return;
+  }
+  if (monotonic_nanoseconds() - first_signal_nanoseconds.load() >= 1000000000LL) {
+    std::signal(signal_number, SIG_DFL);
+    std::raise(signal_number);
+  }
 }
 
 }  // namespace

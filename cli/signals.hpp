@@ -1,5 +1,6 @@
 // Ctrl-C during a long run: the first SIGINT sets a flag the walker polls, so
-// the run stops cleanly and keeps what it found; a second one kills as usual.
+// the run stops cleanly and keeps what it found; a second one at least a
+// second later kills as usual.
 #pragma once
 
 #include <atomic>

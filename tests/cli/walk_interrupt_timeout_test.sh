@@ -1,14 +1,10 @@
 #!/usr/bin/env bash
-# KNOWN ISSUE (reported to the owner of cli/signals.cpp): `timeout -s INT T
-# pleat walk ...` must stop the walk cleanly (exit 130, summary printed,
-# regions kept), but in about 1 run in 5 pleat dies silently instead (killed by
-# SIGINT: no summary, no note on stderr). GNU timeout sends the signal to the
-# command and then to its whole process group (without --foreground), so pleat
-# receives SIGINT twice within microseconds; cli/signals.cpp restores SIG_DFL
-# on the first ("a second signal ends the process"), and the second one kills.
-# With `timeout --foreground` (one signal) the walk always stops cleanly
-# (walk_interrupt_test.sh). This test tries up to 20 times and fails at the
-# first silent death.
+# `timeout -s INT T pleat walk ...` must stop the walk cleanly (exit 130,
+# summary printed, regions kept). GNU timeout sends the signal to the command
+# and then to its whole process group (without --foreground), so pleat receives
+# SIGINT twice within microseconds; cli/signals.cpp treats a repeat within one
+# second as the same request (it used to die silently from the second one in
+# about 1 run in 5). This test tries 20 times and fails at the first death.
 set -u
 pleat=$1
 source_dir=$2
@@ -23,7 +19,7 @@ for try in $(seq 20); do
   status=$?
   [ $status -eq 130 ] || fail "try $try: exited $status, expected 130"
   [ -s "$work/out" ] ||
-    fail "KNOWN ISSUE, try $try: pleat died from the second SIGINT sent by timeout: no --json summary" \
+    fail "try $try: pleat died from the second SIGINT sent by timeout: no --json summary" \
          "($(($(wc -l < "$work/r.jsonl") - 1)) region lines written)"
   grep -q "interrupted" "$work/err" || fail "try $try: no interruption note on standard error"
 done
