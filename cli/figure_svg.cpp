@@ -68,7 +68,9 @@ class Layout {
 };
 
 void write_regions(const Figure& figure, const Layout& layout, std::ostream& out) {
-  out << "<g id=\"regions\" clip-path=\"url(#plot-clip)\" stroke-width=\"0.6\" stroke-linejoin=\"round\">\n";
+  // Behind a graph the bands are tinted only, so the curve stays the figure's subject.
+  out << "<g id=\"regions\" clip-path=\"url(#plot-clip)\" stroke-width=\"0.6\" stroke-linejoin=\"round\""
+      << (figure.graph.empty() ? "" : " fill-opacity=\"0.45\" stroke-opacity=\"0.45\"") << ">\n";
   for (const auto& polygon : figure.polygons) {
     const std::string& colour = figure.colours[polygon.colour];
     out << "<polygon id=\"region-" << polygon.region << "\" data-pattern=\"" << escape(polygon.pattern)

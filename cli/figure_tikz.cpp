@@ -10,7 +10,7 @@
 namespace pleat::cli {
 namespace {
 
-constexpr double plot_width_cm = 8.0;
+constexpr double plot_width_cm = 6.5;  // with the legend, fits an article's text width
 
 std::string number(double value) {
   char text[32];
@@ -71,7 +71,7 @@ std::string figure_tikz(const Figure& figure) {
   };
   out << "\\begin{scope}\n\\clip (0,0) rectangle (" << number(plot_width_cm) << "," << number(height_cm) << ");\n";
   for (const auto& polygon : figure.polygons) {
-    out << "\\fill[" << colour_name(polygon.colour) << "] ";
+    out << "\\fill[" << colour_name(polygon.colour) << (figure.graph.empty() ? "" : ", opacity=0.45") << "] ";
     for (const auto& p : polygon.vertices) out << "(" << x(p.x) << "," << y(p.y) << ") -- ";
     out << "cycle; % region " << polygon.region << "\n";
   }
