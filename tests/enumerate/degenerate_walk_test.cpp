@@ -254,18 +254,18 @@ TEST(DegenerateWalk, NearlyParallelHyperplanesAreExact) {
   EXPECT_EQ(result.summary.facets, 9u);
 }
 
-// KNOWN BUG (found by fuzzing small-integer networks against the brute force;
-// reported to the owner of lp/): on this network the process aborts inside
-// GLPK ("Assertion failed: k1 < k2", bflib/sgf.c:185) during
-// lp::Oracle::classify_facets (FacetFilter::classify -> WorkingRows::solve ->
-// glp_simplex -> glp_factorize). The region 0 < x < 1 has neuron 0's row
-// x > 0 four times (neurons 0, 2, 3, 4) and 1 - x > 0 twice (neurons 5, 6).
+// Regression (found by fuzzing small-integer networks against the brute
+// force): GLPK used to abort here ("Assertion failed: k1 < k2", bflib/sgf.c)
+// in lp::Oracle::classify_facets, fixed by running the LP queries on one
+// representative per class of positive multiples (commit 48b235f). The region
+// 0 < x < 1 has neuron 0's row x > 0 four times (neurons 0, 2, 3, 4) and
+// 1 - x > 0 twice (neurons 5, 6).
 // Expected, by hand: strips x < 0, 0 < x < 1, x > 1 halved by y = -1: 6
 // regions; neurons 2-4 are 'z' on x < 0 (no path to the output: smooth),
 // neuron 6 = relu(1 - relu(x)) is 'z' on x > 1 (output weight 1: non-smooth);
 // output 1, 1 - x, 0 on the strips: 3 linear regions.
-TEST(DegenerateWalk, KnownBugRepeatedRowsAbortInGlpk) {
-  const WalkResult result = walk_file("repeated_rows_glpk_abort2d.json");
+TEST(DegenerateWalk, RepeatedRowsWithZStates) {
+  const WalkResult result = walk_file("repeated_rows2d.json");
   expect_complete(result);
   EXPECT_EQ(result.patterns, (std::set<std::string>{"01|zzz1|1", "00|zzz1|1", "11|1111|1", "10|1111|1",
                                                     "11|1110|z", "10|1110|z"}));
@@ -273,15 +273,13 @@ TEST(DegenerateWalk, KnownBugRepeatedRowsAbortInGlpk) {
   EXPECT_EQ(result.summary.linear_regions, 3u);
 }
 
-// KNOWN BUG, the smallest reproducer found (same GLPK abort and stack as
-// above): five identical neurons relu(y) on the box (-1,1)^2. On R^2 the same
-// network walks fine; with four copies the box walk is fine too.
-// `pleat walk tests/data/five_coincident_glpk_abort2d.json --box -1,1` aborts.
+// Regression, the smallest reproducer of the same GLPK abort: five identical
+// neurons relu(y) on the box (-1,1)^2 (R^2 and four copies were always fine).
 // Expected, by hand: y = 0 splits the box into 2 regions, 11111 and 00000,
 // with 1 interior facet carrying neurons 0-4.
-TEST(DegenerateWalk, KnownBugFiveCoincidentRowsOnABoxAbortInGlpk) {
+TEST(DegenerateWalk, FiveCoincidentRowsOnABox) {
   const Domain box = make_box({Rational(-1), Rational(-1)}, {Rational(1), Rational(1)});
-  const WalkResult result = walk_file("five_coincident_glpk_abort2d.json", &box);
+  const WalkResult result = walk_file("five_coincident2d.json", &box);
   expect_complete(result);
   EXPECT_EQ(result.patterns, (std::set<std::string>{"11111", "00000"}));
   EXPECT_EQ(result.summary.facets, 1u);
