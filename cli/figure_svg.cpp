@@ -37,8 +37,11 @@ std::string escape(const std::string& text) {
 std::string axis_label(const std::string& label) {
   std::size_t digits = label.size();
   while (digits > 0 && std::isdigit(static_cast<unsigned char>(label[digits - 1]))) --digits;
-  std::string out = "<tspan font-style=\"italic\">" + escape(label.substr(0, digits)) + "</tspan>";
-  if (digits < label.size()) out += "<tspan font-size=\"8\" dy=\"3\">" + escape(label.substr(digits)) + "</tspan>";
+  // Appends only: GCC 12 warns falsely (-Wrestrict) on "literal" + std::string.
+  std::string out = "<tspan font-style=\"italic\">";
+  out.append(escape(label.substr(0, digits))).append("</tspan>");
+  if (digits < label.size())
+    out.append("<tspan font-size=\"8\" dy=\"3\">").append(escape(label.substr(digits))).append("</tspan>");
   return out;
 }
 
@@ -90,8 +93,8 @@ void write_lines(const Figure& figure, const Layout& layout, std::ostream& out) 
     std::string path;
     for (const auto& s : figure.segments)
       if (s.layer == layer)
-        path += "M" + number(layout.x(s.from.x)) + "," + number(layout.y(s.from.y)) + "L" +
-                number(layout.x(s.to.x)) + "," + number(layout.y(s.to.y));
+        path.append("M").append(number(layout.x(s.from.x))).append(",").append(number(layout.y(s.from.y)))
+            .append("L").append(number(layout.x(s.to.x))).append(",").append(number(layout.y(s.to.y)));
     if (path.empty()) continue;
     const LineStyle style = line_style(layer);
     out << "<path class=\"layer-" << layer + 1 << "\" stroke-width=\"" << style.width << "\"";

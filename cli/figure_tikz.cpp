@@ -41,9 +41,11 @@ std::string escape(const std::string& text) {
 std::string axis_label(const std::string& label) {
   std::size_t digits = label.size();
   while (digits > 0 && std::isdigit(static_cast<unsigned char>(label[digits - 1]))) --digits;
-  std::string out = "$" + label.substr(0, digits);
-  if (digits < label.size()) out += "_{" + label.substr(digits) + "}";
-  return out + "$";
+  // Appends only: GCC 12 warns falsely (-Wrestrict) on "literal" + std::string.
+  std::string out = "$";
+  out.append(label, 0, digits);
+  if (digits < label.size()) out.append("_{").append(label, digits, std::string::npos).append("}");
+  return out.append("$");
 }
 
 const char* dash_pattern(std::size_t layer) {
@@ -67,7 +69,9 @@ std::string figure_tikz(const Figure& figure) {
     out << "\\definecolor{pleatcolour" << static_cast<char>('a' + i % 26) << i / 26 << "}{HTML}{"
         << figure.colours[i].substr(1) << "}\n";
   auto colour_name = [](std::size_t i) {
-    return std::string("pleatcolour") + static_cast<char>('a' + i % 26) + std::to_string(i / 26);
+    std::string name = "pleatcolour";
+    name.push_back(static_cast<char>('a' + i % 26));
+    return name.append(std::to_string(i / 26));
   };
   out << "\\begin{scope}\n\\clip (0,0) rectangle (" << number(plot_width_cm) << "," << number(height_cm) << ");\n";
   for (const auto& polygon : figure.polygons) {

@@ -29,6 +29,39 @@ grep -q 'Rank contribution' "$work/rank.svg" || fail "rank legend missing"
 "$pleat" draw "$fold" --view=-3,3,-3,3 --out "$work/fold.csv" -q > /dev/null || fail "draw csv failed"
 head -1 "$work/fold.csv" | grep -qx 'region,pattern,vertex,x,y,x_exact,y_exact' || fail "CSV header"
 
+# Degenerate arrangements (coincident, parallel, concurrent, dead and
+# identically-zero neurons): the polygons still tile the view exactly and the
+# printed counts satisfy Euler's V - E + F = 1.
+for net in "$source_dir"/tests/data/*2d.json "$source_dir"/data/degenerate2d.json; do
+  out=$("$pleat" draw "$net" --view -2,2,-2,2 --out "$work/d.csv" -q) || fail "draw $net failed"
+  /usr/bin/python3 - "$work/d.csv" "$out" <<'PY' || fail "$net: not an exact tiling: $out"
+import csv, re, sys
+from fractions import Fraction as F
+polygons = {}
+for r in csv.DictReader(open(sys.argv[1])):
+    polygons.setdefault(r["region"], []).append((F(r["x_exact"]), F(r["y_exact"])))
+areas = [sum(p[0] * q[1] - p[1] * q[0] for p, q in zip(v, v[1:] + v[:1])) / 2 for v in polygons.values()]
+assert all(a > 0 for a in areas) and sum(areas) == 16, areas
+f, e, v = map(int, re.search(r"(\d+) regions, (\d+) edges, (\d+) vertices", sys.argv[2]).groups())
+assert v - e + f == 1 and f == len(polygons), (v, e, f)
+PY
+done
+
+# A saved walk of all of R^2, clipped to the view, gives the same polygons
+# (by pattern and vertex set) as a walk of the view itself.
+"$pleat" walk "$fold" -q -o "$work/whole.jsonl" > /dev/null || fail "walk failed"
+"$pleat" draw "$fold" --from "$work/whole.jsonl" --view -3,3,-3,3 --out "$work/from.csv" > /dev/null \
+  || fail "--from failed"
+/usr/bin/python3 - "$work/from.csv" "$work/fold.csv" <<'PY' || fail "--from of an R^2 walk differs"
+import csv, sys
+def load(name):
+    polygons = {}
+    for r in csv.DictReader(open(name)):
+        polygons.setdefault(r["pattern"], set()).add((r["x_exact"], r["y_exact"]))
+    return polygons
+assert load(sys.argv[1]) == load(sys.argv[2])
+PY
+
 # One input: exact pieces.
 "$pleat" draw "$ramp" --view -2,5 --out "$work/ramp.csv" -q > /dev/null || fail "1-D csv failed"
 "$pleat" draw "$ramp" --view -2,5 --out "$work/ramp.svg" -q > /dev/null || fail "1-D svg failed"
