@@ -113,7 +113,8 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
   record.source = path;
 
   std::uintmax_t keep_bytes = 0;
-  if (!path.empty() && std::filesystem::exists(path) && std::filesystem::file_size(path) > 0) {
+  // Only a regular file can hold earlier samples (-o /dev/null is fine too).
+  if (!path.empty() && std::filesystem::is_regular_file(path) && std::filesystem::file_size(path) > 0) {
     SurveyFile existing = read_survey_file(path);
     if (!existing.header.is_null()) {
       const std::string difference = header_difference(existing.header, record.header);

@@ -220,14 +220,15 @@ std::string histogram_svg(const SurveyRecord& record, const SurveySummary& summa
       svg << "<text x=\"" << x_of(value) << "\" y=\"" << y - 4 << "\" font-size=\"11\" text-anchor=\"middle\" fill=\""
           << ink << "\">" << count << "</text>\n";
   }
-  // Axes and value ticks (every value when few, else a round step).
+  // The value axis.
   const double base = top + plot_height;
   svg << "<line x1=\"" << left << "\" y1=\"" << base << "\" x2=\"" << width - right << "\" y2=\"" << base
       << "\" stroke=\"" << ink << "\" stroke-width=\"1.5\"/>\n";
   if (has_values) {
+    // Every value when few, else the multiples of a round step.
     const std::size_t value_step = bins <= 24 ? 1 : tick_step(bins / 2);
     for (std::size_t value = low; value <= high; ++value) {
-      if ((value - low) % value_step != 0 && value != high) continue;
+      if (value % value_step != 0) continue;
       svg << "<text x=\"" << x_of(value) << "\" y=\"" << base + 18 << "\" font-size=\"12\" text-anchor=\"middle\" fill=\""
           << ink << "\">" << value << "</text>\n";
     }
