@@ -35,7 +35,7 @@ struct DrawArguments {
   std::uint64_t threads = 0;
 };
 
-enum class Format { svg, tikz, csv };
+enum class Format { svg, tikz, csv, off };
 
 Format format_of(const std::string& path) {
   auto ends_with = [&](const std::string& suffix) {
@@ -44,7 +44,8 @@ Format format_of(const std::string& path) {
   if (ends_with(".svg")) return Format::svg;
   if (ends_with(".tex")) return Format::tikz;
   if (ends_with(".csv")) return Format::csv;
-  throw input_error("--out: " + path + ": the name must end in .svg, .tex or .csv");
+  if (ends_with(".off")) return Format::off;
+  throw input_error("--out: " + path + ": the name must end in .svg, .tex, .csv or .off (3 inputs)");
 }
 
 struct View {
@@ -438,12 +439,114 @@ Drawn draw_line(const Network& network, const std::vector<Region>& regions, cons
   return result;
 }
 
+// Three inputs: every region clipped to the view box as a closed polytope
+// surface in the OFF format (vertices from cddlib's exact enumeration, faces
+// ordered counter-clockwise seen from outside), one colour per region from a
+// greedy colouring of the walk's facet adjacency.
+Drawn draw_mesh(const Network& network, const std::vector<Region>& regions, const View& view, bool from_file) {
+  std::map<RationalVector, std::size_t> vertex_index;
+  std::vector<RationalVector> vertices;
+  struct Face {
+    std::vector<std::size_t> corners;
+    std::size_t region;
+  };
+  std::vector<Face> faces;
+  std::map<ActivationPattern, std::size_t> index_of;
+  for (std::size_t i = 0; i < regions.size(); ++i) index_of.emplace(regions[i].pattern, i);
+  std::vector<std::set<std::size_t>> adjacent(regions.size());
+  std::size_t drawn_regions = 0;
+  for (std::size_t r = 0; r < regions.size(); ++r) {
+    const Region& region = regions[r];
+    for (const auto& facet : region.facets)
+      if (facet.neighbor && index_of.count(*facet.neighbor)) {
+        adjacent[r].insert(index_of[*facet.neighbor]);
+        adjacent[index_of[*facet.neighbor]].insert(r);
+      }
+    lp::Polyhedron cell = closed_cell(region, from_file);
+    for (std::size_t axis = 0; axis < 3; ++axis) {
+      RationalVector e(3, Rational(0));
+      e[axis] = 1;
+      cell.constraints.push_back(lp::Constraint{e, -view.lower[axis]});
+      e[axis] = -1;
+      cell.constraints.push_back(lp::Constraint{e, view.upper[axis]});
+    }
+    const VertexRepresentation rep = vertex_representation(cell, region.point);
+    if (rep.points.size() < 4) continue;
+    ++drawn_regions;
+    std::set<std::vector<std::size_t>> seen_faces;
+    for (const auto& c : cell.constraints) {
+      std::vector<RationalVector> on_face;
+      for (const auto& p : rep.points)
+        if (c.normal[0] * p[0] + c.normal[1] * p[1] + c.normal[2] * p[2] + c.offset == 0) on_face.push_back(p);
+      if (on_face.size() < 3) continue;
+      // Order around the centroid in the plane of the two coordinates the
+      // face projects onto without collapsing (drop the largest normal entry).
+      std::size_t drop = 0;
+      for (std::size_t k = 1; k < 3; ++k)
+        if (abs(c.normal[k]) > abs(c.normal[drop])) drop = k;
+      const std::size_t u = drop == 0 ? 1 : 0, w = drop == 2 ? 1 : 2;
+      auto project = [&](const RationalVector& p) { return RationalVector{p[u], p[w]}; };
+      RationalVector centre(2, Rational(0));
+      for (const auto& p : on_face) {
+        centre[0] += p[u];
+        centre[1] += p[w];
+      }
+      centre[0] /= static_cast<long>(on_face.size());
+      centre[1] /= static_cast<long>(on_face.size());
+      std::vector<RationalVector> flat;
+      for (const auto& p : on_face) flat.push_back(project(p));
+      sort_counter_clockwise(flat, centre);
+      std::vector<RationalVector> ordered;
+      for (const auto& q : flat)
+        for (const auto& p : on_face)
+          if (project(p) == q) ordered.push_back(p);
+      // Outward is -normal (the region is where normal.x + offset > 0): the
+      // projected turn must have the sign of -normal[drop] times the
+      // orientation of the (u, w) axes in R^3 (+1 unless drop == 1).
+      const int axes_sign = drop == 1 ? -1 : 1;
+      if ((c.normal[drop] > 0 ? -1 : 1) * axes_sign < 0) std::reverse(ordered.begin(), ordered.end());
+      Face face{{}, r};
+      for (const auto& p : ordered) {
+        auto [it, inserted] = vertex_index.emplace(p, vertices.size());
+        if (inserted) vertices.push_back(p);
+        face.corners.push_back(it->second);
+      }
+      std::vector<std::size_t> key = face.corners;
+      std::sort(key.begin(), key.end());
+      if (seen_faces.insert(key).second) faces.push_back(std::move(face));
+    }
+  }
+  const std::vector<std::size_t> colour = smallest_last_colouring(adjacent);
+  std::vector<std::string> palette = categorical_palette();
+  std::ostringstream out;
+  out << "OFF\n# regions of a ReLU network clipped to " << describe_view(view) << ", written by pleat draw\n";
+  out << vertices.size() << " " << faces.size() << " 0\n";
+  for (const auto& p : vertices)
+    out << format_double(to_double(p[0])) << " " << format_double(to_double(p[1])) << " "
+        << format_double(to_double(p[2])) << "\n";
+  for (const auto& face : faces) {
+    out << face.corners.size();
+    for (std::size_t index : face.corners) out << " " << index;
+    const std::string hex = colour[face.region] < palette.size() ? palette[colour[face.region]]
+                                                                 : sequential_colour(0.5);
+    for (int k = 0; k < 3; ++k)
+      out << " " << format_double(std::stoi(hex.substr(1 + 2 * k, 2), nullptr, 16) / 255.0);
+    out << "\n";
+  }
+  (void)network;
+  return Drawn{out.str(), vertices.size(), faces.size(), drawn_regions};
+}
+
 int run_draw(const DrawArguments& arguments) {
   const Network network = load_network(arguments.network_path);
   const std::size_t dim = network.input_dim;
-  if (dim != 1 && dim != 2)
-    throw input_error("draw: the network has " + std::to_string(dim) + " inputs; draw handles 1 (a graph) or 2 (regions)");
   const Format format = format_of(arguments.output_path);
+  if (dim == 3 && format != Format::off)
+    throw input_error("draw: with 3 inputs only a mesh is written: --out FILE.off");
+  if (dim != 3 && format == Format::off) throw input_error("draw: .off meshes are for networks with 3 inputs");
+  if (dim < 1 || dim > 3)
+    throw input_error("draw: the network has " + std::to_string(dim) + " inputs; draw handles 1 (a graph), "
+                      "2 (regions) or 3 (a mesh)");
 
   std::optional<View> view;
   if (!arguments.view_text.empty()) {
@@ -471,11 +574,15 @@ int run_draw(const DrawArguments& arguments) {
     regions = walk_all(network, make_box(view->lower, view->upper), arguments);
   }
 
-  const Drawn drawn = dim == 2 ? draw_plane(network, regions, *view, from_file, arguments, format)
-                               : draw_line(network, regions, *view, arguments, format);
+  const Drawn drawn = dim == 3   ? draw_mesh(network, regions, *view, from_file)
+                      : dim == 2 ? draw_plane(network, regions, *view, from_file, arguments, format)
+                                 : draw_line(network, regions, *view, arguments, format);
   write_output(arguments.output_path, drawn.text);
   std::cout << "view        " << describe_view(*view) << "\n";
-  if (dim == 2)
+  if (dim == 3)
+    std::cout << "mesh        " << drawn.regions << " regions, " << drawn.edges << " faces, " << drawn.vertices
+              << " distinct vertices (exact, clipped to the view; one closed surface per region)\n";
+  else if (dim == 2)
     std::cout << "complex     " << drawn.regions << " regions, " << drawn.edges << " edges, " << drawn.vertices
               << " vertices (exact, clipped to the view)\n";
   else

@@ -1,0 +1,42 @@
+#!/usr/bin/env bash
+# pleat draw with 3 inputs writes an OFF mesh: one closed surface per region
+# clipped to the view box, faces counter-clockwise seen from outside. Witness:
+# by the divergence theorem the signed volumes of all faces' fan tetrahedra
+# (about the origin) add up to the regions' volumes, which tile the box, so
+# the sum must be the box's volume (float, 1e-9 relative); taken about a
+# second origin it must not change (it would for a surface with holes).
+set -u
+pleat=$1
+source_dir=$2
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+out=$("$pleat" draw "$source_dir/data/sensor3d.json" --view -2,2,-1,3,-3/2,1 --out "$work/s.off" -q) \
+  || fail "draw .off failed"
+case "$out" in *"mesh "*regions*faces*) ;; *) fail "no mesh counts: $out" ;; esac
+/usr/bin/python3 - "$work/s.off" <<'PY' || fail "mesh does not enclose the box's volume"
+import sys
+lines = [l for l in open(sys.argv[1]) if l.strip() and not l.startswith("#")]
+assert lines[0].strip() == "OFF"
+nv, nf, _ = map(int, lines[1].split())
+vs = [tuple(map(float, l.split())) for l in lines[2:2 + nv]]
+def enclosed(origin):
+    total = 0.0
+    for l in lines[2 + nv:2 + nv + nf]:
+        items = l.split()
+        k = int(items[0])
+        assert len(items) == 1 + k + 3, "expected an RGB colour per face"
+        face = [tuple(x - o for x, o in zip(vs[int(i)], origin)) for i in items[1:1 + k]]
+        for b, c in zip(face[1:], face[2:]):
+            a = face[0]
+            total += (a[0] * (b[1] * c[2] - b[2] * c[1]) - a[1] * (b[0] * c[2] - b[2] * c[0])
+                      + a[2] * (b[0] * c[1] - b[1] * c[0])) / 6
+    return total
+box = 4 * 4 * 2.5
+for origin in [(0, 0, 0), (7, -5, 11)]:
+    total = enclosed(origin)
+    assert abs(total - box) < 1e-9 * box, (origin, total, box)
+PY
+"$pleat" draw "$source_dir/data/fold2d.json" --out "$work/f.off" > /dev/null 2>&1; [ $? -eq 2 ] \
+  || fail ".off accepted for 2 inputs"
+echo ok
