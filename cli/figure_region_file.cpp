@@ -1,76 +1,12 @@
 #include "cli/figure_region_file.hpp"
 
 #include "cli/common.hpp"
+#include "cli/region_file_reader.hpp"
 
 #include <fstream>
 
 namespace pleat::cli {
 namespace {
-
-class LineReader {
- public:
-  LineReader(const Network& network, std::size_t line) : network_(network), line_(line) {}
-  [[noreturn]] void fail(const std::string& what) const {
-    throw input_error("line " + std::to_string(line_) + ": " + what);
-  }
-  const Json& field(const Json& object, const char* key) const {
-    if (!object.is_object() || !object.contains(key)) fail(std::string("missing key \"") + key + "\"");
-    return object.at(key);
-  }
-  Rational rational(const Json& value) const {
-    if (!value.is_string()) fail("expected an exact number as a string, found " + value.dump());
-    try {
-      return parse_rational(value.get<std::string>());
-    } catch (const input_error& fault) {
-      fail(fault.what());
-    }
-  }
-  RationalVector rationals(const Json& value) const {
-    if (!value.is_array()) fail("expected a list of numbers, found " + value.dump());
-    RationalVector out;
-    for (const auto& item : value) out.push_back(rational(item));
-    return out;
-  }
-  ActivationPattern pattern(const Json& value) const {
-    if (!value.is_string()) fail("expected a pattern string, found " + value.dump());
-    try {
-      return parse_pattern(network_, value.get<std::string>());
-    } catch (const input_error& fault) {
-      fail(fault.what());
-    }
-  }
-
- private:
-  const Network& network_;
-  std::size_t line_;
-};
-
-Domain read_domain(const Json& value, std::size_t input_dim, const LineReader& reader) {
-  if (value.is_string()) {
-    if (value.get<std::string>() != "R^" + std::to_string(input_dim))
-      reader.fail("domain " + value.dump() + " does not match the network's " + std::to_string(input_dim) + " inputs");
-    return make_whole_space(input_dim);
-  }
-  if (value.is_object() && value.contains("box")) {
-    RationalVector lower, upper;
-    for (const auto& interval : value.at("box")) {
-      const RationalVector bounds = reader.rationals(interval);
-      if (bounds.size() != 2) reader.fail("a box interval needs two numbers");
-      lower.push_back(bounds[0]);
-      upper.push_back(bounds[1]);
-    }
-    if (lower.size() != input_dim) reader.fail("the box's dimension differs from the network's");
-    return make_box(lower, upper);
-  }
-  if (value.is_object() && value.contains("constraints")) {
-    std::vector<lp::Constraint> constraints;
-    for (const auto& c : value.at("constraints"))
-      constraints.push_back(lp::Constraint{reader.rationals(reader.field(c, "normal")),
-                                           reader.rational(reader.field(c, "offset"))});
-    return make_polytope(input_dim, std::move(constraints));
-  }
-  reader.fail("unknown domain " + value.dump());
-}
 
 Region read_region(const Network& network, const Json& line, const LineReader& reader) {
   Region region;
@@ -132,7 +68,7 @@ SavedWalk read_saved_walk(const Network& network, const std::string& path) {
       if (!has_header) {
         if (!line.is_object() || line.value("format", "") != "pleat-regions/1")
           reader.fail("expected the header line with \"format\": \"pleat-regions/1\"");
-        walk.domain = read_domain(reader.field(line, "domain"), network.input_dim, reader);
+        walk.domain = domain_from_json(reader.field(line, "domain"), network.input_dim, reader);
         has_header = true;
         continue;
       }

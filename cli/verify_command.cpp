@@ -1,6 +1,7 @@
 // pleat verify: re-check a saved walk with exact arithmetic alone.
 #include "cli/command.hpp"
 #include "cli/common.hpp"
+#include "cli/region_file_reader.hpp"
 #include "enumerate/walk_check.hpp"
 
 #include <algorithm>
@@ -14,97 +15,6 @@ struct VerifyArguments {
   std::string network_path;
   std::string regions_path;
 };
-
-// Reading a region file: every fault names the line and the key.
-class LineReader {
- public:
-  LineReader(const Network& network, std::size_t line) : network_(network), line_(line) {}
-
-  [[noreturn]] void fail(const std::string& what) const {
-    throw input_error("line " + std::to_string(line_) + ": " + what);
-  }
-  const Json& field(const Json& object, const char* key) const {
-    if (!object.is_object() || !object.contains(key)) fail(std::string("missing key \"") + key + "\"");
-    return object.at(key);
-  }
-  Rational rational(const Json& value) const {
-    if (!value.is_string()) fail("expected an exact number as a string, found " + value.dump());
-    try {
-      return parse_rational(value.get<std::string>());
-    } catch (const input_error& fault) {
-      fail(fault.what());
-    }
-  }
-  RationalVector rationals(const Json& value) const {
-    if (!value.is_array()) fail("expected a list of numbers, found " + value.dump());
-    RationalVector out;
-    for (const auto& item : value) out.push_back(rational(item));
-    return out;
-  }
-  std::vector<std::size_t> indices(const Json& value) const {
-    if (!value.is_array()) fail("expected a list of indices, found " + value.dump());
-    std::vector<std::size_t> out;
-    for (const auto& item : value) {
-      if (!item.is_number_unsigned()) fail("expected a non-negative integer, found " + item.dump());
-      out.push_back(item.get<std::size_t>());
-    }
-    return out;
-  }
-  ActivationPattern pattern(const Json& value) const {
-    if (!value.is_string()) fail("expected a pattern string, found " + value.dump());
-    try {
-      return parse_pattern(network_, value.get<std::string>());
-    } catch (const input_error& fault) {
-      fail(fault.what());
-    }
-  }
-  RationalVector sparse(const Json& value, std::size_t size) const {
-    if (!value.is_object()) fail("expected multipliers as an object {index: value}");
-    RationalVector out(size, Rational(0));
-    for (const auto& [key, entry] : value.items()) {
-      std::size_t index = 0;
-      try {
-        index = parse_unsigned(key, "multiplier index");
-      } catch (const input_error& fault) {
-        fail(fault.what());
-      }
-      if (index >= size) fail("multiplier index " + key + " beyond the " + std::to_string(size) + " constraints");
-      out[index] = rational(entry);
-    }
-    return out;
-  }
-
- private:
-  const Network& network_;
-  std::size_t line_;
-};
-
-Domain domain_from_json(const Json& value, std::size_t input_dim, const LineReader& reader) {
-  if (value.is_string()) {
-    if (value.get<std::string>() != "R^" + std::to_string(input_dim))
-      reader.fail("domain " + value.dump() + " does not match the network's " + std::to_string(input_dim) + " inputs");
-    return make_whole_space(input_dim);
-  }
-  if (value.is_object() && value.contains("box")) {
-    RationalVector lower, upper;
-    for (const auto& interval : value.at("box")) {
-      const RationalVector bounds = reader.rationals(interval);
-      if (bounds.size() != 2) reader.fail("a box interval needs two numbers");
-      lower.push_back(bounds[0]);
-      upper.push_back(bounds[1]);
-    }
-    if (lower.size() != input_dim) reader.fail("the box's dimension differs from the network's");
-    return make_box(lower, upper);
-  }
-  if (value.is_object() && value.contains("constraints")) {
-    std::vector<lp::Constraint> constraints;
-    for (const auto& c : value.at("constraints"))
-      constraints.push_back(lp::Constraint{reader.rationals(reader.field(c, "normal")),
-                                           reader.rational(reader.field(c, "offset"))});
-    return make_polytope(input_dim, std::move(constraints));
-  }
-  reader.fail("unknown domain " + value.dump());
-}
 
 SavedRegion read_region(const Json& line, const LineReader& reader, std::size_t number) {
   SavedRegion region;

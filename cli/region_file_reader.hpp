@@ -1,0 +1,35 @@
+// Reading region files (pleat-regions/1) back: shared by verify and draw --from.
+// Every fault is an input_error naming the line and the key.
+#pragma once
+
+#include "cli/common.hpp"
+#include "core/pattern.hpp"
+#include "enumerate/domain.hpp"
+
+#include <cstddef>
+#include <string>
+#include <vector>
+
+namespace pleat::cli {
+
+class LineReader {
+ public:
+  LineReader(const Network& network, std::size_t line) : network_(network), line_(line) {}
+
+  [[noreturn]] void fail(const std::string& what) const;
+  const Json& field(const Json& object, const char* key) const;
+  Rational rational(const Json& value) const;             // an exact number written as a string
+  RationalVector rationals(const Json& value) const;
+  std::vector<std::size_t> indices(const Json& value) const;
+  ActivationPattern pattern(const Json& value) const;
+  RationalVector sparse(const Json& value, std::size_t size) const;  // {"index": value}, zero elsewhere
+
+ private:
+  const Network& network_;
+  std::size_t line_;
+};
+
+// The header's "domain" (as cli/region_json.cpp's domain_to_json writes it).
+Domain domain_from_json(const Json& value, std::size_t input_dim, const LineReader& reader);
+
+}  // namespace pleat::cli
