@@ -169,6 +169,8 @@ int run_survey_command(const SurveyArguments& arguments) {
   if (arguments.architectures.empty()) throw input_error("--arch is required (e.g. --arch 2,5,5,5,1)");
   if (!arguments.seed) throw input_error("--seed is required");
   if (arguments.samples == 0) throw input_error("--samples: give the number of samples (at least 1)");
+  // The samples still to run are listed in memory; a billion is far beyond any survey that finishes.
+  if (arguments.samples > 1000000000) throw input_error("--samples: at most 1000000000");
   const ShardSet shard = parse_shard(arguments.shard_text, "--shard");
   if (shard.indices.size() != 1) throw input_error("--shard: give one shard I/M");
   const bool is_grid = arguments.architectures.size() > 1;

@@ -36,7 +36,9 @@ std::pair<std::size_t, std::size_t> histogram_range(const SurveySummary& summary
 }
 
 std::string describe_configuration(const Json& header) {
-  std::string domain = header["domain"].is_string() ? header["domain"].get<std::string>() : header["domain"].dump();
+  // "box:(-1,1)x(-1,1)" as the other commands print it.
+  const std::string domain = header["domain"].is_string() ? header["domain"].get<std::string>()
+                                                          : configuration_from_header(header, "survey").domain.describe();
   std::string text = "init " + header["init"].get<std::string>() + ", " + std::to_string(header["digits"].get<int>()) +
                      " digits, seed " + std::to_string(header["seed"].get<std::uint64_t>()) + ", domain " + domain;
   if (header["shard"] != "0/1") text += ", shard " + header["shard"].get<std::string>();
