@@ -61,4 +61,13 @@ std::string tick_text(double value) {
   return text;
 }
 
+std::string fixed_point_text(double value, int decimals) {
+  char text[48];
+  std::snprintf(text, sizeof text, "%.*f", decimals, value);
+  std::string out = text;
+  while (!out.empty() && out.back() == '0') out.pop_back();
+  if (!out.empty() && out.back() == '.') out.pop_back();
+  return out == "-0" ? "0" : out;
+}
+
 }  // namespace pleat::cli

@@ -12,14 +12,7 @@ namespace {
 constexpr double left_margin = 52, top_margin = 14, bottom_margin = 44, legend_gap = 22, legend_width = 190;
 constexpr double plot_width = 420;
 
-std::string number(double value) {
-  char text[32];
-  std::snprintf(text, sizeof text, "%.2f", value);
-  std::string out = text;
-  while (!out.empty() && out.back() == '0') out.pop_back();
-  if (!out.empty() && out.back() == '.') out.pop_back();
-  return out == "-0" ? "0" : out;
-}
+std::string number(double value) { return fixed_point_text(value, 2); }
 
 std::string escape(const std::string& text) {
   std::string out;

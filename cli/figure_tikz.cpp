@@ -12,14 +12,7 @@ namespace {
 
 constexpr double plot_width_cm = 6.5;  // with the legend, fits an article's text width
 
-std::string number(double value) {
-  char text[32];
-  std::snprintf(text, sizeof text, "%.3f", value);
-  std::string out = text;
-  while (!out.empty() && out.back() == '0') out.pop_back();
-  if (!out.empty() && out.back() == '.') out.pop_back();
-  return out == "-0" ? "0" : out;
-}
+std::string number(double value) { return fixed_point_text(value, 3); }
 
 std::string escape(const std::string& text) {
   std::string out;

@@ -165,6 +165,24 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
   return record;
 }
 
+// One survey's summary, or one row per survey of a grid; JSON or text.
+void print_report(const std::vector<SurveyRecord>& records, const std::vector<SurveySummary>& summaries,
+                  bool is_json) {
+  if (is_json) {
+    if (records.size() == 1) {
+      std::cout << json_text(summary_to_json(records[0], summaries[0]));
+    } else {
+      Json grid{{"format", "pleat-survey-grid/1"}, {"surveys", Json::array()}};
+      for (std::size_t k = 0; k < records.size(); ++k) grid["surveys"].push_back(summary_to_json(records[k], summaries[k]));
+      std::cout << json_text(grid);
+    }
+  } else if (records.size() == 1) {
+    print_summary(records[0], summaries[0], std::cout);
+  } else {
+    print_grid(records, summaries, std::cout);
+  }
+}
+
 int run_survey_command(const SurveyArguments& arguments) {
   if (arguments.architectures.empty()) throw input_error("--arch is required (e.g. --arch 2,5,5,5,1)");
   if (!arguments.seed) throw input_error("--seed is required");
@@ -202,19 +220,7 @@ int run_survey_command(const SurveyArguments& arguments) {
 
   std::vector<SurveySummary> summaries;
   for (const SurveyRecord& record : records) summaries.push_back(summarize_survey(record.samples));
-  if (arguments.json) {
-    if (records.size() == 1) {
-      std::cout << json_text(summary_to_json(records[0], summaries[0]));
-    } else {
-      Json grid{{"format", "pleat-survey-grid/1"}, {"surveys", Json::array()}};
-      for (std::size_t k = 0; k < records.size(); ++k) grid["surveys"].push_back(summary_to_json(records[k], summaries[k]));
-      std::cout << json_text(grid);
-    }
-  } else if (records.size() == 1) {
-    print_summary(records[0], summaries[0], std::cout);
-  } else {
-    print_grid(records, summaries, std::cout);
-  }
+  print_report(records, summaries, arguments.json);
   if (is_interrupted) {
     std::cerr << "pleat: interrupted; the finished samples are saved. Run the same command again to resume.\n";
     return 130;
@@ -237,19 +243,7 @@ int run_summary(const SurveyArguments& arguments) {
     records.push_back(load_record(path));
     summaries.push_back(summarize_survey(records.back().samples));
   }
-  if (arguments.json) {
-    if (records.size() == 1) {
-      std::cout << json_text(summary_to_json(records[0], summaries[0]));
-    } else {
-      Json grid{{"format", "pleat-survey-grid/1"}, {"surveys", Json::array()}};
-      for (std::size_t k = 0; k < records.size(); ++k) grid["surveys"].push_back(summary_to_json(records[k], summaries[k]));
-      std::cout << json_text(grid);
-    }
-  } else if (records.size() == 1) {
-    print_summary(records[0], summaries[0], std::cout);
-  } else {
-    print_grid(records, summaries, std::cout);
-  }
+  print_report(records, summaries, arguments.json);
   return 0;
 }
 
