@@ -1,6 +1,8 @@
 // Exact and double evaluation; affine maps of a network on one pattern.
 #include "core/evaluate.hpp"
 
+#include "core/stop.hpp"
+
 #include <string>
 
 namespace pleat {
@@ -66,6 +68,7 @@ PatternMaps maps_on_pattern(const Network& network, const ActivationPattern& pat
   AffineMap current = identity_map(network.input_dim);
   std::size_t first_neuron = 0;
   for (std::size_t k = 0; k < network.depth(); ++k) {
+    poll_stop();  // deep networks: one region's maps can take minutes of exact work
     const Layer& layer = network.layers[k];
     check_layer_shape(layer, k);
     maps.preactivation.push_back(compose_layer(layer, current));

@@ -64,17 +64,6 @@ std::size_t relu_layers(const Network& network) { return network.relu_layer_coun
 
 }  // namespace
 
-std::string to_string(StopReason reason) {
-  switch (reason) {
-    case StopReason::none: return "";
-    case StopReason::time_limit: return "time-limit";
-    case StopReason::max_regions: return "max-regions";
-    case StopReason::interrupted: return "interrupted";
-    case StopReason::requested: return "requested";
-  }
-  return "";
-}
-
 std::optional<PatternCell> build_pattern_cell(const Network& network, const Domain& domain,
                                               const ActivationPattern& pattern) {
   if (pattern.states.size() != network.relu_neuron_count())
@@ -123,6 +112,7 @@ std::optional<ActivationPattern> region_pattern_at(const Network& network, const
   pattern.states.resize(network.relu_neuron_count());
   AffineMap post = identity_map(network.input_dim);
   for (std::size_t k = 0; k < relu_layers(network); ++k) {
+    poll_stop();
     const AffineMap pre = compose_layer(network.layers[k], post);
     const RationalVector values = pre(point);
     const std::size_t first = network.first_neuron_of_layer(k);
@@ -162,7 +152,7 @@ AffineMap far_preactivation(const Crossing& crossing, std::size_t k, std::size_t
                                       std::span(near_pattern.states)
                                           .subspan(network.first_neuron_of_layer(first_changed - 1),
                                                    network.layers[first_changed - 1].width()));
-  for (std::size_t j = first_changed; j < k; ++j)
+  for (std::size_t j = first_changed; j < k; ++j, poll_stop())
     post = apply_states(compose_layer(network.layers[j], post),
                         std::span(pattern.states).subspan(network.first_neuron_of_layer(j), network.layers[j].width()));
   return compose_layer(network.layers[k], post);
@@ -181,6 +171,7 @@ void extend_across(const Crossing& crossing, std::size_t k, std::size_t first_ch
     out.push_back(pattern);
     return;
   }
+  poll_stop();
   const RationalVector& values = crossing.values_at_q[k];
   const std::size_t first = network.first_neuron_of_layer(k);
   const bool has_vanishing = std::any_of(values.begin(), values.end(), [](const Rational& v) { return v == 0; });
@@ -376,11 +367,73 @@ class DisjointSets {
   std::vector<std::size_t> parent_;
 };
 
+// For p(t) = sum_i a_i t^i not identically zero, a k >= 1 such that p has no
+// root in (0, 2^-k]: with a_m the lowest nonzero coefficient and M the largest
+// |a_i| above it, a root 0 < t < 1 has |a_m| <= M (t + t^2 + ...) = M t / (1 - t),
+// so t >= |a_m| / (|a_m| + M). Exact.
+std::size_t root_free_exponent(const RationalVector& coefficients) {
+  std::size_t m = 0;
+  while (coefficients[m] == 0) ++m;
+  Rational largest_above = 0;
+  for (std::size_t i = m + 1; i < coefficients.size(); ++i) largest_above = std::max(largest_above, Rational(abs(coefficients[i])));
+  if (largest_above == 0) return 1;
+  const Rational lowest = abs(coefficients[m]);
+  const Rational ratio = lowest / (lowest + largest_above);  // in (0, 1)
+  // ratio >= 2^(bits(num) - 1 - bits(den)) > 2^-k for k below.
+  const std::size_t numerator_bits = mpz_sizeinbase(ratio.get_num_mpz_t(), 2);
+  const std::size_t denominator_bits = mpz_sizeinbase(ratio.get_den_mpz_t(), 2);
+  return denominator_bits + 2 - std::min(numerator_bits, denominator_bits + 1);
+}
+
+// The affine function normal . x + offset along the moment curve
+// x(t) = centre + (t, t^2, ..., t^n), as the coefficients of a polynomial in t.
+RationalVector along_moment_curve(const RationalVector& normal, const Rational& offset, const RationalVector& centre) {
+  RationalVector coefficients{dot(normal, centre) + offset};
+  coefficients.insert(coefficients.end(), normal.begin(), normal.end());
+  return coefficients;
+}
+
+// A point of the domain off every bent hyperplane, for a domain of any size:
+// on the moment curve x(t) = centre + (t, ..., t^n), every pre-activation is,
+// layer by layer, a polynomial in t of degree <= n (the states below being
+// constant for small t), which is identically zero (a 'z' neuron) or has no
+// root in (0, 2^-k] for the k of root_free_exponent; the domain's constraints
+// likewise stay positive. So t = 2^-k for the largest such k works. Exact.
+RationalVector point_off_bent_hyperplanes(const Network& network, const Domain& domain, const RationalVector& centre) {
+  std::size_t exponent = 1;
+  for (const auto& side : domain.constraints)
+    exponent = std::max(exponent, root_free_exponent(along_moment_curve(side.normal, side.offset, centre)));
+  AffineMap post = identity_map(network.input_dim);
+  for (std::size_t k = 0; k < relu_layers(network); ++k) {
+    poll_stop();
+    const AffineMap pre = compose_layer(network.layers[k], post);
+    std::vector<NeuronState> states(pre.offset.size());
+    for (std::size_t i = 0; i < states.size(); ++i) {
+      const RationalVector polynomial = along_moment_curve(pre.linear.row(i), pre.offset[i], centre);
+      const auto lowest = std::find_if(polynomial.begin(), polynomial.end(), [](const Rational& a) { return a != 0; });
+      if (lowest == polynomial.end()) {
+        states[i] = NeuronState::zero_on_region;
+        continue;
+      }
+      states[i] = *lowest > 0 ? NeuronState::on : NeuronState::off;
+      exponent = std::max(exponent, root_free_exponent(polynomial));
+    }
+    post = apply_states(pre, states);
+  }
+  Rational t = 1;
+  mpz_mul_2exp(t.get_den_mpz_t(), t.get_den_mpz_t(), exponent);  // t = 2^-exponent
+  RationalVector point = centre;
+  Rational power = 1;
+  for (auto& coordinate : point) coordinate += (power *= t);
+  return point;
+}
+
 ActivationPattern start_pattern(const Network& network, const Domain& domain) {
   const RationalVector centre = domain_centre(domain);
   // The centre may lie on a bent hyperplane; step off it along a fixed family
-  // of directions with shrinking steps. Each line meets every bent hyperplane
-  // it does not lie in at finitely many points, so this ends quickly.
+  // of directions with shrinking steps (kept so that the walks of earlier
+  // versions start, and number their regions, as before), then, when those
+  // steps all leave a small domain, along the moment curve, which always works.
   for (unsigned attempt = 0; attempt < 4096; ++attempt) {
     RationalVector point = centre;
     if (attempt > 0) {
@@ -397,7 +450,8 @@ ActivationPattern start_pattern(const Network& network, const Domain& domain) {
     }
     if (auto pattern = region_pattern_at(network, point)) return *pattern;
   }
-  throw std::runtime_error("walk: could not find a start point off every bent hyperplane");
+  if (auto pattern = region_pattern_at(network, point_off_bent_hyperplanes(network, domain, centre))) return *pattern;
+  throw std::logic_error("walk: the moment-curve point lies on a bent hyperplane (a bug; please report)");
 }
 
 }  // namespace
@@ -418,15 +472,19 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   std::unordered_map<ActivationPattern, std::size_t, PatternHash> id_of;
   std::vector<AffineMap> affine_of;                                   // by region id
   std::vector<std::vector<ActivationPattern>> neighbors_of;           // by region id
-  std::vector<ActivationPattern> level{start_pattern(network, domain)};
-  seen.insert(level.front());
+  // Polled between regions, and inside each region's exact work by the
+  // workers (their StopScope), so one slow region cannot hold a stop back.
+  const StopRequest stop(options.interrupt, options.time_limit_seconds, started);
+  auto stop_requested = [&] { return stop.reason(); };
+  std::vector<ActivationPattern> level;
+  try {
+    const StopScope scope(stop);
+    level.push_back(start_pattern(network, domain));
+    seen.insert(level.front());
+  } catch (const Stopped& stopped) {
+    summary.stop_reason = stopped.reason();  // stopped before the first region: nothing found
+  }
   bool anomaly = false;  // a crossing candidate that turned out not to be a region
-
-  auto stop_requested = [&]() -> StopReason {
-    if (options.interrupt && options.interrupt->load()) return StopReason::interrupted;
-    if (options.time_limit_seconds > 0 && elapsed() > options.time_limit_seconds) return StopReason::time_limit;
-    return StopReason::none;
-  };
 
   while (!level.empty() && summary.stop_reason == StopReason::none) {
     // Process the level in parallel; results are placed by index, so the
@@ -440,13 +498,18 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
     std::exception_ptr error;
     std::mutex wake_mutex;
     std::condition_variable wake;
+    std::atomic<int> stopped_inside{static_cast<int>(StopReason::none)};
     auto work = [&](RegionProcessor& processor) {
       try {
+        const StopScope scope(stop);
         for (std::size_t i; !halt && (i = next++) < level.size();) {
           results[i] = processor.process(level[i]);
           done[i] = 1;
           ++finished;
         }
+      } catch (const Stopped& stopped) {  // mid-region: that region stays undone
+        stopped_inside = static_cast<int>(stopped.reason());
+        halt = true;
       } catch (...) {
         std::lock_guard lock(error_mutex);
         if (!error) error = std::current_exception();
@@ -472,6 +535,8 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
     }
     for (auto& thread : pool) thread.join();
     if (error) std::rethrow_exception(error);
+    if (summary.stop_reason == StopReason::none && stopped_inside != static_cast<int>(StopReason::none))
+      summary.stop_reason = static_cast<StopReason>(stopped_inside.load());
 
     std::vector<ActivationPattern> next_level;
     for (std::size_t i = 0; i < level.size(); ++i) {

@@ -22,6 +22,7 @@
 #include "core/evaluate.hpp"
 #include "core/network.hpp"
 #include "core/pattern.hpp"
+#include "core/stop.hpp"
 #include "enumerate/domain.hpp"
 #include "lp/oracle.hpp"
 #include "lp/polyhedron.hpp"
@@ -66,8 +67,7 @@ struct Region {
   std::optional<RegionCertificates> certificates;
 };
 
-enum class StopReason { none, time_limit, max_regions, interrupted, requested };
-std::string to_string(StopReason reason);  // null-less spec names: "time-limit", ...
+// StopReason and to_string(StopReason) live in core/stop.hpp.
 
 struct WalkProgress {
   std::size_t regions = 0;
@@ -81,6 +81,9 @@ struct WalkOptions {
   double time_limit_seconds = 0;            // 0: none
   bool keep_certificates = false;
   const std::atomic<bool>* interrupt = nullptr;  // set from a signal handler to stop cleanly
+  // The time limit and the interrupt are polled between regions and inside
+  // each region's exact work (core/stop.hpp), so a stop acts within about a
+  // second even when one region takes minutes.
   // Called for each region in output order; return false to stop the walk
   // (StopReason::requested, e.g. a rank that met its bound).
   std::function<bool(const Region&)> on_region;

@@ -5,6 +5,7 @@
 // proposal fails. Each LP the code builds is written out above it.
 #include "lp/oracle.hpp"
 
+#include "core/stop.hpp"
 #include "lp/checker.hpp"
 #include "lp/detail/double_rows.hpp"
 #include "lp/detail/exact_linear.hpp"
@@ -487,6 +488,7 @@ std::vector<std::vector<std::size_t>> group_positive_multiples(const Polyhedron&
   std::vector<std::size_t> parent(m);
   for (std::size_t i = 0; i < m; ++i) parent[i] = i;
   for (std::size_t a = 0; a < m; ++a) {
+    poll_stop();  // exact comparisons of long rows: minutes on deep networks
     const std::size_t i = order[a];
     for (std::size_t b = a + 1; b < m; ++b) {
       const std::size_t j = order[b];
@@ -820,6 +822,7 @@ FacetClassification Oracle::classify_facets(const Polyhedron& cell, const Interi
   std::optional<FacetFilter> filter;
   if (rows.is_finite) filter.emplace(reduced.cell, rows, interior.point, state_->tolerances.positive_slack);
   for (std::size_t r = 0; r < reduced.classes.size(); ++r) {
+    poll_stop();
     ++state_->counts.lp_queries;
     const std::vector<std::size_t> single{r};
     std::optional<FacetVerdict> verdict;

@@ -6,7 +6,8 @@
 // on every constraint; multipliers solved exactly on GLPK's support, then
 // signs and the offset inequality checked), and fallback results pass
 // lp/checker.hpp itself. Internal inconsistencies (never expected) throw
-// std::logic_error; a cddlib failure throws std::runtime_error.
+// std::logic_error; a cddlib failure throws std::runtime_error. Long queries
+// poll the current thread's stop request (core/stop.hpp) and may throw Stopped.
 #pragma once
 
 #include "lp/polyhedron.hpp"

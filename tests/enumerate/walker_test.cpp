@@ -153,3 +153,51 @@ TEST(Walker, EveryRegionPointHasItsPatternAndFacetsSeeNeighbors) {
 
 }  // namespace
 }  // namespace pleat
+
+namespace pleat {
+namespace {
+
+// Four lines through the origin: x = 0, y = 0, x = y, x = -y (eight sectors).
+Network star_network() {
+  Network network;
+  network.input_dim = 2;
+  network.layers.push_back(make_layer({{Rational(1), Rational(0)},
+                                       {Rational(0), Rational(1)},
+                                       {Rational(1), Rational(-1)},
+                                       {Rational(1), Rational(1)}},
+                                      RationalVector(4, Rational(0)), Activation::relu));
+  network.layers.push_back(make_layer({RationalVector(4, Rational(1))}, {Rational(0)}, Activation::linear));
+  return network;
+}
+
+// The centre of a tiny box lies on every line; the start point must be found
+// inside the box whatever its size (it used to step out by 1/8 and give up).
+TEST(Walker, TinyBoxCentredOnManyHyperplanesFindsEverySector) {
+  for (const char* half_width : {"1/10000", "1/1000000000000000000000000000000"}) {
+    SCOPED_TRACE(half_width);
+    const Rational h(half_width);
+    const WalkSummary summary = walk(star_network(), make_box({-h, -h}, {h, h}));
+    EXPECT_TRUE(summary.certified);
+    EXPECT_EQ(summary.regions, 8u);
+  }
+}
+
+// An interrupt that is already set is seen inside the first region's exact
+// work (the start point search polls it): no region is reported.
+TEST(Walker, InterruptSetBeforeTheWalkStopsBeforeTheFirstRegion) {
+  std::atomic<bool> interrupt{true};
+  WalkOptions options;
+  options.threads = 1;
+  options.interrupt = &interrupt;
+  std::size_t delivered = 0;
+  options.on_region = [&](const Region&) { return ++delivered, true; };
+  const WalkSummary summary = walk_regions(moment_curve_network(2, 6), make_whole_space(2), options);
+  EXPECT_EQ(summary.stop_reason, StopReason::interrupted);
+  EXPECT_EQ(summary.regions, 0u);
+  EXPECT_EQ(delivered, 0u);
+  EXPECT_FALSE(summary.complete);
+  EXPECT_FALSE(summary.certified);
+}
+
+}  // namespace
+}  // namespace pleat
