@@ -93,6 +93,7 @@ Evaluation evaluate_exact(const Network& network, const RationalVector& x) {
   result.preactivation.reserve(network.depth());
   RationalVector current = x;
   for (std::size_t k = 0; k < network.depth(); ++k) {
+    poll_stop();
     const Layer& layer = network.layers[k];
     check_layer_shape(layer, k);
     RationalVector z = product(layer.weights, current);

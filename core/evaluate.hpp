@@ -1,7 +1,9 @@
 // Exact and double evaluation, and the affine maps of a network on one
 // activation pattern (the walker's building block). Everything taking or
 // returning Rational is exact; the _double functions are for filters and
-// sampled estimates only.
+// sampled estimates only. The exact layer loops poll the current thread's
+// stop request (core/stop.hpp): with a StopScope installed they may throw
+// Stopped; without one they never do.
 #pragma once
 
 #include "core/matrix.hpp"
