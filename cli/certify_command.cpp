@@ -374,9 +374,8 @@ void register_certify(CommandTable& commands) {
       ->required();
   add_domain_options(command, arguments->domain);
   command.add_flag("--json", arguments->json, "Print the result as JSON (pleat-certify/1)");
-  add_unsigned_option(command, "--threads", arguments->threads, "Worker threads (default: all cores)");
-  command.add_option("--time-limit", arguments->time_limit, "Stop after this many seconds (result: bounds)")
-      ->check(CLI::NonNegativeNumber);
+  add_threads_option(command, arguments->threads, "Worker threads (default: all cores)");
+  add_seconds_option(command, "--time-limit", arguments->time_limit, "Stop after this many seconds (result: bounds)");
   command.add_flag("--full-walk", arguments->full_walk,
                    "Walk every region even after the rank meets the scaling bound");
   command.add_option("--rows-out", arguments->rows_path,

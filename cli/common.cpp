@@ -1,13 +1,14 @@
 // Shared helpers of the pleat subcommands (see common.hpp).
 #include "cli/common.hpp"
 
+#include "cli/output_file.hpp"
 #include "core/network_io.hpp"
 #include "core/onnx_io.hpp"
 
-#include <cerrno>
 #include <charconv>
+#include <cmath>
+#include <cstdio>
 #include <cstring>
-#include <fstream>
 #include <iostream>
 #include <iterator>
 #include <limits>
@@ -93,6 +94,18 @@ std::vector<std::size_t> parse_width_list(std::string_view text, std::string_vie
   return widths;
 }
 
+void check_parameter_count(const std::vector<std::size_t>& architecture, std::string_view what) {
+  double parameters = 0;  // in double: (n + 1) * m cannot overflow it for any widths below 2^64
+  for (std::size_t k = 1; k < architecture.size(); ++k)
+    parameters += (static_cast<double>(architecture[k - 1]) + 1) * static_cast<double>(architecture[k]);
+  if (parameters > max_parameters) {
+    char count[32];
+    std::snprintf(count, sizeof count, "%.3g", parameters);
+    throw input_error(std::string(what) + ": this architecture has " + count +
+                      " parameters; at most 10 million are allowed");
+  }
+}
+
 CLI::Option* add_number_list_option(CLI::App& command, const std::string& name,
                                     std::string& text, const std::string& description) {
   // A single-string option consumes exactly the next token, even "-1/3,2";
@@ -101,13 +114,46 @@ CLI::Option* add_number_list_option(CLI::App& command, const std::string& name,
 }
 
 CLI::Option* add_unsigned_option(CLI::App& command, const std::string& name,
-                                 std::uint64_t& value, const std::string& description) {
+                                 std::uint64_t& value, const std::string& description,
+                                 std::uint64_t minimum, std::uint64_t maximum) {
   // CLI11's own integer conversion accepts "-1" (wrapping) and "010" (octal).
   return command
       .add_option_function<std::string>(
-          name, [&value, name](const std::string& text) { value = parse_unsigned(text, name); },
+          name,
+          [&value, name, minimum, maximum](const std::string& text) {
+            const std::uint64_t parsed = parse_unsigned(text, name);
+            if (parsed < minimum || parsed > maximum)
+              throw input_error(name + ": expected " + std::to_string(minimum) + " to " + std::to_string(maximum) +
+                                ", got " + text);
+            value = parsed;
+          },
           description)
       ->type_name("N");
+}
+
+CLI::Option* add_threads_option(CLI::App& command, std::uint64_t& value, const std::string& description) {
+  return add_unsigned_option(command, "--threads", value, description + " (0 to 1024)", 0, max_threads);
+}
+
+double parse_seconds(std::string_view text, std::string_view what) {
+  // from_chars, not strtod: no locale, no leading spaces, no hex floats.
+  double value = 0;
+  const auto [end, error] = std::from_chars(text.data(), text.data() + text.size(), value, std::chars_format::general);
+  const bool is_number = !text.empty() && error == std::errc() && end == text.data() + text.size();
+  if (!is_number || !std::isfinite(value))
+    throw input_error(std::string(what) + ": expected a number of seconds, got " + quoted(text));
+  if (!(value > 0) || value > max_seconds)
+    throw input_error(std::string(what) + ": expected more than 0 and at most 1e9 seconds, got " + quoted(text) +
+                      " (leave the option out for no limit)");
+  return value;
+}
+
+CLI::Option* add_seconds_option(CLI::App& command, const std::string& name, double& value,
+                                const std::string& description) {
+  return command
+      .add_option_function<std::string>(
+          name, [&value, name](const std::string& text) { value = parse_seconds(text, name); }, description)
+      ->type_name("SECONDS");
 }
 
 std::string format_rational_list(const RationalVector& values) {
@@ -156,15 +202,12 @@ std::string json_text(const Json& document, bool is_pretty) {
 void write_output(const std::string& path, std::string_view text) {
   if (path.empty() || path == "-") {
     std::cout << text;
-    std::cout.flush();
-    if (!std::cout) throw std::runtime_error("cannot write to standard output");
+    check_standard_output();
     return;
   }
-  std::ofstream file(path, std::ios::binary | std::ios::trunc);
-  if (!file) throw input_error(path + ": cannot open for writing (" + std::strerror(errno) + ")");
-  file << text;
-  file.flush();
-  if (!file) throw input_error(path + ": cannot write (" + std::strerror(errno) + ")");
+  OutputFile file(path);
+  file.write(text);
+  file.close();
 }
 
 }  // namespace pleat::cli

@@ -13,6 +13,7 @@
 
 #include <cstddef>
 #include <cstdint>
+#include <limits>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -40,6 +41,12 @@ std::uint64_t parse_unsigned(std::string_view text, std::string_view what);
 // "2,8,8,1" -> {2, 8, 8, 1}; every entry a positive decimal integer.
 std::vector<std::size_t> parse_width_list(std::string_view text, std::string_view what);
 
+// Ten million parameters is about 100 MB of text and far past any network
+// that can be walked: an architecture with more (counted without overflow)
+// is an input_error naming `what`, raised before anything is allocated.
+inline constexpr double max_parameters = 1e7;
+void check_parameter_count(const std::vector<std::size_t>& architecture, std::string_view what);
+
 // ---- Options ----------------------------------------------------------------
 
 // Declares an option whose value is a comma-separated list of numbers that may
@@ -50,10 +57,26 @@ std::vector<std::size_t> parse_width_list(std::string_view text, std::string_vie
 CLI::Option* add_number_list_option(CLI::App& command, const std::string& name,
                                     std::string& text, const std::string& description);
 
-// Declares an option taking a plain unsigned integer (parsed by parse_unsigned
-// when the command line is read, so the message names the option).
+// Declares an option taking a plain unsigned integer in [minimum, maximum]
+// (parsed by parse_unsigned when the command line is read, so the message
+// names the option and the range: "--digits: expected 1 to 40, got 0").
 CLI::Option* add_unsigned_option(CLI::App& command, const std::string& name,
-                                 std::uint64_t& value, const std::string& description);
+                                 std::uint64_t& value, const std::string& description,
+                                 std::uint64_t minimum = 0,
+                                 std::uint64_t maximum = std::numeric_limits<std::uint64_t>::max());
+
+// More worker threads than this is a mistake (each holds an LP solver and
+// its own caches), not a request: --threads takes 0 (all cores) to 1024.
+inline constexpr std::uint64_t max_threads = 1024;
+CLI::Option* add_threads_option(CLI::App& command, std::uint64_t& value, const std::string& description);
+
+// A time limit in seconds: a finite decimal number above 0 and at most 10^9
+// (about 31 years). Leaving the option out means no limit; 0, a negative
+// number, nan and inf are refused with a message naming the option.
+inline constexpr double max_seconds = 1e9;
+double parse_seconds(std::string_view text, std::string_view what);
+CLI::Option* add_seconds_option(CLI::App& command, const std::string& name, double& value,
+                                const std::string& description);
 
 // ---- Printing ---------------------------------------------------------------
 
@@ -78,7 +101,9 @@ std::string json_text(const Json& document, bool is_pretty = true);
 // ---- Output -----------------------------------------------------------------
 
 // Writes text to `path`, or to standard output when path is "" or "-".
-// A file that cannot be written is an input_error naming it.
+// A file that cannot be opened is an input_error naming it and the system's
+// reason; one that cannot be written (or standard output) an output_error
+// (cli/output_file.hpp).
 void write_output(const std::string& path, std::string_view text);
 
 }  // namespace pleat::cli

@@ -8,11 +8,14 @@
 #include "cli/figure.hpp"
 #include "cli/figure_region_file.hpp"
 #include "cli/progress.hpp"
+#include "cli/signals.hpp"
 #include "core/jacobian.hpp"
+#include "core/stop.hpp"
 #include "enumerate/region_geometry.hpp"
 #include "enumerate/walker.hpp"
 
 #include <algorithm>
+#include <atomic>
 #include <cmath>
 #include <iostream>
 #include <limits>
@@ -59,11 +62,13 @@ std::string describe_view(const View& view) {
   return text;
 }
 
-std::vector<Region> walk_all(const Network& network, const Domain& domain, const DrawArguments& arguments) {
+std::vector<Region> walk_all(const Network& network, const Domain& domain, const DrawArguments& arguments,
+                             const std::atomic<bool>& interrupt) {
   std::vector<Region> regions;
   ProgressLine progress(arguments.quiet);
   WalkOptions options;
   options.threads = static_cast<unsigned>(arguments.threads);
+  options.interrupt = &interrupt;
   options.on_region = [&](const Region& region) {
     regions.push_back(region);
     return true;
@@ -73,6 +78,7 @@ std::vector<Region> walk_all(const Network& network, const Domain& domain, const
   };
   const WalkSummary summary = walk_regions(network, domain, options);
   progress.finish();
+  if (summary.stop_reason == StopReason::interrupted) throw Stopped(StopReason::interrupted);
   if (!summary.complete) throw std::runtime_error("the walk stopped early (" + to_string(summary.stop_reason) + ")");
   return regions;
 }
@@ -95,6 +101,7 @@ View fitted_view(const std::vector<Region>& regions, std::size_t dim) {
     }
   };
   for (const auto& region : regions) {
+    poll_stop();
     const VertexRepresentation rep = vertex_representation(closed_cell(region, true), region.point);
     if (rep.lines.empty())  // pointed: its points are vertices of the arrangement
       for (const auto& p : rep.points) include(p);
@@ -261,6 +268,7 @@ Drawn draw_plane(const Network& network, const std::vector<Region>& regions, con
   std::vector<Polygon> polygons;
   std::vector<const Region*> drawn;
   for (const auto& region : regions) {
+    poll_stop();
     Polygon polygon = clip_rectangle(view.lower, view.upper, closed_cell(region, from_file).constraints);
     if (polygon.vertices.size() < 3) continue;
     polygons.push_back(std::move(polygon));
@@ -359,6 +367,7 @@ Drawn draw_line(const Network& network, const std::vector<Region>& regions, cons
   };
   std::vector<Piece> pieces;
   for (const auto& region : regions) {
+    poll_stop();
     Piece piece{&region, view.lower[0], view.upper[0]};
     for (const auto& facet : region.facets) {
       const Rational end = -facet.offset / facet.normal[0];
@@ -456,6 +465,7 @@ Drawn draw_mesh(const Network& network, const std::vector<Region>& regions, cons
   std::vector<std::set<std::size_t>> adjacent(regions.size());
   std::size_t drawn_regions = 0;
   for (std::size_t r = 0; r < regions.size(); ++r) {
+    poll_stop();
     const Region& region = regions[r];
     for (const auto& facet : region.facets)
       if (facet.neighbor && index_of.count(*facet.neighbor)) {
@@ -537,7 +547,23 @@ Drawn draw_mesh(const Network& network, const std::vector<Region>& regions, cons
   return Drawn{out.str(), vertices.size(), faces.size(), drawn_regions};
 }
 
+int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interrupt);
+
+// Ctrl-C stops the walk and the exact clipping alike (both poll it); a
+// figure cut short would be wrong, so nothing is written.
 int run_draw(const DrawArguments& arguments) {
+  const InterruptGuard interrupt;
+  const StopRequest stop(&interrupt.flag(), 0);
+  const StopScope scope(stop);
+  try {
+    return draw_figure(arguments, interrupt.flag());
+  } catch (const Stopped&) {
+    std::cerr << "pleat: draw interrupted; no figure written\n";
+    return 130;
+  }
+}
+
+int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interrupt) {
   const Network network = load_network(arguments.network_path);
   const std::size_t dim = network.input_dim;
   const Format format = format_of(arguments.output_path);
@@ -570,8 +596,8 @@ int run_draw(const DrawArguments& arguments) {
     if (!view) view = saved.domain.kind == Domain::Kind::box ? View{saved.domain.lower, saved.domain.upper}
                                                              : fitted_view(regions, dim);
   } else {
-    if (!view) view = fitted_view(walk_all(network, make_whole_space(dim), arguments), dim);
-    regions = walk_all(network, make_box(view->lower, view->upper), arguments);
+    if (!view) view = fitted_view(walk_all(network, make_whole_space(dim), arguments, interrupt), dim);
+    regions = walk_all(network, make_box(view->lower, view->upper), arguments, interrupt);
   }
 
   const Drawn drawn = dim == 3   ? draw_mesh(network, regions, *view, from_file)
@@ -622,7 +648,7 @@ void register_draw(CommandTable& commands) {
   command.add_flag("--no-lines", arguments->no_lines, "Leave out the bent hyperplanes (fills only)");
   command.add_option("--from", arguments->from_path,
                      "Draw a saved walk (pleat walk -o FILE) instead of walking; --view clips it");
-  add_unsigned_option(command, "--threads", arguments->threads, "Worker threads for the walk (default: all cores)");
+  add_threads_option(command, arguments->threads, "Worker threads for the walk (default: all cores)");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }
 

@@ -2,6 +2,8 @@
 // turns errors into "pleat: <message>" and an exit code (2 bad input or
 // usage, 1 any other failure). Never a stack trace.
 #include "cli/command.hpp"
+#include "cli/output_file.hpp"
+#include "core/limit_error.hpp"
 #include "core/rational.hpp"
 
 #include <CLI/CLI.hpp>
@@ -91,7 +93,17 @@ int run(int argc, char** argv) {
 
 int main(int argc, char** argv) {
   try {
-    return pleat::cli::run(argc, argv);
+    const int status = pleat::cli::run(argc, argv);
+    // A result that never reached standard output (a full disk, /dev/full,
+    // a closed pipe) is a failure, not a success with nothing printed.
+    pleat::cli::check_standard_output();
+    return status;
+  } catch (const pleat::cli::output_error& error) {
+    std::cerr << "pleat: " << error.what() << "\n";
+    return 1;
+  } catch (const pleat::limit_error& error) {
+    std::cerr << "pleat: " << error.what() << "\n";
+    return 1;
   } catch (const pleat::input_error& error) {
     std::cerr << "pleat: " << error.what() << "\n";
     return 2;

@@ -38,6 +38,7 @@ int run_random(const RandomOptions& options) {
   const std::vector<std::size_t> architecture = parse_width_list(options.architecture, "--arch");
   if (architecture.size() < 2)
     throw input_error("--arch: give the input width and at least one layer, e.g. 2,8,1");
+  check_parameter_count(architecture, "--arch");
   if (options.digits < 1 || options.digits > 40)
     throw input_error("--digits: expected 1 to 40, got " + std::to_string(options.digits));
   const Network network = random_network(architecture, options.seed, options.sample,

@@ -18,6 +18,7 @@
 #include "core/evaluate.hpp"
 #include "core/jacobian.hpp"
 #include "core/random_network.hpp"
+#include "core/stop.hpp"
 #include "enumerate/functional_dimension.hpp"
 #include "enumerate/walker.hpp"
 
@@ -303,6 +304,28 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
          "certified value however accurate the SVD is.\n";
 }
 
+// The stacked Jacobian is K*nd x D doubles, held about three times over
+// (per-point blocks, the stacked copy, the SVD's work space): refuse a batch
+// whose matrix would not fit comfortably rather than grow until killed.
+constexpr double max_jacobian_entries = 25e6;  // 200 MB of doubles per copy
+
+void check_batch_size(std::uint64_t batch, const Network& network) {
+  const double entries_per_point =
+      static_cast<double>(network.output_dim()) * static_cast<double>(network.parametric_dimension());
+  if (static_cast<double>(batch) * entries_per_point > max_jacobian_entries)
+    throw input_error("--batch: " + std::to_string(batch) + " points would stack a Jacobian of " +
+                      std::to_string(static_cast<std::uint64_t>(entries_per_point)) +
+                      " entries per point; at most 25 million entries (200 MB of doubles) are allowed, that is " +
+                      std::to_string(static_cast<std::uint64_t>(max_jacobian_entries / entries_per_point)) +
+                      " points for this network");
+}
+
+int report_interrupted_sampling(std::uint64_t drawn, std::uint64_t batch) {
+  std::cerr << "pleat: sample interrupted while drawing points (" << drawn << " of " << batch
+            << "); no rank computed\n";
+  return 130;
+}
+
 int run_sample(const SampleArguments& arguments) {
   const auto started = std::chrono::steady_clock::now();
   if (arguments.batch == 0) throw input_error("--batch: give at least 1 point");
@@ -315,12 +338,21 @@ int run_sample(const SampleArguments& arguments) {
   result.dtype = arguments.dtype;
   if (arguments.dtype != "float64" && arguments.dtype != "float32")
     throw input_error("--dtype: expected float64 or float32, got '" + arguments.dtype + "'");
+  check_batch_size(arguments.batch, network);
   const DoubleNetwork double_network = sampling_network(network, is_float32(arguments));
   PointStream stream(arguments.seed, dist, is_float32(arguments));
   std::vector<DoubleMatrix> jacobians;
   std::unordered_set<ActivationPattern, PatternHash> touched;
   std::string points_text;  // the points exactly (every double is a dyadic rational)
+  ProgressLine progress(arguments.quiet);
+  const InterruptGuard interrupt;
+  // Only Ctrl-C stops the sampling (the time limit is the walk's); each
+  // point's exact pattern polls it too, which matters on deep networks.
+  const StopRequest sampling_stop(&interrupt.flag(), 0);
+  const StopScope sampling_scope(sampling_stop);
   for (std::uint64_t i = 0; i < arguments.batch; ++i) {
+    if (sampling_stop.is_requested()) return report_interrupted_sampling(i, arguments.batch);
+    progress.update("sample: drawing points, " + std::to_string(i) + " of " + std::to_string(arguments.batch));
     const DoubleVector point = stream.next_point(network.input_dim);
     jacobians.push_back(parameter_jacobian_double(double_network, point));  // rounded to float32 by the SVD
     RationalVector exact;
@@ -330,16 +362,20 @@ int run_sample(const SampleArguments& arguments) {
       points_text += format_rational(exact[c]);
     }
     points_text += "\n";
-    if (auto pattern = region_pattern_at(network, exact)) touched.insert(*pattern);
-    else ++result.points_on_bent_hyperplanes;
+    try {
+      if (auto pattern = region_pattern_at(network, exact)) touched.insert(*pattern);
+      else ++result.points_on_bent_hyperplanes;
+    } catch (const Stopped&) {
+      return report_interrupted_sampling(i, arguments.batch);
+    }
   }
   result.regions_touched = touched.size();
   if (!arguments.points_path.empty()) write_output(arguments.points_path, points_text);
   const std::size_t columns = network.parametric_dimension();
+  progress.update("sample: singular values of the " + std::to_string(arguments.batch * network.output_dim()) + " x " +
+                  std::to_string(columns) + " Jacobian");
   result.rank = numerical_rank(jacobians, jacobians.size(), columns, is_float32(arguments));
 
-  ProgressLine progress(arguments.quiet);
-  const InterruptGuard interrupt;
   FunctionalDimensionOptions options;
   options.walk.threads = static_cast<unsigned>(arguments.threads);
   options.walk.time_limit_seconds = arguments.time_limit;
@@ -408,10 +444,9 @@ void register_sample(CommandTable& commands) {
       ->type_name("DIST")
       ->allow_extra_args(false);
   command.add_flag("--json", arguments->json, "Print the result as JSON (pleat-sample/1)");
-  add_unsigned_option(command, "--threads", arguments->threads, "Worker threads for the walk (default: all cores)");
-  command.add_option("--time-limit", arguments->time_limit,
-                     "Stop the certifying walk after this many seconds (then only bounds)")
-      ->check(CLI::NonNegativeNumber);
+  add_threads_option(command, arguments->threads, "Worker threads for the walk (default: all cores)");
+  add_seconds_option(command, "--time-limit", arguments->time_limit,
+                     "Stop the certifying walk after this many seconds (then only bounds)");
   command.add_option("--dtype", arguments->dtype,
                      "float64 (default) or float32: the precision of the parameters, points, Jacobian and SVD")
       ->type_name("TYPE");

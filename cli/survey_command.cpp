@@ -7,6 +7,7 @@
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
+#include "cli/output_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/signals.hpp"
 #include "cli/survey_file.hpp"
@@ -92,6 +93,7 @@ std::string format_rate(double rate) {
 SurveyConfiguration configuration_for(const SurveyArguments& arguments, const std::string& architecture_option) {
   SurveyConfiguration configuration;
   configuration.architecture = parse_width_list(architecture_option, "--arch");
+  check_parameter_count(configuration.architecture, "--arch");
   if (configuration.architecture.size() < 2)
     throw input_error("--arch: give the input width and at least one layer, e.g. 2,5,5,1");
   if (arguments.digits < 1 || arguments.digits > 40)
@@ -262,7 +264,16 @@ int run_plot(const SurveyArguments& arguments) {
 
 // Shards of one survey: equal headers apart from the shard, the same number
 // of shards, no shard twice and no sample twice.
+// -o naming one of the inputs would truncate it before (or while) it is read.
+void refuse_output_among_inputs(const std::string& output, const std::vector<std::string>& inputs) {
+  std::error_code error;
+  for (const std::string& input : inputs)
+    if (output == input || std::filesystem::equivalent(output, input, error))
+      throw input_error("-o: " + output + " is one of the files to merge; write the merged file elsewhere");
+}
+
 int run_merge(const SurveyArguments& arguments) {
+  if (arguments.merge_path != "-") refuse_output_among_inputs(arguments.merge_path, arguments.inputs);
   std::vector<SurveyRecord> records;
   for (const std::string& path : arguments.inputs) records.push_back(load_record(path));
   const SurveyRecord& first = records.front();
@@ -302,7 +313,9 @@ int run_merge(const SurveyArguments& arguments) {
   header["shard"] = format_shard(merged);
   std::string text = json_text(header, false);
   for (const SurveySample& sample : samples) text += json_text(sample_json(sample), false);
-  write_output(arguments.merge_path, text);
+  // Atomically: an existing file is replaced whole or left as it was.
+  if (arguments.merge_path == "-") write_output("", text);
+  else write_file_atomically(arguments.merge_path, text);
 
   SurveyRecord result{header, samples, arguments.merge_path};
   const std::uint64_t missing = missing_samples(result);
@@ -343,11 +356,9 @@ void register_survey(CommandTable& commands) {
   add_unsigned_option(command, "--digits", arguments->digits,
                       "Significant decimal digits per parameter, 1 to 40 (default 6)");
   add_domain_options(command, arguments->domain);
-  add_unsigned_option(command, "--threads", arguments->threads, "Samples run at once (default: all cores)");
-  command.add_option("--time-limit-each", arguments->time_limit_each,
-                     "Stop a sample after this many seconds (kept as bounds)")
-      ->check(CLI::NonNegativeNumber)
-      ->type_name("SECONDS");
+  add_threads_option(command, arguments->threads, "Samples run at once (default: all cores)");
+  add_seconds_option(command, "--time-limit-each", arguments->time_limit_each,
+                     "Stop a sample after this many seconds (kept as bounds)");
   command.add_option("--shard", arguments->shard_text, "Run only the samples i with i % M == I")
       ->type_name("I/M");
   command.add_option("-o,--output", arguments->output, "Write (or resume) the sample lines in FILE")

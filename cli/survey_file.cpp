@@ -218,23 +218,18 @@ SurveyFile read_survey_file(const std::string& path) {
   return file;
 }
 
-SurveyWriter::SurveyWriter(const std::string& path, std::uintmax_t keep_bytes, const Json& header) : path_(path) {
+SurveyWriter::SurveyWriter(const std::string& path, std::uintmax_t keep_bytes, const Json& header) {
   std::error_code error;
   if (keep_bytes > 0) std::filesystem::resize_file(path, keep_bytes, error);
   if (error) throw input_error(path + ": cannot truncate the cut last line: " + error.message());
-  file_ = std::fopen(path.c_str(), keep_bytes > 0 ? "ab" : "wb");
-  if (!file_) throw input_error(path + ": cannot open for writing");
+  file_.emplace(path, keep_bytes > 0 ? OutputFile::Mode::append : OutputFile::Mode::truncate);
   if (keep_bytes == 0) write(header);
 }
 
-SurveyWriter::~SurveyWriter() {
-  if (file_) std::fclose(file_);
-}
-
 void SurveyWriter::write(const Json& line) {
-  const std::string text = json_text(line, false);
-  if (std::fwrite(text.data(), 1, text.size(), file_) != text.size() || std::fflush(file_) != 0)
-    throw input_error(path_ + ": write failed");
+  // Flushed line by line: an interrupted survey keeps every finished sample.
+  file_->write(json_text(line, false));
+  file_->flush();
 }
 
 }  // namespace pleat::cli

@@ -5,10 +5,11 @@
 #pragma once
 
 #include "cli/common.hpp"
+#include "cli/output_file.hpp"
 #include "enumerate/survey.hpp"
 
 #include <cstdint>
-#include <cstdio>
+#include <optional>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -67,14 +68,12 @@ class SurveyWriter {
   // Opens `path` for appending after truncating it to `keep_bytes`; writes
   // `header` first when keep_bytes is 0.
   SurveyWriter(const std::string& path, std::uintmax_t keep_bytes, const Json& header);
-  ~SurveyWriter();
   SurveyWriter(const SurveyWriter&) = delete;
   SurveyWriter& operator=(const SurveyWriter&) = delete;
   void write(const Json& line);
 
  private:
-  std::string path_;
-  std::FILE* file_ = nullptr;
+  std::optional<OutputFile> file_;
 };
 
 // "2,5,5,5,1" and "2-5-5-5-1" (for file names).

@@ -2,6 +2,7 @@
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
+#include "cli/output_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/points_file.hpp"
 #include "cli/region_json.hpp"
@@ -9,8 +10,8 @@
 #include "enumerate/walker.hpp"
 
 #include <cstdio>
-#include <fstream>
 #include <iostream>
+#include <optional>
 #include <sstream>
 
 namespace pleat::cli {
@@ -93,11 +94,10 @@ int run_walk(const WalkArguments& arguments) {
   const Network network = load_network(arguments.network_path);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
 
-  std::ofstream regions_file;
+  std::optional<OutputFile> regions_file;
   if (!arguments.output_path.empty()) {
-    regions_file.open(arguments.output_path, std::ios::binary | std::ios::trunc);
-    if (!regions_file) throw input_error(arguments.output_path + ": cannot open for writing");
-    regions_file << json_text(regions_header(network, domain, arguments.network_path), false);
+    regions_file.emplace(arguments.output_path);
+    regions_file->write(json_text(regions_header(network, domain, arguments.network_path), false));
   }
 
   ProgressLine progress(arguments.quiet);
@@ -111,7 +111,7 @@ int run_walk(const WalkArguments& arguments) {
   std::vector<RationalVector> interior_points;
   std::vector<ActivationPattern> interior_patterns;
   options.on_region = [&](const Region& region) {
-    if (regions_file.is_open()) regions_file << json_text(region_to_json(network, region), false);
+    if (regions_file) regions_file->write(json_text(region_to_json(network, region), false));
     if (!arguments.points_path.empty()) {
       interior_points.push_back(region.point);
       interior_patterns.push_back(region.pattern);
@@ -126,10 +126,7 @@ int run_walk(const WalkArguments& arguments) {
   };
   const WalkSummary summary = walk_regions(network, domain, options);
   progress.finish();
-  if (regions_file.is_open()) {
-    regions_file.flush();
-    if (!regions_file) throw std::runtime_error(arguments.output_path + ": write failed");
-  }
+  if (regions_file) regions_file->close();
 
   if (!arguments.points_path.empty())
     write_interior_points(network, arguments.points_path, interior_points, interior_patterns);
@@ -182,11 +179,10 @@ void register_walk(CommandTable& commands) {
                    "Add each region's certificates to the region lines (for 'pleat verify')");
   command.add_flag("--json", arguments->json, "Print the summary as JSON (pleat-walk/1)");
   command.add_flag("--patterns", arguments->patterns, "Also list every region's activation pattern, sorted");
-  add_unsigned_option(command, "--threads", arguments->threads, "Worker threads (default: all cores)");
+  add_threads_option(command, arguments->threads, "Worker threads (default: all cores)");
   add_unsigned_option(command, "--max-regions", arguments->max_regions,
-                      "Stop after this many regions (the result is then a lower bound)");
-  command.add_option("--time-limit", arguments->time_limit, "Stop after this many seconds (result: lower bounds)")
-      ->check(CLI::NonNegativeNumber);
+                      "Stop after this many regions, at least 1 (the result is then a lower bound)", 1);
+  add_seconds_option(command, "--time-limit", arguments->time_limit, "Stop after this many seconds (result: lower bounds)");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }
 

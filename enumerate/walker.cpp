@@ -1,6 +1,7 @@
 #include "enumerate/walker.hpp"
 
 #include "core/jacobian.hpp"
+#include "core/limit_error.hpp"
 
 #include <algorithm>
 #include <chrono>
@@ -176,7 +177,9 @@ void extend_across(const Crossing& crossing, std::size_t k, std::size_t first_ch
     else transversal.push_back(i);
   }
   if (transversal.size() > max_branching_neurons)
-    throw std::runtime_error("crossing: too many bent hyperplanes meet at one facet point");
+    throw limit_error("crossing a facet: " + std::to_string(transversal.size()) +
+                      " bent hyperplanes meet transversally at one facet point; pleat branches over at most " +
+                      std::to_string(max_branching_neurons) + " (2^n candidate regions)");
   const std::size_t combinations = std::size_t{1} << transversal.size();
   for (std::size_t mask = 0; mask < combinations; ++mask) {
     for (std::size_t b = 0; b < transversal.size(); ++b)

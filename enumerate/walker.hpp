@@ -137,7 +137,9 @@ std::optional<ActivationPattern> region_pattern_at(const Network& network, const
 // All patterns of regions next to q on the far side of a facet, where q is in
 // the relative interior of a facet of the region with near_pattern and
 // direction points strictly to the far side. Exact; candidates may have empty
-// interior (the caller checks).
+// interior (the caller checks). Throws limit_error when more than 16 neurons
+// of one layer vanish at q transversally (2^n candidates); walk_regions
+// passes that on.
 std::vector<ActivationPattern> patterns_across(const Network& network, const ActivationPattern& near_pattern,
                                                const RationalVector& q, const RationalVector& direction,
                                                const RationalVector& facet_normal);

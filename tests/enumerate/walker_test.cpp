@@ -1,6 +1,8 @@
 // The region walker against counts known from outside the project.
 #include "enumerate/walker.hpp"
 
+#include "core/limit_error.hpp"
+
 #include <gtest/gtest.h>
 
 #include <set>
@@ -197,6 +199,33 @@ TEST(Walker, InterruptSetBeforeTheWalkStopsBeforeTheFirstRegion) {
   EXPECT_EQ(delivered, 0u);
   EXPECT_FALSE(summary.complete);
   EXPECT_FALSE(summary.certified);
+}
+
+}  // namespace
+}  // namespace pleat
+
+namespace pleat {
+namespace {
+
+// More than 16 neurons vanishing transversally at one crossing point is a
+// documented limit, reported as such (limit_error), not as an internal error.
+TEST(Walker, TooManyTransversalNeuronsAtACrossingIsALimitError) {
+  std::vector<RationalVector> rows;
+  for (long j = 1; j <= 17; ++j) rows.push_back({Rational(j), Rational(1)});  // 17 lines through the origin
+  Network network;
+  network.input_dim = 2;
+  network.layers.push_back(make_layer(rows, RationalVector(17, Rational(0)), Activation::relu));
+  network.layers.push_back(make_layer({RationalVector(17, Rational(1))}, {Rational(0)}, Activation::linear));
+  ActivationPattern near;
+  near.states.assign(17, NeuronState::off);
+  const RationalVector origin{Rational(0), Rational(0)}, direction{Rational(-1), Rational(0)},
+      normal{Rational(1), Rational(0)};
+  try {
+    patterns_across(network, near, origin, direction, normal);
+    FAIL() << "no limit_error";
+  } catch (const limit_error& error) {
+    EXPECT_NE(std::string(error.what()).find("at most 16"), std::string::npos) << error.what();
+  }
 }
 
 }  // namespace

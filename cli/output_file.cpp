@@ -1,0 +1,88 @@
+#include "cli/output_file.hpp"
+
+#include "core/rational.hpp"
+
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include <cerrno>
+#include <cstdlib>
+#include <cstring>
+#include <filesystem>
+#include <iostream>
+
+namespace pleat::cli {
+
+OutputFile::OutputFile(const std::string& path, Mode mode, const std::string& name)
+    : path_(path), name_(name.empty() ? path : name) {
+  file_ = std::fopen(path.c_str(), mode == Mode::append ? "ab" : "wb");
+  if (!file_) throw input_error(name_ + ": cannot open for writing (" + std::strerror(errno) + ")");
+}
+
+OutputFile::~OutputFile() {
+  if (file_) std::fclose(file_);
+}
+
+void OutputFile::fail(int error_number) {
+  throw output_error(name_ + ": cannot write (" + std::strerror(error_number) + ")");
+}
+
+void OutputFile::write(std::string_view text) {
+  if (!file_) throw output_error(name_ + ": write after close");
+  errno = 0;
+  if (std::fwrite(text.data(), 1, text.size(), file_) != text.size()) fail(errno ? errno : EIO);
+}
+
+void OutputFile::flush() {
+  if (!file_) return;
+  errno = 0;
+  if (std::fflush(file_) != 0 || std::ferror(file_)) fail(errno ? errno : EIO);
+}
+
+void OutputFile::close() {
+  if (!file_) return;
+  flush();
+  std::FILE* file = file_;
+  file_ = nullptr;
+  errno = 0;
+  if (std::fclose(file) != 0) fail(errno ? errno : EIO);
+}
+
+void check_standard_output() {
+  errno = 0;
+  std::cout.flush();
+  const bool is_stream_bad = !std::cout;
+  const int stream_errno = errno;
+  errno = 0;
+  const bool is_stdio_bad = std::fflush(stdout) != 0 || std::ferror(stdout);
+  const int error_number = stream_errno ? stream_errno : (errno ? errno : EIO);
+  if (is_stream_bad || is_stdio_bad)
+    throw output_error(std::string("cannot write to standard output (") + std::strerror(error_number) + ")");
+}
+
+void write_file_atomically(const std::string& path, std::string_view text) {
+  const std::filesystem::path target(path);
+  const std::filesystem::path directory = target.has_parent_path() ? target.parent_path() : ".";
+  std::string temporary = (directory / ("." + target.filename().string() + ".XXXXXX")).string();
+  const int descriptor = mkstemp(temporary.data());
+  if (descriptor < 0) throw input_error(path + ": cannot open for writing (" + std::strerror(errno) + ")");
+  const mode_t mask = umask(0);  // mkstemp makes the file 0600; give it the usual mode
+  umask(mask);
+  fchmod(descriptor, 0666 & ~mask);
+  ::close(descriptor);
+  try {
+    OutputFile file(temporary, OutputFile::Mode::truncate, path);
+    file.write(text);
+    file.close();
+  } catch (...) {
+    std::remove(temporary.c_str());
+    throw;
+  }
+  if (std::rename(temporary.c_str(), path.c_str()) != 0) {
+    const int error_number = errno;
+    std::remove(temporary.c_str());
+    throw output_error(path + ": cannot replace (" + std::string(std::strerror(error_number)) + ")");
+  }
+}
+
+}  // namespace pleat::cli

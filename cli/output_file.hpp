@@ -1,0 +1,56 @@
+// Files a command writes, with failures that name the file and the system's
+// reason ("regions.jsonl: cannot write (No space left on device)").
+//
+// Opening fails with input_error (the path given is unusable: exit 2);
+// writing fails with output_error (the input was fine, the result is lost:
+// exit 1). Nothing here prints.
+#pragma once
+
+#include <cstdio>
+#include <stdexcept>
+#include <string>
+#include <string_view>
+
+namespace pleat::cli {
+
+// A result could not be written (a full disk, a closed pipe, /dev/full).
+struct output_error : std::runtime_error {
+  using std::runtime_error::runtime_error;
+};
+
+class OutputFile {
+ public:
+  enum class Mode { truncate, append };
+  // Opens `path`; throws input_error "NAME: cannot open for writing (REASON)".
+  // Messages name `name` (default: the path).
+  explicit OutputFile(const std::string& path, Mode mode = Mode::truncate, const std::string& name = "");
+  ~OutputFile();  // closes; errors there are lost, so call close() to see them
+  OutputFile(const OutputFile&) = delete;
+  OutputFile& operator=(const OutputFile&) = delete;
+
+  // Throws output_error "PATH: cannot write (REASON)".
+  void write(std::string_view text);
+  // Pushes buffered text to the system (after each line of a long run, so
+  // that an interrupted run keeps what it found); throws as write.
+  void flush();
+  // Flushes and closes; throws as write. Idempotent.
+  void close();
+  const std::string& path() const { return path_; }
+
+ private:
+  [[noreturn]] void fail(int error_number);
+  std::string path_;
+  std::string name_;
+  std::FILE* file_ = nullptr;
+};
+
+// Throws output_error when standard output cannot be written (after
+// flushing it): "cannot write to standard output (No space left on device)".
+void check_standard_output();
+
+// Writes `text` to a temporary file next to `path` and renames it over
+// `path`, so that a reader of `path` sees the old or the new content, never
+// a truncated one, and a failed write leaves `path` as it was.
+void write_file_atomically(const std::string& path, std::string_view text);
+
+}  // namespace pleat::cli
