@@ -2,6 +2,7 @@
 // functional dimension at given points; a verdict on someone else's estimate.
 #include "cli/command.hpp"
 #include "cli/common.hpp"
+#include "cli/line_input.hpp"
 #include "cli/domain_options.hpp"
 #include "cli/progress.hpp"
 #include "cli/region_json.hpp"
@@ -32,18 +33,19 @@ struct CertifyArguments {
 };
 
 // One point per line, coordinates separated by commas; blank lines and lines
-// starting with '#' are skipped.
+// starting with '#' are skipped. A point of many long exact coordinates stays
+// far below the line cap.
+constexpr std::size_t max_point_line_bytes = std::size_t{16} << 20;
 std::vector<RationalVector> read_points_file(const std::string& path, std::size_t dimension) {
-  std::ifstream file(path);
-  if (!file) throw input_error(path + ": cannot open");
+  LineInput input(path, "points file", max_point_line_bytes);  // one line at a time
   std::vector<RationalVector> points;
   std::string line;
-  for (std::size_t number = 1; std::getline(file, line); ++number) {
-    while (!line.empty() && (line.back() == '\r' || line.back() == ' ')) line.pop_back();
+  while (input.next(line)) {
+    while (!line.empty() && line.back() == ' ') line.pop_back();
     if (line.empty() || line.front() == '#') continue;
-    points.push_back(parse_point(line, dimension, path + ":" + std::to_string(number)));
+    points.push_back(parse_point(line, dimension, input.path() + ":" + std::to_string(input.line_number())));
   }
-  if (points.empty()) throw input_error(path + ": no points");
+  if (points.empty()) throw input_error(input.path() + ": no points (only blank or '#' lines)");
   return points;
 }
 
