@@ -9,6 +9,7 @@ packages=(
   python3 python3-numpy python3-sympy python3-scipy python3-torch
   libonnx-dev libprotobuf-dev python3-onnx
   librsvg2-bin
+  libbenchmark-dev hyperfine
 )
 missing=()
 for p in "${packages[@]}"; do
