@@ -231,6 +231,28 @@ std::optional<NonFacetCertificate> redundancy_on_support(const Polyhedron& cell,
   return certificate;
 }
 
+// The redundancy certificate of redundancy_on_support for a support of two
+// constraints in the plane, by Cramer's rule (no matrix, few temporaries):
+// a_j = y1 a_s1 + y2 a_s2, y >= 0, y1 c_s1 + y2 c_s2 <= c_j.
+std::optional<NonFacetCertificate> redundancy_in_plane(const Polyhedron& cell, std::size_t j, std::size_t s1,
+                                                       std::size_t s2) {
+  const RationalVector& a = cell.constraints[s1].normal;
+  const RationalVector& b = cell.constraints[s2].normal;
+  const RationalVector& target = cell.constraints[j].normal;
+  Rational determinant = a[0] * b[1] - a[1] * b[0];
+  if (sgn(determinant) == 0) return std::nullopt;
+  Rational y1 = (target[0] * b[1] - target[1] * b[0]) / determinant;
+  if (sgn(y1) < 0) return std::nullopt;
+  Rational y2 = (a[0] * target[1] - a[1] * target[0]) / determinant;
+  if (sgn(y2) < 0) return std::nullopt;
+  if (y1 * cell.constraints[s1].offset + y2 * cell.constraints[s2].offset > cell.constraints[j].offset)
+    return std::nullopt;
+  NonFacetCertificate certificate{Rational(-1), RationalVector(cell.constraints.size())};
+  certificate.multipliers[s1] = std::move(y1);
+  certificate.multipliers[s2] = std::move(y2);
+  return certificate;
+}
+
 // ---- exact fallbacks (cddlib) ----------------------------------------------
 
 [[noreturn]] void internal_failure(const char* what) {
@@ -735,8 +757,8 @@ std::vector<PolygonProposal> polygon_proposals(const DoubleRows& rows, const Rat
 std::optional<FacetVerdict> certify_polygon_proposal(const Polyhedron& cell, std::size_t j,
                                                      const PolygonProposal& proposal) {
   if (proposal.kind == PolygonProposal::Kind::non_facet) {
-    const std::vector<std::size_t> support{proposal.support[0], proposal.support[1]};
-    if (std::optional<NonFacetCertificate> certificate = redundancy_on_support(cell, j, support))
+    if (std::optional<NonFacetCertificate> certificate =
+            redundancy_in_plane(cell, j, proposal.support[0], proposal.support[1]))
       return FacetVerdict{std::move(*certificate)};
     return std::nullopt;
   }
@@ -969,7 +991,7 @@ FacetClassification Oracle::classify_facets(const Polyhedron& cell, const Interi
       ++state_->counts.exact_fallbacks;
       verdict = classify_group_exactly(reduced.cell, single);
     }
-    if (auto* proof = std::get_if<NonFacetCertificate>(&*verdict))
+    if (auto* proof = std::get_if<NonFacetCertificate>(&*verdict); proof && reduced.has_duplicates)
       proof->multipliers = expand_multipliers(proof->multipliers, reduced, cell.constraints.size());
     classification.groups.push_back(FacetGroup{reduced.classes[r], std::move(*verdict)});
   }
