@@ -186,7 +186,10 @@ std::string histogram_svg(const SurveyRecord& record, const SurveySummary& summa
   std::size_t most = 1;
   for (const auto& [value, count] : summary.histogram) most = std::max(most, count);
   const double bin_width = plot_width / static_cast<double>(bins);
-  auto x_of = [&](std::size_t value) { return left + (static_cast<double>(value - low) + 0.5) * bin_width; };
+  // low passed by value: clang 14 cannot capture a structured binding.
+  auto x_of = [&, first = low](std::size_t value) {
+    return left + (static_cast<double>(value - first) + 0.5) * bin_width;
+  };
   // The tallest bar fills the plot height less room for its count.
   auto y_of = [&](double count) { return top + plot_height * (1 - 0.92 * count / static_cast<double>(most)); };
 
