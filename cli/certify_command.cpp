@@ -116,9 +116,7 @@ Json result_to_json(const Network& network, const FunctionalDimensionResult& res
   out["regions_contributing"] = result.regions_contributing;
   out["walk_complete"] = result.walk_complete;
   out["early_stop"] = result.early_stop;
-  out["stop_reason"] = result.walk.stop_reason == StopReason::none || result.early_stop
-                           ? Json(nullptr)
-                           : Json(to_string(result.walk.stop_reason));
+  out["stop_reason"] = result.stop_reason == StopReason::none ? Json(nullptr) : Json(to_string(result.stop_reason));
   out["nonsmooth_regions"] = std::move(nonsmooth);
   out["extra_kernel"] = std::move(extra);
   out["seconds"] = result.seconds;
@@ -142,7 +140,12 @@ void print_result(const Network& network, const Domain& domain, const Functional
           << " regions;\n                      upper bound: an exact kernel checked on every smooth region\n";
   } else {
     out << "functional dimension  between " << result.lower_bound << " and " << result.upper_bound
-        << "  NOT certified (walk stopped: " << to_string(result.walk.stop_reason) << ")\n";
+        << "  NOT certified ("
+        << (result.stop_reason == StopReason::none
+                ? std::string("the walk could not be certified")
+                : std::string(result.walk_complete ? "stopped after the walk: " : "walk stopped: ") +
+                      to_string(result.stop_reason))
+        << ")\n";
   }
   out << "regions               " << result.regions_walked << " walked"
       << (result.early_stop ? " (stopped early: the rank met the scaling bound)"
@@ -203,6 +206,15 @@ int run_certify(const CertifyArguments& arguments) {
     progress.update("certifying: " + std::to_string(state.regions) + " regions walked, frontier " +
                     std::to_string(state.frontier));
   };
+  options.on_phase = [&](const CertifyProgress& state) {
+    std::string text = std::string("certifying: ") + state.phase;
+    if (std::string(state.phase) == "kernel")
+      text += " (lifting the extra directions), " + std::to_string(state.done) + " primes";
+    else
+      text += " " + std::to_string(state.done) + "/" + std::to_string(state.total) +
+              (std::string(state.phase) == "check" ? " regions" : " directions");
+    progress.update(text);
+  };
   options.stop_at_scaling_bound = !arguments.full_walk;
   options.keep_rows = !arguments.rows_path.empty();
   const FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
@@ -220,7 +232,7 @@ int run_certify(const CertifyArguments& arguments) {
       std::cout << "claim                 " << *arguments.claim << "  " << document["claim"]["verdict"].get<std::string>()
                 << ": " << document["claim"]["reason"].get<std::string>() << "\n";
   }
-  return result.walk.stop_reason == StopReason::interrupted ? 130 : 0;
+  return result.stop_reason == StopReason::interrupted ? 130 : 0;
 }
 
 }  // namespace

@@ -64,17 +64,6 @@ std::size_t relu_layers(const Network& network) { return network.relu_layer_coun
 
 }  // namespace
 
-std::string to_string(StopReason reason) {
-  switch (reason) {
-    case StopReason::none: return "";
-    case StopReason::time_limit: return "time-limit";
-    case StopReason::max_regions: return "max-regions";
-    case StopReason::interrupted: return "interrupted";
-    case StopReason::requested: return "requested";
-  }
-  return "";
-}
-
 std::optional<PatternCell> build_pattern_cell(const Network& network, const Domain& domain,
                                               const ActivationPattern& pattern) {
   if (pattern.states.size() != network.relu_neuron_count())

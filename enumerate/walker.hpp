@@ -22,6 +22,7 @@
 #include "core/evaluate.hpp"
 #include "core/network.hpp"
 #include "core/pattern.hpp"
+#include "core/stop.hpp"
 #include "enumerate/domain.hpp"
 #include "lp/oracle.hpp"
 #include "lp/polyhedron.hpp"
@@ -66,8 +67,7 @@ struct Region {
   std::optional<RegionCertificates> certificates;
 };
 
-enum class StopReason { none, time_limit, max_regions, interrupted, requested };
-std::string to_string(StopReason reason);  // null-less spec names: "time-limit", ...
+// StopReason and to_string(StopReason) live in core/stop.hpp.
 
 struct WalkProgress {
   std::size_t regions = 0;
