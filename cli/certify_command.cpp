@@ -3,14 +3,18 @@
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
+#include "cli/points_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/region_json.hpp"
 #include "cli/signals.hpp"
+#include "core/jacobian.hpp"
 #include "enumerate/functional_dimension.hpp"
+#include "enumerate/walker.hpp"
 
 #include <fstream>
 #include <iostream>
 #include <optional>
+#include <set>
 #include <sstream>
 
 namespace pleat::cli {
@@ -31,22 +35,6 @@ struct CertifyArguments {
   std::uint64_t claim_value = 0;
 };
 
-// One point per line, coordinates separated by commas; blank lines and lines
-// starting with '#' are skipped.
-std::vector<RationalVector> read_points_file(const std::string& path, std::size_t dimension) {
-  std::ifstream file(path);
-  if (!file) throw input_error(path + ": cannot open");
-  std::vector<RationalVector> points;
-  std::string line;
-  for (std::size_t number = 1; std::getline(file, line); ++number) {
-    while (!line.empty() && (line.back() == '\r' || line.back() == ' ')) line.pop_back();
-    if (line.empty() || line.front() == '#') continue;
-    points.push_back(parse_point(line, dimension, path + ":" + std::to_string(number)));
-  }
-  if (points.empty()) throw input_error(path + ": no points");
-  return points;
-}
-
 void write_matrix(const std::string& path, const RationalMatrix& matrix) {
   std::ostringstream out;
   for (std::size_t r = 0; r < matrix.rows(); ++r) {
@@ -56,33 +44,42 @@ void write_matrix(const std::string& path, const RationalMatrix& matrix) {
   write_output(path, out.str());
 }
 
-Json claim_to_json(std::uint64_t value, const FunctionalDimensionResult& result) {
-  Json claim{{"value", value}};
-  std::string verdict, reason;
-  if (value > result.parametric_dimension) {
-    verdict = "impossible";
-    reason = "exceeds the parametric dimension " + std::to_string(result.parametric_dimension);
-  } else if (value > result.upper_bound) {
-    verdict = "impossible";
-    reason = "exceeds the proved upper bound " + std::to_string(result.upper_bound) +
-             (result.upper_bound == result.scaling_bound ? " (the scaling bound: every hidden neuron's "
-                                                           "rescaling leaves the function unchanged)"
-                                                         : " (an exact kernel checked on every region)");
-  } else if (value < result.lower_bound) {
-    verdict = "too-low";
-    reason = "below the proved lower bound " + std::to_string(result.lower_bound) + " by " +
-             std::to_string(result.lower_bound - value) +
-             " (a sampled estimate that misses regions or rounds away rank falls short like this)";
-  } else {
-    verdict = "consistent";
-    reason = result.certified ? "equals the certified functional dimension"
-                              : "within the proved bounds [" + std::to_string(result.lower_bound) + ", " +
-                                    std::to_string(result.upper_bound) + "]";
-  }
-  claim["verdict"] = verdict;
-  claim["reason"] = reason;
-  return claim;
+struct ClaimVerdict {
+  std::string verdict;  // "consistent", "too-low" or "impossible"
+  std::string reason;
+};
+
+// A claimed value against what certify proved about the network.
+ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& result) {
+  if (value > result.parametric_dimension)
+    return {"impossible", "exceeds the parametric dimension " + std::to_string(result.parametric_dimension)};
+  if (value > result.upper_bound)
+    return {"impossible", "exceeds the proved upper bound " + std::to_string(result.upper_bound) +
+                              (result.upper_bound == result.scaling_bound
+                                   ? " (the scaling bound: every hidden neuron's rescaling leaves the function unchanged)"
+                                   : " (an exact kernel checked on every region)")};
+  if (value < result.lower_bound)
+    return {"too-low", "below the proved lower bound " + std::to_string(result.lower_bound) + " by " +
+                           std::to_string(result.lower_bound - value) +
+                           " (a sampled estimate that misses regions or rounds away rank falls short like this)"};
+  return {"consistent", result.certified ? "equals the certified functional dimension"
+                                         : "within the proved bounds [" + std::to_string(result.lower_bound) + ", " +
+                                               std::to_string(result.upper_bound) + "]"};
 }
+
+// A claimed value against the exact rank of the Jacobian at the claim's own points.
+ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank) {
+  const std::string rank = std::to_string(batch_rank);
+  if (value > batch_rank)
+    return {"impossible", "exceeds the exact rank at these points, " + rank +
+                              " (a floating-point rank above it was invented by rounding)"};
+  if (value < batch_rank)
+    return {"too-low", "below the exact rank at these points, " + rank + ", by " + std::to_string(batch_rank - value) +
+                           " (rounding or the SVD tolerance lost rank)"};
+  return {"consistent", "equals the exact rank at these points"};
+}
+
+Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", verdict.verdict}, {"reason", verdict.reason}}; }
 
 std::string parameter_vector_text(const Network& network, const RationalVector& vector) {
   std::string text;
@@ -91,7 +88,7 @@ std::string parameter_vector_text(const Network& network, const RationalVector& 
   return text;
 }
 
-Json result_to_json(const Network& network, const FunctionalDimensionResult& result) {
+Json result_to_json(const Network& network, const Domain& domain, const FunctionalDimensionResult& result) {
   Json nonsmooth = Json::array();
   for (const auto& [pattern, neurons] : result.nonsmooth_regions)
     nonsmooth.push_back({{"pattern", format_pattern(network, pattern)}, {"neurons", neurons}});
@@ -106,6 +103,7 @@ Json result_to_json(const Network& network, const FunctionalDimensionResult& res
   }
   Json out;
   out["format"] = "pleat-certify/1";
+  out["domain"] = domain_to_json(domain);
   out["parametric_dimension"] = result.parametric_dimension;
   out["scaling_bound"] = result.scaling_bound;
   out["functional_dimension"] = result.functional_dimension ? Json(*result.functional_dimension) : Json(nullptr);
@@ -174,28 +172,10 @@ void print_result(const Network& network, const Domain& domain, const Functional
   }
 }
 
-int run_points(const CertifyArguments& arguments, const Network& network) {
-  const auto points = read_points_file(arguments.points_path, network.input_dim);
-  const std::size_t rank = batch_functional_dimension(network, points);
-  if (arguments.json) {
-    Json out{{"format", "pleat-batch/1"},
-             {"points", points.size()},
-             {"parametric_dimension", network.parametric_dimension()},
-             {"batch_functional_dimension", rank}};
-    std::cout << json_text(out);
-  } else {
-    std::cout << "batch functional dimension " << rank << " at " << points.size() << " points (exact rank of the "
-              << points.size() * network.output_dim() << " x " << network.parametric_dimension()
-              << " parameter Jacobian)\n";
-  }
-  return 0;
-}
-
-int run_certify(const CertifyArguments& arguments) {
-  const Network network = load_network(arguments.network_path);
-  if (!arguments.points_path.empty()) return run_points(arguments, network);
-  const Domain domain = make_domain(arguments.domain, network.input_dim);
-
+// The walk and ranks of certify_functional_dimension, with the progress line,
+// interrupt handling and the command's limits.
+FunctionalDimensionResult certify_with_progress(const CertifyArguments& arguments, const Network& network,
+                                                const Domain& domain, bool stop_at_scaling_bound) {
   ProgressLine progress(arguments.quiet);
   const InterruptGuard interrupt;
   FunctionalDimensionOptions options;
@@ -215,24 +195,163 @@ int run_certify(const CertifyArguments& arguments) {
               (std::string(state.phase) == "check" ? " regions" : " directions");
     progress.update(text);
   };
-  options.stop_at_scaling_bound = !arguments.full_walk;
+  options.stop_at_scaling_bound = stop_at_scaling_bound;
   options.keep_rows = !arguments.rows_path.empty();
-  const FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
+  FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
   progress.finish();
+  return result;
+}
+
+bool is_inside(const Domain& domain, const RationalVector& point) {
+  for (const auto& side : domain.constraints) {
+    Rational value = side.offset;
+    for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
+    if (value <= 0) return false;
+  }
+  return true;
+}
+
+std::string point_text(const RationalVector& point) {
+  std::string text = "(";
+  for (std::size_t i = 0; i < point.size(); ++i) text += (i ? ", " : "") + format_rational(point[i]);
+  return text + ")";
+}
+
+// The activation pattern of each point's region; a point outside the domain,
+// on a bent hyperplane or in a region without smooth points is an input_error
+// naming its file and line.
+std::vector<ActivationPattern> point_regions(const Network& network, const Domain& domain, const PointsFile& file) {
+  std::vector<ActivationPattern> patterns;
+  for (std::size_t i = 0; i < file.points.size(); ++i) {
+    const std::string place = file.places[i] + " (point " + std::to_string(i) + ")";
+    if (!is_inside(domain, file.points[i]))
+      throw input_error(place + ": " + point_text(file.points[i]) + " lies outside the domain " + domain.describe());
+    const auto pattern = region_pattern_at(network, file.points[i]);
+    if (!pattern || !nonsmooth_neurons(network, *pattern).empty()) {
+      try {
+        (void)parameter_jacobian_exact(network, file.points[i]);  // throws the reason
+      } catch (const input_error& fault) {
+        throw input_error(place + ": " + fault.what());
+      }
+    }
+    patterns.push_back(*pattern);
+  }
+  return patterns;
+}
+
+struct BatchReport {
+  std::size_t points = 0;
+  std::size_t rank = 0;
+  std::size_t regions_touched = 0;
+};
+
+std::string regions_total_text(const FunctionalDimensionResult& result, std::size_t touched) {
+  return result.walk_complete ? std::to_string(result.walk.regions)
+                              : "at least " + std::to_string(std::max(result.walk.regions, touched));
+}
+
+void print_batch(const Network& network, const Domain& domain, const CertifyArguments& arguments,
+                 const BatchReport& batch, const FunctionalDimensionResult& result, std::ostream& out) {
+  out << "domain                " << domain.describe() << "\n";
+  out << "points                " << batch.points << " from " << arguments.points_path << ", in " << batch.regions_touched
+      << " of " << regions_total_text(result, batch.regions_touched) << " regions (decided exactly)\n";
+  out << "batch functional dimension " << batch.rank << "  (exact rank of the " << batch.points * network.output_dim()
+      << " x " << network.parametric_dimension() << " parameter Jacobian at these points)\n";
+  if (result.certified)
+    out << "functional dimension  " << *result.functional_dimension << "  certified (every region of the domain)\n";
+  else
+    out << "functional dimension  between " << result.lower_bound << " and " << result.upper_bound
+        << "  NOT certified (stopped: " << to_string(result.stop_reason) << ")\n";
+  if (result.certified && batch.rank < *result.functional_dimension) {
+    out << "                      the points fall short by " << *result.functional_dimension - batch.rank;
+    if (result.walk_complete && batch.regions_touched == result.walk.regions)
+      out << ": they reach every region, but a region gives up to " << network.output_dim() * (network.input_dim + 1)
+          << " independent rows (take more points per region)\n";
+    else
+      out << ": they reach " << batch.regions_touched << " of " << regions_total_text(result, batch.regions_touched)
+          << " regions\n";
+  }
+}
+
+void print_claim(std::uint64_t value, const std::optional<ClaimVerdict>& at_points, const ClaimVerdict& network_verdict,
+                 std::ostream& out) {
+  out << "claim                 " << value << "\n";
+  if (at_points) out << "  at these points     " << at_points->verdict << ": " << at_points->reason << "\n";
+  out << "  for the network     " << network_verdict.verdict << ": " << network_verdict.reason << "\n";
+}
+
+// 0 when every verdict is "consistent", 1 otherwise (documented in --help).
+int claim_status(const std::optional<ClaimVerdict>& at_points, const ClaimVerdict& network_verdict) {
+  const bool is_consistent = network_verdict.verdict == "consistent" && (!at_points || at_points->verdict == "consistent");
+  return is_consistent ? 0 : 1;
+}
+
+int run_points(const CertifyArguments& arguments, const Network& network) {
+  const PointsFile file = read_points_file(arguments.points_path, network.input_dim);
+  const Domain domain = make_domain(arguments.domain, network.input_dim);
+  const std::vector<ActivationPattern> patterns = point_regions(network, domain, file);
+  BatchReport batch;
+  batch.points = file.points.size();
+  batch.rank = batch_functional_dimension(network, file.points);
+  batch.regions_touched = std::set<ActivationPattern>(patterns.begin(), patterns.end()).size();
+  // Every region must be walked to count them (no early stop at the scaling bound).
+  const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, false);
+  std::optional<ClaimVerdict> at_points, network_verdict;
+  if (arguments.claim) {
+    at_points = judge_claim_at_points(*arguments.claim, batch.rank);
+    network_verdict = judge_claim(*arguments.claim, result);
+  }
+  if (arguments.json) {
+    Json out{{"format", "pleat-batch/1"},
+             {"points", batch.points},
+             {"parametric_dimension", network.parametric_dimension()},
+             {"batch_functional_dimension", batch.rank},
+             {"domain", domain_to_json(domain)},
+             {"regions_touched", batch.regions_touched},
+             {"regions_total", result.walk_complete ? Json(result.walk.regions) : Json(nullptr)},
+             {"regions_walked", result.regions_walked},
+             {"scaling_bound", result.scaling_bound},
+             {"functional_dimension", result.functional_dimension ? Json(*result.functional_dimension) : Json(nullptr)},
+             {"lower_bound", result.lower_bound},
+             {"upper_bound", result.upper_bound},
+             {"certified", result.certified}};
+    if (arguments.claim) {
+      out["claim"] = verdict_json(*network_verdict);
+      out["claim"]["value"] = *arguments.claim;
+      out["claim"]["at_points"] = verdict_json(*at_points);
+    }
+    out["seconds"] = result.seconds;
+    std::cout << json_text(out);
+  } else {
+    print_batch(network, domain, arguments, batch, result, std::cout);
+    if (arguments.claim) print_claim(*arguments.claim, at_points, *network_verdict, std::cout);
+  }
+  if (result.stop_reason == StopReason::interrupted) return 130;
+  return arguments.claim ? claim_status(at_points, *network_verdict) : 0;
+}
+
+int run_certify(const CertifyArguments& arguments) {
+  const Network network = load_network(arguments.network_path);
+  if (!arguments.points_path.empty()) return run_points(arguments, network);
+  const Domain domain = make_domain(arguments.domain, network.input_dim);
+  const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, !arguments.full_walk);
   if (!arguments.rows_path.empty()) write_matrix(arguments.rows_path, result.rows);
   if (!arguments.kernel_path.empty()) write_matrix(arguments.kernel_path, result.kernel);
 
-  Json document = result_to_json(network, result);
-  if (arguments.claim) document["claim"] = claim_to_json(*arguments.claim, result);
+  Json document = result_to_json(network, domain, result);
+  std::optional<ClaimVerdict> verdict;
+  if (arguments.claim) {
+    verdict = judge_claim(*arguments.claim, result);
+    document["claim"] = Json{{"value", *arguments.claim}, {"verdict", verdict->verdict}, {"reason", verdict->reason}};
+  }
   if (arguments.json) {
     std::cout << json_text(document);
   } else {
     print_result(network, domain, result, std::cout);
-    if (arguments.claim)
-      std::cout << "claim                 " << *arguments.claim << "  " << document["claim"]["verdict"].get<std::string>()
-                << ": " << document["claim"]["reason"].get<std::string>() << "\n";
+    if (arguments.claim) print_claim(*arguments.claim, std::nullopt, *verdict, std::cout);
   }
-  return result.stop_reason == StopReason::interrupted ? 130 : 0;
+  if (result.stop_reason == StopReason::interrupted) return 130;
+  return arguments.claim ? claim_status(std::nullopt, *verdict) : 0;
 }
 
 }  // namespace
@@ -251,7 +370,17 @@ void register_certify(CommandTable& commands) {
       "  pleat certify data/fold2d.json\n"
       "  pleat certify data/fold2d.json --box -1,1 --json\n"
       "  pleat certify net.json --claim 37          # check someone's sampled estimate\n"
-      "  pleat certify net.json --points pts.csv    # exact batch dimension at these points",
+      "  pleat certify net.json --points pts.csv    # exact batch dimension at these points\n"
+      "  pleat certify net.json --points pts.npy --claim 37   # judge an estimate made at pts\n\n"
+      "--points FILE: the exact rank of the parameter Jacobian stacked at the points (text:\n"
+      "comma- or whitespace-separated values, an optional header line, '#' comments; or a\n"
+      "float64/float32 .npy array), how many of the domain's regions the points touch, and\n"
+      "the certified value beside it. Points outside --box/--domain or on a bent hyperplane\n"
+      "are an error naming the point.\n"
+      "--claim N: the verdict on N against the proved bounds, and with --points also\n"
+      "against the exact rank at those points: consistent, too-low or impossible.\n\n"
+      "Exit status: 0 done (with --claim: every verdict consistent); 1 a --claim verdict\n"
+      "is too-low or impossible; 2 bad input; 130 interrupted.",
       [arguments] { return run_certify(*arguments); });
   command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")
       ->required();
@@ -267,9 +396,9 @@ void register_certify(CommandTable& commands) {
   command.add_option("--kernel-out", arguments->kernel_path,
                      "Write the exact kernel basis checked against every region (one row per line)");
   command.add_option("--points", arguments->points_path,
-                     "Instead: the exact batch functional dimension at the points in this CSV file");
+                     "Also: the exact batch functional dimension at these points (text or .npy)");
   CLI::Option* claim = add_unsigned_option(command, "--claim", arguments->claim_value,
-                                           "Judge a claimed value: consistent, too-low or impossible");
+                                           "Judge a claimed value: consistent (exit 0), too-low or impossible (exit 1)");
   claim->each([arguments](const std::string& text) { arguments->claim = parse_unsigned(text, "--claim"); });
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }

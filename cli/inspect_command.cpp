@@ -254,7 +254,7 @@ void register_inspect(CommandTable& commands) {
       "region whose closure contains it.\n\n"
       "Examples:\n"
       "  pleat inspect data/fold2d.json --at 1/2,-1\n"
-      "  pleat inspect data/fold2d.json --pattern 011010/10110 --box -3,3 --json",
+      "  pleat inspect data/fold2d.json --pattern 001100/11100 --box -3,3 --json",
       [arguments] { return run_inspect(*arguments); });
   command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")->required();
   auto* at = add_number_list_option(command, "--at", arguments->at_text, "A point: the region(s) at it");

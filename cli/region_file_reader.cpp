@@ -12,11 +12,15 @@ const Json& LineReader::field(const Json& object, const char* key) const {
 
 Rational LineReader::rational(const Json& value) const {
   if (!value.is_string()) fail("expected an exact number as a string, found " + value.dump());
+  Rational result;
   try {
-    return parse_rational(value.get<std::string>());
+    result = parse_rational(value.get<std::string>());
   } catch (const input_error& fault) {
     fail(fault.what());
   }
+  if (canonical_ && format_rational(result) != value.get<std::string>())
+    fail("the number " + value.dump() + " is not written as pleat writes it (\"" + format_rational(result) + "\")");
+  return result;
 }
 
 RationalVector LineReader::rationals(const Json& value) const {
@@ -38,11 +42,16 @@ std::vector<std::size_t> LineReader::indices(const Json& value) const {
 
 ActivationPattern LineReader::pattern(const Json& value) const {
   if (!value.is_string()) fail("expected a pattern string, found " + value.dump());
+  ActivationPattern result;
   try {
-    return parse_pattern(network_, value.get<std::string>());
+    result = parse_pattern(network_, value.get<std::string>());
   } catch (const input_error& fault) {
     fail(fault.what());
   }
+  if (canonical_ && format_pattern(network_, result) != value.get<std::string>())
+    fail("the pattern " + value.dump() + " is not written in the spec's notation (\"" +
+         format_pattern(network_, result) + "\")");
+  return result;
 }
 
 RationalVector LineReader::sparse(const Json& value, std::size_t size) const {
@@ -56,7 +65,9 @@ RationalVector LineReader::sparse(const Json& value, std::size_t size) const {
       fail(fault.what());
     }
     if (index >= size) fail("multiplier index " + key + " beyond the " + std::to_string(size) + " constraints");
+    if (canonical_ && key != std::to_string(index)) fail("multiplier index \"" + key + "\" is not written as pleat writes it");
     out[index] = rational(entry);
+    if (canonical_ && out[index] == 0) fail("multiplier " + key + " is zero (pleat writes only nonzero multipliers)");
   }
   return out;
 }

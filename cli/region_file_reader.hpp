@@ -12,9 +12,17 @@
 
 namespace pleat::cli {
 
+// Region files are read one line at a time; a region line of a large network
+// with its certificate is far below this.
+inline constexpr std::size_t max_region_line_bytes = std::size_t{64} << 20;
+
 class LineReader {
  public:
   LineReader(const Network& network, std::size_t line) : network_(network), line_(line) {}
+  // Numbers, patterns and multiplier keys must then be written exactly as
+  // pleat writes them (lowest terms, spec pattern notation, no zero
+  // multipliers): what verify needs so that no text differs from what it checks.
+  void require_canonical() { canonical_ = true; }
 
   [[noreturn]] void fail(const std::string& what) const;
   const Json& field(const Json& object, const char* key) const;
@@ -27,6 +35,7 @@ class LineReader {
  private:
   const Network& network_;
   std::size_t line_;
+  bool canonical_ = false;
 };
 
 // The header's "domain" (as cli/region_json.cpp's domain_to_json writes it).

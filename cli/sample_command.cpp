@@ -48,7 +48,13 @@ struct SampleArguments {
   std::uint64_t threads = 0;
   double time_limit = 0;
   std::string points_path;
+  std::string dtype = "float64";
 };
+
+// float32 is what training code uses: parameters, points and the Jacobian are
+// rounded to float32 and the SVD runs in float32 with float32's epsilon in
+// the tolerance (numpy's matrix_rank on a float32 array does the same).
+bool is_float32(const SampleArguments& arguments) { return arguments.dtype == "float32"; }
 
 // Where the points come from: the standard normal on R^n0, or uniform on an
 // open box (one interval for every axis, or one per axis).
@@ -99,16 +105,19 @@ PointDistribution parse_distribution(const std::string& text, std::size_t input_
 // first m points of batch K are the points of batch m.
 class PointStream {
  public:
-  PointStream(std::uint64_t seed, const PointDistribution& dist) : stream_(seed, 0), dist_(dist) {}
+  PointStream(std::uint64_t seed, const PointDistribution& dist, bool is_float32)
+      : stream_(seed, 0), dist_(dist), is_float32_(is_float32) {}
 
   DoubleVector next_point(std::size_t dimension) {
     DoubleVector point(dimension);
-    for (std::size_t i = 0; i < dimension; ++i) point[i] = dist_.is_box ? next_box(i) : next_normal();
+    for (std::size_t i = 0; i < dimension; ++i) point[i] = dist_.is_box ? next_box(i) : rounded(next_normal());
     return point;
   }
 
  private:
   static constexpr double two_to_minus_53 = 1.0 / 9007199254740992.0;
+
+  double rounded(double x) const { return is_float32_ ? static_cast<double>(static_cast<float>(x)) : x; }
 
   double next_normal() {
     const double u1 = static_cast<double>((stream_.next_word() >> 11) + 1) * two_to_minus_53;
@@ -120,7 +129,7 @@ class PointStream {
     const double lo = to_double(dist_.lower[axis]), hi = to_double(dist_.upper[axis]);
     for (;;) {
       const double u = (static_cast<double>(stream_.next_word() >> 11) + 0.5) * two_to_minus_53;
-      const double x = lo + (hi - lo) * u;
+      const double x = rounded(lo + (hi - lo) * u);
       const Rational exact = rational_from_double(x);
       if (dist_.lower[axis] < exact && exact < dist_.upper[axis]) return x;
     }
@@ -128,6 +137,7 @@ class PointStream {
 
   RandomStream stream_;
   const PointDistribution& dist_;
+  bool is_float32_ = false;
 };
 
 // Numerical ranks of one stacked Jacobian from its singular values.
@@ -138,29 +148,39 @@ struct NumericalRank {
   double sigma_max = 0;
 };
 
-NumericalRank numerical_rank(const std::vector<DoubleMatrix>& jacobians, std::size_t points,
-                             std::size_t columns) {
+// Scalar is double or float (the Jacobian entries rounded to it).
+template <class Scalar>
+NumericalRank numerical_rank_in(const std::vector<DoubleMatrix>& jacobians, std::size_t points, std::size_t columns) {
+  using MatrixType = Eigen::Matrix<Scalar, Eigen::Dynamic, Eigen::Dynamic>;
   std::size_t rows = 0;
   for (std::size_t p = 0; p < points; ++p) rows += jacobians[p].rows();
   NumericalRank rank;
   if (rows == 0 || columns == 0) return rank;
-  Eigen::MatrixXd stacked(static_cast<Eigen::Index>(rows), static_cast<Eigen::Index>(columns));
+  MatrixType stacked(static_cast<Eigen::Index>(rows), static_cast<Eigen::Index>(columns));
   Eigen::Index r = 0;
   for (std::size_t p = 0; p < points; ++p)
     for (std::size_t i = 0; i < jacobians[p].rows(); ++i, ++r)
-      for (std::size_t c = 0; c < columns; ++c) stacked(r, static_cast<Eigen::Index>(c)) = jacobians[p](i, c);
+      for (std::size_t c = 0; c < columns; ++c)
+        stacked(r, static_cast<Eigen::Index>(c)) = static_cast<Scalar>(jacobians[p](i, c));
   // Singular values only (no U, V), in decreasing order.
-  const Eigen::BDCSVD<Eigen::MatrixXd> svd(stacked);
-  const Eigen::VectorXd sigma = svd.singularValues();
-  rank.sigma_max = sigma.size() ? sigma(0) : 0.0;
-  const double customary = rank.sigma_max * static_cast<double>(std::max(rows, columns)) *
-                           std::numeric_limits<double>::epsilon();
+  const Eigen::BDCSVD<MatrixType> svd(stacked);
+  const auto sigma = svd.singularValues();
+  rank.sigma_max = sigma.size() ? static_cast<double>(sigma(0)) : 0.0;
+  const Scalar sigma_max = sigma.size() ? sigma(0) : Scalar(0);
+  const Scalar customary =
+      sigma_max * static_cast<Scalar>(std::max(rows, columns)) * std::numeric_limits<Scalar>::epsilon();
   for (Eigen::Index i = 0; i < sigma.size(); ++i) {
     rank.customary += sigma(i) > customary;
-    rank.relative_1e6 += sigma(i) > 1e-6 * rank.sigma_max;
-    rank.relative_1e10 += sigma(i) > 1e-10 * rank.sigma_max;
+    rank.relative_1e6 += sigma(i) > Scalar(1e-6) * sigma_max;
+    rank.relative_1e10 += sigma(i) > Scalar(1e-10) * sigma_max;
   }
   return rank;
+}
+
+NumericalRank numerical_rank(const std::vector<DoubleMatrix>& jacobians, std::size_t points, std::size_t columns,
+                             bool is_float32) {
+  return is_float32 ? numerical_rank_in<float>(jacobians, points, columns)
+                    : numerical_rank_in<double>(jacobians, points, columns);
 }
 
 // The smallest m <= points whose prefix rank (customary tolerance) equals
@@ -169,21 +189,36 @@ NumericalRank numerical_rank(const std::vector<DoubleMatrix>& jacobians, std::si
 // float ranks are monotone too unless rounding moves a singular value across
 // the tolerance, which the search does not guard against (an estimate).
 std::optional<std::size_t> first_batch_reaching(const std::vector<DoubleMatrix>& jacobians, std::size_t columns,
-                                                std::size_t target, std::size_t full_rank) {
+                                                std::size_t target, std::size_t full_rank, bool is_float32) {
   if (full_rank < target) return std::nullopt;
   std::size_t low = 0, high = jacobians.size();  // rank(low) < target <= rank(high); rank(0) = 0
   if (target == 0) return 0;
   while (high - low > 1) {
     const std::size_t middle = low + (high - low) / 2;
-    if (numerical_rank(jacobians, middle, columns).customary >= target) high = middle;
+    if (numerical_rank(jacobians, middle, columns, is_float32).customary >= target) high = middle;
     else low = middle;
   }
-  if (numerical_rank(jacobians, high, columns).customary != target) return std::nullopt;
+  if (numerical_rank(jacobians, high, columns, is_float32).customary != target) return std::nullopt;
   return high;
+}
+
+// The parameters as the sampled estimate sees them: rounded to double, or
+// further to float32.
+DoubleNetwork sampling_network(const Network& network, bool is_float32) {
+  DoubleNetwork rounded = to_double(network);
+  if (!is_float32) return rounded;
+  auto to_float32 = [](double& value) { value = static_cast<double>(static_cast<float>(value)); };
+  for (auto& weights : rounded.weights)
+    for (std::size_t r = 0; r < weights.rows(); ++r)
+      for (std::size_t c = 0; c < weights.cols(); ++c) to_float32(weights(r, c));
+  for (auto& bias : rounded.bias)
+    for (double& value : bias) to_float32(value);
+  return rounded;
 }
 
 struct SampleResult {
   std::size_t batch = 0;
+  std::string dtype;
   NumericalRank rank;
   std::size_t regions_touched = 0;
   std::size_t points_on_bent_hyperplanes = 0;
@@ -206,6 +241,7 @@ Json result_to_json(const SampleArguments& arguments, const Domain& domain, cons
   out["batch"] = result.batch;
   out["seed"] = arguments.seed;
   out["dist"] = arguments.dist;
+  out["dtype"] = arguments.dtype;
   out["rank"] = result.rank.customary;
   out["rank_rtol_1e-6"] = result.rank.relative_1e6;
   out["rank_rtol_1e-10"] = result.rank.relative_1e10;
@@ -234,7 +270,8 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
                                 ? std::to_string(certified.walk.regions)
                                 : "at least " + std::to_string(std::max(certified.walk.regions, result.regions_touched));
   out << "domain                " << domain.describe() << "\n";
-  out << "sampled rank          " << result.rank.customary << "  (double Jacobian at " << result.batch
+  out << "sampled rank          " << result.rank.customary << "  (" << (result.dtype == "float32" ? "float32" : "double")
+      << " Jacobian at " << result.batch
       << " points, " << result.batch * network.output_dim() << " x " << certified.parametric_dimension
       << "; SVD, tolerance sigma_max*max(M,N)*eps)\n";
   out << "                      " << result.rank.relative_1e6 << " at relative tolerance 1e-6, "
@@ -275,14 +312,17 @@ int run_sample(const SampleArguments& arguments) {
 
   SampleResult result;
   result.batch = arguments.batch;
-  const DoubleNetwork double_network = to_double(network);
-  PointStream stream(arguments.seed, dist);
+  result.dtype = arguments.dtype;
+  if (arguments.dtype != "float64" && arguments.dtype != "float32")
+    throw input_error("--dtype: expected float64 or float32, got '" + arguments.dtype + "'");
+  const DoubleNetwork double_network = sampling_network(network, is_float32(arguments));
+  PointStream stream(arguments.seed, dist, is_float32(arguments));
   std::vector<DoubleMatrix> jacobians;
   std::unordered_set<ActivationPattern, PatternHash> touched;
   std::string points_text;  // the points exactly (every double is a dyadic rational)
   for (std::uint64_t i = 0; i < arguments.batch; ++i) {
     const DoubleVector point = stream.next_point(network.input_dim);
-    jacobians.push_back(parameter_jacobian_double(double_network, point));
+    jacobians.push_back(parameter_jacobian_double(double_network, point));  // rounded to float32 by the SVD
     RationalVector exact;
     for (double coordinate : point) exact.push_back(rational_from_double(coordinate));
     for (std::size_t c = 0; c < exact.size(); ++c) {
@@ -296,7 +336,7 @@ int run_sample(const SampleArguments& arguments) {
   result.regions_touched = touched.size();
   if (!arguments.points_path.empty()) write_output(arguments.points_path, points_text);
   const std::size_t columns = network.parametric_dimension();
-  result.rank = numerical_rank(jacobians, jacobians.size(), columns);
+  result.rank = numerical_rank(jacobians, jacobians.size(), columns, is_float32(arguments));
 
   ProgressLine progress(arguments.quiet);
   const InterruptGuard interrupt;
@@ -313,7 +353,8 @@ int run_sample(const SampleArguments& arguments) {
   result.verdict = verdict_of(result.rank.customary, result.certified);
   if (result.certified.certified)
     result.first_batch_reaching =
-        first_batch_reaching(jacobians, columns, *result.certified.functional_dimension, result.rank.customary);
+        first_batch_reaching(jacobians, columns, *result.certified.functional_dimension, result.rank.customary,
+                             is_float32(arguments));
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
 
   if (arguments.json) std::cout << json_text(result_to_json(arguments, domain, result));
@@ -345,8 +386,11 @@ constexpr const char* sample_help =
     "always the first m points of batch K. --points-out writes them exactly, so\n"
     "'pleat certify NET --points FILE' gives the exact rank at the very same points:\n"
     "when it equals 'rank', rounding was not the reason for a shortfall.\n"
+    "--dtype float32 does it as training code does: parameters, points and Jacobian\n"
+    "rounded to float32, the SVD in float32 and float32's epsilon in the tolerance.\n"
     "\nExamples:\n"
     "  pleat sample data/fold2d.json --batch 40 --seed 1\n"
+    "  pleat sample data/fold2d.json --batch 40 --seed 1 --dtype float32\n"
     "  pleat sample net.json --batch 200 --seed 7 --dist box:-2,2 --json";
 
 }  // namespace
@@ -368,6 +412,9 @@ void register_sample(CommandTable& commands) {
   command.add_option("--time-limit", arguments->time_limit,
                      "Stop the certifying walk after this many seconds (then only bounds)")
       ->check(CLI::NonNegativeNumber);
+  command.add_option("--dtype", arguments->dtype,
+                     "float64 (default) or float32: the precision of the parameters, points, Jacobian and SVD")
+      ->type_name("TYPE");
   command.add_option("--points-out", arguments->points_path,
                      "Write the sampled points exactly (one per line), e.g. for 'pleat certify --points'");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");

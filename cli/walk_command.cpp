@@ -3,6 +3,7 @@
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
 #include "cli/progress.hpp"
+#include "cli/points_file.hpp"
 #include "cli/region_json.hpp"
 #include "cli/signals.hpp"
 #include "enumerate/walker.hpp"
@@ -19,6 +20,7 @@ struct WalkArguments {
   std::string network_path;
   DomainOptions domain;
   std::string output_path;
+  std::string points_path;
   bool certificates = false;
   bool json = false;
   bool patterns = false;
@@ -40,13 +42,15 @@ void print_summary(const Network& network, const Domain& domain, const WalkSumma
       << network.output_dim() << " output" << (network.output_dim() == 1 ? "" : "s")
       << (network.has_output_relu() ? " (ReLU)" : "") << "\n";
   out << "domain      " << domain.describe() << "\n";
-  out << "regions     " << (is_bound ? ">= " : "") << summary.regions << " (" << summary.bounded_regions
-      << " bounded), linear regions " << (is_bound ? ">= " : "") << summary.linear_regions << "\n";
+  // A stopped walk found only some regions: every count is a lower bound.
+  const char* at_least = is_bound ? ">= " : "";
+  out << "regions     " << at_least << summary.regions << " (" << at_least << summary.bounded_regions
+      << " bounded), linear regions " << at_least << summary.linear_regions << "\n";
   out << "per layer   ";
   for (std::size_t k = 0; k < summary.regions_per_layer.size(); ++k)
-    out << (k ? ", " : "") << summary.regions_per_layer[k];
+    out << (k ? ", " : "") << at_least << summary.regions_per_layer[k];
   out << "  (distinct pattern prefixes up to each layer)\n";
-  out << "facets      " << (is_bound ? ">= " : "") << summary.facets << " interior\n";
+  out << "facets      " << at_least << summary.facets << " interior\n";
   if (!summary.nonsmooth_regions.empty())
     out << "non-smooth  " << summary.nonsmooth_regions.size()
         << " regions have a neuron identically zero with a nonzero backward signal\n";
@@ -63,6 +67,28 @@ void print_summary(const Network& network, const Domain& domain, const WalkSumma
   char seconds[32];
   std::snprintf(seconds, sizeof seconds, "%.3f", summary.seconds);
   out << "time        " << seconds << " s\n";
+}
+
+// One interior point per region, in output order: exact text, or a float64
+// .npy. Rounding to double can move a point of a thin region out of it; such
+// points are counted on standard error (the exact text file never has any).
+void write_interior_points(const Network& network, const std::string& path, const std::vector<RationalVector>& points,
+                           const std::vector<ActivationPattern>& patterns) {
+  if (path.size() < 4 || path.compare(path.size() - 4, 4, ".npy") != 0) {
+    write_output(path, points_text(points, "pleat walk --points-out: one exact interior point per region"));
+    return;
+  }
+  write_points_npy(path, points);
+  std::size_t moved = 0;
+  for (std::size_t i = 0; i < points.size(); ++i) {
+    RationalVector rounded;
+    for (const Rational& coordinate : points[i]) rounded.push_back(rational_from_double(to_double(coordinate)));
+    const auto pattern = region_pattern_at(network, rounded);
+    moved += !pattern || *pattern != patterns[i];
+  }
+  if (moved)
+    std::cerr << "pleat: " << moved << " of " << points.size() << " points left their region when rounded to float64 in "
+              << path << "; the exact points are in a text file (--points-out FILE.txt)\n";
 }
 
 int run_walk(const WalkArguments& arguments) {
@@ -84,8 +110,14 @@ int run_walk(const WalkArguments& arguments) {
   options.time_limit_seconds = arguments.time_limit;
   options.keep_certificates = arguments.certificates;
   options.interrupt = &interrupt.flag();
+  std::vector<RationalVector> interior_points;
+  std::vector<ActivationPattern> interior_patterns;
   options.on_region = [&](const Region& region) {
     if (regions_file.is_open()) regions_file << json_text(region_to_json(network, region), false);
+    if (!arguments.points_path.empty()) {
+      interior_points.push_back(region.point);
+      interior_patterns.push_back(region.pattern);
+    }
     return true;
   };
   options.on_progress = [&](const WalkProgress& state) {
@@ -101,6 +133,9 @@ int run_walk(const WalkArguments& arguments) {
     if (!regions_file) throw std::runtime_error(arguments.output_path + ": write failed");
   }
 
+  if (!arguments.points_path.empty())
+    write_interior_points(network, arguments.points_path, interior_points, interior_patterns);
+
   if (arguments.json) {
     std::cout << json_text(walk_summary_to_json(network, domain, summary, arguments.patterns));
   } else {
@@ -109,6 +144,9 @@ int run_walk(const WalkArguments& arguments) {
       for (const auto& pattern : summary.patterns) std::cout << format_pattern(network, pattern) << "\n";
     if (!arguments.output_path.empty())
       std::cout << "written     " << arguments.output_path << " (" << summary.regions << " region lines)\n";
+    if (!arguments.points_path.empty())
+      std::cout << "written     " << arguments.points_path << " (" << interior_points.size()
+                << " interior points, one per region)\n";
   }
   if (summary.stop_reason == StopReason::interrupted) {
     std::cerr << "pleat: walk interrupted; " << summary.regions << " regions kept"
@@ -132,13 +170,16 @@ void register_walk(CommandTable& commands) {
       "Examples:\n"
       "  pleat walk data/fold2d.json\n"
       "  pleat walk data/fold2d.json --box -2,2 -o regions.jsonl --certificates\n"
-      "  pleat walk net.json --json --patterns --max-regions 10000 --time-limit 60",
+      "  pleat walk net.json --json --patterns --max-regions 10000 --time-limit 60\n"
+      "  pleat walk data/fold2d.json --points-out interior.csv   # feed: certify --points",
       [arguments] { return run_walk(*arguments); });
   command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")
       ->required();
   add_domain_options(command, arguments->domain);
   command.add_option("-o,--output", arguments->output_path,
                      "Write one JSON line per region (pleat-regions/1) to this file, as they are found");
+  command.add_option("--points-out", arguments->points_path,
+                     "Write one exact interior point per region (text; FILE.npy: float64 for numpy)");
   command.add_flag("--certificates", arguments->certificates,
                    "Add each region's certificates to the region lines (for 'pleat verify')");
   command.add_flag("--json", arguments->json, "Print the summary as JSON (pleat-walk/1)");

@@ -110,6 +110,29 @@ Evaluation evaluate_exact(const Network& network, const RationalVector& x) {
   return result;
 }
 
+ActivationPattern pattern_around_point(const Network& network, const RationalVector& x) {
+  ActivationPattern pattern = evaluate_exact(network, x).pattern;  // checks x.size()
+  // Layer by layer: a zero value is 'z' when the pre-activation's map on the
+  // states decided so far is the zero map; stop at the first true crossing.
+  AffineMap post = identity_map(network.input_dim);
+  for (std::size_t k = 0; k < network.relu_layer_count(); ++k) {
+    const AffineMap pre = compose_layer(network.layers[k], post);
+    const std::size_t first = network.first_neuron_of_layer(k);
+    bool has_crossing = false;
+    for (std::size_t i = 0; i < pre.offset.size(); ++i) {
+      NeuronState& state = pattern.states[first + i];
+      if (state != NeuronState::zero_at_point) continue;
+      bool is_zero_map = pre.offset[i] == 0;
+      for (std::size_t j = 0; is_zero_map && j < pre.linear.cols(); ++j) is_zero_map = pre.linear(i, j) == 0;
+      if (is_zero_map) state = NeuronState::zero_on_region;
+      else has_crossing = true;
+    }
+    if (has_crossing) break;
+    post = apply_states(pre, std::span(pattern.states).subspan(first, pre.offset.size()));
+  }
+  return pattern;
+}
+
 DoubleNetwork to_double(const Network& network) {
   DoubleNetwork out;
   out.input_dim = network.input_dim;

@@ -61,6 +61,15 @@ struct Evaluation {
 };
 Evaluation evaluate_exact(const Network& network, const RationalVector& x);
 
+// The pattern of the region around x: evaluate_exact's pattern, except that a
+// neuron whose pre-activation is identically zero on the region around x
+// (its affine map, through the states of the layers below, is 0) is 'z'
+// instead of '='. A '=' that remains marks a bent hyperplane through x; the
+// layers above the first such neuron keep '=' for their zeros (there is no
+// single region around x to decide 'z' in). Precondition: x.size() ==
+// input_dim (throws usage_error). Exact.
+ActivationPattern pattern_around_point(const Network& network, const RationalVector& x);
+
 // The network's parameters rounded to double once, for repeated double passes.
 struct DoubleNetwork {
   std::size_t input_dim = 0;

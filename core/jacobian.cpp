@@ -366,14 +366,20 @@ ModularMatrix coefficient_blocks_mod(const ModularNetwork& network, const Activa
 // ---- Jacobians at points ----------------------------------------------------
 
 RationalMatrix parameter_jacobian_exact(const Network& network, const RationalVector& x) {
-  const Evaluation evaluation = evaluate_exact(network, x);  // checks x.size()
-  for (std::size_t neuron = 0; neuron < evaluation.pattern.states.size(); ++neuron)
-    if (evaluation.pattern.states[neuron] == NeuronState::zero_at_point)
+  const ActivationPattern pattern = pattern_around_point(network, x);  // checks x.size()
+  for (std::size_t neuron = 0; neuron < pattern.states.size(); ++neuron)
+    if (pattern.states[neuron] == NeuronState::zero_at_point)
       throw input_error("the point lies on the bent hyperplane of " +
                         neuron_description(network, neuron) +
                         ": its pre-activation is 0 there, so F is not differentiable in the parameters");
+  // A neuron identically zero around x is smooth there only when no change of
+  // it reaches the output (spec: zero backward signal).
+  const std::vector<std::size_t> blocking = nonsmooth_neurons(network, pattern);
+  if (!blocking.empty())
+    throw input_error("the point lies in a region where " + neuron_description(network, blocking.front()) +
+                      " is identically zero with a nonzero backward signal: F has no smooth point there");
   const ExactArithmetic arithmetic;
-  const auto blocks = coefficient_blocks_of(view_of(network), evaluation.pattern, arithmetic);
+  const auto blocks = coefficient_blocks_of(view_of(network), pattern, arithmetic);
   return jacobian_from_blocks(blocks, x, network.output_dim(), arithmetic);
 }
 

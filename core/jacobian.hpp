@@ -83,8 +83,11 @@ ModularMatrix coefficient_blocks_mod(const ModularNetwork& network, const Activa
 // ---- Jacobians at points ----------------------------------------------------
 
 // The nd x D Jacobian dF/dtheta at x. Preconditions: x.size() == input_dim
-// (throws usage_error); no pre-activation that feeds a ReLU is 0 at x
-// (throws input_error naming the first such neuron). Exact.
+// (throws usage_error); x lies in a smooth region: no bent hyperplane passes
+// through x (throws input_error naming the first such neuron), and every
+// neuron identically zero around x ('z', pattern_around_point) has zero
+// backward signal (throws input_error naming it otherwise); the 'z' neurons'
+// columns are then 0. Exact.
 RationalMatrix parameter_jacobian_exact(const Network& network, const RationalVector& x);
 
 // The same in double, for the usual sampled estimate. A pre-activation that

@@ -1,13 +1,19 @@
 #include "enumerate/walk_check.hpp"
 
+#include "core/jacobian.hpp"
 #include "enumerate/walker.hpp"
 #include "lp/checker.hpp"
+#include "lp/oracle.hpp"
 
+#include <algorithm>
 #include <map>
+#include <set>
 #include <variant>
 
 namespace pleat {
 namespace {
+
+constexpr std::size_t no_index = SIZE_MAX;
 
 struct Failure {
   std::string message;
@@ -34,56 +40,203 @@ bool is_positive_multiple(const RationalVector& normal, const Rational& offset, 
   return offset == factor * c.offset;
 }
 
-void check_region(const Network& network, const Domain& domain, const SavedRegion& region,
-                  const std::map<ActivationPattern, const SavedRegion*>& by_pattern) {
-  const auto cell = build_pattern_cell(network, domain, region.pattern);
-  if (!cell) fail(region, "the pattern is inconsistent with the network's own maps");
-  if (!lp::check_interior_point(cell->cell, lp::InteriorPoint{region.point}))
-    fail(region, "the point is not strictly inside the region");
-  if (!(cell->maps.output.linear == region.affine_linear) || cell->maps.output.offset != region.affine_offset)
-    fail(region, "the affine map differs from the network's map on the pattern");
-  if (!region.has_certificate) fail(region, "no certificate (write the walk with --certificates)");
-  if (!lp::check_facet_classification(cell->cell, region.classification))
-    fail(region, "the classification of the region's constraints does not check");
+// Integers with greatest common divisor 1 (the spec's form of a facet normal,
+// which makes the written normal and offset unique).
+bool is_primitive_integer_vector(const RationalVector& normal) {
+  Integer divisor = 0;
+  for (const auto& v : normal) {
+    if (v.get_den() != 1) return false;
+    mpz_gcd(divisor.get_mpz_t(), divisor.get_mpz_t(), v.get_num_mpz_t());
+  }
+  return divisor == 1;
+}
 
-  // The listed facets are exactly the facet groups, in order.
-  std::size_t facet_index = 0;
-  for (const auto& group : region.classification.groups) {
-    if (!group.is_facet()) continue;
-    if (facet_index >= region.facets.size()) fail(region, "a facet certificate has no facet entry");
-    const SavedFacet& facet = region.facets[facet_index++];
-    const lp::Constraint& representative = cell->cell.constraints[group.constraints.front()];
-    if (!is_positive_multiple(facet.normal, facet.offset, representative))
-      fail(region, "facet " + std::to_string(facet_index - 1) + " is not on its constraint's hyperplane");
-    if (facet.point != std::get<lp::FacetPoint>(group.verdict).point)
-      fail(region, "facet " + std::to_string(facet_index - 1) + " point differs from its certificate");
-    bool on_domain = false;
-    for (std::size_t c : group.constraints) on_domain = on_domain || cell->constraint_neuron[c] == SIZE_MAX;
-    if (on_domain) {
-      if (facet.neighbor) fail(region, "a facet on the domain boundary has a neighbour");
-      continue;
+bool closure_contains(const lp::Polyhedron& cell, const RationalVector& point) {
+  return std::all_of(cell.constraints.begin(), cell.constraints.end(),
+                     [&](const lp::Constraint& c) { return evaluate(c, point) >= 0; });
+}
+
+// The open cone of a cell at a point q of its closure: the constraints that
+// vanish at q, made homogeneous. The cell has interior next to q iff the cone does.
+lp::Polyhedron tangent_cone_at(const lp::Polyhedron& cell, const RationalVector& q) {
+  lp::Polyhedron cone{cell.dim, {}};
+  for (const auto& c : cell.constraints)
+    if (evaluate(c, q) == 0) cone.constraints.push_back(lp::Constraint{c.normal, Rational(0)});
+  return cone;
+}
+
+std::string facet_name(std::size_t index) { return "facet " + std::to_string(index); }
+
+class WalkChecker {
+ public:
+  WalkChecker(const Network& network, const Domain& domain, const std::vector<SavedRegion>& regions)
+      : network_(network), domain_(domain), regions_(regions) {}
+
+  void run() {
+    if (regions_.empty()) throw Failure{"no regions"};
+    for (std::size_t i = 0; i < regions_.size(); ++i) {
+      const SavedRegion& region = regions_[i];
+      if (region.id != i)
+        fail(region, "id " + std::to_string(region.id) + " is out of place: the region on this line is number " +
+                         std::to_string(i) + " (ids are 0, 1, ... in file order)");
+      if (!by_pattern_.emplace(region.pattern, &region).second)
+        fail(region, "pattern " + format_pattern(network_, region.pattern) + " appears twice");
     }
-    if (!facet.neighbor) fail(region, "interior facet " + std::to_string(facet_index - 1) + " has no neighbour");
-    std::vector<ActivationPattern> across{*facet.neighbor};
-    across.insert(across.end(), facet.other_neighbors.begin(), facet.other_neighbors.end());
-    for (const auto& neighbor : across) {
-      auto found = by_pattern.find(neighbor);
-      if (found == by_pattern.end())
-        fail(region, "neighbour " + format_pattern(network, neighbor) + " is missing: the walk is incomplete");
-      const auto neighbor_cell = build_pattern_cell(network, domain, neighbor);
-      if (!neighbor_cell) fail(region, "neighbour " + format_pattern(network, neighbor) + " is inconsistent");
-      for (const auto& c : neighbor_cell->cell.constraints)
-        if (evaluate(c, facet.point) < 0)
-          fail(region, "facet point " + std::to_string(facet_index - 1) + " is outside the closure of neighbour " +
-                           format_pattern(network, neighbor));
+    for (const auto& region : regions_) check_region(region);
+    check_mutual_adjacency();
+  }
+
+ private:
+  void check_region(const SavedRegion& region) {
+    const auto cell = build_pattern_cell(network_, domain_, region.pattern);
+    if (!cell) fail(region, "the pattern is inconsistent with the network's own maps");
+    if (!lp::check_interior_point(cell->cell, lp::InteriorPoint{region.point}))
+      fail(region, "the point is not strictly inside the region");
+    if (!(cell->maps.output.linear == region.affine_linear) || cell->maps.output.offset != region.affine_offset)
+      fail(region, "the affine map differs from the network's map on the pattern");
+    check_nonsmooth_neurons(region);
+    if (!region.has_certificate) fail(region, "no certificate (write the walk with --certificates)");
+    check_certificate_copy(region, *cell);
+    if (!lp::check_facet_classification(cell->cell, region.classification))
+      fail(region, "the classification of the region's constraints does not check");
+    check_facets(region, *cell);
+    check_boundedness(region, *cell);
+  }
+
+  void check_nonsmooth_neurons(const SavedRegion& region) {
+    const bool has_zero = std::any_of(region.pattern.states.begin(), region.pattern.states.end(),
+                                      [](NeuronState s) { return s == NeuronState::zero_on_region; });
+    const std::vector<std::size_t> derived = has_zero ? nonsmooth_neurons(network_, region.pattern)
+                                                      : std::vector<std::size_t>{};
+    if (derived != region.nonsmooth_neurons)
+      fail(region, "\"nonsmooth_neurons\" differs from the neurons derived from the pattern");
+  }
+
+  // The certificate repeats the point and the cell's constraints: each must be
+  // what the network and the pattern give.
+  static void check_certificate_copy(const SavedRegion& region, const PatternCell& cell) {
+    if (region.certificate_point != region.point)
+      fail(region, "the certificate's interior_point differs from the region's point");
+    if (region.certificate_constraints.size() != cell.cell.constraints.size())
+      fail(region, "the certificate lists " + std::to_string(region.certificate_constraints.size()) +
+                       " constraints; the network and pattern give " + std::to_string(cell.cell.constraints.size()));
+    for (std::size_t i = 0; i < cell.cell.constraints.size(); ++i) {
+      const SavedConstraint& saved = region.certificate_constraints[i];
+      const std::size_t neuron = saved.neuron ? *saved.neuron : no_index;
+      if (!(saved.constraint == cell.cell.constraints[i]) || neuron != cell.constraint_neuron[i])
+        fail(region, "certificate constraint " + std::to_string(i) +
+                         " differs from the one the network and pattern give");
     }
   }
-  if (facet_index != region.facets.size()) fail(region, "more facets listed than certified");
 
-  if (region.boundedness) {
-    lp::Polyhedron neurons_only{cell->cell.dim, {}};
-    for (std::size_t i = 0; i < cell->cell.constraints.size(); ++i)
-      if (cell->constraint_neuron[i] != SIZE_MAX) neurons_only.constraints.push_back(cell->cell.constraints[i]);
+  void check_facets(const SavedRegion& region, const PatternCell& cell) {
+    std::size_t facet_index = 0;
+    bool touches_boundary = false;
+    for (const auto& group : region.classification.groups) {
+      if (!group.is_facet()) continue;
+      if (facet_index >= region.facets.size()) fail(region, "a facet certificate has no facet entry");
+      const std::size_t index = facet_index++;
+      const SavedFacet& facet = region.facets[index];
+      const lp::Constraint& representative = cell.cell.constraints[group.constraints.front()];
+      if (!is_positive_multiple(facet.normal, facet.offset, representative) ||
+          !is_primitive_integer_vector(facet.normal))
+        fail(region, facet_name(index) + " is not its constraint's hyperplane as a primitive integer normal");
+      if (facet.point != std::get<lp::FacetPoint>(group.verdict).point)
+        fail(region, facet_name(index) + " point differs from its certificate");
+      std::vector<std::size_t> neurons;
+      std::optional<std::size_t> side;
+      for (std::size_t c : group.constraints) {
+        if (cell.constraint_neuron[c] != no_index) neurons.push_back(cell.constraint_neuron[c]);
+        else if (!side) side = cell.constraint_domain_side[c];
+      }
+      std::sort(neurons.begin(), neurons.end());
+      if (facet.neurons != neurons)
+        fail(region, facet_name(index) + " names neurons that are not the ones whose hyperplane holds it");
+      if (facet.domain_side != side)
+        fail(region, facet_name(index) + "'s \"side\" is not the domain constraint it lies on");
+      if (side) {
+        touches_boundary = true;
+        if (facet.neighbor || !facet.other_neighbors.empty())
+          fail(region, "a facet on the domain boundary has a neighbour");
+        continue;
+      }
+      check_neighbors(region, cell, facet, index, representative);
+    }
+    if (facet_index != region.facets.size()) fail(region, "more facets listed than certified");
+    if (touches_boundary != region.touches_domain_boundary)
+      fail(region, std::string("\"touches_domain_boundary\" is ") + (region.touches_domain_boundary ? "true" : "false") +
+                       " but " + (touches_boundary ? "a facet lies" : "no facet lies") + " on the domain boundary");
+  }
+
+  // The regions listed across an interior facet must be exactly those that
+  // crossing at its point reaches (walker.hpp, patterns_across) and that have
+  // interior next to that point.
+  void check_neighbors(const SavedRegion& region, const PatternCell& cell, const SavedFacet& facet,
+                       std::size_t index, const lp::Constraint& representative) {
+    const std::string name = facet_name(index);
+    if (!facet.neighbor) fail(region, "interior " + name + " has no neighbour");
+    std::vector<ActivationPattern> listed{*facet.neighbor};
+    listed.insert(listed.end(), facet.other_neighbors.begin(), facet.other_neighbors.end());
+    if (!std::is_sorted(listed.begin(), listed.end()) ||
+        std::adjacent_find(listed.begin(), listed.end()) != listed.end())
+      fail(region, name + "'s neighbours are not distinct and in pattern order");
+
+    RationalVector direction = representative.normal;
+    for (auto& v : direction) v = -v;
+    const std::vector<ActivationPattern> candidates =
+        patterns_across(network_, region.pattern, cell.maps, facet.point, direction, representative.normal);
+    for (const auto& neighbor : listed) {
+      const std::string label = format_pattern(network_, neighbor);
+      if (neighbor == region.pattern) fail(region, name + " names its own region as the neighbour across it");
+      const auto found = by_pattern_.find(neighbor);
+      if (found == by_pattern_.end()) fail(region, "neighbour " + label + " is missing: the walk is incomplete");
+      if (!std::binary_search(candidates.begin(), candidates.end(), neighbor))
+        fail(region, "neighbour " + label + " does not lie across " + name +
+                         ": crossing at its point reaches " + describe(candidates));
+      const SavedRegion& far = *found->second;
+      const auto far_cell = build_pattern_cell(network_, domain_, neighbor);
+      if (!far_cell) fail(region, "neighbour " + label + " is inconsistent");
+      if (!closure_contains(far_cell->cell, facet.point))
+        fail(region, name + " point is outside the closure of neighbour " + label);
+      // The neighbour is convex with the facet point in its closure, so its
+      // interior lies on the far side exactly when its own point does.
+      if (evaluate(representative, far.point) >= 0)
+        fail(region, "neighbour " + label + " (line " + std::to_string(far.line) + ") is not on the far side of " + name);
+    }
+    for (const auto& candidate : candidates)
+      if (!std::binary_search(listed.begin(), listed.end(), candidate) && touches(candidate, facet.point))
+        fail(region, "region " + format_pattern(network_, candidate) + " also lies across " + name +
+                         " at its point but is not listed" +
+                         (by_pattern_.count(candidate) ? "" : " (and is missing from the file)"));
+    neighbors_named_[region.pattern].insert(listed.begin(), listed.end());
+  }
+
+  std::string describe(const std::vector<ActivationPattern>& patterns) const {
+    std::string text;
+    for (const auto& p : patterns) text += (text.empty() ? "" : ", ") + format_pattern(network_, p);
+    return text.empty() ? "no region" : text;
+  }
+
+  // Whether a far-side candidate that the file leaves out has interior next
+  // to q. A region of the file decides it exactly by its closure; any other
+  // candidate needs a proof that its cell is empty next to q, which the LP
+  // solver proposes and lp::check_emptiness confirms.
+  bool touches(const ActivationPattern& candidate, const RationalVector& q) {
+    const auto cell = build_pattern_cell(network_, domain_, candidate);
+    if (!cell || !closure_contains(cell->cell, q)) return false;
+    if (by_pattern_.count(candidate)) return true;  // a region (its point checked) with q in its closure
+    const lp::Polyhedron cone = tangent_cone_at(cell->cell, q);
+    if (cone.constraints.empty()) return true;
+    const lp::CellVerdict verdict = oracle_.decide_open_cell(cone);
+    const auto* empty = std::get_if<lp::EmptinessCertificate>(&verdict);
+    return !empty || !lp::check_emptiness(cone, *empty);
+  }
+
+  void check_boundedness(const SavedRegion& region, const PatternCell& cell) {
+    if (!region.boundedness) fail(region, "no boundedness certificate");
+    lp::Polyhedron neurons_only{cell.cell.dim, {}};
+    for (std::size_t i = 0; i < cell.cell.constraints.size(); ++i)
+      if (cell.constraint_neuron[i] != no_index) neurons_only.constraints.push_back(cell.cell.constraints[i]);
     bool checks = false;
     if (const auto* bounded = std::get_if<lp::BoundednessCertificate>(&*region.boundedness)) {
       // Neuron constraints come first in the cell, so the multipliers index
@@ -93,15 +246,36 @@ void check_region(const Network& network, const Domain& domain, const SavedRegio
         if (on_neurons.multipliers[i] != 0) fail(region, "the boundedness certificate uses a domain side");
       on_neurons.multipliers.resize(neurons_only.constraints.size());
       checks = region.bounded && lp::check_boundedness(neurons_only, on_neurons);
-    }
-    else
+    } else {
       checks = !region.bounded &&
                lp::check_recession_direction(neurons_only, std::get<lp::RecessionDirection>(*region.boundedness));
-    if (!checks) fail(region, "the boundedness certificate does not check");
-  } else {
-    fail(region, "no boundedness certificate");
+    }
+    if (!checks) fail(region, "the boundedness certificate does not check (\"bounded\" is " +
+                                  std::string(region.bounded ? "true" : "false") + ")");
   }
-}
+
+  // Adjacency is mutual: a region named across a facet names that region back.
+  void check_mutual_adjacency() const {
+    for (const auto& region : regions_) {
+      const auto named = neighbors_named_.find(region.pattern);
+      if (named == neighbors_named_.end()) continue;
+      for (const auto& neighbor : named->second) {
+        const auto back = neighbors_named_.find(neighbor);
+        if (back == neighbors_named_.end() || !back->second.count(region.pattern))
+          fail(region, "neighbour " + format_pattern(network_, neighbor) + " (line " +
+                           std::to_string(by_pattern_.at(neighbor)->line) +
+                           ") does not name this region across any of its facets");
+      }
+    }
+  }
+
+  const Network& network_;
+  const Domain& domain_;
+  const std::vector<SavedRegion>& regions_;
+  std::map<ActivationPattern, const SavedRegion*> by_pattern_;
+  std::map<ActivationPattern, std::set<ActivationPattern>> neighbors_named_;
+  lp::Oracle oracle_;
+};
 
 }  // namespace
 
@@ -109,12 +283,7 @@ WalkCheck check_saved_walk(const Network& network, const Domain& domain, const s
   WalkCheck result;
   result.regions = regions.size();
   try {
-    std::map<ActivationPattern, const SavedRegion*> by_pattern;
-    for (const auto& region : regions)
-      if (!by_pattern.emplace(region.pattern, &region).second)
-        fail(region, "pattern " + format_pattern(network, region.pattern) + " appears twice");
-    if (regions.empty()) throw Failure{"no regions"};
-    for (const auto& region : regions) check_region(network, domain, region, by_pattern);
+    WalkChecker(network, domain, regions).run();
     result.is_verified = true;
   } catch (const Failure& failure) {
     result.failure = failure.message;

@@ -1,6 +1,14 @@
-// Re-checking a saved walk with exact arithmetic and lp/checker.hpp alone (no
-// LP solver): what `pleat verify` runs. The saved records are rebuilt into
-// cells from the network and the patterns, never trusted as given.
+// Re-checking a saved walk with exact arithmetic: what `pleat verify` runs.
+// The saved records are rebuilt into cells from the network and the patterns,
+// never trusted as given: every field of a region line is either re-derived
+// and compared, or checked through the certificate it carries
+// (docs/formats.md, pleat-regions/1, lists which).
+//
+// Certificates are checked by lp/checker.hpp alone. The one place an LP
+// solver is asked anything is a degenerate crossing that the file resolves by
+// leaving a far-side candidate out: the solver proposes a proof that the
+// candidate has no interior next to the facet point, and that proof is
+// checked exactly too (a verdict never rests on the solver).
 #pragma once
 
 #include "core/network.hpp"
@@ -25,16 +33,28 @@ struct SavedFacet {
   RationalVector point;
 };
 
+// One constraint of a certificate's copy of the cell; neuron is nullopt for a
+// domain side.
+struct SavedConstraint {
+  lp::Constraint constraint;
+  std::optional<std::size_t> neuron;
+};
+
 // One region line with its certificate (pleat walk --certificates).
 struct SavedRegion {
   std::size_t line = 0;  // for messages
+  std::size_t id = 0;
   ActivationPattern pattern;
   RationalVector point;
   bool bounded = false;
+  bool touches_domain_boundary = false;
   std::vector<SavedFacet> facets;
   RationalMatrix affine_linear;
   RationalVector affine_offset;
+  std::vector<std::size_t> nonsmooth_neurons;  // empty when the line has none
   bool has_certificate = false;
+  RationalVector certificate_point;             // the certificate's copy of `point`
+  std::vector<SavedConstraint> certificate_constraints;
   lp::FacetClassification classification;  // groups index build_pattern_cell's constraint order
   std::optional<lp::BoundednessVerdict> boundedness;
 };
@@ -45,9 +65,14 @@ struct WalkCheck {
   std::size_t regions = 0;
 };
 
-// Checks every region (interior point, constraint classification, facet
-// points and their neighbours' closed inequalities, boundedness, affine map)
-// and completeness (each pattern once; every neighbour present). Exact.
+// Checks every region: its id (0, 1, ... in file order), interior point, the
+// certificate's copy of the cell, the classification of its constraints, each
+// facet's hyperplane, point, neuron ids and domain side, the neighbours across
+// each facet (exactly the regions that crossing at the facet point reaches:
+// present, on the far side, with the facet point in their closure, never the
+// region itself, and naming this region back), touches_domain_boundary,
+// boundedness, the affine map and the non-smooth neurons. Completeness: each
+// pattern once and every neighbour present. Exact.
 WalkCheck check_saved_walk(const Network& network, const Domain& domain, const std::vector<SavedRegion>& regions);
 
 }  // namespace pleat

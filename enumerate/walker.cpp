@@ -108,22 +108,9 @@ std::optional<PatternCell> build_pattern_cell(const Network& network, const Doma
 
 std::optional<ActivationPattern> region_pattern_at(const Network& network, const RationalVector& point) {
   if (point.size() != network.input_dim) throw usage_error("region_pattern_at: point has the wrong dimension");
-  ActivationPattern pattern;
-  pattern.states.resize(network.relu_neuron_count());
-  AffineMap post = identity_map(network.input_dim);
-  for (std::size_t k = 0; k < relu_layers(network); ++k) {
-    const AffineMap pre = compose_layer(network.layers[k], post);
-    const RationalVector values = pre(point);
-    const std::size_t first = network.first_neuron_of_layer(k);
-    for (std::size_t i = 0; i < values.size(); ++i) {
-      NeuronState& state = pattern.states[first + i];
-      if (values[i] > 0) state = NeuronState::on;
-      else if (values[i] < 0) state = NeuronState::off;
-      else if (is_zero_row(pre.linear, i) && pre.offset[i] == 0) state = NeuronState::zero_on_region;
-      else return std::nullopt;  // on a bent hyperplane
-    }
-    post = apply_states(pre, std::span(pattern.states).subspan(first, values.size()));
-  }
+  ActivationPattern pattern = pattern_around_point(network, point);
+  for (NeuronState state : pattern.states)
+    if (state == NeuronState::zero_at_point) return std::nullopt;  // on a bent hyperplane
   return pattern;
 }
 

@@ -22,10 +22,11 @@ ramp=$source_dir/data/ramp1d.json
 degenerate=$source_dir/data/degenerate2d.json
 
 # ---- --json keys: exactly the spec's table (outputs.md, "pleat certify --json"),
-# plus stop_reason (the walk's key of the same meaning, also printed here).
+# plus stop_reason (the walk's key of the same meaning, also printed here) and
+# domain (as in pleat-walk/1).
 "$pleat" certify "$ramp" --json -q > "$work/ramp.json" || fail "certify --json exited $?"
 keys=$(json_get "$work/ramp.json" '",".join(sorted(d.keys()))')
-spec_keys="certified,early_stop,extra_kernel,format,functional_dimension,lower_bound,nonsmooth_regions,parametric_dimension,regions_contributing,regions_walked,scaling_bound,seconds,stop_reason,upper_bound,walk_complete"
+spec_keys="certified,domain,early_stop,extra_kernel,format,functional_dimension,lower_bound,nonsmooth_regions,parametric_dimension,regions_contributing,regions_walked,scaling_bound,seconds,stop_reason,upper_bound,walk_complete"
 [ "$keys" = "$spec_keys" ] || fail "certify --json keys: got $keys, spec $spec_keys"
 # ramp1d (data/README.md): 1 -> 5 -> 1, D = 2*5 + 6 = 16; five distinct bends
 # and nonzero outgoing weights: the generic shallow case, 2*5 + 1 = 11 (the
@@ -39,8 +40,12 @@ spec_keys="certified,early_stop,extra_kernel,format,functional_dimension,lower_b
 [ "$(json_get "$work/ramp.json" 'd["extra_kernel"]')" = "[]" ] || fail "ramp1d has no extra directions"
 
 # ---- --claim on ramp1d (value 11, D = 16)
-claim() {  # value -> "verdict|reason"
-  "$pleat" certify "$ramp" --json -q --claim "$1" > "$work/claim.json" || fail "--claim $1 exited $?"
+claim() {  # value -> "verdict|reason"; the exit status is 0 for consistent, else 1
+  "$pleat" certify "$ramp" --json -q --claim "$1" > "$work/claim.json"
+  status=$?
+  verdict=$(json_get "$work/claim.json" 'd["claim"]["verdict"]')
+  expected=1; [ "$verdict" = consistent ] && expected=0
+  [ "$status" = "$expected" ] || fail "--claim $1 ($verdict) exited $status, expected $expected"
   json_get "$work/claim.json" 'd["claim"]["verdict"] + "|" + d["claim"]["reason"]'
 }
 out=$(claim 11); expect_contains "$out" "consistent|" "--claim 11"
@@ -49,7 +54,7 @@ out=$(claim 12); expect_contains "$out" "impossible|" "--claim 12"; expect_conta
 out=$(claim 17); expect_contains "$out" "impossible|" "--claim 17"; expect_contains "$out" "parametric dimension 16" "--claim 17"
 out=$(claim 0);  expect_contains "$out" "too-low|" "--claim 0"
 [ "$(json_get "$work/claim.json" 'd["claim"]["value"]')" = 0 ] || fail "claim value echoed"
-out=$("$pleat" certify "$ramp" -q --claim 9) || fail "human --claim exited $?"
+out=$("$pleat" certify "$ramp" -q --claim 9); [ $? = 1 ] || fail "human --claim 9 must exit 1"
 expect_contains "$out" "too-low" "human --claim"
 "$pleat" certify "$ramp" -q --claim -3 > /dev/null 2>&1 && fail "--claim -3 accepted"
 

@@ -3,6 +3,7 @@
 # example; --version prints the version.
 set -u
 pleat=$1
+source_dir=${2:-}
 fail() { echo "FAIL: $*" >&2; exit 1; }
 
 top=$("$pleat" --help) || fail "pleat --help exited $?"
@@ -23,6 +24,17 @@ done
 
 eval_help=$("$pleat" eval --help)
 case "$eval_help" in *"activation pattern of a point"*) ;; *) fail "eval --help does not explain the activation pattern" ;; esac
+
+# The inspect and eval examples on the shipped networks run as printed (a
+# pattern in an example must exist in the example network).
+if [ -n "$source_dir" ]; then
+  for command in inspect eval; do
+    "$pleat" "$command" --help | grep -E '^  pleat [a-z]+ data/' | sed 's/ *#.*//' | while read -r line; do
+      # shellcheck disable=SC2086
+      (cd "$source_dir" && ${line/pleat/$pleat} > /dev/null 2>&1) || fail "the example '$line' of $command --help fails"
+    done || exit 1
+  done
+fi
 
 version=$("$pleat" --version) || fail "pleat --version exited $?"
 case "$version" in "pleat "[0-9]*) ;; *) fail "unexpected version text: $version" ;; esac

@@ -18,11 +18,11 @@ json_get() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); prin
 
 fold=$source_dir/data/fold2d.json
 
-# ---- keys: the spec's list, plus the documented extras (domain,
+# ---- keys: the spec's list, plus the documented extras (domain, dtype,
 # points_on_bent_hyperplanes and the bounds the verdict rests on).
 "$pleat" sample "$fold" --batch 40 --seed 1 --json -q > "$work/s.json" || fail "sample --json exited $?"
 keys=$(json_get "$work/s.json" '",".join(sorted(d.keys()))')
-expected="batch,certified_value,dist,domain,first_batch_reaching,format,lower_bound,parametric_dimension,points_on_bent_hyperplanes,rank,rank_rtol_1e-10,rank_rtol_1e-6,regions_total,regions_touched,scaling_bound,seconds,seed,upper_bound,verdict"
+expected="batch,certified_value,dist,domain,dtype,first_batch_reaching,format,lower_bound,parametric_dimension,points_on_bent_hyperplanes,rank,rank_rtol_1e-10,rank_rtol_1e-6,regions_total,regions_touched,scaling_bound,seconds,seed,upper_bound,verdict"
 [ "$keys" = "$expected" ] || fail "sample --json keys: got $keys"
 for key in batch seed dist rank rank_rtol_1e-6 rank_rtol_1e-10 regions_touched regions_total certified_value \
   verdict first_batch_reaching seconds; do
@@ -132,5 +132,25 @@ done
 out=$("$pleat" sample --help) || fail "--help exited $?"
 expect_contains "$out" "sigma_max * max(M,N) * eps" "--help names the tolerance"
 expect_contains "$out" "regions touched" "--help explains regions touched"
+
+# ---- --dtype float32: every sampled coordinate is a float32 value (numpy's
+# float32 round trip, outside reference), the rank uses float32's epsilon.
+"$pleat" sample "$fold" --batch 30 --seed 2 --dtype float32 --json -q --points-out "$work/f32.txt" \
+  > "$work/f32.json" || fail "--dtype float32 exited $?"
+[ "$(json_get "$work/f32.json" 'd["dtype"]')" = float32 ] || fail "dtype key"
+"$python" - "$work/f32.txt" <<'PY' || fail "float32 points are not float32 values"
+import sys
+from fractions import Fraction
+import numpy
+for line in open(sys.argv[1]):
+    for text in line.strip().split(","):
+        value = Fraction(text)
+        assert Fraction(float(numpy.float32(float(value)))) == value, text
+PY
+[ "$(json_get "$work/f32.json" 'd["rank"] <= d["upper_bound"] or d["verdict"] == "above-impossible"')" = True ] ||
+  fail "float32 rank and verdict disagree"
+err=$("$pleat" sample "$fold" --batch 5 --seed 1 --dtype float16 -q 2>&1 >/dev/null)
+[ $? = 2 ] || fail "--dtype float16 must be exit 2"
+expect_contains "$err" "--dtype" "the message names --dtype"
 
 echo "sample: all checks passed"

@@ -46,8 +46,12 @@ PY
 
 # A point moved onto a facet's hyperplane is no longer strictly inside.
 tamper moved 'lines[3]["point"] = lines[3]["facets"][0]["point"]' "not strictly inside"
-# A dropped region leaves a neighbour missing.
-tamper dropped 'del lines[5]' "is missing"
+# A dropped region (ids renumbered) leaves a neighbour missing; without the
+# renumbering the ids give it away.
+tamper dropped '
+del lines[5]
+for k, l in enumerate(lines[1:]): l["id"] = k' "is missing"
+tamper dropped_ids 'del lines[5]' "id 5 is out of place"
 # A wrong neighbour: the facet point is not in that region's closure, or it is absent.
 tamper neighbour '
 f = next(f for f in lines[2]["facets"] if f["neighbor"])

@@ -446,5 +446,49 @@ TEST(CoefficientBlocks, RejectsMalformedPatterns) {
   EXPECT_THROW(nonsmooth_neurons(network, ActivationPattern{{NeuronState::on}}), usage_error);
 }
 
+// tests/data/zero_signal1d.json, built here: neuron 2 = relu(relu(x)) is
+// identically zero for x < 0 and has outgoing weight 0, so that region is
+// smooth. The Jacobian at x = -1 by hand (F = w3[0,1] (w2[1,1] relu(-x + 1) +
+// b2[1]) + b3 there): dF/dW1[1,0] = w3[0,1] w2[1,1] x = -1, dF/db1[1] = 1,
+// dF/dW2[1,1] = relu(2) = 2, dF/db2[1] = 1, dF/dW3[0,1] = 2, dF/db3 = 1.
+TEST(ParameterJacobian, SmoothRegionWithAnIdenticallyZeroNeuron) {
+  Network network;
+  network.input_dim = 1;
+  Layer first, second, output;
+  first.weights = RationalMatrix(2, 1);
+  first.weights(0, 0) = 1;
+  first.weights(1, 0) = -1;
+  first.bias = {0, 1};
+  second.weights = RationalMatrix(2, 2);
+  second.weights(0, 0) = 1;
+  second.weights(1, 0) = 1;
+  second.weights(1, 1) = 1;
+  second.bias = {0, 0};
+  output.weights = RationalMatrix(1, 2);
+  output.weights(0, 1) = 1;
+  output.bias = {0};
+  output.activation = Activation::linear;
+  network.layers = {first, second, output};
+
+  const ActivationPattern around = pattern_around_point(network, {Rational(-1)});
+  EXPECT_EQ(format_pattern(network, around), "01|z1");
+  EXPECT_EQ(format_pattern(network, evaluate_exact(network, {Rational(-1)}).pattern), "01|=1");
+  const RationalMatrix jacobian = parameter_jacobian_exact(network, {Rational(-1)});
+  const std::vector<int> by_hand = {0, -1, 0, 1, 0, 0, 0, 2, 0, 1, 0, 2, 1};
+  ASSERT_EQ(jacobian.cols(), by_hand.size());
+  for (std::size_t c = 0; c < by_hand.size(); ++c) EXPECT_EQ(jacobian(0, c), by_hand[c]) << "column " << c;
+
+  // With an outgoing weight on neuron 2 its backward signal is nonzero: no smooth point.
+  network.layers[2].weights(0, 0) = 1;
+  try {
+    parameter_jacobian_exact(network, {Rational(-1)});
+    FAIL() << "expected input_error";
+  } catch (const input_error& error) {
+    EXPECT_NE(std::string(error.what()).find("neuron 2"), std::string::npos) << error.what();
+  }
+  // A true crossing stays '=': x = 0 is neuron 0's bent point.
+  EXPECT_EQ(format_pattern(network, pattern_around_point(network, {Rational(0)})), "=1|=1");
+}
+
 }  // namespace
 }  // namespace pleat

@@ -1,0 +1,112 @@
+#!/usr/bin/env bash
+# Points files as researchers write them (certify --points): a pandas-style
+# header with an index column, numpy.savetxt's whitespace form, .npy arrays
+# from numpy.save (float64 and float32; numpy is the outside writer), and bad
+# files named with their line. Also: walk --points-out gives one interior
+# point per region (certify --points then touches every region), a point in a
+# smooth region with an identically-zero neuron is accepted, eval prints 'z'.
+set -u
+pleat=$1
+source_dir=$2
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+expect_contains() { case "$1" in *"$2"*) ;; *) fail "$3: expected '$2' in:"$'\n'"$1" ;; esac; }
+python=/usr/bin/python3
+"$python" -c 'import numpy' 2>/dev/null || { echo "no numpy: skipped"; exit 77; }
+json_get() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }
+fold=$source_dir/data/fold2d.json
+ramp=$source_dir/data/ramp1d.json
+batch_rank() {  # network file -> batch rank
+  "$pleat" certify "$1" --points "$2" --json -q > "$work/batch.json" || fail "certify --points $2 exited $?"
+  json_get "$work/batch.json" 'd["batch_functional_dimension"]'
+}
+
+# The same 8 points of fold2d in every format must give one rank.
+printf "%s\n" 0.3125,-0.1875 1.0625,0.9375 -0.6875,0.5625 1.8125,-1.4375 -0.0625,-1.9375 1.4375,0.4375 -1.8125,-1.6875 0.1875,1.6875 > "$work/plain.csv"
+expected=$(batch_rank "$fold" "$work/plain.csv")
+[ "$expected" -gt 0 ] || fail "rank of the plain file"
+
+"$python" - "$work" <<'PY' || fail "numpy could not write the files"
+import sys
+import numpy
+work = sys.argv[1]
+points = numpy.loadtxt(work + "/plain.csv", delimiter=",")
+numpy.savetxt(work + "/savetxt.txt", points)                       # whitespace, %.18e
+numpy.savetxt(work + "/savetxt.csv", points, delimiter=",", header="temperature,wind")  # '# ' header
+numpy.save(work + "/float64.npy", points)
+numpy.save(work + "/float32.npy", points.astype(numpy.float32))     # the values are exact in float32
+numpy.save(work + "/fortran.npy", numpy.asfortranarray(points))
+numpy.save(work + "/int64.npy", points.astype(numpy.int64))
+numpy.save(work + "/bigendian.npy", points.astype(">f8"))
+with open(work + "/pandas.csv", "w") as handle:  # DataFrame.to_csv's layout: unnamed index column
+    handle.write(",temperature,wind\n")
+    for index, (a, b) in enumerate(points):
+        handle.write(f"{index},{a!r},{b!r}\n")
+with open(work + "/header.csv", "w") as handle:  # DataFrame.to_csv(index=False)
+    handle.write("temperature,wind\n")
+    for a, b in points:
+        handle.write(f"{a!r},{b!r}\n")
+raw = open(work + "/float64.npy", "rb").read()
+open(work + "/truncated.npy", "wb").write(raw[:-5])
+open(work + "/extra.npy", "wb").write(raw + b"\0\0\0\0\0\0\0\0")
+PY
+for file in savetxt.txt savetxt.csv float64.npy float32.npy fortran.npy pandas.csv header.csv; do
+  [ "$(batch_rank "$fold" "$work/$file")" = "$expected" ] || fail "$file: rank differs from the plain file's $expected"
+done
+
+# Bad files: exit 2, the message names the file and the line (or row).
+bad() {  # file, needle
+  err=$("$pleat" certify "$fold" --points "$work/$1" -q 2>&1 >/dev/null)
+  status=$?
+  [ "$status" = 2 ] || fail "$1: exit $status, expected 2 ($err)"
+  expect_contains "$err" "$2" "$1"
+}
+printf '%s\n' 'x,y' '1,2' '3,abc' > "$work/word.csv";        bad word.csv "word.csv:3: value 2 ('abc')"
+printf '%s\n' '1 2' '3 4 5' > "$work/three.txt";             bad three.txt "three.txt:2: the network takes 2 inputs, but the line has 3 values"
+printf '%s\n' '# nothing' '' > "$work/empty.csv";            bad empty.csv "empty.csv: no points"
+printf '%s\n' '1,2' 'nan,1' > "$work/nan.csv";               bad nan.csv "nan.csv:2: value 1 ('nan')"
+printf '%s\n' 'a,b,c' '1,2' > "$work/header3.csv";           bad header3.csv "header3.csv:1: a header of 3 column names"
+bad truncated.npy "truncated.npy: the array data does not match the file's length"
+bad extra.npy "extra.npy: the array data does not match the file's length"
+bad int64.npy "int64.npy: expected a little-endian float64 or float32 array"
+bad bigendian.npy "bigendian.npy: expected a little-endian float64 or float32 array"
+printf 'not numpy' > "$work/text.npy";                      bad text.npy "text.npy: not a .npy file"
+"$python" -c "import numpy,sys; numpy.save(sys.argv[1], numpy.zeros((3, 3)))" "$work/shape.npy"
+bad shape.npy "shape.npy: an array of shape (3, 3) where (points, 2) was expected"
+# 1-D arrays are points of a 1-input network.
+"$python" -c "import numpy,sys; numpy.save(sys.argv[1], numpy.array([-1.0, 0.0, 1.0, 5.0]))" "$work/line.npy"
+[ "$(batch_rank "$ramp" "$work/line.npy")" = 4 ] || fail "1-D .npy on ramp1d: 4 points in 4 regions give rank 4"
+
+# Points outside --box: exit 2 naming the point.
+printf '%s\n' 0,0 3,0 > "$work/outside.csv"
+err=$("$pleat" certify "$fold" --points "$work/outside.csv" --box -2,2 -q 2>&1 >/dev/null)
+[ $? = 2 ] || fail "a point outside the box must be exit 2"
+expect_contains "$err" "outside.csv:2 (point 1): (3, 0) lies outside the domain" "outside point named"
+
+# walk --points-out: one point per region; certify --points touches them all.
+"$pleat" walk "$fold" --box -3,3 --points-out "$work/interior.csv" -q > /dev/null || fail "walk --points-out exited $?"
+"$pleat" certify "$fold" --box -3,3 --points "$work/interior.csv" --json -q > "$work/interior.json" ||
+  fail "certify --points interior exited $?"
+[ "$(json_get "$work/interior.json" '(d["regions_touched"] == d["regions_total"] == d["points"])')" = True ] ||
+  fail "walk --points-out: not one point in each region: $(cat "$work/interior.json")"
+"$pleat" walk "$fold" --box -3,3 --points-out "$work/interior.npy" -q > /dev/null || fail "walk --points-out .npy exited $?"
+"$python" -c "import numpy,sys; a=numpy.load(sys.argv[1]); assert a.dtype == numpy.float64 and a.shape[1] == 2, a.shape" \
+  "$work/interior.npy" || fail "walk --points-out .npy is not a float64 (n, 2) array"
+
+# A smooth region with an identically-zero neuron (tests/data/zero_signal1d.json:
+# neuron 2 is z for x < 0 with zero outgoing weight): accepted, and eval says z.
+zero=$source_dir/tests/data/zero_signal1d.json
+printf '%s\n' -1 -2 > "$work/z.csv"
+[ "$(batch_rank "$zero" "$work/z.csv")" = 2 ] || fail "two points of the z region give its 2 rows"
+out=$("$pleat" eval "$zero" --at -1) || fail "eval exited $?"
+expect_contains "$out" "pattern  01|z1" "eval prints z"
+expect_contains "$out" "neuron 2 is identically zero" "eval names the z neuron"
+# A z neuron with a nonzero backward signal has no smooth point: exit 2 naming it.
+printf '%s\n' -1,1 > "$work/nonsmooth.csv"
+err=$("$pleat" certify "$source_dir/tests/data/zero_neuron2d.json" --points "$work/nonsmooth.csv" -q 2>&1 >/dev/null)
+[ $? = 2 ] || fail "a non-smooth region's point must be exit 2"
+expect_contains "$err" "nonsmooth.csv:1 (point 0)" "non-smooth point named"
+expect_contains "$err" "neuron 2" "non-smooth neuron named"
+
+echo "points: all checks passed"
