@@ -364,7 +364,9 @@ TEST(Primes, SequenceIsDistinctFromTheFixedPrimes) {
   for (std::size_t i = 0; i < 20; ++i) {
     EXPECT_NE(prime_sequence(i), primary_prime());
     EXPECT_NE(prime_sequence(i), screening_prime());
-    if (i > 0) EXPECT_GT(prime_sequence(i), prime_sequence(i - 1));
+    if (i > 0) {
+      EXPECT_GT(prime_sequence(i), prime_sequence(i - 1));
+    }
   }
 }
 
