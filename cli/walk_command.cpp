@@ -44,8 +44,11 @@ void print_summary(const Network& network, const Domain& domain, const WalkSumma
   out << "domain      " << domain.describe() << "\n";
   // A stopped walk found only some regions: every count is a lower bound.
   const char* at_least = is_bound ? ">= " : "";
-  out << "regions     " << at_least << summary.regions << " (" << at_least << summary.bounded_regions
-      << " bounded), linear regions " << at_least << summary.linear_regions << "\n";
+  out << "regions     " << at_least << summary.regions << " (" << at_least << summary.bounded_regions << " bounded), ";
+  // Regions not found may join found pieces of one linear region, so a
+  // partial count of linear regions bounds nothing: it is not printed.
+  if (is_bound) out << "linear regions not counted (the walk stopped)\n";
+  else out << "linear regions " << summary.linear_regions << "\n";
   out << "per layer   ";
   for (std::size_t k = 0; k < summary.regions_per_layer.size(); ++k)
     out << (k ? ", " : "") << at_least << summary.regions_per_layer[k];

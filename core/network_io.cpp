@@ -30,19 +30,31 @@ using Json = nlohmann::basic_json<std::map, std::vector, std::string, bool, std:
 
 constexpr std::size_t max_nesting_depth = 256;
 
+struct JsonMember;
+
 struct JsonNode {
   enum class Kind { null, boolean, number, string, array, object };
   Kind kind = Kind::null;
   std::string text;  // a number's literal text, a string's value, "true"/"false"
   std::vector<JsonNode> items;
-  std::vector<std::pair<std::string, JsonNode>> members;  // in document order
+  std::vector<JsonMember> members;  // in document order
 
-  const JsonNode* find(const std::string& key) const {
-    for (const auto& [name, value] : members)
-      if (name == key) return &value;
-    return nullptr;
-  }
+  const JsonNode* find(const std::string& key) const;
 };
+
+// A key and its value, with std::pair's member names. Not a std::pair: clang
+// refuses a pair holding the still-incomplete JsonNode inside JsonNode.
+struct JsonMember {
+  JsonMember(std::string key, JsonNode value) : first(std::move(key)), second(std::move(value)) {}
+  std::string first;
+  JsonNode second;
+};
+
+const JsonNode* JsonNode::find(const std::string& key) const {
+  for (const auto& [name, value] : members)
+    if (name == key) return &value;
+  return nullptr;
+}
 
 std::string escaped(const std::string& text) {
   return Json(text).dump(-1, ' ', false, nlohmann::detail::error_handler_t::replace);

@@ -68,6 +68,8 @@ case "$out" in *"\"$digits\""*) ;; *) fail "eval at 1 did not print the 100 000-
 
 # A walk stopped by --max-regions: every count of the text summary is a lower bound.
 out=$("$pleat" walk "$fold" --max-regions 5 -q)
-case "$out" in *"regions     >= 5 (>= "*" bounded), linear regions >= "*) ;; *) fail "regions line: $out" ;; esac
+# (a partial count of linear regions is no bound: found pieces of one linear
+# region may be joined by regions not found, so it is not printed)
+case "$out" in *"regions     >= 5 (>= "*" bounded), linear regions not counted"*) ;; *) fail "regions line: $out" ;; esac
 case "$out" in *"per layer   >= "*", >= "*", >= "*) ;; *) fail "per-layer line: $out" ;; esac
 echo "readers: all checks passed"
