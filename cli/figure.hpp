@@ -71,6 +71,9 @@ std::vector<double> nice_ticks(double lo, double hi);
 // The shortest text that reads back as the value, for ticks ("0.5", "-2").
 std::string tick_text(double value);
 
+// Text for SVG/XML content and attributes (&, <, >, " escaped).
+std::string escape_xml(const std::string& text);
+
 // value with `decimals` digits after the point, trailing zeros and a bare
 // point dropped, "-0" written "0": coordinates in SVG and TikZ output.
 std::string fixed_point_text(double value, int decimals);

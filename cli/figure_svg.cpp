@@ -14,27 +14,15 @@ constexpr double plot_width = 420;
 
 std::string number(double value) { return fixed_point_text(value, 2); }
 
-std::string escape(const std::string& text) {
-  std::string out;
-  for (char c : text) {
-    if (c == '<') out += "&lt;";
-    else if (c == '>') out += "&gt;";
-    else if (c == '&') out += "&amp;";
-    else if (c == '"') out += "&quot;";
-    else out += c;
-  }
-  return out;
-}
-
 // "x2" -> x with a subscript 2, in italics.
 std::string axis_label(const std::string& label) {
   std::size_t digits = label.size();
   while (digits > 0 && std::isdigit(static_cast<unsigned char>(label[digits - 1]))) --digits;
   // Appends only: GCC 12 warns falsely (-Wrestrict) on "literal" + std::string.
   std::string out = "<tspan font-style=\"italic\">";
-  out.append(escape(label.substr(0, digits))).append("</tspan>");
+  out.append(escape_xml(label.substr(0, digits))).append("</tspan>");
   if (digits < label.size())
-    out.append("<tspan font-size=\"8\" dy=\"3\">").append(escape(label.substr(digits))).append("</tspan>");
+    out.append("<tspan font-size=\"8\" dy=\"3\">").append(escape_xml(label.substr(digits))).append("</tspan>");
   return out;
 }
 
@@ -69,7 +57,7 @@ void write_regions(const Figure& figure, const Layout& layout, std::ostream& out
       << (figure.graph.empty() ? "" : " fill-opacity=\"0.45\" stroke-opacity=\"0.45\"") << ">\n";
   for (const auto& polygon : figure.polygons) {
     const std::string& colour = figure.colours[polygon.colour];
-    out << "<polygon id=\"region-" << polygon.region << "\" data-pattern=\"" << escape(polygon.pattern)
+    out << "<polygon id=\"region-" << polygon.region << "\" data-pattern=\"" << escape_xml(polygon.pattern)
         << "\" fill=\"" << colour << "\" stroke=\"" << colour << "\" points=\"";
     for (std::size_t i = 0; i < polygon.vertices.size(); ++i)
       out << (i ? " " : "") << number(layout.x(polygon.vertices[i].x)) << ","
@@ -115,7 +103,7 @@ void write_labels(const Figure& figure, const Layout& layout, std::ostream& out)
          "fill=\"#111111\" stroke=\"#ffffff\" stroke-width=\"2.2\" stroke-opacity=\"0.85\" paint-order=\"stroke\">\n";
   for (const auto& polygon : figure.polygons)
     out << "<text x=\"" << number(layout.x(polygon.label.x)) << "\" y=\"" << number(layout.y(polygon.label.y) + 2.5)
-        << "\">" << escape(polygon.pattern) << "</text>\n";
+        << "\">" << escape_xml(polygon.pattern) << "</text>\n";
   out << "</g>\n";
 }
 
@@ -129,14 +117,14 @@ void write_axes(const Figure& figure, const Layout& layout, std::ostream& out) {
     out << "<line x1=\"" << number(px) << "\" y1=\"" << number(bottom) << "\" x2=\"" << number(px) << "\" y2=\""
         << number(bottom + 4) << "\" stroke-width=\"0.9\"/>"
         << "<text x=\"" << number(px) << "\" y=\"" << number(bottom + 15) << "\" stroke=\"none\" "
-        << "text-anchor=\"middle\">" << escape(tick_text(t)) << "</text>\n";
+        << "text-anchor=\"middle\">" << escape_xml(tick_text(t)) << "</text>\n";
   }
   for (double t : nice_ticks(figure.y_min, figure.y_max)) {
     const double py = layout.y(t);
     out << "<line x1=\"" << left_margin - 4 << "\" y1=\"" << number(py) << "\" x2=\"" << left_margin << "\" y2=\""
         << number(py) << "\" stroke-width=\"0.9\"/>"
         << "<text x=\"" << left_margin - 7 << "\" y=\"" << number(py + 3.5) << "\" stroke=\"none\" "
-        << "text-anchor=\"end\">" << escape(tick_text(t)) << "</text>\n";
+        << "text-anchor=\"end\">" << escape_xml(tick_text(t)) << "</text>\n";
   }
   out << "<text x=\"" << number(left_margin + plot_width / 2) << "\" y=\"" << number(bottom + 34)
       << "\" stroke=\"none\" text-anchor=\"middle\" font-size=\"12\">" << axis_label(figure.x_label) << "</text>\n";
@@ -150,13 +138,13 @@ void write_legend(const Figure& figure, std::ostream& out) {
   const double x0 = left_margin + plot_width + legend_gap;
   double y = top_margin + 10;
   out << "<g id=\"legend\" fill=\"#1a1a1a\">\n";
-  out << "<text x=\"" << x0 << "\" y=\"" << y << "\" font-weight=\"bold\">" << escape(figure.legend_title)
+  out << "<text x=\"" << x0 << "\" y=\"" << y << "\" font-weight=\"bold\">" << escape_xml(figure.legend_title)
       << "</text>\n";
   y += 8;
   for (const auto& swatch : figure.swatches) {
     out << "<rect x=\"" << x0 << "\" y=\"" << y << "\" width=\"14\" height=\"11\" fill=\""
         << figure.colours[swatch.colour] << "\" stroke=\"#1a1a1a\" stroke-width=\"0.5\"/>"
-        << "<text x=\"" << x0 + 20 << "\" y=\"" << y + 9.5 << "\">" << escape(swatch.text) << "</text>\n";
+        << "<text x=\"" << x0 + 20 << "\" y=\"" << y + 9.5 << "\">" << escape_xml(swatch.text) << "</text>\n";
     y += 15;
   }
   if (figure.show_lines && figure.layers > 0 && figure.graph.empty()) {
@@ -181,7 +169,7 @@ void write_legend(const Figure& figure, std::ostream& out) {
   y += 8;
   for (const auto& note : figure.notes) {
     y += 14;
-    out << "<text x=\"" << x0 << "\" y=\"" << y << "\">" << escape(note) << "</text>\n";
+    out << "<text x=\"" << x0 << "\" y=\"" << y << "\">" << escape_xml(note) << "</text>\n";
   }
   out << "</g>\n";
 }

@@ -1,5 +1,7 @@
 #include "cli/survey_report.hpp"
 
+#include "cli/figure.hpp"
+
 #include "cli/survey_file.hpp"
 
 #include <algorithm>
@@ -43,20 +45,6 @@ std::string describe_configuration(const Json& header) {
                      " digits, seed " + std::to_string(header["seed"].get<std::uint64_t>()) + ", domain " + domain;
   if (header["shard"] != "0/1") text += ", shard " + header["shard"].get<std::string>();
   return text;
-}
-
-std::string escape_xml(const std::string& text) {
-  std::string out;
-  for (char c : text) {
-    switch (c) {
-      case '&': out += "&amp;"; break;
-      case '<': out += "&lt;"; break;
-      case '>': out += "&gt;"; break;
-      case '"': out += "&quot;"; break;
-      default: out += c;
-    }
-  }
-  return out;
 }
 
 // A round step (1, 2 or 5 times a power of ten) giving about five ticks.
