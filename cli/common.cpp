@@ -37,7 +37,7 @@ std::vector<std::string_view> split_commas(std::string_view text) {
 Network load_network(const std::string& path) {
   if (path != "-" && is_onnx_path(path)) return read_onnx_file(path);  // ONNX models by extension
   if (path != "-") return read_network_file(path);
-  const std::string text{std::istreambuf_iterator<char>(std::cin), std::istreambuf_iterator<char>()};
+  const std::string text = read_limited(std::cin, "<stdin>");
   try {
     return parse_network(text);
   } catch (const input_error& fault) {

@@ -1,9 +1,9 @@
 #include "cli/figure_region_file.hpp"
 
 #include "cli/common.hpp"
+#include "cli/line_input.hpp"
 #include "cli/region_file_reader.hpp"
 
-#include <fstream>
 
 namespace pleat::cli {
 namespace {
@@ -55,12 +55,12 @@ Region read_region(const Network& network, const Json& line, const LineReader& r
 }  // namespace
 
 SavedWalk read_saved_walk(const Network& network, const std::string& path) {
-  std::ifstream file(path);
-  if (!file) throw input_error(path + ": cannot open");
+  LineInput input(path, "region file", max_region_line_bytes);  // one line at a time
   SavedWalk walk;
   bool has_header = false;
   std::string text;
-  for (std::size_t number = 1; std::getline(file, text); ++number) {
+  while (input.next(text)) {
+    const std::size_t number = input.line_number();
     if (text.empty()) continue;
     const LineReader reader(network, number);
     try {

@@ -43,6 +43,8 @@ bool LineInput::refill() {
   return end_ > 0;
 }
 
+bool LineInput::at_end() { return begin_ == end_ && !refill(); }
+
 // Copies whole chunks up to the next newline, checking each for NUL bytes and
 // the line cap before it is kept.
 bool LineInput::next(std::string& line) {

@@ -25,6 +25,8 @@ class LineInput {
   // the end of the file. Throws input_error naming the path and line for a
   // NUL byte, a line longer than the cap, or a read error.
   bool next(std::string& line);
+  // True when no byte follows the line last returned.
+  bool at_end();
   std::size_t line_number() const { return line_number_; }  // of the line last returned
   bool last_had_newline() const { return last_had_newline_; }
   std::uintmax_t bytes_read() const { return bytes_read_; }  // through the line last returned

@@ -4,12 +4,14 @@
 #include "cli/points_file.hpp"
 
 #include "cli/common.hpp"
+#include "cli/line_input.hpp"
 
 #include <xtensor/xarray.hpp>
 #include <xtensor/xnpy.hpp>
 
 #include <cmath>
 #include <cstdint>
+#include <filesystem>
 #include <fstream>
 #include <iterator>
 #include <sstream>
@@ -19,6 +21,8 @@ namespace pleat::cli {
 namespace {
 
 constexpr std::size_t max_points_file_bytes = std::size_t{1} << 30;  // 1 GiB: far beyond any batch
+// A point of many long exact coordinates stays far below this.
+constexpr std::size_t max_point_line_bytes = std::size_t{16} << 20;
 
 bool ends_with(const std::string& text, std::string_view suffix) {
   return text.size() >= suffix.size() && text.compare(text.size() - suffix.size(), suffix.size(), suffix) == 0;
@@ -75,6 +79,8 @@ RationalVector parse_fields(const std::vector<std::string>& fields, std::size_t 
 }
 
 std::string read_whole_file(const std::string& path) {
+  std::error_code error;
+  if (std::filesystem::is_directory(path, error)) throw input_error(path + ": is a directory, not a points file");
   std::ifstream file(path, std::ios::binary);
   if (!file) throw input_error(path + ": cannot open");
   file.seekg(0, std::ios::end);
@@ -85,13 +91,15 @@ std::string read_whole_file(const std::string& path) {
   return std::string(std::istreambuf_iterator<char>(file), std::istreambuf_iterator<char>());
 }
 
+// Read one line at a time: a text file of points may be large, and one that
+// is not text (NUL bytes, one endless line) fails at once.
 PointsFile read_text_points(const std::string& path, std::size_t dimension) {
-  std::istringstream file(read_whole_file(path));
+  LineInput file(path, "points file", max_point_line_bytes);
   PointsFile result;
   bool is_first_line = true, drops_index_column = false;
   std::string line;
-  for (std::size_t number = 1; std::getline(file, line); ++number) {
-    const std::string place = path + ":" + std::to_string(number);
+  while (file.next(line)) {
+    const std::string place = file.path() + ":" + std::to_string(file.line_number());
     const std::string content = trimmed(line);
     if (content.empty() || content.front() == '#') continue;
     std::vector<std::string> fields = split_fields(content);

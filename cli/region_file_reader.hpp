@@ -12,6 +12,10 @@
 
 namespace pleat::cli {
 
+// Region files are read one line at a time; a region line of a large network
+// with its certificate is far below this.
+inline constexpr std::size_t max_region_line_bytes = std::size_t{64} << 20;
+
 class LineReader {
  public:
   LineReader(const Network& network, std::size_t line) : network_(network), line_(line) {}

@@ -1,13 +1,12 @@
 #include "cli/survey_file.hpp"
 
+#include "cli/line_input.hpp"
 #include "cli/region_json.hpp"
 #include "core/network_io.hpp"
 
 #include <algorithm>
 #include <filesystem>
-#include <fstream>
 #include <set>
-#include <sstream>
 
 namespace pleat::cli {
 
@@ -139,6 +138,9 @@ SurveyConfiguration configuration_from_header(const Json& header, const std::str
   SurveyConfiguration configuration;
   configuration.architecture = required<std::vector<std::size_t>>(header, "arch", where);
   if (configuration.architecture.size() < 2) throw input_error(where + ": 'arch' needs at least two widths");
+  for (std::size_t width : configuration.architecture)
+    if (width == 0 || width > (std::size_t{1} << 20))
+      throw input_error(where + ": 'arch' width " + std::to_string(width) + " is not between 1 and 2^20");
   configuration.init = parse_initialization(required<std::string>(header, "init", where));
   configuration.digits = required<int>(header, "digits", where);
   configuration.seed = required<std::uint64_t>(header, "seed", where);
@@ -170,27 +172,75 @@ ShardSet shard_from_header(const Json& header, const std::string& where) {
   return parse_shard(required<std::string>(header, "shard", where), where + ": shard");
 }
 
-SurveyFile read_survey_file(const std::string& path) {
-  std::ifstream stream(path, std::ios::binary);
-  if (!stream) throw input_error(path + ": cannot open");
-  std::ostringstream buffer;
-  buffer << stream.rdbuf();
-  const std::string text = buffer.str();
+namespace {
 
+// Survey lines are a few hundred bytes; a header with a large polytope more.
+constexpr std::size_t max_survey_line_bytes = std::size_t{16} << 20;
+
+// What the architecture allows: D = sum (n_{k-1} + 1) n_k parameters, and
+// the scaling bound D - rank(scaling directions) lies in [D - H, D] for H
+// hidden neurons (one rescaling direction each).
+struct ArchitectureLimits {
+  std::size_t parametric_dimension = 0;
+  std::size_t hidden_neurons = 0;
+};
+
+ArchitectureLimits limits_of(const std::vector<std::size_t>& architecture) {
+  ArchitectureLimits limits;
+  for (std::size_t k = 1; k < architecture.size(); ++k) {
+    limits.parametric_dimension += (architecture[k - 1] + 1) * architecture[k];
+    if (k + 1 < architecture.size()) limits.hidden_neurons += architecture[k];
+  }
+  return limits;
+}
+
+// A line that claims what no run can produce is refused, not summarised.
+void check_sample_consistency(const SurveySample& sample, const ArchitectureLimits& limits, const std::string& where) {
+  const auto refuse = [&](const std::string& what) {
+    throw input_error(where + ": impossible sample line: " + what);
+  };
+  const std::string d = std::to_string(limits.parametric_dimension);
+  if (sample.parametric_dimension != limits.parametric_dimension)
+    refuse("parametric_dimension " + std::to_string(sample.parametric_dimension) + ", but the header's architecture has " +
+           d + " parameters");
+  if (sample.scaling_bound > limits.parametric_dimension ||
+      sample.scaling_bound + limits.hidden_neurons < limits.parametric_dimension)
+    refuse("scaling_bound " + std::to_string(sample.scaling_bound) + " is outside [" +
+           std::to_string(limits.parametric_dimension - limits.hidden_neurons) + ", " + d +
+           "] (the parameters less at most one rescaling per hidden neuron)");
+  if (sample.upper_bound > sample.scaling_bound)
+    refuse("upper_bound " + std::to_string(sample.upper_bound) + " is above the scaling bound " +
+           std::to_string(sample.scaling_bound));
+  if (sample.lower_bound > sample.upper_bound)
+    refuse("lower_bound " + std::to_string(sample.lower_bound) + " is above upper_bound " +
+           std::to_string(sample.upper_bound));
+  if (sample.certified != (sample.lower_bound == sample.upper_bound))
+    refuse(sample.certified ? "certified with unequal bounds" : "the bounds meet but the line is not certified");
+  if (sample.functional_dimension && *sample.functional_dimension != sample.lower_bound)
+    refuse("functional_dimension " + std::to_string(*sample.functional_dimension) + " differs from its bounds " +
+           std::to_string(sample.lower_bound));
+  if (sample.early_stop && !(sample.certified && sample.lower_bound == sample.scaling_bound))
+    refuse("early_stop without reaching the scaling bound");
+  if (!(sample.seconds >= 0) || sample.seconds > 1e12) refuse("seconds is not a time");
+}
+
+}  // namespace
+
+SurveyFile read_survey_file(const std::string& path) {
+  LineInput input(path, "survey file", max_survey_line_bytes);
   SurveyFile file;
   SurveyConfiguration configuration;
+  ArchitectureLimits limits;
   ShardSet shard;
   std::set<std::uint64_t> seen;
-  std::size_t start = 0;
-  for (std::size_t number = 1; start < text.size(); ++number) {
-    const std::size_t end = text.find('\n', start);
-    const bool is_last = end == std::string::npos || end + 1 == text.size();
-    const std::string where = path + ":" + std::to_string(number);
-    const std::string line = text.substr(start, end == std::string::npos ? std::string::npos : end - start);
+  std::string line;
+  while (input.next(line)) {
+    const std::size_t number = input.line_number();
+    const std::string where = input.path() + ":" + std::to_string(number);
     Json document = Json::parse(line, nullptr, false);
-    if (end == std::string::npos || document.is_discarded()) {
+    if (!input.last_had_newline() || document.is_discarded()) {
       // A run killed while writing leaves one cut line at the very end.
-      if (is_last) {
+      if (input.at_end()) {
         file.has_partial_line = true;
         break;
       }
@@ -198,6 +248,7 @@ SurveyFile read_survey_file(const std::string& path) {
     }
     if (number == 1) {
       configuration = configuration_from_header(document, where);
+      limits = limits_of(configuration.architecture);
       shard = shard_from_header(document, where);
       file.header = std::move(document);
     } else {
@@ -210,10 +261,10 @@ SurveyFile read_survey_file(const std::string& path) {
                           format_shard(shard));
       if (!seen.insert(sample.sample).second)
         throw input_error(where + ": sample " + std::to_string(sample.sample) + " appears twice");
+      check_sample_consistency(sample, limits, where);
       file.samples.push_back(std::move(sample));
     }
-    start = end + 1;
-    file.complete_bytes = start;
+    file.complete_bytes = input.bytes_read();
   }
   return file;
 }

@@ -176,7 +176,10 @@ std::string histogram_svg(const SurveyRecord& record, const SurveySummary& summa
   // Headroom above the tallest bar for its count.
   const std::size_t top_count = ((most + most / 10 + step - 1) / step) * step;
   const double bin_width = plot_width / static_cast<double>(bins);
-  auto x_of = [&](std::size_t value) { return left + (static_cast<double>(value - low) + 0.5) * bin_width; };
+  // low passed by value: clang 14 cannot capture a structured binding.
+  auto x_of = [&, first = low](std::size_t value) {
+    return left + (static_cast<double>(value - first) + 0.5) * bin_width;
+  };
   auto y_of = [&](double count) { return top + plot_height * (1 - count / static_cast<double>(top_count)); };
 
   std::ostringstream svg;

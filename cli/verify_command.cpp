@@ -20,9 +20,6 @@
 namespace pleat::cli {
 namespace {
 
-// A region line of a large network with its certificate is far below this.
-constexpr std::size_t max_region_line_bytes = std::size_t{256} << 20;
-
 struct VerifyArguments {
   std::string network_path;
   std::string regions_path;

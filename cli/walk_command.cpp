@@ -42,13 +42,18 @@ void print_summary(const Network& network, const Domain& domain, const WalkSumma
       << network.output_dim() << " output" << (network.output_dim() == 1 ? "" : "s")
       << (network.has_output_relu() ? " (ReLU)" : "") << "\n";
   out << "domain      " << domain.describe() << "\n";
-  out << "regions     " << (is_bound ? ">= " : "") << summary.regions << " (" << summary.bounded_regions
-      << " bounded), linear regions " << (is_bound ? ">= " : "") << summary.linear_regions << "\n";
+  // A stopped walk found only some regions: every count is a lower bound.
+  const char* at_least = is_bound ? ">= " : "";
+  out << "regions     " << at_least << summary.regions << " (" << at_least << summary.bounded_regions << " bounded), ";
+  // Regions not found may join found pieces of one linear region, so a
+  // partial count of linear regions bounds nothing: it is not printed.
+  if (is_bound) out << "linear regions not counted (the walk stopped)\n";
+  else out << "linear regions " << summary.linear_regions << "\n";
   out << "per layer   ";
   for (std::size_t k = 0; k < summary.regions_per_layer.size(); ++k)
-    out << (k ? ", " : "") << summary.regions_per_layer[k];
+    out << (k ? ", " : "") << at_least << summary.regions_per_layer[k];
   out << "  (distinct pattern prefixes up to each layer)\n";
-  out << "facets      " << (is_bound ? ">= " : "") << summary.facets << " interior\n";
+  out << "facets      " << at_least << summary.facets << " interior\n";
   if (!summary.nonsmooth_regions.empty())
     out << "non-smooth  " << summary.nonsmooth_regions.size()
         << " regions have a neuron identically zero with a nonzero backward signal\n";

@@ -30,19 +30,31 @@ using Json = nlohmann::basic_json<std::map, std::vector, std::string, bool, std:
 
 constexpr std::size_t max_nesting_depth = 256;
 
+struct JsonMember;
+
 struct JsonNode {
   enum class Kind { null, boolean, number, string, array, object };
   Kind kind = Kind::null;
   std::string text;  // a number's literal text, a string's value, "true"/"false"
   std::vector<JsonNode> items;
-  std::vector<std::pair<std::string, JsonNode>> members;  // in document order
+  std::vector<JsonMember> members;  // in document order
 
-  const JsonNode* find(const std::string& key) const {
-    for (const auto& [name, value] : members)
-      if (name == key) return &value;
-    return nullptr;
-  }
+  const JsonNode* find(const std::string& key) const;
 };
+
+// A key and its value, with std::pair's member names. Not a std::pair: clang
+// refuses a pair holding the still-incomplete JsonNode inside JsonNode.
+struct JsonMember {
+  JsonMember(std::string key, JsonNode value) : first(std::move(key)), second(std::move(value)) {}
+  std::string first;
+  JsonNode second;
+};
+
+const JsonNode* JsonNode::find(const std::string& key) const {
+  for (const auto& [name, value] : members)
+    if (name == key) return &value;
+  return nullptr;
+}
 
 std::string escaped(const std::string& text) {
   return Json(text).dump(-1, ' ', false, nlohmann::detail::error_handler_t::replace);
@@ -113,8 +125,11 @@ class TreeBuilder {
     std::string what = error.what();
     const std::size_t tag_end = what.find("] ");
     if (tag_end != std::string::npos) what = what.substr(tag_end + 2);
-    if (error.id == 406)  // a bare number beyond long double's range
-      fail(current_path(), what + " (a bare JSON number must stay below about 1e4900; write larger ones as strings)");
+    if (error.id == 406)  // a bare number beyond long double's range; its text may be huge: not quoted
+      fail(current_path(), "a bare JSON number ending at byte " + std::to_string(byte) +
+                               " is beyond about 1e4900, the limit for numbers written without quotes; "
+                               "write it as a string (\"123...\") to have it read exactly");
+    if (what.size() > 300) what = what.substr(0, 300) + "...";  // the last token may be huge
     fail(current_path(), "malformed JSON at byte " + std::to_string(byte) + ": " + what);
   }
 
@@ -453,18 +468,36 @@ PolytopeDocument read_domain(const JsonNode& root) {
   return document;
 }
 
+std::string size_limit_message(const std::string& name, const std::string& size) {
+  return name + ": larger than the " + std::to_string(max_network_file_bytes >> 20) +
+         " MiB limit for network and domain files (" + size + ")";
+}
+
+// Reads at most max_network_file_bytes: a regular file's size is checked
+// before reading, anything else (a pipe) is cut off at the limit.
 std::string read_text_file(const std::filesystem::path& path) {
+  const std::string name = path.string();
   std::error_code error;
-  if (std::filesystem::is_directory(path, error)) throw input_error(path.string() + ": cannot open: is a directory");
+  if (std::filesystem::is_directory(path, error)) throw input_error(name + ": cannot open: is a directory");
+  const std::uintmax_t size = std::filesystem::file_size(path, error);
+  if (!error && size > max_network_file_bytes) throw input_error(size_limit_message(name, std::to_string(size) + " bytes"));
   std::ifstream file(path, std::ios::binary);
-  if (!file) throw input_error(path.string() + ": cannot open (" + std::strerror(errno) + ")");
-  std::ostringstream contents;
-  contents << file.rdbuf();
-  if (file.bad()) throw input_error(path.string() + ": cannot read");
-  return contents.str();
+  if (!file) throw input_error(name + ": cannot open (" + std::strerror(errno) + ")");
+  return read_limited(file, name);
 }
 
 }  // namespace
+
+std::string read_limited(std::istream& stream, const std::string& name) {
+  std::string contents;
+  char buffer[1 << 16];
+  while (stream.read(buffer, sizeof buffer) || stream.gcount() > 0) {
+    contents.append(buffer, static_cast<std::size_t>(stream.gcount()));
+    if (contents.size() > max_network_file_bytes) throw input_error(size_limit_message(name, "stopped reading there"));
+  }
+  if (stream.bad()) throw input_error(name + ": cannot read");
+  return contents;
+}
 
 Network parse_network(std::string_view json_text) { return read_network(parse_json_tree(json_text)); }
 

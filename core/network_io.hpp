@@ -5,7 +5,9 @@
 
 #include "core/network.hpp"
 
+#include <cstdint>
 #include <filesystem>
+#include <iosfwd>
 #include <string>
 #include <string_view>
 #include <utility>
@@ -19,10 +21,19 @@ namespace pleat {
 // half-read.
 Network parse_network(std::string_view json_text);
 
-// Reads a file; a missing or unreadable file is an input_error naming it, and
+// Network and domain files larger than this are refused before they are read:
+// a network of a few MiB is already far past what a walk can handle.
+inline constexpr std::uintmax_t max_network_file_bytes = std::uintmax_t{64} << 20;  // 64 MiB
+
+// Reads a file; a missing or unreadable file is an input_error naming it (so
+// is one above max_network_file_bytes), and
 // every fault of parse_network comes back prefixed with the file name:
 // "FILE: layers[0].bias: missing field".
 Network read_network_file(const std::filesystem::path& path);
+
+// The whole of a stream (standard input) as text, refusing more than
+// max_network_file_bytes; `name` starts the message.
+std::string read_limited(std::istream& stream, const std::string& name);
 
 // The canonical document (rationals as strings in lowest terms, name and meta
 // kept). parse_network(write_network(n)) == n.

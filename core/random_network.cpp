@@ -1,5 +1,6 @@
 // Reproducible random networks (derivation in the header).
 #include "core/random_network.hpp"
+#include "core/thread_caches.hpp"
 
 #include <mpfr.h>
 #include <nlohmann/json.hpp>
@@ -27,7 +28,10 @@ std::uint64_t rotate_left(std::uint64_t x, int k) { return (x << k) | (x >> (64 
 // An MPFR number at the working precision, freed on scope exit.
 class Real {
  public:
-  Real() { mpfr_init2(value_, working_precision); }
+  Real() {
+    free_number_caches_at_thread_exit();  // mpfr_const_pi and mpfr_log cache per thread
+    mpfr_init2(value_, working_precision);
+  }
   ~Real() { mpfr_clear(value_); }
   Real(const Real&) = delete;
   Real& operator=(const Real&) = delete;

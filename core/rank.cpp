@@ -1,4 +1,5 @@
 #include "core/rank.hpp"
+#include "core/thread_caches.hpp"
 
 #include <gmp.h>
 // FLINT after GMP so that its mpz conversion functions are declared.
@@ -25,6 +26,7 @@ constexpr std::uint64_t largest_supported_prime_bound = std::uint64_t{1} << 63;
 class FmpzMatrix {
  public:
   FmpzMatrix(std::size_t rows, std::size_t cols) {
+    free_number_caches_at_thread_exit();  // fmpz entries come from a per-thread pool
     fmpz_mat_init(value_, static_cast<slong>(rows), static_cast<slong>(cols));
   }
   ~FmpzMatrix() { fmpz_mat_clear(value_); }
@@ -42,6 +44,7 @@ class FmpzMatrix {
 class FmpqMatrix {
  public:
   FmpqMatrix(std::size_t rows, std::size_t cols) {
+    free_number_caches_at_thread_exit();
     fmpq_mat_init(value_, static_cast<slong>(rows), static_cast<slong>(cols));
   }
   ~FmpqMatrix() { fmpq_mat_clear(value_); }

@@ -1,6 +1,7 @@
 // Exact number parsing and formatting (spec: network-format.md, "Every number
 // is exact"), and the only conversions between Rational and double.
 #include "core/rational.hpp"
+#include "core/thread_caches.hpp"
 
 #include <mpfr.h>
 
@@ -120,6 +121,7 @@ std::string format_rational(const Rational& value) { return value.get_str(10); }
 double to_double(const Rational& value) {
   // MPFR rounds correctly to 53 bits (mpq_get_d would truncate). Below the
   // normal range the second rounding to a subnormal may be off by one ulp.
+  free_number_caches_at_thread_exit();  // MPFR pools integers per thread
   mpfr_t rounded;
   mpfr_init2(rounded, 53);
   mpfr_set_q(rounded, value.get_mpq_t(), MPFR_RNDN);

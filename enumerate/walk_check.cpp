@@ -84,6 +84,8 @@ class WalkChecker {
     }
     for (const auto& region : regions_) check_region(region);
     check_mutual_adjacency();
+    check_start_region();
+    check_walk_order();
   }
 
  private:
@@ -266,6 +268,49 @@ class WalkChecker {
                            std::to_string(by_pattern_.at(neighbor)->line) +
                            ") does not name this region across any of its facets");
       }
+    }
+  }
+
+  // The walk starts in the region at the domain's centre (walker.cpp steps
+  // off the centre when it lies on a bent hyperplane: then a region whose
+  // closure holds the centre).
+  void check_start_region() const {
+    const SavedRegion& first = regions_.front();
+    const RationalVector centre = domain_centre(domain_);
+    if (const auto at_centre = region_pattern_at(network_, centre)) {
+      if (*at_centre != first.pattern)
+        fail(first, "id 0 is not the region at the domain's centre, where the walk starts (" +
+                        format_pattern(network_, *at_centre) + ")");
+      return;
+    }
+    const auto cell = build_pattern_cell(network_, domain_, first.pattern);
+    if (!cell || !closure_contains(cell->cell, centre))
+      fail(first, "id 0 does not touch the domain's centre, where the walk starts");
+  }
+
+  // Ids follow the walk: breadth-first from id 0 across the listed
+  // neighbours, level by level, patterns sorted within a level.
+  void check_walk_order() const {
+    std::map<ActivationPattern, std::size_t> level{{regions_.front().pattern, 0}};
+    std::vector<ActivationPattern> frontier{regions_.front().pattern};
+    for (std::size_t depth = 1; !frontier.empty(); ++depth) {
+      std::vector<ActivationPattern> next;
+      for (const auto& pattern : frontier) {
+        const auto named = neighbors_named_.find(pattern);
+        if (named == neighbors_named_.end()) continue;
+        for (const auto& neighbor : named->second)
+          if (level.emplace(neighbor, depth).second) next.push_back(neighbor);
+      }
+      frontier = std::move(next);
+    }
+    for (std::size_t i = 0; i < regions_.size(); ++i) {
+      const auto found = level.find(regions_[i].pattern);
+      if (found == level.end()) fail(regions_[i], "the region is not reached from id 0 across listed neighbours");
+      if (i == 0) continue;
+      const std::size_t previous = level.at(regions_[i - 1].pattern);
+      if (std::make_pair(previous, regions_[i - 1].pattern) > std::make_pair(found->second, regions_[i].pattern))
+        fail(regions_[i], "id " + std::to_string(i) + " is out of the walk's order (breadth-first from id 0, " +
+                              "patterns sorted within a level)");
     }
   }
 

@@ -65,7 +65,8 @@ struct WalkCheck {
   std::size_t regions = 0;
 };
 
-// Checks every region: its id (0, 1, ... in file order), interior point, the
+// Checks every region: its id (0, 1, ... in file order, id 0 at the domain's
+// centre, the order breadth-first from it as the walk numbers), interior point, the
 // certificate's copy of the cell, the classification of its constraints, each
 // facet's hyperplane, point, neuron ids and domain side, the neighbours across
 // each facet (exactly the regions that crossing at the facet point reaches:

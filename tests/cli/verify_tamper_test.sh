@@ -136,7 +136,18 @@ tamper nonsmooth_added zero "$zero" '
 k = next(k for k, l in enumerate(lines) if k and "nonsmooth_neurons" not in l); lines[k]["nonsmooth_neurons"] = [0]; line = k + 1' \
   "\"nonsmooth_neurons\" differs"
 
-# 26. A key written twice in one object (another reader would keep the other copy).
+# 26. Two region lines swapped and renumbered: the ids no longer follow the walk.
+tamper reordered box "$fold" '
+lines[5], lines[30] = lines[30], lines[5]
+for k, l in enumerate(lines[1:]): l["id"] = k
+line = 7' "out of the walk's order"  # the region after the moved-up one
+# 27. The first region moved to the end, ids renumbered: the walk starts at the domain's centre.
+tamper start_moved box "$fold" '
+lines.append(lines.pop(1))
+for k, l in enumerate(lines[1:]): l["id"] = k
+line = 2' "id 0 is not the region at the domain's centre"
+
+# 28. A key written twice in one object (another reader would keep the other copy).
 head -n 3 "$work/box.jsonl" > "$work/twice.jsonl"
 sed -n 4p "$work/box.jsonl" | sed 's/^{"id":2,/{"id":2,"bounded":false,/' >> "$work/twice.jsonl"
 tail -n +5 "$work/box.jsonl" >> "$work/twice.jsonl"

@@ -63,4 +63,9 @@ m = r["certificate"]["non_facets"][0]["multipliers"]
 k = next(iter(m)); m[k] = "1000"' "classification"
 # A changed affine map.
 tamper affine 'lines[1]["affine"]["c"][0] = "12345"' "affine map"
+# The header's "network" is a label: a changed one still verifies (against the
+# network given) but is pointed out.
+sed '1s/"network":"[^"]*"/"network":"elsewhere.json"/' "$work/box.jsonl" > "$work/label.jsonl"
+out=$("$pleat" verify "$fold" "$work/label.jsonl") || fail "a changed label failed: $out"
+case "$out" in *'note: the file names its network "elsewhere.json"'*) ;; *) fail "no note on the label: $out" ;; esac
 echo "verify: all checks passed"

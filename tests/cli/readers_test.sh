@@ -1,0 +1,75 @@
+#!/usr/bin/env bash
+# Readers fail fast and say why: a 1 GiB file of NUL bytes (sparse, no disk
+# used) and a file of 80 MiB of spaces are refused as a network, a region
+# file, a points file and a survey file without being read whole (within a
+# few seconds and far less memory than the file); a directory is named as
+# one; a bare JSON integer of 100 000 digits gets a short message naming the
+# limit, and the same number as a string is read exactly; a stopped walk's
+# text summary marks every count as a lower bound.
+set -u
+pleat=$1
+source_dir=$2
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+fold=$source_dir/data/fold2d.json
+
+truncate -s 1G "$work/nul.bin" || { echo "no truncate"; exit 77; }
+head -c 80M /dev/zero | tr '\0' ' ' > "$work/spaces.txt"
+mkdir "$work/folder"
+
+# refused NAME NEEDLE COMMAND...: exit 2, message contains NEEDLE, at most 3 s
+# and 200 MB of memory (the files are 1 GiB and 80 MiB).
+refused() {
+  local name=$1 needle=$2
+  shift 2
+  local started out code elapsed
+  started=$(date +%s%N)
+  out=$(/usr/bin/time -f "rss %M" "$@" 2>&1 > /dev/null)
+  code=$?
+  elapsed=$(( ($(date +%s%N) - started) / 1000000 ))
+  [ "$code" -eq 2 ] || fail "$name: exit $code, expected 2 ($out)"
+  case "$out" in *"$needle"*) ;; *) fail "$name: expected '$needle' in: $out" ;; esac
+  [ "$elapsed" -lt 3000 ] || fail "$name: took $elapsed ms"
+  local rss=${out##*rss }
+  [ "$rss" -lt 200000 ] || fail "$name: used $rss KB"
+  [ "${#out}" -lt 500 ] || fail "$name: a ${#out}-character message"
+}
+
+refused network-nul "larger than the 64 MiB limit for network and domain files" "$pleat" walk "$work/nul.bin"
+refused network-spaces "larger than the 64 MiB limit" "$pleat" walk "$work/spaces.txt"
+refused network-stdin "larger than the 64 MiB limit" sh -c "\"$pleat\" walk - < \"$work/nul.bin\""
+refused domain-nul "larger than the 64 MiB limit" "$pleat" walk "$fold" --domain "$work/nul.bin"
+refused regions-nul "line 1: a NUL byte (byte 1 of the file): not a region file" "$pleat" verify "$fold" "$work/nul.bin"
+refused regions-spaces "line 1 is longer than 64 MiB, the limit for one line of a region file" \
+  "$pleat" verify "$fold" "$work/spaces.txt"
+refused draw-nul "a NUL byte" "$pleat" draw "$fold" --from "$work/nul.bin" --out "$work/x.svg"
+refused points-nul "a NUL byte" "$pleat" certify "$fold" --points "$work/nul.bin"
+refused points-spaces "longer than 16 MiB, the limit for one line of a points file" \
+  "$pleat" certify "$fold" --points "$work/spaces.txt"
+refused survey-nul "a NUL byte" "$pleat" survey summary "$work/nul.bin"
+refused survey-spaces "longer than 16 MiB, the limit for one line of a survey file" \
+  "$pleat" survey summary "$work/spaces.txt"
+
+refused points-folder "folder: is a directory, not a points file" "$pleat" certify "$fold" --points "$work/folder"
+refused regions-folder "folder: is a directory, not a region file" "$pleat" verify "$fold" "$work/folder"
+refused survey-folder "folder: is a directory, not a survey file" "$pleat" survey summary "$work/folder"
+refused network-folder "folder: cannot open: is a directory" "$pleat" walk "$work/folder"
+
+digits=$(head -c 100000 /dev/zero | tr '\0' '7')
+printf '{"format":"pleat-network/1","input_dim":1,"layers":[{"weights":[[%s]],"bias":["0"]}]}\n' "$digits" \
+  > "$work/bare.json"
+refused bare-number "beyond about 1e4900, the limit for numbers written without quotes" \
+  "$pleat" eval "$work/bare.json" --at 1
+printf '{"format":"pleat-network/1","input_dim":1,"layers":[{"weights":[["%s"]],"bias":["0"]}]}\n' "$digits" \
+  > "$work/quoted.json"
+out=$("$pleat" eval "$work/quoted.json" --at 1 --json) || fail "the quoted number was refused"
+case "$out" in *"\"$digits\""*) ;; *) fail "eval at 1 did not print the 100 000-digit weight exactly" ;; esac
+
+# A walk stopped by --max-regions: every count of the text summary is a lower bound.
+out=$("$pleat" walk "$fold" --max-regions 5 -q)
+# (a partial count of linear regions is no bound: found pieces of one linear
+# region may be joined by regions not found, so it is not printed)
+case "$out" in *"regions     >= 5 (>= "*" bounded), linear regions not counted"*) ;; *) fail "regions line: $out" ;; esac
+case "$out" in *"per layer   >= "*", >= "*", >= "*) ;; *) fail "per-layer line: $out" ;; esac
+echo "readers: all checks passed"
