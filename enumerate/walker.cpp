@@ -62,6 +62,119 @@ void make_primitive(RationalVector& normal, Rational& offset) {
 
 std::size_t relu_layers(const Network& network) { return network.relu_layer_count(); }
 
+// The network's layers over one common denominator each, for fraction-free
+// layer maps: layer k is (weights / denominator, bias / denominator) with
+// integer weights and bias. Built once per walk.
+struct IntegerLayer {
+  std::size_t rows = 0, cols = 0;
+  std::vector<Integer> weights;  // rows x cols, row-major
+  std::vector<Integer> bias;
+  Integer denominator = 1;
+  bool is_relu = true;
+};
+
+std::vector<IntegerLayer> integer_layers(const Network& network) {
+  std::vector<IntegerLayer> layers;
+  for (const Layer& layer : network.layers) {
+    IntegerLayer out;
+    out.rows = layer.weights.rows();
+    out.cols = layer.weights.cols();
+    out.is_relu = layer.activation == Activation::relu;
+    for (std::size_t r = 0; r < out.rows; ++r) {
+      for (std::size_t c = 0; c < out.cols; ++c)
+        mpz_lcm(out.denominator.get_mpz_t(), out.denominator.get_mpz_t(), layer.weights(r, c).get_den_mpz_t());
+      mpz_lcm(out.denominator.get_mpz_t(), out.denominator.get_mpz_t(), layer.bias[r].get_den_mpz_t());
+    }
+    const auto scaled = [&](const Rational& value) { return Integer(value.get_num() * (out.denominator / value.get_den())); };
+    for (std::size_t r = 0; r < out.rows; ++r)
+      for (std::size_t c = 0; c < out.cols; ++c) out.weights.push_back(scaled(layer.weights(r, c)));
+    for (std::size_t r = 0; r < out.rows; ++r) out.bias.push_back(scaled(layer.bias[r]));
+    layers.push_back(std::move(out));
+  }
+  return layers;
+}
+
+// An affine map of x with integer entries over one positive denominator.
+struct IntegerMap {
+  std::size_t rows = 0, cols = 0;
+  std::vector<Integer> linear;  // rows x cols
+  std::vector<Integer> offset;
+  Integer denominator = 1;
+};
+
+// Layer k's pre-activation from the previous post-activation, without a gcd:
+// (M (P x + p) / E + B) / D = (M P x + M p + E B) / (D E).
+void compose_integer(const IntegerLayer& layer, const IntegerMap& input, IntegerMap& out) {
+  out.rows = layer.rows;
+  out.cols = input.cols;
+  out.linear.assign(out.rows * out.cols, Integer(0));
+  out.offset.assign(out.rows, Integer(0));
+  // Rows of neurons that are off contribute nothing: skip them.
+  std::vector<char> is_zero_row(input.rows, 1);
+  for (std::size_t t = 0; t < input.rows; ++t) {
+    if (mpz_sgn(input.offset[t].get_mpz_t()) != 0) is_zero_row[t] = 0;
+    for (std::size_t c = 0; c < input.cols && is_zero_row[t]; ++c)
+      if (mpz_sgn(input.linear[t * input.cols + c].get_mpz_t()) != 0) is_zero_row[t] = 0;
+  }
+  for (std::size_t r = 0; r < layer.rows; ++r) {
+    mpz_ptr offset = out.offset[r].get_mpz_t();
+    mpz_mul(offset, input.denominator.get_mpz_t(), layer.bias[r].get_mpz_t());
+    for (std::size_t t = 0; t < layer.cols; ++t) {
+      mpz_srcptr weight = layer.weights[r * layer.cols + t].get_mpz_t();
+      if (is_zero_row[t] || mpz_sgn(weight) == 0) continue;
+      mpz_addmul(offset, weight, input.offset[t].get_mpz_t());
+      for (std::size_t c = 0; c < input.cols; ++c)
+        mpz_addmul(out.linear[r * out.cols + c].get_mpz_t(), weight, input.linear[t * input.cols + c].get_mpz_t());
+    }
+  }
+  out.denominator = layer.denominator * input.denominator;
+}
+
+AffineMap to_rational_map(const IntegerMap& map) {
+  AffineMap out{RationalMatrix(map.rows, map.cols), RationalVector(map.rows)};
+  for (std::size_t r = 0; r < map.rows; ++r) {
+    for (std::size_t c = 0; c < map.cols; ++c) {
+      Rational& value = out.linear(r, c);
+      mpq_set_num(value.get_mpq_t(), map.linear[r * map.cols + c].get_mpz_t());
+      mpq_set_den(value.get_mpq_t(), map.denominator.get_mpz_t());
+      mpq_canonicalize(value.get_mpq_t());
+    }
+    mpq_set_num(out.offset[r].get_mpq_t(), map.offset[r].get_mpz_t());
+    mpq_set_den(out.offset[r].get_mpq_t(), map.denominator.get_mpz_t());
+    mpq_canonicalize(out.offset[r].get_mpq_t());
+  }
+  return out;
+}
+
+// maps_on_pattern (core/evaluate.hpp) with the same exact values, computed in
+// integers over one denominator per layer: one gcd per entry instead of one per
+// product, which makes the walk's per-region maps several times cheaper.
+PatternMaps maps_on_pattern_fraction_free(const std::vector<IntegerLayer>& layers, std::size_t input_dim,
+                                          const ActivationPattern& pattern) {
+  PatternMaps maps;
+  maps.preactivation.reserve(layers.size());
+  IntegerMap post{input_dim, input_dim, std::vector<Integer>(input_dim * input_dim, Integer(0)),
+                  std::vector<Integer>(input_dim, Integer(0)), Integer(1)};
+  for (std::size_t k = 0; k < input_dim; ++k) post.linear[k * input_dim + k] = 1;
+  IntegerMap pre;
+  std::size_t first_neuron = 0;
+  for (const IntegerLayer& layer : layers) {
+    compose_integer(layer, post, pre);
+    maps.preactivation.push_back(to_rational_map(pre));
+    if (layer.is_relu) {
+      for (std::size_t r = 0; r < pre.rows; ++r) {
+        if (pattern.states[first_neuron + r] == NeuronState::on) continue;
+        for (std::size_t c = 0; c < pre.cols; ++c) pre.linear[r * pre.cols + c] = 0;
+        pre.offset[r] = 0;
+      }
+      first_neuron += layer.rows;
+    }
+    std::swap(post, pre);
+  }
+  maps.output = layers.back().is_relu ? to_rational_map(post) : maps.preactivation.back();
+  return maps;
+}
+
 }  // namespace
 
 std::string to_string(StopReason reason) {
@@ -75,12 +188,13 @@ std::string to_string(StopReason reason) {
   return "";
 }
 
-std::optional<PatternCell> build_pattern_cell(const Network& network, const Domain& domain,
-                                              const ActivationPattern& pattern) {
-  if (pattern.states.size() != network.relu_neuron_count())
-    throw usage_error("build_pattern_cell: pattern has the wrong number of neurons");
+namespace {
+
+// build_pattern_cell given the pattern's maps (however they were computed).
+std::optional<PatternCell> cell_from_maps(const Network& network, const Domain& domain,
+                                          const ActivationPattern& pattern, PatternMaps maps) {
   PatternCell result;
-  result.maps = maps_on_pattern(network, pattern);
+  result.maps = std::move(maps);
   result.cell.dim = network.input_dim;
   for (std::size_t k = 0; k < relu_layers(network); ++k) {
     const AffineMap& pre = result.maps.preactivation[k];
@@ -115,6 +229,15 @@ std::optional<PatternCell> build_pattern_cell(const Network& network, const Doma
     result.constraint_domain_side.push_back(s);
   }
   return result;
+}
+
+}  // namespace
+
+std::optional<PatternCell> build_pattern_cell(const Network& network, const Domain& domain,
+                                              const ActivationPattern& pattern) {
+  if (pattern.states.size() != network.relu_neuron_count())
+    throw usage_error("build_pattern_cell: pattern has the wrong number of neurons");
+  return cell_from_maps(network, domain, pattern, maps_on_pattern(network, pattern));
 }
 
 std::optional<ActivationPattern> region_pattern_at(const Network& network, const RationalVector& point) {
@@ -240,12 +363,16 @@ struct Processed {
 
 class RegionProcessor {
  public:
-  RegionProcessor(const Network& network, const Domain& domain, bool keep_certificates)
-      : network_(network), domain_(domain), keep_certificates_(keep_certificates) {}
+  RegionProcessor(const Network& network, const Domain& domain, bool keep_certificates, bool exact_only = false)
+      : network_(network),
+        domain_(domain),
+        keep_certificates_(keep_certificates),
+        layers_(integer_layers(network)),
+        oracle_(lp::FilterTolerances{.exact_only = exact_only}) {}
 
   Processed process(const ActivationPattern& pattern) {
     Processed result;
-    auto cell = build_pattern_cell(network_, domain_, pattern);
+    auto cell = build_cell(pattern);
     if (!cell) return result;
     auto centre = oracle_.find_centre(cell->cell, Rational(1));
     auto* interior = std::get_if<lp::InteriorPoint>(&centre);
@@ -328,7 +455,7 @@ class RegionProcessor {
                                                const RationalVector& q) {
     std::vector<ActivationPattern> kept;
     for (const auto& candidate : candidates) {
-      auto cell = build_pattern_cell(network_, domain_, candidate);
+      auto cell = build_cell(candidate);
       if (!cell) continue;
       lp::Polyhedron cone = tangent_cone_at(cell->cell, q);
       if (cone.constraints.empty() ||
@@ -338,9 +465,18 @@ class RegionProcessor {
     return kept;
   }
 
+  // build_pattern_cell, with the maps computed fraction-free.
+  std::optional<PatternCell> build_cell(const ActivationPattern& pattern) const {
+    if (pattern.states.size() != network_.relu_neuron_count())
+      throw usage_error("build_pattern_cell: pattern has the wrong number of neurons");
+    return cell_from_maps(network_, domain_, pattern,
+                          maps_on_pattern_fraction_free(layers_, network_.input_dim, pattern));
+  }
+
   const Network& network_;
   const Domain& domain_;
   bool keep_certificates_;
+  std::vector<IntegerLayer> layers_;
   lp::Oracle oracle_;
 };
 
@@ -398,7 +534,8 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
 
   std::vector<std::unique_ptr<RegionProcessor>> processors;
   for (unsigned t = 0; t < threads; ++t)
-    processors.push_back(std::make_unique<RegionProcessor>(network, domain, options.keep_certificates));
+    processors.push_back(
+        std::make_unique<RegionProcessor>(network, domain, options.keep_certificates, options.exact_only));
 
   WalkSummary summary;
   std::unordered_set<ActivationPattern, PatternHash> seen;

@@ -80,6 +80,9 @@ struct WalkOptions {
   std::size_t max_regions = 0;              // 0: no cap
   double time_limit_seconds = 0;            // 0: none
   bool keep_certificates = false;
+  // Every LP query answered by the exact solver, no double proposal (tests
+  // compare it with the default walk; same regions and facets, slower).
+  bool exact_only = false;
   const std::atomic<bool>* interrupt = nullptr;  // set from a signal handler to stop cleanly
   // Called for each region in output order; return false to stop the walk
   // (StopReason::requested, e.g. a rank that met its bound).

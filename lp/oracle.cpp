@@ -14,7 +14,9 @@
 #include "lp/detail/working_rows.hpp"
 
 #include <algorithm>
+#include <array>
 #include <cmath>
+#include <limits>
 #include <optional>
 #include <stdexcept>
 
@@ -226,6 +228,28 @@ std::optional<NonFacetCertificate> redundancy_on_support(const Polyhedron& cell,
     offset_sum += (*y)[s] * cell.constraints[support[s]].offset;
   }
   if (offset_sum > rep.offset) return std::nullopt;
+  return certificate;
+}
+
+// The redundancy certificate of redundancy_on_support for a support of two
+// constraints in the plane, by Cramer's rule (no matrix, few temporaries):
+// a_j = y1 a_s1 + y2 a_s2, y >= 0, y1 c_s1 + y2 c_s2 <= c_j.
+std::optional<NonFacetCertificate> redundancy_in_plane(const Polyhedron& cell, std::size_t j, std::size_t s1,
+                                                       std::size_t s2) {
+  const RationalVector& a = cell.constraints[s1].normal;
+  const RationalVector& b = cell.constraints[s2].normal;
+  const RationalVector& target = cell.constraints[j].normal;
+  Rational determinant = a[0] * b[1] - a[1] * b[0];
+  if (sgn(determinant) == 0) return std::nullopt;
+  Rational y1 = (target[0] * b[1] - target[1] * b[0]) / determinant;
+  if (sgn(y1) < 0) return std::nullopt;
+  Rational y2 = (a[0] * target[1] - a[1] * target[0]) / determinant;
+  if (sgn(y2) < 0) return std::nullopt;
+  if (y1 * cell.constraints[s1].offset + y2 * cell.constraints[s2].offset > cell.constraints[j].offset)
+    return std::nullopt;
+  NonFacetCertificate certificate{Rational(-1), RationalVector(cell.constraints.size())};
+  certificate.multipliers[s1] = std::move(y1);
+  certificate.multipliers[s2] = std::move(y2);
   return certificate;
 }
 
@@ -453,8 +477,8 @@ std::optional<CellVerdict> decide_open_cell_filtered(const Polyhedron& cell, con
   return std::nullopt;
 }
 
-CellVerdict decide_open_cell_counted(const Polyhedron& cell, const Rational& cap, double positive_slack,
-                                     QueryCounts& counts) {
+CellVerdict decide_open_cell_counted(const Polyhedron& cell, const Rational& cap,
+                                     const FilterTolerances& tolerances, QueryCounts& counts) {
   ++counts.lp_queries;
   if (cell.constraints.empty()) {
     ++counts.filter_settled;
@@ -462,8 +486,9 @@ CellVerdict decide_open_cell_counted(const Polyhedron& cell, const Rational& cap
   }
   const DoubleRows rows = detail::to_double_rows(cell);
   const double cap_double = std::min(cap.get_d(), 1e100);
-  if (rows.is_finite) {
-    if (std::optional<CellVerdict> verdict = decide_open_cell_filtered(cell, rows, cap_double, positive_slack)) {
+  if (rows.is_finite && !tolerances.exact_only) {
+    if (std::optional<CellVerdict> verdict =
+            decide_open_cell_filtered(cell, rows, cap_double, tolerances.positive_slack)) {
       ++counts.filter_settled;
       return *verdict;
     }
@@ -626,6 +651,133 @@ class FacetFilter {
   WorkingRows screen_;
   std::optional<WorkingRows> hyperplane_;
 };
+
+// ---- the 2-D path: the cell clipped as a polygon in double -----------------------
+
+// What the polygon proposes for one constraint: a facet (the midpoint of its
+// edge) or not (the two constraints whose lines meet at the polygon's vertex
+// nearest its line). Proposals only; each is certified exactly or dropped.
+struct PolygonProposal {
+  enum class Kind { none, facet, non_facet } kind = Kind::none;
+  std::array<double, 2> point{};            // facet: the edge's midpoint
+  double margin = 0.0;                      // facet: the other constraints' least double slack there
+  std::array<std::size_t, 2> support{};     // non-facet: the lines through the nearest vertex
+};
+
+// Clips a large box around the interior point by every constraint (rows scaled
+// to 1-norm 1, so a slack is within a factor 2 of the max-norm distance to the
+// line) and reads off, per constraint, an edge or the nearest vertex. A
+// constraint whose only edge is shorter than kShortEdge, or lies beyond the box,
+// gets a proposal the exact step rejects, and the general filter decides it.
+std::vector<PolygonProposal> polygon_proposals(const DoubleRows& rows, const RationalVector& interior) {
+  constexpr std::size_t box = static_cast<std::size_t>(-1);  // label of the box's own edges
+  constexpr double kShortEdge = 1e-9;
+  const std::size_t m = rows.count;
+  const std::array<double, 2> centre{interior[0].get_d(), interior[1].get_d()};
+  // The slack of constraint i at centre + u, for u relative to the interior point.
+  std::vector<double> slack_at_centre(m);
+  double radius = 1.0;
+  for (std::size_t i = 0; i < m; ++i) {
+    slack_at_centre[i] = rows.offsets[i] + rows.normal(i)[0] * centre[0] + rows.normal(i)[1] * centre[1];
+    radius = std::max(radius, 4.0 * slack_at_centre[i]);
+  }
+  radius = std::min(radius * 64.0, 1e12);
+  const auto slack = [&](std::size_t i, const std::array<double, 2>& u) {
+    return slack_at_centre[i] + rows.normal(i)[0] * u[0] + rows.normal(i)[1] * u[1];
+  };
+  struct Corner {
+    std::array<double, 2> u;
+    std::size_t edge;  // the constraint whose line the edge from this corner to the next lies on
+  };
+  std::vector<Corner> polygon{{{-radius, -radius}, box}, {{radius, -radius}, box},
+                              {{radius, radius}, box},   {{-radius, radius}, box}};
+  std::vector<Corner> clipped;
+  std::vector<double> values;
+  for (std::size_t i = 0; i < m && !polygon.empty(); ++i) {
+    values.resize(polygon.size());
+    for (std::size_t k = 0; k < polygon.size(); ++k) values[k] = slack(i, polygon[k].u);
+    clipped.clear();
+    for (std::size_t k = 0; k < polygon.size(); ++k) {
+      const std::size_t next = (k + 1) % polygon.size();
+      const double a = values[k];
+      const double b = values[next];
+      const auto crossing = [&] {
+        const double t = a / (a - b);
+        return std::array<double, 2>{polygon[k].u[0] + t * (polygon[next].u[0] - polygon[k].u[0]),
+                                     polygon[k].u[1] + t * (polygon[next].u[1] - polygon[k].u[1])};
+      };
+      if (a >= 0) {
+        clipped.push_back(polygon[k]);
+        if (b < 0) clipped.push_back(Corner{crossing(), i});  // leaves: the edge runs along line i
+      } else if (b >= 0) {
+        clipped.push_back(Corner{crossing(), polygon[k].edge});  // re-enters on the old edge
+      }
+    }
+    polygon.swap(clipped);
+  }
+  std::vector<PolygonProposal> proposals(m);
+  if (polygon.size() < 3) return proposals;
+  for (std::size_t k = 0; k < polygon.size(); ++k) {
+    const Corner& from = polygon[k];
+    const Corner& to = polygon[(k + 1) % polygon.size()];
+    if (from.edge == box) continue;
+    const double length = std::max(std::fabs(to.u[0] - from.u[0]), std::fabs(to.u[1] - from.u[1]));
+    if (!(length > kShortEdge)) continue;
+    PolygonProposal& proposal = proposals[from.edge];
+    const std::array<double, 2> middle{(from.u[0] + to.u[0]) / 2, (from.u[1] + to.u[1]) / 2};
+    double margin = std::numeric_limits<double>::infinity();
+    for (std::size_t i = 0; i < m; ++i)
+      if (i != from.edge) margin = std::min(margin, slack(i, middle));
+    if (proposal.kind == PolygonProposal::Kind::facet && proposal.margin >= margin) continue;
+    proposal.kind = PolygonProposal::Kind::facet;
+    proposal.point = {centre[0] + middle[0], centre[1] + middle[1]};
+    proposal.margin = margin;
+  }
+  for (std::size_t j = 0; j < m; ++j) {
+    if (proposals[j].kind == PolygonProposal::Kind::facet) continue;
+    std::size_t nearest = 0;
+    double least = std::numeric_limits<double>::infinity();
+    for (std::size_t k = 0; k < polygon.size(); ++k) {
+      const double value = slack(j, polygon[k].u);
+      if (value < least) {
+        least = value;
+        nearest = k;
+      }
+    }
+    const std::size_t before = polygon[(nearest + polygon.size() - 1) % polygon.size()].edge;
+    const std::size_t after = polygon[nearest].edge;
+    if (before == box || after == box || before == after || before == j || after == j) continue;
+    proposals[j].kind = PolygonProposal::Kind::non_facet;
+    proposals[j].support = {std::min(before, after), std::max(before, after)};
+  }
+  return proposals;
+}
+
+// The exact certificate of one polygon proposal, or nullopt when it fails.
+std::optional<FacetVerdict> certify_polygon_proposal(const Polyhedron& cell, std::size_t j,
+                                                     const PolygonProposal& proposal) {
+  if (proposal.kind == PolygonProposal::Kind::non_facet) {
+    if (std::optional<NonFacetCertificate> certificate =
+            redundancy_in_plane(cell, j, proposal.support[0], proposal.support[1]))
+      return FacetVerdict{std::move(*certificate)};
+    return std::nullopt;
+  }
+  if (proposal.kind != PolygonProposal::Kind::facet || !(proposal.margin > 0)) return std::nullopt;
+  // Rounding by r in max-norm and solving line j for its largest-|a_jk|
+  // coordinate (|â_jk| >= 1/2) moves the point by <= 2r; the other scaled
+  // slacks stay above margin - 4r.
+  if (!std::isfinite(proposal.point[0]) || !std::isfinite(proposal.point[1])) return std::nullopt;
+  // A lone constraint has no other slack to keep: any margin will do.
+  const double margin = std::min(proposal.margin, 1.0);
+  const Constraint& rep = cell.constraints[j];
+  const std::size_t solved = largest_entry(rep.normal);
+  const std::vector<double> point{proposal.point[0], proposal.point[1]};
+  for (double shrink : {1.0 / 16.0, 1.0 / 1024.0, 0.0}) {
+    RationalVector candidate = project_onto(rep, round_point(point, margin * shrink), solved);
+    if (is_facet_point(cell, {j}, candidate)) return FacetVerdict{FacetPoint{std::move(candidate)}};
+  }
+  return std::nullopt;
+}
 
 // Recession direction from LP3's optimal basis: the active rows (a_i . d = 0)
 // and the columns at a bound (d_k = +-1) determine d; solve exactly.
@@ -801,8 +953,8 @@ CellVerdict Oracle::find_centre(const Polyhedron& cell, const Rational& radius_c
   if (sgn(radius_cap) <= 0) throw usage_error("find_centre: radius_cap must be > 0");
   const Representatives reduced = reduce_to_representatives(cell);
   if (!reduced.has_duplicates)
-    return decide_open_cell_counted(cell, radius_cap, state_->tolerances.positive_slack, state_->counts);
-  return expand(decide_open_cell_counted(reduced.cell, radius_cap, state_->tolerances.positive_slack, state_->counts),
+    return decide_open_cell_counted(cell, radius_cap, state_->tolerances, state_->counts);
+  return expand(decide_open_cell_counted(reduced.cell, radius_cap, state_->tolerances, state_->counts),
                 reduced, cell.constraints.size());
 }
 
@@ -817,20 +969,29 @@ FacetClassification Oracle::classify_facets(const Polyhedron& cell, const Interi
   // stated for the whole class.
   const Representatives reduced = reduce_to_representatives(cell);
   const DoubleRows rows = detail::to_double_rows(reduced.cell);
+  const bool use_filter = rows.is_finite && !state_->tolerances.exact_only;
+  // In the plane the clipped polygon proposes every verdict at once; the LP
+  // filter (built only when needed) takes what the polygon's proposals leave.
+  std::vector<PolygonProposal> proposals;
+  if (use_filter && cell.dim == 2) proposals = polygon_proposals(rows, interior.point);
   std::optional<FacetFilter> filter;
-  if (rows.is_finite) filter.emplace(reduced.cell, rows, interior.point, state_->tolerances.positive_slack);
+  classification.groups.reserve(reduced.classes.size());
   for (std::size_t r = 0; r < reduced.classes.size(); ++r) {
     ++state_->counts.lp_queries;
     const std::vector<std::size_t> single{r};
     std::optional<FacetVerdict> verdict;
-    if (filter) verdict = filter->classify(single);
+    if (!proposals.empty()) verdict = certify_polygon_proposal(reduced.cell, r, proposals[r]);
+    if (!verdict && use_filter) {
+      if (!filter) filter.emplace(reduced.cell, rows, interior.point, state_->tolerances.positive_slack);
+      verdict = filter->classify(single);
+    }
     if (verdict) {
       ++state_->counts.filter_settled;
     } else {
       ++state_->counts.exact_fallbacks;
       verdict = classify_group_exactly(reduced.cell, single);
     }
-    if (auto* proof = std::get_if<NonFacetCertificate>(&*verdict))
+    if (auto* proof = std::get_if<NonFacetCertificate>(&*verdict); proof && reduced.has_duplicates)
       proof->multipliers = expand_multipliers(proof->multipliers, reduced, cell.constraints.size());
     classification.groups.push_back(FacetGroup{reduced.classes[r], std::move(*verdict)});
   }
@@ -859,11 +1020,13 @@ BoundednessVerdict Oracle::decide_boundedness_of_distinct_rows(const Polyhedron&
     direction[0] = 1;
     return RecessionDirection{std::move(direction)};
   }
-  const DoubleRows rows = detail::to_double_rows(cell);
-  if (std::optional<BoundednessVerdict> verdict =
-          decide_boundedness_filtered(cell, rows, state_->tolerances.positive_slack)) {
-    ++state_->counts.filter_settled;
-    return *verdict;
+  if (!state_->tolerances.exact_only) {
+    const DoubleRows rows = detail::to_double_rows(cell);
+    if (std::optional<BoundednessVerdict> verdict =
+            decide_boundedness_filtered(cell, rows, state_->tolerances.positive_slack)) {
+      ++state_->counts.filter_settled;
+      return *verdict;
+    }
   }
   ++state_->counts.exact_fallbacks;
   return decide_boundedness_exactly(cell);

@@ -20,6 +20,10 @@ namespace pleat::lp {
 // a proposal made with them is checked exactly.
 struct FilterTolerances {
   double positive_slack = 1e-9;  // a double LP value above this is "clearly > 0"
+  // Skip every double proposal and let the exact solver answer each query (for
+  // tests: the fast path must never be the only one tested). Same verdicts
+  // (facets, emptiness, boundedness); points and multipliers may differ.
+  bool exact_only = false;
 };
 
 // decide_open_cell, find_centre and decide_boundedness count one question

@@ -9,6 +9,7 @@ packages=(
   python3 python3-numpy python3-sympy python3-scipy python3-torch
   libonnx-dev libprotobuf-dev python3-onnx
   librsvg2-bin
+  libbenchmark-dev hyperfine  # tests/bench: walk micro-benchmarks and whole-walk timings
   time  # /usr/bin/time: peak memory of the readers in tests/cli/readers_test.sh
   clang libclang-rt-14-dev libfuzzer-14-dev
 )

@@ -1,0 +1,45 @@
+#!/usr/bin/env bash
+# Whole-walk speed (a benchmark, not a test): `pleat walk --threads 1` timed by
+# hyperfine (several runs), reported as microseconds per region, next to the
+# plain pure-Python exact walk (tests/bench/walk_python.py, one run capped at
+# PLEAT_BENCH_PYTHON_LIMIT seconds, default 60; its rate is that run's regions per
+# CPU second) on the same `pleat random` networks (seed 1). On a shared machine
+# CPU time (user + system, mean of the runs) is the fairer clock; the wall-clock
+# median is printed too.
+# Usage: tests/bench/walk_speed_bench.sh BUILD_DIR
+#   PLEAT_BENCH_FULL=1: the whole grid (2 inputs x widths 5/10/15, 3 inputs x
+#   widths 5/10, each with 3 and 4 hidden layers); default: five nets of it.
+#   PLEAT_BENCH_RUNS=N hyperfine runs per net (default 5).
+set -euo pipefail
+build=${1:-build}
+here=$(cd "$(dirname "$0")" && pwd)
+pleat=$(cd "$build" && pwd)/cli/pleat
+runs=${PLEAT_BENCH_RUNS:-5}
+python_limit=${PLEAT_BENCH_PYTHON_LIMIT:-60}
+if [ "${PLEAT_BENCH_FULL:-0}" = 1 ]; then
+  grid="2,5,5,5,1 2,5,5,5,5,1 2,10,10,10,1 2,10,10,10,10,1 2,15,15,15,1 2,15,15,15,15,1
+        3,5,5,5,1 3,5,5,5,5,1 3,10,10,10,1 3,10,10,10,10,1"
+else
+  grid="2,5,5,5,1 2,10,10,10,10,1 2,15,15,15,1 3,5,5,5,5,1 3,10,10,10,1"
+fi
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+printf '%-18s %8s %9s %9s %10s %14s %8s\n' arch regions "wall s" "cpu s" "cpu us/reg" "python us/reg" ratio
+for arch in $grid; do
+  net="$work/net.json"
+  "$pleat" random --arch "$arch" --seed 1 -o "$net"
+  regions=$("$pleat" walk "$net" --threads 1 --json --quiet |
+    /usr/bin/python3 -c 'import json,sys; print(json.load(sys.stdin)["regions"])')
+  hyperfine --style none --runs "$runs" --warmup 1 --export-json "$work/h.json" \
+    "$pleat walk $net --threads 1 --quiet" >/dev/null
+  python=$(/usr/bin/python3 "$here/walk_python.py" "$net" "$python_limit")
+  /usr/bin/python3 - "$arch" "$regions" "$work/h.json" "$python" <<'EOF'
+import json, sys
+arch, regions, timing, python = sys.argv[1], int(sys.argv[2]), json.load(open(sys.argv[3])), json.loads(sys.argv[4])
+result = timing["results"][0]
+cpu = result["user"] + result["system"]
+per = 1e6 * cpu / regions
+py = 1e6 * python["cpu_seconds"] / max(python["regions"], 1)
+print(f"{arch:<18} {regions:>8} {result['median']:>9.3f} {cpu:>9.3f} {per:>10.1f} {py:>14.0f} {py / per:>8.1f}")
+EOF
+done
