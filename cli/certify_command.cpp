@@ -13,6 +13,7 @@
 
 #include <fstream>
 #include <iostream>
+#include <algorithm>
 #include <optional>
 #include <set>
 #include <sstream>
@@ -81,11 +82,65 @@ ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank) 
 
 Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", verdict.verdict}, {"reason", verdict.reason}}; }
 
-std::string parameter_vector_text(const Network& network, const RationalVector& vector) {
+// Extra kernel directions grouped by (mechanism, neurons), in first-seen order.
+struct MechanismGroup {
+  std::string mechanism;  // "" when none was recognised
+  std::vector<std::size_t> neurons;
+  std::size_t directions = 0;
+};
+
+std::vector<MechanismGroup> mechanism_groups(const FunctionalDimensionResult& result) {
+  std::vector<MechanismGroup> groups;
+  for (const auto& direction : result.extra_kernel) {
+    auto same = [&](const MechanismGroup& g) { return g.mechanism == direction.mechanism && g.neurons == direction.neurons; };
+    auto found = std::find_if(groups.begin(), groups.end(), same);
+    if (found == groups.end()) found = groups.insert(groups.end(), {direction.mechanism, direction.neurons, 0});
+    ++found->directions;
+  }
+  return groups;
+}
+
+// "dead neuron 5: 5 directions", "zero outgoing weights of neuron 2: 2 directions"
+std::string mechanism_text(const MechanismGroup& group) {
+  std::string numbers;
+  for (std::size_t i = 0; i < group.neurons.size(); ++i) numbers += (i ? ", " : "") + std::to_string(group.neurons[i]);
+  const std::string neuron = group.neurons.size() > 1 ? "neurons " : "neuron ";
   std::string text;
-  for (std::size_t c = 0; c < vector.size(); ++c)
-    if (vector[c] != 0) text += (text.empty() ? "" : ", ") + network.parameter_name(c) + ": " + format_rational(vector[c]);
-  return text;
+  if (group.mechanism == "dead-neuron") text = "dead " + neuron + numbers;
+  else if (group.mechanism == "always-active-neuron") text = "always-active " + neuron + numbers;
+  else if (group.mechanism == "zero-outgoing-weights") text = "zero outgoing weights of " + neuron + numbers;
+  else if (group.mechanism == "duplicate-neurons") text = "duplicate neurons " + numbers;
+  else if (group.mechanism.empty()) text = "no recognised mechanism";
+  else text = group.mechanism + (numbers.empty() ? "" : " (" + neuron + numbers + ")");
+  return text + ": " + std::to_string(group.directions) + (group.directions == 1 ? " direction" : " directions");
+}
+
+// When every smooth region's rows together are fewer than the scaling bound,
+// the rank cannot reach it whatever the parameters: a cause of its own.
+struct RegionLimit {
+  std::size_t smooth_regions = 0;
+  std::size_t rows_per_region = 0;
+};
+
+std::optional<RegionLimit> region_limit(const Network& network, const FunctionalDimensionResult& result) {
+  if (!result.walk_complete) return std::nullopt;
+  const RegionLimit limit{result.regions_walked - result.nonsmooth_regions.size(),
+                          network.output_dim() * (network.input_dim + 1)};
+  if (limit.smooth_regions * limit.rows_per_region >= result.scaling_bound) return std::nullopt;
+  return limit;
+}
+
+Json mechanism_summary_json(const Network& network, const FunctionalDimensionResult& result) {
+  Json summary = Json::array();
+  for (const auto& group : mechanism_groups(result))
+    summary.push_back({{"mechanism", group.mechanism.empty() ? Json(nullptr) : Json(group.mechanism)},
+                       {"neurons", group.neurons},
+                       {"directions", group.directions}});
+  if (const auto limit = region_limit(network, result))
+    summary.push_back({{"mechanism", "too-few-regions"},
+                       {"regions", limit->smooth_regions},
+                       {"rows_per_region", limit->rows_per_region}});
+  return summary;
 }
 
 Json result_to_json(const Network& network, const Domain& domain, const FunctionalDimensionResult& result) {
@@ -117,6 +172,7 @@ Json result_to_json(const Network& network, const Domain& domain, const Function
   out["stop_reason"] = result.stop_reason == StopReason::none ? Json(nullptr) : Json(to_string(result.stop_reason));
   out["nonsmooth_regions"] = std::move(nonsmooth);
   out["extra_kernel"] = std::move(extra);
+  out["extra_kernel_summary"] = mechanism_summary_json(network, result);
   out["seconds"] = result.seconds;
   return out;
 }
@@ -129,7 +185,7 @@ void print_result(const Network& network, const Domain& domain, const Functional
       << network.hidden_neuron_count() << " hidden neurons' scaling directions)\n";
   if (result.certified) {
     out << "functional dimension  " << *result.functional_dimension << "  certified\n";
-    if (result.early_stop)
+    if (result.early_stop || !result.walk_complete)  // upper bound from the scaling directions alone
       out << "                      lower bound: rows of " << result.regions_contributing
           << " regions have a nonsingular minor (mod p);\n"
              "                      upper bound: the scaling directions, an exact kernel\n";
@@ -159,16 +215,14 @@ void print_result(const Network& network, const Domain& domain, const Functional
     }
   }
   if (!result.extra_kernel.empty()) {
-    out << "extra flat directions " << result.extra_kernel.size() << " beyond the scaling ones:\n";
-    for (const auto& direction : result.extra_kernel) {
-      out << "  " << (direction.mechanism.empty() ? "no recognised mechanism" : direction.mechanism);
-      if (!direction.neurons.empty()) {
-        out << " (neuron";
-        for (std::size_t n : direction.neurons) out << " " << n;
-        out << ")";
-      }
-      out << ": " << parameter_vector_text(network, direction.vector) << "\n";
-    }
+    out << "extra flat directions " << result.extra_kernel.size()
+        << " beyond the scaling ones, by mechanism (every direction: --kernel-out or --json):\n";
+    for (const auto& group : mechanism_groups(result)) out << "  " << mechanism_text(group) << "\n";
+    if (const auto limit = region_limit(network, result))
+      out << "  rank limited by the number of regions: " << limit->smooth_regions << " smooth regions x "
+          << limit->rows_per_region << " rows per region = " << limit->smooth_regions * limit->rows_per_region
+          << " < scaling bound " << result.scaling_bound << " (so at least "
+          << result.scaling_bound - limit->smooth_regions * limit->rows_per_region << " below it)\n";
   }
 }
 

@@ -6,6 +6,7 @@
 
 #include <cerrno>
 #include <charconv>
+#include <cstdio>
 #include <cstring>
 #include <fstream>
 #include <iostream>
@@ -117,6 +118,13 @@ std::string format_rational_list(const RationalVector& values) {
     text += "\"" + format_rational(values[i]) + "\"";
   }
   return text + "]";
+}
+
+std::string format_rational_readable(const Rational& value) {
+  if (value.get_den() == 1) return format_rational(value);
+  char decimal[32];
+  std::snprintf(decimal, sizeof decimal, "%.6g", to_double(value));
+  return format_rational(value) + " (\u2248 " + decimal + ")";
 }
 
 std::string format_double(double value) {

@@ -229,12 +229,13 @@ void colour_regions(const Network& network, const std::vector<const Region*>& re
     figure.colours.assign(index_of.size(), "");
     for (const auto& [c, index] : index_of) figure.colours[index] = c;
     figure.legend_title = network.output_dim() > 1 ? "|grad F_1|" : "|grad F|";
+    // Plain decimals (never "1.2e+03"), three significant digits of the span.
+    const double magnitude = std::floor(std::log10(std::max(std::abs(high - low), std::abs(high)) + 1e-300));
+    const int decimals = std::clamp(2 - static_cast<int>(magnitude), 0, 12);
     for (int step = 0; step <= 4; ++step) {
       figure.colours.push_back(sequential_colour(step / 4.0));
-      std::ostringstream text;
-      text.precision(3);
-      text << low + (high - low) * step / 4.0;
-      figure.swatches.push_back(FigureSwatch{figure.colours.size() - 1, text.str()});
+      figure.swatches.push_back(
+          FigureSwatch{figure.colours.size() - 1, fixed_point_text(low + (high - low) * step / 4.0, decimals)});
     }
   } else {  // rank
     const std::size_t most = network.output_dim() * (network.input_dim + 1);
@@ -246,7 +247,7 @@ void colour_regions(const Network& network, const std::vector<const Region*>& re
     figure.legend_title = "Rank contribution";
     for (const auto& [r, k] : count)
       figure.swatches.push_back(
-          FigureSwatch{r, std::to_string(r) + " row" + (r == 1 ? "" : "s") + ": " + std::to_string(k) + " regions"});
+          FigureSwatch{r, std::to_string(r) + " row" + (r == 1 ? "" : "s") + ": " + std::to_string(k) + (k == 1 ? " region" : " regions")});
   }
   for (auto& polygon : figure.polygons) polygon.colour = colour[polygon.region];
 }

@@ -59,17 +59,23 @@ std::string figure_svg(const Figure& figure);
 // package or TikZ library needed).
 std::string figure_tikz(const Figure& figure);
 
-// Our palettes. Categorical: six colours whose CIE L* lightness differs by at
-// least 6 between any two (so they stay apart in greyscale and for
-// colour-blind readers). Sequential: lightness falls monotonically with t.
+// Our palettes, derived in OKLCh by the rules in docs/figure-style.md.
+// Categorical: six colours on a lightness ladder (CIE L* at least 6 apart, so
+// they stay apart in greyscale and for colour-blind readers), hues a golden
+// angle apart. Sequential: lightness falls monotonically with t.
 const std::vector<std::string>& categorical_palette();
 std::string sequential_colour(double t);  // t in [0, 1]
+std::string bar_colour();                 // the survey histogram's bars
 
 // Tick positions at 1, 2 or 5 times a power of ten, 4 to 8 of them in [lo, hi].
 std::vector<double> nice_ticks(double lo, double hi);
 
-// The shortest text that reads back as the value, for ticks ("0.5", "-2").
+// The shortest plain decimal that reads back as the value, for ticks ("0.5",
+// "-2", "800"; never exponent notation).
 std::string tick_text(double value);
+
+// Text for SVG/XML content and attributes (&, <, >, " escaped).
+std::string escape_xml(const std::string& text);
 
 // value with `decimals` digits after the point, trailing zeros and a bare
 // point dropped, "-0" written "0": coordinates in SVG and TikZ output.

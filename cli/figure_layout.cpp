@@ -5,35 +5,72 @@
 #include <array>
 #include <cmath>
 #include <cstdio>
+#include <cstdlib>
+#include <string>
 
 namespace pleat::cli {
 
+namespace {
+
+// OKLab (L, a, b) to an sRGB hex string. Matrices: B. Ottosson, "A perceptual
+// colour space for image processing" (2020), the published OKLab definition.
+// Out-of-gamut colours lose chroma (hue and lightness kept) until they fit.
+bool oklab_to_srgb(double L, double a, double b, int channel[3]) {
+  const double l_ = L + 0.3963377774 * a + 0.2158037573 * b;
+  const double m_ = L - 0.1055613458 * a - 0.0638541728 * b;
+  const double s_ = L - 0.0894841775 * a - 1.2914855480 * b;
+  const double l = l_ * l_ * l_, m = m_ * m_ * m_, s = s_ * s_ * s_;
+  const double linear[3] = {4.0767416621 * l - 3.3077115913 * m + 0.2309699292 * s,
+                            -1.2684380046 * l + 2.6097574011 * m - 0.3413193965 * s,
+                            -0.0041960863 * l - 0.7034186147 * m + 1.7076147010 * s};
+  for (int c = 0; c < 3; ++c) {
+    if (linear[c] < -1e-4 || linear[c] > 1 + 1e-4) return false;
+    const double v = std::clamp(linear[c], 0.0, 1.0);
+    const double encoded = v <= 0.0031308 ? 12.92 * v : 1.055 * std::pow(v, 1 / 2.4) - 0.055;
+    channel[c] = static_cast<int>(std::lround(255 * encoded));
+  }
+  return true;
+}
+
+// A colour given by OKLCh: lightness L in [0, 1], chroma, hue in degrees.
+std::string oklch_colour(double L, double chroma, double hue_degrees) {
+  const double hue = hue_degrees * 3.14159265358979323846 / 180;
+  int channel[3] = {0, 0, 0};
+  for (double c = chroma; c >= 0; c -= 0.005)
+    if (oklab_to_srgb(L, c * std::cos(hue), c * std::sin(hue), channel)) break;
+  char text[8];
+  std::snprintf(text, sizeof text, "#%02x%02x%02x", channel[0], channel[1], channel[2]);
+  return text;
+}
+
+}  // namespace
+
 const std::vector<std::string>& categorical_palette() {
-  // Our own: cream, sky, apricot, teal, lilac, slate. Light enough that black
-  // lines and labels read on all of them; CIE L* about 95, 87, 77, 69, 61, 54
-  // (at least 7 apart, checked by tests/reference/draw_plane_test.py), warm
-  // and cool hues alternating, so greyscale prints and colour-blind readers
-  // still tell neighbours apart by lightness.
-  static const std::vector<std::string> palette{"#fdf0c2", "#b9e0f0", "#f0b07c", "#74b5aa", "#b085bd", "#5f82b8"};
+  // The rule (docs/figure-style.md): colour k of six has OKLab lightness
+  // 0.96 - 0.065 k and hue 290 + 137.5 k degrees (the golden angle, so
+  // consecutive colours sit far apart on the hue circle), chroma 0.06. The
+  // lightness ladder alone separates every pair (CIE L* at least 6 apart,
+  // checked by tests/reference/draw_plane_test.py), so greyscale prints and
+  // readers with a colour-vision deficiency, who keep lightness, still tell
+  // neighbours apart; hue is a second, redundant cue.
+  static const std::vector<std::string> palette = [] {
+    std::vector<std::string> colours;
+    for (int k = 0; k < 6; ++k) colours.push_back(oklch_colour(0.96 - 0.065 * k, 0.06, 290 + 137.5 * k));
+    return colours;
+  }();
   return palette;
 }
 
 std::string sequential_colour(double t) {
-  // Cream to plum, CIE L* about 96, 85, 70, 54, 39: dark enough to read, light
-  // enough that black lines stay visible on every step.
-  static constexpr std::array<std::array<double, 3>, 5> stops{
-      {{0xff, 0xf3, 0xd1}, {0xf6, 0xcf, 0x7e}, {0xe5, 0x9c, 0x55}, {0xc0, 0x68, 0x4f}, {0x8a, 0x46, 0x60}}};
+  // One ramp in OKLCh: lightness falls linearly (0.97 to 0.55, so black lines
+  // stay visible on the darkest step), chroma grows, hue turns from straw
+  // (100 degrees) to plum (340): order reads from lightness alone.
   t = std::clamp(std::isfinite(t) ? t : 0.0, 0.0, 1.0);
-  const double position = t * (stops.size() - 1);
-  const std::size_t low = std::min<std::size_t>(static_cast<std::size_t>(position), stops.size() - 2);
-  const double fraction = position - static_cast<double>(low);
-  char text[8];
-  int channel[3];
-  for (int c = 0; c < 3; ++c)
-    channel[c] = static_cast<int>(std::lround(stops[low][c] + fraction * (stops[low + 1][c] - stops[low][c])));
-  std::snprintf(text, sizeof text, "#%02x%02x%02x", channel[0], channel[1], channel[2]);
-  return text;
+  return oklch_colour(0.97 - 0.42 * t, 0.03 + 0.09 * t, 100 + 240 * t);
 }
+
+// The darkest categorical step: bars of the survey histogram.
+std::string bar_colour() { return oklch_colour(0.52, 0.08, 250); }
 
 std::vector<double> nice_ticks(double lo, double hi) {
   std::vector<double> ticks;
@@ -53,20 +90,36 @@ std::vector<double> nice_ticks(double lo, double hi) {
 }
 
 std::string tick_text(double value) {
-  char text[32];
-  for (int digits = 1; digits <= 17; ++digits) {
-    std::snprintf(text, sizeof text, "%.*g", digits, value);
-    if (std::abs(std::strtod(text, nullptr) - value) <= 1e-9 * std::max(1.0, std::abs(value))) break;
+  // Plain decimals, never exponent notation ("800", "0.05", "-2.5"): the
+  // fewest digits after the point that read back as the value.
+  for (int decimals = 0; decimals <= 12; ++decimals) {
+    const std::string text = fixed_point_text(value, decimals);
+    if (std::abs(std::strtod(text.c_str(), nullptr) - value) <= 1e-9 * std::max(1.0, std::abs(value))) return text;
   }
-  return text;
+  return fixed_point_text(value, 12);
+}
+
+std::string escape_xml(const std::string& text) {
+  std::string out;
+  for (char c : text) {
+    if (c == '<') out += "&lt;";
+    else if (c == '>') out += "&gt;";
+    else if (c == '&') out += "&amp;";
+    else if (c == '"') out += "&quot;";
+    else out += c;
+  }
+  return out;
 }
 
 std::string fixed_point_text(double value, int decimals) {
   char text[48];
   std::snprintf(text, sizeof text, "%.*f", decimals, value);
   std::string out = text;
-  while (!out.empty() && out.back() == '0') out.pop_back();
-  if (!out.empty() && out.back() == '.') out.pop_back();
+  // Trailing zeros only after a decimal point ("10" stays "10").
+  if (out.find('.') != std::string::npos) {
+    while (out.back() == '0') out.pop_back();
+    if (out.back() == '.') out.pop_back();
+  }
   return out == "-0" ? "0" : out;
 }
 

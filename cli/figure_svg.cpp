@@ -1,4 +1,5 @@
-// The SVG writer: a plot area in data coordinates, axes, a legend on the right.
+// The SVG writer: a plot area in data coordinates, detached range-frame axes,
+// a key on the right. The look is specified in docs/figure-style.md.
 #include "cli/figure.hpp"
 
 #include <algorithm>
@@ -9,22 +10,21 @@
 namespace pleat::cli {
 namespace {
 
-constexpr double left_margin = 52, top_margin = 14, bottom_margin = 44, legend_gap = 22, legend_width = 190;
-constexpr double plot_width = 420;
+// The axes sit axis_offset px away from the plot area (no closed frame): the
+// regions' own edges bound the picture. Tick labels are sized by estimate.
+constexpr double top_margin = 30, bottom_margin = 48, legend_gap = 26, legend_width = 190;
+constexpr double plot_width = 420, axis_offset = 7, tick_length = 4, digit_width = 6.4;
+constexpr const char* ink = "#1f1d2b";   // near-black with a blue cast: lines, text
+constexpr const char* quiet = "#5c5a66";  // notes and tick labels
+
+// Left margin: room for the widest y tick label, its gap and the axis.
+double left_margin_for(const Figure& f) {
+  std::size_t widest = 1;
+  for (double t : nice_ticks(f.y_min, f.y_max)) widest = std::max(widest, tick_text(t).size());
+  return std::max(34.0, axis_offset + tick_length + 6 + digit_width * static_cast<double>(widest) + 8);
+}
 
 std::string number(double value) { return fixed_point_text(value, 2); }
-
-std::string escape(const std::string& text) {
-  std::string out;
-  for (char c : text) {
-    if (c == '<') out += "&lt;";
-    else if (c == '>') out += "&gt;";
-    else if (c == '&') out += "&amp;";
-    else if (c == '"') out += "&quot;";
-    else out += c;
-  }
-  return out;
-}
 
 // "x2" -> x with a subscript 2, in italics.
 std::string axis_label(const std::string& label) {
@@ -32,9 +32,9 @@ std::string axis_label(const std::string& label) {
   while (digits > 0 && std::isdigit(static_cast<unsigned char>(label[digits - 1]))) --digits;
   // Appends only: GCC 12 warns falsely (-Wrestrict) on "literal" + std::string.
   std::string out = "<tspan font-style=\"italic\">";
-  out.append(escape(label.substr(0, digits))).append("</tspan>");
+  out.append(escape_xml(label.substr(0, digits))).append("</tspan>");
   if (digits < label.size())
-    out.append("<tspan font-size=\"8\" dy=\"3\">").append(escape(label.substr(digits))).append("</tspan>");
+    out.append("<tspan font-size=\"8\" dy=\"3\">").append(escape_xml(label.substr(digits))).append("</tspan>");
   return out;
 }
 
@@ -43,23 +43,27 @@ struct LineStyle {
   const char* dashes;  // "" for solid
 };
 
+// Layer 1's hyperplanes are straight and cut the whole view: heaviest, solid.
+// Deeper layers bend on them and are drawn lighter: dashed, dotted, dash-dot.
 LineStyle line_style(std::size_t layer) {
-  static const LineStyle styles[] = {{1.5, ""}, {1.2, "5,2.5"}, {1.3, "0.5,2.6"}, {1.1, "7,2,1,2"}};
+  static const LineStyle styles[] = {{1.6, ""}, {1.15, "5,2.5"}, {1.3, "0.4,2.6"}, {1.0, "7,2,1,2"}};
   return styles[layer % 4];
 }
 
 class Layout {
  public:
-  explicit Layout(const Figure& f) : f_(f) {
+  explicit Layout(const Figure& f) : f_(f), left_(left_margin_for(f)) {
     const double ratio = (f.y_max - f.y_min) / (f.x_max - f.x_min);
     height_ = std::clamp(plot_width * ratio, 220.0, 560.0);
   }
-  double x(double value) const { return left_margin + (value - f_.x_min) / (f_.x_max - f_.x_min) * plot_width; }
+  double x(double value) const { return left_ + (value - f_.x_min) / (f_.x_max - f_.x_min) * plot_width; }
   double y(double value) const { return top_margin + (f_.y_max - value) / (f_.y_max - f_.y_min) * height_; }
   double height() const { return height_; }
+  double left() const { return left_; }
 
  private:
   const Figure& f_;
+  double left_;
   double height_;
 };
 
@@ -69,7 +73,7 @@ void write_regions(const Figure& figure, const Layout& layout, std::ostream& out
       << (figure.graph.empty() ? "" : " fill-opacity=\"0.45\" stroke-opacity=\"0.45\"") << ">\n";
   for (const auto& polygon : figure.polygons) {
     const std::string& colour = figure.colours[polygon.colour];
-    out << "<polygon id=\"region-" << polygon.region << "\" data-pattern=\"" << escape(polygon.pattern)
+    out << "<polygon id=\"region-" << polygon.region << "\" data-pattern=\"" << escape_xml(polygon.pattern)
         << "\" fill=\"" << colour << "\" stroke=\"" << colour << "\" points=\"";
     for (std::size_t i = 0; i < polygon.vertices.size(); ++i)
       out << (i ? " " : "") << number(layout.x(polygon.vertices[i].x)) << ","
@@ -80,7 +84,7 @@ void write_regions(const Figure& figure, const Layout& layout, std::ostream& out
 }
 
 void write_lines(const Figure& figure, const Layout& layout, std::ostream& out) {
-  out << "<g id=\"bent-hyperplanes\" clip-path=\"url(#plot-clip)\" fill=\"none\" stroke=\"#1a1a1a\" "
+  out << "<g id=\"bent-hyperplanes\" clip-path=\"url(#plot-clip)\" fill=\"none\" stroke=\"" << ink << "\" "
          "stroke-linecap=\"round\" stroke-linejoin=\"round\">\n";
   for (std::size_t layer = 0; layer < figure.layers; ++layer) {
     std::string path;
@@ -99,14 +103,14 @@ void write_lines(const Figure& figure, const Layout& layout, std::ostream& out) 
 
 void write_graph(const Figure& figure, const Layout& layout, std::ostream& out) {
   if (figure.graph.empty()) return;
-  out << "<g id=\"graph\" clip-path=\"url(#plot-clip)\">\n<polyline fill=\"none\" stroke=\"#1a1a1a\" "
+  out << "<g id=\"graph\" clip-path=\"url(#plot-clip)\">\n<polyline fill=\"none\" stroke=\"" << ink << "\" "
          "stroke-width=\"1.8\" stroke-linejoin=\"round\" points=\"";
   for (std::size_t i = 0; i < figure.graph.size(); ++i)
     out << (i ? " " : "") << number(layout.x(figure.graph[i].x)) << "," << number(layout.y(figure.graph[i].y));
   out << "\"/>\n";
   for (const auto& p : figure.breakpoints)
     out << "<circle class=\"breakpoint\" cx=\"" << number(layout.x(p.x)) << "\" cy=\"" << number(layout.y(p.y))
-        << "\" r=\"3\" fill=\"#ffffff\" stroke=\"#1a1a1a\" stroke-width=\"1.3\"/>\n";
+        << "\" r=\"3\" fill=\"#ffffff\" stroke=\"" << ink << "\" stroke-width=\"1.3\"/>\n";
   out << "</g>\n";
 }
 
@@ -115,58 +119,74 @@ void write_labels(const Figure& figure, const Layout& layout, std::ostream& out)
          "fill=\"#111111\" stroke=\"#ffffff\" stroke-width=\"2.2\" stroke-opacity=\"0.85\" paint-order=\"stroke\">\n";
   for (const auto& polygon : figure.polygons)
     out << "<text x=\"" << number(layout.x(polygon.label.x)) << "\" y=\"" << number(layout.y(polygon.label.y) + 2.5)
-        << "\">" << escape(polygon.pattern) << "</text>\n";
+        << "\">" << escape_xml(polygon.pattern) << "</text>\n";
   out << "</g>\n";
 }
 
+// Range frame: each axis is a line detached from the plot area, running from
+// the first to the last round tick, ticks pointing toward the data. The
+// y label sits horizontally above its axis and the x label under the tick
+// labels at the right end, so neither can meet a tick label.
 void write_axes(const Figure& figure, const Layout& layout, std::ostream& out) {
   const double bottom = top_margin + layout.height();
-  out << "<g id=\"axes\" stroke=\"#1a1a1a\" fill=\"#1a1a1a\">\n";
-  out << "<rect x=\"" << left_margin << "\" y=\"" << top_margin << "\" width=\"" << plot_width << "\" height=\""
-      << number(layout.height()) << "\" fill=\"none\" stroke-width=\"0.9\"/>\n";
-  for (double t : nice_ticks(figure.x_min, figure.x_max)) {
+  const double axis_y = bottom + axis_offset, axis_x = layout.left() - axis_offset;
+  const auto x_ticks = nice_ticks(figure.x_min, figure.x_max), y_ticks = nice_ticks(figure.y_min, figure.y_max);
+  out << "<g id=\"axes\" stroke=\"" << ink << "\" fill=\"" << quiet << "\" stroke-width=\"0.8\">\n";
+  if (!x_ticks.empty())
+    out << "<line x1=\"" << number(layout.x(x_ticks.front())) << "\" y1=\"" << number(axis_y) << "\" x2=\""
+        << number(layout.x(x_ticks.back())) << "\" y2=\"" << number(axis_y) << "\"/>\n";
+  for (double t : x_ticks) {
     const double px = layout.x(t);
-    out << "<line x1=\"" << number(px) << "\" y1=\"" << number(bottom) << "\" x2=\"" << number(px) << "\" y2=\""
-        << number(bottom + 4) << "\" stroke-width=\"0.9\"/>"
-        << "<text x=\"" << number(px) << "\" y=\"" << number(bottom + 15) << "\" stroke=\"none\" "
-        << "text-anchor=\"middle\">" << escape(tick_text(t)) << "</text>\n";
+    out << "<line x1=\"" << number(px) << "\" y1=\"" << number(axis_y) << "\" x2=\"" << number(px) << "\" y2=\""
+        << number(axis_y - tick_length) << "\"/>"
+        << "<text x=\"" << number(px) << "\" y=\"" << number(axis_y + 13) << "\" stroke=\"none\" "
+        << "text-anchor=\"middle\">" << escape_xml(tick_text(t)) << "</text>\n";
   }
-  for (double t : nice_ticks(figure.y_min, figure.y_max)) {
+  if (!y_ticks.empty())
+    out << "<line x1=\"" << number(axis_x) << "\" y1=\"" << number(layout.y(y_ticks.front())) << "\" x2=\""
+        << number(axis_x) << "\" y2=\"" << number(layout.y(y_ticks.back())) << "\"/>\n";
+  for (double t : y_ticks) {
     const double py = layout.y(t);
-    out << "<line x1=\"" << left_margin - 4 << "\" y1=\"" << number(py) << "\" x2=\"" << left_margin << "\" y2=\""
-        << number(py) << "\" stroke-width=\"0.9\"/>"
-        << "<text x=\"" << left_margin - 7 << "\" y=\"" << number(py + 3.5) << "\" stroke=\"none\" "
-        << "text-anchor=\"end\">" << escape(tick_text(t)) << "</text>\n";
+    out << "<line x1=\"" << number(axis_x) << "\" y1=\"" << number(py) << "\" x2=\"" << number(axis_x + tick_length)
+        << "\" y2=\"" << number(py) << "\"/>"
+        << "<text x=\"" << number(axis_x - 5) << "\" y=\"" << number(py + 3.5) << "\" stroke=\"none\" "
+        << "text-anchor=\"end\">" << escape_xml(tick_text(t)) << "</text>\n";
   }
-  out << "<text x=\"" << number(left_margin + plot_width / 2) << "\" y=\"" << number(bottom + 34)
-      << "\" stroke=\"none\" text-anchor=\"middle\" font-size=\"12\">" << axis_label(figure.x_label) << "</text>\n";
-  out << "<text transform=\"translate(14," << number(top_margin + layout.height() / 2)
-      << ") rotate(-90)\" stroke=\"none\" text-anchor=\"middle\" font-size=\"12\">" << axis_label(figure.y_label)
-      << "</text>\n";
+  out << "<text x=\"" << number(layout.left() + plot_width) << "\" y=\"" << number(axis_y + 32)
+      << "\" stroke=\"none\" fill=\"" << ink << "\" text-anchor=\"end\" font-size=\"12.5\">"
+      << axis_label(figure.x_label) << " \u2192</text>\n";
+  out << "<text x=\"" << number(axis_x) << "\" y=\"" << number(top_margin - 12) << "\" stroke=\"none\" fill=\"" << ink
+      << "\" text-anchor=\"middle\" font-size=\"12.5\">" << axis_label(figure.y_label) << " \u2191</text>\n";
   out << "</g>\n";
 }
 
-void write_legend(const Figure& figure, std::ostream& out) {
-  const double x0 = left_margin + plot_width + legend_gap;
+// The key: headings in italic small text over a hairline, swatches as
+// squares (a region is an area), line samples as long as a tick row.
+void write_legend(const Figure& figure, const Layout& layout, std::ostream& out) {
+  const double x0 = layout.left() + plot_width + legend_gap;
   double y = top_margin + 10;
-  out << "<g id=\"legend\" fill=\"#1a1a1a\">\n";
-  out << "<text x=\"" << x0 << "\" y=\"" << y << "\" font-weight=\"bold\">" << escape(figure.legend_title)
-      << "</text>\n";
-  y += 8;
+  auto heading = [&](const std::string& text) {
+    out << "<text x=\"" << x0 << "\" y=\"" << y << "\" font-style=\"italic\" fill=\"" << quiet << "\">"
+        << escape_xml(text) << "</text><line x1=\"" << x0 << "\" y1=\"" << y + 4 << "\" x2=\"" << x0 + 150
+        << "\" y2=\"" << y + 4 << "\" stroke=\"" << quiet << "\" stroke-width=\"0.5\"/>\n";
+  };
+  out << "<g id=\"legend\" fill=\"" << ink << "\">\n";
+  heading(figure.legend_title);
+  y += 10;
   for (const auto& swatch : figure.swatches) {
-    out << "<rect x=\"" << x0 << "\" y=\"" << y << "\" width=\"14\" height=\"11\" fill=\""
-        << figure.colours[swatch.colour] << "\" stroke=\"#1a1a1a\" stroke-width=\"0.5\"/>"
-        << "<text x=\"" << x0 + 20 << "\" y=\"" << y + 9.5 << "\">" << escape(swatch.text) << "</text>\n";
+    out << "<rect x=\"" << x0 << "\" y=\"" << y << "\" width=\"11\" height=\"11\" fill=\""
+        << figure.colours[swatch.colour] << "\" stroke=\"" << ink << "\" stroke-opacity=\"0.35\" stroke-width=\"0.5\"/>"
+        << "<text x=\"" << x0 + 18 << "\" y=\"" << y + 9.5 << "\">" << escape_xml(swatch.text) << "</text>\n";
     y += 15;
   }
   if (figure.show_lines && figure.layers > 0 && figure.graph.empty()) {
-    y += 10;
-    out << "<text x=\"" << x0 << "\" y=\"" << y << "\" font-weight=\"bold\">Bent hyperplanes</text>\n";
-    y += 6;
+    y += 14;
+    heading("bent hyperplanes");
+    y += 8;
     for (std::size_t layer = 0; layer < figure.layers; ++layer) {
       const LineStyle style = line_style(layer);
       out << "<line x1=\"" << x0 << "\" y1=\"" << y + 5 << "\" x2=\"" << x0 + 26 << "\" y2=\"" << y + 5
-          << "\" stroke=\"#1a1a1a\" stroke-linecap=\"round\" stroke-width=\"" << style.width << "\"";
+          << "\" stroke=\"" << ink << "\" stroke-linecap=\"round\" stroke-width=\"" << style.width << "\"";
       if (*style.dashes) out << " stroke-dasharray=\"" << style.dashes << "\"";
       out << "/><text x=\"" << x0 + 32 << "\" y=\"" << y + 9 << "\">layer " << layer + 1 << " neurons</text>\n";
       y += 15;
@@ -174,14 +194,15 @@ void write_legend(const Figure& figure, std::ostream& out) {
   }
   if (!figure.breakpoints.empty()) {
     y += 10;
-    out << "<circle cx=\"" << x0 + 7 << "\" cy=\"" << y + 4 << "\" r=\"3\" fill=\"#ffffff\" stroke=\"#1a1a1a\" "
+    out << "<circle cx=\"" << x0 + 7 << "\" cy=\"" << y + 4 << "\" r=\"3\" fill=\"#ffffff\" stroke=\"" << ink << "\" "
         << "stroke-width=\"1.3\"/><text x=\"" << x0 + 20 << "\" y=\"" << y + 8 << "\">breakpoint</text>\n";
     y += 15;
   }
   y += 8;
   for (const auto& note : figure.notes) {
-    y += 14;
-    out << "<text x=\"" << x0 << "\" y=\"" << y << "\">" << escape(note) << "</text>\n";
+    y += 13;
+    out << "<text x=\"" << x0 << "\" y=\"" << y << "\" font-size=\"9.5\" fill=\"" << quiet << "\">" << escape_xml(note)
+        << "</text>\n";
   }
   out << "</g>\n";
 }
@@ -192,18 +213,18 @@ std::string figure_svg(const Figure& figure) {
   const Layout layout(figure);
   const double legend_height = 40.0 + 15.0 * static_cast<double>(figure.swatches.size() + figure.layers) +
                                14.0 * static_cast<double>(figure.notes.size()) + 40;
-  const double width = left_margin + plot_width + legend_gap + legend_width;
+  const double width = layout.left() + plot_width + legend_gap + legend_width;
   const double height = std::max(top_margin + layout.height() + bottom_margin, legend_height);
   std::ostringstream out;
   out << "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"
       << "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" << number(width) << "\" height=\"" << number(height)
       << "\" viewBox=\"0 0 " << number(width) << " " << number(height)
-      << "\" font-family=\"DejaVu Sans, Helvetica, Arial, sans-serif\" font-size=\"10.5\">\n";
+      << "\" font-family=\"Charter, 'Bitstream Charter', 'DejaVu Serif', Georgia, serif\" font-size=\"10.5\">\n";
   out << "<title>linear regions drawn by pleat</title>\n";
   out << "<rect width=\"100%\" height=\"100%\" fill=\"#ffffff\"/>\n";
-  out << "<defs><clipPath id=\"plot-clip\"><rect x=\"" << left_margin << "\" y=\"" << top_margin << "\" width=\""
+  out << "<defs><clipPath id=\"plot-clip\"><rect x=\"" << layout.left() << "\" y=\"" << top_margin << "\" width=\""
       << plot_width << "\" height=\"" << number(layout.height()) << "\"/></clipPath></defs>\n";
-  out << "<rect id=\"plot-area\" x=\"" << left_margin << "\" y=\"" << top_margin << "\" width=\"" << plot_width
+  out << "<rect id=\"plot-area\" x=\"" << layout.left() << "\" y=\"" << top_margin << "\" width=\"" << plot_width
       << "\" height=\"" << number(layout.height()) << "\" fill=\"none\" data-view=\"" << figure.x_min << ","
       << figure.x_max << "," << figure.y_min << "," << figure.y_max << "\"/>\n";
   write_regions(figure, layout, out);
@@ -211,7 +232,7 @@ std::string figure_svg(const Figure& figure) {
   write_graph(figure, layout, out);
   if (figure.show_labels) write_labels(figure, layout, out);
   write_axes(figure, layout, out);
-  write_legend(figure, out);
+  write_legend(figure, layout, out);
   out << "</svg>\n";
   return out.str();
 }

@@ -58,6 +58,7 @@ std::string figure_tikz(const Figure& figure) {
   std::ostringstream out;
   out << "% Linear regions drawn by pleat. Needs \\usepackage{tikz}; use with \\input.\n";
   out << "\\begin{tikzpicture}[font=\\footnotesize]\n";
+  out << "\\definecolor{pleatink}{HTML}{1F1D2B}\\definecolor{pleatquiet}{HTML}{5C5A66}\n";
   for (std::size_t i = 0; i < figure.colours.size(); ++i)
     out << "\\definecolor{pleatcolour" << static_cast<char>('a' + i % 26) << i / 26 << "}{HTML}{"
         << figure.colours[i].substr(1) << "}\n";
@@ -77,7 +78,7 @@ std::string figure_tikz(const Figure& figure) {
       bool any = false;
       for (const auto& s : figure.segments) {
         if (s.layer != layer) continue;
-        if (!any) out << "\\draw[black!90, " << dash_pattern(layer) << "]";
+        if (!any) out << "\\draw[pleatink, " << dash_pattern(layer) << "]";
         any = true;
         out << "\n  (" << x(s.from.x) << "," << y(s.from.y) << ") -- (" << x(s.to.x) << "," << y(s.to.y) << ")";
       }
@@ -97,33 +98,40 @@ std::string figure_tikz(const Figure& figure) {
       out << "\\node[font=\\ttfamily\\tiny, inner sep=0.5pt, fill=white, fill opacity=0.7, text opacity=1] at ("
           << x(polygon.label.x) << "," << y(polygon.label.y) << ") {" << escape(polygon.pattern) << "};\n";
   out << "\\end{scope}\n";
-  // Axes.
-  out << "\\draw[line width=0.45pt] (0,0) rectangle (" << number(plot_width_cm) << "," << number(height_cm) << ");\n";
-  for (double t : nice_ticks(figure.x_min, figure.x_max))
-    out << "\\draw[line width=0.45pt] (" << x(t) << ",0) -- (" << x(t) << ",-0.1) node[below] {$" << tick_text(t)
-        << "$};\n";
-  for (double t : nice_ticks(figure.y_min, figure.y_max))
-    out << "\\draw[line width=0.45pt] (0," << y(t) << ") -- (-0.1," << y(t) << ") node[left] {$" << tick_text(t)
-        << "$};\n";
-  out << "\\node at (" << number(plot_width_cm / 2) << ",-0.85) {" << axis_label(figure.x_label) << "};\n";
-  out << "\\node[rotate=90] at (-1.05," << number(height_cm / 2) << ") {" << axis_label(figure.y_label) << "};\n";
+  // Axes: range frames detached 0.2 cm from the plot, ticks toward the data,
+  // the y label above its axis and the x label under the tick labels at the
+  // right end (docs/figure-style.md), so no label meets a tick label.
+  const auto x_ticks = nice_ticks(figure.x_min, figure.x_max), y_ticks = nice_ticks(figure.y_min, figure.y_max);
+  const char* axis = "\\draw[pleatink, line width=0.4pt]";
+  if (!x_ticks.empty()) out << axis << " (" << x(x_ticks.front()) << ",-0.2) -- (" << x(x_ticks.back()) << ",-0.2);\n";
+  for (double t : x_ticks)
+    out << axis << " (" << x(t) << ",-0.2) -- (" << x(t) << ",-0.08) node[pos=0, below, text=pleatquiet] {$"
+        << tick_text(t) << "$};\n";
+  if (!y_ticks.empty()) out << axis << " (-0.2," << y(y_ticks.front()) << ") -- (-0.2," << y(y_ticks.back()) << ");\n";
+  for (double t : y_ticks)
+    out << axis << " (-0.2," << y(t) << ") -- (-0.08," << y(t) << ") node[pos=0, left, text=pleatquiet] {$"
+        << tick_text(t) << "$};\n";
+  out << "\\node[anchor=north east, text=pleatink] at (" << number(plot_width_cm) << ",-0.75) {"
+      << axis_label(figure.x_label) << " $\\rightarrow$};\n";
+  out << "\\node[anchor=south, text=pleatink] at (-0.2," << number(height_cm + 0.15) << ") {"
+      << axis_label(figure.y_label) << " $\\uparrow$};\n";
   // Legend, top-down on the right.
   const double lx = plot_width_cm + 0.6;
   double ly = height_cm - 0.1;
-  out << "\\node[anchor=north west, inner sep=0pt, font=\\footnotesize\\bfseries] at (" << number(lx) << ","
+  out << "\\node[anchor=north west, inner sep=0pt, font=\\footnotesize\\itshape, text=pleatquiet] at (" << number(lx) << ","
       << number(ly) << ") {" << escape(figure.legend_title) << "};\n";
   ly -= 0.5;
   for (const auto& swatch : figure.swatches) {
-    out << "\\filldraw[fill=" << colour_name(swatch.colour) << ", draw=black, line width=0.3pt] (" << number(lx)
-        << "," << number(ly) << ") rectangle ++(0.45,0.3);\n";
+    out << "\\filldraw[fill=" << colour_name(swatch.colour) << ", draw=pleatink!35, line width=0.3pt] (" << number(lx)
+        << "," << number(ly) << ") rectangle ++(0.3,0.3);\n";
     out << "\\node[anchor=west, inner sep=0pt] at (" << number(lx + 0.6) << "," << number(ly + 0.15) << ") {"
         << escape(swatch.text) << "};\n";
     ly -= 0.45;
   }
   if (figure.show_lines && figure.layers > 0 && figure.graph.empty()) {
     ly -= 0.2;
-    out << "\\node[anchor=west, inner sep=0pt, font=\\footnotesize\\bfseries] at (" << number(lx) << ","
-        << number(ly + 0.15) << ") {Bent hyperplanes};\n";
+    out << "\\node[anchor=west, inner sep=0pt, font=\\footnotesize\\itshape, text=pleatquiet] at (" << number(lx) << ","
+        << number(ly + 0.15) << ") {bent hyperplanes};\n";
     ly -= 0.45;
     for (std::size_t layer = 0; layer < figure.layers; ++layer) {
       out << "\\draw[" << dash_pattern(layer) << "] (" << number(lx) << "," << number(ly + 0.15) << ") -- ++(0.8,0);\n";
@@ -134,8 +142,8 @@ std::string figure_tikz(const Figure& figure) {
   }
   ly -= 0.2;
   for (const auto& note : figure.notes) {
-    out << "\\node[anchor=west, inner sep=0pt] at (" << number(lx) << "," << number(ly + 0.15) << ") {"
-        << escape(note) << "};\n";
+    out << "\\node[anchor=west, inner sep=0pt, font=\\scriptsize, text=pleatquiet] at (" << number(lx) << ","
+        << number(ly + 0.15) << ") {" << escape(note) << "};\n";
     ly -= 0.42;
   }
   out << "\\end{tikzpicture}\n";

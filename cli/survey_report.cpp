@@ -1,5 +1,6 @@
 #include "cli/survey_report.hpp"
 
+#include "cli/figure.hpp"
 #include "cli/survey_file.hpp"
 
 #include <algorithm>
@@ -43,20 +44,6 @@ std::string describe_configuration(const Json& header) {
                      " digits, seed " + std::to_string(header["seed"].get<std::uint64_t>()) + ", domain " + domain;
   if (header["shard"] != "0/1") text += ", shard " + header["shard"].get<std::string>();
   return text;
-}
-
-std::string escape_xml(const std::string& text) {
-  std::string out;
-  for (char c : text) {
-    switch (c) {
-      case '&': out += "&amp;"; break;
-      case '<': out += "&lt;"; break;
-      case '>': out += "&gt;"; break;
-      case '"': out += "&quot;"; break;
-      default: out += c;
-    }
-  }
-  return out;
 }
 
 // A round step (1, 2 or 5 times a power of ten) giving about five ticks.
@@ -168,15 +155,15 @@ void print_grid(const std::vector<SurveyRecord>& records, const std::vector<Surv
 }
 
 std::string histogram_svg(const SurveyRecord& record, const SurveySummary& summary) {
-  // Our palette: a dark slate-teal for bars, a burnt orange dashed line for the
-  // bound; their lightness differs enough to stay apart in greyscale, and the
-  // dash pattern and label say which is which without colour at all.
-  constexpr const char* bar_colour = "#24505a";
-  constexpr const char* bound_colour = "#c05621";
-  constexpr const char* ink = "#222222";
-  constexpr const char* grid = "#d9d9d9";
-  constexpr double width = 720, height = 400;
-  constexpr double left = 64, right = 24, top = 72, bottom = 64;
+  // The house style (docs/figure-style.md): no gridlines and no count axis,
+  // each bar carries its count; bars in the palette's deep slate, the scaling
+  // bound as a thin ink rule with its value; a detached range-frame value
+  // axis; what was surveyed in a quiet caption under the axis, not a subtitle.
+  const std::string bar = bar_colour();
+  constexpr const char* ink = "#1f1d2b";
+  constexpr const char* quiet = "#5c5a66";
+  constexpr double width = 720, height = 380;
+  constexpr double left = 40, right = 40, top = 40, bottom = 86;
   const double plot_width = width - left - right, plot_height = height - top - bottom;
 
   const auto [low, high] = histogram_range(summary);
@@ -184,71 +171,61 @@ std::string histogram_svg(const SurveyRecord& record, const SurveySummary& summa
   const std::size_t bins = has_values ? high - low + 1 : 1;
   std::size_t most = 1;
   for (const auto& [value, count] : summary.histogram) most = std::max(most, count);
-  const std::size_t step = tick_step(most);
-  // Headroom above the tallest bar for its count.
-  const std::size_t top_count = ((most + most / 10 + step - 1) / step) * step;
   const double bin_width = plot_width / static_cast<double>(bins);
   // low passed by value: clang 14 cannot capture a structured binding.
   auto x_of = [&, first = low](std::size_t value) {
     return left + (static_cast<double>(value - first) + 0.5) * bin_width;
   };
-  auto y_of = [&](double count) { return top + plot_height * (1 - count / static_cast<double>(top_count)); };
+  // The tallest bar fills the plot height less room for its count.
+  auto y_of = [&](double count) { return top + plot_height * (1 - 0.92 * count / static_cast<double>(most)); };
 
   std::ostringstream svg;
   svg << std::fixed << std::setprecision(1);
   svg << "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" << width << "\" height=\"" << height
-      << "\" viewBox=\"0 0 " << width << " " << height << "\" font-family=\"DejaVu Sans, Arial, sans-serif\">\n";
+      << "\" viewBox=\"0 0 " << width << " " << height
+      << "\" font-family=\"Charter, 'Bitstream Charter', 'DejaVu Serif', Georgia, serif\" font-size=\"11\">\n";
   svg << "<rect width=\"100%\" height=\"100%\" fill=\"#ffffff\"/>\n";
   const std::string arch = architecture_text(record.header["arch"].get<std::vector<std::size_t>>());
-  svg << "<text x=\"" << left << "\" y=\"24\" font-size=\"16\" fill=\"" << ink << "\">Certified functional dimension, "
-      << escape_xml(arch) << " (" << summary.certified << " of " << summary.samples << " samples)</text>\n";
-  svg << "<text x=\"" << left << "\" y=\"42\" font-size=\"12\" fill=\"#555555\">"
-      << escape_xml(describe_configuration(record.header));
-  if (summary.uncertified) svg << "; " << summary.uncertified << " cut short by the time limit, not shown";
-  svg << "</text>\n";
+  svg << "<text x=\"" << left << "\" y=\"20\" font-style=\"italic\" fill=\"" << quiet << "\">samples per value</text>\n";
 
-  // Horizontal grid lines and count ticks.
-  for (std::size_t tick = 0; tick <= top_count; tick += step) {
-    const double y = y_of(static_cast<double>(tick));
-    svg << "<line x1=\"" << left << "\" y1=\"" << y << "\" x2=\"" << width - right << "\" y2=\"" << y
-        << "\" stroke=\"" << grid << "\" stroke-width=\"1\"/>\n";
-    svg << "<text x=\"" << left - 8 << "\" y=\"" << y + 4 << "\" font-size=\"12\" text-anchor=\"end\" fill=\"" << ink
-        << "\">" << tick << "</text>\n";
-  }
-  // Bars with their counts.
+  // Bars, touching but for a hairline, each with its count above.
+  const double base = top + plot_height;
   for (const auto& [value, count] : summary.histogram) {
-    const double x = x_of(value) - 0.4 * bin_width, y = y_of(static_cast<double>(count));
-    svg << "<rect x=\"" << x << "\" y=\"" << y << "\" width=\"" << 0.8 * bin_width << "\" height=\""
-        << top + plot_height - y << "\" fill=\"" << bar_colour << "\"><title>" << value << ": " << count
-        << "</title></rect>\n";
-    if (bins <= 40)
-      svg << "<text x=\"" << x_of(value) << "\" y=\"" << y - 4 << "\" font-size=\"11\" text-anchor=\"middle\" fill=\""
+    const double x = x_of(value) - 0.47 * bin_width, y = y_of(static_cast<double>(count));
+    svg << "<rect x=\"" << x << "\" y=\"" << y << "\" width=\"" << 0.94 * bin_width << "\" height=\"" << base - y
+        << "\" fill=\"" << bar << "\"><title>" << value << ": " << count << "</title></rect>\n";
+    if (bins <= 40 || count == most)  // many bins: the tallest still gives the scale
+      svg << "<text x=\"" << x_of(value) << "\" y=\"" << y - 4 << "\" font-size=\"10\" text-anchor=\"middle\" fill=\""
           << ink << "\">" << count << "</text>\n";
   }
-  // The value axis.
-  const double base = top + plot_height;
-  svg << "<line x1=\"" << left << "\" y1=\"" << base << "\" x2=\"" << width - right << "\" y2=\"" << base
-      << "\" stroke=\"" << ink << "\" stroke-width=\"1.5\"/>\n";
+  // The value axis: detached from the bars, first to last value, ticks up.
+  const double axis_y = base + 7;
   if (has_values) {
+    svg << "<line x1=\"" << x_of(low) << "\" y1=\"" << axis_y << "\" x2=\"" << x_of(high) << "\" y2=\"" << axis_y
+        << "\" stroke=\"" << ink << "\" stroke-width=\"0.8\"/>\n";
     // Every value when few, else the multiples of a round step.
     const std::size_t value_step = bins <= 24 ? 1 : tick_step(bins / 2);
     for (std::size_t value = low; value <= high; ++value) {
       if (value % value_step != 0) continue;
-      svg << "<text x=\"" << x_of(value) << "\" y=\"" << base + 18 << "\" font-size=\"12\" text-anchor=\"middle\" fill=\""
-          << ink << "\">" << value << "</text>\n";
+      svg << "<line x1=\"" << x_of(value) << "\" y1=\"" << axis_y << "\" x2=\"" << x_of(value) << "\" y2=\""
+          << axis_y - 4 << "\" stroke=\"" << ink << "\" stroke-width=\"0.8\"/>"
+          << "<text x=\"" << x_of(value) << "\" y=\"" << axis_y + 14 << "\" text-anchor=\"middle\" fill=\"" << quiet
+          << "\">" << value << "</text>\n";
     }
   }
-  svg << "<text x=\"" << left + plot_width / 2 << "\" y=\"" << height - 18
-      << "\" font-size=\"13\" text-anchor=\"middle\" fill=\"" << ink << "\">functional dimension (certified)</text>\n";
-  svg << "<text transform=\"translate(18," << top + plot_height / 2 << ") rotate(-90)\" font-size=\"13\" "
-         "text-anchor=\"middle\" fill=\""
-      << ink << "\">samples</text>\n";
+  svg << "<text x=\"" << width - right << "\" y=\"" << axis_y + 34 << "\" font-size=\"12.5\" text-anchor=\"end\" fill=\""
+      << ink << "\">certified functional dimension \u2192</text>\n";
+  svg << "<text x=\"" << left << "\" y=\"" << height - 12 << "\" font-size=\"9.5\" fill=\"" << quiet << "\">"
+      << escape_xml(arch) << ": " << summary.certified << " of " << summary.samples << " samples certified; "
+      << escape_xml(describe_configuration(record.header));
+  if (summary.uncertified) svg << "; " << summary.uncertified << " cut short by the time limit, not shown";
+  svg << "</text>\n";
   if (summary.scaling_bound) {
     const double x = x_of(*summary.scaling_bound) + 0.5 * bin_width;
-    svg << "<line x1=\"" << x << "\" y1=\"" << top << "\" x2=\"" << x << "\" y2=\"" << base << "\" stroke=\""
-        << bound_colour << "\" stroke-width=\"2\" stroke-dasharray=\"6,4\"/>\n";
-    svg << "<text x=\"" << x << "\" y=\"" << top - 8 << "\" font-size=\"12\" text-anchor=\"end\" fill=\""
-        << bound_colour << "\">scaling bound " << *summary.scaling_bound << "</text>\n";
+    svg << "<line x1=\"" << x << "\" y1=\"" << top - 6 << "\" x2=\"" << x << "\" y2=\"" << base << "\" stroke=\""
+        << ink << "\" stroke-width=\"1\"/>\n";
+    svg << "<text x=\"" << x - 5 << "\" y=\"" << top + 2 << "\" text-anchor=\"end\" font-style=\"italic\" fill=\""
+        << ink << "\">scaling bound " << *summary.scaling_bound << "</text>\n";
   }
   svg << "</svg>\n";
   return svg.str();

@@ -81,6 +81,19 @@ bends = {F(r["x_left_exact"]) for r in rows[1:]}
 assert bends == {F(-1, 2), F(-1, 3), F(3, 8), F(2, 3), F(25, 6)}, bends
 PY
 
+# Ticks: round values in plain decimals (a wide view once printed "8e+02"),
+# zero included, and no frame rectangle around the plot (house style).
+"$pleat" draw "$fold" --view -1000,1000,-0.05,0.05 --out "$work/wide.svg" -q > /dev/null || fail "wide view failed"
+/usr/bin/python3 - "$work/wide.svg" <<'PY' || fail "tick labels not plain round values"
+import sys, xml.etree.ElementTree as ET
+ns = {"s": "http://www.w3.org/2000/svg"}
+axes = ET.parse(sys.argv[1]).getroot().find(".//s:g[@id='axes']", ns)
+ticks = [t.text for t in axes.findall("s:text", ns) if t.text]
+assert ticks and not any("e" in t for t in ticks), ticks
+assert {"-1000", "-500", "0", "500", "1000", "-0.04", "0.04"} <= set(ticks), ticks
+assert axes.find("s:rect", ns) is None, "closed frame drawn"
+PY
+
 # Bad arguments.
 "$pleat" draw "$fold" --out "$work/fold.png" > /dev/null 2>&1; [ $? -eq 2 ] || fail ".png accepted"
 "$pleat" draw "$fold" --out "$work/f.svg" --view 1,2,3 > /dev/null 2>&1; [ $? -eq 2 ] || fail "3-number view accepted"
