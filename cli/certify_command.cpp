@@ -13,6 +13,7 @@
 
 #include <fstream>
 #include <iostream>
+#include <algorithm>
 #include <optional>
 #include <set>
 #include <sstream>
@@ -81,11 +82,65 @@ ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank) 
 
 Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", verdict.verdict}, {"reason", verdict.reason}}; }
 
-std::string parameter_vector_text(const Network& network, const RationalVector& vector) {
+// Extra kernel directions grouped by (mechanism, neurons), in first-seen order.
+struct MechanismGroup {
+  std::string mechanism;  // "" when none was recognised
+  std::vector<std::size_t> neurons;
+  std::size_t directions = 0;
+};
+
+std::vector<MechanismGroup> mechanism_groups(const FunctionalDimensionResult& result) {
+  std::vector<MechanismGroup> groups;
+  for (const auto& direction : result.extra_kernel) {
+    auto same = [&](const MechanismGroup& g) { return g.mechanism == direction.mechanism && g.neurons == direction.neurons; };
+    auto found = std::find_if(groups.begin(), groups.end(), same);
+    if (found == groups.end()) found = groups.insert(groups.end(), {direction.mechanism, direction.neurons, 0});
+    ++found->directions;
+  }
+  return groups;
+}
+
+// "dead neuron 5: 5 directions", "zero outgoing weights of neuron 2: 2 directions"
+std::string mechanism_text(const MechanismGroup& group) {
+  std::string numbers;
+  for (std::size_t i = 0; i < group.neurons.size(); ++i) numbers += (i ? ", " : "") + std::to_string(group.neurons[i]);
+  const std::string neuron = group.neurons.size() > 1 ? "neurons " : "neuron ";
   std::string text;
-  for (std::size_t c = 0; c < vector.size(); ++c)
-    if (vector[c] != 0) text += (text.empty() ? "" : ", ") + network.parameter_name(c) + ": " + format_rational(vector[c]);
-  return text;
+  if (group.mechanism == "dead-neuron") text = "dead " + neuron + numbers;
+  else if (group.mechanism == "always-active-neuron") text = "always-active " + neuron + numbers;
+  else if (group.mechanism == "zero-outgoing-weights") text = "zero outgoing weights of " + neuron + numbers;
+  else if (group.mechanism == "duplicate-neurons") text = "duplicate neurons " + numbers;
+  else if (group.mechanism.empty()) text = "no recognised mechanism";
+  else text = group.mechanism + (numbers.empty() ? "" : " (" + neuron + numbers + ")");
+  return text + ": " + std::to_string(group.directions) + (group.directions == 1 ? " direction" : " directions");
+}
+
+// When every smooth region's rows together are fewer than the scaling bound,
+// the rank cannot reach it whatever the parameters: a cause of its own.
+struct RegionLimit {
+  std::size_t smooth_regions = 0;
+  std::size_t rows_per_region = 0;
+};
+
+std::optional<RegionLimit> region_limit(const Network& network, const FunctionalDimensionResult& result) {
+  if (!result.walk_complete) return std::nullopt;
+  const RegionLimit limit{result.regions_walked - result.nonsmooth_regions.size(),
+                          network.output_dim() * (network.input_dim + 1)};
+  if (limit.smooth_regions * limit.rows_per_region >= result.scaling_bound) return std::nullopt;
+  return limit;
+}
+
+Json mechanism_summary_json(const Network& network, const FunctionalDimensionResult& result) {
+  Json summary = Json::array();
+  for (const auto& group : mechanism_groups(result))
+    summary.push_back({{"mechanism", group.mechanism.empty() ? Json(nullptr) : Json(group.mechanism)},
+                       {"neurons", group.neurons},
+                       {"directions", group.directions}});
+  if (const auto limit = region_limit(network, result))
+    summary.push_back({{"mechanism", "too-few-regions"},
+                       {"regions", limit->smooth_regions},
+                       {"rows_per_region", limit->rows_per_region}});
+  return summary;
 }
 
 Json result_to_json(const Network& network, const Domain& domain, const FunctionalDimensionResult& result) {
@@ -114,11 +169,10 @@ Json result_to_json(const Network& network, const Domain& domain, const Function
   out["regions_contributing"] = result.regions_contributing;
   out["walk_complete"] = result.walk_complete;
   out["early_stop"] = result.early_stop;
-  out["stop_reason"] = result.walk.stop_reason == StopReason::none || result.early_stop
-                           ? Json(nullptr)
-                           : Json(to_string(result.walk.stop_reason));
+  out["stop_reason"] = result.stop_reason == StopReason::none ? Json(nullptr) : Json(to_string(result.stop_reason));
   out["nonsmooth_regions"] = std::move(nonsmooth);
   out["extra_kernel"] = std::move(extra);
+  out["extra_kernel_summary"] = mechanism_summary_json(network, result);
   out["seconds"] = result.seconds;
   return out;
 }
@@ -131,7 +185,7 @@ void print_result(const Network& network, const Domain& domain, const Functional
       << network.hidden_neuron_count() << " hidden neurons' scaling directions)\n";
   if (result.certified) {
     out << "functional dimension  " << *result.functional_dimension << "  certified\n";
-    if (result.early_stop)
+    if (result.early_stop || !result.walk_complete)  // upper bound from the scaling directions alone
       out << "                      lower bound: rows of " << result.regions_contributing
           << " regions have a nonsingular minor (mod p);\n"
              "                      upper bound: the scaling directions, an exact kernel\n";
@@ -140,7 +194,12 @@ void print_result(const Network& network, const Domain& domain, const Functional
           << " regions;\n                      upper bound: an exact kernel checked on every smooth region\n";
   } else {
     out << "functional dimension  between " << result.lower_bound << " and " << result.upper_bound
-        << "  NOT certified (walk stopped: " << to_string(result.walk.stop_reason) << ")\n";
+        << "  NOT certified ("
+        << (result.stop_reason == StopReason::none
+                ? std::string("the walk could not be certified")
+                : std::string(result.walk_complete ? "stopped after the walk: " : "walk stopped: ") +
+                      to_string(result.stop_reason))
+        << ")\n";
   }
   out << "regions               " << result.regions_walked << " walked"
       << (result.early_stop ? " (stopped early: the rank met the scaling bound)"
@@ -156,16 +215,14 @@ void print_result(const Network& network, const Domain& domain, const Functional
     }
   }
   if (!result.extra_kernel.empty()) {
-    out << "extra flat directions " << result.extra_kernel.size() << " beyond the scaling ones:\n";
-    for (const auto& direction : result.extra_kernel) {
-      out << "  " << (direction.mechanism.empty() ? "no recognised mechanism" : direction.mechanism);
-      if (!direction.neurons.empty()) {
-        out << " (neuron";
-        for (std::size_t n : direction.neurons) out << " " << n;
-        out << ")";
-      }
-      out << ": " << parameter_vector_text(network, direction.vector) << "\n";
-    }
+    out << "extra flat directions " << result.extra_kernel.size()
+        << " beyond the scaling ones, by mechanism (every direction: --kernel-out or --json):\n";
+    for (const auto& group : mechanism_groups(result)) out << "  " << mechanism_text(group) << "\n";
+    if (const auto limit = region_limit(network, result))
+      out << "  rank limited by the number of regions: " << limit->smooth_regions << " smooth regions x "
+          << limit->rows_per_region << " rows per region = " << limit->smooth_regions * limit->rows_per_region
+          << " < scaling bound " << result.scaling_bound << " (so at least "
+          << result.scaling_bound - limit->smooth_regions * limit->rows_per_region << " below it)\n";
   }
 }
 
@@ -182,6 +239,15 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
   options.walk.on_progress = [&](const WalkProgress& state) {
     progress.update("certifying: " + std::to_string(state.regions) + " regions walked, frontier " +
                     std::to_string(state.frontier));
+  };
+  options.on_phase = [&](const CertifyProgress& state) {
+    std::string text = std::string("certifying: ") + state.phase;
+    if (std::string(state.phase) == "kernel")
+      text += " (lifting the extra directions), " + std::to_string(state.done) + " primes";
+    else
+      text += " " + std::to_string(state.done) + "/" + std::to_string(state.total) +
+              (std::string(state.phase) == "check" ? " regions" : " directions");
+    progress.update(text);
   };
   options.stop_at_scaling_bound = stop_at_scaling_bound;
   options.keep_rows = !arguments.rows_path.empty();
@@ -249,7 +315,7 @@ void print_batch(const Network& network, const Domain& domain, const CertifyArgu
     out << "functional dimension  " << *result.functional_dimension << "  certified (every region of the domain)\n";
   else
     out << "functional dimension  between " << result.lower_bound << " and " << result.upper_bound
-        << "  NOT certified (walk stopped: " << to_string(result.walk.stop_reason) << ")\n";
+        << "  NOT certified (stopped: " << to_string(result.stop_reason) << ")\n";
   if (result.certified && batch.rank < *result.functional_dimension) {
     out << "                      the points fall short by " << *result.functional_dimension - batch.rank;
     if (result.walk_complete && batch.regions_touched == result.walk.regions)
@@ -314,7 +380,7 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
     print_batch(network, domain, arguments, batch, result, std::cout);
     if (arguments.claim) print_claim(*arguments.claim, at_points, *network_verdict, std::cout);
   }
-  if (result.walk.stop_reason == StopReason::interrupted) return 130;
+  if (result.stop_reason == StopReason::interrupted) return 130;
   return arguments.claim ? claim_status(at_points, *network_verdict) : 0;
 }
 
@@ -338,7 +404,7 @@ int run_certify(const CertifyArguments& arguments) {
     print_result(network, domain, result, std::cout);
     if (arguments.claim) print_claim(*arguments.claim, std::nullopt, *verdict, std::cout);
   }
-  if (result.walk.stop_reason == StopReason::interrupted) return 130;
+  if (result.stop_reason == StopReason::interrupted) return 130;
   return arguments.claim ? claim_status(std::nullopt, *verdict) : 0;
 }
 

@@ -165,6 +165,13 @@ std::string format_rational_list(const RationalVector& values) {
   return text + "]";
 }
 
+std::string format_rational_readable(const Rational& value) {
+  if (value.get_den() == 1) return format_rational(value);
+  char decimal[32];
+  std::snprintf(decimal, sizeof decimal, "%.6g", to_double(value));
+  return format_rational(value) + " (\u2248 " + decimal + ")";
+}
+
 std::string format_double(double value) {
   char buffer[64];
   const auto [end, error] = std::to_chars(buffer, buffer + sizeof buffer, value);

@@ -83,6 +83,10 @@ CLI::Option* add_seconds_option(CLI::App& command, const std::string& name, doub
 // ["7/4", "-1"]: exact, in lowest terms, quoted as in the JSON output.
 std::string format_rational_list(const RationalVector& values);
 
+// For people: the exact rational with a decimal view beside it,
+// "-1234567/98765 (≈ -12.4999)" (6 significant digits); integers as they are.
+std::string format_rational_readable(const Rational& value);
+
 // The shortest decimal that reads back as the same double ("1.75", "-0.1").
 std::string format_double(double value);
 

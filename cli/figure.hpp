@@ -74,6 +74,9 @@ std::vector<double> nice_ticks(double lo, double hi);
 // "-2", "800"; never exponent notation).
 std::string tick_text(double value);
 
+// Text for SVG/XML content and attributes (&, <, >, " escaped).
+std::string escape_xml(const std::string& text);
+
 // value with `decimals` digits after the point, trailing zeros and a bare
 // point dropped, "-0" written "0": coordinates in SVG and TikZ output.
 std::string fixed_point_text(double value, int decimals);

@@ -26,27 +26,15 @@ double left_margin_for(const Figure& f) {
 
 std::string number(double value) { return fixed_point_text(value, 2); }
 
-std::string escape(const std::string& text) {
-  std::string out;
-  for (char c : text) {
-    if (c == '<') out += "&lt;";
-    else if (c == '>') out += "&gt;";
-    else if (c == '&') out += "&amp;";
-    else if (c == '"') out += "&quot;";
-    else out += c;
-  }
-  return out;
-}
-
 // "x2" -> x with a subscript 2, in italics.
 std::string axis_label(const std::string& label) {
   std::size_t digits = label.size();
   while (digits > 0 && std::isdigit(static_cast<unsigned char>(label[digits - 1]))) --digits;
   // Appends only: GCC 12 warns falsely (-Wrestrict) on "literal" + std::string.
   std::string out = "<tspan font-style=\"italic\">";
-  out.append(escape(label.substr(0, digits))).append("</tspan>");
+  out.append(escape_xml(label.substr(0, digits))).append("</tspan>");
   if (digits < label.size())
-    out.append("<tspan font-size=\"8\" dy=\"3\">").append(escape(label.substr(digits))).append("</tspan>");
+    out.append("<tspan font-size=\"8\" dy=\"3\">").append(escape_xml(label.substr(digits))).append("</tspan>");
   return out;
 }
 
@@ -85,7 +73,7 @@ void write_regions(const Figure& figure, const Layout& layout, std::ostream& out
       << (figure.graph.empty() ? "" : " fill-opacity=\"0.45\" stroke-opacity=\"0.45\"") << ">\n";
   for (const auto& polygon : figure.polygons) {
     const std::string& colour = figure.colours[polygon.colour];
-    out << "<polygon id=\"region-" << polygon.region << "\" data-pattern=\"" << escape(polygon.pattern)
+    out << "<polygon id=\"region-" << polygon.region << "\" data-pattern=\"" << escape_xml(polygon.pattern)
         << "\" fill=\"" << colour << "\" stroke=\"" << colour << "\" points=\"";
     for (std::size_t i = 0; i < polygon.vertices.size(); ++i)
       out << (i ? " " : "") << number(layout.x(polygon.vertices[i].x)) << ","
@@ -131,7 +119,7 @@ void write_labels(const Figure& figure, const Layout& layout, std::ostream& out)
          "fill=\"#111111\" stroke=\"#ffffff\" stroke-width=\"2.2\" stroke-opacity=\"0.85\" paint-order=\"stroke\">\n";
   for (const auto& polygon : figure.polygons)
     out << "<text x=\"" << number(layout.x(polygon.label.x)) << "\" y=\"" << number(layout.y(polygon.label.y) + 2.5)
-        << "\">" << escape(polygon.pattern) << "</text>\n";
+        << "\">" << escape_xml(polygon.pattern) << "</text>\n";
   out << "</g>\n";
 }
 
@@ -152,7 +140,7 @@ void write_axes(const Figure& figure, const Layout& layout, std::ostream& out) {
     out << "<line x1=\"" << number(px) << "\" y1=\"" << number(axis_y) << "\" x2=\"" << number(px) << "\" y2=\""
         << number(axis_y - tick_length) << "\"/>"
         << "<text x=\"" << number(px) << "\" y=\"" << number(axis_y + 13) << "\" stroke=\"none\" "
-        << "text-anchor=\"middle\">" << escape(tick_text(t)) << "</text>\n";
+        << "text-anchor=\"middle\">" << escape_xml(tick_text(t)) << "</text>\n";
   }
   if (!y_ticks.empty())
     out << "<line x1=\"" << number(axis_x) << "\" y1=\"" << number(layout.y(y_ticks.front())) << "\" x2=\""
@@ -162,7 +150,7 @@ void write_axes(const Figure& figure, const Layout& layout, std::ostream& out) {
     out << "<line x1=\"" << number(axis_x) << "\" y1=\"" << number(py) << "\" x2=\"" << number(axis_x + tick_length)
         << "\" y2=\"" << number(py) << "\"/>"
         << "<text x=\"" << number(axis_x - 5) << "\" y=\"" << number(py + 3.5) << "\" stroke=\"none\" "
-        << "text-anchor=\"end\">" << escape(tick_text(t)) << "</text>\n";
+        << "text-anchor=\"end\">" << escape_xml(tick_text(t)) << "</text>\n";
   }
   out << "<text x=\"" << number(layout.left() + plot_width) << "\" y=\"" << number(axis_y + 32)
       << "\" stroke=\"none\" fill=\"" << ink << "\" text-anchor=\"end\" font-size=\"12.5\">"
@@ -179,7 +167,7 @@ void write_legend(const Figure& figure, const Layout& layout, std::ostream& out)
   double y = top_margin + 10;
   auto heading = [&](const std::string& text) {
     out << "<text x=\"" << x0 << "\" y=\"" << y << "\" font-style=\"italic\" fill=\"" << quiet << "\">"
-        << escape(text) << "</text><line x1=\"" << x0 << "\" y1=\"" << y + 4 << "\" x2=\"" << x0 + 150
+        << escape_xml(text) << "</text><line x1=\"" << x0 << "\" y1=\"" << y + 4 << "\" x2=\"" << x0 + 150
         << "\" y2=\"" << y + 4 << "\" stroke=\"" << quiet << "\" stroke-width=\"0.5\"/>\n";
   };
   out << "<g id=\"legend\" fill=\"" << ink << "\">\n";
@@ -188,7 +176,7 @@ void write_legend(const Figure& figure, const Layout& layout, std::ostream& out)
   for (const auto& swatch : figure.swatches) {
     out << "<rect x=\"" << x0 << "\" y=\"" << y << "\" width=\"11\" height=\"11\" fill=\""
         << figure.colours[swatch.colour] << "\" stroke=\"" << ink << "\" stroke-opacity=\"0.35\" stroke-width=\"0.5\"/>"
-        << "<text x=\"" << x0 + 18 << "\" y=\"" << y + 9.5 << "\">" << escape(swatch.text) << "</text>\n";
+        << "<text x=\"" << x0 + 18 << "\" y=\"" << y + 9.5 << "\">" << escape_xml(swatch.text) << "</text>\n";
     y += 15;
   }
   if (figure.show_lines && figure.layers > 0 && figure.graph.empty()) {
@@ -213,7 +201,7 @@ void write_legend(const Figure& figure, const Layout& layout, std::ostream& out)
   y += 8;
   for (const auto& note : figure.notes) {
     y += 13;
-    out << "<text x=\"" << x0 << "\" y=\"" << y << "\" font-size=\"9.5\" fill=\"" << quiet << "\">" << escape(note)
+    out << "<text x=\"" << x0 << "\" y=\"" << y << "\" font-size=\"9.5\" fill=\"" << quiet << "\">" << escape_xml(note)
         << "</text>\n";
   }
   out << "</g>\n";

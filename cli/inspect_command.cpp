@@ -22,7 +22,13 @@ struct InspectArguments {
   std::string at_text;
   std::string pattern_text;
   bool json = false;
+  bool exact_only = false;
 };
+
+// Exact numbers for people: with a decimal view unless --exact-only.
+std::string number_text(const Rational& value, bool exact_only) {
+  return exact_only ? format_rational(value) : format_rational_readable(value);
+}
 
 struct Record {
   Region region;
@@ -57,24 +63,28 @@ std::string neuron_name(const Network& network, std::size_t neuron) {
          std::to_string(neuron - network.first_neuron_of_layer(layer)) + ")";
 }
 
-// "3 x1 - 2 x2 + 7"
-std::string affine_text(const RationalVector& normal, const Rational& offset) {
+// "3 x1 - 2 x2 + 7"; "1/3 (≈ 0.333333) x1 + 2" with decimals.
+std::string affine_text(const RationalVector& normal, const Rational& offset, bool exact_only) {
   std::string text;
   for (std::size_t i = 0; i < normal.size(); ++i) {
     if (normal[i] == 0) continue;
     const Rational magnitude = abs(normal[i]);
-    text += text.empty() ? (normal[i] < 0 ? "-" : "") : (normal[i] < 0 ? " - " : " + ");
-    if (magnitude != 1) text += format_rational(magnitude) + " ";
+    // The first term carries its own sign, so its decimal view has it too.
+    const bool is_first = text.empty();
+    if (!is_first) text += normal[i] < 0 ? " - " : " + ";
+    if (magnitude != 1) text += number_text(is_first ? normal[i] : magnitude, exact_only) + " ";
+    else if (is_first && normal[i] < 0) text += "-";
     text += "x" + std::to_string(i + 1);
   }
   if (offset != 0 || text.empty())
-    text += text.empty() ? format_rational(offset) : (offset < 0 ? " - " : " + ") + format_rational(abs(offset));
+    text += text.empty() ? number_text(offset, exact_only)
+                         : (offset < 0 ? " - " : " + ") + number_text(abs(offset), exact_only);
   return text;
 }
 
-std::string point_text(const RationalVector& point) {
+std::string point_text(const RationalVector& point, bool exact_only) {
   std::string text = "(";
-  for (std::size_t i = 0; i < point.size(); ++i) text += (i ? ", " : "") + format_rational(point[i]);
+  for (std::size_t i = 0; i < point.size(); ++i) text += (i ? ", " : "") + number_text(point[i], exact_only);
   return text + ")";
 }
 
@@ -122,11 +132,12 @@ Json record_json(const Network& network, const Record& record) {
   return out;
 }
 
-void print_record(const Network& network, const Domain& domain, const Record& record, std::ostream& out) {
+void print_record(const Network& network, const Domain& domain, const Record& record, bool exact_only,
+                  std::ostream& out) {
   const Region& region = record.region;
   const std::size_t dim = network.input_dim;
   out << "region      " << format_pattern(network, region.pattern) << "\n";
-  out << "point       " << point_text(region.point) << "  (strictly inside, checked exactly)\n";
+  out << "point       " << point_text(region.point, exact_only) << "  (strictly inside, checked exactly)\n";
   out << "bounded     " << (region.bounded ? "yes" : "no") << " in R^" << dim;
   if (domain.kind != Domain::Kind::whole_space)
     out << "; within " << domain.describe() << ": " << (record.vertices.is_bounded() ? "bounded" : "unbounded");
@@ -136,7 +147,7 @@ void print_record(const Network& network, const Domain& domain, const Record& re
     std::string who;
     if (facet.domain_side) who = "domain side " + std::to_string(*facet.domain_side);
     for (std::size_t neuron : facet.neurons) who += (who.empty() ? "" : ", ") + neuron_name(network, neuron);
-    out << "  " << affine_text(facet.normal, facet.offset) << "   " << who;
+    out << "  " << affine_text(facet.normal, facet.offset, exact_only) << "   " << who;
     if (facet.neighbor) out << "   -> " << format_pattern(network, *facet.neighbor);
     for (const auto& other : facet.other_neighbors) out << ", " << format_pattern(network, other);
     out << "\n";
@@ -146,21 +157,20 @@ void print_record(const Network& network, const Domain& domain, const Record& re
   if (dim == 2 && rep.lines.empty()) out << ", in counter-clockwise order along the boundary";
   if (!rep.lines.empty()) out << " (a point of the region; it contains lines)";
   out << "\n";
-  for (const auto& p : rep.points) out << "  " << point_text(p) << "\n";
+  for (const auto& p : rep.points) out << "  " << point_text(p, exact_only) << "\n";
   if (!rep.rays.empty()) {
     out << "rays        ";
-    for (std::size_t i = 0; i < rep.rays.size(); ++i) out << (i ? ", " : "") << point_text(rep.rays[i]);
+    for (std::size_t i = 0; i < rep.rays.size(); ++i) out << (i ? ", " : "") << point_text(rep.rays[i], exact_only);
     out << "\n";
   }
   if (!rep.lines.empty()) {
     out << "lines       ";
-    for (std::size_t i = 0; i < rep.lines.size(); ++i) out << (i ? ", " : "") << point_text(rep.lines[i]);
+    for (std::size_t i = 0; i < rep.lines.size(); ++i) out << (i ? ", " : "") << point_text(rep.lines[i], exact_only);
     out << "\n";
   }
   const char* measure = dim == 1 ? "length" : dim == 2 ? "area" : "volume";
   if (record.volume)
-    out << measure << (dim == 1 ? "      " : dim == 2 ? "        " : "      ") << format_rational(*record.volume)
-        << "  (~ " << format_double(to_double(*record.volume)) << ")"
+    out << measure << (dim == 1 ? "      " : dim == 2 ? "        " : "      ") << number_text(*record.volume, exact_only)
         << (domain.kind == Domain::Kind::whole_space ? "" : " within the domain") << "\n";
   else
     out << measure << (dim == 1 ? "      " : dim == 2 ? "        " : "      ")
@@ -168,7 +178,7 @@ void print_record(const Network& network, const Domain& domain, const Record& re
   out << "map         ";
   for (std::size_t o = 0; o < region.affine.offset.size(); ++o)
     out << (o ? "\n            " : "") << "F" << (region.affine.offset.size() > 1 ? std::to_string(o + 1) : "")
-        << "(x) = " << affine_text(region.affine.linear.row(o), region.affine.offset[o]);
+        << "(x) = " << affine_text(region.affine.linear.row(o), region.affine.offset[o], exact_only);
   out << "\n";
   out << "rank        adds " << record.rank << " independent rows when taken first (of at most "
       << network.output_dim() * (dim + 1) << ")";
@@ -234,7 +244,7 @@ int run_inspect(const InspectArguments& arguments) {
   }
   for (std::size_t i = 0; i < records.size(); ++i) {
     if (on_boundary || i) std::cout << "\n";
-    print_record(network, domain, records[i], std::cout);
+    print_record(network, domain, records[i], arguments.exact_only, std::cout);
   }
   return 0;
 }
@@ -262,6 +272,8 @@ void register_inspect(CommandTable& commands) {
   at->excludes(pattern);
   pattern->excludes(at);
   command.add_flag("--json", arguments->json, "Print the record(s) as JSON (pleat-inspect/1)");
+  command.add_flag("--exact-only", arguments->exact_only,
+                   "Print exact numbers only (by default a decimal view follows each fraction: 1/3 (\u2248 0.333333))");
   add_domain_options(command, arguments->domain);
   command.callback([at, pattern] {
     if (at->count() == 0 && pattern->count() == 0) throw CLI::RequiredError("--at or --pattern");

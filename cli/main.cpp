@@ -30,6 +30,7 @@ void register_inspect(CommandTable& commands);
 void register_draw(CommandTable& commands);
 void register_import(CommandTable& commands);
 void register_export(CommandTable& commands);
+void register_track(CommandTable& commands);
 
 namespace {
 
@@ -45,6 +46,7 @@ void register_all_commands(CommandTable& commands) {
   register_draw(commands);
   register_import(commands);
   register_export(commands);
+  register_track(commands);
 }
 
 constexpr const char* description =

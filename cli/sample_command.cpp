@@ -395,7 +395,7 @@ int run_sample(const SampleArguments& arguments) {
 
   if (arguments.json) std::cout << json_text(result_to_json(arguments, domain, result));
   else print_result(network, domain, result, std::cout);
-  return result.certified.walk.stop_reason == StopReason::interrupted ? 130 : 0;
+  return result.certified.stop_reason == StopReason::interrupted ? 130 : 0;
 }
 
 constexpr const char* sample_help =

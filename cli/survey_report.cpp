@@ -46,20 +46,6 @@ std::string describe_configuration(const Json& header) {
   return text;
 }
 
-std::string escape_xml(const std::string& text) {
-  std::string out;
-  for (char c : text) {
-    switch (c) {
-      case '&': out += "&amp;"; break;
-      case '<': out += "&lt;"; break;
-      case '>': out += "&gt;"; break;
-      case '"': out += "&quot;"; break;
-      default: out += c;
-    }
-  }
-  return out;
-}
-
 // A round step (1, 2 or 5 times a power of ten) giving about five ticks.
 std::size_t tick_step(std::size_t maximum) {
   std::size_t step = 1;

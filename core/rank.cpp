@@ -14,6 +14,7 @@
 
 #include <algorithm>
 #include <memory>
+#include <mutex>
 #include <string>
 #include <utility>
 
@@ -428,6 +429,150 @@ std::size_t rank_modulo(const ModularMatrix& matrix, std::uint64_t prime) {
   return static_cast<std::size_t>(nmod_mat_rank(work.get()));
 }
 
+// ---- Kernels modulo p and rational reconstruction ---------------------------
+
+namespace {
+
+NmodMatrix& fill_nmod(NmodMatrix& out, const ModularMatrix& matrix, std::uint64_t prime, const char* where) {
+  for (std::size_t r = 0; r < matrix.rows(); ++r)
+    for (std::size_t c = 0; c < matrix.cols(); ++c) {
+      if (matrix(r, c) >= prime) throw usage_error(std::string(where) + ": entry is not a residue");
+      nmod_mat_entry(out.get(), static_cast<slong>(r), static_cast<slong>(c)) = matrix(r, c);
+    }
+  return out;
+}
+
+// The nonzero rows of an nmod_mat in RREF, as a ModularMatrix.
+ModularMatrix leading_rows(NmodMatrix& reduced, std::size_t rank, std::size_t cols) {
+  ModularMatrix out(rank, cols);
+  for (std::size_t r = 0; r < rank; ++r)
+    for (std::size_t c = 0; c < cols; ++c)
+      out(r, c) = nmod_mat_entry(reduced.get(), static_cast<slong>(r), static_cast<slong>(c));
+  return out;
+}
+
+}  // namespace
+
+ModularMatrix row_space_basis_modulo(const ModularMatrix& matrix, std::uint64_t prime) {
+  check_prime_range(prime, "row_space_basis_modulo");
+  if (matrix.rows() == 0 || matrix.cols() == 0) return ModularMatrix(0, matrix.cols());
+  NmodMatrix work(matrix.rows(), matrix.cols(), prime);
+  fill_nmod(work, matrix, prime, "row_space_basis_modulo");
+  const auto rank = static_cast<std::size_t>(nmod_mat_rref(work.get()));
+  return leading_rows(work, rank, matrix.cols());
+}
+
+ModularMatrix kernel_basis_modulo(const ModularMatrix& matrix, std::uint64_t prime) {
+  check_prime_range(prime, "kernel_basis_modulo");
+  const std::size_t cols = matrix.cols();
+  // Eliminate with the columns in reverse order. Each kernel vector read off
+  // that echelon form (1 at a free column f, minus column f at the pivots,
+  // which all lie right of f in the original order, since a reduced row is
+  // zero before its pivot) has its leading 1 at f and 0 at every other free
+  // column: the set is already the canonical (reduced row-echelon) basis,
+  // with no second elimination.
+  std::vector<std::size_t> pivots;  // original column of each pivot
+  std::optional<NmodMatrix> reduced;
+  std::size_t rank = 0;
+  if (matrix.rows() > 0 && cols > 0) {
+    reduced.emplace(matrix.rows(), cols, prime);
+    for (std::size_t r = 0; r < matrix.rows(); ++r)
+      for (std::size_t c = 0; c < cols; ++c) {
+        if (matrix(r, c) >= prime) throw usage_error("kernel_basis_modulo: entry is not a residue");
+        nmod_mat_entry(reduced->get(), static_cast<slong>(r), static_cast<slong>(cols - 1 - c)) = matrix(r, c);
+      }
+    rank = static_cast<std::size_t>(nmod_mat_rref(reduced->get()));
+    for (std::size_t i = 0; i < rank; ++i) {
+      std::size_t c = 0;
+      while (nmod_mat_entry(reduced->get(), static_cast<slong>(i), static_cast<slong>(c)) == 0) ++c;
+      pivots.push_back(c);  // reversed index
+    }
+  }
+  std::vector<bool> is_pivot(cols, false);
+  for (std::size_t c : pivots) is_pivot[c] = true;
+  ModularMatrix kernel(cols - rank, cols);
+  std::size_t row = 0;
+  for (std::size_t f = 0; f < cols; ++f) {  // original order: leading columns increase
+    const std::size_t reversed = cols - 1 - f;
+    if (is_pivot[reversed]) continue;
+    kernel(row, f) = 1;
+    for (std::size_t i = 0; i < rank; ++i) {
+      const std::uint64_t value =
+          nmod_mat_entry(reduced->get(), static_cast<slong>(i), static_cast<slong>(reversed));
+      if (value != 0) kernel(row, cols - 1 - pivots[i]) = prime - value;
+    }
+    ++row;
+  }
+  return kernel;
+}
+
+struct RationalReconstruction::State {
+  std::vector<fmpz> residues;  // row-major, each the CRT value in [0, modulus)
+  fmpz_t modulus;
+};
+
+RationalReconstruction::RationalReconstruction(std::size_t rows, std::size_t cols)
+    : rows_(rows), cols_(cols), state_(new State) {
+  state_->residues.resize(rows * cols);
+  for (fmpz& value : state_->residues) fmpz_init(&value);
+  fmpz_init_set_ui(state_->modulus, 1);
+}
+
+RationalReconstruction::~RationalReconstruction() {
+  for (fmpz& value : state_->residues) fmpz_clear(&value);
+  fmpz_clear(state_->modulus);
+  delete state_;
+}
+
+void RationalReconstruction::add_image(const ModularMatrix& image, std::uint64_t prime) {
+  check_prime_range(prime, "RationalReconstruction::add_image");
+  if (image.rows() != rows_ || image.cols() != cols_)
+    throw usage_error("RationalReconstruction::add_image: the image's shape differs");
+  if (primes_ == 0) {
+    for (std::size_t r = 0; r < rows_; ++r)
+      for (std::size_t c = 0; c < cols_; ++c) fmpz_set_ui(&state_->residues[r * cols_ + c], image(r, c));
+  } else {
+    fmpz_t combined;
+    fmpz_init(combined);
+    for (std::size_t r = 0; r < rows_; ++r)
+      for (std::size_t c = 0; c < cols_; ++c) {
+        fmpz* value = &state_->residues[r * cols_ + c];
+        // Zero modulo everything so far and modulo this prime: stays zero.
+        if (fmpz_is_zero(value) && image(r, c) == 0) continue;
+        fmpz_CRT_ui(combined, value, state_->modulus, image(r, c), prime, 0);
+        fmpz_swap(value, combined);
+      }
+    fmpz_clear(combined);
+  }
+  fmpz_mul_ui(state_->modulus, state_->modulus, prime);
+  ++primes_;
+}
+
+std::optional<RationalMatrix> RationalReconstruction::reconstruct() const {
+  if (primes_ == 0) return std::nullopt;
+  RationalMatrix out(rows_, cols_);
+  fmpq_t value;
+  fmpq_init(value);
+  bool ok = true;
+  for (std::size_t i = 0; i < rows_ * cols_ && ok; ++i) {
+    const fmpz* residue = &state_->residues[i];
+    if (fmpz_is_zero(residue)) continue;
+    ok = fmpq_reconstruct_fmpz(value, residue, state_->modulus) != 0;
+    if (ok) fmpq_get_mpq(out(i / cols_, i % cols_).get_mpq_t(), value);
+  }
+  fmpq_clear(value);
+  if (!ok) return std::nullopt;
+  return out;
+}
+
+std::uint64_t prime_sequence(std::size_t index) {
+  static std::mutex mutex;
+  static std::vector<std::uint64_t> primes;
+  const std::lock_guard lock(mutex);
+  while (primes.size() <= index) primes.push_back(n_nextprime(primes.empty() ? primary_prime() : primes.back(), 1));
+  return primes[index];
+}
+
 // ---- Incremental modular row basis ------------------------------------------
 
 namespace {
@@ -530,6 +675,15 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
   free_columns_.erase(free_columns_.begin() + position);
   free_parts_.push_back(std::move(reduced));
   return true;
+}
+
+ModularMatrix ModularRowBasis::rows() const {
+  ModularMatrix out(pivot_columns_.size(), columns_);
+  for (std::size_t i = 0; i < pivot_columns_.size(); ++i) {
+    out(i, pivot_columns_[i]) = 1;
+    for (std::size_t q = 0; q < free_columns_.size(); ++q) out(i, free_columns_[q]) = free_parts_[i][q];
+  }
+  return out;
 }
 
 bool ModularRowBasis::contains(const ModularVector& row) const {

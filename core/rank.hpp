@@ -84,6 +84,52 @@ std::optional<ModularMatrix> reduce_modulo(const RationalMatrix& matrix, std::ui
 // of any rational matrix that reduces to M (see the top of this header).
 std::size_t rank_modulo(const ModularMatrix& matrix, std::uint64_t prime);
 
+// ---- Kernels modulo p and rational reconstruction ---------------------------
+
+// The reduced row-echelon form of M mod p (leading 1s) with its zero rows
+// removed: the canonical basis of M's row space mod p. Precondition: entries
+// are residues (throws usage_error).
+ModularMatrix row_space_basis_modulo(const ModularMatrix& matrix, std::uint64_t prime);
+
+// The canonical basis of {v : M v = 0 mod p}: its reduced row-echelon form
+// (leading 1s, leading columns increasing), cols(M) - rank_p(M) rows, from
+// one elimination of M with its columns reversed. Same precondition.
+ModularMatrix kernel_basis_modulo(const ModularMatrix& matrix, std::uint64_t prime);
+
+// A rational matrix of a fixed shape recovered from its images modulo
+// distinct primes: Chinese remaindering of the images, then rational
+// reconstruction of each entry (numerator and denominator up to
+// sqrt(product / 2)). Nothing here is proved: a reconstruction is a
+// candidate the caller must verify exactly.
+class RationalReconstruction {
+ public:
+  RationalReconstruction(std::size_t rows, std::size_t cols);
+  ~RationalReconstruction();
+  RationalReconstruction(const RationalReconstruction&) = delete;
+  RationalReconstruction& operator=(const RationalReconstruction&) = delete;
+
+  // Adds the image modulo a prime not used before (coprime to the others).
+  // Precondition: image has the shape given at construction (usage_error).
+  void add_image(const ModularMatrix& image, std::uint64_t prime);
+  // The candidate, or nullopt when some entry has no reconstruction yet
+  // (more primes needed).
+  std::optional<RationalMatrix> reconstruct() const;
+  std::size_t primes() const { return primes_; }
+  std::size_t rows() const { return rows_; }
+  std::size_t cols() const { return cols_; }
+
+ private:
+  struct State;
+  std::size_t rows_, cols_, primes_ = 0;
+  State* state_;
+};
+
+// Word-size primes below 2^62, decreasing from the primary prime's
+// neighbourhood, for multi-modular work: prime_sequence(i) is the i-th of a
+// fixed list (the same on every run), never equal to primary_prime() or
+// screening_prime().
+std::uint64_t prime_sequence(std::size_t index);
+
 // ---- Incremental modular row basis ------------------------------------------
 
 // The walker's lower-bound accumulator: the reduced row-echelon basis modulo a
@@ -118,6 +164,9 @@ class ModularRowBasis {
   // r x r minor that is nonsingular mod p (hence over Q): the certificate
   // behind rank().
   const std::vector<std::size_t>& pivot_columns() const { return pivot_columns_; }
+  // rank() x columns() rows spanning the same space mod p as every row added
+  // (the stored echelon form: 1 at its pivot, 0 at the other pivots).
+  ModularMatrix rows() const;
 
  private:
   // row minus its projection on the kept rows, on free_columns_ only (zero

@@ -4,8 +4,13 @@
 #include "core/rank.hpp"
 
 #include <algorithm>
+#include <atomic>
 #include <chrono>
+#include <exception>
+#include <functional>
+#include <mutex>
 #include <set>
+#include <thread>
 
 namespace pleat {
 namespace {
@@ -19,35 +24,6 @@ RationalMatrix stack_rows(const std::vector<RationalMatrix>& blocks, std::size_t
     for (std::size_t i = 0; i < block.rows(); ++i, ++r)
       for (std::size_t c = 0; c < columns; ++c) out(r, c) = block(i, c);
   return out;
-}
-
-__extension__ typedef unsigned __int128 Unsigned128;  // GCC/Clang; the product of two residues < 2^64
-
-std::uint64_t mulmod(std::uint64_t a, std::uint64_t b, std::uint64_t p) {
-  return static_cast<std::uint64_t>(static_cast<Unsigned128>(a) * b % p);
-}
-
-// True when every row of blocks (mod p) is orthogonal to every kernel row (mod p).
-bool is_annihilated_mod(const ModularMatrix& blocks, const ModularMatrix& kernel, std::uint64_t p) {
-  for (std::size_t r = 0; r < blocks.rows(); ++r)
-    for (std::size_t k = 0; k < kernel.rows(); ++k) {
-      std::uint64_t sum = 0;
-      for (std::size_t c = 0; c < blocks.cols(); ++c)
-        if (blocks(r, c) && kernel(k, c)) sum = (sum + mulmod(blocks(r, c), kernel(k, c), p)) % p;
-      if (sum != 0) return false;
-    }
-  return true;
-}
-
-bool is_annihilated_exact(const RationalMatrix& blocks, const RationalMatrix& kernel) {
-  for (std::size_t r = 0; r < blocks.rows(); ++r)
-    for (std::size_t k = 0; k < kernel.rows(); ++k) {
-      Rational sum = 0;
-      for (std::size_t c = 0; c < blocks.cols(); ++c)
-        if (blocks(r, c) != 0 && kernel(k, c) != 0) sum += blocks(r, c) * kernel(k, c);
-      if (sum != 0) return false;
-    }
-  return true;
 }
 
 // Per-neuron activity over the walked regions, for naming mechanisms.
@@ -209,31 +185,371 @@ std::size_t batch_functional_dimension(const Network& network, const std::vector
   return rank_exact(stack_rows(blocks, network.parametric_dimension()));
 }
 
+namespace {
+
+// ---- The proof after the walk ----------------------------------------------
+//
+// The walk leaves a modular row basis (prime p) of every smooth region's
+// coefficient-block rows, rank r. Its kernel mod p, reduced modulo the
+// scaling directions S, is the image of the extra directions E (the canonical
+// basis of kernel / span(S)). E is lifted to Q by rational reconstruction from
+// the kept rows' images modulo further primes, then proved: every row of E
+// annihilates every smooth region's rows exactly (below), S does so by
+// construction (core/jacobian.hpp), so rank <= D - rank(S u E) <= D -
+// rank_p(S u E); and rank >= r (the basis' nonsingular minor). Equal: certified.
+
+// Which rows of which region rose the walk's rank (their images modulo any
+// prime stack to an r x D matrix whose kernel contains the true kernel).
+struct KeptRows {
+  ActivationPattern pattern;
+  std::vector<std::size_t> rows;
+};
+
+ModularMatrix kept_rows_modulo(const ModularNetwork& network, const std::vector<KeptRows>& kept, std::size_t rank,
+                               std::size_t columns) {
+  ModularMatrix out(rank, columns);
+  std::size_t r = 0;
+  for (const KeptRows& region : kept) {
+    const ModularMatrix blocks = coefficient_blocks_mod(network, region.pattern);
+    for (std::size_t row : region.rows) {
+      for (std::size_t c = 0; c < columns; ++c) out(r, c) = blocks(row, c);
+      ++r;
+    }
+  }
+  return out;
+}
+
+// B with |row_c| <= B_c for every coefficient-block row of every pattern:
+// the entries are sums of products of parameters (core/jacobian.hpp: only
+// additions and multiplications, patterns only drop terms), so the blocks of
+// the network of |theta| with every neuron on bound them entrywise. Exact.
+RationalVector coefficient_bounds(const Network& network) {
+  Network absolute = network;
+  for (Layer& layer : absolute.layers) {
+    for (std::size_t r = 0; r < layer.weights.rows(); ++r)
+      for (std::size_t c = 0; c < layer.weights.cols(); ++c) layer.weights(r, c) = abs(layer.weights(r, c));
+    for (Rational& b : layer.bias) b = abs(b);
+  }
+  ActivationPattern all_on;
+  all_on.states.assign(network.relu_neuron_count(), NeuronState::on);
+  const RationalMatrix blocks = coefficient_blocks(absolute, all_on);
+  RationalVector bound(blocks.cols(), Rational(0));
+  for (std::size_t r = 0; r < blocks.rows(); ++r)
+    for (std::size_t c = 0; c < blocks.cols(); ++c)
+      if (blocks(r, c) > bound[c]) bound[c] = blocks(r, c);
+  return bound;
+}
+
+// The least common multiple of every parameter's denominator.
+Integer denominator_lcm(const Network& network) {
+  Integer lcm = 1;
+  for (const Layer& layer : network.layers) {
+    for (std::size_t r = 0; r < layer.weights.rows(); ++r)
+      for (std::size_t c = 0; c < layer.weights.cols(); ++c)
+        mpz_lcm(lcm.get_mpz_t(), lcm.get_mpz_t(), layer.weights(r, c).get_den_mpz_t());
+    for (const Rational& b : layer.bias) mpz_lcm(lcm.get_mpz_t(), lcm.get_mpz_t(), b.get_den_mpz_t());
+  }
+  return lcm;
+}
+
+// A rational row scaled by a positive number to a primitive integer vector.
+std::vector<Integer> primitive_integer_row(const RationalVector& row) {
+  Integer scale = 1, content = 0;
+  for (const Rational& v : row) mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), v.get_den_mpz_t());
+  std::vector<Integer> out(row.size());
+  for (std::size_t c = 0; c < row.size(); ++c) {
+    out[c] = row[c].get_num() * (scale / row[c].get_den());
+    mpz_gcd(content.get_mpz_t(), content.get_mpz_t(), out[c].get_mpz_t());
+  }
+  if (content > 1)
+    for (Integer& v : out) v /= content;
+  return out;
+}
+
+// A deterministic exact test that given integer vectors annihilate a
+// pattern's coefficient-block rows, in word arithmetic. For a row of the
+// blocks and an integer vector e, N = L^d (row . e) is an integer (entries are
+// polynomials of degree < d in theta with integer coefficients; L = lcm of the
+// parameters' denominators) and |N| <= L^d sum_c B_c |e_c| (coefficient_bounds).
+// N = 0 mod primes whose product exceeds that bound proves N = 0 (Chinese
+// remainder theorem); the first prime also screens out failures quickly.
+class AnnihilationCheck {
+ public:
+  AnnihilationCheck(const Network& network, const RationalMatrix& vectors) : vector_count_(vectors.rows()) {
+    if (vector_count_ == 0) return;
+    const RationalVector bounds = coefficient_bounds(network);
+    Integer scale = 1;
+    const Integer lcm = denominator_lcm(network);
+    for (std::size_t k = 0; k < network.depth(); ++k) scale *= lcm;
+    std::vector<std::vector<Integer>> integer_rows;
+    Rational largest = 0;
+    for (std::size_t r = 0; r < vectors.rows(); ++r) {
+      integer_rows.push_back(primitive_integer_row(vectors.row(r)));
+      Rational sum = 0;
+      for (std::size_t c = 0; c < vectors.cols(); ++c)
+        if (integer_rows.back()[c] != 0) sum += bounds[c] * Rational(abs(integer_rows.back()[c]));
+      if (sum > largest) largest = sum;
+    }
+    const Rational bound = largest * Rational(scale);
+    Integer product = 1;
+    for (std::size_t index = 0; Rational(product) <= bound; ++index) {
+      const std::uint64_t prime = prime_sequence(index);
+      auto reduced = reduce_modulo(network, prime);
+      if (!reduced) continue;  // the prime divides a denominator
+      product *= Integer(static_cast<unsigned long>(prime));
+      Modulus modulus{std::move(*reduced), {}};
+      for (const auto& row : integer_rows) {
+        std::vector<std::pair<std::size_t, std::uint64_t>> sparse;
+        for (std::size_t c = 0; c < row.size(); ++c)
+          if (row[c] != 0) sparse.emplace_back(c, *reduce_modulo(Rational(row[c]), prime));
+        modulus.vectors.push_back(std::move(sparse));
+      }
+      moduli_.push_back(std::move(modulus));
+    }
+  }
+
+  std::size_t primes() const { return moduli_.size(); }
+
+  // True exactly when every vector annihilates every row of the pattern's blocks.
+  bool annihilates(const ActivationPattern& pattern) const {
+    for (const Modulus& modulus : moduli_) {
+      const std::uint64_t prime = modulus.network.prime;
+      const ModularMatrix blocks = coefficient_blocks_mod(modulus.network, pattern);
+      for (std::size_t r = 0; r < blocks.rows(); ++r)
+        for (const auto& vector : modulus.vectors) {
+          Wide sum = 0;  // at most D products below 2^124 each: no overflow for D < 16
+          std::uint64_t reduced = 0;
+          std::size_t pending = 0;
+          for (const auto& [c, value] : vector) {
+            if (blocks(r, c) == 0) continue;
+            sum += static_cast<Wide>(blocks(r, c)) * value;
+            if (++pending == 8) {  // 8 products < 2^127: reduce before it could wrap
+              reduced = static_cast<std::uint64_t>((reduced + sum % prime) % prime);
+              sum = 0;
+              pending = 0;
+            }
+          }
+          reduced = static_cast<std::uint64_t>((reduced + sum % prime) % prime);
+          if (reduced != 0) return false;
+        }
+    }
+    return true;
+  }
+
+ private:
+  __extension__ typedef unsigned __int128 Wide;
+  struct Modulus {
+    ModularNetwork network;
+    std::vector<std::vector<std::pair<std::size_t, std::uint64_t>>> vectors;  // sparse, residues
+  };
+  std::size_t vector_count_;
+  std::vector<Modulus> moduli_;
+};
+
+// The smallest index of a pattern the check rejects, checked on `threads`
+// threads (the answer does not depend on their number), or nullopt when all
+// pass. Sets stopped (and returns nullopt) when the stop request fires.
+std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,
+                                                  const std::vector<ActivationPattern>& patterns, unsigned threads,
+                                                  const StopRequest& stop, bool& stopped,
+                                                  const std::function<void(std::size_t, std::size_t)>& progress) {
+  std::atomic<std::size_t> next{0}, done{0};
+  std::atomic<std::size_t> first_rejected{patterns.size()};
+  std::atomic<bool> halt{false};
+  std::mutex error_mutex;
+  std::exception_ptr error;
+  auto work = [&](bool reports) {
+    try {
+      for (std::size_t i; !halt && (i = next++) < patterns.size();) {
+        if (i > first_rejected.load()) continue;  // a smaller index already failed
+        if (stop.is_requested()) {
+          halt = true;
+          break;
+        }
+        if (!check.annihilates(patterns[i])) {
+          std::size_t current = first_rejected.load();
+          while (i < current && !first_rejected.compare_exchange_weak(current, i)) {
+          }
+        }
+        ++done;
+        if (reports && progress) progress(done.load(), patterns.size());
+      }
+    } catch (...) {
+      const std::lock_guard lock(error_mutex);
+      if (!error) error = std::current_exception();
+      halt = true;
+    }
+  };
+  threads = static_cast<unsigned>(std::max<std::size_t>(1, std::min<std::size_t>(threads, patterns.size())));
+  std::vector<std::thread> pool;
+  for (unsigned t = 1; t < threads; ++t) pool.emplace_back(work, false);
+  work(true);
+  for (auto& thread : pool) thread.join();
+  if (error) std::rethrow_exception(error);
+  if (halt && stop.is_requested()) {
+    stopped = true;
+    return std::nullopt;
+  }
+  if (first_rejected.load() < patterns.size()) return first_rejected.load();
+  return std::nullopt;
+}
+
+// The leading column of each row of an echelon matrix (its shape).
+std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon) {
+  std::vector<std::size_t> leads;
+  for (std::size_t r = 0; r < echelon.rows(); ++r) {
+    std::size_t c = 0;
+    while (c < echelon.cols() && echelon(r, c) == 0) ++c;
+    leads.push_back(c);
+  }
+  return leads;
+}
+
+// The extra directions E modulo p: the canonical kernel basis of the rows
+// stacked with unit rows at Q (the pivot columns of the scaling directions'
+// echelon form): the kernel vectors that vanish at Q, a complement of the
+// scaling directions in the kernel.
+ModularMatrix extra_directions_of_rows(ModularMatrix rows, const std::vector<std::size_t>& scaling_pivots,
+                                       std::uint64_t prime) {
+  ModularMatrix stacked(rows.rows() + scaling_pivots.size(), rows.cols());
+  for (std::size_t r = 0; r < rows.rows(); ++r)
+    for (std::size_t c = 0; c < rows.cols(); ++c) stacked(r, c) = rows(r, c);
+  for (std::size_t i = 0; i < scaling_pivots.size(); ++i) stacked(rows.rows() + i, scaling_pivots[i]) = 1;
+  return kernel_basis_modulo(stacked, prime);
+}
+
+// The same from the kept rows' images modulo another prime, or nullopt when
+// the prime divides a denominator.
+std::optional<ModularMatrix> extra_directions_modulo(const Network& network, const std::vector<KeptRows>& kept,
+                                                     std::size_t rank,
+                                                     const std::vector<std::size_t>& scaling_pivots,
+                                                     std::uint64_t prime) {
+  auto reduced = reduce_modulo(network, prime);
+  if (!reduced) return std::nullopt;
+  return extra_directions_of_rows(kept_rows_modulo(*reduced, kept, rank, network.parametric_dimension()),
+                                  scaling_pivots, prime);
+}
+
+// Lifts the extra directions from their image modulo the walk's prime:
+// adds primes until two successive reconstructions agree. Returns nullopt
+// when stopped (stopped is set) or when no reconstruction settles within
+// max_primes primes.
+std::optional<RationalMatrix> lift_extra_directions(const Network& network,
+                                                    const std::vector<std::size_t>& scaling_pivots,
+                                                    const std::vector<KeptRows>& kept, std::size_t rank,
+                                                    const ModularMatrix& first_image, std::uint64_t first_prime,
+                                                    std::size_t& next_prime_index, const StopRequest& stop,
+                                                    bool& stopped,
+                                                    const std::function<void(std::size_t)>& progress) {
+  RationalReconstruction lifting(first_image.rows(), first_image.cols());
+  lifting.add_image(first_image, first_prime);
+  const std::vector<std::size_t> shape = echelon_shape(first_image);
+  std::optional<RationalMatrix> previous = lifting.reconstruct();
+  constexpr std::size_t max_primes = 4096;
+  while (lifting.primes() < max_primes) {
+    if (stop.is_requested()) {
+      stopped = true;
+      return std::nullopt;
+    }
+    const std::uint64_t prime = prime_sequence(next_prime_index++);
+    if (prime == first_prime) continue;
+    const auto image = extra_directions_modulo(network, kept, rank, scaling_pivots, prime);
+    if (!image || image->rows() != first_image.rows() || echelon_shape(*image) != shape) continue;
+    lifting.add_image(*image, prime);
+    if (progress) progress(lifting.primes());
+    std::optional<RationalMatrix> current = lifting.reconstruct();
+    if (current && previous && *current == *previous) return current;
+    previous = std::move(current);
+  }
+  return std::nullopt;
+}
+
+// Whether E vanishes at the columns Q and is in reduced row-echelon form
+// with leading 1s: then S u E is independent whenever S restricted to Q is
+// nonsingular (a combination vanishing at Q has no S part; E's leading 1s
+// then force the rest to zero). Exact.
+bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>& columns) {
+  std::vector<bool> is_excluded(extra.cols(), false);
+  for (std::size_t c : columns) is_excluded[c] = true;
+  std::size_t previous = 0;
+  for (std::size_t r = 0; r < extra.rows(); ++r) {
+    std::size_t lead = 0;
+    while (lead < extra.cols() && extra(r, lead) == 0) ++lead;
+    if (lead == extra.cols() || extra(r, lead) != 1 || (r > 0 && lead <= previous)) return false;
+    for (std::size_t other = 0; other < extra.rows(); ++other)
+      if (other != r && extra(other, lead) != 0) return false;
+    for (std::size_t c : columns)
+      if (extra(r, c) != 0) return false;
+    previous = lead;
+  }
+  return true;
+}
+
+// Rows of S that are independent modulo p (hence over Q), in order.
+RationalMatrix independent_rows(const RationalMatrix& rows, std::uint64_t prime) {
+  ModularRowBasis basis(prime, rows.cols());
+  std::vector<std::size_t> chosen;
+  const auto image = reduce_modulo(rows, prime);
+  for (std::size_t r = 0; r < rows.rows(); ++r)
+    if (image && basis.add_row(image->row(r))) chosen.push_back(r);
+  RationalMatrix out(chosen.size(), rows.cols());
+  for (std::size_t i = 0; i < chosen.size(); ++i) out.set_row(i, rows.row(chosen[i]));
+  return out;
+}
+
+RationalMatrix stack_matrices(const RationalMatrix& top, const RationalMatrix& bottom) {
+  RationalMatrix out(top.rows() + bottom.rows(), top.cols());
+  for (std::size_t r = 0; r < top.rows(); ++r) out.set_row(r, top.row(r));
+  for (std::size_t r = 0; r < bottom.rows(); ++r) out.set_row(top.rows() + r, bottom.row(r));
+  return out;
+}
+
+}  // namespace
+
+std::optional<std::size_t> first_region_not_annihilated(const Network& network, const RationalMatrix& vectors,
+                                                        const std::vector<ActivationPattern>& patterns,
+                                                        unsigned threads) {
+  if (vectors.cols() != network.parametric_dimension())
+    throw usage_error("first_region_not_annihilated: the vectors need one entry per parameter");
+  if (vectors.rows() == 0) return std::nullopt;
+  const AnnihilationCheck check(network, vectors);
+  bool stopped = false;
+  return first_rejected_pattern(check, patterns, std::max(1u, threads), StopRequest(), stopped, {});
+}
+
 FunctionalDimensionResult certify_functional_dimension(const Network& network, const Domain& domain,
                                                        const FunctionalDimensionOptions& options) {
   const auto started = std::chrono::steady_clock::now();
+  const StopRequest stop(options.walk.interrupt, options.walk.time_limit_seconds);
   FunctionalDimensionResult result;
   const std::size_t parameters = network.parametric_dimension();
   result.parametric_dimension = parameters;
   const RationalMatrix scaling = scaling_directions(network);
   result.scaling_bound = scaling_bound(network);
+  auto report = [&](const char* phase, std::size_t done, std::size_t total) {
+    if (options.on_phase) options.on_phase(CertifyProgress{phase, done, total, stop.elapsed_seconds()});
+  };
 
   const ModularNetwork modular = reduce_modulo_some_prime(network, primary_prime());
   ModularRowBasis basis(modular.prime, parameters);
-  std::vector<ActivationPattern> contributing;
+  std::vector<KeptRows> kept;
   std::vector<ActivationPattern> smooth;
   NeuronActivity activity(network.relu_neuron_count());
 
+  auto add_region_rows = [&](const ActivationPattern& pattern) {
+    const ModularMatrix rows = coefficient_blocks_mod(modular, pattern);
+    KeptRows region{pattern, {}};
+    for (std::size_t r = 0; r < rows.rows(); ++r)
+      if (basis.add_row(rows.row(r))) region.rows.push_back(r);
+    if (!region.rows.empty()) kept.push_back(std::move(region));
+  };
   WalkOptions walk_options = options.walk;
   walk_options.on_region = [&](const Region& region) {
     ++result.regions_walked;
     activity.record(region.pattern);
     if (!region.nonsmooth_neurons.empty()) return true;  // no smooth points: no rows
     smooth.push_back(region.pattern);
-    const ModularMatrix rows = coefficient_blocks_mod(modular, region.pattern);
-    bool rose = false;
-    for (std::size_t r = 0; r < rows.rows(); ++r) rose = basis.add_row(rows.row(r)) || rose;
-    if (rose) contributing.push_back(region.pattern);
+    add_region_rows(region.pattern);
     if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) {
       result.early_stop = true;
       return false;
@@ -243,67 +559,103 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   result.walk = walk_regions(network, domain, walk_options);
   result.walk_complete = result.walk.complete;
   result.nonsmooth_regions = result.walk.nonsmooth_regions;
+  result.stop_reason = result.early_stop ? StopReason::none : result.walk.stop_reason;
+  // Proved whatever happens next: the kept rows' nonsingular minor, the scaling kernel.
+  result.lower_bound = basis.rank();
+  result.upper_bound = result.scaling_bound;
 
-  auto exact_rows_of = [&](const std::vector<ActivationPattern>& patterns) {
-    std::vector<RationalMatrix> blocks;
-    for (const auto& pattern : patterns) blocks.push_back(coefficient_blocks(network, pattern));
-    return stack_rows(blocks, parameters);
+  bool stopped = false;
+  auto stop_now = [&] {
+    if (StopReason reason = stop.reason(); reason != StopReason::none) {
+      result.stop_reason = reason;
+      stopped = true;
+    }
+    return stopped;
+  };
+
+  // Lifts the extra directions, proves them on every smooth region, names
+  // their mechanisms. A region the check rejects either raises the rank
+  // (its rows were hidden by the walk's prime: add them) or shows the lift
+  // was wrong (lift again with fresh primes); both happen rarely, and at most
+  // D + 8 times in all before giving up with bounds.
+  auto prove_by_extra_directions = [&] {
+    const unsigned threads =
+        options.walk.threads ? options.walk.threads : std::max(1u, std::thread::hardware_concurrency());
+    // The scaling directions' independent rows and pivot columns Q modulo
+    // the walk's prime; S restricted to Q is nonsingular mod p, hence over Q.
+    const RationalMatrix scaling_rows = independent_rows(scaling, modular.prime);
+    const ModularMatrix scaling_echelon = row_space_basis_modulo(*reduce_modulo(scaling_rows, modular.prime), modular.prime);
+    std::vector<std::size_t> scaling_pivots;
+    for (std::size_t r = 0; r < scaling_echelon.rows(); ++r) {
+      std::size_t c = 0;
+      while (scaling_echelon(r, c) == 0) ++c;
+      scaling_pivots.push_back(c);
+    }
+    std::size_t next_prime_index = 0;
+    for (std::size_t attempt = 0; attempt < parameters + 8 && !stopped; ++attempt) {
+      report("kernel", 0, 0);
+      const ModularMatrix first_image = extra_directions_of_rows(basis.rows(), scaling_pivots, modular.prime);
+      RationalMatrix extra(0, parameters);
+      if (first_image.rows() > 0) {
+        auto lifted = lift_extra_directions(network, scaling_pivots, kept, basis.rank(), first_image, modular.prime,
+                                            next_prime_index, stop, stopped,
+                                            [&](std::size_t primes) { report("kernel", primes, 0); });
+        if (stopped) result.stop_reason = stop.reason();
+        if (!lifted) return;  // stopped, or no reconstruction settled: bounds only
+        extra = std::move(*lifted);
+      }
+      if (stop_now()) return;
+      if (extra.rows() > 0) {
+        const AnnihilationCheck check(network, extra);
+        const auto rejected = first_rejected_pattern(check, smooth, threads, stop, stopped,
+                                                     [&](std::size_t done, std::size_t total) {
+                                                       report("check", done, total);
+                                                     });
+        if (stopped) {
+          result.stop_reason = stop.reason();
+          return;
+        }
+        if (rejected) {
+          const std::size_t rank_before = basis.rank();
+          add_region_rows(smooth[*rejected]);
+          if (basis.rank() == rank_before) next_prime_index += 1;
+          continue;
+        }
+      }
+      // Proved: S and E annihilate every smooth region's rows exactly.
+      // Independent: E is echelon and vanishes on Q (checked exactly here).
+      if (!is_echelon_off(extra, scaling_pivots)) return;
+      const RationalMatrix kernel = stack_matrices(scaling_rows, extra);
+      result.lower_bound = basis.rank();
+      result.upper_bound = std::min(result.scaling_bound, parameters - kernel.rows());
+      result.kernel = kernel;
+      const auto neuron_parameters = hidden_neuron_parameters(network);
+      for (std::size_t r = 0; r < extra.rows(); ++r) {
+        if (stop_now()) return;
+        report("naming", r, extra.rows());
+        ExtraKernelDirection direction{extra.row(r), "", {}};
+        recognise_mechanism(network, activity, neuron_parameters, direction);
+        result.extra_kernel.push_back(std::move(direction));
+      }
+      result.certified = result.lower_bound == result.upper_bound;
+      return;
+    }
   };
 
   if (result.early_stop) {
-    // Lower: the kept rows' nonsingular minor mod p. Upper: the scaling kernel.
-    result.lower_bound = result.upper_bound = result.scaling_bound;
     result.certified = true;
-  } else if (result.walk.certified) {
-    // Upper bound from an exact kernel of the contributing rows, checked
-    // against every smooth region; a region that fails adds its rows.
-    RationalMatrix rows = exact_rows_of(contributing);
-    const ModularNetwork screen = reduce_modulo_some_prime(network, screening_prime());
-    for (;;) {
-      const RationalMatrix kernel = kernel_basis_exact(rows);
-      const std::optional<ModularMatrix> kernel_mod = reduce_modulo(kernel, screen.prime);
-      std::optional<ActivationPattern> failing;
-      for (const auto& pattern : smooth) {
-        if (kernel.rows() == 0) break;
-        if (kernel_mod && !is_annihilated_mod(coefficient_blocks_mod(screen, pattern), *kernel_mod, screen.prime)) {
-          failing = pattern;
-          break;
-        }
-        if (!is_annihilated_exact(coefficient_blocks(network, pattern), kernel)) {
-          failing = pattern;
-          break;
-        }
-      }
-      if (!failing) {
-        result.kernel = kernel;
-        break;
-      }
-      contributing.push_back(*failing);
-      rows = exact_rows_of(contributing);
-    }
-    // kernel_basis_exact proves both sides: every kernel row annihilates the
-    // rows exactly (rank <= D - k) and the rows' rank mod p is D - k (rank >= D - k).
-    result.lower_bound = parameters - result.kernel.rows();
-    result.upper_bound = parameters - result.kernel.rows();
-    result.certified = result.lower_bound == result.upper_bound;
-    if (options.keep_rows) result.rows = rows;
+  } else if (result.walk.certified && !stop_now()) {
+    prove_by_extra_directions();
   } else {
-    result.lower_bound = basis.rank();
-    result.upper_bound = result.scaling_bound;
-    result.certified = result.lower_bound == result.upper_bound;
+    // A walk cut short or with an anomaly: the two proved bounds only.
+    result.certified = result.lower_bound == result.upper_bound && result.stop_reason == StopReason::none;
   }
   if (result.certified) result.functional_dimension = result.lower_bound;
-  if (options.keep_rows && result.rows.rows() == 0 && !contributing.empty()) result.rows = exact_rows_of(contributing);
-  result.regions_contributing = contributing.size();
-
-  if (result.kernel.rows() > 0) {
-    const RationalMatrix extra = extra_kernel_basis(result.kernel, scaling);
-    const auto neuron_parameters = hidden_neuron_parameters(network);
-    for (std::size_t r = 0; r < extra.rows(); ++r) {
-      ExtraKernelDirection direction{extra.row(r), "", {}};
-      recognise_mechanism(network, activity, neuron_parameters, direction);
-      result.extra_kernel.push_back(std::move(direction));
-    }
+  result.regions_contributing = kept.size();
+  if (options.keep_rows && !kept.empty()) {
+    std::vector<RationalMatrix> blocks;
+    for (const KeptRows& region : kept) blocks.push_back(coefficient_blocks(network, region.pattern));
+    result.rows = stack_rows(blocks, parameters);
   }
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   return result;

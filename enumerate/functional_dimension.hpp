@@ -5,18 +5,23 @@
 // Lower bound: coefficient-block rows reduced modulo a word-size prime as the
 // walk delivers regions (a rank mod p never exceeds the rank over Q). Upper
 // bound: the scaling bound (every row is orthogonal to every hidden neuron's
-// scaling direction), or, when the rank stays below it, an exact rational
-// kernel basis checked against every region's exact rows. certified is true
-// only when the two bounds meet and both are proved.
+// scaling direction), or, when the rank stays below it, the scaling
+// directions plus the extra kernel directions: read modulo p off the walk's
+// basis, lifted to Q by rational reconstruction, and proved exactly on every
+// smooth region (multi-modular, with a proved bound on the entries: a
+// deterministic proof of zero), on all threads. certified is true only when
+// the two bounds meet, both are proved and nothing stopped the run.
 #pragma once
 
 #include "core/matrix.hpp"
 #include "core/network.hpp"
 #include "core/pattern.hpp"
+#include "core/stop.hpp"
 #include "enumerate/domain.hpp"
 #include "enumerate/walker.hpp"
 
 #include <cstddef>
+#include <functional>
 #include <optional>
 #include <string>
 #include <vector>
@@ -32,8 +37,23 @@ struct ExtraKernelDirection {
   std::vector<std::size_t> neurons;
 };
 
+// Progress after the walk: phase "kernel" (done = primes used to lift the
+// extra directions), "check" (done of total smooth regions checked) or
+// "naming" (done of total extra directions named).
+struct CertifyProgress {
+  const char* phase = "";
+  std::size_t done = 0;
+  std::size_t total = 0;  // 0 when unknown
+  double seconds = 0;     // since certify started
+};
+
 struct FunctionalDimensionOptions {
-  WalkOptions walk;        // threads, limits, interrupt, progress (on_region is taken over)
+  // threads, limits, interrupt, progress (on_region is taken over). The time
+  // limit and the interrupt cover every phase, not only the walk: a stopped
+  // run returns its proved bounds, certified = false.
+  WalkOptions walk;
+  // Called from the calling thread during the phases after the walk.
+  std::function<void(const CertifyProgress&)> on_phase;
   bool stop_at_scaling_bound = true;
   bool keep_rows = false;  // fill FunctionalDimensionResult::rows (exact rows of contributing regions)
 };
@@ -49,17 +69,34 @@ struct FunctionalDimensionResult {
   std::size_t regions_contributing = 0;
   bool walk_complete = false;
   bool early_stop = false;
+  // Why the run stopped before its end: the walk's reason, or the time limit
+  // or interrupt seen in a later phase; none when it ran to its end (an
+  // early stop at the scaling bound is an end).
+  StopReason stop_reason = StopReason::none;
   WalkSummary walk;
   std::vector<std::pair<ActivationPattern, std::vector<std::size_t>>> nonsmooth_regions;
   std::vector<ExtraKernelDirection> extra_kernel;
   RationalMatrix rows;    // with keep_rows: exact coefficient-block rows of the contributing regions
-  RationalMatrix kernel;  // the exact kernel basis checked against every region (empty on early stop)
+  // A basis of the exact kernel proved on every smooth region: the scaling
+  // directions independent modulo p, then the extra directions (empty on an
+  // early stop or when cut short).
+  RationalMatrix kernel;
   double seconds = 0;
 };
 
 // Precondition: domain.dim == network.input_dim.
 FunctionalDimensionResult certify_functional_dimension(const Network& network, const Domain& domain,
                                                        const FunctionalDimensionOptions& options);
+
+// The smallest index of a pattern whose coefficient-block rows some row of
+// vectors (length D each) does not annihilate, or nullopt when every row
+// annihilates every pattern's rows. Exact and deterministic: word arithmetic
+// modulo primes whose product exceeds a proved bound on the integer the dot
+// product becomes after clearing denominators (so zero modulo all of them is
+// zero); the answer is the same for any thread count.
+std::optional<std::size_t> first_region_not_annihilated(const Network& network, const RationalMatrix& vectors,
+                                                        const std::vector<ActivationPattern>& patterns,
+                                                        unsigned threads = 1);
 
 // The exact batch functional dimension at given points: rank of the stacked
 // exact Jacobians. Throws input_error naming the point (0-based) and neuron

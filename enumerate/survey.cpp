@@ -60,8 +60,7 @@ SurveySample run_survey_sample(const SurveyConfiguration& configuration, std::ui
   outcome.parametric_dimension = result.parametric_dimension;
   outcome.regions = result.regions_walked;
   outcome.early_stop = result.early_stop;
-  if (!result.early_stop && result.walk.stop_reason != StopReason::none)
-    outcome.stop_reason = to_string(result.walk.stop_reason);
+  if (result.stop_reason != StopReason::none) outcome.stop_reason = to_string(result.stop_reason);
   outcome.seconds = result.seconds;
   return outcome;
 }

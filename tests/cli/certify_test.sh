@@ -26,7 +26,7 @@ degenerate=$source_dir/data/degenerate2d.json
 # domain (as in pleat-walk/1).
 "$pleat" certify "$ramp" --json -q > "$work/ramp.json" || fail "certify --json exited $?"
 keys=$(json_get "$work/ramp.json" '",".join(sorted(d.keys()))')
-spec_keys="certified,domain,early_stop,extra_kernel,format,functional_dimension,lower_bound,nonsmooth_regions,parametric_dimension,regions_contributing,regions_walked,scaling_bound,seconds,stop_reason,upper_bound,walk_complete"
+spec_keys="certified,domain,early_stop,extra_kernel,extra_kernel_summary,format,functional_dimension,lower_bound,nonsmooth_regions,parametric_dimension,regions_contributing,regions_walked,scaling_bound,seconds,stop_reason,upper_bound,walk_complete"
 [ "$keys" = "$spec_keys" ] || fail "certify --json keys: got $keys, spec $spec_keys"
 # ramp1d (data/README.md): 1 -> 5 -> 1, D = 2*5 + 6 = 16; five distinct bends
 # and nonzero outgoing weights: the generic shallow case, 2*5 + 1 = 11 (the
@@ -88,8 +88,14 @@ printf '%s\n' 1,2 > "$work/wrong_dim.csv"
   = "[('dead-neuron', (5,)), ('duplicate-neurons', (1, 2))]" ] || fail "degenerate2d mechanisms"
 out=$("$pleat" certify "$degenerate" -q) || fail "human certify exited $?"
 expect_contains "$out" "functional dimension  17  certified" "human summary"
-expect_contains "$out" "dead-neuron (neuron 5): W2[1,1]: 1" "human explanation"
-expect_contains "$out" "duplicate-neurons (neuron 1 2): W2[0,1]: 1, W2[0,2]: -1" "human explanation"
+# The terminal shows the directions summarised by mechanism with counts
+# (5 for the dead neuron: its 3 incoming weights, bias and outgoing weight;
+# 2 for the duplicates: one per downstream neuron), never the vectors.
+expect_contains "$out" "dead neuron 5: 5 directions" "human explanation"
+expect_contains "$out" "duplicate neurons 1, 2: 2 directions" "human explanation"
+case "$out" in *"W2[1,1]"*) fail "the terminal lists a full direction: $out" ;; esac
+[ "$(json_get "$work/degenerate.json" '[(e["mechanism"], e["neurons"], e["directions"]) for e in d["extra_kernel_summary"]]')" \
+  = "[('duplicate-neurons', [1, 2], 2), ('dead-neuron', [5], 5)]" ] || fail "extra_kernel_summary"
 
 # The written rows and kernel, re-checked exactly with Python fractions:
 # kernel has D - 17 = 14 rows, every row times every kernel vector is 0, and
@@ -132,7 +138,13 @@ hidden=$source_dir/tests/data/fd_relu_output_hidden_middle.json
 [ "$(json_get "$work/hidden.json" '[(e["vector"], e["mechanism"]) for e in d["extra_kernel"]]')" \
   = "[({'b1[0]': '1', 'b1[1]': '1', 'b2[0]': '-1'}, None)]" ] || fail "hidden-middle extra direction"
 out=$("$pleat" certify "$hidden" -q) || fail "human certify exited $?"
-expect_contains "$out" "no recognised mechanism: b1[0]: 1, b1[1]: 1, b2[0]: -1" "unnamed mechanism"
+expect_contains "$out" "no recognised mechanism: 1 direction" "unnamed mechanism"
+
+# ---- too few regions is a mechanism: ramp1d on (0,1) has 3 regions of 2 rows
+# each, 6 < scaling bound 11 (bends at 3/8 and 2/3 inside, data/README.md).
+out=$("$pleat" certify "$ramp" --box 0,1 -q) || fail "certify ramp1d on (0,1) exited $?"
+expect_contains "$out" "rank limited by the number of regions: 3 smooth regions x 2 rows per region = 6 < scaling bound 11" \
+  "region-count mechanism"
 
 # ---- a run cut short never says certified (fold2d has 84 regions).
 "$pleat" certify "$source_dir/data/fold2d.json" --json -q --full-walk --time-limit 0.000001 > "$work/cut.json" ||

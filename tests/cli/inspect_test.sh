@@ -101,4 +101,13 @@ done
 "$pleat" inspect "$fold" --pattern 000000/00000 > /dev/null 2>&1; [ $? -eq 2 ] || fail "empty pattern accepted"
 "$pleat" inspect "$fold" --at 5,0 --box -3,3 > /dev/null 2>&1; [ $? -eq 2 ] || fail "point outside the box accepted"
 "$pleat" inspect "$fold" > /dev/null 2>&1; [ $? -eq 2 ] || fail "neither --at nor --pattern accepted"
+
+# A decimal view beside each fraction for people, none with --exact-only
+# (1/2,-1 lies in region 001100|11100 of fold2d; its point is (3/4, -8/3)).
+out=$("$pleat" inspect "$fold" --at 1/2,-1) || fail "inspect exited $?"
+case "$out" in *"-8/3 (≈ -2.66667)"*) ;; *) fail "no decimal view beside -8/3: $out" ;; esac
+out=$("$pleat" inspect "$fold" --at 1/2,-1 --exact-only) || fail "inspect --exact-only exited $?"
+case "$out" in *"≈"*) fail "--exact-only printed a decimal: $out" ;; esac
+case "$out" in *"-8/3)"*) ;; *) fail "--exact-only lost the exact point: $out" ;; esac
+
 echo ok

@@ -310,5 +310,65 @@ TEST(ModularRowBasis, RejectsMisuse) {
   EXPECT_EQ(basis.rank(), 2u);
 }
 
+// ---- Kernels modulo p and rational reconstruction ---------------------------
+
+// The canonical kernel mod p is the image of the exact canonical kernel
+// (kernel_basis_exact) for a prime dividing no denominator.
+TEST(KernelBasisModulo, IsTheImageOfTheExactCanonicalKernel) {
+  std::mt19937_64 random(41);
+  const std::uint64_t prime = primary_prime();
+  for (int trial = 0; trial < 12; ++trial) {
+    const std::size_t rows = 1 + trial % 5, inner = 1 + trial % 4, cols = 6 + trial % 3;
+    const RationalMatrix m = random_product(random, rows, std::min(inner, rows), cols);
+    const RationalMatrix exact = kernel_basis_exact(m);
+    const ModularMatrix modular = kernel_basis_modulo(*reduce_modulo(m, prime), prime);
+    EXPECT_EQ(modular, *reduce_modulo(exact, prime)) << "trial " << trial;
+  }
+  EXPECT_EQ(kernel_basis_modulo(ModularMatrix(0, 3), prime).rows(), 3u);
+}
+
+TEST(ModularRowBasis, RowsSpanWhatWasAdded) {
+  std::mt19937_64 random(43);
+  const std::uint64_t prime = primary_prime();
+  const RationalMatrix m = random_product(random, 7, 4, 9);
+  const ModularMatrix image = *reduce_modulo(m, prime);
+  ModularRowBasis basis(prime, 9);
+  for (std::size_t r = 0; r < image.rows(); ++r) basis.add_row(image.row(r));
+  EXPECT_EQ(basis.rows().rows(), 4u);
+  EXPECT_EQ(kernel_basis_modulo(basis.rows(), prime), kernel_basis_modulo(image, prime));
+}
+
+// Rational reconstruction recovers a known matrix once the product of the
+// primes exceeds 2 N D (one 62-bit prime is not enough for entries near
+// 2^40 / 2^30; three are), and not from too few primes.
+TEST(RationalReconstruction, RecoversAMatrixFromEnoughImages) {
+  RationalMatrix m(2, 3);
+  m(0, 0) = Rational(Integer("1099511627775"), Integer("1073741823"));  // 2^40-1 / 2^30-1
+  m(0, 2) = Rational(-7, 3);
+  m(1, 1) = Rational(Integer("-123456789012345"), Integer("987654321"));
+  for (std::size_t r = 0; r < 2; ++r)
+    for (std::size_t c = 0; c < 3; ++c) m(r, c).canonicalize();
+  RationalReconstruction lifting(2, 3);
+  lifting.add_image(*reduce_modulo(m, prime_sequence(0)), prime_sequence(0));
+  const auto too_early = lifting.reconstruct();
+  EXPECT_TRUE(!too_early || *too_early != m);
+  lifting.add_image(*reduce_modulo(m, prime_sequence(1)), prime_sequence(1));
+  lifting.add_image(*reduce_modulo(m, prime_sequence(2)), prime_sequence(2));
+  EXPECT_EQ(lifting.primes(), 3u);
+  ASSERT_TRUE(lifting.reconstruct().has_value());
+  EXPECT_EQ(*lifting.reconstruct(), m);
+  EXPECT_THROW(lifting.add_image(ModularMatrix(1, 3), prime_sequence(3)), usage_error);
+}
+
+TEST(Primes, SequenceIsDistinctFromTheFixedPrimes) {
+  for (std::size_t i = 0; i < 20; ++i) {
+    EXPECT_NE(prime_sequence(i), primary_prime());
+    EXPECT_NE(prime_sequence(i), screening_prime());
+    if (i > 0) {
+      EXPECT_GT(prime_sequence(i), prime_sequence(i - 1));
+    }
+  }
+}
+
 }  // namespace
 }  // namespace pleat

@@ -10,7 +10,11 @@
 
 #include <gtest/gtest.h>
 
+#include <atomic>
+#include <chrono>
 #include <map>
+#include <set>
+#include <thread>
 #include <string>
 #include <vector>
 
@@ -449,6 +453,140 @@ TEST(FunctionalDimension, Ramp1dIs11AndBatchAtTheBendsIsRejected) {
     EXPECT_NE(message.find("point 2"), std::string::npos) << message;
     EXPECT_NE(message.find("neuron 1"), std::string::npos) << message;
   }
+}
+
+// ---- The proof after the walk: lifted kernel, exact check, stop requests ----
+
+std::vector<ActivationPattern> smooth_patterns(const Network& network) {
+  std::vector<ActivationPattern> patterns;
+  for (const Region& region : all_regions(network))
+    if (region.nonsmooth_neurons.empty()) patterns.push_back(region.pattern);
+  return patterns;
+}
+
+// The extra directions lifted from residues equal the ones read off the
+// exact kernel of every region's exact rows (kernel_basis_exact, then
+// extra_kernel_basis), and the value equals that kernel's complement.
+TEST(FunctionalDimension, LiftedExtraDirectionsEqualTheExactKernelsOnes) {
+  std::vector<Network> networks = random_networks();
+  networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json"));
+  networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/tests/data/repeated_rows2d.json"));
+  networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/tests/data/zero_neuron2d.json"));
+  for (const Network& network : networks) {
+    const FunctionalDimensionResult result = certify(network, make_whole_space(network.input_dim), false);
+    ASSERT_TRUE(result.certified);
+    std::vector<RationalMatrix> blocks;
+    for (const ActivationPattern& pattern : smooth_patterns(network))
+      blocks.push_back(coefficient_blocks(network, pattern));
+    const RationalMatrix kernel = kernel_basis_exact(stack(blocks, network.parametric_dimension()));
+    const RationalMatrix extra = extra_kernel_basis(kernel, scaling_directions(network));
+    EXPECT_EQ(*result.functional_dimension, network.parametric_dimension() - kernel.rows());
+    ASSERT_EQ(result.extra_kernel.size(), extra.rows());
+    for (std::size_t r = 0; r < extra.rows(); ++r) EXPECT_EQ(result.extra_kernel[r].vector, extra.row(r));
+    EXPECT_EQ(result.kernel.rows(), kernel.rows());
+  }
+}
+
+// The multi-modular check accepts the proved kernel and rejects it after any
+// one entry is changed (every entry of every extra direction, and a zero
+// entry made nonzero), naming a region whose rows it fails.
+TEST(FunctionalDimension, CheckRejectsAKernelVectorAlteredInOneEntry) {
+  const Network network = read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json");
+  const FunctionalDimensionResult result = certify(network, make_whole_space(2), false);
+  ASSERT_TRUE(result.certified);
+  const std::vector<ActivationPattern> patterns = smooth_patterns(network);
+  EXPECT_FALSE(first_region_not_annihilated(network, result.kernel, patterns).has_value());
+  std::size_t altered = 0;
+  for (std::size_t r = result.kernel.rows() - result.extra_kernel.size(); r < result.kernel.rows(); ++r)
+    for (std::size_t c = 0; c < result.kernel.cols(); ++c) {
+      if (result.kernel(r, c) == 0 && c % 5 != 0) continue;
+      RationalMatrix wrong = result.kernel;
+      wrong(r, c) += Rational(1, 1000003);
+      const auto rejected = first_region_not_annihilated(network, wrong, patterns, 2);
+      // A parameter no region's rows depend on (a dead neuron's) stays flat.
+      bool column_matters = false;
+      for (const ActivationPattern& pattern : patterns) {
+        const RationalMatrix blocks = coefficient_blocks(network, pattern);
+        for (std::size_t i = 0; i < blocks.rows(); ++i) column_matters = column_matters || blocks(i, c) != 0;
+      }
+      EXPECT_EQ(rejected.has_value(), column_matters) << "row " << r << " column " << c;
+      if (rejected) {
+        const RationalVector image = product(coefficient_blocks(network, patterns[*rejected]), wrong.row(r));
+        bool is_nonzero = false;
+        for (const Rational& v : image) is_nonzero = is_nonzero || v != 0;
+        EXPECT_TRUE(is_nonzero) << "the named region must really fail";
+        ++altered;
+      }
+    }
+  EXPECT_GT(altered, 10u);
+}
+
+TEST(FunctionalDimension, SameResultForAnyThreadCount) {
+  for (const Network& network : {random_network({2, 5, 5, 1}, 21), random_network({3, 4, 4, 1}, 22),
+                                 read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json")}) {
+    FunctionalDimensionOptions one, two;
+    one.walk.threads = 1;
+    two.walk.threads = 2;
+    one.stop_at_scaling_bound = two.stop_at_scaling_bound = false;
+    const auto a = certify_functional_dimension(network, make_whole_space(network.input_dim), one);
+    const auto b = certify_functional_dimension(network, make_whole_space(network.input_dim), two);
+    EXPECT_EQ(a.functional_dimension, b.functional_dimension);
+    EXPECT_EQ(a.kernel, b.kernel);
+    ASSERT_EQ(a.extra_kernel.size(), b.extra_kernel.size());
+    for (std::size_t i = 0; i < a.extra_kernel.size(); ++i) {
+      EXPECT_EQ(a.extra_kernel[i].vector, b.extra_kernel[i].vector);
+      EXPECT_EQ(a.extra_kernel[i].mechanism, b.extra_kernel[i].mechanism);
+    }
+  }
+}
+
+// A stop request that arrives after the walk (here: raised by the first
+// progress report of the kernel phase) is obeyed: bounds, never certified.
+TEST(FunctionalDimension, InterruptAfterTheWalkGivesBoundsOnly) {
+  const Network network = read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json");
+  std::atomic<bool> interrupt{false};
+  FunctionalDimensionOptions options;
+  options.walk.threads = 1;
+  options.walk.interrupt = &interrupt;
+  options.stop_at_scaling_bound = false;
+  std::set<std::string> phases;
+  options.on_phase = [&](const CertifyProgress& progress) {
+    phases.insert(progress.phase);
+    interrupt = true;
+  };
+  const FunctionalDimensionResult result = certify_functional_dimension(network, make_whole_space(2), options);
+  EXPECT_TRUE(result.walk_complete);
+  EXPECT_TRUE(phases.contains("kernel"));
+  EXPECT_FALSE(result.certified);
+  EXPECT_FALSE(result.functional_dimension.has_value());
+  EXPECT_EQ(result.stop_reason, StopReason::interrupted);
+  EXPECT_LE(result.lower_bound, 17u);  // the value, derived above
+  EXPECT_GE(result.upper_bound, 17u);
+  EXPECT_TRUE(result.extra_kernel.empty());
+}
+
+// The time limit covers every phase: one that passes during the region
+// check (the progress callback sleeps past it) stops the run with bounds.
+TEST(FunctionalDimension, TimeLimitDuringTheCheckGivesBoundsOnly) {
+  const Network network = read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json");
+  FunctionalDimensionOptions options;
+  options.walk.threads = 1;
+  options.walk.time_limit_seconds = 0.3;
+  options.stop_at_scaling_bound = false;
+  bool slept = false;
+  options.on_phase = [&](const CertifyProgress& progress) {
+    if (std::string(progress.phase) == "check" && !slept) {
+      std::this_thread::sleep_for(std::chrono::milliseconds(400));
+      slept = true;
+    }
+  };
+  const FunctionalDimensionResult result = certify_functional_dimension(network, make_whole_space(2), options);
+  ASSERT_TRUE(slept);
+  EXPECT_TRUE(result.walk_complete);
+  EXPECT_FALSE(result.certified);
+  EXPECT_EQ(result.stop_reason, StopReason::time_limit);
+  EXPECT_LE(result.lower_bound, 17u);
+  EXPECT_GE(result.upper_bound, 17u);
 }
 
 }  // namespace

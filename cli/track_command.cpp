@@ -1,0 +1,416 @@
+// pleat track: the certified functional dimension along a training run, one
+// checkpoint after another, as a table and a line plot; resumable.
+#include "cli/command.hpp"
+#include "cli/common.hpp"
+#include "cli/domain_options.hpp"
+#include "cli/figure.hpp"
+#include "cli/progress.hpp"
+#include "cli/region_json.hpp"
+#include "cli/signals.hpp"
+#include "enumerate/functional_dimension.hpp"
+
+#include <algorithm>
+#include <filesystem>
+#include <fstream>
+#include <iomanip>
+#include <iostream>
+#include <map>
+#include <memory>
+#include <optional>
+#include <sstream>
+
+namespace pleat::cli {
+namespace {
+
+struct TrackArguments {
+  std::vector<std::string> checkpoints;
+  DomainOptions domain;
+  std::string output_path;  // pleat-track/1 lines, for resuming
+  std::string csv_path;
+  std::string svg_path;
+  bool json = false;
+  bool quiet = false;
+  std::uint64_t threads = 0;
+  double time_limit_each = 0;
+};
+
+// One checkpoint's line (format pleat-track/1, after the header).
+struct TrackRow {
+  std::size_t index = 0;
+  std::string checkpoint;
+  std::size_t parametric_dimension = 0;
+  std::size_t scaling_bound = 0;
+  std::optional<std::size_t> functional_dimension;  // set only when certified
+  std::size_t lower_bound = 0;
+  std::size_t upper_bound = 0;
+  std::size_t regions = 0;         // a lower bound unless walk_complete
+  std::size_t linear_regions = 0;  // a lower bound unless walk_complete
+  bool walk_complete = false;
+  double seconds = 0;
+};
+
+Json row_json(const TrackRow& row) {
+  return Json{{"index", row.index},
+              {"checkpoint", row.checkpoint},
+              {"parametric_dimension", row.parametric_dimension},
+              {"scaling_bound", row.scaling_bound},
+              {"functional_dimension", row.functional_dimension ? Json(*row.functional_dimension) : Json(nullptr)},
+              {"certified", row.functional_dimension.has_value()},
+              {"lower_bound", row.lower_bound},
+              {"upper_bound", row.upper_bound},
+              {"regions", row.regions},
+              {"linear_regions", row.linear_regions},
+              {"walk_complete", row.walk_complete},
+              {"seconds", row.seconds}};
+}
+
+TrackRow row_from_json(const Json& line, const std::string& where) {
+  try {
+    TrackRow row;
+    row.index = line.at("index").get<std::size_t>();
+    row.checkpoint = line.at("checkpoint").get<std::string>();
+    row.parametric_dimension = line.at("parametric_dimension").get<std::size_t>();
+    row.scaling_bound = line.at("scaling_bound").get<std::size_t>();
+    if (!line.at("functional_dimension").is_null())
+      row.functional_dimension = line.at("functional_dimension").get<std::size_t>();
+    row.lower_bound = line.at("lower_bound").get<std::size_t>();
+    row.upper_bound = line.at("upper_bound").get<std::size_t>();
+    row.regions = line.at("regions").get<std::size_t>();
+    row.linear_regions = line.at("linear_regions").get<std::size_t>();
+    row.walk_complete = line.at("walk_complete").get<bool>();
+    row.seconds = line.at("seconds").get<double>();
+    return row;
+  } catch (const Json::exception& fault) {
+    throw input_error(where + ": not a pleat-track/1 row (" + fault.what() + ")");
+  }
+}
+
+Json header_json(const TrackArguments& arguments, const Domain& domain) {
+  return Json{{"format", "pleat-track/1"},
+              {"checkpoints", arguments.checkpoints},
+              {"domain", domain_to_json(domain)},
+              {"time_limit_each", arguments.time_limit_each}};
+}
+
+// The rows already in a track file (resuming), after checking that its header
+// describes the same run. A last line cut short by a killed run is dropped
+// (and truncated away); any other bad line is an error naming it.
+std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, const Json& header) {
+  std::map<std::size_t, TrackRow> rows;
+  std::ifstream file(path, std::ios::binary);
+  if (!file) return rows;
+  std::string text{std::istreambuf_iterator<char>(file), std::istreambuf_iterator<char>()};
+  file.close();
+  std::size_t start = 0, number = 0, complete_bytes = 0;
+  while (start < text.size()) {
+    ++number;
+    const std::size_t end = text.find('\n', start);
+    const std::string where = path + ":" + std::to_string(number);
+    const bool is_last = end == std::string::npos || end + 1 == text.size();
+    Json line;
+    try {
+      line = Json::parse(text.substr(start, end == std::string::npos ? std::string::npos : end - start));
+    } catch (const Json::exception&) {
+      if (is_last && end == std::string::npos) break;  // cut short by a killed run: rewritten
+      throw input_error(where + ": not a JSON line");
+    }
+    if (end == std::string::npos) break;  // no newline: the run was killed while writing it
+    if (number == 1) {
+      for (const auto& [key, value] : header.items())
+        if (!line.contains(key) || line[key] != value)
+          throw input_error(path + ": written by a different run ('" + key +
+                            "' differs); give another -o or remove the file");
+    } else {
+      TrackRow row = row_from_json(line, where);
+      if (row.index >= header["checkpoints"].size() || header["checkpoints"][row.index] != row.checkpoint)
+        throw input_error(where + ": checkpoint " + std::to_string(row.index) + " is not in this run");
+      rows[row.index] = std::move(row);
+    }
+    complete_bytes = end + 1;
+    start = end + 1;
+  }
+  if (complete_bytes < text.size()) std::filesystem::resize_file(path, complete_bytes);
+  return rows;
+}
+
+TrackRow track_checkpoint(const TrackArguments& arguments, std::size_t index, ProgressLine& progress,
+                          const std::atomic<bool>& interrupt) {
+  const std::string& path = arguments.checkpoints[index];
+  const Network network = load_network(path);
+  const Domain domain = make_domain(arguments.domain, network.input_dim);
+  FunctionalDimensionOptions options;
+  options.walk.threads = static_cast<unsigned>(arguments.threads);
+  options.walk.time_limit_seconds = arguments.time_limit_each;
+  options.walk.interrupt = &interrupt;
+  options.walk.on_progress = [&](const WalkProgress& state) {
+    progress.update("track: checkpoint " + std::to_string(index + 1) + " of " +
+                    std::to_string(arguments.checkpoints.size()) + ", " + std::to_string(state.regions) +
+                    " regions walked");
+  };
+  options.stop_at_scaling_bound = false;  // the region counts need the whole walk
+  const FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
+  TrackRow row;
+  row.index = index;
+  row.checkpoint = path;
+  row.parametric_dimension = result.parametric_dimension;
+  row.scaling_bound = result.scaling_bound;
+  row.functional_dimension = result.functional_dimension;
+  row.lower_bound = result.lower_bound;
+  row.upper_bound = result.upper_bound;
+  row.regions = result.walk.regions;
+  row.linear_regions = result.walk.linear_regions;
+  row.walk_complete = result.walk_complete;
+  row.seconds = result.seconds;
+  return row;
+}
+
+// The change of the certified value from the previous checkpoint (null when
+// either is not certified).
+std::optional<long long> change_from_previous(const std::vector<TrackRow>& rows, std::size_t i) {
+  if (i == 0 || !rows[i].functional_dimension || !rows[i - 1].functional_dimension) return std::nullopt;
+  return static_cast<long long>(*rows[i].functional_dimension) -
+         static_cast<long long>(*rows[i - 1].functional_dimension);
+}
+
+std::string value_text(const TrackRow& row) {
+  return row.functional_dimension ? std::to_string(*row.functional_dimension)
+                                  : "[" + std::to_string(row.lower_bound) + "," + std::to_string(row.upper_bound) + "]";
+}
+
+std::string signed_text(std::optional<long long> change) {
+  if (!change) return "-";
+  return (*change > 0 ? "+" : "") + std::to_string(*change);
+}
+
+void print_table(const std::vector<TrackRow>& rows, const Domain& domain, std::ostream& out) {
+  std::size_t width = 10;
+  for (const auto& row : rows) width = std::max(width, row.checkpoint.size());
+  out << "domain " << domain.describe() << "; functional dimension certified unless shown as [lower,upper]\n";
+  out << std::left << std::setw(static_cast<int>(width)) << "checkpoint" << std::right << std::setw(12)
+      << "functional" << std::setw(8) << "change" << std::setw(9) << "scaling" << std::setw(9) << "regions"
+      << std::setw(8) << "linear" << std::setw(10) << "seconds" << "\n";
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    const TrackRow& row = rows[i];
+    const std::string at_least = row.walk_complete ? "" : ">=";
+    std::ostringstream seconds;
+    seconds << std::fixed << std::setprecision(2) << row.seconds;
+    out << std::left << std::setw(static_cast<int>(width)) << row.checkpoint << std::right << std::setw(12)
+        << value_text(row) << std::setw(8) << signed_text(change_from_previous(rows, i)) << std::setw(9)
+        << row.scaling_bound << std::setw(9) << at_least + std::to_string(row.regions) << std::setw(8)
+        << at_least + std::to_string(row.linear_regions) << std::setw(10) << seconds.str() << "\n";
+  }
+}
+
+Json table_json(const std::vector<TrackRow>& rows, const Domain& domain) {
+  Json table = Json::array();
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    Json row = row_json(rows[i]);
+    const auto change = change_from_previous(rows, i);
+    row["change"] = change ? Json(*change) : Json(nullptr);
+    table.push_back(std::move(row));
+  }
+  return Json{{"format", "pleat-track-table/1"}, {"domain", domain_to_json(domain)}, {"rows", std::move(table)}};
+}
+
+std::string table_csv(const std::vector<TrackRow>& rows) {
+  std::string text =
+      "index,checkpoint,functional_dimension,lower_bound,upper_bound,certified,change,scaling_bound,"
+      "parametric_dimension,regions,linear_regions,walk_complete,seconds\n";
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    const TrackRow& row = rows[i];
+    const auto change = change_from_previous(rows, i);
+    std::string checkpoint = "\"";  // quoted: a path may hold a comma (and '"' doubled)
+    for (char c : row.checkpoint) {
+      if (c == '"') checkpoint += '"';
+      checkpoint += c;
+    }
+    checkpoint += '"';
+    text += std::to_string(row.index) + "," + checkpoint + "," +
+            (row.functional_dimension ? std::to_string(*row.functional_dimension) : "") + "," +
+            std::to_string(row.lower_bound) + "," + std::to_string(row.upper_bound) + "," +
+            (row.functional_dimension ? "true" : "false") + "," + (change ? std::to_string(*change) : "") + "," +
+            std::to_string(row.scaling_bound) + "," + std::to_string(row.parametric_dimension) + "," +
+            std::to_string(row.regions) + "," + std::to_string(row.linear_regions) + "," +
+            (row.walk_complete ? "true" : "false") + "," + format_double(row.seconds) + "\n";
+  }
+  return text;
+}
+
+// The line plot: the certified value per checkpoint (a solid dark line with
+// dots; an uncertified checkpoint is a hollow dot with its bounds as a bar)
+// and the scaling bound (dashed, burnt orange), the survey histogram's
+// palette and type, so it reads the same in greyscale.
+std::string track_svg(const std::vector<TrackRow>& rows, const Domain& domain) {
+  constexpr const char* value_colour = "#24505a";
+  constexpr const char* bound_colour = "#c05621";
+  constexpr const char* ink = "#222222";
+  constexpr const char* grid = "#d9d9d9";
+  constexpr double width = 720, height = 400, left = 64, right = 72, top = 72, bottom = 84, inset = 24;
+  const double plot_width = width - left - right, plot_height = height - top - bottom;
+  double low = static_cast<double>(rows.front().lower_bound), high = 0;
+  for (const auto& row : rows) {
+    low = std::min(low, static_cast<double>(row.lower_bound));
+    high = std::max({high, static_cast<double>(row.upper_bound), static_cast<double>(row.scaling_bound)});
+  }
+  const std::vector<double> ticks = nice_ticks(std::max(0.0, low - 1), high + 1);
+  const double axis_low = ticks.empty() ? low - 1 : std::min(ticks.front(), low - 1);
+  const double axis_high = ticks.empty() ? high + 1 : std::max(ticks.back(), high + 1);
+  auto x_of = [&](std::size_t i) {
+    const double span = plot_width - 2 * inset;
+    return left + inset + span * (rows.size() == 1 ? 0.5 : static_cast<double>(i) / static_cast<double>(rows.size() - 1));
+  };
+  auto y_of = [&](double value) { return top + plot_height * (1 - (value - axis_low) / (axis_high - axis_low)); };
+  auto number = [](double value) { return fixed_point_text(value, 1); };
+
+  std::ostringstream svg;
+  svg << "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" << number(width) << "\" height=\"" << number(height)
+      << "\" viewBox=\"0 0 " << number(width) << " " << number(height)
+      << "\" font-family=\"DejaVu Sans, Arial, sans-serif\">\n";
+  svg << "<rect width=\"100%\" height=\"100%\" fill=\"#ffffff\"/>\n";
+  svg << "<text x=\"" << number(left) << "\" y=\"24\" font-size=\"16\" fill=\"" << ink
+      << "\">Certified functional dimension along training (" << rows.size() << " checkpoints)</text>\n";
+  svg << "<text x=\"" << number(left) << "\" y=\"42\" font-size=\"12\" fill=\"#555555\">domain "
+      << escape_xml(domain.describe()) << "</text>\n";
+  for (double tick : ticks) {
+    svg << "<line x1=\"" << number(left) << "\" y1=\"" << number(y_of(tick)) << "\" x2=\"" << number(width - right)
+        << "\" y2=\"" << number(y_of(tick)) << "\" stroke=\"" << grid << "\" stroke-width=\"1\"/>\n";
+    svg << "<text x=\"" << number(left - 8) << "\" y=\"" << number(y_of(tick) + 4)
+        << "\" font-size=\"12\" text-anchor=\"end\" fill=\"" << ink << "\">" << fixed_point_text(tick, 1)
+        << "</text>\n";
+  }
+  auto polyline = [&](auto&& value_of, const char* colour, const char* dash) {
+    svg << "<polyline fill=\"none\" stroke=\"" << colour << "\" stroke-width=\"2\"" << dash << " points=\"";
+    for (std::size_t i = 0; i < rows.size(); ++i)
+      svg << (i ? " " : "") << number(x_of(i)) << "," << number(y_of(static_cast<double>(value_of(rows[i]))));
+    svg << "\"/>\n";
+  };
+  polyline([](const TrackRow& row) { return row.scaling_bound; }, bound_colour, " stroke-dasharray=\"6,4\"");
+  polyline([](const TrackRow& row) { return row.lower_bound; }, value_colour, "");
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    const TrackRow& row = rows[i];
+    const std::string x = number(x_of(i));
+    if (!row.functional_dimension)
+      svg << "<line x1=\"" << x << "\" y1=\"" << number(y_of(static_cast<double>(row.lower_bound))) << "\" x2=\"" << x
+          << "\" y2=\"" << number(y_of(static_cast<double>(row.upper_bound))) << "\" stroke=\"" << value_colour
+          << "\" stroke-width=\"2\"/>\n";
+    svg << "<circle cx=\"" << x << "\" cy=\"" << number(y_of(static_cast<double>(row.lower_bound)))
+        << "\" r=\"4.5\" fill=\"" << (row.functional_dimension ? value_colour : "#ffffff") << "\" stroke=\""
+        << value_colour << "\" stroke-width=\"2\"><title>" << escape_xml(row.checkpoint) << ": " << value_text(row)
+        << "</title></circle>\n";
+    const std::string label = std::filesystem::path(row.checkpoint).stem().string();
+    svg << "<text transform=\"translate(" << x << "," << number(top + plot_height + 14)
+        << ") rotate(30)\" font-size=\"11\" fill=\"" << ink << "\">" << escape_xml(label) << "</text>\n";
+  }
+  const double base = top + plot_height;
+  svg << "<line x1=\"" << number(left) << "\" y1=\"" << number(base) << "\" x2=\"" << number(width - right)
+      << "\" y2=\"" << number(base) << "\" stroke=\"" << ink << "\" stroke-width=\"1.5\"/>\n";
+  svg << "<text transform=\"translate(18," << number(top + plot_height / 2)
+      << ") rotate(-90)\" font-size=\"13\" text-anchor=\"middle\" fill=\"" << ink << "\">dimension</text>\n";
+  // Legend: the line style says which is which without colour.
+  const double legend_y = 58;
+  svg << "<line x1=\"" << number(width - 420) << "\" y1=\"" << number(legend_y) << "\" x2=\"" << number(width - 396)
+      << "\" y2=\"" << number(legend_y) << "\" stroke=\"" << value_colour << "\" stroke-width=\"2\"/>\n";
+  svg << "<text x=\"" << number(width - 390) << "\" y=\"" << number(legend_y + 4) << "\" font-size=\"12\" fill=\""
+      << ink << "\">functional dimension (certified)</text>\n";
+  svg << "<line x1=\"" << number(width - 150) << "\" y1=\"" << number(legend_y) << "\" x2=\"" << number(width - 126)
+      << "\" y2=\"" << number(legend_y) << "\" stroke=\"" << bound_colour
+      << "\" stroke-width=\"2\" stroke-dasharray=\"6,4\"/>\n";
+  svg << "<text x=\"" << number(width - 120) << "\" y=\"" << number(legend_y + 4) << "\" font-size=\"12\" fill=\""
+      << bound_colour << "\">scaling bound</text>\n";
+  svg << "</svg>\n";
+  return svg.str();
+}
+
+int run_track(const TrackArguments& arguments) {
+  // Every checkpoint must read before any work starts (nothing computed is lost to a typo).
+  std::optional<std::size_t> input_dim;
+  for (const auto& path : arguments.checkpoints) {
+    const Network network = load_network(path);
+    if (input_dim && *input_dim != network.input_dim)
+      throw input_error(path + ": takes " + std::to_string(network.input_dim) + " inputs, the first checkpoint " +
+                        std::to_string(*input_dim));
+    input_dim = network.input_dim;
+  }
+  const Domain domain = make_domain(arguments.domain, *input_dim);
+  const Json header = header_json(arguments, domain);
+  std::map<std::size_t, TrackRow> finished;
+  std::ofstream lines;
+  if (!arguments.output_path.empty()) {
+    finished = read_finished_rows(arguments.output_path, header);
+    const bool is_new = !std::filesystem::exists(arguments.output_path) ||
+                        std::filesystem::file_size(arguments.output_path) == 0;
+    lines.open(arguments.output_path, std::ios::binary | std::ios::app);
+    if (!lines) throw input_error(arguments.output_path + ": cannot open for writing");
+    if (is_new) lines << json_text(header, false) << std::flush;
+  }
+
+  ProgressLine progress(arguments.quiet);
+  const InterruptGuard interrupt;
+  bool is_interrupted = false;
+  for (std::size_t i = 0; i < arguments.checkpoints.size() && !is_interrupted; ++i) {
+    if (finished.contains(i)) continue;
+    TrackRow row = track_checkpoint(arguments, i, progress, interrupt.flag());
+    if (interrupt.flag()) {
+      is_interrupted = true;  // a cut-short row is not kept: the rerun redoes it
+      break;
+    }
+    if (lines.is_open()) {
+      lines << json_text(row_json(row), false) << std::flush;
+      if (!lines) throw std::runtime_error(arguments.output_path + ": write failed");
+    }
+    finished[i] = std::move(row);
+  }
+  progress.finish();
+  std::vector<TrackRow> rows;
+  for (auto& [index, row] : finished) rows.push_back(row);
+  if (rows.empty()) return is_interrupted ? 130 : 0;
+
+  if (!arguments.csv_path.empty()) write_output(arguments.csv_path, table_csv(rows));
+  if (!arguments.svg_path.empty()) write_output(arguments.svg_path, track_svg(rows, domain));
+  if (arguments.json) std::cout << json_text(table_json(rows, domain));
+  else print_table(rows, domain, std::cout);
+  if (is_interrupted) {
+    std::cerr << "pleat: track interrupted; " << rows.size() << " of " << arguments.checkpoints.size()
+              << " checkpoints done" << (arguments.output_path.empty() ? "" : ", kept in " + arguments.output_path)
+              << "\n";
+    return 130;
+  }
+  return 0;
+}
+
+}  // namespace
+
+void register_track(CommandTable& commands) {
+  auto arguments = std::make_shared<TrackArguments>();
+  CLI::App& command = commands.add(
+      "track", "The certified functional dimension along a training run, checkpoint by checkpoint",
+      "Certifies each checkpoint (pleat-network/1 JSON or ONNX) in the order given, e.g. a\n"
+      "glob of epoch files, walking every region: per checkpoint the functional dimension\n"
+      "(or, when --time-limit-each cuts a walk short, proved bounds [lower,upper]), the\n"
+      "scaling bound, the regions and linear regions (>= when cut short), and the change of\n"
+      "the certified value from the previous checkpoint. --csv and --svg write the table and\n"
+      "a line plot; --json prints it (pleat-track-table/1).\n"
+      "-o FILE keeps one JSON line per finished checkpoint (pleat-track/1); rerunning the\n"
+      "same command resumes, skipping the checkpoints already in the file.\n\n"
+      "Examples:\n"
+      "  pleat track data/track/epoch*.json\n"
+      "  pleat track run/epoch*.onnx --box -2,2 -o track.jsonl --csv track.csv --svg track.svg\n"
+      "  pleat track run/*.json --time-limit-each 60 --json",
+      [arguments] { return run_track(*arguments); });
+  command.add_option("checkpoints", arguments->checkpoints, "Checkpoint files, in training order")
+      ->required()
+      ->type_name("CKPT...");
+  add_domain_options(command, arguments->domain);
+  command.add_option("-o,--output", arguments->output_path,
+                     "Keep finished checkpoints in this file (pleat-track/1 lines); a rerun resumes");
+  command.add_option("--csv", arguments->csv_path, "Write the table as CSV");
+  command.add_option("--svg", arguments->svg_path, "Write the line plot as SVG");
+  command.add_flag("--json", arguments->json, "Print the table as JSON (pleat-track-table/1)");
+  add_unsigned_option(command, "--threads", arguments->threads, "Worker threads per walk (default: all cores)");
+  command.add_option("--time-limit-each", arguments->time_limit_each,
+                     "Stop each checkpoint's walk after this many seconds (that row: bounds)")
+      ->check(CLI::NonNegativeNumber);
+  command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
+}
+
+}  // namespace pleat::cli

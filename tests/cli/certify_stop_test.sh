@@ -1,0 +1,48 @@
+#!/usr/bin/env bash
+# Stop means stop after the walk too: a time limit or an interrupt that
+# arrives during certify's kernel phase (lifting and checking the extra flat
+# directions) ends the run within seconds with bounds, never "certified";
+# an interrupt exits 130. The network has one input and two wide layers: its
+# walk is short (few regions) and its kernel large (thousands of flat
+# directions), so the limit falls in the phase after the walk.
+set -u
+pleat=$1
+source_dir=$2
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+python=/usr/bin/python3
+[ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
+json_get() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }
+now() { date +%s.%N; }
+
+net=$work/wide.json
+"$pleat" random --arch 1,64,64,1 --seed 1 -o "$net" || fail "pleat random exited $?"
+
+# --time-limit 2: on an idle machine the walk ends well before and the kernel
+# phase is cut; on a loaded one the walk may be cut instead (then only the
+# timing and the bounds are asserted, as for any stopped run).
+start=$(now)
+"$pleat" certify "$net" --json -q --full-walk --time-limit 2 > "$work/limit.json"
+status=$?
+elapsed=$("$python" -c "print($(now) - $start)")
+[ $status = 0 ] || fail "time-limited certify exited $status"
+"$python" -c "import sys; sys.exit(0 if $elapsed < 10 else 1)" || fail "--time-limit 2 took $elapsed s"
+[ "$(json_get "$work/limit.json" '(d["certified"], d["functional_dimension"], d["stop_reason"])')" \
+  = "(False, None, 'time-limit')" ] || fail "time limit: $(head -c 600 "$work/limit.json")"
+[ "$(json_get "$work/limit.json" 'd["walk_complete"]')" = True ] && after_walk=1 || after_walk=0
+[ "$(json_get "$work/limit.json" 'd["lower_bound"] <= d["upper_bound"] <= d["scaling_bound"]')" = True ] ||
+  fail "bounds out of order"
+
+# An interrupt 2 s in: exit 130 within seconds, bounds, not certified.
+start=$(now)
+timeout --preserve-status -s INT 2 "$pleat" certify "$net" --json -q --full-walk > "$work/int.json"
+status=$?
+elapsed=$("$python" -c "print($(now) - $start)")
+[ $status = 130 ] || fail "interrupted certify exited $status, expected 130"
+"$python" -c "import sys; sys.exit(0 if $elapsed < 10 else 1)" || fail "the interrupt took $elapsed s to act"
+[ "$(json_get "$work/int.json" '(d["certified"], d["stop_reason"])')" = "(False, 'interrupted')" ] ||
+  fail "interrupt: $(head -c 600 "$work/int.json")"
+out=$("$pleat" certify "$net" -q --full-walk --time-limit 2) || fail "human output exited $?"
+case "$out" in *"NOT certified ("*"time-limit)"*) ;; *) fail "human output: $out" ;; esac
+echo "certify: stops within seconds with bounds (time limit fell after the walk: $after_walk)"

@@ -1,0 +1,78 @@
+#!/usr/bin/env bash
+# pleat track on the shipped training run (data/track, made by
+# scripts/make_track_checkpoints.py): every row equals 'pleat certify' and
+# 'pleat walk' on that checkpoint; a resumed run (file cut after two rows,
+# the third line half written) equals an uninterrupted one; ONNX checkpoints
+# give the same row as their JSON; the CSV and SVG are written; a file from a
+# different run is refused.
+set -u
+pleat=$1
+source_dir=$2
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+python=/usr/bin/python3
+[ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
+checkpoints=("$source_dir"/data/track/epoch*.json)
+[ ${#checkpoints[@]} -ge 4 ] || fail "expected the shipped checkpoints in data/track"
+
+"$pleat" track "${checkpoints[@]}" --box -2,2 -o "$work/full.jsonl" --csv "$work/t.csv" --svg "$work/t.svg" \
+  --json -q > "$work/table.json" || fail "track exited $?"
+
+# Each row against certify and walk on the same checkpoint.
+for i in "${!checkpoints[@]}"; do
+  "$pleat" certify "${checkpoints[$i]}" --box -2,2 --json -q > "$work/c$i.json" || fail "certify $i exited $?"
+  "$pleat" walk "${checkpoints[$i]}" --box -2,2 --json -q > "$work/w$i.json" || fail "walk $i exited $?"
+done
+"$python" - "$work" "${#checkpoints[@]}" <<'PY' || fail "track rows differ from certify/walk"
+import json, sys
+work, count = sys.argv[1], int(sys.argv[2])
+table = json.load(open(f"{work}/table.json"))
+assert table["format"] == "pleat-track-table/1"
+rows = table["rows"]
+assert [r["index"] for r in rows] == list(range(count)), rows
+previous = None
+for i, row in enumerate(rows):
+    certify, walk = json.load(open(f"{work}/c{i}.json")), json.load(open(f"{work}/w{i}.json"))
+    for key in ("functional_dimension", "scaling_bound", "parametric_dimension", "certified"):
+        assert row[key] == certify[key], (i, key, row[key], certify[key])
+    assert (row["regions"], row["linear_regions"]) == (walk["regions"], walk["linear_regions"]), (i, row, walk)
+    expected_change = None if previous is None else row["functional_dimension"] - previous
+    assert row["change"] == expected_change, (i, row["change"], expected_change)
+    previous = row["functional_dimension"]
+csv_lines = open(f"{work}/t.csv").read().splitlines()
+assert csv_lines[0].startswith("index,checkpoint,functional_dimension,"), csv_lines[0]
+assert len(csv_lines) == count + 1
+svg = open(f"{work}/t.svg").read()
+assert svg.startswith("<svg") and svg.count("<circle") == count, "one dot per checkpoint"
+PY
+
+# Resume: keep the header and two rows, then half of the third line.
+strip_seconds() { "$python" -c 'import json,sys
+for line in open(sys.argv[1]):
+    d = json.loads(line); d.pop("seconds", None); print(json.dumps(d, sort_keys=True))' "$1"; }
+head -n 3 "$work/full.jsonl" > "$work/resumed.jsonl"
+sed -n 4p "$work/full.jsonl" | head -c 40 >> "$work/resumed.jsonl"
+"$pleat" track "${checkpoints[@]}" --box -2,2 -o "$work/resumed.jsonl" -q > /dev/null || fail "resumed track exited $?"
+[ "$(strip_seconds "$work/resumed.jsonl")" = "$(strip_seconds "$work/full.jsonl")" ] ||
+  fail "a resumed run differs from an uninterrupted one"$'\n'"$(diff <(strip_seconds "$work/resumed.jsonl") <(strip_seconds "$work/full.jsonl"))"
+
+# A file from another run (different domain) is refused, untouched.
+before=$(cat "$work/full.jsonl")
+err=$("$pleat" track "${checkpoints[@]}" -o "$work/full.jsonl" -q 2>&1 >/dev/null)
+[ $? = 2 ] || fail "a different run's file must be exit 2"
+case "$err" in *"'domain' differs"*) ;; *) fail "message does not name the difference: $err" ;; esac
+[ "$(cat "$work/full.jsonl")" = "$before" ] || fail "the other run's file was changed"
+
+# ONNX checkpoints: the same row as the JSON they were exported from.
+last=${checkpoints[$((${#checkpoints[@]} - 1))]}
+"$pleat" export "$last" -o "$work/last.onnx" 2> /dev/null || fail "export exited $?"
+"$pleat" track "$last" "$work/last.onnx" --box -2,2 --json -q > "$work/onnx.json" || fail "track on ONNX exited $?"
+"$python" - "$work/onnx.json" <<'PY' || fail "ONNX row differs from the JSON row"
+import json, sys
+rows = json.load(open(sys.argv[1]))["rows"]
+keys = ("functional_dimension", "scaling_bound", "regions", "linear_regions")
+assert [rows[0][k] for k in keys] == [rows[1][k] for k in keys], rows
+assert rows[1]["change"] == 0
+PY
+echo "track: all checks passed"
