@@ -6,11 +6,7 @@
 # walk is short (few regions) and its kernel large (thousands of flat
 # directions), so the limit falls in the phase after the walk.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 python=/usr/bin/python3
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
 json_get() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }

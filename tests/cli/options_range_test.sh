@@ -9,11 +9,7 @@
 # killed, --box=-1e-4,1e-4 ended in "internal error: could not find a start
 # point".
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 
 # run_bad NEEDLE ARGS...: exit 2, one "pleat: " line naming NEEDLE, no crash,
 # a short message (no 309-digit numbers), finished within 20 s.

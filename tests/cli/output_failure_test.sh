@@ -5,11 +5,7 @@
 # merge never truncates one of its inputs. (Every command used to exit 0 on
 # /dev/full, and walk -o /dev/full said "internal error: ... write failed".)
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 [ -w /dev/full ] || { echo "no /dev/full here: skipped"; exit 77; }
 
 fold=$source_dir/data/fold2d.json

@@ -6,11 +6,7 @@
 # point per region (certify --points then touches every region), a point in a
 # smooth region with an identically-zero neuron is accepted, eval prints 'z'.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 expect_contains() { case "$1" in *"$2"*) ;; *) fail "$3: expected '$2' in:"$'\n'"$1" ;; esac; }
 python=/usr/bin/python3
 "$python" -c 'import numpy' 2>/dev/null || { echo "no numpy: skipped"; exit 77; }

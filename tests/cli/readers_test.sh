@@ -7,11 +7,7 @@
 # limit, and the same number as a string is read exactly; a stopped walk's
 # text summary marks every count as a lower bound.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 fold=$source_dir/data/fold2d.json
 
 truncate -s 1G "$work/nul.bin" || { echo "no truncate"; exit 77; }

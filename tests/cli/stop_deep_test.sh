@@ -7,10 +7,7 @@
 # polls inside a region's work. Checked: walk with --time-limit 1 ends within
 # 8 s with bounds (not certified, exit 0); under SIGINT it exits 130 within 8 s.
 set -u
-pleat=$1
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 
 deep=$work/deep.json
 # Weights near the identity (1 +- 0.3 on the diagonal, +-0.5 off it), small

@@ -7,10 +7,7 @@
 # architecture 2,3,1: D = (2+1)*3 + (3+1)*1 = 13 parameters, 3 hidden neurons,
 # so the scaling bound lies in [10, 13] (written here from the formula).
 set -u
-pleat=$1
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 [ -x /usr/bin/python3 ] || { echo "no /usr/bin/python3"; exit 77; }
 
 survey=(survey --arch 2,3,1 --samples 4 --seed 1 -q)

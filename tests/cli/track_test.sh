@@ -6,11 +6,7 @@
 # give the same row as their JSON; the CSV and SVG are written; a file from a
 # different run is refused.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 python=/usr/bin/python3
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
 checkpoints=("$source_dir"/data/track/epoch*.json)

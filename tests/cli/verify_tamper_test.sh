@@ -3,11 +3,7 @@
 # a verify that can be fooled is worse than none) must fail with exit 1 and
 # name the line of the fault and what is wrong. The untouched files verify.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 
 fold=$source_dir/data/fold2d.json
 zero=$source_dir/tests/data/zero_quadrant2d.json
