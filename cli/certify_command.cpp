@@ -420,7 +420,12 @@ bool write_bundle(const CertifyArguments& arguments, const Network& network, con
     std::cerr << skipped << "the walk that gathers the evidence was stopped\n";
     return !interrupt.flag().load();
   }
-  write_output(arguments.bundle_path, json_text(bundle_to_json(network, domain, result, *bundle)));
+  write_output(arguments.bundle_path, json_text(bundle_to_json(network, domain, result, *bundle), false));
+  if (!arguments.json)
+    std::cout << "bundle                " << arguments.bundle_path << " (" << bundle->regions.size()
+              << (bundle->has_every_region ? " regions, every one with its certificates; upper bound: an exact kernel"
+                                           : " regions holding the minor; upper bound: the scaling directions")
+              << ")\n";
   return true;
 }
 
