@@ -4,6 +4,7 @@
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
+#include "cli/output_file.hpp"
 #include "cli/points_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/region_json.hpp"
@@ -452,8 +453,11 @@ int run_certify(const CertifyArguments& arguments) {
     print_result(network, domain, result, std::cout);
     if (arguments.claim) print_claim(*arguments.claim, std::nullopt, *verdict, std::cout);
   }
-  std::cout.flush();  // the result stands even if the bundle's walk is interrupted
-  const bool is_bundle_done = arguments.bundle_path.empty() || write_bundle(arguments, network, domain, result);
+  bool is_bundle_done = true;
+  if (!arguments.bundle_path.empty()) {
+    check_standard_output();  // the result stands even if the bundle's walk is interrupted
+    is_bundle_done = write_bundle(arguments, network, domain, result);
+  }
   if (result.stop_reason == StopReason::interrupted || !is_bundle_done) return 130;
   return arguments.claim ? claim_status(std::nullopt, *verdict) : 0;
 }
