@@ -4,10 +4,11 @@
 # pkg-config, the installed pleat binary, and `import pleat` from the
 # installed Python package. Outside reference: the build tree's pleat binary
 # (the same regions and functional dimension as its JSON).
-#   install_test.sh BUILD_DIR SOURCE_DIR
+#   install_test.sh BUILD_DIR SOURCE_DIR [PLEAT_PYTHON (ON|OFF)]
 set -euo pipefail
 build=$(cd "$1" && pwd)
 source_dir=$(cd "$2" && pwd)
+with_python=${3:-ON}
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
 fail() { echo "FAIL: $*" >&2; exit 1; }
@@ -41,6 +42,10 @@ got=$(LD_LIBRARY_PATH="$prefix/lib" "$work/by_pkg_config" "$network")
 
 # the installed binary and Python package
 "$prefix/bin/pleat" --version > /dev/null || fail "installed pleat binary"
+if [[ $with_python != ON ]]; then
+  echo "install test: find_package, pkg-config and bin/pleat work from $prefix (no Python module in this build)"
+  exit 0
+fi
 python_dir=$(ls -d "$prefix"/lib/python3*/dist-packages 2> /dev/null | head -1)
 [[ -n $python_dir ]] || fail "the Python package was not installed"
 PYTHONPATH=$python_dir /usr/bin/python3 - "$python_dir" "$network" "$expected_value" <<'PY' || fail "import pleat from the installed package"
