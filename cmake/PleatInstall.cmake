@@ -60,7 +60,16 @@ configure_file(${PROJECT_SOURCE_DIR}/cmake/pleat.pc.in ${CMAKE_CURRENT_BINARY_DI
 install(FILES ${CMAKE_CURRENT_BINARY_DIR}/pleat.pc DESTINATION ${CMAKE_INSTALL_LIBDIR}/pkgconfig)
 
 if(PLEAT_PYTHON)
-  set(PLEAT_PYTHON_INSTALL_DIR "lib/python${Python3_VERSION_MAJOR}.${Python3_VERSION_MINOR}/dist-packages"
+  # Where this python3 looks for packages under /usr/local (Debian:
+  # /usr/local/lib/python3.X/dist-packages), relative to the prefix; else its
+  # own site-packages relative to its prefix.
+  execute_process(COMMAND ${Python3_EXECUTABLE} -c [=[
+import os, sys, sysconfig
+local = [p for p in sys.path if p.startswith("/usr/local/lib/python") and p.endswith("-packages")]
+print(os.path.relpath(local[0], "/usr/local") if local else
+      os.path.relpath(sysconfig.get_path("platlib"), sysconfig.get_config_var("base")))
+]=] OUTPUT_VARIABLE PLEAT_PYTHON_DETECTED_DIR OUTPUT_STRIP_TRAILING_WHITESPACE)
+  set(PLEAT_PYTHON_INSTALL_DIR "${PLEAT_PYTHON_DETECTED_DIR}"
       CACHE STRING "Where `make install` puts the pleat Python package (relative to the prefix, or absolute)")
   install(TARGETS pleat_python LIBRARY DESTINATION ${PLEAT_PYTHON_INSTALL_DIR}/pleat)
   install(FILES ${PROJECT_SOURCE_DIR}/python/pleat/__init__.py ${PROJECT_SOURCE_DIR}/python/pleat/_core.pyi
