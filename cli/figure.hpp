@@ -43,6 +43,7 @@ struct Figure {
   std::string legend_title;
   std::vector<FigureSwatch> swatches;
   std::vector<std::string> notes;  // counts, shown under the legend
+  std::string title;               // plain text over the plot; none when empty
   bool show_lines = true;
   bool show_labels = false;
   // One input: the graph of the network (breakpoints marked) over bands.

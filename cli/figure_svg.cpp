@@ -233,6 +233,10 @@ std::string figure_svg(const Figure& figure) {
   if (figure.show_labels) write_labels(figure, layout, out);
   write_axes(figure, layout, out);
   write_legend(figure, layout, out);
+  if (!figure.title.empty())
+    out << "<text id=\"title\" x=\"" << layout.left() + plot_width / 2 << "\" y=\"" << top_margin - 12
+        << "\" text-anchor=\"middle\" font-size=\"12\" fill=\""
+        << ink << "\">" << escape_xml(figure.title) << "</text>\n";
   out << "</svg>\n";
   return out.str();
 }

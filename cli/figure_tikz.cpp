@@ -56,8 +56,11 @@ std::string figure_tikz(const Figure& figure) {
   auto x = [&](double v) { return number((v - figure.x_min) / (figure.x_max - figure.x_min) * plot_width_cm); };
   auto y = [&](double v) { return number((v - figure.y_min) / (figure.y_max - figure.y_min) * height_cm); };
   std::ostringstream out;
-  out << "% Linear regions drawn by pleat. Needs \\usepackage{tikz}; use with \\input.\n";
+  out << "% Activation regions drawn by pleat. Needs \\usepackage{tikz}; use with \\input.\n";
   out << "\\begin{tikzpicture}[font=\\footnotesize]\n";
+  if (!figure.title.empty())
+    out << "\\node[anchor=south west, inner sep=0pt, font=\\small] at (0," << number(height_cm + 0.3) << ") {"
+        << escape(figure.title) << "};\n";
   out << "\\definecolor{pleatink}{HTML}{1F1D2B}\\definecolor{pleatquiet}{HTML}{5C5A66}\n";
   for (std::size_t i = 0; i < figure.colours.size(); ++i)
     out << "\\definecolor{pleatcolour" << static_cast<char>('a' + i % 26) << i / 26 << "}{HTML}{"
