@@ -35,6 +35,7 @@ struct DrawArguments {
   bool labels = false;
   bool no_lines = false;
   bool no_stats = false;
+  bool no_legend = false;
   std::string title;
   bool quiet = false;
   std::uint64_t threads = 0;
@@ -304,6 +305,7 @@ Drawn draw_plane(const Network& network, const std::vector<Region>& regions, con
 
   Figure figure;
   figure.title = arguments.title;
+  figure.show_legend = !arguments.no_legend;
   figure.x_min = to_double(view.lower[0]);
   figure.x_max = to_double(view.upper[0]);
   figure.y_min = to_double(view.lower[1]);
@@ -413,6 +415,7 @@ Drawn draw_line(const Network& network, const std::vector<Region>& regions, cons
   }
   Figure figure;
   figure.title = arguments.title;
+  figure.show_legend = !arguments.no_legend;
   figure.x_min = to_double(view.lower[0]);
   figure.x_max = to_double(view.upper[0]);
   figure.x_label = "x";
@@ -660,6 +663,7 @@ void register_draw(CommandTable& commands) {
   command.add_flag("--no-lines", arguments->no_lines, "Leave out the bent hyperplanes (fills only)");
   command.add_flag("--no-stats", arguments->no_stats,
                    "Leave the counts (regions, edges, vertices) out of the figure; the summary printed has them");
+  command.add_flag("--no-legend", arguments->no_legend, "Leave out the key right of the plot (and the counts in it)");
   command.add_option("--title", arguments->title, "A title over the plot (SVG and TikZ)")->type_name("TEXT");
   command.add_option("--from", arguments->from_path,
                      "Draw a saved walk (pleat walk -o FILE) instead of walking; --view clips it");
