@@ -63,7 +63,10 @@ void check_standard_output() {
 void write_file_atomically(const std::string& path, std::string_view text) {
   const std::filesystem::path target(path);
   const std::filesystem::path directory = target.has_parent_path() ? target.parent_path() : ".";
-  std::string temporary = (directory / ("." + target.filename().string() + ".XXXXXX")).string();
+  // The name built by append, not "." + string: GCC 12 warns falsely (-Wrestrict) on that form.
+  std::string hidden_name(".");
+  hidden_name.append(target.filename().string()).append(".XXXXXX");
+  std::string temporary = (directory / hidden_name).string();
   const int descriptor = mkstemp(temporary.data());
   if (descriptor < 0) throw input_error(path + ": cannot open for writing (" + std::strerror(errno) + ")");
   const mode_t mask = umask(0);  // mkstemp makes the file 0600; give it the usual mode
