@@ -1,14 +1,18 @@
 // pleat certify: the functional dimension, certified exactly; the batch
 // functional dimension at given points; a verdict on someone else's estimate.
+#include "cli/bundle_json.hpp"
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
+#include "cli/output_file.hpp"
 #include "cli/points_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/region_json.hpp"
 #include "cli/signals.hpp"
 #include "core/jacobian.hpp"
+#include "enumerate/claim.hpp"
 #include "enumerate/functional_dimension.hpp"
+#include "enumerate/proof_bundle.hpp"
 #include "enumerate/walker.hpp"
 
 #include <fstream>
@@ -32,6 +36,7 @@ struct CertifyArguments {
   std::string rows_path;
   std::string kernel_path;
   std::string points_path;
+  std::string bundle_path;
   std::optional<std::uint64_t> claim;
   std::uint64_t claim_value = 0;
 };
@@ -45,60 +50,7 @@ void write_matrix(const std::string& path, const RationalMatrix& matrix) {
   write_output(path, out.str());
 }
 
-struct ClaimVerdict {
-  std::string verdict;  // "consistent", "too-low" or "impossible"
-  std::string reason;
-};
-
-// A claimed value against what certify proved about the network.
-ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& result) {
-  if (value > result.parametric_dimension)
-    return {"impossible", "exceeds the parametric dimension " + std::to_string(result.parametric_dimension)};
-  if (value > result.upper_bound)
-    return {"impossible", "exceeds the proved upper bound " + std::to_string(result.upper_bound) +
-                              (result.upper_bound == result.scaling_bound
-                                   ? " (the scaling bound: every hidden neuron's rescaling leaves the function unchanged)"
-                                   : " (an exact kernel checked on every region)")};
-  if (value < result.lower_bound)
-    return {"too-low", "below the proved lower bound " + std::to_string(result.lower_bound) + " by " +
-                           std::to_string(result.lower_bound - value) +
-                           " (a sampled estimate that misses regions or rounds away rank falls short like this)"};
-  return {"consistent", result.certified ? "equals the certified functional dimension"
-                                         : "within the proved bounds [" + std::to_string(result.lower_bound) + ", " +
-                                               std::to_string(result.upper_bound) + "]"};
-}
-
-// A claimed value against the exact rank of the Jacobian at the claim's own points.
-ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank) {
-  const std::string rank = std::to_string(batch_rank);
-  if (value > batch_rank)
-    return {"impossible", "exceeds the exact rank at these points, " + rank +
-                              " (a floating-point rank above it was invented by rounding)"};
-  if (value < batch_rank)
-    return {"too-low", "below the exact rank at these points, " + rank + ", by " + std::to_string(batch_rank - value) +
-                           " (rounding or the SVD tolerance lost rank)"};
-  return {"consistent", "equals the exact rank at these points"};
-}
-
 Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", verdict.verdict}, {"reason", verdict.reason}}; }
-
-// Extra kernel directions grouped by (mechanism, neurons), in first-seen order.
-struct MechanismGroup {
-  std::string mechanism;  // "" when none was recognised
-  std::vector<std::size_t> neurons;
-  std::size_t directions = 0;
-};
-
-std::vector<MechanismGroup> mechanism_groups(const FunctionalDimensionResult& result) {
-  std::vector<MechanismGroup> groups;
-  for (const auto& direction : result.extra_kernel) {
-    auto same = [&](const MechanismGroup& g) { return g.mechanism == direction.mechanism && g.neurons == direction.neurons; };
-    auto found = std::find_if(groups.begin(), groups.end(), same);
-    if (found == groups.end()) found = groups.insert(groups.end(), {direction.mechanism, direction.neurons, 0});
-    ++found->directions;
-  }
-  return groups;
-}
 
 // "dead neuron 5: 5 directions", "zero outgoing weights of neuron 2: 2 directions"
 std::string mechanism_text(const MechanismGroup& group) {
@@ -113,21 +65,6 @@ std::string mechanism_text(const MechanismGroup& group) {
   else if (group.mechanism.empty()) text = "no recognised mechanism";
   else text = group.mechanism + (numbers.empty() ? "" : " (" + neuron + numbers + ")");
   return text + ": " + std::to_string(group.directions) + (group.directions == 1 ? " direction" : " directions");
-}
-
-// When every smooth region's rows together are fewer than the scaling bound,
-// the rank cannot reach it whatever the parameters: a cause of its own.
-struct RegionLimit {
-  std::size_t smooth_regions = 0;
-  std::size_t rows_per_region = 0;
-};
-
-std::optional<RegionLimit> region_limit(const Network& network, const FunctionalDimensionResult& result) {
-  if (!result.walk_complete) return std::nullopt;
-  const RegionLimit limit{result.regions_walked - result.nonsmooth_regions.size(),
-                          network.output_dim() * (network.input_dim + 1)};
-  if (limit.smooth_regions * limit.rows_per_region >= result.scaling_bound) return std::nullopt;
-  return limit;
 }
 
 Json mechanism_summary_json(const Network& network, const FunctionalDimensionResult& result) {
@@ -256,43 +193,6 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
   return result;
 }
 
-bool is_inside(const Domain& domain, const RationalVector& point) {
-  for (const auto& side : domain.constraints) {
-    Rational value = side.offset;
-    for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
-    if (value <= 0) return false;
-  }
-  return true;
-}
-
-std::string point_text(const RationalVector& point) {
-  std::string text = "(";
-  for (std::size_t i = 0; i < point.size(); ++i) text += (i ? ", " : "") + format_rational(point[i]);
-  return text + ")";
-}
-
-// The activation pattern of each point's region; a point outside the domain,
-// on a bent hyperplane or in a region without smooth points is an input_error
-// naming its file and line.
-std::vector<ActivationPattern> point_regions(const Network& network, const Domain& domain, const PointsFile& file) {
-  std::vector<ActivationPattern> patterns;
-  for (std::size_t i = 0; i < file.points.size(); ++i) {
-    const std::string place = file.places[i] + " (point " + std::to_string(i) + ")";
-    if (!is_inside(domain, file.points[i]))
-      throw input_error(place + ": " + point_text(file.points[i]) + " lies outside the domain " + domain.describe());
-    const auto pattern = region_pattern_at(network, file.points[i]);
-    if (!pattern || !nonsmooth_neurons(network, *pattern).empty()) {
-      try {
-        (void)parameter_jacobian_exact(network, file.points[i]);  // throws the reason
-      } catch (const input_error& fault) {
-        throw input_error(place + ": " + fault.what());
-      }
-    }
-    patterns.push_back(*pattern);
-  }
-  return patterns;
-}
-
 struct BatchReport {
   std::size_t points = 0;
   std::size_t rank = 0;
@@ -343,7 +243,8 @@ int claim_status(const std::optional<ClaimVerdict>& at_points, const ClaimVerdic
 int run_points(const CertifyArguments& arguments, const Network& network) {
   const PointsFile file = read_points_file(arguments.points_path, network.input_dim);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
-  const std::vector<ActivationPattern> patterns = point_regions(network, domain, file);
+  const std::vector<ActivationPattern> patterns = batch_point_patterns(
+      network, domain, file.points, [&](std::size_t i) { return file.places[i] + " (point " + std::to_string(i) + ")"; });
   BatchReport batch;
   batch.points = file.points.size();
   batch.rank = batch_functional_dimension(network, file.points);
@@ -384,9 +285,54 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
   return arguments.claim ? claim_status(at_points, *network_verdict) : 0;
 }
 
+// The proof bundle of a certified value; nothing for bounds (said on stderr).
+// A second walk gathers the evidence within what is left of --time-limit.
+// Returns false when an interrupt stopped it.
+bool write_bundle(const CertifyArguments& arguments, const Network& network, const Domain& domain,
+                  const FunctionalDimensionResult& result) {
+  const std::string skipped = "pleat: no bundle written to " + arguments.bundle_path + ": ";
+  if (!result.certified) {
+    std::cerr << skipped << "the functional dimension was not certified (bounds only)\n";
+    return true;
+  }
+  WalkOptions walk;
+  walk.threads = static_cast<unsigned>(arguments.threads);
+  if (arguments.time_limit > 0) {
+    walk.time_limit_seconds = arguments.time_limit - result.seconds;
+    if (walk.time_limit_seconds <= 0) {
+      std::cerr << skipped << "the time limit ran out before the evidence was gathered\n";
+      return true;
+    }
+  }
+  ProgressLine progress(arguments.quiet);
+  const InterruptGuard interrupt;
+  walk.interrupt = &interrupt.flag();
+  walk.on_progress = [&](const WalkProgress& state) {
+    progress.update("bundle: " + std::to_string(state.regions) + " regions walked");
+  };
+  const bool needs_every_region = result.upper_bound < result.scaling_bound;
+  const auto bundle =
+      gather_proof_bundle(network, domain, *result.functional_dimension, needs_every_region, walk);
+  progress.finish();
+  if (!bundle) {
+    std::cerr << skipped << "the walk that gathers the evidence was stopped\n";
+    return !interrupt.flag().load();
+  }
+  write_output(arguments.bundle_path, json_text(bundle_to_json(network, domain, result, *bundle), false));
+  if (!arguments.json)
+    std::cout << "bundle                " << arguments.bundle_path << " (" << bundle->regions.size()
+              << (bundle->has_every_region ? " regions, every one with its certificates; upper bound: an exact kernel"
+                                           : " regions holding the minor; upper bound: the scaling directions")
+              << ")\n";
+  return true;
+}
+
 int run_certify(const CertifyArguments& arguments) {
   const Network network = load_network(arguments.network_path);
-  if (!arguments.points_path.empty()) return run_points(arguments, network);
+  if (!arguments.points_path.empty()) {
+    if (!arguments.bundle_path.empty()) throw usage_error("--bundle certifies the network's value; leave out --points");
+    return run_points(arguments, network);
+  }
   const Domain domain = make_domain(arguments.domain, network.input_dim);
   const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, !arguments.full_walk);
   if (!arguments.rows_path.empty()) write_matrix(arguments.rows_path, result.rows);
@@ -404,7 +350,12 @@ int run_certify(const CertifyArguments& arguments) {
     print_result(network, domain, result, std::cout);
     if (arguments.claim) print_claim(*arguments.claim, std::nullopt, *verdict, std::cout);
   }
-  if (result.stop_reason == StopReason::interrupted) return 130;
+  bool is_bundle_done = true;
+  if (!arguments.bundle_path.empty()) {
+    check_standard_output();  // the result stands even if the bundle's walk is interrupted
+    is_bundle_done = write_bundle(arguments, network, domain, result);
+  }
+  if (result.stop_reason == StopReason::interrupted || !is_bundle_done) return 130;
   return arguments.claim ? claim_status(std::nullopt, *verdict) : 0;
 }
 
@@ -423,6 +374,7 @@ void register_certify(CommandTable& commands) {
       "Examples:\n"
       "  pleat certify data/fold2d.json\n"
       "  pleat certify data/fold2d.json --box -1,1 --json\n"
+      "  pleat certify data/fold2d.json --bundle proof.json   # then: python3 scripts/check_bundle.py proof.json\n"
       "  pleat certify net.json --claim 37          # check someone's sampled estimate\n"
       "  pleat certify net.json --points pts.csv    # exact batch dimension at these points\n"
       "  pleat certify net.json --points pts.npy --claim 37   # judge an estimate made at pts\n\n"
@@ -448,6 +400,9 @@ void register_certify(CommandTable& commands) {
                      "Write the exact Jacobian rows of the contributing regions (one row per line)");
   command.add_option("--kernel-out", arguments->kernel_path,
                      "Write the exact kernel basis checked against every region (one row per line)");
+  command.add_option("--bundle", arguments->bundle_path,
+                     "Write a proof of the certified value that scripts/check_bundle.py re-checks "
+                     "(pleat-bundle/1; none when not certified)");
   command.add_option("--points", arguments->points_path,
                      "Also: the exact batch functional dimension at these points (text or .npy)");
   CLI::Option* claim = add_unsigned_option(command, "--claim", arguments->claim_value,
