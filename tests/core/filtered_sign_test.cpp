@@ -35,7 +35,9 @@ TEST(FilteredSign, DecidedSignsAreExact) {
     for (const auto& v : a) ai.push_back(filter_image(v));
     for (const auto& v : x) xi.push_back(filter_image(v));
     const std::optional<int> sign = filtered_affine_sign(ai.data(), xi.data(), 3, filter_image(c));
-    if (trial % 4 == 0 && sgn(exact) == 0) EXPECT_FALSE(sign.has_value() && *sign != 0);
+    if (trial % 4 == 0 && sgn(exact) == 0) {
+      EXPECT_FALSE(sign.has_value() && *sign != 0);
+    }
     if (sign) {
       ++decided;
       ASSERT_EQ(*sign, sgn(exact)) << "trial " << trial;
