@@ -251,6 +251,7 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
   };
   options.stop_at_scaling_bound = stop_at_scaling_bound;
   options.keep_rows = !arguments.rows_path.empty();
+  options.keep_kernel = !arguments.kernel_path.empty();
   FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
   progress.finish();
   return result;

@@ -485,18 +485,6 @@ bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>&
   return true;
 }
 
-// Rows of S that are independent modulo p (hence over Q), in order.
-RationalMatrix independent_rows(const RationalMatrix& rows, std::uint64_t prime) {
-  ModularRowBasis basis(prime, rows.cols());
-  std::vector<std::size_t> chosen;
-  const auto image = reduce_modulo(rows, prime);
-  for (std::size_t r = 0; r < rows.rows(); ++r)
-    if (image && basis.add_row(image->row(r))) chosen.push_back(r);
-  RationalMatrix out(chosen.size(), rows.cols());
-  for (std::size_t i = 0; i < chosen.size(); ++i) out.set_row(i, rows.row(chosen[i]));
-  return out;
-}
-
 RationalMatrix stack_matrices(const RationalMatrix& top, const RationalMatrix& bottom) {
   RationalMatrix out(top.rows() + bottom.rows(), top.cols());
   for (std::size_t r = 0; r < top.rows(); ++r) out.set_row(r, top.row(r));
@@ -524,8 +512,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   FunctionalDimensionResult result;
   const std::size_t parameters = network.parametric_dimension();
   result.parametric_dimension = parameters;
-  const RationalMatrix scaling = scaling_directions(network);
-  result.scaling_bound = scaling_bound(network);
+  // The scaling directions' rank and pivot columns from the network's zero
+  // pattern (no elimination: cheap even for thousands of layers).
+  const ScalingStructure scaling = scaling_structure(network);
+  result.scaling_bound = parameters - scaling.rank;
   auto report = [&](const char* phase, std::size_t done, std::size_t total) {
     if (options.on_phase) options.on_phase(CertifyProgress{phase, done, total, stop.elapsed_seconds()});
   };
@@ -581,16 +571,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   auto prove_by_extra_directions = [&] {
     const unsigned threads =
         options.walk.threads ? options.walk.threads : std::max(1u, std::thread::hardware_concurrency());
-    // The scaling directions' independent rows and pivot columns Q modulo
-    // the walk's prime; S restricted to Q is nonsingular mod p, hence over Q.
-    const RationalMatrix scaling_rows = independent_rows(scaling, modular.prime);
-    const ModularMatrix scaling_echelon = row_space_basis_modulo(*reduce_modulo(scaling_rows, modular.prime), modular.prime);
-    std::vector<std::size_t> scaling_pivots;
-    for (std::size_t r = 0; r < scaling_echelon.rows(); ++r) {
-      std::size_t c = 0;
-      while (scaling_echelon(r, c) == 0) ++c;
-      scaling_pivots.push_back(c);
-    }
+    // The scaling directions' pivot columns Q: S restricted to its
+    // independent rows and Q is nonsingular over Q (core/jacobian.hpp).
+    const std::vector<std::size_t>& scaling_pivots = scaling.pivot_columns;
     std::size_t next_prime_index = 0;
     for (std::size_t attempt = 0; attempt < parameters + 8 && !stopped; ++attempt) {
       report("kernel", 0, 0);
@@ -625,10 +608,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       // Proved: S and E annihilate every smooth region's rows exactly.
       // Independent: E is echelon and vanishes on Q (checked exactly here).
       if (!is_echelon_off(extra, scaling_pivots)) return;
-      const RationalMatrix kernel = stack_matrices(scaling_rows, extra);
       result.lower_bound = basis.rank();
-      result.upper_bound = std::min(result.scaling_bound, parameters - kernel.rows());
-      result.kernel = kernel;
+      result.upper_bound = std::min(result.scaling_bound, parameters - scaling.rank - extra.rows());
+      if (options.keep_kernel)
+        result.kernel = stack_matrices(scaling_directions(network, scaling.independent_neurons), extra);
       const auto neuron_parameters = hidden_neuron_parameters(network);
       for (std::size_t r = 0; r < extra.rows(); ++r) {
         if (stop_now()) return;

@@ -56,6 +56,9 @@ struct FunctionalDimensionOptions {
   std::function<void(const CertifyProgress&)> on_phase;
   bool stop_at_scaling_bound = true;
   bool keep_rows = false;  // fill FunctionalDimensionResult::rows (exact rows of contributing regions)
+  // Fill FunctionalDimensionResult::kernel (dense: rows x D rationals, large
+  // for deep networks; the proof itself does not need it).
+  bool keep_kernel = false;
 };
 
 struct FunctionalDimensionResult {
@@ -77,9 +80,9 @@ struct FunctionalDimensionResult {
   std::vector<std::pair<ActivationPattern, std::vector<std::size_t>>> nonsmooth_regions;
   std::vector<ExtraKernelDirection> extra_kernel;
   RationalMatrix rows;    // with keep_rows: exact coefficient-block rows of the contributing regions
-  // A basis of the exact kernel proved on every smooth region: the scaling
-  // directions independent modulo p, then the extra directions (empty on an
-  // early stop or when cut short).
+  // With keep_kernel, a basis of the exact kernel proved on every smooth
+  // region: the independent scaling directions (ScalingStructure), then the
+  // extra directions (empty on an early stop or when cut short).
   RationalMatrix kernel;
   double seconds = 0;
 };

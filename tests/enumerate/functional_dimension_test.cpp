@@ -63,6 +63,7 @@ FunctionalDimensionResult certify(const Network& network, const Domain& domain, 
   options.walk.threads = 1;
   options.stop_at_scaling_bound = stop_at_scaling_bound;
   options.keep_rows = keep_rows;
+  options.keep_kernel = true;
   return certify_functional_dimension(network, domain, options);
 }
 
@@ -528,6 +529,7 @@ TEST(FunctionalDimension, SameResultForAnyThreadCount) {
     one.walk.threads = 1;
     two.walk.threads = 2;
     one.stop_at_scaling_bound = two.stop_at_scaling_bound = false;
+    one.keep_kernel = two.keep_kernel = true;
     const auto a = certify_functional_dimension(network, make_whole_space(network.input_dim), one);
     const auto b = certify_functional_dimension(network, make_whole_space(network.input_dim), two);
     EXPECT_EQ(a.functional_dimension, b.functional_dimension);
