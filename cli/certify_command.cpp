@@ -8,6 +8,7 @@
 #include "cli/region_json.hpp"
 #include "cli/signals.hpp"
 #include "core/jacobian.hpp"
+#include "enumerate/claim.hpp"
 #include "enumerate/functional_dimension.hpp"
 #include "enumerate/walker.hpp"
 
@@ -45,60 +46,7 @@ void write_matrix(const std::string& path, const RationalMatrix& matrix) {
   write_output(path, out.str());
 }
 
-struct ClaimVerdict {
-  std::string verdict;  // "consistent", "too-low" or "impossible"
-  std::string reason;
-};
-
-// A claimed value against what certify proved about the network.
-ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& result) {
-  if (value > result.parametric_dimension)
-    return {"impossible", "exceeds the parametric dimension " + std::to_string(result.parametric_dimension)};
-  if (value > result.upper_bound)
-    return {"impossible", "exceeds the proved upper bound " + std::to_string(result.upper_bound) +
-                              (result.upper_bound == result.scaling_bound
-                                   ? " (the scaling bound: every hidden neuron's rescaling leaves the function unchanged)"
-                                   : " (an exact kernel checked on every region)")};
-  if (value < result.lower_bound)
-    return {"too-low", "below the proved lower bound " + std::to_string(result.lower_bound) + " by " +
-                           std::to_string(result.lower_bound - value) +
-                           " (a sampled estimate that misses regions or rounds away rank falls short like this)"};
-  return {"consistent", result.certified ? "equals the certified functional dimension"
-                                         : "within the proved bounds [" + std::to_string(result.lower_bound) + ", " +
-                                               std::to_string(result.upper_bound) + "]"};
-}
-
-// A claimed value against the exact rank of the Jacobian at the claim's own points.
-ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank) {
-  const std::string rank = std::to_string(batch_rank);
-  if (value > batch_rank)
-    return {"impossible", "exceeds the exact rank at these points, " + rank +
-                              " (a floating-point rank above it was invented by rounding)"};
-  if (value < batch_rank)
-    return {"too-low", "below the exact rank at these points, " + rank + ", by " + std::to_string(batch_rank - value) +
-                           " (rounding or the SVD tolerance lost rank)"};
-  return {"consistent", "equals the exact rank at these points"};
-}
-
 Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", verdict.verdict}, {"reason", verdict.reason}}; }
-
-// Extra kernel directions grouped by (mechanism, neurons), in first-seen order.
-struct MechanismGroup {
-  std::string mechanism;  // "" when none was recognised
-  std::vector<std::size_t> neurons;
-  std::size_t directions = 0;
-};
-
-std::vector<MechanismGroup> mechanism_groups(const FunctionalDimensionResult& result) {
-  std::vector<MechanismGroup> groups;
-  for (const auto& direction : result.extra_kernel) {
-    auto same = [&](const MechanismGroup& g) { return g.mechanism == direction.mechanism && g.neurons == direction.neurons; };
-    auto found = std::find_if(groups.begin(), groups.end(), same);
-    if (found == groups.end()) found = groups.insert(groups.end(), {direction.mechanism, direction.neurons, 0});
-    ++found->directions;
-  }
-  return groups;
-}
 
 // "dead neuron 5: 5 directions", "zero outgoing weights of neuron 2: 2 directions"
 std::string mechanism_text(const MechanismGroup& group) {
@@ -113,21 +61,6 @@ std::string mechanism_text(const MechanismGroup& group) {
   else if (group.mechanism.empty()) text = "no recognised mechanism";
   else text = group.mechanism + (numbers.empty() ? "" : " (" + neuron + numbers + ")");
   return text + ": " + std::to_string(group.directions) + (group.directions == 1 ? " direction" : " directions");
-}
-
-// When every smooth region's rows together are fewer than the scaling bound,
-// the rank cannot reach it whatever the parameters: a cause of its own.
-struct RegionLimit {
-  std::size_t smooth_regions = 0;
-  std::size_t rows_per_region = 0;
-};
-
-std::optional<RegionLimit> region_limit(const Network& network, const FunctionalDimensionResult& result) {
-  if (!result.walk_complete) return std::nullopt;
-  const RegionLimit limit{result.regions_walked - result.nonsmooth_regions.size(),
-                          network.output_dim() * (network.input_dim + 1)};
-  if (limit.smooth_regions * limit.rows_per_region >= result.scaling_bound) return std::nullopt;
-  return limit;
 }
 
 Json mechanism_summary_json(const Network& network, const FunctionalDimensionResult& result) {
@@ -257,43 +190,6 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
   return result;
 }
 
-bool is_inside(const Domain& domain, const RationalVector& point) {
-  for (const auto& side : domain.constraints) {
-    Rational value = side.offset;
-    for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
-    if (value <= 0) return false;
-  }
-  return true;
-}
-
-std::string point_text(const RationalVector& point) {
-  std::string text = "(";
-  for (std::size_t i = 0; i < point.size(); ++i) text += (i ? ", " : "") + format_rational(point[i]);
-  return text + ")";
-}
-
-// The activation pattern of each point's region; a point outside the domain,
-// on a bent hyperplane or in a region without smooth points is an input_error
-// naming its file and line.
-std::vector<ActivationPattern> point_regions(const Network& network, const Domain& domain, const PointsFile& file) {
-  std::vector<ActivationPattern> patterns;
-  for (std::size_t i = 0; i < file.points.size(); ++i) {
-    const std::string place = file.places[i] + " (point " + std::to_string(i) + ")";
-    if (!is_inside(domain, file.points[i]))
-      throw input_error(place + ": " + point_text(file.points[i]) + " lies outside the domain " + domain.describe());
-    const auto pattern = region_pattern_at(network, file.points[i]);
-    if (!pattern || !nonsmooth_neurons(network, *pattern).empty()) {
-      try {
-        (void)parameter_jacobian_exact(network, file.points[i]);  // throws the reason
-      } catch (const input_error& fault) {
-        throw input_error(place + ": " + fault.what());
-      }
-    }
-    patterns.push_back(*pattern);
-  }
-  return patterns;
-}
-
 struct BatchReport {
   std::size_t points = 0;
   std::size_t rank = 0;
@@ -344,7 +240,8 @@ int claim_status(const std::optional<ClaimVerdict>& at_points, const ClaimVerdic
 int run_points(const CertifyArguments& arguments, const Network& network) {
   const PointsFile file = read_points_file(arguments.points_path, network.input_dim);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
-  const std::vector<ActivationPattern> patterns = point_regions(network, domain, file);
+  const std::vector<ActivationPattern> patterns = batch_point_patterns(
+      network, domain, file.points, [&](std::size_t i) { return file.places[i] + " (point " + std::to_string(i) + ")"; });
   BatchReport batch;
   batch.points = file.points.size();
   batch.rank = batch_functional_dimension(network, file.points);

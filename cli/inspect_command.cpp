@@ -6,6 +6,7 @@
 #include "cli/domain_options.hpp"
 #include "cli/region_json.hpp"
 #include "enumerate/region_geometry.hpp"
+#include "enumerate/region_record.hpp"
 #include "enumerate/walker.hpp"
 
 #include <iostream>
@@ -13,8 +14,6 @@
 
 namespace pleat::cli {
 namespace {
-
-constexpr std::size_t max_volume_dimension = 4;
 
 struct InspectArguments {
   std::string network_path;
@@ -30,32 +29,7 @@ std::string number_text(const Rational& value, bool exact_only) {
   return exact_only ? format_rational(value) : format_rational_readable(value);
 }
 
-struct Record {
-  Region region;
-  VertexRepresentation vertices;
-  std::optional<Rational> volume;
-  std::size_t rank = 0;
-};
-
-Record make_record(const Network& network, const Domain& domain, Region region) {
-  lp::Polyhedron closed{network.input_dim, {}};
-  for (const auto& facet : region.facets) closed.constraints.push_back(lp::Constraint{facet.normal, facet.offset});
-  Record record;
-  record.vertices = vertex_representation(closed, region.point);
-  if (record.vertices.is_bounded() && network.input_dim <= max_volume_dimension)
-    record.volume = network.input_dim == 2 ? polygon_area(Polygon{record.vertices.points})
-                                           : polytope_volume(closed, record.vertices.points);
-  record.rank = rank_contribution(network, region.pattern);
-  record.region = std::move(region);
-  (void)domain;
-  return record;
-}
-
-std::size_t layer_of_neuron(const Network& network, std::size_t neuron) {
-  std::size_t layer = 0;
-  while (layer + 1 < network.relu_layer_count() && network.first_neuron_of_layer(layer + 1) <= neuron) ++layer;
-  return layer;
-}
+using Record = RegionRecord;
 
 std::string neuron_name(const Network& network, std::size_t neuron) {
   const std::size_t layer = layer_of_neuron(network, neuron);
@@ -199,7 +173,7 @@ int run_inspect(const InspectArguments& arguments) {
     for (const auto& pattern : incidence->regions) {
       auto region = describe_region(network, domain, pattern);
       if (!region) throw std::logic_error("inspect: an incident cell lost its interior");
-      records.push_back(make_record(network, domain, std::move(*region)));
+      records.push_back(make_region_record(network, std::move(*region)));
     }
   } else {
     const ActivationPattern pattern = [&] {
@@ -214,7 +188,7 @@ int run_inspect(const InspectArguments& arguments) {
     if (!region)
       throw input_error("--pattern " + arguments.pattern_text + ": no region has this pattern on " + domain.describe() +
                         " (its cell has empty interior)");
-    records.push_back(make_record(network, domain, std::move(*region)));
+    records.push_back(make_region_record(network, std::move(*region)));
   }
   const bool on_boundary = incidence && !incidence->vanishing_neurons.empty();
 

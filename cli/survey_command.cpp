@@ -114,25 +114,11 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
   record.header = survey_header_json(configuration, shard);
   record.source = path;
 
-  std::uintmax_t keep_bytes = 0;
-  // Only a regular file can hold earlier samples (-o /dev/null is fine too).
-  if (!path.empty() && std::filesystem::is_regular_file(path) && std::filesystem::file_size(path) > 0) {
-    SurveyFile existing = read_survey_file(path);
-    if (!existing.header.is_null()) {
-      const std::string difference = header_difference(existing.header, record.header);
-      if (!difference.empty())
-        throw input_error(path + ": holds a different survey ('" + difference + "' is " +
-                          existing.header[difference].dump() + " there, " + record.header[difference].dump() +
-                          " here); use another -o, or delete the file to start over");
-      if (existing.header["shard"] != record.header["shard"])
-        throw input_error(path + ": holds shard " + existing.header["shard"].get<std::string>() +
-                          ", this command runs shard " + format_shard(shard));
-      keep_bytes = existing.complete_bytes;
-      record.samples = std::move(existing.samples);
-      if (existing.has_partial_line)
-        std::cerr << "pleat: " << path << ": dropped a last line cut short by an earlier run\n";
-    }
-  }
+  SurveyResume resume = resume_survey_file(path, record.header);
+  const std::uintmax_t keep_bytes = resume.keep_bytes;
+  record.samples = std::move(resume.samples);
+  if (resume.dropped_partial_line)
+    std::cerr << "pleat: " << path << ": dropped a last line cut short by an earlier run\n";
   std::set<std::uint64_t> done;
   for (const SurveySample& s : record.samples) done.insert(s.sample);
   std::vector<std::uint64_t> todo;

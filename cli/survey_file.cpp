@@ -269,6 +269,26 @@ SurveyFile read_survey_file(const std::string& path) {
   return file;
 }
 
+SurveyResume resume_survey_file(const std::string& path, const Json& header) {
+  SurveyResume resume;
+  // Only a regular file can hold earlier samples (-o /dev/null is fine too).
+  if (path.empty() || !std::filesystem::is_regular_file(path) || std::filesystem::file_size(path) == 0) return resume;
+  SurveyFile existing = read_survey_file(path);
+  if (existing.header.is_null()) return resume;
+  const std::string difference = header_difference(existing.header, header);
+  if (!difference.empty())
+    throw input_error(path + ": holds a different survey ('" + difference + "' is " +
+                      existing.header[difference].dump() + " there, " + header[difference].dump() +
+                      " here); use another -o, or delete the file to start over");
+  if (existing.header["shard"] != header["shard"])
+    throw input_error(path + ": holds shard " + existing.header["shard"].get<std::string>() +
+                      ", this command runs shard " + header["shard"].get<std::string>());
+  resume.keep_bytes = existing.complete_bytes;
+  resume.samples = std::move(existing.samples);
+  resume.dropped_partial_line = existing.has_partial_line;
+  return resume;
+}
+
 SurveyWriter::SurveyWriter(const std::string& path, std::uintmax_t keep_bytes, const Json& header) {
   std::error_code error;
   if (keep_bytes > 0) std::filesystem::resize_file(path, keep_bytes, error);

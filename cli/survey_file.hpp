@@ -61,6 +61,18 @@ SurveyFile read_survey_file(const std::string& path);
 SurveyConfiguration configuration_from_header(const Json& header, const std::string& where);
 ShardSet shard_from_header(const Json& header, const std::string& where);
 
+// What an existing survey file holds for a run whose header is `header`:
+// its samples and the length of its whole lines (a last line cut short by a
+// killed run is dropped, and said so). A missing or empty file (or one that
+// is not regular, such as /dev/null) holds nothing. A file of another survey
+// or another shard is an input_error naming the first differing key.
+struct SurveyResume {
+  std::uintmax_t keep_bytes = 0;
+  std::vector<SurveySample> samples;
+  bool dropped_partial_line = false;
+};
+SurveyResume resume_survey_file(const std::string& path, const Json& header);
+
 // Appends lines to a survey file, each written whole and flushed at once, so
 // a killed run leaves at most one partial last line.
 class SurveyWriter {

@@ -8,6 +8,7 @@ packages=(
   libgtest-dev nlohmann-json3-dev libcli11-dev libxtensor-dev
   python3 python3-numpy python3-sympy python3-scipy python3-torch
   libonnx-dev libprotobuf-dev python3-onnx
+  pybind11-dev python3-pybind11 python3-pandas  # the Python module (python/); pandas only for to_pandas()
   librsvg2-bin
   libbenchmark-dev hyperfine  # tests/bench: walk micro-benchmarks and whole-walk timings
   time  # /usr/bin/time: peak memory of the readers in tests/cli/readers_test.sh

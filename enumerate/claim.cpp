@@ -1,0 +1,96 @@
+#include "enumerate/claim.hpp"
+
+#include "core/jacobian.hpp"
+#include "enumerate/walker.hpp"
+
+#include <algorithm>
+
+namespace pleat {
+namespace {
+
+std::string point_text(const RationalVector& point) {
+  std::string text = "(";
+  for (std::size_t i = 0; i < point.size(); ++i) text += (i ? ", " : "") + format_rational(point[i]);
+  return text + ")";
+}
+
+}  // namespace
+
+ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& result) {
+  if (value > result.parametric_dimension)
+    return {"impossible", "exceeds the parametric dimension " + std::to_string(result.parametric_dimension)};
+  if (value > result.upper_bound)
+    return {"impossible", "exceeds the proved upper bound " + std::to_string(result.upper_bound) +
+                              (result.upper_bound == result.scaling_bound
+                                   ? " (the scaling bound: every hidden neuron's rescaling leaves the function unchanged)"
+                                   : " (an exact kernel checked on every region)")};
+  if (value < result.lower_bound)
+    return {"too-low", "below the proved lower bound " + std::to_string(result.lower_bound) + " by " +
+                           std::to_string(result.lower_bound - value) +
+                           " (a sampled estimate that misses regions or rounds away rank falls short like this)"};
+  return {"consistent", result.certified ? "equals the certified functional dimension"
+                                         : "within the proved bounds [" + std::to_string(result.lower_bound) + ", " +
+                                               std::to_string(result.upper_bound) + "]"};
+}
+
+ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank) {
+  const std::string rank = std::to_string(batch_rank);
+  if (value > batch_rank)
+    return {"impossible", "exceeds the exact rank at these points, " + rank +
+                              " (a floating-point rank above it was invented by rounding)"};
+  if (value < batch_rank)
+    return {"too-low", "below the exact rank at these points, " + rank + ", by " + std::to_string(batch_rank - value) +
+                           " (rounding or the SVD tolerance lost rank)"};
+  return {"consistent", "equals the exact rank at these points"};
+}
+
+std::vector<MechanismGroup> mechanism_groups(const FunctionalDimensionResult& result) {
+  std::vector<MechanismGroup> groups;
+  for (const auto& direction : result.extra_kernel) {
+    auto same = [&](const MechanismGroup& g) { return g.mechanism == direction.mechanism && g.neurons == direction.neurons; };
+    auto found = std::find_if(groups.begin(), groups.end(), same);
+    if (found == groups.end()) found = groups.insert(groups.end(), {direction.mechanism, direction.neurons, 0});
+    ++found->directions;
+  }
+  return groups;
+}
+
+std::optional<RegionLimit> region_limit(const Network& network, const FunctionalDimensionResult& result) {
+  if (!result.walk_complete) return std::nullopt;
+  const RegionLimit limit{result.regions_walked - result.nonsmooth_regions.size(),
+                          network.output_dim() * (network.input_dim + 1)};
+  if (limit.smooth_regions * limit.rows_per_region >= result.scaling_bound) return std::nullopt;
+  return limit;
+}
+
+bool is_inside(const Domain& domain, const RationalVector& point) {
+  for (const auto& side : domain.constraints) {
+    Rational value = side.offset;
+    for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
+    if (value <= 0) return false;
+  }
+  return true;
+}
+
+std::vector<ActivationPattern> batch_point_patterns(const Network& network, const Domain& domain,
+                                                    const std::vector<RationalVector>& points,
+                                                    const std::function<std::string(std::size_t)>& place_of) {
+  std::vector<ActivationPattern> patterns;
+  for (std::size_t i = 0; i < points.size(); ++i) {
+    const std::string place = place_of(i);
+    if (!is_inside(domain, points[i]))
+      throw input_error(place + ": " + point_text(points[i]) + " lies outside the domain " + domain.describe());
+    const auto pattern = region_pattern_at(network, points[i]);
+    if (!pattern || !nonsmooth_neurons(network, *pattern).empty()) {
+      try {
+        (void)parameter_jacobian_exact(network, points[i]);  // throws the reason
+      } catch (const input_error& fault) {
+        throw input_error(place + ": " + fault.what());
+      }
+    }
+    patterns.push_back(*pattern);
+  }
+  return patterns;
+}
+
+}  // namespace pleat

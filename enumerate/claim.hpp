@@ -1,0 +1,62 @@
+// Judging a claimed functional dimension (someone's sampled estimate) against
+// what certify proved, and the explanations certify gives beside its value:
+// the extra flat directions grouped by mechanism, and a rank limited by the
+// number of regions. Shared by `pleat certify` and the Python module; the
+// verdict words and reasons are part of both outputs.
+#pragma once
+
+#include "core/network.hpp"
+#include "core/pattern.hpp"
+#include "core/rational.hpp"
+#include "enumerate/domain.hpp"
+#include "enumerate/functional_dimension.hpp"
+
+#include <cstddef>
+#include <cstdint>
+#include <functional>
+#include <optional>
+#include <string>
+#include <vector>
+
+namespace pleat {
+
+struct ClaimVerdict {
+  std::string verdict;  // "consistent", "too-low" or "impossible"
+  std::string reason;   // one sentence for people
+};
+
+// A claimed value against the proved bounds of the network.
+ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& result);
+
+// A claimed value against the exact rank of the Jacobian at the claim's own points.
+ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank);
+
+// Extra kernel directions grouped by (mechanism, neurons), in first-seen order.
+struct MechanismGroup {
+  std::string mechanism;  // "" when none was recognised
+  std::vector<std::size_t> neurons;
+  std::size_t directions = 0;
+};
+std::vector<MechanismGroup> mechanism_groups(const FunctionalDimensionResult& result);
+
+// When every smooth region's rows together are fewer than the scaling bound,
+// the rank cannot reach it whatever the parameters: a cause of its own.
+// Only for a complete walk; nullopt when the rows suffice.
+struct RegionLimit {
+  std::size_t smooth_regions = 0;
+  std::size_t rows_per_region = 0;
+};
+std::optional<RegionLimit> region_limit(const Network& network, const FunctionalDimensionResult& result);
+
+// Whether the point lies strictly inside the (open) domain. Exact.
+bool is_inside(const Domain& domain, const RationalVector& point);
+
+// The activation pattern of each point's region, for the batch functional
+// dimension. A point outside the domain, on a bent hyperplane or in a region
+// without smooth points is an input_error starting with place(i) (e.g.
+// "pts.csv:4 (point 3)"). Exact.
+std::vector<ActivationPattern> batch_point_patterns(const Network& network, const Domain& domain,
+                                                    const std::vector<RationalVector>& points,
+                                                    const std::function<std::string(std::size_t)>& place);
+
+}  // namespace pleat

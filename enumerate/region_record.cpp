@@ -1,0 +1,24 @@
+#include "enumerate/region_record.hpp"
+
+namespace pleat {
+
+RegionRecord make_region_record(const Network& network, Region region) {
+  lp::Polyhedron closed{network.input_dim, {}};
+  for (const auto& facet : region.facets) closed.constraints.push_back(lp::Constraint{facet.normal, facet.offset});
+  RegionRecord record;
+  record.vertices = vertex_representation(closed, region.point);
+  if (record.vertices.is_bounded() && network.input_dim <= max_volume_dimension)
+    record.volume = network.input_dim == 2 ? polygon_area(Polygon{record.vertices.points})
+                                           : polytope_volume(closed, record.vertices.points);
+  record.rank = rank_contribution(network, region.pattern);
+  record.region = std::move(region);
+  return record;
+}
+
+std::size_t layer_of_neuron(const Network& network, std::size_t neuron) {
+  std::size_t layer = 0;
+  while (layer + 1 < network.relu_layer_count() && network.first_neuron_of_layer(layer + 1) <= neuron) ++layer;
+  return layer;
+}
+
+}  // namespace pleat

@@ -1,0 +1,242 @@
+#!/usr/bin/python3
+"""walk, certify, sample, inspect and eval from Python against the CLI's JSON.
+
+Outside references: the command line's own JSON output on the bundled
+networks (the module must give the very same values, exact numbers as
+Fractions of the CLI's strings); sympy's exact rank over QQ of the parameter
+Jacobian at given points, built here from an independent exact forward pass
+(sympy differentiates the network's expression with the ReLU masks fixed at
+each point), for certify(points=...).
+"""
+import json
+import os
+import subprocess
+import sys
+import tempfile
+import unittest
+from fractions import Fraction
+
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+import harness  # noqa: E402
+import pleat  # noqa: E402
+from harness import fractions  # noqa: E402
+
+FOLD = harness.data("fold2d.json")
+
+
+class WalkTest(unittest.TestCase):
+    def test_summary_and_regions_equal_the_cli(self):
+        with tempfile.TemporaryDirectory() as work:
+            lines_path = os.path.join(work, "regions.jsonl")
+            cli = harness.cli_json("walk", FOLD, "--box", "-2,2", "--patterns", "-q", "-o", lines_path)
+            with open(lines_path) as handle:
+                lines = [json.loads(line) for line in handle][1:]
+        result = pleat.Network.from_file(FOLD).walk(domain=(-2, 2), threads=2)
+        for key in ("bounded_regions", "linear_regions", "regions_per_layer", "facets", "complete", "certified"):
+            self.assertEqual(getattr(result, key), cli[key], key)
+        self.assertEqual(result.region_count, cli["regions"])
+        self.assertEqual(len(result.regions), cli["regions"])
+        self.assertEqual(sorted(r.pattern for r in result.regions), cli["patterns"])
+        for region, line in zip(result.regions, lines):
+            self.assertEqual(region.id, line["id"])
+            self.assertEqual(region.pattern, line["pattern"])
+            self.assertEqual(region.point, fractions(line["point"]))
+            self.assertEqual(region.affine.A, [fractions(row) for row in line["affine"]["A"]])
+            self.assertEqual(region.affine.c, fractions(line["affine"]["c"]))
+            self.assertEqual([f.normal for f in region.facets], [fractions(f["normal"]) for f in line["facets"]])
+            self.assertEqual([f.neighbor for f in region.facets], [f["neighbor"] for f in line["facets"]])
+        # The affine map is the network on the region: check at the interior point.
+        net = pleat.Network.from_file(FOLD)
+        first = result.regions[0]
+        self.assertEqual(first.affine(first.point), net.eval(first.point).output)
+
+    def test_max_regions_gives_lower_bounds(self):
+        result = pleat.Network.from_file(FOLD).walk(max_regions=3)
+        self.assertEqual(result.region_count, 3)
+        self.assertFalse(result.certified)
+        self.assertEqual(result.stop_reason, "max-regions")
+
+    def test_records_and_pandas(self):
+        result = pleat.Network.from_file(FOLD).walk()
+        records = result.to_records()
+        self.assertEqual(len(records), result.region_count)
+        self.assertEqual(records[0]["x1"], float(result.regions[0].point[0]))
+        try:
+            import pandas  # noqa: F401
+        except ImportError:
+            return
+        frame = result.to_pandas()
+        self.assertEqual(list(frame["pattern"]), [r.pattern for r in result.regions])
+
+
+class CertifyTest(unittest.TestCase):
+    def compare(self, path, *options, **kwargs):
+        cli = harness.cli_json("certify", path, "-q", *options)
+        result = pleat.Network.from_file(path).certify(**kwargs)
+        for key in ("functional_dimension", "lower_bound", "upper_bound", "certified", "parametric_dimension",
+                    "scaling_bound", "regions_walked", "regions_contributing", "walk_complete", "early_stop",
+                    "stop_reason", "nonsmooth_regions", "extra_kernel_summary"):
+            self.assertEqual(getattr(result, key), cli[key], f"{path}: {key}")
+        self.assertEqual(len(result.extra_kernel), len(cli["extra_kernel"]))
+        for mine, theirs in zip(result.extra_kernel, cli["extra_kernel"]):
+            self.assertEqual(mine.named(), {k: Fraction(v) for k, v in theirs["vector"].items()})
+            self.assertEqual(mine.mechanism, theirs["mechanism"])
+        return result, cli
+
+    def test_bundled_networks_equal_the_cli(self):
+        for name in ("ramp1d.json", "fold2d.json", "degenerate2d.json"):
+            result, _ = self.compare(harness.data(name))
+            self.assertTrue(result.certified, name)
+        self.compare(harness.data("fold2d.json"), "--full-walk", full_walk=True)
+        self.compare(harness.data("fold2d.json"), "--box", "-1,1", domain=(-1, 1))
+        self.compare(harness.test_data("dead2d.json"), "--full-walk", full_walk=True)
+
+    def test_claim_verdicts_equal_the_cli(self):
+        for claim in (1, 47, 500):
+            result = pleat.Network.from_file(FOLD).certify(claim=claim)
+            completed = subprocess.run([harness.PLEAT, "certify", FOLD, "--claim", str(claim), "--json", "-q"],
+                                       capture_output=True, text=True)
+            cli = json.loads(completed.stdout)["claim"]
+            self.assertEqual((result.claim.verdict, result.claim.reason, result.claim.value),
+                             (cli["verdict"], cli["reason"], cli["value"]))
+
+    def test_points_rank_equals_sympy(self):
+        net = pleat.Network.from_file(FOLD)
+        points = [[Fraction(k, 3) - 2, Fraction(5 - 2 * k, 4)] for k in range(9)]
+        result = net.certify(points=points, claim=20)
+        self.assertEqual(result.batch.batch_functional_dimension, sympy_batch_rank(net, points))
+        self.assertEqual(result.batch.points, len(points))
+        with tempfile.TemporaryDirectory() as work:
+            path = os.path.join(work, "points.csv")
+            with open(path, "w") as out:
+                out.writelines(",".join(str(c) for c in p) + "\n" for p in points)
+            completed = subprocess.run([harness.PLEAT, "certify", FOLD, "--points", path, "--claim", "20",
+                                        "--json", "-q"], capture_output=True, text=True)
+            cli = json.loads(completed.stdout)
+        self.assertEqual(result.batch.batch_functional_dimension, cli["batch_functional_dimension"])
+        self.assertEqual(result.batch.regions_touched, cli["regions_touched"])
+        self.assertEqual(result.batch.claim.verdict, cli["claim"]["at_points"]["verdict"])
+        self.assertEqual(result.claim.verdict, cli["claim"]["verdict"])
+
+    def test_point_on_a_bent_hyperplane_is_named(self):
+        net = pleat.Network.from_arrays([[[1, 0], [0, 1]], [[1, 1]]], [[0, 0], [0]])
+        with self.assertRaises(ValueError) as caught:
+            net.certify(points=[[1, 1], [0, 3]])
+        self.assertIn("points[1]", str(caught.exception))
+
+
+def sympy_batch_rank(net, points):
+    """Exact rank over QQ of the stacked parameter Jacobians (sympy)."""
+    import sympy
+    weights, biases = net.weights, net.biases
+    symbols, values = [], {}
+    symbolic_layers = []
+    for k, (w, b) in enumerate(zip(weights, biases)):
+        ws = [[sympy.Symbol(f"w{k}_{i}_{j}") for j in range(len(w[0]))] for i in range(len(w))]
+        bs = [sympy.Symbol(f"b{k}_{i}") for i in range(len(b))]
+        for i, row in enumerate(w):
+            for j, v in enumerate(row):
+                values[ws[i][j]] = sympy.Rational(v.numerator, v.denominator)
+            values[bs[i]] = sympy.Rational(b[i].numerator, b[i].denominator)
+        symbols += [s for row in ws for s in row] + bs
+        symbolic_layers.append((ws, bs))
+    rows = []
+    for point in points:
+        x_exact = list(point)
+        x_symbolic = [sympy.Rational(v.numerator, v.denominator) for v in point]
+        for k, ((w, b), (ws, bs)) in enumerate(zip(zip(weights, biases), symbolic_layers)):
+            pre_exact = [sum((wij * xj for wij, xj in zip(row, x_exact)), Fraction(0)) + bi for row, bi in zip(w, b)]
+            pre_symbolic = [sum(wij * xj for wij, xj in zip(row, x_symbolic)) + bi for row, bi in zip(ws, bs)]
+            last = k == len(weights) - 1
+            if last and not net.output_relu:
+                x_exact, x_symbolic = pre_exact, pre_symbolic
+                continue
+            assert all(p != 0 for p in pre_exact), "a test point lies on a bent hyperplane"
+            x_exact = [p if p > 0 else Fraction(0) for p in pre_exact]
+            x_symbolic = [s if p > 0 else sympy.Integer(0) for s, p in zip(pre_symbolic, pre_exact)]
+        jacobian = sympy.Matrix(x_symbolic).jacobian(symbols).subs(values)
+        rows += jacobian.tolist()
+    from sympy import QQ
+    from sympy.polys.matrices import DomainMatrix
+    matrix = DomainMatrix([[QQ(sympy.Rational(e).p, sympy.Rational(e).q) for e in row] for row in rows],
+                          (len(rows), len(symbols)), QQ)
+    return matrix.rank()
+
+
+class SampleTest(unittest.TestCase):
+    def test_sample_equals_the_cli(self):
+        net = pleat.Network.from_file(FOLD)
+        for dtype in ("float64", "float32"):
+            cli = harness.cli_json("sample", FOLD, "--batch", "40", "--seed", "1", "--dtype", dtype, "-q")
+            result = net.sample(40, 1, dtype=dtype)
+            for key in ("rank", "regions_touched", "regions_total", "certified_value", "verdict",
+                        "first_batch_reaching", "lower_bound", "upper_bound", "scaling_bound",
+                        "points_on_bent_hyperplanes", "batch", "seed", "dtype"):
+                self.assertEqual(getattr(result, key), cli[key], f"{dtype}: {key}")
+            self.assertEqual(result.rank_rtol_1e6, cli["rank_rtol_1e-6"])
+            self.assertEqual(result.domain, cli["domain"])
+
+    def test_box_points_equal_the_cli_points(self):
+        net = pleat.Network.from_file(FOLD)
+        with tempfile.TemporaryDirectory() as work:
+            path = os.path.join(work, "points.csv")
+            harness.cli_json("sample", FOLD, "--batch", "5", "--seed", "3", "--dist", "box:-1,1", "-q",
+                             "--points-out", path)
+            with open(path) as handle:
+                cli_points = [fractions(line.strip().split(",")) for line in handle]
+        result = net.sample(5, 3, dist=(-1, 1))
+        self.assertEqual(result.points, cli_points)
+        self.assertEqual(result.as_float().shape, (5, 2))
+
+
+class InspectEvalTest(unittest.TestCase):
+    def test_inspect_equals_the_cli(self):
+        net = pleat.Network.from_file(FOLD)
+        cli = harness.cli_json("inspect", FOLD, "--at", "1/2,-1")
+        mine = net.inspect(at=[Fraction(1, 2), -1])
+        self.assertEqual(len(mine.regions), len(cli["regions"]))
+        for record, theirs in zip(mine.regions, cli["regions"]):
+            self.assertEqual(record.pattern, theirs["pattern"])
+            self.assertEqual(record.vertices, [fractions(v) for v in theirs["vertices"]])
+            self.assertEqual(record.volume, None if theirs["volume"] is None else Fraction(theirs["volume"]))
+            self.assertEqual(record.rank_contribution, theirs["rank_contribution"])
+            self.assertEqual([f.layers for f in record.facets], [f["layers"] for f in theirs["facets"]])
+        pattern = mine.region.pattern
+        cli = harness.cli_json("inspect", FOLD, "--pattern", pattern, "--box", "-3,3")
+        record = net.inspect(pattern=pattern, domain=[(-3, 3), (-3, 3)]).region
+        self.assertEqual(record.volume, Fraction(cli["regions"][0]["volume"]))
+        self.assertEqual(record.vertices, [fractions(v) for v in cli["regions"][0]["vertices"]])
+
+    def test_point_on_a_bent_hyperplane_lists_every_region(self):
+        net = pleat.Network.from_arrays([[[1, 0], [0, 1]], [[1, 1]]], [[0, 0], [0]])
+        cli_path = os.path.join(tempfile.gettempdir(), f"pleat-quadrants-{os.getpid()}.json")
+        net.save(cli_path)
+        try:
+            cli = harness.cli_json("inspect", cli_path, "--at", "0,0")
+        finally:
+            os.remove(cli_path)
+        mine = net.inspect(at=[0, 0])
+        self.assertTrue(mine.on_boundary)
+        self.assertEqual(mine.vanishing_neurons, cli["vanishing_neurons"])
+        self.assertEqual([r.pattern for r in mine.regions], [r["pattern"] for r in cli["regions"]])
+        with self.assertRaises(ValueError):
+            _ = mine.region
+
+    def test_eval_equals_the_cli(self):
+        net = pleat.Network.from_file(FOLD)
+        cli = harness.cli_json("eval", FOLD, "--at", "0.5,-1/3")
+        mine = net.eval(["0.5", Fraction(-1, 3)])
+        self.assertEqual(mine.output, fractions(cli["output"]))
+        self.assertEqual(mine.pattern, cli["pattern"])
+        self.assertEqual(mine.preactivations, [fractions(layer) for layer in cli["preactivations"]])
+        self.assertEqual(mine.as_float().tolist(), cli["output_double"])
+
+    def test_bad_point_message_names_the_argument(self):
+        net = pleat.Network.from_file(FOLD)
+        with self.assertRaises(ValueError) as caught:
+            net.eval([1, 2, 3])
+        self.assertEqual(str(caught.exception), harness.cli_error("eval", FOLD, "--at", "1,2,3").replace("--at", "x"))
+
+
+if __name__ == "__main__":
+    harness.main()
