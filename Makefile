@@ -4,6 +4,8 @@
 #   make test   the same build, then the whole test suite (ctest)
 #   make sanitize  unit and end-to-end tests under AddressSanitizer + UBSan (build-asan/)
 #   make fuzz      a short libFuzzer run of every reader (clang, build-fuzz/)
+#   make install   the library, headers, CMake package, pkg-config file, binary and
+#                  Python package under PREFIX (default /usr/local)
 BUILD ?= build
 ASAN_BUILD ?= build-asan
 FUZZ_BUILD ?= build-fuzz
@@ -11,7 +13,7 @@ FUZZ_SECONDS ?= 40
 JOBS ?= $(shell nproc)
 EXAMPLE ?= data/fold2d.json
 
-.PHONY: deps configure build demo test bench sanitize fuzz clean
+.PHONY: deps configure build demo test bench sanitize fuzz clean install
 
 deps:
 	@bash scripts/install-deps.sh
@@ -28,6 +30,10 @@ demo: build
 
 test: build
 	@cd $(BUILD) && ctest --output-on-failure -j $(JOBS)
+
+PREFIX ?= /usr/local
+install: build
+	@cmake --install $(BUILD) --prefix $(PREFIX)
 
 bench: build
 	@bash tests/bench/run.sh $(BUILD)

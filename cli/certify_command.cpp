@@ -1,8 +1,10 @@
 // pleat certify: the functional dimension, certified exactly; the batch
 // functional dimension at given points; a verdict on someone else's estimate.
+#include "cli/bundle_json.hpp"
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
+#include "cli/output_file.hpp"
 #include "cli/points_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/region_json.hpp"
@@ -10,6 +12,7 @@
 #include "core/jacobian.hpp"
 #include "enumerate/claim.hpp"
 #include "enumerate/functional_dimension.hpp"
+#include "enumerate/proof_bundle.hpp"
 #include "enumerate/walker.hpp"
 
 #include <fstream>
@@ -33,6 +36,7 @@ struct CertifyArguments {
   std::string rows_path;
   std::string kernel_path;
   std::string points_path;
+  std::string bundle_path;
   std::optional<std::uint64_t> claim;
   std::uint64_t claim_value = 0;
 };
@@ -282,9 +286,54 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
   return arguments.claim ? claim_status(at_points, *network_verdict) : 0;
 }
 
+// The proof bundle of a certified value; nothing for bounds (said on stderr).
+// A second walk gathers the evidence within what is left of --time-limit.
+// Returns false when an interrupt stopped it.
+bool write_bundle(const CertifyArguments& arguments, const Network& network, const Domain& domain,
+                  const FunctionalDimensionResult& result) {
+  const std::string skipped = "pleat: no bundle written to " + arguments.bundle_path + ": ";
+  if (!result.certified) {
+    std::cerr << skipped << "the functional dimension was not certified (bounds only)\n";
+    return true;
+  }
+  WalkOptions walk;
+  walk.threads = static_cast<unsigned>(arguments.threads);
+  if (arguments.time_limit > 0) {
+    walk.time_limit_seconds = arguments.time_limit - result.seconds;
+    if (walk.time_limit_seconds <= 0) {
+      std::cerr << skipped << "the time limit ran out before the evidence was gathered\n";
+      return true;
+    }
+  }
+  ProgressLine progress(arguments.quiet);
+  const InterruptGuard interrupt;
+  walk.interrupt = &interrupt.flag();
+  walk.on_progress = [&](const WalkProgress& state) {
+    progress.update("bundle: " + std::to_string(state.regions) + " regions walked");
+  };
+  const bool needs_every_region = result.upper_bound < result.scaling_bound;
+  const auto bundle =
+      gather_proof_bundle(network, domain, *result.functional_dimension, needs_every_region, walk);
+  progress.finish();
+  if (!bundle) {
+    std::cerr << skipped << "the walk that gathers the evidence was stopped\n";
+    return !interrupt.flag().load();
+  }
+  write_output(arguments.bundle_path, json_text(bundle_to_json(network, domain, result, *bundle), false));
+  if (!arguments.json)
+    std::cout << "bundle                " << arguments.bundle_path << " (" << bundle->regions.size()
+              << (bundle->has_every_region ? " regions, every one with its certificates; upper bound: an exact kernel"
+                                           : " regions holding the minor; upper bound: the scaling directions")
+              << ")\n";
+  return true;
+}
+
 int run_certify(const CertifyArguments& arguments) {
   const Network network = load_network(arguments.network_path);
-  if (!arguments.points_path.empty()) return run_points(arguments, network);
+  if (!arguments.points_path.empty()) {
+    if (!arguments.bundle_path.empty()) throw usage_error("--bundle certifies the network's value; leave out --points");
+    return run_points(arguments, network);
+  }
   const Domain domain = make_domain(arguments.domain, network.input_dim);
   const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, !arguments.full_walk);
   if (!arguments.rows_path.empty()) write_matrix(arguments.rows_path, result.rows);
@@ -302,7 +351,12 @@ int run_certify(const CertifyArguments& arguments) {
     print_result(network, domain, result, std::cout);
     if (arguments.claim) print_claim(*arguments.claim, std::nullopt, *verdict, std::cout);
   }
-  if (result.stop_reason == StopReason::interrupted) return 130;
+  bool is_bundle_done = true;
+  if (!arguments.bundle_path.empty()) {
+    check_standard_output();  // the result stands even if the bundle's walk is interrupted
+    is_bundle_done = write_bundle(arguments, network, domain, result);
+  }
+  if (result.stop_reason == StopReason::interrupted || !is_bundle_done) return 130;
   return arguments.claim ? claim_status(std::nullopt, *verdict) : 0;
 }
 
@@ -321,6 +375,7 @@ void register_certify(CommandTable& commands) {
       "Examples:\n"
       "  pleat certify data/fold2d.json\n"
       "  pleat certify data/fold2d.json --box -1,1 --json\n"
+      "  pleat certify data/fold2d.json --bundle proof.json   # then: python3 scripts/check_bundle.py proof.json\n"
       "  pleat certify net.json --claim 37          # check someone's sampled estimate\n"
       "  pleat certify net.json --points pts.csv    # exact batch dimension at these points\n"
       "  pleat certify net.json --points pts.npy --claim 37   # judge an estimate made at pts\n\n"
@@ -346,6 +401,9 @@ void register_certify(CommandTable& commands) {
                      "Write the exact Jacobian rows of the contributing regions (one row per line)");
   command.add_option("--kernel-out", arguments->kernel_path,
                      "Write the exact kernel basis checked against every region (one row per line)");
+  command.add_option("--bundle", arguments->bundle_path,
+                     "Write a proof of the certified value that scripts/check_bundle.py re-checks "
+                     "(pleat-bundle/1; none when not certified)");
   command.add_option("--points", arguments->points_path,
                      "Also: the exact batch functional dimension at these points (text or .npy)");
   CLI::Option* claim = add_unsigned_option(command, "--claim", arguments->claim_value,

@@ -5,7 +5,7 @@ exact rational arithmetic, and their functional dimension, certified.
     >>> net = pleat.Network.from_file("data/fold2d.json")
     >>> result = net.certify()
     >>> result.functional_dimension, result.certified
-    (47, True)
+    (48, True)
 
 Everything runs in-process in pleat's C++ library (the same code as the
 ``pleat`` command), without the GIL: other Python threads keep running, and

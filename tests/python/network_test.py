@@ -123,6 +123,17 @@ class DocumentationTest(unittest.TestCase):
         for name in ("functional_dimension", "lower_bound", "upper_bound", "certified", "evidence", "extra_kernel"):
             self.assertIn(name, text)
 
+    def test_module_docstring_example_runs(self):
+        import doctest
+        here = os.getcwd()
+        os.chdir(harness.SOURCE)  # the example reads data/fold2d.json
+        try:
+            failures, tried = doctest.testmod(pleat)
+        finally:
+            os.chdir(here)
+        self.assertGreater(tried, 0)
+        self.assertEqual(failures, 0)
+
     def test_stub_files_are_installed_next_to_the_module(self):
         folder = os.path.dirname(pleat.__file__)
         self.assertTrue(os.path.exists(os.path.join(folder, "_core.pyi")))
