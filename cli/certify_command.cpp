@@ -188,7 +188,7 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
   };
   options.stop_at_scaling_bound = stop_at_scaling_bound;
   options.keep_rows = !arguments.rows_path.empty();
-  options.keep_kernel = !arguments.kernel_path.empty();
+  options.keep_kernel = !arguments.kernel_path.empty() || !arguments.bundle_path.empty();  // both print it
   FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
   progress.finish();
   return result;
