@@ -137,17 +137,17 @@ void print_result(const Network& network, const Domain& domain, const Functional
   if (result.certified) {
     out << "functional dimension  " << *result.functional_dimension << "  certified\n";
     if (result.certified_by_points)
-      out << "                      lower bound from " << result.witness_points.size()
-          << " exact points met the scaling bound (the rows of their regions have a\n"
+      out << "                      lower bound from " << count_of(result.witness_points.size(), "exact point")
+          << " met the scaling bound (the rows of their regions have a\n"
              "                      nonsingular minor mod p; the points: --witness-out or --json);\n"
              "                      upper bound: the scaling directions, an exact kernel\n";
     else if (result.early_stop || !result.walk_complete)  // upper bound from the scaling directions alone
-      out << "                      lower bound: rows of " << result.regions_contributing
-          << " regions have a nonsingular minor (mod p);\n"
+      out << "                      lower bound: rows of " << count_of(result.regions_contributing, "region")
+          << (result.regions_contributing == 1 ? " has" : " have") << " a nonsingular minor (mod p);\n"
              "                      upper bound: the scaling directions, an exact kernel\n";
     else
-      out << "                      lower bound: exact rank of the rows of " << result.regions_contributing
-          << " regions;\n                      upper bound: an exact kernel checked on every smooth region\n";
+      out << "                      lower bound: exact rank of the rows of " << count_of(result.regions_contributing, "region")
+          << ";\n                      upper bound: an exact kernel checked on every smooth region\n";
   } else {
     out << "functional dimension  between " << result.lower_bound << " and " << result.upper_bound
         << "  NOT certified ("

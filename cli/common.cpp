@@ -172,6 +172,12 @@ std::string format_rational_readable(const Rational& value) {
   return format_rational(value) + " (\u2248 " + decimal + ")";
 }
 
+std::string count_of(std::size_t count, std::string_view singular, std::string_view plural) {
+  std::string text = std::to_string(count) + " ";
+  if (count == 1) return text.append(singular);
+  return plural.empty() ? text.append(singular).append("s") : text.append(plural);
+}
+
 std::string format_double(double value) {
   char buffer[64];
   const auto [end, error] = std::to_chars(buffer, buffer + sizeof buffer, value);

@@ -102,6 +102,10 @@ Json double_list_json(const DoubleVector& values);      // [-0.375, 1.0]
 // Pretty (2-space indent) or compact, always ending with a newline.
 std::string json_text(const Json& document, bool is_pretty = true);
 
+// "1 input", "2 inputs": a count with its noun in the right number (plural:
+// singular + "s" unless given).
+std::string count_of(std::size_t count, std::string_view singular, std::string_view plural = {});
+
 // ---- Output -----------------------------------------------------------------
 
 // Writes text to `path`, or to standard output when path is "" or "-".

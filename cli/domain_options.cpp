@@ -20,7 +20,7 @@ Domain make_domain(const DomainOptions& options, std::size_t input_dim) {
     const PolytopeDocument document = read_domain_file(options.domain_path);
     if (document.input_dim != input_dim)
       throw input_error(options.domain_path + ": input_dim is " + std::to_string(document.input_dim) +
-                        " but the network has " + std::to_string(input_dim) + " inputs");
+                        " but the network has " + count_of(input_dim, "input"));
     std::vector<lp::Constraint> constraints;
     for (const auto& [normal, offset] : document.constraints) constraints.push_back(lp::Constraint{normal, offset});
     try {

@@ -220,7 +220,7 @@ std::string figure_svg(const Figure& figure) {
       << "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" << number(width) << "\" height=\"" << number(height)
       << "\" viewBox=\"0 0 " << number(width) << " " << number(height)
       << "\" font-family=\"Charter, 'Bitstream Charter', 'DejaVu Serif', Georgia, serif\" font-size=\"10.5\">\n";
-  out << "<title>linear regions drawn by pleat</title>\n";
+  out << "<title>activation regions drawn by pleat</title>\n";
   out << "<rect width=\"100%\" height=\"100%\" fill=\"#ffffff\"/>\n";
   out << "<defs><clipPath id=\"plot-clip\"><rect x=\"" << layout.left() << "\" y=\"" << top_margin << "\" width=\""
       << plot_width << "\" height=\"" << number(layout.height()) << "\"/></clipPath></defs>\n";

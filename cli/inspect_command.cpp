@@ -209,8 +209,8 @@ int run_inspect(const InspectArguments& arguments) {
     return 0;
   }
   if (on_boundary) {
-    std::cout << "on boundary " << incidence->vanishing_neurons.size() << " neuron"
-              << (incidence->vanishing_neurons.size() == 1 ? "" : "s") << " vanish here:";
+    std::cout << "on boundary " << count_of(incidence->vanishing_neurons.size(), "neuron")
+              << (incidence->vanishing_neurons.size() == 1 ? " vanishes" : " vanish") << " here:";
     for (std::size_t neuron : incidence->vanishing_neurons) std::cout << " " << neuron;
     std::cout << "\n            the closures of " << records.size() << " region" << (records.size() == 1 ? "" : "s")
               << " contain the point:\n";

@@ -50,10 +50,11 @@ void register_all_commands(CommandTable& commands) {
 }
 
 constexpr const char* description =
-    "pleat: the linear regions of a small ReLU network, found exactly.\n"
-    "A ReLU network is piecewise affine: its input space splits into linear regions,\n"
-    "on each of which the network is one affine map x -> A x + c. pleat computes with\n"
-    "exact rational numbers, so what it prints carries no rounding error.";
+    "pleat: the activation regions of a small ReLU network, found exactly.\n"
+    "A ReLU network is piecewise affine: the on/off pattern of its neurons splits the\n"
+    "input space into activation regions, on each of which the network is one affine\n"
+    "map x -> A x + c (neighbouring regions with the same map form one linear region).\n"
+    "pleat computes with exact rational numbers, so what it prints carries no rounding error.";
 
 constexpr const char* top_level_help =
     "Examples:\n"

@@ -75,7 +75,7 @@ RationalVector LineReader::sparse(const Json& value, std::size_t size) const {
 Domain domain_from_json(const Json& value, std::size_t input_dim, const LineReader& reader) {
   if (value.is_string()) {
     if (value.get<std::string>() != "R^" + std::to_string(input_dim))
-      reader.fail("domain " + value.dump() + " does not match the network's " + std::to_string(input_dim) + " inputs");
+      reader.fail("domain " + value.dump() + " does not match the network's " + count_of(input_dim, "input"));
     return make_whole_space(input_dim);
   }
   if (value.is_object() && value.contains("box")) {

@@ -1,9 +1,9 @@
 // pleat survey: the certified functional dimension of many random networks of
-// one or more architectures; resumable, shardable, with exact summaries.
+// one or more architectures; resumable, split into tasks for job arrays, with exact summaries.
 //   pleat survey --arch ... --samples N --seed S -o FILE   run (or resume)
 //   pleat survey summary FILE...                           re-read files
 //   pleat survey plot FILE --out hist.svg|hist.csv         draw the histogram
-//   pleat survey merge A B ... -o ALL                      join shards
+//   pleat survey merge A B ... -o ALL                      join the tasks' files
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
@@ -15,6 +15,7 @@
 
 #include <algorithm>
 #include <chrono>
+#include <cstdlib>
 #include <filesystem>
 #include <iomanip>
 #include <iostream>
@@ -35,7 +36,9 @@ struct SurveyArguments {
   DomainOptions domain;
   std::uint64_t threads = 0;
   double time_limit_each = 0;
-  std::string shard_text = "0/1";
+  std::optional<std::uint64_t> task_index;
+  std::optional<std::uint64_t> task_count;
+  std::string legacy_part_text;  // the former I/M spelling, still read, no longer documented
   std::string output;
   bool json = false;
   bool quiet = false;
@@ -54,8 +57,10 @@ constexpr const char* survey_help =
     "as soon as it finishes, after a header line with the configuration. Samples run in\n"
     "parallel, one per thread; every value is the same for any --threads.\n"
     "Rerunning the same command resumes: samples already in the file are skipped, and a\n"
-    "line cut short by a killed run is rewritten. --shard I/M runs only the samples with\n"
-    "i % M == I, for a cluster job array; 'merge' joins the shards' files.\n"
+    "line cut short by a killed run is rewritten. For a cluster job array, --task-index K\n"
+    "--task-count N runs only the samples i with i % N == K (in a Slurm array job both are\n"
+    "read from SLURM_ARRAY_TASK_ID - SLURM_ARRAY_TASK_MIN and SLURM_ARRAY_TASK_COUNT when\n"
+    "not given; --task-count 1 runs the whole survey); 'merge' joins the tasks' files.\n"
     "With --arch given several times, each architecture gets its own file: -o FILE with\n"
     "'{arch}' in it has that replaced by the widths (2-5-5-1), otherwise the widths are\n"
     "inserted before the extension (survey.jsonl -> survey.2-5-5-1.jsonl).\n"
@@ -63,7 +68,7 @@ constexpr const char* survey_help =
     "\nExamples:\n"
     "  pleat survey --arch 2,5,5,5,1 --samples 200 --seed 1 -o survey.jsonl\n"
     "  pleat survey --arch 1,4,1 --arch 1,8,1 --samples 50 --seed 3 -o 'grid-{arch}.jsonl'\n"
-    "  pleat survey --arch 2,10,10,1 --samples 1000 --seed 1 --shard 3/8 -o part3.jsonl\n"
+    "  pleat survey --arch 2,10,10,1 --samples 1000 --seed 1 --task-index 3 --task-count 8 -o part3.jsonl\n"
     "  pleat survey merge part*.jsonl -o survey.jsonl\n"
     "  pleat survey summary survey.jsonl --json\n"
     "  pleat survey plot survey.jsonl --out hist.svg";
@@ -178,14 +183,55 @@ void print_report(const std::vector<SurveyRecord>& records, const std::vector<Su
   }
 }
 
+std::optional<std::uint64_t> environment_number(const char* name) {
+  const char* text = std::getenv(name);
+  if (!text || !*text) return std::nullopt;
+  return parse_unsigned(text, name);
+}
+
+// The part of the survey this run does: task K of N (the samples i with
+// i % N == K) from --task-index/--task-count, else from a Slurm array job's
+// variables, else the whole survey.
+ShardSet selected_task(const SurveyArguments& arguments) {
+  if (!arguments.legacy_part_text.empty()) {
+    const ShardSet part = parse_shard(arguments.legacy_part_text, "--shard");
+    if (part.indices.size() != 1) throw input_error("--shard: give one part I/M");
+    return part;
+  }
+  std::string index_source = "--task-index";
+  std::optional<std::uint64_t> count = arguments.task_count;
+  std::optional<std::uint64_t> index = arguments.task_index;
+  if (!count) count = environment_number("SLURM_ARRAY_TASK_COUNT");
+  if (!index && count && *count > 1) {
+    if (const auto id = environment_number("SLURM_ARRAY_TASK_ID")) {
+      const std::uint64_t first = environment_number("SLURM_ARRAY_TASK_MIN").value_or(0);
+      if (*id < first) throw input_error("SLURM_ARRAY_TASK_ID " + std::to_string(*id) + " is below SLURM_ARRAY_TASK_MIN");
+      index = *id - first;
+      index_source = "SLURM_ARRAY_TASK_ID - SLURM_ARRAY_TASK_MIN";
+    }
+  }
+  if (!count) count = 1;
+  if (*count == 0) throw input_error("--task-count: give the number of tasks (at least 1)");
+  if (*count == 1) return ShardSet{};
+  if (!index)
+    throw input_error("--task-count " + std::to_string(*count) +
+                      ": give --task-index K (0 <= K < N), or run in a Slurm array job");
+  if (*index >= *count)
+    throw input_error(index_source + " is " + std::to_string(*index) + ", not below the task count " +
+                      std::to_string(*count) + " (tasks are numbered from 0; a Slurm array with a step is not supported)");
+  ShardSet part;
+  part.indices = {*index};
+  part.count = *count;
+  return part;
+}
+
 int run_survey_command(const SurveyArguments& arguments) {
   if (arguments.architectures.empty()) throw input_error("--arch is required (e.g. --arch 2,5,5,5,1)");
   if (!arguments.seed) throw input_error("--seed is required");
   if (arguments.samples == 0) throw input_error("--samples: give the number of samples (at least 1)");
   // The samples still to run are listed in memory; a billion is far beyond any survey that finishes.
   if (arguments.samples > 1000000000) throw input_error("--samples: at most 1000000000");
-  const ShardSet shard = parse_shard(arguments.shard_text, "--shard");
-  if (shard.indices.size() != 1) throw input_error("--shard: give one shard I/M");
+  const ShardSet shard = selected_task(arguments);
   const bool is_grid = arguments.architectures.size() > 1;
   if (is_grid && arguments.output == "-") throw input_error("-o: a grid of architectures needs file names");
 
@@ -279,17 +325,17 @@ int run_merge(const SurveyArguments& arguments) {
   for (const SurveyRecord& record : records) {
     const std::string difference = header_difference(first.header, record.header);
     if (!difference.empty())
-      throw input_error(record.source + " and " + first.source + " are shards of different surveys ('" +
+      throw input_error(record.source + " and " + first.source + " are tasks of different surveys ('" +
                         difference + "' is " + record.header[difference].dump() + " and " +
                         first.header[difference].dump() + ")");
     const ShardSet shard = shard_from_header(record.header, record.source);
     if (shard.count != merged.count)
-      throw input_error(record.source + " splits the survey into " + std::to_string(shard.count) + " shards, " +
+      throw input_error(record.source + " splits the survey into " + std::to_string(shard.count) + " tasks, " +
                         first.source + " into " + std::to_string(merged.count) + "; they cannot be merged");
     for (std::uint64_t index : shard.indices) {
       if (std::find(merged.indices.begin(), merged.indices.end(), index) != merged.indices.end())
-        throw input_error(record.source + ": shard " + std::to_string(index) + "/" + std::to_string(shard.count) +
-                          " is also in an earlier file (overlapping shards)");
+        throw input_error(record.source + ": task " + std::to_string(index) + " of " + std::to_string(shard.count) +
+                          " is also in an earlier file (overlapping tasks)");
       merged.indices.push_back(index);
     }
     for (const SurveySample& sample : record.samples) {
@@ -313,8 +359,8 @@ int run_merge(const SurveyArguments& arguments) {
   SurveyRecord result{header, samples, arguments.merge_path};
   const std::uint64_t missing = missing_samples(result);
   if (!arguments.quiet)
-    std::cerr << "merged " << records.size() << " files: " << samples.size() << " samples, shard "
-              << format_shard(merged) << (missing ? ", " + std::to_string(missing) + " samples still missing" : "")
+    std::cerr << "merged " << records.size() << (records.size() == 1 ? " file: " : " files: ") << samples.size()
+              << (samples.size() == 1 ? " sample, " : " samples, ") << describe_tasks(merged) << (missing ? ", " + std::to_string(missing) + (missing == 1 ? " sample" : " samples") + " still missing" : "")
               << "\n";
   return 0;
 }
@@ -352,8 +398,17 @@ void register_survey(CommandTable& commands) {
   add_threads_option(command, arguments->threads, "Samples run at once (default: all cores)");
   add_seconds_option(command, "--time-limit-each", arguments->time_limit_each,
                      "Stop a sample after this many seconds (kept as bounds)");
-  command.add_option("--shard", arguments->shard_text, "Run only the samples i with i % M == I")
-      ->type_name("I/M");
+  command
+      .add_option_function<std::string>(
+          "--task-index", [arguments](const std::string& text) { arguments->task_index = parse_unsigned(text, "--task-index"); },
+          "Run task K of --task-count: the samples i with i % N == K (default: $SLURM_ARRAY_TASK_ID)")
+      ->type_name("K");
+  command
+      .add_option_function<std::string>(
+          "--task-count", [arguments](const std::string& text) { arguments->task_count = parse_unsigned(text, "--task-count"); },
+          "Split the survey into N tasks, e.g. a job array (default: $SLURM_ARRAY_TASK_COUNT, else 1)")
+      ->type_name("N");
+  command.add_option("--shard", arguments->legacy_part_text)->group("");  // old spelling of --task-index/--task-count
   command.add_option("-o,--output", arguments->output, "Write (or resume) the sample lines in FILE")
       ->type_name("FILE");
   command.add_flag("--json", arguments->json, "Print the summary as JSON (pleat-survey-summary/1)");
@@ -369,8 +424,8 @@ void register_survey(CommandTable& commands) {
       ->expected(1);
   arguments->plot_command->add_option("--out", arguments->plot_path, "hist.svg or hist.csv")->required();
 
-  arguments->merge_command = command.add_subcommand("merge", "Join the shards of one survey into one file");
-  arguments->merge_command->add_option("files", arguments->inputs, "Shard files (pleat-survey/1)")->required();
+  arguments->merge_command = command.add_subcommand("merge", "Join the files of one survey's tasks into one file");
+  arguments->merge_command->add_option("files", arguments->inputs, "Survey files of the tasks (pleat-survey/1)")->required();
   arguments->merge_command->add_option("-o,--output", arguments->merge_path, "The merged file")->required();
   arguments->merge_command->add_flag("-q,--quiet", arguments->quiet, "No message on standard error");
 }

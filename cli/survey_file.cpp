@@ -41,6 +41,13 @@ ShardSet parse_shard(std::string_view text, std::string_view what) {
   return shard;
 }
 
+std::string describe_tasks(const ShardSet& shard) {
+  if (shard.is_whole()) return "the whole survey";
+  const std::string text = format_shard(shard);
+  return (shard.indices.size() == 1 ? "task " : "tasks ") + text.substr(0, text.find('/')) + " of " +
+         std::to_string(shard.count);
+}
+
 std::string format_shard(const ShardSet& shard) {
   std::string text;
   for (std::size_t k = 0; k < shard.indices.size(); ++k) {
@@ -257,8 +264,8 @@ SurveyFile read_survey_file(const std::string& path) {
         throw input_error(where + ": sample " + std::to_string(sample.sample) + " is beyond the survey's " +
                           std::to_string(configuration.samples) + " samples");
       if (!shard.contains(sample.sample))
-        throw input_error(where + ": sample " + std::to_string(sample.sample) + " does not belong to shard " +
-                          format_shard(shard));
+        throw input_error(where + ": sample " + std::to_string(sample.sample) + " does not belong to " +
+                          describe_tasks(shard) + " (header \"shard\": \"" + format_shard(shard) + "\")");
       if (!seen.insert(sample.sample).second)
         throw input_error(where + ": sample " + std::to_string(sample.sample) + " appears twice");
       check_sample_consistency(sample, limits, where);
@@ -281,8 +288,8 @@ SurveyResume resume_survey_file(const std::string& path, const Json& header) {
                       existing.header[difference].dump() + " there, " + header[difference].dump() +
                       " here); use another -o, or delete the file to start over");
   if (existing.header["shard"] != header["shard"])
-    throw input_error(path + ": holds shard " + existing.header["shard"].get<std::string>() +
-                      ", this command runs shard " + header["shard"].get<std::string>());
+    throw input_error(path + ": holds " + describe_tasks(parse_shard(existing.header["shard"].get<std::string>(), path)) +
+                      ", this command runs " + describe_tasks(parse_shard(header["shard"].get<std::string>(), "--task-index")));
   resume.keep_bytes = existing.complete_bytes;
   resume.samples = std::move(existing.samples);
   resume.dropped_partial_line = existing.has_partial_line;

@@ -30,6 +30,8 @@ struct ShardSet {
 // "I/M" or "I1,I2,.../M". Throws input_error naming `what`.
 ShardSet parse_shard(std::string_view text, std::string_view what);
 std::string format_shard(const ShardSet& shard);
+// For messages: "task 1 of 3", "tasks 0,2 of 4", "the whole survey".
+std::string describe_tasks(const ShardSet& shard);
 
 // The header line's document: format, generator, arch, init, digits, seed,
 // samples, domain, shard.

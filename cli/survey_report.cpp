@@ -42,7 +42,7 @@ std::string describe_configuration(const Json& header) {
                                                           : configuration_from_header(header, "survey").domain.describe();
   std::string text = "init " + header["init"].get<std::string>() + ", " + std::to_string(header["digits"].get<int>()) +
                      " digits, seed " + std::to_string(header["seed"].get<std::uint64_t>()) + ", domain " + domain;
-  if (header["shard"] != "0/1") text += ", shard " + header["shard"].get<std::string>();
+  if (header["shard"] != "0/1") text += ", " + describe_tasks(parse_shard(header["shard"].get<std::string>(), "shard"));
   return text;
 }
 

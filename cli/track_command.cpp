@@ -327,7 +327,7 @@ int run_track(const TrackArguments& arguments) {
   for (const auto& path : arguments.checkpoints) {
     const Network network = load_network(path);
     if (input_dim && *input_dim != network.input_dim)
-      throw input_error(path + ": takes " + std::to_string(network.input_dim) + " inputs, the first checkpoint " +
+      throw input_error(path + ": takes " + count_of(network.input_dim, "input") + ", the first checkpoint " +
                         std::to_string(*input_dim));
     input_dim = network.input_dim;
   }

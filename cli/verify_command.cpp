@@ -243,7 +243,7 @@ int run_verify(const VerifyArguments& arguments) {
                                                      " parameters", 0}
                               : check_saved_walk(network, *domain, regions);
   if (check.is_verified) {
-    std::cout << "verified: " << check.regions << " regions of " << arguments.network_path << " on "
+    std::cout << "verified: " << count_of(check.regions, "region") << " of " << arguments.network_path << " on "
               << domain->describe()
               << "; every point, facet, non-facet, boundedness certificate, neighbour and key re-checked exactly\n";
     // The header's name is a label, not a claim: say so when it differs.

@@ -1,4 +1,4 @@
-// pleat walk: every linear region of a network on a domain, certified.
+// pleat walk: every activation region of a network on a domain, certified.
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
@@ -39,7 +39,7 @@ std::string describe_widths(const Network& network) {
 
 void print_summary(const Network& network, const Domain& domain, const WalkSummary& summary, std::ostream& out) {
   const bool is_bound = !summary.complete;
-  out << "network     " << network.input_dim << " inputs, hidden widths " << describe_widths(network) << ", "
+  out << "network     " << count_of(network.input_dim, "input") << ", hidden widths " << describe_widths(network) << ", "
       << network.output_dim() << " output" << (network.output_dim() == 1 ? "" : "s")
       << (network.has_output_relu() ? " (ReLU)" : "") << "\n";
   out << "domain      " << domain.describe() << "\n";
@@ -56,8 +56,8 @@ void print_summary(const Network& network, const Domain& domain, const WalkSumma
   out << "  (distinct pattern prefixes up to each layer)\n";
   out << "facets      " << at_least << summary.facets << " interior\n";
   if (!summary.nonsmooth_regions.empty())
-    out << "non-smooth  " << summary.nonsmooth_regions.size()
-        << " regions have a neuron identically zero with a nonzero backward signal\n";
+    out << "non-smooth  " << count_of(summary.nonsmooth_regions.size(), "region")
+        << (summary.nonsmooth_regions.size() == 1 ? " has" : " have") << " a neuron identically zero with a nonzero backward signal\n";
   if (summary.certified)
     out << "status      certified: every region has an exactly checked interior point, every constraint of\n"
            "            every region is classified with an exact certificate, every neighbour was found\n";
@@ -149,7 +149,7 @@ int run_walk(const WalkArguments& arguments) {
                 << " interior points, one per region)\n";
   }
   if (summary.stop_reason == StopReason::interrupted) {
-    std::cerr << "pleat: walk interrupted; " << summary.regions << " regions kept"
+    std::cerr << "pleat: walk interrupted; " << count_of(summary.regions, "region") << " kept"
               << (arguments.output_path.empty() ? "" : " in " + arguments.output_path) << "\n";
     return 130;
   }
@@ -161,7 +161,7 @@ int run_walk(const WalkArguments& arguments) {
 void register_walk(CommandTable& commands) {
   auto arguments = std::make_shared<WalkArguments>();
   CLI::App& command = commands.add(
-      "walk", "Find every linear region of a network, with exact certificates",
+      "walk", "Find every activation region of a network, with exact certificates",
       "An activation region is the set of inputs that switch the same ReLUs on; on it the\n"
       "network is one affine map. 'walk' starts in one region and crosses every facet of\n"
       "every region it reaches, deciding each step with an LP whose answer is re-checked in\n"

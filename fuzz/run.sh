@@ -43,7 +43,7 @@ make_seeds() {
   "$pleat" walk "$fold" -q --domain "$source_dir/fuzz/seeds/domain/triangle.json" -o "$work/triangle.jsonl" > /dev/null
   for name in whole box triangle; do add_seed regions "$name.jsonl" "$work/$name.jsonl"; done
   "$pleat" survey --arch 2,3,1 --samples 6 --seed 1 --threads 1 -q -o "$work/survey.jsonl" > /dev/null
-  "$pleat" survey --arch 1,2,2,1 --samples 4 --seed 2 --box -1,1 --shard 1/2 --threads 1 -q -o "$work/shard.jsonl" > /dev/null
+  "$pleat" survey --arch 1,2,2,1 --samples 4 --seed 2 --box -1,1 --task-index 1 --task-count 2 --threads 1 -q -o "$work/shard.jsonl" > /dev/null
   /usr/bin/python3 -c 'import numpy, sys
 numpy.save(sys.argv[1], numpy.array([[0.5, -1.0], [0.25, 3.0]]))
 numpy.save(sys.argv[2], numpy.array([1.5, -2.0], dtype=numpy.float32))' "$seeds/points/two.npy" "$seeds/points/one_input.npy"

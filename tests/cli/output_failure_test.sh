@@ -60,8 +60,8 @@ file_bad 2 "$missing.jsonl: cannot open for writing (No such file or directory)"
 
 # survey merge -o: one of its inputs is refused and left intact; an existing
 # other file is replaced whole.
-"$pleat" survey --arch 2,3,1 --samples 4 --seed 1 --shard 0/2 -q -o "$work/s0.jsonl" > /dev/null || fail "survey shard 0"
-"$pleat" survey --arch 2,3,1 --samples 4 --seed 1 --shard 1/2 -q -o "$work/s1.jsonl" > /dev/null || fail "survey shard 1"
+"$pleat" survey --arch 2,3,1 --samples 4 --seed 1 --task-index 0 --task-count 2 -q -o "$work/s0.jsonl" > /dev/null || fail "survey shard 0"
+"$pleat" survey --arch 2,3,1 --samples 4 --seed 1 --task-index 1 --task-count 2 -q -o "$work/s1.jsonl" > /dev/null || fail "survey shard 1"
 cp "$work/s0.jsonl" "$work/s0.copy"
 file_bad 2 "one of the files to merge" survey merge "$work/s0.jsonl" "$work/s1.jsonl" -o "$work/s0.jsonl"
 cmp -s "$work/s0.jsonl" "$work/s0.copy" || fail "survey merge -o INPUT changed the input"

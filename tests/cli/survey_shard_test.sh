@@ -1,6 +1,8 @@
 #!/usr/bin/env bash
-# pleat survey: shards merged equal the unsharded run; shards of different
-# surveys, overlapping shards and different splits are refused; a grid of
+# pleat survey: the files of a survey split into tasks (--task-index K
+# --task-count N, or a Slurm array job's SLURM_ARRAY_TASK_* variables), merged,
+# equal the undivided run; tasks of different surveys, overlapping tasks and
+# different splits are refused; a grid of
 # architectures writes one file per architecture (1-D one-hidden-layer nets:
 # every sample at 2m+1); samples cut by the time limit are counted, not in the
 # histogram; plot writes SVG and CSV that agree with the summary.
@@ -23,17 +25,37 @@ PY
 
 survey() { "$pleat" survey --arch 2,3,3,1 --samples 9 --seed 5 --box -2,2 -q "$@" > /dev/null; }
 survey -o "$work/all.jsonl" || fail "unsharded survey exited $?"
-for i in 0 1 2; do survey --shard $i/3 -o "$work/part$i.jsonl" || fail "shard $i/3 exited $?"; done
-head -n 1 "$work/part1.jsonl" | grep -q '"shard":"1/3"' || fail "shard not recorded in the header"
+survey --task-index 0 --task-count 3 -o "$work/part0.jsonl" || fail "task 0 of 3 exited $?"
+# Tasks 1 and 2 as a Slurm array --array=1-3 would run them (ids from 1).
+for id in 2 3; do
+  SLURM_ARRAY_TASK_ID=$id SLURM_ARRAY_TASK_MIN=1 SLURM_ARRAY_TASK_COUNT=3 survey -o "$work/part$((id - 1)).jsonl" ||
+    fail "Slurm task $id exited $?"
+done
+# The legacy spelling of the same split still runs (no longer documented).
+survey --shard 2/3 -o "$work/legacy2.jsonl" || fail "--shard 2/3 exited $?"
+cmp -s <(normal "$work/legacy2.jsonl") <(normal "$work/part2.jsonl") || fail "--shard 2/3 differs from task 2 of 3"
+# --task-count 1 runs the whole survey even inside an array job.
+SLURM_ARRAY_TASK_ID=1 SLURM_ARRAY_TASK_COUNT=3 survey --task-count 1 -o "$work/whole.jsonl" || fail "--task-count 1 exited $?"
+head -n 1 "$work/whole.jsonl" | grep -q '"shard":"0/1"' || fail "--task-count 1 did not run the whole survey"
+SLURM_ARRAY_TASK_ID=7 SLURM_ARRAY_TASK_COUNT=3 survey -o "$work/bad-task.jsonl" 2> "$work/task.err"
+[ $? -eq 2 ] || fail "an array task id beyond the count should be refused"
+grep -q "SLURM_ARRAY_TASK_ID - SLURM_ARRAY_TASK_MIN is 7, not below the task count 3" "$work/task.err" ||
+  fail "unclear task message: $(cat "$work/task.err")"
+survey --task-count 3 -o "$work/no-index.jsonl" 2> "$work/task.err"
+[ $? -eq 2 ] && grep -q "give --task-index" "$work/task.err" || fail "--task-count without an index: $(cat "$work/task.err")"
+head -n 1 "$work/part1.jsonl" | grep -q '"shard":"1/3"' || fail "task not recorded in the header"
 /usr/bin/python3 -c '
 import json, sys
 samples = [json.loads(l)["sample"] for l in open(sys.argv[1]).read().splitlines()[1:]]
-assert sorted(samples) == [1, 4, 7], samples' "$work/part1.jsonl" || fail "shard 1/3 ran the wrong samples"
+assert sorted(samples) == [1, 4, 7], samples' "$work/part1.jsonl" || fail "task 1 of 3 ran the wrong samples"
 
 "$pleat" survey merge "$work/part2.jsonl" "$work/part0.jsonl" "$work/part1.jsonl" -o "$work/merged.jsonl" -q ||
   fail "merge exited $?"
 cmp -s <(normal "$work/merged.jsonl") <(normal "$work/all.jsonl") || {
-  diff <(normal "$work/merged.jsonl") <(normal "$work/all.jsonl") >&2; fail "merged shards differ from the unsharded run"; }
+  diff <(normal "$work/merged.jsonl") <(normal "$work/all.jsonl") >&2; fail "merged tasks differ from the undivided run"; }
+"$pleat" survey merge "$work/part0.jsonl" -o "$work/one.jsonl" 2> "$work/one.err" || fail "merging one file exited $?"
+grep -qx "merged 1 file: 3 samples, task 0 of 3" "$work/one.err" ||
+  fail "merge message: $(cat "$work/one.err")"
 # A merged file is a whole survey: rerunning the unsharded command adds nothing.
 cp "$work/merged.jsonl" "$work/merged2.jsonl"
 survey -o "$work/merged2.jsonl" || fail "resuming a merged survey exited $?"
@@ -51,20 +73,20 @@ refuse() {  # refuse MESSAGE-PART ARGS...: merge must exit 2 naming the problem
   [ $? -eq 2 ] || fail "merge $* should be refused"
   grep -q "$expected" "$work/bad.err" || fail "merge $*: expected '$expected' in: $(cat "$work/bad.err")"
 }
-"$pleat" survey --arch 2,3,3,1 --samples 9 --seed 6 --box -2,2 --shard 1/3 -q -o "$work/other1.jsonl" > /dev/null ||
+"$pleat" survey --arch 2,3,3,1 --samples 9 --seed 6 --box -2,2 --task-index 1 --task-count 3 -q -o "$work/other1.jsonl" > /dev/null ||
   fail "other survey exited $?"
 refuse "different surveys" "$work/part0.jsonl" "$work/other1.jsonl"
-"$pleat" survey --arch 2,3,3,1 --samples 9 --seed 5 --shard 1/3 -q -o "$work/whole1.jsonl" > /dev/null ||
+"$pleat" survey --arch 2,3,3,1 --samples 9 --seed 5 --task-index 1 --task-count 3 -q -o "$work/whole1.jsonl" > /dev/null ||
   fail "survey on R^2 exited $?"
 refuse "'domain'" "$work/part0.jsonl" "$work/whole1.jsonl"
 refuse "overlapping" "$work/part0.jsonl" "$work/part1.jsonl" "$work/part0.jsonl"
-survey --shard 1/2 -o "$work/half1.jsonl" || fail "shard 1/2 exited $?"
+survey --task-index 1 --task-count 2 -o "$work/half1.jsonl" || fail "task 1 of 2 exited $?"
 refuse "cannot be merged" "$work/part0.jsonl" "$work/half1.jsonl"
-"$pleat" survey --arch 2,3,3,1 --samples 9 --seed 5 --box -2,2 --shard 3/3 -q -o "$work/x.jsonl" 2> /dev/null
-[ $? -eq 2 ] || fail "--shard 3/3 should be refused"
-# Resuming a file with another shard is refused.
-survey --shard 2/3 -o "$work/part1.jsonl" 2> "$work/shard.err" && fail "another shard's file was accepted"
-grep -q "shard" "$work/shard.err" || fail "unclear shard message: $(cat "$work/shard.err")"
+"$pleat" survey --arch 2,3,3,1 --samples 9 --seed 5 --box -2,2 --task-index 3 --task-count 3 -q -o "$work/x.jsonl" 2> /dev/null
+[ $? -eq 2 ] || fail "task 3 of 3 should be refused"
+# Resuming a file with another task is refused.
+survey --task-index 2 --task-count 3 -o "$work/part1.jsonl" 2> "$work/shard.err" && fail "another task's file was accepted"
+grep -q "holds task 1 of 3, this command runs task 2 of 3" "$work/shard.err" || fail "unclear task message: $(cat "$work/shard.err")"
 
 # A grid: one file per architecture; on R with one hidden layer, 1 input and
 # 1 output, every sample is at the scaling bound 2m+1 (derivation in
