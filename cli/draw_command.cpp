@@ -34,6 +34,9 @@ struct DrawArguments {
   std::string from_path;
   bool labels = false;
   bool no_lines = false;
+  bool no_stats = false;
+  bool no_legend = false;
+  std::string title;
   bool quiet = false;
   std::uint64_t threads = 0;
 };
@@ -179,6 +182,14 @@ std::size_t layer_of_neuron(const Network& network, std::size_t neuron) {
   return layer;
 }
 
+// The figure's counts under the legend, unless --no-stats (the summary
+// printed after drawing has them either way).
+void add_stats(Figure& figure, const DrawArguments& arguments, const std::vector<std::string>& lines) {
+  if (arguments.no_stats) return;
+  figure.notes.push_back("");
+  figure.notes.insert(figure.notes.end(), lines.begin(), lines.end());
+}
+
 // Fills figure.colours / polygon colours / legend for the chosen mode.
 // keys[i] is region i's pattern; adjacent is the region adjacency graph.
 void colour_regions(const Network& network, const std::vector<const Region*>& regions,
@@ -293,6 +304,8 @@ Drawn draw_plane(const Network& network, const std::vector<Region>& regions, con
   }
 
   Figure figure;
+  figure.title = arguments.title;
+  figure.show_legend = !arguments.no_legend;
   figure.x_min = to_double(view.lower[0]);
   figure.x_max = to_double(view.upper[0]);
   figure.y_min = to_double(view.lower[1]);
@@ -353,9 +366,9 @@ Drawn draw_plane(const Network& network, const std::vector<Region>& regions, con
   }
   colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
   for (std::size_t i = 0; i < polygons.size(); ++i) figure.polygons[i].region = drawn[i]->id;
-  figure.notes.push_back("");
-  figure.notes.push_back(std::to_string(result.regions) + " regions, " + std::to_string(result.edges) + " edges,");
-  figure.notes.push_back(std::to_string(result.vertices) + " vertices in the view");
+  add_stats(figure, arguments,
+            {count_of(result.regions, "region") + ", " + count_of(result.edges, "edge") + ",",
+             count_of(result.vertices, "vertex", "vertices") + " in the view"});
   result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
   return result;
 }
@@ -401,6 +414,8 @@ Drawn draw_line(const Network& network, const std::vector<Region>& regions, cons
     return result;
   }
   Figure figure;
+  figure.title = arguments.title;
+  figure.show_legend = !arguments.no_legend;
   figure.x_min = to_double(view.lower[0]);
   figure.x_max = to_double(view.upper[0]);
   figure.x_label = "x";
@@ -442,9 +457,8 @@ Drawn draw_line(const Network& network, const std::vector<Region>& regions, cons
   }
   colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
   for (std::size_t i = 0; i < pieces.size(); ++i) figure.polygons[i].region = pieces[i].region->id;
-  figure.notes.push_back("");
-  figure.notes.push_back(std::to_string(pieces.size()) + " regions, " + std::to_string(figure.breakpoints.size()) +
-                         " breakpoints");
+  add_stats(figure, arguments,
+            {count_of(pieces.size(), "region") + ", " + count_of(figure.breakpoints.size(), "breakpoint")});
   result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
   return result;
 }
@@ -647,6 +661,10 @@ void register_draw(CommandTable& commands) {
       ->check(CLI::IsMember({"region", "gradient", "layer1", "rank"}));
   command.add_flag("--labels", arguments->labels, "Write each region's activation pattern inside it");
   command.add_flag("--no-lines", arguments->no_lines, "Leave out the bent hyperplanes (fills only)");
+  command.add_flag("--no-stats", arguments->no_stats,
+                   "Leave the counts (regions, edges, vertices) out of the figure; the summary printed has them");
+  command.add_flag("--no-legend", arguments->no_legend, "Leave out the key right of the plot (and the counts in it)");
+  command.add_option("--title", arguments->title, "A title over the plot (SVG and TikZ)")->type_name("TEXT");
   command.add_option("--from", arguments->from_path,
                      "Draw a saved walk (pleat walk -o FILE) instead of walking; --view clips it");
   add_threads_option(command, arguments->threads, "Worker threads for the walk (default: all cores)");

@@ -43,8 +43,10 @@ struct Figure {
   std::string legend_title;
   std::vector<FigureSwatch> swatches;
   std::vector<std::string> notes;  // counts, shown under the legend
+  std::string title;               // plain text over the plot; none when empty
   bool show_lines = true;
   bool show_labels = false;
+  bool show_legend = true;  // the key and the notes, right of the plot
   // One input: the graph of the network (breakpoints marked) over bands.
   std::vector<FigurePoint> graph;
   std::vector<FigurePoint> breakpoints;

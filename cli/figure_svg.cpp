@@ -213,8 +213,8 @@ std::string figure_svg(const Figure& figure) {
   const Layout layout(figure);
   const double legend_height = 40.0 + 15.0 * static_cast<double>(figure.swatches.size() + figure.layers) +
                                14.0 * static_cast<double>(figure.notes.size()) + 40;
-  const double width = layout.left() + plot_width + legend_gap + legend_width;
-  const double height = std::max(top_margin + layout.height() + bottom_margin, legend_height);
+  const double width = layout.left() + plot_width + (figure.show_legend ? legend_gap + legend_width : 24.0);
+  const double height = std::max(top_margin + layout.height() + bottom_margin, figure.show_legend ? legend_height : 0.0);
   std::ostringstream out;
   out << "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"
       << "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" << number(width) << "\" height=\"" << number(height)
@@ -232,7 +232,11 @@ std::string figure_svg(const Figure& figure) {
   write_graph(figure, layout, out);
   if (figure.show_labels) write_labels(figure, layout, out);
   write_axes(figure, layout, out);
-  write_legend(figure, layout, out);
+  if (figure.show_legend) write_legend(figure, layout, out);
+  if (!figure.title.empty())
+    out << "<text id=\"title\" x=\"" << layout.left() + plot_width / 2 << "\" y=\"" << top_margin - 12
+        << "\" text-anchor=\"middle\" font-size=\"12\" fill=\""
+        << ink << "\">" << escape_xml(figure.title) << "</text>\n";
   out << "</svg>\n";
   return out.str();
 }

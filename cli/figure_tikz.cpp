@@ -50,14 +50,53 @@ const char* dash_pattern(std::size_t layer) {
 
 }  // namespace
 
+// The key and the notes, top-down right of the plot.
+template <class ColourName>
+void write_legend_tikz(const Figure& figure, double plot_width_cm, double height_cm, const ColourName& colour_name,
+                       std::ostream& out) {
+  const double lx = plot_width_cm + 0.6;
+  double ly = height_cm - 0.1;
+  out << "\\node[anchor=north west, inner sep=0pt, font=\\footnotesize\\itshape, text=pleatquiet] at (" << number(lx) << ","
+      << number(ly) << ") {" << escape(figure.legend_title) << "};\n";
+  ly -= 0.5;
+  for (const auto& swatch : figure.swatches) {
+    out << "\\filldraw[fill=" << colour_name(swatch.colour) << ", draw=pleatink!35, line width=0.3pt] (" << number(lx)
+        << "," << number(ly) << ") rectangle ++(0.3,0.3);\n";
+    out << "\\node[anchor=west, inner sep=0pt] at (" << number(lx + 0.6) << "," << number(ly + 0.15) << ") {"
+        << escape(swatch.text) << "};\n";
+    ly -= 0.45;
+  }
+  if (figure.show_lines && figure.layers > 0 && figure.graph.empty()) {
+    ly -= 0.2;
+    out << "\\node[anchor=west, inner sep=0pt, font=\\footnotesize\\itshape, text=pleatquiet] at (" << number(lx) << ","
+        << number(ly + 0.15) << ") {bent hyperplanes};\n";
+    ly -= 0.45;
+    for (std::size_t layer = 0; layer < figure.layers; ++layer) {
+      out << "\\draw[" << dash_pattern(layer) << "] (" << number(lx) << "," << number(ly + 0.15) << ") -- ++(0.8,0);\n";
+      out << "\\node[anchor=west, inner sep=0pt] at (" << number(lx + 0.95) << "," << number(ly + 0.15)
+          << ") {layer " << layer + 1 << " neurons};\n";
+      ly -= 0.45;
+    }
+  }
+  ly -= 0.2;
+  for (const auto& note : figure.notes) {
+    out << "\\node[anchor=west, inner sep=0pt, font=\\scriptsize, text=pleatquiet] at (" << number(lx) << ","
+        << number(ly + 0.15) << ") {" << escape(note) << "};\n";
+    ly -= 0.42;
+  }
+}
+
 std::string figure_tikz(const Figure& figure) {
   const double ratio = (figure.y_max - figure.y_min) / (figure.x_max - figure.x_min);
   const double height_cm = std::clamp(plot_width_cm * ratio, 4.2, 10.6);
   auto x = [&](double v) { return number((v - figure.x_min) / (figure.x_max - figure.x_min) * plot_width_cm); };
   auto y = [&](double v) { return number((v - figure.y_min) / (figure.y_max - figure.y_min) * height_cm); };
   std::ostringstream out;
-  out << "% Linear regions drawn by pleat. Needs \\usepackage{tikz}; use with \\input.\n";
+  out << "% Activation regions drawn by pleat. Needs \\usepackage{tikz}; use with \\input.\n";
   out << "\\begin{tikzpicture}[font=\\footnotesize]\n";
+  if (!figure.title.empty())
+    out << "\\node[anchor=south west, inner sep=0pt, font=\\small] at (0," << number(height_cm + 0.3) << ") {"
+        << escape(figure.title) << "};\n";
   out << "\\definecolor{pleatink}{HTML}{1F1D2B}\\definecolor{pleatquiet}{HTML}{5C5A66}\n";
   for (std::size_t i = 0; i < figure.colours.size(); ++i)
     out << "\\definecolor{pleatcolour" << static_cast<char>('a' + i % 26) << i / 26 << "}{HTML}{"
@@ -115,37 +154,7 @@ std::string figure_tikz(const Figure& figure) {
       << axis_label(figure.x_label) << " $\\rightarrow$};\n";
   out << "\\node[anchor=south, text=pleatink] at (-0.2," << number(height_cm + 0.15) << ") {"
       << axis_label(figure.y_label) << " $\\uparrow$};\n";
-  // Legend, top-down on the right.
-  const double lx = plot_width_cm + 0.6;
-  double ly = height_cm - 0.1;
-  out << "\\node[anchor=north west, inner sep=0pt, font=\\footnotesize\\itshape, text=pleatquiet] at (" << number(lx) << ","
-      << number(ly) << ") {" << escape(figure.legend_title) << "};\n";
-  ly -= 0.5;
-  for (const auto& swatch : figure.swatches) {
-    out << "\\filldraw[fill=" << colour_name(swatch.colour) << ", draw=pleatink!35, line width=0.3pt] (" << number(lx)
-        << "," << number(ly) << ") rectangle ++(0.3,0.3);\n";
-    out << "\\node[anchor=west, inner sep=0pt] at (" << number(lx + 0.6) << "," << number(ly + 0.15) << ") {"
-        << escape(swatch.text) << "};\n";
-    ly -= 0.45;
-  }
-  if (figure.show_lines && figure.layers > 0 && figure.graph.empty()) {
-    ly -= 0.2;
-    out << "\\node[anchor=west, inner sep=0pt, font=\\footnotesize\\itshape, text=pleatquiet] at (" << number(lx) << ","
-        << number(ly + 0.15) << ") {bent hyperplanes};\n";
-    ly -= 0.45;
-    for (std::size_t layer = 0; layer < figure.layers; ++layer) {
-      out << "\\draw[" << dash_pattern(layer) << "] (" << number(lx) << "," << number(ly + 0.15) << ") -- ++(0.8,0);\n";
-      out << "\\node[anchor=west, inner sep=0pt] at (" << number(lx + 0.95) << "," << number(ly + 0.15)
-          << ") {layer " << layer + 1 << " neurons};\n";
-      ly -= 0.45;
-    }
-  }
-  ly -= 0.2;
-  for (const auto& note : figure.notes) {
-    out << "\\node[anchor=west, inner sep=0pt, font=\\scriptsize, text=pleatquiet] at (" << number(lx) << ","
-        << number(ly + 0.15) << ") {" << escape(note) << "};\n";
-    ly -= 0.42;
-  }
+  if (figure.show_legend) write_legend_tikz(figure, plot_width_cm, height_cm, colour_name, out);
   out << "\\end{tikzpicture}\n";
   return out.str();
 }

@@ -101,4 +101,21 @@ PY
 "$pleat" draw "$fold" --out "$work/f.svg" --color-by hue > /dev/null 2>&1; [ $? -eq 2 ] || fail "bad --color-by accepted"
 "$pleat" draw "$source_dir/data/sensor3d.json" --out "$work/f.svg" > /dev/null 2>&1; [ $? -eq 2 ] \
   || fail "3 inputs accepted"
+# --title over the plot (escaped), --no-stats leaves the counts out of the
+# figure (the printed summary keeps them).
+"$pleat" draw "$fold" --out "$work/titled.svg" --title "fold & <2d>" --no-stats -q > "$work/titled.txt" ||
+  fail "draw --title --no-stats exited $?"
+grep -q '<text id="title"[^>]*>fold &amp; &lt;2d&gt;</text>' "$work/titled.svg" || fail "no escaped title in the SVG"
+grep -q "regions, .* edges" "$work/titled.svg" && fail "--no-stats left the counts in the figure"
+grep -q "^complex .* regions, .* edges" "$work/titled.txt" || fail "the summary lost the counts: $(cat "$work/titled.txt")"
+"$pleat" draw "$fold" --out "$work/stats.svg" -q > /dev/null || fail "draw exited $?"
+grep -q "regions, [0-9]* edges," "$work/stats.svg" || fail "the counts are missing from the default figure"
+grep -q "id=\"title\"" "$work/stats.svg" && fail "a title without --title"
+# --no-legend: no key, and a narrower picture than with it.
+"$pleat" draw "$fold" --out "$work/bare.svg" --no-legend -q > /dev/null || fail "draw --no-legend exited $?"
+grep -q 'id="legend"' "$work/bare.svg" && fail "--no-legend left the legend in"
+grep -q 'id="legend"' "$work/stats.svg" || fail "the default figure has no legend"
+width() { sed -n 's/.*<svg[^>]* width="\([0-9.]*\)".*/\1/p' "$1" | head -n 1; }
+/usr/bin/python3 -c "import sys; sys.exit(0 if float('$(width "$work/bare.svg")') + 150 < float('$(width "$work/stats.svg")') else 1)" ||
+  fail "--no-legend did not narrow the picture: $(width "$work/bare.svg") vs $(width "$work/stats.svg")"
 echo ok
