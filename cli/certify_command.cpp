@@ -35,6 +35,7 @@ struct CertifyArguments {
   double time_limit = 0;
   std::string rows_path;
   std::string kernel_path;
+  std::string witness_path;
   std::string points_path;
   std::string bundle_path;
   std::optional<std::uint64_t> claim;
@@ -106,11 +107,24 @@ Json result_to_json(const Network& network, const Domain& domain, const Function
   out["regions_contributing"] = result.regions_contributing;
   out["walk_complete"] = result.walk_complete;
   out["early_stop"] = result.early_stop;
+  out["certified_by"] = !result.certified            ? Json(nullptr)
+                        : result.certified_by_points ? Json("points")
+                        : result.early_stop          ? Json("walk")
+                                                     : Json("kernel");
+  out["points_drawn"] = result.points_drawn;
+  Json witnesses = Json::array();
+  for (const RationalVector& point : result.witness_points) {
+    Json coordinates = Json::array();
+    for (const Rational& value : point) coordinates.push_back(format_rational(value));
+    witnesses.push_back(std::move(coordinates));
+  }
+  out["witness_points"] = std::move(witnesses);
   out["stop_reason"] = result.stop_reason == StopReason::none ? Json(nullptr) : Json(to_string(result.stop_reason));
   out["nonsmooth_regions"] = std::move(nonsmooth);
   out["extra_kernel"] = std::move(extra);
   out["extra_kernel_summary"] = mechanism_summary_json(network, result);
   out["seconds"] = result.seconds;
+  out["walk_seconds"] = result.walk.seconds;  // of which the walk (0 when none ran)
   return out;
 }
 
@@ -122,7 +136,12 @@ void print_result(const Network& network, const Domain& domain, const Functional
       << network.hidden_neuron_count() << " hidden neurons' scaling directions)\n";
   if (result.certified) {
     out << "functional dimension  " << *result.functional_dimension << "  certified\n";
-    if (result.early_stop || !result.walk_complete)  // upper bound from the scaling directions alone
+    if (result.certified_by_points)
+      out << "                      lower bound from " << count_of(result.witness_points.size(), "exact point")
+          << " met the scaling bound (the rows of their regions have a\n"
+             "                      nonsingular minor mod p; the points: --witness-out or --json);\n"
+             "                      upper bound: the scaling directions, an exact kernel\n";
+    else if (result.early_stop || !result.walk_complete)  // upper bound from the scaling directions alone
       out << "                      lower bound: rows of " << count_of(result.regions_contributing, "region")
           << (result.regions_contributing == 1 ? " has" : " have") << " a nonsingular minor (mod p);\n"
              "                      upper bound: the scaling directions, an exact kernel\n";
@@ -138,10 +157,16 @@ void print_result(const Network& network, const Domain& domain, const Functional
                       to_string(result.stop_reason))
         << ")\n";
   }
-  out << "regions               " << result.regions_walked << " walked"
-      << (result.early_stop ? " (stopped early: the rank met the scaling bound)"
-                            : result.walk_complete ? " (all regions)" : " (walk cut short)")
-      << ", " << result.regions_contributing << " contributed new rows\n";
+  if (result.certified_by_points)
+    out << "regions               none walked (" << result.points_drawn << " points drawn, "
+        << result.regions_contributing << " of their regions contributed new rows)\n";
+  else
+    out << "regions               " << result.regions_walked << " walked"
+        << (result.early_stop ? " (stopped early: the rank met the scaling bound)"
+                              : result.walk_complete ? " (all regions)" : " (walk cut short)")
+        << ", " << result.regions_contributing << " contributed new rows"
+        << (result.points_drawn ? " (with " + std::to_string(result.points_drawn) + " points drawn first)" : "")
+        << "\n";
   if (!result.nonsmooth_regions.empty()) {
     out << "left out              " << result.nonsmooth_regions.size()
         << " non-smooth regions (a neuron identically zero there with a nonzero backward signal):\n";
@@ -181,6 +206,8 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
     std::string text = std::string("certifying: ") + state.phase;
     if (std::string(state.phase) == "kernel")
       text += " (lifting the extra directions), " + std::to_string(state.done) + " primes";
+    else if (std::string(state.phase) == "points")
+      text += ", rank " + std::to_string(state.done) + " of the scaling bound " + std::to_string(state.total);
     else
       text += " " + std::to_string(state.done) + "/" + std::to_string(state.total) +
               (std::string(state.phase) == "check" ? " regions" : " directions");
@@ -188,15 +215,31 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
   };
   options.stop_at_scaling_bound = stop_at_scaling_bound;
   options.keep_rows = !arguments.rows_path.empty();
+  options.keep_kernel = !arguments.kernel_path.empty() || !arguments.bundle_path.empty();  // both print it
   FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
   progress.finish();
   return result;
+}
+
+// The exact rank of the coefficient-block rows of the given regions (each
+// spans the Jacobians at all of the region's points).
+std::size_t regions_rank(const Network& network, const std::set<ActivationPattern>& patterns) {
+  std::size_t rows = 0;
+  for (const auto& pattern : patterns) rows += coefficient_blocks(network, pattern).rows();
+  RationalMatrix stacked(rows, network.parametric_dimension());
+  std::size_t r = 0;
+  for (const auto& pattern : patterns) {
+    const RationalMatrix blocks = coefficient_blocks(network, pattern);
+    for (std::size_t i = 0; i < blocks.rows(); ++i, ++r) stacked.set_row(r, blocks.row(i));
+  }
+  return rank_exact(stacked);
 }
 
 struct BatchReport {
   std::size_t points = 0;
   std::size_t rank = 0;
   std::size_t regions_touched = 0;
+  std::size_t regions_rank = 0;  // exact rank of the touched regions' coefficient-block rows
 };
 
 std::string regions_total_text(const FunctionalDimensionResult& result, std::size_t touched) {
@@ -211,6 +254,8 @@ void print_batch(const Network& network, const Domain& domain, const CertifyArgu
       << " of " << regions_total_text(result, batch.regions_touched) << " regions (decided exactly)\n";
   out << "batch functional dimension " << batch.rank << "  (exact rank of the " << batch.points * network.output_dim()
       << " x " << network.parametric_dimension() << " parameter Jacobian at these points)\n";
+  out << "rank of their regions " << batch.regions_rank << "  (exact rank of the coefficient-block rows of the "
+      << batch.regions_touched << " regions: the Jacobians at every point of them)\n";
   if (result.certified)
     out << "functional dimension  " << *result.functional_dimension << "  certified (every region of the domain)\n";
   else
@@ -248,7 +293,9 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
   BatchReport batch;
   batch.points = file.points.size();
   batch.rank = batch_functional_dimension(network, file.points);
-  batch.regions_touched = std::set<ActivationPattern>(patterns.begin(), patterns.end()).size();
+  const std::set<ActivationPattern> touched(patterns.begin(), patterns.end());
+  batch.regions_touched = touched.size();
+  batch.regions_rank = regions_rank(network, touched);
   // Every region must be walked to count them (no early stop at the scaling bound).
   const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, false);
   std::optional<ClaimVerdict> at_points, network_verdict;
@@ -263,6 +310,7 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
              {"batch_functional_dimension", batch.rank},
              {"domain", domain_to_json(domain)},
              {"regions_touched", batch.regions_touched},
+             {"regions_rank", batch.regions_rank},
              {"regions_total", result.walk_complete ? Json(result.walk.regions) : Json(nullptr)},
              {"regions_walked", result.regions_walked},
              {"scaling_bound", result.scaling_bound},
@@ -337,6 +385,10 @@ int run_certify(const CertifyArguments& arguments) {
   const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, !arguments.full_walk);
   if (!arguments.rows_path.empty()) write_matrix(arguments.rows_path, result.rows);
   if (!arguments.kernel_path.empty()) write_matrix(arguments.kernel_path, result.kernel);
+  if (!arguments.witness_path.empty())
+    write_output(arguments.witness_path,
+                 points_text(result.witness_points,
+                             "witness points: exact, strictly inside the domain, one per region whose rows raised the rank"));
 
   Json document = result_to_json(network, domain, result);
   std::optional<ClaimVerdict> verdict;
@@ -370,7 +422,10 @@ void register_certify(CommandTable& commands) {
       "of parameter change actually change the function. Rescaling a hidden neuron never\n"
       "does, so it is at most the scaling bound. 'certify' walks the regions, stacks each\n"
       "region's exact Jacobian rows, and proves a lower bound (a nonsingular minor) and an\n"
-      "upper bound (the scaling directions, or an exact kernel checked on every region).\n\n"
+      "upper bound (the scaling directions, or an exact kernel checked on every region).\n"
+      "It first draws exact points inside the domain: when the rows of the regions they land\n"
+      "in already reach the scaling bound, that is the value and no walk is needed (the\n"
+      "points: --witness-out; re-check them with --points).\n\n"
       "Examples:\n"
       "  pleat certify data/fold2d.json\n"
       "  pleat certify data/fold2d.json --box -1,1 --json\n"
@@ -395,7 +450,8 @@ void register_certify(CommandTable& commands) {
   add_threads_option(command, arguments->threads, "Worker threads (default: all cores)");
   add_seconds_option(command, "--time-limit", arguments->time_limit, "Stop after this many seconds (result: bounds)");
   command.add_flag("--full-walk", arguments->full_walk,
-                   "Walk every region even after the rank meets the scaling bound");
+                   "Walk every region: no certifying from points first, no stop when the rank meets "
+                   "the scaling bound");
   command.add_option("--rows-out", arguments->rows_path,
                      "Write the exact Jacobian rows of the contributing regions (one row per line)");
   command.add_option("--kernel-out", arguments->kernel_path,
@@ -403,6 +459,8 @@ void register_certify(CommandTable& commands) {
   command.add_option("--bundle", arguments->bundle_path,
                      "Write a proof of the certified value that scripts/check_bundle.py re-checks "
                      "(pleat-bundle/1; none when not certified)");
+  command.add_option("--witness-out", arguments->witness_path,
+                     "Write the exact points whose regions' rows raised the rank (re-check: --points FILE)");
   command.add_option("--points", arguments->points_path,
                      "Also: the exact batch functional dimension at these points (text or .npy)");
   CLI::Option* claim = add_unsigned_option(command, "--claim", arguments->claim_value,

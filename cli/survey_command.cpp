@@ -86,7 +86,8 @@ std::string output_path_for(const std::string& output, const std::vector<std::si
 std::string format_duration(double seconds) {
   if (seconds < 90) return std::to_string(static_cast<long>(seconds + 0.5)) + " s";
   if (seconds < 5400) return std::to_string(static_cast<long>(seconds / 60 + 0.5)) + " min";
-  return std::to_string(static_cast<long>(seconds / 3600 + 0.5)) + " h";
+  if (seconds < 2 * 86400) return std::to_string(static_cast<long>(seconds / 3600 + 0.5)) + " h";
+  return std::to_string(static_cast<long>(seconds / 86400 + 0.5)) + " days";
 }
 
 std::string format_rate(double rate) {
@@ -140,6 +141,7 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
 
   const auto started = std::chrono::steady_clock::now();
   std::size_t finished = 0;
+  double cpu_seconds = 0;  // samples run one per thread: their wall times add up to CPU time
   SurveyRunOptions options;
   options.threads = static_cast<unsigned>(arguments.threads);
   options.time_limit_each = arguments.time_limit_each;
@@ -148,10 +150,15 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
     if (writer) writer->write(sample_json(sample));
     record.samples.push_back(sample);
     ++finished;
+    cpu_seconds += sample.seconds;
     const double elapsed = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
     const double rate = static_cast<double>(finished) / std::max(elapsed, 1e-9);
+    const double cpu_per_sample = cpu_seconds / static_cast<double>(finished);
     progress.update(label + std::to_string(done.size() + finished) + "/" + std::to_string(done.size() + todo.size()) +
-                    " samples, " + format_rate(rate) + "/s, ETA " + format_duration(static_cast<double>(todo.size() - finished) / rate));
+                    " samples, " + format_rate(rate) + "/s, ETA " +
+                    format_duration(static_cast<double>(todo.size() - finished) / rate) + ", projected CPU " +
+                    format_duration(cpu_per_sample * static_cast<double>(done.size() + todo.size())) +
+                    " for all samples");
   };
   const SurveyRunResult result = run_survey(configuration, todo, options);
   is_interrupted = result.is_interrupted;

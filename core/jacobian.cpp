@@ -5,6 +5,7 @@
 #include <flint/nmod.h>
 #include <flint/ulong_extras.h>
 
+#include <algorithm>
 #include <string>
 
 namespace pleat {
@@ -417,8 +418,100 @@ RationalMatrix scaling_directions(const Network& network) {
   return directions;
 }
 
+RationalMatrix scaling_directions(const Network& network, const std::vector<std::size_t>& neurons) {
+  const std::size_t hidden = network.hidden_neuron_count();
+  for (std::size_t neuron : neurons)
+    if (neuron >= hidden)
+      throw usage_error("scaling_directions: neuron " + std::to_string(neuron) + " is not a hidden neuron");
+  // Layer k's first neuron and first parameter, computed once (deep networks).
+  std::vector<std::size_t> first_neuron{0}, first_parameter{0};
+  for (const Layer& layer : network.layers) {
+    first_neuron.push_back(first_neuron.back() + layer.width());
+    first_parameter.push_back(first_parameter.back() + (layer.fan_in() + 1) * layer.width());
+  }
+  RationalMatrix directions(neurons.size(), network.parametric_dimension());
+  for (std::size_t row = 0; row < neurons.size(); ++row) {
+    const std::size_t k =
+        static_cast<std::size_t>(std::upper_bound(first_neuron.begin(), first_neuron.end(), neurons[row]) -
+                                 first_neuron.begin()) - 1;
+    const std::size_t i = neurons[row] - first_neuron[k];
+    const Layer& layer = network.layers[k];
+    const Layer& next = network.layers[k + 1];
+    const std::size_t offset = first_parameter[k];
+    const std::size_t next_offset = first_parameter[k + 1];
+    for (std::size_t j = 0; j < layer.fan_in(); ++j)
+      directions(row, offset + i * layer.fan_in() + j) = layer.weights(i, j);
+    directions(row, offset + layer.width() * layer.fan_in() + i) = layer.bias[i];
+    for (std::size_t m = 0; m < next.width(); ++m)
+      directions(row, next_offset + m * next.fan_in() + i) = -next.weights(m, i);
+  }
+  return directions;
+}
+
+namespace {
+
+// Disjoint sets over the vertices of the scaling graph (core/jacobian.hpp).
+class DisjointSets {
+ public:
+  explicit DisjointSets(std::size_t size) : parent_(size) {
+    for (std::size_t v = 0; v < size; ++v) parent_[v] = v;
+  }
+  std::size_t find(std::size_t v) {
+    while (parent_[v] != v) v = parent_[v] = parent_[parent_[v]];
+    return v;
+  }
+  // Joins the sets of a and b; false when they were one already.
+  bool join(std::size_t a, std::size_t b) {
+    a = find(a);
+    b = find(b);
+    if (a == b) return false;
+    parent_[std::max(a, b)] = std::min(a, b);
+    return true;
+  }
+
+ private:
+  std::vector<std::size_t> parent_;
+};
+
+}  // namespace
+
+ScalingStructure scaling_structure(const Network& network) {
+  const std::size_t hidden = network.hidden_neuron_count();
+  const std::size_t ground = hidden;
+  DisjointSets sets(hidden + 1);
+  ScalingStructure structure;
+  // A layer's neuron i as a vertex: itself when hidden, the ground otherwise
+  // (the output layer; "the layer before the first" is the input).
+  std::vector<std::size_t> first_neuron{0};
+  for (const Layer& layer : network.layers) first_neuron.push_back(first_neuron.back() + layer.width());
+  auto vertex = [&](std::size_t layer, std::size_t i) {
+    return layer + 1 < network.depth() ? first_neuron[layer] + i : ground;
+  };
+  std::size_t column = 0;
+  for (std::size_t k = 0; k < network.depth(); ++k) {
+    const Layer& layer = network.layers[k];
+    for (std::size_t i = 0; i < layer.width(); ++i)
+      for (std::size_t j = 0; j < layer.fan_in(); ++j, ++column) {
+        const std::size_t from = k == 0 ? ground : vertex(k - 1, j);
+        if (sgn(layer.weights(i, j)) != 0 && sets.join(vertex(k, i), from)) structure.pivot_columns.push_back(column);
+      }
+    for (std::size_t i = 0; i < layer.width(); ++i, ++column)
+      if (sgn(layer.bias[i]) != 0 && sets.join(vertex(k, i), ground)) structure.pivot_columns.push_back(column);
+  }
+  structure.rank = structure.pivot_columns.size();
+  // The largest neuron of each component without the ground is left out.
+  std::vector<std::size_t> largest(hidden + 1, 0);
+  for (std::size_t n = 0; n < hidden; ++n) largest[sets.find(n)] = n;
+  const std::size_t ground_root = sets.find(ground);
+  for (std::size_t n = 0; n < hidden; ++n) {
+    const std::size_t root = sets.find(n);
+    if (root == ground_root || largest[root] != n) structure.independent_neurons.push_back(n);
+  }
+  return structure;
+}
+
 std::size_t scaling_bound(const Network& network) {
-  return network.parametric_dimension() - rank_exact(scaling_directions(network));
+  return network.parametric_dimension() - scaling_structure(network).rank;
 }
 
 }  // namespace pleat

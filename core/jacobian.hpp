@@ -105,8 +105,41 @@ DoubleMatrix parameter_jacobian_double(const DoubleNetwork& network, const Doubl
 // and Jacobian row is orthogonal to it. Output neurons have none. Exact.
 RationalMatrix scaling_directions(const Network& network);
 
+// The rows of scaling_directions for the given hidden neurons only (ids
+// increasing or not, each < hidden_neuron_count(); usage_error otherwise).
+// Exact.
+RationalMatrix scaling_directions(const Network& network, const std::vector<std::size_t>& neurons);
+
+// The rank of the scaling directions S and a nonsingular square block of S,
+// read off which parameters are zero: no elimination, O(D) time, exact.
+//
+// Why this is the rank: sum_n c_n s_n = 0 reads, parameter by parameter,
+// (c_a - c_b) w = 0 on a weight w from hidden neuron b into hidden neuron a,
+// and c_a w = 0 on a parameter w that only neuron a's direction touches (its
+// bias, its first-layer weights, its weights into the output layer). So the
+// columns of S are nonzero multiples of the columns of the incidence matrix of
+// a graph G (vertices: the hidden neurons and one "ground" vertex, whose row
+// is left out; one edge per nonzero parameter), and zero columns. A set of
+// such columns is independent exactly when its edges form a forest (over any
+// field), so rank(S) = H - (components of G without the ground vertex).
+struct ScalingStructure {
+  std::size_t rank = 0;
+  // The lexicographically first rank(S) independent rows of S (the greedy
+  // choice, as an elimination in row order would pick): every hidden neuron
+  // but the largest one of each component of G without the ground vertex.
+  std::vector<std::size_t> independent_neurons;
+  // The lexicographically first rank(S) independent columns of S (parameter
+  // indices, increasing): the pivot columns of S's reduced row-echelon form,
+  // found greedily as a spanning forest of G (Kruskal in parameter order).
+  // S restricted to independent_neurons x pivot_columns is nonsingular (the
+  // incidence matrix of a spanning forest with one vertex of each tree left
+  // out, columns scaled by nonzero weights).
+  std::vector<std::size_t> pivot_columns;
+};
+ScalingStructure scaling_structure(const Network& network);
+
 // D - rank(scaling_directions): an upper bound of the functional dimension
-// (D - hidden neurons for generic parameters). Exact.
+// (D - hidden neurons for generic parameters). Exact, O(D) (scaling_structure).
 std::size_t scaling_bound(const Network& network);
 
 }  // namespace pleat

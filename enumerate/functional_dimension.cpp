@@ -1,7 +1,9 @@
 #include "enumerate/functional_dimension.hpp"
 
+#include "core/evaluate.hpp"
 #include "core/jacobian.hpp"
 #include "core/rank.hpp"
+#include "enumerate/interior_points.hpp"
 
 #include <algorithm>
 #include <atomic>
@@ -485,23 +487,62 @@ bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>&
   return true;
 }
 
-// Rows of S that are independent modulo p (hence over Q), in order.
-RationalMatrix independent_rows(const RationalMatrix& rows, std::uint64_t prime) {
-  ModularRowBasis basis(prime, rows.cols());
-  std::vector<std::size_t> chosen;
-  const auto image = reduce_modulo(rows, prime);
-  for (std::size_t r = 0; r < rows.rows(); ++r)
-    if (image && basis.add_row(image->row(r))) chosen.push_back(r);
-  RationalMatrix out(chosen.size(), rows.cols());
-  for (std::size_t i = 0; i < chosen.size(); ++i) out.set_row(i, rows.row(chosen[i]));
-  return out;
-}
-
 RationalMatrix stack_matrices(const RationalMatrix& top, const RationalMatrix& bottom) {
   RationalMatrix out(top.rows() + bottom.rows(), top.cols());
   for (std::size_t r = 0; r < top.rows(); ++r) out.set_row(r, top.row(r));
   for (std::size_t r = 0; r < bottom.rows(); ++r) out.set_row(top.rows() + r, bottom.row(r));
   return out;
+}
+
+// ---- The no-walk path --------------------------------------------------------
+
+bool has_zero_at_point(const ActivationPattern& pattern) {
+  return std::find(pattern.states.begin(), pattern.states.end(), NeuronState::zero_at_point) != pattern.states.end();
+}
+
+// The pattern of the open region around x when x lies on no bent hyperplane
+// and that region has smooth points; nullopt otherwise (a bent hyperplane
+// through x: nudge it; a region without smooth points: no rows). Exact.
+enum class PointVerdict { smooth, on_bent_hyperplane, not_smooth };
+struct PointRegion {
+  PointVerdict verdict = PointVerdict::on_bent_hyperplane;
+  ActivationPattern pattern;
+};
+
+PointRegion region_of_point(const Network& network, const RationalVector& x) {
+  ActivationPattern pattern = evaluate_exact(network, x).pattern;
+  if (has_zero_at_point(pattern)) {
+    pattern = pattern_around_point(network, x);  // identically-zero neurons become 'z'
+    if (has_zero_at_point(pattern)) return {PointVerdict::on_bent_hyperplane, {}};
+    if (!nonsmooth_neurons(network, pattern).empty()) return {PointVerdict::not_smooth, {}};
+  }
+  return {PointVerdict::smooth, std::move(pattern)};
+}
+
+// Runs work(i) for i in [0, count) on up to `threads` threads; rethrows the
+// first exception (a Stopped included) after every thread has ended.
+void parallel_for(std::size_t count, unsigned threads, const std::function<void(std::size_t)>& work) {
+  std::atomic<std::size_t> next{0};
+  std::mutex error_mutex;
+  std::exception_ptr error;
+  const StopRequest* stop = current_stop_request();
+  auto run = [&] {
+    std::optional<StopScope> scope;
+    if (stop) scope.emplace(*stop);
+    try {
+      for (std::size_t i; (i = next++) < count;) work(i);
+    } catch (...) {
+      const std::lock_guard lock(error_mutex);
+      if (!error) error = std::current_exception();
+      next = count;
+    }
+  };
+  threads = static_cast<unsigned>(std::max<std::size_t>(1, std::min<std::size_t>(threads, count)));
+  std::vector<std::thread> pool;
+  for (unsigned t = 1; t < threads; ++t) pool.emplace_back(run);
+  run();
+  for (auto& thread : pool) thread.join();
+  if (error) std::rethrow_exception(error);
 }
 
 }  // namespace
@@ -524,8 +565,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   FunctionalDimensionResult result;
   const std::size_t parameters = network.parametric_dimension();
   result.parametric_dimension = parameters;
-  const RationalMatrix scaling = scaling_directions(network);
-  result.scaling_bound = scaling_bound(network);
+  // The scaling directions' rank and pivot columns from the network's zero
+  // pattern (no elimination: cheap even for thousands of layers).
+  const ScalingStructure scaling = scaling_structure(network);
+  result.scaling_bound = parameters - scaling.rank;
   auto report = [&](const char* phase, std::size_t done, std::size_t total) {
     if (options.on_phase) options.on_phase(CertifyProgress{phase, done, total, stop.elapsed_seconds()});
   };
@@ -543,23 +586,86 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       if (basis.add_row(rows.row(r))) region.rows.push_back(r);
     if (!region.rows.empty()) kept.push_back(std::move(region));
   };
+  const unsigned threads =
+      options.walk.threads ? options.walk.threads : std::max(1u, std::thread::hardware_concurrency());
+
+  // Points first: rows of the regions that exact interior points land in.
+  // Batches are drawn in order and their patterns decided in parallel, then
+  // their rows added in point order, so the result does not depend on the
+  // thread count. Stalls after `patience` points without a rise in rank.
+  std::set<ActivationPattern> seen_by_points;
+  auto rows_from_points = [&] {
+    InteriorPointSource source(domain, options.points_seed);
+    const std::size_t patience = std::max<std::size_t>(64, result.scaling_bound / 2);
+    const std::size_t budget = 4 * result.scaling_bound + 256;
+    const std::size_t batch = 16 * static_cast<std::size_t>(threads);
+    std::size_t since_rise = 0;
+    const StopScope scope(stop);
+    while (basis.rank() < result.scaling_bound && since_rise < patience && result.points_drawn < budget) {
+      if (stop.is_requested()) return;
+      std::vector<RationalVector> points(batch);
+      for (RationalVector& point : points) point = source.next();
+      std::vector<PointRegion> regions(batch);
+      std::vector<ModularMatrix> rows(batch);
+      parallel_for(batch, threads, [&](std::size_t i) {
+        regions[i] = region_of_point(network, points[i]);
+        for (unsigned attempt = 0; attempt < 8 && regions[i].verdict == PointVerdict::on_bent_hyperplane; ++attempt) {
+          // A nudge drawn from the point's own generator: the same for any thread count.
+          InteriorPointSource nudges(domain, options.points_seed ^ (0x9e3779b97f4a7c15ull * (result.points_drawn + i + 1)));
+          points[i] = nudges.nudge(points[i], attempt);
+          regions[i] = region_of_point(network, points[i]);
+        }
+        if (regions[i].verdict == PointVerdict::smooth && !seen_by_points.contains(regions[i].pattern))
+          rows[i] = coefficient_blocks_mod(modular, regions[i].pattern);
+      });
+      for (std::size_t i = 0; i < batch && basis.rank() < result.scaling_bound; ++i) {
+        ++result.points_drawn;
+        ++since_rise;
+        if (regions[i].verdict != PointVerdict::smooth || !seen_by_points.insert(regions[i].pattern).second) continue;
+        KeptRows region{regions[i].pattern, {}};
+        for (std::size_t r = 0; r < rows[i].rows(); ++r)
+          if (basis.add_row(rows[i].row(r))) region.rows.push_back(r);
+        if (region.rows.empty()) continue;
+        kept.push_back(std::move(region));
+        result.witness_points.push_back(points[i]);
+        since_rise = 0;
+      }
+      report("points", basis.rank(), result.scaling_bound);
+    }
+  };
+
   WalkOptions walk_options = options.walk;
   walk_options.on_region = [&](const Region& region) {
     ++result.regions_walked;
     activity.record(region.pattern);
     if (!region.nonsmooth_neurons.empty()) return true;  // no smooth points: no rows
     smooth.push_back(region.pattern);
-    add_region_rows(region.pattern);
+    if (!seen_by_points.contains(region.pattern)) add_region_rows(region.pattern);
     if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) {
       result.early_stop = true;
       return false;
     }
     return true;
   };
-  result.walk = walk_regions(network, domain, walk_options);
-  result.walk_complete = result.walk.complete;
-  result.nonsmooth_regions = result.walk.nonsmooth_regions;
-  result.stop_reason = result.early_stop ? StopReason::none : result.walk.stop_reason;
+  const bool tries_points = options.stop_at_scaling_bound && options.points_first;
+  if (tries_points) {
+    try {
+      rows_from_points();
+    } catch (const Stopped&) {
+      // bounds below
+    }
+  }
+  if (tries_points && basis.rank() == result.scaling_bound) {
+    result.early_stop = true;
+    result.certified_by_points = true;
+  } else if (tries_points && stop.is_requested()) {
+    result.stop_reason = stop.reason();
+  } else {
+    result.walk = walk_regions(network, domain, walk_options);
+    result.walk_complete = result.walk.complete;
+    result.nonsmooth_regions = result.walk.nonsmooth_regions;
+    result.stop_reason = result.early_stop ? StopReason::none : result.walk.stop_reason;
+  }
   // Proved whatever happens next: the kept rows' nonsingular minor, the scaling kernel.
   result.lower_bound = basis.rank();
   result.upper_bound = result.scaling_bound;
@@ -579,18 +685,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // was wrong (lift again with fresh primes); both happen rarely, and at most
   // D + 8 times in all before giving up with bounds.
   auto prove_by_extra_directions = [&] {
-    const unsigned threads =
-        options.walk.threads ? options.walk.threads : std::max(1u, std::thread::hardware_concurrency());
-    // The scaling directions' independent rows and pivot columns Q modulo
-    // the walk's prime; S restricted to Q is nonsingular mod p, hence over Q.
-    const RationalMatrix scaling_rows = independent_rows(scaling, modular.prime);
-    const ModularMatrix scaling_echelon = row_space_basis_modulo(*reduce_modulo(scaling_rows, modular.prime), modular.prime);
-    std::vector<std::size_t> scaling_pivots;
-    for (std::size_t r = 0; r < scaling_echelon.rows(); ++r) {
-      std::size_t c = 0;
-      while (scaling_echelon(r, c) == 0) ++c;
-      scaling_pivots.push_back(c);
-    }
+    // The scaling directions' pivot columns Q: S restricted to its
+    // independent rows and Q is nonsingular over Q (core/jacobian.hpp).
+    const std::vector<std::size_t>& scaling_pivots = scaling.pivot_columns;
     std::size_t next_prime_index = 0;
     for (std::size_t attempt = 0; attempt < parameters + 8 && !stopped; ++attempt) {
       report("kernel", 0, 0);
@@ -625,10 +722,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       // Proved: S and E annihilate every smooth region's rows exactly.
       // Independent: E is echelon and vanishes on Q (checked exactly here).
       if (!is_echelon_off(extra, scaling_pivots)) return;
-      const RationalMatrix kernel = stack_matrices(scaling_rows, extra);
       result.lower_bound = basis.rank();
-      result.upper_bound = std::min(result.scaling_bound, parameters - kernel.rows());
-      result.kernel = kernel;
+      result.upper_bound = std::min(result.scaling_bound, parameters - scaling.rank - extra.rows());
+      if (options.keep_kernel)
+        result.kernel = stack_matrices(scaling_directions(network, scaling.independent_neurons), extra);
       const auto neuron_parameters = hidden_neuron_parameters(network);
       for (std::size_t r = 0; r < extra.rows(); ++r) {
         if (stop_now()) return;

@@ -55,7 +55,18 @@ struct FunctionalDimensionOptions {
   // Called from the calling thread during the phases after the walk.
   std::function<void(const CertifyProgress&)> on_phase;
   bool stop_at_scaling_bound = true;
+  // With stop_at_scaling_bound, before any walk: draw exact points strictly
+  // inside the domain (InteriorPointSource, seed points_seed), decide each
+  // point's pattern exactly, and stack the rows of the smooth regions they
+  // land in. When the rank meets the scaling bound the value is certified
+  // with no walk (certified_by_points); when it stalls, the walk runs and
+  // keeps the rows found.
+  bool points_first = true;
+  std::uint64_t points_seed = 1;
   bool keep_rows = false;  // fill FunctionalDimensionResult::rows (exact rows of contributing regions)
+  // Fill FunctionalDimensionResult::kernel (dense: rows x D rationals, large
+  // for deep networks; the proof itself does not need it).
+  bool keep_kernel = false;
 };
 
 struct FunctionalDimensionResult {
@@ -74,12 +85,20 @@ struct FunctionalDimensionResult {
   // early stop at the scaling bound is an end).
   StopReason stop_reason = StopReason::none;
   WalkSummary walk;
+  // The no-walk path: certified from points alone (then regions_walked is 0
+  // and early_stop is true), how many points were drawn, and the witnesses:
+  // the exact points whose regions' rows raised the rank, in that order
+  // (regions_contributing of them when certified_by_points). Their regions'
+  // rows have rank lower_bound modulo a prime, hence over Q.
+  bool certified_by_points = false;
+  std::size_t points_drawn = 0;
+  std::vector<RationalVector> witness_points;
   std::vector<std::pair<ActivationPattern, std::vector<std::size_t>>> nonsmooth_regions;
   std::vector<ExtraKernelDirection> extra_kernel;
   RationalMatrix rows;    // with keep_rows: exact coefficient-block rows of the contributing regions
-  // A basis of the exact kernel proved on every smooth region: the scaling
-  // directions independent modulo p, then the extra directions (empty on an
-  // early stop or when cut short).
+  // With keep_kernel, a basis of the exact kernel proved on every smooth
+  // region: the independent scaling directions (ScalingStructure), then the
+  // extra directions (empty on an early stop or when cut short).
   RationalMatrix kernel;
   double seconds = 0;
 };

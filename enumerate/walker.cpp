@@ -1,5 +1,6 @@
 #include "enumerate/walker.hpp"
 
+#include "core/filtered_sign.hpp"
 #include "core/jacobian.hpp"
 #include "core/limit_error.hpp"
 
@@ -247,7 +248,7 @@ namespace {
 struct Crossing {
   const Network& network;
   const PatternMaps& near_maps;
-  std::vector<RationalVector> values_at_q;  // per ReLU layer
+  std::vector<std::vector<int>> signs_at_q;  // per ReLU layer, the sign of each pre-activation at q
   const RationalVector& direction;
   const RationalVector& facet_normal;
 };
@@ -283,9 +284,9 @@ void extend_across(const Crossing& crossing, std::size_t k, std::size_t first_ch
     return;
   }
   poll_stop();
-  const RationalVector& values = crossing.values_at_q[k];
+  const std::vector<int>& values = crossing.signs_at_q[k];
   const std::size_t first = network.first_neuron_of_layer(k);
-  const bool has_vanishing = std::any_of(values.begin(), values.end(), [](const Rational& v) { return v == 0; });
+  const bool has_vanishing = std::any_of(values.begin(), values.end(), [](int v) { return v == 0; });
   std::optional<AffineMap> recomputed;
   if (has_vanishing && first_changed < k)
     recomputed = far_preactivation(crossing, k, first_changed, near_pattern, pattern);
@@ -318,17 +319,81 @@ void extend_across(const Crossing& crossing, std::size_t k, std::size_t first_ch
 
 }  // namespace
 
-std::vector<ActivationPattern> patterns_across(const Network& network, const ActivationPattern& near_pattern,
-                                               const PatternMaps& near_maps, const RationalVector& q,
-                                               const RationalVector& direction, const RationalVector& facet_normal) {
-  Crossing crossing{network, near_maps, {}, direction, facet_normal};
-  for (std::size_t k = 0; k < relu_layers(network); ++k) crossing.values_at_q.push_back(near_maps.preactivation[k](q));
+namespace {
+
+// Double images (core/filtered_sign.hpp) of a region's pre-activation maps,
+// per ReLU layer: each row's linear part, then its offset. For filtered signs
+// at crossing points; built once per region.
+struct MapImages {
+  std::vector<std::vector<double>> layers;
+};
+
+MapImages map_images(const Network& network, const PatternMaps& maps) {
+  MapImages images;
+  for (std::size_t k = 0; k < relu_layers(network); ++k) {
+    const AffineMap& map = maps.preactivation[k];
+    const std::size_t width = map.linear.cols() + 1;
+    std::vector<double> values(map.offset.size() * width);
+    for (std::size_t r = 0; r < map.offset.size(); ++r) {
+      for (std::size_t c = 0; c + 1 < width; ++c) values[r * width + c] = filter_image(map.linear(r, c));
+      values[r * width + width - 1] = filter_image(map.offset[r]);
+    }
+    images.layers.push_back(std::move(values));
+  }
+  return images;
+}
+
+// sign(row r of map at q), exactly.
+int exact_sign_at(const AffineMap& map, std::size_t r, const RationalVector& q) {
+  Rational sum = map.offset[r];
+  for (std::size_t c = 0; c < q.size(); ++c)
+    if (sgn(map.linear(r, c)) != 0) sum += map.linear(r, c) * q[c];
+  return sgn(sum);
+}
+
+// The sign of every pre-activation at q per ReLU layer: filtered against the
+// images when given (exact where the filter cannot decide), else exact.
+std::vector<std::vector<int>> signs_at(const Network& network, const PatternMaps& maps, const MapImages* images,
+                                       const RationalVector& q) {
+  std::vector<double> x(q.size());
+  if (images)
+    for (std::size_t c = 0; c < q.size(); ++c) x[c] = filter_image(q[c]);
+  std::vector<std::vector<int>> signs(relu_layers(network));
+  for (std::size_t k = 0; k < signs.size(); ++k) {
+    const AffineMap& map = maps.preactivation[k];
+    const std::size_t width = q.size() + 1;
+    signs[k].resize(map.offset.size());
+    for (std::size_t r = 0; r < map.offset.size(); ++r) {
+      std::optional<int> sign;
+      if (images) {
+        const double* row = images->layers[k].data() + r * width;
+        sign = filtered_affine_sign(row, x.data(), q.size(), row[q.size()]);
+      }
+      signs[k][r] = sign ? *sign : exact_sign_at(map, r, q);
+    }
+  }
+  return signs;
+}
+
+std::vector<ActivationPattern> patterns_across_filtered(const Network& network, const ActivationPattern& near_pattern,
+                                                        const PatternMaps& near_maps, const MapImages* images,
+                                                        const RationalVector& q, const RationalVector& direction,
+                                                        const RationalVector& facet_normal) {
+  Crossing crossing{network, near_maps, signs_at(network, near_maps, images, q), direction, facet_normal};
   ActivationPattern pattern = near_pattern;
   std::vector<ActivationPattern> out;
   extend_across(crossing, 0, no_index, near_pattern, pattern, out);
   std::sort(out.begin(), out.end());
   out.erase(std::unique(out.begin(), out.end()), out.end());
   return out;
+}
+
+}  // namespace
+
+std::vector<ActivationPattern> patterns_across(const Network& network, const ActivationPattern& near_pattern,
+                                               const PatternMaps& near_maps, const RationalVector& q,
+                                               const RationalVector& direction, const RationalVector& facet_normal) {
+  return patterns_across_filtered(network, near_pattern, near_maps, nullptr, q, direction, facet_normal);
 }
 
 std::vector<ActivationPattern> patterns_across(const Network& network, const ActivationPattern& near_pattern,
@@ -361,6 +426,7 @@ class RegionProcessor {
       : network_(network),
         domain_(domain),
         keep_certificates_(keep_certificates),
+        exact_only_(exact_only),
         layers_(integer_layers(network)),
         oracle_(lp::FilterTolerances{.exact_only = exact_only}) {}
 
@@ -376,10 +442,11 @@ class RegionProcessor {
     region.pattern = pattern;
     region.point = interior->point;
     region.affine = cell->maps.output;
-    lp::FacetClassification classification = oracle_.classify_facets(cell->cell, *interior);
+    lp::FacetClassification classification = oracle_.classify_facets(cell->cell, *interior, keep_certificates_);
+    std::optional<MapImages> images;
     for (const auto& group : classification.groups) {
       if (!group.is_facet()) continue;
-      region.facets.push_back(make_facet(*cell, pattern, group, result.degenerate_crossings));
+      region.facets.push_back(make_facet(*cell, pattern, group, images, result.degenerate_crossings));
       if (region.facets.back().domain_side) region.touches_domain_boundary = true;
     }
     std::optional<lp::BoundednessVerdict> boundedness = decide_boundedness(*cell, region.bounded);
@@ -415,7 +482,7 @@ class RegionProcessor {
   }
 
   RegionFacet make_facet(const PatternCell& cell, const ActivationPattern& pattern, const lp::FacetGroup& group,
-                         std::size_t& degenerate_crossings) {
+                         std::optional<MapImages>& images, std::size_t& degenerate_crossings) {
     RegionFacet facet;
     for (std::size_t c : group.constraints) {
       if (cell.constraint_neuron[c] != no_index) facet.neurons.push_back(cell.constraint_neuron[c]);
@@ -431,8 +498,10 @@ class RegionProcessor {
 
     RationalVector direction = representative.normal;
     for (auto& v : direction) v = -v;
-    std::vector<ActivationPattern> candidates =
-        patterns_across(network_, pattern, cell.maps, facet.point, direction, representative.normal);
+    // The maps' double images, once per region, unless every sign must be exact.
+    if (!exact_only_ && !images) images = map_images(network_, cell.maps);
+    std::vector<ActivationPattern> candidates = patterns_across_filtered(
+        network_, pattern, cell.maps, images ? &*images : nullptr, facet.point, direction, representative.normal);
     if (candidates.size() > 1) {
       ++degenerate_crossings;
       candidates = keep_touching(candidates, facet.point);
@@ -470,6 +539,7 @@ class RegionProcessor {
   const Network& network_;
   const Domain& domain_;
   bool keep_certificates_;
+  bool exact_only_;  // no double filter anywhere, the signs at crossings included
   std::vector<IntegerLayer> layers_;
   lp::Oracle oracle_;
 };

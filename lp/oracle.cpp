@@ -5,6 +5,7 @@
 // proposal fails. Each LP the code builds is written out above it.
 #include "lp/oracle.hpp"
 
+#include "core/filtered_sign.hpp"
 #include "core/stop.hpp"
 #include "lp/checker.hpp"
 #include "lp/detail/double_rows.hpp"
@@ -254,6 +255,83 @@ std::optional<NonFacetCertificate> redundancy_in_plane(const Polyhedron& cell, s
   return certificate;
 }
 
+// A cell's constraints as filter images (core/filtered_sign.hpp): per row
+// a_0, ..., a_(n-1), c. Built once per query; they decide signs only where
+// their error bound allows, exact arithmetic decides the rest.
+struct CellImages {
+  std::size_t width = 0;
+  std::vector<double> values;  // width = dim + 1 per constraint
+  explicit CellImages(const Polyhedron& cell)
+      : width(cell.dim + 1), values(width * cell.constraints.size()) {
+    for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+      double* out = values.data() + width * i;
+      for (std::size_t k = 0; k < cell.dim; ++k) out[k] = filter_image(cell.constraints[i].normal[k]);
+      out[cell.dim] = filter_image(cell.constraints[i].offset);
+    }
+  }
+  const double* row(std::size_t i) const { return values.data() + width * i; }
+  double offset(std::size_t i) const { return values[width * i + width - 1]; }
+};
+
+// Every constraint > 0 at point, decided exactly (filtered, exact when undecided).
+bool is_interior_filtered(const Polyhedron& cell, const CellImages& images, const RationalVector& point) {
+  std::vector<double> x(point.size());
+  for (std::size_t k = 0; k < point.size(); ++k) x[k] = filter_image(point[k]);
+  std::optional<ScaledPoint> scaled;
+  Integer numerator, denominator, term;
+  for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+    std::optional<int> sign = filtered_affine_sign(images.row(i), x.data(), cell.dim, images.offset(i));
+    if (!sign) {
+      if (!scaled) scaled.emplace(point);
+      sign = slack_sign(cell.constraints[i], *scaled, numerator, denominator, term);
+    }
+    if (*sign <= 0) return false;
+  }
+  return true;
+}
+
+// Whether redundancy_in_plane(cell, j, s1, s2) would succeed, by filtered
+// signs: with D = det(a_s1, a_s2), y1 = det(a_j, a_s2) / D, y2 = det(a_s1, a_j) / D
+// and y1 c_s1 + y2 c_s2 - c_j = -det[(a_s1, c_s1); (a_s2, c_s2); (a_j, c_j)] / D.
+// nullopt when a sign is left undecided. Exact when it returns a value.
+std::optional<bool> is_redundant_in_plane_filtered(const CellImages& images, std::size_t j, std::size_t s1,
+                                                   std::size_t s2) {
+  const double* a = images.row(s1);
+  const double* b = images.row(s2);
+  const double* t = images.row(j);
+  const std::optional<int> d = filtered_determinant_sign(a[0], a[1], b[0], b[1]);
+  if (!d) return std::nullopt;
+  if (*d == 0) return false;
+  const std::optional<int> y1 = filtered_determinant_sign(t[0], t[1], b[0], b[1]);
+  if (!y1) return std::nullopt;
+  if (*y1 * *d < 0) return false;
+  const std::optional<int> y2 = filtered_determinant_sign(a[0], a[1], t[0], t[1]);
+  if (!y2) return std::nullopt;
+  if (*y2 * *d < 0) return false;
+  const std::optional<int> excess = filtered_determinant_sign(a, b, t);  // -(y1 c1 + y2 c2 - c_j) D
+  if (!excess) return std::nullopt;
+  return -*excess * *d <= 0;
+}
+
+// is_facet_point for a single constraint j of a plane cell, with each
+// constraint's sign filtered first and computed exactly only when undecided.
+bool is_facet_point_filtered(const Polyhedron& cell, const CellImages& images, std::size_t j,
+                             const RationalVector& point) {
+  const double x[2] = {filter_image(point[0]), filter_image(point[1])};
+  std::optional<ScaledPoint> scaled;
+  Integer numerator, denominator, term;
+  const auto exact_sign = [&](std::size_t i) {
+    if (!scaled) scaled.emplace(point);
+    return slack_sign(cell.constraints[i], *scaled, numerator, denominator, term);
+  };
+  for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+    const std::optional<int> filtered = filtered_affine_sign(images.row(i), x, 2, images.offset(i));
+    const int sign = filtered ? *filtered : exact_sign(i);
+    if (i == j ? sign != 0 : sign <= 0) return false;
+  }
+  return true;
+}
+
 // ---- exact fallbacks (cddlib) ----------------------------------------------
 
 [[noreturn]] void internal_failure(const char* what) {
@@ -478,14 +556,14 @@ std::optional<CellVerdict> decide_open_cell_filtered(const Polyhedron& cell, con
   return std::nullopt;
 }
 
-CellVerdict decide_open_cell_counted(const Polyhedron& cell, const Rational& cap,
+// rows: the cell's double image (to_double_rows), built by the caller.
+CellVerdict decide_open_cell_counted(const Polyhedron& cell, const DoubleRows& rows, const Rational& cap,
                                      const FilterTolerances& tolerances, QueryCounts& counts) {
   ++counts.lp_queries;
   if (cell.constraints.empty()) {
     ++counts.filter_settled;
     return InteriorPoint{RationalVector(cell.dim, Rational(0))};
   }
-  const DoubleRows rows = detail::to_double_rows(cell);
   const double cap_double = std::min(cap.get_d(), 1e100);
   if (rows.is_finite && !tolerances.exact_only) {
     if (std::optional<CellVerdict> verdict =
@@ -756,12 +834,24 @@ std::vector<PolygonProposal> polygon_proposals(const DoubleRows& rows, const Rat
 }
 
 // The exact certificate of one polygon proposal, or nullopt when it fails.
-std::optional<FacetVerdict> certify_polygon_proposal(const Polyhedron& cell, std::size_t j,
-                                                     const PolygonProposal& proposal) {
+// Without images (exact only) every sign is computed exactly. A non-facet
+// proved with keep_certificate false carries an empty multiplier vector.
+std::optional<FacetVerdict> certify_polygon_proposal(const Polyhedron& cell, const CellImages* images,
+                                                     std::size_t j, const PolygonProposal& proposal,
+                                                     bool keep_certificate) {
   if (proposal.kind == PolygonProposal::Kind::non_facet) {
-    if (std::optional<NonFacetCertificate> certificate =
-            redundancy_in_plane(cell, j, proposal.support[0], proposal.support[1]))
+    const std::size_t s1 = proposal.support[0];
+    const std::size_t s2 = proposal.support[1];
+    if (images && !keep_certificate) {
+      if (const std::optional<bool> redundant = is_redundant_in_plane_filtered(*images, j, s1, s2)) {
+        if (!*redundant) return std::nullopt;
+        return FacetVerdict{NonFacetCertificate{Rational(-1), {}}};
+      }
+    }
+    if (std::optional<NonFacetCertificate> certificate = redundancy_in_plane(cell, j, s1, s2)) {
+      if (!keep_certificate) certificate->multipliers.clear();
       return FacetVerdict{std::move(*certificate)};
+    }
     return std::nullopt;
   }
   if (proposal.kind != PolygonProposal::Kind::facet || !(proposal.margin > 0)) return std::nullopt;
@@ -776,9 +866,81 @@ std::optional<FacetVerdict> certify_polygon_proposal(const Polyhedron& cell, std
   const std::vector<double> point{proposal.point[0], proposal.point[1]};
   for (double shrink : {1.0 / 16.0, 1.0 / 1024.0, 0.0}) {
     RationalVector candidate = project_onto(rep, round_point(point, margin * shrink), solved);
-    if (is_facet_point(cell, {j}, candidate)) return FacetVerdict{FacetPoint{std::move(candidate)}};
+    const bool is_facet =
+        images ? is_facet_point_filtered(cell, *images, j, candidate) : is_facet_point(cell, {j}, candidate);
+    if (is_facet) return FacetVerdict{FacetPoint{std::move(candidate)}};
   }
   return std::nullopt;
+}
+
+// Boundedness of a plane cell without an LP. The closure is bounded iff its
+// normals leave no angular gap of pi or more. Proposal (double): sort the
+// normals by angle; a gap >= pi before normal b proposes the recession
+// direction d = (-b_1, b_0) (b turned counter-clockwise by a right angle:
+// a_i . d >= 0 for every normal within pi counter-clockwise of b); otherwise three normals around the circle, each within pi of the next,
+// propose Stiemke multipliers y = (det(a2,a3), det(a3,a1), det(a1,a2)). Both
+// are checked exactly (filtered signs, exact where undecided); nullopt when
+// the proposal fails (the LP path decides then).
+std::optional<BoundednessVerdict> decide_boundedness_in_plane(const Polyhedron& cell) {
+  const std::size_t m = cell.constraints.size();
+  if (m == 0) return std::nullopt;
+  const CellImages images(cell);
+  std::vector<std::pair<double, std::size_t>> angles;
+  angles.reserve(m);
+  for (std::size_t i = 0; i < m; ++i) {
+    const double* a = images.row(i);
+    const double angle = std::atan2(a[1], a[0]);
+    if (!std::isfinite(angle)) return std::nullopt;
+    angles.emplace_back(angle, i);
+  }
+  std::sort(angles.begin(), angles.end());
+  constexpr double pi = 3.14159265358979323846;
+  const auto gap_after = [&](std::size_t k) {  // counter-clockwise angle from normal k to normal k+1
+    const double next = k + 1 < m ? angles[k + 1].first : angles[0].first + 2 * pi;
+    return next - angles[k].first;
+  };
+  std::size_t widest = 0;
+  for (std::size_t k = 1; k < m; ++k)
+    if (gap_after(k) > gap_after(widest)) widest = k;
+  if (gap_after(widest) >= pi - 1e-9) {
+    // All normals lie within pi counter-clockwise of the normal b after the
+    // gap, so d = b turned counter-clockwise by a right angle has b_i . d >= 0.
+    const Constraint& after_gap = cell.constraints[angles[(widest + 1) % m].second];
+    RecessionDirection direction{RationalVector{-after_gap.normal[1], after_gap.normal[0]}};
+    const double d[2] = {filter_image(direction.direction[0]), filter_image(direction.direction[1])};
+    for (std::size_t i = 0; i < m; ++i) {
+      std::optional<int> sign = filtered_affine_sign(images.row(i), d, 2, 0.0);
+      if (!sign) sign = sgn(cell.constraints[i].normal[0] * direction.direction[0] +
+                            cell.constraints[i].normal[1] * direction.direction[1]);
+      if (*sign < 0) return std::nullopt;
+    }
+    return BoundednessVerdict{std::move(direction)};
+  }
+  // Every gap < pi: walk round greedily, each step to the last normal within pi.
+  std::array<std::size_t, 3> chosen{};
+  std::size_t at = 0;
+  chosen[0] = 0;
+  for (std::size_t step = 1; step < 3; ++step) {
+    std::size_t next = at;
+    while (next + 1 < m && angles[next + 1].first - angles[at].first < pi - 1e-9) ++next;
+    if (next == at) return std::nullopt;
+    chosen[step] = at = next;
+  }
+  if (angles[chosen[0]].first + 2 * pi - angles[chosen[2]].first >= pi - 1e-9) return std::nullopt;
+  std::array<std::size_t, 3> rows{angles[chosen[0]].second, angles[chosen[1]].second, angles[chosen[2]].second};
+  const auto det = [&](std::size_t p, std::size_t q) {
+    const RationalVector& a = cell.constraints[p].normal;
+    const RationalVector& b = cell.constraints[q].normal;
+    return Rational(a[0] * b[1] - a[1] * b[0]);
+  };
+  // y_1 a_1 + y_2 a_2 + y_3 a_3 = 0 for y = (det(a2,a3), det(a3,a1), det(a1,a2)) (Cramer).
+  BoundednessCertificate certificate{RationalVector(m)};
+  std::array<Rational, 3> y{det(rows[1], rows[2]), det(rows[2], rows[0]), det(rows[0], rows[1])};
+  for (std::size_t k = 0; k < 3; ++k) {
+    if (sgn(y[k]) <= 0) return std::nullopt;  // counter-clockwise order: all > 0
+    certificate.multipliers[rows[k]] = std::move(y[k]);
+  }
+  return BoundednessVerdict{std::move(certificate)};
 }
 
 // Recession direction from LP3's optimal basis: the active rows (a_i . d = 0)
@@ -915,19 +1077,29 @@ namespace {
 // can fail an internal assertion (and abort the process) on a basis with
 // repeated rows, so the double filters only ever see representatives, and
 // certificates are mapped back (duplicates get multiplier 0).
+// Without duplicates (the usual case) nothing is copied: cell() is the
+// caller's polyhedron, which must outlive this value.
 struct Representatives {
-  Polyhedron cell;
+  const Polyhedron* original = nullptr;
+  Polyhedron distinct;  // the representatives, built only when there are duplicates
   std::vector<std::vector<std::size_t>> classes;  // original indices, ascending; front is the representative
   bool has_duplicates = false;
+  DoubleRows rows;  // the double image of cell()
+  const Polyhedron& cell() const { return has_duplicates ? distinct : *original; }
 };
 
 Representatives reduce_to_representatives(const Polyhedron& cell) {
   Representatives reduced;
-  reduced.cell.dim = cell.dim;
+  reduced.original = &cell;
+  reduced.rows = detail::to_double_rows(cell);
   if (cell.constraints.empty()) return reduced;
-  reduced.classes = group_positive_multiples(cell, detail::to_double_rows(cell));
+  reduced.classes = group_positive_multiples(cell, reduced.rows);
   reduced.has_duplicates = reduced.classes.size() < cell.constraints.size();
-  for (const auto& members : reduced.classes) reduced.cell.constraints.push_back(cell.constraints[members.front()]);
+  if (reduced.has_duplicates) {
+    reduced.distinct.dim = cell.dim;
+    for (const auto& members : reduced.classes) reduced.distinct.constraints.push_back(cell.constraints[members.front()]);
+    reduced.rows = detail::to_double_rows(reduced.distinct);
+  }
   return reduced;
 }
 
@@ -954,48 +1126,63 @@ CellVerdict Oracle::find_centre(const Polyhedron& cell, const Rational& radius_c
   detail::require_well_formed(cell, "find_centre");
   if (sgn(radius_cap) <= 0) throw usage_error("find_centre: radius_cap must be > 0");
   const Representatives reduced = reduce_to_representatives(cell);
-  if (!reduced.has_duplicates)
-    return decide_open_cell_counted(cell, radius_cap, state_->tolerances, state_->counts);
-  return expand(decide_open_cell_counted(reduced.cell, radius_cap, state_->tolerances, state_->counts),
-                reduced, cell.constraints.size());
+  CellVerdict verdict =
+      decide_open_cell_counted(reduced.cell(), reduced.rows, radius_cap, state_->tolerances, state_->counts);
+  if (!reduced.has_duplicates) return verdict;
+  return expand(std::move(verdict), reduced, cell.constraints.size());
 }
 
-FacetClassification Oracle::classify_facets(const Polyhedron& cell, const InteriorPoint& interior) {
+FacetClassification Oracle::classify_facets(const Polyhedron& cell, const InteriorPoint& interior,
+                                            bool keep_non_facet_certificates) {
   detail::require_well_formed(cell, "classify_facets");
-  if (!check_interior_point(cell, interior))
+  if (interior.point.size() != cell.dim)
     throw usage_error("classify_facets: the given point is not strictly inside the cell");
   FacetClassification classification;
   if (cell.constraints.empty()) return classification;
   // The filter and the exact path work on one representative per class of
   // positive multiples (see reduce_to_representatives); each verdict is then
   // stated for the whole class.
-  const Representatives reduced = reduce_to_representatives(cell);
-  const DoubleRows rows = detail::to_double_rows(reduced.cell);
+  const Representatives representatives = reduce_to_representatives(cell);
+  const Polyhedron& distinct = representatives.cell();
+  const DoubleRows& rows = representatives.rows;
   const bool use_filter = rows.is_finite && !state_->tolerances.exact_only;
+  // The precondition, checked exactly (filtered signs unless exact only).
+  std::optional<CellImages> images;
+  if (use_filter) images.emplace(distinct);
+  if (!(images ? is_interior_filtered(distinct, *images, interior.point) : check_interior_point(cell, interior)))
+    throw usage_error("classify_facets: the given point is not strictly inside the cell");
   // In the plane the clipped polygon proposes every verdict at once; the LP
   // filter (built only when needed) takes what the polygon's proposals leave.
   std::vector<PolygonProposal> proposals;
   if (use_filter && cell.dim == 2) proposals = polygon_proposals(rows, interior.point);
   std::optional<FacetFilter> filter;
+  const Representatives& reduced = representatives;
   classification.groups.reserve(reduced.classes.size());
   for (std::size_t r = 0; r < reduced.classes.size(); ++r) {
     poll_stop();
     ++state_->counts.lp_queries;
     const std::vector<std::size_t> single{r};
     std::optional<FacetVerdict> verdict;
-    if (!proposals.empty()) verdict = certify_polygon_proposal(reduced.cell, r, proposals[r]);
+    if (!proposals.empty())
+      verdict = certify_polygon_proposal(distinct, images ? &*images : nullptr, r, proposals[r],
+                                         keep_non_facet_certificates);
     if (!verdict && use_filter) {
-      if (!filter) filter.emplace(reduced.cell, rows, interior.point, state_->tolerances.positive_slack);
+      if (!filter) filter.emplace(distinct, rows, interior.point, state_->tolerances.positive_slack);
       verdict = filter->classify(single);
     }
     if (verdict) {
       ++state_->counts.filter_settled;
     } else {
       ++state_->counts.exact_fallbacks;
-      verdict = classify_group_exactly(reduced.cell, single);
+      verdict = classify_group_exactly(distinct, single);
     }
-    if (auto* proof = std::get_if<NonFacetCertificate>(&*verdict); proof && reduced.has_duplicates)
-      proof->multipliers = expand_multipliers(proof->multipliers, reduced, cell.constraints.size());
+    if (auto* proof = std::get_if<NonFacetCertificate>(&*verdict)) {
+      if (!keep_non_facet_certificates) {
+        proof->multipliers.clear();
+      } else if (reduced.has_duplicates) {
+        proof->multipliers = expand_multipliers(proof->multipliers, reduced, cell.constraints.size());
+      }
+    }
     classification.groups.push_back(FacetGroup{reduced.classes[r], std::move(*verdict)});
   }
   return classification;
@@ -1003,15 +1190,23 @@ FacetClassification Oracle::classify_facets(const Polyhedron& cell, const Interi
 
 BoundednessVerdict Oracle::decide_boundedness(const Polyhedron& cell) {
   detail::require_well_formed(cell, "decide_boundedness");
+  if (cell.dim == 2 && !state_->tolerances.exact_only) {
+    // No LP in the plane: the normals' angles propose, filtered signs prove.
+    if (std::optional<BoundednessVerdict> verdict = decide_boundedness_in_plane(cell)) {
+      ++state_->counts.lp_queries;
+      ++state_->counts.filter_settled;
+      return std::move(*verdict);
+    }
+  }
   const Representatives reduced = reduce_to_representatives(cell);
-  if (!reduced.has_duplicates) return decide_boundedness_of_distinct_rows(cell);
-  BoundednessVerdict verdict = decide_boundedness_of_distinct_rows(reduced.cell);
+  if (!reduced.has_duplicates) return decide_boundedness_of_distinct_rows(cell, reduced.rows);
+  BoundednessVerdict verdict = decide_boundedness_of_distinct_rows(reduced.cell(), reduced.rows);
   if (auto* bounded = std::get_if<BoundednessCertificate>(&verdict))
     bounded->multipliers = expand_multipliers(bounded->multipliers, reduced, cell.constraints.size());
   return verdict;
 }
 
-BoundednessVerdict Oracle::decide_boundedness_of_distinct_rows(const Polyhedron& cell) {
+BoundednessVerdict Oracle::decide_boundedness_of_distinct_rows(const Polyhedron& cell, const DoubleRows& rows) {
   ++state_->counts.lp_queries;
   if (cell.dim == 0) {
     ++state_->counts.filter_settled;
@@ -1024,7 +1219,6 @@ BoundednessVerdict Oracle::decide_boundedness_of_distinct_rows(const Polyhedron&
     return RecessionDirection{std::move(direction)};
   }
   if (!state_->tolerances.exact_only) {
-    const DoubleRows rows = detail::to_double_rows(cell);
     if (std::optional<BoundednessVerdict> verdict =
             decide_boundedness_filtered(cell, rows, state_->tolerances.positive_slack)) {
       ++state_->counts.filter_settled;

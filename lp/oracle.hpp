@@ -16,6 +16,9 @@
 #include <memory>
 
 namespace pleat::lp {
+namespace detail {
+struct DoubleRows;
+}
 
 // Working tolerances of the double filter only. They never decide anything:
 // a proposal made with them is checked exactly.
@@ -61,7 +64,12 @@ class Oracle {
   // Query 2: every group of constraints classified as a facet of the closed
   // cell (with a relative-interior point) or not (with a Motzkin certificate).
   // Precondition: interior is an InteriorPoint of cell (checked; usage_error).
-  FacetClassification classify_facets(const Polyhedron& cell, const InteriorPoint& interior);
+  // With keep_non_facet_certificates false, a non-facet verdict is still
+  // proved exactly (filtered signs, exact where they cannot decide) but its
+  // NonFacetCertificate is left with empty multipliers: for callers that only
+  // need to know which groups are facets (the walk without certificates).
+  FacetClassification classify_facets(const Polyhedron& cell, const InteriorPoint& interior,
+                                      bool keep_non_facet_certificates = true);
 
   // Query 3: is the closed cell bounded? Precondition: the open cell is
   // non-empty. Exact verdict.
@@ -70,7 +78,7 @@ class Oracle {
   const QueryCounts& counts() const;
 
  private:
-  BoundednessVerdict decide_boundedness_of_distinct_rows(const Polyhedron& cell);
+  BoundednessVerdict decide_boundedness_of_distinct_rows(const Polyhedron& cell, const detail::DoubleRows& rows);
   struct State;
   std::unique_ptr<State> state_;
 };

@@ -69,15 +69,49 @@ Rational weighted_offset_sum(const Polyhedron& cell, const RationalVector& weigh
 Rational simplest_between(const Rational& low, const Rational& high) {
   if (sgn(low) <= 0 && sgn(high) >= 0) return Rational(0);
   if (sgn(high) < 0) return -simplest_between(-high, -low);
-  // 0 < low <= high: continued-fraction descent (Stern-Brocot).
-  Integer floor_low;
-  mpz_fdiv_q(floor_low.get_mpz_t(), low.get_num_mpz_t(), low.get_den_mpz_t());
-  if (Rational(floor_low) == low) return low;
-  if (Rational(floor_low + 1) <= high) return Rational(floor_low + 1);
-  // Both in (floor_low, floor_low + 1): recurse on the reciprocals of the fractional parts.
-  const Rational inner = simplest_between(1 / (high - floor_low), 1 / (low - floor_low));
-  Rational result = Rational(floor_low) + 1 / inner;
-  result.canonicalize();
+  // 0 < low <= high: continued-fraction descent (Stern-Brocot). With
+  // a = floor(low): low itself when it is an integer, else a + 1 when that is
+  // <= high, else a + 1 / simplest_between(1 / (high - a), 1 / (low - a)).
+  // Done in integers: low = p/q, high = r/s are replaced by their reciprocal
+  // fractional parts (Euclid's remainders, no gcd), and the answer is the
+  // continued fraction of the terms taken, whose convergent h/k is in lowest
+  // terms.
+  Integer p = low.get_num(), q = low.get_den(), r = high.get_num(), s = high.get_den();
+  Integer h = 1, k = 0, h_before = 0, k_before = 1;  // convergents of the terms so far
+  Integer a, remainder, next;
+  const auto take = [&](const Integer& term) {
+    next = term * h + h_before;
+    h_before = std::move(h);
+    h = std::move(next);
+    next = term * k + k_before;
+    k_before = std::move(k);
+    k = std::move(next);
+  };
+  for (;;) {
+    mpz_fdiv_qr(a.get_mpz_t(), remainder.get_mpz_t(), p.get_mpz_t(), q.get_mpz_t());
+    if (sgn(remainder) == 0) {  // low is the integer a
+      take(a);
+      break;
+    }
+    a += 1;
+    if (a * s <= r) {  // a + 1 <= high
+      take(a);
+      break;
+    }
+    a -= 1;
+    take(a);
+    // low' = 1 / (high - a) = s / (r - a s), high' = 1 / (low - a) = q / remainder.
+    next = r - a * s;
+    r = std::move(q);
+    q = std::move(next);
+    p = std::move(s);
+    s = std::move(remainder);
+    remainder = 0;
+  }
+  Rational result;
+  mpq_set_num(result.get_mpq_t(), h.get_mpz_t());
+  mpq_set_den(result.get_mpq_t(), k.get_mpz_t());
+  result.canonicalize();  // already in lowest terms; cheap insurance
   return result;
 }
 

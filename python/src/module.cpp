@@ -246,6 +246,7 @@ py::dict certify(const Network& network, const py::object& domain_spec, unsigned
         options.walk.interrupt = &interrupt;
         // Counting the regions the points miss needs every region.
         options.stop_at_scaling_bound = !full_walk && !point_texts;
+        options.keep_kernel = true;  // the result dict carries the exact kernel
         return certify_functional_dimension(network, domain, options);
       },
       interrupt);

@@ -9,6 +9,9 @@ echo "== lp queries (tests/bench/lp_bench.cpp) =="
 echo
 echo "== walk, certify and sample (tests/bench/walk_bench.py) =="
 /usr/bin/python3 "$here/walk_bench.py" "$build/cli/pleat"
+echo
+echo "== certify against the numpy float estimate (tests/bench/certify_vs_estimate.py) =="
+/usr/bin/python3 "$here/certify_vs_estimate.py" "$build/cli/pleat"
 for extra in "$here"/*_bench.sh; do
   [ -e "$extra" ] || continue
   echo; echo "== $(basename "$extra") =="

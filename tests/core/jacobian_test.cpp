@@ -337,6 +337,84 @@ TEST(ScalingDirections, HandWorkedSmallNetwork) {
   EXPECT_EQ(scaling_bound(network), 3u);
 }
 
+// scaling_structure reads the rank and pivots off the zero pattern; here it
+// is compared with exact elimination on the dense directions, on networks
+// with many zero parameters (so that components without the ground vertex,
+// zero columns and cycles all occur): the rank against rank_exact, the pivot
+// columns against those of the reduced row-echelon form, the independent
+// neurons against a greedy exact choice in row order.
+TEST(ScalingStructure, MatchesExactEliminationOnSparseNetworks) {
+  std::mt19937_64 random(31);
+  std::size_t short_of_full_rank = 0;
+  for (int trial = 0; trial < 60; ++trial) {
+    const std::vector<std::vector<std::size_t>> architectures = {
+        {2, 3, 1}, {1, 3, 3, 1}, {2, 2, 2, 2, 2}, {3, 4, 2, 2}, {2, 3, 3, 1}};
+    Network network = random_small_network(architectures[trial % 5], trial % 3 == 0, 1300 + trial);
+    std::bernoulli_distribution is_zeroed(trial < 30 ? 0.5 : 0.7);
+    for (Layer& layer : network.layers) {
+      for (std::size_t r = 0; r < layer.weights.rows(); ++r)
+        for (std::size_t c = 0; c < layer.weights.cols(); ++c)
+          if (is_zeroed(random)) layer.weights(r, c) = 0;
+      for (Rational& b : layer.bias)
+        if (is_zeroed(random)) b = 0;
+    }
+    const RationalMatrix directions = scaling_directions(network);
+    const ScalingStructure structure = scaling_structure(network);
+    const std::size_t rank = rank_exact(directions);
+    ASSERT_EQ(structure.rank, rank) << "trial " << trial;
+    EXPECT_EQ(scaling_bound(network), network.parametric_dimension() - rank);
+    short_of_full_rank += rank < network.hidden_neuron_count();
+
+    const RationalMatrix echelon = row_space_basis_exact(directions);
+    std::vector<std::size_t> pivots;
+    for (std::size_t r = 0; r < echelon.rows(); ++r) {
+      std::size_t c = 0;
+      while (echelon(r, c) == 0) ++c;
+      pivots.push_back(c);
+    }
+    EXPECT_EQ(structure.pivot_columns, pivots) << "trial " << trial;
+
+    std::vector<std::size_t> greedy;
+    for (std::size_t n = 0; n < directions.rows(); ++n) {
+      std::vector<std::size_t> candidate = greedy;
+      candidate.push_back(n);
+      if (rank_exact(scaling_directions(network, candidate)) == candidate.size()) greedy = candidate;
+    }
+    EXPECT_EQ(structure.independent_neurons, greedy) << "trial " << trial;
+
+    // The block the header calls nonsingular.
+    const RationalMatrix rows = scaling_directions(network, structure.independent_neurons);
+    RationalMatrix block(rows.rows(), structure.pivot_columns.size());
+    for (std::size_t r = 0; r < rows.rows(); ++r)
+      for (std::size_t c = 0; c < structure.pivot_columns.size(); ++c) block(r, c) = rows(r, structure.pivot_columns[c]);
+    EXPECT_EQ(rank_exact(block), structure.rank) << "trial " << trial;
+  }
+  EXPECT_GT(short_of_full_rank, 10u);  // the sparse draws do reach the degenerate cases
+}
+
+// A chain of hidden neurons joined only to each other (no biases, no input
+// or output weights on them) is one component without the ground vertex:
+// its directions satisfy one relation, their sum (each weight appears with
+// + in one direction and - in the next). Worked by hand.
+TEST(ScalingStructure, FloatingChainLosesOneRank) {
+  Network network;
+  network.input_dim = 1;
+  for (int k = 0; k < 4; ++k) {
+    Layer layer;
+    layer.weights = RationalMatrix(1, 1);
+    layer.weights(0, 0) = k == 0 || k == 3 ? 0 : k + 1;
+    layer.bias = {0};
+    layer.activation = k == 3 ? Activation::linear : Activation::relu;
+    network.layers.push_back(std::move(layer));
+  }
+  const ScalingStructure structure = scaling_structure(network);
+  EXPECT_EQ(structure.rank, 2u);  // 3 hidden neurons, one relation
+  EXPECT_EQ(structure.independent_neurons, (std::vector<std::size_t>{0, 1}));
+  EXPECT_EQ(structure.pivot_columns, (std::vector<std::size_t>{2, 4}));  // W2[0,0], W3[0,0]
+  EXPECT_EQ(scaling_bound(network), network.parametric_dimension() - 2);
+  EXPECT_THROW(scaling_directions(network, {3}), usage_error);
+}
+
 // One input, m hidden neurons, one linear output, generic: the union of the
 // blocks of all m + 1 regions has rank 2m + 1. Derivation: F is continuous
 // piecewise linear with m breakpoints; a function of that form is fixed by

@@ -3,6 +3,7 @@
 // coefficient blocks of every region, exact Jacobians at interior points).
 #include "enumerate/functional_dimension.hpp"
 
+#include "core/evaluate.hpp"
 #include "core/jacobian.hpp"
 #include "core/network_io.hpp"
 #include "core/random_network.hpp"
@@ -12,6 +13,7 @@
 
 #include <atomic>
 #include <chrono>
+#include <filesystem>
 #include <map>
 #include <set>
 #include <thread>
@@ -63,6 +65,7 @@ FunctionalDimensionResult certify(const Network& network, const Domain& domain, 
   options.walk.threads = 1;
   options.stop_at_scaling_bound = stop_at_scaling_bound;
   options.keep_rows = keep_rows;
+  options.keep_kernel = true;
   return certify_functional_dimension(network, domain, options);
 }
 
@@ -410,6 +413,7 @@ TEST(FunctionalDimension, RunCutShortNeverSaysCertified) {
       FunctionalDimensionOptions options;
       options.walk.threads = 1;
       options.stop_at_scaling_bound = stop_at_bound;
+      options.points_first = false;  // the walk's own limits are under test here
       options.walk.max_regions = 1;
       const FunctionalDimensionResult one = certify_functional_dimension(network, domain, options);
       expect_uncertified_but_ordered(one);
@@ -528,6 +532,7 @@ TEST(FunctionalDimension, SameResultForAnyThreadCount) {
     one.walk.threads = 1;
     two.walk.threads = 2;
     one.stop_at_scaling_bound = two.stop_at_scaling_bound = false;
+    one.keep_kernel = two.keep_kernel = true;
     const auto a = certify_functional_dimension(network, make_whole_space(network.input_dim), one);
     const auto b = certify_functional_dimension(network, make_whole_space(network.input_dim), two);
     EXPECT_EQ(a.functional_dimension, b.functional_dimension);
@@ -587,6 +592,129 @@ TEST(FunctionalDimension, TimeLimitDuringTheCheckGivesBoundsOnly) {
   EXPECT_EQ(result.stop_reason, StopReason::time_limit);
   EXPECT_LE(result.lower_bound, 17u);
   EXPECT_GE(result.upper_bound, 17u);
+}
+
+
+// ---- Certified from points, without a walk -----------------------------------
+
+FunctionalDimensionResult certify_with(const Network& network, const Domain& domain, bool points_first,
+                                       bool stop_at_scaling_bound, unsigned threads = 1) {
+  FunctionalDimensionOptions options;
+  options.walk.threads = threads;
+  options.points_first = points_first;
+  options.stop_at_scaling_bound = stop_at_scaling_bound;
+  return certify_functional_dimension(network, domain, options);
+}
+
+// The witnesses are the evidence: each lies strictly inside the domain and on
+// no bent hyperplane, and the exact rank of their regions' rows (recomputed
+// here with exact elimination, not the modular rank certify used) is the value.
+void expect_witnesses_prove(const Network& network, const Domain& domain, const FunctionalDimensionResult& result) {
+  std::vector<RationalMatrix> blocks;
+  for (const RationalVector& point : result.witness_points) {
+    for (const auto& side : domain.constraints) {
+      Rational value = side.offset;
+      for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
+      EXPECT_GT(value, 0) << "a witness outside the domain";
+    }
+    const ActivationPattern pattern = pattern_around_point(network, point);
+    for (NeuronState state : pattern.states) ASSERT_NE(state, NeuronState::zero_at_point);
+    ASSERT_TRUE(nonsmooth_neurons(network, pattern).empty());
+    blocks.push_back(coefficient_blocks(network, pattern));
+  }
+  EXPECT_EQ(rank_exact(stack(blocks, network.parametric_dimension())), *result.functional_dimension);
+}
+
+// The no-walk path and the full walk give the same value on every network in
+// tests/data and data/ (those at the scaling bound certified from points, the
+// others by the walk after the points stall), on R^n and on a box.
+TEST(CertifyFromPoints, SameValueAsTheFullWalkOnEveryDataNetwork) {
+  std::size_t by_points = 0, networks = 0;
+  for (const char* folder : {PLEAT_SOURCE_DIR "/tests/data", PLEAT_SOURCE_DIR "/data"}) {
+    for (const auto& entry : std::filesystem::directory_iterator(folder)) {
+      if (entry.path().extension() != ".json") continue;
+      const Network network = read_network_file(entry.path().string());
+      for (const Domain& domain : {make_whole_space(network.input_dim),
+                                   make_box(RationalVector(network.input_dim, Rational(-2)),
+                                            RationalVector(network.input_dim, Rational(3)))}) {
+        const auto fast = certify_with(network, domain, true, true);
+        const auto full = certify_with(network, domain, false, false);
+        ASSERT_TRUE(full.certified) << entry.path();
+        ASSERT_TRUE(fast.certified) << entry.path();
+        EXPECT_EQ(fast.functional_dimension, full.functional_dimension) << entry.path() << " " << domain.describe();
+        if (fast.certified_by_points) {
+          ++by_points;
+          EXPECT_EQ(fast.regions_walked, 0u);
+          EXPECT_EQ(*fast.functional_dimension, fast.scaling_bound);
+          expect_witnesses_prove(network, domain, fast);
+        }
+        ++networks;
+      }
+    }
+  }
+  EXPECT_GT(networks, 30u);
+  EXPECT_GT(by_points, 5u);  // the path is really taken
+}
+
+TEST(CertifyFromPoints, SameValueAsTheFullWalkOn50RandomSmallNetworks) {
+  const std::vector<std::vector<std::size_t>> architectures = {{2, 3, 1}, {2, 4, 1}, {1, 3, 3, 1}, {2, 3, 2, 1}, {3, 3, 1}};
+  std::size_t by_points = 0, below_bound = 0;
+  for (std::uint64_t seed = 1; seed <= 50; ++seed) {
+    const Network network = random_network(architectures[seed % architectures.size()], 500 + seed);
+    const Domain domain = make_whole_space(network.input_dim);
+    const auto fast = certify_with(network, domain, true, true);
+    const auto full = certify_with(network, domain, false, false);
+    ASSERT_TRUE(fast.certified && full.certified) << "seed " << seed;
+    EXPECT_EQ(fast.functional_dimension, full.functional_dimension) << "seed " << seed;
+    by_points += fast.certified_by_points;
+    below_bound += *full.functional_dimension < full.scaling_bound;
+    if (fast.certified_by_points) expect_witnesses_prove(network, domain, fast);
+  }
+  EXPECT_GT(by_points, 10u);
+  EXPECT_GT(below_bound, 0u);  // the fallback to the walk is exercised too
+}
+
+// Below the scaling bound (17 < 24, derived above) the points stall and the
+// walk certifies the value; the rows the points found are kept.
+TEST(CertifyFromPoints, FallsBackToTheWalkBelowTheScalingBound) {
+  const Network network = read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json");
+  const auto result = certify_with(network, make_whole_space(2), true, true);
+  ASSERT_TRUE(result.certified);
+  EXPECT_FALSE(result.certified_by_points);
+  EXPECT_EQ(*result.functional_dimension, 17u);
+  EXPECT_GT(result.points_drawn, 0u);
+  EXPECT_TRUE(result.walk_complete);
+}
+
+TEST(CertifyFromPoints, SameResultForAnyThreadCount) {
+  for (const Network& network : {random_network({2, 5, 5, 1}, 21), random_network({3, 4, 4, 1}, 22),
+                                 random_network({2, 6, 1}, 23)}) {
+    const Domain domain = make_whole_space(network.input_dim);
+    const auto one = certify_with(network, domain, true, true, 1);
+    const auto two = certify_with(network, domain, true, true, 2);
+    EXPECT_EQ(one.functional_dimension, two.functional_dimension);
+    EXPECT_EQ(one.certified_by_points, two.certified_by_points);
+    EXPECT_EQ(one.points_drawn, two.points_drawn);
+    EXPECT_EQ(one.witness_points, two.witness_points);
+    EXPECT_EQ(one.lower_bound, two.lower_bound);
+  }
+}
+
+// A stop request before the points reach the bound gives bounds, no walk.
+TEST(CertifyFromPoints, InterruptDuringThePointsGivesBoundsOnly) {
+  const Network network = random_network({2, 6, 6, 1}, 24);
+  std::atomic<bool> interrupt{false};
+  FunctionalDimensionOptions options;
+  options.walk.threads = 1;
+  options.walk.interrupt = &interrupt;
+  options.on_phase = [&](const CertifyProgress& progress) {
+    if (std::string(progress.phase) == "points") interrupt = true;
+  };
+  const auto result = certify_functional_dimension(network, make_whole_space(2), options);
+  EXPECT_FALSE(result.certified);
+  EXPECT_EQ(result.stop_reason, StopReason::interrupted);
+  EXPECT_EQ(result.regions_walked, 0u);
+  EXPECT_LE(result.lower_bound, result.upper_bound);
 }
 
 }  // namespace
