@@ -1,4 +1,5 @@
 #include "core/rank.hpp"
+#include "core/stop.hpp"
 #include "core/thread_caches.hpp"
 
 #include <gmp.h>
@@ -493,6 +494,7 @@ ModularMatrix kernel_basis_modulo(const ModularMatrix& matrix, std::uint64_t pri
   ModularMatrix kernel(cols - rank, cols);
   std::size_t row = 0;
   for (std::size_t f = 0; f < cols; ++f) {  // original order: leading columns increase
+    poll_stop();  // thousands of dense rows when the kernel is large
     const std::size_t reversed = cols - 1 - f;
     if (is_pivot[reversed]) continue;
     kernel(row, f) = 1;
@@ -505,6 +507,17 @@ ModularMatrix kernel_basis_modulo(const ModularMatrix& matrix, std::uint64_t pri
   }
   return kernel;
 }
+
+namespace {
+
+// The current thread's stop request when one is installed and asks to stop
+// (FLINT temporaries are cleared before Stopped is thrown).
+const StopRequest* requested_stop() {
+  const StopRequest* request = current_stop_request();
+  return request != nullptr && request->is_requested() ? request : nullptr;
+}
+
+}  // namespace
 
 struct RationalReconstruction::State {
   std::vector<fmpz> residues;  // row-major, each the CRT value in [0, modulus)
@@ -534,7 +547,11 @@ void RationalReconstruction::add_image(const ModularMatrix& image, std::uint64_t
   } else {
     fmpz_t combined;
     fmpz_init(combined);
-    for (std::size_t r = 0; r < rows_; ++r)
+    for (std::size_t r = 0; r < rows_; ++r) {
+      if (const StopRequest* stop = requested_stop()) {
+        fmpz_clear(combined);
+        throw Stopped(stop->reason());
+      }
       for (std::size_t c = 0; c < cols_; ++c) {
         fmpz* value = &state_->residues[r * cols_ + c];
         // Zero modulo everything so far and modulo this prime: stays zero.
@@ -542,6 +559,7 @@ void RationalReconstruction::add_image(const ModularMatrix& image, std::uint64_t
         fmpz_CRT_ui(combined, value, state_->modulus, image(r, c), prime, 0);
         fmpz_swap(value, combined);
       }
+    }
     fmpz_clear(combined);
   }
   fmpz_mul_ui(state_->modulus, state_->modulus, prime);
@@ -555,6 +573,10 @@ std::optional<RationalMatrix> RationalReconstruction::reconstruct() const {
   fmpq_init(value);
   bool ok = true;
   for (std::size_t i = 0; i < rows_ * cols_ && ok; ++i) {
+    if (const StopRequest* stop = i % cols_ == 0 ? requested_stop() : nullptr) {
+      fmpq_clear(value);
+      throw Stopped(stop->reason());
+    }
     const fmpz* residue = &state_->residues[i];
     if (fmpz_is_zero(residue)) continue;
     ok = fmpq_reconstruct_fmpz(value, residue, state_->modulus) != 0;

@@ -742,7 +742,15 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   if (result.early_stop) {
     result.certified = true;
   } else if (result.walk.certified && !stop_now()) {
-    prove_by_extra_directions();
+    // The kernel's elimination, read-off and lifting poll the request too
+    // (core/rank.cpp): a stop there leaves the bounds proved above.
+    try {
+      const StopScope scope(stop);
+      prove_by_extra_directions();
+    } catch (const Stopped& stopped_here) {
+      result.stop_reason = stopped_here.reason();
+      stopped = true;
+    }
   } else {
     // A walk cut short or with an anomaly: the two proved bounds only.
     result.certified = result.lower_bound == result.upper_bound && result.stop_reason == StopReason::none;
