@@ -169,7 +169,10 @@ int run_sample(const SampleArguments& arguments) {
     if (!arguments.points_path.empty()) {
       std::string text;  // the points exactly (every double is a dyadic rational)
       for (const RationalVector& point : points) {
-        for (std::size_t c = 0; c < point.size(); ++c) text += (c ? "," : "") + format_rational(point[c]);
+        for (std::size_t c = 0; c < point.size(); ++c) {
+          if (c) text += ',';  // appended, not "," + string: GCC 12 warns falsely (-Wrestrict) on that
+          text += format_rational(point[c]);
+        }
         text += "\n";
       }
       write_output(arguments.points_path, text);
