@@ -29,16 +29,6 @@ layers.append({"weights": [["1", "1"]], "bias": ["0"], "activation": "linear"})
 json.dump({"format": "pleat-network/1", "input_dim": 2, "layers": layers}, open(sys.argv[1], "w"))
 PY
 
-within() {  # within SECONDS command...: runs it, fails when it takes longer
-  local limit=$1
-  shift
-  local start=$SECONDS
-  timeout -s KILL 300 "$@"
-  local status=$?
-  local took=$((SECONDS - start))
-  [ $took -le "$limit" ] || fail "$* took $took s (limit $limit s)"
-  return $status
-}
 
 within 60 "$pleat" certify "$deep" --time-limit 1 --threads 1 --json -q > "$work/limit.json"
 status=$?
