@@ -5,6 +5,7 @@
 // doubles.
 #include "cli/command.hpp"
 #include "cli/common.hpp"
+#include "cli/domain_options.hpp"
 #include "cli/figure.hpp"
 #include "cli/figure_region_file.hpp"
 #include "cli/progress.hpp"
@@ -32,6 +33,7 @@ struct DrawArguments {
   std::string view_text;
   std::string colour_by = "region";
   std::string from_path;
+  DomainOptions domain;
   bool labels = false;
   bool no_lines = false;
   bool no_stats = false;
@@ -58,10 +60,34 @@ struct View {
   RationalVector lower, upper;
 };
 
+// What is drawn: the regions, the view, whether the cells are clipped by the
+// domain's sides too (a saved walk, --domain), and how many regions the
+// domain has in all when known (so the figure can say how many lie outside).
+struct Scene {
+  View view;
+  std::vector<Region> regions;
+  bool with_domain_sides = false;
+  std::optional<std::size_t> total_regions;
+};
+
+// "3 regions outside the view" (nothing when none or not known).
+std::vector<std::string> outside_note(const Scene& scene, std::size_t drawn) {
+  if (!scene.total_regions || *scene.total_regions <= drawn) return {};
+  return {count_of(*scene.total_regions - drawn, "region") + " outside the view"};
+}
+
 std::string describe_view(const View& view) {
   std::string text;
   for (std::size_t i = 0; i < view.lower.size(); ++i)
     text += (i ? "x" : "") + std::string("[") + format_rational(view.lower[i]) + "," + format_rational(view.upper[i]) + "]";
+  return text;
+}
+
+// "XMIN,XMAX,YMIN,YMAX" for --view.
+std::string view_option_text(const View& view) {
+  std::string text;
+  for (std::size_t i = 0; i < view.lower.size(); ++i)
+    text += (i ? "," : "") + format_rational(view.lower[i]) + "," + format_rational(view.upper[i]);
   return text;
 }
 
@@ -93,29 +119,23 @@ lp::Polyhedron closed_cell(const Region& region, bool with_domain_sides) {
   return cell;
 }
 
-// A view holding every vertex of the regions (all breakpoints for one input)
-// with a margin, rounded outwards to a tick step.
-View fitted_view(const std::vector<Region>& regions, std::size_t dim) {
-  std::vector<double> low(dim, std::numeric_limits<double>::infinity()), high(dim, -low[0]);
-  auto include = [&](const RationalVector& p) {
-    for (std::size_t i = 0; i < dim; ++i) {
-      low[i] = std::min(low[i], to_double(p[i]));
-      high[i] = std::max(high[i], to_double(p[i]));
-    }
-  };
+// The distinct vertices of the arrangement: those of the pointed regions
+// (every breakpoint for one input).
+std::vector<RationalVector> arrangement_vertices(const std::vector<Region>& regions) {
+  std::set<RationalVector> vertices;
   for (const auto& region : regions) {
     poll_stop();
     const VertexRepresentation rep = vertex_representation(closed_cell(region, true), region.point);
     if (rep.lines.empty())  // pointed: its points are vertices of the arrangement
-      for (const auto& p : rep.points) include(p);
+      vertices.insert(rep.points.begin(), rep.points.end());
   }
-  if (!(low[0] <= high[0]))  // no vertex at all (parallel hyperplanes): points on the facets
-    for (const auto& region : regions)
-      for (const auto& facet : region.facets)
-        if (!facet.point.empty()) include(facet.point);
+  return {vertices.begin(), vertices.end()};
+}
+
+// [lo, hi] per axis with a margin, rounded outwards to a tick step.
+View rounded_view(const std::vector<double>& low, const std::vector<double>& high) {
   View view;
-  for (std::size_t i = 0; i < dim; ++i) {
-    if (!(low[i] <= high[i])) low[i] = high[i] = 0;
+  for (std::size_t i = 0; i < low.size(); ++i) {
     const double margin = std::max(0.2 * (high[i] - low[i]), 0.5);
     const double lo = low[i] - margin, hi = high[i] + margin;
     const std::vector<double> ticks = nice_ticks(lo, hi);
@@ -124,6 +144,63 @@ View fitted_view(const std::vector<Region>& regions, std::size_t dim) {
     view.upper.push_back(rational_from_double(std::ceil(hi / step) * step));
   }
   return view;
+}
+
+struct FittedView {
+  View view;
+  View every_vertex;     // around every vertex (the view when they are not spread out)
+  bool is_bulk = false;  // view is narrower than every_vertex
+  std::size_t vertices = 0, vertices_outside = 0;
+};
+
+// The shortest interval [values[k], values[k + count - 1]] of sorted values.
+std::pair<double, double> shortest_interval(const std::vector<double>& values, std::size_t count) {
+  std::size_t best = 0;
+  for (std::size_t k = 1; k + count <= values.size(); ++k)
+    if (values[k + count - 1] - values[k] < values[best + count - 1] - values[best]) best = k;
+  return {values[best], values[best + count - 1]};
+}
+
+// The default view. A trained network's hyperplanes meet mostly near the data
+// but a few nearly parallel ones meet hundreds of units away; a view around
+// every vertex then crushes the structure into a dot. Per axis the bulk is the
+// shortest interval holding half of the vertices' coordinates, widened by its
+// own length on each side (at least a third of the shortest interval holding
+// three quarters, so that coincident vertices do not shrink it to a point); where
+// every vertex fits within 1.5 times that, the axis holds them all, else the
+// bulk (and the caller says what lies outside).
+FittedView fitted_view(const std::vector<Region>& regions, std::size_t dim) {
+  std::vector<RationalVector> vertices = arrangement_vertices(regions);
+  if (vertices.empty())  // no vertex at all (parallel hyperplanes): points on the facets
+    for (const auto& region : regions)
+      for (const auto& facet : region.facets)
+        if (!facet.point.empty()) vertices.push_back(facet.point);
+  FittedView fitted;
+  fitted.vertices = vertices.size();
+  std::vector<double> low(dim, 0), high(dim, 0), bulk_low(dim, 0), bulk_high(dim, 0);
+  for (std::size_t i = 0; i < dim && !vertices.empty(); ++i) {
+    std::vector<double> values;
+    for (const auto& p : vertices) values.push_back(to_double(p[i]));
+    std::sort(values.begin(), values.end());
+    low[i] = values.front();
+    high[i] = values.back();
+    const auto [first, last] = shortest_interval(values, (values.size() + 1) / 2);
+    const auto [first_3, last_3] = shortest_interval(values, (3 * values.size() + 3) / 4);
+    const double length = std::max(last - first, (last_3 - first_3) / 3);
+    bulk_low[i] = std::max(low[i], first - length);
+    bulk_high[i] = std::min(high[i], last + length);
+    if (high[i] - low[i] > 1.5 * (bulk_high[i] - bulk_low[i])) fitted.is_bulk = true;
+    else bulk_low[i] = low[i], bulk_high[i] = high[i];
+  }
+  fitted.every_vertex = rounded_view(low, high);
+  fitted.view = fitted.is_bulk ? rounded_view(bulk_low, bulk_high) : fitted.every_vertex;
+  for (const auto& p : vertices)
+    for (std::size_t i = 0; i < dim; ++i)
+      if (p[i] < fitted.view.lower[i] || p[i] > fitted.view.upper[i]) {
+        ++fitted.vertices_outside;
+        break;
+      }
+  return fitted;
 }
 
 // Smallest-last greedy colouring: remove a vertex of least remaining degree
@@ -275,13 +352,14 @@ struct Drawn {
   std::size_t vertices = 0, edges = 0, regions = 0;
 };
 
-Drawn draw_plane(const Network& network, const std::vector<Region>& regions, const View& view, bool from_file,
-                 const DrawArguments& arguments, Format format) {
+Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments& arguments, Format format) {
+  const std::vector<Region>& regions = scene.regions;
+  const View& view = scene.view;
   std::vector<Polygon> polygons;
   std::vector<const Region*> drawn;
   for (const auto& region : regions) {
     poll_stop();
-    Polygon polygon = clip_rectangle(view.lower, view.upper, closed_cell(region, from_file).constraints);
+    Polygon polygon = clip_rectangle(view.lower, view.upper, closed_cell(region, scene.with_domain_sides).constraints);
     if (polygon.vertices.size() < 3) continue;
     polygons.push_back(std::move(polygon));
     drawn.push_back(&region);
@@ -366,15 +444,17 @@ Drawn draw_plane(const Network& network, const std::vector<Region>& regions, con
   }
   colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
   for (std::size_t i = 0; i < polygons.size(); ++i) figure.polygons[i].region = drawn[i]->id;
-  add_stats(figure, arguments,
-            {count_of(result.regions, "region") + ", " + count_of(result.edges, "edge") + ",",
-             count_of(result.vertices, "vertex", "vertices") + " in the view"});
+  std::vector<std::string> stats{count_of(result.regions, "region") + ", " + count_of(result.edges, "edge") + ",",
+                                 count_of(result.vertices, "vertex", "vertices") + " in the view"};
+  for (auto& note : outside_note(scene, result.regions)) stats.push_back(std::move(note));
+  add_stats(figure, arguments, stats);
   result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
   return result;
 }
 
-Drawn draw_line(const Network& network, const std::vector<Region>& regions, const View& view,
-                const DrawArguments& arguments, Format format) {
+Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments& arguments, Format format) {
+  const std::vector<Region>& regions = scene.regions;
+  const View& view = scene.view;
   struct Piece {
     const Region* region;
     Rational low, high;
@@ -457,8 +537,10 @@ Drawn draw_line(const Network& network, const std::vector<Region>& regions, cons
   }
   colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
   for (std::size_t i = 0; i < pieces.size(); ++i) figure.polygons[i].region = pieces[i].region->id;
-  add_stats(figure, arguments,
-            {count_of(pieces.size(), "region") + ", " + count_of(figure.breakpoints.size(), "breakpoint")});
+  std::vector<std::string> stats{count_of(pieces.size(), "region") + ", " +
+                                 count_of(figure.breakpoints.size(), "breakpoint")};
+  for (auto& note : outside_note(scene, pieces.size())) stats.push_back(std::move(note));
+  add_stats(figure, arguments, stats);
   result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
   return result;
 }
@@ -467,7 +549,9 @@ Drawn draw_line(const Network& network, const std::vector<Region>& regions, cons
 // surface in the OFF format (vertices from cddlib's exact enumeration, faces
 // ordered counter-clockwise seen from outside), one colour per region from a
 // greedy colouring of the walk's facet adjacency.
-Drawn draw_mesh(const Network& network, const std::vector<Region>& regions, const View& view, bool from_file) {
+Drawn draw_mesh(const Network& network, const Scene& scene) {
+  const std::vector<Region>& regions = scene.regions;
+  const View& view = scene.view;
   std::map<RationalVector, std::size_t> vertex_index;
   std::vector<RationalVector> vertices;
   struct Face {
@@ -487,7 +571,7 @@ Drawn draw_mesh(const Network& network, const std::vector<Region>& regions, cons
         adjacent[r].insert(index_of[*facet.neighbor]);
         adjacent[index_of[*facet.neighbor]].insert(r);
       }
-    lp::Polyhedron cell = closed_cell(region, from_file);
+    lp::Polyhedron cell = closed_cell(region, scene.with_domain_sides);
     for (std::size_t axis = 0; axis < 3; ++axis) {
       RationalVector e(3, Rational(0));
       e[axis] = 1;
@@ -562,6 +646,87 @@ Drawn draw_mesh(const Network& network, const std::vector<Region>& regions, cons
   return Drawn{out.str(), vertices.size(), faces.size(), drawn_regions};
 }
 
+// The bounding box of a bounded polytope domain; nullopt when unbounded.
+std::optional<View> bounding_view(const Domain& domain) {
+  const VertexRepresentation rep =
+      vertex_representation(lp::Polyhedron{domain.dim, domain.constraints}, domain_centre(domain));
+  if (!rep.is_bounded() || rep.points.empty()) return std::nullopt;
+  View view{rep.points.front(), rep.points.front()};
+  for (const auto& p : rep.points)
+    for (std::size_t i = 0; i < domain.dim; ++i) {
+      view.lower[i] = std::min(view.lower[i], p[i]);
+      view.upper[i] = std::max(view.upper[i], p[i]);
+    }
+  return view;
+}
+
+// The domain cut to the view: a box stays a box, a polytope gains the
+// view's sides.
+Domain domain_in_view(const Domain& domain, const View& view) {
+  if (domain.kind != Domain::Kind::polytope) {
+    View cut = view;
+    if (domain.kind == Domain::Kind::box)
+      for (std::size_t i = 0; i < view.lower.size(); ++i) {
+        cut.lower[i] = std::max(cut.lower[i], domain.lower[i]);
+        cut.upper[i] = std::min(cut.upper[i], domain.upper[i]);
+        if (!(cut.lower[i] < cut.upper[i])) throw input_error("draw: the view and --box do not overlap");
+      }
+    return make_box(cut.lower, cut.upper);
+  }
+  std::vector<lp::Constraint> sides = domain.constraints;
+  for (const auto& side : make_box(view.lower, view.upper).constraints) sides.push_back(side);
+  try {
+    return make_polytope(domain.dim, std::move(sides));
+  } catch (const input_error&) {
+    throw input_error("draw: the view and --domain do not overlap");
+  }
+}
+
+void print_fitted(const FittedView& fitted) {
+  if (!fitted.is_bulk) return;
+  std::cerr << "pleat: the view holds the bulk of the arrangement's vertices (" << fitted.vertices_outside << " of "
+            << fitted.vertices << " lie outside it; every vertex: --view "
+            << view_option_text(fitted.every_vertex) << ")\n";
+}
+
+// The regions and the view. Without --view: the --box, the bounding box of
+// a bounded --domain, the saved walk's box, or else a view fitted to the
+// vertices of a walk of the whole domain (fitted_view), whose region count
+// then tells how many regions lie outside.
+Scene make_scene(const Network& network, const Domain& domain, std::optional<View> view,
+                 const DrawArguments& arguments, const std::atomic<bool>& interrupt) {
+  const std::size_t dim = network.input_dim;
+  Scene scene;
+  if (!arguments.from_path.empty()) {
+    SavedWalk saved = read_saved_walk(network, arguments.from_path);
+    scene.regions = std::move(saved.regions);
+    scene.with_domain_sides = true;
+    scene.total_regions = scene.regions.size();
+    if (!view && saved.domain.kind == Domain::Kind::box) view = View{saved.domain.lower, saved.domain.upper};
+    if (!view) {
+      const FittedView fitted = fitted_view(scene.regions, dim);
+      print_fitted(fitted);
+      view = fitted.view;
+    }
+    scene.view = *view;
+    return scene;
+  }
+  if (!view && domain.kind == Domain::Kind::box) view = View{domain.lower, domain.upper};
+  if (!view && domain.kind == Domain::Kind::polytope) view = bounding_view(domain);
+  if (!view) {
+    std::vector<Region> whole = walk_all(network, domain, arguments, interrupt);
+    const FittedView fitted = fitted_view(whole, dim);
+    print_fitted(fitted);
+    view = fitted.view;
+    scene.total_regions = whole.size();
+  }
+  scene.view = *view;
+  const Domain walked = domain_in_view(domain, scene.view);
+  scene.with_domain_sides = walked.kind == Domain::Kind::polytope;
+  scene.regions = walk_all(network, walked, arguments, interrupt);
+  return scene;
+}
+
 int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interrupt);
 
 // Ctrl-C stops the walk and the exact clipping alike (both poll it); a
@@ -603,23 +768,17 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
     }
   }
 
-  std::vector<Region> regions;
+  const Domain domain = make_domain(arguments.domain, dim);
   const bool from_file = !arguments.from_path.empty();
-  if (from_file) {
-    SavedWalk saved = read_saved_walk(network, arguments.from_path);
-    regions = std::move(saved.regions);
-    if (!view) view = saved.domain.kind == Domain::Kind::box ? View{saved.domain.lower, saved.domain.upper}
-                                                             : fitted_view(regions, dim);
-  } else {
-    if (!view) view = fitted_view(walk_all(network, make_whole_space(dim), arguments, interrupt), dim);
-    regions = walk_all(network, make_box(view->lower, view->upper), arguments, interrupt);
-  }
+  if (from_file && domain.kind != Domain::Kind::whole_space)
+    throw input_error("draw: --from draws the saved walk on its own domain; --box and --domain are for a fresh walk");
+  const Scene scene = make_scene(network, domain, view, arguments, interrupt);
 
-  const Drawn drawn = dim == 3   ? draw_mesh(network, regions, *view, from_file)
-                      : dim == 2 ? draw_plane(network, regions, *view, from_file, arguments, format)
-                                 : draw_line(network, regions, *view, arguments, format);
+  const Drawn drawn = dim == 3   ? draw_mesh(network, scene)
+                      : dim == 2 ? draw_plane(network, scene, arguments, format)
+                                 : draw_line(network, scene, arguments, format);
   write_output(arguments.output_path, drawn.text);
-  std::cout << "view        " << describe_view(*view) << "\n";
+  std::cout << "view        " << describe_view(scene.view) << "\n";
   if (dim == 3)
     std::cout << "mesh        " << drawn.regions << " regions, " << drawn.edges << " faces, " << drawn.vertices
               << " distinct vertices (exact, clipped to the view; one closed surface per region)\n";
@@ -629,7 +788,10 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
   else
     std::cout << "graph       " << drawn.regions << " pieces, " << (drawn.regions ? drawn.regions - 1 : 0)
               << " breakpoints (exact, in the view)\n";
-  std::cout << "written     " << arguments.output_path << "\n";
+  std::cout << "written     " << arguments.output_path << std::endl;
+  if (scene.total_regions && *scene.total_regions > drawn.regions)
+    std::cerr << "pleat: " << *scene.total_regions - drawn.regions << " of " << *scene.total_regions
+              << " regions lie outside the view\n";
   return 0;
 }
 
@@ -645,7 +807,11 @@ void register_draw(CommandTable& commands) {
       "network with its breakpoints; the CSV lists each piece's ends, values and slope exactly.\n"
       "The format follows the name given to --out: .svg (standalone), .tex (a tikzpicture to\n"
       "\\input; needs \\usepackage{tikz}), .csv (2 inputs: one row per polygon vertex).\n"
-      "Without --view the view holds every vertex of the arrangement, with a margin.\n\n"
+      "The view: --view, else the --box, else the bounding box of a --domain polytope (the\n"
+      "regions are cut to it), else the bulk of the arrangement's vertices (per axis the\n"
+      "shortest interval holding half of them, widened by its length on each side; the whole\n"
+      "range when that is not much wider). Standard error then says how many vertices and\n"
+      "regions lie outside, and the --view that holds every vertex.\n\n"
       "Examples:\n"
       "  pleat draw data/fold2d.json --out fold2d.svg --view -3,3,-3,3\n"
       "  pleat draw data/fold2d.json --out fold2d.tex --color-by layer1 --labels\n"
@@ -667,6 +833,7 @@ void register_draw(CommandTable& commands) {
   command.add_option("--title", arguments->title, "A title over the plot (SVG and TikZ)")->type_name("TEXT");
   command.add_option("--from", arguments->from_path,
                      "Draw a saved walk (pleat walk -o FILE) instead of walking; --view clips it");
+  add_domain_options(command, arguments->domain);
   add_threads_option(command, arguments->threads, "Worker threads for the walk (default: all cores)");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }

@@ -94,6 +94,61 @@ assert {"-1000", "-500", "0", "500", "1000", "-0.04", "0.04"} <= set(ticks), tic
 assert axes.find("s:rect", ns) is None, "closed frame drawn"
 PY
 
+# The default view of a trained network (data/track/epoch40.json: a few
+# nearly parallel hyperplanes meet hundreds of units out) holds the bulk of
+# the vertices, not all: stderr names the view around every vertex and how
+# many regions lie outside, which must be the walk of R^2's count minus the
+# regions drawn (the figure's note says the same).
+trained=$source_dir/data/track/epoch40.json
+"$pleat" draw "$trained" --out "$work/trained.csv" -q > "$work/trained.txt" 2> "$work/trained.err" ||
+  fail "draw epoch40 exited $?"
+"$pleat" draw "$trained" --out "$work/trained.svg" -q > /dev/null 2>&1 || fail "draw epoch40 svg exited $?"
+"$pleat" walk "$trained" --json -q > "$work/trained_walk.json" || fail "walk epoch40 exited $?"
+/usr/bin/python3 - "$work" <<'PY' || fail "default view of epoch40: $(cat "$work/trained.txt" "$work/trained.err")"
+import csv, json, re, sys
+from fractions import Fraction as F
+work = sys.argv[1]
+total = json.load(open(f"{work}/trained_walk.json"))["regions_per_layer"][-1]
+drawn = len({r["region"] for r in csv.DictReader(open(f"{work}/trained.csv"))})
+err = open(f"{work}/trained.err").read()
+outside = int(re.search(r"(\d+) of (\d+) regions lie outside the view", err).group(1))
+assert f"of {total} regions lie outside" in err, err
+assert outside == total - drawn > 0, (outside, total, drawn)
+every = re.search(r"every vertex: --view ([-0-9/,]+)\)", err).group(1).split(",")
+view = re.search(r"view +\[([-0-9/]+),([-0-9/]+)\]x\[([-0-9/]+),([-0-9/]+)\]", open(f"{work}/trained.txt").read()).groups()
+# The bulk view is at most a tenth as wide as the one around every vertex, on both axes.
+for axis in (0, 1):
+    assert 10 * (F(view[2 * axis + 1]) - F(view[2 * axis])) <= F(every[2 * axis + 1]) - F(every[2 * axis]), (view, every)
+assert f"{outside} regions outside the view" in open(f"{work}/trained.svg").read()
+PY
+# --box is the view (and the walk's domain); --domain: the view is the
+# polytope's bounding box and the polygons tile the polytope (exact areas:
+# the triangle x > -2, y > -2, x + y < 2 has area 6 * 6 / 2 = 18); neither with --from.
+"$pleat" draw "$trained" --box -3,3 --out "$work/boxed.csv" -q > "$work/boxed.txt" 2> "$work/boxed.err" ||
+  fail "draw --box exited $?"
+grep -q '^view        \[-3,3\]x\[-3,3\]$' "$work/boxed.txt" || fail "--box view: $(cat "$work/boxed.txt")"
+[ ! -s "$work/boxed.err" ] || fail "--box: unexpected stderr $(cat "$work/boxed.err")"
+cat > "$work/triangle.json" <<'JSON'
+{"format": "pleat-domain/1", "input_dim": 2, "constraints": [
+  {"normal": ["1", "0"], "offset": "2"}, {"normal": ["0", "1"], "offset": "2"}, {"normal": ["-1", "-1"], "offset": "2"}]}
+JSON
+"$pleat" draw "$fold" --domain "$work/triangle.json" --out "$work/triangle.csv" -q > "$work/triangle.txt" ||
+  fail "draw --domain exited $?"
+grep -q '^view        \[-2,4\]x\[-2,4\]$' "$work/triangle.txt" || fail "--domain view: $(cat "$work/triangle.txt")"
+/usr/bin/python3 - "$work/triangle.csv" <<'PY' || fail "--domain polygons do not tile the triangle"
+import csv, sys
+from fractions import Fraction as F
+polygons = {}
+for r in csv.DictReader(open(sys.argv[1])):
+    polygons.setdefault(r["region"], []).append((F(r["x_exact"]), F(r["y_exact"])))
+areas = [sum(p[0] * q[1] - p[1] * q[0] for p, q in zip(v, v[1:] + v[:1])) / 2 for v in polygons.values()]
+assert all(a > 0 for a in areas) and sum(areas) == 18, sum(areas)
+assert all(x >= -2 and y >= -2 and x + y <= 2 for v in polygons.values() for x, y in v)
+PY
+"$pleat" walk "$fold" --box -3,3 -q -o "$work/boxwalk.jsonl" > /dev/null || fail "walk failed"
+"$pleat" draw "$fold" --from "$work/boxwalk.jsonl" --box -1,1 --out "$work/f.svg" > /dev/null 2>&1
+[ $? -eq 2 ] || fail "--from with --box accepted"
+
 # Bad arguments.
 "$pleat" draw "$fold" --out "$work/fold.png" > /dev/null 2>&1; [ $? -eq 2 ] || fail ".png accepted"
 "$pleat" draw "$fold" --out "$work/f.svg" --view 1,2,3 > /dev/null 2>&1; [ $? -eq 2 ] || fail "3-number view accepted"
