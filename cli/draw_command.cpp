@@ -39,6 +39,8 @@ struct DrawArguments {
   bool no_stats = false;
   bool no_legend = false;
   std::string title;
+  std::string size_text;
+  std::string table_path;
   bool quiet = false;
   std::uint64_t threads = 0;
 };
@@ -81,6 +83,48 @@ std::string describe_view(const View& view) {
   for (std::size_t i = 0; i < view.lower.size(); ++i)
     text += (i ? "x" : "") + std::string("[") + format_rational(view.lower[i]) + "," + format_rational(view.upper[i]) + "]";
   return text;
+}
+
+// --size W,H: each a positive number with a unit, cm or px (96 px to the
+// inch); "12,8cm" gives both the last one's unit.
+struct FigureSize {
+  double width_cm = 0, height_cm = 0;
+};
+
+FigureSize parse_size(const std::string& text) {
+  const std::string usage = "--size: expected W,H with a unit, cm or px (12cm,8cm or 600,400px), found '" + text + "'";
+  const std::size_t comma = text.find(',');
+  if (comma == std::string::npos || text.find(',', comma + 1) != std::string::npos) throw input_error(usage);
+  std::string parts[2] = {text.substr(0, comma), text.substr(comma + 1)};
+  auto unit_of = [](const std::string& part) {
+    for (const char* unit : {"cm", "px"})
+      if (part.size() > 2 && part.compare(part.size() - 2, 2, unit) == 0) return std::string(unit);
+    return std::string();
+  };
+  const std::string last_unit = unit_of(parts[1]);
+  if (last_unit.empty()) throw input_error(usage);
+  double cm[2];
+  for (int k = 0; k < 2; ++k) {
+    std::string unit = unit_of(parts[k]);
+    std::string digits = unit.empty() ? parts[k] : parts[k].substr(0, parts[k].size() - 2);
+    if (unit.empty()) unit = last_unit;
+    char* end = nullptr;
+    const double value = std::strtod(digits.c_str(), &end);
+    if (digits.empty() || end != digits.c_str() + digits.size() || !std::isfinite(value)) throw input_error(usage);
+    cm[k] = unit == "cm" ? value : value * 2.54 / 96;
+    if (!(cm[k] >= 3 && cm[k] <= 200))
+      throw input_error("--size: each side must be between 3 cm and 200 cm (114 px and 7559 px), found '" + parts[k] + "'");
+  }
+  return FigureSize{cm[0], cm[1]};
+}
+
+// The figure's size in the writer's unit: px for SVG, cm for TikZ.
+void apply_size(Figure& figure, const DrawArguments& arguments, Format format) {
+  if (arguments.size_text.empty()) return;
+  const FigureSize size = parse_size(arguments.size_text);
+  const double scale = format == Format::svg ? 96 / 2.54 : 1.0;
+  figure.width = size.width_cm * scale;
+  figure.height = size.height_cm * scale;
 }
 
 // "XMIN,XMAX,YMIN,YMAX" for --view.
@@ -140,8 +184,10 @@ View rounded_view(const std::vector<double>& low, const std::vector<double>& hig
     const double lo = low[i] - margin, hi = high[i] + margin;
     const std::vector<double> ticks = nice_ticks(lo, hi);
     const double step = ticks.size() >= 2 ? ticks[1] - ticks[0] : 1.0;
-    view.lower.push_back(rational_from_double(std::floor(lo / step) * step));
-    view.upper.push_back(rational_from_double(std::ceil(hi / step) * step));
+    // Whole multiples of the exact step (1, 2 or 5 times a power of ten): "1.4", not its binary double.
+    const Rational exact_step = parse_rational(tick_text(step));
+    view.lower.push_back(exact_step * Rational(static_cast<long>(std::floor(lo / step))));
+    view.upper.push_back(exact_step * Rational(static_cast<long>(std::ceil(hi / step))));
   }
   return view;
 }
@@ -200,6 +246,10 @@ FittedView fitted_view(const std::vector<Region>& regions, std::size_t dim) {
         ++fitted.vertices_outside;
         break;
       }
+  if (fitted.vertices_outside == 0) {  // the rounded bulk holds them all after all
+    fitted.view = fitted.every_vertex;
+    fitted.is_bulk = false;
+  }
   return fitted;
 }
 
@@ -349,8 +399,30 @@ void colour_regions(const Network& network, const std::vector<const Region*>& re
 
 struct Drawn {
   std::string text;
+  std::string table;  // --table: one row per region drawn (per face of a mesh)
   std::size_t vertices = 0, edges = 0, regions = 0;
 };
+
+// The side table of the regions drawn: the number on the map (the region's
+// id in the walk), its pattern, and an exact point inside it.
+std::string region_table(const Network& network, const std::vector<const Region*>& regions) {
+  const std::size_t dim = network.input_dim;
+  std::ostringstream out;
+  const char* axes[] = {"x", "y", "z"};
+  out << "region,pattern";
+  for (std::size_t i = 0; i < dim && i < 3; ++i) out << "," << axes[i] << "_exact";
+  for (std::size_t i = 0; i < dim && i < 3; ++i) out << "," << axes[i];
+  out << "\n";
+  std::vector<const Region*> sorted = regions;
+  std::sort(sorted.begin(), sorted.end(), [](const Region* a, const Region* b) { return a->id < b->id; });
+  for (const Region* region : sorted) {
+    out << region->id << "," << format_pattern(network, region->pattern);
+    for (const auto& v : region->point) out << "," << format_rational(v);
+    for (const auto& v : region->point) out << "," << format_double(to_double(v));
+    out << "\n";
+  }
+  return out.str();
+}
 
 Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments& arguments, Format format) {
   const std::vector<Region>& regions = scene.regions;
@@ -365,7 +437,7 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
     drawn.push_back(&region);
   }
   const PlanarComplex complex = planar_complex(polygons);
-  Drawn result{"", complex.vertices.size(), complex.edges.size(), polygons.size()};
+  Drawn result{"", region_table(network, drawn), complex.vertices.size(), complex.edges.size(), polygons.size()};
 
   if (format == Format::csv) {
     std::ostringstream out;
@@ -433,6 +505,7 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
     FigurePolygon polygon;
     polygon.region = i;  // replaced by the region id below, after colouring
     polygon.pattern = format_pattern(network, drawn[i]->pattern);
+    polygon.number = std::to_string(drawn[i]->id);
     FigurePoint centre;
     for (const auto& p : polygons[i].vertices) {
       polygon.vertices.push_back(point_of(p));
@@ -448,6 +521,7 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
                                  count_of(result.vertices, "vertex", "vertices") + " in the view"};
   for (auto& note : outside_note(scene, result.regions)) stats.push_back(std::move(note));
   add_stats(figure, arguments, stats);
+  apply_size(figure, arguments, format);
   result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
   return result;
 }
@@ -471,7 +545,9 @@ Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments&
     if (piece.low < piece.high) pieces.push_back(piece);
   }
   std::sort(pieces.begin(), pieces.end(), [](const Piece& a, const Piece& b) { return a.low < b.low; });
-  Drawn result{"", pieces.size() + 1, pieces.size(), pieces.size()};
+  std::vector<const Region*> drawn_regions;
+  for (const auto& piece : pieces) drawn_regions.push_back(piece.region);
+  Drawn result{"", region_table(network, drawn_regions), pieces.size() + 1, pieces.size(), pieces.size()};
   auto value = [](const Region& region, std::size_t output, const Rational& x) -> Rational {
     return region.affine.linear(output, 0) * x + region.affine.offset[output];
   };
@@ -530,6 +606,7 @@ Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments&
     FigurePolygon band;
     band.region = i;
     band.pattern = format_pattern(network, pieces[i].region->pattern);
+    band.number = std::to_string(pieces[i].region->id);
     const double a = to_double(pieces[i].low), b = to_double(pieces[i].high);
     band.vertices = {{a, figure.y_min}, {b, figure.y_min}, {b, figure.y_max}, {a, figure.y_max}};
     band.label = FigurePoint{(a + b) / 2, figure.y_min + 0.04 * (figure.y_max - figure.y_min)};
@@ -541,6 +618,7 @@ Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments&
                                  count_of(figure.breakpoints.size(), "breakpoint")};
   for (auto& note : outside_note(scene, pieces.size())) stats.push_back(std::move(note));
   add_stats(figure, arguments, stats);
+  apply_size(figure, arguments, format);
   result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
   return result;
 }
@@ -643,7 +721,13 @@ Drawn draw_mesh(const Network& network, const Scene& scene) {
     out << "\n";
   }
   (void)network;
-  return Drawn{out.str(), vertices.size(), faces.size(), drawn_regions};
+  // The side table: which region each face (in file order) bounds.
+  std::ostringstream table;
+  table << "face,region,pattern\n";
+  for (std::size_t f = 0; f < faces.size(); ++f)
+    table << f << "," << regions[faces[f].region].id << "," << format_pattern(network, regions[faces[f].region].pattern)
+          << "\n";
+  return Drawn{out.str(), table.str(), vertices.size(), faces.size(), drawn_regions};
 }
 
 // The bounding box of a bounded polytope domain; nullopt when unbounded.
@@ -754,6 +838,10 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
     throw input_error("draw: the network has " + std::to_string(dim) + " inputs; draw handles 1 (a graph), "
                       "2 (regions) or 3 (a mesh)");
 
+  if (!arguments.size_text.empty()) {
+    if (format != Format::svg && format != Format::tikz) throw input_error("--size is for figures: --out FIG.svg or FIG.tex");
+    parse_size(arguments.size_text);  // a bad --size fails before the walk
+  }
   std::optional<View> view;
   if (!arguments.view_text.empty()) {
     const RationalVector numbers = parse_number_list(arguments.view_text, "--view");
@@ -778,6 +866,7 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
                       : dim == 2 ? draw_plane(network, scene, arguments, format)
                                  : draw_line(network, scene, arguments, format);
   write_output(arguments.output_path, drawn.text);
+  if (!arguments.table_path.empty()) write_output(arguments.table_path, drawn.table);
   std::cout << "view        " << describe_view(scene.view) << "\n";
   if (dim == 3)
     std::cout << "mesh        " << drawn.regions << " regions, " << drawn.edges << " faces, " << drawn.vertices
@@ -788,7 +877,7 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
   else
     std::cout << "graph       " << drawn.regions << " pieces, " << (drawn.regions ? drawn.regions - 1 : 0)
               << " breakpoints (exact, in the view)\n";
-  std::cout << "written     " << arguments.output_path << std::endl;
+  std::cout << "written     " << arguments.output_path << "\n";
   if (scene.total_regions && *scene.total_regions > drawn.regions)
     std::cerr << "pleat: " << *scene.total_regions - drawn.regions << " of " << *scene.total_regions
               << " regions lie outside the view\n";
@@ -800,13 +889,16 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
 void register_draw(CommandTable& commands) {
   auto arguments = std::make_shared<DrawArguments>();
   CLI::App& command = commands.add(
-      "draw", "Draw a network's regions (2 inputs) or graph (1 input) as SVG, TikZ or CSV",
+      "draw", "Draw a network's regions (2 inputs), graph (1 input) or region mesh (3 inputs)",
       "With 2 inputs: every region clipped to the view rectangle as an exact polygon, the\n"
       "bent hyperplanes (each neuron's zero set; one line style per layer) over them, a legend,\n"
       "axes, and the counts of regions, edges and vertices. With 1 input: the graph of the\n"
       "network with its breakpoints; the CSV lists each piece's ends, values and slope exactly.\n"
       "The format follows the name given to --out: .svg (standalone), .tex (a tikzpicture to\n"
-      "\\input; needs \\usepackage{tikz}), .csv (2 inputs: one row per polygon vertex).\n"
+      "\\input; needs \\usepackage{tikz}), .csv (2 inputs: one row per polygon vertex), .off (3\n"
+      "inputs: an OFF mesh, every region clipped to the view box as its own closed surface,\n"
+      "faces counter-clockwise from outside, an RGB colour per face; --table names each face's\n"
+      "region). Formats: docs/formats.md.\n"
       "The view: --view, else the --box, else the bounding box of a --domain polytope (the\n"
       "regions are cut to it), else the bulk of the arrangement's vertices (per axis the\n"
       "shortest interval holding half of them, widened by its length on each side; the whole\n"
@@ -815,21 +907,32 @@ void register_draw(CommandTable& commands) {
       "Examples:\n"
       "  pleat draw data/fold2d.json --out fold2d.svg --view -3,3,-3,3\n"
       "  pleat draw data/fold2d.json --out fold2d.tex --color-by layer1 --labels\n"
-      "  pleat walk data/fold2d.json --box -3,3 -o regions.jsonl && pleat draw data/fold2d.json --from regions.jsonl --out f.csv",
+      "  pleat walk data/fold2d.json --box -3,3 -o regions.jsonl && pleat draw data/fold2d.json --from regions.jsonl --out f.csv\n"
+      "  pleat draw data/sensor3d.json --view -1,1,-1,1,-1,1 --out sensor.off --table sensor-faces.csv",
       [arguments] { return run_draw(*arguments); });
   command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")->required();
-  command.add_option("--out", arguments->output_path, "Output file: FIG.svg, FIG.tex or FIG.csv")->required();
+  command.add_option("--out", arguments->output_path, "Output file: FIG.svg, FIG.tex, FIG.csv or (3 inputs) FIG.off")->required();
   add_number_list_option(command, "--view", arguments->view_text,
                          "XMIN,XMAX,YMIN,YMAX (XMIN,XMAX for 1 input): the rectangle drawn and walked");
   command.add_option("--color-by,--colour-by", arguments->colour_by,
                      "region (neighbours differ), gradient (|grad F|), layer1 (first-layer cell), rank "
                      "(rows the region adds to the functional-dimension rank)")
       ->check(CLI::IsMember({"region", "gradient", "layer1", "rank"}));
-  command.add_flag("--labels", arguments->labels, "Write each region's activation pattern inside it");
+  command.add_flag("--labels", arguments->labels,
+                   "Write each region's activation pattern inside it where it fits, else its number (the "
+                   "region column of --table) where that fits, else nothing");
+  command.add_option("--table", arguments->table_path,
+                     "Write a side table (CSV): per region drawn its number, pattern and an exact interior point "
+                     "(region,pattern,x_exact,y_exact,x,y); for a mesh, the region of each face (face,region,pattern)")
+      ->type_name("FILE.csv");
   command.add_flag("--no-lines", arguments->no_lines, "Leave out the bent hyperplanes (fills only)");
   command.add_flag("--no-stats", arguments->no_stats,
                    "Leave the counts (regions, edges, vertices) out of the figure; the summary printed has them");
   command.add_flag("--no-legend", arguments->no_legend, "Leave out the key right of the plot (and the counts in it)");
+  command.add_option("--size", arguments->size_text,
+                     "The whole figure's width and height, in cm or px (96 px to the inch): 12cm,8cm or 600,400px; "
+                     "the plot takes what the margins and the key leave. Default: SVG 420 px of plot, TikZ 12 cm wide")
+      ->type_name("W,H");
   command.add_option("--title", arguments->title, "A title over the plot (SVG and TikZ)")->type_name("TEXT");
   command.add_option("--from", arguments->from_path,
                      "Draw a saved walk (pleat walk -o FILE) instead of walking; --view clips it");

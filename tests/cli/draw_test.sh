@@ -149,6 +149,50 @@ PY
 "$pleat" draw "$fold" --from "$work/boxwalk.jsonl" --box -1,1 --out "$work/f.svg" > /dev/null 2>&1
 [ $? -eq 2 ] || fail "--from with --box accepted"
 
+# --size: the SVG is that size (96 px to the inch); bad sizes exit 2.
+"$pleat" draw "$fold" --view -3,3,-3,3 --size 10cm,7cm --out "$work/sized.svg" -q > /dev/null || fail "--size exited $?"
+grep -q '<svg [^>]*width="377.95" height="264.57"' "$work/sized.svg" || fail "--size 10cm,7cm: $(grep -o '<svg [^>]*' "$work/sized.svg")"
+"$pleat" draw "$fold" --view -3,3,-3,3 --size 500,300px --out "$work/sized.svg" -q > /dev/null || fail "--size px exited $?"
+grep -q '<svg [^>]*width="500" height="300"' "$work/sized.svg" || fail "--size 500,300px"
+for bad in 10,7 1cm,7cm 10cm 10cm,7in x,7cm; do
+  "$pleat" draw "$fold" --size $bad --out "$work/f.svg" > /dev/null 2> "$work/size.err"; status=$?
+  [ $status -eq 2 ] && grep -q -- "--size" "$work/size.err" || fail "--size $bad: exit $status, $(cat "$work/size.err")"
+done
+"$pleat" draw "$fold" --size 10cm,7cm --out "$work/f.csv" > /dev/null 2>&1; [ $? -eq 2 ] || fail "--size with .csv accepted"
+
+# --labels and --table: a region shows its pattern or its number (never
+# both), both kinds occur on fold2d; the table lists every polygon of the
+# CSV once, with an exact point strictly inside it (Python fractions).
+"$pleat" draw "$fold" --view -3,3,-3,3 --labels --table "$work/table.csv" --out "$work/labels.svg" -q > /dev/null ||
+  fail "--labels --table exited $?"
+"$pleat" draw "$fold" --view -3,3,-3,3 --out "$work/labels.csv" -q > /dev/null || fail "csv exited $?"
+/usr/bin/python3 - "$work" <<'PY' || fail "--labels / --table"
+import csv, sys, xml.etree.ElementTree as ET
+from fractions import Fraction as F
+work = sys.argv[1]
+ns = {"s": "http://www.w3.org/2000/svg"}
+root = ET.parse(f"{work}/labels.svg").getroot()
+patterns = {p.get("id")[len("region-"):]: p.get("data-pattern") for p in root.iter("{http://www.w3.org/2000/svg}polygon")}
+texts = root.find(".//s:g[@id='labels']", ns).findall("s:text", ns)
+shown_patterns = [t.text for t in texts if t.get("class") == "pattern"]
+shown_numbers = [t.text for t in texts if t.get("class") == "number"]
+assert shown_patterns and shown_numbers, (len(shown_patterns), len(shown_numbers))
+assert set(shown_patterns) <= set(patterns.values()) and set(shown_numbers) <= set(patterns)
+labelled = [p for p, q in patterns.items() if q in shown_patterns] + shown_numbers
+assert len(labelled) == len(set(labelled)), "a region labelled twice"
+polygons = {}
+for r in csv.DictReader(open(f"{work}/labels.csv")):
+    polygons.setdefault(r["region"], []).append((F(r["x_exact"]), F(r["y_exact"])))
+table = list(csv.DictReader(open(f"{work}/table.csv")))
+assert sorted(r["region"] for r in table) == sorted(polygons) == sorted(patterns), "one row per region drawn"
+for r in table:
+    assert patterns[r["region"]] == r["pattern"]
+    p, v = (F(r["x_exact"]), F(r["y_exact"])), polygons[r["region"]]
+    # Strictly left of every counter-clockwise edge.
+    assert all((b[0] - a[0]) * (p[1] - a[1]) - (b[1] - a[1]) * (p[0] - a[0]) > 0 for a, b in zip(v, v[1:] + v[:1])), r
+    assert abs(float(r["x"]) - float(p[0])) < 1e-12 and abs(float(r["y"]) - float(p[1])) < 1e-12
+PY
+
 # Bad arguments.
 "$pleat" draw "$fold" --out "$work/fold.png" > /dev/null 2>&1; [ $? -eq 2 ] || fail ".png accepted"
 "$pleat" draw "$fold" --out "$work/f.svg" --view 1,2,3 > /dev/null 2>&1; [ $? -eq 2 ] || fail "3-number view accepted"
