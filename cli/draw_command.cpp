@@ -11,6 +11,7 @@
 #include "cli/progress.hpp"
 #include "cli/signals.hpp"
 #include "core/jacobian.hpp"
+#include "core/rank.hpp"
 #include "core/stop.hpp"
 #include "enumerate/region_geometry.hpp"
 #include "enumerate/walker.hpp"
@@ -317,6 +318,27 @@ void add_stats(Figure& figure, const DrawArguments& arguments, const std::vector
   figure.notes.insert(figure.notes.end(), lines.begin(), lines.end());
 }
 
+// Per region (in the order given), how many of its coefficient-block rows
+// raise the rank of all rows of the regions before it in walk order (by id):
+// on a trained network every region has the same rank of its own, but few
+// add anything new. Counted modulo a prime: rows kept are independent over Q
+// too (a nonsingular minor mod p), so the counts add up to a lower bound of
+// the rank; a non-smooth region has no rows.
+std::vector<std::size_t> new_rows_in_walk_order(const Network& network, const std::vector<const Region*>& regions) {
+  std::vector<std::size_t> order(regions.size()), rows(regions.size(), 0);
+  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return regions[a]->id < regions[b]->id; });
+  const ModularNetwork modular = reduce_modulo_some_prime(network, primary_prime());
+  ModularRowBasis basis(modular.prime, network.parametric_dimension());
+  for (std::size_t i : order) {
+    poll_stop();
+    if (!regions[i]->nonsmooth_neurons.empty() || basis.rank() == basis.columns()) continue;
+    const ModularMatrix block = coefficient_blocks_mod(modular, regions[i]->pattern);
+    for (std::size_t r = 0; r < block.rows(); ++r) rows[i] += basis.add_row(block.row(r)) ? 1 : 0;
+  }
+  return rows;
+}
+
 // Fills figure.colours / polygon colours / legend for the chosen mode.
 // keys[i] is region i's pattern; adjacent is the region adjacency graph.
 void colour_regions(const Network& network, const std::vector<const Region*>& regions,
@@ -383,16 +405,19 @@ void colour_regions(const Network& network, const std::vector<const Region*>& re
           FigureSwatch{figure.colours.size() - 1, fixed_point_text(low + (high - low) * step / 4.0, decimals)});
     }
   } else {  // rank
+    const std::vector<std::size_t> rows = new_rows_in_walk_order(network, regions);
     const std::size_t most = network.output_dim() * (network.input_dim + 1);
     std::map<std::size_t, std::size_t> count;
-    std::vector<std::size_t> rank(n);
-    for (std::size_t i = 0; i < n; ++i) ++count[rank[i] = rank_contribution(network, regions[i]->pattern)];
+    std::size_t total = 0;
+    for (std::size_t r : rows) ++count[r], total += r;
     for (std::size_t r = 0; r <= most; ++r) figure.colours.push_back(sequential_colour(static_cast<double>(r) / most));
-    for (std::size_t i = 0; i < n; ++i) colour[i] = rank[i];
-    figure.legend_title = "Rank contribution";
+    for (std::size_t i = 0; i < n; ++i) colour[i] = rows[i];
+    figure.legend_title = "New rows (walk order)";
     for (const auto& [r, k] : count)
-      figure.swatches.push_back(
-          FigureSwatch{r, std::to_string(r) + " row" + (r == 1 ? "" : "s") + ": " + std::to_string(k) + (k == 1 ? " region" : " regions")});
+      figure.swatches.push_back(FigureSwatch{r, count_of(r, "row") + ": " + count_of(k, "region")});
+    figure.notes.push_back("rows each region adds to the rank");
+    figure.notes.push_back("of those before it; all together");
+    figure.notes.push_back("rank " + std::to_string(total) + " or more (exact: certify)");
   }
   for (auto& polygon : figure.polygons) polygon.colour = colour[polygon.region];
 }
@@ -916,7 +941,7 @@ void register_draw(CommandTable& commands) {
                          "XMIN,XMAX,YMIN,YMAX (XMIN,XMAX for 1 input): the rectangle drawn and walked");
   command.add_option("--color-by,--colour-by", arguments->colour_by,
                      "region (neighbours differ), gradient (|grad F|), layer1 (first-layer cell), rank "
-                     "(rows the region adds to the functional-dimension rank)")
+                     "(rows the region adds to the rank of the regions before it in walk order)")
       ->check(CLI::IsMember({"region", "gradient", "layer1", "rank"}));
   command.add_flag("--labels", arguments->labels,
                    "Write each region's activation pattern inside it where it fits, else its number (the "

@@ -25,7 +25,7 @@ for mode in region gradient layer1 rank; do
   grep -q '\\begin{tikzpicture}' "$work/$mode.tex" || fail "no tikzpicture"
 done
 grep -q 'data-pattern="[01|]*"' "$work/rank.svg" || fail "no pattern attribute"
-grep -q 'Rank contribution' "$work/rank.svg" || fail "rank legend missing"
+grep -q 'New rows (walk order)' "$work/rank.svg" || fail "rank legend missing"
 "$pleat" draw "$fold" --view=-3,3,-3,3 --out "$work/fold.csv" -q > /dev/null || fail "draw csv failed"
 head -1 "$work/fold.csv" | grep -qx 'region,pattern,vertex,x,y,x_exact,y_exact' || fail "CSV header"
 
@@ -191,6 +191,51 @@ for r in table:
     # Strictly left of every counter-clockwise edge.
     assert all((b[0] - a[0]) * (p[1] - a[1]) - (b[1] - a[1]) * (p[0] - a[0]) > 0 for a, b in zip(v, v[1:] + v[:1])), r
     assert abs(float(r["x"]) - float(p[0])) < 1e-12 and abs(float(r["y"]) - float(p[1])) < 1e-12
+PY
+
+# --color-by rank on the trained network: regions coloured by the rows they
+# add to the rank of the regions before them in walk order (region ids). The
+# legend's histogram must equal one recomputed here: each region's
+# coefficient-block rows from scripts/check_bundle.py (Python fractions, no
+# pleat code), added in id order to an exact echelon basis; the total must
+# be sympy's rank of all rows (outside reference) and certify's value on the
+# same box, and the regions must not all share a colour.
+"$pleat" draw "$trained" --color-by rank --table "$work/rank_table.csv" --out "$work/trained_rank.svg" -q \
+  > "$work/rank_view.txt" 2> /dev/null || fail "draw --color-by rank exited $?"
+box=$(sed -n 's/^view *\[\([-0-9]*\),\([-0-9]*\)\]x\[\([-0-9]*\),\([-0-9]*\)\]$/\1,\2,\3,\4/p' "$work/rank_view.txt")
+"$pleat" certify "$trained" --box "$box" --json -q > "$work/rank_certify.json" || fail "certify --box $box exited $?"
+/usr/bin/python3 - "$work" "$source_dir" "$trained" <<'PY' || fail "--color-by rank histogram"
+import csv, importlib.util, json, re, sys
+from collections import Counter
+from fractions import Fraction
+import sympy
+work, source, net_path = sys.argv[1:]
+spec = importlib.util.spec_from_file_location("check_bundle", f"{source}/scripts/check_bundle.py")
+cb = importlib.util.module_from_spec(spec); spec.loader.exec_module(cb)
+net = cb.Network(json.load(open(net_path)))
+basis, added, everything = [], [], []  # basis: (pivot, row) in reduced form
+for r in sorted(csv.DictReader(open(f"{work}/rank_table.csv")), key=lambda r: int(r["region"])):
+    pattern = net.parse_pattern(r["pattern"], "")
+    new = 0
+    if net.is_smooth(pattern):
+        for row in net.coefficient_blocks(pattern):
+            everything.append(row)
+            for pivot, b in basis:
+                if row[pivot] != 0:
+                    f = row[pivot] / b[pivot]
+                    row = [x - f * y for x, y in zip(row, b)]
+            pivot = next((c for c, x in enumerate(row) if x != 0), None)
+            if pivot is not None:
+                basis.append((pivot, row)); new += 1
+    added.append(new)
+svg = open(f"{work}/trained_rank.svg").read()
+legend = {int(a): int(b) for a, b in re.findall(r">(\d+) rows?: (\d+) regions?<", svg)}
+assert legend == dict(Counter(added)), (legend, Counter(added))
+assert len(legend) >= 2, legend
+total = sum(added)
+assert total == sympy.Matrix(everything).rank(), "sympy rank"
+assert total == json.load(open(f"{work}/rank_certify.json"))["functional_dimension"], total
+assert f"rank {total} or more" in svg
 PY
 
 # Bad arguments.
