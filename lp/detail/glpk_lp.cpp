@@ -93,7 +93,22 @@ void GlpkLP::set_objective(std::size_t column, double coefficient) {
   glp_set_obj_coef(problem_, index(column), coefficient);
 }
 
+// True when a basic structural column has no nonzero left (its rows were
+// freed or rewritten since the last solve). GLPK 5.0 does not report such a
+// basis as singular: its LU factorisation stops the process (assertion
+// "k1 < k2", bflib/sgf.c), seen on 3-input networks that ignore one input,
+// walked on a box. A column with no nonzeros never enters a basis during the
+// simplex itself (zero reduced cost, or an unbounded ray found by the ratio
+// test), so only a warm start can carry one in.
+bool GlpkLP::has_empty_basic_column() const {
+  const int columns = glp_get_num_cols(problem_);
+  for (int j = 1; j <= columns; ++j)
+    if (glp_get_col_stat(problem_, j) == GLP_BS && glp_get_mat_col(problem_, j, nullptr, nullptr) == 0) return true;
+  return false;
+}
+
 DoubleStatus GlpkLP::solve() {
+  if (has_empty_basic_column()) glp_std_basis(problem_);  // every row basic: nonsingular
   glp_smcp parameters;
   glp_init_smcp(&parameters);
   parameters.msg_lev = GLP_MSG_OFF;

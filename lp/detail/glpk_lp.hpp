@@ -40,7 +40,9 @@ class GlpkLP {
   void set_column_bounds(std::size_t column, double lower, double upper);
   void set_objective(std::size_t column, double coefficient);
 
-  // Warm-started from the previous basis; retries from a fresh basis once.
+  // Warm-started from the previous basis (from the standard basis when the
+  // previous one holds a column left without nonzeros); retries from a fresh
+  // basis once.
   DoubleStatus solve();
   double objective() const;
   double column_value(std::size_t column) const;
@@ -48,6 +50,7 @@ class GlpkLP {
   BasisStatus column_status(std::size_t column) const;
 
  private:
+  bool has_empty_basic_column() const;
   glp_prob* problem_;
   std::unique_lock<std::recursive_mutex> lock_;  // held only without thread-local GLPK
 };
