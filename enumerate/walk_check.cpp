@@ -271,21 +271,17 @@ class WalkChecker {
     }
   }
 
-  // The walk starts in the region at the domain's centre (walker.cpp steps
-  // off the centre when it lies on a bent hyperplane: then a region whose
-  // closure holds the centre).
+  // The walk starts in the region at the domain's centre, or, when the
+  // centre lies on a bent hyperplane, in the region at the first point of a
+  // fixed sequence near it that lies off every bent hyperplane; that region's
+  // closure need not hold the centre (the steps are not infinitesimal), so
+  // the start is re-derived by the walker's own exact rule.
   void check_start_region() const {
     const SavedRegion& first = regions_.front();
-    const RationalVector centre = domain_centre(domain_);
-    if (const auto at_centre = region_pattern_at(network_, centre)) {
-      if (*at_centre != first.pattern)
-        fail(first, "id 0 is not the region at the domain's centre, where the walk starts (" +
-                        format_pattern(network_, *at_centre) + ")");
-      return;
-    }
-    const auto cell = build_pattern_cell(network_, domain_, first.pattern);
-    if (!cell || !closure_contains(cell->cell, centre))
-      fail(first, "id 0 does not touch the domain's centre, where the walk starts");
+    const ActivationPattern start = walk_start_pattern(network_, domain_);
+    if (start != first.pattern)
+      fail(first, "id 0 is not the region where the walk starts (" + format_pattern(network_, start) +
+                      ": at the domain's centre, or next to it when the centre lies on a bent hyperplane)");
   }
 
   // Ids follow the walk: breadth-first from id 0 across the listed

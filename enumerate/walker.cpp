@@ -652,6 +652,10 @@ ActivationPattern start_pattern(const Network& network, const Domain& domain) {
 
 }  // namespace
 
+ActivationPattern walk_start_pattern(const Network& network, const Domain& domain) {
+  return start_pattern(network, domain);
+}
+
 WalkSummary walk_regions(const Network& network, const Domain& domain, const WalkOptions& options) {
   if (domain.dim != network.input_dim) throw usage_error("walk_regions: domain and network dimensions differ");
   using clock = std::chrono::steady_clock;

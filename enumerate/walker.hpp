@@ -114,6 +114,14 @@ struct WalkSummary {
 // Preconditions: domain.dim == network.input_dim.
 WalkSummary walk_regions(const Network& network, const Domain& domain, const WalkOptions& options);
 
+// The pattern of the region the walk starts in (its id 0): the region at the
+// domain's centre, or, when the centre lies on a bent hyperplane, the region
+// at the first of a fixed sequence of nearby points of the domain that lies
+// off every bent hyperplane (a point on the moment curve through the centre
+// when none of them does). Deterministic and exact; pleat verify re-derives
+// id 0 with it. Preconditions: as walk_regions.
+ActivationPattern walk_start_pattern(const Network& network, const Domain& domain);
+
 // One region's record as walk_regions would deliver it (id 0), or nullopt
 // when the pattern's cell has empty interior on the domain. Exact; for
 // inspecting a single region without walking.

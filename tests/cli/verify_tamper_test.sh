@@ -137,11 +137,11 @@ tamper reordered box "$fold" '
 lines[5], lines[30] = lines[30], lines[5]
 for k, l in enumerate(lines[1:]): l["id"] = k
 line = 7' "out of the walk's order"  # the region after the moved-up one
-# 27. The first region moved to the end, ids renumbered: the walk starts at the domain's centre.
+# 27. The first region moved to the end, ids renumbered: the walk starts at (or next to) the domain's centre.
 tamper start_moved box "$fold" '
 lines.append(lines.pop(1))
 for k, l in enumerate(lines[1:]): l["id"] = k
-line = 2' "id 0 is not the region at the domain's centre"
+line = 2' "id 0 is not the region where the walk starts"
 
 # 28. A key written twice in one object (another reader would keep the other copy).
 head -n 3 "$work/box.jsonl" > "$work/twice.jsonl"
