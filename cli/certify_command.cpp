@@ -376,6 +376,7 @@ bool write_bundle(const CertifyArguments& arguments, const Network& network, con
 }
 
 int run_certify(const CertifyArguments& arguments) {
+  const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   const Network network = load_network(arguments.network_path);
   if (!arguments.points_path.empty()) {
     if (!arguments.bundle_path.empty()) throw usage_error("--bundle certifies the network's value; leave out --points");

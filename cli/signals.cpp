@@ -8,6 +8,7 @@ namespace {
 
 std::atomic<bool> interrupted{false};
 std::atomic<long long> first_signal_nanoseconds{0};
+int guard_depth = 0;  // guards are taken and dropped on the main thread only
 
 long long monotonic_nanoseconds() {
   timespec now{};
@@ -32,12 +33,14 @@ extern "C" void on_interrupt(int signal_number) {
 }  // namespace
 
 InterruptGuard::InterruptGuard() {
+  if (guard_depth++ > 0) return;
   interrupted.store(false);
   std::signal(SIGINT, on_interrupt);
   std::signal(SIGTERM, on_interrupt);
 }
 
 InterruptGuard::~InterruptGuard() {
+  if (--guard_depth > 0) return;
   std::signal(SIGINT, SIG_DFL);
   std::signal(SIGTERM, SIG_DFL);
 }

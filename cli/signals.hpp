@@ -1,6 +1,12 @@
 // Ctrl-C during a long run: the first SIGINT sets a flag the walker polls, so
 // the run stops cleanly and keeps what it found; a second one at least a
 // second later kills as usual.
+//
+// Guards nest: a command takes one before it reads its input (so a Ctrl-C
+// while a large network is read still ends in a clean, well-formed stop at
+// the job's first poll instead of killing the process), and the phases it
+// runs may take their own. Only the outermost guard clears the flag and
+// installs or restores the handlers.
 #pragma once
 
 #include <atomic>
@@ -9,8 +15,8 @@ namespace pleat::cli {
 
 class InterruptGuard {
  public:
-  InterruptGuard();   // installs the handler (SIGINT and SIGTERM)
-  ~InterruptGuard();  // restores the default
+  InterruptGuard();   // outermost: clears the flag, installs the handler (SIGINT and SIGTERM)
+  ~InterruptGuard();  // outermost: restores the default
   InterruptGuard(const InterruptGuard&) = delete;
   InterruptGuard& operator=(const InterruptGuard&) = delete;
   const std::atomic<bool>& flag() const;

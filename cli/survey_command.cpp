@@ -226,6 +226,7 @@ ShardSet selected_task(const SurveyArguments& arguments) {
 }
 
 int run_survey_command(const SurveyArguments& arguments) {
+  const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   if (arguments.architectures.empty()) throw input_error("--arch is required (e.g. --arch 2,5,5,5,1)");
   if (!arguments.seed) throw input_error("--seed is required");
   if (arguments.samples == 0) throw input_error("--samples: give the number of samples (at least 1)");

@@ -322,6 +322,7 @@ std::string track_svg(const std::vector<TrackRow>& rows, const Domain& domain) {
 }
 
 int run_track(const TrackArguments& arguments) {
+  const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   // Every checkpoint must read before any work starts (nothing computed is lost to a typo).
   std::optional<std::size_t> input_dim;
   for (const auto& path : arguments.checkpoints) {

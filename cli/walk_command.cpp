@@ -96,6 +96,7 @@ void write_interior_points(const Network& network, const std::string& path, cons
 }
 
 int run_walk(const WalkArguments& arguments) {
+  const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   const Network network = load_network(arguments.network_path);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
 

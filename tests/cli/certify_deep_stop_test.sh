@@ -41,7 +41,7 @@ assert d["parametric_dimension"] == 18003 and d["scaling_bound"] == 18003 - 6000
 assert d["lower_bound"] <= d["upper_bound"] <= d["scaling_bound"], d
 PY
 
-within 60 timeout --preserve-status -s INT 1 "$pleat" certify "$deep" --threads 1 --json -q > "$work/int.json"
+within 60 timeout --preserve-status -s INT "$(scaled 1)" "$pleat" certify "$deep" --threads 1 --json -q > "$work/int.json"
 status=$?
 [ $status -eq 130 ] || fail "certify under SIGINT exited $status, expected 130"
 "$python" - "$work/int.json" <<'PY' || fail "certify under SIGINT: not bounds: $(head -c 400 "$work/int.json")"

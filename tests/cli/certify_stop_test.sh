@@ -23,7 +23,7 @@ start=$(now)
 status=$?
 elapsed=$("$python" -c "print($(now) - $start)")
 [ $status = 0 ] || fail "time-limited certify exited $status"
-"$python" -c "import sys; sys.exit(0 if $elapsed < 10 else 1)" || fail "--time-limit 2 took $elapsed s"
+"$python" -c "import sys; sys.exit(0 if $elapsed < $(scaled 10) else 1)" || fail "--time-limit 2 took $elapsed s"
 [ "$(json_get "$work/limit.json" '(d["certified"], d["functional_dimension"], d["stop_reason"])')" \
   = "(False, None, 'time-limit')" ] || fail "time limit: $(head -c 600 "$work/limit.json")"
 [ "$(json_get "$work/limit.json" 'd["walk_complete"]')" = True ] && after_walk=1 || after_walk=0
@@ -32,11 +32,11 @@ elapsed=$("$python" -c "print($(now) - $start)")
 
 # An interrupt 2 s in: exit 130 within seconds, bounds, not certified.
 start=$(now)
-timeout --preserve-status -s INT 2 "$pleat" certify "$net" --json -q --full-walk > "$work/int.json"
+timeout --preserve-status -s INT "$(scaled 2)" "$pleat" certify "$net" --json -q --full-walk > "$work/int.json"
 status=$?
 elapsed=$("$python" -c "print($(now) - $start)")
 [ $status = 130 ] || fail "interrupted certify exited $status, expected 130"
-"$python" -c "import sys; sys.exit(0 if $elapsed < 10 else 1)" || fail "the interrupt took $elapsed s to act"
+"$python" -c "import sys; sys.exit(0 if $elapsed < $(scaled 10) else 1)" || fail "the interrupt took $elapsed s to act"
 [ "$(json_get "$work/int.json" '(d["certified"], d["stop_reason"])')" = "(False, 'interrupted')" ] ||
   fail "interrupt: $(head -c 600 "$work/int.json")"
 out=$("$pleat" certify "$net" -q --full-walk --time-limit 2) || fail "human output exited $?"

@@ -34,7 +34,7 @@ d = json.load(open(sys.argv[1]))
 assert d["stop_reason"] == "time-limit" and not d["certified"] and not d["complete"], d
 PY
 
-within 8 timeout --preserve-status -s INT 1 "$pleat" walk "$deep" --threads 1 --json -q > "$work/interrupted.json"
+within 8 timeout --preserve-status -s INT "$(scaled 1)" "$pleat" walk "$deep" --threads 1 --json -q > "$work/interrupted.json"
 status=$?
 [ $status -eq 130 ] || fail "walk under SIGINT exited $status, expected 130"
 grep -q '"interrupted"' "$work/interrupted.json" || fail "walk under SIGINT: no interrupted summary"

@@ -7,11 +7,7 @@
 # `timeout --foreground --preserve-status -s INT`, which signals only pleat itself; plain
 # `timeout -s INT` signals it twice (see walk_interrupt_timeout_test.sh).
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 python=/usr/bin/python3
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipping"; exit 77; }
 
@@ -33,7 +29,7 @@ PY
 }
 
 # Human summary.
-timeout --foreground --preserve-status -s INT 1 "$pleat" walk "$big" -o "$work/a.jsonl" > "$work/a.out" 2> "$work/a.err"
+timeout --foreground --preserve-status -s INT "$(scaled 1)" "$pleat" walk "$big" -o "$work/a.jsonl" > "$work/a.out" 2> "$work/a.err"
 status=$?
 [ $status -eq 130 ] || fail "interrupted walk exited $status, expected 130 (stderr: $(cat "$work/a.err"))"
 kept=$(check_partial_file "$work/a.jsonl")
@@ -43,7 +39,7 @@ grep -q "regions     >= $kept " "$work/a.out" || fail "summary does not give '>=
 grep -q "interrupted" "$work/a.err" || fail "no interruption note on standard error"
 
 # --json.
-timeout --foreground --preserve-status -s INT 1 "$pleat" walk "$big" -o "$work/b.jsonl" --json > "$work/b.json" 2> "$work/b.err"
+timeout --foreground --preserve-status -s INT "$(scaled 1)" "$pleat" walk "$big" -o "$work/b.jsonl" --json > "$work/b.json" 2> "$work/b.err"
 status=$?
 [ $status -eq 130 ] || fail "interrupted --json walk exited $status, expected 130"
 kept=$(check_partial_file "$work/b.jsonl")

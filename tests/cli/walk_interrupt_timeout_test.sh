@@ -6,16 +6,12 @@
 # second as the same request (it used to die silently from the second one in
 # about 1 run in 5). This test tries 20 times and fails at the first death.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 
 big=$work/big.json
 "$pleat" random --arch 3,12,12,1 --seed 3 -o "$big" || fail "pleat random exited $?"
 for try in $(seq 20); do
-  timeout --preserve-status -s INT 0.4 "$pleat" walk "$big" -o "$work/r.jsonl" --json > "$work/out" 2> "$work/err"
+  timeout --preserve-status -s INT "$(scaled 0.4)" "$pleat" walk "$big" -o "$work/r.jsonl" --json > "$work/out" 2> "$work/err"
   status=$?
   [ $status -eq 130 ] || fail "try $try: exited $status, expected 130"
   [ -s "$work/out" ] ||
