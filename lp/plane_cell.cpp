@@ -33,27 +33,40 @@ struct Rows {
 
 // ---- exact signs: filtered, then integers --------------------------------------
 
-// A rational point as integer numerators over one positive denominator.
-struct ScaledPoint {
-  Integer x0, x1, denominator;
-  double image[2];
-  explicit ScaledPoint(const RationalVector& point) {
-    mpz_lcm(denominator.get_mpz_t(), point[0].get_den_mpz_t(), point[1].get_den_mpz_t());
-    x0 = point[0].get_num() * (denominator / point[0].get_den());
-    x1 = point[1].get_num() * (denominator / point[1].get_den());
+// A rational point: its filter images, and (built only when a filter
+// cannot decide) integer numerators over one positive denominator.
+class ScaledPoint {
+ public:
+  explicit ScaledPoint(const RationalVector& point) : point_(point) {
     image[0] = filter_image(point[0]);
     image[1] = filter_image(point[1]);
   }
+  double image[2];
+
+  // sign(a0 x0 + a1 x1 + c) exactly.
+  int exact_sign(const PlaneRow& row) {
+    if (!is_scaled_) {
+      mpz_lcm(denominator_.get_mpz_t(), point_[0].get_den_mpz_t(), point_[1].get_den_mpz_t());
+      x0_ = point_[0].get_num() * (denominator_ / point_[0].get_den());
+      x1_ = point_[1].get_num() * (denominator_ / point_[1].get_den());
+      is_scaled_ = true;
+    }
+    Integer sum = row.c * denominator_;
+    sum += row.a0 * x0_;
+    sum += row.a1 * x1_;
+    return sgn(sum);
+  }
+
+ private:
+  const RationalVector& point_;
+  bool is_scaled_ = false;
+  Integer x0_, x1_, denominator_;
 };
 
 // sign(a0 x0 + a1 x1 + c) at the point, exactly.
-int sign_at(const Rows& rows, std::size_t i, const ScaledPoint& point) {
+int sign_at(const Rows& rows, std::size_t i, ScaledPoint& point) {
   if (std::optional<int> sign = filtered_affine_sign(rows.image(i), point.image, 2, rows.image(i)[2])) return *sign;
-  const PlaneRow& row = rows.exact[i];
-  Integer sum = row.c * point.denominator;
-  sum += row.a0 * point.x0;
-  sum += row.a1 * point.x1;
-  return sgn(sum);
+  return point.exact_sign(rows.exact[i]);
 }
 
 // sign(det [a_i; a_j]) of two normals, exactly.
@@ -185,9 +198,35 @@ double max_norm(const Point& x) { return std::max(std::fabs(x[0]), std::fabs(x[1
 
 // ---- rounding to short exact points ------------------------------------------------
 
-// The simplest rational within radius of value (radius <= 0: value itself).
+// A rational with a short denominator within radius of value (radius <= 0:
+// value itself): the first continued-fraction convergent of value that is
+// that close (in 64-bit integers), else the simplest rational in the
+// interval. Only a proposal: callers check the point exactly.
 Rational round_coordinate(double value, double radius) {
   if (!(radius > 0.0)) return Rational(value);
+  constexpr double limit = 0x1p52;  // convergents stay exact in double and in 64 bits
+  if (std::fabs(value) < limit) {
+    long h = 1, h_before = 0, k = 0, k_before = 1;
+    double rest = value;
+    for (int step = 0; step < 40; ++step) {
+      const double term = std::floor(rest);
+      const double next_h = term * static_cast<double>(h) + static_cast<double>(h_before);
+      const double next_k = term * static_cast<double>(k) + static_cast<double>(k_before);
+      if (!(std::fabs(next_h) < limit && next_k < limit)) break;
+      h_before = h;
+      k_before = k;
+      h = static_cast<long>(next_h);
+      k = static_cast<long>(next_k);
+      if (std::fabs(value - static_cast<double>(h) / static_cast<double>(k)) < radius) {
+        Rational result{Integer(h), Integer(k)};
+        result.canonicalize();  // convergents are in lowest terms; cheap insurance
+        return result;
+      }
+      const double fraction = rest - term;
+      if (fraction == 0.0) break;
+      rest = 1.0 / fraction;
+    }
+  }
   return detail::simplest_between(Rational(value - radius), Rational(value + radius));
 }
 
@@ -298,7 +337,7 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
   for (std::size_t k = 0; k < g; ++k) least = std::min(least, lines[k].slack(centre));
   if (!(least > 0.0)) return std::nullopt;
   const auto is_strictly_inside = [&](const RationalVector& x) {
-    const ScaledPoint scaled(x);
+    ScaledPoint scaled(x);
     for (std::size_t k = 0; k < g; ++k)
       if (sign_at(rows, representative[k], scaled) <= 0) return false;
     return true;  // group members are positive multiples of their representative
@@ -348,7 +387,7 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
       mpq_set_den(solved.get_mpq_t(), denominator.get_mpz_t());
       solved.canonicalize();
       RationalVector x = solve_first ? RationalVector{solved, other} : RationalVector{other, solved};
-      const ScaledPoint scaled(x);
+      ScaledPoint scaled(x);
       bool holds = true;
       for (std::size_t o = 0; o < g && holds; ++o)
         if (o != k) holds = sign_at(rows, representative[o], scaled) > 0;
