@@ -314,34 +314,61 @@ def check_classification(cell, cert, where):
     return [(members, numbers(g["point"], len(constraints[0][0]), where)) for members, g in facet_groups]
 
 
+def check_empty_across(net, domain, candidate, q, multipliers, where):
+    """A candidate region next to q has no interior there: Gordan multipliers
+    y >= 0, not all zero, over the constraints of its cell that vanish at q
+    (in cell order), with sum y a = 0 (no direction enters all of them)."""
+    label = "|".join("".join(net.states_of_layer(candidate, k)) for k in range(net.relu_layers))
+    far = net.cell(candidate, domain)
+    if far is None or any(slack(c, q) < 0 for c in far[0]):
+        raise Rejected(f"{where}: {label} is claimed empty, but it is no cell or does not hold the facet point")
+    cone = [c[0] for c in far[0] if slack(c, q) == 0]
+    y = numbers(multipliers, len(cone), f"{where}: the multipliers for {label}")
+    if any(v < 0 for v in y) or all(v == 0 for v in y) or \
+            any(sum(v * a[t] for v, a in zip(y, cone)) != 0 for t in range(net.n0)):
+        raise Rejected(f"{where}: the proof that {label} is empty next to the facet point does not check")
+
+
 def check_crossings(net, domain, index, region, pattern, cell, facet_groups, listed):
     """Every region next to an interior facet point on the far side is in the
-    list, or its cell is empty there (checked Gordan multipliers)."""
+    list, or its cell is empty there (checked Gordan multipliers). Every
+    empty_across claim is checked, needed or not.
+
+    At a facet point (only the facet's group vanishes) the far side is one
+    pattern: by induction over the layers, a neuron that vanishes there has a
+    far-side map equal to its near one plus a multiple of the facet's affine
+    function, and its near map is 0 or such a multiple (it would be a tight
+    constraint), so it is 'z' or parallel, never transversal. Bundles from
+    pleat therefore carry no empty_across; the check stays general."""
     constraints, owners = cell
     facets = region.get("facets", [])
     if len(facets) != len(facet_groups):
         raise Rejected(f"region {index}: {len(facets)} facets listed, {len(facet_groups)} certified")
     for f, ((members, q), facet) in enumerate(zip(facet_groups, facets)):
+        claims = facet.get("empty_across", [])
+        where = f"region {index} facet {f}"
         if any(owners[m] is None for m in members):
+            if claims:
+                raise Rejected(f"{where}: empty_across on the domain's boundary, where nothing lies across")
             continue  # on the domain's boundary: nothing lies across
-        proofs = {net.parse_pattern(e["pattern"], f"region {index} facet {f}"): e["multipliers"]
-                  for e in facet.get("empty_across", [])}
-        for candidate in net.patterns_across(pattern, q, constraints[members[0]][0]):
-            if candidate in listed or candidate == pattern:
+        candidates = net.patterns_across(pattern, q, constraints[members[0]][0])
+        proofs = {}
+        for claim in claims:
+            claimed = net.parse_pattern(claim["pattern"], f"{where} empty_across")
+            if claimed not in candidates:
+                raise Rejected(f"{where}: empty_across names {claim['pattern']}, which crossing at the facet "
+                               "point cannot reach")
+            check_empty_across(net, domain, claimed, q, claim["multipliers"], where)
+            proofs[claimed] = claim
+        for candidate in candidates:
+            if candidate in listed or candidate == pattern or candidate in proofs:
                 continue
             far = net.cell(candidate, domain)
             if far is None or any(slack(c, q) < 0 for c in far[0]):
                 continue  # not a cell, or the facet point is outside its closure
-            cone = [c[0] for c in far[0] if slack(c, q) == 0]
             label = "|".join("".join(net.states_of_layer(candidate, k)) for k in range(net.relu_layers))
-            y = proofs.get(candidate)
-            if y is None:
-                raise Rejected(f"region {index} ({region['pattern']}): region {label} lies across its facet {f} "
-                               f"at the facet point but is not in the list: the list is incomplete")
-            y = numbers(y, len(cone), f"region {index} facet {f} empty_across")
-            if any(v < 0 for v in y) or all(v == 0 for v in y) or \
-                    any(sum(v * a[t] for v, a in zip(y, cone)) != 0 for t in range(net.n0)):
-                raise Rejected(f"region {index}: the proof that {label} is empty across facet {f} does not check")
+            raise Rejected(f"region {index} ({region['pattern']}): region {label} lies across its facet {f} "
+                           f"at the facet point but is not in the list: the list is incomplete")
 
 
 def check(bundle):

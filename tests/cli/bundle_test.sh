@@ -105,6 +105,85 @@ expect_reject point "the point is not strictly inside"
 expect_reject nonfacet "non-facet certificate of group .* does not check"
 expect_reject weight "differs from row"
 
+# empty_across. At a facet point the far side is one pattern (the argument is
+# in check_bundle.py's check_crossings), so no bundle pleat writes needs an
+# empty_across proof: assert that on every bundle above, with the checker's own
+# crossing code. The proofs are then checked where they are needed, at the
+# vertex (0,0) of tests/data/opposite_pair2d.json (relu(x), relu(y), relu(-y)),
+# reasoned by hand: crossing x = 0 from the region x > 0, y > 0 (pattern 110)
+# there leaves every y-state open, so four patterns 0ab; 011 (y > 0 and
+# -y > 0) and 000 (y < 0 and -y < 0) are empty, each by the multipliers
+# (0, 1, 1) over the normals (-1, 0), (0, 1), (0, -1) / (-1, 0), (0, -1), (0, 1).
+# A bundle that claims its true neighbour empty is rejected.
+"$pleat" certify "$source_dir/tests/data/opposite_pair2d.json" -q --bundle "$work/pair.json" > /dev/null ||
+  fail "certify opposite_pair2d exited $?"
+"$python" - "$checker" "$work" "${bundles[@]}" <<'PY' || fail "empty_across checks"
+import importlib.util, json, sys
+from fractions import Fraction as Q
+spec = importlib.util.spec_from_file_location("check_bundle", sys.argv[1])
+cb = importlib.util.module_from_spec(spec); spec.loader.exec_module(cb)
+work = sys.argv[2]
+
+crossings = 0
+for path in sys.argv[3:]:
+    doc = json.load(open(path))
+    if not doc["every_region"]:
+        continue
+    net = cb.Network(doc["network"])
+    domain = cb.domain_constraints(doc["domain"], net.n0)
+    listed = {net.parse_pattern(r["pattern"], "") for r in doc["regions"]}
+    for r in doc["regions"]:
+        pattern = net.parse_pattern(r["pattern"], "")
+        assert not any("empty_across" in f for f in r["facets"]), (path, r["pattern"])
+        cell = net.cell(pattern, domain)
+        for members, q in cb.check_classification(cell, r["certificate"], ""):
+            if any(cell[1][m] is None for m in members):
+                continue
+            across = net.patterns_across(pattern, q, cell[0][members[0]][0])
+            assert len(across) == 1 and across[0] in listed, (path, r["pattern"], across)
+            crossings += 1
+assert crossings > 100, crossings
+
+doc = json.load(open(f"{work}/pair.json"))
+net = cb.Network(doc["network"])
+P = lambda text: net.parse_pattern(text, "")
+near, origin = P("110"), [Q(0), Q(0)]
+cell = net.cell(near, [])
+assert cell[0][0] == ([Q(1), Q(0)], Q(0)), cell  # constraint 0 is x > 0
+across = net.patterns_across(near, origin, [Q(1), Q(0)])
+assert across == sorted(P(t) for t in ("000", "001", "010", "011")), across
+for empty in ("011", "000"):
+    cb.check_empty_across(net, [], P(empty), origin, ["0", "1", "1"], "t")
+
+def rejected(call, message):
+    try:
+        call()
+    except cb.Rejected as failure:
+        assert message in str(failure), str(failure)
+        return
+    raise AssertionError(f"accepted; expected {message!r}")
+
+rejected(lambda: cb.check_empty_across(net, [], P("011"), origin, ["1", "0", "0"], "t"), "does not check")
+rejected(lambda: cb.check_empty_across(net, [], P("011"), origin, ["0", "-1", "-1"], "t"), "does not check")
+rejected(lambda: cb.check_empty_across(net, [], P("010"), origin, ["0", "1", "1"], "t"), "does not check")
+claims = [{"pattern": "011", "multipliers": ["0", "1", "1"]}, {"pattern": "000", "multipliers": ["0", "5", "5"]}]
+listed = {near, P("010"), P("001")}
+def crossing(empty_across):
+    region = {"pattern": "110", "facets": [{"empty_across": empty_across}]}
+    cb.check_crossings(net, [], 0, region, near, cell, [([0], origin)], listed)
+crossing(claims)
+rejected(lambda: crossing(claims[:1]), "region 000 lies across its facet 0 at the facet point but is not in the list")
+rejected(lambda: crossing(claims + [{"pattern": "010", "multipliers": ["0", "1", "1"]}]), "010 is empty next to")
+rejected(lambda: crossing(claims + [{"pattern": "111", "multipliers": ["1"]}]), "cannot reach")
+
+# A whole bundle claiming the true neighbour across an interior facet empty.
+region = doc["regions"][0]
+facet = next(f for f in region["facets"] if f["side"] is None)
+facet["empty_across"] = [{"pattern": facet["neighbor"], "multipliers": ["1"]}]
+json.dump(doc, open(f"{work}/t_neighbour.json", "w"))
+PY
+expect_reject neighbour "is empty next to the facet point does not check"
+
 # Unreadable input: exit 2.
 echo "{" > "$work/broken.json"
 "$python" "$checker" "$work/broken.json" 2> /dev/null; [ $? = 2 ] || fail "a broken file must exit 2"
