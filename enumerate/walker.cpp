@@ -447,14 +447,15 @@ struct Processed {
 
 class RegionProcessor {
  public:
-  RegionProcessor(const Network& network, const Domain& domain, bool keep_certificates, bool exact_only = false)
+  RegionProcessor(const Network& network, const Domain& domain, bool keep_certificates, bool exact_only = false,
+                  bool is_plane_path_allowed = true)
       : network_(network),
         domain_(domain),
         keep_certificates_(keep_certificates),
         exact_only_(exact_only),
         layers_(integer_layers(network)),
         oracle_(lp::FilterTolerances{.exact_only = exact_only}) {
-    is_plane_path_ = network.input_dim == 2 && !exact_only;
+    is_plane_path_ = network.input_dim == 2 && !exact_only && is_plane_path_allowed;
     if (!is_plane_path_) return;
     identity_ = IntegerMap{2, 2, {Integer(1), Integer(0), Integer(0), Integer(1)}, {Integer(0), Integer(0)}, Integer(1)};
     for (const lp::Constraint& side : domain.constraints) {
@@ -1136,7 +1137,9 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
 std::optional<Region> describe_region(const Network& network, const Domain& domain,
                                       const ActivationPattern& pattern, bool keep_certificates) {
   if (domain.dim != network.input_dim) throw usage_error("describe_region: domain and network dimensions differ");
-  RegionProcessor processor(network, domain, keep_certificates);
+  // The oracle path alone: the point is the Chebyshev-style centre of
+  // lp::Oracle::find_centre, as `pleat inspect` has always printed it.
+  RegionProcessor processor(network, domain, keep_certificates, false, /*is_plane_path_allowed=*/false);
   Processed processed = processor.process(pattern);
   if (!processed.is_region) return std::nullopt;
   return std::move(processed.region);
