@@ -5,11 +5,13 @@
 // doubles.
 #include "cli/command.hpp"
 #include "cli/common.hpp"
+#include "cli/domain_options.hpp"
 #include "cli/figure.hpp"
 #include "cli/figure_region_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/signals.hpp"
 #include "core/jacobian.hpp"
+#include "core/rank.hpp"
 #include "core/stop.hpp"
 #include "enumerate/region_geometry.hpp"
 #include "enumerate/walker.hpp"
@@ -32,11 +34,14 @@ struct DrawArguments {
   std::string view_text;
   std::string colour_by = "region";
   std::string from_path;
+  DomainOptions domain;
   bool labels = false;
   bool no_lines = false;
   bool no_stats = false;
   bool no_legend = false;
   std::string title;
+  std::string size_text;
+  std::string table_path;
   bool quiet = false;
   std::uint64_t threads = 0;
 };
@@ -58,10 +63,76 @@ struct View {
   RationalVector lower, upper;
 };
 
+// What is drawn: the regions, the view, whether the cells are clipped by the
+// domain's sides too (a saved walk, --domain), and how many regions the
+// domain has in all when known (so the figure can say how many lie outside).
+struct Scene {
+  View view;
+  std::vector<Region> regions;
+  bool with_domain_sides = false;
+  std::optional<std::size_t> total_regions;
+};
+
+// "3 regions outside the view" (nothing when none or not known).
+std::vector<std::string> outside_note(const Scene& scene, std::size_t drawn) {
+  if (!scene.total_regions || *scene.total_regions <= drawn) return {};
+  return {count_of(*scene.total_regions - drawn, "region") + " outside the view"};
+}
+
 std::string describe_view(const View& view) {
   std::string text;
   for (std::size_t i = 0; i < view.lower.size(); ++i)
     text += (i ? "x" : "") + std::string("[") + format_rational(view.lower[i]) + "," + format_rational(view.upper[i]) + "]";
+  return text;
+}
+
+// --size W,H: each a positive number with a unit, cm or px (96 px to the
+// inch); "12,8cm" gives both the last one's unit.
+struct FigureSize {
+  double width_cm = 0, height_cm = 0;
+};
+
+FigureSize parse_size(const std::string& text) {
+  const std::string usage = "--size: expected W,H with a unit, cm or px (12cm,8cm or 600,400px), found '" + text + "'";
+  const std::size_t comma = text.find(',');
+  if (comma == std::string::npos || text.find(',', comma + 1) != std::string::npos) throw input_error(usage);
+  std::string parts[2] = {text.substr(0, comma), text.substr(comma + 1)};
+  auto unit_of = [](const std::string& part) {
+    for (const char* unit : {"cm", "px"})
+      if (part.size() > 2 && part.compare(part.size() - 2, 2, unit) == 0) return std::string(unit);
+    return std::string();
+  };
+  const std::string last_unit = unit_of(parts[1]);
+  if (last_unit.empty()) throw input_error(usage);
+  double cm[2];
+  for (int k = 0; k < 2; ++k) {
+    std::string unit = unit_of(parts[k]);
+    std::string digits = unit.empty() ? parts[k] : parts[k].substr(0, parts[k].size() - 2);
+    if (unit.empty()) unit = last_unit;
+    char* end = nullptr;
+    const double value = std::strtod(digits.c_str(), &end);
+    if (digits.empty() || end != digits.c_str() + digits.size() || !std::isfinite(value)) throw input_error(usage);
+    cm[k] = unit == "cm" ? value : value * 2.54 / 96;
+    if (!(cm[k] >= 3 && cm[k] <= 200))
+      throw input_error("--size: each side must be between 3 cm and 200 cm (114 px and 7559 px), found '" + parts[k] + "'");
+  }
+  return FigureSize{cm[0], cm[1]};
+}
+
+// The figure's size in the writer's unit: px for SVG, cm for TikZ.
+void apply_size(Figure& figure, const DrawArguments& arguments, Format format) {
+  if (arguments.size_text.empty()) return;
+  const FigureSize size = parse_size(arguments.size_text);
+  const double scale = format == Format::svg ? 96 / 2.54 : 1.0;
+  figure.width = size.width_cm * scale;
+  figure.height = size.height_cm * scale;
+}
+
+// "XMIN,XMAX,YMIN,YMAX" for --view.
+std::string view_option_text(const View& view) {
+  std::string text;
+  for (std::size_t i = 0; i < view.lower.size(); ++i)
+    text += (i ? "," : "") + format_rational(view.lower[i]) + "," + format_rational(view.upper[i]);
   return text;
 }
 
@@ -93,37 +164,94 @@ lp::Polyhedron closed_cell(const Region& region, bool with_domain_sides) {
   return cell;
 }
 
-// A view holding every vertex of the regions (all breakpoints for one input)
-// with a margin, rounded outwards to a tick step.
-View fitted_view(const std::vector<Region>& regions, std::size_t dim) {
-  std::vector<double> low(dim, std::numeric_limits<double>::infinity()), high(dim, -low[0]);
-  auto include = [&](const RationalVector& p) {
-    for (std::size_t i = 0; i < dim; ++i) {
-      low[i] = std::min(low[i], to_double(p[i]));
-      high[i] = std::max(high[i], to_double(p[i]));
-    }
-  };
+// The distinct vertices of the arrangement: those of the pointed regions
+// (every breakpoint for one input).
+std::vector<RationalVector> arrangement_vertices(const std::vector<Region>& regions) {
+  std::set<RationalVector> vertices;
   for (const auto& region : regions) {
     poll_stop();
     const VertexRepresentation rep = vertex_representation(closed_cell(region, true), region.point);
     if (rep.lines.empty())  // pointed: its points are vertices of the arrangement
-      for (const auto& p : rep.points) include(p);
+      vertices.insert(rep.points.begin(), rep.points.end());
   }
-  if (!(low[0] <= high[0]))  // no vertex at all (parallel hyperplanes): points on the facets
-    for (const auto& region : regions)
-      for (const auto& facet : region.facets)
-        if (!facet.point.empty()) include(facet.point);
+  return {vertices.begin(), vertices.end()};
+}
+
+// [lo, hi] per axis with a margin, rounded outwards to a tick step.
+View rounded_view(const std::vector<double>& low, const std::vector<double>& high) {
   View view;
-  for (std::size_t i = 0; i < dim; ++i) {
-    if (!(low[i] <= high[i])) low[i] = high[i] = 0;
+  for (std::size_t i = 0; i < low.size(); ++i) {
     const double margin = std::max(0.2 * (high[i] - low[i]), 0.5);
     const double lo = low[i] - margin, hi = high[i] + margin;
     const std::vector<double> ticks = nice_ticks(lo, hi);
     const double step = ticks.size() >= 2 ? ticks[1] - ticks[0] : 1.0;
-    view.lower.push_back(rational_from_double(std::floor(lo / step) * step));
-    view.upper.push_back(rational_from_double(std::ceil(hi / step) * step));
+    // Whole multiples of the exact step (1, 2 or 5 times a power of ten): "1.4", not its binary double.
+    const Rational exact_step = parse_rational(tick_text(step));
+    view.lower.push_back(exact_step * Rational(static_cast<long>(std::floor(lo / step))));
+    view.upper.push_back(exact_step * Rational(static_cast<long>(std::ceil(hi / step))));
   }
   return view;
+}
+
+struct FittedView {
+  View view;
+  View every_vertex;     // around every vertex (the view when they are not spread out)
+  bool is_bulk = false;  // view is narrower than every_vertex
+  std::size_t vertices = 0, vertices_outside = 0;
+};
+
+// The shortest interval [values[k], values[k + count - 1]] of sorted values.
+std::pair<double, double> shortest_interval(const std::vector<double>& values, std::size_t count) {
+  std::size_t best = 0;
+  for (std::size_t k = 1; k + count <= values.size(); ++k)
+    if (values[k + count - 1] - values[k] < values[best + count - 1] - values[best]) best = k;
+  return {values[best], values[best + count - 1]};
+}
+
+// The default view. A trained network's hyperplanes meet mostly near the data
+// but a few nearly parallel ones meet hundreds of units away; a view around
+// every vertex then crushes the structure into a dot. Per axis the bulk is the
+// shortest interval holding half of the vertices' coordinates, widened by its
+// own length on each side (at least a third of the shortest interval holding
+// three quarters, so that coincident vertices do not shrink it to a point); where
+// every vertex fits within 1.5 times that, the axis holds them all, else the
+// bulk (and the caller says what lies outside).
+FittedView fitted_view(const std::vector<Region>& regions, std::size_t dim) {
+  std::vector<RationalVector> vertices = arrangement_vertices(regions);
+  if (vertices.empty())  // no vertex at all (parallel hyperplanes): points on the facets
+    for (const auto& region : regions)
+      for (const auto& facet : region.facets)
+        if (!facet.point.empty()) vertices.push_back(facet.point);
+  FittedView fitted;
+  fitted.vertices = vertices.size();
+  std::vector<double> low(dim, 0), high(dim, 0), bulk_low(dim, 0), bulk_high(dim, 0);
+  for (std::size_t i = 0; i < dim && !vertices.empty(); ++i) {
+    std::vector<double> values;
+    for (const auto& p : vertices) values.push_back(to_double(p[i]));
+    std::sort(values.begin(), values.end());
+    low[i] = values.front();
+    high[i] = values.back();
+    const auto [first, last] = shortest_interval(values, (values.size() + 1) / 2);
+    const auto [first_3, last_3] = shortest_interval(values, (3 * values.size() + 3) / 4);
+    const double length = std::max(last - first, (last_3 - first_3) / 3);
+    bulk_low[i] = std::max(low[i], first - length);
+    bulk_high[i] = std::min(high[i], last + length);
+    if (high[i] - low[i] > 1.5 * (bulk_high[i] - bulk_low[i])) fitted.is_bulk = true;
+    else bulk_low[i] = low[i], bulk_high[i] = high[i];
+  }
+  fitted.every_vertex = rounded_view(low, high);
+  fitted.view = fitted.is_bulk ? rounded_view(bulk_low, bulk_high) : fitted.every_vertex;
+  for (const auto& p : vertices)
+    for (std::size_t i = 0; i < dim; ++i)
+      if (p[i] < fitted.view.lower[i] || p[i] > fitted.view.upper[i]) {
+        ++fitted.vertices_outside;
+        break;
+      }
+  if (fitted.vertices_outside == 0) {  // the rounded bulk holds them all after all
+    fitted.view = fitted.every_vertex;
+    fitted.is_bulk = false;
+  }
+  return fitted;
 }
 
 // Smallest-last greedy colouring: remove a vertex of least remaining degree
@@ -188,6 +316,27 @@ void add_stats(Figure& figure, const DrawArguments& arguments, const std::vector
   if (arguments.no_stats) return;
   figure.notes.push_back("");
   figure.notes.insert(figure.notes.end(), lines.begin(), lines.end());
+}
+
+// Per region (in the order given), how many of its coefficient-block rows
+// raise the rank of all rows of the regions before it in walk order (by id):
+// on a trained network every region has the same rank of its own, but few
+// add anything new. Counted modulo a prime: rows kept are independent over Q
+// too (a nonsingular minor mod p), so the counts add up to a lower bound of
+// the rank; a non-smooth region has no rows.
+std::vector<std::size_t> new_rows_in_walk_order(const Network& network, const std::vector<const Region*>& regions) {
+  std::vector<std::size_t> order(regions.size()), rows(regions.size(), 0);
+  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return regions[a]->id < regions[b]->id; });
+  const ModularNetwork modular = reduce_modulo_some_prime(network, primary_prime());
+  ModularRowBasis basis(modular.prime, network.parametric_dimension());
+  for (std::size_t i : order) {
+    poll_stop();
+    if (!regions[i]->nonsmooth_neurons.empty() || basis.rank() == basis.columns()) continue;
+    const ModularMatrix block = coefficient_blocks_mod(modular, regions[i]->pattern);
+    for (std::size_t r = 0; r < block.rows(); ++r) rows[i] += basis.add_row(block.row(r)) ? 1 : 0;
+  }
+  return rows;
 }
 
 // Fills figure.colours / polygon colours / legend for the chosen mode.
@@ -256,38 +405,68 @@ void colour_regions(const Network& network, const std::vector<const Region*>& re
           FigureSwatch{figure.colours.size() - 1, fixed_point_text(low + (high - low) * step / 4.0, decimals)});
     }
   } else {  // rank
+    const std::vector<std::size_t> rows = new_rows_in_walk_order(network, regions);
     const std::size_t most = network.output_dim() * (network.input_dim + 1);
     std::map<std::size_t, std::size_t> count;
-    std::vector<std::size_t> rank(n);
-    for (std::size_t i = 0; i < n; ++i) ++count[rank[i] = rank_contribution(network, regions[i]->pattern)];
+    std::size_t total = 0;
+    for (std::size_t r : rows) ++count[r], total += r;
     for (std::size_t r = 0; r <= most; ++r) figure.colours.push_back(sequential_colour(static_cast<double>(r) / most));
-    for (std::size_t i = 0; i < n; ++i) colour[i] = rank[i];
-    figure.legend_title = "Rank contribution";
+    for (std::size_t i = 0; i < n; ++i) colour[i] = rows[i];
+    figure.legend_title = "New rows (walk order)";
     for (const auto& [r, k] : count)
-      figure.swatches.push_back(
-          FigureSwatch{r, std::to_string(r) + " row" + (r == 1 ? "" : "s") + ": " + std::to_string(k) + (k == 1 ? " region" : " regions")});
+      figure.swatches.push_back(FigureSwatch{r, count_of(r, "row") + ": " + count_of(k, "region")});
+    figure.notes.push_back("rows each region adds to the rank");
+    figure.notes.push_back("of those before it; all together");
+    figure.notes.push_back("rank " + std::to_string(total) + " or more (exact: certify)");
   }
   for (auto& polygon : figure.polygons) polygon.colour = colour[polygon.region];
 }
 
+// Regions narrower than this in the SVG are reported: a reader cannot see them.
+constexpr double thin_width_px = 3;
+
 struct Drawn {
   std::string text;
+  std::string table;  // --table: one row per region drawn (per face of a mesh)
   std::size_t vertices = 0, edges = 0, regions = 0;
+  std::size_t thin = 0;  // regions under thin_width_px wide in the SVG (2 inputs)
 };
 
-Drawn draw_plane(const Network& network, const std::vector<Region>& regions, const View& view, bool from_file,
-                 const DrawArguments& arguments, Format format) {
+// The side table of the regions drawn: the number on the map (the region's
+// id in the walk), its pattern, and an exact point inside it.
+std::string region_table(const Network& network, const std::vector<const Region*>& regions) {
+  const std::size_t dim = network.input_dim;
+  std::ostringstream out;
+  const char* axes[] = {"x", "y", "z"};
+  out << "region,pattern";
+  for (std::size_t i = 0; i < dim && i < 3; ++i) out << "," << axes[i] << "_exact";
+  for (std::size_t i = 0; i < dim && i < 3; ++i) out << "," << axes[i];
+  out << "\n";
+  std::vector<const Region*> sorted = regions;
+  std::sort(sorted.begin(), sorted.end(), [](const Region* a, const Region* b) { return a->id < b->id; });
+  for (const Region* region : sorted) {
+    out << region->id << "," << format_pattern(network, region->pattern);
+    for (const auto& v : region->point) out << "," << format_rational(v);
+    for (const auto& v : region->point) out << "," << format_double(to_double(v));
+    out << "\n";
+  }
+  return out.str();
+}
+
+Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments& arguments, Format format) {
+  const std::vector<Region>& regions = scene.regions;
+  const View& view = scene.view;
   std::vector<Polygon> polygons;
   std::vector<const Region*> drawn;
   for (const auto& region : regions) {
     poll_stop();
-    Polygon polygon = clip_rectangle(view.lower, view.upper, closed_cell(region, from_file).constraints);
+    Polygon polygon = clip_rectangle(view.lower, view.upper, closed_cell(region, scene.with_domain_sides).constraints);
     if (polygon.vertices.size() < 3) continue;
     polygons.push_back(std::move(polygon));
     drawn.push_back(&region);
   }
   const PlanarComplex complex = planar_complex(polygons);
-  Drawn result{"", complex.vertices.size(), complex.edges.size(), polygons.size()};
+  Drawn result{"", region_table(network, drawn), complex.vertices.size(), complex.edges.size(), polygons.size()};
 
   if (format == Format::csv) {
     std::ostringstream out;
@@ -355,6 +534,7 @@ Drawn draw_plane(const Network& network, const std::vector<Region>& regions, con
     FigurePolygon polygon;
     polygon.region = i;  // replaced by the region id below, after colouring
     polygon.pattern = format_pattern(network, drawn[i]->pattern);
+    polygon.number = std::to_string(drawn[i]->id);
     FigurePoint centre;
     for (const auto& p : polygons[i].vertices) {
       polygon.vertices.push_back(point_of(p));
@@ -366,15 +546,19 @@ Drawn draw_plane(const Network& network, const std::vector<Region>& regions, con
   }
   colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
   for (std::size_t i = 0; i < polygons.size(); ++i) figure.polygons[i].region = drawn[i]->id;
-  add_stats(figure, arguments,
-            {count_of(result.regions, "region") + ", " + count_of(result.edges, "edge") + ",",
-             count_of(result.vertices, "vertex", "vertices") + " in the view"});
+  std::vector<std::string> stats{count_of(result.regions, "region") + ", " + count_of(result.edges, "edge") + ",",
+                                 count_of(result.vertices, "vertex", "vertices") + " in the view"};
+  apply_size(figure, arguments, format);
+  result.thin = thin_regions_svg(figure, thin_width_px);
+  for (auto& note : outside_note(scene, result.regions)) stats.push_back(std::move(note));
+  add_stats(figure, arguments, stats);
   result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
   return result;
 }
 
-Drawn draw_line(const Network& network, const std::vector<Region>& regions, const View& view,
-                const DrawArguments& arguments, Format format) {
+Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments& arguments, Format format) {
+  const std::vector<Region>& regions = scene.regions;
+  const View& view = scene.view;
   struct Piece {
     const Region* region;
     Rational low, high;
@@ -391,7 +575,9 @@ Drawn draw_line(const Network& network, const std::vector<Region>& regions, cons
     if (piece.low < piece.high) pieces.push_back(piece);
   }
   std::sort(pieces.begin(), pieces.end(), [](const Piece& a, const Piece& b) { return a.low < b.low; });
-  Drawn result{"", pieces.size() + 1, pieces.size(), pieces.size()};
+  std::vector<const Region*> drawn_regions;
+  for (const auto& piece : pieces) drawn_regions.push_back(piece.region);
+  Drawn result{"", region_table(network, drawn_regions), pieces.size() + 1, pieces.size(), pieces.size()};
   auto value = [](const Region& region, std::size_t output, const Rational& x) -> Rational {
     return region.affine.linear(output, 0) * x + region.affine.offset[output];
   };
@@ -450,6 +636,7 @@ Drawn draw_line(const Network& network, const std::vector<Region>& regions, cons
     FigurePolygon band;
     band.region = i;
     band.pattern = format_pattern(network, pieces[i].region->pattern);
+    band.number = std::to_string(pieces[i].region->id);
     const double a = to_double(pieces[i].low), b = to_double(pieces[i].high);
     band.vertices = {{a, figure.y_min}, {b, figure.y_min}, {b, figure.y_max}, {a, figure.y_max}};
     band.label = FigurePoint{(a + b) / 2, figure.y_min + 0.04 * (figure.y_max - figure.y_min)};
@@ -457,8 +644,11 @@ Drawn draw_line(const Network& network, const std::vector<Region>& regions, cons
   }
   colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
   for (std::size_t i = 0; i < pieces.size(); ++i) figure.polygons[i].region = pieces[i].region->id;
-  add_stats(figure, arguments,
-            {count_of(pieces.size(), "region") + ", " + count_of(figure.breakpoints.size(), "breakpoint")});
+  std::vector<std::string> stats{count_of(pieces.size(), "region") + ", " +
+                                 count_of(figure.breakpoints.size(), "breakpoint")};
+  for (auto& note : outside_note(scene, pieces.size())) stats.push_back(std::move(note));
+  add_stats(figure, arguments, stats);
+  apply_size(figure, arguments, format);
   result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
   return result;
 }
@@ -467,7 +657,9 @@ Drawn draw_line(const Network& network, const std::vector<Region>& regions, cons
 // surface in the OFF format (vertices from cddlib's exact enumeration, faces
 // ordered counter-clockwise seen from outside), one colour per region from a
 // greedy colouring of the walk's facet adjacency.
-Drawn draw_mesh(const Network& network, const std::vector<Region>& regions, const View& view, bool from_file) {
+Drawn draw_mesh(const Network& network, const Scene& scene) {
+  const std::vector<Region>& regions = scene.regions;
+  const View& view = scene.view;
   std::map<RationalVector, std::size_t> vertex_index;
   std::vector<RationalVector> vertices;
   struct Face {
@@ -487,7 +679,7 @@ Drawn draw_mesh(const Network& network, const std::vector<Region>& regions, cons
         adjacent[r].insert(index_of[*facet.neighbor]);
         adjacent[index_of[*facet.neighbor]].insert(r);
       }
-    lp::Polyhedron cell = closed_cell(region, from_file);
+    lp::Polyhedron cell = closed_cell(region, scene.with_domain_sides);
     for (std::size_t axis = 0; axis < 3; ++axis) {
       RationalVector e(3, Rational(0));
       e[axis] = 1;
@@ -559,7 +751,94 @@ Drawn draw_mesh(const Network& network, const std::vector<Region>& regions, cons
     out << "\n";
   }
   (void)network;
-  return Drawn{out.str(), vertices.size(), faces.size(), drawn_regions};
+  // The side table: which region each face (in file order) bounds.
+  std::ostringstream table;
+  table << "face,region,pattern\n";
+  for (std::size_t f = 0; f < faces.size(); ++f)
+    table << f << "," << regions[faces[f].region].id << "," << format_pattern(network, regions[faces[f].region].pattern)
+          << "\n";
+  return Drawn{out.str(), table.str(), vertices.size(), faces.size(), drawn_regions};
+}
+
+// The bounding box of a bounded polytope domain; nullopt when unbounded.
+std::optional<View> bounding_view(const Domain& domain) {
+  const VertexRepresentation rep =
+      vertex_representation(lp::Polyhedron{domain.dim, domain.constraints}, domain_centre(domain));
+  if (!rep.is_bounded() || rep.points.empty()) return std::nullopt;
+  View view{rep.points.front(), rep.points.front()};
+  for (const auto& p : rep.points)
+    for (std::size_t i = 0; i < domain.dim; ++i) {
+      view.lower[i] = std::min(view.lower[i], p[i]);
+      view.upper[i] = std::max(view.upper[i], p[i]);
+    }
+  return view;
+}
+
+// The domain cut to the view: a box stays a box, a polytope gains the
+// view's sides.
+Domain domain_in_view(const Domain& domain, const View& view) {
+  if (domain.kind != Domain::Kind::polytope) {
+    View cut = view;
+    if (domain.kind == Domain::Kind::box)
+      for (std::size_t i = 0; i < view.lower.size(); ++i) {
+        cut.lower[i] = std::max(cut.lower[i], domain.lower[i]);
+        cut.upper[i] = std::min(cut.upper[i], domain.upper[i]);
+        if (!(cut.lower[i] < cut.upper[i])) throw input_error("draw: the view and --box do not overlap");
+      }
+    return make_box(cut.lower, cut.upper);
+  }
+  std::vector<lp::Constraint> sides = domain.constraints;
+  for (const auto& side : make_box(view.lower, view.upper).constraints) sides.push_back(side);
+  try {
+    return make_polytope(domain.dim, std::move(sides));
+  } catch (const input_error&) {
+    throw input_error("draw: the view and --domain do not overlap");
+  }
+}
+
+void print_fitted(const FittedView& fitted) {
+  if (!fitted.is_bulk) return;
+  std::cerr << "pleat: the view holds the bulk of the arrangement's vertices (" << fitted.vertices_outside << " of "
+            << fitted.vertices << " lie outside it; every vertex: --view "
+            << view_option_text(fitted.every_vertex) << ")\n";
+}
+
+// The regions and the view. Without --view: the --box, the bounding box of
+// a bounded --domain, the saved walk's box, or else a view fitted to the
+// vertices of a walk of the whole domain (fitted_view), whose region count
+// then tells how many regions lie outside.
+Scene make_scene(const Network& network, const Domain& domain, std::optional<View> view,
+                 const DrawArguments& arguments, const std::atomic<bool>& interrupt) {
+  const std::size_t dim = network.input_dim;
+  Scene scene;
+  if (!arguments.from_path.empty()) {
+    SavedWalk saved = read_saved_walk(network, arguments.from_path);
+    scene.regions = std::move(saved.regions);
+    scene.with_domain_sides = true;
+    scene.total_regions = scene.regions.size();
+    if (!view && saved.domain.kind == Domain::Kind::box) view = View{saved.domain.lower, saved.domain.upper};
+    if (!view) {
+      const FittedView fitted = fitted_view(scene.regions, dim);
+      print_fitted(fitted);
+      view = fitted.view;
+    }
+    scene.view = *view;
+    return scene;
+  }
+  if (!view && domain.kind == Domain::Kind::box) view = View{domain.lower, domain.upper};
+  if (!view && domain.kind == Domain::Kind::polytope) view = bounding_view(domain);
+  if (!view) {
+    std::vector<Region> whole = walk_all(network, domain, arguments, interrupt);
+    const FittedView fitted = fitted_view(whole, dim);
+    print_fitted(fitted);
+    view = fitted.view;
+    scene.total_regions = whole.size();
+  }
+  scene.view = *view;
+  const Domain walked = domain_in_view(domain, scene.view);
+  scene.with_domain_sides = walked.kind == Domain::Kind::polytope;
+  scene.regions = walk_all(network, walked, arguments, interrupt);
+  return scene;
 }
 
 int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interrupt);
@@ -589,6 +868,10 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
     throw input_error("draw: the network has " + std::to_string(dim) + " inputs; draw handles 1 (a graph), "
                       "2 (regions) or 3 (a mesh)");
 
+  if (!arguments.size_text.empty()) {
+    if (format != Format::svg && format != Format::tikz) throw input_error("--size is for figures: --out FIG.svg or FIG.tex");
+    parse_size(arguments.size_text);  // a bad --size fails before the walk
+  }
   std::optional<View> view;
   if (!arguments.view_text.empty()) {
     const RationalVector numbers = parse_number_list(arguments.view_text, "--view");
@@ -603,23 +886,18 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
     }
   }
 
-  std::vector<Region> regions;
+  const Domain domain = make_domain(arguments.domain, dim);
   const bool from_file = !arguments.from_path.empty();
-  if (from_file) {
-    SavedWalk saved = read_saved_walk(network, arguments.from_path);
-    regions = std::move(saved.regions);
-    if (!view) view = saved.domain.kind == Domain::Kind::box ? View{saved.domain.lower, saved.domain.upper}
-                                                             : fitted_view(regions, dim);
-  } else {
-    if (!view) view = fitted_view(walk_all(network, make_whole_space(dim), arguments, interrupt), dim);
-    regions = walk_all(network, make_box(view->lower, view->upper), arguments, interrupt);
-  }
+  if (from_file && domain.kind != Domain::Kind::whole_space)
+    throw input_error("draw: --from draws the saved walk on its own domain; --box and --domain are for a fresh walk");
+  const Scene scene = make_scene(network, domain, view, arguments, interrupt);
 
-  const Drawn drawn = dim == 3   ? draw_mesh(network, regions, *view, from_file)
-                      : dim == 2 ? draw_plane(network, regions, *view, from_file, arguments, format)
-                                 : draw_line(network, regions, *view, arguments, format);
+  const Drawn drawn = dim == 3   ? draw_mesh(network, scene)
+                      : dim == 2 ? draw_plane(network, scene, arguments, format)
+                                 : draw_line(network, scene, arguments, format);
   write_output(arguments.output_path, drawn.text);
-  std::cout << "view        " << describe_view(*view) << "\n";
+  if (!arguments.table_path.empty()) write_output(arguments.table_path, drawn.table);
+  std::cout << "view        " << describe_view(scene.view) << "\n";
   if (dim == 3)
     std::cout << "mesh        " << drawn.regions << " regions, " << drawn.edges << " faces, " << drawn.vertices
               << " distinct vertices (exact, clipped to the view; one closed surface per region)\n";
@@ -630,6 +908,13 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
     std::cout << "graph       " << drawn.regions << " pieces, " << (drawn.regions ? drawn.regions - 1 : 0)
               << " breakpoints (exact, in the view)\n";
   std::cout << "written     " << arguments.output_path << "\n";
+  if (drawn.thin > 0)
+    std::cerr << "pleat: " << count_of(drawn.thin, "region") << " of " << drawn.regions
+              << (drawn.thin == 1 ? " is" : " are") << " under " << thin_width_px
+              << " px wide in the SVG (--labels with --table numbers them; a smaller --view widens them)\n";
+  if (scene.total_regions && *scene.total_regions > drawn.regions)
+    std::cerr << "pleat: " << *scene.total_regions - drawn.regions << " of " << *scene.total_regions
+              << " regions lie outside the view\n";
   return 0;
 }
 
@@ -638,35 +923,55 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
 void register_draw(CommandTable& commands) {
   auto arguments = std::make_shared<DrawArguments>();
   CLI::App& command = commands.add(
-      "draw", "Draw a network's regions (2 inputs) or graph (1 input) as SVG, TikZ or CSV",
+      "draw", "Draw a network's regions (2 inputs), graph (1 input) or region mesh (3 inputs)",
       "With 2 inputs: every region clipped to the view rectangle as an exact polygon, the\n"
       "bent hyperplanes (each neuron's zero set; one line style per layer) over them, a legend,\n"
       "axes, and the counts of regions, edges and vertices. With 1 input: the graph of the\n"
       "network with its breakpoints; the CSV lists each piece's ends, values and slope exactly.\n"
       "The format follows the name given to --out: .svg (standalone), .tex (a tikzpicture to\n"
-      "\\input; needs \\usepackage{tikz}), .csv (2 inputs: one row per polygon vertex).\n"
-      "Without --view the view holds every vertex of the arrangement, with a margin.\n\n"
+      "\\input; needs \\usepackage{tikz}), .csv (2 inputs: one row per polygon vertex), .off (3\n"
+      "inputs: an OFF mesh, every region clipped to the view box as its own closed surface,\n"
+      "faces counter-clockwise from outside, an RGB colour per face; --table names each face's\n"
+      "region). Formats: docs/formats.md.\n"
+      "The view: --view, else the --box, else the bounding box of a --domain polytope (the\n"
+      "regions are cut to it), else the bulk of the arrangement's vertices (per axis the\n"
+      "shortest interval holding half of them, widened by its length on each side; the whole\n"
+      "range when that is not much wider). Standard error then says how many vertices and\n"
+      "regions lie outside, and the --view that holds every vertex. It also says how many\n"
+      "regions are under 3 px wide in the SVG (too thin to see).\n\n"
       "Examples:\n"
       "  pleat draw data/fold2d.json --out fold2d.svg --view -3,3,-3,3\n"
       "  pleat draw data/fold2d.json --out fold2d.tex --color-by layer1 --labels\n"
-      "  pleat walk data/fold2d.json --box -3,3 -o regions.jsonl && pleat draw data/fold2d.json --from regions.jsonl --out f.csv",
+      "  pleat walk data/fold2d.json --box -3,3 -o regions.jsonl && pleat draw data/fold2d.json --from regions.jsonl --out f.csv\n"
+      "  pleat draw data/sensor3d.json --view -1,1,-1,1,-1,1 --out sensor.off --table sensor-faces.csv",
       [arguments] { return run_draw(*arguments); });
   command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")->required();
-  command.add_option("--out", arguments->output_path, "Output file: FIG.svg, FIG.tex or FIG.csv")->required();
+  command.add_option("--out", arguments->output_path, "Output file: FIG.svg, FIG.tex, FIG.csv or (3 inputs) FIG.off")->required();
   add_number_list_option(command, "--view", arguments->view_text,
                          "XMIN,XMAX,YMIN,YMAX (XMIN,XMAX for 1 input): the rectangle drawn and walked");
   command.add_option("--color-by,--colour-by", arguments->colour_by,
                      "region (neighbours differ), gradient (|grad F|), layer1 (first-layer cell), rank "
-                     "(rows the region adds to the functional-dimension rank)")
+                     "(rows the region adds to the rank of the regions before it in walk order)")
       ->check(CLI::IsMember({"region", "gradient", "layer1", "rank"}));
-  command.add_flag("--labels", arguments->labels, "Write each region's activation pattern inside it");
+  command.add_flag("--labels", arguments->labels,
+                   "Write each region's activation pattern inside it where it fits, else its number (the "
+                   "region column of --table) where that fits, else nothing");
+  command.add_option("--table", arguments->table_path,
+                     "Write a side table (CSV): per region drawn its number, pattern and an exact interior point "
+                     "(region,pattern,x_exact,y_exact,x,y); for a mesh, the region of each face (face,region,pattern)")
+      ->type_name("FILE.csv");
   command.add_flag("--no-lines", arguments->no_lines, "Leave out the bent hyperplanes (fills only)");
   command.add_flag("--no-stats", arguments->no_stats,
                    "Leave the counts (regions, edges, vertices) out of the figure; the summary printed has them");
   command.add_flag("--no-legend", arguments->no_legend, "Leave out the key right of the plot (and the counts in it)");
+  command.add_option("--size", arguments->size_text,
+                     "The whole figure's width and height, in cm or px (96 px to the inch): 12cm,8cm or 600,400px; "
+                     "the plot takes what the margins and the key leave. Default: SVG 420 px of plot, TikZ 12 cm wide")
+      ->type_name("W,H");
   command.add_option("--title", arguments->title, "A title over the plot (SVG and TikZ)")->type_name("TEXT");
   command.add_option("--from", arguments->from_path,
                      "Draw a saved walk (pleat walk -o FILE) instead of walking; --view clips it");
+  add_domain_options(command, arguments->domain);
   add_threads_option(command, arguments->threads, "Worker threads for the walk (default: all cores)");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }

@@ -19,7 +19,8 @@ struct FigurePolygon {
   std::string pattern;                // spec notation
   std::vector<FigurePoint> vertices;  // counter-clockwise
   std::size_t colour = 0;             // index into Figure::colours
-  FigurePoint label;                  // where the pattern label goes (inside)
+  FigurePoint label;                  // where the label goes (inside)
+  std::string number;                 // the region's number in the side table
 };
 
 // A piece of a bent hyperplane; layer is 0-based.
@@ -47,6 +48,9 @@ struct Figure {
   bool show_lines = true;
   bool show_labels = false;
   bool show_legend = true;  // the key and the notes, right of the plot
+  // The whole picture's size in the writer's unit (SVG: px, TikZ: cm), the
+  // plot area taking what the margins and the key leave; 0: automatic.
+  double width = 0, height = 0;
   // One input: the graph of the network (breakpoints marked) over bands.
   std::vector<FigurePoint> graph;
   std::vector<FigurePoint> breakpoints;
@@ -56,6 +60,12 @@ struct Figure {
 // data-view="xmin,xmax,ymin,ymax"; each region is <polygon id="region-ID"
 // data-pattern=... fill=...>, so tests can map data points to pixels.
 std::string figure_svg(const Figure& figure);
+
+// How many regions' polygons are narrower than min_width_px in the SVG the
+// figure makes (width: the least distance between two parallel lines
+// enclosing the polygon, after clipping to the plot area): regions a reader
+// cannot see.
+std::size_t thin_regions_svg(const Figure& figure, double min_width_px);
 
 // A tikzpicture for \input in a LaTeX document that loads tikz (no other
 // package or TikZ library needed).
@@ -68,6 +78,14 @@ std::string figure_tikz(const Figure& figure);
 const std::vector<std::string>& categorical_palette();
 std::string sequential_colour(double t);  // t in [0, 1]
 std::string bar_colour();                 // the survey histogram's bars
+
+// With --labels each region shows its pattern where a box of that size
+// (half-width, half-height in the writer's unit) centred on the label point
+// fits inside the polygon, else its number where that fits, else nothing.
+// vertices: the polygon in the writer's coordinates (convex, either
+// orientation). Returns the text to write ("" for none).
+std::string fitting_label(const std::vector<FigurePoint>& vertices, FigurePoint centre, const FigurePolygon& polygon,
+                          double char_width, double text_height);
 
 // Tick positions at 1, 2 or 5 times a power of ten, 4 to 8 of them in [lo, hi].
 std::vector<double> nice_ticks(double lo, double hi);

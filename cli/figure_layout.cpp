@@ -99,6 +99,41 @@ std::string tick_text(double value) {
   return fixed_point_text(value, 12);
 }
 
+namespace {
+
+// p inside the convex polygon (or on its boundary), whatever its orientation.
+bool is_inside_convex(const std::vector<FigurePoint>& vertices, FigurePoint p) {
+  int sign = 0;
+  for (std::size_t i = 0; i < vertices.size(); ++i) {
+    const FigurePoint& a = vertices[i];
+    const FigurePoint& b = vertices[(i + 1) % vertices.size()];
+    const double cross = (b.x - a.x) * (p.y - a.y) - (b.y - a.y) * (p.x - a.x);
+    const int s = cross > 0 ? 1 : cross < 0 ? -1 : 0;
+    if (s == 0) continue;
+    if (sign != 0 && s != sign) return false;
+    sign = s;
+  }
+  return true;
+}
+
+bool box_fits(const std::vector<FigurePoint>& vertices, FigurePoint centre, double half_width, double half_height) {
+  for (double dx : {-half_width, half_width})
+    for (double dy : {-half_height, half_height})
+      if (!is_inside_convex(vertices, FigurePoint{centre.x + dx, centre.y + dy})) return false;
+  return true;
+}
+
+}  // namespace
+
+std::string fitting_label(const std::vector<FigurePoint>& vertices, FigurePoint centre, const FigurePolygon& polygon,
+                          double char_width, double text_height) {
+  for (const std::string* text : {&polygon.pattern, &polygon.number})
+    if (!text->empty() &&
+        box_fits(vertices, centre, (static_cast<double>(text->size()) + 0.6) * char_width / 2, 0.6 * text_height))
+      return *text;
+  return "";
+}
+
 std::string escape_xml(const std::string& text) {
   std::string out;
   for (char c : text) {

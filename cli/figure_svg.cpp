@@ -5,6 +5,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <limits>
 #include <sstream>
 
 namespace pleat::cli {
@@ -13,7 +14,8 @@ namespace {
 // The axes sit axis_offset px away from the plot area (no closed frame): the
 // regions' own edges bound the picture. Tick labels are sized by estimate.
 constexpr double top_margin = 30, bottom_margin = 48, legend_gap = 26, legend_width = 190;
-constexpr double plot_width = 420, axis_offset = 7, tick_length = 4, digit_width = 6.4;
+constexpr double default_plot_width = 420, smallest_plot = 60, axis_offset = 7, tick_length = 4, digit_width = 6.4;
+constexpr double label_size = 7, label_char_width = 0.6 * label_size;  // DejaVu Sans Mono: 0.6 em a character
 constexpr const char* ink = "#1f1d2b";   // near-black with a blue cast: lines, text
 constexpr const char* quiet = "#5c5a66";  // notes and tick labels
 
@@ -50,20 +52,29 @@ LineStyle line_style(std::size_t layer) {
   return styles[layer % 4];
 }
 
+// Right of the plot: the key, or a small pad without it.
+double right_part(const Figure& f) { return f.show_legend ? legend_gap + legend_width : 24.0; }
+
+// The plot area: 420 px wide and as tall as the view's aspect asks (within
+// 220..560 px), or what --size leaves after the margins and the key.
 class Layout {
  public:
   explicit Layout(const Figure& f) : f_(f), left_(left_margin_for(f)) {
+    plot_width_ = f.width > 0 ? std::max(smallest_plot, f.width - left_ - right_part(f)) : default_plot_width;
     const double ratio = (f.y_max - f.y_min) / (f.x_max - f.x_min);
-    height_ = std::clamp(plot_width * ratio, 220.0, 560.0);
+    height_ = f.height > 0 ? std::max(smallest_plot, f.height - top_margin - bottom_margin)
+                           : std::clamp(plot_width_ * ratio, 220.0, 560.0);
   }
-  double x(double value) const { return left_ + (value - f_.x_min) / (f_.x_max - f_.x_min) * plot_width; }
+  double x(double value) const { return left_ + (value - f_.x_min) / (f_.x_max - f_.x_min) * plot_width_; }
   double y(double value) const { return top_margin + (f_.y_max - value) / (f_.y_max - f_.y_min) * height_; }
   double height() const { return height_; }
   double left() const { return left_; }
+  double plot_width() const { return plot_width_; }
 
  private:
   const Figure& f_;
   double left_;
+  double plot_width_;
   double height_;
 };
 
@@ -117,9 +128,18 @@ void write_graph(const Figure& figure, const Layout& layout, std::ostream& out) 
 void write_labels(const Figure& figure, const Layout& layout, std::ostream& out) {
   out << "<g id=\"labels\" font-family=\"DejaVu Sans Mono, monospace\" font-size=\"7\" text-anchor=\"middle\" "
          "fill=\"#111111\" stroke=\"#ffffff\" stroke-width=\"2.2\" stroke-opacity=\"0.85\" paint-order=\"stroke\">\n";
-  for (const auto& polygon : figure.polygons)
-    out << "<text x=\"" << number(layout.x(polygon.label.x)) << "\" y=\"" << number(layout.y(polygon.label.y) + 2.5)
-        << "\">" << escape_xml(polygon.pattern) << "</text>\n";
+  for (const auto& polygon : figure.polygons) {
+    // In pixels, clipped to the plot area (a label must sit inside the view).
+    std::vector<FigurePoint> pixels;
+    for (const auto& p : polygon.vertices)
+      pixels.push_back(FigurePoint{std::clamp(layout.x(p.x), layout.left(), layout.left() + layout.plot_width()),
+                                   std::clamp(layout.y(p.y), top_margin, top_margin + layout.height())});
+    const FigurePoint centre{layout.x(polygon.label.x), layout.y(polygon.label.y)};
+    const std::string text = fitting_label(pixels, centre, polygon, label_char_width, label_size);
+    if (text.empty()) continue;
+    out << "<text class=\"" << (text == polygon.pattern ? "pattern" : "number") << "\" x=\"" << number(centre.x)
+        << "\" y=\"" << number(centre.y + 2.5) << "\">" << escape_xml(text) << "</text>\n";
+  }
   out << "</g>\n";
 }
 
@@ -152,7 +172,7 @@ void write_axes(const Figure& figure, const Layout& layout, std::ostream& out) {
         << "<text x=\"" << number(axis_x - 5) << "\" y=\"" << number(py + 3.5) << "\" stroke=\"none\" "
         << "text-anchor=\"end\">" << escape_xml(tick_text(t)) << "</text>\n";
   }
-  out << "<text x=\"" << number(layout.left() + plot_width) << "\" y=\"" << number(axis_y + 32)
+  out << "<text x=\"" << number(layout.left() + layout.plot_width()) << "\" y=\"" << number(axis_y + 32)
       << "\" stroke=\"none\" fill=\"" << ink << "\" text-anchor=\"end\" font-size=\"12.5\">"
       << axis_label(figure.x_label) << " \u2192</text>\n";
   out << "<text x=\"" << number(axis_x) << "\" y=\"" << number(top_margin - 12) << "\" stroke=\"none\" fill=\"" << ink
@@ -163,7 +183,7 @@ void write_axes(const Figure& figure, const Layout& layout, std::ostream& out) {
 // The key: headings in italic small text over a hairline, swatches as
 // squares (a region is an area), line samples as long as a tick row.
 void write_legend(const Figure& figure, const Layout& layout, std::ostream& out) {
-  const double x0 = layout.left() + plot_width + legend_gap;
+  const double x0 = layout.left() + layout.plot_width() + legend_gap;
   double y = top_margin + 10;
   auto heading = [&](const std::string& text) {
     out << "<text x=\"" << x0 << "\" y=\"" << y << "\" font-style=\"italic\" fill=\"" << quiet << "\">"
@@ -207,14 +227,44 @@ void write_legend(const Figure& figure, const Layout& layout, std::ostream& out)
   out << "</g>\n";
 }
 
+// The least width of a convex polygon: over its edges, the farthest vertex
+// from the edge's line; the least of those.
+double least_width(const std::vector<FigurePoint>& vertices) {
+  double least = std::numeric_limits<double>::infinity();
+  for (std::size_t i = 0; i < vertices.size(); ++i) {
+    const FigurePoint& a = vertices[i];
+    const FigurePoint& b = vertices[(i + 1) % vertices.size()];
+    const double length = std::hypot(b.x - a.x, b.y - a.y);
+    if (length == 0) continue;
+    double farthest = 0;
+    for (const auto& p : vertices)
+      farthest = std::max(farthest, std::abs((b.x - a.x) * (p.y - a.y) - (b.y - a.y) * (p.x - a.x)) / length);
+    least = std::min(least, farthest);
+  }
+  return vertices.size() < 3 ? 0 : least;
+}
+
 }  // namespace
+
+std::size_t thin_regions_svg(const Figure& figure, double min_width_px) {
+  const Layout layout(figure);
+  std::size_t thin = 0;
+  for (const auto& polygon : figure.polygons) {
+    std::vector<FigurePoint> pixels;
+    for (const auto& p : polygon.vertices) pixels.push_back(FigurePoint{layout.x(p.x), layout.y(p.y)});
+    if (least_width(pixels) < min_width_px) ++thin;
+  }
+  return thin;
+}
 
 std::string figure_svg(const Figure& figure) {
   const Layout layout(figure);
   const double legend_height = 40.0 + 15.0 * static_cast<double>(figure.swatches.size() + figure.layers) +
                                14.0 * static_cast<double>(figure.notes.size()) + 40;
-  const double width = layout.left() + plot_width + (figure.show_legend ? legend_gap + legend_width : 24.0);
-  const double height = std::max(top_margin + layout.height() + bottom_margin, figure.show_legend ? legend_height : 0.0);
+  const double width = figure.width > 0 ? figure.width : layout.left() + layout.plot_width() + right_part(figure);
+  const double height = figure.height > 0 ? figure.height
+                                          : std::max(top_margin + layout.height() + bottom_margin,
+                                                     figure.show_legend ? legend_height : 0.0);
   std::ostringstream out;
   out << "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"
       << "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" << number(width) << "\" height=\"" << number(height)
@@ -223,8 +273,8 @@ std::string figure_svg(const Figure& figure) {
   out << "<title>activation regions drawn by pleat</title>\n";
   out << "<rect width=\"100%\" height=\"100%\" fill=\"#ffffff\"/>\n";
   out << "<defs><clipPath id=\"plot-clip\"><rect x=\"" << layout.left() << "\" y=\"" << top_margin << "\" width=\""
-      << plot_width << "\" height=\"" << number(layout.height()) << "\"/></clipPath></defs>\n";
-  out << "<rect id=\"plot-area\" x=\"" << layout.left() << "\" y=\"" << top_margin << "\" width=\"" << plot_width
+      << number(layout.plot_width()) << "\" height=\"" << number(layout.height()) << "\"/></clipPath></defs>\n";
+  out << "<rect id=\"plot-area\" x=\"" << layout.left() << "\" y=\"" << top_margin << "\" width=\"" << number(layout.plot_width())
       << "\" height=\"" << number(layout.height()) << "\" fill=\"none\" data-view=\"" << figure.x_min << ","
       << figure.x_max << "," << figure.y_min << "," << figure.y_max << "\"/>\n";
   write_regions(figure, layout, out);
@@ -234,7 +284,7 @@ std::string figure_svg(const Figure& figure) {
   write_axes(figure, layout, out);
   if (figure.show_legend) write_legend(figure, layout, out);
   if (!figure.title.empty())
-    out << "<text id=\"title\" x=\"" << layout.left() + plot_width / 2 << "\" y=\"" << top_margin - 12
+    out << "<text id=\"title\" x=\"" << number(layout.left() + layout.plot_width() / 2) << "\" y=\"" << top_margin - 12
         << "\" text-anchor=\"middle\" font-size=\"12\" fill=\""
         << ink << "\">" << escape_xml(figure.title) << "</text>\n";
   out << "</svg>\n";

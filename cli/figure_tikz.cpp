@@ -10,7 +10,12 @@
 namespace pleat::cli {
 namespace {
 
-constexpr double plot_width_cm = 6.5;  // with the legend, fits an article's text width
+// The whole picture is 12 cm wide unless --size says otherwise: a one-column
+// article's \linewidth is 345 pt = 12.13 cm. Text widths are estimated from
+// Computer Modern's widths at these sizes (rounded up: a digit at \footnotesize
+// is 4 pt = 0.14 cm), so the declared bounding box holds everything drawn.
+constexpr double default_width_cm = 12.0;
+constexpr double footnote_char_cm = 0.16, script_char_cm = 0.12, smallest_plot_cm = 2.0;
 
 std::string number(double value) { return fixed_point_text(value, 3); }
 
@@ -86,14 +91,67 @@ void write_legend_tikz(const Figure& figure, double plot_width_cm, double height
   }
 }
 
-std::string figure_tikz(const Figure& figure) {
+// Where everything goes, in cm, the plot area being (0,0)..(plot_width,
+// plot_height); the bounding box extends left/right/below/above it.
+struct TikzLayout {
+  double plot_width = 0, plot_height = 0, left = 0, right = 0, below = 0, above = 0;
+};
+
+double longest(const std::vector<std::string>& texts) {
+  std::size_t most = 0;
+  for (const auto& text : texts) most = std::max(most, text.size());
+  return static_cast<double>(most);
+}
+
+TikzLayout tikz_layout(const Figure& figure) {
+  TikzLayout layout;
+  // The axis 0.2 cm out, the tick label's inner seps (0.1 cm each side) and
+  // the label (a math minus is 0.22 cm); the y label above the axis.
+  double widest_tick = 0;
+  for (double t : nice_ticks(figure.y_min, figure.y_max)) {
+    double width = 0;
+    for (char c : tick_text(t)) width += c == '-' ? 0.22 : 0.15;
+    widest_tick = std::max(widest_tick, width);
+  }
+  layout.left = 0.5 + widest_tick;
+  layout.below = 1.25;  // tick labels, then the x label on its own row
+  layout.above = figure.title.empty() ? 0.65 : 0.9;
+  if (figure.show_legend) {
+    std::vector<std::string> swatch_texts{figure.legend_title, "bent hyperplanes", "layer 1 neurons   "};
+    for (const auto& swatch : figure.swatches) swatch_texts.push_back("    " + swatch.text);
+    layout.right = 0.6 + std::max(footnote_char_cm * longest(swatch_texts), script_char_cm * longest(figure.notes)) + 0.2;
+  } else {
+    layout.right = 0.4;  // half the last x tick label
+  }
+  const double width = figure.width > 0 ? figure.width : default_width_cm;
+  layout.plot_width = std::max(smallest_plot_cm, width - layout.left - layout.right);
+  if (figure.width > 0) layout.right = width - layout.left - layout.plot_width;
   const double ratio = (figure.y_max - figure.y_min) / (figure.x_max - figure.x_min);
-  const double height_cm = std::clamp(plot_width_cm * ratio, 4.2, 10.6);
+  layout.plot_height = figure.height > 0 ? std::max(smallest_plot_cm, figure.height - layout.above - layout.below)
+                                         : std::clamp(layout.plot_width * ratio, 4.2, 10.6);
+  if (figure.height > 0) {
+    layout.below = figure.height - layout.above - layout.plot_height;
+  } else if (figure.show_legend) {  // a long key reaches below the plot
+    const double rows = 1.0 + static_cast<double>(figure.swatches.size()) + 1.5 +
+                        (figure.show_lines && figure.graph.empty() ? static_cast<double>(figure.layers) + 1.5 : 0.0);
+    const double key_bottom = layout.plot_height - 0.1 - 0.45 * rows - 0.42 * static_cast<double>(figure.notes.size());
+    layout.below = std::max(layout.below, 0.2 - key_bottom);
+  }
+  return layout;
+}
+
+std::string figure_tikz(const Figure& figure) {
+  const TikzLayout layout = tikz_layout(figure);
+  const double plot_width_cm = layout.plot_width, height_cm = layout.plot_height;
   auto x = [&](double v) { return number((v - figure.x_min) / (figure.x_max - figure.x_min) * plot_width_cm); };
   auto y = [&](double v) { return number((v - figure.y_min) / (figure.y_max - figure.y_min) * height_cm); };
   std::ostringstream out;
   out << "% Activation regions drawn by pleat. Needs \\usepackage{tikz}; use with \\input.\n";
   out << "\\begin{tikzpicture}[font=\\footnotesize]\n";
+  out << "% " << number(layout.left + plot_width_cm + layout.right) << " cm x "
+      << number(layout.below + height_cm + layout.above) << " cm: the bounding box below holds everything drawn\n";
+  out << "\\useasboundingbox (" << number(-layout.left) << "," << number(-layout.below) << ") rectangle ("
+      << number(plot_width_cm + layout.right) << "," << number(height_cm + layout.above) << ");\n";
   if (!figure.title.empty())
     out << "\\node[anchor=south west, inner sep=0pt, font=\\small] at (0," << number(height_cm + 0.3) << ") {"
         << escape(figure.title) << "};\n";
@@ -133,9 +191,18 @@ std::string figure_tikz(const Figure& figure) {
           << ") circle (1.6pt);\n";
   }
   if (figure.show_labels)
-    for (const auto& polygon : figure.polygons)
+    for (const auto& polygon : figure.polygons) {
+      std::vector<FigurePoint> corners;  // in cm, inside the plot area
+      auto cm_x = [&](double v) { return std::clamp((v - figure.x_min) / (figure.x_max - figure.x_min), 0.0, 1.0) * plot_width_cm; };
+      auto cm_y = [&](double v) { return std::clamp((v - figure.y_min) / (figure.y_max - figure.y_min), 0.0, 1.0) * height_cm; };
+      for (const auto& p : polygon.vertices) corners.push_back(FigurePoint{cm_x(p.x), cm_y(p.y)});
+      // \tiny typewriter: 5 pt, 0.525 em a character.
+      const std::string text = fitting_label(corners, FigurePoint{cm_x(polygon.label.x), cm_y(polygon.label.y)}, polygon,
+                                             0.1, 0.2);
+      if (text.empty()) continue;
       out << "\\node[font=\\ttfamily\\tiny, inner sep=0.5pt, fill=white, fill opacity=0.7, text opacity=1] at ("
-          << x(polygon.label.x) << "," << y(polygon.label.y) << ") {" << escape(polygon.pattern) << "};\n";
+          << x(polygon.label.x) << "," << y(polygon.label.y) << ") {" << escape(text) << "};\n";
+    }
   out << "\\end{scope}\n";
   // Axes: range frames detached 0.2 cm from the plot, ticks toward the data,
   // the y label above its axis and the x label under the tick labels at the

@@ -10,6 +10,7 @@ packages=(
   libonnx-dev libprotobuf-dev python3-onnx
   pybind11-dev python3-pybind11 python3-pandas  # the Python module (python/); pandas only for to_pandas()
   librsvg2-bin
+  texlive-latex-base texlive-pictures  # tests/cli/draw_tikz_test.sh: pdflatex measures the TikZ output
   libbenchmark-dev hyperfine  # tests/bench: walk micro-benchmarks and whole-walk timings
   time  # /usr/bin/time: peak memory of the readers in tests/cli/readers_test.sh
   clang libclang-rt-14-dev libfuzzer-14-dev

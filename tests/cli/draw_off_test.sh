@@ -37,6 +37,36 @@ for origin in [(0, 0, 0), (7, -5, 11)]:
     total = enclosed(origin)
     assert abs(total - box) < 1e-9 * box, (origin, total, box)
 PY
+# --table: the region of each face. Each region's own faces must close up:
+# their signed volume is positive and the same about two origins.
+"$pleat" draw "$source_dir/data/sensor3d.json" --view -2,2,-1,3,-3/2,1 --out "$work/t.off" --table "$work/t.csv" -q \
+  > "$work/t.txt" || fail "draw --table exited $?"
+/usr/bin/python3 - "$work/t.off" "$work/t.csv" "$work/t.txt" <<'PY' || fail "the face table does not give closed regions"
+import csv, re, sys
+lines = [l for l in open(sys.argv[1]) if l.strip() and not l.startswith("#")]
+nv, nf, _ = map(int, lines[1].split())
+vs = [tuple(map(float, l.split())) for l in lines[2:2 + nv]]
+faces = [[vs[int(i)] for i in l.split()[1:1 + int(l.split()[0])]] for l in lines[2 + nv:2 + nv + nf]]
+rows = list(csv.DictReader(open(sys.argv[2])))
+assert [int(r["face"]) for r in rows] == list(range(nf)), "one row per face, in file order"
+by_region = {}
+for r, face in zip(rows, faces):
+    by_region.setdefault(r["region"], []).append(face)
+def volume(faces, origin):
+    total = 0.0
+    for face in faces:
+        face = [tuple(x - o for x, o in zip(p, origin)) for p in face]
+        a = face[0]
+        for b, c in zip(face[1:], face[2:]):
+            total += (a[0] * (b[1] * c[2] - b[2] * c[1]) - a[1] * (b[0] * c[2] - b[2] * c[0])
+                      + a[2] * (b[0] * c[1] - b[1] * c[0])) / 6
+    return total
+for region, own in by_region.items():
+    v0, v1 = volume(own, (0, 0, 0)), volume(own, (7, -5, 11))
+    assert v0 > 0 and abs(v0 - v1) < 1e-9 * max(1.0, abs(v0)), (region, v0, v1)
+printed = int(re.search(r"mesh +(\d+) regions", open(sys.argv[3]).read()).group(1))
+assert len(by_region) == printed, (len(by_region), printed)
+PY
 "$pleat" draw "$source_dir/data/fold2d.json" --out "$work/f.off" > /dev/null 2>&1; [ $? -eq 2 ] \
   || fail ".off accepted for 2 inputs"
 echo ok

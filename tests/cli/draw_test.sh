@@ -25,7 +25,7 @@ for mode in region gradient layer1 rank; do
   grep -q '\\begin{tikzpicture}' "$work/$mode.tex" || fail "no tikzpicture"
 done
 grep -q 'data-pattern="[01|]*"' "$work/rank.svg" || fail "no pattern attribute"
-grep -q 'Rank contribution' "$work/rank.svg" || fail "rank legend missing"
+grep -q 'New rows (walk order)' "$work/rank.svg" || fail "rank legend missing"
 "$pleat" draw "$fold" --view=-3,3,-3,3 --out "$work/fold.csv" -q > /dev/null || fail "draw csv failed"
 head -1 "$work/fold.csv" | grep -qx 'region,pattern,vertex,x,y,x_exact,y_exact' || fail "CSV header"
 
@@ -92,6 +92,150 @@ ticks = [t.text for t in axes.findall("s:text", ns) if t.text]
 assert ticks and not any("e" in t for t in ticks), ticks
 assert {"-1000", "-500", "0", "500", "1000", "-0.04", "0.04"} <= set(ticks), ticks
 assert axes.find("s:rect", ns) is None, "closed frame drawn"
+PY
+
+# The default view of a trained network (data/track/epoch40.json: a few
+# nearly parallel hyperplanes meet hundreds of units out) holds the bulk of
+# the vertices, not all: stderr names the view around every vertex and how
+# many regions lie outside, which must be the walk of R^2's count minus the
+# regions drawn (the figure's note says the same).
+trained=$source_dir/data/track/epoch40.json
+"$pleat" draw "$trained" --out "$work/trained.csv" -q > "$work/trained.txt" 2> "$work/trained.err" ||
+  fail "draw epoch40 exited $?"
+"$pleat" draw "$trained" --out "$work/trained.svg" -q > /dev/null 2>&1 || fail "draw epoch40 svg exited $?"
+"$pleat" walk "$trained" --json -q > "$work/trained_walk.json" || fail "walk epoch40 exited $?"
+/usr/bin/python3 - "$work" <<'PY' || fail "default view of epoch40: $(cat "$work/trained.txt" "$work/trained.err")"
+import csv, json, re, sys
+from fractions import Fraction as F
+work = sys.argv[1]
+total = json.load(open(f"{work}/trained_walk.json"))["regions_per_layer"][-1]
+drawn = len({r["region"] for r in csv.DictReader(open(f"{work}/trained.csv"))})
+err = open(f"{work}/trained.err").read()
+outside = int(re.search(r"(\d+) of (\d+) regions lie outside the view", err).group(1))
+assert f"of {total} regions lie outside" in err, err
+assert outside == total - drawn > 0, (outside, total, drawn)
+every = re.search(r"every vertex: --view ([-0-9/,]+)\)", err).group(1).split(",")
+view = re.search(r"view +\[([-0-9/]+),([-0-9/]+)\]x\[([-0-9/]+),([-0-9/]+)\]", open(f"{work}/trained.txt").read()).groups()
+# The bulk view is at most a tenth as wide as the one around every vertex, on both axes.
+for axis in (0, 1):
+    assert 10 * (F(view[2 * axis + 1]) - F(view[2 * axis])) <= F(every[2 * axis + 1]) - F(every[2 * axis]), (view, every)
+assert f"{outside} regions outside the view" in open(f"{work}/trained.svg").read()
+PY
+# --box is the view (and the walk's domain); --domain: the view is the
+# polytope's bounding box and the polygons tile the polytope (exact areas:
+# the triangle x > -2, y > -2, x + y < 2 has area 6 * 6 / 2 = 18); neither with --from.
+"$pleat" draw "$trained" --box -3,3 --out "$work/boxed.csv" -q > "$work/boxed.txt" 2> "$work/boxed.err" ||
+  fail "draw --box exited $?"
+grep -q '^view        \[-3,3\]x\[-3,3\]$' "$work/boxed.txt" || fail "--box view: $(cat "$work/boxed.txt")"
+[ ! -s "$work/boxed.err" ] || fail "--box: unexpected stderr $(cat "$work/boxed.err")"
+cat > "$work/triangle.json" <<'JSON'
+{"format": "pleat-domain/1", "input_dim": 2, "constraints": [
+  {"normal": ["1", "0"], "offset": "2"}, {"normal": ["0", "1"], "offset": "2"}, {"normal": ["-1", "-1"], "offset": "2"}]}
+JSON
+"$pleat" draw "$fold" --domain "$work/triangle.json" --out "$work/triangle.csv" -q > "$work/triangle.txt" ||
+  fail "draw --domain exited $?"
+grep -q '^view        \[-2,4\]x\[-2,4\]$' "$work/triangle.txt" || fail "--domain view: $(cat "$work/triangle.txt")"
+/usr/bin/python3 - "$work/triangle.csv" <<'PY' || fail "--domain polygons do not tile the triangle"
+import csv, sys
+from fractions import Fraction as F
+polygons = {}
+for r in csv.DictReader(open(sys.argv[1])):
+    polygons.setdefault(r["region"], []).append((F(r["x_exact"]), F(r["y_exact"])))
+areas = [sum(p[0] * q[1] - p[1] * q[0] for p, q in zip(v, v[1:] + v[:1])) / 2 for v in polygons.values()]
+assert all(a > 0 for a in areas) and sum(areas) == 18, sum(areas)
+assert all(x >= -2 and y >= -2 and x + y <= 2 for v in polygons.values() for x, y in v)
+PY
+"$pleat" walk "$fold" --box -3,3 -q -o "$work/boxwalk.jsonl" > /dev/null || fail "walk failed"
+"$pleat" draw "$fold" --from "$work/boxwalk.jsonl" --box -1,1 --out "$work/f.svg" > /dev/null 2>&1
+[ $? -eq 2 ] || fail "--from with --box accepted"
+
+# --size: the SVG is that size (96 px to the inch); bad sizes exit 2.
+"$pleat" draw "$fold" --view -3,3,-3,3 --size 10cm,7cm --out "$work/sized.svg" -q > /dev/null || fail "--size exited $?"
+grep -q '<svg [^>]*width="377.95" height="264.57"' "$work/sized.svg" || fail "--size 10cm,7cm: $(grep -o '<svg [^>]*' "$work/sized.svg")"
+"$pleat" draw "$fold" --view -3,3,-3,3 --size 500,300px --out "$work/sized.svg" -q > /dev/null || fail "--size px exited $?"
+grep -q '<svg [^>]*width="500" height="300"' "$work/sized.svg" || fail "--size 500,300px"
+for bad in 10,7 1cm,7cm 10cm 10cm,7in x,7cm; do
+  "$pleat" draw "$fold" --size $bad --out "$work/f.svg" > /dev/null 2> "$work/size.err"; status=$?
+  [ $status -eq 2 ] && grep -q -- "--size" "$work/size.err" || fail "--size $bad: exit $status, $(cat "$work/size.err")"
+done
+"$pleat" draw "$fold" --size 10cm,7cm --out "$work/f.csv" > /dev/null 2>&1; [ $? -eq 2 ] || fail "--size with .csv accepted"
+
+# --labels and --table: a region shows its pattern or its number (never
+# both), both kinds occur on fold2d; the table lists every polygon of the
+# CSV once, with an exact point strictly inside it (Python fractions).
+"$pleat" draw "$fold" --view -3,3,-3,3 --labels --table "$work/table.csv" --out "$work/labels.svg" -q > /dev/null ||
+  fail "--labels --table exited $?"
+"$pleat" draw "$fold" --view -3,3,-3,3 --out "$work/labels.csv" -q > /dev/null || fail "csv exited $?"
+/usr/bin/python3 - "$work" <<'PY' || fail "--labels / --table"
+import csv, sys, xml.etree.ElementTree as ET
+from fractions import Fraction as F
+work = sys.argv[1]
+ns = {"s": "http://www.w3.org/2000/svg"}
+root = ET.parse(f"{work}/labels.svg").getroot()
+patterns = {p.get("id")[len("region-"):]: p.get("data-pattern") for p in root.iter("{http://www.w3.org/2000/svg}polygon")}
+texts = root.find(".//s:g[@id='labels']", ns).findall("s:text", ns)
+shown_patterns = [t.text for t in texts if t.get("class") == "pattern"]
+shown_numbers = [t.text for t in texts if t.get("class") == "number"]
+assert shown_patterns and shown_numbers, (len(shown_patterns), len(shown_numbers))
+assert set(shown_patterns) <= set(patterns.values()) and set(shown_numbers) <= set(patterns)
+labelled = [p for p, q in patterns.items() if q in shown_patterns] + shown_numbers
+assert len(labelled) == len(set(labelled)), "a region labelled twice"
+polygons = {}
+for r in csv.DictReader(open(f"{work}/labels.csv")):
+    polygons.setdefault(r["region"], []).append((F(r["x_exact"]), F(r["y_exact"])))
+table = list(csv.DictReader(open(f"{work}/table.csv")))
+assert sorted(r["region"] for r in table) == sorted(polygons) == sorted(patterns), "one row per region drawn"
+for r in table:
+    assert patterns[r["region"]] == r["pattern"]
+    p, v = (F(r["x_exact"]), F(r["y_exact"])), polygons[r["region"]]
+    # Strictly left of every counter-clockwise edge.
+    assert all((b[0] - a[0]) * (p[1] - a[1]) - (b[1] - a[1]) * (p[0] - a[0]) > 0 for a, b in zip(v, v[1:] + v[:1])), r
+    assert abs(float(r["x"]) - float(p[0])) < 1e-12 and abs(float(r["y"]) - float(p[1])) < 1e-12
+PY
+
+# --color-by rank on the trained network: regions coloured by the rows they
+# add to the rank of the regions before them in walk order (region ids). The
+# legend's histogram must equal one recomputed here: each region's
+# coefficient-block rows from scripts/check_bundle.py (Python fractions, no
+# pleat code), added in id order to an exact echelon basis; the total must
+# be sympy's rank of all rows (outside reference) and certify's value on the
+# same box, and the regions must not all share a colour.
+"$pleat" draw "$trained" --color-by rank --table "$work/rank_table.csv" --out "$work/trained_rank.svg" -q \
+  > "$work/rank_view.txt" 2> /dev/null || fail "draw --color-by rank exited $?"
+box=$(sed -n 's/^view *\[\([-0-9]*\),\([-0-9]*\)\]x\[\([-0-9]*\),\([-0-9]*\)\]$/\1,\2,\3,\4/p' "$work/rank_view.txt")
+"$pleat" certify "$trained" --box "$box" --json -q > "$work/rank_certify.json" || fail "certify --box $box exited $?"
+/usr/bin/python3 - "$work" "$source_dir" "$trained" <<'PY' || fail "--color-by rank histogram"
+import csv, importlib.util, json, re, sys
+from collections import Counter
+from fractions import Fraction
+import sympy
+work, source, net_path = sys.argv[1:]
+spec = importlib.util.spec_from_file_location("check_bundle", f"{source}/scripts/check_bundle.py")
+cb = importlib.util.module_from_spec(spec); spec.loader.exec_module(cb)
+net = cb.Network(json.load(open(net_path)))
+basis, added, everything = [], [], []  # basis: (pivot, row) in reduced form
+for r in sorted(csv.DictReader(open(f"{work}/rank_table.csv")), key=lambda r: int(r["region"])):
+    pattern = net.parse_pattern(r["pattern"], "")
+    new = 0
+    if net.is_smooth(pattern):
+        for row in net.coefficient_blocks(pattern):
+            everything.append(row)
+            for pivot, b in basis:
+                if row[pivot] != 0:
+                    f = row[pivot] / b[pivot]
+                    row = [x - f * y for x, y in zip(row, b)]
+            pivot = next((c for c, x in enumerate(row) if x != 0), None)
+            if pivot is not None:
+                basis.append((pivot, row)); new += 1
+    added.append(new)
+svg = open(f"{work}/trained_rank.svg").read()
+legend = {int(a): int(b) for a, b in re.findall(r">(\d+) rows?: (\d+) regions?<", svg)}
+assert legend == dict(Counter(added)), (legend, Counter(added))
+assert len(legend) >= 2, legend
+total = sum(added)
+assert total == sympy.Matrix(everything).rank(), "sympy rank"
+assert total == json.load(open(f"{work}/rank_certify.json"))["functional_dimension"], total
+assert f"rank {total} or more" in svg
 PY
 
 # Bad arguments.
