@@ -339,6 +339,15 @@ std::vector<std::size_t> new_rows_in_walk_order(const Network& network, const st
   return rows;
 }
 
+// With --labels, the key says what a number on the map is.
+void add_label_note(Figure& figure, const DrawArguments& arguments) {
+  if (!arguments.labels) return;
+  figure.notes.push_back("");
+  figure.notes.push_back("labels: the activation pattern,");
+  figure.notes.push_back("or the region's number where");
+  figure.notes.push_back("the pattern does not fit (--table)");
+}
+
 // Fills figure.colours / polygon colours / legend for the chosen mode.
 // keys[i] is region i's pattern; adjacent is the region adjacency graph.
 void colour_regions(const Network& network, const std::vector<const Region*>& regions,
@@ -545,6 +554,7 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
     figure.polygons.push_back(std::move(polygon));
   }
   colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
+  add_label_note(figure, arguments);
   for (std::size_t i = 0; i < polygons.size(); ++i) figure.polygons[i].region = drawn[i]->id;
   std::vector<std::string> stats{count_of(result.regions, "region") + ", " + count_of(result.edges, "edge") + ",",
                                  count_of(result.vertices, "vertex", "vertices") + " in the view"};
@@ -643,6 +653,7 @@ Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments&
     figure.polygons.push_back(std::move(band));
   }
   colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
+  add_label_note(figure, arguments);
   for (std::size_t i = 0; i < pieces.size(); ++i) figure.polygons[i].region = pieces[i].region->id;
   std::vector<std::string> stats{count_of(pieces.size(), "region") + ", " +
                                  count_of(figure.breakpoints.size(), "breakpoint")};
