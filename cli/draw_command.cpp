@@ -339,6 +339,15 @@ std::vector<std::size_t> new_rows_in_walk_order(const Network& network, const st
   return rows;
 }
 
+// With --labels, the key says what a number on the map is.
+void add_label_note(Figure& figure, const DrawArguments& arguments) {
+  if (!arguments.labels) return;
+  figure.notes.push_back("");
+  figure.notes.push_back("labels: the activation pattern,");
+  figure.notes.push_back("or the region's number where");
+  figure.notes.push_back("the pattern does not fit (--table)");
+}
+
 // Fills figure.colours / polygon colours / legend for the chosen mode.
 // keys[i] is region i's pattern; adjacent is the region adjacency graph.
 void colour_regions(const Network& network, const std::vector<const Region*>& regions,
@@ -422,10 +431,14 @@ void colour_regions(const Network& network, const std::vector<const Region*>& re
   for (auto& polygon : figure.polygons) polygon.colour = colour[polygon.region];
 }
 
+// Regions narrower than this in the SVG are reported: a reader cannot see them.
+constexpr double thin_width_px = 3;
+
 struct Drawn {
   std::string text;
   std::string table;  // --table: one row per region drawn (per face of a mesh)
   std::size_t vertices = 0, edges = 0, regions = 0;
+  std::size_t thin = 0;  // regions under thin_width_px wide in the SVG (2 inputs)
 };
 
 // The side table of the regions drawn: the number on the map (the region's
@@ -541,12 +554,14 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
     figure.polygons.push_back(std::move(polygon));
   }
   colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
+  add_label_note(figure, arguments);
   for (std::size_t i = 0; i < polygons.size(); ++i) figure.polygons[i].region = drawn[i]->id;
   std::vector<std::string> stats{count_of(result.regions, "region") + ", " + count_of(result.edges, "edge") + ",",
                                  count_of(result.vertices, "vertex", "vertices") + " in the view"};
+  apply_size(figure, arguments, format);
+  result.thin = thin_regions_svg(figure, thin_width_px);
   for (auto& note : outside_note(scene, result.regions)) stats.push_back(std::move(note));
   add_stats(figure, arguments, stats);
-  apply_size(figure, arguments, format);
   result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
   return result;
 }
@@ -638,6 +653,7 @@ Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments&
     figure.polygons.push_back(std::move(band));
   }
   colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
+  add_label_note(figure, arguments);
   for (std::size_t i = 0; i < pieces.size(); ++i) figure.polygons[i].region = pieces[i].region->id;
   std::vector<std::string> stats{count_of(pieces.size(), "region") + ", " +
                                  count_of(figure.breakpoints.size(), "breakpoint")};
@@ -903,6 +919,10 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
     std::cout << "graph       " << drawn.regions << " pieces, " << (drawn.regions ? drawn.regions - 1 : 0)
               << " breakpoints (exact, in the view)\n";
   std::cout << "written     " << arguments.output_path << "\n";
+  if (drawn.thin > 0)
+    std::cerr << "pleat: " << count_of(drawn.thin, "region") << " of " << drawn.regions
+              << (drawn.thin == 1 ? " is" : " are") << " under " << thin_width_px
+              << " px wide in the SVG (--labels with --table numbers them; a smaller --view widens them)\n";
   if (scene.total_regions && *scene.total_regions > drawn.regions)
     std::cerr << "pleat: " << *scene.total_regions - drawn.regions << " of " << *scene.total_regions
               << " regions lie outside the view\n";
@@ -928,7 +948,8 @@ void register_draw(CommandTable& commands) {
       "regions are cut to it), else the bulk of the arrangement's vertices (per axis the\n"
       "shortest interval holding half of them, widened by its length on each side; the whole\n"
       "range when that is not much wider). Standard error then says how many vertices and\n"
-      "regions lie outside, and the --view that holds every vertex.\n\n"
+      "regions lie outside, and the --view that holds every vertex. It also says how many\n"
+      "regions are under 3 px wide in the SVG (too thin to see).\n\n"
       "Examples:\n"
       "  pleat draw data/fold2d.json --out fold2d.svg --view -3,3,-3,3\n"
       "  pleat draw data/fold2d.json --out fold2d.tex --color-by layer1 --labels\n"

@@ -61,6 +61,12 @@ struct Figure {
 // data-pattern=... fill=...>, so tests can map data points to pixels.
 std::string figure_svg(const Figure& figure);
 
+// How many regions' polygons are narrower than min_width_px in the SVG the
+// figure makes (width: the least distance between two parallel lines
+// enclosing the polygon, after clipping to the plot area): regions a reader
+// cannot see.
+std::size_t thin_regions_svg(const Figure& figure, double min_width_px);
+
 // A tikzpicture for \input in a LaTeX document that loads tikz (no other
 // package or TikZ library needed).
 std::string figure_tikz(const Figure& figure);

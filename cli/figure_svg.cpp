@@ -5,6 +5,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <limits>
 #include <sstream>
 
 namespace pleat::cli {
@@ -226,7 +227,35 @@ void write_legend(const Figure& figure, const Layout& layout, std::ostream& out)
   out << "</g>\n";
 }
 
+// The least width of a convex polygon: over its edges, the farthest vertex
+// from the edge's line; the least of those.
+double least_width(const std::vector<FigurePoint>& vertices) {
+  double least = std::numeric_limits<double>::infinity();
+  for (std::size_t i = 0; i < vertices.size(); ++i) {
+    const FigurePoint& a = vertices[i];
+    const FigurePoint& b = vertices[(i + 1) % vertices.size()];
+    const double length = std::hypot(b.x - a.x, b.y - a.y);
+    if (length == 0) continue;
+    double farthest = 0;
+    for (const auto& p : vertices)
+      farthest = std::max(farthest, std::abs((b.x - a.x) * (p.y - a.y) - (b.y - a.y) * (p.x - a.x)) / length);
+    least = std::min(least, farthest);
+  }
+  return vertices.size() < 3 ? 0 : least;
+}
+
 }  // namespace
+
+std::size_t thin_regions_svg(const Figure& figure, double min_width_px) {
+  const Layout layout(figure);
+  std::size_t thin = 0;
+  for (const auto& polygon : figure.polygons) {
+    std::vector<FigurePoint> pixels;
+    for (const auto& p : polygon.vertices) pixels.push_back(FigurePoint{layout.x(p.x), layout.y(p.y)});
+    if (least_width(pixels) < min_width_px) ++thin;
+  }
+  return thin;
+}
 
 std::string figure_svg(const Figure& figure) {
   const Layout layout(figure);

@@ -30,6 +30,7 @@ std::string escape(const std::string& text) {
       case '\\': out += "\\textbackslash{}"; break;
       case '<': out += "\\textless{}"; break;
       case '>': out += "\\textgreater{}"; break;
+      case '-': out += out.empty() || out.back() != '-' ? "-" : "{}-"; break;  // "--" is not an en dash
       default: out += c;
     }
   }
@@ -57,13 +58,19 @@ const char* dash_pattern(std::size_t layer) {
 
 // The key and the notes, top-down right of the plot.
 template <class ColourName>
-void write_legend_tikz(const Figure& figure, double plot_width_cm, double height_cm, const ColourName& colour_name,
-                       std::ostream& out) {
+void write_legend_tikz(const Figure& figure, double plot_width_cm, double height_cm, double key_width,
+                       const ColourName& colour_name, std::ostream& out) {
   const double lx = plot_width_cm + 0.6;
   double ly = height_cm - 0.1;
+  // Headings in italics over a hairline (docs/figure-style.md).
+  auto hairline = [&](double at) {
+    out << "\\draw[pleatquiet, line width=0.2pt] (" << number(lx) << "," << number(at) << ") -- ++("
+        << number(key_width) << ",0);\n";
+  };
   out << "\\node[anchor=north west, inner sep=0pt, font=\\footnotesize\\itshape, text=pleatquiet] at (" << number(lx) << ","
       << number(ly) << ") {" << escape(figure.legend_title) << "};\n";
-  ly -= 0.5;
+  hairline(ly - 0.36);
+  ly -= 0.5 + 0.12;
   for (const auto& swatch : figure.swatches) {
     out << "\\filldraw[fill=" << colour_name(swatch.colour) << ", draw=pleatink!35, line width=0.3pt] (" << number(lx)
         << "," << number(ly) << ") rectangle ++(0.3,0.3);\n";
@@ -75,7 +82,8 @@ void write_legend_tikz(const Figure& figure, double plot_width_cm, double height
     ly -= 0.2;
     out << "\\node[anchor=west, inner sep=0pt, font=\\footnotesize\\itshape, text=pleatquiet] at (" << number(lx) << ","
         << number(ly + 0.15) << ") {bent hyperplanes};\n";
-    ly -= 0.45;
+    hairline(ly - 0.06);
+    ly -= 0.45 + 0.12;
     for (std::size_t layer = 0; layer < figure.layers; ++layer) {
       out << "\\draw[" << dash_pattern(layer) << "] (" << number(lx) << "," << number(ly + 0.15) << ") -- ++(0.8,0);\n";
       out << "\\node[anchor=west, inner sep=0pt] at (" << number(lx + 0.95) << "," << number(ly + 0.15)
@@ -134,7 +142,7 @@ TikzLayout tikz_layout(const Figure& figure) {
   } else if (figure.show_legend) {  // a long key reaches below the plot
     const double rows = 1.0 + static_cast<double>(figure.swatches.size()) + 1.5 +
                         (figure.show_lines && figure.graph.empty() ? static_cast<double>(figure.layers) + 1.5 : 0.0);
-    const double key_bottom = layout.plot_height - 0.1 - 0.45 * rows - 0.42 * static_cast<double>(figure.notes.size());
+    const double key_bottom = layout.plot_height - 0.1 - 0.45 * rows - 0.24 - 0.42 * static_cast<double>(figure.notes.size());
     layout.below = std::max(layout.below, 0.2 - key_bottom);
   }
   return layout;
@@ -221,7 +229,8 @@ std::string figure_tikz(const Figure& figure) {
       << axis_label(figure.x_label) << " $\\rightarrow$};\n";
   out << "\\node[anchor=south, text=pleatink] at (-0.2," << number(height_cm + 0.15) << ") {"
       << axis_label(figure.y_label) << " $\\uparrow$};\n";
-  if (figure.show_legend) write_legend_tikz(figure, plot_width_cm, height_cm, colour_name, out);
+  if (figure.show_legend)
+    write_legend_tikz(figure, plot_width_cm, height_cm, std::max(2.0, layout.right - 0.8), colour_name, out);
   out << "\\end{tikzpicture}\n";
   return out.str();
 }

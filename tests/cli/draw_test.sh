@@ -165,6 +165,7 @@ done
 # CSV once, with an exact point strictly inside it (Python fractions).
 "$pleat" draw "$fold" --view -3,3,-3,3 --labels --table "$work/table.csv" --out "$work/labels.svg" -q > /dev/null ||
   fail "--labels --table exited $?"
+grep -q 'labels: the activation pattern,' "$work/labels.svg" || fail "the key does not explain the labels"
 "$pleat" draw "$fold" --view -3,3,-3,3 --out "$work/labels.csv" -q > /dev/null || fail "csv exited $?"
 /usr/bin/python3 - "$work" <<'PY' || fail "--labels / --table"
 import csv, sys, xml.etree.ElementTree as ET

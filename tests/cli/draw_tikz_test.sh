@@ -19,6 +19,8 @@ run "$fold" --view -3,3,-3,3 --no-legend --out "$work/bare.tex"
 run "$fold" --view -3,3,-3,3 --size 8cm,6cm --out "$work/sized.tex"
 run "$fold" --view -3,3,-3,3 --size 400,300px --out "$work/pixels.tex"
 pictures="fold ramp trained wide bare sized pixels"
+# The key explains the labels; "--" stays two hyphens in TeX (not an en dash).
+grep -q 'the pattern does not fit (-{}-table)' "$work/fold.tex" || fail "the labels note in TikZ"
 
 /usr/bin/python3 - "$work" $pictures <<'PY' || fail "declared TikZ sizes"
 import re, sys

@@ -16,6 +16,10 @@
   palette's colours differ by at least 6 in CIE L* (sRGB -> L* formulas of
   CIE 15 / IEC 61966-2-1), so they stay apart in greyscale.
 - --from draws the saved walk with the same polygons as a fresh walk.
+- The default view of a trained network (data/track/epoch40.json) and a dense
+  random one: the regions pleat reports as under 3 px wide are those whose
+  SVG polygons are (least width over the edges of scipy's ConvexHull), and
+  they are fewer than a third.
 Usage: draw_plane_test.py PLEAT_BINARY SOURCE_DIR
 """
 import csv
@@ -242,6 +246,42 @@ def check_svg(svg_path, regions, scratch):
     check(tested >= 10, f"only {tested} regions were wide enough to test")
 
 
+def least_width(points):
+    """Least width of a convex polygon (numpy): over the edges of its convex
+    hull (scipy.spatial.ConvexHull, Qhull), the farthest vertex from the
+    edge's line; the least of those."""
+    from scipy.spatial import ConvexHull
+    points = np.array(points)
+    try:
+        hull = points[ConvexHull(points).vertices]
+    except Exception:  # degenerate (collinear) polygon
+        return 0.0
+    least = float("inf")
+    for a, b in zip(hull, np.roll(hull, -1, axis=0)):
+        edge = b - a
+        distances = np.abs(edge[0] * (hull[:, 1] - a[1]) - edge[1] * (hull[:, 0] - a[0])) / np.hypot(*edge)
+        least = min(least, distances.max())
+    return least
+
+
+def check_thin(name, args, scratch):
+    """The default view of a trained or dense network: pleat's stderr count of
+    regions under 3 px wide equals one recomputed from the SVG's polygons
+    (within the 0.01 px rounding of their coordinates)."""
+    svg = os.path.join(scratch, "thin.svg")
+    done = subprocess.run([PLEAT, "draw", *args, "--out", svg, "-q"], capture_output=True, text=True)
+    check(done.returncode == 0, f"{name}: draw failed: {done.stderr}")
+    reported = re.search(r"(\d+) regions? of (\d+) (?:is|are) under 3 px wide", done.stderr)
+    widths = []
+    for polygon in ET.parse(svg).getroot().iter("{http://www.w3.org/2000/svg}polygon"):
+        widths.append(least_width([tuple(map(float, p.split(","))) for p in polygon.get("points").split()]))
+    surely, maybe = sum(w < 3 - 0.05 for w in widths), sum(w < 3 + 0.05 for w in widths)
+    count = int(reported.group(1)) if reported else 0
+    check(surely <= count <= maybe, f"{name}: pleat reports {count} thin regions, recomputed {surely}..{maybe}")
+    check(not reported or int(reported.group(2)) == len(widths), f"{name}: {reported.group(2)} regions vs {len(widths)}")
+    check(count < len(widths) / 3, f"{name}: {count} of {len(widths)} regions are too thin to see")
+
+
 def main():
     scratch = tempfile.mkdtemp()
     try:
@@ -266,6 +306,10 @@ def main():
         svg = os.path.join(scratch, "fill.svg")
         run("draw", NET, "--from", walk_file, "--no-lines", "--out", svg)
         check_svg(svg, regions, scratch)
+        check_thin("epoch40", [os.path.join(SOURCE, "data", "track", "epoch40.json")], scratch)
+        dense = os.path.join(scratch, "dense.json")
+        run("random", "--arch", "2,16,16,1", "--seed", "3", "-o", dense)
+        check_thin("random 2,16,16,1", [dense], scratch)
     finally:
         shutil.rmtree(scratch)
     for failure in failures[:20]:
