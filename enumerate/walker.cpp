@@ -133,6 +133,94 @@ void compose_integer(const IntegerLayer& layer, const IntegerMap& input, Integer
   out.denominator = layer.denominator * input.denominator;
 }
 
+// Fraction-free layer maps in 128-bit integers, when a bound proves they fit:
+// with S_k = max_r sum_t |W_k[r][t]| and E_k the product of the denominators
+// of layers 1..k, every entry of layer k's linear part is at most
+// L_k = S_k L_(k-1) (L_0 = 1) and every offset at most
+// O_k = E_(k-1) max_r |b_k[r]| + S_k O_(k-1) (O_0 = 0), whatever the pattern
+// (a neuron that is off only drops terms); each partial sum of a row is
+// bounded the same way. All of them below 2^125 and every product below is
+// exact in __int128.
+__extension__ typedef __int128 Wide;
+__extension__ typedef unsigned __int128 UnsignedWide;
+
+struct WideLayers {
+  std::vector<std::vector<Wide>> weights;  // per layer, rows x cols
+  std::vector<std::vector<Wide>> bias;
+  std::vector<Wide> input_denominator;     // per layer: E_(k-1)
+  std::vector<Integer> map_denominator;    // per layer: E_k
+};
+
+std::optional<WideLayers> wide_layers(const std::vector<IntegerLayer>& layers) {
+  const Integer limit = Integer(1) << 125;
+  Integer linear_bound = 1, offset_bound = 0, denominator = 1;
+  WideLayers wide;
+  const auto narrow = [](const Integer& value) {
+    Integer magnitude = abs(value);
+    const Wide low = static_cast<Wide>(mpz_get_ui(magnitude.get_mpz_t()));
+    magnitude >>= 64;
+    const Wide result = (static_cast<Wide>(mpz_get_ui(magnitude.get_mpz_t())) << 64) | low;
+    return sgn(value) < 0 ? -result : result;
+  };
+  for (const IntegerLayer& layer : layers) {
+    Integer row_sum_bound = 0, bias_bound = 0;
+    for (std::size_t r = 0; r < layer.rows; ++r) {
+      Integer row_sum = 0;
+      for (std::size_t t = 0; t < layer.cols; ++t) row_sum += abs(layer.weights[r * layer.cols + t]);
+      row_sum_bound = std::max(row_sum_bound, row_sum);
+      bias_bound = std::max(bias_bound, Integer(abs(layer.bias[r])));
+    }
+    linear_bound *= row_sum_bound;
+    offset_bound = denominator * bias_bound + row_sum_bound * offset_bound;
+    if (linear_bound >= limit || offset_bound >= limit || denominator >= limit) return std::nullopt;
+    std::vector<Wide> weights(layer.weights.size()), bias(layer.bias.size());
+    for (std::size_t i = 0; i < weights.size(); ++i) weights[i] = narrow(layer.weights[i]);
+    for (std::size_t i = 0; i < bias.size(); ++i) bias[i] = narrow(layer.bias[i]);
+    wide.weights.push_back(std::move(weights));
+    wide.bias.push_back(std::move(bias));
+    wide.input_denominator.push_back(narrow(denominator));
+    denominator *= layer.denominator;
+    if (denominator >= limit) return std::nullopt;
+    wide.map_denominator.push_back(denominator);
+  }
+  return wide;
+}
+
+// Layer k's pre-activation rows (n linear entries, then the offset) from the
+// previous layer's rows, only those with active[t] (neurons that are on).
+void compose_wide(const IntegerLayer& layer, const WideLayers& wide, std::size_t k, std::size_t n,
+                  const std::vector<Wide>& input, const std::vector<char>& active, std::vector<Wide>& out) {
+  const std::size_t width = n + 1;
+  out.assign(layer.rows * width, 0);
+  const std::vector<Wide>& weights = wide.weights[k];
+  for (std::size_t r = 0; r < layer.rows; ++r) {
+    Wide* row = out.data() + r * width;
+    row[n] = wide.input_denominator[k] * wide.bias[k][r];
+    for (std::size_t t = 0; t < layer.cols; ++t) {
+      const Wide weight = weights[r * layer.cols + t];
+      if (!active[t] || weight == 0) continue;
+      const Wide* from = input.data() + t * width;
+      for (std::size_t c = 0; c < width; ++c) row[c] += weight * from[c];
+    }
+  }
+}
+
+void set_integer(Integer& out, Wide value) {
+  const bool is_negative = value < 0;
+  const UnsignedWide magnitude = is_negative ? -static_cast<UnsignedWide>(value) : static_cast<UnsignedWide>(value);
+  const auto high = static_cast<unsigned long>(magnitude >> 64);
+  const auto low = static_cast<unsigned long>(magnitude);
+  mpz_ptr target = out.get_mpz_t();
+  if (high == 0) {
+    mpz_set_ui(target, low);
+  } else {
+    mpz_set_ui(target, high);
+    mpz_mul_2exp(target, target, 64);
+    mpz_add_ui(target, target, low);
+  }
+  if (is_negative) mpz_neg(target, target);
+}
+
 // compose_integer with the input's rows limited to those with active[t]
 // (the neurons that are on): the post-activation map without building it.
 // Reuses out's integers (no allocation once the buffers have grown).
@@ -457,6 +545,9 @@ class RegionProcessor {
         oracle_(lp::FilterTolerances{.exact_only = exact_only}) {
     is_plane_path_ = network.input_dim == 2 && !exact_only && is_plane_path_allowed;
     if (!is_plane_path_) return;
+    wide_ = wide_layers(layers_);
+    wide_identity_.assign(2 * 3, 0);
+    wide_identity_[0] = wide_identity_[4] = 1;  // rows (1, 0 | 0) and (0, 1 | 0)
     identity_ = IntegerMap{2, 2, {Integer(1), Integer(0), Integer(0), Integer(1)}, {Integer(0), Integer(0)}, Integer(1)};
     for (const lp::Constraint& side : domain.constraints) {
       // Scaled by the denominators' lcm: the same half-plane with integer coefficients.
@@ -521,6 +612,10 @@ class RegionProcessor {
   // Every layer's pre-activation map for the pattern, into pre_ (all layers).
   void compute_integer_maps(const ActivationPattern& pattern) {
     pre_.resize(layers_.size());
+    if (wide_) {
+      compute_wide_maps(pattern);
+      return;
+    }
     const IntegerMap* input = &identity_;
     std::size_t first_neuron = 0;
     for (std::size_t k = 0; k < layers_.size(); ++k) {
@@ -533,6 +628,36 @@ class RegionProcessor {
       }
       compose_active(layers_[k], *input, active_, pre_[k]);
       input = &pre_[k];
+    }
+  }
+
+  // compute_integer_maps in 128-bit integers (wide_ proves they fit), then
+  // each entry set into pre_'s GMP integers.
+  void compute_wide_maps(const ActivationPattern& pattern) {
+    const std::size_t n = network_.input_dim;
+    wide_pre_.resize(layers_.size());
+    const std::vector<Wide>* input = &wide_identity_;
+    std::size_t first_neuron = 0;
+    for (std::size_t k = 0; k < layers_.size(); ++k) {
+      active_.assign(k == 0 ? n : layers_[k - 1].rows, 1);
+      if (k > 0) {
+        for (std::size_t t = 0; t < active_.size(); ++t)
+          active_[t] = pattern.states[first_neuron + t] == NeuronState::on;
+        first_neuron += active_.size();
+      }
+      compose_wide(layers_[k], *wide_, k, n, *input, active_, wide_pre_[k]);
+      input = &wide_pre_[k];
+      IntegerMap& map = pre_[k];
+      map.rows = layers_[k].rows;
+      map.cols = n;
+      map.linear.resize(map.rows * n);
+      map.offset.resize(map.rows);
+      for (std::size_t r = 0; r < map.rows; ++r) {
+        const Wide* row = wide_pre_[k].data() + r * (n + 1);
+        for (std::size_t c = 0; c < n; ++c) set_integer(map.linear[r * n + c], row[c]);
+        set_integer(map.offset[r], row[n]);
+      }
+      map.denominator = wide_->map_denominator[k];
     }
   }
 
@@ -850,6 +975,9 @@ class RegionProcessor {
   // The plane path's state (buffers reused between regions).
   bool is_plane_path_ = false;
   IntegerMap identity_;
+  std::optional<WideLayers> wide_;         // the layers in 128 bits, when every map provably fits
+  std::vector<Wide> wide_identity_;
+  std::vector<std::vector<Wide>> wide_pre_;
   std::vector<lp::PlaneRow> domain_rows_;  // the domain's sides as integer rows
   std::vector<IntegerMap> pre_;            // per layer, this region's pre-activation map
   std::vector<char> active_;
