@@ -3,6 +3,7 @@
 #include "core/filtered_sign.hpp"
 #include "core/jacobian.hpp"
 #include "core/limit_error.hpp"
+#include "lp/plane_cell.hpp"
 
 #include <algorithm>
 #include <chrono>
@@ -130,6 +131,118 @@ void compose_integer(const IntegerLayer& layer, const IntegerMap& input, Integer
     }
   }
   out.denominator = layer.denominator * input.denominator;
+}
+
+// Fraction-free layer maps in 128-bit integers, when a bound proves they fit:
+// with S_k = max_r sum_t |W_k[r][t]| and E_k the product of the denominators
+// of layers 1..k, every entry of layer k's linear part is at most
+// L_k = S_k L_(k-1) (L_0 = 1) and every offset at most
+// O_k = E_(k-1) max_r |b_k[r]| + S_k O_(k-1) (O_0 = 0), whatever the pattern
+// (a neuron that is off only drops terms); each partial sum of a row is
+// bounded the same way. All of them below 2^125 and every product below is
+// exact in __int128.
+__extension__ typedef __int128 Wide;
+__extension__ typedef unsigned __int128 UnsignedWide;
+
+struct WideLayers {
+  std::vector<std::vector<Wide>> weights;  // per layer, rows x cols
+  std::vector<std::vector<Wide>> bias;
+  std::vector<Wide> input_denominator;     // per layer: E_(k-1)
+  std::vector<Integer> map_denominator;    // per layer: E_k
+};
+
+std::optional<WideLayers> wide_layers(const std::vector<IntegerLayer>& layers) {
+  const Integer limit = Integer(1) << 125;
+  Integer linear_bound = 1, offset_bound = 0, denominator = 1;
+  WideLayers wide;
+  const auto narrow = [](const Integer& value) {
+    Integer magnitude = abs(value);
+    const Wide low = static_cast<Wide>(mpz_get_ui(magnitude.get_mpz_t()));
+    magnitude >>= 64;
+    const Wide result = (static_cast<Wide>(mpz_get_ui(magnitude.get_mpz_t())) << 64) | low;
+    return sgn(value) < 0 ? -result : result;
+  };
+  for (const IntegerLayer& layer : layers) {
+    Integer row_sum_bound = 0, bias_bound = 0;
+    for (std::size_t r = 0; r < layer.rows; ++r) {
+      Integer row_sum = 0;
+      for (std::size_t t = 0; t < layer.cols; ++t) row_sum += abs(layer.weights[r * layer.cols + t]);
+      row_sum_bound = std::max(row_sum_bound, row_sum);
+      bias_bound = std::max(bias_bound, Integer(abs(layer.bias[r])));
+    }
+    linear_bound *= row_sum_bound;
+    offset_bound = denominator * bias_bound + row_sum_bound * offset_bound;
+    if (linear_bound >= limit || offset_bound >= limit || denominator >= limit) return std::nullopt;
+    std::vector<Wide> weights(layer.weights.size()), bias(layer.bias.size());
+    for (std::size_t i = 0; i < weights.size(); ++i) weights[i] = narrow(layer.weights[i]);
+    for (std::size_t i = 0; i < bias.size(); ++i) bias[i] = narrow(layer.bias[i]);
+    wide.weights.push_back(std::move(weights));
+    wide.bias.push_back(std::move(bias));
+    wide.input_denominator.push_back(narrow(denominator));
+    denominator *= layer.denominator;
+    if (denominator >= limit) return std::nullopt;
+    wide.map_denominator.push_back(denominator);
+  }
+  return wide;
+}
+
+// Layer k's pre-activation rows (n linear entries, then the offset) from the
+// previous layer's rows, only those with active[t] (neurons that are on).
+void compose_wide(const IntegerLayer& layer, const WideLayers& wide, std::size_t k, std::size_t n,
+                  const std::vector<Wide>& input, const std::vector<char>& active, std::vector<Wide>& out) {
+  const std::size_t width = n + 1;
+  out.assign(layer.rows * width, 0);
+  const std::vector<Wide>& weights = wide.weights[k];
+  for (std::size_t r = 0; r < layer.rows; ++r) {
+    Wide* row = out.data() + r * width;
+    row[n] = wide.input_denominator[k] * wide.bias[k][r];
+    for (std::size_t t = 0; t < layer.cols; ++t) {
+      const Wide weight = weights[r * layer.cols + t];
+      if (!active[t] || weight == 0) continue;
+      const Wide* from = input.data() + t * width;
+      for (std::size_t c = 0; c < width; ++c) row[c] += weight * from[c];
+    }
+  }
+}
+
+void set_integer(Integer& out, Wide value) {
+  const bool is_negative = value < 0;
+  const UnsignedWide magnitude = is_negative ? -static_cast<UnsignedWide>(value) : static_cast<UnsignedWide>(value);
+  const auto high = static_cast<unsigned long>(magnitude >> 64);
+  const auto low = static_cast<unsigned long>(magnitude);
+  mpz_ptr target = out.get_mpz_t();
+  if (high == 0) {
+    mpz_set_ui(target, low);
+  } else {
+    mpz_set_ui(target, high);
+    mpz_mul_2exp(target, target, 64);
+    mpz_add_ui(target, target, low);
+  }
+  if (is_negative) mpz_neg(target, target);
+}
+
+// compose_integer with the input's rows limited to those with active[t]
+// (the neurons that are on): the post-activation map without building it.
+// Reuses out's integers (no allocation once the buffers have grown).
+void compose_active(const IntegerLayer& layer, const IntegerMap& input, const std::vector<char>& active,
+                    IntegerMap& out) {
+  out.rows = layer.rows;
+  out.cols = input.cols;
+  out.linear.resize(out.rows * out.cols);
+  out.offset.resize(out.rows);
+  for (Integer& value : out.linear) value = 0;
+  for (std::size_t r = 0; r < layer.rows; ++r) {
+    mpz_ptr offset = out.offset[r].get_mpz_t();
+    mpz_mul(offset, input.denominator.get_mpz_t(), layer.bias[r].get_mpz_t());
+    for (std::size_t t = 0; t < layer.cols; ++t) {
+      mpz_srcptr weight = layer.weights[r * layer.cols + t].get_mpz_t();
+      if (!active[t] || mpz_sgn(weight) == 0) continue;
+      mpz_addmul(offset, weight, input.offset[t].get_mpz_t());
+      for (std::size_t c = 0; c < input.cols; ++c)
+        mpz_addmul(out.linear[r * out.cols + c].get_mpz_t(), weight, input.linear[t * input.cols + c].get_mpz_t());
+    }
+  }
+  mpz_mul(out.denominator.get_mpz_t(), layer.denominator.get_mpz_t(), input.denominator.get_mpz_t());
 }
 
 AffineMap to_rational_map(const IntegerMap& map) {
@@ -422,15 +535,47 @@ struct Processed {
 
 class RegionProcessor {
  public:
-  RegionProcessor(const Network& network, const Domain& domain, bool keep_certificates, bool exact_only = false)
+  RegionProcessor(const Network& network, const Domain& domain, bool keep_certificates, bool exact_only = false,
+                  bool is_plane_path_allowed = true)
       : network_(network),
         domain_(domain),
         keep_certificates_(keep_certificates),
         exact_only_(exact_only),
         layers_(integer_layers(network)),
-        oracle_(lp::FilterTolerances{.exact_only = exact_only}) {}
+        oracle_(lp::FilterTolerances{.exact_only = exact_only}) {
+    is_plane_path_ = network.input_dim == 2 && !exact_only && is_plane_path_allowed;
+    if (!is_plane_path_) return;
+    wide_ = wide_layers(layers_);
+    wide_identity_.assign(2 * 3, 0);
+    wide_identity_[0] = wide_identity_[4] = 1;  // rows (1, 0 | 0) and (0, 1 | 0)
+    identity_ = IntegerMap{2, 2, {Integer(1), Integer(0), Integer(0), Integer(1)}, {Integer(0), Integer(0)}, Integer(1)};
+    for (const lp::Constraint& side : domain.constraints) {
+      // Scaled by the denominators' lcm: the same half-plane with integer coefficients.
+      Integer scale = 1;
+      for (const Rational* value : {&side.normal[0], &side.normal[1], &side.offset})
+        mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), value->get_den_mpz_t());
+      const auto scaled = [&](const Rational& value) { return Integer(value.get_num() * (scale / value.get_den())); };
+      domain_rows_.push_back(lp::PlaneRow{scaled(side.normal[0]), scaled(side.normal[1]), scaled(side.offset)});
+    }
+  }
 
   Processed process(const ActivationPattern& pattern) {
+    if (pattern.states.size() != network_.relu_neuron_count())
+      throw usage_error("build_pattern_cell: pattern has the wrong number of neurons");
+    if (is_plane_path_)
+      if (std::optional<Processed> result = process_in_plane(pattern)) return std::move(*result);
+    return process_with_oracle(pattern);
+  }
+
+  lp::QueryCounts counts() const {
+    lp::QueryCounts total = oracle_.counts();
+    total += plane_counts_;
+    return total;
+  }
+
+ private:
+  // The general path: rational cell, lp::Oracle queries (any dimension).
+  Processed process_with_oracle(const ActivationPattern& pattern) {
     Processed result;
     auto cell = build_cell(pattern);
     if (!cell) return result;
@@ -457,9 +602,294 @@ class RegionProcessor {
     return result;
   }
 
-  const lp::QueryCounts& counts() const { return oracle_.counts(); }
+  // ---- the plane path (2 inputs, not exact only) -----------------------------
+  //
+  // Integer layer maps (fraction-free, buffers reused between regions), the
+  // cell as integer rows, lp::describe_plane_cell (polygon proposes, exact
+  // signs prove), crossings decided on the integer maps. Whatever it cannot
+  // prove (nullopt) goes to process_with_oracle, which decides everything.
 
- private:
+  // Every layer's pre-activation map for the pattern, into pre_ (all layers).
+  void compute_integer_maps(const ActivationPattern& pattern) {
+    pre_.resize(layers_.size());
+    if (wide_) {
+      compute_wide_maps(pattern);
+      return;
+    }
+    const IntegerMap* input = &identity_;
+    std::size_t first_neuron = 0;
+    for (std::size_t k = 0; k < layers_.size(); ++k) {
+      poll_stop();
+      active_.assign(input->rows, 1);
+      if (k > 0 && layers_[k - 1].is_relu) {
+        for (std::size_t t = 0; t < input->rows; ++t)
+          active_[t] = pattern.states[first_neuron + t] == NeuronState::on;
+        first_neuron += input->rows;
+      }
+      compose_active(layers_[k], *input, active_, pre_[k]);
+      input = &pre_[k];
+    }
+  }
+
+  // compute_integer_maps in 128-bit integers (wide_ proves they fit), then
+  // each entry set into pre_'s GMP integers.
+  void compute_wide_maps(const ActivationPattern& pattern) {
+    const std::size_t n = network_.input_dim;
+    wide_pre_.resize(layers_.size());
+    const std::vector<Wide>* input = &wide_identity_;
+    std::size_t first_neuron = 0;
+    for (std::size_t k = 0; k < layers_.size(); ++k) {
+      active_.assign(k == 0 ? n : layers_[k - 1].rows, 1);
+      if (k > 0) {
+        for (std::size_t t = 0; t < active_.size(); ++t)
+          active_[t] = pattern.states[first_neuron + t] == NeuronState::on;
+        first_neuron += active_.size();
+      }
+      compose_wide(layers_[k], *wide_, k, n, *input, active_, wide_pre_[k]);
+      input = &wide_pre_[k];
+      IntegerMap& map = pre_[k];
+      map.rows = layers_[k].rows;
+      map.cols = n;
+      map.linear.resize(map.rows * n);
+      map.offset.resize(map.rows);
+      for (std::size_t r = 0; r < map.rows; ++r) {
+        const Wide* row = wide_pre_[k].data() + r * (n + 1);
+        for (std::size_t c = 0; c < n; ++c) set_integer(map.linear[r * n + c], row[c]);
+        set_integer(map.offset[r], row[n]);
+      }
+      map.denominator = wide_->map_denominator[k];
+    }
+  }
+
+  static bool is_zero_linear(const IntegerMap& map, std::size_t r) {
+    for (std::size_t c = 0; c < map.cols; ++c)
+      if (sgn(map.linear[r * map.cols + c]) != 0) return false;
+    return true;
+  }
+
+  // The cell's rows (neurons, then domain sides) from pre_, as cell_from_maps
+  // builds them; false when the pattern is inconsistent with its maps.
+  bool build_plane_rows(const ActivationPattern& pattern) {
+    std::size_t count = 0;
+    row_neuron_.clear();
+    for (std::size_t k = 0; k < relu_layers(network_); ++k) {
+      const IntegerMap& pre = pre_[k];
+      const std::size_t first = network_.first_neuron_of_layer(k);
+      for (std::size_t i = 0; i < pre.rows; ++i) {
+        const NeuronState state = pattern.states[first + i];
+        const bool zero_linear = is_zero_linear(pre, i);
+        const bool identically_zero = zero_linear && sgn(pre.offset[i]) == 0;
+        if (state == NeuronState::zero_at_point) throw usage_error("build_pattern_cell: '=' is not a region state");
+        if (state == NeuronState::zero_on_region) {
+          if (!identically_zero) return false;
+          continue;
+        }
+        if (identically_zero) return false;
+        const int sign = state == NeuronState::on ? 1 : -1;
+        if (zero_linear) {
+          if (sign * sgn(pre.offset[i]) > 0) continue;
+          return false;
+        }
+        if (rows_.size() <= count) rows_.resize(count + 1);
+        lp::PlaneRow& row = rows_[count++];
+        row.a0 = pre.linear[i * 2];
+        row.a1 = pre.linear[i * 2 + 1];
+        row.c = pre.offset[i];
+        if (sign < 0) {
+          mpz_neg(row.a0.get_mpz_t(), row.a0.get_mpz_t());
+          mpz_neg(row.a1.get_mpz_t(), row.a1.get_mpz_t());
+          mpz_neg(row.c.get_mpz_t(), row.c.get_mpz_t());
+        }
+        row_neuron_.push_back(first + i);
+      }
+    }
+    neuron_rows_ = count;
+    rows_.resize(count);
+    rows_.insert(rows_.end(), domain_rows_.begin(), domain_rows_.end());
+    return true;
+  }
+
+  std::optional<Processed> process_in_plane(const ActivationPattern& pattern) {
+    compute_integer_maps(pattern);
+    if (!build_plane_rows(pattern)) return Processed{};  // not a region (as process_with_oracle says)
+    if (rows_.empty()) return std::nullopt;  // the whole plane: the general path
+    std::optional<lp::PlaneCell> plane = lp::describe_plane_cell(rows_);
+    if (!plane) return std::nullopt;
+    Processed result;
+    Region& region = result.region;
+    region.pattern = pattern;
+    // Boundedness on the neuron rows (as a subset of R^2).
+    std::optional<bool> bounded = false;
+    if (neuron_rows_ > 0) {
+      neuron_only_.assign(rows_.begin(), rows_.begin() + static_cast<std::ptrdiff_t>(neuron_rows_));
+      bounded = lp::is_plane_cell_bounded(neuron_only_);
+      if (!bounded) return std::nullopt;
+    }
+    region.bounded = *bounded;
+    region.point = plane->interior;
+    region.affine = output_map(pattern);
+    std::optional<PatternMaps> rational_maps;  // only for degenerate crossings
+    map_images_.clear();
+    for (lp::PlaneGroup& group : plane->groups) {
+      if (!group.is_facet) continue;
+      RegionFacet facet = plane_facet(pattern, group, rational_maps, result.degenerate_crossings);
+      if (facet.domain_side) region.touches_domain_boundary = true;
+      region.facets.push_back(std::move(facet));
+    }
+    if (has_zero_on_region(pattern)) region.nonsmooth_neurons = nonsmooth_neurons(network_, pattern);
+    if (keep_certificates_ && !attach_plane_certificates(pattern, *plane, region)) return std::nullopt;
+    // Counted as the general path counts: the centre, one per group, boundedness.
+    const std::uint64_t queries = 1 + plane->groups.size() + (neuron_rows_ > 0 && !keep_certificates_ ? 1 : 0);
+    plane_counts_.lp_queries += queries;
+    plane_counts_.filter_settled += queries;
+    result.is_region = true;
+    return result;
+  }
+
+  // The network's output map on the region, exact.
+  AffineMap output_map(const ActivationPattern& pattern) const {
+    const IntegerMap& last = pre_.back();
+    if (!layers_.back().is_relu) return to_rational_map(last);
+    IntegerMap out = last;
+    const std::size_t first = network_.relu_neuron_count() - last.rows;
+    for (std::size_t r = 0; r < out.rows; ++r) {
+      if (pattern.states[first + r] == NeuronState::on) continue;
+      for (std::size_t c = 0; c < out.cols; ++c) out.linear[r * out.cols + c] = 0;
+      out.offset[r] = 0;
+    }
+    return to_rational_map(out);
+  }
+
+  RegionFacet plane_facet(const ActivationPattern& pattern, const lp::PlaneGroup& group,
+                          std::optional<PatternMaps>& rational_maps, std::size_t& degenerate_crossings) {
+    RegionFacet facet;
+    for (std::size_t c : group.rows) {
+      if (c < neuron_rows_) facet.neurons.push_back(row_neuron_[c]);
+      else if (!facet.domain_side) facet.domain_side = c - neuron_rows_;
+    }
+    std::sort(facet.neurons.begin(), facet.neurons.end());
+    const lp::PlaneRow& representative = rows_[group.rows.front()];
+    Integer divisor;
+    mpz_gcd(divisor.get_mpz_t(), representative.a0.get_mpz_t(), representative.a1.get_mpz_t());
+    facet.normal = {Rational(representative.a0 / divisor), Rational(representative.a1 / divisor)};
+    facet.offset = Rational(representative.c, divisor);
+    facet.offset.canonicalize();
+    facet.point = group.point;
+    if (facet.domain_side) return facet;
+    std::vector<ActivationPattern> candidates;
+    if (std::optional<ActivationPattern> far = pattern_across_in_integers(pattern, facet.point, representative)) {
+      candidates.push_back(std::move(*far));
+    } else {
+      if (!rational_maps) rational_maps = maps_on_pattern_fraction_free(layers_, network_.input_dim, pattern);
+      const RationalVector normal{Rational(representative.a0), Rational(representative.a1)};
+      const RationalVector direction{-normal[0], -normal[1]};
+      std::optional<MapImages> images;
+      if (!exact_only_) images = map_images(network_, *rational_maps);
+      candidates = patterns_across_filtered(network_, pattern, *rational_maps, images ? &*images : nullptr,
+                                            facet.point, direction, normal);
+      if (candidates.size() > 1) {
+        ++degenerate_crossings;
+        candidates = keep_touching(candidates, facet.point);
+      }
+    }
+    if (!candidates.empty()) {
+      facet.neighbor = candidates.front();
+      facet.other_neighbors.assign(candidates.begin() + 1, candidates.end());
+    }
+    return facet;
+  }
+
+  // The far side's pattern at q in the common case, from the integer maps:
+  // every neuron keeps its sign unless it vanishes at q; a vanishing neuron
+  // is 'z' (zero linear part) or takes the sign of its derivative across the
+  // facet (linear part parallel to the facet's normal). nullopt when the
+  // crossing needs more (a vanishing neuron above a layer that changed, or
+  // one crossed transversally): extend_across decides those.
+  std::optional<ActivationPattern> pattern_across_in_integers(const ActivationPattern& near, const RationalVector& q,
+                                                              const lp::PlaneRow& facet_row) {
+    if (map_images_.empty()) {
+      for (std::size_t k = 0; k < relu_layers(network_); ++k) {
+        const IntegerMap& pre = pre_[k];
+        std::vector<double> images(pre.rows * 3);
+        for (std::size_t r = 0; r < pre.rows; ++r) {
+          images[3 * r] = filter_image(pre.linear[2 * r]);
+          images[3 * r + 1] = filter_image(pre.linear[2 * r + 1]);
+          images[3 * r + 2] = filter_image(pre.offset[r]);
+        }
+        map_images_.push_back(std::move(images));
+      }
+    }
+    Integer denominator;
+    mpz_lcm(denominator.get_mpz_t(), q[0].get_den_mpz_t(), q[1].get_den_mpz_t());
+    const Integer x0 = q[0].get_num() * (denominator / q[0].get_den());
+    const Integer x1 = q[1].get_num() * (denominator / q[1].get_den());
+    const double x[2] = {filter_image(q[0]), filter_image(q[1])};
+    ActivationPattern far = near;
+    bool changed_below = false;
+    for (std::size_t k = 0; k < relu_layers(network_); ++k) {
+      const IntegerMap& pre = pre_[k];
+      const std::size_t first = network_.first_neuron_of_layer(k);
+      bool changed_here = false;
+      for (std::size_t r = 0; r < pre.rows; ++r) {
+        const double* image = map_images_[k].data() + 3 * r;
+        std::optional<int> sign = filtered_affine_sign(image, x, 2, image[2]);
+        if (!sign) {
+          Integer sum = pre.offset[r] * denominator;
+          sum += pre.linear[2 * r] * x0;
+          sum += pre.linear[2 * r + 1] * x1;
+          sign = sgn(sum);
+        }
+        NeuronState state;
+        if (*sign > 0) {
+          state = NeuronState::on;
+        } else if (*sign < 0) {
+          state = NeuronState::off;
+        } else {
+          if (changed_below) return std::nullopt;  // the far side's map differs: extend_across
+          const Integer& b0 = pre.linear[2 * r];
+          const Integer& b1 = pre.linear[2 * r + 1];
+          if (sgn(b0) == 0 && sgn(b1) == 0) {
+            state = NeuronState::zero_on_region;
+          } else if (b0 * facet_row.a1 == b1 * facet_row.a0) {
+            // Parallel to the facet's normal n; across is the direction -n.
+            state = sgn(Integer(b0 * facet_row.a0 + b1 * facet_row.a1)) < 0 ? NeuronState::on : NeuronState::off;
+          } else {
+            return std::nullopt;  // transversal: both states occur, extend_across branches
+          }
+        }
+        NeuronState& slot = far.states[first + r];
+        if (slot != state) changed_here = true;
+        slot = state;
+      }
+      changed_below = changed_below || changed_here;
+    }
+    return far;
+  }
+
+  // With --certificates: the rational cell and the certificates of the plane
+  // path's verdicts (the same points, multipliers from its supports).
+  bool attach_plane_certificates(const ActivationPattern& pattern, const lp::PlaneCell& plane, Region& region) {
+    std::optional<PatternCell> cell = build_cell(pattern);
+    if (!cell || cell->cell.constraints.size() != rows_.size()) return false;
+    lp::FacetClassification classification;
+    for (const lp::PlaneGroup& group : plane.groups) {
+      if (group.is_facet) {
+        classification.groups.push_back(lp::FacetGroup{group.rows, lp::FacetPoint{group.point}});
+        continue;
+      }
+      std::optional<lp::NonFacetCertificate> certificate =
+          lp::plane_redundancy_certificate(cell->cell, group.rows.front(), group.support[0], group.support[1]);
+      if (!certificate) return false;
+      classification.groups.push_back(lp::FacetGroup{group.rows, std::move(*certificate)});
+    }
+    bool bounded = false;
+    std::optional<lp::BoundednessVerdict> boundedness = decide_boundedness(*cell, bounded);
+    if (bounded != region.bounded) return false;
+    region.certificates = RegionCertificates{std::move(cell->cell), std::move(cell->constraint_neuron),
+                                             std::move(classification), std::move(boundedness)};
+    return true;
+  }
+
   static bool has_zero_on_region(const ActivationPattern& pattern) {
     return std::any_of(pattern.states.begin(), pattern.states.end(),
                        [](NeuronState s) { return s == NeuronState::zero_on_region; });
@@ -542,6 +972,21 @@ class RegionProcessor {
   bool exact_only_;  // no double filter anywhere, the signs at crossings included
   std::vector<IntegerLayer> layers_;
   lp::Oracle oracle_;
+  // The plane path's state (buffers reused between regions).
+  bool is_plane_path_ = false;
+  IntegerMap identity_;
+  std::optional<WideLayers> wide_;         // the layers in 128 bits, when every map provably fits
+  std::vector<Wide> wide_identity_;
+  std::vector<std::vector<Wide>> wide_pre_;
+  std::vector<lp::PlaneRow> domain_rows_;  // the domain's sides as integer rows
+  std::vector<IntegerMap> pre_;            // per layer, this region's pre-activation map
+  std::vector<char> active_;
+  std::vector<lp::PlaneRow> rows_;         // this region's cell: neurons, then domain sides
+  std::vector<lp::PlaneRow> neuron_only_;
+  std::vector<std::size_t> row_neuron_;    // neuron id per neuron row
+  std::size_t neuron_rows_ = 0;
+  std::vector<std::vector<double>> map_images_;  // per ReLU layer, filter images of pre_ (lazy)
+  lp::QueryCounts plane_counts_;
 };
 
 // Union-find over region ids, for merging adjacent regions with one affine map.
@@ -824,7 +1269,9 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
 std::optional<Region> describe_region(const Network& network, const Domain& domain,
                                       const ActivationPattern& pattern, bool keep_certificates) {
   if (domain.dim != network.input_dim) throw usage_error("describe_region: domain and network dimensions differ");
-  RegionProcessor processor(network, domain, keep_certificates);
+  // The oracle path alone: the point is the Chebyshev-style centre of
+  // lp::Oracle::find_centre, as `pleat inspect` has always printed it.
+  RegionProcessor processor(network, domain, keep_certificates, false, /*is_plane_path_allowed=*/false);
   Processed processed = processor.process(pattern);
   if (!processed.is_region) return std::nullopt;
   return std::move(processed.region);
