@@ -24,7 +24,8 @@ namespace {
 Rational small_rational(std::mt19937_64& random) {
   std::uniform_int_distribution<int> numerator(-9, 9);
   std::uniform_int_distribution<int> denominator(1, 7);
-  Rational value(numerator(random), denominator(random));
+  const int d = denominator(random);  // drawn first: a call's argument order is unspecified
+  Rational value(numerator(random), d);
   value.canonicalize();
   return value;
 }
@@ -430,7 +431,9 @@ std::size_t one_input_rank(const Network& network) {
   for (std::size_t i = 0; i < hidden.width(); ++i)
     if (hidden.weights(i, 0) != 0) breakpoints.push_back(-hidden.bias[i] / hidden.weights(i, 0));
   std::sort(breakpoints.begin(), breakpoints.end());
-  std::vector<Rational> points{breakpoints.front() - 1, breakpoints.back() + 1};
+  // No breakpoint (every neuron flat in x): one region, any point.
+  std::vector<Rational> points{breakpoints.empty() ? Rational(0) : breakpoints.front() - 1};
+  if (!breakpoints.empty()) points.push_back(breakpoints.back() + 1);
   for (std::size_t i = 0; i + 1 < breakpoints.size(); ++i)
     points.push_back((breakpoints[i] + breakpoints[i + 1]) / 2);
   std::vector<RationalMatrix> blocks;

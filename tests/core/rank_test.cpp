@@ -28,7 +28,8 @@ RationalMatrix random_rational_matrix(std::mt19937_64& random, std::size_t rows,
   RationalMatrix m(rows, cols);
   for (std::size_t r = 0; r < rows; ++r)
     for (std::size_t c = 0; c < cols; ++c) {
-      m(r, c) = Rational(numerator(random), denominator(random));
+      const int d = denominator(random);  // drawn first: a call's argument order is unspecified
+      m(r, c) = Rational(numerator(random), d);
       m(r, c).canonicalize();
     }
   return m;

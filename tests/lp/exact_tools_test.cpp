@@ -30,8 +30,11 @@ TEST(SimplestBetween, NoSmallerDenominatorInside) {
   std::uniform_int_distribution<int> numerator(-400, 400);
   std::uniform_int_distribution<int> denominator(1, 60);
   for (int trial = 0; trial < 300; ++trial) {
-    Rational low(numerator(random), denominator(random));
-    Rational high(numerator(random), denominator(random));
+    // Draws in a fixed order (the order of a call's arguments is unspecified).
+    const int low_denominator = denominator(random);
+    Rational low(numerator(random), low_denominator);
+    const int high_denominator = denominator(random);
+    Rational high(numerator(random), high_denominator);
     low.canonicalize();
     high.canonicalize();
     if (low > high) std::swap(low, high);

@@ -55,7 +55,8 @@ inline RationalVector random_point(std::mt19937& random, std::size_t dim) {
   std::uniform_int_distribution<long> denominator(1, 7);
   RationalVector point;
   for (std::size_t k = 0; k < dim; ++k) {
-    Rational value(numerator(random), denominator(random));
+    const long d = denominator(random);  // drawn first: a call's argument order is unspecified
+    Rational value(numerator(random), d);
     value.canonicalize();
     point.push_back(value);
   }
