@@ -5,6 +5,7 @@
 #include "core/rational.hpp"
 
 #include <cstddef>
+#include <iterator>
 #include <utility>
 #include <vector>
 
@@ -32,6 +33,14 @@ class Matrix {
   void set_row(std::size_t r, const std::vector<T>& values) {
     for (std::size_t c = 0; c < cols_; ++c) (*this)(r, c) = values[c];
   }
+
+  // Appends a row (precondition: values.size() == cols(), unchecked), so
+  // that a large matrix can be built row by row between stop polls.
+  void append_row(std::vector<T>&& values) {
+    data_.insert(data_.end(), std::make_move_iterator(values.begin()), std::make_move_iterator(values.end()));
+    ++rows_;
+  }
+  void reserve_rows(std::size_t rows) { data_.reserve(rows * cols_); }
 
   friend bool operator==(const Matrix& a, const Matrix& b) {
     return a.rows_ == b.rows_ && a.cols_ == b.cols_ && a.data_ == b.data_;

@@ -285,7 +285,10 @@ class AnnihilationCheck {
     for (std::size_t k = 0; k < network.depth(); ++k) scale *= lcm;
     std::vector<std::vector<Integer>> integer_rows;
     Rational largest = 0;
+    // Thousands of dense vectors and, on deep networks, hundreds of primes:
+    // poll the current thread's stop request (a no-op without a StopScope).
     for (std::size_t r = 0; r < vectors.rows(); ++r) {
+      poll_stop();
       integer_rows.push_back(primitive_integer_row(vectors.row(r)));
       Rational sum = 0;
       for (std::size_t c = 0; c < vectors.cols(); ++c)
@@ -301,6 +304,7 @@ class AnnihilationCheck {
       product *= Integer(static_cast<unsigned long>(prime));
       Modulus modulus{std::move(*reduced), {}};
       for (const auto& row : integer_rows) {
+        poll_stop();
         std::vector<std::pair<std::size_t, std::uint64_t>> sparse;
         for (std::size_t c = 0; c < row.size(); ++c)
           if (row[c] != 0) sparse.emplace_back(c, *reduce_modulo(Rational(row[c]), prime));
@@ -315,6 +319,7 @@ class AnnihilationCheck {
   // True exactly when every vector annihilates every row of the pattern's blocks.
   bool annihilates(const ActivationPattern& pattern) const {
     for (const Modulus& modulus : moduli_) {
+      poll_stop();
       const std::uint64_t prime = modulus.network.prime;
       const ModularMatrix blocks = coefficient_blocks_mod(modulus.network, pattern);
       for (std::size_t r = 0; r < blocks.rows(); ++r)
@@ -361,6 +366,7 @@ std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check
   std::mutex error_mutex;
   std::exception_ptr error;
   auto work = [&](bool reports) {
+    const StopScope scope(stop);  // annihilates() polls it inside one pattern
     try {
       for (std::size_t i; !halt && (i = next++) < patterns.size();) {
         if (i > first_rejected.load()) continue;  // a smaller index already failed
@@ -407,17 +413,27 @@ std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon) {
   return leads;
 }
 
-// The extra directions E modulo p: the canonical kernel basis of the rows
-// stacked with unit rows at Q (the pivot columns of the scaling directions'
-// echelon form): the kernel vectors that vanish at Q, a complement of the
-// scaling directions in the kernel.
-ModularMatrix extra_directions_of_rows(ModularMatrix rows, const std::vector<std::size_t>& scaling_pivots,
+// The extra directions E modulo p: the canonical basis of the kernel vectors
+// that vanish at Q (the pivot columns of the scaling directions' echelon
+// form), a complement of the scaling directions in the kernel. They are the
+// kernel of the rows without the columns Q, put back with zeros at Q (zero
+// columns keep a reduced echelon form reduced): one elimination of
+// rank x (D - |Q|) instead of (rank + |Q|) x D.
+ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vector<std::size_t>& scaling_pivots,
                                        std::uint64_t prime) {
-  ModularMatrix stacked(rows.rows() + scaling_pivots.size(), rows.cols());
+  std::vector<bool> is_scaling_pivot(rows.cols(), false);
+  for (std::size_t c : scaling_pivots) is_scaling_pivot[c] = true;
+  std::vector<std::size_t> columns;  // the columns outside Q, increasing
+  for (std::size_t c = 0; c < rows.cols(); ++c)
+    if (!is_scaling_pivot[c]) columns.push_back(c);
+  ModularMatrix restricted(rows.rows(), columns.size());
   for (std::size_t r = 0; r < rows.rows(); ++r)
-    for (std::size_t c = 0; c < rows.cols(); ++c) stacked(r, c) = rows(r, c);
-  for (std::size_t i = 0; i < scaling_pivots.size(); ++i) stacked(rows.rows() + i, scaling_pivots[i]) = 1;
-  return kernel_basis_modulo(stacked, prime);
+    for (std::size_t q = 0; q < columns.size(); ++q) restricted(r, q) = rows(r, columns[q]);
+  const ModularMatrix kernel = kernel_basis_modulo(restricted, prime);
+  ModularMatrix extra(kernel.rows(), rows.cols());
+  for (std::size_t r = 0; r < kernel.rows(); ++r)
+    for (std::size_t q = 0; q < columns.size(); ++q) extra(r, columns[q]) = kernel(r, q);
+  return extra;
 }
 
 // The same from the kept rows' images modulo another prime, or nullopt when
@@ -475,6 +491,7 @@ bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>&
   for (std::size_t c : columns) is_excluded[c] = true;
   std::size_t previous = 0;
   for (std::size_t r = 0; r < extra.rows(); ++r) {
+    poll_stop();
     std::size_t lead = 0;
     while (lead < extra.cols() && extra(r, lead) == 0) ++lead;
     if (lead == extra.cols() || extra(r, lead) != 1 || (r > 0 && lead <= previous)) return false;
@@ -661,6 +678,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   } else if (tries_points && stop.is_requested()) {
     result.stop_reason = stop.reason();
   } else {
+    // The limit counts from the start of certify, not of the walk.
+    if (options.walk.time_limit_seconds > 0)
+      walk_options.time_limit_seconds = std::max(1e-9, options.walk.time_limit_seconds - stop.elapsed_seconds());
     result.walk = walk_regions(network, domain, walk_options);
     result.walk_complete = result.walk.complete;
     result.nonsmooth_regions = result.walk.nonsmooth_regions;

@@ -349,7 +349,12 @@ class CertifyResult:
     extra_kernel_summary: them grouped by mechanism; kernel: the exact kernel
     basis checked on every smooth region (rows of length D);
     claim: the verdict on claim=N; batch: with points=..., the exact rank at
-    those points (BatchRank)."""
+    those points (BatchRank); certified_by: "points" (exact points met the
+    scaling bound, no walk), "walk" (the walk's rank met it), "kernel" (an
+    exact kernel checked on every region) or None; points_drawn: exact points
+    drawn before any walk; witness_points: those whose regions' rows raised
+    the rank (re-check with points=...); seconds, walk_seconds (of which the
+    walk, 0 when none ran)."""
     functional_dimension: Optional[int]
     certified: bool
     lower_bound: int
@@ -371,9 +376,17 @@ class CertifyResult:
     claim: Optional[ClaimVerdict] = None
     batch: Optional[BatchRank] = None
     seconds: float = field(repr=False, default=0.0)
+    certified_by: Optional[str] = None
+    points_drawn: int = field(repr=False, default=0)
+    witness_points: list[list[Fraction]] = field(repr=False, default_factory=list)
+    walk_seconds: float = field(repr=False, default=0.0)
 
 
 def _evidence(data: dict) -> dict[str, str]:
+    if data["certified_by"] == "points":
+        return {"lower_bound": f"{len(data['witness_points'])} exact points met the scaling bound (the rows of their "
+                               "regions have a nonsingular minor mod p)",
+                "upper_bound": "the scaling directions, an exact kernel"}
     if data["certified"] and (data["early_stop"] or not data["walk_complete"]):
         return {"lower_bound": f"rows of {data['regions_contributing']} regions have a nonsingular minor (mod p)",
                 "upper_bound": "the scaling directions, an exact kernel"}
@@ -404,7 +417,8 @@ def _certify_result(data: dict, network: "Network") -> CertifyResult:
         extra_kernel=[ExtraDirection(vector=d["vector"], mechanism=d["mechanism"], neurons=list(d["neurons"]),
                                      names=names) for d in data["extra_kernel"]],
         extra_kernel_summary=data["extra_kernel_summary"], kernel=data["kernel"], claim=claim, batch=batch,
-        seconds=data["seconds"])
+        seconds=data["seconds"], certified_by=data["certified_by"], points_drawn=data["points_drawn"],
+        witness_points=data["witness_points"], walk_seconds=data["walk_seconds"])
 
 
 @dataclass(frozen=True)

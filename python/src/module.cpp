@@ -190,6 +190,17 @@ py::dict certify_dict(const Network& network, const Domain& domain, const Functi
   out["regions_contributing"] = result.regions_contributing;
   out["walk_complete"] = result.walk_complete;
   out["early_stop"] = result.early_stop;
+  // How the value was certified: "points" (no walk), "walk" (the rank met the
+  // scaling bound during the walk), "kernel" (an exact kernel checked on
+  // every region), None when not certified; as the CLI's --json.
+  out["certified_by"] = !result.certified            ? py::object(py::none())
+                        : result.certified_by_points ? py::cast("points")
+                        : result.early_stop          ? py::cast("walk")
+                                                     : py::cast("kernel");
+  out["points_drawn"] = result.points_drawn;
+  py::list witnesses;
+  for (const RationalVector& point : result.witness_points) witnesses.append(fraction_list(point));
+  out["witness_points"] = witnesses;
   out["stop_reason"] = stop_reason_value(result.stop_reason);
   out["regions_total"] = result.walk_complete ? py::cast(result.walk.regions) : py::object(py::none());
   out["nonsmooth_regions"] = nonsmooth_list(network, result.nonsmooth_regions);
@@ -220,6 +231,7 @@ py::dict certify_dict(const Network& network, const Domain& domain, const Functi
   out["extra_kernel_summary"] = summary;
   out["kernel"] = fraction_matrix(result.kernel);
   out["seconds"] = result.seconds;
+  out["walk_seconds"] = result.walk.seconds;  // of which the walk (0 when none ran)
   return out;
 }
 

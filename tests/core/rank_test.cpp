@@ -2,9 +2,11 @@
 // rational elimination, matrices of known rank built as products, kernel
 // vectors multiplied back).
 #include "core/rank.hpp"
+#include "core/stop.hpp"
 
 #include <gtest/gtest.h>
 
+#include <atomic>
 #include <cstdint>
 #include <random>
 
@@ -325,6 +327,108 @@ TEST(KernelBasisModulo, IsTheImageOfTheExactCanonicalKernel) {
     EXPECT_EQ(modular, *reduce_modulo(exact, prime)) << "trial " << trial;
   }
   EXPECT_EQ(kernel_basis_modulo(ModularMatrix(0, 3), prime).rows(), 3u);
+}
+
+__extension__ typedef unsigned __int128 Wide;  // exact 64 x 64 -> 128 products
+
+// A residue matrix rows x cols of rank `inner` (with overwhelming
+// probability; the tests also compare with FLINT's nmod_mat_rank): `inner`
+// random rows, the others combinations a x + b y of two earlier rows, spread
+// through the matrix; row 3 is zero. Several blocks of the blocked
+// elimination, rank deficiency inside blocks.
+ModularMatrix random_modular_matrix_of_rank(std::mt19937_64& random, std::size_t rows, std::size_t inner,
+                                            std::size_t cols, std::uint64_t prime) {
+  std::uniform_int_distribution<std::uint64_t> residue(0, prime - 1);
+  std::vector<bool> is_independent(rows, false);
+  for (std::size_t k = 0, placed = 0; placed < inner && k < rows; ++k) {  // 11 is prime to rows here
+    const std::size_t i = k * 11 % rows;
+    if (i == 3) continue;
+    is_independent[i] = true;
+    ++placed;
+  }
+  ModularMatrix out(rows, cols);
+  std::vector<std::size_t> earlier;
+  for (std::size_t r = 0; r < rows; ++r) {
+    if (is_independent[r]) {
+      for (std::size_t c = 0; c < cols; ++c) out(r, c) = residue(random);
+      earlier.push_back(r);
+    } else if (r != 3 && !earlier.empty()) {
+      std::uniform_int_distribution<std::size_t> pick(0, earlier.size() - 1);
+      const std::size_t x = earlier[pick(random)], y = earlier[pick(random)];
+      const std::uint64_t a = residue(random), b = residue(random);
+      for (std::size_t c = 0; c < cols; ++c)
+        out(r, c) = static_cast<std::uint64_t>((static_cast<Wide>(a) * out(x, c) + static_cast<Wide>(b) * out(y, c)) % prime);
+    }
+  }
+  return out;
+}
+
+// The blocked elimination (blocks of 256 rows) against what defines the
+// reduced row-echelon form: leading 1s in increasing columns, each alone in
+// its column; rank = FLINT's nmod_mat_rank (rank_modulo); every input row in
+// the span (ModularRowBasis). Those properties fix the RREF uniquely.
+TEST(RowSpaceBasisModulo, ManyBlocksGiveTheReducedEchelonForm) {
+  std::mt19937_64 random(47);
+  const std::uint64_t prime = primary_prime();
+  const ModularMatrix m = random_modular_matrix_of_rank(random, 700, 430, 520, prime);
+  const ModularMatrix basis = row_space_basis_modulo(m, prime);
+  ASSERT_EQ(basis.rows(), rank_modulo(m, prime));
+  EXPECT_EQ(basis.rows(), 430u);
+  ModularRowBasis span(prime, m.cols());
+  std::size_t previous = 0;
+  for (std::size_t r = 0; r < basis.rows(); ++r) {
+    std::size_t lead = 0;
+    while (basis(r, lead) == 0) ++lead;
+    ASSERT_EQ(basis(r, lead), 1u);
+    if (r > 0) {
+      ASSERT_GT(lead, previous);
+    }
+    for (std::size_t other = 0; other < basis.rows(); ++other) {
+      if (other != r) {
+        ASSERT_EQ(basis(other, lead), 0u);
+      }
+    }
+    previous = lead;
+    span.add_row(basis.row(r));
+  }
+  for (std::size_t r = 0; r < m.rows(); ++r) ASSERT_TRUE(span.contains(m.row(r))) << "row " << r;
+}
+
+// The kernel of the same matrix: cols - rank rows, each annihilating M
+// (checked by 128-bit products here), in reduced echelon form.
+TEST(KernelBasisModulo, ManyBlocksAnnihilateInEchelonForm) {
+  std::mt19937_64 random(53);
+  const std::uint64_t prime = primary_prime();
+  const ModularMatrix m = random_modular_matrix_of_rank(random, 600, 470, 500, prime);
+  const ModularMatrix kernel = kernel_basis_modulo(m, prime);
+  ASSERT_EQ(kernel.rows(), 500u - 470u);
+  std::size_t previous = 0;
+  for (std::size_t k = 0; k < kernel.rows(); ++k) {
+    std::size_t lead = 0;
+    while (kernel(k, lead) == 0) ++lead;
+    ASSERT_EQ(kernel(k, lead), 1u);
+    if (k > 0) {
+      ASSERT_GT(lead, previous);
+    }
+    previous = lead;
+    for (std::size_t r = 0; r < m.rows(); ++r) {
+      Wide sum = 0;
+      for (std::size_t c = 0; c < m.cols(); ++c) sum = (sum + static_cast<Wide>(m(r, c)) * kernel(k, c)) % prime;
+      ASSERT_EQ(static_cast<std::uint64_t>(sum), 0u) << "kernel row " << k << ", matrix row " << r;
+    }
+  }
+}
+
+// A stop request acts inside the elimination: Stopped, not a result.
+TEST(KernelBasisModulo, StopsWhenAsked) {
+  std::mt19937_64 random(59);
+  const std::uint64_t prime = primary_prime();
+  const ModularMatrix m = random_modular_matrix_of_rank(random, 300, 200, 260, prime);
+  std::atomic<bool> interrupt{true};
+  const StopRequest request(&interrupt, 0);
+  const StopScope scope(request);
+  EXPECT_THROW(kernel_basis_modulo(m, prime), Stopped);
+  EXPECT_THROW(row_space_basis_modulo(m, prime), Stopped);
 }
 
 TEST(ModularRowBasis, RowsSpanWhatWasAdded) {

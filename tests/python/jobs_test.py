@@ -75,8 +75,11 @@ class CertifyTest(unittest.TestCase):
         result = pleat.Network.from_file(path).certify(**kwargs)
         for key in ("functional_dimension", "lower_bound", "upper_bound", "certified", "parametric_dimension",
                     "scaling_bound", "regions_walked", "regions_contributing", "walk_complete", "early_stop",
-                    "stop_reason", "nonsmooth_regions", "extra_kernel_summary"):
+                    "stop_reason", "nonsmooth_regions", "extra_kernel_summary", "certified_by", "points_drawn"):
             self.assertEqual(getattr(result, key), cli[key], f"{path}: {key}")
+        self.assertEqual(result.witness_points, [[Fraction(v) for v in point] for point in cli["witness_points"]])
+        self.assertGreaterEqual(result.walk_seconds, 0)
+        self.assertLessEqual(result.walk_seconds, result.seconds)
         self.assertEqual(len(result.extra_kernel), len(cli["extra_kernel"]))
         for mine, theirs in zip(result.extra_kernel, cli["extra_kernel"]):
             self.assertEqual(mine.named(), {k: Fraction(v) for k, v in theirs["vector"].items()})
