@@ -894,7 +894,8 @@ def _survey_result(data: dict) -> SurveyResult:
 
 def survey(arch: Sequence[int], samples: int, seed: int, *, init: str = "he", digits: int = 6,
            domain: DomainSpec = None, threads: int = 0, time_limit_each: Optional[float] = None,
-           output: Optional[Union[str, "os.PathLike[str]"]] = None, shard: str = "0/1") -> SurveyResult:
+           output: Optional[Union[str, "os.PathLike[str]"]] = None, task_index: int = 0,
+           task_count: int = 1) -> SurveyResult:
     """The certified functional dimension of many random networks of one
     architecture (sample i is `pleat random --arch A --seed S --sample i`).
 
@@ -902,15 +903,21 @@ def survey(arch: Sequence[int], samples: int, seed: int, *, init: str = "he", di
     as `pleat survey -o FILE`: each finished sample is one line at once, and
     calling again with the same arguments resumes (samples in the file are
     skipped, a cut last line is rewritten); the CLI can resume it too.
-    shard="I/M" runs the samples i with i % M == I. Ctrl-C keeps the finished
+    For a cluster job array, task_index=K, task_count=N runs only the samples
+    i with i % N == K (as `pleat survey --task-index K --task-count N`);
+    `pleat survey merge` joins the tasks' files. Ctrl-C keeps the finished
     samples (result.interrupted)."""
     arch_list = [_count(w, f"arch[{i}]", 1, 2**20) for i, w in enumerate(arch)]
+    count = _count(task_count, "task_count", 1)
+    index = _count(task_index, "task_index")
+    if index >= count:
+        raise ValueError(f"task_index: expected 0 to {count - 1} (task_count is {count}), got {index}")
     if init not in ("he", "uniform"):
         raise ValueError(f"init: expected he or uniform, got {init!r}")
     data = _core.survey(arch_list, _count(samples, "samples", 1), _count(seed, "seed"), init,
                         _count(digits, "digits", 1, 40),
                         _domain_spec(domain, arch_list[0] if arch_list else 0), _threads(threads),
-                        _limit(time_limit_each, "time_limit_each"), os.fspath(output) if output else "", shard)
+                        _limit(time_limit_each, "time_limit_each"), os.fspath(output) if output else "", f"{index}/{count}")
     return _survey_result(data)
 
 

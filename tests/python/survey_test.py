@@ -46,6 +46,15 @@ class SurveyTest(unittest.TestCase):
         self.assertEqual(result.variance, Fraction(summary["variance"]))
         self.assertEqual({str(k): v for k, v in result.histogram.items()}, summary["histogram"])
 
+    def test_a_task_of_a_job_array_is_the_clis_task(self):
+        mine, theirs = os.path.join(self.work, "task-py.jsonl"), os.path.join(self.work, "task-cli.jsonl")
+        pleat.survey(**ARGS, output=mine, task_index=1, task_count=3)
+        harness.cli_json("survey", *CLI_ARGS, "--task-index", "1", "--task-count", "3", "-o", theirs)
+        self.assertEqual(lines_without_seconds(mine), lines_without_seconds(theirs))
+        self.assertEqual([d["sample"] for d in lines_without_seconds(mine)[1]], [1, 4, 7, 10])
+        with self.assertRaisesRegex(ValueError, "task_index: expected 0 to 2"):
+            pleat.survey(**ARGS, task_index=3, task_count=3)
+
     def test_each_resumes_the_other(self):
         path = os.path.join(self.work, "shared.jsonl")
         first = pleat.survey(**dict(ARGS, samples=6), output=path)
