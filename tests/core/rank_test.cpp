@@ -40,8 +40,12 @@ RationalMatrix random_rational_matrix(std::mt19937_64& random, std::size_t rows,
 // the naive oracle agrees, so an unlucky draw cannot pass silently.
 RationalMatrix random_product(std::mt19937_64& random, std::size_t rows, std::size_t inner,
                               std::size_t cols) {
-  return product(random_rational_matrix(random, rows, inner),
-                 random_rational_matrix(random, inner, cols));
+  // C is drawn first, in its own statement: the order in which a call's
+  // arguments are evaluated is unspecified (gcc draws C first, clang B), and
+  // every compiler must see the same matrices.
+  const RationalMatrix c = random_rational_matrix(random, inner, cols);
+  const RationalMatrix b = random_rational_matrix(random, rows, inner);
+  return product(b, c);
 }
 
 void expect_annihilates(const RationalMatrix& m, const RationalMatrix& kernel) {
@@ -241,8 +245,8 @@ TEST(ModularRowBasis, ReachesTheExactRankOnRandomIntegerMatrices) {
     const std::size_t rows = 1 + random() % 15;
     const std::size_t cols = 1 + random() % 15;
     const std::size_t inner = 1 + random() % std::min(rows, cols);
-    const RationalMatrix m =
-        product(random_integer_matrix(random, rows, inner, 50), random_integer_matrix(random, inner, cols, 50));
+    const RationalMatrix c = random_integer_matrix(random, inner, cols, 50);  // drawn first, as in random_product
+    const RationalMatrix m = product(random_integer_matrix(random, rows, inner, 50), c);
     const std::size_t exact = rank_exact(m);
     ASSERT_EQ(exact, rank_by_gauss_naive(m));
     for (std::uint64_t p : {primary_prime(), screening_prime()}) {
@@ -262,7 +266,8 @@ TEST(ModularRowBasis, ReachesTheExactRankOnRandomIntegerMatrices) {
 // form a minor that is nonsingular over Q.
 TEST(ModularRowBasis, KeptRowsAndPivotsGiveANonsingularMinor) {
   std::mt19937_64 random(5);
-  const RationalMatrix m = product(random_integer_matrix(random, 9, 5, 9), random_integer_matrix(random, 5, 12, 9));
+  const RationalMatrix c = random_integer_matrix(random, 5, 12, 9);  // drawn first, as in random_product
+  const RationalMatrix m = product(random_integer_matrix(random, 9, 5, 9), c);
   const std::uint64_t p = primary_prime();
   const ModularMatrix reduced = reduce_modulo(m, p).value();
   ModularRowBasis basis(p, m.cols());
