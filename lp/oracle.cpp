@@ -893,19 +893,12 @@ std::optional<BoundednessVerdict> decide_boundedness_in_plane(const Polyhedron& 
     if (!std::isfinite(angle)) return std::nullopt;
     angles.emplace_back(angle, i);
   }
-  std::sort(angles.begin(), angles.end());
-  constexpr double pi = 3.14159265358979323846;
-  const auto gap_after = [&](std::size_t k) {  // counter-clockwise angle from normal k to normal k+1
-    const double next = k + 1 < m ? angles[k + 1].first : angles[0].first + 2 * pi;
-    return next - angles[k].first;
-  };
-  std::size_t widest = 0;
-  for (std::size_t k = 1; k < m; ++k)
-    if (gap_after(k) > gap_after(widest)) widest = k;
-  if (gap_after(widest) >= pi - 1e-9) {
+  const auto proposal = detail::propose_plane_boundedness(std::move(angles));
+  if (!proposal) return std::nullopt;
+  if (proposal->after_gap) {
     // All normals lie within pi counter-clockwise of the normal b after the
     // gap, so d = b turned counter-clockwise by a right angle has b_i . d >= 0.
-    const Constraint& after_gap = cell.constraints[angles[(widest + 1) % m].second];
+    const Constraint& after_gap = cell.constraints[*proposal->after_gap];
     RecessionDirection direction{RationalVector{-after_gap.normal[1], after_gap.normal[0]}};
     const double d[2] = {filter_image(direction.direction[0]), filter_image(direction.direction[1])};
     for (std::size_t i = 0; i < m; ++i) {
@@ -916,18 +909,7 @@ std::optional<BoundednessVerdict> decide_boundedness_in_plane(const Polyhedron& 
     }
     return BoundednessVerdict{std::move(direction)};
   }
-  // Every gap < pi: walk round greedily, each step to the last normal within pi.
-  std::array<std::size_t, 3> chosen{};
-  std::size_t at = 0;
-  chosen[0] = 0;
-  for (std::size_t step = 1; step < 3; ++step) {
-    std::size_t next = at;
-    while (next + 1 < m && angles[next + 1].first - angles[at].first < pi - 1e-9) ++next;
-    if (next == at) return std::nullopt;
-    chosen[step] = at = next;
-  }
-  if (angles[chosen[0]].first + 2 * pi - angles[chosen[2]].first >= pi - 1e-9) return std::nullopt;
-  std::array<std::size_t, 3> rows{angles[chosen[0]].second, angles[chosen[1]].second, angles[chosen[2]].second};
+  const std::array<std::size_t, 3>& rows = proposal->around;
   const auto det = [&](std::size_t p, std::size_t q) {
     const RationalVector& a = cell.constraints[p].normal;
     const RationalVector& b = cell.constraints[q].normal;

@@ -6,6 +6,7 @@
 #include "lp/plane_cell.hpp"
 
 #include "core/filtered_sign.hpp"
+#include "lp/detail/double_rows.hpp"
 #include "lp/detail/exact_tools.hpp"
 
 #include <algorithm>
@@ -460,19 +461,12 @@ std::optional<bool> is_plane_cell_bounded(const std::vector<PlaneRow>& exact_row
     if (!std::isfinite(angle)) return std::nullopt;
     angles.emplace_back(angle, i);
   }
-  std::sort(angles.begin(), angles.end());
-  constexpr double pi = 3.14159265358979323846;
-  const auto gap_after = [&](std::size_t k) {
-    const double next = k + 1 < m ? angles[k + 1].first : angles[0].first + 2 * pi;
-    return next - angles[k].first;
-  };
-  std::size_t widest = 0;
-  for (std::size_t k = 1; k < m; ++k)
-    if (gap_after(k) > gap_after(widest)) widest = k;
-  if (gap_after(widest) >= pi - 1e-9) {
+  const auto proposal = detail::propose_plane_boundedness(std::move(angles));
+  if (!proposal) return std::nullopt;
+  if (proposal->after_gap) {
     // Every normal lies within pi counter-clockwise of b (the normal after the
     // gap), so d = b turned by a right angle has a_i . d >= 0: a recession direction.
-    const PlaneRow& b = exact_rows[angles[(widest + 1) % m].second];
+    const PlaneRow& b = exact_rows[*proposal->after_gap];
     const Integer d0 = -b.a1;
     const Integer d1 = b.a0;
     const double d[2] = {filter_image(d0), filter_image(d1)};
@@ -483,18 +477,9 @@ std::optional<bool> is_plane_cell_bounded(const std::vector<PlaneRow>& exact_row
     }
     return false;
   }
-  // Every gap < pi: three normals around the circle, each within pi of the
-  // next, have Stiemke multipliers y = (det(a2,a3), det(a3,a1), det(a1,a2)) > 0.
-  std::array<std::size_t, 3> chosen{};
-  std::size_t at = 0;
-  for (std::size_t step = 1; step < 3; ++step) {
-    std::size_t next = at;
-    while (next + 1 < m && angles[next + 1].first - angles[at].first < pi - 1e-9) ++next;
-    if (next == at) return std::nullopt;
-    chosen[step] = at = next;
-  }
-  if (angles[chosen[0]].first + 2 * pi - angles[chosen[2]].first >= pi - 1e-9) return std::nullopt;
-  const std::size_t r0 = angles[chosen[0]].second, r1 = angles[chosen[1]].second, r2 = angles[chosen[2]].second;
+  // Three normals around the circle, each within pi of the next, have
+  // Stiemke multipliers y = (det(a2,a3), det(a3,a1), det(a1,a2)) > 0.
+  const auto [r0, r1, r2] = proposal->around;
   if (normal_determinant_sign(rows, r1, r2) <= 0 || normal_determinant_sign(rows, r2, r0) <= 0 ||
       normal_determinant_sign(rows, r0, r1) <= 0)
     return std::nullopt;

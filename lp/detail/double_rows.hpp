@@ -5,7 +5,10 @@
 
 #include "lp/polyhedron.hpp"
 
+#include <array>
 #include <cstddef>
+#include <optional>
+#include <utility>
 #include <vector>
 
 namespace pleat::lp::detail {
@@ -25,6 +28,20 @@ struct DoubleRows {
 };
 
 DoubleRows to_double_rows(const Polyhedron& cell);
+
+// Boundedness of a plane cell proposed in double from the angles of its
+// normals (angle, row index), in any order. The closure is bounded iff the
+// normals leave no angular gap of pi or more. Either after_gap names the
+// normal b after such a gap (b turned counter-clockwise by a right angle
+// proposes a recession direction), or around names three normals round the
+// circle, counter-clockwise, each within pi of the next (their Cramer
+// determinants propose Stiemke multipliers). nullopt when neither is found.
+// Proposes only: the callers check exactly.
+struct PlaneBoundednessProposal {
+  std::optional<std::size_t> after_gap;
+  std::array<std::size_t, 3> around{};
+};
+std::optional<PlaneBoundednessProposal> propose_plane_boundedness(std::vector<std::pair<double, std::size_t>> angles);
 
 // value ~ mantissa * 2^exponent with |mantissa| in (1/2, 2); zero gives (0, 0).
 double split_exponent(const Rational& value, long& exponent);
