@@ -787,15 +787,8 @@ class RegionProcessor {
       if (!exact_only_) images = map_images(network_, *rational_maps);
       candidates = patterns_across_filtered(network_, pattern, *rational_maps, images ? &*images : nullptr,
                                             facet.point, direction, normal);
-      if (candidates.size() > 1) {
-        ++degenerate_crossings;
-        candidates = keep_touching(candidates, facet.point);
-      }
     }
-    if (!candidates.empty()) {
-      facet.neighbor = candidates.front();
-      facet.other_neighbors.assign(candidates.begin() + 1, candidates.end());
-    }
+    name_neighbours(facet, std::move(candidates), degenerate_crossings);
     return facet;
   }
 
@@ -930,8 +923,16 @@ class RegionProcessor {
     for (auto& v : direction) v = -v;
     // The maps' double images, once per region, unless every sign must be exact.
     if (!exact_only_ && !images) images = map_images(network_, cell.maps);
-    std::vector<ActivationPattern> candidates = patterns_across_filtered(
-        network_, pattern, cell.maps, images ? &*images : nullptr, facet.point, direction, representative.normal);
+    name_neighbours(facet, patterns_across_filtered(network_, pattern, cell.maps, images ? &*images : nullptr,
+                                                    facet.point, direction, representative.normal),
+                    degenerate_crossings);
+    return facet;
+  }
+
+  // The facet's neighbour(s) from the far-side candidates at its point: of
+  // several (a degenerate crossing, counted), those with interior next to it.
+  void name_neighbours(RegionFacet& facet, std::vector<ActivationPattern> candidates,
+                       std::size_t& degenerate_crossings) {
     if (candidates.size() > 1) {
       ++degenerate_crossings;
       candidates = keep_touching(candidates, facet.point);
@@ -940,7 +941,6 @@ class RegionProcessor {
       facet.neighbor = candidates.front();
       facet.other_neighbors.assign(candidates.begin() + 1, candidates.end());
     }
-    return facet;
   }
 
   // Of several far-side candidates at q, those whose cell has interior next to q.
