@@ -12,7 +12,7 @@
 #include "cli/survey_file.hpp"
 #include "core/evaluate.hpp"
 #include "core/jacobian.hpp"
-#include "core/limit_error.hpp"
+#include "core/errors.hpp"
 #include "core/network_io.hpp"
 #include "core/onnx_io.hpp"
 #include "core/random_network.hpp"
