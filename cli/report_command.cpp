@@ -229,7 +229,8 @@ int report_network(const ReportArguments& arguments, const std::atomic<bool>& in
     data["kind"] = "slice";
     data["slice"] = {{"axis", axis}, {"value", format_rational(value)}, {"value_decimal", to_double(value)},
                      {"regions", section.summary.regions}};
-    data["map"] = plane_map_json(plane_network, section.regions, chosen.view, plane_domain.kind != Domain::Kind::whole_space);
+    data["map"] = plane_map_json(plane_network, section.regions, chosen.view,
+                                 plane_domain.kind != Domain::Kind::whole_space, network);
     std::vector<std::string> names;
     for (std::size_t i = 0; i < 3; ++i)
       if (i != axis) names.push_back("x" + std::to_string(i + 1));
@@ -246,7 +247,7 @@ int report_network(const ReportArguments& arguments, const std::atomic<bool>& in
     const bool clipped = domain.kind != Domain::Kind::whole_space;
     if (dim == 2) {
       data["kind"] = "plane";
-      data["map"] = plane_map_json(network, whole.regions, chosen.view, clipped);
+      data["map"] = plane_map_json(network, whole.regions, chosen.view, clipped, network);
       data["axes"] = {"x1", "x2"};
     } else {
       data["kind"] = "line";

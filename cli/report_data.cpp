@@ -44,13 +44,14 @@ Json affine_json(const AffineMap& map) {
 }
 
 // The fields every region carries when the page shows its details.
-void add_region_details(const Network& network, const Region& region, Json& out) {
+void add_region_details(const Network& network, const Region& region, Json& out,
+                        const Network& rows_network) {
   out["pattern"] = format_pattern(network, region.pattern);
   out["point"] = rational_list_json(region.point);
   out["point_decimal"] = decimal_list_json(region.point);
   out["bounded"] = region.bounded;
   out["map"] = affine_json(region.affine);
-  out["rows_first"] = rank_contribution(network, region.pattern);
+  out["rows_first"] = rank_contribution(rows_network, region.pattern);
   out["nonsmooth_neurons"] = region.nonsmooth_neurons;
 }
 
@@ -158,7 +159,7 @@ Json report_certify_json(const Network& network, const FunctionalDimensionResult
 }
 
 Json plane_map_json(const Network& network, const std::vector<Region>& regions, const View& view,
-                    bool with_domain_sides, std::size_t detail_limit) {
+                    bool with_domain_sides, const Network& rows_network, std::size_t detail_limit) {
   std::vector<Polygon> polygons;
   std::vector<const Region*> shown;
   for (const auto& region : regions) {
@@ -177,7 +178,7 @@ Json plane_map_json(const Network& network, const std::vector<Region>& regions, 
     }
   const std::vector<std::size_t> colour = smallest_last_colouring(adjacent);
   const bool has_details = shown.size() <= detail_limit;
-  const std::vector<std::size_t> new_rows = has_details ? new_rows_in_walk_order(network, shown)
+  const std::vector<std::size_t> new_rows = has_details ? new_rows_in_walk_order(rows_network, shown)
                                                         : std::vector<std::size_t>(shown.size(), 0);
   std::vector<std::string> colours = categorical_palette();
   const std::size_t used = colour.empty() ? 0 : *std::max_element(colour.begin(), colour.end()) + 1;
@@ -191,7 +192,7 @@ Json plane_map_json(const Network& network, const std::vector<Region>& regions, 
     for (const auto& p : polygons[i].vertices) polygon.push_back(drawn_point(p));
     Json item{{"id", shown[i]->id}, {"colour", colour[i]}, {"polygon", std::move(polygon)}};
     if (has_details) {
-      add_region_details(network, *shown[i], item);
+      add_region_details(network, *shown[i], item, rows_network);
       const Rational area = polygon_area(polygons[i]);
       item["area"] = format_rational(area);
       item["area_decimal"] = to_double(area);
@@ -245,7 +246,7 @@ Json line_graph_json(const Network& network, const std::vector<Region>& regions,
               {"from", {drawn(piece.low), drawn(left)}},
               {"to", {drawn(piece.high), drawn(right)}}};
     if (has_details) {
-      add_region_details(network, *piece.region, item);
+      add_region_details(network, *piece.region, item, network);
       item["x_low"] = format_rational(piece.low);
       item["x_high"] = format_rational(piece.high);
       item["value_low"] = format_rational(left);

@@ -37,10 +37,13 @@ Json report_certify_json(const Network& network, const FunctionalDimensionResult
 // whose section has no area are left out), the bent-hyperplane pieces with
 // their neurons and layer, a proper colouring, and per region (up to
 // detail_limit regions) its pattern, exact interior point, exact area in the
-// view, affine map and the rows it adds to the rank. Exact except the
-// drawing coordinates.
+// view, affine map and the rows it adds to the rank of rows_network's
+// parameter Jacobian (the network itself, or for a slice the network it was
+// cut from: a slice region's pattern is that of the region it cuts). Exact
+// except the drawing coordinates.
 Json plane_map_json(const Network& network, const std::vector<Region>& regions, const View& view,
-                    bool with_domain_sides, std::size_t detail_limit = report_detail_limit);
+                    bool with_domain_sides, const Network& rows_network,
+                    std::size_t detail_limit = report_detail_limit);
 
 // One input: each piece of the graph in the view, its exact ends, slope and
 // intercept (first output) and its values at the ends.

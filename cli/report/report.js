@@ -253,10 +253,13 @@
       describe(regions[index], body);
       outlineOf(index);
     };
+    // Leaving the map keeps the last region shown (or the clicked one), so
+    // the panel and the controls under it do not jump.
     browser.hover = function (index) {
       if (index === browser.hovered) return;
       browser.hovered = index;
-      browser.show(index >= 0 ? index : browser.selected);
+      if (index >= 0) browser.show(index);
+      else if (browser.selected >= 0) browser.show(browser.selected);
     };
     browser.select = function (index) {
       browser.selected = index;
@@ -365,7 +368,7 @@
       if (!map.has_details) { html('p', { class: 'note' }, 'shapes only above 20 000 regions', body); return; }
       const inputs = architecture()[0];
       const outputs = architecture()[architecture().length - 1];
-      const coefficientNames = data.kind === 'slice' ? names : names;
+      const coefficientNames = names;
       const rows = [['pattern', exactWithDecimal(region.pattern, null, 'pattern'), 'detail-pattern'],
         ['interior point', exactWithDecimal(exactList(region.point), region.point_decimal), 'detail-point'],
         [data.kind === 'slice' ? 'area in the slice' : 'area in the view', exactWithDecimal(region.area, region.area_decimal), 'detail-area']];
@@ -377,9 +380,9 @@
         html('span', { class: 'exact' }, exact, span);
         if (approx !== affineText(row, region.map.c[o], coefficientNames.map(subscript)))
           html('span', { class: 'decimal' }, ' \u2248 ' + approx, span);
-        rows.push([o === 0 ? 'affine map' : '', span, o === 0 ? 'detail-map' : undefined]);
+        rows.push([o === 0 ? (data.kind === 'slice' ? 'map on the slice' : 'affine map') : '', span, o === 0 ? 'detail-map' : undefined]);
       });
-      rows.push(['rank rows', rankText(region, outputs, data.kind === 'slice' ? inputs : inputs), 'detail-rank']);
+      rows.push(['rank rows', rankText(region, outputs, inputs), 'detail-rank']);
       rows.push(['bounded', region.bounded ? 'yes (in ' + (data.kind === 'slice' ? 'the plane' : 'R\u00b2') + ')' : 'no (in ' + (data.kind === 'slice' ? 'the plane' : 'R\u00b2') + ')']);
       if (region.nonsmooth_neurons.length) rows.push(['non-smooth', 'neurons ' + region.nonsmooth_neurons.join(', ') + ' identically zero']);
       detailList(body, rows);
@@ -548,8 +551,8 @@
     let most = 0;
     values.forEach(function (v) { most = Math.max(most, summary.histogram[v]); });
     const bins = hi - lo + 1;
-    const left = 24, top = 34, W = Math.max(320, Math.min(720, bins * 40)), H = 240, bottom = 70;
-    const root = svg('svg', { class: 'plot', id: 'histogram', viewBox: '0 0 ' + (left + W + 24) + ' ' + (top + H + bottom),
+    const left = 24, top = 44, W = 600, H = 260, bottom = 70;
+    const root = svg('svg', { class: 'plot', id: 'histogram', viewBox: '0 0 ' + (left + W + 24) + ' ' + (top + H + bottom), style: 'max-width: ' + (left + W + 24) * 1.25 + 'px',
       role: 'group', 'aria-label': 'histogram of the certified values; Tab to a bar for its samples' }, figure);
     const binWidth = W / bins;
     const barLayer = svg('g', { id: 'bars' }, root);
@@ -579,9 +582,10 @@
         svg('text', { class: 'bar-count', x: x + binWidth / 2, y: top + H - height - 4 }, root).textContent = String(count);
     }
     if (summary.scaling_bound !== null) {
-      const x = left + (summary.scaling_bound - lo + 0.5) * binWidth;
-      svg('line', { class: 'bound-rule', x1: x, x2: x, y1: top - 14, y2: top + H }, root);
-      svg('text', { class: 'bound-label', x: x + 4, y: top - 18, 'text-anchor': 'middle' }, root).textContent = 'scaling bound ' + summary.scaling_bound;
+      // A thin ink rule at the bound's right edge, its value in italics (as pleat survey plot).
+      const x = left + (summary.scaling_bound - lo + 1) * binWidth;
+      svg('line', { class: 'bound-rule', x1: x, x2: x, y1: top - 30, y2: top + H }, root);
+      svg('text', { class: 'bound-label', x: x - 5, y: top - 20, 'text-anchor': 'end' }, root).textContent = 'scaling bound ' + summary.scaling_bound;
     }
     const axisY = top + H + 7;
     const ticks = niceTicks(lo, hi).filter(function (t) { return Number.isInteger(t); });
