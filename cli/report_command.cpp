@@ -33,6 +33,7 @@ struct ReportArguments {
   DomainOptions domain;
   std::string slice_text;
   double time_limit = 0;
+  std::uint64_t detail_limit = report_detail_limit;
   std::uint64_t threads = 0;
   bool quiet = false;
 };
@@ -227,10 +228,10 @@ int report_network(const ReportArguments& arguments, const std::atomic<bool>& in
     const Walked section = walk(plane_network, plane_domain, arguments, true, interrupt, "slice walk");
     const ChosenView chosen = choose_view(plane_domain, section.regions);
     data["kind"] = "slice";
-    data["slice"] = {{"axis", axis}, {"value", format_rational(value)}, {"value_decimal", to_double(value)},
+    data["slice"] = {{"axis", axis}, {"value", format_rational(value)}, {"value_double", to_double(value)},
                      {"regions", section.summary.regions}};
     data["map"] = plane_map_json(plane_network, section.regions, chosen.view,
-                                 plane_domain.kind != Domain::Kind::whole_space, network);
+                                 plane_domain.kind != Domain::Kind::whole_space, network, arguments.detail_limit);
     std::vector<std::string> names;
     for (std::size_t i = 0; i < 3; ++i)
       if (i != axis) names.push_back("x" + std::to_string(i + 1));
@@ -247,11 +248,11 @@ int report_network(const ReportArguments& arguments, const std::atomic<bool>& in
     const bool clipped = domain.kind != Domain::Kind::whole_space;
     if (dim == 2) {
       data["kind"] = "plane";
-      data["map"] = plane_map_json(network, whole.regions, chosen.view, clipped, network);
+      data["map"] = plane_map_json(network, whole.regions, chosen.view, clipped, network, arguments.detail_limit);
       data["axes"] = {"x1", "x2"};
     } else {
       data["kind"] = "line";
-      data["map"] = line_graph_json(network, whole.regions, chosen.view);
+      data["map"] = line_graph_json(network, whole.regions, chosen.view, arguments.detail_limit);
       data["axes"] = {"x"};
     }
     shown = data["map"]["regions_shown"].get<std::size_t>();
@@ -264,7 +265,7 @@ int report_network(const ReportArguments& arguments, const std::atomic<bool>& in
   }
   rows.push_back({"embedded", count_of(shown, "region") +
                                   (has_details ? " with their details (hover or search)"
-                                               : " as shapes only: over " + std::to_string(report_detail_limit) +
+                                               : " as shapes only: above " + std::to_string(arguments.detail_limit) +
                                                      " regions the page leaves out per-region details")});
   data["summary"] = Json::array();
   for (const auto& row : rows) data["summary"].push_back({{"label", row.label}, {"text", row.text}});
@@ -274,7 +275,7 @@ int report_network(const ReportArguments& arguments, const std::atomic<bool>& in
   return 0;
 }
 
-std::string exact_and_decimal(const std::optional<Rational>& value) {
+std::string exact_with_decimal(const std::optional<Rational>& value) {
   return value ? format_rational_readable(*value) : std::string("none");
 }
 
@@ -290,8 +291,8 @@ std::vector<SummaryRow> survey_rows(const SurveyRecord& record, const SurveySumm
   rows.push_back({"samples", std::to_string(summary.samples) + ": " + std::to_string(summary.certified) +
                                  " certified, " + std::to_string(summary.uncertified) + " cut short (bounds only, not in the histogram)"});
   rows.push_back({"scaling bound", summary.scaling_bound ? std::to_string(*summary.scaling_bound) : "differs between samples"});
-  rows.push_back({"mean", exact_and_decimal(summary.mean)});
-  rows.push_back({"variance (n-1)", exact_and_decimal(summary.variance)});
+  rows.push_back({"mean", exact_with_decimal(summary.mean)});
+  rows.push_back({"variance (n-1)", exact_with_decimal(summary.variance)});
   std::string modes;
   for (std::size_t i = 0; i < summary.modes.size(); ++i) modes += (i ? ", " : "") + std::to_string(summary.modes[i]);
   rows.push_back({"modes", modes.empty() ? "none" : modes});
@@ -351,7 +352,8 @@ void register_report(CommandTable& commands) {
       "--slice (the network restricted to that plane, walked as a 2-input network). For a\n"
       "survey file (pleat survey -o): the histogram with exact mean, variance, modes and the\n"
       "fraction at the scaling bound; hovering a bar lists its samples. Above 20000 regions\n"
-      "the page embeds shapes only (counts stay exact). The embedded JSON: docs/formats.md.\n\n"
+      "(--detail-limit) the page embeds shapes only (counts stay exact). The embedded JSON:\n"
+      "docs/formats.md.\n\n"
       "Examples:\n"
       "  pleat report data/fold2d.json --box -3,3 -o fold2d.html\n"
       "  pleat report data/sensor3d.json --box -1,1 --slice x3=1/4 -o sensor.html\n"
@@ -367,6 +369,10 @@ void register_report(CommandTable& commands) {
       ->type_name("xK=VALUE");
   add_seconds_option(command, "--time-limit", arguments->time_limit,
                      "Stop certify after this many seconds: the page then shows bounds, not a certified value");
+  add_unsigned_option(command, "--detail-limit", arguments->detail_limit,
+                      "Above this many regions in the view the page holds their shapes only (no hover details, "
+                      "no search; the counts stay exact). Default 20000",
+                      0, 10000000);
   add_threads_option(command, arguments->threads, "Worker threads for the walks (default: all cores)");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }

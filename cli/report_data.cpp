@@ -34,13 +34,13 @@ double drawn(const Rational& value) {
 Json drawn_point(const RationalVector& p) { return Json::array({drawn(p[0]), drawn(p[1])}); }
 
 Json affine_json(const AffineMap& map) {
-  Json a = Json::array(), a_decimal = Json::array();
+  Json a = Json::array(), a_double = Json::array();
   for (std::size_t r = 0; r < map.linear.rows(); ++r) {
     a.push_back(rational_list_json(map.linear.row(r)));
-    a_decimal.push_back(decimal_list_json(map.linear.row(r)));
+    a_double.push_back(decimal_list_json(map.linear.row(r)));
   }
-  return Json{{"A", a}, {"c", rational_list_json(map.offset)}, {"A_decimal", a_decimal},
-              {"c_decimal", decimal_list_json(map.offset)}};
+  return Json{{"A", a}, {"c", rational_list_json(map.offset)}, {"A_double", a_double},
+              {"c_double", decimal_list_json(map.offset)}};
 }
 
 // The fields every region carries when the page shows its details.
@@ -48,7 +48,7 @@ void add_region_details(const Network& network, const Region& region, Json& out,
                         const Network& rows_network) {
   out["pattern"] = format_pattern(network, region.pattern);
   out["point"] = rational_list_json(region.point);
-  out["point_decimal"] = decimal_list_json(region.point);
+  out["point_double"] = decimal_list_json(region.point);
   out["bounded"] = region.bounded;
   out["map"] = affine_json(region.affine);
   out["rows_first"] = rank_contribution(rows_network, region.pattern);
@@ -96,7 +96,7 @@ Json bent_hyperplane_pieces(const Network& network, const PlanarComplex& complex
 
 Json view_json(const View& view) {
   return Json{{"lower", rational_list_json(view.lower)}, {"upper", rational_list_json(view.upper)},
-              {"lower_decimal", decimal_list_json(view.lower)}, {"upper_decimal", decimal_list_json(view.upper)}};
+              {"lower_double", decimal_list_json(view.lower)}, {"upper_double", decimal_list_json(view.upper)}};
 }
 
 }  // namespace
@@ -195,7 +195,7 @@ Json plane_map_json(const Network& network, const std::vector<Region>& regions, 
       add_region_details(network, *shown[i], item, rows_network);
       const Rational area = polygon_area(polygons[i]);
       item["area"] = format_rational(area);
-      item["area_decimal"] = to_double(area);
+      item["area_double"] = to_double(area);
       item["rows_new"] = new_rows[i];
     }
     items.push_back(std::move(item));
@@ -252,7 +252,7 @@ Json line_graph_json(const Network& network, const std::vector<Region>& regions,
       item["value_low"] = format_rational(left);
       item["value_high"] = format_rational(right);
       item["length"] = format_rational(piece.high - piece.low);
-      item["length_decimal"] = to_double(piece.high - piece.low);
+      item["length_double"] = to_double(piece.high - piece.low);
       item["rows_new"] = new_rows[i];
     }
     items.push_back(std::move(item));
@@ -277,9 +277,9 @@ Json survey_report_json(const SurveyRecord& record, const SurveySummary& summary
   for (const SurveySample& s : samples)
     if (s.certified && s.functional_dimension) by_value[std::to_string(*s.functional_dimension)].push_back(s.sample);
   out["samples_by_value"] = std::move(by_value);
-  out["mean_decimal"] = summary.mean ? Json(to_double(*summary.mean)) : Json(nullptr);
-  out["variance_decimal"] = summary.variance ? Json(to_double(*summary.variance)) : Json(nullptr);
-  out["at_scaling_bound_decimal"] =
+  out["mean_double"] = summary.mean ? Json(to_double(*summary.mean)) : Json(nullptr);
+  out["variance_double"] = summary.variance ? Json(to_double(*summary.variance)) : Json(nullptr);
+  out["at_scaling_bound_double"] =
       summary.at_scaling_bound_fraction ? Json(to_double(*summary.at_scaling_bound_fraction)) : Json(nullptr);
   out["bar_colour"] = bar_colour();
   return out;

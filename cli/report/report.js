@@ -246,7 +246,7 @@
     const body = html('div', { id: 'details-body' }, null, details);
     html('p', { class: 'hint' }, map.has_details
       ? 'Point at a region (or focus the map and press n / p) to see its pattern, exact interior point, area, affine map and rank rows. Click to keep it.'
-      : 'This walk has more than 20 000 regions: the page holds their shapes only, without per-region details (the summary\'s counts are exact).', body);
+      : 'This view has more regions than the page holds details for (pleat report --detail-limit): their shapes only; the summary\'s counts are exact.', body);
     browser.show = function (index) {
       while (body.firstChild) body.removeChild(body.firstChild);
       if (index < 0) return;
@@ -290,7 +290,7 @@
     html('button', { type: 'submit' }, 'find', form);
     const next = html('button', { type: 'button', id: 'search-next', disabled: '' }, 'next', form);
     const status = html('span', { class: 'note', id: 'search-status', role: 'status' }, '', form);
-    if (!map.has_details) { input.disabled = true; status.textContent = 'no search above 20 000 regions'; }
+    if (!map.has_details) { input.disabled = true; status.textContent = 'no search: shapes only (--detail-limit)'; }
     form.addEventListener('submit', function (event) {
       event.preventDefault();
       const matches = [];
@@ -328,7 +328,7 @@
     const map = data.map;
     const regions = map.regions;
     const names = data.axes;
-    const view = { x0: map.view.lower_decimal[0], x1: map.view.upper_decimal[0], y0: map.view.lower_decimal[1], y1: map.view.upper_decimal[1] };
+    const view = { x0: map.view.lower_double[0], x1: map.view.upper_double[0], y0: map.view.lower_double[1], y1: map.view.upper_double[1] };
     const layout = html('div', { class: 'explore' }, null, explore);
     const figure = html('div', { class: 'figure' }, null, layout);
     const side = html('div', { class: 'side' }, null, layout);
@@ -365,17 +365,17 @@
 
     function describe(region, body) {
       html('h3', {}, 'region ' + region.id + ' of the walk', body);
-      if (!map.has_details) { html('p', { class: 'note' }, 'shapes only above 20 000 regions', body); return; }
+      if (!map.has_details) { html('p', { class: 'note' }, 'shapes only (--detail-limit)', body); return; }
       const inputs = architecture()[0];
       const outputs = architecture()[architecture().length - 1];
       const coefficientNames = names;
       const rows = [['pattern', exactWithDecimal(region.pattern, null, 'pattern'), 'detail-pattern'],
-        ['interior point', exactWithDecimal(exactList(region.point), region.point_decimal), 'detail-point'],
-        [data.kind === 'slice' ? 'area in the slice' : 'area in the view', exactWithDecimal(region.area, region.area_decimal), 'detail-area']];
+        ['interior point', exactWithDecimal(exactList(region.point), region.point_double), 'detail-point'],
+        [data.kind === 'slice' ? 'area in the slice' : 'area in the view', exactWithDecimal(region.area, region.area_double), 'detail-area']];
       region.map.A.forEach(function (row, o) {
         const name = region.map.A.length > 1 ? 'F' + subscript(String(o + 1)) : 'F';
         const exact = name + '(x) = ' + affineText(row, region.map.c[o], coefficientNames.map(subscript));
-        const approx = affineText(region.map.A_decimal[o].map(decimal), decimal(region.map.c_decimal[o]), coefficientNames.map(subscript));
+        const approx = affineText(region.map.A_double[o].map(decimal), decimal(region.map.c_double[o]), coefficientNames.map(subscript));
         const span = document.createElement('span');
         html('span', { class: 'exact' }, exact, span);
         if (approx !== affineText(row, region.map.c[o], coefficientNames.map(subscript)))
@@ -462,7 +462,7 @@
     regions.forEach(function (r) { low = Math.min(low, r.from[1], r.to[1]); high = Math.max(high, r.from[1], r.to[1]); });
     if (!(low < high)) { low -= 1; high += 1; }
     const pad = 0.08 * (high - low);
-    const view = { x0: map.view.lower_decimal[0], x1: map.view.upper_decimal[0], y0: low - pad, y1: high + pad };
+    const view = { x0: map.view.lower_double[0], x1: map.view.upper_double[0], y0: low - pad, y1: high + pad };
     const outputs = architecture()[architecture().length - 1];
     const layout = html('div', { class: 'explore' }, null, explore);
     const figure = html('div', { class: 'figure' }, null, layout);
@@ -496,15 +496,15 @@
     const matchLayer = svg('g', { id: 'search-matches' }, marks);
     function describe(r, body) {
       html('h3', {}, 'piece ' + r.id + ' of the walk', body);
-      if (!map.has_details) { html('p', { class: 'note' }, 'shapes only above 20 000 regions', body); return; }
+      if (!map.has_details) { html('p', { class: 'note' }, 'shapes only (--detail-limit)', body); return; }
       const slope = r.map.A[0][0], intercept = r.map.c[0];
       detailList(body, [
         ['pattern', exactWithDecimal(r.pattern, null, 'pattern'), 'detail-pattern'],
         ['interval', exactWithDecimal('[' + r.x_low + ', ' + r.x_high + ']', [r.from[0], r.to[0]]), 'detail-interval'],
-        ['slope', exactWithDecimal(slope, r.map.A_decimal[0][0]), 'detail-slope'],
-        ['intercept', exactWithDecimal(intercept, r.map.c_decimal[0]), 'detail-intercept'],
+        ['slope', exactWithDecimal(slope, r.map.A_double[0][0]), 'detail-slope'],
+        ['intercept', exactWithDecimal(intercept, r.map.c_double[0]), 'detail-intercept'],
         ['values at the ends', exactWithDecimal(exactList([r.value_low, r.value_high]), [r.from[1], r.to[1]])],
-        ['interior point', exactWithDecimal(r.point[0], r.point_decimal[0]), 'detail-point'],
+        ['interior point', exactWithDecimal(r.point[0], r.point_double[0]), 'detail-point'],
         ['rank rows', rankText(r, outputs, 1), 'detail-rank'],
         ['bounded', r.bounded ? 'yes (in R)' : 'no (in R)']
       ]);

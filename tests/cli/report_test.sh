@@ -65,6 +65,18 @@ for needle in ("http://", "https://", "src=", "href=", "@import", "url("):
     assert needle not in rest, needle
 PY
 
+# Above --detail-limit the page holds shapes only; the counts stay exact.
+out=$("$pleat" report "$fold" --box -3,3 --detail-limit 50 -o "$work/shapes.html" -q) || fail "--detail-limit failed"
+case "$out" in *"74 regions as shapes only: above 50 regions"*) ;; *) fail "--detail-limit summary: $out" ;; esac
+page_data "$work/shapes.html" | /usr/bin/python3 -c "
+import json, sys
+d = json.load(sys.stdin)
+r = d['map']['regions']
+assert not d['map']['has_details'] and len(r) == 74 and d['walk']['regions'] == 74
+assert all(set(x) == {'id', 'colour', 'polygon'} for x in r)
+assert d['certify']['functional_dimension'] == 48
+" || fail "--detail-limit: the page still holds details"
+
 # Three regions' areas against pleat inspect (exact, its own V-representation).
 for id in 0 17 40; do
   read -r pattern area < <(/usr/bin/python3 -c "

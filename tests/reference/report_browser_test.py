@@ -133,7 +133,7 @@ def inspect_patterns(network, at, *domain):
 
 def widest(regions, count):
     """Regions whose interior point sits well inside: the largest areas (or lengths)."""
-    key = "area_decimal" if "area_decimal" in regions[0] else "length_decimal"
+    key = "area_double" if "area_double" in regions[0] else "length_double"
     return sorted(regions, key=lambda r: -r[key])[:count]
 
 
@@ -165,7 +165,7 @@ try:
     data = embedded(plane_page)
     regions = data["map"]["regions"]
     for region in widest(regions, 4):
-        shown = hover(driver, *region["point_decimal"])
+        shown = hover(driver, *region["point_double"])
         check(shown == region["pattern"], "fold2d: pointing at region %d shows %r, not %r" % (region["id"], shown, region["pattern"]))
         exact = inspect_patterns(fold, ",".join(region["point"]), "--box", "-3,3")
         check(exact == [shown], "fold2d: the page shows %r at %s, pleat inspect --at says %s" % (shown, region["point"], exact))
@@ -226,7 +226,7 @@ try:
     data = embedded(line_page)
     pieces = data["map"]["regions"]
     for piece in widest(pieces, 3):
-        x = piece["point_decimal"][0]
+        x = piece["point_double"][0]
         y = (piece["from"][1] + piece["to"][1]) / 2
         shown = hover(driver, x, y)
         check(shown == piece["pattern"], "ramp1d: pointing at piece %d shows %r, not %r" % (piece["id"], shown, piece["pattern"]))
@@ -241,7 +241,7 @@ try:
     url = open_page(driver, slice_page)
     data = embedded(slice_page)
     for region in widest(data["map"]["regions"], 3):
-        shown = hover(driver, *region["point_decimal"])
+        shown = hover(driver, *region["point_double"])
         check(shown == region["pattern"], "sensor3d slice: pointing shows %r, not %r" % (shown, region["pattern"]))
         point3 = ",".join(region["point"] + ["1/4"])
         exact = inspect_patterns(sensor, point3, "--box", "-1,1")
