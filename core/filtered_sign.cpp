@@ -23,9 +23,10 @@ bool is_trusted(double image) {
 
 // The sign of a sum of `terms` products whose double values sum to `sum` and
 // whose magnitudes sum to `magnitude` (see the header for the bound).
-std::optional<int> decide(double sum, double magnitude, std::size_t terms) {
+// extra: 9 for products of at most three images, 13 for four (see the header).
+std::optional<int> decide(double sum, double magnitude, std::size_t terms, std::size_t extra = 9) {
   if (magnitude == 0.0) return 0;  // every product has a zero factor: exactly 0
-  const double bound = 2.0 * static_cast<double>(terms + 9) * unit_roundoff * magnitude;
+  const double bound = 2.0 * static_cast<double>(terms + extra) * unit_roundoff * magnitude;
   if (sum > bound) return 1;
   if (sum < -bound) return -1;
   return std::nullopt;
@@ -76,6 +77,34 @@ std::optional<int> filtered_determinant_sign(const double* a, const double* b, c
     magnitude += std::fabs(product);
   }
   return decide(sum, magnitude, 6);
+}
+
+std::optional<int> filtered_determinant_sign(const double* a, const double* b, const double* c, const double* d) {
+  const double* rows[4] = {a, b, c, d};
+  // Four factors: images within [2^-240, 2^240] keep every product normal.
+  for (const double* row : rows)
+    for (std::size_t k = 0; k < 4; ++k) {
+      const double magnitude = std::fabs(row[k]);
+      if (!is_trusted(row[k]) || (magnitude != 0.0 && (magnitude < 0x1p-240 || magnitude > 0x1p240)))
+        return std::nullopt;
+    }
+  // Leibniz: 24 permutations of the columns, each a product of four images.
+  static constexpr int permutations[24][4] = {
+      {0, 1, 2, 3}, {0, 1, 3, 2}, {0, 2, 1, 3}, {0, 2, 3, 1}, {0, 3, 1, 2}, {0, 3, 2, 1},
+      {1, 0, 2, 3}, {1, 0, 3, 2}, {1, 2, 0, 3}, {1, 2, 3, 0}, {1, 3, 0, 2}, {1, 3, 2, 0},
+      {2, 0, 1, 3}, {2, 0, 3, 1}, {2, 1, 0, 3}, {2, 1, 3, 0}, {2, 3, 0, 1}, {2, 3, 1, 0},
+      {3, 0, 1, 2}, {3, 0, 2, 1}, {3, 1, 0, 2}, {3, 1, 2, 0}, {3, 2, 0, 1}, {3, 2, 1, 0}};
+  double sum = 0.0;
+  double magnitude = 0.0;
+  for (const auto& p : permutations) {
+    int inversions = 0;
+    for (int i = 0; i < 4; ++i)
+      for (int j = i + 1; j < 4; ++j) inversions += p[i] > p[j];
+    const double product = a[p[0]] * b[p[1]] * c[p[2]] * d[p[3]];
+    sum += inversions % 2 ? -product : product;
+    magnitude += std::fabs(product);
+  }
+  return decide(sum, magnitude, 24, 13);
 }
 
 }  // namespace pleat

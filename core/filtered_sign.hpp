@@ -38,4 +38,11 @@ std::optional<int> filtered_determinant_sign(double a0, double a1, double b0, do
 // when undecided. Exact when decided.
 std::optional<int> filtered_determinant_sign(const double* a, const double* b, const double* c);
 
+// sign of the 4 x 4 determinant with rows a, b, c, d (4 images each); nullopt
+// when undecided. Exact when decided. Its 24 products have four factors
+// each: within (1+eps)^4 (1+u)^3 - 1 < 11.01 u, so the sum is within
+// (N + 11) u M and the filter asks twice (N + 13) u M. It declines images
+// outside [2^-240, 2^240] (other than 0), so no product leaves the normal range.
+std::optional<int> filtered_determinant_sign(const double* a, const double* b, const double* c, const double* d);
+
 }  // namespace pleat

@@ -4,8 +4,10 @@
 #include "core/jacobian.hpp"
 #include "core/errors.hpp"
 #include "lp/plane_cell.hpp"
+#include "lp/space_cell.hpp"
 
 #include <algorithm>
+#include <array>
 #include <chrono>
 #include <condition_variable>
 #include <limits>
@@ -13,6 +15,7 @@
 #include <mutex>
 #include <numeric>
 #include <set>
+#include <span>
 #include <thread>
 #include <unordered_map>
 #include <unordered_set>
@@ -543,19 +546,29 @@ class RegionProcessor {
         exact_only_(exact_only),
         layers_(integer_layers(network)),
         oracle_(lp::FilterTolerances{.exact_only = exact_only}) {
-    is_plane_path_ = network.input_dim == 2 && !exact_only && is_plane_path_allowed;
-    if (!is_plane_path_) return;
+    const std::size_t n = network.input_dim;
+    is_plane_path_ = n == 2 && !exact_only && is_plane_path_allowed;
+    is_space_path_ = n == 3 && !exact_only && is_plane_path_allowed;
+    if (!is_plane_path_ && !is_space_path_) return;
     wide_ = wide_layers(layers_);
-    wide_identity_.assign(2 * 3, 0);
-    wide_identity_[0] = wide_identity_[4] = 1;  // rows (1, 0 | 0) and (0, 1 | 0)
-    identity_ = IntegerMap{2, 2, {Integer(1), Integer(0), Integer(0), Integer(1)}, {Integer(0), Integer(0)}, Integer(1)};
+    wide_identity_.assign(n * (n + 1), 0);
+    identity_ = IntegerMap{n, n, std::vector<Integer>(n * n, Integer(0)), std::vector<Integer>(n, Integer(0)), Integer(1)};
+    for (std::size_t k = 0; k < n; ++k) {
+      wide_identity_[k * (n + 1) + k] = 1;  // row k: e_k | 0
+      identity_.linear[k * n + k] = 1;
+    }
     for (const lp::Constraint& side : domain.constraints) {
-      // Scaled by the denominators' lcm: the same half-plane with integer coefficients.
+      // Scaled by the denominators' lcm: the same half-space with integer coefficients.
       Integer scale = 1;
-      for (const Rational* value : {&side.normal[0], &side.normal[1], &side.offset})
-        mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), value->get_den_mpz_t());
+      for (const Rational& value : side.normal) mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), value.get_den_mpz_t());
+      mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), side.offset.get_den_mpz_t());
       const auto scaled = [&](const Rational& value) { return Integer(value.get_num() * (scale / value.get_den())); };
-      domain_rows_.push_back(lp::PlaneRow{scaled(side.normal[0]), scaled(side.normal[1]), scaled(side.offset)});
+      if (n == 2) {
+        domain_rows_.push_back(lp::PlaneRow{scaled(side.normal[0]), scaled(side.normal[1]), scaled(side.offset)});
+      } else {
+        domain_space_rows_.push_back(
+            lp::SpaceRow{{scaled(side.normal[0]), scaled(side.normal[1]), scaled(side.normal[2])}, scaled(side.offset)});
+      }
     }
   }
 
@@ -564,6 +577,8 @@ class RegionProcessor {
       throw usage_error("build_pattern_cell: pattern has the wrong number of neurons");
     if (is_plane_path_)
       if (std::optional<Processed> result = process_in_plane(pattern)) return std::move(*result);
+    if (is_space_path_)
+      if (std::optional<Processed> result = process_in_space(pattern)) return std::move(*result);
     return process_with_oracle(pattern);
   }
 
@@ -667,9 +682,25 @@ class RegionProcessor {
     return true;
   }
 
+  // Row i of a pre-activation map as a cell row, negated for a neuron that is off.
+  static void set_row(lp::PlaneRow& row, const IntegerMap& pre, std::size_t i, bool negate) {
+    row.a0 = pre.linear[i * 2];
+    row.a1 = pre.linear[i * 2 + 1];
+    row.c = pre.offset[i];
+    if (!negate) return;
+    for (Integer* value : {&row.a0, &row.a1, &row.c}) mpz_neg(value->get_mpz_t(), value->get_mpz_t());
+  }
+  static void set_row(lp::SpaceRow& row, const IntegerMap& pre, std::size_t i, bool negate) {
+    for (std::size_t c = 0; c < 3; ++c) row.a[c] = pre.linear[i * 3 + c];
+    row.c = pre.offset[i];
+    if (!negate) return;
+    for (Integer* value : {&row.a[0], &row.a[1], &row.a[2], &row.c}) mpz_neg(value->get_mpz_t(), value->get_mpz_t());
+  }
+
   // The cell's rows (neurons, then domain sides) from pre_, as cell_from_maps
   // builds them; false when the pattern is inconsistent with its maps.
-  bool build_plane_rows(const ActivationPattern& pattern) {
+  template <class Row>
+  bool build_rows(const ActivationPattern& pattern, std::vector<Row>& rows, const std::vector<Row>& domain_rows) {
     std::size_t count = 0;
     row_neuron_.clear();
     for (std::size_t k = 0; k < relu_layers(network_); ++k) {
@@ -690,28 +721,20 @@ class RegionProcessor {
           if (sign * sgn(pre.offset[i]) > 0) continue;
           return false;
         }
-        if (rows_.size() <= count) rows_.resize(count + 1);
-        lp::PlaneRow& row = rows_[count++];
-        row.a0 = pre.linear[i * 2];
-        row.a1 = pre.linear[i * 2 + 1];
-        row.c = pre.offset[i];
-        if (sign < 0) {
-          mpz_neg(row.a0.get_mpz_t(), row.a0.get_mpz_t());
-          mpz_neg(row.a1.get_mpz_t(), row.a1.get_mpz_t());
-          mpz_neg(row.c.get_mpz_t(), row.c.get_mpz_t());
-        }
+        if (rows.size() <= count) rows.resize(count + 1);
+        set_row(rows[count++], pre, i, sign < 0);
         row_neuron_.push_back(first + i);
       }
     }
     neuron_rows_ = count;
-    rows_.resize(count);
-    rows_.insert(rows_.end(), domain_rows_.begin(), domain_rows_.end());
+    rows.resize(count);
+    rows.insert(rows.end(), domain_rows.begin(), domain_rows.end());
     return true;
   }
 
   std::optional<Processed> process_in_plane(const ActivationPattern& pattern) {
     compute_integer_maps(pattern);
-    if (!build_plane_rows(pattern)) return Processed{};  // not a region (as process_with_oracle says)
+    if (!build_rows(pattern, rows_, domain_rows_)) return Processed{};  // not a region (as process_with_oracle says)
     if (rows_.empty()) return std::nullopt;  // the whole plane: the general path
     std::optional<lp::PlaneCell> plane = lp::describe_plane_cell(rows_);
     if (!plane) return std::nullopt;
@@ -732,7 +755,10 @@ class RegionProcessor {
     map_images_.clear();
     for (lp::PlaneGroup& group : plane->groups) {
       if (!group.is_facet) continue;
-      RegionFacet facet = plane_facet(pattern, group, rational_maps, result.degenerate_crossings);
+      const lp::PlaneRow& row = rows_[group.rows.front()];
+      const std::array<const Integer*, 2> normal{&row.a0, &row.a1};
+      RegionFacet facet =
+          integer_facet(pattern, group.rows, group.point, normal, row.c, rational_maps, result.degenerate_crossings);
       if (facet.domain_side) region.touches_domain_boundary = true;
       region.facets.push_back(std::move(facet));
     }
@@ -744,6 +770,68 @@ class RegionProcessor {
     plane_counts_.filter_settled += queries;
     result.is_region = true;
     return result;
+  }
+
+  // ---- the space path (3 inputs, not exact only) ----------------------------
+  //
+  // As the plane path, with lp::describe_space_cell (a clipped polytope
+  // proposes, exact signs and determinants prove); boundedness comes with it.
+
+  std::optional<Processed> process_in_space(const ActivationPattern& pattern) {
+    compute_integer_maps(pattern);
+    if (!build_rows(pattern, space_rows_, domain_space_rows_)) return Processed{};  // not a region
+    if (space_rows_.empty()) return std::nullopt;  // the whole space: the general path
+    std::optional<lp::SpaceCell> space = lp::describe_space_cell(space_rows_, neuron_rows_);
+    if (!space || (neuron_rows_ > 0 && !space->bounded)) return std::nullopt;
+    Processed result;
+    Region& region = result.region;
+    region.pattern = pattern;
+    region.bounded = neuron_rows_ > 0 && *space->bounded;
+    region.point = space->interior;
+    region.affine = output_map(pattern);
+    std::optional<PatternMaps> rational_maps;  // only for degenerate crossings
+    map_images_.clear();
+    for (const lp::SpaceGroup& group : space->groups) {
+      if (!group.is_facet) continue;
+      const lp::SpaceRow& row = space_rows_[group.rows.front()];
+      const std::array<const Integer*, 3> normal{&row.a[0], &row.a[1], &row.a[2]};
+      RegionFacet facet =
+          integer_facet(pattern, group.rows, group.point, normal, row.c, rational_maps, result.degenerate_crossings);
+      if (facet.domain_side) region.touches_domain_boundary = true;
+      region.facets.push_back(std::move(facet));
+    }
+    if (has_zero_on_region(pattern)) region.nonsmooth_neurons = nonsmooth_neurons(network_, pattern);
+    if (keep_certificates_ && !attach_space_certificates(pattern, *space, region)) return std::nullopt;
+    // Counted as the general path counts: the centre, one per group, boundedness.
+    const std::uint64_t queries = 1 + space->groups.size() + (neuron_rows_ > 0 && !keep_certificates_ ? 1 : 0);
+    plane_counts_.lp_queries += queries;
+    plane_counts_.filter_settled += queries;
+    result.is_region = true;
+    return result;
+  }
+
+  // With --certificates: the rational cell and the certificates of the space
+  // path's verdicts (the same points, multipliers from its supports).
+  bool attach_space_certificates(const ActivationPattern& pattern, const lp::SpaceCell& space, Region& region) {
+    std::optional<PatternCell> cell = build_cell(pattern);
+    if (!cell || cell->cell.constraints.size() != space_rows_.size()) return false;
+    lp::FacetClassification classification;
+    for (const lp::SpaceGroup& group : space.groups) {
+      if (group.is_facet) {
+        classification.groups.push_back(lp::FacetGroup{group.rows, lp::FacetPoint{group.point}});
+        continue;
+      }
+      std::optional<lp::NonFacetCertificate> certificate =
+          lp::space_redundancy_certificate(cell->cell, group.rows.front(), group.support);
+      if (!certificate) return false;
+      classification.groups.push_back(lp::FacetGroup{group.rows, std::move(*certificate)});
+    }
+    bool bounded = false;
+    std::optional<lp::BoundednessVerdict> boundedness = decide_boundedness(*cell, bounded);
+    if (bounded != region.bounded) return false;
+    region.certificates = RegionCertificates{std::move(cell->cell), std::move(cell->constraint_neuron),
+                                             std::move(classification), std::move(boundedness)};
+    return true;
   }
 
   // The network's output map on the region, exact.
@@ -760,33 +848,39 @@ class RegionProcessor {
     return to_rational_map(out);
   }
 
-  RegionFacet plane_facet(const ActivationPattern& pattern, const lp::PlaneGroup& group,
-                          std::optional<PatternMaps>& rational_maps, std::size_t& degenerate_crossings) {
+  // A facet of the integer-row paths: its neurons or domain side, its
+  // primitive normal, and the neighbour across it at `point`. normal and
+  // offset are the group representative's row.
+  RegionFacet integer_facet(const ActivationPattern& pattern, const std::vector<std::size_t>& group_rows,
+                            const RationalVector& point, std::span<const Integer* const> normal, const Integer& offset,
+                            std::optional<PatternMaps>& rational_maps, std::size_t& degenerate_crossings) {
     RegionFacet facet;
-    for (std::size_t c : group.rows) {
+    for (std::size_t c : group_rows) {
       if (c < neuron_rows_) facet.neurons.push_back(row_neuron_[c]);
       else if (!facet.domain_side) facet.domain_side = c - neuron_rows_;
     }
     std::sort(facet.neurons.begin(), facet.neurons.end());
-    const lp::PlaneRow& representative = rows_[group.rows.front()];
-    Integer divisor;
-    mpz_gcd(divisor.get_mpz_t(), representative.a0.get_mpz_t(), representative.a1.get_mpz_t());
-    facet.normal = {Rational(representative.a0 / divisor), Rational(representative.a1 / divisor)};
-    facet.offset = Rational(representative.c, divisor);
+    Integer divisor = 0;
+    for (const Integer* value : normal) mpz_gcd(divisor.get_mpz_t(), divisor.get_mpz_t(), value->get_mpz_t());
+    for (const Integer* value : normal) facet.normal.push_back(Rational(*value / divisor));
+    facet.offset = Rational(offset, divisor);
     facet.offset.canonicalize();
-    facet.point = group.point;
+    facet.point = point;
     if (facet.domain_side) return facet;
     std::vector<ActivationPattern> candidates;
-    if (std::optional<ActivationPattern> far = pattern_across_in_integers(pattern, facet.point, representative)) {
+    if (std::optional<ActivationPattern> far = pattern_across_in_integers(pattern, facet.point, normal)) {
       candidates.push_back(std::move(*far));
     } else {
       if (!rational_maps) rational_maps = maps_on_pattern_fraction_free(layers_, network_.input_dim, pattern);
-      const RationalVector normal{Rational(representative.a0), Rational(representative.a1)};
-      const RationalVector direction{-normal[0], -normal[1]};
+      RationalVector row_normal, direction;
+      for (const Integer* value : normal) {
+        row_normal.push_back(Rational(*value));
+        direction.push_back(Rational(-*value));
+      }
       std::optional<MapImages> images;
       if (!exact_only_) images = map_images(network_, *rational_maps);
       candidates = patterns_across_filtered(network_, pattern, *rational_maps, images ? &*images : nullptr,
-                                            facet.point, direction, normal);
+                                            facet.point, direction, row_normal);
     }
     name_neighbours(facet, std::move(candidates), degenerate_crossings);
     return facet;
@@ -799,24 +893,26 @@ class RegionProcessor {
   // crossing needs more (a vanishing neuron above a layer that changed, or
   // one crossed transversally): extend_across decides those.
   std::optional<ActivationPattern> pattern_across_in_integers(const ActivationPattern& near, const RationalVector& q,
-                                                              const lp::PlaneRow& facet_row) {
+                                                              std::span<const Integer* const> facet_normal) {
+    const std::size_t n = q.size();
+    const std::size_t width = n + 1;
     if (map_images_.empty()) {
       for (std::size_t k = 0; k < relu_layers(network_); ++k) {
         const IntegerMap& pre = pre_[k];
-        std::vector<double> images(pre.rows * 3);
+        std::vector<double> images(pre.rows * width);
         for (std::size_t r = 0; r < pre.rows; ++r) {
-          images[3 * r] = filter_image(pre.linear[2 * r]);
-          images[3 * r + 1] = filter_image(pre.linear[2 * r + 1]);
-          images[3 * r + 2] = filter_image(pre.offset[r]);
+          for (std::size_t c = 0; c < n; ++c) images[width * r + c] = filter_image(pre.linear[n * r + c]);
+          images[width * r + n] = filter_image(pre.offset[r]);
         }
         map_images_.push_back(std::move(images));
       }
     }
-    Integer denominator;
-    mpz_lcm(denominator.get_mpz_t(), q[0].get_den_mpz_t(), q[1].get_den_mpz_t());
-    const Integer x0 = q[0].get_num() * (denominator / q[0].get_den());
-    const Integer x1 = q[1].get_num() * (denominator / q[1].get_den());
-    const double x[2] = {filter_image(q[0]), filter_image(q[1])};
+    Integer denominator = 1;
+    for (const Rational& x : q) mpz_lcm(denominator.get_mpz_t(), denominator.get_mpz_t(), x.get_den_mpz_t());
+    scaled_point_.resize(n);
+    for (std::size_t c = 0; c < n; ++c) scaled_point_[c] = q[c].get_num() * (denominator / q[c].get_den());
+    double x[3];
+    for (std::size_t c = 0; c < n; ++c) x[c] = filter_image(q[c]);
     ActivationPattern far = near;
     bool changed_below = false;
     for (std::size_t k = 0; k < relu_layers(network_); ++k) {
@@ -824,12 +920,12 @@ class RegionProcessor {
       const std::size_t first = network_.first_neuron_of_layer(k);
       bool changed_here = false;
       for (std::size_t r = 0; r < pre.rows; ++r) {
-        const double* image = map_images_[k].data() + 3 * r;
-        std::optional<int> sign = filtered_affine_sign(image, x, 2, image[2]);
+        const double* image = map_images_[k].data() + width * r;
+        const Integer* b = pre.linear.data() + n * r;
+        std::optional<int> sign = filtered_affine_sign(image, x, n, image[n]);
         if (!sign) {
           Integer sum = pre.offset[r] * denominator;
-          sum += pre.linear[2 * r] * x0;
-          sum += pre.linear[2 * r + 1] * x1;
+          for (std::size_t c = 0; c < n; ++c) sum += b[c] * scaled_point_[c];
           sign = sgn(sum);
         }
         NeuronState state;
@@ -839,13 +935,13 @@ class RegionProcessor {
           state = NeuronState::off;
         } else {
           if (changed_below) return std::nullopt;  // the far side's map differs: extend_across
-          const Integer& b0 = pre.linear[2 * r];
-          const Integer& b1 = pre.linear[2 * r + 1];
-          if (sgn(b0) == 0 && sgn(b1) == 0) {
+          if (is_zero_linear(pre, r)) {
             state = NeuronState::zero_on_region;
-          } else if (b0 * facet_row.a1 == b1 * facet_row.a0) {
-            // Parallel to the facet's normal n; across is the direction -n.
-            state = sgn(Integer(b0 * facet_row.a0 + b1 * facet_row.a1)) < 0 ? NeuronState::on : NeuronState::off;
+          } else if (is_parallel(b, facet_normal)) {
+            // Parallel to the facet's normal a; across is the direction -a.
+            Integer along = 0;
+            for (std::size_t c = 0; c < n; ++c) along += b[c] * *facet_normal[c];
+            state = sgn(along) < 0 ? NeuronState::on : NeuronState::off;
           } else {
             return std::nullopt;  // transversal: both states occur, extend_across branches
           }
@@ -857,6 +953,14 @@ class RegionProcessor {
       changed_below = changed_below || changed_here;
     }
     return far;
+  }
+
+  // b parallel to a (every 2 x 2 minor zero), exactly.
+  static bool is_parallel(const Integer* b, std::span<const Integer* const> a) {
+    for (std::size_t i = 0; i < a.size(); ++i)
+      for (std::size_t k = i + 1; k < a.size(); ++k)
+        if (b[i] * *a[k] != b[k] * *a[i]) return false;
+    return true;
   }
 
   // With --certificates: the rational cell and the certificates of the plane
@@ -986,6 +1090,11 @@ class RegionProcessor {
   std::vector<std::size_t> row_neuron_;    // neuron id per neuron row
   std::size_t neuron_rows_ = 0;
   std::vector<std::vector<double>> map_images_;  // per ReLU layer, filter images of pre_ (lazy)
+  std::vector<Integer> scaled_point_;            // a crossing point's numerators over one denominator
+  // The space path's state (3 inputs).
+  bool is_space_path_ = false;
+  std::vector<lp::SpaceRow> domain_space_rows_;
+  std::vector<lp::SpaceRow> space_rows_;
   lp::QueryCounts plane_counts_;
 };
 

@@ -197,40 +197,6 @@ Polygon box_polygon(std::vector<Line>& lines, double r) {
 
 double max_norm(const Point& x) { return std::max(std::fabs(x[0]), std::fabs(x[1])); }
 
-// ---- rounding to short exact points ------------------------------------------------
-
-// A rational with a short denominator within radius of value (radius <= 0:
-// value itself): the first continued-fraction convergent of value that is
-// that close (in 64-bit integers), else the simplest rational in the
-// interval. Only a proposal: callers check the point exactly.
-Rational round_coordinate(double value, double radius) {
-  if (!(radius > 0.0)) return Rational(value);
-  constexpr double limit = 0x1p52;  // convergents stay exact in double and in 64 bits
-  if (std::fabs(value) < limit) {
-    long h = 1, h_before = 0, k = 0, k_before = 1;
-    double rest = value;
-    for (int step = 0; step < 40; ++step) {
-      const double term = std::floor(rest);
-      const double next_h = term * static_cast<double>(h) + static_cast<double>(h_before);
-      const double next_k = term * static_cast<double>(k) + static_cast<double>(k_before);
-      if (!(std::fabs(next_h) < limit && next_k < limit)) break;
-      h_before = h;
-      k_before = k;
-      h = static_cast<long>(next_h);
-      k = static_cast<long>(next_k);
-      if (std::fabs(value - static_cast<double>(h) / static_cast<double>(k)) < radius) {
-        Rational result{Integer(h), Integer(k)};
-        result.canonicalize();  // convergents are in lowest terms; cheap insurance
-        return result;
-      }
-      const double fraction = rest - term;
-      if (fraction == 0.0) break;
-      rest = 1.0 / fraction;
-    }
-  }
-  return detail::simplest_between(Rational(value - radius), Rational(value + radius));
-}
-
 }  // namespace
 
 std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_rows) {
@@ -344,7 +310,8 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
     return true;  // group members are positive multiples of their representative
   };
   for (double shrink : {1.0 / 16.0, 1.0 / 1024.0, 0.0}) {
-    RationalVector x{round_coordinate(centre[0], least * shrink), round_coordinate(centre[1], least * shrink)};
+    RationalVector x{detail::short_rational_near(centre[0], least * shrink),
+                     detail::short_rational_near(centre[1], least * shrink)};
     if (is_strictly_inside(x)) {
       cell.interior = std::move(x);
       break;
@@ -378,7 +345,7 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
     const Integer& other_a = solve_first ? row.a1 : row.a0;
     const double other_value = solve_first ? middle[1] : middle[0];
     for (double shrink : {1.0 / 16.0, 1.0 / 1024.0, 0.0}) {
-      const Rational other = round_coordinate(other_value, margin * shrink);
+      const Rational other = detail::short_rational_near(other_value, margin * shrink);
       // a_s x_s + a_o (p / q) + c = 0  =>  x_s = -(c q + a_o p) / (a_s q).
       Rational solved;
       mpz_class numerator = row.c * other.get_den() + other_a * other.get_num();

@@ -1,5 +1,6 @@
 #include "lp/detail/exact_tools.hpp"
 
+#include <cmath>
 #include <string>
 
 namespace pleat::lp::detail {
@@ -113,6 +114,36 @@ Rational simplest_between(const Rational& low, const Rational& high) {
   mpq_set_den(result.get_mpq_t(), k.get_mpz_t());
   result.canonicalize();  // already in lowest terms; cheap insurance
   return result;
+}
+
+// First continued-fraction convergent within radius (64-bit integers), else
+// the simplest rational in the interval.
+Rational short_rational_near(double value, double radius) {
+  if (!(radius > 0.0)) return Rational(value);
+  constexpr double limit = 0x1p52;  // convergents stay exact in double and in 64 bits
+  if (std::fabs(value) < limit) {
+    long h = 1, h_before = 0, k = 0, k_before = 1;
+    double rest = value;
+    for (int step = 0; step < 40; ++step) {
+      const double term = std::floor(rest);
+      const double next_h = term * static_cast<double>(h) + static_cast<double>(h_before);
+      const double next_k = term * static_cast<double>(k) + static_cast<double>(k_before);
+      if (!(std::fabs(next_h) < limit && next_k < limit)) break;
+      h_before = h;
+      k_before = k;
+      h = static_cast<long>(next_h);
+      k = static_cast<long>(next_k);
+      if (std::fabs(value - static_cast<double>(h) / static_cast<double>(k)) < radius) {
+        Rational result{Integer(h), Integer(k)};
+        result.canonicalize();  // convergents are in lowest terms; cheap insurance
+        return result;
+      }
+      const double fraction = rest - term;
+      if (fraction == 0.0) break;
+      rest = 1.0 / fraction;
+    }
+  }
+  return simplest_between(Rational(value - radius), Rational(value + radius));
 }
 
 }  // namespace pleat::lp::detail

@@ -31,4 +31,10 @@ Rational weighted_offset_sum(const Polyhedron& cell, const RationalVector& weigh
 // Precondition: low <= high.
 Rational simplest_between(const Rational& low, const Rational& high);
 
+// A rational with a short denominator within radius of value (radius <= 0:
+// value itself): the first continued-fraction convergent of value that is
+// that close, else the simplest rational in the interval. Only a proposal:
+// callers check the point exactly. Precondition: value finite.
+Rational short_rational_near(double value, double radius);
+
 }  // namespace pleat::lp::detail

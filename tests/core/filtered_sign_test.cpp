@@ -91,5 +91,42 @@ TEST(FilteredSign, DeterminantsMatchExact) {
   }
 }
 
+// The 4 x 4 filter against the exact determinant (Laplace expansion along the
+// first row, in rationals): exactly singular matrices (row 3 = row 0 + row 1)
+// and nearly singular ones (plus 2^-60) must never get a wrong sign.
+TEST(FilteredSign, FourByFourDeterminantsMatchExact) {
+  std::mt19937_64 random(5);
+  const auto det3 = [](const std::vector<Rational>& m, int r0, int r1, int r2, int skip) -> Rational {
+    int cols[3], n = 0;
+    for (int c = 0; c < 4; ++c)
+      if (c != skip) cols[n++] = c;
+    const auto at = [&](int r, int c) -> const Rational& { return m[4 * r + cols[c]]; };
+    return at(r0, 0) * (at(r1, 1) * at(r2, 2) - at(r1, 2) * at(r2, 1)) -
+           at(r0, 1) * (at(r1, 0) * at(r2, 2) - at(r1, 2) * at(r2, 0)) +
+           at(r0, 2) * (at(r1, 0) * at(r2, 1) - at(r1, 1) * at(r2, 0));
+  };
+  int decided = 0;
+  for (int trial = 0; trial < 1000; ++trial) {
+    std::vector<Rational> m(16);
+    for (auto& v : m) v = random_rational(random);
+    if (trial % 3 == 0)
+      for (int k = 0; k < 4; ++k) m[12 + k] = m[k] + m[4 + k];
+    if (trial % 3 == 1)
+      for (int k = 0; k < 4; ++k) m[12 + k] = m[k] + m[4 + k] + Rational(1, Integer(1) << 60);
+    Rational det = 0;
+    for (int c = 0; c < 4; ++c) {
+      const Rational minor = det3(m, 1, 2, 3, c);
+      det += (c % 2 ? -1 : 1) * m[c] * minor;
+    }
+    std::vector<double> image;
+    for (const auto& v : m) image.push_back(filter_image(v));
+    if (const auto sign = filtered_determinant_sign(image.data(), image.data() + 4, image.data() + 8, image.data() + 12)) {
+      ASSERT_EQ(*sign, sgn(det)) << "trial " << trial;
+      ++decided;
+    }
+  }
+  EXPECT_GT(decided, 300);  // the well-conditioned third at least
+}
+
 }  // namespace
 }  // namespace pleat
