@@ -52,7 +52,7 @@ void write_matrix(const std::string& path, const RationalMatrix& matrix) {
   write_output(path, out.str());
 }
 
-Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", verdict.verdict}, {"reason", verdict.reason}}; }
+Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", claim_word(verdict.verdict)}, {"reason", verdict.reason}}; }
 
 // "dead neuron 5: 5 directions", "zero outgoing weights of neuron 2: 2 directions"
 std::string mechanism_text(const MechanismGroup& group) {
@@ -274,13 +274,14 @@ void print_batch(const Network& network, const Domain& domain, const CertifyArgu
 void print_claim(std::uint64_t value, const std::optional<ClaimVerdict>& at_points, const ClaimVerdict& network_verdict,
                  std::ostream& out) {
   out << "claim                 " << value << "\n";
-  if (at_points) out << "  at these points     " << at_points->verdict << ": " << at_points->reason << "\n";
-  out << "  for the network     " << network_verdict.verdict << ": " << network_verdict.reason << "\n";
+  if (at_points) out << "  at these points     " << claim_word(at_points->verdict) << ": " << at_points->reason << "\n";
+  out << "  for the network     " << claim_word(network_verdict.verdict) << ": " << network_verdict.reason << "\n";
 }
 
 // 0 when every verdict is "consistent", 1 otherwise (documented in --help).
 int claim_status(const std::optional<ClaimVerdict>& at_points, const ClaimVerdict& network_verdict) {
-  const bool is_consistent = network_verdict.verdict == "consistent" && (!at_points || at_points->verdict == "consistent");
+  const bool is_consistent = network_verdict.verdict == Verdict::consistent &&
+                             (!at_points || at_points->verdict == Verdict::consistent);
   return is_consistent ? 0 : 1;
 }
 
@@ -394,7 +395,7 @@ int run_certify(const CertifyArguments& arguments) {
   std::optional<ClaimVerdict> verdict;
   if (arguments.claim) {
     verdict = judge_claim(*arguments.claim, result);
-    document["claim"] = Json{{"value", *arguments.claim}, {"verdict", verdict->verdict}, {"reason", verdict->reason}};
+    document["claim"] = Json{{"value", *arguments.claim}, {"verdict", claim_word(verdict->verdict)}, {"reason", verdict->reason}};
   }
   if (arguments.json) {
     std::cout << json_text(document);

@@ -81,7 +81,7 @@ Json result_to_json(const SampleArguments& arguments, const Domain& domain, cons
   out["regions_total"] = result.certified.walk_complete ? Json(result.certified.walk.regions) : Json(nullptr);
   out["certified_value"] =
       result.certified.functional_dimension ? Json(*result.certified.functional_dimension) : Json(nullptr);
-  out["verdict"] = result.verdict.empty() ? Json(nullptr) : Json(result.verdict);
+  out["verdict"] = result.verdict ? Json(sample_word(*result.verdict)) : Json(nullptr);
   out["first_batch_reaching"] = result.first_batch_reaching ? Json(*result.first_batch_reaching) : Json(nullptr);
   // Additional keys (the contract allows more): what the verdict rests on.
   out["domain"] = domain.describe();
@@ -116,12 +116,12 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
         << certified.upper_bound << "]\n";
   }
   out << "verdict               ";
-  if (result.verdict == "below")
+  if (result.verdict == Verdict::too_low)
     out << "below"
         << (certified.certified ? " by " + std::to_string(certified.lower_bound - result.rank.customary) : "")
         << "\n";
   else
-    out << (result.verdict.empty() ? "undecided (within the proved bounds)" : result.verdict) << "\n";
+    out << (result.verdict ? sample_word(*result.verdict) : "undecided (within the proved bounds)") << "\n";
   out << "regions touched       " << result.regions_touched << " of " << total;
   if (result.points_on_bent_hyperplanes)
     out << "  (" << result.points_on_bent_hyperplanes << " points fell on a bent hyperplane)";

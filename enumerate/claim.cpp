@@ -18,17 +18,17 @@ std::string point_text(const RationalVector& point) {
 
 ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& result) {
   if (value > result.parametric_dimension)
-    return {"impossible", "exceeds the parametric dimension " + std::to_string(result.parametric_dimension)};
+    return {Verdict::impossible, "exceeds the parametric dimension " + std::to_string(result.parametric_dimension)};
   if (value > result.upper_bound)
-    return {"impossible", "exceeds the proved upper bound " + std::to_string(result.upper_bound) +
+    return {Verdict::impossible, "exceeds the proved upper bound " + std::to_string(result.upper_bound) +
                               (result.upper_bound == result.scaling_bound
                                    ? " (the scaling bound: every hidden neuron's rescaling leaves the function unchanged)"
                                    : " (an exact kernel checked on every region)")};
   if (value < result.lower_bound)
-    return {"too-low", "below the proved lower bound " + std::to_string(result.lower_bound) + " by " +
+    return {Verdict::too_low, "below the proved lower bound " + std::to_string(result.lower_bound) + " by " +
                            std::to_string(result.lower_bound - value) +
                            " (a sampled estimate that misses regions or rounds away rank falls short like this)"};
-  return {"consistent", result.certified ? "equals the certified functional dimension"
+  return {Verdict::consistent, result.certified ? "equals the certified functional dimension"
                                          : "within the proved bounds [" + std::to_string(result.lower_bound) + ", " +
                                                std::to_string(result.upper_bound) + "]"};
 }
@@ -36,12 +36,12 @@ ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& r
 ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank) {
   const std::string rank = std::to_string(batch_rank);
   if (value > batch_rank)
-    return {"impossible", "exceeds the exact rank at these points, " + rank +
+    return {Verdict::impossible, "exceeds the exact rank at these points, " + rank +
                               " (a floating-point rank above it was invented by rounding)"};
   if (value < batch_rank)
-    return {"too-low", "below the exact rank at these points, " + rank + ", by " + std::to_string(batch_rank - value) +
+    return {Verdict::too_low, "below the exact rank at these points, " + rank + ", by " + std::to_string(batch_rank - value) +
                            " (rounding or the SVD tolerance lost rank)"};
-  return {"consistent", "equals the exact rank at these points"};
+  return {Verdict::consistent, "equals the exact rank at these points"};
 }
 
 std::vector<MechanismGroup> mechanism_groups(const FunctionalDimensionResult& result) {

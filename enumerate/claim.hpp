@@ -10,6 +10,7 @@
 #include "core/rational.hpp"
 #include "enumerate/domain.hpp"
 #include "enumerate/functional_dimension.hpp"
+#include "enumerate/verdict.hpp"
 
 #include <cstddef>
 #include <cstdint>
@@ -21,8 +22,8 @@
 namespace pleat {
 
 struct ClaimVerdict {
-  std::string verdict;  // "consistent", "too-low" or "impossible"
-  std::string reason;   // one sentence for people
+  Verdict verdict = Verdict::consistent;  // written with claim_word
+  std::string reason;                     // one sentence for people
 };
 
 // A claimed value against the proved bounds of the network.

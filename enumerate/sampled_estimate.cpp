@@ -158,11 +158,11 @@ void check_batch_size(std::uint64_t batch, const Network& network, std::string_v
                       " points for this network");
 }
 
-std::string sample_verdict(std::size_t rank, const FunctionalDimensionResult& certified) {
-  if (rank > certified.upper_bound) return "above-impossible";
-  if (certified.certified) return rank == certified.lower_bound ? "equal" : "below";
-  if (rank < certified.lower_bound) return "below";
-  return "";
+std::optional<Verdict> sample_verdict(std::size_t rank, const FunctionalDimensionResult& certified) {
+  if (rank > certified.upper_bound) return Verdict::impossible;
+  if (certified.certified) return rank == certified.lower_bound ? Verdict::consistent : Verdict::too_low;
+  if (rank < certified.lower_bound) return Verdict::too_low;
+  return std::nullopt;
 }
 
 SampleResult run_sampled_estimate(const Network& network, const SampleOptions& options) {

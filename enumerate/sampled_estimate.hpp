@@ -15,6 +15,7 @@
 #include "core/rational.hpp"
 #include "enumerate/domain.hpp"
 #include "enumerate/functional_dimension.hpp"
+#include "enumerate/verdict.hpp"
 
 #include <atomic>
 #include <cstddef>
@@ -82,9 +83,10 @@ struct SampleResult {
   // The smallest m <= batch whose first m points give the certified value
   // (customary tolerance); none when not certified or never reached.
   std::optional<std::size_t> first_batch_reaching;
-  // "equal", "below", "above-impossible", or "" when neither certified nor
-  // outside the proved bounds.
-  std::string verdict;
+  // consistent (equal), too_low (below) or impossible (above-impossible),
+  // written with sample_word; none when neither certified nor outside the
+  // proved bounds.
+  std::optional<Verdict> verdict;
   double seconds = 0;
 };
 
@@ -104,6 +106,6 @@ struct SampleResult {
 SampleResult run_sampled_estimate(const Network& network, const SampleOptions& options);
 
 // The verdict of a sampled rank against what certify proved (see SampleResult::verdict).
-std::string sample_verdict(std::size_t rank, const FunctionalDimensionResult& certified);
+std::optional<Verdict> sample_verdict(std::size_t rank, const FunctionalDimensionResult& certified);
 
 }  // namespace pleat

@@ -167,7 +167,7 @@ py::tuple walk(std::shared_ptr<Network> network, const py::object& domain_spec, 
 
 py::dict verdict_dict(const ClaimVerdict& verdict) {
   py::dict out;
-  out["verdict"] = verdict.verdict;
+  out["verdict"] = std::string(claim_word(verdict.verdict));
   out["reason"] = verdict.reason;
   return out;
 }
@@ -328,7 +328,7 @@ py::dict sample(const Network& network, std::uint64_t batch, std::uint64_t seed,
   out["regions_walked"] = certified.walk.regions;
   out["certified_value"] = optional_value(certified.functional_dimension);
   out["certified"] = certified.certified;
-  out["verdict"] = optional_text(result.verdict);
+  out["verdict"] = result.verdict ? py::object(py::str(std::string(sample_word(*result.verdict)))) : py::object(py::none());
   out["first_batch_reaching"] = optional_value(result.first_batch_reaching);
   out["points_on_bent_hyperplanes"] = result.points_on_bent_hyperplanes;
   out["lower_bound"] = certified.lower_bound;

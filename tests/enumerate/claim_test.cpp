@@ -21,9 +21,9 @@ FunctionalDimensionResult bounds(std::size_t lower, std::size_t upper, bool cert
 
 TEST(Claim, VerdictsFollowTheProvedBounds) {
   const FunctionalDimensionResult certified = bounds(9, 9, true);
-  EXPECT_EQ(judge_claim(9, certified).verdict, "consistent");
-  EXPECT_EQ(judge_claim(8, certified).verdict, "too-low");
-  EXPECT_EQ(judge_claim(10, certified).verdict, "impossible");
+  EXPECT_EQ(judge_claim(9, certified).verdict, Verdict::consistent);
+  EXPECT_EQ(judge_claim(8, certified).verdict, Verdict::too_low);
+  EXPECT_EQ(judge_claim(10, certified).verdict, Verdict::impossible);
   EXPECT_EQ(judge_claim(14, certified).reason, "exceeds the parametric dimension 13");
   const FunctionalDimensionResult open = bounds(7, 10, false);
   EXPECT_EQ(judge_claim(8, open).reason, "within the proved bounds [7, 10]");
@@ -31,9 +31,9 @@ TEST(Claim, VerdictsFollowTheProvedBounds) {
 }
 
 TEST(Claim, AtPointsTheExactRankDecides) {
-  EXPECT_EQ(judge_claim_at_points(5, 5).verdict, "consistent");
-  EXPECT_EQ(judge_claim_at_points(4, 5).verdict, "too-low");
-  EXPECT_EQ(judge_claim_at_points(6, 5).verdict, "impossible");
+  EXPECT_EQ(judge_claim_at_points(5, 5).verdict, Verdict::consistent);
+  EXPECT_EQ(judge_claim_at_points(4, 5).verdict, Verdict::too_low);
+  EXPECT_EQ(judge_claim_at_points(6, 5).verdict, Verdict::impossible);
 }
 
 TEST(Claim, MechanismGroupsCountDirectionsInFirstSeenOrder) {

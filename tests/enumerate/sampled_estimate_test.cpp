@@ -55,9 +55,9 @@ TEST(SampledEstimate, ARankAboveTheProvedUpperBoundIsImpossible) {
   const SampleResult result = run_sampled_estimate(small_network(), options_for(40));
   ASSERT_TRUE(result.certified.certified);
   EXPECT_LE(result.rank.customary, result.certified.upper_bound);
-  EXPECT_EQ(sample_verdict(result.certified.upper_bound + 1, result.certified), "above-impossible");
-  EXPECT_EQ(sample_verdict(*result.certified.functional_dimension, result.certified), "equal");
-  EXPECT_EQ(sample_verdict(0, result.certified), "below");
+  EXPECT_EQ(sample_verdict(result.certified.upper_bound + 1, result.certified), Verdict::impossible);
+  EXPECT_EQ(sample_verdict(*result.certified.functional_dimension, result.certified), Verdict::consistent);
+  EXPECT_EQ(sample_verdict(0, result.certified), Verdict::too_low);
 }
 
 TEST(SampledEstimate, AnInterruptBeforeTheFirstPointReportsNothingDrawn) {
