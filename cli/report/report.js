@@ -319,7 +319,8 @@
 
   function rankText(region, outputs, inputs) {
     return 'adds ' + region.rows_first + ' independent rows when taken first (of at most ' + outputs * (inputs + 1) +
-      '); ' + region.rows_new + ' new in walk order' + (region.nonsmooth_neurons.length ? '; no smooth points' : '');
+      ')' + (region.rows_new === null ? '' : '; ' + region.rows_new + ' new in walk order') +
+      (region.nonsmooth_neurons.length ? '; no smooth points' : '');
   }
   function architecture() { return data.network.architecture; }
 
