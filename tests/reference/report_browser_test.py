@@ -217,8 +217,42 @@ try:
     time.sleep(0.05)
     matches = len(driver.find_elements(By.CSS_SELECTOR, "#search-matches polygon"))
     check(matches == expected, "fold2d: wildcard %s marks %d regions, fnmatch finds %d" % (wildcard, matches, expected))
+    # Keyboard: the map takes focus; n steps to the first region, n again to the next.
+    driver.execute_script("document.getElementById('plot').focus()")
+    check(driver.execute_script("return document.activeElement.id") == "plot", "fold2d: the map cannot take focus")
+    driver.execute_script("pleatReport.browser.selected = -1")
+    ActionChains(driver).send_keys("n").perform()
+    check(driver.find_element(By.ID, "detail-pattern").text == regions[0]["pattern"], "fold2d: key n does not show region 0")
+    ActionChains(driver).send_keys("n").perform()
+    check(driver.find_element(By.ID, "detail-pattern").text == regions[1]["pattern"], "fold2d: key n twice does not show region 1")
+    # Tab order reaches the zoom buttons, the search box, the map and the layer toggles.
+    driver.execute_script("document.activeElement.blur(); window.scrollTo(0, 0)")
+    reached = set()
+    for _ in range(40):
+        ActionChains(driver).send_keys(Keys.TAB).perform()
+        reached.add(driver.execute_script("return document.activeElement.id"))
+    for wanted in ("zoom-in", "pattern-search", "plot", "toggle-layer-1"):
+        check(wanted in reached, "fold2d: Tab never reaches #%s (reached %s)" % (wanted, sorted(reached)))
     driver.find_element(By.ID, "zoom-in").click()
     driver.save_screenshot(os.path.join(shots, "fold2d.png"))
+    # Print: the controls go, the summary and the map stay.
+    driver.execute_cdp_cmd("Emulation.setEmulatedMedia", {"media": "print"})
+    check(not driver.find_element(By.CSS_SELECTOR, ".controls").is_displayed(), "fold2d: print view shows the controls")
+    check(not driver.find_element(By.ID, "layer-toggles").is_displayed(), "fold2d: print view shows the toggles")
+    check(driver.find_element(By.ID, "plot").is_displayed() and driver.find_element(By.ID, "summary").is_displayed(),
+          "fold2d: print view lost the map or the summary")
+    driver.execute_cdp_cmd("Emulation.setEmulatedMedia", {"media": ""})
+    # 200% zoom: a 1400 px window at device scale 2 is 700 CSS px wide; nothing may
+    # overflow sideways and the side panel moves under the map.
+    driver.execute_cdp_cmd("Emulation.setDeviceMetricsOverride",
+                           {"width": 700, "height": 900, "deviceScaleFactor": 2, "mobile": False})
+    wide = driver.execute_script("return [document.documentElement.scrollWidth, document.documentElement.clientWidth]")
+    check(wide[0] <= wide[1] + 1, "fold2d: at 200%% zoom the page is %d px wide in a %d px window" % tuple(wide))
+    tops = driver.execute_script("return [document.querySelector('.figure').getBoundingClientRect().bottom, "
+                                 "document.querySelector('.side').getBoundingClientRect().top]")
+    check(tops[1] >= tops[0] - 1, "fold2d: at 200%% zoom the side panel does not move under the map")
+    driver.save_screenshot(os.path.join(shots, "fold2d-zoom200.png"))
+    driver.execute_cdp_cmd("Emulation.clearDeviceMetricsOverride", {})
     check_quiet(driver, plane_page, url)
 
     # ---- 1 input ----------------------------------------------------------------
