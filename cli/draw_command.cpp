@@ -11,6 +11,8 @@
 #include "cli/figure_scene.hpp"
 #include "cli/progress.hpp"
 #include "cli/signals.hpp"
+#include "cli/walk_options.hpp"
+#include "core/network_io.hpp"
 #include "core/jacobian.hpp"
 #include "core/rank.hpp"
 #include "core/stop.hpp"
@@ -44,7 +46,7 @@ struct DrawArguments {
   std::string size_text;
   std::string table_path;
   bool quiet = false;
-  std::uint64_t threads = 0;
+  WalkLimitOptions limits;  // --threads only
 };
 
 enum class Format { svg, tikz, csv, off };
@@ -139,8 +141,7 @@ std::vector<Region> walk_all(const Network& network, const Domain& domain, const
   std::vector<Region> regions;
   ProgressLine progress(arguments.quiet);
   WalkOptions options;
-  options.threads = static_cast<unsigned>(arguments.threads);
-  options.interrupt = &interrupt;
+  apply_walk_limits(arguments.limits, interrupt, options);
   options.on_region = [&](const Region& region) {
     regions.push_back(region);
     return true;
@@ -157,11 +158,6 @@ std::vector<Region> walk_all(const Network& network, const Domain& domain, const
 
 
 
-std::size_t layer_of_neuron(const Network& network, std::size_t neuron) {
-  std::size_t layer = 0;
-  while (layer + 1 < network.relu_layer_count() && network.first_neuron_of_layer(layer + 1) <= neuron) ++layer;
-  return layer;
-}
 
 // The figure's counts under the legend, unless --no-stats (the summary
 // printed after drawing has them either way).
@@ -355,7 +351,7 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
         if (facet.neurons.empty()) continue;
         auto value = [&](const RationalVector& p) -> Rational { return facet.normal[0] * p[0] + facet.normal[1] * p[1] + facet.offset; };
         if (value(edge.from) == 0 && value(edge.to) == 0)
-          layer = std::min(layer, layer_of_neuron(network, facet.neurons.front()));
+          layer = std::min(layer, network.layer_of_neuron(facet.neurons.front()));
       }
     if (layer == std::numeric_limits<std::size_t>::max()) continue;  // the view's border
     // Edges come line by line in increasing order: extend the previous piece
@@ -688,7 +684,7 @@ int run_draw(const DrawArguments& arguments) {
 }
 
 int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interrupt) {
-  const Network network = load_network(arguments.network_path);
+  const Network network = read_network_any(arguments.network_path);
   const std::size_t dim = network.input_dim;
   const Format format = format_of(arguments.output_path);
   if (dim == 3 && format != Format::off)
@@ -802,7 +798,7 @@ void register_draw(CommandTable& commands) {
   command.add_option("--from", arguments->from_path,
                      "Draw a saved walk (pleat walk -o FILE) instead of walking; --view clips it");
   add_domain_options(command, arguments->domain);
-  add_threads_option(command, arguments->threads, "Worker threads for the walk (default: all cores)");
+  add_walk_limit_options(command, arguments->limits, "Worker threads for the walk (default: all cores)");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }
 

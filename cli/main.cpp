@@ -3,7 +3,7 @@
 // usage, 1 any other failure). Never a stack trace.
 #include "cli/command.hpp"
 #include "cli/output_file.hpp"
-#include "core/limit_error.hpp"
+#include "core/errors.hpp"
 #include "core/rational.hpp"
 
 #include <CLI/CLI.hpp>
