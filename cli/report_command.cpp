@@ -13,6 +13,8 @@
 #include "cli/report_page.hpp"
 #include "cli/signals.hpp"
 #include "cli/survey_file.hpp"
+#include "cli/walk_options.hpp"
+#include "core/network_io.hpp"
 #include "core/stop.hpp"
 #include "enumerate/claim.hpp"
 #include "enumerate/functional_dimension.hpp"
@@ -32,9 +34,8 @@ struct ReportArguments {
   std::string output_path;
   DomainOptions domain;
   std::string slice_text;
-  double time_limit = 0;
+  WalkLimitOptions limits;  // the time limit stops certify only
   std::uint64_t detail_limit = report_detail_limit;
-  std::uint64_t threads = 0;
   bool quiet = false;
 };
 
@@ -63,7 +64,7 @@ Walked walk(const Network& network, const Domain& domain, const ReportArguments&
   Walked walked;
   ProgressLine progress(arguments.quiet);
   WalkOptions options;
-  options.threads = static_cast<unsigned>(arguments.threads);
+  options.threads = static_cast<unsigned>(arguments.limits.threads);
   options.interrupt = &interrupt;
   options.on_region = [&](const Region& region) {
     if (keep) walked.regions.push_back(region);
@@ -84,9 +85,7 @@ FunctionalDimensionResult certify(const Network& network, const Domain& domain, 
                                   const std::atomic<bool>& interrupt) {
   ProgressLine progress(arguments.quiet);
   FunctionalDimensionOptions options;
-  options.walk.threads = static_cast<unsigned>(arguments.threads);
-  options.walk.interrupt = &interrupt;
-  options.walk.time_limit_seconds = arguments.time_limit;
+  apply_walk_limits(arguments.limits, interrupt, options.walk);
   options.walk.on_progress = [&](const WalkProgress& state) {
     progress.update("certify: " + std::to_string(state.regions) + " regions walked");
   };
@@ -198,7 +197,7 @@ void write_page(const ReportArguments& arguments, const std::string& title, cons
 }
 
 int report_network(const ReportArguments& arguments, const std::atomic<bool>& interrupt) {
-  const Network network = load_network(arguments.input_path);
+  const Network network = read_network_any(arguments.input_path);
   const std::size_t dim = network.input_dim;
   if (dim < 1 || dim > 3)
     throw input_error("report: the network has " + std::to_string(dim) +
@@ -359,7 +358,7 @@ void register_report(CommandTable& commands) {
       "  pleat report data/sensor3d.json --box -1,1 --slice x3=1/4 -o sensor.html\n"
       "  pleat report survey.jsonl -o survey.html",
       [arguments] { return run_report(*arguments); });
-  command.add_option("input", arguments->input_path, "Network file (pleat-network/1) or survey file (pleat-survey/1)")
+  command.add_option("input", arguments->input_path, "Network file (pleat-network/1 JSON or .onnx) or survey file (pleat-survey/1)")
       ->required();
   command.add_option("-o,--out", arguments->output_path, "The HTML file to write")->required()->type_name("FILE.html");
   add_domain_options(command, arguments->domain);
@@ -367,13 +366,13 @@ void register_report(CommandTable& commands) {
                      "3 inputs: the plane shown, one input held at a value (x3=0, x1=-1/2); default: the last "
                      "input at the domain's centre")
       ->type_name("xK=VALUE");
-  add_seconds_option(command, "--time-limit", arguments->time_limit,
-                     "Stop certify after this many seconds: the page then shows bounds, not a certified value");
   add_unsigned_option(command, "--detail-limit", arguments->detail_limit,
                       "Above this many regions in the view the page holds their shapes only (no hover details, "
                       "no search; the counts stay exact). Default 20000",
                       0, 10000000);
-  add_threads_option(command, arguments->threads, "Worker threads for the walks (default: all cores)");
+  add_walk_limit_options(command, arguments->limits, "Worker threads for the walks (default: all cores)",
+                         "--time-limit",
+                         "Stop certify after this many seconds: the page then shows bounds, not a certified value");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }
 
