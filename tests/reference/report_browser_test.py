@@ -150,7 +150,7 @@ survey_page = os.path.join(work, "survey.html")
 survey_file = os.path.join(work, "survey.jsonl")
 run("report", fold, "--box", "-3,3", "-o", plane_page, "-q")
 run("report", ramp, "--box", "-2,3", "-o", line_page, "-q")
-run("report", sensor, "--box", "-1,1", "--slice", "x3=1/4", "-o", slice_page, "-q")
+run("report", sensor, "--box", "-1,1", "--slice", "x3=-1/2,1/4", "-o", slice_page, "-q")
 run("survey", "--arch", "2,3,3,1", "--samples", "12", "--seed", "3", "-o", survey_file, "-q")
 run("report", survey_file, "-o", survey_page)
 
@@ -271,10 +271,13 @@ try:
     driver.save_screenshot(os.path.join(shots, "ramp1d.png"))
     check_quiet(driver, line_page, url)
 
-    # ---- 3 inputs: the slice x3 = 1/4 -----------------------------------------------
+    # ---- 3 inputs: the slices x3 = -1/2 and 1/4, the second picked by the slider ----------
     url = open_page(driver, slice_page)
     data = embedded(slice_page)
-    for region in widest(data["map"]["regions"], 3):
+    slider = driver.find_element(By.ID, "slice-index")
+    slider.send_keys(Keys.ARROW_RIGHT)
+    check(driver.find_element(By.ID, "slice-value").text == "1/4", "sensor3d: the slider does not reach x3 = 1/4")
+    for region in widest(data["slices"][1]["map"]["regions"], 3):
         shown = hover(driver, *region["point_double"])
         check(shown == region["pattern"], "sensor3d slice: pointing shows %r, not %r" % (shown, region["pattern"]))
         point3 = ",".join(region["point"] + ["1/4"])
