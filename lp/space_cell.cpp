@@ -165,7 +165,9 @@ double max_norm(const Point& x) { return std::max({std::fabs(x[0]), std::fabs(x[
 // from a cut-off vertex to a kept one gives a new vertex on h. False when
 // the result is empty or the proposal is degenerate (a vertex on h within
 // rounding, an edge that is not one: not a simple polytope in double).
-bool clip(Polytope& polytope, const std::vector<Plane>& planes, std::uint32_t h, std::vector<double>& slack) {
+// `spare` is scratch space (swapped with the result).
+bool clip(Polytope& polytope, Polytope& spare, const std::vector<Plane>& planes, std::uint32_t h,
+          std::vector<double>& slack) {
   const std::size_t n = polytope.size();
   slack.resize(n);
   std::size_t negative = 0;
@@ -176,8 +178,8 @@ bool clip(Polytope& polytope, const std::vector<Plane>& planes, std::uint32_t h,
   }
   if (negative == 0) return true;
   if (negative == n) return false;
-  Polytope next;
-  next.reserve(n + 2 * negative + 2);
+  Polytope& next = spare;
+  next.clear();
   for (std::size_t v = 0; v < n; ++v)
     if (slack[v] > 0) next.push_back(polytope[v]);
   for (std::size_t v = 0; v < n; ++v) {
@@ -199,7 +201,7 @@ bool clip(Polytope& polytope, const std::vector<Plane>& planes, std::uint32_t h,
       next.push_back(Vertex{*x, label});
     }
   }
-  polytope = std::move(next);
+  polytope.swap(next);
   return polytope.size() >= 4;
 }
 
@@ -485,12 +487,14 @@ std::optional<SpaceCell> describe_space_cell(const std::vector<SpaceRow>& exact_
   std::vector<Plane> planes(g);
   for (std::size_t k = 0; k < g; ++k) planes[k] = all[representative[k]];
   constexpr double box = 0x1p24;
-  Polytope polytope = box_polytope(planes, box);
-  Polytope bounded_part;
-  std::vector<double> slack;
+  // Buffers reused between calls on one thread (a walk describes many cells).
+  thread_local Polytope polytope, bounded_part, near, spare;
+  thread_local std::vector<double> slack;
+  polytope = box_polytope(planes, box);
+  bounded_part.clear();
   for (std::size_t k = 0; k < g; ++k) {
     if (k == bounded_groups) bounded_part = polytope;
-    if (!clip(polytope, planes, static_cast<std::uint32_t>(k), slack)) return std::nullopt;
+    if (!clip(polytope, spare, planes, static_cast<std::uint32_t>(k), slack)) return std::nullopt;
   }
   if (bounded_groups == g) bounded_part = polytope;
 
@@ -506,7 +510,7 @@ std::optional<SpaceCell> describe_space_cell(const std::vector<SpaceRow>& exact_
   for (const Vertex& v : polytope)
     for (std::uint32_t label : v.label)
       if (label < g) has_face[label] = 1;
-  Polytope near = polytope;
+  near = polytope;
   if (reaches_box) {
     if (extent == 0.0)  // no vertex: the feet of the planes on the cell
       for (std::size_t k = 0; k < g; ++k)
@@ -521,7 +525,7 @@ std::optional<SpaceCell> describe_space_cell(const std::vector<SpaceRow>& exact_
     const std::size_t first = planes.size();
     (void)box_polytope(planes, radius);  // appends six planes; `near` is the cell cut by them
     for (std::size_t k = first; k < planes.size(); ++k)
-      if (!clip(near, planes, static_cast<std::uint32_t>(k), slack)) return std::nullopt;
+      if (!clip(near, spare, planes, static_cast<std::uint32_t>(k), slack)) return std::nullopt;
   }
 
   std::vector<const Point*> corners;
