@@ -12,7 +12,7 @@ packages=(
   librsvg2-bin
   texlive-latex-base texlive-pictures  # tests/cli/draw_tikz_test.sh: pdflatex measures the TikZ output
   libbenchmark-dev hyperfine  # tests/bench: walk micro-benchmarks and whole-walk timings
-  libgoogle-perftools-dev  # tcmalloc_minimal: the pleat executable's allocator (GMP allocates per number)
+  libjemalloc-dev  # jemalloc: the pleat executable's allocator (GMP allocates for every number)
   time  # /usr/bin/time: peak memory of the readers in tests/cli/readers_test.sh
   clang libclang-rt-14-dev libfuzzer-14-dev
 )
