@@ -9,6 +9,8 @@
 #include "cli/progress.hpp"
 #include "cli/region_json.hpp"
 #include "cli/signals.hpp"
+#include "cli/walk_options.hpp"
+#include "core/network_io.hpp"
 #include "core/jacobian.hpp"
 #include "enumerate/claim.hpp"
 #include "enumerate/functional_dimension.hpp"
@@ -31,8 +33,7 @@ struct CertifyArguments {
   bool json = false;
   bool quiet = false;
   bool full_walk = false;
-  std::uint64_t threads = 0;
-  double time_limit = 0;
+  WalkLimitOptions limits;
   std::string rows_path;
   std::string kernel_path;
   std::string witness_path;
@@ -195,9 +196,7 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
   ProgressLine progress(arguments.quiet);
   const InterruptGuard interrupt;
   FunctionalDimensionOptions options;
-  options.walk.threads = static_cast<unsigned>(arguments.threads);
-  options.walk.time_limit_seconds = arguments.time_limit;
-  options.walk.interrupt = &interrupt.flag();
+  apply_walk_limits(arguments.limits, interrupt.flag(), options.walk);
   options.walk.on_progress = [&](const WalkProgress& state) {
     progress.update("certifying: " + std::to_string(state.regions) + " regions walked, frontier " +
                     std::to_string(state.frontier));
@@ -344,9 +343,9 @@ bool write_bundle(const CertifyArguments& arguments, const Network& network, con
     return true;
   }
   WalkOptions walk;
-  walk.threads = static_cast<unsigned>(arguments.threads);
-  if (arguments.time_limit > 0) {
-    walk.time_limit_seconds = arguments.time_limit - result.seconds;
+  walk.threads = static_cast<unsigned>(arguments.limits.threads);
+  if (arguments.limits.time_limit > 0) {
+    walk.time_limit_seconds = arguments.limits.time_limit - result.seconds;
     if (walk.time_limit_seconds <= 0) {
       std::cerr << skipped << "the time limit ran out before the evidence was gathered\n";
       return true;
@@ -377,7 +376,7 @@ bool write_bundle(const CertifyArguments& arguments, const Network& network, con
 
 int run_certify(const CertifyArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
-  const Network network = load_network(arguments.network_path);
+  const Network network = read_network_any(arguments.network_path);
   if (!arguments.points_path.empty()) {
     if (!arguments.bundle_path.empty()) throw usage_error("--bundle certifies the network's value; leave out --points");
     return run_points(arguments, network);
@@ -448,8 +447,8 @@ void register_certify(CommandTable& commands) {
       ->required();
   add_domain_options(command, arguments->domain);
   command.add_flag("--json", arguments->json, "Print the result as JSON (pleat-certify/1)");
-  add_threads_option(command, arguments->threads, "Worker threads (default: all cores)");
-  add_seconds_option(command, "--time-limit", arguments->time_limit, "Stop after this many seconds (result: bounds)");
+  add_walk_limit_options(command, arguments->limits, "Worker threads (default: all cores)", "--time-limit",
+                         "Stop after this many seconds (result: bounds)");
   command.add_flag("--full-walk", arguments->full_walk,
                    "Walk every region: no certifying from points first, no stop when the rank meets "
                    "the scaling bound");

@@ -3,7 +3,6 @@
 
 #include "cli/output_file.hpp"
 #include "core/network_io.hpp"
-#include "core/onnx_io.hpp"
 
 #include <charconv>
 #include <cmath>
@@ -33,17 +32,6 @@ std::vector<std::string_view> split_commas(std::string_view text) {
 }
 
 }  // namespace
-
-Network load_network(const std::string& path) {
-  if (path != "-" && is_onnx_path(path)) return read_onnx_file(path);  // ONNX models by extension
-  if (path != "-") return read_network_file(path);
-  const std::string text = read_limited(std::cin, "<stdin>");
-  try {
-    return parse_network(text);
-  } catch (const input_error& fault) {
-    throw input_error(std::string("<stdin>: ") + fault.what());
-  }
-}
 
 RationalVector parse_number_list(std::string_view text, std::string_view what) {
   if (text.empty())

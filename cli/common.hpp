@@ -24,10 +24,6 @@ using Json = nlohmann::ordered_json;  // keys stay in the order written
 
 // ---- Inputs -----------------------------------------------------------------
 
-// Reads a network file; "-" reads standard input. Messages start with the
-// path: "net.json: layers[1].weights[2]: expected 3 numbers, found 2".
-Network load_network(const std::string& path);
-
 // "0.5,-1/3,1e-3" -> exact rationals (the network format's number grammar).
 // `what` names the option in messages: "--at: item 2 ('1/0'): zero denominator".
 RationalVector parse_number_list(std::string_view text, std::string_view what);

@@ -1,7 +1,7 @@
 #include "cli/domain_options.hpp"
 
 #include "cli/common.hpp"
-#include "core/network_io.hpp"
+#include "core/domain_io.hpp"
 
 namespace pleat::cli {
 

@@ -78,6 +78,16 @@ std::string figure_tikz(const Figure& figure);
 const std::vector<std::string>& categorical_palette();
 std::string sequential_colour(double t);  // t in [0, 1]
 std::string bar_colour();                 // the survey histogram's bars
+inline constexpr const char* ink_colour = "#1f1d2b";    // near-black with a blue cast: lines, text
+inline constexpr const char* quiet_colour = "#5c5a66";  // secondary text: notes, tick labels
+
+// A bent hyperplane's line by its layer (0-based): layer 1 solid and
+// heaviest, then dashed, dotted, dash-dot (repeating); width in px.
+struct LayerLineStyle {
+  double width;
+  const char* dashes;  // SVG stroke-dasharray; "" for solid
+};
+LayerLineStyle layer_line_style(std::size_t layer);
 
 // With --labels each region shows its pattern where a box of that size
 // (half-width, half-height in the writer's unit) centred on the label point

@@ -16,8 +16,8 @@ namespace {
 constexpr double top_margin = 30, bottom_margin = 48, legend_gap = 26, legend_width = 190;
 constexpr double default_plot_width = 420, smallest_plot = 60, axis_offset = 7, tick_length = 4, digit_width = 6.4;
 constexpr double label_size = 7, label_char_width = 0.6 * label_size;  // DejaVu Sans Mono: 0.6 em a character
-constexpr const char* ink = "#1f1d2b";   // near-black with a blue cast: lines, text
-constexpr const char* quiet = "#5c5a66";  // notes and tick labels
+constexpr const char* ink = ink_colour;
+constexpr const char* quiet = quiet_colour;
 
 // Left margin: room for the widest y tick label, its gap and the axis.
 double left_margin_for(const Figure& f) {
@@ -40,17 +40,7 @@ std::string axis_label(const std::string& label) {
   return out;
 }
 
-struct LineStyle {
-  double width;
-  const char* dashes;  // "" for solid
-};
-
-// Layer 1's hyperplanes are straight and cut the whole view: heaviest, solid.
-// Deeper layers bend on them and are drawn lighter: dashed, dotted, dash-dot.
-LineStyle line_style(std::size_t layer) {
-  static const LineStyle styles[] = {{1.6, ""}, {1.15, "5,2.5"}, {1.3, "0.4,2.6"}, {1.0, "7,2,1,2"}};
-  return styles[layer % 4];
-}
+LayerLineStyle line_style(std::size_t layer) { return layer_line_style(layer); }
 
 // Right of the plot: the key, or a small pad without it.
 double right_part(const Figure& f) { return f.show_legend ? legend_gap + legend_width : 24.0; }
@@ -104,7 +94,7 @@ void write_lines(const Figure& figure, const Layout& layout, std::ostream& out) 
         path.append("M").append(number(layout.x(s.from.x))).append(",").append(number(layout.y(s.from.y)))
             .append("L").append(number(layout.x(s.to.x))).append(",").append(number(layout.y(s.to.y)));
     if (path.empty()) continue;
-    const LineStyle style = line_style(layer);
+    const LayerLineStyle style = line_style(layer);
     out << "<path class=\"layer-" << layer + 1 << "\" stroke-width=\"" << style.width << "\"";
     if (*style.dashes) out << " stroke-dasharray=\"" << style.dashes << "\"";
     out << " d=\"" << path << "\"/>\n";
@@ -204,7 +194,7 @@ void write_legend(const Figure& figure, const Layout& layout, std::ostream& out)
     heading("bent hyperplanes");
     y += 8;
     for (std::size_t layer = 0; layer < figure.layers; ++layer) {
-      const LineStyle style = line_style(layer);
+      const LayerLineStyle style = line_style(layer);
       out << "<line x1=\"" << x0 << "\" y1=\"" << y + 5 << "\" x2=\"" << x0 + 26 << "\" y2=\"" << y + 5
           << "\" stroke=\"" << ink << "\" stroke-linecap=\"round\" stroke-width=\"" << style.width << "\"";
       if (*style.dashes) out << " stroke-dasharray=\"" << style.dashes << "\"";
@@ -245,6 +235,13 @@ double least_width(const std::vector<FigurePoint>& vertices) {
 }
 
 }  // namespace
+
+// Layer 1's hyperplanes are straight and cut the whole view: heaviest, solid.
+// Deeper layers bend on them and are drawn lighter: dashed, dotted, dash-dot.
+LayerLineStyle layer_line_style(std::size_t layer) {
+  static const LayerLineStyle styles[] = {{1.6, ""}, {1.15, "5,2.5"}, {1.3, "0.4,2.6"}, {1.0, "7,2,1,2"}};
+  return styles[layer % 4];
+}
 
 std::size_t thin_regions_svg(const Figure& figure, double min_width_px) {
   const Layout layout(figure);

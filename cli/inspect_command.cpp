@@ -5,6 +5,7 @@
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
 #include "cli/region_json.hpp"
+#include "core/network_io.hpp"
 #include "enumerate/region_geometry.hpp"
 #include "enumerate/region_record.hpp"
 #include "enumerate/walker.hpp"
@@ -32,7 +33,7 @@ std::string number_text(const Rational& value, bool exact_only) {
 using Record = RegionRecord;
 
 std::string neuron_name(const Network& network, std::size_t neuron) {
-  const std::size_t layer = layer_of_neuron(network, neuron);
+  const std::size_t layer = network.layer_of_neuron(neuron);
   return "neuron " + std::to_string(neuron) + " (layer " + std::to_string(layer + 1) + " #" +
          std::to_string(neuron - network.first_neuron_of_layer(layer)) + ")";
 }
@@ -69,7 +70,7 @@ Json record_json(const Network& network, const Record& record) {
     Json entry;
     entry["neurons"] = facet.neurons;
     Json layers = Json::array();
-    for (std::size_t neuron : facet.neurons) layers.push_back(layer_of_neuron(network, neuron) + 1);
+    for (std::size_t neuron : facet.neurons) layers.push_back(network.layer_of_neuron(neuron) + 1);
     entry["layers"] = std::move(layers);
     entry["side"] = facet.domain_side ? Json(*facet.domain_side) : Json(nullptr);
     entry["normal"] = rational_list_json(facet.normal);
@@ -161,7 +162,7 @@ void print_record(const Network& network, const Domain& domain, const Record& re
 }
 
 int run_inspect(const InspectArguments& arguments) {
-  const Network network = load_network(arguments.network_path);
+  const Network network = read_network_any(arguments.network_path);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
   std::vector<Record> records;
   Json query;

@@ -3,7 +3,7 @@
 // usage, 1 any other failure). Never a stack trace.
 #include "cli/command.hpp"
 #include "cli/output_file.hpp"
-#include "core/limit_error.hpp"
+#include "core/errors.hpp"
 #include "core/rational.hpp"
 
 #include <CLI/CLI.hpp>
@@ -31,6 +31,7 @@ void register_draw(CommandTable& commands);
 void register_import(CommandTable& commands);
 void register_export(CommandTable& commands);
 void register_track(CommandTable& commands);
+void register_report(CommandTable& commands);
 
 namespace {
 
@@ -47,6 +48,7 @@ void register_all_commands(CommandTable& commands) {
   register_import(commands);
   register_export(commands);
   register_track(commands);
+  register_report(commands);
 }
 
 constexpr const char* description =

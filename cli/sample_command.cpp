@@ -14,6 +14,8 @@
 #include "cli/common.hpp"
 #include "cli/progress.hpp"
 #include "cli/signals.hpp"
+#include "cli/walk_options.hpp"
+#include "core/network_io.hpp"
 #include "core/stop.hpp"
 #include "enumerate/functional_dimension.hpp"
 #include "enumerate/sampled_estimate.hpp"
@@ -36,8 +38,7 @@ struct SampleArguments {
   std::string dist = "normal";
   bool json = false;
   bool quiet = false;
-  std::uint64_t threads = 0;
-  double time_limit = 0;
+  WalkLimitOptions limits;
   std::string points_path;
   std::string dtype = "float64";
 };
@@ -144,7 +145,7 @@ int report_interrupted_sampling(std::uint64_t drawn, std::uint64_t batch) {
 int run_sample(const SampleArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   if (arguments.batch == 0) throw input_error("--batch: give at least 1 point");
-  const Network network = load_network(arguments.network_path);
+  const Network network = read_network_any(arguments.network_path);
   SampleOptions options;
   options.batch = arguments.batch;
   options.seed = arguments.seed;
@@ -157,9 +158,7 @@ int run_sample(const SampleArguments& arguments) {
 
   ProgressLine progress(arguments.quiet);
   const InterruptGuard interrupt;
-  options.walk.threads = static_cast<unsigned>(arguments.threads);
-  options.walk.time_limit_seconds = arguments.time_limit;
-  options.walk.interrupt = &interrupt.flag();
+  apply_walk_limits(arguments.limits, interrupt.flag(), options.walk);
   options.walk.on_progress = [&](const WalkProgress& state) {
     progress.update("sample: certifying, " + std::to_string(state.regions) + " regions walked");
   };
@@ -236,9 +235,8 @@ void register_sample(CommandTable& commands) {
       ->type_name("DIST")
       ->allow_extra_args(false);
   command.add_flag("--json", arguments->json, "Print the result as JSON (pleat-sample/1)");
-  add_threads_option(command, arguments->threads, "Worker threads for the walk (default: all cores)");
-  add_seconds_option(command, "--time-limit", arguments->time_limit,
-                     "Stop the certifying walk after this many seconds (then only bounds)");
+  add_walk_limit_options(command, arguments->limits, "Worker threads for the walk (default: all cores)",
+                         "--time-limit", "Stop the certifying walk after this many seconds (then only bounds)");
   command.add_option("--dtype", arguments->dtype,
                      "float64 (default) or float32: the precision of the parameters, points, Jacobian and SVD")
       ->type_name("TYPE");

@@ -2,7 +2,7 @@
 
 #include "cli/line_input.hpp"
 #include "cli/region_json.hpp"
-#include "core/network_io.hpp"
+#include "core/domain_io.hpp"
 
 #include <algorithm>
 #include <filesystem>

@@ -7,6 +7,8 @@
 #include "cli/progress.hpp"
 #include "cli/region_json.hpp"
 #include "cli/signals.hpp"
+#include "cli/walk_options.hpp"
+#include "core/network_io.hpp"
 #include "enumerate/functional_dimension.hpp"
 
 #include <algorithm>
@@ -30,8 +32,7 @@ struct TrackArguments {
   std::string svg_path;
   bool json = false;
   bool quiet = false;
-  std::uint64_t threads = 0;
-  double time_limit_each = 0;
+  WalkLimitOptions limits;  // --time-limit-each: each checkpoint's limit
 };
 
 // One checkpoint's line (format pleat-track/1, after the header).
@@ -89,7 +90,7 @@ Json header_json(const TrackArguments& arguments, const Domain& domain) {
   return Json{{"format", "pleat-track/1"},
               {"checkpoints", arguments.checkpoints},
               {"domain", domain_to_json(domain)},
-              {"time_limit_each", arguments.time_limit_each}};
+              {"time_limit_each", arguments.limits.time_limit}};
 }
 
 // The rows already in a track file (resuming), after checking that its header
@@ -136,12 +137,10 @@ std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, cons
 TrackRow track_checkpoint(const TrackArguments& arguments, std::size_t index, ProgressLine& progress,
                           const std::atomic<bool>& interrupt) {
   const std::string& path = arguments.checkpoints[index];
-  const Network network = load_network(path);
+  const Network network = read_network_any(path);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
   FunctionalDimensionOptions options;
-  options.walk.threads = static_cast<unsigned>(arguments.threads);
-  options.walk.time_limit_seconds = arguments.time_limit_each;
-  options.walk.interrupt = &interrupt;
+  apply_walk_limits(arguments.limits, interrupt, options.walk);
   options.walk.on_progress = [&](const WalkProgress& state) {
     progress.update("track: checkpoint " + std::to_string(index + 1) + " of " +
                     std::to_string(arguments.checkpoints.size()) + ", " + std::to_string(state.regions) +
@@ -326,7 +325,7 @@ int run_track(const TrackArguments& arguments) {
   // Every checkpoint must read before any work starts (nothing computed is lost to a typo).
   std::optional<std::size_t> input_dim;
   for (const auto& path : arguments.checkpoints) {
-    const Network network = load_network(path);
+    const Network network = read_network_any(path);
     if (input_dim && *input_dim != network.input_dim)
       throw input_error(path + ": takes " + count_of(network.input_dim, "input") + ", the first checkpoint " +
                         std::to_string(*input_dim));
@@ -407,10 +406,8 @@ void register_track(CommandTable& commands) {
   command.add_option("--csv", arguments->csv_path, "Write the table as CSV");
   command.add_option("--svg", arguments->svg_path, "Write the line plot as SVG");
   command.add_flag("--json", arguments->json, "Print the table as JSON (pleat-track-table/1)");
-  add_unsigned_option(command, "--threads", arguments->threads, "Worker threads per walk (default: all cores)");
-  command.add_option("--time-limit-each", arguments->time_limit_each,
-                     "Stop each checkpoint's walk after this many seconds (that row: bounds)")
-      ->check(CLI::NonNegativeNumber);
+  add_walk_limit_options(command, arguments->limits, "Worker threads per walk (default: all cores)",
+                         "--time-limit-each", "Stop each checkpoint's walk after this many seconds (that row: bounds)");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }
 

@@ -9,6 +9,7 @@
 #include "cli/line_input.hpp"
 #include "cli/region_file_reader.hpp"
 #include "cli/region_json.hpp"
+#include "core/network_io.hpp"
 #include "enumerate/walk_check.hpp"
 
 #include <algorithm>
@@ -210,7 +211,7 @@ Json parse_line(const std::string& text, const LineReader& reader) {
 }
 
 int run_verify(const VerifyArguments& arguments) {
-  const Network network = load_network(arguments.network_path);
+  const Network network = read_network_any(arguments.network_path);
   LineInput input(arguments.regions_path, "region file", max_region_line_bytes);
   const std::string& path = input.path();
   std::string text;

@@ -7,6 +7,8 @@
 #include "cli/points_file.hpp"
 #include "cli/region_json.hpp"
 #include "cli/signals.hpp"
+#include "cli/walk_options.hpp"
+#include "core/network_io.hpp"
 #include "enumerate/walker.hpp"
 
 #include <cstdio>
@@ -26,9 +28,8 @@ struct WalkArguments {
   bool json = false;
   bool patterns = false;
   bool quiet = false;
-  std::uint64_t threads = 0;
+  WalkLimitOptions limits;
   std::uint64_t max_regions = 0;
-  double time_limit = 0;
 };
 
 std::string describe_widths(const Network& network) {
@@ -97,7 +98,7 @@ void write_interior_points(const Network& network, const std::string& path, cons
 
 int run_walk(const WalkArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
-  const Network network = load_network(arguments.network_path);
+  const Network network = read_network_any(arguments.network_path);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
 
   std::optional<OutputFile> regions_file;
@@ -109,11 +110,9 @@ int run_walk(const WalkArguments& arguments) {
   ProgressLine progress(arguments.quiet);
   const InterruptGuard interrupt;
   WalkOptions options;
-  options.threads = static_cast<unsigned>(arguments.threads);
+  apply_walk_limits(arguments.limits, interrupt.flag(), options);
   options.max_regions = arguments.max_regions;
-  options.time_limit_seconds = arguments.time_limit;
   options.keep_certificates = arguments.certificates;
-  options.interrupt = &interrupt.flag();
   std::vector<RationalVector> interior_points;
   std::vector<ActivationPattern> interior_patterns;
   options.on_region = [&](const Region& region) {
@@ -185,10 +184,10 @@ void register_walk(CommandTable& commands) {
                    "Add each region's certificates to the region lines (for 'pleat verify')");
   command.add_flag("--json", arguments->json, "Print the summary as JSON (pleat-walk/1)");
   command.add_flag("--patterns", arguments->patterns, "Also list every region's activation pattern, sorted");
-  add_threads_option(command, arguments->threads, "Worker threads (default: all cores)");
+  add_walk_limit_options(command, arguments->limits, "Worker threads (default: all cores)", "--time-limit",
+                         "Stop after this many seconds (result: lower bounds)");
   add_unsigned_option(command, "--max-regions", arguments->max_regions,
                       "Stop after this many regions, at least 1 (the result is then a lower bound)", 1);
-  add_seconds_option(command, "--time-limit", arguments->time_limit, "Stop after this many seconds (result: lower bounds)");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }
 

@@ -37,6 +37,12 @@ std::size_t Network::first_neuron_of_layer(std::size_t k) const {
   return first;
 }
 
+std::size_t Network::layer_of_neuron(std::size_t neuron) const {
+  std::size_t layer = 0;
+  while (layer + 1 < relu_layer_count() && first_neuron_of_layer(layer + 1) <= neuron) ++layer;
+  return layer;
+}
+
 std::size_t Network::parametric_dimension() const { return parameter_offset(layers.size()); }
 
 std::size_t Network::parameter_offset(std::size_t k) const {

@@ -46,6 +46,9 @@ struct Network {
   std::size_t relu_layer_count() const;
   // The first neuron id of layer k (0-based layer index) in that numbering.
   std::size_t first_neuron_of_layer(std::size_t k) const;
+  // The 0-based layer of a ReLU neuron id in that numbering (precondition:
+  // neuron < relu_neuron_count()).
+  std::size_t layer_of_neuron(std::size_t neuron) const;
 
   // D = sum_k (n_{k-1} + 1) n_k.
   std::size_t parametric_dimension() const;

@@ -1,6 +1,6 @@
-// Reading and writing the network file format (spec: network-format.md) and
-// pleat's domain file format (outputs.md). Reading is exact: numbers are taken
-// from their literal text, never through a double.
+// Reading and writing the network file format (docs/formats.md, Networks).
+// Reading is exact: numbers are taken from their literal text, never through
+// a double. Domain files: core/domain_io.hpp.
 #pragma once
 
 #include "core/network.hpp"
@@ -31,6 +31,13 @@ inline constexpr std::uintmax_t max_network_file_bytes = std::uintmax_t{64} << 2
 // "FILE: layers[0].bias: missing field".
 Network read_network_file(const std::filesystem::path& path);
 
+// A network file of either kind pleat reads, chosen by its name: ONNX when the
+// extension is .onnx (core/onnx_io.hpp), otherwise pleat-network/1 JSON; "-"
+// reads JSON from standard input (messages then start with "<stdin>: ").
+// Errors as read_network_file / read_onnx_file. Defined in read_network_any.cpp
+// so that a program reading only JSON does not link the ONNX reader.
+Network read_network_any(const std::string& path);
+
 // The whole of a stream (standard input) as text, refusing more than
 // max_network_file_bytes; `name` starts the message.
 std::string read_limited(std::istream& stream, const std::string& name);
@@ -38,15 +45,5 @@ std::string read_limited(std::istream& stream, const std::string& name);
 // The canonical document (rationals as strings in lowest terms, name and meta
 // kept). parse_network(write_network(n)) == n.
 std::string write_network(const Network& network);
-
-// A "pleat-domain/1" document: the open polytope {x : normal . x + offset > 0}
-// (shared/spec/outputs.md, Domains). Read exactly, with the same path-first
-// messages as networks; whether it is full-dimensional is the caller's check.
-struct PolytopeDocument {
-  std::size_t input_dim = 0;
-  std::vector<std::pair<RationalVector, Rational>> constraints;  // (normal, offset)
-};
-PolytopeDocument parse_domain(std::string_view json_text);
-PolytopeDocument read_domain_file(const std::filesystem::path& path);
 
 }  // namespace pleat

@@ -3,9 +3,10 @@
 // in _double.
 #pragma once
 
+#include "core/errors.hpp"
+
 #include <gmpxx.h>
 
-#include <stdexcept>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -16,17 +17,6 @@ using Rational = mpq_class;  // always canonical (lowest terms, positive denomin
 using Integer = mpz_class;
 using RationalVector = std::vector<Rational>;
 using DoubleVector = std::vector<double>;
-
-// A broken precondition of a library call (misuse, not an expected outcome).
-struct usage_error : std::logic_error {
-  using std::logic_error::logic_error;
-};
-
-// Input that is not what the file format or a command expects. The message
-// names the place (a JSON path, a line, an argument).
-struct input_error : std::runtime_error {
-  using std::runtime_error::runtime_error;
-};
 
 // Parses the spec's exact number grammar (whole string, no spaces):
 //   [-]?(DIGITS | DIGITS.DIGITS? | .DIGITS)([eE][+-]?DIGITS)?   or   [-]?DIGITS/DIGITS

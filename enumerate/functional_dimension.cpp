@@ -89,9 +89,24 @@ bool is_proportional_row(const Layer& layer, std::size_t a, std::size_t b) {
   return lambda && *lambda > 0;
 }
 
+// Hidden neurons with a positively proportional (w, b) in the same layer.
+std::vector<char> duplicated_neurons(const Network& network) {
+  std::vector<char> duplicated;
+  for (std::size_t k = 0; k + 1 < network.depth(); ++k) {
+    const Layer& layer = network.layers[k];
+    const std::size_t first = duplicated.size();
+    duplicated.resize(first + layer.width(), 0);
+    for (std::size_t a = 0; a < layer.width(); ++a)
+      for (std::size_t b = a + 1; b < layer.width(); ++b)
+        if (is_proportional_row(layer, a, b)) duplicated[first + a] = duplicated[first + b] = 1;
+  }
+  return duplicated;
+}
+
 // Names the mechanism behind one extra kernel vector by its support.
 void recognise_mechanism(const Network& network, const NeuronActivity& activity,
-                         const std::vector<NeuronParameters>& parameters, ExtraKernelDirection& direction) {
+                         const std::vector<NeuronParameters>& parameters, const std::vector<char>& duplicated,
+                         ExtraKernelDirection& direction) {
   std::set<std::size_t> support;
   for (std::size_t c = 0; c < direction.vector.size(); ++c)
     if (direction.vector[c] != 0) support.insert(c);
@@ -140,16 +155,6 @@ void recognise_mechanism(const Network& network, const NeuronActivity& activity,
                 [&](std::size_t n) { return union_of(n, {&parameters[n].bias, &parameters[n].next_biases}); },
                 "always-active-neuron"))
     return;
-  // Duplicate neurons: same layer, positively proportional (w, b).
-  std::vector<char> duplicated(hidden, 0);
-  std::size_t first = 0;
-  for (std::size_t k = 0; k + 1 < network.depth(); ++k) {
-    const Layer& layer = network.layers[k];
-    for (std::size_t a = 0; a < layer.width(); ++a)
-      for (std::size_t b = a + 1; b < layer.width(); ++b)
-        if (is_proportional_row(layer, a, b)) duplicated[first + a] = duplicated[first + b] = 1;
-    first += layer.width();
-  }
   try_union([&](std::size_t n) { return duplicated[n] != 0; },
             [&](std::size_t n) { return union_of(n, {&parameters[n].incoming, &parameters[n].outgoing}); },
             "duplicate-neurons");
@@ -188,6 +193,55 @@ std::size_t batch_functional_dimension(const Network& network, const std::vector
 }
 
 namespace {
+
+// Runs work(i) for i in [0, count) on up to `threads` threads; rethrows the
+// first exception (a Stopped included) after every thread has ended.
+void parallel_for(std::size_t count, unsigned threads, const std::function<void(std::size_t)>& work) {
+  std::atomic<std::size_t> next{0};
+  std::mutex error_mutex;
+  std::exception_ptr error;
+  const StopRequest* stop = current_stop_request();
+  auto run = [&] {
+    std::optional<StopScope> scope;
+    if (stop) scope.emplace(*stop);
+    try {
+      for (std::size_t i; (i = next++) < count;) work(i);
+    } catch (...) {
+      const std::lock_guard lock(error_mutex);
+      if (!error) error = std::current_exception();
+      next = count;
+    }
+  };
+  threads = static_cast<unsigned>(std::max<std::size_t>(1, std::min<std::size_t>(threads, count)));
+  std::vector<std::thread> pool;
+  for (unsigned t = 1; t < threads; ++t) pool.emplace_back(run);
+  run();
+  for (auto& thread : pool) thread.join();
+  if (error) std::rethrow_exception(error);
+}
+
+// Each extra direction with its mechanism, named on up to `threads` threads
+// in chunks (progress(done) between chunks, from the calling thread; the
+// stop request is polled there too). The same for any thread count.
+std::vector<ExtraKernelDirection> name_extra_directions(const Network& network, const NeuronActivity& activity,
+                                                        const RationalMatrix& extra, unsigned threads,
+                                                        const std::function<void(std::size_t)>& progress) {
+  const auto parameters = hidden_neuron_parameters(network);
+  const std::vector<char> duplicated = duplicated_neurons(network);
+  std::vector<ExtraKernelDirection> named(extra.rows());
+  const std::size_t chunk = 64 * static_cast<std::size_t>(std::max(1u, threads));
+  for (std::size_t start = 0; start < extra.rows(); start += chunk) {
+    poll_stop();
+    progress(start);
+    const std::size_t count = std::min(chunk, extra.rows() - start);
+    parallel_for(count, threads, [&](std::size_t i) {
+      ExtraKernelDirection& direction = named[start + i];
+      direction.vector = extra.row(start + i);
+      recognise_mechanism(network, activity, parameters, duplicated, direction);
+    });
+  }
+  return named;
+}
 
 // ---- The proof after the walk ----------------------------------------------
 //
@@ -275,14 +329,24 @@ std::vector<Integer> primitive_integer_row(const RationalVector& row) {
 // parameters' denominators) and |N| <= L^d sum_c B_c |e_c| (coefficient_bounds).
 // N = 0 mod primes whose product exceeds that bound proves N = 0 (Chinese
 // remainder theorem); the first prime also screens out failures quickly.
-class AnnihilationCheck {
- public:
-  AnnihilationCheck(const Network& network, const RationalMatrix& vectors) : vector_count_(vectors.rows()) {
-    if (vector_count_ == 0) return;
-    const RationalVector bounds = coefficient_bounds(network);
-    Integer scale = 1;
+// What the check's bound needs from the network alone: B (coefficient_bounds)
+// and L^d. Computed once, shared by every candidate checked.
+struct CheckScale {
+  RationalVector bounds;
+  Integer scale = 1;
+  explicit CheckScale(const Network& network) : bounds(coefficient_bounds(network)) {
     const Integer lcm = denominator_lcm(network);
     for (std::size_t k = 0; k < network.depth(); ++k) scale *= lcm;
+  }
+};
+
+class AnnihilationCheck {
+ public:
+  AnnihilationCheck(const Network& network, const RationalMatrix& vectors, const CheckScale& check_scale)
+      : vector_count_(vectors.rows()) {
+    if (vector_count_ == 0) return;
+    const RationalVector& bounds = check_scale.bounds;
+    const Integer& scale = check_scale.scale;
     std::vector<std::vector<Integer>> integer_rows;
     Rational largest = 0;
     // Thousands of dense vectors and, on deep networks, hundreds of primes:
@@ -448,38 +512,72 @@ std::optional<ModularMatrix> extra_directions_modulo(const Network& network, con
                                   scaling_pivots, prime);
 }
 
-// Lifts the extra directions from their image modulo the walk's prime:
-// adds primes until two successive reconstructions agree. Returns nullopt
-// when stopped (stopped is set) or when no reconstruction settles within
-// max_primes primes.
-std::optional<RationalMatrix> lift_extra_directions(const Network& network,
-                                                    const std::vector<std::size_t>& scaling_pivots,
-                                                    const std::vector<KeptRows>& kept, std::size_t rank,
-                                                    const ModularMatrix& first_image, std::uint64_t first_prime,
-                                                    std::size_t& next_prime_index, const StopRequest& stop,
-                                                    bool& stopped,
-                                                    const std::function<void(std::size_t)>& progress) {
+// The extra directions' images modulo the given primes, computed on up to
+// `threads` threads (one elimination each); nullopt for a prime that divides
+// a denominator.
+std::vector<std::optional<ModularMatrix>> extra_directions_modulo_primes(
+    const Network& network, const std::vector<KeptRows>& kept, std::size_t rank,
+    const std::vector<std::size_t>& scaling_pivots, const std::vector<std::uint64_t>& primes, unsigned threads) {
+  std::vector<std::optional<ModularMatrix>> images(primes.size());
+  parallel_for(primes.size(), threads, [&](std::size_t i) {
+    images[i] = extra_directions_modulo(network, kept, rank, scaling_pivots, primes[i]);
+  });
+  return images;
+}
+
+// Lifts the extra directions from their image modulo the walk's prime and
+// proves them. After each round of primes (one per thread, computed in
+// parallel), a reconstruction that succeeds is checked exactly on every
+// smooth region; the first that passes is returned: it is proved, whatever
+// primes produced it (a wrong one fails on some region, almost always the
+// first, and costs little). Starts with the walk's prime alone, so small
+// entries need no elimination beyond the walk's. Returns nullopt when stopped
+// (stopped is set) or when no candidate passes within max_primes, or when
+// the images stop having the first one's shape (the walk's prime then hid a
+// row: bounds only).
+std::optional<RationalMatrix> lift_and_prove_extra_directions(
+    const Network& network, const std::vector<std::size_t>& scaling_pivots, const std::vector<KeptRows>& kept,
+    std::size_t rank, const ModularMatrix& first_image, std::uint64_t first_prime,
+    const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
+    const StopRequest& stop, bool& stopped, const std::function<void(std::size_t)>& lift_progress,
+    const std::function<void(std::size_t, std::size_t)>& check_progress) {
   RationalReconstruction lifting(first_image.rows(), first_image.cols());
   lifting.add_image(first_image, first_prime);
   const std::vector<std::size_t> shape = echelon_shape(first_image);
-  std::optional<RationalMatrix> previous = lifting.reconstruct();
-  constexpr std::size_t max_primes = 4096;
-  while (lifting.primes() < max_primes) {
+  std::optional<RationalMatrix> rejected;  // the last candidate the check rejected
+  std::size_t next_prime_index = 0, unusable_in_a_row = 0;
+  constexpr std::size_t max_primes = 4096, max_unusable_in_a_row = 16;
+  while (true) {
     if (stop.is_requested()) {
       stopped = true;
       return std::nullopt;
     }
-    const std::uint64_t prime = prime_sequence(next_prime_index++);
-    if (prime == first_prime) continue;
-    const auto image = extra_directions_modulo(network, kept, rank, scaling_pivots, prime);
-    if (!image || image->rows() != first_image.rows() || echelon_shape(*image) != shape) continue;
-    lifting.add_image(*image, prime);
-    if (progress) progress(lifting.primes());
-    std::optional<RationalMatrix> current = lifting.reconstruct();
-    if (current && previous && *current == *previous) return current;
-    previous = std::move(current);
+    std::optional<RationalMatrix> candidate = lifting.reconstruct();
+    if (candidate && candidate != rejected) {
+      const AnnihilationCheck check(network, *candidate, check_scale);
+      const auto failed = first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress);
+      if (stopped) return std::nullopt;
+      if (!failed) return candidate;
+      rejected = std::move(candidate);
+    }
+    if (lifting.primes() >= max_primes || unusable_in_a_row >= max_unusable_in_a_row) return std::nullopt;
+    std::vector<std::uint64_t> primes;
+    while (primes.size() < std::max(1u, threads)) {
+      const std::uint64_t prime = prime_sequence(next_prime_index++);
+      if (prime != first_prime) primes.push_back(prime);
+    }
+    const auto images = extra_directions_modulo_primes(network, kept, rank, scaling_pivots, primes, threads);
+    for (std::size_t i = 0; i < primes.size(); ++i) {
+      const auto& image = images[i];
+      if (!image || image->rows() != first_image.rows() || echelon_shape(*image) != shape) {
+        ++unusable_in_a_row;
+        continue;
+      }
+      unusable_in_a_row = 0;
+      lifting.add_image(*image, primes[i]);
+      if (lift_progress) lift_progress(lifting.primes());
+    }
   }
-  return std::nullopt;
 }
 
 // Whether E vanishes at the columns Q and is in reduced row-echelon form
@@ -536,32 +634,6 @@ PointRegion region_of_point(const Network& network, const RationalVector& x) {
   return {PointVerdict::smooth, std::move(pattern)};
 }
 
-// Runs work(i) for i in [0, count) on up to `threads` threads; rethrows the
-// first exception (a Stopped included) after every thread has ended.
-void parallel_for(std::size_t count, unsigned threads, const std::function<void(std::size_t)>& work) {
-  std::atomic<std::size_t> next{0};
-  std::mutex error_mutex;
-  std::exception_ptr error;
-  const StopRequest* stop = current_stop_request();
-  auto run = [&] {
-    std::optional<StopScope> scope;
-    if (stop) scope.emplace(*stop);
-    try {
-      for (std::size_t i; (i = next++) < count;) work(i);
-    } catch (...) {
-      const std::lock_guard lock(error_mutex);
-      if (!error) error = std::current_exception();
-      next = count;
-    }
-  };
-  threads = static_cast<unsigned>(std::max<std::size_t>(1, std::min<std::size_t>(threads, count)));
-  std::vector<std::thread> pool;
-  for (unsigned t = 1; t < threads; ++t) pool.emplace_back(run);
-  run();
-  for (auto& thread : pool) thread.join();
-  if (error) std::rethrow_exception(error);
-}
-
 }  // namespace
 
 std::optional<std::size_t> first_region_not_annihilated(const Network& network, const RationalMatrix& vectors,
@@ -570,7 +642,7 @@ std::optional<std::size_t> first_region_not_annihilated(const Network& network, 
   if (vectors.cols() != network.parametric_dimension())
     throw usage_error("first_region_not_annihilated: the vectors need one entry per parameter");
   if (vectors.rows() == 0) return std::nullopt;
-  const AnnihilationCheck check(network, vectors);
+  const AnnihilationCheck check(network, vectors, CheckScale(network));
   bool stopped = false;
   return first_rejected_pattern(check, patterns, std::max(1u, threads), StopRequest(), stopped, {});
 }
@@ -700,63 +772,38 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   };
 
   // Lifts the extra directions, proves them on every smooth region, names
-  // their mechanisms. A region the check rejects either raises the rank
-  // (its rows were hidden by the walk's prime: add them) or shows the lift
-  // was wrong (lift again with fresh primes); both happen rarely, and at most
-  // D + 8 times in all before giving up with bounds.
+  // their mechanisms (lift_and_prove_extra_directions). The walk's basis
+  // holds every smooth region's rows modulo its prime, so the first image is
+  // the kernel of all of them modulo p.
   auto prove_by_extra_directions = [&] {
     // The scaling directions' pivot columns Q: S restricted to its
     // independent rows and Q is nonsingular over Q (core/jacobian.hpp).
     const std::vector<std::size_t>& scaling_pivots = scaling.pivot_columns;
-    std::size_t next_prime_index = 0;
-    for (std::size_t attempt = 0; attempt < parameters + 8 && !stopped; ++attempt) {
-      report("kernel", 0, 0);
-      const ModularMatrix first_image = extra_directions_of_rows(basis.rows(), scaling_pivots, modular.prime);
-      RationalMatrix extra(0, parameters);
-      if (first_image.rows() > 0) {
-        auto lifted = lift_extra_directions(network, scaling_pivots, kept, basis.rank(), first_image, modular.prime,
-                                            next_prime_index, stop, stopped,
-                                            [&](std::size_t primes) { report("kernel", primes, 0); });
-        if (stopped) result.stop_reason = stop.reason();
-        if (!lifted) return;  // stopped, or no reconstruction settled: bounds only
-        extra = std::move(*lifted);
-      }
-      if (stop_now()) return;
-      if (extra.rows() > 0) {
-        const AnnihilationCheck check(network, extra);
-        const auto rejected = first_rejected_pattern(check, smooth, threads, stop, stopped,
-                                                     [&](std::size_t done, std::size_t total) {
-                                                       report("check", done, total);
-                                                     });
-        if (stopped) {
-          result.stop_reason = stop.reason();
-          return;
-        }
-        if (rejected) {
-          const std::size_t rank_before = basis.rank();
-          add_region_rows(smooth[*rejected]);
-          if (basis.rank() == rank_before) next_prime_index += 1;
-          continue;
-        }
-      }
-      // Proved: S and E annihilate every smooth region's rows exactly.
-      // Independent: E is echelon and vanishes on Q (checked exactly here).
-      if (!is_echelon_off(extra, scaling_pivots)) return;
-      result.lower_bound = basis.rank();
-      result.upper_bound = std::min(result.scaling_bound, parameters - scaling.rank - extra.rows());
-      if (options.keep_kernel)
-        result.kernel = stack_matrices(scaling_directions(network, scaling.independent_neurons), extra);
-      const auto neuron_parameters = hidden_neuron_parameters(network);
-      for (std::size_t r = 0; r < extra.rows(); ++r) {
-        if (stop_now()) return;
-        report("naming", r, extra.rows());
-        ExtraKernelDirection direction{extra.row(r), "", {}};
-        recognise_mechanism(network, activity, neuron_parameters, direction);
-        result.extra_kernel.push_back(std::move(direction));
-      }
-      result.certified = result.lower_bound == result.upper_bound;
-      return;
+    report("kernel", 0, 0);
+    const ModularMatrix first_image = extra_directions_of_rows(basis.rows(), scaling_pivots, modular.prime);
+    RationalMatrix extra(0, parameters);
+    if (first_image.rows() > 0) {
+      const CheckScale check_scale(network);
+      auto proved = lift_and_prove_extra_directions(
+          network, scaling_pivots, kept, basis.rank(), first_image, modular.prime, smooth, check_scale, threads, stop,
+          stopped, [&](std::size_t primes) { report("kernel", primes, 0); },
+          [&](std::size_t done, std::size_t total) { report("check", done, total); });
+      if (stopped) result.stop_reason = stop.reason();
+      if (!proved) return;  // stopped, or nothing proved: bounds only
+      extra = std::move(*proved);
     }
+    if (stop_now()) return;
+    // Proved: S and E annihilate every smooth region's rows exactly.
+    // Independent: E is echelon and vanishes on Q (checked exactly here).
+    if (!is_echelon_off(extra, scaling_pivots)) return;
+    result.lower_bound = basis.rank();
+    result.upper_bound = std::min(result.scaling_bound, parameters - scaling.rank - extra.rows());
+    if (options.keep_kernel)
+      result.kernel = stack_matrices(scaling_directions(network, scaling.independent_neurons), extra);
+    result.extra_kernel = name_extra_directions(network, activity, extra, threads, [&](std::size_t done) {
+      report("naming", done, extra.rows());
+    });
+    result.certified = result.lower_bound == result.upper_bound;
   };
 
   if (result.early_stop) {

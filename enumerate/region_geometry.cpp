@@ -389,7 +389,9 @@ PointIncidence regions_at_point(const Network& network, const Domain& domain, co
         at_point.pattern.states[id] == NeuronState::zero_on_region)
       result.vanishing_neurons.push_back(id);
   if (result.vanishing_neurons.size() > max_vanishing_choices)
-    throw input_error("more than " + std::to_string(max_vanishing_choices) + " neurons vanish at the point");
+    throw limit_error(std::to_string(result.vanishing_neurons.size()) + " neurons vanish at the point; pleat looks at " +
+                      "most " + std::to_string(max_vanishing_choices) + " at one point (2^" +
+                      std::to_string(max_vanishing_choices) + " candidate patterns)");
 
   ActivationPattern pattern;
   pattern.states.resize(network.relu_neuron_count());

@@ -100,7 +100,7 @@ Rational polytope_volume(const lp::Polyhedron& closed, const std::vector<Rationa
 // closure of every kept cell contains the point (the vanishing neurons are 0
 // there whatever their state). Preconditions: point.size() == input_dim ==
 // domain.dim, and the point lies in the closed domain (throws input_error
-// otherwise). At most 16 vanishing neurons (throws input_error). Exact.
+// otherwise). At most 16 vanishing neurons (throws limit_error, a documented limit). Exact.
 struct PointIncidence {
   std::vector<std::size_t> vanishing_neurons;  // ids, increasing
   std::vector<ActivationPattern> regions;      // sorted

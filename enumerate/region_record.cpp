@@ -15,10 +15,5 @@ RegionRecord make_region_record(const Network& network, Region region) {
   return record;
 }
 
-std::size_t layer_of_neuron(const Network& network, std::size_t neuron) {
-  std::size_t layer = 0;
-  while (layer + 1 < network.relu_layer_count() && network.first_neuron_of_layer(layer + 1) <= neuron) ++layer;
-  return layer;
-}
 
 }  // namespace pleat

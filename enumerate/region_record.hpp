@@ -28,7 +28,5 @@ struct RegionRecord {
 // the domain's sides that bound it).
 RegionRecord make_region_record(const Network& network, Region region);
 
-// The 0-based layer of a ReLU neuron id (Network's numbering).
-std::size_t layer_of_neuron(const Network& network, std::size_t neuron);
 
 }  // namespace pleat

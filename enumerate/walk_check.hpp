@@ -74,6 +74,6 @@ struct WalkCheck {
 // region itself, and naming this region back), touches_domain_boundary,
 // boundedness, the affine map and the non-smooth neurons. Completeness: each
 // pattern once and every neighbour present. Exact.
-WalkCheck check_saved_walk(const Network& network, const Domain& domain, const std::vector<SavedRegion>& regions);
+[[nodiscard]] WalkCheck check_saved_walk(const Network& network, const Domain& domain, const std::vector<SavedRegion>& regions);
 
 }  // namespace pleat

@@ -2,7 +2,7 @@
 
 #include "core/filtered_sign.hpp"
 #include "core/jacobian.hpp"
-#include "core/limit_error.hpp"
+#include "core/errors.hpp"
 #include "lp/plane_cell.hpp"
 #include "lp/space_cell.hpp"
 

@@ -2,7 +2,7 @@
 // text, each followed by what every walk does next (the exact emptiness
 // check of make_domain, then a point strictly inside).
 #include "cli/domain_options.hpp"
-#include "core/network_io.hpp"
+#include "core/domain_io.hpp"
 #include "fuzz/fuzz_support.hpp"
 
 #include <algorithm>

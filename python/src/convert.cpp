@@ -1,7 +1,7 @@
 #include "convert.hpp"
 
 #include "cli/common.hpp"
-#include "core/network_io.hpp"
+#include "core/domain_io.hpp"
 
 #include <Python.h>
 

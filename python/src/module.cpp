@@ -12,7 +12,7 @@
 #include "cli/survey_file.hpp"
 #include "core/evaluate.hpp"
 #include "core/jacobian.hpp"
-#include "core/limit_error.hpp"
+#include "core/errors.hpp"
 #include "core/network_io.hpp"
 #include "core/onnx_io.hpp"
 #include "core/random_network.hpp"
@@ -47,11 +47,6 @@ py::object optional_value(const std::optional<T>& value) {
 }
 
 // ---- Network ------------------------------------------------------------------
-
-Network network_from_file(const std::string& path) {
-  if (is_onnx_path(path)) return read_onnx_file(path);
-  return read_network_file(path);
-}
 
 py::bytes onnx_bytes(const Network& network) { return py::bytes(write_onnx_model(network, PLEAT_VERSION).bytes); }
 
@@ -355,7 +350,7 @@ py::dict record_dict(const Network& network, const RegionRecord& record) {
   py::list facets = out["facets"];
   for (std::size_t i = 0; i < record.region.facets.size(); ++i) {
     py::list layers;
-    for (std::size_t neuron : record.region.facets[i].neurons) layers.append(layer_of_neuron(network, neuron) + 1);
+    for (std::size_t neuron : record.region.facets[i].neurons) layers.append(network.layer_of_neuron(neuron) + 1);
     facets[i]["layers"] = layers;
   }
   auto list = [](const std::vector<RationalVector>& vectors) {
@@ -583,7 +578,7 @@ PYBIND11_MODULE(_core, module) {
 
   py::class_<Network, std::shared_ptr<Network>>(module, "Network")
       .def_static("from_json", [](const std::string& text) { return std::make_shared<Network>(parse_network(text)); })
-      .def_static("from_file", [](const std::string& path) { return std::make_shared<Network>(network_from_file(path)); })
+      .def_static("from_file", [](const std::string& path) { return std::make_shared<Network>(read_network_any(path)); })
       .def_static("from_onnx_bytes",
                   [](const py::bytes& bytes, const std::string& name) {
                     return std::make_shared<Network>(parse_onnx_model(std::string(bytes), name));

@@ -47,6 +47,13 @@ for command in walk certify sample; do
   done
 done
 run_bad "--time-limit-each" survey --arch 2,3,1 --samples 2 --seed 1 --time-limit-each nan
+# track took any --threads (1000000 started that many per walk) and a time
+# limit through CLI11's own number check (0 meant none); now the same helper
+# as the other walking commands (cli/walk_options.hpp).
+run_bad "--threads" track "$fold" --threads 1000000
+for bad in nan inf -1 0 1e400 abc; do
+  run_bad "--time-limit-each" track "$fold" --time-limit-each "$bad"
+done
 
 run_bad "--arch" random --arch 2,99999999999,1 --seed 1
 run_bad "--arch" random --arch 2,99999999999,99999999999,1 --seed 1

@@ -51,6 +51,10 @@ TEST(Network, OutputReluJoinsTheNumbering) {
   EXPECT_EQ(network.hidden_neuron_count(), 3u);
   EXPECT_EQ(network.relu_neuron_count(), 4u);
   EXPECT_EQ(network.relu_layer_count(), 2u);
+  // Neurons 0-2 are the hidden layer's, neuron 3 the output ReLU's.
+  EXPECT_EQ(network.layer_of_neuron(0), 0u);
+  EXPECT_EQ(network.layer_of_neuron(2), 0u);
+  EXPECT_EQ(network.layer_of_neuron(3), 1u);
 }
 
 TEST(Network, ParameterNamesInOrder) {

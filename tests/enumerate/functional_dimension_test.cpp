@@ -491,6 +491,51 @@ TEST(FunctionalDimension, LiftedExtraDirectionsEqualTheExactKernelsOnes) {
   }
 }
 
+// The lift tries the walk's prime alone first: data/degenerate2d.json has
+// one-digit decimal weights, so its extra directions' entries are small
+// fractions, reconstructed and proved with no further prime (no "kernel"
+// progress with a prime count). Its weights scaled by 10^-12 put the
+// entries' denominators past one prime's reach (about 2^30 each): further
+// primes are added until a candidate passes, and the value, the kernel and
+// the extra directions are those of the exact kernel (kernel_basis_exact).
+TEST(FunctionalDimension, LiftStartsFromTheWalksPrimeAndAddsPrimesOnlyWhenNeeded) {
+  auto lift_primes = [](const Network& network, FunctionalDimensionResult& result) {
+    FunctionalDimensionOptions options;
+    options.walk.threads = 2;
+    options.stop_at_scaling_bound = false;
+    options.keep_kernel = true;
+    std::size_t primes = 0;
+    options.on_phase = [&](const CertifyProgress& progress) {
+      if (std::string(progress.phase) == "kernel") primes = std::max(primes, progress.done);
+    };
+    result = certify_functional_dimension(network, make_whole_space(network.input_dim), options);
+    return primes;
+  };
+  const Network network = read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json");
+  FunctionalDimensionResult small;
+  EXPECT_EQ(lift_primes(network, small), 0u);
+  ASSERT_TRUE(small.certified);
+  EXPECT_EQ(*small.functional_dimension, 17u);  // derived in Degenerate2dExampleIs17WithSevenNamedDirections
+
+  Network scaled = network;
+  const Rational tiny(1, Integer("1000000000000"));
+  for (Layer& layer : scaled.layers) {
+    for (std::size_t r = 0; r < layer.weights.rows(); ++r)
+      for (std::size_t c = 0; c < layer.weights.cols(); ++c) layer.weights(r, c) = layer.weights(r, c) * tiny + Rational(1, 7);
+  }
+  FunctionalDimensionResult large;
+  EXPECT_GE(lift_primes(scaled, large), 2u);
+  ASSERT_TRUE(large.certified);
+  std::vector<RationalMatrix> blocks;
+  for (const ActivationPattern& pattern : smooth_patterns(scaled)) blocks.push_back(coefficient_blocks(scaled, pattern));
+  const RationalMatrix kernel = kernel_basis_exact(stack(blocks, scaled.parametric_dimension()));
+  const RationalMatrix extra = extra_kernel_basis(kernel, scaling_directions(scaled));
+  EXPECT_EQ(*large.functional_dimension, scaled.parametric_dimension() - kernel.rows());
+  ASSERT_EQ(large.extra_kernel.size(), extra.rows());
+  ASSERT_GT(extra.rows(), 0u);
+  for (std::size_t r = 0; r < extra.rows(); ++r) EXPECT_EQ(large.extra_kernel[r].vector, extra.row(r));
+}
+
 // The multi-modular check accepts the proved kernel and rejects it after any
 // one entry is changed (every entry of every extra direction, and a zero
 // entry made nonzero), naming a region whose rows it fails.

@@ -134,6 +134,28 @@ TEST(RegionsAtPoint, AxesMeetInFourRegionsAndLinesInTwo) {
   EXPECT_THROW(regions_at_point(network, box, v({2, 0})), input_error);
 }
 
+// 17 neurons through the origin (x1 - k x2 for k = 0..16): more than the 16
+// vanishing neurons regions_at_point enumerates (2^16 candidate patterns) is a
+// documented limit (limit_error, exit 1), not bad input. (16 are accepted but
+// take seconds to enumerate, so the accepted case here has fewer.)
+Network lines_through_origin(long count) {
+  std::vector<RationalVector> rows;
+  for (long k = 0; k < count; ++k) rows.push_back(v({1, -k}));
+  Network network;
+  network.input_dim = 2;
+  network.layers.push_back(make_layer(rows, RationalVector(static_cast<std::size_t>(count)), Activation::relu));
+  network.layers.push_back(make_layer({RationalVector(static_cast<std::size_t>(count), Rational(1))}, v({0}),
+                                      Activation::linear));
+  return network;
+}
+
+TEST(RegionsAtPoint, MoreThanSixteenVanishingNeuronsIsADocumentedLimit) {
+  const Domain plane = make_whole_space(2);
+  EXPECT_THROW(regions_at_point(lines_through_origin(17), plane, v({0, 0})), limit_error);
+  // 5 distinct lines through a point cut the plane into 10 sectors, each one region.
+  EXPECT_EQ(regions_at_point(lines_through_origin(5), plane, v({0, 0})).regions.size(), 10u);
+}
+
 TEST(RankContribution, AllOnGivesEveryCoefficientAllOffOnlyTheBias) {
   const Network network = axes_network();
   // All on: F = x1 + 2 x2 with c, A[0,0], A[0,1] independent in theta: 3 rows.

@@ -1,7 +1,7 @@
 // The region walker against counts known from outside the project.
 #include "enumerate/walker.hpp"
 
-#include "core/limit_error.hpp"
+#include "core/errors.hpp"
 
 #include <gtest/gtest.h>
 

@@ -1,0 +1,609 @@
+// pleat report: the page's own script. It reads the JSON that pleat embedded
+// (script#pleat-data, format pleat-report/1) and draws it; it computes
+// nothing that is shown as exact (exact values are the strings in the data).
+// No network access, no libraries.
+(function () {
+  'use strict';
+  const data = JSON.parse(document.getElementById('pleat-data').textContent);
+  const SVG = 'http://www.w3.org/2000/svg';
+  const explore = document.getElementById('explore');
+  const api = { data: data };
+  window.pleatReport = api;
+
+  // ---- small helpers ----------------------------------------------------
+  function svg(tag, attributes, parent) {
+    const node = document.createElementNS(SVG, tag);
+    for (const key in attributes) node.setAttribute(key, attributes[key]);
+    if (parent) parent.appendChild(node);
+    return node;
+  }
+  function html(tag, attributes, text, parent) {
+    const node = document.createElement(tag);
+    for (const key in attributes) node.setAttribute(key, attributes[key]);
+    if (text !== undefined && text !== null) node.textContent = text;
+    if (parent) parent.appendChild(node);
+    return node;
+  }
+  function decimal(value) {
+    if (value === null || value === undefined) return '';
+    if (value === 0) return '0';
+    const text = Number(value).toPrecision(6);
+    return String(Number(text));
+  }
+  function subscript(name) {  // "x12" -> x with subscript digits 1 2
+    return name.replace(/[0-9]/g, function (d) { return String.fromCharCode(0x2080 + Number(d)); });
+  }
+  // "a x1 + b x2 + c" from exact strings (zero terms left out).
+  function affineText(coefficients, offset, names) {
+    let text = '';
+    coefficients.forEach(function (a, i) {
+      if (a === '0' || a === 0) return;
+      const negative = String(a).charAt(0) === '-';
+      const magnitude = negative ? String(a).slice(1) : String(a);
+      const term = (magnitude === '1' ? '' : magnitude + ' ') + names[i];
+      text += text === '' ? (negative ? '-' + term : term) : (negative ? ' - ' : ' + ') + term;
+    });
+    const c = String(offset);
+    if (c !== '0' || text === '') {
+      const negative = c.charAt(0) === '-';
+      text += text === '' ? c : (negative ? ' - ' + c.slice(1) : ' + ' + c);
+    }
+    return text;
+  }
+  function decimalList(values) { return '(' + values.map(decimal).join(', ') + ')'; }
+  function exactList(values) { return '(' + values.join(', ') + ')'; }
+
+  // Round tick values: 1, 2 or 5 times a power of ten, 4 to 8 of them
+  // (docs/figure-style.md), with plain labels (never exponent notation).
+  function niceTicks(lo, hi) {
+    const span = hi - lo;
+    if (!(span > 0)) return [lo];
+    let best = null;
+    const base = Math.pow(10, Math.floor(Math.log10(span)) - 1);
+    for (const power of [base, base * 10, base * 100]) {
+      for (const m of [1, 2, 5]) {
+        const step = m * power;
+        const first = Math.ceil(lo / step - 1e-9), last = Math.floor(hi / step + 1e-9);
+        const count = last - first + 1;
+        if (count >= 4 && count <= 8 && (best === null || count > best.count)) best = { step: step, first: first, count: count };
+      }
+    }
+    if (best === null) {
+      const step = span / 4;
+      return [0, 1, 2, 3, 4].map(function (k) { return lo + k * step; });
+    }
+    const ticks = [];
+    for (let k = 0; k < best.count; ++k) ticks.push((best.first + k) * best.step);
+    return ticks;
+  }
+  function tickText(value, step) {
+    const digits = Math.max(0, Math.min(12, -Math.floor(Math.log10(step) + 1e-9)));
+    let text = value.toFixed(digits);
+    if (text.indexOf('.') >= 0) text = text.replace(/0+$/, '').replace(/\.$/, '');
+    return text === '-0' ? '0' : text;
+  }
+
+  // ---- the summary's and side panel's pieces ---------------------------------
+  function detailList(parent, rows) {
+    const list = html('dl', {}, null, parent);
+    rows.forEach(function (row) {
+      html('dt', {}, row[0], list);
+      const dd = html('dd', row[2] ? { id: row[2] } : {}, null, list);
+      if (row[1] instanceof Node) dd.appendChild(row[1]); else dd.textContent = row[1];
+    });
+    return list;
+  }
+  function exactWithDecimal(exact, approx, cls) {
+    const span = document.createElement('span');
+    html('span', { class: cls || 'exact' }, exact, span);
+    if (approx !== null && approx !== undefined && String(exact) !== decimal(approx))
+      html('span', { class: 'decimal' }, ' \u2248 ' + (Array.isArray(approx) ? decimalList(approx) : decimal(approx)), span);
+    return span;
+  }
+
+  // ---- a pannable, zoomable plot frame in data coordinates ------------------
+  // The plot area is W x H px of the SVG's own units; world holds the data,
+  // drawn through one matrix (zoom k, pan tx, ty) so that 20 000 polygons
+  // need no rewriting when the view moves. Strokes do not scale.
+  // height: the plot's height in px, or 0 for equal units on both axes.
+  function PlotFrame(parent, view, axisNames, label, height) {
+    const left = 64, top = 26, right = 14, bottom = 46;
+    const W = 600;
+    const ratio = (view.y1 - view.y0) / (view.x1 - view.x0);
+    const H = height || Math.max(260, Math.min(600, Math.round(W * (isFinite(ratio) ? ratio : 1))));
+    const root = svg('svg', { class: 'plot', viewBox: '0 0 ' + (left + W + right) + ' ' + (top + H + bottom),
+      role: 'group', tabindex: '0', 'aria-label': label, id: 'plot' }, parent);
+    const defs = svg('defs', {}, root);
+    const clip = svg('clipPath', { id: 'plot-clip' }, defs);
+    svg('rect', { x: left, y: top, width: W, height: H }, clip);
+    const clipped = svg('g', { 'clip-path': 'url(#plot-clip)' }, root);
+    svg('rect', { x: left, y: top, width: W, height: H, fill: '#ffffff' }, clipped);
+    const world = svg('g', { id: 'world' }, clipped);
+    const axes = svg('g', { id: 'axes' }, root);
+    const frame = { root: root, world: world, left: left, top: top, W: W, H: H, k: 1, tx: 0, ty: 0, onchange: null };
+    const bx = W / (view.x1 - view.x0), by = H / (view.y1 - view.y0);
+    frame.apply = function () {
+      const a = bx * frame.k, d = by * frame.k;
+      const e = left + frame.tx - view.x0 * a, f = top + frame.ty + view.y1 * d;
+      world.setAttribute('transform', 'matrix(' + a + ' 0 0 ' + (-d) + ' ' + e + ' ' + f + ')');
+      drawAxes();
+      if (frame.onchange) frame.onchange();
+    };
+    // The data rectangle now visible.
+    frame.visible = function () {
+      const a = bx * frame.k, d = by * frame.k;
+      const e = left + frame.tx - view.x0 * a, f = top + frame.ty + view.y1 * d;
+      return { x0: (left - e) / a, x1: (left + W - e) / a, y0: (f - top - H) / d, y1: (f - top) / d };
+    };
+    function drawAxes() {
+      while (axes.firstChild) axes.removeChild(axes.firstChild);
+      const v = frame.visible();
+      const a = bx * frame.k, d = by * frame.k;
+      const e = left + frame.tx - view.x0 * a, f = top + frame.ty + view.y1 * d;
+      const xs = niceTicks(v.x0, v.x1), ys = niceTicks(v.y0, v.y1);
+      const xStep = xs.length > 1 ? xs[1] - xs[0] : 1, yStep = ys.length > 1 ? ys[1] - ys[0] : 1;
+      const gap = 7, yAxis = top + H + gap, xAxis = left - gap;
+      if (xs.length) svg('line', { class: 'frame', x1: a * xs[0] + e, x2: a * xs[xs.length - 1] + e, y1: yAxis, y2: yAxis }, axes);
+      xs.forEach(function (x) {
+        const px = a * x + e;
+        svg('line', { class: 'frame', x1: px, x2: px, y1: yAxis, y2: yAxis - 4 }, axes);
+        svg('text', { x: px, y: yAxis + 14, 'text-anchor': 'middle' }, axes).textContent = tickText(x, xStep);
+      });
+      if (ys.length) svg('line', { class: 'frame', y1: f - d * ys[0], y2: f - d * ys[ys.length - 1], x1: xAxis, x2: xAxis }, axes);
+      ys.forEach(function (y) {
+        const py = f - d * y;
+        svg('line', { class: 'frame', y1: py, y2: py, x1: xAxis, x2: xAxis + 4 }, axes);
+        svg('text', { x: xAxis - 5, y: py + 4, 'text-anchor': 'end' }, axes).textContent = tickText(y, yStep);
+      });
+      svg('text', { x: left + W, y: yAxis + 32, 'text-anchor': 'end', fill: '#1f1d2b' }, axes).textContent = subscript(axisNames[0]) + ' \u2192';
+      svg('text', { x: xAxis - 5, y: top - 10, 'text-anchor': 'start', fill: '#1f1d2b' }, axes).textContent = subscript(axisNames[1]) + ' \u2191';
+    }
+    frame.zoomAt = function (factor, px, py) {
+      const k = Math.max(0.2, Math.min(2e5, frame.k * factor));
+      const real = k / frame.k;
+      frame.tx = px - left - (px - left - frame.tx) * real;
+      frame.ty = py - top - (py - top - frame.ty) * real;
+      frame.k = k;
+      frame.apply();
+    };
+    frame.reset = function () { frame.k = 1; frame.tx = 0; frame.ty = 0; frame.apply(); };
+    frame.pan = function (dx, dy) { frame.tx += dx; frame.ty += dy; frame.apply(); };
+    // Client (CSS pixel) position of a data point, for tests and keyboard users.
+    frame.toClient = function (x, y) {
+      const point = root.createSVGPoint();
+      point.x = x; point.y = y;
+      const p = point.matrixTransform(world.getScreenCTM());
+      return { x: p.x, y: p.y };
+    };
+    function svgPoint(event) {
+      const point = root.createSVGPoint();
+      point.x = event.clientX; point.y = event.clientY;
+      return point.matrixTransform(root.getScreenCTM().inverse());
+    }
+    root.addEventListener('wheel', function (event) {
+      event.preventDefault();
+      const p = svgPoint(event);
+      frame.zoomAt(event.deltaY < 0 ? 1.25 : 0.8, p.x, p.y);
+    }, { passive: false });
+    let drag = null;
+    root.addEventListener('pointerdown', function (event) {
+      if (event.button !== 0) return;
+      const p = svgPoint(event);
+      drag = { x: p.x, y: p.y, moved: false, id: event.pointerId };
+    });
+    root.addEventListener('pointermove', function (event) {
+      if (!drag) return;
+      const p = svgPoint(event);
+      const dx = p.x - drag.x, dy = p.y - drag.y;
+      if (!drag.moved && Math.abs(dx) + Math.abs(dy) < 4) return;
+      if (!drag.moved) { drag.moved = true; root.setPointerCapture(drag.id); }
+      drag.x = p.x; drag.y = p.y;
+      frame.pan(dx, dy);
+    });
+    function endDrag(event) {
+      if (drag && drag.moved) { frame.justDragged = true; setTimeout(function () { frame.justDragged = false; }, 0); }
+      if (drag && drag.moved && root.hasPointerCapture(drag.id)) root.releasePointerCapture(drag.id);
+      drag = null;
+      return event;
+    }
+    root.addEventListener('pointerup', endDrag);
+    root.addEventListener('pointercancel', endDrag);
+    frame.isDragging = function () { return drag !== null && drag.moved; };
+    return frame;
+  }
+
+  function zoomButtons(parent, frame) {
+    const group = html('div', { class: 'zoom', role: 'group', 'aria-label': 'zoom' }, null, parent);
+    const centre = function () { return [frame.left + frame.W / 2, frame.top + frame.H / 2]; };
+    html('button', { type: 'button', 'aria-label': 'zoom in', id: 'zoom-in' }, '+', group)
+      .addEventListener('click', function () { const c = centre(); frame.zoomAt(1.5, c[0], c[1]); });
+    html('button', { type: 'button', 'aria-label': 'zoom out', id: 'zoom-out' }, '\u2212', group)
+      .addEventListener('click', function () { const c = centre(); frame.zoomAt(1 / 1.5, c[0], c[1]); });
+    html('button', { type: 'button', id: 'zoom-reset' }, 'reset view', group)
+      .addEventListener('click', frame.reset);
+  }
+
+  // Arrow keys pan, + and - zoom, 0 resets, n and p step through the regions.
+  function keyboard(frame, step) {
+    frame.root.addEventListener('keydown', function (event) {
+      const c = [frame.left + frame.W / 2, frame.top + frame.H / 2];
+      const keys = {
+        ArrowLeft: function () { frame.pan(40, 0); }, ArrowRight: function () { frame.pan(-40, 0); },
+        ArrowUp: function () { frame.pan(0, 40); }, ArrowDown: function () { frame.pan(0, -40); },
+        '+': function () { frame.zoomAt(1.5, c[0], c[1]); }, '=': function () { frame.zoomAt(1.5, c[0], c[1]); },
+        '-': function () { frame.zoomAt(1 / 1.5, c[0], c[1]); }, '0': frame.reset,
+        n: function () { step(1); }, p: function () { step(-1); }
+      };
+      if (keys[event.key]) { event.preventDefault(); keys[event.key](); }
+    });
+  }
+
+  // ---- regions: the shared side panel and search ------------------------------
+  function RegionBrowser(side, regions, map, describe, outlineOf) {
+    const browser = { selected: -1, hovered: -1, matches: [], matchIndex: 0 };
+    const details = html('section', { class: 'details', id: 'details', 'aria-live': 'polite' }, null, side);
+    html('h2', {}, 'Region', details);
+    const body = html('div', { id: 'details-body' }, null, details);
+    html('p', { class: 'hint' }, map.has_details
+      ? 'Point at a region (or focus the map and press n / p) to see its pattern, exact interior point, area, affine map and rank rows. Click to keep it.'
+      : 'This view has more regions than the page holds details for (pleat report --detail-limit): their shapes only; the summary\'s counts are exact.', body);
+    browser.show = function (index) {
+      while (body.firstChild) body.removeChild(body.firstChild);
+      if (index < 0) return;
+      describe(regions[index], body);
+      outlineOf(index);
+    };
+    // Leaving the map keeps the last region shown (or the clicked one), so
+    // the panel and the controls under it do not jump.
+    browser.hover = function (index) {
+      if (index === browser.hovered) return;
+      browser.hovered = index;
+      if (index >= 0) browser.show(index);
+      else if (browser.selected >= 0) browser.show(browser.selected);
+    };
+    browser.select = function (index) {
+      browser.selected = index;
+      browser.hovered = -1;
+      browser.show(index);
+    };
+    browser.step = function (delta) {
+      if (!map.has_details || regions.length === 0) return;
+      const from = browser.selected < 0 ? (delta > 0 ? -1 : 0) : browser.selected;
+      browser.select((from + delta + regions.length) % regions.length);
+    };
+    return browser;
+  }
+
+  function normalisedPattern(text) { return text.trim().replace(/\//g, '|'); }
+  function patternMatcher(text) {
+    const wanted = normalisedPattern(text);
+    if (!/[?*]/.test(wanted)) return function (pattern) { return pattern === wanted; };
+    const expression = new RegExp('^' + wanted.replace(/[.+^${}()[\]\\|]/g, '\\$&').replace(/\?/g, '.').replace(/\*/g, '.*') + '$');
+    return function (pattern) { return expression.test(pattern); };
+  }
+
+  function searchForm(parent, regions, map, browser, markMatches) {
+    const form = html('form', { role: 'search', id: 'search-form' }, null, parent);
+    html('label', { for: 'pattern-search' }, 'pattern', form);
+    const input = html('input', { type: 'search', id: 'pattern-search', placeholder: '0110|10?1  (? one neuron, * any)',
+      autocomplete: 'off', spellcheck: 'false' }, null, form);
+    html('button', { type: 'submit' }, 'find', form);
+    const next = html('button', { type: 'button', id: 'search-next', disabled: '' }, 'next', form);
+    const status = html('span', { class: 'note', id: 'search-status', role: 'status' }, '', form);
+    if (!map.has_details) { input.disabled = true; status.textContent = 'no search: shapes only (--detail-limit)'; }
+    form.addEventListener('submit', function (event) {
+      event.preventDefault();
+      const matches = [];
+      if (input.value.trim() !== '') {
+        const matcher = patternMatcher(input.value);
+        regions.forEach(function (region, index) { if (matcher(region.pattern)) matches.push(index); });
+      }
+      browser.matches = matches;
+      browser.matchIndex = 0;
+      markMatches(matches);
+      next.disabled = matches.length < 2;
+      if (matches.length === 0) {
+        status.textContent = input.value.trim() === '' ? '' : 'no region has this pattern in the view';
+        return;
+      }
+      status.textContent = matches.length === 1 ? '1 region' : matches.length + ' regions; showing the first';
+      browser.select(matches[0]);
+    });
+    next.addEventListener('click', function () {
+      if (browser.matches.length === 0) return;
+      browser.matchIndex = (browser.matchIndex + 1) % browser.matches.length;
+      browser.select(browser.matches[browser.matchIndex]);
+      status.textContent = (browser.matchIndex + 1) + ' of ' + browser.matches.length;
+    });
+  }
+
+  function rankText(region, outputs, inputs) {
+    return 'adds ' + region.rows_first + ' independent rows when taken first (of at most ' + outputs * (inputs + 1) +
+      '); ' + region.rows_new + ' new in walk order' + (region.nonsmooth_neurons.length ? '; no smooth points' : '');
+  }
+  function architecture() { return data.network.architecture; }
+
+  // ---- two inputs (and a 3-input slice): the region map ---------------------
+  function planeView() {
+    const map = data.map;
+    const regions = map.regions;
+    const names = data.axes;
+    const view = { x0: map.view.lower_double[0], x1: map.view.upper_double[0], y0: map.view.lower_double[1], y1: map.view.upper_double[1] };
+    const layout = html('div', { class: 'explore' }, null, explore);
+    const figure = html('div', { class: 'figure' }, null, layout);
+    const side = html('div', { class: 'side' }, null, layout);
+    html('h2', {}, data.kind === 'slice' ? 'The slice x' + (data.slice.axis + 1) + ' = ' + data.slice.value : 'Region map', figure);
+    const controls = html('div', { class: 'controls' }, null, figure);
+    const frame = PlotFrame(figure, view, names,
+      'region map: arrow keys pan, + and - zoom, 0 resets, n and p step through the regions');
+    zoomButtons(controls, frame);
+    html('p', { class: 'hint' }, 'Drag to pan, scroll to zoom. ' + regions.length + ' regions drawn' +
+      (map.has_details ? '' : ' (shapes only)') + '.', figure);
+
+    const regionLayer = svg('g', { id: 'regions' }, frame.world);
+    regions.forEach(function (region, index) {
+      const colour = map.colours[region.colour];
+      svg('polygon', { class: 'region', id: 'region-' + region.id, 'data-index': index,
+        'data-pattern': region.pattern || '', fill: colour, stroke: colour,
+        points: region.polygon.map(function (p) { return p[0] + ',' + p[1]; }).join(' ') }, regionLayer);
+    });
+    const lineLayers = [];
+    const lineGroup = svg('g', { id: 'bent-hyperplanes', 'pointer-events': 'none' }, frame.world);
+    data.network.layers.forEach(function (layer, k) {
+      const group = svg('g', { id: 'layer-' + (k + 1), class: 'layer-lines', 'data-layer': k + 1 }, lineGroup);
+      lineLayers.push(group);
+    });
+    map.lines.forEach(function (line) {
+      const style = data.network.layers[line.layer];
+      const path = svg('path', { class: 'bent', d: 'M' + line.from[0] + ' ' + line.from[1] + 'L' + line.to[0] + ' ' + line.to[1],
+        'data-neurons': ' ' + line.neurons.join(' ') + ' ', 'stroke-width': style.line_width + 'px' }, lineLayers[line.layer]);
+      if (style.dashes) path.setAttribute('stroke-dasharray', style.dashes);
+    });
+    const marks = svg('g', { id: 'marks' }, frame.world);
+    const outline = svg('polygon', { class: 'outline', id: 'selected-outline', points: '' }, marks);
+    const matchLayer = svg('g', { id: 'search-matches' }, marks);
+
+    function describe(region, body) {
+      html('h3', {}, 'region ' + region.id + ' of the walk', body);
+      if (!map.has_details) { html('p', { class: 'note' }, 'shapes only (--detail-limit)', body); return; }
+      const inputs = architecture()[0];
+      const outputs = architecture()[architecture().length - 1];
+      const coefficientNames = names;
+      const rows = [['pattern', exactWithDecimal(region.pattern, null, 'pattern'), 'detail-pattern'],
+        ['interior point', exactWithDecimal(exactList(region.point), region.point_double), 'detail-point'],
+        [data.kind === 'slice' ? 'area in the slice' : 'area in the view', exactWithDecimal(region.area, region.area_double), 'detail-area']];
+      region.map.A.forEach(function (row, o) {
+        const name = region.map.A.length > 1 ? 'F' + subscript(String(o + 1)) : 'F';
+        const exact = name + '(x) = ' + affineText(row, region.map.c[o], coefficientNames.map(subscript));
+        const approx = affineText(region.map.A_double[o].map(decimal), decimal(region.map.c_double[o]), coefficientNames.map(subscript));
+        const span = document.createElement('span');
+        html('span', { class: 'exact' }, exact, span);
+        if (approx !== affineText(row, region.map.c[o], coefficientNames.map(subscript)))
+          html('span', { class: 'decimal' }, ' \u2248 ' + approx, span);
+        rows.push([o === 0 ? (data.kind === 'slice' ? 'map on the slice' : 'affine map') : '', span, o === 0 ? 'detail-map' : undefined]);
+      });
+      rows.push(['rank rows', rankText(region, outputs, inputs), 'detail-rank']);
+      rows.push(['bounded', region.bounded ? 'yes (in ' + (data.kind === 'slice' ? 'the plane' : 'R\u00b2') + ')' : 'no (in ' + (data.kind === 'slice' ? 'the plane' : 'R\u00b2') + ')']);
+      if (region.nonsmooth_neurons.length) rows.push(['non-smooth', 'neurons ' + region.nonsmooth_neurons.join(', ') + ' identically zero']);
+      detailList(body, rows);
+    }
+    function outlineOf(index) {
+      outline.setAttribute('points', index < 0 ? '' : regionLayer.children[index].getAttribute('points'));
+    }
+    const browser = RegionBrowser(side, regions, map, describe, outlineOf);
+    searchForm(controls, regions, map, browser, function (matches) {
+      while (matchLayer.firstChild) matchLayer.removeChild(matchLayer.firstChild);
+      matches.forEach(function (index) {
+        svg('polygon', { class: 'match', points: regionLayer.children[index].getAttribute('points') }, matchLayer);
+      });
+    });
+    function indexOf(target) {
+      return target && target.classList && target.classList.contains('region') ? Number(target.getAttribute('data-index')) : -1;
+    }
+    if (map.has_details) {
+      regionLayer.addEventListener('pointerover', function (event) { if (!frame.isDragging()) browser.hover(indexOf(event.target)); });
+      frame.root.addEventListener('pointerleave', function () { browser.hover(-1); });
+      regionLayer.addEventListener('click', function (event) { if (!frame.justDragged) browser.select(indexOf(event.target)); });
+    }
+    keyboard(frame, browser.step);
+
+    // Layer toggles and the neuron list.
+    const toggles = html('fieldset', { id: 'layer-toggles' }, null, side);
+    html('legend', {}, 'Bent hyperplanes by layer', toggles);
+    data.network.layers.forEach(function (layer, k) {
+      const row = html('label', { class: 'layer-toggle' }, null, toggles);
+      const box = html('input', { type: 'checkbox', id: 'toggle-layer-' + (k + 1), checked: '' }, null, row);
+      const sample = svg('svg', { width: 34, height: 10, 'aria-hidden': 'true' }, row);
+      const line = svg('line', { x1: 2, x2: 32, y1: 5, y2: 5, stroke: '#1f1d2b', 'stroke-width': layer.line_width, 'stroke-linecap': 'round' }, sample);
+      if (layer.dashes) line.setAttribute('stroke-dasharray', layer.dashes);
+      html('span', {}, 'layer ' + (k + 1) + ' (' + lineLayers[k].children.length + ' pieces)', row);
+      box.addEventListener('change', function () { lineLayers[k].style.display = box.checked ? '' : 'none'; });
+    });
+    const neurons = html('fieldset', { id: 'neuron-list' }, null, side);
+    html('legend', {}, 'Neurons: highlight a bent hyperplane', neurons);
+    const pieces = {};
+    map.lines.forEach(function (line, index) { line.neurons.forEach(function (n) { (pieces[n] = pieces[n] || []).push(index); }); });
+    const paths = [];
+    lineLayers.forEach(function (group) { for (const path of group.children) paths.push(path); });
+    data.network.layers.forEach(function (layer, k) {
+      const row = html('div', { class: 'neuron-row', role: 'group', 'aria-label': 'layer ' + (k + 1) + ' neurons' }, null, neurons);
+      html('span', { class: 'layer-name' }, 'layer ' + (k + 1), row);
+      for (let i = 0; i < layer.neurons; ++i) {
+        const id = layer.first_neuron + i;
+        const count = pieces[id] ? pieces[id].length : 0;
+        const button = html('button', { type: 'button', 'aria-pressed': 'false', 'data-neuron': id,
+          title: 'neuron ' + id + ' (layer ' + (k + 1) + ' #' + i + '): ' + (count ? count + ' pieces in the view' : 'no piece in the view') }, String(id), row);
+        if (!count) button.disabled = true;
+        button.addEventListener('click', function () {
+          const on = button.getAttribute('aria-pressed') !== 'true';
+          button.setAttribute('aria-pressed', on ? 'true' : 'false');
+          paths.forEach(function (path) {
+            if (path.getAttribute('data-neurons').indexOf(' ' + id + ' ') >= 0) path.classList.toggle('hl', on || anyOtherPressed(path));
+          });
+        });
+      }
+    });
+    function anyOtherPressed(path) {
+      for (const b of neurons.querySelectorAll('button[aria-pressed="true"]'))
+        if (path.getAttribute('data-neurons').indexOf(' ' + b.getAttribute('data-neuron') + ' ') >= 0) return true;
+      return false;
+    }
+    frame.apply();
+    api.frame = frame;
+    api.toClient = frame.toClient;
+    api.browser = browser;
+  }
+
+  // ---- one input: the graph --------------------------------------------------
+  function lineView() {
+    const map = data.map;
+    const regions = map.regions;
+    let low = Infinity, high = -Infinity;
+    regions.forEach(function (r) { low = Math.min(low, r.from[1], r.to[1]); high = Math.max(high, r.from[1], r.to[1]); });
+    if (!(low < high)) { low -= 1; high += 1; }
+    const pad = 0.08 * (high - low);
+    const view = { x0: map.view.lower_double[0], x1: map.view.upper_double[0], y0: low - pad, y1: high + pad };
+    const outputs = architecture()[architecture().length - 1];
+    const layout = html('div', { class: 'explore' }, null, explore);
+    const figure = html('div', { class: 'figure' }, null, layout);
+    const side = html('div', { class: 'side' }, null, layout);
+    html('h2', {}, 'The graph' + (outputs > 1 ? ' of the first output' : ''), figure);
+    const controls = html('div', { class: 'controls' }, null, figure);
+    // Equal units on both axes mean nothing for a graph: a 3:2 frame.
+    const frame = PlotFrame(figure, view, ['x', outputs > 1 ? 'F1' : 'F'],
+      'graph: arrow keys pan, + and - zoom, 0 resets, n and p step through the pieces', 400);
+    const inner = frame.world;
+    zoomButtons(controls, frame);
+    html('p', { class: 'hint' }, 'Drag to pan, scroll to zoom. ' + regions.length + ' pieces, ' + map.breakpoints + ' breakpoints.', figure);
+    const bands = svg('g', { id: 'regions' }, inner);
+    regions.forEach(function (r, index) {
+      svg('rect', { class: 'band', id: 'region-' + r.id, 'data-index': index, 'data-pattern': r.pattern || '',
+        x: r.from[0], width: r.to[0] - r.from[0], y: view.y0 - 10 * (view.y1 - view.y0), height: 21 * (view.y1 - view.y0),
+        fill: map.colours[r.colour], 'fill-opacity': 0.45, stroke: 'none' }, bands);
+    });
+    const points = [];
+    regions.forEach(function (r, i) { points.push(r.from); if (i === regions.length - 1) points.push(r.to); });
+    svg('polyline', { class: 'graph', points: points.map(function (p) { return p[0] + ',' + p[1]; }).join(' ') }, inner);
+    const dots = svg('g', { id: 'breakpoints' }, inner);
+    regions.forEach(function (r, i) {
+      if (i === 0) return;
+      const d = 'M' + r.from[0] + ' ' + r.from[1] + 'l0 0';
+      svg('path', { class: 'breakpoint-ring', d: d }, dots);
+      svg('path', { class: 'breakpoint-dot', d: d }, dots);
+    });
+    const marks = svg('g', { id: 'marks' }, inner);
+    const outline = svg('rect', { class: 'outline', id: 'selected-outline', x: 0, y: 0, width: 0, height: 0 }, marks);
+    const matchLayer = svg('g', { id: 'search-matches' }, marks);
+    function describe(r, body) {
+      html('h3', {}, 'piece ' + r.id + ' of the walk', body);
+      if (!map.has_details) { html('p', { class: 'note' }, 'shapes only (--detail-limit)', body); return; }
+      const slope = r.map.A[0][0], intercept = r.map.c[0];
+      detailList(body, [
+        ['pattern', exactWithDecimal(r.pattern, null, 'pattern'), 'detail-pattern'],
+        ['interval', exactWithDecimal('[' + r.x_low + ', ' + r.x_high + ']', [r.from[0], r.to[0]]), 'detail-interval'],
+        ['slope', exactWithDecimal(slope, r.map.A_double[0][0]), 'detail-slope'],
+        ['intercept', exactWithDecimal(intercept, r.map.c_double[0]), 'detail-intercept'],
+        ['values at the ends', exactWithDecimal(exactList([r.value_low, r.value_high]), [r.from[1], r.to[1]])],
+        ['interior point', exactWithDecimal(r.point[0], r.point_double[0]), 'detail-point'],
+        ['rank rows', rankText(r, outputs, 1), 'detail-rank'],
+        ['bounded', r.bounded ? 'yes (in R)' : 'no (in R)']
+      ]);
+    }
+    function outlineOf(index) {
+      const band = bands.children[index];
+      if (index < 0) { outline.setAttribute('width', 0); return; }
+      for (const key of ['x', 'y', 'width', 'height']) outline.setAttribute(key, band.getAttribute(key));
+    }
+    const browser = RegionBrowser(side, regions, map, describe, outlineOf);
+    searchForm(controls, regions, map, browser, function (matches) {
+      while (matchLayer.firstChild) matchLayer.removeChild(matchLayer.firstChild);
+      matches.forEach(function (index) {
+        const band = bands.children[index];
+        const mark = svg('rect', { class: 'match' }, matchLayer);
+        for (const key of ['x', 'y', 'width', 'height']) mark.setAttribute(key, band.getAttribute(key));
+      });
+    });
+    function indexOf(target) { return target && target.classList && target.classList.contains('band') ? Number(target.getAttribute('data-index')) : -1; }
+    if (map.has_details) {
+      bands.addEventListener('pointerover', function (event) { if (!frame.isDragging()) browser.hover(indexOf(event.target)); });
+      frame.root.addEventListener('pointerleave', function () { browser.hover(-1); });
+      bands.addEventListener('click', function (event) { if (!frame.justDragged) browser.select(indexOf(event.target)); });
+    }
+    keyboard(frame, browser.step);
+    frame.apply();
+    api.frame = frame;
+    api.toClient = frame.toClient;
+    api.browser = browser;
+  }
+
+  // ---- a survey: the histogram --------------------------------------------------
+  function surveyView() {
+    const survey = data.survey;
+    const summary = survey.summary;
+    const values = Object.keys(summary.histogram).map(Number);
+    const layout = html('div', { class: 'explore' }, null, explore);
+    const figure = html('div', { class: 'figure' }, null, layout);
+    const side = html('div', { class: 'side' }, null, layout);
+    html('h2', {}, 'Certified functional dimension', figure);
+    if (values.length === 0) { html('p', { class: 'note' }, 'No certified sample yet.', figure); return; }
+    let lo = Math.min.apply(null, values), hi = Math.max.apply(null, values);
+    if (summary.scaling_bound !== null) { lo = Math.min(lo, summary.scaling_bound); hi = Math.max(hi, summary.scaling_bound); }
+    let most = 0;
+    values.forEach(function (v) { most = Math.max(most, summary.histogram[v]); });
+    const bins = hi - lo + 1;
+    const left = 24, top = 44, W = 600, H = 260, bottom = 70;
+    const root = svg('svg', { class: 'plot', id: 'histogram', viewBox: '0 0 ' + (left + W + 24) + ' ' + (top + H + bottom), style: 'max-width: ' + (left + W + 24) * 1.25 + 'px',
+      role: 'group', 'aria-label': 'histogram of the certified values; Tab to a bar for its samples' }, figure);
+    const binWidth = W / bins;
+    const barLayer = svg('g', { id: 'bars' }, root);
+    const details = html('section', { class: 'details', id: 'details', 'aria-live': 'polite' }, null, side);
+    html('h2', {}, 'Samples', details);
+    const body = html('div', { id: 'details-body' }, null, details);
+    html('p', { class: 'hint' }, 'Point at a bar (or Tab to it) to list its samples.', body);
+    function show(value) {
+      while (body.firstChild) body.removeChild(body.firstChild);
+      const samples = survey.samples_by_value[String(value)] || [];
+      html('h3', {}, 'functional dimension ' + value, body);
+      detailList(body, [['certified samples', String(samples.length), 'detail-count'],
+        ['sample indices', samples.length ? samples.join(', ') : 'none', 'detail-samples']]);
+      html('p', { class: 'note' }, 'Sample i is pleat random --arch ' + summary.arch.join(',') + ' --seed ' + summary.seed + ' --sample i.', body);
+    }
+    const showLabels = bins <= 40;
+    for (let v = lo; v <= hi; ++v) {
+      const count = summary.histogram[v] || 0;
+      const height = most ? H * count / most : 0;
+      const x = left + (v - lo) * binWidth;
+      const bar = svg('rect', { class: 'bar', x: x + 0.5, width: Math.max(binWidth - 1, 0.5), y: top + H - height, height: height,
+        fill: survey.bar_colour, 'data-value': v, 'data-count': count, tabindex: count ? '0' : '-1',
+        'aria-label': 'value ' + v + ': ' + count + ' samples' }, barLayer);
+      bar.addEventListener('pointerover', function () { show(v); });
+      bar.addEventListener('focus', function () { show(v); });
+      if (count && (showLabels || count * 4 >= most))
+        svg('text', { class: 'bar-count', x: x + binWidth / 2, y: top + H - height - 4 }, root).textContent = String(count);
+    }
+    if (summary.scaling_bound !== null) {
+      // A thin ink rule at the bound's right edge, its value in italics (as pleat survey plot).
+      const x = left + (summary.scaling_bound - lo + 1) * binWidth;
+      svg('line', { class: 'bound-rule', x1: x, x2: x, y1: top - 30, y2: top + H }, root);
+      svg('text', { class: 'bound-label', x: x - 5, y: top - 20, 'text-anchor': 'end' }, root).textContent = 'scaling bound ' + summary.scaling_bound;
+    }
+    const axisY = top + H + 7;
+    const ticks = niceTicks(lo, hi).filter(function (t) { return Number.isInteger(t); });
+    const centreOf = function (v) { return left + (v - lo + 0.5) * binWidth; };
+    if (ticks.length) svg('line', { class: 'frame', x1: centreOf(ticks[0]), x2: centreOf(ticks[ticks.length - 1]), y1: axisY, y2: axisY }, root);
+    ticks.forEach(function (t) {
+      svg('line', { class: 'frame', x1: centreOf(t), x2: centreOf(t), y1: axisY, y2: axisY - 4 }, root);
+      svg('text', { x: centreOf(t), y: axisY + 14, 'text-anchor': 'middle' }, root).textContent = String(t);
+    });
+    svg('text', { x: left + W, y: axisY + 32, 'text-anchor': 'end', fill: '#1f1d2b' }, root).textContent = 'functional dimension \u2192';
+    const domain = typeof summary.domain === 'string' ? summary.domain : 'a box or polytope';
+    svg('text', { x: left, y: axisY + 54 }, root).textContent = summary.arch.join(',') + ', ' + summary.certified +
+      ' samples certified, init ' + summary.init + ', seed ' + summary.seed + ', domain ' + domain;
+    api.bars = barLayer;
+  }
+
+  if (data.kind === 'plane' || data.kind === 'slice') planeView();
+  else if (data.kind === 'line') lineView();
+  else if (data.kind === 'survey') surveyView();
+  document.documentElement.setAttribute('data-ready', 'true');
+})();
