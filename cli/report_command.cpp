@@ -13,6 +13,7 @@
 #include "cli/report_page.hpp"
 #include "cli/signals.hpp"
 #include "cli/survey_file.hpp"
+#include "core/network_io.hpp"
 #include "core/stop.hpp"
 #include "enumerate/claim.hpp"
 #include "enumerate/functional_dimension.hpp"
@@ -198,7 +199,7 @@ void write_page(const ReportArguments& arguments, const std::string& title, cons
 }
 
 int report_network(const ReportArguments& arguments, const std::atomic<bool>& interrupt) {
-  const Network network = load_network(arguments.input_path);
+  const Network network = read_network_any(arguments.input_path);
   const std::size_t dim = network.input_dim;
   if (dim < 1 || dim > 3)
     throw input_error("report: the network has " + std::to_string(dim) +

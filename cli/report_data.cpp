@@ -87,7 +87,7 @@ Json bent_hyperplane_pieces(const Network& network, const PlanarComplex& complex
   }
   Json out = Json::array();
   for (const auto& piece : pieces)
-    out.push_back({{"layer", layer_of_neuron(network, piece.neurons.front())},
+    out.push_back({{"layer", network.layer_of_neuron(piece.neurons.front())},
                    {"neurons", piece.neurons},
                    {"from", drawn_point(piece.from)},
                    {"to", drawn_point(piece.to)}});
