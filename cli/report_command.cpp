@@ -13,6 +13,7 @@
 #include "cli/report_page.hpp"
 #include "cli/signals.hpp"
 #include "cli/survey_file.hpp"
+#include "cli/walk_options.hpp"
 #include "core/network_io.hpp"
 #include "core/stop.hpp"
 #include "enumerate/claim.hpp"
@@ -28,14 +29,16 @@
 namespace pleat::cli {
 namespace {
 
+// More slices than this is a mistake (each is a walk and a map in the page).
+constexpr std::size_t max_slices = 64;
+
 struct ReportArguments {
   std::string input_path;
   std::string output_path;
   DomainOptions domain;
   std::string slice_text;
-  double time_limit = 0;
+  WalkLimitOptions limits;  // the time limit stops certify only
   std::uint64_t detail_limit = report_detail_limit;
-  std::uint64_t threads = 0;
   bool quiet = false;
 };
 
@@ -64,7 +67,7 @@ Walked walk(const Network& network, const Domain& domain, const ReportArguments&
   Walked walked;
   ProgressLine progress(arguments.quiet);
   WalkOptions options;
-  options.threads = static_cast<unsigned>(arguments.threads);
+  options.threads = static_cast<unsigned>(arguments.limits.threads);
   options.interrupt = &interrupt;
   options.on_region = [&](const Region& region) {
     if (keep) walked.regions.push_back(region);
@@ -85,9 +88,7 @@ FunctionalDimensionResult certify(const Network& network, const Domain& domain, 
                                   const std::atomic<bool>& interrupt) {
   ProgressLine progress(arguments.quiet);
   FunctionalDimensionOptions options;
-  options.walk.threads = static_cast<unsigned>(arguments.threads);
-  options.walk.interrupt = &interrupt;
-  options.walk.time_limit_seconds = arguments.time_limit;
+  apply_walk_limits(arguments.limits, interrupt, options.walk);
   options.walk.on_progress = [&](const WalkProgress& state) {
     progress.update("certify: " + std::to_string(state.regions) + " regions walked");
   };
@@ -156,7 +157,9 @@ void add_certify_rows(const Network& network, const FunctionalDimensionResult& r
                                                   : std::to_string(result.extra_kernel.size()) + " beyond the scaling ones:";
   for (std::size_t i = 0; i < groups.size(); ++i)
     extra += (i ? ";" : "") + std::string(" ") + (groups[i].mechanism.empty() ? "no recognised mechanism" : groups[i].mechanism) +
-             (groups[i].neurons.empty() ? "" : " (neurons " + neuron_list(groups[i].neurons) + ")") + ": " +
+             (groups[i].neurons.empty() ? ""
+                                        : std::string(groups[i].neurons.size() == 1 ? " (neuron " : " (neurons ") +
+                                              neuron_list(groups[i].neurons) + ")") + ": " +
              count_of(groups[i].directions, "direction");
   if (const auto limit = region_limit(network, result))
     extra += "; too few regions: " + std::to_string(limit->smooth_regions) + " smooth regions of " +
@@ -178,19 +181,25 @@ void add_walk_rows(const WalkSummary& summary, const std::string& domain_text, s
   rows.push_back({"non-smooth regions", nonsmooth + (summary.nonsmooth_regions.empty() ? "" : " (a neuron identically zero with a nonzero backward signal)")});
 }
 
-// "x3=1/2" or "3=1/2" for --slice; the default is the last axis at the
-// domain centre's coordinate.
-std::pair<std::size_t, Rational> parse_slice(const std::string& text, const Domain& domain) {
-  if (text.empty()) return {domain.dim - 1, domain_centre(domain)[domain.dim - 1]};
+// "x3=1/2", "3=1/2" or "x3=-1/2,0,1/2" (several slices) for --slice; the
+// default is the last axis at the domain centre's coordinate.
+struct SliceChoice {
+  std::size_t axis = 0;
+  RationalVector values;
+};
+SliceChoice parse_slice(const std::string& text, const Domain& domain) {
+  if (text.empty()) return {domain.dim - 1, {domain_centre(domain)[domain.dim - 1]}};
   const std::size_t equals = text.find('=');
-  const std::string usage = "--slice: expected AXIS=VALUE such as x3=0 or x1=-1/2, found '" + text + "'";
+  const std::string usage = "--slice: expected AXIS=VALUE[,VALUE...] such as x3=0 or x1=-1/2,0,1/2, found '" + text + "'";
   if (equals == std::string::npos) throw input_error(usage);
   std::string axis_text = text.substr(0, equals);
   if (!axis_text.empty() && axis_text[0] == 'x') axis_text = axis_text.substr(1);
   const std::uint64_t axis = parse_unsigned(axis_text, "--slice");
   if (axis < 1 || axis > domain.dim) throw input_error("--slice: the axis must be x1 to x" + std::to_string(domain.dim));
-  const RationalVector value = parse_point(text.substr(equals + 1), 1, "--slice");
-  return {static_cast<std::size_t>(axis - 1), value[0]};
+  RationalVector values = parse_number_list(text.substr(equals + 1), "--slice");
+  if (values.empty() || values.size() > max_slices)
+    throw input_error("--slice: give 1 to " + std::to_string(max_slices) + " values, found " + std::to_string(values.size()));
+  return {static_cast<std::size_t>(axis - 1), std::move(values)};
 }
 
 void write_page(const ReportArguments& arguments, const std::string& title, const std::vector<SummaryRow>& rows,
@@ -223,27 +232,32 @@ int report_network(const ReportArguments& arguments, const std::atomic<bool>& in
   std::size_t shown = 0;
   bool has_details = true;
   if (dim == 3) {
-    const auto [axis, value] = *slice;
-    const Network plane_network = restrict_to_slice(network, axis, value);
-    const Domain plane_domain = slice_domain(domain, axis, value);
-    const Walked section = walk(plane_network, plane_domain, arguments, true, interrupt, "slice walk");
-    const ChosenView chosen = choose_view(plane_domain, section.regions);
+    const std::size_t axis = slice->axis;
     data["kind"] = "slice";
-    data["slice"] = {{"axis", axis}, {"value", format_rational(value)}, {"value_double", to_double(value)},
-                     {"regions", section.summary.regions}};
-    data["map"] = plane_map_json(plane_network, section.regions, chosen.view,
-                                 plane_domain.kind != Domain::Kind::whole_space, network, arguments.detail_limit);
+    data["slices"] = Json::array();
+    std::string counts;
+    for (const Rational& value : slice->values) {
+      const Network plane_network = restrict_to_slice(network, axis, value);
+      const Domain plane_domain = slice_domain(domain, axis, value);
+      const Walked section = walk(plane_network, plane_domain, arguments, true, interrupt, "slice walk");
+      const ChosenView chosen = choose_view(plane_domain, section.regions);
+      Json map = plane_map_json(plane_network, section.regions, chosen.view,
+                                plane_domain.kind != Domain::Kind::whole_space, network, arguments.detail_limit);
+      const std::size_t in_view = map["regions_shown"].get<std::size_t>();
+      shown += in_view;
+      has_details = has_details && map["has_details"].get<bool>();
+      counts += (counts.empty() ? "" : "; ") + format_rational(value) + ": " + count_of(section.summary.regions, "region") +
+                (in_view < section.summary.regions ? " (" + std::to_string(section.summary.regions - in_view) + " outside the view " + view_text(chosen.view) + ")" : "");
+      data["slices"].push_back({{"axis", axis}, {"value", format_rational(value)}, {"value_double", to_double(value)},
+                                {"regions", section.summary.regions}, {"map", std::move(map)}});
+    }
     std::vector<std::string> names;
     for (std::size_t i = 0; i < 3; ++i)
       if (i != axis) names.push_back("x" + std::to_string(i + 1));
     data["axes"] = names;
-    rows.push_back({"slice", "x" + std::to_string(axis + 1) + " = " + format_rational(value) + ": " +
-                                 count_of(section.summary.regions, "region") + " of the network meet the plane (an exact 2-D walk of the network restricted to it), view " +
-                                 view_text(chosen.view)});
-    shown = data["map"]["regions_shown"].get<std::size_t>();
-    has_details = data["map"]["has_details"].get<bool>();
-    if (chosen.is_fitted_bulk && shown < section.summary.regions)
-      rows.push_back({"outside the view", count_of(section.summary.regions - shown, "region") + " of the slice"});
+    rows.push_back({slice->values.size() == 1 ? "slice" : "slices",
+                    "x" + std::to_string(axis + 1) + " = " + counts +
+                        " (each an exact 2-D walk of the network restricted to the plane)"});
   } else {
     const ChosenView chosen = choose_view(domain, whole.regions);
     const bool clipped = domain.kind != Domain::Kind::whole_space;
@@ -349,32 +363,33 @@ void register_report(CommandTable& commands) {
       "map (pan and zoom; hover a region for its pattern, exact interior point, exact area,\n"
       "affine map and the rows it adds to the rank; a layer's lines on or off; a neuron's\n"
       "bent hyperplane highlighted; search by pattern); with 1 input the graph (hover a\n"
-      "piece for its exact slope and intercept); with 3 inputs the exact 2-D slice at\n"
-      "--slice (the network restricted to that plane, walked as a 2-input network). For a\n"
+      "piece for its exact slope and intercept); with 3 inputs the exact 2-D slices at\n"
+      "--slice (the network restricted to each plane, walked as a 2-input network; a slider\n"
+      "picks the slice). For a\n"
       "survey file (pleat survey -o): the histogram with exact mean, variance, modes and the\n"
       "fraction at the scaling bound; hovering a bar lists its samples. Above 20000 regions\n"
       "(--detail-limit) the page embeds shapes only (counts stay exact). The embedded JSON:\n"
       "docs/formats.md.\n\n"
       "Examples:\n"
       "  pleat report data/fold2d.json --box -3,3 -o fold2d.html\n"
-      "  pleat report data/sensor3d.json --box -1,1 --slice x3=1/4 -o sensor.html\n"
+      "  pleat report data/sensor3d.json --box -1,1 --slice x3=-1/2,0,1/2 -o sensor.html\n"
       "  pleat report survey.jsonl -o survey.html",
       [arguments] { return run_report(*arguments); });
-  command.add_option("input", arguments->input_path, "Network file (pleat-network/1) or survey file (pleat-survey/1)")
+  command.add_option("input", arguments->input_path, "Network file (pleat-network/1 JSON or .onnx) or survey file (pleat-survey/1)")
       ->required();
   command.add_option("-o,--out", arguments->output_path, "The HTML file to write")->required()->type_name("FILE.html");
   add_domain_options(command, arguments->domain);
   command.add_option("--slice", arguments->slice_text,
-                     "3 inputs: the plane shown, one input held at a value (x3=0, x1=-1/2); default: the last "
-                     "input at the domain's centre")
-      ->type_name("xK=VALUE");
-  add_seconds_option(command, "--time-limit", arguments->time_limit,
-                     "Stop certify after this many seconds: the page then shows bounds, not a certified value");
+                     "3 inputs: the planes shown, one input held at one or more values (x3=0, x1=-1/2,0,1/2: a "
+                     "slider picks one); default: the last input at the domain's centre")
+      ->type_name("xK=V[,V...]");
   add_unsigned_option(command, "--detail-limit", arguments->detail_limit,
                       "Above this many regions in the view the page holds their shapes only (no hover details, "
                       "no search; the counts stay exact). Default 20000",
                       0, 10000000);
-  add_threads_option(command, arguments->threads, "Worker threads for the walks (default: all cores)");
+  add_walk_limit_options(command, arguments->limits, "Worker threads for the walks (default: all cores)",
+                         "--time-limit",
+                         "Stop certify after this many seconds: the page then shows bounds, not a certified value");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }
 

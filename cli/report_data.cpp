@@ -2,6 +2,8 @@
 #include "cli/report_data.hpp"
 
 #include "cli/region_json.hpp"
+#include "core/jacobian.hpp"
+#include "core/rank.hpp"
 #include "core/stop.hpp"
 #include "enumerate/claim.hpp"
 #include "enumerate/region_geometry.hpp"
@@ -43,15 +45,59 @@ Json affine_json(const AffineMap& map) {
               {"c_double", decimal_list_json(map.offset)}};
 }
 
+// The rows each region adds to the rank when taken first, exactly: its
+// coefficient blocks' rank modulo a prime is a lower bound of the rank over
+// Q (a nonsingular minor mod p is nonsingular over Q), so when it reaches the
+// block's row count it is the rank; otherwise the exact rank decides
+// (rank_contribution). Far faster than exact ranks of every block, whose
+// rational entries are costly for wide networks.
+std::vector<std::size_t> rows_when_taken_first(const Network& network, const std::vector<const Region*>& regions) {
+  const ModularNetwork modular = reduce_modulo_some_prime(network, primary_prime());
+  std::vector<std::size_t> rows(regions.size(), 0);
+  for (std::size_t i = 0; i < regions.size(); ++i) {
+    poll_stop();
+    if (!regions[i]->nonsmooth_neurons.empty()) {
+      rows[i] = rank_contribution(network, regions[i]->pattern);
+      continue;
+    }
+    const ModularMatrix block = coefficient_blocks_mod(modular, regions[i]->pattern);
+    ModularRowBasis basis(modular.prime, network.parametric_dimension());
+    for (std::size_t r = 0; r < block.rows(); ++r) rows[i] += basis.add_row(block.row(r)) ? 1 : 0;
+    if (rows[i] < block.rows()) rows[i] = rank_contribution(network, regions[i]->pattern);
+  }
+  return rows;
+}
+
+// Whether the rows each region adds in walk order are worth counting: one
+// growing basis mod p costs about rows x D x rank, minutes for a few
+// thousand regions of a network with thousands of parameters. Above the
+// budget the page leaves that number out (rows_first is always there).
+bool is_new_rows_affordable(const Network& network, std::size_t regions) {
+  const double rows = static_cast<double>(regions) * static_cast<double>(network.output_dim() * (network.input_dim + 1));
+  const double columns = static_cast<double>(network.parametric_dimension());
+  return rows * columns * std::min(rows, columns) <= 2e10;
+}
+
+std::vector<std::optional<std::size_t>> new_rows_if_affordable(const Network& network,
+                                                               const std::vector<const Region*>& regions) {
+  std::vector<std::optional<std::size_t>> out(regions.size());
+  if (!is_new_rows_affordable(network, regions.size())) return out;
+  const std::vector<std::size_t> rows = new_rows_in_walk_order(network, regions);
+  for (std::size_t i = 0; i < rows.size(); ++i) out[i] = rows[i];
+  return out;
+}
+
+Json optional_count(const std::optional<std::size_t>& value) { return value ? Json(*value) : Json(nullptr); }
+
 // The fields every region carries when the page shows its details.
 void add_region_details(const Network& network, const Region& region, Json& out,
-                        const Network& rows_network) {
+                        std::size_t rows_first) {
   out["pattern"] = format_pattern(network, region.pattern);
   out["point"] = rational_list_json(region.point);
   out["point_double"] = decimal_list_json(region.point);
   out["bounded"] = region.bounded;
   out["map"] = affine_json(region.affine);
-  out["rows_first"] = rank_contribution(rows_network, region.pattern);
+  out["rows_first"] = rows_first;
   out["nonsmooth_neurons"] = region.nonsmooth_neurons;
 }
 
@@ -178,8 +224,10 @@ Json plane_map_json(const Network& network, const std::vector<Region>& regions, 
     }
   const std::vector<std::size_t> colour = smallest_last_colouring(adjacent);
   const bool has_details = shown.size() <= detail_limit;
-  const std::vector<std::size_t> new_rows = has_details ? new_rows_in_walk_order(rows_network, shown)
-                                                        : std::vector<std::size_t>(shown.size(), 0);
+  const std::vector<std::optional<std::size_t>> new_rows =
+      has_details ? new_rows_if_affordable(rows_network, shown) : std::vector<std::optional<std::size_t>>(shown.size());
+  const std::vector<std::size_t> first_rows = has_details ? rows_when_taken_first(rows_network, shown)
+                                                          : std::vector<std::size_t>(shown.size(), 0);
   std::vector<std::string> colours = categorical_palette();
   const std::size_t used = colour.empty() ? 0 : *std::max_element(colour.begin(), colour.end()) + 1;
   for (std::size_t extra = colours.size(); extra < used; ++extra)
@@ -192,11 +240,11 @@ Json plane_map_json(const Network& network, const std::vector<Region>& regions, 
     for (const auto& p : polygons[i].vertices) polygon.push_back(drawn_point(p));
     Json item{{"id", shown[i]->id}, {"colour", colour[i]}, {"polygon", std::move(polygon)}};
     if (has_details) {
-      add_region_details(network, *shown[i], item, rows_network);
+      add_region_details(network, *shown[i], item, first_rows[i]);
       const Rational area = polygon_area(polygons[i]);
       item["area"] = format_rational(area);
       item["area_double"] = to_double(area);
-      item["rows_new"] = new_rows[i];
+      item["rows_new"] = optional_count(new_rows[i]);
     }
     items.push_back(std::move(item));
   }
@@ -233,8 +281,10 @@ Json line_graph_json(const Network& network, const std::vector<Region>& regions,
   const bool has_details = pieces.size() <= detail_limit;
   std::vector<const Region*> shown;
   for (const auto& piece : pieces) shown.push_back(piece.region);
-  const std::vector<std::size_t> new_rows = has_details ? new_rows_in_walk_order(network, shown)
-                                                        : std::vector<std::size_t>(shown.size(), 0);
+  const std::vector<std::optional<std::size_t>> new_rows =
+      has_details ? new_rows_if_affordable(network, shown) : std::vector<std::optional<std::size_t>>(shown.size());
+  const std::vector<std::size_t> first_rows = has_details ? rows_when_taken_first(network, shown)
+                                                          : std::vector<std::size_t>(shown.size(), 0);
   Json items = Json::array();
   for (std::size_t i = 0; i < pieces.size(); ++i) {
     const Piece& piece = pieces[i];
@@ -246,14 +296,14 @@ Json line_graph_json(const Network& network, const std::vector<Region>& regions,
               {"from", {drawn(piece.low), drawn(left)}},
               {"to", {drawn(piece.high), drawn(right)}}};
     if (has_details) {
-      add_region_details(network, *piece.region, item, network);
+      add_region_details(network, *piece.region, item, first_rows[i]);
       item["x_low"] = format_rational(piece.low);
       item["x_high"] = format_rational(piece.high);
       item["value_low"] = format_rational(left);
       item["value_high"] = format_rational(right);
       item["length"] = format_rational(piece.high - piece.low);
       item["length_double"] = to_double(piece.high - piece.low);
-      item["rows_new"] = new_rows[i];
+      item["rows_new"] = optional_count(new_rows[i]);
     }
     items.push_back(std::move(item));
   }

@@ -319,20 +319,23 @@
 
   function rankText(region, outputs, inputs) {
     return 'adds ' + region.rows_first + ' independent rows when taken first (of at most ' + outputs * (inputs + 1) +
-      '); ' + region.rows_new + ' new in walk order' + (region.nonsmooth_neurons.length ? '; no smooth points' : '');
+      ')' + (region.rows_new === null ? '' : '; ' + region.rows_new + ' new in walk order') +
+      (region.nonsmooth_neurons.length ? '; no smooth points' : '');
   }
   function architecture() { return data.network.architecture; }
 
   // ---- two inputs (and a 3-input slice): the region map ---------------------
-  function planeView() {
-    const map = data.map;
+  // map: a plane map (data.map, or one of data.slices' maps); parent: where
+  // to draw it (emptied first, so a slice can replace another).
+  function planeView(map, slice, parent) {
+    while (parent.firstChild) parent.removeChild(parent.firstChild);
     const regions = map.regions;
     const names = data.axes;
     const view = { x0: map.view.lower_double[0], x1: map.view.upper_double[0], y0: map.view.lower_double[1], y1: map.view.upper_double[1] };
-    const layout = html('div', { class: 'explore' }, null, explore);
+    const layout = html('div', { class: 'explore' }, null, parent);
     const figure = html('div', { class: 'figure' }, null, layout);
     const side = html('div', { class: 'side' }, null, layout);
-    html('h2', {}, data.kind === 'slice' ? 'The slice x' + (data.slice.axis + 1) + ' = ' + data.slice.value : 'Region map', figure);
+    html('h2', {}, slice ? 'The slice x' + (slice.axis + 1) + ' = ' + slice.value + ' (' + slice.regions + ' regions)' : 'Region map', figure);
     const controls = html('div', { class: 'controls' }, null, figure);
     const frame = PlotFrame(figure, view, names,
       'region map: arrow keys pan, + and - zoom, 0 resets, n and p step through the regions');
@@ -602,7 +605,32 @@
     api.bars = barLayer;
   }
 
-  if (data.kind === 'plane' || data.kind === 'slice') planeView();
+  // Several slices: a slider picks the one shown (each computed exactly by pleat).
+  function sliceViewer() {
+    const slices = data.slices;
+    const chooser = html('div', { class: 'controls', id: 'slice-chooser' }, null, explore);
+    const holder = html('div', { id: 'slice-view' }, null, explore);
+    const axis = 'x' + (slices[0].axis + 1);
+    if (slices.length > 1) {
+      html('label', { for: 'slice-index' }, 'slice ' + axis + ' =', chooser);
+      const slider = html('input', { type: 'range', id: 'slice-index', min: 0, max: slices.length - 1, step: 1, value: 0,
+        'aria-valuetext': slices[0].value }, null, chooser);
+      const shown = html('output', { for: 'slice-index', id: 'slice-value', class: 'exact' }, slices[0].value, chooser);
+      html('span', { class: 'note' }, slices.length + ' slices, each an exact 2-D walk', chooser);
+      slider.addEventListener('input', function () {
+        const k = Number(slider.value);
+        shown.textContent = slices[k].value;
+        slider.setAttribute('aria-valuetext', slices[k].value);
+        api.slice = k;
+        planeView(slices[k].map, slices[k], holder);
+      });
+    }
+    api.slice = 0;
+    planeView(slices[0].map, slices[0], holder);
+  }
+
+  if (data.kind === 'plane') planeView(data.map, null, explore);
+  else if (data.kind === 'slice') sliceViewer();
   else if (data.kind === 'line') lineView();
   else if (data.kind === 'survey') surveyView();
   document.documentElement.setAttribute('data-ready', 'true');

@@ -91,7 +91,7 @@ done
 
 # A 3-input slice is the 2-input network with x3 fixed (built here from the
 # network's JSON, not by pleat's slice code): the same regions and maps.
-"$pleat" report "$sensor" --box -1,1 --slice x3=1/4 -o "$work/sensor.html" -q > /dev/null || fail "slice report failed"
+"$pleat" report "$sensor" --box -1,1 --slice x3=-1/2,1/4 -o "$work/sensor.html" -q > /dev/null || fail "slice report failed"
 page_data "$work/sensor.html" > "$work/sensor.json"
 /usr/bin/python3 - "$sensor" "$work/slice_net.json" <<'PY' || fail "could not build the slice network"
 import json, sys
@@ -110,8 +110,10 @@ from fractions import Fraction as F
 data = json.load(open(sys.argv[1]))
 lines = open(sys.argv[2]).read().splitlines()
 walk = {r["pattern"]: r for r in map(json.loads, lines[1:])}
-assert data["kind"] == "slice" and data["slice"]["axis"] == 2 and data["slice"]["value"] == "1/4"
-regions = data["map"]["regions"]
+assert data["kind"] == "slice" and [(c["axis"], c["value"]) for c in data["slices"]] == [(2, "-1/2"), (2, "1/4")]
+cut = data["slices"][1]
+regions = cut["map"]["regions"]
+assert cut["regions"] == len(regions) == len(walk)
 assert {r["pattern"] for r in regions} == set(walk), "patterns differ"
 for r in regions:
     assert r["map"]["A"] == walk[r["pattern"]]["affine"]["A"] and r["map"]["c"] == walk[r["pattern"]]["affine"]["c"]

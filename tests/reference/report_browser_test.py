@@ -150,7 +150,7 @@ survey_page = os.path.join(work, "survey.html")
 survey_file = os.path.join(work, "survey.jsonl")
 run("report", fold, "--box", "-3,3", "-o", plane_page, "-q")
 run("report", ramp, "--box", "-2,3", "-o", line_page, "-q")
-run("report", sensor, "--box", "-1,1", "--slice", "x3=1/4", "-o", slice_page, "-q")
+run("report", sensor, "--box", "-1,1", "--slice", "x3=-1/2,1/4", "-o", slice_page, "-q")
 run("survey", "--arch", "2,3,3,1", "--samples", "12", "--seed", "3", "-o", survey_file, "-q")
 run("report", survey_file, "-o", survey_page)
 
@@ -217,8 +217,42 @@ try:
     time.sleep(0.05)
     matches = len(driver.find_elements(By.CSS_SELECTOR, "#search-matches polygon"))
     check(matches == expected, "fold2d: wildcard %s marks %d regions, fnmatch finds %d" % (wildcard, matches, expected))
+    # Keyboard: the map takes focus; n steps to the first region, n again to the next.
+    driver.execute_script("document.getElementById('plot').focus()")
+    check(driver.execute_script("return document.activeElement.id") == "plot", "fold2d: the map cannot take focus")
+    driver.execute_script("pleatReport.browser.selected = -1")
+    ActionChains(driver).send_keys("n").perform()
+    check(driver.find_element(By.ID, "detail-pattern").text == regions[0]["pattern"], "fold2d: key n does not show region 0")
+    ActionChains(driver).send_keys("n").perform()
+    check(driver.find_element(By.ID, "detail-pattern").text == regions[1]["pattern"], "fold2d: key n twice does not show region 1")
+    # Tab order reaches the zoom buttons, the search box, the map and the layer toggles.
+    driver.execute_script("document.activeElement.blur(); window.scrollTo(0, 0)")
+    reached = set()
+    for _ in range(40):
+        ActionChains(driver).send_keys(Keys.TAB).perform()
+        reached.add(driver.execute_script("return document.activeElement.id"))
+    for wanted in ("zoom-in", "pattern-search", "plot", "toggle-layer-1"):
+        check(wanted in reached, "fold2d: Tab never reaches #%s (reached %s)" % (wanted, sorted(reached)))
     driver.find_element(By.ID, "zoom-in").click()
     driver.save_screenshot(os.path.join(shots, "fold2d.png"))
+    # Print: the controls go, the summary and the map stay.
+    driver.execute_cdp_cmd("Emulation.setEmulatedMedia", {"media": "print"})
+    check(not driver.find_element(By.CSS_SELECTOR, ".controls").is_displayed(), "fold2d: print view shows the controls")
+    check(not driver.find_element(By.ID, "layer-toggles").is_displayed(), "fold2d: print view shows the toggles")
+    check(driver.find_element(By.ID, "plot").is_displayed() and driver.find_element(By.ID, "summary").is_displayed(),
+          "fold2d: print view lost the map or the summary")
+    driver.execute_cdp_cmd("Emulation.setEmulatedMedia", {"media": ""})
+    # 200% zoom: a 1400 px window at device scale 2 is 700 CSS px wide; nothing may
+    # overflow sideways and the side panel moves under the map.
+    driver.execute_cdp_cmd("Emulation.setDeviceMetricsOverride",
+                           {"width": 700, "height": 900, "deviceScaleFactor": 2, "mobile": False})
+    wide = driver.execute_script("return [document.documentElement.scrollWidth, document.documentElement.clientWidth]")
+    check(wide[0] <= wide[1] + 1, "fold2d: at 200%% zoom the page is %d px wide in a %d px window" % tuple(wide))
+    tops = driver.execute_script("return [document.querySelector('.figure').getBoundingClientRect().bottom, "
+                                 "document.querySelector('.side').getBoundingClientRect().top]")
+    check(tops[1] >= tops[0] - 1, "fold2d: at 200%% zoom the side panel does not move under the map")
+    driver.save_screenshot(os.path.join(shots, "fold2d-zoom200.png"))
+    driver.execute_cdp_cmd("Emulation.clearDeviceMetricsOverride", {})
     check_quiet(driver, plane_page, url)
 
     # ---- 1 input ----------------------------------------------------------------
@@ -237,10 +271,13 @@ try:
     driver.save_screenshot(os.path.join(shots, "ramp1d.png"))
     check_quiet(driver, line_page, url)
 
-    # ---- 3 inputs: the slice x3 = 1/4 -----------------------------------------------
+    # ---- 3 inputs: the slices x3 = -1/2 and 1/4, the second picked by the slider ----------
     url = open_page(driver, slice_page)
     data = embedded(slice_page)
-    for region in widest(data["map"]["regions"], 3):
+    slider = driver.find_element(By.ID, "slice-index")
+    slider.send_keys(Keys.ARROW_RIGHT)
+    check(driver.find_element(By.ID, "slice-value").text == "1/4", "sensor3d: the slider does not reach x3 = 1/4")
+    for region in widest(data["slices"][1]["map"]["regions"], 3):
         shown = hover(driver, *region["point_double"])
         check(shown == region["pattern"], "sensor3d slice: pointing shows %r, not %r" % (shown, region["pattern"]))
         point3 = ",".join(region["point"] + ["1/4"])
