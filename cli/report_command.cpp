@@ -314,7 +314,7 @@ std::vector<SummaryRow> survey_rows(const SurveyRecord& record, const SurveySumm
   rows.push_back({"at the scaling bound", std::to_string(summary.at_scaling_bound) + " of " +
                                               std::to_string(summary.certified) + " certified samples" +
                                               (summary.at_scaling_bound_fraction
-                                                   ? " (" + format_rational_readable(*summary.at_scaling_bound_fraction) + ")"
+                                                   ? ": " + format_rational_readable(*summary.at_scaling_bound_fraction)
                                                    : std::string())});
   return rows;
 }
@@ -329,6 +329,7 @@ int report_survey(const ReportArguments& arguments) {
   data["format"] = "pleat-report/1";
   data["kind"] = "survey";
   data["survey"] = survey_report_json(record, summary);
+  data["survey"]["domain_text"] = configuration_from_header(record.header, record.source).domain.describe();
   std::vector<SummaryRow> rows = survey_rows(record, summary);
   data["summary"] = Json::array();
   for (const auto& row : rows) data["summary"].push_back({{"label", row.label}, {"text", row.text}});

@@ -114,6 +114,61 @@ Evaluation evaluate_exact(const Network& network, const RationalVector& x) {
   return result;
 }
 
+IntegerPatternEvaluator::IntegerPatternEvaluator(const Network& network) : input_dim_(network.input_dim) {
+  for (std::size_t k = 0; k < network.depth(); ++k) {
+    const Layer& layer = network.layers[k];
+    check_layer_shape(layer, k);
+    IntegerLayer out;
+    out.rows = layer.weights.rows();
+    out.cols = layer.weights.cols();
+    out.relu = feeds_relu(layer);
+    out.scale = 1;
+    for (std::size_t r = 0; r < out.rows; ++r) {
+      for (std::size_t c = 0; c < out.cols; ++c)
+        mpz_lcm(out.scale.get_mpz_t(), out.scale.get_mpz_t(), layer.weights(r, c).get_den_mpz_t());
+      mpz_lcm(out.scale.get_mpz_t(), out.scale.get_mpz_t(), layer.bias[r].get_den_mpz_t());
+    }
+    for (std::size_t r = 0; r < out.rows; ++r) {
+      for (std::size_t c = 0; c < out.cols; ++c)
+        out.weights.push_back(layer.weights(r, c).get_num() * (out.scale / layer.weights(r, c).get_den()));
+      out.bias.push_back(layer.bias[r].get_num() * (out.scale / layer.bias[r].get_den()));
+    }
+    layers_.push_back(std::move(out));
+  }
+}
+
+ActivationPattern IntegerPatternEvaluator::pattern_at(const RationalVector& x) const {
+  if (x.size() != input_dim_)
+    throw usage_error("IntegerPatternEvaluator::pattern_at: the point has " + std::to_string(x.size()) +
+                      " coordinates, the network " + std::to_string(input_dim_) + " inputs");
+  // x = values / denominator with denominator > 0.
+  Integer denominator = 1;
+  for (const Rational& v : x) mpz_lcm(denominator.get_mpz_t(), denominator.get_mpz_t(), v.get_den_mpz_t());
+  std::vector<Integer> values(x.size()), next;
+  for (std::size_t i = 0; i < x.size(); ++i) values[i] = x[i].get_num() * (denominator / x[i].get_den());
+  ActivationPattern pattern;
+  for (const IntegerLayer& layer : layers_) {
+    poll_stop();
+    if (layer.cols != values.size()) throw usage_error("IntegerPatternEvaluator: layer widths do not chain");
+    next.assign(layer.rows, Integer(0));
+    for (std::size_t r = 0; r < layer.rows; ++r) {
+      mpz_ptr sum = next[r].get_mpz_t();
+      mpz_mul(sum, layer.bias[r].get_mpz_t(), denominator.get_mpz_t());
+      const Integer* row = layer.weights.data() + r * layer.cols;
+      for (std::size_t c = 0; c < layer.cols; ++c)
+        if (sgn(values[c]) != 0) mpz_addmul(sum, row[c].get_mpz_t(), values[c].get_mpz_t());
+      if (layer.relu) {
+        const int sign = mpz_sgn(sum);
+        pattern.states.push_back(sign > 0 ? NeuronState::on : sign < 0 ? NeuronState::off : NeuronState::zero_at_point);
+        if (sign < 0) mpz_set_ui(sum, 0);
+      }
+    }
+    denominator *= layer.scale;
+    values.swap(next);
+  }
+  return pattern;
+}
+
 ActivationPattern pattern_around_point(const Network& network, const RationalVector& x) {
   ActivationPattern pattern = evaluate_exact(network, x).pattern;  // checks x.size()
   // Layer by layer: a zero value is 'z' when the pre-activation's map on the

@@ -72,6 +72,30 @@ Evaluation evaluate_exact(const Network& network, const RationalVector& x);
 // input_dim (throws usage_error). Exact.
 ActivationPattern pattern_around_point(const Network& network, const RationalVector& x);
 
+// evaluate_exact's pattern in fraction-free integers, for many points of one
+// network: each layer's weights and bias are scaled once by the lcm L_k of
+// their denominators; a point's coordinates share one denominator; then a
+// layer's pre-activation is (W' A + b' d) / (L_k d) with integer A and d > 0,
+// so its sign is the sign of an integer sum (no gcds, no fractions). Exact:
+// the same pattern as evaluate_exact(network, x).pattern, '=' included.
+class IntegerPatternEvaluator {
+ public:
+  explicit IntegerPatternEvaluator(const Network& network);
+  // Precondition: x.size() == the network's input_dim (throws usage_error).
+  ActivationPattern pattern_at(const RationalVector& x) const;
+
+ private:
+  struct IntegerLayer {
+    std::size_t rows = 0, cols = 0;
+    std::vector<Integer> weights;  // row-major, L_k W_k
+    std::vector<Integer> bias;     // L_k b_k
+    Integer scale;                 // L_k
+    bool relu = true;
+  };
+  std::size_t input_dim_ = 0;
+  std::vector<IntegerLayer> layers_;
+};
+
 // The network's parameters rounded to double once, for repeated double passes.
 struct DoubleNetwork {
   std::size_t input_dim = 0;

@@ -624,8 +624,9 @@ struct PointRegion {
   ActivationPattern pattern;
 };
 
-PointRegion region_of_point(const Network& network, const RationalVector& x) {
-  ActivationPattern pattern = evaluate_exact(network, x).pattern;
+PointRegion region_of_point(const Network& network, const IntegerPatternEvaluator& evaluator,
+                            const RationalVector& x) {
+  ActivationPattern pattern = evaluator.pattern_at(x);  // evaluate_exact's pattern, in integers
   if (has_zero_at_point(pattern)) {
     pattern = pattern_around_point(network, x);  // identically-zero neurons become 'z'
     if (has_zero_at_point(pattern)) return {PointVerdict::on_bent_hyperplane, {}};
@@ -685,6 +686,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   std::set<ActivationPattern> seen_by_points;
   auto rows_from_points = [&] {
     InteriorPointSource source(domain, options.points_seed);
+    const IntegerPatternEvaluator evaluator(network);
     const std::size_t patience = std::max<std::size_t>(64, result.scaling_bound / 2);
     const std::size_t budget = 4 * result.scaling_bound + 256;
     const std::size_t batch = 16 * static_cast<std::size_t>(threads);
@@ -697,12 +699,12 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       std::vector<PointRegion> regions(batch);
       std::vector<ModularMatrix> rows(batch);
       parallel_for(batch, threads, [&](std::size_t i) {
-        regions[i] = region_of_point(network, points[i]);
+        regions[i] = region_of_point(network, evaluator, points[i]);
         for (unsigned attempt = 0; attempt < 8 && regions[i].verdict == PointVerdict::on_bent_hyperplane; ++attempt) {
           // A nudge drawn from the point's own generator: the same for any thread count.
           InteriorPointSource nudges(domain, options.points_seed ^ (0x9e3779b97f4a7c15ull * (result.points_drawn + i + 1)));
           points[i] = nudges.nudge(points[i], attempt);
-          regions[i] = region_of_point(network, points[i]);
+          regions[i] = region_of_point(network, evaluator, points[i]);
         }
         if (regions[i].verdict == PointVerdict::smooth && !seen_by_points.contains(regions[i].pattern))
           rows[i] = coefficient_blocks_mod(modular, regions[i].pattern);

@@ -591,7 +591,9 @@
       svg('text', { class: 'bound-label', x: x - 5, y: top - 20, 'text-anchor': 'end' }, root).textContent = 'scaling bound ' + summary.scaling_bound;
     }
     const axisY = top + H + 7;
-    const ticks = niceTicks(lo, hi).filter(function (t) { return Number.isInteger(t); });
+    // Every value when few (as pleat survey plot), else round ones.
+    const ticks = bins <= 24 ? Array.from({ length: bins }, function (_, k) { return lo + k; })
+      : niceTicks(lo, hi).filter(function (t) { return Number.isInteger(t); });
     const centreOf = function (v) { return left + (v - lo + 0.5) * binWidth; };
     if (ticks.length) svg('line', { class: 'frame', x1: centreOf(ticks[0]), x2: centreOf(ticks[ticks.length - 1]), y1: axisY, y2: axisY }, root);
     ticks.forEach(function (t) {
@@ -599,7 +601,7 @@
       svg('text', { x: centreOf(t), y: axisY + 14, 'text-anchor': 'middle' }, root).textContent = String(t);
     });
     svg('text', { x: left + W, y: axisY + 32, 'text-anchor': 'end', fill: '#1f1d2b' }, root).textContent = 'functional dimension \u2192';
-    const domain = typeof summary.domain === 'string' ? summary.domain : 'a box or polytope';
+    const domain = survey.domain_text;
     svg('text', { x: left, y: axisY + 54 }, root).textContent = summary.arch.join(',') + ', ' + summary.certified +
       ' samples certified, init ' + summary.init + ', seed ' + summary.seed + ', domain ' + domain;
     api.bars = barLayer;

@@ -150,6 +150,20 @@ for key in ('histogram', 'mean', 'variance', 'modes', 'at_scaling_bound', 'scali
 assert sum(len(v) for v in d['survey']['samples_by_value'].values()) == s['certified']
 " "$work/summary.json" || fail "survey page differs from survey summary"
 
+# A network whose name holds markup cannot break out of the page's data or text.
+/usr/bin/python3 - "$fold" "$work/named.json" <<'PY'
+import json, sys
+net = json.load(open(sys.argv[1]))
+net["name"] = "</script><script>alert(1)</script> & <b>"
+json.dump(net, open(sys.argv[2], "w"))
+PY
+"$pleat" report "$work/named.json" --box -3,3 -o "$work/named.html" -q > /dev/null || fail "report of a named network failed"
+[ "$(grep -o '</script>' "$work/named.html" | wc -l)" -eq 2 ] || fail "the network's name closed a script element"
+page_data "$work/named.html" | /usr/bin/python3 -c "
+import json, sys
+assert json.load(sys.stdin)['network']['name'] == '</script><script>alert(1)</script> & <b>'
+" || fail "the name does not read back from the page's data"
+
 # Bad arguments: exit 2 with a message naming the problem; nothing written.
 expect_error() {
   local pattern=$1

@@ -203,5 +203,30 @@ TEST(Evaluate, DoublePassAgreesWithTheExactOne) {
   }
 }
 
+// The fraction-free pattern is evaluate_exact's, '=' included: the hand
+// example's point (1, 0) on two hyperplanes, and small-rational points on
+// random networks (small numerators and denominators put many points exactly
+// on a bent hyperplane, so zeros are exercised, counted below).
+TEST(Evaluate, IntegerPatternEqualsTheExactPattern) {
+  EXPECT_EQ(states_text(IntegerPatternEvaluator(small_network()).pattern_at({Rational(1), Rational(0)})), "1==");
+  std::size_t points_with_zero = 0;
+  std::uint64_t seed = 30;
+  for (const auto& [widths, output_relu] : std::vector<std::pair<std::vector<std::size_t>, bool>>{
+           {{2, 4, 3, 1}, false}, {{2, 3, 3, 2}, true}, {{3, 5, 4, 1}, false}, {{1, 3, 3, 3, 1}, true}}) {
+    const Network network = random_small_network(widths, output_relu, seed++);
+    const IntegerPatternEvaluator evaluator(network);
+    TestNumbers numbers{seed};
+    for (int trial = 0; trial < 200; ++trial) {
+      RationalVector x(network.input_dim);
+      for (Rational& v : x) v = numbers.small_rational();
+      const ActivationPattern exact = evaluate_exact(network, x).pattern;
+      EXPECT_EQ(states_text(evaluator.pattern_at(x)), states_text(exact));
+      points_with_zero += states_text(exact).find('=') != std::string::npos;
+    }
+  }
+  EXPECT_GT(points_with_zero, 20u);
+  EXPECT_THROW(IntegerPatternEvaluator(small_network()).pattern_at({Rational(1)}), usage_error);
+}
+
 }  // namespace
 }  // namespace pleat
