@@ -525,6 +525,14 @@ std::vector<std::optional<ModularMatrix>> extra_directions_modulo_primes(
   return images;
 }
 
+// Images modulo further primes computed beside the walk's prime's (one per
+// spare thread), and the index in prime_sequence after the last of them.
+struct AheadImages {
+  std::vector<std::uint64_t> primes;
+  std::vector<std::optional<ModularMatrix>> images;
+  std::size_t next_prime_index = 0;
+};
+
 // Lifts the extra directions from their image modulo the walk's prime and
 // proves them. After each round of primes (one per thread, computed in
 // parallel), a reconstruction that succeeds is checked exactly on every
@@ -537,7 +545,7 @@ std::vector<std::optional<ModularMatrix>> extra_directions_modulo_primes(
 // row: bounds only).
 std::optional<RationalMatrix> lift_and_prove_extra_directions(
     const Network& network, const std::vector<std::size_t>& scaling_pivots, const std::vector<KeptRows>& kept,
-    std::size_t rank, const ModularMatrix& first_image, std::uint64_t first_prime,
+    std::size_t rank, const ModularMatrix& first_image, std::uint64_t first_prime, const AheadImages& ahead,
     const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
     const StopRequest& stop, bool& stopped, const std::function<void(std::size_t)>& lift_progress,
     const std::function<void(std::size_t, std::size_t)>& check_progress) {
@@ -545,8 +553,21 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
   lifting.add_image(first_image, first_prime);
   const std::vector<std::size_t> shape = echelon_shape(first_image);
   std::optional<RationalMatrix> rejected;  // the last candidate the check rejected
-  std::size_t next_prime_index = 0, unusable_in_a_row = 0;
+  std::size_t next_prime_index = ahead.next_prime_index, unusable_in_a_row = 0;
   constexpr std::size_t max_primes = 4096, max_unusable_in_a_row = 16;
+  auto add_images = [&](const std::vector<std::uint64_t>& primes, const std::vector<std::optional<ModularMatrix>>& images) {
+    for (std::size_t i = 0; i < primes.size(); ++i) {
+      const auto& image = images[i];
+      if (!image || image->rows() != first_image.rows() || echelon_shape(*image) != shape) {
+        ++unusable_in_a_row;
+        continue;
+      }
+      unusable_in_a_row = 0;
+      lifting.add_image(*image, primes[i]);
+      if (lift_progress) lift_progress(lifting.primes());
+    }
+  };
+  add_images(ahead.primes, ahead.images);
   while (true) {
     if (stop.is_requested()) {
       stopped = true;
@@ -566,17 +587,7 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
       const std::uint64_t prime = prime_sequence(next_prime_index++);
       if (prime != first_prime) primes.push_back(prime);
     }
-    const auto images = extra_directions_modulo_primes(network, kept, rank, scaling_pivots, primes, threads);
-    for (std::size_t i = 0; i < primes.size(); ++i) {
-      const auto& image = images[i];
-      if (!image || image->rows() != first_image.rows() || echelon_shape(*image) != shape) {
-        ++unusable_in_a_row;
-        continue;
-      }
-      unusable_in_a_row = 0;
-      lifting.add_image(*image, primes[i]);
-      if (lift_progress) lift_progress(lifting.primes());
-    }
+    add_images(primes, extra_directions_modulo_primes(network, kept, rank, scaling_pivots, primes, threads));
   }
 }
 
@@ -782,12 +793,27 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // independent rows and Q is nonsingular over Q (core/jacobian.hpp).
     const std::vector<std::size_t>& scaling_pivots = scaling.pivot_columns;
     report("kernel", 0, 0);
-    const ModularMatrix first_image = extra_directions_of_rows(basis.rows(), scaling_pivots, modular.prime);
+    // With spare threads, the first further primes' eliminations run beside
+    // the walk prime's (wall time the lift would spend anyway whenever one
+    // prime does not suffice; with one thread nothing is computed ahead).
+    AheadImages ahead;
+    while (ahead.primes.size() + 1 < threads) {
+      const std::uint64_t prime = prime_sequence(ahead.next_prime_index++);
+      if (prime != modular.prime) ahead.primes.push_back(prime);
+    }
+    ahead.images.resize(ahead.primes.size());
+    ModularMatrix first_image;
+    parallel_for(1 + ahead.primes.size(), threads, [&](std::size_t i) {
+      if (i == 0)
+        first_image = extra_directions_of_rows(basis.rows(), scaling_pivots, modular.prime);
+      else
+        ahead.images[i - 1] = extra_directions_modulo(network, kept, basis.rank(), scaling_pivots, ahead.primes[i - 1]);
+    });
     RationalMatrix extra(0, parameters);
     if (first_image.rows() > 0) {
       const CheckScale check_scale(network);
       auto proved = lift_and_prove_extra_directions(
-          network, scaling_pivots, kept, basis.rank(), first_image, modular.prime, smooth, check_scale, threads, stop,
+          network, scaling_pivots, kept, basis.rank(), first_image, modular.prime, ahead, smooth, check_scale, threads, stop,
           stopped, [&](std::size_t primes) { report("kernel", primes, 0); },
           [&](std::size_t done, std::size_t total) { report("check", done, total); });
       if (stopped) result.stop_reason = stop.reason();

@@ -604,6 +604,8 @@ class RegionProcessor {
     region.affine = cell->maps.output;
     lp::FacetClassification classification = oracle_.classify_facets(cell->cell, *interior, keep_certificates_);
     std::optional<MapImages> images;
+    region.facets.reserve(static_cast<std::size_t>(std::count_if(
+        classification.groups.begin(), classification.groups.end(), [](const lp::FacetGroup& g) { return g.is_facet(); })));
     for (const auto& group : classification.groups) {
       if (!group.is_facet()) continue;
       region.facets.push_back(make_facet(*cell, pattern, group, images, result.degenerate_crossings));
@@ -753,6 +755,9 @@ class RegionProcessor {
     region.affine = output_map(pattern);
     std::optional<PatternMaps> rational_maps;  // only for degenerate crossings
     map_images_.clear();
+    // Reserved: RegionFacet's move is not noexcept (gmpxx), so growth would copy.
+    region.facets.reserve(static_cast<std::size_t>(
+        std::count_if(plane->groups.begin(), plane->groups.end(), [](const lp::PlaneGroup& g) { return g.is_facet; })));
     for (lp::PlaneGroup& group : plane->groups) {
       if (!group.is_facet) continue;
       const lp::PlaneRow& row = rows_[group.rows.front()];
@@ -791,6 +796,8 @@ class RegionProcessor {
     region.affine = output_map(pattern);
     std::optional<PatternMaps> rational_maps;  // only for degenerate crossings
     map_images_.clear();
+    region.facets.reserve(static_cast<std::size_t>(
+        std::count_if(space->groups.begin(), space->groups.end(), [](const lp::SpaceGroup& g) { return g.is_facet; })));
     for (const lp::SpaceGroup& group : space->groups) {
       if (!group.is_facet) continue;
       const lp::SpaceRow& row = space_rows_[group.rows.front()];
@@ -1223,19 +1230,20 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
         std::make_unique<RegionProcessor>(network, domain, options.keep_certificates, options.exact_only));
 
   WalkSummary summary;
+  // Every pattern is stored once, in `seen` (its elements stay put as it
+  // grows); the level, the ids and the neighbour lists point into it.
   std::unordered_set<ActivationPattern, PatternHash> seen;
-  std::unordered_map<ActivationPattern, std::size_t, PatternHash> id_of;
+  std::unordered_map<const ActivationPattern*, std::size_t> id_of;
   std::vector<AffineMap> affine_of;                                   // by region id
-  std::vector<std::vector<ActivationPattern>> neighbors_of;           // by region id
+  std::vector<std::vector<const ActivationPattern*>> neighbors_of;    // by region id
   // Polled between regions, and inside each region's exact work by the
   // workers (their StopScope), so one slow region cannot hold a stop back.
   const StopRequest stop(options.interrupt, options.time_limit_seconds, started);
   auto stop_requested = [&] { return stop.reason(); };
-  std::vector<ActivationPattern> level;
+  std::vector<const ActivationPattern*> level;
   try {
     const StopScope scope(stop);
-    level.push_back(start_pattern(network, domain));
-    seen.insert(level.front());
+    level.push_back(&*seen.insert(start_pattern(network, domain)).first);
   } catch (const Stopped& stopped) {
     summary.stop_reason = stopped.reason();  // stopped before the first region: nothing found
   }
@@ -1258,7 +1266,7 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
       try {
         const StopScope scope(stop);
         for (std::size_t i; !halt && (i = next++) < level.size();) {
-          results[i] = processor.process(level[i]);
+          results[i] = processor.process(*level[i]);
           done[i] = 1;
           ++finished;
         }
@@ -1293,7 +1301,7 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
     if (summary.stop_reason == StopReason::none && stopped_inside != static_cast<int>(StopReason::none))
       summary.stop_reason = static_cast<StopReason>(stopped_inside.load());
 
-    std::vector<ActivationPattern> next_level;
+    std::vector<const ActivationPattern*> next_level;
     for (std::size_t i = 0; i < level.size(); ++i) {
       if (!done[i]) break;  // cut short: keep the processed prefix, in order
       Processed& processed = results[i];
@@ -1311,19 +1319,21 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
       summary.degenerate_crossings += processed.degenerate_crossings;
       if (!region.nonsmooth_neurons.empty())
         summary.nonsmooth_regions.emplace_back(region.pattern, region.nonsmooth_neurons);
-      id_of.emplace(region.pattern, region.id);
-      affine_of.push_back(region.affine);
+      id_of.emplace(level[i], region.id);
       neighbors_of.emplace_back();
+      const auto add_neighbour = [&](const ActivationPattern& neighbor) {
+        const auto [at, is_new] = seen.insert(neighbor);
+        neighbors_of.back().push_back(&*at);
+        if (is_new) next_level.push_back(&*at);
+      };
       for (const auto& facet : region.facets) {
         if (!facet.neighbor) continue;
-        std::vector<const ActivationPattern*> across{&*facet.neighbor};
-        for (const auto& other : facet.other_neighbors) across.push_back(&other);
-        for (const ActivationPattern* neighbor : across) {
-          neighbors_of.back().push_back(*neighbor);
-          if (seen.insert(*neighbor).second) next_level.push_back(*neighbor);
-        }
+        add_neighbour(*facet.neighbor);
+        for (const auto& other : facet.other_neighbors) add_neighbour(other);
       }
-      if (options.on_region && !options.on_region(region)) {
+      const bool is_stop_asked = options.on_region && !options.on_region(region);
+      affine_of.push_back(std::move(region.affine));  // after on_region, which reads it
+      if (is_stop_asked) {
         summary.stop_reason = StopReason::requested;
         break;
       }
@@ -1332,7 +1342,8 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
       if (StopReason reason = stop_requested(); reason != StopReason::none && !next_level.empty())
         summary.stop_reason = reason;
     }
-    std::sort(next_level.begin(), next_level.end());
+    std::sort(next_level.begin(), next_level.end(),
+              [](const ActivationPattern* a, const ActivationPattern* b) { return *a < *b; });
     level = std::move(next_level);
   }
 
@@ -1344,7 +1355,7 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   DisjointSets pieces(summary.regions);
   bool all_neighbors_present = true;
   for (std::size_t id = 0; id < summary.regions; ++id) {
-    for (const auto& neighbor : neighbors_of[id]) {
+    for (const ActivationPattern* neighbor : neighbors_of[id]) {
       auto found = id_of.find(neighbor);
       if (found == id_of.end()) {
         all_neighbors_present = false;
@@ -1358,7 +1369,7 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   summary.linear_regions = pieces.count_roots();
 
   summary.patterns.reserve(id_of.size());
-  for (const auto& [pattern, id] : id_of) summary.patterns.push_back(pattern);
+  for (const auto& [pattern, id] : id_of) summary.patterns.push_back(*pattern);
   std::sort(summary.patterns.begin(), summary.patterns.end());
   for (std::size_t k = 0; k < network.depth(); ++k) {
     // A linear output layer adds no states: its prefix is the whole pattern.

@@ -126,8 +126,9 @@ ActivationPattern walk_start_pattern(const Network& network, const Domain& domai
 // when the pattern's cell has empty interior on the domain. Exact; for
 // inspecting a single region without walking. Its points come from the
 // general lp::Oracle path (the interior point is find_centre's centre); a
-// 2-input walk proves the same facets, neighbours and boundedness on its
-// plane path, whose interior and facet points may differ.
+// 2- or 3-input walk proves the same facets, neighbours and boundedness on
+// its plane or space path (lp/plane_cell.hpp, lp/space_cell.hpp), whose
+// interior and facet points may differ.
 std::optional<Region> describe_region(const Network& network, const Domain& domain,
                                       const ActivationPattern& pattern, bool keep_certificates = false);
 

@@ -138,11 +138,15 @@ bool is_positive_multiple(const SpaceRow& p, const SpaceRow& q) {
 
 // ---- the polytope ----------------------------------------------------------------
 
-// A vertex and the three planes (ascending indices) that meet there.
+// A vertex, the three planes (ascending indices) that meet there, and its
+// three neighbours: next[d] ends the edge that leaves plane label[d] (the
+// edge on the other two planes).
 struct Vertex {
   Point x;
   std::array<std::uint32_t, 3> label;
+  std::array<std::uint32_t, 3> next;
   bool has(std::uint32_t plane) const { return label[0] == plane || label[1] == plane || label[2] == plane; }
+  std::size_t slot(std::uint32_t plane) const { return label[0] == plane ? 0 : label[1] == plane ? 1 : 2; }
 };
 using Polytope = std::vector<Vertex>;
 
@@ -162,10 +166,14 @@ std::optional<Point> meet(const Plane& p, const Plane& q, const Plane& r) {
 double max_norm(const Point& x) { return std::max({std::fabs(x[0]), std::fabs(x[1]), std::fabs(x[2])}); }
 
 // The polytope cut by plane h (kept where its slack is >= 0). Every edge
-// from a cut-off vertex to a kept one gives a new vertex on h. False when
-// the result is empty or the proposal is degenerate (a vertex on h within
-// rounding, an edge that is not one: not a simple polytope in double).
-bool clip(Polytope& polytope, const std::vector<Plane>& planes, std::uint32_t h, std::vector<double>& slack) {
+// from a cut-off vertex to a kept one gives a new vertex on h; the new
+// vertices are joined around the cut face (two of them share each plane that
+// crosses it). False when the result is empty or the proposal is degenerate
+// (a vertex on h within rounding, inconsistent edges: not a simple polytope
+// in double). `spare` is scratch space (swapped with the result).
+bool clip(Polytope& polytope, Polytope& spare, const std::vector<Plane>& planes, std::uint32_t h,
+          std::vector<double>& slack) {
+  constexpr std::uint32_t unset = std::numeric_limits<std::uint32_t>::max();
   const std::size_t n = polytope.size();
   slack.resize(n);
   std::size_t negative = 0;
@@ -176,30 +184,61 @@ bool clip(Polytope& polytope, const std::vector<Plane>& planes, std::uint32_t h,
   }
   if (negative == 0) return true;
   if (negative == n) return false;
-  Polytope next;
-  next.reserve(n + 2 * negative + 2);
+  // Kept vertices first (renumbered), their edges into the cut-off part unset.
+  thread_local std::vector<std::uint32_t> renumbered;
+  renumbered.assign(n, unset);
+  Polytope& next = spare;
+  next.clear();
   for (std::size_t v = 0; v < n; ++v)
-    if (slack[v] > 0) next.push_back(polytope[v]);
+    if (slack[v] > 0) {
+      renumbered[v] = static_cast<std::uint32_t>(next.size());
+      next.push_back(polytope[v]);
+    }
+  for (Vertex& vertex : next)
+    for (std::uint32_t& to : vertex.next) to = to < n ? renumbered[to] : unset;
+  const std::size_t first_new = next.size();
   for (std::size_t v = 0; v < n; ++v) {
     if (slack[v] > 0) continue;
-    for (std::size_t drop = 0; drop < 3; ++drop) {
-      const std::uint32_t p = polytope[v].label[(drop + 1) % 3], q = polytope[v].label[(drop + 2) % 3];
-      std::size_t partner = n, found = 0;
-      for (std::size_t w = 0; w < n; ++w)
-        if (w != v && polytope[w].has(p) && polytope[w].has(q)) {
-          partner = w;
-          ++found;
-        }
-      if (found != 1) return false;
-      if (slack[partner] < 0) continue;  // the whole edge goes
+    for (std::size_t d = 0; d < 3; ++d) {
+      const std::uint32_t w = polytope[v].next[d];
+      if (w >= n) return false;
+      if (slack[w] < 0) continue;  // the whole edge goes
+      const std::uint32_t p = polytope[v].label[(d + 1) % 3], q = polytope[v].label[(d + 2) % 3];
+      Vertex& kept = next[renumbered[w]];
+      if (!kept.has(p) || !kept.has(q)) return false;
       const std::optional<Point> x = meet(planes[p], planes[q], planes[h]);
       if (!x) return false;
-      std::array<std::uint32_t, 3> label{p, q, h};
-      std::sort(label.begin(), label.end());
-      next.push_back(Vertex{*x, label});
+      Vertex vertex{*x, {p, q, h}, {unset, unset, unset}};
+      std::sort(vertex.label.begin(), vertex.label.end());
+      vertex.next[vertex.slot(h)] = renumbered[w];
+      const std::size_t towards = kept.label[0] != p && kept.label[0] != q ? 0 : kept.label[1] != p && kept.label[1] != q ? 1 : 2;
+      if (kept.next[towards] != unset) return false;
+      kept.next[towards] = static_cast<std::uint32_t>(next.size());
+      next.push_back(vertex);
     }
   }
-  polytope = std::move(next);
+  // Around the cut face: the edge on planes {r, h} of a new vertex joins the
+  // other new vertex on r.
+  for (std::size_t u = first_new; u < next.size(); ++u)
+    for (std::size_t d = 0; d < 3; ++d) {
+      const std::uint32_t r = next[u].label[d];
+      if (r == h) continue;
+      std::size_t partner = next.size();
+      for (std::size_t t = first_new; t < next.size(); ++t)
+        if (t != u && next[t].has(r)) {
+          if (partner != next.size()) return false;
+          partner = t;
+        }
+      if (partner == next.size()) return false;
+      // The edge on {r, h} leaves u's third plane.
+      std::size_t across = 0;
+      while (next[u].label[across] == r || next[u].label[across] == h) ++across;
+      next[u].next[across] = static_cast<std::uint32_t>(partner);
+    }
+  for (const Vertex& vertex : next)
+    for (std::uint32_t to : vertex.next)
+      if (to == unset) return false;
+  polytope.swap(next);
   return polytope.size() >= 4;
 }
 
@@ -214,12 +253,13 @@ Polytope box_polytope(std::vector<Plane>& planes, double r) {
       planes.push_back(plane);
     }
   Polytope box;
-  for (int corner = 0; corner < 8; ++corner) {
+  for (std::uint32_t corner = 0; corner < 8; ++corner) {
     Vertex vertex;
     for (std::uint32_t k = 0; k < 3; ++k) {
       const bool is_high = (corner >> k) & 1;
       vertex.x[k] = is_high ? r : -r;
       vertex.label[k] = first + 2 * k + (is_high ? 1 : 0);
+      vertex.next[k] = corner ^ (1u << k);  // leaving the face x_k = +-r: along axis k
     }
     box.push_back(vertex);
   }
@@ -485,12 +525,14 @@ std::optional<SpaceCell> describe_space_cell(const std::vector<SpaceRow>& exact_
   std::vector<Plane> planes(g);
   for (std::size_t k = 0; k < g; ++k) planes[k] = all[representative[k]];
   constexpr double box = 0x1p24;
-  Polytope polytope = box_polytope(planes, box);
-  Polytope bounded_part;
-  std::vector<double> slack;
+  // Buffers reused between calls on one thread (a walk describes many cells).
+  thread_local Polytope polytope, bounded_part, near, spare;
+  thread_local std::vector<double> slack;
+  polytope = box_polytope(planes, box);
+  bounded_part.clear();
   for (std::size_t k = 0; k < g; ++k) {
     if (k == bounded_groups) bounded_part = polytope;
-    if (!clip(polytope, planes, static_cast<std::uint32_t>(k), slack)) return std::nullopt;
+    if (!clip(polytope, spare, planes, static_cast<std::uint32_t>(k), slack)) return std::nullopt;
   }
   if (bounded_groups == g) bounded_part = polytope;
 
@@ -506,7 +548,7 @@ std::optional<SpaceCell> describe_space_cell(const std::vector<SpaceRow>& exact_
   for (const Vertex& v : polytope)
     for (std::uint32_t label : v.label)
       if (label < g) has_face[label] = 1;
-  Polytope near = polytope;
+  near = polytope;
   if (reaches_box) {
     if (extent == 0.0)  // no vertex: the feet of the planes on the cell
       for (std::size_t k = 0; k < g; ++k)
@@ -521,7 +563,7 @@ std::optional<SpaceCell> describe_space_cell(const std::vector<SpaceRow>& exact_
     const std::size_t first = planes.size();
     (void)box_polytope(planes, radius);  // appends six planes; `near` is the cell cut by them
     for (std::size_t k = first; k < planes.size(); ++k)
-      if (!clip(near, planes, static_cast<std::uint32_t>(k), slack)) return std::nullopt;
+      if (!clip(near, spare, planes, static_cast<std::uint32_t>(k), slack)) return std::nullopt;
   }
 
   std::vector<const Point*> corners;

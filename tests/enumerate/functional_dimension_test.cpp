@@ -491,17 +491,19 @@ TEST(FunctionalDimension, LiftedExtraDirectionsEqualTheExactKernelsOnes) {
   }
 }
 
-// The lift tries the walk's prime alone first: data/degenerate2d.json has
-// one-digit decimal weights, so its extra directions' entries are small
-// fractions, reconstructed and proved with no further prime (no "kernel"
-// progress with a prime count). Its weights scaled by 10^-12 put the
-// entries' denominators past one prime's reach (about 2^30 each): further
-// primes are added until a candidate passes, and the value, the kernel and
-// the extra directions are those of the exact kernel (kernel_basis_exact).
+// With one thread the lift tries the walk's prime alone first:
+// data/degenerate2d.json has one-digit decimal weights, so its extra
+// directions' entries are small fractions, reconstructed and proved with no
+// further prime (no "kernel" progress with a prime count). Its weights
+// scaled by 10^-12 put the entries' denominators past one prime's reach
+// (about 2^30 each): further primes are added until a candidate passes, and
+// the value, the kernel and the extra directions are those of the exact
+// kernel (kernel_basis_exact), with 1 thread and with 2 (which computes
+// primes ahead).
 TEST(FunctionalDimension, LiftStartsFromTheWalksPrimeAndAddsPrimesOnlyWhenNeeded) {
-  auto lift_primes = [](const Network& network, FunctionalDimensionResult& result) {
+  auto lift_primes = [](const Network& network, FunctionalDimensionResult& result, unsigned threads = 1) {
     FunctionalDimensionOptions options;
-    options.walk.threads = 2;
+    options.walk.threads = threads;
     options.stop_at_scaling_bound = false;
     options.keep_kernel = true;
     std::size_t primes = 0;
@@ -534,6 +536,10 @@ TEST(FunctionalDimension, LiftStartsFromTheWalksPrimeAndAddsPrimesOnlyWhenNeeded
   ASSERT_EQ(large.extra_kernel.size(), extra.rows());
   ASSERT_GT(extra.rows(), 0u);
   for (std::size_t r = 0; r < extra.rows(); ++r) EXPECT_EQ(large.extra_kernel[r].vector, extra.row(r));
+  FunctionalDimensionResult two_threads;
+  EXPECT_GE(lift_primes(scaled, two_threads, 2), 2u);
+  EXPECT_EQ(two_threads.kernel, large.kernel);
+  EXPECT_EQ(two_threads.functional_dimension, large.functional_dimension);
 }
 
 // The multi-modular check accepts the proved kernel and rejects it after any
