@@ -820,25 +820,11 @@ class RegionProcessor {
   // With --certificates: the rational cell and the certificates of the space
   // path's verdicts (the same points, multipliers from its supports).
   bool attach_space_certificates(const ActivationPattern& pattern, const lp::SpaceCell& space, Region& region) {
-    std::optional<PatternCell> cell = build_cell(pattern);
-    if (!cell || cell->cell.constraints.size() != space_rows_.size()) return false;
-    lp::FacetClassification classification;
-    for (const lp::SpaceGroup& group : space.groups) {
-      if (group.is_facet) {
-        classification.groups.push_back(lp::FacetGroup{group.rows, lp::FacetPoint{group.point}});
-        continue;
-      }
-      std::optional<lp::NonFacetCertificate> certificate =
-          lp::space_redundancy_certificate(cell->cell, group.rows.front(), group.support);
-      if (!certificate) return false;
-      classification.groups.push_back(lp::FacetGroup{group.rows, std::move(*certificate)});
-    }
-    bool bounded = false;
-    std::optional<lp::BoundednessVerdict> boundedness = decide_boundedness(*cell, bounded);
-    if (bounded != region.bounded) return false;
-    region.certificates = RegionCertificates{std::move(cell->cell), std::move(cell->constraint_neuron),
-                                             std::move(classification), std::move(boundedness)};
-    return true;
+    return attach_fast_path_certificates(pattern, space_rows_.size(), space.groups, region,
+                                         [](const lp::Polyhedron& cell, const lp::SpaceGroup& group) {
+                                           return lp::space_redundancy_certificate(cell, group.rows.front(),
+                                                                                   group.support);
+                                         });
   }
 
   // The network's output map on the region, exact.
@@ -973,16 +959,31 @@ class RegionProcessor {
   // With --certificates: the rational cell and the certificates of the plane
   // path's verdicts (the same points, multipliers from its supports).
   bool attach_plane_certificates(const ActivationPattern& pattern, const lp::PlaneCell& plane, Region& region) {
+    return attach_fast_path_certificates(pattern, rows_.size(), plane.groups, region,
+                                         [](const lp::Polyhedron& cell, const lp::PlaneGroup& group) {
+                                           return lp::plane_redundancy_certificate(cell, group.rows.front(),
+                                                                                   group.support[0], group.support[1]);
+                                         });
+  }
+
+  // Shared by the plane and space paths: the rational cell of the pattern
+  // (row_count rows, in the fast path's order), a facet point per facet group,
+  // certify_non_facet's multipliers per other group, and the boundedness
+  // certificate, which must agree with the fast path's verdict. False when
+  // any of it cannot be given (the caller then takes the oracle path).
+  template <class Group, class CertifyNonFacet>
+  bool attach_fast_path_certificates(const ActivationPattern& pattern, std::size_t row_count,
+                                     const std::vector<Group>& groups, Region& region,
+                                     CertifyNonFacet&& certify_non_facet) {
     std::optional<PatternCell> cell = build_cell(pattern);
-    if (!cell || cell->cell.constraints.size() != rows_.size()) return false;
+    if (!cell || cell->cell.constraints.size() != row_count) return false;
     lp::FacetClassification classification;
-    for (const lp::PlaneGroup& group : plane.groups) {
+    for (const Group& group : groups) {
       if (group.is_facet) {
         classification.groups.push_back(lp::FacetGroup{group.rows, lp::FacetPoint{group.point}});
         continue;
       }
-      std::optional<lp::NonFacetCertificate> certificate =
-          lp::plane_redundancy_certificate(cell->cell, group.rows.front(), group.support[0], group.support[1]);
+      std::optional<lp::NonFacetCertificate> certificate = certify_non_facet(cell->cell, group);
       if (!certificate) return false;
       classification.groups.push_back(lp::FacetGroup{group.rows, std::move(*certificate)});
     }
