@@ -398,22 +398,7 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
 Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments& arguments, Format format) {
   const std::vector<Region>& regions = scene.regions;
   const View& view = scene.view;
-  struct Piece {
-    const Region* region;
-    Rational low, high;
-  };
-  std::vector<Piece> pieces;
-  for (const auto& region : regions) {
-    poll_stop();
-    Piece piece{&region, view.lower[0], view.upper[0]};
-    for (const auto& facet : region.facets) {
-      const Rational end = -facet.offset / facet.normal[0];
-      if (facet.normal[0] > 0) piece.low = std::max(piece.low, end);
-      else piece.high = std::min(piece.high, end);
-    }
-    if (piece.low < piece.high) pieces.push_back(piece);
-  }
-  std::sort(pieces.begin(), pieces.end(), [](const Piece& a, const Piece& b) { return a.low < b.low; });
+  const std::vector<LinePiece> pieces = line_pieces(regions, view);
   std::vector<const Region*> drawn_regions;
   for (const auto& piece : pieces) drawn_regions.push_back(piece.region);
   Drawn result{"", region_table(network, drawn_regions), pieces.size() + 1, pieces.size(), pieces.size()};

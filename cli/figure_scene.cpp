@@ -191,4 +191,20 @@ std::optional<View> bounding_view(const Domain& domain) {
   return view;
 }
 
+std::vector<LinePiece> line_pieces(const std::vector<Region>& regions, const View& view) {
+  std::vector<LinePiece> pieces;
+  for (const auto& region : regions) {
+    poll_stop();
+    LinePiece piece{&region, view.lower[0], view.upper[0]};
+    for (const auto& facet : region.facets) {
+      const Rational end = -facet.offset / facet.normal[0];
+      if (facet.normal[0] > 0) piece.low = std::max(piece.low, end);
+      else piece.high = std::min(piece.high, end);
+    }
+    if (piece.low < piece.high) pieces.push_back(piece);
+  }
+  std::sort(pieces.begin(), pieces.end(), [](const LinePiece& a, const LinePiece& b) { return a.low < b.low; });
+  return pieces;
+}
+
 }  // namespace pleat::cli

@@ -56,4 +56,13 @@ FigurePoint point_of(const RationalVector& p);
 // (exact as a bound; certify gives the value); a non-smooth region adds none.
 std::vector<std::size_t> new_rows_in_walk_order(const Network& network, const std::vector<const Region*>& regions);
 
+// One input: each region's interval [low, high] clipped to the view, empty
+// ones left out, in increasing order along the axis. Exact. Polls the stop
+// request.
+struct LinePiece {
+  const Region* region;
+  Rational low, high;
+};
+std::vector<LinePiece> line_pieces(const std::vector<Region>& regions, const View& view);
+
 }  // namespace pleat::cli

@@ -262,22 +262,7 @@ Json plane_map_json(const Network& network, const std::vector<Region>& regions, 
 
 Json line_graph_json(const Network& network, const std::vector<Region>& regions, const View& view,
                      std::size_t detail_limit) {
-  struct Piece {
-    const Region* region;
-    Rational low, high;
-  };
-  std::vector<Piece> pieces;
-  for (const auto& region : regions) {
-    poll_stop();
-    Piece piece{&region, view.lower[0], view.upper[0]};
-    for (const auto& facet : region.facets) {
-      const Rational end = -facet.offset / facet.normal[0];
-      if (facet.normal[0] > 0) piece.low = std::max(piece.low, end);
-      else piece.high = std::min(piece.high, end);
-    }
-    if (piece.low < piece.high) pieces.push_back(piece);
-  }
-  std::sort(pieces.begin(), pieces.end(), [](const Piece& a, const Piece& b) { return a.low < b.low; });
+  const std::vector<LinePiece> pieces = line_pieces(regions, view);
   const bool has_details = pieces.size() <= detail_limit;
   std::vector<const Region*> shown;
   for (const auto& piece : pieces) shown.push_back(piece.region);
@@ -287,7 +272,7 @@ Json line_graph_json(const Network& network, const std::vector<Region>& regions,
                                                           : std::vector<std::size_t>(shown.size(), 0);
   Json items = Json::array();
   for (std::size_t i = 0; i < pieces.size(); ++i) {
-    const Piece& piece = pieces[i];
+    const LinePiece& piece = pieces[i];
     const AffineMap& map = piece.region->affine;
     const Rational left = map.linear(0, 0) * piece.low + map.offset[0];
     const Rational right = map.linear(0, 0) * piece.high + map.offset[0];
