@@ -5,6 +5,9 @@
 #include "enumerate/detail/walk_helpers.hpp"
 
 #include <algorithm>
+#include <array>
+#include <cstdint>
+#include <limits>
 #include <utility>
 
 namespace pleat::detail {
@@ -64,17 +67,33 @@ void compose_integer(const IntegerLayer& layer, const IntegerMap& input, Integer
 }  // namespace
 
 
-std::optional<WideLayers> wide_layers(const std::vector<IntegerLayer>& layers) {
-  const Integer limit = Integer(1) << 125;
+namespace {
+
+// Exactly |value| < 2^(bits of T - 3) is required of every narrowed value (the bound's limit).
+void narrow(const Integer& value, Wide& out) {
+  Integer magnitude = abs(value);
+  const Wide low = static_cast<Wide>(mpz_get_ui(magnitude.get_mpz_t()));
+  magnitude >>= 64;
+  out = (static_cast<Wide>(mpz_get_ui(magnitude.get_mpz_t())) << 64) | low;
+  if (sgn(value) < 0) out = -out;
+}
+
+void narrow(const Integer& value, Wide256& out) { out = Wide256(value.get_str()); }
+
+template <class T>
+constexpr unsigned limit_bits = 0;
+template <>
+constexpr unsigned limit_bits<Wide> = 125;
+template <>
+constexpr unsigned limit_bits<Wide256> = 253;
+
+}  // namespace
+
+template <class T>
+std::optional<FixedLayers<T>> fixed_layers(const std::vector<IntegerLayer>& layers) {
+  const Integer limit = Integer(1) << limit_bits<T>;
   Integer linear_bound = 1, offset_bound = 0, denominator = 1;
-  WideLayers wide;
-  const auto narrow = [](const Integer& value) {
-    Integer magnitude = abs(value);
-    const Wide low = static_cast<Wide>(mpz_get_ui(magnitude.get_mpz_t()));
-    magnitude >>= 64;
-    const Wide result = (static_cast<Wide>(mpz_get_ui(magnitude.get_mpz_t())) << 64) | low;
-    return sgn(value) < 0 ? -result : result;
-  };
+  FixedLayers<T> fixed;
   for (const IntegerLayer& layer : layers) {
     Integer row_sum_bound = 0, bias_bound = 0;
     for (std::size_t r = 0; r < layer.rows; ++r) {
@@ -86,36 +105,55 @@ std::optional<WideLayers> wide_layers(const std::vector<IntegerLayer>& layers) {
     linear_bound *= row_sum_bound;
     offset_bound = denominator * bias_bound + row_sum_bound * offset_bound;
     if (linear_bound >= limit || offset_bound >= limit || denominator >= limit) return std::nullopt;
-    std::vector<Wide> weights(layer.weights.size()), bias(layer.bias.size());
-    for (std::size_t i = 0; i < weights.size(); ++i) weights[i] = narrow(layer.weights[i]);
-    for (std::size_t i = 0; i < bias.size(); ++i) bias[i] = narrow(layer.bias[i]);
-    wide.weights.push_back(std::move(weights));
-    wide.bias.push_back(std::move(bias));
-    wide.input_denominator.push_back(narrow(denominator));
+    std::vector<T> weights(layer.weights.size()), bias(layer.bias.size());
+    for (std::size_t i = 0; i < weights.size(); ++i) narrow(layer.weights[i], weights[i]);
+    for (std::size_t i = 0; i < bias.size(); ++i) narrow(layer.bias[i], bias[i]);
+    fixed.weights.push_back(std::move(weights));
+    fixed.bias.push_back(std::move(bias));
+    narrow(denominator, fixed.input_denominator.emplace_back());
     denominator *= layer.denominator;
     if (denominator >= limit) return std::nullopt;
-    wide.map_denominator.push_back(denominator);
+    fixed.map_denominator.push_back(denominator);
   }
-  return wide;
+  return fixed;
 }
 
-// Layer k's pre-activation rows (n linear entries, then the offset) from the
-// previous layer's rows, only those with active[t] (neurons that are on).
-void compose_wide(const IntegerLayer& layer, const WideLayers& wide, std::size_t k, std::size_t n,
-                  const std::vector<Wide>& input, const std::vector<char>& active, std::vector<Wide>& out) {
+template <class T>
+void compose_fixed(const IntegerLayer& layer, const FixedLayers<T>& fixed, std::size_t k, std::size_t n,
+                   const std::vector<T>& input, const std::vector<char>& active, std::vector<T>& out) {
   const std::size_t width = n + 1;
-  out.assign(layer.rows * width, 0);
-  const std::vector<Wide>& weights = wide.weights[k];
+  out.assign(layer.rows * width, T(0));
+  const std::vector<T>& weights = fixed.weights[k];
   for (std::size_t r = 0; r < layer.rows; ++r) {
-    Wide* row = out.data() + r * width;
-    row[n] = wide.input_denominator[k] * wide.bias[k][r];
+    T* row = out.data() + r * width;
+    row[n] = fixed.input_denominator[k] * fixed.bias[k][r];
     for (std::size_t t = 0; t < layer.cols; ++t) {
-      const Wide weight = weights[r * layer.cols + t];
+      const T& weight = weights[r * layer.cols + t];
       if (!active[t] || weight == 0) continue;
-      const Wide* from = input.data() + t * width;
+      const T* from = input.data() + t * width;
       for (std::size_t c = 0; c < width; ++c) row[c] += weight * from[c];
     }
   }
+}
+
+template std::optional<FixedLayers<Wide>> fixed_layers<Wide>(const std::vector<IntegerLayer>&);
+template std::optional<FixedLayers<Wide256>> fixed_layers<Wide256>(const std::vector<IntegerLayer>&);
+template void compose_fixed<Wide>(const IntegerLayer&, const FixedLayers<Wide>&, std::size_t, std::size_t,
+                                  const std::vector<Wide>&, const std::vector<char>&, std::vector<Wide>&);
+template void compose_fixed<Wide256>(const IntegerLayer&, const FixedLayers<Wide256>&, std::size_t, std::size_t,
+                                     const std::vector<Wide256>&, const std::vector<char>&, std::vector<Wide256>&);
+
+void set_integer(Integer& out, const Wide256& value) {
+  if (value >= std::numeric_limits<long>::min() && value <= std::numeric_limits<long>::max()) {
+    mpz_set_si(out.get_mpz_t(), static_cast<long>(value));
+    return;
+  }
+  std::array<std::uint64_t, 4> limbs{};
+  const Wide256 magnitude = abs(value);
+  const auto end = boost::multiprecision::export_bits(magnitude, limbs.begin(), 64, false);  // least significant first
+  mpz_import(out.get_mpz_t(), static_cast<std::size_t>(end - limbs.begin()), -1, sizeof(std::uint64_t), 0, 0,
+             limbs.data());
+  if (value < 0) mpz_neg(out.get_mpz_t(), out.get_mpz_t());
 }
 
 void set_integer(Integer& out, Wide value) {

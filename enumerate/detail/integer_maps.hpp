@@ -10,6 +10,8 @@
 #include "enumerate/domain.hpp"
 #include "enumerate/walker.hpp"
 
+#include <boost/multiprecision/cpp_int.hpp>
+
 #include <cstddef>
 #include <optional>
 #include <vector>
@@ -35,36 +37,42 @@ struct IntegerMap {
   Integer denominator = 1;
 };
 
-// Fraction-free layer maps in 128-bit integers, when a bound proves they fit:
-// with S_k = max_r sum_t |W_k[r][t]| and E_k the product of the denominators
-// of layers 1..k, every entry of layer k's linear part is at most
+// Fraction-free layer maps in fixed-width integers, when a bound proves they
+// fit: with S_k = max_r sum_t |W_k[r][t]| and E_k the product of the
+// denominators of layers 1..k, every entry of layer k's linear part is at most
 // L_k = S_k L_(k-1) (L_0 = 1) and every offset at most
 // O_k = E_(k-1) max_r |b_k[r]| + S_k O_(k-1) (O_0 = 0), whatever the pattern
 // (a neuron that is off only drops terms); each partial sum of a row is
-// bounded the same way. All of them below 2^125 and every product below is
-// exact in __int128.
+// bounded the same way. All of them below 2^125 make every product below
+// exact in __int128; below 2^253, in Boost's checked 256-bit integers (which
+// would throw on an overflow the bound rules out). Beyond that, GMP.
 __extension__ typedef __int128 Wide;
 __extension__ typedef unsigned __int128 UnsignedWide;
+using Wide256 = boost::multiprecision::checked_int256_t;
 
-struct WideLayers {
-  std::vector<std::vector<Wide>> weights;  // per layer, rows x cols
-  std::vector<std::vector<Wide>> bias;
-  std::vector<Wide> input_denominator;     // per layer: E_(k-1)
-  std::vector<Integer> map_denominator;    // per layer: E_k
+template <class T>
+struct FixedLayers {
+  std::vector<std::vector<T>> weights;  // per layer, rows x cols
+  std::vector<std::vector<T>> bias;
+  std::vector<T> input_denominator;     // per layer: E_(k-1)
+  std::vector<Integer> map_denominator;  // per layer: E_k
 };
 
 std::vector<IntegerLayer> integer_layers(const Network& network);
 
-// wide_layers: the layers in 128 bits when the bound above proves every map
-// of every pattern fits; nullopt otherwise.
-std::optional<WideLayers> wide_layers(const std::vector<IntegerLayer>& layers);
+// The layers in T (Wide or Wide256) when the bound above proves every map of
+// every pattern fits; nullopt otherwise.
+template <class T>
+std::optional<FixedLayers<T>> fixed_layers(const std::vector<IntegerLayer>& layers);
 
 // Layer k's pre-activation rows (n linear entries, then the offset) from the
 // previous layer's rows, only those with active[t] (neurons that are on).
-void compose_wide(const IntegerLayer& layer, const WideLayers& wide, std::size_t k, std::size_t n,
-                  const std::vector<Wide>& input, const std::vector<char>& active, std::vector<Wide>& out);
+template <class T>
+void compose_fixed(const IntegerLayer& layer, const FixedLayers<T>& fixed, std::size_t k, std::size_t n,
+                   const std::vector<T>& input, const std::vector<char>& active, std::vector<T>& out);
 
 void set_integer(Integer& out, Wide value);
+void set_integer(Integer& out, const Wide256& value);
 
 // Layer k's pre-activation map from the previous pre-activation map, with the
 // input's rows limited to those with active[t] (the neurons that are on).

@@ -58,11 +58,14 @@ class RegionProcessor::Impl {
     is_plane_path_ = n == 2 && !exact_only && is_plane_path_allowed;
     is_space_path_ = n == 3 && !exact_only && is_plane_path_allowed;
     if (!is_plane_path_ && !is_space_path_) return;
-    wide_ = wide_layers(layers_);
+    wide_ = fixed_layers<Wide>(layers_);
+    if (!wide_) wide256_ = fixed_layers<Wide256>(layers_);
     wide_identity_.assign(n * (n + 1), 0);
+    wide256_identity_.assign(n * (n + 1), Wide256(0));
     identity_ = IntegerMap{n, n, std::vector<Integer>(n * n, Integer(0)), std::vector<Integer>(n, Integer(0)), Integer(1)};
     for (std::size_t k = 0; k < n; ++k) {
       wide_identity_[k * (n + 1) + k] = 1;  // row k: e_k | 0
+      wide256_identity_[k * (n + 1) + k] = 1;
       identity_.linear[k * n + k] = 1;
     }
     for (const lp::Constraint& side : domain.constraints) {
@@ -135,54 +138,71 @@ class RegionProcessor::Impl {
   // prove (nullopt) goes to process_with_oracle, which decides everything.
 
   // Every layer's pre-activation map for the pattern, into pre_ (all layers).
+  // Layer k's map depends only on the states of layers below k, so the maps
+  // of the previous pattern this processor saw are kept up to the first layer
+  // whose states differ (the walk hands each thread patterns in sorted order,
+  // so neighbours in that order share long prefixes).
   void compute_integer_maps(const ActivationPattern& pattern) {
     pre_.resize(layers_.size());
-    if (wide_) {
-      compute_wide_maps(pattern);
+    const std::size_t start = first_layer_to_compute(pattern);
+    maps_pattern_.states.clear();  // invalid until every layer is done (a stop may cut this short)
+    if (wide_) compute_fixed_maps(pattern, start, *wide_, wide_identity_, wide_pre_);
+    else if (wide256_) compute_fixed_maps(pattern, start, *wide256_, wide256_identity_, wide256_pre_);
+    else compute_gmp_maps(pattern, start);
+    maps_pattern_ = pattern;
+  }
+
+  // The first layer whose map differs from the one in pre_ (layers_.size() when none does).
+  std::size_t first_layer_to_compute(const ActivationPattern& pattern) const {
+    if (maps_pattern_.states.size() != pattern.states.size()) return 0;
+    const auto mismatch = std::mismatch(pattern.states.begin(), pattern.states.end(), maps_pattern_.states.begin());
+    if (mismatch.first == pattern.states.end()) return layers_.size();
+    const auto neuron = static_cast<std::size_t>(mismatch.first - pattern.states.begin());
+    std::size_t layer = 0;
+    while (neuron >= network_.first_neuron_of_layer(layer) + layers_[layer].rows) ++layer;
+    return layer + 1;  // the maps of layers 0..layer depend only on states below them
+  }
+
+  // Which rows of layer k's input are on: all inputs for k = 0, else layer k-1's neurons.
+  void set_active(const ActivationPattern& pattern, std::size_t k) {
+    if (k == 0) {
+      active_.assign(network_.input_dim, 1);
       return;
     }
-    const IntegerMap* input = &identity_;
-    std::size_t first_neuron = 0;
-    for (std::size_t k = 0; k < layers_.size(); ++k) {
+    const std::size_t first = network_.first_neuron_of_layer(k - 1);
+    active_.resize(layers_[k - 1].rows);
+    for (std::size_t t = 0; t < active_.size(); ++t) active_[t] = pattern.states[first + t] == NeuronState::on;
+  }
+
+  void compute_gmp_maps(const ActivationPattern& pattern, std::size_t start) {
+    for (std::size_t k = start; k < layers_.size(); ++k) {
       poll_stop();
-      active_.assign(input->rows, 1);
-      if (k > 0 && layers_[k - 1].is_relu) {
-        for (std::size_t t = 0; t < input->rows; ++t)
-          active_[t] = pattern.states[first_neuron + t] == NeuronState::on;
-        first_neuron += input->rows;
-      }
-      compose_active(layers_[k], *input, active_, pre_[k]);
-      input = &pre_[k];
+      set_active(pattern, k);
+      compose_active(layers_[k], k == 0 ? identity_ : pre_[k - 1], active_, pre_[k]);
     }
   }
 
-  // compute_integer_maps in 128-bit integers (wide_ proves they fit), then
+  // compute_gmp_maps in fixed-width integers (fixed proves they fit), then
   // each entry set into pre_'s GMP integers.
-  void compute_wide_maps(const ActivationPattern& pattern) {
+  template <class T>
+  void compute_fixed_maps(const ActivationPattern& pattern, std::size_t start, const FixedLayers<T>& fixed,
+                          const std::vector<T>& identity, std::vector<std::vector<T>>& fixed_pre) {
     const std::size_t n = network_.input_dim;
-    wide_pre_.resize(layers_.size());
-    const std::vector<Wide>* input = &wide_identity_;
-    std::size_t first_neuron = 0;
-    for (std::size_t k = 0; k < layers_.size(); ++k) {
-      active_.assign(k == 0 ? n : layers_[k - 1].rows, 1);
-      if (k > 0) {
-        for (std::size_t t = 0; t < active_.size(); ++t)
-          active_[t] = pattern.states[first_neuron + t] == NeuronState::on;
-        first_neuron += active_.size();
-      }
-      compose_wide(layers_[k], *wide_, k, n, *input, active_, wide_pre_[k]);
-      input = &wide_pre_[k];
+    fixed_pre.resize(layers_.size());
+    for (std::size_t k = start; k < layers_.size(); ++k) {
+      set_active(pattern, k);
+      compose_fixed(layers_[k], fixed, k, n, k == 0 ? identity : fixed_pre[k - 1], active_, fixed_pre[k]);
       IntegerMap& map = pre_[k];
       map.rows = layers_[k].rows;
       map.cols = n;
       map.linear.resize(map.rows * n);
       map.offset.resize(map.rows);
       for (std::size_t r = 0; r < map.rows; ++r) {
-        const Wide* row = wide_pre_[k].data() + r * (n + 1);
+        const T* row = fixed_pre[k].data() + r * (n + 1);
         for (std::size_t c = 0; c < n; ++c) set_integer(map.linear[r * n + c], row[c]);
         set_integer(map.offset[r], row[n]);
       }
-      map.denominator = wide_->map_denominator[k];
+      map.denominator = fixed.map_denominator[k];
     }
   }
 
@@ -512,9 +532,13 @@ class RegionProcessor::Impl {
   // The plane path's state (buffers reused between regions).
   bool is_plane_path_ = false;
   IntegerMap identity_;
-  std::optional<WideLayers> wide_;         // the layers in 128 bits, when every map provably fits
+  std::optional<FixedLayers<Wide>> wide_;        // the layers in 128 bits, when every map provably fits
   std::vector<Wide> wide_identity_;
   std::vector<std::vector<Wide>> wide_pre_;
+  std::optional<FixedLayers<Wide256>> wide256_;  // else in 256 bits, when those provably fit
+  std::vector<Wide256> wide256_identity_;
+  std::vector<std::vector<Wide256>> wide256_pre_;
+  ActivationPattern maps_pattern_;               // the pattern of pre_'s maps (no states: none)
   std::vector<lp::PlaneRow> domain_rows_;  // the domain's sides as integer rows
   std::vector<IntegerMap> pre_;            // per layer, this region's pre-activation map
   std::vector<char> active_;
