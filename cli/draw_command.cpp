@@ -294,16 +294,16 @@ std::string region_table(const Network& network, const std::vector<const Region*
 Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments& arguments, Format format) {
   const std::vector<Region>& regions = scene.regions;
   const View& view = scene.view;
-  std::vector<Polygon> polygons;
+  std::vector<lp::Polygon> polygons;
   std::vector<const Region*> drawn;
   for (const auto& region : regions) {
     poll_stop();
-    Polygon polygon = clip_rectangle(view.lower, view.upper, closed_cell(region, scene.with_domain_sides).constraints);
+    lp::Polygon polygon = lp::clip_rectangle(view.lower, view.upper, closed_cell(region, scene.with_domain_sides).constraints);
     if (polygon.vertices.size() < 3) continue;
     polygons.push_back(std::move(polygon));
     drawn.push_back(&region);
   }
-  const PlanarComplex complex = planar_complex(polygons);
+  const lp::PlanarComplex complex = lp::planar_complex(polygons);
   Drawn result{"", region_table(network, drawn), complex.vertices.size(), complex.edges.size(), polygons.size()};
 
   if (format == Format::csv) {
@@ -512,50 +512,17 @@ Drawn draw_mesh(const Network& network, const Scene& scene) {
       e[axis] = -1;
       cell.constraints.push_back(lp::Constraint{e, view.upper[axis]});
     }
-    const VertexRepresentation rep = vertex_representation(cell, region.point);
+    const lp::VertexRepresentation rep = lp::vertex_representation(cell, region.point);
     if (rep.points.size() < 4) continue;
     ++drawn_regions;
-    std::set<std::vector<std::size_t>> seen_faces;
-    for (const auto& c : cell.constraints) {
-      std::vector<RationalVector> on_face;
-      for (const auto& p : rep.points)
-        if (c.normal[0] * p[0] + c.normal[1] * p[1] + c.normal[2] * p[2] + c.offset == 0) on_face.push_back(p);
-      if (on_face.size() < 3) continue;
-      // Order around the centroid in the plane of the two coordinates the
-      // face projects onto without collapsing (drop the largest normal entry).
-      std::size_t drop = 0;
-      for (std::size_t k = 1; k < 3; ++k)
-        if (abs(c.normal[k]) > abs(c.normal[drop])) drop = k;
-      const std::size_t u = drop == 0 ? 1 : 0, w = drop == 2 ? 1 : 2;
-      auto project = [&](const RationalVector& p) { return RationalVector{p[u], p[w]}; };
-      RationalVector centre(2, Rational(0));
-      for (const auto& p : on_face) {
-        centre[0] += p[u];
-        centre[1] += p[w];
-      }
-      centre[0] /= static_cast<long>(on_face.size());
-      centre[1] /= static_cast<long>(on_face.size());
-      std::vector<RationalVector> flat;
-      for (const auto& p : on_face) flat.push_back(project(p));
-      sort_counter_clockwise(flat, centre);
-      std::vector<RationalVector> ordered;
-      for (const auto& q : flat)
-        for (const auto& p : on_face)
-          if (project(p) == q) ordered.push_back(p);
-      // Outward is -normal (the region is where normal.x + offset > 0): the
-      // projected turn must have the sign of -normal[drop] times the
-      // orientation of the (u, w) axes in R^3 (+1 unless drop == 1).
-      const int axes_sign = drop == 1 ? -1 : 1;
-      if ((c.normal[drop] > 0 ? -1 : 1) * axes_sign < 0) std::reverse(ordered.begin(), ordered.end());
+    for (const lp::PolytopeFace& polytope_face : lp::polytope_faces(cell, rep.points)) {
       Face face{{}, r};
-      for (const auto& p : ordered) {
-        auto [it, inserted] = vertex_index.emplace(p, vertices.size());
-        if (inserted) vertices.push_back(p);
+      for (std::size_t corner : polytope_face.corners) {
+        auto [it, inserted] = vertex_index.emplace(rep.points[corner], vertices.size());
+        if (inserted) vertices.push_back(rep.points[corner]);
         face.corners.push_back(it->second);
       }
-      std::vector<std::size_t> key = face.corners;
-      std::sort(key.begin(), key.end());
-      if (seen_faces.insert(key).second) faces.push_back(std::move(face));
+      faces.push_back(std::move(face));
     }
   }
   const std::vector<std::size_t> colour = smallest_last_colouring(adjacent);
