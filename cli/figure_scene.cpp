@@ -54,6 +54,19 @@ std::pair<double, double> shortest_interval(const std::vector<double>& values, s
 
 }  // namespace
 
+std::string describe_view(const View& view) {
+  std::string text;
+  for (std::size_t i = 0; i < view.lower.size(); ++i) {
+    if (i > 0) text += 'x';
+    text += '[';
+    text += format_rational(view.lower[i]);
+    text += ',';
+    text += format_rational(view.upper[i]);
+    text += ']';
+  }
+  return text;
+}
+
 lp::Polyhedron closed_cell(const Region& region, bool with_domain_sides) {
   lp::Polyhedron cell{region.point.size(), {}};
   for (const auto& facet : region.facets)
