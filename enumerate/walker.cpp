@@ -186,98 +186,104 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   }
   bool anomaly = false;  // a crossing candidate that turned out not to be a region
 
+  // A level is processed in chunks, so that only one chunk's region records
+  // are held at a time (a level of a large walk can hold 10^5 regions).
+  const std::size_t chunk = 2048 * std::size_t{threads};
   while (!level.empty() && summary.stop_reason == StopReason::none) {
-    // Process the level in parallel; results are placed by index, so the
-    // order of output does not depend on the thread count.
-    std::vector<detail::Processed> results(level.size());
-    std::vector<char> done(level.size(), 0);
-    std::atomic<std::size_t> next{0};
-    std::atomic<std::size_t> finished{0};
-    std::atomic<bool> halt{false};
-    std::mutex error_mutex;
-    std::exception_ptr error;
-    std::mutex wake_mutex;
-    std::condition_variable wake;
-    std::atomic<int> stopped_inside{static_cast<int>(StopReason::none)};
-    auto work = [&](detail::RegionProcessor& processor) {
-      try {
-        const StopScope scope(stop);
-        for (std::size_t i; !halt && (i = next++) < level.size();) {
-          results[i] = processor.process(seen.pattern(level[i]));  // the store is not written during a level
-          done[i] = 1;
-          ++finished;
-        }
-      } catch (const Stopped& stopped) {  // mid-region: that region stays undone
-        stopped_inside = static_cast<int>(stopped.reason());
-        halt = true;
-      } catch (...) {
-        std::lock_guard lock(error_mutex);
-        if (!error) error = std::current_exception();
-        halt = true;
-      }
-      std::lock_guard lock(wake_mutex);
-      wake.notify_all();
-    };
-    std::vector<std::thread> pool;
-    for (unsigned t = 0; t < threads; ++t) pool.emplace_back(work, std::ref(*processors[t]));
-    {
-      // Wake when the level is done, or every 0.2 s to report and check limits.
-      std::unique_lock lock(wake_mutex);
-      while (!wake.wait_for(lock, std::chrono::milliseconds(200),
-                            [&] { return finished == level.size() || halt; })) {
-        if (StopReason reason = stop_requested(); reason != StopReason::none) {
-          summary.stop_reason = reason;
-          halt = true;
-        }
-        if (options.on_progress)
-          options.on_progress(WalkProgress{summary.regions + finished, level.size() - finished, elapsed()});
-      }
-    }
-    for (auto& thread : pool) thread.join();
-    if (error) std::rethrow_exception(error);
-    if (summary.stop_reason == StopReason::none && stopped_inside != static_cast<int>(StopReason::none))
-      summary.stop_reason = static_cast<StopReason>(stopped_inside.load());
-
     std::vector<std::uint32_t> next_level;
     std::vector<std::uint32_t> neighbours;
     adjacency.start_level(static_cast<std::uint32_t>(summary.regions));
-    for (std::size_t i = 0; i < level.size(); ++i) {
-      if (!done[i]) break;  // cut short: keep the processed prefix, in order
-      detail::Processed& processed = results[i];
-      if (!processed.is_region) {
-        anomaly = true;
-        continue;
-      }
-      if (options.max_regions && summary.regions >= options.max_regions) {
-        summary.stop_reason = StopReason::max_regions;
-        break;
-      }
-      Region& region = processed.region;
-      region.id = summary.regions++;
-      summary.bounded_regions += region.bounded;
-      summary.degenerate_crossings += processed.degenerate_crossings;
-      if (!region.nonsmooth_neurons.empty())
-        summary.nonsmooth_regions.emplace_back(region.pattern, region.nonsmooth_neurons);
-      const auto id = static_cast<std::uint32_t>(region.id);
-      id_of_slot[level[i]] = id;
-      region_slots.push_back(level[i]);
-      neighbours.clear();
-      const auto add_neighbour = [&](const ActivationPattern& neighbor) {
-        const auto [slot, is_new] = remember(neighbor);
-        if (std::find(neighbours.begin(), neighbours.end(), slot) == neighbours.end()) neighbours.push_back(slot);
-        if (is_new) next_level.push_back(slot);
+    for (std::size_t begin = 0; begin < level.size() && summary.stop_reason == StopReason::none; begin += chunk) {
+      // Process the chunk in parallel; results are placed by index, so the
+      // order of output does not depend on the thread count.
+      const std::size_t end = std::min(level.size(), begin + chunk);
+      std::vector<detail::Processed> results(end - begin);
+      std::vector<char> done(end - begin, 0);
+      std::atomic<std::size_t> next{0};
+      std::atomic<std::size_t> finished{0};
+      std::atomic<bool> halt{false};
+      std::mutex error_mutex;
+      std::exception_ptr error;
+      std::mutex wake_mutex;
+      std::condition_variable wake;
+      std::atomic<int> stopped_inside{static_cast<int>(StopReason::none)};
+      auto work = [&](detail::RegionProcessor& processor) {
+        try {
+          const StopScope scope(stop);
+          for (std::size_t i; !halt && (i = next++) < results.size();) {
+            results[i] = processor.process(seen.pattern(level[begin + i]));  // the store is not written meanwhile
+            done[i] = 1;
+            ++finished;
+          }
+        } catch (const Stopped& stopped) {  // mid-region: that region stays undone
+          stopped_inside = static_cast<int>(stopped.reason());
+          halt = true;
+        } catch (...) {
+          std::lock_guard lock(error_mutex);
+          if (!error) error = std::current_exception();
+          halt = true;
+        }
+        std::lock_guard lock(wake_mutex);
+        wake.notify_all();
       };
-      for (const auto& facet : region.facets) {
-        if (!facet.neighbor) continue;
-        add_neighbour(*facet.neighbor);
-        for (const auto& other : facet.other_neighbors) add_neighbour(other);
+      std::vector<std::thread> pool;
+      for (unsigned t = 0; t < threads; ++t) pool.emplace_back(work, std::ref(*processors[t]));
+      {
+        // Wake when the chunk is done, or every 0.2 s to report and check limits.
+        std::unique_lock lock(wake_mutex);
+        while (!wake.wait_for(lock, std::chrono::milliseconds(200),
+                              [&] { return finished == results.size() || halt; })) {
+          if (StopReason reason = stop_requested(); reason != StopReason::none) {
+            summary.stop_reason = reason;
+            halt = true;
+          }
+          if (options.on_progress)
+            options.on_progress(WalkProgress{summary.regions + finished, level.size() - begin - finished, elapsed()});
+        }
       }
-      const bool is_stop_asked = options.on_region && !options.on_region(region);
-      adjacency.add_region(id, level[i], neighbours, std::move(region.affine), id_of_slot);  // after on_region, which reads it
-      results[i] = detail::Processed{};  // free the record now: a level can be large
-      if (is_stop_asked) {
-        summary.stop_reason = StopReason::requested;
-        break;
+      for (auto& thread : pool) thread.join();
+      if (error) std::rethrow_exception(error);
+      if (summary.stop_reason == StopReason::none && stopped_inside != static_cast<int>(StopReason::none))
+        summary.stop_reason = static_cast<StopReason>(stopped_inside.load());
+
+      for (std::size_t i = 0; i < results.size(); ++i) {
+        if (!done[i]) break;  // cut short: keep the processed prefix, in order
+        detail::Processed& processed = results[i];
+        if (!processed.is_region) {
+          anomaly = true;
+          continue;
+        }
+        if (options.max_regions && summary.regions >= options.max_regions) {
+          summary.stop_reason = StopReason::max_regions;
+          break;
+        }
+        Region& region = processed.region;
+        region.id = summary.regions++;
+        summary.bounded_regions += region.bounded;
+        summary.degenerate_crossings += processed.degenerate_crossings;
+        if (!region.nonsmooth_neurons.empty())
+          summary.nonsmooth_regions.emplace_back(region.pattern, region.nonsmooth_neurons);
+        const auto id = static_cast<std::uint32_t>(region.id);
+        id_of_slot[level[begin + i]] = id;
+        region_slots.push_back(level[begin + i]);
+        neighbours.clear();
+        const auto add_neighbour = [&](const ActivationPattern& neighbor) {
+          const auto [slot, is_new] = remember(neighbor);
+          if (std::find(neighbours.begin(), neighbours.end(), slot) == neighbours.end()) neighbours.push_back(slot);
+          if (is_new) next_level.push_back(slot);
+        };
+        for (const auto& facet : region.facets) {
+          if (!facet.neighbor) continue;
+          add_neighbour(*facet.neighbor);
+          for (const auto& other : facet.other_neighbors) add_neighbour(other);
+        }
+        const bool is_stop_asked = options.on_region && !options.on_region(region);
+        adjacency.add_region(id, level[begin + i], neighbours, std::move(region.affine), id_of_slot);  // after on_region, which reads it
+        results[i] = detail::Processed{};  // free the record now: a level can be large
+        if (is_stop_asked) {
+          summary.stop_reason = StopReason::requested;
+          break;
+        }
       }
     }
     if (summary.stop_reason == StopReason::none) {

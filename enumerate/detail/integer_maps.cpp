@@ -69,31 +69,19 @@ void compose_integer(const IntegerLayer& layer, const IntegerMap& input, Integer
 
 namespace {
 
-// Exactly |value| < 2^(bits of T - 3) is required of every narrowed value (the bound's limit).
-void narrow(const Integer& value, Wide& out) {
+// Precondition: |value| < 2^127.
+Wide narrow(const Integer& value) {
   Integer magnitude = abs(value);
   const Wide low = static_cast<Wide>(mpz_get_ui(magnitude.get_mpz_t()));
   magnitude >>= 64;
-  out = (static_cast<Wide>(mpz_get_ui(magnitude.get_mpz_t())) << 64) | low;
-  if (sgn(value) < 0) out = -out;
+  const Wide result = (static_cast<Wide>(mpz_get_ui(magnitude.get_mpz_t())) << 64) | low;
+  return sgn(value) < 0 ? -result : result;
 }
 
-void narrow(const Integer& value, Wide256& out) { out = Wide256(value.get_str()); }
-
-template <class T>
-constexpr unsigned limit_bits = 0;
-template <>
-constexpr unsigned limit_bits<Wide> = 125;
-template <>
-constexpr unsigned limit_bits<Wide256> = 253;
-
-}  // namespace
-
-template <class T>
-std::optional<FixedLayers<T>> fixed_layers(const std::vector<IntegerLayer>& layers) {
-  const Integer limit = Integer(1) << limit_bits<T>;
+// True when the bound above keeps every map entry and partial sum below 2^limit_bits.
+bool maps_fit(const std::vector<IntegerLayer>& layers, unsigned limit_bits) {
+  const Integer limit = Integer(1) << limit_bits;
   Integer linear_bound = 1, offset_bound = 0, denominator = 1;
-  FixedLayers<T> fixed;
   for (const IntegerLayer& layer : layers) {
     Integer row_sum_bound = 0, bias_bound = 0;
     for (std::size_t r = 0; r < layer.rows; ++r) {
@@ -104,56 +92,120 @@ std::optional<FixedLayers<T>> fixed_layers(const std::vector<IntegerLayer>& laye
     }
     linear_bound *= row_sum_bound;
     offset_bound = denominator * bias_bound + row_sum_bound * offset_bound;
-    if (linear_bound >= limit || offset_bound >= limit || denominator >= limit) return std::nullopt;
-    std::vector<T> weights(layer.weights.size()), bias(layer.bias.size());
-    for (std::size_t i = 0; i < weights.size(); ++i) narrow(layer.weights[i], weights[i]);
-    for (std::size_t i = 0; i < bias.size(); ++i) narrow(layer.bias[i], bias[i]);
-    fixed.weights.push_back(std::move(weights));
-    fixed.bias.push_back(std::move(bias));
-    narrow(denominator, fixed.input_denominator.emplace_back());
+    if (linear_bound >= limit || offset_bound >= limit || denominator >= limit) return false;
     denominator *= layer.denominator;
-    if (denominator >= limit) return std::nullopt;
+    if (denominator >= limit) return false;
+  }
+  return true;
+}
+
+}  // namespace
+
+std::optional<FixedLayers<Wide>> wide_layers(const std::vector<IntegerLayer>& layers) {
+  if (!maps_fit(layers, 125)) return std::nullopt;
+  FixedLayers<Wide> wide;
+  Integer denominator = 1;
+  for (const IntegerLayer& layer : layers) {
+    std::vector<Wide> weights(layer.weights.size()), bias(layer.bias.size());
+    for (std::size_t i = 0; i < weights.size(); ++i) weights[i] = narrow(layer.weights[i]);
+    for (std::size_t i = 0; i < bias.size(); ++i) bias[i] = narrow(layer.bias[i]);
+    wide.weights.push_back(std::move(weights));
+    wide.bias.push_back(std::move(bias));
+    wide.input_denominator.push_back(narrow(denominator));
+    denominator *= layer.denominator;
+    wide.map_denominator.push_back(denominator);
+  }
+  return wide;
+}
+
+std::optional<Layers256> layers_256(const std::vector<IntegerLayer>& layers) {
+  if (!maps_fit(layers, 253)) return std::nullopt;
+  Layers256 fixed;
+  Integer denominator = 1;
+  for (const IntegerLayer& layer : layers) {
+    std::vector<std::int64_t> weights(layer.weights.size());
+    for (std::size_t i = 0; i < weights.size(); ++i) {
+      if (!mpz_fits_slong_p(layer.weights[i].get_mpz_t())) return std::nullopt;
+      weights[i] = mpz_get_si(layer.weights[i].get_mpz_t());
+    }
+    std::vector<Int256> bias_term(layer.rows);
+    for (std::size_t r = 0; r < layer.rows; ++r) bias_term[r] = to_int256(Integer(denominator * layer.bias[r]));
+    fixed.weights.push_back(std::move(weights));
+    fixed.bias_term.push_back(std::move(bias_term));
+    denominator *= layer.denominator;
     fixed.map_denominator.push_back(denominator);
   }
   return fixed;
 }
 
-template <class T>
-void compose_fixed(const IntegerLayer& layer, const FixedLayers<T>& fixed, std::size_t k, std::size_t n,
-                   const std::vector<T>& input, const std::vector<char>& active, std::vector<T>& out) {
+void compose_fixed(const IntegerLayer& layer, const FixedLayers<Wide>& fixed, std::size_t k, std::size_t n,
+                   const std::vector<Wide>& input, const std::vector<char>& active, std::vector<Wide>& out) {
   const std::size_t width = n + 1;
-  out.assign(layer.rows * width, T(0));
-  const std::vector<T>& weights = fixed.weights[k];
+  out.assign(layer.rows * width, 0);
+  const std::vector<Wide>& weights = fixed.weights[k];
   for (std::size_t r = 0; r < layer.rows; ++r) {
-    T* row = out.data() + r * width;
+    Wide* row = out.data() + r * width;
     row[n] = fixed.input_denominator[k] * fixed.bias[k][r];
     for (std::size_t t = 0; t < layer.cols; ++t) {
-      const T& weight = weights[r * layer.cols + t];
+      const Wide weight = weights[r * layer.cols + t];
       if (!active[t] || weight == 0) continue;
-      const T* from = input.data() + t * width;
+      const Wide* from = input.data() + t * width;
       for (std::size_t c = 0; c < width; ++c) row[c] += weight * from[c];
     }
   }
 }
 
-template std::optional<FixedLayers<Wide>> fixed_layers<Wide>(const std::vector<IntegerLayer>&);
-template std::optional<FixedLayers<Wide256>> fixed_layers<Wide256>(const std::vector<IntegerLayer>&);
-template void compose_fixed<Wide>(const IntegerLayer&, const FixedLayers<Wide>&, std::size_t, std::size_t,
-                                  const std::vector<Wide>&, const std::vector<char>&, std::vector<Wide>&);
-template void compose_fixed<Wide256>(const IntegerLayer&, const FixedLayers<Wide256>&, std::size_t, std::size_t,
-                                     const std::vector<Wide256>&, const std::vector<char>&, std::vector<Wide256>&);
+void compose_fixed(const IntegerLayer& layer, const Layers256& fixed, std::size_t k, std::size_t n,
+                   const std::vector<Int256>& input, const std::vector<char>& active, std::vector<Int256>& out) {
+  const std::size_t width = n + 1;
+  out.assign(layer.rows * width, Int256{});
+  const std::vector<std::int64_t>& weights = fixed.weights[k];
+  for (std::size_t r = 0; r < layer.rows; ++r) {
+    Int256* row = out.data() + r * width;
+    row[n] = fixed.bias_term[k][r];
+    for (std::size_t t = 0; t < layer.cols; ++t) {
+      const std::int64_t weight = weights[r * layer.cols + t];
+      if (!active[t] || weight == 0) continue;
+      const Int256* from = input.data() + t * width;
+      for (std::size_t c = 0; c < width; ++c) add_product(row[c], weight, from[c]);
+    }
+  }
+}
 
-void set_integer(Integer& out, const Wide256& value) {
-  if (value >= std::numeric_limits<long>::min() && value <= std::numeric_limits<long>::max()) {
-    mpz_set_si(out.get_mpz_t(), static_cast<long>(value));
+Int256 to_int256(const Integer& value) {
+  Int256 out;
+  std::size_t count = 0;
+  mpz_export(out.limbs.data(), &count, -1, sizeof(std::uint64_t), 0, 0, value.get_mpz_t());  // |value|
+  if (sgn(value) < 0) {  // two's complement: invert and add one
+    UnsignedWide carry = 1;
+    for (std::uint64_t& limb : out.limbs) {
+      carry += static_cast<std::uint64_t>(~limb);
+      limb = static_cast<std::uint64_t>(carry);
+      carry >>= 64;
+    }
+  }
+  return out;
+}
+
+void set_integer(Integer& out, const Int256& value) {
+  const bool is_negative = (value.limbs[3] >> 63) != 0;
+  const std::uint64_t extension = is_negative ? ~std::uint64_t{0} : 0;
+  if (value.limbs[1] == extension && value.limbs[2] == extension && value.limbs[3] == extension &&
+      ((value.limbs[0] >> 63) != 0) == is_negative) {
+    mpz_set_si(out.get_mpz_t(), static_cast<long>(static_cast<std::int64_t>(value.limbs[0])));
     return;
   }
-  std::array<std::uint64_t, 4> limbs{};
-  const Wide256 magnitude = abs(value);
-  const auto end = boost::multiprecision::export_bits(magnitude, limbs.begin(), 64, false);  // least significant first
-  mpz_import(out.get_mpz_t(), static_cast<std::size_t>(end - limbs.begin()), -1, sizeof(std::uint64_t), 0, 0,
-             limbs.data());
-  if (value < 0) mpz_neg(out.get_mpz_t(), out.get_mpz_t());
+  std::array<std::uint64_t, 4> magnitude = value.limbs;
+  if (is_negative) {
+    UnsignedWide carry = 1;
+    for (std::uint64_t& limb : magnitude) {
+      carry += static_cast<std::uint64_t>(~limb);
+      limb = static_cast<std::uint64_t>(carry);
+      carry >>= 64;
+    }
+  }
+  mpz_import(out.get_mpz_t(), magnitude.size(), -1, sizeof(std::uint64_t), 0, 0, magnitude.data());
+  if (is_negative) mpz_neg(out.get_mpz_t(), out.get_mpz_t());
 }
 
 void set_integer(Integer& out, Wide value) {

@@ -10,9 +10,9 @@
 #include "enumerate/domain.hpp"
 #include "enumerate/walker.hpp"
 
-#include <boost/multiprecision/cpp_int.hpp>
-
+#include <array>
 #include <cstddef>
+#include <cstdint>
 #include <optional>
 #include <vector>
 
@@ -44,14 +44,58 @@ struct IntegerMap {
 // O_k = E_(k-1) max_r |b_k[r]| + S_k O_(k-1) (O_0 = 0), whatever the pattern
 // (a neuron that is off only drops terms); each partial sum of a row is
 // bounded the same way. All of them below 2^125 make every product below
-// exact in __int128; below 2^253, in Boost's checked 256-bit integers (which
-// would throw on an overflow the bound rules out). Beyond that, GMP.
+// exact in __int128; below 2^253 (and every weight below 2^63), exact in
+// Int256's arithmetic modulo 2^256. Beyond that, GMP.
 __extension__ typedef __int128 Wide;
 __extension__ typedef unsigned __int128 UnsignedWide;
-using Wide256 = boost::multiprecision::checked_int256_t;
+
+// A 256-bit two's complement integer, least significant limb first. Sums and
+// products are taken modulo 2^256, which is exact for values in
+// (-2^255, 2^255): the bound above keeps every map entry and partial sum below
+// 2^253 in magnitude.
+struct Int256 {
+  std::array<std::uint64_t, 4> limbs{};
+};
+
+// acc += weight * x (modulo 2^256).
+inline void add_product(Int256& acc, std::int64_t weight, const Int256& x) {
+  const std::uint64_t m = weight < 0 ? 0 - static_cast<std::uint64_t>(weight) : static_cast<std::uint64_t>(weight);
+  std::array<std::uint64_t, 4> product;
+  UnsignedWide carry = 0;
+  for (std::size_t i = 0; i < 4; ++i) {
+    const UnsignedWide t = static_cast<UnsignedWide>(x.limbs[i]) * m + carry;
+    product[i] = static_cast<std::uint64_t>(t);
+    carry = t >> 64;
+  }
+  if (weight >= 0) {
+    UnsignedWide sum = 0;
+    for (std::size_t i = 0; i < 4; ++i) {
+      sum += static_cast<UnsignedWide>(acc.limbs[i]) + product[i];
+      acc.limbs[i] = static_cast<std::uint64_t>(sum);
+      sum >>= 64;
+    }
+  } else {
+    std::uint64_t borrow = 0;
+    for (std::size_t i = 0; i < 4; ++i) {
+      const std::uint64_t a = acc.limbs[i];
+      const std::uint64_t b = product[i];
+      const std::uint64_t difference = a - b - borrow;
+      borrow = (a < b || (a == b && borrow)) ? 1 : 0;
+      acc.limbs[i] = difference;
+    }
+  }
+}
+
+// The layers for Int256 maps: weights in 64 bits, and per row the exact
+// product E_(k-1) b_k[r] that starts each offset.
+struct Layers256 {
+  std::vector<std::vector<std::int64_t>> weights;  // per layer, rows x cols
+  std::vector<std::vector<Int256>> bias_term;      // per layer, rows
+  std::vector<Integer> map_denominator;            // per layer: E_k
+};
 
 template <class T>
-struct FixedLayers {
+struct FixedLayers {  // for T = Wide
   std::vector<std::vector<T>> weights;  // per layer, rows x cols
   std::vector<std::vector<T>> bias;
   std::vector<T> input_denominator;     // per layer: E_(k-1)
@@ -60,19 +104,21 @@ struct FixedLayers {
 
 std::vector<IntegerLayer> integer_layers(const Network& network);
 
-// The layers in T (Wide or Wide256) when the bound above proves every map of
+// The layers in 128 (256) bits when the bound above proves every map of
 // every pattern fits; nullopt otherwise.
-template <class T>
-std::optional<FixedLayers<T>> fixed_layers(const std::vector<IntegerLayer>& layers);
+std::optional<FixedLayers<Wide>> wide_layers(const std::vector<IntegerLayer>& layers);
+std::optional<Layers256> layers_256(const std::vector<IntegerLayer>& layers);
 
 // Layer k's pre-activation rows (n linear entries, then the offset) from the
 // previous layer's rows, only those with active[t] (neurons that are on).
-template <class T>
-void compose_fixed(const IntegerLayer& layer, const FixedLayers<T>& fixed, std::size_t k, std::size_t n,
-                   const std::vector<T>& input, const std::vector<char>& active, std::vector<T>& out);
+void compose_fixed(const IntegerLayer& layer, const FixedLayers<Wide>& fixed, std::size_t k, std::size_t n,
+                   const std::vector<Wide>& input, const std::vector<char>& active, std::vector<Wide>& out);
+void compose_fixed(const IntegerLayer& layer, const Layers256& fixed, std::size_t k, std::size_t n,
+                   const std::vector<Int256>& input, const std::vector<char>& active, std::vector<Int256>& out);
 
 void set_integer(Integer& out, Wide value);
-void set_integer(Integer& out, const Wide256& value);
+void set_integer(Integer& out, const Int256& value);
+Int256 to_int256(const Integer& value);  // precondition: |value| < 2^255
 
 // Layer k's pre-activation map from the previous pre-activation map, with the
 // input's rows limited to those with active[t] (the neurons that are on).

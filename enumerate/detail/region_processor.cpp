@@ -58,14 +58,14 @@ class RegionProcessor::Impl {
     is_plane_path_ = n == 2 && !exact_only && is_plane_path_allowed;
     is_space_path_ = n == 3 && !exact_only && is_plane_path_allowed;
     if (!is_plane_path_ && !is_space_path_) return;
-    wide_ = fixed_layers<Wide>(layers_);
-    if (!wide_) wide256_ = fixed_layers<Wide256>(layers_);
+    wide_ = wide_layers(layers_);
+    if (!wide_) wide256_ = layers_256(layers_);
     wide_identity_.assign(n * (n + 1), 0);
-    wide256_identity_.assign(n * (n + 1), Wide256(0));
+    wide256_identity_.assign(n * (n + 1), Int256{});
     identity_ = IntegerMap{n, n, std::vector<Integer>(n * n, Integer(0)), std::vector<Integer>(n, Integer(0)), Integer(1)};
     for (std::size_t k = 0; k < n; ++k) {
       wide_identity_[k * (n + 1) + k] = 1;  // row k: e_k | 0
-      wide256_identity_[k * (n + 1) + k] = 1;
+      wide256_identity_[k * (n + 1) + k].limbs[0] = 1;
       identity_.linear[k * n + k] = 1;
     }
     for (const lp::Constraint& side : domain.constraints) {
@@ -184,8 +184,8 @@ class RegionProcessor::Impl {
 
   // compute_gmp_maps in fixed-width integers (fixed proves they fit), then
   // each entry set into pre_'s GMP integers.
-  template <class T>
-  void compute_fixed_maps(const ActivationPattern& pattern, std::size_t start, const FixedLayers<T>& fixed,
+  template <class T, class Layers>
+  void compute_fixed_maps(const ActivationPattern& pattern, std::size_t start, const Layers& fixed,
                           const std::vector<T>& identity, std::vector<std::vector<T>>& fixed_pre) {
     const std::size_t n = network_.input_dim;
     fixed_pre.resize(layers_.size());
@@ -535,9 +535,9 @@ class RegionProcessor::Impl {
   std::optional<FixedLayers<Wide>> wide_;        // the layers in 128 bits, when every map provably fits
   std::vector<Wide> wide_identity_;
   std::vector<std::vector<Wide>> wide_pre_;
-  std::optional<FixedLayers<Wide256>> wide256_;  // else in 256 bits, when those provably fit
-  std::vector<Wide256> wide256_identity_;
-  std::vector<std::vector<Wide256>> wide256_pre_;
+  std::optional<Layers256> wide256_;             // else in 256 bits, when those provably fit
+  std::vector<Int256> wide256_identity_;
+  std::vector<std::vector<Int256>> wide256_pre_;
   ActivationPattern maps_pattern_;               // the pattern of pre_'s maps (no states: none)
   std::vector<lp::PlaneRow> domain_rows_;  // the domain's sides as integer rows
   std::vector<IntegerMap> pre_;            // per layer, this region's pre-activation map
