@@ -97,6 +97,25 @@ std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
                                                      const std::vector<std::size_t>& leading,
                                                      const std::vector<std::size_t>& wanted);
 
+// Rows `rows` of E (indices into the image's rows, each with a large entry)
+// lifted over primes other than the walk's: a row whose support S (read
+// modulo the walk's prime) has at most sparse_limit columns alone, from |S|
+// kept rows independent on S; the others together on the union of their
+// supports (all rows together when the sparse systems would cost more than
+// half an r x r solve). Each group's square system is solved modulo every
+// further prime (the kept regions its equations come from, in word
+// arithmetic), Chinese remaindered and reconstructed, until two
+// reconstructions in a row agree. The rows in the order given, or nullopt
+// (no independent equations modulo the walk's prime, or no agreement within
+// 4096 primes). Not proved.
+std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network& network,
+                                                                  const ModularNetwork& walk_network,
+                                                                  const std::vector<KeptRows>& kept, std::size_t rank,
+                                                                  const ModularMatrix& image,
+                                                                  const std::vector<std::size_t>& rows,
+                                                                  const std::vector<std::size_t>& leading,
+                                                                  std::size_t sparse_limit, unsigned threads);
+
 // Whether E vanishes at the columns Q and is in reduced row-echelon form
 // with leading 1s: then S u E is independent whenever S restricted to Q is
 // nonsingular. Exact.
