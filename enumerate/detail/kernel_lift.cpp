@@ -416,6 +416,46 @@ ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vec
   return extra;
 }
 
+ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots) {
+  const ModularMatrix rows = basis.rows();
+  const std::vector<std::size_t>& pivots = basis.pivot_columns();
+  const std::size_t columns = rows.cols();
+  const std::uint64_t prime = basis.prime();
+  // Columns in the order Q first, then the others increasing.
+  std::vector<char> is_scaling(columns, 0);
+  for (std::size_t c : scaling_pivots) is_scaling[c] = 1;
+  std::vector<std::size_t> order(scaling_pivots.begin(), scaling_pivots.end());
+  std::sort(order.begin(), order.end());
+  for (std::size_t c = 0; c < columns; ++c)
+    if (!is_scaling[c]) order.push_back(c);
+  std::vector<std::size_t> position(columns);
+  for (std::size_t q = 0; q < columns; ++q) position[order[q]] = q;
+  // The kernel read off the basis (row i: 1 at pivot_i, 0 at the other
+  // pivots): for each other column f, e_f minus column f at the pivots.
+  std::vector<char> is_pivot(columns, 0);
+  for (std::size_t c : pivots) is_pivot[c] = 1;
+  ModularMatrix kernel(columns - pivots.size(), columns);  // in the permuted order
+  std::size_t k = 0;
+  for (std::size_t f = 0; f < columns; ++f) {
+    if (is_pivot[f]) continue;
+    poll_stop();
+    kernel(k, position[f]) = 1;
+    for (std::size_t i = 0; i < pivots.size(); ++i)
+      if (rows(i, f) != 0) kernel(k, position[pivots[i]]) = prime - rows(i, f);
+    ++k;
+  }
+  // Its reduced echelon form with Q first: the rows led outside Q vanish on
+  // Q and are E's canonical basis (reduced on the other columns in order).
+  const ModularMatrix echelon = row_space_basis_modulo(kernel, prime);
+  const std::vector<std::size_t> leads = echelon_shape(echelon);  // permuted positions
+  std::size_t first = 0;
+  while (first < echelon.rows() && is_scaling[order[leads[first]]]) ++first;
+  ModularMatrix extra(echelon.rows() - first, columns);
+  for (std::size_t r = first; r < echelon.rows(); ++r)
+    for (std::size_t q = 0; q < columns; ++q) extra(r - first, order[q]) = echelon(r, q);
+  return extra;
+}
+
 bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>& columns) {
   std::vector<bool> is_excluded(extra.cols(), false);
   for (std::size_t c : columns) is_excluded[c] = true;

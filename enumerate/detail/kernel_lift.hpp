@@ -46,6 +46,13 @@ struct KeptRows {
 ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vector<std::size_t>& scaling_pivots,
                                        std::uint64_t prime);
 
+// The same from the walk's basis itself (rows 1 at their pivot, 0 at the
+// other pivots), cheaper when the kernel is smaller than the rank: its
+// kernel read off directly (D - r vectors), put in reduced row-echelon form
+// with the columns Q first; the rows led outside Q are E. Equal to
+// extra_directions_of_rows(basis.rows(), ...).
+ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots);
+
 // The leading column of each row of an echelon matrix (its shape).
 std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon);
 

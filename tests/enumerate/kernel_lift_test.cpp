@@ -61,8 +61,10 @@ WalkState walk_state(const Network& network) {
   };
   EXPECT_TRUE(walk_regions(network, make_whole_space(network.input_dim), options).complete);
   state.rank = basis.rank();
-  state.first_image =
-      detail::extra_directions_of_rows(basis.rows(), scaling_structure(network).pivot_columns, state.modular.prime);
+  const std::vector<std::size_t>& pivots = scaling_structure(network).pivot_columns;
+  state.first_image = detail::extra_directions_of_rows(basis.rows(), pivots, state.modular.prime);
+  // Read off the basis directly: the same image (what certify uses).
+  EXPECT_EQ(detail::extra_directions_of_basis(basis, pivots), state.first_image);
   return state;
 }
 
