@@ -42,6 +42,13 @@ lp::Polyhedron tangent_cone_at(const lp::Polyhedron& cell, const RationalVector&
 }
 
 
+// A region's exact rational maps and their double images, for the rare
+// crossings the integer maps cannot decide (fast paths only: never exact-only).
+struct RationalMaps {
+  PatternMaps maps;
+  MapImages images;
+};
+
 }  // namespace
 
 class RegionProcessor::Impl {
@@ -268,15 +275,13 @@ class RegionProcessor::Impl {
     // Boundedness on the neuron rows (as a subset of R^2).
     std::optional<bool> bounded = false;
     if (neuron_rows_ > 0) {
-      neuron_only_.assign(rows_.begin(), rows_.begin() + static_cast<std::ptrdiff_t>(neuron_rows_));
-      bounded = lp::is_plane_cell_bounded(neuron_only_);
+      bounded = lp::is_plane_cell_bounded(std::span<const lp::PlaneRow>(rows_.data(), neuron_rows_));
       if (!bounded) return std::nullopt;
     }
     region.bounded = *bounded;
     region.point = plane->interior;
     region.affine = output_map(pattern);
-    std::optional<PatternMaps> rational_maps;  // only for degenerate crossings
-    crossing_buffers_.images.clear();
+    std::optional<RationalMaps> rational_maps;  // only for degenerate crossings
     // Reserved: RegionFacet's move is not noexcept (gmpxx), so growth would copy.
     region.facets.reserve(static_cast<std::size_t>(
         std::count_if(plane->groups.begin(), plane->groups.end(), [](const lp::PlaneGroup& g) { return g.is_facet; })));
@@ -316,8 +321,7 @@ class RegionProcessor::Impl {
     region.bounded = neuron_rows_ > 0 && *space->bounded;
     region.point = space->interior;
     region.affine = output_map(pattern);
-    std::optional<PatternMaps> rational_maps;  // only for degenerate crossings
-    crossing_buffers_.images.clear();
+    std::optional<RationalMaps> rational_maps;  // only for degenerate crossings
     region.facets.reserve(static_cast<std::size_t>(
         std::count_if(space->groups.begin(), space->groups.end(), [](const lp::SpaceGroup& g) { return g.is_facet; })));
     for (const lp::SpaceGroup& group : space->groups) {
@@ -363,12 +367,20 @@ class RegionProcessor::Impl {
     return to_rational_map(out);
   }
 
+  // By neuron id: the neurons of the facet group's rows (they vanish at its point).
+  const std::vector<char>& vanishing_at(const std::vector<std::size_t>& group_rows) {
+    vanishing_.assign(network_.relu_neuron_count(), 0);
+    for (std::size_t c : group_rows)
+      if (c < neuron_rows_) vanishing_[row_neuron_[c]] = 1;
+    return vanishing_;
+  }
+
   // A facet of the integer-row paths: its neurons or domain side, its
   // primitive normal, and the neighbour across it at `point`. normal and
   // offset are the group representative's row.
   RegionFacet integer_facet(const ActivationPattern& pattern, const std::vector<std::size_t>& group_rows,
                             const RationalVector& point, std::span<const Integer* const> normal, const Integer& offset,
-                            std::optional<PatternMaps>& rational_maps, std::size_t& degenerate_crossings) {
+                            std::optional<RationalMaps>& rational_maps, std::size_t& degenerate_crossings) {
     RegionFacet facet;
     for (std::size_t c : group_rows) {
       if (c < neuron_rows_) facet.neurons.push_back(row_neuron_[c]);
@@ -383,18 +395,20 @@ class RegionProcessor::Impl {
     facet.point = point;
     if (facet.domain_side) return facet;
     std::vector<ActivationPattern> candidates;
-    if (std::optional<ActivationPattern> far = pattern_across_in_integers(network_, pre_, crossing_buffers_, pattern, facet.point, normal)) {
+    if (std::optional<ActivationPattern> far = pattern_across_in_integers(network_, pre_, pattern, vanishing_at(group_rows), normal)) {
       candidates.push_back(std::move(*far));
     } else {
-      if (!rational_maps) rational_maps = maps_on_pattern_fraction_free(layers_, network_.input_dim, pattern);
+      if (!rational_maps) {  // once per region, for all its degenerate crossings
+        PatternMaps maps = maps_on_pattern_fraction_free(layers_, network_.input_dim, pattern);
+        MapImages images = map_images(network_, maps);
+        rational_maps = RationalMaps{std::move(maps), std::move(images)};
+      }
       RationalVector row_normal, direction;
       for (const Integer* value : normal) {
         row_normal.push_back(Rational(*value));
         direction.push_back(Rational(-*value));
       }
-      std::optional<MapImages> images;
-      if (!exact_only_) images = map_images(network_, *rational_maps);
-      candidates = patterns_across_filtered(network_, pattern, *rational_maps, images ? &*images : nullptr,
+      candidates = patterns_across_filtered(network_, pattern, rational_maps->maps, &rational_maps->images,
                                             facet.point, direction, row_normal);
     }
     name_neighbours(facet, std::move(candidates), degenerate_crossings);
@@ -543,10 +557,9 @@ class RegionProcessor::Impl {
   std::vector<IntegerMap> pre_;            // per layer, this region's pre-activation map
   std::vector<char> active_;
   std::vector<lp::PlaneRow> rows_;         // this region's cell: neurons, then domain sides
-  std::vector<lp::PlaneRow> neuron_only_;
   std::vector<std::size_t> row_neuron_;    // neuron id per neuron row
   std::size_t neuron_rows_ = 0;
-  IntegerCrossingBuffers crossing_buffers_;  // filter images of pre_ (lazy), a scratch point
+  std::vector<char> vanishing_;            // by neuron id: in the facet being crossed
   // The space path's state (3 inputs).
   bool is_space_path_ = false;
   std::vector<lp::SpaceRow> domain_space_rows_;

@@ -8,6 +8,7 @@
 
 #include "core/jacobian.hpp"
 #include "core/network_io.hpp"
+#include "core/random_network.hpp"
 #include "core/rank.hpp"
 #include "enumerate/domain.hpp"
 #include "enumerate/functional_dimension.hpp"
@@ -130,6 +131,45 @@ TEST(KernelLift, WrongImageFallsBackToTheExactSolve) {
   ASSERT_TRUE(lifted.has_value());
   EXPECT_EQ(*lifted, expected);
   EXPECT_EQ(furthest, 2u);
+}
+
+// The check (products from layer inputs and backward signals modulo primes,
+// enumerate/detail/kernel_check.cpp) names the same first region as exact
+// products with coefficient_blocks, for each exact extra direction and for
+// each one changed in one entry, on random networks, one with two outputs,
+// and networks with a ReLU on the output.
+TEST(KernelCheck, FirstRejectedRegionEqualsTheExactProductsOne) {
+  std::vector<Network> networks = {random_network({2, 4, 3, 1}, 11), random_network({2, 3, 3, 2}, 14),
+                                   random_network({3, 4, 3, 1}, 15)};
+  networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/tests/data/output_relu2d.json"));
+  networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/tests/data/fd_relu_output_hidden_middle.json"));
+  networks.push_back(scaled_degenerate());
+  std::size_t compared = 0;
+  for (const Network& network : networks) {
+    const WalkState state = walk_state(network);
+    const RationalMatrix extra = exact_extra_directions(network, state.smooth);
+    std::vector<RationalMatrix> blocks;
+    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    auto exact_first = [&](const RationalVector& vector) -> std::optional<std::size_t> {
+      for (std::size_t p = 0; p < blocks.size(); ++p)
+        for (std::size_t r = 0; r < blocks[p].rows(); ++r) {
+          Rational sum = 0;
+          for (std::size_t c = 0; c < vector.size(); ++c) sum += blocks[p](r, c) * vector[c];
+          if (sum != 0) return p;
+        }
+      return std::nullopt;
+    };
+    for (std::size_t j = 0; j < extra.rows(); ++j)
+      for (std::size_t c = 0; c < extra.cols(); c += 3) {
+        RationalVector vector = extra.row(j);
+        if (c > 0) vector[c] += Rational(1, 3);
+        RationalMatrix one(0, extra.cols());
+        one.append_row(RationalVector(vector));
+        EXPECT_EQ(first_region_not_annihilated(network, one, state.smooth), exact_first(vector));
+        ++compared;
+      }
+  }
+  EXPECT_GT(compared, 20u);
 }
 
 }  // namespace
