@@ -61,8 +61,10 @@ WalkState walk_state(const Network& network) {
   };
   EXPECT_TRUE(walk_regions(network, make_whole_space(network.input_dim), options).complete);
   state.rank = basis.rank();
-  state.first_image =
-      detail::extra_directions_of_rows(basis.rows(), scaling_structure(network).pivot_columns, state.modular.prime);
+  const std::vector<std::size_t>& pivots = scaling_structure(network).pivot_columns;
+  state.first_image = detail::extra_directions_of_rows(basis.rows(), pivots, state.modular.prime);
+  // Read off the basis directly: the same image (what certify uses).
+  EXPECT_EQ(detail::extra_directions_of_basis(basis, pivots), state.first_image);
   return state;
 }
 
@@ -102,6 +104,30 @@ TEST(KernelLift, ExactSolveAndMultiModularLiftGiveTheExactKernelsExtraDirections
     EXPECT_FALSE(stopped);
     EXPECT_EQ(*lifted, expected);
     EXPECT_EQ(furthest, 1u);  // further primes, no exact solve
+  }
+}
+
+// Rows lifted alone (each from its own support's square system) and all
+// rows lifted together (one system on the union of their supports) give the
+// same rows, those of the exact kernel, on the scaled example and on a
+// random network; with 1 thread and with 2.
+TEST(KernelLift, RowsAloneAndTogetherGiveTheExactRows) {
+  for (const Network& network : {scaled_degenerate(), random_network({2, 6, 5, 1}, 21)}) {
+    const WalkState state = walk_state(network);
+    const RationalMatrix expected = exact_extra_directions(network, state.smooth);
+    ASSERT_GT(expected.rows(), 0u);
+    std::vector<std::size_t> rows(expected.rows());
+    for (std::size_t j = 0; j < rows.size(); ++j) rows[j] = j;
+    const std::vector<std::size_t> leads = detail::echelon_shape(state.first_image);
+    for (std::size_t sparse_limit : {std::size_t{0}, state.rank}) {
+      for (unsigned threads : {1u, 2u}) {
+        const auto lifted = detail::lift_rows_multimodular(network, state.modular, state.kept, state.rank,
+                                                           state.first_image, rows, leads, sparse_limit, threads);
+        ASSERT_TRUE(lifted.has_value());
+        ASSERT_EQ(lifted->size(), expected.rows());
+        for (std::size_t j = 0; j < rows.size(); ++j) EXPECT_EQ((*lifted)[j], expected.row(j)) << j;
+      }
+    }
   }
 }
 
