@@ -5,10 +5,7 @@
 # equals 'pleat certify' on 'pleat random --sample i'; the summary's mean and
 # variance equal Python's exact fractions.
 set -u
-pleat=$1
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 [ -x /usr/bin/python3 ] || { echo "no /usr/bin/python3"; exit 77; }
 
 arch=2,4,4,1
