@@ -7,17 +7,17 @@
 // coefficient-block rows, rank r. Its kernel mod p, reduced modulo the
 // scaling directions S, is the image of the extra directions E (the canonical
 // basis of kernel / span(S)). E is lifted to Q (rational reconstruction from p
-// alone for rows with small entries, the others row by row from square
-// systems of their supports' size modulo further primes) and then proved: every row
-// of E annihilates every smooth region's rows exactly, S does so by
-// construction (core/jacobian.hpp), so rank <= D - rank(S u E); and rank >= r
-// (the basis' nonsingular minor). Equal: certified.
+// alone for rows with small entries, the others from square systems of their
+// supports' size modulo further primes) and then proved: every row of E
+// annihilates every smooth region's rows exactly, S does so by construction
+// (core/jacobian.hpp), so rank <= D - rank(S u E); and rank >= r (the basis'
+// nonsingular minor). Equal: certified.
 #pragma once
 
 #include "core/matrix.hpp"
 #include "core/network.hpp"
-#include "core/pattern.hpp"
 #include "core/jacobian.hpp"
+#include "core/pattern.hpp"
 #include "core/rank.hpp"
 #include "core/stop.hpp"
 #include "enumerate/detail/kernel_check.hpp"

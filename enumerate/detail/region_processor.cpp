@@ -154,7 +154,7 @@ class RegionProcessor::Impl {
     const std::size_t start = first_layer_to_compute(pattern);
     maps_pattern_.states.clear();  // invalid until every layer is done (a stop may cut this short)
     if (wide_) compute_fixed_maps(pattern, start, *wide_, wide_identity_, wide_pre_);
-    else if (wide256_) compute_fixed_maps(pattern, start, *wide256_, wide256_identity_, wide256_pre_);
+    else if (wide256_) compute_mixed_maps(pattern, start);
     else compute_gmp_maps(pattern, start);
     maps_pattern_ = pattern;
   }
@@ -199,18 +199,51 @@ class RegionProcessor::Impl {
     for (std::size_t k = start; k < layers_.size(); ++k) {
       set_active(pattern, k);
       compose_fixed(layers_[k], fixed, k, n, k == 0 ? identity : fixed_pre[k - 1], active_, fixed_pre[k]);
-      IntegerMap& map = pre_[k];
-      map.rows = layers_[k].rows;
-      map.cols = n;
-      map.linear.resize(map.rows * n);
-      map.offset.resize(map.rows);
-      for (std::size_t r = 0; r < map.rows; ++r) {
-        const T* row = fixed_pre[k].data() + r * (n + 1);
-        for (std::size_t c = 0; c < n; ++c) set_integer(map.linear[r * n + c], row[c]);
-        set_integer(map.offset[r], row[n]);
-      }
-      map.denominator = fixed.map_denominator[k];
+      store_map(k, fixed_pre[k], fixed.map_denominator[k]);
     }
+  }
+
+  // The 256-bit tier: the leading layers whose bound fits 128 bits in Wide
+  // (several times cheaper), the others in Int256.
+  void compute_mixed_maps(const ActivationPattern& pattern, std::size_t start) {
+    const Layers256& fixed = *wide256_;
+    const std::size_t low = fixed.low.map_denominator.size();
+    const std::size_t n = network_.input_dim;
+    wide_pre_.resize(low);
+    wide256_pre_.resize(layers_.size());
+    for (std::size_t k = start; k < layers_.size(); ++k) {
+      set_active(pattern, k);
+      if (k < low) {
+        compose_fixed(layers_[k], fixed.low, k, n, k == 0 ? wide_identity_ : wide_pre_[k - 1], active_, wide_pre_[k]);
+        store_map(k, wide_pre_[k], fixed.low.map_denominator[k]);
+        continue;
+      }
+      const std::vector<Int256>* input = k == 0 ? &wide256_identity_ : &wide256_pre_[k - 1];
+      if (k > 0 && k - 1 < low) {  // the first 256-bit layer: its input widened
+        widened_.resize(wide_pre_[k - 1].size());
+        for (std::size_t i = 0; i < widened_.size(); ++i) widened_[i] = to_int256(wide_pre_[k - 1][i]);
+        input = &widened_;
+      }
+      compose_fixed(layers_[k], fixed, k, n, *input, active_, wide256_pre_[k]);
+      store_map(k, wide256_pre_[k], fixed.map_denominator[k]);
+    }
+  }
+
+  // Layer k's map (rows of n linear entries, then the offset) into pre_[k]'s GMP integers.
+  template <class T>
+  void store_map(std::size_t k, const std::vector<T>& values, const Integer& denominator) {
+    const std::size_t n = network_.input_dim;
+    IntegerMap& map = pre_[k];
+    map.rows = layers_[k].rows;
+    map.cols = n;
+    map.linear.resize(map.rows * n);
+    map.offset.resize(map.rows);
+    for (std::size_t r = 0; r < map.rows; ++r) {
+      const T* row = values.data() + r * (n + 1);
+      for (std::size_t c = 0; c < n; ++c) set_integer(map.linear[r * n + c], row[c]);
+      set_integer(map.offset[r], row[n]);
+    }
+    map.denominator = denominator;
   }
 
   // Row i of a pre-activation map as a cell row, negated for a neuron that is off.
@@ -552,6 +585,7 @@ class RegionProcessor::Impl {
   std::optional<Layers256> wide256_;             // else in 256 bits, when those provably fit
   std::vector<Int256> wide256_identity_;
   std::vector<std::vector<Int256>> wide256_pre_;
+  std::vector<Int256> widened_;                  // the last 128-bit layer's map, widened
   ActivationPattern maps_pattern_;               // the pattern of pre_'s maps (no states: none)
   std::vector<lp::PlaneRow> domain_rows_;  // the domain's sides as integer rows
   std::vector<IntegerMap> pre_;            // per layer, this region's pre-activation map
