@@ -2,6 +2,7 @@
 
 #include "core/jacobian.hpp"
 #include "core/rank.hpp"
+#include "enumerate/pattern_cell.hpp"
 #include "lp/checker.hpp"
 #include "lp/oracle.hpp"
 

@@ -3,6 +3,7 @@
 #include "core/evaluate.hpp"
 #include "core/jacobian.hpp"
 #include "core/rank.hpp"
+#include "enumerate/pattern_cell.hpp"
 #include "enumerate/walker.hpp"
 #include "lp/oracle.hpp"
 

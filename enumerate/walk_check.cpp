@@ -1,6 +1,7 @@
 #include "enumerate/walk_check.hpp"
 
 #include "core/jacobian.hpp"
+#include "enumerate/pattern_cell.hpp"
 #include "enumerate/walker.hpp"
 #include "lp/checker.hpp"
 #include "lp/oracle.hpp"

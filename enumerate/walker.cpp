@@ -7,6 +7,7 @@
 #include "enumerate/detail/region_processor.hpp"
 #include "enumerate/detail/walk_adjacency.hpp"
 #include "enumerate/detail/walk_helpers.hpp"
+#include "enumerate/pattern_cell.hpp"
 
 #include <algorithm>
 #include <atomic>
@@ -190,7 +191,7 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   const std::size_t chunk = 2048 * std::size_t{threads};
   while (!level.empty() && summary.stop_reason == StopReason::none) {
     std::vector<std::uint32_t> next_level;
-    std::vector<std::uint32_t> neighbours;
+    std::vector<std::uint32_t> neighbors;
     adjacency.start_level(static_cast<std::uint32_t>(summary.regions));
     for (std::size_t begin = 0; begin < level.size() && summary.stop_reason == StopReason::none; begin += chunk) {
       // Process the chunk in parallel; results are placed by index, so the
@@ -265,19 +266,19 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
         const auto id = static_cast<std::uint32_t>(region.id);
         id_of_slot[level[begin + i]] = id;
         region_slots.push_back(level[begin + i]);
-        neighbours.clear();
-        const auto add_neighbour = [&](const ActivationPattern& neighbor) {
+        neighbors.clear();
+        const auto add_neighbor = [&](const ActivationPattern& neighbor) {
           const auto [slot, is_new] = remember(neighbor);
-          if (std::find(neighbours.begin(), neighbours.end(), slot) == neighbours.end()) neighbours.push_back(slot);
+          if (std::find(neighbors.begin(), neighbors.end(), slot) == neighbors.end()) neighbors.push_back(slot);
           if (is_new) next_level.push_back(slot);
         };
         for (const auto& facet : region.facets) {
           if (!facet.neighbor) continue;
-          add_neighbour(*facet.neighbor);
-          for (const auto& other : facet.other_neighbors) add_neighbour(other);
+          add_neighbor(*facet.neighbor);
+          for (const auto& other : facet.other_neighbors) add_neighbor(other);
         }
         const bool is_stop_asked = options.on_region && !options.on_region(region);
-        adjacency.add_region(id, level[begin + i], neighbours, std::move(region.affine), id_of_slot);  // after on_region, which reads it
+        adjacency.add_region(id, level[begin + i], neighbors, std::move(region.affine), id_of_slot);  // after on_region, which reads it
         results[i] = detail::Processed{};  // free the record now: a level can be large
         if (is_stop_asked) {
           summary.stop_reason = StopReason::requested;
@@ -298,7 +299,7 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   summary.complete = summary.stop_reason == StopReason::none;
   summary.facets = adjacency.facets();
   summary.linear_regions = adjacency.linear_regions();
-  const bool all_neighbors_present = adjacency.all_neighbours_delivered();
+  const bool all_neighbors_present = adjacency.all_neighbors_delivered();
 
   // Regions in pattern order: distinct prefixes per layer are runs of equal prefixes.
   std::sort(region_slots.begin(), region_slots.end(), [&](std::uint32_t a, std::uint32_t b) { return seen.less(a, b); });

@@ -73,7 +73,7 @@ CellVerdict decide_open_cell_counted(const Polyhedron& cell, const DoubleRows& r
     ++counts.filter_settled;
     return InteriorPoint{RationalVector(cell.dim, Rational(0))};
   }
-  const double cap_double = std::min(cap.get_d(), 1e100);
+  const double cap_double = std::min(to_double(cap), 1e100);
   if (rows.is_finite && !tolerances.exact_only) {
     if (std::optional<CellVerdict> verdict =
             decide_open_cell_filtered(cell, rows, cap_double, tolerances.positive_slack)) {

@@ -43,7 +43,7 @@ class FacetFilter {
     // is the Motzkin certificate with equality multiplier -1.
     // v_j ~ 0: the hyperplane touches the cell; LP2 decides.
     std::vector<double> point(cell.dim);
-    for (std::size_t k = 0; k < cell.dim; ++k) point[k] = interior[k].get_d();
+    for (std::size_t k = 0; k < cell.dim; ++k) point[k] = to_double(interior[k]);
     screen_.add_nearest(point, 2 * cell.dim + 2);
   }
 
@@ -156,7 +156,7 @@ std::vector<PolygonProposal> polygon_proposals(const DoubleRows& rows, const Rat
   constexpr std::size_t box = static_cast<std::size_t>(-1);  // label of the box's own edges
   constexpr double kShortEdge = 1e-9;
   const std::size_t m = rows.count;
-  const std::array<double, 2> centre{interior[0].get_d(), interior[1].get_d()};
+  const std::array<double, 2> centre{to_double(interior[0]), to_double(interior[1])};
   // The slack of constraint i at centre + u, for u relative to the interior point.
   std::vector<double> slack_at_centre(m);
   double radius = 1.0;

@@ -4,6 +4,7 @@
 #include "core/filtered_sign.hpp"
 #include "core/stop.hpp"
 #include "enumerate/detail/walk_helpers.hpp"
+#include "enumerate/pattern_cell.hpp"
 
 #include <algorithm>
 #include <string>

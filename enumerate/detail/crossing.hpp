@@ -8,6 +8,7 @@
 #include "core/pattern.hpp"
 #include "core/rational.hpp"
 #include "enumerate/detail/integer_maps.hpp"
+#include "enumerate/pattern_cell.hpp"
 
 #include <optional>
 #include <span>

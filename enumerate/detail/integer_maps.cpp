@@ -3,6 +3,7 @@
 #include "core/errors.hpp"
 #include "core/stop.hpp"
 #include "enumerate/detail/walk_helpers.hpp"
+#include "enumerate/pattern_cell.hpp"
 
 #include <algorithm>
 #include <array>

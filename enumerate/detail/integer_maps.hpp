@@ -8,6 +8,7 @@
 #include "core/pattern.hpp"
 #include "core/rational.hpp"
 #include "enumerate/domain.hpp"
+#include "enumerate/pattern_cell.hpp"
 #include "enumerate/walker.hpp"
 
 #include <array>

@@ -5,6 +5,7 @@
 #include "enumerate/detail/crossing.hpp"
 #include "enumerate/detail/integer_maps.hpp"
 #include "enumerate/detail/walk_helpers.hpp"
+#include "enumerate/pattern_cell.hpp"
 #include "lp/plane_cell.hpp"
 #include "lp/space_cell.hpp"
 
@@ -333,7 +334,7 @@ class RegionProcessor::Impl {
       candidates = patterns_across_filtered(network_, pattern, rational_maps->maps, &rational_maps->images,
                                             facet.point, direction, row_normal);
     }
-    name_neighbours(facet, std::move(candidates), degenerate_crossings);
+    name_neighbors(facet, std::move(candidates), degenerate_crossings);
     return facet;
   }
 
@@ -416,7 +417,7 @@ class RegionProcessor::Impl {
     for (auto& v : direction) v = -v;
     // The maps' double images, once per region, unless every sign must be exact.
     if (!exact_only_ && !images) images = map_images(network_, cell.maps);
-    name_neighbours(facet, patterns_across_filtered(network_, pattern, cell.maps, images ? &*images : nullptr,
+    name_neighbors(facet, patterns_across_filtered(network_, pattern, cell.maps, images ? &*images : nullptr,
                                                     facet.point, direction, representative.normal),
                     degenerate_crossings);
     return facet;
@@ -424,7 +425,7 @@ class RegionProcessor::Impl {
 
   // The facet's neighbour(s) from the far-side candidates at its point: of
   // several (a degenerate crossing, counted), those with interior next to it.
-  void name_neighbours(RegionFacet& facet, std::vector<ActivationPattern> candidates,
+  void name_neighbors(RegionFacet& facet, std::vector<ActivationPattern> candidates,
                        std::size_t& degenerate_crossings) {
     if (candidates.size() > 1) {
       ++degenerate_crossings;

@@ -32,23 +32,23 @@ void WalkAdjacency::join_if_same_map(std::uint32_t a, std::uint32_t a_slot, std:
   if (map_of(a, a_slot, spare) == maps_.back()) parent_[find(a)] = find(b);
 }
 
-void WalkAdjacency::add_region(std::uint32_t id, std::uint32_t slot, const std::vector<std::uint32_t>& neighbours,
+void WalkAdjacency::add_region(std::uint32_t id, std::uint32_t slot, const std::vector<std::uint32_t>& neighbors,
                                AffineMap affine, const std::vector<std::uint32_t>& id_of_slot) {
   parent_.push_back(id);
   maps_.push_back(std::move(affine));
-  for (std::uint32_t neighbour : neighbours) {
-    const std::uint32_t other = id_of_slot[neighbour];
+  for (std::uint32_t neighbor : neighbors) {
+    const std::uint32_t other = id_of_slot[neighbor];
     if (other == no_region) {
-      pending_[neighbour].emplace_back(id, slot);  // counted when it is delivered
+      pending_[neighbor].emplace_back(id, slot);  // counted when it is delivered
       continue;
     }
     ++facets_;
-    join_if_same_map(other, neighbour, id);
+    join_if_same_map(other, neighbor, id);
   }
   // Earlier regions that named this one; a pair both name was counted above.
   if (auto found = pending_.find(slot); found != pending_.end()) {
     for (const auto& [earlier, earlier_slot] : found->second) {
-      if (std::find(neighbours.begin(), neighbours.end(), earlier_slot) != neighbours.end()) continue;
+      if (std::find(neighbors.begin(), neighbors.end(), earlier_slot) != neighbors.end()) continue;
       ++facets_;
       join_if_same_map(earlier, earlier_slot, id);
     }

@@ -35,13 +35,13 @@ class WalkAdjacency {
   // Region `id` at `slot`, whose facets name the distinct pattern slots
   // `neighbours`; id_of_slot gives the id of every slot delivered so far
   // (no_region otherwise; `slot` included). Ids come in order 0, 1, 2, ...
-  void add_region(std::uint32_t id, std::uint32_t slot, const std::vector<std::uint32_t>& neighbours,
+  void add_region(std::uint32_t id, std::uint32_t slot, const std::vector<std::uint32_t>& neighbors,
                   AffineMap affine, const std::vector<std::uint32_t>& id_of_slot);
 
   std::size_t facets() const { return facets_; }
   std::size_t linear_regions();
   // True when every neighbour named so far was delivered as a region.
-  bool all_neighbours_delivered() const { return pending_.empty(); }
+  bool all_neighbors_delivered() const { return pending_.empty(); }
 
  private:
   const AffineMap& map_of(std::uint32_t id, std::uint32_t slot, AffineMap& spare) const;

@@ -58,10 +58,10 @@ RationalVector round_point(const std::vector<double>& point, double radius) {
   RationalVector rounded(point.size());
   for (std::size_t k = 0; k < point.size(); ++k) {
     if (!(radius > 0.0)) {
-      rounded[k] = Rational(point[k]);
+      rounded[k] = rational_from_double(point[k]);
       continue;
     }
-    rounded[k] = detail::simplest_between(Rational(point[k] - radius), Rational(point[k] + radius));
+    rounded[k] = detail::simplest_between(rational_from_double(point[k] - radius), rational_from_double(point[k] + radius));
   }
   return rounded;
 }

@@ -5,6 +5,7 @@
 // `pleat random` nets (He initialisation, 6 digits) of the grid.
 // Run: build/tests/bench/walk_region_bench [--benchmark_filter=...]
 #include "core/random_network.hpp"
+#include "enumerate/pattern_cell.hpp"
 #include "enumerate/walker.hpp"
 #include "lp/oracle.hpp"
 

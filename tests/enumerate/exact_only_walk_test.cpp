@@ -7,6 +7,7 @@
 // data/ (degenerate by design), on R^n0 and on a box, and small random nets.
 #include "core/network_io.hpp"
 #include "core/random_network.hpp"
+#include "enumerate/pattern_cell.hpp"
 #include "enumerate/walker.hpp"
 
 #include <gtest/gtest.h>

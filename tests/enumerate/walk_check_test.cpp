@@ -72,7 +72,7 @@ TEST_F(WalkCheckTest, RegionRemovedAndFacetsPointedAtThemselvesIsRefused) {
   }
 }
 
-TEST_F(WalkCheckTest, NeighbourNotAcrossItsFacetIsRefused) {
+TEST_F(WalkCheckTest, NeighborNotAcrossItsFacetIsRefused) {
   std::vector<SavedRegion> edited = regions;
   RegionFacet* facet = nullptr;
   for (auto& f : edited[3].region.facets)

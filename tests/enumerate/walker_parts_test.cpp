@@ -7,6 +7,7 @@
 #include "enumerate/detail/integer_maps.hpp"
 #include "enumerate/detail/pattern_store.hpp"
 #include "enumerate/detail/walk_adjacency.hpp"
+#include "enumerate/pattern_cell.hpp"
 #include "enumerate/walker.hpp"
 
 #include <gtest/gtest.h>
@@ -142,16 +143,16 @@ TEST(WalkerParts, StreamedAdjacencyEqualsKeptRegions) {
     const Network network = random_network(architecture, 1);
     std::map<ActivationPattern, std::size_t> id_of;
     std::vector<AffineMap> affine_of;
-    std::vector<std::vector<ActivationPattern>> neighbours_of;
+    std::vector<std::vector<ActivationPattern>> neighbors_of;
     WalkOptions options;
     options.threads = 2;
     options.on_region = [&](const Region& region) {
       id_of.emplace(region.pattern, region.id);
       affine_of.push_back(region.affine);
-      neighbours_of.emplace_back();
+      neighbors_of.emplace_back();
       for (const auto& facet : region.facets) {
-        if (facet.neighbor) neighbours_of.back().push_back(*facet.neighbor);
-        for (const auto& other : facet.other_neighbors) neighbours_of.back().push_back(other);
+        if (facet.neighbor) neighbors_of.back().push_back(*facet.neighbor);
+        for (const auto& other : facet.other_neighbors) neighbors_of.back().push_back(other);
       }
       return true;
     };
@@ -164,8 +165,8 @@ TEST(WalkerParts, StreamedAdjacencyEqualsKeptRegions) {
       return i;
     };
     for (std::size_t id = 0; id < affine_of.size(); ++id)
-      for (const auto& neighbour : neighbours_of[id]) {
-        const std::size_t other = id_of.at(neighbour);
+      for (const auto& neighbor : neighbors_of[id]) {
+        const std::size_t other = id_of.at(neighbor);
         pairs.emplace(std::min(id, other), std::max(id, other));
         if (affine_of[id] == affine_of[other]) parent[find(id)] = find(other);
       }
@@ -197,9 +198,9 @@ TEST(WalkAdjacency, CountsAsymmetricListsAndRecomputesEvictedMaps) {
     return map(slot == 2 ? 2 : 1);
   });
   std::vector<std::uint32_t> id_of_slot(5, detail::no_region);
-  const auto add = [&](std::uint32_t id, std::vector<std::uint32_t> neighbours, int value) {
+  const auto add = [&](std::uint32_t id, std::vector<std::uint32_t> neighbors, int value) {
     id_of_slot[id] = id;  // slot == id here
-    adjacency.add_region(id, id, neighbours, map(value), id_of_slot);
+    adjacency.add_region(id, id, neighbors, map(value), id_of_slot);
   };
   adjacency.start_level(0);
   add(0, {1, 2}, 1);
@@ -213,10 +214,10 @@ TEST(WalkAdjacency, CountsAsymmetricListsAndRecomputesEvictedMaps) {
   EXPECT_EQ(adjacency.facets(), 4u);  // {0,1} {0,2} {1,3} {0,4}
   EXPECT_EQ(adjacency.linear_regions(), 2u);  // {0,1,3,4} and {2}
   EXPECT_EQ(recomputed, (std::vector<std::uint32_t>{0}));
-  EXPECT_TRUE(adjacency.all_neighbours_delivered());
+  EXPECT_TRUE(adjacency.all_neighbors_delivered());
   id_of_slot.resize(7, detail::no_region);
   add(5, {6}, 1);  // names a slot never delivered
-  EXPECT_FALSE(adjacency.all_neighbours_delivered());
+  EXPECT_FALSE(adjacency.all_neighbors_delivered());
 }
 
 }  // namespace

@@ -2,6 +2,7 @@
 #include "enumerate/walker.hpp"
 
 #include "core/errors.hpp"
+#include "enumerate/pattern_cell.hpp"
 #include "tests/support/network_builders.hpp"
 
 #include <gtest/gtest.h>
