@@ -235,7 +235,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     const DoubleNetwork double_network = to_double(network);
     constexpr std::size_t lines_per_batch = 4;
     constexpr std::size_t points_per_line = 1 << 14;
-    const std::size_t line_patience = 16;
+    constexpr std::size_t line_patience = 64;
     const std::size_t line_budget = 64 + result.scaling_bound;
     std::unordered_set<std::string> proposed;
     std::size_t lines = 0, since_rise = 0;
