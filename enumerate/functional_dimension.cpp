@@ -181,14 +181,16 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // Points first: rows of the regions that exact interior points land in.
   // Batches are drawn in order and their patterns decided in parallel, then
   // their rows added in point order, so the result does not depend on the
-  // thread count. Stalls after `patience` points without a rise in rank.
+  // thread count (batches of a fixed size, so the points drawn before a
+  // stall, and the lines after it, are too). Stalls after `patience` points
+  // without a rise in rank.
   std::set<ActivationPattern> seen_by_points;
   auto rows_from_points = [&] {
     InteriorPointSource source(domain, options.points_seed);
     const IntegerPatternEvaluator evaluator(network);
     const std::size_t patience = std::max<std::size_t>(64, result.scaling_bound / 2);
     const std::size_t budget = 4 * result.scaling_bound + 256;
-    const std::size_t batch = 16 * static_cast<std::size_t>(threads);
+    constexpr std::size_t batch = 32;
     std::size_t since_rise = 0;
     const StopScope scope(stop);
     while (basis.rank() < result.scaling_bound && since_rise < patience && result.points_drawn < budget) {
@@ -307,7 +309,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   if (tries_points) {
     try {
       rows_from_points();
-      if (basis.rank() < result.scaling_bound && !stop.is_requested()) rows_from_lines();
+      if (options.sweep_lines && basis.rank() < result.scaling_bound && !stop.is_requested()) rows_from_lines();
     } catch (const Stopped&) {
       // bounds below
     }

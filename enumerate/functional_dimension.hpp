@@ -62,8 +62,12 @@ struct FunctionalDimensionOptions {
   // point's pattern exactly, and stack the rows of the smooth regions they
   // land in. When the rank meets the scaling bound the value is certified
   // with no walk (certified_by_points); when it stalls, the walk runs and
-  // keeps the rows found.
+  // keeps the rows found. When the random points stall, lines through the
+  // domain are swept first (enumerate/line_sweep.hpp): one proposed point in
+  // every linear piece a line crosses, each decided exactly like the random
+  // ones, reaching thin and far regions (sweep_lines; off: random points only).
   bool points_first = true;
+  bool sweep_lines = true;
   std::uint64_t points_seed = 1;
   bool keep_rows = false;  // fill FunctionalDimensionResult::rows (exact rows of contributing regions)
   // Fill FunctionalDimensionResult::kernel (dense: rows x D rationals, large
