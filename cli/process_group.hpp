@@ -5,14 +5,17 @@
 // runs alone); the libraries and the Python module never see MPI.
 //
 // In a job, rank 0 reads, prints and writes everything; the other ranks read
-// the same inputs, take part in the walks and print nothing. walk and
-// certify run across the job; any other command runs on rank 0 alone.
+// the same inputs, take part in the work and print nothing. walk, certify and
+// survey run across the job; any other command runs on rank 0 alone.
 #pragma once
 
 #include "enumerate/distributed_walk.hpp"
 #include "enumerate/walker.hpp"
 
+#include <cstddef>
+#include <optional>
 #include <string>
+#include <utility>
 
 namespace pleat::cli {
 
@@ -38,6 +41,14 @@ class ProcessGroupSession {
 // The job's transport, or null when pleat runs alone.
 WalkTransport* process_group();
 
+// Point to point beside the walks' collectives, for work handed in as it
+// finishes (survey samples). A rank other than 0 sends one message to rank
+// 0 (messages from one rank arrive in the order sent); rank 0 takes one that
+// has arrived, with its sender, or nullopt when none has (never waits).
+// Preconditions: in a job (usage_error otherwise).
+void send_to_leader(const std::string& bytes);
+std::optional<std::pair<std::size_t, std::string>> receive_at_leader();
+
 // In a job, and not rank 0.
 inline bool is_follower_process() {
   const WalkTransport* group = process_group();
@@ -46,7 +57,7 @@ inline bool is_follower_process() {
 
 // The commands that run across a job's processes.
 inline bool runs_across_processes(const std::string& command) {
-  return command == "walk" || command == "certify";
+  return command == "walk" || command == "certify" || command == "survey";
 }
 
 // walk_regions, alone or, in a job, across its processes (rank 0 only; the

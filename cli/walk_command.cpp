@@ -182,7 +182,8 @@ void register_walk(CommandTable& commands) {
       "  pleat walk data/fold2d.json\n"
       "  pleat walk data/fold2d.json --box -2,2 -o regions.jsonl --certificates\n"
       "  pleat walk net.json --json --patterns --max-regions 10000 --time-limit 60\n"
-      "  pleat walk data/fold2d.json --points-out interior.csv   # feed: certify --points",
+      "  pleat walk data/fold2d.json --points-out interior.csv   # feed: certify --points\n"
+      "  mpirun -n 4 pleat walk net.json --threads 1   # one walk across 4 processes (MPI builds)",
       [arguments] { return run_walk(*arguments); });
   command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")
       ->required();

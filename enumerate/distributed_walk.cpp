@@ -415,7 +415,6 @@ WalkSummary walk_on_rank(const Network& network, const Domain& domain, const Wal
         std::string().swap(message);
       }
       leader_stop = ledger->take_level(std::move(streams));
-      if (leader_options->on_progress) leader_options->on_progress(WalkProgress{ledger->regions(), 0, elapsed()});
     }
 
     // Agree: a stop during the level (any rank) ends the walk; a stop asked
@@ -425,6 +424,8 @@ WalkSummary walk_on_rank(const Network& network, const Domain& domain, const Wal
     level_size = transport.sum({next.size()})[0];
     if (reasons[0] != code_of(StopReason::none)) stop_reason = reason_of(reasons[0]);
     else if (level_size > 0 && reasons[1] != code_of(StopReason::none)) stop_reason = reason_of(reasons[1]);
+    if (leader_options && leader_options->on_progress)
+      leader_options->on_progress(WalkProgress{ledger->regions(), level_size, elapsed()});
     share = std::move(next);
   }
 

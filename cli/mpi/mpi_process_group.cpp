@@ -169,4 +169,26 @@ int ProcessGroupSession::fail(const std::string& message, int exit_code) {
 
 WalkTransport* process_group() { return job.get(); }
 
+namespace {
+constexpr int leader_inbox_tag = 1;  // the collectives use no tags; this keeps them apart anyway
+}
+
+void send_to_leader(const std::string& bytes) {
+  if (!job || job->rank() == 0) throw usage_error("send_to_leader: only ranks other than 0 of a job send");
+  MPI_Send(bytes.data(), as_count(bytes.size()), MPI_BYTE, 0, leader_inbox_tag, MPI_COMM_WORLD);
+}
+
+std::optional<std::pair<std::size_t, std::string>> receive_at_leader() {
+  if (!job || job->rank() != 0) throw usage_error("receive_at_leader: only rank 0 of a job receives");
+  int has_message = 0;
+  MPI_Status status;
+  MPI_Iprobe(MPI_ANY_SOURCE, leader_inbox_tag, MPI_COMM_WORLD, &has_message, &status);
+  if (!has_message) return std::nullopt;
+  int count = 0;
+  MPI_Get_count(&status, MPI_BYTE, &count);
+  std::string bytes(static_cast<std::size_t>(count), '\0');
+  MPI_Recv(bytes.data(), count, MPI_BYTE, status.MPI_SOURCE, leader_inbox_tag, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
+  return std::make_pair(static_cast<std::size_t>(status.MPI_SOURCE), std::move(bytes));
+}
+
 }  // namespace pleat::cli
