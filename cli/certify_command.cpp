@@ -205,7 +205,9 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
   options.on_phase = [&](const CertifyProgress& state) {
     std::string text = std::string("certifying: ") + state.phase;
     if (std::string(state.phase) == "kernel")
-      text += " (lifting the extra directions), " + std::to_string(state.done) + " primes";
+      text += state.done == 0   ? " (the extra directions from the walk's prime)"
+              : state.done == 1 ? " (the extra directions, further primes)"
+                                : " (the extra directions, exact solve)";
     else if (std::string(state.phase) == "points")
       text += ", rank " + std::to_string(state.done) + " of the scaling bound " + std::to_string(state.total);
     else

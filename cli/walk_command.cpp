@@ -118,6 +118,7 @@ int run_walk(const WalkArguments& arguments) {
   apply_walk_limits(arguments.limits, interrupt.flag(), options);
   options.max_regions = arguments.max_regions;
   options.keep_certificates = arguments.certificates;
+  options.keep_patterns = arguments.patterns;
   std::vector<RationalVector> interior_points;
   std::vector<ActivationPattern> interior_patterns;
   options.on_region = [&](const Region& region) {

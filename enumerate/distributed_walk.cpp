@@ -2,6 +2,9 @@
 
 #include "core/errors.hpp"
 #include "core/stop.hpp"
+#include "core/evaluate.hpp"
+#include "enumerate/detail/pattern_store.hpp"
+#include "enumerate/detail/walk_adjacency.hpp"
 #include "enumerate/region_codec.hpp"
 
 #include <algorithm>
@@ -13,11 +16,8 @@
 #include <functional>
 #include <memory>
 #include <mutex>
-#include <numeric>
 #include <optional>
-#include <set>
 #include <thread>
-#include <unordered_map>
 #include <unordered_set>
 
 namespace pleat {
@@ -199,37 +199,22 @@ RankLevel read_level_message(std::string_view bytes) {
   return level;
 }
 
-// Union-find over region ids, for merging adjacent regions with one affine
-// map (as walk_regions does).
-class DisjointSets {
- public:
-  explicit DisjointSets(std::size_t n) : parent_(n) { std::iota(parent_.begin(), parent_.end(), 0); }
-  std::size_t find(std::size_t i) {
-    while (parent_[i] != i) i = parent_[i] = parent_[parent_[i]];
-    return i;
-  }
-  void unite(std::size_t a, std::size_t b) { parent_[find(a)] = find(b); }
-  std::size_t count_roots() {
-    std::size_t roots = 0;
-    for (std::size_t i = 0; i < parent_.size(); ++i) roots += find(i) == i;
-    return roots;
-  }
-
- private:
-  std::vector<std::size_t> parent_;
-};
-
 // Rank 0's record of the regions delivered in output order: what
-// walk_regions keeps for its summary (ids, neighbours, affine maps), the
-// same numbering and the same summary at the end.
+// walk_regions keeps for its summary (the packed seen-set, ids, the streamed
+// adjacency summary), the same numbering and the same summary at the end.
 class Ledger {
  public:
-  Ledger(const Network& network, const WalkOptions& options) : network_(network), options_(options) {}
+  Ledger(const Network& network, const WalkOptions& options)
+      : network_(network),
+        options_(options),
+        seen_(network.relu_neuron_count()),
+        adjacency_([this](std::uint32_t slot) { return maps_on_pattern(network_, seen_.pattern(slot)).output; }) {}
 
   // Merges the ranks' sorted streams of one level and delivers them in
   // pattern order up to the first pattern some rank left undone. Returns
   // max_regions or requested when the walk must stop here, else none.
   StopReason take_level(std::vector<RankLevel> ranks) {
+    adjacency_.start_level(static_cast<std::uint32_t>(summary_.regions));
     std::vector<std::size_t> head(ranks.size(), 0);
     for (;;) {
       // The smallest next pattern over the ranks: a delivered one, or the
@@ -239,58 +224,50 @@ class Ledger {
       const ActivationPattern* smallest = nullptr;
       for (std::size_t r = 0; r < ranks.size(); ++r) {
         const ActivationPattern* candidate = nullptr;
-        bool candidate_undone = false;
+        bool is_candidate_undone = false;
         if (head[r] < ranks[r].items.size()) {
           candidate = &ranks[r].items[head[r]].pattern;
         } else if (ranks[r].first_undone) {
           candidate = &*ranks[r].first_undone;
-          candidate_undone = true;
+          is_candidate_undone = true;
         }
         if (candidate && (!smallest || *candidate < *smallest)) {
           smallest = candidate;
           best = r;
-          is_undone = candidate_undone;
+          is_undone = is_candidate_undone;
         }
       }
       if (!best || is_undone) return StopReason::none;
       Delivered& item = ranks[*best].items[head[*best]++];
       if (const StopReason reason = deliver(item); reason != StopReason::none) return reason;
+      item = Delivered{};  // free the record now: a level can be large
     }
   }
 
+  // walk_regions' summary of what was delivered.
   WalkSummary finish(StopReason stop_reason, const lp::QueryCounts& counts, double seconds) {
     summary_.stop_reason = stop_reason;
     summary_.counts = counts;
     summary_.complete = stop_reason == StopReason::none;
-    std::set<std::pair<std::size_t, std::size_t>> pairs;
-    DisjointSets pieces(summary_.regions);
-    bool all_neighbors_present = true;
-    for (std::size_t id = 0; id < summary_.regions; ++id) {
-      for (const ActivationPattern* neighbor : neighbors_of_[id]) {
-        auto found = id_of_.find(neighbor);
-        if (found == id_of_.end()) {
-          all_neighbors_present = false;
-          continue;
-        }
-        pairs.emplace(std::min(id, found->second), std::max(id, found->second));
-        if (affine_of_[id] == affine_of_[found->second]) pieces.unite(id, found->second);
-      }
+    summary_.facets = adjacency_.facets();
+    summary_.linear_regions = adjacency_.linear_regions();
+    std::sort(region_slots_.begin(), region_slots_.end(),
+              [&](std::uint32_t a, std::uint32_t b) { return seen_.less(a, b); });
+    if (options_.keep_patterns) {
+      summary_.patterns.reserve(region_slots_.size());
+      for (std::uint32_t slot : region_slots_) summary_.patterns.push_back(seen_.pattern(slot));
     }
-    summary_.facets = pairs.size();
-    summary_.linear_regions = pieces.count_roots();
-    summary_.patterns.reserve(id_of_.size());
-    for (const auto& [pattern, id] : id_of_) summary_.patterns.push_back(*pattern);
-    std::sort(summary_.patterns.begin(), summary_.patterns.end());
     const std::size_t relu_layers = network_.relu_layer_count();
     for (std::size_t k = 0; k < network_.depth(); ++k) {
+      // A linear output layer adds no states: its prefix is the whole pattern.
       const std::size_t prefix_end = k < relu_layers ? network_.first_neuron_of_layer(k) + network_.layers[k].width()
                                                      : network_.relu_neuron_count();
-      std::set<std::vector<NeuronState>> prefixes;
-      for (const auto& pattern : summary_.patterns)
-        prefixes.emplace(pattern.states.begin(), pattern.states.begin() + static_cast<std::ptrdiff_t>(prefix_end));
-      summary_.regions_per_layer.push_back(prefixes.size());
+      std::size_t prefixes = region_slots_.empty() ? 0 : 1;
+      for (std::size_t i = 1; i < region_slots_.size(); ++i)
+        prefixes += seen_.common_prefix(region_slots_[i - 1], region_slots_[i]) < prefix_end;
+      summary_.regions_per_layer.push_back(prefixes);
     }
-    summary_.certified = summary_.complete && all_neighbors_present && !anomaly_;
+    summary_.certified = summary_.complete && adjacency_.all_neighbours_delivered() && !anomaly_;
     summary_.seconds = seconds;
     return std::move(summary_);
   }
@@ -298,6 +275,12 @@ class Ledger {
   std::size_t regions() const { return summary_.regions; }
 
  private:
+  std::pair<std::uint32_t, bool> remember(const ActivationPattern& pattern) {
+    const auto inserted = seen_.insert(pattern);
+    if (inserted.second) id_of_slot_.push_back(detail::no_region);
+    return inserted;
+  }
+
   // One processed pattern in output order, as walk_regions takes it.
   StopReason deliver(Delivered& item) {
     if (!item.outcome.region) {
@@ -310,26 +293,34 @@ class Ledger {
     summary_.bounded_regions += region.bounded;
     summary_.degenerate_crossings += item.outcome.degenerate_crossings;
     if (!region.nonsmooth_neurons.empty()) summary_.nonsmooth_regions.emplace_back(region.pattern, region.nonsmooth_neurons);
-    const ActivationPattern* self = &*seen_.insert(region.pattern).first;
-    id_of_.emplace(self, region.id);
-    neighbors_of_.emplace_back();
+    const auto id = static_cast<std::uint32_t>(region.id);
+    const std::uint32_t slot = remember(region.pattern).first;
+    id_of_slot_[slot] = id;
+    region_slots_.push_back(slot);
+    neighbours_.clear();
+    const auto add_neighbour = [&](const ActivationPattern& neighbor) {
+      const std::uint32_t neighbour_slot = remember(neighbor).first;
+      if (std::find(neighbours_.begin(), neighbours_.end(), neighbour_slot) == neighbours_.end())
+        neighbours_.push_back(neighbour_slot);
+    };
     for (const auto& facet : region.facets) {
       if (!facet.neighbor) continue;
-      neighbors_of_.back().push_back(&*seen_.insert(*facet.neighbor).first);
-      for (const auto& other : facet.other_neighbors) neighbors_of_.back().push_back(&*seen_.insert(other).first);
+      add_neighbour(*facet.neighbor);
+      for (const auto& other : facet.other_neighbors) add_neighbour(other);
     }
     const bool is_stop_asked = options_.on_region && !options_.on_region(region);
-    affine_of_.push_back(std::move(region.affine));  // after on_region, which reads it
+    adjacency_.add_region(id, slot, neighbours_, std::move(region.affine), id_of_slot_);  // after on_region, which reads it
     return is_stop_asked ? StopReason::requested : StopReason::none;
   }
 
   const Network& network_;
   const WalkOptions& options_;
   WalkSummary summary_;
-  std::unordered_set<ActivationPattern, PatternHash> seen_;  // elements stay put as it grows
-  std::unordered_map<const ActivationPattern*, std::size_t> id_of_;
-  std::vector<AffineMap> affine_of_;
-  std::vector<std::vector<const ActivationPattern*>> neighbors_of_;
+  detail::PatternStore seen_;
+  std::vector<std::uint32_t> id_of_slot_;    // detail::no_region until delivered
+  std::vector<std::uint32_t> region_slots_;  // by region id
+  std::vector<std::uint32_t> neighbours_;
+  detail::WalkAdjacency adjacency_;
   bool anomaly_ = false;
 };
 
@@ -371,7 +362,7 @@ WalkSummary walk_on_rank(const Network& network, const Domain& domain, const Wal
   ByteReader start_reader(start_message);
   StopReason stop_reason = reason_of(start_reader.get_unsigned());
   std::vector<ActivationPattern> share;  // this rank's patterns of the level, sorted
-  std::unordered_set<ActivationPattern, PatternHash> owned;
+  detail::PatternStore owned(network.relu_neuron_count());  // the patterns this rank owns, each once
   std::uint64_t level_size = 0;  // over all ranks
   if (stop_reason == StopReason::none) {
     ActivationPattern start = start_reader.get_pattern();

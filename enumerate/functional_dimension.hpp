@@ -7,10 +7,11 @@
 // bound: the scaling bound (every row is orthogonal to every hidden neuron's
 // scaling direction), or, when the rank stays below it, the scaling
 // directions plus the extra kernel directions: read modulo p off the walk's
-// basis, lifted to Q by rational reconstruction, and proved exactly on every
-// smooth region (multi-modular, with a proved bound on the entries: a
-// deterministic proof of zero), on all threads. certified is true only when
-// the two bounds meet, both are proved and nothing stopped the run.
+// basis, lifted to Q (rational reconstruction from that prime for rows with
+// small entries, the others row by row over further primes), and proved
+// exactly on every smooth region (multi-modular, with a proved bound on the
+// entries: a deterministic proof of zero), on all threads. certified is true
+// only when the two bounds meet, both are proved and nothing stopped the run.
 #pragma once
 
 #include "core/matrix.hpp"
@@ -37,8 +38,9 @@ struct ExtraKernelDirection {
   std::vector<std::size_t> neurons;
 };
 
-// Progress after the walk: phase "kernel" (done = primes used to lift the
-// extra directions), "check" (done of total smooth regions checked) or
+// Progress after the walk: phase "kernel" (lifting the extra directions:
+// done = 0 the walk's prime alone, 1 further primes for rows with large
+// entries, 2 an exact p-adic solve), "check" (done of total smooth regions checked) or
 // "naming" (done of total extra directions named).
 struct CertifyProgress {
   const char* phase = "";

@@ -81,6 +81,11 @@ struct WalkOptions {
   std::size_t max_regions = 0;              // 0: no cap
   double time_limit_seconds = 0;            // 0: none
   bool keep_certificates = false;
+  // Fill WalkSummary::patterns (every region's pattern, kept to the end).
+  // Off, the walk keeps about 30 bytes per region beyond its frontier (a
+  // packed pattern, an id, a union-find entry); the region records, affine
+  // maps and neighbour lists are streamed.
+  bool keep_patterns = true;
   // Every LP query answered by the exact solver, no double proposal (tests
   // compare it with the default walk; same regions and facets, slower).
   bool exact_only = false;
@@ -107,7 +112,7 @@ struct WalkSummary {
   lp::QueryCounts counts;
   std::size_t degenerate_crossings = 0;  // crossings where the far side had to be branched
   double seconds = 0;
-  std::vector<ActivationPattern> patterns;  // sorted, all regions found
+  std::vector<ActivationPattern> patterns;  // sorted, all regions found (empty unless WalkOptions::keep_patterns)
 };
 
 // Walks the network's regions on the domain. Regions are delivered to

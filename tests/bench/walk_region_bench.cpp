@@ -28,6 +28,7 @@ const std::vector<Net>& nets() {
   static const std::vector<Net> grid{
       {{2, 5, 5, 5, 1}, 1},       {{2, 10, 10, 10, 10, 1}, 1}, {{2, 15, 15, 15, 1}, 1},
       {{3, 5, 5, 5, 5, 1}, 1},    {{3, 10, 10, 10, 1}, 1},
+      {{2, 15, 15, 15, 15, 15, 15, 1}, 1},  // deeper, as surveys use: 256-bit layer maps
   };
   return grid;
 }

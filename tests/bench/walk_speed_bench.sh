@@ -8,7 +8,8 @@
 # median is printed too.
 # Usage: tests/bench/walk_speed_bench.sh BUILD_DIR
 #   PLEAT_BENCH_FULL=1: the whole grid (2 inputs x widths 5/10/15, 3 inputs x
-#   widths 5/10, each with 3 and 4 hidden layers); default: five nets of it.
+#   widths 5/10, each with 3 and 4 hidden layers); default: five nets of it,
+#   plus 2,15x6,1 (the deeper net surveys use) either way.
 #   PLEAT_BENCH_RUNS=N hyperfine runs per net (default 5).
 set -euo pipefail
 build=${1:-build}
@@ -18,9 +19,9 @@ runs=${PLEAT_BENCH_RUNS:-5}
 python_limit=${PLEAT_BENCH_PYTHON_LIMIT:-60}
 if [ "${PLEAT_BENCH_FULL:-0}" = 1 ]; then
   grid="2,5,5,5,1 2,5,5,5,5,1 2,10,10,10,1 2,10,10,10,10,1 2,15,15,15,1 2,15,15,15,15,1
-        3,5,5,5,1 3,5,5,5,5,1 3,10,10,10,1 3,10,10,10,10,1"
+        3,5,5,5,1 3,5,5,5,5,1 3,10,10,10,1 3,10,10,10,10,1 2,15,15,15,15,15,15,1"
 else
-  grid="2,5,5,5,1 2,10,10,10,10,1 2,15,15,15,1 3,5,5,5,5,1 3,10,10,10,1"
+  grid="2,5,5,5,1 2,10,10,10,10,1 2,15,15,15,1 3,5,5,5,5,1 3,10,10,10,1 2,15,15,15,15,15,15,1"
 fi
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT

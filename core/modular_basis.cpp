@@ -1,0 +1,234 @@
+// Rational reconstruction, the fixed prime sequence and the incremental
+// modular row basis (core/rank.hpp).
+#include "core/rank.hpp"
+#include "core/detail/flint_matrix.hpp"
+#include "core/stop.hpp"
+
+#include <flint/fmpq.h>
+#include <flint/fmpz.h>
+#include <flint/nmod.h>
+#include <flint/ulong_extras.h>
+
+#include <algorithm>
+#include <memory>
+#include <mutex>
+#include <utility>
+#include <vector>
+
+namespace pleat {
+using namespace detail;
+
+namespace {
+
+// The current thread's stop request when one is installed and asks to stop
+// (FLINT temporaries are cleared before Stopped is thrown).
+const StopRequest* requested_stop() {
+  const StopRequest* request = current_stop_request();
+  return request != nullptr && request->is_requested() ? request : nullptr;
+}
+
+}  // namespace
+
+struct RationalReconstruction::State {
+  std::vector<fmpz> residues;  // row-major, each the CRT value in [0, modulus)
+  fmpz_t modulus;
+};
+
+RationalReconstruction::RationalReconstruction(std::size_t rows, std::size_t cols)
+    : rows_(rows), cols_(cols), state_(new State) {
+  state_->residues.resize(rows * cols);
+  for (fmpz& value : state_->residues) fmpz_init(&value);
+  fmpz_init_set_ui(state_->modulus, 1);
+}
+
+RationalReconstruction::~RationalReconstruction() {
+  for (fmpz& value : state_->residues) fmpz_clear(&value);
+  fmpz_clear(state_->modulus);
+  delete state_;
+}
+
+void RationalReconstruction::add_image(const ModularMatrix& image, std::uint64_t prime) {
+  check_prime_range(prime, "RationalReconstruction::add_image");
+  if (image.rows() != rows_ || image.cols() != cols_)
+    throw usage_error("RationalReconstruction::add_image: the image's shape differs");
+  if (primes_ == 0) {
+    for (std::size_t r = 0; r < rows_; ++r)
+      for (std::size_t c = 0; c < cols_; ++c) fmpz_set_ui(&state_->residues[r * cols_ + c], image(r, c));
+  } else {
+    fmpz_t combined;
+    fmpz_init(combined);
+    for (std::size_t r = 0; r < rows_; ++r) {
+      if (const StopRequest* stop = requested_stop()) {
+        fmpz_clear(combined);
+        throw Stopped(stop->reason());
+      }
+      for (std::size_t c = 0; c < cols_; ++c) {
+        fmpz* value = &state_->residues[r * cols_ + c];
+        // Zero modulo everything so far and modulo this prime: stays zero.
+        if (fmpz_is_zero(value) && image(r, c) == 0) continue;
+        fmpz_CRT_ui(combined, value, state_->modulus, image(r, c), prime, 0);
+        fmpz_swap(value, combined);
+      }
+    }
+    fmpz_clear(combined);
+  }
+  fmpz_mul_ui(state_->modulus, state_->modulus, prime);
+  ++primes_;
+}
+
+std::optional<RationalMatrix> RationalReconstruction::reconstruct() const {
+  if (primes_ == 0) return std::nullopt;
+  // Built row by row, polling the stop request between rows: millions of
+  // entries when the kernel is large.
+  RationalMatrix out(0, cols_);
+  out.reserve_rows(rows_);
+  fmpq_t value;
+  fmpq_init(value);
+  bool ok = true;
+  for (std::size_t r = 0; r < rows_ && ok; ++r) {
+    if (const StopRequest* stop = requested_stop()) {
+      fmpq_clear(value);
+      throw Stopped(stop->reason());
+    }
+    std::vector<Rational> row(cols_);
+    for (std::size_t c = 0; c < cols_ && ok; ++c) {
+      const fmpz* residue = &state_->residues[r * cols_ + c];
+      if (fmpz_is_zero(residue)) continue;
+      ok = fmpq_reconstruct_fmpz(value, residue, state_->modulus) != 0;
+      if (ok) fmpq_get_mpq(row[c].get_mpq_t(), value);
+    }
+    out.append_row(std::move(row));
+  }
+  fmpq_clear(value);
+  if (!ok) return std::nullopt;
+  return out;
+}
+
+std::uint64_t prime_sequence(std::size_t index) {
+  static std::mutex mutex;
+  static std::vector<std::uint64_t> primes;
+  const std::lock_guard lock(mutex);
+  while (primes.size() <= index) primes.push_back(n_nextprime(primes.empty() ? primary_prime() : primes.back(), 1));
+  return primes[index];
+}
+
+// ---- Incremental modular row basis ------------------------------------------
+
+namespace {
+
+__extension__ typedef unsigned __int128 Wide;  // GCC/Clang: exact 64 x 64 -> 128 products
+
+// factor * value mod p by Shoup's method, given precomputed =
+// floor(factor * 2^64 / p); valid for p < 2^63. Branch-free: the operands are
+// random residues, so a branch would be mispredicted half the time.
+inline std::uint64_t multiply_shoup(std::uint64_t factor, std::uint64_t value, std::uint64_t precomputed,
+                                    std::uint64_t prime) {
+  const auto quotient = static_cast<std::uint64_t>((static_cast<Wide>(precomputed) * value) >> 64);
+  const std::uint64_t result = factor * value - quotient * prime;  // in [0, 2p)
+  return result - (prime & (0 - static_cast<std::uint64_t>(result >= prime)));
+}
+
+// target -= factor * source (mod p), entrywise.
+void subtract_multiple(ModularVector& target, const ModularVector& source, std::uint64_t factor,
+                       std::uint64_t prime) {
+  const std::uint64_t precomputed = n_mulmod_precomp_shoup(factor, prime);
+  for (std::size_t j = 0; j < target.size(); ++j) {
+    const std::uint64_t product = multiply_shoup(factor, source[j], precomputed, prime);
+    const std::uint64_t difference = target[j] - product;
+    target[j] = difference + (prime & (0 - static_cast<std::uint64_t>(target[j] < product)));
+  }
+}
+
+void scale(ModularVector& target, std::uint64_t factor, std::uint64_t prime) {
+  const std::uint64_t precomputed = n_mulmod_precomp_shoup(factor, prime);
+  for (std::uint64_t& value : target) value = multiply_shoup(factor, value, precomputed, prime);
+}
+
+}  // namespace
+
+ModularRowBasis::ModularRowBasis(std::uint64_t prime, std::size_t columns)
+    : prime_(prime), prime_inverse_(0), columns_(columns) {
+  check_prime_range(prime, "ModularRowBasis");
+  prime_inverse_ = n_preinvert_limb(prime);
+  free_columns_.resize(columns);
+  for (std::size_t c = 0; c < columns; ++c) free_columns_[c] = c;
+}
+
+void ModularRowBasis::check_row(const ModularVector& row, const char* where) const {
+  if (row.size() != columns_)
+    throw usage_error(std::string(where) + ": the row has " + std::to_string(row.size()) +
+                      " entries, the basis " + std::to_string(columns_) + " columns");
+  for (std::uint64_t value : row)
+    if (value >= prime_) throw usage_error(std::string(where) + ": entry is not a residue");
+}
+
+ModularVector ModularRowBasis::residual(const ModularVector& row) const {
+  // sum_i row[pivot_i] * (kept row i) on the free columns, accumulated
+  // exactly in 192 bits (a 128-bit sum and a count of its wrap-arounds) and
+  // reduced once at the end. Kept row i is 1 at its own pivot and 0 at the
+  // others, so subtracting this sum from row clears every pivot entry at once.
+  const std::size_t free_count = free_columns_.size();
+  std::vector<Wide> sums(free_count, 0);
+  std::vector<std::uint64_t> wraps(free_count, 0);
+  for (std::size_t i = 0; i < pivot_columns_.size(); ++i) {
+    const std::uint64_t factor = row[pivot_columns_[i]];
+    if (factor == 0) continue;
+    const std::uint64_t* part = free_parts_[i].data();
+    for (std::size_t q = 0; q < free_count; ++q) {
+      const Wide product = static_cast<Wide>(factor) * part[q];
+      const Wide sum = sums[q] + product;
+      wraps[q] += static_cast<std::uint64_t>(sum < product);
+      sums[q] = sum;
+    }
+  }
+  ModularVector result(free_count);
+  for (std::size_t q = 0; q < free_count; ++q) {
+    const std::uint64_t value = row[free_columns_[q]];
+    // n_lll_mod_preinv wants the top word reduced mod p: wraps <= rank, and
+    // it is nonzero only when rank * (p-1)^2 >= 2^128, i.e. p >> rank.
+    const std::uint64_t subtrahend =
+        n_lll_mod_preinv(wraps[q], static_cast<std::uint64_t>(sums[q] >> 64), static_cast<std::uint64_t>(sums[q]),
+                         prime_, prime_inverse_);
+    result[q] = value >= subtrahend ? value - subtrahend : value + (prime_ - subtrahend);
+  }
+  return result;
+}
+
+bool ModularRowBasis::add_row(const ModularVector& row) {
+  check_row(row, "ModularRowBasis::add_row");
+  if (free_columns_.empty()) return false;
+  ModularVector reduced = residual(row);
+  const auto nonzero = std::find_if(reduced.begin(), reduced.end(), [](std::uint64_t v) { return v != 0; });
+  if (nonzero == reduced.end()) return false;
+  const auto q = static_cast<std::size_t>(nonzero - reduced.begin());
+  scale(reduced, n_invmod(reduced[q], prime_), prime_);
+  // Clear the new pivot column from the kept rows, then drop it from the
+  // free columns of every stored row.
+  const auto position = static_cast<std::ptrdiff_t>(q);
+  for (ModularVector& part : free_parts_) {
+    if (part[q] != 0) subtract_multiple(part, reduced, part[q], prime_);
+    part.erase(part.begin() + position);
+  }
+  reduced.erase(reduced.begin() + position);
+  pivot_columns_.push_back(free_columns_[q]);
+  free_columns_.erase(free_columns_.begin() + position);
+  free_parts_.push_back(std::move(reduced));
+  return true;
+}
+
+ModularMatrix ModularRowBasis::rows() const {
+  ModularMatrix out(pivot_columns_.size(), columns_);
+  for (std::size_t i = 0; i < pivot_columns_.size(); ++i) {
+    out(i, pivot_columns_[i]) = 1;
+    for (std::size_t q = 0; q < free_columns_.size(); ++q) out(i, free_columns_[q]) = free_parts_[i][q];
+  }
+  return out;
+}
+
+bool ModularRowBasis::contains(const ModularVector& row) const {
+  check_row(row, "ModularRowBasis::contains");
+  const ModularVector reduced = residual(row);
+  return std::all_of(reduced.begin(), reduced.end(), [](std::uint64_t v) { return v == 0; });
+}
+
+}  // namespace pleat

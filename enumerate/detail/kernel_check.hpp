@@ -1,0 +1,68 @@
+// The exact check behind certify's upper bound: that given rational vectors
+// annihilate every coefficient-block row of given patterns, decided in word
+// arithmetic modulo enough primes for a deterministic proof (Chinese
+// remainder theorem on a proved bound). Internal to enumerate/ (not installed).
+#pragma once
+
+#include "core/jacobian.hpp"
+#include "core/matrix.hpp"
+#include "core/network.hpp"
+#include "core/pattern.hpp"
+#include "core/rational.hpp"
+#include "core/stop.hpp"
+
+#include <cstddef>
+#include <cstdint>
+#include <functional>
+#include <optional>
+#include <utility>
+#include <vector>
+
+namespace pleat::detail {
+
+// What the check's bound needs from the network alone: B with |row_c| <= B_c
+// for every coefficient-block row of every pattern, and L^d (L the lcm of the
+// parameters' denominators, d the depth). Computed once, shared by every
+// candidate checked. Exact.
+struct CheckScale {
+  RationalVector bounds;
+  Integer scale = 1;
+  explicit CheckScale(const Network& network);
+};
+
+// A deterministic exact test that given vectors annihilate a pattern's
+// coefficient-block rows, in word arithmetic. Each vector is scaled to a
+// primitive integer vector e. For a row of the blocks, N = L^d (row . e) is
+// an integer (entries are polynomials of degree < d in theta with integer
+// coefficients) and |N| <= L^d sum_c B_c |e_c|. N = 0 modulo primes whose
+// product exceeds that bound proves N = 0; the first prime also screens out
+// failures quickly.
+class AnnihilationCheck {
+ public:
+  // Polls the current thread's stop request (poll_stop) while it reduces the
+  // vectors modulo each prime.
+  AnnihilationCheck(const Network& network, const RationalMatrix& vectors, const CheckScale& check_scale);
+  std::size_t primes() const { return moduli_.size(); }
+  // True exactly when every vector annihilates every row of the pattern's
+  // blocks. Exact; polls the current thread's stop request.
+  bool annihilates(const ActivationPattern& pattern) const;
+
+ private:
+  struct Modulus {
+    ModularNetwork network;
+    std::vector<std::vector<std::pair<std::size_t, std::uint64_t>>> vectors;  // sparse, residues
+  };
+  std::size_t vector_count_;
+  std::vector<Modulus> moduli_;
+};
+
+// The smallest index of a pattern the check rejects, checked on `threads`
+// threads (the answer does not depend on their number), or nullopt when all
+// pass. Sets stopped (and returns nullopt) when the stop request fires;
+// progress(done, total) is called from the calling thread.
+std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,
+                                                  const std::vector<ActivationPattern>& patterns, unsigned threads,
+                                                  const StopRequest& stop, bool& stopped,
+                                                  const std::function<void(std::size_t, std::size_t)>& progress);
+
+}  // namespace pleat::detail

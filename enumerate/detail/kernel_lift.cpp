@@ -1,0 +1,399 @@
+#include "enumerate/detail/kernel_lift.hpp"
+
+#include "core/detail/flint_matrix.hpp"
+#include "core/jacobian.hpp"
+#include "enumerate/detail/parallel_for.hpp"
+
+#include <flint/fmpq.h>
+#include <flint/fmpz.h>
+#include <flint/nmod_mat.h>
+
+#include <algorithm>
+
+#include <memory>
+#include <optional>
+#include <utility>
+
+namespace pleat::detail {
+namespace {
+
+// Row r of `rows` at the given columns, scaled by a positive rational to a
+// primitive integer vector (the scale does not change which combinations
+// vanish).
+void primitive_integer_row(const RationalMatrix& rows, std::size_t r, const std::vector<std::size_t>& columns,
+                           std::vector<Integer>& out) {
+  Integer scale = 1, content = 0;
+  for (std::size_t c : columns) mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), rows(r, c).get_den_mpz_t());
+  out.resize(columns.size());
+  for (std::size_t q = 0; q < columns.size(); ++q) {
+    const Rational& value = rows(r, columns[q]);
+    out[q] = value.get_num() * (scale / value.get_den());
+    mpz_gcd(content.get_mpz_t(), content.get_mpz_t(), out[q].get_mpz_t());
+  }
+  if (content > 1)
+    for (Integer& value : out) mpz_divexact(value.get_mpz_t(), value.get_mpz_t(), content.get_mpz_t());
+}
+
+// The system sum_m K[chosen_i, unknowns_m] x_m = -K[chosen_i, target] over Q
+// (one scale per row for both sides), or nullopt when it is singular. FLINT
+// picks the method: fraction-free for small systems, Dixon p-adic lifting
+// (one inverse modulo a prime, lifting with an adaptive stop) for larger.
+// One FLINT call, not interruptible: about a second at most on the
+// benchmark networks (README, "Certify against the float estimate").
+std::optional<std::vector<RationalVector>> solve_square(const RationalMatrix& rows,
+                                                        const std::vector<std::size_t>& chosen,
+                                                        const std::vector<std::size_t>& unknowns,
+                                                        const std::vector<std::size_t>& targets) {
+  const std::size_t n = unknowns.size();
+  std::vector<std::size_t> columns = unknowns;
+  columns.insert(columns.end(), targets.begin(), targets.end());
+  FmpzMatrix square(n, n), right(n, targets.size());
+  std::vector<Integer> integer_row;
+  for (std::size_t i = 0; i < n; ++i) {
+    poll_stop();
+    primitive_integer_row(rows, chosen[i], columns, integer_row);
+    for (std::size_t m = 0; m < n; ++m) fmpz_set_mpz(square.entry(i, m), integer_row[m].get_mpz_t());
+    for (std::size_t t = 0; t < targets.size(); ++t) {
+      fmpz_set_mpz(right.entry(i, t), integer_row[n + t].get_mpz_t());
+      fmpz_neg(right.entry(i, t), right.entry(i, t));
+    }
+  }
+  poll_stop();
+  FmpqMatrix solution(n, targets.size());
+  if (!fmpq_mat_solve_fmpz_mat(solution.get(), square.get(), right.get())) return std::nullopt;
+  std::vector<RationalVector> out(targets.size(), RationalVector(n));
+  for (std::size_t m = 0; m < n; ++m)
+    for (std::size_t t = 0; t < targets.size(); ++t) fmpq_get_mpq(out[t][m].get_mpq_t(), solution.entry(m, t));
+  return out;
+}
+
+// Rows of the image modulo p whose every entry is a fraction with numerator
+// and denominator below 2^24 in absolute value (rational reconstruction with
+// those bounds); nullopt for the others. A random residue passes that test
+// with probability about 2^-14, so a row that passes by chance is rare, and
+// the exact check catches it. Not proved.
+std::vector<std::optional<RationalVector>> small_rows_from_one_prime(const ModularMatrix& image, std::uint64_t prime) {
+  std::vector<std::optional<RationalVector>> rows(image.rows());
+  fmpz_t residue, modulus, bound;
+  fmpq_t value;
+  fmpz_init(residue);
+  fmpz_init_set_ui(modulus, prime);
+  fmpz_init_set_ui(bound, std::uint64_t{1} << 24);
+  fmpq_init(value);
+  for (std::size_t r = 0; r < image.rows(); ++r) {
+    RationalVector row(image.cols());
+    bool is_small = true;
+    for (std::size_t c = 0; c < image.cols() && is_small; ++c) {
+      if (image(r, c) == 0) continue;
+      fmpz_set_ui(residue, image(r, c));
+      is_small = fmpq_reconstruct_fmpz_2(value, residue, modulus, bound, bound) != 0;
+      if (is_small) fmpq_get_mpq(row[c].get_mpq_t(), value);
+    }
+    if (is_small) rows[r] = std::move(row);
+  }
+  fmpq_clear(value);
+  fmpz_clear(bound);
+  fmpz_clear(modulus);
+  fmpz_clear(residue);
+  return rows;
+}
+
+// The columns of row j of the image outside its leading column that are
+// nonzero modulo p: the support of E's row j over Q unless p divides one of
+// its entries (the exact check would then reject the row solved on it).
+std::vector<std::size_t> support_beyond_lead(const ModularMatrix& image, std::size_t j, std::size_t lead) {
+  std::vector<std::size_t> support;
+  for (std::size_t c = 0; c < image.cols(); ++c)
+    if (c != lead && image(j, c) != 0) support.push_back(c);
+  return support;
+}
+
+// One hard row of E lifted by itself: its support S read modulo the walk's
+// prime, |S| kept rows independent modulo that prime on S, and the images of
+// its entries on S modulo each further prime used so far.
+struct RowLift {
+  std::size_t row = 0, lead = 0;
+  std::vector<std::size_t> support;
+  std::vector<std::size_t> equations;  // indices into the kept rows
+  std::unique_ptr<RationalReconstruction> images;
+  std::optional<RationalVector> last;  // the previous reconstruction (on S)
+  bool is_stable = false;
+};
+
+// The kept rows modulo the network's prime, r x D (coefficient_blocks_mod of
+// each kept region), or only those that `needed` marks (the others stay 0).
+ModularMatrix kept_rows_modulo(const ModularNetwork& network, const std::vector<KeptRows>& kept, std::size_t rank,
+                               std::size_t columns, const std::vector<char>* needed = nullptr) {
+  ModularMatrix out(rank, columns);
+  std::size_t r = 0;
+  for (const KeptRows& region : kept) {
+    bool is_needed = needed == nullptr;
+    for (std::size_t i = 0; i < region.rows.size() && !is_needed; ++i) is_needed = (*needed)[r + i] != 0;
+    if (!is_needed) {
+      r += region.rows.size();
+      continue;
+    }
+    poll_stop();
+    const ModularMatrix blocks = coefficient_blocks_mod(network, region.pattern);
+    for (std::size_t row : region.rows) {
+      for (std::size_t c = 0; c < columns; ++c) out(r, c) = blocks(row, c);
+      ++r;
+    }
+  }
+  return out;
+}
+
+// |columns| rows of `rows` (residues modulo p) independent on those columns:
+// the pivot columns of the transposed restriction's echelon form; nullopt
+// when there are not that many.
+std::optional<std::vector<std::size_t>> independent_rows(const ModularMatrix& rows,
+                                                         const std::vector<std::size_t>& columns, std::uint64_t prime) {
+  NmodMatrix transposed(columns.size(), rows.rows(), prime);
+  for (std::size_t q = 0; q < columns.size(); ++q)
+    for (std::size_t r = 0; r < rows.rows(); ++r)
+      nmod_mat_entry(transposed.get(), static_cast<slong>(q), static_cast<slong>(r)) = rows(r, columns[q]);
+  poll_stop();
+  if (static_cast<std::size_t>(nmod_mat_rref(transposed.get())) != columns.size()) return std::nullopt;
+  std::vector<std::size_t> chosen;
+  std::size_t r = 0;
+  for (std::size_t q = 0; q < columns.size(); ++q) {
+    while (nmod_mat_entry(transposed.get(), static_cast<slong>(q), static_cast<slong>(r)) == 0) ++r;
+    chosen.push_back(r);
+  }
+  return chosen;
+}
+
+// The row's entries on S modulo the prime of `rows`: the solution of its
+// square system there (1 at the lead), or nullopt when that system is
+// singular modulo this prime (skip the prime for this row).
+std::optional<ModularMatrix> row_image(const RowLift& lift, const ModularMatrix& rows, std::uint64_t prime) {
+  const auto n = static_cast<slong>(lift.support.size());
+  NmodMatrix square(lift.support.size(), lift.support.size(), prime), right(lift.support.size(), 1, prime),
+      solution(lift.support.size(), 1, prime);
+  for (slong i = 0; i < n; ++i) {
+    const std::size_t r = lift.equations[static_cast<std::size_t>(i)];
+    for (slong m = 0; m < n; ++m) nmod_mat_entry(square.get(), i, m) = rows(r, lift.support[static_cast<std::size_t>(m)]);
+    const std::uint64_t value = rows(r, lift.lead);
+    nmod_mat_entry(right.get(), i, 0) = value == 0 ? 0 : prime - value;
+  }
+  if (!nmod_mat_solve(solution.get(), square.get(), right.get())) return std::nullopt;
+  ModularMatrix image(1, lift.support.size());
+  for (slong m = 0; m < n; ++m) image(0, static_cast<std::size_t>(m)) = nmod_mat_entry(solution.get(), m, 0);
+  return image;
+}
+
+// Adds the row's image modulo a prime and reconstructs: stable once two
+// reconstructions in a row agree (an early stop; the exact check decides).
+void add_row_image(RowLift& lift, const ModularMatrix& image, std::uint64_t prime) {
+  lift.images->add_image(image, prime);
+  std::optional<RationalMatrix> reconstructed = lift.images->reconstruct();
+  if (!reconstructed) {
+    lift.last.reset();
+    return;
+  }
+  RationalVector entries = reconstructed->row(0);
+  lift.is_stable = lift.last && *lift.last == entries;
+  lift.last = std::move(entries);
+}
+
+// Hard rows lifted multi-modularly, each from its own square system: per
+// prime, the kept regions' blocks modulo it (word arithmetic) and one small
+// solve per row still unstable. Returns the rows in the order given, or
+// nullopt when some row has no independent equations on its support modulo
+// the walk's prime or stays unstable within max_primes. Not proved.
+std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network& network,
+                                                                  const ModularNetwork& walk_network,
+                                                                  const std::vector<KeptRows>& kept, std::size_t rank,
+                                                                  const ModularMatrix& image,
+                                                                  const std::vector<std::size_t>& rows,
+                                                                  const std::vector<std::size_t>& leading,
+                                                                  unsigned threads) {
+  constexpr std::size_t max_primes = 4096;
+  const std::size_t columns = image.cols();
+  const ModularMatrix walk_rows = kept_rows_modulo(walk_network, kept, rank, columns);
+  std::vector<RowLift> lifts(rows.size());
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    RowLift& lift = lifts[i];
+    lift.row = rows[i];
+    lift.lead = leading[rows[i]];
+    lift.support = support_beyond_lead(image, lift.row, lift.lead);
+    auto equations = independent_rows(walk_rows, lift.support, walk_network.prime);
+    if (!equations) return std::nullopt;
+    lift.equations = std::move(*equations);
+    // Further primes only: an image modulo the walk's prime that is wrong
+    // (an unlucky prime) would keep every reconstruction from settling.
+    lift.images = std::make_unique<RationalReconstruction>(1, lift.support.size());
+  }
+  for (std::size_t index = 0, used = 0; used < max_primes; ++index) {
+    poll_stop();
+    std::vector<std::size_t> open;
+    for (std::size_t i = 0; i < lifts.size(); ++i)
+      if (!lifts[i].is_stable) open.push_back(i);
+    if (open.empty()) break;
+    const std::uint64_t prime = prime_sequence(index);
+    if (prime == walk_network.prime) continue;
+    const std::optional<ModularNetwork> reduced = reduce_modulo(network, prime);
+    if (!reduced) continue;  // the prime divides a denominator
+    ++used;
+    std::vector<char> needed(rank, 0);  // the open rows' equations: late primes need few regions
+    for (std::size_t i : open)
+      for (std::size_t r : lifts[i].equations) needed[r] = 1;
+    const ModularMatrix prime_rows = kept_rows_modulo(*reduced, kept, rank, columns, &needed);
+    std::vector<std::optional<ModularMatrix>> images(open.size());
+    parallel_for(open.size(), threads, [&](std::size_t o) { images[o] = row_image(lifts[open[o]], prime_rows, prime); });
+    for (std::size_t o = 0; o < open.size(); ++o)
+      if (images[o]) add_row_image(lifts[open[o]], *images[o], prime);
+  }
+  std::vector<RationalVector> out;
+  for (const RowLift& lift : lifts) {
+    if (!lift.is_stable) return std::nullopt;
+    RationalVector row(columns);
+    row[lift.lead] = 1;
+    for (std::size_t m = 0; m < lift.support.size(); ++m) row[lift.support[m]] = (*lift.last)[m];
+    out.push_back(std::move(row));
+  }
+  return out;
+}
+
+}  // namespace
+
+RationalMatrix exact_kept_rows(const Network& network, const std::vector<KeptRows>& kept, std::size_t rank,
+                               unsigned threads) {
+  std::vector<RationalMatrix> blocks(kept.size());
+  parallel_for(kept.size(), threads, [&](std::size_t i) {
+    poll_stop();
+    blocks[i] = coefficient_blocks(network, kept[i].pattern);
+  });
+  RationalMatrix rows(rank, network.parametric_dimension());
+  std::size_t r = 0;
+  for (std::size_t i = 0; i < kept.size(); ++i)
+    for (std::size_t row : kept[i].rows) rows.set_row(r++, blocks[i].row(row));
+  return rows;
+}
+
+std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
+                                                     const std::vector<std::size_t>& scaling_pivots,
+                                                     const std::vector<std::size_t>& leading,
+                                                     const std::vector<std::size_t>& wanted) {
+  const std::size_t columns = rows.cols(), rank = rows.rows();
+  std::vector<char> is_fixed(columns, 0);  // Q and L
+  for (std::size_t c : scaling_pivots) is_fixed[c] = 1;
+  for (std::size_t c : leading) is_fixed[c] = 1;
+  std::vector<std::size_t> others;  // N
+  for (std::size_t c = 0; c < columns; ++c)
+    if (!is_fixed[c]) others.push_back(c);
+  if (others.size() != rank) return std::nullopt;  // the shapes disagree: bounds only
+  RationalMatrix extra(wanted.size(), columns);
+  for (std::size_t w = 0; w < wanted.size(); ++w) extra(w, leading[wanted[w]]) = 1;
+  // A zero right-hand side (a parameter no kept row depends on) has the
+  // solution 0; the others are solved together.
+  std::vector<std::size_t> solved, targets;  // positions in wanted, their columns
+  for (std::size_t w = 0; w < wanted.size(); ++w)
+    for (std::size_t r = 0; r < rank; ++r)
+      if (rows(r, leading[wanted[w]]) != 0) {
+        solved.push_back(w);
+        targets.push_back(leading[wanted[w]]);
+        break;
+      }
+  if (solved.empty()) return extra;
+  std::vector<std::size_t> all_rows(rank);
+  for (std::size_t r = 0; r < rank; ++r) all_rows[r] = r;
+  const auto solution = solve_square(rows, all_rows, others, targets);
+  if (!solution) return std::nullopt;
+  for (std::size_t s = 0; s < solved.size(); ++s)
+    for (std::size_t m = 0; m < rank; ++m) extra(solved[s], others[m]) = (*solution)[s][m];
+  return extra;
+}
+
+std::optional<RationalMatrix> lift_and_prove_extra_directions(
+    const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
+    const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
+    const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
+    const StopRequest& stop, bool& stopped, const LiftProgress& lift_progress,
+    const std::function<void(std::size_t, std::size_t)>& check_progress) {
+  auto is_proved = [&](const RationalMatrix& candidate) {
+    const AnnihilationCheck check(network, candidate, check_scale);
+    return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress) && !stopped;
+  };
+  const std::vector<std::size_t> leading = echelon_shape(first_image);
+  // Small rows from the walk's prime alone (most extra directions of a
+  // random network: one parameter no region depends on, or a few short
+  // fractions); the others lifted row by row over further primes.
+  std::vector<std::optional<RationalVector>> candidate_rows =
+      small_rows_from_one_prime(first_image, walk_network.prime);
+  std::vector<std::size_t> hard;
+  for (std::size_t j = 0; j < candidate_rows.size(); ++j)
+    if (!candidate_rows[j]) hard.push_back(j);
+  std::optional<RationalMatrix> candidate;
+  if (!hard.empty()) {
+    if (lift_progress) lift_progress(1);
+    if (auto lifted = lift_rows_multimodular(network, walk_network, kept, rank, first_image, hard, leading, threads))
+      for (std::size_t h = 0; h < hard.size(); ++h) candidate_rows[hard[h]] = std::move((*lifted)[h]);
+  }
+  if (std::all_of(candidate_rows.begin(), candidate_rows.end(), [](const auto& row) { return row.has_value(); })) {
+    candidate = RationalMatrix(first_image.rows(), first_image.cols());
+    for (std::size_t j = 0; j < candidate_rows.size(); ++j) candidate->set_row(j, *candidate_rows[j]);
+    if (is_proved(*candidate)) return candidate;
+    if (stopped || stop.is_requested()) {
+      stopped = true;
+      return std::nullopt;
+    }
+  }
+  // A row read off p alone was wrong (a residue that looked small, an entry
+  // divisible by p, an early stop too early): every row from one exact solve.
+  if (lift_progress) lift_progress(2);
+  std::vector<std::size_t> all(first_image.rows());
+  for (std::size_t j = 0; j < all.size(); ++j) all[j] = j;
+  std::optional<RationalMatrix> solved =
+      solve_extra_directions(exact_kept_rows(network, kept, rank, threads), scaling_pivots, leading, all);
+  if (!solved || solved == candidate) return std::nullopt;
+  if (is_proved(*solved)) return solved;
+  return std::nullopt;
+}
+
+std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon) {
+  std::vector<std::size_t> leads;
+  for (std::size_t r = 0; r < echelon.rows(); ++r) {
+    std::size_t c = 0;
+    while (c < echelon.cols() && echelon(r, c) == 0) ++c;
+    leads.push_back(c);
+  }
+  return leads;
+}
+
+ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vector<std::size_t>& scaling_pivots,
+                                       std::uint64_t prime) {
+  std::vector<bool> is_scaling_pivot(rows.cols(), false);
+  for (std::size_t c : scaling_pivots) is_scaling_pivot[c] = true;
+  std::vector<std::size_t> columns;  // the columns outside Q, increasing
+  for (std::size_t c = 0; c < rows.cols(); ++c)
+    if (!is_scaling_pivot[c]) columns.push_back(c);
+  ModularMatrix restricted(rows.rows(), columns.size());
+  for (std::size_t r = 0; r < rows.rows(); ++r)
+    for (std::size_t q = 0; q < columns.size(); ++q) restricted(r, q) = rows(r, columns[q]);
+  const ModularMatrix kernel = kernel_basis_modulo(restricted, prime);
+  ModularMatrix extra(kernel.rows(), rows.cols());
+  for (std::size_t r = 0; r < kernel.rows(); ++r)
+    for (std::size_t q = 0; q < columns.size(); ++q) extra(r, columns[q]) = kernel(r, q);
+  return extra;
+}
+
+bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>& columns) {
+  std::vector<bool> is_excluded(extra.cols(), false);
+  for (std::size_t c : columns) is_excluded[c] = true;
+  std::size_t previous = 0;
+  for (std::size_t r = 0; r < extra.rows(); ++r) {
+    poll_stop();
+    std::size_t lead = 0;
+    while (lead < extra.cols() && extra(r, lead) == 0) ++lead;
+    if (lead == extra.cols() || extra(r, lead) != 1 || (r > 0 && lead <= previous)) return false;
+    for (std::size_t other = 0; other < extra.rows(); ++other)
+      if (other != r && extra(other, lead) != 0) return false;
+    for (std::size_t c : columns)
+      if (extra(r, c) != 0) return false;
+    previous = lead;
+  }
+  return true;
+}
+
+}  // namespace pleat::detail

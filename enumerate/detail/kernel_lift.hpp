@@ -1,0 +1,105 @@
+// The extra kernel directions of certify's proof after the walk: read modulo
+// the walk's prime off its row basis, lifted to Q, and proved exactly on every
+// smooth region (enumerate/detail/kernel_check.hpp). Internal to enumerate/
+// (not installed).
+//
+// The walk leaves a modular row basis (prime p) of every smooth region's
+// coefficient-block rows, rank r. Its kernel mod p, reduced modulo the
+// scaling directions S, is the image of the extra directions E (the canonical
+// basis of kernel / span(S)). E is lifted to Q (rational reconstruction from p
+// alone for rows with small entries, the others row by row from square
+// systems of their supports' size modulo further primes) and then proved: every row
+// of E annihilates every smooth region's rows exactly, S does so by
+// construction (core/jacobian.hpp), so rank <= D - rank(S u E); and rank >= r
+// (the basis' nonsingular minor). Equal: certified.
+#pragma once
+
+#include "core/matrix.hpp"
+#include "core/network.hpp"
+#include "core/pattern.hpp"
+#include "core/jacobian.hpp"
+#include "core/rank.hpp"
+#include "core/stop.hpp"
+#include "enumerate/detail/kernel_check.hpp"
+
+#include <cstddef>
+#include <cstdint>
+#include <functional>
+#include <optional>
+#include <vector>
+
+namespace pleat::detail {
+
+// Which rows of which region rose the walk's rank: stacked in this order
+// they are r rows whose images modulo the walk's prime are independent.
+struct KeptRows {
+  ActivationPattern pattern;
+  std::vector<std::size_t> rows;
+};
+
+// The extra directions E modulo p: the canonical basis (reduced row-echelon,
+// leading 1s) of the kernel vectors of `rows` that vanish at the columns
+// scaling_pivots (Q, the pivot columns of the scaling directions' echelon
+// form), a complement of the scaling directions in the kernel. Computed as
+// the kernel of the rows without the columns Q, put back with zeros at Q:
+// one elimination of rank x (D - |Q|).
+ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vector<std::size_t>& scaling_pivots,
+                                       std::uint64_t prime);
+
+// The leading column of each row of an echelon matrix (its shape).
+std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon);
+
+// How far the lift of the extra directions got, for progress: 0 the walk's
+// prime alone, 1 further primes (rows with large entries), 2 the exact
+// p-adic solve (when the check rejected the first candidate).
+using LiftProgress = std::function<void(std::size_t)>;
+
+// Lifts E from its image modulo the walk's prime (first_image, from
+// extra_directions_of_rows of the walk's basis; walk_network is theta modulo
+// that prime) and proves it. Each row with small entries by rational
+// reconstruction from that prime alone; each other row by itself, over
+// further primes: its support S read modulo the walk's prime, |S| kept rows
+// independent there on S, that square system solved modulo each prime (the
+// kept regions' blocks in word arithmetic), Chinese remaindering, and an
+// early stop once two reconstructions agree. The candidate is returned only
+// once the check has proved it on every pattern of `smooth`; when the check
+// rejects it, every row from one exact p-adic solve (solve_extra_directions)
+// and that is checked the same way. Returns nullopt when stopped (stopped is
+// set) or when nothing is proved (the walk's prime hid a row: bounds only).
+// The result is the same for any thread count (E is unique: identity on L,
+// zero on Q). lift_progress: 1 when further primes start, 2 for the exact
+// solve.
+std::optional<RationalMatrix> lift_and_prove_extra_directions(
+    const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
+    const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
+    const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
+    const StopRequest& stop, bool& stopped, const LiftProgress& lift_progress,
+    const std::function<void(std::size_t, std::size_t)>& check_progress);
+
+// The kept rows over Q: r x D, in the walk's order (each kept region's
+// exact blocks, computed on up to `threads` threads). Exact.
+RationalMatrix exact_kept_rows(const Network& network, const std::vector<KeptRows>& kept, std::size_t rank,
+                               unsigned threads);
+
+// Rows `wanted` (indices into L) of the candidate E over Q, in that order,
+// from the exact kept rows K (r x D): with L the leading columns of the
+// image of E modulo the walk's prime and N the columns outside Q and L (r of
+// them when the shapes agree), K[:, N] is nonsingular modulo that prime,
+// hence over Q, and the kernel vector with 1 at L_j, 0 at the rest of L and
+// at Q has v_N = -K[:, N]^-1 K[:, L_j]. One exact solve of the square system
+// for every wanted j at once (FLINT's Dixon p-adic lifting: one inverse
+// modulo a prime, then lifting with an adaptive stop by rational
+// reconstruction; a zero right-hand side needs no solve). nullopt when the
+// shapes disagree or the system is singular. Not proved here: the caller
+// checks it on every region.
+std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
+                                                     const std::vector<std::size_t>& scaling_pivots,
+                                                     const std::vector<std::size_t>& leading,
+                                                     const std::vector<std::size_t>& wanted);
+
+// Whether E vanishes at the columns Q and is in reduced row-echelon form
+// with leading 1s: then S u E is independent whenever S restricted to Q is
+// nonsingular. Exact.
+bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>& columns);
+
+}  // namespace pleat::detail

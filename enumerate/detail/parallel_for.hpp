@@ -1,0 +1,17 @@
+// A parallel loop for certify's phases after the walk. Internal to
+// enumerate/ (not installed).
+#pragma once
+
+#include <cstddef>
+#include <functional>
+
+namespace pleat::detail {
+
+// Runs work(i) for i in [0, count) on up to `threads` threads (the calling
+// thread among them), each under the calling thread's stop request when one
+// is installed; rethrows the first exception (a Stopped included) after
+// every thread has ended. Which thread runs which i is not fixed: work must
+// write only to its own slot for the result to be thread-count independent.
+void parallel_for(std::size_t count, unsigned threads, const std::function<void(std::size_t)>& work);
+
+}  // namespace pleat::detail

@@ -1,0 +1,136 @@
+// The pieces of certify's lift of the extra kernel directions
+// (enumerate/detail/kernel_lift.hpp): the exact p-adic solve of the kept rows'
+// square system and the row-by-row multi-modular lift must both give the
+// canonical extra directions of the exact kernel of every smooth region's
+// rows (kernel_basis_exact, then extra_kernel_basis: independent exact
+// elimination), and the lift must not prove an altered candidate.
+#include "enumerate/detail/kernel_lift.hpp"
+
+#include "core/jacobian.hpp"
+#include "core/network_io.hpp"
+#include "core/rank.hpp"
+#include "enumerate/domain.hpp"
+#include "enumerate/functional_dimension.hpp"
+#include "enumerate/walker.hpp"
+
+#include <gtest/gtest.h>
+
+#include <vector>
+
+namespace pleat {
+namespace {
+
+// The degenerate example with its weights scaled by 10^-12 and shifted by
+// 1/7: extra directions with entries far beyond one prime's reach.
+Network scaled_degenerate() {
+  Network network = read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json");
+  const Rational tiny(1, Integer("1000000000000"));
+  for (Layer& layer : network.layers)
+    for (std::size_t r = 0; r < layer.weights.rows(); ++r)
+      for (std::size_t c = 0; c < layer.weights.cols(); ++c)
+        layer.weights(r, c) = layer.weights(r, c) * tiny + Rational(1, 7);
+  return network;
+}
+
+// What certify keeps after its walk: every smooth pattern, the modular row
+// basis of their rows and which rows raised its rank.
+struct WalkState {
+  std::vector<ActivationPattern> smooth;
+  std::vector<detail::KeptRows> kept;
+  ModularNetwork modular;
+  std::size_t rank = 0;
+  ModularMatrix first_image;
+};
+
+WalkState walk_state(const Network& network) {
+  WalkState state;
+  state.modular = reduce_modulo_some_prime(network, primary_prime());
+  ModularRowBasis basis(state.modular.prime, network.parametric_dimension());
+  WalkOptions options;
+  options.threads = 1;
+  options.on_region = [&](const Region& region) {
+    if (!region.nonsmooth_neurons.empty()) return true;
+    state.smooth.push_back(region.pattern);
+    const ModularMatrix rows = coefficient_blocks_mod(state.modular, region.pattern);
+    detail::KeptRows kept{region.pattern, {}};
+    for (std::size_t r = 0; r < rows.rows(); ++r)
+      if (basis.add_row(rows.row(r))) kept.rows.push_back(r);
+    if (!kept.rows.empty()) state.kept.push_back(std::move(kept));
+    return true;
+  };
+  EXPECT_TRUE(walk_regions(network, make_whole_space(network.input_dim), options).complete);
+  state.rank = basis.rank();
+  state.first_image =
+      detail::extra_directions_of_rows(basis.rows(), scaling_structure(network).pivot_columns, state.modular.prime);
+  return state;
+}
+
+RationalMatrix exact_extra_directions(const Network& network, const std::vector<ActivationPattern>& smooth) {
+  RationalMatrix rows(0, network.parametric_dimension());
+  for (const ActivationPattern& pattern : smooth) {
+    const RationalMatrix blocks = coefficient_blocks(network, pattern);
+    for (std::size_t r = 0; r < blocks.rows(); ++r) rows.append_row(blocks.row(r));
+  }
+  return extra_kernel_basis(kernel_basis_exact(rows), scaling_directions(network));
+}
+
+TEST(KernelLift, ExactSolveAndMultiModularLiftGiveTheExactKernelsExtraDirections) {
+  const Network network = scaled_degenerate();
+  const WalkState state = walk_state(network);
+  const RationalMatrix expected = exact_extra_directions(network, state.smooth);
+  ASSERT_GT(expected.rows(), 0u);
+  ASSERT_EQ(state.first_image.rows(), expected.rows());
+
+  const std::vector<std::size_t>& pivots = scaling_structure(network).pivot_columns;
+  std::vector<std::size_t> every_row(expected.rows());
+  for (std::size_t j = 0; j < every_row.size(); ++j) every_row[j] = j;
+  const auto solved =
+      detail::solve_extra_directions(detail::exact_kept_rows(network, state.kept, state.rank, 1), pivots,
+                                     detail::echelon_shape(state.first_image), every_row);
+  ASSERT_TRUE(solved.has_value());
+  EXPECT_EQ(*solved, expected);
+
+  for (unsigned threads : {1u, 2u}) {
+    bool stopped = false;
+    std::size_t furthest = 0;
+    const auto lifted = detail::lift_and_prove_extra_directions(
+        network, state.modular, pivots, state.kept, state.rank, state.first_image, state.smooth,
+        detail::CheckScale(network), threads, StopRequest(), stopped,
+        [&](std::size_t step) { furthest = std::max(furthest, step); }, {});
+    ASSERT_TRUE(lifted.has_value());
+    EXPECT_FALSE(stopped);
+    EXPECT_EQ(*lifted, expected);
+    EXPECT_EQ(furthest, 1u);  // further primes, no exact solve
+  }
+}
+
+// A wrong image (one residue changed) leads the row-by-row lift to a wrong
+// candidate; the check rejects it and the exact solve gives the true one.
+TEST(KernelLift, WrongImageFallsBackToTheExactSolve) {
+  const Network network = scaled_degenerate();
+  WalkState state = walk_state(network);
+  const RationalMatrix expected = exact_extra_directions(network, state.smooth);
+  const std::vector<std::size_t> leads = detail::echelon_shape(state.first_image);
+  std::size_t row = 0, column = 0;
+  for (std::size_t r = 0; r < state.first_image.rows() && column == 0; ++r)
+    for (std::size_t c = leads[r] + 1; c < state.first_image.cols(); ++c)
+      if (state.first_image(r, c) != 0) {
+        row = r;
+        column = c;
+        break;
+      }
+  ASSERT_NE(column, 0u);
+  state.first_image(row, column) = (state.first_image(row, column) + 1) % state.modular.prime;
+  bool stopped = false;
+  std::size_t furthest = 0;
+  const auto lifted = detail::lift_and_prove_extra_directions(
+      network, state.modular, scaling_structure(network).pivot_columns, state.kept, state.rank, state.first_image,
+      state.smooth, detail::CheckScale(network), 1, StopRequest(), stopped,
+      [&](std::size_t step) { furthest = std::max(furthest, step); }, {});
+  ASSERT_TRUE(lifted.has_value());
+  EXPECT_EQ(*lifted, expected);
+  EXPECT_EQ(furthest, 2u);
+}
+
+}  // namespace
+}  // namespace pleat

@@ -1,0 +1,181 @@
+// The walker's internal parts (enumerate/detail/): the 256-bit integers of
+// the layer maps against GMP, the fixed-width tiers against core's exact maps,
+// the packed seen-set against std::set, and the streamed adjacency summary
+// (facets, linear regions) against one recomputed from every region kept.
+#include "core/evaluate.hpp"
+#include "core/random_network.hpp"
+#include "enumerate/detail/integer_maps.hpp"
+#include "enumerate/detail/pattern_store.hpp"
+#include "enumerate/walker.hpp"
+
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <limits>
+#include <map>
+#include <numeric>
+#include <random>
+#include <set>
+
+namespace pleat {
+namespace {
+
+Integer random_integer(std::mt19937_64& random, unsigned bits) {
+  Integer value = 0;
+  for (unsigned b = 0; b < bits; b += 32) value = (value << 32) + Integer(static_cast<unsigned long>(random() >> 32));
+  value >>= (bits + 31) / 32 * 32 - bits;  // exactly `bits` random bits
+  return random() % 2 ? value : Integer(-value);
+}
+
+TEST(Int256, RoundTripsThroughGmp) {
+  std::mt19937_64 random(5);
+  for (unsigned bits : {1u, 63u, 64u, 65u, 127u, 128u, 200u, 254u}) {
+    for (int i = 0; i < 50; ++i) {
+      const Integer value = random_integer(random, bits);
+      Integer back;
+      detail::set_integer(back, detail::to_int256(value));
+      EXPECT_EQ(back, value) << bits << " bits";
+    }
+  }
+  for (const Integer& value : {Integer(0), Integer(-1), Integer(1), Integer(-(Integer(1) << 63)), Integer(Integer(1) << 63)}) {
+    Integer back;
+    detail::set_integer(back, detail::to_int256(value));
+    EXPECT_EQ(back, value);
+  }
+}
+
+// Sums of products as compose_fixed forms them, signs and carries included.
+TEST(Int256, AddProductMatchesGmp) {
+  std::mt19937_64 random(11);
+  for (int trial = 0; trial < 200; ++trial) {
+    Integer expected = random_integer(random, 180);
+    detail::Int256 acc = detail::to_int256(expected);
+    for (int term = 0; term < 20; ++term) {
+      const Integer x = random_integer(random, 1 + static_cast<unsigned>(random() % 190));
+      auto weight = static_cast<std::int64_t>(random() >> (1 + random() % 60));
+      if (random() % 2) weight = -weight;
+      if (term == 0) weight = std::numeric_limits<std::int64_t>::min() + 1;  // the largest magnitude
+      detail::add_product(acc, weight, detail::to_int256(x));
+      expected += Integer(static_cast<long>(weight)) * x;
+    }
+    Integer got;
+    detail::set_integer(got, acc);
+    ASSERT_EQ(got, expected) << "trial " << trial;
+  }
+}
+
+// Which tier the walker's maps take on each network, and that its cells and
+// output maps equal core's maps_on_pattern on every region there.
+void expect_cells_equal_core(const Network& network) {
+  const Domain domain = make_whole_space(network.input_dim);
+  WalkOptions options;
+  options.threads = 1;
+  options.keep_certificates = true;
+  options.max_regions = 150;
+  std::size_t regions = 0;
+  options.on_region = [&](const Region& region) {
+    const auto cell = build_pattern_cell(network, domain, region.pattern);
+    EXPECT_TRUE(cell.has_value());
+    if (!cell) return false;
+    EXPECT_TRUE(region.affine == maps_on_pattern(network, region.pattern).output);
+    EXPECT_TRUE(region.certificates->cell.constraints == cell->cell.constraints);
+    ++regions;
+    return true;
+  };
+  walk_regions(network, domain, options);
+  EXPECT_GE(regions, 98u);  // every region of the smallest net (98), 150 of the others
+}
+
+TEST(WalkerParts, EveryIntegerTierGivesCoresMaps) {
+  const Network shallow = random_network({2, 5, 5, 5, 1}, 1);
+  const Network deep = random_network({2, 10, 10, 10, 10, 1}, 1);
+  const Network deeper = random_network({2, 15, 15, 15, 15, 15, 15, 15, 15, 1}, 1);
+  const auto shallow_layers = detail::integer_layers(shallow);
+  const auto deep_layers = detail::integer_layers(deep);
+  const auto deeper_layers = detail::integer_layers(deeper);
+  EXPECT_TRUE(detail::wide_layers(shallow_layers).has_value());   // 128 bits
+  EXPECT_FALSE(detail::wide_layers(deep_layers).has_value());     // 256 bits
+  EXPECT_TRUE(detail::layers_256(deep_layers).has_value());
+  EXPECT_FALSE(detail::layers_256(deeper_layers).has_value());    // GMP
+  for (const Network* network : {&shallow, &deep, &deeper}) expect_cells_equal_core(*network);
+}
+
+TEST(PatternStore, InsertsOncePacksAndOrdersAsPatterns) {
+  std::mt19937_64 random(3);
+  const std::size_t neurons = 70;  // three words, the last partly used
+  detail::PatternStore store(neurons);
+  std::map<ActivationPattern, std::uint32_t> reference;
+  for (int i = 0; i < 3000; ++i) {
+    ActivationPattern pattern;
+    for (std::size_t k = 0; k < neurons; ++k)
+      pattern.states.push_back(static_cast<NeuronState>(k < 60 ? random() % 2 : random() % 3));  // repeats likely
+    if (i % 3 == 0 && !reference.empty()) pattern = reference.begin()->first;
+    const auto [slot, is_new] = store.insert(pattern);
+    const auto found = reference.find(pattern);
+    EXPECT_EQ(is_new, found == reference.end());
+    if (found != reference.end()) EXPECT_EQ(slot, found->second);
+    else reference.emplace(pattern, slot);
+    EXPECT_EQ(store.pattern(slot), pattern);
+  }
+  EXPECT_EQ(store.size(), reference.size());
+  for (auto a = reference.begin(); a != reference.end(); ++a) {
+    auto b = std::next(a);
+    if (b == reference.end()) break;
+    EXPECT_TRUE(store.less(a->second, b->second));
+    EXPECT_FALSE(store.less(b->second, a->second));
+    const auto differ = std::mismatch(a->first.states.begin(), a->first.states.end(), b->first.states.begin());
+    EXPECT_EQ(store.common_prefix(a->second, b->second),
+              static_cast<std::size_t>(differ.first - a->first.states.begin()));
+  }
+}
+
+// Facets and linear regions as the walker counted them before it streamed:
+// every region's neighbours and affine map kept to the end.
+TEST(WalkerParts, StreamedAdjacencyEqualsKeptRegions) {
+  for (const std::vector<std::size_t>& architecture :
+       {std::vector<std::size_t>{2, 10, 10, 10, 10, 1}, {3, 5, 5, 5, 5, 1}, {2, 5, 5, 5, 1}}) {
+    const Network network = random_network(architecture, 1);
+    std::map<ActivationPattern, std::size_t> id_of;
+    std::vector<AffineMap> affine_of;
+    std::vector<std::vector<ActivationPattern>> neighbours_of;
+    WalkOptions options;
+    options.threads = 2;
+    options.on_region = [&](const Region& region) {
+      id_of.emplace(region.pattern, region.id);
+      affine_of.push_back(region.affine);
+      neighbours_of.emplace_back();
+      for (const auto& facet : region.facets) {
+        if (facet.neighbor) neighbours_of.back().push_back(*facet.neighbor);
+        for (const auto& other : facet.other_neighbors) neighbours_of.back().push_back(other);
+      }
+      return true;
+    };
+    const WalkSummary summary = walk_regions(network, make_whole_space(network.input_dim), options);
+    std::set<std::pair<std::size_t, std::size_t>> pairs;
+    std::vector<std::size_t> parent(affine_of.size());
+    std::iota(parent.begin(), parent.end(), 0);
+    const auto find = [&](std::size_t i) {
+      while (parent[i] != i) i = parent[i];
+      return i;
+    };
+    for (std::size_t id = 0; id < affine_of.size(); ++id)
+      for (const auto& neighbour : neighbours_of[id]) {
+        const std::size_t other = id_of.at(neighbour);
+        pairs.emplace(std::min(id, other), std::max(id, other));
+        if (affine_of[id] == affine_of[other]) parent[find(id)] = find(other);
+      }
+    std::size_t roots = 0;
+    for (std::size_t i = 0; i < parent.size(); ++i) roots += find(i) == i;
+    EXPECT_TRUE(summary.certified);
+    EXPECT_EQ(summary.facets, pairs.size());
+    EXPECT_EQ(summary.linear_regions, roots);
+    EXPECT_EQ(summary.patterns.size(), id_of.size());
+    std::set<std::vector<NeuronState>> first_layer;
+    for (const auto& [pattern, id] : id_of)
+      first_layer.emplace(pattern.states.begin(), pattern.states.begin() + static_cast<std::ptrdiff_t>(architecture[1]));
+    EXPECT_EQ(summary.regions_per_layer.front(), first_layer.size());
+  }
+}
+
+}  // namespace
+}  // namespace pleat
