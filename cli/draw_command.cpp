@@ -7,6 +7,8 @@
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
 #include "cli/figure.hpp"
+#include "cli/figure_colour.hpp"
+#include "cli/figure_mesh.hpp"
 #include "cli/figure_region_file.hpp"
 #include "cli/figure_scene.hpp"
 #include "cli/progress.hpp"
@@ -35,7 +37,7 @@ struct DrawArguments {
   std::string network_path;
   std::string output_path;
   std::string view_text;
-  std::string colour_by = "region";
+  ColourMode colour_by = ColourMode::region;
   std::string from_path;
   DomainOptions domain;
   bool labels = false;
@@ -77,13 +79,6 @@ struct Scene {
 std::vector<std::string> outside_note(const Scene& scene, std::size_t drawn) {
   if (!scene.total_regions || *scene.total_regions <= drawn) return {};
   return {count_of(*scene.total_regions - drawn, "region") + " outside the view"};
-}
-
-std::string describe_view(const View& view) {
-  std::string text;
-  for (std::size_t i = 0; i < view.lower.size(); ++i)
-    text += (i ? "x" : "") + std::string("[") + format_rational(view.lower[i]) + "," + format_rational(view.upper[i]) + "]";
-  return text;
 }
 
 // --size W,H: each a positive number with a unit, cm or px (96 px to the
@@ -177,88 +172,6 @@ void add_label_note(Figure& figure, const DrawArguments& arguments) {
   figure.notes.push_back("the pattern does not fit (--table)");
 }
 
-// Fills figure.colours / polygon colours / legend for the chosen mode.
-// keys[i] is region i's pattern; adjacent is the region adjacency graph.
-void colour_regions(const Network& network, const std::vector<const Region*>& regions,
-                    const std::vector<std::set<std::size_t>>& adjacent, const std::string& mode, Figure& figure) {
-  const std::size_t n = regions.size();
-  std::vector<std::size_t> colour(n, 0);
-  auto use_palette = [&](std::size_t needed) {
-    figure.colours = categorical_palette();
-    for (std::size_t extra = figure.colours.size(); extra < needed; ++extra)
-      figure.colours.push_back(sequential_colour(static_cast<double>(extra % 7) / 6.0));
-  };
-  if (mode == "region") {
-    colour = smallest_last_colouring(adjacent);
-    use_palette(n ? *std::max_element(colour.begin(), colour.end()) + 1 : 0);
-    figure.legend_title = "Regions";
-    figure.notes.push_back("adjacent regions never share");
-    figure.notes.push_back("a colour (smallest-last greedy)");
-  } else if (mode == "layer1") {
-    const std::size_t width = network.relu_layer_count() ? network.layers[0].width() : 0;
-    std::map<std::vector<NeuronState>, std::size_t> cell_of;
-    std::vector<std::size_t> cell(n);
-    for (std::size_t i = 0; i < n; ++i) {
-      const auto& states = regions[i]->pattern.states;
-      const std::vector<NeuronState> prefix(states.begin(), states.begin() + static_cast<std::ptrdiff_t>(width));
-      cell[i] = cell_of.emplace(prefix, cell_of.size()).first->second;
-    }
-    std::vector<std::set<std::size_t>> cell_adjacent(cell_of.size());
-    for (std::size_t i = 0; i < n; ++i)
-      for (std::size_t j : adjacent[i])
-        if (cell[i] != cell[j]) cell_adjacent[cell[i]].insert(cell[j]);
-    const std::vector<std::size_t> cell_colour = smallest_last_colouring(cell_adjacent);
-    for (std::size_t i = 0; i < n; ++i) colour[i] = cell_colour[cell[i]];
-    use_palette(cell_colour.empty() ? 0 : *std::max_element(cell_colour.begin(), cell_colour.end()) + 1);
-    figure.legend_title = "Layer-1 cells";
-    figure.notes.push_back(std::to_string(cell_of.size()) + " cells of the first layer's");
-    figure.notes.push_back("hyperplanes; neighbours differ");
-  } else if (mode == "gradient") {
-    std::vector<double> norm(n);
-    for (std::size_t i = 0; i < n; ++i) {
-      double sum = 0;
-      for (std::size_t t = 0; t < regions[i]->affine.linear.cols(); ++t) {
-        const double g = to_double(regions[i]->affine.linear(0, t));
-        sum += g * g;
-      }
-      norm[i] = std::sqrt(sum);
-    }
-    const double low = n ? *std::min_element(norm.begin(), norm.end()) : 0;
-    const double high = n ? *std::max_element(norm.begin(), norm.end()) : 1;
-    const double span = high > low ? high - low : 1;
-    std::map<std::string, std::size_t> index_of;
-    for (std::size_t i = 0; i < n; ++i) {
-      const std::string c = sequential_colour((norm[i] - low) / span);
-      colour[i] = index_of.emplace(c, index_of.size()).first->second;
-    }
-    figure.colours.assign(index_of.size(), "");
-    for (const auto& [c, index] : index_of) figure.colours[index] = c;
-    figure.legend_title = network.output_dim() > 1 ? "|grad F_1|" : "|grad F|";
-    // Plain decimals (never "1.2e+03"), three significant digits of the span.
-    const double magnitude = std::floor(std::log10(std::max(std::abs(high - low), std::abs(high)) + 1e-300));
-    const int decimals = std::clamp(2 - static_cast<int>(magnitude), 0, 12);
-    for (int step = 0; step <= 4; ++step) {
-      figure.colours.push_back(sequential_colour(step / 4.0));
-      figure.swatches.push_back(
-          FigureSwatch{figure.colours.size() - 1, fixed_point_text(low + (high - low) * step / 4.0, decimals)});
-    }
-  } else {  // rank
-    const std::vector<std::size_t> rows = new_rows_in_walk_order(network, regions);
-    const std::size_t most = network.output_dim() * (network.input_dim + 1);
-    std::map<std::size_t, std::size_t> count;
-    std::size_t total = 0;
-    for (std::size_t r : rows) ++count[r], total += r;
-    for (std::size_t r = 0; r <= most; ++r) figure.colours.push_back(sequential_colour(static_cast<double>(r) / most));
-    for (std::size_t i = 0; i < n; ++i) colour[i] = rows[i];
-    figure.legend_title = "New rows (walk order)";
-    for (const auto& [r, k] : count)
-      figure.swatches.push_back(FigureSwatch{r, count_of(r, "row") + ": " + count_of(k, "region")});
-    figure.notes.push_back("rows each region adds to the rank");
-    figure.notes.push_back("of those before it; all together");
-    figure.notes.push_back("rank " + std::to_string(total) + " or more (exact: certify)");
-  }
-  for (auto& polygon : figure.polygons) polygon.colour = colour[polygon.region];
-}
 
 // Regions narrower than this in the SVG are reported: a reader cannot see them.
 constexpr double thin_width_px = 3;
@@ -294,16 +207,16 @@ std::string region_table(const Network& network, const std::vector<const Region*
 Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments& arguments, Format format) {
   const std::vector<Region>& regions = scene.regions;
   const View& view = scene.view;
-  std::vector<Polygon> polygons;
+  std::vector<lp::Polygon> polygons;
   std::vector<const Region*> drawn;
   for (const auto& region : regions) {
     poll_stop();
-    Polygon polygon = clip_rectangle(view.lower, view.upper, closed_cell(region, scene.with_domain_sides).constraints);
+    lp::Polygon polygon = lp::clip_rectangle(view.lower, view.upper, closed_cell(region, scene.with_domain_sides).constraints);
     if (polygon.vertices.size() < 3) continue;
     polygons.push_back(std::move(polygon));
     drawn.push_back(&region);
   }
-  const PlanarComplex complex = planar_complex(polygons);
+  const lp::PlanarComplex complex = lp::planar_complex(polygons);
   Drawn result{"", region_table(network, drawn), complex.vertices.size(), complex.edges.size(), polygons.size()};
 
   if (format == Format::csv) {
@@ -478,111 +391,9 @@ Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments&
   return result;
 }
 
-// Three inputs: every region clipped to the view box as a closed polytope
-// surface in the OFF format (vertices from cddlib's exact enumeration, faces
-// ordered counter-clockwise seen from outside), one colour per region from a
-// greedy colouring of the walk's facet adjacency.
 Drawn draw_mesh(const Network& network, const Scene& scene) {
-  const std::vector<Region>& regions = scene.regions;
-  const View& view = scene.view;
-  std::map<RationalVector, std::size_t> vertex_index;
-  std::vector<RationalVector> vertices;
-  struct Face {
-    std::vector<std::size_t> corners;
-    std::size_t region;
-  };
-  std::vector<Face> faces;
-  std::map<ActivationPattern, std::size_t> index_of;
-  for (std::size_t i = 0; i < regions.size(); ++i) index_of.emplace(regions[i].pattern, i);
-  std::vector<std::set<std::size_t>> adjacent(regions.size());
-  std::size_t drawn_regions = 0;
-  for (std::size_t r = 0; r < regions.size(); ++r) {
-    poll_stop();
-    const Region& region = regions[r];
-    for (const auto& facet : region.facets)
-      if (facet.neighbor && index_of.count(*facet.neighbor)) {
-        adjacent[r].insert(index_of[*facet.neighbor]);
-        adjacent[index_of[*facet.neighbor]].insert(r);
-      }
-    lp::Polyhedron cell = closed_cell(region, scene.with_domain_sides);
-    for (std::size_t axis = 0; axis < 3; ++axis) {
-      RationalVector e(3, Rational(0));
-      e[axis] = 1;
-      cell.constraints.push_back(lp::Constraint{e, -view.lower[axis]});
-      e[axis] = -1;
-      cell.constraints.push_back(lp::Constraint{e, view.upper[axis]});
-    }
-    const VertexRepresentation rep = vertex_representation(cell, region.point);
-    if (rep.points.size() < 4) continue;
-    ++drawn_regions;
-    std::set<std::vector<std::size_t>> seen_faces;
-    for (const auto& c : cell.constraints) {
-      std::vector<RationalVector> on_face;
-      for (const auto& p : rep.points)
-        if (c.normal[0] * p[0] + c.normal[1] * p[1] + c.normal[2] * p[2] + c.offset == 0) on_face.push_back(p);
-      if (on_face.size() < 3) continue;
-      // Order around the centroid in the plane of the two coordinates the
-      // face projects onto without collapsing (drop the largest normal entry).
-      std::size_t drop = 0;
-      for (std::size_t k = 1; k < 3; ++k)
-        if (abs(c.normal[k]) > abs(c.normal[drop])) drop = k;
-      const std::size_t u = drop == 0 ? 1 : 0, w = drop == 2 ? 1 : 2;
-      auto project = [&](const RationalVector& p) { return RationalVector{p[u], p[w]}; };
-      RationalVector centre(2, Rational(0));
-      for (const auto& p : on_face) {
-        centre[0] += p[u];
-        centre[1] += p[w];
-      }
-      centre[0] /= static_cast<long>(on_face.size());
-      centre[1] /= static_cast<long>(on_face.size());
-      std::vector<RationalVector> flat;
-      for (const auto& p : on_face) flat.push_back(project(p));
-      sort_counter_clockwise(flat, centre);
-      std::vector<RationalVector> ordered;
-      for (const auto& q : flat)
-        for (const auto& p : on_face)
-          if (project(p) == q) ordered.push_back(p);
-      // Outward is -normal (the region is where normal.x + offset > 0): the
-      // projected turn must have the sign of -normal[drop] times the
-      // orientation of the (u, w) axes in R^3 (+1 unless drop == 1).
-      const int axes_sign = drop == 1 ? -1 : 1;
-      if ((c.normal[drop] > 0 ? -1 : 1) * axes_sign < 0) std::reverse(ordered.begin(), ordered.end());
-      Face face{{}, r};
-      for (const auto& p : ordered) {
-        auto [it, inserted] = vertex_index.emplace(p, vertices.size());
-        if (inserted) vertices.push_back(p);
-        face.corners.push_back(it->second);
-      }
-      std::vector<std::size_t> key = face.corners;
-      std::sort(key.begin(), key.end());
-      if (seen_faces.insert(key).second) faces.push_back(std::move(face));
-    }
-  }
-  const std::vector<std::size_t> colour = smallest_last_colouring(adjacent);
-  std::vector<std::string> palette = categorical_palette();
-  std::ostringstream out;
-  out << "OFF\n# regions of a ReLU network clipped to " << describe_view(view) << ", written by pleat draw\n";
-  out << vertices.size() << " " << faces.size() << " 0\n";
-  for (const auto& p : vertices)
-    out << format_double(to_double(p[0])) << " " << format_double(to_double(p[1])) << " "
-        << format_double(to_double(p[2])) << "\n";
-  for (const auto& face : faces) {
-    out << face.corners.size();
-    for (std::size_t index : face.corners) out << " " << index;
-    const std::string hex = colour[face.region] < palette.size() ? palette[colour[face.region]]
-                                                                 : sequential_colour(0.5);
-    for (int k = 0; k < 3; ++k)
-      out << " " << format_double(std::stoi(hex.substr(1 + 2 * k, 2), nullptr, 16) / 255.0);
-    out << "\n";
-  }
-  (void)network;
-  // The side table: which region each face (in file order) bounds.
-  std::ostringstream table;
-  table << "face,region,pattern\n";
-  for (std::size_t f = 0; f < faces.size(); ++f)
-    table << f << "," << regions[faces[f].region].id << "," << format_pattern(network, regions[faces[f].region].pattern)
-          << "\n";
-  return Drawn{out.str(), table.str(), vertices.size(), faces.size(), drawn_regions};
+  RegionMesh mesh = region_mesh(network, scene.regions, scene.view, scene.with_domain_sides);
+  return Drawn{std::move(mesh.off), std::move(mesh.table), mesh.vertices, mesh.faces, mesh.regions};
 }
 
 // The domain cut to the view: a box stays a box, a polytope gains the
@@ -760,10 +571,13 @@ void register_draw(CommandTable& commands) {
   command.add_option("--out", arguments->output_path, "Output file: FIG.svg, FIG.tex, FIG.csv or (3 inputs) FIG.off")->required();
   add_number_list_option(command, "--view", arguments->view_text,
                          "XMIN,XMAX,YMIN,YMAX (XMIN,XMAX for 1 input): the rectangle drawn and walked");
-  command.add_option("--color-by,--colour-by", arguments->colour_by,
-                     "region (neighbours differ), gradient (|grad F|), layer1 (first-layer cell), rank "
-                     "(rows the region adds to the rank of the regions before it in walk order)")
-      ->check(CLI::IsMember({"region", "gradient", "layer1", "rank"}));
+  command
+      .add_option_function<std::string>(
+          "--color-by,--colour-by",
+          [arguments](const std::string& name) { arguments->colour_by = colour_mode_from_name(name); },
+          "region (neighbours differ), gradient (|grad F|), layer1 (first-layer cell), rank "
+          "(rows the region adds to the rank of the regions before it in walk order)")
+      ->check(CLI::IsMember(colour_mode_names()));
   command.add_flag("--labels", arguments->labels,
                    "Write each region's activation pattern inside it where it fits, else its number (the "
                    "region column of --table) where that fits, else nothing");

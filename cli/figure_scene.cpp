@@ -20,7 +20,7 @@ std::vector<RationalVector> arrangement_vertices(const std::vector<Region>& regi
   std::set<RationalVector> vertices;
   for (const auto& region : regions) {
     poll_stop();
-    const VertexRepresentation rep = vertex_representation(closed_cell(region, true), region.point);
+    const lp::VertexRepresentation rep = lp::vertex_representation(closed_cell(region, true), region.point);
     if (rep.lines.empty())  // pointed: its points are vertices of the arrangement
       vertices.insert(rep.points.begin(), rep.points.end());
   }
@@ -53,6 +53,19 @@ std::pair<double, double> shortest_interval(const std::vector<double>& values, s
 }
 
 }  // namespace
+
+std::string describe_view(const View& view) {
+  std::string text;
+  for (std::size_t i = 0; i < view.lower.size(); ++i) {
+    if (i > 0) text += 'x';
+    text += '[';
+    text += format_rational(view.lower[i]);
+    text += ',';
+    text += format_rational(view.upper[i]);
+    text += ']';
+  }
+  return text;
+}
 
 lp::Polyhedron closed_cell(const Region& region, bool with_domain_sides) {
   lp::Polyhedron cell{region.point.size(), {}};
@@ -179,8 +192,8 @@ std::vector<std::size_t> new_rows_in_walk_order(const Network& network, const st
 
 // The bounding box of a bounded polytope domain; nullopt when unbounded.
 std::optional<View> bounding_view(const Domain& domain) {
-  const VertexRepresentation rep =
-      vertex_representation(lp::Polyhedron{domain.dim, domain.constraints}, domain_centre(domain));
+  const lp::VertexRepresentation rep =
+      lp::vertex_representation(lp::Polyhedron{domain.dim, domain.constraints}, domain_centre(domain));
   if (!rep.is_bounded() || rep.points.empty()) return std::nullopt;
   View view{rep.points.front(), rep.points.front()};
   for (const auto& p : rep.points)

@@ -15,6 +15,7 @@
 #include <cstddef>
 #include <optional>
 #include <set>
+#include <string>
 #include <vector>
 
 namespace pleat::cli {
@@ -26,6 +27,9 @@ struct View {
 
 // The region's closed cell: its facets' half-spaces, the domain's sides
 // only when with_domain_sides. Exact.
+// The view as text: [x0,x1]x[y0,y1] (exact numbers).
+std::string describe_view(const View& view);
+
 lp::Polyhedron closed_cell(const Region& region, bool with_domain_sides);
 
 // The bounding box of a bounded polytope domain (exact vertices); nullopt

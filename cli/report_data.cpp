@@ -104,7 +104,7 @@ void add_region_details(const Network& network, const Region& region, Json& out,
 // The bent-hyperplane pieces of a planar complex: each edge between two
 // regions lies on the zero sets of the neurons of the facets holding it.
 // Consecutive collinear edges of the same neurons are joined.
-Json bent_hyperplane_pieces(const Network& network, const PlanarComplex& complex,
+Json bent_hyperplane_pieces(const Network& network, const lp::PlanarComplex& complex,
                             const std::vector<const Region*>& regions) {
   struct Piece {
     RationalVector from, to;
@@ -206,16 +206,16 @@ Json report_certify_json(const Network& network, const FunctionalDimensionResult
 
 Json plane_map_json(const Network& network, const std::vector<Region>& regions, const View& view,
                     bool with_domain_sides, const Network& rows_network, std::size_t detail_limit) {
-  std::vector<Polygon> polygons;
+  std::vector<lp::Polygon> polygons;
   std::vector<const Region*> shown;
   for (const auto& region : regions) {
     poll_stop();
-    Polygon polygon = clip_rectangle(view.lower, view.upper, closed_cell(region, with_domain_sides).constraints);
+    lp::Polygon polygon = lp::clip_rectangle(view.lower, view.upper, closed_cell(region, with_domain_sides).constraints);
     if (polygon.vertices.size() < 3) continue;
     polygons.push_back(std::move(polygon));
     shown.push_back(&region);
   }
-  const PlanarComplex complex = planar_complex(polygons);
+  const lp::PlanarComplex complex = lp::planar_complex(polygons);
   std::vector<std::set<std::size_t>> adjacent(polygons.size());
   for (const auto& edge : complex.edges)
     if (edge.polygons.size() == 2) {
@@ -241,7 +241,7 @@ Json plane_map_json(const Network& network, const std::vector<Region>& regions, 
     Json item{{"id", shown[i]->id}, {"colour", colour[i]}, {"polygon", std::move(polygon)}};
     if (has_details) {
       add_region_details(network, *shown[i], item, first_rows[i]);
-      const Rational area = polygon_area(polygons[i]);
+      const Rational area = lp::polygon_area(polygons[i]);
       item["area"] = format_rational(area);
       item["area_double"] = to_double(area);
       item["rows_new"] = optional_count(new_rows[i]);

@@ -7,7 +7,8 @@
 // float64 already, and says which parameters it rounded.
 //
 // This header names no protobuf type: the ONNX library and protobuf stay
-// private to core/onnx_io.cpp (see core/CMakeLists.txt for why they may live
+// private to core/onnx_import.cpp, onnx_export.cpp and detail/onnx_tensors.cpp
+// (see core/CMakeLists.txt for why they may live
 // in core at all).
 #pragma once
 

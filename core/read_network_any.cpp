@@ -1,5 +1,5 @@
 // read_network_any (core/network_io.hpp), in a file of its own: it is the one
-// caller outside onnx_io.cpp of the ONNX reader, and keeping it apart keeps
+// caller outside onnx_import.cpp of the ONNX reader, and keeping it apart keeps
 // protobuf out of programs that only read JSON (core/CMakeLists.txt).
 #include "core/network_io.hpp"
 

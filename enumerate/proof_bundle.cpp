@@ -13,12 +13,6 @@ namespace {
 
 bool is_nonsmooth(const Region& region) { return !region.nonsmooth_neurons.empty(); }
 
-Rational slack(const lp::Constraint& c, const RationalVector& x) {
-  Rational value = c.offset;
-  for (std::size_t i = 0; i < x.size(); ++i) value += c.normal[i] * x[i];
-  return value;
-}
-
 // The far-side candidates of one interior facet that the region list leaves
 // out but whose closure holds the facet point: each needs a proof that its
 // tangent cone at the point is empty (the walker kept exactly the candidates
@@ -38,7 +32,7 @@ std::vector<EmptyAcross> empty_candidates(const Network& network, const Domain& 
     lp::Polyhedron cone{cell->cell.dim, {}};
     bool is_in_closure = true;
     for (const auto& c : cell->cell.constraints) {
-      const Rational value = slack(c, facet.point);
+      const Rational value = lp::slack(c, facet.point);
       if (value < 0) is_in_closure = false;
       if (value == 0) cone.constraints.push_back(lp::Constraint{c.normal, Rational(0)});
     }

@@ -6,10 +6,10 @@ RegionRecord make_region_record(const Network& network, Region region) {
   lp::Polyhedron closed{network.input_dim, {}};
   for (const auto& facet : region.facets) closed.constraints.push_back(lp::Constraint{facet.normal, facet.offset});
   RegionRecord record;
-  record.vertices = vertex_representation(closed, region.point);
+  record.vertices = lp::vertex_representation(closed, region.point);
   if (record.vertices.is_bounded() && network.input_dim <= max_volume_dimension)
-    record.volume = network.input_dim == 2 ? polygon_area(Polygon{record.vertices.points})
-                                           : polytope_volume(closed, record.vertices.points);
+    record.volume = network.input_dim == 2 ? lp::polygon_area(lp::Polygon{record.vertices.points})
+                                           : lp::polytope_volume(closed, record.vertices.points);
   record.rank = rank_contribution(network, region.pattern);
   record.region = std::move(region);
   return record;

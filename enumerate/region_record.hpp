@@ -19,7 +19,7 @@ inline constexpr std::size_t max_volume_dimension = 4;
 
 struct RegionRecord {
   Region region;
-  VertexRepresentation vertices;  // of the closed region within the domain (its facets)
+  lp::VertexRepresentation vertices;  // of the closed region within the domain (its facets)
   std::optional<Rational> volume;  // length/area/volume when bounded and input_dim <= max_volume_dimension
   std::size_t rank = 0;            // rank_contribution of the pattern
 };

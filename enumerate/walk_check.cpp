@@ -23,23 +23,6 @@ struct Failure {
   throw Failure{"line " + std::to_string(region.line) + ": " + what};
 }
 
-Rational evaluate(const lp::Constraint& c, const RationalVector& x) {
-  Rational value = c.offset;
-  for (std::size_t i = 0; i < x.size(); ++i) value += c.normal[i] * x[i];
-  return value;
-}
-
-bool is_positive_multiple(const RationalVector& normal, const Rational& offset, const lp::Constraint& c) {
-  std::size_t pivot = 0;
-  while (pivot < normal.size() && normal[pivot] == 0) ++pivot;
-  if (pivot == normal.size() || c.normal[pivot] == 0) return false;
-  const Rational factor = normal[pivot] / c.normal[pivot];
-  if (factor <= 0) return false;
-  for (std::size_t i = 0; i < normal.size(); ++i)
-    if (normal[i] != factor * c.normal[i]) return false;
-  return offset == factor * c.offset;
-}
-
 // Integers with greatest common divisor 1 (the spec's form of a facet normal,
 // which makes the written normal and offset unique).
 bool is_primitive_integer_vector(const RationalVector& normal) {
@@ -53,7 +36,7 @@ bool is_primitive_integer_vector(const RationalVector& normal) {
 
 bool closure_contains(const lp::Polyhedron& cell, const RationalVector& point) {
   return std::all_of(cell.constraints.begin(), cell.constraints.end(),
-                     [&](const lp::Constraint& c) { return evaluate(c, point) >= 0; });
+                     [&](const lp::Constraint& c) { return lp::slack(c, point) >= 0; });
 }
 
 // The open cone of a cell at a point q of its closure: the constraints that
@@ -61,7 +44,7 @@ bool closure_contains(const lp::Polyhedron& cell, const RationalVector& point) {
 lp::Polyhedron tangent_cone_at(const lp::Polyhedron& cell, const RationalVector& q) {
   lp::Polyhedron cone{cell.dim, {}};
   for (const auto& c : cell.constraints)
-    if (evaluate(c, q) == 0) cone.constraints.push_back(lp::Constraint{c.normal, Rational(0)});
+    if (lp::slack(c, q) == 0) cone.constraints.push_back(lp::Constraint{c.normal, Rational(0)});
   return cone;
 }
 
@@ -140,7 +123,7 @@ class WalkChecker {
       const std::size_t index = facet_index++;
       const SavedFacet& facet = region.facets[index];
       const lp::Constraint& representative = cell.cell.constraints[group.constraints.front()];
-      if (!is_positive_multiple(facet.normal, facet.offset, representative) ||
+      if (!lp::is_positive_multiple(lp::Constraint{facet.normal, facet.offset}, representative) ||
           !is_primitive_integer_vector(facet.normal))
         fail(region, facet_name(index) + " is not its constraint's hyperplane as a primitive integer normal");
       if (facet.point != std::get<lp::FacetPoint>(group.verdict).point)
@@ -202,7 +185,7 @@ class WalkChecker {
         fail(region, name + " point is outside the closure of neighbour " + label);
       // The neighbour is convex with the facet point in its closure, so its
       // interior lies on the far side exactly when its own point does.
-      if (evaluate(representative, far.point) >= 0)
+      if (lp::slack(representative, far.point) >= 0)
         fail(region, "neighbour " + label + " (line " + std::to_string(far.line) + ") is not on the far side of " + name);
     }
     for (const auto& candidate : candidates)

@@ -27,7 +27,7 @@ using Point = std::array<double, 2>;
 
 // The exact rows and their filter images (a0, a1, c per row).
 struct Rows {
-  const std::vector<PlaneRow>& exact;
+  std::span<const PlaneRow> exact;
   std::vector<double> images;  // 3 per row
   const double* image(std::size_t i) const { return images.data() + 3 * i; }
 };
@@ -413,7 +413,7 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
   return cell;
 }
 
-std::optional<bool> is_plane_cell_bounded(const std::vector<PlaneRow>& exact_rows) {
+std::optional<bool> is_plane_cell_bounded(std::span<const PlaneRow> exact_rows) {
   const std::size_t m = exact_rows.size();
   if (m == 0) throw usage_error("is_plane_cell_bounded: no rows");
   Rows rows{exact_rows, std::vector<double>(3 * m)};

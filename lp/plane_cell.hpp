@@ -15,6 +15,7 @@
 #include <array>
 #include <cstddef>
 #include <optional>
+#include <span>
 #include <vector>
 
 namespace pleat::lp {
@@ -54,7 +55,7 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& rows);
 // sorted by angle propose a recession direction or three normals with
 // positive Stiemke multipliers). Precondition: the open cell is non-empty;
 // rows non-empty. nullopt when the proposal fails.
-std::optional<bool> is_plane_cell_bounded(const std::vector<PlaneRow>& rows);
+std::optional<bool> is_plane_cell_bounded(std::span<const PlaneRow> rows);
 
 // The Motzkin certificate (equality multiplier -1) of a PlaneGroup's support
 // on the same constraints in rational form (positive multiples of the integer

@@ -1,5 +1,6 @@
 // Polyhedra given by affine constraints over Q^n, and the certificates that
-// decide questions about them. Plain values; nothing here solves anything.
+// decide questions about them. Plain values and two exact helpers; nothing
+// here solves anything.
 #pragma once
 
 #include "core/rational.hpp"
@@ -16,6 +17,13 @@ struct Constraint {
   Rational offset;
   friend bool operator==(const Constraint&, const Constraint&) = default;
 };
+
+// normal . x + offset, exactly. Precondition: x.size() == normal.size().
+[[nodiscard]] Rational slack(const Constraint& constraint, const RationalVector& x);
+
+// True when first = lambda * second for some lambda > 0 (normal and offset
+// jointly), exactly; false when the sizes differ or second's normal is zero.
+[[nodiscard]] bool is_positive_multiple(const Constraint& first, const Constraint& second);
 
 // The open cell {x in Q^dim : every constraint > 0} and its closure.
 // Precondition of every query: each normal has size dim; no constraint has

@@ -268,8 +268,7 @@ class RegionProcessor::Impl {
     // Boundedness on the neuron rows (as a subset of R^2).
     std::optional<bool> bounded = false;
     if (neuron_rows_ > 0) {
-      neuron_only_.assign(rows_.begin(), rows_.begin() + static_cast<std::ptrdiff_t>(neuron_rows_));
-      bounded = lp::is_plane_cell_bounded(neuron_only_);
+      bounded = lp::is_plane_cell_bounded(std::span<const lp::PlaneRow>(rows_.data(), neuron_rows_));
       if (!bounded) return std::nullopt;
     }
     region.bounded = *bounded;
@@ -543,7 +542,6 @@ class RegionProcessor::Impl {
   std::vector<IntegerMap> pre_;            // per layer, this region's pre-activation map
   std::vector<char> active_;
   std::vector<lp::PlaneRow> rows_;         // this region's cell: neurons, then domain sides
-  std::vector<lp::PlaneRow> neuron_only_;
   std::vector<std::size_t> row_neuron_;    // neuron id per neuron row
   std::size_t neuron_rows_ = 0;
   IntegerCrossingBuffers crossing_buffers_;  // filter images of pre_ (lazy), a scratch point

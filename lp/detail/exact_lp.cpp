@@ -1,7 +1,6 @@
 #include "lp/detail/exact_lp.hpp"
 
-#include <cddlib/setoper.h>
-#include <cddlib/cdd.h>
+#include "lp/detail/cdd_handles.hpp"
 
 #include <mutex>
 #include <stdexcept>
@@ -22,13 +21,10 @@ void ensure_cdd_constants() {
 ExactSolution maximise_exact(std::size_t dim, const std::vector<ExactRow>& rows,
                              const RationalVector& objective) {
   if (rows.empty()) throw std::runtime_error("maximise_exact: no rows");
-  std::lock_guard<std::mutex> lock(cdd_mutex());
-  ensure_cdd_constants();
+  const CddSession session;
   // cddlib's H-representation: row i is [b_i, A_i] meaning b_i + A_i x >= 0.
-  dd_MatrixPtr matrix = dd_CreateMatrix(static_cast<dd_rowrange>(rows.size()),
-                                        static_cast<dd_colrange>(dim + 1));
+  CddMatrix matrix = make_cdd_matrix(rows.size(), dim + 1);
   matrix->representation = dd_Inequality;
-  matrix->numbtype = dd_Rational;
   matrix->objective = dd_LPmax;
   for (std::size_t i = 0; i < rows.size(); ++i) {
     mpq_set(matrix->matrix[i][0], rows[i].offset.get_mpq_t());
@@ -40,15 +36,13 @@ ExactSolution maximise_exact(std::size_t dim, const std::vector<ExactRow>& rows,
   for (std::size_t k = 0; k < dim; ++k) mpq_set(matrix->rowvec[k + 1], objective[k].get_mpq_t());
 
   dd_ErrorType error = dd_NoError;
-  dd_LPPtr lp = dd_Matrix2LP(matrix, &error);
-  dd_FreeMatrix(matrix);
+  const CddLp lp(dd_Matrix2LP(matrix.get(), &error));
+  matrix.reset();
   if (error != dd_NoError || lp == nullptr)
     throw std::runtime_error("cddlib: could not build the LP (error " + std::to_string(error) + ")");
-  dd_LPSolve(lp, dd_DualSimplex, &error);
-  if (error != dd_NoError) {
-    dd_FreeLPData(lp);
+  dd_LPSolve(lp.get(), dd_DualSimplex, &error);
+  if (error != dd_NoError)
     throw std::runtime_error("cddlib: LP solve failed (error " + std::to_string(error) + ")");
-  }
   ExactSolution solution;
   switch (lp->LPS) {
     case dd_Optimal: {
@@ -64,11 +58,8 @@ ExactSolution maximise_exact(std::size_t dim, const std::vector<ExactRow>& rows,
     case dd_DualInconsistent:
     case dd_StrucDualInconsistent:
     case dd_Unbounded: solution.status = ExactStatus::unbounded; break;
-    default:
-      dd_FreeLPData(lp);
-      throw std::runtime_error("cddlib: LP left undecided");
+    default: throw std::runtime_error("cddlib: LP left undecided");
   }
-  dd_FreeLPData(lp);
   return solution;
 }
 

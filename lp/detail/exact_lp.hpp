@@ -1,12 +1,11 @@
 // The exact fallback: cddlib's GMP rational LP (dual simplex). Exact results.
-// cddlib keeps global state (its number constants, set once), so every call
-// runs under one process-wide mutex; the fallback is rare by design.
+// Every call runs under cddlib's process-wide lock (lp/detail/cdd_handles.hpp);
+// the fallback is rare by design.
 #pragma once
 
 #include "core/rational.hpp"
 
 #include <cstddef>
-#include <mutex>
 #include <vector>
 
 namespace pleat::lp::detail {
@@ -25,12 +24,6 @@ struct ExactSolution {
   Rational value;       // the optimum, when optimal
   RationalVector point; // an optimal x, when optimal
 };
-
-// The process-wide lock around every cddlib call, and cddlib's one-time
-// constant set-up (call it with the lock held). For other cddlib users
-// (enumerate/region_geometry.cpp's exact vertex enumeration).
-std::mutex& cdd_mutex();
-void ensure_cdd_constants();
 
 // maximise objective . x over x in Q^dim subject to rows (x free otherwise).
 // Throws std::runtime_error if cddlib reports an internal error.

@@ -8,12 +8,9 @@
 
 namespace pleat::lp::detail {
 
-// normal . x + offset, exactly. Precondition: x.size() == normal.size().
-Rational slack(const Constraint& constraint, const RationalVector& x);
-
-// True when first = lambda * second for some lambda > 0 (normal and offset
-// jointly), exactly. Precondition: second has a nonzero normal.
-bool is_positive_multiple(const Constraint& first, const Constraint& second);
+// The public helpers of lp/polyhedron.hpp, under the names lp's own files use.
+using lp::is_positive_multiple;
+using lp::slack;
 
 // True when every normal has size dim and none is all zero.
 bool is_well_formed(const Polyhedron& cell);

@@ -110,20 +110,27 @@ grep -q "^1,4,1 " "$work/grid.txt" || fail "no grid row for 1,4,1: $(cat "$work/
 "$pleat" survey summary "$work/g-1-3-1-s.jsonl" "$work/g-1-4-1-s.jsonl" > "$work/grid2.txt" || fail "summary of two files exited $?"
 cmp -s "$work/grid.txt" "$work/grid2.txt" || fail "summary of the grid files differs from the run's table"
 
-# A per-sample time limit far below a sample's cost: every sample is cut
-# short, kept with its bounds, and out of the histogram. (1 us: at 1 ms a
-# sample that certifies at its scaling bound without a walk sometimes finished.)
+# A per-sample time limit far below a walk's cost (1 us): samples that need a
+# walk are cut short, kept with their bounds, and out of the histogram. A
+# sample whose exact points meet the scaling bound may still finish before
+# its first stop check; it is then certified at that bound.
 "$pleat" survey --arch 2,5,5,5,1 --samples 3 --seed 1 --time-limit-each 0.000001 --json -q -o "$work/cut.jsonl" \
   > "$work/cut.json" || fail "time-limited survey exited $?"
 /usr/bin/python3 - "$work/cut.json" "$work/cut.jsonl" <<'PY' || fail "time-limited samples reported wrongly"
 import json, sys
 s = json.load(open(sys.argv[1]))
-assert s["uncertified"] == 3 and s["certified"] == 0 and s["histogram"] == {} and s["mean"] is None, s
-assert [u["sample"] for u in s["uncertified_samples"]] == [0, 1, 2]
-for line in open(sys.argv[2]).read().splitlines()[1:]:
-    d = json.loads(line)
-    assert d["certified"] is False and d["functional_dimension"] is None and d["stop_reason"] == "time-limit"
-    assert d["lower_bound"] <= d["upper_bound"]
+lines = [json.loads(line) for line in open(sys.argv[2]).read().splitlines()[1:]]
+cut = [d for d in lines if not d["certified"]]
+assert len(lines) == 3 and len(cut) >= 1, s
+assert s["uncertified"] == len(cut) and s["certified"] == 3 - len(cut), s
+assert sorted(u["sample"] for u in s["uncertified_samples"]) == sorted(d["sample"] for d in cut)
+assert sum(s["histogram"].values()) == 3 - len(cut), s
+for d in lines:
+    if d["certified"]:
+        assert d["functional_dimension"] == s["scaling_bound"], d
+    else:
+        assert d["functional_dimension"] is None and d["stop_reason"] == "time-limit", d
+        assert d["lower_bound"] <= d["upper_bound"]
 PY
 
 # Plot: SVG with the bound marked, CSV whose counts are the histogram.

@@ -1,4 +1,4 @@
-// ONNX import and export (see onnx_io.hpp).
+// ONNX import (see onnx_io.hpp; export is onnx_export.cpp).
 //
 // Import walks the graph as a chain from the single input to the single
 // output, keeping the current tensor's shape ([features] or [batch,
@@ -8,6 +8,8 @@
 // connection, a value feeding two nodes is a branch. Messages name the node
 // as `node 'NAME' (OP)`, or `node #INDEX (OP)` when it has no name.
 #include "core/onnx_io.hpp"
+
+#include "core/detail/onnx_tensors.hpp"
 
 #include <onnx/onnx_pb.h>
 
@@ -25,223 +27,20 @@
 #include <optional>
 #include <set>
 #include <system_error>
-
 namespace pleat {
 namespace {
 
 using onnx::TensorProto;
-
-// ---- Exact numbers from stored bits --------------------------------------------
-
-std::uint64_t little_endian(const std::string& bytes, std::size_t offset, std::size_t width) {
-  std::uint64_t value = 0;
-  for (std::size_t i = 0; i < width; ++i)
-    value |= std::uint64_t{static_cast<unsigned char>(bytes[offset + i])} << (8 * i);
-  return value;
-}
-
-// IEEE binary16: 1 sign bit, 5 exponent bits (bias 15), 10 fraction bits.
-// Decoded as integer significand times a power of two, so nothing rounds.
-// Returns nullopt for infinity and NaN (exponent field all ones).
-std::optional<Rational> rational_from_half_bits(std::uint16_t bits) {
-  const unsigned exponent_field = (bits >> 10) & 0x1fu;
-  const unsigned fraction = bits & 0x3ffu;
-  if (exponent_field == 0x1f) return std::nullopt;
-  // Subnormals: fraction * 2^-24; normals: (1024 + fraction) * 2^(e - 25).
-  const unsigned significand = exponent_field == 0 ? fraction : 1024 + fraction;
-  const int exponent = exponent_field == 0 ? -24 : static_cast<int>(exponent_field) - 25;
-  Rational value(significand);
-  if (exponent >= 0)
-    mpq_mul_2exp(value.get_mpq_t(), value.get_mpq_t(), static_cast<mp_bitcnt_t>(exponent));
-  else
-    mpq_div_2exp(value.get_mpq_t(), value.get_mpq_t(), static_cast<mp_bitcnt_t>(-exponent));
-  if (bits & 0x8000u) value = -value;
-  return value;
-}
-
-std::optional<Rational> rational_if_finite(double value) {
-  if (!std::isfinite(value)) return std::nullopt;
-  return rational_from_double(value);  // exact: every finite double is dyadic
-}
-
-std::optional<Rational> rational_from_float_bits(std::uint32_t bits) {
-  return rational_if_finite(static_cast<double>(std::bit_cast<float>(bits)));  // float -> double is exact
-}
-
-// bfloat16 is the top half of a float32.
-std::optional<Rational> rational_from_bfloat_bits(std::uint16_t bits) {
-  return rational_from_float_bits(std::uint32_t{bits} << 16);
-}
-
-// ---- Names and messages -------------------------------------------------------
-
-std::string single_quoted(const std::string& text) { return "'" + text + "'"; }
-
-std::string node_label(const onnx::NodeProto& node, int index) {
-  // Appended piece by piece: GCC 12 warns falsely (-Wrestrict) on "#" + to_string(i).
-  std::string label = "node ";
-  if (node.name().empty()) label.append("#").append(std::to_string(index));
-  else label.append(single_quoted(node.name()));
-  return label.append(" (").append(node.op_type()).append(")");
-}
-
-std::string type_name(int data_type) {
-  switch (data_type) {
-    case TensorProto::FLOAT: return "float32";
-    case TensorProto::DOUBLE: return "float64";
-    case TensorProto::FLOAT16: return "float16";
-    case TensorProto::BFLOAT16: return "bfloat16";
-    case TensorProto::INT64: return "int64";
-    case TensorProto::INT32: return "int32";
-    default: return "ONNX data type " + std::to_string(data_type);
-  }
-}
-
-std::string dims_text(const std::vector<std::int64_t>& dims) {
-  std::string text = "[";
-  for (std::size_t i = 0; i < dims.size(); ++i) text += (i ? ", " : "") + std::to_string(dims[i]);
-  return text + "]";
-}
-
-// ---- Stored tensors -----------------------------------------------------------
-
-struct Tensor {
-  std::vector<std::int64_t> dims;
-  RationalVector values;             // float types, exact
-  std::vector<std::int64_t> integers;  // int64/int32 tensors (Reshape shapes)
-};
-
-std::size_t element_count(const TensorProto& tensor, const std::string& what) {
-  std::size_t count = 1;
-  for (std::int64_t dim : tensor.dims()) {
-    if (dim < 0) throw input_error(what + ": negative dimension " + std::to_string(dim));
-    // A declared size beyond what any file can hold is refused before allocating.
-    if (dim != 0 && count > max_onnx_file_bytes / static_cast<std::size_t>(dim))
-      throw input_error(what + ": declared size is larger than any ONNX file pleat reads");
-    count *= static_cast<std::size_t>(dim);
-  }
-  return count;
-}
-
-void check_stored_count(std::size_t stored, std::size_t declared, const std::string& what) {
-  if (stored != declared)
-    throw input_error(what + ": stores " + std::to_string(stored) + " values but its shape declares " +
-                      std::to_string(declared));
-}
-
-// The exact values of a float tensor; `what` names it in messages.
-Tensor read_tensor(const TensorProto& tensor, const std::string& what) {
-  if (tensor.data_location() == TensorProto::EXTERNAL || tensor.external_data_size() > 0)
-    throw input_error(what + ": weights stored in an external file are not supported (save the model with its weights inside)");
-  Tensor result;
-  result.dims.assign(tensor.dims().begin(), tensor.dims().end());
-  const std::size_t count = element_count(tensor, what);
-  const bool is_raw = tensor.has_raw_data();
-  const std::string& raw = tensor.raw_data();
-  const int type = tensor.data_type();
-
-  auto raw_width = [&](std::size_t width) {
-    if (raw.size() != count * width)
-      throw input_error(what + ": raw data holds " + std::to_string(raw.size()) + " bytes, but " +
-                        std::to_string(count) + " " + type_name(type) + " values need " +
-                        std::to_string(count * width));
-  };
-  auto push_value = [&](std::optional<Rational> value, std::size_t index) {
-    if (!value)
-      throw input_error(what + ": element " + std::to_string(index) +
-                        " is NaN or infinite (a network with such a weight has no exact meaning)");
-    result.values.push_back(std::move(*value));
-  };
-
-  result.values.reserve(type == TensorProto::INT64 || type == TensorProto::INT32 ? 0 : count);
-  switch (type) {
-    case TensorProto::FLOAT:
-      if (is_raw) {
-        raw_width(4);
-        for (std::size_t i = 0; i < count; ++i)
-          push_value(rational_from_float_bits(static_cast<std::uint32_t>(little_endian(raw, 4 * i, 4))), i);
-      } else {
-        check_stored_count(static_cast<std::size_t>(tensor.float_data_size()), count, what);
-        for (std::size_t i = 0; i < count; ++i)
-          push_value(rational_if_finite(static_cast<double>(tensor.float_data(static_cast<int>(i)))), i);
-      }
-      break;
-    case TensorProto::DOUBLE:
-      if (is_raw) {
-        raw_width(8);
-        for (std::size_t i = 0; i < count; ++i)
-          push_value(rational_if_finite(std::bit_cast<double>(little_endian(raw, 8 * i, 8))), i);
-      } else {
-        check_stored_count(static_cast<std::size_t>(tensor.double_data_size()), count, what);
-        for (std::size_t i = 0; i < count; ++i)
-          push_value(rational_if_finite(tensor.double_data(static_cast<int>(i))), i);
-      }
-      break;
-    case TensorProto::FLOAT16:
-    case TensorProto::BFLOAT16: {
-      // Typed storage keeps each 16-bit pattern in the low half of an int32.
-      auto decode = [&](std::uint16_t bits) {
-        return type == TensorProto::FLOAT16 ? rational_from_half_bits(bits) : rational_from_bfloat_bits(bits);
-      };
-      if (is_raw) {
-        raw_width(2);
-        for (std::size_t i = 0; i < count; ++i)
-          push_value(decode(static_cast<std::uint16_t>(little_endian(raw, 2 * i, 2))), i);
-      } else {
-        check_stored_count(static_cast<std::size_t>(tensor.int32_data_size()), count, what);
-        for (std::size_t i = 0; i < count; ++i)
-          push_value(decode(static_cast<std::uint16_t>(tensor.int32_data(static_cast<int>(i)) & 0xffff)), i);
-      }
-      break;
-    }
-    case TensorProto::INT64:
-      if (is_raw) {
-        raw_width(8);
-        for (std::size_t i = 0; i < count; ++i)
-          result.integers.push_back(static_cast<std::int64_t>(little_endian(raw, 8 * i, 8)));
-      } else {
-        check_stored_count(static_cast<std::size_t>(tensor.int64_data_size()), count, what);
-        result.integers.assign(tensor.int64_data().begin(), tensor.int64_data().end());
-      }
-      break;
-    case TensorProto::INT32:
-      if (is_raw) {
-        raw_width(4);
-        for (std::size_t i = 0; i < count; ++i)
-          result.integers.push_back(static_cast<std::int32_t>(little_endian(raw, 4 * i, 4)));
-      } else {
-        check_stored_count(static_cast<std::size_t>(tensor.int32_data_size()), count, what);
-        result.integers.assign(tensor.int32_data().begin(), tensor.int32_data().end());
-      }
-      break;
-    default:
-      throw input_error(what + ": stored as " + type_name(type) +
-                        "; pleat reads float32, float64, float16 and bfloat16 weights");
-  }
-  return result;
-}
-
-// ---- Attributes -----------------------------------------------------------------
-
-const onnx::AttributeProto* find_attribute(const onnx::NodeProto& node, const std::string& name) {
-  for (const auto& attribute : node.attribute())
-    if (attribute.name() == name) return &attribute;
-  return nullptr;
-}
-
-std::int64_t int_attribute(const onnx::NodeProto& node, const std::string& name, std::int64_t fallback) {
-  const auto* attribute = find_attribute(node, name);
-  return attribute ? attribute->i() : fallback;
-}
-
-// A float attribute as the exact rational of its float32 value.
-Rational float_attribute(const onnx::NodeProto& node, const std::string& name, const std::string& label) {
-  const auto* attribute = find_attribute(node, name);
-  if (!attribute) return Rational(1);  // Gemm's alpha and beta default to 1.0
-  const std::optional<Rational> value = rational_if_finite(static_cast<double>(attribute->f()));
-  if (!value) throw input_error(label + ": attribute " + name + " is NaN or infinite");
-  return *value;
-}
+using detail::dims_text;
+using detail::element_count;
+using detail::find_attribute;
+using detail::float_attribute;
+using detail::int_attribute;
+using detail::node_label;
+using detail::read_tensor;
+using detail::single_quoted;
+using detail::Tensor;
+using detail::type_name;
 
 // ---- The shape of the tensor flowing along the chain ------------------------------
 
@@ -687,77 +486,6 @@ std::string source_meta(const onnx::ModelProto& model, std::string_view source_n
   return meta.dump(-1, ' ', false, nlohmann::detail::error_handler_t::replace);
 }
 
-// ---- Export helpers ---------------------------------------------------------------
-
-// The double nearest to `value`, ties to even (to_double is within one ulp;
-// the exact comparison with its neighbours settles the last bit).
-double nearest_double(const Rational& value) {
-  const double guess = to_double(value);
-  double best = guess;
-  Rational best_error = abs(rational_from_double(guess) - value);
-  for (double candidate : {std::nextafter(guess, -INFINITY), std::nextafter(guess, INFINITY)}) {
-    if (!std::isfinite(candidate)) continue;
-    const Rational error = abs(rational_from_double(candidate) - value);
-    const bool is_even = (std::bit_cast<std::uint64_t>(candidate) & 1u) == 0;
-    if (error < best_error || (error == best_error && is_even)) {
-      best = candidate;
-      best_error = error;
-    }
-  }
-  return best;
-}
-
-void append_double(std::string& bytes, double value) {
-  const auto bits = std::bit_cast<std::uint64_t>(value);
-  for (int i = 0; i < 8; ++i) bytes.push_back(static_cast<char>((bits >> (8 * i)) & 0xffu));
-}
-
-void set_vector_type(onnx::ValueInfoProto& value, const std::string& name, std::size_t width) {
-  value.set_name(name);
-  auto* tensor_type = value.mutable_type()->mutable_tensor_type();
-  tensor_type->set_elem_type(TensorProto::DOUBLE);
-  auto* shape = tensor_type->mutable_shape();
-  shape->add_dim()->set_dim_param("N");
-  shape->add_dim()->set_dim_value(static_cast<std::int64_t>(width));
-}
-
-class Exporter {
- public:
-  explicit Exporter(const Network& network) : network_(network) {}
-
-  // Stores values (in parameter order from `first_parameter`) as a float64 initializer.
-  void add_initializer(onnx::GraphProto& graph, const std::string& name, std::vector<std::int64_t> dims,
-                       const std::vector<const Rational*>& values, std::size_t first_parameter) {
-    TensorProto* tensor = graph.add_initializer();
-    tensor->set_name(name);
-    tensor->set_data_type(TensorProto::DOUBLE);
-    for (std::int64_t dim : dims) tensor->add_dims(dim);
-    std::string bytes;
-    bytes.reserve(8 * values.size());
-    for (std::size_t i = 0; i < values.size(); ++i) append_double(bytes, stored_value(*values[i], first_parameter + i));
-    tensor->set_raw_data(bytes);
-  }
-
-  std::vector<std::string> rounded;
-
- private:
-  double stored_value(const Rational& value, std::size_t parameter) {
-    static const Rational largest = rational_from_double(std::numeric_limits<double>::max());
-    if (abs(value) > largest)
-      throw input_error("parameter " + network_.parameter_name(parameter) + " = " + format_rational(value) +
-                        " is beyond the float64 range");
-    const double stored = nearest_double(value);
-    if (rational_from_double(stored) != value) {
-      char text[64];
-      std::snprintf(text, sizeof text, "%.17g", stored);
-      rounded.push_back(network_.parameter_name(parameter) + " = " + format_rational(value) + " stored as " + text);
-    }
-    return stored;
-  }
-
-  const Network& network_;
-};
-
 }  // namespace
 
 bool is_onnx_path(const std::filesystem::path& path) {
@@ -814,67 +542,6 @@ Network read_onnx_file(const std::filesystem::path& path) {
     const std::string file_prefix = path.filename().string() + ": ";
     throw input_error(name + ": " + message.substr(message.rfind(file_prefix, 0) == 0 ? file_prefix.size() : 0));
   }
-}
-
-OnnxExport write_onnx_model(const Network& network, std::string_view producer_version) {
-  network.validate();
-  onnx::ModelProto model;
-  model.set_ir_version(8);
-  model.set_producer_name("pleat");
-  model.set_producer_version(std::string(producer_version));
-  auto* opset = model.add_opset_import();
-  opset->set_domain("");
-  opset->set_version(13);
-  onnx::GraphProto& graph = *model.mutable_graph();
-  graph.set_name(network.name.empty() ? "pleat_network" : network.name);
-  set_vector_type(*graph.add_input(), "input", network.input_dim);
-
-  Exporter exporter(network);
-  std::string current = "input";
-  for (std::size_t k = 0; k < network.depth(); ++k) {
-    const Layer& layer = network.layers[k];
-    const std::string suffix = std::to_string(k + 1);
-    std::vector<const Rational*> weights;
-    for (std::size_t i = 0; i < layer.width(); ++i)
-      for (std::size_t j = 0; j < layer.fan_in(); ++j) weights.push_back(&layer.weights(i, j));
-    std::vector<const Rational*> bias;
-    for (const Rational& value : layer.bias) bias.push_back(&value);
-    const std::size_t offset = network.parameter_offset(k);
-    exporter.add_initializer(graph, "W" + suffix,
-                             {static_cast<std::int64_t>(layer.width()), static_cast<std::int64_t>(layer.fan_in())},
-                             weights, offset);
-    exporter.add_initializer(graph, "b" + suffix, {static_cast<std::int64_t>(layer.width())}, bias,
-                             offset + weights.size());
-    const bool is_last = k + 1 == network.depth();
-    const bool has_relu = layer.activation == Activation::relu;
-    const std::string gemm_output = is_last && !has_relu ? "output" : "z" + suffix;
-    onnx::NodeProto& gemm = *graph.add_node();
-    gemm.set_name("gemm" + suffix);
-    gemm.set_op_type("Gemm");
-    gemm.add_input(current);
-    gemm.add_input("W" + suffix);
-    gemm.add_input("b" + suffix);
-    gemm.add_output(gemm_output);
-    auto* trans_b = gemm.add_attribute();
-    trans_b->set_name("transB");
-    trans_b->set_type(onnx::AttributeProto::INT);
-    trans_b->set_i(1);
-    current = gemm_output;
-    if (has_relu) {
-      onnx::NodeProto& relu = *graph.add_node();
-      relu.set_name("relu" + suffix);
-      relu.set_op_type("Relu");
-      relu.add_input(current);
-      current = is_last ? "output" : "h" + suffix;
-      relu.add_output(current);
-    }
-  }
-  set_vector_type(*graph.add_output(), "output", network.output_dim());
-
-  OnnxExport result;
-  if (!model.SerializeToString(&result.bytes)) throw std::runtime_error("write_onnx_model: serialization failed");
-  result.rounded_parameters = std::move(exporter.rounded);
-  return result;
 }
 
 }  // namespace pleat
