@@ -258,7 +258,7 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
       adjacent[edge.polygons[0]].insert(edge.polygons[1]);
       adjacent[edge.polygons[1]].insert(edge.polygons[0]);
     }
-    std::size_t layer = std::numeric_limits<std::size_t>::max();
+    std::size_t layer = no_index;
     for (std::size_t index : edge.polygons)
       for (const auto& facet : drawn[index]->facets) {
         if (facet.neurons.empty()) continue;
@@ -266,7 +266,7 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
         if (value(edge.from) == 0 && value(edge.to) == 0)
           layer = std::min(layer, network.layer_of_neuron(facet.neurons.front()));
       }
-    if (layer == std::numeric_limits<std::size_t>::max()) continue;  // the view's border
+    if (layer == no_index) continue;  // the view's border
     // Edges come line by line in increasing order: extend the previous piece
     // when this one continues it on the same line in the same layer.
     if (!pieces.empty() && pieces.back().layer == layer && pieces.back().to == edge.from) {

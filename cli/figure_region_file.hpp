@@ -1,7 +1,7 @@
 // Reading a saved walk (pleat-regions/1 lines from `pleat walk -o`) back into
-// the walker's Region records, so `pleat draw --from` draws without walking.
-// Only what drawing needs is read (no certificates); nothing is re-checked
-// here (`pleat verify` does that).
+// the walker's Region records, so `pleat draw --from` draws without walking:
+// the one region-file reader (cli/region_file_reader.hpp) read tolerantly,
+// without certificates; nothing is re-checked here (`pleat verify` does that).
 #pragma once
 
 #include "core/network.hpp"

@@ -1,12 +1,15 @@
-// Reading region files (pleat-regions/1) back: shared by verify and draw --from.
+// Reading region files (pleat-regions/1) back: the one reader, shared by
+// verify and draw --from.
 // Every fault is an input_error naming the line and the key.
 #pragma once
 
 #include "cli/common.hpp"
 #include "core/pattern.hpp"
 #include "enumerate/domain.hpp"
+#include "enumerate/walk_check.hpp"
 
 #include <cstddef>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -40,5 +43,28 @@ class LineReader {
 
 // The header's "domain" (as cli/region_json.cpp's domain_to_json writes it).
 Domain domain_from_json(const Json& value, std::size_t input_dim, const LineReader& reader);
+
+// How a region file is read. exact_copy (verify): every key is required or
+// refused as docs/formats.md says, numbers, patterns and the domain are
+// written exactly as pleat writes them, a repeated key or an empty line is
+// refused, so nothing in the file escapes the check. tolerant (draw --from):
+// only what a figure needs is required; unknown keys, empty lines and
+// non-canonical numbers are accepted, and certificates are skipped.
+enum class RegionFileReading { exact_copy, tolerant };
+
+// A region file read back: the header and one record per region line.
+struct RegionFile {
+  std::string path;  // as messages name the file ("standard input" for -)
+  Domain domain;
+  std::string network_label;                        // the header's "network" ("" when tolerant and absent)
+  std::optional<std::size_t> parametric_dimension;  // the header's, when written
+  std::vector<SavedRegion> regions;                 // in file order
+};
+
+// Reads one region file (pleat-regions/1) one line at a time. Throws
+// input_error naming the file, the line and the key for any fault. Nothing
+// is re-checked against the network here beyond sizes (enumerate/walk_check.hpp
+// does that).
+RegionFile read_region_file(const Network& network, const std::string& path, RegionFileReading reading);
 
 }  // namespace pleat::cli

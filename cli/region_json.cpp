@@ -27,7 +27,7 @@ Json certificates_to_json(const Region& region) {
   for (std::size_t i = 0; i < certificates.cell.constraints.size(); ++i) {
     const auto& c = certificates.cell.constraints[i];
     Json entry{{"normal", rational_list_json(c.normal)}, {"offset", format_rational(c.offset)}};
-    if (certificates.constraint_neuron[i] == std::numeric_limits<std::size_t>::max()) entry["neuron"] = nullptr;
+    if (certificates.constraint_neuron[i] == no_index) entry["neuron"] = nullptr;
     else entry["neuron"] = certificates.constraint_neuron[i];
     constraints.push_back(std::move(entry));
   }

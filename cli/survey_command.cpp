@@ -72,6 +72,9 @@ constexpr const char* survey_help =
     "'{arch}' in it has that replaced by the widths (2-5-5-1), otherwise the widths are\n"
     "inserted before the extension (survey.jsonl -> survey.2-5-5-1.jsonl).\n"
     "Samples cut short by --time-limit-each are kept as bounds, out of the histogram.\n"
+    "Unless -q, a run first times one sample per thread of each architecture (kept, not\n"
+    "rerun) and prints the projected CPU time of every sample still to run; the progress\n"
+    "line then gives samples/s.\n"
     "\nExamples:\n"
     "  pleat survey --arch 2,5,5,5,1 --samples 200 --seed 1 -o survey.jsonl\n"
     "  pleat survey --arch 1,4,1 --arch 1,8,1 --samples 50 --seed 3 -o 'grid-{arch}.jsonl'\n"
@@ -92,18 +95,20 @@ std::string output_path_for(const std::string& output, const std::vector<std::si
   return (path.parent_path() / (path.stem().string() + "." + widths + path.extension().string())).string();
 }
 
+std::string format_rate(double rate) {
+  std::ostringstream out;
+  out << std::setprecision(3) << rate;
+  return out.str();
+}
+
 std::string format_duration(double seconds) {
+  if (seconds < 10) return format_rate(seconds) + " s";  // 3 significant digits
   if (seconds < 90) return std::to_string(static_cast<long>(seconds + 0.5)) + " s";
   if (seconds < 5400) return std::to_string(static_cast<long>(seconds / 60 + 0.5)) + " min";
   if (seconds < 2 * 86400) return std::to_string(static_cast<long>(seconds / 3600 + 0.5)) + " h";
   return std::to_string(static_cast<long>(seconds / 86400 + 0.5)) + " days";
 }
 
-std::string format_rate(double rate) {
-  std::ostringstream out;
-  out << std::setprecision(3) << rate;
-  return out.str();
-}
 
 SurveyConfiguration configuration_for(const SurveyArguments& arguments, const std::string& architecture_option) {
   SurveyConfiguration configuration;
@@ -225,10 +230,29 @@ SurveyRunResult run_survey_in_job(const SurveyConfiguration& configuration, cons
   return result;
 }
 
+// The samples of this task not yet in the survey file (read only), increasing.
+std::vector<std::uint64_t> pending_samples(const SurveyConfiguration& configuration, const ShardSet& shard,
+                                           const std::string& path) {
+  std::set<std::uint64_t> done;
+  for (const SurveySample& s : resume_survey_file(path, survey_header_json(configuration, shard)).samples)
+    done.insert(s.sample);
+  std::vector<std::uint64_t> todo;
+  for (std::uint64_t index : shard.indices)
+    for (std::uint64_t i : shard_samples(configuration.samples, index, shard.count))
+      if (!done.count(i)) todo.push_back(i);
+  std::sort(todo.begin(), todo.end());
+  return todo;
+}
+
+// Samples already computed for the projection at the start of a run (each
+// architecture's first pending samples), written by run_one before the rest.
+using ProbedSamples = std::vector<SurveySample>;
+
 // Runs (or resumes) one architecture's survey; returns what its file holds.
 SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration& configuration,
                      const ShardSet& shard, const std::string& path, const std::string& label,
-                     const InterruptGuard& interrupt, ProgressLine& progress, bool& is_interrupted) {
+                     const InterruptGuard& interrupt, ProgressLine& progress, bool& is_interrupted,
+                     const ProbedSamples& probed) {
   SurveyRecord record;
   record.header = survey_header_json(configuration, shard);
   record.source = path;
@@ -255,6 +279,12 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
     std::cerr << "pleat: " << path << ": resuming, " << done.size() << " samples already there, " << todo.size()
               << " to run\n";
 
+  // Probe samples (computed before this survey's turn) are written first;
+  // the rate counts only the samples run here.
+  std::vector<const SurveySample*> from_probe;
+  for (const SurveySample& sample : probed)
+    if (std::binary_search(todo.begin(), todo.end(), sample.sample)) from_probe.push_back(&sample);
+  const std::size_t total_todo = todo.size();
   const auto started = std::chrono::steady_clock::now();
   std::size_t finished = 0;
   double cpu_seconds = 0;  // samples run one per thread: their wall times add up to CPU time
@@ -268,14 +298,22 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
     ++finished;
     cpu_seconds += sample.seconds;
     const double elapsed = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
-    const double rate = static_cast<double>(finished) / std::max(elapsed, 1e-9);
+    const std::size_t run_here = finished - std::min(finished, from_probe.size());
     const double cpu_per_sample = cpu_seconds / static_cast<double>(finished);
-    progress.update(label + std::to_string(done.size() + finished) + "/" + std::to_string(done.size() + todo.size()) +
-                    " samples, " + format_rate(rate) + "/s, ETA " +
-                    format_duration(static_cast<double>(todo.size() - finished) / rate) + ", projected CPU " +
-                    format_duration(cpu_per_sample * static_cast<double>(done.size() + todo.size())) +
+    std::string text = label + std::to_string(done.size() + finished) + "/" +
+                       std::to_string(done.size() + total_todo) + " samples";
+    if (run_here > 0) {
+      const double rate = static_cast<double>(run_here) / std::max(elapsed, 1e-9);
+      text += ", " + format_rate(rate) + "/s, ETA " + format_duration(static_cast<double>(total_todo - finished) / rate);
+    }
+    progress.update(text + ", projected CPU " +
+                    format_duration(cpu_per_sample * static_cast<double>(done.size() + total_todo)) +
                     " for all samples");
   };
+  for (const SurveySample* sample : from_probe) options.on_sample(*sample);
+  std::erase_if(todo, [&](std::uint64_t i) {
+    return std::any_of(from_probe.begin(), from_probe.end(), [&](const SurveySample* s) { return s->sample == i; });
+  });
   const SurveyRunResult result =
       group ? run_survey_in_job(configuration, share_of_samples(*group, todo), options, group->size(), is_leader)
             : run_survey(configuration, todo, options);
@@ -343,6 +381,48 @@ ShardSet selected_task(const SurveyArguments& arguments) {
   return part;
 }
 
+// At the start of a run: each architecture's first pending samples (one
+// per thread), run now and written later by run_one, give its CPU seconds
+// per sample; times the samples still to run, summed over the grid, that is
+// the projected CPU time of the whole run, printed on standard error. A
+// projection, not a bound: samples of one architecture vary in cost.
+std::vector<ProbedSamples> probe_and_project(const SurveyArguments& arguments,
+                                             const std::vector<SurveyConfiguration>& configurations,
+                                             const ShardSet& shard, const std::vector<std::string>& paths,
+                                             const InterruptGuard& interrupt, ProgressLine& progress) {
+  std::vector<ProbedSamples> probed(configurations.size());
+  const unsigned threads = arguments.threads ? static_cast<unsigned>(arguments.threads)
+                                             : std::max(1u, std::thread::hardware_concurrency());
+  double projected = 0;
+  std::size_t pending_total = 0;
+  std::string detail;
+  for (std::size_t k = 0; k < configurations.size(); ++k) {
+    const std::vector<std::uint64_t> todo = pending_samples(configurations[k], shard, paths[k]);
+    if (todo.empty()) continue;
+    const std::vector<std::uint64_t> first(todo.begin(), todo.begin() + std::min<std::size_t>(threads, todo.size()));
+    progress.update("survey " + architecture_text(configurations[k].architecture) + ": timing " +
+                    std::to_string(first.size()) + " sample(s) for the projection");
+    SurveyRunOptions options;
+    options.threads = threads;
+    options.time_limit_each = arguments.time_limit_each;
+    options.interrupt = &interrupt.flag();
+    options.on_sample = [&](const SurveySample& sample) { probed[k].push_back(sample); };
+    if (run_survey(configurations[k], first, options).is_interrupted || probed[k].empty()) return probed;
+    double seconds = 0;
+    for (const SurveySample& sample : probed[k]) seconds += sample.seconds;
+    const double per_sample = seconds / static_cast<double>(probed[k].size());
+    projected += per_sample * static_cast<double>(todo.size());
+    pending_total += todo.size();
+    detail += (detail.empty() ? "" : ", ") + architecture_text(configurations[k].architecture) + " " +
+              format_duration(per_sample) + " per sample";
+  }
+  progress.finish();
+  if (pending_total > 0)
+    std::cerr << "pleat survey: projected CPU time " << format_duration(projected) << " for " << pending_total
+              << " samples (" << detail << "; timed on " << threads << " thread" << (threads == 1 ? "" : "s") << ")\n";
+  return probed;
+}
+
 int run_survey_command(const SurveyArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   if (arguments.architectures.empty()) throw input_error("--arch is required (e.g. --arch 2,5,5,5,1)");
@@ -368,13 +448,19 @@ int run_survey_command(const SurveyArguments& arguments) {
 
   ProgressLine progress(arguments.quiet);
   const InterruptGuard interrupt;
+  // In an MPI job rank 0 alone times the first samples (it prints the projection).
+  const std::vector<ProbedSamples> probed =
+      arguments.quiet || is_follower_process()
+          ? std::vector<ProbedSamples>(configurations.size())
+          : probe_and_project(arguments, configurations, shard, paths, interrupt, progress);
   std::vector<SurveyRecord> records;
   bool is_interrupted = false;
   for (std::size_t k = 0; k < configurations.size() && !is_interrupted; ++k) {
     const std::string label = "survey " + architecture_text(configurations[k].architecture) +
                               (is_grid ? " [" + std::to_string(k + 1) + "/" + std::to_string(configurations.size()) + "]" : "") +
                               ": ";
-    records.push_back(run_one(arguments, configurations[k], shard, paths[k], label, interrupt, progress, is_interrupted));
+    records.push_back(
+        run_one(arguments, configurations[k], shard, paths[k], label, interrupt, progress, is_interrupted, probed[k]));
     // In an MPI job every rank goes on to the next architecture, or none.
     if (WalkTransport* group = process_group()) is_interrupted = group->maximum({is_interrupted ? 1u : 0u})[0] != 0;
   }
@@ -537,7 +623,8 @@ void register_survey(CommandTable& commands) {
   command.add_option("-o,--output", arguments->output, "Write (or resume) the sample lines in FILE")
       ->type_name("FILE");
   command.add_flag("--json", arguments->json, "Print the summary as JSON (pleat-survey-summary/1)");
-  command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
+  command.add_flag("-q,--quiet", arguments->quiet,
+                   "No progress line and no projection (no samples timed first) on standard error");
 
   arguments->summary_command = command.add_subcommand("summary", "Summarise survey files (one row per file)");
   arguments->summary_command->add_option("files", arguments->inputs, "Survey files (pleat-survey/1)")->required();

@@ -13,14 +13,12 @@
 namespace pleat {
 namespace {
 
-constexpr std::size_t no_index = SIZE_MAX;
-
 struct Failure {
   std::string message;
 };
 
-[[noreturn]] void fail(const SavedRegion& region, const std::string& what) {
-  throw Failure{"line " + std::to_string(region.line) + ": " + what};
+[[noreturn]] void fail(const SavedRegion& saved, const std::string& what) {
+  throw Failure{"line " + std::to_string(saved.line) + ": " + what};
 }
 
 // Integers with greatest common divisor 1 (the spec's form of a facet normal,
@@ -58,12 +56,12 @@ class WalkChecker {
   void run() {
     if (regions_.empty()) throw Failure{"no regions"};
     for (std::size_t i = 0; i < regions_.size(); ++i) {
-      const SavedRegion& region = regions_[i];
-      if (region.id != i)
-        fail(region, "id " + std::to_string(region.id) + " is out of place: the region on this line is number " +
-                         std::to_string(i) + " (ids are 0, 1, ... in file order)");
-      if (!by_pattern_.emplace(region.pattern, &region).second)
-        fail(region, "pattern " + format_pattern(network_, region.pattern) + " appears twice");
+      const SavedRegion& saved = regions_[i];
+      if (saved.region.id != i)
+        fail(saved, "id " + std::to_string(saved.region.id) + " is out of place: the region on this line is number " +
+                        std::to_string(i) + " (ids are 0, 1, ... in file order)");
+      if (!by_pattern_.emplace(saved.region.pattern, &saved).second)
+        fail(saved, "pattern " + format_pattern(network_, saved.region.pattern) + " appears twice");
     }
     for (const auto& region : regions_) check_region(region);
     check_mutual_adjacency();
@@ -72,62 +70,64 @@ class WalkChecker {
   }
 
  private:
-  void check_region(const SavedRegion& region) {
+  void check_region(const SavedRegion& saved) {
+    const Region& region = saved.region;
     const auto cell = build_pattern_cell(network_, domain_, region.pattern);
-    if (!cell) fail(region, "the pattern is inconsistent with the network's own maps");
+    if (!cell) fail(saved, "the pattern is inconsistent with the network's own maps");
     if (!lp::check_interior_point(cell->cell, lp::InteriorPoint{region.point}))
-      fail(region, "the point is not strictly inside the region");
-    if (!(cell->maps.output.linear == region.affine_linear) || cell->maps.output.offset != region.affine_offset)
-      fail(region, "the affine map differs from the network's map on the pattern");
-    check_nonsmooth_neurons(region);
-    if (!region.has_certificate) fail(region, "no certificate (write the walk with --certificates)");
-    check_certificate_copy(region, *cell);
-    if (!lp::check_facet_classification(cell->cell, region.classification))
-      fail(region, "the classification of the region's constraints does not check");
-    check_facets(region, *cell);
-    check_boundedness(region, *cell);
+      fail(saved, "the point is not strictly inside the region");
+    if (!(cell->maps.output.linear == region.affine.linear) || cell->maps.output.offset != region.affine.offset)
+      fail(saved, "the affine map differs from the network's map on the pattern");
+    check_nonsmooth_neurons(saved);
+    if (!region.certificates) fail(saved, "no certificate (write the walk with --certificates)");
+    check_certificate_copy(saved, *cell);
+    if (!lp::check_facet_classification(cell->cell, region.certificates->classification))
+      fail(saved, "the classification of the region's constraints does not check");
+    check_facets(saved, *cell);
+    check_boundedness(saved, *cell);
   }
 
-  void check_nonsmooth_neurons(const SavedRegion& region) {
+  void check_nonsmooth_neurons(const SavedRegion& saved) {
+    const Region& region = saved.region;
     const bool has_zero = std::any_of(region.pattern.states.begin(), region.pattern.states.end(),
                                       [](NeuronState s) { return s == NeuronState::zero_on_region; });
     const std::vector<std::size_t> derived = has_zero ? nonsmooth_neurons(network_, region.pattern)
                                                       : std::vector<std::size_t>{};
     if (derived != region.nonsmooth_neurons)
-      fail(region, "\"nonsmooth_neurons\" differs from the neurons derived from the pattern");
+      fail(saved, "\"nonsmooth_neurons\" differs from the neurons derived from the pattern");
   }
 
   // The certificate repeats the point and the cell's constraints: each must be
   // what the network and the pattern give.
-  static void check_certificate_copy(const SavedRegion& region, const PatternCell& cell) {
-    if (region.certificate_point != region.point)
-      fail(region, "the certificate's interior_point differs from the region's point");
-    if (region.certificate_constraints.size() != cell.cell.constraints.size())
-      fail(region, "the certificate lists " + std::to_string(region.certificate_constraints.size()) +
-                       " constraints; the network and pattern give " + std::to_string(cell.cell.constraints.size()));
-    for (std::size_t i = 0; i < cell.cell.constraints.size(); ++i) {
-      const SavedConstraint& saved = region.certificate_constraints[i];
-      const std::size_t neuron = saved.neuron ? *saved.neuron : no_index;
-      if (!(saved.constraint == cell.cell.constraints[i]) || neuron != cell.constraint_neuron[i])
-        fail(region, "certificate constraint " + std::to_string(i) +
-                         " differs from the one the network and pattern give");
-    }
+  static void check_certificate_copy(const SavedRegion& saved, const PatternCell& cell) {
+    if (saved.certificate_point != saved.region.point)
+      fail(saved, "the certificate's interior_point differs from the region's point");
+    const RegionCertificates& certificate = *saved.region.certificates;
+    const std::vector<lp::Constraint>& written = certificate.cell.constraints;
+    if (written.size() != cell.cell.constraints.size() || certificate.constraint_neuron.size() != written.size())
+      fail(saved, "the certificate lists " + std::to_string(written.size()) +
+                      " constraints; the network and pattern give " + std::to_string(cell.cell.constraints.size()));
+    for (std::size_t i = 0; i < cell.cell.constraints.size(); ++i)
+      if (!(written[i] == cell.cell.constraints[i]) || certificate.constraint_neuron[i] != cell.constraint_neuron[i])
+        fail(saved, "certificate constraint " + std::to_string(i) +
+                        " differs from the one the network and pattern give");
   }
 
-  void check_facets(const SavedRegion& region, const PatternCell& cell) {
+  void check_facets(const SavedRegion& saved, const PatternCell& cell) {
+    const Region& region = saved.region;
     std::size_t facet_index = 0;
     bool touches_boundary = false;
-    for (const auto& group : region.classification.groups) {
+    for (const auto& group : region.certificates->classification.groups) {
       if (!group.is_facet()) continue;
-      if (facet_index >= region.facets.size()) fail(region, "a facet certificate has no facet entry");
+      if (facet_index >= region.facets.size()) fail(saved, "a facet certificate has no facet entry");
       const std::size_t index = facet_index++;
-      const SavedFacet& facet = region.facets[index];
+      const RegionFacet& facet = region.facets[index];
       const lp::Constraint& representative = cell.cell.constraints[group.constraints.front()];
       if (!lp::is_positive_multiple(lp::Constraint{facet.normal, facet.offset}, representative) ||
           !is_primitive_integer_vector(facet.normal))
-        fail(region, facet_name(index) + " is not its constraint's hyperplane as a primitive integer normal");
+        fail(saved, facet_name(index) + " is not its constraint's hyperplane as a primitive integer normal");
       if (facet.point != std::get<lp::FacetPoint>(group.verdict).point)
-        fail(region, facet_name(index) + " point differs from its certificate");
+        fail(saved, facet_name(index) + " point differs from its certificate");
       std::vector<std::size_t> neurons;
       std::optional<std::size_t> side;
       for (std::size_t c : group.constraints) {
@@ -136,35 +136,36 @@ class WalkChecker {
       }
       std::sort(neurons.begin(), neurons.end());
       if (facet.neurons != neurons)
-        fail(region, facet_name(index) + " names neurons that are not the ones whose hyperplane holds it");
+        fail(saved, facet_name(index) + " names neurons that are not the ones whose hyperplane holds it");
       if (facet.domain_side != side)
-        fail(region, facet_name(index) + "'s \"side\" is not the domain constraint it lies on");
+        fail(saved, facet_name(index) + "'s \"side\" is not the domain constraint it lies on");
       if (side) {
         touches_boundary = true;
         if (facet.neighbor || !facet.other_neighbors.empty())
-          fail(region, "a facet on the domain boundary has a neighbour");
+          fail(saved, "a facet on the domain boundary has a neighbour");
         continue;
       }
-      check_neighbors(region, cell, facet, index, representative);
+      check_neighbors(saved, cell, facet, index, representative);
     }
-    if (facet_index != region.facets.size()) fail(region, "more facets listed than certified");
+    if (facet_index != region.facets.size()) fail(saved, "more facets listed than certified");
     if (touches_boundary != region.touches_domain_boundary)
-      fail(region, std::string("\"touches_domain_boundary\" is ") + (region.touches_domain_boundary ? "true" : "false") +
+      fail(saved, std::string("\"touches_domain_boundary\" is ") + (region.touches_domain_boundary ? "true" : "false") +
                        " but " + (touches_boundary ? "a facet lies" : "no facet lies") + " on the domain boundary");
   }
 
   // The regions listed across an interior facet must be exactly those that
   // crossing at its point reaches (walker.hpp, patterns_across) and that have
   // interior next to that point.
-  void check_neighbors(const SavedRegion& region, const PatternCell& cell, const SavedFacet& facet,
+  void check_neighbors(const SavedRegion& saved, const PatternCell& cell, const RegionFacet& facet,
                        std::size_t index, const lp::Constraint& representative) {
+    const Region& region = saved.region;
     const std::string name = facet_name(index);
-    if (!facet.neighbor) fail(region, "interior " + name + " has no neighbour");
+    if (!facet.neighbor) fail(saved, "interior " + name + " has no neighbour");
     std::vector<ActivationPattern> listed{*facet.neighbor};
     listed.insert(listed.end(), facet.other_neighbors.begin(), facet.other_neighbors.end());
     if (!std::is_sorted(listed.begin(), listed.end()) ||
         std::adjacent_find(listed.begin(), listed.end()) != listed.end())
-      fail(region, name + "'s neighbours are not distinct and in pattern order");
+      fail(saved, name + "'s neighbours are not distinct and in pattern order");
 
     RationalVector direction = representative.normal;
     for (auto& v : direction) v = -v;
@@ -172,25 +173,25 @@ class WalkChecker {
         patterns_across(network_, region.pattern, cell.maps, facet.point, direction, representative.normal);
     for (const auto& neighbor : listed) {
       const std::string label = format_pattern(network_, neighbor);
-      if (neighbor == region.pattern) fail(region, name + " names its own region as the neighbour across it");
+      if (neighbor == region.pattern) fail(saved, name + " names its own region as the neighbour across it");
       const auto found = by_pattern_.find(neighbor);
-      if (found == by_pattern_.end()) fail(region, "neighbour " + label + " is missing: the walk is incomplete");
+      if (found == by_pattern_.end()) fail(saved, "neighbour " + label + " is missing: the walk is incomplete");
       if (!std::binary_search(candidates.begin(), candidates.end(), neighbor))
-        fail(region, "neighbour " + label + " does not lie across " + name +
+        fail(saved, "neighbour " + label + " does not lie across " + name +
                          ": crossing at its point reaches " + describe(candidates));
       const SavedRegion& far = *found->second;
       const auto far_cell = build_pattern_cell(network_, domain_, neighbor);
-      if (!far_cell) fail(region, "neighbour " + label + " is inconsistent");
+      if (!far_cell) fail(saved, "neighbour " + label + " is inconsistent");
       if (!closure_contains(far_cell->cell, facet.point))
-        fail(region, name + " point is outside the closure of neighbour " + label);
+        fail(saved, name + " point is outside the closure of neighbour " + label);
       // The neighbour is convex with the facet point in its closure, so its
       // interior lies on the far side exactly when its own point does.
-      if (lp::slack(representative, far.point) >= 0)
-        fail(region, "neighbour " + label + " (line " + std::to_string(far.line) + ") is not on the far side of " + name);
+      if (lp::slack(representative, far.region.point) >= 0)
+        fail(saved, "neighbour " + label + " (line " + std::to_string(far.line) + ") is not on the far side of " + name);
     }
     for (const auto& candidate : candidates)
       if (!std::binary_search(listed.begin(), listed.end(), candidate) && touches(candidate, facet.point))
-        fail(region, "region " + format_pattern(network_, candidate) + " also lies across " + name +
+        fail(saved, "region " + format_pattern(network_, candidate) + " also lies across " + name +
                          " at its point but is not listed" +
                          (by_pattern_.count(candidate) ? "" : " (and is missing from the file)"));
     neighbors_named_[region.pattern].insert(listed.begin(), listed.end());
@@ -217,37 +218,40 @@ class WalkChecker {
     return !empty || !lp::check_emptiness(cone, *empty);
   }
 
-  void check_boundedness(const SavedRegion& region, const PatternCell& cell) {
-    if (!region.boundedness) fail(region, "no boundedness certificate");
+  void check_boundedness(const SavedRegion& saved, const PatternCell& cell) {
+    const Region& region = saved.region;
+    const std::optional<lp::BoundednessVerdict>& boundedness = region.certificates->boundedness;
+    if (!boundedness) fail(saved, "no boundedness certificate");
     lp::Polyhedron neurons_only{cell.cell.dim, {}};
     for (std::size_t i = 0; i < cell.cell.constraints.size(); ++i)
       if (cell.constraint_neuron[i] != no_index) neurons_only.constraints.push_back(cell.cell.constraints[i]);
     bool checks = false;
-    if (const auto* bounded = std::get_if<lp::BoundednessCertificate>(&*region.boundedness)) {
+    if (const auto* bounded = std::get_if<lp::BoundednessCertificate>(&*boundedness)) {
       // Neuron constraints come first in the cell, so the multipliers index
       // both; any weight on a domain side would not prove boundedness in R^n0.
       lp::BoundednessCertificate on_neurons = *bounded;
       for (std::size_t i = neurons_only.constraints.size(); i < on_neurons.multipliers.size(); ++i)
-        if (on_neurons.multipliers[i] != 0) fail(region, "the boundedness certificate uses a domain side");
+        if (on_neurons.multipliers[i] != 0) fail(saved, "the boundedness certificate uses a domain side");
       on_neurons.multipliers.resize(neurons_only.constraints.size());
       checks = region.bounded && lp::check_boundedness(neurons_only, on_neurons);
     } else {
       checks = !region.bounded &&
-               lp::check_recession_direction(neurons_only, std::get<lp::RecessionDirection>(*region.boundedness));
+               lp::check_recession_direction(neurons_only, std::get<lp::RecessionDirection>(*boundedness));
     }
-    if (!checks) fail(region, "the boundedness certificate does not check (\"bounded\" is " +
+    if (!checks) fail(saved, "the boundedness certificate does not check (\"bounded\" is " +
                                   std::string(region.bounded ? "true" : "false") + ")");
   }
 
   // Adjacency is mutual: a region named across a facet names that region back.
   void check_mutual_adjacency() const {
-    for (const auto& region : regions_) {
+    for (const auto& saved : regions_) {
+      const Region& region = saved.region;
       const auto named = neighbors_named_.find(region.pattern);
       if (named == neighbors_named_.end()) continue;
       for (const auto& neighbor : named->second) {
         const auto back = neighbors_named_.find(neighbor);
         if (back == neighbors_named_.end() || !back->second.count(region.pattern))
-          fail(region, "neighbour " + format_pattern(network_, neighbor) + " (line " +
+          fail(saved, "neighbour " + format_pattern(network_, neighbor) + " (line " +
                            std::to_string(by_pattern_.at(neighbor)->line) +
                            ") does not name this region across any of its facets");
       }
@@ -262,7 +266,7 @@ class WalkChecker {
   void check_start_region() const {
     const SavedRegion& first = regions_.front();
     const ActivationPattern start = walk_start_pattern(network_, domain_);
-    if (start != first.pattern)
+    if (start != first.region.pattern)
       fail(first, "id 0 is not the region where the walk starts (" + format_pattern(network_, start) +
                       ": at the domain's centre, or next to it when the centre lies on a bent hyperplane)");
   }
@@ -270,8 +274,8 @@ class WalkChecker {
   // Ids follow the walk: breadth-first from id 0 across the listed
   // neighbours, level by level, patterns sorted within a level.
   void check_walk_order() const {
-    std::map<ActivationPattern, std::size_t> level{{regions_.front().pattern, 0}};
-    std::vector<ActivationPattern> frontier{regions_.front().pattern};
+    std::map<ActivationPattern, std::size_t> level{{regions_.front().region.pattern, 0}};
+    std::vector<ActivationPattern> frontier{regions_.front().region.pattern};
     for (std::size_t depth = 1; !frontier.empty(); ++depth) {
       std::vector<ActivationPattern> next;
       for (const auto& pattern : frontier) {
@@ -283,11 +287,12 @@ class WalkChecker {
       frontier = std::move(next);
     }
     for (std::size_t i = 0; i < regions_.size(); ++i) {
-      const auto found = level.find(regions_[i].pattern);
+      const auto found = level.find(regions_[i].region.pattern);
       if (found == level.end()) fail(regions_[i], "the region is not reached from id 0 across listed neighbours");
       if (i == 0) continue;
-      const std::size_t previous = level.at(regions_[i - 1].pattern);
-      if (std::make_pair(previous, regions_[i - 1].pattern) > std::make_pair(found->second, regions_[i].pattern))
+      const std::size_t previous = level.at(regions_[i - 1].region.pattern);
+      if (std::make_pair(previous, regions_[i - 1].region.pattern) >
+          std::make_pair(found->second, regions_[i].region.pattern))
         fail(regions_[i], "id " + std::to_string(i) + " is out of the walk's order (breadth-first from id 0, " +
                               "patterns sorted within a level)");
     }

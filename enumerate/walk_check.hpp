@@ -14,6 +14,7 @@
 #include "core/network.hpp"
 #include "core/pattern.hpp"
 #include "enumerate/domain.hpp"
+#include "enumerate/walker.hpp"
 #include "lp/polyhedron.hpp"
 
 #include <cstddef>
@@ -23,40 +24,15 @@
 
 namespace pleat {
 
-struct SavedFacet {
-  RationalVector normal;
-  Rational offset;
-  std::optional<std::size_t> domain_side;
-  std::vector<std::size_t> neurons;
-  std::optional<ActivationPattern> neighbor;
-  std::vector<ActivationPattern> other_neighbors;
-  RationalVector point;
-};
-
-// One constraint of a certificate's copy of the cell; neuron is nullopt for a
-// domain side.
-struct SavedConstraint {
-  lp::Constraint constraint;
-  std::optional<std::size_t> neuron;
-};
-
-// One region line with its certificate (pleat walk --certificates).
+// One region line read back from a region file (pleat walk -o): the walker's
+// own record, with the line's certificate in region.certificates when it has
+// one (cell.constraints and constraint_neuron as written, SIZE_MAX for a
+// domain side), the line number for messages, and the certificate's copy of
+// the interior point (compared with region.point, not trusted).
 struct SavedRegion {
-  std::size_t line = 0;  // for messages
-  std::size_t id = 0;
-  ActivationPattern pattern;
-  RationalVector point;
-  bool bounded = false;
-  bool touches_domain_boundary = false;
-  std::vector<SavedFacet> facets;
-  RationalMatrix affine_linear;
-  RationalVector affine_offset;
-  std::vector<std::size_t> nonsmooth_neurons;  // empty when the line has none
-  bool has_certificate = false;
-  RationalVector certificate_point;             // the certificate's copy of `point`
-  std::vector<SavedConstraint> certificate_constraints;
-  lp::FacetClassification classification;  // groups index build_pattern_cell's constraint order
-  std::optional<lp::BoundednessVerdict> boundedness;
+  std::size_t line = 0;
+  Region region;
+  RationalVector certificate_point;
 };
 
 struct WalkCheck {

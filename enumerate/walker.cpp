@@ -21,7 +21,6 @@
 namespace pleat {
 
 using detail::dot;
-using detail::no_index;
 using detail::relu_layers;
 
 std::optional<PatternCell> build_pattern_cell(const Network& network, const Domain& domain,

@@ -29,6 +29,7 @@
 
 #include <atomic>
 #include <cstddef>
+#include <limits>
 #include <cstdint>
 #include <functional>
 #include <memory>
@@ -48,10 +49,14 @@ struct RegionFacet {
   RationalVector point;                    // rational point in the facet's relative interior (checked)
 };
 
+// "No such index": the neuron of a constraint that is a domain side, the
+// domain side of a neuron's constraint.
+inline constexpr std::size_t no_index = std::numeric_limits<std::size_t>::max();
+
 // A region's certificates, kept only when WalkOptions::keep_certificates.
 struct RegionCertificates {
   lp::Polyhedron cell;                     // the region's constraints, neurons then domain sides
-  std::vector<std::size_t> constraint_neuron;  // neuron id per constraint, or SIZE_MAX for a domain side
+  std::vector<std::size_t> constraint_neuron;  // neuron id per constraint, or no_index for a domain side
   lp::FacetClassification classification;
   std::optional<lp::BoundednessVerdict> boundedness;  // on the neuron constraints only
 };
@@ -174,8 +179,8 @@ std::optional<Region> describe_region(const Network& network, const Domain& doma
 // constraint of the wrong sign). Exact.
 struct PatternCell {
   lp::Polyhedron cell;
-  std::vector<std::size_t> constraint_neuron;  // neuron id, or SIZE_MAX for a domain side
-  std::vector<std::size_t> constraint_domain_side;  // domain index, or SIZE_MAX for a neuron
+  std::vector<std::size_t> constraint_neuron;  // neuron id, or no_index for a domain side
+  std::vector<std::size_t> constraint_domain_side;  // domain index, or no_index for a neuron
   PatternMaps maps;
 };
 std::optional<PatternCell> build_pattern_cell(const Network& network, const Domain& domain,

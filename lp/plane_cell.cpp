@@ -453,31 +453,4 @@ std::optional<bool> is_plane_cell_bounded(std::span<const PlaneRow> exact_rows) 
   return true;
 }
 
-std::optional<NonFacetCertificate> plane_redundancy_certificate(const Polyhedron& cell, std::size_t j,
-                                                                std::size_t s1, std::size_t s2) {
-  const RationalVector& target = cell.constraints[j].normal;
-  NonFacetCertificate certificate{Rational(-1), RationalVector(cell.constraints.size())};
-  if (s1 == s2) {
-    const RationalVector& a = cell.constraints[s1].normal;
-    const std::size_t k = sgn(a[0]) != 0 ? 0 : 1;
-    Rational y = target[k] / a[k];
-    if (sgn(y) <= 0 || target[1 - k] != y * a[1 - k]) return std::nullopt;
-    if (y * cell.constraints[s1].offset > cell.constraints[j].offset) return std::nullopt;
-    certificate.multipliers[s1] = std::move(y);
-    return certificate;
-  }
-  const RationalVector& a = cell.constraints[s1].normal;
-  const RationalVector& b = cell.constraints[s2].normal;
-  const Rational determinant = a[0] * b[1] - a[1] * b[0];
-  if (sgn(determinant) == 0) return std::nullopt;
-  Rational y1 = (target[0] * b[1] - target[1] * b[0]) / determinant;
-  Rational y2 = (a[0] * target[1] - a[1] * target[0]) / determinant;
-  if (sgn(y1) < 0 || sgn(y2) < 0) return std::nullopt;
-  if (y1 * cell.constraints[s1].offset + y2 * cell.constraints[s2].offset > cell.constraints[j].offset)
-    return std::nullopt;
-  certificate.multipliers[s1] = std::move(y1);
-  certificate.multipliers[s2] = std::move(y2);
-  return certificate;
-}
-
 }  // namespace pleat::lp

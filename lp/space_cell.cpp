@@ -593,41 +593,4 @@ std::optional<SpaceCell> describe_space_cell(const std::vector<SpaceRow>& exact_
   return cell;
 }
 
-std::optional<NonFacetCertificate> space_redundancy_certificate(const Polyhedron& cell, std::size_t j,
-                                                                const std::vector<std::size_t>& support) {
-  const std::size_t n = cell.dim;
-  const std::size_t s = support.size();
-  if (s == 0 || s > n) return std::nullopt;
-  // Columns a_s, then a_j; Gauss-Jordan on n equations in s unknowns.
-  std::vector<std::vector<Rational>> m(n, std::vector<Rational>(s + 1));
-  for (std::size_t r = 0; r < n; ++r) {
-    for (std::size_t t = 0; t < s; ++t) m[r][t] = cell.constraints[support[t]].normal[r];
-    m[r][s] = cell.constraints[j].normal[r];
-  }
-  for (std::size_t col = 0; col < s; ++col) {
-    std::size_t pivot = col;
-    while (pivot < n && sgn(m[pivot][col]) == 0) ++pivot;
-    if (pivot == n) return std::nullopt;  // dependent support
-    std::swap(m[pivot], m[col]);
-    for (std::size_t c = col + 1; c <= s; ++c) m[col][c] /= m[col][col];
-    m[col][col] = 1;
-    for (std::size_t r = 0; r < n; ++r) {
-      if (r == col || sgn(m[r][col]) == 0) continue;
-      const Rational factor = m[r][col];
-      for (std::size_t c = col; c <= s; ++c) m[r][c] -= factor * m[col][c];
-    }
-  }
-  for (std::size_t r = s; r < n; ++r)
-    if (sgn(m[r][s]) != 0) return std::nullopt;  // a_j not in their span
-  NonFacetCertificate certificate{Rational(-1), RationalVector(cell.constraints.size())};
-  Rational offset = 0;
-  for (std::size_t t = 0; t < s; ++t) {
-    if (sgn(m[t][s]) < 0) return std::nullopt;
-    offset += m[t][s] * cell.constraints[support[t]].offset;
-    certificate.multipliers[support[t]] = m[t][s];
-  }
-  if (offset > cell.constraints[j].offset) return std::nullopt;
-  return certificate;
-}
-
 }  // namespace pleat::lp

@@ -162,6 +162,8 @@ std::vector<ActivationPattern> patterns_across_filtered(const Network& network, 
   return out;
 }
 
+namespace {
+
 // b parallel to a (every 2 x 2 minor zero), exactly.
 bool is_parallel(const Integer* b, std::span<const Integer* const> a) {
   for (std::size_t i = 0; i < a.size(); ++i)
@@ -170,35 +172,13 @@ bool is_parallel(const Integer* b, std::span<const Integer* const> a) {
   return true;
 }
 
-// The far side's pattern at q in the common case, from the integer maps:
-// every neuron keeps its sign unless it vanishes at q; a vanishing neuron
-// is 'z' (zero linear part) or takes the sign of its derivative across the
-// facet (linear part parallel to the facet's normal). nullopt when the
-// crossing needs more (a vanishing neuron above a layer that changed, or
-// one crossed transversally): extend_across decides those.
+}  // namespace
+
 std::optional<ActivationPattern> pattern_across_in_integers(const Network& network, const std::vector<IntegerMap>& maps,
-                                                            IntegerCrossingBuffers& buffers, const ActivationPattern& near,
-                                                            const RationalVector& q,
+                                                            const ActivationPattern& near,
+                                                            const std::vector<char>& vanishing,
                                                             std::span<const Integer* const> facet_normal) {
-  const std::size_t n = q.size();
-  const std::size_t width = n + 1;
-  if (buffers.images.empty()) {
-    for (std::size_t k = 0; k < relu_layers(network); ++k) {
-      const IntegerMap& pre = maps[k];
-      std::vector<double> images(pre.rows * width);
-      for (std::size_t r = 0; r < pre.rows; ++r) {
-        for (std::size_t c = 0; c < n; ++c) images[width * r + c] = filter_image(pre.linear[n * r + c]);
-        images[width * r + n] = filter_image(pre.offset[r]);
-      }
-      buffers.images.push_back(std::move(images));
-    }
-  }
-  Integer denominator = 1;
-  for (const Rational& x : q) mpz_lcm(denominator.get_mpz_t(), denominator.get_mpz_t(), x.get_den_mpz_t());
-  buffers.scaled_point.resize(n);
-  for (std::size_t c = 0; c < n; ++c) buffers.scaled_point[c] = q[c].get_num() * (denominator / q[c].get_den());
-  double x[3];
-  for (std::size_t c = 0; c < n; ++c) x[c] = filter_image(q[c]);
+  const std::size_t n = facet_normal.size();
   ActivationPattern far = near;
   bool changed_below = false;
   for (std::size_t k = 0; k < relu_layers(network); ++k) {
@@ -206,31 +186,20 @@ std::optional<ActivationPattern> pattern_across_in_integers(const Network& netwo
     const std::size_t first = network.first_neuron_of_layer(k);
     bool changed_here = false;
     for (std::size_t r = 0; r < pre.rows; ++r) {
-      const double* image = buffers.images[k].data() + width * r;
+      // Every other neuron is nonzero at q and keeps its sign.
+      if (!vanishing[first + r] && near.states[first + r] != NeuronState::zero_on_region) continue;
+      if (changed_below) return std::nullopt;  // the far side's map differs: extend_across
       const Integer* b = pre.linear.data() + n * r;
-      std::optional<int> sign = filtered_affine_sign(image, x, n, image[n]);
-      if (!sign) {
-        Integer sum = pre.offset[r] * denominator;
-        for (std::size_t c = 0; c < n; ++c) sum += b[c] * buffers.scaled_point[c];
-        sign = sgn(sum);
-      }
       NeuronState state;
-      if (*sign > 0) {
-        state = NeuronState::on;
-      } else if (*sign < 0) {
-        state = NeuronState::off;
+      if (is_zero_linear(pre, r)) {
+        state = NeuronState::zero_on_region;
+      } else if (is_parallel(b, facet_normal)) {
+        // Parallel to the facet's normal a; across is the direction -a.
+        Integer along = 0;
+        for (std::size_t c = 0; c < n; ++c) along += b[c] * *facet_normal[c];
+        state = sgn(along) < 0 ? NeuronState::on : NeuronState::off;
       } else {
-        if (changed_below) return std::nullopt;  // the far side's map differs: extend_across
-        if (is_zero_linear(pre, r)) {
-          state = NeuronState::zero_on_region;
-        } else if (is_parallel(b, facet_normal)) {
-          // Parallel to the facet's normal a; across is the direction -a.
-          Integer along = 0;
-          for (std::size_t c = 0; c < n; ++c) along += b[c] * *facet_normal[c];
-          state = sgn(along) < 0 ? NeuronState::on : NeuronState::off;
-        } else {
-          return std::nullopt;  // transversal: both states occur, extend_across branches
-        }
+        return std::nullopt;  // transversal: both states occur, extend_across branches
       }
       NeuronState& slot = far.states[first + r];
       if (slot != state) changed_here = true;

@@ -32,19 +32,20 @@ std::vector<ActivationPattern> patterns_across_filtered(const Network& network, 
                                                         const RationalVector& q, const RationalVector& direction,
                                                         const RationalVector& facet_normal);
 
-// Reused between the crossings of one region: the maps' double images
-// (built on first use; clear them when the maps change) and a scratch point.
-struct IntegerCrossingBuffers {
-  std::vector<std::vector<double>> images;
-  std::vector<Integer> scaled_point;
-};
-
-// The far side's pattern at q in the common case, from the near side's
-// fraction-free pre-activation maps (one per layer); nullopt when the crossing
-// needs patterns_across_filtered. Exact.
+// The far side's pattern at a point q of a facet of the near region, in the
+// common case, from the near side's fraction-free pre-activation maps (one per
+// layer). Precondition: the neurons that vanish at q are exactly those with
+// vanishing[neuron] (by id) and the near pattern's 'z' neurons; every other
+// neuron is nonzero at q (the fast paths prove this of each facet point: the
+// facet's rows are 0 there and every other row is > 0). Those keep their
+// sign; a vanishing neuron is 'z' (zero linear part) or takes the sign of its
+// derivative across the facet (linear part parallel to facet_normal, the
+// facet's row normal; across is its negative). nullopt when the crossing
+// needs patterns_across_filtered (a vanishing neuron above a layer that
+// changed, or one crossed transversally). Exact.
 std::optional<ActivationPattern> pattern_across_in_integers(const Network& network, const std::vector<IntegerMap>& maps,
-                                                            IntegerCrossingBuffers& buffers, const ActivationPattern& near,
-                                                            const RationalVector& q,
+                                                            const ActivationPattern& near,
+                                                            const std::vector<char>& vanishing,
                                                             std::span<const Integer* const> facet_normal);
 
 }  // namespace pleat::detail

@@ -78,11 +78,13 @@ Wide narrow(const Integer& value) {
   return sgn(value) < 0 ? -result : result;
 }
 
-// True when the bound above keeps every map entry and partial sum below 2^limit_bits.
-bool maps_fit(const std::vector<IntegerLayer>& layers, unsigned limit_bits) {
+// How many leading layers the bound above keeps below 2^limit_bits (every
+// map entry and partial sum of those layers).
+std::size_t layers_that_fit(const std::vector<IntegerLayer>& layers, unsigned limit_bits) {
   const Integer limit = Integer(1) << limit_bits;
   Integer linear_bound = 1, offset_bound = 0, denominator = 1;
-  for (const IntegerLayer& layer : layers) {
+  for (std::size_t k = 0; k < layers.size(); ++k) {
+    const IntegerLayer& layer = layers[k];
     Integer row_sum_bound = 0, bias_bound = 0;
     for (std::size_t r = 0; r < layer.rows; ++r) {
       Integer row_sum = 0;
@@ -92,20 +94,23 @@ bool maps_fit(const std::vector<IntegerLayer>& layers, unsigned limit_bits) {
     }
     linear_bound *= row_sum_bound;
     offset_bound = denominator * bias_bound + row_sum_bound * offset_bound;
-    if (linear_bound >= limit || offset_bound >= limit || denominator >= limit) return false;
+    if (linear_bound >= limit || offset_bound >= limit || denominator >= limit) return k;
     denominator *= layer.denominator;
-    if (denominator >= limit) return false;
+    if (denominator >= limit) return k;
   }
-  return true;
+  return layers.size();
 }
 
-}  // namespace
+bool maps_fit(const std::vector<IntegerLayer>& layers, unsigned limit_bits) {
+  return layers_that_fit(layers, limit_bits) == layers.size();
+}
 
-std::optional<FixedLayers<Wide>> wide_layers(const std::vector<IntegerLayer>& layers) {
-  if (!maps_fit(layers, 125)) return std::nullopt;
+// The first `count` layers in 128 bits. Precondition: they fit (layers_that_fit).
+FixedLayers<Wide> leading_wide_layers(const std::vector<IntegerLayer>& layers, std::size_t count) {
   FixedLayers<Wide> wide;
   Integer denominator = 1;
-  for (const IntegerLayer& layer : layers) {
+  for (std::size_t k = 0; k < count; ++k) {
+    const IntegerLayer& layer = layers[k];
     std::vector<Wide> weights(layer.weights.size()), bias(layer.bias.size());
     for (std::size_t i = 0; i < weights.size(); ++i) weights[i] = narrow(layer.weights[i]);
     for (std::size_t i = 0; i < bias.size(); ++i) bias[i] = narrow(layer.bias[i]);
@@ -118,9 +123,17 @@ std::optional<FixedLayers<Wide>> wide_layers(const std::vector<IntegerLayer>& la
   return wide;
 }
 
+}  // namespace
+
+std::optional<FixedLayers<Wide>> wide_layers(const std::vector<IntegerLayer>& layers) {
+  if (!maps_fit(layers, 125)) return std::nullopt;
+  return leading_wide_layers(layers, layers.size());
+}
+
 std::optional<Layers256> layers_256(const std::vector<IntegerLayer>& layers) {
   if (!maps_fit(layers, 253)) return std::nullopt;
   Layers256 fixed;
+  fixed.low = leading_wide_layers(layers, layers_that_fit(layers, 125));
   Integer denominator = 1;
   for (const IntegerLayer& layer : layers) {
     std::vector<std::int64_t> weights(layer.weights.size());
@@ -185,6 +198,12 @@ Int256 to_int256(const Integer& value) {
     }
   }
   return out;
+}
+
+Int256 to_int256(Wide value) {
+  const auto bits = static_cast<UnsignedWide>(value);
+  const std::uint64_t extension = value < 0 ? ~std::uint64_t{0} : 0;
+  return Int256{{static_cast<std::uint64_t>(bits), static_cast<std::uint64_t>(bits >> 64), extension, extension}};
 }
 
 void set_integer(Integer& out, const Int256& value) {

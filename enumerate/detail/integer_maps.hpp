@@ -86,14 +86,6 @@ inline void add_product(Int256& acc, std::int64_t weight, const Int256& x) {
   }
 }
 
-// The layers for Int256 maps: weights in 64 bits, and per row the exact
-// product E_(k-1) b_k[r] that starts each offset.
-struct Layers256 {
-  std::vector<std::vector<std::int64_t>> weights;  // per layer, rows x cols
-  std::vector<std::vector<Int256>> bias_term;      // per layer, rows
-  std::vector<Integer> map_denominator;            // per layer: E_k
-};
-
 template <class T>
 struct FixedLayers {  // for T = Wide
   std::vector<std::vector<T>> weights;  // per layer, rows x cols
@@ -101,6 +93,17 @@ struct FixedLayers {  // for T = Wide
   std::vector<T> input_denominator;     // per layer: E_(k-1)
   std::vector<Integer> map_denominator;  // per layer: E_k
 };
+
+// The layers for Int256 maps: weights in 64 bits, and per row the exact
+// product E_(k-1) b_k[r] that starts each offset; the leading layers whose
+// bound fits 128 bits also as FixedLayers<Wide> (`low`), composed in Wide.
+struct Layers256 {
+  FixedLayers<Wide> low;                           // layers 0 .. low.weights.size() - 1
+  std::vector<std::vector<std::int64_t>> weights;  // per layer, rows x cols
+  std::vector<std::vector<Int256>> bias_term;      // per layer, rows
+  std::vector<Integer> map_denominator;            // per layer: E_k
+};
+
 
 std::vector<IntegerLayer> integer_layers(const Network& network);
 
@@ -119,6 +122,7 @@ void compose_fixed(const IntegerLayer& layer, const Layers256& fixed, std::size_
 void set_integer(Integer& out, Wide value);
 void set_integer(Integer& out, const Int256& value);
 Int256 to_int256(const Integer& value);  // precondition: |value| < 2^255
+Int256 to_int256(Wide value);
 
 // Layer k's pre-activation map from the previous pre-activation map, with the
 // input's rows limited to those with active[t] (the neurons that are on).

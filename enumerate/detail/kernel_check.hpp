@@ -44,15 +44,26 @@ class AnnihilationCheck {
   AnnihilationCheck(const Network& network, const RationalMatrix& vectors, const CheckScale& check_scale);
   std::size_t primes() const { return moduli_.size(); }
   // True exactly when every vector annihilates every row of the pattern's
-  // blocks. Exact; polls the current thread's stop request.
+  // blocks. Exact; polls the current thread's stop request. The products are
+  // taken from the pattern's layer inputs and backward signals modulo each
+  // prime, without writing the blocks out (a vector costs its nonzero
+  // entries).
   bool annihilates(const ActivationPattern& pattern) const;
 
  private:
+  // What a parameter is: W_k[neuron, input] or, with input == bias, b_k[neuron].
+  struct ColumnRole {
+    static constexpr std::size_t bias = static_cast<std::size_t>(-1);
+    std::size_t layer, neuron, input;
+  };
   struct Modulus {
     ModularNetwork network;
-    std::vector<std::vector<std::pair<std::size_t, std::uint64_t>>> vectors;  // sparse, residues
+    std::vector<std::size_t> columns;  // the parameters the vectors below use
+    // Sparse, residues: (position in columns, value).
+    std::vector<std::vector<std::pair<std::size_t, std::uint64_t>>> vectors;
   };
   std::size_t vector_count_;
+  std::vector<ColumnRole> columns_;  // parameter order (Network::parameter_offset)
   std::vector<Modulus> moduli_;
 };
 

@@ -9,6 +9,7 @@
 #include <flint/nmod_mat.h>
 
 #include <algorithm>
+#include <cmath>
 
 #include <memory>
 #include <optional>
@@ -108,15 +109,18 @@ std::vector<std::size_t> support_beyond_lead(const ModularMatrix& image, std::si
   return support;
 }
 
-// One hard row of E lifted by itself: its support S read modulo the walk's
-// prime, |S| kept rows independent modulo that prime on S, and the images of
-// its entries on S modulo each further prime used so far.
+// Hard rows of E lifted together (one row alone when sparse): the union U
+// of their supports read modulo the walk's prime (each row is 0 at the other
+// rows' leading columns), |U| kept rows independent modulo that prime on U,
+// and the images of the rows' entries on U modulo each further prime used.
+// The square system on U has one solution per row, and the true row (zero
+// off its support) is it.
 struct RowLift {
-  std::size_t row = 0, lead = 0;
+  std::vector<std::size_t> rows, leads;
   std::vector<std::size_t> support;
   std::vector<std::size_t> equations;  // indices into the kept rows
-  std::unique_ptr<RationalReconstruction> images;
-  std::optional<RationalVector> last;  // the previous reconstruction (on S)
+  std::unique_ptr<RationalReconstruction> images;  // rows x |U|
+  std::optional<RationalMatrix> last;  // the previous reconstruction
   bool is_stable = false;
 };
 
@@ -163,66 +167,97 @@ std::optional<std::vector<std::size_t>> independent_rows(const ModularMatrix& ro
   return chosen;
 }
 
-// The row's entries on S modulo the prime of `rows`: the solution of its
-// square system there (1 at the lead), or nullopt when that system is
-// singular modulo this prime (skip the prime for this row).
+// The rows' entries on U modulo the prime of `rows`: the solution of their
+// square system there (1 at each lead), or nullopt when that system is
+// singular modulo this prime (skip the prime for these rows).
 std::optional<ModularMatrix> row_image(const RowLift& lift, const ModularMatrix& rows, std::uint64_t prime) {
-  const auto n = static_cast<slong>(lift.support.size());
-  NmodMatrix square(lift.support.size(), lift.support.size(), prime), right(lift.support.size(), 1, prime),
-      solution(lift.support.size(), 1, prime);
-  for (slong i = 0; i < n; ++i) {
-    const std::size_t r = lift.equations[static_cast<std::size_t>(i)];
-    for (slong m = 0; m < n; ++m) nmod_mat_entry(square.get(), i, m) = rows(r, lift.support[static_cast<std::size_t>(m)]);
-    const std::uint64_t value = rows(r, lift.lead);
-    nmod_mat_entry(right.get(), i, 0) = value == 0 ? 0 : prime - value;
+  const std::size_t n = lift.support.size(), count = lift.leads.size();
+  NmodMatrix square(n, n, prime), right(n, count, prime), solution(n, count, prime);
+  for (std::size_t i = 0; i < n; ++i) {
+    const std::size_t r = lift.equations[i];
+    for (std::size_t m = 0; m < n; ++m)
+      nmod_mat_entry(square.get(), static_cast<slong>(i), static_cast<slong>(m)) = rows(r, lift.support[m]);
+    for (std::size_t j = 0; j < count; ++j) {
+      const std::uint64_t value = rows(r, lift.leads[j]);
+      nmod_mat_entry(right.get(), static_cast<slong>(i), static_cast<slong>(j)) = value == 0 ? 0 : prime - value;
+    }
   }
+  poll_stop();
   if (!nmod_mat_solve(solution.get(), square.get(), right.get())) return std::nullopt;
-  ModularMatrix image(1, lift.support.size());
-  for (slong m = 0; m < n; ++m) image(0, static_cast<std::size_t>(m)) = nmod_mat_entry(solution.get(), m, 0);
+  ModularMatrix image(count, n);
+  for (std::size_t m = 0; m < n; ++m)
+    for (std::size_t j = 0; j < count; ++j)
+      image(j, m) = nmod_mat_entry(solution.get(), static_cast<slong>(m), static_cast<slong>(j));
   return image;
 }
 
-// Adds the row's image modulo a prime and reconstructs: stable once two
+// Adds the rows' image modulo a prime and reconstructs: stable once two
 // reconstructions in a row agree (an early stop; the exact check decides).
 void add_row_image(RowLift& lift, const ModularMatrix& image, std::uint64_t prime) {
   lift.images->add_image(image, prime);
   std::optional<RationalMatrix> reconstructed = lift.images->reconstruct();
-  if (!reconstructed) {
-    lift.last.reset();
-    return;
-  }
-  RationalVector entries = reconstructed->row(0);
-  lift.is_stable = lift.last && *lift.last == entries;
-  lift.last = std::move(entries);
+  lift.is_stable = reconstructed && lift.last && *lift.last == *reconstructed;
+  lift.last = std::move(reconstructed);
 }
 
-// Hard rows lifted multi-modularly, each from its own square system: per
-// prime, the kept regions' blocks modulo it (word arithmetic) and one small
-// solve per row still unstable. Returns the rows in the order given, or
-// nullopt when some row has no independent equations on its support modulo
-// the walk's prime or stays unstable within max_primes. Not proved.
+// The groups lifted together: each row whose support has at most
+// sparse_limit columns alone, the others in one group, and all in one group
+// when the sparse rows' systems would cost more than half of one r x r
+// solve (sum of |S|^3 against r^3 / 2).
+std::vector<RowLift> row_groups(const ModularMatrix& image, const std::vector<std::size_t>& rows,
+                                const std::vector<std::size_t>& leading, std::size_t rank, std::size_t sparse_limit) {
+  std::vector<RowLift> alone;
+  RowLift together;
+  double alone_cost = 0;
+  for (std::size_t row : rows) {
+    RowLift lift;
+    lift.rows = {row};
+    lift.leads = {leading[row]};
+    lift.support = support_beyond_lead(image, row, leading[row]);
+    if (lift.support.size() <= sparse_limit) {
+      alone_cost += std::pow(static_cast<double>(lift.support.size()), 3);
+      alone.push_back(std::move(lift));
+    } else {
+      together.rows.push_back(row);
+    }
+  }
+  if (alone_cost > std::pow(static_cast<double>(rank), 3) / 2) {
+    alone.clear();
+    together.rows = rows;
+  }
+  if (!together.rows.empty()) {
+    std::vector<char> in_support(image.cols(), 0);
+    for (std::size_t row : together.rows) {
+      together.leads.push_back(leading[row]);
+      for (std::size_t c : support_beyond_lead(image, row, leading[row])) in_support[c] = 1;
+    }
+    for (std::size_t c = 0; c < image.cols(); ++c)
+      if (in_support[c]) together.support.push_back(c);
+    alone.push_back(std::move(together));
+  }
+  return alone;
+}
+
+}  // namespace
+
 std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network& network,
                                                                   const ModularNetwork& walk_network,
                                                                   const std::vector<KeptRows>& kept, std::size_t rank,
                                                                   const ModularMatrix& image,
                                                                   const std::vector<std::size_t>& rows,
                                                                   const std::vector<std::size_t>& leading,
-                                                                  unsigned threads) {
+                                                                  std::size_t sparse_limit, unsigned threads) {
   constexpr std::size_t max_primes = 4096;
   const std::size_t columns = image.cols();
   const ModularMatrix walk_rows = kept_rows_modulo(walk_network, kept, rank, columns);
-  std::vector<RowLift> lifts(rows.size());
-  for (std::size_t i = 0; i < rows.size(); ++i) {
-    RowLift& lift = lifts[i];
-    lift.row = rows[i];
-    lift.lead = leading[rows[i]];
-    lift.support = support_beyond_lead(image, lift.row, lift.lead);
+  std::vector<RowLift> lifts = row_groups(image, rows, leading, rank, sparse_limit);
+  for (RowLift& lift : lifts) {
     auto equations = independent_rows(walk_rows, lift.support, walk_network.prime);
     if (!equations) return std::nullopt;
     lift.equations = std::move(*equations);
     // Further primes only: an image modulo the walk's prime that is wrong
     // (an unlucky prime) would keep every reconstruction from settling.
-    lift.images = std::make_unique<RationalReconstruction>(1, lift.support.size());
+    lift.images = std::make_unique<RationalReconstruction>(lift.rows.size(), lift.support.size());
   }
   for (std::size_t index = 0, used = 0; used < max_primes; ++index) {
     poll_stop();
@@ -244,18 +279,20 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
     for (std::size_t o = 0; o < open.size(); ++o)
       if (images[o]) add_row_image(lifts[open[o]], *images[o], prime);
   }
-  std::vector<RationalVector> out;
+  std::vector<RationalVector> out(image.rows());
   for (const RowLift& lift : lifts) {
     if (!lift.is_stable) return std::nullopt;
-    RationalVector row(columns);
-    row[lift.lead] = 1;
-    for (std::size_t m = 0; m < lift.support.size(); ++m) row[lift.support[m]] = (*lift.last)[m];
-    out.push_back(std::move(row));
+    for (std::size_t j = 0; j < lift.rows.size(); ++j) {
+      RationalVector& row = out[lift.rows[j]];
+      row.assign(columns, Rational(0));
+      row[lift.leads[j]] = 1;
+      for (std::size_t m = 0; m < lift.support.size(); ++m) row[lift.support[m]] = (*lift.last)(j, m);
+    }
   }
-  return out;
+  std::vector<RationalVector> ordered;
+  for (std::size_t row : rows) ordered.push_back(std::move(out[row]));
+  return ordered;
 }
-
-}  // namespace
 
 RationalMatrix exact_kept_rows(const Network& network, const std::vector<KeptRows>& kept, std::size_t rank,
                                unsigned threads) {
@@ -327,7 +364,8 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
   std::optional<RationalMatrix> candidate;
   if (!hard.empty()) {
     if (lift_progress) lift_progress(1);
-    if (auto lifted = lift_rows_multimodular(network, walk_network, kept, rank, first_image, hard, leading, threads))
+    if (auto lifted =
+            lift_rows_multimodular(network, walk_network, kept, rank, first_image, hard, leading, rank / 4, threads))
       for (std::size_t h = 0; h < hard.size(); ++h) candidate_rows[hard[h]] = std::move((*lifted)[h]);
   }
   if (std::all_of(candidate_rows.begin(), candidate_rows.end(), [](const auto& row) { return row.has_value(); })) {
@@ -375,6 +413,46 @@ ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vec
   ModularMatrix extra(kernel.rows(), rows.cols());
   for (std::size_t r = 0; r < kernel.rows(); ++r)
     for (std::size_t q = 0; q < columns.size(); ++q) extra(r, columns[q]) = kernel(r, q);
+  return extra;
+}
+
+ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots) {
+  const ModularMatrix rows = basis.rows();
+  const std::vector<std::size_t>& pivots = basis.pivot_columns();
+  const std::size_t columns = rows.cols();
+  const std::uint64_t prime = basis.prime();
+  // Columns in the order Q first, then the others increasing.
+  std::vector<char> is_scaling(columns, 0);
+  for (std::size_t c : scaling_pivots) is_scaling[c] = 1;
+  std::vector<std::size_t> order(scaling_pivots.begin(), scaling_pivots.end());
+  std::sort(order.begin(), order.end());
+  for (std::size_t c = 0; c < columns; ++c)
+    if (!is_scaling[c]) order.push_back(c);
+  std::vector<std::size_t> position(columns);
+  for (std::size_t q = 0; q < columns; ++q) position[order[q]] = q;
+  // The kernel read off the basis (row i: 1 at pivot_i, 0 at the other
+  // pivots): for each other column f, e_f minus column f at the pivots.
+  std::vector<char> is_pivot(columns, 0);
+  for (std::size_t c : pivots) is_pivot[c] = 1;
+  ModularMatrix kernel(columns - pivots.size(), columns);  // in the permuted order
+  std::size_t k = 0;
+  for (std::size_t f = 0; f < columns; ++f) {
+    if (is_pivot[f]) continue;
+    poll_stop();
+    kernel(k, position[f]) = 1;
+    for (std::size_t i = 0; i < pivots.size(); ++i)
+      if (rows(i, f) != 0) kernel(k, position[pivots[i]]) = prime - rows(i, f);
+    ++k;
+  }
+  // Its reduced echelon form with Q first: the rows led outside Q vanish on
+  // Q and are E's canonical basis (reduced on the other columns in order).
+  const ModularMatrix echelon = row_space_basis_modulo(kernel, prime);
+  const std::vector<std::size_t> leads = echelon_shape(echelon);  // permuted positions
+  std::size_t first = 0;
+  while (first < echelon.rows() && is_scaling[order[leads[first]]]) ++first;
+  ModularMatrix extra(echelon.rows() - first, columns);
+  for (std::size_t r = first; r < echelon.rows(); ++r)
+    for (std::size_t q = 0; q < columns; ++q) extra(r - first, order[q]) = echelon(r, q);
   return extra;
 }
 

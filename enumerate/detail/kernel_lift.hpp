@@ -7,17 +7,17 @@
 // coefficient-block rows, rank r. Its kernel mod p, reduced modulo the
 // scaling directions S, is the image of the extra directions E (the canonical
 // basis of kernel / span(S)). E is lifted to Q (rational reconstruction from p
-// alone for rows with small entries, the others row by row from square
-// systems of their supports' size modulo further primes) and then proved: every row
-// of E annihilates every smooth region's rows exactly, S does so by
-// construction (core/jacobian.hpp), so rank <= D - rank(S u E); and rank >= r
-// (the basis' nonsingular minor). Equal: certified.
+// alone for rows with small entries, the others from square systems of their
+// supports' size modulo further primes) and then proved: every row of E
+// annihilates every smooth region's rows exactly, S does so by construction
+// (core/jacobian.hpp), so rank <= D - rank(S u E); and rank >= r (the basis'
+// nonsingular minor). Equal: certified.
 #pragma once
 
 #include "core/matrix.hpp"
 #include "core/network.hpp"
-#include "core/pattern.hpp"
 #include "core/jacobian.hpp"
+#include "core/pattern.hpp"
 #include "core/rank.hpp"
 #include "core/stop.hpp"
 #include "enumerate/detail/kernel_check.hpp"
@@ -45,6 +45,13 @@ struct KeptRows {
 // one elimination of rank x (D - |Q|).
 ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vector<std::size_t>& scaling_pivots,
                                        std::uint64_t prime);
+
+// The same from the walk's basis itself (rows 1 at their pivot, 0 at the
+// other pivots), cheaper when the kernel is smaller than the rank: its
+// kernel read off directly (D - r vectors), put in reduced row-echelon form
+// with the columns Q first; the rows led outside Q are E. Equal to
+// extra_directions_of_rows(basis.rows(), ...).
+ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots);
 
 // The leading column of each row of an echelon matrix (its shape).
 std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon);
@@ -96,6 +103,25 @@ std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
                                                      const std::vector<std::size_t>& scaling_pivots,
                                                      const std::vector<std::size_t>& leading,
                                                      const std::vector<std::size_t>& wanted);
+
+// Rows `rows` of E (indices into the image's rows, each with a large entry)
+// lifted over primes other than the walk's: a row whose support S (read
+// modulo the walk's prime) has at most sparse_limit columns alone, from |S|
+// kept rows independent on S; the others together on the union of their
+// supports (all rows together when the sparse systems would cost more than
+// half an r x r solve). Each group's square system is solved modulo every
+// further prime (the kept regions its equations come from, in word
+// arithmetic), Chinese remaindered and reconstructed, until two
+// reconstructions in a row agree. The rows in the order given, or nullopt
+// (no independent equations modulo the walk's prime, or no agreement within
+// 4096 primes). Not proved.
+std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network& network,
+                                                                  const ModularNetwork& walk_network,
+                                                                  const std::vector<KeptRows>& kept, std::size_t rank,
+                                                                  const ModularMatrix& image,
+                                                                  const std::vector<std::size_t>& rows,
+                                                                  const std::vector<std::size_t>& leading,
+                                                                  std::size_t sparse_limit, unsigned threads);
 
 // Whether E vanishes at the columns Q and is in reduced row-echelon form
 // with leading 1s: then S u E is independent whenever S restricted to Q is

@@ -42,6 +42,13 @@ lp::Polyhedron tangent_cone_at(const lp::Polyhedron& cell, const RationalVector&
 }
 
 
+// A region's exact rational maps and their double images, for the rare
+// crossings the integer maps cannot decide (fast paths only: never exact-only).
+struct RationalMaps {
+  PatternMaps maps;
+  MapImages images;
+};
+
 }  // namespace
 
 class RegionProcessor::Impl {
@@ -147,7 +154,7 @@ class RegionProcessor::Impl {
     const std::size_t start = first_layer_to_compute(pattern);
     maps_pattern_.states.clear();  // invalid until every layer is done (a stop may cut this short)
     if (wide_) compute_fixed_maps(pattern, start, *wide_, wide_identity_, wide_pre_);
-    else if (wide256_) compute_fixed_maps(pattern, start, *wide256_, wide256_identity_, wide256_pre_);
+    else if (wide256_) compute_mixed_maps(pattern, start);
     else compute_gmp_maps(pattern, start);
     maps_pattern_ = pattern;
   }
@@ -192,18 +199,51 @@ class RegionProcessor::Impl {
     for (std::size_t k = start; k < layers_.size(); ++k) {
       set_active(pattern, k);
       compose_fixed(layers_[k], fixed, k, n, k == 0 ? identity : fixed_pre[k - 1], active_, fixed_pre[k]);
-      IntegerMap& map = pre_[k];
-      map.rows = layers_[k].rows;
-      map.cols = n;
-      map.linear.resize(map.rows * n);
-      map.offset.resize(map.rows);
-      for (std::size_t r = 0; r < map.rows; ++r) {
-        const T* row = fixed_pre[k].data() + r * (n + 1);
-        for (std::size_t c = 0; c < n; ++c) set_integer(map.linear[r * n + c], row[c]);
-        set_integer(map.offset[r], row[n]);
-      }
-      map.denominator = fixed.map_denominator[k];
+      store_map(k, fixed_pre[k], fixed.map_denominator[k]);
     }
+  }
+
+  // The 256-bit tier: the leading layers whose bound fits 128 bits in Wide
+  // (several times cheaper), the others in Int256.
+  void compute_mixed_maps(const ActivationPattern& pattern, std::size_t start) {
+    const Layers256& fixed = *wide256_;
+    const std::size_t low = fixed.low.map_denominator.size();
+    const std::size_t n = network_.input_dim;
+    wide_pre_.resize(low);
+    wide256_pre_.resize(layers_.size());
+    for (std::size_t k = start; k < layers_.size(); ++k) {
+      set_active(pattern, k);
+      if (k < low) {
+        compose_fixed(layers_[k], fixed.low, k, n, k == 0 ? wide_identity_ : wide_pre_[k - 1], active_, wide_pre_[k]);
+        store_map(k, wide_pre_[k], fixed.low.map_denominator[k]);
+        continue;
+      }
+      const std::vector<Int256>* input = k == 0 ? &wide256_identity_ : &wide256_pre_[k - 1];
+      if (k > 0 && k - 1 < low) {  // the first 256-bit layer: its input widened
+        widened_.resize(wide_pre_[k - 1].size());
+        for (std::size_t i = 0; i < widened_.size(); ++i) widened_[i] = to_int256(wide_pre_[k - 1][i]);
+        input = &widened_;
+      }
+      compose_fixed(layers_[k], fixed, k, n, *input, active_, wide256_pre_[k]);
+      store_map(k, wide256_pre_[k], fixed.map_denominator[k]);
+    }
+  }
+
+  // Layer k's map (rows of n linear entries, then the offset) into pre_[k]'s GMP integers.
+  template <class T>
+  void store_map(std::size_t k, const std::vector<T>& values, const Integer& denominator) {
+    const std::size_t n = network_.input_dim;
+    IntegerMap& map = pre_[k];
+    map.rows = layers_[k].rows;
+    map.cols = n;
+    map.linear.resize(map.rows * n);
+    map.offset.resize(map.rows);
+    for (std::size_t r = 0; r < map.rows; ++r) {
+      const T* row = values.data() + r * (n + 1);
+      for (std::size_t c = 0; c < n; ++c) set_integer(map.linear[r * n + c], row[c]);
+      set_integer(map.offset[r], row[n]);
+    }
+    map.denominator = denominator;
   }
 
   // Row i of a pre-activation map as a cell row, negated for a neuron that is off.
@@ -274,8 +314,7 @@ class RegionProcessor::Impl {
     region.bounded = *bounded;
     region.point = plane->interior;
     region.affine = output_map(pattern);
-    std::optional<PatternMaps> rational_maps;  // only for degenerate crossings
-    crossing_buffers_.images.clear();
+    std::optional<RationalMaps> rational_maps;  // only for degenerate crossings
     // Reserved: RegionFacet's move is not noexcept (gmpxx), so growth would copy.
     region.facets.reserve(static_cast<std::size_t>(
         std::count_if(plane->groups.begin(), plane->groups.end(), [](const lp::PlaneGroup& g) { return g.is_facet; })));
@@ -315,8 +354,7 @@ class RegionProcessor::Impl {
     region.bounded = neuron_rows_ > 0 && *space->bounded;
     region.point = space->interior;
     region.affine = output_map(pattern);
-    std::optional<PatternMaps> rational_maps;  // only for degenerate crossings
-    crossing_buffers_.images.clear();
+    std::optional<RationalMaps> rational_maps;  // only for degenerate crossings
     region.facets.reserve(static_cast<std::size_t>(
         std::count_if(space->groups.begin(), space->groups.end(), [](const lp::SpaceGroup& g) { return g.is_facet; })));
     for (const lp::SpaceGroup& group : space->groups) {
@@ -362,12 +400,20 @@ class RegionProcessor::Impl {
     return to_rational_map(out);
   }
 
+  // By neuron id: the neurons of the facet group's rows (they vanish at its point).
+  const std::vector<char>& vanishing_at(const std::vector<std::size_t>& group_rows) {
+    vanishing_.assign(network_.relu_neuron_count(), 0);
+    for (std::size_t c : group_rows)
+      if (c < neuron_rows_) vanishing_[row_neuron_[c]] = 1;
+    return vanishing_;
+  }
+
   // A facet of the integer-row paths: its neurons or domain side, its
   // primitive normal, and the neighbour across it at `point`. normal and
   // offset are the group representative's row.
   RegionFacet integer_facet(const ActivationPattern& pattern, const std::vector<std::size_t>& group_rows,
                             const RationalVector& point, std::span<const Integer* const> normal, const Integer& offset,
-                            std::optional<PatternMaps>& rational_maps, std::size_t& degenerate_crossings) {
+                            std::optional<RationalMaps>& rational_maps, std::size_t& degenerate_crossings) {
     RegionFacet facet;
     for (std::size_t c : group_rows) {
       if (c < neuron_rows_) facet.neurons.push_back(row_neuron_[c]);
@@ -382,18 +428,20 @@ class RegionProcessor::Impl {
     facet.point = point;
     if (facet.domain_side) return facet;
     std::vector<ActivationPattern> candidates;
-    if (std::optional<ActivationPattern> far = pattern_across_in_integers(network_, pre_, crossing_buffers_, pattern, facet.point, normal)) {
+    if (std::optional<ActivationPattern> far = pattern_across_in_integers(network_, pre_, pattern, vanishing_at(group_rows), normal)) {
       candidates.push_back(std::move(*far));
     } else {
-      if (!rational_maps) rational_maps = maps_on_pattern_fraction_free(layers_, network_.input_dim, pattern);
+      if (!rational_maps) {  // once per region, for all its degenerate crossings
+        PatternMaps maps = maps_on_pattern_fraction_free(layers_, network_.input_dim, pattern);
+        MapImages images = map_images(network_, maps);
+        rational_maps = RationalMaps{std::move(maps), std::move(images)};
+      }
       RationalVector row_normal, direction;
       for (const Integer* value : normal) {
         row_normal.push_back(Rational(*value));
         direction.push_back(Rational(-*value));
       }
-      std::optional<MapImages> images;
-      if (!exact_only_) images = map_images(network_, *rational_maps);
-      candidates = patterns_across_filtered(network_, pattern, *rational_maps, images ? &*images : nullptr,
+      candidates = patterns_across_filtered(network_, pattern, rational_maps->maps, &rational_maps->images,
                                             facet.point, direction, row_normal);
     }
     name_neighbours(facet, std::move(candidates), degenerate_crossings);
@@ -537,6 +585,7 @@ class RegionProcessor::Impl {
   std::optional<Layers256> wide256_;             // else in 256 bits, when those provably fit
   std::vector<Int256> wide256_identity_;
   std::vector<std::vector<Int256>> wide256_pre_;
+  std::vector<Int256> widened_;                  // the last 128-bit layer's map, widened
   ActivationPattern maps_pattern_;               // the pattern of pre_'s maps (no states: none)
   std::vector<lp::PlaneRow> domain_rows_;  // the domain's sides as integer rows
   std::vector<IntegerMap> pre_;            // per layer, this region's pre-activation map
@@ -544,7 +593,7 @@ class RegionProcessor::Impl {
   std::vector<lp::PlaneRow> rows_;         // this region's cell: neurons, then domain sides
   std::vector<std::size_t> row_neuron_;    // neuron id per neuron row
   std::size_t neuron_rows_ = 0;
-  IntegerCrossingBuffers crossing_buffers_;  // filter images of pre_ (lazy), a scratch point
+  std::vector<char> vanishing_;            // by neuron id: in the facet being crossed
   // The space path's state (3 inputs).
   bool is_space_path_ = false;
   std::vector<lp::SpaceRow> domain_space_rows_;

@@ -5,11 +5,8 @@
 #include "core/rational.hpp"
 
 #include <cstddef>
-#include <limits>
 
 namespace pleat::detail {
-
-inline constexpr std::size_t no_index = std::numeric_limits<std::size_t>::max();
 
 inline bool is_zero_row(const RationalMatrix& m, std::size_t row) {
   for (std::size_t c = 0; c < m.cols(); ++c)

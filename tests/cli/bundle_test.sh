@@ -9,7 +9,6 @@
 # a changed weight. A certify that stops writes no bundle.
 set -u
 source "$(dirname "$0")/lib.sh"
-python=/usr/bin/python3
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
 checker=$source_dir/scripts/check_bundle.py
 

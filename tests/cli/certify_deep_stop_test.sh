@@ -13,7 +13,6 @@
 # generous so that a loaded machine does not fail it.
 set -u
 source "$(dirname "$0")/lib.sh"
-python=/usr/bin/python3
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
 
 deep=$work/deep.json

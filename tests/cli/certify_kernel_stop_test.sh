@@ -11,9 +11,7 @@
 # are generous so that a loaded machine does not fail them.
 set -u
 source "$(dirname "$0")/lib.sh"
-python=/usr/bin/python3
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
-json_get() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }
 
 net=$work/deep500.json
 "$pleat" random --arch "2$(printf ',2%.0s' $(seq 500)),1" --seed 1 -o "$net" || fail "pleat random exited $?"
@@ -21,16 +19,16 @@ net=$work/deep500.json
 within 16 "$pleat" certify "$net" --time-limit 4 --threads 2 --json -q > "$work/limit.json"
 status=$?
 [ $status = 0 ] || fail "time-limited certify exited $status"
-[ "$(json_get "$work/limit.json" '(d["certified"], d["functional_dimension"], d["stop_reason"])')" \
+[ "$(json_eval "$work/limit.json" '(d["certified"], d["functional_dimension"], d["stop_reason"])')" \
   = "(False, None, 'time-limit')" ] || fail "time limit: $(head -c 600 "$work/limit.json")"
-[ "$(json_get "$work/limit.json" 'd["lower_bound"] <= d["upper_bound"] <= d["scaling_bound"]')" = True ] ||
+[ "$(json_eval "$work/limit.json" 'd["lower_bound"] <= d["upper_bound"] <= d["scaling_bound"]')" = True ] ||
   fail "bounds out of order"
-after_walk=$(json_get "$work/limit.json" 'd["walk_complete"]')
+after_walk=$(json_eval "$work/limit.json" 'd["walk_complete"]')
 
 # An interrupt 5 s in: exit 130 within seconds, bounds, not certified.
 within 17 timeout --preserve-status -s INT 5 "$pleat" certify "$net" --threads 2 --json -q > "$work/int.json"
 status=$?
 [ $status = 130 ] || fail "interrupted certify exited $status, expected 130"
-[ "$(json_get "$work/int.json" '(d["certified"], d["stop_reason"])')" = "(False, 'interrupted')" ] ||
+[ "$(json_eval "$work/int.json" '(d["certified"], d["stop_reason"])')" = "(False, 'interrupted')" ] ||
   fail "interrupt: $(head -c 600 "$work/int.json")"
 echo "certify on a deep network: stops within seconds with bounds (walk complete when the limit fell: $after_walk)"

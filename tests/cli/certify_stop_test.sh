@@ -7,9 +7,7 @@
 # directions), so the limit falls in the phase after the walk.
 set -u
 source "$(dirname "$0")/lib.sh"
-python=/usr/bin/python3
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
-json_get() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }
 now() { date +%s.%N; }
 
 net=$work/wide.json
@@ -24,10 +22,10 @@ status=$?
 elapsed=$("$python" -c "print($(now) - $start)")
 [ $status = 0 ] || fail "time-limited certify exited $status"
 "$python" -c "import sys; sys.exit(0 if $elapsed < $(scaled 10) else 1)" || fail "--time-limit 2 took $elapsed s"
-[ "$(json_get "$work/limit.json" '(d["certified"], d["functional_dimension"], d["stop_reason"])')" \
+[ "$(json_eval "$work/limit.json" '(d["certified"], d["functional_dimension"], d["stop_reason"])')" \
   = "(False, None, 'time-limit')" ] || fail "time limit: $(head -c 600 "$work/limit.json")"
-[ "$(json_get "$work/limit.json" 'd["walk_complete"]')" = True ] && after_walk=1 || after_walk=0
-[ "$(json_get "$work/limit.json" 'd["lower_bound"] <= d["upper_bound"] <= d["scaling_bound"]')" = True ] ||
+[ "$(json_eval "$work/limit.json" 'd["walk_complete"]')" = True ] && after_walk=1 || after_walk=0
+[ "$(json_eval "$work/limit.json" 'd["lower_bound"] <= d["upper_bound"] <= d["scaling_bound"]')" = True ] ||
   fail "bounds out of order"
 
 # An interrupt 2 s in: exit 130 within seconds, bounds, not certified.
@@ -37,7 +35,7 @@ status=$?
 elapsed=$("$python" -c "print($(now) - $start)")
 [ $status = 130 ] || fail "interrupted certify exited $status, expected 130"
 "$python" -c "import sys; sys.exit(0 if $elapsed < $(scaled 10) else 1)" || fail "the interrupt took $elapsed s to act"
-[ "$(json_get "$work/int.json" '(d["certified"], d["stop_reason"])')" = "(False, 'interrupted')" ] ||
+[ "$(json_eval "$work/int.json" '(d["certified"], d["stop_reason"])')" = "(False, 'interrupted')" ] ||
   fail "interrupt: $(head -c 600 "$work/int.json")"
 out=$("$pleat" certify "$net" -q --full-walk --time-limit 2) || fail "human output exited $?"
 case "$out" in *"NOT certified ("*"time-limit)"*) ;; *) fail "human output: $out" ;; esac

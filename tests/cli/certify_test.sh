@@ -5,18 +5,9 @@
 # --rows-out/--kernel-out re-checked here with Python fractions, and the
 # explanation of data/degenerate2d.json.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
-expect_contains() {  # text, needle, what
-  case "$1" in *"$2"*) ;; *) fail "$3: expected '$2' in:"$'\n'"$1" ;; esac
-}
-python=/usr/bin/python3
+source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
-# json_get FILE EXPRESSION: prints the Python expression evaluated with d = the document.
-json_get() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }
+# json_eval FILE EXPRESSION: prints the Python expression evaluated with d = the document.
 
 ramp=$source_dir/data/ramp1d.json
 degenerate=$source_dir/data/degenerate2d.json
@@ -25,7 +16,7 @@ degenerate=$source_dir/data/degenerate2d.json
 # plus stop_reason (the walk's key of the same meaning, also printed here) and
 # domain (as in pleat-walk/1).
 "$pleat" certify "$ramp" --json -q > "$work/ramp.json" || fail "certify --json exited $?"
-keys=$(json_get "$work/ramp.json" '",".join(sorted(d.keys()))')
+keys=$(json_eval "$work/ramp.json" '",".join(sorted(d.keys()))')
 # Added since (docs/formats.md): certified_by, points_drawn, witness_points
 # (certified from exact points without a walk) and walk_seconds.
 spec_keys="certified,certified_by,domain,early_stop,extra_kernel,extra_kernel_summary,format,functional_dimension,lower_bound,nonsmooth_regions,parametric_dimension,points_drawn,regions_contributing,regions_walked,scaling_bound,seconds,stop_reason,upper_bound,walk_complete,walk_seconds,witness_points"
@@ -33,29 +24,29 @@ spec_keys="certified,certified_by,domain,early_stop,extra_kernel,extra_kernel_su
 # ramp1d (data/README.md): 1 -> 5 -> 1, D = 2*5 + 6 = 16; five distinct bends
 # and nonzero outgoing weights: the generic shallow case, 2*5 + 1 = 11 (the
 # derivation is in tests/enumerate/functional_dimension_test.cpp).
-[ "$(json_get "$work/ramp.json" 'd["format"]')" = "pleat-certify/1" ] || fail "format"
-[ "$(json_get "$work/ramp.json" 'd["parametric_dimension"]')" = 16 ] || fail "ramp1d D"
-[ "$(json_get "$work/ramp.json" 'd["scaling_bound"]')" = 11 ] || fail "ramp1d scaling bound"
-[ "$(json_get "$work/ramp.json" 'd["functional_dimension"]')" = 11 ] || fail "ramp1d value"
-[ "$(json_get "$work/ramp.json" '(d["lower_bound"], d["upper_bound"], d["certified"])')" = "(11, 11, True)" ] ||
+[ "$(json_eval "$work/ramp.json" 'd["format"]')" = "pleat-certify/1" ] || fail "format"
+[ "$(json_eval "$work/ramp.json" 'd["parametric_dimension"]')" = 16 ] || fail "ramp1d D"
+[ "$(json_eval "$work/ramp.json" 'd["scaling_bound"]')" = 11 ] || fail "ramp1d scaling bound"
+[ "$(json_eval "$work/ramp.json" 'd["functional_dimension"]')" = 11 ] || fail "ramp1d value"
+[ "$(json_eval "$work/ramp.json" '(d["lower_bound"], d["upper_bound"], d["certified"])')" = "(11, 11, True)" ] ||
   fail "ramp1d bounds"
-[ "$(json_get "$work/ramp.json" 'd["extra_kernel"]')" = "[]" ] || fail "ramp1d has no extra directions"
+[ "$(json_eval "$work/ramp.json" 'd["extra_kernel"]')" = "[]" ] || fail "ramp1d has no extra directions"
 
 # ---- --claim on ramp1d (value 11, D = 16)
 claim() {  # value -> "verdict|reason"; the exit status is 0 for consistent, else 1
   "$pleat" certify "$ramp" --json -q --claim "$1" > "$work/claim.json"
   status=$?
-  verdict=$(json_get "$work/claim.json" 'd["claim"]["verdict"]')
+  verdict=$(json_eval "$work/claim.json" 'd["claim"]["verdict"]')
   expected=1; [ "$verdict" = consistent ] && expected=0
   [ "$status" = "$expected" ] || fail "--claim $1 ($verdict) exited $status, expected $expected"
-  json_get "$work/claim.json" 'd["claim"]["verdict"] + "|" + d["claim"]["reason"]'
+  json_eval "$work/claim.json" 'd["claim"]["verdict"] + "|" + d["claim"]["reason"]'
 }
 out=$(claim 11); expect_contains "$out" "consistent|" "--claim 11"
 out=$(claim 9);  expect_contains "$out" "too-low|" "--claim 9"; expect_contains "$out" "by 2" "--claim 9"
 out=$(claim 12); expect_contains "$out" "impossible|" "--claim 12"; expect_contains "$out" "scaling bound" "--claim 12"
 out=$(claim 17); expect_contains "$out" "impossible|" "--claim 17"; expect_contains "$out" "parametric dimension 16" "--claim 17"
 out=$(claim 0);  expect_contains "$out" "too-low|" "--claim 0"
-[ "$(json_get "$work/claim.json" 'd["claim"]["value"]')" = 0 ] || fail "claim value echoed"
+[ "$(json_eval "$work/claim.json" 'd["claim"]["value"]')" = 0 ] || fail "claim value echoed"
 out=$("$pleat" certify "$ramp" -q --claim 9); [ $? = 1 ] || fail "human --claim 9 must exit 1"
 expect_contains "$out" "too-low" "human --claim"
 "$pleat" certify "$ramp" -q --claim -3 > /dev/null 2>&1 && fail "--claim -3 accepted"
@@ -65,7 +56,7 @@ expect_contains "$out" "too-low" "human --claim"
 printf '%s\n' "# two per interval" -1 -2 -5/12 -0.45 0 1/10 1/2 3/5 1 4 5 10 > "$work/good.csv"
 out=$("$pleat" certify "$ramp" --points "$work/good.csv" --json) || fail "--points exited $?"
 echo "$out" > "$work/batch.json"
-[ "$(json_get "$work/batch.json" 'd["batch_functional_dimension"]')" = 11 ] || fail "batch at 12 points: $out"
+[ "$(json_eval "$work/batch.json" 'd["batch_functional_dimension"]')" = 11 ] || fail "batch at 12 points: $out"
 printf '%s\n' -1 -2 > "$work/one_region.csv"
 out=$("$pleat" certify "$ramp" --points "$work/one_region.csv") || fail "--points exited $?"
 expect_contains "$out" "batch functional dimension 2" "two points in one interval give its 2 rows"
@@ -84,9 +75,9 @@ printf '%s\n' 1,2 > "$work/wrong_dim.csv"
 # tests/enumerate/functional_dimension_test.cpp).
 "$pleat" certify "$degenerate" --json -q --rows-out "$work/rows.csv" --kernel-out "$work/kernel.csv" \
   > "$work/degenerate.json" || fail "certify degenerate2d exited $?"
-[ "$(json_get "$work/degenerate.json" '(d["functional_dimension"], d["scaling_bound"], len(d["extra_kernel"]))')" \
+[ "$(json_eval "$work/degenerate.json" '(d["functional_dimension"], d["scaling_bound"], len(d["extra_kernel"]))')" \
   = "(17, 24, 7)" ] || fail "degenerate2d: $(cat "$work/degenerate.json")"
-[ "$(json_get "$work/degenerate.json" 'sorted(set((e["mechanism"], tuple(e["neurons"])) for e in d["extra_kernel"]))')" \
+[ "$(json_eval "$work/degenerate.json" 'sorted(set((e["mechanism"], tuple(e["neurons"])) for e in d["extra_kernel"]))')" \
   = "[('dead-neuron', (5,)), ('duplicate-neurons', (1, 2))]" ] || fail "degenerate2d mechanisms"
 out=$("$pleat" certify "$degenerate" -q) || fail "human certify exited $?"
 expect_contains "$out" "functional dimension  17  certified" "human summary"
@@ -96,7 +87,7 @@ expect_contains "$out" "functional dimension  17  certified" "human summary"
 expect_contains "$out" "dead neuron 5: 5 directions" "human explanation"
 expect_contains "$out" "duplicate neurons 1, 2: 2 directions" "human explanation"
 case "$out" in *"W2[1,1]"*) fail "the terminal lists a full direction: $out" ;; esac
-[ "$(json_get "$work/degenerate.json" '[(e["mechanism"], e["neurons"], e["directions"]) for e in d["extra_kernel_summary"]]')" \
+[ "$(json_eval "$work/degenerate.json" '[(e["mechanism"], e["neurons"], e["directions"]) for e in d["extra_kernel_summary"]]')" \
   = "[('duplicate-neurons', [1, 2], 2), ('dead-neuron', [5], 5)]" ] || fail "extra_kernel_summary"
 
 # The written rows and kernel, re-checked exactly with Python fractions:
@@ -135,9 +126,9 @@ PY
 # tests/enumerate/functional_dimension_test.cpp.
 hidden=$source_dir/tests/data/fd_relu_output_hidden_middle.json
 "$pleat" certify "$hidden" --json -q > "$work/hidden.json" || fail "certify hidden-middle exited $?"
-[ "$(json_get "$work/hidden.json" '(d["parametric_dimension"], d["scaling_bound"], d["functional_dimension"])')" \
+[ "$(json_eval "$work/hidden.json" '(d["parametric_dimension"], d["scaling_bound"], d["functional_dimension"])')" \
   = "(7, 5, 4)" ] || fail "hidden-middle: $(cat "$work/hidden.json")"
-[ "$(json_get "$work/hidden.json" '[(e["vector"], e["mechanism"]) for e in d["extra_kernel"]]')" \
+[ "$(json_eval "$work/hidden.json" '[(e["vector"], e["mechanism"]) for e in d["extra_kernel"]]')" \
   = "[({'b1[0]': '1', 'b1[1]': '1', 'b2[0]': '-1'}, None)]" ] || fail "hidden-middle extra direction"
 out=$("$pleat" certify "$hidden" -q) || fail "human certify exited $?"
 expect_contains "$out" "no recognised mechanism: 1 direction" "unnamed mechanism"
@@ -151,8 +142,8 @@ expect_contains "$out" "rank limited by the number of regions: 3 smooth regions 
 # ---- a run cut short never says certified (fold2d has 84 regions).
 "$pleat" certify "$source_dir/data/fold2d.json" --json -q --full-walk --time-limit 0.000001 > "$work/cut.json" ||
   fail "time-limited certify exited $?"
-if [ "$(json_get "$work/cut.json" 'd["walk_complete"]')" = False ]; then
-  [ "$(json_get "$work/cut.json" '(d["certified"], d["functional_dimension"], d["lower_bound"] <= d["upper_bound"])')" \
+if [ "$(json_eval "$work/cut.json" 'd["walk_complete"]')" = False ]; then
+  [ "$(json_eval "$work/cut.json" '(d["certified"], d["functional_dimension"], d["lower_bound"] <= d["upper_bound"])')" \
     = "(False, None, True)" ] || fail "a cut run: $(cat "$work/cut.json")"
 fi
 

@@ -6,11 +6,7 @@
 # the sum must be the box's volume (float, 1e-9 relative); taken about a
 # second origin it must not change (it would for a surface with holes).
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 out=$("$pleat" draw "$source_dir/data/sensor3d.json" --view -2,2,-1,3,-3/2,1 --out "$work/s.off" -q) \
   || fail "draw .off failed"
 case "$out" in *"mesh "*regions*faces*) ;; *) fail "no mesh counts: $out" ;; esac

@@ -4,11 +4,7 @@
 # slope times width equals the rise, breakpoints are the bends listed in
 # data/ramp1d.json's meta, written by hand there); bad arguments exit 2.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 fold=$source_dir/data/fold2d.json
 ramp=$source_dir/data/ramp1d.json
 

@@ -2,11 +2,7 @@
 # Bad input gives one clear line "pleat: <message>" on stderr and exit code 2,
 # never a crash, an abort or a stack trace.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 
 # run_bad NEEDLE ARGS...: expects exit 2 and NEEDLE in stderr.
 run_bad() {

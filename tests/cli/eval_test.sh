@@ -3,14 +3,7 @@
 # writing a negative coordinate, a point on a bent hyperplane ('='), --json,
 # and standard input.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
-expect_contains() {  # text, needle, what
-  case "$1" in *"$2"*) ;; *) fail "$3: expected '$2' in:"$'\n'"$1" ;; esac
-}
+source "$(dirname "$0")/lib.sh"
 
 fold=$source_dir/data/fold2d.json
 if [ ! -f "$fold" ]; then

@@ -2,9 +2,7 @@
 # --help at the top and for every subcommand says what it does and shows an
 # example; --version prints the version.
 set -u
-pleat=$1
-source_dir=${2:-}
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 
 top=$("$pleat" --help) || fail "pleat --help exited $?"
 case "$top" in *"Examples:"*) ;; *) fail "pleat --help shows no example" ;; esac

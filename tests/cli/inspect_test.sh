@@ -8,11 +8,7 @@
 # - by pattern with --box: the clipped area equals the drawn polygon's;
 # - a pattern with no region and a point outside the box exit 2.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 fold=$source_dir/data/fold2d.json
 "$pleat" draw "$fold" --view -3,3,-3,3 --out "$work/fold.csv" -q > /dev/null || fail "draw failed"
 

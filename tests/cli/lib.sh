@@ -1,12 +1,25 @@
 # Shared preamble of the end-to-end tests, sourced as
 #   source "$(dirname "$0")/lib.sh"
 # by a script run as SCRIPT PLEAT_BINARY [SOURCE_DIR]: sets pleat and
-# source_dir, a scratch directory $work removed on exit, fail() and within().
+# source_dir, a scratch directory $work removed on exit, fail(), within(),
+# expect_contains, json_key and json_eval ($python is Debian's /usr/bin/python3).
 pleat=$1
 source_dir=${2:-}
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
 fail() { echo "FAIL: $*" >&2; exit 1; }
+python=/usr/bin/python3
+
+# expect_contains TEXT NEEDLE WHAT: fails unless TEXT contains NEEDLE.
+expect_contains() {
+  case "$1" in *"$2"*) ;; *) fail "$3: expected '$2' in:"$'\n'"$1" ;; esac
+}
+
+# json_key FILE KEY: the value of a top-level key, as JSON.
+json_key() { "$python" -c 'import json,sys; print(json.dumps(json.load(open(sys.argv[1]))[sys.argv[2]]))' "$1" "$2"; }
+
+# json_eval FILE EXPR: a Python expression over the parsed file `d`, printed.
+json_eval() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }
 
 # A sanitized build (PLEAT_SANITIZED, set by tests/CMakeLists.txt) starts and
 # runs several times slower: a 300 MB binary takes seconds to start on a loaded

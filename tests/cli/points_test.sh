@@ -7,15 +7,12 @@
 # smooth region with an identically-zero neuron is accepted, eval prints 'z'.
 set -u
 source "$(dirname "$0")/lib.sh"
-expect_contains() { case "$1" in *"$2"*) ;; *) fail "$3: expected '$2' in:"$'\n'"$1" ;; esac; }
-python=/usr/bin/python3
 "$python" -c 'import numpy' 2>/dev/null || { echo "no numpy: skipped"; exit 77; }
-json_get() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }
 fold=$source_dir/data/fold2d.json
 ramp=$source_dir/data/ramp1d.json
 batch_rank() {  # network file -> batch rank
   "$pleat" certify "$1" --points "$2" --json -q > "$work/batch.json" || fail "certify --points $2 exited $?"
-  json_get "$work/batch.json" 'd["batch_functional_dimension"]'
+  json_eval "$work/batch.json" 'd["batch_functional_dimension"]'
 }
 
 # The same 8 points of fold2d in every format must give one rank.
@@ -84,7 +81,7 @@ expect_contains "$err" "outside.csv:2 (point 1): (3, 0) lies outside the domain"
 "$pleat" walk "$fold" --box -3,3 --points-out "$work/interior.csv" -q > /dev/null || fail "walk --points-out exited $?"
 "$pleat" certify "$fold" --box -3,3 --points "$work/interior.csv" --json -q > "$work/interior.json" ||
   fail "certify --points interior exited $?"
-[ "$(json_get "$work/interior.json" '(d["regions_touched"] == d["regions_total"] == d["points"])')" = True ] ||
+[ "$(json_eval "$work/interior.json" '(d["regions_touched"] == d["regions_total"] == d["points"])')" = True ] ||
   fail "walk --points-out: not one point in each region: $(cat "$work/interior.json")"
 "$pleat" walk "$fold" --box -3,3 --points-out "$work/interior.npy" -q > /dev/null || fail "walk --points-out .npy exited $?"
 "$python" -c "import numpy,sys; a=numpy.load(sys.argv[1]); assert a.dtype == numpy.float64 and a.shape[1] == 2, a.shape" \

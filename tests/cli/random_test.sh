@@ -3,12 +3,8 @@
 # re-derivation of every parameter from the generator's documented recipe
 # (core/random_network.hpp) in Python's decimal module, no MPFR involved.
 set -u
-pleat=$1
-source_dir=$2
+source "$(dirname "$0")/lib.sh"
 golden=$source_dir/tests/cli/golden
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
 
 "$pleat" random --arch 2,8,8,1 --seed 7 > "$work/he.json" || fail "pleat random (he) exited $?"
 cmp -s "$work/he.json" "$golden/random_2_8_8_1_seed7.json" ||

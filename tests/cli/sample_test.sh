@@ -4,40 +4,31 @@
 # domain, the verdict and first_batch_reaching re-derived from separate runs
 # with smaller batches, reproducibility, and bad input.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
-expect_contains() {  # text, needle, what
-  case "$1" in *"$2"*) ;; *) fail "$3: expected '$2' in:"$'\n'"$1" ;; esac
-}
-python=/usr/bin/python3
+source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
-json_get() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }
 
 fold=$source_dir/data/fold2d.json
 
 # ---- keys: the spec's list, plus the documented extras (domain, dtype,
 # points_on_bent_hyperplanes and the bounds the verdict rests on).
 "$pleat" sample "$fold" --batch 40 --seed 1 --json -q > "$work/s.json" || fail "sample --json exited $?"
-keys=$(json_get "$work/s.json" '",".join(sorted(d.keys()))')
+keys=$(json_eval "$work/s.json" '",".join(sorted(d.keys()))')
 expected="batch,certified_value,dist,domain,dtype,first_batch_reaching,format,lower_bound,parametric_dimension,points_on_bent_hyperplanes,rank,rank_rtol_1e-10,rank_rtol_1e-6,regions_total,regions_touched,scaling_bound,seconds,seed,upper_bound,verdict"
 [ "$keys" = "$expected" ] || fail "sample --json keys: got $keys"
 for key in batch seed dist rank rank_rtol_1e-6 rank_rtol_1e-10 regions_touched regions_total certified_value \
   verdict first_batch_reaching seconds; do
   case ",$keys," in *",$key,"*) ;; *) fail "spec key $key missing" ;; esac
 done
-[ "$(json_get "$work/s.json" '(d["format"], d["batch"], d["seed"], d["dist"])')" = "('pleat-sample/1', 40, 1, 'normal')" ] ||
+[ "$(json_eval "$work/s.json" '(d["format"], d["batch"], d["seed"], d["dist"])')" = "('pleat-sample/1', 40, 1, 'normal')" ] ||
   fail "echoed settings"
 
 # ---- against walk and certify on the same domain (normal -> R^2)
 "$pleat" walk "$fold" --json -q > "$work/walk.json" || fail "walk exited $?"
 "$pleat" certify "$fold" --json -q > "$work/certify.json" || fail "certify exited $?"
-regions=$(json_get "$work/walk.json" 'd["regions"]')
-value=$(json_get "$work/certify.json" 'd["functional_dimension"]')
-[ "$(json_get "$work/s.json" 'd["regions_total"]')" = "$regions" ] || fail "regions_total differs from pleat walk ($regions)"
-[ "$(json_get "$work/s.json" 'd["certified_value"]')" = "$value" ] || fail "certified_value differs from pleat certify ($value)"
+regions=$(json_eval "$work/walk.json" 'd["regions"]')
+value=$(json_eval "$work/certify.json" 'd["functional_dimension"]')
+[ "$(json_eval "$work/s.json" 'd["regions_total"]')" = "$regions" ] || fail "regions_total differs from pleat walk ($regions)"
+[ "$(json_eval "$work/s.json" 'd["certified_value"]')" = "$value" ] || fail "certified_value differs from pleat certify ($value)"
 
 # The verdict and first_batch_reaching, re-derived for several batches and
 # seeds; where a prefix m is reported, batch m reaches the value and batch
@@ -50,28 +41,28 @@ check_batch() {  # network dist batch seed domain-args...
   "$pleat" walk "$net" "$@" --json -q > "$work/w.json" || fail "walk $* exited $?"
   "$pleat" certify "$net" "$@" --json -q > "$work/c.json" || fail "certify $* exited $?"
   local rank total touched certified verdict first
-  rank=$(json_get "$work/b.json" 'd["rank"]')
-  total=$(json_get "$work/b.json" 'd["regions_total"]')
-  touched=$(json_get "$work/b.json" 'd["regions_touched"]')
-  certified=$(json_get "$work/b.json" 'd["certified_value"]')
-  verdict=$(json_get "$work/b.json" 'd["verdict"]')
-  first=$(json_get "$work/b.json" 'd["first_batch_reaching"]')
-  [ "$total" = "$(json_get "$work/w.json" 'd["regions"]')" ] || fail "$dist: regions_total $total vs walk"
-  [ "$certified" = "$(json_get "$work/c.json" 'd["functional_dimension"]')" ] || fail "$dist: certified value"
+  rank=$(json_eval "$work/b.json" 'd["rank"]')
+  total=$(json_eval "$work/b.json" 'd["regions_total"]')
+  touched=$(json_eval "$work/b.json" 'd["regions_touched"]')
+  certified=$(json_eval "$work/b.json" 'd["certified_value"]')
+  verdict=$(json_eval "$work/b.json" 'd["verdict"]')
+  first=$(json_eval "$work/b.json" 'd["first_batch_reaching"]')
+  [ "$total" = "$(json_eval "$work/w.json" 'd["regions"]')" ] || fail "$dist: regions_total $total vs walk"
+  [ "$certified" = "$(json_eval "$work/c.json" 'd["functional_dimension"]')" ] || fail "$dist: certified value"
   [ "$touched" -le "$total" ] || fail "$dist: touched $touched > total $total"
   [ "$touched" -le "$batch" ] || fail "$dist: touched $touched > batch $batch"
-  [ "$rank" -le "$(json_get "$work/b.json" 'd["rank_rtol_1e-10"]')" ] || fail "looser tolerance lower rank"
-  [ "$(json_get "$work/b.json" 'd["rank_rtol_1e-6"]')" -le "$(json_get "$work/b.json" 'd["rank_rtol_1e-10"]')" ] ||
+  [ "$rank" -le "$(json_eval "$work/b.json" 'd["rank_rtol_1e-10"]')" ] || fail "looser tolerance lower rank"
+  [ "$(json_eval "$work/b.json" 'd["rank_rtol_1e-6"]')" -le "$(json_eval "$work/b.json" 'd["rank_rtol_1e-10"]')" ] ||
     fail "rtol 1e-6 above rtol 1e-10"
   if [ "$rank" -eq "$certified" ]; then
     [ "$verdict" = equal ] || fail "rank $rank = certified, verdict $verdict"
     [ "$first" != None ] || fail "reached but no first batch"
     [ "$first" -le "$batch" ] || fail "first batch $first > batch $batch"
     "$pleat" sample "$net" --dist "$dist" --batch "$first" --seed "$seed" --json -q > "$work/m.json"
-    [ "$(json_get "$work/m.json" 'd["rank"]')" = "$certified" ] || fail "batch $first does not reach $certified"
+    [ "$(json_eval "$work/m.json" 'd["rank"]')" = "$certified" ] || fail "batch $first does not reach $certified"
     if [ "$first" -gt 1 ]; then
       "$pleat" sample "$net" --dist "$dist" --batch $((first - 1)) --seed "$seed" --json -q > "$work/m.json"
-      [ "$(json_get "$work/m.json" 'd["rank"]')" -lt "$certified" ] || fail "batch $((first - 1)) already reaches"
+      [ "$(json_eval "$work/m.json" 'd["rank"]')" -lt "$certified" ] || fail "batch $((first - 1)) already reaches"
     fi
   elif [ "$rank" -lt "$certified" ]; then
     [ "$verdict" = below ] || fail "rank $rank < certified $certified, verdict $verdict"
@@ -110,8 +101,8 @@ for args in "$fold 40 1" "$fold 200 2" "$source_dir/data/degenerate2d.json 60 3"
   [ "$(grep -c . "$work/points.csv")" = "$2" ] || fail "--points-out wrote $(grep -c . "$work/points.csv") points, batch $2"
   exact=$("$pleat" certify "$1" --points "$work/points.csv" --json | "$python" -c 'import json,sys; print(json.load(sys.stdin)["batch_functional_dimension"])') ||
     fail "certify --points on the sampled points"
-  [ "$exact" = "$(json_get "$work/p.json" 'd["rank"]')" ] || fail "exact batch rank $exact, float rank $(json_get "$work/p.json" 'd["rank"]') ($args)"
-  [ "$(json_get "$work/p.json" 'd["points_on_bent_hyperplanes"]')" = 0 ] || fail "a Gaussian point on a bent hyperplane?"
+  [ "$exact" = "$(json_eval "$work/p.json" 'd["rank"]')" ] || fail "exact batch rank $exact, float rank $(json_eval "$work/p.json" 'd["rank"]') ($args)"
+  [ "$(json_eval "$work/p.json" 'd["points_on_bent_hyperplanes"]')" = 0 ] || fail "a Gaussian point on a bent hyperplane?"
 done
 
 # ---- human output says how many regions were touched out of how many
@@ -137,7 +128,7 @@ expect_contains "$out" "regions touched" "--help explains regions touched"
 # float32 round trip, outside reference), the rank uses float32's epsilon.
 "$pleat" sample "$fold" --batch 30 --seed 2 --dtype float32 --json -q --points-out "$work/f32.txt" \
   > "$work/f32.json" || fail "--dtype float32 exited $?"
-[ "$(json_get "$work/f32.json" 'd["dtype"]')" = float32 ] || fail "dtype key"
+[ "$(json_eval "$work/f32.json" 'd["dtype"]')" = float32 ] || fail "dtype key"
 "$python" - "$work/f32.txt" <<'PY' || fail "float32 points are not float32 values"
 import sys
 from fractions import Fraction
@@ -147,7 +138,7 @@ for line in open(sys.argv[1]):
         value = Fraction(text)
         assert Fraction(float(numpy.float32(float(value)))) == value, text
 PY
-[ "$(json_get "$work/f32.json" 'd["rank"] <= d["upper_bound"] or d["verdict"] == "above-impossible"')" = True ] ||
+[ "$(json_eval "$work/f32.json" 'd["rank"] <= d["upper_bound"] or d["verdict"] == "above-impossible"')" = True ] ||
   fail "float32 rank and verdict disagree"
 err=$("$pleat" sample "$fold" --batch 5 --seed 1 --dtype float16 -q 2>&1 >/dev/null)
 [ $? = 2 ] || fail "--dtype float16 must be exit 2"

@@ -1,14 +1,11 @@
 #!/usr/bin/env bash
 # pleat survey: the same lines at --threads 1 and 2; a resumed survey (file cut
 # after some lines and inside a line, or inside the header) equals an
-# uninterrupted one; a different survey in the file is refused; each sample
+# uninterrupted one, also with the projection's timed samples (no -q); a different survey in the file is refused; each sample
 # equals 'pleat certify' on 'pleat random --sample i'; the summary's mean and
 # variance equal Python's exact fractions.
 set -u
-pleat=$1
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 [ -x /usr/bin/python3 ] || { echo "no /usr/bin/python3"; exit 77; }
 
 arch=2,4,4,1
@@ -47,6 +44,22 @@ normal "$work/cut.jsonl" > "$work/cut.norm" || fail "resumed file does not parse
 cmp -s "$work/cut.norm" "$work/one.norm" || { diff "$work/cut.norm" "$work/one.norm" >&2; fail "resumed survey differs"; }
 # The 4 kept lines were not recomputed: they are byte for byte the old ones.
 cmp -s <(head -n 5 "$work/cut.jsonl") <(head -n 5 "$work/two.jsonl") || fail "resume rewrote finished lines"
+
+# Without -q a run first times one sample per thread of each architecture
+# (written once, not rerun) and prints the projected CPU time for the samples
+# still to run: the same file as above, fresh and resumed after 4 samples.
+"$pleat" survey --arch $arch --samples $samples --seed $seed --threads 2 -o "$work/probe.jsonl" \
+  > /dev/null 2> "$work/probe.err" || fail "survey without -q exited $?"
+grep -q "projected CPU time .* for $samples samples ($arch .* per sample; timed on 2 threads)" "$work/probe.err" ||
+  fail "no projection: $(cat "$work/probe.err")"
+[ "$(wc -l < "$work/probe.jsonl")" -eq $((samples + 1)) ] || fail "probed file has $(wc -l < "$work/probe.jsonl") lines"
+cmp -s <(normal "$work/probe.jsonl") "$work/one.norm" || fail "the survey with a projection differs"
+head -n 5 "$work/two.jsonl" > "$work/probe_resume.jsonl"
+"$pleat" survey --arch $arch --samples $samples --seed $seed --threads 2 -o "$work/probe_resume.jsonl" \
+  > /dev/null 2> "$work/probe_resume.err" || fail "resumed survey without -q exited $?"
+grep -q "projected CPU time .* for $((samples - 4)) samples" "$work/probe_resume.err" ||
+  fail "the projection does not count only the samples to run: $(cat "$work/probe_resume.err")"
+cmp -s <(normal "$work/probe_resume.jsonl") "$work/one.norm" || fail "the resumed survey with a projection differs"
 
 # A cut exactly at a line end, and a file holding only half a header.
 head -n 3 "$work/one.jsonl" > "$work/end.jsonl"

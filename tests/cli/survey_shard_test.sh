@@ -7,10 +7,7 @@
 # every sample at 2m+1); samples cut by the time limit are counted, not in the
 # histogram; plot writes SVG and CSV that agree with the summary.
 set -u
-pleat=$1
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 [ -x /usr/bin/python3 ] || { echo "no /usr/bin/python3"; exit 77; }
 
 normal() {

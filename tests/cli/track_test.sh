@@ -7,7 +7,6 @@
 # different run is refused.
 set -u
 source "$(dirname "$0")/lib.sh"
-python=/usr/bin/python3
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
 checkpoints=("$source_dir"/data/track/epoch*.json)
 [ ${#checkpoints[@]} -ge 4 ] || fail "expected the shipped checkpoints in data/track"

@@ -10,7 +10,6 @@
 # both walks verify, and a walk whose id 0 is another region is still refused.
 set -u
 source "$(dirname "$0")/lib.sh"
-python=/usr/bin/python3
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
 
 cat > "$work/plane.json" <<'JSON'

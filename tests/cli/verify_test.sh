@@ -3,11 +3,7 @@
 # tampered ones: a moved point, a dropped region, a wrong neighbour, a changed
 # multiplier, a changed affine map.
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
+source "$(dirname "$0")/lib.sh"
 
 fold=$source_dir/data/fold2d.json
 "$pleat" walk "$fold" --box -1,1 -q -o "$work/box.jsonl" --certificates > /dev/null || fail "walk failed"

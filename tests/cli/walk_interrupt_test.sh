@@ -8,7 +8,6 @@
 # `timeout -s INT` signals it twice (see walk_interrupt_timeout_test.sh).
 set -u
 source "$(dirname "$0")/lib.sh"
-python=/usr/bin/python3
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipping"; exit 77; }
 
 # Tens of thousands of regions, several seconds of work: far from done after 1 s

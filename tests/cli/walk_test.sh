@@ -3,16 +3,10 @@
 # and bad boxes; 1-D and 3-D walks; region files agree with the summary.
 # (Threads: walk_threads_test.sh; interruption: walk_interrupt_test.sh.)
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
-python=/usr/bin/python3
+source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipping"; exit 77; }
 
-# json_get FILE KEY: one key of a JSON document, printed as JSON.
-json_get() { "$python" -c 'import json,sys; print(json.dumps(json.load(open(sys.argv[1]))[sys.argv[2]]))' "$1" "$2"; }
+# json_key FILE KEY: one key of a JSON document, printed as JSON.
 # check_region_file FILE REGIONS: header + REGIONS lines, each a JSON object, ids 0.., patterns distinct.
 check_region_file() {
   "$python" - "$1" "$2" <<'PY' || fail "region file $1 is malformed"
@@ -34,10 +28,10 @@ fold=$source_dir/data/fold2d.json
   fail "--max-regions 10 exited $?"
 [ "$(wc -l < "$work/max.jsonl")" -eq 11 ] || fail "--max-regions 10 wrote $(wc -l < "$work/max.jsonl") lines, expected 11"
 check_region_file "$work/max.jsonl" 10
-[ "$(json_get "$work/max.json" regions)" = 10 ] || fail "--max-regions 10: regions is not 10"
-[ "$(json_get "$work/max.json" complete)" = false ] || fail "--max-regions 10: complete is not false"
-[ "$(json_get "$work/max.json" certified)" = false ] || fail "--max-regions 10: certified is not false"
-[ "$(json_get "$work/max.json" stop_reason)" = '"max-regions"' ] || fail "--max-regions 10: stop_reason is not max-regions"
+[ "$(json_key "$work/max.json" regions)" = 10 ] || fail "--max-regions 10: regions is not 10"
+[ "$(json_key "$work/max.json" complete)" = false ] || fail "--max-regions 10: complete is not false"
+[ "$(json_key "$work/max.json" certified)" = false ] || fail "--max-regions 10: certified is not false"
+[ "$(json_key "$work/max.json" stop_reason)" = '"max-regions"' ] || fail "--max-regions 10: stop_reason is not max-regions"
 out=$("$pleat" walk "$fold" --max-regions 10 --quiet) || fail "--max-regions 10 (summary) exited $?"
 case "$out" in *"regions     >= 10"*) ;; *) fail "--max-regions summary does not say '>= 10':"$'\n'"$out" ;; esac
 case "$out" in *"status      certified"*) fail "--max-regions summary claims certified" ;; esac
@@ -50,9 +44,9 @@ diff <(strip_timing "$work/box_a.json") <(strip_timing "$work/box_b.json") > /de
   fail "--box -2,2 and --box=-2,2 differ"
 diff <(strip_timing "$work/box_a.json") <(strip_timing "$work/box_c.json") > /dev/null ||
   fail "--box -2,2 and the per-axis --box=-2,2,-2,2 differ"
-[ "$(json_get "$work/box_a.json" domain)" = '{"box": [["-2", "2"], ["-2", "2"]]}' ] ||
-  fail "--box -2,2: domain is $(json_get "$work/box_a.json" domain)"
-box_regions=$(json_get "$work/box_a.json" regions)
+[ "$(json_key "$work/box_a.json" domain)" = '{"box": [["-2", "2"], ["-2", "2"]]}' ] ||
+  fail "--box -2,2: domain is $(json_key "$work/box_a.json" domain)"
+box_regions=$(json_key "$work/box_a.json" regions)
 fold_regions=$("$pleat" walk "$fold" --json --quiet | "$python" -c 'import json,sys; print(json.load(sys.stdin)["regions"])')
 [ "$box_regions" -lt "$fold_regions" ] || fail "a box walk found $box_regions regions, R^2 only $fold_regions"
 
@@ -68,19 +62,19 @@ done
 # split the line into 6 regions; on (0,1) only the bends 3/8 and 2/3 lie inside: 3.
 ramp=$source_dir/data/ramp1d.json
 "$pleat" walk "$ramp" --json --quiet -o "$work/ramp.jsonl" > "$work/ramp.json" || fail "1-D walk exited $?"
-[ "$(json_get "$work/ramp.json" regions)" = 6 ] || fail "ramp1d: $(json_get "$work/ramp.json" regions) regions, expected 6"
-[ "$(json_get "$work/ramp.json" bounded_regions)" = 4 ] || fail "ramp1d: bounded regions not 4 (4 intervals, 2 rays)"
-[ "$(json_get "$work/ramp.json" certified)" = true ] || fail "ramp1d: not certified"
+[ "$(json_key "$work/ramp.json" regions)" = 6 ] || fail "ramp1d: $(json_key "$work/ramp.json" regions) regions, expected 6"
+[ "$(json_key "$work/ramp.json" bounded_regions)" = 4 ] || fail "ramp1d: bounded regions not 4 (4 intervals, 2 rays)"
+[ "$(json_key "$work/ramp.json" certified)" = true ] || fail "ramp1d: not certified"
 check_region_file "$work/ramp.jsonl" 6
 "$pleat" walk "$ramp" --box 0,1 --json --quiet > "$work/ramp_box.json" || fail "1-D box walk exited $?"
-[ "$(json_get "$work/ramp_box.json" regions)" = 3 ] || fail "ramp1d on (0,1): expected 3 regions"
+[ "$(json_key "$work/ramp_box.json" regions)" = 3 ] || fail "ramp1d on (0,1): expected 3 regions"
 
 # --- 3-D: sensor3d walks, certified, and the region file matches the summary.
 sensor=$source_dir/data/sensor3d.json
 "$pleat" walk "$sensor" --json --quiet --certificates -o "$work/sensor.jsonl" > "$work/sensor.json" ||
   fail "3-D walk exited $?"
-[ "$(json_get "$work/sensor.json" certified)" = true ] || fail "sensor3d: not certified"
-check_region_file "$work/sensor.jsonl" "$(json_get "$work/sensor.json" regions)"
+[ "$(json_key "$work/sensor.json" certified)" = true ] || fail "sensor3d: not certified"
+check_region_file "$work/sensor.jsonl" "$(json_key "$work/sensor.json" regions)"
 "$pleat" walk "$sensor" --box=-1,1 --quiet > "$work/sensor_box.txt" || fail "3-D box walk exited $?"
 grep -q "box:(-1,1)x(-1,1)x(-1,1)" "$work/sensor_box.txt" || fail "3-D box summary: $(cat "$work/sensor_box.txt")"
 echo "walk end to end: ok"

@@ -3,16 +3,10 @@
 # timing keys) for 1 and 2 threads on a network with thousands of regions,
 # and identical --certificates files on a medium one (spec: outputs.md).
 set -u
-pleat=$1
-source_dir=$2
-work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
-fail() { echo "FAIL: $*" >&2; exit 1; }
-python=/usr/bin/python3
+source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipping"; exit 77; }
 
-# json_get FILE KEY: one key of a JSON document, printed as JSON.
-json_get() { "$python" -c 'import json,sys; print(json.dumps(json.load(open(sys.argv[1]))[sys.argv[2]]))' "$1" "$2"; }
+# json_key FILE KEY: one key of a JSON document, printed as JSON.
 # check_region_file FILE REGIONS: header + REGIONS lines, each a JSON object, ids 0.., patterns distinct.
 check_region_file() {
   "$python" - "$1" "$2" <<'PY' || fail "region file $1 is malformed"
@@ -37,9 +31,9 @@ for threads in 1 2; do
   "$pleat" walk "$big" --threads $threads --quiet --json -o "$work/t$threads.jsonl" > "$work/t$threads.json" ||
     fail "walk --threads $threads exited $?"
 done
-regions=$(json_get "$work/t1.json" regions)
+regions=$(json_key "$work/t1.json" regions)
 [ "$regions" -ge 2000 ] || fail "expected >= 2000 regions for the thread test, got $regions"
-[ "$(json_get "$work/t1.json" certified)" = true ] || fail "the big walk is not certified"
+[ "$(json_key "$work/t1.json" certified)" = true ] || fail "the big walk is not certified"
 cmp -s "$work/t1.jsonl" "$work/t2.jsonl" || fail "region files differ between --threads 1 and --threads 2"
 diff <(strip_timing "$work/t1.json") <(strip_timing "$work/t2.json") > /dev/null ||
   fail "--json differs between --threads 1 and --threads 2 (beyond timing keys)"

@@ -1,5 +1,6 @@
 // Exact and double evaluation, and the affine maps of a pattern.
 #include "core/evaluate.hpp"
+#include "tests/support/network_builders.hpp"
 
 #include <gtest/gtest.h>
 
@@ -11,30 +12,15 @@
 namespace pleat {
 namespace {
 
-Layer make_layer(const std::vector<std::vector<std::string>>& weights,
-                 const std::vector<std::string>& bias, Activation activation) {
-  Layer layer;
-  layer.weights = RationalMatrix(weights.size(), weights.empty() ? 0 : weights[0].size());
-  for (std::size_t r = 0; r < weights.size(); ++r)
-    for (std::size_t c = 0; c < weights[r].size(); ++c) {
-      layer.weights(r, c) = Rational(weights[r][c]);
-      layer.weights(r, c).canonicalize();
-    }
-  for (const std::string& value : bias) {
-    layer.bias.emplace_back(value);
-    layer.bias.back().canonicalize();
-  }
-  layer.activation = activation;
-  return layer;
-}
+using test::layer_from_text;
 
 // 2 -> 3 -> 1: hidden neurons x1, x2, x1 + x2 - 1; output h0 - h1 + 2 h2 + 1/2.
 Network small_network() {
   Network network;
   network.input_dim = 2;
   network.layers.push_back(
-      make_layer({{"1", "0"}, {"0", "1"}, {"1", "1"}}, {"0", "0", "-1"}, Activation::relu));
-  network.layers.push_back(make_layer({{"1", "-1", "2"}}, {"1/2"}, Activation::linear));
+      layer_from_text({{"1", "0"}, {"0", "1"}, {"1", "1"}}, {"0", "0", "-1"}, Activation::relu));
+  network.layers.push_back(layer_from_text({{"1", "-1", "2"}}, {"1/2"}, Activation::linear));
   return network;
 }
 

@@ -1,5 +1,6 @@
 // Neuron numbering, parameter order and invariants of the network model.
 #include "core/network.hpp"
+#include "tests/support/network_builders.hpp"
 
 #include <gtest/gtest.h>
 
@@ -9,20 +10,14 @@
 namespace pleat {
 namespace {
 
-Layer make_layer(std::size_t width, std::size_t fan_in, Activation activation) {
-  Layer layer;
-  layer.weights = RationalMatrix(width, fan_in);
-  layer.bias = RationalVector(width, Rational(0));
-  layer.activation = activation;
-  return layer;
-}
+using test::zero_layer;
 
 // Widths 2 -> 3 -> 1, linear output.
 Network small_network() {
   Network network;
   network.input_dim = 2;
-  network.layers.push_back(make_layer(3, 2, Activation::relu));
-  network.layers.push_back(make_layer(1, 3, Activation::linear));
+  network.layers.push_back(zero_layer(3, 2, Activation::relu));
+  network.layers.push_back(zero_layer(1, 3, Activation::linear));
   return network;
 }
 
@@ -71,8 +66,8 @@ TEST(Network, ParameterNamesInOrder) {
 TEST(Network, ParameterNameWideLayer) {
   Network network;
   network.input_dim = 5;
-  network.layers.push_back(make_layer(4, 5, Activation::relu));
-  network.layers.push_back(make_layer(2, 4, Activation::linear));
+  network.layers.push_back(zero_layer(4, 5, Activation::relu));
+  network.layers.push_back(zero_layer(2, 4, Activation::linear));
   // W2 starts at (5+1)*4 = 24; W2[0,3] is 24 + 3, W2[1,3] is 24 + 4 + 3.
   EXPECT_EQ(network.parameter_name(27), "W2[0,3]");
   EXPECT_EQ(network.parameter_name(31), "W2[1,3]");
@@ -112,7 +107,7 @@ TEST(Network, ValidateNamesTheBrokenInvariant) {
   expect_invalid(network, "layers[0].activation:");
 
   network = small_network();
-  network.layers[0] = make_layer(0, 2, Activation::relu);
+  network.layers[0] = zero_layer(0, 2, Activation::relu);
   expect_invalid(network, "layers[0].weights: layer has no neurons");
 }
 

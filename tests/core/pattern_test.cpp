@@ -1,5 +1,6 @@
 // Activation pattern notation: format/parse round trip and faults by position.
 #include "core/pattern.hpp"
+#include "tests/support/network_builders.hpp"
 
 #include <gtest/gtest.h>
 
@@ -10,21 +11,15 @@
 namespace pleat {
 namespace {
 
-Layer make_layer(std::size_t width, std::size_t fan_in, Activation activation) {
-  Layer layer;
-  layer.weights = RationalMatrix(width, fan_in);
-  layer.bias = RationalVector(width, Rational(0));
-  layer.activation = activation;
-  return layer;
-}
+using test::zero_layer;
 
 // Widths 2 -> 3 -> 2 -> 1: ReLU groups of 3 and 2.
 Network network_32(Activation output = Activation::linear) {
   Network network;
   network.input_dim = 2;
-  network.layers.push_back(make_layer(3, 2, Activation::relu));
-  network.layers.push_back(make_layer(2, 3, Activation::relu));
-  network.layers.push_back(make_layer(1, 2, output));
+  network.layers.push_back(zero_layer(3, 2, Activation::relu));
+  network.layers.push_back(zero_layer(2, 3, Activation::relu));
+  network.layers.push_back(zero_layer(1, 2, output));
   return network;
 }
 
@@ -97,7 +92,7 @@ TEST(Pattern, FaultsNamePositionAndGroupSizes) {
 TEST(Pattern, NoReluNeuronsMeansEmptyPattern) {
   Network network;
   network.input_dim = 2;
-  network.layers.push_back(make_layer(1, 2, Activation::linear));
+  network.layers.push_back(zero_layer(1, 2, Activation::linear));
   EXPECT_EQ(format_pattern(network, ActivationPattern{}), "");
   EXPECT_EQ(parse_pattern(network, ""), ActivationPattern{});
   EXPECT_THROW(parse_pattern(network, "1"), input_error);

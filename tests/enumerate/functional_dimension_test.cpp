@@ -8,6 +8,7 @@
 #include "core/network_io.hpp"
 #include "core/random_network.hpp"
 #include "core/rank.hpp"
+#include "tests/support/network_builders.hpp"
 
 #include <gtest/gtest.h>
 
@@ -23,14 +24,7 @@
 namespace pleat {
 namespace {
 
-Layer make_layer(const std::vector<RationalVector>& rows, RationalVector bias, Activation activation) {
-  Layer layer;
-  layer.weights = RationalMatrix(rows.size(), rows.front().size());
-  for (std::size_t r = 0; r < rows.size(); ++r) layer.weights.set_row(r, rows[r]);
-  layer.bias = std::move(bias);
-  layer.activation = activation;
-  return layer;
-}
+using test::make_layer;
 
 // F(x) = sum_i v_i relu(w_i x + b_i) + c, optionally followed by a ReLU.
 Network shallow_one_input(const RationalVector& w, const RationalVector& b, const RationalVector& v,

@@ -8,6 +8,7 @@
 
 #include "core/jacobian.hpp"
 #include "core/network_io.hpp"
+#include "core/random_network.hpp"
 #include "core/rank.hpp"
 #include "enumerate/domain.hpp"
 #include "enumerate/functional_dimension.hpp"
@@ -60,8 +61,10 @@ WalkState walk_state(const Network& network) {
   };
   EXPECT_TRUE(walk_regions(network, make_whole_space(network.input_dim), options).complete);
   state.rank = basis.rank();
-  state.first_image =
-      detail::extra_directions_of_rows(basis.rows(), scaling_structure(network).pivot_columns, state.modular.prime);
+  const std::vector<std::size_t>& pivots = scaling_structure(network).pivot_columns;
+  state.first_image = detail::extra_directions_of_rows(basis.rows(), pivots, state.modular.prime);
+  // Read off the basis directly: the same image (what certify uses).
+  EXPECT_EQ(detail::extra_directions_of_basis(basis, pivots), state.first_image);
   return state;
 }
 
@@ -104,6 +107,30 @@ TEST(KernelLift, ExactSolveAndMultiModularLiftGiveTheExactKernelsExtraDirections
   }
 }
 
+// Rows lifted alone (each from its own support's square system) and all
+// rows lifted together (one system on the union of their supports) give the
+// same rows, those of the exact kernel, on the scaled example and on a
+// random network; with 1 thread and with 2.
+TEST(KernelLift, RowsAloneAndTogetherGiveTheExactRows) {
+  for (const Network& network : {scaled_degenerate(), random_network({2, 6, 5, 1}, 21)}) {
+    const WalkState state = walk_state(network);
+    const RationalMatrix expected = exact_extra_directions(network, state.smooth);
+    ASSERT_GT(expected.rows(), 0u);
+    std::vector<std::size_t> rows(expected.rows());
+    for (std::size_t j = 0; j < rows.size(); ++j) rows[j] = j;
+    const std::vector<std::size_t> leads = detail::echelon_shape(state.first_image);
+    for (std::size_t sparse_limit : {std::size_t{0}, state.rank}) {
+      for (unsigned threads : {1u, 2u}) {
+        const auto lifted = detail::lift_rows_multimodular(network, state.modular, state.kept, state.rank,
+                                                           state.first_image, rows, leads, sparse_limit, threads);
+        ASSERT_TRUE(lifted.has_value());
+        ASSERT_EQ(lifted->size(), expected.rows());
+        for (std::size_t j = 0; j < rows.size(); ++j) EXPECT_EQ((*lifted)[j], expected.row(j)) << j;
+      }
+    }
+  }
+}
+
 // A wrong image (one residue changed) leads the row-by-row lift to a wrong
 // candidate; the check rejects it and the exact solve gives the true one.
 TEST(KernelLift, WrongImageFallsBackToTheExactSolve) {
@@ -130,6 +157,45 @@ TEST(KernelLift, WrongImageFallsBackToTheExactSolve) {
   ASSERT_TRUE(lifted.has_value());
   EXPECT_EQ(*lifted, expected);
   EXPECT_EQ(furthest, 2u);
+}
+
+// The check (products from layer inputs and backward signals modulo primes,
+// enumerate/detail/kernel_check.cpp) names the same first region as exact
+// products with coefficient_blocks, for each exact extra direction and for
+// each one changed in one entry, on random networks, one with two outputs,
+// and networks with a ReLU on the output.
+TEST(KernelCheck, FirstRejectedRegionEqualsTheExactProductsOne) {
+  std::vector<Network> networks = {random_network({2, 4, 3, 1}, 11), random_network({2, 3, 3, 2}, 14),
+                                   random_network({3, 4, 3, 1}, 15)};
+  networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/tests/data/output_relu2d.json"));
+  networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/tests/data/fd_relu_output_hidden_middle.json"));
+  networks.push_back(scaled_degenerate());
+  std::size_t compared = 0;
+  for (const Network& network : networks) {
+    const WalkState state = walk_state(network);
+    const RationalMatrix extra = exact_extra_directions(network, state.smooth);
+    std::vector<RationalMatrix> blocks;
+    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    auto exact_first = [&](const RationalVector& vector) -> std::optional<std::size_t> {
+      for (std::size_t p = 0; p < blocks.size(); ++p)
+        for (std::size_t r = 0; r < blocks[p].rows(); ++r) {
+          Rational sum = 0;
+          for (std::size_t c = 0; c < vector.size(); ++c) sum += blocks[p](r, c) * vector[c];
+          if (sum != 0) return p;
+        }
+      return std::nullopt;
+    };
+    for (std::size_t j = 0; j < extra.rows(); ++j)
+      for (std::size_t c = 0; c < extra.cols(); c += 3) {
+        RationalVector vector = extra.row(j);
+        if (c > 0) vector[c] += Rational(1, 3);
+        RationalMatrix one(0, extra.cols());
+        one.append_row(RationalVector(vector));
+        EXPECT_EQ(first_region_not_annihilated(network, one, state.smooth), exact_first(vector));
+        ++compared;
+      }
+  }
+  EXPECT_GT(compared, 20u);
 }
 
 }  // namespace

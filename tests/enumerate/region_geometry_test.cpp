@@ -6,6 +6,7 @@
 
 #include "core/network_io.hpp"
 #include "enumerate/walker.hpp"
+#include "tests/support/network_builders.hpp"
 
 #include <gtest/gtest.h>
 
@@ -15,20 +16,9 @@
 namespace pleat {
 namespace {
 
-RationalVector v(std::initializer_list<long> values) {
-  RationalVector out;
-  for (long x : values) out.push_back(Rational(x));
-  return out;
-}
+using test::make_layer;
 
-Layer make_layer(std::vector<RationalVector> rows, RationalVector bias, Activation activation) {
-  Layer layer;
-  layer.weights = RationalMatrix(rows.size(), rows.front().size());
-  for (std::size_t r = 0; r < rows.size(); ++r) layer.weights.set_row(r, rows[r]);
-  layer.bias = std::move(bias);
-  layer.activation = activation;
-  return layer;
-}
+constexpr auto v = test::integers;
 
 // Neurons x1 and x2 (the coordinate axes), output x1 + 2 x2 after the ReLUs.
 Network axes_network() {

@@ -21,30 +21,7 @@ std::vector<SavedRegion> saved_walk(const Network& network, const Domain& domain
   options.threads = 1;
   options.keep_certificates = true;
   options.on_region = [&](const Region& region) {
-    SavedRegion s;
-    s.line = region.id + 2;
-    s.id = region.id;
-    s.pattern = region.pattern;
-    s.point = region.point;
-    s.bounded = region.bounded;
-    s.touches_domain_boundary = region.touches_domain_boundary;
-    for (const auto& f : region.facets)
-      s.facets.push_back(SavedFacet{f.normal, f.offset, f.domain_side, f.neurons, f.neighbor, f.other_neighbors,
-                                    f.point});
-    s.affine_linear = region.affine.linear;
-    s.affine_offset = region.affine.offset;
-    s.nonsmooth_neurons = region.nonsmooth_neurons;
-    const RegionCertificates& c = *region.certificates;
-    s.has_certificate = true;
-    s.certificate_point = region.point;
-    for (std::size_t i = 0; i < c.cell.constraints.size(); ++i)
-      s.certificate_constraints.push_back(SavedConstraint{
-          c.cell.constraints[i], c.constraint_neuron[i] == std::numeric_limits<std::size_t>::max()
-                                     ? std::nullopt
-                                     : std::optional<std::size_t>(c.constraint_neuron[i])});
-    s.classification = c.classification;
-    s.boundedness = c.boundedness;
-    saved.push_back(std::move(s));
+    saved.push_back(SavedRegion{region.id + 2, region, region.point});
     return true;
   };
   walk_regions(network, domain, options);
@@ -78,15 +55,15 @@ TEST_F(WalkCheckTest, RegionRemovedAndFacetsPointedAtThemselvesIsRefused) {
   for (std::size_t removed : {std::size_t{0}, std::size_t{25}, regions.size() - 1}) {
     SCOPED_TRACE("removed " + std::to_string(removed));
     std::vector<SavedRegion> edited = regions;
-    const ActivationPattern gone = edited[removed].pattern;
+    const ActivationPattern gone = edited[removed].region.pattern;
     edited.erase(edited.begin() + static_cast<std::ptrdiff_t>(removed));
     std::optional<std::size_t> first_line;
     for (std::size_t i = 0; i < edited.size(); ++i) {
-      edited[i].id = i;
+      edited[i].region.id = i;
       edited[i].line = i + 2;
-      for (auto& facet : edited[i].facets)
+      for (auto& facet : edited[i].region.facets)
         if (facet.neighbor == gone) {
-          facet.neighbor = edited[i].pattern;
+          facet.neighbor = edited[i].region.pattern;
           if (!first_line) first_line = edited[i].line;
         }
     }
@@ -97,13 +74,13 @@ TEST_F(WalkCheckTest, RegionRemovedAndFacetsPointedAtThemselvesIsRefused) {
 
 TEST_F(WalkCheckTest, NeighbourNotAcrossItsFacetIsRefused) {
   std::vector<SavedRegion> edited = regions;
-  SavedFacet* facet = nullptr;
-  for (auto& f : edited[3].facets)
+  RegionFacet* facet = nullptr;
+  for (auto& f : edited[3].region.facets)
     if (f.neighbor) facet = &f;
   ASSERT_NE(facet, nullptr);
   for (const auto& other : regions)
-    if (other.pattern != *facet->neighbor && other.pattern != edited[3].pattern) {
-      facet->neighbor = other.pattern;
+    if (other.region.pattern != *facet->neighbor && other.region.pattern != edited[3].region.pattern) {
+      facet->neighbor = other.region.pattern;
       break;
     }
   expect_refused(edited, 5, "does not lie across");
@@ -111,19 +88,19 @@ TEST_F(WalkCheckTest, NeighbourNotAcrossItsFacetIsRefused) {
 
 TEST_F(WalkCheckTest, SwappedIdsAreRefused) {
   std::vector<SavedRegion> edited = regions;
-  std::swap(edited[1].id, edited[2].id);
+  std::swap(edited[1].region.id, edited[2].region.id);
   expect_refused(edited, 3, "out of place");
 }
 
 TEST_F(WalkCheckTest, FlippedBoundaryFlagAndSideAreRefused) {
   std::size_t k = 0;
-  while (!regions[k].touches_domain_boundary) ++k;
+  while (!regions[k].region.touches_domain_boundary) ++k;
   std::vector<SavedRegion> flipped = regions;
-  flipped[k].touches_domain_boundary = false;
+  flipped[k].region.touches_domain_boundary = false;
   expect_refused(flipped, k + 2, "touches_domain_boundary");
 
   std::vector<SavedRegion> moved = regions;
-  for (auto& facet : moved[k].facets)
+  for (auto& facet : moved[k].region.facets)
     if (facet.domain_side) facet.domain_side = (*facet.domain_side + 1) % 4;
   expect_refused(moved, k + 2, "\"side\"");
 }
@@ -134,11 +111,11 @@ TEST_F(WalkCheckTest, ChangedCertificateCopiesAreRefused) {
   expect_refused(point, 6, "interior_point");
 
   std::vector<SavedRegion> constraint = regions;
-  constraint[4].certificate_constraints[0].constraint.offset += 1;
+  constraint[4].region.certificates->cell.constraints[0].offset += 1;
   expect_refused(constraint, 6, "certificate constraint 0");
 
   std::vector<SavedRegion> neurons = regions;
-  for (auto& facet : neurons[4].facets)
+  for (auto& facet : neurons[4].region.facets)
     if (!facet.neurons.empty()) facet.neurons[0] += 1;
   expect_refused(neurons, 6, "names neurons");
 }

@@ -95,7 +95,11 @@ TEST(WalkerParts, EveryIntegerTierGivesCoresMaps) {
   const auto deeper_layers = detail::integer_layers(deeper);
   EXPECT_TRUE(detail::wide_layers(shallow_layers).has_value());   // 128 bits
   EXPECT_FALSE(detail::wide_layers(deep_layers).has_value());     // 256 bits
-  EXPECT_TRUE(detail::layers_256(deep_layers).has_value());
+  const auto deep_256 = detail::layers_256(deep_layers);
+  ASSERT_TRUE(deep_256.has_value());
+  // Its leading layers in 128 bits, the others in 256 (both halves walked below).
+  EXPECT_GT(deep_256->low.map_denominator.size(), 0u);
+  EXPECT_LT(deep_256->low.map_denominator.size(), deep_layers.size());
   EXPECT_FALSE(detail::layers_256(deeper_layers).has_value());    // GMP
   for (const Network* network : {&shallow, &deep, &deeper}) expect_cells_equal_core(*network);
 }

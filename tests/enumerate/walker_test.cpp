@@ -2,6 +2,7 @@
 #include "enumerate/walker.hpp"
 
 #include "core/errors.hpp"
+#include "tests/support/network_builders.hpp"
 
 #include <gtest/gtest.h>
 
@@ -10,14 +11,7 @@
 namespace pleat {
 namespace {
 
-Layer make_layer(std::vector<RationalVector> rows, RationalVector bias, Activation activation) {
-  Layer layer;
-  layer.weights = RationalMatrix(rows.size(), rows.front().size());
-  for (std::size_t r = 0; r < rows.size(); ++r) layer.weights.set_row(r, rows[r]);
-  layer.bias = std::move(bias);
-  layer.activation = activation;
-  return layer;
-}
+using test::make_layer;
 
 // One hidden layer whose hyperplanes are (t, t^2, ..., t^n) . x + 1 = 0 for
 // t = 1..m: points on the moment curve, so any n+1 of the augmented normals
