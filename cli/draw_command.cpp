@@ -81,43 +81,10 @@ std::vector<std::string> outside_note(const Scene& scene, std::size_t drawn) {
   return {count_of(*scene.total_regions - drawn, "region") + " outside the view"};
 }
 
-// --size W,H: each a positive number with a unit, cm or px (96 px to the
-// inch); "12,8cm" gives both the last one's unit.
-struct FigureSize {
-  double width_cm = 0, height_cm = 0;
-};
-
-FigureSize parse_size(const std::string& text) {
-  const std::string usage = "--size: expected W,H with a unit, cm or px (12cm,8cm or 600,400px), found '" + text + "'";
-  const std::size_t comma = text.find(',');
-  if (comma == std::string::npos || text.find(',', comma + 1) != std::string::npos) throw input_error(usage);
-  std::string parts[2] = {text.substr(0, comma), text.substr(comma + 1)};
-  auto unit_of = [](const std::string& part) {
-    for (const char* unit : {"cm", "px"})
-      if (part.size() > 2 && part.compare(part.size() - 2, 2, unit) == 0) return std::string(unit);
-    return std::string();
-  };
-  const std::string last_unit = unit_of(parts[1]);
-  if (last_unit.empty()) throw input_error(usage);
-  double cm[2];
-  for (int k = 0; k < 2; ++k) {
-    std::string unit = unit_of(parts[k]);
-    std::string digits = unit.empty() ? parts[k] : parts[k].substr(0, parts[k].size() - 2);
-    if (unit.empty()) unit = last_unit;
-    char* end = nullptr;
-    const double value = std::strtod(digits.c_str(), &end);
-    if (digits.empty() || end != digits.c_str() + digits.size() || !std::isfinite(value)) throw input_error(usage);
-    cm[k] = unit == "cm" ? value : value * 2.54 / 96;
-    if (!(cm[k] >= 3 && cm[k] <= 200))
-      throw input_error("--size: each side must be between 3 cm and 200 cm (114 px and 7559 px), found '" + parts[k] + "'");
-  }
-  return FigureSize{cm[0], cm[1]};
-}
-
 // The figure's size in the writer's unit: px for SVG, cm for TikZ.
 void apply_size(Figure& figure, const DrawArguments& arguments, Format format) {
   if (arguments.size_text.empty()) return;
-  const FigureSize size = parse_size(arguments.size_text);
+  const FigureSize size = parse_figure_size(arguments.size_text);
   const double scale = format == Format::svg ? 96 / 2.54 : 1.0;
   figure.width = size.width_cm * scale;
   figure.height = size.height_cm * scale;
@@ -492,7 +459,7 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
 
   if (!arguments.size_text.empty()) {
     if (format != Format::svg && format != Format::tikz) throw input_error("--size is for figures: --out FIG.svg or FIG.tex");
-    parse_size(arguments.size_text);  // a bad --size fails before the walk
+    (void)parse_figure_size(arguments.size_text);  // a bad --size fails before the walk
   }
   std::optional<View> view;
   if (!arguments.view_text.empty()) {

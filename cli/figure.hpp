@@ -67,6 +67,16 @@ std::string figure_svg(const Figure& figure);
 // cannot see.
 std::size_t thin_regions_svg(const Figure& figure, double min_width_px);
 
+// --size W,H: each a positive number with a unit, cm or px (96 px to the
+// inch); "12,8cm" gives both the last one's unit.
+struct FigureSize {
+  double width_cm = 0, height_cm = 0;
+};
+// Throws input_error naming --size for anything else, or a side outside
+// 3-200 cm.
+[[nodiscard]] FigureSize parse_figure_size(const std::string& text);
+
+
 // A tikzpicture for \input in a LaTeX document that loads tikz (no other
 // package or TikZ library needed).
 std::string figure_tikz(const Figure& figure);

@@ -1,5 +1,7 @@
-// Palettes and ticks shared by the figure writers.
+// Palettes, ticks and the --size option shared by the figure writers.
 #include "cli/figure.hpp"
+
+#include "core/errors.hpp"
 
 #include <algorithm>
 #include <array>
@@ -156,6 +158,33 @@ std::string fixed_point_text(double value, int decimals) {
     if (out.back() == '.') out.pop_back();
   }
   return out == "-0" ? "0" : out;
+}
+
+FigureSize parse_figure_size(const std::string& text) {
+  const std::string usage = "--size: expected W,H with a unit, cm or px (12cm,8cm or 600,400px), found '" + text + "'";
+  const std::size_t comma = text.find(',');
+  if (comma == std::string::npos || text.find(',', comma + 1) != std::string::npos) throw input_error(usage);
+  std::string parts[2] = {text.substr(0, comma), text.substr(comma + 1)};
+  auto unit_of = [](const std::string& part) {
+    for (const char* unit : {"cm", "px"})
+      if (part.size() > 2 && part.compare(part.size() - 2, 2, unit) == 0) return std::string(unit);
+    return std::string();
+  };
+  const std::string last_unit = unit_of(parts[1]);
+  if (last_unit.empty()) throw input_error(usage);
+  double cm[2];
+  for (int k = 0; k < 2; ++k) {
+    std::string unit = unit_of(parts[k]);
+    std::string digits = unit.empty() ? parts[k] : parts[k].substr(0, parts[k].size() - 2);
+    if (unit.empty()) unit = last_unit;
+    char* end = nullptr;
+    const double value = std::strtod(digits.c_str(), &end);
+    if (digits.empty() || end != digits.c_str() + digits.size() || !std::isfinite(value)) throw input_error(usage);
+    cm[k] = unit == "cm" ? value : value * 2.54 / 96;
+    if (!(cm[k] >= 3 && cm[k] <= 200))
+      throw input_error("--size: each side must be between 3 cm and 200 cm (114 px and 7559 px), found '" + parts[k] + "'");
+  }
+  return FigureSize{cm[0], cm[1]};
 }
 
 }  // namespace pleat::cli

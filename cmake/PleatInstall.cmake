@@ -72,7 +72,9 @@ print(os.path.relpath(local[0], "/usr/local") if local else
   set(PLEAT_PYTHON_INSTALL_DIR "${PLEAT_PYTHON_DETECTED_DIR}"
       CACHE STRING "Where `make install` puts the pleat Python package (relative to the prefix, or absolute)")
   install(TARGETS pleat_python LIBRARY DESTINATION ${PLEAT_PYTHON_INSTALL_DIR}/pleat)
-  install(FILES ${PROJECT_SOURCE_DIR}/python/pleat/__init__.py ${PROJECT_SOURCE_DIR}/python/pleat/_core.pyi
+  install(FILES ${PROJECT_SOURCE_DIR}/python/pleat/__init__.py ${PROJECT_SOURCE_DIR}/python/pleat/_exact.py
+                ${PROJECT_SOURCE_DIR}/python/pleat/_network.py ${PROJECT_SOURCE_DIR}/python/pleat/_results.py
+                ${PROJECT_SOURCE_DIR}/python/pleat/_survey.py ${PROJECT_SOURCE_DIR}/python/pleat/_core.pyi
                 ${PROJECT_SOURCE_DIR}/python/pleat/py.typed
           DESTINATION ${PLEAT_PYTHON_INSTALL_DIR}/pleat)
 endif()

@@ -354,4 +354,121 @@ std::optional<PatternCell> cell_from_maps(const Network& network, const Domain& 
   return result;
 }
 
+PatternLayerMaps::PatternLayerMaps(const Network& network, const std::vector<IntegerLayer>& layers)
+    : network_(network), layers_(layers), wide_(wide_layers(layers)) {
+  const std::size_t n = network.input_dim;
+  if (!wide_) wide256_ = layers_256(layers);
+  wide_identity_.assign(n * (n + 1), 0);
+  wide256_identity_.assign(n * (n + 1), Int256{});
+  identity_ = IntegerMap{n, n, std::vector<Integer>(n * n, Integer(0)), std::vector<Integer>(n, Integer(0)), Integer(1)};
+  for (std::size_t k = 0; k < n; ++k) {
+    wide_identity_[k * (n + 1) + k] = 1;  // row k: e_k | 0
+    wide256_identity_[k * (n + 1) + k].limbs[0] = 1;
+    identity_.linear[k * n + k] = 1;
+  }
+}
+
+// Every layer's pre-activation map for the pattern, into pre_ (all layers).
+// Layer k's map depends only on the states of layers below k, so the maps
+// of the previous pattern this processor saw are kept up to the first layer
+// whose states differ (the walk hands each thread patterns in sorted order,
+// so neighbours in that order share long prefixes).
+const std::vector<IntegerMap>& PatternLayerMaps::compute(const ActivationPattern& pattern) {
+  pre_.resize(layers_.size());
+  const std::size_t start = first_layer_to_compute(pattern);
+  maps_pattern_.states.clear();  // invalid until every layer is done (a stop may cut this short)
+  if (wide_) compute_fixed_maps(pattern, start, *wide_, wide_identity_, wide_pre_);
+  else if (wide256_) compute_mixed_maps(pattern, start);
+  else compute_gmp_maps(pattern, start);
+  maps_pattern_ = pattern;
+  return pre_;
+}
+
+// The first layer whose map differs from the one in pre_ (layers_.size() when none does).
+std::size_t PatternLayerMaps::first_layer_to_compute(const ActivationPattern& pattern) const {
+  if (maps_pattern_.states.size() != pattern.states.size()) return 0;
+  const auto mismatch = std::mismatch(pattern.states.begin(), pattern.states.end(), maps_pattern_.states.begin());
+  if (mismatch.first == pattern.states.end()) return layers_.size();
+  const auto neuron = static_cast<std::size_t>(mismatch.first - pattern.states.begin());
+  std::size_t layer = 0;
+  while (neuron >= network_.first_neuron_of_layer(layer) + layers_[layer].rows) ++layer;
+  return layer + 1;  // the maps of layers 0..layer depend only on states below them
+}
+
+// Which rows of layer k's input are on: all inputs for k = 0, else layer k-1's neurons.
+void PatternLayerMaps::set_active(const ActivationPattern& pattern, std::size_t k) {
+  if (k == 0) {
+    active_.assign(network_.input_dim, 1);
+    return;
+  }
+  const std::size_t first = network_.first_neuron_of_layer(k - 1);
+  active_.resize(layers_[k - 1].rows);
+  for (std::size_t t = 0; t < active_.size(); ++t) active_[t] = pattern.states[first + t] == NeuronState::on;
+}
+
+void PatternLayerMaps::compute_gmp_maps(const ActivationPattern& pattern, std::size_t start) {
+  for (std::size_t k = start; k < layers_.size(); ++k) {
+    poll_stop();
+    set_active(pattern, k);
+    compose_active(layers_[k], k == 0 ? identity_ : pre_[k - 1], active_, pre_[k]);
+  }
+}
+
+// compute_gmp_maps in fixed-width integers (fixed proves they fit), then
+// each entry set into pre_'s GMP integers.
+template <class T, class Layers>
+void PatternLayerMaps::compute_fixed_maps(const ActivationPattern& pattern, std::size_t start, const Layers& fixed,
+                                          const std::vector<T>& identity, std::vector<std::vector<T>>& fixed_pre) {
+  const std::size_t n = network_.input_dim;
+  fixed_pre.resize(layers_.size());
+  for (std::size_t k = start; k < layers_.size(); ++k) {
+    set_active(pattern, k);
+    compose_fixed(layers_[k], fixed, k, n, k == 0 ? identity : fixed_pre[k - 1], active_, fixed_pre[k]);
+    store_map(k, fixed_pre[k], fixed.map_denominator[k]);
+  }
+}
+
+// The 256-bit tier: the leading layers whose bound fits 128 bits in Wide
+// (several times cheaper), the others in Int256.
+void PatternLayerMaps::compute_mixed_maps(const ActivationPattern& pattern, std::size_t start) {
+  const Layers256& fixed = *wide256_;
+  const std::size_t low = fixed.low.map_denominator.size();
+  const std::size_t n = network_.input_dim;
+  wide_pre_.resize(low);
+  wide256_pre_.resize(layers_.size());
+  for (std::size_t k = start; k < layers_.size(); ++k) {
+    set_active(pattern, k);
+    if (k < low) {
+      compose_fixed(layers_[k], fixed.low, k, n, k == 0 ? wide_identity_ : wide_pre_[k - 1], active_, wide_pre_[k]);
+      store_map(k, wide_pre_[k], fixed.low.map_denominator[k]);
+      continue;
+    }
+    const std::vector<Int256>* input = k == 0 ? &wide256_identity_ : &wide256_pre_[k - 1];
+    if (k > 0 && k - 1 < low) {  // the first 256-bit layer: its input widened
+      widened_.resize(wide_pre_[k - 1].size());
+      for (std::size_t i = 0; i < widened_.size(); ++i) widened_[i] = to_int256(wide_pre_[k - 1][i]);
+      input = &widened_;
+    }
+    compose_fixed(layers_[k], fixed, k, n, *input, active_, wide256_pre_[k]);
+    store_map(k, wide256_pre_[k], fixed.map_denominator[k]);
+  }
+}
+
+// Layer k's map (rows of n linear entries, then the offset) into pre_[k]'s GMP integers.
+template <class T>
+void PatternLayerMaps::store_map(std::size_t k, const std::vector<T>& values, const Integer& denominator) {
+  const std::size_t n = network_.input_dim;
+  IntegerMap& map = pre_[k];
+  map.rows = layers_[k].rows;
+  map.cols = n;
+  map.linear.resize(map.rows * n);
+  map.offset.resize(map.rows);
+  for (std::size_t r = 0; r < map.rows; ++r) {
+    const T* row = values.data() + r * (n + 1);
+    for (std::size_t c = 0; c < n; ++c) set_integer(map.linear[r * n + c], row[c]);
+    set_integer(map.offset[r], row[n]);
+  }
+  map.denominator = denominator;
+}
+
 }  // namespace pleat::detail

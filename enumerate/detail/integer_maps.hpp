@@ -143,6 +143,45 @@ inline bool is_zero_linear(const IntegerMap& map, std::size_t r) {
   return true;
 }
 
+// A pattern's fraction-free pre-activation maps, every layer, in the
+// narrowest integers the bound allows (Wide, else Int256 with its leading
+// layers in Wide, else GMP). Layer k's map depends only on the states of the
+// layers below k, so the maps of the previous pattern are kept up to the
+// first layer whose states differ (a walk hands each thread patterns in
+// sorted order). Exact. One per thread; layers must outlive it.
+class PatternLayerMaps {
+ public:
+  PatternLayerMaps(const Network& network, const std::vector<IntegerLayer>& layers);
+  // Every layer's pre-activation map for the pattern (valid until the next call).
+  // Polls the stop request on the GMP tier (may throw Stopped).
+  const std::vector<IntegerMap>& compute(const ActivationPattern& pattern);
+
+ private:
+  std::size_t first_layer_to_compute(const ActivationPattern& pattern) const;
+  void set_active(const ActivationPattern& pattern, std::size_t k);
+  void compute_gmp_maps(const ActivationPattern& pattern, std::size_t start);
+  template <class T, class Layers>
+  void compute_fixed_maps(const ActivationPattern& pattern, std::size_t start, const Layers& fixed,
+                          const std::vector<T>& identity, std::vector<std::vector<T>>& fixed_pre);
+  void compute_mixed_maps(const ActivationPattern& pattern, std::size_t start);
+  template <class T>
+  void store_map(std::size_t k, const std::vector<T>& values, const Integer& denominator);
+
+  const Network& network_;
+  const std::vector<IntegerLayer>& layers_;
+  std::optional<FixedLayers<Wide>> wide_;  // the layers in 128 bits, when every map provably fits
+  std::optional<Layers256> wide256_;       // else in 256 bits, when those provably fit
+  IntegerMap identity_;
+  std::vector<Wide> wide_identity_;
+  std::vector<Int256> wide256_identity_;
+  std::vector<std::vector<Wide>> wide_pre_;
+  std::vector<std::vector<Int256>> wide256_pre_;
+  std::vector<Int256> widened_;            // the last 128-bit layer's map, widened
+  std::vector<char> active_;
+  ActivationPattern maps_pattern_;         // the pattern of pre_'s maps (no states: none)
+  std::vector<IntegerMap> pre_;            // per layer, the pre-activation map
+};
+
 // build_pattern_cell given the pattern's maps (however they were computed).
 std::optional<PatternCell> cell_from_maps(const Network& network, const Domain& domain,
                                           const ActivationPattern& pattern, PatternMaps maps);

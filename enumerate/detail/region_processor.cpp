@@ -65,16 +65,7 @@ class RegionProcessor::Impl {
     is_plane_path_ = n == 2 && !exact_only && is_plane_path_allowed;
     is_space_path_ = n == 3 && !exact_only && is_plane_path_allowed;
     if (!is_plane_path_ && !is_space_path_) return;
-    wide_ = wide_layers(layers_);
-    if (!wide_) wide256_ = layers_256(layers_);
-    wide_identity_.assign(n * (n + 1), 0);
-    wide256_identity_.assign(n * (n + 1), Int256{});
-    identity_ = IntegerMap{n, n, std::vector<Integer>(n * n, Integer(0)), std::vector<Integer>(n, Integer(0)), Integer(1)};
-    for (std::size_t k = 0; k < n; ++k) {
-      wide_identity_[k * (n + 1) + k] = 1;  // row k: e_k | 0
-      wide256_identity_[k * (n + 1) + k].limbs[0] = 1;
-      identity_.linear[k * n + k] = 1;
-    }
+    layer_maps_.emplace(network, layers_);
     for (const lp::Constraint& side : domain.constraints) {
       // Scaled by the denominators' lcm: the same half-space with integer coefficients.
       Integer scale = 1;
@@ -144,108 +135,6 @@ class RegionProcessor::Impl {
   // signs prove), crossings decided on the integer maps. Whatever it cannot
   // prove (nullopt) goes to process_with_oracle, which decides everything.
 
-  // Every layer's pre-activation map for the pattern, into pre_ (all layers).
-  // Layer k's map depends only on the states of layers below k, so the maps
-  // of the previous pattern this processor saw are kept up to the first layer
-  // whose states differ (the walk hands each thread patterns in sorted order,
-  // so neighbours in that order share long prefixes).
-  void compute_integer_maps(const ActivationPattern& pattern) {
-    pre_.resize(layers_.size());
-    const std::size_t start = first_layer_to_compute(pattern);
-    maps_pattern_.states.clear();  // invalid until every layer is done (a stop may cut this short)
-    if (wide_) compute_fixed_maps(pattern, start, *wide_, wide_identity_, wide_pre_);
-    else if (wide256_) compute_mixed_maps(pattern, start);
-    else compute_gmp_maps(pattern, start);
-    maps_pattern_ = pattern;
-  }
-
-  // The first layer whose map differs from the one in pre_ (layers_.size() when none does).
-  std::size_t first_layer_to_compute(const ActivationPattern& pattern) const {
-    if (maps_pattern_.states.size() != pattern.states.size()) return 0;
-    const auto mismatch = std::mismatch(pattern.states.begin(), pattern.states.end(), maps_pattern_.states.begin());
-    if (mismatch.first == pattern.states.end()) return layers_.size();
-    const auto neuron = static_cast<std::size_t>(mismatch.first - pattern.states.begin());
-    std::size_t layer = 0;
-    while (neuron >= network_.first_neuron_of_layer(layer) + layers_[layer].rows) ++layer;
-    return layer + 1;  // the maps of layers 0..layer depend only on states below them
-  }
-
-  // Which rows of layer k's input are on: all inputs for k = 0, else layer k-1's neurons.
-  void set_active(const ActivationPattern& pattern, std::size_t k) {
-    if (k == 0) {
-      active_.assign(network_.input_dim, 1);
-      return;
-    }
-    const std::size_t first = network_.first_neuron_of_layer(k - 1);
-    active_.resize(layers_[k - 1].rows);
-    for (std::size_t t = 0; t < active_.size(); ++t) active_[t] = pattern.states[first + t] == NeuronState::on;
-  }
-
-  void compute_gmp_maps(const ActivationPattern& pattern, std::size_t start) {
-    for (std::size_t k = start; k < layers_.size(); ++k) {
-      poll_stop();
-      set_active(pattern, k);
-      compose_active(layers_[k], k == 0 ? identity_ : pre_[k - 1], active_, pre_[k]);
-    }
-  }
-
-  // compute_gmp_maps in fixed-width integers (fixed proves they fit), then
-  // each entry set into pre_'s GMP integers.
-  template <class T, class Layers>
-  void compute_fixed_maps(const ActivationPattern& pattern, std::size_t start, const Layers& fixed,
-                          const std::vector<T>& identity, std::vector<std::vector<T>>& fixed_pre) {
-    const std::size_t n = network_.input_dim;
-    fixed_pre.resize(layers_.size());
-    for (std::size_t k = start; k < layers_.size(); ++k) {
-      set_active(pattern, k);
-      compose_fixed(layers_[k], fixed, k, n, k == 0 ? identity : fixed_pre[k - 1], active_, fixed_pre[k]);
-      store_map(k, fixed_pre[k], fixed.map_denominator[k]);
-    }
-  }
-
-  // The 256-bit tier: the leading layers whose bound fits 128 bits in Wide
-  // (several times cheaper), the others in Int256.
-  void compute_mixed_maps(const ActivationPattern& pattern, std::size_t start) {
-    const Layers256& fixed = *wide256_;
-    const std::size_t low = fixed.low.map_denominator.size();
-    const std::size_t n = network_.input_dim;
-    wide_pre_.resize(low);
-    wide256_pre_.resize(layers_.size());
-    for (std::size_t k = start; k < layers_.size(); ++k) {
-      set_active(pattern, k);
-      if (k < low) {
-        compose_fixed(layers_[k], fixed.low, k, n, k == 0 ? wide_identity_ : wide_pre_[k - 1], active_, wide_pre_[k]);
-        store_map(k, wide_pre_[k], fixed.low.map_denominator[k]);
-        continue;
-      }
-      const std::vector<Int256>* input = k == 0 ? &wide256_identity_ : &wide256_pre_[k - 1];
-      if (k > 0 && k - 1 < low) {  // the first 256-bit layer: its input widened
-        widened_.resize(wide_pre_[k - 1].size());
-        for (std::size_t i = 0; i < widened_.size(); ++i) widened_[i] = to_int256(wide_pre_[k - 1][i]);
-        input = &widened_;
-      }
-      compose_fixed(layers_[k], fixed, k, n, *input, active_, wide256_pre_[k]);
-      store_map(k, wide256_pre_[k], fixed.map_denominator[k]);
-    }
-  }
-
-  // Layer k's map (rows of n linear entries, then the offset) into pre_[k]'s GMP integers.
-  template <class T>
-  void store_map(std::size_t k, const std::vector<T>& values, const Integer& denominator) {
-    const std::size_t n = network_.input_dim;
-    IntegerMap& map = pre_[k];
-    map.rows = layers_[k].rows;
-    map.cols = n;
-    map.linear.resize(map.rows * n);
-    map.offset.resize(map.rows);
-    for (std::size_t r = 0; r < map.rows; ++r) {
-      const T* row = values.data() + r * (n + 1);
-      for (std::size_t c = 0; c < n; ++c) set_integer(map.linear[r * n + c], row[c]);
-      set_integer(map.offset[r], row[n]);
-    }
-    map.denominator = denominator;
-  }
-
   // Row i of a pre-activation map as a cell row, negated for a neuron that is off.
   static void set_row(lp::PlaneRow& row, const IntegerMap& pre, std::size_t i, bool negate) {
     row.a0 = pre.linear[i * 2];
@@ -268,7 +157,7 @@ class RegionProcessor::Impl {
     std::size_t count = 0;
     row_neuron_.clear();
     for (std::size_t k = 0; k < relu_layers(network_); ++k) {
-      const IntegerMap& pre = pre_[k];
+      const IntegerMap& pre = (*pre_)[k];
       const std::size_t first = network_.first_neuron_of_layer(k);
       for (std::size_t i = 0; i < pre.rows; ++i) {
         const NeuronState state = pattern.states[first + i];
@@ -297,7 +186,7 @@ class RegionProcessor::Impl {
   }
 
   std::optional<Processed> process_in_plane(const ActivationPattern& pattern) {
-    compute_integer_maps(pattern);
+    pre_ = &layer_maps_->compute(pattern);
     if (!build_rows(pattern, rows_, domain_rows_)) return Processed{};  // not a region (as process_with_oracle says)
     if (rows_.empty()) return std::nullopt;  // the whole plane: the general path
     std::optional<lp::PlaneCell> plane = lp::describe_plane_cell(rows_);
@@ -343,7 +232,7 @@ class RegionProcessor::Impl {
   // proposes, exact signs and determinants prove); boundedness comes with it.
 
   std::optional<Processed> process_in_space(const ActivationPattern& pattern) {
-    compute_integer_maps(pattern);
+    pre_ = &layer_maps_->compute(pattern);
     if (!build_rows(pattern, space_rows_, domain_space_rows_)) return Processed{};  // not a region
     if (space_rows_.empty()) return std::nullopt;  // the whole space: the general path
     std::optional<lp::SpaceCell> space = lp::describe_space_cell(space_rows_, neuron_rows_);
@@ -388,7 +277,7 @@ class RegionProcessor::Impl {
 
   // The network's output map on the region, exact.
   AffineMap output_map(const ActivationPattern& pattern) const {
-    const IntegerMap& last = pre_.back();
+    const IntegerMap& last = pre_->back();
     if (!layers_.back().is_relu) return to_rational_map(last);
     IntegerMap out = last;
     const std::size_t first = network_.relu_neuron_count() - last.rows;
@@ -428,7 +317,7 @@ class RegionProcessor::Impl {
     facet.point = point;
     if (facet.domain_side) return facet;
     std::vector<ActivationPattern> candidates;
-    if (std::optional<ActivationPattern> far = pattern_across_in_integers(network_, pre_, pattern, vanishing_at(group_rows), normal)) {
+    if (std::optional<ActivationPattern> far = pattern_across_in_integers(network_, *pre_, pattern, vanishing_at(group_rows), normal)) {
       candidates.push_back(std::move(*far));
     } else {
       if (!rational_maps) {  // once per region, for all its degenerate crossings
@@ -578,18 +467,9 @@ class RegionProcessor::Impl {
   lp::Oracle oracle_;
   // The plane path's state (buffers reused between regions).
   bool is_plane_path_ = false;
-  IntegerMap identity_;
-  std::optional<FixedLayers<Wide>> wide_;        // the layers in 128 bits, when every map provably fits
-  std::vector<Wide> wide_identity_;
-  std::vector<std::vector<Wide>> wide_pre_;
-  std::optional<Layers256> wide256_;             // else in 256 bits, when those provably fit
-  std::vector<Int256> wide256_identity_;
-  std::vector<std::vector<Int256>> wide256_pre_;
-  std::vector<Int256> widened_;                  // the last 128-bit layer's map, widened
-  ActivationPattern maps_pattern_;               // the pattern of pre_'s maps (no states: none)
   std::vector<lp::PlaneRow> domain_rows_;  // the domain's sides as integer rows
-  std::vector<IntegerMap> pre_;            // per layer, this region's pre-activation map
-  std::vector<char> active_;
+  std::optional<PatternLayerMaps> layer_maps_;  // the fast paths' integer maps
+  const std::vector<IntegerMap>* pre_ = nullptr;  // this region's pre-activation maps (in layer_maps_)
   std::vector<lp::PlaneRow> rows_;         // this region's cell: neurons, then domain sides
   std::vector<std::size_t> row_neuron_;    // neuron id per neuron row
   std::size_t neuron_rows_ = 0;

@@ -111,4 +111,10 @@ std::string pattern_text(const Network& network, const ActivationPattern& patter
   return format_pattern(network, pattern);
 }
 
+py::object optional_text(const std::string& text) { return text.empty() ? py::object(py::none()) : py::str(text); }
+
+py::object stop_reason_value(StopReason reason) {
+  return reason == StopReason::none ? py::object(py::none()) : py::str(to_string(reason));
+}
+
 }  // namespace pleat::python

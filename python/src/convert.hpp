@@ -9,11 +9,13 @@
 #include "core/network.hpp"
 #include "core/pattern.hpp"
 #include "core/rational.hpp"
+#include "core/stop.hpp"
 #include "enumerate/domain.hpp"
 
 #include <pybind11/pybind11.h>
 #include <pybind11/stl.h>
 
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -39,5 +41,17 @@ RationalVector point_argument(const std::vector<std::string>& items, std::size_t
 Domain domain_argument(const py::object& spec, std::size_t input_dim);
 
 std::string pattern_text(const Network& network, const ActivationPattern& pattern);
+
+// None for an empty text, else the text.
+py::object optional_text(const std::string& text);
+
+// None when the run was not stopped, else the stop reason's word.
+py::object stop_reason_value(StopReason reason);
+
+// None, or the value as Python converts it.
+template <class T>
+py::object optional_value(const std::optional<T>& value) {
+  return value ? py::cast(*value) : py::object(py::none());
+}
 
 }  // namespace pleat::python

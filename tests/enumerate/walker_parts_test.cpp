@@ -6,6 +6,7 @@
 #include "core/random_network.hpp"
 #include "enumerate/detail/integer_maps.hpp"
 #include "enumerate/detail/pattern_store.hpp"
+#include "enumerate/detail/walk_adjacency.hpp"
 #include "enumerate/walker.hpp"
 
 #include <gtest/gtest.h>
@@ -179,6 +180,43 @@ TEST(WalkerParts, StreamedAdjacencyEqualsKeptRegions) {
       first_layer.emplace(pattern.states.begin(), pattern.states.begin() + static_cast<std::ptrdiff_t>(architecture[1]));
     EXPECT_EQ(summary.regions_per_layer.front(), first_layer.size());
   }
+}
+
+// Neighbour lists that are not symmetric, and a neighbour whose map has left
+// the two-level window (recomputed from its slot): each adjacent pair counted
+// once, maps compared exactly.
+TEST(WalkAdjacency, CountsAsymmetricListsAndRecomputesEvictedMaps) {
+  const auto map = [](int value) {
+    AffineMap m{RationalMatrix(1, 1), RationalVector(1)};
+    m.linear(0, 0) = value;
+    return m;
+  };
+  std::vector<std::uint32_t> recomputed;
+  detail::WalkAdjacency adjacency([&](std::uint32_t slot) {
+    recomputed.push_back(slot);
+    return map(slot == 2 ? 2 : 1);
+  });
+  std::vector<std::uint32_t> id_of_slot(5, detail::no_region);
+  const auto add = [&](std::uint32_t id, std::vector<std::uint32_t> neighbours, int value) {
+    id_of_slot[id] = id;  // slot == id here
+    adjacency.add_region(id, id, neighbours, map(value), id_of_slot);
+  };
+  adjacency.start_level(0);
+  add(0, {1, 2}, 1);
+  adjacency.start_level(1);
+  add(1, {0, 3}, 1);
+  add(2, {}, 2);  // does not name 0 back
+  adjacency.start_level(3);
+  add(3, {1}, 1);
+  adjacency.start_level(4);
+  add(4, {0}, 1);  // 0 named only from here, two levels on: its map was dropped
+  EXPECT_EQ(adjacency.facets(), 4u);  // {0,1} {0,2} {1,3} {0,4}
+  EXPECT_EQ(adjacency.linear_regions(), 2u);  // {0,1,3,4} and {2}
+  EXPECT_EQ(recomputed, (std::vector<std::uint32_t>{0}));
+  EXPECT_TRUE(adjacency.all_neighbours_delivered());
+  id_of_slot.resize(7, detail::no_region);
+  add(5, {6}, 1);  // names a slot never delivered
+  EXPECT_FALSE(adjacency.all_neighbours_delivered());
 }
 
 }  // namespace
