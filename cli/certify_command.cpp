@@ -55,25 +55,31 @@ void write_matrix(const std::string& path, const RationalMatrix& matrix) {
 
 Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", claim_word(verdict.verdict)}, {"reason", verdict.reason}}; }
 
+// The mechanism's word, or null when none was recognised.
+Json mechanism_json(Mechanism mechanism) {
+  return mechanism == Mechanism::none ? Json(nullptr) : Json(std::string(mechanism_word(mechanism)));
+}
+
 // "dead neuron 5: 5 directions", "zero outgoing weights of neuron 2: 2 directions"
 std::string mechanism_text(const MechanismGroup& group) {
   std::string numbers;
   for (std::size_t i = 0; i < group.neurons.size(); ++i) numbers += (i ? ", " : "") + std::to_string(group.neurons[i]);
   const std::string neuron = group.neurons.size() > 1 ? "neurons " : "neuron ";
   std::string text;
-  if (group.mechanism == "dead-neuron") text = "dead " + neuron + numbers;
-  else if (group.mechanism == "always-active-neuron") text = "always-active " + neuron + numbers;
-  else if (group.mechanism == "zero-outgoing-weights") text = "zero outgoing weights of " + neuron + numbers;
-  else if (group.mechanism == "duplicate-neurons") text = "duplicate neurons " + numbers;
-  else if (group.mechanism.empty()) text = "no recognised mechanism";
-  else text = group.mechanism + (numbers.empty() ? "" : " (" + neuron + numbers + ")");
+  switch (group.mechanism) {
+    case Mechanism::dead_neuron: text = "dead " + neuron + numbers; break;
+    case Mechanism::always_active_neuron: text = "always-active " + neuron + numbers; break;
+    case Mechanism::zero_outgoing_weights: text = "zero outgoing weights of " + neuron + numbers; break;
+    case Mechanism::duplicate_neurons: text = "duplicate neurons " + numbers; break;
+    case Mechanism::none: text = "no recognised mechanism"; break;
+  }
   return text + ": " + std::to_string(group.directions) + (group.directions == 1 ? " direction" : " directions");
 }
 
 Json mechanism_summary_json(const Network& network, const FunctionalDimensionResult& result) {
   Json summary = Json::array();
   for (const auto& group : mechanism_groups(result))
-    summary.push_back({{"mechanism", group.mechanism.empty() ? Json(nullptr) : Json(group.mechanism)},
+    summary.push_back({{"mechanism", mechanism_json(group.mechanism)},
                        {"neurons", group.neurons},
                        {"directions", group.directions}});
   if (const auto limit = region_limit(network, result))
@@ -93,7 +99,7 @@ Json result_to_json(const Network& network, const Domain& domain, const Function
     for (std::size_t c = 0; c < direction.vector.size(); ++c)
       if (direction.vector[c] != 0) vector[network.parameter_name(c)] = format_rational(direction.vector[c]);
     extra.push_back({{"vector", vector},
-                     {"mechanism", direction.mechanism.empty() ? Json(nullptr) : Json(direction.mechanism)},
+                     {"mechanism", mechanism_json(direction.mechanism)},
                      {"neurons", direction.neurons}});
   }
   Json out;

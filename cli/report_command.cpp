@@ -156,7 +156,8 @@ void add_certify_rows(const Network& network, const FunctionalDimensionResult& r
   std::string extra = result.extra_kernel.empty() ? std::string("none beyond the scaling ones")
                                                   : std::to_string(result.extra_kernel.size()) + " beyond the scaling ones:";
   for (std::size_t i = 0; i < groups.size(); ++i)
-    extra += (i ? ";" : "") + std::string(" ") + (groups[i].mechanism.empty() ? "no recognised mechanism" : groups[i].mechanism) +
+    extra += (i ? ";" : "") + std::string(" ") + (groups[i].mechanism == Mechanism::none ? std::string("no recognised mechanism")
+                                                                      : std::string(mechanism_word(groups[i].mechanism))) +
              (groups[i].neurons.empty() ? ""
                                         : std::string(groups[i].neurons.size() == 1 ? " (neuron " : " (neurons ") +
                                               neuron_list(groups[i].neurons) + ")") + ": " +

@@ -175,7 +175,8 @@ Json report_walk_json(const Network& network, const Domain& domain, const WalkSu
 Json report_certify_json(const Network& network, const FunctionalDimensionResult& result) {
   Json groups = Json::array();
   for (const auto& group : mechanism_groups(result))
-    groups.push_back({{"mechanism", group.mechanism.empty() ? Json(nullptr) : Json(group.mechanism)},
+    groups.push_back({{"mechanism", group.mechanism == Mechanism::none ? Json(nullptr)
+                                                                       : Json(std::string(mechanism_word(group.mechanism)))},
                       {"neurons", group.neurons},
                       {"directions", group.directions}});
   Json out;

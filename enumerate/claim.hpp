@@ -34,7 +34,7 @@ ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank);
 
 // Extra kernel directions grouped by (mechanism, neurons), in first-seen order.
 struct MechanismGroup {
-  std::string mechanism;  // "" when none was recognised
+  Mechanism mechanism = Mechanism::none;
   std::vector<std::size_t> neurons;
   std::size_t directions = 0;
 };

@@ -299,4 +299,15 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   return result;
 }
 
+std::string_view mechanism_word(Mechanism mechanism) {
+  switch (mechanism) {
+    case Mechanism::none: return "";
+    case Mechanism::dead_neuron: return "dead-neuron";
+    case Mechanism::always_active_neuron: return "always-active-neuron";
+    case Mechanism::zero_outgoing_weights: return "zero-outgoing-weights";
+    case Mechanism::duplicate_neurons: return "duplicate-neurons";
+  }
+  return "";
+}
+
 }  // namespace pleat

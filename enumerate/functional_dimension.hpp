@@ -25,16 +25,24 @@
 #include <functional>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 namespace pleat {
 
+// What makes a direction beyond the scaling ones flat, when it is recognised
+// by the direction's support (none: not one of these).
+enum class Mechanism { none, dead_neuron, always_active_neuron, zero_outgoing_weights, duplicate_neurons };
+
+// The output word of a mechanism: "dead-neuron", "always-active-neuron",
+// "zero-outgoing-weights", "duplicate-neurons"; "" for none.
+std::string_view mechanism_word(Mechanism mechanism);
+
 // A kernel direction beyond the scaling ones, with the mechanism behind it
-// when one is recognised ("dead-neuron", "always-active-neuron",
-// "zero-outgoing-weights", "duplicate-neurons"; "" for none).
+// when one is recognised.
 struct ExtraKernelDirection {
   RationalVector vector;  // length D, parameter order
-  std::string mechanism;
+  Mechanism mechanism = Mechanism::none;
   std::vector<std::size_t> neurons;
 };
 

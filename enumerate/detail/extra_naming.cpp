@@ -85,7 +85,7 @@ void recognise_mechanism(const Network& network, const NeuronActivity& activity,
     if (direction.vector[c] != 0) support.insert(c);
   const std::size_t hidden = parameters.size();
 
-  auto try_union = [&](auto&& qualifies, auto&& parameters_of, const char* name) {
+  auto try_union = [&](auto&& qualifies, auto&& parameters_of, Mechanism mechanism) {
     std::set<std::size_t> allowed;
     std::vector<std::size_t> neurons;
     for (std::size_t n = 0; n < hidden; ++n) {
@@ -98,7 +98,7 @@ void recognise_mechanism(const Network& network, const NeuronActivity& activity,
       neurons.push_back(n);
     }
     if (neurons.empty() || !is_subset(support, allowed)) return false;
-    direction.mechanism = name;
+    direction.mechanism = mechanism;
     direction.neurons = neurons;
     return true;
   };
@@ -118,19 +118,19 @@ void recognise_mechanism(const Network& network, const NeuronActivity& activity,
       if (next.weights(o, index) != 0) return false;
     return true;
   };
-  if (try_union(has_zero_outgoing, [&](std::size_t n) { return parameters[n].incoming; }, "zero-outgoing-weights"))
+  if (try_union(has_zero_outgoing, [&](std::size_t n) { return parameters[n].incoming; }, Mechanism::zero_outgoing_weights))
     return;
   if (try_union([&](std::size_t n) { return !activity.ever_on[n]; },
                 [&](std::size_t n) { return union_of(n, {&parameters[n].incoming, &parameters[n].outgoing}); },
-                "dead-neuron"))
+                Mechanism::dead_neuron))
     return;
   if (try_union([&](std::size_t n) { return !activity.ever_not_on[n]; },
                 [&](std::size_t n) { return union_of(n, {&parameters[n].bias, &parameters[n].next_biases}); },
-                "always-active-neuron"))
+                Mechanism::always_active_neuron))
     return;
   try_union([&](std::size_t n) { return duplicated[n] != 0; },
             [&](std::size_t n) { return union_of(n, {&parameters[n].incoming, &parameters[n].outgoing}); },
-            "duplicate-neurons");
+            Mechanism::duplicate_neurons);
 }
 
 }  // namespace

@@ -193,7 +193,7 @@ py::dict certify_dict(const Network& network, const Domain& domain, const Functi
   for (const auto& direction : result.extra_kernel) {
     py::dict entry;
     entry["vector"] = fraction_list(direction.vector);
-    entry["mechanism"] = optional_text(direction.mechanism);
+    entry["mechanism"] = optional_text(std::string(mechanism_word(direction.mechanism)));
     entry["neurons"] = direction.neurons;
     extra.append(entry);
   }
@@ -201,7 +201,7 @@ py::dict certify_dict(const Network& network, const Domain& domain, const Functi
   py::list summary;
   for (const auto& group : mechanism_groups(result)) {
     py::dict entry;
-    entry["mechanism"] = optional_text(group.mechanism);
+    entry["mechanism"] = optional_text(std::string(mechanism_word(group.mechanism)));
     entry["neurons"] = group.neurons;
     entry["directions"] = group.directions;
     summary.append(entry);

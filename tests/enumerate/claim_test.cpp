@@ -38,10 +38,10 @@ TEST(Claim, AtPointsTheExactRankDecides) {
 
 TEST(Claim, MechanismGroupsCountDirectionsInFirstSeenOrder) {
   FunctionalDimensionResult result = bounds(7, 7, true);
-  result.extra_kernel = {{{}, "dead-neuron", {2}}, {{}, "duplicate-neurons", {0, 1}}, {{}, "dead-neuron", {2}}};
+  result.extra_kernel = {{{}, Mechanism::dead_neuron, {2}}, {{}, Mechanism::duplicate_neurons, {0, 1}}, {{}, Mechanism::dead_neuron, {2}}};
   const std::vector<MechanismGroup> groups = mechanism_groups(result);
   ASSERT_EQ(groups.size(), 2u);
-  EXPECT_EQ(groups[0].mechanism, "dead-neuron");
+  EXPECT_EQ(groups[0].mechanism, Mechanism::dead_neuron);
   EXPECT_EQ(groups[0].directions, 2u);
   EXPECT_EQ(groups[1].neurons, (std::vector<std::size_t>{0, 1}));
 }

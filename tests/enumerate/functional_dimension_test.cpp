@@ -195,7 +195,7 @@ TEST(FunctionalDimension, ReluOutputZeroLevelHidesTheMiddle) {
   EXPECT_EQ(named(network, result.extra_kernel[0].vector), expected);
   // Not one of the named mechanisms (the hidden neurons are neither dead nor
   // always on, nor copies): the explanation must not pretend otherwise.
-  EXPECT_EQ(result.extra_kernel[0].mechanism, "");
+  EXPECT_EQ(result.extra_kernel[0].mechanism, Mechanism::none);
 }
 
 TEST(FunctionalDimension, ReluOutputNeverPositiveIsZero) {
@@ -229,7 +229,7 @@ TEST(FunctionalDimension, DeadNeuronIn1DGives2mMinus1) {
       EXPECT_EQ(*result.functional_dimension, 2 * (m - 1) + 1);
       ASSERT_EQ(result.extra_kernel.size(), 2u);
       for (const auto& direction : result.extra_kernel) {
-        EXPECT_EQ(direction.mechanism, "dead-neuron");
+        EXPECT_EQ(direction.mechanism, Mechanism::dead_neuron);
         EXPECT_EQ(direction.neurons, std::vector<std::size_t>{dead});
         // Supported on the dead neuron's own parameters only.
         for (const auto& [name, value] : named(network, direction.vector)) {
@@ -284,7 +284,7 @@ TEST(FunctionalDimension, Degenerate2dExampleIs17WithSevenNamedDirections) {
   for (std::size_t i = 0; i < expected.size(); ++i) {
     SCOPED_TRACE("extra direction " + std::to_string(i));
     EXPECT_EQ(named(network, result.extra_kernel[i].vector), expected[i].first);
-    EXPECT_EQ(result.extra_kernel[i].mechanism, expected[i].second);
+    EXPECT_EQ(mechanism_word(result.extra_kernel[i].mechanism), expected[i].second);
     const std::vector<std::size_t> neurons =
         expected[i].second == "dead-neuron" ? std::vector<std::size_t>{5} : std::vector<std::size_t>{1, 2};
     EXPECT_EQ(result.extra_kernel[i].neurons, neurons);
