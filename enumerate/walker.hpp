@@ -87,9 +87,10 @@ struct WalkOptions {
   double time_limit_seconds = 0;            // 0: none
   bool keep_certificates = false;
   // Fill WalkSummary::patterns (every region's pattern, kept to the end).
-  // Off, the walk keeps about 30 bytes per region beyond its frontier (a
-  // packed pattern, an id, a union-find entry); the region records, affine
-  // maps and neighbour lists are streamed.
+  // Off, the walk keeps per region beyond its frontier 2 bits per neuron
+  // (rounded up to 8 bytes) and 20-28 bytes (its index slot, id and
+  // union-find entry); region records, affine maps and neighbour lists are
+  // streamed.
   bool keep_patterns = true;
   // Every LP query answered by the exact solver, no double proposal (tests
   // compare it with the default walk; same regions and facets, slower).
