@@ -323,7 +323,8 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // The limit counts from the start of certify, not of the walk.
     if (options.walk.time_limit_seconds > 0)
       walk_options.time_limit_seconds = std::max(1e-9, options.walk.time_limit_seconds - stop.elapsed_seconds());
-    result.walk = walk_regions(network, domain, walk_options);
+    result.walk = options.walker ? options.walker(network, domain, walk_options)
+                                 : walk_regions(network, domain, walk_options);
     result.walk_complete = result.walk.complete;
     result.nonsmooth_regions = result.walk.nonsmooth_regions;
     result.stop_reason = result.early_stop ? StopReason::none : result.walk.stop_reason;

@@ -78,6 +78,10 @@ struct FunctionalDimensionOptions {
   bool sweep_lines = true;
   std::uint64_t points_seed = 1;
   bool keep_rows = false;  // fill FunctionalDimensionResult::rows (exact rows of contributing regions)
+  // The walk to run when one is needed: walk_regions when empty, or one that
+  // delivers the same regions in the same order (the walk across processes,
+  // enumerate/distributed_walk.hpp). Called at most once.
+  std::function<WalkSummary(const Network&, const Domain&, const WalkOptions&)> walker;
   // Fill FunctionalDimensionResult::kernel (dense: rows x D rationals, large
   // for deep networks; the proof itself does not need it).
   bool keep_kernel = false;
