@@ -6,6 +6,7 @@
 #include "cli/domain_options.hpp"
 #include "cli/output_file.hpp"
 #include "cli/points_file.hpp"
+#include "cli/process_group.hpp"
 #include "cli/progress.hpp"
 #include "cli/region_json.hpp"
 #include "cli/signals.hpp"
@@ -221,9 +222,16 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
     progress.update(text);
   };
   options.stop_at_scaling_bound = stop_at_scaling_bound;
+  // In an MPI job the walk runs across its processes; the ranks' work after
+  // the walk (kernel, checks) stays here on rank 0.
+  if (process_group())
+    options.walker = [](const Network& walked_network, const Domain& walked_domain, const WalkOptions& walk) {
+      return walk_here_or_across(walked_network, walked_domain, walk);
+    };
   options.keep_rows = !arguments.rows_path.empty();
   options.keep_kernel = !arguments.kernel_path.empty() || !arguments.bundle_path.empty();  // both print it
   FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
+  finish_walks_across();
   progress.finish();
   return result;
 }
@@ -386,6 +394,10 @@ bool write_bundle(const CertifyArguments& arguments, const Network& network, con
 int run_certify(const CertifyArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   const Network network = read_network_any(arguments.network_path);
+  if (is_follower_process()) {  // an MPI job's rank other than 0: its share of the walk, no output
+    const InterruptGuard interrupt;
+    return follow_walks(network, make_domain(arguments.domain, network.input_dim), interrupt.flag());
+  }
   if (!arguments.points_path.empty()) {
     if (!arguments.bundle_path.empty()) throw usage_error("--bundle certifies the network's value; leave out --points");
     return run_points(arguments, network);
@@ -441,7 +453,8 @@ void register_certify(CommandTable& commands) {
       "  pleat certify data/fold2d.json --bundle proof.json   # then: python3 scripts/check_bundle.py proof.json\n"
       "  pleat certify net.json --claim 37          # check someone's sampled estimate\n"
       "  pleat certify net.json --points pts.csv    # exact batch dimension at these points\n"
-      "  pleat certify net.json --points pts.npy --claim 37   # judge an estimate made at pts\n\n"
+      "  pleat certify net.json --points pts.npy --claim 37   # judge an estimate made at pts\n"
+      "  mpirun -n 4 pleat certify net.json --threads 1   # its walk across 4 processes (MPI builds)\n\n"
       "--points FILE: the exact rank of the parameter Jacobian stacked at the points (text:\n"
       "comma- or whitespace-separated values, an optional header line, '#' comments; or a\n"
       "float64/float32 .npy array), how many of the domain's regions the points touch, and\n"

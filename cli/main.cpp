@@ -3,6 +3,7 @@
 // usage, 1 any other failure). Never a stack trace.
 #include "cli/command.hpp"
 #include "cli/output_file.hpp"
+#include "cli/process_group.hpp"
 #include "core/errors.hpp"
 #include "core/rational.hpp"
 
@@ -90,6 +91,8 @@ int run(int argc, char** argv) {
     std::cerr << app.help() << "\npleat: no command given\n";
     return 2;
   }
+  // In an MPI job, a command that does not run across processes runs on rank 0 alone.
+  if (is_follower_process() && !runs_across_processes(app.get_subcommands().front()->get_name())) return 0;
   return commands.run_selected();
 }
 
@@ -97,6 +100,8 @@ int run(int argc, char** argv) {
 }  // namespace pleat::cli
 
 int main(int argc, char** argv) {
+  // Joins the MPI job when mpirun or srun started pleat (cli/process_group.hpp).
+  pleat::cli::ProcessGroupSession group(argc, argv);
   try {
     const int status = pleat::cli::run(argc, argv);
     // A result that never reached standard output (a full disk, /dev/full,
@@ -104,22 +109,16 @@ int main(int argc, char** argv) {
     pleat::cli::check_standard_output();
     return status;
   } catch (const pleat::cli::output_error& error) {
-    std::cerr << "pleat: " << error.what() << "\n";
-    return 1;
+    return group.fail(error.what(), 1);
   } catch (const pleat::limit_error& error) {
-    std::cerr << "pleat: " << error.what() << "\n";
-    return 1;
+    return group.fail(error.what(), 1);
   } catch (const pleat::input_error& error) {
-    std::cerr << "pleat: " << error.what() << "\n";
-    return 2;
+    return group.fail(error.what(), 2);
   } catch (const pleat::usage_error& error) {
-    std::cerr << "pleat: " << error.what() << "\n";
-    return 2;
+    return group.fail(error.what(), 2);
   } catch (const std::exception& error) {
-    std::cerr << "pleat: internal error: " << error.what() << "\n";
-    return 1;
+    return group.fail(std::string("internal error: ") + error.what(), 1);
   } catch (...) {
-    std::cerr << "pleat: internal error (unknown exception)\n";
-    return 1;
+    return group.fail("internal error (unknown exception)", 1);
   }
 }

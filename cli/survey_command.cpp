@@ -8,13 +8,18 @@
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
 #include "cli/output_file.hpp"
+#include "cli/process_group.hpp"
 #include "cli/progress.hpp"
 #include "cli/signals.hpp"
 #include "cli/survey_file.hpp"
 #include "cli/survey_report.hpp"
+#include "enumerate/region_codec.hpp"
 
 #include <algorithm>
 #include <chrono>
+#include <condition_variable>
+#include <deque>
+#include <exception>
 #include <cstdlib>
 #include <filesystem>
 #include <iomanip>
@@ -22,6 +27,7 @@
 #include <memory>
 #include <optional>
 #include <set>
+#include <mutex>
 #include <sstream>
 #include <thread>
 
@@ -73,6 +79,8 @@ constexpr const char* survey_help =
     "  pleat survey --arch 2,5,5,5,1 --samples 200 --seed 1 -o survey.jsonl\n"
     "  pleat survey --arch 1,4,1 --arch 1,8,1 --samples 50 --seed 3 -o 'grid-{arch}.jsonl'\n"
     "  pleat survey --arch 2,10,10,1 --samples 1000 --seed 1 --task-index 3 --task-count 8 -o part3.jsonl\n"
+    "  mpirun -n 8 pleat survey --arch 2,10,10,1 --samples 1000 --seed 1 --threads 1 -o survey.jsonl\n"
+    "      # the samples split across 8 processes, rank 0 writing (MPI builds)\n"
     "  pleat survey merge part*.jsonl -o survey.jsonl\n"
     "  pleat survey summary survey.jsonl --json\n"
     "  pleat survey plot survey.jsonl --out hist.svg";
@@ -118,6 +126,110 @@ SurveyConfiguration configuration_for(const SurveyArguments& arguments, const st
   return configuration;
 }
 
+// In an MPI job: rank 0's list of the samples still to run (it alone reads
+// the file), and this rank's share of it: every P-th one from its rank on.
+std::vector<std::uint64_t> share_of_samples(WalkTransport& group, const std::vector<std::uint64_t>& todo) {
+  ByteWriter out;
+  if (group.rank() == 0) {
+    out.put_unsigned(todo.size());
+    for (std::uint64_t sample : todo) out.put_unsigned(sample);
+  }
+  const std::string bytes = group.broadcast_from_leader(out.take());
+  ByteReader in(bytes);
+  std::vector<std::uint64_t> share;
+  const std::size_t count = in.get_size();
+  for (std::size_t j = 0; j < count; ++j) {
+    const std::uint64_t sample = in.get_unsigned();
+    if (j % group.size() == group.rank()) share.push_back(sample);
+  }
+  return share;
+}
+
+// The messages of ranks other than 0 to rank 0 during a survey: a finished
+// sample ("s" and its line), or the end of the rank's share ("e0"; "e1" when
+// it was interrupted).
+constexpr char sample_message = 's';
+
+// In an MPI job: runs this rank's share (run_survey, on its threads) while the
+// main thread, the only one that calls MPI, passes each finished sample to
+// rank 0; rank 0 hands every sample of the job, its own and the others', to
+// options.on_sample as they arrive, and returns once every rank is done. On
+// rank 0 is_interrupted covers every rank.
+SurveyRunResult run_survey_in_job(const SurveyConfiguration& configuration, const std::vector<std::uint64_t>& share,
+                                  SurveyRunOptions options, std::size_t ranks, bool is_leader) {
+  const auto deliver = std::move(options.on_sample);
+  std::mutex mutex;
+  std::condition_variable wake;
+  std::deque<SurveySample> finished;
+  bool is_done = false;
+  std::exception_ptr error;
+  SurveyRunResult result;
+  options.on_sample = [&](const SurveySample& sample) {
+    {
+      std::lock_guard lock(mutex);
+      finished.push_back(sample);
+    }
+    wake.notify_one();
+  };
+  std::thread runner([&] {
+    try {
+      result = run_survey(configuration, share, options);
+    } catch (...) {
+      error = std::current_exception();
+    }
+    {
+      std::lock_guard lock(mutex);
+      is_done = true;
+    }
+    wake.notify_one();
+  });
+  std::size_t followers_running = is_leader ? ranks - 1 : 0;
+  bool is_interrupted_elsewhere = false;
+  try {
+    for (;;) {
+      std::deque<SurveySample> batch;
+      bool is_runner_done = false;
+      {
+        std::unique_lock lock(mutex);
+        wake.wait_for(lock, std::chrono::milliseconds(20), [&] { return is_done || !finished.empty(); });
+        batch.swap(finished);
+        is_runner_done = is_done;
+      }
+      for (const SurveySample& sample : batch) {
+        if (is_leader) deliver(sample);
+        else send_to_leader(sample_message + json_text(sample_json(sample), false));
+      }
+      if (is_leader) {
+        while (auto message = receive_at_leader()) {
+          const auto& [rank, bytes] = *message;
+          if (!bytes.empty() && bytes.front() == sample_message) {
+            deliver(sample_from_json(Json::parse(bytes.substr(1)), "the sample from rank " + std::to_string(rank)));
+          } else {
+            --followers_running;
+            is_interrupted_elsewhere = is_interrupted_elsewhere || bytes == "e1";
+          }
+        }
+      }
+      if (!is_runner_done || error) {
+        if (error) break;
+        continue;
+      }
+      if (!is_leader) {
+        send_to_leader(result.is_interrupted ? "e1" : "e0");
+        break;
+      }
+      if (followers_running == 0) break;
+    }
+  } catch (...) {
+    runner.detach();  // the job is about to be aborted (main: ProcessGroupSession::fail)
+    throw;
+  }
+  runner.join();
+  if (error) std::rethrow_exception(error);
+  result.is_interrupted = result.is_interrupted || is_interrupted_elsewhere;
+  return result;
+}
+
 // The samples of this task not yet in the survey file (read only), increasing.
 std::vector<std::uint64_t> pending_samples(const SurveyConfiguration& configuration, const ShardSet& shard,
                                            const std::string& path) {
@@ -145,7 +257,10 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
   record.header = survey_header_json(configuration, shard);
   record.source = path;
 
-  SurveyResume resume = resume_survey_file(path, record.header);
+  // In an MPI job rank 0 alone reads and writes the file.
+  WalkTransport* group = process_group();
+  const bool is_leader = !group || group->rank() == 0;
+  SurveyResume resume = resume_survey_file(is_leader ? path : "", record.header);
   const std::uintmax_t keep_bytes = resume.keep_bytes;
   record.samples = std::move(resume.samples);
   if (resume.dropped_partial_line)
@@ -159,7 +274,7 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
   std::sort(todo.begin(), todo.end());
 
   std::unique_ptr<SurveyWriter> writer;
-  if (!path.empty()) writer = std::make_unique<SurveyWriter>(path, keep_bytes, record.header);
+  if (!path.empty() && is_leader) writer = std::make_unique<SurveyWriter>(path, keep_bytes, record.header);
   if (!done.empty() && !arguments.quiet)
     std::cerr << "pleat: " << path << ": resuming, " << done.size() << " samples already there, " << todo.size()
               << " to run\n";
@@ -199,7 +314,9 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
   std::erase_if(todo, [&](std::uint64_t i) {
     return std::any_of(from_probe.begin(), from_probe.end(), [&](const SurveySample* s) { return s->sample == i; });
   });
-  const SurveyRunResult result = run_survey(configuration, todo, options);
+  const SurveyRunResult result =
+      group ? run_survey_in_job(configuration, share_of_samples(*group, todo), options, group->size(), is_leader)
+            : run_survey(configuration, todo, options);
   is_interrupted = result.is_interrupted;
   return record;
 }
@@ -331,9 +448,11 @@ int run_survey_command(const SurveyArguments& arguments) {
 
   ProgressLine progress(arguments.quiet);
   const InterruptGuard interrupt;
+  // In an MPI job rank 0 alone times the first samples (it prints the projection).
   const std::vector<ProbedSamples> probed =
-      arguments.quiet ? std::vector<ProbedSamples>(configurations.size())
-                      : probe_and_project(arguments, configurations, shard, paths, interrupt, progress);
+      arguments.quiet || is_follower_process()
+          ? std::vector<ProbedSamples>(configurations.size())
+          : probe_and_project(arguments, configurations, shard, paths, interrupt, progress);
   std::vector<SurveyRecord> records;
   bool is_interrupted = false;
   for (std::size_t k = 0; k < configurations.size() && !is_interrupted; ++k) {
@@ -342,6 +461,8 @@ int run_survey_command(const SurveyArguments& arguments) {
                               ": ";
     records.push_back(
         run_one(arguments, configurations[k], shard, paths[k], label, interrupt, progress, is_interrupted, probed[k]));
+    // In an MPI job every rank goes on to the next architecture, or none.
+    if (WalkTransport* group = process_group()) is_interrupted = group->maximum({is_interrupted ? 1u : 0u})[0] != 0;
   }
   progress.finish();
 
@@ -452,6 +573,10 @@ int run_merge(const SurveyArguments& arguments) {
 }
 
 int run_selected(const SurveyArguments& arguments) {
+  // In an MPI job only the survey itself runs across the processes.
+  const bool is_survey_run = !arguments.summary_command->parsed() && !arguments.plot_command->parsed() &&
+                             !arguments.merge_command->parsed();
+  if (is_follower_process() && !is_survey_run) return 0;
   if (arguments.summary_command->parsed()) return run_summary(arguments);
   if (arguments.plot_command->parsed()) return run_plot(arguments);
   if (arguments.merge_command->parsed()) return run_merge(arguments);

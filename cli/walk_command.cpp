@@ -5,6 +5,7 @@
 #include "cli/output_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/points_file.hpp"
+#include "cli/process_group.hpp"
 #include "cli/region_json.hpp"
 #include "cli/signals.hpp"
 #include "cli/walk_options.hpp"
@@ -100,6 +101,10 @@ int run_walk(const WalkArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   const Network network = read_network_any(arguments.network_path);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
+  if (is_follower_process()) {  // an MPI job's rank other than 0: its share of the walk, no output
+    const InterruptGuard interrupt;
+    return follow_walks(network, domain, interrupt.flag());
+  }
 
   std::optional<OutputFile> regions_file;
   if (!arguments.output_path.empty()) {
@@ -130,8 +135,14 @@ int run_walk(const WalkArguments& arguments) {
          << static_cast<long>(state.seconds > 0 ? state.regions / state.seconds : 0) << " regions/s";
     progress.update(line.str());
   };
-  const WalkSummary summary = walk_regions(network, domain, options);
+  DistributedWalkStatistics statistics;
+  const WalkSummary summary = walk_here_or_across(network, domain, options, &statistics);
+  finish_walks_across();
   progress.finish();
+  if (statistics.ranks && !arguments.quiet)
+    std::cerr << "pleat: walked across " << count_of(statistics.ranks, "process", "processes") << " (MPI), "
+              << statistics.bytes_sent << " bytes sent between them ("
+              << (summary.regions ? statistics.bytes_sent / summary.regions : 0) << " per region)\n";
   if (regions_file) regions_file->close();
 
   if (!arguments.points_path.empty())
@@ -172,7 +183,8 @@ void register_walk(CommandTable& commands) {
       "  pleat walk data/fold2d.json\n"
       "  pleat walk data/fold2d.json --box -2,2 -o regions.jsonl --certificates\n"
       "  pleat walk net.json --json --patterns --max-regions 10000 --time-limit 60\n"
-      "  pleat walk data/fold2d.json --points-out interior.csv   # feed: certify --points",
+      "  pleat walk data/fold2d.json --points-out interior.csv   # feed: certify --points\n"
+      "  mpirun -n 4 pleat walk net.json --threads 1   # one walk across 4 processes (MPI builds)",
       [arguments] { return run_walk(*arguments); });
   command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")
       ->required();

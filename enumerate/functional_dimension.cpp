@@ -8,11 +8,15 @@
 #include "enumerate/detail/kernel_lift.hpp"
 #include "enumerate/detail/parallel_for.hpp"
 #include "enumerate/interior_points.hpp"
+#include "enumerate/line_sweep.hpp"
 
 #include <algorithm>
 #include <chrono>
+#include <cmath>
 #include <functional>
+#include <limits>
 #include <set>
+#include <unordered_set>
 #include <thread>
 
 namespace pleat {
@@ -98,6 +102,38 @@ PointRegion region_of_point(const Network& network, const IntegerPatternEvaluato
   return {PointVerdict::smooth, std::move(pattern)};
 }
 
+RationalVector rational_from_vector(const DoubleVector& values) {
+  RationalVector out(values.size());
+  for (std::size_t i = 0; i < values.size(); ++i) out[i] = rational_from_double(values[i]);
+  return out;
+}
+
+// Strictly inside the domain's sides (exact).
+bool strictly_inside(const Domain& domain, const RationalVector& point) {
+  for (const auto& side : domain.constraints) {
+    Rational value = side.offset;
+    for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
+    if (sgn(value) <= 0) return false;
+  }
+  return true;
+}
+
+// The largest t keeping base + t direction inside the domain's sides, a
+// little short of the boundary (double: it only bounds where a sweep
+// proposes points); +infinity when the ray never leaves.
+double ray_reach(const Domain& domain, const DoubleVector& base, const DoubleVector& direction) {
+  double reach = std::numeric_limits<double>::infinity();
+  for (const auto& side : domain.constraints) {
+    double at_base = to_double(side.offset), slope = 0;
+    for (std::size_t i = 0; i < base.size(); ++i) {
+      at_base += to_double(side.normal[i]) * base[i];
+      slope += to_double(side.normal[i]) * direction[i];
+    }
+    if (slope < 0) reach = std::min(reach, at_base / -slope);
+  }
+  return reach * (1 - 1e-9);
+}
+
 }  // namespace
 
 std::optional<std::size_t> first_region_not_annihilated(const Network& network, const RationalMatrix& vectors,
@@ -145,14 +181,16 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // Points first: rows of the regions that exact interior points land in.
   // Batches are drawn in order and their patterns decided in parallel, then
   // their rows added in point order, so the result does not depend on the
-  // thread count. Stalls after `patience` points without a rise in rank.
+  // thread count (batches of a fixed size, so the points drawn before a
+  // stall, and the lines after it, are too). Stalls after `patience` points
+  // without a rise in rank.
   std::set<ActivationPattern> seen_by_points;
   auto rows_from_points = [&] {
     InteriorPointSource source(domain, options.points_seed);
     const IntegerPatternEvaluator evaluator(network);
     const std::size_t patience = std::max<std::size_t>(64, result.scaling_bound / 2);
     const std::size_t budget = 4 * result.scaling_bound + 256;
-    const std::size_t batch = 16 * static_cast<std::size_t>(threads);
+    constexpr std::size_t batch = 32;
     std::size_t since_rise = 0;
     const StopScope scope(stop);
     while (basis.rank() < result.scaling_bound && since_rise < patience && result.points_drawn < budget) {
@@ -188,6 +226,72 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     }
   };
 
+  // Then lines: each sweeps every linear piece it crosses (line_sweep.hpp),
+  // reaching the thin and far regions random points miss. A batch of lines
+  // is swept and its new points decided exactly in parallel, then their rows
+  // added in line order (batches of a fixed size: the same for any thread
+  // count). Stalls after line_patience lines without a rise in rank.
+  auto rows_from_lines = [&] {
+    InteriorPointSource source(domain, options.points_seed ^ 0x5bd1e995ull);
+    const IntegerPatternEvaluator evaluator(network);
+    const DoubleNetwork double_network = to_double(network);
+    constexpr std::size_t lines_per_batch = 4;
+    constexpr std::size_t points_per_line = 1 << 14;
+    constexpr std::size_t line_patience = 64;
+    const std::size_t line_budget = 64 + result.scaling_bound;
+    std::unordered_set<std::string> proposed;
+    std::size_t lines = 0, since_rise = 0;
+    const StopScope scope(stop);
+    while (basis.rank() < result.scaling_bound && since_rise < line_patience && lines < line_budget) {
+      if (stop.is_requested()) return;
+      // Each line through a random interior point, both ways along a random direction.
+      std::vector<std::pair<DoubleVector, DoubleVector>> rays;
+      for (std::size_t l = 0; l < lines_per_batch; ++l) {
+        const DoubleVector base = to_double(source.next());
+        const DoubleVector other = to_double(source.next());
+        DoubleVector direction(base.size());
+        for (std::size_t i = 0; i < base.size(); ++i) direction[i] = other[i] - base[i];
+        DoubleVector backward = direction;
+        for (double& value : backward) value = -value;
+        rays.emplace_back(base, direction);
+        rays.emplace_back(base, backward);
+      }
+      std::vector<std::vector<SweptPoint>> swept(rays.size());
+      parallel_for(rays.size(), threads, [&](std::size_t r) {
+        const auto& [base, direction] = rays[r];
+        swept[r] = sweep_line(double_network, base, direction, ray_reach(domain, base, direction), points_per_line);
+      });
+      std::vector<RationalVector> points;
+      for (auto& ray : swept)
+        for (SweptPoint& point : ray)
+          if (proposed.insert(std::move(point.pattern)).second) points.push_back(rational_from_vector(point.point));
+      std::vector<PointRegion> regions(points.size());
+      std::vector<ModularMatrix> rows(points.size());
+      parallel_for(points.size(), threads, [&](std::size_t i) {
+        if (!strictly_inside(domain, points[i])) return;
+        regions[i] = region_of_point(network, evaluator, points[i]);
+        if (regions[i].verdict == PointVerdict::smooth && !seen_by_points.contains(regions[i].pattern))
+          rows[i] = coefficient_blocks_mod(modular, regions[i].pattern);
+      });
+      const std::size_t rank_before = basis.rank();
+      for (std::size_t i = 0; i < points.size() && basis.rank() < result.scaling_bound; ++i) {
+        ++result.points_drawn;
+        if (regions[i].verdict != PointVerdict::smooth || rows[i].rows() == 0 ||
+            !seen_by_points.insert(regions[i].pattern).second)
+          continue;
+        KeptRows region{regions[i].pattern, {}};
+        for (std::size_t r = 0; r < rows[i].rows(); ++r)
+          if (basis.add_row(rows[i].row(r))) region.rows.push_back(r);
+        if (region.rows.empty()) continue;
+        kept.push_back(std::move(region));
+        result.witness_points.push_back(points[i]);
+      }
+      lines += lines_per_batch;
+      since_rise = basis.rank() > rank_before ? 0 : since_rise + lines_per_batch;
+      report("lines", basis.rank(), result.scaling_bound);
+    }
+  };
+
   WalkOptions walk_options = options.walk;
   walk_options.on_region = [&](const Region& region) {
     ++result.regions_walked;
@@ -205,6 +309,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   if (tries_points) {
     try {
       rows_from_points();
+      if (options.sweep_lines && basis.rank() < result.scaling_bound && !stop.is_requested()) rows_from_lines();
     } catch (const Stopped&) {
       // bounds below
     }
@@ -218,7 +323,8 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // The limit counts from the start of certify, not of the walk.
     if (options.walk.time_limit_seconds > 0)
       walk_options.time_limit_seconds = std::max(1e-9, options.walk.time_limit_seconds - stop.elapsed_seconds());
-    result.walk = walk_regions(network, domain, walk_options);
+    result.walk = options.walker ? options.walker(network, domain, walk_options)
+                                 : walk_regions(network, domain, walk_options);
     result.walk_complete = result.walk.complete;
     result.nonsmooth_regions = result.walk.nonsmooth_regions;
     result.stop_reason = result.early_stop ? StopReason::none : result.walk.stop_reason;

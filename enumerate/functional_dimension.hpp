@@ -70,10 +70,18 @@ struct FunctionalDimensionOptions {
   // point's pattern exactly, and stack the rows of the smooth regions they
   // land in. When the rank meets the scaling bound the value is certified
   // with no walk (certified_by_points); when it stalls, the walk runs and
-  // keeps the rows found.
+  // keeps the rows found. When the random points stall, lines through the
+  // domain are swept first (enumerate/line_sweep.hpp): one proposed point in
+  // every linear piece a line crosses, each decided exactly like the random
+  // ones, reaching thin and far regions (sweep_lines; off: random points only).
   bool points_first = true;
+  bool sweep_lines = true;
   std::uint64_t points_seed = 1;
   bool keep_rows = false;  // fill FunctionalDimensionResult::rows (exact rows of contributing regions)
+  // The walk to run when one is needed: walk_regions when empty, or one that
+  // delivers the same regions in the same order (the walk across processes,
+  // enumerate/distributed_walk.hpp). Called at most once.
+  std::function<WalkSummary(const Network&, const Domain&, const WalkOptions&)> walker;
   // Fill FunctionalDimensionResult::kernel (dense: rows x D rationals, large
   // for deep networks; the proof itself does not need it).
   bool keep_kernel = false;

@@ -322,6 +322,29 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   return summary;
 }
 
+struct RegionWorker::Impl {
+  Impl(const Network& network, const Domain& domain, bool keep_certificates, bool exact_only)
+      : processor(network, domain, keep_certificates, exact_only) {}
+  detail::RegionProcessor processor;
+};
+
+RegionWorker::RegionWorker(const Network& network, const Domain& domain, bool keep_certificates, bool exact_only)
+    : impl_(domain.dim == network.input_dim
+                ? std::make_unique<Impl>(network, domain, keep_certificates, exact_only)
+                : throw usage_error("RegionWorker: domain and network dimensions differ")) {}
+
+RegionWorker::~RegionWorker() = default;
+
+RegionWorker::Outcome RegionWorker::process(const ActivationPattern& pattern) {
+  detail::Processed processed = impl_->processor.process(pattern);
+  Outcome outcome;
+  outcome.degenerate_crossings = processed.degenerate_crossings;
+  if (processed.is_region) outcome.region = std::move(processed.region);
+  return outcome;
+}
+
+lp::QueryCounts RegionWorker::counts() const { return impl_->processor.counts(); }
+
 std::optional<Region> describe_region(const Network& network, const Domain& domain,
                                       const ActivationPattern& pattern, bool keep_certificates) {
   if (domain.dim != network.input_dim) throw usage_error("describe_region: domain and network dimensions differ");

@@ -32,6 +32,7 @@
 #include <limits>
 #include <cstdint>
 #include <functional>
+#include <memory>
 #include <optional>
 #include <string>
 #include <vector>
@@ -124,6 +125,36 @@ struct WalkSummary {
 // options.on_region in a deterministic order (identical for any thread count).
 // Preconditions: domain.dim == network.input_dim.
 WalkSummary walk_regions(const Network& network, const Domain& domain, const WalkOptions& options);
+
+// The walk's work on one region, for walks driven from elsewhere (the
+// distributed walk, enumerate/distributed_walk.hpp): for each pattern exactly
+// what walk_regions computes for that pattern of its level, so a walk built
+// on it delivers the same regions. Not thread-safe: one per thread.
+class RegionWorker {
+ public:
+  // Preconditions: as walk_regions.
+  RegionWorker(const Network& network, const Domain& domain, bool keep_certificates, bool exact_only = false);
+  ~RegionWorker();
+  RegionWorker(const RegionWorker&) = delete;
+  RegionWorker& operator=(const RegionWorker&) = delete;
+
+  struct Outcome {
+    // The region with id 0 (the caller numbers it), or nullopt when the
+    // pattern's cell has empty interior (a crossing candidate that was not a
+    // region: walk_regions then does not certify the walk).
+    std::optional<Region> region;
+    std::size_t degenerate_crossings = 0;  // crossings of this region whose far side was branched
+  };
+  // Exact. Throws Stopped when the current thread's StopScope asks to stop
+  // (core/stop.hpp) and limit_error as walk_regions.
+  Outcome process(const ActivationPattern& pattern);
+  // LP queries of every region processed so far.
+  lp::QueryCounts counts() const;
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
 
 // The pattern of the region the walk starts in (its id 0): the region at the
 // domain's centre, or, when the centre lies on a bent hyperplane, the region

@@ -12,6 +12,7 @@ packages=(
   librsvg2-bin
   texlive-latex-base texlive-pictures  # tests/cli/draw_tikz_test.sh: pdflatex measures the TikZ output
   libbenchmark-dev hyperfine  # tests/bench: walk micro-benchmarks and whole-walk timings
+  libopenmpi-dev openmpi-bin  # one walk across the processes of an MPI job (PLEAT_MPI; tests/mpi/)
   time  # /usr/bin/time: peak memory of the readers in tests/cli/readers_test.sh
   chromium chromium-driver python3-selenium  # tests/reference/report_browser_test.py: pleat report's pages, headless
   clang libclang-rt-14-dev libfuzzer-14-dev

@@ -718,6 +718,32 @@ TEST(CertifyFromPoints, SameValueAsTheFullWalkOn50RandomSmallNetworks) {
   EXPECT_GT(below_bound, 0u);  // the fallback to the walk is exercised too
 }
 
+// Networks at the scaling bound in far or thin regions: samples 11, 15, 19
+// and 26 of `pleat random --arch 2,5,5,5,1 --seed 1` have the full walk's value
+// equal to the scaling bound 66, yet random points alone stall before it (the
+// walk then had to run: 9 to 140 regions). Sweeping lines through every piece
+// they cross certifies each of them from points, with witnesses that prove it.
+TEST(CertifyFromPoints, LinesCertifyNetworksAtTheBoundThatRandomPointsMiss) {
+  for (std::uint64_t sample : {11u, 15u, 19u, 26u}) {
+    const Network network = random_network({2, 5, 5, 5, 1}, 1, sample);
+    const Domain domain = make_whole_space(2);
+    const auto full = certify_with(network, domain, false, false);
+    ASSERT_TRUE(full.certified);
+    ASSERT_EQ(*full.functional_dimension, full.scaling_bound) << "sample " << sample;
+    FunctionalDimensionOptions points_only;
+    points_only.walk.threads = 1;
+    points_only.sweep_lines = false;
+    const auto without_lines = certify_functional_dimension(network, domain, points_only);
+    EXPECT_FALSE(without_lines.certified_by_points) << "sample " << sample;
+    EXPECT_EQ(without_lines.functional_dimension, full.functional_dimension);
+    const auto with_lines = certify_with(network, domain, true, true);
+    ASSERT_TRUE(with_lines.certified_by_points) << "sample " << sample;
+    EXPECT_EQ(with_lines.regions_walked, 0u);
+    EXPECT_EQ(with_lines.functional_dimension, full.functional_dimension);
+    expect_witnesses_prove(network, domain, with_lines);
+  }
+}
+
 // Below the scaling bound (17 < 24, derived above) the points stall and the
 // walk certifies the value; the rows the points found are kept.
 TEST(CertifyFromPoints, FallsBackToTheWalkBelowTheScalingBound) {
@@ -732,7 +758,7 @@ TEST(CertifyFromPoints, FallsBackToTheWalkBelowTheScalingBound) {
 
 TEST(CertifyFromPoints, SameResultForAnyThreadCount) {
   for (const Network& network : {random_network({2, 5, 5, 1}, 21), random_network({3, 4, 4, 1}, 22),
-                                 random_network({2, 6, 1}, 23)}) {
+                                 random_network({2, 6, 1}, 23), random_network({2, 5, 5, 5, 1}, 1, 15)}) {
     const Domain domain = make_whole_space(network.input_dim);
     const auto one = certify_with(network, domain, true, true, 1);
     const auto two = certify_with(network, domain, true, true, 2);
