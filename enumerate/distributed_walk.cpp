@@ -267,7 +267,7 @@ class Ledger {
         prefixes += seen_.common_prefix(region_slots_[i - 1], region_slots_[i]) < prefix_end;
       summary_.regions_per_layer.push_back(prefixes);
     }
-    summary_.certified = summary_.complete && adjacency_.all_neighbours_delivered() && !anomaly_;
+    summary_.certified = summary_.complete && adjacency_.all_neighbors_delivered() && !anomaly_;
     summary_.seconds = seconds;
     return std::move(summary_);
   }
@@ -298,15 +298,15 @@ class Ledger {
     id_of_slot_[slot] = id;
     region_slots_.push_back(slot);
     neighbours_.clear();
-    const auto add_neighbour = [&](const ActivationPattern& neighbor) {
+    const auto add_neighbor = [&](const ActivationPattern& neighbor) {
       const std::uint32_t neighbour_slot = remember(neighbor).first;
       if (std::find(neighbours_.begin(), neighbours_.end(), neighbour_slot) == neighbours_.end())
         neighbours_.push_back(neighbour_slot);
     };
     for (const auto& facet : region.facets) {
       if (!facet.neighbor) continue;
-      add_neighbour(*facet.neighbor);
-      for (const auto& other : facet.other_neighbors) add_neighbour(other);
+      add_neighbor(*facet.neighbor);
+      for (const auto& other : facet.other_neighbors) add_neighbor(other);
     }
     const bool is_stop_asked = options_.on_region && !options_.on_region(region);
     adjacency_.add_region(id, slot, neighbours_, std::move(region.affine), id_of_slot_);  // after on_region, which reads it
