@@ -11,6 +11,7 @@
 #   widths 5/10, each with 3 and 4 hidden layers); default: five nets of it,
 #   plus 2,15x6,1 (the deeper net surveys use) either way.
 #   PLEAT_BENCH_RUNS=N hyperfine runs per net (default 5).
+#   PLEAT_BENCH_SCALED=0 leaves out the three huge/tiny-coefficient variants of 2,5,5,5,1.
 set -euo pipefail
 build=${1:-build}
 here=$(cd "$(dirname "$0")" && pwd)
@@ -26,15 +27,15 @@ fi
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
 printf '%-18s %8s %9s %9s %10s %14s %8s\n' arch regions "wall s" "cpu s" "cpu us/reg" "python us/reg" ratio
-for arch in $grid; do
-  net="$work/net.json"
-  "$pleat" random --arch "$arch" --seed 1 -o "$net"
+# One row: hyperfine's CPU time per region of `pleat walk`, next to the Python walk's.
+measure() {
+  local label=$1 net=$2 regions python
   regions=$("$pleat" walk "$net" --threads 1 --json --quiet |
     /usr/bin/python3 -c 'import json,sys; print(json.load(sys.stdin)["regions"])')
   hyperfine --style none --runs "$runs" --warmup 1 --export-json "$work/h.json" \
     "$pleat walk $net --threads 1 --quiet" >/dev/null
   python=$(/usr/bin/python3 "$here/walk_python.py" "$net" "$python_limit")
-  /usr/bin/python3 - "$arch" "$regions" "$work/h.json" "$python" <<'EOF'
+  /usr/bin/python3 - "$label" "$regions" "$work/h.json" "$python" <<'EOF'
 import json, sys
 arch, regions, timing, python = sys.argv[1], int(sys.argv[2]), json.load(open(sys.argv[3])), json.loads(sys.argv[4])
 result = timing["results"][0]
@@ -43,4 +44,31 @@ per = 1e6 * cpu / regions
 py = 1e6 * python["cpu_seconds"] / max(python["regions"], 1)
 print(f"{arch:<18} {regions:>8} {result['median']:>9.3f} {cpu:>9.3f} {per:>10.1f} {py:>14.0f} {py / per:>8.1f}")
 EOF
+}
+
+for arch in $grid; do
+  "$pleat" random --arch "$arch" --seed 1 -o "$work/net.json"
+  measure "$arch" "$work/net.json"
 done
+
+# Huge and tiny coefficients: 2,5,5,5,1 (seed 1) with its first hidden layer times
+# 10^12, its second times 10^-24 and its third divided by 2^61 - 1 (a Mersenne prime).
+# Scaling a ReLU layer's weights and bias by a positive number moves no bent
+# hyperplane, so the regions are the same 98; only the numbers get long.
+if [ "${PLEAT_BENCH_SCALED:-1}" = 1 ]; then
+  "$pleat" random --arch 2,5,5,5,1 --seed 1 -o "$work/base.json"
+  for scaled in "0 1000000000000" "1 1/1000000000000000000000000" "2 1/2305843009213693951"; do
+    set -- $scaled
+    /usr/bin/python3 - "$work/base.json" "$1" "$2" "$work/net.json" <<'EOF'
+import json, sys
+from fractions import Fraction
+net = json.load(open(sys.argv[1]))
+layer, factor = net["layers"][int(sys.argv[2])], Fraction(sys.argv[3])
+scale = lambda value: str(Fraction(str(value)) * factor)
+layer["weights"] = [[scale(w) for w in row] for row in layer["weights"]]
+layer["bias"] = [scale(b) for b in layer["bias"]]
+json.dump(net, open(sys.argv[4], "w"))
+EOF
+    measure "2,5,5,5,1 L$(( $1 + 1 ))x$2" "$work/net.json"
+  done
+fi
