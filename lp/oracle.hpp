@@ -10,6 +10,7 @@
 // poll the current thread's stop request (core/stop.hpp) and may throw Stopped.
 #pragma once
 
+#include "lp/filter_tolerances.hpp"
 #include "lp/polyhedron.hpp"
 
 #include <cstdint>
@@ -19,16 +20,6 @@ namespace pleat::lp {
 namespace detail {
 struct DoubleRows;
 }
-
-// Working tolerances of the double filter only. They never decide anything:
-// a proposal made with them is checked exactly.
-struct FilterTolerances {
-  double positive_slack = 1e-9;  // a double LP value above this is "clearly > 0"
-  // Skip every double proposal and let the exact solver answer each query (for
-  // tests: the fast path must never be the only one tested). Same verdicts
-  // (facets, emptiness, boundedness); points and multipliers may differ.
-  bool exact_only = false;
-};
 
 // decide_open_cell, find_centre and decide_boundedness count one question
 // each; classify_facets counts one per facet group.

@@ -147,7 +147,7 @@ std::optional<std::optional<RecessionDirection>> lineality_filtered(const Polyhe
     double norm = 0.0;
     for (double value : residual) norm += value * value;
     norm = std::sqrt(norm);
-    if (norm < 1e-9) continue;
+    if (norm < FilterTolerances::dependent_residual) continue;
     for (double& value : residual) value /= norm;
     basis.push_back(std::move(residual));
     independent.push_back(i);

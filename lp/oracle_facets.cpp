@@ -154,7 +154,7 @@ struct PolygonProposal {
 // gets a proposal the exact step rejects, and the general filter decides it.
 std::vector<PolygonProposal> polygon_proposals(const DoubleRows& rows, const RationalVector& interior) {
   constexpr std::size_t box = static_cast<std::size_t>(-1);  // label of the box's own edges
-  constexpr double kShortEdge = 1e-9;
+  constexpr double kShortEdge = FilterTolerances::oracle_short_edge;
   const std::size_t m = rows.count;
   const std::array<double, 2> centre{to_double(interior[0]), to_double(interior[1])};
   // The slack of constraint i at centre + u, for u relative to the interior point.

@@ -8,6 +8,7 @@
 #include "core/filtered_sign.hpp"
 #include "lp/detail/double_rows.hpp"
 #include "lp/detail/exact_tools.hpp"
+#include "lp/filter_tolerances.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -136,7 +137,7 @@ struct Polygon {
 
 std::optional<Point> intersect(const Line& p, const Line& q) {
   const double det = p.a0 * q.a1 - p.a1 * q.a0;
-  if (!(std::fabs(det) > 1e-14)) return std::nullopt;
+  if (!(std::fabs(det) > FilterTolerances::plane_parallel_determinant)) return std::nullopt;
   return Point{(-p.c * q.a1 + q.c * p.a1) / det, (-p.a0 * q.c + q.a0 * p.c) / det};
 }
 
@@ -222,7 +223,7 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
   std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return all[a].a0 < all[b].a0; });
   std::vector<std::size_t> root(m);
   for (std::size_t i = 0; i < m; ++i) root[i] = i;
-  constexpr double screen = 1e-9;
+  constexpr double screen = FilterTolerances::fast_path_multiple_screen;
   for (std::size_t a = 0; a < m; ++a) {
     const std::size_t i = order[a];
     for (std::size_t b = a + 1; b < m && all[order[b]].a0 - all[i].a0 <= screen; ++b) {
@@ -331,7 +332,8 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
     if (at == q) return false;
     const Point& from = shape.vertices[at];
     const Point& to = shape.vertices[(at + 1) % q];
-    if (!(max_norm(Point{to[0] - from[0], to[1] - from[1]}) > 1e-12 * (1.0 + max_norm(from)))) return false;
+    if (!(max_norm(Point{to[0] - from[0], to[1] - from[1]}) > FilterTolerances::plane_short_edge * (1.0 + max_norm(from))))
+      return false;
     const Point middle{(from[0] + to[0]) / 2, (from[1] + to[1]) / 2};
     double margin = 1.0;
     for (std::size_t other = 0; other < g; ++other)

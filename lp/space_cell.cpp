@@ -7,6 +7,7 @@
 
 #include "core/filtered_sign.hpp"
 #include "lp/detail/exact_tools.hpp"
+#include "lp/filter_tolerances.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -157,7 +158,7 @@ std::optional<Point> meet(const Plane& p, const Plane& q, const Plane& r) {
   };
   const Point qr = cross(q.a, r.a), rp = cross(r.a, p.a), pq = cross(p.a, q.a);
   const double det = p.a[0] * qr[0] + p.a[1] * qr[1] + p.a[2] * qr[2];
-  if (!(std::fabs(det) > 1e-12)) return std::nullopt;
+  if (!(std::fabs(det) > FilterTolerances::space_parallel_determinant)) return std::nullopt;
   Point x;
   for (std::size_t k = 0; k < 3; ++k) x[k] = -(p.c * qr[k] + q.c * rp[k] + r.c * pq[k]) / det;
   return x;
@@ -179,7 +180,8 @@ bool clip(Polytope& polytope, Polytope& spare, const std::vector<Plane>& planes,
   std::size_t negative = 0;
   for (std::size_t v = 0; v < n; ++v) {
     slack[v] = planes[h].slack(polytope[v].x);
-    if (!(std::fabs(slack[v]) > 1e-11 * (1.0 + max_norm(polytope[v].x)))) return false;
+    if (!(std::fabs(slack[v]) > FilterTolerances::space_vertex_on_plane * (1.0 + max_norm(polytope[v].x))))
+      return false;
     negative += slack[v] < 0;
   }
   if (negative == 0) return true;
@@ -284,7 +286,7 @@ void group_rows(const std::vector<SpaceRow>& exact, const std::vector<Plane>& al
   std::vector<std::size_t> order(m), root(m);
   for (std::size_t i = 0; i < m; ++i) order[i] = root[i] = i;
   std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return all[a].a[0] < all[b].a[0]; });
-  constexpr double screen = 1e-9;
+  constexpr double screen = FilterTolerances::fast_path_multiple_screen;
   const auto find = [&](std::size_t i) {
     while (root[i] != i) i = root[i];
     return i;

@@ -1,5 +1,7 @@
 #include "lp/detail/double_rows.hpp"
 
+#include "lp/filter_tolerances.hpp"
+
 #include <algorithm>
 #include <climits>
 #include <cmath>
@@ -83,6 +85,7 @@ std::optional<PlaneBoundednessProposal> propose_plane_boundedness(std::vector<st
   if (m == 0) return std::nullopt;
   std::sort(angles.begin(), angles.end());
   constexpr double pi = 3.14159265358979323846;
+  constexpr double margin = FilterTolerances::half_turn_margin;
   const auto gap_after = [&](std::size_t k) {  // counter-clockwise angle from normal k to normal k+1
     const double next = k + 1 < m ? angles[k + 1].first : angles[0].first + 2 * pi;
     return next - angles[k].first;
@@ -90,17 +93,17 @@ std::optional<PlaneBoundednessProposal> propose_plane_boundedness(std::vector<st
   std::size_t widest = 0;
   for (std::size_t k = 1; k < m; ++k)
     if (gap_after(k) > gap_after(widest)) widest = k;
-  if (gap_after(widest) >= pi - 1e-9) return PlaneBoundednessProposal{angles[(widest + 1) % m].second, {}};
+  if (gap_after(widest) >= pi - margin) return PlaneBoundednessProposal{angles[(widest + 1) % m].second, {}};
   // Every gap < pi: walk round greedily, each step to the last normal within pi.
   std::array<std::size_t, 3> chosen{};
   std::size_t at = 0;
   for (std::size_t step = 1; step < 3; ++step) {
     std::size_t next = at;
-    while (next + 1 < m && angles[next + 1].first - angles[at].first < pi - 1e-9) ++next;
+    while (next + 1 < m && angles[next + 1].first - angles[at].first < pi - margin) ++next;
     if (next == at) return std::nullopt;
     chosen[step] = at = next;
   }
-  if (angles[chosen[0]].first + 2 * pi - angles[chosen[2]].first >= pi - 1e-9) return std::nullopt;
+  if (angles[chosen[0]].first + 2 * pi - angles[chosen[2]].first >= pi - margin) return std::nullopt;
   return PlaneBoundednessProposal{std::nullopt, {angles[chosen[0]].second, angles[chosen[1]].second, angles[chosen[2]].second}};
 }
 

@@ -282,7 +282,7 @@ std::vector<std::vector<std::size_t>> group_positive_multiples(const Polyhedron&
   // Screen in double: positive multiples have equal scaled normals (up to
   // rounding), so sort by the first scaled coordinate and compare neighbours;
   // the exact test decides.
-  constexpr double screen = 1e-6;
+  constexpr double screen = FilterTolerances::oracle_multiple_screen;
   std::vector<std::size_t> order(m);
   for (std::size_t i = 0; i < m; ++i) order[i] = i;
   std::sort(order.begin(), order.end(),

@@ -1,14 +1,15 @@
 #include "lp/detail/working_rows.hpp"
 
+#include "lp/filter_tolerances.hpp"
+
 #include <algorithm>
 #include <numeric>
 
 namespace pleat::lp::detail {
 namespace {
 
-// A constraint counts as violated below this double slack; GLPK's own primal
-// tolerance is 1e-7 relative, and exact arithmetic re-checks everything anyway.
-constexpr double kViolation = 1e-9;
+// A constraint counts as violated below this double slack (FilterTolerances says why).
+constexpr double kViolation = FilterTolerances::violated_slack;
 constexpr std::size_t kRounds = 40;
 
 }  // namespace
