@@ -27,10 +27,10 @@ struct ClaimVerdict {
 };
 
 // A claimed value against the proved bounds of the network.
-ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& result);
+[[nodiscard]] ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& result);
 
 // A claimed value against the exact rank of the Jacobian at the claim's own points.
-ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank);
+[[nodiscard]] ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank);
 
 // Extra kernel directions grouped by (mechanism, neurons), in first-seen order.
 struct MechanismGroup {
@@ -50,7 +50,7 @@ struct RegionLimit {
 std::optional<RegionLimit> region_limit(const Network& network, const FunctionalDimensionResult& result);
 
 // Whether the point lies strictly inside the (open) domain. Exact.
-bool is_inside(const Domain& domain, const RationalVector& point);
+[[nodiscard]] bool is_inside(const Domain& domain, const RationalVector& point);
 
 // The activation pattern of each point's region, for the batch functional
 // dimension. A point outside the domain, on a bent hyperplane or in a region

@@ -35,7 +35,7 @@ class InteriorPointSource {
  private:
   Rational dyadic_normal(unsigned bits);
   Rational dyadic_fraction();  // uniform in (0, 1), 16 bits
-  bool is_inside(const RationalVector& point) const;
+  [[nodiscard]] bool is_inside(const RationalVector& point) const;
   RationalVector along_ray(const RationalVector& direction);
 
   const Domain& domain_;

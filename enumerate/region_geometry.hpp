@@ -29,12 +29,13 @@ struct PointIncidence {
   std::vector<std::size_t> vanishing_neurons;  // ids, increasing
   std::vector<ActivationPattern> regions;      // sorted
 };
+[[nodiscard]]
 PointIncidence regions_at_point(const Network& network, const Domain& domain, const RationalVector& point);
 
 // How many independent rows a region adds to the functional-dimension rank
 // when it is taken first: the exact rank of its coefficient blocks, 0 for a
 // region that has no smooth points. Precondition: a region pattern ('=' not
 // allowed). Exact.
-std::size_t rank_contribution(const Network& network, const ActivationPattern& pattern);
+[[nodiscard]] std::size_t rank_contribution(const Network& network, const ActivationPattern& pattern);
 
 }  // namespace pleat

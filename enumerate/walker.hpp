@@ -171,14 +171,14 @@ ActivationPattern walk_start_pattern(const Network& network, const Domain& domai
 // 2- or 3-input walk proves the same facets, neighbours and boundedness on
 // its plane or space path (lp/plane_cell.hpp, lp/space_cell.hpp), whose
 // interior and facet points may differ.
-std::optional<Region> describe_region(const Network& network, const Domain& domain,
-                                      const ActivationPattern& pattern, bool keep_certificates = false);
+[[nodiscard]] std::optional<Region> describe_region(const Network& network, const Domain& domain,
+                                                    const ActivationPattern& pattern, bool keep_certificates = false);
 
 // The cell of one pattern and the crossing of a facet, which the walker,
 // verify and the region geometry share, are in enumerate/pattern_cell.hpp.
 
 // The pattern of the region that contains the given point (which must not lie
 // on a bent hyperplane: nullopt then). Exact.
-std::optional<ActivationPattern> region_pattern_at(const Network& network, const RationalVector& point);
+[[nodiscard]] std::optional<ActivationPattern> region_pattern_at(const Network& network, const RationalVector& point);
 
 }  // namespace pleat

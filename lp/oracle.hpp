@@ -44,13 +44,13 @@ class Oracle {
   Oracle& operator=(Oracle&&) noexcept;
 
   // Query 1: is the open cell non-empty? Exact verdict.
-  CellVerdict decide_open_cell(const Polyhedron& cell);
+  [[nodiscard]] CellVerdict decide_open_cell(const Polyhedron& cell);
 
   // Query 4: a well-centred rational point strictly inside a non-empty open
   // cell, with short denominators (a Chebyshev-style centre in a norm computed
   // exactly, the radius capped by radius_cap > 0, rounded and re-checked).
   // Returns EmptinessCertificate when the cell is empty. Exact verdict.
-  CellVerdict find_centre(const Polyhedron& cell, const Rational& radius_cap = Rational(1));
+  [[nodiscard]] CellVerdict find_centre(const Polyhedron& cell, const Rational& radius_cap = Rational(1));
 
   // Query 2: every group of constraints classified as a facet of the closed
   // cell (with a relative-interior point) or not (with a Motzkin certificate).
@@ -59,16 +59,17 @@ class Oracle {
   // proved exactly (filtered signs, exact where they cannot decide) but its
   // NonFacetCertificate is left with empty multipliers: for callers that only
   // need to know which groups are facets (the walk without certificates).
-  FacetClassification classify_facets(const Polyhedron& cell, const InteriorPoint& interior,
-                                      bool keep_non_facet_certificates = true);
+  [[nodiscard]] FacetClassification classify_facets(const Polyhedron& cell, const InteriorPoint& interior,
+                                                    bool keep_non_facet_certificates = true);
 
   // Query 3: is the closed cell bounded? Precondition: the open cell is
   // non-empty. Exact verdict.
-  BoundednessVerdict decide_boundedness(const Polyhedron& cell);
+  [[nodiscard]] BoundednessVerdict decide_boundedness(const Polyhedron& cell);
 
-  const QueryCounts& counts() const;
+  [[nodiscard]] const QueryCounts& counts() const;
 
  private:
+  [[nodiscard]]
   BoundednessVerdict decide_boundedness_of_distinct_rows(const Polyhedron& cell, const detail::DoubleRows& rows);
   struct State;
   std::unique_ptr<State> state_;

@@ -49,18 +49,18 @@ struct PlaneCell {
 // has no vertex; no clipping when the cell is bounded), rounded to short
 // denominators: a function of the rows alone. nullopt: the cell is empty or
 // the double proposal could not be proved (slivers, huge coefficients).
-std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& rows);
+[[nodiscard]] std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& rows);
 
 // Whether the closure of {every row > 0} is bounded, proved exactly (normals
 // sorted by angle propose a recession direction or three normals with
 // positive Stiemke multipliers). Precondition: the open cell is non-empty;
 // rows non-empty. nullopt when the proposal fails.
-std::optional<bool> is_plane_cell_bounded(std::span<const PlaneRow> rows);
+[[nodiscard]] std::optional<bool> is_plane_cell_bounded(std::span<const PlaneRow> rows);
 
 // The Motzkin certificate (equality multiplier -1) of a PlaneGroup's support
 // on the same constraints in rational form (positive multiples of the integer
 // rows, in the same order). Exact; nullopt when it does not hold.
-std::optional<NonFacetCertificate> plane_redundancy_certificate(const Polyhedron& cell, std::size_t j,
-                                                                std::size_t s1, std::size_t s2);
+[[nodiscard]] std::optional<NonFacetCertificate> plane_redundancy_certificate(const Polyhedron& cell, std::size_t j,
+                                                                              std::size_t s1, std::size_t s2);
 
 }  // namespace pleat::lp

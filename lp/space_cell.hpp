@@ -58,14 +58,14 @@ struct SpaceCell {
 // denominators; each facet point is the average of its face's vertices, moved
 // onto its plane exactly. nullopt: the cell is empty, degenerate, or the
 // double proposal could not be proved.
-std::optional<SpaceCell> describe_space_cell(const std::vector<SpaceRow>& rows, std::size_t bounded_rows);
+[[nodiscard]] std::optional<SpaceCell> describe_space_cell(const std::vector<SpaceRow>& rows, std::size_t bounded_rows);
 
 // The Motzkin certificate (equality multiplier -1) of a non-facet row j from
 // support rows of the same constraints in rational form (positive multiples
 // of the integer rows, in the same order): a_j = sum y_s a_s with y >= 0 and
 // sum y_s c_s <= c_j, solved exactly. nullopt when it does not hold. Any
 // dimension.
-std::optional<NonFacetCertificate> space_redundancy_certificate(const Polyhedron& cell, std::size_t j,
-                                                                const std::vector<std::size_t>& support);
+[[nodiscard]] std::optional<NonFacetCertificate> space_redundancy_certificate(const Polyhedron& cell, std::size_t j,
+                                                                              const std::vector<std::size_t>& support);
 
 }  // namespace pleat::lp

@@ -48,7 +48,7 @@ class AnnihilationCheck {
   // taken from the pattern's layer inputs and backward signals modulo each
   // prime, without writing the blocks out (a vector costs its nonzero
   // entries).
-  bool annihilates(const ActivationPattern& pattern) const;
+  [[nodiscard]] bool annihilates(const ActivationPattern& pattern) const;
 
  private:
   // What a parameter is: W_k[neuron, input] or, with input == bias, b_k[neuron].
@@ -71,6 +71,7 @@ class AnnihilationCheck {
 // threads (the answer does not depend on their number), or nullopt when all
 // pass. Sets stopped (and returns nullopt) when the stop request fires;
 // progress(done, total) is called from the calling thread.
+[[nodiscard]]
 std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,
                                                   const std::vector<ActivationPattern>& patterns, unsigned threads,
                                                   const StopRequest& stop, bool& stopped,

@@ -13,7 +13,7 @@ using lp::is_positive_multiple;
 using lp::slack;
 
 // True when every normal has size dim and none is all zero.
-bool is_well_formed(const Polyhedron& cell);
+[[nodiscard]] bool is_well_formed(const Polyhedron& cell);
 
 // Throws usage_error naming the caller unless is_well_formed(cell).
 void require_well_formed(const Polyhedron& cell, const char* caller);

@@ -41,7 +41,7 @@ struct ScaledPoint {
 int slack_sign(const Constraint& constraint, const ScaledPoint& point, Integer& numerator, Integer& denominator,
                Integer& term);
 
-bool is_interior(const Polyhedron& cell, const RationalVector& point);
+[[nodiscard]] bool is_interior(const Polyhedron& cell, const RationalVector& point);
 
 // Each coordinate replaced by the simplest rational within radius of it
 // (radius <= 0: the double's exact value).
@@ -59,30 +59,33 @@ std::size_t largest_entry(const RationalVector& normal);
 // `solved` coordinate chosen so that constraint is exactly zero there.
 RationalVector project_onto(const Constraint& constraint, RationalVector point, std::size_t solved);
 
-bool is_facet_point(const Polyhedron& cell, const std::vector<std::size_t>& group,
-                    const RationalVector& point);
+[[nodiscard]] bool is_facet_point(const Polyhedron& cell, const std::vector<std::size_t>& group,
+                                  const RationalVector& point);
 
 // Exact Gordan/Motzkin multipliers on a proposed support S: solve
 //   sum_{s in S} y_s a_s = 0,  sum_{s in S} y_s = 1
 // exactly, then require y >= 0 and sum y_s c_s <= 0.
-std::optional<EmptinessCertificate> emptiness_on_support(const Polyhedron& cell,
-                                                         const std::vector<std::size_t>& support);
+[[nodiscard]] std::optional<EmptinessCertificate> emptiness_on_support(const Polyhedron& cell,
+                                                                       const std::vector<std::size_t>& support);
 
 // Exact Motzkin multipliers for "group j = 0, the rest > 0" on a proposed
 // support S (outside the group): solve
 //   mu a_j + sum_{s in S} y_s a_s = 0,  sum_{s in S} y_s = 1
 // exactly, then require y >= 0 and mu c_j + sum y_s c_s <= 0.
+[[nodiscard]]
 std::optional<NonFacetCertificate> non_facet_on_support(const Polyhedron& cell, std::size_t representative,
                                                         const std::vector<std::size_t>& support);
 
 // The redundancy form of the Motzkin certificate: a_j = sum_{s in S} y_s a_s
 // with y >= 0 and sum y_s c_s <= c_j (equality multiplier -1).
+[[nodiscard]]
 std::optional<NonFacetCertificate> redundancy_on_support(const Polyhedron& cell, std::size_t representative,
                                                          const std::vector<std::size_t>& support);
 
 // The redundancy certificate of redundancy_on_support for a support of two
 // constraints in the plane, by Cramer's rule (no matrix, few temporaries):
 // a_j = y1 a_s1 + y2 a_s2, y >= 0, y1 c_s1 + y2 c_s2 <= c_j.
+[[nodiscard]]
 std::optional<NonFacetCertificate> redundancy_in_plane(const Polyhedron& cell, std::size_t j, std::size_t s1,
                                                        std::size_t s2);
 
@@ -105,41 +108,43 @@ struct CellImages {
 };
 
 // Every constraint > 0 at point, decided exactly (filtered, exact when undecided).
-bool is_interior_filtered(const Polyhedron& cell, const CellImages& images, const RationalVector& point);
+[[nodiscard]] bool is_interior_filtered(const Polyhedron& cell, const CellImages& images, const RationalVector& point);
 
 // Whether redundancy_in_plane(cell, j, s1, s2) would succeed, by filtered
 // signs: with D = det(a_s1, a_s2), y1 = det(a_j, a_s2) / D, y2 = det(a_s1, a_j) / D
 // and y1 c_s1 + y2 c_s2 - c_j = -det[(a_s1, c_s1); (a_s2, c_s2); (a_j, c_j)] / D.
 // nullopt when a sign is left undecided. Exact when it returns a value.
+[[nodiscard]]
 std::optional<bool> is_redundant_in_plane_filtered(const CellImages& images, std::size_t j, std::size_t s1,
                                                    std::size_t s2);
 
 // is_facet_point for a single constraint j of a plane cell, with each
 // constraint's sign filtered first and computed exactly only when undecided.
-bool is_facet_point_filtered(const Polyhedron& cell, const CellImages& images, std::size_t j,
-                             const RationalVector& point);
+[[nodiscard]] bool is_facet_point_filtered(const Polyhedron& cell, const CellImages& images, std::size_t j,
+                                           const RationalVector& point);
 
 [[noreturn]] void internal_failure(const char* what);  // throws std::logic_error
 
 // Open cell, exactly (in the plane first by decide_open_cell_on_lines, else cddlib).
-CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap);
+[[nodiscard]] CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap);
 
 // Open plane cell (dim 2), exactly and without an LP: a facet point on some
 // constraint's line stepped inside, or, when no line has one, a Gordan certificate
 // on one line's support (lp/detail/oracle_line.cpp). nullopt when dim != 2 or no
 // certificate passes its exact check.
-std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell);
+[[nodiscard]] std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell);
 
 // One facet group, exactly (in the plane first by classify_group_on_line, else cddlib).
-FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group);
+[[nodiscard]] FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group);
 
 // One facet group of a plane cell (dim 2), exactly and without an LP: the open
 // interval the other constraints leave on the group's line (lp/detail/oracle_line.cpp).
 // nullopt when dim != 2 or a certificate unexpectedly fails its exact check.
+[[nodiscard]]
 std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const std::vector<std::size_t>& group);
 
 // Boundedness, exactly.
-BoundednessVerdict decide_boundedness_exactly(const Polyhedron& cell);
+[[nodiscard]] BoundednessVerdict decide_boundedness_exactly(const Polyhedron& cell);
 
 // Groups of positive multiples, by representative index; each group ascending.
 std::vector<std::vector<std::size_t>> group_positive_multiples(const Polyhedron& cell, const DoubleRows& rows);
