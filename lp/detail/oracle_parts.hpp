@@ -124,8 +124,13 @@ bool is_facet_point_filtered(const Polyhedron& cell, const CellImages& images, s
 // Open cell, exactly.
 CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap);
 
-// One facet group, exactly.
+// One facet group, exactly (in the plane first by classify_group_on_line, else cddlib).
 FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group);
+
+// One facet group of a plane cell (dim 2), exactly and without an LP: the open
+// interval the other constraints leave on the group's line (lp/detail/oracle_line.cpp).
+// nullopt when dim != 2 or a certificate unexpectedly fails its exact check.
+std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const std::vector<std::size_t>& group);
 
 // Boundedness, exactly.
 BoundednessVerdict decide_boundedness_exactly(const Polyhedron& cell);
