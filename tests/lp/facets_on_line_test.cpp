@@ -1,7 +1,9 @@
-// The plane cell's exact facet question without an LP (lp/detail/oracle_line.cpp):
-// every verdict passes the solver-free checker, and facet versus non-facet agrees
-// with a naive reference that tries every candidate point on the line.
+// The plane cell's exact facet and emptiness questions without an LP
+// (lp/detail/oracle_line.cpp): every verdict passes the solver-free checker; facet
+// versus non-facet agrees with a naive reference that tries every candidate point on
+// the line, and empty versus not with cddlib's exact LP called directly.
 #include "lp/checker.hpp"
+#include "lp/detail/exact_lp.hpp"
 #include "lp/detail/oracle_parts.hpp"
 #include "lp/oracle.hpp"
 #include "lp_test_support.hpp"
@@ -110,9 +112,79 @@ TEST(FacetsOnLine, ThinSliverParallelAndGroupedConstraints) {
   EXPECT_TRUE(std::holds_alternative<NonFacetCertificate>(*detail::classify_group_on_line(corner, {5})));
 }
 
+// Reference: cddlib's exact LP, maximise t subject to a_i . x + c_i - t >= 0 and t <= 1;
+// the open cell is non-empty exactly when the optimum is positive.
+bool is_nonempty_by_cddlib(const Polyhedron& cell) {
+  std::vector<detail::ExactRow> rows;
+  for (const Constraint& c : cell.constraints)
+    rows.push_back(detail::ExactRow{{c.normal[0], c.normal[1], Rational(-1)}, c.offset, false});
+  rows.push_back(detail::ExactRow{{Rational(0), Rational(0), Rational(-1)}, Rational(1), false});
+  const detail::ExactSolution solution = detail::maximise_exact(3, rows, {Rational(0), Rational(0), Rational(1)});
+  return solution.status == detail::ExactStatus::optimal && sgn(solution.value) > 0;
+}
+
+TEST(OpenCellOnLines, RandomPlaneCellsAgreeWithCddlib) {
+  std::mt19937 random(3122026);
+  std::uniform_int_distribution<long> entry(-9, 9), offset(-30, 30);
+  std::uniform_int_distribution<std::size_t> count(1, 9);
+  int empty = 0, nonempty = 0;
+  for (int trial = 0; trial < 600; ++trial) {
+    Polyhedron cell{2, {}};
+    for (std::size_t i = count(random); i > 0; --i) {
+      long a = 0, b = 0;
+      while (a == 0 && b == 0) {
+        a = entry(random);  // drawn one per statement: a call's argument order is unspecified
+        b = entry(random);
+      }
+      cell.constraints.push_back(constraint({a, b}, Rational(offset(random))));
+    }
+    if (trial % 5 == 0) cell.constraints.push_back(cell.constraints[0]);  // a repeated row
+    if (trial % 7 == 0) {  // a positive multiple of row 0, scaled by 3
+      Constraint tripled = cell.constraints[0];
+      for (Rational& value : tripled.normal) value *= 3;
+      tripled.offset *= 3;
+      cell.constraints.push_back(tripled);
+    }
+    const std::optional<CellVerdict> verdict = detail::decide_open_cell_on_lines(cell);
+    ASSERT_TRUE(verdict.has_value());
+    const bool expected = is_nonempty_by_cddlib(cell);
+    if (const auto* point = std::get_if<InteriorPoint>(&*verdict)) {
+      EXPECT_TRUE(check_interior_point(cell, *point));
+      EXPECT_TRUE(expected);
+      ++nonempty;
+    } else {
+      EXPECT_TRUE(check_emptiness(cell, std::get<EmptinessCertificate>(*verdict)));
+      EXPECT_FALSE(expected);
+      ++empty;
+    }
+  }
+  EXPECT_GT(empty, 100);
+  EXPECT_GT(nonempty, 100);
+}
+
+TEST(OpenCellOnLines, ASliverOfWidthTenToTheMinusThirty) {
+  // y > 0, -x > 0, x + 1e-30 y + 1e-30 > 0: a triangle of width 1e-30 near x = 0.
+  const Rational tiny(Integer(1), Integer("1000000000000000000000000000000"));
+  Polyhedron sliver{2, {constraint({0, 1}, 0), constraint({-1, 0}, 0), constraint({1, 0}, 0)}};
+  sliver.constraints[2].normal[1] = tiny;
+  sliver.constraints[2].offset = tiny;
+  const std::optional<CellVerdict> verdict = detail::decide_open_cell_on_lines(sliver);
+  ASSERT_TRUE(verdict.has_value());
+  ASSERT_TRUE(std::holds_alternative<InteriorPoint>(*verdict));
+  EXPECT_TRUE(check_interior_point(sliver, std::get<InteriorPoint>(*verdict)));
+  // With offset -1e-30 and y < 1 it is empty: x > 1e-30 (1 - y) > 0 contradicts -x > 0.
+  sliver.constraints[2].offset = -tiny;
+  sliver.constraints.push_back(constraint({0, -1}, 1));
+  const std::optional<CellVerdict> empty = detail::decide_open_cell_on_lines(sliver);
+  ASSERT_TRUE(empty.has_value());
+  ASSERT_TRUE(std::holds_alternative<EmptinessCertificate>(*empty));
+  EXPECT_TRUE(check_emptiness(sliver, std::get<EmptinessCertificate>(*empty)));
+}
+
 TEST(FacetsOnLine, OnlyThePlane) {
   const Polyhedron cube{3, {constraint({1, 0, 0}, 0), constraint({-1, 0, 0}, 1)}};
   EXPECT_FALSE(detail::classify_group_on_line(cube, {0}).has_value());
+  EXPECT_FALSE(detail::decide_open_cell_on_lines(cube).has_value());
 }
 
 }  // namespace
