@@ -185,6 +185,21 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // stall, and the lines after it, are too). Stalls after `patience` points
   // without a rise in rank.
   std::set<ActivationPattern> seen_by_points;
+  // Adds the rows of a point's region the first time a point lands in it
+  // (rows were computed in parallel for every smooth region not seen before
+  // its batch); keeps those that raise the rank. True when the rank rose.
+  auto keep_rows_of_point = [&](const PointRegion& point_region, const ModularMatrix& rows,
+                                const RationalVector& point) {
+    if (point_region.verdict != PointVerdict::smooth || !seen_by_points.insert(point_region.pattern).second)
+      return false;
+    KeptRows region{point_region.pattern, {}};
+    for (std::size_t r = 0; r < rows.rows(); ++r)
+      if (basis.add_row(rows.row(r))) region.rows.push_back(r);
+    if (region.rows.empty()) return false;
+    kept.push_back(std::move(region));
+    result.witness_points.push_back(point);
+    return true;
+  };
   auto rows_from_points = [&] {
     InteriorPointSource source(domain, options.points_seed);
     const IntegerPatternEvaluator evaluator(network);
@@ -213,14 +228,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       for (std::size_t i = 0; i < batch && basis.rank() < result.scaling_bound; ++i) {
         ++result.points_drawn;
         ++since_rise;
-        if (regions[i].verdict != PointVerdict::smooth || !seen_by_points.insert(regions[i].pattern).second) continue;
-        KeptRows region{regions[i].pattern, {}};
-        for (std::size_t r = 0; r < rows[i].rows(); ++r)
-          if (basis.add_row(rows[i].row(r))) region.rows.push_back(r);
-        if (region.rows.empty()) continue;
-        kept.push_back(std::move(region));
-        result.witness_points.push_back(points[i]);
-        since_rise = 0;
+        if (keep_rows_of_point(regions[i], rows[i], points[i])) since_rise = 0;
       }
       report("points", basis.rank(), result.scaling_bound);
     }
@@ -276,15 +284,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       const std::size_t rank_before = basis.rank();
       for (std::size_t i = 0; i < points.size() && basis.rank() < result.scaling_bound; ++i) {
         ++result.points_drawn;
-        if (regions[i].verdict != PointVerdict::smooth || rows[i].rows() == 0 ||
-            !seen_by_points.insert(regions[i].pattern).second)
-          continue;
-        KeptRows region{regions[i].pattern, {}};
-        for (std::size_t r = 0; r < rows[i].rows(); ++r)
-          if (basis.add_row(rows[i].row(r))) region.rows.push_back(r);
-        if (region.rows.empty()) continue;
-        kept.push_back(std::move(region));
-        result.witness_points.push_back(points[i]);
+        keep_rows_of_point(regions[i], rows[i], points[i]);
       }
       lines += lines_per_batch;
       since_rise = basis.rank() > rank_before ? 0 : since_rise + lines_per_batch;
