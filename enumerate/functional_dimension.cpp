@@ -13,6 +13,7 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <deque>
 #include <functional>
 #include <limits>
 #include <set>
@@ -134,6 +135,34 @@ double ray_reach(const Domain& domain, const DoubleVector& base, const DoubleVec
   return reach * (1 - 1e-9);
 }
 
+// Whether a phase of the no-walk path can still reach the scaling bound
+// within its budget at the rate its rank rose over its last `window` batches
+// (ranks fall off: the recent rate is the optimistic guess). False ends the
+// phase early on networks below their bound, where every point drawn is
+// overhead before the walk; speed only: the walk that follows decides.
+// Never false while the rank is within 1/16 of the bound: networks at their
+// bound rise steeply to near it, then find their last few rows slowly, and
+// for them (more inputs: a walk can be far dearer) the points are the point.
+class ReachForecast {
+ public:
+  explicit ReachForecast(std::size_t window) : window_(window) {}
+  // The rank after a batch; used and budget in the phase's units (points or
+  // lines), batch_size units per batch.
+  bool reachable(std::size_t rank, std::size_t bound, std::size_t used, std::size_t budget, std::size_t batch_size) {
+    ranks_.push_back(rank);
+    if (ranks_.size() <= window_) return true;
+    const std::size_t gain = rank - ranks_.front();
+    ranks_.pop_front();
+    const std::size_t remaining = budget > used ? budget - used : 0;
+    const std::size_t deficit = bound - rank;
+    return 16 * deficit < bound || gain * remaining >= deficit * window_ * batch_size;
+  }
+
+ private:
+  std::size_t window_;
+  std::deque<std::size_t> ranks_;
+};
+
 }  // namespace
 
 std::optional<std::size_t> first_region_not_annihilated(const Network& network, const RationalMatrix& vectors,
@@ -212,6 +241,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     const std::size_t budget = 4 * result.scaling_bound + 256;
     constexpr std::size_t batch = 32;
     std::size_t since_rise = 0;
+    ReachForecast forecast(8);
     const StopScope scope(stop);
     while (basis.rank() < result.scaling_bound && since_rise < patience && result.points_drawn < budget) {
       if (stop.is_requested()) return;
@@ -236,6 +266,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
         if (keep_rows_of_point(regions[i], rows[i], points[i])) since_rise = 0;
       }
       report("points", basis.rank(), result.scaling_bound);
+      if (!forecast.reachable(basis.rank(), result.scaling_bound, result.points_drawn, budget, batch)) return;
     }
   };
 
@@ -254,6 +285,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     const std::size_t line_budget = 64 + result.scaling_bound;
     std::unordered_set<std::string> proposed;
     std::size_t lines = 0, since_rise = 0;
+    ReachForecast forecast(4);
     const StopScope scope(stop);
     while (basis.rank() < result.scaling_bound && since_rise < line_patience && lines < line_budget) {
       if (stop.is_requested()) return;
@@ -294,6 +326,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       lines += lines_per_batch;
       since_rise = basis.rank() > rank_before ? 0 : since_rise + lines_per_batch;
       report("lines", basis.rank(), result.scaling_bound);
+      if (!forecast.reachable(basis.rank(), result.scaling_bound, lines, line_budget, lines_per_batch)) return;
     }
   };
 
