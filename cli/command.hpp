@@ -1,6 +1,6 @@
 // How pleat's subcommands plug into the executable.
 //
-// Each subcommand lives in its own file cli/<name>_command.cpp and defines
+// Each subcommand lives in its own file cli/commands/<name>_command.cpp and defines
 //   void register_<name>(CommandTable& commands);
 // which declares its options on the CLI::App that commands.add() returns and
 // hands over the action to run. To add a subcommand, write that file and add

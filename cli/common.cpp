@@ -1,7 +1,7 @@
 // Shared helpers of the pleat subcommands (see common.hpp).
 #include "cli/common.hpp"
 
-#include "cli/output_file.hpp"
+#include "cli/formats/output_file.hpp"
 #include "core/network_io.hpp"
 
 #include <charconv>

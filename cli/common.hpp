@@ -107,7 +107,7 @@ std::string count_of(std::size_t count, std::string_view singular, std::string_v
 // Writes text to `path`, or to standard output when path is "" or "-".
 // A file that cannot be opened is an input_error naming it and the system's
 // reason; one that cannot be written (or standard output) an output_error
-// (cli/output_file.hpp).
+// (cli/formats/output_file.hpp).
 void write_output(const std::string& path, std::string_view text);
 
 }  // namespace pleat::cli

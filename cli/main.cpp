@@ -2,7 +2,7 @@
 // turns errors into "pleat: <message>" and an exit code (2 bad input or
 // usage, 1 any other failure). Never a stack trace.
 #include "cli/command.hpp"
-#include "cli/output_file.hpp"
+#include "cli/formats/output_file.hpp"
 #include "cli/process_group.hpp"
 #include "core/errors.hpp"
 #include "core/rational.hpp"
@@ -18,7 +18,7 @@
 #endif
 
 namespace pleat::cli {
-// Every subcommand, defined in cli/<name>_command.cpp (see command.hpp).
+// Every subcommand, defined in cli/commands/<name>_command.cpp (see command.hpp).
 // To add one: declare it here and call it in register_all_commands.
 void register_random(CommandTable& commands);
 void register_eval(CommandTable& commands);

@@ -1,7 +1,7 @@
 // The data embedded in `pleat report` pages (cli/report_data.hpp).
 #include "cli/report_data.hpp"
 
-#include "cli/region_json.hpp"
+#include "cli/formats/region_json.hpp"
 #include "core/jacobian.hpp"
 #include "core/rank.hpp"
 #include "core/stop.hpp"

@@ -6,7 +6,7 @@
 #pragma once
 
 #include "cli/common.hpp"
-#include "cli/figure_scene.hpp"
+#include "cli/figures/figure_scene.hpp"
 #include "cli/survey_report.hpp"
 #include "enumerate/domain.hpp"
 #include "enumerate/functional_dimension.hpp"

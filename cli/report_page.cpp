@@ -2,7 +2,7 @@
 // cli/report/report.js and report.css, embedded at build time.
 #include "cli/report_page.hpp"
 
-#include "cli/figure.hpp"  // escape_xml
+#include "cli/figures/figure.hpp"  // escape_xml
 
 #include <sstream>
 

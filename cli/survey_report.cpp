@@ -1,7 +1,7 @@
 #include "cli/survey_report.hpp"
 
-#include "cli/figure.hpp"
-#include "cli/survey_file.hpp"
+#include "cli/figures/figure.hpp"
+#include "cli/formats/survey_file.hpp"
 
 #include <algorithm>
 #include <cmath>

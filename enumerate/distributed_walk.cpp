@@ -4,18 +4,16 @@
 #include "core/stop.hpp"
 #include "core/evaluate.hpp"
 #include "enumerate/detail/pattern_store.hpp"
+#include "enumerate/detail/prefix_pool.hpp"
 #include "enumerate/detail/walk_adjacency.hpp"
 #include "enumerate/region_codec.hpp"
 
 #include <algorithm>
 #include <bit>
 #include <chrono>
-#include <condition_variable>
 #include <cstring>
-#include <exception>
 #include <functional>
 #include <memory>
-#include <mutex>
 #include <optional>
 #include <thread>
 #include <unordered_set>
@@ -67,61 +65,18 @@ struct LevelWork {
 };
 
 // Processes the patterns on the workers' threads as walk_regions processes a
-// level: results by index, polled for a stop every 0.2 s and inside each
-// region (StopScope), and only the prefix finished without a gap kept.
+// level (detail::run_prefix_pool): only the prefix finished without a gap is
+// kept.
 LevelWork process_share(std::vector<std::unique_ptr<RegionWorker>>& workers, const std::vector<ActivationPattern>& share,
                         const StopRequest& stop, const std::function<void(std::size_t)>& on_tick) {
   LevelWork work;
-  if (share.empty()) return work;
   std::vector<RegionWorker::Outcome> results(share.size());
-  std::vector<char> done(share.size(), 0);
-  std::atomic<std::size_t> next{0};
-  std::atomic<std::size_t> finished{0};
-  std::atomic<bool> halt{false};
-  std::mutex error_mutex;
-  std::exception_ptr error;
-  std::mutex wake_mutex;
-  std::condition_variable wake;
-  std::atomic<int> stopped_inside{static_cast<int>(StopReason::none)};
-  auto run = [&](RegionWorker& worker) {
-    try {
-      const StopScope scope(stop);
-      for (std::size_t i; !halt && (i = next++) < share.size();) {
-        results[i] = worker.process(share[i]);
-        done[i] = 1;
-        ++finished;
-      }
-    } catch (const Stopped& stopped) {  // mid-region: that region stays undone
-      stopped_inside = static_cast<int>(stopped.reason());
-      halt = true;
-    } catch (...) {
-      std::lock_guard lock(error_mutex);
-      if (!error) error = std::current_exception();
-      halt = true;
-    }
-    std::lock_guard lock(wake_mutex);
-    wake.notify_all();
-  };
-  std::vector<std::thread> pool;
-  const std::size_t threads = std::min(workers.size(), share.size());
-  for (std::size_t t = 0; t < threads; ++t) pool.emplace_back(run, std::ref(*workers[t]));
-  {
-    std::unique_lock lock(wake_mutex);
-    while (!wake.wait_for(lock, std::chrono::milliseconds(200), [&] { return finished == share.size() || halt; })) {
-      if (StopReason reason = stop.reason(); reason != StopReason::none) {
-        work.stopped = reason;
-        halt = true;
-      }
-      if (on_tick) on_tick(finished);
-    }
-  }
-  for (auto& thread : pool) thread.join();
-  if (error) std::rethrow_exception(error);
-  if (work.stopped == StopReason::none) work.stopped = static_cast<StopReason>(stopped_inside.load());
-  std::size_t prefix = 0;
-  while (prefix < share.size() && done[prefix]) ++prefix;
-  results.resize(prefix);
+  const detail::PrefixRun run = detail::run_prefix_pool(
+      share.size(), workers.size(), stop,
+      [&](std::size_t worker, std::size_t i) { results[i] = workers[worker]->process(share[i]); }, on_tick);
+  results.resize(run.prefix);
   work.outcomes = std::move(results);
+  work.stopped = run.stopped;
   return work;
 }
 

@@ -4,19 +4,16 @@
 #include "enumerate/detail/crossing.hpp"
 #include "enumerate/detail/integer_maps.hpp"
 #include "enumerate/detail/pattern_store.hpp"
+#include "enumerate/detail/prefix_pool.hpp"
 #include "enumerate/detail/region_processor.hpp"
 #include "enumerate/detail/walk_adjacency.hpp"
 #include "enumerate/detail/walk_helpers.hpp"
 #include "enumerate/pattern_cell.hpp"
 
 #include <algorithm>
-#include <atomic>
 #include <chrono>
-#include <condition_variable>
 #include <cstdint>
-#include <exception>
 #include <memory>
-#include <mutex>
 #include <thread>
 
 namespace pleat {
@@ -198,56 +195,18 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
       // order of output does not depend on the thread count.
       const std::size_t end = std::min(level.size(), begin + chunk);
       std::vector<detail::Processed> results(end - begin);
-      std::vector<char> done(end - begin, 0);
-      std::atomic<std::size_t> next{0};
-      std::atomic<std::size_t> finished{0};
-      std::atomic<bool> halt{false};
-      std::mutex error_mutex;
-      std::exception_ptr error;
-      std::mutex wake_mutex;
-      std::condition_variable wake;
-      std::atomic<int> stopped_inside{static_cast<int>(StopReason::none)};
-      auto work = [&](detail::RegionProcessor& processor) {
-        try {
-          const StopScope scope(stop);
-          for (std::size_t i; !halt && (i = next++) < results.size();) {
-            results[i] = processor.process(seen.pattern(level[begin + i]));  // the store is not written meanwhile
-            done[i] = 1;
-            ++finished;
-          }
-        } catch (const Stopped& stopped) {  // mid-region: that region stays undone
-          stopped_inside = static_cast<int>(stopped.reason());
-          halt = true;
-        } catch (...) {
-          std::lock_guard lock(error_mutex);
-          if (!error) error = std::current_exception();
-          halt = true;
-        }
-        std::lock_guard lock(wake_mutex);
-        wake.notify_all();
-      };
-      std::vector<std::thread> pool;
-      for (unsigned t = 0; t < threads; ++t) pool.emplace_back(work, std::ref(*processors[t]));
-      {
-        // Wake when the chunk is done, or every 0.2 s to report and check limits.
-        std::unique_lock lock(wake_mutex);
-        while (!wake.wait_for(lock, std::chrono::milliseconds(200),
-                              [&] { return finished == results.size() || halt; })) {
-          if (StopReason reason = stop_requested(); reason != StopReason::none) {
-            summary.stop_reason = reason;
-            halt = true;
-          }
-          if (options.on_progress)
-            options.on_progress(WalkProgress{summary.regions + finished, level.size() - begin - finished, elapsed()});
-        }
-      }
-      for (auto& thread : pool) thread.join();
-      if (error) std::rethrow_exception(error);
-      if (summary.stop_reason == StopReason::none && stopped_inside != static_cast<int>(StopReason::none))
-        summary.stop_reason = static_cast<StopReason>(stopped_inside.load());
+      const detail::PrefixRun run = detail::run_prefix_pool(
+          results.size(), processors.size(), stop,
+          [&](std::size_t worker, std::size_t i) {
+            results[i] = processors[worker]->process(seen.pattern(level[begin + i]));  // the store is not written meanwhile
+          },
+          [&](std::size_t finished) {
+            if (options.on_progress)
+              options.on_progress(WalkProgress{summary.regions + finished, level.size() - begin - finished, elapsed()});
+          });
+      summary.stop_reason = run.stopped;
 
-      for (std::size_t i = 0; i < results.size(); ++i) {
-        if (!done[i]) break;  // cut short: keep the processed prefix, in order
+      for (std::size_t i = 0; i < run.prefix; ++i) {  // cut short: keep the processed prefix, in order
         detail::Processed& processed = results[i];
         if (!processed.is_region) {
           anomaly = true;

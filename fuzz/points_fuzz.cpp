@@ -2,7 +2,7 @@
 // (read, then the exact batch rank, on the example network data/fold2d.json,
 // 2 inputs), and as a .npy file through the reader itself (the extension
 // decides the format).
-#include "cli/points_file.hpp"
+#include "cli/formats/points_file.hpp"
 #include "fuzz/fuzz_support.hpp"
 
 #include <cstdint>

@@ -121,11 +121,22 @@ bool is_facet_point_filtered(const Polyhedron& cell, const CellImages& images, s
 
 [[noreturn]] void internal_failure(const char* what);  // throws std::logic_error
 
-// Open cell, exactly.
+// Open cell, exactly (in the plane first by decide_open_cell_on_lines, else cddlib).
 CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap);
 
-// One facet group, exactly.
+// Open plane cell (dim 2), exactly and without an LP: a facet point on some
+// constraint's line stepped inside, or, when no line has one, a Gordan certificate
+// on one line's support (lp/detail/oracle_line.cpp). nullopt when dim != 2 or no
+// certificate passes its exact check.
+std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell);
+
+// One facet group, exactly (in the plane first by classify_group_on_line, else cddlib).
 FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group);
+
+// One facet group of a plane cell (dim 2), exactly and without an LP: the open
+// interval the other constraints leave on the group's line (lp/detail/oracle_line.cpp).
+// nullopt when dim != 2 or a certificate unexpectedly fails its exact check.
+std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const std::vector<std::size_t>& group);
 
 // Boundedness, exactly.
 BoundednessVerdict decide_boundedness_exactly(const Polyhedron& cell);

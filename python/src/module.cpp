@@ -9,8 +9,8 @@
 #include "survey_jobs.hpp"
 
 #include "cli/common.hpp"
-#include "cli/output_file.hpp"
-#include "cli/survey_file.hpp"
+#include "cli/formats/output_file.hpp"
+#include "cli/formats/survey_file.hpp"
 #include "core/evaluate.hpp"
 #include "core/jacobian.hpp"
 #include "core/errors.hpp"

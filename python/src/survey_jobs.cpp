@@ -4,8 +4,8 @@
 #include "run_job.hpp"
 
 #include "cli/common.hpp"
-#include "cli/output_file.hpp"
-#include "cli/survey_file.hpp"
+#include "cli/formats/output_file.hpp"
+#include "cli/formats/survey_file.hpp"
 #include "core/errors.hpp"
 #include "core/random_network.hpp"
 #include "enumerate/survey.hpp"

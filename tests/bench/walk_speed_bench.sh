@@ -11,13 +11,17 @@
 #   widths 5/10, each with 3 and 4 hidden layers); default: five nets of it,
 #   plus 2,15x6,1 (the deeper net surveys use) either way.
 #   PLEAT_BENCH_RUNS=N hyperfine runs per net (default 5).
+#   PLEAT_BENCH_GRID="ARCH ..." those nets instead (may be " " for none).
+#   PLEAT_BENCH_SCALED=0 leaves out the three huge/tiny-coefficient variants of 2,5,5,5,1.
 set -euo pipefail
 build=${1:-build}
 here=$(cd "$(dirname "$0")" && pwd)
 pleat=$(cd "$build" && pwd)/cli/pleat
 runs=${PLEAT_BENCH_RUNS:-5}
 python_limit=${PLEAT_BENCH_PYTHON_LIMIT:-60}
-if [ "${PLEAT_BENCH_FULL:-0}" = 1 ]; then
+if [ -n "${PLEAT_BENCH_GRID:-}" ]; then
+  grid=$PLEAT_BENCH_GRID
+elif [ "${PLEAT_BENCH_FULL:-0}" = 1 ]; then
   grid="2,5,5,5,1 2,5,5,5,5,1 2,10,10,10,1 2,10,10,10,10,1 2,15,15,15,1 2,15,15,15,15,1
         3,5,5,5,1 3,5,5,5,5,1 3,10,10,10,1 3,10,10,10,10,1 2,15,15,15,15,15,15,1"
 else
@@ -25,22 +29,58 @@ else
 fi
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
-printf '%-18s %8s %9s %9s %10s %14s %8s\n' arch regions "wall s" "cpu s" "cpu us/reg" "python us/reg" ratio
-for arch in $grid; do
-  net="$work/net.json"
-  "$pleat" random --arch "$arch" --seed 1 -o "$net"
+printf '%-36s %8s %9s %9s %10s %14s %8s\n' arch regions "wall s" "cpu s" "cpu us/reg" "python us/reg" ratio
+# One row: hyperfine's CPU time per region of `pleat walk`, next to the Python walk's.
+measure() {
+  local label=$1 net=$2 regions python
   regions=$("$pleat" walk "$net" --threads 1 --json --quiet |
     /usr/bin/python3 -c 'import json,sys; print(json.load(sys.stdin)["regions"])')
   hyperfine --style none --runs "$runs" --warmup 1 --export-json "$work/h.json" \
     "$pleat walk $net --threads 1 --quiet" >/dev/null
   python=$(/usr/bin/python3 "$here/walk_python.py" "$net" "$python_limit")
-  /usr/bin/python3 - "$arch" "$regions" "$work/h.json" "$python" <<'EOF'
+  /usr/bin/python3 - "$label" "$regions" "$work/h.json" "$python" <<'EOF'
 import json, sys
 arch, regions, timing, python = sys.argv[1], int(sys.argv[2]), json.load(open(sys.argv[3])), json.loads(sys.argv[4])
 result = timing["results"][0]
 cpu = result["user"] + result["system"]
 per = 1e6 * cpu / regions
 py = 1e6 * python["cpu_seconds"] / max(python["regions"], 1)
-print(f"{arch:<18} {regions:>8} {result['median']:>9.3f} {cpu:>9.3f} {per:>10.1f} {py:>14.0f} {py / per:>8.1f}")
+print(f"{arch:<36} {regions:>8} {result['median']:>9.3f} {cpu:>9.3f} {per:>10.1f} {py:>14.0f} {py / per:>8.1f}")
 EOF
+}
+
+for arch in $grid; do
+  "$pleat" random --arch "$arch" --seed 1 -o "$work/net.json"
+  measure "$arch" "$work/net.json"
 done
+
+# Huge and tiny coefficients, on 2,5,5,5,1 (seed 1): one hidden layer's weights and
+# bias multiplied by c, the first hidden layer by 10^12, the second by 10^-24, the
+# third by 1/(2^61 - 1) (a Mersenne prime). "+comp": the next layer's weights are
+# multiplied by 1/c, so every bent hyperplane and the 98 regions stay and only the
+# numbers get long. Without: the next layer's bent hyperplanes move to within about
+# 1/c of the scaled layer's (c = 10^12) or pile up (10^-24), giving thin regions
+# that the double filter cannot decide and the exact fallback must.
+if [ "${PLEAT_BENCH_SCALED:-1}" = 1 ]; then
+  "$pleat" random --arch 2,5,5,5,1 --seed 1 -o "$work/base.json"
+  for scaled in "0 1000000000000 1" "1 1/1000000000000000000000000 1" "2 1/2305843009213693951 1" \
+                "0 1000000000000 0" "1 1/1000000000000000000000000 0"; do
+    set -- $scaled
+    /usr/bin/python3 - "$work/base.json" "$1" "$2" "$3" "$work/net.json" <<'EOF'
+import json, sys
+from fractions import Fraction
+net = json.load(open(sys.argv[1]))
+k, factor, compensate = int(sys.argv[2]), Fraction(sys.argv[3]), sys.argv[4] == "1"
+times = lambda value, c: str(Fraction(str(value)) * c)
+layer, after = net["layers"][k], net["layers"][k + 1]
+layer["weights"] = [[times(w, factor) for w in row] for row in layer["weights"]]
+layer["bias"] = [times(b, factor) for b in layer["bias"]]
+if compensate:
+    after["weights"] = [[times(w, 1 / factor) for w in row] for row in after["weights"]]
+json.dump(net, open(sys.argv[5], "w"))
+EOF
+    label="L$(( $1 + 1 ))x$2"
+    [ "$3" = 1 ] && label="$label+comp"
+    measure "$label" "$work/net.json"
+  done
+fi

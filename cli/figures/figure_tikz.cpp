@@ -1,6 +1,6 @@
 // The TikZ writer: the same figure as figure_svg.cpp, in centimetres, using
 // plain TikZ only (no libraries, no pgfplots), for \input in a paper.
-#include "cli/figure.hpp"
+#include "cli/figures/figure.hpp"
 
 #include <algorithm>
 #include <cctype>

@@ -2,7 +2,7 @@
 // the OFF format.
 #pragma once
 
-#include "cli/figure_scene.hpp"
+#include "cli/figures/figure_scene.hpp"
 #include "core/network.hpp"
 #include "enumerate/walker.hpp"
 

@@ -2,7 +2,7 @@
 // palette choice, the legend and the notes for each mode.
 #pragma once
 
-#include "cli/figure.hpp"
+#include "cli/figures/figure.hpp"
 #include "core/network.hpp"
 #include "enumerate/walker.hpp"
 

@@ -41,7 +41,7 @@ class LineReader {
   bool canonical_ = false;
 };
 
-// The header's "domain" (as cli/region_json.cpp's domain_to_json writes it).
+// The header's "domain" (as cli/formats/region_json.cpp's domain_to_json writes it).
 Domain domain_from_json(const Json& value, std::size_t input_dim, const LineReader& reader);
 
 // How a region file is read. exact_copy (verify): every key is required or

@@ -1,10 +1,10 @@
 // Points files (see points_file.hpp). The .npy format is read by xtensor's
 // reader (Debian's libxtensor-dev), from a copy of the file in memory so that
 // a short or over-long file is caught here: xtensor does not check either.
-#include "cli/points_file.hpp"
+#include "cli/formats/points_file.hpp"
 
 #include "cli/common.hpp"
-#include "cli/line_input.hpp"
+#include "cli/formats/line_input.hpp"
 
 #include <xtensor/xarray.hpp>
 #include <xtensor/xnpy.hpp>

@@ -4,7 +4,7 @@
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
-#include "cli/region_json.hpp"
+#include "cli/formats/region_json.hpp"
 #include "core/network_io.hpp"
 #include "enumerate/region_geometry.hpp"
 #include "enumerate/region_record.hpp"

@@ -1,4 +1,4 @@
-#include "cli/region_json.hpp"
+#include "cli/formats/region_json.hpp"
 
 #include <limits>
 #include <variant>

@@ -7,11 +7,11 @@
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
-#include "cli/output_file.hpp"
+#include "cli/formats/output_file.hpp"
 #include "cli/process_group.hpp"
 #include "cli/progress.hpp"
 #include "cli/signals.hpp"
-#include "cli/survey_file.hpp"
+#include "cli/formats/survey_file.hpp"
 #include "cli/survey_report.hpp"
 #include "enumerate/region_codec.hpp"
 

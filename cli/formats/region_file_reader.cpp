@@ -1,7 +1,7 @@
-#include "cli/region_file_reader.hpp"
+#include "cli/formats/region_file_reader.hpp"
 
-#include "cli/line_input.hpp"
-#include "cli/region_json.hpp"
+#include "cli/formats/line_input.hpp"
+#include "cli/formats/region_json.hpp"
 
 #include <algorithm>
 #include <initializer_list>

@@ -1,6 +1,6 @@
 // The SVG writer: a plot area in data coordinates, detached range-frame axes,
 // a key on the right. The look is specified in docs/figure-style.md.
-#include "cli/figure.hpp"
+#include "cli/figures/figure.hpp"
 
 #include <algorithm>
 #include <cmath>

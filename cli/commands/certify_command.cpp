@@ -1,14 +1,14 @@
 // pleat certify: the functional dimension, certified exactly; the batch
 // functional dimension at given points; a verdict on someone else's estimate.
-#include "cli/bundle_json.hpp"
+#include "cli/formats/bundle_json.hpp"
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
-#include "cli/output_file.hpp"
-#include "cli/points_file.hpp"
+#include "cli/formats/output_file.hpp"
+#include "cli/formats/points_file.hpp"
 #include "cli/process_group.hpp"
 #include "cli/progress.hpp"
-#include "cli/region_json.hpp"
+#include "cli/formats/region_json.hpp"
 #include "cli/signals.hpp"
 #include "cli/walk_options.hpp"
 #include "core/network_io.hpp"

@@ -1,7 +1,7 @@
-#include "cli/figure_colour.hpp"
+#include "cli/figures/figure_colour.hpp"
 
 #include "cli/common.hpp"
-#include "cli/figure_scene.hpp"
+#include "cli/figures/figure_scene.hpp"
 
 #include <algorithm>
 #include <cmath>

@@ -1,4 +1,4 @@
-#include "cli/output_file.hpp"
+#include "cli/formats/output_file.hpp"
 
 #include "core/rational.hpp"
 

@@ -1,7 +1,7 @@
-#include "cli/figure_mesh.hpp"
+#include "cli/figures/figure_mesh.hpp"
 
 #include "cli/common.hpp"
-#include "cli/figure.hpp"
+#include "cli/figures/figure.hpp"
 #include "core/stop.hpp"
 #include "lp/vertex_geometry.hpp"
 

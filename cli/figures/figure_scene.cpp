@@ -1,6 +1,6 @@
 // Shared by pleat draw and pleat report: views, cells, colouring, rank rows
-// (cli/figure_scene.hpp).
-#include "cli/figure_scene.hpp"
+// (cli/figures/figure_scene.hpp).
+#include "cli/figures/figure_scene.hpp"
 
 #include "core/jacobian.hpp"
 #include "core/rank.hpp"

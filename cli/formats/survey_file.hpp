@@ -5,7 +5,7 @@
 #pragma once
 
 #include "cli/common.hpp"
-#include "cli/output_file.hpp"
+#include "cli/formats/output_file.hpp"
 #include "enumerate/survey.hpp"
 
 #include <cstdint>

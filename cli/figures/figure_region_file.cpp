@@ -1,6 +1,6 @@
-#include "cli/figure_region_file.hpp"
+#include "cli/figures/figure_region_file.hpp"
 
-#include "cli/region_file_reader.hpp"
+#include "cli/formats/region_file_reader.hpp"
 
 namespace pleat::cli {
 

@@ -1,7 +1,7 @@
-#include "cli/survey_file.hpp"
+#include "cli/formats/survey_file.hpp"
 
-#include "cli/line_input.hpp"
-#include "cli/region_json.hpp"
+#include "cli/formats/line_input.hpp"
+#include "cli/formats/region_json.hpp"
 #include "core/domain_io.hpp"
 
 #include <algorithm>

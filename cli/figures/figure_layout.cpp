@@ -1,5 +1,5 @@
 // Palettes, ticks and the --size option shared by the figure writers.
-#include "cli/figure.hpp"
+#include "cli/figures/figure.hpp"
 
 #include "core/errors.hpp"
 

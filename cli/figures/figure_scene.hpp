@@ -6,7 +6,7 @@
 // exact tick multiples.
 #pragma once
 
-#include "cli/figure.hpp"
+#include "cli/figures/figure.hpp"
 #include "core/rational.hpp"
 #include "enumerate/domain.hpp"
 #include "enumerate/walker.hpp"

@@ -6,7 +6,7 @@
 // carry a claim that was not checked. docs/formats.md lists the keys.
 #include "cli/command.hpp"
 #include "cli/common.hpp"
-#include "cli/region_file_reader.hpp"
+#include "cli/formats/region_file_reader.hpp"
 #include "core/network_io.hpp"
 #include "enumerate/walk_check.hpp"
 

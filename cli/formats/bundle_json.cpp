@@ -1,6 +1,6 @@
-#include "cli/bundle_json.hpp"
+#include "cli/formats/bundle_json.hpp"
 
-#include "cli/region_json.hpp"
+#include "cli/formats/region_json.hpp"
 #include "core/network_io.hpp"
 
 namespace pleat::cli {

@@ -1,6 +1,6 @@
 // Reading a saved walk (pleat-regions/1 lines from `pleat walk -o`) back into
 // the walker's Region records, so `pleat draw --from` draws without walking:
-// the one region-file reader (cli/region_file_reader.hpp) read tolerantly,
+// the one region-file reader (cli/formats/region_file_reader.hpp) read tolerantly,
 // without certificates; nothing is re-checked here (`pleat verify` does that).
 #pragma once
 

@@ -1,4 +1,4 @@
-#include "cli/line_input.hpp"
+#include "cli/formats/line_input.hpp"
 
 #include "core/rational.hpp"  // input_error
 

@@ -1,0 +1,68 @@
+#include "enumerate/detail/prefix_pool.hpp"
+
+#include <algorithm>
+#include <atomic>
+#include <chrono>
+#include <condition_variable>
+#include <exception>
+#include <mutex>
+#include <thread>
+#include <vector>
+
+namespace pleat::detail {
+
+PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequest& stop,
+                          const std::function<void(std::size_t worker, std::size_t item)>& process,
+                          const std::function<void(std::size_t finished)>& on_tick) {
+  PrefixRun run;
+  if (count == 0) return run;
+  std::vector<char> done(count, 0);
+  std::atomic<std::size_t> next{0};
+  std::atomic<std::size_t> finished{0};
+  std::atomic<bool> halt{false};
+  std::mutex error_mutex;
+  std::exception_ptr error;
+  std::mutex wake_mutex;
+  std::condition_variable wake;
+  std::atomic<int> stopped_inside{static_cast<int>(StopReason::none)};
+  auto work = [&](std::size_t worker) {
+    try {
+      const StopScope scope(stop);
+      for (std::size_t i; !halt && (i = next++) < count;) {
+        process(worker, i);
+        done[i] = 1;
+        ++finished;
+      }
+    } catch (const Stopped& stopped) {  // mid-item: that item stays undone
+      stopped_inside = static_cast<int>(stopped.reason());
+      halt = true;
+    } catch (...) {
+      const std::lock_guard lock(error_mutex);
+      if (!error) error = std::current_exception();
+      halt = true;
+    }
+    const std::lock_guard lock(wake_mutex);
+    wake.notify_all();
+  };
+  std::vector<std::thread> pool;
+  const std::size_t threads = std::max<std::size_t>(1, std::min(workers, count));
+  for (std::size_t t = 0; t < threads; ++t) pool.emplace_back(work, t);
+  {
+    // Wake when every item is done, or every 0.2 s to report and check limits.
+    std::unique_lock lock(wake_mutex);
+    while (!wake.wait_for(lock, std::chrono::milliseconds(200), [&] { return finished == count || halt; })) {
+      if (const StopReason reason = stop.reason(); reason != StopReason::none) {
+        run.stopped = reason;
+        halt = true;
+      }
+      if (on_tick) on_tick(finished);
+    }
+  }
+  for (auto& thread : pool) thread.join();
+  if (error) std::rethrow_exception(error);
+  if (run.stopped == StopReason::none) run.stopped = static_cast<StopReason>(stopped_inside.load());
+  while (run.prefix < count && done[run.prefix]) ++run.prefix;
+  return run;
+}
+
+}  // namespace pleat::detail

@@ -1,0 +1,31 @@
+// The worker pool of a walk's level (walk_regions and the distributed walk
+// share it). Internal to enumerate/ (not installed).
+#pragma once
+
+#include "core/stop.hpp"
+
+#include <cstddef>
+#include <functional>
+
+namespace pleat::detail {
+
+// How far a pool got through its items.
+struct PrefixRun {
+  std::size_t prefix = 0;                   // items [0, prefix) were processed, without a gap
+  StopReason stopped = StopReason::none;    // why the pool stopped before the end (none: it did not)
+};
+
+// Runs process(worker, i) for every i in [0, count) on `workers` threads
+// (at most count of them), thread t passing worker t, each under a
+// StopScope of `stop`. Wakes every 0.2 s to poll stop.reason() and call
+// on_tick(items finished so far) (may be empty). A stop (polled, or Stopped
+// thrown inside an item, which leaves that item undone) halts the pool; only
+// the prefix finished without a gap counts, so that which items are kept
+// does not depend on the thread count beyond where the stop fell.
+// process must write only to item i's own slot. Rethrows the first other
+// exception after every thread has ended.
+PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequest& stop,
+                          const std::function<void(std::size_t worker, std::size_t item)>& process,
+                          const std::function<void(std::size_t finished)>& on_tick);
+
+}  // namespace pleat::detail

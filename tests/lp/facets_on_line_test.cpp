@@ -1,0 +1,191 @@
+// The plane cell's exact facet and emptiness questions without an LP
+// (lp/detail/oracle_line.cpp): every verdict passes the solver-free checker; facet
+// versus non-facet agrees with a naive reference that tries every candidate point on
+// the line, and empty versus not with cddlib's exact LP called directly.
+#include "lp/checker.hpp"
+#include "lp/detail/exact_lp.hpp"
+#include "lp/detail/oracle_parts.hpp"
+#include "lp/oracle.hpp"
+#include "lp_test_support.hpp"
+
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <random>
+
+namespace pleat::lp {
+namespace {
+
+using testing::constraint;
+using testing::random_cell_around;
+using testing::random_point;
+using testing::slack_at;
+
+// Naive reference: the line a_j . x + c_j = 0 meets every other line in at most one
+// point; an open piece of the line where all others are positive, if any, contains
+// the midpoint of two consecutive such crossings or a point beyond the last ones.
+bool has_facet_point_naive(const Polyhedron& cell, const std::vector<std::size_t>& group) {
+  const Constraint& rep = cell.constraints[group[0]];
+  // A point on the line and its direction.
+  const std::size_t solved = sgn(rep.normal[1]) != 0 ? 1 : 0;
+  RationalVector base(2, Rational(0));
+  base[solved] = -rep.offset / rep.normal[solved];
+  const RationalVector direction{-rep.normal[1], rep.normal[0]};
+  std::vector<Rational> crossings;
+  for (const Constraint& other : cell.constraints) {
+    const Rational along = other.normal[0] * direction[0] + other.normal[1] * direction[1];
+    if (sgn(along) != 0) crossings.push_back(-slack_at(other, base) / along);
+  }
+  std::sort(crossings.begin(), crossings.end());
+  std::vector<Rational> candidates{Rational(0)};
+  if (!crossings.empty()) {
+    candidates = {crossings.front() - 1, crossings.back() + 1};
+    for (std::size_t k = 0; k + 1 < crossings.size(); ++k) candidates.push_back((crossings[k] + crossings[k + 1]) / 2);
+  }
+  for (const Rational& s : candidates) {
+    const RationalVector x{base[0] + s * direction[0], base[1] + s * direction[1]};
+    bool is_facet_point = true;
+    for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+      const bool is_member = std::find(group.begin(), group.end(), i) != group.end();
+      if (!is_member && sgn(slack_at(cell.constraints[i], x)) <= 0) is_facet_point = false;
+    }
+    if (is_facet_point) return true;
+  }
+  return false;
+}
+
+void expect_agrees_with_reference(const Polyhedron& cell, const std::vector<std::size_t>& group) {
+  const std::optional<FacetVerdict> verdict = detail::classify_group_on_line(cell, group);
+  ASSERT_TRUE(verdict.has_value());
+  if (const auto* point = std::get_if<FacetPoint>(&*verdict)) {
+    EXPECT_TRUE(check_facet_point(cell, group, *point));
+  } else {
+    EXPECT_TRUE(check_non_facet(cell, group, std::get<NonFacetCertificate>(*verdict)));
+  }
+  EXPECT_EQ(std::holds_alternative<FacetPoint>(*verdict), has_facet_point_naive(cell, group));
+}
+
+TEST(FacetsOnLine, RandomPlaneCellsAgreeWithTheNaiveReference) {
+  std::mt19937 random(20261203);
+  int facets = 0, non_facets = 0;
+  for (int trial = 0; trial < 300; ++trial) {
+    const RationalVector inside = random_point(random, 2);
+    const Polyhedron cell = random_cell_around(random, 2, 3 + trial % 12, inside);
+    for (std::size_t j = 0; j < cell.constraints.size(); ++j) {
+      // Only a constraint that is no positive multiple of another is its own group.
+      bool has_multiple = false;
+      for (std::size_t i = 0; i < cell.constraints.size(); ++i)
+        has_multiple = has_multiple || (i != j && is_positive_multiple(cell.constraints[i], cell.constraints[j]));
+      if (has_multiple) continue;
+      expect_agrees_with_reference(cell, {j});
+      (has_facet_point_naive(cell, {j}) ? facets : non_facets) += 1;
+    }
+  }
+  // Both answers occur often enough to mean something.
+  EXPECT_GT(facets, 300);
+  EXPECT_GT(non_facets, 300);
+}
+
+TEST(FacetsOnLine, ThinSliverParallelAndGroupedConstraints) {
+  // A triangle of width 1e-30 between y = 0, x = 0 and x + 1e-30 (y + 1) = 0 ... as
+  // constraints y > 0, -x > 0 and x + 1e-30 y + 1e-30 > 0: each is a facet.
+  const Rational tiny(Integer(1), Integer("1000000000000000000000000000000"));
+  Polyhedron sliver{2, {constraint({0, 1}, 0), constraint({-1, 0}, 0), constraint({1, 0}, 0)}};
+  sliver.constraints[2].normal[1] = tiny;
+  sliver.constraints[2].offset = tiny;
+  for (std::size_t j = 0; j < 3; ++j) {
+    expect_agrees_with_reference(sliver, {j});
+    EXPECT_TRUE(std::holds_alternative<FacetPoint>(*detail::classify_group_on_line(sliver, {j})));
+  }
+  // A parallel constraint non-positive on the whole line (support one): x > 0 on -x = 0.
+  const Polyhedron parallel{2, {constraint({-1, 0}, 0), constraint({1, 0}, 0), constraint({0, 1}, 1)}};
+  expect_agrees_with_reference(parallel, {0});
+  EXPECT_TRUE(std::holds_alternative<NonFacetCertificate>(*detail::classify_group_on_line(parallel, {0})));
+  // A group of two positive multiples: the line they share is a facet of the square.
+  const Polyhedron square{2, {constraint({1, 0}, 0), constraint({2, 0}, 0), constraint({-1, 0}, 1),
+                              constraint({0, 1}, 0), constraint({0, -1}, 1)}};
+  expect_agrees_with_reference(square, {0, 1});
+  // A line touching the square only at the corner (0, 0): no facet.
+  Polyhedron corner = square;
+  corner.constraints.push_back(constraint({1, 1}, 0));
+  expect_agrees_with_reference(corner, {5});
+  EXPECT_TRUE(std::holds_alternative<NonFacetCertificate>(*detail::classify_group_on_line(corner, {5})));
+}
+
+// Reference: cddlib's exact LP, maximise t subject to a_i . x + c_i - t >= 0 and t <= 1;
+// the open cell is non-empty exactly when the optimum is positive.
+bool is_nonempty_by_cddlib(const Polyhedron& cell) {
+  std::vector<detail::ExactRow> rows;
+  for (const Constraint& c : cell.constraints)
+    rows.push_back(detail::ExactRow{{c.normal[0], c.normal[1], Rational(-1)}, c.offset, false});
+  rows.push_back(detail::ExactRow{{Rational(0), Rational(0), Rational(-1)}, Rational(1), false});
+  const detail::ExactSolution solution = detail::maximise_exact(3, rows, {Rational(0), Rational(0), Rational(1)});
+  return solution.status == detail::ExactStatus::optimal && sgn(solution.value) > 0;
+}
+
+TEST(OpenCellOnLines, RandomPlaneCellsAgreeWithCddlib) {
+  std::mt19937 random(3122026);
+  std::uniform_int_distribution<long> entry(-9, 9), offset(-30, 30);
+  std::uniform_int_distribution<std::size_t> count(1, 9);
+  int empty = 0, nonempty = 0;
+  for (int trial = 0; trial < 600; ++trial) {
+    Polyhedron cell{2, {}};
+    for (std::size_t i = count(random); i > 0; --i) {
+      long a = 0, b = 0;
+      while (a == 0 && b == 0) {
+        a = entry(random);  // drawn one per statement: a call's argument order is unspecified
+        b = entry(random);
+      }
+      cell.constraints.push_back(constraint({a, b}, Rational(offset(random))));
+    }
+    if (trial % 5 == 0) cell.constraints.push_back(cell.constraints[0]);  // a repeated row
+    if (trial % 7 == 0) {  // a positive multiple of row 0, scaled by 3
+      Constraint tripled = cell.constraints[0];
+      for (Rational& value : tripled.normal) value *= 3;
+      tripled.offset *= 3;
+      cell.constraints.push_back(tripled);
+    }
+    const std::optional<CellVerdict> verdict = detail::decide_open_cell_on_lines(cell);
+    ASSERT_TRUE(verdict.has_value());
+    const bool expected = is_nonempty_by_cddlib(cell);
+    if (const auto* point = std::get_if<InteriorPoint>(&*verdict)) {
+      EXPECT_TRUE(check_interior_point(cell, *point));
+      EXPECT_TRUE(expected);
+      ++nonempty;
+    } else {
+      EXPECT_TRUE(check_emptiness(cell, std::get<EmptinessCertificate>(*verdict)));
+      EXPECT_FALSE(expected);
+      ++empty;
+    }
+  }
+  EXPECT_GT(empty, 100);
+  EXPECT_GT(nonempty, 100);
+}
+
+TEST(OpenCellOnLines, ASliverOfWidthTenToTheMinusThirty) {
+  // y > 0, -x > 0, x + 1e-30 y + 1e-30 > 0: a triangle of width 1e-30 near x = 0.
+  const Rational tiny(Integer(1), Integer("1000000000000000000000000000000"));
+  Polyhedron sliver{2, {constraint({0, 1}, 0), constraint({-1, 0}, 0), constraint({1, 0}, 0)}};
+  sliver.constraints[2].normal[1] = tiny;
+  sliver.constraints[2].offset = tiny;
+  const std::optional<CellVerdict> verdict = detail::decide_open_cell_on_lines(sliver);
+  ASSERT_TRUE(verdict.has_value());
+  ASSERT_TRUE(std::holds_alternative<InteriorPoint>(*verdict));
+  EXPECT_TRUE(check_interior_point(sliver, std::get<InteriorPoint>(*verdict)));
+  // With offset -1e-30 and y < 1 it is empty: x > 1e-30 (1 - y) > 0 contradicts -x > 0.
+  sliver.constraints[2].offset = -tiny;
+  sliver.constraints.push_back(constraint({0, -1}, 1));
+  const std::optional<CellVerdict> empty = detail::decide_open_cell_on_lines(sliver);
+  ASSERT_TRUE(empty.has_value());
+  ASSERT_TRUE(std::holds_alternative<EmptinessCertificate>(*empty));
+  EXPECT_TRUE(check_emptiness(sliver, std::get<EmptinessCertificate>(*empty)));
+}
+
+TEST(FacetsOnLine, OnlyThePlane) {
+  const Polyhedron cube{3, {constraint({1, 0, 0}, 0), constraint({-1, 0, 0}, 1)}};
+  EXPECT_FALSE(detail::classify_group_on_line(cube, {0}).has_value());
+  EXPECT_FALSE(detail::decide_open_cell_on_lines(cube).has_value());
+}
+
+}  // namespace
+}  // namespace pleat::lp
