@@ -4,6 +4,7 @@
 #include "core/jacobian.hpp"
 #include "core/rank.hpp"
 #include "enumerate/detail/extra_naming.hpp"
+#include "enumerate/distributed_certify.hpp"
 #include "enumerate/detail/kernel_check.hpp"
 #include "enumerate/detail/kernel_lift.hpp"
 #include "enumerate/detail/parallel_for.hpp"
@@ -203,10 +204,15 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // read off the basis then fails the exact check after the walk, so the
   // result would be bounds, never a wrong certified value.
   auto add_region_rows = [&](const ActivationPattern& pattern) {
-    const ModularMatrix rows = coefficient_blocks_mod(modular, pattern);
     KeptRows region{pattern, {}};
-    for (std::size_t r = 0; r < rows.rows(); ++r)
-      if (basis.add_row_screened(rows.row(r))) region.rows.push_back(r);
+    if (options.across) {  // the rows its owner kept: the same rows stay (distributed_certify.hpp)
+      for (const auto& [r, row] : options.across->region_rows())
+        if (basis.add_row_screened(row)) region.rows.push_back(r);
+    } else {
+      const ModularMatrix rows = coefficient_blocks_mod(modular, pattern);
+      for (std::size_t r = 0; r < rows.rows(); ++r)
+        if (basis.add_row_screened(rows.row(r))) region.rows.push_back(r);
+    }
     if (!region.rows.empty()) kept.push_back(std::move(region));
   };
   const unsigned threads =
@@ -335,7 +341,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     ++result.regions_walked;
     activity.record(region.pattern);
     if (!region.nonsmooth_neurons.empty()) return true;  // no smooth points: no rows
-    smooth.push_back(region.pattern);
+    if (!options.across) smooth.push_back(region.pattern);  // across: each owner keeps its own
     if (!seen_by_points.contains(region.pattern)) add_region_rows(region.pattern);
     if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) {
       result.early_stop = true;
@@ -361,8 +367,11 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // The limit counts from the start of certify, not of the walk.
     if (options.walk.time_limit_seconds > 0)
       walk_options.time_limit_seconds = std::max(1e-9, options.walk.time_limit_seconds - stop.elapsed_seconds());
-    result.walk = options.walker ? options.walker(network, domain, walk_options)
-                                 : walk_regions(network, domain, walk_options);
+    if (options.across)
+      result.walk = options.across->walk(network, domain, walk_options, modular.prime, basis.rows(), seen_by_points);
+    else
+      result.walk = options.walker ? options.walker(network, domain, walk_options)
+                                   : walk_regions(network, domain, walk_options);
     result.walk_complete = result.walk.complete;
     result.nonsmooth_regions = result.walk.nonsmooth_regions;
     result.stop_reason = result.early_stop ? StopReason::none : result.walk.stop_reason;
@@ -393,11 +402,18 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     RationalMatrix extra(0, parameters);
     if (first_image.rows() > 0) {
       const detail::CheckScale check_scale(network);
+      const auto check_progress = [&](std::size_t done, std::size_t total) { report("check", done, total); };
+      detail::CandidateProof across_proof;
+      if (options.across)
+        across_proof = [&](const RationalMatrix& candidate, bool& is_stopped) {
+          return options.across->annihilates_every_region(candidate, threads, stop, is_stopped, check_progress);
+        };
       auto proved = detail::lift_and_prove_extra_directions(
           network, modular, scaling_pivots, kept, basis.rank(), first_image, smooth, check_scale, threads, stop,
-          stopped, [&](std::size_t step) { report("kernel", step, 0); },
-          [&](std::size_t done, std::size_t total) { report("check", done, total); });
-      if (stopped) result.stop_reason = stop.reason();
+          stopped, [&](std::size_t step) { report("kernel", step, 0); }, check_progress, across_proof);
+      if (stopped)
+        result.stop_reason = stop.reason() != StopReason::none || !options.across ? stop.reason()
+                                                                                  : options.across->stop_reason();
       if (!proved) return;  // stopped, or nothing proved: bounds only
       extra = std::move(*proved);
     }
