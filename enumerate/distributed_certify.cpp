@@ -86,7 +86,7 @@ class RowReduction final : public OwnedRegionWork {
         } else {
           std::vector<std::size_t> kept;
           for (std::size_t r = 0; r < rows[i].rows(); ++r)
-            if (basis_->add_row(rows[i].row(r))) kept.push_back(r);
+            if (basis_->add_row_screened(rows[i].row(r))) kept.push_back(r);  // core/rank.hpp
           out.put_unsigned(rows_note);
           out.put_unsigned(kept.size());
           for (std::size_t r : kept) {

@@ -76,6 +76,9 @@ struct FunctionalDimensionOptions {
   // domain are swept first (enumerate/line_sweep.hpp): one proposed point in
   // every linear piece a line crosses, each decided exactly like the random
   // ones, reaching thin and far regions (sweep_lines; off: random points only).
+  // Either phase also ends early when the rank is more than 1/16 below the
+  // bound and, at the rate it rose over the phase's recent batches, could not
+  // reach the bound within the phase's budget (a network below its bound).
   bool points_first = true;
   bool sweep_lines = true;
   std::uint64_t points_seed = 1;
