@@ -41,8 +41,9 @@ struct LineInterval {
   std::vector<std::size_t> support;
 };
 
-// is_member[i]: constraint i is in line j's group (a positive multiple of j).
-// Precondition: dim == 2 and a_j != 0.
+// is_member[i]: constraint i is in line j's group (a positive multiple of j); a
+// positive multiple left out of is_member is recognised on the way. Precondition:
+// dim == 2 and a_j != 0.
 LineInterval line_interval(const Polyhedron& cell, std::size_t j, const std::vector<bool>& is_member) {
   const Constraint& rep = cell.constraints[j];
   // x[solved] = -(c_j + a_jf s) / a_js with s = x[free]; a_js != 0 (largest entry).
@@ -63,6 +64,8 @@ LineInterval line_interval(const Polyhedron& cell, std::size_t j, const std::vec
     const int direction = sgn(alpha);
     if (direction == 0) {
       if (sgn(beta) > 0) continue;
+      // Zero on the whole line and on the same side as j: a positive multiple of j.
+      if (sgn(beta) == 0 && sgn(constraint.normal[solved]) == sgn(rep.normal[solved])) continue;
       return LineInterval{std::nullopt, {i}};  // parallel, non-positive on the whole line
     }
     bound = -beta / alpha;
@@ -131,24 +134,107 @@ std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const
 std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell) {
   if (cell.dim != 2 || cell.constraints.empty() || !is_well_formed(cell)) return std::nullopt;
   const std::size_t m = cell.constraints.size();
-  std::vector<std::vector<std::size_t>> supports;
+  std::vector<bool> is_member(m, false);
   for (std::size_t j = 0; j < m; ++j) {
-    std::vector<bool> is_member(m, false);
-    for (std::size_t i = 0; i < m; ++i) is_member[i] = i == j || is_positive_multiple(cell.constraints[i], cell.constraints[j]);
+    is_member[j] = true;
     LineInterval interval = line_interval(cell, j, is_member);
+    is_member[j] = false;
     if (interval.facet_point) {
       if (std::optional<RationalVector> point = step_inside(cell, j, *interval.facet_point))
         return CellVerdict{InteriorPoint{std::move(*point)}};
       return std::nullopt;
     }
+    // The line's support with the line itself is often a Gordan support (Helly: an
+    // empty open plane cell has an empty sub-cell of at most three constraints).
     interval.support.push_back(j);
-    supports.push_back(std::move(interval.support));
+    if (std::optional<EmptinessCertificate> certificate = emptiness_on_support(cell, interval.support)) {
+      if (!check_emptiness(cell, *certificate)) return std::nullopt;  // unexpected: cddlib decides
+      return CellVerdict{std::move(*certificate)};
+    }
   }
-  // No line has a facet point, so the open cell is empty; a Gordan certificate
-  // is sought on each line's support together with the line (Helly: three suffice).
-  for (const std::vector<std::size_t>& support : supports)
-    if (std::optional<EmptinessCertificate> certificate = emptiness_on_support(cell, support))
-      if (check_emptiness(cell, *certificate)) return CellVerdict{std::move(*certificate)};
+  // No line has a facet point, so the open cell is empty, but no line's support
+  // carried the certificate: cddlib finds one.
+  return std::nullopt;
+}
+
+namespace {
+
+// Cell 3-D restricted to the plane of constraint j (the group's members left out),
+// in the two coordinates other than the one solved for: each other constraint is
+// alpha . s + beta with alpha in Q^2. One that is constant and non-positive on the
+// plane is `violated` (a Motzkin support of one); constant positive ones are dropped.
+struct PlaneRestriction {
+  Polyhedron plane{2, {}};
+  std::vector<std::size_t> origin;  // plane constraint -> the cell's index
+  std::optional<std::size_t> violated;
+  std::size_t solved = 0;
+};
+
+PlaneRestriction restrict_to_plane(const Polyhedron& cell, std::size_t j, const std::vector<bool>& is_member) {
+  const Constraint& rep = cell.constraints[j];
+  PlaneRestriction result;
+  result.solved = largest_entry(rep.normal);
+  std::size_t free[2], f = 0;
+  for (std::size_t k = 0; k < 3; ++k)
+    if (k != result.solved) free[f++] = k;
+  // x[solved] = -(c_j + sum_f a_jf s_f) / a_js.
+  const Rational& pivot = rep.normal[result.solved];
+  for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+    if (is_member[i]) continue;
+    const Constraint& constraint = cell.constraints[i];
+    const Rational ratio = constraint.normal[result.solved] / pivot;
+    Constraint restricted;
+    restricted.normal = {constraint.normal[free[0]] - ratio * rep.normal[free[0]],
+                         constraint.normal[free[1]] - ratio * rep.normal[free[1]]};
+    restricted.offset = constraint.offset - ratio * rep.offset;
+    if (sgn(restricted.normal[0]) == 0 && sgn(restricted.normal[1]) == 0) {
+      if (sgn(restricted.offset) > 0) continue;
+      result.violated = i;
+      return result;
+    }
+    result.plane.constraints.push_back(std::move(restricted));
+    result.origin.push_back(i);
+  }
+  return result;
+}
+
+// The plane point s lifted onto constraint j's plane in the cell's coordinates.
+RationalVector lift_from_plane(const Constraint& rep, std::size_t solved, const RationalVector& s) {
+  RationalVector point(3);
+  for (std::size_t k = 0, f = 0; k < 3; ++k)
+    if (k != solved) point[k] = s[f++];
+  return project_onto(rep, std::move(point), solved);
+}
+
+}  // namespace
+
+std::optional<FacetVerdict> classify_group_on_plane(const Polyhedron& cell, const std::vector<std::size_t>& group) {
+  if (cell.dim != 3 || group.empty() || !is_well_formed(cell)) return std::nullopt;
+  const Constraint& rep = cell.constraints[group[0]];
+  const PlaneRestriction restriction = restrict_to_plane(cell, group[0], membership(cell.constraints.size(), group));
+  std::vector<std::size_t> support;
+  if (restriction.violated) {
+    support.push_back(*restriction.violated);
+  } else {
+    std::optional<CellVerdict> on_plane;
+    if (restriction.plane.constraints.empty())
+      on_plane = CellVerdict{InteriorPoint{RationalVector(2, Rational(0))}};
+    else
+      on_plane = decide_open_cell_on_lines(restriction.plane);
+    if (!on_plane) return std::nullopt;
+    if (const auto* inside = std::get_if<InteriorPoint>(&*on_plane)) {
+      RationalVector point = lift_from_plane(rep, restriction.solved, inside->point);
+      if (!is_facet_point(cell, group, point)) return std::nullopt;
+      return FacetVerdict{FacetPoint{std::move(point)}};
+    }
+    // A Gordan certificate on the plane: its support, with the line's own row
+    // folded into the equality multiplier, is a Motzkin support in space.
+    const RationalVector& y = std::get<EmptinessCertificate>(*on_plane).multipliers;
+    for (std::size_t k = 0; k < y.size(); ++k)
+      if (sgn(y[k]) > 0) support.push_back(restriction.origin[k]);
+  }
+  std::optional<NonFacetCertificate> certificate = non_facet_on_support(cell, group[0], support);
+  if (certificate && check_non_facet(cell, group, *certificate)) return FacetVerdict{std::move(*certificate)};
   return std::nullopt;
 }
 

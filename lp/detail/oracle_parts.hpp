@@ -138,6 +138,12 @@ FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<st
 // nullopt when dim != 2 or a certificate unexpectedly fails its exact check.
 std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const std::vector<std::size_t>& group);
 
+// One facet group of a space cell (dim 3), exactly and without an LP: the open
+// plane cell the other constraints leave on the group's plane, decided on its
+// lines (decide_open_cell_on_lines); a Gordan certificate there gives the Motzkin
+// support. nullopt when dim != 3 or a certificate unexpectedly fails its check.
+std::optional<FacetVerdict> classify_group_on_plane(const Polyhedron& cell, const std::vector<std::size_t>& group);
+
 // Boundedness, exactly.
 BoundednessVerdict decide_boundedness_exactly(const Polyhedron& cell);
 

@@ -1,7 +1,8 @@
-// The plane cell's exact facet and emptiness questions without an LP
+// The plane and space cells' exact facet and emptiness questions without an LP
 // (lp/detail/oracle_line.cpp): every verdict passes the solver-free checker; facet
 // versus non-facet agrees with a naive reference that tries every candidate point on
-// the line, and empty versus not with cddlib's exact LP called directly.
+// the line (plane) or with cddlib's exact LP called directly (space), and empty
+// versus not with cddlib.
 #include "lp/checker.hpp"
 #include "lp/detail/exact_lp.hpp"
 #include "lp/detail/oracle_parts.hpp"
@@ -181,10 +182,68 @@ TEST(OpenCellOnLines, ASliverOfWidthTenToTheMinusThirty) {
   EXPECT_TRUE(check_emptiness(sliver, std::get<EmptinessCertificate>(*empty)));
 }
 
+// Reference: cddlib's exact LP, maximise t subject to a_j . x + c_j = 0, a_i . x + c_i - t >= 0
+// (i outside the group) and t <= 1; a facet exactly when the optimum is positive.
+bool is_facet_by_cddlib(const Polyhedron& cell, const std::vector<std::size_t>& group) {
+  const std::size_t n = cell.dim;
+  std::vector<detail::ExactRow> rows;
+  RationalVector objective(n + 1, Rational(0));
+  objective[n] = 1;
+  for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+    const bool is_member = std::find(group.begin(), group.end(), i) != group.end();
+    if (is_member && i != group[0]) continue;
+    detail::ExactRow row{cell.constraints[i].normal, cell.constraints[i].offset, i == group[0]};
+    row.normal.push_back(Rational(i == group[0] ? 0 : -1));
+    rows.push_back(std::move(row));
+  }
+  detail::ExactRow cap{RationalVector(n + 1, Rational(0)), Rational(1), false};
+  cap.normal[n] = -1;
+  rows.push_back(std::move(cap));
+  const detail::ExactSolution solution = detail::maximise_exact(n + 1, rows, objective);
+  return solution.status == detail::ExactStatus::optimal && sgn(solution.value) > 0;
+}
+
+TEST(FacetsOnPlane, RandomSpaceCellsAgreeWithCddlib) {
+  std::mt19937 random(4122026);
+  std::uniform_int_distribution<long> entry(-6, 6);
+  int facets = 0, non_facets = 0;
+  for (int trial = 0; trial < 120; ++trial) {
+    const RationalVector inside = random_point(random, 3);
+    Polyhedron cell = random_cell_around(random, 3, 4 + trial % 10, inside);
+    if (trial % 4 == 0) {  // a constraint parallel to row 0, facing the other way, through inside
+      Constraint opposite = cell.constraints[0];
+      for (Rational& value : opposite.normal) value = -value;
+      opposite.offset = 0;
+      opposite.offset = Rational(1) - slack_at(opposite, inside);
+      cell.constraints.push_back(opposite);
+    }
+    for (std::size_t j = 0; j < cell.constraints.size(); ++j) {
+      bool has_multiple = false;
+      for (std::size_t i = 0; i < cell.constraints.size(); ++i)
+        has_multiple = has_multiple || (i != j && is_positive_multiple(cell.constraints[i], cell.constraints[j]));
+      if (has_multiple) continue;
+      const std::optional<FacetVerdict> verdict = detail::classify_group_on_plane(cell, {j});
+      ASSERT_TRUE(verdict.has_value());
+      const bool is_facet = std::holds_alternative<FacetPoint>(*verdict);
+      if (is_facet) {
+        EXPECT_TRUE(check_facet_point(cell, {j}, std::get<FacetPoint>(*verdict)));
+      } else {
+        EXPECT_TRUE(check_non_facet(cell, {j}, std::get<NonFacetCertificate>(*verdict)));
+      }
+      EXPECT_EQ(is_facet, is_facet_by_cddlib(cell, {j}));
+      (is_facet ? facets : non_facets) += 1;
+    }
+  }
+  EXPECT_GT(facets, 150);
+  EXPECT_GT(non_facets, 150);
+}
+
 TEST(FacetsOnLine, OnlyThePlane) {
   const Polyhedron cube{3, {constraint({1, 0, 0}, 0), constraint({-1, 0, 0}, 1)}};
   EXPECT_FALSE(detail::classify_group_on_line(cube, {0}).has_value());
   EXPECT_FALSE(detail::decide_open_cell_on_lines(cube).has_value());
+  const Polyhedron square{2, {constraint({1, 0}, 0), constraint({-1, 0}, 1)}};
+  EXPECT_FALSE(detail::classify_group_on_plane(square, {0}).has_value());
 }
 
 }  // namespace
