@@ -76,10 +76,12 @@ inline void finish_walks_across() {
   if (WalkTransport* group = process_group()) finish_distributed_walks(*group);
 }
 
-// Ranks other than 0: take part in rank 0's walks until it finishes, then
-// return the exit status (130 when interrupted).
-inline int follow_walks(const Network& network, const Domain& domain, const std::atomic<bool>& interrupt) {
-  follow_distributed_walks(network, domain, *process_group(), &interrupt);
+// Ranks other than 0: take part in rank 0's walks (and, with work, its
+// tasks: certify's) until it finishes, then return the exit status (130 when
+// interrupted).
+inline int follow_walks(const Network& network, const Domain& domain, const std::atomic<bool>& interrupt,
+                        FollowerWork* work = nullptr) {
+  follow_distributed_walks(network, domain, *process_group(), &interrupt, work);
   return interrupt.load() ? 130 : 0;
 }
 

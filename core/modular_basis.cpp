@@ -146,12 +146,43 @@ void scale(ModularVector& target, std::uint64_t factor, std::uint64_t prime) {
 
 }  // namespace
 
+namespace {
+
+std::uint64_t splitmix64(std::uint64_t& state) {
+  std::uint64_t z = (state += 0x9e3779b97f4a7c15ull);
+  z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
+  z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
+  return z ^ (z >> 31);
+}
+
+// A sum of products of residues below p < 2^63, exact in 192 bits (a 128-bit
+// sum and a count of its wrap-arounds), reduced once.
+struct WideSum {
+  Wide sum = 0;
+  std::uint64_t wraps = 0;
+  void add(std::uint64_t a, std::uint64_t b) {
+    const Wide product = static_cast<Wide>(a) * b;
+    sum += product;
+    wraps += static_cast<std::uint64_t>(sum < product);
+  }
+  // Precondition: fewer than p products were added (wraps < p).
+  std::uint64_t reduce(std::uint64_t prime, std::uint64_t prime_inverse) const {
+    return n_lll_mod_preinv(wraps, static_cast<std::uint64_t>(sum >> 64), static_cast<std::uint64_t>(sum), prime,
+                            prime_inverse);
+  }
+};
+
+}  // namespace
+
 ModularRowBasis::ModularRowBasis(std::uint64_t prime, std::size_t columns)
     : prime_(prime), prime_inverse_(0), columns_(columns) {
   check_prime_range(prime, "ModularRowBasis");
   prime_inverse_ = n_preinvert_limb(prime);
   free_columns_.resize(columns);
   for (std::size_t c = 0; c < columns; ++c) free_columns_[c] = c;
+  std::uint64_t state = 0x5c4ee45eedull;
+  screen_random_.resize(columns);
+  for (std::uint64_t& value : screen_random_) value = splitmix64(state) % prime;
 }
 
 void ModularRowBasis::check_row(const ModularVector& row, const char* where) const {
@@ -202,18 +233,47 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
   if (nonzero == reduced.end()) return false;
   const auto q = static_cast<std::size_t>(nonzero - reduced.begin());
   scale(reduced, n_invmod(reduced[q], prime_), prime_);
+  // The screen follows (add_row_screened): kept row i loses part[q] times
+  // the new row, so its product with c loses part[q] times the new row's.
+  WideSum along_new;
+  for (std::size_t k = 0; k < reduced.size(); ++k) along_new.add(reduced[k], screen_random_[free_columns_[k]]);
+  const std::uint64_t new_along = along_new.reduce(prime_, prime_inverse_);
   // Clear the new pivot column from the kept rows, then drop it from the
   // free columns of every stored row.
   const auto position = static_cast<std::ptrdiff_t>(q);
-  for (ModularVector& part : free_parts_) {
-    if (part[q] != 0) subtract_multiple(part, reduced, part[q], prime_);
+  for (std::size_t i = 0; i < free_parts_.size(); ++i) {
+    ModularVector& part = free_parts_[i];
+    if (part[q] != 0) {
+      const std::uint64_t lost = n_mulmod2_preinv(part[q], new_along, prime_, prime_inverse_);
+      screen_along_[i] = n_submod(screen_along_[i], lost, prime_);
+      subtract_multiple(part, reduced, part[q], prime_);
+    }
     part.erase(part.begin() + position);
   }
   reduced.erase(reduced.begin() + position);
+  // The new row is 0 at its pivot in the free part it keeps: minus c there.
+  screen_along_.push_back(n_submod(new_along, screen_random_[free_columns_[q]], prime_));
   pivot_columns_.push_back(free_columns_[q]);
   free_columns_.erase(free_columns_.begin() + position);
   free_parts_.push_back(std::move(reduced));
   return true;
+}
+
+// w . row with w = c at the free columns and -(kept row i . c) at pivot i:
+// w . (kept row i) = -(row i . c) + (row i . c) = 0, so w is orthogonal to
+// the span and w . row != 0 proves row outside it. For row outside it, w .
+// row = c . (row's residual on the free columns), a nonzero linear form in
+// the random c: zero with probability 1/p.
+bool ModularRowBasis::passes_screen(const ModularVector& row) const {
+  if (row.size() != columns_) check_row(row, "ModularRowBasis::passes_screen");
+  WideSum free_sum, pivot_sum;
+  for (std::size_t column : free_columns_) free_sum.add(screen_random_[column], row[column]);
+  for (std::size_t i = 0; i < pivot_columns_.size(); ++i) pivot_sum.add(screen_along_[i], row[pivot_columns_[i]]);
+  return free_sum.reduce(prime_, prime_inverse_) != pivot_sum.reduce(prime_, prime_inverse_);
+}
+
+bool ModularRowBasis::add_row_screened(const ModularVector& row) {
+  return !free_columns_.empty() && passes_screen(row) && add_row(row);
 }
 
 ModularMatrix ModularRowBasis::rows() const {

@@ -152,6 +152,23 @@ class ModularRowBasis {
   // usage_error).
   bool add_row(const ModularVector& row);
 
+  // add_row that first screens row in `columns` multiply-adds: its product
+  // with a random vector w orthogonal mod p to every kept row. Nonzero proves
+  // row independent (then add_row keeps it); zero skips it as dependent,
+  // which is wrong for an independent row only when w happens to be
+  // orthogonal to its residual too: probability 1/p over w (drawn once from
+  // a fixed seed, so runs repeat exactly). A miss never makes rank() wrong as
+  // a lower bound (every kept row is independent), only possibly lower than
+  // the rank of all rows added. Cheap when most rows are dependent (a stalled
+  // walk: add_row costs rank x (columns - rank) for each). Same precondition
+  // as add_row, except that a skipped row's entries are not checked.
+  bool add_row_screened(const ModularVector& row);
+
+  // The screen alone: false when w . row == 0 (row in the span, or the 1/p
+  // miss above), true when row is certainly outside the span. Same
+  // precondition as add_row (throws usage_error on a wrong length only).
+  bool passes_screen(const ModularVector& row) const;
+
   // True when row lies in the span mod p of the kept rows (the basis is not
   // changed). Same precondition as add_row.
   bool contains(const ModularVector& row) const;
@@ -180,6 +197,10 @@ class ModularRowBasis {
   std::vector<std::size_t> pivot_columns_;
   std::vector<std::size_t> free_columns_;   // increasing
   std::vector<ModularVector> free_parts_;   // kept row i at free_columns_
+  // The screen w of add_row_screened: random c at the free columns and
+  // -screen_along_[i] = -(kept row i . c) at kept row i's pivot.
+  ModularVector screen_random_;             // c, one per column (fixed seed)
+  ModularVector screen_along_;              // kept row i . c, mod p
 };
 
 }  // namespace pleat

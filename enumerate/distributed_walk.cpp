@@ -23,7 +23,7 @@ namespace {
 
 using Clock = std::chrono::steady_clock;
 
-enum class Command : std::uint64_t { walk = 1, finish = 2 };
+enum class Command : std::uint64_t { walk = 1, finish = 2, task = 3 };
 
 // What rank 0 tells every rank about a walk: the settings that change the
 // regions' work or when it stops. on_region, on_progress and max_regions stay
@@ -33,26 +33,40 @@ struct WalkSettings {
   bool keep_certificates = false;
   bool exact_only = false;
   unsigned threads = 0;
+  bool has_side_work = false;  // every rank runs OwnedRegionWork beside the walk
 };
 
-std::string encode_command(Command command, const WalkSettings& settings = {}) {
+// A command, the walk's settings, and its payload: the side work's setup
+// (walk) or the task's bytes (task).
+std::string encode_command(Command command, const WalkSettings& settings = {}, std::string_view payload = {}) {
   ByteWriter out;
   out.put_unsigned(static_cast<std::uint64_t>(command));
   out.put_unsigned(std::bit_cast<std::uint64_t>(settings.time_limit_seconds));
   out.put_bool(settings.keep_certificates);
   out.put_bool(settings.exact_only);
   out.put_unsigned(settings.threads);
+  out.put_bool(settings.has_side_work);
+  out.put_bytes(payload);
   return out.take();
 }
 
-Command decode_command(std::string_view bytes, WalkSettings& settings) {
+struct DecodedCommand {
+  Command command;
+  WalkSettings settings;
+  std::string payload;
+};
+
+DecodedCommand decode_command(std::string_view bytes) {
   ByteReader in(bytes);
-  const auto command = static_cast<Command>(in.get_unsigned());
-  settings.time_limit_seconds = std::bit_cast<double>(in.get_unsigned());
-  settings.keep_certificates = in.get_bool();
-  settings.exact_only = in.get_bool();
-  settings.threads = static_cast<unsigned>(in.get_unsigned());
-  return command;
+  DecodedCommand decoded;
+  decoded.command = static_cast<Command>(in.get_unsigned());
+  decoded.settings.time_limit_seconds = std::bit_cast<double>(in.get_unsigned());
+  decoded.settings.keep_certificates = in.get_bool();
+  decoded.settings.exact_only = in.get_bool();
+  decoded.settings.threads = static_cast<unsigned>(in.get_unsigned());
+  decoded.settings.has_side_work = in.get_bool();
+  decoded.payload = std::string(in.get_bytes());
+  return decoded;
 }
 
 std::uint64_t code_of(StopReason reason) { return static_cast<std::uint64_t>(reason); }
@@ -80,9 +94,11 @@ LevelWork process_share(std::vector<std::unique_ptr<RegionWorker>>& workers, con
   return work;
 }
 
-// The neighbours that a rank's processed regions found, each once, as one
-// message per owner.
-std::vector<std::string> neighbours_by_owner(const LevelWork& work, std::size_t ranks) {
+// The neighbours that a rank's processed regions found. Those this rank
+// owns go straight into its seen-set, and into next when new; the others,
+// each once, make one message per owner (this rank's own message is empty).
+std::vector<std::string> neighbours_by_owner(const LevelWork& work, std::size_t ranks, std::size_t rank,
+                                             detail::PatternStore& owned, std::vector<ActivationPattern>& next) {
   std::unordered_set<ActivationPattern, PatternHash> found;
   std::vector<std::vector<const ActivationPattern*>> by_owner(ranks);
   for (const auto& outcome : work.outcomes) {
@@ -90,8 +106,13 @@ std::vector<std::string> neighbours_by_owner(const LevelWork& work, std::size_t 
     for (const RegionFacet& facet : outcome.region->facets) {
       if (!facet.neighbor) continue;
       auto add = [&](const ActivationPattern& pattern) {
+        const std::size_t owner = ranks == 1 ? 0 : owner_of_pattern(pattern, ranks);
+        if (owner == rank) {
+          if (owned.insert(pattern).second) next.push_back(pattern);
+          return;
+        }
         const auto [at, is_new] = found.insert(pattern);
-        if (is_new) by_owner[owner_of_pattern(pattern, ranks)].push_back(&*at);
+        if (is_new) by_owner[owner].push_back(&*at);
       };
       add(*facet.neighbor);
       for (const auto& other : facet.other_neighbors) add(other);
@@ -99,6 +120,7 @@ std::vector<std::string> neighbours_by_owner(const LevelWork& work, std::size_t 
   }
   std::vector<std::string> outgoing(ranks);
   for (std::size_t r = 0; r < ranks; ++r) {
+    if (r == rank) continue;
     ByteWriter out;
     out.put_unsigned(by_owner[r].size());
     for (const ActivationPattern* pattern : by_owner[r]) out.put_pattern(*pattern);
@@ -107,9 +129,26 @@ std::vector<std::string> neighbours_by_owner(const LevelWork& work, std::size_t 
   return outgoing;
 }
 
+// The side work's notes on a rank's processed prefix; a stop inside it cuts
+// the prefix (and stops the walk) where the notes end.
+std::vector<std::string> notes_on_level(OwnedRegionWork& side, LevelWork& work, const StopRequest& stop) {
+  std::vector<const Region*> regions;
+  regions.reserve(work.outcomes.size());
+  for (const auto& outcome : work.outcomes) regions.push_back(outcome.region ? &*outcome.region : nullptr);
+  std::vector<std::string> notes = side.notes_for_level(regions, stop);
+  if (notes.size() > work.outcomes.size()) throw usage_error("OwnedRegionWork: more notes than regions");
+  if (notes.size() < work.outcomes.size()) {
+    work.outcomes.resize(notes.size());
+    if (work.stopped == StopReason::none) work.stopped = stop.reason() != StopReason::none ? stop.reason() : StopReason::requested;
+  }
+  return notes;
+}
+
 // The level's processed prefix for rank 0, in the share's (pattern) order,
-// then the first pattern left undone, if any.
-std::string level_message(const LevelWork& work, const std::vector<ActivationPattern>& share) {
+// each with its side-work note when there are notes, then the first pattern
+// left undone, if any.
+std::string level_message(const LevelWork& work, const std::vector<ActivationPattern>& share,
+                          const std::vector<std::string>* notes) {
   ByteWriter out;
   out.put_unsigned(work.outcomes.size());
   for (std::size_t i = 0; i < work.outcomes.size(); ++i) {
@@ -118,6 +157,7 @@ std::string level_message(const LevelWork& work, const std::vector<ActivationPat
     out.put_unsigned(outcome.degenerate_crossings);
     if (outcome.region) put_region(out, *outcome.region);
     else out.put_pattern(share[i]);
+    if (notes) out.put_bytes((*notes)[i]);
   }
   const bool is_cut = work.outcomes.size() < share.size();
   out.put_bool(is_cut);
@@ -129,6 +169,7 @@ std::string level_message(const LevelWork& work, const std::vector<ActivationPat
 struct Delivered {
   ActivationPattern pattern;
   RegionWorker::Outcome outcome;
+  std::string note;  // the side work's, when there is side work
 };
 
 struct RankLevel {
@@ -136,7 +177,24 @@ struct RankLevel {
   std::optional<ActivationPattern> first_undone;
 };
 
-RankLevel read_level_message(std::string_view bytes) {
+// Rank 0's own share of a level as read_level_message would give it back,
+// without the bytes: its records are moved, not copied.
+RankLevel own_level(LevelWork& work, const std::vector<ActivationPattern>& share,
+                    std::optional<std::vector<std::string>>& notes) {
+  RankLevel level;
+  level.items.resize(work.outcomes.size());
+  for (std::size_t i = 0; i < work.outcomes.size(); ++i) {
+    Delivered& item = level.items[i];
+    item.pattern = share[i];
+    item.outcome = std::move(work.outcomes[i]);
+    if (notes) item.note = std::move((*notes)[i]);
+  }
+  if (work.outcomes.size() < share.size()) level.first_undone = share[work.outcomes.size()];
+  work.outcomes.clear();
+  return level;
+}
+
+RankLevel read_level_message(std::string_view bytes, bool has_notes) {
   ByteReader in(bytes);
   RankLevel level;
   level.items.resize(in.get_size());
@@ -149,6 +207,7 @@ RankLevel read_level_message(std::string_view bytes) {
     } else {
       item.pattern = in.get_pattern();
     }
+    if (has_notes) item.note = std::string(in.get_bytes());
   }
   if (in.get_bool()) level.first_undone = in.get_pattern();
   return level;
@@ -159,9 +218,10 @@ RankLevel read_level_message(std::string_view bytes) {
 // adjacency summary), the same numbering and the same summary at the end.
 class Ledger {
  public:
-  Ledger(const Network& network, const WalkOptions& options)
+  Ledger(const Network& network, const WalkOptions& options, OwnedRegionWork* side)
       : network_(network),
         options_(options),
+        side_(side),
         seen_(network.relu_neuron_count()),
         adjacency_([this](std::uint32_t slot) { return maps_on_pattern(network_, seen_.pattern(slot)).output; }) {}
 
@@ -263,6 +323,7 @@ class Ledger {
       add_neighbor(*facet.neighbor);
       for (const auto& other : facet.other_neighbors) add_neighbor(other);
     }
+    if (side_) side_->take_note(std::move(item.note));
     const bool is_stop_asked = options_.on_region && !options_.on_region(region);
     adjacency_.add_region(id, slot, neighbours_, std::move(region.affine), id_of_slot_);  // after on_region, which reads it
     return is_stop_asked ? StopReason::requested : StopReason::none;
@@ -270,6 +331,7 @@ class Ledger {
 
   const Network& network_;
   const WalkOptions& options_;
+  OwnedRegionWork* side_;
   WalkSummary summary_;
   detail::PatternStore seen_;
   std::vector<std::uint32_t> id_of_slot_;    // detail::no_region until delivered
@@ -284,7 +346,8 @@ class Ledger {
 // returned summary is empty.
 WalkSummary walk_on_rank(const Network& network, const Domain& domain, const WalkSettings& settings,
                          const std::atomic<bool>* interrupt, WalkTransport& transport,
-                         const WalkOptions* leader_options, DistributedWalkStatistics* statistics) {
+                         const WalkOptions* leader_options, DistributedWalkStatistics* statistics,
+                         OwnedRegionWork* side) {
   const auto started = Clock::now();
   const std::uint64_t bytes_before = transport.bytes_sent();
   std::size_t levels = 0;
@@ -297,7 +360,7 @@ WalkSummary walk_on_rank(const Network& network, const Domain& domain, const Wal
   for (unsigned t = 0; t < threads; ++t)
     workers.push_back(std::make_unique<RegionWorker>(network, domain, settings.keep_certificates, settings.exact_only));
   std::optional<Ledger> ledger;
-  if (leader_options) ledger.emplace(network, *leader_options);
+  if (leader_options) ledger.emplace(network, *leader_options, side);
 
   // Rank 0 finds the start pattern (or is stopped first) and tells everyone.
   std::string start_message;
@@ -336,13 +399,16 @@ WalkSummary walk_on_rank(const Network& network, const Domain& domain, const Wal
         leader_options->on_progress(WalkProgress{ledger->regions() + finished, level_size - finished, elapsed()});
       };
     LevelWork work = process_share(workers, share, stop, on_tick);
+    std::optional<std::vector<std::string>> notes;
+    if (side) notes = notes_on_level(*side, work, stop);
     ++levels;
 
     // Neighbours to their owners, who keep the new ones as the next level.
-    std::vector<std::string> incoming = transport.exchange(neighbours_by_owner(work, ranks));
     std::vector<ActivationPattern> next;
-    for (const std::string& message : incoming) {
-      ByteReader in(message);
+    std::vector<std::string> incoming = transport.exchange(neighbours_by_owner(work, ranks, rank, owned, next));
+    for (std::size_t sender = 0; sender < ranks; ++sender) {
+      if (sender == rank) continue;
+      ByteReader in(incoming[sender]);
       for (std::size_t count = in.get_size(); count > 0; --count) {
         ActivationPattern pattern = in.get_pattern();
         if (owned.insert(pattern).second) next.push_back(std::move(pattern));
@@ -350,22 +416,26 @@ WalkSummary walk_on_rank(const Network& network, const Domain& domain, const Wal
     }
     std::sort(next.begin(), next.end());
 
-    // The level's regions to rank 0, merged there into output order.
-    std::vector<std::string> gathered = transport.gather_to_leader(level_message(work, share));
+    // The level's regions to rank 0, merged there into output order (rank
+    // 0's own share stays in memory).
+    const StopReason stopped_here = work.stopped;
+    std::vector<std::string> gathered =
+        transport.gather_to_leader(rank == 0 ? std::string() : level_message(work, share, notes ? &*notes : nullptr));
     StopReason leader_stop = StopReason::none;
     if (ledger) {
       std::vector<RankLevel> streams;
       streams.reserve(gathered.size());
-      for (std::string& message : gathered) {
-        streams.push_back(read_level_message(message));
-        std::string().swap(message);
+      streams.push_back(own_level(work, share, notes));
+      for (std::size_t sender = 1; sender < gathered.size(); ++sender) {
+        streams.push_back(read_level_message(gathered[sender], side != nullptr));
+        std::string().swap(gathered[sender]);
       }
       leader_stop = ledger->take_level(std::move(streams));
     }
 
     // Agree: a stop during the level (any rank) ends the walk; a stop asked
     // for now ends it unless the next level is empty (then it is complete).
-    const StopReason during = std::max(work.stopped, leader_stop);
+    const StopReason during = std::max(stopped_here, leader_stop);
     const std::vector<std::uint64_t> reasons = transport.maximum({code_of(during), code_of(stop.reason())});
     level_size = transport.sum({next.size()})[0];
     if (reasons[0] != code_of(StopReason::none)) stop_reason = reason_of(reasons[0]);
@@ -405,12 +475,19 @@ std::size_t owner_of_pattern(const ActivationPattern& pattern, std::size_t ranks
 }
 
 WalkSummary lead_distributed_walk(const Network& network, const Domain& domain, const WalkOptions& options,
-                                  WalkTransport& transport, DistributedWalkStatistics* statistics) {
+                                  WalkTransport& transport, DistributedWalkStatistics* statistics,
+                                  OwnedRegionWork* side, std::string_view side_setup) {
   if (domain.dim != network.input_dim) throw usage_error("lead_distributed_walk: domain and network dimensions differ");
   if (transport.rank() != 0) throw usage_error("lead_distributed_walk: only rank 0 leads");
-  const WalkSettings settings{options.time_limit_seconds, options.keep_certificates, options.exact_only, options.threads};
-  transport.broadcast_from_leader(encode_command(Command::walk, settings));
-  return walk_on_rank(network, domain, settings, options.interrupt, transport, &options, statistics);
+  const WalkSettings settings{options.time_limit_seconds, options.keep_certificates, options.exact_only, options.threads,
+                              side != nullptr};
+  transport.broadcast_from_leader(encode_command(Command::walk, settings, side_setup));
+  return walk_on_rank(network, domain, settings, options.interrupt, transport, &options, statistics, side);
+}
+
+void lead_distributed_task(WalkTransport& transport, std::string_view task) {
+  if (transport.rank() != 0) throw usage_error("lead_distributed_task: only rank 0 leads");
+  transport.broadcast_from_leader(encode_command(Command::task, {}, task));
 }
 
 void finish_distributed_walks(WalkTransport& transport) {
@@ -419,12 +496,24 @@ void finish_distributed_walks(WalkTransport& transport) {
 }
 
 void follow_distributed_walks(const Network& network, const Domain& domain, WalkTransport& transport,
-                              const std::atomic<bool>* interrupt) {
+                              const std::atomic<bool>* interrupt, FollowerWork* work) {
   if (transport.rank() == 0) throw usage_error("follow_distributed_walks: rank 0 leads");
   for (;;) {
-    WalkSettings settings;
-    if (decode_command(transport.broadcast_from_leader(""), settings) != Command::walk) return;
-    walk_on_rank(network, domain, settings, interrupt, transport, nullptr, nullptr);
+    const DecodedCommand decoded = decode_command(transport.broadcast_from_leader(""));
+    if ((decoded.settings.has_side_work || decoded.command == Command::task) && !work)
+      throw usage_error("follow_distributed_walks: rank 0 asked for work this rank cannot do");
+    switch (decoded.command) {
+      case Command::walk: {
+        OwnedRegionWork* side = decoded.settings.has_side_work ? &work->start_walk(decoded.payload) : nullptr;
+        walk_on_rank(network, domain, decoded.settings, interrupt, transport, nullptr, nullptr, side);
+        break;
+      }
+      case Command::task:
+        work->run_task(decoded.payload, transport);
+        break;
+      default:
+        return;
+    }
   }
 }
 

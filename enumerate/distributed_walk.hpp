@@ -23,6 +23,7 @@
 
 #include "core/network.hpp"
 #include "core/pattern.hpp"
+#include "core/stop.hpp"
 #include "enumerate/domain.hpp"
 #include "enumerate/walker.hpp"
 
@@ -30,6 +31,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <string>
+#include <string_view>
 #include <vector>
 
 namespace pleat {
@@ -68,6 +70,38 @@ struct DistributedWalkStatistics {
   std::uint64_t bytes_sent = 0;  // by every rank to the others, this walk
 };
 
+// Work beside a walk on the regions each rank processes itself, with one
+// note per region carried to rank 0 beside the region (certify's reduction
+// of region rows modulo a prime: enumerate/distributed_certify.hpp).
+class OwnedRegionWork {
+ public:
+  virtual ~OwnedRegionWork() = default;
+  // Every rank, once per level, on its main thread: the regions it
+  // processed, in its (pattern) order; null for a pattern whose cell was not
+  // a region. Returns one note for each of the first k regions; k below
+  // regions.size() only when `stop` asked to stop (the rest of the level is
+  // then left undone on this rank, as if the walk had stopped there).
+  virtual std::vector<std::string> notes_for_level(const std::vector<const Region*>& regions,
+                                                   const StopRequest& stop) = 0;
+  // Rank 0: the note of the region the walk delivers next, just before
+  // WalkOptions::on_region receives it.
+  virtual void take_note(std::string note) = 0;
+};
+
+// What a rank other than 0 does beyond plain walks: the work beside a walk
+// that rank 0 started with side work, and tasks rank 0 hands out between
+// walks (lead_distributed_task).
+class FollowerWork {
+ public:
+  virtual ~FollowerWork() = default;
+  // For a walk rank 0 led with side work, given its setup bytes: the work to
+  // run beside it here (owned by this object; valid until the next call).
+  virtual OwnedRegionWork& start_walk(std::string_view setup) = 0;
+  // A task's bytes. It may call the transport's collectives, in the same
+  // order as rank 0's part of the task.
+  virtual void run_task(std::string_view task, WalkTransport& transport) = 0;
+};
+
 // Rank 0: one walk across every rank, while the others are in
 // follow_distributed_walks. Returns walk_regions' summary (timing apart) and
 // calls options.on_region / on_progress here only. The options' time limit,
@@ -76,15 +110,24 @@ struct DistributedWalkStatistics {
 // (certify walks at most once), then finish_distributed_walks once.
 // Preconditions: as walk_regions; every rank has the same network and domain.
 // statistics, when given, receives the walk's message counts.
+// side (may be null): work beside the walk; every follower then runs its
+// FollowerWork::start_walk(side_setup) (a follower without FollowerWork
+// throws usage_error) and rank 0 runs side itself.
 WalkSummary lead_distributed_walk(const Network& network, const Domain& domain, const WalkOptions& options,
-                                  WalkTransport& transport, DistributedWalkStatistics* statistics = nullptr);
+                                  WalkTransport& transport, DistributedWalkStatistics* statistics = nullptr,
+                                  OwnedRegionWork* side = nullptr, std::string_view side_setup = {});
+
+// Rank 0: every follower runs FollowerWork::run_task(task); rank 0 then
+// runs its own part of the task (the same collectives in the same order).
+void lead_distributed_task(WalkTransport& transport, std::string_view task);
 
 // Rank 0: no more walks; the followers return.
 void finish_distributed_walks(WalkTransport& transport);
 
-// Every rank but 0: takes part in rank 0's walks until it finishes them.
-// interrupt (may be null) is this process's Ctrl-C flag; threads 0: all cores.
+// Every rank but 0: takes part in rank 0's walks and tasks until it finishes
+// them. interrupt (may be null) is this process's Ctrl-C flag; threads 0:
+// all cores. work (may be null: plain walks only) runs side work and tasks.
 void follow_distributed_walks(const Network& network, const Domain& domain, WalkTransport& transport,
-                              const std::atomic<bool>* interrupt);
+                              const std::atomic<bool>* interrupt, FollowerWork* work = nullptr);
 
 }  // namespace pleat

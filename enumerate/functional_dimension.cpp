@@ -4,6 +4,7 @@
 #include "core/jacobian.hpp"
 #include "core/rank.hpp"
 #include "enumerate/detail/extra_naming.hpp"
+#include "enumerate/distributed_certify.hpp"
 #include "enumerate/detail/kernel_check.hpp"
 #include "enumerate/detail/kernel_lift.hpp"
 #include "enumerate/detail/parallel_for.hpp"
@@ -13,6 +14,7 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <deque>
 #include <functional>
 #include <limits>
 #include <set>
@@ -134,6 +136,34 @@ double ray_reach(const Domain& domain, const DoubleVector& base, const DoubleVec
   return reach * (1 - 1e-9);
 }
 
+// Whether a phase of the no-walk path can still reach the scaling bound
+// within its budget at the rate its rank rose over its last `window` batches
+// (ranks fall off: the recent rate is the optimistic guess). False ends the
+// phase early on networks below their bound, where every point drawn is
+// overhead before the walk; speed only: the walk that follows decides.
+// Never false while the rank is within 1/16 of the bound: networks at their
+// bound rise steeply to near it, then find their last few rows slowly, and
+// for them (more inputs: a walk can be far dearer) the points are the point.
+class ReachForecast {
+ public:
+  explicit ReachForecast(std::size_t window) : window_(window) {}
+  // The rank after a batch; used and budget in the phase's units (points or
+  // lines), batch_size units per batch.
+  bool reachable(std::size_t rank, std::size_t bound, std::size_t used, std::size_t budget, std::size_t batch_size) {
+    ranks_.push_back(rank);
+    if (ranks_.size() <= window_) return true;
+    const std::size_t gain = rank - ranks_.front();
+    ranks_.pop_front();
+    const std::size_t remaining = budget > used ? budget - used : 0;
+    const std::size_t deficit = bound - rank;
+    return 16 * deficit < bound || gain * remaining >= deficit * window_ * batch_size;
+  }
+
+ private:
+  std::size_t window_;
+  std::deque<std::size_t> ranks_;
+};
+
 }  // namespace
 
 std::optional<std::size_t> first_region_not_annihilated(const Network& network, const RationalMatrix& vectors,
@@ -168,11 +198,21 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   std::vector<ActivationPattern> smooth;
   detail::NeuronActivity activity(network.relu_neuron_count());
 
+  // Rows are added screened (core/rank.hpp): most are dependent, and a
+  // dependent row then costs one dot product. An independent row the screen
+  // misses (probability 1/p) leaves the rank a lower bound still; the kernel
+  // read off the basis then fails the exact check after the walk, so the
+  // result would be bounds, never a wrong certified value.
   auto add_region_rows = [&](const ActivationPattern& pattern) {
-    const ModularMatrix rows = coefficient_blocks_mod(modular, pattern);
     KeptRows region{pattern, {}};
-    for (std::size_t r = 0; r < rows.rows(); ++r)
-      if (basis.add_row(rows.row(r))) region.rows.push_back(r);
+    if (options.across) {  // the rows its owner kept: the same rows stay (distributed_certify.hpp)
+      for (const auto& [r, row] : options.across->region_rows())
+        if (basis.add_row_screened(row)) region.rows.push_back(r);
+    } else {
+      const ModularMatrix rows = coefficient_blocks_mod(modular, pattern);
+      for (std::size_t r = 0; r < rows.rows(); ++r)
+        if (basis.add_row_screened(rows.row(r))) region.rows.push_back(r);
+    }
     if (!region.rows.empty()) kept.push_back(std::move(region));
   };
   const unsigned threads =
@@ -185,6 +225,21 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // stall, and the lines after it, are too). Stalls after `patience` points
   // without a rise in rank.
   std::set<ActivationPattern> seen_by_points;
+  // Adds the rows of a point's region the first time a point lands in it
+  // (rows were computed in parallel for every smooth region not seen before
+  // its batch); keeps those that raise the rank. True when the rank rose.
+  auto keep_rows_of_point = [&](const PointRegion& point_region, const ModularMatrix& rows,
+                                const RationalVector& point) {
+    if (point_region.verdict != PointVerdict::smooth || !seen_by_points.insert(point_region.pattern).second)
+      return false;
+    KeptRows region{point_region.pattern, {}};
+    for (std::size_t r = 0; r < rows.rows(); ++r)
+      if (basis.add_row_screened(rows.row(r))) region.rows.push_back(r);
+    if (region.rows.empty()) return false;
+    kept.push_back(std::move(region));
+    result.witness_points.push_back(point);
+    return true;
+  };
   auto rows_from_points = [&] {
     InteriorPointSource source(domain, options.points_seed);
     const IntegerPatternEvaluator evaluator(network);
@@ -192,6 +247,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     const std::size_t budget = 4 * result.scaling_bound + 256;
     constexpr std::size_t batch = 32;
     std::size_t since_rise = 0;
+    ReachForecast forecast(8);
     const StopScope scope(stop);
     while (basis.rank() < result.scaling_bound && since_rise < patience && result.points_drawn < budget) {
       if (stop.is_requested()) return;
@@ -213,16 +269,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       for (std::size_t i = 0; i < batch && basis.rank() < result.scaling_bound; ++i) {
         ++result.points_drawn;
         ++since_rise;
-        if (regions[i].verdict != PointVerdict::smooth || !seen_by_points.insert(regions[i].pattern).second) continue;
-        KeptRows region{regions[i].pattern, {}};
-        for (std::size_t r = 0; r < rows[i].rows(); ++r)
-          if (basis.add_row(rows[i].row(r))) region.rows.push_back(r);
-        if (region.rows.empty()) continue;
-        kept.push_back(std::move(region));
-        result.witness_points.push_back(points[i]);
-        since_rise = 0;
+        if (keep_rows_of_point(regions[i], rows[i], points[i])) since_rise = 0;
       }
       report("points", basis.rank(), result.scaling_bound);
+      if (!forecast.reachable(basis.rank(), result.scaling_bound, result.points_drawn, budget, batch)) return;
     }
   };
 
@@ -241,6 +291,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     const std::size_t line_budget = 64 + result.scaling_bound;
     std::unordered_set<std::string> proposed;
     std::size_t lines = 0, since_rise = 0;
+    ReachForecast forecast(4);
     const StopScope scope(stop);
     while (basis.rank() < result.scaling_bound && since_rise < line_patience && lines < line_budget) {
       if (stop.is_requested()) return;
@@ -276,19 +327,12 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       const std::size_t rank_before = basis.rank();
       for (std::size_t i = 0; i < points.size() && basis.rank() < result.scaling_bound; ++i) {
         ++result.points_drawn;
-        if (regions[i].verdict != PointVerdict::smooth || rows[i].rows() == 0 ||
-            !seen_by_points.insert(regions[i].pattern).second)
-          continue;
-        KeptRows region{regions[i].pattern, {}};
-        for (std::size_t r = 0; r < rows[i].rows(); ++r)
-          if (basis.add_row(rows[i].row(r))) region.rows.push_back(r);
-        if (region.rows.empty()) continue;
-        kept.push_back(std::move(region));
-        result.witness_points.push_back(points[i]);
+        keep_rows_of_point(regions[i], rows[i], points[i]);
       }
       lines += lines_per_batch;
       since_rise = basis.rank() > rank_before ? 0 : since_rise + lines_per_batch;
       report("lines", basis.rank(), result.scaling_bound);
+      if (!forecast.reachable(basis.rank(), result.scaling_bound, lines, line_budget, lines_per_batch)) return;
     }
   };
 
@@ -297,7 +341,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     ++result.regions_walked;
     activity.record(region.pattern);
     if (!region.nonsmooth_neurons.empty()) return true;  // no smooth points: no rows
-    smooth.push_back(region.pattern);
+    if (!options.across) smooth.push_back(region.pattern);  // across: each owner keeps its own
     if (!seen_by_points.contains(region.pattern)) add_region_rows(region.pattern);
     if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) {
       result.early_stop = true;
@@ -323,8 +367,11 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // The limit counts from the start of certify, not of the walk.
     if (options.walk.time_limit_seconds > 0)
       walk_options.time_limit_seconds = std::max(1e-9, options.walk.time_limit_seconds - stop.elapsed_seconds());
-    result.walk = options.walker ? options.walker(network, domain, walk_options)
-                                 : walk_regions(network, domain, walk_options);
+    if (options.across)
+      result.walk = options.across->walk(network, domain, walk_options, modular.prime, basis.rows(), seen_by_points);
+    else
+      result.walk = options.walker ? options.walker(network, domain, walk_options)
+                                   : walk_regions(network, domain, walk_options);
     result.walk_complete = result.walk.complete;
     result.nonsmooth_regions = result.walk.nonsmooth_regions;
     result.stop_reason = result.early_stop ? StopReason::none : result.walk.stop_reason;
@@ -355,11 +402,18 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     RationalMatrix extra(0, parameters);
     if (first_image.rows() > 0) {
       const detail::CheckScale check_scale(network);
+      const auto check_progress = [&](std::size_t done, std::size_t total) { report("check", done, total); };
+      detail::CandidateProof across_proof;
+      if (options.across)
+        across_proof = [&](const RationalMatrix& candidate, bool& is_stopped) {
+          return options.across->annihilates_every_region(candidate, threads, stop, is_stopped, check_progress);
+        };
       auto proved = detail::lift_and_prove_extra_directions(
           network, modular, scaling_pivots, kept, basis.rank(), first_image, smooth, check_scale, threads, stop,
-          stopped, [&](std::size_t step) { report("kernel", step, 0); },
-          [&](std::size_t done, std::size_t total) { report("check", done, total); });
-      if (stopped) result.stop_reason = stop.reason();
+          stopped, [&](std::size_t step) { report("kernel", step, 0); }, check_progress, across_proof);
+      if (stopped)
+        result.stop_reason = stop.reason() != StopReason::none || !options.across ? stop.reason()
+                                                                                  : options.across->stop_reason();
       if (!proved) return;  // stopped, or nothing proved: bounds only
       extra = std::move(*proved);
     }

@@ -30,6 +30,8 @@
 
 namespace pleat {
 
+class CertifyAcross;  // enumerate/distributed_certify.hpp
+
 // What makes a direction beyond the scaling ones flat, when it is recognised
 // by the direction's support (none: not one of these).
 enum class Mechanism { none, dead_neuron, always_active_neuron, zero_outgoing_weights, duplicate_neurons };
@@ -74,6 +76,9 @@ struct FunctionalDimensionOptions {
   // domain are swept first (enumerate/line_sweep.hpp): one proposed point in
   // every linear piece a line crosses, each decided exactly like the random
   // ones, reaching thin and far regions (sweep_lines; off: random points only).
+  // Either phase also ends early when the rank is more than 1/16 below the
+  // bound and, at the rate it rose over the phase's recent batches, could not
+  // reach the bound within the phase's budget (a network below its bound).
   bool points_first = true;
   bool sweep_lines = true;
   std::uint64_t points_seed = 1;
@@ -82,6 +87,11 @@ struct FunctionalDimensionOptions {
   // delivers the same regions in the same order (the walk across processes,
   // enumerate/distributed_walk.hpp). Called at most once.
   std::function<WalkSummary(const Network&, const Domain&, const WalkOptions&)> walker;
+  // When set (not null), the walk, the reduction of its regions' rows and
+  // the exact check of every region run across the processes of a
+  // distributed walk instead (enumerate/distributed_certify.hpp; walker is
+  // then not used). The result is the same. Must outlive the call.
+  CertifyAcross* across = nullptr;
   // Fill FunctionalDimensionResult::kernel (dense: rows x D rationals, large
   // for deep networks; the proof itself does not need it).
   bool keep_kernel = false;

@@ -14,6 +14,7 @@
 #include "core/network_io.hpp"
 #include "core/jacobian.hpp"
 #include "enumerate/claim.hpp"
+#include "enumerate/distributed_certify.hpp"
 #include "enumerate/functional_dimension.hpp"
 #include "enumerate/proof_bundle.hpp"
 #include "enumerate/walker.hpp"
@@ -21,6 +22,8 @@
 #include <fstream>
 #include <iostream>
 #include <algorithm>
+#include <cstdlib>
+#include <memory>
 #include <optional>
 #include <set>
 #include <sstream>
@@ -222,12 +225,14 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
     progress.update(text);
   };
   options.stop_at_scaling_bound = stop_at_scaling_bound;
-  // In an MPI job the walk runs across its processes; the ranks' work after
-  // the walk (kernel, checks) stays here on rank 0.
-  if (process_group())
-    options.walker = [](const Network& walked_network, const Domain& walked_domain, const WalkOptions& walk) {
-      return walk_here_or_across(walked_network, walked_domain, walk);
-    };
+  // In an MPI job the walk, the reduction of its regions' rows and the
+  // exact check of every region run across its processes; the kernel's
+  // lift and the naming stay here on rank 0.
+  std::unique_ptr<CertifyAcross> across;
+  if (WalkTransport* group = process_group()) {
+    across = lead_certify_across(*group, arguments.limits.time_limit);
+    options.across = across.get();
+  }
   options.keep_rows = !arguments.rows_path.empty();
   options.keep_kernel = !arguments.kernel_path.empty() || !arguments.bundle_path.empty();  // both print it
   FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
@@ -391,12 +396,22 @@ bool write_bundle(const CertifyArguments& arguments, const Network& network, con
   return true;
 }
 
+// Test hook (tests/mpi/certify_test.sh): PLEAT_TEST_ALTER_CANDIDATE_ON_RANK=R
+// makes rank R check a wrong candidate, which must not be certified.
+CertifyFollowerOptions follower_options_for_tests() {
+  CertifyFollowerOptions options;
+  if (const char* rank = std::getenv("PLEAT_TEST_ALTER_CANDIDATE_ON_RANK"))
+    options.alter_candidate = std::to_string(process_group()->rank()) == rank;
+  return options;
+}
+
 int run_certify(const CertifyArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   const Network network = read_network_any(arguments.network_path);
   if (is_follower_process()) {  // an MPI job's rank other than 0: its share of the walk, no output
     const InterruptGuard interrupt;
-    return follow_walks(network, make_domain(arguments.domain, network.input_dim), interrupt.flag());
+    const auto work = certify_follower_work(network, &interrupt.flag(), follower_options_for_tests());
+    return follow_walks(network, make_domain(arguments.domain, network.input_dim), interrupt.flag(), work.get());
   }
   if (!arguments.points_path.empty()) {
     if (!arguments.bundle_path.empty()) throw usage_error("--bundle certifies the network's value; leave out --points");

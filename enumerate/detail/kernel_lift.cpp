@@ -347,8 +347,9 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
     const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
     const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
     const StopRequest& stop, bool& stopped, const LiftProgress& lift_progress,
-    const std::function<void(std::size_t, std::size_t)>& check_progress) {
+    const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere) {
   auto is_proved = [&](const RationalMatrix& candidate) {
+    if (prove_elsewhere) return prove_elsewhere(candidate, stopped) && !stopped;
     const AnnihilationCheck check(network, candidate, check_scale);
     return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress) && !stopped;
   };

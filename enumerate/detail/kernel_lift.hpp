@@ -56,6 +56,11 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
 // The leading column of each row of an echelon matrix (its shape).
 std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon);
 
+// Decides a candidate E on every smooth region elsewhere (across processes:
+// enumerate/distributed_certify.hpp): true when proved; sets stopped when
+// a stop cut it short.
+using CandidateProof = std::function<bool(const RationalMatrix& candidate, bool& stopped)>;
+
 // How far the lift of the extra directions got, for progress: 0 the walk's
 // prime alone, 1 further primes (rows with large entries), 2 the exact
 // p-adic solve (when the check rejected the first candidate).
@@ -75,13 +80,14 @@ using LiftProgress = std::function<void(std::size_t)>;
 // set) or when nothing is proved (the walk's prime hid a row: bounds only).
 // The result is the same for any thread count (E is unique: identity on L,
 // zero on Q). lift_progress: 1 when further primes start, 2 for the exact
-// solve.
+// solve. prove_elsewhere, when given, decides each candidate instead of the
+// check on `smooth` here.
 std::optional<RationalMatrix> lift_and_prove_extra_directions(
     const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
     const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
     const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
     const StopRequest& stop, bool& stopped, const LiftProgress& lift_progress,
-    const std::function<void(std::size_t, std::size_t)>& check_progress);
+    const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere = {});
 
 // The kept rows over Q: r x D, in the walk's order (each kept region's
 // exact blocks, computed on up to `threads` threads). Exact.

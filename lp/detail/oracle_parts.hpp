@@ -125,7 +125,8 @@ std::optional<bool> is_redundant_in_plane_filtered(const CellImages& images, std
 
 [[noreturn]] void internal_failure(const char* what);  // throws std::logic_error
 
-// Open cell, exactly (in the plane first by decide_open_cell_on_lines, else cddlib).
+// Open cell, exactly (in the plane and in space first by decide_open_cell_on_lines
+// or _on_planes, else cddlib).
 [[nodiscard]] CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap);
 
 // Open plane cell (dim 2), exactly and without an LP: a facet point on some
@@ -133,6 +134,12 @@ std::optional<bool> is_redundant_in_plane_filtered(const CellImages& images, std
 // on one line's support (lp/detail/oracle_line.cpp). nullopt when dim != 2 or no
 // certificate passes its exact check.
 [[nodiscard]] std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell);
+
+// Open space cell (dim 3), exactly and without an LP: a facet point on some
+// constraint's plane (classify_group_on_plane's search) stepped inside, or a Gordan
+// certificate on one plane's Motzkin support with the plane's own constraint.
+// nullopt when dim != 3 or no certificate passes its exact check.
+[[nodiscard]] std::optional<CellVerdict> decide_open_cell_on_planes(const Polyhedron& cell);
 
 // One facet group, exactly (in the plane first by classify_group_on_line, else cddlib).
 [[nodiscard]] FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group);
@@ -142,6 +149,13 @@ std::optional<bool> is_redundant_in_plane_filtered(const CellImages& images, std
 // nullopt when dim != 2 or a certificate unexpectedly fails its exact check.
 [[nodiscard]]
 std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const std::vector<std::size_t>& group);
+
+// One facet group of a space cell (dim 3), exactly and without an LP: the open
+// plane cell the other constraints leave on the group's plane, decided on its
+// lines (decide_open_cell_on_lines); a Gordan certificate there gives the Motzkin
+// support. nullopt when dim != 3 or a certificate unexpectedly fails its check.
+[[nodiscard]]
+std::optional<FacetVerdict> classify_group_on_plane(const Polyhedron& cell, const std::vector<std::size_t>& group);
 
 // Boundedness, exactly.
 [[nodiscard]] BoundednessVerdict decide_boundedness_exactly(const Polyhedron& cell);

@@ -448,6 +448,40 @@ TEST(ModularRowBasis, RowsSpanWhatWasAdded) {
   EXPECT_EQ(kernel_basis_modulo(basis.rows(), prime), kernel_basis_modulo(image, prime));
 }
 
+// The screen of add_row_screened is orthogonal to every kept row after any
+// sequence of adds (its incremental update), so it stops every row of the
+// span and lets rows outside it through; screened and plain adds then keep
+// the same rows and reach the same basis. A wrong update of the screen would
+// let combinations of kept rows through (w . row != 0).
+TEST(ModularRowBasis, ScreenStopsTheSpanAndKeepsWhatAddRowKeeps) {
+  std::mt19937_64 random(47);
+  for (std::uint64_t prime : {primary_prime(), screening_prime(), std::uint64_t{1000003}}) {
+    for (int trial = 0; trial < 6; ++trial) {
+      const std::size_t cols = 20 + random() % 30, inner = 5 + random() % 15, rows = 3 * inner;
+      const ModularMatrix image = *reduce_modulo(random_product(random, rows, inner, cols), prime);
+      ModularRowBasis plain(prime, cols), screened(prime, cols);
+      for (std::size_t r = 0; r < rows; ++r) {
+        const bool rose = plain.add_row(image.row(r));
+        EXPECT_EQ(screened.add_row_screened(image.row(r)), rose) << "row " << r;
+        // Every row added so far is in the span now: the screen stops it.
+        for (std::size_t s = 0; s <= r; ++s) EXPECT_FALSE(screened.passes_screen(image.row(s)));
+        // A unit vector at a free column lies outside the span.
+        if (screened.rank() < cols) {
+          std::vector<bool> pivot(cols, false);
+          for (std::size_t c : screened.pivot_columns()) pivot[c] = true;
+          ModularVector unit(cols, 0);
+          unit[static_cast<std::size_t>(std::find(pivot.begin(), pivot.end(), false) - pivot.begin())] = 1;
+          EXPECT_FALSE(screened.contains(unit));
+          EXPECT_TRUE(screened.passes_screen(unit));
+        }
+      }
+      EXPECT_EQ(screened.rank(), inner);
+      EXPECT_EQ(screened.pivot_columns(), plain.pivot_columns());
+      EXPECT_EQ(screened.rows(), plain.rows());
+    }
+  }
+}
+
 // Rational reconstruction recovers a known matrix once the product of the
 // primes exceeds 2 N D (one 62-bit prime is not enough for entries near
 // 2^40 / 2^30; three are), and not from too few primes.

@@ -1,8 +1,10 @@
 #!/usr/bin/env bash
 # mpirun -n P pleat certify: the same result as alone, byte for byte apart
 # from the timing keys, whether the value comes from the walk (--full-walk:
-# every region walked; rows, kernel and proof on rank 0) or from points
-# first; the rows and kernel files are the same.
+# every region walked, each rank reducing its own regions' rows and checking
+# the kernel on them), from points first, or from points and then a walk
+# that starts from their rows; the rows and kernel files are the same. A
+# wrong candidate checked by one rank (a test hook) is not certified.
 set -u
 source "$(dirname "$0")/../cli/lib.sh"
 source "$(dirname "$0")/lib.sh"
@@ -26,17 +28,38 @@ certify_both dead "$source_dir/tests/data/dead2d.json" 3 --full-walk
 grep -q '"certified": true' "$work/dead.3.json" || fail "dead2d is not certified across 3 processes"
 big=$work/big.json
 "$pleat" random --arch 2,16,12,1 --seed 5 -o "$big" || fail "pleat random exited $?"
-for ranks in 1 2 4; do
+for ranks in 1 2 3 4; do
   certify_both "big$ranks" "$big" "$ranks" --full-walk --rows-out "$work/rows.$ranks.csv" --kernel-out "$work/kernel.$ranks.csv"
 done
 "$pleat" certify "$big" --quiet --full-walk --rows-out "$work/rows.alone.csv" --kernel-out "$work/kernel.alone.csv" > /dev/null ||
   fail "pleat certify --rows-out exited $?"
-for ranks in 1 2 4; do
+for ranks in 1 2 3 4; do
   cmp -s "$work/rows.alone.csv" "$work/rows.$ranks.csv" || fail "--rows-out differs for $ranks processes"
   cmp -s "$work/kernel.alone.csv" "$work/kernel.$ranks.csv" || fail "--kernel-out differs for $ranks processes"
 done
 value=$("$python" -c 'import json,sys; print(json.load(open(sys.argv[1]))["functional_dimension"])' "$work/big4.4.json")
 [ "$value" != None ] || fail "the big network's value is not certified across 4 processes"
+
+# Below the scaling bound the points stall and the walk adds the rest: every
+# rank starts from the points' rows.
+certify_both big_points "$big" 3 --rows-out "$work/rows.points.3.csv"
+"$pleat" certify "$big" --quiet --rows-out "$work/rows.points.alone.csv" > /dev/null || fail "pleat certify exited $?"
+cmp -s "$work/rows.points.alone.csv" "$work/rows.points.3.csv" || fail "--rows-out after points differs for 3 processes"
+grep -q '"points_drawn": [1-9]' "$work/big_points.3.json" || fail "the points phase drew no points before the walk"
+
+# Rank 2 of 3 checks a wrong candidate (PLEAT_TEST_ALTER_CANDIDATE_ON_RANK):
+# its rejection alone must stop the value from being certified; bounds stay.
+PLEAT_TEST_ALTER_CANDIDATE_ON_RANK=2 "${mpirun_cmd[@]}" -x PLEAT_TEST_ALTER_CANDIDATE_ON_RANK -n 3 "$pleat" certify "$big" \
+  --quiet --json --full-walk --threads 1 > "$work/altered.json" 2> "$work/altered.err" ||
+  fail "mpirun -n 3 pleat certify with a wrong candidate on rank 2 exited $? ($(cat "$work/altered.err"))"
+"$python" - "$work/altered.json" "$work/big3.3.json" <<'PY' || fail "a candidate rank 2 rejected was certified"
+import json, sys
+altered, right = (json.load(open(path)) for path in sys.argv[1:])
+assert right["certified"] and right["upper_bound"] < right["scaling_bound"], right
+assert altered["certified"] is False and altered["functional_dimension"] is None, altered
+assert altered["lower_bound"] == right["lower_bound"], altered  # proved by rank 0's rows
+assert altered["upper_bound"] == altered["scaling_bound"], altered  # the extra directions were not proved
+PY
 
 # The default: points first, then the walk only if needed; and the text output.
 certify_both fold_points "$source_dir/data/fold2d.json" 2
