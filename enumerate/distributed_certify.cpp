@@ -48,14 +48,21 @@ std::string reduction_setup(std::uint64_t prime, unsigned threads, const Modular
 
 // One rank's reduction of the rows of the regions it owns (the side work of
 // certify's walk), and the smooth regions it owns, for the check after it.
+// Alone (a job of one process: keeps_every_row) nothing is reduced here:
+// every row goes to certify's basis, which is then the only basis (reducing
+// the rows twice would double the cost of every independent row), and stays
+// in memory until delivered. With followers, rank 0 reduces its own share
+// too, while they reduce theirs: that is the part that runs in parallel.
 class RowReduction final : public OwnedRegionWork {
  public:
-  RowReduction(const Network& network, std::string_view setup) : RowReduction(network, ByteReader(setup)) {}
+  RowReduction(const Network& network, std::string_view setup, bool keeps_every_row)
+      : RowReduction(network, ByteReader(setup), keeps_every_row) {}
 
   std::vector<std::string> notes_for_level(const std::vector<const Region*>& regions,
                                            const StopRequest& stop) override {
     std::vector<std::string> notes;
     notes.reserve(regions.size());
+    own_rows_.clear();  // the previous level's were all delivered (or the walk stopped)
     // Rows computed in parallel a chunk at a time (a level can hold 10^5
     // regions), then reduced in order: the order decides which rows stay.
     const std::size_t chunk = 64 * std::size_t{threads_};
@@ -69,14 +76,23 @@ class RowReduction final : public OwnedRegionWork {
       for (std::size_t i = 0; i < rows.size(); ++i) {
         const Region* region = regions[begin + i];
         if (region && region->nonsmooth_neurons.empty()) smooth_.push_back(region->pattern);
-        std::vector<std::size_t> kept;
-        for (std::size_t r = 0; r < rows[i].rows(); ++r)
-          if (basis_.add_row_screened(rows[i].row(r))) kept.push_back(r);  // core/rank.hpp
         ByteWriter out;
-        out.put_unsigned(kept.size());
-        for (std::size_t r : kept) {
-          out.put_unsigned(r);
-          put_modular_row(out, rows[i].row(r));
+        if (!basis_) {  // every row, kept in memory; the note names it
+          CertifyAcross::IndexedRows all;
+          for (std::size_t r = 0; r < rows[i].rows(); ++r) all.emplace_back(r, rows[i].row(r));
+          out.put_unsigned(own_note);
+          out.put_unsigned(own_rows_.size());
+          own_rows_.push_back(std::move(all));
+        } else {
+          std::vector<std::size_t> kept;
+          for (std::size_t r = 0; r < rows[i].rows(); ++r)
+            if (basis_->add_row_screened(rows[i].row(r))) kept.push_back(r);  // core/rank.hpp
+          out.put_unsigned(rows_note);
+          out.put_unsigned(kept.size());
+          for (std::size_t r : kept) {
+            out.put_unsigned(r);
+            put_modular_row(out, rows[i].row(r));
+          }
         }
         notes.push_back(out.take());
       }
@@ -87,9 +103,15 @@ class RowReduction final : public OwnedRegionWork {
   void take_note(std::string note) override {
     ByteReader in(note);
     current_.clear();
+    if (in.get_unsigned() == own_note) {
+      const std::size_t index = in.get_unsigned();
+      if (index >= own_rows_.size()) throw usage_error("RowReduction: a note of rank 0 from another level");
+      current_ = std::move(own_rows_[index]);
+      return;
+    }
     for (std::size_t count = in.get_size(); count > 0; --count) {
       const std::size_t index = in.get_unsigned();
-      current_.emplace_back(index, get_modular_row(in, basis_.columns(), basis_.prime()));
+      current_.emplace_back(index, get_modular_row(in, columns_, prime_));
     }
   }
 
@@ -97,13 +119,20 @@ class RowReduction final : public OwnedRegionWork {
   const std::vector<ActivationPattern>& smooth() const { return smooth_; }
 
  private:
+  static constexpr std::uint64_t rows_note = 0;  // then the rows the basis here kept
+  static constexpr std::uint64_t own_note = 1;   // then an index into own_rows_
+
   // Reads reduction_setup's bytes, in its order.
-  RowReduction(const Network& network, ByteReader in)
+  RowReduction(const Network& network, ByteReader in, bool keeps_every_row)
       : modular_(modular_network(network, in.get_unsigned())),
         threads_(resolved_threads(in.get_unsigned())),
-        basis_(modular_.prime, network.parametric_dimension()) {
-    for (std::size_t count = in.get_size(); count > 0; --count)
-      basis_.add_row(get_modular_row(in, basis_.columns(), basis_.prime()));
+        prime_(modular_.prime),
+        columns_(network.parametric_dimension()) {
+    if (!keeps_every_row) basis_.emplace(prime_, columns_);
+    for (std::size_t count = in.get_size(); count > 0; --count) {
+      const ModularVector row = get_modular_row(in, columns_, prime_);
+      if (basis_) basis_->add_row(row);
+    }
     for (std::size_t count = in.get_size(); count > 0; --count) skip_.insert(in.get_pattern());
   }
 
@@ -124,7 +153,10 @@ class RowReduction final : public OwnedRegionWork {
 
   ModularNetwork modular_;
   unsigned threads_ = 1;
-  ModularRowBasis basis_;
+  std::uint64_t prime_;
+  std::size_t columns_;
+  std::optional<ModularRowBasis> basis_;  // unless keeps_every_row
+  std::vector<CertifyAcross::IndexedRows> own_rows_;  // keeps_every_row: this level's rows, by note
   std::unordered_set<ActivationPattern, PatternHash> skip_;
   std::vector<ActivationPattern> smooth_;  // in the order processed
   CertifyAcross::IndexedRows current_;     // rank 0: the rows of the region being delivered
@@ -206,7 +238,7 @@ class LeaderCertifyAcross final : public CertifyAcross {
       throw usage_error("CertifyAcross::walk: the start rows need one entry per parameter");
     network_ = &network;
     const std::string setup = reduction_setup(prime, options.threads, start_rows, skip);
-    reduction_ = std::make_unique<RowReduction>(network, setup);
+    reduction_ = std::make_unique<RowReduction>(network, setup, transport_.size() == 1);
     return lead_distributed_walk(network, domain, options, transport_, nullptr, reduction_.get(), setup);
   }
 
@@ -251,7 +283,7 @@ class CertifyFollower final : public FollowerWork {
       : network_(network), interrupt_(interrupt), options_(options) {}
 
   OwnedRegionWork& start_walk(std::string_view setup) override {
-    reduction_ = std::make_unique<RowReduction>(network_, setup);
+    reduction_ = std::make_unique<RowReduction>(network_, setup, false);
     return *reduction_;
   }
 

@@ -8,9 +8,10 @@
 // its owner finds dependent is dependent on the rows of regions before it in
 // the walk's order too (a rank's regions come in that order), so only the
 // rows each owner kept travel to rank 0, beside their regions; rank 0 adds
-// them in the walk's order and keeps exactly the rows it would have kept
-// from every row of every region (the same rank, the same rows kept, the
-// same early stop).
+// them to certify's basis in the walk's order and keeps exactly the rows it
+// would have kept from every row of every region (the same rank, the same
+// rows kept, the same early stop). A job of one process skips its own basis
+// and hands every row to certify's.
 //
 // Check: the exact check of the extra kernel directions on every smooth
 // region (enumerate/detail/kernel_check.hpp) runs on every rank over the

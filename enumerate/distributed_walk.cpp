@@ -94,9 +94,11 @@ LevelWork process_share(std::vector<std::unique_ptr<RegionWorker>>& workers, con
   return work;
 }
 
-// The neighbours that a rank's processed regions found, each once, as one
-// message per owner.
-std::vector<std::string> neighbours_by_owner(const LevelWork& work, std::size_t ranks) {
+// The neighbours that a rank's processed regions found. Those this rank
+// owns go straight into its seen-set, and into next when new; the others,
+// each once, make one message per owner (this rank's own message is empty).
+std::vector<std::string> neighbours_by_owner(const LevelWork& work, std::size_t ranks, std::size_t rank,
+                                             detail::PatternStore& owned, std::vector<ActivationPattern>& next) {
   std::unordered_set<ActivationPattern, PatternHash> found;
   std::vector<std::vector<const ActivationPattern*>> by_owner(ranks);
   for (const auto& outcome : work.outcomes) {
@@ -104,8 +106,13 @@ std::vector<std::string> neighbours_by_owner(const LevelWork& work, std::size_t 
     for (const RegionFacet& facet : outcome.region->facets) {
       if (!facet.neighbor) continue;
       auto add = [&](const ActivationPattern& pattern) {
+        const std::size_t owner = ranks == 1 ? 0 : owner_of_pattern(pattern, ranks);
+        if (owner == rank) {
+          if (owned.insert(pattern).second) next.push_back(pattern);
+          return;
+        }
         const auto [at, is_new] = found.insert(pattern);
-        if (is_new) by_owner[owner_of_pattern(pattern, ranks)].push_back(&*at);
+        if (is_new) by_owner[owner].push_back(&*at);
       };
       add(*facet.neighbor);
       for (const auto& other : facet.other_neighbors) add(other);
@@ -113,6 +120,7 @@ std::vector<std::string> neighbours_by_owner(const LevelWork& work, std::size_t 
   }
   std::vector<std::string> outgoing(ranks);
   for (std::size_t r = 0; r < ranks; ++r) {
+    if (r == rank) continue;
     ByteWriter out;
     out.put_unsigned(by_owner[r].size());
     for (const ActivationPattern* pattern : by_owner[r]) out.put_pattern(*pattern);
@@ -168,6 +176,23 @@ struct RankLevel {
   std::vector<Delivered> items;  // sorted by pattern
   std::optional<ActivationPattern> first_undone;
 };
+
+// Rank 0's own share of a level as read_level_message would give it back,
+// without the bytes: its records are moved, not copied.
+RankLevel own_level(LevelWork& work, const std::vector<ActivationPattern>& share,
+                    std::optional<std::vector<std::string>>& notes) {
+  RankLevel level;
+  level.items.resize(work.outcomes.size());
+  for (std::size_t i = 0; i < work.outcomes.size(); ++i) {
+    Delivered& item = level.items[i];
+    item.pattern = share[i];
+    item.outcome = std::move(work.outcomes[i]);
+    if (notes) item.note = std::move((*notes)[i]);
+  }
+  if (work.outcomes.size() < share.size()) level.first_undone = share[work.outcomes.size()];
+  work.outcomes.clear();
+  return level;
+}
 
 RankLevel read_level_message(std::string_view bytes, bool has_notes) {
   ByteReader in(bytes);
@@ -379,10 +404,11 @@ WalkSummary walk_on_rank(const Network& network, const Domain& domain, const Wal
     ++levels;
 
     // Neighbours to their owners, who keep the new ones as the next level.
-    std::vector<std::string> incoming = transport.exchange(neighbours_by_owner(work, ranks));
     std::vector<ActivationPattern> next;
-    for (const std::string& message : incoming) {
-      ByteReader in(message);
+    std::vector<std::string> incoming = transport.exchange(neighbours_by_owner(work, ranks, rank, owned, next));
+    for (std::size_t sender = 0; sender < ranks; ++sender) {
+      if (sender == rank) continue;
+      ByteReader in(incoming[sender]);
       for (std::size_t count = in.get_size(); count > 0; --count) {
         ActivationPattern pattern = in.get_pattern();
         if (owned.insert(pattern).second) next.push_back(std::move(pattern));
@@ -390,22 +416,26 @@ WalkSummary walk_on_rank(const Network& network, const Domain& domain, const Wal
     }
     std::sort(next.begin(), next.end());
 
-    // The level's regions to rank 0, merged there into output order.
-    std::vector<std::string> gathered = transport.gather_to_leader(level_message(work, share, notes ? &*notes : nullptr));
+    // The level's regions to rank 0, merged there into output order (rank
+    // 0's own share stays in memory).
+    const StopReason stopped_here = work.stopped;
+    std::vector<std::string> gathered =
+        transport.gather_to_leader(rank == 0 ? std::string() : level_message(work, share, notes ? &*notes : nullptr));
     StopReason leader_stop = StopReason::none;
     if (ledger) {
       std::vector<RankLevel> streams;
       streams.reserve(gathered.size());
-      for (std::string& message : gathered) {
-        streams.push_back(read_level_message(message, side != nullptr));
-        std::string().swap(message);
+      streams.push_back(own_level(work, share, notes));
+      for (std::size_t sender = 1; sender < gathered.size(); ++sender) {
+        streams.push_back(read_level_message(gathered[sender], side != nullptr));
+        std::string().swap(gathered[sender]);
       }
       leader_stop = ledger->take_level(std::move(streams));
     }
 
     // Agree: a stop during the level (any rank) ends the walk; a stop asked
     // for now ends it unless the next level is empty (then it is complete).
-    const StopReason during = std::max(work.stopped, leader_stop);
+    const StopReason during = std::max(stopped_here, leader_stop);
     const std::vector<std::uint64_t> reasons = transport.maximum({code_of(during), code_of(stop.reason())});
     level_size = transport.sum({next.size()})[0];
     if (reasons[0] != code_of(StopReason::none)) stop_reason = reason_of(reasons[0]);

@@ -10,12 +10,15 @@
 #include <fcntl.h>
 #include <unistd.h>
 
+#include <algorithm>
+#include <chrono>
 #include <climits>
 #include <cstdlib>
 #include <cstring>
 #include <iostream>
 #include <memory>
 #include <numeric>
+#include <thread>
 
 namespace pleat::cli {
 namespace {
@@ -35,6 +38,22 @@ int as_count(std::size_t bytes) {
     throw limit_error("a distributed walk's message passed 2 GiB (" + std::to_string(bytes) +
                       " bytes in one level); use more processes or a smaller domain");
   return static_cast<int>(bytes);
+}
+
+// Waits for a nonblocking collective without holding a core: tests it and,
+// between tests, sleeps from 20 us doubling up to 1 ms. A rank that finished
+// its share of a level first would otherwise spin inside MPI until the last
+// one is done, taking a core from the ranks still working whenever ranks
+// share cores (oversubscribed, or beside other jobs). A level costs a few
+// collectives, so the added latency is a few ms per level at most.
+void wait_gently(MPI_Request& request) {
+  auto pause = std::chrono::microseconds(20);
+  for (int is_done = 0;;) {
+    MPI_Test(&request, &is_done, MPI_STATUS_IGNORE);
+    if (is_done) return;
+    std::this_thread::sleep_for(pause);
+    pause = std::min(pause * 2, std::chrono::microseconds(1000));
+  }
 }
 
 std::vector<int> displacements_of(const std::vector<int>& counts) {
@@ -69,12 +88,15 @@ class MpiTransport : public WalkTransport {
       send += outgoing[r];
       std::string().swap(outgoing[r]);
     }
-    MPI_Alltoall(send_counts.data(), 1, MPI_INT, receive_counts.data(), 1, MPI_INT, MPI_COMM_WORLD);
+    MPI_Request request;
+    MPI_Ialltoall(send_counts.data(), 1, MPI_INT, receive_counts.data(), 1, MPI_INT, MPI_COMM_WORLD, &request);
+    wait_gently(request);
     const std::vector<int> send_displacements = displacements_of(send_counts);
     const std::vector<int> receive_displacements = displacements_of(receive_counts);
     std::string received(static_cast<std::size_t>(receive_displacements.back() + receive_counts.back()), '\0');
-    MPI_Alltoallv(send.data(), send_counts.data(), send_displacements.data(), MPI_BYTE, received.data(),
-                  receive_counts.data(), receive_displacements.data(), MPI_BYTE, MPI_COMM_WORLD);
+    MPI_Ialltoallv(send.data(), send_counts.data(), send_displacements.data(), MPI_BYTE, received.data(),
+                   receive_counts.data(), receive_displacements.data(), MPI_BYTE, MPI_COMM_WORLD, &request);
+    wait_gently(request);
     std::vector<std::string> incoming(size_);
     for (std::size_t s = 0; s < size_; ++s)
       incoming[s] = received.substr(static_cast<std::size_t>(receive_displacements[s]),
@@ -85,16 +107,20 @@ class MpiTransport : public WalkTransport {
   std::vector<std::string> gather_to_leader(std::string bytes) override {
     int count = as_count(bytes.size());
     std::vector<int> counts(size_, 0);
-    MPI_Gather(&count, 1, MPI_INT, counts.data(), 1, MPI_INT, 0, MPI_COMM_WORLD);
+    MPI_Request request;
+    MPI_Igather(&count, 1, MPI_INT, counts.data(), 1, MPI_INT, 0, MPI_COMM_WORLD, &request);
+    wait_gently(request);
     if (rank_ != 0) {
       sent_ += bytes.size();
-      MPI_Gatherv(bytes.data(), count, MPI_BYTE, nullptr, nullptr, nullptr, MPI_BYTE, 0, MPI_COMM_WORLD);
+      MPI_Igatherv(bytes.data(), count, MPI_BYTE, nullptr, nullptr, nullptr, MPI_BYTE, 0, MPI_COMM_WORLD, &request);
+      wait_gently(request);
       return {};
     }
     const std::vector<int> displacements = displacements_of(counts);
     std::string received(static_cast<std::size_t>(displacements.back() + counts.back()), '\0');
-    MPI_Gatherv(bytes.data(), count, MPI_BYTE, received.data(), counts.data(), displacements.data(), MPI_BYTE, 0,
-                MPI_COMM_WORLD);
+    MPI_Igatherv(bytes.data(), count, MPI_BYTE, received.data(), counts.data(), displacements.data(), MPI_BYTE, 0,
+                 MPI_COMM_WORLD, &request);
+    wait_gently(request);
     std::vector<std::string> by_rank(size_);
     for (std::size_t r = 0; r < size_; ++r)
       by_rank[r] = received.substr(static_cast<std::size_t>(displacements[r]), static_cast<std::size_t>(counts[r]));
@@ -103,10 +129,13 @@ class MpiTransport : public WalkTransport {
 
   std::string broadcast_from_leader(std::string bytes) override {
     unsigned long long length = bytes.size();
-    MPI_Bcast(&length, 1, MPI_UNSIGNED_LONG_LONG, 0, MPI_COMM_WORLD);
+    MPI_Request request;
+    MPI_Ibcast(&length, 1, MPI_UNSIGNED_LONG_LONG, 0, MPI_COMM_WORLD, &request);
+    wait_gently(request);
     bytes.resize(length);
     if (rank_ == 0) sent_ += length * (size_ - 1);
-    MPI_Bcast(bytes.data(), as_count(length), MPI_BYTE, 0, MPI_COMM_WORLD);
+    MPI_Ibcast(bytes.data(), as_count(length), MPI_BYTE, 0, MPI_COMM_WORLD, &request);
+    wait_gently(request);
     return bytes;
   }
 
@@ -117,8 +146,10 @@ class MpiTransport : public WalkTransport {
  private:
   std::vector<std::uint64_t> reduce(std::vector<std::uint64_t>& values, MPI_Op operation) {
     std::vector<std::uint64_t> result(values.size());
-    MPI_Allreduce(values.data(), result.data(), static_cast<int>(values.size()), MPI_UINT64_T, operation,
-                  MPI_COMM_WORLD);
+    MPI_Request request;
+    MPI_Iallreduce(values.data(), result.data(), static_cast<int>(values.size()), MPI_UINT64_T, operation,
+                   MPI_COMM_WORLD, &request);
+    wait_gently(request);
     return result;
   }
 

@@ -30,6 +30,7 @@ namespace pleat::lp::detail {
 // Open cell, exactly.
 CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap) {
   if (std::optional<CellVerdict> verdict = decide_open_cell_on_lines(cell)) return std::move(*verdict);
+  if (std::optional<CellVerdict> verdict = decide_open_cell_on_planes(cell)) return std::move(*verdict);
   const std::size_t n = cell.dim;
   const std::size_t m = cell.constraints.size();
   // Exact LP (cddlib), variables (x, t):
@@ -84,6 +85,7 @@ CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap
 // One facet group, exactly.
 FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group) {
   if (std::optional<FacetVerdict> verdict = classify_group_on_line(cell, group)) return std::move(*verdict);
+  if (std::optional<FacetVerdict> verdict = classify_group_on_plane(cell, group)) return std::move(*verdict);
   const std::size_t n = cell.dim;
   const std::size_t m = cell.constraints.size();
   const std::size_t j = group[0];

@@ -1,7 +1,8 @@
-// The plane cell's exact facet and emptiness questions without an LP
+// The plane and space cells' exact facet and emptiness questions without an LP
 // (lp/detail/oracle_line.cpp): every verdict passes the solver-free checker; facet
 // versus non-facet agrees with a naive reference that tries every candidate point on
-// the line, and empty versus not with cddlib's exact LP called directly.
+// the line (plane) or with cddlib's exact LP called directly (space), and empty
+// versus not with cddlib.
 #include "lp/checker.hpp"
 #include "lp/detail/exact_lp.hpp"
 #include "lp/detail/oracle_parts.hpp"
@@ -123,6 +124,17 @@ bool is_nonempty_by_cddlib(const Polyhedron& cell) {
   return solution.status == detail::ExactStatus::optimal && sgn(solution.value) > 0;
 }
 
+// The same in space.
+bool is_nonempty_by_cddlib3(const Polyhedron& cell) {
+  std::vector<detail::ExactRow> rows;
+  for (const Constraint& c : cell.constraints)
+    rows.push_back(detail::ExactRow{{c.normal[0], c.normal[1], c.normal[2], Rational(-1)}, c.offset, false});
+  rows.push_back(detail::ExactRow{{Rational(0), Rational(0), Rational(0), Rational(-1)}, Rational(1), false});
+  const detail::ExactSolution solution =
+      detail::maximise_exact(4, rows, {Rational(0), Rational(0), Rational(0), Rational(1)});
+  return solution.status == detail::ExactStatus::optimal && sgn(solution.value) > 0;
+}
+
 TEST(OpenCellOnLines, RandomPlaneCellsAgreeWithCddlib) {
   std::mt19937 random(3122026);
   std::uniform_int_distribution<long> entry(-9, 9), offset(-30, 30);
@@ -181,10 +193,106 @@ TEST(OpenCellOnLines, ASliverOfWidthTenToTheMinusThirty) {
   EXPECT_TRUE(check_emptiness(sliver, std::get<EmptinessCertificate>(*empty)));
 }
 
+// Reference: cddlib's exact LP, maximise t subject to a_j . x + c_j = 0, a_i . x + c_i - t >= 0
+// (i outside the group) and t <= 1; a facet exactly when the optimum is positive.
+bool is_facet_by_cddlib(const Polyhedron& cell, const std::vector<std::size_t>& group) {
+  const std::size_t n = cell.dim;
+  std::vector<detail::ExactRow> rows;
+  RationalVector objective(n + 1, Rational(0));
+  objective[n] = 1;
+  for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+    const bool is_member = std::find(group.begin(), group.end(), i) != group.end();
+    if (is_member && i != group[0]) continue;
+    detail::ExactRow row{cell.constraints[i].normal, cell.constraints[i].offset, i == group[0]};
+    row.normal.push_back(Rational(i == group[0] ? 0 : -1));
+    rows.push_back(std::move(row));
+  }
+  detail::ExactRow cap{RationalVector(n + 1, Rational(0)), Rational(1), false};
+  cap.normal[n] = -1;
+  rows.push_back(std::move(cap));
+  const detail::ExactSolution solution = detail::maximise_exact(n + 1, rows, objective);
+  return solution.status == detail::ExactStatus::optimal && sgn(solution.value) > 0;
+}
+
+TEST(FacetsOnPlane, RandomSpaceCellsAgreeWithCddlib) {
+  std::mt19937 random(4122026);
+  std::uniform_int_distribution<long> entry(-6, 6);
+  int facets = 0, non_facets = 0;
+  for (int trial = 0; trial < 120; ++trial) {
+    const RationalVector inside = random_point(random, 3);
+    Polyhedron cell = random_cell_around(random, 3, 4 + trial % 10, inside);
+    if (trial % 4 == 0) {  // a constraint parallel to row 0, facing the other way, through inside
+      Constraint opposite = cell.constraints[0];
+      for (Rational& value : opposite.normal) value = -value;
+      opposite.offset = 0;
+      opposite.offset = Rational(1) - slack_at(opposite, inside);
+      cell.constraints.push_back(opposite);
+    }
+    for (std::size_t j = 0; j < cell.constraints.size(); ++j) {
+      bool has_multiple = false;
+      for (std::size_t i = 0; i < cell.constraints.size(); ++i)
+        has_multiple = has_multiple || (i != j && is_positive_multiple(cell.constraints[i], cell.constraints[j]));
+      if (has_multiple) continue;
+      const std::optional<FacetVerdict> verdict = detail::classify_group_on_plane(cell, {j});
+      ASSERT_TRUE(verdict.has_value());
+      const bool is_facet = std::holds_alternative<FacetPoint>(*verdict);
+      if (is_facet) {
+        EXPECT_TRUE(check_facet_point(cell, {j}, std::get<FacetPoint>(*verdict)));
+      } else {
+        EXPECT_TRUE(check_non_facet(cell, {j}, std::get<NonFacetCertificate>(*verdict)));
+      }
+      EXPECT_EQ(is_facet, is_facet_by_cddlib(cell, {j}));
+      (is_facet ? facets : non_facets) += 1;
+    }
+  }
+  EXPECT_GT(facets, 150);
+  EXPECT_GT(non_facets, 150);
+}
+
+TEST(OpenCellOnPlanes, RandomSpaceCellsAgreeWithCddlib) {
+  std::mt19937 random(5122026);
+  std::uniform_int_distribution<long> entry(-6, 6), offset(-20, 20);
+  std::uniform_int_distribution<std::size_t> count(1, 10);
+  int empty = 0, nonempty = 0, undecided = 0;
+  for (int trial = 0; trial < 300; ++trial) {
+    Polyhedron cell{3, {}};
+    for (std::size_t i = count(random); i > 0; --i) {
+      std::vector<long> normal;
+      while (normal.empty() || (normal[0] == 0 && normal[1] == 0 && normal[2] == 0)) {
+        normal.clear();
+        for (int k = 0; k < 3; ++k) normal.push_back(entry(random));
+      }
+      cell.constraints.push_back(constraint(normal, Rational(offset(random))));
+    }
+    if (trial % 5 == 0) cell.constraints.push_back(cell.constraints[0]);
+    const std::optional<CellVerdict> verdict = detail::decide_open_cell_on_planes(cell);
+    const bool expected = is_nonempty_by_cddlib3(cell);
+    if (!verdict) {
+      // Allowed only for an empty cell whose certificate no plane's support carried.
+      EXPECT_FALSE(expected);
+      ++undecided;
+    } else if (const auto* point = std::get_if<InteriorPoint>(&*verdict)) {
+      EXPECT_TRUE(check_interior_point(cell, *point));
+      EXPECT_TRUE(expected);
+      ++nonempty;
+    } else {
+      EXPECT_TRUE(check_emptiness(cell, std::get<EmptinessCertificate>(*verdict)));
+      EXPECT_FALSE(expected);
+      ++empty;
+    }
+  }
+  EXPECT_GT(empty, 60);
+  EXPECT_GT(nonempty, 60);
+  EXPECT_LT(undecided, 15);
+}
+
 TEST(FacetsOnLine, OnlyThePlane) {
   const Polyhedron cube{3, {constraint({1, 0, 0}, 0), constraint({-1, 0, 0}, 1)}};
   EXPECT_FALSE(detail::classify_group_on_line(cube, {0}).has_value());
   EXPECT_FALSE(detail::decide_open_cell_on_lines(cube).has_value());
+  const Polyhedron square{2, {constraint({1, 0}, 0), constraint({-1, 0}, 1)}};
+  EXPECT_FALSE(detail::classify_group_on_plane(square, {0}).has_value());
+  EXPECT_FALSE(detail::decide_open_cell_on_planes(square).has_value());
 }
 
 }  // namespace
