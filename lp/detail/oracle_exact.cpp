@@ -30,6 +30,7 @@ namespace pleat::lp::detail {
 // Open cell, exactly.
 CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap) {
   if (std::optional<CellVerdict> verdict = decide_open_cell_on_lines(cell)) return std::move(*verdict);
+  if (std::optional<CellVerdict> verdict = decide_open_cell_on_planes(cell)) return std::move(*verdict);
   const std::size_t n = cell.dim;
   const std::size_t m = cell.constraints.size();
   // Exact LP (cddlib), variables (x, t):

@@ -1,4 +1,4 @@
-// A plane cell's exact questions on its constraints' lines: no LP.
+// Plane and space cells' exact questions on their constraints' lines: no LP.
 //
 // In the plane, "is a_j . x + c_j = 0 a facet" asks whether an open interval of a
 // line is non-empty. Parametrised by one coordinate, every other constraint is an
@@ -7,14 +7,20 @@
 // has support one constraint (a parallel one, non-positive on the line) or two
 // (the two nearest bounds crossing). A non-empty open plane cell other than the
 // plane has a facet, so "is the open cell empty" is the same question asked of
-// each line in turn. On thin cells the double filter cannot decide (GLPK's
-// tolerances are wider than the cell) and cddlib's exact simplex took about 0.6 ms
-// per such query; these take a few microseconds. Every verdict is checked exactly
-// here; an unexpected failure returns nullopt, and the caller's cddlib path decides.
+// each line in turn. In space, the facet question is the plane cell that the other
+// constraints leave on the constraint's plane.
+//
+// On thin cells the double filter cannot decide (GLPK's tolerances are wider than
+// the cell) and cddlib's exact simplex took 0.6-6 ms per such query; these take
+// microseconds. The work is done on integer rows (each row times the least common
+// multiple of its denominators: the same half-space), so no fraction is reduced
+// on the way. Every verdict is checked exactly on the caller's rows before it is
+// returned; an unexpected failure returns nullopt and the caller's cddlib path decides.
 #include "lp/checker.hpp"
 #include "lp/detail/exact_tools.hpp"
 #include "lp/detail/oracle_parts.hpp"
 
+#include <cstdlib>
 #include <optional>
 #include <vector>
 
@@ -22,65 +28,127 @@ namespace pleat::lp::detail {
 
 namespace {
 
-// s in the open interval (low, high) (either may be absent: unbounded), with a
-// short representation: the simplest rational in its middle half.
-Rational short_inside(const std::optional<Rational>& low, const std::optional<Rational>& high) {
-  if (low && high) {
-    const Rational quarter = (*high - *low) / 4;
-    return simplest_between(*low + quarter, *high - quarter);
+// a . x + c > 0 with integer a and c: a positive multiple of a rational row.
+struct IntegerRow {
+  std::vector<Integer> normal;
+  Integer offset;
+};
+
+std::vector<IntegerRow> integer_rows(const Polyhedron& cell) {
+  std::vector<IntegerRow> rows(cell.constraints.size());
+  Integer scale;
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    const Constraint& constraint = cell.constraints[i];
+    scale = constraint.offset.get_den();
+    for (const Rational& value : constraint.normal) mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), value.get_den_mpz_t());
+    rows[i].normal.resize(cell.dim);
+    for (std::size_t k = 0; k < cell.dim; ++k)
+      rows[i].normal[k] = constraint.normal[k].get_num() * (scale / constraint.normal[k].get_den());
+    rows[i].offset = constraint.offset.get_num() * (scale / constraint.offset.get_den());
   }
-  if (low) return simplest_between(*low + 1, *low + 2);
-  if (high) return simplest_between(*high - 2, *high - 1);
-  return Rational(0);
+  return rows;
 }
 
-// What the other constraints leave of line j: a facet point (every constraint
-// outside the group > 0 there), or the support of a Motzkin certificate.
+std::size_t largest_integer_entry(const std::vector<Integer>& normal) {
+  std::size_t best = 0;
+  for (std::size_t k = 1; k < normal.size(); ++k)
+    if (mpz_cmpabs(normal[k].get_mpz_t(), normal[best].get_mpz_t()) > 0) best = k;
+  return best;
+}
+
+// Row i restricted to row j's hyperplane, in the coordinates other than `solved`
+// (x[solved] eliminated): sigma (a_js a_i - a_is a_j) over the free coordinates
+// and offsets, sigma = sign(a_js); a positive multiple of row i's restriction.
+IntegerRow restricted(const IntegerRow& row, const IntegerRow& rep, std::size_t solved) {
+  const Integer& pivot = rep.normal[solved];
+  const Integer& factor = row.normal[solved];
+  IntegerRow result;
+  for (std::size_t k = 0; k < row.normal.size(); ++k)
+    if (k != solved) result.normal.push_back(pivot * row.normal[k] - factor * rep.normal[k]);
+  result.offset = pivot * row.offset - factor * rep.offset;
+  if (sgn(pivot) < 0) {
+    for (Integer& value : result.normal) value = -value;
+    result.offset = -result.offset;
+  }
+  return result;
+}
+
+bool is_zero(const std::vector<Integer>& values) {
+  for (const Integer& value : values)
+    if (sgn(value) != 0) return false;
+  return true;
+}
+
+// What the other rows leave of row j's hyperplane when that hyperplane is a line
+// (dim 2, rows[j] != 0): a point where every row outside j's group is positive,
+// or the support of a Motzkin certificate (indices into rows).
 struct LineInterval {
   std::optional<RationalVector> facet_point;
   std::vector<std::size_t> support;
 };
 
-// is_member[i]: constraint i is in line j's group (a positive multiple of j); a
-// positive multiple left out of is_member is recognised on the way. Precondition:
-// dim == 2 and a_j != 0.
-LineInterval line_interval(const Polyhedron& cell, std::size_t j, const std::vector<bool>& is_member) {
-  const Constraint& rep = cell.constraints[j];
-  // x[solved] = -(c_j + a_jf s) / a_js with s = x[free]; a_js != 0 (largest entry).
-  const std::size_t solved = largest_entry(rep.normal);
+// p / q with q > 0.
+struct Fraction {
+  Integer p, q;
+  bool operator>(const Fraction& other) const { return p * other.q > other.p * q; }
+};
+
+// s in the open interval (low, high) (either may be absent: unbounded), with a
+// short representation: the simplest rational in its middle half.
+Rational short_inside(const std::optional<Fraction>& low, const std::optional<Fraction>& high) {
+  auto rational = [](const Fraction& f) {
+    Rational value(f.p, f.q);
+    value.canonicalize();
+    return value;
+  };
+  if (low && high) {
+    const Rational lo = rational(*low), hi = rational(*high);
+    const Rational quarter = (hi - lo) / 4;
+    return simplest_between(lo + quarter, hi - quarter);
+  }
+  if (low) return simplest_between(rational(*low) + 1, rational(*low) + 2);
+  if (high) return simplest_between(rational(*high) - 2, rational(*high) - 1);
+  return Rational(0);
+}
+
+// is_member[i]: row i is in row j's group (a positive multiple of j); a positive
+// multiple left out of is_member is recognised on the way.
+LineInterval line_interval(const std::vector<IntegerRow>& rows, std::size_t j, const std::vector<bool>& is_member) {
+  const IntegerRow& rep = rows[j];
+  const std::size_t solved = largest_integer_entry(rep.normal);
   const std::size_t free = 1 - solved;
-  const Rational slope = rep.normal[free] / rep.normal[solved];
-  const Rational intercept = rep.offset / rep.normal[solved];
   // The tightest bound from each side: s > low (from `lower`), s < high (from `upper`).
-  std::optional<Rational> low, high;
+  std::optional<Fraction> low, high;
   std::size_t lower = 0, upper = 0;
-  Rational alpha, beta, bound;
-  for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+  for (std::size_t i = 0; i < rows.size(); ++i) {
     if (is_member[i]) continue;
-    const Constraint& constraint = cell.constraints[i];
-    // a_i . x + c_i on the line, as alpha s + beta.
-    alpha = constraint.normal[free] - constraint.normal[solved] * slope;
-    beta = constraint.offset - constraint.normal[solved] * intercept;
+    // Row i on the line as alpha s + beta (times |a_js|).
+    IntegerRow on_line = restricted(rows[i], rep, solved);
+    Integer& alpha = on_line.normal[0];
+    Integer& beta = on_line.offset;
     const int direction = sgn(alpha);
     if (direction == 0) {
       if (sgn(beta) > 0) continue;
       // Zero on the whole line and on the same side as j: a positive multiple of j.
-      if (sgn(beta) == 0 && sgn(constraint.normal[solved]) == sgn(rep.normal[solved])) continue;
+      if (sgn(beta) == 0 && sgn(rows[i].normal[solved]) == sgn(rep.normal[solved])) continue;
       return LineInterval{std::nullopt, {i}};  // parallel, non-positive on the whole line
     }
-    bound = -beta / alpha;
+    // The bound -beta / alpha, with a positive denominator.
+    Fraction bound = direction > 0 ? Fraction{-beta, alpha} : Fraction{beta, -alpha};
     if (direction > 0 && (!low || bound > *low)) {
-      low = bound;
+      low = std::move(bound);
       lower = i;
-    } else if (direction < 0 && (!high || bound < *high)) {
-      high = bound;
+    } else if (direction < 0 && (!high || *high > bound)) {
+      high = std::move(bound);
       upper = i;
     }
   }
-  if (low && high && *low >= *high) return LineInterval{std::nullopt, {lower, upper}};
+  if (low && high && !(*high > *low)) return LineInterval{std::nullopt, {lower, upper}};
   RationalVector point(2);
   point[free] = short_inside(low, high);
-  return LineInterval{project_onto(rep, std::move(point), solved), {}};
+  // x[solved] = -(c_j + a_jf s) / a_js.
+  point[solved] = -(Rational(rep.offset) + Rational(rep.normal[free]) * point[free]) / Rational(rep.normal[solved]);
+  return LineInterval{std::move(point), {}};
 }
 
 std::vector<bool> membership(std::size_t count, const std::vector<std::size_t>& group) {
@@ -89,31 +157,122 @@ std::vector<bool> membership(std::size_t count, const std::vector<std::size_t>& 
   return is_member;
 }
 
-// From a facet point x0 of line j into the open cell: x0 + e a_j with e small
-// enough that no constraint falling along a_j reaches zero, then rounded to short
-// coordinates within half the smallest slack-to-norm ratio (which keeps every
-// slack positive).
-std::optional<RationalVector> step_inside(const Polyhedron& cell, std::size_t j, const RationalVector& on_line) {
-  const RationalVector& a_j = cell.constraints[j].normal;
-  Rational step = 1, along, slack_here;
-  for (const Constraint& constraint : cell.constraints) {
-    along = constraint.normal[0] * a_j[0] + constraint.normal[1] * a_j[1];
+Rational row_slack(const IntegerRow& row, const RationalVector& x) {
+  Rational value = row.offset;
+  for (std::size_t k = 0; k < x.size(); ++k) value += row.normal[k] * x[k];
+  return value;
+}
+
+// Every row's slack at x times the common denominator D of x's coordinates
+// (so D > 0 and the signs are the slacks' signs): integer products only.
+std::vector<Integer> scaled_slacks(const std::vector<IntegerRow>& rows, const RationalVector& x, Integer& denominator) {
+  denominator = 1;
+  for (const Rational& value : x) mpz_lcm(denominator.get_mpz_t(), denominator.get_mpz_t(), value.get_den_mpz_t());
+  std::vector<Integer> numerators(x.size());
+  for (std::size_t k = 0; k < x.size(); ++k) numerators[k] = x[k].get_num() * (denominator / x[k].get_den());
+  std::vector<Integer> slacks(rows.size());
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    slacks[i] = rows[i].offset * denominator;
+    for (std::size_t k = 0; k < x.size(); ++k) slacks[i] += rows[i].normal[k] * numerators[k];
+  }
+  return slacks;
+}
+
+// From a point on row j's hyperplane where every other row is positive into the
+// open cell: x0 + e a_j with e small enough that no row falling along a_j reaches
+// zero (at most half way), then rounded to short coordinates within half the
+// smallest slack-to-norm ratio (which keeps every slack positive). nullopt if a
+// slack is not positive.
+std::optional<RationalVector> step_inside(const std::vector<IntegerRow>& rows, std::size_t j,
+                                          const RationalVector& on_plane) {
+  const std::vector<Integer>& a_j = rows[j].normal;
+  Integer denominator;
+  const std::vector<Integer> slacks = scaled_slacks(rows, on_plane, denominator);
+  // e = min(1, min over falling rows of slack_i / (-2 a_i . a_j)) = limit.p / limit.q.
+  Fraction limit{1, 1};
+  Integer along;
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    along = 0;
+    for (std::size_t k = 0; k < a_j.size(); ++k) along += rows[i].normal[k] * a_j[k];
     if (sgn(along) >= 0) continue;
-    slack_here = slack(constraint, on_line);
-    if (sgn(slack_here) <= 0) return std::nullopt;
-    const Rational limit = slack_here / (-2 * along);
-    if (limit < step) step = limit;
+    if (sgn(slacks[i]) <= 0) return std::nullopt;
+    Fraction candidate{slacks[i], -2 * along * denominator};
+    if (limit > candidate) limit = std::move(candidate);
   }
-  RationalVector point{on_line[0] + step * a_j[0], on_line[1] + step * a_j[1]};
-  std::optional<Rational> radius;
-  for (const Constraint& constraint : cell.constraints) {
-    const Rational ratio = slack(constraint, point) / one_norm(constraint.normal);
-    if (sgn(ratio) <= 0) return std::nullopt;
-    if (!radius || ratio < *radius) radius = ratio;
+  Rational step(limit.p, limit.q);
+  step.canonicalize();
+  RationalVector point(on_plane);
+  for (std::size_t k = 0; k < a_j.size(); ++k) point[k] += step * a_j[k];
+  // radius = min over rows of slack_i / |a_i|_1 = smallest.p / smallest.q.
+  const std::vector<Integer> inside = scaled_slacks(rows, point, denominator);
+  std::optional<Fraction> smallest;
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    if (sgn(inside[i]) <= 0) return std::nullopt;
+    Integer norm = 0;
+    for (const Integer& value : rows[i].normal) norm += abs(value);
+    Fraction ratio{inside[i], norm * denominator};
+    if (!smallest || *smallest > ratio) smallest = std::move(ratio);
   }
-  RationalVector shortened = round_point(point, *radius / 2);
-  if (is_interior(cell, shortened)) return shortened;
-  if (is_interior(cell, point)) return point;
+  Rational radius(smallest->p, 2 * smallest->q);
+  radius.canonicalize();
+  RationalVector shortened = round_point(point, radius);
+  for (const Integer& value : scaled_slacks(rows, shortened, denominator))
+    if (sgn(value) <= 0) return point;
+  return shortened;
+}
+
+Integer determinant(const IntegerRow& first, const IntegerRow& second) {
+  return first.normal[0] * second.normal[1] - first.normal[1] * second.normal[0];
+}
+
+// Whether the plane rows of support (two or three) carry a Gordan certificate:
+// y >= 0, not all zero, sum y_i a_i = 0 and sum y_i c_i <= 0, with y from 2x2
+// determinants (Cramer). Exact; a screen before the caller's rational solve,
+// so that a support that cannot work costs a few integer products.
+bool is_gordan_support(const std::vector<IntegerRow>& rows, const std::vector<std::size_t>& support) {
+  std::vector<Integer> y;
+  if (support.size() == 2) {
+    const IntegerRow& p = rows[support[0]];
+    const IntegerRow& q = rows[support[1]];
+    // Opposite directions: a_p = -lambda a_q with lambda > 0.
+    if (sgn(determinant(p, q)) != 0) return false;
+    const std::size_t k = sgn(q.normal[0]) != 0 ? 0 : 1;
+    if (sgn(p.normal[k]) == sgn(q.normal[k])) return false;
+    y = {abs(q.normal[k]), abs(p.normal[k])};
+  } else if (support.size() == 3) {
+    const IntegerRow& p = rows[support[0]];
+    const IntegerRow& q = rows[support[1]];
+    const IntegerRow& r = rows[support[2]];
+    y = {determinant(q, r), determinant(r, p), determinant(p, q)};
+    const bool is_nonpositive = sgn(y[0]) <= 0 && sgn(y[1]) <= 0 && sgn(y[2]) <= 0;
+    if (is_nonpositive)
+      for (Integer& value : y) value = -value;
+    if (sgn(y[0]) < 0 || sgn(y[1]) < 0 || sgn(y[2]) < 0 || is_zero(y)) return false;
+  } else {
+    return false;
+  }
+  Integer total = 0;
+  for (std::size_t s = 0; s < support.size(); ++s) total += y[s] * rows[support[s]].offset;
+  return sgn(total) <= 0;
+}
+
+// An open plane cell of integer rows: an interior point, or (when every line has
+// failed) nullopt after offering each line's support, the line included, to
+// is_empty_on (which returns true once it has proved the cell empty on it; then
+// the search stops and nullopt is returned too: the caller holds the proof).
+template <typename EmptyOn>
+std::optional<RationalVector> open_plane_cell(const std::vector<IntegerRow>& rows, EmptyOn&& is_empty_on) {
+  std::vector<bool> is_member(rows.size(), false);
+  for (std::size_t j = 0; j < rows.size(); ++j) {
+    is_member[j] = true;
+    LineInterval interval = line_interval(rows, j, is_member);
+    is_member[j] = false;
+    if (interval.facet_point) return step_inside(rows, j, *interval.facet_point);
+    // The line's support with the line itself is often a Gordan support (Helly: an
+    // empty open plane cell has an empty sub-cell of at most three constraints).
+    interval.support.push_back(j);
+    if (is_gordan_support(rows, interval.support) && is_empty_on(interval.support)) return std::nullopt;
+  }
   return std::nullopt;
 }
 
@@ -121,7 +280,7 @@ std::optional<RationalVector> step_inside(const Polyhedron& cell, std::size_t j,
 
 std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const std::vector<std::size_t>& group) {
   if (cell.dim != 2 || group.empty() || !is_well_formed(cell)) return std::nullopt;
-  const LineInterval interval = line_interval(cell, group[0], membership(cell.constraints.size(), group));
+  const LineInterval interval = line_interval(integer_rows(cell), group[0], membership(cell.constraints.size(), group));
   if (interval.facet_point) {
     if (!is_facet_point(cell, group, *interval.facet_point)) return std::nullopt;
     return FacetVerdict{FacetPoint{*interval.facet_point}};
@@ -133,109 +292,106 @@ std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const
 
 std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell) {
   if (cell.dim != 2 || cell.constraints.empty() || !is_well_formed(cell)) return std::nullopt;
-  const std::size_t m = cell.constraints.size();
-  std::vector<bool> is_member(m, false);
-  for (std::size_t j = 0; j < m; ++j) {
-    is_member[j] = true;
-    LineInterval interval = line_interval(cell, j, is_member);
-    is_member[j] = false;
-    if (interval.facet_point) {
-      if (std::optional<RationalVector> point = step_inside(cell, j, *interval.facet_point))
-        return CellVerdict{InteriorPoint{std::move(*point)}};
-      return std::nullopt;
-    }
-    // The line's support with the line itself is often a Gordan support (Helly: an
-    // empty open plane cell has an empty sub-cell of at most three constraints).
-    interval.support.push_back(j);
-    if (std::optional<EmptinessCertificate> certificate = emptiness_on_support(cell, interval.support)) {
-      if (!check_emptiness(cell, *certificate)) return std::nullopt;  // unexpected: cddlib decides
-      return CellVerdict{std::move(*certificate)};
-    }
+  std::optional<EmptinessCertificate> proof;
+  const auto is_empty_on = [&](const std::vector<std::size_t>& support) {
+    proof = emptiness_on_support(cell, support);
+    if (proof && !check_emptiness(cell, *proof)) proof.reset();
+    return proof.has_value();
+  };
+  if (std::optional<RationalVector> point = open_plane_cell(integer_rows(cell), is_empty_on)) {
+    if (!is_interior(cell, *point)) return std::nullopt;
+    return CellVerdict{InteriorPoint{std::move(*point)}};
   }
-  // No line has a facet point, so the open cell is empty, but no line's support
-  // carried the certificate: cddlib finds one.
-  return std::nullopt;
+  if (proof) return CellVerdict{std::move(*proof)};
+  return std::nullopt;  // no line's support carried the certificate: cddlib finds one
 }
 
 namespace {
 
-// Cell 3-D restricted to the plane of constraint j (the group's members left out),
-// in the two coordinates other than the one solved for: each other constraint is
-// alpha . s + beta with alpha in Q^2. One that is constant and non-positive on the
-// plane is `violated` (a Motzkin support of one); constant positive ones are dropped.
-struct PlaneRestriction {
-  Polyhedron plane{2, {}};
-  std::vector<std::size_t> origin;  // plane constraint -> the cell's index
-  std::optional<std::size_t> violated;
-  std::size_t solved = 0;
-};
-
-PlaneRestriction restrict_to_plane(const Polyhedron& cell, std::size_t j, const std::vector<bool>& is_member) {
-  const Constraint& rep = cell.constraints[j];
-  PlaneRestriction result;
-  result.solved = largest_entry(rep.normal);
-  std::size_t free[2], f = 0;
-  for (std::size_t k = 0; k < 3; ++k)
-    if (k != result.solved) free[f++] = k;
-  // x[solved] = -(c_j + sum_f a_jf s_f) / a_js.
-  const Rational& pivot = rep.normal[result.solved];
-  for (std::size_t i = 0; i < cell.constraints.size(); ++i) {
+// Row j's plane in a space cell of integer rows: a point on it where every row
+// outside j's group is positive, or nullopt after offering Motzkin supports
+// (indices into rows, j's group excluded) to is_non_facet_on, which returns true
+// once one of them proved the plane holds no such point. is_member as in
+// line_interval (positive multiples left out are recognised on the way).
+template <typename NonFacetOn>
+std::optional<RationalVector> point_on_plane(const std::vector<IntegerRow>& rows, std::size_t j,
+                                             const std::vector<bool>& is_member, NonFacetOn&& is_non_facet_on) {
+  const IntegerRow& rep = rows[j];
+  const std::size_t solved = largest_integer_entry(rep.normal);
+  // The plane cell the other rows leave on the plane; origin maps back.
+  std::vector<IntegerRow> plane;
+  std::vector<std::size_t> origin;
+  for (std::size_t i = 0; i < rows.size(); ++i) {
     if (is_member[i]) continue;
-    const Constraint& constraint = cell.constraints[i];
-    const Rational ratio = constraint.normal[result.solved] / pivot;
-    Constraint restricted;
-    restricted.normal = {constraint.normal[free[0]] - ratio * rep.normal[free[0]],
-                         constraint.normal[free[1]] - ratio * rep.normal[free[1]]};
-    restricted.offset = constraint.offset - ratio * rep.offset;
-    if (sgn(restricted.normal[0]) == 0 && sgn(restricted.normal[1]) == 0) {
-      if (sgn(restricted.offset) > 0) continue;
-      result.violated = i;
-      return result;
+    IntegerRow on_plane = restricted(rows[i], rep, solved);
+    if (is_zero(on_plane.normal)) {
+      if (sgn(on_plane.offset) > 0) continue;
+      // Zero on the plane and on the same side as j: a positive multiple of j.
+      if (sgn(on_plane.offset) == 0 && sgn(rows[i].normal[solved]) == sgn(rep.normal[solved])) continue;
+      is_non_facet_on(std::vector<std::size_t>{i});  // constant and non-positive on the plane
+      return std::nullopt;
     }
-    result.plane.constraints.push_back(std::move(restricted));
-    result.origin.push_back(i);
+    plane.push_back(std::move(on_plane));
+    origin.push_back(i);
   }
-  return result;
-}
-
-// The plane point s lifted onto constraint j's plane in the cell's coordinates.
-RationalVector lift_from_plane(const Constraint& rep, std::size_t solved, const RationalVector& s) {
+  const auto on_support = [&](const std::vector<std::size_t>& support) {
+    std::vector<std::size_t> in_space;
+    for (std::size_t k : support) in_space.push_back(origin[k]);
+    return is_non_facet_on(in_space);
+  };
+  std::optional<RationalVector> inside =
+      plane.empty() ? std::optional<RationalVector>(RationalVector(2, Rational(0))) : open_plane_cell(plane, on_support);
+  if (!inside) return std::nullopt;
   RationalVector point(3);
   for (std::size_t k = 0, f = 0; k < 3; ++k)
-    if (k != solved) point[k] = s[f++];
-  return project_onto(rep, std::move(point), solved);
+    if (k != solved) point[k] = (*inside)[f++];
+  point[solved] = 0;
+  point[solved] = -row_slack(rep, point) / Rational(rep.normal[solved]);
+  return point;
 }
 
 }  // namespace
 
 std::optional<FacetVerdict> classify_group_on_plane(const Polyhedron& cell, const std::vector<std::size_t>& group) {
   if (cell.dim != 3 || group.empty() || !is_well_formed(cell)) return std::nullopt;
-  const Constraint& rep = cell.constraints[group[0]];
-  const PlaneRestriction restriction = restrict_to_plane(cell, group[0], membership(cell.constraints.size(), group));
-  std::vector<std::size_t> support;
-  if (restriction.violated) {
-    support.push_back(*restriction.violated);
-  } else {
-    std::optional<CellVerdict> on_plane;
-    if (restriction.plane.constraints.empty())
-      on_plane = CellVerdict{InteriorPoint{RationalVector(2, Rational(0))}};
-    else
-      on_plane = decide_open_cell_on_lines(restriction.plane);
-    if (!on_plane) return std::nullopt;
-    if (const auto* inside = std::get_if<InteriorPoint>(&*on_plane)) {
-      RationalVector point = lift_from_plane(rep, restriction.solved, inside->point);
-      if (!is_facet_point(cell, group, point)) return std::nullopt;
-      return FacetVerdict{FacetPoint{std::move(point)}};
-    }
-    // A Gordan certificate on the plane: its support, with the line's own row
-    // folded into the equality multiplier, is a Motzkin support in space.
-    const RationalVector& y = std::get<EmptinessCertificate>(*on_plane).multipliers;
-    for (std::size_t k = 0; k < y.size(); ++k)
-      if (sgn(y[k]) > 0) support.push_back(restriction.origin[k]);
+  std::optional<NonFacetCertificate> certificate;
+  const auto is_non_facet_on = [&](const std::vector<std::size_t>& support) {
+    certificate = non_facet_on_support(cell, group[0], support);
+    if (certificate && !check_non_facet(cell, group, *certificate)) certificate.reset();
+    return certificate.has_value();
+  };
+  const std::optional<RationalVector> point =
+      point_on_plane(integer_rows(cell), group[0], membership(cell.constraints.size(), group), is_non_facet_on);
+  if (certificate) return FacetVerdict{std::move(*certificate)};
+  if (!point || !is_facet_point(cell, group, *point)) return std::nullopt;
+  return FacetVerdict{FacetPoint{*point}};
+}
+
+std::optional<CellVerdict> decide_open_cell_on_planes(const Polyhedron& cell) {
+  if (cell.dim != 3 || cell.constraints.empty() || !is_well_formed(cell)) return std::nullopt;
+  const std::vector<IntegerRow> rows = integer_rows(cell);
+  std::optional<EmptinessCertificate> proof;
+  std::vector<bool> is_member(rows.size(), false);
+  for (std::size_t j = 0; j < rows.size(); ++j) {
+    // A Motzkin support of plane j's emptiness, with j itself, is often a Gordan
+    // support of the cell (Helly: an empty open cell in space has an empty
+    // sub-cell of at most four constraints).
+    const auto is_empty_on = [&](std::vector<std::size_t> support) {
+      support.push_back(j);
+      proof = emptiness_on_support(cell, support);
+      if (proof && !check_emptiness(cell, *proof)) proof.reset();
+      return proof.has_value();
+    };
+    is_member[j] = true;
+    std::optional<RationalVector> on_plane = point_on_plane(rows, j, is_member, is_empty_on);
+    is_member[j] = false;
+    if (proof) return CellVerdict{std::move(*proof)};
+    if (!on_plane) continue;
+    std::optional<RationalVector> point = step_inside(rows, j, *on_plane);
+    if (!point || !is_interior(cell, *point)) return std::nullopt;
+    return CellVerdict{InteriorPoint{std::move(*point)}};
   }
-  std::optional<NonFacetCertificate> certificate = non_facet_on_support(cell, group[0], support);
-  if (certificate && check_non_facet(cell, group, *certificate)) return FacetVerdict{std::move(*certificate)};
-  return std::nullopt;
+  return std::nullopt;  // empty, but no plane's support carried the certificate: cddlib finds one
 }
 
 }  // namespace pleat::lp::detail

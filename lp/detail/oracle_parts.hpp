@@ -121,7 +121,8 @@ bool is_facet_point_filtered(const Polyhedron& cell, const CellImages& images, s
 
 [[noreturn]] void internal_failure(const char* what);  // throws std::logic_error
 
-// Open cell, exactly (in the plane first by decide_open_cell_on_lines, else cddlib).
+// Open cell, exactly (in the plane and in space first by decide_open_cell_on_lines
+// or _on_planes, else cddlib).
 CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap);
 
 // Open plane cell (dim 2), exactly and without an LP: a facet point on some
@@ -129,6 +130,12 @@ CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap
 // on one line's support (lp/detail/oracle_line.cpp). nullopt when dim != 2 or no
 // certificate passes its exact check.
 std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell);
+
+// Open space cell (dim 3), exactly and without an LP: a facet point on some
+// constraint's plane (classify_group_on_plane's search) stepped inside, or a Gordan
+// certificate on one plane's Motzkin support with the plane's own constraint.
+// nullopt when dim != 3 or no certificate passes its exact check.
+std::optional<CellVerdict> decide_open_cell_on_planes(const Polyhedron& cell);
 
 // One facet group, exactly (in the plane first by classify_group_on_line, else cddlib).
 FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group);

@@ -124,6 +124,17 @@ bool is_nonempty_by_cddlib(const Polyhedron& cell) {
   return solution.status == detail::ExactStatus::optimal && sgn(solution.value) > 0;
 }
 
+// The same in space.
+bool is_nonempty_by_cddlib3(const Polyhedron& cell) {
+  std::vector<detail::ExactRow> rows;
+  for (const Constraint& c : cell.constraints)
+    rows.push_back(detail::ExactRow{{c.normal[0], c.normal[1], c.normal[2], Rational(-1)}, c.offset, false});
+  rows.push_back(detail::ExactRow{{Rational(0), Rational(0), Rational(0), Rational(-1)}, Rational(1), false});
+  const detail::ExactSolution solution =
+      detail::maximise_exact(4, rows, {Rational(0), Rational(0), Rational(0), Rational(1)});
+  return solution.status == detail::ExactStatus::optimal && sgn(solution.value) > 0;
+}
+
 TEST(OpenCellOnLines, RandomPlaneCellsAgreeWithCddlib) {
   std::mt19937 random(3122026);
   std::uniform_int_distribution<long> entry(-9, 9), offset(-30, 30);
@@ -238,12 +249,50 @@ TEST(FacetsOnPlane, RandomSpaceCellsAgreeWithCddlib) {
   EXPECT_GT(non_facets, 150);
 }
 
+TEST(OpenCellOnPlanes, RandomSpaceCellsAgreeWithCddlib) {
+  std::mt19937 random(5122026);
+  std::uniform_int_distribution<long> entry(-6, 6), offset(-20, 20);
+  std::uniform_int_distribution<std::size_t> count(1, 10);
+  int empty = 0, nonempty = 0, undecided = 0;
+  for (int trial = 0; trial < 300; ++trial) {
+    Polyhedron cell{3, {}};
+    for (std::size_t i = count(random); i > 0; --i) {
+      std::vector<long> normal;
+      while (normal.empty() || (normal[0] == 0 && normal[1] == 0 && normal[2] == 0)) {
+        normal.clear();
+        for (int k = 0; k < 3; ++k) normal.push_back(entry(random));
+      }
+      cell.constraints.push_back(constraint(normal, Rational(offset(random))));
+    }
+    if (trial % 5 == 0) cell.constraints.push_back(cell.constraints[0]);
+    const std::optional<CellVerdict> verdict = detail::decide_open_cell_on_planes(cell);
+    const bool expected = is_nonempty_by_cddlib3(cell);
+    if (!verdict) {
+      // Allowed only for an empty cell whose certificate no plane's support carried.
+      EXPECT_FALSE(expected);
+      ++undecided;
+    } else if (const auto* point = std::get_if<InteriorPoint>(&*verdict)) {
+      EXPECT_TRUE(check_interior_point(cell, *point));
+      EXPECT_TRUE(expected);
+      ++nonempty;
+    } else {
+      EXPECT_TRUE(check_emptiness(cell, std::get<EmptinessCertificate>(*verdict)));
+      EXPECT_FALSE(expected);
+      ++empty;
+    }
+  }
+  EXPECT_GT(empty, 60);
+  EXPECT_GT(nonempty, 60);
+  EXPECT_LT(undecided, 15);
+}
+
 TEST(FacetsOnLine, OnlyThePlane) {
   const Polyhedron cube{3, {constraint({1, 0, 0}, 0), constraint({-1, 0, 0}, 1)}};
   EXPECT_FALSE(detail::classify_group_on_line(cube, {0}).has_value());
   EXPECT_FALSE(detail::decide_open_cell_on_lines(cube).has_value());
   const Polyhedron square{2, {constraint({1, 0}, 0), constraint({-1, 0}, 1)}};
   EXPECT_FALSE(detail::classify_group_on_plane(square, {0}).has_value());
+  EXPECT_FALSE(detail::decide_open_cell_on_planes(square).has_value());
 }
 
 }  // namespace
