@@ -163,38 +163,61 @@ Rational row_slack(const IntegerRow& row, const RationalVector& x) {
   return value;
 }
 
+// Every row's slack at x times the common denominator D of x's coordinates
+// (so D > 0 and the signs are the slacks' signs): integer products only.
+std::vector<Integer> scaled_slacks(const std::vector<IntegerRow>& rows, const RationalVector& x, Integer& denominator) {
+  denominator = 1;
+  for (const Rational& value : x) mpz_lcm(denominator.get_mpz_t(), denominator.get_mpz_t(), value.get_den_mpz_t());
+  std::vector<Integer> numerators(x.size());
+  for (std::size_t k = 0; k < x.size(); ++k) numerators[k] = x[k].get_num() * (denominator / x[k].get_den());
+  std::vector<Integer> slacks(rows.size());
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    slacks[i] = rows[i].offset * denominator;
+    for (std::size_t k = 0; k < x.size(); ++k) slacks[i] += rows[i].normal[k] * numerators[k];
+  }
+  return slacks;
+}
+
 // From a point on row j's hyperplane where every other row is positive into the
 // open cell: x0 + e a_j with e small enough that no row falling along a_j reaches
-// zero, then rounded to short coordinates within half the smallest
-// slack-to-norm ratio (which keeps every slack positive). nullopt if a slack is
-// not positive.
+// zero (at most half way), then rounded to short coordinates within half the
+// smallest slack-to-norm ratio (which keeps every slack positive). nullopt if a
+// slack is not positive.
 std::optional<RationalVector> step_inside(const std::vector<IntegerRow>& rows, std::size_t j,
                                           const RationalVector& on_plane) {
   const std::vector<Integer>& a_j = rows[j].normal;
-  Rational step = 1;
+  Integer denominator;
+  const std::vector<Integer> slacks = scaled_slacks(rows, on_plane, denominator);
+  // e = min(1, min over falling rows of slack_i / (-2 a_i . a_j)) = limit.p / limit.q.
+  Fraction limit{1, 1};
   Integer along;
   for (std::size_t i = 0; i < rows.size(); ++i) {
     along = 0;
     for (std::size_t k = 0; k < a_j.size(); ++k) along += rows[i].normal[k] * a_j[k];
     if (sgn(along) >= 0) continue;
-    const Rational slack_here = row_slack(rows[i], on_plane);
-    if (sgn(slack_here) <= 0) return std::nullopt;
-    const Rational limit = slack_here / Rational(-2 * along);
-    if (limit < step) step = limit;
+    if (sgn(slacks[i]) <= 0) return std::nullopt;
+    Fraction candidate{slacks[i], -2 * along * denominator};
+    if (limit > candidate) limit = std::move(candidate);
   }
+  Rational step(limit.p, limit.q);
+  step.canonicalize();
   RationalVector point(on_plane);
   for (std::size_t k = 0; k < a_j.size(); ++k) point[k] += step * a_j[k];
-  std::optional<Rational> radius;
-  for (const IntegerRow& row : rows) {
+  // radius = min over rows of slack_i / |a_i|_1 = smallest.p / smallest.q.
+  const std::vector<Integer> inside = scaled_slacks(rows, point, denominator);
+  std::optional<Fraction> smallest;
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    if (sgn(inside[i]) <= 0) return std::nullopt;
     Integer norm = 0;
-    for (const Integer& value : row.normal) norm += abs(value);
-    const Rational ratio = row_slack(row, point) / Rational(norm);
-    if (sgn(ratio) <= 0) return std::nullopt;
-    if (!radius || ratio < *radius) radius = ratio;
+    for (const Integer& value : rows[i].normal) norm += abs(value);
+    Fraction ratio{inside[i], norm * denominator};
+    if (!smallest || *smallest > ratio) smallest = std::move(ratio);
   }
-  RationalVector shortened = round_point(point, *radius / 2);
-  for (const IntegerRow& row : rows)
-    if (sgn(row_slack(row, shortened)) <= 0) return point;
+  Rational radius(smallest->p, 2 * smallest->q);
+  radius.canonicalize();
+  RationalVector shortened = round_point(point, radius);
+  for (const Integer& value : scaled_slacks(rows, shortened, denominator))
+    if (sgn(value) <= 0) return point;
   return shortened;
 }
 

@@ -12,7 +12,8 @@
 #   plus 2,15x6,1 (the deeper net surveys use) either way.
 #   PLEAT_BENCH_RUNS=N hyperfine runs per net (default 5).
 #   PLEAT_BENCH_GRID="ARCH ..." those nets instead (may be " " for none).
-#   PLEAT_BENCH_SCALED=0 leaves out the three huge/tiny-coefficient variants of 2,5,5,5,1.
+#   PLEAT_BENCH_SCALED_ARCHS="ARCH ..." the nets whose huge/tiny-coefficient variants are
+#   measured (default 2,5,5,5,1 and 3,5,5,5,5,1; "" for none).
 set -euo pipefail
 build=${1:-build}
 here=$(cd "$(dirname "$0")" && pwd)
@@ -54,15 +55,16 @@ for arch in $grid; do
   measure "$arch" "$work/net.json"
 done
 
-# Huge and tiny coefficients, on 2,5,5,5,1 (seed 1): one hidden layer's weights and
+# Huge and tiny coefficients, on 2,5,5,5,1 and 3,5,5,5,5,1 (seed 1; the nets of
+# PLEAT_BENCH_SCALED_ARCHS, empty for none): one hidden layer's weights and
 # bias multiplied by c, the first hidden layer by 10^12, the second by 10^-24, the
 # third by 1/(2^61 - 1) (a Mersenne prime). "+comp": the next layer's weights are
-# multiplied by 1/c, so every bent hyperplane and the 98 regions stay and only the
+# multiplied by 1/c, so every bent hyperplane and the regions stay and only the
 # numbers get long. Without: the next layer's bent hyperplanes move to within about
 # 1/c of the scaled layer's (c = 10^12) or pile up (10^-24), giving thin regions
 # that the double filter cannot decide and the exact fallback must.
-if [ "${PLEAT_BENCH_SCALED:-1}" = 1 ]; then
-  "$pleat" random --arch 2,5,5,5,1 --seed 1 -o "$work/base.json"
+for base_arch in ${PLEAT_BENCH_SCALED_ARCHS-2,5,5,5,1 3,5,5,5,5,1}; do
+  "$pleat" random --arch "$base_arch" --seed 1 -o "$work/base.json"
   for scaled in "0 1000000000000 1" "1 1/1000000000000000000000000 1" "2 1/2305843009213693951 1" \
                 "0 1000000000000 0" "1 1/1000000000000000000000000 0"; do
     set -- $scaled
@@ -79,8 +81,8 @@ if compensate:
     after["weights"] = [[times(w, 1 / factor) for w in row] for row in after["weights"]]
 json.dump(net, open(sys.argv[5], "w"))
 EOF
-    label="L$(( $1 + 1 ))x$2"
+    label="$base_arch L$(( $1 + 1 ))x$2"
     [ "$3" = 1 ] && label="$label+comp"
     measure "$label" "$work/net.json"
   done
-fi
+done
