@@ -275,7 +275,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
         if (keep_rows_of_point(regions[i], rows[i], points[i])) since_rise = 0;
       }
       report("points", basis.rank(), result.scaling_bound);
-      if (!forecast.reachable(basis.rank(), result.scaling_bound, result.points_drawn, budget, batch)) return;
+      if (!forecast.reachable(basis.rank(), result.scaling_bound, result.points_drawn, budget, batch) &&
+          options.give_up_early)
+        return;
     }
   };
 
@@ -335,7 +337,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       lines += lines_per_batch;
       since_rise = basis.rank() > rank_before ? 0 : since_rise + lines_per_batch;
       report("lines", basis.rank(), result.scaling_bound);
-      if (!forecast.reachable(basis.rank(), result.scaling_bound, lines, line_budget, lines_per_batch)) return;
+      if (!forecast.reachable(basis.rank(), result.scaling_bound, lines, line_budget, lines_per_batch) &&
+          options.give_up_early)
+        return;
     }
   };
 

@@ -756,6 +756,35 @@ TEST(CertifyFromPoints, FallsBackToTheWalkBelowTheScalingBound) {
   EXPECT_TRUE(result.walk_complete);
 }
 
+// Giving up early (give_up_early): on a network far below its bound (`pleat
+// random --arch 2,15,15,15,1 --seed 1`: 374 < 496) the points and lines end
+// well before their stalls would end them, with the same value; on one at
+// its bound whose last rows come slowly (`--arch 6,20,10,1 --seed 1`: 331,
+// the rank within 1 of it for hundreds of points) they do not give up, and
+// the value is still certified from points (a walk there takes minutes).
+TEST(CertifyFromPoints, GivesUpEarlyFarBelowTheBoundOnly) {
+  const Network below = random_network({2, 15, 15, 15, 1}, 1);
+  const Domain plane = make_whole_space(2);
+  FunctionalDimensionOptions options;
+  options.walk.threads = 1;
+  options.walk.time_limit_seconds = 120;
+  const auto early = certify_functional_dimension(below, plane, options);
+  options.give_up_early = false;
+  const auto patient = certify_functional_dimension(below, plane, options);
+  ASSERT_TRUE(early.certified && patient.certified);
+  EXPECT_EQ(*early.functional_dimension, 374u);
+  EXPECT_EQ(early.functional_dimension, patient.functional_dimension);
+  EXPECT_LT(early.points_drawn, patient.points_drawn * 2 / 3);
+
+  const Network at = random_network({6, 20, 10, 1}, 1);
+  options.give_up_early = true;
+  const auto result = certify_functional_dimension(at, make_whole_space(6), options);
+  ASSERT_TRUE(result.certified);
+  EXPECT_TRUE(result.certified_by_points);
+  EXPECT_EQ(*result.functional_dimension, result.scaling_bound);
+  EXPECT_EQ(result.scaling_bound, 331u);
+}
+
 TEST(CertifyFromPoints, SameResultForAnyThreadCount) {
   for (const Network& network : {random_network({2, 5, 5, 1}, 21), random_network({3, 4, 4, 1}, 22),
                                  random_network({2, 6, 1}, 23), random_network({2, 5, 5, 5, 1}, 1, 15)}) {
