@@ -46,50 +46,52 @@ std::string reduction_setup(std::uint64_t prime, unsigned threads, const Modular
   return out.take();
 }
 
-// One rank's reduction of the rows of the regions it owns (the side work of
-// certify's walk), and the smooth regions it owns, for the check after it.
-// Alone (a job of one process: keeps_every_row) nothing is reduced here:
-// every row goes to certify's basis, which is then the only basis (reducing
-// the rows twice would double the cost of every independent row), and stays
-// in memory until delivered. With followers, rank 0 reduces its own share
-// too, while they reduce theirs: that is the part that runs in parallel.
+// One rank's part in the reduction of the rows of certify's walk (its side
+// work), and the smooth regions it owns, for the check after the walk.
+//
+// Rank 0 (is_leader) computes the rows of its own regions as it delivers
+// them, as certify alone does: certify's basis is the only basis that keeps
+// rows. Every other rank keeps a replica of that basis as it stood after the
+// previous level (the points' rows, then each level's kept rows, rank 0's
+// news), computes its regions' rows in parallel and sends rank 0 only those
+// outside the replica's span (its random screen: a nonzero product proves a
+// row outside; zero means inside but for a chance of 1/p, as certify's own
+// screen). A row inside is dependent on rows before it in the walk's order,
+// so certify would not have kept it.
 class RowReduction final : public OwnedRegionWork {
  public:
-  RowReduction(const Network& network, std::string_view setup, bool keeps_every_row)
-      : RowReduction(network, ByteReader(setup), keeps_every_row) {}
+  RowReduction(const Network& network, std::string_view setup, bool is_leader)
+      : RowReduction(network, ByteReader(setup), is_leader) {}
 
   std::vector<std::string> notes_for_level(const std::vector<const Region*>& regions,
                                            const StopRequest& stop) override {
     std::vector<std::string> notes;
     notes.reserve(regions.size());
-    own_rows_.clear();  // the previous level's were all delivered (or the walk stopped)
     // Rows computed in parallel a chunk at a time (a level can hold 10^5
-    // regions), then reduced in order: the order decides which rows stay.
+    // regions).
     const std::size_t chunk = 64 * std::size_t{threads_};
     for (std::size_t begin = 0; begin < regions.size(); begin += chunk) {
       if (stop.is_requested()) break;
       const std::size_t end = std::min(regions.size(), begin + chunk);
       std::vector<ModularMatrix> rows(end - begin);
-      detail::parallel_for(end - begin, threads_, [&](std::size_t i) {
-        if (has_rows(regions[begin + i])) rows[i] = coefficient_blocks_mod(modular_, regions[begin + i]->pattern);
-      });
+      if (replica_)
+        detail::parallel_for(end - begin, threads_, [&](std::size_t i) {
+          if (has_rows(regions[begin + i])) rows[i] = coefficient_blocks_mod(modular_, regions[begin + i]->pattern);
+        });
       for (std::size_t i = 0; i < rows.size(); ++i) {
         const Region* region = regions[begin + i];
         if (region && region->nonsmooth_neurons.empty()) smooth_.push_back(region->pattern);
         ByteWriter out;
-        if (!basis_) {  // every row, kept in memory; the note names it
-          CertifyAcross::IndexedRows all;
-          for (std::size_t r = 0; r < rows[i].rows(); ++r) all.emplace_back(r, rows[i].row(r));
+        if (!replica_) {  // rank 0: its rows are computed on delivery
           out.put_unsigned(own_note);
-          out.put_unsigned(own_rows_.size());
-          own_rows_.push_back(std::move(all));
         } else {
-          std::vector<std::size_t> kept;
+          std::vector<std::size_t> sent;
+          const bool is_full = replica_->rank() == replica_->columns();
           for (std::size_t r = 0; r < rows[i].rows(); ++r)
-            if (basis_->add_row_screened(rows[i].row(r))) kept.push_back(r);  // core/rank.hpp
+            if (!is_full && replica_->passes_screen(rows[i].row(r))) sent.push_back(r);
           out.put_unsigned(rows_note);
-          out.put_unsigned(kept.size());
-          for (std::size_t r : kept) {
+          out.put_unsigned(sent.size());
+          for (std::size_t r : sent) {
             out.put_unsigned(r);
             put_modular_row(out, rows[i].row(r));
           }
@@ -100,13 +102,13 @@ class RowReduction final : public OwnedRegionWork {
     return notes;
   }
 
-  void take_note(std::string note) override {
+  void take_note(const Region& region, std::string note) override {
     ByteReader in(note);
     current_.clear();
     if (in.get_unsigned() == own_note) {
-      const std::size_t index = in.get_unsigned();
-      if (index >= own_rows_.size()) throw usage_error("RowReduction: a note of rank 0 from another level");
-      current_ = std::move(own_rows_[index]);
+      if (!has_rows(&region)) return;
+      const ModularMatrix rows = coefficient_blocks_mod(modular_, region.pattern);
+      for (std::size_t r = 0; r < rows.rows(); ++r) current_.emplace_back(r, rows.row(r));
       return;
     }
     for (std::size_t count = in.get_size(); count > 0; --count) {
@@ -115,23 +117,40 @@ class RowReduction final : public OwnedRegionWork {
     }
   }
 
+  // Rank 0: a row certify's basis kept, for the followers' replicas.
+  void record_kept(const ModularVector& row) { kept_this_level_.push_back(row); }
+
+  std::string news_after_level() override {
+    ByteWriter out;
+    out.put_unsigned(kept_this_level_.size());
+    for (const ModularVector& row : kept_this_level_) put_modular_row(out, row);
+    kept_this_level_.clear();
+    return out.take();
+  }
+
+  void take_news(std::string_view news) override {
+    ByteReader in(news);
+    for (std::size_t count = in.get_size(); count > 0; --count)
+      replica_->add_row(get_modular_row(in, columns_, prime_));
+  }
+
   const CertifyAcross::IndexedRows& current_rows() const { return current_; }
   const std::vector<ActivationPattern>& smooth() const { return smooth_; }
 
  private:
-  static constexpr std::uint64_t rows_note = 0;  // then the rows the basis here kept
-  static constexpr std::uint64_t own_note = 1;   // then an index into own_rows_
+  static constexpr std::uint64_t rows_note = 0;  // then the rows outside the replica's span
+  static constexpr std::uint64_t own_note = 1;   // rank 0's own region
 
   // Reads reduction_setup's bytes, in its order.
-  RowReduction(const Network& network, ByteReader in, bool keeps_every_row)
+  RowReduction(const Network& network, ByteReader in, bool is_leader)
       : modular_(modular_network(network, in.get_unsigned())),
         threads_(resolved_threads(in.get_unsigned())),
         prime_(modular_.prime),
         columns_(network.parametric_dimension()) {
-    if (!keeps_every_row) basis_.emplace(prime_, columns_);
+    if (!is_leader) replica_.emplace(prime_, columns_);
     for (std::size_t count = in.get_size(); count > 0; --count) {
       const ModularVector row = get_modular_row(in, columns_, prime_);
-      if (basis_) basis_->add_row(row);
+      if (replica_) replica_->add_row(row);
     }
     for (std::size_t count = in.get_size(); count > 0; --count) skip_.insert(in.get_pattern());
   }
@@ -155,11 +174,11 @@ class RowReduction final : public OwnedRegionWork {
   unsigned threads_ = 1;
   std::uint64_t prime_;
   std::size_t columns_;
-  std::optional<ModularRowBasis> basis_;  // unless keeps_every_row
-  std::vector<CertifyAcross::IndexedRows> own_rows_;  // keeps_every_row: this level's rows, by note
+  std::optional<ModularRowBasis> replica_;  // followers: certify's basis after the previous level
   std::unordered_set<ActivationPattern, PatternHash> skip_;
   std::vector<ActivationPattern> smooth_;  // in the order processed
   CertifyAcross::IndexedRows current_;     // rank 0: the rows of the region being delivered
+  std::vector<ModularVector> kept_this_level_;  // rank 0: what certify's basis kept this level
 };
 
 // ---- The check after the walk ------------------------------------------------
@@ -238,8 +257,12 @@ class LeaderCertifyAcross final : public CertifyAcross {
       throw usage_error("CertifyAcross::walk: the start rows need one entry per parameter");
     network_ = &network;
     const std::string setup = reduction_setup(prime, options.threads, start_rows, skip);
-    reduction_ = std::make_unique<RowReduction>(network, setup, transport_.size() == 1);
+    reduction_ = std::make_unique<RowReduction>(network, setup, true);
     return lead_distributed_walk(network, domain, options, transport_, nullptr, reduction_.get(), setup);
+  }
+
+  void row_kept(const ModularVector& row) override {
+    if (reduction_) reduction_->record_kept(row);
   }
 
   const IndexedRows& region_rows() const override {

@@ -2,16 +2,16 @@
 // ranks of a distributed walk (enumerate/distributed_walk.hpp), with the
 // same result as in one process.
 //
-// Rows: every rank reduces the coefficient-block rows (modulo the walk's
-// prime) of the regions it owns, as it processes them, into its own basis,
-// which starts from the rows certify already holds (found by points). A row
-// its owner finds dependent is dependent on the rows of regions before it in
-// the walk's order too (a rank's regions come in that order), so only the
-// rows each owner kept travel to rank 0, beside their regions; rank 0 adds
-// them to certify's basis in the walk's order and keeps exactly the rows it
-// would have kept from every row of every region (the same rank, the same
-// rows kept, the same early stop). A job of one process skips its own basis
-// and hands every row to certify's.
+// Rows: rank 0 adds the coefficient-block rows (modulo the walk's prime) of
+// every region to certify's basis in the walk's order, as alone, computing
+// those of its own regions itself. Every other rank computes the rows of the
+// regions it owns and sends rank 0 only those outside the span of certify's
+// basis as it stood after the previous level (a replica kept from rank 0's
+// news of the rows it kept, starting from the rows found by points): a row
+// inside that span is dependent on rows before it in the walk's order, so
+// certify alone would not have kept it either. Rank 0 thus keeps exactly the
+// rows it would have kept alone (the same rank, the same rows kept, the same
+// early stop), and the rows travel only while the rank still rises.
 //
 // Check: the exact check of the extra kernel directions on every smooth
 // region (enumerate/detail/kernel_check.hpp) runs on every rank over the
@@ -52,17 +52,21 @@ class CertifyAcross {
   // The walk: the same regions, order and summary as walk_regions. Just
   // before options.on_region(region), for a region without nonsmooth
   // neurons whose pattern is not in `skip`, region_rows() holds the rows of
-  // the region that its owner found independent, modulo prime, of
-  // start_rows and of the rows of the regions it processed before: every
-  // row that raises the rank of start_rows plus all rows of the regions
-  // delivered before, in row order, and maybe more (empty for the other
-  // regions). Called at most once. Preconditions: as walk_regions; prime is
-  // the prime of reduce_modulo_some_prime for this network; start_rows has
-  // network.parametric_dimension() columns and residues below prime.
+  // the region that are outside the span, modulo prime, of start_rows and
+  // of the rows certify kept (row_kept) in the levels before (every row, for
+  // rank 0's own regions): every row that raises the rank of start_rows plus
+  // all rows of the regions delivered before, in row order, and maybe more
+  // (empty for the other regions). Called at most once. Preconditions: as
+  // walk_regions; prime is the prime of reduce_modulo_some_prime for this
+  // network; start_rows has network.parametric_dimension() columns and
+  // residues below prime.
   virtual WalkSummary walk(const Network& network, const Domain& domain, const WalkOptions& options,
                            std::uint64_t prime, const ModularMatrix& start_rows,
                            const std::set<ActivationPattern>& skip) = 0;
   virtual const IndexedRows& region_rows() const = 0;
+  // During the walk: a row of region_rows() that certify's basis kept (in
+  // the order kept), so that the other ranks can leave out the rows it spans.
+  virtual void row_kept(const ModularVector& row) = 0;
 
   // After a walk that was complete: true exactly when every row of
   // candidate (D columns) annihilates the coefficient-block rows of every

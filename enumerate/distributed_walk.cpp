@@ -323,7 +323,7 @@ class Ledger {
       add_neighbor(*facet.neighbor);
       for (const auto& other : facet.other_neighbors) add_neighbor(other);
     }
-    if (side_) side_->take_note(std::move(item.note));
+    if (side_) side_->take_note(region, std::move(item.note));
     const bool is_stop_asked = options_.on_region && !options_.on_region(region);
     adjacency_.add_region(id, slot, neighbours_, std::move(region.affine), id_of_slot_);  // after on_region, which reads it
     return is_stop_asked ? StopReason::requested : StopReason::none;
@@ -431,6 +431,10 @@ WalkSummary walk_on_rank(const Network& network, const Domain& domain, const Wal
         std::string().swap(gathered[sender]);
       }
       leader_stop = ledger->take_level(std::move(streams));
+    }
+    if (side) {  // rank 0's news of the level to the others, before their next level
+      const std::string news = transport.broadcast_from_leader(ledger ? side->news_after_level() : std::string());
+      if (!ledger) side->take_news(news);
     }
 
     // Agree: a stop during the level (any rank) ends the walk; a stop asked

@@ -83,9 +83,13 @@ class OwnedRegionWork {
   // then left undone on this rank, as if the walk had stopped there).
   virtual std::vector<std::string> notes_for_level(const std::vector<const Region*>& regions,
                                                    const StopRequest& stop) = 0;
-  // Rank 0: the note of the region the walk delivers next, just before
+  // Rank 0: the region the walk delivers next and its note, just before
   // WalkOptions::on_region receives it.
-  virtual void take_note(std::string note) = 0;
+  virtual void take_note(const Region& region, std::string note) = 0;
+  // After every level's delivery: rank 0's news (news_after_level) reaches
+  // every other rank (take_news) before the next level starts.
+  virtual std::string news_after_level() { return {}; }
+  virtual void take_news(std::string_view /*news*/) {}
 };
 
 // What a rank other than 0 does beyond plain walks: the work beside a walk

@@ -207,7 +207,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     KeptRows region{pattern, {}};
     if (options.across) {  // the rows its owner kept: the same rows stay (distributed_certify.hpp)
       for (const auto& [r, row] : options.across->region_rows())
-        if (basis.add_row_screened(row)) region.rows.push_back(r);
+        if (basis.add_row_screened(row)) {
+          region.rows.push_back(r);
+          options.across->row_kept(row);
+        }
     } else {
       const ModularMatrix rows = coefficient_blocks_mod(modular, pattern);
       for (std::size_t r = 0; r < rows.rows(); ++r)

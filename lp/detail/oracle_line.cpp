@@ -32,6 +32,7 @@ namespace {
 struct IntegerRow {
   std::vector<Integer> normal;
   Integer offset;
+  Integer scale = 1;  // this row is scale times the caller's row (scale > 0)
 };
 
 std::vector<IntegerRow> integer_rows(const Polyhedron& cell) {
@@ -45,6 +46,7 @@ std::vector<IntegerRow> integer_rows(const Polyhedron& cell) {
     for (std::size_t k = 0; k < cell.dim; ++k)
       rows[i].normal[k] = constraint.normal[k].get_num() * (scale / constraint.normal[k].get_den());
     rows[i].offset = constraint.offset.get_num() * (scale / constraint.offset.get_den());
+    rows[i].scale = scale;
   }
   return rows;
 }
@@ -117,30 +119,53 @@ LineInterval line_interval(const std::vector<IntegerRow>& rows, std::size_t j, c
   const IntegerRow& rep = rows[j];
   const std::size_t solved = largest_integer_entry(rep.normal);
   const std::size_t free = 1 - solved;
-  // The tightest bound from each side: s > low (from `lower`), s < high (from `upper`).
+  const mpz_srcptr pivot = rep.normal[solved].get_mpz_t();
+  const bool is_flipped = sgn(rep.normal[solved]) < 0;
+  // The tightest bound from each side: s > low (from `lower`), s < high (from
+  // `upper`), each -beta / alpha kept as p / q with q > 0. Scratch integers are
+  // reused: this loop runs for every line of every thin cell.
   std::optional<Fraction> low, high;
   std::size_t lower = 0, upper = 0;
+  Integer alpha, beta, left, right;
+  // sign of p / q - bound (q > 0).
+  const auto compare = [&](const Integer& p, const Integer& q, const Fraction& bound) {
+    mpz_mul(left.get_mpz_t(), p.get_mpz_t(), bound.q.get_mpz_t());
+    mpz_mul(right.get_mpz_t(), bound.p.get_mpz_t(), q.get_mpz_t());
+    return cmp(left, right);
+  };
   for (std::size_t i = 0; i < rows.size(); ++i) {
     if (is_member[i]) continue;
-    // Row i on the line as alpha s + beta (times |a_js|).
-    IntegerRow on_line = restricted(rows[i], rep, solved);
-    Integer& alpha = on_line.normal[0];
-    Integer& beta = on_line.offset;
+    // Row i on the line as alpha s + beta (times |a_js|): restricted() without a row.
+    const IntegerRow& row = rows[i];
+    const mpz_srcptr factor = row.normal[solved].get_mpz_t();
+    mpz_mul(alpha.get_mpz_t(), pivot, row.normal[free].get_mpz_t());
+    mpz_submul(alpha.get_mpz_t(), factor, rep.normal[free].get_mpz_t());
+    mpz_mul(beta.get_mpz_t(), pivot, row.offset.get_mpz_t());
+    mpz_submul(beta.get_mpz_t(), factor, rep.offset.get_mpz_t());
+    if (is_flipped) {
+      mpz_neg(alpha.get_mpz_t(), alpha.get_mpz_t());
+      mpz_neg(beta.get_mpz_t(), beta.get_mpz_t());
+    }
     const int direction = sgn(alpha);
     if (direction == 0) {
       if (sgn(beta) > 0) continue;
       // Zero on the whole line and on the same side as j: a positive multiple of j.
-      if (sgn(beta) == 0 && sgn(rows[i].normal[solved]) == sgn(rep.normal[solved])) continue;
+      if (sgn(beta) == 0 && sgn(row.normal[solved]) == sgn(rep.normal[solved])) continue;
       return LineInterval{std::nullopt, {i}};  // parallel, non-positive on the whole line
     }
-    // The bound -beta / alpha, with a positive denominator.
-    Fraction bound = direction > 0 ? Fraction{-beta, alpha} : Fraction{beta, -alpha};
-    if (direction > 0 && (!low || bound > *low)) {
-      low = std::move(bound);
-      lower = i;
-    } else if (direction < 0 && (!high || *high > bound)) {
-      high = std::move(bound);
-      upper = i;
+    // The bound -beta / alpha with a positive denominator: (-beta) / alpha or beta / (-alpha).
+    if (direction > 0) {
+      mpz_neg(beta.get_mpz_t(), beta.get_mpz_t());
+      if (!low || compare(beta, alpha, *low) > 0) {
+        low = Fraction{beta, alpha};
+        lower = i;
+      }
+    } else {
+      mpz_neg(alpha.get_mpz_t(), alpha.get_mpz_t());
+      if (!high || compare(beta, alpha, *high) < 0) {
+        high = Fraction{beta, alpha};
+        upper = i;
+      }
     }
   }
   if (low && high && !(*high > *low)) return LineInterval{std::nullopt, {lower, upper}};
@@ -225,19 +250,19 @@ Integer determinant(const IntegerRow& first, const IntegerRow& second) {
   return first.normal[0] * second.normal[1] - first.normal[1] * second.normal[0];
 }
 
-// Whether the plane rows of support (two or three) carry a Gordan certificate:
+// The Gordan multipliers the plane rows of support (two or three) carry, if any:
 // y >= 0, not all zero, sum y_i a_i = 0 and sum y_i c_i <= 0, with y from 2x2
-// determinants (Cramer). Exact; a screen before the caller's rational solve,
-// so that a support that cannot work costs a few integer products.
-bool is_gordan_support(const std::vector<IntegerRow>& rows, const std::vector<std::size_t>& support) {
+// determinants (Cramer). Exact, a few integer products.
+std::optional<std::vector<Integer>> gordan_multipliers(const std::vector<IntegerRow>& rows,
+                                                       const std::vector<std::size_t>& support) {
   std::vector<Integer> y;
   if (support.size() == 2) {
     const IntegerRow& p = rows[support[0]];
     const IntegerRow& q = rows[support[1]];
     // Opposite directions: a_p = -lambda a_q with lambda > 0.
-    if (sgn(determinant(p, q)) != 0) return false;
+    if (sgn(determinant(p, q)) != 0) return std::nullopt;
     const std::size_t k = sgn(q.normal[0]) != 0 ? 0 : 1;
-    if (sgn(p.normal[k]) == sgn(q.normal[k])) return false;
+    if (sgn(p.normal[k]) == sgn(q.normal[k])) return std::nullopt;
     y = {abs(q.normal[k]), abs(p.normal[k])};
   } else if (support.size() == 3) {
     const IntegerRow& p = rows[support[0]];
@@ -247,19 +272,37 @@ bool is_gordan_support(const std::vector<IntegerRow>& rows, const std::vector<st
     const bool is_nonpositive = sgn(y[0]) <= 0 && sgn(y[1]) <= 0 && sgn(y[2]) <= 0;
     if (is_nonpositive)
       for (Integer& value : y) value = -value;
-    if (sgn(y[0]) < 0 || sgn(y[1]) < 0 || sgn(y[2]) < 0 || is_zero(y)) return false;
+    if (sgn(y[0]) < 0 || sgn(y[1]) < 0 || sgn(y[2]) < 0 || is_zero(y)) return std::nullopt;
   } else {
-    return false;
+    return std::nullopt;
   }
   Integer total = 0;
   for (std::size_t s = 0; s < support.size(); ++s) total += y[s] * rows[support[s]].offset;
-  return sgn(total) <= 0;
+  if (sgn(total) > 0) return std::nullopt;
+  return y;
+}
+
+// Integer multipliers (on integer rows) as multipliers on the caller's rows,
+// divided by their common factor: row i is scale_i times the caller's row i.
+RationalVector on_callers_rows(const std::vector<IntegerRow>& rows, const std::vector<std::size_t>& support,
+                               const std::vector<Integer>& y) {
+  std::vector<Integer> scaled(y.size());
+  Integer content = 0;
+  for (std::size_t s = 0; s < y.size(); ++s) {
+    scaled[s] = y[s] * rows[support[s]].scale;
+    mpz_gcd(content.get_mpz_t(), content.get_mpz_t(), scaled[s].get_mpz_t());
+  }
+  RationalVector multipliers(rows.size(), Rational(0));
+  for (std::size_t s = 0; s < y.size(); ++s)
+    if (sgn(content) != 0) multipliers[support[s]] = Rational(scaled[s] / content);
+  return multipliers;
 }
 
 // An open plane cell of integer rows: an interior point, or (when every line has
-// failed) nullopt after offering each line's support, the line included, to
-// is_empty_on (which returns true once it has proved the cell empty on it; then
-// the search stops and nullopt is returned too: the caller holds the proof).
+// failed) nullopt after offering each line's support, the line included, that
+// carries Gordan multipliers y to is_empty_on(support, y) (which returns true once
+// it has proved the cell empty with them; then the search stops and nullopt is
+// returned too: the caller holds the proof).
 template <typename EmptyOn>
 std::optional<RationalVector> open_plane_cell(const std::vector<IntegerRow>& rows, EmptyOn&& is_empty_on) {
   std::vector<bool> is_member(rows.size(), false);
@@ -271,7 +314,8 @@ std::optional<RationalVector> open_plane_cell(const std::vector<IntegerRow>& row
     // The line's support with the line itself is often a Gordan support (Helly: an
     // empty open plane cell has an empty sub-cell of at most three constraints).
     interval.support.push_back(j);
-    if (is_gordan_support(rows, interval.support) && is_empty_on(interval.support)) return std::nullopt;
+    if (std::optional<std::vector<Integer>> y = gordan_multipliers(rows, interval.support))
+      if (is_empty_on(interval.support, *y)) return std::nullopt;
   }
   return std::nullopt;
 }
@@ -292,13 +336,14 @@ std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const
 
 std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell) {
   if (cell.dim != 2 || cell.constraints.empty() || !is_well_formed(cell)) return std::nullopt;
+  const std::vector<IntegerRow> rows = integer_rows(cell);
   std::optional<EmptinessCertificate> proof;
-  const auto is_empty_on = [&](const std::vector<std::size_t>& support) {
-    proof = emptiness_on_support(cell, support);
-    if (proof && !check_emptiness(cell, *proof)) proof.reset();
+  const auto is_empty_on = [&](const std::vector<std::size_t>& support, const std::vector<Integer>& y) {
+    proof = EmptinessCertificate{on_callers_rows(rows, support, y)};
+    if (!check_emptiness(cell, *proof)) proof.reset();
     return proof.has_value();
   };
-  if (std::optional<RationalVector> point = open_plane_cell(integer_rows(cell), is_empty_on)) {
+  if (std::optional<RationalVector> point = open_plane_cell(rows, is_empty_on)) {
     if (!is_interior(cell, *point)) return std::nullopt;
     return CellVerdict{InteriorPoint{std::move(*point)}};
   }
@@ -309,15 +354,32 @@ std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell) {
 namespace {
 
 // Row j's plane in a space cell of integer rows: a point on it where every row
-// outside j's group is positive, or nullopt after offering Motzkin supports
-// (indices into rows, j's group excluded) to is_non_facet_on, which returns true
-// once one of them proved the plane holds no such point. is_member as in
-// line_interval (positive multiples left out are recognised on the way).
+// outside j's group is positive, or nullopt after offering Motzkin certificates
+// to is_non_facet_on(support, y, mu) (mu a_j + sum_s y_s a_support[s] = 0 on the
+// integer rows, y >= 0, mu c_j + sum y_s c_s <= 0), which returns true once one
+// of them is accepted. is_member as in line_interval (positive multiples left
+// out are recognised on the way).
+//
+// Row i restricted to the plane is sigma (a_js a_i - a_is a_j) (restricted()), so
+// Gordan multipliers y on the plane give sum_i (y_i |a_js|) a_i = (sigma sum_i y_i a_is) a_j
+// in space: a Motzkin certificate with the same support and no solve.
 template <typename NonFacetOn>
 std::optional<RationalVector> point_on_plane(const std::vector<IntegerRow>& rows, std::size_t j,
                                              const std::vector<bool>& is_member, NonFacetOn&& is_non_facet_on) {
   const IntegerRow& rep = rows[j];
   const std::size_t solved = largest_integer_entry(rep.normal);
+  const Integer pivot_size = abs(rep.normal[solved]);
+  const int sigma = sgn(rep.normal[solved]);
+  const auto offer = [&](const std::vector<std::size_t>& support, const std::vector<Integer>& plane_y) {
+    std::vector<Integer> y(plane_y.size());
+    Integer mu = 0;
+    for (std::size_t k = 0; k < support.size(); ++k) {
+      y[k] = plane_y[k] * pivot_size;
+      mu -= plane_y[k] * rows[support[k]].normal[solved];
+    }
+    if (sigma < 0) mu = -mu;
+    return is_non_facet_on(support, y, mu);
+  };
   // The plane cell the other rows leave on the plane; origin maps back.
   std::vector<IntegerRow> plane;
   std::vector<std::size_t> origin;
@@ -328,16 +390,16 @@ std::optional<RationalVector> point_on_plane(const std::vector<IntegerRow>& rows
       if (sgn(on_plane.offset) > 0) continue;
       // Zero on the plane and on the same side as j: a positive multiple of j.
       if (sgn(on_plane.offset) == 0 && sgn(rows[i].normal[solved]) == sgn(rep.normal[solved])) continue;
-      is_non_facet_on(std::vector<std::size_t>{i});  // constant and non-positive on the plane
+      offer({i}, {Integer(1)});  // constant and non-positive on the plane
       return std::nullopt;
     }
     plane.push_back(std::move(on_plane));
     origin.push_back(i);
   }
-  const auto on_support = [&](const std::vector<std::size_t>& support) {
+  const auto on_support = [&](const std::vector<std::size_t>& support, const std::vector<Integer>& y) {
     std::vector<std::size_t> in_space;
     for (std::size_t k : support) in_space.push_back(origin[k]);
-    return is_non_facet_on(in_space);
+    return offer(in_space, y);
   };
   std::optional<RationalVector> inside =
       plane.empty() ? std::optional<RationalVector>(RationalVector(2, Rational(0))) : open_plane_cell(plane, on_support);
@@ -354,14 +416,21 @@ std::optional<RationalVector> point_on_plane(const std::vector<IntegerRow>& rows
 
 std::optional<FacetVerdict> classify_group_on_plane(const Polyhedron& cell, const std::vector<std::size_t>& group) {
   if (cell.dim != 3 || group.empty() || !is_well_formed(cell)) return std::nullopt;
+  const std::vector<IntegerRow> rows = integer_rows(cell);
+  const std::size_t j = group[0];
   std::optional<NonFacetCertificate> certificate;
-  const auto is_non_facet_on = [&](const std::vector<std::size_t>& support) {
-    certificate = non_facet_on_support(cell, group[0], support);
-    if (certificate && !check_non_facet(cell, group, *certificate)) certificate.reset();
+  const auto is_non_facet_on = [&](std::vector<std::size_t> support, std::vector<Integer> y, const Integer& mu) {
+    // The equality multiplier rides along as the last entry, then moves out.
+    support.push_back(j);
+    y.push_back(mu);
+    RationalVector multipliers = on_callers_rows(rows, support, y);
+    certificate = NonFacetCertificate{multipliers[j], std::move(multipliers)};
+    certificate->multipliers[j] = 0;
+    if (!check_non_facet(cell, group, *certificate)) certificate.reset();
     return certificate.has_value();
   };
   const std::optional<RationalVector> point =
-      point_on_plane(integer_rows(cell), group[0], membership(cell.constraints.size(), group), is_non_facet_on);
+      point_on_plane(rows, j, membership(cell.constraints.size(), group), is_non_facet_on);
   if (certificate) return FacetVerdict{std::move(*certificate)};
   if (!point || !is_facet_point(cell, group, *point)) return std::nullopt;
   return FacetVerdict{FacetPoint{*point}};
@@ -373,13 +442,15 @@ std::optional<CellVerdict> decide_open_cell_on_planes(const Polyhedron& cell) {
   std::optional<EmptinessCertificate> proof;
   std::vector<bool> is_member(rows.size(), false);
   for (std::size_t j = 0; j < rows.size(); ++j) {
-    // A Motzkin support of plane j's emptiness, with j itself, is often a Gordan
-    // support of the cell (Helly: an empty open cell in space has an empty
-    // sub-cell of at most four constraints).
-    const auto is_empty_on = [&](std::vector<std::size_t> support) {
+    // A Motzkin certificate of plane j's emptiness with mu >= 0 is a Gordan
+    // certificate of the cell, j's multiplier mu (Helly: an empty open cell in
+    // space has an empty sub-cell of at most four constraints).
+    const auto is_empty_on = [&](std::vector<std::size_t> support, std::vector<Integer> y, const Integer& mu) {
+      if (sgn(mu) < 0) return false;
       support.push_back(j);
-      proof = emptiness_on_support(cell, support);
-      if (proof && !check_emptiness(cell, *proof)) proof.reset();
+      y.push_back(mu);
+      proof = EmptinessCertificate{on_callers_rows(rows, support, y)};
+      if (!check_emptiness(cell, *proof)) proof.reset();
       return proof.has_value();
     };
     is_member[j] = true;
