@@ -55,6 +55,15 @@ bool has_facet_point_naive(const Polyhedron& cell, const std::vector<std::size_t
   return false;
 }
 
+// y > 0, -x > 0, x + 1e-30 y + 1e-30 > 0: a triangle of width 1e-30 along x = 0.
+Polyhedron thin_sliver() {
+  const Rational tiny(Integer(1), Integer("1000000000000000000000000000000"));
+  Polyhedron sliver{2, {constraint({0, 1}, 0), constraint({-1, 0}, 0), constraint({1, 0}, 0)}};
+  sliver.constraints[2].normal[1] = tiny;
+  sliver.constraints[2].offset = tiny;
+  return sliver;
+}
+
 void expect_agrees_with_reference(const Polyhedron& cell, const std::vector<std::size_t>& group) {
   const std::optional<FacetVerdict> verdict = detail::classify_group_on_line(cell, group);
   ASSERT_TRUE(verdict.has_value());
@@ -88,12 +97,8 @@ TEST(FacetsOnLine, RandomPlaneCellsAgreeWithTheNaiveReference) {
 }
 
 TEST(FacetsOnLine, ThinSliverParallelAndGroupedConstraints) {
-  // A triangle of width 1e-30 between y = 0, x = 0 and x + 1e-30 (y + 1) = 0 ... as
-  // constraints y > 0, -x > 0 and x + 1e-30 y + 1e-30 > 0: each is a facet.
-  const Rational tiny(Integer(1), Integer("1000000000000000000000000000000"));
-  Polyhedron sliver{2, {constraint({0, 1}, 0), constraint({-1, 0}, 0), constraint({1, 0}, 0)}};
-  sliver.constraints[2].normal[1] = tiny;
-  sliver.constraints[2].offset = tiny;
+  // Each side of the sliver is a facet.
+  const Polyhedron sliver = thin_sliver();
   for (std::size_t j = 0; j < 3; ++j) {
     expect_agrees_with_reference(sliver, {j});
     EXPECT_TRUE(std::holds_alternative<FacetPoint>(*detail::classify_group_on_line(sliver, {j})));
@@ -114,24 +119,21 @@ TEST(FacetsOnLine, ThinSliverParallelAndGroupedConstraints) {
 }
 
 // Reference: cddlib's exact LP, maximise t subject to a_i . x + c_i - t >= 0 and t <= 1;
-// the open cell is non-empty exactly when the optimum is positive.
+// the open cell is non-empty exactly when the optimum is positive (any dimension).
 bool is_nonempty_by_cddlib(const Polyhedron& cell) {
+  const std::size_t n = cell.dim;
   std::vector<detail::ExactRow> rows;
-  for (const Constraint& c : cell.constraints)
-    rows.push_back(detail::ExactRow{{c.normal[0], c.normal[1], Rational(-1)}, c.offset, false});
-  rows.push_back(detail::ExactRow{{Rational(0), Rational(0), Rational(-1)}, Rational(1), false});
-  const detail::ExactSolution solution = detail::maximise_exact(3, rows, {Rational(0), Rational(0), Rational(1)});
-  return solution.status == detail::ExactStatus::optimal && sgn(solution.value) > 0;
-}
-
-// The same in space.
-bool is_nonempty_by_cddlib3(const Polyhedron& cell) {
-  std::vector<detail::ExactRow> rows;
-  for (const Constraint& c : cell.constraints)
-    rows.push_back(detail::ExactRow{{c.normal[0], c.normal[1], c.normal[2], Rational(-1)}, c.offset, false});
-  rows.push_back(detail::ExactRow{{Rational(0), Rational(0), Rational(0), Rational(-1)}, Rational(1), false});
-  const detail::ExactSolution solution =
-      detail::maximise_exact(4, rows, {Rational(0), Rational(0), Rational(0), Rational(1)});
+  for (const Constraint& c : cell.constraints) {
+    detail::ExactRow row{c.normal, c.offset, false};
+    row.normal.push_back(Rational(-1));
+    rows.push_back(std::move(row));
+  }
+  detail::ExactRow cap{RationalVector(n + 1, Rational(0)), Rational(1), false};
+  cap.normal[n] = -1;
+  rows.push_back(std::move(cap));
+  RationalVector objective(n + 1, Rational(0));
+  objective[n] = 1;
+  const detail::ExactSolution solution = detail::maximise_exact(n + 1, rows, objective);
   return solution.status == detail::ExactStatus::optimal && sgn(solution.value) > 0;
 }
 
@@ -175,11 +177,8 @@ TEST(OpenCellOnLines, RandomPlaneCellsAgreeWithCddlib) {
 }
 
 TEST(OpenCellOnLines, ASliverOfWidthTenToTheMinusThirty) {
-  // y > 0, -x > 0, x + 1e-30 y + 1e-30 > 0: a triangle of width 1e-30 near x = 0.
+  Polyhedron sliver = thin_sliver();
   const Rational tiny(Integer(1), Integer("1000000000000000000000000000000"));
-  Polyhedron sliver{2, {constraint({0, 1}, 0), constraint({-1, 0}, 0), constraint({1, 0}, 0)}};
-  sliver.constraints[2].normal[1] = tiny;
-  sliver.constraints[2].offset = tiny;
   const std::optional<CellVerdict> verdict = detail::decide_open_cell_on_lines(sliver);
   ASSERT_TRUE(verdict.has_value());
   ASSERT_TRUE(std::holds_alternative<InteriorPoint>(*verdict));
@@ -266,7 +265,7 @@ TEST(OpenCellOnPlanes, RandomSpaceCellsAgreeWithCddlib) {
     }
     if (trial % 5 == 0) cell.constraints.push_back(cell.constraints[0]);
     const std::optional<CellVerdict> verdict = detail::decide_open_cell_on_planes(cell);
-    const bool expected = is_nonempty_by_cddlib3(cell);
+    const bool expected = is_nonempty_by_cddlib(cell);
     if (!verdict) {
       // Allowed only for an empty cell whose certificate no plane's support carried.
       EXPECT_FALSE(expected);
