@@ -71,7 +71,7 @@ DoubleRows to_double_rows(const Polyhedron& cell) {
 }
 
 Rational DoubleRows::exact_weight(std::size_t i) const {
-  Rational weight(1.0 / norms[i]);  // mpq_set_d: exact
+  Rational weight = rational_from_double(1.0 / norms[i]);  // exact (norms[i] is finite and > 0)
   const long exponent = exponents[i];
   if (exponent > 0)
     mpq_div_2exp(weight.get_mpq_t(), weight.get_mpq_t(), static_cast<mp_bitcnt_t>(exponent));
