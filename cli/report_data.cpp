@@ -5,6 +5,7 @@
 #include "core/jacobian.hpp"
 #include "core/rank.hpp"
 #include "core/stop.hpp"
+#include "enumerate/certified_by.hpp"
 #include "enumerate/claim.hpp"
 #include "enumerate/region_geometry.hpp"
 #include "enumerate/region_record.hpp"
@@ -187,10 +188,8 @@ Json report_certify_json(const Network& network, const FunctionalDimensionResult
   out["scaling_bound"] = result.scaling_bound;
   out["parametric_dimension"] = result.parametric_dimension;
   out["hidden_neurons"] = network.hidden_neuron_count();
-  out["certified_by"] = !result.certified            ? Json(nullptr)
-                        : result.certified_by_points ? Json("points")
-                        : result.early_stop          ? Json("walk")
-                                                     : Json("kernel");
+  const std::optional<std::string_view> certified_by = certified_by_word(result);
+  out["certified_by"] = certified_by ? Json(std::string(*certified_by)) : Json(nullptr);
   out["points_drawn"] = result.points_drawn;
   out["witness_points"] = result.witness_points.size();
   out["regions_walked"] = result.regions_walked;

@@ -13,6 +13,7 @@
 #include "cli/walk_options.hpp"
 #include "core/network_io.hpp"
 #include "core/jacobian.hpp"
+#include "enumerate/certified_by.hpp"
 #include "enumerate/claim.hpp"
 #include "enumerate/distributed_certify.hpp"
 #include "enumerate/functional_dimension.hpp"
@@ -118,10 +119,8 @@ Json result_to_json(const Network& network, const Domain& domain, const Function
   out["regions_contributing"] = result.regions_contributing;
   out["walk_complete"] = result.walk_complete;
   out["early_stop"] = result.early_stop;
-  out["certified_by"] = !result.certified            ? Json(nullptr)
-                        : result.certified_by_points ? Json("points")
-                        : result.early_stop          ? Json("walk")
-                                                     : Json("kernel");
+  const std::optional<std::string_view> certified_by = certified_by_word(result);
+  out["certified_by"] = certified_by ? Json(std::string(*certified_by)) : Json(nullptr);
   out["points_drawn"] = result.points_drawn;
   Json witnesses = Json::array();
   for (const RationalVector& point : result.witness_points) {

@@ -17,6 +17,7 @@
 #include "core/network_io.hpp"
 #include "core/onnx_io.hpp"
 #include "core/random_network.hpp"
+#include "enumerate/certified_by.hpp"
 #include "enumerate/claim.hpp"
 #include "enumerate/functional_dimension.hpp"
 #include "enumerate/region_record.hpp"
@@ -178,10 +179,8 @@ py::dict certify_dict(const Network& network, const Domain& domain, const Functi
   // How the value was certified: "points" (no walk), "walk" (the rank met the
   // scaling bound during the walk), "kernel" (an exact kernel checked on
   // every region), None when not certified; as the CLI's --json.
-  out["certified_by"] = !result.certified            ? py::object(py::none())
-                        : result.certified_by_points ? py::cast("points")
-                        : result.early_stop          ? py::cast("walk")
-                                                     : py::cast("kernel");
+  const std::optional<std::string_view> certified_by = certified_by_word(result);
+  out["certified_by"] = certified_by ? py::cast(std::string(*certified_by)) : py::object(py::none());
   out["points_drawn"] = result.points_drawn;
   py::list witnesses;
   for (const RationalVector& point : result.witness_points) witnesses.append(fraction_list(point));
