@@ -14,6 +14,7 @@
 #include <filesystem>
 #include <fstream>
 #include <iterator>
+#include <regex>
 #include <sstream>
 #include <string_view>
 
@@ -174,10 +175,33 @@ bool try_load_npy(const std::string& bytes, const std::string& path, std::size_t
   return true;
 }
 
+// The header dictionary as numpy writes it, checked before xtensor's parser sees
+// it: that parser reads past the ends of malformed headers (a key without its
+// colon, an empty value), which the fuzz run found.
+void require_numpy_header(const std::string& bytes, const std::string& path) {
+  const unsigned version = static_cast<unsigned char>(bytes[6]);
+  if (version < 1 || version > 3) throw input_error(path + ": .npy format version " + std::to_string(version) + " (1 to 3 are read)");
+  const std::size_t field = version == 1 ? 2 : 4;
+  if (bytes.size() < 8 + field) throw input_error(path + ": the .npy header is cut short");
+  std::size_t length = 0;
+  for (std::size_t k = 0; k < field; ++k) length |= std::size_t{static_cast<unsigned char>(bytes[8 + k])} << (8 * k);
+  const std::size_t start = 8 + field;
+  if (length > bytes.size() - start) throw input_error(path + ": the .npy header is longer than the file");
+  std::string header = bytes.substr(start, length);
+  if (header.empty() || header.back() != '\n') throw input_error(path + ": the .npy header does not end in a newline");
+  header.pop_back();
+  std::erase(header, ' ');
+  static const std::regex numpy_dictionary(
+      R"(\{'descr':'[<>|=][a-z][0-9]+','fortran_order':(True|False),'shape':\(([0-9]+,)*[0-9]*\),?\})");
+  if (!std::regex_match(header, numpy_dictionary))
+    throw input_error(path + ": the .npy header is not a dictionary of 'descr', 'fortran_order' and 'shape' as numpy writes it");
+}
+
 PointsFile read_npy_points(const std::string& path, std::size_t dimension) {
   const std::string bytes = read_whole_file(path);
   if (bytes.size() < 10 || bytes.compare(0, 6, "\x93NUMPY") != 0)
     throw input_error(path + ": not a .npy file (no \\x93NUMPY magic at the start)");
+  require_numpy_header(bytes, path);
   PointsFile result;
   try {
     if (try_load_npy<double>(bytes, path, dimension, result) || try_load_npy<float>(bytes, path, dimension, result))

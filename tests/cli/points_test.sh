@@ -43,6 +43,10 @@ with open(work + "/header.csv", "w") as handle:  # DataFrame.to_csv(index=False)
 raw = open(work + "/float64.npy", "rb").read()
 open(work + "/truncated.npy", "wb").write(raw[:-5])
 open(work + "/extra.npy", "wb").write(raw + b"\0\0\0\0\0\0\0\0")
+# A header key without its colon (the fuzz run found xtensor's parser reading past it).
+header = b"{'descr': '<f8', 'fortran_order' False, 'shape': (2, 2), }"
+header += b" " * (63 - len(header) % 64) + b"\n"
+open(work + "/nocolon.npy", "wb").write(b"\x93NUMPY\x01\x00" + len(header).to_bytes(2, "little") + header + raw[-32:])
 PY
 for file in savetxt.txt savetxt.csv float64.npy float32.npy fortran.npy pandas.csv header.csv; do
   [ "$(batch_rank "$fold" "$work/$file")" = "$expected" ] || fail "$file: rank differs from the plain file's $expected"
@@ -61,6 +65,7 @@ printf '%s\n' '# nothing' '' > "$work/empty.csv";            bad empty.csv "empt
 printf '%s\n' '1,2' 'nan,1' > "$work/nan.csv";               bad nan.csv "nan.csv:2: value 1 ('nan')"
 printf '%s\n' 'a,b,c' '1,2' > "$work/header3.csv";           bad header3.csv "header3.csv:1: a header of 3 column names"
 bad truncated.npy "truncated.npy: the array data does not match the file's length"
+bad nocolon.npy "nocolon.npy: the .npy header is not a dictionary of 'descr', 'fortran_order' and 'shape' as numpy writes it"
 bad extra.npy "extra.npy: the array data does not match the file's length"
 bad int64.npy "int64.npy: expected a little-endian float64 or float32 array"
 bad bigendian.npy "bigendian.npy: expected a little-endian float64 or float32 array"
