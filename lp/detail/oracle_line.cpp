@@ -188,17 +188,13 @@ Rational row_slack(const IntegerRow& row, const RationalVector& x) {
   return value;
 }
 
-// Every row's slack at x times the common denominator D of x's coordinates
-// (so D > 0 and the signs are the slacks' signs): integer products only.
-std::vector<Integer> scaled_slacks(const std::vector<IntegerRow>& rows, const RationalVector& x, Integer& denominator) {
-  denominator = 1;
-  for (const Rational& value : x) mpz_lcm(denominator.get_mpz_t(), denominator.get_mpz_t(), value.get_den_mpz_t());
-  std::vector<Integer> numerators(x.size());
-  for (std::size_t k = 0; k < x.size(); ++k) numerators[k] = x[k].get_num() * (denominator / x[k].get_den());
+// Every row's slack at the point times the point's common denominator (> 0, so
+// the signs are the slacks' signs): integer products only.
+std::vector<Integer> scaled_slacks(const std::vector<IntegerRow>& rows, const ScaledPoint& x) {
   std::vector<Integer> slacks(rows.size());
   for (std::size_t i = 0; i < rows.size(); ++i) {
-    slacks[i] = rows[i].offset * denominator;
-    for (std::size_t k = 0; k < x.size(); ++k) slacks[i] += rows[i].normal[k] * numerators[k];
+    slacks[i] = rows[i].offset * x.denominator;
+    for (std::size_t k = 0; k < x.numerators.size(); ++k) slacks[i] += rows[i].normal[k] * x.numerators[k];
   }
   return slacks;
 }
@@ -211,8 +207,8 @@ std::vector<Integer> scaled_slacks(const std::vector<IntegerRow>& rows, const Ra
 std::optional<RationalVector> step_inside(const std::vector<IntegerRow>& rows, std::size_t j,
                                           const RationalVector& on_plane) {
   const std::vector<Integer>& a_j = rows[j].normal;
-  Integer denominator;
-  const std::vector<Integer> slacks = scaled_slacks(rows, on_plane, denominator);
+  const ScaledPoint start(on_plane);
+  const std::vector<Integer> slacks = scaled_slacks(rows, start);
   // e = min(1, min over falling rows of slack_i / (-2 a_i . a_j)) = limit.p / limit.q.
   Fraction limit{1, 1};
   Integer along;
@@ -221,7 +217,7 @@ std::optional<RationalVector> step_inside(const std::vector<IntegerRow>& rows, s
     for (std::size_t k = 0; k < a_j.size(); ++k) along += rows[i].normal[k] * a_j[k];
     if (sgn(along) >= 0) continue;
     if (sgn(slacks[i]) <= 0) return std::nullopt;
-    Fraction candidate{slacks[i], -2 * along * denominator};
+    Fraction candidate{slacks[i], -2 * along * start.denominator};
     if (limit > candidate) limit = std::move(candidate);
   }
   Rational step(limit.p, limit.q);
@@ -229,19 +225,20 @@ std::optional<RationalVector> step_inside(const std::vector<IntegerRow>& rows, s
   RationalVector point(on_plane);
   for (std::size_t k = 0; k < a_j.size(); ++k) point[k] += step * a_j[k];
   // radius = min over rows of slack_i / |a_i|_1 = smallest.p / smallest.q.
-  const std::vector<Integer> inside = scaled_slacks(rows, point, denominator);
+  const ScaledPoint stepped(point);
+  const std::vector<Integer> inside = scaled_slacks(rows, stepped);
   std::optional<Fraction> smallest;
   for (std::size_t i = 0; i < rows.size(); ++i) {
     if (sgn(inside[i]) <= 0) return std::nullopt;
     Integer norm = 0;
     for (const Integer& value : rows[i].normal) norm += abs(value);
-    Fraction ratio{inside[i], norm * denominator};
+    Fraction ratio{inside[i], norm * stepped.denominator};
     if (!smallest || *smallest > ratio) smallest = std::move(ratio);
   }
   Rational radius(smallest->p, 2 * smallest->q);
   radius.canonicalize();
   RationalVector shortened = round_point(point, radius);
-  for (const Integer& value : scaled_slacks(rows, shortened, denominator))
+  for (const Integer& value : scaled_slacks(rows, ScaledPoint(shortened)))
     if (sgn(value) <= 0) return point;
   return shortened;
 }
