@@ -15,6 +15,22 @@ void add_domain_options(CLI::App& command, DomainOptions& options) {
   file->excludes(box);
 }
 
+std::optional<BoxBounds> box_bounds(const RationalVector& numbers, std::size_t input_dim) {
+  BoxBounds bounds;
+  if (numbers.size() == 2) {
+    bounds.lower.assign(input_dim, numbers[0]);
+    bounds.upper.assign(input_dim, numbers[1]);
+  } else if (numbers.size() == 2 * input_dim) {
+    for (std::size_t i = 0; i < input_dim; ++i) {
+      bounds.lower.push_back(numbers[2 * i]);
+      bounds.upper.push_back(numbers[2 * i + 1]);
+    }
+  } else {
+    return std::nullopt;
+  }
+  return bounds;
+}
+
 Domain make_domain(const DomainOptions& options, std::size_t input_dim) {
   if (!options.domain_path.empty()) {
     const PolytopeDocument document = read_domain_file(options.domain_path);
@@ -31,21 +47,12 @@ Domain make_domain(const DomainOptions& options, std::size_t input_dim) {
   }
   if (options.box_text.empty()) return make_whole_space(input_dim);
   const RationalVector numbers = parse_number_list(options.box_text, "--box");
-  RationalVector lower, upper;
-  if (numbers.size() == 2) {
-    lower.assign(input_dim, numbers[0]);
-    upper.assign(input_dim, numbers[1]);
-  } else if (numbers.size() == 2 * input_dim) {
-    for (std::size_t i = 0; i < input_dim; ++i) {
-      lower.push_back(numbers[2 * i]);
-      upper.push_back(numbers[2 * i + 1]);
-    }
-  } else {
+  const std::optional<BoxBounds> bounds = box_bounds(numbers, input_dim);
+  if (!bounds)
     throw input_error("--box: expected LO,HI or " + std::to_string(2 * input_dim) + " numbers (one interval per axis), got " +
                       std::to_string(numbers.size()));
-  }
   try {
-    return make_box(lower, upper);
+    return make_box(bounds->lower, bounds->upper);
   } catch (const input_error& fault) {
     throw input_error(std::string("--box: ") + fault.what());
   }

@@ -12,6 +12,7 @@
 // Python module; this file parses options and prints.
 #include "cli/command.hpp"
 #include "cli/common.hpp"
+#include "cli/domain_options.hpp"
 #include "cli/progress.hpp"
 #include "cli/signals.hpp"
 #include "cli/walk_options.hpp"
@@ -51,20 +52,11 @@ PointDistribution parse_distribution(const std::string& text, std::size_t input_
   if (text.rfind(prefix, 0) != 0)
     throw input_error("--dist: expected 'normal' or 'box:LO,HI' (e.g. box:-2,2), got '" + text + "'");
   const RationalVector numbers = parse_number_list(text.substr(prefix.size()), "--dist");
-  RationalVector lower, upper;
-  if (numbers.size() == 2) {
-    lower.assign(input_dim, numbers[0]);
-    upper.assign(input_dim, numbers[1]);
-  } else if (numbers.size() == 2 * input_dim) {
-    for (std::size_t i = 0; i < input_dim; ++i) {
-      lower.push_back(numbers[2 * i]);
-      upper.push_back(numbers[2 * i + 1]);
-    }
-  } else {
+  std::optional<BoxBounds> bounds = box_bounds(numbers, input_dim);
+  if (!bounds)
     throw input_error("--dist: box:LO,HI takes 2 numbers, or 2 per input axis (" + std::to_string(2 * input_dim) +
                       "), got " + std::to_string(numbers.size()));
-  }
-  return box_distribution(std::move(lower), std::move(upper), "--dist");
+  return box_distribution(std::move(bounds->lower), std::move(bounds->upper), "--dist");
 }
 
 Json result_to_json(const SampleArguments& arguments, const Domain& domain, const SampleResult& result) {
