@@ -201,34 +201,57 @@ std::optional<RationalVector> step_inside(Rows rows, std::size_t j,
                                           const RationalVector& on_plane) {
   const std::vector<Integer>& a_j = rows[j].normal;
   const ScaledPoint start(on_plane);
-  const std::vector<Integer> slacks = scaled_slacks(rows, start);
+  const Integer& d = start.denominator;
+  // Slacks at the start times d, and each row's rate a_i . a_j along a_j.
+  std::vector<Integer> slacks = scaled_slacks(rows, start);
+  std::vector<Integer> along(rows.size());
   // e = min(1, min over falling rows of slack_i / (-2 a_i . a_j)) = limit.p / limit.q.
   Fraction limit{1, 1};
-  Integer along;
+  Fraction candidate;
   for (std::size_t i = 0; i < rows.size(); ++i) {
-    along = 0;
-    for (std::size_t k = 0; k < a_j.size(); ++k) along += rows[i].normal[k] * a_j[k];
-    if (sgn(along) >= 0) continue;
+    for (std::size_t k = 0; k < a_j.size(); ++k)
+      mpz_addmul(along[i].get_mpz_t(), rows[i].normal[k].get_mpz_t(), a_j[k].get_mpz_t());
+    if (sgn(along[i]) >= 0) continue;
     if (sgn(slacks[i]) <= 0) return std::nullopt;
-    Fraction candidate{slacks[i], -2 * along * start.denominator};
-    if (limit > candidate) limit = std::move(candidate);
+    candidate.p = slacks[i];
+    mpz_mul(candidate.q.get_mpz_t(), along[i].get_mpz_t(), d.get_mpz_t());
+    mpz_mul_si(candidate.q.get_mpz_t(), candidate.q.get_mpz_t(), -2);
+    if (limit > candidate) std::swap(limit, candidate);
   }
   Rational step(limit.p, limit.q);
   step.canonicalize();
   RationalVector point(on_plane);
   for (std::size_t k = 0; k < a_j.size(); ++k) point[k] += step * a_j[k];
-  // radius = min over rows of slack_i / |a_i|_1 = smallest.p / smallest.q.
-  const ScaledPoint stepped(point);
-  const std::vector<Integer> inside = scaled_slacks(rows, stepped);
-  std::optional<Fraction> smallest;
+  // Every slack at the point, times d q for step = p / q, without forming the
+  // point's own denominator: slack_i d q + p d (a_i . a_j), written over slacks.
+  const Integer& p = step.get_num();
+  const Integer& q = step.get_den();
+  Integer p_d = p * d;
   for (std::size_t i = 0; i < rows.size(); ++i) {
-    if (sgn(inside[i]) <= 0) return std::nullopt;
-    Integer norm = 0;
-    for (const Integer& value : rows[i].normal) norm += abs(value);
-    Fraction ratio{inside[i], norm * stepped.denominator};
-    if (!smallest || *smallest > ratio) smallest = std::move(ratio);
+    mpz_mul(slacks[i].get_mpz_t(), slacks[i].get_mpz_t(), q.get_mpz_t());
+    mpz_addmul(slacks[i].get_mpz_t(), p_d.get_mpz_t(), along[i].get_mpz_t());
   }
-  Rational radius(smallest->p, 2 * smallest->q);
+  // radius = half the least slack_i / |a_i|_1 = smallest.p / (2 d q smallest.q).
+  std::optional<Fraction> smallest;
+  Integer norm;
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    if (sgn(slacks[i]) <= 0) return std::nullopt;
+    norm = 0;
+    for (const Integer& value : rows[i].normal) {
+      if (sgn(value) >= 0) {
+        norm += value;
+      } else {
+        norm -= value;
+      }
+    }
+    if (!smallest) {
+      smallest = Fraction{slacks[i], norm};
+    } else if (*smallest > Fraction{slacks[i], norm}) {
+      smallest->p.swap(slacks[i]);
+      smallest->q.swap(norm);
+    }
+  }
+  Rational radius(smallest->p, 2 * d * q * smallest->q);
   radius.canonicalize();
   RationalVector shortened = round_point(point, radius);
   for (const Integer& value : scaled_slacks(rows, ScaledPoint(shortened)))
