@@ -189,8 +189,11 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
 }  // namespace
 
 CheckScale::CheckScale(const Network& network) : bounds(coefficient_bounds(network)) {
+  // Every entry is a sum of products of at most depth - 1 parameters (one
+  // per layer but its own column's) with integer coefficients: L^(depth-1)
+  // clears every denominator.
   const Integer lcm = denominator_lcm(network);
-  for (std::size_t k = 0; k < network.depth(); ++k) scale *= lcm;
+  for (std::size_t k = 1; k < network.depth(); ++k) scale *= lcm;
 }
 
 AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatrix& vectors,

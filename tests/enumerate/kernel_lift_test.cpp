@@ -252,5 +252,40 @@ TEST(KernelCheck, VectorsInOneLayerNameTheExactProductsFirstRegion) {
   EXPECT_GT(rejected, 40u);
 }
 
+// The premises of the check's bound (detail::CheckScale): on every smooth
+// region of networks with decimal and sevenths' denominators, L^(d-1) times
+// every coefficient-block entry is an integer and |entry| <= B_c, and the
+// scale is no larger than that (with L^(d-2) some entry is not an integer).
+TEST(KernelCheck, TheScaleClearsEveryEntrysDenominatorAndTheBoundsHold) {
+  for (const Network& network : {random_network({2, 4, 3, 1}, 11), random_network({2, 3, 3, 2}, 14),
+                                 random_network({2, 3, 3, 3, 1}, 41), scaled_degenerate()}) {
+    const detail::CheckScale check_scale(network);
+    const WalkState state = walk_state(network);
+    Integer lcm = 1;
+    for (const Layer& layer : network.layers) {
+      for (std::size_t r = 0; r < layer.weights.rows(); ++r)
+        for (std::size_t c = 0; c < layer.weights.cols(); ++c)
+          mpz_lcm(lcm.get_mpz_t(), lcm.get_mpz_t(), layer.weights(r, c).get_den_mpz_t());
+      for (const Rational& b : layer.bias) mpz_lcm(lcm.get_mpz_t(), lcm.get_mpz_t(), b.get_den_mpz_t());
+    }
+    Integer expected = 1;
+    for (std::size_t k = 1; k < network.depth(); ++k) expected *= lcm;
+    EXPECT_EQ(check_scale.scale, expected);
+    const Rational smaller(check_scale.scale, lcm);
+    bool smaller_fails = false;
+    for (const ActivationPattern& pattern : state.smooth) {
+      const RationalMatrix blocks = coefficient_blocks(network, pattern);
+      for (std::size_t r = 0; r < blocks.rows(); ++r)
+        for (std::size_t c = 0; c < blocks.cols(); ++c) {
+          const Rational scaled = blocks(r, c) * Rational(check_scale.scale);
+          ASSERT_EQ(scaled.get_den(), 1) << "row " << r << " column " << c;
+          EXPECT_LE(abs(blocks(r, c)), check_scale.bounds[c]);
+          smaller_fails = smaller_fails || Rational(blocks(r, c) * smaller).get_den() != 1;
+        }
+    }
+    EXPECT_TRUE(smaller_fails);
+  }
+}
+
 }  // namespace
 }  // namespace pleat
