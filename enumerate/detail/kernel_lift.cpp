@@ -125,10 +125,12 @@ struct RowLift {
 };
 
 // The kept rows modulo the network's prime, r x D (coefficient_blocks_mod of
-// each kept region), or only those that `needed` marks (the others stay 0);
-// the regions on up to `threads` threads (each writes its own rows).
+// each kept region), or only the rows that `needed` marks at the columns
+// `columns_needed` marks (the other entries stay 0); the regions on up to
+// `threads` threads (each writes its own rows).
 ModularMatrix kept_rows_modulo(const ModularNetwork& network, const std::vector<KeptRows>& kept, std::size_t rank,
-                               std::size_t columns, unsigned threads, const std::vector<char>* needed = nullptr) {
+                               std::size_t columns, unsigned threads, const std::vector<char>* needed = nullptr,
+                               const std::vector<char>* columns_needed = nullptr) {
   ModularMatrix out(rank, columns);
   std::vector<std::size_t> first_row(kept.size());  // of each region in out
   std::vector<std::size_t> regions;                  // the needed ones
@@ -143,6 +145,10 @@ ModularMatrix kept_rows_modulo(const ModularNetwork& network, const std::vector<
   parallel_for(regions.size(), threads, [&](std::size_t n) {
     poll_stop();
     const KeptRows& region = kept[regions[n]];
+    if (columns_needed) {  // from the layer inputs and signals those columns need
+      coefficient_rows_at(network, region.pattern, region.rows, *columns_needed, out, first_row[regions[n]]);
+      return;
+    }
     const ModularMatrix blocks = coefficient_blocks_mod(network, region.pattern);
     std::size_t row_out = first_row[regions[n]];
     for (std::size_t row : region.rows) {
@@ -288,13 +294,19 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
       primes.emplace_back(prime, std::move(*reduced));
       ++used;
     }
-    std::vector<char> needed(rank, 0);  // the open rows' equations: late primes need few regions
-    for (std::size_t i : open)
+    // The open rows' equations at their supports and leads: late primes
+    // need few regions, and each region only those columns.
+    std::vector<char> needed(rank, 0), columns_needed(columns, 0);
+    for (std::size_t i : open) {
       for (std::size_t r : lifts[i].equations) needed[r] = 1;
+      for (std::size_t c : lifts[i].support) columns_needed[c] = 1;
+      for (std::size_t c : lifts[i].leads) columns_needed[c] = 1;
+    }
     std::vector<std::vector<std::optional<ModularMatrix>>> images(primes.size());
     auto images_modulo = [&](std::size_t p, unsigned inner_threads) {
       const auto& [prime, reduced] = primes[p];
-      const ModularMatrix prime_rows = kept_rows_modulo(reduced, kept, rank, columns, inner_threads, &needed);
+      const ModularMatrix prime_rows =
+          kept_rows_modulo(reduced, kept, rank, columns, inner_threads, &needed, &columns_needed);
       images[p].resize(open.size());
       parallel_for(open.size(), inner_threads,
                    [&](std::size_t o) { images[p][o] = row_image(lifts[open[o]], prime_rows, prime); });
