@@ -296,7 +296,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     const std::size_t line_budget = 64 + result.scaling_bound;
     std::unordered_set<std::string> proposed;
     std::size_t lines = 0, since_rise = 0;
-    ReachForecast forecast(4);
+    ReachForecast forecast(2);
     const StopScope scope(stop);
     while (basis.rank() < result.scaling_bound && since_rise < line_patience && lines < line_budget) {
       if (stop.is_requested()) return;

@@ -30,9 +30,13 @@ namespace {
 
 using namespace detail;
 
-// Open cell via the filter; nullopt when the proposal does not verify.
+// Open cell via the filter; nullopt when the proposal does not verify. Then
+// `active` holds the rows active at GLPK's optimum, if it found one: on a cell
+// thinner than its tolerances, the rows that pinch it, likely facets, which the
+// exact step tries first.
 std::optional<CellVerdict> decide_open_cell_filtered(const Polyhedron& cell, const DoubleRows& rows,
-                                                     double cap, double positive_slack) {
+                                                     double cap, double positive_slack,
+                                                     std::vector<std::size_t>& active) {
   const std::size_t n = cell.dim;
   // LP0 (GLPK, rows scaled to 1-norm 1 as in DoubleRows), variables (x, t):
   //   maximise t  subject to  â_i . x - t >= -ĉ_i  (every i),  t <= cap,  x free.
@@ -57,10 +61,11 @@ std::optional<CellVerdict> decide_open_cell_filtered(const Polyhedron& cell, con
       RationalVector point = round_point(centre, radius * shrink);
       if (is_interior(cell, point)) return InteriorPoint{std::move(point)};
     }
+    active = working.active_constraints();
     return std::nullopt;
   }
-  if (std::optional<EmptinessCertificate> certificate =
-          emptiness_on_support(cell, working.active_constraints()))
+  active = working.active_constraints();
+  if (std::optional<EmptinessCertificate> certificate = emptiness_on_support(cell, active))
     return std::move(*certificate);
   return std::nullopt;
 }
@@ -74,15 +79,16 @@ CellVerdict decide_open_cell_counted(const Polyhedron& cell, const DoubleRows& r
     return InteriorPoint{RationalVector(cell.dim, Rational(0))};
   }
   const double cap_double = std::min(to_double(cap), 1e100);
+  std::vector<std::size_t> active;
   if (rows.is_finite && !tolerances.exact_only) {
     if (std::optional<CellVerdict> verdict =
-            decide_open_cell_filtered(cell, rows, cap_double, tolerances.positive_slack)) {
+            decide_open_cell_filtered(cell, rows, cap_double, tolerances.positive_slack, active)) {
       ++counts.filter_settled;
       return *verdict;
     }
   }
   ++counts.exact_fallbacks;
-  return decide_open_cell_exactly(cell, cap);
+  return decide_open_cell_exactly(cell, cap, active);
 }
 
 }  // namespace

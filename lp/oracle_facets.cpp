@@ -32,8 +32,12 @@ using namespace detail;
 class FacetFilter {
  public:
   FacetFilter(const Polyhedron& cell, const DoubleRows& rows, const RationalVector& interior,
-              double positive_slack)
-      : cell_(cell), rows_(rows), positive_slack_(positive_slack), screen_(rows, 1, false, false) {
+              double positive_slack, LazyIntegerRows& integer_rows)
+      : cell_(cell),
+        rows_(rows),
+        positive_slack_(positive_slack),
+        integer_rows_(integer_rows),
+        screen_(rows, 1, false, false) {
     // LP1 (GLPK, one per region; row 0 and the objective rewritten per candidate j):
     //   minimise â_j . x  subject to  â_j . x >= -ĉ_j  (row 0),
     //                                 â_i . x >= -ĉ_i  (every i, by row generation),  x free.
@@ -59,7 +63,7 @@ class FacetFilter {
       if (minimum > positive_slack_) {
         const std::vector<std::size_t> support = screen_.active_constraints();
         if (std::none_of(support.begin(), support.end(), is_member))
-          if (std::optional<NonFacetCertificate> certificate = redundancy_on_support(cell_, j, support))
+          if (std::optional<NonFacetCertificate> certificate = redundancy_on_support(cell_, j, support, &integer_rows_))
             return FacetVerdict{std::move(*certificate)};
       }
     }
@@ -123,7 +127,7 @@ class FacetFilter {
     }
     std::vector<std::size_t> support = hyperplane_->active_constraints();
     support.erase(std::remove_if(support.begin(), support.end(), is_member), support.end());
-    if (std::optional<NonFacetCertificate> certificate = non_facet_on_support(cell_, group[0], support))
+    if (std::optional<NonFacetCertificate> certificate = non_facet_on_support(cell_, group[0], support, &integer_rows_))
       return FacetVerdict{std::move(*certificate)};
     return std::nullopt;
   }
@@ -131,6 +135,7 @@ class FacetFilter {
   const Polyhedron& cell_;
   const DoubleRows& rows_;
   double positive_slack_;
+  LazyIntegerRows& integer_rows_;
   WorkingRows screen_;
   std::optional<WorkingRows> hyperplane_;
 };
@@ -301,6 +306,7 @@ FacetClassification Oracle::classify_facets(const Polyhedron& cell, const Interi
   // filter (built only when needed) takes what the polygon's proposals leave.
   std::vector<PolygonProposal> proposals;
   if (use_filter && cell.dim == 2) proposals = polygon_proposals(rows, interior.point);
+  LazyIntegerRows integer_rows_of_cell(distinct);
   std::optional<FacetFilter> filter;
   const Representatives& reduced = representatives;
   classification.groups.reserve(reduced.classes.size());
@@ -313,14 +319,14 @@ FacetClassification Oracle::classify_facets(const Polyhedron& cell, const Interi
       verdict = certify_polygon_proposal(distinct, images ? &*images : nullptr, r, proposals[r],
                                          keep_non_facet_certificates);
     if (!verdict && use_filter) {
-      if (!filter) filter.emplace(distinct, rows, interior.point, state_->tolerances.positive_slack);
+      if (!filter) filter.emplace(distinct, rows, interior.point, state_->tolerances.positive_slack, integer_rows_of_cell);
       verdict = filter->classify(single);
     }
     if (verdict) {
       ++state_->counts.filter_settled;
     } else {
       ++state_->counts.exact_fallbacks;
-      verdict = classify_group_exactly(distinct, single);
+      verdict = classify_group_exactly(distinct, single, &integer_rows_of_cell);
     }
     if (auto* proof = std::get_if<NonFacetCertificate>(&*verdict)) {
       if (!keep_non_facet_certificates) {

@@ -45,20 +45,26 @@ Integer denominator_lcm(const Network& network) {
   return lcm;
 }
 
-// A rational row scaled by a positive number to a primitive integer vector.
-std::vector<Integer> primitive_integer_row(const RationalVector& row) {
+// A rational row's nonzero entries (column, value) scaled by a positive
+// number to a primitive integer vector (the zero entries cost nothing: most
+// extra directions have a handful of nonzeros among thousands).
+std::vector<std::pair<std::size_t, Integer>> primitive_integer_entries(const RationalVector& row) {
   Integer scale = 1, content = 0;
-  for (const Rational& v : row) mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), v.get_den_mpz_t());
-  std::vector<Integer> out(row.size());
-  for (std::size_t c = 0; c < row.size(); ++c) {
-    out[c] = row[c].get_num() * (scale / row[c].get_den());
-    mpz_gcd(content.get_mpz_t(), content.get_mpz_t(), out[c].get_mpz_t());
+  std::vector<std::pair<std::size_t, Integer>> out;
+  for (std::size_t c = 0; c < row.size(); ++c)
+    if (sgn(row[c]) != 0) {
+      mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), row[c].get_den_mpz_t());
+      out.emplace_back(c, 0);
+    }
+  for (auto& [c, value] : out) {
+    mpz_divexact(value.get_mpz_t(), scale.get_mpz_t(), row[c].get_den_mpz_t());
+    value *= row[c].get_num();
+    mpz_gcd(content.get_mpz_t(), content.get_mpz_t(), value.get_mpz_t());
   }
   if (content > 1)
-    for (Integer& v : out) v /= content;
+    for (auto& entry : out) mpz_divexact(entry.second.get_mpz_t(), entry.second.get_mpz_t(), content.get_mpz_t());
   return out;
 }
-
 
 // The pattern's layer inputs and backward signals modulo a prime: the
 // factors of every coefficient-block entry (core/jacobian.hpp): entry
@@ -67,10 +73,14 @@ std::vector<Integer> primitive_integer_row(const RationalVector& row) {
 // The same recurrences as coefficient_blocks_mod, without writing the
 // D-column blocks out: a vector's products with the rows then cost its
 // nonzero entries only.
+// Buffers reused from one region to the next (one set per thread), so
+// that the check allocates nothing per region and prime: layer k's input
+// map (linear: fan_in x n0 row-major; offset: fan_in) and backward signal
+// (nd x n_k row-major), and which neurons pass on the region.
 struct RegionFactors {
-  std::vector<ModularMatrix> linear;   // layer k: fan_in x n0
-  std::vector<ModularVector> offset;   // layer k: fan_in
-  std::vector<ModularMatrix> signal;   // layer k: nd x n_k
+  std::vector<std::vector<std::uint64_t>> linear, offset, signal;
+  std::vector<std::vector<std::size_t>> passing;  // layer k: the neurons that pass (on, or linear)
+  std::vector<std::uint64_t> entries;
 };
 
 __extension__ typedef unsigned __int128 Wide;
@@ -107,66 +117,73 @@ class LazySum {
   unsigned pending_ = 0;
 };
 
-RegionFactors region_factors(const ModularNetwork& network, const ActivationPattern& pattern) {
+// Fills factors with the region's layer inputs for layers 0..forward_to and
+// its backward signals for layers backward_to..depth-1 (what the columns a
+// modulus checks need: a weight of layer k needs layer k's input and
+// signal, a bias its signal only). Neurons that do not pass are 0 in both,
+// so the sums run over the passing ones only (about half of a ReLU layer).
+void region_factors(const ModularNetwork& network, const ActivationPattern& pattern, std::size_t forward_to,
+                    std::size_t backward_to, RegionFactors& factors) {
   const std::uint64_t prime = network.prime, inverse = n_preinvert_limb(prime);
   const std::size_t depth = network.weights.size(), n0 = network.input_dim;
   const std::size_t nd = network.bias.back().size();
-  std::vector<std::vector<char>> passing(depth);
-  std::size_t neuron = 0;
-  for (std::size_t k = 0; k < depth; ++k) {
-    const std::size_t width = network.weights[k].rows();
-    passing[k].assign(width, 1);
-    if (k + 1 < depth || network.has_output_relu)
-      for (std::size_t i = 0; i < width; ++i) passing[k][i] = pattern.is_on(neuron++) ? 1 : 0;
-  }
-  RegionFactors factors;
+  factors.passing.resize(depth);
   factors.linear.resize(depth);
   factors.offset.resize(depth);
   factors.signal.resize(depth);
-  factors.linear[0] = ModularMatrix(n0, n0);
-  for (std::size_t t = 0; t < n0; ++t) factors.linear[0](t, t) = 1;
+  std::size_t neuron = 0;
+  for (std::size_t k = 0; k < depth; ++k) {
+    const std::size_t width = network.weights[k].rows();
+    std::vector<std::size_t>& passing = factors.passing[k];
+    passing.clear();
+    const bool has_relu = k + 1 < depth || network.has_output_relu;
+    for (std::size_t i = 0; i < width; ++i, neuron += has_relu ? 1 : 0)
+      if (!has_relu || pattern.is_on(neuron)) passing.push_back(i);
+  }
+  factors.linear[0].assign(n0 * n0, 0);
+  for (std::size_t t = 0; t < n0; ++t) factors.linear[0][t * n0 + t] = 1;
   factors.offset[0].assign(n0, 0);
-  for (std::size_t k = 0; k + 1 < depth; ++k) {
+  std::vector<std::size_t> all_inputs(n0);
+  for (std::size_t t = 0; t < n0; ++t) all_inputs[t] = t;
+  for (std::size_t k = 0; k < forward_to; ++k) {
     const ModularMatrix& weights = network.weights[k];
-    const ModularMatrix& in_linear = factors.linear[k];
-    const ModularVector& in_offset = factors.offset[k];
-    ModularMatrix linear(weights.rows(), n0);
-    ModularVector offset(weights.rows(), 0);
-    for (std::size_t i = 0; i < weights.rows(); ++i) {
-      if (!passing[k][i]) continue;  // off or 'z': 0 on the region
+    const std::vector<std::uint64_t>& in_linear = factors.linear[k];
+    const std::vector<std::uint64_t>& in_offset = factors.offset[k];
+    const std::vector<std::size_t>& inputs = k == 0 ? all_inputs : factors.passing[k - 1];
+    std::vector<std::uint64_t>& linear = factors.linear[k + 1];
+    std::vector<std::uint64_t>& offset = factors.offset[k + 1];
+    linear.assign(weights.rows() * n0, 0);
+    offset.assign(weights.rows(), 0);
+    for (std::size_t i : factors.passing[k]) {
       LazySum value(prime, inverse);
       value.add(network.bias[k][i], 1);
-      for (std::size_t j = 0; j < weights.cols(); ++j) value.add(weights(i, j), in_offset[j]);
+      for (std::size_t j : inputs) value.add(weights(i, j), in_offset[j]);
       offset[i] = value.value();
       for (std::size_t t = 0; t < n0; ++t) {
         LazySum slope(prime, inverse);
-        for (std::size_t j = 0; j < weights.cols(); ++j) slope.add(weights(i, j), in_linear(j, t));
-        linear(i, t) = slope.value();
+        for (std::size_t j : inputs) slope.add(weights(i, j), in_linear[j * n0 + t]);
+        linear[i * n0 + t] = slope.value();
       }
     }
-    factors.linear[k + 1] = std::move(linear);
-    factors.offset[k + 1] = std::move(offset);
   }
-  ModularMatrix reaching(nd, nd);
-  for (std::size_t o = 0; o < nd; ++o) reaching(o, o) = 1;
-  for (std::size_t k = depth; k-- > 0;) {
-    if (k + 1 < depth) {
-      const ModularMatrix& next_signal = factors.signal[k + 1];
-      const ModularMatrix& next_weights = network.weights[k + 1];
-      reaching = ModularMatrix(nd, next_weights.cols());
-      for (std::size_t o = 0; o < nd; ++o)
-        for (std::size_t i = 0; i < next_weights.cols(); ++i) {
-          LazySum value(prime, inverse);
-          for (std::size_t m = 0; m < next_weights.rows(); ++m) value.add(next_signal(o, m), next_weights(m, i));
-          reaching(o, i) = value.value();
-        }
+  for (std::size_t k = depth; k-- > backward_to;) {
+    const std::size_t width = network.weights[k].rows();
+    std::vector<std::uint64_t>& signal = factors.signal[k];
+    signal.assign(nd * width, 0);
+    if (k + 1 == depth) {
+      for (std::size_t o : factors.passing[k]) signal[o * width + o] = 1;
+      continue;
     }
-    for (std::size_t i = 0; i < passing[k].size(); ++i)
-      if (!passing[k][i])
-        for (std::size_t o = 0; o < nd; ++o) reaching(o, i) = 0;
-    factors.signal[k] = reaching;
+    const std::vector<std::uint64_t>& next_signal = factors.signal[k + 1];
+    const ModularMatrix& next_weights = network.weights[k + 1];
+    const std::size_t next_width = next_weights.rows();
+    for (std::size_t o = 0; o < nd; ++o)
+      for (std::size_t i : factors.passing[k]) {
+        LazySum value(prime, inverse);
+        for (std::size_t m : factors.passing[k + 1]) value.add(next_signal[o * next_width + m], next_weights(m, i));
+        signal[o * width + i] = value.value();
+      }
   }
-  return factors;
 }
 
 }  // namespace
@@ -188,17 +205,16 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatri
   }
   const RationalVector& bounds = check_scale.bounds;
   const Integer& scale = check_scale.scale;
-  std::vector<std::vector<Integer>> integer_rows;
+  std::vector<std::vector<std::pair<std::size_t, Integer>>> integer_rows;
   std::vector<Rational> needed;  // each vector's bound: primes until their product exceeds it
   Rational largest = 0;
-  // Thousands of dense vectors and, on deep networks, hundreds of primes:
-  // poll the current thread's stop request (a no-op without a StopScope).
+  // Thousands of vectors and, on deep networks, hundreds of primes: poll
+  // the current thread's stop request (a no-op without a StopScope).
   for (std::size_t r = 0; r < vectors.rows(); ++r) {
     poll_stop();
-    integer_rows.push_back(primitive_integer_row(vectors.row(r)));
+    integer_rows.push_back(primitive_integer_entries(vectors.row(r)));
     Rational sum = 0;
-    for (std::size_t c = 0; c < vectors.cols(); ++c)
-      if (integer_rows.back()[c] != 0) sum += bounds[c] * Rational(abs(integer_rows.back()[c]));
+    for (const auto& [c, value] : integer_rows.back()) sum += bounds[c] * Rational(abs(value));
     needed.push_back(sum * Rational(scale));
     if (needed.back() > largest) largest = needed.back();
   }
@@ -210,19 +226,21 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatri
     const std::uint64_t prime = prime_sequence(index);
     auto reduced = reduce_modulo(network, prime);
     if (!reduced) continue;  // the prime divides a denominator
-    Modulus modulus{std::move(*reduced), {}, {}};
+    Modulus modulus{std::move(*reduced), {}, {}, 0, network.depth()};
     std::vector<std::size_t> position(vectors.cols(), vectors.cols());  // in modulus.columns
     for (std::size_t v = 0; v < integer_rows.size(); ++v) {
       if (Rational(product) > needed[v]) continue;  // proved by the primes before
       poll_stop();
       std::vector<std::pair<std::size_t, std::uint64_t>> sparse;
-      for (std::size_t c = 0; c < integer_rows[v].size(); ++c) {
-        if (integer_rows[v][c] == 0) continue;
+      for (const auto& [c, value] : integer_rows[v]) {
         if (position[c] == vectors.cols()) {
           position[c] = modulus.columns.size();
           modulus.columns.push_back(c);
+          const ColumnRole& role = columns_[c];
+          if (role.input != ColumnRole::bias) modulus.forward_to = std::max(modulus.forward_to, role.layer);
+          modulus.backward_to = std::min(modulus.backward_to, role.layer);
         }
-        sparse.emplace_back(position[c], *reduce_modulo(Rational(integer_rows[v][c]), prime));
+        sparse.emplace_back(position[c], mpz_fdiv_ui(value.get_mpz_t(), prime));
       }
       modulus.vectors.push_back(std::move(sparse));
     }
@@ -232,18 +250,21 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatri
 }
 
 bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
+  thread_local RegionFactors factors;
   for (const Modulus& modulus : moduli_) {
     poll_stop();
     const std::uint64_t prime = modulus.network.prime, inverse = n_preinvert_limb(prime);
-    const RegionFactors factors = region_factors(modulus.network, pattern);
-    const std::size_t nd = factors.signal.back().rows(), n0 = modulus.network.input_dim;
+    region_factors(modulus.network, pattern, modulus.forward_to, modulus.backward_to, factors);
+    const std::size_t nd = modulus.network.bias.back().size(), n0 = modulus.network.input_dim;
     const std::size_t used = modulus.columns.size();
     // The blocks' entries at the columns this prime's vectors use, row by row.
-    ModularVector entries((n0 + 1) * used, 0);
+    std::vector<std::uint64_t>& entries = factors.entries;
     for (std::size_t o = 0; o < nd; ++o) {
+      entries.assign((n0 + 1) * used, 0);
       for (std::size_t u = 0; u < used; ++u) {
         const ColumnRole& role = columns_[modulus.columns[u]];
-        const std::uint64_t g = factors.signal[role.layer](o, role.neuron);
+        const std::size_t width = modulus.network.weights[role.layer].rows();
+        const std::uint64_t g = factors.signal[role.layer][o * width + role.neuron];
         if (g == 0) continue;
         if (role.input == ColumnRole::bias) {
           entries[u] = g;  // the offset row only
@@ -252,7 +273,7 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
         entries[u] = n_mulmod2_preinv(g, factors.offset[role.layer][role.input], prime, inverse);
         for (std::size_t t = 0; t < n0; ++t)
           entries[(1 + t) * used + u] =
-              n_mulmod2_preinv(g, factors.linear[role.layer](role.input, t), prime, inverse);
+              n_mulmod2_preinv(g, factors.linear[role.layer][role.input * n0 + t], prime, inverse);
       }
       for (std::size_t row = 0; row <= n0; ++row)
         for (const auto& vector : modulus.vectors) {
@@ -260,7 +281,6 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
           for (const auto& [u, value] : vector) sum.add(entries[row * used + u], value);
           if (sum.value() != 0) return false;
         }
-      std::fill(entries.begin(), entries.end(), 0);
     }
   }
   return true;

@@ -61,6 +61,9 @@ class AnnihilationCheck {
     std::vector<std::size_t> columns;  // the parameters the vectors below use
     // Sparse, residues: (position in columns, value).
     std::vector<std::vector<std::pair<std::size_t, std::uint64_t>>> vectors;
+    // The layers whose inputs (0..forward_to) and backward signals
+    // (backward_to..depth-1) those columns need.
+    std::size_t forward_to = 0, backward_to = 0;
   };
   std::size_t vector_count_;
   std::vector<ColumnRole> columns_;  // parameter order (Network::parameter_offset)

@@ -28,9 +28,10 @@ namespace pleat::lp::detail {
 }
 
 // Open cell, exactly.
-CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap) {
-  if (std::optional<CellVerdict> verdict = decide_open_cell_on_lines(cell)) return std::move(*verdict);
-  if (std::optional<CellVerdict> verdict = decide_open_cell_on_planes(cell)) return std::move(*verdict);
+CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap,
+                                     const std::vector<std::size_t>& try_first) {
+  if (std::optional<CellVerdict> verdict = decide_open_cell_on_lines(cell, try_first)) return std::move(*verdict);
+  if (std::optional<CellVerdict> verdict = decide_open_cell_on_planes(cell, try_first)) return std::move(*verdict);
   const std::size_t n = cell.dim;
   const std::size_t m = cell.constraints.size();
   // Exact LP (cddlib), variables (x, t):
@@ -83,9 +84,15 @@ CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap
 }
 
 // One facet group, exactly.
-FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group) {
-  if (std::optional<FacetVerdict> verdict = classify_group_on_line(cell, group)) return std::move(*verdict);
-  if (std::optional<FacetVerdict> verdict = classify_group_on_plane(cell, group)) return std::move(*verdict);
+FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group,
+                                    LazyIntegerRows* known_rows) {
+  if (cell.dim == 2 || cell.dim == 3) {
+    LazyIntegerRows own(cell);
+    LazyIntegerRows& integer = known_rows ? *known_rows : own;
+    std::optional<FacetVerdict> verdict = cell.dim == 2 ? classify_group_on_line(cell, group, integer.get())
+                                                        : classify_group_on_plane(cell, group, integer.get());
+    if (verdict) return std::move(*verdict);
+  }
   const std::size_t n = cell.dim;
   const std::size_t m = cell.constraints.size();
   const std::size_t j = group[0];

@@ -18,6 +18,7 @@
 // returned; an unexpected failure returns nullopt and the caller's cddlib path decides.
 #include "lp/checker.hpp"
 #include "lp/detail/exact_tools.hpp"
+#include "lp/detail/integer_rows.hpp"
 #include "lp/detail/oracle_parts.hpp"
 
 #include <cstdlib>
@@ -27,29 +28,6 @@
 namespace pleat::lp::detail {
 
 namespace {
-
-// a . x + c > 0 with integer a and c: a positive multiple of a rational row.
-struct IntegerRow {
-  std::vector<Integer> normal;
-  Integer offset;
-  Integer scale = 1;  // this row is scale times the caller's row (scale > 0)
-};
-
-std::vector<IntegerRow> integer_rows(const Polyhedron& cell) {
-  std::vector<IntegerRow> rows(cell.constraints.size());
-  Integer scale;
-  for (std::size_t i = 0; i < rows.size(); ++i) {
-    const Constraint& constraint = cell.constraints[i];
-    scale = constraint.offset.get_den();
-    for (const Rational& value : constraint.normal) mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), value.get_den_mpz_t());
-    rows[i].normal.resize(cell.dim);
-    for (std::size_t k = 0; k < cell.dim; ++k)
-      rows[i].normal[k] = constraint.normal[k].get_num() * (scale / constraint.normal[k].get_den());
-    rows[i].offset = constraint.offset.get_num() * (scale / constraint.offset.get_den());
-    rows[i].scale = scale;
-  }
-  return rows;
-}
 
 std::size_t largest_integer_entry(const std::vector<Integer>& normal) {
   std::size_t best = 0;
@@ -300,10 +278,26 @@ RationalVector on_callers_rows(const std::vector<IntegerRow>& rows, const std::v
 // carries Gordan multipliers y to is_empty_on(support, y) (which returns true once
 // it has proved the cell empty with them; then the search stops and nullopt is
 // returned too: the caller holds the proof).
+// 0, ..., count - 1 with the valid entries of try_first first.
+std::vector<std::size_t> asking_order(std::size_t count, const std::vector<std::size_t>& try_first) {
+  std::vector<std::size_t> order;
+  order.reserve(count);
+  std::vector<bool> is_listed(count, false);
+  for (std::size_t j : try_first)
+    if (j < count && !is_listed[j]) {
+      is_listed[j] = true;
+      order.push_back(j);
+    }
+  for (std::size_t j = 0; j < count; ++j)
+    if (!is_listed[j]) order.push_back(j);
+  return order;
+}
+
 template <typename EmptyOn>
-std::optional<RationalVector> open_plane_cell(const std::vector<IntegerRow>& rows, EmptyOn&& is_empty_on) {
+std::optional<RationalVector> open_plane_cell(const std::vector<IntegerRow>& rows, EmptyOn&& is_empty_on,
+                                              const std::vector<std::size_t>& try_first = {}) {
   std::vector<bool> is_member(rows.size(), false);
-  for (std::size_t j = 0; j < rows.size(); ++j) {
+  for (std::size_t j : asking_order(rows.size(), try_first)) {
     is_member[j] = true;
     LineInterval interval = line_interval(rows, j, is_member);
     is_member[j] = false;
@@ -321,7 +315,13 @@ std::optional<RationalVector> open_plane_cell(const std::vector<IntegerRow>& row
 
 std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const std::vector<std::size_t>& group) {
   if (cell.dim != 2 || group.empty() || !is_well_formed(cell)) return std::nullopt;
-  const LineInterval interval = line_interval(integer_rows(cell), group[0], membership(cell.constraints.size(), group));
+  return classify_group_on_line(cell, group, integer_rows(cell));
+}
+
+std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const std::vector<std::size_t>& group,
+                                                   const std::vector<IntegerRow>& rows) {
+  if (cell.dim != 2 || group.empty() || !is_well_formed(cell)) return std::nullopt;
+  const LineInterval interval = line_interval(rows, group[0], membership(cell.constraints.size(), group));
   if (interval.facet_point) {
     if (!is_facet_point(cell, group, *interval.facet_point)) return std::nullopt;
     return FacetVerdict{FacetPoint{*interval.facet_point}};
@@ -331,7 +331,7 @@ std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const
   return std::nullopt;
 }
 
-std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell) {
+std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell, const std::vector<std::size_t>& try_first) {
   if (cell.dim != 2 || cell.constraints.empty() || !is_well_formed(cell)) return std::nullopt;
   const std::vector<IntegerRow> rows = integer_rows(cell);
   std::optional<EmptinessCertificate> proof;
@@ -340,7 +340,7 @@ std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell) {
     if (!check_emptiness(cell, *proof)) proof.reset();
     return proof.has_value();
   };
-  if (std::optional<RationalVector> point = open_plane_cell(rows, is_empty_on)) {
+  if (std::optional<RationalVector> point = open_plane_cell(rows, is_empty_on, try_first)) {
     if (!is_interior(cell, *point)) return std::nullopt;
     return CellVerdict{InteriorPoint{std::move(*point)}};
   }
@@ -413,7 +413,12 @@ std::optional<RationalVector> point_on_plane(const std::vector<IntegerRow>& rows
 
 std::optional<FacetVerdict> classify_group_on_plane(const Polyhedron& cell, const std::vector<std::size_t>& group) {
   if (cell.dim != 3 || group.empty() || !is_well_formed(cell)) return std::nullopt;
-  const std::vector<IntegerRow> rows = integer_rows(cell);
+  return classify_group_on_plane(cell, group, integer_rows(cell));
+}
+
+std::optional<FacetVerdict> classify_group_on_plane(const Polyhedron& cell, const std::vector<std::size_t>& group,
+                                                    const std::vector<IntegerRow>& rows) {
+  if (cell.dim != 3 || group.empty() || !is_well_formed(cell)) return std::nullopt;
   const std::size_t j = group[0];
   std::optional<NonFacetCertificate> certificate;
   const auto is_non_facet_on = [&](std::vector<std::size_t> support, std::vector<Integer> y, const Integer& mu) {
@@ -433,12 +438,13 @@ std::optional<FacetVerdict> classify_group_on_plane(const Polyhedron& cell, cons
   return FacetVerdict{FacetPoint{*point}};
 }
 
-std::optional<CellVerdict> decide_open_cell_on_planes(const Polyhedron& cell) {
+std::optional<CellVerdict> decide_open_cell_on_planes(const Polyhedron& cell,
+                                                      const std::vector<std::size_t>& try_first) {
   if (cell.dim != 3 || cell.constraints.empty() || !is_well_formed(cell)) return std::nullopt;
   const std::vector<IntegerRow> rows = integer_rows(cell);
   std::optional<EmptinessCertificate> proof;
   std::vector<bool> is_member(rows.size(), false);
-  for (std::size_t j = 0; j < rows.size(); ++j) {
+  for (std::size_t j : asking_order(rows.size(), try_first)) {
     // A Motzkin certificate of plane j's emptiness with mu >= 0 is a Gordan
     // certificate of the cell, j's multiplier mu (Helly: an empty open cell in
     // space has an empty sub-cell of at most four constraints).

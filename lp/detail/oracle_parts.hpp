@@ -7,6 +7,7 @@
 
 #include "core/filtered_sign.hpp"
 #include "lp/detail/double_rows.hpp"
+#include "lp/detail/integer_rows.hpp"
 #include "lp/oracle.hpp"
 #include "lp/polyhedron.hpp"
 
@@ -74,13 +75,17 @@ RationalVector project_onto(const Constraint& constraint, RationalVector point, 
 // exactly, then require y >= 0 and mu c_j + sum y_s c_s <= 0.
 [[nodiscard]]
 std::optional<NonFacetCertificate> non_facet_on_support(const Polyhedron& cell, std::size_t representative,
-                                                        const std::vector<std::size_t>& support);
+                                                        const std::vector<std::size_t>& support,
+                                                        LazyIntegerRows* known_rows = nullptr);
 
 // The redundancy form of the Motzkin certificate: a_j = sum_{s in S} y_s a_s
 // with y >= 0 and sum y_s c_s <= c_j (equality multiplier -1).
+// For both: known_rows, when given, are the cell's integer rows; in the plane
+// and in space a support of at most dim constraints is solved by integer minors.
 [[nodiscard]]
 std::optional<NonFacetCertificate> redundancy_on_support(const Polyhedron& cell, std::size_t representative,
-                                                         const std::vector<std::size_t>& support);
+                                                         const std::vector<std::size_t>& support,
+                                                         LazyIntegerRows* known_rows = nullptr);
 
 // The redundancy certificate of redundancy_on_support for a support of two
 // constraints in the plane, by Cramer's rule (no matrix, few temporaries):
@@ -126,29 +131,39 @@ std::optional<bool> is_redundant_in_plane_filtered(const CellImages& images, std
 [[noreturn]] void internal_failure(const char* what);  // throws std::logic_error
 
 // Open cell, exactly (in the plane and in space first by decide_open_cell_on_lines
-// or _on_planes, else cddlib).
-[[nodiscard]] CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap);
+// or _on_planes, else cddlib). try_first: constraints whose lines or planes are
+// asked first (a hint only: any order gives an exact answer).
+[[nodiscard]] CellVerdict decide_open_cell_exactly(const Polyhedron& cell, const Rational& cap,
+                                                   const std::vector<std::size_t>& try_first = {});
 
 // Open plane cell (dim 2), exactly and without an LP: a facet point on some
 // constraint's line stepped inside, or, when no line has one, a Gordan certificate
 // on one line's support (lp/detail/oracle_line.cpp). nullopt when dim != 2 or no
 // certificate passes its exact check.
-[[nodiscard]] std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell);
+[[nodiscard]] std::optional<CellVerdict> decide_open_cell_on_lines(const Polyhedron& cell,
+                                                                  const std::vector<std::size_t>& try_first = {});
 
 // Open space cell (dim 3), exactly and without an LP: a facet point on some
 // constraint's plane (classify_group_on_plane's search) stepped inside, or a Gordan
 // certificate on one plane's Motzkin support with the plane's own constraint.
 // nullopt when dim != 3 or no certificate passes its exact check.
-[[nodiscard]] std::optional<CellVerdict> decide_open_cell_on_planes(const Polyhedron& cell);
+[[nodiscard]] std::optional<CellVerdict> decide_open_cell_on_planes(const Polyhedron& cell,
+                                                                   const std::vector<std::size_t>& try_first = {});
 
 // One facet group, exactly (in the plane first by classify_group_on_line, else cddlib).
-[[nodiscard]] FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group);
+// known_rows, when given, are the cell's integer rows (built on first use, shared by
+// the cell's queries).
+[[nodiscard]] FacetVerdict classify_group_exactly(const Polyhedron& cell, const std::vector<std::size_t>& group,
+                                                  LazyIntegerRows* known_rows = nullptr);
 
 // One facet group of a plane cell (dim 2), exactly and without an LP: the open
 // interval the other constraints leave on the group's line (lp/detail/oracle_line.cpp).
 // nullopt when dim != 2 or a certificate unexpectedly fails its exact check.
 [[nodiscard]]
 std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const std::vector<std::size_t>& group);
+[[nodiscard]]
+std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const std::vector<std::size_t>& group,
+                                                   const std::vector<IntegerRow>& rows);
 
 // One facet group of a space cell (dim 3), exactly and without an LP: the open
 // plane cell the other constraints leave on the group's plane, decided on its
@@ -156,6 +171,9 @@ std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const
 // support. nullopt when dim != 3 or a certificate unexpectedly fails its check.
 [[nodiscard]]
 std::optional<FacetVerdict> classify_group_on_plane(const Polyhedron& cell, const std::vector<std::size_t>& group);
+[[nodiscard]]
+std::optional<FacetVerdict> classify_group_on_plane(const Polyhedron& cell, const std::vector<std::size_t>& group,
+                                                    const std::vector<IntegerRow>& rows);
 
 // Boundedness, exactly.
 [[nodiscard]] BoundednessVerdict decide_boundedness_exactly(const Polyhedron& cell);

@@ -10,6 +10,7 @@
 #include "lp/detail/exact_lp.hpp"
 #include "lp/detail/exact_tools.hpp"
 #include "lp/detail/glpk_lp.hpp"
+#include "lp/detail/integer_rows.hpp"
 #include "lp/detail/working_rows.hpp"
 
 #include <algorithm>
@@ -115,12 +116,87 @@ bool is_facet_point(const Polyhedron& cell, const std::vector<std::size_t>& grou
   return true;
 }
 
+namespace {
+
+// The null space of sum_c x_c a_(indices[c]) = 0 over the caller's rows, by
+// minors of their integer rows (integer_rows.hpp): in the plane and in space
+// these small systems cost a few integer products where Gauss-Jordan over Q
+// reduced a fraction at every step. When it is a line: its spanning vector as
+// integer multipliers x on the caller's rows (integer row c is scale_c times the
+// caller's row), and sum_c x_c c_c, so that signs are decided before any
+// fraction is formed. undecided: more than a line, or too large; the caller
+// eliminates over Q instead (the same answer, slower).
+struct CallerNullSpace {
+  SmallNullSpace::Kind kind = SmallNullSpace::Kind::undecided;
+  std::vector<Integer> multipliers;
+  Integer offset_sum;
+};
+
+CallerNullSpace null_space_on_rows(const Polyhedron& cell, const std::vector<std::size_t>& indices,
+                                   LazyIntegerRows* known_rows) {
+  if (cell.dim > 3 || indices.size() > cell.dim + 1) return {};
+  std::vector<IntegerRow> own;
+  std::vector<const IntegerRow*> rows;
+  if (known_rows) {
+    for (std::size_t i : indices) rows.push_back(&known_rows->get()[i]);
+  } else {
+    own.reserve(indices.size());
+    for (std::size_t i : indices) own.push_back(integer_row(cell.constraints[i]));
+    for (const IntegerRow& row : own) rows.push_back(&row);
+  }
+  std::vector<const std::vector<Integer>*> columns;
+  for (const IntegerRow* row : rows) columns.push_back(&row->normal);
+  SmallNullSpace space = small_null_space(columns);
+  if (space.kind != SmallNullSpace::Kind::line) return CallerNullSpace{space.kind, {}, 0};
+  CallerNullSpace result{space.kind, std::move(space.vector), 0};
+  for (std::size_t c = 0; c < rows.size(); ++c) {
+    result.offset_sum += result.multipliers[c] * rows[c]->offset;  // x_c c_c = v_c (scale_c c_c)
+    result.multipliers[c] *= rows[c]->scale;
+  }
+  return result;
+}
+
+Rational quotient(const Integer& numerator, const Integer& denominator) {
+  Rational value(numerator, denominator);
+  value.canonicalize();
+  return value;
+}
+
+// x_c / divisor >= 0 for every c in [first, end): signs only.
+bool all_non_negative_over(const std::vector<Integer>& x, std::size_t first, std::size_t end, int divisor_sign) {
+  for (std::size_t c = first; c < end; ++c)
+    if (sgn(x[c]) * divisor_sign < 0) return false;
+  return true;
+}
+
+Integer sum_over(const std::vector<Integer>& x, std::size_t first, std::size_t end) {
+  Integer total = 0;
+  for (std::size_t c = first; c < end; ++c) total += x[c];
+  return total;
+}
+
+}  // namespace
+
 // Exact Gordan/Motzkin multipliers on a proposed support S: solve
 //   sum_{s in S} y_s a_s = 0,  sum_{s in S} y_s = 1
 // exactly, then require y >= 0 and sum y_s c_s <= 0.
 std::optional<EmptinessCertificate> emptiness_on_support(const Polyhedron& cell,
                                                          const std::vector<std::size_t>& support) {
   if (support.empty()) return std::nullopt;
+  const CallerNullSpace space = null_space_on_rows(cell, support, nullptr);
+  if (space.kind == SmallNullSpace::Kind::none) return std::nullopt;
+  if (space.kind == SmallNullSpace::Kind::line) {
+    // y = x / T with T = sum_s x_s: the line's one point with sum 1.
+    const Integer total = sum_over(space.multipliers, 0, support.size());
+    const int sign = sgn(total);
+    if (sign == 0 || !all_non_negative_over(space.multipliers, 0, support.size(), sign) ||
+        sgn(space.offset_sum) * sign > 0)
+      return std::nullopt;
+    EmptinessCertificate certificate{RationalVector(cell.constraints.size())};
+    for (std::size_t s = 0; s < support.size(); ++s)
+      certificate.multipliers[support[s]] = quotient(space.multipliers[s], total);
+    return certificate;
+  }
   RationalMatrix system(cell.dim + 1, support.size());
   RationalVector rhs(cell.dim + 1, Rational(0));
   for (std::size_t s = 0; s < support.size(); ++s) {
@@ -146,15 +222,31 @@ std::optional<EmptinessCertificate> emptiness_on_support(const Polyhedron& cell,
 //   mu a_j + sum_{s in S} y_s a_s = 0,  sum_{s in S} y_s = 1
 // exactly, then require y >= 0 and mu c_j + sum y_s c_s <= 0.
 std::optional<NonFacetCertificate> non_facet_on_support(const Polyhedron& cell, std::size_t representative,
-                                                        const std::vector<std::size_t>& support) {
+                                                        const std::vector<std::size_t>& support,
+                                                        LazyIntegerRows* known_rows) {
   if (support.empty()) return std::nullopt;
   const Constraint& rep = cell.constraints[representative];
+  std::vector<std::size_t> indices{representative};
+  indices.insert(indices.end(), support.begin(), support.end());
+  const CallerNullSpace space = null_space_on_rows(cell, indices, known_rows);
+  if (space.kind == SmallNullSpace::Kind::none) return std::nullopt;
+  if (space.kind == SmallNullSpace::Kind::line) {
+    // (mu, y) = x / T with T = sum over S of x_s.
+    const std::size_t end = indices.size();
+    const Integer total = sum_over(space.multipliers, 1, end);
+    const int sign = sgn(total);
+    if (sign == 0 || !all_non_negative_over(space.multipliers, 1, end, sign) || sgn(space.offset_sum) * sign > 0)
+      return std::nullopt;
+    NonFacetCertificate certificate{quotient(space.multipliers[0], total), RationalVector(cell.constraints.size())};
+    for (std::size_t s = 0; s < support.size(); ++s)
+      certificate.multipliers[support[s]] = quotient(space.multipliers[s + 1], total);
+    return certificate;
+  }
   RationalMatrix system(cell.dim + 1, support.size() + 1);
   RationalVector rhs(cell.dim + 1, Rational(0));
   for (std::size_t k = 0; k < cell.dim; ++k) system(k, 0) = rep.normal[k];
   for (std::size_t s = 0; s < support.size(); ++s) {
-    for (std::size_t k = 0; k < cell.dim; ++k)
-      system(k, s + 1) = cell.constraints[support[s]].normal[k];
+    for (std::size_t k = 0; k < cell.dim; ++k) system(k, s + 1) = cell.constraints[support[s]].normal[k];
     system(cell.dim, s + 1) = 1;
   }
   rhs[cell.dim] = 1;
@@ -175,9 +267,27 @@ std::optional<NonFacetCertificate> non_facet_on_support(const Polyhedron& cell, 
 // The redundancy form of the Motzkin certificate: a_j = sum_{s in S} y_s a_s
 // with y >= 0 and sum y_s c_s <= c_j (equality multiplier -1).
 std::optional<NonFacetCertificate> redundancy_on_support(const Polyhedron& cell, std::size_t representative,
-                                                         const std::vector<std::size_t>& support) {
+                                                         const std::vector<std::size_t>& support,
+                                                         LazyIntegerRows* known_rows) {
   if (support.empty()) return std::nullopt;
   const Constraint& rep = cell.constraints[representative];
+  std::vector<std::size_t> indices(support);
+  indices.push_back(representative);
+  const CallerNullSpace space = null_space_on_rows(cell, indices, known_rows);
+  if (space.kind == SmallNullSpace::Kind::none) return std::nullopt;
+  if (space.kind == SmallNullSpace::Kind::line) {
+    // sum_s x_s a_s + x_j a_j = 0, so a_j = sum_s (x_s / -x_j) a_s, and
+    // sum_s y_s c_s - c_j = (sum_c x_c c_c) / -x_j.
+    const Integer divisor = -space.multipliers.back();
+    const int sign = sgn(divisor);
+    if (sign == 0 || !all_non_negative_over(space.multipliers, 0, support.size(), sign) ||
+        sgn(space.offset_sum) * sign > 0)
+      return std::nullopt;
+    NonFacetCertificate certificate{Rational(-1), RationalVector(cell.constraints.size())};
+    for (std::size_t s = 0; s < support.size(); ++s)
+      certificate.multipliers[support[s]] = quotient(space.multipliers[s], divisor);
+    return certificate;
+  }
   RationalMatrix system(cell.dim, support.size());
   for (std::size_t s = 0; s < support.size(); ++s)
     for (std::size_t k = 0; k < cell.dim; ++k) system(k, s) = cell.constraints[support[s]].normal[k];

@@ -16,6 +16,8 @@
 
 #include <gtest/gtest.h>
 
+#include <optional>
+#include <utility>
 #include <vector>
 
 namespace pleat {
@@ -196,6 +198,58 @@ TEST(KernelCheck, FirstRejectedRegionEqualsTheExactProductsOne) {
       }
   }
   EXPECT_GT(compared, 20u);
+}
+
+// The check computes, per prime, only the layer inputs and backward signals
+// its vectors' columns need (enumerate/detail/kernel_check.cpp), over the
+// neurons that pass on each region. Vectors supported in one layer (a unit
+// vector at every column, alone and beside one with entries of hundreds of
+// bits, so that later primes check it alone), and a pair spanning the first
+// and the last layer, name the same first region as exact products with
+// coefficient_blocks; so do the same vectors in a network with two outputs
+// and one with a ReLU on its output.
+TEST(KernelCheck, VectorsInOneLayerNameTheExactProductsFirstRegion) {
+  std::vector<Network> networks = {random_network({2, 4, 3, 3, 1}, 31), random_network({2, 3, 3, 2}, 14)};
+  networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/tests/data/output_relu2d.json"));
+  std::size_t compared = 0, rejected = 0;
+  for (const Network& network : networks) {
+    const WalkState state = walk_state(network);
+    std::vector<RationalMatrix> blocks;
+    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    auto exact_first = [&](const RationalMatrix& vectors) -> std::optional<std::size_t> {
+      for (std::size_t p = 0; p < blocks.size(); ++p)
+        for (std::size_t v = 0; v < vectors.rows(); ++v)
+          for (std::size_t r = 0; r < blocks[p].rows(); ++r) {
+            Rational sum = 0;
+            for (std::size_t c = 0; c < vectors.cols(); ++c) sum += blocks[p](r, c) * vectors(v, c);
+            if (sum != 0) return p;
+          }
+      return std::nullopt;
+    };
+    const std::size_t columns = network.parametric_dimension();
+    const Rational huge(Integer("1") << 300, 3);  // about 300 bits: several primes beyond the first
+    for (std::size_t c = 0; c < columns; ++c) {
+      RationalMatrix unit(1, columns);
+      unit(0, c) = 1;
+      RationalMatrix with_large = unit;
+      RationalVector large(columns, Rational(0));
+      large[c] = huge;
+      if (c + 1 < columns) large[c + 1] = 1;
+      with_large.append_row(std::move(large));
+      for (const RationalMatrix& vectors : {unit, with_large}) {
+        const auto first = first_region_not_annihilated(network, vectors, state.smooth);
+        EXPECT_EQ(first, exact_first(vectors)) << "column " << c;
+        rejected += first.has_value();
+        ++compared;
+      }
+    }
+    RationalMatrix ends(1, columns);  // the first parameter and the last
+    ends(0, 0) = huge;
+    ends(0, columns - 1) = 1;
+    EXPECT_EQ(first_region_not_annihilated(network, ends, state.smooth), exact_first(ends));
+  }
+  EXPECT_GT(compared, 60u);
+  EXPECT_GT(rejected, 40u);
 }
 
 }  // namespace
