@@ -132,7 +132,9 @@ double to_double(const Rational& value) {
 
 Rational rational_from_double(double value) {
   if (!std::isfinite(value)) throw input_error("not a finite number (NaN or infinity)");
-  return Rational(value);  // mpq_set_d is exact: every finite double is dyadic
+  Rational exact;
+  mpq_set_d(exact.get_mpq_t(), value);  // exact: every finite double is dyadic
+  return exact;
 }
 
 DoubleVector to_double(const RationalVector& values) {

@@ -97,7 +97,7 @@ Rational simplest_between(const Rational& low, const Rational& high) {
 // First continued-fraction convergent within radius (64-bit integers), else
 // the simplest rational in the interval.
 Rational short_rational_near(double value, double radius) {
-  if (!(radius > 0.0)) return Rational(value);
+  if (!(radius > 0.0)) return rational_from_double(value);
   constexpr double limit = 0x1p52;  // convergents stay exact in double and in 64 bits
   if (std::fabs(value) < limit) {
     long h = 1, h_before = 0, k = 0, k_before = 1;
@@ -121,7 +121,7 @@ Rational short_rational_near(double value, double radius) {
       rest = 1.0 / fraction;
     }
   }
-  return simplest_between(Rational(value - radius), Rational(value + radius));
+  return simplest_between(rational_from_double(value - radius), rational_from_double(value + radius));
 }
 
 }  // namespace pleat::lp::detail

@@ -182,10 +182,10 @@ TEST(Evaluate, DoublePassAgreesWithTheExactOne) {
     RationalVector x{numbers.small_rational(), numbers.small_rational()};
     const Evaluation exact = evaluate_exact(network, x);
     const EvaluationDouble approximate =
-        evaluate_double(as_double, {x[0].get_d(), x[1].get_d()});
+        evaluate_double(as_double, to_double(x));
     for (std::size_t i = 0; i < exact.output.size(); ++i)
-      EXPECT_NEAR(approximate.output[i], exact.output[i].get_d(),
-                  1e-12 * (1 + std::abs(exact.output[i].get_d())));
+      EXPECT_NEAR(approximate.output[i], to_double(exact.output[i]),
+                  1e-12 * (1 + std::abs(to_double(exact.output[i]))));
   }
 }
 

@@ -131,7 +131,7 @@ std::pair<double, double> weight_moments(const Network& network) {
   const double count = static_cast<double>(layer.weights.rows() * layer.weights.cols());
   for (std::size_t r = 0; r < layer.weights.rows(); ++r)
     for (std::size_t c = 0; c < layer.weights.cols(); ++c) {
-      const double w = layer.weights(r, c).get_d();
+      const double w = to_double(layer.weights(r, c));
       sum += w;
       sum_squares += w * w;
     }

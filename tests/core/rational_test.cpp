@@ -123,5 +123,30 @@ TEST(Doubles, ToDoubleRoundsToNearest) {
   EXPECT_EQ(converted[1], -3.0);
 }
 
+// What Rational keeps of mpq_class (its refusals of doubles are compile-time
+// checks: tests/core/rational_refuses_double/).
+TEST(RationalType, IntegersExpressionsAndMpqInteropStillWork) {
+  const Rational third(1, 3);
+  EXPECT_EQ(third * 2 + 1, fraction(5, 3));  // integer operands reach gmpxx's exact overloads
+  EXPECT_TRUE(third > 0 && third < 1 && 2 * third != 1);
+  Rational sum = third + fraction(1, 6);  // a gmpxx expression
+  EXPECT_EQ(sum, fraction(1, 2));
+  sum += 1;
+  EXPECT_EQ(sum, fraction(3, 2));
+  const mpq_class base(5, 7);
+  Rational from_base = base;  // a function of gmpxx returning mpq_class
+  EXPECT_EQ(from_base, fraction(5, 7));
+  mpq_t raw;
+  mpq_init(raw);
+  mpq_set(raw, third.get_mpq_t());
+  EXPECT_EQ(Rational(raw), third);
+  mpq_clear(raw);
+  EXPECT_EQ(Rational("-2/3"), fraction(-2, 3));  // gmpxx does not canonicalise strings
+  Rational a(1), b(2);
+  swap(a, b);  // Rational's own swap (mpq_swap)
+  EXPECT_EQ(a, Rational(2));
+  EXPECT_EQ(b, Rational(1));
+}
+
 }  // namespace
 }  // namespace pleat

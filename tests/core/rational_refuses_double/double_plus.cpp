@@ -1,0 +1,12 @@
+// Refused: a double plus a Rational (x + r).
+// Compiled twice by ctest (CMakeLists.txt here): as it is, it must compile
+// (the allowed form); with -DPLEAT_REFUSED it must not.
+#include "core/rational.hpp"
+
+void form(const pleat::Rational& r, double x) {
+#ifdef PLEAT_REFUSED
+  pleat::Rational y = x + r; (void)y;
+#else
+  pleat::Rational y = pleat::rational_from_double(x) + r; (void)y;
+#endif
+}
