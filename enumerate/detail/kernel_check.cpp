@@ -186,11 +186,68 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
   }
 }
 
+// Each parameter's place in the network, in parameter order
+// (Network::parameter_offset): layer k's weights row by row, then its bias.
+struct ParameterRole {
+  static constexpr std::size_t bias = static_cast<std::size_t>(-1);
+  std::size_t layer, neuron, input;
+};
+
+std::vector<ParameterRole> parameter_roles(const ModularNetwork& network) {
+  std::vector<ParameterRole> roles;
+  for (std::size_t k = 0; k < network.weights.size(); ++k) {
+    const ModularMatrix& weights = network.weights[k];
+    for (std::size_t i = 0; i < weights.rows(); ++i)
+      for (std::size_t j = 0; j < weights.cols(); ++j) roles.push_back({k, i, j});
+    for (std::size_t i = 0; i < weights.rows(); ++i) roles.push_back({k, i, ParameterRole::bias});
+  }
+  return roles;
+}
+
 }  // namespace
 
+void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern& pattern,
+                         const std::vector<std::size_t>& rows, const std::vector<char>& wanted, ModularMatrix& out,
+                         std::size_t first_out_row) {
+  const std::vector<ParameterRole> roles = parameter_roles(network);
+  std::vector<std::size_t> columns;
+  std::size_t forward_to = 0, backward_to = network.weights.size();
+  for (std::size_t c = 0; c < roles.size(); ++c)
+    if (wanted[c]) {
+      columns.push_back(c);
+      if (roles[c].input != ParameterRole::bias) forward_to = std::max(forward_to, roles[c].layer);
+      backward_to = std::min(backward_to, roles[c].layer);
+    }
+  if (columns.empty()) return;
+  thread_local RegionFactors factors;
+  region_factors(network, pattern, forward_to, backward_to, factors);
+  const std::uint64_t prime = network.prime, inverse = n_preinvert_limb(prime);
+  const std::size_t n0 = network.input_dim;
+  for (std::size_t r = 0; r < rows.size(); ++r) {
+    const std::size_t o = rows[r] / (n0 + 1), t = rows[r] % (n0 + 1);  // row o(n0+1): offsets, then slope t-1
+    for (std::size_t c : columns) {
+      const ParameterRole& role = roles[c];
+      const std::size_t width = network.weights[role.layer].rows();
+      const std::uint64_t g = factors.signal[role.layer][o * width + role.neuron];
+      std::uint64_t value = 0;
+      if (role.input == ParameterRole::bias)
+        value = t == 0 ? g : 0;
+      else if (g != 0)
+        value = n_mulmod2_preinv(g,
+                                 t == 0 ? factors.offset[role.layer][role.input]
+                                        : factors.linear[role.layer][role.input * n0 + (t - 1)],
+                                 prime, inverse);
+      out(first_out_row + r, c) = value;
+    }
+  }
+}
+
 CheckScale::CheckScale(const Network& network) : bounds(coefficient_bounds(network)) {
+  // Every entry is a sum of products of at most depth - 1 parameters (one
+  // per layer but its own column's) with integer coefficients: L^(depth-1)
+  // clears every denominator.
   const Integer lcm = denominator_lcm(network);
-  for (std::size_t k = 0; k < network.depth(); ++k) scale *= lcm;
+  for (std::size_t k = 1; k < network.depth(); ++k) scale *= lcm;
 }
 
 AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatrix& vectors,

@@ -21,9 +21,9 @@
 namespace pleat::detail {
 
 // What the check's bound needs from the network alone: B with |row_c| <= B_c
-// for every coefficient-block row of every pattern, and L^d (L the lcm of the
-// parameters' denominators, d the depth). Computed once, shared by every
-// candidate checked. Exact.
+// for every coefficient-block row of every pattern, and L^(d-1) (L the lcm of
+// the parameters' denominators, d the depth), which clears every entry's
+// denominators. Computed once, shared by every candidate checked. Exact.
 struct CheckScale {
   RationalVector bounds;
   Integer scale = 1;
@@ -32,9 +32,10 @@ struct CheckScale {
 
 // A deterministic exact test that given vectors annihilate a pattern's
 // coefficient-block rows, in word arithmetic. Each vector is scaled to a
-// primitive integer vector e. For a row of the blocks, N = L^d (row . e) is
-// an integer (entries are polynomials of degree < d in theta with integer
-// coefficients) and |N| <= L^d sum_c B_c |e_c|. N = 0 modulo primes whose
+// primitive integer vector e. For a row of the blocks, N = L^(d-1) (row . e)
+// is an integer (entries are sums of products of at most d - 1 parameters,
+// one from each layer but the column's own, with integer coefficients) and
+// |N| <= L^(d-1) sum_c B_c |e_c|. N = 0 modulo primes whose
 // product exceeds that bound proves N = 0; the first prime also screens out
 // failures quickly.
 class AnnihilationCheck {
@@ -69,6 +70,15 @@ class AnnihilationCheck {
   std::vector<ColumnRole> columns_;  // parameter order (Network::parameter_offset)
   std::vector<Modulus> moduli_;
 };
+
+// Rows `rows` of a pattern's coefficient blocks modulo the network's prime,
+// at the columns marked in `wanted` only (size D): written to out's rows
+// first_out_row, first_out_row + 1, ... at those columns, the other entries
+// left as they are. Equal there to coefficient_blocks_mod, from the check's
+// layer inputs and backward signals (only the layers those columns need).
+void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern& pattern,
+                         const std::vector<std::size_t>& rows, const std::vector<char>& wanted, ModularMatrix& out,
+                         std::size_t first_out_row);
 
 // The smallest index of a pattern the check rejects, checked on `threads`
 // threads (the answer does not depend on their number), or nullopt when all

@@ -125,25 +125,37 @@ struct RowLift {
 };
 
 // The kept rows modulo the network's prime, r x D (coefficient_blocks_mod of
-// each kept region), or only those that `needed` marks (the others stay 0).
+// each kept region), or only the rows that `needed` marks at the columns
+// `columns_needed` marks (the other entries stay 0); the regions on up to
+// `threads` threads (each writes its own rows).
 ModularMatrix kept_rows_modulo(const ModularNetwork& network, const std::vector<KeptRows>& kept, std::size_t rank,
-                               std::size_t columns, const std::vector<char>* needed = nullptr) {
+                               std::size_t columns, unsigned threads, const std::vector<char>* needed = nullptr,
+                               const std::vector<char>* columns_needed = nullptr) {
   ModularMatrix out(rank, columns);
+  std::vector<std::size_t> first_row(kept.size());  // of each region in out
+  std::vector<std::size_t> regions;                  // the needed ones
   std::size_t r = 0;
-  for (const KeptRows& region : kept) {
+  for (std::size_t k = 0; k < kept.size(); ++k) {
+    first_row[k] = r;
     bool is_needed = needed == nullptr;
-    for (std::size_t i = 0; i < region.rows.size() && !is_needed; ++i) is_needed = (*needed)[r + i] != 0;
-    if (!is_needed) {
-      r += region.rows.size();
-      continue;
-    }
-    poll_stop();
-    const ModularMatrix blocks = coefficient_blocks_mod(network, region.pattern);
-    for (std::size_t row : region.rows) {
-      for (std::size_t c = 0; c < columns; ++c) out(r, c) = blocks(row, c);
-      ++r;
-    }
+    for (std::size_t i = 0; i < kept[k].rows.size() && !is_needed; ++i) is_needed = (*needed)[r + i] != 0;
+    if (is_needed) regions.push_back(k);
+    r += kept[k].rows.size();
   }
+  parallel_for(regions.size(), threads, [&](std::size_t n) {
+    poll_stop();
+    const KeptRows& region = kept[regions[n]];
+    if (columns_needed) {  // from the layer inputs and signals those columns need
+      coefficient_rows_at(network, region.pattern, region.rows, *columns_needed, out, first_row[regions[n]]);
+      return;
+    }
+    const ModularMatrix blocks = coefficient_blocks_mod(network, region.pattern);
+    std::size_t row_out = first_row[regions[n]];
+    for (std::size_t row : region.rows) {
+      for (std::size_t c = 0; c < columns; ++c) out(row_out, c) = blocks(row, c);
+      ++row_out;
+    }
+  });
   return out;
 }
 
@@ -249,35 +261,63 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
                                                                   std::size_t sparse_limit, unsigned threads) {
   constexpr std::size_t max_primes = 4096;
   const std::size_t columns = image.cols();
-  const ModularMatrix walk_rows = kept_rows_modulo(walk_network, kept, rank, columns);
+  const ModularMatrix walk_rows = kept_rows_modulo(walk_network, kept, rank, columns, threads);
   std::vector<RowLift> lifts = row_groups(image, rows, leading, rank, sparse_limit);
-  for (RowLift& lift : lifts) {
-    auto equations = independent_rows(walk_rows, lift.support, walk_network.prime);
-    if (!equations) return std::nullopt;
-    lift.equations = std::move(*equations);
+  std::vector<std::optional<std::vector<std::size_t>>> equations(lifts.size());
+  parallel_for(lifts.size(), threads,
+               [&](std::size_t i) { equations[i] = independent_rows(walk_rows, lifts[i].support, walk_network.prime); });
+  for (std::size_t i = 0; i < lifts.size(); ++i) {
+    if (!equations[i]) return std::nullopt;
+    lifts[i].equations = std::move(*equations[i]);
     // Further primes only: an image modulo the walk's prime that is wrong
     // (an unlucky prime) would keep every reconstruction from settling.
-    lift.images = std::make_unique<RationalReconstruction>(lift.rows.size(), lift.support.size());
+    lifts[i].images = std::make_unique<RationalReconstruction>(lifts[i].rows.size(), lifts[i].support.size());
   }
-  for (std::size_t index = 0, used = 0; used < max_primes; ++index) {
+  // Primes are taken in batches of `threads`, each prime's kept rows and
+  // images on its own thread (a batch of one: its regions and rows on every
+  // thread). The images are then added in prime order to the rows still
+  // open, so the reconstructions, and the prime at which each settles, are
+  // those of one prime at a time: the same for any thread count.
+  const std::size_t batch = std::max(1u, threads);
+  for (std::size_t index = 0, used = 0; used < max_primes;) {
     poll_stop();
     std::vector<std::size_t> open;
     for (std::size_t i = 0; i < lifts.size(); ++i)
       if (!lifts[i].is_stable) open.push_back(i);
     if (open.empty()) break;
-    const std::uint64_t prime = prime_sequence(index);
-    if (prime == walk_network.prime) continue;
-    const std::optional<ModularNetwork> reduced = reduce_modulo(network, prime);
-    if (!reduced) continue;  // the prime divides a denominator
-    ++used;
-    std::vector<char> needed(rank, 0);  // the open rows' equations: late primes need few regions
-    for (std::size_t i : open)
+    std::vector<std::pair<std::uint64_t, ModularNetwork>> primes;
+    for (; primes.size() < batch && used < max_primes; ++index) {
+      const std::uint64_t prime = prime_sequence(index);
+      if (prime == walk_network.prime) continue;
+      std::optional<ModularNetwork> reduced = reduce_modulo(network, prime);
+      if (!reduced) continue;  // the prime divides a denominator
+      primes.emplace_back(prime, std::move(*reduced));
+      ++used;
+    }
+    // The open rows' equations at their supports and leads: late primes
+    // need few regions, and each region only those columns.
+    std::vector<char> needed(rank, 0), columns_needed(columns, 0);
+    for (std::size_t i : open) {
       for (std::size_t r : lifts[i].equations) needed[r] = 1;
-    const ModularMatrix prime_rows = kept_rows_modulo(*reduced, kept, rank, columns, &needed);
-    std::vector<std::optional<ModularMatrix>> images(open.size());
-    parallel_for(open.size(), threads, [&](std::size_t o) { images[o] = row_image(lifts[open[o]], prime_rows, prime); });
-    for (std::size_t o = 0; o < open.size(); ++o)
-      if (images[o]) add_row_image(lifts[open[o]], *images[o], prime);
+      for (std::size_t c : lifts[i].support) columns_needed[c] = 1;
+      for (std::size_t c : lifts[i].leads) columns_needed[c] = 1;
+    }
+    std::vector<std::vector<std::optional<ModularMatrix>>> images(primes.size());
+    auto images_modulo = [&](std::size_t p, unsigned inner_threads) {
+      const auto& [prime, reduced] = primes[p];
+      const ModularMatrix prime_rows =
+          kept_rows_modulo(reduced, kept, rank, columns, inner_threads, &needed, &columns_needed);
+      images[p].resize(open.size());
+      parallel_for(open.size(), inner_threads,
+                   [&](std::size_t o) { images[p][o] = row_image(lifts[open[o]], prime_rows, prime); });
+    };
+    if (primes.size() == 1)
+      images_modulo(0, threads);
+    else
+      parallel_for(primes.size(), threads, [&](std::size_t p) { images_modulo(p, 1); });
+    for (std::size_t p = 0; p < primes.size(); ++p)
+      for (std::size_t o = 0; o < open.size(); ++o)
+        if (images[p][o] && !lifts[open[o]].is_stable) add_row_image(lifts[open[o]], *images[p][o], primes[p].first);
   }
   std::vector<RationalVector> out(image.rows());
   for (const RowLift& lift : lifts) {
@@ -433,27 +473,43 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
   for (std::size_t q = 0; q < columns; ++q) position[order[q]] = q;
   // The kernel read off the basis (row i: 1 at pivot_i, 0 at the other
   // pivots): for each other column f, e_f minus column f at the pivots.
+  // A column f no kept row touches gives e_f itself; outside Q it is a row
+  // of E as it stands (most extra directions of a random network: a
+  // parameter no region depends on), and every other kernel vector is 0 at
+  // f, so those are set aside and only the rest is eliminated.
   std::vector<char> is_pivot(columns, 0);
   for (std::size_t c : pivots) is_pivot[c] = 1;
-  ModularMatrix kernel(columns - pivots.size(), columns);  // in the permuted order
-  std::size_t k = 0;
+  std::vector<std::size_t> eliminated, untouched;  // the other columns: eliminated; e_f as it stands
   for (std::size_t f = 0; f < columns; ++f) {
     if (is_pivot[f]) continue;
+    bool is_touched = is_scaling[f] != 0;
+    for (std::size_t i = 0; i < pivots.size() && !is_touched; ++i) is_touched = rows(i, f) != 0;
+    (is_touched ? eliminated : untouched).push_back(f);
+  }
+  ModularMatrix kernel(eliminated.size(), columns);  // in the permuted order
+  for (std::size_t k = 0; k < eliminated.size(); ++k) {
     poll_stop();
+    const std::size_t f = eliminated[k];
     kernel(k, position[f]) = 1;
     for (std::size_t i = 0; i < pivots.size(); ++i)
       if (rows(i, f) != 0) kernel(k, position[pivots[i]]) = prime - rows(i, f);
-    ++k;
   }
   // Its reduced echelon form with Q first: the rows led outside Q vanish on
-  // Q and are E's canonical basis (reduced on the other columns in order).
+  // Q and are E's canonical basis (reduced on the other columns in order),
+  // merged by leading column with the untouched unit rows.
   const ModularMatrix echelon = row_space_basis_modulo(kernel, prime);
   const std::vector<std::size_t> leads = echelon_shape(echelon);  // permuted positions
   std::size_t first = 0;
   while (first < echelon.rows() && is_scaling[order[leads[first]]]) ++first;
-  ModularMatrix extra(echelon.rows() - first, columns);
-  for (std::size_t r = first; r < echelon.rows(); ++r)
-    for (std::size_t q = 0; q < columns; ++q) extra(r - first, order[q]) = echelon(r, q);
+  ModularMatrix extra(echelon.rows() - first + untouched.size(), columns);
+  std::size_t next_unit = 0, out = 0;
+  for (std::size_t r = first; r <= echelon.rows(); ++r) {
+    const std::size_t lead = r < echelon.rows() ? order[leads[r]] : columns;
+    for (; next_unit < untouched.size() && untouched[next_unit] < lead; ++next_unit) extra(out++, untouched[next_unit]) = 1;
+    if (r == echelon.rows()) break;
+    for (std::size_t q = 0; q < columns; ++q) extra(out, order[q]) = echelon(r, q);
+    ++out;
+  }
   return extra;
 }
 

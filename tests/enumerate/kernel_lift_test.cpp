@@ -252,5 +252,85 @@ TEST(KernelCheck, VectorsInOneLayerNameTheExactProductsFirstRegion) {
   EXPECT_GT(rejected, 40u);
 }
 
+// The premises of the check's bound (detail::CheckScale): on every smooth
+// region of networks with decimal and sevenths' denominators, L^(d-1) times
+// every coefficient-block entry is an integer and |entry| <= B_c, and the
+// scale is no larger than that (with L^(d-2) some entry is not an integer).
+TEST(KernelCheck, TheScaleClearsEveryEntrysDenominatorAndTheBoundsHold) {
+  for (const Network& network : {random_network({2, 4, 3, 1}, 11), random_network({2, 3, 3, 2}, 14),
+                                 random_network({2, 3, 3, 3, 1}, 41), scaled_degenerate()}) {
+    const detail::CheckScale check_scale(network);
+    const WalkState state = walk_state(network);
+    Integer lcm = 1;
+    for (const Layer& layer : network.layers) {
+      for (std::size_t r = 0; r < layer.weights.rows(); ++r)
+        for (std::size_t c = 0; c < layer.weights.cols(); ++c)
+          mpz_lcm(lcm.get_mpz_t(), lcm.get_mpz_t(), layer.weights(r, c).get_den_mpz_t());
+      for (const Rational& b : layer.bias) mpz_lcm(lcm.get_mpz_t(), lcm.get_mpz_t(), b.get_den_mpz_t());
+    }
+    Integer expected = 1;
+    for (std::size_t k = 1; k < network.depth(); ++k) expected *= lcm;
+    EXPECT_EQ(check_scale.scale, expected);
+    const Rational smaller(check_scale.scale, lcm);
+    bool smaller_fails = false;
+    for (const ActivationPattern& pattern : state.smooth) {
+      const RationalMatrix blocks = coefficient_blocks(network, pattern);
+      for (std::size_t r = 0; r < blocks.rows(); ++r)
+        for (std::size_t c = 0; c < blocks.cols(); ++c) {
+          const Rational scaled = blocks(r, c) * Rational(check_scale.scale);
+          ASSERT_EQ(scaled.get_den(), 1) << "row " << r << " column " << c;
+          EXPECT_LE(abs(blocks(r, c)), check_scale.bounds[c]);
+          smaller_fails = smaller_fails || Rational(blocks(r, c) * smaller).get_den() != 1;
+        }
+    }
+    EXPECT_TRUE(smaller_fails);
+  }
+}
+
+// The lift's rows modulo further primes come from the check's factors at the
+// columns its open rows use (detail::coefficient_rows_at): equal there to
+// coefficient_blocks_mod on every smooth region, for every row and for
+// column sets within one layer, across layers, and every column, on a
+// network with two outputs and one with a ReLU on its output; the other
+// entries are left as they were.
+TEST(KernelCheck, RowsAtSomeColumnsEqualTheModularBlocks) {
+  std::vector<Network> networks = {random_network({2, 4, 3, 3, 1}, 31), random_network({3, 3, 3, 2}, 14)};
+  networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/tests/data/output_relu2d.json"));
+  std::size_t compared = 0;
+  for (const Network& network : networks) {
+    const ModularNetwork modular = reduce_modulo_some_prime(network, prime_sequence(3));
+    const std::size_t columns = network.parametric_dimension();
+    std::vector<std::vector<char>> column_sets;
+    for (std::size_t k = 0; k < network.depth(); ++k) {  // one layer's parameters
+      std::vector<char> wanted(columns, 0);
+      const std::size_t end = k + 1 < network.depth() ? network.parameter_offset(k + 1) : columns;
+      for (std::size_t c = network.parameter_offset(k); c < end; ++c) wanted[c] = 1;
+      column_sets.push_back(wanted);
+    }
+    std::vector<char> every_third(columns, 0), all(columns, 1);
+    for (std::size_t c = 1; c < columns; c += 3) every_third[c] = 1;
+    column_sets.push_back(every_third);
+    column_sets.push_back(all);
+    for (const ActivationPattern& pattern : walk_state(network).smooth) {
+      const ModularMatrix blocks = coefficient_blocks_mod(modular, pattern);
+      std::vector<std::size_t> rows(blocks.rows());
+      for (std::size_t r = 0; r < rows.size(); ++r) rows[r] = r;
+      for (const std::vector<char>& wanted : column_sets) {
+        ModularMatrix out(rows.size() + 1, columns);
+        for (std::size_t r = 0; r < out.rows(); ++r)
+          for (std::size_t c = 0; c < columns; ++c) out(r, c) = 7;
+        detail::coefficient_rows_at(modular, pattern, rows, wanted, out, 1);
+        for (std::size_t c = 0; c < columns; ++c) {
+          EXPECT_EQ(out(0, c), 7u);
+          for (std::size_t r = 0; r < rows.size(); ++r)
+            EXPECT_EQ(out(r + 1, c), wanted[c] ? blocks(r, c) : 7u) << "row " << r << " column " << c;
+        }
+        ++compared;
+      }
+    }
+  }
+  EXPECT_GT(compared, 30u);
+}
+
 }  // namespace
 }  // namespace pleat
