@@ -23,11 +23,16 @@
 
 #include <cstdlib>
 #include <optional>
+#include <span>
 #include <vector>
 
 namespace pleat::lp::detail {
 
 namespace {
+
+// Integer rows as the plane search sees them: a cell's own, or a reused buffer's
+// first entries (the plane cell left on one constraint's plane).
+using Rows = std::span<const IntegerRow>;
 
 std::size_t largest_integer_entry(const std::vector<Integer>& normal) {
   std::size_t best = 0;
@@ -39,18 +44,24 @@ std::size_t largest_integer_entry(const std::vector<Integer>& normal) {
 // Row i restricted to row j's hyperplane, in the coordinates other than `solved`
 // (x[solved] eliminated): sigma (a_js a_i - a_is a_j) over the free coordinates
 // and offsets, sigma = sign(a_js); a positive multiple of row i's restriction.
-IntegerRow restricted(const IntegerRow& row, const IntegerRow& rep, std::size_t solved) {
-  const Integer& pivot = rep.normal[solved];
-  const Integer& factor = row.normal[solved];
-  IntegerRow result;
-  for (std::size_t k = 0; k < row.normal.size(); ++k)
-    if (k != solved) result.normal.push_back(pivot * row.normal[k] - factor * rep.normal[k]);
-  result.offset = pivot * row.offset - factor * rep.offset;
-  if (sgn(pivot) < 0) {
-    for (Integer& value : result.normal) value = -value;
-    result.offset = -result.offset;
+// Written into `out`, whose integers keep their storage between calls.
+void restrict_into(IntegerRow& out, const IntegerRow& row, const IntegerRow& rep, std::size_t solved) {
+  const mpz_srcptr pivot = rep.normal[solved].get_mpz_t();
+  const mpz_srcptr factor = row.normal[solved].get_mpz_t();
+  out.normal.resize(row.normal.size() - 1);
+  for (std::size_t k = 0, f = 0; k < row.normal.size(); ++k) {
+    if (k == solved) continue;
+    mpz_mul(out.normal[f].get_mpz_t(), pivot, row.normal[k].get_mpz_t());
+    mpz_submul(out.normal[f].get_mpz_t(), factor, rep.normal[k].get_mpz_t());
+    ++f;
   }
-  return result;
+  mpz_mul(out.offset.get_mpz_t(), pivot, row.offset.get_mpz_t());
+  mpz_submul(out.offset.get_mpz_t(), factor, rep.offset.get_mpz_t());
+  out.scale = 1;
+  if (mpz_sgn(pivot) < 0) {
+    for (Integer& value : out.normal) mpz_neg(value.get_mpz_t(), value.get_mpz_t());
+    mpz_neg(out.offset.get_mpz_t(), out.offset.get_mpz_t());
+  }
 }
 
 bool is_zero(const std::vector<Integer>& values) {
@@ -93,7 +104,7 @@ Rational short_inside(const std::optional<Fraction>& low, const std::optional<Fr
 
 // is_member[i]: row i is in row j's group (a positive multiple of j); a positive
 // multiple left out of is_member is recognised on the way.
-LineInterval line_interval(const std::vector<IntegerRow>& rows, std::size_t j, const std::vector<bool>& is_member) {
+LineInterval line_interval(Rows rows, std::size_t j, const std::vector<bool>& is_member) {
   const IntegerRow& rep = rows[j];
   const std::size_t solved = largest_integer_entry(rep.normal);
   const std::size_t free = 1 - solved;
@@ -113,7 +124,7 @@ LineInterval line_interval(const std::vector<IntegerRow>& rows, std::size_t j, c
   };
   for (std::size_t i = 0; i < rows.size(); ++i) {
     if (is_member[i]) continue;
-    // Row i on the line as alpha s + beta (times |a_js|): restricted() without a row.
+    // Row i on the line as alpha s + beta (times |a_js|): restrict_into() without a row.
     const IntegerRow& row = rows[i];
     const mpz_srcptr factor = row.normal[solved].get_mpz_t();
     mpz_mul(alpha.get_mpz_t(), pivot, row.normal[free].get_mpz_t());
@@ -135,13 +146,17 @@ LineInterval line_interval(const std::vector<IntegerRow>& rows, std::size_t j, c
     if (direction > 0) {
       mpz_neg(beta.get_mpz_t(), beta.get_mpz_t());
       if (!low || compare(beta, alpha, *low) > 0) {
-        low = Fraction{beta, alpha};
+        if (!low) low.emplace();
+        low->p.swap(beta);  // swaps, not copies: alpha and beta are rewritten next row
+        low->q.swap(alpha);
         lower = i;
       }
     } else {
       mpz_neg(alpha.get_mpz_t(), alpha.get_mpz_t());
       if (!high || compare(beta, alpha, *high) < 0) {
-        high = Fraction{beta, alpha};
+        if (!high) high.emplace();
+        high->p.swap(beta);
+        high->q.swap(alpha);
         upper = i;
       }
     }
@@ -168,7 +183,7 @@ Rational row_slack(const IntegerRow& row, const RationalVector& x) {
 
 // Every row's slack at the point times the point's common denominator (> 0, so
 // the signs are the slacks' signs): integer products only.
-std::vector<Integer> scaled_slacks(const std::vector<IntegerRow>& rows, const ScaledPoint& x) {
+std::vector<Integer> scaled_slacks(Rows rows, const ScaledPoint& x) {
   std::vector<Integer> slacks(rows.size());
   for (std::size_t i = 0; i < rows.size(); ++i) {
     slacks[i] = rows[i].offset * x.denominator;
@@ -182,38 +197,61 @@ std::vector<Integer> scaled_slacks(const std::vector<IntegerRow>& rows, const Sc
 // zero (at most half way), then rounded to short coordinates within half the
 // smallest slack-to-norm ratio (which keeps every slack positive). nullopt if a
 // slack is not positive.
-std::optional<RationalVector> step_inside(const std::vector<IntegerRow>& rows, std::size_t j,
+std::optional<RationalVector> step_inside(Rows rows, std::size_t j,
                                           const RationalVector& on_plane) {
   const std::vector<Integer>& a_j = rows[j].normal;
   const ScaledPoint start(on_plane);
-  const std::vector<Integer> slacks = scaled_slacks(rows, start);
+  const Integer& d = start.denominator;
+  // Slacks at the start times d, and each row's rate a_i . a_j along a_j.
+  std::vector<Integer> slacks = scaled_slacks(rows, start);
+  std::vector<Integer> along(rows.size());
   // e = min(1, min over falling rows of slack_i / (-2 a_i . a_j)) = limit.p / limit.q.
   Fraction limit{1, 1};
-  Integer along;
+  Fraction candidate;
   for (std::size_t i = 0; i < rows.size(); ++i) {
-    along = 0;
-    for (std::size_t k = 0; k < a_j.size(); ++k) along += rows[i].normal[k] * a_j[k];
-    if (sgn(along) >= 0) continue;
+    for (std::size_t k = 0; k < a_j.size(); ++k)
+      mpz_addmul(along[i].get_mpz_t(), rows[i].normal[k].get_mpz_t(), a_j[k].get_mpz_t());
+    if (sgn(along[i]) >= 0) continue;
     if (sgn(slacks[i]) <= 0) return std::nullopt;
-    Fraction candidate{slacks[i], -2 * along * start.denominator};
-    if (limit > candidate) limit = std::move(candidate);
+    candidate.p = slacks[i];
+    mpz_mul(candidate.q.get_mpz_t(), along[i].get_mpz_t(), d.get_mpz_t());
+    mpz_mul_si(candidate.q.get_mpz_t(), candidate.q.get_mpz_t(), -2);
+    if (limit > candidate) std::swap(limit, candidate);
   }
   Rational step(limit.p, limit.q);
   step.canonicalize();
   RationalVector point(on_plane);
   for (std::size_t k = 0; k < a_j.size(); ++k) point[k] += step * a_j[k];
-  // radius = min over rows of slack_i / |a_i|_1 = smallest.p / smallest.q.
-  const ScaledPoint stepped(point);
-  const std::vector<Integer> inside = scaled_slacks(rows, stepped);
-  std::optional<Fraction> smallest;
+  // Every slack at the point, times d q for step = p / q, without forming the
+  // point's own denominator: slack_i d q + p d (a_i . a_j), written over slacks.
+  const Integer& p = step.get_num();
+  const Integer& q = step.get_den();
+  Integer p_d = p * d;
   for (std::size_t i = 0; i < rows.size(); ++i) {
-    if (sgn(inside[i]) <= 0) return std::nullopt;
-    Integer norm = 0;
-    for (const Integer& value : rows[i].normal) norm += abs(value);
-    Fraction ratio{inside[i], norm * stepped.denominator};
-    if (!smallest || *smallest > ratio) smallest = std::move(ratio);
+    mpz_mul(slacks[i].get_mpz_t(), slacks[i].get_mpz_t(), q.get_mpz_t());
+    mpz_addmul(slacks[i].get_mpz_t(), p_d.get_mpz_t(), along[i].get_mpz_t());
   }
-  Rational radius(smallest->p, 2 * smallest->q);
+  // radius = half the least slack_i / |a_i|_1 = smallest.p / (2 d q smallest.q).
+  std::optional<Fraction> smallest;
+  Integer norm;
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    if (sgn(slacks[i]) <= 0) return std::nullopt;
+    norm = 0;
+    for (const Integer& value : rows[i].normal) {
+      if (sgn(value) >= 0) {
+        norm += value;
+      } else {
+        norm -= value;
+      }
+    }
+    if (!smallest) {
+      smallest = Fraction{slacks[i], norm};
+    } else if (*smallest > Fraction{slacks[i], norm}) {
+      smallest->p.swap(slacks[i]);
+      smallest->q.swap(norm);
+    }
+  }
+  Rational radius(smallest->p, 2 * d * q * smallest->q);
   radius.canonicalize();
   RationalVector shortened = round_point(point, radius);
   for (const Integer& value : scaled_slacks(rows, ScaledPoint(shortened)))
@@ -228,7 +266,7 @@ Integer determinant(const IntegerRow& first, const IntegerRow& second) {
 // The Gordan multipliers the plane rows of support (two or three) carry, if any:
 // y >= 0, not all zero, sum y_i a_i = 0 and sum y_i c_i <= 0, with y from 2x2
 // determinants (Cramer). Exact, a few integer products.
-std::optional<std::vector<Integer>> gordan_multipliers(const std::vector<IntegerRow>& rows,
+std::optional<std::vector<Integer>> gordan_multipliers(Rows rows,
                                                        const std::vector<std::size_t>& support) {
   std::vector<Integer> y;
   if (support.size() == 2) {
@@ -294,7 +332,7 @@ std::vector<std::size_t> asking_order(std::size_t count, const std::vector<std::
 }
 
 template <typename EmptyOn>
-std::optional<RationalVector> open_plane_cell(const std::vector<IntegerRow>& rows, EmptyOn&& is_empty_on,
+std::optional<RationalVector> open_plane_cell(Rows rows, EmptyOn&& is_empty_on,
                                               const std::vector<std::size_t>& try_first = {}) {
   std::vector<bool> is_member(rows.size(), false);
   for (std::size_t j : asking_order(rows.size(), try_first)) {
@@ -357,7 +395,7 @@ namespace {
 // of them is accepted. is_member as in line_interval (positive multiples left
 // out are recognised on the way).
 //
-// Row i restricted to the plane is sigma (a_js a_i - a_is a_j) (restricted()), so
+// Row i restricted to the plane is sigma (a_js a_i - a_is a_j) (restrict_into()), so
 // Gordan multipliers y on the plane give sum_i (y_i |a_js|) a_i = (sigma sum_i y_i a_is) a_j
 // in space: a Motzkin certificate with the same support and no solve.
 template <typename NonFacetOn>
@@ -377,12 +415,18 @@ std::optional<RationalVector> point_on_plane(const std::vector<IntegerRow>& rows
     if (sigma < 0) mu = -mu;
     return is_non_facet_on(support, y, mu);
   };
-  // The plane cell the other rows leave on the plane; origin maps back.
-  std::vector<IntegerRow> plane;
+  // The plane cell the other rows leave on the plane (its first `count` rows of
+  // a per-thread buffer reused between calls: these run for every constraint of
+  // every thin cell); origin maps back.
+  thread_local std::vector<IntegerRow> buffer;
+  if (buffer.size() < rows.size()) buffer.resize(rows.size());
+  std::size_t count = 0;
   std::vector<std::size_t> origin;
+  origin.reserve(rows.size());
   for (std::size_t i = 0; i < rows.size(); ++i) {
     if (is_member[i]) continue;
-    IntegerRow on_plane = restricted(rows[i], rep, solved);
+    IntegerRow& on_plane = buffer[count];
+    restrict_into(on_plane, rows[i], rep, solved);
     if (is_zero(on_plane.normal)) {
       if (sgn(on_plane.offset) > 0) continue;
       // Zero on the plane and on the same side as j: a positive multiple of j.
@@ -390,9 +434,10 @@ std::optional<RationalVector> point_on_plane(const std::vector<IntegerRow>& rows
       offer({i}, {Integer(1)});  // constant and non-positive on the plane
       return std::nullopt;
     }
-    plane.push_back(std::move(on_plane));
+    ++count;
     origin.push_back(i);
   }
+  const Rows plane(buffer.data(), count);
   const auto on_support = [&](const std::vector<std::size_t>& support, const std::vector<Integer>& y) {
     std::vector<std::size_t> in_space;
     for (std::size_t k : support) in_space.push_back(origin[k]);

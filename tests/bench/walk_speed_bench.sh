@@ -30,23 +30,33 @@ else
 fi
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
-printf '%-36s %8s %9s %9s %10s %14s %8s\n' arch regions "wall s" "cpu s" "cpu us/reg" "python us/reg" ratio
+# Two ratios to the Python walk, whose clock covers its walk alone (not the
+# interpreter's start or reading the network): "ratio" divides by pleat's whole
+# process, start-up included; "walk ratio" by pleat's CPU time minus that of the
+# same process walking a one-neuron network of as many inputs (start-up, reading,
+# writing: measured in the same hyperfine run), per region.
+printf '%-36s %8s %9s %9s %10s %11s %14s %8s %10s\n' arch regions "wall s" "cpu s" "cpu us/reg" "walk us/reg" \
+  "python us/reg" ratio "walk ratio"
 # One row: hyperfine's CPU time per region of `pleat walk`, next to the Python walk's.
 measure() {
-  local label=$1 net=$2 regions python
+  local label=$1 net=$2 regions python inputs
   regions=$("$pleat" walk "$net" --threads 1 --json --quiet |
     /usr/bin/python3 -c 'import json,sys; print(json.load(sys.stdin)["regions"])')
+  inputs=$(/usr/bin/python3 -c 'import json,sys; print(json.load(open(sys.argv[1]))["input_dim"])' "$net")
+  "$pleat" random --arch "$inputs,1,1" --seed 1 -o "$work/start-up.json"
   hyperfine --style none --runs "$runs" --warmup 1 --export-json "$work/h.json" \
-    "$pleat walk $net --threads 1 --quiet" >/dev/null
+    "$pleat walk $net --threads 1 --quiet" "$pleat walk $work/start-up.json --threads 1 --quiet" >/dev/null
   python=$(/usr/bin/python3 "$here/walk_python.py" "$net" "$python_limit")
   /usr/bin/python3 - "$label" "$regions" "$work/h.json" "$python" <<'EOF'
 import json, sys
 arch, regions, timing, python = sys.argv[1], int(sys.argv[2]), json.load(open(sys.argv[3])), json.loads(sys.argv[4])
-result = timing["results"][0]
+result, start_up = timing["results"]
 cpu = result["user"] + result["system"]
 per = 1e6 * cpu / regions
+walk_per = max(1e6 * (cpu - start_up["user"] - start_up["system"]) / regions, 1e-3)
 py = 1e6 * python["cpu_seconds"] / max(python["regions"], 1)
-print(f"{arch:<36} {regions:>8} {result['median']:>9.3f} {cpu:>9.3f} {per:>10.1f} {py:>14.0f} {py / per:>8.1f}")
+print(f"{arch:<36} {regions:>8} {result['median']:>9.3f} {cpu:>9.3f} {per:>10.1f} {walk_per:>11.1f} {py:>14.0f}"
+      f" {py / per:>8.1f} {py / walk_per:>10.1f}")
 EOF
 }
 

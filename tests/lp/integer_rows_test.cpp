@@ -166,6 +166,32 @@ bool is_positive_multiple_of(const Constraint& a, const Constraint& b) {
   return a.offset == t * b.offset;
 }
 
+// lp::is_positive_multiple (cross-multiplied integers) against the definition
+// (one ratio t > 0 for every entry), on rows that are multiples by positive,
+// negative and zero factors, or multiples with one entry changed.
+TEST(PositiveMultiple, AgreesWithTheRatioDefinition) {
+  std::mt19937 random(29);
+  std::uniform_int_distribution<int> numerator(-5, 5);
+  std::uniform_int_distribution<int> denominator(1, 7);
+  int multiples = 0, others = 0;
+  for (int trial = 0; trial < 3000; ++trial) {
+    const std::size_t dim = 1 + static_cast<std::size_t>(trial % 3);
+    const Constraint b = random_constraint(random, dim);
+    Rational t(numerator(random), denominator(random));
+    t.canonicalize();
+    Constraint a{RationalVector(dim), t * b.offset};
+    for (std::size_t k = 0; k < dim; ++k) a.normal[k] = t * b.normal[k];
+    if (trial % 4 == 1) a.offset += Rational(1, denominator(random));
+    if (trial % 4 == 2) a.normal[static_cast<std::size_t>(trial) % dim] += Rational(1, denominator(random));
+    if (trial % 4 == 3) a = random_constraint(random, dim);
+    const bool expected = is_positive_multiple_of(a, b);
+    EXPECT_EQ(is_positive_multiple(a, b), expected) << trial;
+    (expected ? multiples : others) += 1;
+  }
+  EXPECT_GT(multiples, 300);
+  EXPECT_GT(others, 300);
+}
+
 bool same(const std::optional<NonFacetCertificate>& a, const std::optional<NonFacetCertificate>& b) {
   if (a.has_value() != b.has_value()) return false;
   return !a || (a->equality_multiplier == b->equality_multiplier && a->multipliers == b->multipliers);
@@ -210,7 +236,9 @@ TEST(SupportMultipliers, EqualTheRationalEliminationsAnswer) {
         continue;
       }
       ++certified;
-      if (is_own_class) EXPECT_TRUE(check_non_facet(cell, {0}, **found)) << trial;
+      if (is_own_class) {
+        EXPECT_TRUE(check_non_facet(cell, {0}, **found)) << trial;
+      }
     }
   }
   EXPECT_GT(certified, 200);

@@ -225,12 +225,17 @@ def check_walk(name, network_path, box, failures, general_position=True):
         value = [sum((ai * pi for ai, pi in zip(row, point)), Fraction(0)) + ci for row, ci in zip(a, c)]
         if value != exact_output:
             fail(f"{pattern}: A p + c = {value} but the exact forward pass gives {exact_output}")
+        # numpy's forward pass is accurate to about 1e-16 of the sums of absolute
+        # terms it adds (|W| |y| + |b|, layer by layer), not of its result: on a net
+        # whose layers cancel terms of 1e12 that bound, not |f|, sets the tolerance.
         y = np.array([float(v) for v in point])
+        size = np.abs(y)
         for weights, bias, relu in float_layers:
+            size = np.abs(weights) @ size + np.abs(bias)
             y = weights @ y + bias
             if relu:
                 y = np.maximum(y, 0.0)
-        if any(abs(float(v) - f) > 1e-9 * max(1.0, abs(f)) for v, f in zip(value, y)):
+        if any(abs(float(v) - f) > 1e-9 * max(1.0, abs(f), bound) for v, f, bound in zip(value, y, size)):
             fail(f"{pattern}: A p + c = {[float(v) for v in value]}, numpy says {y.tolist()}")
 
     if total_area != (hi - lo) ** 2:
