@@ -94,8 +94,8 @@ Json optional_count(const std::optional<std::size_t>& value) { return value ? Js
 void add_region_details(const Network& network, const Region& region, Json& out,
                         std::size_t rows_first) {
   out["pattern"] = format_pattern(network, region.pattern);
-  out["point"] = rational_list_json(region.point);
-  out["point_double"] = decimal_list_json(region.point);
+  out["point"] = rational_list_json(region.interior.point);
+  out["point_double"] = decimal_list_json(region.interior.point);
   out["bounded"] = region.bounded;
   out["map"] = affine_json(region.affine);
   out["rows_first"] = rows_first;

@@ -24,7 +24,8 @@ std::vector<EmptyAcross> empty_candidates(const Network& network, const Domain& 
   if (!facet.neighbor) return out;
   RationalVector direction = facet.normal;
   for (auto& v : direction) v = -v;
-  for (const auto& candidate : patterns_across(network, region.pattern, facet.point, direction, facet.normal)) {
+  const RationalVector& point = facet.relative_interior.point;
+  for (const auto& candidate : patterns_across(network, region.pattern, point, direction, facet.normal)) {
     if (candidate == *facet.neighbor ||
         std::find(facet.other_neighbors.begin(), facet.other_neighbors.end(), candidate) != facet.other_neighbors.end())
       continue;
@@ -33,7 +34,7 @@ std::vector<EmptyAcross> empty_candidates(const Network& network, const Domain& 
     lp::Polyhedron cone{cell->cell.dim, {}};
     bool is_in_closure = true;
     for (const auto& c : cell->cell.constraints) {
-      const Rational value = lp::slack(c, facet.point);
+      const Rational value = lp::slack(c, point);
       if (value < 0) is_in_closure = false;
       if (value == 0) cone.constraints.push_back(lp::Constraint{c.normal, Rational(0)});
     }

@@ -72,7 +72,7 @@ void put_facet(ByteWriter& out, const RegionFacet& facet) {
   if (facet.neighbor) out.put_pattern(*facet.neighbor);
   out.put_unsigned(facet.other_neighbors.size());
   for (const auto& other : facet.other_neighbors) out.put_pattern(other);
-  out.put_vector(facet.point);
+  out.put_vector(facet.relative_interior.point);
 }
 
 RegionFacet get_facet(ByteReader& in) {
@@ -84,7 +84,7 @@ RegionFacet get_facet(ByteReader& in) {
   if (in.get_bool()) facet.neighbor = in.get_pattern();
   facet.other_neighbors.resize(in.get_size());
   for (auto& other : facet.other_neighbors) other = in.get_pattern();
-  facet.point = in.get_vector();
+  facet.relative_interior.point = in.get_vector();
   return facet;
 }
 
@@ -271,7 +271,7 @@ ActivationPattern ByteReader::get_pattern() {
 void put_region(ByteWriter& out, const Region& region) {
   out.put_unsigned(region.id);
   out.put_pattern(region.pattern);
-  out.put_vector(region.point);
+  out.put_vector(region.interior.point);
   out.put_bool(region.bounded);
   out.put_bool(region.touches_domain_boundary);
   out.put_unsigned(region.facets.size());
@@ -286,7 +286,7 @@ Region get_region(ByteReader& in) {
   Region region;
   region.id = in.get_unsigned();
   region.pattern = in.get_pattern();
-  region.point = in.get_vector();
+  region.interior.point = in.get_vector();
   region.bounded = in.get_bool();
   region.touches_domain_boundary = in.get_bool();
   region.facets.resize(in.get_size());

@@ -75,7 +75,7 @@ class WalkChecker {
     const Region& region = saved.region;
     const auto cell = build_pattern_cell(network_, domain_, region.pattern);
     if (!cell) fail(saved, "the pattern is inconsistent with the network's own maps");
-    if (!lp::check_interior_point(cell->cell, lp::InteriorPoint{region.point}))
+    if (!lp::check_interior_point(cell->cell, region.interior))
       fail(saved, "the point is not strictly inside the region");
     if (!(cell->maps.output.linear == region.affine.linear) || cell->maps.output.offset != region.affine.offset)
       fail(saved, "the affine map differs from the network's map on the pattern");
@@ -101,7 +101,7 @@ class WalkChecker {
   // The certificate repeats the point and the cell's constraints: each must be
   // what the network and the pattern give.
   static void check_certificate_copy(const SavedRegion& saved, const PatternCell& cell) {
-    if (saved.certificate_point != saved.region.point)
+    if (saved.certificate_point != saved.region.interior.point)
       fail(saved, "the certificate's interior_point differs from the region's point");
     const RegionCertificates& certificate = *saved.region.certificates;
     const std::vector<lp::Constraint>& written = certificate.cell.constraints;
@@ -127,7 +127,7 @@ class WalkChecker {
       if (!lp::is_positive_multiple(lp::Constraint{facet.normal, facet.offset}, representative) ||
           !is_primitive_integer_vector(facet.normal))
         fail(saved, facet_name(index) + " is not its constraint's hyperplane as a primitive integer normal");
-      if (facet.point != std::get<lp::FacetPoint>(group.verdict).point)
+      if (facet.relative_interior.point != std::get<lp::FacetPoint>(group.verdict).point)
         fail(saved, facet_name(index) + " point differs from its certificate");
       std::vector<std::size_t> neurons;
       std::optional<std::size_t> side;
@@ -170,8 +170,9 @@ class WalkChecker {
 
     RationalVector direction = representative.normal;
     for (auto& v : direction) v = -v;
+    const RationalVector& point = facet.relative_interior.point;
     const std::vector<ActivationPattern> candidates =
-        patterns_across(network_, region.pattern, cell.maps, facet.point, direction, representative.normal);
+        patterns_across(network_, region.pattern, cell.maps, point, direction, representative.normal);
     for (const auto& neighbor : listed) {
       const std::string label = format_pattern(network_, neighbor);
       if (neighbor == region.pattern) fail(saved, name + " names its own region as the neighbour across it");
@@ -183,15 +184,15 @@ class WalkChecker {
       const SavedRegion& far = *found->second;
       const auto far_cell = build_pattern_cell(network_, domain_, neighbor);
       if (!far_cell) fail(saved, "neighbour " + label + " is inconsistent");
-      if (!closure_contains(far_cell->cell, facet.point))
+      if (!closure_contains(far_cell->cell, point))
         fail(saved, name + " point is outside the closure of neighbour " + label);
       // The neighbour is convex with the facet point in its closure, so its
       // interior lies on the far side exactly when its own point does.
-      if (lp::slack(representative, far.region.point) >= 0)
+      if (lp::slack(representative, far.region.interior.point) >= 0)
         fail(saved, "neighbour " + label + " (line " + std::to_string(far.line) + ") is not on the far side of " + name);
     }
     for (const auto& candidate : candidates)
-      if (!std::binary_search(listed.begin(), listed.end(), candidate) && touches(candidate, facet.point))
+      if (!std::binary_search(listed.begin(), listed.end(), candidate) && touches(candidate, point))
         fail(saved, "region " + format_pattern(network_, candidate) + " also lies across " + name +
                          " at its point but is not listed" +
                          (by_pattern_.count(candidate) ? "" : " (and is missing from the file)"));

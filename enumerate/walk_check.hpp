@@ -28,7 +28,7 @@ namespace pleat {
 // own record, with the line's certificate in region.certificates when it has
 // one (cell.constraints and constraint_neuron as written, SIZE_MAX for a
 // domain side), the line number for messages, and the certificate's copy of
-// the interior point (compared with region.point, not trusted).
+// the interior point (compared with region.interior, not trusted).
 struct SavedRegion {
   std::size_t line = 0;
   Region region;

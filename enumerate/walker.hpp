@@ -46,7 +46,9 @@ struct RegionFacet {
   Rational offset;
   std::optional<ActivationPattern> neighbor;  // null on the domain boundary
   std::vector<ActivationPattern> other_neighbors;  // further regions next to the crossing point (degenerate crossings)
-  RationalVector point;                    // rational point in the facet's relative interior (checked)
+  // A point of the facet's relative interior, checked exactly: the facet's
+  // constraints are 0 there, every other constraint of the region > 0.
+  lp::FacetPoint relative_interior;
 };
 
 // "No such index": the neuron of a constraint that is a domain side, the
@@ -64,7 +66,7 @@ struct RegionCertificates {
 struct Region {
   std::size_t id = 0;  // 0-based, in output order (level by level, patterns sorted within a level)
   ActivationPattern pattern;
-  RationalVector point;  // strictly inside (checked exactly)
+  lp::InteriorPoint interior;  // strictly inside: every constraint > 0 there (checked exactly)
   bool bounded = false;  // as a subset of R^n0, before domain clipping
   bool touches_domain_boundary = false;
   std::vector<RegionFacet> facets;

@@ -164,8 +164,8 @@ std::string region_table(const Network& network, const std::vector<const Region*
   std::sort(sorted.begin(), sorted.end(), [](const Region* a, const Region* b) { return a->id < b->id; });
   for (const Region* region : sorted) {
     out << region->id << "," << format_pattern(network, region->pattern);
-    for (const auto& v : region->point) out << "," << format_rational(v);
-    for (const auto& v : region->point) out << "," << format_double(to_double(v));
+    for (const auto& v : region->interior.point) out << "," << format_rational(v);
+    for (const auto& v : region->interior.point) out << "," << format_double(to_double(v));
     out << "\n";
   }
   return out.str();

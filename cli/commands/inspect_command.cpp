@@ -90,7 +90,7 @@ Json record_json(const Network& network, const Record& record) {
   };
   Json out;
   out["pattern"] = format_pattern(network, region.pattern);
-  out["point"] = rational_list_json(region.point);
+  out["point"] = rational_list_json(region.interior.point);
   out["bounded"] = region.bounded;
   out["bounded_in_domain"] = record.vertices.is_bounded();
   out["facets"] = std::move(facets);
@@ -112,7 +112,7 @@ void print_record(const Network& network, const Domain& domain, const Record& re
   const Region& region = record.region;
   const std::size_t dim = network.input_dim;
   out << "region      " << format_pattern(network, region.pattern) << "\n";
-  out << "point       " << point_text(region.point, exact_only) << "  (strictly inside, checked exactly)\n";
+  out << "point       " << point_text(region.interior.point, exact_only) << "  (strictly inside, checked exactly)\n";
   out << "bounded     " << (region.bounded ? "yes" : "no") << " in R^" << dim;
   if (domain.kind != Domain::Kind::whole_space)
     out << "; within " << domain.describe() << ": " << (record.vertices.is_bounded() ? "bounded" : "unbounded");

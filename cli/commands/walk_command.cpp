@@ -124,7 +124,7 @@ int run_walk(const WalkArguments& arguments) {
   options.on_region = [&](const Region& region) {
     if (regions_file) regions_file->write(json_text(region_to_json(network, region), false));
     if (!arguments.points_path.empty()) {
-      interior_points.push_back(region.point);
+      interior_points.push_back(region.interior.point);
       interior_patterns.push_back(region.pattern);
     }
     return true;

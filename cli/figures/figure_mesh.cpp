@@ -40,7 +40,7 @@ RegionMesh region_mesh(const Network& network, const std::vector<Region>& region
       e[axis] = -1;
       cell.constraints.push_back(lp::Constraint{e, view.upper[axis]});
     }
-    const lp::VertexRepresentation rep = lp::vertex_representation(cell, region.point);
+    const lp::VertexRepresentation rep = lp::vertex_representation(cell, region.interior.point);
     if (rep.points.size() < 4) continue;
     ++drawn_regions;
     for (const lp::PolytopeFace& polytope_face : lp::polytope_faces(cell, rep.points)) {

@@ -20,7 +20,7 @@ std::vector<RationalVector> arrangement_vertices(const std::vector<Region>& regi
   std::set<RationalVector> vertices;
   for (const auto& region : regions) {
     poll_stop();
-    const lp::VertexRepresentation rep = lp::vertex_representation(closed_cell(region, true), region.point);
+    const lp::VertexRepresentation rep = lp::vertex_representation(closed_cell(region, true), region.interior.point);
     if (rep.lines.empty())  // pointed: its points are vertices of the arrangement
       vertices.insert(rep.points.begin(), rep.points.end());
   }
@@ -68,7 +68,7 @@ std::string describe_view(const View& view) {
 }
 
 lp::Polyhedron closed_cell(const Region& region, bool with_domain_sides) {
-  lp::Polyhedron cell{region.point.size(), {}};
+  lp::Polyhedron cell{region.interior.point.size(), {}};
   for (const auto& facet : region.facets)
     if (with_domain_sides || !facet.domain_side) cell.constraints.push_back(lp::Constraint{facet.normal, facet.offset});
   return cell;
@@ -87,7 +87,7 @@ FittedView fitted_view(const std::vector<Region>& regions, std::size_t dim) {
   if (vertices.empty())  // no vertex at all (parallel hyperplanes): points on the facets
     for (const auto& region : regions)
       for (const auto& facet : region.facets)
-        if (!facet.point.empty()) vertices.push_back(facet.point);
+        if (!facet.relative_interior.point.empty()) vertices.push_back(facet.relative_interior.point);
   FittedView fitted;
   fitted.vertices = vertices.size();
   std::vector<double> low(dim, 0), high(dim, 0), bulk_low(dim, 0), bulk_high(dim, 0);

@@ -160,13 +160,14 @@ RegionFacet read_facet(const Json& entry, const LineRules& rules, const Network&
   if (!side.is_null()) facet.domain_side = rules.index(side, "a facet's \"side\"");
   facet.normal = reader.rationals(reader.field(entry, "normal"));
   facet.offset = reader.rational(reader.field(entry, "offset"));
-  if (rules.exact_copy || entry.contains("point")) facet.point = reader.rationals(reader.field(entry, "point"));
+  RationalVector& point = facet.relative_interior.point;
+  if (rules.exact_copy || entry.contains("point")) point = reader.rationals(reader.field(entry, "point"));
   const Json& neighbor = reader.field(entry, "neighbor");
   if (!neighbor.is_null()) facet.neighbor = reader.pattern(neighbor);
   if (const Json* others = rules.optional_nonempty_list(entry, "other_neighbors"))
     for (const auto& other : *others) facet.other_neighbors.push_back(reader.pattern(other));
-  if (facet.normal.size() != input_dim || (!facet.point.empty() && facet.point.size() != input_dim) ||
-      (rules.exact_copy && facet.point.size() != input_dim))
+  if (facet.normal.size() != input_dim || (!point.empty() && point.size() != input_dim) ||
+      (rules.exact_copy && point.size() != input_dim))
     reader.fail("a facet's normal or point has the wrong number of coordinates");
   return facet;
 }
@@ -264,8 +265,8 @@ SavedRegion read_region(const Json& line, const Network& network, const LineRule
   Region& region = saved.region;
   region.id = rules.index(reader.field(line, "id"), "\"id\"");
   region.pattern = reader.pattern(reader.field(line, "pattern"));
-  region.point = reader.rationals(reader.field(line, "point"));
-  if (region.point.size() != network.input_dim) reader.fail("the point has the wrong number of coordinates");
+  region.interior.point = reader.rationals(reader.field(line, "point"));
+  if (region.interior.point.size() != network.input_dim) reader.fail("the point has the wrong number of coordinates");
   region.bounded = rules.boolean(line, "bounded");
   const Json& facets = reader.field(line, "facets");
   if (!facets.is_array()) reader.fail("\"facets\" must be a list");

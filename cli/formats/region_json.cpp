@@ -22,7 +22,7 @@ Json matrix_to_json(const RationalMatrix& matrix) {
 Json certificates_to_json(const Region& region) {
   const RegionCertificates& certificates = *region.certificates;
   Json out;
-  out["interior_point"] = rational_list_json(region.point);
+  out["interior_point"] = rational_list_json(region.interior.point);
   Json constraints = Json::array();
   for (std::size_t i = 0; i < certificates.cell.constraints.size(); ++i) {
     const auto& c = certificates.cell.constraints[i];
@@ -99,13 +99,13 @@ Json region_to_json(const Network& network, const Region& region) {
       for (const auto& other : facet.other_neighbors) others.push_back(format_pattern(network, other));
       entry["other_neighbors"] = std::move(others);
     }
-    entry["point"] = rational_list_json(facet.point);
+    entry["point"] = rational_list_json(facet.relative_interior.point);
     facets.push_back(std::move(entry));
   }
   Json out;
   out["id"] = region.id;
   out["pattern"] = format_pattern(network, region.pattern);
-  out["point"] = rational_list_json(region.point);
+  out["point"] = rational_list_json(region.interior.point);
   out["bounded"] = region.bounded;
   out["touches_domain_boundary"] = region.touches_domain_boundary;
   out["facets"] = std::move(facets);

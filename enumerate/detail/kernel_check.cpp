@@ -334,6 +334,13 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
       }
       for (std::size_t row = 0; row <= n0; ++row)
         for (const auto& vector : modulus.vectors) {
+          // Most extra directions have one entry: its product is 0 modulo
+          // the prime exactly when a factor is, with no reduction.
+          if (vector.size() == 1) {
+            const auto& [u, value] = vector.front();
+            if (value != 0 && entries[row * used + u] != 0) return false;
+            continue;
+          }
           LazySum sum(prime, inverse);
           for (const auto& [u, value] : vector) sum.add(entries[row * used + u], value);
           if (sum.value() != 0) return false;

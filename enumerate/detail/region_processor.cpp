@@ -110,7 +110,7 @@ class RegionProcessor::Impl {
     result.is_region = true;
     Region& region = result.region;
     region.pattern = pattern;
-    region.point = interior->point;
+    region.interior = *interior;
     region.affine = cell->maps.output;
     lp::FacetClassification classification = oracle_.classify_facets(cell->cell, *interior, keep_certificates_);
     std::optional<MapImages> images;
@@ -202,7 +202,7 @@ class RegionProcessor::Impl {
       if (!bounded) return std::nullopt;
     }
     region.bounded = *bounded;
-    region.point = plane->interior;
+    region.interior.point = plane->interior;
     region.affine = output_map(pattern);
     std::optional<RationalMaps> rational_maps;  // only for degenerate crossings
     // Reserved: RegionFacet's move is not noexcept (gmpxx), so growth would copy.
@@ -242,7 +242,7 @@ class RegionProcessor::Impl {
     Region& region = result.region;
     region.pattern = pattern;
     region.bounded = neuron_rows_ > 0 && *space->bounded;
-    region.point = space->interior;
+    region.interior.point = space->interior;
     region.affine = output_map(pattern);
     std::optional<RationalMaps> rational_maps;  // only for degenerate crossings
     region.facets.reserve(static_cast<std::size_t>(
@@ -315,7 +315,7 @@ class RegionProcessor::Impl {
     for (const Integer* value : normal) facet.normal.push_back(Rational(*value / divisor));
     facet.offset = Rational(offset, divisor);
     facet.offset.canonicalize();
-    facet.point = point;
+    facet.relative_interior.point = point;
     if (facet.domain_side) return facet;
     std::vector<ActivationPattern> candidates;
     if (std::optional<ActivationPattern> far = pattern_across_in_integers(network_, *pre_, pattern, vanishing_at(group_rows), normal)) {
@@ -332,7 +332,7 @@ class RegionProcessor::Impl {
         direction.push_back(Rational(-*value));
       }
       candidates = patterns_across_filtered(network_, pattern, rational_maps->maps, &rational_maps->images,
-                                            facet.point, direction, row_normal);
+                                            facet.relative_interior.point, direction, row_normal);
     }
     name_neighbors(facet, std::move(candidates), degenerate_crossings);
     return facet;
@@ -410,7 +410,7 @@ class RegionProcessor::Impl {
     facet.normal = representative.normal;
     facet.offset = representative.offset;
     make_primitive(facet.normal, facet.offset);
-    facet.point = std::get<lp::FacetPoint>(group.verdict).point;
+    facet.relative_interior = std::get<lp::FacetPoint>(group.verdict);
     if (facet.domain_side) return facet;  // the far side is outside the domain
 
     RationalVector direction = representative.normal;
@@ -418,7 +418,7 @@ class RegionProcessor::Impl {
     // The maps' double images, once per region, unless every sign must be exact.
     if (!exact_only_ && !images) images = map_images(network_, cell.maps);
     name_neighbors(facet, patterns_across_filtered(network_, pattern, cell.maps, images ? &*images : nullptr,
-                                                    facet.point, direction, representative.normal),
+                                                    facet.relative_interior.point, direction, representative.normal),
                     degenerate_crossings);
     return facet;
   }
@@ -429,7 +429,7 @@ class RegionProcessor::Impl {
                        std::size_t& degenerate_crossings) {
     if (candidates.size() > 1) {
       ++degenerate_crossings;
-      candidates = keep_touching(candidates, facet.point);
+      candidates = keep_touching(candidates, facet.relative_interior.point);
     }
     if (!candidates.empty()) {
       facet.neighbor = candidates.front();

@@ -71,7 +71,7 @@ py::dict facet_dict(const Network& network, const RegionFacet& facet) {
   py::list others;
   for (const auto& other : facet.other_neighbors) others.append(pattern_text(network, other));
   out["other_neighbors"] = others;
-  out["point"] = fraction_list(facet.point);
+  out["point"] = fraction_list(facet.relative_interior.point);
   return out;
 }
 
@@ -79,7 +79,7 @@ py::dict region_dict(const Network& network, const Region& region) {
   py::dict out;
   out["id"] = region.id;
   out["pattern"] = pattern_text(network, region.pattern);
-  out["point"] = fraction_list(region.point);
+  out["point"] = fraction_list(region.interior.point);
   out["bounded"] = region.bounded;
   out["touches_domain_boundary"] = region.touches_domain_boundary;
   py::list facets;

@@ -191,7 +191,7 @@ TEST(RegionCodec, GivesBackEveryField) {
     EXPECT_TRUE(in.at_end());
     EXPECT_EQ(back.id, region.id);
     EXPECT_EQ(back.pattern, region.pattern);
-    EXPECT_EQ(back.point, region.point);
+    EXPECT_EQ(back.interior.point, region.interior.point);
     EXPECT_EQ(back.bounded, region.bounded);
     EXPECT_EQ(back.affine.linear, region.affine.linear);
     EXPECT_EQ(back.affine.offset, region.affine.offset);
@@ -200,7 +200,7 @@ TEST(RegionCodec, GivesBackEveryField) {
     for (std::size_t f = 0; f < region.facets.size(); ++f) {
       EXPECT_EQ(back.facets[f].neighbor, region.facets[f].neighbor);
       EXPECT_EQ(back.facets[f].normal, region.facets[f].normal);
-      EXPECT_EQ(back.facets[f].point, region.facets[f].point);
+      EXPECT_EQ(back.facets[f].relative_interior.point, region.facets[f].relative_interior.point);
       EXPECT_EQ(back.facets[f].domain_side, region.facets[f].domain_side);
     }
     ASSERT_TRUE(back.certificates && region.certificates);

@@ -341,11 +341,11 @@ TEST(FunctionalDimension, EveryScalingDirectionAnnihilatesEveryRegionsRows) {
 // p + delta e_i, delta halved until p + delta e_i is strictly inside every
 // facet (the region is the intersection of its facets' open half-spaces).
 std::vector<RationalVector> interior_points(const Region& region) {
-  std::vector<RationalVector> points{region.point};
-  for (std::size_t i = 0; i < region.point.size(); ++i) {
+  std::vector<RationalVector> points{region.interior.point};
+  for (std::size_t i = 0; i < region.interior.point.size(); ++i) {
     Rational delta(1, 4);
     for (;;) {
-      RationalVector q = region.point;
+      RationalVector q = region.interior.point;
       q[i] += delta;
       bool is_inside = true;
       for (const RegionFacet& facet : region.facets) {

@@ -21,7 +21,7 @@ std::vector<SavedRegion> saved_walk(const Network& network, const Domain& domain
   options.threads = 1;
   options.keep_certificates = true;
   options.on_region = [&](const Region& region) {
-    saved.push_back(SavedRegion{region.id + 2, region, region.point});
+    saved.push_back(SavedRegion{region.id + 2, region, region.interior.point});
     return true;
   };
   walk_regions(network, domain, options);

@@ -130,7 +130,7 @@ TEST(Walker, EveryRegionPointHasItsPatternAndFacetsSeeNeighbors) {
   walk_regions(network, make_whole_space(2), options);
   for (const auto& [name, region] : regions) {
     // The interior point's own pattern is the region's pattern (exact evaluation).
-    auto at_point = region_pattern_at(network, region.point);
+    auto at_point = region_pattern_at(network, region.interior.point);
     ASSERT_TRUE(at_point.has_value());
     EXPECT_EQ(*at_point, region.pattern);
     for (const auto& facet : region.facets) {
@@ -142,7 +142,7 @@ TEST(Walker, EveryRegionPointHasItsPatternAndFacetsSeeNeighbors) {
       EXPECT_TRUE(mutual);
       // The facet point lies on the facet's hyperplane.
       Rational value = facet.offset;
-      for (std::size_t i = 0; i < 2; ++i) value += facet.normal[i] * facet.point[i];
+      for (std::size_t i = 0; i < 2; ++i) value += facet.normal[i] * facet.relative_interior.point[i];
       EXPECT_EQ(value, 0);
     }
   }
