@@ -304,7 +304,8 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
     }
     std::vector<std::vector<std::optional<ModularMatrix>>> images(primes.size());
     auto images_modulo = [&](std::size_t p, unsigned inner_threads) {
-      const auto& [prime, reduced] = primes[p];
+      const std::uint64_t prime = primes[p].first;
+      const ModularNetwork& reduced = primes[p].second;
       const ModularMatrix prime_rows =
           kept_rows_modulo(reduced, kept, rank, columns, inner_threads, &needed, &columns_needed);
       images[p].resize(open.size());
