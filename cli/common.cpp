@@ -196,6 +196,10 @@ Json double_list_json(const DoubleVector& values) {
   return list;
 }
 
+Json stop_reason_json(StopReason reason) {
+  return reason == StopReason::none ? Json(nullptr) : Json(to_string(reason));
+}
+
 std::string json_text(const Json& document, bool is_pretty) {
   return document.dump(is_pretty ? 2 : -1) + "\n";
 }

@@ -7,6 +7,7 @@
 
 #include "core/network.hpp"
 #include "core/rational.hpp"
+#include "core/stop.hpp"
 
 #include <CLI/CLI.hpp>
 #include <nlohmann/json.hpp>
@@ -94,6 +95,7 @@ std::string format_double_list(const DoubleVector& values);
 Json rational_json(const Rational& value);             // "-3/8"
 Json rational_list_json(const RationalVector& values);  // ["-3/8", "1"]
 Json double_list_json(const DoubleVector& values);      // [-0.375, 1.0]
+Json stop_reason_json(StopReason reason);               // null for none, else "time-limit", ...
 
 // Pretty (2-space indent) or compact, always ending with a newline.
 std::string json_text(const Json& document, bool is_pretty = true);

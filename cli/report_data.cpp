@@ -195,7 +195,7 @@ Json report_certify_json(const Network& network, const FunctionalDimensionResult
   out["regions_walked"] = result.regions_walked;
   out["regions_contributing"] = result.regions_contributing;
   out["walk_complete"] = result.walk_complete;
-  out["stop_reason"] = result.stop_reason == StopReason::none ? Json(nullptr) : Json(to_string(result.stop_reason));
+  out["stop_reason"] = stop_reason_json(result.stop_reason);
   out["extra_directions"] = result.extra_kernel.size();
   out["extra_by_mechanism"] = std::move(groups);
   if (const auto limit = region_limit(network, result))

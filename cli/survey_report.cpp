@@ -90,7 +90,7 @@ Json summary_to_json(const SurveyRecord& record, const SurveySummary& summary) {
     cut.push_back({{"sample", s.sample},
                    {"lower_bound", s.lower_bound},
                    {"upper_bound", s.upper_bound},
-                   {"stop_reason", s.stop_reason.empty() ? Json(nullptr) : Json(s.stop_reason)}});
+                   {"stop_reason", stop_reason_json(s.stop_reason)}});
   out["uncertified_samples"] = cut;
   double seconds = 0;
   for (const SurveySample& s : record.samples) seconds += s.seconds;
@@ -128,7 +128,7 @@ void print_summary(const SurveyRecord& record, const SurveySummary& summary, std
   }
   for (const SurveySample& s : summary.uncertified_samples)
     out << "cut short             sample " << s.sample << ": between " << s.lower_bound << " and " << s.upper_bound
-        << " (" << (s.stop_reason.empty() ? "stopped" : s.stop_reason) << ")\n";
+        << " (" << (s.stop_reason == StopReason::none ? "stopped" : to_string(s.stop_reason)) << ")\n";
 }
 
 void print_grid(const std::vector<SurveyRecord>& records, const std::vector<SurveySummary>& summaries,

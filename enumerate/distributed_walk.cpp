@@ -97,7 +97,7 @@ LevelWork process_share(std::vector<std::unique_ptr<RegionWorker>>& workers, con
 // The neighbours that a rank's processed regions found. Those this rank
 // owns go straight into its seen-set, and into next when new; the others,
 // each once, make one message per owner (this rank's own message is empty).
-std::vector<std::string> neighbours_by_owner(const LevelWork& work, std::size_t ranks, std::size_t rank,
+std::vector<std::string> neighbors_by_owner(const LevelWork& work, std::size_t ranks, std::size_t rank,
                                              detail::PatternStore& owned, std::vector<ActivationPattern>& next) {
   std::unordered_set<ActivationPattern, PatternHash> found;
   std::vector<std::vector<const ActivationPattern*>> by_owner(ranks);
@@ -312,11 +312,11 @@ class Ledger {
     const std::uint32_t slot = remember(region.pattern).first;
     id_of_slot_[slot] = id;
     region_slots_.push_back(slot);
-    neighbours_.clear();
+    neighbors_.clear();
     const auto add_neighbor = [&](const ActivationPattern& neighbor) {
-      const std::uint32_t neighbour_slot = remember(neighbor).first;
-      if (std::find(neighbours_.begin(), neighbours_.end(), neighbour_slot) == neighbours_.end())
-        neighbours_.push_back(neighbour_slot);
+      const std::uint32_t neighbor_slot = remember(neighbor).first;
+      if (std::find(neighbors_.begin(), neighbors_.end(), neighbor_slot) == neighbors_.end())
+        neighbors_.push_back(neighbor_slot);
     };
     for (const auto& facet : region.facets) {
       if (!facet.neighbor) continue;
@@ -325,7 +325,7 @@ class Ledger {
     }
     if (side_) side_->take_note(region, std::move(item.note));
     const bool is_stop_asked = options_.on_region && !options_.on_region(region);
-    adjacency_.add_region(id, slot, neighbours_, std::move(region.affine), id_of_slot_);  // after on_region, which reads it
+    adjacency_.add_region(id, slot, neighbors_, std::move(region.affine), id_of_slot_);  // after on_region, which reads it
     return is_stop_asked ? StopReason::requested : StopReason::none;
   }
 
@@ -336,7 +336,7 @@ class Ledger {
   detail::PatternStore seen_;
   std::vector<std::uint32_t> id_of_slot_;    // detail::no_region until delivered
   std::vector<std::uint32_t> region_slots_;  // by region id
-  std::vector<std::uint32_t> neighbours_;
+  std::vector<std::uint32_t> neighbors_;
   detail::WalkAdjacency adjacency_;
   bool anomaly_ = false;
 };
@@ -405,7 +405,7 @@ WalkSummary walk_on_rank(const Network& network, const Domain& domain, const Wal
 
     // Neighbours to their owners, who keep the new ones as the next level.
     std::vector<ActivationPattern> next;
-    std::vector<std::string> incoming = transport.exchange(neighbours_by_owner(work, ranks, rank, owned, next));
+    std::vector<std::string> incoming = transport.exchange(neighbors_by_owner(work, ranks, rank, owned, next));
     for (std::size_t sender = 0; sender < ranks; ++sender) {
       if (sender == rank) continue;
       ByteReader in(incoming[sender]);

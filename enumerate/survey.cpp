@@ -60,7 +60,7 @@ SurveySample run_survey_sample(const SurveyConfiguration& configuration, std::ui
   outcome.parametric_dimension = result.parametric_dimension;
   outcome.regions = result.regions_walked;
   outcome.early_stop = result.early_stop;
-  if (result.stop_reason != StopReason::none) outcome.stop_reason = to_string(result.stop_reason);
+  outcome.stop_reason = result.stop_reason;
   outcome.seconds = result.seconds;
   return outcome;
 }
@@ -86,7 +86,7 @@ SurveyRunResult run_survey(const SurveyConfiguration& configuration, const std::
       try {
         const SurveySample outcome =
             run_survey_sample(configuration, samples[position], options.time_limit_each, options.interrupt);
-        if (outcome.stop_reason == to_string(StopReason::interrupted)) return;
+        if (outcome.stop_reason == StopReason::interrupted) return;
         const std::lock_guard lock(report_mutex);
         if (options.on_sample) options.on_sample(outcome);
         ++run.finished;

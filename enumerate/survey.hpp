@@ -12,6 +12,7 @@
 #include "core/network.hpp"
 #include "core/random_network.hpp"
 #include "core/rational.hpp"
+#include "core/stop.hpp"
 #include "enumerate/domain.hpp"
 
 #include <atomic>
@@ -47,7 +48,7 @@ struct SurveySample {
   std::size_t parametric_dimension = 0;
   std::size_t regions = 0;      // regions walked
   bool early_stop = false;      // the rank met the scaling bound before the walk ended
-  std::string stop_reason;      // "" when the walk ended normally, else "time-limit", ...
+  StopReason stop_reason = StopReason::none;  // none when the walk ended normally
   double seconds = 0;
 };
 

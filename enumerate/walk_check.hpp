@@ -26,7 +26,7 @@ namespace pleat {
 
 // One region line read back from a region file (pleat walk -o): the walker's
 // own record, with the line's certificate in region.certificates when it has
-// one (cell.constraints and constraint_neuron as written, SIZE_MAX for a
+// one (cell.constraints and constraint_neuron as written, no_index for a
 // domain side), the line number for messages, and the certificate's copy of
 // the interior point (compared with region.interior, not trusted).
 struct SavedRegion {

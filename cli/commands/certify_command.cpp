@@ -129,7 +129,7 @@ Json result_to_json(const Network& network, const Domain& domain, const Function
     witnesses.push_back(std::move(coordinates));
   }
   out["witness_points"] = std::move(witnesses);
-  out["stop_reason"] = result.stop_reason == StopReason::none ? Json(nullptr) : Json(to_string(result.stop_reason));
+  out["stop_reason"] = stop_reason_json(result.stop_reason);
   out["nonsmooth_regions"] = std::move(nonsmooth);
   out["extra_kernel"] = std::move(extra);
   out["extra_kernel_summary"] = mechanism_summary_json(network, result);

@@ -15,18 +15,14 @@
 #include "cli/signals.hpp"
 #include "cli/walk_options.hpp"
 #include "core/network_io.hpp"
-#include "core/jacobian.hpp"
-#include "core/rank.hpp"
 #include "core/stop.hpp"
 #include "enumerate/region_geometry.hpp"
 #include "enumerate/walker.hpp"
 
 #include <algorithm>
 #include <atomic>
-#include <cmath>
 #include <iostream>
 #include <limits>
-#include <map>
 #include <set>
 #include <sstream>
 

@@ -130,7 +130,7 @@ Json walk_summary_to_json(const Network& network, const Domain& domain, const Wa
   out["nonsmooth_regions"] = std::move(nonsmooth);
   out["facets"] = summary.facets;
   out["complete"] = summary.complete;
-  out["stop_reason"] = summary.stop_reason == StopReason::none ? Json(nullptr) : Json(to_string(summary.stop_reason));
+  out["stop_reason"] = stop_reason_json(summary.stop_reason);
   out["certified"] = summary.certified;
   out["lp_queries"] = summary.counts.lp_queries;
   out["filter_settled"] = summary.counts.filter_settled;

@@ -99,7 +99,7 @@ Json sample_json(const SurveySample& sample) {
   line["parametric_dimension"] = sample.parametric_dimension;
   line["regions"] = sample.regions;
   line["early_stop"] = sample.early_stop;
-  line["stop_reason"] = sample.stop_reason.empty() ? Json(nullptr) : Json(sample.stop_reason);
+  line["stop_reason"] = stop_reason_json(sample.stop_reason);
   line["seconds"] = sample.seconds;
   return line;
 }
@@ -114,6 +114,15 @@ T required(const Json& document, const char* key, const std::string& where) {
   } catch (const Json::exception&) {
     throw input_error(where + ": key '" + key + "' has the wrong type");
   }
+}
+
+// The StopReason whose spec word (to_string) is `word`; "" is none, as
+// written by a survey that kept the empty string.
+StopReason stop_reason_named(const std::string& word, const std::string& where) {
+  for (StopReason reason : {StopReason::none, StopReason::time_limit, StopReason::max_regions,
+                            StopReason::interrupted, StopReason::requested})
+    if (to_string(reason) == word) return reason;
+  throw input_error(where + ": unknown \"stop_reason\" \"" + word + "\"");
 }
 
 }  // namespace
@@ -134,7 +143,7 @@ SurveySample sample_from_json(const Json& line, const std::string& where) {
   sample.regions = required<std::size_t>(line, "regions", where);
   sample.early_stop = required<bool>(line, "early_stop", where);
   if (line.contains("stop_reason") && !line["stop_reason"].is_null())
-    sample.stop_reason = required<std::string>(line, "stop_reason", where);
+    sample.stop_reason = stop_reason_named(required<std::string>(line, "stop_reason", where), where);
   sample.seconds = required<double>(line, "seconds", where);
   return sample;
 }

@@ -29,7 +29,7 @@ py::dict sample_dict(const SurveySample& sample) {
   out["parametric_dimension"] = sample.parametric_dimension;
   out["regions"] = sample.regions;
   out["early_stop"] = sample.early_stop;
-  out["stop_reason"] = optional_text(sample.stop_reason);
+  out["stop_reason"] = optional_text(to_string(sample.stop_reason));
   out["seconds"] = sample.seconds;
   return out;
 }

@@ -193,10 +193,10 @@ def walk(network, time_limit):
                 zero = [i for i, ch in enumerate(at_q.replace("|", "")) if ch == "="]
                 if zero != [neurons[j]]:
                     raise ValueError(f"{pattern}: degenerate crossing at {q}")
-                neighbour = flip(pattern, zero)
-                if neighbour not in seen:
-                    seen.add(neighbour)
-                    next_level.append(neighbour)
+                neighbor = flip(pattern, zero)
+                if neighbor not in seen:
+                    seen.add(neighbor)
+                    next_level.append(neighbor)
         level = sorted(next_level)
     return regions, time.monotonic() - started, time.process_time() - cpu_started, True
 

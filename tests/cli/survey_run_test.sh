@@ -118,4 +118,18 @@ assert bound == 29  # D = 3*4 + 5*4 + 5 = 37, minus 8 hidden neurons
 assert Fraction(summary["at_scaling_bound"]) == Fraction(sum(1 for v in values if v == bound), len(values))
 assert summary["samples"] == len(values) and summary["missing"] == 0 and summary["uncertified"] == 0
 PY
+# A sample's stop_reason is one of the spec's words (read into an enum): any
+# other is refused, naming it.
+/usr/bin/python3 - "$work/one.jsonl" "$work/odd_stop.jsonl" <<'PY'
+import json, sys
+lines = open(sys.argv[1]).read().splitlines()
+sample = json.loads(lines[1])
+sample["stop_reason"] = "sideways"
+lines[1] = json.dumps(sample)
+open(sys.argv[2], "w").write("\n".join(lines) + "\n")
+PY
+if "$pleat" survey summary "$work/odd_stop.jsonl" > /dev/null 2> "$work/odd_stop.err"; then
+  fail "a sample with stop_reason \"sideways\" was accepted"
+fi
+grep -q 'unknown "stop_reason" "sideways"' "$work/odd_stop.err" || fail "message: $(cat "$work/odd_stop.err")"
 echo "survey run: ok"

@@ -30,7 +30,7 @@ SurveySample cut_sample(std::uint64_t index, std::size_t lower, std::size_t uppe
   s.lower_bound = lower;
   s.upper_bound = upper;
   s.scaling_bound = scaling_bound;
-  s.stop_reason = "time-limit";
+  s.stop_reason = StopReason::time_limit;
   return s;
 }
 
