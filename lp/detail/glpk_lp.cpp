@@ -113,6 +113,14 @@ DoubleStatus GlpkLP::solve() {
   glp_init_smcp(&parameters);
   parameters.msg_lev = GLP_MSG_OFF;
   parameters.it_lim = 100000;
+  // Dual simplex first (primal if it fails): row generation re-solves after
+  // adding violated rows to an optimal basis, which stays dual feasible. Measured
+  // with callgrind on walks that use these LPs (first 300-400 regions, seed 1):
+  // 5,6,6,6,1 10.6 G -> 7.2 G instructions, 4,6,6,1 2.07 -> 1.94 G, 3,5,5,5,5,1
+  // with its second layer times 10^-24 3.41 -> 2.80 G; 4,8,8,1 (seed 2) and the
+  // first layer times 10^12 within 2%. GLP_PT_STD pricing instead was 1.33x
+  // worse on 4,6,6,1.
+  parameters.meth = GLP_DUALP;
   int code = glp_simplex(problem_, &parameters);
   if (code == GLP_EBADB || code == GLP_ESING || code == GLP_ECOND || code == GLP_EFAIL) {
     glp_adv_basis(problem_, 0);
