@@ -104,7 +104,7 @@ struct WalkOptions {
   // Called for each region in output order; return false to stop the walk
   // (StopReason::requested, e.g. a rank that met its bound).
   std::function<bool(const Region&)> on_region;
-  std::function<void(const WalkProgress&)> on_progress;  // after each level and every ~0.5 s
+  std::function<void(const WalkProgress&)> on_progress;  // every 0.2 s during a level (distributed walk: also after it)
 };
 
 struct WalkSummary {

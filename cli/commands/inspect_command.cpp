@@ -66,23 +66,7 @@ std::string point_text(const RationalVector& point, bool exact_only) {
 Json record_json(const Network& network, const Record& record) {
   const Region& region = record.region;
   Json facets = Json::array();
-  for (const auto& facet : region.facets) {
-    Json entry;
-    entry["neurons"] = facet.neurons;
-    Json layers = Json::array();
-    for (std::size_t neuron : facet.neurons) layers.push_back(network.layer_of_neuron(neuron) + 1);
-    entry["layers"] = std::move(layers);
-    entry["side"] = facet.domain_side ? Json(*facet.domain_side) : Json(nullptr);
-    entry["normal"] = rational_list_json(facet.normal);
-    entry["offset"] = format_rational(facet.offset);
-    entry["neighbor"] = facet.neighbor ? Json(format_pattern(network, *facet.neighbor)) : Json(nullptr);
-    if (!facet.other_neighbors.empty()) {
-      Json others = Json::array();
-      for (const auto& other : facet.other_neighbors) others.push_back(format_pattern(network, other));
-      entry["other_neighbors"] = std::move(others);
-    }
-    facets.push_back(std::move(entry));
-  }
+  for (const auto& facet : region.facets) facets.push_back(facet_to_json(network, facet, true));
   auto list = [](const std::vector<RationalVector>& vectors) {
     Json out = Json::array();
     for (const auto& v : vectors) out.push_back(rational_list_json(v));

@@ -85,20 +85,30 @@ Json regions_header(const Network& network, const Domain& domain, const std::str
               {"parametric_dimension", network.parametric_dimension()}};
 }
 
+Json facet_to_json(const Network& network, const RegionFacet& facet, bool with_layers) {
+  Json entry;
+  entry["neurons"] = facet.neurons;
+  if (with_layers) {
+    Json layers = Json::array();
+    for (std::size_t neuron : facet.neurons) layers.push_back(network.layer_of_neuron(neuron) + 1);
+    entry["layers"] = std::move(layers);
+  }
+  entry["side"] = facet.domain_side ? Json(*facet.domain_side) : Json(nullptr);
+  entry["normal"] = rational_list_json(facet.normal);
+  entry["offset"] = format_rational(facet.offset);
+  entry["neighbor"] = facet.neighbor ? Json(format_pattern(network, *facet.neighbor)) : Json(nullptr);
+  if (!facet.other_neighbors.empty()) {
+    Json others = Json::array();
+    for (const auto& other : facet.other_neighbors) others.push_back(format_pattern(network, other));
+    entry["other_neighbors"] = std::move(others);
+  }
+  return entry;
+}
+
 Json region_to_json(const Network& network, const Region& region) {
   Json facets = Json::array();
   for (const auto& facet : region.facets) {
-    Json entry;
-    entry["neurons"] = facet.neurons;
-    entry["side"] = facet.domain_side ? Json(*facet.domain_side) : Json(nullptr);
-    entry["normal"] = rational_list_json(facet.normal);
-    entry["offset"] = format_rational(facet.offset);
-    entry["neighbor"] = facet.neighbor ? Json(format_pattern(network, *facet.neighbor)) : Json(nullptr);
-    if (!facet.other_neighbors.empty()) {
-      Json others = Json::array();
-      for (const auto& other : facet.other_neighbors) others.push_back(format_pattern(network, other));
-      entry["other_neighbors"] = std::move(others);
-    }
+    Json entry = facet_to_json(network, facet, false);
     entry["point"] = rational_list_json(facet.relative_interior.point);
     facets.push_back(std::move(entry));
   }
