@@ -1,6 +1,7 @@
 // The Motzkin certificates of the plane and space paths' non-facet verdicts
 // (lp/plane_cell.hpp, lp/space_cell.hpp), in rational form for --certificates:
 // the multipliers of a group's support solved exactly and checked. Exact.
+#include "lp/detail/exact_linear.hpp"
 #include "lp/plane_cell.hpp"
 #include "lp/space_cell.hpp"
 
@@ -41,33 +42,20 @@ std::optional<NonFacetCertificate> space_redundancy_certificate(const Polyhedron
   const std::size_t n = cell.dim;
   const std::size_t s = support.size();
   if (s == 0 || s > n) return std::nullopt;
-  // Columns a_s, then a_j; Gauss-Jordan on n equations in s unknowns.
-  std::vector<std::vector<Rational>> m(n, std::vector<Rational>(s + 1));
-  for (std::size_t r = 0; r < n; ++r) {
-    for (std::size_t t = 0; t < s; ++t) m[r][t] = cell.constraints[support[t]].normal[r];
-    m[r][s] = cell.constraints[j].normal[r];
-  }
-  for (std::size_t col = 0; col < s; ++col) {
-    std::size_t pivot = col;
-    while (pivot < n && sgn(m[pivot][col]) == 0) ++pivot;
-    if (pivot == n) return std::nullopt;  // dependent support
-    std::swap(m[pivot], m[col]);
-    for (std::size_t c = col + 1; c <= s; ++c) m[col][c] /= m[col][col];
-    m[col][col] = 1;
-    for (std::size_t r = 0; r < n; ++r) {
-      if (r == col || sgn(m[r][col]) == 0) continue;
-      const Rational factor = m[r][col];
-      for (std::size_t c = col; c <= s; ++c) m[r][c] -= factor * m[col][c];
-    }
-  }
-  for (std::size_t r = s; r < n; ++r)
-    if (sgn(m[r][s]) != 0) return std::nullopt;  // a_j not in their span
+  // a_j = sum_t y_t a_{support[t]}: n equations in s unknowns, whose solution
+  // is unique unless the support is dependent or a_j is outside its span
+  // (then no certificate here).
+  RationalMatrix columns(n, s);
+  for (std::size_t r = 0; r < n; ++r)
+    for (std::size_t t = 0; t < s; ++t) columns(r, t) = cell.constraints[support[t]].normal[r];
+  const std::optional<RationalVector> y = detail::solve_unique(std::move(columns), cell.constraints[j].normal);
+  if (!y) return std::nullopt;
   NonFacetCertificate certificate{Rational(-1), RationalVector(cell.constraints.size())};
   Rational offset = 0;
   for (std::size_t t = 0; t < s; ++t) {
-    if (sgn(m[t][s]) < 0) return std::nullopt;
-    offset += m[t][s] * cell.constraints[support[t]].offset;
-    certificate.multipliers[support[t]] = m[t][s];
+    if (sgn((*y)[t]) < 0) return std::nullopt;
+    offset += (*y)[t] * cell.constraints[support[t]].offset;
+    certificate.multipliers[support[t]] = (*y)[t];
   }
   if (offset > cell.constraints[j].offset) return std::nullopt;
   return certificate;
