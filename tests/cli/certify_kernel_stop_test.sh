@@ -4,9 +4,8 @@
 # a few layers in: the walk sees a handful of regions, and the phase after it
 # faces a kernel of about 4000 dense flat directions (its elimination modulo
 # p, reconstruction and exact check against every region): about 25 s in all
-# (500 layers and 2000 directions now certify within the 4 s limit below). A 20 s
-# limit used
-# to end after 32 s there; the elimination now runs in FLINT calls of well
+# (500 layers and 2000 directions now certify within the 4 s limit below). A
+# 20 s limit used to end after 32 s there; the elimination now runs in FLINT calls of well
 # under a second with a poll between them, and the check and reconstruction
 # poll per vector and per prime. Checked: bounds, "time-limit" /
 # "interrupted", never certified, exit 0 / 130. The wall bounds (limit + 12 s)
