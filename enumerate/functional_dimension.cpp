@@ -203,7 +203,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // misses (probability 1/p) leaves the rank a lower bound still; the kernel
   // read off the basis then fails the exact check after the walk, so the
   // result would be bounds, never a wrong certified value.
-  auto add_region_rows = [&](const ActivationPattern& pattern) {
+  // interior: the region's exact interior point, recorded as a witness when
+  // the region's rows raise the rank (nullptr: none recorded).
+  auto add_region_rows = [&](const ActivationPattern& pattern, const RationalVector* interior) {
     KeptRows region{pattern, {}};
     if (options.across) {  // the rows its owner kept: the same rows stay (distributed_certify.hpp)
       for (const auto& [r, row] : options.across->region_rows())
@@ -216,7 +218,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       for (std::size_t r = 0; r < rows.rows(); ++r)
         if (basis.add_row_screened(rows.row(r))) region.rows.push_back(r);
     }
-    if (!region.rows.empty()) kept.push_back(std::move(region));
+    if (region.rows.empty()) return;
+    kept.push_back(std::move(region));
+    if (interior) result.witness_points.push_back(*interior);
   };
   const unsigned threads =
       options.walk.threads ? options.walk.threads : std::max(1u, std::thread::hardware_concurrency());
@@ -349,7 +353,8 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     activity.record(region.pattern);
     if (!region.nonsmooth_neurons.empty()) return true;  // no smooth points: no rows
     if (!options.across) smooth.push_back(region.pattern);  // across: each owner keeps its own
-    if (!seen_by_points.contains(region.pattern)) add_region_rows(region.pattern);
+    if (!seen_by_points.contains(region.pattern))
+      add_region_rows(region.pattern, &region.interior.point);
     if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) {
       result.early_stop = true;
       return false;

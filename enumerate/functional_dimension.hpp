@@ -118,9 +118,12 @@ struct FunctionalDimensionResult {
   WalkSummary walk;
   // The no-walk path: certified from points alone (then regions_walked is 0
   // and early_stop is true), how many points were drawn, and the witnesses:
-  // the exact points whose regions' rows raised the rank, in that order
-  // (regions_contributing of them when certified_by_points). Their regions'
-  // rows have rank lower_bound modulo a prime, hence over Q.
+  // the exact points whose regions' rows raised the rank, in that order: the
+  // points drawn first, then the interior points of the walked regions that
+  // contributed rows (regions_contributing in all, the same on any number of
+  // threads or ranks). Their regions' rows have rank lower_bound modulo a
+  // prime, hence over Q: the lower bound of a run cut short is exportable and
+  // re-checked by certifying with these points (the CLI's --points).
   bool certified_by_points = false;
   std::size_t points_drawn = 0;
   std::vector<RationalVector> witness_points;

@@ -147,4 +147,20 @@ if [ "$(json_eval "$work/cut.json" 'd["walk_complete"]')" = False ]; then
     = "(False, None, True)" ] || fail "a cut run: $(cat "$work/cut.json")"
 fi
 
+# ---- a walk's lower bound is exportable: the interior points of the walked
+# regions that raised the rank are witnesses too, one per contributing region,
+# and certifying with them re-checks the rank of their regions' rows (exact, in
+# the batch report) as the lower bound. degenerate2d is below its scaling bound,
+# so the walk runs after the points stall.
+degenerate=$source_dir/data/degenerate2d.json
+"$pleat" certify "$degenerate" --json -q --witness-out "$work/walk-witnesses.txt" > "$work/walked.json" ||
+  fail "certify degenerate2d exited $?"
+[ "$(json_eval "$work/walked.json" '(d["certified_by"], len(d["witness_points"]) == d["regions_contributing"] > 0)')" \
+  = "('kernel', True)" ] || fail "walk witnesses: $(head -c 600 "$work/walked.json")"
+lower=$(json_eval "$work/walked.json" 'd["lower_bound"]')
+"$pleat" certify "$degenerate" --points "$work/walk-witnesses.txt" --json -q > "$work/rechecked.json" ||
+  fail "certify --points with the walk's witnesses exited $?"
+[ "$(json_eval "$work/rechecked.json" 'd["regions_rank"]')" = "$lower" ] ||
+  fail "the walk's witnesses re-check to $(json_eval "$work/rechecked.json" 'd["regions_rank"]'), not $lower"
+
 echo "certify: all checks passed"
