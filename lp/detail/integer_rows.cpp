@@ -1,8 +1,6 @@
 // Integer rows of a cell and small null spaces by minors (integer_rows.hpp).
 #include "lp/detail/integer_rows.hpp"
 
-#include <array>
-
 namespace pleat::lp::detail {
 
 IntegerRow integer_row(const Constraint& constraint) {

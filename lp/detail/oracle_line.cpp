@@ -244,9 +244,9 @@ std::optional<RationalVector> step_inside(Rows rows, std::size_t j,
         norm -= value;
       }
     }
-    if (!smallest) {
-      smallest = Fraction{slacks[i], norm};
-    } else if (*smallest > Fraction{slacks[i], norm}) {
+    // slack_i / norm below the smallest so far (cross-multiplied, no copies).
+    if (!smallest || smallest->p * norm > slacks[i] * smallest->q) {
+      if (!smallest) smallest.emplace();
       smallest->p.swap(slacks[i]);
       smallest->q.swap(norm);
     }
@@ -311,11 +311,6 @@ RationalVector on_callers_rows(const std::vector<IntegerRow>& rows, const std::v
   return multipliers;
 }
 
-// An open plane cell of integer rows: an interior point, or (when every line has
-// failed) nullopt after offering each line's support, the line included, that
-// carries Gordan multipliers y to is_empty_on(support, y) (which returns true once
-// it has proved the cell empty with them; then the search stops and nullopt is
-// returned too: the caller holds the proof).
 // 0, ..., count - 1 with the valid entries of try_first first.
 std::vector<std::size_t> asking_order(std::size_t count, const std::vector<std::size_t>& try_first) {
   std::vector<std::size_t> order;
@@ -331,6 +326,11 @@ std::vector<std::size_t> asking_order(std::size_t count, const std::vector<std::
   return order;
 }
 
+// An open plane cell of integer rows: an interior point, or (when every line has
+// failed) nullopt after offering each line's support, the line included, that
+// carries Gordan multipliers y to is_empty_on(support, y) (which returns true once
+// it has proved the cell empty with them; then the search stops and nullopt is
+// returned too: the caller holds the proof).
 template <typename EmptyOn>
 std::optional<RationalVector> open_plane_cell(Rows rows, EmptyOn&& is_empty_on,
                                               const std::vector<std::size_t>& try_first = {}) {
@@ -352,7 +352,6 @@ std::optional<RationalVector> open_plane_cell(Rows rows, EmptyOn&& is_empty_on,
 }  // namespace
 
 std::optional<FacetVerdict> classify_group_on_line(const Polyhedron& cell, const std::vector<std::size_t>& group) {
-  if (cell.dim != 2 || group.empty() || !is_well_formed(cell)) return std::nullopt;
   return classify_group_on_line(cell, group, integer_rows(cell));
 }
 
@@ -457,7 +456,6 @@ std::optional<RationalVector> point_on_plane(const std::vector<IntegerRow>& rows
 }  // namespace
 
 std::optional<FacetVerdict> classify_group_on_plane(const Polyhedron& cell, const std::vector<std::size_t>& group) {
-  if (cell.dim != 3 || group.empty() || !is_well_formed(cell)) return std::nullopt;
   return classify_group_on_plane(cell, group, integer_rows(cell));
 }
 
