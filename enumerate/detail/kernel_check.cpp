@@ -82,7 +82,7 @@ std::vector<std::pair<std::size_t, Integer>> primitive_integer_entries(const Rat
 struct RegionFactors {
   std::vector<std::vector<std::uint64_t>> linear, offset, signal;
   std::vector<std::vector<std::size_t>> passing;  // layer k: the neurons that pass (on, or linear)
-  std::vector<std::uint64_t> entries;
+  std::vector<std::size_t> all_inputs;  // 0 .. n0-1
 };
 
 __extension__ typedef unsigned __int128 Wide;
@@ -145,7 +145,8 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
   factors.linear[0].assign(n0 * n0, 0);
   for (std::size_t t = 0; t < n0; ++t) factors.linear[0][t * n0 + t] = 1;
   factors.offset[0].assign(n0, 0);
-  std::vector<std::size_t> all_inputs(n0);
+  std::vector<std::size_t>& all_inputs = factors.all_inputs;
+  all_inputs.resize(n0);
   for (std::size_t t = 0; t < n0; ++t) all_inputs[t] = t;
   for (std::size_t k = 0; k < forward_to; ++k) {
     const ModularMatrix& weights = network.weights[k];
@@ -311,9 +312,13 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatri
         const ColumnRole& role = columns_[c];
         if (role.input != ColumnRole::bias) modulus.forward_to = std::max(modulus.forward_to, role.layer);
         modulus.backward_to = std::min(modulus.backward_to, role.layer);
-        sparse.push_back({role, residue});
+        sparse.push_back(
+            {role, network.layers[role.layer].width(), residue, n_mulmod_precomp_shoup(residue, prime)});
       }
-      if (!sparse.empty()) modulus.vectors.push_back(std::move(sparse));
+      if (sparse.size() == 1)
+        modulus.units.push_back(sparse.front());
+      else if (!sparse.empty())
+        modulus.vectors.push_back(std::move(sparse));
     }
   });
 }
@@ -324,49 +329,44 @@ namespace {
 // pattern's blocks modulo a prime is 0 for every one of them: row t's entry
 // at W_k[i,j] is G_k[o,i] x_t[j] (x_0 the offset, x_t the slope t), at b_k[i]
 // G_k[o,i] on row 0 and 0 on the others. A vector with one entry needs no
-// product (a prime field has no zero divisors); longer ones sum each
-// neuron's weights first (one reduction per neuron and row).
+// product (a prime field has no zero divisors); a longer one multiplies
+// each entry by x_t[j] with its Shoup quotient (the entry is fixed, the
+// region changes) and sums the products with G lazily: one reduction per
+// vector and row.
 template <typename Entry>
 bool annihilates_rows(const std::vector<Entry>& vector, const RegionFactors& factors, const ModularNetwork& network,
                       std::size_t o, std::uint64_t inverse) {
   const std::size_t n0 = network.input_dim;
   const std::uint64_t prime = network.prime;
-  auto signal = [&](const auto& role) {
-    return factors.signal[role.layer][o * network.weights[role.layer].rows() + role.neuron];
-  };
-  auto input = [&](const auto& role, std::size_t t) {  // x_t[j] of the role's layer
-    return t == 0 ? factors.offset[role.layer][role.input] : factors.linear[role.layer][role.input * n0 + (t - 1)];
-  };
-  if (vector.size() == 1) {
-    const auto& role = vector.front().role;
-    if (signal(role) == 0) return true;
-    if (role.input == static_cast<std::size_t>(-1)) return false;  // the bias: G on row 0
-    for (std::size_t t = 0; t <= n0; ++t)
-      if (input(role, t) != 0) return false;
-    return true;
-  }
   for (std::size_t t = 0; t <= n0; ++t) {
     LazySum sum(prime, inverse);
-    for (std::size_t e = 0; e < vector.size();) {
-      const auto& role = vector[e].role;
-      const std::uint64_t g = signal(role);
-      std::size_t end = e + 1;
-      while (end < vector.size() && vector[end].role.layer == role.layer && vector[end].role.neuron == role.neuron &&
-             vector[end].role.input != static_cast<std::size_t>(-1) && role.input != static_cast<std::size_t>(-1))
-        ++end;
-      if (g != 0) {
-        if (role.input == static_cast<std::size_t>(-1)) {
-          if (t == 0) sum.add(g, vector[e].value);
-        } else {
-          LazySum inner(prime, inverse);
-          for (std::size_t f = e; f < end; ++f) inner.add(vector[f].value, input(vector[f].role, t));
-          sum.add(g, inner.value());
-        }
+    for (const auto& entry : vector) {
+      const auto& role = entry.role;
+      const std::uint64_t g = factors.signal[role.layer][o * entry.width + role.neuron];
+      if (g == 0) continue;
+      if (role.input == static_cast<std::size_t>(-1)) {
+        if (t == 0) sum.add(g, entry.value);
+        continue;
       }
-      e = end;
+      const std::uint64_t x =
+          t == 0 ? factors.offset[role.layer][role.input] : factors.linear[role.layer][role.input * n0 + (t - 1)];
+      if (x != 0) sum.add(g, n_mulmod_shoup(entry.value, x, entry.shoup, prime));
     }
     if (sum.value() != 0) return false;
   }
+  return true;
+}
+
+// The same for a vector with one entry: its column of the rows is 0.
+template <typename Entry>
+bool annihilates_rows(const Entry& unit, const RegionFactors& factors, std::size_t n0, std::size_t o) {
+  const auto& role = unit.role;
+  if (factors.signal[role.layer][o * unit.width + role.neuron] == 0) return true;
+  if (role.input == static_cast<std::size_t>(-1)) return false;  // the bias: G on row 0
+  if (factors.offset[role.layer][role.input] != 0) return false;
+  const std::uint64_t* slopes = factors.linear[role.layer].data() + role.input * n0;
+  for (std::size_t t = 0; t < n0; ++t)
+    if (slopes[t] != 0) return false;
   return true;
 }
 
@@ -376,13 +376,17 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
   thread_local RegionFactors factors;
   for (const Modulus& modulus : moduli_) {
     poll_stop();
-    if (modulus.vectors.empty()) continue;
+    if (modulus.vectors.empty() && modulus.units.empty()) continue;
     const std::uint64_t inverse = n_preinvert_limb(modulus.network.prime);
     region_factors(modulus.network, pattern, modulus.forward_to, modulus.backward_to, factors);
     const std::size_t nd = modulus.network.bias.back().size();
-    for (std::size_t o = 0; o < nd; ++o)
+    const std::size_t n0 = modulus.network.input_dim;
+    for (std::size_t o = 0; o < nd; ++o) {
+      for (const Entry& unit : modulus.units)
+        if (!annihilates_rows(unit, factors, n0, o)) return false;
       for (const auto& vector : modulus.vectors)
         if (!annihilates_rows(vector, factors, modulus.network, o, inverse)) return false;
+    }
   }
   return true;
 }

@@ -59,18 +59,21 @@ class AnnihilationCheck {
     static constexpr std::size_t bias = static_cast<std::size_t>(-1);
     std::size_t layer, neuron, input;
   };
-  // One nonzero entry of a vector modulo a prime: its parameter's role and
-  // residue. A vector's entries are in parameter order, so a neuron's
-  // incoming weights are consecutive (one reduction per neuron and row).
+  // One nonzero entry of a vector modulo a prime: its parameter's role, its
+  // residue and that residue's Shoup quotient (products with it cost no
+  // division).
   struct Entry {
     ColumnRole role;
-    std::uint64_t value;
+    std::size_t width;  // of the role's layer: G_k is nd x width
+    std::uint64_t value, shoup;
   };
   struct Modulus {
     ModularNetwork network;
     // Sparse, residues, in parameter order (a vector with every residue 0
-    // is left out: it annihilates every row modulo this prime).
+    // is left out: it annihilates every row modulo this prime); the vectors
+    // with one entry apart (a zero test each).
     std::vector<std::vector<Entry>> vectors;
+    std::vector<Entry> units;
     // The layers whose inputs (0..forward_to) and backward signals
     // (backward_to..depth-1) those columns need.
     std::size_t forward_to = 0, backward_to = 0;
