@@ -78,9 +78,11 @@ struct FunctionalDimensionOptions {
   // ones, reaching thin and far regions (sweep_lines; off: random points only).
   // Either phase also ends early when the rank is more than 1/16 below the
   // bound and, at the rate it rose over the phase's recent batches, could not
-  // reach the bound within the phase's budget (a network below its bound;
-  // give_up_early, off: only the stalls and budgets above end them). Speed
-  // only: the value and its proof do not depend on it.
+  // reach the bound within the phase's budget, or its rise decays
+  // geometrically towards a rank 16 or more rows short (then the lines are
+  // skipped too): a network below its bound (give_up_early, off: only the
+  // stalls and budgets above end them). Speed only: the value and its proof
+  // do not depend on it.
   bool points_first = true;
   bool sweep_lines = true;
   bool give_up_early = true;

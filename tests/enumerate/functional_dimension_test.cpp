@@ -775,6 +775,10 @@ TEST(CertifyFromPoints, GivesUpEarlyFarBelowTheBoundOnly) {
   EXPECT_EQ(*early.functional_dimension, 374u);
   EXPECT_EQ(early.functional_dimension, patient.functional_dimension);
   EXPECT_LT(early.points_drawn, patient.points_drawn * 2 / 3);
+  // The rise decays geometrically (90 138 185 223 260 277 after the first six
+  // batches of 32 points, 496 to reach): the points end after the sixth
+  // batch, and no line is swept (both would add every row the walk adds).
+  EXPECT_EQ(early.points_drawn, 6u * 32u);
 
   const Network at = random_network({6, 20, 10, 1}, 1);
   options.give_up_early = true;
