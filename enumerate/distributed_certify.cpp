@@ -226,7 +226,7 @@ ShareVerdict check_share(const Network& network, const std::vector<ActivationPat
   if (smooth.empty() || candidate.rows() == 0) return verdict;
   try {
     const StopScope scope(stop);  // the check's construction polls it
-    const detail::AnnihilationCheck check(network, candidate, detail::CheckScale(network));
+    const detail::AnnihilationCheck check(network, candidate, detail::CheckScale(network), std::max(1u, threads));
     bool stopped = false;
     verdict.is_rejected = detail::first_rejected_pattern(check, smooth, std::max(1u, threads), stop, stopped, progress)
                               .has_value();

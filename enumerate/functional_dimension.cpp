@@ -200,7 +200,7 @@ std::optional<std::size_t> first_region_not_annihilated(const Network& network, 
   if (vectors.cols() != network.parametric_dimension())
     throw usage_error("first_region_not_annihilated: the vectors need one entry per parameter");
   if (vectors.rows() == 0) return std::nullopt;
-  const detail::AnnihilationCheck check(network, vectors, detail::CheckScale(network));
+  const detail::AnnihilationCheck check(network, vectors, detail::CheckScale(network), std::max(1u, threads));
   bool stopped = false;
   return detail::first_rejected_pattern(check, patterns, std::max(1u, threads), StopRequest(), stopped, {});
 }
@@ -473,8 +473,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     result.upper_bound = std::min(result.scaling_bound, parameters - scaling.rank - extra.rows());
     if (options.keep_kernel)
       result.kernel = stack_matrices(scaling_directions(network, scaling.independent_neurons), extra);
-    result.extra_kernel = detail::name_extra_directions(network, activity, extra, threads, [&](std::size_t done) {
-      report("naming", done, extra.rows());
+    const std::size_t extra_count = extra.rows();
+    result.extra_kernel = detail::name_extra_directions(network, activity, std::move(extra), threads, [&](std::size_t done) {
+      report("naming", done, extra_count);
     });
     result.certified = result.lower_bound == result.upper_bound;
   };

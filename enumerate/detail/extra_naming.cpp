@@ -4,47 +4,10 @@
 #include "enumerate/detail/parallel_for.hpp"
 
 #include <algorithm>
-#include <initializer_list>
 #include <optional>
-#include <set>
 
 namespace pleat::detail {
 namespace {
-
-// Parameter index sets of one hidden neuron.
-struct NeuronParameters {
-  std::set<std::size_t> incoming;  // W_k[i,:] and b_k[i]
-  std::set<std::size_t> bias;      // b_k[i]
-  std::set<std::size_t> outgoing;  // W_{k+1}[:,i]
-  std::set<std::size_t> next_biases;  // b_{k+1}[:]
-};
-
-std::vector<NeuronParameters> hidden_neuron_parameters(const Network& network) {
-  std::vector<NeuronParameters> out;
-  for (std::size_t k = 0; k + 1 < network.depth(); ++k) {
-    const Layer& layer = network.layers[k];
-    const Layer& next = network.layers[k + 1];
-    const std::size_t offset = network.parameter_offset(k);
-    const std::size_t next_offset = network.parameter_offset(k + 1);
-    for (std::size_t i = 0; i < layer.width(); ++i) {
-      NeuronParameters p;
-      for (std::size_t j = 0; j < layer.fan_in(); ++j) p.incoming.insert(offset + i * layer.fan_in() + j);
-      const std::size_t bias = offset + layer.width() * layer.fan_in() + i;
-      p.incoming.insert(bias);
-      p.bias.insert(bias);
-      for (std::size_t o = 0; o < next.width(); ++o) {
-        p.outgoing.insert(next_offset + o * next.fan_in() + i);
-        p.next_biases.insert(next_offset + next.width() * next.fan_in() + o);
-      }
-      out.push_back(std::move(p));
-    }
-  }
-  return out;
-}
-
-bool is_subset(const std::set<std::size_t>& support, const std::set<std::size_t>& allowed) {
-  return std::includes(allowed.begin(), allowed.end(), support.begin(), support.end());
-}
 
 bool is_proportional_row(const Layer& layer, std::size_t a, std::size_t b) {
   // (W[a,:], b[a]) = lambda (W[b,:], b[b]) with lambda > 0.
@@ -76,70 +39,102 @@ std::vector<char> duplicated_neurons(const Network& network) {
   return duplicated;
 }
 
-// Names the mechanism behind one extra kernel vector by its support.
-void recognise_mechanism(const Network& network, const NeuronActivity& activity,
-                         const std::vector<NeuronParameters>& parameters, const std::vector<char>& duplicated,
-                         ExtraKernelDirection& direction) {
-  std::set<std::size_t> support;
-  for (std::size_t c = 0; c < direction.vector.size(); ++c)
-    if (direction.vector[c] != 0) support.insert(c);
-  const std::size_t hidden = parameters.size();
+// Hidden neuron n's parameters, in four parts: incoming (W_k[i,:] and
+// b_k[i]), its bias b_k[i] alone, outgoing (W_{k+1}[:,i]) and the next
+// layer's biases b_{k+1}[:].
+enum Part : unsigned { incoming = 1, bias = 2, outgoing = 4, next_biases = 8 };
 
-  auto try_union = [&](auto&& qualifies, auto&& parameters_of, Mechanism mechanism) {
-    std::set<std::size_t> allowed;
-    std::vector<std::size_t> neurons;
-    for (std::size_t n = 0; n < hidden; ++n) {
-      if (!qualifies(n)) continue;
-      const std::set<std::size_t> own = parameters_of(n);
-      bool touches = false;
-      for (std::size_t c : own) touches = touches || support.contains(c);
-      if (!touches) continue;
-      allowed.insert(own.begin(), own.end());
-      neurons.push_back(n);
+// One mechanism: which hidden neurons may carry it and which of their
+// parameters it may move. A direction has it exactly when every column of
+// its support is such a parameter of such a neuron; its neurons are those
+// whose parameters meet the support. covering[c]: those neurons for column
+// c, increasing.
+struct MechanismCover {
+  Mechanism mechanism;
+  std::vector<std::vector<std::size_t>> covering;
+};
+
+MechanismCover mechanism_cover(const Network& network, Mechanism mechanism, unsigned parts,
+                               const std::vector<char>& qualifies) {
+  MechanismCover cover{mechanism, std::vector<std::vector<std::size_t>>(network.parametric_dimension())};
+  std::size_t n = 0;  // hidden neurons in order
+  for (std::size_t k = 0; k + 1 < network.depth(); ++k) {
+    const Layer& layer = network.layers[k];
+    const Layer& next = network.layers[k + 1];
+    const std::size_t offset = network.parameter_offset(k);
+    const std::size_t next_offset = network.parameter_offset(k + 1);
+    for (std::size_t i = 0; i < layer.width(); ++i, ++n) {
+      if (!qualifies[n]) continue;
+      auto add = [&](std::size_t c) {
+        std::vector<std::size_t>& neurons = cover.covering[c];
+        if (neurons.empty() || neurons.back() != n) neurons.push_back(n);
+      };
+      if (parts & incoming)
+        for (std::size_t j = 0; j < layer.fan_in(); ++j) add(offset + i * layer.fan_in() + j);
+      if (parts & (incoming | bias)) add(offset + layer.width() * layer.fan_in() + i);
+      for (std::size_t o = 0; o < next.width(); ++o) {
+        if (parts & outgoing) add(next_offset + o * next.fan_in() + i);
+        if (parts & next_biases) add(next_offset + next.width() * next.fan_in() + o);
+      }
     }
-    if (neurons.empty() || !is_subset(support, allowed)) return false;
-    direction.mechanism = mechanism;
-    direction.neurons = neurons;
-    return true;
-  };
-  auto union_of = [&](std::size_t n, std::initializer_list<const std::set<std::size_t>*> parts) {
-    std::set<std::size_t> all;
-    for (const auto* part : parts) all.insert(part->begin(), part->end());
-    (void)n;
-    return all;
-  };
+  }
+  return cover;
+}
 
-  auto has_zero_outgoing = [&](std::size_t n) {
-    // The neuron's layer and index within it, to read its outgoing weights.
-    std::size_t layer = 0, index = n;
-    while (index >= network.layers[layer].width()) index -= network.layers[layer++].width();
-    const Layer& next = network.layers[layer + 1];
-    for (std::size_t o = 0; o < next.width(); ++o)
-      if (next.weights(o, index) != 0) return false;
-    return true;
-  };
-  if (try_union(has_zero_outgoing, [&](std::size_t n) { return parameters[n].incoming; }, Mechanism::zero_outgoing_weights))
+// The four mechanisms in the order they are tried.
+std::vector<MechanismCover> mechanism_covers(const Network& network, const NeuronActivity& activity) {
+  const std::vector<char> duplicated = duplicated_neurons(network);
+  std::vector<char> zero_outgoing, dead, always_active;
+  std::size_t n = 0;
+  for (std::size_t k = 0; k + 1 < network.depth(); ++k) {
+    const Layer& next = network.layers[k + 1];
+    for (std::size_t i = 0; i < network.layers[k].width(); ++i, ++n) {
+      bool is_zero = true;
+      for (std::size_t o = 0; o < next.width() && is_zero; ++o) is_zero = next.weights(o, i) == 0;
+      zero_outgoing.push_back(is_zero ? 1 : 0);
+      dead.push_back(activity.ever_on[n] ? 0 : 1);
+      always_active.push_back(activity.ever_not_on[n] ? 0 : 1);
+    }
+  }
+  std::vector<MechanismCover> covers;
+  covers.push_back(mechanism_cover(network, Mechanism::zero_outgoing_weights, incoming, zero_outgoing));
+  covers.push_back(mechanism_cover(network, Mechanism::dead_neuron, incoming | outgoing, dead));
+  covers.push_back(mechanism_cover(network, Mechanism::always_active_neuron, bias | next_biases, always_active));
+  covers.push_back(mechanism_cover(network, Mechanism::duplicate_neurons, incoming | outgoing, duplicated));
+  return covers;
+}
+
+// Names the mechanism behind one extra kernel vector by its support: the
+// first mechanism that covers every column of it.
+void recognise_mechanism(const std::vector<MechanismCover>& covers, const std::vector<std::size_t>& support,
+                         ExtraKernelDirection& direction) {
+  if (support.empty()) return;
+  for (const MechanismCover& cover : covers) {
+    std::vector<std::size_t> neurons;
+    bool is_covered = true;
+    for (std::size_t c : support) {
+      const std::vector<std::size_t>& covering = cover.covering[c];
+      if (covering.empty()) {
+        is_covered = false;
+        break;
+      }
+      neurons.insert(neurons.end(), covering.begin(), covering.end());
+    }
+    if (!is_covered) continue;
+    std::sort(neurons.begin(), neurons.end());
+    neurons.erase(std::unique(neurons.begin(), neurons.end()), neurons.end());
+    direction.mechanism = cover.mechanism;
+    direction.neurons = std::move(neurons);
     return;
-  if (try_union([&](std::size_t n) { return !activity.ever_on[n]; },
-                [&](std::size_t n) { return union_of(n, {&parameters[n].incoming, &parameters[n].outgoing}); },
-                Mechanism::dead_neuron))
-    return;
-  if (try_union([&](std::size_t n) { return !activity.ever_not_on[n]; },
-                [&](std::size_t n) { return union_of(n, {&parameters[n].bias, &parameters[n].next_biases}); },
-                Mechanism::always_active_neuron))
-    return;
-  try_union([&](std::size_t n) { return duplicated[n] != 0; },
-            [&](std::size_t n) { return union_of(n, {&parameters[n].incoming, &parameters[n].outgoing}); },
-            Mechanism::duplicate_neurons);
+  }
 }
 
 }  // namespace
 
 std::vector<ExtraKernelDirection> name_extra_directions(const Network& network, const NeuronActivity& activity,
-                                                        const RationalMatrix& extra, unsigned threads,
+                                                        RationalMatrix&& extra, unsigned threads,
                                                         const std::function<void(std::size_t)>& progress) {
-  const auto parameters = hidden_neuron_parameters(network);
-  const std::vector<char> duplicated = duplicated_neurons(network);
+  const std::vector<MechanismCover> covers = mechanism_covers(network, activity);
   std::vector<ExtraKernelDirection> named(extra.rows());
   const std::size_t chunk = 64 * static_cast<std::size_t>(std::max(1u, threads));
   for (std::size_t start = 0; start < extra.rows(); start += chunk) {
@@ -147,9 +142,15 @@ std::vector<ExtraKernelDirection> name_extra_directions(const Network& network, 
     progress(start);
     const std::size_t count = std::min(chunk, extra.rows() - start);
     parallel_for(count, threads, [&](std::size_t i) {
-      ExtraKernelDirection& direction = named[start + i];
-      direction.vector = extra.row(start + i);
-      recognise_mechanism(network, activity, parameters, duplicated, direction);
+      const std::size_t r = start + i;
+      ExtraKernelDirection& direction = named[r];
+      std::vector<std::size_t> support;
+      direction.vector.reserve(extra.cols());
+      for (std::size_t c = 0; c < extra.cols(); ++c) {
+        if (sgn(extra(r, c)) != 0) support.push_back(c);
+        direction.vector.push_back(std::move(extra(r, c)));  // each row is read by this call only
+      }
+      recognise_mechanism(covers, support, direction);
     });
   }
   return named;

@@ -24,13 +24,15 @@ struct NeuronActivity {
   }
 };
 
-// Each extra direction (a row of extra) with its mechanism, named on up to
-// `threads` threads in chunks (progress(done) between chunks, from the
-// calling thread, which also polls the stop request). The same for any
-// thread count; the names depend only on the vectors' supports, the
-// network's parameters and the activity. Exact.
+// Each extra direction (a row of extra, moved out of it: no copy) with its
+// mechanism, named on up to `threads` threads in chunks (progress(done)
+// between chunks, from the calling thread, which also polls the stop
+// request). The same for any thread count; the names depend only on the
+// vectors' supports, the network's parameters and the activity: the first
+// of zero outgoing weights, dead neuron, always-active neuron and duplicate
+// neurons whose neurons' parameters hold the whole support. Exact.
 std::vector<ExtraKernelDirection> name_extra_directions(const Network& network, const NeuronActivity& activity,
-                                                        const RationalMatrix& extra, unsigned threads,
+                                                        RationalMatrix&& extra, unsigned threads,
                                                         const std::function<void(std::size_t)>& progress);
 
 }  // namespace pleat::detail

@@ -9,6 +9,8 @@
 #include <mutex>
 #include <thread>
 
+#include "enumerate/detail/parallel_for.hpp"
+
 namespace pleat::detail {
 namespace {
 
@@ -45,20 +47,20 @@ Integer denominator_lcm(const Network& network) {
   return lcm;
 }
 
-// A rational row's nonzero entries (column, value) scaled by a positive
-// number to a primitive integer vector (the zero entries cost nothing: most
-// extra directions have a handful of nonzeros among thousands).
-std::vector<std::pair<std::size_t, Integer>> primitive_integer_entries(const RationalVector& row) {
+// Row r's nonzero entries (column, value) scaled by a positive number to a
+// primitive integer vector (the zero entries cost nothing: most extra
+// directions have a handful of nonzeros among thousands), read in place.
+std::vector<std::pair<std::size_t, Integer>> primitive_integer_entries(const RationalMatrix& rows, std::size_t r) {
   Integer scale = 1, content = 0;
   std::vector<std::pair<std::size_t, Integer>> out;
-  for (std::size_t c = 0; c < row.size(); ++c)
-    if (sgn(row[c]) != 0) {
-      mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), row[c].get_den_mpz_t());
+  for (std::size_t c = 0; c < rows.cols(); ++c)
+    if (sgn(rows(r, c)) != 0) {
+      mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), rows(r, c).get_den_mpz_t());
       out.emplace_back(c, 0);
     }
   for (auto& [c, value] : out) {
-    mpz_divexact(value.get_mpz_t(), scale.get_mpz_t(), row[c].get_den_mpz_t());
-    value *= row[c].get_num();
+    mpz_divexact(value.get_mpz_t(), scale.get_mpz_t(), rows(r, c).get_den_mpz_t());
+    value *= rows(r, c).get_num();
     mpz_gcd(content.get_mpz_t(), content.get_mpz_t(), value.get_mpz_t());
   }
   if (content > 1)
@@ -80,7 +82,7 @@ std::vector<std::pair<std::size_t, Integer>> primitive_integer_entries(const Rat
 struct RegionFactors {
   std::vector<std::vector<std::uint64_t>> linear, offset, signal;
   std::vector<std::vector<std::size_t>> passing;  // layer k: the neurons that pass (on, or linear)
-  std::vector<std::uint64_t> entries;
+  std::vector<std::size_t> all_inputs;  // 0 .. n0-1
 };
 
 __extension__ typedef unsigned __int128 Wide;
@@ -143,7 +145,8 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
   factors.linear[0].assign(n0 * n0, 0);
   for (std::size_t t = 0; t < n0; ++t) factors.linear[0][t * n0 + t] = 1;
   factors.offset[0].assign(n0, 0);
-  std::vector<std::size_t> all_inputs(n0);
+  std::vector<std::size_t>& all_inputs = factors.all_inputs;
+  all_inputs.resize(n0);
   for (std::size_t t = 0; t < n0; ++t) all_inputs[t] = t;
   for (std::size_t k = 0; k < forward_to; ++k) {
     const ModularMatrix& weights = network.weights[k];
@@ -251,7 +254,7 @@ CheckScale::CheckScale(const Network& network) : bounds(coefficient_bounds(netwo
 }
 
 AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatrix& vectors,
-                                     const CheckScale& check_scale)
+                                     const CheckScale& check_scale, unsigned threads)
     : vector_count_(vectors.rows()) {
   if (vector_count_ == 0) return;
   for (std::size_t k = 0; k < network.depth(); ++k) {
@@ -261,90 +264,128 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatri
     for (std::size_t i = 0; i < layer.width(); ++i) columns_.push_back({k, i, ColumnRole::bias});
   }
   const RationalVector& bounds = check_scale.bounds;
-  const Integer& scale = check_scale.scale;
-  std::vector<std::vector<std::pair<std::size_t, Integer>>> integer_rows;
-  std::vector<Rational> needed;  // each vector's bound: primes until their product exceeds it
-  Rational largest = 0;
+  const Rational scale(check_scale.scale);
+  std::vector<std::vector<std::pair<std::size_t, Integer>>> integer_rows(vectors.rows());
+  std::vector<Rational> needed(vectors.rows());  // each vector's bound: primes until their product exceeds it
   // Thousands of vectors and, on deep networks, hundreds of primes: poll
   // the current thread's stop request (a no-op without a StopScope).
-  for (std::size_t r = 0; r < vectors.rows(); ++r) {
+  parallel_for(vectors.rows(), threads, [&](std::size_t r) {
     poll_stop();
-    integer_rows.push_back(primitive_integer_entries(vectors.row(r)));
+    integer_rows[r] = primitive_integer_entries(vectors, r);
     Rational sum = 0;
-    for (const auto& [c, value] : integer_rows.back()) sum += bounds[c] * Rational(abs(value));
-    needed.push_back(sum * Rational(scale));
-    if (needed.back() > largest) largest = needed.back();
-  }
+    for (const auto& [c, value] : integer_rows[r]) sum += bounds[c] * Rational(abs(value));
+    needed[r] = sum * scale;
+  });
+  const Rational largest = *std::max_element(needed.begin(), needed.end());
   // Each vector is reduced modulo the first primes whose product exceeds its
   // own bound only: a vector with small entries (most extra directions)
-  // costs one or two primes even when another needs dozens.
+  // costs one or two primes even when another needs dozens. The primes and
+  // the vectors each checks are fixed first; the residues then on every
+  // thread (each prime its own modulus).
+  std::vector<std::uint64_t> primes;
+  std::vector<std::vector<std::size_t>> checked;  // by each prime: the vectors
   Integer product = 1;
   for (std::size_t index = 0; Rational(product) <= largest; ++index) {
+    poll_stop();
     const std::uint64_t prime = prime_sequence(index);
-    auto reduced = reduce_modulo(network, prime);
-    if (!reduced) continue;  // the prime divides a denominator
-    Modulus modulus{std::move(*reduced), {}, {}, 0, network.depth()};
-    std::vector<std::size_t> position(vectors.cols(), vectors.cols());  // in modulus.columns
-    for (std::size_t v = 0; v < integer_rows.size(); ++v) {
-      if (Rational(product) > needed[v]) continue;  // proved by the primes before
-      poll_stop();
-      std::vector<std::pair<std::size_t, std::uint64_t>> sparse;
-      for (const auto& [c, value] : integer_rows[v]) {
-        if (position[c] == vectors.cols()) {
-          position[c] = modulus.columns.size();
-          modulus.columns.push_back(c);
-          const ColumnRole& role = columns_[c];
-          if (role.input != ColumnRole::bias) modulus.forward_to = std::max(modulus.forward_to, role.layer);
-          modulus.backward_to = std::min(modulus.backward_to, role.layer);
-        }
-        sparse.emplace_back(position[c], mpz_fdiv_ui(value.get_mpz_t(), prime));
-      }
-      modulus.vectors.push_back(std::move(sparse));
-    }
+    if (!reduce_modulo(network, prime)) continue;  // the prime divides a denominator
+    std::vector<std::size_t> open;
+    const Rational reached(product);
+    for (std::size_t v = 0; v < integer_rows.size(); ++v)
+      if (reached <= needed[v]) open.push_back(v);  // not proved by the primes before
+    primes.push_back(prime);
+    checked.push_back(std::move(open));
     product *= Integer(static_cast<unsigned long>(prime));
-    moduli_.push_back(std::move(modulus));
   }
+  moduli_.resize(primes.size());
+  parallel_for(primes.size(), threads, [&](std::size_t m) {
+    poll_stop();
+    const std::uint64_t prime = primes[m];
+    Modulus& modulus = moduli_[m];
+    modulus.network = *reduce_modulo(network, prime);
+    modulus.backward_to = network.depth();
+    for (std::size_t v : checked[m]) {
+      std::vector<Entry> sparse;
+      for (const auto& [c, value] : integer_rows[v]) {
+        const std::uint64_t residue = mpz_fdiv_ui(value.get_mpz_t(), prime);
+        if (residue == 0) continue;  // no term modulo this prime
+        const ColumnRole& role = columns_[c];
+        if (role.input != ColumnRole::bias) modulus.forward_to = std::max(modulus.forward_to, role.layer);
+        modulus.backward_to = std::min(modulus.backward_to, role.layer);
+        sparse.push_back(
+            {role, network.layers[role.layer].width(), residue, n_mulmod_precomp_shoup(residue, prime)});
+      }
+      if (sparse.size() == 1)
+        modulus.units.push_back(sparse.front());
+      else if (!sparse.empty())
+        modulus.vectors.push_back(std::move(sparse));
+    }
+  });
 }
+
+namespace {
+
+// The product of one vector with the rows o(n0+1) .. o(n0+1)+n0 of a
+// pattern's blocks modulo a prime is 0 for every one of them: row t's entry
+// at W_k[i,j] is G_k[o,i] x_t[j] (x_0 the offset, x_t the slope t), at b_k[i]
+// G_k[o,i] on row 0 and 0 on the others. A vector with one entry needs no
+// product (a prime field has no zero divisors); a longer one multiplies
+// each entry by x_t[j] with its Shoup quotient (the entry is fixed, the
+// region changes) and sums the products with G lazily: one reduction per
+// vector and row.
+template <typename Entry>
+bool annihilates_rows(const std::vector<Entry>& vector, const RegionFactors& factors, const ModularNetwork& network,
+                      std::size_t o, std::uint64_t inverse) {
+  const std::size_t n0 = network.input_dim;
+  const std::uint64_t prime = network.prime;
+  for (std::size_t t = 0; t <= n0; ++t) {
+    LazySum sum(prime, inverse);
+    for (const auto& entry : vector) {
+      const auto& role = entry.role;
+      const std::uint64_t g = factors.signal[role.layer][o * entry.width + role.neuron];
+      if (g == 0) continue;
+      if (role.input == static_cast<std::size_t>(-1)) {
+        if (t == 0) sum.add(g, entry.value);
+        continue;
+      }
+      const std::uint64_t x =
+          t == 0 ? factors.offset[role.layer][role.input] : factors.linear[role.layer][role.input * n0 + (t - 1)];
+      if (x != 0) sum.add(g, n_mulmod_shoup(entry.value, x, entry.shoup, prime));
+    }
+    if (sum.value() != 0) return false;
+  }
+  return true;
+}
+
+// The same for a vector with one entry: its column of the rows is 0.
+template <typename Entry>
+bool annihilates_rows(const Entry& unit, const RegionFactors& factors, std::size_t n0, std::size_t o) {
+  const auto& role = unit.role;
+  if (factors.signal[role.layer][o * unit.width + role.neuron] == 0) return true;
+  if (role.input == static_cast<std::size_t>(-1)) return false;  // the bias: G on row 0
+  if (factors.offset[role.layer][role.input] != 0) return false;
+  const std::uint64_t* slopes = factors.linear[role.layer].data() + role.input * n0;
+  for (std::size_t t = 0; t < n0; ++t)
+    if (slopes[t] != 0) return false;
+  return true;
+}
+
+}  // namespace
 
 bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
   thread_local RegionFactors factors;
   for (const Modulus& modulus : moduli_) {
     poll_stop();
-    const std::uint64_t prime = modulus.network.prime, inverse = n_preinvert_limb(prime);
+    if (modulus.vectors.empty() && modulus.units.empty()) continue;
+    const std::uint64_t inverse = n_preinvert_limb(modulus.network.prime);
     region_factors(modulus.network, pattern, modulus.forward_to, modulus.backward_to, factors);
-    const std::size_t nd = modulus.network.bias.back().size(), n0 = modulus.network.input_dim;
-    const std::size_t used = modulus.columns.size();
-    // The blocks' entries at the columns this prime's vectors use, row by row.
-    std::vector<std::uint64_t>& entries = factors.entries;
+    const std::size_t nd = modulus.network.bias.back().size();
+    const std::size_t n0 = modulus.network.input_dim;
     for (std::size_t o = 0; o < nd; ++o) {
-      entries.assign((n0 + 1) * used, 0);
-      for (std::size_t u = 0; u < used; ++u) {
-        const ColumnRole& role = columns_[modulus.columns[u]];
-        const std::size_t width = modulus.network.weights[role.layer].rows();
-        const std::uint64_t g = factors.signal[role.layer][o * width + role.neuron];
-        if (g == 0) continue;
-        if (role.input == ColumnRole::bias) {
-          entries[u] = g;  // the offset row only
-          continue;
-        }
-        entries[u] = n_mulmod2_preinv(g, factors.offset[role.layer][role.input], prime, inverse);
-        for (std::size_t t = 0; t < n0; ++t)
-          entries[(1 + t) * used + u] =
-              n_mulmod2_preinv(g, factors.linear[role.layer][role.input * n0 + t], prime, inverse);
-      }
-      for (std::size_t row = 0; row <= n0; ++row)
-        for (const auto& vector : modulus.vectors) {
-          // Most extra directions have one entry: its product is 0 modulo
-          // the prime exactly when a factor is, with no reduction.
-          if (vector.size() == 1) {
-            const auto& [u, value] = vector.front();
-            if (value != 0 && entries[row * used + u] != 0) return false;
-            continue;
-          }
-          LazySum sum(prime, inverse);
-          for (const auto& [u, value] : vector) sum.add(entries[row * used + u], value);
-          if (sum.value() != 0) return false;
-        }
+      for (const Entry& unit : modulus.units)
+        if (!annihilates_rows(unit, factors, n0, o)) return false;
+      for (const auto& vector : modulus.vectors)
+        if (!annihilates_rows(vector, factors, modulus.network, o, inverse)) return false;
     }
   }
   return true;

@@ -41,8 +41,10 @@ struct CheckScale {
 class AnnihilationCheck {
  public:
   // Polls the current thread's stop request (poll_stop) while it reduces the
-  // vectors modulo each prime.
-  AnnihilationCheck(const Network& network, const RationalMatrix& vectors, const CheckScale& check_scale);
+  // vectors modulo each prime, on up to `threads` threads (the same check
+  // for any number).
+  AnnihilationCheck(const Network& network, const RationalMatrix& vectors, const CheckScale& check_scale,
+                    unsigned threads = 1);
   std::size_t primes() const { return moduli_.size(); }
   // True exactly when every vector annihilates every row of the pattern's
   // blocks. Exact; polls the current thread's stop request. The products are
@@ -57,11 +59,21 @@ class AnnihilationCheck {
     static constexpr std::size_t bias = static_cast<std::size_t>(-1);
     std::size_t layer, neuron, input;
   };
+  // One nonzero entry of a vector modulo a prime: its parameter's role, its
+  // residue and that residue's Shoup quotient (products with it cost no
+  // division).
+  struct Entry {
+    ColumnRole role;
+    std::size_t width;  // of the role's layer: G_k is nd x width
+    std::uint64_t value, shoup;
+  };
   struct Modulus {
     ModularNetwork network;
-    std::vector<std::size_t> columns;  // the parameters the vectors below use
-    // Sparse, residues: (position in columns, value).
-    std::vector<std::vector<std::pair<std::size_t, std::uint64_t>>> vectors;
+    // Sparse, residues, in parameter order (a vector with every residue 0
+    // is left out: it annihilates every row modulo this prime); the vectors
+    // with one entry apart (a zero test each).
+    std::vector<std::vector<Entry>> vectors;
+    std::vector<Entry> units;
     // The layers whose inputs (0..forward_to) and backward signals
     // (backward_to..depth-1) those columns need.
     std::size_t forward_to = 0, backward_to = 0;

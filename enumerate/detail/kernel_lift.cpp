@@ -391,7 +391,7 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
     const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere) {
   auto is_proved = [&](const RationalMatrix& candidate) {
     if (prove_elsewhere) return prove_elsewhere(candidate, stopped) && !stopped;
-    const AnnihilationCheck check(network, candidate, check_scale);
+    const AnnihilationCheck check(network, candidate, check_scale, threads);
     return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress) && !stopped;
   };
   const std::vector<std::size_t> leading = echelon_shape(first_image);
@@ -411,8 +411,9 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
       for (std::size_t h = 0; h < hard.size(); ++h) candidate_rows[hard[h]] = std::move((*lifted)[h]);
   }
   if (std::all_of(candidate_rows.begin(), candidate_rows.end(), [](const auto& row) { return row.has_value(); })) {
-    candidate = RationalMatrix(first_image.rows(), first_image.cols());
-    for (std::size_t j = 0; j < candidate_rows.size(); ++j) candidate->set_row(j, *candidate_rows[j]);
+    candidate = RationalMatrix(0, first_image.cols());  // rows moved in: no copy
+    candidate->reserve_rows(candidate_rows.size());
+    for (std::optional<RationalVector>& row : candidate_rows) candidate->append_row(std::move(*row));
     if (is_proved(*candidate)) return candidate;
     if (stopped || stop.is_requested()) {
       stopped = true;
