@@ -7,6 +7,7 @@
 #include <flint/fmpq.h>
 #include <flint/fmpz.h>
 #include <flint/nmod_mat.h>
+#include <flint/ulong_extras.h>
 
 #include <algorithm>
 #include <cmath>
@@ -122,6 +123,10 @@ struct RowLift {
   std::unique_ptr<RationalReconstruction> images;  // rows x |U|
   std::optional<RationalMatrix> last;  // the previous reconstruction
   bool is_stable = false;
+  // The square system [K_U | K_L] (|U| x (|U| + leads)) modulo each of the
+  // first further primes, for the exact solve once those suffice.
+  std::vector<ModularMatrix> systems;
+  std::vector<std::uint64_t> system_primes;
 };
 
 // The kept rows modulo the network's prime, r x D (coefficient_blocks_mod of
@@ -179,18 +184,30 @@ std::optional<std::vector<std::size_t>> independent_rows(const ModularMatrix& ro
   return chosen;
 }
 
-// The rows' entries on U modulo the prime of `rows`: the solution of their
-// square system there (1 at each lead), or nullopt when that system is
-// singular modulo this prime (skip the prime for these rows).
-std::optional<ModularMatrix> row_image(const RowLift& lift, const ModularMatrix& rows, std::uint64_t prime) {
+// The rows' square system modulo the prime of `rows`: |U| x (|U| + leads),
+// the equations' entries on U, then at the leads.
+ModularMatrix row_system(const RowLift& lift, const ModularMatrix& rows) {
   const std::size_t n = lift.support.size(), count = lift.leads.size();
-  NmodMatrix square(n, n, prime), right(n, count, prime), solution(n, count, prime);
+  ModularMatrix system(n, n + count);
   for (std::size_t i = 0; i < n; ++i) {
     const std::size_t r = lift.equations[i];
+    for (std::size_t m = 0; m < n; ++m) system(i, m) = rows(r, lift.support[m]);
+    for (std::size_t j = 0; j < count; ++j) system(i, n + j) = rows(r, lift.leads[j]);
+  }
+  return system;
+}
+
+// The rows' entries on U modulo a prime: the solution of their square
+// system there (1 at each lead), or nullopt when that system is singular
+// modulo this prime (skip the prime for these rows).
+std::optional<ModularMatrix> row_image(const ModularMatrix& system, std::uint64_t prime) {
+  const std::size_t n = system.rows(), count = system.cols() - n;
+  NmodMatrix square(n, n, prime), right(n, count, prime), solution(n, count, prime);
+  for (std::size_t i = 0; i < n; ++i) {
     for (std::size_t m = 0; m < n; ++m)
-      nmod_mat_entry(square.get(), static_cast<slong>(i), static_cast<slong>(m)) = rows(r, lift.support[m]);
+      nmod_mat_entry(square.get(), static_cast<slong>(i), static_cast<slong>(m)) = system(i, m);
     for (std::size_t j = 0; j < count; ++j) {
-      const std::uint64_t value = rows(r, lift.leads[j]);
+      const std::uint64_t value = system(i, n + j);
       nmod_mat_entry(right.get(), static_cast<slong>(i), static_cast<slong>(j)) = value == 0 ? 0 : prime - value;
     }
   }
@@ -201,6 +218,57 @@ std::optional<ModularMatrix> row_image(const RowLift& lift, const ModularMatrix&
     for (std::size_t j = 0; j < count; ++j)
       image(j, m) = nmod_mat_entry(solution.get(), static_cast<slong>(m), static_cast<slong>(j));
   return image;
+}
+
+// The rows solved exactly from their square system modulo the first further
+// primes, whose product exceeds twice every scaled entry's bound (CheckScale:
+// L^(d-1) times a block entry is an integer of absolute value at most
+// L^(d-1) B_c): the symmetric residues are those integers, and FLINT's
+// p-adic solve (Dixon) gives the rational solution. False when that system
+// is singular over Q (the lift then fails: bounds, or the exact fallback).
+bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
+  const std::size_t n = lift.support.size(), count = lift.leads.size();
+  std::vector<std::uint64_t> scale_residues, inverses;  // L^(d-1) modulo each prime
+  for (std::uint64_t prime : lift.system_primes) {
+    scale_residues.push_back(mpz_fdiv_ui(scale.get_mpz_t(), prime));
+    inverses.push_back(n_preinvert_limb(prime));
+  }
+  FmpzMatrix square(n, n), right(n, count);
+  fmpz_t modulus, value;
+  fmpz_init(modulus);
+  fmpz_init(value);
+  for (std::size_t i = 0; i < n; ++i) {
+    poll_stop();
+    for (std::size_t m = 0; m < n + count; ++m) {
+      fmpz_one(modulus);
+      fmpz_zero(value);
+      for (std::size_t p = 0; p < lift.systems.size(); ++p) {
+        const std::uint64_t prime = lift.system_primes[p];
+        const std::uint64_t scaled = n_mulmod2_preinv(lift.systems[p](i, m), scale_residues[p], prime, inverses[p]);
+        fmpz_CRT_ui(value, value, modulus, scaled, prime, 1);
+        fmpz_mul_ui(modulus, modulus, prime);
+      }
+      if (m < n)
+        fmpz_set(square.entry(i, m), value);
+      else
+        fmpz_neg(right.entry(i, m - n), value);
+    }
+  }
+  fmpz_clear(value);
+  fmpz_clear(modulus);
+  FmpqMatrix solution(n, count);
+  poll_stop();
+  // Dixon beyond small systems (FLINT's own choice there is multi-modular,
+  // one LU per prime: the cost this solve avoids).
+  const int is_solved = n < 16 ? fmpq_mat_solve_fmpz_mat_fraction_free(solution.get(), square.get(), right.get())
+                               : fmpq_mat_solve_fmpz_mat_dixon(solution.get(), square.get(), right.get());
+  if (!is_solved) return false;
+  RationalMatrix rows(count, n);
+  for (std::size_t m = 0; m < n; ++m)
+    for (std::size_t j = 0; j < count; ++j) fmpq_get_mpq(rows(j, m).get_mpq_t(), solution.entry(m, j));
+  lift.last = std::move(rows);
+  lift.is_stable = true;
+  return true;
 }
 
 // Adds the rows' image modulo a prime and reconstructs: stable once two
@@ -258,11 +326,17 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
                                                                   const ModularMatrix& image,
                                                                   const std::vector<std::size_t>& rows,
                                                                   const std::vector<std::size_t>& leading,
-                                                                  std::size_t sparse_limit, unsigned threads) {
+                                                                  std::size_t sparse_limit, unsigned threads,
+                                                                  const CheckScale* check_scale) {
   constexpr std::size_t max_primes = 4096;
   const std::size_t columns = image.cols();
-  const ModularMatrix walk_rows = kept_rows_modulo(walk_network, kept, rank, columns, threads);
   std::vector<RowLift> lifts = row_groups(image, rows, leading, rank, sparse_limit);
+  // The kept rows modulo the walk's prime at the groups' supports only (what
+  // picks each group's equations).
+  std::vector<char> in_supports(columns, 0);
+  for (const RowLift& lift : lifts)
+    for (std::size_t c : lift.support) in_supports[c] = 1;
+  const ModularMatrix walk_rows = kept_rows_modulo(walk_network, kept, rank, columns, threads, nullptr, &in_supports);
   std::vector<std::optional<std::vector<std::size_t>>> equations(lifts.size());
   parallel_for(lifts.size(), threads,
                [&](std::size_t i) { equations[i] = independent_rows(walk_rows, lifts[i].support, walk_network.prime); });
@@ -279,6 +353,15 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
   // open, so the reconstructions, and the prime at which each settles, are
   // those of one prime at a time: the same for any thread count.
   const std::size_t batch = std::max(1u, threads);
+  // With the check's scale: the product the further primes must exceed for
+  // the exact solve (twice the largest scaled entry), and theirs so far.
+  std::optional<Rational> exact_bound;
+  if (check_scale) {
+    Rational largest = 0;
+    for (const Rational& bound : check_scale->bounds) largest = std::max(largest, bound);
+    exact_bound = 2 * largest * Rational(check_scale->scale);
+  }
+  Integer product = 1;
   for (std::size_t index = 0, used = 0; used < max_primes;) {
     poll_stop();
     std::vector<std::size_t> open;
@@ -303,22 +386,52 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
       for (std::size_t c : lifts[i].leads) columns_needed[c] = 1;
     }
     std::vector<std::vector<std::optional<ModularMatrix>>> images(primes.size());
+    std::vector<std::vector<ModularMatrix>> systems(primes.size());
     auto images_modulo = [&](std::size_t p, unsigned inner_threads) {
       const std::uint64_t prime = primes[p].first;
       const ModularNetwork& reduced = primes[p].second;
       const ModularMatrix prime_rows =
           kept_rows_modulo(reduced, kept, rank, columns, inner_threads, &needed, &columns_needed);
       images[p].resize(open.size());
-      parallel_for(open.size(), inner_threads,
-                   [&](std::size_t o) { images[p][o] = row_image(lifts[open[o]], prime_rows, prime); });
+      systems[p].resize(open.size());
+      parallel_for(open.size(), inner_threads, [&](std::size_t o) {
+        systems[p][o] = row_system(lifts[open[o]], prime_rows);
+        images[p][o] = row_image(systems[p][o], prime);
+      });
     };
     if (primes.size() == 1)
       images_modulo(0, threads);
     else
       parallel_for(primes.size(), threads, [&](std::size_t p) { images_modulo(p, 1); });
-    for (std::size_t p = 0; p < primes.size(); ++p)
-      for (std::size_t o = 0; o < open.size(); ++o)
-        if (images[p][o] && !lifts[open[o]].is_stable) add_row_image(lifts[open[o]], *images[p][o], primes[p].first);
+    for (std::size_t p = 0; p < primes.size(); ++p) {
+      const std::uint64_t prime = primes[p].first;
+      for (std::size_t o = 0; o < open.size(); ++o) {
+        RowLift& lift = lifts[open[o]];
+        if (lift.is_stable) continue;
+        if (exact_bound) {
+          lift.systems.push_back(std::move(systems[p][o]));
+          lift.system_primes.push_back(prime);
+        }
+        if (images[p][o]) add_row_image(lift, *images[p][o], prime);
+      }
+      // Enough primes for the exact integer systems: the rows still open
+      // (large entries, or a prime that hid one) solved exactly, each
+      // group on its own thread. Where this happens depends on the primes
+      // alone: the same for any thread count.
+      product *= Integer(static_cast<unsigned long>(prime));
+      if (exact_bound && Rational(product) > *exact_bound) {
+        std::vector<std::size_t> still_open;
+        for (std::size_t i = 0; i < lifts.size(); ++i)
+          if (!lifts[i].is_stable) still_open.push_back(i);
+        std::vector<char> solved(still_open.size(), 0);
+        parallel_for(still_open.size(), threads, [&](std::size_t o) {
+          solved[o] = solve_rows_exactly(lifts[still_open[o]], check_scale->scale) ? 1 : 0;
+        });
+        if (std::find(solved.begin(), solved.end(), 0) != solved.end()) return std::nullopt;
+        exact_bound.reset();
+        break;
+      }
+    }
   }
   std::vector<RationalVector> out(image.rows());
   for (const RowLift& lift : lifts) {
@@ -407,7 +520,8 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
   if (!hard.empty()) {
     if (lift_progress) lift_progress(1);
     if (auto lifted =
-            lift_rows_multimodular(network, walk_network, kept, rank, first_image, hard, leading, rank / 4, threads))
+            lift_rows_multimodular(network, walk_network, kept, rank, first_image, hard, leading, rank / 4, threads,
+                                   &check_scale))
       for (std::size_t h = 0; h < hard.size(); ++h) candidate_rows[hard[h]] = std::move((*lifted)[h]);
   }
   if (std::all_of(candidate_rows.begin(), candidate_rows.end(), [](const auto& row) { return row.has_value(); })) {
