@@ -576,54 +576,75 @@ ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vec
 ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots) {
   const ModularMatrix rows = basis.rows();
   const std::vector<std::size_t>& pivots = basis.pivot_columns();
-  const std::size_t columns = rows.cols();
+  const std::size_t columns = rows.cols(), rank = pivots.size();
   const std::uint64_t prime = basis.prime();
-  // Columns in the order Q first, then the others increasing.
-  std::vector<char> is_scaling(columns, 0);
+  std::vector<char> is_scaling(columns, 0), is_pivot(columns, 0);
   for (std::size_t c : scaling_pivots) is_scaling[c] = 1;
-  std::vector<std::size_t> order(scaling_pivots.begin(), scaling_pivots.end());
-  std::sort(order.begin(), order.end());
-  for (std::size_t c = 0; c < columns; ++c)
-    if (!is_scaling[c]) order.push_back(c);
-  std::vector<std::size_t> position(columns);
-  for (std::size_t q = 0; q < columns; ++q) position[order[q]] = q;
-  // The kernel read off the basis (row i: 1 at pivot_i, 0 at the other
-  // pivots): for each other column f, e_f minus column f at the pivots.
-  // A column f no kept row touches gives e_f itself; outside Q it is a row
-  // of E as it stands (most extra directions of a random network: a
-  // parameter no region depends on), and every other kernel vector is 0 at
-  // f, so those are set aside and only the rest is eliminated.
-  std::vector<char> is_pivot(columns, 0);
   for (std::size_t c : pivots) is_pivot[c] = 1;
-  std::vector<std::size_t> eliminated, untouched;  // the other columns: eliminated; e_f as it stands
+  // The kernel read off the basis (row i: 1 at pivot_i, 0 at the other
+  // pivots): a vector is free on the other columns F, and at pivot_i it is
+  // minus row i times its F part. E is the part that vanishes on Q. A
+  // column f of F no kept row touches gives e_f: outside Q a row of E as it
+  // stands (most extra directions of a random network: a parameter no region
+  // depends on), and every other vector of E is 0 there, so those are set
+  // aside. The other free columns outside Q (T) carry the rest, W: the
+  // vectors whose T part c meets the conditions of the pivots in Q (row i
+  // times c is 0), a small kernel; W is then c on T and -R c at the
+  // pivots, and its reduced echelon form is E's other rows.
+  std::vector<std::size_t> touched, untouched;  // T; e_f as it stands
   for (std::size_t f = 0; f < columns; ++f) {
-    if (is_pivot[f]) continue;
-    bool is_touched = is_scaling[f] != 0;
-    for (std::size_t i = 0; i < pivots.size() && !is_touched; ++i) is_touched = rows(i, f) != 0;
-    (is_touched ? eliminated : untouched).push_back(f);
+    if (is_pivot[f] || is_scaling[f]) continue;
+    bool is_touched = false;
+    for (std::size_t i = 0; i < rank && !is_touched; ++i) is_touched = rows(i, f) != 0;
+    (is_touched ? touched : untouched).push_back(f);
   }
-  ModularMatrix kernel(eliminated.size(), columns);  // in the permuted order
-  for (std::size_t k = 0; k < eliminated.size(); ++k) {
+  std::vector<std::size_t> conditions;  // the basis rows whose pivot is in Q
+  for (std::size_t i = 0; i < rank; ++i)
+    if (is_scaling[pivots[i]]) conditions.push_back(i);
+  poll_stop();
+  ModularMatrix combinations;  // the T parts c of W's basis, one per row
+  if (conditions.empty()) {
+    combinations = ModularMatrix(touched.size(), touched.size());
+    for (std::size_t t = 0; t < touched.size(); ++t) combinations(t, t) = 1;
+  } else if (!touched.empty()) {
+    ModularMatrix condition_rows(conditions.size(), touched.size());
+    for (std::size_t q = 0; q < conditions.size(); ++q)
+      for (std::size_t t = 0; t < touched.size(); ++t) condition_rows(q, t) = rows(conditions[q], touched[t]);
+    combinations = kernel_basis_modulo(condition_rows, prime);
+  }
+  const std::size_t dimension = combinations.rows();
+  // W at the pivots: -(R_T c) for each c, one product (dimension x |T| by
+  // |T| x rank).
+  ModularMatrix spanning(dimension, columns);
+  if (dimension > 0) {
+    NmodMatrix left(dimension, touched.size(), prime), right(touched.size(), rank, prime), at_pivots(dimension, rank, prime);
+    for (std::size_t a = 0; a < dimension; ++a)
+      for (std::size_t t = 0; t < touched.size(); ++t)
+        nmod_mat_entry(left.get(), static_cast<slong>(a), static_cast<slong>(t)) = combinations(a, t);
+    for (std::size_t t = 0; t < touched.size(); ++t)
+      for (std::size_t i = 0; i < rank; ++i)
+        nmod_mat_entry(right.get(), static_cast<slong>(t), static_cast<slong>(i)) = rows(i, touched[t]);
     poll_stop();
-    const std::size_t f = eliminated[k];
-    kernel(k, position[f]) = 1;
-    for (std::size_t i = 0; i < pivots.size(); ++i)
-      if (rows(i, f) != 0) kernel(k, position[pivots[i]]) = prime - rows(i, f);
+    nmod_mat_mul(at_pivots.get(), left.get(), right.get());
+    for (std::size_t a = 0; a < dimension; ++a) {
+      for (std::size_t t = 0; t < touched.size(); ++t) spanning(a, touched[t]) = combinations(a, t);
+      for (std::size_t i = 0; i < rank; ++i) {
+        const std::uint64_t value = nmod_mat_entry(at_pivots.get(), static_cast<slong>(a), static_cast<slong>(i));
+        spanning(a, pivots[i]) = value == 0 ? 0 : prime - value;
+      }
+    }
   }
-  // Its reduced echelon form with Q first: the rows led outside Q vanish on
-  // Q and are E's canonical basis (reduced on the other columns in order),
-  // merged by leading column with the untouched unit rows.
-  const ModularMatrix echelon = row_space_basis_modulo(kernel, prime);
-  const std::vector<std::size_t> leads = echelon_shape(echelon);  // permuted positions
-  std::size_t first = 0;
-  while (first < echelon.rows() && is_scaling[order[leads[first]]]) ++first;
-  ModularMatrix extra(echelon.rows() - first + untouched.size(), columns);
+  // W's canonical basis, merged by leading column with the unit rows (W is
+  // 0 at their columns, they are 0 elsewhere).
+  const ModularMatrix echelon = dimension > 0 ? row_space_basis_modulo(spanning, prime) : ModularMatrix(0, columns);
+  const std::vector<std::size_t> leads = echelon_shape(echelon);
+  ModularMatrix extra(echelon.rows() + untouched.size(), columns);
   std::size_t next_unit = 0, out = 0;
-  for (std::size_t r = first; r <= echelon.rows(); ++r) {
-    const std::size_t lead = r < echelon.rows() ? order[leads[r]] : columns;
+  for (std::size_t r = 0; r <= echelon.rows(); ++r) {
+    const std::size_t lead = r < echelon.rows() ? leads[r] : columns;
     for (; next_unit < untouched.size() && untouched[next_unit] < lead; ++next_unit) extra(out++, untouched[next_unit]) = 1;
     if (r == echelon.rows()) break;
-    for (std::size_t q = 0; q < columns; ++q) extra(out, order[q]) = echelon(r, q);
+    for (std::size_t c = 0; c < columns; ++c) extra(out, c) = echelon(r, c);
     ++out;
   }
   return extra;
