@@ -396,6 +396,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   };
   const bool tries_points = options.stop_at_scaling_bound && options.points_first;
   if (tries_points) {
+    const double points_started = stop.elapsed_seconds();
     try {
       rows_from_points();
       if (options.sweep_lines && !points_far_below && basis.rank() < result.scaling_bound && !stop.is_requested())
@@ -403,6 +404,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     } catch (const Stopped&) {
       // bounds below
     }
+    result.points_seconds = stop.elapsed_seconds() - points_started;
   }
   if (tries_points && basis.rank() == result.scaling_bound) {
     result.early_stop = true;

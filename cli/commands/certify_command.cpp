@@ -135,6 +135,7 @@ Json result_to_json(const Network& network, const Domain& domain, const Function
   out["extra_kernel_summary"] = mechanism_summary_json(network, result);
   out["seconds"] = result.seconds;
   out["walk_seconds"] = result.walk.seconds;  // of which the walk (0 when none ran)
+  out["points_seconds"] = result.points_seconds;  // and the points and lines before it
   return out;
 }
 

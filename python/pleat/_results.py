@@ -224,7 +224,8 @@ class CertifyResult:
     exact kernel checked on every region) or None; points_drawn: exact points
     drawn before any walk; witness_points: those whose regions' rows raised
     the rank (re-check with points=...); seconds, walk_seconds (of which the
-    walk, 0 when none ran)."""
+    walk, 0 when none ran), points_seconds (of which the exact points and
+    lines before any walk; the rest is the proof after the walk)."""
     functional_dimension: Optional[int]
     certified: bool
     lower_bound: int
@@ -250,6 +251,7 @@ class CertifyResult:
     points_drawn: int = field(repr=False, default=0)
     witness_points: list[list[Fraction]] = field(repr=False, default_factory=list)
     walk_seconds: float = field(repr=False, default=0.0)
+    points_seconds: float = field(repr=False, default=0.0)
 
 
 def _evidence(data: dict) -> dict[str, str]:
@@ -288,7 +290,8 @@ def _certify_result(data: dict, network: "Network") -> CertifyResult:
                                      names=names) for d in data["extra_kernel"]],
         extra_kernel_summary=data["extra_kernel_summary"], kernel=data["kernel"], claim=claim, batch=batch,
         seconds=data["seconds"], certified_by=data["certified_by"], points_drawn=data["points_drawn"],
-        witness_points=data["witness_points"], walk_seconds=data["walk_seconds"])
+        witness_points=data["witness_points"], walk_seconds=data["walk_seconds"],
+        points_seconds=data["points_seconds"])
 
 
 @dataclass(frozen=True)

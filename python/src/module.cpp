@@ -216,6 +216,7 @@ py::dict certify_dict(const Network& network, const Domain& domain, const Functi
   out["kernel"] = fraction_matrix(result.kernel);
   out["seconds"] = result.seconds;
   out["walk_seconds"] = result.walk.seconds;  // of which the walk (0 when none ran)
+  out["points_seconds"] = result.points_seconds;  // and the points and lines before it
   return out;
 }
 

@@ -18,8 +18,8 @@ degenerate=$source_dir/data/degenerate2d.json
 "$pleat" certify "$ramp" --json -q > "$work/ramp.json" || fail "certify --json exited $?"
 keys=$(json_eval "$work/ramp.json" '",".join(sorted(d.keys()))')
 # Added since (docs/formats.md): certified_by, points_drawn, witness_points
-# (certified from exact points without a walk) and walk_seconds.
-spec_keys="certified,certified_by,domain,early_stop,extra_kernel,extra_kernel_summary,format,functional_dimension,lower_bound,nonsmooth_regions,parametric_dimension,points_drawn,regions_contributing,regions_walked,scaling_bound,seconds,stop_reason,upper_bound,walk_complete,walk_seconds,witness_points"
+# (certified from exact points without a walk), walk_seconds and points_seconds.
+spec_keys="certified,certified_by,domain,early_stop,extra_kernel,extra_kernel_summary,format,functional_dimension,lower_bound,nonsmooth_regions,parametric_dimension,points_drawn,points_seconds,regions_contributing,regions_walked,scaling_bound,seconds,stop_reason,upper_bound,walk_complete,walk_seconds,witness_points"
 [ "$keys" = "$spec_keys" ] || fail "certify --json keys: got $keys, spec $spec_keys"
 # ramp1d (data/README.md): 1 -> 5 -> 1, D = 2*5 + 6 = 16; five distinct bends
 # and nonzero outgoing weights: the generic shallow case, 2*5 + 1 = 11 (the

@@ -80,6 +80,9 @@ class CertifyTest(unittest.TestCase):
         self.assertEqual(result.witness_points, [[Fraction(v) for v in point] for point in cli["witness_points"]])
         self.assertGreaterEqual(result.walk_seconds, 0)
         self.assertLessEqual(result.walk_seconds, result.seconds)
+        # Points are drawn first unless the walk is full (and then none are).
+        self.assertEqual(result.points_seconds > 0, cli["points_drawn"] > 0)
+        self.assertLessEqual(result.walk_seconds + result.points_seconds, result.seconds)
         self.assertEqual(len(result.extra_kernel), len(cli["extra_kernel"]))
         for mine, theirs in zip(result.extra_kernel, cli["extra_kernel"]):
             self.assertEqual(mine.named(), {k: Fraction(v) for k, v in theirs["vector"].items()})
