@@ -12,6 +12,7 @@
 #include "enumerate/line_sweep.hpp"
 
 #include <algorithm>
+#include <any>
 #include <chrono>
 #include <cmath>
 #include <deque>
@@ -233,7 +234,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // result would be bounds, never a wrong certified value.
   // interior: the region's exact interior point, recorded as a witness when
   // the region's rows raise the rank (nullptr: none recorded).
-  auto add_region_rows = [&](const ActivationPattern& pattern, const RationalVector* interior) {
+  // rows: the region's coefficient_blocks_mod when already computed (by the
+  // walk's worker, WalkOptions::prepare_region), else null.
+  auto add_region_rows = [&](const ActivationPattern& pattern, const RationalVector* interior,
+                             const ModularMatrix* rows_ready = nullptr) {
     KeptRows region{pattern, {}};
     if (options.across) {  // the rows its owner kept: the same rows stay (distributed_certify.hpp)
       for (const auto& [r, row] : options.across->region_rows())
@@ -242,7 +246,8 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
           options.across->row_kept(row);
         }
     } else {
-      const ModularMatrix rows = coefficient_blocks_mod(modular, pattern);
+      const ModularMatrix computed = rows_ready ? ModularMatrix() : coefficient_blocks_mod(modular, pattern);
+      const ModularMatrix& rows = rows_ready ? *rows_ready : computed;
       for (std::size_t r = 0; r < rows.rows(); ++r)
         if (basis.add_row_screened(rows.row(r))) region.rows.push_back(r);
     }
@@ -387,13 +392,25 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     if (!region.nonsmooth_neurons.empty()) return true;  // no smooth points: no rows
     if (!options.across) smooth.push_back(region.pattern);  // across: each owner keeps its own
     if (!seen_by_points.contains(region.pattern))
-      add_region_rows(region.pattern, &region.interior.point);
+      add_region_rows(region.pattern, &region.interior.point, std::any_cast<ModularMatrix>(&region.prepared));
     if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) {
       result.early_stop = true;
       return false;
     }
     return true;
   };
+  if (!options.across) {
+    // A region's rows modulo p on the thread that processed it, and the rows'
+    // reduction (the basis, serial) on whichever thread is free, while the
+    // others go on walking: the kept rows are the same (on_region still runs
+    // in order), only the threads doing the work differ.
+    // seen_by_points is not written during the walk, so workers may read it.
+    walk_options.prepare_region = [&](const Region& region) -> std::any {
+      if (!region.nonsmooth_neurons.empty() || seen_by_points.contains(region.pattern)) return {};
+      return coefficient_blocks_mod(modular, region.pattern);
+    };
+    walk_options.on_region_in_pool = true;
+  }
   const bool tries_points = options.stop_at_scaling_bound && options.points_first;
   if (tries_points) {
     const double points_started = stop.elapsed_seconds();

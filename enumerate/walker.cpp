@@ -195,26 +195,26 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
       // order of output does not depend on the thread count.
       const std::size_t end = std::min(level.size(), begin + chunk);
       std::vector<detail::Processed> results(end - begin);
-      const detail::PrefixRun run = detail::run_prefix_pool(
-          results.size(), processors.size(), stop,
-          [&](std::size_t worker, std::size_t i) {
-            results[i] = processors[worker]->process(seen.pattern(level[begin + i]));  // the store is not written meanwhile
-          },
-          [&](std::size_t finished) {
-            if (options.on_progress)
-              options.on_progress(WalkProgress{summary.regions + finished, level.size() - begin - finished, elapsed()});
-          });
-      summary.stop_reason = run.stopped;
-
-      for (std::size_t i = 0; i < run.prefix; ++i) {  // cut short: keep the processed prefix, in order
+      // Pipelined, the delivery below inserts new patterns into the store while
+      // workers process: they take their patterns from a copy.
+      std::vector<ActivationPattern> patterns;
+      if (options.on_region_in_pool) {
+        patterns.reserve(end - begin);
+        for (std::size_t i = begin; i < end; ++i) patterns.push_back(seen.pattern(level[i]));
+      }
+      const std::size_t regions_before = summary.regions;
+      // Delivers result i (in order): numbers it, records its neighbours,
+      // calls on_region. Returns why the walk must stop (none: go on).
+      StopReason delivery_stop = StopReason::none;
+      const auto deliver = [&](std::size_t i) {
         detail::Processed& processed = results[i];
         if (!processed.is_region) {
           anomaly = true;
-          continue;
+          return true;
         }
         if (options.max_regions && summary.regions >= options.max_regions) {
-          summary.stop_reason = StopReason::max_regions;
-          break;
+          delivery_stop = StopReason::max_regions;
+          return false;
         }
         Region& region = processed.region;
         region.id = summary.regions++;
@@ -240,10 +240,29 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
         adjacency.add_region(id, level[begin + i], neighbors, std::move(region.affine), id_of_slot);  // after on_region, which reads it
         results[i] = detail::Processed{};  // free the record now: a level can be large
         if (is_stop_asked) {
-          summary.stop_reason = StopReason::requested;
-          break;
+          delivery_stop = StopReason::requested;
+          return false;
         }
+        return true;
+      };
+      const detail::PrefixRun run = detail::run_prefix_pool(
+          results.size(), processors.size(), stop,
+          [&](std::size_t worker, std::size_t i) {
+            results[i] = processors[worker]->process(options.on_region_in_pool
+                                                         ? patterns[i]
+                                                         : seen.pattern(level[begin + i]));  // the store is not written meanwhile
+            if (options.prepare_region && results[i].is_region)
+              results[i].region.prepared = options.prepare_region(results[i].region);
+          },
+          [&](std::size_t finished) {
+            if (options.on_progress)
+              options.on_progress(WalkProgress{regions_before + finished, level.size() - begin - finished, elapsed()});
+          },
+          options.on_region_in_pool ? std::function<bool(std::size_t)>(deliver) : nullptr);
+      // Cut short: deliver the rest of the processed prefix, in order.
+      for (std::size_t i = run.consumed; delivery_stop == StopReason::none && i < run.prefix && deliver(i); ++i) {
       }
+      summary.stop_reason = delivery_stop != StopReason::none ? delivery_stop : run.stopped;
     }
     if (summary.stop_reason == StopReason::none) {
       if (StopReason reason = stop_requested(); reason != StopReason::none && !next_level.empty())

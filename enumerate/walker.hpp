@@ -27,6 +27,7 @@
 #include "lp/oracle.hpp"
 #include "lp/polyhedron.hpp"
 
+#include <any>
 #include <atomic>
 #include <cstddef>
 #include <limits>
@@ -73,6 +74,9 @@ struct Region {
   AffineMap affine;      // the network's output on the region, exact
   std::vector<std::size_t> nonsmooth_neurons;  // 'z' neurons with nonzero backward signal
   std::optional<RegionCertificates> certificates;
+  // What WalkOptions::prepare_region returned for this region (empty without
+  // that hook, or when the walk was driven by a walker that does not call it).
+  std::any prepared;
 };
 
 // StopReason and to_string(StopReason) live in core/stop.hpp.
@@ -104,6 +108,19 @@ struct WalkOptions {
   // Called for each region in output order; return false to stop the walk
   // (StopReason::requested, e.g. a rank that met its bound).
   std::function<bool(const Region&)> on_region;
+  // Optional: called for each region by the thread that processed it, right
+  // after, in no particular order and concurrently with other calls and with
+  // on_region (so it must only read what on_region does not write); its
+  // result reaches on_region as Region::prepared. Lets a caller's per-region
+  // work that does not depend on the order run on every thread.
+  std::function<std::any(const Region&)> prepare_region;
+  // When true, on_region may run on any of the walk's threads, still one call
+  // at a time and in output order, as soon as the regions before it are done,
+  // while the other threads go on processing the level (false: on the calling
+  // thread after each chunk of a level, with the other threads idle). For
+  // on_region callbacks that do heavy serial work and touch no thread-bound
+  // state. on_region runs without the walk's StopScope either way.
+  bool on_region_in_pool = false;
   std::function<void(const WalkProgress&)> on_progress;  // every 0.2 s during a level (distributed walk: also after it)
 };
 

@@ -141,11 +141,19 @@ std::optional<Point> intersect(const Line& p, const Line& q) {
   return Point{(-p.c * q.a1 + q.c * p.a1) / det, (-p.a0 * q.c + q.a0 * p.c) / det};
 }
 
+// Buffers clip() reuses from one line to the next (a cell is clipped by
+// every one of its lines: no allocation per line).
+struct ClipScratch {
+  std::vector<double> slack;
+  Polygon next;
+};
+
 // The polygon cut by line i (kept where its slack is >= 0); false when the
 // result is empty or inconsistent.
-bool clip(Polygon& polygon, const std::vector<Line>& lines, std::size_t i) {
+bool clip(Polygon& polygon, const std::vector<Line>& lines, std::size_t i, ClipScratch& scratch) {
   const std::size_t p = polygon.edges.size();
-  std::vector<double> slack(p);
+  std::vector<double>& slack = scratch.slack;
+  slack.resize(p);
   std::size_t negative = 0;
   for (std::size_t k = 0; k < p; ++k) {
     slack[k] = lines[i].slack(polygon.vertices[k]);
@@ -166,9 +174,9 @@ bool clip(Polygon& polygon, const std::vector<Line>& lines, std::size_t i) {
   const std::optional<Point> enter = intersect(lines[before], lines[i]);
   const std::optional<Point> leave = intersect(lines[i], lines[after]);
   if (!enter || !leave) return false;
-  Polygon next;
-  next.edges.reserve(p + 1);
-  next.vertices.reserve(p + 1);
+  Polygon& next = scratch.next;
+  next.edges.clear();
+  next.vertices.clear();
   next.edges.push_back(after);
   next.vertices.push_back(*leave);
   for (std::size_t k = (last + 1) % p; k != first; k = (k + 1) % p) {
@@ -178,7 +186,7 @@ bool clip(Polygon& polygon, const std::vector<Line>& lines, std::size_t i) {
   // edges now ends with `before` (the edge from the last kept vertex); then line i.
   next.edges.push_back(i);
   next.vertices.push_back(*enter);
-  polygon = std::move(next);
+  std::swap(polygon, next);  // both keep their capacity for the next line
   return polygon.edges.size() >= 3;
 }
 
@@ -197,6 +205,24 @@ Polygon box_polygon(std::vector<Line>& lines, double r) {
 }
 
 double max_norm(const Point& x) { return std::max(std::fabs(x[0]), std::fabs(x[1])); }
+
+// Bounded, proved from a polygon whose every edge lies on a cell line (it
+// never reached the box): each edge's normal turns counter-clockwise by less
+// than pi to the next one's, cyclically, i.e. det(a_k, a_k+1) > 0 for every
+// k (exact signs; double proposed the order). Normals in one closed half-
+// plane, an arc of at most pi, could not do that: each step would move
+// strictly forward within the arc and never come back. So they positively
+// span the plane, and no d != 0 has a . d >= 0 for all of them: the closure
+// has no recession direction. nullopt when a sign fails.
+std::optional<bool> bounded_by_edges(const Rows& rows, const Polygon& polygon,
+                                     const std::vector<std::size_t>& representative) {
+  const std::size_t p = polygon.edges.size();
+  if (p < 3) return std::nullopt;
+  for (std::size_t e = 0; e < p; ++e)
+    if (normal_determinant_sign(rows, representative[polygon.edges[e]], representative[polygon.edges[(e + 1) % p]]) <= 0)
+      return std::nullopt;
+  return true;
+}
 
 }  // namespace
 
@@ -258,8 +284,9 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
   for (std::size_t k = 0; k < g; ++k) lines[k] = all[representative[k]];
   constexpr double box = 0x1p26;
   Polygon polygon = box_polygon(lines, box);
+  ClipScratch scratch;
   for (std::size_t k = 0; k < g; ++k)
-    if (!clip(polygon, lines, k)) return std::nullopt;
+    if (!clip(polygon, lines, k, scratch)) return std::nullopt;
   const std::size_t p = polygon.edges.size();
   const auto is_cell_edge = [&](std::size_t k) { return polygon.edges[k % p] < g; };
   const auto is_true_vertex = [&](std::size_t k) { return is_cell_edge((k + p - 1) % p) && is_cell_edge(k); };
@@ -275,6 +302,7 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
       extent = std::max(extent, max_norm(polygon.vertices[k]));
     }
   }
+  if (!reaches_box) cell.bounded = bounded_by_edges(rows, polygon, representative);
   Polygon near = polygon;
   if (reaches_box) {
     if (!has_true_vertex)
@@ -289,7 +317,7 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
     Polygon clipped = box_polygon(lines, radius);  // appends four lines; `near` is the cell cut by them
     (void)clipped;
     for (std::size_t k = lines.size() - 4; k < lines.size(); ++k)
-      if (!clip(near, lines, k)) return std::nullopt;
+      if (!clip(near, lines, k, scratch)) return std::nullopt;
   }
 
   // The interior point: the vertex average of `near`, rounded within 1/16 of

@@ -41,6 +41,12 @@ struct PlaneGroup {
 struct PlaneCell {
   RationalVector interior;          // every row > 0 there (exact); short denominators
   std::vector<PlaneGroup> groups;   // ordered by representative index
+  // true when the closure of {every row > 0} is proved bounded on the way
+  // (the polygon's edge normals turn counter-clockwise by less than pi from
+  // each to the next, all the way round: exact determinant signs); nullopt
+  // otherwise (an unbounded or huge cell, or no proof: ask
+  // is_plane_cell_bounded).
+  std::optional<bool> bounded;
 };
 
 // Precondition: rows non-empty, none with (a0, a1) = (0, 0) (usage_error).

@@ -47,11 +47,12 @@ PrefixRun run_inline(std::size_t count, const StopRequest& stop,
 
 PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequest& stop,
                           const std::function<void(std::size_t worker, std::size_t item)>& process,
-                          const std::function<void(std::size_t finished)>& on_tick) {
+                          const std::function<void(std::size_t finished)>& on_tick,
+                          const std::function<bool(std::size_t item)>& consume) {
   PrefixRun run;
   if (count == 0) return run;
-  if (std::min(workers, count) <= 1) return run_inline(count, stop, process, on_tick);
-  std::vector<char> done(count, 0);
+  if (std::min(workers, count) <= 1) return run_inline(count, stop, process, on_tick);  // consume: left to the caller
+  std::vector<std::atomic<bool>> done(count);
   std::atomic<std::size_t> next{0};
   std::atomic<std::size_t> finished{0};
   std::atomic<bool> halt{false};
@@ -60,13 +61,41 @@ PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequ
   std::mutex wake_mutex;
   std::condition_variable wake;
   std::atomic<int> stopped_inside{static_cast<int>(StopReason::none)};
+  std::mutex consume_mutex;
+  std::atomic<std::size_t> consumed{0};
+  std::atomic<bool> consumer_halted{false};
+  // Consumes the done items in order unless another thread is doing so. That
+  // thread re-checks after letting go, so an item finished meanwhile (whose
+  // thread found the role taken) is not left waiting.
+  const StopRequest never;
+  auto consume_ready = [&] {
+    const auto is_next_ready = [&] {
+      const std::size_t k = consumed;
+      return !consumer_halted && k < count && done[k];
+    };
+    while (is_next_ready()) {
+      const std::unique_lock lock(consume_mutex, std::try_to_lock);
+      if (!lock.owns_lock()) return;
+      const StopScope unstoppable(never);  // consume has no partial result to abandon
+      while (is_next_ready()) {
+        const std::size_t k = consumed;
+        const bool is_going_on = consume(k);
+        consumed = k + 1;
+        if (!is_going_on) {
+          consumer_halted = true;
+          halt = true;
+        }
+      }
+    }
+  };
   auto work = [&](std::size_t worker) {
     try {
       const StopScope scope(stop);
       for (std::size_t i; !halt && (i = next++) < count;) {
         process(worker, i);
-        done[i] = 1;
+        done[i] = true;
         ++finished;
+        if (consume) consume_ready();
       }
     } catch (const Stopped& stopped) {  // mid-item: that item stays undone
       stopped_inside = static_cast<int>(stopped.reason());
@@ -97,6 +126,7 @@ PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequ
   if (error) std::rethrow_exception(error);
   if (run.stopped == StopReason::none) run.stopped = static_cast<StopReason>(stopped_inside.load());
   while (run.prefix < count && done[run.prefix]) ++run.prefix;
+  run.consumed = consumed;
   return run;
 }
 

@@ -13,6 +13,7 @@ namespace pleat::detail {
 struct PrefixRun {
   std::size_t prefix = 0;                   // items [0, prefix) were processed, without a gap
   StopReason stopped = StopReason::none;    // why the pool stopped before the end (none: it did not)
+  std::size_t consumed = 0;                 // items [0, consumed) were handed to consume
 };
 
 // Runs process(worker, i) for every i in [0, count) on `workers` threads
@@ -24,8 +25,15 @@ struct PrefixRun {
 // does not depend on the thread count beyond where the stop fell.
 // process must write only to item i's own slot. Rethrows the first other
 // exception after every thread has ended.
+// consume (may be empty): called for items in order, one call at a time, by
+// whichever pool thread finds the next item done (the role passes between
+// threads, so all `workers` threads keep processing meanwhile), without a
+// StopScope; returning false halts the pool (the items it was called for are
+// counted in `consumed` either way). Items of the prefix it was not called for
+// are left to the caller.
 PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequest& stop,
                           const std::function<void(std::size_t worker, std::size_t item)>& process,
-                          const std::function<void(std::size_t finished)>& on_tick);
+                          const std::function<void(std::size_t finished)>& on_tick,
+                          const std::function<bool(std::size_t item)>& consume = {});
 
 }  // namespace pleat::detail

@@ -195,10 +195,13 @@ class RegionProcessor::Impl {
     Processed result;
     Region& region = result.region;
     region.pattern = pattern;
-    // Boundedness on the neuron rows (as a subset of R^2).
+    // Boundedness on the neuron rows (as a subset of R^2): proved with the
+    // polygon when they are all the rows (no domain sides).
     std::optional<bool> bounded = false;
     if (neuron_rows_ > 0) {
-      bounded = lp::is_plane_cell_bounded(std::span<const lp::PlaneRow>(rows_.data(), neuron_rows_));
+      bounded = neuron_rows_ == rows_.size() && plane->bounded
+                    ? plane->bounded
+                    : lp::is_plane_cell_bounded(std::span<const lp::PlaneRow>(rows_.data(), neuron_rows_));
       if (!bounded) return std::nullopt;
     }
     region.bounded = *bounded;

@@ -569,24 +569,43 @@ TEST(FunctionalDimension, CheckRejectsAKernelVectorAlteredInOneEntry) {
   EXPECT_GT(altered, 10u);
 }
 
+// The rows are reduced in the walk's pool (WalkOptions::on_region_in_pool)
+// and computed by its workers: the kept rows, their witnesses and the region
+// where an early stop falls must not depend on the thread count either.
 TEST(FunctionalDimension, SameResultForAnyThreadCount) {
+  std::size_t early_stops = 0;
   for (const Network& network : {random_network({2, 5, 5, 1}, 21), random_network({3, 4, 4, 1}, 22),
+                                 random_network({2, 6, 6, 6, 1}, 23),
                                  read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json")}) {
-    FunctionalDimensionOptions one, two;
-    one.walk.threads = 1;
-    two.walk.threads = 2;
-    one.stop_at_scaling_bound = two.stop_at_scaling_bound = false;
-    one.keep_kernel = two.keep_kernel = true;
-    const auto a = certify_functional_dimension(network, make_whole_space(network.input_dim), one);
-    const auto b = certify_functional_dimension(network, make_whole_space(network.input_dim), two);
-    EXPECT_EQ(a.functional_dimension, b.functional_dimension);
-    EXPECT_EQ(a.kernel, b.kernel);
-    ASSERT_EQ(a.extra_kernel.size(), b.extra_kernel.size());
-    for (std::size_t i = 0; i < a.extra_kernel.size(); ++i) {
-      EXPECT_EQ(a.extra_kernel[i].vector, b.extra_kernel[i].vector);
-      EXPECT_EQ(a.extra_kernel[i].mechanism, b.extra_kernel[i].mechanism);
+    for (const bool stop_at_scaling_bound : {false, true}) {
+      auto run = [&](unsigned threads) {
+        FunctionalDimensionOptions options;
+        options.walk.threads = threads;
+        options.stop_at_scaling_bound = stop_at_scaling_bound;
+        options.points_first = false;  // stopping at the bound: inside the walk
+        options.keep_kernel = true;
+        return certify_functional_dimension(network, make_whole_space(network.input_dim), options);
+      };
+      const auto a = run(1);
+      early_stops += a.early_stop;
+      for (unsigned threads : {2u, 3u}) {
+        const auto b = run(threads);
+        EXPECT_EQ(a.functional_dimension, b.functional_dimension);
+        EXPECT_EQ(a.lower_bound, b.lower_bound);
+        EXPECT_EQ(a.regions_walked, b.regions_walked);
+        EXPECT_EQ(a.early_stop, b.early_stop);
+        EXPECT_EQ(a.regions_contributing, b.regions_contributing);
+        EXPECT_EQ(a.witness_points, b.witness_points);
+        EXPECT_EQ(a.kernel, b.kernel);
+        ASSERT_EQ(a.extra_kernel.size(), b.extra_kernel.size());
+        for (std::size_t i = 0; i < a.extra_kernel.size(); ++i) {
+          EXPECT_EQ(a.extra_kernel[i].vector, b.extra_kernel[i].vector);
+          EXPECT_EQ(a.extra_kernel[i].mechanism, b.extra_kernel[i].mechanism);
+        }
+      }
     }
   }
+  EXPECT_GE(early_stops, 1u);  // a walk really stopped where the rank met the bound
 }
 
 // A stop request that arrives after the walk (here: raised by the first

@@ -2,11 +2,13 @@
 #include "enumerate/walker.hpp"
 
 #include "core/errors.hpp"
+#include "core/random_network.hpp"
 #include "enumerate/pattern_cell.hpp"
 #include "tests/support/network_builders.hpp"
 
 #include <gtest/gtest.h>
 
+#include <any>
 #include <set>
 
 namespace pleat {
@@ -106,6 +108,57 @@ TEST(Walker, OutputIsIdenticalForAnyThreadCount) {
   }
   EXPECT_EQ(one, two);
   EXPECT_EQ(one.size(), 1u + 9u + 36u);
+}
+
+// on_region run inside the pool (WalkOptions::on_region_in_pool), with each
+// region's prepare_region result, delivers the same regions in the same order
+// as on_region on the calling thread, for any thread count; a stop asked by
+// on_region, and max_regions, cut the walk at the same region.
+TEST(Walker, OnRegionInThePoolDeliversTheSameRegionsInOrder) {
+  const Network network = random_network({2, 6, 6, 1}, 7);
+  struct Delivered {
+    std::vector<std::string> regions;
+    WalkSummary summary;
+  };
+  auto run = [&](unsigned threads, bool in_pool, std::size_t stop_after, std::size_t max_regions) {
+    Delivered out;
+    WalkOptions options;
+    options.threads = threads;
+    options.max_regions = max_regions;
+    options.on_region_in_pool = in_pool;
+    if (in_pool)
+      options.prepare_region = [&](const Region& region) -> std::any { return format_pattern(network, region.pattern); };
+    options.on_region = [&](const Region& region) {
+      std::string line = std::to_string(region.id) + " " + format_pattern(network, region.pattern);
+      if (in_pool) {
+        const auto* prepared = std::any_cast<std::string>(&region.prepared);
+        EXPECT_TRUE(prepared != nullptr && *prepared == format_pattern(network, region.pattern));
+      } else {
+        EXPECT_FALSE(region.prepared.has_value());
+      }
+      out.regions.push_back(std::move(line));
+      return out.regions.size() != stop_after;
+    };
+    out.summary = walk_regions(network, make_whole_space(2), options);
+    return out;
+  };
+  for (auto [stop_after, max_regions] : {std::pair<std::size_t, std::size_t>{0, 0}, {17, 0}, {0, 23}}) {
+    const Delivered reference = run(1, false, stop_after, max_regions);
+    // Cut where asked (the whole walk has more regions than either cut).
+    ASSERT_EQ(reference.regions.size(), stop_after ? stop_after : max_regions ? max_regions : reference.summary.regions);
+    if (!stop_after && !max_regions) {
+      ASSERT_GT(reference.summary.regions, 30u);
+    }
+    for (unsigned threads : {1u, 2u, 3u}) {
+      const Delivered pooled = run(threads, true, stop_after, max_regions);
+      EXPECT_EQ(pooled.regions, reference.regions) << threads << " threads";
+      EXPECT_EQ(pooled.summary.regions, reference.summary.regions);
+      EXPECT_EQ(pooled.summary.stop_reason, reference.summary.stop_reason);
+      EXPECT_EQ(pooled.summary.certified, reference.summary.certified);
+      EXPECT_EQ(pooled.summary.facets, reference.summary.facets);
+      EXPECT_EQ(pooled.summary.patterns, reference.summary.patterns);
+    }
+  }
 }
 
 TEST(Walker, MaxRegionsStopsWithBoundsNotCertified) {

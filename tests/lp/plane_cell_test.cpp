@@ -51,6 +51,7 @@ TEST(PlaneCell, UnitSquareWithRedundantAndRepeatedRows) {
   ASSERT_TRUE(plane);
   EXPECT_EQ(plane->groups.front().rows, (std::vector<std::size_t>{0, 5}));  // positive multiples share one group
   EXPECT_EQ(is_plane_cell_bounded(rows), std::optional<bool>(true));
+  EXPECT_EQ(plane->bounded, std::optional<bool>(true));  // proved from the polygon's edges
 }
 
 TEST(PlaneCell, RowThroughACornerIsNoFacet) {
@@ -64,6 +65,7 @@ TEST(PlaneCell, UnboundedWedgeStripAndHalfPlane) {
   const std::vector<PlaneRow> wedge{{-1, 1, 0}, {1, 1, -3}, {0, 1, 10}};
   EXPECT_EQ(checked_facets(wedge), (std::vector<std::size_t>{0, 1}));
   EXPECT_EQ(is_plane_cell_bounded(wedge), std::optional<bool>(false));
+  EXPECT_FALSE(describe_plane_cell(wedge)->bounded.has_value());  // reaches the box: no claim
   // The strip 5 < x < 7 (no vertex) with the redundant 3x - 1 > 0 (a multiple of row 0's normal).
   const std::vector<PlaneRow> strip{{1, 0, -5}, {-1, 0, 7}, {3, 0, -1}};
   EXPECT_EQ(checked_facets(strip), (std::vector<std::size_t>{0, 1}));
@@ -71,6 +73,41 @@ TEST(PlaneCell, UnboundedWedgeStripAndHalfPlane) {
   // A half-plane far from the origin: 1000 x - 999 y - 123456 > 0.
   const std::vector<PlaneRow> half{{1000, -999, -123456}};
   EXPECT_EQ(checked_facets(half), (std::vector<std::size_t>{0}));
+}
+
+// The boundedness proved from the polygon (PlaneCell::bounded) agrees with
+// is_plane_cell_bounded's own proof on random cells: lines with integer
+// coefficients in [-50, 50], each oriented so that (0, 0) is inside
+// (c > 0), 3 to 12 of them. When set it is true, and only on bounded cells;
+// it is set on most bounded ones (the path is taken).
+TEST(PlaneCell, BoundednessFromThePolygonAgreesWithTheNormals) {
+  std::uint64_t state = 12345;
+  const auto next = [&](int range) {
+    state = state * 6364136223846793005ull + 1442695040888963407ull;
+    return static_cast<int>((state >> 33) % static_cast<std::uint64_t>(2 * range + 1)) - range;
+  };
+  std::size_t bounded = 0, proved = 0;
+  for (int sample = 0; sample < 2000; ++sample) {
+    std::vector<PlaneRow> rows;
+    const int count = 3 + (sample % 10);
+    while (static_cast<int>(rows.size()) < count) {
+      const int a0 = next(50), a1 = next(50), c = 1 + (next(50) + 50);
+      if (a0 == 0 && a1 == 0) continue;
+      rows.push_back(PlaneRow{a0, a1, c});
+    }
+    const std::optional<PlaneCell> plane = describe_plane_cell(rows);
+    ASSERT_TRUE(plane) << "sample " << sample;
+    const std::optional<bool> truth = is_plane_cell_bounded(rows);
+    ASSERT_TRUE(truth) << "sample " << sample;
+    bounded += *truth;
+    if (plane->bounded) {
+      ++proved;
+      EXPECT_TRUE(*plane->bounded);
+      EXPECT_TRUE(*truth) << "sample " << sample;
+    }
+  }
+  EXPECT_GT(bounded, 200u);
+  EXPECT_GT(proved, bounded * 9 / 10);
 }
 
 TEST(PlaneCell, EmptyCellIsNotDescribed) {
