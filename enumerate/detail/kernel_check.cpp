@@ -196,15 +196,20 @@ struct ParameterRole {
   std::size_t layer, neuron, input;
 };
 
-std::vector<ParameterRole> parameter_roles(const ModularNetwork& network) {
-  std::vector<ParameterRole> roles;
+// The marked parameters (column, role), in parameter order, into `out`
+// (reused: no allocation once it has grown).
+void wanted_roles(const ModularNetwork& network, const std::vector<char>& wanted,
+                  std::vector<std::pair<std::size_t, ParameterRole>>& out) {
+  out.clear();
+  std::size_t c = 0;
   for (std::size_t k = 0; k < network.weights.size(); ++k) {
     const ModularMatrix& weights = network.weights[k];
     for (std::size_t i = 0; i < weights.rows(); ++i)
-      for (std::size_t j = 0; j < weights.cols(); ++j) roles.push_back({k, i, j});
-    for (std::size_t i = 0; i < weights.rows(); ++i) roles.push_back({k, i, ParameterRole::bias});
+      for (std::size_t j = 0; j < weights.cols(); ++j, ++c)
+        if (wanted[c]) out.push_back({c, {k, i, j}});
+    for (std::size_t i = 0; i < weights.rows(); ++i, ++c)
+      if (wanted[c]) out.push_back({c, {k, i, ParameterRole::bias}});
   }
-  return roles;
 }
 
 }  // namespace
@@ -212,15 +217,13 @@ std::vector<ParameterRole> parameter_roles(const ModularNetwork& network) {
 void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern& pattern,
                          const std::vector<std::size_t>& rows, const std::vector<char>& wanted, ModularMatrix& out,
                          std::size_t first_out_row) {
-  const std::vector<ParameterRole> roles = parameter_roles(network);
-  std::vector<std::size_t> columns;
+  thread_local std::vector<std::pair<std::size_t, ParameterRole>> columns;  // (column, role)
+  wanted_roles(network, wanted, columns);
   std::size_t forward_to = 0, backward_to = network.weights.size();
-  for (std::size_t c = 0; c < roles.size(); ++c)
-    if (wanted[c]) {
-      columns.push_back(c);
-      if (roles[c].input != ParameterRole::bias) forward_to = std::max(forward_to, roles[c].layer);
-      backward_to = std::min(backward_to, roles[c].layer);
-    }
+  for (const auto& [c, role] : columns) {
+    if (role.input != ParameterRole::bias) forward_to = std::max(forward_to, role.layer);
+    backward_to = std::min(backward_to, role.layer);
+  }
   if (columns.empty()) return;
   thread_local RegionFactors factors;
   region_factors(network, pattern, forward_to, backward_to, factors);
@@ -228,8 +231,7 @@ void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern&
   const std::size_t n0 = network.input_dim;
   for (std::size_t r = 0; r < rows.size(); ++r) {
     const std::size_t o = rows[r] / (n0 + 1), t = rows[r] % (n0 + 1);  // row o(n0+1): offsets, then slope t-1
-    for (std::size_t c : columns) {
-      const ParameterRole& role = roles[c];
+    for (const auto& [c, role] : columns) {
       const std::size_t width = network.weights[role.layer].rows();
       const std::uint64_t g = factors.signal[role.layer][o * width + role.neuron];
       std::uint64_t value = 0;

@@ -7,6 +7,7 @@
 #include <flint/fmpq.h>
 #include <flint/fmpz.h>
 #include <flint/nmod_mat.h>
+#include <flint/ulong_extras.h>
 
 #include <algorithm>
 #include <cmath>
@@ -68,13 +69,16 @@ std::optional<std::vector<RationalVector>> solve_square(const RationalMatrix& ro
   return out;
 }
 
+// A row's nonzero entries (column, value), increasing.
+using SparseRow = std::vector<std::pair<std::size_t, Rational>>;
+
 // Rows of the image modulo p whose every entry is a fraction with numerator
 // and denominator below 2^24 in absolute value (rational reconstruction with
 // those bounds); nullopt for the others. A random residue passes that test
 // with probability about 2^-14, so a row that passes by chance is rare, and
 // the exact check catches it. Not proved.
-std::vector<std::optional<RationalVector>> small_rows_from_one_prime(const ModularMatrix& image, std::uint64_t prime) {
-  std::vector<std::optional<RationalVector>> rows(image.rows());
+std::vector<std::optional<SparseRow>> small_rows_from_one_prime(const ModularMatrix& image, std::uint64_t prime) {
+  std::vector<std::optional<SparseRow>> rows(image.rows());
   fmpz_t residue, modulus, bound;
   fmpq_t value;
   fmpz_init(residue);
@@ -82,13 +86,17 @@ std::vector<std::optional<RationalVector>> small_rows_from_one_prime(const Modul
   fmpz_init_set_ui(bound, std::uint64_t{1} << 24);
   fmpq_init(value);
   for (std::size_t r = 0; r < image.rows(); ++r) {
-    RationalVector row(image.cols());
+    poll_stop();
+    SparseRow row;
     bool is_small = true;
     for (std::size_t c = 0; c < image.cols() && is_small; ++c) {
       if (image(r, c) == 0) continue;
       fmpz_set_ui(residue, image(r, c));
       is_small = fmpq_reconstruct_fmpz_2(value, residue, modulus, bound, bound) != 0;
-      if (is_small) fmpq_get_mpq(row[c].get_mpq_t(), value);
+      if (is_small) {
+        row.emplace_back(c, Rational());
+        fmpq_get_mpq(row.back().second.get_mpq_t(), value);
+      }
     }
     if (is_small) rows[r] = std::move(row);
   }
@@ -122,6 +130,10 @@ struct RowLift {
   std::unique_ptr<RationalReconstruction> images;  // rows x |U|
   std::optional<RationalMatrix> last;  // the previous reconstruction
   bool is_stable = false;
+  // The square system [K_U | K_L] (|U| x (|U| + leads)) modulo each of the
+  // first further primes, for the exact solve once those suffice.
+  std::vector<ModularMatrix> systems;
+  std::vector<std::uint64_t> system_primes;
 };
 
 // The kept rows modulo the network's prime, r x D (coefficient_blocks_mod of
@@ -179,18 +191,30 @@ std::optional<std::vector<std::size_t>> independent_rows(const ModularMatrix& ro
   return chosen;
 }
 
-// The rows' entries on U modulo the prime of `rows`: the solution of their
-// square system there (1 at each lead), or nullopt when that system is
-// singular modulo this prime (skip the prime for these rows).
-std::optional<ModularMatrix> row_image(const RowLift& lift, const ModularMatrix& rows, std::uint64_t prime) {
+// The rows' square system modulo the prime of `rows`: |U| x (|U| + leads),
+// the equations' entries on U, then at the leads.
+ModularMatrix row_system(const RowLift& lift, const ModularMatrix& rows) {
   const std::size_t n = lift.support.size(), count = lift.leads.size();
-  NmodMatrix square(n, n, prime), right(n, count, prime), solution(n, count, prime);
+  ModularMatrix system(n, n + count);
   for (std::size_t i = 0; i < n; ++i) {
     const std::size_t r = lift.equations[i];
+    for (std::size_t m = 0; m < n; ++m) system(i, m) = rows(r, lift.support[m]);
+    for (std::size_t j = 0; j < count; ++j) system(i, n + j) = rows(r, lift.leads[j]);
+  }
+  return system;
+}
+
+// The rows' entries on U modulo a prime: the solution of their square
+// system there (1 at each lead), or nullopt when that system is singular
+// modulo this prime (skip the prime for these rows).
+std::optional<ModularMatrix> row_image(const ModularMatrix& system, std::uint64_t prime) {
+  const std::size_t n = system.rows(), count = system.cols() - n;
+  NmodMatrix square(n, n, prime), right(n, count, prime), solution(n, count, prime);
+  for (std::size_t i = 0; i < n; ++i) {
     for (std::size_t m = 0; m < n; ++m)
-      nmod_mat_entry(square.get(), static_cast<slong>(i), static_cast<slong>(m)) = rows(r, lift.support[m]);
+      nmod_mat_entry(square.get(), static_cast<slong>(i), static_cast<slong>(m)) = system(i, m);
     for (std::size_t j = 0; j < count; ++j) {
-      const std::uint64_t value = rows(r, lift.leads[j]);
+      const std::uint64_t value = system(i, n + j);
       nmod_mat_entry(right.get(), static_cast<slong>(i), static_cast<slong>(j)) = value == 0 ? 0 : prime - value;
     }
   }
@@ -201,6 +225,57 @@ std::optional<ModularMatrix> row_image(const RowLift& lift, const ModularMatrix&
     for (std::size_t j = 0; j < count; ++j)
       image(j, m) = nmod_mat_entry(solution.get(), static_cast<slong>(m), static_cast<slong>(j));
   return image;
+}
+
+// The rows solved exactly from their square system modulo the first further
+// primes, whose product exceeds twice every scaled entry's bound (CheckScale:
+// L^(d-1) times a block entry is an integer of absolute value at most
+// L^(d-1) B_c): the symmetric residues are those integers, and FLINT's
+// p-adic solve (Dixon) gives the rational solution. False when that system
+// is singular over Q (the lift then fails: bounds, or the exact fallback).
+bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
+  const std::size_t n = lift.support.size(), count = lift.leads.size();
+  std::vector<std::uint64_t> scale_residues, inverses;  // L^(d-1) modulo each prime
+  for (std::uint64_t prime : lift.system_primes) {
+    scale_residues.push_back(mpz_fdiv_ui(scale.get_mpz_t(), prime));
+    inverses.push_back(n_preinvert_limb(prime));
+  }
+  FmpzMatrix square(n, n), right(n, count);
+  fmpz_t modulus, value;
+  fmpz_init(modulus);
+  fmpz_init(value);
+  for (std::size_t i = 0; i < n; ++i) {
+    poll_stop();
+    for (std::size_t m = 0; m < n + count; ++m) {
+      fmpz_one(modulus);
+      fmpz_zero(value);
+      for (std::size_t p = 0; p < lift.systems.size(); ++p) {
+        const std::uint64_t prime = lift.system_primes[p];
+        const std::uint64_t scaled = n_mulmod2_preinv(lift.systems[p](i, m), scale_residues[p], prime, inverses[p]);
+        fmpz_CRT_ui(value, value, modulus, scaled, prime, 1);
+        fmpz_mul_ui(modulus, modulus, prime);
+      }
+      if (m < n)
+        fmpz_set(square.entry(i, m), value);
+      else
+        fmpz_neg(right.entry(i, m - n), value);
+    }
+  }
+  fmpz_clear(value);
+  fmpz_clear(modulus);
+  FmpqMatrix solution(n, count);
+  poll_stop();
+  // Dixon beyond small systems (FLINT's own choice there is multi-modular,
+  // one LU per prime: the cost this solve avoids).
+  const int is_solved = n < 16 ? fmpq_mat_solve_fmpz_mat_fraction_free(solution.get(), square.get(), right.get())
+                               : fmpq_mat_solve_fmpz_mat_dixon(solution.get(), square.get(), right.get());
+  if (!is_solved) return false;
+  RationalMatrix rows(count, n);
+  for (std::size_t m = 0; m < n; ++m)
+    for (std::size_t j = 0; j < count; ++j) fmpq_get_mpq(rows(j, m).get_mpq_t(), solution.entry(m, j));
+  lift.last = std::move(rows);
+  lift.is_stable = true;
+  return true;
 }
 
 // Adds the rows' image modulo a prime and reconstructs: stable once two
@@ -258,11 +333,17 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
                                                                   const ModularMatrix& image,
                                                                   const std::vector<std::size_t>& rows,
                                                                   const std::vector<std::size_t>& leading,
-                                                                  std::size_t sparse_limit, unsigned threads) {
+                                                                  std::size_t sparse_limit, unsigned threads,
+                                                                  const CheckScale* check_scale) {
   constexpr std::size_t max_primes = 4096;
   const std::size_t columns = image.cols();
-  const ModularMatrix walk_rows = kept_rows_modulo(walk_network, kept, rank, columns, threads);
   std::vector<RowLift> lifts = row_groups(image, rows, leading, rank, sparse_limit);
+  // The kept rows modulo the walk's prime at the groups' supports only (what
+  // picks each group's equations).
+  std::vector<char> in_supports(columns, 0);
+  for (const RowLift& lift : lifts)
+    for (std::size_t c : lift.support) in_supports[c] = 1;
+  const ModularMatrix walk_rows = kept_rows_modulo(walk_network, kept, rank, columns, threads, nullptr, &in_supports);
   std::vector<std::optional<std::vector<std::size_t>>> equations(lifts.size());
   parallel_for(lifts.size(), threads,
                [&](std::size_t i) { equations[i] = independent_rows(walk_rows, lifts[i].support, walk_network.prime); });
@@ -279,6 +360,15 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
   // open, so the reconstructions, and the prime at which each settles, are
   // those of one prime at a time: the same for any thread count.
   const std::size_t batch = std::max(1u, threads);
+  // With the check's scale: the product the further primes must exceed for
+  // the exact solve (twice the largest scaled entry), and theirs so far.
+  std::optional<Rational> exact_bound;
+  if (check_scale) {
+    Rational largest = 0;
+    for (const Rational& bound : check_scale->bounds) largest = std::max(largest, bound);
+    exact_bound = 2 * largest * Rational(check_scale->scale);
+  }
+  Integer product = 1;
   for (std::size_t index = 0, used = 0; used < max_primes;) {
     poll_stop();
     std::vector<std::size_t> open;
@@ -303,22 +393,52 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
       for (std::size_t c : lifts[i].leads) columns_needed[c] = 1;
     }
     std::vector<std::vector<std::optional<ModularMatrix>>> images(primes.size());
+    std::vector<std::vector<ModularMatrix>> systems(primes.size());
     auto images_modulo = [&](std::size_t p, unsigned inner_threads) {
       const std::uint64_t prime = primes[p].first;
       const ModularNetwork& reduced = primes[p].second;
       const ModularMatrix prime_rows =
           kept_rows_modulo(reduced, kept, rank, columns, inner_threads, &needed, &columns_needed);
       images[p].resize(open.size());
-      parallel_for(open.size(), inner_threads,
-                   [&](std::size_t o) { images[p][o] = row_image(lifts[open[o]], prime_rows, prime); });
+      systems[p].resize(open.size());
+      parallel_for(open.size(), inner_threads, [&](std::size_t o) {
+        systems[p][o] = row_system(lifts[open[o]], prime_rows);
+        images[p][o] = row_image(systems[p][o], prime);
+      });
     };
     if (primes.size() == 1)
       images_modulo(0, threads);
     else
       parallel_for(primes.size(), threads, [&](std::size_t p) { images_modulo(p, 1); });
-    for (std::size_t p = 0; p < primes.size(); ++p)
-      for (std::size_t o = 0; o < open.size(); ++o)
-        if (images[p][o] && !lifts[open[o]].is_stable) add_row_image(lifts[open[o]], *images[p][o], primes[p].first);
+    for (std::size_t p = 0; p < primes.size(); ++p) {
+      const std::uint64_t prime = primes[p].first;
+      for (std::size_t o = 0; o < open.size(); ++o) {
+        RowLift& lift = lifts[open[o]];
+        if (lift.is_stable) continue;
+        if (exact_bound) {
+          lift.systems.push_back(std::move(systems[p][o]));
+          lift.system_primes.push_back(prime);
+        }
+        if (images[p][o]) add_row_image(lift, *images[p][o], prime);
+      }
+      // Enough primes for the exact integer systems: the rows still open
+      // (large entries, or a prime that hid one) solved exactly, each
+      // group on its own thread. Where this happens depends on the primes
+      // alone: the same for any thread count.
+      product *= Integer(static_cast<unsigned long>(prime));
+      if (exact_bound && Rational(product) > *exact_bound) {
+        std::vector<std::size_t> still_open;
+        for (std::size_t i = 0; i < lifts.size(); ++i)
+          if (!lifts[i].is_stable) still_open.push_back(i);
+        std::vector<char> solved(still_open.size(), 0);
+        parallel_for(still_open.size(), threads, [&](std::size_t o) {
+          solved[o] = solve_rows_exactly(lifts[still_open[o]], check_scale->scale) ? 1 : 0;
+        });
+        if (std::find(solved.begin(), solved.end(), 0) != solved.end()) return std::nullopt;
+        exact_bound.reset();
+        break;
+      }
+    }
   }
   std::vector<RationalVector> out(image.rows());
   for (const RowLift& lift : lifts) {
@@ -398,7 +518,7 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
   // Small rows from the walk's prime alone (most extra directions of a
   // random network: one parameter no region depends on, or a few short
   // fractions); the others lifted row by row over further primes.
-  std::vector<std::optional<RationalVector>> candidate_rows =
+  std::vector<std::optional<SparseRow>> candidate_rows =
       small_rows_from_one_prime(first_image, walk_network.prime);
   std::vector<std::size_t> hard;
   for (std::size_t j = 0; j < candidate_rows.size(); ++j)
@@ -407,13 +527,26 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
   if (!hard.empty()) {
     if (lift_progress) lift_progress(1);
     if (auto lifted =
-            lift_rows_multimodular(network, walk_network, kept, rank, first_image, hard, leading, rank / 4, threads))
-      for (std::size_t h = 0; h < hard.size(); ++h) candidate_rows[hard[h]] = std::move((*lifted)[h]);
+            lift_rows_multimodular(network, walk_network, kept, rank, first_image, hard, leading, rank / 4, threads,
+                                   &check_scale))
+      for (std::size_t h = 0; h < hard.size(); ++h) {
+        SparseRow& row = candidate_rows[hard[h]].emplace();
+        for (std::size_t c = 0; c < (*lifted)[h].size(); ++c)
+          if (sgn((*lifted)[h][c]) != 0) row.emplace_back(c, std::move((*lifted)[h][c]));
+      }
   }
   if (std::all_of(candidate_rows.begin(), candidate_rows.end(), [](const auto& row) { return row.has_value(); })) {
-    candidate = RationalMatrix(0, first_image.cols());  // rows moved in: no copy
+    // Row by row (each dense row moved in, its sparse form released): the
+    // dense candidate is the only large copy.
+    candidate = RationalMatrix(0, first_image.cols());
     candidate->reserve_rows(candidate_rows.size());
-    for (std::optional<RationalVector>& row : candidate_rows) candidate->append_row(std::move(*row));
+    for (std::optional<SparseRow>& sparse : candidate_rows) {
+      poll_stop();
+      RationalVector row(first_image.cols());
+      for (auto& [c, value] : *sparse) mpq_swap(row[c].get_mpq_t(), value.get_mpq_t());
+      sparse.reset();
+      candidate->append_row(std::move(row));
+    }
     if (is_proved(*candidate)) return candidate;
     if (stopped || stop.is_requested()) {
       stopped = true;
@@ -430,107 +563,6 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
   if (!solved || solved == candidate) return std::nullopt;
   if (is_proved(*solved)) return solved;
   return std::nullopt;
-}
-
-std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon) {
-  std::vector<std::size_t> leads;
-  for (std::size_t r = 0; r < echelon.rows(); ++r) {
-    std::size_t c = 0;
-    while (c < echelon.cols() && echelon(r, c) == 0) ++c;
-    leads.push_back(c);
-  }
-  return leads;
-}
-
-ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vector<std::size_t>& scaling_pivots,
-                                       std::uint64_t prime) {
-  std::vector<bool> is_scaling_pivot(rows.cols(), false);
-  for (std::size_t c : scaling_pivots) is_scaling_pivot[c] = true;
-  std::vector<std::size_t> columns;  // the columns outside Q, increasing
-  for (std::size_t c = 0; c < rows.cols(); ++c)
-    if (!is_scaling_pivot[c]) columns.push_back(c);
-  ModularMatrix restricted(rows.rows(), columns.size());
-  for (std::size_t r = 0; r < rows.rows(); ++r)
-    for (std::size_t q = 0; q < columns.size(); ++q) restricted(r, q) = rows(r, columns[q]);
-  const ModularMatrix kernel = kernel_basis_modulo(restricted, prime);
-  ModularMatrix extra(kernel.rows(), rows.cols());
-  for (std::size_t r = 0; r < kernel.rows(); ++r)
-    for (std::size_t q = 0; q < columns.size(); ++q) extra(r, columns[q]) = kernel(r, q);
-  return extra;
-}
-
-ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots) {
-  const ModularMatrix rows = basis.rows();
-  const std::vector<std::size_t>& pivots = basis.pivot_columns();
-  const std::size_t columns = rows.cols();
-  const std::uint64_t prime = basis.prime();
-  // Columns in the order Q first, then the others increasing.
-  std::vector<char> is_scaling(columns, 0);
-  for (std::size_t c : scaling_pivots) is_scaling[c] = 1;
-  std::vector<std::size_t> order(scaling_pivots.begin(), scaling_pivots.end());
-  std::sort(order.begin(), order.end());
-  for (std::size_t c = 0; c < columns; ++c)
-    if (!is_scaling[c]) order.push_back(c);
-  std::vector<std::size_t> position(columns);
-  for (std::size_t q = 0; q < columns; ++q) position[order[q]] = q;
-  // The kernel read off the basis (row i: 1 at pivot_i, 0 at the other
-  // pivots): for each other column f, e_f minus column f at the pivots.
-  // A column f no kept row touches gives e_f itself; outside Q it is a row
-  // of E as it stands (most extra directions of a random network: a
-  // parameter no region depends on), and every other kernel vector is 0 at
-  // f, so those are set aside and only the rest is eliminated.
-  std::vector<char> is_pivot(columns, 0);
-  for (std::size_t c : pivots) is_pivot[c] = 1;
-  std::vector<std::size_t> eliminated, untouched;  // the other columns: eliminated; e_f as it stands
-  for (std::size_t f = 0; f < columns; ++f) {
-    if (is_pivot[f]) continue;
-    bool is_touched = is_scaling[f] != 0;
-    for (std::size_t i = 0; i < pivots.size() && !is_touched; ++i) is_touched = rows(i, f) != 0;
-    (is_touched ? eliminated : untouched).push_back(f);
-  }
-  ModularMatrix kernel(eliminated.size(), columns);  // in the permuted order
-  for (std::size_t k = 0; k < eliminated.size(); ++k) {
-    poll_stop();
-    const std::size_t f = eliminated[k];
-    kernel(k, position[f]) = 1;
-    for (std::size_t i = 0; i < pivots.size(); ++i)
-      if (rows(i, f) != 0) kernel(k, position[pivots[i]]) = prime - rows(i, f);
-  }
-  // Its reduced echelon form with Q first: the rows led outside Q vanish on
-  // Q and are E's canonical basis (reduced on the other columns in order),
-  // merged by leading column with the untouched unit rows.
-  const ModularMatrix echelon = row_space_basis_modulo(kernel, prime);
-  const std::vector<std::size_t> leads = echelon_shape(echelon);  // permuted positions
-  std::size_t first = 0;
-  while (first < echelon.rows() && is_scaling[order[leads[first]]]) ++first;
-  ModularMatrix extra(echelon.rows() - first + untouched.size(), columns);
-  std::size_t next_unit = 0, out = 0;
-  for (std::size_t r = first; r <= echelon.rows(); ++r) {
-    const std::size_t lead = r < echelon.rows() ? order[leads[r]] : columns;
-    for (; next_unit < untouched.size() && untouched[next_unit] < lead; ++next_unit) extra(out++, untouched[next_unit]) = 1;
-    if (r == echelon.rows()) break;
-    for (std::size_t q = 0; q < columns; ++q) extra(out, order[q]) = echelon(r, q);
-    ++out;
-  }
-  return extra;
-}
-
-bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>& columns) {
-  std::vector<bool> is_excluded(extra.cols(), false);
-  for (std::size_t c : columns) is_excluded[c] = true;
-  std::size_t previous = 0;
-  for (std::size_t r = 0; r < extra.rows(); ++r) {
-    poll_stop();
-    std::size_t lead = 0;
-    while (lead < extra.cols() && extra(r, lead) == 0) ++lead;
-    if (lead == extra.cols() || extra(r, lead) != 1 || (r > 0 && lead <= previous)) return false;
-    for (std::size_t other = 0; other < extra.rows(); ++other)
-      if (other != r && extra(other, lead) != 0) return false;
-    for (std::size_t c : columns)
-      if (extra(r, c) != 0) return false;
-    previous = lead;
-  }
-  return true;
 }
 
 }  // namespace pleat::detail

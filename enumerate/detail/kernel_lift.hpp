@@ -120,14 +120,21 @@ std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
 // arithmetic), Chinese remaindered and reconstructed, until two
 // reconstructions in a row agree. The rows in the order given, or nullopt
 // (no independent equations modulo the walk's prime, or no agreement within
-// 4096 primes). Not proved.
+// 4096 primes). Not proved. With check_scale, the groups still open once the
+// further primes' product exceeds twice every scaled entry's bound
+// (2 L^(d-1) max B_c: the kept rows' scaled entries are then exact integers
+// by Chinese remaindering) are solved exactly instead (FLINT's p-adic
+// solve), each group on its own thread; nullopt when one such system is
+// singular over Q. The rows in the order given, the same for any thread
+// count.
 std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network& network,
                                                                   const ModularNetwork& walk_network,
                                                                   const std::vector<KeptRows>& kept, std::size_t rank,
                                                                   const ModularMatrix& image,
                                                                   const std::vector<std::size_t>& rows,
                                                                   const std::vector<std::size_t>& leading,
-                                                                  std::size_t sparse_limit, unsigned threads);
+                                                                  std::size_t sparse_limit, unsigned threads,
+                                                                  const CheckScale* check_scale = nullptr);
 
 // Whether E vanishes at the columns Q and is in reduced row-echelon form
 // with leading 1s: then S u E is independent whenever S restricted to Q is

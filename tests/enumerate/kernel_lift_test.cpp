@@ -111,24 +111,30 @@ TEST(KernelLift, ExactSolveAndMultiModularLiftGiveTheExactKernelsExtraDirections
 
 // Rows lifted alone (each from its own support's square system) and all
 // rows lifted together (one system on the union of their supports) give the
-// same rows, those of the exact kernel, on the scaled example and on a
-// random network; with 1 thread and with 2.
+// same rows, those of the exact kernel, on the scaled example and on random
+// networks; with 1 thread and with 2; by reconstruction alone and with the
+// exact solve once the primes' product passes the check's scaled bound
+// (fraction-free for small systems, Dixon for the systems of all rows).
 TEST(KernelLift, RowsAloneAndTogetherGiveTheExactRows) {
-  for (const Network& network : {scaled_degenerate(), random_network({2, 6, 5, 1}, 21)}) {
+  for (const Network& network :
+       {scaled_degenerate(), random_network({2, 6, 5, 1}, 21), random_network({2, 5, 5, 5, 1}, 2)}) {
     const WalkState state = walk_state(network);
+    const detail::CheckScale check_scale(network);
     const RationalMatrix expected = exact_extra_directions(network, state.smooth);
     ASSERT_GT(expected.rows(), 0u);
     std::vector<std::size_t> rows(expected.rows());
     for (std::size_t j = 0; j < rows.size(); ++j) rows[j] = j;
     const std::vector<std::size_t> leads = detail::echelon_shape(state.first_image);
     for (std::size_t sparse_limit : {std::size_t{0}, state.rank}) {
-      for (unsigned threads : {1u, 2u}) {
-        const auto lifted = detail::lift_rows_multimodular(network, state.modular, state.kept, state.rank,
-                                                           state.first_image, rows, leads, sparse_limit, threads);
-        ASSERT_TRUE(lifted.has_value());
-        ASSERT_EQ(lifted->size(), expected.rows());
-        for (std::size_t j = 0; j < rows.size(); ++j) EXPECT_EQ((*lifted)[j], expected.row(j)) << j;
-      }
+      for (unsigned threads : {1u, 2u})
+        for (const detail::CheckScale* scale : {static_cast<const detail::CheckScale*>(nullptr), &check_scale}) {
+          const auto lifted = detail::lift_rows_multimodular(network, state.modular, state.kept, state.rank,
+                                                             state.first_image, rows, leads, sparse_limit, threads,
+                                                             scale);
+          ASSERT_TRUE(lifted.has_value());
+          ASSERT_EQ(lifted->size(), expected.rows());
+          for (std::size_t j = 0; j < rows.size(); ++j) EXPECT_EQ((*lifted)[j], expected.row(j)) << j;
+        }
     }
   }
 }

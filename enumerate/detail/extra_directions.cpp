@@ -1,0 +1,136 @@
+// The extra directions modulo the walk's prime, read off its row basis, and
+// the exact test of their echelon shape (declared in kernel_lift.hpp).
+#include "enumerate/detail/kernel_lift.hpp"
+
+#include "core/detail/flint_matrix.hpp"
+
+#include <flint/nmod_mat.h>
+
+#include <algorithm>
+#include <vector>
+
+namespace pleat::detail {
+
+std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon) {
+  std::vector<std::size_t> leads;
+  for (std::size_t r = 0; r < echelon.rows(); ++r) {
+    std::size_t c = 0;
+    while (c < echelon.cols() && echelon(r, c) == 0) ++c;
+    leads.push_back(c);
+  }
+  return leads;
+}
+
+ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vector<std::size_t>& scaling_pivots,
+                                       std::uint64_t prime) {
+  std::vector<bool> is_scaling_pivot(rows.cols(), false);
+  for (std::size_t c : scaling_pivots) is_scaling_pivot[c] = true;
+  std::vector<std::size_t> columns;  // the columns outside Q, increasing
+  for (std::size_t c = 0; c < rows.cols(); ++c)
+    if (!is_scaling_pivot[c]) columns.push_back(c);
+  ModularMatrix restricted(rows.rows(), columns.size());
+  for (std::size_t r = 0; r < rows.rows(); ++r)
+    for (std::size_t q = 0; q < columns.size(); ++q) restricted(r, q) = rows(r, columns[q]);
+  const ModularMatrix kernel = kernel_basis_modulo(restricted, prime);
+  ModularMatrix extra(kernel.rows(), rows.cols());
+  for (std::size_t r = 0; r < kernel.rows(); ++r)
+    for (std::size_t q = 0; q < columns.size(); ++q) extra(r, columns[q]) = kernel(r, q);
+  return extra;
+}
+
+ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots) {
+  const ModularMatrix rows = basis.rows();
+  const std::vector<std::size_t>& pivots = basis.pivot_columns();
+  const std::size_t columns = rows.cols(), rank = pivots.size();
+  const std::uint64_t prime = basis.prime();
+  std::vector<char> is_scaling(columns, 0), is_pivot(columns, 0);
+  for (std::size_t c : scaling_pivots) is_scaling[c] = 1;
+  for (std::size_t c : pivots) is_pivot[c] = 1;
+  // The kernel read off the basis (row i: 1 at pivot_i, 0 at the other
+  // pivots): a vector is free on the other columns F, and at pivot_i it is
+  // minus row i times its F part. E is the part that vanishes on Q. A
+  // column f of F no kept row touches gives e_f: outside Q a row of E as it
+  // stands (most extra directions of a random network: a parameter no region
+  // depends on), and every other vector of E is 0 there, so those are set
+  // aside. The other free columns outside Q (T) carry the rest, W: the
+  // vectors whose T part c meets the conditions of the pivots in Q (row i
+  // times c is 0), a small kernel; W is then c on T and -R c at the
+  // pivots, and its reduced echelon form is E's other rows.
+  std::vector<std::size_t> touched, untouched;  // T; e_f as it stands
+  for (std::size_t f = 0; f < columns; ++f) {
+    if (is_pivot[f] || is_scaling[f]) continue;
+    bool is_touched = false;
+    for (std::size_t i = 0; i < rank && !is_touched; ++i) is_touched = rows(i, f) != 0;
+    (is_touched ? touched : untouched).push_back(f);
+  }
+  std::vector<std::size_t> conditions;  // the basis rows whose pivot is in Q
+  for (std::size_t i = 0; i < rank; ++i)
+    if (is_scaling[pivots[i]]) conditions.push_back(i);
+  poll_stop();
+  ModularMatrix combinations;  // the T parts c of W's basis, one per row
+  if (conditions.empty()) {
+    combinations = ModularMatrix(touched.size(), touched.size());
+    for (std::size_t t = 0; t < touched.size(); ++t) combinations(t, t) = 1;
+  } else if (!touched.empty()) {
+    ModularMatrix condition_rows(conditions.size(), touched.size());
+    for (std::size_t q = 0; q < conditions.size(); ++q)
+      for (std::size_t t = 0; t < touched.size(); ++t) condition_rows(q, t) = rows(conditions[q], touched[t]);
+    combinations = kernel_basis_modulo(condition_rows, prime);
+  }
+  const std::size_t dimension = combinations.rows();
+  // W at the pivots: -(R_T c) for each c, one product (dimension x |T| by
+  // |T| x rank).
+  ModularMatrix spanning(dimension, columns);
+  if (dimension > 0) {
+    NmodMatrix left(dimension, touched.size(), prime), right(touched.size(), rank, prime), at_pivots(dimension, rank, prime);
+    for (std::size_t a = 0; a < dimension; ++a)
+      for (std::size_t t = 0; t < touched.size(); ++t)
+        nmod_mat_entry(left.get(), static_cast<slong>(a), static_cast<slong>(t)) = combinations(a, t);
+    for (std::size_t t = 0; t < touched.size(); ++t)
+      for (std::size_t i = 0; i < rank; ++i)
+        nmod_mat_entry(right.get(), static_cast<slong>(t), static_cast<slong>(i)) = rows(i, touched[t]);
+    poll_stop();
+    nmod_mat_mul(at_pivots.get(), left.get(), right.get());
+    for (std::size_t a = 0; a < dimension; ++a) {
+      for (std::size_t t = 0; t < touched.size(); ++t) spanning(a, touched[t]) = combinations(a, t);
+      for (std::size_t i = 0; i < rank; ++i) {
+        const std::uint64_t value = nmod_mat_entry(at_pivots.get(), static_cast<slong>(a), static_cast<slong>(i));
+        spanning(a, pivots[i]) = value == 0 ? 0 : prime - value;
+      }
+    }
+  }
+  // W's canonical basis, merged by leading column with the unit rows (W is
+  // 0 at their columns, they are 0 elsewhere).
+  const ModularMatrix echelon = dimension > 0 ? row_space_basis_modulo(spanning, prime) : ModularMatrix(0, columns);
+  const std::vector<std::size_t> leads = echelon_shape(echelon);
+  ModularMatrix extra(echelon.rows() + untouched.size(), columns);
+  std::size_t next_unit = 0, out = 0;
+  for (std::size_t r = 0; r <= echelon.rows(); ++r) {
+    const std::size_t lead = r < echelon.rows() ? leads[r] : columns;
+    for (; next_unit < untouched.size() && untouched[next_unit] < lead; ++next_unit) extra(out++, untouched[next_unit]) = 1;
+    if (r == echelon.rows()) break;
+    for (std::size_t c = 0; c < columns; ++c) extra(out, c) = echelon(r, c);
+    ++out;
+  }
+  return extra;
+}
+
+bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>& columns) {
+  std::vector<bool> is_excluded(extra.cols(), false);
+  for (std::size_t c : columns) is_excluded[c] = true;
+  std::size_t previous = 0;
+  for (std::size_t r = 0; r < extra.rows(); ++r) {
+    poll_stop();
+    std::size_t lead = 0;
+    while (lead < extra.cols() && extra(r, lead) == 0) ++lead;
+    if (lead == extra.cols() || extra(r, lead) != 1 || (r > 0 && lead <= previous)) return false;
+    for (std::size_t other = 0; other < extra.rows(); ++other)
+      if (other != r && extra(other, lead) != 0) return false;
+    for (std::size_t c : columns)
+      if (extra(r, c) != 0) return false;
+    previous = lead;
+  }
+  return true;
+}
+
+}  // namespace pleat::detail
