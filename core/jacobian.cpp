@@ -23,6 +23,10 @@ struct ExactArithmetic {
   Value multiply(const Value& a, const Value& b) const { return a * b; }
   Value negate(const Value& a) const { return -a; }
   bool is_zero(const Value& a) const { return sgn(a) == 0; }
+  // x -> factor * x, for many x.
+  auto times(const Value& factor) const {
+    return [&factor](const Value& x) { return factor * x; };
+  }
 };
 
 struct DoubleArithmetic {
@@ -33,6 +37,9 @@ struct DoubleArithmetic {
   Value multiply(Value a, Value b) const { return a * b; }
   Value negate(Value a) const { return -a; }
   bool is_zero(Value a) const { return a == 0.0; }
+  auto times(Value factor) const {
+    return [factor](Value x) { return factor * x; };
+  }
 };
 
 struct ModularArithmetic {
@@ -45,6 +52,17 @@ struct ModularArithmetic {
   Value multiply(Value a, Value b) const { return nmod_mul(a, b, modulus); }
   Value negate(Value a) const { return nmod_neg(a, modulus); }
   bool is_zero(Value a) const { return a == 0; }
+  // Shoup's product with a precomputed quotient of the fixed factor: two
+  // word multiplications instead of a reduction by the prime per product
+  // (the same residue; Shoup's method needs p < 2^63, which reduce_modulo
+  // ensures; a network reduced otherwise takes nmod_mul).
+  auto times(Value factor) const {
+    const bool is_shoup = modulus.n < (std::uint64_t{1} << 63);
+    const Value precomputed = is_shoup ? n_mulmod_precomp_shoup(factor, modulus.n) : 0;
+    return [factor, precomputed, is_shoup, modulus = modulus](Value x) {
+      return is_shoup ? n_mulmod_shoup(factor, x, precomputed, modulus.n) : nmod_mul(factor, x, modulus);
+    };
+  }
 };
 
 // The layers of any of the three network types, seen through pointers.
@@ -238,11 +256,11 @@ Matrix<typename Arithmetic::Value> coefficient_blocks_of(const LayersView<typena
         const Value& g = signal(o, i);
         if (arithmetic.is_zero(g)) continue;
         blocks(offset_row, offset + width * fan_in + i) = g;  // d c_o / d b_k[i]
+        const auto times_g = arithmetic.times(g);
         for (std::size_t j = 0; j < fan_in; ++j) {
           const std::size_t column = offset + i * fan_in + j;
-          blocks(offset_row, column) = arithmetic.multiply(g, in.offset[j]);
-          for (std::size_t t = 0; t < n0; ++t)
-            blocks(offset_row + 1 + t, column) = arithmetic.multiply(g, in.linear(j, t));
+          blocks(offset_row, column) = times_g(in.offset[j]);
+          for (std::size_t t = 0; t < n0; ++t) blocks(offset_row + 1 + t, column) = times_g(in.linear(j, t));
         }
       }
     }

@@ -128,15 +128,19 @@ inline std::uint64_t multiply_shoup(std::uint64_t factor, std::uint64_t value, s
   return result - (prime & (0 - static_cast<std::uint64_t>(result >= prime)));
 }
 
-// target -= factor * source (mod p), entrywise.
-void subtract_multiple(ModularVector& target, const ModularVector& source, std::uint64_t factor,
-                       std::uint64_t prime) {
+// target -= factor * source (mod p) with entry `dropped` removed, in one
+// pass (the clearing and the column erasure of add_row).
+void subtract_multiple_dropping(ModularVector& target, const ModularVector& source, std::uint64_t factor,
+                                std::size_t dropped, std::uint64_t prime) {
   const std::uint64_t precomputed = n_mulmod_precomp_shoup(factor, prime);
-  for (std::size_t j = 0; j < target.size(); ++j) {
+  const auto entry = [&](std::size_t j) {
     const std::uint64_t product = multiply_shoup(factor, source[j], precomputed, prime);
     const std::uint64_t difference = target[j] - product;
-    target[j] = difference + (prime & (0 - static_cast<std::uint64_t>(target[j] < product)));
-  }
+    return difference + (prime & (0 - static_cast<std::uint64_t>(target[j] < product)));
+  };
+  for (std::size_t j = 0; j < dropped; ++j) target[j] = entry(j);
+  for (std::size_t j = dropped + 1; j < target.size(); ++j) target[j - 1] = entry(j);
+  target.pop_back();
 }
 
 void scale(ModularVector& target, std::uint64_t factor, std::uint64_t prime) {
@@ -198,29 +202,50 @@ ModularVector ModularRowBasis::residual(const ModularVector& row) const {
   // exactly in 192 bits (a 128-bit sum and a count of its wrap-arounds) and
   // reduced once at the end. Kept row i is 1 at its own pivot and 0 at the
   // others, so subtracting this sum from row clears every pivot entry at once.
-  const std::size_t free_count = free_columns_.size();
-  std::vector<Wide> sums(free_count, 0);
-  std::vector<std::uint64_t> wraps(free_count, 0);
-  for (std::size_t i = 0; i < pivot_columns_.size(); ++i) {
-    const std::uint64_t factor = row[pivot_columns_[i]];
-    if (factor == 0) continue;
-    const std::uint64_t* part = free_parts_[i].data();
-    for (std::size_t q = 0; q < free_count; ++q) {
-      const Wide product = static_cast<Wide>(factor) * part[q];
-      const Wide sum = sums[q] + product;
-      wraps[q] += static_cast<std::uint64_t>(sum < product);
-      sums[q] = sum;
+  // Columns go kBlock at a time with their sums in registers, each block
+  // reading down the contributing rows (their parts stay in cache).
+  std::vector<std::uint64_t> factors;
+  std::vector<const std::uint64_t*> parts;
+  for (std::size_t i = 0; i < pivot_columns_.size(); ++i)
+    if (const std::uint64_t factor = row[pivot_columns_[i]]; factor != 0) {
+      factors.push_back(factor);
+      parts.push_back(free_parts_[i].data());
     }
-  }
+  const std::size_t free_count = free_columns_.size();
   ModularVector result(free_count);
-  for (std::size_t q = 0; q < free_count; ++q) {
+  // n_lll_mod_preinv wants the top word reduced mod p: wraps <= rank, and
+  // it is nonzero only when rank * (p-1)^2 >= 2^128, i.e. p >> rank.
+  const auto subtract_sum = [&](std::size_t q, Wide sum, std::uint64_t wraps) {
     const std::uint64_t value = row[free_columns_[q]];
-    // n_lll_mod_preinv wants the top word reduced mod p: wraps <= rank, and
-    // it is nonzero only when rank * (p-1)^2 >= 2^128, i.e. p >> rank.
-    const std::uint64_t subtrahend =
-        n_lll_mod_preinv(wraps[q], static_cast<std::uint64_t>(sums[q] >> 64), static_cast<std::uint64_t>(sums[q]),
-                         prime_, prime_inverse_);
+    const std::uint64_t subtrahend = n_lll_mod_preinv(wraps, static_cast<std::uint64_t>(sum >> 64),
+                                                      static_cast<std::uint64_t>(sum), prime_, prime_inverse_);
     result[q] = value >= subtrahend ? value - subtrahend : value + (prime_ - subtrahend);
+  };
+  constexpr std::size_t kBlock = 4;
+  std::size_t q = 0;
+  for (; q + kBlock <= free_count; q += kBlock) {
+    Wide sums[kBlock] = {};
+    std::uint64_t wraps[kBlock] = {};
+    for (std::size_t k = 0; k < factors.size(); ++k) {
+      const std::uint64_t factor = factors[k];
+      const std::uint64_t* part = parts[k] + q;
+      for (std::size_t b = 0; b < kBlock; ++b) {
+        const Wide product = static_cast<Wide>(factor) * part[b];
+        sums[b] += product;
+        wraps[b] += static_cast<std::uint64_t>(sums[b] < product);
+      }
+    }
+    for (std::size_t b = 0; b < kBlock; ++b) subtract_sum(q + b, sums[b], wraps[b]);
+  }
+  for (; q < free_count; ++q) {
+    Wide sum = 0;
+    std::uint64_t wraps = 0;
+    for (std::size_t k = 0; k < factors.size(); ++k) {
+      const Wide product = static_cast<Wide>(factors[k]) * parts[k][q];
+      sum += product;
+      wraps += static_cast<std::uint64_t>(sum < product);
+    }
+    subtract_sum(q, sum, wraps);
   }
   return result;
 }
@@ -246,9 +271,10 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
     if (part[q] != 0) {
       const std::uint64_t lost = n_mulmod2_preinv(part[q], new_along, prime_, prime_inverse_);
       screen_along_[i] = n_submod(screen_along_[i], lost, prime_);
-      subtract_multiple(part, reduced, part[q], prime_);
+      subtract_multiple_dropping(part, reduced, part[q], q, prime_);
+    } else {
+      part.erase(part.begin() + position);
     }
-    part.erase(part.begin() + position);
   }
   reduced.erase(reduced.begin() + position);
   // The new row is 0 at its pivot in the free part it keeps: minus c there.
