@@ -157,6 +157,13 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
     std::vector<std::uint64_t>& offset = factors.offset[k + 1];
     linear.assign(weights.rows() * n0, 0);
     offset.assign(weights.rows(), 0);
+    if (k == 0) {  // the input itself: offset b_0[i], slopes W_0[i,:], no products
+      for (std::size_t i : factors.passing[0]) {
+        offset[i] = network.bias[0][i];
+        for (std::size_t t = 0; t < n0; ++t) linear[i * n0 + t] = weights(i, t);
+      }
+      continue;
+    }
     for (std::size_t i : factors.passing[k]) {
       LazySum value(prime, inverse);
       value.add(network.bias[k][i], 1);
@@ -180,6 +187,11 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
     const std::vector<std::uint64_t>& next_signal = factors.signal[k + 1];
     const ModularMatrix& next_weights = network.weights[k + 1];
     const std::size_t next_width = next_weights.rows();
+    if (k + 2 == depth) {  // the last signal is the identity on its passing outputs: no products
+      for (std::size_t o : factors.passing[k + 1])
+        for (std::size_t i : factors.passing[k]) signal[o * width + i] = next_weights(o, i);
+      continue;
+    }
     for (std::size_t o = 0; o < nd; ++o)
       for (std::size_t i : factors.passing[k]) {
         LazySum value(prime, inverse);

@@ -76,17 +76,18 @@ using SparseRow = std::vector<std::pair<std::size_t, Rational>>;
 // and denominator below 2^24 in absolute value (rational reconstruction with
 // those bounds); nullopt for the others. A random residue passes that test
 // with probability about 2^-14, so a row that passes by chance is rare, and
-// the exact check catches it. Not proved.
-std::vector<std::optional<SparseRow>> small_rows_from_one_prime(const ModularMatrix& image, std::uint64_t prime) {
+// the exact check catches it. Not proved. Rows on up to `threads` threads.
+std::vector<std::optional<SparseRow>> small_rows_from_one_prime(const ModularMatrix& image, std::uint64_t prime,
+                                                                unsigned threads) {
   std::vector<std::optional<SparseRow>> rows(image.rows());
-  fmpz_t residue, modulus, bound;
-  fmpq_t value;
-  fmpz_init(residue);
-  fmpz_init_set_ui(modulus, prime);
-  fmpz_init_set_ui(bound, std::uint64_t{1} << 24);
-  fmpq_init(value);
-  for (std::size_t r = 0; r < image.rows(); ++r) {
+  parallel_for(image.rows(), threads, [&](std::size_t r) {
     poll_stop();
+    fmpz_t residue, modulus, bound;
+    fmpq_t value;
+    fmpz_init(residue);
+    fmpz_init_set_ui(modulus, prime);
+    fmpz_init_set_ui(bound, std::uint64_t{1} << 24);
+    fmpq_init(value);
     SparseRow row;
     bool is_small = true;
     for (std::size_t c = 0; c < image.cols() && is_small; ++c) {
@@ -99,11 +100,11 @@ std::vector<std::optional<SparseRow>> small_rows_from_one_prime(const ModularMat
       }
     }
     if (is_small) rows[r] = std::move(row);
-  }
-  fmpq_clear(value);
-  fmpz_clear(bound);
-  fmpz_clear(modulus);
-  fmpz_clear(residue);
+    fmpq_clear(value);
+    fmpz_clear(bound);
+    fmpz_clear(modulus);
+    fmpz_clear(residue);
+  });
   return rows;
 }
 
@@ -519,7 +520,7 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
   // random network: one parameter no region depends on, or a few short
   // fractions); the others lifted row by row over further primes.
   std::vector<std::optional<SparseRow>> candidate_rows =
-      small_rows_from_one_prime(first_image, walk_network.prime);
+      small_rows_from_one_prime(first_image, walk_network.prime, threads);
   std::vector<std::size_t> hard;
   for (std::size_t j = 0; j < candidate_rows.size(); ++j)
     if (!candidate_rows[j]) hard.push_back(j);
