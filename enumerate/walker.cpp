@@ -155,6 +155,8 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
     processors.push_back(
         std::make_unique<detail::RegionProcessor>(network, domain, options.keep_certificates, options.exact_only));
 
+  detail::PrefixPool pool(processors.size());  // its threads serve every level
+
   WalkSummary summary;
   // Every pattern met is stored once, packed (detail::PatternStore); levels
   // and neighbour lists hold its slots. Per region the walk keeps only its
@@ -245,8 +247,8 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
         }
         return true;
       };
-      const detail::PrefixRun run = detail::run_prefix_pool(
-          results.size(), processors.size(), stop,
+      const detail::PrefixRun run = pool.run(
+          results.size(), stop,
           [&](std::size_t worker, std::size_t i) {
             results[i] = processors[worker]->process(options.on_region_in_pool
                                                          ? patterns[i]

@@ -45,89 +45,162 @@ PrefixRun run_inline(std::size_t count, const StopRequest& stop,
 
 }  // namespace
 
-PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequest& stop,
+// One run's shared state: its items, the counters the workers advance and
+// the consumer's place.
+struct PrefixPool::Job {
+  std::size_t count = 0;
+  const StopRequest* stop = nullptr;
+  const std::function<void(std::size_t, std::size_t)>* process = nullptr;
+  const std::function<bool(std::size_t)>* consume = nullptr;
+  std::vector<std::atomic<bool>> done;
+  std::atomic<std::size_t> next{0};
+  std::atomic<std::size_t> finished{0};
+  std::atomic<bool> halt{false};
+  std::atomic<int> stopped_inside{static_cast<int>(StopReason::none)};
+  std::mutex error_mutex;
+  std::exception_ptr error;
+  std::mutex consume_mutex;
+  std::atomic<std::size_t> consumed{0};
+  std::atomic<bool> consumer_halted{false};
+};
+
+PrefixPool::PrefixPool(std::size_t workers) : workers_(std::max<std::size_t>(1, workers)) {
+  try {
+    if (workers_ > 1)
+      for (std::size_t t = 0; t < workers_; ++t) threads_.emplace_back([this, t] { serve(t); });
+  } catch (...) {  // a thread that could not start: end those that did
+    close();
+    throw;
+  }
+}
+
+PrefixPool::~PrefixPool() { close(); }
+
+void PrefixPool::close() {
+  {
+    const std::lock_guard lock(mutex_);
+    is_closing_ = true;
+  }
+  wake_workers_.notify_all();
+  for (auto& thread : threads_) thread.join();
+  threads_.clear();
+}
+
+// A worker thread: waits for each run, works on it, says when it is out.
+void PrefixPool::serve(std::size_t worker) {
+  std::uint64_t seen = 0;
+  while (true) {
+    Job* job = nullptr;
+    {
+      std::unique_lock lock(mutex_);
+      wake_workers_.wait(lock, [&] { return is_closing_ || generation_ != seen; });
+      if (is_closing_) return;
+      seen = generation_;
+      job = job_;
+    }
+    work(*job, worker);
+    {
+      const std::lock_guard lock(mutex_);
+      --busy_;
+    }
+    wake_caller_.notify_all();
+  }
+}
+
+// Consumes the done items in order unless another thread is doing so. That
+// thread re-checks after letting go, so an item finished meanwhile (whose
+// thread found the role taken) is not left waiting.
+void PrefixPool::consume_ready(Job& job) {
+  static const StopRequest never;
+  const auto is_next_ready = [&] {
+    const std::size_t k = job.consumed;
+    return !job.consumer_halted && k < job.count && job.done[k];
+  };
+  while (is_next_ready()) {
+    const std::unique_lock lock(job.consume_mutex, std::try_to_lock);
+    if (!lock.owns_lock()) return;
+    const StopScope unstoppable(never);  // consume has no partial result to abandon
+    while (is_next_ready()) {
+      const std::size_t k = job.consumed;
+      const bool is_going_on = (*job.consume)(k);
+      job.consumed = k + 1;
+      if (!is_going_on) {
+        job.consumer_halted = true;
+        job.halt = true;
+      }
+    }
+  }
+}
+
+void PrefixPool::work(Job& job, std::size_t worker) {
+  try {
+    const StopScope scope(*job.stop);
+    for (std::size_t i; !job.halt && (i = job.next++) < job.count;) {
+      (*job.process)(worker, i);
+      job.done[i] = true;
+      ++job.finished;
+      if (job.consume) consume_ready(job);
+    }
+  } catch (const Stopped& stopped) {  // mid-item: that item stays undone
+    job.stopped_inside = static_cast<int>(stopped.reason());
+    job.halt = true;
+  } catch (...) {
+    const std::lock_guard lock(job.error_mutex);
+    if (!job.error) job.error = std::current_exception();
+    job.halt = true;
+  }
+}
+
+PrefixRun PrefixPool::run(std::size_t count, const StopRequest& stop,
                           const std::function<void(std::size_t worker, std::size_t item)>& process,
                           const std::function<void(std::size_t finished)>& on_tick,
                           const std::function<bool(std::size_t item)>& consume) {
   PrefixRun run;
   if (count == 0) return run;
-  if (std::min(workers, count) <= 1) return run_inline(count, stop, process, on_tick);  // consume: left to the caller
-  std::vector<std::atomic<bool>> done(count);
-  std::atomic<std::size_t> next{0};
-  std::atomic<std::size_t> finished{0};
-  std::atomic<bool> halt{false};
-  std::mutex error_mutex;
-  std::exception_ptr error;
-  std::mutex wake_mutex;
-  std::condition_variable wake;
-  std::atomic<int> stopped_inside{static_cast<int>(StopReason::none)};
-  std::mutex consume_mutex;
-  std::atomic<std::size_t> consumed{0};
-  std::atomic<bool> consumer_halted{false};
-  // Consumes the done items in order unless another thread is doing so. That
-  // thread re-checks after letting go, so an item finished meanwhile (whose
-  // thread found the role taken) is not left waiting.
-  const StopRequest never;
-  auto consume_ready = [&] {
-    const auto is_next_ready = [&] {
-      const std::size_t k = consumed;
-      return !consumer_halted && k < count && done[k];
-    };
-    while (is_next_ready()) {
-      const std::unique_lock lock(consume_mutex, std::try_to_lock);
-      if (!lock.owns_lock()) return;
-      const StopScope unstoppable(never);  // consume has no partial result to abandon
-      while (is_next_ready()) {
-        const std::size_t k = consumed;
-        const bool is_going_on = consume(k);
-        consumed = k + 1;
-        if (!is_going_on) {
-          consumer_halted = true;
-          halt = true;
-        }
-      }
-    }
-  };
-  auto work = [&](std::size_t worker) {
-    try {
-      const StopScope scope(stop);
-      for (std::size_t i; !halt && (i = next++) < count;) {
-        process(worker, i);
-        done[i] = true;
-        ++finished;
-        if (consume) consume_ready();
-      }
-    } catch (const Stopped& stopped) {  // mid-item: that item stays undone
-      stopped_inside = static_cast<int>(stopped.reason());
-      halt = true;
-    } catch (...) {
-      const std::lock_guard lock(error_mutex);
-      if (!error) error = std::current_exception();
-      halt = true;
-    }
-    const std::lock_guard lock(wake_mutex);
-    wake.notify_all();
-  };
-  std::vector<std::thread> pool;
-  const std::size_t threads = std::max<std::size_t>(1, std::min(workers, count));
-  for (std::size_t t = 0; t < threads; ++t) pool.emplace_back(work, t);
+  if (workers_ == 1 || count == 1) return run_inline(count, stop, process, on_tick);  // consume: left to the caller
+  Job job;
+  job.count = count;
+  job.stop = &stop;
+  job.process = &process;
+  job.consume = consume ? &consume : nullptr;
+  job.done = std::vector<std::atomic<bool>>(count);
   {
-    // Wake when every item is done, or every 0.2 s to report and check limits.
-    std::unique_lock lock(wake_mutex);
-    while (!wake.wait_for(lock, std::chrono::milliseconds(200), [&] { return finished == count || halt; })) {
+    const std::lock_guard lock(mutex_);
+    job_ = &job;
+    busy_ = threads_.size();
+    ++generation_;
+  }
+  wake_workers_.notify_all();
+  {
+    // Wake when every worker is out of the run, or every 0.2 s to report
+    // and check limits (a stop halts the workers after their current item).
+    std::unique_lock lock(mutex_);
+    while (!wake_caller_.wait_for(lock, std::chrono::milliseconds(200), [&] { return busy_ == 0; })) {
       if (const StopReason reason = stop.reason(); reason != StopReason::none) {
         run.stopped = reason;
-        halt = true;
+        job.halt = true;
       }
-      if (on_tick) on_tick(finished);
+      if (on_tick) {
+        lock.unlock();
+        on_tick(job.finished);
+        lock.lock();
+      }
     }
+    job_ = nullptr;
   }
-  for (auto& thread : pool) thread.join();
-  if (error) std::rethrow_exception(error);
-  if (run.stopped == StopReason::none) run.stopped = static_cast<StopReason>(stopped_inside.load());
-  while (run.prefix < count && done[run.prefix]) ++run.prefix;
-  run.consumed = consumed;
+  if (job.error) std::rethrow_exception(job.error);
+  if (run.stopped == StopReason::none) run.stopped = static_cast<StopReason>(job.stopped_inside.load());
+  while (run.prefix < count && job.done[run.prefix]) ++run.prefix;
+  run.consumed = job.consumed;
   return run;
+}
+
+PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequest& stop,
+                          const std::function<void(std::size_t worker, std::size_t item)>& process,
+                          const std::function<void(std::size_t finished)>& on_tick,
+                          const std::function<bool(std::size_t item)>& consume) {
+  PrefixPool pool(std::min(workers, count));
+  return pool.run(count, stop, process, on_tick, consume);
 }
 
 }  // namespace pleat::detail

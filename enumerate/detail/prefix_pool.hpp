@@ -4,8 +4,13 @@
 
 #include "core/stop.hpp"
 
+#include <condition_variable>
 #include <cstddef>
+#include <cstdint>
 #include <functional>
+#include <mutex>
+#include <thread>
+#include <vector>
 
 namespace pleat::detail {
 
@@ -35,5 +40,40 @@ PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequ
                           const std::function<void(std::size_t worker, std::size_t item)>& process,
                           const std::function<void(std::size_t finished)>& on_tick,
                           const std::function<bool(std::size_t item)>& consume = {});
+
+// The same, on worker threads that live as long as the pool, so that a walk
+// of many small levels starts its threads (and warms their thread-local
+// buffers) once, not once per level. One worker: no threads, the caller runs
+// the items itself. run is called from one thread at a time.
+class PrefixPool {
+ public:
+  explicit PrefixPool(std::size_t workers);
+  ~PrefixPool();
+  PrefixPool(const PrefixPool&) = delete;
+  PrefixPool& operator=(const PrefixPool&) = delete;
+
+  // As run_prefix_pool with this pool's workers.
+  PrefixRun run(std::size_t count, const StopRequest& stop,
+                const std::function<void(std::size_t worker, std::size_t item)>& process,
+                const std::function<void(std::size_t finished)>& on_tick,
+                const std::function<bool(std::size_t item)>& consume = {});
+
+ private:
+  struct Job;
+  void close();
+  void serve(std::size_t worker);
+  void work(Job& job, std::size_t worker);
+  void consume_ready(Job& job);
+
+  std::size_t workers_;
+  std::mutex mutex_;
+  std::condition_variable wake_workers_;
+  std::condition_variable wake_caller_;
+  Job* job_ = nullptr;               // the current run (under mutex_)
+  std::uint64_t generation_ = 0;     // counts runs (under mutex_)
+  std::size_t busy_ = 0;             // workers not yet out of the current run (under mutex_)
+  bool is_closing_ = false;
+  std::vector<std::thread> threads_;  // last: started once the rest is set up
+};
 
 }  // namespace pleat::detail

@@ -6,6 +6,7 @@
 #include "core/random_network.hpp"
 #include "enumerate/detail/integer_maps.hpp"
 #include "enumerate/detail/pattern_store.hpp"
+#include "enumerate/detail/prefix_pool.hpp"
 #include "enumerate/detail/walk_adjacency.hpp"
 #include "enumerate/pattern_cell.hpp"
 #include "enumerate/walker.hpp"
@@ -13,6 +14,8 @@
 #include <gtest/gtest.h>
 
 #include <algorithm>
+#include <atomic>
+#include <stdexcept>
 #include <limits>
 #include <map>
 #include <numeric>
@@ -218,6 +221,75 @@ TEST(WalkAdjacency, CountsAsymmetricListsAndRecomputesEvictedMaps) {
   id_of_slot.resize(7, detail::no_region);
   add(5, {6}, 1);  // names a slot never delivered
   EXPECT_FALSE(adjacency.all_neighbors_delivered());
+}
+
+// One pool serves many runs (the walk's levels): every item processed once,
+// consume called once per item, in order, while the workers go on; a consume
+// that returns false halts the run right there.
+TEST(PrefixPool, ServesManyRunsAndConsumesInOrder) {
+  for (std::size_t workers : {1u, 2u, 3u}) {
+    detail::PrefixPool pool(workers);
+    for (std::size_t count : {0u, 1u, 2u, 3u, 97u, 500u}) {
+      for (const bool halts : {false, true}) {
+        const std::size_t halt_at = count / 2;
+        std::vector<std::atomic<int>> processed(count);
+        std::vector<std::size_t> consumed;
+        std::atomic<bool> is_worker_in_range{true};
+        const detail::PrefixRun run = pool.run(
+            count, StopRequest(),
+            [&](std::size_t worker, std::size_t item) {
+              if (worker >= workers) is_worker_in_range = false;
+              ++processed[item];
+            },
+            nullptr,
+            [&](std::size_t item) {
+              EXPECT_EQ(processed[item].load(), 1) << "consumed before it was processed";
+              consumed.push_back(item);
+              return !(halts && item == halt_at);
+            });
+        EXPECT_TRUE(is_worker_in_range);
+        EXPECT_EQ(run.stopped, StopReason::none);
+        EXPECT_EQ(run.consumed, consumed.size());
+        for (std::size_t i = 0; i < consumed.size(); ++i) EXPECT_EQ(consumed[i], i);
+        if (workers == 1 || count <= 1) {  // inline: consuming is left to the caller
+          EXPECT_TRUE(consumed.empty());
+          EXPECT_EQ(run.prefix, count);
+        } else if (halts) {
+          EXPECT_EQ(consumed.size(), halt_at + 1) << workers << " workers, " << count << " items";
+          EXPECT_GE(run.prefix, halt_at + 1);
+        } else {
+          EXPECT_EQ(consumed.size(), count);
+          EXPECT_EQ(run.prefix, count);
+          for (std::size_t i = 0; i < count; ++i) EXPECT_EQ(processed[i].load(), 1);
+        }
+      }
+    }
+  }
+}
+
+// An item that throws ends its run with that exception and a stop inside an
+// item cuts the prefix before it; the pool serves the next run as before.
+TEST(PrefixPool, RethrowsAndStopsThenServesTheNextRun) {
+  detail::PrefixPool pool(2);
+  EXPECT_THROW(pool.run(
+                   50, StopRequest(),
+                   [](std::size_t, std::size_t item) {
+                     if (item == 7) throw std::runtime_error("item 7");
+                   },
+                   nullptr),
+               std::runtime_error);
+  const detail::PrefixRun stopped = pool.run(
+      50, StopRequest(),
+      [](std::size_t, std::size_t item) {
+        if (item == 9) throw Stopped(StopReason::time_limit);
+      },
+      nullptr);
+  EXPECT_EQ(stopped.stopped, StopReason::time_limit);
+  EXPECT_LE(stopped.prefix, 9u);
+  std::atomic<std::size_t> items{0};
+  const detail::PrefixRun whole = pool.run(50, StopRequest(), [&](std::size_t, std::size_t) { ++items; }, nullptr);
+  EXPECT_EQ(whole.prefix, 50u);
+  EXPECT_EQ(items.load(), 50u);
 }
 
 }  // namespace
