@@ -339,8 +339,9 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
     return true;  // group members are positive multiples of their representative
   };
   for (double shrink : {1.0 / 16.0, 1.0 / 1024.0, 0.0}) {
-    RationalVector x{detail::short_rational_near(centre[0], least * shrink),
-                     detail::short_rational_near(centre[1], least * shrink)};
+    RationalVector x(2);  // filled in place: no copies of the coordinates
+    x[0] = detail::short_rational_near(centre[0], least * shrink);
+    x[1] = detail::short_rational_near(centre[1], least * shrink);
     if (is_strictly_inside(x)) {
       cell.interior = std::move(x);
       break;
@@ -375,16 +376,18 @@ std::optional<PlaneCell> describe_plane_cell(const std::vector<PlaneRow>& exact_
     const Integer& other_a = solve_first ? row.a1 : row.a0;
     const double other_value = solve_first ? middle[1] : middle[0];
     for (double shrink : {1.0 / 16.0, 1.0 / 1024.0, 0.0}) {
-      const Rational other = detail::short_rational_near(other_value, margin * shrink);
-      // a_s x_s + a_o (p / q) + c = 0  =>  x_s = -(c q + a_o p) / (a_s q).
-      Rational solved;
-      mpz_class numerator = row.c * other.get_den() + other_a * other.get_num();
-      mpz_neg(numerator.get_mpz_t(), numerator.get_mpz_t());
-      mpz_class denominator = solved_a * other.get_den();
-      mpq_set_num(solved.get_mpq_t(), numerator.get_mpz_t());
-      mpq_set_den(solved.get_mpq_t(), denominator.get_mpz_t());
-      solved.canonicalize();
-      RationalVector x = solve_first ? RationalVector{solved, other} : RationalVector{other, solved};
+      // a_s x_s + a_o (p / q) + c = 0  =>  x_s = -(c q + a_o p) / (a_s q),
+      // written straight into the point's coordinates (no temporaries).
+      RationalVector x(2);
+      Rational& other = x[solve_first ? 1 : 0];
+      Rational& solved = x[solve_first ? 0 : 1];
+      other = detail::short_rational_near(other_value, margin * shrink);
+      mpz_ptr numerator = mpq_numref(solved.get_mpq_t());
+      mpz_mul(numerator, row.c.get_mpz_t(), other.get_den_mpz_t());
+      mpz_addmul(numerator, other_a.get_mpz_t(), other.get_num_mpz_t());
+      mpz_neg(numerator, numerator);
+      mpz_mul(mpq_denref(solved.get_mpq_t()), solved_a.get_mpz_t(), other.get_den_mpz_t());
+      solved.canonicalize();  // a_s != 0 (|a_s| >= |a_o|, not both 0); the sign moves to the numerator
       ScaledPoint scaled(x);
       bool holds = true;
       for (std::size_t o = 0; o < g && holds; ++o)

@@ -112,8 +112,11 @@ Rational short_rational_near(double value, double radius) {
       h = static_cast<long>(next_h);
       k = static_cast<long>(next_k);
       if (std::fabs(value - static_cast<double>(h) / static_cast<double>(k)) < radius) {
-        Rational result{Integer(h), Integer(k)};
-        result.canonicalize();  // convergents are in lowest terms; cheap insurance
+        // Already canonical: consecutive convergents have h k' - h' k = +-1,
+        // so gcd(h, k) = 1, and k > 0 (k = 1 first, then every term >= 1);
+        // both are exact (below 2^52, checked above). No gcd, no copies.
+        Rational result;
+        mpq_set_si(result.get_mpq_t(), h, static_cast<unsigned long>(k));
         return result;
       }
       const double fraction = rest - term;

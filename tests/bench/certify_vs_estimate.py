@@ -110,8 +110,8 @@ with tempfile.TemporaryDirectory() as work:
             bound = certs[0]["scaling_bound"]
             estimates = [float_estimate(layers, n0, 2 * bound, seed) for _ in range(repeats)]
             cert_s = statistics.median(c["seconds"] for c in certs)
-            before = statistics.median(c["points_seconds"] / max(c["seconds"], 1e-9) for c in certs)
-            after = statistics.median((c["seconds"] - c["walk_seconds"] - c["points_seconds"]) / max(c["seconds"], 1e-9)
+            before = statistics.median(c.get("points_seconds", 0) / max(c["seconds"], 1e-9) for c in certs)
+            after = statistics.median((c["seconds"] - c["walk_seconds"] - c.get("points_seconds", 0)) / max(c["seconds"], 1e-9)
                                       for c in certs)
             est_s = statistics.median(e[1] for e in estimates)
             rows.append(dict(cert_s=cert_s, before=before, after=after, est_s=est_s, ratio=cert_s / max(est_s, 1e-9),

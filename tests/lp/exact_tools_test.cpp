@@ -5,6 +5,7 @@
 
 #include <gtest/gtest.h>
 
+#include <cmath>
 #include <random>
 
 namespace pleat::lp::detail {
@@ -48,6 +49,31 @@ TEST(SimplestBetween, NoSmallerDenominatorInside) {
       mpz_cdiv_q(n.get_mpz_t(), scaled.get_mpz_t(), low.get_den_mpz_t());
       ASSERT_GT(Rational(n, k), high) << "1/" << k << " step fits in [" << low << ", " << high << "]";
     }
+  }
+}
+
+// short_rational_near builds its convergents with no gcd (coprime by the
+// convergents' determinant identity, denominator positive): each result must
+// equal its own canonical form and lie within the radius (in double, as it
+// is chosen: a radius below the value's last bits widens to them). On
+// 3.14159265 with radius 1e-6 the first convergent that close is 355/113
+// (Python's fractions: limit_denominator(112) gives 333/106, 8e-5 away;
+// limit_denominator(113) gives 355/113, 3e-7 away).
+TEST(ShortRationalNear, ConvergentsAreCanonicalAndNear) {
+  EXPECT_EQ(short_rational_near(3.14159265, 1e-6), Rational(355, 113));
+  std::mt19937 random(11);
+  std::uniform_real_distribution<double> value(-1e6, 1e6);
+  std::uniform_real_distribution<double> exponent(-14, 2);
+  for (int sample = 0; sample < 20000; ++sample) {
+    const double x = sample % 3 == 0 ? value(random) / 1e6 : value(random);
+    const double radius = std::pow(10.0, exponent(random)) * (1 + std::fabs(x)) * 1e-3;
+    const Rational r = short_rational_near(x, radius);
+    Rational canonical = r;
+    canonical.canonicalize();
+    ASSERT_EQ(mpz_cmp(r.get_num_mpz_t(), canonical.get_num_mpz_t()), 0) << x << " " << radius;
+    ASSERT_EQ(mpz_cmp(r.get_den_mpz_t(), canonical.get_den_mpz_t()), 0) << x << " " << radius;
+    ASSERT_GT(sgn(r.get_den()), 0);
+    EXPECT_LE(std::fabs(to_double(r) - x), radius * (1 + 1e-12) + 4 * 0x1p-52 * std::fabs(x)) << x << " " << radius;
   }
 }
 
