@@ -52,7 +52,9 @@ struct PrefixPool::Job {
   const StopRequest* stop = nullptr;
   const std::function<void(std::size_t, std::size_t)>* process = nullptr;
   const std::function<bool(std::size_t)>* consume = nullptr;
+  const std::function<void(std::size_t)>* on_tick = nullptr;  // the caller's (worker 0's) only
   std::vector<std::atomic<bool>> done;
+  std::atomic<int> stopped_polled{static_cast<int>(StopReason::none)};
   std::atomic<std::size_t> next{0};
   std::atomic<std::size_t> finished{0};
   std::atomic<bool> halt{false};
@@ -66,8 +68,8 @@ struct PrefixPool::Job {
 
 PrefixPool::PrefixPool(std::size_t workers) : workers_(std::max<std::size_t>(1, workers)) {
   try {
-    if (workers_ > 1)
-      for (std::size_t t = 0; t < workers_; ++t) threads_.emplace_back([this, t] { serve(t); });
+    // Worker 0 is the thread that calls run.
+    for (std::size_t t = 1; t < workers_; ++t) threads_.emplace_back([this, t] { serve(t); });
   } catch (...) {  // a thread that could not start: end those that did
     close();
     throw;
@@ -75,6 +77,11 @@ PrefixPool::PrefixPool(std::size_t workers) : workers_(std::max<std::size_t>(1, 
 }
 
 PrefixPool::~PrefixPool() { close(); }
+
+std::size_t PrefixPool::busy_count() {
+  const std::lock_guard lock(mutex_);
+  return busy_;
+}
 
 void PrefixPool::close() {
   {
@@ -133,13 +140,27 @@ void PrefixPool::consume_ready(Job& job) {
 }
 
 void PrefixPool::work(Job& job, std::size_t worker) {
+  using clock = std::chrono::steady_clock;
+  auto last_tick = clock::now();
   try {
     const StopScope scope(*job.stop);
-    for (std::size_t i; !job.halt && (i = job.next++) < job.count;) {
+    while (!job.halt) {
+      // Polled between items; inside one, StopScope's poll_stop acts.
+      if (const StopReason reason = job.stop->reason(); reason != StopReason::none) {
+        job.stopped_polled = static_cast<int>(reason);
+        job.halt = true;
+        break;
+      }
+      const std::size_t i = job.next++;
+      if (i >= job.count) break;
       (*job.process)(worker, i);
       job.done[i] = true;
       ++job.finished;
       if (job.consume) consume_ready(job);
+      if (worker == 0 && job.on_tick && *job.on_tick && clock::now() - last_tick >= std::chrono::milliseconds(200)) {
+        (*job.on_tick)(job.finished);
+        last_tick = clock::now();
+      }
     }
   } catch (const Stopped& stopped) {  // mid-item: that item stays undone
     job.stopped_inside = static_cast<int>(stopped.reason());
@@ -163,6 +184,7 @@ PrefixRun PrefixPool::run(std::size_t count, const StopRequest& stop,
   job.stop = &stop;
   job.process = &process;
   job.consume = consume ? &consume : nullptr;
+  job.on_tick = &on_tick;
   job.done = std::vector<std::atomic<bool>>(count);
   {
     const std::lock_guard lock(mutex_);
@@ -171,9 +193,13 @@ PrefixRun PrefixPool::run(std::size_t count, const StopRequest& stop,
     ++generation_;
   }
   wake_workers_.notify_all();
+  work(job, 0);  // the caller works too: no wake-up of its own on the level's critical path
   {
-    // Wake when every worker is out of the run, or every 0.2 s to report
-    // and check limits (a stop halts the workers after their current item).
+    // The others finish their last items: a short spin first (a level of a
+    // walk is often well under a millisecond, a sleep and a wake-up a good
+    // part of one), then sleep, waking every 0.2 s to report and check limits.
+    const auto spin_until = std::chrono::steady_clock::now() + std::chrono::microseconds(200);
+    while (busy_count() > 0 && std::chrono::steady_clock::now() < spin_until) std::this_thread::yield();
     std::unique_lock lock(mutex_);
     while (!wake_caller_.wait_for(lock, std::chrono::milliseconds(200), [&] { return busy_ == 0; })) {
       if (const StopReason reason = stop.reason(); reason != StopReason::none) {
@@ -189,6 +215,7 @@ PrefixRun PrefixPool::run(std::size_t count, const StopRequest& stop,
     job_ = nullptr;
   }
   if (job.error) std::rethrow_exception(job.error);
+  if (run.stopped == StopReason::none) run.stopped = static_cast<StopReason>(job.stopped_polled.load());
   if (run.stopped == StopReason::none) run.stopped = static_cast<StopReason>(job.stopped_inside.load());
   while (run.prefix < count && job.done[run.prefix]) ++run.prefix;
   run.consumed = job.consumed;

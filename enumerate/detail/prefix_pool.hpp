@@ -43,8 +43,9 @@ PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequ
 
 // The same, on worker threads that live as long as the pool, so that a walk
 // of many small levels starts its threads (and warms their thread-local
-// buffers) once, not once per level. One worker: no threads, the caller runs
-// the items itself. run is called from one thread at a time.
+// buffers) once, not once per level. The thread calling run is worker 0 (it
+// processes items too, and calls on_tick between them); the pool starts the
+// others. One worker: no threads. run is called from one thread at a time.
 class PrefixPool {
  public:
   explicit PrefixPool(std::size_t workers);
@@ -61,6 +62,7 @@ class PrefixPool {
  private:
   struct Job;
   void close();
+  std::size_t busy_count();
   void serve(std::size_t worker);
   void work(Job& job, std::size_t worker);
   void consume_ready(Job& job);
