@@ -57,12 +57,12 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
   // times c is 0), a small kernel; W is then c on T and -R c at the
   // pivots, and its reduced echelon form is E's other rows.
   std::vector<std::size_t> touched, untouched;  // T; e_f as it stands
-  for (std::size_t f = 0; f < columns; ++f) {
-    if (is_pivot[f] || is_scaling[f]) continue;
-    bool is_touched = false;
-    for (std::size_t i = 0; i < rank && !is_touched; ++i) is_touched = rows(i, f) != 0;
-    (is_touched ? touched : untouched).push_back(f);
-  }
+  std::vector<char> is_touched(columns, 0);  // row by row: the rows are stored that way
+  for (std::size_t i = 0; i < rank; ++i)
+    for (std::size_t f = 0; f < columns; ++f)
+      if (rows(i, f) != 0) is_touched[f] = 1;
+  for (std::size_t f = 0; f < columns; ++f)
+    if (!is_pivot[f] && !is_scaling[f]) (is_touched[f] ? touched : untouched).push_back(f);
   std::vector<std::size_t> conditions;  // the basis rows whose pivot is in Q
   for (std::size_t i = 0; i < rank; ++i)
     if (is_scaling[pivots[i]]) conditions.push_back(i);
@@ -86,8 +86,8 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
     for (std::size_t a = 0; a < dimension; ++a)
       for (std::size_t t = 0; t < touched.size(); ++t)
         nmod_mat_entry(left.get(), static_cast<slong>(a), static_cast<slong>(t)) = combinations(a, t);
-    for (std::size_t t = 0; t < touched.size(); ++t)
-      for (std::size_t i = 0; i < rank; ++i)
+    for (std::size_t i = 0; i < rank; ++i)
+      for (std::size_t t = 0; t < touched.size(); ++t)
         nmod_mat_entry(right.get(), static_cast<slong>(t), static_cast<slong>(i)) = rows(i, touched[t]);
     poll_stop();
     nmod_mat_mul(at_pivots.get(), left.get(), right.get());

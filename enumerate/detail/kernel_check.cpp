@@ -124,8 +124,11 @@ class LazySum {
 // modulus checks need: a weight of layer k needs layer k's input and
 // signal, a bias its signal only). Neurons that do not pass are 0 in both,
 // so the sums run over the passing ones only (about half of a ReLU layer).
+// reuse_below: the layer inputs 1..reuse_below (the outputs of layers below
+// reuse_below) are those already in factors, from a pattern that agrees with
+// this one on every neuron of those layers (same network and forward_to).
 void region_factors(const ModularNetwork& network, const ActivationPattern& pattern, std::size_t forward_to,
-                    std::size_t backward_to, RegionFactors& factors) {
+                    std::size_t backward_to, RegionFactors& factors, std::size_t reuse_below = 0) {
   const std::uint64_t prime = network.prime, inverse = n_preinvert_limb(prime);
   const std::size_t depth = network.weights.size(), n0 = network.input_dim;
   const std::size_t nd = network.bias.back().size();
@@ -148,7 +151,7 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
   std::vector<std::size_t>& all_inputs = factors.all_inputs;
   all_inputs.resize(n0);
   for (std::size_t t = 0; t < n0; ++t) all_inputs[t] = t;
-  for (std::size_t k = 0; k < forward_to; ++k) {
+  for (std::size_t k = reuse_below; k < forward_to; ++k) {
     const ModularMatrix& weights = network.weights[k];
     const std::vector<std::uint64_t>& in_linear = factors.linear[k];
     const std::vector<std::uint64_t>& in_offset = factors.offset[k];
@@ -270,6 +273,11 @@ CheckScale::CheckScale(const Network& network) : bounds(coefficient_bounds(netwo
 AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatrix& vectors,
                                      const CheckScale& check_scale, unsigned threads)
     : vector_count_(vectors.rows()) {
+  static std::atomic<std::uint64_t> checks{0};
+  id_ = ++checks;
+  for (std::size_t k = 0; k < network.depth(); ++k)
+    if (k + 1 < network.depth() || network.has_output_relu())
+      neuron_layer_.insert(neuron_layer_.end(), network.layers[k].width(), k);
   if (vector_count_ == 0) return;
   for (std::size_t k = 0; k < network.depth(); ++k) {
     const Layer& layer = network.layers[k];
@@ -387,12 +395,37 @@ bool annihilates_rows(const Entry& unit, const RegionFactors& factors, std::size
 }  // namespace
 
 bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
-  thread_local RegionFactors factors;
-  for (const Modulus& modulus : moduli_) {
+  // This thread's factors for each prime, with the pattern they were
+  // computed for (reset for another check).
+  struct Reuse {
+    std::uint64_t id = 0;
+    std::vector<RegionFactors> factors;
+    std::vector<std::vector<NeuronState>> patterns;
+  };
+  thread_local Reuse reuse;
+  if (reuse.id != id_) {
+    reuse.id = id_;
+    reuse.factors.assign(moduli_.size(), RegionFactors());
+    reuse.patterns.assign(moduli_.size(), {});
+  }
+  for (std::size_t m = 0; m < moduli_.size(); ++m) {
+    const Modulus& modulus = moduli_[m];
     poll_stop();
     if (modulus.vectors.empty() && modulus.units.empty()) continue;
     const std::uint64_t inverse = n_preinvert_limb(modulus.network.prime);
-    region_factors(modulus.network, pattern, modulus.forward_to, modulus.backward_to, factors);
+    RegionFactors& factors = reuse.factors[m];
+    std::vector<NeuronState>& last = reuse.patterns[m];
+    // The inputs of the layers before the first neuron that differs from
+    // the last pattern's are still valid.
+    std::size_t same = 0;
+    if (last.size() == pattern.states.size()) {
+      std::size_t n = 0;
+      while (n < last.size() && last[n] == pattern.states[n]) ++n;
+      same = n < neuron_layer_.size() ? neuron_layer_[n] : modulus.network.weights.size();
+    }
+    last.clear();  // invalid until the factors are complete
+    region_factors(modulus.network, pattern, modulus.forward_to, modulus.backward_to, factors, same);
+    last = pattern.states;
     const std::size_t nd = modulus.network.bias.back().size();
     const std::size_t n0 = modulus.network.input_dim;
     for (std::size_t o = 0; o < nd; ++o) {
@@ -409,6 +442,11 @@ std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check
                                                   const std::vector<ActivationPattern>& patterns, unsigned threads,
                                                   const StopRequest& stop, bool& stopped,
                                                   const std::function<void(std::size_t, std::size_t)>& progress) {
+  std::vector<std::size_t> order(patterns.size());
+  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::sort(order.begin(), order.end(),
+            [&](std::size_t a, std::size_t b) { return patterns[a].states < patterns[b].states; });
+  constexpr std::size_t run = 16;  // consecutive patterns per thread
   std::atomic<std::size_t> next{0}, done{0};
   std::atomic<std::size_t> first_rejected{patterns.size()};
   std::atomic<bool> halt{false};
@@ -417,20 +455,22 @@ std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check
   auto work = [&](bool reports) {
     const StopScope scope(stop);  // annihilates() polls it inside one pattern
     try {
-      for (std::size_t i; !halt && (i = next++) < patterns.size();) {
-        if (i > first_rejected.load()) continue;  // a smaller index already failed
-        if (stop.is_requested()) {
-          halt = true;
-          break;
-        }
-        if (!check.annihilates(patterns[i])) {
-          std::size_t current = first_rejected.load();
-          while (i < current && !first_rejected.compare_exchange_weak(current, i)) {
+      for (std::size_t start; !halt && (start = next.fetch_add(run)) < patterns.size();)
+        for (std::size_t position = start; position < std::min(start + run, patterns.size()) && !halt; ++position) {
+          const std::size_t i = order[position];
+          if (i > first_rejected.load()) continue;  // a smaller index already failed
+          if (stop.is_requested()) {
+            halt = true;
+            break;
           }
+          if (!check.annihilates(patterns[i])) {
+            std::size_t current = first_rejected.load();
+            while (i < current && !first_rejected.compare_exchange_weak(current, i)) {
+            }
+          }
+          ++done;
+          if (reports && progress) progress(done.load(), patterns.size());
         }
-        ++done;
-        if (reports && progress) progress(done.load(), patterns.size());
-      }
     } catch (...) {
       const std::lock_guard lock(error_mutex);
       if (!error) error = std::current_exception();

@@ -81,6 +81,12 @@ class AnnihilationCheck {
   std::size_t vector_count_;
   std::vector<ColumnRole> columns_;  // parameter order (Network::parameter_offset)
   std::vector<Modulus> moduli_;
+  // Which layer each ReLU neuron of a pattern is in; and this check's own
+  // number, for the per-thread reuse of layer inputs from one pattern to the
+  // next (a pattern that agrees with the last one on its first layers
+  // shares their inputs).
+  std::vector<std::size_t> neuron_layer_;
+  std::uint64_t id_ = 0;
 };
 
 // Rows `rows` of a pattern's coefficient blocks modulo the network's prime,
@@ -94,7 +100,8 @@ void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern&
 
 // The smallest index of a pattern the check rejects, checked on `threads`
 // threads (the answer does not depend on their number), or nullopt when all
-// pass. Sets stopped (and returns nullopt) when the stop request fires;
+// pass. The patterns are taken in lexicographic order of their states, in
+// runs per thread, so that consecutive ones share their first layers' inputs. Sets stopped (and returns nullopt) when the stop request fires;
 // progress(done, total) is called from the calling thread.
 [[nodiscard]]
 std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,

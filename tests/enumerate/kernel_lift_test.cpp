@@ -16,6 +16,7 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <optional>
 #include <utility>
 #include <vector>
@@ -336,6 +337,55 @@ TEST(KernelCheck, RowsAtSomeColumnsEqualTheModularBlocks) {
     }
   }
   EXPECT_GT(compared, 30u);
+}
+
+// Each thread keeps the layer inputs of the last pattern it checked, per
+// prime, and reuses those of the layers where the next pattern agrees
+// (detail::AnnihilationCheck::annihilates). Two checks used one after the
+// other and in turn on one thread, over the patterns in walk order, sorted
+// and reversed, answer each
+// pattern as exact products with coefficient_blocks do: the exact extra
+// directions pass everywhere, the same changed in one entry fail exactly
+// where the products are not zero.
+TEST(KernelCheck, ReusedLayerInputsGiveEachPatternsOwnAnswer) {
+  const Network network = random_network({2, 4, 3, 3, 1}, 31);
+  const WalkState state = walk_state(network);
+  const RationalMatrix extra = exact_extra_directions(network, state.smooth);
+  ASSERT_GT(extra.rows(), 0u);
+  // Changed at W_last[0,0], whose rows are G times the last layer's input:
+  // stale inputs would misplace the regions where it is seen.
+  RationalMatrix altered = extra;
+  altered(0, network.parameter_offset(network.depth() - 1)) += Rational(1, 3);
+  const detail::CheckScale scale(network);
+  const detail::AnnihilationCheck exact(network, extra, scale), wrong(network, altered, scale);
+  auto annihilated = [&](const ActivationPattern& pattern) {
+    const RationalMatrix blocks = coefficient_blocks(network, pattern);
+    for (std::size_t r = 0; r < blocks.rows(); ++r) {
+      Rational sum = 0;
+      for (std::size_t c = 0; c < blocks.cols(); ++c) sum += blocks(r, c) * altered(0, c);
+      if (sum != 0) return false;
+    }
+    return true;
+  };
+  std::vector<ActivationPattern> order = state.smooth;
+  std::size_t rejected = 0;
+  for (int pass = 0; pass < 3; ++pass) {
+    if (pass == 1)
+      std::sort(order.begin(), order.end(),
+                [](const ActivationPattern& a, const ActivationPattern& b) { return a.states < b.states; });
+    if (pass == 2) std::reverse(order.begin(), order.end());
+    for (const ActivationPattern& pattern : order) {  // one check after the other
+      const bool expected = annihilated(pattern);
+      EXPECT_EQ(wrong.annihilates(pattern), expected);
+      rejected += expected ? 0 : 1;
+    }
+    for (const ActivationPattern& pattern : order) EXPECT_TRUE(exact.annihilates(pattern));
+    for (const ActivationPattern& pattern : order) {  // in turn
+      EXPECT_TRUE(exact.annihilates(pattern));
+      EXPECT_EQ(wrong.annihilates(pattern), annihilated(pattern));
+    }
+  }
+  EXPECT_GT(rejected, 3u);
 }
 
 }  // namespace
