@@ -190,6 +190,53 @@ std::vector<LayerInput<Arithmetic>> forward_inputs(const LayersView<typename Ari
   return inputs;
 }
 
+// The same modulo p, each entry's sum of products accumulated exactly in 192
+// bits (a 128-bit sum and a count of its wrap-arounds) and reduced once,
+// instead of a reduction per product. The same residues.
+std::vector<LayerInput<ModularArithmetic>> forward_inputs(const LayersView<std::uint64_t>& view,
+                                                          const std::vector<std::vector<bool>>& passing,
+                                                          const ModularArithmetic& arithmetic) {
+  __extension__ typedef unsigned __int128 Wide;  // GCC/Clang: exact 64 x 64 -> 128 products
+  const nmod_t& modulus = arithmetic.modulus;
+  const std::size_t n0 = view.input_dim;
+  std::vector<LayerInput<ModularArithmetic>> inputs(view.depth());
+  inputs[0].linear = Matrix<std::uint64_t>(n0, n0);
+  for (std::size_t t = 0; t < n0; ++t) inputs[0].linear(t, t) = 1;
+  inputs[0].offset.assign(n0, 0);
+  std::vector<Wide> sums(n0 + 1);
+  std::vector<std::uint64_t> wraps(n0 + 1);
+  const auto reduce = [&](std::size_t slot) {
+    return n_lll_mod_preinv(wraps[slot] % modulus.n, static_cast<std::uint64_t>(sums[slot] >> 64),
+                            static_cast<std::uint64_t>(sums[slot]), modulus.n, modulus.ninv);
+  };
+  for (std::size_t k = 0; k + 1 < view.depth(); ++k) {
+    const Matrix<std::uint64_t>& weights = *view.weights[k];
+    const LayerInput<ModularArithmetic>& in = inputs[k];
+    LayerInput<ModularArithmetic>& out = inputs[k + 1];
+    out.linear = Matrix<std::uint64_t>(weights.rows(), n0);
+    out.offset.assign(weights.rows(), 0);
+    for (std::size_t i = 0; i < weights.rows(); ++i) {
+      if (!passing[k][i]) continue;  // off or 'z': its output is 0 on the region
+      std::fill(sums.begin(), sums.end(), 0);
+      std::fill(wraps.begin(), wraps.end(), 0);
+      const auto add = [&](std::size_t slot, std::uint64_t a, std::uint64_t b) {
+        const Wide product = static_cast<Wide>(a) * b;
+        sums[slot] += product;
+        wraps[slot] += static_cast<std::uint64_t>(sums[slot] < product);
+      };
+      for (std::size_t j = 0; j < weights.cols(); ++j) {
+        const std::uint64_t w = weights(i, j);
+        if (w == 0) continue;
+        add(n0, w, in.offset[j]);
+        for (std::size_t t = 0; t < n0; ++t) add(t, w, in.linear(j, t));
+      }
+      out.offset[i] = nmod_add((*view.bias[k])[i], reduce(n0), modulus);
+      for (std::size_t t = 0; t < n0; ++t) out.linear(i, t) = reduce(t);
+    }
+  }
+  return inputs;
+}
+
 // Backward signals. reaching[k] (nd x n_k) is dF/dz_k as if every neuron of
 // layer k passed; signal[k] is reaching[k] with the columns of non-passing
 // neurons set to 0 (the G_k of the header).
