@@ -253,6 +253,12 @@ bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
       for (std::size_t p = 0; p < lift.systems.size(); ++p) {
         const std::uint64_t prime = lift.system_primes[p];
         const std::uint64_t scaled = n_mulmod2_preinv(lift.systems[p](i, m), scale_residues[p], prime, inverses[p]);
+        if (p == 0) {  // the symmetric residue (fmpz_CRT_ui wants a modulus above 1)
+          fmpz_set_ui(value, scaled);
+          if (scaled > prime / 2) fmpz_sub_ui(value, value, prime);
+          fmpz_set_ui(modulus, prime);
+          continue;
+        }
         fmpz_CRT_ui(value, value, modulus, scaled, prime, 1);
         fmpz_mul_ui(modulus, modulus, prime);
       }

@@ -216,7 +216,7 @@ class RegionProcessor::Impl {
       const lp::PlaneRow& row = rows_[group.rows.front()];
       const std::array<const Integer*, 2> normal{&row.a0, &row.a1};
       RegionFacet facet =
-          integer_facet(pattern, group.rows, group.point, normal, row.c, rational_maps, result.degenerate_crossings);
+          integer_facet(pattern, group.rows, facet_point_of(group), normal, row.c, rational_maps, result.degenerate_crossings);
       if (facet.domain_side) region.touches_domain_boundary = true;
       region.facets.push_back(std::move(facet));
     }
@@ -250,12 +250,12 @@ class RegionProcessor::Impl {
     std::optional<RationalMaps> rational_maps;  // only for degenerate crossings
     region.facets.reserve(static_cast<std::size_t>(
         std::count_if(space->groups.begin(), space->groups.end(), [](const lp::SpaceGroup& g) { return g.is_facet; })));
-    for (const lp::SpaceGroup& group : space->groups) {
+    for (lp::SpaceGroup& group : space->groups) {
       if (!group.is_facet) continue;
       const lp::SpaceRow& row = space_rows_[group.rows.front()];
       const std::array<const Integer*, 3> normal{&row.a[0], &row.a[1], &row.a[2]};
       RegionFacet facet =
-          integer_facet(pattern, group.rows, group.point, normal, row.c, rational_maps, result.degenerate_crossings);
+          integer_facet(pattern, group.rows, facet_point_of(group), normal, row.c, rational_maps, result.degenerate_crossings);
       if (facet.domain_side) region.touches_domain_boundary = true;
       region.facets.push_back(std::move(facet));
     }
@@ -304,8 +304,15 @@ class RegionProcessor::Impl {
   // A facet of the integer-row paths: its neurons or domain side, its
   // primitive normal, and the neighbour across it at `point`. normal and
   // offset are the group representative's row.
+  // A facet group's exact point for its RegionFacet: moved out of the group
+  // unless the certificates, attached afterwards, still read it.
+  template <class Group>
+  RationalVector facet_point_of(Group& group) const {
+    return keep_certificates_ ? group.point : std::move(group.point);
+  }
+
   RegionFacet integer_facet(const ActivationPattern& pattern, const std::vector<std::size_t>& group_rows,
-                            const RationalVector& point, std::span<const Integer* const> normal, const Integer& offset,
+                            RationalVector point, std::span<const Integer* const> normal, const Integer& offset,
                             std::optional<RationalMaps>& rational_maps, std::size_t& degenerate_crossings) {
     RegionFacet facet;
     for (std::size_t c : group_rows) {
@@ -318,7 +325,7 @@ class RegionProcessor::Impl {
     for (const Integer* value : normal) facet.normal.push_back(Rational(*value / divisor));
     facet.offset = Rational(offset, divisor);
     facet.offset.canonicalize();
-    facet.relative_interior.point = point;
+    facet.relative_interior.point = std::move(point);
     if (facet.domain_side) return facet;
     std::vector<ActivationPattern> candidates;
     if (std::optional<ActivationPattern> far = pattern_across_in_integers(network_, *pre_, pattern, vanishing_at(group_rows), normal)) {
