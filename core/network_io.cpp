@@ -3,6 +3,8 @@
 // (core/detail/json_tree.hpp).
 #include "core/network_io.hpp"
 
+#include <algorithm>
+
 #include "core/detail/json_tree.hpp"
 
 #include <set>
@@ -93,7 +95,15 @@ std::string read_limited(std::istream& stream, const std::string& name) {
   std::string contents;
   char buffer[1 << 16];
   while (stream.read(buffer, sizeof buffer) || stream.gcount() > 0) {
-    contents.append(buffer, static_cast<std::size_t>(stream.gcount()));
+    const auto count = static_cast<std::size_t>(stream.gcount());
+    // Past 1 MiB, room for the whole limit at once: the pages are touched
+    // only as they are written, and no doubling leaves copies behind (an
+    // allocator that keeps freed blocks, as the executable's does, would
+    // hold every one of them).
+    if (const std::size_t needed = contents.size() + count; needed > contents.capacity())
+      contents.reserve(needed <= (std::size_t{1} << 20) ? std::max(needed, 2 * contents.capacity())
+                                                          : max_network_file_bytes + sizeof buffer);
+    contents.append(buffer, count);
     if (contents.size() > max_network_file_bytes) throw input_error(size_limit_message(name, "stopped reading there"));
   }
   if (stream.bad()) throw input_error(name + ": cannot read");

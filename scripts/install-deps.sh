@@ -5,6 +5,7 @@ set -euo pipefail
 packages=(
   g++ make cmake pkg-config
   libgmp-dev libmpfr-dev libglpk-dev libeigen3-dev libflint-dev libcdd-dev
+  libgoogle-perftools-dev  # tcmalloc_minimal, the pleat executable's allocator (PLEAT_TCMALLOC)
   libgtest-dev nlohmann-json3-dev libcli11-dev libxtensor-dev
   python3 python3-numpy python3-sympy python3-scipy python3-torch
   libonnx-dev libprotobuf-dev python3-onnx
