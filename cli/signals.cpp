@@ -19,12 +19,18 @@ long long monotonic_nanoseconds() {
 // The first signal asks for a clean stop. A repeat within a second is the
 // same request delivered twice (timeout(1) signals the child and then its
 // process group), so it is ignored; a later one ends the process at once.
+// The two copies may reach two threads at the same instant: the first
+// signal's time is claimed with one compare-and-swap, so the other handler
+// always reads a time (never the 0 of "no signal yet", which would look a
+// second old and end the process).
 extern "C" void on_interrupt(int signal_number) {
-  if (!interrupted.exchange(true)) {
-    first_signal_nanoseconds.store(monotonic_nanoseconds());
+  const long long now = monotonic_nanoseconds();
+  long long first = 0;
+  if (first_signal_nanoseconds.compare_exchange_strong(first, now)) {
+    interrupted.store(true);
     return;
   }
-  if (monotonic_nanoseconds() - first_signal_nanoseconds.load() >= 1000000000LL) {
+  if (now - first >= 1000000000LL) {
     std::signal(signal_number, SIG_DFL);
     std::raise(signal_number);
   }
@@ -35,6 +41,7 @@ extern "C" void on_interrupt(int signal_number) {
 InterruptGuard::InterruptGuard() {
   if (guard_depth++ > 0) return;
   interrupted.store(false);
+  first_signal_nanoseconds.store(0);
   std::signal(SIGINT, on_interrupt);
   std::signal(SIGTERM, on_interrupt);
 }
