@@ -197,11 +197,17 @@ class GraphReader {
                         bool is_integer = false) const {
     const std::string& name = n.input(position);
     const std::string what = label + ": input " + single_quoted(name);
-    Tensor tensor = read_tensor(*constants_.at(name), what);
+    // Looked up, not assumed: an empty or unknown name (a file that skips the
+    // input the operator needs there) is the file's error, said as such.
+    const auto found = constants_.find(name);
+    if (found == constants_.end())
+      throw input_error(what + ": expected a constant (an initializer or a Constant node's output), found none");
+    const TensorProto& constant = *found->second;
+    Tensor tensor = read_tensor(constant, what);
     const std::size_t count = is_integer ? tensor.integers.size() : tensor.values.size();
-    if (count != element_count(*constants_.at(name), what))
+    if (count != element_count(constant, what))
       throw input_error(what + ": expected " + (is_integer ? "integers" : "floating-point weights") + ", found " +
-                        type_name(constants_.at(name)->data_type()));
+                        type_name(constant.data_type()));
     return tensor;
   }
 

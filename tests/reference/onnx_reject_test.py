@@ -129,6 +129,12 @@ path = save("relu_first", [helper.make_node("Relu", ["x"], ["r"], name="r0"), ge
             base_initializers()[:2])
 expect_refused("relu first", path, "node 'r0' (Relu)", "no layer before")
 
+# A Gemm whose weight input is left empty (found by the ONNX fuzzer: it once
+# ended in "internal error: map::at"; fuzz/regressions/onnx/ keeps that file).
+path = save("empty_weight", [helper.make_node("Gemm", ["x", "", "b1"], ["y"], name="g", transB=1)],
+            base_initializers()[:2])
+expect_refused("empty weight input", path, "node 'g' (Gemm)", "expected a constant", "found none")
+
 # The data in Gemm's second input; transA = 1.
 path = save("data_as_b", [helper.make_node("Gemm", ["W1", "x", "b1"], ["y"], name="g")], base_initializers()[:2])
 expect_refused("data as B", path, "node 'g' (Gemm)", "the data must be input 0")
