@@ -3,10 +3,9 @@
 // (core/detail/json_tree.hpp).
 #include "core/network_io.hpp"
 
-#include <algorithm>
-
 #include "core/detail/json_tree.hpp"
 
+#include <algorithm>
 #include <set>
 #include <string>
 #include <utility>

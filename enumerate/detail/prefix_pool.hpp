@@ -23,8 +23,9 @@ struct PrefixRun {
 
 // Runs process(worker, i) for every i in [0, count) on `workers` threads
 // (at most count of them), thread t passing worker t, each under a
-// StopScope of `stop`; one worker runs on the calling thread itself. Wakes every 0.2 s to poll stop.reason() and call
-// on_tick(items finished so far) (may be empty). A stop (polled, or Stopped
+// StopScope of `stop`; one worker runs on the calling thread itself. Wakes
+// every 0.2 s to poll stop.reason() and call on_tick(items finished so far)
+// (may be empty). A stop (polled, or Stopped
 // thrown inside an item, which leaves that item undone) halts the pool; only
 // the prefix finished without a gap counts, so that which items are kept
 // does not depend on the thread count beyond where the stop fell.

@@ -301,9 +301,6 @@ class RegionProcessor::Impl {
     return vanishing_;
   }
 
-  // A facet of the integer-row paths: its neurons or domain side, its
-  // primitive normal, and the neighbour across it at `point`. normal and
-  // offset are the group representative's row.
   // A facet group's exact point for its RegionFacet: moved out of the group
   // unless the certificates, attached afterwards, still read it.
   template <class Group>
@@ -311,6 +308,9 @@ class RegionProcessor::Impl {
     return keep_certificates_ ? group.point : std::move(group.point);
   }
 
+  // A facet of the integer-row paths: its neurons or domain side, its
+  // primitive normal, and the neighbour across it at `point`. normal and
+  // offset are the group representative's row.
   RegionFacet integer_facet(const ActivationPattern& pattern, const std::vector<std::size_t>& group_rows,
                             RationalVector point, std::span<const Integer* const> normal, const Integer& offset,
                             std::optional<RationalMaps>& rational_maps, std::size_t& degenerate_crossings) {

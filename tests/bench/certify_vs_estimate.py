@@ -12,7 +12,8 @@ Networks: `pleat random --arch n0,w,...,w,1 --seed s` (He initialisation), n0 = 
 (--threads 1). Medians over seeds, each the median of REPEATS runs (default 3).
 Columns: certify s; the share of certify before its walk (the exact points and lines
 drawn first: certify's "points_seconds" key) and after it (the kernel lift, the check on
-every region, the naming: what "points_seconds" and "walk_seconds" leave); the
+every region, the naming: what "points_seconds" and "walk_seconds" leave; a binary
+older than the "points_seconds" key counts its points after the walk); the
 estimate's s, their ratio, the certified value, the estimate's value and the scaling bound, and how
 certify reached its value ("points": the no-walk path; "walk": a walk stopped when
 the rank met the scaling bound; "kernel": a full walk and an exact kernel).
