@@ -5,8 +5,11 @@
 #include "core/domain_io.hpp"
 
 #include <algorithm>
+#include <cstdint>
 #include <filesystem>
+#include <limits>
 #include <set>
+#include <type_traits>
 
 namespace pleat::cli {
 
@@ -107,12 +110,40 @@ Json sample_json(const SurveySample& sample) {
 namespace {
 
 template <typename T>
+struct is_vector : std::false_type {};
+template <typename T>
+struct is_vector<std::vector<T>> : std::true_type {};
+
+// Whether value holds a T exactly. nlohmann's get converts any number to an
+// integer type unchecked (a float out of the type's range, such as a header's
+// "digits": 3.3e54, is undefined behaviour), so integers are checked here;
+// strings, booleans and doubles are checked by get itself.
+template <typename T>
+bool holds_exactly(const Json& value) {
+  if constexpr (is_vector<T>::value) {
+    return value.is_array() &&
+           std::all_of(value.begin(), value.end(), [](const Json& item) { return holds_exactly<typename T::value_type>(item); });
+  } else if constexpr (std::is_integral_v<T> && !std::is_same_v<T, bool>) {
+    if (value.is_number_unsigned())
+      return value.get<std::uint64_t>() <= static_cast<std::uint64_t>(std::numeric_limits<T>::max());
+    if (!value.is_number_integer()) return false;
+    const std::int64_t number = value.get<std::int64_t>();
+    return std::is_signed_v<T> && number >= static_cast<std::int64_t>(std::numeric_limits<T>::min()) &&
+           number <= static_cast<std::int64_t>(std::numeric_limits<T>::max());
+  } else {
+    return true;
+  }
+}
+
+template <typename T>
 T required(const Json& document, const char* key, const std::string& where) {
   if (!document.contains(key)) throw input_error(where + ": missing key '" + key + "'");
+  const std::string wrong = where + ": key '" + key + "' has the wrong type";
+  if (!holds_exactly<T>(document.at(key))) throw input_error(wrong + " (or a value out of range)");
   try {
     return document.at(key).get<T>();
   } catch (const Json::exception&) {
-    throw input_error(where + ": key '" + key + "' has the wrong type");
+    throw input_error(wrong);
   }
 }
 

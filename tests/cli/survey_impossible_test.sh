@@ -54,6 +54,12 @@ edit scaling_above 3 'd["scaling_bound"] = d["upper_bound"] = d["lower_bound"] =
 expect_refused scaling_above 3 "scaling_bound 14 is outside [10, 13]"
 edit scaling_below 3 'd.update(scaling_bound=9, upper_bound=9, lower_bound=9, functional_dimension=9)'
 expect_refused scaling_below 3 "scaling_bound 9 is outside [10, 13]"
+# Numbers that do not fit their key's integer type (a float far beyond an int,
+# found by the survey reader's fuzzer; a negative count) are the file's error.
+edit huge_digits 1 'd["digits"] = 3.3e54'
+expect_refused huge_digits 1 "key 'digits' has the wrong type"
+edit negative_regions 2 'd["regions"] = -1'
+expect_refused negative_regions 2 "key 'regions' has the wrong type"
 edit value_differs 2 'd["functional_dimension"] = 7'
 expect_refused value_differs 2 "functional_dimension 7 differs from its bounds 10"
 edit early 4 'd.update(certified=False, functional_dimension=None, lower_bound=5, upper_bound=10, early_stop=True)'
