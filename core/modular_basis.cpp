@@ -234,19 +234,29 @@ ModularVector ModularRowBasis::residual(const ModularVector& row) const {
                                                       static_cast<std::uint64_t>(sum), prime_, prime_inverse_);
     result[q] = value >= subtrahend ? value - subtrahend : value + (prime_ - subtrahend);
   };
+  // Up to `run` products add up below 2^128 (16 for p < 2^62): a run of them
+  // goes into a plain 128-bit partial sum, and only the partial sums are
+  // checked for wrapping around. The sum is exact either way.
+  const Wide square = static_cast<Wide>(prime_ - 1) * (prime_ - 1);
+  const std::size_t run =
+      square == 0 ? 16 : static_cast<std::size_t>(std::min<Wide>(16, std::max<Wide>(1, ~Wide{0} / square)));
   constexpr std::size_t kBlock = 4;
   const auto columns = [&](std::size_t begin, std::size_t end) {
     std::size_t q = begin;
     for (; q + kBlock <= end; q += kBlock) {
       Wide sums[kBlock] = {};
       std::uint64_t wraps[kBlock] = {};
-      for (std::size_t k = 0; k < factors.size(); ++k) {
-        const std::uint64_t factor = factors[k];
-        const std::uint64_t* part = parts[k] + q;
+      for (std::size_t first = 0; first < factors.size(); first += run) {
+        const std::size_t last = std::min(factors.size(), first + run);
+        Wide partial[kBlock] = {};
+        for (std::size_t k = first; k < last; ++k) {
+          const std::uint64_t factor = factors[k];
+          const std::uint64_t* part = parts[k] + q;
+          for (std::size_t b = 0; b < kBlock; ++b) partial[b] += static_cast<Wide>(factor) * part[b];
+        }
         for (std::size_t b = 0; b < kBlock; ++b) {
-          const Wide product = static_cast<Wide>(factor) * part[b];
-          sums[b] += product;
-          wraps[b] += static_cast<std::uint64_t>(sums[b] < product);
+          sums[b] += partial[b];
+          wraps[b] += static_cast<std::uint64_t>(sums[b] < partial[b]);
         }
       }
       for (std::size_t b = 0; b < kBlock; ++b) subtract_sum(q + b, sums[b], wraps[b]);

@@ -120,7 +120,10 @@ void WalkPipeline::lend(std::size_t parts, const std::function<void(std::size_t)
     lent_ = &lent;
     signal_change();
   }
-  lent.take_parts();
+  {
+    const IdleHelpersScope none(nullptr);  // a part that splits again runs it here, not over lent_
+    lent.take_parts();
+  }
   {
     const std::lock_guard lock(mutex_);
     lent_ = nullptr;  // no helper joins from here on
