@@ -8,6 +8,21 @@
 
 namespace pleat::detail {
 
+namespace {
+
+// A spinning thread's pause: it keeps its core (a yield would hand it to any
+// other process, for a whole time slice on a busy machine) without starving
+// the other hardware thread of the core.
+inline void cpu_relax() {
+#if defined(__x86_64__) || defined(__i386__)
+  __builtin_ia32_pause();
+#elif defined(__aarch64__)
+  asm volatile("yield");
+#endif
+}
+
+}  // namespace
+
 struct WalkPipeline::Hooks {
   const StopRequest& stop;
   const Process& process;
@@ -128,7 +143,7 @@ void WalkPipeline::lend(std::size_t parts, const std::function<void(std::size_t)
     const std::lock_guard lock(mutex_);
     lent_ = nullptr;  // no helper joins from here on
   }
-  while (lent.helping.load(std::memory_order_acquire) != 0) std::this_thread::yield();
+  while (lent.helping.load(std::memory_order_acquire) != 0) cpu_relax();
   if (lent.error) std::rethrow_exception(lent.error);
 }
 
@@ -176,17 +191,19 @@ void WalkPipeline::consume_ready(std::unique_lock<std::mutex>& lock, const Hooks
 }
 
 // Nothing to do: before sleeping, watch for a change for a while without the
-// lock. The consumer adds tasks every few tens of microseconds, and waking a
-// sleeping thread costs about as much. True when something changed.
+// lock. The consumer adds tasks, or lends a row reduction's parts, every few
+// tens of microseconds, and waking a sleeping thread costs about as much.
+// True when something changed.
 bool WalkPipeline::spin_for_change(std::unique_lock<std::mutex>& lock) {
   using clock = std::chrono::steady_clock;
   const std::uint64_t seen = version_.load(std::memory_order_acquire);
   lock.unlock();
-  const auto until = clock::now() + std::chrono::microseconds(100);
+  const auto until = clock::now() + std::chrono::microseconds(200);
   bool is_changed = false;
-  while (!is_changed && clock::now() < until) {
-    std::this_thread::yield();
+  for (unsigned round = 1; !is_changed; ++round) {
+    cpu_relax();
     is_changed = version_.load(std::memory_order_acquire) != seen;
+    if (round % 64 == 0 && clock::now() >= until) break;
   }
   lock.lock();
   return is_changed || version_.load(std::memory_order_relaxed) != seen;
