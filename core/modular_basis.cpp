@@ -2,7 +2,6 @@
 // modular row basis (core/rank.hpp).
 #include "core/rank.hpp"
 #include "core/detail/flint_matrix.hpp"
-#include "core/idle_helpers.hpp"
 #include "core/stop.hpp"
 
 #include <flint/fmpq.h>
@@ -149,13 +148,6 @@ void drop_entry(std::vector<T>& values, std::size_t q) {
   values.pop_back();
 }
 
-// Rows (or columns) of `length` products each per range when a step of the
-// basis is split over idle helpers: about 16 K products, so that a range
-// outweighs handing it over.
-std::size_t items_per_range(std::size_t length) {
-  return std::max<std::size_t>(8, 16384 / std::max<std::size_t>(1, length));
-}
-
 void scale(ModularVector& target, std::uint64_t factor, std::uint64_t prime) {
   const std::uint64_t precomputed = n_mulmod_precomp_shoup(factor, prime);
   for (std::uint64_t& value : target) value = multiply_shoup(factor, value, precomputed, prime);
@@ -241,39 +233,35 @@ ModularVector ModularRowBasis::residual(const ModularVector& row) const {
   const std::size_t run =
       square == 0 ? 16 : static_cast<std::size_t>(std::min<Wide>(16, std::max<Wide>(1, ~Wide{0} / square)));
   constexpr std::size_t kBlock = 4;
-  const auto columns = [&](std::size_t begin, std::size_t end) {
-    std::size_t q = begin;
-    for (; q + kBlock <= end; q += kBlock) {
-      Wide sums[kBlock] = {};
-      std::uint64_t wraps[kBlock] = {};
-      for (std::size_t first = 0; first < factors.size(); first += run) {
-        const std::size_t last = std::min(factors.size(), first + run);
-        Wide partial[kBlock] = {};
-        for (std::size_t k = first; k < last; ++k) {
-          const std::uint64_t factor = factors[k];
-          const std::uint64_t* part = parts[k] + q;
-          for (std::size_t b = 0; b < kBlock; ++b) partial[b] += static_cast<Wide>(factor) * part[b];
-        }
-        for (std::size_t b = 0; b < kBlock; ++b) {
-          sums[b] += partial[b];
-          wraps[b] += static_cast<std::uint64_t>(sums[b] < partial[b]);
-        }
+  std::size_t q = 0;
+  for (; q + kBlock <= free_count; q += kBlock) {
+    Wide sums[kBlock] = {};
+    std::uint64_t wraps[kBlock] = {};
+    for (std::size_t first = 0; first < factors.size(); first += run) {
+      const std::size_t last = std::min(factors.size(), first + run);
+      Wide partial[kBlock] = {};
+      for (std::size_t k = first; k < last; ++k) {
+        const std::uint64_t factor = factors[k];
+        const std::uint64_t* part = parts[k] + q;
+        for (std::size_t b = 0; b < kBlock; ++b) partial[b] += static_cast<Wide>(factor) * part[b];
       }
-      for (std::size_t b = 0; b < kBlock; ++b) subtract_sum(q + b, sums[b], wraps[b]);
-    }
-    for (; q < end; ++q) {
-      Wide sum = 0;
-      std::uint64_t wraps = 0;
-      for (std::size_t k = 0; k < factors.size(); ++k) {
-        const Wide product = static_cast<Wide>(factors[k]) * parts[k][q];
-        sum += product;
-        wraps += static_cast<std::uint64_t>(sum < product);
+      for (std::size_t b = 0; b < kBlock; ++b) {
+        sums[b] += partial[b];
+        wraps[b] += static_cast<std::uint64_t>(sums[b] < partial[b]);
       }
-      subtract_sum(q, sum, wraps);
     }
-  };
-  // Each entry is the same sum in the same order however the columns are split.
-  for_ranges_with_idle_helpers(free_count, items_per_range(factors.size()), kBlock, columns);
+    for (std::size_t b = 0; b < kBlock; ++b) subtract_sum(q + b, sums[b], wraps[b]);
+  }
+  for (; q < free_count; ++q) {
+    Wide sum = 0;
+    std::uint64_t wraps = 0;
+    for (std::size_t k = 0; k < factors.size(); ++k) {
+      const Wide product = static_cast<Wide>(factors[k]) * parts[k][q];
+      sum += product;
+      wraps += static_cast<std::uint64_t>(sum < product);
+    }
+    subtract_sum(q, sum, wraps);
+  }
   return result;
 }
 
@@ -294,18 +282,15 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
   const std::uint64_t new_along = along_new.reduce(prime_, prime_inverse_);
   // Clear the new pivot column from the kept rows, then drop it from the
   // free columns of every stored row.
-  const auto clear_rows = [&](std::size_t begin, std::size_t end) {
-    for (std::size_t i = begin; i < end; ++i) {
-      ModularVector& part = free_parts_[i];
-      if (part[q] != 0) {
-        const std::uint64_t lost = n_mulmod2_preinv(part[q], new_along, prime_, prime_inverse_);
-        screen_along_[i] = n_submod(screen_along_[i], lost, prime_);
-        subtract_multiple(part, reduced, part[q], prime_);
-      }
-      drop_entry(part, q);
+  for (std::size_t i = 0; i < free_parts_.size(); ++i) {
+    ModularVector& part = free_parts_[i];
+    if (part[q] != 0) {
+      const std::uint64_t lost = n_mulmod2_preinv(part[q], new_along, prime_, prime_inverse_);
+      screen_along_[i] = n_submod(screen_along_[i], lost, prime_);
+      subtract_multiple(part, reduced, part[q], prime_);
     }
-  };
-  for_ranges_with_idle_helpers(free_parts_.size(), items_per_range(reduced.size()), 1, clear_rows);
+    drop_entry(part, q);
+  }
   // The new row is 0 at its pivot in the free part it keeps: minus c there.
   screen_along_.push_back(n_submod(new_along, screen_random_[free_columns_[q]], prime_));
   pivot_columns_.push_back(free_columns_[q]);

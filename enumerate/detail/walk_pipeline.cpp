@@ -8,21 +8,6 @@
 
 namespace pleat::detail {
 
-namespace {
-
-// A spinning thread's pause: it keeps its core (a yield would hand it to any
-// other process, for a whole time slice on a busy machine) without starving
-// the other hardware thread of the core.
-inline void cpu_relax() {
-#if defined(__x86_64__) || defined(__i386__)
-  __builtin_ia32_pause();
-#elif defined(__aarch64__)
-  asm volatile("yield");
-#endif
-}
-
-}  // namespace
-
 struct WalkPipeline::Hooks {
   const StopRequest& stop;
   const Process& process;
@@ -108,63 +93,9 @@ void WalkPipeline::process_one(std::unique_lock<std::mutex>& lock, std::size_t w
   if (needed_ == index || stopped_ != StopReason::none) signal_change();
 }
 
-// Runs parts until none is left to take (any thread, the lender's included).
-void WalkPipeline::Lent::take_parts() {
-  for (std::size_t k; (k = next++) < parts;) {
-    try {
-      (*part)(k);
-    } catch (...) {
-      const std::lock_guard lock(error_mutex);
-      if (!error) error = std::current_exception();
-    }
-  }
-}
-
-void WalkPipeline::Lender::run(std::size_t parts, const std::function<void(std::size_t part)>& part) const {
-  pipeline_.lend(parts, part);
-}
-
-// consume's thread offers the parts, takes them too, then waits for the
-// helpers still inside (a part takes a few microseconds).
-void WalkPipeline::lend(std::size_t parts, const std::function<void(std::size_t)>& part) {
-  Lent lent;
-  lent.parts = parts;
-  lent.part = &part;
-  {
-    const std::lock_guard lock(mutex_);
-    lent_ = &lent;
-    signal_change();
-  }
-  {
-    const IdleHelpersScope none(nullptr);  // a part that splits again runs it here, not over lent_
-    lent.take_parts();
-  }
-  {
-    const std::lock_guard lock(mutex_);
-    lent_ = nullptr;  // no helper joins from here on
-  }
-  while (lent.helping.load(std::memory_order_acquire) != 0) cpu_relax();
-  if (lent.error) std::rethrow_exception(lent.error);
-}
-
-// An idle thread takes parts on offer. Called and returns with the lock held.
-void WalkPipeline::help(std::unique_lock<std::mutex>& lock) {
-  static const StopRequest never;
-  Lent& lent = *lent_;
-  lent.helping.fetch_add(1, std::memory_order_relaxed);
-  lock.unlock();
-  {
-    const StopScope unstoppable(never);  // as for consume, whose work this is
-    lent.take_parts();
-  }
-  lent.helping.fetch_sub(1, std::memory_order_release);  // the last touch of lent
-  lock.lock();
-}
-
 // Consumes while the task needed next is done; one thread at a time.
 void WalkPipeline::consume_ready(std::unique_lock<std::mutex>& lock, const Hooks& hooks) {
   static const StopRequest never;
-  const Lender lender(*this);
   is_consuming_ = true;
   while (!is_over_ && is_needed_done()) {
     const std::size_t index = *needed_;
@@ -173,7 +104,6 @@ void WalkPipeline::consume_ready(std::unique_lock<std::mutex>& lock, const Hooks
     std::optional<std::size_t> next;
     try {
       const StopScope unstoppable(never);  // consume has no partial result to abandon
-      const IdleHelpersScope helpers(workers_ > 1 ? &lender : nullptr);
       next = hooks.consume(index, task);
     } catch (...) {
       lock.lock();
@@ -191,8 +121,9 @@ void WalkPipeline::consume_ready(std::unique_lock<std::mutex>& lock, const Hooks
 }
 
 // Nothing to do: before sleeping, watch for a change for a while without the
-// lock. The consumer adds tasks, or lends a row reduction's parts, every few
-// tens of microseconds, and waking a sleeping thread costs about as much.
+// lock. The consumer adds tasks every few tens of microseconds, and waking a
+// sleeping thread costs about as much. Yielding, not pausing, between looks:
+// on a busy machine the thread whose work it waits for may need this core.
 // True when something changed.
 bool WalkPipeline::spin_for_change(std::unique_lock<std::mutex>& lock) {
   using clock = std::chrono::steady_clock;
@@ -200,10 +131,9 @@ bool WalkPipeline::spin_for_change(std::unique_lock<std::mutex>& lock) {
   lock.unlock();
   const auto until = clock::now() + std::chrono::microseconds(200);
   bool is_changed = false;
-  for (unsigned round = 1; !is_changed; ++round) {
-    cpu_relax();
+  while (!is_changed && clock::now() < until) {
+    std::this_thread::yield();
     is_changed = version_.load(std::memory_order_acquire) != seen;
-    if (round % 64 == 0 && clock::now() >= until) break;
   }
   lock.lock();
   return is_changed || version_.load(std::memory_order_relaxed) != seen;
@@ -224,10 +154,6 @@ void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
   const StopScope scope(hooks.stop);
   std::unique_lock lock(mutex_);
   while (!is_over_) {
-    if (lent_ != nullptr && lent_->next.load(std::memory_order_relaxed) < lent_->parts) {
-      help(lock);
-      continue;
-    }
     if (!is_consuming_ && is_needed_done()) {
       consume_ready(lock, hooks);
       continue;

@@ -3,7 +3,6 @@
 // WalkOptions::on_region_in_pool). Internal to enumerate/ (not installed).
 #pragma once
 
-#include "core/idle_helpers.hpp"
 #include "core/pattern.hpp"
 #include "core/stop.hpp"
 #include "enumerate/detail/region_processor.hpp"
@@ -33,8 +32,7 @@ struct WalkTask {
 // the order the consumer asks for, while the others go on processing. So a
 // walk's next level is processed while this one is still being delivered,
 // and what is delivered, and in which order, does not depend on the thread
-// count. Threads with nothing to process are lent to consume
-// (IdleHelpers, installed while it runs).
+// count.
 class WalkPipeline {
  public:
   // process(worker, task): fills task.processed; runs concurrently with other
@@ -74,28 +72,6 @@ class WalkPipeline {
  private:
   enum class State : unsigned char { waiting, claimed, done };
   struct Hooks;
-  // Parts that consume hands to idle threads (IdleHelpers::run).
-  struct Lent {
-    std::size_t parts = 0;
-    const std::function<void(std::size_t)>* part = nullptr;
-    std::atomic<std::size_t> next{0};
-    std::atomic<std::size_t> helping{0};  // threads inside, besides the lender
-    std::mutex error_mutex;
-    std::exception_ptr error;
-    void take_parts();
-  };
-  class Lender : public IdleHelpers {
-   public:
-    explicit Lender(WalkPipeline& pipeline) : pipeline_(pipeline) {}
-    void run(std::size_t parts, const std::function<void(std::size_t part)>& part) const override;
-
-   private:
-    WalkPipeline& pipeline_;
-  };
-
-  void lend(std::size_t parts, const std::function<void(std::size_t)>& part);
-  void help(std::unique_lock<std::mutex>& lock);
-
   void serve(std::size_t worker, const Hooks& hooks);
   bool is_needed_done() const;
   std::optional<std::size_t> claim();
@@ -123,7 +99,6 @@ class WalkPipeline {
   std::size_t held_ = 0;                 // claimed and not yet consumed
   std::size_t consumed_ = 0;
   std::exception_ptr error_;
-  Lent* lent_ = nullptr;                 // parts on offer, while consume waits for them
 };
 
 }  // namespace pleat::detail

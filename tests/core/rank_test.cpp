@@ -1,7 +1,6 @@
 // Exact and modular rank: every answer is checked a second way (a naive
 // rational elimination, matrices of known rank built as products, kernel
 // vectors multiplied back).
-#include "core/idle_helpers.hpp"
 #include "core/rank.hpp"
 #include "core/stop.hpp"
 
@@ -10,7 +9,6 @@
 #include <atomic>
 #include <cstdint>
 #include <random>
-#include <thread>
 
 namespace pleat {
 namespace {
@@ -481,68 +479,6 @@ TEST(ModularRowBasis, ScreenStopsTheSpanAndKeepsWhatAddRowKeeps) {
       EXPECT_EQ(screened.pivot_columns(), plain.pivot_columns());
       EXPECT_EQ(screened.rows(), plain.rows());
     }
-  }
-}
-
-__extension__ typedef unsigned __int128 Wide;
-
-// Runs the parts on two threads besides the caller, last part first, and
-// counts the calls that were split.
-class ThreadHelpers : public IdleHelpers {
- public:
-  void run(std::size_t parts, const std::function<void(std::size_t)>& part) const override {
-    split_calls += parts >= 2;
-    std::atomic<std::size_t> next{0};
-    const auto take = [&] {
-      for (std::size_t k; (k = next++) < parts;) part(parts - 1 - k);
-    };
-    std::thread first(take), second(take);
-    take();
-    first.join();
-    second.join();
-  }
-  mutable std::atomic<std::size_t> split_calls{0};
-};
-
-// With idle helpers installed (the walk lends them to certify), add_row
-// splits its two long loops, the residual by columns and the clearing of the
-// new pivot column by rows; the kept rows, pivots, screen and stored rows must
-// be exactly those of one thread. 300 random rows of 420 columns, then 100
-// combinations of three rows each (dependent), interleaved.
-TEST(ModularRowBasis, IdleHelpersChangeNothing) {
-  const std::uint64_t prime = primary_prime();
-  const std::size_t cols = 420;
-  std::mt19937_64 random(53);
-  std::vector<ModularVector> rows;
-  for (std::size_t r = 0; r < 400; ++r) {
-    ModularVector row(cols, 0);
-    if (r % 4 == 3) {
-      for (int term = 0; term < 3; ++term) {
-        const ModularVector& earlier = rows[random() % rows.size()];
-        const std::uint64_t factor = random() % prime;
-        for (std::size_t c = 0; c < cols; ++c)
-          row[c] = static_cast<std::uint64_t>((static_cast<Wide>(factor) * earlier[c] + row[c]) % prime);
-      }
-    } else {
-      for (std::size_t c = r % 7; c < cols; ++c) row[c] = random() % prime;  // leading zeros: varied pivots
-    }
-    rows.push_back(std::move(row));
-  }
-  ModularRowBasis alone(prime, cols), helped(prime, cols);
-  const ThreadHelpers helpers;
-  for (std::size_t r = 0; r < rows.size(); ++r) {
-    const bool rose = alone.add_row_screened(rows[r]);
-    const IdleHelpersScope scope(&helpers);
-    EXPECT_EQ(helped.add_row_screened(rows[r]), rose) << "row " << r;
-  }
-  EXPECT_EQ(alone.rank(), 300u);
-  EXPECT_GT(helpers.split_calls.load(), 20u);  // the split really ran
-  EXPECT_EQ(helped.pivot_columns(), alone.pivot_columns());
-  EXPECT_EQ(helped.rows(), alone.rows());
-  for (int trial = 0; trial < 20; ++trial) {  // the screens agree: random rows, mostly outside the span
-    ModularVector row(cols);
-    for (std::uint64_t& value : row) value = random() % prime;
-    EXPECT_EQ(helped.passes_screen(row), alone.passes_screen(row));
   }
 }
 

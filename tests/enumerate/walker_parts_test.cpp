@@ -3,7 +3,6 @@
 // the packed seen-set against std::set, and the streamed adjacency summary
 // (facets, linear regions) against one recomputed from every region kept.
 #include "core/evaluate.hpp"
-#include "core/idle_helpers.hpp"
 #include "core/random_network.hpp"
 #include "enumerate/detail/integer_maps.hpp"
 #include "enumerate/detail/pattern_store.hpp"
@@ -350,38 +349,6 @@ TEST(WalkPipeline, RethrowsAndStops) {
     EXPECT_EQ(stopped.consumed, std::vector<std::size_t>(whole.consumed.begin(),
                                                          whole.consumed.begin() + static_cast<long>(stopped.consumed.size())));
     EXPECT_FALSE(stopped.is_consumed_unprocessed);
-  }
-}
-
-// consume may hand parts to the pipeline's idle threads (IdleHelpers, for
-// certify's row reduction): with one worker there are none; with more, every
-// part runs exactly once, and for_ranges_with_idle_helpers covers its range.
-TEST(WalkPipeline, LendsIdleThreadsToConsume) {
-  for (std::size_t workers : {1u, 2u, 3u}) {
-    detail::WalkPipeline pipeline(workers, 16);
-    const std::size_t first = pipeline.add(ActivationPattern{{NeuronState::on}});
-    std::size_t consumed = 0;
-    bool has_helpers = false;
-    std::vector<std::atomic<int>> runs(64);
-    std::vector<std::atomic<int>> covered(1000);
-    pipeline.run(
-        first, StopRequest(),
-        [](std::size_t, detail::WalkTask& task) { task.processed = std::make_unique<detail::Processed>(); },
-        [&](std::size_t, detail::WalkTask&) -> std::optional<std::size_t> {
-          has_helpers = current_idle_helpers() != nullptr;
-          if (has_helpers) current_idle_helpers()->run(runs.size(), [&](std::size_t part) { ++runs[part]; });
-          for_ranges_with_idle_helpers(covered.size(), 10, 4, [&](std::size_t begin, std::size_t end) {
-            for (std::size_t i = begin; i < end; ++i) ++covered[i];
-          });
-          if (++consumed == 50) return std::nullopt;
-          return pipeline.add(ActivationPattern{{NeuronState::off}});
-        },
-        nullptr);
-    EXPECT_EQ(consumed, 50u);
-    EXPECT_EQ(has_helpers, workers > 1);
-    EXPECT_EQ(current_idle_helpers(), nullptr);  // only inside consume
-    for (auto& count : runs) EXPECT_EQ(count.load(), workers > 1 ? 50 : 0);
-    for (auto& count : covered) EXPECT_EQ(count.load(), 50);
   }
 }
 
