@@ -474,7 +474,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       else
         check_scale.emplace(network);
     });
-    RationalMatrix extra(0, parameters);
+    detail::SparseRationalRows extra{parameters, {}};
     if (first_image.rows() > 0) {
       if (!check_scale) check_scale.emplace(network);
       const auto check_progress = [&](std::size_t done, std::size_t total) { report("check", done, total); };
@@ -497,10 +497,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // Independent: E is echelon and vanishes on Q (checked exactly here).
     if (!detail::is_echelon_off(extra, scaling_pivots)) return;
     result.lower_bound = basis.rank();
-    result.upper_bound = std::min(result.scaling_bound, parameters - scaling.rank - extra.rows());
+    result.upper_bound = std::min(result.scaling_bound, parameters - scaling.rank - extra.rows.size());
     if (options.keep_kernel)
-      result.kernel = stack_matrices(scaling_directions(network, scaling.independent_neurons), extra);
-    const std::size_t extra_count = extra.rows();
+      result.kernel = stack_matrices(scaling_directions(network, scaling.independent_neurons), extra.dense());
+    const std::size_t extra_count = extra.rows.size();
     result.extra_kernel = detail::name_extra_directions(network, activity, std::move(extra), threads, [&](std::size_t done) {
       report("naming", done, extra_count);
     });

@@ -115,21 +115,26 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
   return extra;
 }
 
-bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>& columns) {
-  std::vector<bool> is_excluded(extra.cols(), false);
-  for (std::size_t c : columns) is_excluded[c] = true;
-  std::size_t previous = 0;
-  for (std::size_t r = 0; r < extra.rows(); ++r) {
+bool is_echelon_off(const SparseRationalRows& extra, const std::vector<std::size_t>& columns) {
+  std::vector<char> is_excluded(extra.cols, 0), is_lead(extra.cols, 0);
+  for (std::size_t c : columns) is_excluded[c] = 1;
+  // Leading 1s at increasing columns, none of them excluded.
+  for (std::size_t r = 0; r < extra.rows.size(); ++r) {
     poll_stop();
-    std::size_t lead = 0;
-    while (lead < extra.cols() && extra(r, lead) == 0) ++lead;
-    if (lead == extra.cols() || extra(r, lead) != 1 || (r > 0 && lead <= previous)) return false;
-    for (std::size_t other = 0; other < extra.rows(); ++other)
-      if (other != r && extra(other, lead) != 0) return false;
-    for (std::size_t c : columns)
-      if (extra(r, c) != 0) return false;
-    previous = lead;
+    const SparseRationalRows::Row& row = extra.rows[r];
+    if (row.empty() || row.front().second != 1) return false;
+    const std::size_t lead = row.front().first;
+    if (lead >= extra.cols || (r > 0 && lead <= extra.rows[r - 1].front().first)) return false;
+    is_lead[lead] = 1;
   }
+  // Each row 0 at the other rows' leads and at the excluded columns (its
+  // entries are its nonzeros, increasing: the first is its own lead).
+  for (const SparseRationalRows::Row& row : extra.rows)
+    for (std::size_t e = 0; e < row.size(); ++e) {
+      const std::size_t c = row[e].first;
+      if (c >= extra.cols || is_excluded[c] || (e > 0 && (is_lead[c] || c <= row[e - 1].first))) return false;
+      if (sgn(row[e].second) == 0) return false;
+    }
   return true;
 }
 

@@ -47,20 +47,20 @@ Integer denominator_lcm(const Network& network) {
   return lcm;
 }
 
-// Row r's nonzero entries (column, value) scaled by a positive number to a
-// primitive integer vector (the zero entries cost nothing: most extra
-// directions have a handful of nonzeros among thousands), read in place.
-std::vector<std::pair<std::size_t, Integer>> primitive_integer_entries(const RationalMatrix& rows, std::size_t r) {
+// A row's entries scaled by a positive number to a primitive integer
+// vector (the scale does not change which combinations vanish).
+std::vector<std::pair<std::size_t, Integer>> primitive_integer_entries(const SparseRationalRows::Row& row) {
   Integer scale = 1, content = 0;
   std::vector<std::pair<std::size_t, Integer>> out;
-  for (std::size_t c = 0; c < rows.cols(); ++c)
-    if (sgn(rows(r, c)) != 0) {
-      mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), rows(r, c).get_den_mpz_t());
-      out.emplace_back(c, 0);
-    }
-  for (auto& [c, value] : out) {
-    mpz_divexact(value.get_mpz_t(), scale.get_mpz_t(), rows(r, c).get_den_mpz_t());
-    value *= rows(r, c).get_num();
+  out.reserve(row.size());
+  for (const auto& [c, value] : row) {
+    mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), value.get_den_mpz_t());
+    out.emplace_back(c, 0);
+  }
+  for (std::size_t e = 0; e < row.size(); ++e) {
+    Integer& value = out[e].second;
+    mpz_divexact(value.get_mpz_t(), scale.get_mpz_t(), row[e].second.get_den_mpz_t());
+    value *= row[e].second.get_num();
     mpz_gcd(content.get_mpz_t(), content.get_mpz_t(), value.get_mpz_t());
   }
   if (content > 1)
@@ -87,35 +87,47 @@ struct RegionFactors {
 
 __extension__ typedef unsigned __int128 Wide;
 
+// A 128-bit value modulo a prime, inline (FLINT's NMOD2_RED2: the high word
+// first, then both; no call into the library for each of the check's many
+// small sums).
+std::uint64_t reduce_wide(Wide value, const nmod_t& mod) {
+  std::uint64_t reduced;
+  const std::uint64_t high = static_cast<std::uint64_t>(value >> 64), low = static_cast<std::uint64_t>(value);
+  if (high < mod.n)
+    NMOD_RED2(reduced, high, low, mod);
+  else
+    NMOD2_RED2(reduced, high, low, mod);
+  return reduced;
+}
+
+// How many products of residues a 128-bit sum may take between reductions:
+// below 2^62 (every prime this check uses) 15 products of residues stay
+// below 15 * 2^124, which with the running residue fits in 128 bits; below
+// 2^63, 3 do.
+unsigned products_between_reductions(std::uint64_t prime) { return prime < (std::uint64_t{1} << 62) ? 15 : 3; }
+
 // A sum of products of residues modulo a prime, in 128 bits, reduced only
-// when more products could overflow: below 2^62 (every prime this check
-// uses) 15 products of residues stay below 15 * 2^124, which with the
-// running residue fits in 128 bits; below 2^63, 3 do.
+// when more products could overflow.
 class LazySum {
  public:
-  LazySum(std::uint64_t prime, std::uint64_t inverse)
-      : prime_(prime), inverse_(inverse), limit_(prime < (std::uint64_t{1} << 62) ? 15 : 3) {}
+  explicit LazySum(const nmod_t& mod) : mod_(mod), limit_(products_between_reductions(mod.n)) {}
   void add(std::uint64_t a, std::uint64_t b) {
     sum_ += static_cast<Wide>(a) * b;
     if (++pending_ == limit_) fold();
   }
   std::uint64_t value() {
     fold();
-    return reduced_;
+    return static_cast<std::uint64_t>(sum_);
   }
 
  private:
   void fold() {
-    sum_ += reduced_;
-    reduced_ = n_ll_mod_preinv(static_cast<std::uint64_t>(sum_ >> 64), static_cast<std::uint64_t>(sum_), prime_,
-                               inverse_);
-    sum_ = 0;
+    sum_ = reduce_wide(sum_, mod_);
     pending_ = 0;
   }
-  std::uint64_t prime_, inverse_;
+  const nmod_t& mod_;
   unsigned limit_;
   Wide sum_ = 0;
-  std::uint64_t reduced_ = 0;
   unsigned pending_ = 0;
 };
 
@@ -129,7 +141,8 @@ class LazySum {
 // this one on every neuron of those layers (same network and forward_to).
 void region_factors(const ModularNetwork& network, const ActivationPattern& pattern, std::size_t forward_to,
                     std::size_t backward_to, RegionFactors& factors, std::size_t reuse_below = 0) {
-  const std::uint64_t prime = network.prime, inverse = n_preinvert_limb(prime);
+  nmod_t mod;
+  nmod_init(&mod, network.prime);
   const std::size_t depth = network.weights.size(), n0 = network.input_dim;
   const std::size_t nd = network.bias.back().size();
   factors.passing.resize(depth);
@@ -168,12 +181,12 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
       continue;
     }
     for (std::size_t i : factors.passing[k]) {
-      LazySum value(prime, inverse);
+      LazySum value(mod);
       value.add(network.bias[k][i], 1);
       for (std::size_t j : inputs) value.add(weights(i, j), in_offset[j]);
       offset[i] = value.value();
       for (std::size_t t = 0; t < n0; ++t) {
-        LazySum slope(prime, inverse);
+        LazySum slope(mod);
         for (std::size_t j : inputs) slope.add(weights(i, j), in_linear[j * n0 + t]);
         linear[i * n0 + t] = slope.value();
       }
@@ -197,7 +210,7 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
     }
     for (std::size_t o = 0; o < nd; ++o)
       for (std::size_t i : factors.passing[k]) {
-        LazySum value(prime, inverse);
+        LazySum value(mod);
         for (std::size_t m : factors.passing[k + 1]) value.add(next_signal[o * next_width + m], next_weights(m, i));
         signal[o * width + i] = value.value();
       }
@@ -270,9 +283,24 @@ CheckScale::CheckScale(const Network& network) : bounds(coefficient_bounds(netwo
   for (std::size_t k = 1; k < network.depth(); ++k) scale *= lcm;
 }
 
-AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatrix& vectors,
+SparseRationalRows SparseRationalRows::from_dense(const RationalMatrix& dense) {
+  SparseRationalRows out{dense.cols(), std::vector<Row>(dense.rows())};
+  for (std::size_t r = 0; r < dense.rows(); ++r)
+    for (std::size_t c = 0; c < dense.cols(); ++c)
+      if (sgn(dense(r, c)) != 0) out.rows[r].emplace_back(c, dense(r, c));
+  return out;
+}
+
+RationalMatrix SparseRationalRows::dense() const {
+  RationalMatrix out(rows.size(), cols);
+  for (std::size_t r = 0; r < rows.size(); ++r)
+    for (const auto& [c, value] : rows[r]) out(r, c) = value;
+  return out;
+}
+
+AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationalRows& vectors,
                                      const CheckScale& check_scale, unsigned threads)
-    : vector_count_(vectors.rows()) {
+    : vector_count_(vectors.rows.size()) {
   static std::atomic<std::uint64_t> checks{0};
   id_ = ++checks;
   for (std::size_t k = 0; k < network.depth(); ++k)
@@ -287,13 +315,13 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatri
   }
   const RationalVector& bounds = check_scale.bounds;
   const Rational scale(check_scale.scale);
-  std::vector<std::vector<std::pair<std::size_t, Integer>>> integer_rows(vectors.rows());
-  std::vector<Rational> needed(vectors.rows());  // each vector's bound: primes until their product exceeds it
+  std::vector<std::vector<std::pair<std::size_t, Integer>>> integer_rows(vector_count_);
+  std::vector<Rational> needed(vector_count_);  // each vector's bound: primes until their product exceeds it
   // Thousands of vectors and, on deep networks, hundreds of primes: poll
   // the current thread's stop request (a no-op without a StopScope).
-  parallel_for(vectors.rows(), threads, [&](std::size_t r) {
+  parallel_for(vector_count_, threads, [&](std::size_t r) {
     poll_stop();
-    integer_rows[r] = primitive_integer_entries(vectors, r);
+    integer_rows[r] = primitive_integer_entries(vectors.rows[r]);
     Rational sum = 0;
     for (const auto& [c, value] : integer_rows[r]) sum += bounds[c] * Rational(abs(value));
     needed[r] = sum * scale;
@@ -351,32 +379,40 @@ namespace {
 // pattern's blocks modulo a prime is 0 for every one of them: row t's entry
 // at W_k[i,j] is G_k[o,i] x_t[j] (x_0 the offset, x_t the slope t), at b_k[i]
 // G_k[o,i] on row 0 and 0 on the others. A vector with one entry needs no
-// product (a prime field has no zero divisors); a longer one multiplies
-// each entry by x_t[j] with its Shoup quotient (the entry is fixed, the
-// region changes) and sums the products with G lazily: one reduction per
-// vector and row.
+// product (a prime field has no zero divisors); a longer one is read once
+// for all n0 + 1 rows: each entry's value times G_k[o,i] by Shoup's method
+// (the entry is fixed, the region changes), then that times x_t[j] for
+// every t, summed lazily in 128 bits: one reduction per vector and row.
 template <typename Entry>
 bool annihilates_rows(const std::vector<Entry>& vector, const RegionFactors& factors, const ModularNetwork& network,
-                      std::size_t o, std::uint64_t inverse) {
+                      std::size_t o, const nmod_t& mod) {
   const std::size_t n0 = network.input_dim;
   const std::uint64_t prime = network.prime;
-  for (std::size_t t = 0; t <= n0; ++t) {
-    LazySum sum(prime, inverse);
-    for (const auto& entry : vector) {
-      const auto& role = entry.role;
-      const std::uint64_t g = factors.signal[role.layer][o * entry.width + role.neuron];
-      if (g == 0) continue;
-      if (role.input == static_cast<std::size_t>(-1)) {
-        if (t == 0) sum.add(g, entry.value);
-        continue;
-      }
-      const std::uint64_t x =
-          t == 0 ? factors.offset[role.layer][role.input] : factors.linear[role.layer][role.input * n0 + (t - 1)];
-      if (x != 0) sum.add(g, n_mulmod_shoup(entry.value, x, entry.shoup, prime));
+  const unsigned limit = products_between_reductions(prime);
+  thread_local std::vector<Wide> sums;
+  sums.assign(n0 + 1, 0);
+  unsigned pending = 0;
+  auto fold = [&] {
+    for (Wide& sum : sums)
+      sum = reduce_wide(sum, mod);
+    pending = 0;
+  };
+  for (const auto& entry : vector) {
+    const auto& role = entry.role;
+    const std::uint64_t g = factors.signal[role.layer][o * entry.width + role.neuron];
+    if (g == 0) continue;
+    const std::uint64_t scaled = n_mulmod_shoup(entry.value, g, entry.shoup, prime);
+    if (role.input == static_cast<std::size_t>(-1)) {
+      sums[0] += scaled;
+    } else {
+      sums[0] += static_cast<Wide>(scaled) * factors.offset[role.layer][role.input];
+      const std::uint64_t* slopes = factors.linear[role.layer].data() + role.input * n0;
+      for (std::size_t t = 0; t < n0; ++t) sums[t + 1] += static_cast<Wide>(scaled) * slopes[t];
     }
-    if (sum.value() != 0) return false;
+    if (++pending == limit) fold();
   }
-  return true;
+  fold();
+  return std::all_of(sums.begin(), sums.end(), [](Wide sum) { return sum == 0; });
 }
 
 // The same for a vector with one entry: its column of the rows is 0.
@@ -412,7 +448,8 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
     const Modulus& modulus = moduli_[m];
     poll_stop();
     if (modulus.vectors.empty() && modulus.units.empty()) continue;
-    const std::uint64_t inverse = n_preinvert_limb(modulus.network.prime);
+    nmod_t mod;
+    nmod_init(&mod, modulus.network.prime);
     RegionFactors& factors = reuse.factors[m];
     std::vector<NeuronState>& last = reuse.patterns[m];
     // The inputs of the layers before the first neuron that differs from
@@ -432,7 +469,7 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
       for (const Entry& unit : modulus.units)
         if (!annihilates_rows(unit, factors, n0, o)) return false;
       for (const auto& vector : modulus.vectors)
-        if (!annihilates_rows(vector, factors, modulus.network, o, inverse)) return false;
+        if (!annihilates_rows(vector, factors, modulus.network, o, mod)) return false;
     }
   }
   return true;

@@ -69,8 +69,7 @@ std::optional<std::vector<RationalVector>> solve_square(const RationalMatrix& ro
   return out;
 }
 
-// A row's nonzero entries (column, value), increasing.
-using SparseRow = std::vector<std::pair<std::size_t, Rational>>;
+using SparseRow = SparseRationalRows::Row;
 
 // Rows of the image modulo p whose every entry is a fraction with numerator
 // and denominator below 2^24 in absolute value (rational reconstruction with
@@ -510,14 +509,14 @@ std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
   return extra;
 }
 
-std::optional<RationalMatrix> lift_and_prove_extra_directions(
+std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
     const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
     const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
     const StopRequest& stop, bool& stopped, const LiftProgress& lift_progress,
     const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere) {
-  auto is_proved = [&](const RationalMatrix& candidate) {
-    if (prove_elsewhere) return prove_elsewhere(candidate, stopped) && !stopped;
+  auto is_proved = [&](const SparseRationalRows& candidate) {
+    if (prove_elsewhere) return prove_elsewhere(candidate.dense(), stopped) && !stopped;
     const AnnihilationCheck check(network, candidate, check_scale, threads);
     return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress) && !stopped;
   };
@@ -530,7 +529,7 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
   std::vector<std::size_t> hard;
   for (std::size_t j = 0; j < candidate_rows.size(); ++j)
     if (!candidate_rows[j]) hard.push_back(j);
-  std::optional<RationalMatrix> candidate;
+  std::optional<SparseRationalRows> candidate;
   if (!hard.empty()) {
     if (lift_progress) lift_progress(1);
     if (auto lifted =
@@ -543,17 +542,9 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
       }
   }
   if (std::all_of(candidate_rows.begin(), candidate_rows.end(), [](const auto& row) { return row.has_value(); })) {
-    // Row by row (each dense row moved in, its sparse form released): the
-    // dense candidate is the only large copy.
-    candidate = RationalMatrix(0, first_image.cols());
-    candidate->reserve_rows(candidate_rows.size());
-    for (std::optional<SparseRow>& sparse : candidate_rows) {
-      poll_stop();
-      RationalVector row(first_image.cols());
-      for (auto& [c, value] : *sparse) mpq_swap(row[c].get_mpq_t(), value.get_mpq_t());
-      sparse.reset();
-      candidate->append_row(std::move(row));
-    }
+    candidate = SparseRationalRows{first_image.cols(), {}};
+    candidate->rows.reserve(candidate_rows.size());
+    for (std::optional<SparseRow>& row : candidate_rows) candidate->rows.push_back(std::move(*row));
     if (is_proved(*candidate)) return candidate;
     if (stopped || stop.is_requested()) {
       stopped = true;
@@ -565,10 +556,12 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
   if (lift_progress) lift_progress(2);
   std::vector<std::size_t> all(first_image.rows());
   for (std::size_t j = 0; j < all.size(); ++j) all[j] = j;
-  std::optional<RationalMatrix> solved =
+  const std::optional<RationalMatrix> solved =
       solve_extra_directions(exact_kept_rows(network, kept, rank, threads), scaling_pivots, leading, all);
-  if (!solved || solved == candidate) return std::nullopt;
-  if (is_proved(*solved)) return solved;
+  if (!solved) return std::nullopt;
+  SparseRationalRows exact = SparseRationalRows::from_dense(*solved);
+  if (exact == candidate) return std::nullopt;
+  if (is_proved(exact)) return exact;
   return std::nullopt;
 }
 

@@ -78,11 +78,11 @@ using LiftProgress = std::function<void(std::size_t)>;
 // rejects it, every row from one exact p-adic solve (solve_extra_directions)
 // and that is checked the same way. Returns nullopt when stopped (stopped is
 // set) or when nothing is proved (the walk's prime hid a row: bounds only).
-// The result is the same for any thread count (E is unique: identity on L,
-// zero on Q). lift_progress: 1 when further primes start, 2 for the exact
+// The result (E's rows by their nonzero entries) is the same for any thread
+// count (E is unique: identity on L, zero on Q). lift_progress: 1 when further primes start, 2 for the exact
 // solve. prove_elsewhere, when given, decides each candidate instead of the
 // check on `smooth` here.
-std::optional<RationalMatrix> lift_and_prove_extra_directions(
+std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
     const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
     const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
@@ -139,6 +139,6 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
 // Whether E vanishes at the columns Q and is in reduced row-echelon form
 // with leading 1s: then S u E is independent whenever S restricted to Q is
 // nonsingular. Exact.
-bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>& columns);
+bool is_echelon_off(const SparseRationalRows& extra, const std::vector<std::size_t>& columns);
 
 }  // namespace pleat::detail

@@ -105,7 +105,7 @@ TEST(KernelLift, ExactSolveAndMultiModularLiftGiveTheExactKernelsExtraDirections
         [&](std::size_t step) { furthest = std::max(furthest, step); }, {});
     ASSERT_TRUE(lifted.has_value());
     EXPECT_FALSE(stopped);
-    EXPECT_EQ(*lifted, expected);
+    EXPECT_EQ(lifted->dense(), expected);
     EXPECT_EQ(furthest, 1u);  // further primes, no exact solve
   }
 }
@@ -164,7 +164,7 @@ TEST(KernelLift, WrongImageFallsBackToTheExactSolve) {
       state.smooth, detail::CheckScale(network), 1, StopRequest(), stopped,
       [&](std::size_t step) { furthest = std::max(furthest, step); }, {});
   ASSERT_TRUE(lifted.has_value());
-  EXPECT_EQ(*lifted, expected);
+  EXPECT_EQ(lifted->dense(), expected);
   EXPECT_EQ(furthest, 2u);
 }
 
