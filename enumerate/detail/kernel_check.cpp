@@ -100,6 +100,10 @@ std::uint64_t reduce_wide(Wide value, const nmod_t& mod) {
   return reduced;
 }
 
+void reduce_each(std::vector<Wide>& sums, const nmod_t& mod) {
+  for (Wide& sum : sums) sum = reduce_wide(sum, mod);
+}
+
 // How many products of residues a 128-bit sum may take between reductions:
 // below 2^62 (every prime this check uses) 15 products of residues stay
 // below 15 * 2^124, which with the running residue fits in 128 bits; below
@@ -180,16 +184,26 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
       }
       continue;
     }
+    // The offset and the n0 slopes of each neuron in one pass over its
+    // inputs (each weight read once), summed lazily.
+    const unsigned limit = products_between_reductions(mod.n);
+    thread_local std::vector<Wide> sums;
     for (std::size_t i : factors.passing[k]) {
-      LazySum value(mod);
-      value.add(network.bias[k][i], 1);
-      for (std::size_t j : inputs) value.add(weights(i, j), in_offset[j]);
-      offset[i] = value.value();
-      for (std::size_t t = 0; t < n0; ++t) {
-        LazySum slope(mod);
-        for (std::size_t j : inputs) slope.add(weights(i, j), in_linear[j * n0 + t]);
-        linear[i * n0 + t] = slope.value();
+      sums.assign(n0 + 1, 0);
+      sums[0] = network.bias[k][i];
+      unsigned pending = 0;
+      for (std::size_t j : inputs) {
+        const std::uint64_t w = weights(i, j);
+        sums[0] += static_cast<Wide>(w) * in_offset[j];
+        const std::uint64_t* slopes = in_linear.data() + j * n0;
+        for (std::size_t t = 0; t < n0; ++t) sums[t + 1] += static_cast<Wide>(w) * slopes[t];
+        if (++pending == limit) {
+          reduce_each(sums, mod);
+          pending = 0;
+        }
       }
+      offset[i] = reduce_wide(sums[0], mod);
+      for (std::size_t t = 0; t < n0; ++t) linear[i * n0 + t] = reduce_wide(sums[t + 1], mod);
     }
   }
   for (std::size_t k = depth; k-- > backward_to;) {
@@ -393,8 +407,7 @@ bool annihilates_rows(const std::vector<Entry>& vector, const RegionFactors& fac
   sums.assign(n0 + 1, 0);
   unsigned pending = 0;
   auto fold = [&] {
-    for (Wide& sum : sums)
-      sum = reduce_wide(sum, mod);
+    reduce_each(sums, mod);
     pending = 0;
   };
   for (const auto& entry : vector) {
