@@ -14,27 +14,6 @@
 namespace pleat::detail {
 namespace {
 
-// B with |row_c| <= B_c for every coefficient-block row of every pattern:
-// the entries are sums of products of parameters (core/jacobian.hpp: only
-// additions and multiplications, patterns only drop terms), so the blocks of
-// the network of |theta| with every neuron on bound them entrywise. Exact.
-RationalVector coefficient_bounds(const Network& network) {
-  Network absolute = network;
-  for (Layer& layer : absolute.layers) {
-    for (std::size_t r = 0; r < layer.weights.rows(); ++r)
-      for (std::size_t c = 0; c < layer.weights.cols(); ++c) layer.weights(r, c) = abs(layer.weights(r, c));
-    for (Rational& b : layer.bias) b = abs(b);
-  }
-  ActivationPattern all_on;
-  all_on.states.assign(network.relu_neuron_count(), NeuronState::on);
-  const RationalMatrix blocks = coefficient_blocks(absolute, all_on);
-  RationalVector bound(blocks.cols(), Rational(0));
-  for (std::size_t r = 0; r < blocks.rows(); ++r)
-    for (std::size_t c = 0; c < blocks.cols(); ++c)
-      if (blocks(r, c) > bound[c]) bound[c] = blocks(r, c);
-  return bound;
-}
-
 // The least common multiple of every parameter's denominator.
 Integer denominator_lcm(const Network& network) {
   Integer lcm = 1;
@@ -45,6 +24,82 @@ Integer denominator_lcm(const Network& network) {
     for (const Rational& b : layer.bias) mpz_lcm(lcm.get_mpz_t(), lcm.get_mpz_t(), b.get_den_mpz_t());
   }
   return lcm;
+}
+
+// L^(d-1) B_c with |row_c| <= B_c for every coefficient-block row of every
+// pattern: the entries are sums of products of parameters
+// (core/jacobian.hpp: only additions and multiplications, patterns only
+// drop terms), so the blocks of the network of |theta| with every neuron on
+// bound them entrywise; B_c is the largest entry of column c there. Those
+// blocks from their factors in integers (no gcds): with P_k = L |W_k|, the
+// layer inputs X_k = L^k x_k (offset and slopes; X_0 the identity's) and
+// the backward signals H_k = L^(d-1-k) G_k,
+//   X_{k+1}[i] = sum_j P_k[i,j] X_k[j] + L^(k+1) |b_k[i]| on the offset,
+//   H_{d-1} = I, H_k = H_{k+1} P_{k+1},
+// and the scaled entry at W_k[i,j] on row (o, t) is H_k[o,i] X_k[j]_t, at
+// b_k[i] H_k[o,i] L^k on the offset row (0 on the slopes). Every factor is
+// nonnegative, so a column's largest entry is max_o H times max_t X. Exact.
+std::vector<Integer> scaled_coefficient_bounds(const Network& network, const Integer& lcm) {
+  const std::size_t depth = network.depth(), n0 = network.input_dim;
+  auto scaled_absolute = [&](const Rational& value) {
+    Integer out;
+    mpz_divexact(out.get_mpz_t(), lcm.get_mpz_t(), value.get_den_mpz_t());
+    out *= abs(value.get_num());
+    return out;
+  };
+  std::vector<Integer> power(depth, 1);  // L^k
+  for (std::size_t k = 1; k < depth; ++k) power[k] = power[k - 1] * lcm;
+  // The largest offset or slope of each layer's inputs, max_t X_k[j]_t.
+  std::vector<std::vector<Integer>> input_max(depth);
+  std::vector<std::vector<Integer>> inputs(n0, std::vector<Integer>(n0 + 1, 0));  // X_k[j]: offset, slopes
+  for (std::size_t j = 0; j < n0; ++j) inputs[j][1 + j] = 1;
+  for (std::size_t k = 0; k < depth; ++k) {
+    const Layer& layer = network.layers[k];
+    input_max[k].resize(inputs.size());
+    for (std::size_t j = 0; j < inputs.size(); ++j)
+      input_max[k][j] = *std::max_element(inputs[j].begin(), inputs[j].end());
+    if (k + 1 == depth) break;
+    std::vector<std::vector<Integer>> next(layer.width(), std::vector<Integer>(n0 + 1, 0));
+    Integer weight;
+    for (std::size_t i = 0; i < layer.width(); ++i) {
+      next[i][0] = scaled_absolute(layer.bias[i]) * power[k];
+      for (std::size_t j = 0; j < layer.fan_in(); ++j) {
+        weight = scaled_absolute(layer.weights(i, j));
+        for (std::size_t t = 0; t <= n0; ++t) mpz_addmul(next[i][t].get_mpz_t(), weight.get_mpz_t(), inputs[j][t].get_mpz_t());
+      }
+    }
+    inputs = std::move(next);
+  }
+  // The largest backward signal of each neuron, max_o H_k[o,i].
+  const std::size_t nd = network.layers.back().width();
+  std::vector<std::vector<Integer>> signal(nd, std::vector<Integer>(nd, 0));  // H_{d-1}: o x i
+  for (std::size_t o = 0; o < nd; ++o) signal[o][o] = 1;
+  std::vector<std::vector<Integer>> signal_max(depth);
+  for (std::size_t k = depth; k-- > 0;) {
+    const std::size_t width = network.layers[k].width();
+    signal_max[k].assign(width, 0);
+    for (std::size_t o = 0; o < nd; ++o)
+      for (std::size_t i = 0; i < width; ++i) signal_max[k][i] = std::max(signal_max[k][i], signal[o][i]);
+    if (k == 0) break;
+    const Layer& layer = network.layers[k];
+    std::vector<std::vector<Integer>> previous(nd, std::vector<Integer>(layer.fan_in(), 0));
+    Integer weight;
+    for (std::size_t m = 0; m < width; ++m)
+      for (std::size_t i = 0; i < layer.fan_in(); ++i) {
+        weight = scaled_absolute(layer.weights(m, i));
+        for (std::size_t o = 0; o < nd; ++o) mpz_addmul(previous[o][i].get_mpz_t(), signal[o][m].get_mpz_t(), weight.get_mpz_t());
+      }
+    signal = std::move(previous);
+  }
+  std::vector<Integer> bounds;
+  bounds.reserve(network.parametric_dimension());
+  for (std::size_t k = 0; k < depth; ++k) {
+    const Layer& layer = network.layers[k];
+    for (std::size_t i = 0; i < layer.width(); ++i)
+      for (std::size_t j = 0; j < layer.fan_in(); ++j) bounds.push_back(signal_max[k][i] * input_max[k][j]);
+    for (std::size_t i = 0; i < layer.width(); ++i) bounds.push_back(signal_max[k][i] * power[k]);
+  }
+  return bounds;
 }
 
 // A row's entries scaled by a positive number to a primitive integer
@@ -289,12 +344,13 @@ void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern&
   }
 }
 
-CheckScale::CheckScale(const Network& network) : bounds(coefficient_bounds(network)) {
+CheckScale::CheckScale(const Network& network) {
   // Every entry is a sum of products of at most depth - 1 parameters (one
   // per layer but its own column's) with integer coefficients: L^(depth-1)
   // clears every denominator.
-  const Integer lcm = denominator_lcm(network);
+  lcm = denominator_lcm(network);
   for (std::size_t k = 1; k < network.depth(); ++k) scale *= lcm;
+  scaled_bounds = scaled_coefficient_bounds(network, lcm);
 }
 
 SparseRationalRows SparseRationalRows::from_dense(const RationalMatrix& dense) {
@@ -327,20 +383,23 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
       for (std::size_t j = 0; j < layer.fan_in(); ++j) columns_.push_back({k, i, j});
     for (std::size_t i = 0; i < layer.width(); ++i) columns_.push_back({k, i, ColumnRole::bias});
   }
-  const RationalVector& bounds = check_scale.bounds;
-  const Rational scale(check_scale.scale);
+  const std::vector<Integer>& bounds = check_scale.scaled_bounds;
   std::vector<std::vector<std::pair<std::size_t, Integer>>> integer_rows(vector_count_);
-  std::vector<Rational> needed(vector_count_);  // each vector's bound: primes until their product exceeds it
+  // Each vector's bound L^(d-1) sum_c B_c |e_c|: primes until their product exceeds it.
+  std::vector<Integer> needed(vector_count_, 0);
   // Thousands of vectors and, on deep networks, hundreds of primes: poll
   // the current thread's stop request (a no-op without a StopScope).
   parallel_for(vector_count_, threads, [&](std::size_t r) {
     poll_stop();
     integer_rows[r] = primitive_integer_entries(vectors.rows[r]);
-    Rational sum = 0;
-    for (const auto& [c, value] : integer_rows[r]) sum += bounds[c] * Rational(abs(value));
-    needed[r] = sum * scale;
+    Integer& sum = needed[r];
+    for (const auto& [c, value] : integer_rows[r])
+      if (sgn(value) > 0)
+        mpz_addmul(sum.get_mpz_t(), bounds[c].get_mpz_t(), value.get_mpz_t());
+      else
+        mpz_submul(sum.get_mpz_t(), bounds[c].get_mpz_t(), value.get_mpz_t());
   });
-  const Rational largest = *std::max_element(needed.begin(), needed.end());
+  const Integer largest = *std::max_element(needed.begin(), needed.end());
   // Each vector is reduced modulo the first primes whose product exceeds its
   // own bound only: a vector with small entries (most extra directions)
   // costs one or two primes even when another needs dozens. The primes and
@@ -349,14 +408,13 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
   std::vector<std::uint64_t> primes;
   std::vector<std::vector<std::size_t>> checked;  // by each prime: the vectors
   Integer product = 1;
-  for (std::size_t index = 0; Rational(product) <= largest; ++index) {
+  for (std::size_t index = 0; product <= largest; ++index) {
     poll_stop();
     const std::uint64_t prime = prime_sequence(index);
-    if (!reduce_modulo(network, prime)) continue;  // the prime divides a denominator
+    if (mpz_divisible_ui_p(check_scale.lcm.get_mpz_t(), prime)) continue;  // the prime divides a denominator
     std::vector<std::size_t> open;
-    const Rational reached(product);
     for (std::size_t v = 0; v < integer_rows.size(); ++v)
-      if (reached <= needed[v]) open.push_back(v);  // not proved by the primes before
+      if (product <= needed[v]) open.push_back(v);  // not proved by the primes before
     primes.push_back(prime);
     checked.push_back(std::move(open));
     product *= Integer(static_cast<unsigned long>(prime));

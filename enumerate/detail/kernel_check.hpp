@@ -35,13 +35,14 @@ struct SparseRationalRows {
   friend bool operator==(const SparseRationalRows&, const SparseRationalRows&) = default;
 };
 
-// What the check's bound needs from the network alone: B with |row_c| <= B_c
-// for every coefficient-block row of every pattern, and L^(d-1) (L the lcm of
-// the parameters' denominators, d the depth), which clears every entry's
-// denominators. Computed once, shared by every candidate checked. Exact.
+// What the check's bound needs from the network alone: L (the lcm of the
+// parameters' denominators) and L^(d-1) (d the depth), which clears every
+// coefficient-block entry's denominators, and L^(d-1) B_c with |row_c| <=
+// B_c for every coefficient-block row of every pattern (integers). Computed
+// once, shared by every candidate checked. Exact.
 struct CheckScale {
-  RationalVector bounds;
-  Integer scale = 1;
+  std::vector<Integer> scaled_bounds;
+  Integer lcm = 1, scale = 1;
   explicit CheckScale(const Network& network);
 };
 

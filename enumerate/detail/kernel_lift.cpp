@@ -372,12 +372,9 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
   const std::size_t batch = std::max(1u, threads);
   // With the check's scale: the product the further primes must exceed for
   // the exact solve (twice the largest scaled entry), and theirs so far.
-  std::optional<Rational> exact_bound;
-  if (check_scale) {
-    Rational largest = 0;
-    for (const Rational& bound : check_scale->bounds) largest = std::max(largest, bound);
-    exact_bound = 2 * largest * Rational(check_scale->scale);
-  }
+  std::optional<Integer> exact_bound;
+  if (check_scale)
+    exact_bound = Integer(2 * *std::max_element(check_scale->scaled_bounds.begin(), check_scale->scaled_bounds.end()));
   Integer product = 1;
   for (std::size_t index = 0, used = 0; used < max_primes;) {
     poll_stop();
@@ -436,7 +433,7 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
       // group on its own thread. Where this happens depends on the primes
       // alone: the same for any thread count.
       product *= Integer(static_cast<unsigned long>(prime));
-      if (exact_bound && Rational(product) > *exact_bound) {
+      if (exact_bound && product > *exact_bound) {
         std::vector<std::size_t> still_open;
         for (std::size_t i = 0; i < lifts.size(); ++i)
           if (!lifts[i].is_stable) still_open.push_back(i);
