@@ -145,7 +145,7 @@ __extension__ typedef unsigned __int128 Wide;
 // A 128-bit value modulo a prime, inline (FLINT's NMOD2_RED2: the high word
 // first, then both; no call into the library for each of the check's many
 // small sums).
-std::uint64_t reduce_wide(Wide value, const nmod_t& mod) {
+[[gnu::always_inline]] inline std::uint64_t reduce_wide(Wide value, const nmod_t& mod) {
   std::uint64_t reduced;
   const std::uint64_t high = static_cast<std::uint64_t>(value >> 64), low = static_cast<std::uint64_t>(value);
   if (high < mod.n)
