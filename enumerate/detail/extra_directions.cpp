@@ -3,6 +3,7 @@
 #include "enumerate/detail/kernel_lift.hpp"
 
 #include "core/detail/flint_matrix.hpp"
+#include "enumerate/detail/parallel_for.hpp"
 
 #include <flint/nmod_mat.h>
 
@@ -10,6 +11,26 @@
 #include <vector>
 
 namespace pleat::detail {
+namespace {
+
+// out = left right, the rows of left split among up to `threads` threads
+// (FLINT's product runs on one): each block's product is written to its own
+// rows of out, the same for any thread count.
+void multiply_by_row_blocks(NmodMatrix& out, NmodMatrix& left, NmodMatrix& right, unsigned threads) {
+  const auto rows = static_cast<std::size_t>(nmod_mat_nrows(left.get()));
+  const std::size_t blocks = std::clamp<std::size_t>(rows / 16, 1, std::max(1u, threads));
+  parallel_for(blocks, threads, [&](std::size_t b) {
+    const auto first = static_cast<slong>(rows * b / blocks), last = static_cast<slong>(rows * (b + 1) / blocks);
+    nmod_mat_t left_rows, out_rows;
+    nmod_mat_window_init(left_rows, left.get(), first, 0, last, nmod_mat_ncols(left.get()));
+    nmod_mat_window_init(out_rows, out.get(), first, 0, last, nmod_mat_ncols(out.get()));
+    nmod_mat_mul(out_rows, left_rows, right.get());
+    nmod_mat_window_clear(out_rows);
+    nmod_mat_window_clear(left_rows);
+  });
+}
+
+}  // namespace
 
 std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon) {
   std::vector<std::size_t> leads;
@@ -38,7 +59,8 @@ ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vec
   return extra;
 }
 
-ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots) {
+ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots,
+                                        unsigned threads) {
   const ModularMatrix rows = basis.rows();
   const std::vector<std::size_t>& pivots = basis.pivot_columns();
   const std::size_t columns = rows.cols(), rank = pivots.size();
@@ -90,7 +112,7 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
       for (std::size_t t = 0; t < touched.size(); ++t)
         nmod_mat_entry(right.get(), static_cast<slong>(t), static_cast<slong>(i)) = rows(i, touched[t]);
     poll_stop();
-    nmod_mat_mul(at_pivots.get(), left.get(), right.get());
+    multiply_by_row_blocks(at_pivots, left, right, threads);
     for (std::size_t a = 0; a < dimension; ++a) {
       for (std::size_t t = 0; t < touched.size(); ++t) spanning(a, touched[t]) = combinations(a, t);
       for (std::size_t i = 0; i < rank; ++i) {

@@ -437,6 +437,11 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
         std::vector<std::size_t> still_open;
         for (std::size_t i = 0; i < lifts.size(); ++i)
           if (!lifts[i].is_stable) still_open.push_back(i);
+        // The largest systems first, so that the one that takes longest
+        // (the rows with many nonzeros together) does not start last.
+        std::stable_sort(still_open.begin(), still_open.end(), [&](std::size_t a, std::size_t b) {
+          return lifts[a].support.size() > lifts[b].support.size();
+        });
         std::vector<char> solved(still_open.size(), 0);
         parallel_for(still_open.size(), threads, [&](std::size_t o) {
           solved[o] = solve_rows_exactly(lifts[still_open[o]], check_scale->scale) ? 1 : 0;

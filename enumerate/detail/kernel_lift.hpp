@@ -50,8 +50,10 @@ ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vec
 // other pivots), cheaper when the kernel is smaller than the rank: its
 // kernel read off directly (D - r vectors), put in reduced row-echelon form
 // with the columns Q first; the rows led outside Q are E. Equal to
-// extra_directions_of_rows(basis.rows(), ...).
-ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots);
+// extra_directions_of_rows(basis.rows(), ...). Its one product on up to
+// `threads` threads (the same result for any number).
+ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots,
+                                        unsigned threads = 1);
 
 // The leading column of each row of an echelon matrix (its shape).
 std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon);
