@@ -4,6 +4,7 @@
 #include <flint/ulong_extras.h>
 
 #include <algorithm>
+#include <array>
 #include <atomic>
 #include <exception>
 #include <mutex>
@@ -67,15 +68,24 @@ __extension__ typedef unsigned __int128 Wide;
   return reduced;
 }
 
-void reduce_each(std::vector<Wide>& sums, const nmod_t& mod) {
-  for (Wide& sum : sums) sum = reduce_wide(sum, mod);
-}
-
 // How many products of residues a 128-bit sum may take between reductions:
 // below 2^62 (every prime this check uses) 15 products of residues stay
 // below 15 * 2^124, which with the running residue fits in 128 bits; below
 // 2^63, 3 do.
 unsigned products_between_reductions(std::uint64_t prime) { return prime < (std::uint64_t{1} << 62) ? 15 : 3; }
+
+// Runs body.template operator()<Inputs>() with Inputs = n0 for the common
+// 1 to 3 network inputs, else 0 (n0 read at run time): with n0 known at
+// compile time the n0 + 1 sums of a row below stay in registers.
+template <typename Body>
+decltype(auto) with_input_count(std::size_t n0, Body&& body) {
+  switch (n0) {
+    case 1: return body.template operator()<1>();
+    case 2: return body.template operator()<2>();
+    case 3: return body.template operator()<3>();
+    default: return body.template operator()<0>();
+  }
+}
 
 // A sum of products of residues modulo a prime, in 128 bits, reduced only
 // when more products could overflow.
@@ -101,6 +111,43 @@ class LazySum {
   Wide sum_ = 0;
   unsigned pending_ = 0;
 };
+
+// The next layer's inputs at its passing neurons: each neuron's offset and
+// n0 slopes in one pass over its inputs (each weight read once), summed
+// lazily. Inputs: n0 when known at compile time, else 0.
+template <std::size_t Inputs>
+void layer_inputs(const ModularMatrix& weights, const std::vector<std::uint64_t>& bias,
+                  const std::vector<std::size_t>& inputs, const std::vector<std::size_t>& passing,
+                  const std::vector<std::uint64_t>& in_offset, const std::vector<std::uint64_t>& in_linear,
+                  std::vector<std::uint64_t>& offset, std::vector<std::uint64_t>& linear, std::size_t n0_at_run_time,
+                  const nmod_t& mod) {
+  const std::size_t n0 = Inputs > 0 ? Inputs : n0_at_run_time;
+  const unsigned limit = products_between_reductions(mod.n);
+  std::array<Wide, Inputs + 1> fixed{};
+  Wide* sums = fixed.data();
+  if constexpr (Inputs == 0) {
+    thread_local std::vector<Wide> buffer;
+    buffer.resize(n0 + 1);
+    sums = buffer.data();
+  }
+  for (std::size_t i : passing) {
+    std::fill(sums, sums + n0 + 1, Wide{0});
+    sums[0] = bias[i];
+    unsigned pending = 0;
+    for (std::size_t j : inputs) {
+      const std::uint64_t w = weights(i, j);
+      sums[0] += static_cast<Wide>(w) * in_offset[j];
+      const std::uint64_t* slopes = in_linear.data() + j * n0;
+      for (std::size_t t = 0; t < n0; ++t) sums[t + 1] += static_cast<Wide>(w) * slopes[t];
+      if (++pending == limit) {
+        for (std::size_t t = 0; t <= n0; ++t) sums[t] = reduce_wide(sums[t], mod);
+        pending = 0;
+      }
+    }
+    offset[i] = static_cast<std::uint64_t>(reduce_wide(sums[0], mod));
+    for (std::size_t t = 0; t < n0; ++t) linear[i * n0 + t] = reduce_wide(sums[t + 1], mod);
+  }
+}
 
 // Fills factors with the region's layer inputs for layers 0..forward_to and
 // its backward signals for layers backward_to..depth-1 (what the columns a
@@ -151,27 +198,10 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
       }
       continue;
     }
-    // The offset and the n0 slopes of each neuron in one pass over its
-    // inputs (each weight read once), summed lazily.
-    const unsigned limit = products_between_reductions(mod.n);
-    thread_local std::vector<Wide> sums;
-    for (std::size_t i : factors.passing[k]) {
-      sums.assign(n0 + 1, 0);
-      sums[0] = network.bias[k][i];
-      unsigned pending = 0;
-      for (std::size_t j : inputs) {
-        const std::uint64_t w = weights(i, j);
-        sums[0] += static_cast<Wide>(w) * in_offset[j];
-        const std::uint64_t* slopes = in_linear.data() + j * n0;
-        for (std::size_t t = 0; t < n0; ++t) sums[t + 1] += static_cast<Wide>(w) * slopes[t];
-        if (++pending == limit) {
-          reduce_each(sums, mod);
-          pending = 0;
-        }
-      }
-      offset[i] = reduce_wide(sums[0], mod);
-      for (std::size_t t = 0; t < n0; ++t) linear[i * n0 + t] = reduce_wide(sums[t + 1], mod);
-    }
+    with_input_count(n0, [&]<std::size_t Inputs>() {
+      layer_inputs<Inputs>(weights, network.bias[k], inputs, factors.passing[k], in_offset, in_linear, offset, linear,
+                           n0, mod);
+    });
   }
   for (std::size_t k = depth; k-- > backward_to;) {
     const std::size_t width = network.weights[k].rows();
@@ -343,24 +373,24 @@ namespace {
 // for all n0 + 1 rows: each entry's value times G_k[o,i] by Shoup's method
 // (the entry is fixed, the region changes), then that times x_t[j] for
 // every t, summed lazily in 128 bits: one reduction per vector and row.
-template <typename Entry>
+template <std::size_t Inputs, typename Entry>
 bool annihilates_rows(const std::vector<Entry>& vector, const RegionFactors& factors, const ModularNetwork& network,
                       std::size_t o, const nmod_t& mod) {
-  const std::size_t n0 = network.input_dim;
-  const std::uint64_t prime = network.prime;
-  const unsigned limit = products_between_reductions(prime);
-  thread_local std::vector<Wide> sums;
-  sums.assign(n0 + 1, 0);
+  const std::size_t n0 = Inputs > 0 ? Inputs : network.input_dim;
+  const unsigned limit = products_between_reductions(network.prime);
+  std::array<Wide, Inputs + 1> fixed{};
+  Wide* sums = fixed.data();
+  if constexpr (Inputs == 0) {
+    thread_local std::vector<Wide> buffer;
+    buffer.assign(n0 + 1, 0);
+    sums = buffer.data();
+  }
   unsigned pending = 0;
-  auto fold = [&] {
-    reduce_each(sums, mod);
-    pending = 0;
-  };
   for (const auto& entry : vector) {
     const auto& role = entry.role;
     const std::uint64_t g = factors.signal[role.layer][o * entry.width + role.neuron];
     if (g == 0) continue;
-    const std::uint64_t scaled = n_mulmod_shoup(entry.value, g, entry.shoup, prime);
+    const std::uint64_t scaled = n_mulmod_shoup(entry.value, g, entry.shoup, network.prime);
     if (role.input == static_cast<std::size_t>(-1)) {
       sums[0] += scaled;
     } else {
@@ -368,10 +398,14 @@ bool annihilates_rows(const std::vector<Entry>& vector, const RegionFactors& fac
       const std::uint64_t* slopes = factors.linear[role.layer].data() + role.input * n0;
       for (std::size_t t = 0; t < n0; ++t) sums[t + 1] += static_cast<Wide>(scaled) * slopes[t];
     }
-    if (++pending == limit) fold();
+    if (++pending == limit) {
+      for (std::size_t t = 0; t <= n0; ++t) sums[t] = reduce_wide(sums[t], mod);
+      pending = 0;
+    }
   }
-  fold();
-  return std::all_of(sums.begin(), sums.end(), [](Wide sum) { return sum == 0; });
+  for (std::size_t t = 0; t <= n0; ++t)
+    if (reduce_wide(sums[t], mod) != 0) return false;
+  return true;
 }
 
 // The same for a vector with one entry: its column of the rows is 0.
@@ -427,8 +461,12 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
     for (std::size_t o = 0; o < nd; ++o) {
       for (const Entry& unit : modulus.units)
         if (!annihilates_rows(unit, factors, n0, o)) return false;
-      for (const auto& vector : modulus.vectors)
-        if (!annihilates_rows(vector, factors, modulus.network, o, mod)) return false;
+      const bool vectors_pass = with_input_count(n0, [&]<std::size_t Inputs>() {
+        for (const auto& vector : modulus.vectors)
+          if (!annihilates_rows<Inputs>(vector, factors, modulus.network, o, mod)) return false;
+        return true;
+      });
+      if (!vectors_pass) return false;
     }
   }
   return true;
