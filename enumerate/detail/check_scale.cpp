@@ -58,7 +58,8 @@ std::vector<Integer> scaled_coefficient_bounds(const Network& network, const Int
       next[i][0] = scaled_absolute(layer.bias[i]) * power[k];
       for (std::size_t j = 0; j < layer.fan_in(); ++j) {
         weight = scaled_absolute(layer.weights(i, j));
-        for (std::size_t t = 0; t <= n0; ++t) mpz_addmul(next[i][t].get_mpz_t(), weight.get_mpz_t(), inputs[j][t].get_mpz_t());
+        for (std::size_t t = 0; t <= n0; ++t)
+          mpz_addmul(next[i][t].get_mpz_t(), weight.get_mpz_t(), inputs[j][t].get_mpz_t());
       }
     }
     inputs = std::move(next);
@@ -80,7 +81,8 @@ std::vector<Integer> scaled_coefficient_bounds(const Network& network, const Int
     for (std::size_t m = 0; m < width; ++m)
       for (std::size_t i = 0; i < layer.fan_in(); ++i) {
         weight = scaled_absolute(layer.weights(m, i));
-        for (std::size_t o = 0; o < nd; ++o) mpz_addmul(previous[o][i].get_mpz_t(), signal[o][m].get_mpz_t(), weight.get_mpz_t());
+        for (std::size_t o = 0; o < nd; ++o)
+          mpz_addmul(previous[o][i].get_mpz_t(), signal[o][m].get_mpz_t(), weight.get_mpz_t());
       }
     signal = std::move(previous);
   }

@@ -337,14 +337,10 @@ std::vector<RowLift> row_groups(const ModularMatrix& image, const std::vector<st
 
 }  // namespace
 
-std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network& network,
-                                                                  const ModularNetwork& walk_network,
-                                                                  const std::vector<KeptRows>& kept, std::size_t rank,
-                                                                  const ModularMatrix& image,
-                                                                  const std::vector<std::size_t>& rows,
-                                                                  const std::vector<std::size_t>& leading,
-                                                                  std::size_t sparse_limit, unsigned threads,
-                                                                  const CheckScale* check_scale) {
+std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
+    const Network& network, const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,
+    const ModularMatrix& image, const std::vector<std::size_t>& rows, const std::vector<std::size_t>& leading,
+    std::size_t sparse_limit, unsigned threads, const CheckScale* check_scale) {
   constexpr std::size_t max_primes = 4096;
   const std::size_t columns = image.cols();
   std::vector<RowLift> lifts = row_groups(image, rows, leading, rank, sparse_limit);
@@ -452,17 +448,18 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
       }
     }
   }
-  std::vector<RationalVector> out(image.rows());
-  for (const RowLift& lift : lifts) {
+  std::vector<SparseRow> out(image.rows());
+  for (RowLift& lift : lifts) {
     if (!lift.is_stable) return std::nullopt;
     for (std::size_t j = 0; j < lift.rows.size(); ++j) {
-      RationalVector& row = out[lift.rows[j]];
-      row.assign(columns, Rational(0));
-      row[lift.leads[j]] = 1;
-      for (std::size_t m = 0; m < lift.support.size(); ++m) row[lift.support[m]] = (*lift.last)(j, m);
+      SparseRow& row = out[lift.rows[j]];
+      row.emplace_back(lift.leads[j], Rational(1));
+      for (std::size_t m = 0; m < lift.support.size(); ++m)
+        if (sgn((*lift.last)(j, m)) != 0) row.emplace_back(lift.support[m], std::move((*lift.last)(j, m)));
+      std::sort(row.begin(), row.end(), [](const auto& a, const auto& b) { return a.first < b.first; });
     }
   }
-  std::vector<RationalVector> ordered;
+  std::vector<SparseRow> ordered;
   for (std::size_t row : rows) ordered.push_back(std::move(out[row]));
   return ordered;
 }
@@ -541,11 +538,7 @@ std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     if (auto lifted =
             lift_rows_multimodular(network, walk_network, kept, rank, first_image, hard, leading, rank / 4, threads,
                                    &check_scale))
-      for (std::size_t h = 0; h < hard.size(); ++h) {
-        SparseRow& row = candidate_rows[hard[h]].emplace();
-        for (std::size_t c = 0; c < (*lifted)[h].size(); ++c)
-          if (sgn((*lifted)[h][c]) != 0) row.emplace_back(c, std::move((*lifted)[h][c]));
-      }
+      for (std::size_t h = 0; h < hard.size(); ++h) candidate_rows[hard[h]] = std::move((*lifted)[h]);
   }
   if (std::all_of(candidate_rows.begin(), candidate_rows.end(), [](const auto& row) { return row.has_value(); })) {
     candidate = SparseRationalRows{first_image.cols(), {}};

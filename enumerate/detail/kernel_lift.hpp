@@ -127,16 +127,12 @@ std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
 // (2 L^(d-1) max B_c: the kept rows' scaled entries are then exact integers
 // by Chinese remaindering) are solved exactly instead (FLINT's p-adic
 // solve), each group on its own thread; nullopt when one such system is
-// singular over Q. The rows in the order given, the same for any thread
-// count.
-std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network& network,
-                                                                  const ModularNetwork& walk_network,
-                                                                  const std::vector<KeptRows>& kept, std::size_t rank,
-                                                                  const ModularMatrix& image,
-                                                                  const std::vector<std::size_t>& rows,
-                                                                  const std::vector<std::size_t>& leading,
-                                                                  std::size_t sparse_limit, unsigned threads,
-                                                                  const CheckScale* check_scale = nullptr);
+// singular over Q. The rows (their nonzero entries, columns increasing) in
+// the order given, the same for any thread count.
+std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
+    const Network& network, const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,
+    const ModularMatrix& image, const std::vector<std::size_t>& rows, const std::vector<std::size_t>& leading,
+    std::size_t sparse_limit, unsigned threads, const CheckScale* check_scale = nullptr);
 
 // Whether E vanishes at the columns Q and is in reduced row-echelon form
 // with leading 1s: then S u E is independent whenever S restricted to Q is
