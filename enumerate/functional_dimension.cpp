@@ -464,19 +464,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // independent rows and Q is nonsingular over Q (core/jacobian.hpp).
     const std::vector<std::size_t>& scaling_pivots = scaling.pivot_columns;
     report("kernel", 0, 0);
-    // The image and the check's scale (exact blocks of |theta|) side by side
-    // on two threads; on one, the scale only when there is an image.
-    ModularMatrix first_image;
-    std::optional<detail::CheckScale> check_scale;
-    detail::parallel_for(threads > 1 ? 2 : 1, threads, [&](std::size_t task) {
-      if (task == 0)
-        first_image = detail::extra_directions_of_basis(basis, scaling_pivots);
-      else
-        check_scale.emplace(network);
-    });
-    RationalMatrix extra(0, parameters);
+    const ModularMatrix first_image = detail::extra_directions_of_basis(basis, scaling_pivots, threads);
+    detail::SparseRationalRows extra{parameters, {}};
     if (first_image.rows() > 0) {
-      if (!check_scale) check_scale.emplace(network);
+      const detail::CheckScale check_scale(network);
       const auto check_progress = [&](std::size_t done, std::size_t total) { report("check", done, total); };
       detail::CandidateProof across_proof;
       if (options.across)
@@ -484,7 +475,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
           return options.across->annihilates_every_region(candidate, threads, stop, is_stopped, check_progress);
         };
       auto proved = detail::lift_and_prove_extra_directions(
-          network, modular, scaling_pivots, kept, basis.rank(), first_image, smooth, *check_scale, threads, stop,
+          network, modular, scaling_pivots, kept, basis.rank(), first_image, smooth, check_scale, threads, stop,
           stopped, [&](std::size_t step) { report("kernel", step, 0); }, check_progress, across_proof);
       if (stopped)
         result.stop_reason = stop.reason() != StopReason::none || !options.across ? stop.reason()
@@ -497,10 +488,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // Independent: E is echelon and vanishes on Q (checked exactly here).
     if (!detail::is_echelon_off(extra, scaling_pivots)) return;
     result.lower_bound = basis.rank();
-    result.upper_bound = std::min(result.scaling_bound, parameters - scaling.rank - extra.rows());
+    result.upper_bound = std::min(result.scaling_bound, parameters - scaling.rank - extra.rows.size());
     if (options.keep_kernel)
-      result.kernel = stack_matrices(scaling_directions(network, scaling.independent_neurons), extra);
-    const std::size_t extra_count = extra.rows();
+      result.kernel = stack_matrices(scaling_directions(network, scaling.independent_neurons), extra.dense());
+    const std::size_t extra_count = extra.rows.size();
     result.extra_kernel = detail::name_extra_directions(network, activity, std::move(extra), threads, [&](std::size_t done) {
       report("naming", done, extra_count);
     });

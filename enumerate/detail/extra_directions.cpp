@@ -3,6 +3,7 @@
 #include "enumerate/detail/kernel_lift.hpp"
 
 #include "core/detail/flint_matrix.hpp"
+#include "enumerate/detail/parallel_for.hpp"
 
 #include <flint/nmod_mat.h>
 
@@ -10,6 +11,26 @@
 #include <vector>
 
 namespace pleat::detail {
+namespace {
+
+// out = left right, the rows of left split among up to `threads` threads
+// (FLINT's product runs on one): each block's product is written to its own
+// rows of out, the same for any thread count.
+void multiply_by_row_blocks(NmodMatrix& out, NmodMatrix& left, NmodMatrix& right, unsigned threads) {
+  const auto rows = static_cast<std::size_t>(nmod_mat_nrows(left.get()));
+  const std::size_t blocks = std::clamp<std::size_t>(rows / 16, 1, std::max(1u, threads));
+  parallel_for(blocks, threads, [&](std::size_t b) {
+    const auto first = static_cast<slong>(rows * b / blocks), last = static_cast<slong>(rows * (b + 1) / blocks);
+    nmod_mat_t left_rows, out_rows;
+    nmod_mat_window_init(left_rows, left.get(), first, 0, last, nmod_mat_ncols(left.get()));
+    nmod_mat_window_init(out_rows, out.get(), first, 0, last, nmod_mat_ncols(out.get()));
+    nmod_mat_mul(out_rows, left_rows, right.get());
+    nmod_mat_window_clear(out_rows);
+    nmod_mat_window_clear(left_rows);
+  });
+}
+
+}  // namespace
 
 std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon) {
   std::vector<std::size_t> leads;
@@ -38,7 +59,8 @@ ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vec
   return extra;
 }
 
-ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots) {
+ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots,
+                                        unsigned threads) {
   const ModularMatrix rows = basis.rows();
   const std::vector<std::size_t>& pivots = basis.pivot_columns();
   const std::size_t columns = rows.cols(), rank = pivots.size();
@@ -90,7 +112,7 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
       for (std::size_t t = 0; t < touched.size(); ++t)
         nmod_mat_entry(right.get(), static_cast<slong>(t), static_cast<slong>(i)) = rows(i, touched[t]);
     poll_stop();
-    nmod_mat_mul(at_pivots.get(), left.get(), right.get());
+    multiply_by_row_blocks(at_pivots, left, right, threads);
     for (std::size_t a = 0; a < dimension; ++a) {
       for (std::size_t t = 0; t < touched.size(); ++t) spanning(a, touched[t]) = combinations(a, t);
       for (std::size_t i = 0; i < rank; ++i) {
@@ -115,21 +137,26 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
   return extra;
 }
 
-bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>& columns) {
-  std::vector<bool> is_excluded(extra.cols(), false);
-  for (std::size_t c : columns) is_excluded[c] = true;
-  std::size_t previous = 0;
-  for (std::size_t r = 0; r < extra.rows(); ++r) {
+bool is_echelon_off(const SparseRationalRows& extra, const std::vector<std::size_t>& columns) {
+  std::vector<char> is_excluded(extra.cols, 0), is_lead(extra.cols, 0);
+  for (std::size_t c : columns) is_excluded[c] = 1;
+  // Leading 1s at increasing columns, none of them excluded.
+  for (std::size_t r = 0; r < extra.rows.size(); ++r) {
     poll_stop();
-    std::size_t lead = 0;
-    while (lead < extra.cols() && extra(r, lead) == 0) ++lead;
-    if (lead == extra.cols() || extra(r, lead) != 1 || (r > 0 && lead <= previous)) return false;
-    for (std::size_t other = 0; other < extra.rows(); ++other)
-      if (other != r && extra(other, lead) != 0) return false;
-    for (std::size_t c : columns)
-      if (extra(r, c) != 0) return false;
-    previous = lead;
+    const SparseRationalRows::Row& row = extra.rows[r];
+    if (row.empty() || row.front().second != 1) return false;
+    const std::size_t lead = row.front().first;
+    if (lead >= extra.cols || (r > 0 && lead <= extra.rows[r - 1].front().first)) return false;
+    is_lead[lead] = 1;
   }
+  // Each row 0 at the other rows' leads and at the excluded columns (its
+  // entries are its nonzeros, increasing: the first is its own lead).
+  for (const SparseRationalRows::Row& row : extra.rows)
+    for (std::size_t e = 0; e < row.size(); ++e) {
+      const std::size_t c = row[e].first;
+      if (c >= extra.cols || is_excluded[c] || (e > 0 && (is_lead[c] || c <= row[e - 1].first))) return false;
+      if (sgn(row[e].second) == 0) return false;
+    }
   return true;
 }
 

@@ -132,24 +132,26 @@ void recognise_mechanism(const std::vector<MechanismCover>& covers, const std::v
 }  // namespace
 
 std::vector<ExtraKernelDirection> name_extra_directions(const Network& network, const NeuronActivity& activity,
-                                                        RationalMatrix&& extra, unsigned threads,
+                                                        SparseRationalRows&& extra, unsigned threads,
                                                         const std::function<void(std::size_t)>& progress) {
   const std::vector<MechanismCover> covers = mechanism_covers(network, activity);
-  std::vector<ExtraKernelDirection> named(extra.rows());
+  const std::size_t rows = extra.rows.size();
+  std::vector<ExtraKernelDirection> named(rows);
   const std::size_t chunk = 64 * static_cast<std::size_t>(std::max(1u, threads));
-  for (std::size_t start = 0; start < extra.rows(); start += chunk) {
+  for (std::size_t start = 0; start < rows; start += chunk) {
     poll_stop();
     progress(start);
-    const std::size_t count = std::min(chunk, extra.rows() - start);
+    const std::size_t count = std::min(chunk, rows - start);
     parallel_for(count, threads, [&](std::size_t i) {
       const std::size_t r = start + i;
       ExtraKernelDirection& direction = named[r];
       std::vector<std::size_t> support;
-      direction.vector.reserve(extra.cols());
-      for (std::size_t c = 0; c < extra.cols(); ++c) {
-        if (sgn(extra(r, c)) != 0) support.push_back(c);
-        direction.vector.push_back(std::move(extra(r, c)));  // each row is read by this call only
+      direction.vector.resize(extra.cols);
+      for (auto& [c, value] : extra.rows[r]) {  // each row is read by this call only
+        support.push_back(c);
+        swap(direction.vector[c], value);
       }
+      extra.rows[r] = {};
       recognise_mechanism(covers, support, direction);
     });
   }

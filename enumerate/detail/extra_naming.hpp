@@ -6,6 +6,7 @@
 #include "core/matrix.hpp"
 #include "core/network.hpp"
 #include "core/pattern.hpp"
+#include "enumerate/detail/kernel_check.hpp"
 #include "enumerate/functional_dimension.hpp"
 
 #include <cstddef>
@@ -24,15 +25,15 @@ struct NeuronActivity {
   }
 };
 
-// Each extra direction (a row of extra, moved out of it: no copy) with its
-// mechanism, named on up to `threads` threads in chunks (progress(done)
+// Each extra direction (a row of extra, its nonzero entries moved out of it
+// into the dense vector) with its mechanism, named on up to `threads` threads in chunks (progress(done)
 // between chunks, from the calling thread, which also polls the stop
 // request). The same for any thread count; the names depend only on the
 // vectors' supports, the network's parameters and the activity: the first
 // of zero outgoing weights, dead neuron, always-active neuron and duplicate
 // neurons whose neurons' parameters hold the whole support. Exact.
 std::vector<ExtraKernelDirection> name_extra_directions(const Network& network, const NeuronActivity& activity,
-                                                        RationalMatrix&& extra, unsigned threads,
+                                                        SparseRationalRows&& extra, unsigned threads,
                                                         const std::function<void(std::size_t)>& progress);
 
 }  // namespace pleat::detail

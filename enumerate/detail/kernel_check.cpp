@@ -4,6 +4,7 @@
 #include <flint/ulong_extras.h>
 
 #include <algorithm>
+#include <array>
 #include <atomic>
 #include <exception>
 #include <mutex>
@@ -14,53 +15,20 @@
 namespace pleat::detail {
 namespace {
 
-// B with |row_c| <= B_c for every coefficient-block row of every pattern:
-// the entries are sums of products of parameters (core/jacobian.hpp: only
-// additions and multiplications, patterns only drop terms), so the blocks of
-// the network of |theta| with every neuron on bound them entrywise. Exact.
-RationalVector coefficient_bounds(const Network& network) {
-  Network absolute = network;
-  for (Layer& layer : absolute.layers) {
-    for (std::size_t r = 0; r < layer.weights.rows(); ++r)
-      for (std::size_t c = 0; c < layer.weights.cols(); ++c) layer.weights(r, c) = abs(layer.weights(r, c));
-    for (Rational& b : layer.bias) b = abs(b);
-  }
-  ActivationPattern all_on;
-  all_on.states.assign(network.relu_neuron_count(), NeuronState::on);
-  const RationalMatrix blocks = coefficient_blocks(absolute, all_on);
-  RationalVector bound(blocks.cols(), Rational(0));
-  for (std::size_t r = 0; r < blocks.rows(); ++r)
-    for (std::size_t c = 0; c < blocks.cols(); ++c)
-      if (blocks(r, c) > bound[c]) bound[c] = blocks(r, c);
-  return bound;
-}
-
-// The least common multiple of every parameter's denominator.
-Integer denominator_lcm(const Network& network) {
-  Integer lcm = 1;
-  for (const Layer& layer : network.layers) {
-    for (std::size_t r = 0; r < layer.weights.rows(); ++r)
-      for (std::size_t c = 0; c < layer.weights.cols(); ++c)
-        mpz_lcm(lcm.get_mpz_t(), lcm.get_mpz_t(), layer.weights(r, c).get_den_mpz_t());
-    for (const Rational& b : layer.bias) mpz_lcm(lcm.get_mpz_t(), lcm.get_mpz_t(), b.get_den_mpz_t());
-  }
-  return lcm;
-}
-
-// Row r's nonzero entries (column, value) scaled by a positive number to a
-// primitive integer vector (the zero entries cost nothing: most extra
-// directions have a handful of nonzeros among thousands), read in place.
-std::vector<std::pair<std::size_t, Integer>> primitive_integer_entries(const RationalMatrix& rows, std::size_t r) {
+// A row's entries scaled by a positive number to a primitive integer
+// vector (the scale does not change which combinations vanish).
+std::vector<std::pair<std::size_t, Integer>> primitive_integer_entries(const SparseRationalRows::Row& row) {
   Integer scale = 1, content = 0;
   std::vector<std::pair<std::size_t, Integer>> out;
-  for (std::size_t c = 0; c < rows.cols(); ++c)
-    if (sgn(rows(r, c)) != 0) {
-      mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), rows(r, c).get_den_mpz_t());
-      out.emplace_back(c, 0);
-    }
-  for (auto& [c, value] : out) {
-    mpz_divexact(value.get_mpz_t(), scale.get_mpz_t(), rows(r, c).get_den_mpz_t());
-    value *= rows(r, c).get_num();
+  out.reserve(row.size());
+  for (const auto& [c, value] : row) {
+    mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), value.get_den_mpz_t());
+    out.emplace_back(c, 0);
+  }
+  for (std::size_t e = 0; e < row.size(); ++e) {
+    Integer& value = out[e].second;
+    mpz_divexact(value.get_mpz_t(), scale.get_mpz_t(), row[e].second.get_den_mpz_t());
+    value *= row[e].second.get_num();
     mpz_gcd(content.get_mpz_t(), content.get_mpz_t(), value.get_mpz_t());
   }
   if (content > 1)
@@ -87,37 +55,99 @@ struct RegionFactors {
 
 __extension__ typedef unsigned __int128 Wide;
 
+// A 128-bit value modulo a prime, inline (FLINT's NMOD2_RED2: the high word
+// first, then both; no call into the library for each of the check's many
+// small sums).
+[[gnu::always_inline]] inline std::uint64_t reduce_wide(Wide value, const nmod_t& mod) {
+  std::uint64_t reduced;
+  const std::uint64_t high = static_cast<std::uint64_t>(value >> 64), low = static_cast<std::uint64_t>(value);
+  if (high < mod.n)
+    NMOD_RED2(reduced, high, low, mod);
+  else
+    NMOD2_RED2(reduced, high, low, mod);
+  return reduced;
+}
+
+// How many products of residues a 128-bit sum may take between reductions:
+// below 2^62 (every prime this check uses) 15 products of residues stay
+// below 15 * 2^124, which with the running residue fits in 128 bits; below
+// 2^63, 3 do.
+unsigned products_between_reductions(std::uint64_t prime) { return prime < (std::uint64_t{1} << 62) ? 15 : 3; }
+
+// Runs body.template operator()<Inputs>() with Inputs = n0 for the common
+// 1 to 3 network inputs, else 0 (n0 read at run time): with n0 known at
+// compile time the n0 + 1 sums of a row below stay in registers.
+template <typename Body>
+decltype(auto) with_input_count(std::size_t n0, Body&& body) {
+  switch (n0) {
+    case 1: return body.template operator()<1>();
+    case 2: return body.template operator()<2>();
+    case 3: return body.template operator()<3>();
+    default: return body.template operator()<0>();
+  }
+}
+
 // A sum of products of residues modulo a prime, in 128 bits, reduced only
-// when more products could overflow: below 2^62 (every prime this check
-// uses) 15 products of residues stay below 15 * 2^124, which with the
-// running residue fits in 128 bits; below 2^63, 3 do.
+// when more products could overflow.
 class LazySum {
  public:
-  LazySum(std::uint64_t prime, std::uint64_t inverse)
-      : prime_(prime), inverse_(inverse), limit_(prime < (std::uint64_t{1} << 62) ? 15 : 3) {}
+  explicit LazySum(const nmod_t& mod) : mod_(mod), limit_(products_between_reductions(mod.n)) {}
   void add(std::uint64_t a, std::uint64_t b) {
     sum_ += static_cast<Wide>(a) * b;
     if (++pending_ == limit_) fold();
   }
   std::uint64_t value() {
     fold();
-    return reduced_;
+    return static_cast<std::uint64_t>(sum_);
   }
 
  private:
   void fold() {
-    sum_ += reduced_;
-    reduced_ = n_ll_mod_preinv(static_cast<std::uint64_t>(sum_ >> 64), static_cast<std::uint64_t>(sum_), prime_,
-                               inverse_);
-    sum_ = 0;
+    sum_ = reduce_wide(sum_, mod_);
     pending_ = 0;
   }
-  std::uint64_t prime_, inverse_;
+  const nmod_t& mod_;
   unsigned limit_;
   Wide sum_ = 0;
-  std::uint64_t reduced_ = 0;
   unsigned pending_ = 0;
 };
+
+// The next layer's inputs at its passing neurons: each neuron's offset and
+// n0 slopes in one pass over its inputs (each weight read once), summed
+// lazily. Inputs: n0 when known at compile time, else 0.
+template <std::size_t Inputs>
+void layer_inputs(const ModularMatrix& weights, const std::vector<std::uint64_t>& bias,
+                  const std::vector<std::size_t>& inputs, const std::vector<std::size_t>& passing,
+                  const std::vector<std::uint64_t>& in_offset, const std::vector<std::uint64_t>& in_linear,
+                  std::vector<std::uint64_t>& offset, std::vector<std::uint64_t>& linear, std::size_t n0_at_run_time,
+                  const nmod_t& mod) {
+  const std::size_t n0 = Inputs > 0 ? Inputs : n0_at_run_time;
+  const unsigned limit = products_between_reductions(mod.n);
+  std::array<Wide, Inputs + 1> fixed{};
+  Wide* sums = fixed.data();
+  if constexpr (Inputs == 0) {
+    thread_local std::vector<Wide> buffer;
+    buffer.resize(n0 + 1);
+    sums = buffer.data();
+  }
+  for (std::size_t i : passing) {
+    std::fill(sums, sums + n0 + 1, Wide{0});
+    sums[0] = bias[i];
+    unsigned pending = 0;
+    for (std::size_t j : inputs) {
+      const std::uint64_t w = weights(i, j);
+      sums[0] += static_cast<Wide>(w) * in_offset[j];
+      const std::uint64_t* slopes = in_linear.data() + j * n0;
+      for (std::size_t t = 0; t < n0; ++t) sums[t + 1] += static_cast<Wide>(w) * slopes[t];
+      if (++pending == limit) {
+        for (std::size_t t = 0; t <= n0; ++t) sums[t] = reduce_wide(sums[t], mod);
+        pending = 0;
+      }
+    }
+    offset[i] = static_cast<std::uint64_t>(reduce_wide(sums[0], mod));
+    for (std::size_t t = 0; t < n0; ++t) linear[i * n0 + t] = reduce_wide(sums[t + 1], mod);
+  }
+}
 
 // Fills factors with the region's layer inputs for layers 0..forward_to and
 // its backward signals for layers backward_to..depth-1 (what the columns a
@@ -129,7 +159,8 @@ class LazySum {
 // this one on every neuron of those layers (same network and forward_to).
 void region_factors(const ModularNetwork& network, const ActivationPattern& pattern, std::size_t forward_to,
                     std::size_t backward_to, RegionFactors& factors, std::size_t reuse_below = 0) {
-  const std::uint64_t prime = network.prime, inverse = n_preinvert_limb(prime);
+  nmod_t mod;
+  nmod_init(&mod, network.prime);
   const std::size_t depth = network.weights.size(), n0 = network.input_dim;
   const std::size_t nd = network.bias.back().size();
   factors.passing.resize(depth);
@@ -167,17 +198,10 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
       }
       continue;
     }
-    for (std::size_t i : factors.passing[k]) {
-      LazySum value(prime, inverse);
-      value.add(network.bias[k][i], 1);
-      for (std::size_t j : inputs) value.add(weights(i, j), in_offset[j]);
-      offset[i] = value.value();
-      for (std::size_t t = 0; t < n0; ++t) {
-        LazySum slope(prime, inverse);
-        for (std::size_t j : inputs) slope.add(weights(i, j), in_linear[j * n0 + t]);
-        linear[i * n0 + t] = slope.value();
-      }
-    }
+    with_input_count(n0, [&]<std::size_t Inputs>() {
+      layer_inputs<Inputs>(weights, network.bias[k], inputs, factors.passing[k], in_offset, in_linear, offset, linear,
+                           n0, mod);
+    });
   }
   for (std::size_t k = depth; k-- > backward_to;) {
     const std::size_t width = network.weights[k].rows();
@@ -197,7 +221,7 @@ void region_factors(const ModularNetwork& network, const ActivationPattern& patt
     }
     for (std::size_t o = 0; o < nd; ++o)
       for (std::size_t i : factors.passing[k]) {
-        LazySum value(prime, inverse);
+        LazySum value(mod);
         for (std::size_t m : factors.passing[k + 1]) value.add(next_signal[o * next_width + m], next_weights(m, i));
         signal[o * width + i] = value.value();
       }
@@ -262,17 +286,9 @@ void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern&
   }
 }
 
-CheckScale::CheckScale(const Network& network) : bounds(coefficient_bounds(network)) {
-  // Every entry is a sum of products of at most depth - 1 parameters (one
-  // per layer but its own column's) with integer coefficients: L^(depth-1)
-  // clears every denominator.
-  const Integer lcm = denominator_lcm(network);
-  for (std::size_t k = 1; k < network.depth(); ++k) scale *= lcm;
-}
-
-AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatrix& vectors,
+AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationalRows& vectors,
                                      const CheckScale& check_scale, unsigned threads)
-    : vector_count_(vectors.rows()) {
+    : vector_count_(vectors.rows.size()) {
   static std::atomic<std::uint64_t> checks{0};
   id_ = ++checks;
   for (std::size_t k = 0; k < network.depth(); ++k)
@@ -285,20 +301,23 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatri
       for (std::size_t j = 0; j < layer.fan_in(); ++j) columns_.push_back({k, i, j});
     for (std::size_t i = 0; i < layer.width(); ++i) columns_.push_back({k, i, ColumnRole::bias});
   }
-  const RationalVector& bounds = check_scale.bounds;
-  const Rational scale(check_scale.scale);
-  std::vector<std::vector<std::pair<std::size_t, Integer>>> integer_rows(vectors.rows());
-  std::vector<Rational> needed(vectors.rows());  // each vector's bound: primes until their product exceeds it
+  const std::vector<Integer>& bounds = check_scale.scaled_bounds;
+  std::vector<std::vector<std::pair<std::size_t, Integer>>> integer_rows(vector_count_);
+  // Each vector's bound L^(d-1) sum_c B_c |e_c|: primes until their product exceeds it.
+  std::vector<Integer> needed(vector_count_, 0);
   // Thousands of vectors and, on deep networks, hundreds of primes: poll
   // the current thread's stop request (a no-op without a StopScope).
-  parallel_for(vectors.rows(), threads, [&](std::size_t r) {
+  parallel_for(vector_count_, threads, [&](std::size_t r) {
     poll_stop();
-    integer_rows[r] = primitive_integer_entries(vectors, r);
-    Rational sum = 0;
-    for (const auto& [c, value] : integer_rows[r]) sum += bounds[c] * Rational(abs(value));
-    needed[r] = sum * scale;
+    integer_rows[r] = primitive_integer_entries(vectors.rows[r]);
+    Integer& sum = needed[r];
+    for (const auto& [c, value] : integer_rows[r])
+      if (sgn(value) > 0)
+        mpz_addmul(sum.get_mpz_t(), bounds[c].get_mpz_t(), value.get_mpz_t());
+      else
+        mpz_submul(sum.get_mpz_t(), bounds[c].get_mpz_t(), value.get_mpz_t());
   });
-  const Rational largest = *std::max_element(needed.begin(), needed.end());
+  const Integer largest = *std::max_element(needed.begin(), needed.end());
   // Each vector is reduced modulo the first primes whose product exceeds its
   // own bound only: a vector with small entries (most extra directions)
   // costs one or two primes even when another needs dozens. The primes and
@@ -307,14 +326,13 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const RationalMatri
   std::vector<std::uint64_t> primes;
   std::vector<std::vector<std::size_t>> checked;  // by each prime: the vectors
   Integer product = 1;
-  for (std::size_t index = 0; Rational(product) <= largest; ++index) {
+  for (std::size_t index = 0; product <= largest; ++index) {
     poll_stop();
     const std::uint64_t prime = prime_sequence(index);
-    if (!reduce_modulo(network, prime)) continue;  // the prime divides a denominator
+    if (mpz_divisible_ui_p(check_scale.lcm.get_mpz_t(), prime)) continue;  // the prime divides a denominator
     std::vector<std::size_t> open;
-    const Rational reached(product);
     for (std::size_t v = 0; v < integer_rows.size(); ++v)
-      if (reached <= needed[v]) open.push_back(v);  // not proved by the primes before
+      if (product <= needed[v]) open.push_back(v);  // not proved by the primes before
     primes.push_back(prime);
     checked.push_back(std::move(open));
     product *= Integer(static_cast<unsigned long>(prime));
@@ -351,31 +369,42 @@ namespace {
 // pattern's blocks modulo a prime is 0 for every one of them: row t's entry
 // at W_k[i,j] is G_k[o,i] x_t[j] (x_0 the offset, x_t the slope t), at b_k[i]
 // G_k[o,i] on row 0 and 0 on the others. A vector with one entry needs no
-// product (a prime field has no zero divisors); a longer one multiplies
-// each entry by x_t[j] with its Shoup quotient (the entry is fixed, the
-// region changes) and sums the products with G lazily: one reduction per
-// vector and row.
-template <typename Entry>
+// product (a prime field has no zero divisors); a longer one is read once
+// for all n0 + 1 rows: each entry's value times G_k[o,i] by Shoup's method
+// (the entry is fixed, the region changes), then that times x_t[j] for
+// every t, summed lazily in 128 bits: one reduction per vector and row.
+template <std::size_t Inputs, typename Entry>
 bool annihilates_rows(const std::vector<Entry>& vector, const RegionFactors& factors, const ModularNetwork& network,
-                      std::size_t o, std::uint64_t inverse) {
-  const std::size_t n0 = network.input_dim;
-  const std::uint64_t prime = network.prime;
-  for (std::size_t t = 0; t <= n0; ++t) {
-    LazySum sum(prime, inverse);
-    for (const auto& entry : vector) {
-      const auto& role = entry.role;
-      const std::uint64_t g = factors.signal[role.layer][o * entry.width + role.neuron];
-      if (g == 0) continue;
-      if (role.input == static_cast<std::size_t>(-1)) {
-        if (t == 0) sum.add(g, entry.value);
-        continue;
-      }
-      const std::uint64_t x =
-          t == 0 ? factors.offset[role.layer][role.input] : factors.linear[role.layer][role.input * n0 + (t - 1)];
-      if (x != 0) sum.add(g, n_mulmod_shoup(entry.value, x, entry.shoup, prime));
-    }
-    if (sum.value() != 0) return false;
+                      std::size_t o, const nmod_t& mod) {
+  const std::size_t n0 = Inputs > 0 ? Inputs : network.input_dim;
+  const unsigned limit = products_between_reductions(network.prime);
+  std::array<Wide, Inputs + 1> fixed{};
+  Wide* sums = fixed.data();
+  if constexpr (Inputs == 0) {
+    thread_local std::vector<Wide> buffer;
+    buffer.assign(n0 + 1, 0);
+    sums = buffer.data();
   }
+  unsigned pending = 0;
+  for (const auto& entry : vector) {
+    const auto& role = entry.role;
+    const std::uint64_t g = factors.signal[role.layer][o * entry.width + role.neuron];
+    if (g == 0) continue;
+    const std::uint64_t scaled = n_mulmod_shoup(entry.value, g, entry.shoup, network.prime);
+    if (role.input == static_cast<std::size_t>(-1)) {
+      sums[0] += scaled;
+    } else {
+      sums[0] += static_cast<Wide>(scaled) * factors.offset[role.layer][role.input];
+      const std::uint64_t* slopes = factors.linear[role.layer].data() + role.input * n0;
+      for (std::size_t t = 0; t < n0; ++t) sums[t + 1] += static_cast<Wide>(scaled) * slopes[t];
+    }
+    if (++pending == limit) {
+      for (std::size_t t = 0; t <= n0; ++t) sums[t] = reduce_wide(sums[t], mod);
+      pending = 0;
+    }
+  }
+  for (std::size_t t = 0; t <= n0; ++t)
+    if (reduce_wide(sums[t], mod) != 0) return false;
   return true;
 }
 
@@ -412,7 +441,8 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
     const Modulus& modulus = moduli_[m];
     poll_stop();
     if (modulus.vectors.empty() && modulus.units.empty()) continue;
-    const std::uint64_t inverse = n_preinvert_limb(modulus.network.prime);
+    nmod_t mod;
+    nmod_init(&mod, modulus.network.prime);
     RegionFactors& factors = reuse.factors[m];
     std::vector<NeuronState>& last = reuse.patterns[m];
     // The inputs of the layers before the first neuron that differs from
@@ -431,8 +461,12 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
     for (std::size_t o = 0; o < nd; ++o) {
       for (const Entry& unit : modulus.units)
         if (!annihilates_rows(unit, factors, n0, o)) return false;
-      for (const auto& vector : modulus.vectors)
-        if (!annihilates_rows(vector, factors, modulus.network, o, inverse)) return false;
+      const bool vectors_pass = with_input_count(n0, [&]<std::size_t Inputs>() {
+        for (const auto& vector : modulus.vectors)
+          if (!annihilates_rows<Inputs>(vector, factors, modulus.network, o, mod)) return false;
+        return true;
+      });
+      if (!vectors_pass) return false;
     }
   }
   return true;

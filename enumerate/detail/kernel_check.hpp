@@ -20,13 +20,29 @@
 
 namespace pleat::detail {
 
-// What the check's bound needs from the network alone: B with |row_c| <= B_c
-// for every coefficient-block row of every pattern, and L^(d-1) (L the lcm of
-// the parameters' denominators, d the depth), which clears every entry's
-// denominators. Computed once, shared by every candidate checked. Exact.
+// Rational rows kept by their nonzero entries: certify's extra directions
+// are mostly one or two entries among thousands of columns, and a dense
+// RationalMatrix of them costs a GMP allocation per entry (several, as it is
+// copied and moved). Each row's entries (column, value): columns
+// increasing, values nonzero. Exact.
+struct SparseRationalRows {
+  using Row = std::vector<std::pair<std::size_t, Rational>>;
+  std::size_t cols = 0;
+  std::vector<Row> rows;
+
+  static SparseRationalRows from_dense(const RationalMatrix& dense);
+  RationalMatrix dense() const;
+  friend bool operator==(const SparseRationalRows&, const SparseRationalRows&) = default;
+};
+
+// What the check's bound needs from the network alone: L (the lcm of the
+// parameters' denominators) and L^(d-1) (d the depth), which clears every
+// coefficient-block entry's denominators, and L^(d-1) B_c with |row_c| <=
+// B_c for every coefficient-block row of every pattern (integers). Computed
+// once, shared by every candidate checked. Exact.
 struct CheckScale {
-  RationalVector bounds;
-  Integer scale = 1;
+  std::vector<Integer> scaled_bounds;
+  Integer lcm = 1, scale = 1;
   explicit CheckScale(const Network& network);
 };
 
@@ -43,8 +59,11 @@ class AnnihilationCheck {
   // Polls the current thread's stop request (poll_stop) while it reduces the
   // vectors modulo each prime, on up to `threads` threads (the same check
   // for any number).
-  AnnihilationCheck(const Network& network, const RationalMatrix& vectors, const CheckScale& check_scale,
+  AnnihilationCheck(const Network& network, const SparseRationalRows& vectors, const CheckScale& check_scale,
                     unsigned threads = 1);
+  AnnihilationCheck(const Network& network, const RationalMatrix& vectors, const CheckScale& check_scale,
+                    unsigned threads = 1)
+      : AnnihilationCheck(network, SparseRationalRows::from_dense(vectors), check_scale, threads) {}
   std::size_t primes() const { return moduli_.size(); }
   // True exactly when every vector annihilates every row of the pattern's
   // blocks. Exact; polls the current thread's stop request. The products are

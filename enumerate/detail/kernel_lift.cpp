@@ -69,8 +69,7 @@ std::optional<std::vector<RationalVector>> solve_square(const RationalMatrix& ro
   return out;
 }
 
-// A row's nonzero entries (column, value), increasing.
-using SparseRow = std::vector<std::pair<std::size_t, Rational>>;
+using SparseRow = SparseRationalRows::Row;
 
 // Rows of the image modulo p whose every entry is a fraction with numerator
 // and denominator below 2^24 in absolute value (rational reconstruction with
@@ -173,22 +172,26 @@ ModularMatrix kept_rows_modulo(const ModularNetwork& network, const std::vector<
 }
 
 // |columns| rows of `rows` (residues modulo p) independent on those columns:
-// the pivot columns of the transposed restriction's echelon form; nullopt
-// when there are not that many.
+// the first such rows in order (each kept when it raises the rank of those
+// before on the columns; the same rows as the pivots of the transposed
+// restriction's echelon form), stopping once there are enough: about
+// |columns|^2 per row looked at instead of an elimination over every row;
+// nullopt when there are not that many.
 std::optional<std::vector<std::size_t>> independent_rows(const ModularMatrix& rows,
                                                          const std::vector<std::size_t>& columns, std::uint64_t prime) {
-  NmodMatrix transposed(columns.size(), rows.rows(), prime);
-  for (std::size_t q = 0; q < columns.size(); ++q)
-    for (std::size_t r = 0; r < rows.rows(); ++r)
-      nmod_mat_entry(transposed.get(), static_cast<slong>(q), static_cast<slong>(r)) = rows(r, columns[q]);
-  poll_stop();
-  if (static_cast<std::size_t>(nmod_mat_rref(transposed.get())) != columns.size()) return std::nullopt;
+  ModularRowBasis chosen_rows(prime, columns.size());
   std::vector<std::size_t> chosen;
-  std::size_t r = 0;
-  for (std::size_t q = 0; q < columns.size(); ++q) {
-    while (nmod_mat_entry(transposed.get(), static_cast<slong>(q), static_cast<slong>(r)) == 0) ++r;
-    chosen.push_back(r);
+  ModularVector restricted(columns.size());
+  for (std::size_t r = 0; r < rows.rows() && chosen.size() < columns.size(); ++r) {
+    if (r % 64 == 0) poll_stop();
+    bool is_zero = true;
+    for (std::size_t q = 0; q < columns.size(); ++q) {
+      restricted[q] = rows(r, columns[q]);
+      is_zero = is_zero && restricted[q] == 0;
+    }
+    if (!is_zero && chosen_rows.add_row(restricted)) chosen.push_back(r);
   }
+  if (chosen.size() != columns.size()) return std::nullopt;
   return chosen;
 }
 
@@ -334,14 +337,10 @@ std::vector<RowLift> row_groups(const ModularMatrix& image, const std::vector<st
 
 }  // namespace
 
-std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network& network,
-                                                                  const ModularNetwork& walk_network,
-                                                                  const std::vector<KeptRows>& kept, std::size_t rank,
-                                                                  const ModularMatrix& image,
-                                                                  const std::vector<std::size_t>& rows,
-                                                                  const std::vector<std::size_t>& leading,
-                                                                  std::size_t sparse_limit, unsigned threads,
-                                                                  const CheckScale* check_scale) {
+std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
+    const Network& network, const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,
+    const ModularMatrix& image, const std::vector<std::size_t>& rows, const std::vector<std::size_t>& leading,
+    std::size_t sparse_limit, unsigned threads, const CheckScale* check_scale) {
   constexpr std::size_t max_primes = 4096;
   const std::size_t columns = image.cols();
   std::vector<RowLift> lifts = row_groups(image, rows, leading, rank, sparse_limit);
@@ -369,12 +368,9 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
   const std::size_t batch = std::max(1u, threads);
   // With the check's scale: the product the further primes must exceed for
   // the exact solve (twice the largest scaled entry), and theirs so far.
-  std::optional<Rational> exact_bound;
-  if (check_scale) {
-    Rational largest = 0;
-    for (const Rational& bound : check_scale->bounds) largest = std::max(largest, bound);
-    exact_bound = 2 * largest * Rational(check_scale->scale);
-  }
+  std::optional<Integer> exact_bound;
+  if (check_scale)
+    exact_bound = Integer(2 * *std::max_element(check_scale->scaled_bounds.begin(), check_scale->scaled_bounds.end()));
   Integer product = 1;
   for (std::size_t index = 0, used = 0; used < max_primes;) {
     poll_stop();
@@ -433,10 +429,15 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
       // group on its own thread. Where this happens depends on the primes
       // alone: the same for any thread count.
       product *= Integer(static_cast<unsigned long>(prime));
-      if (exact_bound && Rational(product) > *exact_bound) {
+      if (exact_bound && product > *exact_bound) {
         std::vector<std::size_t> still_open;
         for (std::size_t i = 0; i < lifts.size(); ++i)
           if (!lifts[i].is_stable) still_open.push_back(i);
+        // The largest systems first, so that the one that takes longest
+        // (the rows with many nonzeros together) does not start last.
+        std::stable_sort(still_open.begin(), still_open.end(), [&](std::size_t a, std::size_t b) {
+          return lifts[a].support.size() > lifts[b].support.size();
+        });
         std::vector<char> solved(still_open.size(), 0);
         parallel_for(still_open.size(), threads, [&](std::size_t o) {
           solved[o] = solve_rows_exactly(lifts[still_open[o]], check_scale->scale) ? 1 : 0;
@@ -447,17 +448,18 @@ std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network&
       }
     }
   }
-  std::vector<RationalVector> out(image.rows());
-  for (const RowLift& lift : lifts) {
+  std::vector<SparseRow> out(image.rows());
+  for (RowLift& lift : lifts) {
     if (!lift.is_stable) return std::nullopt;
     for (std::size_t j = 0; j < lift.rows.size(); ++j) {
-      RationalVector& row = out[lift.rows[j]];
-      row.assign(columns, Rational(0));
-      row[lift.leads[j]] = 1;
-      for (std::size_t m = 0; m < lift.support.size(); ++m) row[lift.support[m]] = (*lift.last)(j, m);
+      SparseRow& row = out[lift.rows[j]];
+      row.emplace_back(lift.leads[j], Rational(1));
+      for (std::size_t m = 0; m < lift.support.size(); ++m)
+        if (sgn((*lift.last)(j, m)) != 0) row.emplace_back(lift.support[m], std::move((*lift.last)(j, m)));
+      std::sort(row.begin(), row.end(), [](const auto& a, const auto& b) { return a.first < b.first; });
     }
   }
-  std::vector<RationalVector> ordered;
+  std::vector<SparseRow> ordered;
   for (std::size_t row : rows) ordered.push_back(std::move(out[row]));
   return ordered;
 }
@@ -510,14 +512,14 @@ std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
   return extra;
 }
 
-std::optional<RationalMatrix> lift_and_prove_extra_directions(
+std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
     const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
     const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
     const StopRequest& stop, bool& stopped, const LiftProgress& lift_progress,
     const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere) {
-  auto is_proved = [&](const RationalMatrix& candidate) {
-    if (prove_elsewhere) return prove_elsewhere(candidate, stopped) && !stopped;
+  auto is_proved = [&](const SparseRationalRows& candidate) {
+    if (prove_elsewhere) return prove_elsewhere(candidate.dense(), stopped) && !stopped;
     const AnnihilationCheck check(network, candidate, check_scale, threads);
     return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress) && !stopped;
   };
@@ -530,30 +532,18 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
   std::vector<std::size_t> hard;
   for (std::size_t j = 0; j < candidate_rows.size(); ++j)
     if (!candidate_rows[j]) hard.push_back(j);
-  std::optional<RationalMatrix> candidate;
+  std::optional<SparseRationalRows> candidate;
   if (!hard.empty()) {
     if (lift_progress) lift_progress(1);
     if (auto lifted =
             lift_rows_multimodular(network, walk_network, kept, rank, first_image, hard, leading, rank / 4, threads,
                                    &check_scale))
-      for (std::size_t h = 0; h < hard.size(); ++h) {
-        SparseRow& row = candidate_rows[hard[h]].emplace();
-        for (std::size_t c = 0; c < (*lifted)[h].size(); ++c)
-          if (sgn((*lifted)[h][c]) != 0) row.emplace_back(c, std::move((*lifted)[h][c]));
-      }
+      for (std::size_t h = 0; h < hard.size(); ++h) candidate_rows[hard[h]] = std::move((*lifted)[h]);
   }
   if (std::all_of(candidate_rows.begin(), candidate_rows.end(), [](const auto& row) { return row.has_value(); })) {
-    // Row by row (each dense row moved in, its sparse form released): the
-    // dense candidate is the only large copy.
-    candidate = RationalMatrix(0, first_image.cols());
-    candidate->reserve_rows(candidate_rows.size());
-    for (std::optional<SparseRow>& sparse : candidate_rows) {
-      poll_stop();
-      RationalVector row(first_image.cols());
-      for (auto& [c, value] : *sparse) mpq_swap(row[c].get_mpq_t(), value.get_mpq_t());
-      sparse.reset();
-      candidate->append_row(std::move(row));
-    }
+    candidate = SparseRationalRows{first_image.cols(), {}};
+    candidate->rows.reserve(candidate_rows.size());
+    for (std::optional<SparseRow>& row : candidate_rows) candidate->rows.push_back(std::move(*row));
     if (is_proved(*candidate)) return candidate;
     if (stopped || stop.is_requested()) {
       stopped = true;
@@ -565,10 +555,12 @@ std::optional<RationalMatrix> lift_and_prove_extra_directions(
   if (lift_progress) lift_progress(2);
   std::vector<std::size_t> all(first_image.rows());
   for (std::size_t j = 0; j < all.size(); ++j) all[j] = j;
-  std::optional<RationalMatrix> solved =
+  const std::optional<RationalMatrix> solved =
       solve_extra_directions(exact_kept_rows(network, kept, rank, threads), scaling_pivots, leading, all);
-  if (!solved || solved == candidate) return std::nullopt;
-  if (is_proved(*solved)) return solved;
+  if (!solved) return std::nullopt;
+  SparseRationalRows exact = SparseRationalRows::from_dense(*solved);
+  if (exact == candidate) return std::nullopt;
+  if (is_proved(exact)) return exact;
   return std::nullopt;
 }
 

@@ -50,8 +50,10 @@ ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vec
 // other pivots), cheaper when the kernel is smaller than the rank: its
 // kernel read off directly (D - r vectors), put in reduced row-echelon form
 // with the columns Q first; the rows led outside Q are E. Equal to
-// extra_directions_of_rows(basis.rows(), ...).
-ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots);
+// extra_directions_of_rows(basis.rows(), ...). Its one product on up to
+// `threads` threads (the same result for any number).
+ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots,
+                                        unsigned threads = 1);
 
 // The leading column of each row of an echelon matrix (its shape).
 std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon);
@@ -78,11 +80,11 @@ using LiftProgress = std::function<void(std::size_t)>;
 // rejects it, every row from one exact p-adic solve (solve_extra_directions)
 // and that is checked the same way. Returns nullopt when stopped (stopped is
 // set) or when nothing is proved (the walk's prime hid a row: bounds only).
-// The result is the same for any thread count (E is unique: identity on L,
-// zero on Q). lift_progress: 1 when further primes start, 2 for the exact
+// The result (E's rows by their nonzero entries) is the same for any thread
+// count (E is unique: identity on L, zero on Q). lift_progress: 1 when further primes start, 2 for the exact
 // solve. prove_elsewhere, when given, decides each candidate instead of the
 // check on `smooth` here.
-std::optional<RationalMatrix> lift_and_prove_extra_directions(
+std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
     const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
     const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
@@ -125,20 +127,16 @@ std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
 // (2 L^(d-1) max B_c: the kept rows' scaled entries are then exact integers
 // by Chinese remaindering) are solved exactly instead (FLINT's p-adic
 // solve), each group on its own thread; nullopt when one such system is
-// singular over Q. The rows in the order given, the same for any thread
-// count.
-std::optional<std::vector<RationalVector>> lift_rows_multimodular(const Network& network,
-                                                                  const ModularNetwork& walk_network,
-                                                                  const std::vector<KeptRows>& kept, std::size_t rank,
-                                                                  const ModularMatrix& image,
-                                                                  const std::vector<std::size_t>& rows,
-                                                                  const std::vector<std::size_t>& leading,
-                                                                  std::size_t sparse_limit, unsigned threads,
-                                                                  const CheckScale* check_scale = nullptr);
+// singular over Q. The rows (their nonzero entries, columns increasing) in
+// the order given, the same for any thread count.
+std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
+    const Network& network, const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,
+    const ModularMatrix& image, const std::vector<std::size_t>& rows, const std::vector<std::size_t>& leading,
+    std::size_t sparse_limit, unsigned threads, const CheckScale* check_scale = nullptr);
 
 // Whether E vanishes at the columns Q and is in reduced row-echelon form
 // with leading 1s: then S u E is independent whenever S restricted to Q is
 // nonsingular. Exact.
-bool is_echelon_off(const RationalMatrix& extra, const std::vector<std::size_t>& columns);
+bool is_echelon_off(const SparseRationalRows& extra, const std::vector<std::size_t>& columns);
 
 }  // namespace pleat::detail

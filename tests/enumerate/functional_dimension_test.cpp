@@ -573,13 +573,17 @@ TEST(FunctionalDimension, CheckRejectsAKernelVectorAlteredInOneEntry) {
 // and computed by its workers: the kept rows, their witnesses and the region
 // where an early stop falls must not depend on the thread count either. Nor
 // may the phase after the walk, which splits its work by thread too (E's
-// image beside the check's scale, primes in batches, exact solves by row
+// image's product by row blocks, primes in batches, exact solves by row
 // group, the check by region, naming in chunks); random 2,5,5,5,1 seed 2
-// lifts a group of 21 unknowns by the exact (Dixon) solve.
+// lifts a group of 21 unknowns by the exact (Dixon) solve; random
+// 2,15,15,15,1 seed 1 reads 122 extra directions off the walk's basis with
+// a product split into row blocks (40 and more rows), lifts 13 groups
+// exactly, largest first, and checks vectors over five primes.
 TEST(FunctionalDimension, SameResultForAnyThreadCount) {
   std::size_t early_stops = 0;
   for (const Network& network : {random_network({2, 5, 5, 1}, 21), random_network({3, 4, 4, 1}, 22),
                                  random_network({2, 6, 6, 6, 1}, 23), random_network({2, 5, 5, 5, 1}, 2),
+                                 random_network({2, 15, 15, 15, 1}, 1),
                                  read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json")}) {
     for (const bool stop_at_scaling_bound : {false, true}) {
       auto run = [&](unsigned threads) {

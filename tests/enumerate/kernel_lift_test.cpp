@@ -105,7 +105,7 @@ TEST(KernelLift, ExactSolveAndMultiModularLiftGiveTheExactKernelsExtraDirections
         [&](std::size_t step) { furthest = std::max(furthest, step); }, {});
     ASSERT_TRUE(lifted.has_value());
     EXPECT_FALSE(stopped);
-    EXPECT_EQ(*lifted, expected);
+    EXPECT_EQ(lifted->dense(), expected);
     EXPECT_EQ(furthest, 1u);  // further primes, no exact solve
   }
 }
@@ -134,7 +134,8 @@ TEST(KernelLift, RowsAloneAndTogetherGiveTheExactRows) {
                                                              scale);
           ASSERT_TRUE(lifted.has_value());
           ASSERT_EQ(lifted->size(), expected.rows());
-          for (std::size_t j = 0; j < rows.size(); ++j) EXPECT_EQ((*lifted)[j], expected.row(j)) << j;
+          const detail::SparseRationalRows expected_rows = detail::SparseRationalRows::from_dense(expected);
+          for (std::size_t j = 0; j < rows.size(); ++j) EXPECT_EQ((*lifted)[j], expected_rows.rows[j]) << j;
         }
     }
   }
@@ -164,7 +165,7 @@ TEST(KernelLift, WrongImageFallsBackToTheExactSolve) {
       state.smooth, detail::CheckScale(network), 1, StopRequest(), stopped,
       [&](std::size_t step) { furthest = std::max(furthest, step); }, {});
   ASSERT_TRUE(lifted.has_value());
-  EXPECT_EQ(*lifted, expected);
+  EXPECT_EQ(lifted->dense(), expected);
   EXPECT_EQ(furthest, 2u);
 }
 
@@ -286,11 +287,41 @@ TEST(KernelCheck, TheScaleClearsEveryEntrysDenominatorAndTheBoundsHold) {
         for (std::size_t c = 0; c < blocks.cols(); ++c) {
           const Rational scaled = blocks(r, c) * Rational(check_scale.scale);
           ASSERT_EQ(scaled.get_den(), 1) << "row " << r << " column " << c;
-          EXPECT_LE(abs(blocks(r, c)), check_scale.bounds[c]);
+          EXPECT_LE(abs(scaled), Rational(check_scale.scaled_bounds[c]));
           smaller_fails = smaller_fails || Rational(blocks(r, c) * smaller).get_den() != 1;
         }
     }
     EXPECT_TRUE(smaller_fails);
+  }
+}
+
+// The check's bounds are the largest entries of each column of the blocks of
+// the network of |theta| with every neuron on (coefficient_blocks, exact
+// rationals), times L^(d-1): computed from the layers' factors in integers,
+// the same numbers, on networks with one and two outputs, a ReLU on the
+// output, decimal and sevenths' denominators and depth one.
+TEST(KernelCheck, TheBoundsAreTheLargestEntriesOfTheAbsoluteNetworksBlocks) {
+  Network relu_output = random_network({3, 4, 2}, 5);
+  relu_output.layers.back().activation = Activation::relu;
+  for (const Network& network : {random_network({2, 4, 3, 1}, 11), random_network({2, 3, 3, 2}, 14),
+                                 random_network({3, 5, 1}, 3), random_network({2, 1}, 8), relu_output,
+                                 scaled_degenerate()}) {
+    Network absolute = network;
+    for (Layer& layer : absolute.layers) {
+      for (std::size_t r = 0; r < layer.weights.rows(); ++r)
+        for (std::size_t c = 0; c < layer.weights.cols(); ++c) layer.weights(r, c) = abs(layer.weights(r, c));
+      for (Rational& b : layer.bias) b = abs(b);
+    }
+    ActivationPattern all_on;
+    all_on.states.assign(network.relu_neuron_count(), NeuronState::on);
+    const RationalMatrix blocks = coefficient_blocks(absolute, all_on);
+    const detail::CheckScale check_scale(network);
+    ASSERT_EQ(check_scale.scaled_bounds.size(), blocks.cols());
+    for (std::size_t c = 0; c < blocks.cols(); ++c) {
+      Rational largest = 0;
+      for (std::size_t r = 0; r < blocks.rows(); ++r) largest = std::max(largest, blocks(r, c));
+      EXPECT_EQ(Rational(check_scale.scaled_bounds[c]), largest * Rational(check_scale.scale)) << "column " << c;
+    }
   }
 }
 
