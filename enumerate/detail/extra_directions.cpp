@@ -100,11 +100,20 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
     combinations = kernel_basis_modulo(condition_rows, prime);
   }
   const std::size_t dimension = combinations.rows();
+  // W is 0 at Q (at a pivot in Q by its condition) and at the untouched
+  // columns: it is carried on T and the other pivots only, in column order
+  // (the same echelon form with the zero columns left out).
+  std::vector<std::size_t> carried;
+  for (std::size_t c = 0; c < columns; ++c)
+    if (!is_scaling[c] && (is_pivot[c] || is_touched[c])) carried.push_back(c);
+  std::vector<std::size_t> place(columns, 0);  // of a carried column
+  for (std::size_t q = 0; q < carried.size(); ++q) place[carried[q]] = q;
   // W at the pivots: -(R_T c) for each c, one product (dimension x |T| by
   // |T| x rank).
-  ModularMatrix spanning(dimension, columns);
+  ModularMatrix spanning(dimension, carried.size());
   if (dimension > 0) {
-    NmodMatrix left(dimension, touched.size(), prime), right(touched.size(), rank, prime), at_pivots(dimension, rank, prime);
+    NmodMatrix left(dimension, touched.size(), prime), right(touched.size(), rank, prime);
+    NmodMatrix at_pivots(dimension, rank, prime);
     for (std::size_t a = 0; a < dimension; ++a)
       for (std::size_t t = 0; t < touched.size(); ++t)
         nmod_mat_entry(left.get(), static_cast<slong>(a), static_cast<slong>(t)) = combinations(a, t);
@@ -114,16 +123,21 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
     poll_stop();
     multiply_by_row_blocks(at_pivots, left, right, threads);
     for (std::size_t a = 0; a < dimension; ++a) {
-      for (std::size_t t = 0; t < touched.size(); ++t) spanning(a, touched[t]) = combinations(a, t);
+      for (std::size_t t = 0; t < touched.size(); ++t) spanning(a, place[touched[t]]) = combinations(a, t);
       for (std::size_t i = 0; i < rank; ++i) {
+        if (is_scaling[pivots[i]]) continue;
         const std::uint64_t value = nmod_mat_entry(at_pivots.get(), static_cast<slong>(a), static_cast<slong>(i));
-        spanning(a, pivots[i]) = value == 0 ? 0 : prime - value;
+        spanning(a, place[pivots[i]]) = value == 0 ? 0 : prime - value;
       }
     }
   }
   // W's canonical basis, merged by leading column with the unit rows (W is
   // 0 at their columns, they are 0 elsewhere).
-  const ModularMatrix echelon = dimension > 0 ? row_space_basis_modulo(spanning, prime) : ModularMatrix(0, columns);
+  const ModularMatrix carried_echelon =
+      dimension > 0 ? row_space_basis_modulo(spanning, prime) : ModularMatrix(0, carried.size());
+  ModularMatrix echelon(carried_echelon.rows(), columns);
+  for (std::size_t r = 0; r < echelon.rows(); ++r)
+    for (std::size_t q = 0; q < carried.size(); ++q) echelon(r, carried[q]) = carried_echelon(r, q);
   const std::vector<std::size_t> leads = echelon_shape(echelon);
   ModularMatrix extra(echelon.rows() + untouched.size(), columns);
   std::size_t next_unit = 0, out = 0;

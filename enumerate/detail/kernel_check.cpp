@@ -355,10 +355,19 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
         sparse.push_back(
             {role, network.layers[role.layer].width(), residue, n_mulmod_precomp_shoup(residue, prime)});
       }
-      if (sparse.size() == 1)
+      if (sparse.size() == 1) {
         modulus.units.push_back(sparse.front());
-      else if (!sparse.empty())
-        modulus.vectors.push_back(std::move(sparse));
+      } else if (!sparse.empty()) {
+        RunVector runs;
+        for (const Entry& entry : sparse) {
+          const ColumnRole& role = entry.role;
+          if (runs.runs.empty() || runs.runs.back().layer != role.layer || runs.runs.back().neuron != role.neuron)
+            runs.runs.push_back({role.layer, role.neuron, entry.width, runs.terms.size(), runs.terms.size()});
+          runs.terms.push_back({role.input, entry.value, entry.shoup});
+          ++runs.runs.back().last;
+        }
+        modulus.vectors.push_back(std::move(runs));
+      }
     }
   });
 }
@@ -373,8 +382,10 @@ namespace {
 // for all n0 + 1 rows: each entry's value times G_k[o,i] by Shoup's method
 // (the entry is fixed, the region changes), then that times x_t[j] for
 // every t, summed lazily in 128 bits: one reduction per vector and row.
-template <std::size_t Inputs, typename Entry>
-bool annihilates_rows(const std::vector<Entry>& vector, const RegionFactors& factors, const ModularNetwork& network,
+// G_k[o,i] is read once per run of one neuron's entries, and a run whose
+// neuron does not pass (G 0) is skipped.
+template <std::size_t Inputs, typename RunVector>
+bool annihilates_rows(const RunVector& vector, const RegionFactors& factors, const ModularNetwork& network,
                       std::size_t o, const nmod_t& mod) {
   const std::size_t n0 = Inputs > 0 ? Inputs : network.input_dim;
   const unsigned limit = products_between_reductions(network.prime);
@@ -386,21 +397,25 @@ bool annihilates_rows(const std::vector<Entry>& vector, const RegionFactors& fac
     sums = buffer.data();
   }
   unsigned pending = 0;
-  for (const auto& entry : vector) {
-    const auto& role = entry.role;
-    const std::uint64_t g = factors.signal[role.layer][o * entry.width + role.neuron];
+  for (const auto& run : vector.runs) {
+    const std::uint64_t g = factors.signal[run.layer][o * run.width + run.neuron];
     if (g == 0) continue;
-    const std::uint64_t scaled = n_mulmod_shoup(entry.value, g, entry.shoup, network.prime);
-    if (role.input == static_cast<std::size_t>(-1)) {
-      sums[0] += scaled;
-    } else {
-      sums[0] += static_cast<Wide>(scaled) * factors.offset[role.layer][role.input];
-      const std::uint64_t* slopes = factors.linear[role.layer].data() + role.input * n0;
-      for (std::size_t t = 0; t < n0; ++t) sums[t + 1] += static_cast<Wide>(scaled) * slopes[t];
-    }
-    if (++pending == limit) {
-      for (std::size_t t = 0; t <= n0; ++t) sums[t] = reduce_wide(sums[t], mod);
-      pending = 0;
+    const std::uint64_t* offsets = factors.offset[run.layer].data();
+    const std::uint64_t* linear = factors.linear[run.layer].data();
+    for (std::size_t e = run.first; e < run.last; ++e) {
+      const auto& term = vector.terms[e];
+      const std::uint64_t scaled = n_mulmod_shoup(term.value, g, term.shoup, network.prime);
+      if (term.input == static_cast<std::size_t>(-1)) {
+        sums[0] += scaled;
+      } else {
+        sums[0] += static_cast<Wide>(scaled) * offsets[term.input];
+        const std::uint64_t* slopes = linear + term.input * n0;
+        for (std::size_t t = 0; t < n0; ++t) sums[t + 1] += static_cast<Wide>(scaled) * slopes[t];
+      }
+      if (++pending == limit) {
+        for (std::size_t t = 0; t <= n0; ++t) sums[t] = reduce_wide(sums[t], mod);
+        pending = 0;
+      }
     }
   }
   for (std::size_t t = 0; t <= n0; ++t)

@@ -86,12 +86,27 @@ class AnnihilationCheck {
     std::size_t width;  // of the role's layer: G_k is nd x width
     std::uint64_t value, shoup;
   };
+  // A vector with several entries modulo a prime: its terms in parameter
+  // order, in runs of one neuron's parameters (a run's weights, or its
+  // bias, share G_k[o, neuron]: read once per run, and a run whose neuron
+  // does not pass costs nothing).
+  struct Term {
+    std::size_t input;  // ColumnRole::bias for the bias
+    std::uint64_t value, shoup;
+  };
+  struct NeuronRun {
+    std::size_t layer, neuron, width, first, last;  // terms [first, last)
+  };
+  struct RunVector {
+    std::vector<NeuronRun> runs;
+    std::vector<Term> terms;
+  };
   struct Modulus {
     ModularNetwork network;
     // Sparse, residues, in parameter order (a vector with every residue 0
     // is left out: it annihilates every row modulo this prime); the vectors
     // with one entry apart (a zero test each).
-    std::vector<std::vector<Entry>> vectors;
+    std::vector<RunVector> vectors;
     std::vector<Entry> units;
     // The layers whose inputs (0..forward_to) and backward signals
     // (backward_to..depth-1) those columns need.

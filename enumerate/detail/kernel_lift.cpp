@@ -19,6 +19,8 @@
 namespace pleat::detail {
 namespace {
 
+__extension__ typedef unsigned __int128 Wide;
+
 // Row r of `rows` at the given columns, scaled by a positive rational to a
 // primitive integer vector (the scale does not change which combinations
 // vanish).
@@ -244,6 +246,13 @@ bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
     scale_residues.push_back(mpz_fdiv_ui(scale.get_mpz_t(), prime));
     inverses.push_back(n_preinvert_limb(prime));
   }
+  // Two primes below 2^63 (the usual case: the check's bound is passed
+  // after two): Garner's formula in 128 bits, v = r0 + p0 t with t = (r1 -
+  // r0) / p0 modulo p1, no multi-precision arithmetic per entry.
+  const bool two_words = lift.systems.size() == 2 && lift.system_primes[0] < (std::uint64_t{1} << 63) &&
+                         lift.system_primes[1] < (std::uint64_t{1} << 63);
+  const std::uint64_t inverse_of_first =
+      two_words ? n_invmod(lift.system_primes[0] % lift.system_primes[1], lift.system_primes[1]) : 0;
   FmpzMatrix square(n, n), right(n, count);
   fmpz_t modulus, value;
   fmpz_init(modulus);
@@ -251,19 +260,36 @@ bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
   for (std::size_t i = 0; i < n; ++i) {
     poll_stop();
     for (std::size_t m = 0; m < n + count; ++m) {
-      fmpz_one(modulus);
-      fmpz_zero(value);
-      for (std::size_t p = 0; p < lift.systems.size(); ++p) {
-        const std::uint64_t prime = lift.system_primes[p];
-        const std::uint64_t scaled = n_mulmod2_preinv(lift.systems[p](i, m), scale_residues[p], prime, inverses[p]);
-        if (p == 0) {  // the symmetric residue (fmpz_CRT_ui wants a modulus above 1)
-          fmpz_set_ui(value, scaled);
-          if (scaled > prime / 2) fmpz_sub_ui(value, value, prime);
-          fmpz_set_ui(modulus, prime);
-          continue;
+      if (two_words) {
+        const std::uint64_t p0 = lift.system_primes[0], p1 = lift.system_primes[1];
+        const std::uint64_t r0 = n_mulmod2_preinv(lift.systems[0](i, m), scale_residues[0], p0, inverses[0]);
+        const std::uint64_t r1 = n_mulmod2_preinv(lift.systems[1](i, m), scale_residues[1], p1, inverses[1]);
+        const std::uint64_t difference = n_submod(r1, r0 % p1, p1);
+        const std::uint64_t t = n_mulmod2_preinv(difference, inverse_of_first, p1, inverses[1]);
+        const Wide product = static_cast<Wide>(p0) * p1;
+        const Wide v = r0 + static_cast<Wide>(p0) * t;  // in [0, p0 p1)
+        if (v > product / 2) {  // the symmetric residue: v - p0 p1
+          const Wide negated = product - v;
+          fmpz_neg_uiui(value, static_cast<std::uint64_t>(negated >> 64), static_cast<std::uint64_t>(negated));
+        } else {
+          fmpz_set_uiui(value, static_cast<std::uint64_t>(v >> 64), static_cast<std::uint64_t>(v));
         }
-        fmpz_CRT_ui(value, value, modulus, scaled, prime, 1);
-        fmpz_mul_ui(modulus, modulus, prime);
+      } else {
+        fmpz_one(modulus);
+        fmpz_zero(value);
+        for (std::size_t p = 0; p < lift.systems.size(); ++p) {
+          const std::uint64_t prime = lift.system_primes[p];
+          const std::uint64_t scaled =
+              n_mulmod2_preinv(lift.systems[p](i, m), scale_residues[p], prime, inverses[p]);
+          if (p == 0) {  // the symmetric residue (fmpz_CRT_ui wants a modulus above 1)
+            fmpz_set_ui(value, scaled);
+            if (scaled > prime / 2) fmpz_sub_ui(value, value, prime);
+            fmpz_set_ui(modulus, prime);
+            continue;
+          }
+          fmpz_CRT_ui(value, value, modulus, scaled, prime, 1);
+          fmpz_mul_ui(modulus, modulus, prime);
+        }
       }
       if (m < n)
         fmpz_set(square.entry(i, m), value);

@@ -175,8 +175,11 @@ TEST(KernelLift, WrongImageFallsBackToTheExactSolve) {
 // each one changed in one entry, on random networks, one with two outputs,
 // and networks with a ReLU on the output.
 TEST(KernelCheck, FirstRejectedRegionEqualsTheExactProductsOne) {
+  // One, two, three and four inputs: the check's sums are fixed arrays for
+  // one to three inputs, a buffer for more.
   std::vector<Network> networks = {random_network({2, 4, 3, 1}, 11), random_network({2, 3, 3, 2}, 14),
-                                   random_network({3, 4, 3, 1}, 15)};
+                                   random_network({3, 4, 3, 1}, 15), random_network({1, 4, 3, 1}, 16),
+                                   random_network({4, 3, 3, 1}, 19)};
   networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/tests/data/output_relu2d.json"));
   networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/tests/data/fd_relu_output_hidden_middle.json"));
   networks.push_back(scaled_degenerate());
