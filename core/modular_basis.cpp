@@ -128,19 +128,24 @@ inline std::uint64_t multiply_shoup(std::uint64_t factor, std::uint64_t value, s
   return result - (prime & (0 - static_cast<std::uint64_t>(result >= prime)));
 }
 
-// target -= factor * source (mod p) with entry `dropped` removed, in one
-// pass (the clearing and the column erasure of add_row).
-void subtract_multiple_dropping(ModularVector& target, const ModularVector& source, std::uint64_t factor,
-                                std::size_t dropped, std::uint64_t prime) {
+// target -= factor * source (mod p), entry by entry.
+void subtract_multiple(ModularVector& target, const ModularVector& source, std::uint64_t factor,
+                       std::uint64_t prime) {
   const std::uint64_t precomputed = n_mulmod_precomp_shoup(factor, prime);
-  const auto entry = [&](std::size_t j) {
+  for (std::size_t j = 0; j < target.size(); ++j) {
     const std::uint64_t product = multiply_shoup(factor, source[j], precomputed, prime);
     const std::uint64_t difference = target[j] - product;
-    return difference + (prime & (0 - static_cast<std::uint64_t>(target[j] < product)));
-  };
-  for (std::size_t j = 0; j < dropped; ++j) target[j] = entry(j);
-  for (std::size_t j = dropped + 1; j < target.size(); ++j) target[j - 1] = entry(j);
-  target.pop_back();
+    target[j] = difference + (prime & (0 - static_cast<std::uint64_t>(target[j] < product)));
+  }
+}
+
+// Removes entry q by moving the last entry into its place: the free columns
+// are stored in no particular order, and every stored row and the column
+// list move alike, so no row is shifted.
+template <typename T>
+void drop_entry(std::vector<T>& values, std::size_t q) {
+  values[q] = values.back();
+  values.pop_back();
 }
 
 void scale(ModularVector& target, std::uint64_t factor, std::uint64_t prime) {
@@ -221,18 +226,28 @@ ModularVector ModularRowBasis::residual(const ModularVector& row) const {
                                                       static_cast<std::uint64_t>(sum), prime_, prime_inverse_);
     result[q] = value >= subtrahend ? value - subtrahend : value + (prime_ - subtrahend);
   };
+  // Up to `run` products add up below 2^128 (16 for p < 2^62): a run of them
+  // goes into a plain 128-bit partial sum, and only the partial sums are
+  // checked for wrapping around. The sum is exact either way.
+  const Wide square = static_cast<Wide>(prime_ - 1) * (prime_ - 1);
+  const std::size_t run =
+      square == 0 ? 16 : static_cast<std::size_t>(std::min<Wide>(16, std::max<Wide>(1, ~Wide{0} / square)));
   constexpr std::size_t kBlock = 4;
   std::size_t q = 0;
   for (; q + kBlock <= free_count; q += kBlock) {
     Wide sums[kBlock] = {};
     std::uint64_t wraps[kBlock] = {};
-    for (std::size_t k = 0; k < factors.size(); ++k) {
-      const std::uint64_t factor = factors[k];
-      const std::uint64_t* part = parts[k] + q;
+    for (std::size_t first = 0; first < factors.size(); first += run) {
+      const std::size_t last = std::min(factors.size(), first + run);
+      Wide partial[kBlock] = {};
+      for (std::size_t k = first; k < last; ++k) {
+        const std::uint64_t factor = factors[k];
+        const std::uint64_t* part = parts[k] + q;
+        for (std::size_t b = 0; b < kBlock; ++b) partial[b] += static_cast<Wide>(factor) * part[b];
+      }
       for (std::size_t b = 0; b < kBlock; ++b) {
-        const Wide product = static_cast<Wide>(factor) * part[b];
-        sums[b] += product;
-        wraps[b] += static_cast<std::uint64_t>(sums[b] < product);
+        sums[b] += partial[b];
+        wraps[b] += static_cast<std::uint64_t>(sums[b] < partial[b]);
       }
     }
     for (std::size_t b = 0; b < kBlock; ++b) subtract_sum(q + b, sums[b], wraps[b]);
@@ -254,9 +269,11 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
   check_row(row, "ModularRowBasis::add_row");
   if (free_columns_.empty()) return false;
   ModularVector reduced = residual(row);
-  const auto nonzero = std::find_if(reduced.begin(), reduced.end(), [](std::uint64_t v) { return v != 0; });
-  if (nonzero == reduced.end()) return false;
-  const auto q = static_cast<std::size_t>(nonzero - reduced.begin());
+  // The pivot: the nonzero entry at the smallest column.
+  std::size_t q = reduced.size();
+  for (std::size_t k = 0; k < reduced.size(); ++k)
+    if (reduced[k] != 0 && (q == reduced.size() || free_columns_[k] < free_columns_[q])) q = k;
+  if (q == reduced.size()) return false;
   scale(reduced, n_invmod(reduced[q], prime_), prime_);
   // The screen follows (add_row_screened): kept row i loses part[q] times
   // the new row, so its product with c loses part[q] times the new row's.
@@ -265,22 +282,20 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
   const std::uint64_t new_along = along_new.reduce(prime_, prime_inverse_);
   // Clear the new pivot column from the kept rows, then drop it from the
   // free columns of every stored row.
-  const auto position = static_cast<std::ptrdiff_t>(q);
   for (std::size_t i = 0; i < free_parts_.size(); ++i) {
     ModularVector& part = free_parts_[i];
     if (part[q] != 0) {
       const std::uint64_t lost = n_mulmod2_preinv(part[q], new_along, prime_, prime_inverse_);
       screen_along_[i] = n_submod(screen_along_[i], lost, prime_);
-      subtract_multiple_dropping(part, reduced, part[q], q, prime_);
-    } else {
-      part.erase(part.begin() + position);
+      subtract_multiple(part, reduced, part[q], prime_);
     }
+    drop_entry(part, q);
   }
-  reduced.erase(reduced.begin() + position);
   // The new row is 0 at its pivot in the free part it keeps: minus c there.
   screen_along_.push_back(n_submod(new_along, screen_random_[free_columns_[q]], prime_));
   pivot_columns_.push_back(free_columns_[q]);
-  free_columns_.erase(free_columns_.begin() + position);
+  drop_entry(free_columns_, q);
+  drop_entry(reduced, q);
   free_parts_.push_back(std::move(reduced));
   return true;
 }

@@ -195,7 +195,7 @@ class ModularRowBasis {
   std::uint64_t prime_inverse_;          // FLINT's n_preinvert_limb(prime)
   std::size_t columns_;
   std::vector<std::size_t> pivot_columns_;
-  std::vector<std::size_t> free_columns_;   // increasing
+  std::vector<std::size_t> free_columns_;   // in no particular order
   std::vector<ModularVector> free_parts_;   // kept row i at free_columns_
   // The screen w of add_row_screened: random c at the free columns and
   // -screen_along_[i] = -(kept row i . c) at kept row i's pivot.

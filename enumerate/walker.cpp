@@ -8,6 +8,7 @@
 #include "enumerate/detail/region_processor.hpp"
 #include "enumerate/detail/walk_adjacency.hpp"
 #include "enumerate/detail/walk_helpers.hpp"
+#include "enumerate/detail/walk_pipeline.hpp"
 #include "enumerate/pattern_cell.hpp"
 
 #include <algorithm>
@@ -155,8 +156,6 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
     processors.push_back(
         std::make_unique<detail::RegionProcessor>(network, domain, options.keep_certificates, options.exact_only));
 
-  detail::PrefixPool pool(processors.size());  // its threads serve every level
-
   WalkSummary summary;
   // Every pattern met is stored once, packed (detail::PatternStore); levels
   // and neighbour lists hold its slots. Per region the walk keeps only its
@@ -185,94 +184,138 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   }
   bool anomaly = false;  // a crossing candidate that turned out not to be a region
 
+  // Delivers the region of the pattern at `slot` (in order): numbers it,
+  // records its neighbours (new patterns join next_level, and the pipeline's
+  // tasks when there is one), calls on_region and frees the record. Returns
+  // false when the walk must stop (delivery_stop says why).
+  std::vector<std::uint32_t> next_level;
+  std::vector<std::uint32_t> neighbors;
+  StopReason delivery_stop = StopReason::none;
+  detail::WalkPipeline* pipeline = nullptr;
+  const auto deliver = [&](std::uint32_t slot, detail::Processed& processed) {
+    if (!processed.is_region) {
+      anomaly = true;
+      return true;
+    }
+    if (options.max_regions && summary.regions >= options.max_regions) {
+      delivery_stop = StopReason::max_regions;
+      return false;
+    }
+    Region& region = processed.region;
+    region.id = summary.regions++;
+    summary.bounded_regions += region.bounded;
+    summary.degenerate_crossings += processed.degenerate_crossings;
+    if (!region.nonsmooth_neurons.empty())
+      summary.nonsmooth_regions.emplace_back(region.pattern, region.nonsmooth_neurons);
+    const auto id = static_cast<std::uint32_t>(region.id);
+    id_of_slot[slot] = id;
+    region_slots.push_back(slot);
+    neighbors.clear();
+    const auto add_neighbor = [&](const ActivationPattern& neighbor) {
+      const auto [neighbor_slot, is_new] = remember(neighbor);
+      if (std::find(neighbors.begin(), neighbors.end(), neighbor_slot) == neighbors.end())
+        neighbors.push_back(neighbor_slot);
+      if (!is_new) return;
+      next_level.push_back(neighbor_slot);
+      if (pipeline) pipeline->add(neighbor);  // its task number is its slot: both count patterns met
+    };
+    for (const auto& facet : region.facets) {
+      if (!facet.neighbor) continue;
+      add_neighbor(*facet.neighbor);
+      for (const auto& other : facet.other_neighbors) add_neighbor(other);
+    }
+    const bool is_stop_asked = options.on_region && !options.on_region(region);
+    adjacency.add_region(id, slot, neighbors, std::move(region.affine), id_of_slot);  // after on_region, which reads it
+    processed = detail::Processed{};  // free the record now: a level can be large
+    if (is_stop_asked) {
+      delivery_stop = StopReason::requested;
+      return false;
+    }
+    return true;
+  };
+  // The next level in pattern order, once this one is delivered; false when
+  // the walk ends there (complete, or a stop asked meanwhile).
+  const auto start_next_level = [&] {
+    if (StopReason reason = stop_requested(); reason != StopReason::none && !next_level.empty()) {
+      summary.stop_reason = reason;
+      return false;
+    }
+    std::sort(next_level.begin(), next_level.end(),
+              [&](std::uint32_t a, std::uint32_t b) { return seen.less(a, b); });
+    level = std::move(next_level);
+    next_level.clear();
+    adjacency.start_level(static_cast<std::uint32_t>(summary.regions));
+    return !level.empty();
+  };
+  const auto process = [&](std::size_t worker, const ActivationPattern& pattern) {
+    detail::Processed processed = processors[worker]->process(pattern);
+    if (options.prepare_region && processed.is_region) processed.region.prepared = options.prepare_region(processed.region);
+    return processed;
+  };
+
+  adjacency.start_level(0);
+  if (options.on_region_in_pool && !level.empty()) {
+    // One run for the whole walk: a level's regions are processed while the
+    // level before it is still being delivered, so no thread waits for a
+    // level to end. At most one chunk's records are held at a time.
+    detail::WalkPipeline tasks(threads, 2048 * std::size_t{threads});
+    pipeline = &tasks;
+    tasks.add(seen.pattern(level.front()));
+    std::size_t position = 0;  // in level
+    bool is_walk_done = false;
+    const StopReason stopped = tasks.run(
+        level.front(), stop,
+        [&](std::size_t worker, detail::WalkTask& task) {
+          task.processed = std::make_unique<detail::Processed>(process(worker, task.pattern));
+        },
+        [&](std::size_t index, detail::WalkTask& task) -> std::optional<std::size_t> {
+          if (!deliver(static_cast<std::uint32_t>(index), *task.processed)) return std::nullopt;
+          task.processed.reset();
+          if (++position < level.size()) return level[position];
+          position = 0;
+          if (!start_next_level()) {
+            is_walk_done = summary.stop_reason == StopReason::none;
+            return std::nullopt;
+          }
+          tasks.release_before(*std::min_element(level.begin(), level.end()));  // the levels before: delivered
+          return level.front();
+        },
+        [&](std::size_t consumed, std::size_t added) {
+          if (options.on_progress) options.on_progress(WalkProgress{consumed, added - consumed, elapsed()});
+        });
+    if (summary.stop_reason == StopReason::none) summary.stop_reason = delivery_stop;
+    if (summary.stop_reason == StopReason::none && !is_walk_done) summary.stop_reason = stopped;
+    level.clear();
+  }
+
   // A level is processed in chunks, so that only one chunk's region records
   // are held at a time (a level of a large walk can hold 10^5 regions).
   const std::size_t chunk = 2048 * std::size_t{threads};
+  std::optional<detail::PrefixPool> pool;  // its threads serve every level
+  if (!level.empty()) pool.emplace(processors.size());
   while (!level.empty() && summary.stop_reason == StopReason::none) {
-    std::vector<std::uint32_t> next_level;
-    std::vector<std::uint32_t> neighbors;
-    adjacency.start_level(static_cast<std::uint32_t>(summary.regions));
     for (std::size_t begin = 0; begin < level.size() && summary.stop_reason == StopReason::none; begin += chunk) {
       // Process the chunk in parallel; results are placed by index, so the
       // order of output does not depend on the thread count.
       const std::size_t end = std::min(level.size(), begin + chunk);
       std::vector<detail::Processed> results(end - begin);
-      // Pipelined, the delivery below inserts new patterns into the store while
-      // workers process: they take their patterns from a copy.
-      std::vector<ActivationPattern> patterns;
-      if (options.on_region_in_pool) {
-        patterns.reserve(end - begin);
-        for (std::size_t i = begin; i < end; ++i) patterns.push_back(seen.pattern(level[i]));
-      }
       const std::size_t regions_before = summary.regions;
-      // Delivers result i (in order): numbers it, records its neighbours,
-      // calls on_region. Returns why the walk must stop (none: go on).
-      StopReason delivery_stop = StopReason::none;
-      const auto deliver = [&](std::size_t i) {
-        detail::Processed& processed = results[i];
-        if (!processed.is_region) {
-          anomaly = true;
-          return true;
-        }
-        if (options.max_regions && summary.regions >= options.max_regions) {
-          delivery_stop = StopReason::max_regions;
-          return false;
-        }
-        Region& region = processed.region;
-        region.id = summary.regions++;
-        summary.bounded_regions += region.bounded;
-        summary.degenerate_crossings += processed.degenerate_crossings;
-        if (!region.nonsmooth_neurons.empty())
-          summary.nonsmooth_regions.emplace_back(region.pattern, region.nonsmooth_neurons);
-        const auto id = static_cast<std::uint32_t>(region.id);
-        id_of_slot[level[begin + i]] = id;
-        region_slots.push_back(level[begin + i]);
-        neighbors.clear();
-        const auto add_neighbor = [&](const ActivationPattern& neighbor) {
-          const auto [slot, is_new] = remember(neighbor);
-          if (std::find(neighbors.begin(), neighbors.end(), slot) == neighbors.end()) neighbors.push_back(slot);
-          if (is_new) next_level.push_back(slot);
-        };
-        for (const auto& facet : region.facets) {
-          if (!facet.neighbor) continue;
-          add_neighbor(*facet.neighbor);
-          for (const auto& other : facet.other_neighbors) add_neighbor(other);
-        }
-        const bool is_stop_asked = options.on_region && !options.on_region(region);
-        adjacency.add_region(id, level[begin + i], neighbors, std::move(region.affine), id_of_slot);  // after on_region, which reads it
-        results[i] = detail::Processed{};  // free the record now: a level can be large
-        if (is_stop_asked) {
-          delivery_stop = StopReason::requested;
-          return false;
-        }
-        return true;
-      };
-      const detail::PrefixRun run = pool.run(
+      const detail::PrefixRun run = pool->run(
           results.size(), stop,
           [&](std::size_t worker, std::size_t i) {
-            results[i] = processors[worker]->process(options.on_region_in_pool
-                                                         ? patterns[i]
-                                                         : seen.pattern(level[begin + i]));  // the store is not written meanwhile
-            if (options.prepare_region && results[i].is_region)
-              results[i].region.prepared = options.prepare_region(results[i].region);
+            results[i] = process(worker, seen.pattern(level[begin + i]));  // the store is not written meanwhile
           },
           [&](std::size_t finished) {
             if (options.on_progress)
               options.on_progress(WalkProgress{regions_before + finished, level.size() - begin - finished, elapsed()});
-          },
-          options.on_region_in_pool ? std::function<bool(std::size_t)>(deliver) : nullptr);
-      // Cut short: deliver the rest of the processed prefix, in order.
-      for (std::size_t i = run.consumed; delivery_stop == StopReason::none && i < run.prefix && deliver(i); ++i) {
+          });
+      // Deliver the processed prefix, in order.
+      for (std::size_t i = 0; delivery_stop == StopReason::none && i < run.prefix && deliver(level[begin + i], results[i]);
+           ++i) {
       }
       summary.stop_reason = delivery_stop != StopReason::none ? delivery_stop : run.stopped;
     }
-    if (summary.stop_reason == StopReason::none) {
-      if (StopReason reason = stop_requested(); reason != StopReason::none && !next_level.empty())
-        summary.stop_reason = reason;
-    }
-    std::sort(next_level.begin(), next_level.end(),
-              [&](std::uint32_t a, std::uint32_t b) { return seen.less(a, b); });
-    level = std::move(next_level);
+    if (summary.stop_reason == StopReason::none && !start_next_level()) break;
   }
 
   for (const auto& processor : processors) summary.counts += processor->counts();

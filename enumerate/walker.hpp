@@ -116,10 +116,10 @@ struct WalkOptions {
   std::function<std::any(const Region&)> prepare_region;
   // When true, on_region may run on any of the walk's threads, still one call
   // at a time and in output order, as soon as the regions before it are done,
-  // while the other threads go on processing the level (false: on the calling
-  // thread after each chunk of a level, with the other threads idle). For
-  // on_region callbacks that do heavy serial work and touch no thread-bound
-  // state. on_region runs without the walk's StopScope either way.
+  // while the other threads go on processing this level and the next (false:
+  // on the calling thread after each chunk of a level, with the other threads
+  // idle). For on_region callbacks that do heavy serial work and touch no
+  // thread-bound state. on_region runs without the walk's StopScope either way.
   bool on_region_in_pool = false;
   std::function<void(const WalkProgress&)> on_progress;  // every 0.2 s during a level (distributed walk: also after it)
 };

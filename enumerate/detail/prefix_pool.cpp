@@ -45,13 +45,11 @@ PrefixRun run_inline(std::size_t count, const StopRequest& stop,
 
 }  // namespace
 
-// One run's shared state: its items, the counters the workers advance and
-// the consumer's place.
+// One run's shared state: its items and the counters the workers advance.
 struct PrefixPool::Job {
   std::size_t count = 0;
   const StopRequest* stop = nullptr;
   const std::function<void(std::size_t, std::size_t)>* process = nullptr;
-  const std::function<bool(std::size_t)>* consume = nullptr;
   const std::function<void(std::size_t)>* on_tick = nullptr;  // the caller's (worker 0's) only
   std::vector<std::atomic<bool>> done;
   std::atomic<int> stopped_polled{static_cast<int>(StopReason::none)};
@@ -61,9 +59,6 @@ struct PrefixPool::Job {
   std::atomic<int> stopped_inside{static_cast<int>(StopReason::none)};
   std::mutex error_mutex;
   std::exception_ptr error;
-  std::mutex consume_mutex;
-  std::atomic<std::size_t> consumed{0};
-  std::atomic<bool> consumer_halted{false};
 };
 
 PrefixPool::PrefixPool(std::size_t workers) : workers_(std::max<std::size_t>(1, workers)) {
@@ -114,31 +109,6 @@ void PrefixPool::serve(std::size_t worker) {
   }
 }
 
-// Consumes the done items in order unless another thread is doing so. That
-// thread re-checks after letting go, so an item finished meanwhile (whose
-// thread found the role taken) is not left waiting.
-void PrefixPool::consume_ready(Job& job) {
-  static const StopRequest never;
-  const auto is_next_ready = [&] {
-    const std::size_t k = job.consumed;
-    return !job.consumer_halted && k < job.count && job.done[k];
-  };
-  while (is_next_ready()) {
-    const std::unique_lock lock(job.consume_mutex, std::try_to_lock);
-    if (!lock.owns_lock()) return;
-    const StopScope unstoppable(never);  // consume has no partial result to abandon
-    while (is_next_ready()) {
-      const std::size_t k = job.consumed;
-      const bool is_going_on = (*job.consume)(k);
-      job.consumed = k + 1;
-      if (!is_going_on) {
-        job.consumer_halted = true;
-        job.halt = true;
-      }
-    }
-  }
-}
-
 void PrefixPool::work(Job& job, std::size_t worker) {
   using clock = std::chrono::steady_clock;
   auto last_tick = clock::now();
@@ -156,7 +126,6 @@ void PrefixPool::work(Job& job, std::size_t worker) {
       (*job.process)(worker, i);
       job.done[i] = true;
       ++job.finished;
-      if (job.consume) consume_ready(job);
       if (worker == 0 && job.on_tick && *job.on_tick && clock::now() - last_tick >= std::chrono::milliseconds(200)) {
         (*job.on_tick)(job.finished);
         last_tick = clock::now();
@@ -174,16 +143,14 @@ void PrefixPool::work(Job& job, std::size_t worker) {
 
 PrefixRun PrefixPool::run(std::size_t count, const StopRequest& stop,
                           const std::function<void(std::size_t worker, std::size_t item)>& process,
-                          const std::function<void(std::size_t finished)>& on_tick,
-                          const std::function<bool(std::size_t item)>& consume) {
+                          const std::function<void(std::size_t finished)>& on_tick) {
   PrefixRun run;
   if (count == 0) return run;
-  if (workers_ == 1 || count == 1) return run_inline(count, stop, process, on_tick);  // consume: left to the caller
+  if (workers_ == 1 || count == 1) return run_inline(count, stop, process, on_tick);
   Job job;
   job.count = count;
   job.stop = &stop;
   job.process = &process;
-  job.consume = consume ? &consume : nullptr;
   job.on_tick = &on_tick;
   job.done = std::vector<std::atomic<bool>>(count);
   {
@@ -218,16 +185,14 @@ PrefixRun PrefixPool::run(std::size_t count, const StopRequest& stop,
   if (run.stopped == StopReason::none) run.stopped = static_cast<StopReason>(job.stopped_polled.load());
   if (run.stopped == StopReason::none) run.stopped = static_cast<StopReason>(job.stopped_inside.load());
   while (run.prefix < count && job.done[run.prefix]) ++run.prefix;
-  run.consumed = job.consumed;
   return run;
 }
 
 PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequest& stop,
                           const std::function<void(std::size_t worker, std::size_t item)>& process,
-                          const std::function<void(std::size_t finished)>& on_tick,
-                          const std::function<bool(std::size_t item)>& consume) {
+                          const std::function<void(std::size_t finished)>& on_tick) {
   PrefixPool pool(std::min(workers, count));
-  return pool.run(count, stop, process, on_tick, consume);
+  return pool.run(count, stop, process, on_tick);
 }
 
 }  // namespace pleat::detail

@@ -18,7 +18,6 @@ namespace pleat::detail {
 struct PrefixRun {
   std::size_t prefix = 0;                   // items [0, prefix) were processed, without a gap
   StopReason stopped = StopReason::none;    // why the pool stopped before the end (none: it did not)
-  std::size_t consumed = 0;                 // items [0, consumed) were handed to consume
 };
 
 // Runs process(worker, i) for every i in [0, count) on `workers` threads
@@ -31,16 +30,9 @@ struct PrefixRun {
 // does not depend on the thread count beyond where the stop fell.
 // process must write only to item i's own slot. Rethrows the first other
 // exception after every thread has ended.
-// consume (may be empty): called for items in order, one call at a time, by
-// whichever pool thread finds the next item done (the role passes between
-// threads, so all `workers` threads keep processing meanwhile), without a
-// StopScope; returning false halts the pool (the items it was called for are
-// counted in `consumed` either way). Items of the prefix it was not called for
-// are left to the caller.
 PrefixRun run_prefix_pool(std::size_t count, std::size_t workers, const StopRequest& stop,
                           const std::function<void(std::size_t worker, std::size_t item)>& process,
-                          const std::function<void(std::size_t finished)>& on_tick,
-                          const std::function<bool(std::size_t item)>& consume = {});
+                          const std::function<void(std::size_t finished)>& on_tick);
 
 // The same, on worker threads that live as long as the pool, so that a walk
 // of many small levels starts its threads (and warms their thread-local
@@ -57,8 +49,7 @@ class PrefixPool {
   // As run_prefix_pool with this pool's workers.
   PrefixRun run(std::size_t count, const StopRequest& stop,
                 const std::function<void(std::size_t worker, std::size_t item)>& process,
-                const std::function<void(std::size_t finished)>& on_tick,
-                const std::function<bool(std::size_t item)>& consume = {});
+                const std::function<void(std::size_t finished)>& on_tick);
 
  private:
   struct Job;
@@ -66,7 +57,6 @@ class PrefixPool {
   std::size_t busy_count();
   void serve(std::size_t worker);
   void work(Job& job, std::size_t worker);
-  void consume_ready(Job& job);
 
   std::size_t workers_;
   std::mutex mutex_;

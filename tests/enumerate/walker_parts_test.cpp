@@ -8,6 +8,7 @@
 #include "enumerate/detail/pattern_store.hpp"
 #include "enumerate/detail/prefix_pool.hpp"
 #include "enumerate/detail/walk_adjacency.hpp"
+#include "enumerate/detail/walk_pipeline.hpp"
 #include "enumerate/pattern_cell.hpp"
 #include "enumerate/walker.hpp"
 
@@ -18,6 +19,7 @@
 #include <stdexcept>
 #include <limits>
 #include <map>
+#include <mutex>
 #include <numeric>
 #include <random>
 #include <set>
@@ -224,46 +226,129 @@ TEST(WalkAdjacency, CountsAsymmetricListsAndRecomputesEvictedMaps) {
 }
 
 // One pool serves many runs (the walk's levels): every item processed once,
-// consume called once per item, in order, while the workers go on; a consume
-// that returns false halts the run right there.
-TEST(PrefixPool, ServesManyRunsAndConsumesInOrder) {
+// by a worker of the pool.
+TEST(PrefixPool, ServesManyRuns) {
   for (std::size_t workers : {1u, 2u, 3u}) {
     detail::PrefixPool pool(workers);
     for (std::size_t count : {0u, 1u, 2u, 3u, 97u, 500u}) {
-      for (const bool halts : {false, true}) {
-        const std::size_t halt_at = count / 2;
-        std::vector<std::atomic<int>> processed(count);
-        std::vector<std::size_t> consumed;
-        std::atomic<bool> is_worker_in_range{true};
-        const detail::PrefixRun run = pool.run(
-            count, StopRequest(),
-            [&](std::size_t worker, std::size_t item) {
-              if (worker >= workers) is_worker_in_range = false;
-              ++processed[item];
-            },
-            nullptr,
-            [&](std::size_t item) {
-              EXPECT_EQ(processed[item].load(), 1) << "consumed before it was processed";
-              consumed.push_back(item);
-              return !(halts && item == halt_at);
-            });
-        EXPECT_TRUE(is_worker_in_range);
-        EXPECT_EQ(run.stopped, StopReason::none);
-        EXPECT_EQ(run.consumed, consumed.size());
-        for (std::size_t i = 0; i < consumed.size(); ++i) EXPECT_EQ(consumed[i], i);
-        if (workers == 1 || count <= 1) {  // inline: consuming is left to the caller
-          EXPECT_TRUE(consumed.empty());
-          EXPECT_EQ(run.prefix, count);
-        } else if (halts) {
-          EXPECT_EQ(consumed.size(), halt_at + 1) << workers << " workers, " << count << " items";
-          EXPECT_GE(run.prefix, halt_at + 1);
-        } else {
-          EXPECT_EQ(consumed.size(), count);
-          EXPECT_EQ(run.prefix, count);
-          for (std::size_t i = 0; i < count; ++i) EXPECT_EQ(processed[i].load(), 1);
+      std::vector<std::atomic<int>> processed(count);
+      std::atomic<bool> is_worker_in_range{true};
+      const detail::PrefixRun run = pool.run(
+          count, StopRequest(),
+          [&](std::size_t worker, std::size_t item) {
+            if (worker >= workers) is_worker_in_range = false;
+            ++processed[item];
+          },
+          nullptr);
+      EXPECT_TRUE(is_worker_in_range);
+      EXPECT_EQ(run.stopped, StopReason::none);
+      EXPECT_EQ(run.prefix, count);
+      for (std::size_t i = 0; i < count; ++i) EXPECT_EQ(processed[i].load(), 1);
+    }
+  }
+}
+
+// A walk-shaped run of detail::WalkPipeline: each consumed task adds two
+// children until `total` tasks exist, levels are consumed in the reverse of
+// the order their tasks were added (as a walk sorts each level). Records
+// what was consumed, in order.
+struct PipelineRun {
+  std::vector<std::size_t> consumed;
+  StopReason stopped = StopReason::none;
+  bool is_worker_in_range = true;
+  bool is_consumed_unprocessed = false;
+};
+
+PipelineRun run_tree_pipeline(std::size_t workers, std::size_t window, std::size_t total, std::size_t halt_after,
+                              const std::function<void(std::size_t task)>& on_process = nullptr) {
+  PipelineRun out;
+  detail::WalkPipeline pipeline(workers, window);
+  std::vector<std::size_t> level{pipeline.add(ActivationPattern{{NeuronState::on}})};
+  std::vector<std::size_t> next_level;
+  std::size_t added = 1, position = 0;
+  std::mutex processed_mutex;
+  std::vector<int> processed(total, 0);
+  out.stopped = pipeline.run(
+      level.front(), StopRequest(),
+      [&](std::size_t worker, detail::WalkTask& task) {
+        if (worker >= workers) out.is_worker_in_range = false;
+        const std::size_t index = task.pattern.states.size() - 1;  // the pattern encodes its task's number
+        if (on_process) on_process(index);
+        task.processed = std::make_unique<detail::Processed>();
+        task.processed->degenerate_crossings = index;
+        const std::lock_guard lock(processed_mutex);
+        ++processed[index];
+      },
+      [&](std::size_t index, detail::WalkTask& task) -> std::optional<std::size_t> {
+        {
+          const std::lock_guard lock(processed_mutex);
+          if (processed[index] != 1 || task.processed->degenerate_crossings != index)
+            out.is_consumed_unprocessed = true;
         }
+        out.consumed.push_back(index);
+        if (out.consumed.size() == halt_after) return std::nullopt;
+        for (int child = 0; child < 2 && added < total; ++child, ++added) {
+          ActivationPattern pattern{std::vector<NeuronState>(added + 1, NeuronState::off)};
+          next_level.push_back(pipeline.add(std::move(pattern)));
+        }
+        if (++position < level.size()) return level[position];
+        level.assign(next_level.rbegin(), next_level.rend());
+        next_level.clear();
+        position = 0;
+        if (level.empty()) return std::nullopt;
+        pipeline.release_before(*std::min_element(level.begin(), level.end()));
+        return level.front();
+      },
+      nullptr);
+  return out;
+}
+
+// The tasks are consumed in the order asked for, each once and only after
+// it was processed, for any thread count and window; a consume that ends the
+// run ends it right there.
+TEST(WalkPipeline, ConsumesInTheOrderAskedForAnyThreadCount) {
+  const PipelineRun reference = run_tree_pipeline(1, 1, 300, 0);
+  ASSERT_EQ(reference.consumed.size(), 300u);
+  EXPECT_EQ(reference.consumed[1], 2u);  // level 1 reversed: task 2 before task 1
+  std::vector<std::size_t> sorted = reference.consumed;
+  std::sort(sorted.begin(), sorted.end());
+  for (std::size_t i = 0; i < sorted.size(); ++i) EXPECT_EQ(sorted[i], i);
+  for (std::size_t workers : {1u, 2u, 3u}) {
+    for (std::size_t window : {1u, 4u, 1000u}) {
+      for (std::size_t halt_after : {0u, 1u, 77u}) {
+        const PipelineRun run = run_tree_pipeline(workers, window, 300, halt_after);
+        const std::size_t expected = halt_after ? halt_after : 300;
+        EXPECT_EQ(run.consumed, std::vector<std::size_t>(reference.consumed.begin(),
+                                                         reference.consumed.begin() + static_cast<long>(expected)))
+            << workers << " workers, window " << window;
+        EXPECT_EQ(run.stopped, StopReason::none);
+        EXPECT_TRUE(run.is_worker_in_range);
+        EXPECT_FALSE(run.is_consumed_unprocessed);
       }
     }
+  }
+}
+
+// A task that throws ends the run with that exception; Stopped inside a task
+// stops the run with its reason, leaving that task (and everything consumed
+// after it) out: what was consumed is a prefix of the whole order.
+TEST(WalkPipeline, RethrowsAndStops) {
+  const PipelineRun whole = run_tree_pipeline(1, 1, 200, 0);
+  for (std::size_t workers : {1u, 2u, 3u}) {
+    EXPECT_THROW(run_tree_pipeline(workers, 8, 200, 0,
+                                   [](std::size_t task) {
+                                     if (task == 57) throw std::runtime_error("task 57");
+                                   }),
+                 std::runtime_error);
+    const PipelineRun stopped = run_tree_pipeline(workers, 8, 200, 0, [](std::size_t task) {
+      if (task == 91) throw Stopped(StopReason::time_limit);
+    });
+    EXPECT_EQ(stopped.stopped, StopReason::time_limit);
+    const auto at = std::find(whole.consumed.begin(), whole.consumed.end(), 91u) - whole.consumed.begin();
+    EXPECT_LE(stopped.consumed.size(), static_cast<std::size_t>(at));
+    EXPECT_EQ(stopped.consumed, std::vector<std::size_t>(whole.consumed.begin(),
+                                                         whole.consumed.begin() + static_cast<long>(stopped.consumed.size())));
+    EXPECT_FALSE(stopped.is_consumed_unprocessed);
   }
 }
 

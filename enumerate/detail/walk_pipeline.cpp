@@ -1,0 +1,209 @@
+#include "enumerate/detail/walk_pipeline.hpp"
+
+#include <algorithm>
+#include <chrono>
+#include <thread>
+#include <utility>
+#include <vector>
+
+namespace pleat::detail {
+
+struct WalkPipeline::Hooks {
+  const StopRequest& stop;
+  const Process& process;
+  const Consume& consume;
+  const Tick& on_tick;
+};
+
+WalkPipeline::WalkPipeline(std::size_t workers, std::size_t window)
+    : workers_(std::max<std::size_t>(1, workers)), window_(std::max<std::size_t>(1, window)) {}
+
+std::size_t WalkPipeline::add(ActivationPattern pattern) {
+  const std::lock_guard lock(mutex_);
+  tasks_.push_back(WalkTask{std::move(pattern), nullptr});
+  states_.push_back(State::waiting);
+  return offset_ + tasks_.size() - 1;
+}
+
+void WalkPipeline::release_before(std::size_t before) {
+  const std::lock_guard lock(mutex_);
+  while (offset_ < before && !tasks_.empty()) {
+    tasks_.pop_front();
+    states_.pop_front();
+    ++offset_;
+  }
+  next_claim_ = std::max(next_claim_, offset_);
+}
+
+bool WalkPipeline::is_needed_done() const {
+  return needed_ && states_[*needed_ - offset_] == State::done;
+}
+
+// The task the consumer needs when nobody has it yet; else the first waiting
+// task in the order added, unless the window is full.
+std::optional<std::size_t> WalkPipeline::claim() {
+  const auto take = [&](std::size_t index) {
+    states_[index - offset_] = State::claimed;
+    ++in_flight_;
+    ++held_;
+    return index;
+  };
+  if (needed_ && states_[*needed_ - offset_] == State::waiting) return take(*needed_);
+  if (held_ >= window_) return std::nullopt;
+  const std::size_t end = offset_ + states_.size();
+  while (next_claim_ < end && states_[next_claim_ - offset_] != State::waiting) ++next_claim_;
+  if (next_claim_ == end) return std::nullopt;
+  return take(next_claim_++);
+}
+
+// Under the lock: wakes the sleeping threads and ends the spinning ones' wait.
+void WalkPipeline::signal_change() {
+  version_.fetch_add(1, std::memory_order_release);
+  changed_.notify_all();
+}
+
+void WalkPipeline::fail(std::exception_ptr error) {
+  if (!error_) error_ = std::move(error);
+  is_over_ = true;
+  signal_change();
+}
+
+// Called and returns with the lock held; processes without it.
+void WalkPipeline::process_one(std::unique_lock<std::mutex>& lock, std::size_t worker, std::size_t index,
+                               const Hooks& hooks) {
+  WalkTask& task = tasks_[index - offset_];  // stays put: a deque's elements do not move on push_back
+  lock.unlock();
+  State finished = State::done;
+  try {
+    hooks.process(worker, task);
+  } catch (const Stopped& stopped) {  // mid-task: it stays unprocessed
+    lock.lock();
+    if (stopped_ == StopReason::none) stopped_ = stopped.reason();
+    finished = State::waiting;
+  } catch (...) {
+    lock.lock();
+    fail(std::current_exception());
+    finished = State::waiting;
+  }
+  if (!lock.owns_lock()) lock.lock();
+  states_[index - offset_] = finished;
+  --in_flight_;
+  if (finished == State::waiting) --held_;
+  // Someone may be waiting to consume it, or (stopped) for the last task in flight.
+  if (needed_ == index || stopped_ != StopReason::none) signal_change();
+}
+
+// Consumes while the task needed next is done; one thread at a time.
+void WalkPipeline::consume_ready(std::unique_lock<std::mutex>& lock, const Hooks& hooks) {
+  static const StopRequest never;
+  is_consuming_ = true;
+  while (!is_over_ && is_needed_done()) {
+    const std::size_t index = *needed_;
+    WalkTask& task = tasks_[index - offset_];
+    lock.unlock();
+    std::optional<std::size_t> next;
+    try {
+      const StopScope unstoppable(never);  // consume has no partial result to abandon
+      next = hooks.consume(index, task);
+    } catch (...) {
+      lock.lock();
+      fail(std::current_exception());
+      break;
+    }
+    lock.lock();
+    ++consumed_;
+    --held_;
+    needed_ = next;
+    if (!next) is_over_ = true;
+    signal_change();  // new tasks, a new task needed, room in the window, or the end
+  }
+  is_consuming_ = false;
+}
+
+// Nothing to do: before sleeping, watch for a change for a while without the
+// lock. The consumer adds tasks every few tens of microseconds, and waking a
+// sleeping thread costs about as much. Yielding, not pausing, between looks:
+// on a busy machine the thread whose work it waits for may need this core.
+// True when something changed.
+bool WalkPipeline::spin_for_change(std::unique_lock<std::mutex>& lock) {
+  using clock = std::chrono::steady_clock;
+  const std::uint64_t seen = version_.load(std::memory_order_acquire);
+  lock.unlock();
+  const auto until = clock::now() + std::chrono::microseconds(200);
+  bool is_changed = false;
+  while (!is_changed && clock::now() < until) {
+    std::this_thread::yield();
+    is_changed = version_.load(std::memory_order_acquire) != seen;
+  }
+  lock.lock();
+  return is_changed || version_.load(std::memory_order_relaxed) != seen;
+}
+
+void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
+  using clock = std::chrono::steady_clock;
+  auto last_tick = clock::now();
+  const auto tick = [&](std::unique_lock<std::mutex>& lock) {
+    if (worker != 0 || !hooks.on_tick || clock::now() - last_tick < std::chrono::milliseconds(200)) return;
+    const std::size_t consumed = consumed_;
+    const std::size_t added = offset_ + tasks_.size();
+    lock.unlock();
+    hooks.on_tick(consumed, added);
+    lock.lock();
+    last_tick = clock::now();
+  };
+  const StopScope scope(hooks.stop);
+  std::unique_lock lock(mutex_);
+  while (!is_over_) {
+    if (!is_consuming_ && is_needed_done()) {
+      consume_ready(lock, hooks);
+      continue;
+    }
+    if (stopped_ == StopReason::none) {
+      if (const StopReason reason = hooks.stop.reason(); reason != StopReason::none) {
+        stopped_ = reason;
+        signal_change();
+      }
+    }
+    if (stopped_ != StopReason::none) break;  // what is done gets consumed by whoever finishes it
+    if (const auto index = claim()) {
+      process_one(lock, worker, *index, hooks);
+      tick(lock);
+      continue;
+    }
+    if (spin_for_change(lock)) continue;
+    // INSTR-WAIT
+    if (worker == 0) {
+      changed_.wait_for(lock, std::chrono::milliseconds(200));
+      tick(lock);
+    } else {
+      changed_.wait(lock);
+    }
+  }
+}
+
+StopReason WalkPipeline::run(std::size_t first, const StopRequest& stop, const Process& process,
+                             const Consume& consume, const Tick& on_tick) {
+  const Hooks hooks{stop, process, consume, on_tick};
+  {
+    const std::lock_guard lock(mutex_);
+    needed_ = first;
+  }
+  std::vector<std::thread> threads;
+  try {
+    for (std::size_t worker = 1; worker < workers_; ++worker)
+      threads.emplace_back([this, worker, &hooks] { serve(worker, hooks); });
+  } catch (...) {  // a thread that could not start: end those that did
+    {
+      const std::lock_guard lock(mutex_);
+      fail(std::current_exception());
+    }
+    for (auto& thread : threads) thread.join();
+    throw;
+  }
+  serve(0, hooks);
+  for (auto& thread : threads) thread.join();
+  if (error_) std::rethrow_exception(error_);
+  return stopped_;
+}
+
+}  // namespace pleat::detail

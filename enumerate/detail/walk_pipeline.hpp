@@ -1,0 +1,104 @@
+// A walk's region work and its ordered delivery, run together on a walk's
+// threads with no barrier between levels (walk_regions with
+// WalkOptions::on_region_in_pool). Internal to enumerate/ (not installed).
+#pragma once
+
+#include "core/pattern.hpp"
+#include "core/stop.hpp"
+#include "enumerate/detail/region_processor.hpp"
+
+#include <atomic>
+#include <condition_variable>
+#include <cstddef>
+#include <cstdint>
+#include <deque>
+#include <exception>
+#include <functional>
+#include <memory>
+#include <mutex>
+#include <optional>
+
+namespace pleat::detail {
+
+// One pattern of the walk and, once a worker has processed it, its region.
+struct WalkTask {
+  ActivationPattern pattern;
+  std::unique_ptr<Processed> processed;  // written by the thread that processed the task
+};
+
+// Tasks are numbered 0, 1, 2, ... in the order they are added. Any thread
+// processes any task, preferring the one the consumer needs next, then the
+// others in the order they were added; one thread at a time consumes them in
+// the order the consumer asks for, while the others go on processing. So a
+// walk's next level is processed while this one is still being delivered,
+// and what is delivered, and in which order, does not depend on the thread
+// count.
+class WalkPipeline {
+ public:
+  // process(worker, task): fills task.processed; runs concurrently with other
+  // calls and with consume, under a StopScope of run's request; must touch
+  // only its own task and what consume does not write.
+  using Process = std::function<void(std::size_t worker, WalkTask& task)>;
+  // consume(index, task): the task's processed region, one call at a time, in
+  // the order asked for and with no StopScope; may add tasks and release
+  // consumed ones. Returns the index of the task it needs next (added
+  // already), or nothing: the run is over.
+  using Consume = std::function<std::optional<std::size_t>(std::size_t index, WalkTask& task)>;
+  // on_tick(consumed, added): every 0.2 s, on the thread that called run.
+  using Tick = std::function<void(std::size_t consumed, std::size_t added)>;
+
+  // workers >= 1 threads, the caller's included; at most `window` tasks
+  // (at least 1) are processed or in process and not yet consumed, besides
+  // the one the consumer needs (it bounds the regions held in memory).
+  WalkPipeline(std::size_t workers, std::size_t window);
+  WalkPipeline(const WalkPipeline&) = delete;
+  WalkPipeline& operator=(const WalkPipeline&) = delete;
+
+  // Adds a task (before run, or from consume); returns its index.
+  std::size_t add(ActivationPattern pattern);
+  // Frees tasks [.., before), which must all have been consumed (from consume).
+  void release_before(std::size_t before);
+
+  // Runs from task `first` (added already) until consume returns nothing, a
+  // stop, or an exception. A stop (stop.reason() polled between tasks, or
+  // Stopped thrown inside one, which leaves it unprocessed) ends the
+  // processing; tasks already processed are still consumed as long as the one
+  // needed next is among them. Returns the stop's reason (none when consume
+  // ended the run). Rethrows the first other exception once every thread has
+  // ended. Called once.
+  StopReason run(std::size_t first, const StopRequest& stop, const Process& process, const Consume& consume,
+                 const Tick& on_tick);
+
+ private:
+  enum class State : unsigned char { waiting, claimed, done };
+  struct Hooks;
+  void serve(std::size_t worker, const Hooks& hooks);
+  bool is_needed_done() const;
+  std::optional<std::size_t> claim();
+  void process_one(std::unique_lock<std::mutex>& lock, std::size_t worker, std::size_t index, const Hooks& hooks);
+  void consume_ready(std::unique_lock<std::mutex>& lock, const Hooks& hooks);
+  void signal_change();
+  bool spin_for_change(std::unique_lock<std::mutex>& lock);
+  void fail(std::exception_ptr error);
+
+  std::size_t workers_;
+  std::size_t window_;
+  std::mutex mutex_;
+  std::condition_variable changed_;
+  std::atomic<std::uint64_t> version_{0};  // counts changes others may wait for
+  // Everything below is guarded by mutex_.
+  std::deque<WalkTask> tasks_;  // tasks offset_, offset_ + 1, ...
+  std::deque<State> states_;
+  std::size_t offset_ = 0;
+  std::size_t next_claim_ = 0;           // no task below it is waiting
+  std::optional<std::size_t> needed_;    // the task consume asks for next
+  bool is_consuming_ = false;
+  bool is_over_ = false;                 // consume ended the run, or an exception did
+  StopReason stopped_ = StopReason::none;  // set: no task is started any more
+  std::size_t in_flight_ = 0;            // tasks being processed
+  std::size_t held_ = 0;                 // claimed and not yet consumed
+  std::size_t consumed_ = 0;
+  std::exception_ptr error_;
+};
+
+}  // namespace pleat::detail
