@@ -25,10 +25,10 @@ struct NeuronActivity {
   }
 };
 
-// Each extra direction (a row of extra, its nonzero entries moved out of it
-// into the dense vector) with its mechanism, named on up to `threads` threads in chunks (progress(done)
-// between chunks, from the calling thread, which also polls the stop
-// request). The same for any thread count; the names depend only on the
+// Each extra direction (a row of extra, its nonzero entries moved out of
+// it into the dense vector) with its mechanism, named on up to `threads`
+// threads in chunks (progress(done) between chunks, from the calling
+// thread, which also polls the stop request). The same for any thread count; the names depend only on the
 // vectors' supports, the network's parameters and the activity: the first
 // of zero outgoing weights, dead neuron, always-active neuron and duplicate
 // neurons whose neurons' parameters hold the whole support. Exact.

@@ -135,7 +135,8 @@ void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern&
 // The smallest index of a pattern the check rejects, checked on `threads`
 // threads (the answer does not depend on their number), or nullopt when all
 // pass. The patterns are taken in lexicographic order of their states, in
-// runs per thread, so that consecutive ones share their first layers' inputs. Sets stopped (and returns nullopt) when the stop request fires;
+// runs per thread, so that consecutive ones share their first layers'
+// inputs. Sets stopped (and returns nullopt) when the stop request fires;
 // progress(done, total) is called from the calling thread.
 [[nodiscard]]
 std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,

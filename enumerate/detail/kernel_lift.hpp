@@ -81,9 +81,10 @@ using LiftProgress = std::function<void(std::size_t)>;
 // and that is checked the same way. Returns nullopt when stopped (stopped is
 // set) or when nothing is proved (the walk's prime hid a row: bounds only).
 // The result (E's rows by their nonzero entries) is the same for any thread
-// count (E is unique: identity on L, zero on Q). lift_progress: 1 when further primes start, 2 for the exact
-// solve. prove_elsewhere, when given, decides each candidate instead of the
-// check on `smooth` here.
+// count (E is unique: identity on L, zero on Q). lift_progress: 1 when
+// further primes start, 2 for the exact solve. prove_elsewhere, when given,
+// decides each candidate (as a dense matrix) instead of the check on
+// `smooth` here.
 std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
     const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
