@@ -278,7 +278,6 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
             return std::nullopt;
           }
           tasks.release_before(*std::min_element(level.begin(), level.end()));  // the levels before: delivered
-          tasks.prefer(std::vector<std::size_t>(level.begin() + 1, level.end()));
           return level.front();
         },
         [&](std::size_t consumed, std::size_t added) {

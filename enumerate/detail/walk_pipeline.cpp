@@ -35,19 +35,12 @@ void WalkPipeline::release_before(std::size_t before) {
   next_claim_ = std::max(next_claim_, offset_);
 }
 
-void WalkPipeline::prefer(std::vector<std::size_t> order) {
-  const std::lock_guard lock(mutex_);
-  preferred_ = std::move(order);
-  next_preferred_ = 0;
-}
-
 bool WalkPipeline::is_needed_done() const {
   return needed_ && states_[*needed_ - offset_] == State::done;
 }
 
-// The task the consumer needs when nobody has it yet; else, unless the window
-// is full, the first waiting task in the order it will need them (prefer),
-// then in the order added.
+// The task the consumer needs when nobody has it yet; else the first waiting
+// task in the order added, unless the window is full.
 std::optional<std::size_t> WalkPipeline::claim() {
   const auto take = [&](std::size_t index) {
     states_[index - offset_] = State::claimed;
@@ -58,11 +51,6 @@ std::optional<std::size_t> WalkPipeline::claim() {
   if (needed_ && states_[*needed_ - offset_] == State::waiting) return take(*needed_);
   if (held_ >= window_) return std::nullopt;
   const std::size_t end = offset_ + states_.size();
-  const auto is_waiting = [&](std::size_t index) {
-    return index >= offset_ && index < end && states_[index - offset_] == State::waiting;
-  };
-  while (next_preferred_ < preferred_.size() && !is_waiting(preferred_[next_preferred_])) ++next_preferred_;
-  if (next_preferred_ < preferred_.size()) return take(preferred_[next_preferred_++]);
   while (next_claim_ < end && states_[next_claim_ - offset_] != State::waiting) ++next_claim_;
   if (next_claim_ == end) return std::nullopt;
   return take(next_claim_++);

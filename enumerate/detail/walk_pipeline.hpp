@@ -17,7 +17,6 @@
 #include <memory>
 #include <mutex>
 #include <optional>
-#include <vector>
 
 namespace pleat::detail {
 
@@ -59,9 +58,6 @@ class WalkPipeline {
   std::size_t add(ActivationPattern pattern);
   // Frees tasks [.., before), which must all have been consumed (from consume).
   void release_before(std::size_t before);
-  // The order consume will ask for these tasks (added already) in: idle
-  // threads take them in this order, before the others (from consume).
-  void prefer(std::vector<std::size_t> order);
 
   // Runs from task `first` (added already) until consume returns nothing, a
   // stop, or an exception. A stop (stop.reason() polled between tasks, or
@@ -95,8 +91,6 @@ class WalkPipeline {
   std::deque<State> states_;
   std::size_t offset_ = 0;
   std::size_t next_claim_ = 0;           // no task below it is waiting
-  std::vector<std::size_t> preferred_;   // prefer's order
-  std::size_t next_preferred_ = 0;       // none before it in preferred_ is waiting
   std::optional<std::size_t> needed_;    // the task consume asks for next
   bool is_consuming_ = false;
   bool is_over_ = false;                 // consume ended the run, or an exception did

@@ -260,8 +260,7 @@ struct PipelineRun {
 };
 
 PipelineRun run_tree_pipeline(std::size_t workers, std::size_t window, std::size_t total, std::size_t halt_after,
-                              const std::function<void(std::size_t task)>& on_process = nullptr,
-                              bool prefers = false) {
+                              const std::function<void(std::size_t task)>& on_process = nullptr) {
   PipelineRun out;
   detail::WalkPipeline pipeline(workers, window);
   std::vector<std::size_t> level{pipeline.add(ActivationPattern{{NeuronState::on}})};
@@ -298,7 +297,6 @@ PipelineRun run_tree_pipeline(std::size_t workers, std::size_t window, std::size
         position = 0;
         if (level.empty()) return std::nullopt;
         pipeline.release_before(*std::min_element(level.begin(), level.end()));
-        if (prefers) pipeline.prefer(std::vector<std::size_t>(level.begin() + 1, level.end()));
         return level.front();
       },
       nullptr);
@@ -306,9 +304,8 @@ PipelineRun run_tree_pipeline(std::size_t workers, std::size_t window, std::size
 }
 
 // The tasks are consumed in the order asked for, each once and only after
-// it was processed, for any thread count and window, whether idle threads
-// were told that order or not; a consume that ends the run ends it right
-// there.
+// it was processed, for any thread count and window; a consume that ends the
+// run ends it right there.
 TEST(WalkPipeline, ConsumesInTheOrderAskedForAnyThreadCount) {
   const PipelineRun reference = run_tree_pipeline(1, 1, 300, 0);
   ASSERT_EQ(reference.consumed.size(), 300u);
@@ -319,8 +316,7 @@ TEST(WalkPipeline, ConsumesInTheOrderAskedForAnyThreadCount) {
   for (std::size_t workers : {1u, 2u, 3u}) {
     for (std::size_t window : {1u, 4u, 1000u}) {
       for (std::size_t halt_after : {0u, 1u, 77u}) {
-        // Idle threads take the level's tasks in the order asked for (prefer) or as added.
-        const PipelineRun run = run_tree_pipeline(workers, window, 300, halt_after, nullptr, halt_after != 1);
+        const PipelineRun run = run_tree_pipeline(workers, window, 300, halt_after);
         const std::size_t expected = halt_after ? halt_after : 300;
         EXPECT_EQ(run.consumed, std::vector<std::size_t>(reference.consumed.begin(),
                                                          reference.consumed.begin() + static_cast<long>(expected)))
