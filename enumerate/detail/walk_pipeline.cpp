@@ -171,7 +171,6 @@ void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
       continue;
     }
     if (spin_for_change(lock)) continue;
-    // INSTR-WAIT
     if (worker == 0) {
       changed_.wait_for(lock, std::chrono::milliseconds(200));
       tick(lock);

@@ -6,8 +6,10 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <atomic>
 #include <cstdint>
+#include <numeric>
 #include <random>
 
 namespace pleat {
@@ -398,6 +400,32 @@ TEST(RowSpaceBasisModulo, ManyBlocksGiveTheReducedEchelonForm) {
     span.add_row(basis.row(r));
   }
   for (std::size_t r = 0; r < m.rows(); ++r) ASSERT_TRUE(span.contains(m.row(r))) << "row " << r;
+}
+
+// ModularRowBasis's stored rows are the reduced echelon form of what was
+// added, for primes on both sides of 2^62 (below it the pivot column is
+// cleared with lazily reduced sums in [0, 3p), from it up to 2^63 with every
+// product reduced) and for a small prime: FLINT's reduced echelon form of the
+// same rows (row_space_basis_modulo) is the reference.
+TEST(ModularRowBasis, RowsAreTheReducedEchelonFormForAnyPrime) {
+  std::mt19937_64 random(59);
+  for (const std::uint64_t prime : {std::uint64_t{1000003}, std::uint64_t{4611686018427387847},   // below 2^62
+                                    std::uint64_t{4611686018427388039},                         // above 2^62
+                                    std::uint64_t{9223372036854775783}}) {                      // below 2^63
+    const ModularMatrix m = random_modular_matrix_of_rank(random, 90, 50, 70, prime);
+    ModularRowBasis basis(prime, m.cols());
+    for (std::size_t r = 0; r < m.rows(); ++r) basis.add_row_screened(m.row(r));
+    ASSERT_EQ(basis.rank(), 50u) << prime;
+    const ModularMatrix rows = basis.rows();
+    std::vector<std::size_t> order(rows.rows());
+    std::iota(order.begin(), order.end(), 0);
+    std::sort(order.begin(), order.end(),
+              [&](std::size_t a, std::size_t b) { return basis.pivot_columns()[a] < basis.pivot_columns()[b]; });
+    const ModularMatrix reference = row_space_basis_modulo(m, prime);
+    ASSERT_EQ(reference.rows(), rows.rows());
+    for (std::size_t r = 0; r < rows.rows(); ++r) EXPECT_EQ(rows.row(order[r]), reference.row(r)) << prime << " row " << r;
+    for (std::size_t r = 0; r < m.rows(); ++r) EXPECT_FALSE(basis.passes_screen(m.row(r))) << prime << " row " << r;
+  }
 }
 
 // The kernel of the same matrix: cols - rank rows, each annihilating M
