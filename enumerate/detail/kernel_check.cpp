@@ -157,10 +157,9 @@ void layer_inputs(const ModularMatrix& weights, const std::vector<std::uint64_t>
 // reuse_below: the layer inputs 1..reuse_below (the outputs of layers below
 // reuse_below) are those already in factors, from a pattern that agrees with
 // this one on every neuron of those layers (same network and forward_to).
-void region_factors(const ModularNetwork& network, const ActivationPattern& pattern, std::size_t forward_to,
-                    std::size_t backward_to, RegionFactors& factors, std::size_t reuse_below = 0) {
-  nmod_t mod;
-  nmod_init(&mod, network.prime);
+void region_factors(const ModularNetwork& network, const nmod_t& mod, const ActivationPattern& pattern,
+                    std::size_t forward_to, std::size_t backward_to, RegionFactors& factors,
+                    std::size_t reuse_below = 0) {
   const std::size_t depth = network.weights.size(), n0 = network.input_dim;
   const std::size_t nd = network.bias.back().size();
   factors.passing.resize(depth);
@@ -265,7 +264,9 @@ void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern&
   }
   if (columns.empty()) return;
   thread_local RegionFactors factors;
-  region_factors(network, pattern, forward_to, backward_to, factors);
+  nmod_t mod;
+  nmod_init(&mod, network.prime);
+  region_factors(network, mod, pattern, forward_to, backward_to, factors);
   const std::uint64_t prime = network.prime, inverse = n_preinvert_limb(prime);
   const std::size_t n0 = network.input_dim;
   for (std::size_t r = 0; r < rows.size(); ++r) {
@@ -343,6 +344,7 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
     const std::uint64_t prime = primes[m];
     Modulus& modulus = moduli_[m];
     modulus.network = *reduce_modulo(network, prime);
+    modulus.prime_inverse = n_preinvert_limb(prime);
     modulus.backward_to = network.depth();
     for (std::size_t v : checked[m]) {
       std::vector<Entry> sparse;
@@ -456,8 +458,10 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
     const Modulus& modulus = moduli_[m];
     poll_stop();
     if (modulus.vectors.empty() && modulus.units.empty()) continue;
-    nmod_t mod;
-    nmod_init(&mod, modulus.network.prime);
+    nmod_t mod;  // nmod_init's, with the inverse computed once
+    mod.n = modulus.network.prime;
+    mod.ninv = modulus.prime_inverse;
+    count_leading_zeros(mod.norm, mod.n);
     RegionFactors& factors = reuse.factors[m];
     std::vector<NeuronState>& last = reuse.patterns[m];
     // The inputs of the layers before the first neuron that differs from
@@ -469,7 +473,7 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
       same = n < neuron_layer_.size() ? neuron_layer_[n] : modulus.network.weights.size();
     }
     last.clear();  // invalid until the factors are complete
-    region_factors(modulus.network, pattern, modulus.forward_to, modulus.backward_to, factors, same);
+    region_factors(modulus.network, mod, pattern, modulus.forward_to, modulus.backward_to, factors, same);
     last = pattern.states;
     const std::size_t nd = modulus.network.bias.back().size();
     const std::size_t n0 = modulus.network.input_dim;

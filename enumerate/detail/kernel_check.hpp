@@ -103,6 +103,7 @@ class AnnihilationCheck {
   };
   struct Modulus {
     ModularNetwork network;
+    std::uint64_t prime_inverse = 0;  // FLINT's n_preinvert_limb(network.prime), once
     // Sparse, residues, in parameter order (a vector with every residue 0
     // is left out: it annihilates every row modulo this prime); the vectors
     // with one entry apart (a zero test each).
