@@ -128,27 +128,8 @@ inline std::uint64_t multiply_shoup(std::uint64_t factor, std::uint64_t value, s
   return result - (prime & (0 - static_cast<std::uint64_t>(result >= prime)));
 }
 
-// target -= factor * source (mod p), entry by entry, as target + (p -
-// factor) * source: Shoup's product left in [0, 2p), the sum in [0, 3p)
-// brought down by two conditional subtractions. Needs 3p < 2^64 (p < 2^62).
+// target -= factor * source (mod p), entry by entry.
 void subtract_multiple(ModularVector& target, const ModularVector& source, std::uint64_t factor,
-                       std::uint64_t prime) {
-  const std::uint64_t negated = factor == 0 ? 0 : prime - factor;
-  const std::uint64_t precomputed = n_mulmod_precomp_shoup(negated, prime);
-  const auto below = [prime](std::uint64_t value) {
-    const std::uint64_t less = value - prime;
-    return value >= prime ? less : value;  // a conditional move: no branch to mispredict
-  };
-  for (std::size_t j = 0; j < target.size(); ++j) {
-    const auto quotient = static_cast<std::uint64_t>((static_cast<Wide>(precomputed) * source[j]) >> 64);
-    const std::uint64_t product = negated * source[j] - quotient * prime;  // in [0, 2p)
-    target[j] = below(below(target[j] + product));
-  }
-}
-
-// The same for any p < 2^63: the product reduced first, the difference
-// corrected once.
-void subtract_multiple_wide_prime(ModularVector& target, const ModularVector& source, std::uint64_t factor,
                                   std::uint64_t prime) {
   const std::uint64_t precomputed = n_mulmod_precomp_shoup(factor, prime);
   for (std::size_t j = 0; j < target.size(); ++j) {
@@ -306,10 +287,7 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
     if (part[q] != 0) {
       const std::uint64_t lost = n_mulmod2_preinv(part[q], new_along, prime_, prime_inverse_);
       screen_along_[i] = n_submod(screen_along_[i], lost, prime_);
-      if (prime_ < (std::uint64_t{1} << 62))
-        subtract_multiple(part, reduced, part[q], prime_);
-      else
-        subtract_multiple_wide_prime(part, reduced, part[q], prime_);
+      subtract_multiple(part, reduced, part[q], prime_);
     }
     drop_entry(part, q);
   }

@@ -403,10 +403,10 @@ TEST(RowSpaceBasisModulo, ManyBlocksGiveTheReducedEchelonForm) {
 }
 
 // ModularRowBasis's stored rows are the reduced echelon form of what was
-// added, for primes on both sides of 2^62 (below it the pivot column is
-// cleared with lazily reduced sums in [0, 3p), from it up to 2^63 with every
-// product reduced) and for a small prime: FLINT's reduced echelon form of the
-// same rows (row_space_basis_modulo) is the reference.
+// added, for primes on both sides of 2^62 (the residual's runs of products
+// without a wrap check are 16 long below it, shorter above), below 2^63 and
+// a small prime: FLINT's reduced echelon form of the same rows
+// (row_space_basis_modulo) is the reference.
 TEST(ModularRowBasis, RowsAreTheReducedEchelonFormForAnyPrime) {
   std::mt19937_64 random(59);
   for (const std::uint64_t prime : {std::uint64_t{1000003}, std::uint64_t{4611686018427387847},   // below 2^62
