@@ -198,12 +198,25 @@ SurveyConfiguration configuration_from_header(const Json& header, const std::str
     configuration.domain = make_whole_space(dim);
   } else if (domain.is_object() && domain.contains("box")) {
     RationalVector lower, upper;
-    for (const Json& interval : domain["box"]) {
-      lower.push_back(parse_rational(interval.at(0).get<std::string>()));
-      upper.push_back(parse_rational(interval.at(1).get<std::string>()));
+    const Json& box = domain["box"];
+    if (!box.is_array()) throw input_error(where + ": the domain's 'box' is not a list of intervals");
+    for (const Json& interval : box) {
+      // Each interval is ["lo", "hi"], exact numbers as strings (pleat survey writes them so).
+      if (!interval.is_array() || interval.size() != 2 || !interval[0].is_string() || !interval[1].is_string())
+        throw input_error(where + ": a 'box' interval is not a pair of exact numbers as strings [\"lo\", \"hi\"]");
+      try {
+        lower.push_back(parse_rational(interval[0].get<std::string>()));
+        upper.push_back(parse_rational(interval[1].get<std::string>()));
+      } catch (const input_error& error) {
+        throw input_error(where + ": a 'box' bound: " + error.what());
+      }
     }
     if (lower.size() != dim) throw input_error(where + ": the box's dimension differs from the input width");
-    configuration.domain = make_box(lower, upper);
+    try {
+      configuration.domain = make_box(lower, upper);
+    } catch (const input_error& error) {
+      throw input_error(where + ": the domain's 'box': " + error.what());
+    }
   } else if (domain.is_object() && domain.contains("constraints")) {
     const PolytopeDocument document = parse_domain(domain.dump());
     std::vector<lp::Constraint> constraints;

@@ -60,6 +60,15 @@ edit huge_digits 1 'd["digits"] = 3.3e54'
 expect_refused huge_digits 1 "key 'digits' has the wrong type"
 edit negative_regions 2 'd["regions"] = -1'
 expect_refused negative_regions 2 "key 'regions' has the wrong type"
+# A header's box domain that is not a list of ["lo", "hi"] string pairs, or
+# an empty interval (an empty pair, found by the survey reader's fuzzer, was
+# "internal error: array index 0 is out of range"), is the file's error.
+edit box_empty_pair 1 'd["domain"] = {"box": [[]]}'
+expect_refused box_empty_pair 1 "a 'box' interval is not a pair of exact numbers as strings"
+edit box_number 1 'd["domain"] = {"box": 5}'
+expect_refused box_number 1 "the domain's 'box' is not a list of intervals"
+edit box_empty_axis 1 'd["domain"] = {"box": [["2", "1"], ["0", "1"]]}'
+expect_refused box_empty_axis 1 "axis 0 has lower bound 2 not below upper bound 1"
 edit value_differs 2 'd["functional_dimension"] = 7'
 expect_refused value_differs 2 "functional_dimension 7 differs from its bounds 10"
 edit early 4 'd.update(certified=False, functional_dimension=None, lower_bound=5, upper_bound=10, early_stop=True)'
