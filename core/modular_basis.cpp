@@ -130,7 +130,7 @@ inline std::uint64_t multiply_shoup(std::uint64_t factor, std::uint64_t value, s
 
 // target -= factor * source (mod p), entry by entry.
 void subtract_multiple(ModularVector& target, const ModularVector& source, std::uint64_t factor,
-                                  std::uint64_t prime) {
+                       std::uint64_t prime) {
   const std::uint64_t precomputed = n_mulmod_precomp_shoup(factor, prime);
   for (std::size_t j = 0; j < target.size(); ++j) {
     const std::uint64_t product = multiply_shoup(factor, source[j], precomputed, prime);

@@ -16,23 +16,13 @@ namespace pleat::detail {
 namespace {
 
 // A row's entries scaled by a positive number to a primitive integer
-// vector (the scale does not change which combinations vanish).
+// vector (primitive_integers), with their columns.
 std::vector<std::pair<std::size_t, Integer>> primitive_integer_entries(const SparseRationalRows::Row& row) {
-  Integer scale = 1, content = 0;
+  std::vector<Integer> values;
+  primitive_integers(row.size(), [&](std::size_t e) -> const Rational& { return row[e].second; }, values);
   std::vector<std::pair<std::size_t, Integer>> out;
   out.reserve(row.size());
-  for (const auto& [c, value] : row) {
-    mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), value.get_den_mpz_t());
-    out.emplace_back(c, 0);
-  }
-  for (std::size_t e = 0; e < row.size(); ++e) {
-    Integer& value = out[e].second;
-    mpz_divexact(value.get_mpz_t(), scale.get_mpz_t(), row[e].second.get_den_mpz_t());
-    value *= row[e].second.get_num();
-    mpz_gcd(content.get_mpz_t(), content.get_mpz_t(), value.get_mpz_t());
-  }
-  if (content > 1)
-    for (auto& entry : out) mpz_divexact(entry.second.get_mpz_t(), entry.second.get_mpz_t(), content.get_mpz_t());
+  for (std::size_t e = 0; e < row.size(); ++e) out.emplace_back(row[e].first, std::move(values[e]));
   return out;
 }
 
@@ -87,6 +77,30 @@ decltype(auto) with_input_count(std::size_t n0, Body&& body) {
   }
 }
 
+// The n0 + 1 sums of a row (offset, then the n0 slopes): `fixed` when n0 is
+// known at compile time (Inputs > 0: the sums stay in registers), else a
+// buffer of this thread's. Not zeroed.
+template <std::size_t Inputs>
+[[gnu::always_inline]] inline Wide* row_sums(std::array<Wide, Inputs + 1>& fixed, std::size_t n0) {
+  if constexpr (Inputs > 0) {
+    return fixed.data();
+  } else {
+    thread_local std::vector<Wide> buffer;
+    buffer.resize(n0 + 1);
+    return buffer.data();
+  }
+}
+
+// Counts one more product into each of the n0 + 1 sums and reduces them
+// when `limit` (products_between_reductions) have gone in since the last
+// reduction, before the next could overflow.
+[[gnu::always_inline]] inline void reduce_when_due(Wide* sums, std::size_t n0, unsigned& pending, unsigned limit,
+                                                   const nmod_t& mod) {
+  if (++pending < limit) return;
+  for (std::size_t t = 0; t <= n0; ++t) sums[t] = reduce_wide(sums[t], mod);
+  pending = 0;
+}
+
 // A sum of products of residues modulo a prime, in 128 bits, reduced only
 // when more products could overflow.
 class LazySum {
@@ -123,13 +137,8 @@ void layer_inputs(const ModularMatrix& weights, const std::vector<std::uint64_t>
                   const nmod_t& mod) {
   const std::size_t n0 = Inputs > 0 ? Inputs : n0_at_run_time;
   const unsigned limit = products_between_reductions(mod.n);
-  std::array<Wide, Inputs + 1> fixed{};
-  Wide* sums = fixed.data();
-  if constexpr (Inputs == 0) {
-    thread_local std::vector<Wide> buffer;
-    buffer.resize(n0 + 1);
-    sums = buffer.data();
-  }
+  std::array<Wide, Inputs + 1> fixed;
+  Wide* sums = row_sums<Inputs>(fixed, n0);
   for (std::size_t i : passing) {
     std::fill(sums, sums + n0 + 1, Wide{0});
     sums[0] = bias[i];
@@ -139,10 +148,7 @@ void layer_inputs(const ModularMatrix& weights, const std::vector<std::uint64_t>
       sums[0] += static_cast<Wide>(w) * in_offset[j];
       const std::uint64_t* slopes = in_linear.data() + j * n0;
       for (std::size_t t = 0; t < n0; ++t) sums[t + 1] += static_cast<Wide>(w) * slopes[t];
-      if (++pending == limit) {
-        for (std::size_t t = 0; t <= n0; ++t) sums[t] = reduce_wide(sums[t], mod);
-        pending = 0;
-      }
+      reduce_when_due(sums, n0, pending, limit, mod);
     }
     offset[i] = static_cast<std::uint64_t>(reduce_wide(sums[0], mod));
     for (std::size_t t = 0; t < n0; ++t) linear[i * n0 + t] = reduce_wide(sums[t + 1], mod);
@@ -267,7 +273,7 @@ void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern&
   nmod_t mod;
   nmod_init(&mod, network.prime);
   region_factors(network, mod, pattern, forward_to, backward_to, factors);
-  const std::uint64_t prime = network.prime, inverse = n_preinvert_limb(prime);
+  const std::uint64_t prime = network.prime, inverse = mod.ninv;
   const std::size_t n0 = network.input_dim;
   for (std::size_t r = 0; r < rows.size(); ++r) {
     const std::size_t o = rows[r] / (n0 + 1), t = rows[r] % (n0 + 1);  // row o(n0+1): offsets, then slope t-1
@@ -344,7 +350,7 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
     const std::uint64_t prime = primes[m];
     Modulus& modulus = moduli_[m];
     modulus.network = *reduce_modulo(network, prime);
-    modulus.prime_inverse = n_preinvert_limb(prime);
+    nmod_init(&modulus.mod, prime);
     modulus.backward_to = network.depth();
     for (std::size_t v : checked[m]) {
       std::vector<Entry> sparse;
@@ -391,13 +397,9 @@ bool annihilates_rows(const RunVector& vector, const RegionFactors& factors, con
                       std::size_t o, const nmod_t& mod) {
   const std::size_t n0 = Inputs > 0 ? Inputs : network.input_dim;
   const unsigned limit = products_between_reductions(network.prime);
-  std::array<Wide, Inputs + 1> fixed{};
-  Wide* sums = fixed.data();
-  if constexpr (Inputs == 0) {
-    thread_local std::vector<Wide> buffer;
-    buffer.assign(n0 + 1, 0);
-    sums = buffer.data();
-  }
+  std::array<Wide, Inputs + 1> fixed;
+  Wide* sums = row_sums<Inputs>(fixed, n0);
+  std::fill(sums, sums + n0 + 1, Wide{0});
   unsigned pending = 0;
   for (const auto& run : vector.runs) {
     const std::uint64_t g = factors.signal[run.layer][o * run.width + run.neuron];
@@ -414,10 +416,7 @@ bool annihilates_rows(const RunVector& vector, const RegionFactors& factors, con
         const std::uint64_t* slopes = linear + term.input * n0;
         for (std::size_t t = 0; t < n0; ++t) sums[t + 1] += static_cast<Wide>(scaled) * slopes[t];
       }
-      if (++pending == limit) {
-        for (std::size_t t = 0; t <= n0; ++t) sums[t] = reduce_wide(sums[t], mod);
-        pending = 0;
-      }
+      reduce_when_due(sums, n0, pending, limit, mod);
     }
   }
   for (std::size_t t = 0; t <= n0; ++t)
@@ -458,10 +457,7 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
     const Modulus& modulus = moduli_[m];
     poll_stop();
     if (modulus.vectors.empty() && modulus.units.empty()) continue;
-    nmod_t mod;  // nmod_init's, with the inverse computed once
-    mod.n = modulus.network.prime;
-    mod.ninv = modulus.prime_inverse;
-    count_leading_zeros(mod.norm, mod.n);
+    const nmod_t& mod = modulus.mod;
     RegionFactors& factors = reuse.factors[m];
     std::vector<NeuronState>& last = reuse.patterns[m];
     // The inputs of the layers before the first neuron that differs from

@@ -11,6 +11,8 @@
 #include "core/rational.hpp"
 #include "core/stop.hpp"
 
+#include <flint/nmod.h>
+
 #include <cstddef>
 #include <cstdint>
 #include <functional>
@@ -34,6 +36,24 @@ struct SparseRationalRows {
   RationalMatrix dense() const;
   friend bool operator==(const SparseRationalRows&, const SparseRationalRows&) = default;
 };
+
+// values(0), ..., values(count - 1) (Rationals) times one positive rational:
+// a primitive integer vector (the scale does not change which combinations
+// vanish). out is resized to count. Exact.
+template <typename Values>
+void primitive_integers(std::size_t count, Values&& values, std::vector<Integer>& out) {
+  Integer scale = 1, content = 0;
+  for (std::size_t i = 0; i < count; ++i) mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), values(i).get_den_mpz_t());
+  out.resize(count);
+  for (std::size_t i = 0; i < count; ++i) {
+    const Rational& value = values(i);
+    mpz_divexact(out[i].get_mpz_t(), scale.get_mpz_t(), value.get_den_mpz_t());
+    out[i] *= value.get_num();
+    mpz_gcd(content.get_mpz_t(), content.get_mpz_t(), out[i].get_mpz_t());
+  }
+  if (content > 1)
+    for (Integer& value : out) mpz_divexact(value.get_mpz_t(), value.get_mpz_t(), content.get_mpz_t());
+}
 
 // What the check's bound needs from the network alone: L (the lcm of the
 // parameters' denominators) and L^(d-1) (d the depth), which clears every
@@ -103,7 +123,7 @@ class AnnihilationCheck {
   };
   struct Modulus {
     ModularNetwork network;
-    std::uint64_t prime_inverse = 0;  // FLINT's n_preinvert_limb(network.prime), once
+    nmod_t mod{};  // FLINT's nmod_init(network.prime), once
     // Sparse, residues, in parameter order (a vector with every residue 0
     // is left out: it annihilates every row modulo this prime); the vectors
     // with one entry apart (a zero test each).

@@ -21,21 +21,11 @@ namespace {
 
 __extension__ typedef unsigned __int128 Wide;
 
-// Row r of `rows` at the given columns, scaled by a positive rational to a
-// primitive integer vector (the scale does not change which combinations
-// vanish).
+// Row r of `rows` at the given columns as a primitive integer vector
+// (primitive_integers).
 void primitive_integer_row(const RationalMatrix& rows, std::size_t r, const std::vector<std::size_t>& columns,
                            std::vector<Integer>& out) {
-  Integer scale = 1, content = 0;
-  for (std::size_t c : columns) mpz_lcm(scale.get_mpz_t(), scale.get_mpz_t(), rows(r, c).get_den_mpz_t());
-  out.resize(columns.size());
-  for (std::size_t q = 0; q < columns.size(); ++q) {
-    const Rational& value = rows(r, columns[q]);
-    out[q] = value.get_num() * (scale / value.get_den());
-    mpz_gcd(content.get_mpz_t(), content.get_mpz_t(), out[q].get_mpz_t());
-  }
-  if (content > 1)
-    for (Integer& value : out) mpz_divexact(value.get_mpz_t(), value.get_mpz_t(), content.get_mpz_t());
+  primitive_integers(columns.size(), [&](std::size_t q) -> const Rational& { return rows(r, columns[q]); }, out);
 }
 
 // The system sum_m K[chosen_i, unknowns_m] x_m = -K[chosen_i, target] over Q
