@@ -3,6 +3,7 @@
 #include "core/errors.hpp"
 #include "core/onnx_io.hpp"
 
+#include <algorithm>
 #include <bit>
 #include <cmath>
 #include <cstring>
@@ -134,7 +135,14 @@ Tensor read_tensor(const TensorProto& tensor, const std::string& what) {
     result.values.push_back(std::move(*value));
   };
 
-  result.values.reserve(type == TensorProto::INT64 || type == TensorProto::INT32 ? 0 : count);
+  // Room for as many values as the file stores at most (a raw value takes
+  // two bytes or more), not for the declared count: a forged dims field may
+  // declare billions, and the checks below refuse it only after this.
+  const std::size_t stored = is_raw ? raw.size()
+                                    : static_cast<std::size_t>(tensor.float_data_size()) +
+                                          static_cast<std::size_t>(tensor.double_data_size()) +
+                                          static_cast<std::size_t>(tensor.int32_data_size());
+  result.values.reserve(type == TensorProto::INT64 || type == TensorProto::INT32 ? 0 : std::min(count, stored));
   switch (type) {
     case TensorProto::FLOAT:
       if (is_raw) {
