@@ -216,8 +216,9 @@ class CertifyResult:
     met the scaling bound, so the walk stopped), stop_reason;
     nonsmooth_regions: regions left out (a neuron identically zero there);
     extra_kernel: flat directions beyond the scaling ones (ExtraDirection),
-    extra_kernel_summary: them grouped by mechanism; kernel: the exact kernel
-    basis checked on every smooth region (rows of length D);
+    extra_kernel_summary: them grouped by mechanism; kernel: a basis of the exact
+    kernel (rows of length D): the scaling directions, then the extra ones
+    checked on every smooth region; empty when not certified;
     claim: the verdict on claim=N; batch: with points=..., the exact rank at
     those points (BatchRank); certified_by: "points" (exact points met the
     scaling bound, no walk), "walk" (the walk's rank met it), "kernel" (an
