@@ -39,7 +39,8 @@ class WordMatrix {
     const auto columns = fmpz_mat_ncols(a);
     std::size_t largest = 1;
     for (slong i = 0; i < n; ++i)
-      for (slong j = 0; j < columns; ++j) largest = std::max(largest, static_cast<std::size_t>(fmpz_size(fmpz_mat_entry(a, i, j))));
+      for (slong j = 0; j < columns; ++j)
+        largest = std::max(largest, static_cast<std::size_t>(fmpz_size(fmpz_mat_entry(a, i, j))));
     limbs_ = largest;
     first_.push_back(0);
     fmpz_t magnitude;
@@ -252,10 +253,12 @@ std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, c
     if (power > limit) ++extra;
     // The next digit of every open column: A^-1 (residual mod p), through
     // the LU (rows in its order).
-    for (std::size_t i = 0; i < n; ++i)
+    for (std::size_t i = 0; i < n; ++i) {
+      const auto row = static_cast<std::size_t>(lu->order[i]);
       for (std::size_t c = 0; c < m; ++c)
         nmod_mat_entry(right.get(), static_cast<slong>(i), static_cast<slong>(c)) =
-            columns[c].is_done ? 0 : mpz_fdiv_ui(columns[c].residual[static_cast<std::size_t>(lu->order[i])].get_mpz_t(), prime);
+            columns[c].is_done ? 0 : mpz_fdiv_ui(columns[c].residual[row].get_mpz_t(), prime);
+    }
     nmod_mat_solve_tril(digits.get(), lu->lu.get(), right.get(), 1);
     nmod_mat_solve_triu(digits.get(), lu->lu.get(), digits.get(), 0);
     for (std::size_t c = 0; c < m; ++c) {
