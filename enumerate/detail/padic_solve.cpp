@@ -39,7 +39,8 @@ class WordMatrix {
     const auto columns = fmpz_mat_ncols(a);
     std::size_t largest = 1;
     for (slong i = 0; i < n; ++i)
-      for (slong j = 0; j < columns; ++j) largest = std::max(largest, static_cast<std::size_t>(fmpz_size(fmpz_mat_entry(a, i, j))));
+      for (slong j = 0; j < columns; ++j)
+        largest = std::max(largest, static_cast<std::size_t>(fmpz_size(fmpz_mat_entry(a, i, j))));
     limbs_ = largest;
     first_.push_back(0);
     fmpz_t magnitude;
@@ -137,20 +138,27 @@ struct ColumnLift {
   std::vector<Integer> numerators;
   Integer denominator;
   bool has_candidate = false, is_done = false;
+  // The digit count at which to read the column off next: a failed attempt
+  // (one reconstruction at that size, which costs more than a step on small
+  // systems) waits a quarter more digits, a new candidate one.
+  std::size_t next_attempt = 1;
 };
 
-// The column's entries as fractions with one denominator d (grown entry by
-// entry by rational reconstruction: d x_i modulo p^k is a small integer, or
-// its reconstruction's denominator multiplies d), every numerator and d at
-// most sqrt(p^k / 2). False when that fails (too few digits yet).
-bool read_off(const std::vector<Integer>& value, const Integer& modulus, std::vector<Integer>& numerators,
-              Integer& denominator) {
+// The column's entries as fractions with one denominator d (from `guess`,
+// grown entry by entry by rational reconstruction: d x_i modulo p^k is a
+// small integer, or its reconstruction's denominator multiplies d), every
+// numerator and d at most sqrt(p^k / 2). False when that fails (too few
+// digits yet). With the last candidate's d as the guess, a column already
+// right costs one product per entry and no reconstruction.
+bool read_off(const std::vector<Integer>& value, const Integer& modulus, const Integer& guess,
+              std::vector<Integer>& numerators, Integer& denominator) {
   Integer bound;  // sqrt(p^k / 2)
   mpz_fdiv_q_2exp(bound.get_mpz_t(), modulus.get_mpz_t(), 1);
   mpz_sqrt(bound.get_mpz_t(), bound.get_mpz_t());
   Integer half;
   mpz_fdiv_q_2exp(half.get_mpz_t(), modulus.get_mpz_t(), 1);
-  denominator = 1;
+  denominator = guess;
+  if (denominator > bound) return false;
   numerators.assign(value.size(), Integer(0));
   Integer scaled;
   fmpz_t residue, modulus_f;
@@ -239,16 +247,18 @@ std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, c
   fmpz_init(product);
   fmpz_init(scratch);
   Integer product_value;
-  std::size_t open = m;
+  std::size_t open = m, digits_so_far = 0;
   for (std::size_t extra = 0; open > 0 && extra < 2;) {
     poll_stop();
     if (power > limit) ++extra;
     // The next digit of every open column: A^-1 (residual mod p), through
     // the LU (rows in its order).
-    for (std::size_t i = 0; i < n; ++i)
+    for (std::size_t i = 0; i < n; ++i) {
+      const auto row = static_cast<std::size_t>(lu->order[i]);
       for (std::size_t c = 0; c < m; ++c)
         nmod_mat_entry(right.get(), static_cast<slong>(i), static_cast<slong>(c)) =
-            columns[c].is_done ? 0 : mpz_fdiv_ui(columns[c].residual[static_cast<std::size_t>(lu->order[i])].get_mpz_t(), prime);
+            columns[c].is_done ? 0 : mpz_fdiv_ui(columns[c].residual[row].get_mpz_t(), prime);
+    }
     nmod_mat_solve_tril(digits.get(), lu->lu.get(), right.get(), 1);
     nmod_mat_solve_triu(digits.get(), lu->lu.get(), digits.get(), 0);
     for (std::size_t c = 0; c < m; ++c) {
@@ -267,14 +277,18 @@ std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, c
       }
     }
     power *= static_cast<unsigned long>(prime);
+    ++digits_so_far;
     // Read each open column off; done when two steps in a row agree.
     for (std::size_t c = 0; c < m; ++c) {
       ColumnLift& column = columns[c];
-      if (column.is_done) continue;
-      if (!read_off(column.value, power, numerators, denominator)) {
+      if (column.is_done || (digits_so_far < column.next_attempt && extra == 0)) continue;
+      const Integer guess = column.has_candidate ? column.denominator : Integer(1);
+      if (!read_off(column.value, power, guess, numerators, denominator)) {
         column.has_candidate = false;
+        column.next_attempt = digits_so_far + std::max<std::size_t>(1, digits_so_far / 4);
         continue;
       }
+      column.next_attempt = digits_so_far + 1;
       if (column.has_candidate && denominator == column.denominator && numerators == column.numerators) {
         column.is_done = true;
         --open;
