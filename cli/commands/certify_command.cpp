@@ -57,6 +57,27 @@ void write_matrix(const std::string& path, const RationalMatrix& matrix) {
   write_output(path, out.str());
 }
 
+// The kernel basis of a certified value; nothing for bounds (said on stderr):
+// an empty or partial file would read as a kernel that was never proved.
+void write_kernel(const std::string& path, const FunctionalDimensionResult& result) {
+  if (!result.certified) {
+    std::cerr << "pleat: no kernel written to " << path << ": the functional dimension was not certified (bounds only)\n";
+    return;
+  }
+  write_matrix(path, result.kernel);
+}
+
+// --rows-out, --kernel-out and --witness-out of the network's certify run
+// (with --points too: the run beside the points' rank).
+void write_result_files(const CertifyArguments& arguments, const FunctionalDimensionResult& result) {
+  if (!arguments.rows_path.empty()) write_matrix(arguments.rows_path, result.rows);
+  if (!arguments.kernel_path.empty()) write_kernel(arguments.kernel_path, result);
+  if (!arguments.witness_path.empty())
+    write_output(arguments.witness_path,
+                 points_text(result.witness_points,
+                             "witness points: exact, strictly inside the domain, one per region whose rows raised the rank"));
+}
+
 Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", claim_word(verdict.verdict)}, {"reason", verdict.reason}}; }
 
 // The mechanism's word, or null when none was recognised.
@@ -139,6 +160,13 @@ Json result_to_json(const Network& network, const Domain& domain, const Function
   return out;
 }
 
+// Stopped while drawing points, before any walk began: the walk's own
+// summary is then untouched (neither complete nor stopped).
+bool stopped_before_walk(const FunctionalDimensionResult& result) {
+  return result.stop_reason != StopReason::none && !result.walk.complete &&
+         result.walk.stop_reason == StopReason::none;
+}
+
 void print_result(const Network& network, const Domain& domain, const FunctionalDimensionResult& result,
                   std::ostream& out) {
   out << "domain                " << domain.describe() << "\n";
@@ -164,11 +192,13 @@ void print_result(const Network& network, const Domain& domain, const Functional
         << "  NOT certified ("
         << (result.stop_reason == StopReason::none
                 ? std::string("the walk could not be certified")
-                : std::string(result.walk_complete ? "stopped after the walk: " : "walk stopped: ") +
+                : std::string(result.walk_complete       ? "stopped after the walk: "
+                                          : stopped_before_walk(result) ? "stopped before the walk: "
+                                                                        : "walk stopped: ") +
                       to_string(result.stop_reason))
         << ")\n";
   }
-  if (result.certified_by_points)
+  if (result.certified_by_points || stopped_before_walk(result))
     out << "regions               none walked (" << result.points_drawn << " points drawn, "
         << result.regions_contributing << " of their regions contributed new rows)\n";
   else
@@ -319,6 +349,7 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
   batch.regions_rank = regions_rank(network, touched);
   // Every region must be walked to count them (no early stop at the scaling bound).
   const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, false);
+  write_result_files(arguments, result);
   std::optional<ClaimVerdict> at_points, network_verdict;
   if (arguments.claim) {
     at_points = judge_claim_at_points(*arguments.claim, batch.rank);
@@ -419,12 +450,7 @@ int run_certify(const CertifyArguments& arguments) {
   }
   const Domain domain = make_domain(arguments.domain, network.input_dim);
   const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, !arguments.full_walk);
-  if (!arguments.rows_path.empty()) write_matrix(arguments.rows_path, result.rows);
-  if (!arguments.kernel_path.empty()) write_matrix(arguments.kernel_path, result.kernel);
-  if (!arguments.witness_path.empty())
-    write_output(arguments.witness_path,
-                 points_text(result.witness_points,
-                             "witness points: exact, strictly inside the domain, one per region whose rows raised the rank"));
+  write_result_files(arguments, result);
 
   Json document = result_to_json(network, domain, result);
   std::optional<ClaimVerdict> verdict;
@@ -492,7 +518,8 @@ void register_certify(CommandTable& commands) {
   command.add_option("--rows-out", arguments->rows_path,
                      "Write the exact Jacobian rows of the contributing regions (one row per line)");
   command.add_option("--kernel-out", arguments->kernel_path,
-                     "Write the exact kernel basis checked against every region (one row per line)");
+                     "Write a basis of the exact kernel of a certified value: the scaling directions, then the extra "
+                     "ones checked on every region (one row per line; none written for bounds)");
   command.add_option("--bundle", arguments->bundle_path,
                      "Write a proof of the certified value that scripts/check_bundle.py re-checks "
                      "(pleat-bundle/1; none when not certified)");

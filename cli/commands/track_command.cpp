@@ -12,6 +12,7 @@
 #include "enumerate/functional_dimension.hpp"
 
 #include <algorithm>
+#include <cstdint>
 #include <filesystem>
 #include <fstream>
 #include <iomanip>
@@ -39,13 +40,16 @@ struct TrackArguments {
 struct TrackRow {
   std::size_t index = 0;
   std::string checkpoint;
+  std::string network;  // network_fingerprint of the checkpoint as certified
   std::size_t parametric_dimension = 0;
   std::size_t scaling_bound = 0;
   std::optional<std::size_t> functional_dimension;  // set only when certified
   std::size_t lower_bound = 0;
   std::size_t upper_bound = 0;
   std::size_t regions = 0;         // a lower bound unless walk_complete
-  std::size_t linear_regions = 0;  // a lower bound unless walk_complete
+  // Only when walk_complete: a cut walk's pieces may be joined by regions not
+  // found, so their count bounds nothing.
+  std::optional<std::size_t> linear_regions;
   bool walk_complete = false;
   double seconds = 0;
 };
@@ -53,6 +57,7 @@ struct TrackRow {
 Json row_json(const TrackRow& row) {
   return Json{{"index", row.index},
               {"checkpoint", row.checkpoint},
+              {"network_fingerprint", row.network},
               {"parametric_dimension", row.parametric_dimension},
               {"scaling_bound", row.scaling_bound},
               {"functional_dimension", row.functional_dimension ? Json(*row.functional_dimension) : Json(nullptr)},
@@ -60,7 +65,7 @@ Json row_json(const TrackRow& row) {
               {"lower_bound", row.lower_bound},
               {"upper_bound", row.upper_bound},
               {"regions", row.regions},
-              {"linear_regions", row.linear_regions},
+              {"linear_regions", row.linear_regions ? Json(*row.linear_regions) : Json(nullptr)},
               {"walk_complete", row.walk_complete},
               {"seconds", row.seconds}};
 }
@@ -70,6 +75,7 @@ TrackRow row_from_json(const Json& line, const std::string& where) {
     TrackRow row;
     row.index = line.at("index").get<std::size_t>();
     row.checkpoint = line.at("checkpoint").get<std::string>();
+    row.network = line.at("network_fingerprint").get<std::string>();
     row.parametric_dimension = line.at("parametric_dimension").get<std::size_t>();
     row.scaling_bound = line.at("scaling_bound").get<std::size_t>();
     if (!line.at("functional_dimension").is_null())
@@ -77,13 +83,28 @@ TrackRow row_from_json(const Json& line, const std::string& where) {
     row.lower_bound = line.at("lower_bound").get<std::size_t>();
     row.upper_bound = line.at("upper_bound").get<std::size_t>();
     row.regions = line.at("regions").get<std::size_t>();
-    row.linear_regions = line.at("linear_regions").get<std::size_t>();
+    if (!line.at("linear_regions").is_null()) row.linear_regions = line.at("linear_regions").get<std::size_t>();
     row.walk_complete = line.at("walk_complete").get<bool>();
     row.seconds = line.at("seconds").get<double>();
     return row;
   } catch (const Json::exception& fault) {
     throw input_error(where + ": not a pleat-track/1 row (" + fault.what() + ")");
   }
+}
+
+// Which network a row was certified for: FNV-1a (64-bit; offset basis and
+// prime from the FNV specification) over its canonical text. A resumed run
+// compares it with the checkpoint file as it is now, so a file overwritten
+// since (a rerun of training) is not shown with another network's value.
+std::string network_fingerprint(const Network& network) {
+  std::uint64_t hash = 14695981039346656037ull;
+  for (const char c : write_network(network)) {
+    hash ^= static_cast<unsigned char>(c);
+    hash *= 1099511628211ull;
+  }
+  std::ostringstream text;
+  text << "fnv1a64:" << std::hex << std::setw(16) << std::setfill('0') << hash;
+  return text.str();
 }
 
 Json header_json(const TrackArguments& arguments, const Domain& domain) {
@@ -96,7 +117,8 @@ Json header_json(const TrackArguments& arguments, const Domain& domain) {
 // The rows already in a track file (resuming), after checking that its header
 // describes the same run. A last line cut short by a killed run is dropped
 // (and truncated away); any other bad line is an error naming it.
-std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, const Json& header) {
+std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, const Json& header,
+                                                   const std::vector<std::string>& fingerprints) {
   std::map<std::size_t, TrackRow> rows;
   std::ifstream file(path, std::ios::binary);
   if (!file) return rows;
@@ -125,6 +147,10 @@ std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, cons
       TrackRow row = row_from_json(line, where);
       if (row.index >= header["checkpoints"].size() || header["checkpoints"][row.index] != row.checkpoint)
         throw input_error(where + ": checkpoint " + std::to_string(row.index) + " is not in this run");
+      if (row.network != fingerprints[row.index])
+        throw input_error(where + ": " + row.checkpoint +
+                          " holds another network than the one tracked there (the file changed since); give "
+                          "another -o or remove the file");
       rows[row.index] = std::move(row);
     }
     complete_bytes = end + 1;
@@ -151,13 +177,14 @@ TrackRow track_checkpoint(const TrackArguments& arguments, std::size_t index, Pr
   TrackRow row;
   row.index = index;
   row.checkpoint = path;
+  row.network = network_fingerprint(network);
   row.parametric_dimension = result.parametric_dimension;
   row.scaling_bound = result.scaling_bound;
   row.functional_dimension = result.functional_dimension;
   row.lower_bound = result.lower_bound;
   row.upper_bound = result.upper_bound;
   row.regions = result.walk.regions;
-  row.linear_regions = result.walk.linear_regions;
+  if (result.walk_complete) row.linear_regions = result.walk.linear_regions;
   row.walk_complete = result.walk_complete;
   row.seconds = result.seconds;
   return row;
@@ -196,7 +223,8 @@ void print_table(const std::vector<TrackRow>& rows, const Domain& domain, std::o
     out << std::left << std::setw(static_cast<int>(width)) << row.checkpoint << std::right << std::setw(12)
         << value_text(row) << std::setw(8) << signed_text(change_from_previous(rows, i)) << std::setw(9)
         << row.scaling_bound << std::setw(9) << at_least + std::to_string(row.regions) << std::setw(8)
-        << at_least + std::to_string(row.linear_regions) << std::setw(10) << seconds.str() << "\n";
+        << (row.linear_regions ? std::to_string(*row.linear_regions) : "-") << std::setw(10) << seconds.str()
+        << "\n";
   }
 }
 
@@ -229,7 +257,7 @@ std::string table_csv(const std::vector<TrackRow>& rows) {
             std::to_string(row.lower_bound) + "," + std::to_string(row.upper_bound) + "," +
             (row.functional_dimension ? "true" : "false") + "," + (change ? std::to_string(*change) : "") + "," +
             std::to_string(row.scaling_bound) + "," + std::to_string(row.parametric_dimension) + "," +
-            std::to_string(row.regions) + "," + std::to_string(row.linear_regions) + "," +
+            std::to_string(row.regions) + "," + (row.linear_regions ? std::to_string(*row.linear_regions) : "") + "," +
             (row.walk_complete ? "true" : "false") + "," + format_double(row.seconds) + "\n";
   }
   return text;
@@ -324,8 +352,10 @@ int run_track(const TrackArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   // Every checkpoint must read before any work starts (nothing computed is lost to a typo).
   std::optional<std::size_t> input_dim;
+  std::vector<std::string> fingerprints;
   for (const auto& path : arguments.checkpoints) {
     const Network network = read_network_any(path);
+    fingerprints.push_back(network_fingerprint(network));
     if (input_dim && *input_dim != network.input_dim)
       throw input_error(path + ": takes " + count_of(network.input_dim, "input") + ", the first checkpoint " +
                         std::to_string(*input_dim));
@@ -336,7 +366,7 @@ int run_track(const TrackArguments& arguments) {
   std::map<std::size_t, TrackRow> finished;
   std::ofstream lines;
   if (!arguments.output_path.empty()) {
-    finished = read_finished_rows(arguments.output_path, header);
+    finished = read_finished_rows(arguments.output_path, header, fingerprints);
     const bool is_new = !std::filesystem::exists(arguments.output_path) ||
                         std::filesystem::file_size(arguments.output_path) == 0;
     lines.open(arguments.output_path, std::ios::binary | std::ios::app);
@@ -387,11 +417,13 @@ void register_track(CommandTable& commands) {
       "Certifies each checkpoint (pleat-network/1 JSON or ONNX) in the order given, e.g. a\n"
       "glob of epoch files, walking every region: per checkpoint the functional dimension\n"
       "(or, when --time-limit-each cuts a walk short, proved bounds [lower,upper]), the\n"
-      "scaling bound, the regions and linear regions (>= when cut short), and the change of\n"
+      "scaling bound, the regions (>= when cut short) and linear regions (- when cut short:\n"
+      "regions not found may join the pieces found), and the change of\n"
       "the certified value from the previous checkpoint. --csv and --svg write the table and\n"
       "a line plot; --json prints it (pleat-track-table/1).\n"
       "-o FILE keeps one JSON line per finished checkpoint (pleat-track/1); rerunning the\n"
-      "same command resumes, skipping the checkpoints already in the file.\n\n"
+      "same command resumes, skipping the checkpoints already in the file (a checkpoint file\n"
+      "that holds another network since is refused: give another -o or remove the file).\n\n"
       "Examples:\n"
       "  pleat track data/track/epoch*.json\n"
       "  pleat track run/epoch*.onnx --box -2,2 -o track.jsonl --csv track.csv --svg track.svg\n"
