@@ -534,6 +534,11 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     result.certified = result.lower_bound == result.upper_bound && result.stop_reason == StopReason::none;
   }
   if (result.certified) result.functional_dimension = result.lower_bound;
+  // Certified at the scaling bound without the kernel proof (early stop):
+  // the kernel is then exactly the span of the independent scaling directions.
+  if (result.certified && options.keep_kernel && result.kernel.rows() == 0 &&
+      result.upper_bound == result.scaling_bound)
+    result.kernel = scaling_directions(network, scaling.independent_neurons);
   result.regions_contributing = kept.size();
   if (options.keep_rows && !kept.empty()) {
     std::vector<RationalMatrix> blocks;

@@ -57,6 +57,16 @@ void write_matrix(const std::string& path, const RationalMatrix& matrix) {
   write_output(path, out.str());
 }
 
+// The kernel basis of a certified value; nothing for bounds (said on stderr):
+// an empty or partial file would read as a kernel that was never proved.
+void write_kernel(const std::string& path, const FunctionalDimensionResult& result) {
+  if (!result.certified) {
+    std::cerr << "pleat: no kernel written to " << path << ": the functional dimension was not certified (bounds only)\n";
+    return;
+  }
+  write_matrix(path, result.kernel);
+}
+
 Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", claim_word(verdict.verdict)}, {"reason", verdict.reason}}; }
 
 // The mechanism's word, or null when none was recognised.
@@ -420,7 +430,7 @@ int run_certify(const CertifyArguments& arguments) {
   const Domain domain = make_domain(arguments.domain, network.input_dim);
   const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, !arguments.full_walk);
   if (!arguments.rows_path.empty()) write_matrix(arguments.rows_path, result.rows);
-  if (!arguments.kernel_path.empty()) write_matrix(arguments.kernel_path, result.kernel);
+  if (!arguments.kernel_path.empty()) write_kernel(arguments.kernel_path, result);
   if (!arguments.witness_path.empty())
     write_output(arguments.witness_path,
                  points_text(result.witness_points,
@@ -492,7 +502,8 @@ void register_certify(CommandTable& commands) {
   command.add_option("--rows-out", arguments->rows_path,
                      "Write the exact Jacobian rows of the contributing regions (one row per line)");
   command.add_option("--kernel-out", arguments->kernel_path,
-                     "Write the exact kernel basis checked against every region (one row per line)");
+                     "Write a basis of the exact kernel of a certified value: the scaling directions, then the extra "
+                     "ones checked on every region (one row per line; none written for bounds)");
   command.add_option("--bundle", arguments->bundle_path,
                      "Write a proof of the certified value that scripts/check_bundle.py re-checks "
                      "(pleat-bundle/1; none when not certified)");

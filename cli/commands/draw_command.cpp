@@ -558,7 +558,8 @@ void register_draw(CommandTable& commands) {
       ->type_name("W,H");
   command.add_option("--title", arguments->title, "A title over the plot (SVG and TikZ)")->type_name("TEXT");
   command.add_option("--from", arguments->from_path,
-                     "Draw a saved walk (pleat walk -o FILE) instead of walking; --view clips it");
+                     "Draw a saved walk (pleat walk -o FILE) instead of walking; --view clips it. A walk cut "
+                     "short (a neighbour it names is missing) is refused");
   add_domain_options(command, arguments->domain);
   add_walk_limit_options(command, arguments->limits, "Worker threads for the walk (default: all cores)");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");

@@ -12,6 +12,7 @@
 #include "enumerate/functional_dimension.hpp"
 
 #include <algorithm>
+#include <cstdint>
 #include <filesystem>
 #include <fstream>
 #include <iomanip>
@@ -39,6 +40,7 @@ struct TrackArguments {
 struct TrackRow {
   std::size_t index = 0;
   std::string checkpoint;
+  std::string network;  // network_fingerprint of the checkpoint as certified
   std::size_t parametric_dimension = 0;
   std::size_t scaling_bound = 0;
   std::optional<std::size_t> functional_dimension;  // set only when certified
@@ -53,6 +55,7 @@ struct TrackRow {
 Json row_json(const TrackRow& row) {
   return Json{{"index", row.index},
               {"checkpoint", row.checkpoint},
+              {"network_fingerprint", row.network},
               {"parametric_dimension", row.parametric_dimension},
               {"scaling_bound", row.scaling_bound},
               {"functional_dimension", row.functional_dimension ? Json(*row.functional_dimension) : Json(nullptr)},
@@ -70,6 +73,7 @@ TrackRow row_from_json(const Json& line, const std::string& where) {
     TrackRow row;
     row.index = line.at("index").get<std::size_t>();
     row.checkpoint = line.at("checkpoint").get<std::string>();
+    row.network = line.at("network_fingerprint").get<std::string>();
     row.parametric_dimension = line.at("parametric_dimension").get<std::size_t>();
     row.scaling_bound = line.at("scaling_bound").get<std::size_t>();
     if (!line.at("functional_dimension").is_null())
@@ -86,6 +90,21 @@ TrackRow row_from_json(const Json& line, const std::string& where) {
   }
 }
 
+// Which network a row was certified for: FNV-1a (64-bit; offset basis and
+// prime from the FNV specification) over its canonical text. A resumed run
+// compares it with the checkpoint file as it is now, so a file overwritten
+// since (a rerun of training) is not shown with another network's value.
+std::string network_fingerprint(const Network& network) {
+  std::uint64_t hash = 14695981039346656037ull;
+  for (const char c : write_network(network)) {
+    hash ^= static_cast<unsigned char>(c);
+    hash *= 1099511628211ull;
+  }
+  std::ostringstream text;
+  text << "fnv1a64:" << std::hex << std::setw(16) << std::setfill('0') << hash;
+  return text.str();
+}
+
 Json header_json(const TrackArguments& arguments, const Domain& domain) {
   return Json{{"format", "pleat-track/1"},
               {"checkpoints", arguments.checkpoints},
@@ -96,7 +115,8 @@ Json header_json(const TrackArguments& arguments, const Domain& domain) {
 // The rows already in a track file (resuming), after checking that its header
 // describes the same run. A last line cut short by a killed run is dropped
 // (and truncated away); any other bad line is an error naming it.
-std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, const Json& header) {
+std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, const Json& header,
+                                                   const std::vector<std::string>& fingerprints) {
   std::map<std::size_t, TrackRow> rows;
   std::ifstream file(path, std::ios::binary);
   if (!file) return rows;
@@ -125,6 +145,10 @@ std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, cons
       TrackRow row = row_from_json(line, where);
       if (row.index >= header["checkpoints"].size() || header["checkpoints"][row.index] != row.checkpoint)
         throw input_error(where + ": checkpoint " + std::to_string(row.index) + " is not in this run");
+      if (row.network != fingerprints[row.index])
+        throw input_error(where + ": " + row.checkpoint +
+                          " holds another network than the one tracked there (the file changed since); give "
+                          "another -o or remove the file");
       rows[row.index] = std::move(row);
     }
     complete_bytes = end + 1;
@@ -151,6 +175,7 @@ TrackRow track_checkpoint(const TrackArguments& arguments, std::size_t index, Pr
   TrackRow row;
   row.index = index;
   row.checkpoint = path;
+  row.network = network_fingerprint(network);
   row.parametric_dimension = result.parametric_dimension;
   row.scaling_bound = result.scaling_bound;
   row.functional_dimension = result.functional_dimension;
@@ -324,8 +349,10 @@ int run_track(const TrackArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   // Every checkpoint must read before any work starts (nothing computed is lost to a typo).
   std::optional<std::size_t> input_dim;
+  std::vector<std::string> fingerprints;
   for (const auto& path : arguments.checkpoints) {
     const Network network = read_network_any(path);
+    fingerprints.push_back(network_fingerprint(network));
     if (input_dim && *input_dim != network.input_dim)
       throw input_error(path + ": takes " + count_of(network.input_dim, "input") + ", the first checkpoint " +
                         std::to_string(*input_dim));
@@ -336,7 +363,7 @@ int run_track(const TrackArguments& arguments) {
   std::map<std::size_t, TrackRow> finished;
   std::ofstream lines;
   if (!arguments.output_path.empty()) {
-    finished = read_finished_rows(arguments.output_path, header);
+    finished = read_finished_rows(arguments.output_path, header, fingerprints);
     const bool is_new = !std::filesystem::exists(arguments.output_path) ||
                         std::filesystem::file_size(arguments.output_path) == 0;
     lines.open(arguments.output_path, std::ios::binary | std::ios::app);
@@ -391,7 +418,8 @@ void register_track(CommandTable& commands) {
       "the certified value from the previous checkpoint. --csv and --svg write the table and\n"
       "a line plot; --json prints it (pleat-track-table/1).\n"
       "-o FILE keeps one JSON line per finished checkpoint (pleat-track/1); rerunning the\n"
-      "same command resumes, skipping the checkpoints already in the file.\n\n"
+      "same command resumes, skipping the checkpoints already in the file (a checkpoint file\n"
+      "that holds another network since is refused: give another -o or remove the file).\n\n"
       "Examples:\n"
       "  pleat track data/track/epoch*.json\n"
       "  pleat track run/epoch*.onnx --box -2,2 -o track.jsonl --csv track.csv --svg track.svg\n"

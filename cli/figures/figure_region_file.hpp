@@ -1,7 +1,8 @@
 // Reading a saved walk (pleat-regions/1 lines from `pleat walk -o`) back into
 // the walker's Region records, so `pleat draw --from` draws without walking:
 // the one region-file reader (cli/formats/region_file_reader.hpp) read tolerantly,
-// without certificates; nothing is re-checked here (`pleat verify` does that).
+// without certificates. Only that it is a whole walk is checked here (each
+// pattern once, every neighbour it names present); `pleat verify` checks the rest.
 #pragma once
 
 #include "core/network.hpp"

@@ -216,8 +216,9 @@ class CertifyResult:
     met the scaling bound, so the walk stopped), stop_reason;
     nonsmooth_regions: regions left out (a neuron identically zero there);
     extra_kernel: flat directions beyond the scaling ones (ExtraDirection),
-    extra_kernel_summary: them grouped by mechanism; kernel: the exact kernel
-    basis checked on every smooth region (rows of length D);
+    extra_kernel_summary: them grouped by mechanism; kernel: a basis of the exact
+    kernel (rows of length D): the scaling directions, then the extra ones
+    checked on every smooth region; empty when not certified;
     claim: the verdict on claim=N; batch: with points=..., the exact rank at
     those points (BatchRank); certified_by: "points" (exact points met the
     scaling bound, no walk), "walk" (the walk's rank met it), "kernel" (an
@@ -265,9 +266,16 @@ def _evidence(data: dict) -> dict[str, str]:
     if data["certified"]:
         return {"lower_bound": f"exact rank of the rows of {data['regions_contributing']} regions",
                 "upper_bound": "an exact kernel checked on every smooth region"}
+    # Bounds only: the lower bound is the rank of the rows of the regions that
+    # raised it (points drawn first, then walked regions: witness_points),
+    # the upper bound the scaling directions or, when it is below them, the
+    # scaling and extra directions proved on every smooth region.
     reason = data["stop_reason"] or "the walk could not be certified"
-    return {"lower_bound": f"rank of the rows of the {data['regions_walked']} regions walked (not certified: {reason})",
-            "upper_bound": "proved kernel directions only (not certified)"}
+    upper = ("the scaling directions" if data["upper_bound"] == data["scaling_bound"]
+             else "an exact kernel checked on every smooth region")
+    return {"lower_bound": f"rows of {data['regions_contributing']} regions have a nonsingular minor (mod p); "
+                          f"their points: witness_points (not certified: {reason})",
+            "upper_bound": f"{upper} (not certified: {reason})"}
 
 
 def _certify_result(data: dict, network: "Network") -> CertifyResult:

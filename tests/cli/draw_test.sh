@@ -58,6 +58,19 @@ def load(name):
 assert load(sys.argv[1]) == load(sys.argv[2])
 PY
 
+# A walk cut short (--max-regions 40 of fold2d's 84) is not drawn: its figure
+# would state 40 regions in the view (the old binary drew it so). Nor is a
+# file that holds a region twice. Nothing is written; the message names the line.
+"$pleat" walk "$fold" -q --max-regions 40 -o "$work/cut.jsonl" > /dev/null || fail "walk --max-regions failed"
+err=$("$pleat" draw "$fold" --from "$work/cut.jsonl" --out "$work/cut.svg" 2>&1 > /dev/null)
+[ $? = 2 ] || fail "draw --from a walk cut short must exit 2 ($err)"
+case "$err" in *"line "*": neighbour "*" is not in the file"*) ;; *) fail "unexpected message: $err" ;; esac
+[ ! -e "$work/cut.svg" ] || fail "a figure of a walk cut short was written"
+{ cat "$work/whole.jsonl"; sed -n 2p "$work/whole.jsonl"; } > "$work/twice.jsonl"
+err=$("$pleat" draw "$fold" --from "$work/twice.jsonl" --out "$work/twice.svg" 2>&1 > /dev/null)
+[ $? = 2 ] || fail "draw --from a file with a region twice must exit 2 ($err)"
+case "$err" in *"appears twice"*) ;; *) fail "unexpected message: $err" ;; esac
+
 # One input: exact pieces.
 "$pleat" draw "$ramp" --view -2,5 --out "$work/ramp.csv" -q > /dev/null || fail "1-D csv failed"
 "$pleat" draw "$ramp" --view -2,5 --out "$work/ramp.svg" -q > /dev/null || fail "1-D svg failed"

@@ -4,7 +4,7 @@
 # 'pleat walk' on that checkpoint; a resumed run (file cut after two rows,
 # the third line half written) equals an uninterrupted one; ONNX checkpoints
 # give the same row as their JSON; the CSV and SVG are written; a file from a
-# different run is refused.
+# different run, or of a checkpoint that has changed since, is refused.
 set -u
 source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
@@ -70,4 +70,21 @@ keys = ("functional_dimension", "scaling_bound", "regions", "linear_regions")
 assert [rows[0][k] for k in keys] == [rows[1][k] for k in keys], rows
 assert rows[1]["change"] == 0
 PY
+# A checkpoint file overwritten since it was tracked (training rerun): the kept
+# row is another network's value, so the resumed run refuses the file rather
+# than print that value as the new network's (the old binary printed it).
+mkdir "$work/run"
+cp "${checkpoints[0]}" "$work/run/a.json"
+cp "${checkpoints[1]}" "$work/run/b.json"
+"$pleat" track "$work/run/a.json" "$work/run/b.json" --box -2,2 -o "$work/run.jsonl" -q > /dev/null ||
+  fail "track on the copies exited $?"
+cp "$last" "$work/run/a.json"
+before=$(cat "$work/run.jsonl")
+err=$("$pleat" track "$work/run/a.json" "$work/run/b.json" --box -2,2 -o "$work/run.jsonl" -q 2>&1 >/dev/null)
+[ $? = 2 ] || fail "a checkpoint that changed since must be exit 2 ($err)"
+case "$err" in *"$work/run/a.json holds another network"*) ;; *) fail "message does not name the changed checkpoint: $err" ;; esac
+[ "$(cat "$work/run.jsonl")" = "$before" ] || fail "the file of the changed checkpoint was changed"
+cp "${checkpoints[0]}" "$work/run/a.json"
+"$pleat" track "$work/run/a.json" "$work/run/b.json" --box -2,2 -o "$work/run.jsonl" -q > /dev/null ||
+  fail "the same networks again must resume ($?)"
 echo "track: all checks passed"

@@ -97,6 +97,30 @@ class CertifyTest(unittest.TestCase):
         self.compare(harness.data("fold2d.json"), "--box", "-1,1", domain=(-1, 1))
         self.compare(harness.test_data("dead2d.json"), "--full-walk", full_walk=True)
 
+    def test_kernel_and_evidence_of_each_outcome(self):
+        net = pleat.Network.from_file(FOLD)
+        by_points, walked = net.certify(), net.certify(full_walk=True)
+        self.assertEqual((by_points.certified_by, by_points.functional_dimension), ("points", 48))
+        # Certified at the scaling bound from points: the kernel is the 59 - 48
+        # scaling directions, as the full walk's proof gives (it was empty).
+        self.assertEqual(len(by_points.kernel), net.parametric_dimension - 48)
+        self.assertEqual(by_points.kernel, walked.kernel)
+        with tempfile.TemporaryDirectory() as work:
+            path = os.path.join(work, "big.json")
+            subprocess.run([harness.PLEAT, "random", "--arch", "2,15,15,15,1", "--seed", "1", "-o", path],
+                           check=True, capture_output=True)
+            cut = pleat.Network.from_file(path).certify(time_limit=0.001)
+        self.assertFalse(cut.certified)
+        self.assertEqual(cut.kernel, [])
+        # The lower bound of a run cut short is the rank of the rows of the
+        # regions that raised it (their points: witness_points), not of the
+        # regions walked (none, when the points phase was cut).
+        self.assertEqual(cut.regions_contributing, len(cut.witness_points))
+        self.assertIn(f"rows of {cut.regions_contributing} regions have a nonsingular minor",
+                      cut.evidence["lower_bound"])
+        self.assertEqual(cut.upper_bound, cut.scaling_bound)
+        self.assertTrue(cut.evidence["upper_bound"].startswith("the scaling directions (not certified"))
+
     def test_claim_verdicts_equal_the_cli(self):
         for claim in (1, 47, 500):
             result = pleat.Network.from_file(FOLD).certify(claim=claim)

@@ -1,0 +1,49 @@
+#!/usr/bin/env bash
+# --kernel-out writes a basis of the kernel of a certified value, however it
+# was certified. data/fold2d.json is certified from exact points alone (no
+# walk, no kernel proof): its kernel is then the span of the 11 independent
+# scaling directions (D 59 - value 48), the same rows --full-walk writes after
+# proving the kernel on every region. The old binary wrote an empty file there
+# (and an empty kernel in the Python result), as if the kernel were {0}.
+# A run cut short proves no kernel: no file is written and stderr says why.
+set -u
+source "$(dirname "$0")/lib.sh"
+[ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
+fold=$source_dir/data/fold2d.json
+
+"$pleat" certify "$fold" --json -q --kernel-out "$work/points.csv" > "$work/points.json" || fail "certify exited $?"
+[ "$(json_eval "$work/points.json" '(d["certified"], d["certified_by"], d["functional_dimension"], d["parametric_dimension"])')" \
+  = "(True, 'points', 48, 59)" ] || fail "expected 48 certified by points: $(head -c 400 "$work/points.json")"
+"$pleat" certify "$fold" --json -q --full-walk --kernel-out "$work/walk.csv" > "$work/walk.json" || fail "certify --full-walk exited $?"
+[ "$(wc -l < "$work/points.csv")" -eq 11 ] || fail "the kernel of 48 of 59 has 11 rows; --kernel-out wrote $(wc -l < "$work/points.csv")"
+cmp -s "$work/points.csv" "$work/walk.csv" || fail "the kernel written after the points differs from --full-walk's"
+
+# The rows span an 11-dimensional space (exact rank with Python fractions).
+rank=$("$python" - "$work/points.csv" <<'PY'
+import sys
+from fractions import Fraction
+rows = [[Fraction(v) for v in line.split(",")] for line in open(sys.argv[1])]
+rank = 0
+for c in range(len(rows[0]) if rows else 0):
+    pivot = next((r for r in range(rank, len(rows)) if rows[r][c] != 0), None)
+    if pivot is None: continue
+    rows[rank], rows[pivot] = rows[pivot], rows[rank]
+    for r in range(len(rows)):
+        if r != rank and rows[r][c] != 0:
+            f = rows[r][c] / rows[rank][c]
+            rows[r] = [a - f * b for a, b in zip(rows[r], rows[rank])]
+    rank += 1
+print(rank)
+PY
+)
+[ "$rank" = 11 ] || fail "the kernel rows have rank $rank, expected 11"
+
+# Cut short: bounds, and no kernel file.
+net=$work/big.json
+"$pleat" random --arch 2,15,15,15,1 --seed 1 -o "$net" || fail "pleat random exited $?"
+err=$("$pleat" certify "$net" -q --full-walk --time-limit 0.001 --kernel-out "$work/cut.csv" 2>&1 > "$work/cut.txt") ||
+  fail "time-limited certify exited $?"
+expect_contains "$(cat "$work/cut.txt")" "NOT certified" "a run cut short"
+[ ! -e "$work/cut.csv" ] || fail "a run cut short wrote a kernel file: $(wc -l < "$work/cut.csv") rows"
+expect_contains "$err" "no kernel written to $work/cut.csv" "stderr of a run cut short"
+echo "certify_kernel_out: the kernel of a value certified by points is the 11 scaling directions; none for bounds"
