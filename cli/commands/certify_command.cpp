@@ -67,6 +67,17 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
   write_matrix(path, result.kernel);
 }
 
+// --rows-out, --kernel-out and --witness-out of the network's certify run
+// (with --points too: the run beside the points' rank).
+void write_result_files(const CertifyArguments& arguments, const FunctionalDimensionResult& result) {
+  if (!arguments.rows_path.empty()) write_matrix(arguments.rows_path, result.rows);
+  if (!arguments.kernel_path.empty()) write_kernel(arguments.kernel_path, result);
+  if (!arguments.witness_path.empty())
+    write_output(arguments.witness_path,
+                 points_text(result.witness_points,
+                             "witness points: exact, strictly inside the domain, one per region whose rows raised the rank"));
+}
+
 Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", claim_word(verdict.verdict)}, {"reason", verdict.reason}}; }
 
 // The mechanism's word, or null when none was recognised.
@@ -329,6 +340,7 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
   batch.regions_rank = regions_rank(network, touched);
   // Every region must be walked to count them (no early stop at the scaling bound).
   const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, false);
+  write_result_files(arguments, result);
   std::optional<ClaimVerdict> at_points, network_verdict;
   if (arguments.claim) {
     at_points = judge_claim_at_points(*arguments.claim, batch.rank);
@@ -429,12 +441,7 @@ int run_certify(const CertifyArguments& arguments) {
   }
   const Domain domain = make_domain(arguments.domain, network.input_dim);
   const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, !arguments.full_walk);
-  if (!arguments.rows_path.empty()) write_matrix(arguments.rows_path, result.rows);
-  if (!arguments.kernel_path.empty()) write_kernel(arguments.kernel_path, result);
-  if (!arguments.witness_path.empty())
-    write_output(arguments.witness_path,
-                 points_text(result.witness_points,
-                             "witness points: exact, strictly inside the domain, one per region whose rows raised the rank"));
+  write_result_files(arguments, result);
 
   Json document = result_to_json(network, domain, result);
   std::optional<ClaimVerdict> verdict;

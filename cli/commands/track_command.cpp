@@ -47,7 +47,9 @@ struct TrackRow {
   std::size_t lower_bound = 0;
   std::size_t upper_bound = 0;
   std::size_t regions = 0;         // a lower bound unless walk_complete
-  std::size_t linear_regions = 0;  // a lower bound unless walk_complete
+  // Only when walk_complete: a cut walk's pieces may be joined by regions not
+  // found, so their count bounds nothing.
+  std::optional<std::size_t> linear_regions;
   bool walk_complete = false;
   double seconds = 0;
 };
@@ -63,7 +65,7 @@ Json row_json(const TrackRow& row) {
               {"lower_bound", row.lower_bound},
               {"upper_bound", row.upper_bound},
               {"regions", row.regions},
-              {"linear_regions", row.linear_regions},
+              {"linear_regions", row.linear_regions ? Json(*row.linear_regions) : Json(nullptr)},
               {"walk_complete", row.walk_complete},
               {"seconds", row.seconds}};
 }
@@ -81,7 +83,7 @@ TrackRow row_from_json(const Json& line, const std::string& where) {
     row.lower_bound = line.at("lower_bound").get<std::size_t>();
     row.upper_bound = line.at("upper_bound").get<std::size_t>();
     row.regions = line.at("regions").get<std::size_t>();
-    row.linear_regions = line.at("linear_regions").get<std::size_t>();
+    if (!line.at("linear_regions").is_null()) row.linear_regions = line.at("linear_regions").get<std::size_t>();
     row.walk_complete = line.at("walk_complete").get<bool>();
     row.seconds = line.at("seconds").get<double>();
     return row;
@@ -182,7 +184,7 @@ TrackRow track_checkpoint(const TrackArguments& arguments, std::size_t index, Pr
   row.lower_bound = result.lower_bound;
   row.upper_bound = result.upper_bound;
   row.regions = result.walk.regions;
-  row.linear_regions = result.walk.linear_regions;
+  if (result.walk_complete) row.linear_regions = result.walk.linear_regions;
   row.walk_complete = result.walk_complete;
   row.seconds = result.seconds;
   return row;
@@ -221,7 +223,8 @@ void print_table(const std::vector<TrackRow>& rows, const Domain& domain, std::o
     out << std::left << std::setw(static_cast<int>(width)) << row.checkpoint << std::right << std::setw(12)
         << value_text(row) << std::setw(8) << signed_text(change_from_previous(rows, i)) << std::setw(9)
         << row.scaling_bound << std::setw(9) << at_least + std::to_string(row.regions) << std::setw(8)
-        << at_least + std::to_string(row.linear_regions) << std::setw(10) << seconds.str() << "\n";
+        << (row.linear_regions ? std::to_string(*row.linear_regions) : "-") << std::setw(10) << seconds.str()
+        << "\n";
   }
 }
 
@@ -254,7 +257,7 @@ std::string table_csv(const std::vector<TrackRow>& rows) {
             std::to_string(row.lower_bound) + "," + std::to_string(row.upper_bound) + "," +
             (row.functional_dimension ? "true" : "false") + "," + (change ? std::to_string(*change) : "") + "," +
             std::to_string(row.scaling_bound) + "," + std::to_string(row.parametric_dimension) + "," +
-            std::to_string(row.regions) + "," + std::to_string(row.linear_regions) + "," +
+            std::to_string(row.regions) + "," + (row.linear_regions ? std::to_string(*row.linear_regions) : "") + "," +
             (row.walk_complete ? "true" : "false") + "," + format_double(row.seconds) + "\n";
   }
   return text;
@@ -414,7 +417,8 @@ void register_track(CommandTable& commands) {
       "Certifies each checkpoint (pleat-network/1 JSON or ONNX) in the order given, e.g. a\n"
       "glob of epoch files, walking every region: per checkpoint the functional dimension\n"
       "(or, when --time-limit-each cuts a walk short, proved bounds [lower,upper]), the\n"
-      "scaling bound, the regions and linear regions (>= when cut short), and the change of\n"
+      "scaling bound, the regions (>= when cut short) and linear regions (- when cut short:\n"
+      "regions not found may join the pieces found), and the change of\n"
       "the certified value from the previous checkpoint. --csv and --svg write the table and\n"
       "a line plot; --json prints it (pleat-track-table/1).\n"
       "-o FILE keeps one JSON line per finished checkpoint (pleat-track/1); rerunning the\n"

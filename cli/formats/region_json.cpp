@@ -135,7 +135,9 @@ Json walk_summary_to_json(const Network& network, const Domain& domain, const Wa
   out["domain"] = domain_to_json(domain);
   out["regions"] = summary.regions;
   out["bounded_regions"] = summary.bounded_regions;
-  out["linear_regions"] = summary.linear_regions;
+  // A stopped walk's count of linear regions bounds nothing (regions not
+  // found may join found pieces), so it is not given as a number.
+  out["linear_regions"] = summary.complete ? Json(summary.linear_regions) : Json(nullptr);
   out["regions_per_layer"] = summary.regions_per_layer;
   out["nonsmooth_regions"] = std::move(nonsmooth);
   out["facets"] = summary.facets;

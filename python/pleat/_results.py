@@ -133,12 +133,13 @@ class WalkResult:
     complete: the walk ended by itself; certified: complete and every
     certificate checked exactly. A walk cut short (time_limit, max_regions,
     KeyboardInterrupt) has complete = certified = False and stop_reason set:
-    its counts are lower bounds."""
+    its counts are lower bounds, except linear_regions, which is then None
+    (regions not found may join the pieces found into fewer)."""
     domain: str
     regions: Sequence[Region] = field(repr=False)
     region_count: int
     bounded_regions: int
-    linear_regions: int
+    linear_regions: Optional[int]
     regions_per_layer: list[int]
     nonsmooth_regions: list[dict]
     facets: int

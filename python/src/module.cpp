@@ -115,7 +115,9 @@ py::dict walk_summary_dict(const Network& network, const Domain& domain, const W
   out["domain"] = domain.describe();
   out["regions"] = summary.regions;
   out["bounded_regions"] = summary.bounded_regions;
-  out["linear_regions"] = summary.linear_regions;
+  // Not a bound of a stopped walk (regions not found may join found pieces).
+  if (summary.complete) out["linear_regions"] = summary.linear_regions;
+  else out["linear_regions"] = py::none();
   out["regions_per_layer"] = summary.regions_per_layer;
   out["nonsmooth_regions"] = nonsmooth_list(network, summary.nonsmooth_regions);
   out["facets"] = summary.facets;

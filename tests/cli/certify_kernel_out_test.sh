@@ -6,6 +6,7 @@
 # proving the kernel on every region. The old binary wrote an empty file there
 # (and an empty kernel in the Python result), as if the kernel were {0}.
 # A run cut short proves no kernel: no file is written and stderr says why.
+# With --points, the output files are written too.
 set -u
 source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
@@ -37,6 +38,20 @@ print(rank)
 PY
 )
 [ "$rank" = 11 ] || fail "the kernel rows have rank $rank, expected 11"
+
+# With --points the network's run is a whole walk, as --full-walk: its
+# --kernel-out, --rows-out and --witness-out are those of --full-walk (the old
+# binary silently wrote none of them).
+printf '%s\n' 0,0 1/3,1/7 > "$work/points.txt"
+"$pleat" certify "$fold" -q --full-walk --rows-out "$work/walk_rows.csv" --witness-out "$work/walk_witness.txt" \
+  > /dev/null || fail "certify --full-walk exited $?"
+"$pleat" certify "$fold" -q --points "$work/points.txt" --kernel-out "$work/p_kernel.csv" --rows-out "$work/p_rows.csv" \
+  --witness-out "$work/p_witness.txt" > /dev/null || fail "certify --points exited $?"
+for pair in "p_kernel.csv walk.csv" "p_rows.csv walk_rows.csv" "p_witness.txt walk_witness.txt"; do
+  set -- $pair
+  [ -s "$work/$1" ] || fail "certify --points did not write $1"
+  cmp -s "$work/$1" "$work/$2" || fail "certify --points wrote another $1 than --full-walk's $2"
+done
 
 # Cut short: bounds, and no kernel file.
 net=$work/big.json

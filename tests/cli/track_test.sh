@@ -87,4 +87,13 @@ case "$err" in *"$work/run/a.json holds another network"*) ;; *) fail "message d
 cp "${checkpoints[0]}" "$work/run/a.json"
 "$pleat" track "$work/run/a.json" "$work/run/b.json" --box -2,2 -o "$work/run.jsonl" -q > /dev/null ||
   fail "the same networks again must resume ($?)"
+# A checkpoint cut short: bounds, '>=' regions, and no count of linear regions
+# ('-', null): regions not found may join the pieces found (see walk_test.sh's
+# min_quadrants2d), so their count is no lower bound (the old binary printed '>=').
+"$pleat" random --arch 2,15,15,15,1 --seed 1 -o "$work/big.json" > /dev/null || fail "pleat random exited $?"
+"$pleat" track "$work/big.json" --time-limit-each 0.001 --json -q > "$work/cut.json" || fail "track cut short exited $?"
+[ "$(json_eval "$work/cut.json" '[(r["walk_complete"], r["certified"], r["linear_regions"]) for r in d["rows"]]')" \
+  = "[(False, False, None)]" ] || fail "a checkpoint cut short: $(cat "$work/cut.json")"
+table=$("$pleat" track "$work/big.json" --time-limit-each 0.001 -q) || fail "track cut short exited $?"
+echo "$table" | tail -n 1 | grep -Eq ' >=[0-9]+ +- +[0-9.]+$' || fail "a cut row must show '>=' regions and '-' linear: $table"
 echo "track: all checks passed"

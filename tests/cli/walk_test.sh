@@ -36,6 +36,18 @@ out=$("$pleat" walk "$fold" --max-regions 10 --quiet) || fail "--max-regions 10 
 case "$out" in *"regions     >= 10"*) ;; *) fail "--max-regions summary does not say '>= 10':"$'\n'"$out" ;; esac
 case "$out" in *"status      certified"*) fail "--max-regions summary claims certified" ;; esac
 
+# A stopped walk's linear regions bound nothing: on tests/data/min_quadrants2d.json
+# (relu(min(x, y))) the first 4 regions are 4 pieces of different maps (the zero
+# quadrants 4 and 2 meet only through quadrant 3, not yet found), while the whole
+# box has 3 linear regions. JSON gives null, not 4 (the old binary gave 4).
+quadrants=$source_dir/tests/data/min_quadrants2d.json
+"$pleat" walk "$quadrants" --box -1,3,-1,2 --json -q > "$work/quadrants.json" || fail "walk exited $?"
+[ "$(json_eval "$work/quadrants.json" '(d["regions"], d["linear_regions"])')" = "(5, 3)" ] ||
+  fail "the whole box: $(cat "$work/quadrants.json")"
+"$pleat" walk "$quadrants" --box -1,3,-1,2 --max-regions 4 --json -q > "$work/quadrants4.json" || fail "walk exited $?"
+[ "$(json_eval "$work/quadrants4.json" '(d["regions"], d["complete"], d["linear_regions"])')" = "(4, False, None)" ] ||
+  fail "a walk stopped after 4 regions gives linear_regions $(json_key "$work/quadrants4.json" linear_regions), not null"
+
 # --- Boxes: a leading minus is a number (spec: outputs.md, Domains).
 "$pleat" walk "$fold" --box -2,2 --json --quiet > "$work/box_a.json" || fail "--box -2,2 exited $?"
 "$pleat" walk "$fold" --box=-2,2 --json --quiet > "$work/box_b.json" || fail "--box=-2,2 exited $?"

@@ -55,6 +55,12 @@ class WalkTest(unittest.TestCase):
         self.assertEqual(result.region_count, 3)
         self.assertFalse(result.certified)
         self.assertEqual(result.stop_reason, "max-regions")
+        # Linear regions of a stopped walk bound nothing: the first 4 regions of
+        # relu(min(x, y)) on this box are 4 pieces, the whole box has 3.
+        quadrants = pleat.Network.from_file(harness.test_data("min_quadrants2d.json"))
+        box = [(-1, 3), (-1, 2)]
+        self.assertEqual(quadrants.walk(box).linear_regions, 3)
+        self.assertIsNone(quadrants.walk(box, max_regions=4).linear_regions)
 
     def test_records_and_pandas(self):
         result = pleat.Network.from_file(FOLD).walk()

@@ -1,0 +1,315 @@
+#include "enumerate/detail/padic_solve.hpp"
+
+#include "core/stop.hpp"
+
+#include <flint/fmpq.h>
+#include <flint/fmpz.h>
+#include <flint/ulong_extras.h>
+
+#include <algorithm>
+#include <cstdint>
+#include <memory>
+#include <optional>
+#include <vector>
+
+namespace pleat::detail {
+namespace {
+
+__extension__ typedef unsigned __int128 Wide;
+
+// A sum of products of two words, in three words (n products of words
+// below 2^64 stay below 2^192 for any n below 2^64).
+struct WideSum {
+  Wide low = 0;
+  std::uint64_t high = 0;
+  void add(std::uint64_t a, std::uint64_t b) {
+    const Wide product = static_cast<Wide>(a) * b;
+    low += product;
+    high += low < product ? 1 : 0;
+  }
+};
+
+// A's nonzero entries row by row, the positive ones first, each as its
+// column and the `limbs` words of its absolute value (least significant
+// first): A x is then two sums of word products per row and word.
+class WordMatrix {
+ public:
+  explicit WordMatrix(const fmpz_mat_struct* a) {
+    const auto n = fmpz_mat_nrows(a);
+    const auto columns = fmpz_mat_ncols(a);
+    std::size_t largest = 1;
+    for (slong i = 0; i < n; ++i)
+      for (slong j = 0; j < columns; ++j)
+        largest = std::max(largest, static_cast<std::size_t>(fmpz_size(fmpz_mat_entry(a, i, j))));
+    limbs_ = largest;
+    first_.push_back(0);
+    fmpz_t magnitude;
+    fmpz_init(magnitude);
+    for (slong i = 0; i < n; ++i) {
+      for (int sign : {1, -1}) {
+        for (slong j = 0; j < columns; ++j) {
+          const fmpz* entry = fmpz_mat_entry(a, i, j);
+          if (fmpz_sgn(entry) != sign) continue;
+          fmpz_abs(magnitude, entry);
+          columns_.push_back(static_cast<std::size_t>(j));
+          for (std::size_t l = 0; l < limbs_; ++l) words_.push_back(limb(magnitude, l));
+        }
+        first_.push_back(columns_.size());
+      }
+    }
+    fmpz_clear(magnitude);
+  }
+
+  // out = row i of A times x (x's entries words), exactly.
+  void row_times(std::size_t i, const std::uint64_t* x, fmpz_t out, fmpz_t scratch) const {
+    sum(first_[2 * i], first_[2 * i + 1], x, out);
+    sum(first_[2 * i + 1], first_[2 * i + 2], x, scratch);
+    fmpz_sub(out, out, scratch);
+  }
+
+ private:
+  static std::uint64_t limb(const fmpz_t value, std::size_t l) {
+    if (!COEFF_IS_MPZ(*value)) return l == 0 ? static_cast<std::uint64_t>(*value) : 0;
+    const __mpz_struct* big = COEFF_TO_PTR(*value);
+    return l < static_cast<std::size_t>(big->_mp_size) ? big->_mp_d[l] : 0;
+  }
+
+  // The entries [begin, end) (magnitudes) times x at their columns.
+  void sum(std::size_t begin, std::size_t end, const std::uint64_t* x, fmpz_t out) const {
+    std::vector<std::uint64_t>& total = scratch_words();
+    total.assign(limbs_ + 3, 0);
+    for (std::size_t l = 0; l < limbs_; ++l) {
+      WideSum part;
+      for (std::size_t e = begin; e < end; ++e) part.add(words_[e * limbs_ + l], x[columns_[e]]);
+      // total += part * 2^(64 l), with the carry run out.
+      const std::uint64_t words[3] = {static_cast<std::uint64_t>(part.low), static_cast<std::uint64_t>(part.low >> 64),
+                                      part.high};
+      std::uint64_t carry = 0;
+      for (std::size_t w = 0; w < 3 || carry; ++w) {
+        const Wide added = static_cast<Wide>(total[l + w]) + (w < 3 ? words[w] : 0) + carry;
+        total[l + w] = static_cast<std::uint64_t>(added);
+        carry = static_cast<std::uint64_t>(added >> 64);
+      }
+    }
+    fmpz_set_ui_array(out, total.data(), static_cast<slong>(total.size()));
+  }
+
+  static std::vector<std::uint64_t>& scratch_words() {
+    thread_local std::vector<std::uint64_t> words;
+    return words;
+  }
+
+  std::size_t limbs_ = 1;
+  std::vector<std::size_t> first_;    // row i's positives [2i, 2i+1), negatives [2i+1, 2i+2)
+  std::vector<std::size_t> columns_;  // of each entry
+  std::vector<std::uint64_t> words_;  // limbs_ per entry
+};
+
+// A modulo a word prime p as FLINT's LU factorization (row i of the
+// factored matrix is row order[i] of A).
+struct ModularLu {
+  std::uint64_t prime;
+  NmodMatrix lu;
+  std::vector<slong> order;
+  ModularLu(const fmpz_mat_struct* a, std::uint64_t p)
+      : prime(p),
+        lu(static_cast<std::size_t>(fmpz_mat_nrows(a)), static_cast<std::size_t>(fmpz_mat_nrows(a)), p),
+        order(static_cast<std::size_t>(fmpz_mat_nrows(a))) {}
+};
+
+// A's LU modulo the first of three fixed primes below 2^62 that does not
+// divide det A; nullptr when all three do (A is then most likely singular).
+std::unique_ptr<ModularLu> factor_modulo_some_prime(const fmpz_mat_struct* a) {
+  std::uint64_t prime = (std::uint64_t{1} << 62) - (std::uint64_t{1} << 36);
+  for (int attempt = 0; attempt < 3; ++attempt) {
+    prime = n_nextprime(prime, 1);
+    auto lu = std::make_unique<ModularLu>(a, prime);
+    fmpz_mat_get_nmod_mat(lu->lu.get(), a);
+    if (nmod_mat_lu(lu->order.data(), lu->lu.get(), 1) == fmpz_mat_nrows(a)) return lu;
+  }
+  return nullptr;
+}
+
+// One column's lifting: its residual, X modulo p^k so far, and the last
+// candidate read off it.
+struct ColumnLift {
+  std::vector<Integer> residual;  // (b - A x_k) / p^k
+  std::vector<Integer> value;     // x_k: X modulo p^k, in [0, p^k)
+  std::vector<Integer> numerators;
+  Integer denominator;
+  bool has_candidate = false, is_done = false;
+  // The digit count at which to read the column off next: a failed attempt
+  // (one reconstruction at that size, which costs more than a step on small
+  // systems) waits a quarter more digits, a new candidate one.
+  std::size_t next_attempt = 1;
+};
+
+// The column's entries as fractions with one denominator d (from `guess`,
+// grown entry by entry by rational reconstruction: d x_i modulo p^k is a
+// small integer, or its reconstruction's denominator multiplies d), every
+// numerator and d at most sqrt(p^k / 2). False when that fails (too few
+// digits yet). With the last candidate's d as the guess, a column already
+// right costs one product per entry and no reconstruction.
+bool read_off(const std::vector<Integer>& value, const Integer& modulus, const Integer& guess,
+              std::vector<Integer>& numerators, Integer& denominator) {
+  Integer bound;  // sqrt(p^k / 2)
+  mpz_fdiv_q_2exp(bound.get_mpz_t(), modulus.get_mpz_t(), 1);
+  mpz_sqrt(bound.get_mpz_t(), bound.get_mpz_t());
+  Integer half;
+  mpz_fdiv_q_2exp(half.get_mpz_t(), modulus.get_mpz_t(), 1);
+  denominator = guess;
+  if (denominator > bound) return false;
+  numerators.assign(value.size(), Integer(0));
+  Integer scaled;
+  fmpz_t residue, modulus_f;
+  fmpq_t fraction;
+  fmpz_init(residue);
+  fmpz_init(modulus_f);
+  fmpq_init(fraction);
+  fmpz_set_mpz(modulus_f, modulus.get_mpz_t());
+  bool is_read = true;
+  for (std::size_t i = 0; i < value.size() && is_read; ++i) {
+    scaled = value[i] * denominator;
+    mpz_fdiv_r(scaled.get_mpz_t(), scaled.get_mpz_t(), modulus.get_mpz_t());
+    if (scaled > half) scaled -= modulus;
+    if (abs(scaled) <= bound) {
+      numerators[i] = scaled;
+      continue;
+    }
+    if (scaled < 0) scaled += modulus;
+    fmpz_set_mpz(residue, scaled.get_mpz_t());
+    if (!fmpq_reconstruct_fmpz(fraction, residue, modulus_f)) {
+      is_read = false;
+      break;
+    }
+    Integer factor;  // the new entry's denominator: every earlier numerator and d take it
+    fmpz_get_mpz(factor.get_mpz_t(), fmpq_denref(fraction));
+    denominator *= factor;
+    if (denominator > bound) {
+      is_read = false;
+      break;
+    }
+    for (std::size_t j = 0; j < i && is_read; ++j) {
+      numerators[j] *= factor;
+      is_read = abs(numerators[j]) <= bound;
+    }
+    fmpz_get_mpz(numerators[i].get_mpz_t(), fmpq_numref(fraction));
+  }
+  fmpq_clear(fraction);
+  fmpz_clear(modulus_f);
+  fmpz_clear(residue);
+  return is_read;
+}
+
+}  // namespace
+
+std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, const fmpz_mat_struct* b) {
+  const auto n = static_cast<std::size_t>(fmpz_mat_nrows(a)), m = static_cast<std::size_t>(fmpz_mat_ncols(b));
+  if (static_cast<std::size_t>(fmpz_mat_ncols(a)) != n || static_cast<std::size_t>(fmpz_mat_nrows(b)) != n)
+    return std::nullopt;
+  RationalMatrix solution(n, m);
+  if (n == 0 || m == 0) return solution;
+  const std::unique_ptr<ModularLu> lu = factor_modulo_some_prime(a);
+  if (!lu) return std::nullopt;
+  const std::uint64_t prime = lu->prime;
+  const WordMatrix words(a);
+  // Enough digits for any solution: p^k above 2 max(N, D)^2 (N and D
+  // FLINT's Hadamard bounds on the numerators and the denominator: the
+  // reconstruction reads fractions up to sqrt(p^k / 2) both ways), two more
+  // for the agreement of successive candidates.
+  Integer limit;
+  {
+    fmpz_t numerator_bound, denominator_bound;
+    fmpz_init(numerator_bound);
+    fmpz_init(denominator_bound);
+    fmpz_mat_solve_bound(numerator_bound, denominator_bound, a, b);
+    if (fmpz_cmp(denominator_bound, numerator_bound) > 0) fmpz_swap(numerator_bound, denominator_bound);
+    fmpz_mul(numerator_bound, numerator_bound, numerator_bound);
+    fmpz_mul_2exp(numerator_bound, numerator_bound, 1);
+    fmpz_get_mpz(limit.get_mpz_t(), numerator_bound);
+    fmpz_clear(denominator_bound);
+    fmpz_clear(numerator_bound);
+  }
+  std::vector<ColumnLift> columns(m);
+  for (std::size_t c = 0; c < m; ++c) {
+    columns[c].residual.resize(n);
+    columns[c].value.assign(n, Integer(0));
+    for (std::size_t i = 0; i < n; ++i)
+      fmpz_get_mpz(columns[c].residual[i].get_mpz_t(),
+                   fmpz_mat_entry(b, static_cast<slong>(i), static_cast<slong>(c)));
+  }
+  Integer power = 1;  // p^k
+  NmodMatrix right(n, m, prime), digits(n, m, prime);
+  std::vector<std::uint64_t> digit(n);
+  std::vector<Integer> numerators;
+  Integer denominator;
+  fmpz_t product, scratch;
+  fmpz_init(product);
+  fmpz_init(scratch);
+  Integer product_value;
+  std::size_t open = m, digits_so_far = 0;
+  for (std::size_t extra = 0; open > 0 && extra < 2;) {
+    poll_stop();
+    if (power > limit) ++extra;
+    // The next digit of every open column: A^-1 (residual mod p), through
+    // the LU (rows in its order).
+    for (std::size_t i = 0; i < n; ++i) {
+      const auto row = static_cast<std::size_t>(lu->order[i]);
+      for (std::size_t c = 0; c < m; ++c)
+        nmod_mat_entry(right.get(), static_cast<slong>(i), static_cast<slong>(c)) =
+            columns[c].is_done ? 0 : mpz_fdiv_ui(columns[c].residual[row].get_mpz_t(), prime);
+    }
+    nmod_mat_solve_tril(digits.get(), lu->lu.get(), right.get(), 1);
+    nmod_mat_solve_triu(digits.get(), lu->lu.get(), digits.get(), 0);
+    for (std::size_t c = 0; c < m; ++c) {
+      ColumnLift& column = columns[c];
+      if (column.is_done) continue;
+      for (std::size_t i = 0; i < n; ++i) {
+        digit[i] = nmod_mat_entry(digits.get(), static_cast<slong>(i), static_cast<slong>(c));
+        mpz_addmul_ui(column.value[i].get_mpz_t(), power.get_mpz_t(), digit[i]);
+      }
+      // residual = (residual - A digit) / p, exactly.
+      for (std::size_t i = 0; i < n; ++i) {
+        words.row_times(i, digit.data(), product, scratch);
+        fmpz_get_mpz(product_value.get_mpz_t(), product);
+        column.residual[i] -= product_value;
+        mpz_divexact_ui(column.residual[i].get_mpz_t(), column.residual[i].get_mpz_t(), prime);
+      }
+    }
+    power *= static_cast<unsigned long>(prime);
+    ++digits_so_far;
+    // Read each open column off; done when two steps in a row agree.
+    for (std::size_t c = 0; c < m; ++c) {
+      ColumnLift& column = columns[c];
+      if (column.is_done || (digits_so_far < column.next_attempt && extra == 0)) continue;
+      const Integer guess = column.has_candidate ? column.denominator : Integer(1);
+      if (!read_off(column.value, power, guess, numerators, denominator)) {
+        column.has_candidate = false;
+        column.next_attempt = digits_so_far + std::max<std::size_t>(1, digits_so_far / 4);
+        continue;
+      }
+      column.next_attempt = digits_so_far + 1;
+      if (column.has_candidate && denominator == column.denominator && numerators == column.numerators) {
+        column.is_done = true;
+        --open;
+        for (std::size_t i = 0; i < n; ++i) {
+          Rational& entry = solution(i, c);
+          entry.get_num() = column.numerators[i];
+          entry.get_den() = column.denominator;
+          entry.canonicalize();
+        }
+        column = ColumnLift{{}, {}, {}, {}, false, true};
+        continue;
+      }
+      column.numerators = numerators;
+      column.denominator = denominator;
+      column.has_candidate = true;
+    }
+  }
+  fmpz_clear(scratch);
+  fmpz_clear(product);
+  if (open > 0) return std::nullopt;
+  return solution;
+}
+
+}  // namespace pleat::detail

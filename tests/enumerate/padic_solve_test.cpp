@@ -1,0 +1,94 @@
+// The p-adic solve of a square integer system (enumerate/detail/padic_solve.hpp)
+// against FLINT's own exact rational solve (fmpq_mat_solve_fmpz_mat, an
+// independent implementation): equal solutions on random nonsingular systems
+// of several sizes, entry sizes (one to four words, both signs, many zeros)
+// and right-hand sides; zero columns; and no answer for a singular system.
+#include "enumerate/detail/padic_solve.hpp"
+
+#include <flint/fmpz.h>
+
+#include <gtest/gtest.h>
+
+#include <cstdint>
+#include <random>
+
+namespace pleat::detail {
+namespace {
+
+// A random integer of up to `bits` bits, either sign, 0 with probability
+// zero_share (the kept rows' systems are about half zeros).
+void random_entry(fmpz* entry, std::mt19937_64& random, unsigned bits, double zero_share) {
+  if (std::uniform_real_distribution<double>(0, 1)(random) < zero_share) {
+    fmpz_zero(entry);
+    return;
+  }
+  fmpz_zero(entry);
+  for (unsigned done = 0; done < bits; done += 32) {
+    fmpz_mul_2exp(entry, entry, 32);
+    fmpz_add_ui(entry, entry, random() & 0xffffffffu);
+  }
+  fmpz_fdiv_q_2exp(entry, entry, (bits + 31) / 32 * 32 - bits);
+  if (random() & 1) fmpz_neg(entry, entry);
+}
+
+// FLINT's exact solution, or nullopt when A is singular.
+std::optional<RationalMatrix> flint_solution(FmpzMatrix& a, FmpzMatrix& b, std::size_t n, std::size_t m) {
+  FmpqMatrix solution(n, m);
+  if (!fmpq_mat_solve_fmpz_mat(solution.get(), a.get(), b.get())) return std::nullopt;
+  RationalMatrix out(n, m);
+  for (std::size_t i = 0; i < n; ++i)
+    for (std::size_t c = 0; c < m; ++c) fmpq_get_mpq(out(i, c).get_mpq_t(), solution.entry(i, c));
+  return out;
+}
+
+TEST(PadicSolve, EqualsFlintsExactSolveOnRandomSystems) {
+  std::mt19937_64 random(20261203);
+  int compared = 0;
+  for (std::size_t n : {1, 2, 5, 16, 40, 90})
+    for (unsigned bits : {3u, 62u, 64u, 118u, 250u})
+      for (std::size_t m : {1, 3}) {
+        if (n * bits > 10000) continue;  // a minute of lifting, no more coverage
+        FmpzMatrix a(n, n), b(n, m);
+        for (std::size_t i = 0; i < n; ++i) {
+          for (std::size_t j = 0; j < n; ++j) random_entry(a.entry(i, j), random, bits, n > 4 ? 0.5 : 0.0);
+          fmpz_set_ui(a.entry(i, i), 1 + (random() & 0xff));  // keeps A nonsingular (almost surely)
+          for (std::size_t c = 0; c < m; ++c) random_entry(b.entry(i, c), random, bits, 0.2);
+        }
+        const std::optional<RationalMatrix> expected = flint_solution(a, b, n, m);
+        ASSERT_TRUE(expected.has_value());
+        const std::optional<RationalMatrix> solved = solve_by_padic_lifting(a.get(), b.get());
+        ASSERT_TRUE(solved.has_value()) << "n " << n << " bits " << bits;
+        EXPECT_EQ(*solved, *expected) << "n " << n << " bits " << bits << " m " << m;
+        ++compared;
+      }
+  EXPECT_EQ(compared, 56);
+}
+
+TEST(PadicSolve, ZeroRightHandSideGivesZero) {
+  FmpzMatrix a(3, 3), b(3, 2);
+  const long entries[3][3] = {{2, -1, 0}, {1, 3, -7}, {0, 5, 11}};
+  for (std::size_t i = 0; i < 3; ++i)
+    for (std::size_t j = 0; j < 3; ++j) fmpz_set_si(a.entry(i, j), entries[i][j]);
+  fmpz_set_si(b.entry(0, 1), 4);  // column 0 zero, column 1 not
+  const std::optional<RationalMatrix> solved = solve_by_padic_lifting(a.get(), b.get());
+  ASSERT_TRUE(solved.has_value());
+  const std::optional<RationalMatrix> expected = flint_solution(a, b, 3, 2);
+  ASSERT_TRUE(expected.has_value());
+  EXPECT_EQ(*solved, *expected);
+  for (std::size_t i = 0; i < 3; ++i) EXPECT_EQ((*solved)(i, 0), 0);
+  EXPECT_NE((*solved)(0, 1), 0);
+}
+
+TEST(PadicSolve, SingularSystemHasNoSolution) {
+  // Row 2 = row 0 + row 1: singular over Q, hence modulo every prime.
+  FmpzMatrix a(3, 3), b(3, 1);
+  const long entries[3][3] = {{1, 2, 3}, {4, 5, 6}, {5, 7, 9}};
+  for (std::size_t i = 0; i < 3; ++i) {
+    for (std::size_t j = 0; j < 3; ++j) fmpz_set_si(a.entry(i, j), entries[i][j]);
+    fmpz_set_si(b.entry(i, 0), static_cast<long>(i) + 1);
+  }
+  EXPECT_FALSE(solve_by_padic_lifting(a.get(), b.get()).has_value());
+}
+
+}  // namespace
+}  // namespace pleat::detail
