@@ -160,6 +160,13 @@ Json result_to_json(const Network& network, const Domain& domain, const Function
   return out;
 }
 
+// Stopped while drawing points, before any walk began: the walk's own
+// summary is then untouched (neither complete nor stopped).
+bool stopped_before_walk(const FunctionalDimensionResult& result) {
+  return result.stop_reason != StopReason::none && !result.walk.complete &&
+         result.walk.stop_reason == StopReason::none;
+}
+
 void print_result(const Network& network, const Domain& domain, const FunctionalDimensionResult& result,
                   std::ostream& out) {
   out << "domain                " << domain.describe() << "\n";
@@ -185,11 +192,13 @@ void print_result(const Network& network, const Domain& domain, const Functional
         << "  NOT certified ("
         << (result.stop_reason == StopReason::none
                 ? std::string("the walk could not be certified")
-                : std::string(result.walk_complete ? "stopped after the walk: " : "walk stopped: ") +
+                : std::string(result.walk_complete       ? "stopped after the walk: "
+                                          : stopped_before_walk(result) ? "stopped before the walk: "
+                                                                        : "walk stopped: ") +
                       to_string(result.stop_reason))
         << ")\n";
   }
-  if (result.certified_by_points)
+  if (result.certified_by_points || stopped_before_walk(result))
     out << "regions               none walked (" << result.points_drawn << " points drawn, "
         << result.regions_contributing << " of their regions contributed new rows)\n";
   else
