@@ -1,5 +1,7 @@
 #include "enumerate/detail/walk_pipeline.hpp"
 
+#include "enumerate/detail/worker_thread.hpp"
+
 #include <algorithm>
 #include <chrono>
 #include <thread>
@@ -206,27 +208,61 @@ void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
   }
 }
 
-StopReason WalkPipeline::run(std::size_t first, const StopRequest& stop, const Process& process,
-                             const Consume& consume, const Tick& on_tick, const Background& background) {
-  const Hooks hooks{stop, process, consume, on_tick, background};
+WalkPipeline::~WalkPipeline() {
   {
     const std::lock_guard lock(mutex_);
-    needed_ = first;
+    is_over_ = true;  // threads started for a run that never came: they end
+    signal_change();
   }
-  std::vector<std::thread> threads;
+  for (auto& thread : threads_) thread.join();
+}
+
+// A worker started before run: watches for run's hooks (yielding, for up to
+// 20 ms: waking a sleeping thread on an idle virtual machine can take
+// milliseconds), then sleeps until they come; serves them, or ends when the
+// pipeline does without a run.
+void WalkPipeline::await_run(std::size_t worker) {
+  using clock = std::chrono::steady_clock;
+  const auto until = clock::now() + std::chrono::milliseconds(20);
+  while (version_.load(std::memory_order_acquire) == 0 && clock::now() < until) std::this_thread::yield();
+  const Hooks* hooks = nullptr;
+  {
+    std::unique_lock lock(mutex_);
+    changed_.wait(lock, [&] { return hooks_ != nullptr || is_over_; });
+    hooks = hooks_;
+  }
+  if (hooks != nullptr) serve(worker, *hooks);
+}
+
+void WalkPipeline::start() {
+  if (!threads_.empty()) return;
   try {
     for (std::size_t worker = 1; worker < workers_; ++worker)
-      threads.emplace_back([this, worker, &hooks] { serve(worker, hooks); });
+      threads_.push_back(start_worker_thread([this, worker] { await_run(worker); }, worker - 1));
   } catch (...) {  // a thread that could not start: end those that did
     {
       const std::lock_guard lock(mutex_);
       fail(std::current_exception());
     }
-    for (auto& thread : threads) thread.join();
+    for (auto& thread : threads_) thread.join();
+    threads_.clear();
     throw;
   }
+}
+
+StopReason WalkPipeline::run(std::size_t first, const StopRequest& stop, const Process& process,
+                             const Consume& consume, const Tick& on_tick, const Background& background) {
+  const Hooks hooks{stop, process, consume, on_tick, background};
+  start();
+  {
+    const std::lock_guard lock(mutex_);
+    needed_ = first;
+    hooks_ = &hooks;
+    signal_change();
+  }
   serve(0, hooks);
-  for (auto& thread : threads) thread.join();
+  for (auto& thread : threads_) thread.join();
+  threads_.clear();
   if (error_) std::rethrow_exception(error_);
   return stopped_;
 }

@@ -17,6 +17,8 @@
 #include <memory>
 #include <mutex>
 #include <optional>
+#include <thread>
+#include <vector>
 
 namespace pleat::detail {
 
@@ -56,8 +58,17 @@ class WalkPipeline {
   // (at least 1) are processed or in process and not yet consumed, besides
   // the one the consumer needs (it bounds the regions held in memory).
   WalkPipeline(std::size_t workers, std::size_t window);
+  // Ends threads start() began when run never came.
+  ~WalkPipeline();
   WalkPipeline(const WalkPipeline&) = delete;
   WalkPipeline& operator=(const WalkPipeline&) = delete;
+
+  // Optional, before run: starts the other workers' threads now, so that
+  // their start-up overlaps the caller's own set-up (starting a thread costs
+  // up to milliseconds on an idle virtual machine: more than a small walk).
+  // They wait for run (watching for it for a few milliseconds before they
+  // sleep). run calls it when the caller did not.
+  void start();
 
   // Adds a task (before run, or from consume); returns its index.
   std::size_t add(ActivationPattern pattern);
@@ -83,6 +94,7 @@ class WalkPipeline {
   enum class State : unsigned char { waiting, claimed, done };
   struct Hooks;
   void serve(std::size_t worker, const Hooks& hooks);
+  void await_run(std::size_t worker);
   bool is_needed_done() const;
   std::optional<std::size_t> claim();
   void process_one(std::unique_lock<std::mutex>& lock, std::size_t worker, std::size_t index, const Hooks& hooks);
@@ -112,6 +124,8 @@ class WalkPipeline {
   std::size_t held_ = 0;                 // claimed and not yet consumed
   std::size_t consumed_ = 0;
   std::exception_ptr error_;
+  const Hooks* hooks_ = nullptr;      // run's, once it started
+  std::vector<std::thread> threads_;  // workers 1, 2, ... (started by start)
 };
 
 }  // namespace pleat::detail

@@ -104,6 +104,35 @@ TEST(WalkBackground, RethrowsItsException) {
   }
 }
 
+// Threads started before run (WalkPipeline::start) serve the run like those
+// run starts itself; started for a run that never comes, they end with the
+// pipeline (its destructor would hang otherwise).
+TEST(WalkBackground, ThreadsStartedBeforeTheRun) {
+  for (std::size_t workers : {2u, 3u}) {
+    detail::WalkPipeline unused(workers, 4);
+    unused.start();
+  }
+  detail::WalkPipeline pipeline(3, 4);
+  pipeline.start();
+  std::mutex mutex;
+  std::vector<std::size_t> workers_seen;
+  pipeline.add(ActivationPattern{{NeuronState::on}});
+  pipeline.run(
+      0, StopRequest(),
+      [&](std::size_t worker, detail::WalkTask& task) {
+        const std::lock_guard lock(mutex);
+        workers_seen.push_back(worker);
+        task.processed = std::make_unique<detail::Processed>();
+      },
+      [&](std::size_t index, detail::WalkTask&) -> std::optional<std::size_t> {
+        if (index == 99) return std::nullopt;
+        return pipeline.add(ActivationPattern{{NeuronState::off}});
+      },
+      nullptr);
+  EXPECT_EQ(workers_seen.size(), 100u);
+  for (std::size_t worker : workers_seen) EXPECT_LT(worker, 3u);
+}
+
 detail::PendingRows rows_of(std::size_t label, std::size_t rows, std::size_t columns) {
   detail::PendingRows pending;
   pending.pattern.states.assign(label + 1, NeuronState::on);
