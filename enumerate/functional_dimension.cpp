@@ -239,18 +239,22 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // walk's worker, WalkOptions::prepare_region), else null.
   auto add_region_rows = [&](const ActivationPattern& pattern, const RationalVector* interior,
                              const ModularMatrix* rows_ready = nullptr) {
-    KeptRows region{pattern, {}};
+    KeptRows region{pattern, {}, {}};
     if (options.across) {  // the rows its owner kept: the same rows stay (distributed_certify.hpp)
       for (const auto& [r, row] : options.across->region_rows())
         if (basis.add_row_screened(row)) {
           region.rows.push_back(r);
+          region.residues.push_back(row);
           options.across->row_kept(row);
         }
     } else {
       const ModularMatrix computed = rows_ready ? ModularMatrix() : coefficient_blocks_mod(modular, pattern);
       const ModularMatrix& rows = rows_ready ? *rows_ready : computed;
       for (std::size_t r = 0; r < rows.rows(); ++r)
-        if (basis.add_row_screened(rows.row(r))) region.rows.push_back(r);
+        if (ModularVector row = rows.row(r); basis.add_row_screened(row)) {
+          region.rows.push_back(r);
+          region.residues.push_back(std::move(row));
+        }
     }
     if (region.rows.empty()) return;
     kept.push_back(std::move(region));
@@ -273,9 +277,12 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
                                 const RationalVector& point) {
     if (point_region.verdict != PointVerdict::smooth || !seen_by_points.insert(point_region.pattern).second)
       return false;
-    KeptRows region{point_region.pattern, {}};
+    KeptRows region{point_region.pattern, {}, {}};
     for (std::size_t r = 0; r < rows.rows(); ++r)
-      if (basis.add_row_screened(rows.row(r))) region.rows.push_back(r);
+      if (ModularVector row = rows.row(r); basis.add_row_screened(row)) {
+        region.rows.push_back(r);
+        region.residues.push_back(std::move(row));
+      }
     if (region.rows.empty()) return false;
     kept.push_back(std::move(region));
     result.witness_points.push_back(point);

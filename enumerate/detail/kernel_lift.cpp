@@ -22,46 +22,6 @@ namespace {
 
 __extension__ typedef unsigned __int128 Wide;
 
-// Row r of `rows` at the given columns as a primitive integer vector
-// (primitive_integers).
-void primitive_integer_row(const RationalMatrix& rows, std::size_t r, const std::vector<std::size_t>& columns,
-                           std::vector<Integer>& out) {
-  primitive_integers(columns.size(), [&](std::size_t q) -> const Rational& { return rows(r, columns[q]); }, out);
-}
-
-// The system sum_m K[chosen_i, unknowns_m] x_m = -K[chosen_i, target] over Q
-// (one scale per row for both sides), or nullopt when it is singular. FLINT
-// picks the method: fraction-free for small systems, Dixon p-adic lifting
-// (one inverse modulo a prime, lifting with an adaptive stop) for larger.
-// One FLINT call, not interruptible: about a second at most on the
-// benchmark networks (README, "Certify against the float estimate").
-std::optional<std::vector<RationalVector>> solve_square(const RationalMatrix& rows,
-                                                        const std::vector<std::size_t>& chosen,
-                                                        const std::vector<std::size_t>& unknowns,
-                                                        const std::vector<std::size_t>& targets) {
-  const std::size_t n = unknowns.size();
-  std::vector<std::size_t> columns = unknowns;
-  columns.insert(columns.end(), targets.begin(), targets.end());
-  FmpzMatrix square(n, n), right(n, targets.size());
-  std::vector<Integer> integer_row;
-  for (std::size_t i = 0; i < n; ++i) {
-    poll_stop();
-    primitive_integer_row(rows, chosen[i], columns, integer_row);
-    for (std::size_t m = 0; m < n; ++m) fmpz_set_mpz(square.entry(i, m), integer_row[m].get_mpz_t());
-    for (std::size_t t = 0; t < targets.size(); ++t) {
-      fmpz_set_mpz(right.entry(i, t), integer_row[n + t].get_mpz_t());
-      fmpz_neg(right.entry(i, t), right.entry(i, t));
-    }
-  }
-  poll_stop();
-  FmpqMatrix solution(n, targets.size());
-  if (!fmpq_mat_solve_fmpz_mat(solution.get(), square.get(), right.get())) return std::nullopt;
-  std::vector<RationalVector> out(targets.size(), RationalVector(n));
-  for (std::size_t m = 0; m < n; ++m)
-    for (std::size_t t = 0; t < targets.size(); ++t) fmpq_get_mpq(out[t][m].get_mpq_t(), solution.entry(m, t));
-  return out;
-}
-
 using SparseRow = SparseRationalRows::Row;
 
 // Rows of the image modulo p whose every entry is a fraction with numerator
@@ -161,6 +121,26 @@ ModularMatrix kept_rows_modulo(const ModularNetwork& network, const std::vector<
       ++row_out;
     }
   });
+  return out;
+}
+
+// The kept rows modulo the walk's prime at the columns `wanted` marks (the
+// other entries 0): the residues the walk kept when every region has them,
+// else computed (kept_rows_modulo).
+ModularMatrix kept_rows_at(const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,
+                           std::size_t columns, unsigned threads, const std::vector<char>& wanted) {
+  if (!std::all_of(kept.begin(), kept.end(), [](const KeptRows& k) { return k.residues.size() == k.rows.size(); }))
+    return kept_rows_modulo(walk_network, kept, rank, columns, threads, nullptr, &wanted);
+  std::vector<std::size_t> marked;
+  for (std::size_t c = 0; c < columns; ++c)
+    if (wanted[c]) marked.push_back(c);
+  ModularMatrix out(rank, columns);
+  std::size_t r = 0;
+  for (const KeptRows& region : kept)
+    for (const ModularVector& residues : region.residues) {
+      for (std::size_t c : marked) out(r, c) = residues[c];
+      ++r;
+    }
   return out;
 }
 
@@ -374,7 +354,7 @@ std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
   std::vector<char> in_supports(columns, 0);
   for (const RowLift& lift : lifts)
     for (std::size_t c : lift.support) in_supports[c] = 1;
-  const ModularMatrix walk_rows = kept_rows_modulo(walk_network, kept, rank, columns, threads, nullptr, &in_supports);
+  const ModularMatrix walk_rows = kept_rows_at(walk_network, kept, rank, columns, threads, in_supports);
   std::vector<std::optional<std::vector<std::size_t>>> equations(lifts.size());
   parallel_for(lifts.size(), threads,
                [&](std::size_t i) { equations[i] = independent_rows(walk_rows, lifts[i].support, walk_network.prime); });
@@ -493,54 +473,6 @@ std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
   std::vector<SparseRow> ordered;
   for (std::size_t row : rows) ordered.push_back(std::move(out[row]));
   return ordered;
-}
-
-RationalMatrix exact_kept_rows(const Network& network, const std::vector<KeptRows>& kept, std::size_t rank,
-                               unsigned threads) {
-  std::vector<RationalMatrix> blocks(kept.size());
-  parallel_for(kept.size(), threads, [&](std::size_t i) {
-    poll_stop();
-    blocks[i] = coefficient_blocks(network, kept[i].pattern);
-  });
-  RationalMatrix rows(rank, network.parametric_dimension());
-  std::size_t r = 0;
-  for (std::size_t i = 0; i < kept.size(); ++i)
-    for (std::size_t row : kept[i].rows) rows.set_row(r++, blocks[i].row(row));
-  return rows;
-}
-
-std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
-                                                     const std::vector<std::size_t>& scaling_pivots,
-                                                     const std::vector<std::size_t>& leading,
-                                                     const std::vector<std::size_t>& wanted) {
-  const std::size_t columns = rows.cols(), rank = rows.rows();
-  std::vector<char> is_fixed(columns, 0);  // Q and L
-  for (std::size_t c : scaling_pivots) is_fixed[c] = 1;
-  for (std::size_t c : leading) is_fixed[c] = 1;
-  std::vector<std::size_t> others;  // N
-  for (std::size_t c = 0; c < columns; ++c)
-    if (!is_fixed[c]) others.push_back(c);
-  if (others.size() != rank) return std::nullopt;  // the shapes disagree: bounds only
-  RationalMatrix extra(wanted.size(), columns);
-  for (std::size_t w = 0; w < wanted.size(); ++w) extra(w, leading[wanted[w]]) = 1;
-  // A zero right-hand side (a parameter no kept row depends on) has the
-  // solution 0; the others are solved together.
-  std::vector<std::size_t> solved, targets;  // positions in wanted, their columns
-  for (std::size_t w = 0; w < wanted.size(); ++w)
-    for (std::size_t r = 0; r < rank; ++r)
-      if (rows(r, leading[wanted[w]]) != 0) {
-        solved.push_back(w);
-        targets.push_back(leading[wanted[w]]);
-        break;
-      }
-  if (solved.empty()) return extra;
-  std::vector<std::size_t> all_rows(rank);
-  for (std::size_t r = 0; r < rank; ++r) all_rows[r] = r;
-  const auto solution = solve_square(rows, all_rows, others, targets);
-  if (!solution) return std::nullopt;
-  for (std::size_t s = 0; s < solved.size(); ++s)
-    for (std::size_t m = 0; m < rank; ++m) extra(solved[s], others[m]) = (*solution)[s][m];
-  return extra;
 }
 
 std::optional<SparseRationalRows> lift_and_prove_extra_directions(

@@ -35,6 +35,10 @@ namespace pleat::detail {
 struct KeptRows {
   ActivationPattern pattern;
   std::vector<std::size_t> rows;
+  // Those rows modulo the walk's prime (one per entry of rows, D residues
+  // each) when the walk kept them, else empty: the lift then reads them here
+  // instead of computing the region's rows again.
+  std::vector<ModularVector> residues;
 };
 
 // The extra directions E modulo p: the canonical basis (reduced row-echelon,

@@ -56,7 +56,7 @@ WalkState walk_state(const Network& network) {
     if (!region.nonsmooth_neurons.empty()) return true;
     state.smooth.push_back(region.pattern);
     const ModularMatrix rows = coefficient_blocks_mod(state.modular, region.pattern);
-    detail::KeptRows kept{region.pattern, {}};
+    detail::KeptRows kept{region.pattern, {}, {}};
     for (std::size_t r = 0; r < rows.rows(); ++r)
       if (basis.add_row(rows.row(r))) kept.rows.push_back(r);
     if (!kept.rows.empty()) state.kept.push_back(std::move(kept));
