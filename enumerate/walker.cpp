@@ -282,7 +282,8 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
         },
         [&](std::size_t consumed, std::size_t added) {
           if (options.on_progress) options.on_progress(WalkProgress{consumed, added - consumed, elapsed()});
-        });
+        },
+        options.background);
     if (summary.stop_reason == StopReason::none) summary.stop_reason = delivery_stop;
     if (summary.stop_reason == StopReason::none && !is_walk_done) summary.stop_reason = stopped;
     level.clear();

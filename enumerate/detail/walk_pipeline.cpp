@@ -13,6 +13,7 @@ struct WalkPipeline::Hooks {
   const Process& process;
   const Consume& consume;
   const Tick& on_tick;
+  const Background& background;
 };
 
 WalkPipeline::WalkPipeline(std::size_t workers, std::size_t window)
@@ -113,11 +114,32 @@ void WalkPipeline::consume_ready(std::unique_lock<std::mutex>& lock, const Hooks
     lock.lock();
     ++consumed_;
     --held_;
+    may_have_background_ = static_cast<bool>(hooks.background);
     needed_ = next;
     if (!next) is_over_ = true;
     signal_change();  // new tasks, a new task needed, room in the window, or the end
   }
   is_consuming_ = false;
+}
+
+// One unit of background work, without the lock; one thread at a time.
+void WalkPipeline::run_background(std::unique_lock<std::mutex>& lock, const Hooks& hooks) {
+  static const StopRequest never;
+  is_in_background_ = true;
+  lock.unlock();
+  bool is_more = false;
+  try {
+    const StopScope unstoppable(never);  // like consume: nothing partial to abandon
+    is_more = hooks.background();
+  } catch (...) {
+    lock.lock();
+    is_in_background_ = false;
+    fail(std::current_exception());
+    return;
+  }
+  lock.lock();
+  is_in_background_ = false;
+  if (!is_more) may_have_background_ = false;
 }
 
 // Nothing to do: before sleeping, watch for a change for a while without the
@@ -165,6 +187,10 @@ void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
       }
     }
     if (stopped_ != StopReason::none) break;  // what is done gets consumed by whoever finishes it
+    if (may_have_background_ && !is_in_background_) {
+      run_background(lock, hooks);
+      continue;
+    }
     if (const auto index = claim()) {
       process_one(lock, worker, *index, hooks);
       tick(lock);
@@ -181,8 +207,8 @@ void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
 }
 
 StopReason WalkPipeline::run(std::size_t first, const StopRequest& stop, const Process& process,
-                             const Consume& consume, const Tick& on_tick) {
-  const Hooks hooks{stop, process, consume, on_tick};
+                             const Consume& consume, const Tick& on_tick, const Background& background) {
+  const Hooks hooks{stop, process, consume, on_tick, background};
   {
     const std::lock_guard lock(mutex_);
     needed_ = first;

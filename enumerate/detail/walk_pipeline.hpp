@@ -46,6 +46,11 @@ class WalkPipeline {
   using Consume = std::function<std::optional<std::size_t>(std::size_t index, WalkTask& task)>;
   // on_tick(consumed, added): every 0.2 s, on the thread that called run.
   using Tick = std::function<void(std::size_t consumed, std::size_t added)>;
+  // background(): one unit of serial work that consume left behind (empty:
+  // none); returns false when none is pending. One call at a time, with no
+  // StopScope, concurrently with process and consume. Asked again only after
+  // a consume once it returned false.
+  using Background = std::function<bool()>;
 
   // workers >= 1 threads, the caller's included; at most `window` tasks
   // (at least 1) are processed or in process and not yet consumed, besides
@@ -66,8 +71,13 @@ class WalkPipeline {
   // needed next is among them. Returns the stop's reason (none when consume
   // ended the run). Rethrows the first other exception once every thread has
   // ended. Called once.
+  // A thread not consuming runs pending background work before starting
+  // another task (on one thread: right after each consume, as if consume did
+  // it): it is the serial stage that would otherwise hold back the end of the
+  // run, while the other threads process. Work still pending when the run
+  // ends is left to the caller.
   StopReason run(std::size_t first, const StopRequest& stop, const Process& process, const Consume& consume,
-                 const Tick& on_tick);
+                 const Tick& on_tick, const Background& background = {});
 
  private:
   enum class State : unsigned char { waiting, claimed, done };
@@ -77,6 +87,7 @@ class WalkPipeline {
   std::optional<std::size_t> claim();
   void process_one(std::unique_lock<std::mutex>& lock, std::size_t worker, std::size_t index, const Hooks& hooks);
   void consume_ready(std::unique_lock<std::mutex>& lock, const Hooks& hooks);
+  void run_background(std::unique_lock<std::mutex>& lock, const Hooks& hooks);
   void signal_change();
   bool spin_for_change(std::unique_lock<std::mutex>& lock);
   void fail(std::exception_ptr error);
@@ -93,6 +104,8 @@ class WalkPipeline {
   std::size_t next_claim_ = 0;           // no task below it is waiting
   std::optional<std::size_t> needed_;    // the task consume asks for next
   bool is_consuming_ = false;
+  bool is_in_background_ = false;        // a thread runs background work
+  bool may_have_background_ = false;     // consumed since background last found none
   bool is_over_ = false;                 // consume ended the run, or an exception did
   StopReason stopped_ = StopReason::none;  // set: no task is started any more
   std::size_t in_flight_ = 0;            // tasks being processed
