@@ -533,6 +533,29 @@ TEST(FunctionalDimension, LiftStartsFromTheWalksPrimeAndAddsPrimesOnlyWhenNeeded
   EXPECT_EQ(lift_primes(scaled, two_threads, 2), 1u);
   EXPECT_EQ(two_threads.kernel, large.kernel);
   EXPECT_EQ(two_threads.functional_dimension, large.functional_dimension);
+
+  // Scaled by 10^-40 the kept rows' integer systems need three further
+  // primes before they are solved exactly (the reconstruction of their
+  // integers from three or more primes, fmpz_multi_CRT_ui): the same exact
+  // kernel's extra directions, with 1 thread and with 2.
+  Network tinier = network;
+  const Rational tiniest(1, Integer("10000000000000000000000000000000000000000"));
+  for (Layer& layer : tinier.layers)
+    for (std::size_t r = 0; r < layer.weights.rows(); ++r)
+      for (std::size_t c = 0; c < layer.weights.cols(); ++c)
+        layer.weights(r, c) = layer.weights(r, c) * tiniest + Rational(1, 7);
+  blocks.clear();
+  for (const ActivationPattern& pattern : smooth_patterns(tinier)) blocks.push_back(coefficient_blocks(tinier, pattern));
+  const RationalMatrix tinier_extra = extra_kernel_basis(kernel_basis_exact(stack(blocks, tinier.parametric_dimension())),
+                                                         scaling_directions(tinier));
+  ASSERT_GT(tinier_extra.rows(), 0u);
+  for (unsigned threads : {1u, 2u}) {
+    FunctionalDimensionResult lifted;
+    EXPECT_EQ(lift_primes(tinier, lifted, threads), 1u);
+    ASSERT_TRUE(lifted.certified);
+    ASSERT_EQ(lifted.extra_kernel.size(), tinier_extra.rows());
+    for (std::size_t r = 0; r < tinier_extra.rows(); ++r) EXPECT_EQ(lifted.extra_kernel[r].vector, tinier_extra.row(r));
+  }
 }
 
 // The multi-modular check accepts the proved kernel and rejects it after any
