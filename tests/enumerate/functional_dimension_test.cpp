@@ -598,15 +598,17 @@ TEST(FunctionalDimension, CheckRejectsAKernelVectorAlteredInOneEntry) {
 // may the phase after the walk, which splits its work by thread too (E's
 // image's product by row blocks, primes in batches, exact solves by row
 // group, the check by region, naming in chunks); random 2,5,5,5,1 seed 2
-// lifts a group of 21 unknowns by the exact (Dixon) solve; random
+// lifts a group of 21 unknowns by the exact (p-adic) solve; random
 // 2,15,15,15,1 seed 1 reads 122 extra directions off the walk's basis with
 // a product split into row blocks (40 and more rows), lifts 13 groups
-// exactly, largest first, and checks vectors over five primes.
+// exactly, largest first, and checks vectors over five primes; random
+// 2,15,15,15,15,1 seed 1 lifts two dense rows together by one p-adic solve
+// of 138 unknowns (two right-hand sides) and checks over fifteen primes.
 TEST(FunctionalDimension, SameResultForAnyThreadCount) {
   std::size_t early_stops = 0;
   for (const Network& network : {random_network({2, 5, 5, 1}, 21), random_network({3, 4, 4, 1}, 22),
                                  random_network({2, 6, 6, 6, 1}, 23), random_network({2, 5, 5, 5, 1}, 2),
-                                 random_network({2, 15, 15, 15, 1}, 1),
+                                 random_network({2, 15, 15, 15, 1}, 1), random_network({2, 15, 15, 15, 15, 1}, 1),
                                  read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json")}) {
     for (const bool stop_at_scaling_bound : {false, true}) {
       auto run = [&](unsigned threads) {
