@@ -62,6 +62,12 @@ refused survey-folder "folder: is a directory, not a survey file" "$pleat" surve
 # binary printed it raw).
 printf '%s\n' '{"format":"pleat-survey/1","generator":"pleat-random/1","arch":[2,4,1],"init":"he\nfunctional dimension  99 certified","digits":6,"seed":1,"samples":1,"domain":"R^2","shard":"0/1"}' \
   > "$work/init.jsonl"
+# A control character quoted in a message is shown as \xHH: an escape
+# sequence from a file must not reach the terminal (ESC [2K erases the line).
+printf '1,2\033[2Kverified\n' > "$work/escape.csv"
+refused points-escape "('2\\x1b[2Kverified')" "$pleat" certify "$fold" --points "$work/escape.csv"
+err=$("$pleat" certify "$fold" --points "$work/escape.csv" 2>&1 >/dev/null)
+case "$err" in *$'\033'*) fail "a raw escape character reached standard error" ;; esac
 refused survey-init 'unknown initialization "he\nfunctional dimension  99 certified"' "$pleat" survey summary "$work/init.jsonl"
 refused network-folder "folder: cannot open: is a directory" "$pleat" walk "$work/folder"
 
