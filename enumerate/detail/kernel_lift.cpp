@@ -417,12 +417,12 @@ std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
       for (std::size_t c : lifts[i].support) columns_needed[c] = 1;
       for (std::size_t c : lifts[i].leads) columns_needed[c] = 1;
     }
-    // When the batch's first prime takes the further primes past the exact
-    // bound, every row still open is solved exactly right after it: a group
-    // whose last reconstruction failed cannot settle there, so its image
-    // there (one elimination of its system) is left out.
-    const bool first_is_last = exact_bound && !primes.empty() &&
-                               product * Integer(static_cast<unsigned long>(primes.front().first)) > *exact_bound;
+    // With the exact solve to come (check_scale), no images: every group is
+    // solved exactly once the further primes' product passes the bound, and
+    // that p-adic solve stops as early as the solution is small, so an
+    // elimination of each group's system modulo each prime before it (to
+    // settle by reconstruction) costs as much or more (2,15,15,15,15,15,1:
+    // the 265 x 265 system's twice, no group settled).
     std::vector<std::vector<std::optional<ModularMatrix>>> images(primes.size());
     std::vector<std::vector<ModularMatrix>> systems(primes.size());
     auto images_modulo = [&](std::size_t p, unsigned inner_threads) {
@@ -434,7 +434,7 @@ std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
       systems[p].resize(open.size());
       parallel_for(open.size(), inner_threads, [&](std::size_t o) {
         systems[p][o] = row_system(lifts[open[o]], prime_rows);
-        if (p > 0 || !first_is_last || lifts[open[o]].last) images[p][o] = row_image(systems[p][o], prime);
+        if (!exact_bound) images[p][o] = row_image(systems[p][o], prime);
       });
     };
     if (primes.size() == 1)
