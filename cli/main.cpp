@@ -99,6 +99,30 @@ int run(int argc, char** argv) {
 }  // namespace
 }  // namespace pleat::cli
 
+namespace {
+
+// An error message may quote text from an input file or the command line;
+// its control characters (an escape sequence could move the cursor and
+// overwrite what was printed before) are shown as \xHH. Newlines and tabs stay.
+std::string printable(const std::string& text) {
+  std::string out;
+  out.reserve(text.size());
+  for (const char c : text) {
+    const auto byte = static_cast<unsigned char>(c);
+    if ((byte < 0x20 && c != '\n' && c != '\t') || byte == 0x7f) {
+      constexpr char digits[] = "0123456789abcdef";
+      out += "\\x";
+      out += digits[byte >> 4];
+      out += digits[byte & 0xf];
+    } else {
+      out += c;
+    }
+  }
+  return out;
+}
+
+}  // namespace
+
 int main(int argc, char** argv) {
   // Joins the MPI job when mpirun or srun started pleat (cli/process_group.hpp).
   pleat::cli::ProcessGroupSession group(argc, argv);
@@ -109,15 +133,15 @@ int main(int argc, char** argv) {
     pleat::cli::check_standard_output();
     return status;
   } catch (const pleat::cli::output_error& error) {
-    return group.fail(error.what(), 1);
+    return group.fail(printable(error.what()), 1);
   } catch (const pleat::limit_error& error) {
-    return group.fail(error.what(), 1);
+    return group.fail(printable(error.what()), 1);
   } catch (const pleat::input_error& error) {
-    return group.fail(error.what(), 2);
+    return group.fail(printable(error.what()), 2);
   } catch (const pleat::usage_error& error) {
-    return group.fail(error.what(), 2);
+    return group.fail(printable(error.what()), 2);
   } catch (const std::exception& error) {
-    return group.fail(std::string("internal error: ") + error.what(), 1);
+    return group.fail(printable(std::string("internal error: ") + error.what()), 1);
   } catch (...) {
     return group.fail("internal error (unknown exception)", 1);
   }

@@ -1,5 +1,6 @@
 // Reproducible random networks (derivation in the header).
 #include "core/random_network.hpp"
+#include "core/detail/json_tree.hpp"
 #include "core/thread_caches.hpp"
 
 #include <mpfr.h>
@@ -163,8 +164,9 @@ std::string_view initialization_name(Initialization init) {
 Initialization parse_initialization(std::string_view text) {
   if (text == "he") return Initialization::he;
   if (text == "uniform") return Initialization::uniform;
-  throw input_error("unknown initialization '" + std::string(text) +
-                    "' (expected he or uniform)");
+  // Quoted as a JSON string: the text may come from a file (a survey's
+  // header), and a newline in it must not print a line of its own.
+  throw input_error("unknown initialization " + detail::escaped(std::string(text)) + " (expected he or uniform)");
 }
 
 Network random_network(const std::vector<std::size_t>& architecture, std::uint64_t seed,

@@ -8,6 +8,7 @@
 #include "enumerate/detail/kernel_check.hpp"
 #include "enumerate/detail/kernel_lift.hpp"
 #include "enumerate/detail/parallel_for.hpp"
+#include "enumerate/detail/row_backlog.hpp"
 #include "enumerate/interior_points.hpp"
 #include "enumerate/line_sweep.hpp"
 
@@ -17,6 +18,7 @@
 #include <cmath>
 #include <functional>
 #include <limits>
+#include <memory>
 #include <optional>
 #include <set>
 #include <unordered_set>
@@ -393,14 +395,28 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     }
   };
 
+  // A full walk's rows wait here for the basis (at most 64 MB of them), so
+  // that the walk's in-order delivery does not wait for the basis.
+  detail::RowBacklog backlog(
+      [&](const detail::PendingRows& pending) { add_region_rows(pending.pattern, &pending.interior, &pending.rows); },
+      std::size_t{64} << 20);
   WalkOptions walk_options = options.walk;
   walk_options.on_region = [&](const Region& region) {
     ++result.regions_walked;
     activity.record(region.pattern);
     if (!region.nonsmooth_neurons.empty()) return true;  // no smooth points: no rows
     if (!options.across) smooth.push_back(region.pattern);  // across: each owner keeps its own
-    if (!seen_by_points.contains(region.pattern))
-      add_region_rows(region.pattern, &region.interior.point, std::any_cast<ModularMatrix>(&region.prepared));
+    if (seen_by_points.contains(region.pattern)) {
+      // its rows are in the basis already
+    } else if (const auto* pending = std::any_cast<std::shared_ptr<const detail::PendingRows>>(&region.prepared)) {
+      if (options.stop_at_scaling_bound)
+        add_region_rows(region.pattern, &region.interior.point, &(*pending)->rows);
+      else
+        backlog.push(*pending);  // reduced by walk_options.background, in this order
+    } else {
+      add_region_rows(region.pattern, &region.interior.point);
+    }
+    // (Without a stop at the bound the rank is not read here: the backlog's reduction may be writing it.)
     if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) {
       result.early_stop = true;
       return false;
@@ -415,9 +431,11 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // seen_by_points is not written during the walk, so workers may read it.
     walk_options.prepare_region = [&](const Region& region) -> std::any {
       if (!region.nonsmooth_neurons.empty() || seen_by_points.contains(region.pattern)) return {};
-      return coefficient_blocks_mod(modular, region.pattern);
+      return std::shared_ptr<const detail::PendingRows>(new detail::PendingRows{
+          region.pattern, region.interior.point, coefficient_blocks_mod(modular, region.pattern)});
     };
     walk_options.on_region_in_pool = true;
+    if (!options.stop_at_scaling_bound) walk_options.background = [&] { return backlog.reduce_one(); };
   }
   const bool tries_points = options.stop_at_scaling_bound && options.points_first;
   if (tries_points) {
@@ -445,6 +463,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     else
       result.walk = options.walker ? options.walker(network, domain, walk_options)
                                    : walk_regions(network, domain, walk_options);
+    backlog.reduce_all();  // what the walk's threads left
     result.walk_complete = result.walk.complete;
     result.nonsmooth_regions = result.walk.nonsmooth_regions;
     result.stop_reason = result.early_stop ? StopReason::none : result.walk.stop_reason;

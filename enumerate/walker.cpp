@@ -15,6 +15,7 @@
 #include <chrono>
 #include <cstdint>
 #include <memory>
+#include <optional>
 #include <thread>
 
 namespace pleat {
@@ -150,6 +151,13 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   const auto started = clock::now();
   auto elapsed = [&] { return std::chrono::duration<double>(clock::now() - started).count(); };
   const unsigned threads = options.threads ? options.threads : std::max(1u, std::thread::hardware_concurrency());
+  // The in-pool walk's other threads start first, so that their start-up
+  // overlaps the set-up below (detail::WalkPipeline::start).
+  std::optional<detail::WalkPipeline> in_pool;
+  if (options.on_region_in_pool) {
+    in_pool.emplace(threads, 2048 * std::size_t{threads});
+    in_pool->start();
+  }
 
   std::vector<std::unique_ptr<detail::RegionProcessor>> processors;
   for (unsigned t = 0; t < threads; ++t)
@@ -258,7 +266,7 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
     // One run for the whole walk: a level's regions are processed while the
     // level before it is still being delivered, so no thread waits for a
     // level to end. At most one chunk's records are held at a time.
-    detail::WalkPipeline tasks(threads, 2048 * std::size_t{threads});
+    detail::WalkPipeline& tasks = *in_pool;
     pipeline = &tasks;
     tasks.add(seen.pattern(level.front()));
     std::size_t position = 0;  // in level
@@ -282,7 +290,8 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
         },
         [&](std::size_t consumed, std::size_t added) {
           if (options.on_progress) options.on_progress(WalkProgress{consumed, added - consumed, elapsed()});
-        });
+        },
+        options.background);
     if (summary.stop_reason == StopReason::none) summary.stop_reason = delivery_stop;
     if (summary.stop_reason == StopReason::none && !is_walk_done) summary.stop_reason = stopped;
     level.clear();

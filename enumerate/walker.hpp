@@ -121,6 +121,14 @@ struct WalkOptions {
   // idle). For on_region callbacks that do heavy serial work and touch no
   // thread-bound state. on_region runs without the walk's StopScope either way.
   bool on_region_in_pool = false;
+  // Optional, with on_region_in_pool: serial work on_region leaves behind (a
+  // queue it fills), one unit per call; returns false when none is pending.
+  // A walk thread not needed by on_region runs it before starting another
+  // region, one call at a time, with no StopScope, concurrently with
+  // on_region and the processing of regions. The walk may return with work
+  // still pending (and never calls it without on_region_in_pool): the caller
+  // finishes it.
+  std::function<bool()> background;
   std::function<void(const WalkProgress&)> on_progress;  // every 0.2 s during a level (distributed walk: also after it)
 };
 

@@ -34,9 +34,11 @@ int run_verify(const VerifyArguments& arguments) {
     std::cout << "verified: " << count_of(check.regions, "region") << " of " << arguments.network_path << " on "
               << file.domain.describe()
               << "; every point, facet, non-facet, boundedness certificate, neighbour and key re-checked exactly\n";
-    // The header's name is a label, not a claim: say so when it differs.
+    // The header's name is a label, not a claim: say so when it differs,
+    // quoted as JSON, so that a newline or control character in it cannot
+    // print a line of its own (a forged "verified: ..." line).
     if (file.network_label != arguments.network_path)
-      std::cout << "note: the file names its network \"" << file.network_label << "\"; checked against "
+      std::cout << "note: the file names its network " << Json(file.network_label).dump(-1, ' ', false, Json::error_handler_t::replace) << "; checked against "
                 << arguments.network_path << "\n";
     return 0;
   }

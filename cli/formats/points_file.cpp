@@ -9,6 +9,7 @@
 #include <xtensor/xarray.hpp>
 #include <xtensor/xnpy.hpp>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdint>
 #include <filesystem>
@@ -106,11 +107,15 @@ PointsFile read_text_points(const std::string& path, std::size_t dimension) {
     std::vector<std::string> fields = split_fields(content);
     if (is_first_line) {
       is_first_line = false;
-      bool is_header = false;
-      for (const auto& field : fields) is_header = is_header || !is_number(field);
-      if (is_header) {
+      // A header names columns: no field is a number, except under pandas's
+      // unnamed index column (its column names may be 0, 1, ...). A first
+      // line that mixes numbers with other text is a point with a fault,
+      // not a header to skip (the old rule dropped '1,2a' silently).
+      const bool is_pandas_index = fields.front().empty() && fields.size() == dimension + 1;
+      const bool has_number = std::any_of(fields.begin(), fields.end(), is_number);
+      if (is_pandas_index || !has_number) {
         // pandas writes its row index as a first column with an empty name.
-        drops_index_column = fields.front().empty() && fields.size() == dimension + 1;
+        drops_index_column = is_pandas_index;
         if (fields.size() != dimension + (drops_index_column ? 1 : 0))
           throw input_error(place + ": a header of " + std::to_string(fields.size()) + " column names, but the network takes " +
                             std::to_string(dimension) + (dimension == 1 ? " input" : " inputs"));

@@ -120,7 +120,8 @@ struct LineRules {
     if (!exact_copy) return;
     for (const auto& item : object.items())
       if (std::find(keys.begin(), keys.end(), item.key()) == keys.end())
-        reader.fail("unknown key \"" + item.key() + "\" in " + where + " (verify refuses what it cannot check)");
+        reader.fail("unknown key " + Json(item.key()).dump(-1, ' ', false, Json::error_handler_t::replace) + " in " + where +
+                    " (verify refuses what it cannot check)");
   }
 
   bool boolean(const Json& object, const char* key) const {

@@ -204,6 +204,23 @@ std::optional<ModularMatrix> row_image(const ModularMatrix& system, std::uint64_
   return image;
 }
 
+// FLINT's tables for reconstructing integers from their residues modulo
+// fixed primes (fmpz_multi_CRT_ui), freed on every way out.
+struct CrtTables {
+  fmpz_comb_t comb;
+  mutable fmpz_comb_temp_t scratch;
+  explicit CrtTables(const std::vector<mp_limb_t>& primes) {
+    fmpz_comb_init(comb, primes.data(), static_cast<slong>(primes.size()));
+    fmpz_comb_temp_init(scratch, comb);
+  }
+  ~CrtTables() {
+    fmpz_comb_temp_clear(scratch);
+    fmpz_comb_clear(comb);
+  }
+  CrtTables(const CrtTables&) = delete;
+  CrtTables& operator=(const CrtTables&) = delete;
+};
+
 // The rows solved exactly from their square system modulo the first further
 // primes, whose product exceeds twice every scaled entry's bound (CheckScale:
 // L^(d-1) times a block entry is an integer of absolute value at most
@@ -225,9 +242,16 @@ bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
   const std::uint64_t inverse_of_first =
       two_words ? n_invmod(lift.system_primes[0] % lift.system_primes[1], lift.system_primes[1]) : 0;
   FmpzMatrix square(n, n), right(n, count);
-  fmpz_t modulus, value;
-  fmpz_init(modulus);
+  fmpz_t value;
   fmpz_init(value);
+  // More primes: FLINT's multi-modular reconstruction with its tables built
+  // once for these primes (fmpz_CRT_ui per entry and prime cost about half
+  // the exact solve on 2,15,15,15,15,15,1, three primes); a zero entry (most
+  // of the kept rows' entries) needs none.
+  const std::vector<mp_limb_t> primes(lift.system_primes.begin(), lift.system_primes.end());
+  std::vector<mp_limb_t> residues(primes.size());
+  const std::optional<CrtTables> tables =
+      two_words ? std::nullopt : std::optional<CrtTables>(std::in_place, primes);
   for (std::size_t i = 0; i < n; ++i) {
     poll_stop();
     for (std::size_t m = 0; m < n + count; ++m) {
@@ -246,21 +270,15 @@ bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
           fmpz_set_uiui(value, static_cast<std::uint64_t>(v >> 64), static_cast<std::uint64_t>(v));
         }
       } else {
-        fmpz_one(modulus);
-        fmpz_zero(value);
-        for (std::size_t p = 0; p < lift.systems.size(); ++p) {
-          const std::uint64_t prime = lift.system_primes[p];
-          const std::uint64_t scaled =
-              n_mulmod2_preinv(lift.systems[p](i, m), scale_residues[p], prime, inverses[p]);
-          if (p == 0) {  // the symmetric residue (fmpz_CRT_ui wants a modulus above 1)
-            fmpz_set_ui(value, scaled);
-            if (scaled > prime / 2) fmpz_sub_ui(value, value, prime);
-            fmpz_set_ui(modulus, prime);
-            continue;
-          }
-          fmpz_CRT_ui(value, value, modulus, scaled, prime, 1);
-          fmpz_mul_ui(modulus, modulus, prime);
+        bool is_zero = true;
+        for (std::size_t p = 0; p < primes.size(); ++p) {
+          residues[p] = n_mulmod2_preinv(lift.systems[p](i, m), scale_residues[p], primes[p], inverses[p]);
+          is_zero = is_zero && residues[p] == 0;
         }
+        if (is_zero)
+          fmpz_zero(value);
+        else
+          fmpz_multi_CRT_ui(value, residues.data(), tables->comb, tables->scratch, 1);  // the symmetric residue
       }
       if (m < n)
         fmpz_set(square.entry(i, m), value);
@@ -269,7 +287,6 @@ bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
     }
   }
   fmpz_clear(value);
-  fmpz_clear(modulus);
   poll_stop();
   RationalMatrix rows(count, n);
   // Beyond tiny systems, p-adic lifting (padic_solve.hpp: on the systems of
@@ -400,12 +417,12 @@ std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
       for (std::size_t c : lifts[i].support) columns_needed[c] = 1;
       for (std::size_t c : lifts[i].leads) columns_needed[c] = 1;
     }
-    // When the batch's first prime takes the further primes past the exact
-    // bound, every row still open is solved exactly right after it: a group
-    // whose last reconstruction failed cannot settle there, so its image
-    // there (one elimination of its system) is left out.
-    const bool first_is_last = exact_bound && !primes.empty() &&
-                               product * Integer(static_cast<unsigned long>(primes.front().first)) > *exact_bound;
+    // With the exact solve to come (check_scale), no images: every group is
+    // solved exactly once the further primes' product passes the bound, and
+    // that p-adic solve stops as early as the solution is small, so an
+    // elimination of each group's system modulo each prime before it (to
+    // settle by reconstruction) costs as much or more (2,15,15,15,15,15,1:
+    // the 265 x 265 system's twice, no group settled).
     std::vector<std::vector<std::optional<ModularMatrix>>> images(primes.size());
     std::vector<std::vector<ModularMatrix>> systems(primes.size());
     auto images_modulo = [&](std::size_t p, unsigned inner_threads) {
@@ -417,7 +434,7 @@ std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
       systems[p].resize(open.size());
       parallel_for(open.size(), inner_threads, [&](std::size_t o) {
         systems[p][o] = row_system(lifts[open[o]], prime_rows);
-        if (p > 0 || !first_is_last || lifts[open[o]].last) images[p][o] = row_image(systems[p][o], prime);
+        if (!exact_bound) images[p][o] = row_image(systems[p][o], prime);
       });
     };
     if (primes.size() == 1)

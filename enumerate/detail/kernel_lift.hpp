@@ -77,10 +77,11 @@ using LiftProgress = std::function<void(std::size_t)>;
 // that prime) and proves it. Each row with small entries by rational
 // reconstruction from that prime alone; each other row by itself, over
 // further primes: its support S read modulo the walk's prime, |S| kept rows
-// independent there on S, that square system solved modulo each prime (the
-// kept regions' blocks in word arithmetic), Chinese remaindering, and an
-// early stop once two reconstructions agree. The candidate is returned only
-// once the check has proved it on every pattern of `smooth`; when the check
+// independent there on S, that square system read modulo further primes
+// (the kept regions' blocks in word arithmetic), Chinese remaindered to
+// integers and solved exactly (lift_rows_multimodular with the check's
+// scale). The candidate is returned only once the check has proved it on
+// every pattern of `smooth`; when the check
 // rejects it, every row from one exact p-adic solve (solve_extra_directions)
 // and that is checked the same way. Returns nullopt when stopped (stopped is
 // set) or when nothing is proved (the walk's prime hid a row: bounds only).
@@ -127,12 +128,12 @@ std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
 // arithmetic), Chinese remaindered and reconstructed, until two
 // reconstructions in a row agree. The rows in the order given, or nullopt
 // (no independent equations modulo the walk's prime, or no agreement within
-// 4096 primes). Not proved. With check_scale, the groups still open once the
+// 4096 primes). Not proved. With check_scale, no reconstruction: once the
 // further primes' product exceeds twice every scaled entry's bound
 // (2 L^(d-1) max B_c: the kept rows' scaled entries are then exact integers
-// by Chinese remaindering) are solved exactly instead (FLINT's p-adic
-// solve), each group on its own thread; nullopt when one such system is
-// singular over Q. The rows (their nonzero entries, columns increasing) in
+// by Chinese remaindering) every group is solved exactly instead (p-adic
+// lifting, padic_solve.hpp), each group on its own thread; nullopt when one
+// such system is singular over Q. The rows (their nonzero entries, columns increasing) in
 // the order given, the same for any thread count.
 std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
     const Network& network, const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,

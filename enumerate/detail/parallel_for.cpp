@@ -1,6 +1,7 @@
 #include "enumerate/detail/parallel_for.hpp"
 
 #include "core/stop.hpp"
+#include "enumerate/detail/worker_thread.hpp"
 
 #include <algorithm>
 #include <atomic>
@@ -30,7 +31,7 @@ void parallel_for(std::size_t count, unsigned threads, const std::function<void(
   };
   threads = static_cast<unsigned>(std::max<std::size_t>(1, std::min<std::size_t>(threads, count)));
   std::vector<std::thread> pool;
-  for (unsigned t = 1; t < threads; ++t) pool.emplace_back(run);
+  for (unsigned t = 1; t < threads; ++t) pool.push_back(start_worker_thread(run, t - 1));
   run();
   for (auto& thread : pool) thread.join();
   if (error) std::rethrow_exception(error);

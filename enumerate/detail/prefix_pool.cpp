@@ -1,5 +1,7 @@
 #include "enumerate/detail/prefix_pool.hpp"
 
+#include "enumerate/detail/worker_thread.hpp"
+
 #include <algorithm>
 #include <atomic>
 #include <chrono>
@@ -64,7 +66,7 @@ struct PrefixPool::Job {
 PrefixPool::PrefixPool(std::size_t workers) : workers_(std::max<std::size_t>(1, workers)) {
   try {
     // Worker 0 is the thread that calls run.
-    for (std::size_t t = 1; t < workers_; ++t) threads_.emplace_back([this, t] { serve(t); });
+    for (std::size_t t = 1; t < workers_; ++t) threads_.push_back(start_worker_thread([this, t] { serve(t); }, t - 1));
   } catch (...) {  // a thread that could not start: end those that did
     close();
     throw;

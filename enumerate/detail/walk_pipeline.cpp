@@ -1,5 +1,7 @@
 #include "enumerate/detail/walk_pipeline.hpp"
 
+#include "enumerate/detail/worker_thread.hpp"
+
 #include <algorithm>
 #include <chrono>
 #include <thread>
@@ -13,6 +15,7 @@ struct WalkPipeline::Hooks {
   const Process& process;
   const Consume& consume;
   const Tick& on_tick;
+  const Background& background;
 };
 
 WalkPipeline::WalkPipeline(std::size_t workers, std::size_t window)
@@ -113,11 +116,32 @@ void WalkPipeline::consume_ready(std::unique_lock<std::mutex>& lock, const Hooks
     lock.lock();
     ++consumed_;
     --held_;
+    may_have_background_ = static_cast<bool>(hooks.background);
     needed_ = next;
     if (!next) is_over_ = true;
     signal_change();  // new tasks, a new task needed, room in the window, or the end
   }
   is_consuming_ = false;
+}
+
+// One unit of background work, without the lock; one thread at a time.
+void WalkPipeline::run_background(std::unique_lock<std::mutex>& lock, const Hooks& hooks) {
+  static const StopRequest never;
+  is_in_background_ = true;
+  lock.unlock();
+  bool is_more = false;
+  try {
+    const StopScope unstoppable(never);  // like consume: nothing partial to abandon
+    is_more = hooks.background();
+  } catch (...) {
+    lock.lock();
+    is_in_background_ = false;
+    fail(std::current_exception());
+    return;
+  }
+  lock.lock();
+  is_in_background_ = false;
+  if (!is_more) may_have_background_ = false;
 }
 
 // Nothing to do: before sleeping, watch for a change for a while without the
@@ -165,6 +189,10 @@ void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
       }
     }
     if (stopped_ != StopReason::none) break;  // what is done gets consumed by whoever finishes it
+    if (may_have_background_ && !is_in_background_) {
+      run_background(lock, hooks);
+      continue;
+    }
     if (const auto index = claim()) {
       process_one(lock, worker, *index, hooks);
       tick(lock);
@@ -180,27 +208,61 @@ void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
   }
 }
 
-StopReason WalkPipeline::run(std::size_t first, const StopRequest& stop, const Process& process,
-                             const Consume& consume, const Tick& on_tick) {
-  const Hooks hooks{stop, process, consume, on_tick};
+WalkPipeline::~WalkPipeline() {
   {
     const std::lock_guard lock(mutex_);
-    needed_ = first;
+    is_over_ = true;  // threads started for a run that never came: they end
+    signal_change();
   }
-  std::vector<std::thread> threads;
+  for (auto& thread : threads_) thread.join();
+}
+
+// A worker started before run: watches for run's hooks (yielding, for up to
+// 20 ms: waking a sleeping thread on an idle virtual machine can take
+// milliseconds), then sleeps until they come; serves them, or ends when the
+// pipeline does without a run.
+void WalkPipeline::await_run(std::size_t worker) {
+  using clock = std::chrono::steady_clock;
+  const auto until = clock::now() + std::chrono::milliseconds(20);
+  while (version_.load(std::memory_order_acquire) == 0 && clock::now() < until) std::this_thread::yield();
+  const Hooks* hooks = nullptr;
+  {
+    std::unique_lock lock(mutex_);
+    changed_.wait(lock, [&] { return hooks_ != nullptr || is_over_; });
+    hooks = hooks_;
+  }
+  if (hooks != nullptr) serve(worker, *hooks);
+}
+
+void WalkPipeline::start() {
+  if (!threads_.empty()) return;
   try {
     for (std::size_t worker = 1; worker < workers_; ++worker)
-      threads.emplace_back([this, worker, &hooks] { serve(worker, hooks); });
+      threads_.push_back(start_worker_thread([this, worker] { await_run(worker); }, worker - 1));
   } catch (...) {  // a thread that could not start: end those that did
     {
       const std::lock_guard lock(mutex_);
       fail(std::current_exception());
     }
-    for (auto& thread : threads) thread.join();
+    for (auto& thread : threads_) thread.join();
+    threads_.clear();
     throw;
   }
+}
+
+StopReason WalkPipeline::run(std::size_t first, const StopRequest& stop, const Process& process,
+                             const Consume& consume, const Tick& on_tick, const Background& background) {
+  const Hooks hooks{stop, process, consume, on_tick, background};
+  start();
+  {
+    const std::lock_guard lock(mutex_);
+    needed_ = first;
+    hooks_ = &hooks;
+    signal_change();
+  }
   serve(0, hooks);
-  for (auto& thread : threads) thread.join();
+  for (auto& thread : threads_) thread.join();
+  threads_.clear();
   if (error_) std::rethrow_exception(error_);
   return stopped_;
 }

@@ -17,6 +17,8 @@
 #include <memory>
 #include <mutex>
 #include <optional>
+#include <thread>
+#include <vector>
 
 namespace pleat::detail {
 
@@ -46,13 +48,27 @@ class WalkPipeline {
   using Consume = std::function<std::optional<std::size_t>(std::size_t index, WalkTask& task)>;
   // on_tick(consumed, added): every 0.2 s, on the thread that called run.
   using Tick = std::function<void(std::size_t consumed, std::size_t added)>;
+  // background(): one unit of serial work that consume left behind (empty:
+  // none); returns false when none is pending. One call at a time, with no
+  // StopScope, concurrently with process and consume. Asked again only after
+  // a consume once it returned false.
+  using Background = std::function<bool()>;
 
   // workers >= 1 threads, the caller's included; at most `window` tasks
   // (at least 1) are processed or in process and not yet consumed, besides
   // the one the consumer needs (it bounds the regions held in memory).
   WalkPipeline(std::size_t workers, std::size_t window);
+  // Ends threads start() began when run never came.
+  ~WalkPipeline();
   WalkPipeline(const WalkPipeline&) = delete;
   WalkPipeline& operator=(const WalkPipeline&) = delete;
+
+  // Optional, before run: starts the other workers' threads now, so that
+  // their start-up overlaps the caller's own set-up (starting a thread costs
+  // up to milliseconds on an idle virtual machine: more than a small walk).
+  // They wait for run (watching for it for a few milliseconds before they
+  // sleep). run calls it when the caller did not.
+  void start();
 
   // Adds a task (before run, or from consume); returns its index.
   std::size_t add(ActivationPattern pattern);
@@ -66,17 +82,24 @@ class WalkPipeline {
   // needed next is among them. Returns the stop's reason (none when consume
   // ended the run). Rethrows the first other exception once every thread has
   // ended. Called once.
+  // A thread not consuming runs pending background work before starting
+  // another task (on one thread: right after each consume, as if consume did
+  // it): it is the serial stage that would otherwise hold back the end of the
+  // run, while the other threads process. Work still pending when the run
+  // ends is left to the caller.
   StopReason run(std::size_t first, const StopRequest& stop, const Process& process, const Consume& consume,
-                 const Tick& on_tick);
+                 const Tick& on_tick, const Background& background = {});
 
  private:
   enum class State : unsigned char { waiting, claimed, done };
   struct Hooks;
   void serve(std::size_t worker, const Hooks& hooks);
+  void await_run(std::size_t worker);
   bool is_needed_done() const;
   std::optional<std::size_t> claim();
   void process_one(std::unique_lock<std::mutex>& lock, std::size_t worker, std::size_t index, const Hooks& hooks);
   void consume_ready(std::unique_lock<std::mutex>& lock, const Hooks& hooks);
+  void run_background(std::unique_lock<std::mutex>& lock, const Hooks& hooks);
   void signal_change();
   bool spin_for_change(std::unique_lock<std::mutex>& lock);
   void fail(std::exception_ptr error);
@@ -93,12 +116,16 @@ class WalkPipeline {
   std::size_t next_claim_ = 0;           // no task below it is waiting
   std::optional<std::size_t> needed_;    // the task consume asks for next
   bool is_consuming_ = false;
+  bool is_in_background_ = false;        // a thread runs background work
+  bool may_have_background_ = false;     // consumed since background last found none
   bool is_over_ = false;                 // consume ended the run, or an exception did
   StopReason stopped_ = StopReason::none;  // set: no task is started any more
   std::size_t in_flight_ = 0;            // tasks being processed
   std::size_t held_ = 0;                 // claimed and not yet consumed
   std::size_t consumed_ = 0;
   std::exception_ptr error_;
+  const Hooks* hooks_ = nullptr;      // run's, once it started
+  std::vector<std::thread> threads_;  // workers 1, 2, ... (started by start)
 };
 
 }  // namespace pleat::detail

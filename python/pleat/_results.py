@@ -219,7 +219,8 @@ class CertifyResult:
     extra_kernel: flat directions beyond the scaling ones (ExtraDirection),
     extra_kernel_summary: them grouped by mechanism; kernel: a basis of the exact
     kernel (rows of length D): the scaling directions, then the extra ones
-    checked on every smooth region; empty when not certified;
+    checked on every smooth region; empty when no kernel was proved (a run
+    cut short before its proof);
     claim: the verdict on claim=N; batch: with points=..., the exact rank at
     those points (BatchRank); certified_by: "points" (exact points met the
     scaling bound, no walk), "walk" (the walk's rank met it), "kernel" (an

@@ -47,8 +47,12 @@ open(work + "/extra.npy", "wb").write(raw + b"\0\0\0\0\0\0\0\0")
 header = b"{'descr': '<f8', 'fortran_order' False, 'shape': (2, 2), }"
 header += b" " * (63 - len(header) % 64) + b"\n"
 open(work + "/nocolon.npy", "wb").write(b"\x93NUMPY\x01\x00" + len(header).to_bytes(2, "little") + header + raw[-32:])
+with open(work + "/pandas_numbered.csv", "w") as handle:  # DataFrame(array).to_csv(): columns named 0, 1
+    handle.write(",0,1\n")
+    for index, (a, b) in enumerate(points):
+        handle.write(f"{index},{a!r},{b!r}\n")
 PY
-for file in savetxt.txt savetxt.csv float64.npy float32.npy fortran.npy pandas.csv header.csv; do
+for file in savetxt.txt savetxt.csv float64.npy float32.npy fortran.npy pandas.csv pandas_numbered.csv header.csv; do
   [ "$(batch_rank "$fold" "$work/$file")" = "$expected" ] || fail "$file: rank differs from the plain file's $expected"
 done
 
@@ -64,6 +68,10 @@ printf '%s\n' '1 2' '3 4 5' > "$work/three.txt";             bad three.txt "thre
 printf '%s\n' '# nothing' '' > "$work/empty.csv";            bad empty.csv "empty.csv: no points"
 printf '%s\n' '1,2' 'nan,1' > "$work/nan.csv";               bad nan.csv "nan.csv:2: value 1 ('nan')"
 printf '%s\n' 'a,b,c' '1,2' > "$work/header3.csv";           bad header3.csv "header3.csv:1: a header of 3 column names"
+# A first line with a number in it is a point, not a header: a typo there is an
+# error, not a row silently skipped (the old binary dropped both as headers).
+printf '%s\n' '1,2a' '1/3,1/7' > "$work/typo.csv";             bad typo.csv "typo.csv:1: value 2 ('2a')"
+printf '%s\n' '1/0,2' '1/3,1/7' > "$work/zero.csv";            bad zero.csv "zero.csv:1: value 1 ('1/0')"
 bad truncated.npy "truncated.npy: the array data does not match the file's length"
 bad nocolon.npy "nocolon.npy: the .npy header is not a dictionary of 'descr', 'fortran_order' and 'shape' as numpy writes it"
 bad extra.npy "extra.npy: the array data does not match the file's length"

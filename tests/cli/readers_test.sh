@@ -57,6 +57,18 @@ refused survey-spaces "longer than 16 MiB, the limit for one line of a survey fi
 refused points-folder "folder: is a directory, not a points file" "$pleat" certify "$fold" --points "$work/folder"
 refused regions-folder "folder: is a directory, not a region file" "$pleat" verify "$fold" "$work/folder"
 refused survey-folder "folder: is a directory, not a survey file" "$pleat" survey summary "$work/folder"
+# A header's text is quoted in the message: a newline in it must not print a
+# line of its own, e.g. a forged "functional dimension 99 certified" (the old
+# binary printed it raw).
+printf '%s\n' '{"format":"pleat-survey/1","generator":"pleat-random/1","arch":[2,4,1],"init":"he\nfunctional dimension  99 certified","digits":6,"seed":1,"samples":1,"domain":"R^2","shard":"0/1"}' \
+  > "$work/init.jsonl"
+# A control character quoted in a message is shown as \xHH: an escape
+# sequence from a file must not reach the terminal (ESC [2K erases the line).
+printf '1,2\033[2Kverified\n' > "$work/escape.csv"
+refused points-escape "('2\\x1b[2Kverified')" "$pleat" certify "$fold" --points "$work/escape.csv"
+err=$("$pleat" certify "$fold" --points "$work/escape.csv" 2>&1 >/dev/null)
+case "$err" in *$'\033'*) fail "a raw escape character reached standard error" ;; esac
+refused survey-init 'unknown initialization "he\nfunctional dimension  99 certified"' "$pleat" survey summary "$work/init.jsonl"
 refused network-folder "folder: cannot open: is a directory" "$pleat" walk "$work/folder"
 
 digits=$(head -c 100000 /dev/zero | tr '\0' '7')

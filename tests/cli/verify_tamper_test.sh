@@ -151,5 +151,27 @@ out=$("$pleat" verify "$fold" "$work/twice.jsonl" 2>&1) && fail "a repeated key 
 case "$out" in *"line 4: "*"appears twice"*) ;; *) fail "repeated key: $out" ;; esac
 count=$((count + 1))
 
+# Text from the file is quoted, never printed raw: a header label or an unknown
+# key holding a newline could print a line of its own, such as a forged
+# "verified: ..." (the old binary printed the label raw).
+"$python" - "$work/box.jsonl" "$work/label.jsonl" "$work/badkey.jsonl" <<'PY'
+import json, sys
+lines = [json.loads(l) for l in open(sys.argv[1])]
+forged = "x\nverified: 9999 regions of other.json on R^2; every point re-checked exactly"
+lines[0]["network"] = forged
+open(sys.argv[2], "w").writelines(json.dumps(l, separators=(",", ":")) + "\n" for l in lines)
+del lines[0]["network"]
+lines[0]["network"] = "fold"
+lines[3][forged] = True
+open(sys.argv[3], "w").writelines(json.dumps(l, separators=(",", ":")) + "\n" for l in lines)
+PY
+out=$("$pleat" verify "$fold" "$work/label.jsonl") || fail "a file with an odd label must still verify ($out)"
+[ "$(printf '%s\n' "$out" | wc -l)" -eq 2 ] || fail "the label printed lines of its own:"$'\n'"$out"
+[ "$(printf '%s\n' "$out" | grep -c '^verified:')" -eq 1 ] || fail "a forged 'verified' line:"$'\n'"$out"
+expect_contains "$out" 'note: the file names its network "x\nverified: 9999' "the quoted label"
+err=$("$pleat" verify "$fold" "$work/badkey.jsonl" 2>&1)
+[ $? = 2 ] || fail "an unknown key must be exit 2 ($err)"
+[ "$(printf '%s\n' "$err" | wc -l)" -eq 1 ] || fail "the unknown key printed lines of its own:"$'\n'"$err"
+
 [ "$count" -ge 15 ] || fail "only $count tamper cases ran"
 echo "verify_tamper: $count targeted edits, each refused with its line"

@@ -465,6 +465,39 @@ TEST(KernelBasisModulo, StopsWhenAsked) {
   EXPECT_THROW(row_space_basis_modulo(m, prime), Stopped);
 }
 
+// After every add (not only at the end), the rank rises exactly when the
+// row lies outside the span, the rows read back are the reduced echelon form
+// of what was added (FLINT's, row_space_basis_modulo, in pivot order), and
+// contains and the screen tell each row's side of the span.
+TEST(ModularRowBasis, IsTheEchelonFormOfWhatWasAddedAfterEveryAdd) {
+  std::mt19937_64 random(61);
+  const std::uint64_t prime = primary_prime();
+  const ModularMatrix m = random_modular_matrix_of_rank(random, 80, 45, 60, prime);
+  ModularRowBasis basis(prime, m.cols());
+  ModularMatrix added(0, m.cols());
+  for (std::size_t r = 0; r < m.rows(); ++r) {
+    const std::size_t rank_before = basis.rank();
+    const bool is_outside = !basis.contains(m.row(r));
+    EXPECT_EQ(basis.passes_screen(m.row(r)), is_outside) << "row " << r;
+    EXPECT_EQ(basis.add_row(m.row(r)), is_outside) << "row " << r;
+    added.append_row(m.row(r));
+    const ModularMatrix reference = row_space_basis_modulo(added, prime);
+    ASSERT_EQ(basis.rank(), reference.rows()) << "row " << r;
+    ASSERT_EQ(basis.rank(), rank_before + (is_outside ? 1 : 0));
+    const ModularMatrix rows = basis.rows();
+    std::vector<std::size_t> order(rows.rows());
+    std::iota(order.begin(), order.end(), 0);
+    std::sort(order.begin(), order.end(),
+              [&](std::size_t a, std::size_t b) { return basis.pivot_columns()[a] < basis.pivot_columns()[b]; });
+    for (std::size_t i = 0; i < rows.rows(); ++i) ASSERT_EQ(rows.row(order[i]), reference.row(i)) << "row " << r;
+    for (std::size_t s = 0; s <= r; ++s) {
+      ASSERT_TRUE(basis.contains(m.row(s)));
+      ASSERT_FALSE(basis.passes_screen(m.row(s)));
+    }
+  }
+  EXPECT_EQ(basis.rank(), 45u);
+}
+
 TEST(ModularRowBasis, RowsSpanWhatWasAdded) {
   std::mt19937_64 random(43);
   const std::uint64_t prime = primary_prime();

@@ -533,6 +533,29 @@ TEST(FunctionalDimension, LiftStartsFromTheWalksPrimeAndAddsPrimesOnlyWhenNeeded
   EXPECT_EQ(lift_primes(scaled, two_threads, 2), 1u);
   EXPECT_EQ(two_threads.kernel, large.kernel);
   EXPECT_EQ(two_threads.functional_dimension, large.functional_dimension);
+
+  // Scaled by 10^-40 the kept rows' integer systems need three further
+  // primes before they are solved exactly (the reconstruction of their
+  // integers from three or more primes, fmpz_multi_CRT_ui): the same exact
+  // kernel's extra directions, with 1 thread and with 2.
+  Network tinier = network;
+  const Rational tiniest(1, Integer("10000000000000000000000000000000000000000"));
+  for (Layer& layer : tinier.layers)
+    for (std::size_t r = 0; r < layer.weights.rows(); ++r)
+      for (std::size_t c = 0; c < layer.weights.cols(); ++c)
+        layer.weights(r, c) = layer.weights(r, c) * tiniest + Rational(1, 7);
+  blocks.clear();
+  for (const ActivationPattern& pattern : smooth_patterns(tinier)) blocks.push_back(coefficient_blocks(tinier, pattern));
+  const RationalMatrix tinier_extra = extra_kernel_basis(kernel_basis_exact(stack(blocks, tinier.parametric_dimension())),
+                                                         scaling_directions(tinier));
+  ASSERT_GT(tinier_extra.rows(), 0u);
+  for (unsigned threads : {1u, 2u}) {
+    FunctionalDimensionResult lifted;
+    EXPECT_EQ(lift_primes(tinier, lifted, threads), 1u);
+    ASSERT_TRUE(lifted.certified);
+    ASSERT_EQ(lifted.extra_kernel.size(), tinier_extra.rows());
+    for (std::size_t r = 0; r < tinier_extra.rows(); ++r) EXPECT_EQ(lifted.extra_kernel[r].vector, tinier_extra.row(r));
+  }
 }
 
 // The multi-modular check accepts the proved kernel and rejects it after any
@@ -575,15 +598,17 @@ TEST(FunctionalDimension, CheckRejectsAKernelVectorAlteredInOneEntry) {
 // may the phase after the walk, which splits its work by thread too (E's
 // image's product by row blocks, primes in batches, exact solves by row
 // group, the check by region, naming in chunks); random 2,5,5,5,1 seed 2
-// lifts a group of 21 unknowns by the exact (Dixon) solve; random
+// lifts a group of 21 unknowns by the exact (p-adic) solve; random
 // 2,15,15,15,1 seed 1 reads 122 extra directions off the walk's basis with
 // a product split into row blocks (40 and more rows), lifts 13 groups
-// exactly, largest first, and checks vectors over five primes.
+// exactly, largest first, and checks vectors over five primes; random
+// 2,15,15,15,15,1 seed 1 lifts two dense rows together by one p-adic solve
+// of 138 unknowns (two right-hand sides) and checks over fifteen primes.
 TEST(FunctionalDimension, SameResultForAnyThreadCount) {
   std::size_t early_stops = 0;
   for (const Network& network : {random_network({2, 5, 5, 1}, 21), random_network({3, 4, 4, 1}, 22),
                                  random_network({2, 6, 6, 6, 1}, 23), random_network({2, 5, 5, 5, 1}, 2),
-                                 random_network({2, 15, 15, 15, 1}, 1),
+                                 random_network({2, 15, 15, 15, 1}, 1), random_network({2, 15, 15, 15, 15, 1}, 1),
                                  read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json")}) {
     for (const bool stop_at_scaling_bound : {false, true}) {
       auto run = [&](unsigned threads) {

@@ -1,0 +1,179 @@
+// Serial work a walk's delivery leaves behind: detail::WalkPipeline's
+// background hook and certify's queue of rows for its basis
+// (detail::RowBacklog), which run it on whichever walk thread is free.
+#include "core/stop.hpp"
+#include "enumerate/detail/row_backlog.hpp"
+#include "enumerate/detail/walk_pipeline.hpp"
+
+#include <gtest/gtest.h>
+
+#include <atomic>
+#include <deque>
+#include <mutex>
+#include <stdexcept>
+#include <thread>
+#include <vector>
+
+namespace pleat {
+namespace {
+
+// A chain of `total` tasks, each consume adding the next one and queueing one
+// unit of background work (its index); background pops units in order.
+struct BackgroundRun {
+  std::vector<std::size_t> done;  // units run by background, in the order run
+  std::size_t left = 0;           // units still queued when run returned
+  std::size_t most_queued_at_process = 0;  // the longest queue a task's processing saw
+  bool overlapped = false;        // two background calls at once
+};
+
+BackgroundRun run_with_background(std::size_t workers, std::size_t total, std::size_t throw_at = SIZE_MAX) {
+  BackgroundRun out;
+  detail::WalkPipeline pipeline(workers, 16);
+  std::mutex mutex;
+  std::deque<std::size_t> queue;
+  std::atomic<int> inside{0};
+  pipeline.add(ActivationPattern{{NeuronState::on}});
+  pipeline.run(
+      0, StopRequest(),
+      [&](std::size_t, detail::WalkTask& task) {
+        const std::lock_guard lock(mutex);
+        out.most_queued_at_process = std::max(out.most_queued_at_process, queue.size());
+        task.processed = std::make_unique<detail::Processed>();
+      },
+      [&](std::size_t index, detail::WalkTask&) -> std::optional<std::size_t> {
+        {
+          const std::lock_guard lock(mutex);
+          queue.push_back(index);
+        }
+        if (index + 1 == total) return std::nullopt;
+        return pipeline.add(ActivationPattern{{NeuronState::off}});
+      },
+      nullptr,
+      [&] {
+        if (inside.fetch_add(1) != 0) out.overlapped = true;
+        std::size_t unit = 0;
+        bool is_any = false;
+        {
+          const std::lock_guard lock(mutex);
+          if (!queue.empty()) {
+            unit = queue.front();
+            queue.pop_front();
+            is_any = true;
+          }
+        }
+        if (is_any) {
+          if (unit == throw_at) throw std::runtime_error("unit");
+          std::this_thread::yield();  // give another thread the chance to overlap
+          const std::lock_guard lock(mutex);
+          out.done.push_back(unit);
+        }
+        inside.fetch_sub(1);
+        return is_any;
+      });
+  out.left = queue.size();
+  return out;
+}
+
+// Background units run one at a time, in the order queued; whatever is left
+// is still queued for the caller. On one thread a unit runs right after the
+// consume that queued it, before the next task is processed (so the queue of
+// a one-thread walk never grows).
+TEST(WalkBackground, RunsOneAtATimeInOrder) {
+  for (std::size_t workers : {1u, 2u, 3u}) {
+    const BackgroundRun run = run_with_background(workers, 200);
+    EXPECT_FALSE(run.overlapped) << workers;
+    EXPECT_EQ(run.done.size() + run.left, 200u);
+    for (std::size_t i = 0; i < run.done.size(); ++i) EXPECT_EQ(run.done[i], i);
+    if (workers == 1) {
+      EXPECT_EQ(run.most_queued_at_process, 0u);
+      EXPECT_LE(run.left, 1u);  // at most the last consume's unit
+    }
+  }
+}
+
+// A unit that throws ends the run with its exception (on one thread it runs
+// for sure; on more the run may end first and leave it queued).
+TEST(WalkBackground, RethrowsItsException) {
+  EXPECT_THROW(run_with_background(1, 200, 57), std::runtime_error);
+  for (std::size_t workers : {2u, 3u}) {
+    try {
+      const BackgroundRun run = run_with_background(workers, 200, 57);
+      EXPECT_LE(run.done.size(), 57u) << workers;  // not run: no unit after it was either
+    } catch (const std::runtime_error&) {
+    }
+  }
+}
+
+// Threads started before run (WalkPipeline::start) serve the run like those
+// run starts itself; started for a run that never comes, they end with the
+// pipeline (its destructor would hang otherwise).
+TEST(WalkBackground, ThreadsStartedBeforeTheRun) {
+  for (std::size_t workers : {2u, 3u}) {
+    detail::WalkPipeline unused(workers, 4);
+    unused.start();
+  }
+  detail::WalkPipeline pipeline(3, 4);
+  pipeline.start();
+  std::mutex mutex;
+  std::vector<std::size_t> workers_seen;
+  pipeline.add(ActivationPattern{{NeuronState::on}});
+  pipeline.run(
+      0, StopRequest(),
+      [&](std::size_t worker, detail::WalkTask& task) {
+        const std::lock_guard lock(mutex);
+        workers_seen.push_back(worker);
+        task.processed = std::make_unique<detail::Processed>();
+      },
+      [&](std::size_t index, detail::WalkTask&) -> std::optional<std::size_t> {
+        if (index == 99) return std::nullopt;
+        return pipeline.add(ActivationPattern{{NeuronState::off}});
+      },
+      nullptr);
+  EXPECT_EQ(workers_seen.size(), 100u);
+  for (std::size_t worker : workers_seen) EXPECT_LT(worker, 3u);
+}
+
+detail::PendingRows rows_of(std::size_t label, std::size_t rows, std::size_t columns) {
+  detail::PendingRows pending;
+  pending.pattern.states.assign(label + 1, NeuronState::on);
+  pending.rows = ModularMatrix(rows, columns);
+  return pending;
+}
+
+// Entries reach `reduce` one at a time and in the order pushed, whichever
+// threads drain the queue; a push that takes the queue over its limit
+// reduces entries itself until it is back under it.
+TEST(RowBacklog, ReducesInOrderOneAtATimeWithinItsLimit) {
+  std::vector<std::size_t> reduced;
+  std::atomic<int> inside{0};
+  bool overlapped = false;
+  const std::size_t entry_bytes = 3 * 10 * sizeof(std::uint64_t);
+  detail::RowBacklog backlog(
+      [&](const detail::PendingRows& pending) {
+        if (inside.fetch_add(1) != 0) overlapped = true;
+        reduced.push_back(pending.pattern.states.size() - 1);
+        inside.fetch_sub(1);
+      },
+      4 * entry_bytes);
+  for (std::size_t i = 0; i < 4; ++i) backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)));
+  EXPECT_TRUE(reduced.empty());  // at the limit, not over it
+  backlog.push(std::make_shared<detail::PendingRows>(rows_of(4, 3, 10)));
+  EXPECT_EQ(reduced, (std::vector<std::size_t>{0}));  // one reduced: back at the limit
+  std::atomic<bool> is_pushing{true};
+  std::thread drainer([&] {
+    while (is_pushing || backlog.reduce_one()) {
+      backlog.reduce_one();
+    }
+  });
+  for (std::size_t i = 5; i < 2000; ++i) backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)));
+  is_pushing = false;
+  drainer.join();
+  backlog.reduce_all();
+  EXPECT_FALSE(overlapped);
+  ASSERT_EQ(reduced.size(), 2000u);
+  for (std::size_t i = 0; i < reduced.size(); ++i) EXPECT_EQ(reduced[i], i);
+  EXPECT_FALSE(backlog.reduce_one());
+}
+
+}  // namespace
+}  // namespace pleat
