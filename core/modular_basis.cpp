@@ -2,6 +2,7 @@
 // modular row basis (core/rank.hpp).
 #include "core/rank.hpp"
 #include "core/detail/flint_matrix.hpp"
+#include "core/detail/wide_sum.hpp"
 #include "core/stop.hpp"
 
 #include <flint/fmpq.h>
@@ -163,23 +164,6 @@ std::uint64_t splitmix64(std::uint64_t& state) {
   z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
   return z ^ (z >> 31);
 }
-
-// A sum of products of residues below p < 2^63, exact in 192 bits (a 128-bit
-// sum and a count of its wrap-arounds), reduced once.
-struct WideSum {
-  Wide sum = 0;
-  std::uint64_t wraps = 0;
-  void add(std::uint64_t a, std::uint64_t b) {
-    const Wide product = static_cast<Wide>(a) * b;
-    sum += product;
-    wraps += static_cast<std::uint64_t>(sum < product);
-  }
-  // Precondition: fewer than p products were added (wraps < p).
-  std::uint64_t reduce(std::uint64_t prime, std::uint64_t prime_inverse) const {
-    return n_lll_mod_preinv(wraps, static_cast<std::uint64_t>(sum >> 64), static_cast<std::uint64_t>(sum), prime,
-                            prime_inverse);
-  }
-};
 
 }  // namespace
 

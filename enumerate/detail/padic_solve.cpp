@@ -1,5 +1,6 @@
 #include "enumerate/detail/padic_solve.hpp"
 
+#include "core/detail/wide_sum.hpp"
 #include "core/stop.hpp"
 
 #include <flint/fmpq.h>
@@ -16,18 +17,6 @@ namespace pleat::detail {
 namespace {
 
 __extension__ typedef unsigned __int128 Wide;
-
-// A sum of products of two words, in three words (n products of words
-// below 2^64 stay below 2^192 for any n below 2^64).
-struct WideSum {
-  Wide low = 0;
-  std::uint64_t high = 0;
-  void add(std::uint64_t a, std::uint64_t b) {
-    const Wide product = static_cast<Wide>(a) * b;
-    low += product;
-    high += low < product ? 1 : 0;
-  }
-};
 
 // A's nonzero entries row by row, the positive ones first, each as its
 // column and the `limbs` words of its absolute value (least significant
