@@ -102,11 +102,11 @@ TEST(OpenCell, DegenerateCells) {
 TEST(OpenCell, ZeroNormalIsAUsageError) {
   Oracle oracle;
   const Polyhedron bad{2, {constraint({1, 0}, 1), constraint({0, 0}, 1)}};
-  EXPECT_THROW(oracle.decide_open_cell(bad), usage_error);
-  EXPECT_THROW(oracle.find_centre(bad), usage_error);
+  EXPECT_THROW((void)oracle.decide_open_cell(bad), usage_error);
+  EXPECT_THROW((void)oracle.find_centre(bad), usage_error);
   const Polyhedron wrong_size{2, {constraint({1}, 1)}};
-  EXPECT_THROW(oracle.decide_open_cell(wrong_size), usage_error);
-  EXPECT_THROW(oracle.find_centre(box(2, 0, 1), Rational(0)), usage_error);
+  EXPECT_THROW((void)oracle.decide_open_cell(wrong_size), usage_error);
+  EXPECT_THROW((void)oracle.find_centre(box(2, 0, 1), Rational(0)), usage_error);
 }
 
 TEST(Centre, SquareCentreIsExactAndShort) {
