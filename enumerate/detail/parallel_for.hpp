@@ -12,6 +12,8 @@ namespace pleat::detail {
 // is installed; rethrows the first exception (a Stopped included) after
 // every thread has ended. Which thread runs which i is not fixed: work must
 // write only to its own slot for the result to be thread-count independent.
+// The threads are the current WorkerPool's (worker_pool.hpp) when this
+// thread has one, else started for this call.
 void parallel_for(std::size_t count, unsigned threads, const std::function<void(std::size_t)>& work);
 
 }  // namespace pleat::detail
