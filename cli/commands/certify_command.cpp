@@ -167,6 +167,17 @@ bool stopped_before_walk(const FunctionalDimensionResult& result) {
          result.walk.stop_reason == StopReason::none;
 }
 
+// The bounds of a result not certified. A run cut short prints bounds, never
+// a certified value (design: "Certified, meaning"), even when its proved
+// bounds happen to meet (certify --full-walk stopped after the rank reached
+// the scaling bound): then the one value is said once, not "between 48 and 48".
+std::string uncertified_bounds_text(const FunctionalDimensionResult& result) {
+  if (result.lower_bound == result.upper_bound && result.stop_reason != StopReason::none)
+    return std::to_string(result.lower_bound) + "  (its proved bounds meet) NOT certified: the run was cut short";
+  return "between " + std::to_string(result.lower_bound) + " and " + std::to_string(result.upper_bound) +
+         "  NOT certified";
+}
+
 void print_result(const Network& network, const Domain& domain, const FunctionalDimensionResult& result,
                   std::ostream& out) {
   out << "domain                " << domain.describe() << "\n";
@@ -188,8 +199,7 @@ void print_result(const Network& network, const Domain& domain, const Functional
       out << "                      lower bound: exact rank of the rows of " << count_of(result.regions_contributing, "region")
           << ";\n                      upper bound: an exact kernel checked on every smooth region\n";
   } else {
-    out << "functional dimension  between " << result.lower_bound << " and " << result.upper_bound
-        << "  NOT certified ("
+    out << "functional dimension  " << uncertified_bounds_text(result) << " ("
         << (result.stop_reason == StopReason::none
                 ? std::string("the walk could not be certified")
                 : std::string(result.walk_complete       ? "stopped after the walk: "
@@ -309,8 +319,8 @@ void print_batch(const Network& network, const Domain& domain, const CertifyArgu
   if (result.certified)
     out << "functional dimension  " << *result.functional_dimension << "  certified (every region of the domain)\n";
   else
-    out << "functional dimension  between " << result.lower_bound << " and " << result.upper_bound
-        << "  NOT certified (stopped: " << to_string(result.stop_reason) << ")\n";
+    out << "functional dimension  " << uncertified_bounds_text(result) << " (stopped: " << to_string(result.stop_reason)
+        << ")\n";
   if (result.certified && batch.rank < *result.functional_dimension) {
     out << "                      the points fall short by " << *result.functional_dimension - batch.rank;
     if (result.walk_complete && batch.regions_touched == result.walk.regions)
