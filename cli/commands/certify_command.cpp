@@ -209,14 +209,14 @@ void print_result(const Network& network, const Domain& domain, const Functional
         << ")\n";
   }
   if (result.certified_by_points || stopped_before_walk(result))
-    out << "regions               none walked (" << result.points_drawn << " points drawn, "
+    out << "regions               none walked (" << count_of(result.points_drawn, "point") << " drawn, "
         << result.regions_contributing << " of their regions contributed new rows)\n";
   else
     out << "regions               " << result.regions_walked << " walked"
         << (result.early_stop ? " (stopped early: the rank met the scaling bound)"
                               : result.walk_complete ? " (all regions)" : " (walk cut short)")
         << ", " << result.regions_contributing << " contributed new rows"
-        << (result.points_drawn ? " (with " + std::to_string(result.points_drawn) + " points drawn first)" : "")
+        << (result.points_drawn ? " (with " + count_of(result.points_drawn, "point") + " drawn first)" : "")
         << "\n";
   if (!result.nonsmooth_regions.empty()) {
     out << "left out              " << result.nonsmooth_regions.size()
@@ -302,20 +302,21 @@ struct BatchReport {
   std::size_t regions_rank = 0;  // exact rank of the touched regions' coefficient-block rows
 };
 
+// "12 regions", or "at least 12 regions" when the walk was cut short.
 std::string regions_total_text(const FunctionalDimensionResult& result, std::size_t touched) {
-  return result.walk_complete ? std::to_string(result.walk.regions)
-                              : "at least " + std::to_string(std::max(result.walk.regions, touched));
+  return result.walk_complete ? count_of(result.walk.regions, "region")
+                              : "at least " + count_of(std::max(result.walk.regions, touched), "region");
 }
 
 void print_batch(const Network& network, const Domain& domain, const CertifyArguments& arguments,
                  const BatchReport& batch, const FunctionalDimensionResult& result, std::ostream& out) {
   out << "domain                " << domain.describe() << "\n";
   out << "points                " << batch.points << " from " << arguments.points_path << ", in " << batch.regions_touched
-      << " of " << regions_total_text(result, batch.regions_touched) << " regions (decided exactly)\n";
+      << " of " << regions_total_text(result, batch.regions_touched) << " (decided exactly)\n";
   out << "batch functional dimension " << batch.rank << "  (exact rank of the " << batch.points * network.output_dim()
       << " x " << network.parametric_dimension() << " parameter Jacobian at these points)\n";
   out << "rank of their regions " << batch.regions_rank << "  (exact rank of the coefficient-block rows of the "
-      << batch.regions_touched << " regions: the Jacobians at every point of them)\n";
+      << count_of(batch.regions_touched, "region") << ": the Jacobians at every point of them)\n";
   if (result.certified)
     out << "functional dimension  " << *result.functional_dimension << "  certified (every region of the domain)\n";
   else
@@ -328,7 +329,7 @@ void print_batch(const Network& network, const Domain& domain, const CertifyArgu
           << " independent rows (take more points per region)\n";
     else
       out << ": they reach " << batch.regions_touched << " of " << regions_total_text(result, batch.regions_touched)
-          << " regions\n";
+          << "\n";
   }
 }
 

@@ -506,14 +506,15 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
   if (!arguments.table_path.empty()) write_output(arguments.table_path, drawn.table);
   std::cout << "view        " << describe_view(scene.view) << "\n";
   if (dim == 3)
-    std::cout << "mesh        " << drawn.regions << " regions, " << drawn.edges << " faces, " << drawn.vertices
-              << " distinct vertices (exact, clipped to the view; one closed surface per region)\n";
+    std::cout << "mesh        " << count_of(drawn.regions, "region") << ", " << count_of(drawn.edges, "face") << ", "
+              << count_of(drawn.vertices, "distinct vertex", "distinct vertices")
+              << " (exact, clipped to the view; one closed surface per region)\n";
   else if (dim == 2)
-    std::cout << "complex     " << drawn.regions << " regions, " << drawn.edges << " edges, " << drawn.vertices
-              << " vertices (exact, clipped to the view)\n";
+    std::cout << "complex     " << count_of(drawn.regions, "region") << ", " << count_of(drawn.edges, "edge") << ", "
+              << count_of(drawn.vertices, "vertex", "vertices") << " (exact, clipped to the view)\n";
   else
-    std::cout << "graph       " << drawn.regions << " pieces, " << (drawn.regions ? drawn.regions - 1 : 0)
-              << " breakpoints (exact, in the view)\n";
+    std::cout << "graph       " << count_of(drawn.regions, "piece") << ", "
+              << count_of(drawn.regions ? drawn.regions - 1 : 0, "breakpoint") << " (exact, in the view)\n";
   std::cout << "written     " << arguments.output_path << "\n";
   if (drawn.thin > 0)
     std::cerr << "pleat: " << count_of(drawn.thin, "region") << " of " << drawn.regions

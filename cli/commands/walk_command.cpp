@@ -155,10 +155,10 @@ int run_walk(const WalkArguments& arguments) {
     if (arguments.patterns)
       for (const auto& pattern : summary.patterns) std::cout << format_pattern(network, pattern) << "\n";
     if (!arguments.output_path.empty())
-      std::cout << "written     " << arguments.output_path << " (" << summary.regions << " region lines)\n";
+      std::cout << "written     " << arguments.output_path << " (" << count_of(summary.regions, "region line") << ")\n";
     if (!arguments.points_path.empty())
-      std::cout << "written     " << arguments.points_path << " (" << interior_points.size()
-                << " interior points, one per region)\n";
+      std::cout << "written     " << arguments.points_path << " ("
+                << count_of(interior_points.size(), "interior point") << ", one per region)\n";
   }
   if (summary.stop_reason == StopReason::interrupted) {
     std::cerr << "pleat: walk interrupted; " << count_of(summary.regions, "region") << " kept"
