@@ -8,7 +8,6 @@
 #include "enumerate/detail/kernel_check.hpp"
 #include "enumerate/detail/kernel_lift.hpp"
 #include "enumerate/detail/parallel_for.hpp"
-#include "enumerate/detail/worker_pool.hpp"
 #include "enumerate/detail/row_backlog.hpp"
 #include "enumerate/interior_points.hpp"
 #include "enumerate/line_sweep.hpp"
@@ -265,9 +264,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   };
   const unsigned threads =
       options.walk.threads ? options.walk.threads : std::max(1u, std::thread::hardware_concurrency());
-  // The threads of every parallel loop below, started once (worker_pool.hpp).
-  detail::WorkerPool pool(threads - 1);
-  const detail::WorkerPoolScope pool_scope(&pool);
+  const detail::LoopThreads loop_threads(threads);  // every parallel loop's threads below, started once
 
   // Points first: rows of the regions that exact interior points land in.
   // Batches are drawn in order and their patterns decided in parallel, then

@@ -43,4 +43,13 @@ void parallel_for(std::size_t count, unsigned threads, const std::function<void(
   if (error) std::rethrow_exception(error);
 }
 
+LoopThreads::LoopThreads(unsigned threads)
+    : pool_(threads > 1 ? std::make_unique<WorkerPool>(threads - 1) : nullptr),
+      scope_(pool_ ? std::make_unique<WorkerPoolScope>(pool_.get()) : nullptr) {}
+
+LoopThreads::~LoopThreads() {
+  scope_.reset();  // the scope before the pool it lends
+  pool_.reset();
+}
+
 }  // namespace pleat::detail

@@ -106,7 +106,22 @@ TEST(WorkerPool, ParallelForLentAPoolRunsEveryIndexOnceAndRethrows) {
   EXPECT_EQ(detail::current_worker_pool(), &pool);
 }
 
-TEST(WorkerPool, NoPoolOutsideAScope) { EXPECT_EQ(detail::current_worker_pool(), nullptr); }
+TEST(WorkerPool, LoopThreadsLendAPoolWhileTheyLive) {
+  EXPECT_EQ(detail::current_worker_pool(), nullptr);
+  {
+    const detail::LoopThreads one(1);  // no helpers: nothing to lend
+    EXPECT_EQ(detail::current_worker_pool(), nullptr);
+  }
+  {
+    const detail::LoopThreads three(3);
+    detail::WorkerPool* lent = detail::current_worker_pool();
+    ASSERT_NE(lent, nullptr);
+    EXPECT_EQ(lent->helpers(), 2u);
+    std::thread other([] { EXPECT_EQ(detail::current_worker_pool(), nullptr); });  // this thread's only
+    other.join();
+  }
+  EXPECT_EQ(detail::current_worker_pool(), nullptr);
+}
 
 // The check on a pool's threads names the same first region as exact
 // products with coefficient_blocks: a unit vector e_c is rejected on the
