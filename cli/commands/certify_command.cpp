@@ -167,6 +167,17 @@ bool stopped_before_walk(const FunctionalDimensionResult& result) {
          result.walk.stop_reason == StopReason::none;
 }
 
+// The bounds of a result not certified. A run cut short prints bounds, never
+// a certified value (design: "Certified, meaning"), even when its proved
+// bounds happen to meet (certify --full-walk stopped after the rank reached
+// the scaling bound): then the one value is said once, not "between 48 and 48".
+std::string uncertified_bounds_text(const FunctionalDimensionResult& result) {
+  if (result.lower_bound == result.upper_bound && result.stop_reason != StopReason::none)
+    return std::to_string(result.lower_bound) + "  (its proved bounds meet) NOT certified: the run was cut short";
+  return "between " + std::to_string(result.lower_bound) + " and " + std::to_string(result.upper_bound) +
+         "  NOT certified";
+}
+
 void print_result(const Network& network, const Domain& domain, const FunctionalDimensionResult& result,
                   std::ostream& out) {
   out << "domain                " << domain.describe() << "\n";
@@ -188,8 +199,7 @@ void print_result(const Network& network, const Domain& domain, const Functional
       out << "                      lower bound: exact rank of the rows of " << count_of(result.regions_contributing, "region")
           << ";\n                      upper bound: an exact kernel checked on every smooth region\n";
   } else {
-    out << "functional dimension  between " << result.lower_bound << " and " << result.upper_bound
-        << "  NOT certified ("
+    out << "functional dimension  " << uncertified_bounds_text(result) << " ("
         << (result.stop_reason == StopReason::none
                 ? std::string("the walk could not be certified")
                 : std::string(result.walk_complete       ? "stopped after the walk: "
@@ -199,14 +209,14 @@ void print_result(const Network& network, const Domain& domain, const Functional
         << ")\n";
   }
   if (result.certified_by_points || stopped_before_walk(result))
-    out << "regions               none walked (" << result.points_drawn << " points drawn, "
+    out << "regions               none walked (" << count_of(result.points_drawn, "point") << " drawn, "
         << result.regions_contributing << " of their regions contributed new rows)\n";
   else
     out << "regions               " << result.regions_walked << " walked"
         << (result.early_stop ? " (stopped early: the rank met the scaling bound)"
                               : result.walk_complete ? " (all regions)" : " (walk cut short)")
         << ", " << result.regions_contributing << " contributed new rows"
-        << (result.points_drawn ? " (with " + std::to_string(result.points_drawn) + " points drawn first)" : "")
+        << (result.points_drawn ? " (with " + count_of(result.points_drawn, "point") + " drawn first)" : "")
         << "\n";
   if (!result.nonsmooth_regions.empty()) {
     out << "left out              " << result.nonsmooth_regions.size()
@@ -292,25 +302,26 @@ struct BatchReport {
   std::size_t regions_rank = 0;  // exact rank of the touched regions' coefficient-block rows
 };
 
+// "12 regions", or "at least 12 regions" when the walk was cut short.
 std::string regions_total_text(const FunctionalDimensionResult& result, std::size_t touched) {
-  return result.walk_complete ? std::to_string(result.walk.regions)
-                              : "at least " + std::to_string(std::max(result.walk.regions, touched));
+  return result.walk_complete ? count_of(result.walk.regions, "region")
+                              : "at least " + count_of(std::max(result.walk.regions, touched), "region");
 }
 
 void print_batch(const Network& network, const Domain& domain, const CertifyArguments& arguments,
                  const BatchReport& batch, const FunctionalDimensionResult& result, std::ostream& out) {
   out << "domain                " << domain.describe() << "\n";
   out << "points                " << batch.points << " from " << arguments.points_path << ", in " << batch.regions_touched
-      << " of " << regions_total_text(result, batch.regions_touched) << " regions (decided exactly)\n";
+      << " of " << regions_total_text(result, batch.regions_touched) << " (decided exactly)\n";
   out << "batch functional dimension " << batch.rank << "  (exact rank of the " << batch.points * network.output_dim()
       << " x " << network.parametric_dimension() << " parameter Jacobian at these points)\n";
   out << "rank of their regions " << batch.regions_rank << "  (exact rank of the coefficient-block rows of the "
-      << batch.regions_touched << " regions: the Jacobians at every point of them)\n";
+      << count_of(batch.regions_touched, "region") << ": the Jacobians at every point of them)\n";
   if (result.certified)
     out << "functional dimension  " << *result.functional_dimension << "  certified (every region of the domain)\n";
   else
-    out << "functional dimension  between " << result.lower_bound << " and " << result.upper_bound
-        << "  NOT certified (stopped: " << to_string(result.stop_reason) << ")\n";
+    out << "functional dimension  " << uncertified_bounds_text(result) << " (stopped: " << to_string(result.stop_reason)
+        << ")\n";
   if (result.certified && batch.rank < *result.functional_dimension) {
     out << "                      the points fall short by " << *result.functional_dimension - batch.rank;
     if (result.walk_complete && batch.regions_touched == result.walk.regions)
@@ -318,7 +329,7 @@ void print_batch(const Network& network, const Domain& domain, const CertifyArgu
           << " independent rows (take more points per region)\n";
     else
       out << ": they reach " << batch.regions_touched << " of " << regions_total_text(result, batch.regions_touched)
-          << " regions\n";
+          << "\n";
   }
 }
 

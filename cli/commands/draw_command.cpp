@@ -34,6 +34,7 @@ struct DrawArguments {
   std::string output_path;
   std::string view_text;
   ColourMode colour_by = ColourMode::region;
+  bool colour_given = false;  // --color-by was on the command line
   std::string from_path;
   DomainOptions domain;
   bool labels = false;
@@ -264,7 +265,9 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
   std::vector<std::string> stats{count_of(result.regions, "region") + ", " + count_of(result.edges, "edge") + ",",
                                  count_of(result.vertices, "vertex", "vertices") + " in the view"};
   apply_size(figure, arguments, format);
-  result.thin = thin_regions_svg(figure, thin_width_px);
+  // Measured in the SVG's pixels: a TikZ picture's size is in cm and its
+  // layout differs, so its regions are not counted (the note names the SVG).
+  if (format == Format::svg) result.thin = thin_regions_svg(figure, thin_width_px);
   for (auto& note : outside_note(scene, result.regions)) stats.push_back(std::move(note));
   add_stats(figure, arguments, stats);
   result.text = format == Format::svg ? figure_svg(figure) : figure_tikz(figure);
@@ -426,6 +429,28 @@ Scene make_scene(const Network& network, const Domain& domain, std::optional<Vie
   return scene;
 }
 
+// A CSV or an OFF mesh has no title, key, lines or text on it: the options
+// that only a figure (SVG, TikZ) honours are refused there rather than
+// silently ignored. A mesh is coloured so that neighbours differ, which is
+// --color-by region; a CSV has no colours.
+void refuse_figure_only_options(const DrawArguments& arguments, Format format) {
+  if (format == Format::svg || format == Format::tikz) return;
+  const std::string written = format == Format::csv ? "a .csv table" : "an .off mesh";
+  auto refuse = [&](bool given, const std::string& option) {
+    if (given) throw input_error(option + " is for figures (--out FIG.svg or FIG.tex); " + written + " has none");
+  };
+  refuse(!arguments.title.empty(), "--title");
+  refuse(arguments.labels, "--labels");
+  refuse(arguments.no_lines, "--no-lines");
+  refuse(arguments.no_stats, "--no-stats");
+  refuse(arguments.no_legend, "--no-legend");
+  refuse(!arguments.size_text.empty(), "--size");
+  if (arguments.colour_given && format == Format::csv)
+    throw input_error("--color-by is for figures and meshes; a .csv table has no colours");
+  if (arguments.colour_given && arguments.colour_by != ColourMode::region)
+    throw input_error("--color-by: an .off mesh is coloured by region only (neighbours differ)");
+}
+
 int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interrupt);
 
 // Ctrl-C stops the walk and the exact clipping alike (both poll it); a
@@ -452,11 +477,8 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
   if (dim < 1 || dim > 3)
     throw input_error("draw: the network has " + std::to_string(dim) + " inputs; draw handles 1 (a graph), "
                       "2 (regions) or 3 (a mesh)");
-
-  if (!arguments.size_text.empty()) {
-    if (format != Format::svg && format != Format::tikz) throw input_error("--size is for figures: --out FIG.svg or FIG.tex");
-    (void)parse_figure_size(arguments.size_text);  // a bad --size fails before the walk
-  }
+  refuse_figure_only_options(arguments, format);
+  if (!arguments.size_text.empty()) (void)parse_figure_size(arguments.size_text);  // a bad --size fails before the walk
   std::optional<View> view;
   if (!arguments.view_text.empty()) {
     const RationalVector numbers = parse_number_list(arguments.view_text, "--view");
@@ -484,14 +506,15 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
   if (!arguments.table_path.empty()) write_output(arguments.table_path, drawn.table);
   std::cout << "view        " << describe_view(scene.view) << "\n";
   if (dim == 3)
-    std::cout << "mesh        " << drawn.regions << " regions, " << drawn.edges << " faces, " << drawn.vertices
-              << " distinct vertices (exact, clipped to the view; one closed surface per region)\n";
+    std::cout << "mesh        " << count_of(drawn.regions, "region") << ", " << count_of(drawn.edges, "face") << ", "
+              << count_of(drawn.vertices, "distinct vertex", "distinct vertices")
+              << " (exact, clipped to the view; one closed surface per region)\n";
   else if (dim == 2)
-    std::cout << "complex     " << drawn.regions << " regions, " << drawn.edges << " edges, " << drawn.vertices
-              << " vertices (exact, clipped to the view)\n";
+    std::cout << "complex     " << count_of(drawn.regions, "region") << ", " << count_of(drawn.edges, "edge") << ", "
+              << count_of(drawn.vertices, "vertex", "vertices") << " (exact, clipped to the view)\n";
   else
-    std::cout << "graph       " << drawn.regions << " pieces, " << (drawn.regions ? drawn.regions - 1 : 0)
-              << " breakpoints (exact, in the view)\n";
+    std::cout << "graph       " << count_of(drawn.regions, "piece") << ", "
+              << count_of(drawn.regions ? drawn.regions - 1 : 0, "breakpoint") << " (exact, in the view)\n";
   std::cout << "written     " << arguments.output_path << "\n";
   if (drawn.thin > 0)
     std::cerr << "pleat: " << count_of(drawn.thin, "region") << " of " << drawn.regions
@@ -522,8 +545,8 @@ void register_draw(CommandTable& commands) {
       "regions are cut to it), else the bulk of the arrangement's vertices (per axis the\n"
       "shortest interval holding half of them, widened by its length on each side; the whole\n"
       "range when that is not much wider). Standard error then says how many vertices and\n"
-      "regions lie outside, and the --view that holds every vertex. It also says how many\n"
-      "regions are under 3 px wide in the SVG (too thin to see).\n\n"
+      "regions lie outside, and the --view that holds every vertex. For an SVG it also says how\n"
+      "many regions are under 3 px wide in it (too thin to see).\n\n"
       "Examples:\n"
       "  pleat draw data/fold2d.json --out fold2d.svg --view -3,3,-3,3\n"
       "  pleat draw data/fold2d.json --out fold2d.tex --color-by layer1 --labels\n"
@@ -537,26 +560,31 @@ void register_draw(CommandTable& commands) {
   command
       .add_option_function<std::string>(
           "--color-by,--colour-by",
-          [arguments](const std::string& name) { arguments->colour_by = colour_mode_from_name(name); },
+          [arguments](const std::string& name) {
+            arguments->colour_by = colour_mode_from_name(name);
+            arguments->colour_given = true;
+          },
           "region (neighbours differ), gradient (|grad F|), layer1 (first-layer cell), rank "
-          "(rows the region adds to the rank of the regions before it in walk order)")
+          "(rows the region adds to the rank of the regions before it in walk order); an .off mesh: "
+          "region only; not for .csv")
       ->check(CLI::IsMember(colour_mode_names()));
   command.add_flag("--labels", arguments->labels,
                    "Write each region's activation pattern inside it where it fits, else its number (the "
-                   "region column of --table) where that fits, else nothing");
+                   "region column of --table) where that fits, else nothing (SVG and TikZ)");
   command.add_option("--table", arguments->table_path,
                      "Write a side table (CSV): per region drawn its number, pattern and an exact interior point "
                      "(region,pattern,x_exact,y_exact,x,y); for a mesh, the region of each face (face,region,pattern)")
       ->type_name("FILE.csv");
-  command.add_flag("--no-lines", arguments->no_lines, "Leave out the bent hyperplanes (fills only)");
+  command.add_flag("--no-lines", arguments->no_lines, "Leave out the bent hyperplanes (fills only; SVG and TikZ)");
   command.add_flag("--no-stats", arguments->no_stats,
-                   "Leave the counts (regions, edges, vertices) out of the figure; the summary printed has them");
-  command.add_flag("--no-legend", arguments->no_legend, "Leave out the key right of the plot (and the counts in it)");
+                   "Leave the counts (regions, edges, vertices) out of the figure (SVG and TikZ); the summary printed "
+                   "has them");
+  command.add_flag("--no-legend", arguments->no_legend, "Leave out the key right of the plot (and the counts in it; SVG and TikZ)");
   command.add_option("--size", arguments->size_text,
                      "The whole figure's width and height, in cm or px (96 px to the inch): 12cm,8cm or 600,400px; "
                      "the plot takes what the margins and the key leave. Default: SVG 420 px of plot, TikZ 12 cm wide")
       ->type_name("W,H");
-  command.add_option("--title", arguments->title, "A title over the plot (SVG and TikZ)")->type_name("TEXT");
+  command.add_option("--title", arguments->title, "A title over the plot (SVG and TikZ; refused for .csv and .off, which have none)")->type_name("TEXT");
   command.add_option("--from", arguments->from_path,
                      "Draw a saved walk (pleat walk -o FILE) instead of walking; --view clips it. A walk cut "
                      "short (a neighbour it names is missing) is refused");

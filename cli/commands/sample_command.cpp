@@ -91,13 +91,12 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
   const FunctionalDimensionResult& certified = result.certified;
   // An incomplete walk proves only a lower count: the regions it saw, or the
   // distinct ones the points landed in, whichever is larger.
-  const std::string total = certified.walk_complete
-                                ? std::to_string(certified.walk.regions)
-                                : "at least " + std::to_string(std::max(certified.walk.regions, result.regions_touched));
+  const std::size_t total_count =
+      certified.walk_complete ? certified.walk.regions : std::max(certified.walk.regions, result.regions_touched);
+  const std::string total = (certified.walk_complete ? "" : "at least ") + std::to_string(total_count);
   out << "domain                " << domain.describe() << "\n";
   out << "sampled rank          " << result.rank.customary << "  (" << (print_float32 ? "float32" : "double")
-      << " Jacobian at " << result.batch
-      << " points, " << result.batch * network.output_dim() << " x " << certified.parametric_dimension
+      << " Jacobian at " << count_of(result.batch, "point") << ", " << result.batch * network.output_dim() << " x " << certified.parametric_dimension
       << "; SVD, tolerance sigma_max*max(M,N)*eps)\n";
   out << "                      " << result.rank.relative_1e6 << " at relative tolerance 1e-6, "
       << result.rank.relative_1e10 << " at 1e-10\n";
@@ -116,14 +115,14 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
     out << (result.verdict ? sample_word(*result.verdict) : "undecided (within the proved bounds)") << "\n";
   out << "regions touched       " << result.regions_touched << " of " << total;
   if (result.points_on_bent_hyperplanes)
-    out << "  (" << result.points_on_bent_hyperplanes << " points fell on a bent hyperplane)";
+    out << "  (" << count_of(result.points_on_bent_hyperplanes, "point") << " fell on a bent hyperplane)";
   out << "\n";
   out << "first batch reaching  "
-      << (result.first_batch_reaching ? std::to_string(*result.first_batch_reaching) + " points"
+      << (result.first_batch_reaching ? count_of(*result.first_batch_reaching, "point")
                                       : std::string("none within the batch"))
       << "\n";
   out << "The sample touched " << result.regions_touched << " of " << (certified.walk_complete ? "the " : "") << total
-      << " regions that exist on this domain.\n"
+      << (total_count == 1 ? " region that exists" : " regions that exist") << " on this domain.\n"
          "A region no point lands in adds no rows, so a sampled rank can fall short of the\n"
          "certified value however accurate the SVD is.\n";
 }

@@ -168,7 +168,7 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
   std::unique_ptr<SurveyWriter> writer;
   if (!path.empty() && is_leader) writer = std::make_unique<SurveyWriter>(path, keep_bytes, record.header);
   if (!done.empty() && !arguments.quiet)
-    std::cerr << "pleat: " << path << ": resuming, " << done.size() << " samples already there, " << todo.size()
+    std::cerr << "pleat: " << path << ": resuming, " << count_of(done.size(), "sample") << " already there, " << todo.size()
               << " to run\n";
 
   // Probe samples (computed before this survey's turn) are written first;
@@ -310,8 +310,8 @@ std::vector<ProbedSamples> probe_and_project(const SurveyArguments& arguments,
   }
   progress.finish();
   if (pending_total > 0)
-    std::cerr << "pleat survey: projected CPU time " << format_duration(projected) << " for " << pending_total
-              << " samples (" << detail << "; timed on " << threads << " thread" << (threads == 1 ? "" : "s") << ")\n";
+    std::cerr << "pleat survey: projected CPU time " << format_duration(projected) << " for "
+              << count_of(pending_total, "sample") << " (" << detail << "; timed on " << threads << " thread" << (threads == 1 ? "" : "s") << ")\n";
   return probed;
 }
 

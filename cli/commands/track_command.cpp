@@ -295,7 +295,7 @@ std::string track_svg(const std::vector<TrackRow>& rows, const Domain& domain) {
       << "\" font-family=\"DejaVu Sans, Arial, sans-serif\">\n";
   svg << "<rect width=\"100%\" height=\"100%\" fill=\"#ffffff\"/>\n";
   svg << "<text x=\"" << number(left) << "\" y=\"24\" font-size=\"16\" fill=\"" << ink
-      << "\">Certified functional dimension along training (" << rows.size() << " checkpoints)</text>\n";
+      << "\">Certified functional dimension along training (" << count_of(rows.size(), "checkpoint") << ")</text>\n";
   svg << "<text x=\"" << number(left) << "\" y=\"42\" font-size=\"12\" fill=\"#555555\">domain "
       << escape_xml(domain.describe()) << "</text>\n";
   for (double tick : ticks) {

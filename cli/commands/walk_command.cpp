@@ -155,10 +155,10 @@ int run_walk(const WalkArguments& arguments) {
     if (arguments.patterns)
       for (const auto& pattern : summary.patterns) std::cout << format_pattern(network, pattern) << "\n";
     if (!arguments.output_path.empty())
-      std::cout << "written     " << arguments.output_path << " (" << summary.regions << " region lines)\n";
+      std::cout << "written     " << arguments.output_path << " (" << count_of(summary.regions, "region line") << ")\n";
     if (!arguments.points_path.empty())
-      std::cout << "written     " << arguments.points_path << " (" << interior_points.size()
-                << " interior points, one per region)\n";
+      std::cout << "written     " << arguments.points_path << " ("
+                << count_of(interior_points.size(), "interior point") << ", one per region)\n";
   }
   if (summary.stop_reason == StopReason::interrupted) {
     std::cerr << "pleat: walk interrupted; " << count_of(summary.regions, "region") << " kept"
@@ -189,12 +189,17 @@ void register_walk(CommandTable& commands) {
   command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")
       ->required();
   add_domain_options(command, arguments->domain);
-  command.add_option("-o,--output", arguments->output_path,
-                     "Write one JSON line per region (pleat-regions/1) to this file, as they are found");
+  CLI::Option* output = command.add_option("-o,--output", arguments->output_path,
+                                           "Write one JSON line per region (pleat-regions/1) to this file, as they "
+                                           "are found");
   command.add_option("--points-out", arguments->points_path,
                      "Write one exact interior point per region (text; FILE.npy: float64 for numpy)");
-  command.add_flag("--certificates", arguments->certificates,
-                   "Add each region's certificates to the region lines (for 'pleat verify')");
+  // The certificates go into the region lines only: without -o they would
+  // be computed and thrown away, so the flag needs -o.
+  command
+      .add_flag("--certificates", arguments->certificates,
+                "Add each region's certificates to the region lines of -o (for 'pleat verify')")
+      ->needs(output);
   command.add_flag("--json", arguments->json, "Print the summary as JSON (pleat-walk/1)");
   command.add_flag("--patterns", arguments->patterns, "Also list every region's activation pattern, sorted");
   add_walk_limit_options(command, arguments->limits, "Worker threads (default: all cores)", "--time-limit",

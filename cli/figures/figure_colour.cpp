@@ -54,7 +54,7 @@ std::vector<std::size_t> colour_by_first_layer(const Network& network, const std
   for (std::size_t i = 0; i < n; ++i) colour[i] = cell_colour[cell[i]];
   use_palette(figure, colours_used(cell_colour));
   figure.legend_title = "Layer-1 cells";
-  figure.notes.push_back(std::to_string(cell_of.size()) + " cells of the first layer's");
+  figure.notes.push_back(count_of(cell_of.size(), "cell") + " of the first layer's");
   figure.notes.push_back("hyperplanes; neighbours differ");
   return colour;
 }

@@ -19,24 +19,8 @@ fold=$source_dir/data/fold2d.json
 [ "$(wc -l < "$work/points.csv")" -eq 11 ] || fail "the kernel of 48 of 59 has 11 rows; --kernel-out wrote $(wc -l < "$work/points.csv")"
 cmp -s "$work/points.csv" "$work/walk.csv" || fail "the kernel written after the points differs from --full-walk's"
 
-# The rows span an 11-dimensional space (exact rank with Python fractions).
-rank=$("$python" - "$work/points.csv" <<'PY'
-import sys
-from fractions import Fraction
-rows = [[Fraction(v) for v in line.split(",")] for line in open(sys.argv[1])]
-rank = 0
-for c in range(len(rows[0]) if rows else 0):
-    pivot = next((r for r in range(rank, len(rows)) if rows[r][c] != 0), None)
-    if pivot is None: continue
-    rows[rank], rows[pivot] = rows[pivot], rows[rank]
-    for r in range(len(rows)):
-        if r != rank and rows[r][c] != 0:
-            f = rows[r][c] / rows[rank][c]
-            rows[r] = [a - f * b for a, b in zip(rows[r], rows[rank])]
-    rank += 1
-print(rank)
-PY
-)
+# The rows span an 11-dimensional space (exact rank by sympy: exact_rank).
+rank=$(exact_rank "$work/points.csv") || fail "exact_rank failed"
 [ "$rank" = 11 ] || fail "the kernel rows have rank $rank, expected 11"
 
 # With --points the network's run is a whole walk, as --full-walk: its

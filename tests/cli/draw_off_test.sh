@@ -65,4 +65,14 @@ assert len(by_region) == printed, (len(by_region), printed)
 PY
 "$pleat" draw "$source_dir/data/fold2d.json" --out "$work/f.off" > /dev/null 2>&1; [ $? -eq 2 ] \
   || fail ".off accepted for 2 inputs"
+# A mesh has no title, key, lines or labels, and is coloured by region: the
+# options only a figure honours are refused (exit 2, naming the option).
+for option in "--title T" --labels --no-lines --no-stats --no-legend "--color-by gradient"; do
+  "$pleat" draw "$source_dir/data/sensor3d.json" --view -1,1,-1,1,-1,1 $option --out "$work/ignored.off" -q \
+    > /dev/null 2> "$work/ignored.err"
+  status=$?
+  [ $status -eq 2 ] && grep -q -- "${option%% *}" "$work/ignored.err" || fail "$option with .off: exit $status, $(cat "$work/ignored.err")"
+done
+"$pleat" draw "$source_dir/data/sensor3d.json" --view -1,1,-1,1,-1,1 --color-by region --out "$work/region.off" -q \
+  > /dev/null || fail "--color-by region with .off (what a mesh is coloured by) refused"
 echo ok

@@ -163,11 +163,30 @@ PY
 grep -q '<svg [^>]*width="377.95" height="264.57"' "$work/sized.svg" || fail "--size 10cm,7cm: $(grep -o '<svg [^>]*' "$work/sized.svg")"
 "$pleat" draw "$fold" --view -3,3,-3,3 --size 500,300px --out "$work/sized.svg" -q > /dev/null || fail "--size px exited $?"
 grep -q '<svg [^>]*width="500" height="300"' "$work/sized.svg" || fail "--size 500,300px"
+# The thin-region note counts pixels of an SVG: a TikZ picture (sized in cm)
+# gets none; before, 12cm,8cm was measured as 12 by 8 px and 50 of fold2d's
+# 74 regions were called under 3 px wide "in the SVG".
+"$pleat" draw "$fold" --view -3,3,-3,3 --size 12cm,8cm --out "$work/sized.tex" -q > /dev/null 2> "$work/sized.err" ||
+  fail "--size with .tex exited $?"
+! grep -q "px wide" "$work/sized.err" || fail "a TikZ picture got the SVG's thin-region note: $(cat "$work/sized.err")"
+"$pleat" draw "$fold" --view -3,3,-3,3 --size 12cm,8cm --out "$work/sized12.svg" -q > /dev/null 2> "$work/sized.err" ||
+  fail "--size 12cm,8cm exited $?"
+grep -q "are under 3 px wide in the SVG" "$work/sized.err" || fail "no thin-region note for the SVG: $(cat "$work/sized.err")"
 for bad in 10,7 1cm,7cm 10cm 10cm,7in x,7cm; do
   "$pleat" draw "$fold" --size $bad --out "$work/f.svg" > /dev/null 2> "$work/size.err"; status=$?
   [ $status -eq 2 ] && grep -q -- "--size" "$work/size.err" || fail "--size $bad: exit $status, $(cat "$work/size.err")"
 done
 "$pleat" draw "$fold" --size 10cm,7cm --out "$work/f.csv" > /dev/null 2>&1; [ $? -eq 2 ] || fail "--size with .csv accepted"
+# A CSV has no title, key, lines, labels or colours: the options that only a
+# figure honours are refused (exit 2, naming the option), not silently
+# ignored, and nothing is written.
+for option in "--title T" --labels --no-lines --no-stats --no-legend "--color-by rank" "--color-by region"; do
+  rm -f "$work/ignored.csv"
+  "$pleat" draw "$fold" --view -3,3,-3,3 $option --out "$work/ignored.csv" -q > /dev/null 2> "$work/ignored.err"
+  status=$?
+  [ $status -eq 2 ] && grep -q -- "${option%% *}" "$work/ignored.err" || fail "$option with .csv: exit $status, $(cat "$work/ignored.err")"
+  [ ! -e "$work/ignored.csv" ] || fail "$option with .csv wrote the file"
+done
 
 # --labels and --table: a region shows its pattern or its number (never
 # both), both kinds occur on fold2d; the table lists every polygon of the

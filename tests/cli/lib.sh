@@ -42,3 +42,7 @@ within() {
   [ $took -le "$limit" ] || fail "$* took $took s (limit $limit s)"
   return $status
 }
+
+# exact_rank FILE: the exact rank over the rationals of a comma-separated
+# matrix file (one row per line), by sympy (tests/cli/exact_rank.py).
+exact_rank() { "$python" "$(dirname "${BASH_SOURCE[0]}")/exact_rank.py" "$1"; }

@@ -89,4 +89,10 @@ sensor=$source_dir/data/sensor3d.json
 check_region_file "$work/sensor.jsonl" "$(json_key "$work/sensor.json" regions)"
 "$pleat" walk "$sensor" --box=-1,1 --quiet > "$work/sensor_box.txt" || fail "3-D box walk exited $?"
 grep -q "box:(-1,1)x(-1,1)x(-1,1)" "$work/sensor_box.txt" || fail "3-D box summary: $(cat "$work/sensor_box.txt")"
+# --certificates goes into the region lines of -o: without -o the
+# certificates would be computed and written nowhere, so it is refused (2).
+"$pleat" walk "$sensor" --box=-1,1 --certificates --quiet > /dev/null 2> "$work/certificates.err"
+status=$?
+[ $status -eq 2 ] && grep -q -- "--certificates requires --output" "$work/certificates.err" ||
+  fail "walk --certificates without -o: exit $status, $(cat "$work/certificates.err")"
 echo "walk end to end: ok"

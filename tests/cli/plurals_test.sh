@@ -1,0 +1,25 @@
+#!/usr/bin/env bash
+# Counts of one are printed in the singular ("1 region", "1 point"), not
+# "1 regions": a view inside one region, a walk cut to one region, a batch of
+# one point. Each line below used to print the plural.
+set -u
+source "$(dirname "$0")/lib.sh"
+fold=$source_dir/data/fold2d.json
+ramp=$source_dir/data/ramp1d.json
+
+out=$("$pleat" draw "$fold" --view 0,1/1000,0,1/1000 --out "$work/one.svg" -q) || fail "draw exited $?"
+expect_contains "$out" "complex     1 region, 4 edges, 4 vertices (exact" "draw, one region"
+out=$("$pleat" draw "$ramp" --view 0,1/1000 --out "$work/one.svg" -q) || fail "draw 1-D exited $?"
+expect_contains "$out" "graph       1 piece, 0 breakpoints (exact" "draw, one piece"
+
+out=$("$pleat" walk "$fold" --max-regions 1 -o "$work/r.jsonl" --points-out "$work/p.txt" -q) || fail "walk exited $?"
+expect_contains "$out" "(1 region line)" "walk -o, one region"
+expect_contains "$out" "(1 interior point, one per region)" "walk --points-out, one region"
+
+out=$("$pleat" sample "$fold" --batch 1 --seed 1 -q) || fail "sample exited $?"
+expect_contains "$out" "Jacobian at 1 point, 1 x 59;" "sample, a batch of one"
+
+echo "1/3 1/7" > "$work/one.txt"
+out=$("$pleat" certify "$fold" --box -3,3 --points "$work/one.txt" -q) || fail "certify --points exited $?"
+expect_contains "$out" "coefficient-block rows of the 1 region:" "certify --points, one region"
+echo "plurals: ok"
