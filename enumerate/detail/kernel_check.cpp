@@ -11,6 +11,8 @@
 #include <thread>
 
 #include "enumerate/detail/parallel_for.hpp"
+#include "enumerate/detail/worker_pool.hpp"
+#include "enumerate/detail/worker_thread.hpp"
 
 namespace pleat::detail {
 namespace {
@@ -564,10 +566,17 @@ std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check
     }
   };
   threads = static_cast<unsigned>(std::max<std::size_t>(1, std::min<std::size_t>(threads, patterns.size())));
-  std::vector<std::thread> pool;
-  for (unsigned t = 1; t < threads; ++t) pool.emplace_back(work, false);
-  work(true);
-  for (auto& thread : pool) thread.join();
+  // On the current worker pool's threads when there is one (a wake-up, not
+  // a thread start), else on threads started here; the caller reports.
+  if (WorkerPool* lent = current_worker_pool(); lent && threads > 1) {
+    const std::thread::id caller = std::this_thread::get_id();
+    lent->run(threads - 1, [&] { work(std::this_thread::get_id() == caller); });
+  } else {
+    std::vector<std::thread> pool;
+    for (unsigned t = 1; t < threads; ++t) pool.push_back(start_worker_thread([&] { work(false); }, t - 1));
+    work(true);
+    for (auto& thread : pool) thread.join();
+  }
   if (error) std::rethrow_exception(error);
   if (halt && stop.is_requested()) {
     stopped = true;
