@@ -11,6 +11,7 @@
 #include <flint/ulong_extras.h>
 
 #include <algorithm>
+#include <functional>
 #include <memory>
 #include <mutex>
 #include <utility>
@@ -186,39 +187,41 @@ void ModularRowBasis::check_row(const ModularVector& row, const char* where) con
     if (value >= prime_) throw usage_error(std::string(where) + ": entry is not a residue");
 }
 
-ModularVector ModularRowBasis::residual(const ModularVector& row) const {
-  // sum_i row[pivot_i] * (kept row i) on the free columns, accumulated
-  // exactly in 192 bits (a 128-bit sum and a count of its wrap-arounds) and
-  // reduced once at the end. Kept row i is 1 at its own pivot and 0 at the
-  // others, so subtracting this sum from row clears every pivot entry at once.
-  // Columns go kBlock at a time with their sums in registers, each block
-  // reading down the contributing rows (their parts stay in cache).
-  std::vector<std::uint64_t> factors;
-  std::vector<const std::uint64_t*> parts;
-  for (std::size_t i = 0; i < pivot_columns_.size(); ++i)
-    if (const std::uint64_t factor = row[pivot_columns_[i]]; factor != 0) {
-      factors.push_back(factor);
-      parts.push_back(free_parts_[i].data());
-    }
-  const std::size_t free_count = free_columns_.size();
-  ModularVector result(free_count);
-  // n_lll_mod_preinv wants the top word reduced mod p: wraps <= rank, and
-  // it is nonzero only when rank * (p-1)^2 >= 2^128, i.e. p >> rank.
+namespace {
+
+// out[q] = base(q) - sum_k factors[k] * parts[k][q] (mod p) for q < count,
+// each sum accumulated exactly in 192 bits (a 128-bit sum and a count of its
+// wrap-arounds) and reduced once at the end: no reduction per product.
+// Columns go kBlock at a time with their sums in registers, each block
+// reading down the contributing parts (they stay in cache). out may be the
+// storage base reads (each entry is read before it is written); no part may.
+template <typename Base>
+void subtract_combination(const std::vector<std::uint64_t>& factors, const std::vector<const std::uint64_t*>& parts,
+                          std::size_t count, Base base, std::uint64_t* out, std::uint64_t prime,
+                          std::uint64_t prime_inverse) {
+  // The three-word reduction inline (FLINT's NMOD_RED3 macro; the function
+  // n_lll_mod_preinv cost a third of add_rows' time where a sum has only a
+  // few products). It wants the top word below p: wraps <= the number of
+  // products, nonzero only when factors.size() * (p-1)^2 >= 2^128.
+  nmod_t mod;
+  mod.n = prime;
+  mod.ninv = prime_inverse;
+  mod.norm = static_cast<flint_bitcnt_t>(__builtin_clzll(prime));
   const auto subtract_sum = [&](std::size_t q, Wide sum, std::uint64_t wraps) {
-    const std::uint64_t value = row[free_columns_[q]];
-    const std::uint64_t subtrahend = n_lll_mod_preinv(wraps, static_cast<std::uint64_t>(sum >> 64),
-                                                      static_cast<std::uint64_t>(sum), prime_, prime_inverse_);
-    result[q] = value >= subtrahend ? value - subtrahend : value + (prime_ - subtrahend);
+    const std::uint64_t value = base(q);
+    std::uint64_t subtrahend;
+    NMOD_RED3(subtrahend, wraps, static_cast<std::uint64_t>(sum >> 64), static_cast<std::uint64_t>(sum), mod);
+    out[q] = value >= subtrahend ? value - subtrahend : value + (prime - subtrahend);
   };
   // Up to `run` products add up below 2^128 (16 for p < 2^62): a run of them
   // goes into a plain 128-bit partial sum, and only the partial sums are
   // checked for wrapping around. The sum is exact either way.
-  const Wide square = static_cast<Wide>(prime_ - 1) * (prime_ - 1);
+  const Wide square = static_cast<Wide>(prime - 1) * (prime - 1);
   const std::size_t run =
       square == 0 ? 16 : static_cast<std::size_t>(std::min<Wide>(16, std::max<Wide>(1, ~Wide{0} / square)));
   constexpr std::size_t kBlock = 4;
   std::size_t q = 0;
-  for (; q + kBlock <= free_count; q += kBlock) {
+  for (; q + kBlock <= count; q += kBlock) {
     Wide sums[kBlock] = {};
     std::uint64_t wraps[kBlock] = {};
     for (std::size_t first = 0; first < factors.size(); first += run) {
@@ -236,7 +239,7 @@ ModularVector ModularRowBasis::residual(const ModularVector& row) const {
     }
     for (std::size_t b = 0; b < kBlock; ++b) subtract_sum(q + b, sums[b], wraps[b]);
   }
-  for (; q < free_count; ++q) {
+  for (; q < count; ++q) {
     Wide sum = 0;
     std::uint64_t wraps = 0;
     for (std::size_t k = 0; k < factors.size(); ++k) {
@@ -246,6 +249,25 @@ ModularVector ModularRowBasis::residual(const ModularVector& row) const {
     }
     subtract_sum(q, sum, wraps);
   }
+}
+
+}  // namespace
+
+ModularVector ModularRowBasis::residual(const ModularVector& row) const {
+  // row minus sum_i row[pivot_i] * (kept row i) on the free columns: kept row
+  // i is 1 at its own pivot and 0 at the others, so this clears every pivot
+  // entry at once.
+  std::vector<std::uint64_t> factors;
+  std::vector<const std::uint64_t*> parts;
+  for (std::size_t i = 0; i < pivot_columns_.size(); ++i)
+    if (const std::uint64_t factor = row[pivot_columns_[i]]; factor != 0) {
+      factors.push_back(factor);
+      parts.push_back(free_parts_[i].data());
+    }
+  ModularVector result(free_columns_.size());
+  subtract_combination(
+      factors, parts, result.size(), [&](std::size_t q) { return row[free_columns_[q]]; }, result.data(), prime_,
+      prime_inverse_);
   return result;
 }
 
@@ -299,6 +321,98 @@ bool ModularRowBasis::passes_screen(const ModularVector& row) const {
 
 bool ModularRowBasis::add_row_screened(const ModularVector& row) {
   return !free_columns_.empty() && passes_screen(row) && add_row(row);
+}
+
+std::size_t ModularRowBasis::add_rows(const std::vector<ModularVector>& rows, std::size_t rank_limit,
+                                      std::vector<bool>& kept) {
+  kept.assign(rows.size(), false);
+  // The rows kept since the last fold, over the free columns as they were
+  // then: in reduced echelon form among themselves (1 at their own pivot
+  // position, 0 at the others') and 0 at every older pivot. The older kept
+  // rows are not yet cleared at these pivots: fold() does it for the whole
+  // block at once. A row's reduction modulo the span is unique, so this
+  // keeps exactly the rows, pivots and echelon form add_row would.
+  constexpr std::size_t kFold = 32;
+  std::vector<ModularVector> block;
+  std::vector<std::size_t> block_pivots;  // positions in free_columns_
+  const auto fold = [&] {
+    fold_block(block, block_pivots);
+    block.clear();
+    block_pivots.clear();
+  };
+  std::size_t considered = 0;
+  for (; considered < rows.size() && rank() + block.size() < std::min(rank_limit, columns_); ++considered) {
+    const ModularVector& row = rows[considered];
+    check_row(row, "ModularRowBasis::add_rows");
+    ModularVector reduced = residual(row);
+    // Then against the block: its rows are 0 at each other's pivots, so the
+    // factors are read off before any of them is subtracted.
+    std::vector<std::uint64_t> factors;
+    std::vector<const std::uint64_t*> parts;
+    for (std::size_t j = 0; j < block.size(); ++j)
+      if (const std::uint64_t factor = reduced[block_pivots[j]]; factor != 0) {
+        factors.push_back(factor);
+        parts.push_back(block[j].data());
+      }
+    if (!factors.empty())
+      subtract_combination(
+          factors, parts, reduced.size(), [&](std::size_t q) { return reduced[q]; }, reduced.data(), prime_,
+          prime_inverse_);
+    // The pivot: the nonzero entry at the smallest column.
+    std::size_t q = reduced.size();
+    for (std::size_t k = 0; k < reduced.size(); ++k)
+      if (reduced[k] != 0 && (q == reduced.size() || free_columns_[k] < free_columns_[q])) q = k;
+    if (q == reduced.size()) continue;
+    scale(reduced, n_invmod(reduced[q], prime_), prime_);
+    for (ModularVector& earlier : block)
+      if (earlier[q] != 0) subtract_multiple(earlier, reduced, earlier[q], prime_);
+    block.push_back(std::move(reduced));
+    block_pivots.push_back(q);
+    kept[considered] = true;
+    if (block.size() == kFold) fold();
+  }
+  fold();
+  return considered;
+}
+
+void ModularRowBasis::fold_block(std::vector<ModularVector>& block, const std::vector<std::size_t>& block_pivots) {
+  if (block.empty()) return;
+  // Clear the block's pivot positions from every older kept row: part -=
+  // sum_j part[pivot_j] * (block row j), one exact sum per entry.
+  std::vector<std::uint64_t> factors;
+  std::vector<const std::uint64_t*> parts;
+  for (ModularVector& part : free_parts_) {
+    factors.clear();
+    parts.clear();
+    for (std::size_t j = 0; j < block.size(); ++j)
+      if (const std::uint64_t factor = part[block_pivots[j]]; factor != 0) {
+        factors.push_back(factor);
+        parts.push_back(block[j].data());
+      }
+    if (!factors.empty())
+      subtract_combination(
+          factors, parts, part.size(), [&](std::size_t q) { return part[q]; }, part.data(), prime_,
+          prime_inverse_);
+  }
+  for (std::size_t j = 0; j < block.size(); ++j) {
+    pivot_columns_.push_back(free_columns_[block_pivots[j]]);
+    free_parts_.push_back(std::move(block[j]));
+  }
+  // Drop the pivot positions, highest first, so that the entry drop_entry
+  // moves into a dropped place is never one still to be dropped.
+  std::vector<std::size_t> dropped = block_pivots;
+  std::sort(dropped.begin(), dropped.end(), std::greater<>());
+  for (std::size_t q : dropped) {
+    drop_entry(free_columns_, q);
+    for (ModularVector& part : free_parts_) drop_entry(part, q);
+  }
+  // The screen: each kept row's product with c on the free columns.
+  screen_along_.resize(free_parts_.size());
+  for (std::size_t i = 0; i < free_parts_.size(); ++i) {
+    WideSum along;
+    for (std::size_t k = 0; k < free_columns_.size(); ++k) along.add(free_parts_[i][k], screen_random_[free_columns_[k]]);
+    screen_along_[i] = along.reduce(prime_, prime_inverse_);
+  }
 }
 
 ModularMatrix ModularRowBasis::rows() const {

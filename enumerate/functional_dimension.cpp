@@ -272,23 +272,56 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // stall, and the lines after it, are too). Stalls after `patience` points
   // without a rise in rank.
   std::set<ActivationPattern> seen_by_points;
-  // Adds the rows of a point's region the first time a point lands in it
+  // Adds the rows of each point's region the first time a point lands in it
   // (rows were computed in parallel for every smooth region not seen before
-  // its batch); keeps those that raise the rank. True when the rank rose.
-  auto keep_rows_of_point = [&](const PointRegion& point_region, const ModularMatrix& rows,
-                                const RationalVector& point) {
-    if (point_region.verdict != PointVerdict::smooth || !seen_by_points.insert(point_region.pattern).second)
-      return false;
-    KeptRows region{point_region.pattern, {}, {}};
-    for (std::size_t r = 0; r < rows.rows(); ++r)
-      if (ModularVector row = rows.row(r); basis.add_row_screened(row)) {
-        region.rows.push_back(r);
-        region.residues.push_back(std::move(row));
-      }
-    if (region.rows.empty()) return false;
-    kept.push_back(std::move(region));
-    result.witness_points.push_back(point);
-    return true;
+  // its batch), in point order, and keeps those that raise the rank, until
+  // the rank meets the bound: the points after that one are not counted.
+  // One call of add_rows for the batch (core/rank.hpp: the same rows kept as
+  // one add_row each, cheaper when most raise the rank, as here). Returns, for
+  // each point counted, whether its rows raised the rank.
+  auto keep_rows_of_points = [&](const std::vector<PointRegion>& point_regions, const std::vector<ModularMatrix>& rows,
+                                 const std::vector<RationalVector>& points) {
+    std::vector<ModularVector> candidates;
+    std::vector<std::size_t> owner;  // the point of each candidate row
+    std::vector<std::size_t> first_row(points.size() + 1, 0);
+    std::set<const ActivationPattern*, decltype([](const ActivationPattern* a, const ActivationPattern* b) {
+               return *a < *b;
+             })>
+        in_batch;
+    for (std::size_t i = 0; i < points.size(); ++i) {
+      first_row[i] = candidates.size();
+      const PointRegion& region = point_regions[i];
+      if (region.verdict == PointVerdict::smooth && !seen_by_points.contains(region.pattern) &&
+          in_batch.insert(&region.pattern).second)
+        for (std::size_t r = 0; r < rows[i].rows(); ++r) {
+          candidates.push_back(rows[i].row(r));
+          owner.push_back(i);
+        }
+    }
+    first_row[points.size()] = candidates.size();
+    std::vector<bool> rose;
+    if (basis.rank() >= result.scaling_bound) return rose;
+    std::vector<bool> kept_rows;
+    const std::size_t considered = basis.add_rows(candidates, result.scaling_bound, kept_rows);
+    // Stopped at the bound: the last row considered raised the rank to it,
+    // and its point is the last one counted.
+    const std::size_t counted = considered < candidates.size() ? owner[considered - 1] + 1 : points.size();
+    rose.assign(counted, false);
+    for (std::size_t i = 0; i < counted; ++i) {
+      const PointRegion& region = point_regions[i];
+      if (region.verdict != PointVerdict::smooth || !seen_by_points.insert(region.pattern).second) continue;
+      KeptRows kept_region{region.pattern, {}, {}};
+      for (std::size_t c = first_row[i]; c < first_row[i + 1]; ++c)
+        if (kept_rows[c]) {
+          kept_region.rows.push_back(c - first_row[i]);
+          kept_region.residues.push_back(std::move(candidates[c]));
+        }
+      if (kept_region.rows.empty()) continue;
+      kept.push_back(std::move(kept_region));
+      result.witness_points.push_back(points[i]);
+      rose[i] = true;
+    }
+    return rose;
   };
   // Set when the points gave up on the geometric forecast (ReachForecast):
   // the rank flattened far below the bound, so the lines are skipped too.
@@ -319,10 +352,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
         if (regions[i].verdict == PointVerdict::smooth && !seen_by_points.contains(regions[i].pattern))
           rows[i] = coefficient_blocks_mod(modular, regions[i].pattern);
       });
-      for (std::size_t i = 0; i < batch && basis.rank() < result.scaling_bound; ++i) {
+      for (const bool rose : keep_rows_of_points(regions, rows, points)) {
         ++result.points_drawn;
-        ++since_rise;
-        if (keep_rows_of_point(regions[i], rows[i], points[i])) since_rise = 0;
+        since_rise = rose ? 0 : since_rise + 1;
       }
       report("points", basis.rank(), result.scaling_bound);
       if (!forecast.reachable(basis.rank(), result.scaling_bound, result.points_drawn, budget, batch) &&
@@ -382,10 +414,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
           rows[i] = coefficient_blocks_mod(modular, regions[i].pattern);
       });
       const std::size_t rank_before = basis.rank();
-      for (std::size_t i = 0; i < points.size() && basis.rank() < result.scaling_bound; ++i) {
-        ++result.points_drawn;
-        keep_rows_of_point(regions[i], rows[i], points[i]);
-      }
+      result.points_drawn += keep_rows_of_points(regions, rows, points).size();
       lines += lines_per_batch;
       since_rise = basis.rank() > rank_before ? 0 : since_rise + lines_per_batch;
       report("lines", basis.rank(), result.scaling_bound);

@@ -543,6 +543,49 @@ TEST(ModularRowBasis, ScreenStopsTheSpanAndKeepsWhatAddRowKeeps) {
   }
 }
 
+// add_rows keeps exactly the rows add_row would, one by one, and leaves the
+// same basis (pivots in the same order, the same echelon rows, a screen that
+// stops the span), however the rows fall into its blocks of 16: fewer rows
+// than a block, several blocks, dependent rows among them, and a rank limit
+// that stops it part-way (the rows after it untouched). Rows go in calls of
+// random sizes after a few plain adds, as certify's points phase mixes them.
+TEST(ModularRowBasis, AddRowsKeepsWhatAddRowKeeps) {
+  std::mt19937_64 random(71);
+  for (std::uint64_t prime : {primary_prime(), std::uint64_t{1000003}}) {
+    for (int trial = 0; trial < 8; ++trial) {
+      const std::size_t cols = 30 + random() % 60, inner = 10 + random() % 40, rows = inner + 20;
+      const ModularMatrix image = *reduce_modulo(random_product(random, rows, inner, cols), prime);
+      const std::size_t limit = trial % 3 == 2 ? inner - 3 : cols;
+      ModularRowBasis plain(prime, cols), blocked(prime, cols);
+      std::size_t r = 0;
+      for (; r < 3; ++r) {
+        plain.add_row(image.row(r));
+        blocked.add_row(image.row(r));
+      }
+      while (r < rows) {
+        const std::size_t count = std::min<std::size_t>(rows - r, 1 + random() % 40);
+        std::vector<ModularVector> chunk;
+        for (std::size_t k = 0; k < count; ++k) chunk.push_back(image.row(r + k));
+        std::vector<bool> kept;
+        const std::size_t considered = blocked.add_rows(chunk, limit, kept);
+        ASSERT_EQ(kept.size(), count);
+        std::size_t k = 0;
+        for (; k < count && plain.rank() < limit; ++k)
+          EXPECT_EQ(kept[k], plain.add_row(image.row(r + k))) << "row " << r + k;
+        ASSERT_EQ(considered, k);
+        for (; k < count; ++k) EXPECT_FALSE(kept[k]);
+        ASSERT_EQ(blocked.rank(), plain.rank());
+        ASSERT_EQ(blocked.pivot_columns(), plain.pivot_columns());
+        ASSERT_EQ(blocked.rows(), plain.rows());
+        for (std::size_t s = 0; s < r + considered; ++s) EXPECT_FALSE(blocked.passes_screen(image.row(s)));
+        if (considered < count) break;
+        r += count;
+      }
+      EXPECT_EQ(blocked.rank(), std::min(inner, limit));
+    }
+  }
+}
+
 // Rational reconstruction recovers a known matrix once the product of the
 // primes exceeds 2 N D (one 62-bit prime is not enough for entries near
 // 2^40 / 2^30; three are), and not from too few primes.
