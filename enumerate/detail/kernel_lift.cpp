@@ -242,8 +242,8 @@ bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
   const std::uint64_t inverse_of_first =
       two_words ? n_invmod(lift.system_primes[0] % lift.system_primes[1], lift.system_primes[1]) : 0;
   FmpzMatrix square(n, n), right(n, count);
-  fmpz_t value;
-  fmpz_init(value);
+  FmpzValue entry;  // cleared also when poll_stop throws in the loop below
+  fmpz* value = entry.get();
   // More primes: FLINT's multi-modular reconstruction with its tables built
   // once for these primes (fmpz_CRT_ui per entry and prime cost about half
   // the exact solve on 2,15,15,15,15,15,1, three primes); a zero entry (most
@@ -286,7 +286,6 @@ bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
         fmpz_neg(right.entry(i, m - n), value);
     }
   }
-  fmpz_clear(value);
   poll_stop();
   RationalMatrix rows(count, n);
   // Beyond tiny systems, p-adic lifting (padic_solve.hpp: on the systems of
