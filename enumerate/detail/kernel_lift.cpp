@@ -2,6 +2,7 @@
 
 #include "core/detail/flint_matrix.hpp"
 #include "core/jacobian.hpp"
+#include "enumerate/detail/always_active_rows.hpp"
 #include "enumerate/detail/padic_solve.hpp"
 #include "enumerate/detail/parallel_for.hpp"
 
@@ -356,6 +357,25 @@ std::vector<RowLift> row_groups(const ModularMatrix& image, const std::vector<st
   return alone;
 }
 
+// The rows worth sparing the check, costliest first: those with at least
+// 8 entries, by entries times their largest entry's bits (the check's work
+// grows with both: terms, and primes for their size).
+std::vector<std::size_t> rows_by_check_cost(const SparseRationalRows& candidate) {
+  std::vector<std::pair<std::size_t, std::size_t>> costs;  // (cost, row)
+  for (std::size_t r = 0; r < candidate.rows.size(); ++r) {
+    const SparseRow& row = candidate.rows[r];
+    if (row.size() < 8) continue;
+    std::size_t bits = 1;
+    for (const auto& [c, value] : row)
+      bits = std::max(bits, mpz_sizeinbase(value.get_num_mpz_t(), 2) + mpz_sizeinbase(value.get_den_mpz_t(), 2));
+    costs.emplace_back(row.size() * bits, r);
+  }
+  std::sort(costs.begin(), costs.end(), [](const auto& a, const auto& b) { return a.first > b.first; });
+  std::vector<std::size_t> rows;
+  for (const auto& cost : costs) rows.push_back(cost.second);
+  return rows;
+}
+
 }  // namespace
 
 std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
@@ -499,7 +519,14 @@ std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere) {
   auto is_proved = [&](const SparseRationalRows& candidate) {
     if (prove_elsewhere) return prove_elsewhere(candidate.dense(), stopped) && !stopped;
-    const AnnihilationCheck check(network, candidate, check_scale, threads);
+    // Rows proved from neurons on in every region, given the others: only
+    // the others are checked region by region.
+    const std::vector<char> spared =
+        rows_proved_by_always_active(network, smooth, candidate, rows_by_check_cost(candidate));
+    SparseRationalRows checked{candidate.cols, {}};
+    for (std::size_t r = 0; r < candidate.rows.size(); ++r)
+      if (!spared[r]) checked.rows.push_back(candidate.rows[r]);
+    const AnnihilationCheck check(network, checked, check_scale, threads);
     return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress) && !stopped;
   };
   const std::vector<std::size_t> leading = echelon_shape(first_image);
