@@ -3,6 +3,7 @@
 #include "enumerate/detail/worker_thread.hpp"
 
 #include <chrono>
+#include <exception>
 
 namespace pleat::detail {
 namespace {
@@ -47,12 +48,18 @@ void WorkerPool::run(unsigned helpers, const std::function<void()>& job) {
     generation_.fetch_add(1);
   }
   wake_.notify_all();
-  job();
+  std::exception_ptr error;
+  try {
+    job();
+  } catch (...) {  // closed and waited for all the same: the helpers hold a reference to job
+    error = std::current_exception();
+  }
   std::unique_lock lock(mutex_);
   job_ = nullptr;  // closed: no helper joins from now on
   wanted_ = 0;
   finished_.wait(lock, [&] { return running_ == 0; });
   busy_ = false;
+  if (error) std::rethrow_exception(error);
 }
 
 void WorkerPool::rest() { is_resting_.store(true); }

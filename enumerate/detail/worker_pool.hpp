@@ -32,8 +32,10 @@ class WorkerPool {
   // returned from it. Helpers that come late (after the caller's own job()
   // returned) do not run it, so the caller never waits for a helper to
   // start: job must split its work dynamically (each call takes what is
-  // left; parallel_for). job must not throw. When the pool is busy with
-  // another caller's job, job() runs on the calling thread alone.
+  // left; parallel_for). job must not throw on a helper; on the calling
+  // thread its exception is rethrown once the helpers have left. When the
+  // pool is busy with another caller's job, job() runs on the calling thread
+  // alone.
   void run(unsigned helpers, const std::function<void()>& job);
 
   // While other threads take the processors (certify's walk): helpers sleep

@@ -81,6 +81,31 @@ TEST(WorkerPool, ARestingPoolStillRunsJobsOnItsHelpers) {
   EXPECT_FALSE(pool.is_resting());
 }
 
+// An exception from the caller's own job comes out of run only once the
+// helpers in it have left (they hold a reference to the job), and the pool
+// serves the next job.
+TEST(WorkerPool, TheCallersExceptionLeavesAfterTheHelpers) {
+  detail::WorkerPool pool(1);
+  const std::thread::id caller = std::this_thread::get_id();
+  std::atomic<bool> helper_inside{false}, helper_left{false};
+  EXPECT_THROW(pool.run(1,
+                        [&] {
+                          if (std::this_thread::get_id() != caller) {
+                            helper_inside = true;
+                            std::this_thread::sleep_for(std::chrono::milliseconds(20));
+                            helper_left = true;
+                            return;
+                          }
+                          const auto give_up = std::chrono::steady_clock::now() + std::chrono::seconds(10);
+                          while (!helper_inside && std::chrono::steady_clock::now() < give_up) std::this_thread::yield();
+                          throw std::runtime_error("caller");
+                        }),
+               std::runtime_error);
+  EXPECT_TRUE(helper_inside.load());
+  EXPECT_TRUE(helper_left.load());
+  EXPECT_EQ(threads_meeting_in(pool, 1, 2).size(), 2u);
+}
+
 TEST(WorkerPool, AJobOfferedToABusyPoolRunsOnItsCaller) {
   detail::WorkerPool pool(1);
   std::atomic<int> inner_runs{0};
