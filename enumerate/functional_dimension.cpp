@@ -208,6 +208,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   };
   const unsigned threads =
       options.walk.threads ? options.walk.threads : std::max(1u, std::thread::hardware_concurrency());
+  const detail::LoopThreads loop_threads(threads);  // every parallel loop's threads below, started once
 
   // Points first: rows of the regions that exact interior points land in.
   // Batches are drawn in order and their patterns decided in parallel, then

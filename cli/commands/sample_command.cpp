@@ -103,7 +103,11 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
   if (certified.certified) {
     out << "certified value       " << *certified.functional_dimension << "  (exact, every region of the domain)\n";
   } else {
-    out << "certified value       none: the walk stopped early; proved bounds [" << certified.lower_bound << ", "
+    // The stop may fall after a whole walk, in the proof of the kernel.
+    const std::string why = certified.stop_reason == StopReason::none ? "the walk could not be certified"
+                            : certified.walk_complete ? "stopped after the walk (" + to_string(certified.stop_reason) + ")"
+                                                      : "the walk stopped early (" + to_string(certified.stop_reason) + ")";
+    out << "certified value       none: " << why << "; proved bounds [" << certified.lower_bound << ", "
         << certified.upper_bound << "]\n";
   }
   out << "verdict               ";

@@ -11,6 +11,8 @@
 #include <thread>
 
 #include "enumerate/detail/parallel_for.hpp"
+#include "enumerate/detail/worker_pool.hpp"
+#include "enumerate/detail/worker_thread.hpp"
 
 namespace pleat::detail {
 namespace {
@@ -308,6 +310,23 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
       for (std::size_t j = 0; j < layer.fan_in(); ++j) columns_.push_back({k, i, j});
     for (std::size_t i = 0; i < layer.width(); ++i) columns_.push_back({k, i, ColumnRole::bias});
   }
+  // The first ReLU neuron of each layer (none_ for a layer without ReLU),
+  // and each vector's terms' neurons.
+  std::vector<std::size_t> first_neuron(network.depth(), none_);
+  for (std::size_t k = 0, neuron = 0; k < network.depth(); ++k)
+    if (k + 1 < network.depth() || network.has_output_relu()) {
+      first_neuron[k] = neuron;
+      neuron += network.layers[k].width();
+    }
+  term_neurons_.resize(vector_count_);
+  for (std::size_t v = 0; v < vector_count_; ++v)
+    for (const auto& [c, value] : vectors.rows[v]) {
+      const ColumnRole& role = columns_[c];
+      const std::size_t own = first_neuron[role.layer] == none_ ? none_ : first_neuron[role.layer] + role.neuron;
+      const std::size_t input =
+          role.input == ColumnRole::bias || role.layer == 0 ? none_ : first_neuron[role.layer - 1] + role.input;
+      term_neurons_[v].push_back({own, input});
+    }
   const std::vector<Integer>& bounds = check_scale.scaled_bounds;
   std::vector<std::vector<std::pair<std::size_t, Integer>>> integer_rows(vector_count_);
   // Each vector's bound L^(d-1) sum_c B_c |e_c|: primes until their product exceeds it.
@@ -361,12 +380,13 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
         if (role.input != ColumnRole::bias) modulus.forward_to = std::max(modulus.forward_to, role.layer);
         modulus.backward_to = std::min(modulus.backward_to, role.layer);
         sparse.push_back(
-            {role, network.layers[role.layer].width(), residue, n_mulmod_precomp_shoup(residue, prime)});
+            {role, network.layers[role.layer].width(), residue, n_mulmod_precomp_shoup(residue, prime), v});
       }
       if (sparse.size() == 1) {
         modulus.units.push_back(sparse.front());
       } else if (!sparse.empty()) {
         RunVector runs;
+        runs.vector = v;
         for (const Entry& entry : sparse) {
           const ColumnRole& role = entry.role;
           if (runs.runs.empty() || runs.runs.back().layer != role.layer || runs.runs.back().neuron != role.neuron)
@@ -439,7 +459,21 @@ bool annihilates_rows(const Entry& unit, const RegionFactors& factors, std::size
 
 }  // namespace
 
+bool AnnihilationCheck::has_live_term(std::size_t v, const ActivationPattern& pattern) const {
+  for (const TermNeurons& term : term_neurons_[v])
+    if ((term.own == none_ || pattern.is_on(term.own)) && (term.input == none_ || pattern.is_on(term.input)))
+      return true;
+  return false;
+}
+
 bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
+  // The vectors with a term on the pattern: the others annihilate its rows
+  // term by term (has_live_term), for every prime.
+  thread_local std::vector<char> live;
+  live.assign(vector_count_, 0);
+  bool any_live = false;
+  for (std::size_t v = 0; v < vector_count_; ++v) any_live |= (live[v] = has_live_term(v, pattern) ? 1 : 0) != 0;
+  if (!any_live) return true;
   // This thread's factors for each prime, with the pattern they were
   // computed for (reset for another check).
   struct Reuse {
@@ -456,7 +490,12 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
   for (std::size_t m = 0; m < moduli_.size(); ++m) {
     const Modulus& modulus = moduli_[m];
     poll_stop();
-    if (modulus.vectors.empty() && modulus.units.empty()) continue;
+    // A prime whose vectors all have no term on the pattern costs nothing
+    // (its layer inputs stay those of the last pattern it checked).
+    const bool checks_some =
+        std::any_of(modulus.vectors.begin(), modulus.vectors.end(), [&](const RunVector& v) { return live[v.vector]; }) ||
+        std::any_of(modulus.units.begin(), modulus.units.end(), [&](const Entry& u) { return live[u.vector]; });
+    if (!checks_some) continue;
     const nmod_t& mod = modulus.mod;
     RegionFactors& factors = reuse.factors[m];
     std::vector<NeuronState>& last = reuse.patterns[m];
@@ -475,10 +514,10 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
     const std::size_t n0 = modulus.network.input_dim;
     for (std::size_t o = 0; o < nd; ++o) {
       for (const Entry& unit : modulus.units)
-        if (!annihilates_rows(unit, factors, n0, o)) return false;
+        if (live[unit.vector] && !annihilates_rows(unit, factors, n0, o)) return false;
       const bool vectors_pass = with_input_count(n0, [&]<std::size_t Inputs>() {
         for (const auto& vector : modulus.vectors)
-          if (!annihilates_rows<Inputs>(vector, factors, modulus.network, o, mod)) return false;
+          if (live[vector.vector] && !annihilates_rows<Inputs>(vector, factors, modulus.network, o, mod)) return false;
         return true;
       });
       if (!vectors_pass) return false;
@@ -527,10 +566,17 @@ std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check
     }
   };
   threads = static_cast<unsigned>(std::max<std::size_t>(1, std::min<std::size_t>(threads, patterns.size())));
-  std::vector<std::thread> pool;
-  for (unsigned t = 1; t < threads; ++t) pool.emplace_back(work, false);
-  work(true);
-  for (auto& thread : pool) thread.join();
+  // On the current worker pool's threads when there is one (a wake-up, not
+  // a thread start), else on threads started here; the caller reports.
+  if (WorkerPool* lent = current_worker_pool(); lent && threads > 1) {
+    const std::thread::id caller = std::this_thread::get_id();
+    lent->run(threads - 1, [&] { work(std::this_thread::get_id() == caller); });
+  } else {
+    std::vector<std::thread> pool;
+    for (unsigned t = 1; t < threads; ++t) pool.push_back(start_worker_thread([&] { work(false); }, t - 1));
+    work(true);
+    for (auto& thread : pool) thread.join();
+  }
   if (error) std::rethrow_exception(error);
   if (halt && stop.is_requested()) {
     stopped = true;

@@ -105,6 +105,7 @@ class AnnihilationCheck {
     ColumnRole role;
     std::size_t width;  // of the role's layer: G_k is nd x width
     std::uint64_t value, shoup;
+    std::size_t vector;  // its index among the check's vectors
   };
   // A vector with several entries modulo a prime: its terms in parameter
   // order, in runs of one neuron's parameters (a run's weights, or its
@@ -120,7 +121,21 @@ class AnnihilationCheck {
   struct RunVector {
     std::vector<NeuronRun> runs;
     std::vector<Term> terms;
+    std::size_t vector = 0;  // its index among the check's vectors
   };
+  // The ReLU neurons a vector's term at W_k[i,j] or b_k[i] goes through:
+  // `own` (neuron i of layer k) and `input` (neuron j of layer k - 1);
+  // none_ where there is none (a layer without ReLU, the network's input, a
+  // bias). On a pattern where either is not on, every coefficient-block
+  // entry in that column is 0 exactly: G_k[o,i] = 0, or x_k[j] = 0.
+  static constexpr std::size_t none_ = static_cast<std::size_t>(-1);
+  struct TermNeurons {
+    std::size_t own, input;
+  };
+  // Whether some term of vector v has both its neurons on the pattern: else
+  // the vector's products with the pattern's rows are 0 term by term, with
+  // no arithmetic (a dead neuron's directions, most unit vectors).
+  bool has_live_term(std::size_t v, const ActivationPattern& pattern) const;
   struct Modulus {
     ModularNetwork network;
     nmod_t mod{};  // FLINT's nmod_init(network.prime), once
@@ -141,6 +156,7 @@ class AnnihilationCheck {
   // next (a pattern that agrees with the last one on its first layers
   // shares their inputs).
   std::vector<std::size_t> neuron_layer_;
+  std::vector<std::vector<TermNeurons>> term_neurons_;  // of each vector
   std::uint64_t id_ = 0;
 };
 

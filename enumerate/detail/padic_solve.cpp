@@ -232,9 +232,7 @@ std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, c
   std::vector<std::uint64_t> digit(n);
   std::vector<Integer> numerators;
   Integer denominator;
-  fmpz_t product, scratch;
-  fmpz_init(product);
-  fmpz_init(scratch);
+  FmpzValue product, scratch;  // cleared also when poll_stop throws
   Integer product_value;
   std::size_t open = m, digits_so_far = 0;
   for (std::size_t extra = 0; open > 0 && extra < 2;) {
@@ -259,8 +257,8 @@ std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, c
       }
       // residual = (residual - A digit) / p, exactly.
       for (std::size_t i = 0; i < n; ++i) {
-        words.row_times(i, digit.data(), product, scratch);
-        fmpz_get_mpz(product_value.get_mpz_t(), product);
+        words.row_times(i, digit.data(), product.get(), scratch.get());
+        fmpz_get_mpz(product_value.get_mpz_t(), product.get());
         column.residual[i] -= product_value;
         mpz_divexact_ui(column.residual[i].get_mpz_t(), column.residual[i].get_mpz_t(), prime);
       }
@@ -295,8 +293,6 @@ std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, c
       column.has_candidate = true;
     }
   }
-  fmpz_clear(scratch);
-  fmpz_clear(product);
   if (open > 0) return std::nullopt;
   return solution;
 }

@@ -6,9 +6,25 @@
 #include "core/detail/flint_matrix.hpp"
 #include "core/matrix.hpp"
 
+#include <flint/fmpz.h>
+
 #include <optional>
 
 namespace pleat::detail {
+
+// One FLINT integer, cleared when its scope ends, also when a stop request
+// (poll_stop) throws out of a loop that uses it.
+class FmpzValue {
+ public:
+  FmpzValue() { fmpz_init(value_); }
+  ~FmpzValue() { fmpz_clear(value_); }
+  FmpzValue(const FmpzValue&) = delete;
+  FmpzValue& operator=(const FmpzValue&) = delete;
+  fmpz* get() { return value_; }
+
+ private:
+  fmpz_t value_;
+};
 
 // X with A X = B over Q (A n x n, B n x m, integers), by Dixon's p-adic
 // lifting: one LU of A modulo a word prime p, then X's p-adic digits one at

@@ -1,6 +1,7 @@
 #include "enumerate/detail/parallel_for.hpp"
 
 #include "core/stop.hpp"
+#include "enumerate/detail/worker_pool.hpp"
 #include "enumerate/detail/worker_thread.hpp"
 
 #include <algorithm>
@@ -30,11 +31,25 @@ void parallel_for(std::size_t count, unsigned threads, const std::function<void(
     }
   };
   threads = static_cast<unsigned>(std::max<std::size_t>(1, std::min<std::size_t>(threads, count)));
+  if (WorkerPool* lent = current_worker_pool(); lent && threads > 1) {
+    lent->run(threads - 1, run);
+    if (error) std::rethrow_exception(error);
+    return;
+  }
   std::vector<std::thread> pool;
   for (unsigned t = 1; t < threads; ++t) pool.push_back(start_worker_thread(run, t - 1));
   run();
   for (auto& thread : pool) thread.join();
   if (error) std::rethrow_exception(error);
+}
+
+LoopThreads::LoopThreads(unsigned threads)
+    : pool_(threads > 1 ? std::make_unique<WorkerPool>(threads - 1) : nullptr),
+      scope_(pool_ ? std::make_unique<WorkerPoolScope>(pool_.get()) : nullptr) {}
+
+LoopThreads::~LoopThreads() {
+  scope_.reset();  // the scope before the pool it lends
+  pool_.reset();
 }
 
 }  // namespace pleat::detail

@@ -263,6 +263,44 @@ TEST(KernelCheck, VectorsInOneLayerNameTheExactProductsFirstRegion) {
   EXPECT_GT(rejected, 40u);
 }
 
+// A vector whose every term goes through a neuron that is not on (its own
+// neuron, or the neuron its weight reads) passes a pattern without
+// arithmetic (AnnihilationCheck::has_live_term); the others are decided
+// modulo primes. On every smooth pattern, one at a time, the check answers
+// as exact products with coefficient_blocks do, for pairs of columns (a
+// weight and the next column: same neuron or the next one, often one dead
+// on the pattern and one not) with small and with large values (later
+// primes), on a network with two outputs and one with a ReLU on its
+// output; some answers are each way.
+TEST(KernelCheck, VectorsThroughNeuronsThatAreOffPassOnlyWhereTheProductsVanish) {
+  std::vector<Network> networks = {random_network({2, 4, 3, 3, 1}, 31), random_network({2, 3, 3, 2}, 14)};
+  networks.push_back(read_network_file(PLEAT_SOURCE_DIR "/tests/data/output_relu2d.json"));
+  std::size_t passed = 0, rejected = 0;
+  for (const Network& network : networks) {
+    const WalkState state = walk_state(network);
+    const detail::CheckScale scale(network);
+    const std::size_t columns = network.parametric_dimension();
+    std::vector<RationalMatrix> blocks;
+    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    for (std::size_t c = 0; c + 1 < columns; c += 2)
+      for (const Rational& large : {Rational(1), Rational(Integer("1") << 300, 7)}) {
+        RationalMatrix vectors(1, columns);
+        vectors(0, c) = large;
+        vectors(0, c + 1) = Rational(-2, 3);
+        const detail::AnnihilationCheck check(network, vectors, scale);
+        for (std::size_t p = 0; p < state.smooth.size(); ++p) {
+          bool vanishes = true;
+          for (std::size_t r = 0; r < blocks[p].rows() && vanishes; ++r)
+            vanishes = blocks[p](r, c) * vectors(0, c) + blocks[p](r, c + 1) * vectors(0, c + 1) == 0;
+          EXPECT_EQ(check.annihilates(state.smooth[p]), vanishes) << "column " << c << " pattern " << p;
+          (vanishes ? passed : rejected) += 1;
+        }
+      }
+  }
+  EXPECT_GT(passed, 100u);
+  EXPECT_GT(rejected, 100u);
+}
+
 // The premises of the check's bound (detail::CheckScale): on every smooth
 // region of networks with decimal and sevenths' denominators, L^(d-1) times
 // every coefficient-block entry is an integer and |entry| <= B_c, and the

@@ -1,0 +1,97 @@
+// Rows of certify's extra directions proved from neurons on in every region
+// (enumerate/detail/always_active_rows.hpp). On the benchmark network
+// 2,15,15,15,15,1 (seed 1: neurons on in every region in two layers, and
+// dense extra directions with entries of hundreds of bits), some rows are
+// proved that way; each of them does annihilate every smooth region (the
+// check, a different method, on those rows alone); the same rows changed in
+// one entry are never proved; and a network with no such neurons proves none.
+#include "enumerate/detail/always_active_rows.hpp"
+
+#include "core/random_network.hpp"
+#include "enumerate/domain.hpp"
+#include "enumerate/functional_dimension.hpp"
+#include "enumerate/walker.hpp"
+
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <vector>
+
+namespace pleat::detail {
+namespace {
+
+struct Certified {
+  std::vector<ActivationPattern> smooth;
+  SparseRationalRows extra;
+};
+
+// The certified extra directions (the rows after the scaling ones in the
+// kept kernel) and every smooth pattern.
+Certified certified(const Network& network) {
+  FunctionalDimensionOptions options;
+  options.walk.threads = 1;
+  options.keep_kernel = true;
+  const FunctionalDimensionResult result =
+      certify_functional_dimension(network, make_whole_space(network.input_dim), options);
+  EXPECT_TRUE(result.certified);
+  Certified out;
+  RationalMatrix extra(0, result.kernel.cols());
+  for (std::size_t r = result.kernel.rows() - result.extra_kernel.size(); r < result.kernel.rows(); ++r)
+    extra.append_row(result.kernel.row(r));
+  out.extra = SparseRationalRows::from_dense(extra);
+  WalkOptions walk;
+  walk.threads = 1;
+  walk.on_region = [&](const Region& region) {
+    if (region.nonsmooth_neurons.empty()) out.smooth.push_back(region.pattern);
+    return true;
+  };
+  EXPECT_TRUE(walk_regions(network, make_whole_space(network.input_dim), walk).complete);
+  return out;
+}
+
+std::vector<std::size_t> rows_with_at_least(const SparseRationalRows& rows, std::size_t entries) {
+  std::vector<std::size_t> out;
+  for (std::size_t r = 0; r < rows.rows.size(); ++r)
+    if (rows.rows[r].size() >= entries) out.push_back(r);
+  return out;
+}
+
+TEST(AlwaysActiveRows, ProvedRowsAnnihilateEveryRegionAndChangedRowsAreNotProved) {
+  const Network network = random_network({2, 15, 15, 15, 15, 1}, 1);
+  const Certified state = certified(network);
+  const std::vector<std::size_t> heavy = rows_with_at_least(state.extra, 8);
+  const std::vector<char> proved = rows_proved_by_always_active(network, state.smooth, state.extra, heavy);
+  SparseRationalRows proved_rows{state.extra.cols, {}};
+  for (std::size_t r = 0; r < proved.size(); ++r) {
+    if (!proved[r]) continue;
+    EXPECT_NE(std::find(heavy.begin(), heavy.end(), r), heavy.end()) << "row " << r << " was not offered";
+    proved_rows.rows.push_back(state.extra.rows[r]);
+  }
+  ASSERT_GE(proved_rows.rows.size(), 1u);
+  const CheckScale scale(network);
+  const AnnihilationCheck check(network, proved_rows, scale);
+  for (const ActivationPattern& pattern : state.smooth) ASSERT_TRUE(check.annihilates(pattern));
+  // Each proved row changed in one entry (its last): not proved.
+  for (std::size_t r = 0; r < proved.size(); ++r) {
+    if (!proved[r]) continue;
+    SparseRationalRows changed = state.extra;
+    changed.rows[r].back().second += Rational(1, 3);
+    EXPECT_FALSE(rows_proved_by_always_active(network, state.smooth, changed, heavy)[r]) << "row " << r;
+  }
+}
+
+TEST(AlwaysActiveRows, NoNeuronOnInEveryRegionProvesNothing) {
+  const Network network = random_network({2, 4, 3, 1}, 11);
+  const Certified state = certified(network);
+  std::vector<std::size_t> all(state.extra.rows.size());
+  for (std::size_t r = 0; r < all.size(); ++r) all[r] = r;
+  // A pattern with every neuron off joins the smooth ones: no neuron is on
+  // in all of them.
+  std::vector<ActivationPattern> with_all_off = state.smooth;
+  with_all_off.push_back(ActivationPattern{std::vector<NeuronState>(network.relu_neuron_count(), NeuronState::off)});
+  const std::vector<char> proved = rows_proved_by_always_active(network, with_all_off, state.extra, all);
+  EXPECT_EQ(std::count(proved.begin(), proved.end(), 1), 0);
+}
+
+}  // namespace
+}  // namespace pleat::detail
