@@ -72,9 +72,12 @@ class Exporter {
                         " is beyond the float64 range");
     const double stored = nearest_double(value);
     if (rational_from_double(stored) != value) {
+      // The stored double exactly (a dyadic rational), then a decimal view:
+      // "%.17g" alone printed 6/5 as "stored as 1.2", which it is not.
       char text[64];
       std::snprintf(text, sizeof text, "%.17g", stored);
-      rounded.push_back(network_.parameter_name(parameter) + " = " + format_rational(value) + " stored as " + text);
+      rounded.push_back(network_.parameter_name(parameter) + " = " + format_rational(value) + " stored as " +
+                        format_rational(rational_from_double(stored)) + " (\u2248 " + text + ")");
     }
     return stored;
   }

@@ -59,7 +59,8 @@ Network read_onnx_file(const std::filesystem::path& path);
 struct OnnxExport {
   std::string bytes;  // the serialized ModelProto
   // One line per parameter float64 cannot hold exactly, rounded to nearest
-  // (ties to even): "W1[0,2] = 1/3 stored as 0.3333333333333333". Empty when
+  // (ties to even), the stored double exactly, then in decimals: "W1[0,2] =
+  // 1/3 stored as 6004799503160661/18014398509481984 (≈ 0.33333333333333331)". Empty when
   // the export is exact, and then read back it gives the same network.
   std::vector<std::string> rounded_parameters;
 };

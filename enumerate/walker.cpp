@@ -9,6 +9,7 @@
 #include "enumerate/detail/walk_adjacency.hpp"
 #include "enumerate/detail/walk_helpers.hpp"
 #include "enumerate/detail/walk_pipeline.hpp"
+#include "enumerate/detail/worker_pool.hpp"
 #include "enumerate/pattern_cell.hpp"
 
 #include <algorithm>
@@ -151,6 +152,7 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   const auto started = clock::now();
   auto elapsed = [&] { return std::chrono::duration<double>(clock::now() - started).count(); };
   const unsigned threads = options.threads ? options.threads : std::max(1u, std::thread::hardware_concurrency());
+  const detail::RestingWorkerPool resting;  // certify's loop helpers sleep while the walk's threads run
   // The in-pool walk's other threads start first, so that their start-up
   // overlaps the set-up below (detail::WalkPipeline::start).
   std::optional<detail::WalkPipeline> in_pool;

@@ -590,6 +590,8 @@ void register_draw(CommandTable& commands) {
                      "short (a neighbour it names is missing) is refused");
   add_domain_options(command, arguments->domain);
   add_walk_limit_options(command, arguments->limits, "Worker threads for the walk (default: all cores)");
+  // A saved walk is drawn without walking: --threads would be ignored.
+  command.get_option("--threads")->excludes("--from");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }
 

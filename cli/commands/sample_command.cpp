@@ -103,7 +103,11 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
   if (certified.certified) {
     out << "certified value       " << *certified.functional_dimension << "  (exact, every region of the domain)\n";
   } else {
-    out << "certified value       none: the walk stopped early; proved bounds [" << certified.lower_bound << ", "
+    // The stop may fall after a whole walk, in the proof of the kernel.
+    const std::string why = certified.stop_reason == StopReason::none ? "the walk could not be certified"
+                            : certified.walk_complete ? "stopped after the walk (" + to_string(certified.stop_reason) + ")"
+                                                      : "the walk stopped early (" + to_string(certified.stop_reason) + ")";
+    out << "certified value       none: " << why << "; proved bounds [" << certified.lower_bound << ", "
         << certified.upper_bound << "]\n";
   }
   out << "verdict               ";
@@ -119,7 +123,8 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
   out << "\n";
   out << "first batch reaching  "
       << (result.first_batch_reaching ? count_of(*result.first_batch_reaching, "point")
-                                      : std::string("none within the batch"))
+          : certified.certified       ? std::string("none within the batch")
+                                      : std::string("not known (no certified value to reach)"))
       << "\n";
   out << "The sample touched " << result.regions_touched << " of " << (certified.walk_complete ? "the " : "") << total
       << (total_count == 1 ? " region that exists" : " regions that exist") << " on this domain.\n"
@@ -196,7 +201,8 @@ constexpr const char* sample_help =
     "                       because of rounding;\n"
     "  first batch reaching the smallest m <= K whose first m points already give the\n"
     "                       certified rank (binary search over prefixes; rank only grows\n"
-    "                       with m, up to rounding). none: K points were not enough.\n"
+    "                       with m, up to rounding). none: K points were not enough;\n"
+    "                       not known when the run was cut short (no certified value).\n"
     "Points: --dist normal draws each coordinate from N(0,1) and is judged against\n"
     "R^n0; --dist box:LO,HI draws uniformly from the open box (LO,HI)^n0 (or\n"
     "box:L1,H1,L2,H2,... per axis) and is judged against that box. The stream is\n"

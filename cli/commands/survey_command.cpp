@@ -521,17 +521,36 @@ void register_survey(CommandTable& commands) {
   arguments->summary_command = command.add_subcommand("summary", "Summarise survey files (one row per file)");
   arguments->summary_command->add_option("files", arguments->inputs, "Survey files (pleat-survey/1)")->required();
   arguments->summary_command->add_flag("--json", arguments->json, "Print the summary as JSON");
+  // Each subcommand says what it does; CLI11 would repeat the survey's own text.
+  arguments->summary_command->footer(
+      "One file: the samples present and missing, the histogram of the certified values,\n"
+      "their exact mean, variance (n-1) and modes, how many are at the scaling bound, and\n"
+      "each sample cut short with its bounds. Several files: one row per file (decimals;\n"
+      "--json gives pleat-survey-grid/1, the files' pleat-survey-summary/1 in 'surveys').\n\n"
+      "Examples:\n  pleat survey summary survey.jsonl --json\n  pleat survey summary grid-*.jsonl");
 
   arguments->plot_command = command.add_subcommand("plot", "Draw a survey's histogram as SVG or CSV");
   arguments->plot_command->add_option("file", arguments->inputs, "Survey file (pleat-survey/1)")
       ->required()
       ->expected(1);
   arguments->plot_command->add_option("--out", arguments->plot_path, "hist.svg or hist.csv")->required();
+  arguments->plot_command->footer(
+      "The histogram of the certified values, the scaling bound marked; samples cut short\n"
+      "are left out (the SVG's note counts them). hist.csv: functional_dimension,count,\n"
+      "is_scaling_bound, one row per value from the least to the greatest (the scaling bound\n"
+      "included, counts of 0 too).\n\n"
+      "Example:\n  pleat survey plot survey.jsonl --out hist.svg");
 
   arguments->merge_command = command.add_subcommand("merge", "Join the files of one survey's tasks into one file");
   arguments->merge_command->add_option("files", arguments->inputs, "Survey files of the tasks (pleat-survey/1)")->required();
   arguments->merge_command->add_option("-o,--output", arguments->merge_path, "The merged file")->required();
   arguments->merge_command->add_flag("-q,--quiet", arguments->quiet, "No message on standard error");
+  arguments->merge_command->footer(
+      "Joins the files of one survey's tasks (--task-index/--task-count, or an array job)\n"
+      "into one file, samples in order; files of different surveys, overlapping tasks or a\n"
+      "sample twice are refused. The merged file is written whole or not at all; standard\n"
+      "error says which tasks it holds and how many samples are still missing.\n\n"
+      "Example:\n  pleat survey merge part*.jsonl -o survey.jsonl");
 }
 
 }  // namespace pleat::cli

@@ -78,10 +78,15 @@ void print_summary(const Network& network, const Domain& domain, const WalkSumma
 // One interior point per region, in output order: exact text, or a float64
 // .npy. Rounding to double can move a point of a thin region out of it; such
 // points are counted on standard error (the exact text file never has any).
+// A walk cut short found only some regions: the text file's comment says so.
 void write_interior_points(const Network& network, const std::string& path, const std::vector<RationalVector>& points,
-                           const std::vector<ActivationPattern>& patterns) {
+                           const std::vector<ActivationPattern>& patterns, const WalkSummary& summary) {
   if (path.size() < 4 || path.compare(path.size() - 4, 4, ".npy") != 0) {
-    write_output(path, points_text(points, "pleat walk --points-out: one exact interior point per region"));
+    const std::string comment =
+        summary.complete ? std::string("pleat walk --points-out: one exact interior point per region")
+                         : "pleat walk --points-out: one exact interior point per region found; the walk stopped (" +
+                               to_string(summary.stop_reason) + "), so regions are missing";
+    write_output(path, points_text(points, comment));
     return;
   }
   write_points_npy(path, points);
@@ -146,7 +151,7 @@ int run_walk(const WalkArguments& arguments) {
   if (regions_file) regions_file->close();
 
   if (!arguments.points_path.empty())
-    write_interior_points(network, arguments.points_path, interior_points, interior_patterns);
+    write_interior_points(network, arguments.points_path, interior_points, interior_patterns, summary);
 
   if (arguments.json) {
     std::cout << json_text(walk_summary_to_json(network, domain, summary, arguments.patterns));
@@ -158,7 +163,8 @@ int run_walk(const WalkArguments& arguments) {
       std::cout << "written     " << arguments.output_path << " (" << count_of(summary.regions, "region line") << ")\n";
     if (!arguments.points_path.empty())
       std::cout << "written     " << arguments.points_path << " ("
-                << count_of(interior_points.size(), "interior point") << ", one per region)\n";
+                << count_of(interior_points.size(), "interior point") << ", one per region"
+                << (summary.complete ? "" : " found") << ")\n";
   }
   if (summary.stop_reason == StopReason::interrupted) {
     std::cerr << "pleat: walk interrupted; " << count_of(summary.regions, "region") << " kept"

@@ -15,8 +15,9 @@ namespace pleat::detail {
 // `helpers` threads (start_worker_thread) that wait for jobs, so that a
 // parallel loop costs a wake-up instead of a thread start (110-215 us each
 // on our 2-core virtual machine, about 9 loops per certify after the walk).
-// After a job a helper spins briefly before it sleeps: the next loop
-// usually follows within a fraction of a millisecond.
+// After a job (or wake) a helper spins for 2 ms before it sleeps, unless the
+// pool rests: the next loop usually follows within a millisecond. A new
+// pool's helpers sleep until the first job.
 class WorkerPool {
  public:
   explicit WorkerPool(unsigned helpers);
@@ -35,6 +36,14 @@ class WorkerPool {
   // another caller's job, job() runs on the calling thread alone.
   void run(unsigned helpers, const std::function<void()>& job);
 
+  // While other threads take the processors (certify's walk): helpers sleep
+  // between jobs instead of spinning.
+  void rest();
+  // Work is coming (the walk has ended): the helpers stop resting, wake now
+  // and spin for the next job, so that it does not wait for a wake-up.
+  void wake();
+  bool is_resting() const { return is_resting_.load(); }
+
  private:
   void serve();
 
@@ -46,6 +55,7 @@ class WorkerPool {
   unsigned running_ = 0;  // helpers inside a job
   bool busy_ = false;     // a caller is inside run
   bool stopping_ = false;
+  std::atomic<bool> is_resting_{false};
   std::vector<std::thread> threads_;  // last: started once the rest is set up
 };
 
@@ -65,5 +75,23 @@ class WorkerPoolScope {
 
 // The pool of the innermost WorkerPoolScope on this thread, or null.
 WorkerPool* current_worker_pool();
+
+// While it lives, this thread's current pool (if any) rests; woken as it
+// ends. For a walk inside certify: the walk's own threads take the
+// processors, and the loops after it find the helpers awake.
+class RestingWorkerPool {
+ public:
+  RestingWorkerPool() : pool_(current_worker_pool()) {
+    if (pool_) pool_->rest();
+  }
+  ~RestingWorkerPool() {
+    if (pool_) pool_->wake();
+  }
+  RestingWorkerPool(const RestingWorkerPool&) = delete;
+  RestingWorkerPool& operator=(const RestingWorkerPool&) = delete;
+
+ private:
+  WorkerPool* pool_;
+};
 
 }  // namespace pleat::detail

@@ -20,6 +20,14 @@ for command in $commands; do
   case "$help" in *"Usage: pleat $command"*) ;; *) fail "pleat $command --help has no usage line" ;; esac
 done
 
+# survey's own subcommands say what they do and show their own example, not
+# survey's text (CLI11 copied it: 'plot --help' explained resuming a run).
+for sub in summary plot merge; do
+  help=$("$pleat" survey "$sub" --help) || fail "pleat survey $sub --help exited $?"
+  case "$help" in *"pleat survey $sub "*) ;; *) fail "pleat survey $sub --help has no example of itself" ;; esac
+  case "$help" in *"Rerunning the same command resumes"*) fail "pleat survey $sub --help repeats survey's own text" ;; esac
+done
+
 eval_help=$("$pleat" eval --help)
 case "$eval_help" in *"activation pattern of a point"*) ;; *) fail "eval --help does not explain the activation pattern" ;; esac
 

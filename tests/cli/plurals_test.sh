@@ -14,7 +14,7 @@ expect_contains "$out" "graph       1 piece, 0 breakpoints (exact" "draw, one pi
 
 out=$("$pleat" walk "$fold" --max-regions 1 -o "$work/r.jsonl" --points-out "$work/p.txt" -q) || fail "walk exited $?"
 expect_contains "$out" "(1 region line)" "walk -o, one region"
-expect_contains "$out" "(1 interior point, one per region)" "walk --points-out, one region"
+expect_contains "$out" "(1 interior point, one per region found)" "walk --points-out, one region"
 
 out=$("$pleat" sample "$fold" --batch 1 --seed 1 -q) || fail "sample exited $?"
 expect_contains "$out" "Jacobian at 1 point, 1 x 59;" "sample, a batch of one"

@@ -144,4 +144,21 @@ err=$("$pleat" sample "$fold" --batch 5 --seed 1 --dtype float16 -q 2>&1 >/dev/n
 [ $? = 2 ] || fail "--dtype float16 must be exit 2"
 expect_contains "$err" "--dtype" "the message names --dtype"
 
+# ---- a time limit that falls after the walk (in the kernel's proof) is not
+# "the walk stopped early": 1,64,64,1 has a short walk and a large kernel
+# (certify_stop_test.sh). On a loaded machine the walk itself may be cut; the
+# text must then say so, and count the regions as "at least".
+wide=$work/wide.json
+"$pleat" random --arch 1,64,64,1 --seed 1 -o "$wide" || fail "pleat random exited $?"
+out=$("$pleat" sample "$wide" --batch 10 --seed 1 --time-limit "$(scaled 2)" -q) || fail "time-limited sample exited $?"
+case "$out" in
+  *"regions touched       10 of at least"*)
+    expect_contains "$out" "certified value       none: the walk stopped early (time-limit)" "a walk cut short" ;;
+  *)
+    expect_contains "$out" "certified value       none: stopped after the walk (time-limit)" "a whole walk, proof cut short" ;;
+esac
+# Without a certified value no prefix can be said to reach it (it printed
+# "none within the batch", as if the value were known and missed).
+expect_contains "$out" "first batch reaching  not known (no certified value to reach)" "first batch of a run cut short"
+
 echo "sample: all checks passed"

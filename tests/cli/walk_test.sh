@@ -35,6 +35,17 @@ check_region_file "$work/max.jsonl" 10
 out=$("$pleat" walk "$fold" --max-regions 10 --quiet) || fail "--max-regions 10 (summary) exited $?"
 case "$out" in *"regions     >= 10"*) ;; *) fail "--max-regions summary does not say '>= 10':"$'\n'"$out" ;; esac
 case "$out" in *"status      certified"*) fail "--max-regions summary claims certified" ;; esac
+# The interior points of a walk cut short are those of the regions found: the
+# text file's comment says the regions are missing (it said "one exact
+# interior point per region", as for a whole walk).
+out=$("$pleat" walk "$fold" --max-regions 10 --quiet --points-out "$work/max_points.txt") ||
+  fail "--max-regions 10 --points-out exited $?"
+expect_contains "$out" "(10 interior points, one per region found)" "--points-out of a stopped walk, summary"
+expect_contains "$(head -1 "$work/max_points.txt")" "the walk stopped (max-regions), so regions are missing" \
+  "--points-out of a stopped walk, file comment"
+"$pleat" walk "$fold" --quiet --points-out "$work/all_points.txt" > /dev/null || fail "--points-out exited $?"
+[ "$(head -1 "$work/all_points.txt")" = "# pleat walk --points-out: one exact interior point per region" ] ||
+  fail "--points-out of a whole walk: $(head -1 "$work/all_points.txt")"
 
 # A stopped walk's linear regions bound nothing: on tests/data/min_quadrants2d.json
 # (relu(min(x, y))) the first 4 regions are 4 pieces of different maps (the zero

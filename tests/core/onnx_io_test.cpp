@@ -66,7 +66,9 @@ TEST(OnnxIo, ExportRoundsToNearestTiesToEvenAndNamesEachRoundedParameter) {
   const Network network = small_network(Rational(1, 3), 1 + power_of_two(-53));
   const OnnxExport model = write_onnx_model(network);
   ASSERT_EQ(model.rounded_parameters.size(), 2u);
-  EXPECT_EQ(model.rounded_parameters[0], "W1[0,0] = 1/3 stored as 0.33333333333333331");
+  // The stored double exactly (1/3 rounded to nearest is 6004799503160661 / 2^54), then its decimals.
+  EXPECT_EQ(model.rounded_parameters[0],
+            "W1[0,0] = 1/3 stored as 6004799503160661/18014398509481984 (\u2248 0.33333333333333331)");
   EXPECT_EQ(model.rounded_parameters[1].rfind("b2[0] = ", 0), 0u) << model.rounded_parameters[1];
   const Network back = parse_onnx_model(model.bytes, "m.onnx");
   EXPECT_EQ(back.layers[0].weights(0, 0), rational_from_double(1.0 / 3.0));

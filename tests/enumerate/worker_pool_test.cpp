@@ -58,6 +58,29 @@ TEST(WorkerPool, RunsAJobOnTheCallerAndItsHelpers) {
   EXPECT_EQ(threads_meeting_in(pool, 1, 2).size(), 2u);
 }
 
+// Resting only changes what helpers do between jobs: a resting pool's
+// helpers still join a job, and a woken one's too; RestingWorkerPool rests
+// the current pool while it lives.
+TEST(WorkerPool, ARestingPoolStillRunsJobsOnItsHelpers) {
+  detail::WorkerPool pool(1);
+  pool.rest();
+  EXPECT_TRUE(pool.is_resting());
+  for (int round = 0; round < 5; ++round) EXPECT_EQ(threads_meeting_in(pool, 1, 2).size(), 2u);
+  pool.wake();
+  EXPECT_FALSE(pool.is_resting());
+  for (int round = 0; round < 5; ++round) EXPECT_EQ(threads_meeting_in(pool, 1, 2).size(), 2u);
+  {
+    const detail::RestingWorkerPool no_pool;  // no current pool: nothing to rest
+  }
+  const detail::WorkerPoolScope scope(&pool);
+  {
+    const detail::RestingWorkerPool resting;
+    EXPECT_TRUE(pool.is_resting());
+    EXPECT_EQ(threads_meeting_in(pool, 1, 2).size(), 2u);
+  }
+  EXPECT_FALSE(pool.is_resting());
+}
+
 TEST(WorkerPool, AJobOfferedToABusyPoolRunsOnItsCaller) {
   detail::WorkerPool pool(1);
   std::atomic<int> inner_runs{0};
