@@ -82,6 +82,7 @@ Json result_to_json(const SampleArguments& arguments, const Domain& domain, cons
   out["upper_bound"] = result.certified.upper_bound;
   out["scaling_bound"] = result.certified.scaling_bound;
   out["parametric_dimension"] = result.certified.parametric_dimension;
+  out["stop_reason"] = stop_reason_json(result.certified.stop_reason);  // why certified_value is null, if it is
   out["seconds"] = result.seconds;
   return out;
 }

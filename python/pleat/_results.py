@@ -122,7 +122,7 @@ class _Regions(Sequence[Region]):
             yield self[i]
 
     def __repr__(self) -> str:
-        return f"<{len(self)} regions>"
+        return f"<{len(self)} region{'' if len(self) == 1 else 's'}>"
 
 
 @dataclass(frozen=True)
