@@ -522,7 +522,7 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
               << " px wide in the SVG (--labels with --table numbers them; a smaller --view widens them)\n";
   if (scene.total_regions && *scene.total_regions > drawn.regions)
     std::cerr << "pleat: " << *scene.total_regions - drawn.regions << " of " << *scene.total_regions
-              << " regions lie outside the view\n";
+              << " regions " << (*scene.total_regions - drawn.regions == 1 ? "lies" : "lie") << " outside the view\n";
   return 0;
 }
 
