@@ -64,36 +64,41 @@ SparseVector scaling_direction(const Network& network, std::size_t n) {
   return out;
 }
 
+// The independent scaling directions and, for each pivot column q in Q,
+// those that are nonzero at q (at most two: a forest's incidence matrix,
+// core/jacobian.hpp) with their values there.
+struct ScalingPart {
+  std::vector<SparseVector> directions;
+  std::vector<std::size_t> pivots;
+  std::vector<std::vector<std::pair<std::size_t, Rational>>> at_pivot;
+};
+
 // g minus the combination of the independent scaling directions that
-// equals g on the pivot columns Q: 0 there. The system on Q has at most
-// two unknowns per equation (a forest's incidence matrix, core/jacobian.hpp),
-// solved leaf by leaf; nullopt when that stalls.
-std::optional<SparseVector> without_scaling_part(const SparseVector& g, const std::vector<SparseVector>& scaling,
-                                                 const std::vector<std::size_t>& pivots) {
-  const std::size_t count = scaling.size();
+// equals g on the pivot columns Q: 0 there. Solved equation by equation,
+// each once it has one unknown left (leaf by leaf); nullopt when that
+// stalls.
+std::optional<SparseVector> without_scaling_part(const SparseVector& g, const ScalingPart& scaling) {
+  const std::size_t count = scaling.directions.size();
   std::vector<std::optional<Rational>> amount(count);
-  std::vector<char> is_done(pivots.size(), 0);
+  std::vector<char> is_done(scaling.pivots.size(), 0);
   for (std::size_t solved = 0; solved < count;) {
     bool progress = false;
-    for (std::size_t e = 0; e < pivots.size(); ++e) {
+    for (std::size_t e = 0; e < scaling.pivots.size(); ++e) {
       if (is_done[e]) continue;
-      const std::size_t q = pivots[e];
-      const auto at_q = g.find(q);
+      const auto at_q = g.find(scaling.pivots[e]);
       Rational rest = at_q == g.end() ? Rational(0) : at_q->second;
-      std::optional<std::size_t> unknown;
+      const std::pair<std::size_t, Rational>* unknown = nullptr;
       std::size_t unknowns = 0;
-      for (std::size_t n = 0; n < count; ++n) {
-        const auto entry = scaling[n].find(q);
-        if (entry == scaling[n].end()) continue;
-        if (amount[n]) {
-          rest -= *amount[n] * entry->second;
+      for (const auto& entry : scaling.at_pivot[e]) {
+        if (amount[entry.first]) {
+          rest -= *amount[entry.first] * entry.second;
         } else {
-          unknown = n;
+          unknown = &entry;
           ++unknowns;
         }
       }
       if (unknowns != 1) continue;
-      amount[*unknown] = rest / scaling[*unknown].at(q);
+      amount[unknown->first] = rest / unknown->second;
       is_done[e] = 1;
       ++solved;
       progress = true;
@@ -102,8 +107,9 @@ std::optional<SparseVector> without_scaling_part(const SparseVector& g, const st
   }
   SparseVector out = g;
   for (std::size_t n = 0; n < count; ++n)
-    for (const auto& [c, value] : scaling[n]) add_to(out, c, -*amount[n] * value);
-  for (std::size_t q : pivots)
+    if (*amount[n] != 0)
+      for (const auto& [c, value] : scaling.directions[n]) add_to(out, c, -*amount[n] * value);
+  for (std::size_t q : scaling.pivots)
     if (out.count(q)) return std::nullopt;
   return out;
 }
@@ -142,12 +148,16 @@ std::vector<SparseVector> reduced_generators(const Network& network, const std::
     }
   if (generators.empty()) return reduced;
   const ScalingStructure structure = scaling_structure(network);
-  std::vector<SparseVector> scaling;
-  for (std::size_t n : structure.independent_neurons) scaling.push_back(scaling_direction(network, n));
+  ScalingPart scaling{{}, structure.pivot_columns, std::vector<std::vector<std::pair<std::size_t, Rational>>>(
+                                                        structure.pivot_columns.size())};
+  for (std::size_t n : structure.independent_neurons) scaling.directions.push_back(scaling_direction(network, n));
+  for (std::size_t e = 0; e < scaling.pivots.size(); ++e)
+    for (std::size_t n = 0; n < scaling.directions.size(); ++n)
+      if (const auto found = scaling.directions[n].find(scaling.pivots[e]); found != scaling.directions[n].end())
+        scaling.at_pivot[e].emplace_back(n, found->second);
   for (const SparseVector& g : generators) {
     poll_stop();
-    if (std::optional<SparseVector> without = without_scaling_part(g, scaling, structure.pivot_columns))
-      reduced.push_back(std::move(*without));
+    if (std::optional<SparseVector> without = without_scaling_part(g, scaling)) reduced.push_back(std::move(*without));
   }
   return reduced;
 }
