@@ -323,67 +323,82 @@ bool ModularRowBasis::add_row_screened(const ModularVector& row) {
   return !free_columns_.empty() && passes_screen(row) && add_row(row);
 }
 
+namespace {
+
+// body(0), ..., body(count - 1): through parallel when given, else in order.
+void for_each_index(const ModularRowBasis::ParallelFor& parallel, std::size_t count,
+                    const std::function<void(std::size_t)>& body) {
+  if (parallel && count > 1) {
+    parallel(count, body);
+  } else {
+    for (std::size_t i = 0; i < count; ++i) body(i);
+  }
+}
+
+}  // namespace
+
 std::size_t ModularRowBasis::add_rows(const std::vector<ModularVector>& rows, std::size_t rank_limit,
-                                      std::vector<bool>& kept) {
+                                      std::vector<bool>& kept, const ParallelFor& parallel) {
   kept.assign(rows.size(), false);
-  // The rows kept since the last fold, over the free columns as they were
-  // then: in reduced echelon form among themselves (1 at their own pivot
-  // position, 0 at the others') and 0 at every older pivot. The older kept
-  // rows are not yet cleared at these pivots: fold() does it for the whole
-  // block at once. A row's reduction modulo the span is unique, so this
-  // keeps exactly the rows, pivots and echelon form add_row would.
-  constexpr std::size_t kFold = 32;
+  // Rows go in chunks. A chunk's residuals against the kept rows are
+  // independent of each other (computed in parallel); then, in order, each is
+  // reduced against the chunk's rows kept so far (the block: in reduced
+  // echelon form among themselves, 0 at every older pivot) and kept when not
+  // zero. The older kept rows are cleared at the block's pivots once, at the
+  // chunk's end (fold_block). A row's reduction modulo the span is unique, so
+  // this keeps exactly the rows, pivots and echelon form add_row would.
+  constexpr std::size_t kChunk = 48;
+  const std::size_t limit = std::min(rank_limit, columns_);
+  std::size_t considered = 0;
   std::vector<ModularVector> block;
   std::vector<std::size_t> block_pivots;  // positions in free_columns_
-  const auto fold = [&] {
-    fold_block(block, block_pivots);
+  while (considered < rows.size() && rank() < limit) {
+    const std::size_t start = considered, end = std::min(rows.size(), start + kChunk);
+    for (std::size_t k = start; k < end; ++k) check_row(rows[k], "ModularRowBasis::add_rows");
+    std::vector<ModularVector> reduced(end - start);
+    for_each_index(parallel, end - start, [&](std::size_t i) { reduced[i] = residual(rows[start + i]); });
+    for (; considered < end && rank() + block.size() < limit; ++considered) {
+      ModularVector& row = reduced[considered - start];
+      // Against the block: its rows are 0 at each other's pivots, so the
+      // factors are read off before any of them is subtracted.
+      std::vector<std::uint64_t> factors;
+      std::vector<const std::uint64_t*> parts;
+      for (std::size_t j = 0; j < block.size(); ++j)
+        if (const std::uint64_t factor = row[block_pivots[j]]; factor != 0) {
+          factors.push_back(factor);
+          parts.push_back(block[j].data());
+        }
+      if (!factors.empty())
+        subtract_combination(
+            factors, parts, row.size(), [&](std::size_t q) { return row[q]; }, row.data(), prime_, prime_inverse_);
+      // The pivot: the nonzero entry at the smallest column.
+      std::size_t q = row.size();
+      for (std::size_t k = 0; k < row.size(); ++k)
+        if (row[k] != 0 && (q == row.size() || free_columns_[k] < free_columns_[q])) q = k;
+      if (q == row.size()) continue;
+      scale(row, n_invmod(row[q], prime_), prime_);
+      for (ModularVector& earlier : block)
+        if (earlier[q] != 0) subtract_multiple(earlier, row, earlier[q], prime_);
+      block.push_back(std::move(row));
+      block_pivots.push_back(q);
+      kept[considered] = true;
+    }
+    fold_block(block, block_pivots, parallel);
     block.clear();
     block_pivots.clear();
-  };
-  std::size_t considered = 0;
-  for (; considered < rows.size() && rank() + block.size() < std::min(rank_limit, columns_); ++considered) {
-    const ModularVector& row = rows[considered];
-    check_row(row, "ModularRowBasis::add_rows");
-    ModularVector reduced = residual(row);
-    // Then against the block: its rows are 0 at each other's pivots, so the
-    // factors are read off before any of them is subtracted.
-    std::vector<std::uint64_t> factors;
-    std::vector<const std::uint64_t*> parts;
-    for (std::size_t j = 0; j < block.size(); ++j)
-      if (const std::uint64_t factor = reduced[block_pivots[j]]; factor != 0) {
-        factors.push_back(factor);
-        parts.push_back(block[j].data());
-      }
-    if (!factors.empty())
-      subtract_combination(
-          factors, parts, reduced.size(), [&](std::size_t q) { return reduced[q]; }, reduced.data(), prime_,
-          prime_inverse_);
-    // The pivot: the nonzero entry at the smallest column.
-    std::size_t q = reduced.size();
-    for (std::size_t k = 0; k < reduced.size(); ++k)
-      if (reduced[k] != 0 && (q == reduced.size() || free_columns_[k] < free_columns_[q])) q = k;
-    if (q == reduced.size()) continue;
-    scale(reduced, n_invmod(reduced[q], prime_), prime_);
-    for (ModularVector& earlier : block)
-      if (earlier[q] != 0) subtract_multiple(earlier, reduced, earlier[q], prime_);
-    block.push_back(std::move(reduced));
-    block_pivots.push_back(q);
-    kept[considered] = true;
-    if (block.size() == kFold) fold();
   }
-  fold();
   return considered;
 }
 
-void ModularRowBasis::fold_block(std::vector<ModularVector>& block, const std::vector<std::size_t>& block_pivots) {
+void ModularRowBasis::fold_block(std::vector<ModularVector>& block, const std::vector<std::size_t>& block_pivots,
+                                 const ParallelFor& parallel) {
   if (block.empty()) return;
   // Clear the block's pivot positions from every older kept row: part -=
   // sum_j part[pivot_j] * (block row j), one exact sum per entry.
-  std::vector<std::uint64_t> factors;
-  std::vector<const std::uint64_t*> parts;
-  for (ModularVector& part : free_parts_) {
-    factors.clear();
-    parts.clear();
+  for_each_index(parallel, free_parts_.size(), [&](std::size_t i) {
+    ModularVector& part = free_parts_[i];
+    std::vector<std::uint64_t> factors;
+    std::vector<const std::uint64_t*> parts;
     for (std::size_t j = 0; j < block.size(); ++j)
       if (const std::uint64_t factor = part[block_pivots[j]]; factor != 0) {
         factors.push_back(factor);
@@ -391,28 +406,26 @@ void ModularRowBasis::fold_block(std::vector<ModularVector>& block, const std::v
       }
     if (!factors.empty())
       subtract_combination(
-          factors, parts, part.size(), [&](std::size_t q) { return part[q]; }, part.data(), prime_,
-          prime_inverse_);
-  }
+          factors, parts, part.size(), [&](std::size_t q) { return part[q]; }, part.data(), prime_, prime_inverse_);
+  });
   for (std::size_t j = 0; j < block.size(); ++j) {
     pivot_columns_.push_back(free_columns_[block_pivots[j]]);
     free_parts_.push_back(std::move(block[j]));
   }
   // Drop the pivot positions, highest first, so that the entry drop_entry
-  // moves into a dropped place is never one still to be dropped.
+  // moves into a dropped place is never one still to be dropped; then each
+  // kept row's screen, its product with c on the free columns.
   std::vector<std::size_t> dropped = block_pivots;
   std::sort(dropped.begin(), dropped.end(), std::greater<>());
-  for (std::size_t q : dropped) {
-    drop_entry(free_columns_, q);
-    for (ModularVector& part : free_parts_) drop_entry(part, q);
-  }
-  // The screen: each kept row's product with c on the free columns.
+  for (std::size_t q : dropped) drop_entry(free_columns_, q);
   screen_along_.resize(free_parts_.size());
-  for (std::size_t i = 0; i < free_parts_.size(); ++i) {
+  for_each_index(parallel, free_parts_.size(), [&](std::size_t i) {
+    ModularVector& part = free_parts_[i];
+    for (std::size_t q : dropped) drop_entry(part, q);
     WideSum along;
-    for (std::size_t k = 0; k < free_columns_.size(); ++k) along.add(free_parts_[i][k], screen_random_[free_columns_[k]]);
+    for (std::size_t k = 0; k < free_columns_.size(); ++k) along.add(part[k], screen_random_[free_columns_[k]]);
     screen_along_[i] = along.reduce(prime_, prime_inverse_);
-  }
+  });
 }
 
 ModularMatrix ModularRowBasis::rows() const {

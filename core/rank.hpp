@@ -16,6 +16,7 @@
 
 #include <cstddef>
 #include <cstdint>
+#include <functional>
 #include <optional>
 #include <vector>
 
@@ -164,14 +165,20 @@ class ModularRowBasis {
   // as add_row, except that a skipped row's entries are not checked.
   bool add_row_screened(const ModularVector& row);
 
+  // Runs body(0), ..., body(count - 1), possibly on several threads at once
+  // (add_rows' bodies touch disjoint data); returns when all have run.
+  using ParallelFor = std::function<void(std::size_t count, const std::function<void(std::size_t)>& body)>;
+
   // add_row on each of rows in order, until rank() reaches rank_limit;
   // kept[k] is set exactly when rows[k] raised the rank, and the rows
   // considered are returned (those after are untouched). The basis ends as
-  // add_row one by one would leave it, but the new pivots are cleared from
-  // the earlier kept rows once per block of new rows, with one exact sum per
-  // entry (cheaper when most rows are independent, as from scattered points).
+  // add_row one by one would leave it, but the rows' residuals are computed
+  // a chunk at a time, and the new pivots cleared from the earlier kept rows
+  // once per chunk with one exact sum per entry, both through parallel when
+  // given (cheaper when most rows are independent, as from scattered points).
   // Same precondition as add_row for every row considered.
-  std::size_t add_rows(const std::vector<ModularVector>& rows, std::size_t rank_limit, std::vector<bool>& kept);
+  std::size_t add_rows(const std::vector<ModularVector>& rows, std::size_t rank_limit, std::vector<bool>& kept,
+                       const ParallelFor& parallel = {});
 
   // The screen alone: false when w . row == 0 (row in the span, or the 1/p
   // miss above), true when row is certainly outside the span. Same
@@ -200,7 +207,8 @@ class ModularRowBasis {
   ModularVector residual(const ModularVector& row) const;
   // add_rows' block (its rows kept since the last fold, and their pivot
   // positions in free_columns_) made kept rows; block is moved from.
-  void fold_block(std::vector<ModularVector>& block, const std::vector<std::size_t>& block_pivots);
+  void fold_block(std::vector<ModularVector>& block, const std::vector<std::size_t>& block_pivots,
+                  const ParallelFor& parallel);
   void check_row(const ModularVector& row, const char* where) const;
 
   std::uint64_t prime_;

@@ -8,6 +8,7 @@
 #include "enumerate/detail/kernel_check.hpp"
 #include "enumerate/detail/kernel_lift.hpp"
 #include "enumerate/detail/parallel_for.hpp"
+#include "enumerate/detail/reach_forecast.hpp"
 #include "enumerate/detail/row_backlog.hpp"
 #include "enumerate/interior_points.hpp"
 #include "enumerate/line_sweep.hpp"
@@ -139,63 +140,6 @@ double ray_reach(const Domain& domain, const DoubleVector& base, const DoubleVec
   return reach * (1 - 1e-9);
 }
 
-// Whether a phase of the no-walk path can still reach the scaling bound
-// (speed only: the walk that follows decides). False ends the phase early on
-// networks below their bound, where every point drawn is overhead before the
-// walk. Never false while the rank is within 1/16 of the bound: networks at
-// their bound rise steeply to near it, then find their last few rows slowly,
-// and for them (more inputs: a walk can be far dearer) the points are the
-// point. Further off, two forecasts, either of which ends the phase:
-// - the rate of the last `window` batches kept up for the rest of the
-//   budget falls short (ranks fall off: the recent rate is the optimistic
-//   guess);
-// - the rise decays geometrically and its sum falls short: with g1 the rise
-//   over the last two batches and g0 over the two before, the rest of the
-//   rise at ratio g1/g0 per two batches is g1 * ratio / (1 - ratio); the
-//   phase ends when even twice that misses by 16 rows or more. Below their
-//   bound the rank flattens that way within a few batches (2,10,10,10,1,
-//   seed 1: 79 128 176 184 192 after five batches of 32 points, 231 to
-//   reach; it stops there, not after 735 points and 12 lines), while at
-//   their bound every network we tried was within 1/16 of it or 16 rows by
-//   the fourth batch (3,6,6,6,1 seed 1: 89 of 97).
-class ReachForecast {
- public:
-  // start: the rank before the phase's first batch.
-  ReachForecast(std::size_t window, std::size_t start) : window_(window), history_{start} {}
-  // The rank after a batch; used and budget in the phase's units (points or
-  // lines), batch_size units per batch.
-  bool reachable(std::size_t rank, std::size_t bound, std::size_t used, std::size_t budget, std::size_t batch_size) {
-    history_.push_back(rank);
-    const std::size_t deficit = bound - rank;
-    if (16 * deficit < bound) return true;
-    if (deficit >= 16 && decays_short_of(deficit)) {
-      decayed_ = true;
-      return false;
-    }
-    if (history_.size() <= window_ + 1) return true;
-    const std::size_t gain = rank - history_[history_.size() - 1 - window_];
-    const std::size_t remaining = budget > used ? budget - used : 0;
-    return gain * remaining >= deficit * window_ * batch_size;
-  }
-  // True when the phase ended on the geometric forecast: far below the bound.
-  bool decayed() const { return decayed_; }
-
- private:
-  bool decays_short_of(std::size_t deficit) const {
-    const std::size_t k = history_.size() - 1;  // batches so far
-    if (k < 4) return false;
-    const double g1 = static_cast<double>(history_[k] - history_[k - 2]);
-    const double g0 = static_cast<double>(history_[k - 2] - history_[k - 4]);
-    if (g1 >= g0) return false;  // not decaying
-    const double ratio = g1 / g0;
-    return 2 * g1 * ratio / (1 - ratio) + 16 <= static_cast<double>(deficit);
-  }
-
-  std::size_t window_;
-  std::vector<std::size_t> history_;
-  bool decayed_ = false;
-};
-
 }  // namespace
 
 std::optional<std::size_t> first_region_not_annihilated(const Network& network, const RationalMatrix& vectors,
@@ -278,8 +222,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // its batch), in point order, and keeps those that raise the rank, until
   // the rank meets the bound: the points after that one are not counted.
   // One call of add_rows for the batch (core/rank.hpp: the same rows kept as
-  // one add_row each, cheaper when most raise the rank, as here). Returns, for
-  // each point counted, whether its rows raised the rank.
+  // one add_row each, cheaper when most raise the rank, as here, and its
+  // residuals and clearing on every thread). Returns, for each point
+  // counted, whether its rows raised the rank.
   auto keep_rows_of_points = [&](const std::vector<PointRegion>& point_regions, const std::vector<ModularMatrix>& rows,
                                  const std::vector<RationalVector>& points) {
     std::vector<ModularVector> candidates;
@@ -303,7 +248,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     std::vector<bool> rose;
     if (basis.rank() >= result.scaling_bound) return rose;
     std::vector<bool> kept_rows;
-    const std::size_t considered = basis.add_rows(candidates, result.scaling_bound, kept_rows);
+    const std::size_t considered = basis.add_rows(
+        candidates, result.scaling_bound, kept_rows,
+        [&](std::size_t count, const std::function<void(std::size_t)>& body) { parallel_for(count, threads, body); });
     // Stopped at the bound: the last row considered raised the rank to it,
     // and its point is the last one counted.
     const std::size_t counted = considered < candidates.size() ? owner[considered - 1] + 1 : points.size();
@@ -334,7 +281,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     const std::size_t budget = 4 * result.scaling_bound + 256;
     constexpr std::size_t batch = 32;
     std::size_t since_rise = 0;
-    ReachForecast forecast(8, basis.rank());
+    detail::ReachForecast forecast(8, basis.rank());
     const StopScope scope(stop);
     while (basis.rank() < result.scaling_bound && since_rise < patience && result.points_drawn < budget) {
       if (stop.is_requested()) return;
@@ -381,7 +328,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     const std::size_t line_budget = 64 + result.scaling_bound;
     std::unordered_set<std::string> proposed;
     std::size_t lines = 0, since_rise = 0;
-    ReachForecast forecast(2, basis.rank());
+    detail::ReachForecast forecast(2, basis.rank());
     const StopScope scope(stop);
     while (basis.rank() < result.scaling_bound && since_rise < line_patience && lines < line_budget) {
       if (stop.is_requested()) return;

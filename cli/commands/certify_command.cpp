@@ -219,8 +219,8 @@ void print_result(const Network& network, const Domain& domain, const Functional
         << (result.points_drawn ? " (with " + count_of(result.points_drawn, "point") + " drawn first)" : "")
         << "\n";
   if (!result.nonsmooth_regions.empty()) {
-    out << "left out              " << result.nonsmooth_regions.size()
-        << " non-smooth regions (a neuron identically zero there with a nonzero backward signal):\n";
+    out << "left out              " << count_of(result.nonsmooth_regions.size(), "non-smooth region")
+        << " (a neuron identically zero there with a nonzero backward signal):\n";
     for (const auto& [pattern, neurons] : result.nonsmooth_regions) {
       out << "                      " << format_pattern(network, pattern) << "  neuron";
       for (std::size_t n : neurons) out << " " << n;

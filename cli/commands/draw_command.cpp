@@ -522,7 +522,7 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
               << " px wide in the SVG (--labels with --table numbers them; a smaller --view widens them)\n";
   if (scene.total_regions && *scene.total_regions > drawn.regions)
     std::cerr << "pleat: " << *scene.total_regions - drawn.regions << " of " << *scene.total_regions
-              << " regions lie outside the view\n";
+              << " regions " << (*scene.total_regions - drawn.regions == 1 ? "lies" : "lie") << " outside the view\n";
   return 0;
 }
 
@@ -590,6 +590,8 @@ void register_draw(CommandTable& commands) {
                      "short (a neighbour it names is missing) is refused");
   add_domain_options(command, arguments->domain);
   add_walk_limit_options(command, arguments->limits, "Worker threads for the walk (default: all cores)");
+  // A saved walk is drawn without walking: --threads would be ignored.
+  command.get_option("--threads")->excludes("--from");
   command.add_flag("-q,--quiet", arguments->quiet, "No progress line on standard error");
 }
 

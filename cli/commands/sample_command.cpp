@@ -82,6 +82,7 @@ Json result_to_json(const SampleArguments& arguments, const Domain& domain, cons
   out["upper_bound"] = result.certified.upper_bound;
   out["scaling_bound"] = result.certified.scaling_bound;
   out["parametric_dimension"] = result.certified.parametric_dimension;
+  out["stop_reason"] = stop_reason_json(result.certified.stop_reason);  // why certified_value is null, if it is
   out["seconds"] = result.seconds;
   return out;
 }
@@ -123,7 +124,8 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
   out << "\n";
   out << "first batch reaching  "
       << (result.first_batch_reaching ? count_of(*result.first_batch_reaching, "point")
-                                      : std::string("none within the batch"))
+          : certified.certified       ? std::string("none within the batch")
+                                      : std::string("not known (no certified value to reach)"))
       << "\n";
   out << "The sample touched " << result.regions_touched << " of " << (certified.walk_complete ? "the " : "") << total
       << (total_count == 1 ? " region that exists" : " regions that exist") << " on this domain.\n"
@@ -200,7 +202,8 @@ constexpr const char* sample_help =
     "                       because of rounding;\n"
     "  first batch reaching the smallest m <= K whose first m points already give the\n"
     "                       certified rank (binary search over prefixes; rank only grows\n"
-    "                       with m, up to rounding). none: K points were not enough.\n"
+    "                       with m, up to rounding). none: K points were not enough;\n"
+    "                       not known when the run was cut short (no certified value).\n"
     "Points: --dist normal draws each coordinate from N(0,1) and is judged against\n"
     "R^n0; --dist box:LO,HI draws uniformly from the open box (LO,HI)^n0 (or\n"
     "box:L1,H1,L2,H2,... per axis) and is judged against that box. The stream is\n"

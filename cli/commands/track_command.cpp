@@ -267,7 +267,9 @@ std::string table_csv(const std::vector<TrackRow>& rows) {
 // dots; an uncertified checkpoint is a hollow dot with its bounds as a bar)
 // and the scaling bound (dashed, burnt orange), the survey histogram's
 // palette and type, so it reads the same in greyscale.
-std::string track_svg(const std::vector<TrackRow>& rows, const Domain& domain) {
+// planned: the checkpoints given; an interrupted run draws fewer, and its
+// title says so.
+std::string track_svg(const std::vector<TrackRow>& rows, const Domain& domain, std::size_t planned) {
   constexpr const char* value_colour = "#24505a";
   constexpr const char* bound_colour = "#c05621";
   constexpr const char* ink = "#222222";
@@ -295,7 +297,11 @@ std::string track_svg(const std::vector<TrackRow>& rows, const Domain& domain) {
       << "\" font-family=\"DejaVu Sans, Arial, sans-serif\">\n";
   svg << "<rect width=\"100%\" height=\"100%\" fill=\"#ffffff\"/>\n";
   svg << "<text x=\"" << number(left) << "\" y=\"24\" font-size=\"16\" fill=\"" << ink
-      << "\">Certified functional dimension along training (" << count_of(rows.size(), "checkpoint") << ")</text>\n";
+      << "\">Certified functional dimension along training ("
+      << (rows.size() < planned ? std::to_string(rows.size()) + " of " + count_of(planned, "checkpoint") +
+                                      "; the run was interrupted"
+                                : count_of(rows.size(), "checkpoint"))
+      << ")</text>\n";
   svg << "<text x=\"" << number(left) << "\" y=\"42\" font-size=\"12\" fill=\"#555555\">domain "
       << escape_xml(domain.describe()) << "</text>\n";
   for (double tick : ticks) {
@@ -396,7 +402,7 @@ int run_track(const TrackArguments& arguments) {
   if (rows.empty()) return is_interrupted ? 130 : 0;
 
   if (!arguments.csv_path.empty()) write_output(arguments.csv_path, table_csv(rows));
-  if (!arguments.svg_path.empty()) write_output(arguments.svg_path, track_svg(rows, domain));
+  if (!arguments.svg_path.empty()) write_output(arguments.svg_path, track_svg(rows, domain, arguments.checkpoints.size()));
   if (arguments.json) std::cout << json_text(table_json(rows, domain));
   else print_table(rows, domain, std::cout);
   if (is_interrupted) {

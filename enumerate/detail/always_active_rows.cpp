@@ -64,36 +64,41 @@ SparseVector scaling_direction(const Network& network, std::size_t n) {
   return out;
 }
 
+// The independent scaling directions and, for each pivot column q in Q,
+// those that are nonzero at q (at most two: a forest's incidence matrix,
+// core/jacobian.hpp) with their values there.
+struct ScalingPart {
+  std::vector<SparseVector> directions;
+  std::vector<std::size_t> pivots;
+  std::vector<std::vector<std::pair<std::size_t, Rational>>> at_pivot;
+};
+
 // g minus the combination of the independent scaling directions that
-// equals g on the pivot columns Q: 0 there. The system on Q has at most
-// two unknowns per equation (a forest's incidence matrix, core/jacobian.hpp),
-// solved leaf by leaf; nullopt when that stalls.
-std::optional<SparseVector> without_scaling_part(const SparseVector& g, const std::vector<SparseVector>& scaling,
-                                                 const std::vector<std::size_t>& pivots) {
-  const std::size_t count = scaling.size();
+// equals g on the pivot columns Q: 0 there. Solved equation by equation,
+// each once it has one unknown left (leaf by leaf); nullopt when that
+// stalls.
+std::optional<SparseVector> without_scaling_part(const SparseVector& g, const ScalingPart& scaling) {
+  const std::size_t count = scaling.directions.size();
   std::vector<std::optional<Rational>> amount(count);
-  std::vector<char> is_done(pivots.size(), 0);
+  std::vector<char> is_done(scaling.pivots.size(), 0);
   for (std::size_t solved = 0; solved < count;) {
     bool progress = false;
-    for (std::size_t e = 0; e < pivots.size(); ++e) {
+    for (std::size_t e = 0; e < scaling.pivots.size(); ++e) {
       if (is_done[e]) continue;
-      const std::size_t q = pivots[e];
-      const auto at_q = g.find(q);
+      const auto at_q = g.find(scaling.pivots[e]);
       Rational rest = at_q == g.end() ? Rational(0) : at_q->second;
-      std::optional<std::size_t> unknown;
+      const std::pair<std::size_t, Rational>* unknown = nullptr;
       std::size_t unknowns = 0;
-      for (std::size_t n = 0; n < count; ++n) {
-        const auto entry = scaling[n].find(q);
-        if (entry == scaling[n].end()) continue;
-        if (amount[n]) {
-          rest -= *amount[n] * entry->second;
+      for (const auto& entry : scaling.at_pivot[e]) {
+        if (amount[entry.first]) {
+          rest -= *amount[entry.first] * entry.second;
         } else {
-          unknown = n;
+          unknown = &entry;
           ++unknowns;
         }
       }
       if (unknowns != 1) continue;
-      amount[*unknown] = rest / scaling[*unknown].at(q);
+      amount[unknown->first] = rest / unknown->second;
       is_done[e] = 1;
       ++solved;
       progress = true;
@@ -102,8 +107,9 @@ std::optional<SparseVector> without_scaling_part(const SparseVector& g, const st
   }
   SparseVector out = g;
   for (std::size_t n = 0; n < count; ++n)
-    for (const auto& [c, value] : scaling[n]) add_to(out, c, -*amount[n] * value);
-  for (std::size_t q : pivots)
+    if (*amount[n] != 0)
+      for (const auto& [c, value] : scaling.directions[n]) add_to(out, c, -*amount[n] * value);
+  for (std::size_t q : scaling.pivots)
     if (out.count(q)) return std::nullopt;
   return out;
 }
@@ -122,14 +128,11 @@ std::optional<SparseVector> coefficients_on_rows(const SparseVector& g, const Sp
   return coefficients;
 }
 
-}  // namespace
-
-std::vector<char> rows_proved_by_always_active(const Network& network, const std::vector<ActivationPattern>& smooth,
-                                               const SparseRationalRows& candidate,
-                                               const std::vector<std::size_t>& heavy) {
-  std::vector<char> proved(candidate.rows.size(), 0);
-  if (smooth.empty() || heavy.empty()) return proved;
-  // Neurons on in every pattern, by hidden layer.
+// Every shift and mix generator of the neurons on in every pattern of
+// smooth, less its scaling part (those where that part is found), 0 at Q.
+std::vector<SparseVector> reduced_generators(const Network& network, const std::vector<ActivationPattern>& smooth) {
+  std::vector<SparseVector> reduced;
+  if (smooth.empty()) return reduced;
   std::vector<std::vector<std::size_t>> always(network.depth());
   for (std::size_t k = 0, n = 0; k + 1 < network.depth(); ++k)
     for (std::size_t i = 0; i < network.layers[k].width(); ++i, ++n)
@@ -143,10 +146,57 @@ std::vector<char> rows_proved_by_always_active(const Network& network, const std
       for (std::size_t b : always[k])
         if (a != b && generators.size() < max_generators) generators.push_back(mix_direction(network, k, a, b));
     }
-  if (generators.empty()) return proved;
+  if (generators.empty()) return reduced;
   const ScalingStructure structure = scaling_structure(network);
-  std::vector<SparseVector> scaling;
-  for (std::size_t n : structure.independent_neurons) scaling.push_back(scaling_direction(network, n));
+  ScalingPart scaling{{}, structure.pivot_columns, std::vector<std::vector<std::pair<std::size_t, Rational>>>(
+                                                        structure.pivot_columns.size())};
+  for (std::size_t n : structure.independent_neurons) scaling.directions.push_back(scaling_direction(network, n));
+  for (std::size_t e = 0; e < scaling.pivots.size(); ++e)
+    for (std::size_t n = 0; n < scaling.directions.size(); ++n)
+      if (const auto found = scaling.directions[n].find(scaling.pivots[e]); found != scaling.directions[n].end())
+        scaling.at_pivot[e].emplace_back(n, found->second);
+  for (const SparseVector& g : generators) {
+    poll_stop();
+    if (std::optional<SparseVector> without = without_scaling_part(g, scaling)) reduced.push_back(std::move(*without));
+  }
+  return reduced;
+}
+
+// Rows (pivot columns, among `columns` in order) and the rows of `matrix`
+// chosen for them: each chosen row, with the earlier pivots' columns
+// cleared from the rows not chosen yet, leads the next, so the chosen rows
+// restricted to the pivot columns are nonsingular. At most `limit` pivots.
+std::pair<std::vector<std::size_t>, std::vector<std::size_t>> pivots(std::vector<std::vector<Rational>> matrix,
+                                                                    std::size_t limit) {
+  std::vector<std::size_t> columns, chosen;
+  std::vector<char> is_chosen(matrix.size(), 0);
+  const std::size_t width = matrix.empty() ? 0 : matrix.front().size();
+  for (std::size_t h = 0; h < width && chosen.size() < limit; ++h) {
+    std::optional<std::size_t> pivot;
+    for (std::size_t g = 0; g < matrix.size() && !pivot; ++g)
+      if (!is_chosen[g] && matrix[g][h] != 0) pivot = g;
+    if (!pivot) continue;
+    is_chosen[*pivot] = 1;
+    columns.push_back(h);
+    chosen.push_back(*pivot);
+    for (std::size_t g = 0; g < matrix.size(); ++g) {
+      if (is_chosen[g] || matrix[g][h] == 0) continue;
+      const Rational factor = matrix[g][h] / matrix[*pivot][h];
+      for (std::size_t c = 0; c < width; ++c) matrix[g][c] -= factor * matrix[*pivot][c];
+    }
+  }
+  return {columns, chosen};
+}
+
+}  // namespace
+
+std::vector<char> rows_proved_by_always_active(const Network& network, const std::vector<ActivationPattern>& smooth,
+                                               const SparseRationalRows& candidate,
+                                               const std::vector<std::size_t>& heavy) {
+  std::vector<char> proved(candidate.rows.size(), 0);
+  if (heavy.empty()) return proved;
+  const std::vector<SparseVector> generators = reduced_generators(network, smooth);
+  if (generators.empty()) return proved;
   std::vector<std::size_t> row_of_lead(candidate.cols, static_cast<std::size_t>(-1));
   for (std::size_t r = 0; r < candidate.rows.size(); ++r)
     if (!candidate.rows[r].empty()) row_of_lead[candidate.rows[r].front().first] = r;
@@ -154,9 +204,7 @@ std::vector<char> rows_proved_by_always_active(const Network& network, const std
   std::vector<std::vector<Rational>> on_heavy;
   for (const SparseVector& g : generators) {
     poll_stop();
-    const std::optional<SparseVector> reduced = without_scaling_part(g, scaling, structure.pivot_columns);
-    if (!reduced) continue;
-    const std::optional<SparseVector> coefficients = coefficients_on_rows(*reduced, candidate, row_of_lead);
+    const std::optional<SparseVector> coefficients = coefficients_on_rows(g, candidate, row_of_lead);
     if (!coefficients) continue;
     std::vector<Rational> row(heavy.size());
     bool touches = false;
@@ -169,24 +217,105 @@ std::vector<char> rows_proved_by_always_active(const Network& network, const std
     }
     if (touches) on_heavy.push_back(std::move(row));
   }
-  // Pivots in the heavy rows' order: each chosen generator row, with the
-  // earlier pivots' columns cleared from the rows not chosen yet, leads the
-  // next; the chosen rows on the pivot columns are then nonsingular.
-  std::vector<char> is_chosen(on_heavy.size(), 0);
-  for (std::size_t h = 0; h < heavy.size(); ++h) {
-    std::optional<std::size_t> pivot;
-    for (std::size_t g = 0; g < on_heavy.size() && !pivot; ++g)
-      if (!is_chosen[g] && on_heavy[g][h] != 0) pivot = g;
-    if (!pivot) continue;
-    is_chosen[*pivot] = 1;
-    proved[heavy[h]] = 1;
-    for (std::size_t g = 0; g < on_heavy.size(); ++g) {
-      if (is_chosen[g] || on_heavy[g][h] == 0) continue;
-      const Rational factor = on_heavy[g][h] / on_heavy[*pivot][h];
-      for (std::size_t c = 0; c < heavy.size(); ++c) on_heavy[g][c] -= factor * on_heavy[*pivot][c];
+  // Pivots in the heavy rows' order: the chosen rows on those columns are
+  // nonsingular.
+  for (std::size_t h : pivots(std::move(on_heavy), heavy.size()).first) proved[heavy[h]] = 1;
+  return proved;
+}
+
+AlwaysActivePlan::AlwaysActivePlan(const Network& network, const std::vector<ActivationPattern>& smooth,
+                                   const ModularMatrix& image, const std::vector<std::size_t>& hard) {
+  if (hard.empty()) return;
+  std::vector<SparseVector> generators = reduced_generators(network, smooth);
+  if (generators.empty()) return;
+  std::vector<std::size_t> row_of_lead(image.cols(), static_cast<std::size_t>(-1));
+  std::vector<std::size_t> entries(image.rows(), 0);  // nonzeros of each row modulo the prime
+  for (std::size_t r = 0; r < image.rows(); ++r)
+    for (std::size_t c = 0; c < image.cols(); ++c)
+      if (image(r, c) != 0 && entries[r]++ == 0) row_of_lead[c] = r;
+  std::vector<std::size_t> order = hard;  // costliest (most entries) first
+  std::stable_sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return entries[a] > entries[b]; });
+  std::vector<SparseVector> coordinates(generators.size());
+  std::vector<std::vector<Rational>> on_hard(generators.size(), std::vector<Rational>(order.size()));
+  std::vector<std::size_t> place(image.rows(), static_cast<std::size_t>(-1));  // of a hard row in order
+  for (std::size_t h = 0; h < order.size(); ++h) place[order[h]] = h;
+  for (std::size_t g = 0; g < generators.size(); ++g)
+    for (const auto& [c, value] : generators[g])
+      if (row_of_lead[c] != static_cast<std::size_t>(-1)) {
+        coordinates[g].emplace(row_of_lead[c], value);
+        if (place[row_of_lead[c]] != static_cast<std::size_t>(-1)) on_hard[g][place[row_of_lead[c]]] = value;
+      }
+  constexpr std::size_t max_rows = 16;  // C_B^-1 exactly, |B|^3 rational operations
+  const auto chosen_pivots = pivots(on_hard, max_rows);
+  const std::vector<std::size_t>& columns = chosen_pivots.first;
+  const std::vector<std::size_t>& chosen = chosen_pivots.second;
+  const std::size_t count = columns.size();
+  // C_B (chosen generators x B) inverted by Gauss-Jordan, exactly.
+  std::vector<std::vector<Rational>> left(count, std::vector<Rational>(count));
+  std::vector<std::vector<Rational>> right(count, std::vector<Rational>(count));
+  for (std::size_t t = 0; t < count; ++t) {
+    for (std::size_t s = 0; s < count; ++s) left[t][s] = on_hard[chosen[t]][columns[s]];
+    right[t][t] = 1;
+  }
+  for (std::size_t s = 0; s < count; ++s) {
+    std::size_t pivot = s;
+    while (pivot < count && left[pivot][s] == 0) ++pivot;
+    if (pivot == count) return;  // singular (not for pivots' choice): no plan
+    std::swap(left[s], left[pivot]);
+    std::swap(right[s], right[pivot]);
+    const Rational scale = 1 / left[s][s];
+    for (std::size_t c = 0; c < count; ++c) {
+      left[s][c] *= scale;
+      right[s][c] *= scale;
+    }
+    for (std::size_t t = 0; t < count; ++t) {
+      if (t == s || left[t][s] == 0) continue;
+      const Rational factor = left[t][s];
+      for (std::size_t c = 0; c < count; ++c) {
+        left[t][c] -= factor * left[s][c];
+        right[t][c] -= factor * right[s][c];
+      }
     }
   }
-  return proved;
+  // B in increasing row order, with C_B^-1's rows in the same order.
+  std::vector<std::size_t> by_row(count);
+  for (std::size_t s = 0; s < count; ++s) by_row[s] = s;
+  std::sort(by_row.begin(), by_row.end(),
+            [&](std::size_t a, std::size_t b) { return order[columns[a]] < order[columns[b]]; });
+  for (std::size_t s : by_row) {
+    rows_.push_back(order[columns[s]]);
+    inverse_.push_back(right[s]);
+  }
+  for (std::size_t t : chosen) {
+    generators_.push_back(std::move(generators[t]));
+    coordinates_.push_back(std::move(coordinates[t]));
+  }
+}
+
+bool AlwaysActivePlan::fill(std::vector<std::optional<SparseRationalRows::Row>>& rows) const {
+  if (rows_.empty()) return true;
+  std::vector<char> in_plan(rows.size(), 0);
+  for (std::size_t b : rows_) in_plan[b] = 1;
+  // R_t = g'_t - sum over the rows outside B of C[t, j] E_j.
+  std::vector<SparseVector> rests;
+  for (std::size_t t = 0; t < generators_.size(); ++t) {
+    poll_stop();
+    SparseVector rest = generators_[t];
+    for (const auto& [j, coefficient] : coordinates_[t]) {
+      if (in_plan[j]) continue;
+      if (!rows[j]) return false;
+      for (const auto& [c, value] : *rows[j]) add_to(rest, c, -coefficient * value);
+    }
+    rests.push_back(std::move(rest));
+  }
+  for (std::size_t s = 0; s < rows_.size(); ++s) {
+    SparseVector row;
+    for (std::size_t t = 0; t < rests.size(); ++t)
+      if (inverse_[s][t] != 0)
+        for (const auto& [c, value] : rests[t]) add_to(row, c, inverse_[s][t] * value);
+    rows[rows_[s]] = SparseRationalRows::Row(row.begin(), row.end());
+  }
+  return true;
 }
 
 }  // namespace pleat::detail

@@ -25,6 +25,8 @@
 #include "enumerate/detail/kernel_check.hpp"
 
 #include <cstddef>
+#include <map>
+#include <optional>
 #include <vector>
 
 namespace pleat::detail {
@@ -37,5 +39,34 @@ namespace pleat::detail {
 std::vector<char> rows_proved_by_always_active(const Network& network, const std::vector<ActivationPattern>& smooth,
                                                const SparseRationalRows& candidate,
                                                const std::vector<std::size_t>& heavy);
+
+// The same generators before the lift: rows of the extra directions E that
+// follow from them and E's other rows, so that only the others are lifted.
+// With L E's leading columns (read off its image modulo the walk's prime),
+// a generator g' (0 at Q) has coordinates g'[L_j] on E's rows, exactly (E is
+// the identity on L and 0 on Q). Rows B among the hard ones, costliest
+// first, on which chosen generators' coordinates C are nonsingular, are then
+// E_B = C_B^-1 (g' - C_rest E_rest): fill computes them from the other rows
+// once those are lifted. Not proved here: the candidate is then checked as
+// any other (rows_proved_by_always_active verifies the identities exactly).
+class AlwaysActivePlan {
+ public:
+  // image: E modulo a prime (reduced row-echelon, one row per direction);
+  // hard: the rows not yet known.
+  AlwaysActivePlan() = default;  // no rows
+  AlwaysActivePlan(const Network& network, const std::vector<ActivationPattern>& smooth, const ModularMatrix& image,
+                   const std::vector<std::size_t>& hard);
+  // B, increasing.
+  const std::vector<std::size_t>& rows() const { return rows_; }
+  // Sets the rows of B from the others (every other row set); false (B
+  // left unset) when a row they need is missing.
+  bool fill(std::vector<std::optional<SparseRationalRows::Row>>& rows) const;
+
+ private:
+  std::vector<std::size_t> rows_;
+  std::vector<std::map<std::size_t, Rational>> generators_;    // chosen g', one per row of B
+  std::vector<std::map<std::size_t, Rational>> coordinates_;   // their g'[L_j] by row j
+  std::vector<std::vector<Rational>> inverse_;                 // C_B^-1 (|B| x |B|)
+};
 
 }  // namespace pleat::detail

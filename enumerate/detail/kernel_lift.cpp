@@ -542,6 +542,11 @@ std::optional<SparseRationalRows> lift_and_prove_extra_directions(
   std::vector<std::size_t> hard;
   for (std::size_t j = 0; j < candidate_rows.size(); ++j)
     if (!candidate_rows[j]) hard.push_back(j);
+  // Hard rows that follow from neurons on in every region and the other
+  // rows are computed from those after the lift, not lifted.
+  const AlwaysActivePlan plan =
+      prove_elsewhere ? AlwaysActivePlan() : AlwaysActivePlan(network, smooth, first_image, hard);
+  std::erase_if(hard, [&](std::size_t j) { return std::binary_search(plan.rows().begin(), plan.rows().end(), j); });
   std::optional<SparseRationalRows> candidate;
   if (!hard.empty()) {
     if (lift_progress) lift_progress(1);
@@ -550,6 +555,7 @@ std::optional<SparseRationalRows> lift_and_prove_extra_directions(
                                    &check_scale))
       for (std::size_t h = 0; h < hard.size(); ++h) candidate_rows[hard[h]] = std::move((*lifted)[h]);
   }
+  (void)plan.fill(candidate_rows);  // false: a row is missing, and the exact solve below decides
   if (std::all_of(candidate_rows.begin(), candidate_rows.end(), [](const auto& row) { return row.has_value(); })) {
     candidate = SparseRationalRows{first_image.cols(), {}};
     candidate->rows.reserve(candidate_rows.size());

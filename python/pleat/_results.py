@@ -122,7 +122,7 @@ class _Regions(Sequence[Region]):
             yield self[i]
 
     def __repr__(self) -> str:
-        return f"<{len(self)} regions>"
+        return f"<{len(self)} region{'' if len(self) == 1 else 's'}>"
 
 
 @dataclass(frozen=True)
@@ -314,7 +314,8 @@ class SampleResult:
     the same domain (None when not certified); verdict: "equal", "below",
     "above-impossible" or None (undecided); regions_touched of regions_total:
     distinct regions the points fell in, decided exactly; first_batch_reaching:
-    the smallest m whose first m points reach the certified value; points: the
+    the smallest m whose first m points reach the certified value (None when
+    the batch never does, or without a certified value); points: the
     sampled points exactly. A run interrupted while drawing points has
     rank None and stop_reason "interrupted"."""
     rank: Optional[int]

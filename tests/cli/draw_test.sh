@@ -177,6 +177,12 @@ for bad in 10,7 1cm,7cm 10cm 10cm,7in x,7cm; do
   [ $status -eq 2 ] && grep -q -- "--size" "$work/size.err" || fail "--size $bad: exit $status, $(cat "$work/size.err")"
 done
 "$pleat" draw "$fold" --size 10cm,7cm --out "$work/f.csv" > /dev/null 2>&1; [ $? -eq 2 ] || fail "--size with .csv accepted"
+# A saved walk is drawn without walking: --threads with --from would be
+# ignored, so it is refused (exit 2).
+"$pleat" walk "$fold" --box -3,3 -o "$work/saved.jsonl" -q > /dev/null || fail "walk -o exited $?"
+"$pleat" draw "$fold" --from "$work/saved.jsonl" --threads 2 --out "$work/saved.svg" -q > /dev/null 2> "$work/saved.err"
+status=$?
+[ $status -eq 2 ] && grep -q -- "--threads" "$work/saved.err" || fail "--threads with --from: exit $status, $(cat "$work/saved.err")"
 # A CSV has no title, key, lines, labels or colours: the options that only a
 # figure honours are refused (exit 2, naming the option), not silently
 # ignored, and nothing is written.

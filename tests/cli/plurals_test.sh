@@ -22,4 +22,11 @@ expect_contains "$out" "Jacobian at 1 point, 1 x 59;" "sample, a batch of one"
 echo "1/3 1/7" > "$work/one.txt"
 out=$("$pleat" certify "$fold" --box -3,3 --points "$work/one.txt" -q) || fail "certify --points exited $?"
 expect_contains "$out" "coefficient-block rows of the 1 region:" "certify --points, one region"
+out=$("$pleat" certify "$source_dir/tests/data/zero_quadrant2d.json" --full-walk -q) || fail "certify exited $?"
+expect_contains "$out" "left out              1 non-smooth region (a neuron" "certify, one non-smooth region"
+# ramp1d's last piece starts at 25/6: a view up to 4 leaves exactly it out.
+"$pleat" walk "$ramp" -o "$work/ramp.jsonl" -q > /dev/null || fail "walk -o exited $?"
+err=$("$pleat" draw "$ramp" --from "$work/ramp.jsonl" --view -2,4 --out "$work/ramp.svg" -q 2>&1 > /dev/null) ||
+  fail "draw --from exited $?"
+expect_contains "$err" "1 of 6 regions lies outside the view" "draw, one region outside"
 echo "plurals: ok"

@@ -13,7 +13,7 @@ fold=$source_dir/data/fold2d.json
 # points_on_bent_hyperplanes and the bounds the verdict rests on).
 "$pleat" sample "$fold" --batch 40 --seed 1 --json -q > "$work/s.json" || fail "sample --json exited $?"
 keys=$(json_eval "$work/s.json" '",".join(sorted(d.keys()))')
-expected="batch,certified_value,dist,domain,dtype,first_batch_reaching,format,lower_bound,parametric_dimension,points_on_bent_hyperplanes,rank,rank_rtol_1e-10,rank_rtol_1e-6,regions_total,regions_touched,scaling_bound,seconds,seed,upper_bound,verdict"
+expected="batch,certified_value,dist,domain,dtype,first_batch_reaching,format,lower_bound,parametric_dimension,points_on_bent_hyperplanes,rank,rank_rtol_1e-10,rank_rtol_1e-6,regions_total,regions_touched,scaling_bound,seconds,seed,stop_reason,upper_bound,verdict"
 [ "$keys" = "$expected" ] || fail "sample --json keys: got $keys"
 for key in batch seed dist rank rank_rtol_1e-6 rank_rtol_1e-10 regions_touched regions_total certified_value \
   verdict first_batch_reaching seconds; do
@@ -157,5 +157,15 @@ case "$out" in
   *)
     expect_contains "$out" "certified value       none: stopped after the walk (time-limit)" "a whole walk, proof cut short" ;;
 esac
+# --json says why there is no certified value (the key was missing: only
+# the Python module had it).
+"$pleat" sample "$wide" --batch 10 --seed 1 --time-limit "$(scaled 2)" -q --json > "$work/cut.json" ||
+  fail "time-limited sample --json exited $?"
+[ "$(json_eval "$work/cut.json" '(d["certified_value"], d["stop_reason"])')" = "(None, 'time-limit')" ] ||
+  fail "sample --json cut short: $(head -c 600 "$work/cut.json")"
+[ "$(json_eval "$work/s.json" 'd["stop_reason"]')" = None ] || fail "a whole sample's stop_reason is not null"
+# Without a certified value no prefix can be said to reach it (it printed
+# "none within the batch", as if the value were known and missed).
+expect_contains "$out" "first batch reaching  not known (no certified value to reach)" "first batch of a run cut short"
 
 echo "sample: all checks passed"

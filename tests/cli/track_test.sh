@@ -96,4 +96,14 @@ cp "${checkpoints[0]}" "$work/run/a.json"
   = "[(False, False, None)]" ] || fail "a checkpoint cut short: $(cat "$work/cut.json")"
 table=$("$pleat" track "$work/big.json" --time-limit-each 0.001 -q) || fail "track cut short exited $?"
 echo "$table" | tail -n 1 | grep -Eq ' >=[0-9]+ +- +[0-9.]+$' || fail "a cut row must show '>=' regions and '-' linear: $table"
+# Interrupted during the second checkpoint (a 2,400,1 walk of seconds): the
+# plot holds the first only, and its title says the run was interrupted (it
+# said "(1 checkpoint)", as if one had been asked for).
+"$pleat" random --arch 2,400,1 --seed 1 -o "$work/long.json" || fail "pleat random exited $?"
+timeout --preserve-status -s INT "$(scaled 2)" "$pleat" track "${checkpoints[0]}" "$work/long.json" --threads 1 \
+  --svg "$work/cut.svg" -q > /dev/null 2>&1
+status=$?
+[ $status = 130 ] || fail "interrupted track exited $status, expected 130"
+grep -q "along training (1 of 2 checkpoints; the run was interrupted)" "$work/cut.svg" ||
+  fail "the interrupted run's plot: $(grep -o 'along training ([^)]*)' "$work/cut.svg")"
 echo "track: all checks passed"

@@ -11,6 +11,7 @@
 #include <cstdint>
 #include <numeric>
 #include <random>
+#include <thread>
 
 namespace pleat {
 namespace {
@@ -549,10 +550,24 @@ TEST(ModularRowBasis, ScreenStopsTheSpanAndKeepsWhatAddRowKeeps) {
 // than a block, several blocks, dependent rows among them, and a rank limit
 // that stops it part-way (the rows after it untouched). Rows go in calls of
 // random sizes after a few plain adds, as certify's points phase mixes them.
+// Through a parallel hook that runs the bodies on three threads in a shuffled
+// order, and without one.
 TEST(ModularRowBasis, AddRowsKeepsWhatAddRowKeeps) {
   std::mt19937_64 random(71);
+  const ModularRowBasis::ParallelFor three_threads = [](std::size_t count,
+                                                        const std::function<void(std::size_t)>& body) {
+    std::atomic<std::size_t> next{0};
+    const auto work = [&] {
+      for (std::size_t i; (i = next.fetch_add(1)) < count;) body(count - 1 - i);
+    };
+    std::thread a(work), b(work);
+    work();
+    a.join();
+    b.join();
+  };
   for (std::uint64_t prime : {primary_prime(), std::uint64_t{1000003}}) {
     for (int trial = 0; trial < 8; ++trial) {
+      const ModularRowBasis::ParallelFor parallel = trial % 2 ? three_threads : ModularRowBasis::ParallelFor();
       const std::size_t cols = 30 + random() % 60, inner = 10 + random() % 40, rows = inner + 20;
       const ModularMatrix image = *reduce_modulo(random_product(random, rows, inner, cols), prime);
       const std::size_t limit = trial % 3 == 2 ? inner - 3 : cols;
@@ -563,11 +578,11 @@ TEST(ModularRowBasis, AddRowsKeepsWhatAddRowKeeps) {
         blocked.add_row(image.row(r));
       }
       while (r < rows) {
-        const std::size_t count = std::min<std::size_t>(rows - r, 1 + random() % 40);
+        const std::size_t count = std::min<std::size_t>(rows - r, 1 + random() % 120);
         std::vector<ModularVector> chunk;
         for (std::size_t k = 0; k < count; ++k) chunk.push_back(image.row(r + k));
         std::vector<bool> kept;
-        const std::size_t considered = blocked.add_rows(chunk, limit, kept);
+        const std::size_t considered = blocked.add_rows(chunk, limit, kept, parallel);
         ASSERT_EQ(kept.size(), count);
         std::size_t k = 0;
         for (; k < count && plain.rank() < limit; ++k)

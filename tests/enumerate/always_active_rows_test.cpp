@@ -8,6 +8,7 @@
 #include "enumerate/detail/always_active_rows.hpp"
 
 #include "core/random_network.hpp"
+#include "core/rank.hpp"
 #include "enumerate/domain.hpp"
 #include "enumerate/functional_dimension.hpp"
 #include "enumerate/walker.hpp"
@@ -15,6 +16,7 @@
 #include <gtest/gtest.h>
 
 #include <algorithm>
+#include <optional>
 #include <vector>
 
 namespace pleat::detail {
@@ -78,6 +80,36 @@ TEST(AlwaysActiveRows, ProvedRowsAnnihilateEveryRegionAndChangedRowsAreNotProved
     changed.rows[r].back().second += Rational(1, 3);
     EXPECT_FALSE(rows_proved_by_always_active(network, state.smooth, changed, heavy)[r]) << "row " << r;
   }
+}
+
+// Before the lift: the plan's rows, computed from the generators and the
+// other rows (fill), equal the certified rows exactly; with a row the plan
+// needs missing, fill reports it.
+TEST(AlwaysActiveRows, PlannedRowsFilledFromTheOthersEqualTheCertifiedRows) {
+  const Network network = random_network({2, 15, 15, 15, 15, 1}, 1);
+  const Certified state = certified(network);
+  const std::uint64_t prime = primary_prime();
+  ModularMatrix image(state.extra.rows.size(), state.extra.cols);
+  for (std::size_t r = 0; r < state.extra.rows.size(); ++r)
+    for (const auto& [c, value] : state.extra.rows[r]) image(r, c) = *reduce_modulo(value, prime);
+  const AlwaysActivePlan plan(network, state.smooth, image, rows_with_at_least(state.extra, 8));
+  ASSERT_GE(plan.rows().size(), 1u);
+  std::vector<std::optional<SparseRationalRows::Row>> rows(state.extra.rows.begin(), state.extra.rows.end());
+  for (std::size_t b : plan.rows()) rows[b].reset();
+  std::vector<std::optional<SparseRationalRows::Row>> missing = rows;
+  ASSERT_TRUE(plan.fill(rows));
+  for (std::size_t r = 0; r < rows.size(); ++r) {
+    ASSERT_TRUE(rows[r].has_value()) << "row " << r;
+    EXPECT_EQ(*rows[r], state.extra.rows[r]) << "row " << r;
+  }
+  // A row outside the plan that its generators use, removed: no fill.
+  for (std::size_t r = 0; r < missing.size(); ++r)
+    if (missing[r] && missing[r]->size() > 1) {
+      std::vector<std::optional<SparseRationalRows::Row>> without = missing;
+      without[r].reset();
+      if (!plan.fill(without)) return;  // reported
+    }
+  ADD_FAILURE() << "no row outside the plan is needed by its generators";
 }
 
 TEST(AlwaysActiveRows, NoNeuronOnInEveryRegionProvesNothing) {

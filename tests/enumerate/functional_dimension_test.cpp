@@ -490,8 +490,9 @@ TEST(FunctionalDimension, LiftedExtraDirectionsEqualTheExactKernelsOnes) {
 // fractions, reconstructed and proved with no further prime ("kernel"
 // progress stays at 0). Its weights scaled by 10^-12 put the entries'
 // denominators past one prime's reach (2^24 for a row read off one prime):
-// those rows are lifted over further primes (progress 1, no exact solve:
-// 2), and the value, the kernel and the extra directions are those of the
+// those rows are lifted over further primes, or computed from the neurons
+// on in every region and the other rows (progress at most 1, no exact
+// solve: 2; the further primes alone: kernel_lift_test), and the value, the kernel and the extra directions are those of the
 // exact kernel (kernel_basis_exact), with 1 thread and with 2.
 TEST(FunctionalDimension, LiftStartsFromTheWalksPrimeAndAddsPrimesOnlyWhenNeeded) {
   auto lift_primes = [](const Network& network, FunctionalDimensionResult& result, unsigned threads = 1) {
@@ -519,7 +520,7 @@ TEST(FunctionalDimension, LiftStartsFromTheWalksPrimeAndAddsPrimesOnlyWhenNeeded
       for (std::size_t c = 0; c < layer.weights.cols(); ++c) layer.weights(r, c) = layer.weights(r, c) * tiny + Rational(1, 7);
   }
   FunctionalDimensionResult large;
-  EXPECT_EQ(lift_primes(scaled, large), 1u);
+  EXPECT_LE(lift_primes(scaled, large), 1u);
   ASSERT_TRUE(large.certified);
   std::vector<RationalMatrix> blocks;
   for (const ActivationPattern& pattern : smooth_patterns(scaled)) blocks.push_back(coefficient_blocks(scaled, pattern));
@@ -530,14 +531,14 @@ TEST(FunctionalDimension, LiftStartsFromTheWalksPrimeAndAddsPrimesOnlyWhenNeeded
   ASSERT_GT(extra.rows(), 0u);
   for (std::size_t r = 0; r < extra.rows(); ++r) EXPECT_EQ(large.extra_kernel[r].vector, extra.row(r));
   FunctionalDimensionResult two_threads;
-  EXPECT_EQ(lift_primes(scaled, two_threads, 2), 1u);
+  EXPECT_LE(lift_primes(scaled, two_threads, 2), 1u);
   EXPECT_EQ(two_threads.kernel, large.kernel);
   EXPECT_EQ(two_threads.functional_dimension, large.functional_dimension);
 
-  // Scaled by 10^-40 the kept rows' integer systems need three further
-  // primes before they are solved exactly (the reconstruction of their
-  // integers from three or more primes, fmpz_multi_CRT_ui): the same exact
-  // kernel's extra directions, with 1 thread and with 2.
+  // Scaled by 10^-40 (the kept rows' integer systems then need three
+  // further primes before they are solved exactly, when lifted:
+  // kernel_lift_test): the same exact kernel's extra directions, with 1
+  // thread and with 2.
   Network tinier = network;
   const Rational tiniest(1, Integer("10000000000000000000000000000000000000000"));
   for (Layer& layer : tinier.layers)
@@ -551,7 +552,7 @@ TEST(FunctionalDimension, LiftStartsFromTheWalksPrimeAndAddsPrimesOnlyWhenNeeded
   ASSERT_GT(tinier_extra.rows(), 0u);
   for (unsigned threads : {1u, 2u}) {
     FunctionalDimensionResult lifted;
-    EXPECT_EQ(lift_primes(tinier, lifted, threads), 1u);
+    EXPECT_LE(lift_primes(tinier, lifted, threads), 1u);  // no exact solve of all rows
     ASSERT_TRUE(lifted.certified);
     ASSERT_EQ(lifted.extra_kernel.size(), tinier_extra.rows());
     for (std::size_t r = 0; r < tinier_extra.rows(); ++r) EXPECT_EQ(lifted.extra_kernel[r].vector, tinier_extra.row(r));

@@ -55,6 +55,8 @@ class WalkTest(unittest.TestCase):
         self.assertEqual(result.region_count, 3)
         self.assertFalse(result.certified)
         self.assertEqual(result.stop_reason, "max-regions")
+        self.assertEqual(repr(result.regions), "<3 regions>")
+        self.assertEqual(repr(pleat.Network.from_file(FOLD).walk(max_regions=1).regions), "<1 region>")
         # Linear regions of a stopped walk bound nothing: the first 4 regions of
         # relu(min(x, y)) on this box are 4 pieces, the whole box has 3.
         quadrants = pleat.Network.from_file(harness.test_data("min_quadrants2d.json"))

@@ -1,0 +1,67 @@
+// When certify's no-walk path gives up (enumerate/functional_dimension.cpp's
+// points and lines phases). Internal to enumerate/ (not installed).
+#pragma once
+
+#include <cstddef>
+#include <vector>
+
+namespace pleat::detail {
+
+// Whether a phase of the no-walk path can still reach the scaling bound
+// (speed only: the walk that follows decides). False ends the phase early on
+// networks below their bound, where every point drawn is overhead before the
+// walk. Never false while the rank is within 1/16 of the bound: networks at
+// their bound rise steeply to near it, then find their last few rows slowly,
+// and for them (more inputs: a walk can be far dearer) the points are the
+// point. Further off, two forecasts, either of which ends the phase:
+// - the rate of the last `window` batches kept up for the rest of the
+//   budget falls short (ranks fall off: the recent rate is the optimistic
+//   guess);
+// - the rise decays geometrically and its sum falls short: with g1 the rise
+//   over the last two batches and g0 over the two before, the rest of the
+//   rise at ratio g1/g0 per two batches is g1 * ratio / (1 - ratio); the
+//   phase ends when even twice that misses by 16 rows or more. Below their
+//   bound the rank flattens that way within a few batches (2,10,10,10,1,
+//   seed 1: 79 128 176 184 192 after five batches of 32 points, 231 to
+//   reach; it stops there, not after 735 points and 12 lines), while at
+//   their bound every network we tried was within 1/16 of it or 16 rows by
+//   the fourth batch (3,6,6,6,1 seed 1: 89 of 97).
+class ReachForecast {
+ public:
+  // start: the rank before the phase's first batch.
+  ReachForecast(std::size_t window, std::size_t start) : window_(window), history_{start} {}
+  // The rank after a batch; used and budget in the phase's units (points or
+  // lines), batch_size units per batch.
+  bool reachable(std::size_t rank, std::size_t bound, std::size_t used, std::size_t budget, std::size_t batch_size) {
+    history_.push_back(rank);
+    const std::size_t deficit = bound - rank;
+    if (16 * deficit < bound) return true;
+    if (deficit >= 16 && decays_short_of(deficit)) {
+      decayed_ = true;
+      return false;
+    }
+    if (history_.size() <= window_ + 1) return true;
+    const std::size_t gain = rank - history_[history_.size() - 1 - window_];
+    const std::size_t remaining = budget > used ? budget - used : 0;
+    return gain * remaining >= deficit * window_ * batch_size;
+  }
+  // True when the phase ended on the geometric forecast: far below the bound.
+  bool decayed() const { return decayed_; }
+
+ private:
+  bool decays_short_of(std::size_t deficit) const {
+    const std::size_t k = history_.size() - 1;  // batches so far
+    if (k < 4) return false;
+    const double g1 = static_cast<double>(history_[k] - history_[k - 2]);
+    const double g0 = static_cast<double>(history_[k - 2] - history_[k - 4]);
+    if (g1 >= g0) return false;  // not decaying
+    const double ratio = g1 / g0;
+    return 2 * g1 * ratio / (1 - ratio) + 16 <= static_cast<double>(deficit);
+  }
+
+  std::size_t window_;
+  std::vector<std::size_t> history_;
+  bool decayed_ = false;
+};
+
+}  // namespace pleat::detail
