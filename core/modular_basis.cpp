@@ -335,6 +335,23 @@ void for_each_index(const ModularRowBasis::ParallelFor& parallel, std::size_t co
   }
 }
 
+// v -= sum_j v[pivots[j]] * block[j] (mod p), one exact sum per entry: clears
+// v at the block's pivot positions, since block row j is 1 at pivots[j] and 0
+// at the others'.
+void clear_at_pivots(ModularVector& v, const std::vector<ModularVector>& block, const std::vector<std::size_t>& pivots,
+                     std::uint64_t prime, std::uint64_t prime_inverse) {
+  std::vector<std::uint64_t> factors;
+  std::vector<const std::uint64_t*> parts;
+  for (std::size_t j = 0; j < block.size(); ++j)
+    if (const std::uint64_t factor = v[pivots[j]]; factor != 0) {
+      factors.push_back(factor);
+      parts.push_back(block[j].data());
+    }
+  if (!factors.empty())
+    subtract_combination(
+        factors, parts, v.size(), [&](std::size_t q) { return v[q]; }, v.data(), prime, prime_inverse);
+}
+
 }  // namespace
 
 std::size_t ModularRowBasis::add_rows(const std::vector<ModularVector>& rows, std::size_t rank_limit,
@@ -359,18 +376,7 @@ std::size_t ModularRowBasis::add_rows(const std::vector<ModularVector>& rows, st
     for_each_index(parallel, end - start, [&](std::size_t i) { reduced[i] = residual(rows[start + i]); });
     for (; considered < end && rank() + block.size() < limit; ++considered) {
       ModularVector& row = reduced[considered - start];
-      // Against the block: its rows are 0 at each other's pivots, so the
-      // factors are read off before any of them is subtracted.
-      std::vector<std::uint64_t> factors;
-      std::vector<const std::uint64_t*> parts;
-      for (std::size_t j = 0; j < block.size(); ++j)
-        if (const std::uint64_t factor = row[block_pivots[j]]; factor != 0) {
-          factors.push_back(factor);
-          parts.push_back(block[j].data());
-        }
-      if (!factors.empty())
-        subtract_combination(
-            factors, parts, row.size(), [&](std::size_t q) { return row[q]; }, row.data(), prime_, prime_inverse_);
+      clear_at_pivots(row, block, block_pivots, prime_, prime_inverse_);  // against the block
       // The pivot: the nonzero entry at the smallest column.
       std::size_t q = row.size();
       for (std::size_t k = 0; k < row.size(); ++k)
@@ -393,20 +399,9 @@ std::size_t ModularRowBasis::add_rows(const std::vector<ModularVector>& rows, st
 void ModularRowBasis::fold_block(std::vector<ModularVector>& block, const std::vector<std::size_t>& block_pivots,
                                  const ParallelFor& parallel) {
   if (block.empty()) return;
-  // Clear the block's pivot positions from every older kept row: part -=
-  // sum_j part[pivot_j] * (block row j), one exact sum per entry.
+  // Clear the block's pivot positions from every older kept row.
   for_each_index(parallel, free_parts_.size(), [&](std::size_t i) {
-    ModularVector& part = free_parts_[i];
-    std::vector<std::uint64_t> factors;
-    std::vector<const std::uint64_t*> parts;
-    for (std::size_t j = 0; j < block.size(); ++j)
-      if (const std::uint64_t factor = part[block_pivots[j]]; factor != 0) {
-        factors.push_back(factor);
-        parts.push_back(block[j].data());
-      }
-    if (!factors.empty())
-      subtract_combination(
-          factors, parts, part.size(), [&](std::size_t q) { return part[q]; }, part.data(), prime_, prime_inverse_);
+    clear_at_pivots(free_parts_[i], block, block_pivots, prime_, prime_inverse_);
   });
   for (std::size_t j = 0; j < block.size(); ++j) {
     pivot_columns_.push_back(free_columns_[block_pivots[j]]);

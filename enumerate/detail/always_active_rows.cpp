@@ -54,14 +54,7 @@ SparseVector mix_direction(const Network& network, std::size_t k, std::size_t a,
 SparseVector scaling_direction(const Network& network, std::size_t n) {
   std::size_t k = 0;
   while (n >= network.layers[k].width()) n -= network.layers[k++].width();
-  SparseVector out;
-  const Layer& layer = network.layers[k];
-  for (std::size_t j = 0; j < layer.fan_in(); ++j) add_to(out, weight_column(network, k, n, j), layer.weights(n, j));
-  add_to(out, bias_column(network, k, n), layer.bias[n]);
-  const Layer& next = network.layers[k + 1];
-  for (std::size_t o = 0; o < next.width(); ++o)
-    add_to(out, weight_column(network, k + 1, o, n), -next.weights(o, n));
-  return out;
+  return mix_direction(network, k, n, n);  // mix(n, n): n's own weights in, minus its own out
 }
 
 // The independent scaling directions and, for each pivot column q in Q,
