@@ -228,8 +228,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   auto keep_rows_of_points = [&](const std::vector<PointRegion>& point_regions, const std::vector<ModularMatrix>& rows,
                                  const std::vector<RationalVector>& points) {
     std::vector<ModularVector> candidates;
-    std::vector<std::size_t> owner;  // the point of each candidate row
-    std::vector<std::size_t> first_row(points.size() + 1, 0);
+    std::vector<std::size_t> first_row(points.size() + 1, 0);  // point i's rows: [first_row[i], first_row[i + 1])
     std::set<const ActivationPattern*, decltype([](const ActivationPattern* a, const ActivationPattern* b) {
                return *a < *b;
              })>
@@ -239,10 +238,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       const PointRegion& region = point_regions[i];
       if (region.verdict == PointVerdict::smooth && !seen_by_points.contains(region.pattern) &&
           in_batch.insert(&region.pattern).second)
-        for (std::size_t r = 0; r < rows[i].rows(); ++r) {
-          candidates.push_back(rows[i].row(r));
-          owner.push_back(i);
-        }
+        for (std::size_t r = 0; r < rows[i].rows(); ++r) candidates.push_back(rows[i].row(r));
     }
     first_row[points.size()] = candidates.size();
     std::vector<bool> rose;
@@ -252,8 +248,13 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
         candidates, result.scaling_bound, kept_rows,
         [&](std::size_t count, const std::function<void(std::size_t)>& body) { parallel_for(count, threads, body); });
     // Stopped at the bound: the last row considered raised the rank to it,
-    // and its point is the last one counted.
-    const std::size_t counted = considered < candidates.size() ? owner[considered - 1] + 1 : points.size();
+    // and its point (the last i with first_row[i] <= that row) is the last
+    // one counted.
+    const std::size_t counted =
+        considered < candidates.size()
+            ? static_cast<std::size_t>(std::upper_bound(first_row.begin(), first_row.end(), considered - 1) -
+                                       first_row.begin())
+            : points.size();
     rose.assign(counted, false);
     for (std::size_t i = 0; i < counted; ++i) {
       const PointRegion& region = point_regions[i];
