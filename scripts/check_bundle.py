@@ -1,9 +1,9 @@
 #!/usr/bin/env python3
 """Re-check a pleat-bundle/1 proof of a functional dimension, trusting no pleat code.
 
-    python3 scripts/check_bundle.py proof.json [more.json ...]
+    python3 scripts/check_bundle.py [--network NET.json] proof.json [more.json ...]
 
-Standard library only (fractions, json); every number is an exact Fraction.
+Standard library only (fractions, json, re); every number is an exact Fraction.
 From the bundled network alone it recomputes, for each listed region, the
 region's cell (from its activation pattern) and its coefficient-block rows;
 then it checks:
@@ -17,11 +17,14 @@ then it checks:
                 constraint is a facet (a point) or not (Motzkin multipliers),
                 and every region that crossing a facet at its point can reach
                 is listed or proved empty there (Gordan multipliers).
+--network NET.json: the bundle's own network must be that file's (every weight
+and bias equal). The report names the domain the value holds on.
 Exit status: 0 every proof checks, 1 one does not (its first failure is
 printed), 2 a file cannot be read. The format: docs/formats.md.
 """
 
 import json
+import re
 import sys
 from fractions import Fraction
 
@@ -30,12 +33,22 @@ class Rejected(Exception):
     pass
 
 
+# pleat-network/1's grammar of an exact number (ASCII digits only: Fraction
+# alone would also take "1_000", " 1/2" or other scripts' digits), with the
+# decimal exponent pleat's reader allows.
+NUMBER = re.compile(r"-?(?:(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE]([+-]?[0-9]+))?|[0-9]+/[0-9]+)")
+
+
 def number(value, where):
     if isinstance(value, bool) or not isinstance(value, (int, str, Fraction)):
         raise Rejected(f"{where}: expected a number, found {value!r}")
+    if isinstance(value, str):
+        spelled = NUMBER.fullmatch(value)
+        if not spelled or (spelled.group(1) and abs(int(spelled.group(1))) > 4000):
+            raise Rejected(f"{where}: not a number as pleat writes one: {value!r}")
     try:
         return Fraction(value)
-    except (ValueError, ZeroDivisionError):
+    except ZeroDivisionError:
         raise Rejected(f"{where}: not a number: {value!r}") from None
 
 
@@ -71,20 +84,40 @@ def rank(rows):
 
 
 class Network:
-    def __init__(self, doc):
+    """A pleat-network/1 document under pleat's reader's rules: a key pleat refuses (one
+    unknown, a hidden layer not "relu") would make it mean another function than the one checked."""
+
+    def __init__(self, doc, where="network"):
         if not isinstance(doc, dict) or doc.get("format") != "pleat-network/1":
-            raise Rejected("network: not a pleat-network/1 document")
-        self.n0 = doc["input_dim"]
+            raise Rejected(f"{where}: not a pleat-network/1 document")
+        unknown = set(doc) - {"format", "input_dim", "layers", "name", "meta"}
+        if unknown:
+            raise Rejected(f"{where}: unknown key {sorted(unknown)[0]!r} (pleat refuses it)")
+        self.n0 = doc.get("input_dim")
+        if not isinstance(self.n0, int) or isinstance(self.n0, bool) or self.n0 < 1:
+            raise Rejected(f"{where}.input_dim: expected a positive integer")
         self.W, self.b, self.widths = [], [], [self.n0]
-        layers = doc["layers"]
+        layers = doc.get("layers")
+        if not isinstance(layers, list) or not layers:
+            raise Rejected(f"{where}.layers: expected a non-empty list of layers")
+        self.activations = []
         for k, layer in enumerate(layers):
+            here = f"{where}.layers[{k}]"
+            if not isinstance(layer, dict) or set(layer) - {"weights", "bias", "activation"}:
+                raise Rejected(f"{here}: a layer has weights, bias and activation only")
+            is_last = k + 1 == len(layers)
+            activation = layer.get("activation", "linear" if is_last else "relu")
+            if activation not in ("relu", "linear") or (activation == "linear" and not is_last):
+                raise Rejected(f"{here}.activation: {activation!r}; pleat-network/1 has \"relu\" layers and "
+                               "a \"relu\" or \"linear\" last layer")
+            self.activations.append(activation)
             fan_in = self.widths[-1]
-            self.W.append([numbers(row, fan_in, f"network.layers[{k}].weights[{i}]")
-                           for i, row in enumerate(layer["weights"])])
-            self.b.append(numbers(layer["bias"], len(layer["weights"]), f"network.layers[{k}].bias"))
+            if not isinstance(layer.get("weights"), list) or not layer["weights"]:
+                raise Rejected(f"{here}.weights: expected a non-empty list of rows")
+            self.W.append([numbers(row, fan_in, f"{here}.weights[{i}]") for i, row in enumerate(layer["weights"])])
+            self.b.append(numbers(layer.get("bias"), len(layer["weights"]), f"{here}.bias"))
             self.widths.append(len(layer["weights"]))
-        last = layers[-1].get("activation", "linear")
-        self.output_relu = last == "relu"
+        self.output_relu = self.activations[-1] == "relu"
         self.relu_layers = len(layers) - (0 if self.output_relu else 1)
         self.nd = self.widths[-1]
         self.offsets = []  # parameter index of W_k[0][0]; W_k row-major, then b_k
@@ -248,18 +281,37 @@ class Network:
 
 
 def domain_constraints(domain, n0):
+    """The domain's open half-spaces (normal, offset). A box has one interval
+    per input, lower below upper (as pleat writes it)."""
     if domain == f"R^{n0}":
         return []
-    if isinstance(domain, dict) and "box" in domain:
+    if isinstance(domain, dict) and set(domain) == {"box"}:
+        box = domain["box"]
+        if not isinstance(box, list) or len(box) != n0:
+            raise Rejected(f"domain: a box needs {n0} intervals, one per input")
         sides = []
-        for axis, (lo, hi) in enumerate(domain["box"]):
+        for axis, interval in enumerate(box):
+            lo, hi = numbers(interval, 2, f"domain.box[{axis}]")
+            if not lo < hi:
+                raise Rejected(f"domain.box[{axis}]: the lower end {lo} is not below the upper end {hi}")
             e = [Fraction(int(i == axis)) for i in range(n0)]
-            sides.append((e, -number(lo, "domain")))
-            sides.append(([-v for v in e], number(hi, "domain")))
+            sides.append((e, -lo))
+            sides.append(([-v for v in e], hi))
         return sides
-    if isinstance(domain, dict) and domain.get("format") == "pleat-domain/1":
-        return [(numbers(c["normal"], n0, "domain"), number(c["offset"], "domain")) for c in domain["constraints"]]
-    raise Rejected(f"domain: {domain!r} is not a domain")
+    if isinstance(domain, dict) and set(domain) == {"format", "input_dim", "constraints"} and \
+            domain["format"] == "pleat-domain/1" and domain["input_dim"] == n0:
+        return [(numbers(c["normal"], n0, f"domain.constraints[{i}].normal"),
+                 number(c["offset"], f"domain.constraints[{i}].offset")) for i, c in enumerate(domain["constraints"])]
+    raise Rejected(f"domain: {domain!r} is not a domain of a {n0}-input network")
+
+
+def describe_domain(domain):
+    """The checked domain in words, for the report (numbers as Fractions)."""
+    if isinstance(domain, str):
+        return domain
+    if "box" in domain:
+        return "box " + "x".join(f"({number(lo, '')},{number(hi, '')})" for lo, hi in domain["box"])
+    return f"the bundle's polytope of {len(domain['constraints'])} half-spaces"
 
 
 def slack(constraint, x):
@@ -371,12 +423,21 @@ def check_crossings(net, domain, index, region, pattern, cell, facet_groups, lis
                            f"at the facet point but is not in the list: the list is incomplete")
 
 
-def check(bundle):
+def check(bundle, reference=None):
+    """reference: (path, Network) that the bundle's network must equal, or None."""
     if not isinstance(bundle, dict) or bundle.get("format") != "pleat-bundle/1":
         raise Rejected("not a pleat-bundle/1 document")
     net = Network(bundle["network"])
+    if reference is not None:
+        difference = same_network(net, reference[1])
+        if difference is not None:
+            raise Rejected(f"the bundle's network is not the one in {reference[0]}: {difference}")
     domain = domain_constraints(bundle["domain"], net.n0)
     value = bundle["functional_dimension"]
+    if not isinstance(value, int) or isinstance(value, bool) or value < 0:
+        raise Rejected(f"functional_dimension: expected a count, found {value!r}")
+    if not isinstance(bundle["every_region"], bool):
+        raise Rejected("every_region: expected true or false")
     if bundle["parametric_dimension"] != net.D:
         raise Rejected(f"parametric_dimension {bundle['parametric_dimension']} but the network has {net.D} parameters")
     every_region = bundle["every_region"] is True
@@ -452,23 +513,58 @@ def check(bundle):
     return net, value, len(regions), every_region, how
 
 
-def check_file(path):
+def object_without_duplicates(pairs):
+    """With a key written twice, json keeps the last value; a reader may take the first."""
+    keys = [key for key, _ in pairs]
+    if len(set(keys)) != len(keys):
+        raise ValueError(f"the key {next(k for k in keys if keys.count(k) > 1)!r} is written twice in one object")
+    return dict(pairs)
+
+
+def exact_float(text):
     try:
-        with open(path, encoding="utf-8") as f:
-            bundle = json.load(f, parse_float=Fraction)
-    except (OSError, ValueError) as fault:
+        return number(text, "a JSON number")
+    except Rejected as fault:
+        raise ValueError(str(fault)) from None
+
+
+def load(path):
+    """The JSON document in path (exit 2 when it cannot be read)."""
+    with open(path, encoding="utf-8") as f:
+        return json.load(f, parse_float=exact_float, object_pairs_hook=object_without_duplicates)
+
+
+def same_network(net, reference):
+    """None when the networks are one (widths, activations, every weight and
+    bias equal), else their first difference."""
+    if (net.widths, net.activations) != (reference.widths, reference.activations):
+        return f"layers {net.widths} {net.activations} against {reference.widths} {reference.activations}"
+    for k, (W, V, b, c) in enumerate(zip(net.W, reference.W, net.b, reference.b)):
+        entries = [(f"weights[{i}][{j}]", x, y) for i in range(len(W)) for j, (x, y) in enumerate(zip(W[i], V[i]))]
+        for place, x, y in entries + [(f"bias[{i}]", x, y) for i, (x, y) in enumerate(zip(b, c))]:
+            if x != y:
+                return f"layers[{k}].{place} is {x} in the bundle, {y} in the file"
+    return None
+
+
+def check_file(path, reference=None):
+    try:
+        bundle = load(path)
+    except (OSError, ValueError, RecursionError) as fault:
         print(f"check_bundle: {path}: cannot read ({fault})", file=sys.stderr)
         return 2
     try:
-        net, value, count, every_region, how = check(bundle)
+        net, value, count, every_region, how = check(bundle, reference)
     except Rejected as failure:
         print(f"REJECTED {path}: {failure}")
         return 1
     except (KeyError, TypeError, ValueError, IndexError, AttributeError) as fault:
         print(f"REJECTED {path}: malformed bundle ({type(fault).__name__}: {fault})")
         return 1
-    print(f"network      {' -> '.join(map(str, net.widths))}, D = {net.D}")
-    print(f"regions      {count} listed, every point strictly inside its region" +
+    print(f"network      {' -> '.join(map(str, net.widths))}, D = {net.D}" +
+          (f", equal to {reference[0]} (every weight and bias)" if reference is not None else ""))
+    print(f"domain       {describe_domain(bundle['domain'])}")
+    print(f"regions      {count} listed, every point strictly inside its region and the domain" +
           (", the list complete (facets and crossings checked)" if every_region else ""))
     print(f"lower bound  {value}: a nonsingular {value} x {value} minor of their coefficient-block rows")
     print(f"upper bound  {value}: {how}")
@@ -476,11 +572,28 @@ def check_file(path):
     return 0
 
 
+def read_reference(path):
+    """--network FILE: the pleat-network/1 file the bundles must hold."""
+    try:
+        return path, Network(load(path), path)
+    except (OSError, ValueError, RecursionError) as fault:
+        print(f"check_bundle: {path}: cannot read ({fault})", file=sys.stderr)
+    except Rejected as fault:
+        print(f"check_bundle: {fault}", file=sys.stderr)
+    return None
+
+
 def main(argv):
-    if len(argv) < 2:
-        print("usage: check_bundle.py BUNDLE.json [MORE.json ...]", file=sys.stderr)
+    arguments, reference = argv[1:], None
+    if len(arguments) >= 2 and arguments[0] == "--network":
+        reference = read_reference(arguments[1])
+        if reference is None:
+            return 2
+        arguments = arguments[2:]
+    if not arguments:
+        print("usage: check_bundle.py [--network NET.json] BUNDLE.json [MORE.json ...]", file=sys.stderr)
         return 2
-    return max(check_file(path) for path in argv[1:])
+    return max(check_file(path, reference) for path in arguments)
 
 
 if __name__ == "__main__":

@@ -12,9 +12,9 @@ source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
 checker=$source_dir/scripts/check_bundle.py
 
-# The checker never imports pleat: its imports are json, sys and fractions.
+# The checker never imports pleat: its imports are json, re, sys and fractions.
 imports=$(grep -E '^\s*(import|from) ' "$checker" | sort | tr '\n' ' ')
-[ "$imports" = "from fractions import Fraction import json import sys " ] || fail "check_bundle.py imports: $imports"
+[ "$imports" = "from fractions import Fraction import json import re import sys " ] || fail "check_bundle.py imports: $imports"
 
 bundles=()
 for net in "$source_dir"/tests/data/*.json "$source_dir"/data/*.json; do
