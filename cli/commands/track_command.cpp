@@ -191,9 +191,11 @@ TrackRow track_checkpoint(const TrackArguments& arguments, std::size_t index, Pr
 }
 
 // The change of the certified value from the previous checkpoint (null when
-// either is not certified).
+// either is not certified, or the previous one has no row).
 std::optional<long long> change_from_previous(const std::vector<TrackRow>& rows, std::size_t i) {
-  if (i == 0 || !rows[i].functional_dimension || !rows[i - 1].functional_dimension) return std::nullopt;
+  if (i == 0 || rows[i - 1].index + 1 != rows[i].index || !rows[i].functional_dimension ||
+      !rows[i - 1].functional_dimension)
+    return std::nullopt;
   return static_cast<long long>(*rows[i].functional_dimension) -
          static_cast<long long>(*rows[i - 1].functional_dimension);
 }
@@ -228,7 +230,10 @@ void print_table(const std::vector<TrackRow>& rows, const Domain& domain, std::o
   }
 }
 
-Json table_json(const std::vector<TrackRow>& rows, const Domain& domain) {
+// checkpoints: the files given; an interrupted run has rows for fewer, and
+// says so (interrupted), so that the table alone cannot pass for the run's.
+Json table_json(const std::vector<TrackRow>& rows, const Domain& domain, const std::vector<std::string>& checkpoints,
+                bool is_interrupted) {
   Json table = Json::array();
   for (std::size_t i = 0; i < rows.size(); ++i) {
     Json row = row_json(rows[i]);
@@ -236,22 +241,30 @@ Json table_json(const std::vector<TrackRow>& rows, const Domain& domain) {
     row["change"] = change ? Json(*change) : Json(nullptr);
     table.push_back(std::move(row));
   }
-  return Json{{"format", "pleat-track-table/1"}, {"domain", domain_to_json(domain)}, {"rows", std::move(table)}};
+  return Json{{"format", "pleat-track-table/1"}, {"domain", domain_to_json(domain)}, {"rows", std::move(table)},
+              {"checkpoints", checkpoints}, {"interrupted", is_interrupted}};
 }
 
-std::string table_csv(const std::vector<TrackRow>& rows) {
+std::string csv_quoted(const std::string& text) {
+  std::string quoted = "\"";  // a path may hold a comma (and '"' doubled)
+  for (char c : text) {
+    if (c == '"') quoted += '"';
+    quoted += c;
+  }
+  return quoted + '"';
+}
+
+// One row per checkpoint given: those an interrupted run did not reach are
+// listed with empty values, certified and walk_complete false, so that a
+// table of the finished ones cannot pass for the whole run.
+std::string table_csv(const std::vector<TrackRow>& rows, const std::vector<std::string>& checkpoints) {
   std::string text =
       "index,checkpoint,functional_dimension,lower_bound,upper_bound,certified,change,scaling_bound,"
       "parametric_dimension,regions,linear_regions,walk_complete,seconds\n";
   for (std::size_t i = 0; i < rows.size(); ++i) {
     const TrackRow& row = rows[i];
     const auto change = change_from_previous(rows, i);
-    std::string checkpoint = "\"";  // quoted: a path may hold a comma (and '"' doubled)
-    for (char c : row.checkpoint) {
-      if (c == '"') checkpoint += '"';
-      checkpoint += c;
-    }
-    checkpoint += '"';
+    const std::string checkpoint = csv_quoted(row.checkpoint);
     text += std::to_string(row.index) + "," + checkpoint + "," +
             (row.functional_dimension ? std::to_string(*row.functional_dimension) : "") + "," +
             std::to_string(row.lower_bound) + "," + std::to_string(row.upper_bound) + "," +
@@ -260,6 +273,10 @@ std::string table_csv(const std::vector<TrackRow>& rows) {
             std::to_string(row.regions) + "," + (row.linear_regions ? std::to_string(*row.linear_regions) : "") + "," +
             (row.walk_complete ? "true" : "false") + "," + format_double(row.seconds) + "\n";
   }
+  std::vector<bool> is_done(checkpoints.size(), false);
+  for (const TrackRow& row : rows) is_done[row.index] = true;
+  for (std::size_t i = 0; i < checkpoints.size(); ++i)
+    if (!is_done[i]) text += std::to_string(i) + "," + csv_quoted(checkpoints[i]) + ",,,,false,,,,,,false,\n";
   return text;
 }
 
@@ -399,15 +416,20 @@ int run_track(const TrackArguments& arguments) {
   progress.finish();
   std::vector<TrackRow> rows;
   for (auto& [index, row] : finished) rows.push_back(row);
-  if (rows.empty()) return is_interrupted ? 130 : 0;
+  if (rows.empty()) {
+    if (is_interrupted)
+      std::cerr << "pleat: track interrupted; 0 of " << count_of(arguments.checkpoints.size(), "checkpoint")
+                << " done: no table, CSV or plot written\n";
+    return is_interrupted ? 130 : 0;
+  }
 
-  if (!arguments.csv_path.empty()) write_output(arguments.csv_path, table_csv(rows));
+  if (!arguments.csv_path.empty()) write_output(arguments.csv_path, table_csv(rows, arguments.checkpoints));
   if (!arguments.svg_path.empty()) write_output(arguments.svg_path, track_svg(rows, domain, arguments.checkpoints.size()));
-  if (arguments.json) std::cout << json_text(table_json(rows, domain));
+  if (arguments.json) std::cout << json_text(table_json(rows, domain, arguments.checkpoints, is_interrupted));
   else print_table(rows, domain, std::cout);
   if (is_interrupted) {
-    std::cerr << "pleat: track interrupted; " << rows.size() << " of " << arguments.checkpoints.size()
-              << " checkpoints done" << (arguments.output_path.empty() ? "" : ", kept in " + arguments.output_path)
+    std::cerr << "pleat: track interrupted; " << rows.size() << " of " << count_of(arguments.checkpoints.size(), "checkpoint")
+              << " done" << (arguments.output_path.empty() ? "" : ", kept in " + arguments.output_path)
               << "\n";
     return 130;
   }
@@ -426,7 +448,8 @@ void register_track(CommandTable& commands) {
       "scaling bound, the regions (>= when cut short) and linear regions (- when cut short:\n"
       "regions not found may join the pieces found), and the change of\n"
       "the certified value from the previous checkpoint. --csv and --svg write the table and\n"
-      "a line plot; --json prints it (pleat-track-table/1).\n"
+      "a line plot; --json prints it (pleat-track-table/1). After Ctrl-C they hold the\n"
+      "checkpoints done; the CSV lists the others as empty rows, the JSON says \"interrupted\".\n"
       "-o FILE keeps one JSON line per finished checkpoint (pleat-track/1); rerunning the\n"
       "same command resumes, skipping the checkpoints already in the file (a checkpoint file\n"
       "that holds another network since is refused: give another -o or remove the file).\n\n"

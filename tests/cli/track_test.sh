@@ -98,12 +98,28 @@ table=$("$pleat" track "$work/big.json" --time-limit-each 0.001 -q) || fail "tra
 echo "$table" | tail -n 1 | grep -Eq ' >=[0-9]+ +- +[0-9.]+$' || fail "a cut row must show '>=' regions and '-' linear: $table"
 # Interrupted during the second checkpoint (a 2,400,1 walk of seconds): the
 # plot holds the first only, and its title says the run was interrupted (it
-# said "(1 checkpoint)", as if one had been asked for).
+# said "(1 checkpoint)", as if one had been asked for). The CSV lists the
+# checkpoints not reached, empty and not certified, and the JSON table says it
+# was interrupted (both held the first row alone, like a run of one).
 "$pleat" random --arch 2,400,1 --seed 1 -o "$work/long.json" || fail "pleat random exited $?"
-timeout --preserve-status -s INT "$(scaled 2)" "$pleat" track "${checkpoints[0]}" "$work/long.json" --threads 1 \
-  --svg "$work/cut.svg" -q > /dev/null 2>&1
+timeout --preserve-status -s INT "$(scaled 2)" "$pleat" track "${checkpoints[0]}" "$work/long.json" "${checkpoints[1]}" \
+  --threads 1 --svg "$work/cut.svg" --csv "$work/cut.csv" --json -q > "$work/cut_table.json" 2> "$work/cut.err"
 status=$?
 [ $status = 130 ] || fail "interrupted track exited $status, expected 130"
-grep -q "along training (1 of 2 checkpoints; the run was interrupted)" "$work/cut.svg" ||
+grep -q "along training (1 of 3 checkpoints; the run was interrupted)" "$work/cut.svg" ||
   fail "the interrupted run's plot: $(grep -o 'along training ([^)]*)' "$work/cut.svg")"
+grep -qx "pleat: track interrupted; 1 of 3 checkpoints done" "$work/cut.err" || fail "stderr: $(cat "$work/cut.err")"
+[ "$(tail -n 2 "$work/cut.csv")" = "1,\"$work/long.json\",,,,false,,,,,,false,
+2,\"${checkpoints[1]}\",,,,false,,,,,,false," ] || fail "the interrupted run's CSV: $(cat "$work/cut.csv")"
+[ "$(json_eval "$work/cut_table.json" '(d["interrupted"], len(d["rows"]), len(d["checkpoints"]))')" = "(True, 1, 3)" ] ||
+  fail "the interrupted run's JSON table: $(cat "$work/cut_table.json")"
+[ "$(json_eval "$work/cut.json" 'd["interrupted"]')" = "False" ] || fail "a run not interrupted: its JSON table says interrupted"
+# Interrupted before any checkpoint finished: nothing is written, and stderr says so.
+timeout --preserve-status -s INT "$(scaled 1)" "$pleat" track "$work/long.json" --threads 1 --csv "$work/none.csv" \
+  -q > /dev/null 2> "$work/none.err"
+status=$?
+[ $status = 130 ] || fail "track interrupted in its first checkpoint exited $status, expected 130"
+grep -qx "pleat: track interrupted; 0 of 1 checkpoint done: no table, CSV or plot written" "$work/none.err" ||
+  fail "stderr: $(cat "$work/none.err")"
+[ ! -e "$work/none.csv" ] || fail "a CSV was written with no checkpoint done"
 echo "track: all checks passed"
