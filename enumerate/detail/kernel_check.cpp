@@ -10,6 +10,7 @@
 #include <mutex>
 #include <thread>
 
+#include "enumerate/detail/integer_check.hpp"
 #include "enumerate/detail/parallel_for.hpp"
 #include "enumerate/detail/worker_pool.hpp"
 #include "enumerate/detail/worker_thread.hpp"
@@ -295,8 +296,10 @@ void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern&
   }
 }
 
+AnnihilationCheck::~AnnihilationCheck() = default;
+
 AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationalRows& vectors,
-                                     const CheckScale& check_scale, unsigned threads)
+                                     const CheckScale& check_scale, unsigned threads, CheckArithmetic arithmetic)
     : vector_count_(vectors.rows.size()) {
   static std::atomic<std::uint64_t> checks{0};
   id_ = ++checks;
@@ -343,6 +346,10 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
       else
         mpz_submul(sum.get_mpz_t(), bounds[c].get_mpz_t(), value.get_mpz_t());
   });
+  if (arithmetic == CheckArithmetic::fastest && IntegerCheck::applies(check_scale)) {
+    integer_ = std::make_unique<const IntegerCheck>(network, check_scale, integer_rows, needed);
+    return;
+  }
   const Integer largest = *std::max_element(needed.begin(), needed.end());
   // Each vector is reduced modulo the first primes whose product exceeds its
   // own bound only: a vector with small entries (most extra directions)
@@ -474,6 +481,7 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
   bool any_live = false;
   for (std::size_t v = 0; v < vector_count_; ++v) any_live |= (live[v] = has_live_term(v, pattern) ? 1 : 0) != 0;
   if (!any_live) return true;
+  if (integer_) return integer_->annihilates(pattern, live);
   // This thread's factors for each prime, with the pattern they were
   // computed for (reset for another check).
   struct Reuse {

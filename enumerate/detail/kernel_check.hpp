@@ -16,6 +16,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <functional>
+#include <memory>
 #include <optional>
 #include <utility>
 #include <vector>
@@ -74,16 +75,27 @@ struct CheckScale {
 // |N| <= L^(d-1) sum_c B_c |e_c|. N = 0 modulo primes whose
 // product exceeds that bound proves N = 0; the first prime also screens out
 // failures quickly.
+class IntegerCheck;  // integer_check.hpp
+
+// How the check takes the products: `fastest` in fixed-width integers when
+// every scaled bound B_c is below 2^127 (integer_check.hpp: one pass per
+// region), else modulo primes; `primes` modulo primes always. Both exact.
+enum class CheckArithmetic { fastest, primes };
+
 class AnnihilationCheck {
  public:
   // Polls the current thread's stop request (poll_stop) while it reduces the
   // vectors modulo each prime, on up to `threads` threads (the same check
   // for any number).
   AnnihilationCheck(const Network& network, const SparseRationalRows& vectors, const CheckScale& check_scale,
-                    unsigned threads = 1);
+                    unsigned threads = 1, CheckArithmetic arithmetic = CheckArithmetic::fastest);
   AnnihilationCheck(const Network& network, const RationalMatrix& vectors, const CheckScale& check_scale,
-                    unsigned threads = 1)
-      : AnnihilationCheck(network, SparseRationalRows::from_dense(vectors), check_scale, threads) {}
+                    unsigned threads = 1, CheckArithmetic arithmetic = CheckArithmetic::fastest)
+      : AnnihilationCheck(network, SparseRationalRows::from_dense(vectors), check_scale, threads, arithmetic) {}
+  ~AnnihilationCheck();
+  AnnihilationCheck(const AnnihilationCheck&) = delete;
+  AnnihilationCheck& operator=(const AnnihilationCheck&) = delete;
+  // The primes the products are taken modulo (0 in fixed-width integers).
   std::size_t primes() const { return moduli_.size(); }
   // True exactly when every vector annihilates every row of the pattern's
   // blocks. Exact; polls the current thread's stop request. The products are
@@ -158,6 +170,7 @@ class AnnihilationCheck {
   std::vector<std::size_t> neuron_layer_;
   std::vector<std::vector<TermNeurons>> term_neurons_;  // of each vector
   std::uint64_t id_ = 0;
+  std::unique_ptr<const IntegerCheck> integer_;  // the products in fixed-width integers, instead of moduli_
 };
 
 // Rows `rows` of a pattern's coefficient blocks modulo the network's prime,

@@ -6,6 +6,8 @@
 // elimination), and the lift must not prove an altered candidate.
 #include "enumerate/detail/kernel_lift.hpp"
 
+#include "enumerate/detail/integer_check.hpp"
+
 #include "core/jacobian.hpp"
 #include "core/network_io.hpp"
 #include "core/random_network.hpp"
@@ -291,13 +293,15 @@ TEST(KernelCheck, VectorsThroughNeuronsThatAreOffPassOnlyWhereTheProductsVanish)
         RationalMatrix vectors(1, columns);
         vectors(0, c) = large;
         vectors(0, c + 1) = Rational(-2, 3);
-        const detail::AnnihilationCheck check(network, vectors, scale);
-        for (std::size_t p = 0; p < state.smooth.size(); ++p) {
-          bool vanishes = true;
-          for (std::size_t r = 0; r < blocks[p].rows() && vanishes; ++r)
-            vanishes = blocks[p](r, c) * vectors(0, c) + blocks[p](r, c + 1) * vectors(0, c + 1) == 0;
-          EXPECT_EQ(check.annihilates(state.smooth[p]), vanishes) << "column " << c << " pattern " << p;
-          (vanishes ? passed : rejected) += 1;
+        for (const auto arithmetic : {detail::CheckArithmetic::fastest, detail::CheckArithmetic::primes}) {
+          const detail::AnnihilationCheck check(network, vectors, scale, 1, arithmetic);
+          for (std::size_t p = 0; p < state.smooth.size(); ++p) {
+            bool vanishes = true;
+            for (std::size_t r = 0; r < blocks[p].rows() && vanishes; ++r)
+              vanishes = blocks[p](r, c) * vectors(0, c) + blocks[p](r, c + 1) * vectors(0, c + 1) == 0;
+            EXPECT_EQ(check.annihilates(state.smooth[p]), vanishes) << "column " << c << " pattern " << p;
+            (vanishes ? passed : rejected) += 1;
+          }
         }
       }
   }
@@ -433,7 +437,6 @@ TEST(KernelCheck, ReusedLayerInputsGiveEachPatternsOwnAnswer) {
   RationalMatrix altered = extra;
   altered(0, network.parameter_offset(network.depth() - 1)) += Rational(1, 3);
   const detail::CheckScale scale(network);
-  const detail::AnnihilationCheck exact(network, extra, scale), wrong(network, altered, scale);
   auto annihilated = [&](const ActivationPattern& pattern) {
     const RationalMatrix blocks = coefficient_blocks(network, pattern);
     for (std::size_t r = 0; r < blocks.rows(); ++r) {
@@ -443,25 +446,85 @@ TEST(KernelCheck, ReusedLayerInputsGiveEachPatternsOwnAnswer) {
     }
     return true;
   };
-  std::vector<ActivationPattern> order = state.smooth;
   std::size_t rejected = 0;
-  for (int pass = 0; pass < 3; ++pass) {
-    if (pass == 1)
-      std::sort(order.begin(), order.end(),
-                [](const ActivationPattern& a, const ActivationPattern& b) { return a.states < b.states; });
-    if (pass == 2) std::reverse(order.begin(), order.end());
-    for (const ActivationPattern& pattern : order) {  // one check after the other
-      const bool expected = annihilated(pattern);
-      EXPECT_EQ(wrong.annihilates(pattern), expected);
-      rejected += expected ? 0 : 1;
-    }
-    for (const ActivationPattern& pattern : order) EXPECT_TRUE(exact.annihilates(pattern));
-    for (const ActivationPattern& pattern : order) {  // in turn
-      EXPECT_TRUE(exact.annihilates(pattern));
-      EXPECT_EQ(wrong.annihilates(pattern), annihilated(pattern));
+  // In fixed-width integers (this network's bounds allow them) and modulo primes.
+  for (const auto arithmetic : {detail::CheckArithmetic::fastest, detail::CheckArithmetic::primes}) {
+    const detail::AnnihilationCheck exact(network, extra, scale, 1, arithmetic),
+        wrong(network, altered, scale, 1, arithmetic);
+    std::vector<ActivationPattern> order = state.smooth;
+    for (int pass = 0; pass < 3; ++pass) {
+      if (pass == 1)
+        std::sort(order.begin(), order.end(),
+                  [](const ActivationPattern& a, const ActivationPattern& b) { return a.states < b.states; });
+      if (pass == 2) std::reverse(order.begin(), order.end());
+      for (const ActivationPattern& pattern : order) {  // one check after the other
+        const bool expected = annihilated(pattern);
+        EXPECT_EQ(wrong.annihilates(pattern), expected);
+        rejected += expected ? 0 : 1;
+      }
+      for (const ActivationPattern& pattern : order) EXPECT_TRUE(exact.annihilates(pattern));
+      for (const ActivationPattern& pattern : order) {  // in turn
+        EXPECT_TRUE(exact.annihilates(pattern));
+        EXPECT_EQ(wrong.annihilates(pattern), annihilated(pattern));
+      }
     }
   }
-  EXPECT_GT(rejected, 3u);
+  EXPECT_GT(rejected, 6u);
+}
+
+// The check takes its products in fixed-width integers when every scaled
+// bound is below 2^127 (detail::IntegerCheck), else modulo primes; forced
+// to primes (CheckArithmetic::primes) it takes them modulo primes anyway.
+// Both name the same first region as exact products with coefficient_blocks
+// for the exact extra directions and for each changed in one entry, by a
+// small and by a large amount (entries of hundreds of bits: many limbs, many
+// primes), on networks where the integers apply (decimal denominators,
+// sevenths, two outputs, a ReLU on the output) and where they do not
+// (denominators of 10^40 and more).
+TEST(KernelCheck, IntegersAndPrimesNameTheExactProductsFirstRegion) {
+  std::vector<std::pair<Network, bool>> networks = {
+      {random_network({2, 4, 3, 3, 1}, 31), true}, {random_network({2, 3, 3, 2}, 14), true},
+      {read_network_file(PLEAT_SOURCE_DIR "/tests/data/output_relu2d.json"), true},
+      {scaled_degenerate(), true}, {scaled_degenerate("10000000000000000000000000000000000000000"), false}};
+  std::size_t compared = 0, rejected = 0;
+  for (const auto& [network, integers] : networks) {
+    const detail::CheckScale scale(network);
+    EXPECT_EQ(detail::IntegerCheck::applies(scale), integers);
+    const WalkState state = walk_state(network);
+    const RationalMatrix extra = exact_extra_directions(network, state.smooth);
+    std::vector<RationalMatrix> blocks;
+    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    auto exact_first = [&](const RationalMatrix& vectors) -> std::optional<std::size_t> {
+      for (std::size_t p = 0; p < blocks.size(); ++p)
+        for (std::size_t v = 0; v < vectors.rows(); ++v)
+          for (std::size_t r = 0; r < blocks[p].rows(); ++r) {
+            Rational sum = 0;
+            for (std::size_t c = 0; c < vectors.cols(); ++c) sum += blocks[p](r, c) * vectors(v, c);
+            if (sum != 0) return p;
+          }
+      return std::nullopt;
+    };
+    const Rational large(Integer("1") << 500, 3);
+    for (std::size_t j = 0; j < extra.rows(); ++j)
+      for (std::size_t c = 0; c < extra.cols(); c += 2)
+        for (const Rational& change : {Rational(0), Rational(1, 3), large}) {
+          if (change == 0 && c > 0) continue;
+          RationalMatrix vectors = extra;
+          vectors(j, c) += change;
+          const std::optional<std::size_t> expected = exact_first(vectors);
+          for (const auto arithmetic : {detail::CheckArithmetic::fastest, detail::CheckArithmetic::primes}) {
+            const detail::AnnihilationCheck check(network, vectors, scale, 2, arithmetic);
+            bool stopped = false;
+            EXPECT_EQ(detail::first_rejected_pattern(check, state.smooth, 2, StopRequest(), stopped, {}), expected)
+                << "row " << j << " column " << c;
+            EXPECT_EQ(check.primes() == 0, integers && arithmetic == detail::CheckArithmetic::fastest);
+          }
+          rejected += expected.has_value();
+          ++compared;
+        }
+  }
+  EXPECT_GT(compared, 100u);
+  EXPECT_GT(rejected, 50u);
 }
 
 }  // namespace

@@ -1,0 +1,273 @@
+#include "enumerate/detail/integer_check.hpp"
+
+#include "core/stop.hpp"
+
+#include <algorithm>
+#include <atomic>
+
+namespace pleat::detail {
+namespace {
+
+__extension__ typedef unsigned __int128 Wide;
+
+// value modulo 2^128 (two's complement for a negative value).
+Wide wide_residue(const Integer& value) {
+  const mpz_srcptr z = value.get_mpz_t();
+  static_assert(sizeof(mp_limb_t) == 8, "64-bit GMP limbs");
+  const Wide magnitude = (static_cast<Wide>(mpz_getlimbn(z, 1)) << 64) | mpz_getlimbn(z, 0);
+  return sgn(value) < 0 ? -magnitude : magnitude;
+}
+
+// value modulo 2^(64 n), n limbs appended to out (two's complement).
+void append_limbs(const Integer& value, std::size_t n, std::vector<std::uint64_t>& out) {
+  const mpz_srcptr z = value.get_mpz_t();
+  const std::size_t first = out.size();
+  for (std::size_t i = 0; i < n; ++i) out.push_back(mpz_getlimbn(z, static_cast<mp_size_t>(i)));
+  if (sgn(value) >= 0) return;
+  std::uint64_t carry = 1;  // -x = ~x + 1
+  for (std::size_t i = first; i < out.size(); ++i) {
+    out[i] = ~out[i] + carry;
+    carry = carry && out[i] == 0 ? 1 : 0;
+  }
+}
+
+// acc += e F modulo 2^(64 n): e n limbs (two's complement), F the exact
+// integer |F| < 2^127 in two's complement modulo 2^128. Sign-extended, F is
+// its 128 bits as unsigned minus 2^128 when negative.
+[[gnu::always_inline]] inline void add_product(std::uint64_t* acc, const std::uint64_t* e, std::size_t n, Wide f) {
+  const auto low = static_cast<std::uint64_t>(f), high = static_cast<std::uint64_t>(f >> 64);
+  std::uint64_t carry = 0;
+  for (std::size_t i = 0; i < n; ++i) {
+    const Wide t = static_cast<Wide>(e[i]) * low + acc[i] + carry;
+    acc[i] = static_cast<std::uint64_t>(t);
+    carry = static_cast<std::uint64_t>(t >> 64);
+  }
+  if (n < 2 || high == 0) return;
+  carry = 0;
+  for (std::size_t i = 0; i + 1 < n; ++i) {
+    const Wide t = static_cast<Wide>(e[i]) * high + acc[i + 1] + carry;
+    acc[i + 1] = static_cast<std::uint64_t>(t);
+    carry = static_cast<std::uint64_t>(t >> 64);
+  }
+  if ((high >> 63) == 0 || n < 3) return;
+  std::uint64_t borrow = 0;  // acc -= e 2^128
+  for (std::size_t i = 0; i + 2 < n; ++i) {
+    const std::uint64_t before = acc[i + 2];
+    const std::uint64_t after = before - e[i] - borrow;
+    borrow = (before < e[i] || (before == e[i] && borrow)) ? 1 : 0;
+    acc[i + 2] = after;
+  }
+}
+
+}  // namespace
+
+// One thread's layer inputs X_k (offset: one per input; linear: n0 slopes
+// per input) and signals H_k (nd x width_k), modulo 2^128, and which
+// neurons pass; buffers reused from one region to the next.
+struct IntegerCheck::Factors {
+  std::vector<std::vector<Wide>> offset, linear, signal;
+  std::vector<std::vector<std::size_t>> passing;
+  std::vector<std::uint64_t> sums;  // (n0 + 1) accumulators of n limbs
+};
+
+bool IntegerCheck::applies(const CheckScale& check_scale) {
+  return std::all_of(check_scale.scaled_bounds.begin(), check_scale.scaled_bounds.end(),
+                     [](const Integer& bound) { return mpz_sizeinbase(bound.get_mpz_t(), 2) <= 127; });
+}
+
+IntegerCheck::IntegerCheck(const Network& network, const CheckScale& check_scale, const std::vector<Entries>& vectors,
+                           const std::vector<Integer>& bounds)
+    : depth_(network.depth()), n0_(network.input_dim), nd_(network.output_dim()),
+      output_relu_(network.has_output_relu()) {
+  static std::atomic<std::uint64_t> checks{0};
+  id_ = ++checks;
+  const Integer& lcm = check_scale.lcm;
+  Integer power = 1;  // L^k
+  auto scaled = [&](const Rational& value, const Integer& factor) {  // factor value, an integer
+    Integer out;
+    mpz_divexact(out.get_mpz_t(), factor.get_mpz_t(), value.get_den_mpz_t());
+    out *= value.get_num();
+    return wide_residue(out);
+  };
+  struct Role {
+    std::size_t layer, neuron, input;
+  };
+  std::vector<Role> roles;  // of each column
+  for (std::size_t k = 0; k < depth_; ++k) {
+    const Layer& layer = network.layers[k];
+    widths_.push_back(layer.width());
+    powers_.push_back(wide_residue(power));
+    const Integer next_power = power * lcm;
+    weights_.emplace_back();
+    for (std::size_t i = 0; i < layer.width(); ++i)
+      for (std::size_t j = 0; j < layer.fan_in(); ++j) {
+        weights_.back().push_back(scaled(layer.weights(i, j), lcm));
+        roles.push_back({k, i, j});
+      }
+    biases_.emplace_back();
+    for (std::size_t i = 0; i < layer.width(); ++i) {
+      biases_.back().push_back(scaled(layer.bias[i], next_power));
+      roles.push_back({k, i, bias});
+    }
+    if (k + 1 < depth_ || output_relu_) neuron_layer_.insert(neuron_layer_.end(), layer.width(), k);
+    power = next_power;
+  }
+  backward_to_ = depth_;
+  for (std::size_t v = 0; v < vectors.size(); ++v) {
+    // A column whose bound is 0 is 0 on every pattern: no term.
+    Entries entries;
+    for (const auto& [c, value] : vectors[v])
+      if (sgn(check_scale.scaled_bounds[c]) != 0) entries.emplace_back(c, value);
+    if (entries.empty()) continue;
+    for (const auto& [c, value] : entries) {
+      if (roles[c].input != bias) forward_to_ = std::max(forward_to_, roles[c].layer);
+      backward_to_ = std::min(backward_to_, roles[c].layer);
+    }
+    if (entries.size() == 1) {
+      const Role& role = roles[entries.front().first];
+      units_.push_back({v, role.layer, role.neuron, role.input});
+      continue;
+    }
+    Vector vector{v, mpz_sizeinbase(bounds[v].get_mpz_t(), 2) / 64 + 1, {}};
+    most_limbs_ = std::max(most_limbs_, vector.limbs);
+    for (const auto& [c, value] : entries) {
+      const Role& role = roles[c];
+      if (vector.runs.empty() || vector.runs.back().layer != role.layer || vector.runs.back().neuron != role.neuron)
+        vector.runs.push_back({role.layer, role.neuron, terms_.size(), terms_.size()});
+      terms_.push_back({role.input, limbs_.size()});
+      append_limbs(value, vector.limbs, limbs_);
+      ++vector.runs.back().last;
+    }
+    vectors_.push_back(std::move(vector));
+  }
+}
+
+void IntegerCheck::compute_factors(const ActivationPattern& pattern, Factors& factors, std::size_t reuse_below) const {
+  factors.passing.resize(depth_);
+  factors.offset.resize(depth_);
+  factors.linear.resize(depth_);
+  factors.signal.resize(depth_);
+  for (std::size_t k = 0, neuron = 0; k < depth_; ++k) {
+    std::vector<std::size_t>& passing = factors.passing[k];
+    passing.clear();
+    const bool has_relu = k + 1 < depth_ || output_relu_;
+    for (std::size_t i = 0; i < widths_[k]; ++i, neuron += has_relu ? 1 : 0)
+      if (!has_relu || pattern.is_on(neuron)) passing.push_back(i);
+  }
+  // X_0: the input itself (offset 0, slopes the identity).
+  factors.offset[0].assign(n0_, 0);
+  factors.linear[0].assign(n0_ * n0_, 0);
+  for (std::size_t t = 0; t < n0_; ++t) factors.linear[0][t * n0_ + t] = 1;
+  // X_{k+1}[i] = L^(k+1) b_k[i] + sum_j (L W_k[i,j]) X_k[j] at the passing i.
+  for (std::size_t k = reuse_below; k < forward_to_; ++k) {
+    std::vector<Wide>& offset = factors.offset[k + 1];
+    std::vector<Wide>& linear = factors.linear[k + 1];
+    offset.assign(widths_[k], 0);
+    linear.assign(widths_[k] * n0_, 0);
+    if (k == 0) {  // from the input itself: offset L b_0[i], slopes L W_0[i,:], no products
+      for (std::size_t i : factors.passing[0]) {
+        offset[i] = biases_[0][i];
+        for (std::size_t t = 0; t < n0_; ++t) linear[i * n0_ + t] = weights_[0][i * n0_ + t];
+      }
+      continue;
+    }
+    const std::vector<Wide>& in_offset = factors.offset[k];
+    const std::vector<Wide>& in_linear = factors.linear[k];
+    for (std::size_t i : factors.passing[k]) {
+      const Wide* row = weights_[k].data() + i * widths_[k - 1];
+      Wide sum = biases_[k][i];
+      Wide* slopes = linear.data() + i * n0_;
+      auto add_input = [&](std::size_t j) {
+        sum += row[j] * in_offset[j];
+        for (std::size_t t = 0; t < n0_; ++t) slopes[t] += row[j] * in_linear[j * n0_ + t];
+      };
+      for (std::size_t j : factors.passing[k - 1]) add_input(j);
+      offset[i] = sum;
+    }
+  }
+  // H_{d-1} = I at the passing outputs; H_k[o,i] = sum_m H_{k+1}[o,m] (L W_{k+1}[m,i]) at the passing i.
+  for (std::size_t k = depth_; k-- > backward_to_;) {
+    std::vector<Wide>& signal = factors.signal[k];
+    signal.assign(nd_ * widths_[k], 0);
+    if (k + 1 == depth_) {
+      for (std::size_t o : factors.passing[k]) signal[o * widths_[k] + o] = 1;
+      continue;
+    }
+    const std::vector<Wide>& next = factors.signal[k + 1];
+    const std::size_t next_width = widths_[k + 1], width = widths_[k];
+    for (std::size_t o = 0; o < nd_; ++o)
+      for (std::size_t i : factors.passing[k]) {
+        Wide sum = 0;
+        for (std::size_t m : factors.passing[k + 1]) sum += next[o * next_width + m] * weights_[k + 1][m * width + i];
+        signal[o * width + i] = sum;
+      }
+  }
+}
+
+bool IntegerCheck::annihilates(const ActivationPattern& pattern, const std::vector<char>& live) const {
+  struct Reuse {
+    std::uint64_t id = 0;
+    Factors factors;
+    std::vector<NeuronState> last;
+  };
+  thread_local Reuse reuse;
+  if (reuse.id != id_) {
+    reuse.id = id_;
+    reuse.last.clear();
+  }
+  // The layer inputs before the first neuron that differs from the last
+  // pattern's are still valid.
+  std::size_t same = 0;
+  if (reuse.last.size() == pattern.states.size()) {
+    std::size_t n = 0;
+    while (n < reuse.last.size() && reuse.last[n] == pattern.states[n]) ++n;
+    same = n < neuron_layer_.size() ? neuron_layer_[n] : depth_;
+  }
+  reuse.last.clear();  // invalid until the factors are complete
+  poll_stop();
+  Factors& factors = reuse.factors;
+  compute_factors(pattern, factors, same);
+  reuse.last = pattern.states;
+  const std::size_t n0 = n0_;
+  for (std::size_t o = 0; o < nd_; ++o) {
+    for (const Unit& unit : units_) {
+      if (!live[unit.index]) continue;
+      const Wide h = factors.signal[unit.layer][o * widths_[unit.layer] + unit.neuron];
+      if (h == 0) continue;  // every F = h x is 0 modulo 2^128, hence 0
+      if (unit.input == bias) {
+        if (h * powers_[unit.layer] != 0) return false;
+        continue;
+      }
+      if (h * factors.offset[unit.layer][unit.input] != 0) return false;
+      for (std::size_t t = 0; t < n0; ++t)
+        if (h * factors.linear[unit.layer][unit.input * n0 + t] != 0) return false;
+    }
+    for (const Vector& vector : vectors_) {
+      if (!live[vector.index]) continue;
+      const std::size_t n = vector.limbs;
+      std::vector<std::uint64_t>& sums = factors.sums;
+      sums.assign((n0 + 1) * n, 0);
+      for (const Run& run : vector.runs) {
+        const Wide h = factors.signal[run.layer][o * widths_[run.layer] + run.neuron];
+        if (h == 0) continue;
+        const Wide* offsets = factors.offset[run.layer].data();
+        const Wide* linear = factors.linear[run.layer].data();
+        for (std::size_t e = run.first; e < run.last; ++e) {
+          const Term& term = terms_[e];
+          const std::uint64_t* limbs = limbs_.data() + term.limbs;
+          if (term.input == bias) {
+            add_product(sums.data(), limbs, n, h * powers_[run.layer]);
+            continue;
+          }
+          add_product(sums.data(), limbs, n, h * offsets[term.input]);
+          for (std::size_t t = 0; t < n0; ++t)
+            add_product(sums.data() + (t + 1) * n, limbs, n, h * linear[term.input * n0 + t]);
+        }
+      }
+      if (std::any_of(sums.begin(), sums.end(), [](std::uint64_t limb) { return limb != 0; })) return false;
+    }
+  }
+  return true;
+}
+
+}  // namespace pleat::detail
