@@ -155,6 +155,7 @@ void print_grid(const std::vector<SurveyRecord>& records, const std::vector<Surv
 }
 
 std::string histogram_svg(const SurveyRecord& record, const SurveySummary& summary) {
+  const std::uint64_t missing = missing_samples(record);  // a survey still running, or a task of several
   // The house style (docs/figure-style.md): no gridlines and no count axis,
   // each bar carries its count; bars in the palette's deep slate, the scaling
   // bound as a thin ink rule with its value; a detached range-frame value
@@ -216,9 +217,10 @@ std::string histogram_svg(const SurveyRecord& record, const SurveySummary& summa
   svg << "<text x=\"" << width - right << "\" y=\"" << axis_y + 34 << "\" font-size=\"12.5\" text-anchor=\"end\" fill=\""
       << ink << "\">certified functional dimension \u2192</text>\n";
   svg << "<text x=\"" << left << "\" y=\"" << height - 12 << "\" font-size=\"9.5\" fill=\"" << quiet << "\">"
-      << escape_xml(arch) << ": " << summary.certified << " of " << summary.samples << " samples certified; "
+      << escape_xml(arch) << ": " << summary.certified << " of " << summary.samples + missing << " samples certified; "
       << escape_xml(describe_configuration(record.header));
   if (summary.uncertified) svg << "; " << summary.uncertified << " cut short by the time limit, not shown";
+  if (missing) svg << "; " << missing << " not run yet";
   svg << "</text>\n";
   if (summary.scaling_bound) {
     const double x = x_of(*summary.scaling_bound) + 0.5 * bin_width;

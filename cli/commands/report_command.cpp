@@ -304,8 +304,11 @@ std::vector<SummaryRow> survey_rows(const SurveyRecord& record, const SurveySumm
                                 " digits, seed " + std::to_string(h["seed"].get<std::uint64_t>()) + ", domain " +
                                 configuration_from_header(h, record.source).domain.describe() + ")"});
   rows.push_back({"file", record.source});
-  rows.push_back({"samples", std::to_string(summary.samples) + ": " + std::to_string(summary.certified) +
-                                 " certified, " + std::to_string(summary.uncertified) + " cut short (bounds only, not in the histogram)"});
+  const std::uint64_t missing = missing_samples(record);
+  rows.push_back({"samples", std::to_string(summary.samples) + " of " + std::to_string(summary.samples + missing) +
+                                 ": " + std::to_string(summary.certified) + " certified, " +
+                                 std::to_string(summary.uncertified) + " cut short (bounds only, not in the histogram)" +
+                                 (missing ? ", " + std::to_string(missing) + " not run yet" : "")});
   rows.push_back({"scaling bound", summary.scaling_bound ? std::to_string(*summary.scaling_bound) : "differs between samples"});
   rows.push_back({"mean", exact_with_decimal(summary.mean)});
   rows.push_back({"variance (n-1)", exact_with_decimal(summary.variance)});
