@@ -52,7 +52,7 @@ class SurveyResult:
     domain: str = field(repr=False)
     path: Optional[str] = field(repr=False)
     resumed: int = field(repr=False)
-    interrupted: bool = field(repr=False)
+    interrupted: bool  # shown: a survey stopped by Ctrl-C holds fewer samples than samples_total
     header: str = field(repr=False)
 
     def to_records(self) -> list[dict[str, Any]]:

@@ -68,6 +68,7 @@ class InterruptTest(unittest.TestCase):
         interrupt_after(1.0)
         result = pleat.survey([3, 10, 10, 1], 200, 3, threads=2, output=path)
         self.assertTrue(result.interrupted)
+        self.assertIn("interrupted=True", repr(result))  # the repr of a partial survey says so
         self.assertLess(len(result.samples), 200)
         again = pleat.read_survey(path)
         self.assertEqual([s.sample for s in again.samples], [s.sample for s in result.samples])
