@@ -160,7 +160,8 @@ int run_walk(const WalkArguments& arguments) {
     if (arguments.patterns)
       for (const auto& pattern : summary.patterns) std::cout << format_pattern(network, pattern) << "\n";
     if (!arguments.output_path.empty())
-      std::cout << "written     " << arguments.output_path << " (" << count_of(summary.regions, "region line") << ")\n";
+      std::cout << "written     " << arguments.output_path << " (" << count_of(summary.regions, "region line")
+                << (summary.complete ? "" : ", one per region found; regions are missing") << ")\n";
     if (!arguments.points_path.empty())
       std::cout << "written     " << arguments.points_path << " ("
                 << count_of(interior_points.size(), "interior point") << ", one per region"

@@ -13,8 +13,12 @@ out=$("$pleat" draw "$ramp" --view 0,1/1000 --out "$work/one.svg" -q) || fail "d
 expect_contains "$out" "graph       1 piece, 0 breakpoints (exact" "draw, one piece"
 
 out=$("$pleat" walk "$fold" --max-regions 1 -o "$work/r.jsonl" --points-out "$work/p.txt" -q) || fail "walk exited $?"
-expect_contains "$out" "(1 region line)" "walk -o, one region"
+# A walk cut short says its region file misses regions (it read "(1 region line)",
+# as for a whole walk of one region).
+expect_contains "$out" "(1 region line, one per region found; regions are missing)" "walk -o, one region"
 expect_contains "$out" "(1 interior point, one per region found)" "walk --points-out, one region"
+out=$("$pleat" walk "$fold" --box 0,1/1000 -o "$work/whole.jsonl" -q) || fail "walk of a tiny box exited $?"
+expect_contains "$out" "written     $work/whole.jsonl (1 region line)" "walk -o, a whole walk of one region"
 
 out=$("$pleat" sample "$fold" --batch 1 --seed 1 -q) || fail "sample exited $?"
 expect_contains "$out" "Jacobian at 1 point, 1 x 59;" "sample, a batch of one"
