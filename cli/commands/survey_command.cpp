@@ -458,8 +458,12 @@ int run_merge(const SurveyArguments& arguments) {
   SurveyRecord result{header, samples, arguments.merge_path};
   const std::uint64_t missing = missing_samples(result);
   if (!arguments.quiet)
-    std::cerr << "merged " << records.size() << (records.size() == 1 ? " file: " : " files: ") << samples.size()
-              << (samples.size() == 1 ? " sample, " : " samples, ") << describe_tasks(merged) << (missing ? ", " + std::to_string(missing) + (missing == 1 ? " sample" : " samples") + " still missing" : "")
+    // "4 of 6 samples, the whole survey (2 not run yet)": it read "4 samples,
+    // the whole survey, 2 samples still missing", as if the survey were whole.
+    std::cerr << "merged " << count_of(records.size(), "file") << ": "
+              << (missing ? std::to_string(samples.size()) + " of " + count_of(samples.size() + missing, "sample")
+                          : count_of(samples.size(), "sample"))
+              << ", " << describe_tasks(merged) << (missing ? " (" + std::to_string(missing) + " not run yet)" : "")
               << "\n";
   return 0;
 }

@@ -53,6 +53,13 @@ cmp -s <(normal "$work/merged.jsonl") <(normal "$work/all.jsonl") || {
 "$pleat" survey merge "$work/part0.jsonl" -o "$work/one.jsonl" 2> "$work/one.err" || fail "merging one file exited $?"
 grep -qx "merged 1 file: 3 samples, task 0 of 3" "$work/one.err" ||
   fail "merge message: $(cat "$work/one.err")"
+# Tasks that have not run every sample: the message counts the samples of the
+# survey (it read "8 samples, the whole survey, 1 sample still missing").
+head -n 3 "$work/part1.jsonl" > "$work/part1_cut.jsonl"  # 2 of task 1's 3 samples
+"$pleat" survey merge "$work/part0.jsonl" "$work/part1_cut.jsonl" "$work/part2.jsonl" -o "$work/partial.jsonl" \
+  2> "$work/partial.err" || fail "merging a task with a sample not run exited $?"
+grep -qx "merged 3 files: 8 of 9 samples, the whole survey (1 not run yet)" "$work/partial.err" ||
+  fail "merge message: $(cat "$work/partial.err")"
 # A merged file is a whole survey: rerunning the unsharded command adds nothing.
 cp "$work/merged.jsonl" "$work/merged2.jsonl"
 survey -o "$work/merged2.jsonl" || fail "resuming a merged survey exited $?"
