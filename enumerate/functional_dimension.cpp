@@ -282,7 +282,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     const std::size_t budget = 4 * result.scaling_bound + 256;
     constexpr std::size_t batch = 32;
     std::size_t since_rise = 0;
-    detail::ReachForecast forecast(8, basis.rank());
+    detail::ReachForecast forecast(8, basis.rank(), domain.dim <= 2);
     const StopScope scope(stop);
     while (basis.rank() < result.scaling_bound && since_rise < patience && result.points_drawn < budget) {
       if (stop.is_requested()) return;
