@@ -57,11 +57,13 @@ class Facet:
 class Region:
     """One activation region, as the walk certified it.
 
-    pattern: the activation pattern ("101|01"); point: an exact point strictly
-    inside; bounded: bounded as a subset of R^n0; facets: its irredundant
-    facets; affine: the network's exact map on it; nonsmooth_neurons: neurons
-    identically zero there with a nonzero backward signal."""
-    id: int
+    id: its number in the walk (None from Network.inspect, which walks
+    nothing); pattern: the activation pattern ("101|01"); point: an exact
+    point strictly inside; bounded: bounded as a subset of R^n0; facets: its
+    irredundant facets; affine: the network's exact map on it;
+    nonsmooth_neurons: neurons identically zero there with a nonzero backward
+    signal."""
+    id: Optional[int]
     pattern: str
     point: list[Fraction]
     bounded: bool
@@ -380,7 +382,7 @@ class RegionRecord(Region):
 
 
 def _record(data: dict) -> RegionRecord:
-    base = _region(data)
+    base = dataclasses.replace(_region(data), id=None)  # no walk numbered it
     return RegionRecord(**{f.name: getattr(base, f.name) for f in dataclasses.fields(Region)},
                         bounded_in_domain=data["bounded_in_domain"], vertices=data["vertices"],
                         vertex_order=data["vertex_order"], rays=data["rays"], lines=data["lines"],

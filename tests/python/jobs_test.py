@@ -259,6 +259,10 @@ class InspectEvalTest(unittest.TestCase):
         self.assertEqual([r.pattern for r in mine.regions], [r["pattern"] for r in cli["regions"]])
         with self.assertRaises(ValueError):
             _ = mine.region
+        # inspect walks nothing, so no region has a walk number: every record
+        # read id=0, as if each were the walk's first region.
+        self.assertEqual([r.id for r in mine.regions], [None] * 4)
+        self.assertNotIn("id=0", repr(mine))
 
     def test_eval_equals_the_cli(self):
         net = pleat.Network.from_file(FOLD)
