@@ -67,7 +67,8 @@ constexpr const char* survey_help =
     "With --arch given several times, each architecture gets its own file: -o FILE with\n"
     "'{arch}' in it has that replaced by the widths (2-5-5-1), otherwise the widths are\n"
     "inserted before the extension (survey.jsonl -> survey.2-5-5-1.jsonl).\n"
-    "Samples cut short by --time-limit-each are kept as bounds, out of the histogram.\n"
+    "Samples cut short by --time-limit-each are kept as bounds, out of the histogram\n"
+    "(a rerun keeps them too: remove their lines from the file to run them again).\n"
     "Unless -q, a run first times one sample per thread of each architecture (kept, not\n"
     "rerun) and prints the projected CPU time of every sample still to run; the progress\n"
     "line then gives samples/s.\n"
@@ -167,9 +168,15 @@ SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration
 
   std::unique_ptr<SurveyWriter> writer;
   if (!path.empty() && is_leader) writer = std::make_unique<SurveyWriter>(path, keep_bytes, record.header);
-  if (!done.empty() && !arguments.quiet)
-    std::cerr << "pleat: " << path << ": resuming, " << count_of(done.size(), "sample") << " already there, " << todo.size()
-              << " to run\n";
+  if (!done.empty() && !arguments.quiet) {
+    // Samples an earlier run cut short stay bounds (the file keeps them): say
+    // so, since a rerun with a longer limit does not retry them.
+    const auto cut = std::count_if(record.samples.begin(), record.samples.end(),
+                                   [](const SurveySample& s) { return !s.functional_dimension; });
+    std::cerr << "pleat: " << path << ": resuming, " << count_of(done.size(), "sample") << " already there"
+              << (cut ? " (" + std::to_string(cut) + " of them cut short by a time limit, kept as bounds)" : "") << ", "
+              << todo.size() << " to run\n";
+  }
 
   // Probe samples (computed before this survey's turn) are written first;
   // the rate counts only the samples run here.

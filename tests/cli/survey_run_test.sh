@@ -132,4 +132,15 @@ if "$pleat" survey summary "$work/odd_stop.jsonl" > /dev/null 2> "$work/odd_stop
   fail "a sample with stop_reason \"sideways\" was accepted"
 fi
 grep -q 'unknown "stop_reason" "sideways"' "$work/odd_stop.err" || fail "message: $(cat "$work/odd_stop.err")"
+# Samples cut short by a time limit stay bounds on a rerun without it: the
+# resume line says so (it read "3 samples already there, 0 to run", and the
+# summary "3 cut short by the time limit" from a run given none).
+"$pleat" survey --arch 2,20,20,1 --samples 3 --seed 1 --time-limit-each 0.000001 -q -o "$work/limited.jsonl" > /dev/null ||
+  fail "time-limited survey exited $?"
+cut=$(grep -c '"functional_dimension":null' "$work/limited.jsonl")
+[ "$cut" -ge 1 ] || fail "no sample of 2,20,20,1 was cut short in 1 us"
+"$pleat" survey --arch 2,20,20,1 --samples 3 --seed 1 -o "$work/limited.jsonl" > /dev/null 2> "$work/limited.err" ||
+  fail "the rerun exited $?"
+grep -q "resuming, 3 samples already there ($cut of them cut short by a time limit, kept as bounds), 0 to run" \
+  "$work/limited.err" || fail "resume line: $(cat "$work/limited.err")"
 echo "survey run: ok"
