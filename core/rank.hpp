@@ -200,6 +200,10 @@ class ModularRowBasis {
   // rank() x columns() rows spanning the same space mod p as every row added
   // (the stored echelon form: 1 at its pivot, 0 at the other pivots).
   ModularMatrix rows() const;
+  // The same rows without writing them out: the columns outside the pivots
+  // (in no particular order) and kept row i at those columns.
+  const std::vector<std::size_t>& free_columns() const { return free_columns_; }
+  const ModularVector& free_part(std::size_t i) const { return free_parts_[i]; }
 
  private:
   // row minus its projection on the kept rows, on free_columns_ only (zero

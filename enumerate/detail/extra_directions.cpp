@@ -6,6 +6,7 @@
 #include "enumerate/detail/parallel_for.hpp"
 
 #include <flint/nmod_mat.h>
+#include <flint/ulong_extras.h>
 
 #include <algorithm>
 #include <vector>
@@ -61,30 +62,35 @@ ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vec
 
 ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots,
                                         unsigned threads) {
-  const ModularMatrix rows = basis.rows();
   const std::vector<std::size_t>& pivots = basis.pivot_columns();
-  const std::size_t columns = rows.cols(), rank = pivots.size();
+  const std::vector<std::size_t>& free = basis.free_columns();
+  const std::size_t columns = basis.columns(), rank = pivots.size();
   const std::uint64_t prime = basis.prime();
   std::vector<char> is_scaling(columns, 0), is_pivot(columns, 0);
   for (std::size_t c : scaling_pivots) is_scaling[c] = 1;
   for (std::size_t c : pivots) is_pivot[c] = 1;
-  // The kernel read off the basis (row i: 1 at pivot_i, 0 at the other
-  // pivots): a vector is free on the other columns F, and at pivot_i it is
-  // minus row i times its F part. E is the part that vanishes on Q. A
-  // column f of F no kept row touches gives e_f: outside Q a row of E as it
-  // stands (most extra directions of a random network: a parameter no region
-  // depends on), and every other vector of E is 0 there, so those are set
-  // aside. The other free columns outside Q (T) carry the rest, W: the
-  // vectors whose T part c meets the conditions of the pivots in Q (row i
-  // times c is 0), a small kernel; W is then c on T and -R c at the
-  // pivots, and its reduced echelon form is E's other rows.
+  // Kept row i is 1 at pivot_i, 0 at the other pivots and free_part(i) at
+  // the free columns (read there, never written out as rank x D).
+  std::vector<std::size_t> position(columns, 0);  // of a free column in free
+  for (std::size_t q = 0; q < free.size(); ++q) position[free[q]] = q;
+  auto entry = [&](std::size_t i, std::size_t f) { return basis.free_part(i)[position[f]]; };
+  // The kernel read off the basis: a vector is free on the other columns F,
+  // and at pivot_i it is minus row i times its F part. E is the part that
+  // vanishes on Q. A column f of F no kept row touches gives e_f: outside Q
+  // a row of E as it stands (most extra directions of a random network: a
+  // parameter no region depends on), and every other vector of E is 0
+  // there, so those are set aside. The other free columns outside Q (T)
+  // carry the rest, W: the vectors whose T part c meets the conditions of
+  // the pivots in Q (row i times c is 0), a small kernel; W is then c on T
+  // and -R c at the pivots, and its reduced echelon form is E's other rows.
+  std::vector<char> touched_at(free.size(), 0);
+  for (std::size_t i = 0; i < rank; ++i) {
+    const ModularVector& part = basis.free_part(i);
+    for (std::size_t q = 0; q < free.size(); ++q) touched_at[q] |= part[q] != 0 ? 1 : 0;
+  }
   std::vector<std::size_t> touched, untouched;  // T; e_f as it stands
-  std::vector<char> is_touched(columns, 0);  // row by row: the rows are stored that way
-  for (std::size_t i = 0; i < rank; ++i)
-    for (std::size_t f = 0; f < columns; ++f)
-      if (rows(i, f) != 0) is_touched[f] = 1;
   for (std::size_t f = 0; f < columns; ++f)
-    if (!is_pivot[f] && !is_scaling[f]) (is_touched[f] ? touched : untouched).push_back(f);
+    if (!is_pivot[f] && !is_scaling[f]) (touched_at[position[f]] ? touched : untouched).push_back(f);
   std::vector<std::size_t> conditions;  // the basis rows whose pivot is in Q
   for (std::size_t i = 0; i < rank; ++i)
     if (is_scaling[pivots[i]]) conditions.push_back(i);
@@ -96,7 +102,7 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
   } else if (!touched.empty()) {
     ModularMatrix condition_rows(conditions.size(), touched.size());
     for (std::size_t q = 0; q < conditions.size(); ++q)
-      for (std::size_t t = 0; t < touched.size(); ++t) condition_rows(q, t) = rows(conditions[q], touched[t]);
+      for (std::size_t t = 0; t < touched.size(); ++t) condition_rows(q, t) = entry(conditions[q], touched[t]);
     combinations = kernel_basis_modulo(condition_rows, prime);
   }
   const std::size_t dimension = combinations.rows();
@@ -105,28 +111,41 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
   // (the same echelon form with the zero columns left out).
   std::vector<std::size_t> carried;
   for (std::size_t c = 0; c < columns; ++c)
-    if (!is_scaling[c] && (is_pivot[c] || is_touched[c])) carried.push_back(c);
+    if (!is_scaling[c] && (is_pivot[c] || touched_at[position[c]])) carried.push_back(c);
   std::vector<std::size_t> place(columns, 0);  // of a carried column
   for (std::size_t q = 0; q < carried.size(); ++q) place[carried[q]] = q;
-  // W at the pivots: -(R_T c) for each c, one product (dimension x |T| by
-  // |T| x rank).
+  // W at the pivots: -(R_T c) for each c. c is in reduced row-echelon form
+  // (kernel_basis_modulo): 1 at its own leading column, 0 at the others', so
+  // R_T c is R at c's leading column plus R at the other columns D times c
+  // there: one product (dimension x |D| by |D| x rank), smaller than over
+  // all of T when the conditions are few.
   ModularMatrix spanning(dimension, carried.size());
   if (dimension > 0) {
-    NmodMatrix left(dimension, touched.size(), prime), right(touched.size(), rank, prime);
+    const std::vector<std::size_t> leads = echelon_shape(combinations);
+    std::vector<char> is_lead(touched.size(), 0);
+    for (std::size_t l : leads) is_lead[l] = 1;
+    std::vector<std::size_t> others;  // D: positions in T
+    for (std::size_t t = 0; t < touched.size(); ++t)
+      if (!is_lead[t]) others.push_back(t);
     NmodMatrix at_pivots(dimension, rank, prime);
-    for (std::size_t a = 0; a < dimension; ++a)
-      for (std::size_t t = 0; t < touched.size(); ++t)
-        nmod_mat_entry(left.get(), static_cast<slong>(a), static_cast<slong>(t)) = combinations(a, t);
-    for (std::size_t i = 0; i < rank; ++i)
-      for (std::size_t t = 0; t < touched.size(); ++t)
-        nmod_mat_entry(right.get(), static_cast<slong>(t), static_cast<slong>(i)) = rows(i, touched[t]);
-    poll_stop();
-    multiply_by_row_blocks(at_pivots, left, right, threads);
+    if (!others.empty()) {
+      NmodMatrix left(dimension, others.size(), prime), right(others.size(), rank, prime);
+      for (std::size_t a = 0; a < dimension; ++a)
+        for (std::size_t d = 0; d < others.size(); ++d)
+          nmod_mat_entry(left.get(), static_cast<slong>(a), static_cast<slong>(d)) = combinations(a, others[d]);
+      for (std::size_t i = 0; i < rank; ++i)
+        for (std::size_t d = 0; d < others.size(); ++d)
+          nmod_mat_entry(right.get(), static_cast<slong>(d), static_cast<slong>(i)) = entry(i, touched[others[d]]);
+      poll_stop();
+      multiply_by_row_blocks(at_pivots, left, right, threads);
+    }
     for (std::size_t a = 0; a < dimension; ++a) {
       for (std::size_t t = 0; t < touched.size(); ++t) spanning(a, place[touched[t]]) = combinations(a, t);
+      const std::size_t lead = touched[leads[a]];
       for (std::size_t i = 0; i < rank; ++i) {
         if (is_scaling[pivots[i]]) continue;
-        const std::uint64_t value = nmod_mat_entry(at_pivots.get(), static_cast<slong>(a), static_cast<slong>(i));
+        const std::uint64_t value =
+            n_addmod(nmod_mat_entry(at_pivots.get(), static_cast<slong>(a), static_cast<slong>(i)), entry(i, lead), prime);
         spanning(a, place[pivots[i]]) = value == 0 ? 0 : prime - value;
       }
     }
