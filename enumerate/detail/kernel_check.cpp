@@ -263,7 +263,7 @@ void wanted_roles(const ModularNetwork& network, const std::vector<char>& wanted
 
 void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern& pattern,
                          const std::vector<std::size_t>& rows, const std::vector<char>& wanted, ModularMatrix& out,
-                         std::size_t first_out_row) {
+                         std::size_t first_out_row, const std::vector<std::size_t>* place) {
   thread_local std::vector<std::pair<std::size_t, ParameterRole>> columns;  // (column, role)
   wanted_roles(network, wanted, columns);
   std::size_t forward_to = 0, backward_to = network.weights.size();
@@ -291,7 +291,7 @@ void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern&
                                  t == 0 ? factors.offset[role.layer][role.input]
                                         : factors.linear[role.layer][role.input * n0 + (t - 1)],
                                  prime, inverse);
-      out(first_out_row + r, c) = value;
+      out(first_out_row + r, place ? (*place)[c] : c) = value;
     }
   }
 }

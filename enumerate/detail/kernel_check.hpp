@@ -175,12 +175,13 @@ class AnnihilationCheck {
 
 // Rows `rows` of a pattern's coefficient blocks modulo the network's prime,
 // at the columns marked in `wanted` only (size D): written to out's rows
-// first_out_row, first_out_row + 1, ... at those columns, the other entries
-// left as they are. Equal there to coefficient_blocks_mod, from the check's
-// layer inputs and backward signals (only the layers those columns need).
+// first_out_row, first_out_row + 1, ... at those columns (column c at
+// (*place)[c] when place is given), the other entries left as they are.
+// Equal there to coefficient_blocks_mod, from the check's layer inputs and
+// backward signals (only the layers those columns need).
 void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern& pattern,
                          const std::vector<std::size_t>& rows, const std::vector<char>& wanted, ModularMatrix& out,
-                         std::size_t first_out_row);
+                         std::size_t first_out_row, const std::vector<std::size_t>* place = nullptr);
 
 // The smallest index of a pattern the check rejects, checked on `threads`
 // threads (the answer does not depend on their number), or nullopt when all

@@ -90,14 +90,33 @@ struct RowLift {
   std::vector<std::uint64_t> system_primes;
 };
 
-// The kept rows modulo the network's prime, r x D (coefficient_blocks_mod of
-// each kept region), or only the rows that `needed` marks at the columns
-// `columns_needed` marks (the other entries stay 0); the regions on up to
-// `threads` threads (each writes its own rows).
-ModularMatrix kept_rows_modulo(const ModularNetwork& network, const std::vector<KeptRows>& kept, std::size_t rank,
-                               std::size_t columns, unsigned threads, const std::vector<char>* needed = nullptr,
-                               const std::vector<char>* columns_needed = nullptr) {
-  ModularMatrix out(rank, columns);
+// The kept rows modulo a prime at some columns only, r x (those columns):
+// entry (r, c) is values(r, place[c]). Not r x D: that buffer, zeroed and
+// mostly unused, cost as much as filling it (3 MB per prime on
+// 2,15,15,15,15,1).
+struct KeptRowsAt {
+  ModularMatrix values;
+  std::vector<std::size_t> place;  // of each wanted column among the wanted ones
+  std::uint64_t at(std::size_t r, std::size_t c) const { return values(r, place[c]); }
+};
+
+std::vector<std::size_t> places_of(const std::vector<char>& wanted, std::size_t& count) {
+  std::vector<std::size_t> place(wanted.size(), 0);
+  count = 0;
+  for (std::size_t c = 0; c < wanted.size(); ++c)
+    if (wanted[c]) place[c] = count++;
+  return place;
+}
+
+// The kept rows modulo the network's prime at the columns `columns_needed`
+// marks, only the rows that `needed` marks (when given; the others stay 0),
+// from the layer inputs and signals those columns need (coefficient_rows_at);
+// the regions on up to `threads` threads (each writes its own rows).
+KeptRowsAt kept_rows_modulo(const ModularNetwork& network, const std::vector<KeptRows>& kept, std::size_t rank,
+                            unsigned threads, const std::vector<char>* needed, const std::vector<char>& columns_needed) {
+  std::size_t count = 0;
+  KeptRowsAt out{ModularMatrix(), places_of(columns_needed, count)};
+  out.values = ModularMatrix(rank, count);
   std::vector<std::size_t> first_row(kept.size());  // of each region in out
   std::vector<std::size_t> regions;                  // the needed ones
   std::size_t r = 0;
@@ -111,35 +130,29 @@ ModularMatrix kept_rows_modulo(const ModularNetwork& network, const std::vector<
   parallel_for(regions.size(), threads, [&](std::size_t n) {
     poll_stop();
     const KeptRows& region = kept[regions[n]];
-    if (columns_needed) {  // from the layer inputs and signals those columns need
-      coefficient_rows_at(network, region.pattern, region.rows, *columns_needed, out, first_row[regions[n]]);
-      return;
-    }
-    const ModularMatrix blocks = coefficient_blocks_mod(network, region.pattern);
-    std::size_t row_out = first_row[regions[n]];
-    for (std::size_t row : region.rows) {
-      for (std::size_t c = 0; c < columns; ++c) out(row_out, c) = blocks(row, c);
-      ++row_out;
-    }
+    coefficient_rows_at(network, region.pattern, region.rows, columns_needed, out.values, first_row[regions[n]],
+                        &out.place);
   });
   return out;
 }
 
-// The kept rows modulo the walk's prime at the columns `wanted` marks (the
-// other entries 0): the residues the walk kept when every region has them,
-// else computed (kept_rows_modulo).
-ModularMatrix kept_rows_at(const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,
-                           std::size_t columns, unsigned threads, const std::vector<char>& wanted) {
+// The kept rows modulo the walk's prime at the columns `wanted` marks: the
+// residues the walk kept when every region has them, else computed
+// (kept_rows_modulo).
+KeptRowsAt kept_rows_at(const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,
+                        unsigned threads, const std::vector<char>& wanted) {
   if (!std::all_of(kept.begin(), kept.end(), [](const KeptRows& k) { return k.residues.size() == k.rows.size(); }))
-    return kept_rows_modulo(walk_network, kept, rank, columns, threads, nullptr, &wanted);
+    return kept_rows_modulo(walk_network, kept, rank, threads, nullptr, wanted);
+  std::size_t count = 0;
+  KeptRowsAt out{ModularMatrix(), places_of(wanted, count)};
+  out.values = ModularMatrix(rank, count);
   std::vector<std::size_t> marked;
-  for (std::size_t c = 0; c < columns; ++c)
+  for (std::size_t c = 0; c < wanted.size(); ++c)
     if (wanted[c]) marked.push_back(c);
-  ModularMatrix out(rank, columns);
   std::size_t r = 0;
   for (const KeptRows& region : kept)
     for (const ModularVector& residues : region.residues) {
-      for (std::size_t c : marked) out(r, c) = residues[c];
+      for (std::size_t q = 0; q < marked.size(); ++q) out.values(r, q) = residues[marked[q]];
       ++r;
     }
   return out;
@@ -151,16 +164,16 @@ ModularMatrix kept_rows_at(const ModularNetwork& walk_network, const std::vector
 // restriction's echelon form), stopping once there are enough: about
 // |columns|^2 per row looked at instead of an elimination over every row;
 // nullopt when there are not that many.
-std::optional<std::vector<std::size_t>> independent_rows(const ModularMatrix& rows,
-                                                         const std::vector<std::size_t>& columns, std::uint64_t prime) {
+std::optional<std::vector<std::size_t>> independent_rows(const KeptRowsAt& rows, const std::vector<std::size_t>& columns,
+                                                         std::uint64_t prime) {
   ModularRowBasis chosen_rows(prime, columns.size());
   std::vector<std::size_t> chosen;
   ModularVector restricted(columns.size());
-  for (std::size_t r = 0; r < rows.rows() && chosen.size() < columns.size(); ++r) {
+  for (std::size_t r = 0; r < rows.values.rows() && chosen.size() < columns.size(); ++r) {
     if (r % 64 == 0) poll_stop();
     bool is_zero = true;
     for (std::size_t q = 0; q < columns.size(); ++q) {
-      restricted[q] = rows(r, columns[q]);
+      restricted[q] = rows.at(r, columns[q]);
       is_zero = is_zero && restricted[q] == 0;
     }
     if (!is_zero && chosen_rows.add_row(restricted)) chosen.push_back(r);
@@ -171,13 +184,13 @@ std::optional<std::vector<std::size_t>> independent_rows(const ModularMatrix& ro
 
 // The rows' square system modulo the prime of `rows`: |U| x (|U| + leads),
 // the equations' entries on U, then at the leads.
-ModularMatrix row_system(const RowLift& lift, const ModularMatrix& rows) {
+ModularMatrix row_system(const RowLift& lift, const KeptRowsAt& rows) {
   const std::size_t n = lift.support.size(), count = lift.leads.size();
   ModularMatrix system(n, n + count);
   for (std::size_t i = 0; i < n; ++i) {
     const std::size_t r = lift.equations[i];
-    for (std::size_t m = 0; m < n; ++m) system(i, m) = rows(r, lift.support[m]);
-    for (std::size_t j = 0; j < count; ++j) system(i, n + j) = rows(r, lift.leads[j]);
+    for (std::size_t m = 0; m < n; ++m) system(i, m) = rows.at(r, lift.support[m]);
+    for (std::size_t j = 0; j < count; ++j) system(i, n + j) = rows.at(r, lift.leads[j]);
   }
   return system;
 }
@@ -390,7 +403,7 @@ std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
   std::vector<char> in_supports(columns, 0);
   for (const RowLift& lift : lifts)
     for (std::size_t c : lift.support) in_supports[c] = 1;
-  const ModularMatrix walk_rows = kept_rows_at(walk_network, kept, rank, columns, threads, in_supports);
+  const KeptRowsAt walk_rows = kept_rows_at(walk_network, kept, rank, threads, in_supports);
   std::vector<std::optional<std::vector<std::size_t>>> equations(lifts.size());
   parallel_for(lifts.size(), threads,
                [&](std::size_t i) { equations[i] = independent_rows(walk_rows, lifts[i].support, walk_network.prime); });
@@ -451,8 +464,7 @@ std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
     auto images_modulo = [&](std::size_t p, unsigned inner_threads) {
       const std::uint64_t prime = primes[p].first;
       const ModularNetwork& reduced = primes[p].second;
-      const ModularMatrix prime_rows =
-          kept_rows_modulo(reduced, kept, rank, columns, inner_threads, &needed, &columns_needed);
+      const KeptRowsAt prime_rows = kept_rows_modulo(reduced, kept, rank, inner_threads, &needed, columns_needed);
       images[p].resize(open.size());
       systems[p].resize(open.size());
       parallel_for(open.size(), inner_threads, [&](std::size_t o) {
