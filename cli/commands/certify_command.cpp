@@ -517,7 +517,7 @@ void register_certify(CommandTable& commands) {
       "Exit status: 0 done (with --claim: every verdict consistent); 1 a --claim verdict\n"
       "is too-low or impossible; 2 bad input; 130 interrupted.",
       [arguments] { return run_certify(*arguments); });
-  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")
+  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON or .onnx; - reads JSON from stdin)")
       ->required();
   add_domain_options(command, arguments->domain);
   command.add_flag("--json", arguments->json, "Print the result as JSON (pleat-certify/1)");

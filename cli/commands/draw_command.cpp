@@ -553,7 +553,7 @@ void register_draw(CommandTable& commands) {
       "  pleat walk data/fold2d.json --box -3,3 -o regions.jsonl && pleat draw data/fold2d.json --from regions.jsonl --out f.csv\n"
       "  pleat draw data/sensor3d.json --view -1,1,-1,1,-1,1 --out sensor.off --table sensor-faces.csv",
       [arguments] { return run_draw(*arguments); });
-  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")->required();
+  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON or .onnx; - reads JSON from stdin)")->required();
   command.add_option("--out", arguments->output_path, "Output file: FIG.svg, FIG.tex, FIG.csv or (3 inputs) FIG.off")->required();
   add_number_list_option(command, "--view", arguments->view_text,
                          "XMIN,XMAX,YMIN,YMAX (XMIN,XMAX for 1 input): the rectangle drawn and walked");

@@ -107,7 +107,7 @@ void register_eval(CommandTable& commands) {
   CLI::App& command = commands.add(
       "eval", "Evaluate a network exactly at a point: its output and activation pattern",
       eval_help, [options] { return run_eval(*options); });
-  command.add_option("network", options->network_path, "Network file (pleat-network/1); - reads standard input")
+  command.add_option("network", options->network_path, "Network file (pleat-network/1 JSON or .onnx; - reads JSON from stdin)")
       ->required()
       ->type_name("NET.json");
   add_number_list_option(command, "--at", options->point,

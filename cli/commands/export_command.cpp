@@ -53,7 +53,7 @@ void register_export(CommandTable& commands) {
   CLI::App& command = commands.add(
       "export", "Write a network as an ONNX model (Gemm + Relu, float64 weights)", export_help,
       [options] { return run_export(*options); });
-  command.add_option("network", options->network_path, "Network file (pleat-network/1 or .onnx); - reads standard input")
+  command.add_option("network", options->network_path, "Network file (pleat-network/1 JSON or .onnx; - reads JSON from stdin)")
       ->required()
       ->type_name("NET.json");
   command.add_option("-o,--output", options->output, "The ONNX file to write")->required()->type_name("MODEL.onnx");

@@ -225,7 +225,7 @@ void register_inspect(CommandTable& commands) {
       "  pleat inspect data/fold2d.json --at 1/2,-1\n"
       "  pleat inspect data/fold2d.json --pattern 001100/11100 --box -3,3 --json",
       [arguments] { return run_inspect(*arguments); });
-  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")->required();
+  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON or .onnx; - reads JSON from stdin)")->required();
   auto* at = add_number_list_option(command, "--at", arguments->at_text, "A point: the region(s) at it");
   auto* pattern = command.add_option("--pattern", arguments->pattern_text, "An activation pattern, e.g. 101/01");
   at->excludes(pattern);

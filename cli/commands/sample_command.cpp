@@ -225,7 +225,7 @@ void register_sample(CommandTable& commands) {
   CLI::App& command = commands.add(
       "sample", "The usual sampled (double, SVD) functional dimension, beside the certified one", sample_help,
       [arguments] { return run_sample(*arguments); });
-  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")
+  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON or .onnx; - reads JSON from stdin)")
       ->required();
   add_unsigned_option(command, "--batch", arguments->batch, "Number of random input points K")->required();
   add_unsigned_option(command, "--seed", arguments->seed, "Seed of the point stream")->required();

@@ -193,7 +193,7 @@ void register_walk(CommandTable& commands) {
       "  pleat walk data/fold2d.json --points-out interior.csv   # feed: certify --points\n"
       "  mpirun -n 4 pleat walk net.json --threads 1   # one walk across 4 processes (MPI builds)",
       [arguments] { return run_walk(*arguments); });
-  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON; - for stdin)")
+  command.add_option("network", arguments->network_path, "Network file (pleat-network/1 JSON or .onnx; - reads JSON from stdin)")
       ->required();
   add_domain_options(command, arguments->domain);
   CLI::Option* output = command.add_option("-o,--output", arguments->output_path,

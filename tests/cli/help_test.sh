@@ -28,6 +28,13 @@ for sub in summary plot merge; do
   case "$help" in *"Rerunning the same command resumes"*) fail "pleat survey $sub --help repeats survey's own text" ;; esac
 done
 
+# Every network argument reads ONNX too (read_network_any); the help of six
+# subcommands said "pleat-network/1 JSON" only.
+for command in walk certify sample inspect eval draw export; do
+  "$pleat" "$command" --help | grep -q 'Network file (pleat-network/1 JSON or .onnx' ||
+    fail "pleat $command --help does not say its network may be .onnx"
+done
+
 eval_help=$("$pleat" eval --help)
 case "$eval_help" in *"activation pattern of a point"*) ;; *) fail "eval --help does not explain the activation pattern" ;; esac
 
