@@ -17,6 +17,7 @@
 #include <any>
 #include <chrono>
 #include <cmath>
+#include <deque>
 #include <functional>
 #include <limits>
 #include <memory>
@@ -284,24 +285,66 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     std::size_t since_rise = 0;
     detail::ReachForecast forecast(8, basis.rank(), domain.dim <= 2);
     const StopScope scope(stop);
+    struct Batch {
+      std::vector<RationalVector> points = std::vector<RationalVector>(batch);
+      std::vector<PointRegion> regions = std::vector<PointRegion>(batch);
+      std::vector<ModularMatrix> rows = std::vector<ModularMatrix>(batch);
+    };
+    std::size_t drawn = 0;  // points drawn before this batch (the nudges' seeds)
+    // Rows are computed for the regions not seen before (nor in `before`'s
+    // regions when given: those are seen by the time this batch goes in).
+    auto draw = [&](const Batch* before = nullptr) {
+      std::set<ActivationPattern> earlier;
+      if (before)
+        for (const PointRegion& region : before->regions) earlier.insert(region.pattern);
+      Batch b;
+      for (RationalVector& point : b.points) point = source.next();
+      parallel_for(batch, threads, [&](std::size_t i) {
+        b.regions[i] = region_of_point(network, evaluator, b.points[i]);
+        for (unsigned attempt = 0; attempt < 8 && b.regions[i].verdict == PointVerdict::on_bent_hyperplane; ++attempt) {
+          // A nudge drawn from the point's own generator: the same for any thread count.
+          InteriorPointSource nudges(domain, options.points_seed ^ (0x9e3779b97f4a7c15ull * (drawn + i + 1)));
+          b.points[i] = nudges.nudge(b.points[i], attempt);
+          b.regions[i] = region_of_point(network, evaluator, b.points[i]);
+        }
+        if (b.regions[i].verdict == PointVerdict::smooth && !seen_by_points.contains(b.regions[i].pattern) &&
+            !earlier.contains(b.regions[i].pattern))
+          b.rows[i] = coefficient_blocks_mod(modular, b.regions[i].pattern);
+      });
+      drawn += batch;
+      return b;
+    };
+    // On a plane, when the first batch cannot reach the bound alone (the
+    // second is drawn then in any case), both are drawn before any row is
+    // eliminated; when even every row of their new regions, and a rest
+    // decaying at their ratio, falls short, the walk runs at once
+    // (detail::candidate_rows_fall_short). Otherwise they go in as drawn.
+    std::deque<Batch> held;
+    if (domain.dim <= 2 && options.give_up_early) {
+      std::set<ActivationPattern> found;
+      auto new_rows = [&](const Batch& b) {
+        std::size_t count = 0;
+        for (std::size_t i = 0; i < batch; ++i)
+          if (b.regions[i].verdict == PointVerdict::smooth && found.insert(b.regions[i].pattern).second)
+            count += b.rows[i].rows();
+        return count;
+      };
+      held.push_back(draw());
+      const std::size_t first = new_rows(held[0]);
+      if (basis.rank() + first < result.scaling_bound) {
+        held.push_back(draw(&held[0]));
+        if (detail::candidate_rows_fall_short(basis.rank(), first, new_rows(held[1]), result.scaling_bound)) {
+          points_far_below = true;
+          result.points_drawn = drawn;  // drawn and decided; none of their rows kept
+          return;
+        }
+      }
+    }
     while (basis.rank() < result.scaling_bound && since_rise < patience && result.points_drawn < budget) {
       if (stop.is_requested()) return;
-      std::vector<RationalVector> points(batch);
-      for (RationalVector& point : points) point = source.next();
-      std::vector<PointRegion> regions(batch);
-      std::vector<ModularMatrix> rows(batch);
-      parallel_for(batch, threads, [&](std::size_t i) {
-        regions[i] = region_of_point(network, evaluator, points[i]);
-        for (unsigned attempt = 0; attempt < 8 && regions[i].verdict == PointVerdict::on_bent_hyperplane; ++attempt) {
-          // A nudge drawn from the point's own generator: the same for any thread count.
-          InteriorPointSource nudges(domain, options.points_seed ^ (0x9e3779b97f4a7c15ull * (result.points_drawn + i + 1)));
-          points[i] = nudges.nudge(points[i], attempt);
-          regions[i] = region_of_point(network, evaluator, points[i]);
-        }
-        if (regions[i].verdict == PointVerdict::smooth && !seen_by_points.contains(regions[i].pattern))
-          rows[i] = coefficient_blocks_mod(modular, regions[i].pattern);
-      });
-      for (const bool rose : keep_rows_of_points(regions, rows, points)) {
+      Batch b = held.empty() ? draw() : std::move(held.front());
+      if (!held.empty()) held.pop_front();
+      for (const bool rose : keep_rows_of_points(b.regions, b.rows, b.points)) {
         ++result.points_drawn;
         since_rise = rose ? 0 : since_rise + 1;
       }

@@ -81,7 +81,8 @@ struct FunctionalDimensionOptions {
   // reach the bound within the phase's budget, or its rise decays
   // geometrically towards a rank 16 or more rows short (then the lines are
   // skipped too; on a domain of at most 2 inputs, where the walk is cheap,
-  // judged from the second batch on: detail/reach_forecast.hpp): a network
+  // judged from the second batch on, the first two before any of their rows
+  // is eliminated: detail/reach_forecast.hpp): a network
   // below its bound (give_up_early, off: only the
   // stalls and budgets above end them). Speed only: the value and its proof
   // do not depend on it.

@@ -37,7 +37,9 @@ namespace pleat::detail {
 //   rate (about twice the walk's for the same rank) and leave a denser basis
 //   for the walk. One batch's rise is too noisy a forecast where a walk is
 //   dear (3,6,6,6,1 seed 2, at its bound: 77 78 78 86 ...), not on a plane:
-//   networks at their bound there (2,100,1: 96 189 285) keep rising.
+//   networks at their bound there (2,100,1: 96 189 285) keep rising. The
+//   first two batches are judged before any row is eliminated
+//   (candidate_rows_fall_short, below).
 class ReachForecast {
  public:
   // start: the rank before the phase's first batch.
@@ -60,6 +62,14 @@ class ReachForecast {
   }
   // True when the phase ended on the geometric forecast: far below the bound.
   bool decayed() const { return decayed_; }
+  // Whether a rise decaying at ratio g1/g0 per step from g1 on, counted
+  // `margin` times, misses the deficit by 16 rows or more (never when not
+  // decaying).
+  static bool falls_short(double g1, double g0, std::size_t deficit, double margin = 2) {
+    if (g1 >= g0) return false;  // not decaying (also 0 and 0: no forecast)
+    const double ratio = g1 / g0;
+    return margin * g1 * ratio / (1 - ratio) + 16 <= static_cast<double>(deficit);
+  }
 
  private:
   bool decays_short_of(std::size_t deficit) const {
@@ -77,19 +87,24 @@ class ReachForecast {
     return falls_short(static_cast<double>(history_[k] - history_[k - 1]),
                        static_cast<double>(history_[k - 1] - history_[k - 2]), deficit, 1);
   }
-  // Whether a rise decaying at ratio g1/g0 per step from g1 on, counted
-  // `margin` times, misses the deficit by 16 rows or more (never when not
-  // decaying).
-  static bool falls_short(double g1, double g0, std::size_t deficit, double margin = 2) {
-    if (g1 >= g0) return false;  // not decaying (also 0 and 0: no forecast)
-    const double ratio = g1 / g0;
-    return margin * g1 * ratio / (1 - ratio) + 16 <= static_cast<double>(deficit);
-  }
 
   std::size_t window_;
   bool planar_;
   std::vector<std::size_t> history_;
   bool decayed_ = false;
 };
+
+// Before eliminating any row (on a plane): whether the points can reach the
+// bound when rank stands now, first and second rows come with the new
+// regions of two batches (an upper bound on their rise: each row raises the
+// rank at most once), and the regions found later bring a rest decaying at
+// ratio second/first per batch. Below their bound, deep networks find their
+// large regions first (2,15,15,15,1 seed 1: 90 then 57 rows, 496 to reach);
+// wide ones at their bound keep finding new regions (2,100,1: 96 and 96).
+inline bool candidate_rows_fall_short(std::size_t rank, std::size_t first, std::size_t second, std::size_t bound) {
+  const std::size_t most = rank + first + second;
+  return most < bound &&
+         ReachForecast::falls_short(static_cast<double>(second), static_cast<double>(first), bound - most, 1);
+}
 
 }  // namespace pleat::detail

@@ -8,6 +8,7 @@
 #include "core/network_io.hpp"
 #include "core/random_network.hpp"
 #include "core/rank.hpp"
+#include "enumerate/interior_points.hpp"
 #include "tests/support/network_builders.hpp"
 
 #include <gtest/gtest.h>
@@ -834,12 +835,19 @@ TEST(CertifyFromPoints, GivesUpEarlyFarBelowTheBoundOnly) {
   EXPECT_EQ(*early.functional_dimension, 374u);
   EXPECT_EQ(early.functional_dimension, patient.functional_dimension);
   EXPECT_LT(early.points_drawn, patient.points_drawn * 2 / 3);
-  // On a plane the rise of one batch against the one before is the forecast
-  // (90 then 48 more after two batches of 32 points, 496 to reach): the
-  // points end after the second batch, and no line is swept (both would add
-  // every row the walk adds). Without it, the rise over two batches against
-  // the two before would end them after the sixth (90 138 185 223 260 277).
+  // On a plane the first two batches of 32 points are judged before any of
+  // their rows is eliminated: their new regions have 90 and then 57 rows, 496
+  // to reach, so the points end there, none of their rows kept (the first
+  // witness is a walked region's, not the first point as without giving up),
+  // and no line is swept (both would add every row the walk adds). Without
+  // that, the rank's rise would have ended them after the same two batches
+  // (90 138), and over two batches against the two before after the sixth
+  // (90 138 185 223 260 277).
   EXPECT_EQ(early.points_drawn, 2u * 32u);
+  const RationalVector first_point = InteriorPointSource(plane, options.points_seed).next();
+  ASSERT_FALSE(early.witness_points.empty());
+  EXPECT_NE(early.witness_points.front(), first_point);
+  EXPECT_EQ(patient.witness_points.front(), first_point);
 
   const Network at = random_network({6, 20, 10, 1}, 1);
   options.give_up_early = true;
