@@ -9,8 +9,8 @@
 // directions plus the extra kernel directions: read modulo p off the walk's
 // basis, lifted to Q (rational reconstruction from that prime for rows with
 // small entries, the others row by row over further primes), and proved
-// exactly on every smooth region (multi-modular, with a proved bound on the
-// entries: a deterministic proof of zero), on all threads. certified is true
+// exactly on every smooth region (modulo 2^64n or several primes, above a
+// proved bound on the entries: a deterministic proof of zero), on all threads. certified is true
 // only when the two bounds meet, both are proved and nothing stopped the run.
 #pragma once
 

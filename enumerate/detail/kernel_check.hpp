@@ -1,7 +1,8 @@
 // The exact check behind certify's upper bound: that given rational vectors
 // annihilate every coefficient-block row of given patterns, decided in word
-// arithmetic modulo enough primes for a deterministic proof (Chinese
-// remainder theorem on a proved bound). Internal to enumerate/ (not installed).
+// arithmetic modulo a modulus above a proved bound (2^64n, or enough primes
+// by the Chinese remainder theorem): a deterministic proof. Internal to
+// enumerate/ (not installed).
 #pragma once
 
 #include "core/jacobian.hpp"
@@ -67,14 +68,6 @@ struct CheckScale {
   explicit CheckScale(const Network& network);
 };
 
-// A deterministic exact test that given vectors annihilate a pattern's
-// coefficient-block rows, in word arithmetic. Each vector is scaled to a
-// primitive integer vector e. For a row of the blocks, N = L^(d-1) (row . e)
-// is an integer (entries are sums of products of at most d - 1 parameters,
-// one from each layer but the column's own, with integer coefficients) and
-// |N| <= L^(d-1) sum_c B_c |e_c|. N = 0 modulo primes whose
-// product exceeds that bound proves N = 0; the first prime also screens out
-// failures quickly.
 class IntegerCheck;  // integer_check.hpp
 
 // How the check takes the products: `fastest` in fixed-width integers when
@@ -82,6 +75,15 @@ class IntegerCheck;  // integer_check.hpp
 // region), else modulo primes; `primes` modulo primes always. Both exact.
 enum class CheckArithmetic { fastest, primes };
 
+// A deterministic exact test that given vectors annihilate a pattern's
+// coefficient-block rows, in word arithmetic. Each vector is scaled to a
+// primitive integer vector e. For a row of the blocks, N = L^(d-1) (row . e)
+// is an integer (entries are sums of products of at most d - 1 parameters,
+// one from each layer but the column's own, with integer coefficients) and
+// |N| <= L^(d-1) sum_c B_c |e_c|. N = 0 modulo a number above that bound
+// proves N = 0: 2^(64n), in fixed-width integers, when every B_c < 2^127
+// (integer_check.hpp); else the product of enough primes (the first prime
+// also screens out failures quickly).
 class AnnihilationCheck {
  public:
   // Polls the current thread's stop request (poll_stop) while it reduces the
