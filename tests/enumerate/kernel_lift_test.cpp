@@ -73,6 +73,20 @@ WalkState walk_state(const Network& network) {
   return state;
 }
 
+// The first region (index into blocks) on which some vector's exact product
+// with the region's rows is not zero, from rational arithmetic alone.
+std::optional<std::size_t> first_region_not_annihilated_exactly(const std::vector<RationalMatrix>& blocks,
+                                                                const RationalMatrix& vectors) {
+  for (std::size_t p = 0; p < blocks.size(); ++p)
+    for (std::size_t v = 0; v < vectors.rows(); ++v)
+      for (std::size_t r = 0; r < blocks[p].rows(); ++r) {
+        Rational sum = 0;
+        for (std::size_t c = 0; c < vectors.cols(); ++c) sum += blocks[p](r, c) * vectors(v, c);
+        if (sum != 0) return p;
+      }
+  return std::nullopt;
+}
+
 RationalMatrix exact_extra_directions(const Network& network, const std::vector<ActivationPattern>& smooth) {
   RationalMatrix rows(0, network.parametric_dimension());
   for (const ActivationPattern& pattern : smooth) {
@@ -233,16 +247,7 @@ TEST(KernelCheck, VectorsInOneLayerNameTheExactProductsFirstRegion) {
     const WalkState state = walk_state(network);
     std::vector<RationalMatrix> blocks;
     for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
-    auto exact_first = [&](const RationalMatrix& vectors) -> std::optional<std::size_t> {
-      for (std::size_t p = 0; p < blocks.size(); ++p)
-        for (std::size_t v = 0; v < vectors.rows(); ++v)
-          for (std::size_t r = 0; r < blocks[p].rows(); ++r) {
-            Rational sum = 0;
-            for (std::size_t c = 0; c < vectors.cols(); ++c) sum += blocks[p](r, c) * vectors(v, c);
-            if (sum != 0) return p;
-          }
-      return std::nullopt;
-    };
+    auto exact_first = [&](const RationalMatrix& vectors) { return first_region_not_annihilated_exactly(blocks, vectors); };
     const std::size_t columns = network.parametric_dimension();
     const Rational huge(Integer("1") << 300, 3);  // about 300 bits: several primes beyond the first
     for (std::size_t c = 0; c < columns; ++c) {
@@ -494,16 +499,7 @@ TEST(KernelCheck, IntegersAndPrimesNameTheExactProductsFirstRegion) {
     const RationalMatrix extra = exact_extra_directions(network, state.smooth);
     std::vector<RationalMatrix> blocks;
     for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
-    auto exact_first = [&](const RationalMatrix& vectors) -> std::optional<std::size_t> {
-      for (std::size_t p = 0; p < blocks.size(); ++p)
-        for (std::size_t v = 0; v < vectors.rows(); ++v)
-          for (std::size_t r = 0; r < blocks[p].rows(); ++r) {
-            Rational sum = 0;
-            for (std::size_t c = 0; c < vectors.cols(); ++c) sum += blocks[p](r, c) * vectors(v, c);
-            if (sum != 0) return p;
-          }
-      return std::nullopt;
-    };
+    auto exact_first = [&](const RationalMatrix& vectors) { return first_region_not_annihilated_exactly(blocks, vectors); };
     const Rational large(Integer("1") << 500, 3);
     for (std::size_t j = 0; j < extra.rows(); ++j)
       for (std::size_t c = 0; c < extra.cols(); c += 2)
