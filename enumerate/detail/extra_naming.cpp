@@ -10,15 +10,20 @@ namespace pleat::detail {
 namespace {
 
 bool is_proportional_row(const Layer& layer, std::size_t a, std::size_t b) {
-  // (W[a,:], b[a]) = lambda (W[b,:], b[b]) with lambda > 0.
-  RationalVector ra = layer.weights.row(a), rb = layer.weights.row(b);
-  ra.push_back(layer.bias[a]);
-  rb.push_back(layer.bias[b]);
+  // (W[a,:], b[a]) = lambda (W[b,:], b[b]) with lambda > 0. Read in place:
+  // copies of the two rows cost a GMP allocation per entry for every pair
+  // of a layer (0.3 ms of certify's serial naming on 2,15,15,15,1), where
+  // most pairs differ at their second entry.
+  const std::size_t fan_in = layer.fan_in();
+  auto entry = [&](std::size_t row, std::size_t c) -> const Rational& {
+    return c < fan_in ? layer.weights(row, c) : layer.bias[row];
+  };
   std::optional<Rational> lambda;
-  for (std::size_t c = 0; c < ra.size(); ++c) {
-    if ((ra[c] == 0) != (rb[c] == 0)) return false;
-    if (ra[c] == 0) continue;
-    const Rational ratio = ra[c] / rb[c];
+  for (std::size_t c = 0; c <= fan_in; ++c) {
+    const Rational &x = entry(a, c), &y = entry(b, c);
+    if ((x == 0) != (y == 0)) return false;
+    if (x == 0) continue;
+    const Rational ratio = x / y;
     if (lambda && *lambda != ratio) return false;
     lambda = ratio;
   }
