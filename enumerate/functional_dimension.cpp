@@ -333,7 +333,8 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       const std::size_t first = new_rows(held[0]);
       if (basis.rank() + first < result.scaling_bound) {
         held.push_back(draw(&held[0]));
-        if (detail::candidate_rows_fall_short(basis.rank(), first, new_rows(held[1]), result.scaling_bound)) {
+        if (detail::candidate_rows_fall_short(basis.rank(), first, new_rows(held[1]), result.scaling_bound,
+                                              domain.dim)) {
           points_far_below = true;
           result.points_drawn = drawn;  // drawn and decided; none of their rows kept
           return;

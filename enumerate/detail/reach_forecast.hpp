@@ -103,13 +103,15 @@ class ReachForecast {
 // wide ones at their bound keep finding new regions (2,100,1: 96 and 96).
 // No 16-row allowance here: first and second already count every row of
 // the new regions, more than the rank rises (2,10,10,10,1 seed 1: 81 and 51
-// rows, 79 and 49 of rank; the rest forecast 87 where 99 are missing). Of 41
-// planar networks tried, the only ones at their bound this stops early have
-// one input (1,30,1: 38 and 6 rows of 61), whose walk is a few intervals.
-inline bool candidate_rows_fall_short(std::size_t rank, std::size_t first, std::size_t second, std::size_t bound) {
+// rows, 79 and 49 of rank; the rest forecast 87 where 99 are missing). On
+// one input it is kept: there networks at their bound rise slowly at first
+// (1,30,1 samples 2 and 3: 38 and 6 rows of 61) and giving up cost 14 times
+// their points (1.1 -> 15.6 ms).
+inline bool candidate_rows_fall_short(std::size_t rank, std::size_t first, std::size_t second, std::size_t bound,
+                                      std::size_t inputs) {
   const std::size_t most = rank + first + second;
-  return most < bound &&
-         ReachForecast::falls_short(static_cast<double>(second), static_cast<double>(first), bound - most, 1, 0);
+  return most < bound && ReachForecast::falls_short(static_cast<double>(second), static_cast<double>(first),
+                                                    bound - most, 1, inputs < 2 ? 16 : 0);
 }
 
 }  // namespace pleat::detail
