@@ -541,7 +541,7 @@ std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check
   std::vector<std::size_t> order(patterns.size());
   for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
   std::sort(order.begin(), order.end(),
-            [&](std::size_t a, std::size_t b) { return patterns[a].states < patterns[b].states; });
+            [&](std::size_t a, std::size_t b) { return states_before(patterns[a], patterns[b]); });
   constexpr std::size_t run = 16;  // consecutive patterns per thread
   std::atomic<std::size_t> next{0}, done{0};
   std::atomic<std::size_t> first_rejected{patterns.size()};

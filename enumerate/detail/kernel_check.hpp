@@ -14,8 +14,10 @@
 
 #include <flint/nmod.h>
 
+#include <algorithm>
 #include <cstddef>
 #include <cstdint>
+#include <cstring>
 #include <functional>
 #include <memory>
 #include <optional>
@@ -184,6 +186,16 @@ class AnnihilationCheck {
 void coefficient_rows_at(const ModularNetwork& network, const ActivationPattern& pattern,
                          const std::vector<std::size_t>& rows, const std::vector<char>& wanted, ModularMatrix& out,
                          std::size_t first_out_row, const std::vector<std::size_t>* place = nullptr);
+
+// a.states < b.states (lexicographic) by memcmp: it orders the one-byte
+// states as std::vector's < does, in a fraction of its time (a serial 0.15 ms
+// when first_rejected_pattern sorts 2,15,15,15,1's 792 regions).
+inline bool states_before(const ActivationPattern& a, const ActivationPattern& b) {
+  static_assert(sizeof(NeuronState) == 1);
+  const std::vector<NeuronState>&x = a.states, &y = b.states;
+  const int sign = x.empty() || y.empty() ? 0 : std::memcmp(x.data(), y.data(), std::min(x.size(), y.size()));
+  return sign != 0 ? sign < 0 : x.size() < y.size();
+}
 
 // The smallest index of a pattern the check rejects, checked on `threads`
 // threads (the answer does not depend on their number), or nullopt when all

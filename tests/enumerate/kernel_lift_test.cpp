@@ -523,5 +523,17 @@ TEST(KernelCheck, IntegersAndPrimesNameTheExactProductsFirstRegion) {
   EXPECT_GT(rejected, 50u);
 }
 
+// The check's order of regions (states_before) is std::vector's < on their
+// states, equal lengths or not, the empty pattern first.
+TEST(KernelCheck, StatesBeforeIsTheStatesLexicographicOrder) {
+  using S = NeuronState;
+  const std::vector<ActivationPattern> patterns = {
+      {{}}, {{S::off}}, {{S::on}}, {{S::off, S::on}}, {{S::on, S::off}}, {{S::zero_at_point}},
+      {{S::on, S::zero_on_region, S::off}}, {{S::on, S::off, S::zero_at_point}}, {{S::on, S::off, S::off}}};
+  for (const ActivationPattern& a : patterns)
+    for (const ActivationPattern& b : patterns)
+      EXPECT_EQ(detail::states_before(a, b), a.states < b.states) << a.states.size() << " " << b.states.size();
+}
+
 }  // namespace
 }  // namespace pleat
