@@ -95,18 +95,17 @@ struct RowLift {
 // mostly unused, cost as much as filling it (3 MB per prime on
 // 2,15,15,15,15,1).
 struct KeptRowsAt {
+  // rank rows of zeros at the columns `wanted` marks.
+  KeptRowsAt(std::size_t rank, const std::vector<char>& wanted) : place(wanted.size(), 0) {
+    std::size_t count = 0;
+    for (std::size_t c = 0; c < wanted.size(); ++c)
+      if (wanted[c]) place[c] = count++;
+    values = ModularMatrix(rank, count);
+  }
   ModularMatrix values;
   std::vector<std::size_t> place;  // of each wanted column among the wanted ones
   std::uint64_t at(std::size_t r, std::size_t c) const { return values(r, place[c]); }
 };
-
-std::vector<std::size_t> places_of(const std::vector<char>& wanted, std::size_t& count) {
-  std::vector<std::size_t> place(wanted.size(), 0);
-  count = 0;
-  for (std::size_t c = 0; c < wanted.size(); ++c)
-    if (wanted[c]) place[c] = count++;
-  return place;
-}
 
 // The kept rows modulo the network's prime at the columns `columns_needed`
 // marks, only the rows that `needed` marks (when given; the others stay 0),
@@ -114,9 +113,7 @@ std::vector<std::size_t> places_of(const std::vector<char>& wanted, std::size_t&
 // the regions on up to `threads` threads (each writes its own rows).
 KeptRowsAt kept_rows_modulo(const ModularNetwork& network, const std::vector<KeptRows>& kept, std::size_t rank,
                             unsigned threads, const std::vector<char>* needed, const std::vector<char>& columns_needed) {
-  std::size_t count = 0;
-  KeptRowsAt out{ModularMatrix(), places_of(columns_needed, count)};
-  out.values = ModularMatrix(rank, count);
+  KeptRowsAt out(rank, columns_needed);
   std::vector<std::size_t> first_row(kept.size());  // of each region in out
   std::vector<std::size_t> regions;                  // the needed ones
   std::size_t r = 0;
@@ -143,9 +140,7 @@ KeptRowsAt kept_rows_at(const ModularNetwork& walk_network, const std::vector<Ke
                         unsigned threads, const std::vector<char>& wanted) {
   if (!std::all_of(kept.begin(), kept.end(), [](const KeptRows& k) { return k.residues.size() == k.rows.size(); }))
     return kept_rows_modulo(walk_network, kept, rank, threads, nullptr, wanted);
-  std::size_t count = 0;
-  KeptRowsAt out{ModularMatrix(), places_of(wanted, count)};
-  out.values = ModularMatrix(rank, count);
+  KeptRowsAt out(rank, wanted);
   std::vector<std::size_t> marked;
   for (std::size_t c = 0; c < wanted.size(); ++c)
     if (wanted[c]) marked.push_back(c);
