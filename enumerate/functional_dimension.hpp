@@ -10,8 +10,9 @@
 // basis, lifted to Q (rational reconstruction from that prime for rows with
 // small entries, the others row by row over further primes), and proved
 // exactly on every smooth region (modulo 2^64n or several primes, above a
-// proved bound on the entries: a deterministic proof of zero), on all threads. certified is true
-// only when the two bounds meet, both are proved and nothing stopped the run.
+// proved bound on the entries: a deterministic proof of zero), on all
+// threads. certified is true only when the two bounds meet, both are proved
+// and nothing stopped the run.
 #pragma once
 
 #include "core/matrix.hpp"
@@ -82,10 +83,9 @@ struct FunctionalDimensionOptions {
   // geometrically towards a rank 16 or more rows short (then the lines are
   // skipped too; on a domain of at most 2 inputs, where the walk is cheap,
   // judged from the second batch on, the first two before any of their rows
-  // is eliminated: detail/reach_forecast.hpp): a network
-  // below its bound (give_up_early, off: only the
-  // stalls and budgets above end them). Speed only: the value and its proof
-  // do not depend on it.
+  // is eliminated: detail/reach_forecast.hpp): a network below its bound
+  // (give_up_early, off: only the stalls and budgets above end them). Speed
+  // only: the value and its proof do not depend on it.
   bool points_first = true;
   bool sweep_lines = true;
   bool give_up_early = true;
