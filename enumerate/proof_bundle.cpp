@@ -51,7 +51,7 @@ std::vector<EmptyAcross> empty_candidates(const Network& network, const Domain& 
 }  // namespace
 
 std::optional<ProofBundle> gather_proof_bundle(const Network& network, const Domain& domain, std::size_t value,
-                                               bool with_every_region, WalkOptions walk) {
+                                               bool with_every_region, WalkOptions walk, StopReason* stopped_by) {
   ProofBundle bundle;
   bundle.has_every_region = with_every_region;
   const ModularNetwork modular = reduce_modulo_some_prime(network, primary_prime());
@@ -81,6 +81,7 @@ std::optional<ProofBundle> gather_proof_bundle(const Network& network, const Dom
   };
   const WalkSummary summary = walk_regions(network, domain, walk);
   const bool is_stopped_early = summary.stop_reason == StopReason::requested && !with_every_region;
+  if (stopped_by) *stopped_by = is_stopped_early ? StopReason::none : summary.stop_reason;
   if (!summary.complete && !is_stopped_early) return std::nullopt;
   if (with_every_region && !summary.certified) return std::nullopt;
   if (basis.rank() != value) return std::nullopt;

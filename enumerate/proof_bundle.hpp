@@ -61,8 +61,10 @@ struct ProofBundle {
 // stop once it reaches value. walk: threads, time limit and interrupt
 // (on_region is taken over). Returns nullopt when the walk was stopped
 // before the evidence was complete or the rank modulo the prime stays below
-// value. Exact.
+// value; then *stopped_by (when given) is what stopped the walk (none: it was
+// not stopped, the evidence fell short). Exact.
 std::optional<ProofBundle> gather_proof_bundle(const Network& network, const Domain& domain, std::size_t value,
-                                               bool with_every_region, WalkOptions walk);
+                                               bool with_every_region, WalkOptions walk,
+                                               StopReason* stopped_by = nullptr);
 
 }  // namespace pleat

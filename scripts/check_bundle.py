@@ -3,7 +3,8 @@
 
     python3 scripts/check_bundle.py [--network NET.json] proof.json [more.json ...]
 
-Standard library only (fractions, json, re); every number is an exact Fraction.
+Standard library only (fractions, json, os, re, sys; the JSON reading is exact_json.py
+beside it); every number is an exact Fraction.
 From the bundled network alone it recomputes, for each listed region, the
 region's cell (from its activation pattern) and its coefficient-block rows;
 then it checks:
@@ -18,44 +19,17 @@ then it checks:
                 and every region that crossing a facet at its point can reach
                 is listed or proved empty there (Gordan multipliers).
 --network NET.json: the bundle's own network must be that file's (every weight
-and bias equal). The report names the domain the value holds on.
+and bias equal); an ONNX model is refused, naming 'pleat import' that writes its JSON. The report names the domain the value holds on.
 Exit status: 0 every proof checks, 1 one does not (its first failure is
 printed), 2 a file cannot be read. The format: docs/formats.md.
 """
 
-import json
-import re
+import os
 import sys
 from fractions import Fraction
 
-
-class Rejected(Exception):
-    pass
-
-
-# pleat-network/1's grammar of an exact number (ASCII digits only: Fraction
-# alone would also take "1_000", " 1/2" or other scripts' digits), with the
-# decimal exponent pleat's reader allows.
-NUMBER = re.compile(r"-?(?:(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE]([+-]?[0-9]+))?|[0-9]+/[0-9]+)")
-
-
-def number(value, where):
-    if isinstance(value, bool) or not isinstance(value, (int, str, Fraction)):
-        raise Rejected(f"{where}: expected a number, found {value!r}")
-    if isinstance(value, str):
-        spelled = NUMBER.fullmatch(value)
-        if not spelled or (spelled.group(1) and abs(int(spelled.group(1))) > 4000):
-            raise Rejected(f"{where}: not a number as pleat writes one: {value!r}")
-    try:
-        return Fraction(value)
-    except ZeroDivisionError:
-        raise Rejected(f"{where}: not a number: {value!r}") from None
-
-
-def numbers(values, length, where):
-    if not isinstance(values, list) or len(values) != length:
-        raise Rejected(f"{where}: expected a list of {length} numbers")
-    return [number(v, f"{where}[{i}]") for i, v in enumerate(values)]
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))  # exact_json.py beside it, however loaded
+from exact_json import Rejected, load, number, numbers  # noqa: E402  (standard library only, too)
 
 
 def dot(a, b):
@@ -511,27 +485,6 @@ def check(bundle, reference=None):
     else:
         raise Rejected(f"upper bound: unknown method {upper['method']!r}")
     return net, value, len(regions), every_region, how
-
-
-def object_without_duplicates(pairs):
-    """With a key written twice, json keeps the last value; a reader may take the first."""
-    keys = [key for key, _ in pairs]
-    if len(set(keys)) != len(keys):
-        raise ValueError(f"the key {next(k for k in keys if keys.count(k) > 1)!r} is written twice in one object")
-    return dict(pairs)
-
-
-def exact_float(text):
-    try:
-        return number(text, "a JSON number")
-    except Rejected as fault:
-        raise ValueError(str(fault)) from None
-
-
-def load(path):
-    """The JSON document in path (exit 2 when it cannot be read)."""
-    with open(path, encoding="utf-8") as f:
-        return json.load(f, parse_float=exact_float, object_pairs_hook=object_without_duplicates)
 
 
 def same_network(net, reference):

@@ -24,6 +24,7 @@
 #include <iostream>
 #include <algorithm>
 #include <cstdlib>
+#include <filesystem>
 #include <memory>
 #include <optional>
 #include <set>
@@ -396,14 +397,28 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
   return arguments.claim ? claim_status(at_points, *network_verdict) : 0;
 }
 
+// No bundle this run: says why, and when --bundle names a file an earlier
+// run left, that the file there is that run's (this one did not overwrite it).
+void say_no_bundle(const std::string& path, const std::string& why) {
+  std::cerr << "pleat: no bundle written to " << path << ": " << why << "\n";
+  if (std::filesystem::exists(path))
+    std::cerr << "pleat: " << path << " is an earlier run's bundle, not this run's (not overwritten)\n";
+}
+
+std::string why_evidence_stopped(StopReason reason) {
+  const std::string walk = "the second walk, which gathers the evidence, ";
+  if (reason == StopReason::interrupted) return walk + "was interrupted (the value above stands)";
+  if (reason == StopReason::time_limit) return walk + "ran out of --time-limit (the value above stands)";
+  return walk + "did not reproduce the value's evidence";
+}
+
 // The proof bundle of a certified value; nothing for bounds (said on stderr).
 // A second walk gathers the evidence within what is left of --time-limit.
 // Returns false when an interrupt stopped it.
 bool write_bundle(const CertifyArguments& arguments, const Network& network, const Domain& domain,
                   const FunctionalDimensionResult& result) {
-  const std::string skipped = "pleat: no bundle written to " + arguments.bundle_path + ": ";
   if (!result.certified) {
-    std::cerr << skipped << "the functional dimension was not certified (bounds only)\n";
+    say_no_bundle(arguments.bundle_path, "the functional dimension was not certified (bounds only)");
     return true;
   }
   WalkOptions walk;
@@ -411,7 +426,7 @@ bool write_bundle(const CertifyArguments& arguments, const Network& network, con
   if (arguments.limits.time_limit > 0) {
     walk.time_limit_seconds = arguments.limits.time_limit - result.seconds;
     if (walk.time_limit_seconds <= 0) {
-      std::cerr << skipped << "the time limit ran out before the evidence was gathered\n";
+      say_no_bundle(arguments.bundle_path, "the time limit ran out before the evidence was gathered");
       return true;
     }
   }
@@ -422,11 +437,12 @@ bool write_bundle(const CertifyArguments& arguments, const Network& network, con
     progress.update("bundle: " + std::to_string(state.regions) + " regions walked");
   };
   const bool needs_every_region = result.upper_bound < result.scaling_bound;
-  const auto bundle =
-      gather_proof_bundle(network, domain, *result.functional_dimension, needs_every_region, walk);
+  StopReason stopped_by = StopReason::none;
+  const auto bundle = gather_proof_bundle(network, domain, *result.functional_dimension, needs_every_region,
+                                          walk, &stopped_by);
   progress.finish();
   if (!bundle) {
-    std::cerr << skipped << "the walk that gathers the evidence was stopped\n";
+    say_no_bundle(arguments.bundle_path, why_evidence_stopped(stopped_by));
     return !interrupt.flag().load();
   }
   write_output(arguments.bundle_path, json_text(bundle_to_json(network, domain, result, *bundle), false));

@@ -74,4 +74,19 @@ grep -q "^REJECTED .*the bundle.s network is not the one in $fold: layers .* aga
 "$python" "$checker" --network "$work/fold.json" "$work/fold.json" 2> "$work/notnet.err"
 [ $? = 2 ] || fail "--network with a bundle must exit 2"
 grep -q "not a pleat-network/1 document" "$work/notnet.err" || fail "$(cat "$work/notnet.err")"
+# --network with an ONNX model (which pleat reads, the checker does not): exit 2
+# naming the model and 'pleat import', which writes its JSON; no traceback (the
+# old checker said "cannot read ('utf-8' codec can't decode byte ...)").
+"$pleat" export "$fold" -o "$work/fold.onnx" 2> /dev/null || fail "export exited $?"
+"$pleat" certify "$work/fold.onnx" --box -2,2 -q --bundle "$work/onnx_bundle.json" > /dev/null ||
+  fail "certify fold.onnx exited $?"
+"$python" "$checker" --network "$work/fold.onnx" "$work/onnx_bundle.json" > /dev/null 2> "$work/onnx.err"
+[ $? = 2 ] || fail "--network with an ONNX model must exit 2: $(cat "$work/onnx.err")"
+grep -qx "check_bundle: $work/fold.onnx: cannot read (an ONNX model; check_bundle.py reads pleat-network/1 JSON only: write that with 'pleat import $work/fold.onnx -o NET.json')" \
+  "$work/onnx.err" || fail "$(cat "$work/onnx.err")"
+"$pleat" import "$work/fold.onnx" -o "$work/fold_imported.json" || fail "import exited $?"
+"$python" "$checker" --network "$work/fold_imported.json" "$work/onnx_bundle.json" > "$work/imported.out" ||
+  fail "the bundle against its imported network: $(cat "$work/imported.out")"
+# The checker runs from any directory, and its exact_json.py is found beside it.
+(cd / && "$python" "$checker" "$work/fold.json" > /dev/null) || fail "check_bundle.py run from / exited $?"
 echo "ok"

@@ -12,9 +12,13 @@ source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
 checker=$source_dir/scripts/check_bundle.py
 
-# The checker never imports pleat: its imports are json, re, sys and fractions.
+# The checker never imports pleat: its imports are the standard library's and
+# its own exact_json.py beside it, which imports json, re and fractions.
 imports=$(grep -E '^\s*(import|from) ' "$checker" | sort | tr '\n' ' ')
-[ "$imports" = "from fractions import Fraction import json import re import sys " ] || fail "check_bundle.py imports: $imports"
+[ "$imports" = "from exact_json import Rejected, load, number, numbers  # noqa: E402  (standard library only, too) from fractions import Fraction import os import sys " ] ||
+  fail "check_bundle.py imports: $imports"
+imports=$(grep -E '^\s*(import|from) ' "$source_dir/scripts/exact_json.py" | sort | tr '\n' ' ')
+[ "$imports" = "from fractions import Fraction import json import re " ] || fail "exact_json.py imports: $imports"
 
 bundles=()
 for net in "$source_dir"/tests/data/*.json "$source_dir"/data/*.json; do
