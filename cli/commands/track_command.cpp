@@ -5,6 +5,7 @@
 #include "cli/domain_options.hpp"
 #include "cli/figures/figure.hpp"
 #include "cli/progress.hpp"
+#include "cli/formats/output_file.hpp"
 #include "cli/formats/region_json.hpp"
 #include "cli/signals.hpp"
 #include "cli/walk_options.hpp"
@@ -120,6 +121,8 @@ Json header_json(const TrackArguments& arguments, const Domain& domain) {
 std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, const Json& header,
                                                    const std::vector<std::string>& fingerprints) {
   std::map<std::size_t, TrackRow> rows;
+  // Only a regular file holds earlier rows (/dev/full reads zeros forever; a folder fails on open for writing).
+  if (!std::filesystem::is_regular_file(path)) return rows;
   std::ifstream file(path, std::ios::binary);
   if (!file) return rows;
   std::string text{std::istreambuf_iterator<char>(file), std::istreambuf_iterator<char>()};
@@ -371,7 +374,23 @@ std::string track_svg(const std::vector<TrackRow>& rows, const Domain& domain, s
   return svg.str();
 }
 
-int run_track(const TrackArguments& arguments) {
+// The --csv and --svg files this run has not written. One an earlier run
+// left there must not pass for this run's: say so (stale) and why.
+struct UnwrittenOutputs {
+  bool is_csv_written = false;
+  bool is_svg_written = false;
+
+  void name_stale(const TrackArguments& arguments, const std::string& why) const {
+    std::vector<std::string> stale;
+    for (const auto& [path, is_written] : {std::pair{arguments.csv_path, is_csv_written},
+                                           std::pair{arguments.svg_path, is_svg_written}})
+      if (!is_written && !path.empty() && path != "-" && std::filesystem::exists(path)) stale.push_back(path);
+    for (const auto& path : stale)
+      std::cerr << "pleat: " << path << " is stale: an earlier run's, not rewritten (" << why << ")\n";
+  }
+};
+
+int track_checkpoints(const TrackArguments& arguments, UnwrittenOutputs& outputs) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   // Every checkpoint must read before any work starts (nothing computed is lost to a typo).
   std::optional<std::size_t> input_dim;
@@ -387,14 +406,16 @@ int run_track(const TrackArguments& arguments) {
   const Domain domain = make_domain(arguments.domain, *input_dim);
   const Json header = header_json(arguments, domain);
   std::map<std::size_t, TrackRow> finished;
-  std::ofstream lines;
+  std::optional<OutputFile> lines;
   if (!arguments.output_path.empty()) {
     finished = read_finished_rows(arguments.output_path, header, fingerprints);
-    const bool is_new = !std::filesystem::exists(arguments.output_path) ||
+    const bool is_new = !std::filesystem::is_regular_file(arguments.output_path) ||
                         std::filesystem::file_size(arguments.output_path) == 0;
-    lines.open(arguments.output_path, std::ios::binary | std::ios::app);
-    if (!lines) throw input_error(arguments.output_path + ": cannot open for writing");
-    if (is_new) lines << json_text(header, false) << std::flush;
+    lines.emplace(arguments.output_path, OutputFile::Mode::append);
+    if (is_new) {
+      lines->write(json_text(header, false));
+      lines->flush();
+    }
   }
 
   ProgressLine progress(arguments.quiet);
@@ -407,9 +428,9 @@ int run_track(const TrackArguments& arguments) {
       is_interrupted = true;  // a cut-short row is not kept: the rerun redoes it
       break;
     }
-    if (lines.is_open()) {
-      lines << json_text(row_json(row), false) << std::flush;
-      if (!lines) throw std::runtime_error(arguments.output_path + ": write failed");
+    if (lines) {
+      lines->write(json_text(row_json(row), false));
+      lines->flush();  // kept even if a later checkpoint is interrupted
     }
     finished[i] = std::move(row);
   }
@@ -417,14 +438,18 @@ int run_track(const TrackArguments& arguments) {
   std::vector<TrackRow> rows;
   for (auto& [index, row] : finished) rows.push_back(row);
   if (rows.empty()) {
-    if (is_interrupted)
+    if (is_interrupted) {
       std::cerr << "pleat: track interrupted; 0 of " << count_of(arguments.checkpoints.size(), "checkpoint")
                 << " done: no table, CSV or plot written\n";
+      outputs.name_stale(arguments, "interrupted before a checkpoint was done");
+    }
     return is_interrupted ? 130 : 0;
   }
 
   if (!arguments.csv_path.empty()) write_output(arguments.csv_path, table_csv(rows, arguments.checkpoints));
+  outputs.is_csv_written = true;
   if (!arguments.svg_path.empty()) write_output(arguments.svg_path, track_svg(rows, domain, arguments.checkpoints.size()));
+  outputs.is_svg_written = true;
   if (arguments.json) std::cout << json_text(table_json(rows, domain, arguments.checkpoints, is_interrupted));
   else print_table(rows, domain, std::cout);
   if (is_interrupted) {
@@ -434,6 +459,16 @@ int run_track(const TrackArguments& arguments) {
     return 130;
   }
   return 0;
+}
+
+int run_track(const TrackArguments& arguments) {
+  UnwrittenOutputs outputs;
+  try {
+    return track_checkpoints(arguments, outputs);
+  } catch (...) {
+    outputs.name_stale(arguments, "the run failed: see below");
+    throw;
+  }
 }
 
 }  // namespace

@@ -115,11 +115,42 @@ grep -qx "pleat: track interrupted; 1 of 3 checkpoints done" "$work/cut.err" || 
   fail "the interrupted run's JSON table: $(cat "$work/cut_table.json")"
 [ "$(json_eval "$work/cut.json" 'd["interrupted"]')" = "False" ] || fail "a run not interrupted: its JSON table says interrupted"
 # Interrupted before any checkpoint finished: nothing is written, and stderr says so.
+# An SVG an earlier run left there is named as stale (nothing said it was not this run's).
+echo "<svg>earlier</svg>" > "$work/earlier.svg"
 timeout --preserve-status -s INT "$(scaled 1)" "$pleat" track "$work/long.json" --threads 1 --csv "$work/none.csv" \
-  -q > /dev/null 2> "$work/none.err"
+  --svg "$work/earlier.svg" -q > /dev/null 2> "$work/none.err"
 status=$?
 [ $status = 130 ] || fail "track interrupted in its first checkpoint exited $status, expected 130"
-grep -qx "pleat: track interrupted; 0 of 1 checkpoint done: no table, CSV or plot written" "$work/none.err" ||
+[ "$(cat "$work/none.err")" = "pleat: track interrupted; 0 of 1 checkpoint done: no table, CSV or plot written
+pleat: $work/earlier.svg is stale: an earlier run's, not rewritten (interrupted before a checkpoint was done)" ] ||
   fail "stderr: $(cat "$work/none.err")"
 [ ! -e "$work/none.csv" ] || fail "a CSV was written with no checkpoint done"
+[ "$(cat "$work/earlier.svg")" = "<svg>earlier</svg>" ] || fail "the earlier SVG was changed"
+# A run stopped by an error after its CSV (the SVG's folder is missing): the CSV is
+# this run's, the SVG's path unusable, and an earlier CSV is not named.
+echo "<svg>earlier</svg>" > "$work/earlier2.svg"
+echo "earlier" > "$work/earlier.csv"
+"$pleat" track "${checkpoints[0]}" --box -2,2 --csv "$work/earlier.csv" --svg "$work/missing/t.svg" -q \
+  > /dev/null 2> "$work/failed.err"
+[ $? = 2 ] || fail "track with an unwritable --svg must exit 2: $(cat "$work/failed.err")"
+grep -q "stale" "$work/failed.err" && fail "a file this run wrote is named stale: $(cat "$work/failed.err")"
+# ... and stopped by an error before either was written (the CSV's folder is missing).
+"$pleat" track "${checkpoints[0]}" --box -2,2 --csv "$work/missing/t.csv" --svg "$work/earlier2.svg" -q \
+  > /dev/null 2> "$work/failed.err"
+[ $? = 2 ] || fail "track with an unwritable --csv must exit 2: $(cat "$work/failed.err")"
+[ "$(cat "$work/failed.err")" = "pleat: $work/earlier2.svg is stale: an earlier run's, not rewritten (the run failed: see below)
+pleat: $work/missing/t.csv: cannot open for writing (No such file or directory)" ] ||
+  fail "stderr: $(cat "$work/failed.err")"
+[ "$(cat "$work/earlier2.svg")" = "<svg>earlier</svg>" ] || fail "the earlier SVG was changed"
+# -o that is no regular file: a clear error, not "internal error" (a folder
+# failed reading it; /dev/full, which reads zeros forever, ran out of memory).
+"$pleat" track "${checkpoints[0]}" --box -2,2 -o "$work" -q > /dev/null 2> "$work/dir.err"
+[ $? = 2 ] || fail "track -o FOLDER must exit 2: $(cat "$work/dir.err")"
+[ "$(cat "$work/dir.err")" = "pleat: $work: cannot open for writing (Is a directory)" ] || fail "stderr: $(cat "$work/dir.err")"
+if [ -w /dev/full ]; then
+  timeout 60 "$pleat" track "${checkpoints[0]}" --box -2,2 -o /dev/full --svg "$work/earlier2.svg" -q > /dev/null 2> "$work/full.err"
+  [ $? = 1 ] || fail "track -o /dev/full must exit 1: $(cat "$work/full.err")"
+  [ "$(cat "$work/full.err")" = "pleat: $work/earlier2.svg is stale: an earlier run's, not rewritten (the run failed: see below)
+pleat: /dev/full: cannot write (No space left on device)" ] || fail "stderr: $(cat "$work/full.err")"
+fi
 echo "track: all checks passed"
