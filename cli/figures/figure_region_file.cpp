@@ -1,6 +1,7 @@
 #include "cli/figures/figure_region_file.hpp"
 
 #include "cli/formats/region_file_reader.hpp"
+#include "core/evaluate.hpp"
 
 #include <set>
 
@@ -31,11 +32,32 @@ void require_whole_walk(const Network& network, const RegionFile& file) {
     }
 }
 
+// A walk of another network (one of the same widths reads without a fault)
+// would be drawn as this network's regions and maps: each region's point
+// must lie in its pattern's region of this network, and its map must be this
+// network's map there. Exact; one forward pass and one map per region.
+void require_walk_of(const Network& network, const RegionFile& file) {
+  for (const SavedRegion& saved : file.regions) {
+    const Region& region = saved.region;
+    const std::string where = file.path + ": line " + std::to_string(saved.line) + ": ";
+    const auto pattern = region_pattern_at(network, region.interior.point);
+    if (!pattern || *pattern != region.pattern)
+      throw input_error(where + "the region's point does not lie in the region of pattern " +
+                        format_pattern(network, region.pattern) +
+                        " of this network: a walk of another network is not drawn (pleat verify checks a file)");
+    const AffineMap map = maps_on_pattern(network, region.pattern).output;
+    if (!(map.linear == region.affine.linear) || map.offset != region.affine.offset)
+      throw input_error(where + "the region's affine map is not this network's on its pattern: a walk of another "
+                        "network is not drawn (pleat verify checks a file)");
+  }
+}
+
 }  // namespace
 
 SavedWalk read_saved_walk(const Network& network, const std::string& path) {
   RegionFile file = read_region_file(network, path, RegionFileReading::tolerant);
   require_whole_walk(network, file);
+  require_walk_of(network, file);
   SavedWalk walk;
   walk.domain = std::move(file.domain);
   walk.regions.reserve(file.regions.size());

@@ -1,8 +1,9 @@
 // Reading a saved walk (pleat-regions/1 lines from `pleat walk -o`) back into
 // the walker's Region records, so `pleat draw --from` draws without walking:
 // the one region-file reader (cli/formats/region_file_reader.hpp) read tolerantly,
-// without certificates. Only that it is a whole walk is checked here (each
-// pattern once, every neighbour it names present); `pleat verify` checks the rest.
+// without certificates. Only that it is a whole walk of this network is checked
+// here (each pattern once, every neighbour it names present, each region's point
+// in its pattern's region and its map this network's); `pleat verify` checks the rest.
 #pragma once
 
 #include "core/network.hpp"

@@ -70,6 +70,22 @@ case "$err" in *"line "*": neighbour "*" is not in the file"*) ;; *) fail "unexp
 err=$("$pleat" draw "$fold" --from "$work/twice.jsonl" --out "$work/twice.svg" 2>&1 > /dev/null)
 [ $? = 2 ] || fail "draw --from a file with a region twice must exit 2 ($err)"
 case "$err" in *"appears twice"*) ;; *) fail "unexpected message: $err" ;; esac
+# A walk of another network is not drawn as this one's: one of the same widths
+# (its file reads without a fault; the old binary drew fold2d's 84 regions as
+# its own), and fold2d with one output weight changed (the same regions, other
+# maps: a 1-D graph or --color-by gradient would show fold2d's function).
+"$pleat" random --arch 2,6,5,1 --seed 7 -o "$work/same_widths.json" > /dev/null || fail "pleat random exited $?"
+err=$("$pleat" draw "$work/same_widths.json" --from "$work/whole.jsonl" --out "$work/other.svg" 2>&1 > /dev/null)
+[ $? = 2 ] || fail "draw --from another network's walk must exit 2 ($err)"
+case "$err" in *"$work/whole.jsonl: line "*": the region's point does not lie in the region of pattern "*"a walk of another network is not drawn"*) ;;
+  *) fail "unexpected message: $err" ;; esac
+"$python" -c 'import json, sys
+d = json.load(open(sys.argv[1])); d["layers"][-1]["bias"][0] = "7"; json.dump(d, open(sys.argv[2], "w"))' \
+  "$fold" "$work/other_output.json" || fail "could not write the changed network"
+err=$("$pleat" draw "$work/other_output.json" --from "$work/whole.jsonl" --out "$work/other.svg" 2>&1 > /dev/null)
+[ $? = 2 ] || fail "draw --from a walk with other maps must exit 2 ($err)"
+case "$err" in *"line 2: the region's affine map is not this network's on its pattern"*) ;; *) fail "unexpected message: $err" ;; esac
+[ ! -e "$work/other.svg" ] || fail "a figure of another network's walk was written"
 
 # One input: exact pieces.
 "$pleat" draw "$ramp" --view -2,5 --out "$work/ramp.csv" -q > /dev/null || fail "1-D csv failed"
