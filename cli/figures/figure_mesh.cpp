@@ -3,11 +3,13 @@
 #include "cli/common.hpp"
 #include "cli/figures/figure.hpp"
 #include "core/stop.hpp"
+#include "lp/oracle.hpp"
 #include "lp/vertex_geometry.hpp"
 
 #include <map>
 #include <set>
 #include <sstream>
+#include <variant>
 
 namespace pleat::cli {
 
@@ -24,6 +26,7 @@ RegionMesh region_mesh(const Network& network, const std::vector<Region>& region
   for (std::size_t i = 0; i < regions.size(); ++i) index_of.emplace(regions[i].pattern, i);
   std::vector<std::set<std::size_t>> adjacent(regions.size());
   std::size_t drawn_regions = 0;
+  lp::Oracle oracle;
   for (std::size_t r = 0; r < regions.size(); ++r) {
     poll_stop();
     const Region& region = regions[r];
@@ -40,7 +43,13 @@ RegionMesh region_mesh(const Network& network, const std::vector<Region>& region
       e[axis] = -1;
       cell.constraints.push_back(lp::Constraint{e, view.upper[axis]});
     }
-    const lp::VertexRepresentation rep = lp::vertex_representation(cell, region.interior.point);
+    // A saved walk (draw --from) holds regions beyond the view: only a cell with
+    // interior inside the view is a polytope to draw (vertex_representation
+    // needs a point strictly inside; cddlib gave an empty cell no point at all).
+    const lp::CellVerdict in_view = oracle.decide_open_cell(cell);
+    const auto* inside = std::get_if<lp::InteriorPoint>(&in_view);
+    if (!inside) continue;
+    const lp::VertexRepresentation rep = lp::vertex_representation(cell, inside->point);
     if (rep.points.size() < 4) continue;
     ++drawn_regions;
     for (const lp::PolytopeFace& polytope_face : lp::polytope_faces(cell, rep.points)) {

@@ -63,6 +63,28 @@ for region, own in by_region.items():
 printed = int(re.search(r"mesh +(\d+) regions", open(sys.argv[3]).read()).group(1))
 assert len(by_region) == printed, (len(by_region), printed)
 PY
+# --from a walk of all of R^3: regions beyond the view are left out (the old
+# binary stopped with "internal error: cddlib: no point in the V-representation"),
+# and the mesh has the same faces as a walk of the view itself.
+"$pleat" walk "$source_dir/data/sensor3d.json" -q -o "$work/whole.jsonl" > /dev/null || fail "walk exited $?"
+"$pleat" draw "$source_dir/data/sensor3d.json" --from "$work/whole.jsonl" --view -2,2,-1,3,-3/2,1 \
+  --out "$work/from.off" -q > "$work/from.txt" 2> "$work/from.err" || fail "draw --from exited $?: $(cat "$work/from.err")"
+/usr/bin/python3 - "$work/from.off" "$work/s.off" <<'PY' || fail "--from of an R^3 walk differs from a walk of the view"
+import sys
+def faces(path):
+    lines = [l for l in open(path) if l.strip() and not l.startswith("#")]
+    nv, nf, _ = map(int, lines[1].split())
+    vs = [l.strip() for l in lines[2:2 + nv]]
+    out = set()
+    for l in lines[2 + nv:2 + nv + nf]:
+        items = l.split()
+        corners = [vs[int(i)] for i in items[1:1 + int(items[0])]]
+        start = corners.index(min(corners))  # the same face, whatever corner it starts at
+        out.add(tuple(corners[start:] + corners[:start]))
+    return out
+a, b = faces(sys.argv[1]), faces(sys.argv[2])
+assert a == b and a, (len(a), len(b))
+PY
 "$pleat" draw "$source_dir/data/fold2d.json" --out "$work/f.off" > /dev/null 2>&1; [ $? -eq 2 ] \
   || fail ".off accepted for 2 inputs"
 # A mesh has no title, key, lines or labels, and is coloured by region: the
