@@ -1,5 +1,6 @@
 #include "enumerate/sampled_estimate.hpp"
 
+#include "core/errors.hpp"
 #include "core/evaluate.hpp"
 #include "core/jacobian.hpp"
 #include "core/random_network.hpp"
@@ -13,6 +14,7 @@
 #include <cmath>
 #include <limits>
 #include <numbers>
+#include <string>
 #include <unordered_set>
 
 namespace pleat {
@@ -126,6 +128,23 @@ DoubleNetwork sampling_network(const Network& network, bool is_float32) {
   return rounded;
 }
 
+// The estimate computes in double (or float32): a parameter, or a product of
+// them, beyond that range makes a Jacobian entry infinite or NaN, and the SVD
+// rank of such a matrix means nothing, so it is refused rather than printed.
+void require_finite_jacobian(const Network& network, const DoubleMatrix& jacobian, bool is_float32,
+                             std::uint64_t point, std::uint64_t batch) {
+  const std::string type = is_float32 ? "float32" : "float64";
+  for (std::size_t r = 0; r < jacobian.rows(); ++r)
+    for (std::size_t c = 0; c < jacobian.cols(); ++c) {
+      const double entry = jacobian(r, c);
+      if (!std::isfinite(is_float32 ? static_cast<double>(static_cast<float>(entry)) : entry))
+        throw input_error("sample: point " + std::to_string(point + 1) + " of " + std::to_string(batch) + ": the " + type +
+                          " Jacobian's entry for parameter " + network.parameter_name(c) +
+                          " is not finite (parameters or their products beyond " + type +
+                          "'s range): no sampled estimate in " + type + "; pleat certify is exact");
+    }
+}
+
 // 200 MB of doubles per copy of the stacked Jacobian.
 constexpr double max_jacobian_entries = 25e6;
 
@@ -187,6 +206,7 @@ SampleResult run_sampled_estimate(const Network& network, const SampleOptions& o
     if (options.on_point) options.on_point(i);
     const DoubleVector point = stream.next_point(network.input_dim);
     jacobians.push_back(parameter_jacobian_double(double_network, point));  // rounded to float32 by the SVD
+    require_finite_jacobian(network, jacobians.back(), options.is_float32, i, options.batch);
     RationalVector exact;
     for (double coordinate : point) exact.push_back(rational_from_double(coordinate));
     try {

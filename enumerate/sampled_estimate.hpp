@@ -103,6 +103,8 @@ struct SampleResult {
 // first m points of batch K are the points of batch m. float32 rounds each
 // coordinate to float32. The step from words to doubles uses libm, so
 // points may differ in the last bit between C libraries.
+// Throws input_error when a point's Jacobian in the estimate's number type
+// has an infinite or NaN entry (parameters beyond float64's or float32's range).
 SampleResult run_sampled_estimate(const Network& network, const SampleOptions& options);
 
 // The verdict of a sampled rank against what certify proved (see SampleResult::verdict).

@@ -168,4 +168,22 @@ esac
 # "none within the batch", as if the value were known and missed).
 expect_contains "$out" "first batch reaching  not known (no certified value to reach)" "first batch of a run cut short"
 
+# Parameters beyond the estimate's number type: a weight of 10^4000 is infinite
+# in float64 (10^39 in float32), so the Jacobian holds inf and NaN and its SVD
+# rank means nothing. Refused, naming the point and the parameter (the old
+# binary printed "sampled rank 5" and a verdict against the certified value).
+huge() {
+  printf '{"format": "pleat-network/1", "input_dim": 1, "layers": [{"weights": [["%s"], ["2"], ["-1"]], "bias": ["0", "1", "1"]}, {"weights": [["1", "1", "1"]], "bias": ["0"], "activation": "linear"}]}\n' "$1"
+}
+huge 1e4000 > "$work/huge64.json"
+err=$("$pleat" sample "$work/huge64.json" --batch 8 --seed 1 -q 2>&1 > /dev/null)
+[ $? = 2 ] || fail "sample with a weight beyond float64 must exit 2: $err"
+expect_contains "$err" "pleat: sample: point 1 of 8: the float64 Jacobian's entry for parameter W2[0,0] is not finite" \
+  "a weight beyond float64"
+huge 1e39 > "$work/huge32.json"
+"$pleat" sample "$work/huge32.json" --batch 8 --seed 1 -q > /dev/null || fail "10^39 fits float64: sample exited $?"
+err=$("$pleat" sample "$work/huge32.json" --batch 8 --seed 1 --dtype float32 -q 2>&1 > /dev/null)
+[ $? = 2 ] || fail "sample --dtype float32 with a weight beyond float32 must exit 2: $err"
+expect_contains "$err" "the float32 Jacobian's entry for parameter " "a weight beyond float32"
+
 echo "sample: all checks passed"
