@@ -523,6 +523,48 @@ TEST(KernelCheck, IntegersAndPrimesNameTheExactProductsFirstRegion) {
   EXPECT_GT(rejected, 50u);
 }
 
+// Kernel vectors whose primitive integer entries take many limbs (the
+// integer check's products by GMP's mpn functions from 4 limbs): an extra
+// direction plus a huge multiple (about 2^300) of a scaling direction is
+// still in the kernel and must pass on every region with both arithmetics; the same
+// changed by 1/3 in one entry must name the exact products' first region.
+TEST(KernelCheck, ManyLimbKernelCombinationsPassAndChangedOnesNameTheExactFirstRegion) {
+  std::size_t passed = 0, rejected = 0;
+  for (const Network& network : {random_network({2, 4, 3, 3, 1}, 31), random_network({2, 3, 3, 2}, 14)}) {
+    const detail::CheckScale scale(network);
+    ASSERT_TRUE(detail::IntegerCheck::applies(scale));
+    const WalkState state = walk_state(network);
+    const RationalMatrix extra = exact_extra_directions(network, state.smooth);
+    const RationalMatrix scaling = scaling_directions(network);
+    ASSERT_GE(extra.rows(), 1u);
+    std::vector<RationalMatrix> blocks;
+    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const Rational huge(Integer("1") << 300, 7);
+    for (std::size_t j = 0; j < extra.rows(); ++j) {
+      RationalMatrix combination(1, extra.cols());
+      const std::size_t s = j % scaling.rows();
+      for (std::size_t c = 0; c < extra.cols(); ++c) combination(0, c) = extra(j, c) + huge * scaling(s, c);
+      for (std::size_t c = 0; c < extra.cols(); c += 3) {
+        RationalMatrix vectors = combination;
+        if (c > 0) vectors(0, c) += Rational(1, 3);
+        const std::optional<std::size_t> expected = first_region_not_annihilated_exactly(blocks, vectors);
+        if (c == 0) {
+          EXPECT_FALSE(expected.has_value());
+        }
+        for (const auto arithmetic : {detail::CheckArithmetic::fastest, detail::CheckArithmetic::primes}) {
+          const detail::AnnihilationCheck check(network, vectors, scale, 1, arithmetic);
+          bool stopped = false;
+          EXPECT_EQ(detail::first_rejected_pattern(check, state.smooth, 1, StopRequest(), stopped, {}), expected)
+              << "row " << j << " column " << c;
+        }
+        (expected ? rejected : passed) += 1;
+      }
+    }
+  }
+  EXPECT_GT(passed, 1u);
+  EXPECT_GT(rejected, 10u);
+}
+
 // The check's order of regions (states_before) is std::vector's < on their
 // states, equal lengths or not, the empty pattern first.
 TEST(KernelCheck, StatesBeforeIsTheStatesLexicographicOrder) {
