@@ -54,10 +54,18 @@ ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vec
 // other pivots), cheaper when the kernel is smaller than the rank: its
 // kernel read off directly (D - r vectors), put in reduced row-echelon form
 // with the columns Q first; the rows led outside Q are E. Equal to
-// extra_directions_of_rows(basis.rows(), ...). Its one product on up to
-// `threads` threads (the same result for any number).
-ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots,
-                                        unsigned threads = 1);
+// extra_directions_of_rows(basis.rows(), ...). Its products and
+// eliminations by nonzero entries (the sparse functions below).
+ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots);
+
+// The reduced row-echelon form modulo prime of rows (each `cols` residues)
+// and the canonical basis of their kernel: the same matrices as
+// row_space_basis_modulo and kernel_basis_modulo (both are unique), by
+// Gauss-Jordan elimination that reads a pivot row at its nonzero entries
+// only and skips rows that are zero at its column. For the read-off's
+// mostly-zero matrices, where FLINT's elimination costs their full size.
+ModularMatrix reduced_echelon_of_sparse_rows(std::vector<ModularVector> rows, std::size_t cols, std::uint64_t prime);
+ModularMatrix kernel_of_sparse_rows(const std::vector<ModularVector>& rows, std::size_t cols, std::uint64_t prime);
 
 // The leading column of each row of an echelon matrix (its shape).
 std::vector<std::size_t> echelon_shape(const ModularMatrix& echelon);

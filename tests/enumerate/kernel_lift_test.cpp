@@ -20,6 +20,7 @@
 
 #include <algorithm>
 #include <optional>
+#include <random>
 #include <utility>
 #include <vector>
 
@@ -563,6 +564,38 @@ TEST(KernelCheck, ManyLimbKernelCombinationsPassAndChangedOnesNameTheExactFirstR
   }
   EXPECT_GT(passed, 1u);
   EXPECT_GT(rejected, 10u);
+}
+
+// The read-off's eliminations by nonzero entries give FLINT's: the reduced
+// row-echelon form and the canonical kernel basis of random matrices modulo
+// the walk's prime, mostly zero, half zero and dense, of full rank and with
+// rows that are combinations of the others (and all zero), wide and tall.
+TEST(KernelLift, SparseEliminationsEqualTheDenseOnes) {
+  const std::uint64_t prime = primary_prime();
+  std::mt19937_64 random(7);
+  std::size_t deficient = 0;
+  for (const auto& [rows, cols] : std::vector<std::pair<std::size_t, std::size_t>>{{5, 9}, {12, 30}, {30, 12}, {40, 100}})
+    for (const double density : {0.0, 0.05, 0.5, 1.0})
+      for (const bool dependent : {false, true}) {
+        std::vector<ModularVector> matrix(rows, ModularVector(cols, 0));
+        for (ModularVector& row : matrix)
+          for (std::uint64_t& entry : row)
+            if (std::uniform_real_distribution<double>(0, 1)(random) < density) entry = random() % prime;
+        if (dependent)  // row 1 = row 0 + row 2, the last row = row 0 (residues below 2^62: no overflow)
+          for (std::size_t c = 0; c < cols; ++c) {
+            matrix[1][c] = (matrix[0][c] + matrix[2][c]) % prime;
+            matrix.back()[c] = matrix[0][c];
+          }
+        ModularMatrix dense(rows, cols);
+        for (std::size_t r = 0; r < rows; ++r)
+          for (std::size_t c = 0; c < cols; ++c) dense(r, c) = matrix[r][c];
+        const ModularMatrix echelon = detail::reduced_echelon_of_sparse_rows(matrix, cols, prime);
+        EXPECT_EQ(echelon, row_space_basis_modulo(dense, prime)) << rows << "x" << cols << " " << density;
+        EXPECT_EQ(detail::kernel_of_sparse_rows(matrix, cols, prime), kernel_basis_modulo(dense, prime))
+            << rows << "x" << cols << " " << density;
+        deficient += echelon.rows() < std::min(rows, cols);
+      }
+  EXPECT_GT(deficient, 8u);
 }
 
 // The check's order of regions (states_before) is std::vector's < on their
