@@ -60,9 +60,17 @@ void write_matrix(const std::string& path, const RationalMatrix& matrix) {
 
 // The kernel basis of a certified value; nothing for bounds (said on stderr):
 // an empty or partial file would read as a kernel that was never proved.
+// A file not written this run: says why, and when PATH holds an earlier
+// run's file, that the file there is that run's (this one did not overwrite it).
+void say_not_written(const std::string& what, const std::string& path, const std::string& why) {
+  std::cerr << "pleat: no " << what << " written to " << path << ": " << why << "\n";
+  if (std::filesystem::exists(path))
+    std::cerr << "pleat: " << path << " is an earlier run's " << what << ", not this run's (not overwritten)\n";
+}
+
 void write_kernel(const std::string& path, const FunctionalDimensionResult& result) {
   if (!result.certified) {
-    std::cerr << "pleat: no kernel written to " << path << ": the functional dimension was not certified (bounds only)\n";
+    say_not_written("kernel", path, "the functional dimension was not certified (bounds only)");
     return;
   }
   write_matrix(path, result.kernel);
@@ -397,14 +405,6 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
   return arguments.claim ? claim_status(at_points, *network_verdict) : 0;
 }
 
-// No bundle this run: says why, and when --bundle names a file an earlier
-// run left, that the file there is that run's (this one did not overwrite it).
-void say_no_bundle(const std::string& path, const std::string& why) {
-  std::cerr << "pleat: no bundle written to " << path << ": " << why << "\n";
-  if (std::filesystem::exists(path))
-    std::cerr << "pleat: " << path << " is an earlier run's bundle, not this run's (not overwritten)\n";
-}
-
 std::string why_evidence_stopped(StopReason reason) {
   const std::string walk = "the second walk, which gathers the evidence, ";
   if (reason == StopReason::interrupted) return walk + "was interrupted (the value above stands)";
@@ -418,7 +418,7 @@ std::string why_evidence_stopped(StopReason reason) {
 bool write_bundle(const CertifyArguments& arguments, const Network& network, const Domain& domain,
                   const FunctionalDimensionResult& result) {
   if (!result.certified) {
-    say_no_bundle(arguments.bundle_path, "the functional dimension was not certified (bounds only)");
+    say_not_written("bundle", arguments.bundle_path, "the functional dimension was not certified (bounds only)");
     return true;
   }
   WalkOptions walk;
@@ -426,7 +426,7 @@ bool write_bundle(const CertifyArguments& arguments, const Network& network, con
   if (arguments.limits.time_limit > 0) {
     walk.time_limit_seconds = arguments.limits.time_limit - result.seconds;
     if (walk.time_limit_seconds <= 0) {
-      say_no_bundle(arguments.bundle_path, "the time limit ran out before the evidence was gathered");
+      say_not_written("bundle", arguments.bundle_path, "the time limit ran out before the evidence was gathered");
       return true;
     }
   }
@@ -442,7 +442,7 @@ bool write_bundle(const CertifyArguments& arguments, const Network& network, con
                                           walk, &stopped_by);
   progress.finish();
   if (!bundle) {
-    say_no_bundle(arguments.bundle_path, why_evidence_stopped(stopped_by));
+    say_not_written("bundle", arguments.bundle_path, why_evidence_stopped(stopped_by));
     return !interrupt.flag().load();
   }
   write_output(arguments.bundle_path, json_text(bundle_to_json(network, domain, result, *bundle), false));

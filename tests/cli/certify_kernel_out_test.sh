@@ -45,4 +45,12 @@ err=$("$pleat" certify "$net" -q --full-walk --time-limit 0.001 --kernel-out "$w
 expect_contains "$(cat "$work/cut.txt")" "NOT certified" "a run cut short"
 [ ! -e "$work/cut.csv" ] || fail "a run cut short wrote a kernel file: $(wc -l < "$work/cut.csv") rows"
 expect_contains "$err" "no kernel written to $work/cut.csv" "stderr of a run cut short"
+# A kernel file an earlier run left there is named as that run's: nothing said
+# it was not this run's kernel (of another network, perhaps).
+echo "1,2,3" > "$work/earlier.csv"
+"$pleat" certify "$net" -q --full-walk --time-limit 0.001 --kernel-out "$work/earlier.csv" > /dev/null 2> "$work/earlier.err" ||
+  fail "time-limited certify exited $?"
+[ "$(cat "$work/earlier.err")" = "pleat: no kernel written to $work/earlier.csv: the functional dimension was not certified (bounds only)
+pleat: $work/earlier.csv is an earlier run's kernel, not this run's (not overwritten)" ] || fail "stderr: $(cat "$work/earlier.err")"
+[ "$(cat "$work/earlier.csv")" = "1,2,3" ] || fail "the earlier kernel file was changed"
 echo "certify_kernel_out: the kernel of a value certified by points is the 11 scaling directions; none for bounds"
