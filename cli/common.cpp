@@ -204,6 +204,11 @@ std::string json_text(const Json& document, bool is_pretty) {
   return document.dump(is_pretty ? 2 : -1) + "\n";
 }
 
+Network read_network_input(const std::string& path) {
+  if (path != "-") note_input_file(path);
+  return read_network_any(path);
+}
+
 void write_output(const std::string& path, std::string_view text) {
   if (path.empty() || path == "-") {
     std::cout << text;

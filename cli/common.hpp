@@ -104,6 +104,12 @@ std::string json_text(const Json& document, bool is_pretty = true);
 // singular + "s" unless given).
 std::string count_of(std::size_t count, std::string_view singular, std::string_view plural = {});
 
+// ---- Input ------------------------------------------------------------------
+
+// read_network_any (JSON, or ONNX by name), noting the file as this command's
+// input: no output of the command may then be written over it (output_file.hpp).
+Network read_network_input(const std::string& path);
+
 // ---- Output -----------------------------------------------------------------
 
 // Writes text to `path`, or to standard output when path is "" or "-".

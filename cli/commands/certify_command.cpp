@@ -465,7 +465,10 @@ CertifyFollowerOptions follower_options_for_tests() {
 
 int run_certify(const CertifyArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
-  const Network network = read_network_any(arguments.network_path);
+  const Network network = read_network_input(arguments.network_path);
+  for (const std::string* output : {&arguments.rows_path, &arguments.kernel_path, &arguments.witness_path,
+                                    &arguments.bundle_path})
+    refuse_overwriting_input(*output);  // before the run, not after it
   if (is_follower_process()) {  // an MPI job's rank other than 0: its share of the walk, no output
     const InterruptGuard interrupt;
     const auto work = certify_follower_work(network, &interrupt.flag(), follower_options_for_tests());

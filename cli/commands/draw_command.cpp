@@ -468,7 +468,7 @@ int run_draw(const DrawArguments& arguments) {
 }
 
 int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interrupt) {
-  const Network network = read_network_any(arguments.network_path);
+  const Network network = read_network_input(arguments.network_path);
   const std::size_t dim = network.input_dim;
   const Format format = format_of(arguments.output_path);
   if (dim == 3 && format != Format::off)

@@ -59,7 +59,7 @@ std::string neuron_list_text(const std::vector<std::size_t>& neurons) {
 }
 
 int run_eval(const EvalOptions& options) {
-  const Network network = read_network_any(options.network_path);
+  const Network network = read_network_input(options.network_path);
   const RationalVector point = parse_point(options.point, network.input_dim, "--at");
   const Evaluation result = evaluate_exact(network, point);
   const ActivationPattern around = pattern_around_point(network, point);  // 'z' where identically zero

@@ -33,7 +33,7 @@ constexpr const char* export_help =
     "  pleat export net.json -o model.onnx";
 
 int run_export(const ExportOptions& options) {
-  const Network network = read_network_any(options.network_path);
+  const Network network = read_network_input(options.network_path);
   const OnnxExport model = write_onnx_model(network, PLEAT_VERSION);
   write_output(options.output, model.bytes);
   if (!model.rounded_parameters.empty()) {

@@ -2,6 +2,7 @@
 // deep-learning framework) as an exact pleat network file.
 #include "cli/command.hpp"
 #include "cli/common.hpp"
+#include "cli/formats/output_file.hpp"
 
 #include "core/network_io.hpp"
 #include "core/onnx_io.hpp"
@@ -34,6 +35,7 @@ constexpr const char* import_help =
     "  pleat walk model.onnx";
 
 int run_import(const ImportOptions& options) {
+  note_input_file(options.model_path);  // -o over the model is refused
   const Network network = read_onnx_file(options.model_path);
   write_output(options.output, write_network(network));
   return 0;

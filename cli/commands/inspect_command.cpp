@@ -146,7 +146,7 @@ void print_record(const Network& network, const Domain& domain, const Record& re
 }
 
 int run_inspect(const InspectArguments& arguments) {
-  const Network network = read_network_any(arguments.network_path);
+  const Network network = read_network_input(arguments.network_path);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
   std::vector<Record> records;
   Json query;

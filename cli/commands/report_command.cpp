@@ -209,7 +209,7 @@ void write_page(const ReportArguments& arguments, const std::string& title, cons
 }
 
 int report_network(const ReportArguments& arguments, const std::atomic<bool>& interrupt) {
-  const Network network = read_network_any(arguments.input_path);
+  const Network network = read_network_input(arguments.input_path);
   const std::size_t dim = network.input_dim;
   if (dim < 1 || dim > 3)
     throw input_error("report: the network has " + std::to_string(dim) +

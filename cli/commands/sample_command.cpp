@@ -142,7 +142,7 @@ int report_interrupted_sampling(std::uint64_t drawn, std::uint64_t batch) {
 int run_sample(const SampleArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   if (arguments.batch == 0) throw input_error("--batch: give at least 1 point");
-  const Network network = read_network_any(arguments.network_path);
+  const Network network = read_network_input(arguments.network_path);
   SampleOptions options;
   options.batch = arguments.batch;
   options.seed = arguments.seed;

@@ -22,6 +22,7 @@
 #include <memory>
 #include <optional>
 #include <sstream>
+#include <system_error>
 
 namespace pleat::cli {
 namespace {
@@ -166,7 +167,7 @@ std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, cons
 TrackRow track_checkpoint(const TrackArguments& arguments, std::size_t index, ProgressLine& progress,
                           const std::atomic<bool>& interrupt) {
   const std::string& path = arguments.checkpoints[index];
-  const Network network = read_network_any(path);
+  const Network network = read_network_input(path);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
   FunctionalDimensionOptions options;
   apply_walk_limits(arguments.limits, interrupt, options.walk);
@@ -381,10 +382,16 @@ struct UnwrittenOutputs {
   bool is_svg_written = false;
 
   void name_stale(const TrackArguments& arguments, const std::string& why) const {
+    auto is_checkpoint = [&](const std::string& path) {  // refused as an output: not a stale table
+      std::error_code error;
+      return std::any_of(arguments.checkpoints.begin(), arguments.checkpoints.end(),
+                         [&](const std::string& checkpoint) { return std::filesystem::equivalent(path, checkpoint, error); });
+    };
     std::vector<std::string> stale;
     for (const auto& [path, is_written] : {std::pair{arguments.csv_path, is_csv_written},
                                            std::pair{arguments.svg_path, is_svg_written}})
-      if (!is_written && !path.empty() && path != "-" && std::filesystem::exists(path)) stale.push_back(path);
+      if (!is_written && !path.empty() && path != "-" && std::filesystem::exists(path) && !is_checkpoint(path))
+        stale.push_back(path);
     for (const auto& path : stale)
       std::cerr << "pleat: " << path << " is stale: an earlier run's, not rewritten (" << why << ")\n";
   }
@@ -396,13 +403,15 @@ int track_checkpoints(const TrackArguments& arguments, UnwrittenOutputs& outputs
   std::optional<std::size_t> input_dim;
   std::vector<std::string> fingerprints;
   for (const auto& path : arguments.checkpoints) {
-    const Network network = read_network_any(path);
+    const Network network = read_network_input(path);
     fingerprints.push_back(network_fingerprint(network));
     if (input_dim && *input_dim != network.input_dim)
       throw input_error(path + ": takes " + count_of(network.input_dim, "input") + ", the first checkpoint " +
                         std::to_string(*input_dim));
     input_dim = network.input_dim;
   }
+  for (const std::string* output : {&arguments.output_path, &arguments.csv_path, &arguments.svg_path})
+    refuse_overwriting_input(*output);  // before the run, not after it
   const Domain domain = make_domain(arguments.domain, *input_dim);
   const Json header = header_json(arguments, domain);
   std::map<std::size_t, TrackRow> finished;

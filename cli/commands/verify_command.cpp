@@ -21,7 +21,7 @@ struct VerifyArguments {
 };
 
 int run_verify(const VerifyArguments& arguments) {
-  const Network network = read_network_any(arguments.network_path);
+  const Network network = read_network_input(arguments.network_path);
   const RegionFile file = read_region_file(network, arguments.regions_path, RegionFileReading::exact_copy);
   const std::string& path = file.path;
   const std::size_t header_dimension = *file.parametric_dimension;

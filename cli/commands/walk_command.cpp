@@ -104,7 +104,7 @@ void write_interior_points(const Network& network, const std::string& path, cons
 
 int run_walk(const WalkArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
-  const Network network = read_network_any(arguments.network_path);
+  const Network network = read_network_input(arguments.network_path);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
   if (is_follower_process()) {  // an MPI job's rank other than 0: its share of the walk, no output
     const InterruptGuard interrupt;

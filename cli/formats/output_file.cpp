@@ -10,11 +10,39 @@
 #include <cstring>
 #include <filesystem>
 #include <iostream>
+#include <mutex>
+#include <system_error>
+#include <vector>
 
 namespace pleat::cli {
 
+namespace {
+
+std::mutex input_files_mutex;
+std::vector<std::string> input_files;  // note_input_file's paths, as given
+
+void refuse_overwriting(const std::string& path, const std::string& name) {
+  const std::lock_guard lock(input_files_mutex);
+  std::error_code error;
+  for (const std::string& input : input_files)
+    if (std::filesystem::equivalent(path, input, error))
+      throw input_error(name + ": is the network this command read (" + input + "); write the output elsewhere");
+}
+
+}  // namespace
+
+void note_input_file(const std::string& path) {
+  const std::lock_guard lock(input_files_mutex);
+  input_files.push_back(path);
+}
+
+void refuse_overwriting_input(const std::string& path) {
+  if (!path.empty() && path != "-") refuse_overwriting(path, path);
+}
+
 OutputFile::OutputFile(const std::string& path, Mode mode, const std::string& name)
     : path_(path), name_(name.empty() ? path : name) {
+  refuse_overwriting(path, name_);
   file_ = std::fopen(path.c_str(), mode == Mode::append ? "ab" : "wb");
   if (!file_) throw input_error(name_ + ": cannot open for writing (" + std::strerror(errno) + ")");
 }
@@ -61,6 +89,7 @@ void check_standard_output() {
 }
 
 void write_file_atomically(const std::string& path, std::string_view text) {
+  refuse_overwriting(path, path);
   const std::filesystem::path target(path);
   const std::filesystem::path directory = target.has_parent_path() ? target.parent_path() : ".";
   // The name built by append, not "." + string: GCC 12 warns falsely (-Wrestrict) on that form.

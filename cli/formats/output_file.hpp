@@ -44,6 +44,14 @@ class OutputFile {
   std::FILE* file_ = nullptr;
 };
 
+// A file this command read its network from: opening an OutputFile on it, or
+// write_file_atomically over it, is refused (input_error "PATH: is the network
+// this command read (INPUT); write the output elsewhere"), so that a slip like
+// `pleat walk net.json -o net.json` cannot replace the network with the walk.
+void note_input_file(const std::string& path);
+// The same refusal, asked before a long run rather than when its result is written.
+void refuse_overwriting_input(const std::string& path);
+
 // Throws output_error when standard output cannot be written (after
 // flushing it): "cannot write to standard output (No space left on device)".
 void check_standard_output();

@@ -53,4 +53,22 @@ run_bad "$work/no/such/dir/x.json" random --arch 2,1 --seed 1 -o "$work/no/such/
 
 # A directory given as the network.
 run_bad "$work" eval "$work" --at 1,2
+
+# An output over the network the command read is refused, the network intact
+# (the old binary replaced it with the walk, the kernel, the bundle, the ONNX).
+cp "$source_dir/data/fold2d.json" "$work/net.json"
+ln -s "$work/net.json" "$work/link.json"
+refused="is the network this command read"
+run_bad "$work/net.json: $refused ($work/net.json); write the output elsewhere" walk "$work/net.json" -q -o "$work/net.json"
+run_bad "$work/net.json: $refused ($work/link.json)" walk "$work/link.json" -q -o "$work/net.json"
+run_bad "$refused" certify "$work/net.json" -q --kernel-out "$work/net.json"
+run_bad "$refused" certify "$work/net.json" -q --bundle "$work/net.json"
+run_bad "$refused" export "$work/net.json" -o "$work/net.json"
+run_bad "$refused" track "$work/net.json" -q --csv "$work/net.json"
+grep -q stale "$work/err" && fail "track names its checkpoint a stale CSV: $(cat "$work/err")"
+cmp -s "$work/net.json" "$source_dir/data/fold2d.json" || fail "the network file was changed"
+"$pleat" export "$work/net.json" -o "$work/net.onnx" 2> /dev/null || fail "export exited $?"
+cp "$work/net.onnx" "$work/net_before.onnx"
+run_bad "$work/net.onnx: $refused" import "$work/net.onnx" -o "$work/net.onnx"
+cmp -s "$work/net.onnx" "$work/net_before.onnx" || fail "the ONNX model was changed"
 echo "errors: ok"
