@@ -14,6 +14,20 @@ std::string point_text(const RationalVector& point) {
   return text + ")";
 }
 
+// Where a point lies against the open domain: inside, on its boundary (every
+// side >= 0, one = 0) or outside.
+enum class Placement { inside, on_boundary, outside };
+Placement placement_in(const Domain& domain, const RationalVector& point) {
+  Placement placement = Placement::inside;
+  for (const auto& side : domain.constraints) {
+    Rational value = side.offset;
+    for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
+    if (value < 0) return Placement::outside;
+    if (value == 0) placement = Placement::on_boundary;
+  }
+  return placement;
+}
+
 }  // namespace
 
 ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& result) {
@@ -64,12 +78,7 @@ std::optional<RegionLimit> region_limit(const Network& network, const Functional
 }
 
 bool is_inside(const Domain& domain, const RationalVector& point) {
-  for (const auto& side : domain.constraints) {
-    Rational value = side.offset;
-    for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
-    if (value <= 0) return false;
-  }
-  return true;
+  return placement_in(domain, point) == Placement::inside;
 }
 
 std::vector<ActivationPattern> batch_point_patterns(const Network& network, const Domain& domain,
@@ -78,8 +87,12 @@ std::vector<ActivationPattern> batch_point_patterns(const Network& network, cons
   std::vector<ActivationPattern> patterns;
   for (std::size_t i = 0; i < points.size(); ++i) {
     const std::string place = place_of(i);
-    if (!is_inside(domain, points[i]))
+    const Placement placement = placement_in(domain, points[i]);
+    if (placement == Placement::outside)
       throw input_error(place + ": " + point_text(points[i]) + " lies outside the domain " + domain.describe());
+    if (placement == Placement::on_boundary)
+      throw input_error(place + ": " + point_text(points[i]) + " lies on the boundary of the domain " +
+                        domain.describe() + ", not strictly inside it");
     const auto pattern = region_pattern_at(network, points[i]);
     if (!pattern || !nonsmooth_neurons(network, *pattern).empty()) {
       try {

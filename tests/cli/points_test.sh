@@ -89,6 +89,12 @@ printf '%s\n' 0,0 3,0 > "$work/outside.csv"
 err=$("$pleat" certify "$fold" --points "$work/outside.csv" --box -2,2 -q 2>&1 >/dev/null)
 [ $? = 2 ] || fail "a point outside the box must be exit 2"
 expect_contains "$err" "outside.csv:2 (point 1): (3, 0) lies outside the domain" "outside point named"
+# On the open box's boundary: said so (it was called "outside").
+printf '%s\n' 0,0 2,1/2 > "$work/boundary.csv"
+err=$("$pleat" certify "$fold" --points "$work/boundary.csv" --box -2,2 -q 2>&1 >/dev/null)
+[ $? = 2 ] || fail "a point on the box's boundary must be exit 2"
+expect_contains "$err" "boundary.csv:2 (point 1): (2, 1/2) lies on the boundary of the domain box:(-2,2)x(-2,2), not strictly inside it" \
+  "boundary point named"
 
 # walk --points-out: one point per region; certify --points touches them all.
 "$pleat" walk "$fold" --box -3,3 --points-out "$work/interior.csv" -q > /dev/null || fail "walk --points-out exited $?"

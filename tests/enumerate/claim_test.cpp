@@ -59,7 +59,14 @@ TEST(Claim, PointsOutsideTheDomainAreNamed) {
     (void)batch_point_patterns(network, box, {{Rational(1, 2)}, {Rational(1)}}, place);
     FAIL() << "no error";
   } catch (const input_error& error) {
-    EXPECT_EQ(std::string(error.what()).rfind("p1: (1) lies outside the domain", 0), 0u) << error.what();
+    // (1) is on the open box's boundary: "outside" would be false (it said so).
+    EXPECT_EQ(std::string(error.what()), "p1: (1) lies on the boundary of the domain box:(-1,1), not strictly inside it");
+  }
+  try {
+    (void)batch_point_patterns(network, box, {{Rational(3, 2)}}, place);
+    FAIL() << "no error";
+  } catch (const input_error& error) {
+    EXPECT_EQ(std::string(error.what()).rfind("p0: (3/2) lies outside the domain", 0), 0u) << error.what();
   }
   EXPECT_THROW((void)batch_point_patterns(network, box, {{Rational(0)}}, place), input_error);  // on the hyperplane
 }
