@@ -27,6 +27,7 @@
 #include <optional>
 #include <string>
 #include <string_view>
+#include <utility>
 #include <vector>
 
 namespace pleat {
@@ -44,9 +45,22 @@ std::string_view mechanism_word(Mechanism mechanism);
 // A kernel direction beyond the scaling ones, with the mechanism behind it
 // when one is recognised.
 struct ExtraKernelDirection {
-  RationalVector vector;  // length D, parameter order
+  // Its nonzero entries (parameter index, value), indices increasing; 0 at
+  // the other parameters. Most extra directions of a random network have a
+  // few nonzeros among hundreds of parameters, and a dense vector costs an
+  // allocation per entry (a fifth of certify's time after the walk on
+  // 2,15,15,15,1).
+  std::vector<std::pair<std::size_t, Rational>> entries;
+  std::size_t length = 0;  // D
   Mechanism mechanism = Mechanism::none;
   std::vector<std::size_t> neurons;
+
+  // The direction as a vector of length D, in parameter order.
+  RationalVector dense() const {
+    RationalVector out(length);
+    for (const auto& [index, value] : entries) out[index] = value;
+    return out;
+  }
 };
 
 // Progress after the walk: phase "kernel" (lifting the extra directions:

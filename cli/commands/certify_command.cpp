@@ -130,8 +130,7 @@ Json result_to_json(const Network& network, const Domain& domain, const Function
   Json extra = Json::array();
   for (const auto& direction : result.extra_kernel) {
     Json vector = Json::object();
-    for (std::size_t c = 0; c < direction.vector.size(); ++c)
-      if (direction.vector[c] != 0) vector[network.parameter_name(c)] = format_rational(direction.vector[c]);
+    for (const auto& [c, value] : direction.entries) vector[network.parameter_name(c)] = format_rational(value);
     extra.push_back({{"vector", vector},
                      {"mechanism", mechanism_json(direction.mechanism)},
                      {"neurons", direction.neurons}});

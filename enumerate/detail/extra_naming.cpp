@@ -151,12 +151,9 @@ std::vector<ExtraKernelDirection> name_extra_directions(const Network& network, 
       const std::size_t r = start + i;
       ExtraKernelDirection& direction = named[r];
       std::vector<std::size_t> support;
-      direction.vector.resize(extra.cols);
-      for (auto& [c, value] : extra.rows[r]) {  // each row is read by this call only
-        support.push_back(c);
-        swap(direction.vector[c], value);
-      }
-      extra.rows[r] = {};
+      for (const auto& entry : extra.rows[r]) support.push_back(entry.first);
+      direction.entries = std::move(extra.rows[r]);  // each row is read by this call only
+      direction.length = extra.cols;
       recognise_mechanism(covers, support, direction);
     });
   }

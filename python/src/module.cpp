@@ -193,7 +193,7 @@ py::dict certify_dict(const Network& network, const Domain& domain, const Functi
   py::list extra;
   for (const auto& direction : result.extra_kernel) {
     py::dict entry;
-    entry["vector"] = fraction_list(direction.vector);
+    entry["vector"] = fraction_list(direction.dense());
     entry["mechanism"] = optional_text(std::string(mechanism_word(direction.mechanism)));
     entry["neurons"] = direction.neurons;
     extra.append(entry);

@@ -38,7 +38,7 @@ TEST(Claim, AtPointsTheExactRankDecides) {
 
 TEST(Claim, MechanismGroupsCountDirectionsInFirstSeenOrder) {
   FunctionalDimensionResult result = bounds(7, 7, true);
-  result.extra_kernel = {{{}, Mechanism::dead_neuron, {2}}, {{}, Mechanism::duplicate_neurons, {0, 1}}, {{}, Mechanism::dead_neuron, {2}}};
+  result.extra_kernel = {{{}, 0, Mechanism::dead_neuron, {2}}, {{}, 0, Mechanism::duplicate_neurons, {0, 1}}, {{}, 0, Mechanism::dead_neuron, {2}}};
   const std::vector<MechanismGroup> groups = mechanism_groups(result);
   ASSERT_EQ(groups.size(), 2u);
   EXPECT_EQ(groups[0].mechanism, Mechanism::dead_neuron);

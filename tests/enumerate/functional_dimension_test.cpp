@@ -193,7 +193,7 @@ TEST(FunctionalDimension, ReluOutputZeroLevelHidesTheMiddle) {
   EXPECT_EQ(result.regions_walked, 5u);  // cuts at -4, -1, 1, 4
   ASSERT_EQ(result.extra_kernel.size(), 1u);
   const std::map<std::string, Rational> expected{{"b1[0]", 1}, {"b1[1]", 1}, {"b2[0]", -1}};
-  EXPECT_EQ(named(network, result.extra_kernel[0].vector), expected);
+  EXPECT_EQ(named(network, result.extra_kernel[0].dense()), expected);
   // Not one of the named mechanisms (the hidden neurons are neither dead nor
   // always on, nor copies): the explanation must not pretend otherwise.
   EXPECT_EQ(result.extra_kernel[0].mechanism, Mechanism::none);
@@ -233,7 +233,7 @@ TEST(FunctionalDimension, DeadNeuronIn1DGives2mMinus1) {
         EXPECT_EQ(direction.mechanism, Mechanism::dead_neuron);
         EXPECT_EQ(direction.neurons, std::vector<std::size_t>{dead});
         // Supported on the dead neuron's own parameters only.
-        for (const auto& [name, value] : named(network, direction.vector)) {
+        for (const auto& [name, value] : named(network, direction.dense())) {
           const std::string index = std::to_string(dead);
           EXPECT_TRUE(name == "W1[" + index + ",0]" || name == "b1[" + index + "]" || name == "W2[0," + index + "]")
               << name;
@@ -284,7 +284,7 @@ TEST(FunctionalDimension, Degenerate2dExampleIs17WithSevenNamedDirections) {
   ASSERT_EQ(result.extra_kernel.size(), expected.size());
   for (std::size_t i = 0; i < expected.size(); ++i) {
     SCOPED_TRACE("extra direction " + std::to_string(i));
-    EXPECT_EQ(named(network, result.extra_kernel[i].vector), expected[i].first);
+    EXPECT_EQ(named(network, result.extra_kernel[i].dense()), expected[i].first);
     EXPECT_EQ(mechanism_word(result.extra_kernel[i].mechanism), expected[i].second);
     const std::vector<std::size_t> neurons =
         expected[i].second == "dead-neuron" ? std::vector<std::size_t>{5} : std::vector<std::size_t>{1, 2};
@@ -294,7 +294,7 @@ TEST(FunctionalDimension, Degenerate2dExampleIs17WithSevenNamedDirections) {
   for (const Region& region : all_regions(network)) {
     const RationalMatrix blocks = coefficient_blocks(network, region.pattern);
     for (const auto& direction : result.extra_kernel)
-      for (const Rational& entry : product(blocks, direction.vector)) EXPECT_EQ(entry, 0);
+      for (const Rational& entry : product(blocks, direction.dense())) EXPECT_EQ(entry, 0);
   }
 }
 
@@ -481,7 +481,7 @@ TEST(FunctionalDimension, LiftedExtraDirectionsEqualTheExactKernelsOnes) {
     const RationalMatrix extra = extra_kernel_basis(kernel, scaling_directions(network));
     EXPECT_EQ(*result.functional_dimension, network.parametric_dimension() - kernel.rows());
     ASSERT_EQ(result.extra_kernel.size(), extra.rows());
-    for (std::size_t r = 0; r < extra.rows(); ++r) EXPECT_EQ(result.extra_kernel[r].vector, extra.row(r));
+    for (std::size_t r = 0; r < extra.rows(); ++r) EXPECT_EQ(result.extra_kernel[r].dense(), extra.row(r));
     EXPECT_EQ(result.kernel.rows(), kernel.rows());
   }
 }
@@ -530,7 +530,7 @@ TEST(FunctionalDimension, LiftStartsFromTheWalksPrimeAndAddsPrimesOnlyWhenNeeded
   EXPECT_EQ(*large.functional_dimension, scaled.parametric_dimension() - kernel.rows());
   ASSERT_EQ(large.extra_kernel.size(), extra.rows());
   ASSERT_GT(extra.rows(), 0u);
-  for (std::size_t r = 0; r < extra.rows(); ++r) EXPECT_EQ(large.extra_kernel[r].vector, extra.row(r));
+  for (std::size_t r = 0; r < extra.rows(); ++r) EXPECT_EQ(large.extra_kernel[r].dense(), extra.row(r));
   FunctionalDimensionResult two_threads;
   EXPECT_LE(lift_primes(scaled, two_threads, 2), 1u);
   EXPECT_EQ(two_threads.kernel, large.kernel);
@@ -556,7 +556,7 @@ TEST(FunctionalDimension, LiftStartsFromTheWalksPrimeAndAddsPrimesOnlyWhenNeeded
     EXPECT_LE(lift_primes(tinier, lifted, threads), 1u);  // no exact solve of all rows
     ASSERT_TRUE(lifted.certified);
     ASSERT_EQ(lifted.extra_kernel.size(), tinier_extra.rows());
-    for (std::size_t r = 0; r < tinier_extra.rows(); ++r) EXPECT_EQ(lifted.extra_kernel[r].vector, tinier_extra.row(r));
+    for (std::size_t r = 0; r < tinier_extra.rows(); ++r) EXPECT_EQ(lifted.extra_kernel[r].dense(), tinier_extra.row(r));
   }
 }
 
@@ -634,7 +634,7 @@ TEST(FunctionalDimension, SameResultForAnyThreadCount) {
         EXPECT_EQ(a.kernel, b.kernel);
         ASSERT_EQ(a.extra_kernel.size(), b.extra_kernel.size());
         for (std::size_t i = 0; i < a.extra_kernel.size(); ++i) {
-          EXPECT_EQ(a.extra_kernel[i].vector, b.extra_kernel[i].vector);
+          EXPECT_EQ(a.extra_kernel[i].dense(), b.extra_kernel[i].dense());
           EXPECT_EQ(a.extra_kernel[i].mechanism, b.extra_kernel[i].mechanism);
           EXPECT_EQ(a.extra_kernel[i].neurons, b.extra_kernel[i].neurons);
         }
