@@ -237,8 +237,8 @@ class Network:
         scaling directions, or an exact kernel checked on every region).
 
         points: also the exact batch functional dimension at these points
-        (result.batch; a point outside the domain or on a bent hyperplane is a
-        ValueError naming it). claim: judge a claimed value (result.claim:
+        (result.batch; a point outside the domain, on its boundary or on a bent
+        hyperplane is a ValueError naming it). claim: judge a claimed value (result.claim:
         "consistent", "too-low" or "impossible", with the reason).
         time_limit / Ctrl-C: the result holds proved bounds, certified False.
 
