@@ -236,7 +236,7 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
     }
     const bool is_stop_asked = options.on_region && !options.on_region(region);
     adjacency.add_region(id, slot, neighbors, std::move(region.affine), id_of_slot);  // after on_region, which reads it
-    processed = detail::Processed{};  // free the record now: a level can be large
+    if (!pipeline) processed = detail::Processed{};  // free the record now: a level can be large (the pipeline's: retire)
     if (is_stop_asked) {
       delivery_stop = StopReason::requested;
       return false;
@@ -280,7 +280,7 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
         },
         [&](std::size_t index, detail::WalkTask& task) -> std::optional<std::size_t> {
           if (!deliver(static_cast<std::uint32_t>(index), *task.processed)) return std::nullopt;
-          task.processed.reset();
+          tasks.retire(task);
           if (++position < level.size()) return level[position];
           position = 0;
           if (!start_next_level()) {

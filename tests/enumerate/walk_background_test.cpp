@@ -8,10 +8,14 @@
 #include <gtest/gtest.h>
 
 #include <atomic>
+#include <chrono>
 #include <deque>
+#include <memory>
 #include <mutex>
+#include <set>
 #include <stdexcept>
 #include <thread>
+#include <utility>
 #include <vector>
 
 namespace pleat {
@@ -131,6 +135,58 @@ TEST(WalkBackground, ThreadsStartedBeforeTheRun) {
       nullptr);
   EXPECT_EQ(workers_seen.size(), 100u);
   for (std::size_t worker : workers_seen) EXPECT_LT(worker, 3u);
+}
+
+// Without background work, every consume runs on the thread that called
+// run (worker 0), on which the consumer's own data stays; each processed
+// record that consume retires is freed on the thread that processed it (while
+// the run goes on; those left at its end, with the pipeline), and every
+// record is freed once.
+TEST(WalkBackground, ConsumesOnTheCallerAndFreesOnTheMaker) {
+  struct Freed {
+    std::mutex mutex;
+    std::vector<std::pair<std::thread::id, std::thread::id>> made_and_freed;
+  };
+  struct Marker {
+    Freed* log;
+    std::thread::id made = std::this_thread::get_id();
+    ~Marker() {
+      const std::lock_guard lock(log->mutex);
+      log->made_and_freed.emplace_back(made, std::this_thread::get_id());
+    }
+  };
+  for (std::size_t workers : {1u, 2u, 3u}) {
+    Freed freed;
+    std::size_t freed_in_run = 0;
+    std::set<std::thread::id> consumers;
+    {
+      detail::WalkPipeline pipeline(workers, 8);
+      pipeline.add(ActivationPattern{{NeuronState::on}});
+      pipeline.run(
+          0, StopRequest(),
+          [&](std::size_t, detail::WalkTask& task) {
+            task.processed = std::make_unique<detail::Processed>();
+            task.processed->region.prepared = std::make_shared<Marker>(&freed);
+            std::this_thread::sleep_for(std::chrono::microseconds(20));  // room for the others to take tasks
+          },
+          [&](std::size_t index, detail::WalkTask& task) -> std::optional<std::size_t> {
+            consumers.insert(std::this_thread::get_id());
+            pipeline.retire(task);
+            EXPECT_EQ(task.processed, nullptr);
+            if (index == 299) return std::nullopt;
+            for (int k = 0; k < 2; ++k) pipeline.add(ActivationPattern{{NeuronState::off}});
+            return index + 1;
+          },
+          nullptr);
+      const std::lock_guard lock(freed.mutex);
+      freed_in_run = freed.made_and_freed.size();
+    }
+    EXPECT_EQ(consumers, std::set<std::thread::id>{std::this_thread::get_id()}) << workers;
+    ASSERT_GE(freed.made_and_freed.size(), 300u) << workers;  // each consumed record, and those processed ahead
+    for (std::size_t k = 0; k < freed_in_run; ++k)
+      EXPECT_EQ(freed.made_and_freed[k].first, freed.made_and_freed[k].second) << workers << " record " << k;
+    EXPECT_LE(freed.made_and_freed.size() - freed_in_run, 10 * (workers + 1)) << workers;  // left at the end: few
+  }
 }
 
 detail::PendingRows rows_of(std::size_t label, std::size_t rows, std::size_t columns) {
