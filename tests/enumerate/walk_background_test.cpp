@@ -148,6 +148,9 @@ TEST(WalkBackground, ConsumesOnTheCallerAndFreesOnTheMaker) {
     std::vector<std::pair<std::thread::id, std::thread::id>> made_and_freed;
   };
   struct Marker {
+    explicit Marker(Freed* freed_log) : log(freed_log) {}  // clang lacks C++20's Marker(...) aggregate init
+    Marker(const Marker&) = delete;
+    Marker& operator=(const Marker&) = delete;
     Freed* log;
     std::thread::id made = std::this_thread::get_id();
     ~Marker() {
