@@ -14,20 +14,6 @@ std::string point_text(const RationalVector& point) {
   return text + ")";
 }
 
-// Where a point lies against the open domain: inside, on its boundary (every
-// side >= 0, one = 0) or outside.
-enum class Placement { inside, on_boundary, outside };
-Placement placement_in(const Domain& domain, const RationalVector& point) {
-  Placement placement = Placement::inside;
-  for (const auto& side : domain.constraints) {
-    Rational value = side.offset;
-    for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
-    if (value < 0) return Placement::outside;
-    if (value == 0) placement = Placement::on_boundary;
-  }
-  return placement;
-}
-
 }  // namespace
 
 ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& result) {

@@ -27,6 +27,17 @@ std::string Domain::describe() const {
   return out.str();
 }
 
+Placement placement_in(const Domain& domain, const RationalVector& point) {
+  Placement placement = Placement::inside;
+  for (const auto& side : domain.constraints) {
+    Rational value = side.offset;
+    for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
+    if (value < 0) return Placement::outside;
+    if (value == 0) placement = Placement::on_boundary;
+  }
+  return placement;
+}
+
 Domain make_whole_space(std::size_t dim) {
   if (dim == 0) throw usage_error("make_whole_space: dimension must be positive");
   Domain domain;

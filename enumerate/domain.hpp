@@ -31,6 +31,11 @@ Domain make_box(const RationalVector& lower, const RationalVector& upper);
 // normal is zero or the polytope has empty interior (decided exactly).
 Domain make_polytope(std::size_t dim, std::vector<lp::Constraint> constraints);
 
+// Where a point lies against the open domain: strictly inside, on its
+// boundary (no side negative, one zero) or outside. Exact.
+enum class Placement { inside, on_boundary, outside };
+Placement placement_in(const Domain& domain, const RationalVector& point);
+
 // A rational point strictly inside the domain: the origin for R^n, the centre
 // of a box, a well-centred point of a polytope. Exact.
 RationalVector domain_centre(const Domain& domain);

@@ -5,6 +5,7 @@
 #include "core/rank.hpp"
 #include "enumerate/detail/extra_naming.hpp"
 #include "enumerate/distributed_certify.hpp"
+#include "enumerate/domain.hpp"
 #include "enumerate/detail/kernel_check.hpp"
 #include "enumerate/detail/kernel_lift.hpp"
 #include "enumerate/detail/parallel_for.hpp"
@@ -113,16 +114,6 @@ RationalVector rational_from_vector(const DoubleVector& values) {
   RationalVector out(values.size());
   for (std::size_t i = 0; i < values.size(); ++i) out[i] = rational_from_double(values[i]);
   return out;
-}
-
-// Strictly inside the domain's sides (exact).
-bool strictly_inside(const Domain& domain, const RationalVector& point) {
-  for (const auto& side : domain.constraints) {
-    Rational value = side.offset;
-    for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
-    if (sgn(value) <= 0) return false;
-  }
-  return true;
 }
 
 // The largest t keeping base + t direction inside the domain's sides, a
@@ -401,7 +392,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       std::vector<PointRegion> regions(points.size());
       std::vector<ModularMatrix> rows(points.size());
       parallel_for(points.size(), threads, [&](std::size_t i) {
-        if (!strictly_inside(domain, points[i])) return;
+        if (placement_in(domain, points[i]) != Placement::inside) return;
         regions[i] = region_of_point(network, evaluator, points[i]);
         if (regions[i].verdict == PointVerdict::smooth && !seen_by_points.contains(regions[i].pattern))
           rows[i] = coefficient_blocks_mod(modular, regions[i].pattern);

@@ -33,12 +33,7 @@ Rational InteriorPointSource::dyadic_fraction() {
 }
 
 bool InteriorPointSource::is_inside(const RationalVector& point) const {
-  for (const auto& side : domain_.constraints) {
-    Rational value = side.offset;
-    for (std::size_t i = 0; i < point.size(); ++i) value += side.normal[i] * point[i];
-    if (sgn(value) <= 0) return false;
-  }
-  return true;
+  return placement_in(domain_, point) == Placement::inside;
 }
 
 // The centre plus a random fraction of the way to the boundary along
