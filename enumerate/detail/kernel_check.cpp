@@ -6,14 +6,10 @@
 #include <algorithm>
 #include <array>
 #include <atomic>
-#include <exception>
-#include <mutex>
-#include <thread>
 
+#include "enumerate/detail/check_basis.hpp"
 #include "enumerate/detail/integer_check.hpp"
 #include "enumerate/detail/parallel_for.hpp"
-#include "enumerate/detail/worker_pool.hpp"
-#include "enumerate/detail/worker_thread.hpp"
 
 namespace pleat::detail {
 namespace {
@@ -321,9 +317,17 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
       first_neuron[k] = neuron;
       neuron += network.layers[k].width();
     }
+  std::vector<std::vector<std::pair<std::size_t, Integer>>> integer_rows(vector_count_);
+  // Thousands of vectors and, on deep networks, hundreds of primes: poll
+  // the current thread's stop request (a no-op without a StopScope).
+  parallel_for(vector_count_, threads, [&](std::size_t r) {
+    poll_stop();
+    integer_rows[r] = primitive_integer_entries(vectors.rows[r]);
+  });
+  lower_check_cost(integer_rows);  // the same span, smaller entries (check_basis.hpp): checked from here on
   term_neurons_.resize(vector_count_);
   for (std::size_t v = 0; v < vector_count_; ++v)
-    for (const auto& [c, value] : vectors.rows[v]) {
+    for (const auto& [c, value] : integer_rows[v]) {
       const ColumnRole& role = columns_[c];
       const std::size_t own = first_neuron[role.layer] == none_ ? none_ : first_neuron[role.layer] + role.neuron;
       const std::size_t input =
@@ -331,14 +335,10 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
       term_neurons_[v].push_back({own, input});
     }
   const std::vector<Integer>& bounds = check_scale.scaled_bounds;
-  std::vector<std::vector<std::pair<std::size_t, Integer>>> integer_rows(vector_count_);
   // Each vector's bound L^(d-1) sum_c B_c |e_c|: primes until their product exceeds it.
   std::vector<Integer> needed(vector_count_, 0);
-  // Thousands of vectors and, on deep networks, hundreds of primes: poll
-  // the current thread's stop request (a no-op without a StopScope).
   parallel_for(vector_count_, threads, [&](std::size_t r) {
     poll_stop();
-    integer_rows[r] = primitive_integer_entries(vectors.rows[r]);
     Integer& sum = needed[r];
     for (const auto& [c, value] : integer_rows[r])
       if (sgn(value) > 0)
@@ -532,66 +532,6 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
     }
   }
   return true;
-}
-
-std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,
-                                                  const std::vector<ActivationPattern>& patterns, unsigned threads,
-                                                  const StopRequest& stop, bool& stopped,
-                                                  const std::function<void(std::size_t, std::size_t)>& progress) {
-  std::vector<std::size_t> order(patterns.size());
-  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
-  std::sort(order.begin(), order.end(),
-            [&](std::size_t a, std::size_t b) { return states_before(patterns[a], patterns[b]); });
-  constexpr std::size_t run = 16;  // consecutive patterns per thread
-  std::atomic<std::size_t> next{0}, done{0};
-  std::atomic<std::size_t> first_rejected{patterns.size()};
-  std::atomic<bool> halt{false};
-  std::mutex error_mutex;
-  std::exception_ptr error;
-  auto work = [&](bool reports) {
-    const StopScope scope(stop);  // annihilates() polls it inside one pattern
-    try {
-      for (std::size_t start; !halt && (start = next.fetch_add(run)) < patterns.size();)
-        for (std::size_t position = start; position < std::min(start + run, patterns.size()) && !halt; ++position) {
-          const std::size_t i = order[position];
-          if (i > first_rejected.load()) continue;  // a smaller index already failed
-          if (stop.is_requested()) {
-            halt = true;
-            break;
-          }
-          if (!check.annihilates(patterns[i])) {
-            std::size_t current = first_rejected.load();
-            while (i < current && !first_rejected.compare_exchange_weak(current, i)) {
-            }
-          }
-          ++done;
-          if (reports && progress) progress(done.load(), patterns.size());
-        }
-    } catch (...) {
-      const std::lock_guard lock(error_mutex);
-      if (!error) error = std::current_exception();
-      halt = true;
-    }
-  };
-  threads = static_cast<unsigned>(std::max<std::size_t>(1, std::min<std::size_t>(threads, patterns.size())));
-  // On the current worker pool's threads when there is one (a wake-up, not
-  // a thread start), else on threads started here; the caller reports.
-  if (WorkerPool* lent = current_worker_pool(); lent && threads > 1) {
-    const std::thread::id caller = std::this_thread::get_id();
-    lent->run(threads - 1, [&] { work(std::this_thread::get_id() == caller); });
-  } else {
-    std::vector<std::thread> pool;
-    for (unsigned t = 1; t < threads; ++t) pool.push_back(start_worker_thread([&] { work(false); }, t - 1));
-    work(true);
-    for (auto& thread : pool) thread.join();
-  }
-  if (error) std::rethrow_exception(error);
-  if (halt && stop.is_requested()) {
-    stopped = true;
-    return std::nullopt;
-  }
-  if (first_rejected.load() < patterns.size()) return first_rejected.load();
-  return std::nullopt;
 }
 
 }  // namespace pleat::detail

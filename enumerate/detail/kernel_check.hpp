@@ -79,7 +79,10 @@ enum class CheckArithmetic { fastest, primes };
 
 // A deterministic exact test that given vectors annihilate a pattern's
 // coefficient-block rows, in word arithmetic. Each vector is scaled to a
-// primitive integer vector e. For a row of the blocks, N = L^(d-1) (row . e)
+// primitive integer vector, and those are replaced by combinations that
+// span the same space with smaller entries (check_basis.hpp: the verdict is
+// the same, since every vector annihilates the rows exactly when every
+// vector of their span does); e is one of them. For a row of the blocks, N = L^(d-1) (row . e)
 // is an integer (entries are sums of products of at most d - 1 parameters,
 // one from each layer but the column's own, with integer coefficients) and
 // |N| <= L^(d-1) sum_c B_c |e_c|. N = 0 modulo a number above that bound

@@ -6,6 +6,7 @@
 // elimination), and the lift must not prove an altered candidate.
 #include "enumerate/detail/kernel_lift.hpp"
 
+#include "enumerate/detail/check_basis.hpp"
 #include "enumerate/detail/integer_check.hpp"
 
 #include "core/jacobian.hpp"
@@ -563,6 +564,61 @@ TEST(KernelCheck, ManyLimbKernelCombinationsPassAndChangedOnesNameTheExactFirstR
     }
   }
   EXPECT_GT(passed, 1u);
+  EXPECT_GT(rejected, 10u);
+}
+
+// Two kernel vectors sharing a huge part up to a factor (an extra direction
+// plus 2^300/7 times a scaling direction, another scaling direction plus 3
+// times that): the check
+// takes combinations of them with that part cancelled (check_basis.hpp),
+// and must still pass them on every region, and name the exact products'
+// first region once either is changed in one entry.
+TEST(KernelCheck, VectorsSharingAHugePartPassAndChangedOnesNameTheExactFirstRegion) {
+  std::size_t rejected = 0, combined = 0;
+  for (const Network& network : {random_network({2, 4, 3, 3, 1}, 31), random_network({2, 3, 3, 2}, 14)}) {
+    const detail::CheckScale scale(network);
+    const WalkState state = walk_state(network);
+    const RationalMatrix extra = exact_extra_directions(network, state.smooth);
+    const RationalMatrix scaling = scaling_directions(network);
+    ASSERT_GE(extra.rows(), 1u);
+    ASSERT_GE(scaling.rows(), 2u);
+    std::vector<RationalMatrix> blocks;
+    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const Rational huge(Integer("1") << 300, 7);
+    RationalMatrix pair(2, extra.cols());
+    for (std::size_t c = 0; c < extra.cols(); ++c) {
+      pair(0, c) = extra(0, c) + huge * scaling(0, c);
+      pair(1, c) = scaling(1, c) + 3 * huge * scaling(0, c);
+    }
+    // The cheaper basis cancels the shared part.
+    std::vector<detail::IntegerEntries> integers(2);
+    for (std::size_t r = 0; r < 2; ++r) {
+      std::vector<Integer> values;
+      detail::primitive_integers(pair.cols(), [&](std::size_t c) -> const Rational& { return pair(r, c); }, values);
+      for (std::size_t c = 0; c < values.size(); ++c)
+        if (sgn(values[c]) != 0) integers[r].emplace_back(c, values[c]);
+    }
+    const std::size_t cost_before = detail::check_cost(integers[0]) + detail::check_cost(integers[1]);
+    detail::lower_check_cost(integers);
+    combined += detail::check_cost(integers[0]) + detail::check_cost(integers[1]) < cost_before;
+    for (std::size_t r = 0; r < 2; ++r)
+      for (std::size_t c = 0; c < pair.cols(); c += 3) {
+        RationalMatrix vectors = pair;
+        if (c > 0) vectors(r, c) += Rational(1, 3);
+        const std::optional<std::size_t> expected = first_region_not_annihilated_exactly(blocks, vectors);
+        if (c == 0) {
+          EXPECT_FALSE(expected.has_value());
+        }
+        for (const auto arithmetic : {detail::CheckArithmetic::fastest, detail::CheckArithmetic::primes}) {
+          const detail::AnnihilationCheck check(network, vectors, scale, 1, arithmetic);
+          bool stopped = false;
+          EXPECT_EQ(detail::first_rejected_pattern(check, state.smooth, 1, StopRequest(), stopped, {}), expected)
+              << "vector " << r << " column " << c;
+        }
+        rejected += expected.has_value();
+      }
+  }
+  EXPECT_EQ(combined, 2u);
   EXPECT_GT(rejected, 10u);
 }
 
