@@ -121,11 +121,11 @@ std::optional<SparseVector> coefficients_on_rows(const SparseVector& g, const Sp
   return coefficients;
 }
 
-// Every shift and mix generator of the neurons on in every pattern of
-// smooth, less its scaling part (those where that part is found), 0 at Q.
-std::vector<SparseVector> reduced_generators(const Network& network, const std::vector<ActivationPattern>& smooth) {
-  std::vector<SparseVector> reduced;
-  if (smooth.empty()) return reduced;
+}  // namespace
+
+AlwaysActiveGenerators::AlwaysActiveGenerators(const Network& network, const std::vector<ActivationPattern>& smooth) {
+  std::vector<SparseVector>& reduced = reduced_;
+  if (smooth.empty()) return;
   std::vector<std::vector<std::size_t>> always(network.depth());
   for (std::size_t k = 0, n = 0; k + 1 < network.depth(); ++k)
     for (std::size_t i = 0; i < network.layers[k].width(); ++i, ++n)
@@ -139,7 +139,7 @@ std::vector<SparseVector> reduced_generators(const Network& network, const std::
       for (std::size_t b : always[k])
         if (a != b && generators.size() < max_generators) generators.push_back(mix_direction(network, k, a, b));
     }
-  if (generators.empty()) return reduced;
+  if (generators.empty()) return;
   const ScalingStructure structure = scaling_structure(network);
   ScalingPart scaling{{}, structure.pivot_columns, std::vector<std::vector<std::pair<std::size_t, Rational>>>(
                                                         structure.pivot_columns.size())};
@@ -152,8 +152,9 @@ std::vector<SparseVector> reduced_generators(const Network& network, const std::
     poll_stop();
     if (std::optional<SparseVector> without = without_scaling_part(g, scaling)) reduced.push_back(std::move(*without));
   }
-  return reduced;
 }
+
+namespace {
 
 // Rows (pivot columns, among `columns` in order) and the rows of `matrix`
 // chosen for them: each chosen row, with the earlier pivots' columns
@@ -183,12 +184,12 @@ std::pair<std::vector<std::size_t>, std::vector<std::size_t>> pivots(std::vector
 
 }  // namespace
 
-std::vector<char> rows_proved_by_always_active(const Network& network, const std::vector<ActivationPattern>& smooth,
+std::vector<char> rows_proved_by_always_active(const AlwaysActiveGenerators& always_active,
                                                const SparseRationalRows& candidate,
                                                const std::vector<std::size_t>& heavy) {
   std::vector<char> proved(candidate.rows.size(), 0);
   if (heavy.empty()) return proved;
-  const std::vector<SparseVector> generators = reduced_generators(network, smooth);
+  const std::vector<SparseVector>& generators = always_active.reduced();
   if (generators.empty()) return proved;
   std::vector<std::size_t> row_of_lead(candidate.cols, static_cast<std::size_t>(-1));
   for (std::size_t r = 0; r < candidate.rows.size(); ++r)
@@ -216,10 +217,10 @@ std::vector<char> rows_proved_by_always_active(const Network& network, const std
   return proved;
 }
 
-AlwaysActivePlan::AlwaysActivePlan(const Network& network, const std::vector<ActivationPattern>& smooth,
-                                   const ModularMatrix& image, const std::vector<std::size_t>& hard) {
+AlwaysActivePlan::AlwaysActivePlan(const AlwaysActiveGenerators& always_active, const ModularMatrix& image,
+                                   const std::vector<std::size_t>& hard) {
   if (hard.empty()) return;
-  std::vector<SparseVector> generators = reduced_generators(network, smooth);
+  const std::vector<SparseVector>& generators = always_active.reduced();
   if (generators.empty()) return;
   std::vector<std::size_t> row_of_lead(image.cols(), static_cast<std::size_t>(-1));
   std::vector<std::size_t> entries(image.rows(), 0);  // nonzeros of each row modulo the prime
@@ -280,7 +281,7 @@ AlwaysActivePlan::AlwaysActivePlan(const Network& network, const std::vector<Act
     inverse_.push_back(right[s]);
   }
   for (std::size_t t : chosen) {
-    generators_.push_back(std::move(generators[t]));
+    generators_.push_back(generators[t]);
     coordinates_.push_back(std::move(coordinates[t]));
   }
 }

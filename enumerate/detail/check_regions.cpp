@@ -1,6 +1,7 @@
 // The kernel check's loop over regions (first_rejected_pattern, declared in
 // kernel_check.hpp): in the patterns' lexicographic order, in runs per
-// thread, on the certify call's worker pool when there is one.
+// thread, on the certify call's worker pool when there is one; and the
+// vectors it need not check on any region (live_on_some_pattern).
 #include "enumerate/detail/kernel_check.hpp"
 
 #include "enumerate/detail/worker_pool.hpp"
@@ -8,11 +9,65 @@
 
 #include <algorithm>
 #include <atomic>
+#include <cstdint>
 #include <exception>
 #include <mutex>
 #include <thread>
+#include <vector>
 
 namespace pleat::detail {
+
+std::vector<char> live_on_some_pattern(const Network& network, const SparseRationalRows& vectors,
+                                       const std::vector<ActivationPattern>& patterns) {
+  const std::size_t depth = network.depth();
+  std::vector<std::size_t> first(depth + 1, 0);  // each layer's first parameter column
+  std::vector<std::size_t> first_neuron(depth, 0);
+  for (std::size_t k = 0, neuron = 0; k < depth; ++k) {
+    first[k + 1] = network.parameter_offset(k) + network.layers[k].width() * (network.layers[k].fan_in() + 1);
+    first_neuron[k] = neuron;
+    neuron += network.layers[k].width();
+  }
+  auto has_relu = [&](std::size_t k) { return k + 1 < depth || network.has_output_relu(); };
+  // together[k][i]: the inputs of layer k (bits) on in some pattern where
+  // neuron i of layer k is on; own[k][i]: i on in some pattern.
+  std::vector<std::vector<std::vector<std::uint64_t>>> together(depth);
+  std::vector<std::vector<char>> own(depth);
+  std::vector<std::uint64_t> inputs;
+  for (std::size_t k = 0; k < depth; ++k) {
+    const std::size_t words = (network.layers[k].fan_in() + 63) / 64;
+    together[k].assign(network.layers[k].width(), std::vector<std::uint64_t>(words, 0));
+    own[k].assign(network.layers[k].width(), 0);
+  }
+  for (const ActivationPattern& pattern : patterns) {
+    poll_stop();
+    for (std::size_t k = 0; k < depth; ++k) {
+      const std::size_t fan_in = network.layers[k].fan_in();
+      inputs.assign((fan_in + 63) / 64, 0);
+      for (std::size_t j = 0; j < fan_in; ++j)
+        if (k == 0 || pattern.is_on(first_neuron[k - 1] + j)) inputs[j / 64] |= std::uint64_t{1} << (j % 64);
+      for (std::size_t i = 0; i < network.layers[k].width(); ++i) {
+        if (has_relu(k) && !pattern.is_on(first_neuron[k] + i)) continue;
+        own[k][i] = 1;
+        for (std::size_t w = 0; w < inputs.size(); ++w) together[k][i][w] |= inputs[w];
+      }
+    }
+  }
+  std::vector<char> live(vectors.rows.size(), 0);
+  for (std::size_t v = 0; v < vectors.rows.size(); ++v)
+    for (const auto& [c, value] : vectors.rows[v]) {
+      const std::size_t k = static_cast<std::size_t>(std::upper_bound(first.begin(), first.end(), c) - first.begin()) - 1;
+      const std::size_t fan_in = network.layers[k].fan_in(), offset = c - first[k];
+      const std::size_t weights = network.layers[k].width() * fan_in;
+      const bool is_live = offset >= weights
+                               ? own[k][offset - weights] != 0
+                               : ((together[k][offset / fan_in][(offset % fan_in) / 64] >> (offset % fan_in % 64)) & 1) != 0;
+      if (is_live) {
+        live[v] = 1;
+        break;
+      }
+    }
+  return live;
+}
 
 std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,
                                                   const std::vector<ActivationPattern>& patterns, unsigned threads,

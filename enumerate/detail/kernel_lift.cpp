@@ -1,8 +1,10 @@
+// The lift of the extra directions' hard rows over further primes
+// (lift_rows_multimodular, declared in kernel_lift.hpp): their groups,
+// equations and exact solves.
 #include "enumerate/detail/kernel_lift.hpp"
 
 #include "core/detail/flint_matrix.hpp"
 #include "core/jacobian.hpp"
-#include "enumerate/detail/always_active_rows.hpp"
 #include "enumerate/detail/padic_solve.hpp"
 #include "enumerate/detail/parallel_for.hpp"
 
@@ -13,7 +15,7 @@
 
 #include <algorithm>
 #include <cmath>
-
+#include <iterator>
 #include <memory>
 #include <optional>
 #include <utility>
@@ -24,42 +26,6 @@ namespace {
 __extension__ typedef unsigned __int128 Wide;
 
 using SparseRow = SparseRationalRows::Row;
-
-// Rows of the image modulo p whose every entry is a fraction with numerator
-// and denominator below 2^24 in absolute value (rational reconstruction with
-// those bounds); nullopt for the others. A random residue passes that test
-// with probability about 2^-14, so a row that passes by chance is rare, and
-// the exact check catches it. Not proved. Rows on up to `threads` threads.
-std::vector<std::optional<SparseRow>> small_rows_from_one_prime(const ModularMatrix& image, std::uint64_t prime,
-                                                                unsigned threads) {
-  std::vector<std::optional<SparseRow>> rows(image.rows());
-  parallel_for(image.rows(), threads, [&](std::size_t r) {
-    poll_stop();
-    fmpz_t residue, modulus, bound;
-    fmpq_t value;
-    fmpz_init(residue);
-    fmpz_init_set_ui(modulus, prime);
-    fmpz_init_set_ui(bound, std::uint64_t{1} << 24);
-    fmpq_init(value);
-    SparseRow row;
-    bool is_small = true;
-    for (std::size_t c = 0; c < image.cols() && is_small; ++c) {
-      if (image(r, c) == 0) continue;
-      fmpz_set_ui(residue, image(r, c));
-      is_small = fmpq_reconstruct_fmpz_2(value, residue, modulus, bound, bound) != 0;
-      if (is_small) {
-        row.emplace_back(c, Rational());
-        fmpq_get_mpq(row.back().second.get_mpq_t(), value);
-      }
-    }
-    if (is_small) rows[r] = std::move(row);
-    fmpq_clear(value);
-    fmpz_clear(bound);
-    fmpz_clear(modulus);
-    fmpz_clear(residue);
-  });
-  return rows;
-}
 
 // The columns of row j of the image outside its leading column that are
 // nonzero modulo p: the support of E's row j over Q unless p divides one of
@@ -327,10 +293,37 @@ void add_row_image(RowLift& lift, const ModularMatrix& image, std::uint64_t prim
   lift.last = std::move(reconstructed);
 }
 
+// Groups whose supports overlap merged where the union's system costs less
+// than theirs (|U|^3 against the sum of |S|^3): rows that share most of
+// their support (on 2,15,15,15,15,1 seed 1, three rows with 29 to 42
+// columns, 29 of them common) then take one choice of equations and one
+// solve. Each group merged into the first one before it that way.
+std::vector<RowLift> merged_where_cheaper(std::vector<RowLift> groups) {
+  auto cube = [](std::size_t n) { return std::pow(static_cast<double>(n), 3); };
+  std::vector<RowLift> out;
+  std::vector<std::size_t> joint;
+  for (RowLift& group : groups) {
+    bool is_merged = false;
+    for (RowLift& into : out) {
+      joint.clear();
+      std::set_union(into.support.begin(), into.support.end(), group.support.begin(), group.support.end(),
+                     std::back_inserter(joint));
+      if (cube(joint.size()) >= cube(into.support.size()) + cube(group.support.size())) continue;
+      into.rows.insert(into.rows.end(), group.rows.begin(), group.rows.end());
+      into.leads.insert(into.leads.end(), group.leads.begin(), group.leads.end());
+      into.support = joint;
+      is_merged = true;
+      break;
+    }
+    if (!is_merged) out.push_back(std::move(group));
+  }
+  return out;
+}
+
 // The groups lifted together: each row whose support has at most
-// sparse_limit columns alone, the others in one group, and all in one group
-// when the sparse rows' systems would cost more than half of one r x r
-// solve (sum of |S|^3 against r^3 / 2).
+// sparse_limit columns alone (merged_where_cheaper), the others in one
+// group, and all in one group when the sparse rows' systems would cost more
+// than half of one r x r solve (sum of |S|^3 against r^3 / 2).
 std::vector<RowLift> row_groups(const ModularMatrix& image, const std::vector<std::size_t>& rows,
                                 const std::vector<std::size_t>& leading, std::size_t rank, std::size_t sparse_limit) {
   std::vector<RowLift> alone;
@@ -352,6 +345,7 @@ std::vector<RowLift> row_groups(const ModularMatrix& image, const std::vector<st
     alone.clear();
     together.rows = rows;
   }
+  alone = merged_where_cheaper(std::move(alone));
   if (!together.rows.empty()) {
     std::vector<char> in_support(image.cols(), 0);
     for (std::size_t row : together.rows) {
@@ -363,25 +357,6 @@ std::vector<RowLift> row_groups(const ModularMatrix& image, const std::vector<st
     alone.push_back(std::move(together));
   }
   return alone;
-}
-
-// The rows worth sparing the check, costliest first: those with at least
-// 8 entries, by entries times their largest entry's bits (the check's work
-// grows with both: terms, and primes for their size).
-std::vector<std::size_t> rows_by_check_cost(const SparseRationalRows& candidate) {
-  std::vector<std::pair<std::size_t, std::size_t>> costs;  // (cost, row)
-  for (std::size_t r = 0; r < candidate.rows.size(); ++r) {
-    const SparseRow& row = candidate.rows[r];
-    if (row.size() < 8) continue;
-    std::size_t bits = 1;
-    for (const auto& [c, value] : row)
-      bits = std::max(bits, mpz_sizeinbase(value.get_num_mpz_t(), 2) + mpz_sizeinbase(value.get_den_mpz_t(), 2));
-    costs.emplace_back(row.size() * bits, r);
-  }
-  std::sort(costs.begin(), costs.end(), [](const auto& a, const auto& b) { return a.first > b.first; });
-  std::vector<std::size_t> rows;
-  for (const auto& cost : costs) rows.push_back(cost.second);
-  return rows;
 }
 
 }  // namespace
@@ -520,71 +495,6 @@ std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
   std::vector<SparseRow> ordered;
   for (std::size_t row : rows) ordered.push_back(std::move(out[row]));
   return ordered;
-}
-
-std::optional<SparseRationalRows> lift_and_prove_extra_directions(
-    const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
-    const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
-    const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
-    const StopRequest& stop, bool& stopped, const LiftProgress& lift_progress,
-    const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere) {
-  auto is_proved = [&](const SparseRationalRows& candidate) {
-    if (prove_elsewhere) return prove_elsewhere(candidate.dense(), stopped) && !stopped;
-    // Rows proved from neurons on in every region, given the others: only
-    // the others are checked region by region.
-    const std::vector<char> spared =
-        rows_proved_by_always_active(network, smooth, candidate, rows_by_check_cost(candidate));
-    SparseRationalRows checked{candidate.cols, {}};
-    for (std::size_t r = 0; r < candidate.rows.size(); ++r)
-      if (!spared[r]) checked.rows.push_back(candidate.rows[r]);
-    const AnnihilationCheck check(network, checked, check_scale, threads);
-    return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress) && !stopped;
-  };
-  const std::vector<std::size_t> leading = echelon_shape(first_image);
-  // Small rows from the walk's prime alone (most extra directions of a
-  // random network: one parameter no region depends on, or a few short
-  // fractions); the others lifted row by row over further primes.
-  std::vector<std::optional<SparseRow>> candidate_rows =
-      small_rows_from_one_prime(first_image, walk_network.prime, threads);
-  std::vector<std::size_t> hard;
-  for (std::size_t j = 0; j < candidate_rows.size(); ++j)
-    if (!candidate_rows[j]) hard.push_back(j);
-  // Hard rows that follow from neurons on in every region and the other
-  // rows are computed from those after the lift, not lifted.
-  const AlwaysActivePlan plan =
-      prove_elsewhere ? AlwaysActivePlan() : AlwaysActivePlan(network, smooth, first_image, hard);
-  std::erase_if(hard, [&](std::size_t j) { return std::binary_search(plan.rows().begin(), plan.rows().end(), j); });
-  std::optional<SparseRationalRows> candidate;
-  if (!hard.empty()) {
-    if (lift_progress) lift_progress(1);
-    if (auto lifted =
-            lift_rows_multimodular(network, walk_network, kept, rank, first_image, hard, leading, rank / 4, threads,
-                                   &check_scale))
-      for (std::size_t h = 0; h < hard.size(); ++h) candidate_rows[hard[h]] = std::move((*lifted)[h]);
-  }
-  (void)plan.fill(candidate_rows);  // false: a row is missing, and the exact solve below decides
-  if (std::all_of(candidate_rows.begin(), candidate_rows.end(), [](const auto& row) { return row.has_value(); })) {
-    candidate = SparseRationalRows{first_image.cols(), {}};
-    candidate->rows.reserve(candidate_rows.size());
-    for (std::optional<SparseRow>& row : candidate_rows) candidate->rows.push_back(std::move(*row));
-    if (is_proved(*candidate)) return candidate;
-    if (stopped || stop.is_requested()) {
-      stopped = true;
-      return std::nullopt;
-    }
-  }
-  // A row read off p alone was wrong (a residue that looked small, an entry
-  // divisible by p, an early stop too early): every row from one exact solve.
-  if (lift_progress) lift_progress(2);
-  std::vector<std::size_t> all(first_image.rows());
-  for (std::size_t j = 0; j < all.size(); ++j) all[j] = j;
-  const std::optional<RationalMatrix> solved =
-      solve_extra_directions(exact_kept_rows(network, kept, rank, threads), scaling_pivots, leading, all);
-  if (!solved) return std::nullopt;
-  SparseRationalRows exact = SparseRationalRows::from_dense(*solved);
-  if (exact == candidate) return std::nullopt;
-  if (is_proved(exact)) return exact;
-  return std::nullopt;
 }
 
 }  // namespace pleat::detail

@@ -95,11 +95,15 @@ class WordMatrix {
 };
 
 // A modulo a word prime p as FLINT's LU factorization (row i of the
-// factored matrix is row order[i] of A).
+// factored matrix is row order[i] of A), with U's rows divided by their
+// diagonal entries (kept inverted in `inverse_diagonal`): FLINT's solve with
+// a non-unit U inverts its diagonal on every call, a fifth of a 42 x 42
+// solve's time on 2,15,15,15,15,1 (a digit per call).
 struct ModularLu {
   std::uint64_t prime;
   NmodMatrix lu;
   std::vector<slong> order;
+  std::vector<std::uint64_t> inverse_diagonal;
   ModularLu(const fmpz_mat_struct* a, std::uint64_t p)
       : prime(p),
         lu(static_cast<std::size_t>(fmpz_mat_nrows(a)), static_cast<std::size_t>(fmpz_mat_nrows(a)), p),
@@ -114,7 +118,15 @@ std::unique_ptr<ModularLu> factor_modulo_some_prime(const fmpz_mat_struct* a) {
     prime = n_nextprime(prime, 1);
     auto lu = std::make_unique<ModularLu>(a, prime);
     fmpz_mat_get_nmod_mat(lu->lu.get(), a);
-    if (nmod_mat_lu(lu->order.data(), lu->lu.get(), 1) == fmpz_mat_nrows(a)) return lu;
+    if (nmod_mat_lu(lu->order.data(), lu->lu.get(), 1) != fmpz_mat_nrows(a)) continue;
+    const slong n = fmpz_mat_nrows(a);
+    for (slong i = 0; i < n; ++i) {  // U = D U' with U' unit upper triangular
+      const std::uint64_t inverse = n_invmod(nmod_mat_entry(lu->lu.get(), i, i), prime);
+      lu->inverse_diagonal.push_back(inverse);
+      for (slong j = i + 1; j < n; ++j)
+        nmod_mat_entry(lu->lu.get(), i, j) = nmod_mul(nmod_mat_entry(lu->lu.get(), i, j), inverse, lu->lu.get()->mod);
+    }
+    return lu;
   }
   return nullptr;
 }
@@ -247,7 +259,12 @@ std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, c
             columns[c].is_done ? 0 : mpz_fdiv_ui(columns[c].residual[row].get_mpz_t(), prime);
     }
     nmod_mat_solve_tril(digits.get(), lu->lu.get(), right.get(), 1);
-    nmod_mat_solve_triu(digits.get(), lu->lu.get(), digits.get(), 0);
+    for (std::size_t i = 0; i < n; ++i)  // U x = y is U' x = D^-1 y
+      for (std::size_t c = 0; c < m; ++c) {
+        mp_limb_t& entry = nmod_mat_entry(digits.get(), static_cast<slong>(i), static_cast<slong>(c));
+        entry = nmod_mul(entry, lu->inverse_diagonal[i], digits.get()->mod);
+      }
+    nmod_mat_solve_triu(digits.get(), lu->lu.get(), digits.get(), 1);
     for (std::size_t c = 0; c < m; ++c) {
       ColumnLift& column = columns[c];
       if (column.is_done) continue;

@@ -62,7 +62,8 @@ TEST(AlwaysActiveRows, ProvedRowsAnnihilateEveryRegionAndChangedRowsAreNotProved
   const Network network = random_network({2, 15, 15, 15, 15, 1}, 1);
   const Certified state = certified(network);
   const std::vector<std::size_t> heavy = rows_with_at_least(state.extra, 8);
-  const std::vector<char> proved = rows_proved_by_always_active(network, state.smooth, state.extra, heavy);
+  const AlwaysActiveGenerators generators(network, state.smooth);
+  const std::vector<char> proved = rows_proved_by_always_active(generators, state.extra, heavy);
   SparseRationalRows proved_rows{state.extra.cols, {}};
   for (std::size_t r = 0; r < proved.size(); ++r) {
     if (!proved[r]) continue;
@@ -78,7 +79,7 @@ TEST(AlwaysActiveRows, ProvedRowsAnnihilateEveryRegionAndChangedRowsAreNotProved
     if (!proved[r]) continue;
     SparseRationalRows changed = state.extra;
     changed.rows[r].back().second += Rational(1, 3);
-    EXPECT_FALSE(rows_proved_by_always_active(network, state.smooth, changed, heavy)[r]) << "row " << r;
+    EXPECT_FALSE(rows_proved_by_always_active(generators, changed, heavy)[r]) << "row " << r;
   }
 }
 
@@ -92,7 +93,7 @@ TEST(AlwaysActiveRows, PlannedRowsFilledFromTheOthersEqualTheCertifiedRows) {
   ModularMatrix image(state.extra.rows.size(), state.extra.cols);
   for (std::size_t r = 0; r < state.extra.rows.size(); ++r)
     for (const auto& [c, value] : state.extra.rows[r]) image(r, c) = *reduce_modulo(value, prime);
-  const AlwaysActivePlan plan(network, state.smooth, image, rows_with_at_least(state.extra, 8));
+  const AlwaysActivePlan plan(AlwaysActiveGenerators(network, state.smooth), image, rows_with_at_least(state.extra, 8));
   ASSERT_GE(plan.rows().size(), 1u);
   std::vector<std::optional<SparseRationalRows::Row>> rows(state.extra.rows.begin(), state.extra.rows.end());
   for (std::size_t b : plan.rows()) rows[b].reset();
@@ -121,7 +122,8 @@ TEST(AlwaysActiveRows, NoNeuronOnInEveryRegionProvesNothing) {
   // in all of them.
   std::vector<ActivationPattern> with_all_off = state.smooth;
   with_all_off.push_back(ActivationPattern{std::vector<NeuronState>(network.relu_neuron_count(), NeuronState::off)});
-  const std::vector<char> proved = rows_proved_by_always_active(network, with_all_off, state.extra, all);
+  const std::vector<char> proved =
+      rows_proved_by_always_active(AlwaysActiveGenerators(network, with_all_off), state.extra, all);
   EXPECT_EQ(std::count(proved.begin(), proved.end(), 1), 0);
 }
 

@@ -622,6 +622,61 @@ TEST(KernelCheck, VectorsSharingAHugePartPassAndChangedOnesNameTheExactFirstRegi
   EXPECT_GT(rejected, 10u);
 }
 
+// The vectors the check need not look at (live_on_some_pattern): a vector
+// with one or two entries is live exactly when one of its terms has its
+// neuron and its input neuron on in one smooth region (read off the
+// patterns here term by term), and a vector that is not live has exact
+// products 0 with every region's rows.
+TEST(KernelCheck, VectorsLiveOnNoRegionAnnihilateEveryRegion) {
+  std::size_t not_live = 0, live = 0;
+  for (const Network& network : {random_network({2, 4, 3, 3, 1}, 31), random_network({2, 3, 3, 2}, 14),
+                                 read_network_file(PLEAT_SOURCE_DIR "/tests/data/output_relu2d.json"),
+                                 read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json"),
+                                 read_network_file(PLEAT_SOURCE_DIR "/tests/data/dead2d.json")}) {
+    const WalkState state = walk_state(network);
+    std::vector<RationalMatrix> blocks;
+    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const std::size_t columns = network.parametric_dimension();
+    // Each parameter's neuron and input neuron (none: -1).
+    std::vector<std::pair<long, long>> neurons;
+    for (std::size_t k = 0, first = 0; k < network.depth(); first += network.layers[k].width(), ++k) {
+      const Layer& layer = network.layers[k];
+      const bool has_relu = k + 1 < network.depth() || network.has_output_relu();
+      const long previous = k == 0 ? -1 : static_cast<long>(first - network.layers[k - 1].width());
+      for (std::size_t i = 0; i < layer.width(); ++i)
+        for (std::size_t j = 0; j < layer.fan_in(); ++j)
+          neurons.emplace_back(has_relu ? static_cast<long>(first + i) : -1, k == 0 ? -1 : previous + static_cast<long>(j));
+      for (std::size_t i = 0; i < layer.width(); ++i) neurons.emplace_back(has_relu ? static_cast<long>(first + i) : -1, -1);
+    }
+    auto term_live = [&](std::size_t c) {
+      for (const ActivationPattern& p : state.smooth)
+        if ((neurons[c].first < 0 || p.is_on(static_cast<std::size_t>(neurons[c].first))) &&
+            (neurons[c].second < 0 || p.is_on(static_cast<std::size_t>(neurons[c].second))))
+          return true;
+      return false;
+    };
+    detail::SparseRationalRows vectors{columns, {}};
+    for (std::size_t c = 0; c < columns; ++c) vectors.rows.push_back({{c, Rational(1)}});
+    for (std::size_t c = 0; c + 7 < columns; c += 5) vectors.rows.push_back({{c, Rational(2)}, {c + 7, Rational(-1, 3)}});
+    const std::vector<char> found = detail::live_on_some_pattern(network, vectors, state.smooth);
+    for (std::size_t v = 0; v < vectors.rows.size(); ++v) {
+      bool expected = false;
+      for (const auto& [c, value] : vectors.rows[v]) expected = expected || term_live(c);
+      EXPECT_EQ(found[v] != 0, expected) << "vector " << v;
+      if (found[v]) {
+        ++live;
+        continue;
+      }
+      ++not_live;
+      RationalMatrix dense(1, columns);
+      for (const auto& [c, value] : vectors.rows[v]) dense(0, c) = value;
+      EXPECT_FALSE(first_region_not_annihilated_exactly(blocks, dense).has_value()) << "vector " << v;
+    }
+  }
+  EXPECT_GT(not_live, 10u);
+  EXPECT_GT(live, 20u);
+}
+
 // The read-off's eliminations by nonzero entries give FLINT's: the reduced
 // row-echelon form and the canonical kernel basis of random matrices modulo
 // the walk's prime, mostly zero, half zero and dense, of full rank and with
