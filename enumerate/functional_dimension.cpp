@@ -408,31 +408,41 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     }
   };
 
-  // A full walk's rows wait here for the basis (at most 64 MB of them), so
-  // that the walk's in-order delivery does not wait for the basis.
+  // The walk's rows wait here for the basis (at most 64 MB of them), so that
+  // the walk's in-order delivery does not wait for the basis. A stop at the
+  // bound closes it at the region whose rows met the bound (stopped_at): the
+  // walk stops at its next delivery, and is reported as if it had stopped there.
+  std::optional<detail::RegionsSoFar> stopped_at;
   detail::RowBacklog backlog(
-      [&](const detail::PendingRows& pending) { add_region_rows(pending.pattern, &pending.interior, &pending.rows); },
+      [&](const detail::PendingRows& pending, const detail::RegionsSoFar& at) {
+        add_region_rows(pending.pattern, &pending.interior, &pending.rows);
+        if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) stopped_at = at;
+        return !stopped_at;
+      },
       std::size_t{64} << 20);
+  detail::RegionsSoFar delivered;
   WalkOptions walk_options = options.walk;
   walk_options.on_region = [&](const Region& region) {
-    ++result.regions_walked;
+    if (backlog.is_closed()) return false;  // the rank met the bound at a region delivered before
+    ++delivered.regions;
+    delivered.bounded += region.bounded;
     activity.record(region.pattern);
-    if (!region.nonsmooth_neurons.empty()) return true;  // no smooth points: no rows
+    if (!region.nonsmooth_neurons.empty()) {  // no smooth points: no rows
+      ++delivered.nonsmooth;
+      return true;
+    }
     if (!options.across) smooth.push_back(region.pattern);  // across: each owner keeps its own
     if (seen_by_points.contains(region.pattern)) {
       // its rows are in the basis already
     } else if (const auto* pending = std::any_cast<std::shared_ptr<const detail::PendingRows>>(&region.prepared)) {
-      if (options.stop_at_scaling_bound)
-        add_region_rows(region.pattern, &region.interior.point, &(*pending)->rows);
-      else
-        backlog.push(*pending);  // reduced by walk_options.background, in this order
+      backlog.push(*pending, delivered);  // reduced by walk_options.background, in this order
     } else {
       add_region_rows(region.pattern, &region.interior.point);
-    }
-    // (Without a stop at the bound the rank is not read here: the backlog's reduction may be writing it.)
-    if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) {
-      result.early_stop = true;
-      return false;
+      // (Only here is the rank read: the backlog's reduction may be writing it.)
+      if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) {
+        result.early_stop = true;
+        return false;
+      }
     }
     return true;
   };
@@ -440,7 +450,8 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // A region's rows modulo p on the thread that processed it, and the rows'
     // reduction (the basis, serial) on whichever thread is free, while the
     // others go on walking: the kept rows are the same (on_region still runs
-    // in order), only the threads doing the work differ.
+    // in order), only the threads doing the work differ (reduced in on_region,
+    // the basis held back the delivery, which finds the next regions to process).
     // seen_by_points is not written during the walk, so workers may read it.
     walk_options.prepare_region = [&](const Region& region) -> std::any {
       if (!region.nonsmooth_neurons.empty() || seen_by_points.contains(region.pattern)) return {};
@@ -448,7 +459,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
           region.pattern, region.interior.point, coefficient_blocks_mod(modular, region.pattern)});
     };
     walk_options.on_region_in_pool = true;
-    if (!options.stop_at_scaling_bound) walk_options.background = [&] { return backlog.reduce_one(); };
+    walk_options.background = [&] { return backlog.reduce_one(); };
   }
   const bool tries_points = options.stop_at_scaling_bound && options.points_first;
   if (tries_points) {
@@ -477,6 +488,12 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       result.walk = options.walker ? options.walker(network, domain, walk_options)
                                    : walk_regions(network, domain, walk_options);
     backlog.reduce_all();  // what the walk's threads left
+    result.regions_walked = stopped_at ? stopped_at->regions : delivered.regions;
+    if (stopped_at) {  // the walk as on_region would have stopped it, reducing each region's rows itself
+      result.early_stop = true;
+      smooth.resize(stopped_at->regions - stopped_at->nonsmooth);  // (activity is read only after a full walk)
+      detail::restate_walk_at(result.walk, *stopped_at);
+    }
     result.walk_complete = result.walk.complete;
     result.nonsmooth_regions = result.walk.nonsmooth_regions;
     result.stop_reason = result.early_stop ? StopReason::none : result.walk.stop_reason;

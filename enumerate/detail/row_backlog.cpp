@@ -15,12 +15,13 @@ std::size_t bytes_of(const PendingRows& pending) {
 RowBacklog::RowBacklog(Reduce reduce, std::size_t limit_bytes)
     : reduce_(std::move(reduce)), limit_bytes_(limit_bytes) {}
 
-void RowBacklog::push(std::shared_ptr<const PendingRows> pending) {
+void RowBacklog::push(std::shared_ptr<const PendingRows> pending, const RegionsSoFar& at) {
+  if (is_closed()) return;
   bool is_over = false;
   {
     const std::lock_guard lock(queue_mutex_);
     queued_bytes_ += bytes_of(*pending);
-    queue_.push_back(std::move(pending));
+    queue_.push_back(Entry{std::move(pending), at});
     is_over = queued_bytes_ > limit_bytes_;
   }
   while (is_over && reduce_one()) {
@@ -31,22 +32,36 @@ void RowBacklog::push(std::shared_ptr<const PendingRows> pending) {
 
 bool RowBacklog::reduce_one() {
   const std::lock_guard reducing(reducing_);
-  std::shared_ptr<const PendingRows> oldest;
+  Entry oldest;
   {
     const std::lock_guard lock(queue_mutex_);
+    if (is_closed()) queue_.clear();
     if (queue_.empty()) return false;
     oldest = std::move(queue_.front());
     queue_.pop_front();
   }
-  reduce_(*oldest);
+  if (!reduce_(*oldest.pending, oldest.at)) is_closed_.store(true, std::memory_order_release);
   const std::lock_guard lock(queue_mutex_);
-  queued_bytes_ -= bytes_of(*oldest);  // counted until reduced: the rows are held till then
+  queued_bytes_ -= bytes_of(*oldest.pending);  // counted until reduced: the rows are held till then
+  if (is_closed()) {
+    queue_.clear();
+    queued_bytes_ = 0;
+  }
   return true;
 }
 
 void RowBacklog::reduce_all() {
   while (reduce_one()) {
   }
+}
+
+void restate_walk_at(WalkSummary& walk, const RegionsSoFar& at) {
+  walk.regions = at.regions;
+  walk.bounded_regions = at.bounded;
+  walk.nonsmooth_regions.resize(at.nonsmooth);
+  walk.complete = false;
+  walk.certified = false;
+  walk.stop_reason = StopReason::requested;
 }
 
 }  // namespace pleat::detail

@@ -644,6 +644,79 @@ TEST(FunctionalDimension, SameResultForAnyThreadCount) {
   EXPECT_GE(early_stops, 1u);  // a walk really stopped where the rank met the bound
 }
 
+// The rows are reduced behind the walk's delivery (detail::RowBacklog), so a
+// walk may deliver regions past the one whose rows meet the scaling bound.
+// The result must still be that of a walk stopped at that region: the first
+// n regions in walk order (an independent count: every region's rows
+// modulo the same prime added in order) and only their nonsmooth and
+// bounded regions, for any thread count, and when every region was
+// delivered before any row was reduced (a walker without background work).
+TEST(FunctionalDimension, EarlyStopIsAtTheFirstRegionWhoseRowsMeetTheBound) {
+  std::size_t early_stops = 0;
+  for (const Network& network : {random_network({2, 5, 5, 1}, 21), random_network({3, 4, 4, 1}, 22),
+                                 random_network({2, 8, 1}, 3), random_network({2, 12, 1}, 4),
+                                 read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json")}) {
+    const Domain domain = make_whole_space(network.input_dim);
+    std::vector<Region> regions;  // in walk order
+    WalkOptions walk;
+    walk.threads = 1;
+    walk.on_region = [&](const Region& region) {
+      regions.push_back(region);
+      return true;
+    };
+    ASSERT_TRUE(walk_regions(network, domain, walk).complete);
+    const ModularNetwork modular = reduce_modulo_some_prime(network, primary_prime());
+    ModularRowBasis basis(modular.prime, network.parametric_dimension());
+    const std::size_t bound = network.parametric_dimension() - scaling_structure(network).rank;
+    std::size_t first = 0, bounded = 0, nonsmooth = 0;
+    while (first < regions.size() && basis.rank() < bound) {
+      const Region& region = regions[first++];
+      bounded += region.bounded;
+      if (!region.nonsmooth_neurons.empty()) {
+        ++nonsmooth;
+        continue;
+      }
+      const ModularMatrix rows = coefficient_blocks_mod(modular, region.pattern);
+      for (std::size_t r = 0; r < rows.rows(); ++r) basis.add_row_screened(rows.row(r));
+    }
+    if (basis.rank() < bound) continue;  // no early stop on this network
+    ++early_stops;
+    EXPECT_LT(first, regions.size());  // regions after the stop exist: a walk may deliver them
+    auto run = [&](unsigned threads, bool is_background_dropped) {
+      FunctionalDimensionOptions options;
+      options.walk.threads = threads;
+      options.points_first = false;
+      if (is_background_dropped)
+        options.walker = [](const Network& n, const Domain& d, const WalkOptions& o) {
+          WalkOptions without = o;
+          without.background = {};
+          return walk_regions(n, d, without);
+        };
+      return certify_functional_dimension(network, domain, options);
+    };
+    for (const auto& [threads, is_background_dropped] :
+         std::vector<std::pair<unsigned, bool>>{{1, false}, {2, false}, {3, false}, {2, true}}) {
+      const FunctionalDimensionResult result = run(threads, is_background_dropped);
+      const std::string where = std::to_string(threads) + (is_background_dropped ? " threads, no background" : " threads");
+      EXPECT_TRUE(result.early_stop) << where;
+      EXPECT_TRUE(result.certified) << where;
+      EXPECT_EQ(result.regions_walked, first) << where;
+      EXPECT_EQ(result.walk.regions, first) << where;
+      EXPECT_EQ(result.walk.bounded_regions, bounded) << where;
+      EXPECT_EQ(result.nonsmooth_regions.size(), nonsmooth) << where;
+      for (std::size_t i = 0, k = 0; i < first; ++i) {
+        if (!regions[i].nonsmooth_neurons.empty() && k < result.nonsmooth_regions.size()) {
+          EXPECT_EQ(result.nonsmooth_regions[k++].first, regions[i].pattern) << where;
+        }
+      }
+      EXPECT_FALSE(result.walk_complete) << where;
+      EXPECT_FALSE(result.walk.complete) << where;
+      EXPECT_EQ(result.stop_reason, StopReason::none) << where;
+    }
+  }
+  EXPECT_GE(early_stops, 2u);
+}
+
 // A stop request that arrives after the walk (here: raised by the first
 // progress report of the kernel phase) is obeyed: bounds, never certified.
 TEST(FunctionalDimension, InterruptAfterTheWalkGivesBoundsOnly) {

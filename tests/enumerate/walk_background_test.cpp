@@ -12,6 +12,7 @@
 #include <deque>
 #include <memory>
 #include <mutex>
+#include <optional>
 #include <set>
 #include <stdexcept>
 #include <thread>
@@ -208,15 +209,16 @@ TEST(RowBacklog, ReducesInOrderOneAtATimeWithinItsLimit) {
   bool overlapped = false;
   const std::size_t entry_bytes = 3 * 10 * sizeof(std::uint64_t);
   detail::RowBacklog backlog(
-      [&](const detail::PendingRows& pending) {
+      [&](const detail::PendingRows& pending, const detail::RegionsSoFar&) {
         if (inside.fetch_add(1) != 0) overlapped = true;
         reduced.push_back(pending.pattern.states.size() - 1);
         inside.fetch_sub(1);
+        return true;
       },
       4 * entry_bytes);
-  for (std::size_t i = 0; i < 4; ++i) backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)));
+  for (std::size_t i = 0; i < 4; ++i) backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)), {i + 1, 0, 0});
   EXPECT_TRUE(reduced.empty());  // at the limit, not over it
-  backlog.push(std::make_shared<detail::PendingRows>(rows_of(4, 3, 10)));
+  backlog.push(std::make_shared<detail::PendingRows>(rows_of(4, 3, 10)), {5, 0, 0});
   EXPECT_EQ(reduced, (std::vector<std::size_t>{0}));  // one reduced: back at the limit
   std::atomic<bool> is_pushing{true};
   std::thread drainer([&] {
@@ -224,7 +226,7 @@ TEST(RowBacklog, ReducesInOrderOneAtATimeWithinItsLimit) {
       backlog.reduce_one();
     }
   });
-  for (std::size_t i = 5; i < 2000; ++i) backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)));
+  for (std::size_t i = 5; i < 2000; ++i) backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)), {i + 1, 0, 0});
   is_pushing = false;
   drainer.join();
   backlog.reduce_all();
@@ -232,6 +234,54 @@ TEST(RowBacklog, ReducesInOrderOneAtATimeWithinItsLimit) {
   ASSERT_EQ(reduced.size(), 2000u);
   for (std::size_t i = 0; i < reduced.size(); ++i) EXPECT_EQ(reduced[i], i);
   EXPECT_FALSE(backlog.reduce_one());
+}
+
+// reduce returning false closes the backlog at that entry: the entries
+// queued after it, and those pushed later, are dropped unreduced, and it
+// hands on the entry's RegionsSoFar unchanged.
+TEST(RowBacklog, ClosesAtTheEntryWhoseReductionSaysSo) {
+  std::vector<std::size_t> reduced;
+  std::optional<detail::RegionsSoFar> closed_at;
+  detail::RowBacklog backlog(
+      [&](const detail::PendingRows& pending, const detail::RegionsSoFar& at) {
+        reduced.push_back(pending.pattern.states.size() - 1);
+        if (reduced.back() == 6) closed_at = at;
+        return !closed_at;
+      },
+      std::size_t{1} << 20);
+  for (std::size_t i = 0; i < 10; ++i)
+    backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)), {2 * i + 1, i, i / 2});
+  EXPECT_FALSE(backlog.is_closed());
+  backlog.reduce_all();
+  EXPECT_TRUE(backlog.is_closed());
+  EXPECT_EQ(reduced, (std::vector<std::size_t>{0, 1, 2, 3, 4, 5, 6}));
+  ASSERT_TRUE(closed_at);
+  EXPECT_EQ(closed_at->regions, 13u);
+  EXPECT_EQ(closed_at->bounded, 6u);
+  EXPECT_EQ(closed_at->nonsmooth, 3u);
+  backlog.push(std::make_shared<detail::PendingRows>(rows_of(10, 3, 10)), {21, 10, 5});
+  EXPECT_FALSE(backlog.reduce_one());
+  EXPECT_EQ(reduced.size(), 7u);
+}
+
+// The walk restated as stopped at a region: its counts up to it, its
+// nonsmooth regions up to it, neither complete nor certified.
+TEST(RowBacklog, RestatesAWalkAsStoppedAtARegion) {
+  WalkSummary walk;
+  walk.regions = 40;
+  walk.bounded_regions = 12;
+  for (std::size_t i = 0; i < 5; ++i)
+    walk.nonsmooth_regions.emplace_back(ActivationPattern{}, std::vector<std::size_t>{i});
+  walk.complete = true;
+  walk.certified = true;
+  detail::restate_walk_at(walk, {17, 4, 2});
+  EXPECT_EQ(walk.regions, 17u);
+  EXPECT_EQ(walk.bounded_regions, 4u);
+  ASSERT_EQ(walk.nonsmooth_regions.size(), 2u);
+  EXPECT_EQ(walk.nonsmooth_regions[1].second, std::vector<std::size_t>{1});
+  EXPECT_FALSE(walk.complete);
+  EXPECT_FALSE(walk.certified);
+  EXPECT_EQ(walk.stop_reason, StopReason::requested);
 }
 
 }  // namespace
