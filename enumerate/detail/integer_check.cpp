@@ -167,6 +167,12 @@ IntegerCheck::IntegerCheck(const Network& network, const CheckScale& check_scale
       append_limbs(value, vector.limbs, limbs_);
       ++vector.runs.back().last;
     }
+    for (Run& run : vector.runs)
+      if (run.last - run.first >= 2 && run.layer + 1 < depth_) {
+        run.slot = cached_runs_++;
+        run.cache = cache_limbs_;
+        cache_limbs_ += (n0_ + 1) * vector.limbs;
+      }
     vectors_.push_back(std::move(vector));
   }
 }
@@ -233,16 +239,46 @@ void IntegerCheck::compute_factors(const ActivationPattern& pattern, Factors& fa
   }
 }
 
+// M_t = sum over the run's terms of e_c X_k[j]_t, and e_c L^k on the offset
+// at the bias, modulo 2^(64 n). Every X_k[j]_t and L^k a term reads is
+// exact in 128 bits: its column's bound B_c = max H times max X (or L^k) is
+// positive (kept) and below 2^127, and max H is a positive integer.
+void IntegerCheck::run_sums(const Run& run, std::size_t n, const Wide* offsets, const Wide* linear,
+                            std::uint64_t* m) const {
+  std::fill(m, m + (n0_ + 1) * n, std::uint64_t{0});
+  for (std::size_t e = run.first; e < run.last; ++e) {
+    const Term& term = terms_[e];
+    const std::uint64_t* limbs = limbs_.data() + term.limbs;
+    if (term.input == bias) {
+      add_product(m, limbs, n, powers_[run.layer]);
+      continue;
+    }
+    const Wide* slopes = linear + term.input * n0_;
+    if (offsets[term.input] == 0 && std::all_of(slopes, slopes + n0_, [](Wide x) { return x == 0; })) continue;
+    add_product(m, limbs, n, offsets[term.input]);
+    for (std::size_t t = 0; t < n0_; ++t) add_product(m + (t + 1) * n, limbs, n, slopes[t]);
+  }
+}
+
 bool IntegerCheck::annihilates(const ActivationPattern& pattern, const std::vector<char>& live) const {
+  // This thread's factors, and its runs' sums M_t (Run) with the call
+  // (generation) each was computed at and the last call that changed each
+  // layer's inputs.
   struct Reuse {
     std::uint64_t id = 0;
     Factors factors;
     std::vector<NeuronState> last;
+    std::uint64_t generation = 0;
+    std::vector<std::uint64_t> computed, changed, runs;
   };
   thread_local Reuse reuse;
   if (reuse.id != id_) {
     reuse.id = id_;
     reuse.last.clear();
+    reuse.generation = 1;
+    reuse.computed.assign(cached_runs_, 0);  // before every change: computed when first needed
+    reuse.changed.assign(depth_ + 1, 1);
+    reuse.runs.assign(cache_limbs_, 0);
   }
   // The layer inputs before the first neuron that differs from the last
   // pattern's are still valid.
@@ -253,6 +289,8 @@ bool IntegerCheck::annihilates(const ActivationPattern& pattern, const std::vect
     same = n < neuron_layer_.size() ? neuron_layer_[n] : depth_;
   }
   reuse.last.clear();  // invalid until the factors are complete
+  ++reuse.generation;
+  for (std::size_t k = same + 1; k <= depth_; ++k) reuse.changed[k] = reuse.generation;  // X_k recomputed
   poll_stop();
   Factors& factors = reuse.factors;
   compute_factors(pattern, factors, same);
@@ -281,6 +319,16 @@ bool IntegerCheck::annihilates(const ActivationPattern& pattern, const std::vect
         if (h == 0) continue;
         const Wide* offsets = factors.offset[run.layer].data();
         const Wide* linear = factors.linear[run.layer].data();
+        if (run.last - run.first >= 2 && run.layer + 1 < depth_) {
+          std::uint64_t* m = reuse.runs.data() + run.cache;
+          if (reuse.computed[run.slot] < reuse.changed[run.layer]) {
+            run_sums(run, n, offsets, linear, m);
+            reuse.computed[run.slot] = reuse.generation;
+          }
+          // h M_t: h is exact in 128 bits (|H| <= its bound <= B_c < 2^127 at the run's bias column).
+          for (std::size_t t = 0; t <= n0; ++t) add_product(sums.data() + t * n, m + t * n, n, h);
+          continue;
+        }
         for (std::size_t e = run.first; e < run.last; ++e) {
           const Term& term = terms_[e];
           const std::uint64_t* limbs = limbs_.data() + term.limbs;
