@@ -29,12 +29,18 @@ void add_to(SparseVector& vector, std::size_t column, const Rational& value) {
   if (place->second == 0) vector.erase(place);
 }
 
+// Appends value at a column beyond every column of out (0: nothing): the
+// generators below are written in increasing column order, so no search.
+void append_to(SparseVector& out, std::size_t column, const Rational& value) {
+  if (value != 0) out.emplace_hint(out.end(), column, value);
+}
+
 // shift(a) of layer k (see the header).
 SparseVector shift_direction(const Network& network, std::size_t k, std::size_t a) {
   SparseVector out;
-  add_to(out, bias_column(network, k, a), Rational(1));
+  append_to(out, bias_column(network, k, a), Rational(1));
   const Layer& next = network.layers[k + 1];
-  for (std::size_t o = 0; o < next.width(); ++o) add_to(out, bias_column(network, k + 1, o), -next.weights(o, a));
+  for (std::size_t o = 0; o < next.width(); ++o) append_to(out, bias_column(network, k + 1, o), -next.weights(o, a));
   return out;
 }
 
@@ -42,11 +48,11 @@ SparseVector shift_direction(const Network& network, std::size_t k, std::size_t 
 SparseVector mix_direction(const Network& network, std::size_t k, std::size_t a, std::size_t b) {
   SparseVector out;
   const Layer& layer = network.layers[k];
-  for (std::size_t j = 0; j < layer.fan_in(); ++j) add_to(out, weight_column(network, k, a, j), layer.weights(b, j));
-  add_to(out, bias_column(network, k, a), layer.bias[b]);
+  for (std::size_t j = 0; j < layer.fan_in(); ++j) append_to(out, weight_column(network, k, a, j), layer.weights(b, j));
+  append_to(out, bias_column(network, k, a), layer.bias[b]);
   const Layer& next = network.layers[k + 1];
   for (std::size_t o = 0; o < next.width(); ++o)
-    add_to(out, weight_column(network, k + 1, o, b), -next.weights(o, a));
+    append_to(out, weight_column(network, k + 1, o, b), -next.weights(o, a));
   return out;
 }
 
