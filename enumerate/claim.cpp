@@ -33,7 +33,18 @@ ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& r
                                                std::to_string(result.upper_bound) + "]"};
 }
 
-ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank) {
+ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t lower, std::size_t upper) {
+  if (lower < upper) {
+    const std::string bounds = " of the rank at these points (stopped before it was exact)";
+    if (value > upper)
+      return {Verdict::impossible, "exceeds the proved upper bound " + std::to_string(upper) + bounds};
+    if (value < lower)
+      return {Verdict::too_low, "below the proved lower bound " + std::to_string(lower) + bounds + " by " +
+                                    std::to_string(lower - value)};
+    return {Verdict::consistent,
+            "within the proved bounds [" + std::to_string(lower) + ", " + std::to_string(upper) + "]" + bounds};
+  }
+  const std::size_t batch_rank = lower;
   const std::string rank = std::to_string(batch_rank);
   if (value > batch_rank)
     return {Verdict::impossible, "exceeds the exact rank at these points, " + rank +
@@ -67,28 +78,37 @@ bool is_inside(const Domain& domain, const RationalVector& point) {
   return placement_in(domain, point) == Placement::inside;
 }
 
+ActivationPattern batch_point_pattern(const Network& network, const Domain& domain, const RationalVector& point,
+                                     const std::string& place, const IntegerPatternEvaluator* evaluator) {
+  const Placement placement = placement_in(domain, point);
+  if (placement == Placement::outside)
+    throw input_error(place + ": " + point_text(point) + " lies outside the domain " + domain.describe());
+  if (placement == Placement::on_boundary)
+    throw input_error(place + ": " + point_text(point) + " lies on the boundary of the domain " + domain.describe() +
+                      ", not strictly inside it");
+  if (evaluator) {  // a point on no bent hyperplane: its evaluation's pattern, in integers
+    ActivationPattern evaluated = evaluator->pattern_at(point);
+    if (std::find(evaluated.states.begin(), evaluated.states.end(), NeuronState::zero_at_point) ==
+        evaluated.states.end())
+      return evaluated;
+  }
+  const auto pattern = region_pattern_at(network, point);
+  if (!pattern || !nonsmooth_neurons(network, *pattern).empty()) {
+    try {
+      (void)parameter_jacobian_exact(network, point);  // throws the reason
+    } catch (const input_error& fault) {
+      throw input_error(place + ": " + fault.what());
+    }
+  }
+  return *pattern;
+}
+
 std::vector<ActivationPattern> batch_point_patterns(const Network& network, const Domain& domain,
                                                     const std::vector<RationalVector>& points,
                                                     const std::function<std::string(std::size_t)>& place_of) {
   std::vector<ActivationPattern> patterns;
-  for (std::size_t i = 0; i < points.size(); ++i) {
-    const std::string place = place_of(i);
-    const Placement placement = placement_in(domain, points[i]);
-    if (placement == Placement::outside)
-      throw input_error(place + ": " + point_text(points[i]) + " lies outside the domain " + domain.describe());
-    if (placement == Placement::on_boundary)
-      throw input_error(place + ": " + point_text(points[i]) + " lies on the boundary of the domain " +
-                        domain.describe() + ", not strictly inside it");
-    const auto pattern = region_pattern_at(network, points[i]);
-    if (!pattern || !nonsmooth_neurons(network, *pattern).empty()) {
-      try {
-        (void)parameter_jacobian_exact(network, points[i]);  // throws the reason
-      } catch (const input_error& fault) {
-        throw input_error(place + ": " + fault.what());
-      }
-    }
-    patterns.push_back(*pattern);
-  }
+  for (std::size_t i = 0; i < points.size(); ++i)
+    patterns.push_back(batch_point_pattern(network, domain, points[i], place_of(i)));
   return patterns;
 }
 

@@ -5,6 +5,7 @@
 // verdict words and reasons are part of both outputs.
 #pragma once
 
+#include "core/evaluate.hpp"
 #include "core/network.hpp"
 #include "core/pattern.hpp"
 #include "core/rational.hpp"
@@ -29,8 +30,13 @@ struct ClaimVerdict {
 // A claimed value against the proved bounds of the network.
 [[nodiscard]] ClaimVerdict judge_claim(std::uint64_t value, const FunctionalDimensionResult& result);
 
-// A claimed value against the exact rank of the Jacobian at the claim's own points.
-[[nodiscard]] ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank);
+// A claimed value against the exact rank of the Jacobian at the claim's own
+// points, or against proved bounds on it when the run stopped before the rank
+// was exact (lower < upper).
+[[nodiscard]] ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t lower, std::size_t upper);
+[[nodiscard]] inline ClaimVerdict judge_claim_at_points(std::uint64_t value, std::size_t batch_rank) {
+  return judge_claim_at_points(value, batch_rank, batch_rank);
+}
 
 // Extra kernel directions grouped by (mechanism, neurons), in first-seen order.
 struct MechanismGroup {
@@ -59,5 +65,10 @@ std::optional<RegionLimit> region_limit(const Network& network, const Functional
 std::vector<ActivationPattern> batch_point_patterns(const Network& network, const Domain& domain,
                                                     const std::vector<RationalVector>& points,
                                                     const std::function<std::string(std::size_t)>& place);
+// One point's: the same checks, the error starting with place. With an
+// evaluator of the network, a point on no bent hyperplane costs one
+// evaluation in integers (the same pattern).
+ActivationPattern batch_point_pattern(const Network& network, const Domain& domain, const RationalVector& point,
+                                     const std::string& place, const IntegerPatternEvaluator* evaluator = nullptr);
 
 }  // namespace pleat

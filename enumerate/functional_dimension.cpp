@@ -64,17 +64,6 @@ RationalMatrix extra_kernel_basis(const RationalMatrix& kernel, const RationalMa
   return row_space_basis_exact(reduced);
 }
 
-std::size_t batch_functional_dimension(const Network& network, const std::vector<RationalVector>& points) {
-  std::vector<RationalMatrix> blocks;
-  for (std::size_t i = 0; i < points.size(); ++i) {
-    try {
-      blocks.push_back(parameter_jacobian_exact(network, points[i]));
-    } catch (const input_error& fault) {
-      throw input_error("point " + std::to_string(i) + ": " + fault.what());
-    }
-  }
-  return rank_exact(stack_rows(blocks, network.parametric_dimension()));
-}
 namespace {
 
 RationalMatrix stack_matrices(const RationalMatrix& top, const RationalMatrix& bottom) {

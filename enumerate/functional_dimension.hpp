@@ -173,11 +173,6 @@ std::optional<std::size_t> first_region_not_annihilated(const Network& network, 
                                                         const std::vector<ActivationPattern>& patterns,
                                                         unsigned threads = 1);
 
-// The exact batch functional dimension at given points: rank of the stacked
-// exact Jacobians. Throws input_error naming the point (0-based) and neuron
-// when a point lies on a bent hyperplane.
-std::size_t batch_functional_dimension(const Network& network, const std::vector<RationalVector>& points);
-
 // A canonical basis of span(kernel) modulo span(scaling): kernel rows reduced
 // against the RREF of the scaling rows (their pivot columns cleared), then put
 // in reduced row-echelon form. Depends only on the two spans. Exact.

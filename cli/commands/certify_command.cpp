@@ -1,5 +1,6 @@
 // pleat certify: the functional dimension, certified exactly; the batch
 // functional dimension at given points; a verdict on someone else's estimate.
+#include "cli/formats/batch_json.hpp"
 #include "cli/formats/bundle_json.hpp"
 #include "cli/command.hpp"
 #include "cli/common.hpp"
@@ -13,6 +14,7 @@
 #include "cli/walk_options.hpp"
 #include "core/network_io.hpp"
 #include "core/jacobian.hpp"
+#include "enumerate/batch_dimension.hpp"
 #include "enumerate/certified_by.hpp"
 #include "enumerate/claim.hpp"
 #include "enumerate/distributed_certify.hpp"
@@ -289,49 +291,57 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
   return result;
 }
 
-// The exact rank of the coefficient-block rows of the given regions (each
-// spans the Jacobians at all of the region's points).
-std::size_t regions_rank(const Network& network, const std::set<ActivationPattern>& patterns) {
-  std::size_t rows = 0;
-  for (const auto& pattern : patterns) rows += coefficient_blocks(network, pattern).rows();
-  RationalMatrix stacked(rows, network.parametric_dimension());
-  std::size_t r = 0;
-  for (const auto& pattern : patterns) {
-    const RationalMatrix blocks = coefficient_blocks(network, pattern);
-    for (std::size_t i = 0; i < blocks.rows(); ++i, ++r) stacked.set_row(r, blocks.row(i));
-  }
-  return rank_exact(stacked);
-}
-
-struct BatchReport {
-  std::size_t points = 0;
-  std::size_t rank = 0;
-  std::size_t regions_touched = 0;
-  std::size_t regions_rank = 0;  // exact rank of the touched regions' coefficient-block rows
-};
-
 // "12 regions", or "at least 12 regions" when the walk was cut short.
 std::string regions_total_text(const FunctionalDimensionResult& result, std::size_t touched) {
   return result.walk_complete ? count_of(result.walk.regions, "region")
                               : "at least " + count_of(std::max(result.walk.regions, touched), "region");
 }
 
+// "284", or "between 250 and 496" when a stop left bounds.
+std::string rank_text(const RankBounds& bounds) {
+  if (bounds.is_exact()) return std::to_string(bounds.lower);
+  return "between " + std::to_string(bounds.lower) + " and " + std::to_string(bounds.upper);
+}
+
+void print_batch_points(const CertifyArguments& arguments, const BatchDimension& batch,
+                        const FunctionalDimensionResult& result, std::ostream& out) {
+  out << "points                " << batch.points << " from " << arguments.points_path;
+  if (batch.points_checked < batch.points)
+    out << "; stopped (" << to_string(batch.stop_reason) << ") after deciding the regions of " << batch.points_checked
+        << ": " << count_of(batch.regions_touched, "region") << " so far\n";
+  else if (result.regions_walked == 0 && !result.walk_complete)  // no walk counted the domain's regions
+    out << ", in " << count_of(batch.regions_touched, "region") << " (decided exactly)\n";
+  else
+    out << ", in " << batch.regions_touched << " of " << regions_total_text(result, batch.regions_touched)
+        << " (decided exactly)\n";
+}
+
 void print_batch(const Network& network, const Domain& domain, const CertifyArguments& arguments,
-                 const BatchReport& batch, const FunctionalDimensionResult& result, std::ostream& out) {
+                 const BatchDimension& batch, const FunctionalDimensionResult& result, std::ostream& out) {
   out << "domain                " << domain.describe() << "\n";
-  out << "points                " << batch.points << " from " << arguments.points_path << ", in " << batch.regions_touched
-      << " of " << regions_total_text(result, batch.regions_touched) << " (decided exactly)\n";
-  out << "batch functional dimension " << batch.rank << "  (exact rank of the " << batch.points * network.output_dim()
-      << " x " << network.parametric_dimension() << " parameter Jacobian at these points)\n";
-  out << "rank of their regions " << batch.regions_rank << "  (exact rank of the coefficient-block rows of the "
-      << count_of(batch.regions_touched, "region") << ": the Jacobians at every point of them)\n";
+  print_batch_points(arguments, batch, result, out);
+  const std::string stopped = "  (stopped: " + to_string(batch.stop_reason) + "; proved bounds)\n";
+  out << "batch functional dimension " << rank_text(batch.batch);
+  if (batch.batch.is_exact())
+    out << "  (exact rank of the " << batch.points * network.output_dim() << " x " << network.parametric_dimension()
+        << " parameter Jacobian at these points)\n";
+  else
+    out << stopped;
+  out << "rank of their regions " << rank_text(batch.regions);
+  if (batch.regions.is_exact())
+    out << "  (exact rank of the coefficient-block rows of the " << count_of(batch.regions_touched, "region")
+        << ": the Jacobians at every point of them)\n";
+  else
+    out << stopped;
   if (result.certified)
     out << "functional dimension  " << *result.functional_dimension << "  certified (every region of the domain)\n";
   else
-    out << "functional dimension  " << uncertified_bounds_text(result) << " (stopped: " << to_string(result.stop_reason)
-        << ")\n";
-  if (result.certified && batch.rank < *result.functional_dimension) {
-    out << "                      the points fall short by " << *result.functional_dimension - batch.rank;
+    out << "functional dimension  " << uncertified_bounds_text(result) << " (stopped"
+        << (stopped_before_walk(result) && result.regions_walked == 0 && result.points_drawn == 0 ? " before the walk" : "")
+        << ": " << to_string(result.stop_reason) << ")\n";
+  const auto value = batch.batch.value();
+  if (result.certified && value && *value < *result.functional_dimension) {
+    out << "                      the points fall short by " << *result.functional_dimension - *value;
     if (result.walk_complete && batch.regions_touched == result.walk.regions)
       out << ": they reach every region, but a region gives up to " << network.output_dim() * (network.input_dim + 1)
           << " independent rows (take more points per region)\n";
@@ -355,46 +365,51 @@ int claim_status(const std::optional<ClaimVerdict>& at_points, const ClaimVerdic
   return is_consistent ? 0 : 1;
 }
 
+BatchDimension batch_with_progress(const CertifyArguments& arguments, const Network& network, const Domain& domain,
+                                   const PointsFile& file, const StopRequest& stop) {
+  ProgressLine progress(arguments.quiet);
+  BatchDimension batch = batch_dimension(
+      network, domain, file.points, [&](std::size_t i) { return file.places[i] + " (point " + std::to_string(i) + ")"; },
+      stop, static_cast<unsigned>(arguments.limits.threads), [&](const char* phase, std::size_t done, std::size_t total) {
+        progress.update(std::string("batch: ") + phase + " " + std::to_string(done) + "/" + std::to_string(total));
+      });
+  progress.finish();
+  return batch;
+}
+
+// The batch stage, then the walk in what is left of --time-limit (it covers
+// the whole command); a stop in the batch stage leaves bounds and no walk.
 int run_points(const CertifyArguments& arguments, const Network& network) {
+  const InterruptGuard interrupt;
+  const StopRequest stop(&interrupt.flag(), arguments.limits.time_limit);
   const PointsFile file = read_points_file(arguments.points_path, network.input_dim);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
-  const std::vector<ActivationPattern> patterns = batch_point_patterns(
-      network, domain, file.points, [&](std::size_t i) { return file.places[i] + " (point " + std::to_string(i) + ")"; });
-  BatchReport batch;
-  batch.points = file.points.size();
-  batch.rank = batch_functional_dimension(network, file.points);
-  const std::set<ActivationPattern> touched(patterns.begin(), patterns.end());
-  batch.regions_touched = touched.size();
-  batch.regions_rank = regions_rank(network, touched);
+  const BatchDimension batch = batch_with_progress(arguments, network, domain, file, stop);
+  CertifyArguments walk_arguments = arguments;
+  StopReason walk_stopped_by = batch.stop_reason;
+  if (arguments.limits.time_limit > 0) {
+    walk_arguments.limits.time_limit -= stop.elapsed_seconds();
+    if (walk_arguments.limits.time_limit <= 0 && walk_stopped_by == StopReason::none)
+      walk_stopped_by = StopReason::time_limit;
+  }
   // Every region must be walked to count them (no early stop at the scaling bound).
-  const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, false);
+  const FunctionalDimensionResult result = walk_stopped_by == StopReason::none
+                                               ? certify_with_progress(walk_arguments, network, domain, false)
+                                               : certify_result_not_started(network, walk_stopped_by);
   write_result_files(arguments, result);
   std::optional<ClaimVerdict> at_points, network_verdict;
   if (arguments.claim) {
-    at_points = judge_claim_at_points(*arguments.claim, batch.rank);
+    at_points = judge_claim_at_points(*arguments.claim, batch.batch.lower, batch.batch.upper);
     network_verdict = judge_claim(*arguments.claim, result);
   }
   if (arguments.json) {
-    Json out{{"format", "pleat-batch/1"},
-             {"points", batch.points},
-             {"parametric_dimension", network.parametric_dimension()},
-             {"batch_functional_dimension", batch.rank},
-             {"domain", domain_to_json(domain)},
-             {"regions_touched", batch.regions_touched},
-             {"regions_rank", batch.regions_rank},
-             {"regions_total", result.walk_complete ? Json(result.walk.regions) : Json(nullptr)},
-             {"regions_walked", result.regions_walked},
-             {"scaling_bound", result.scaling_bound},
-             {"functional_dimension", result.functional_dimension ? Json(*result.functional_dimension) : Json(nullptr)},
-             {"lower_bound", result.lower_bound},
-             {"upper_bound", result.upper_bound},
-             {"certified", result.certified}};
+    Json out = batch_to_json(network, domain, batch, result);
     if (arguments.claim) {
       out["claim"] = verdict_json(*network_verdict);
       out["claim"]["value"] = *arguments.claim;
       out["claim"]["at_points"] = verdict_json(*at_points);
     }
-    out["seconds"] = result.seconds;
+    out["seconds"] = stop.elapsed_seconds();
     std::cout << json_text(out);
   } else {
     print_batch(network, domain, arguments, batch, result, std::cout);

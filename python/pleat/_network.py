@@ -240,7 +240,9 @@ class Network:
         (result.batch; a point outside the domain, on its boundary or on a bent
         hyperplane is a ValueError naming it). claim: judge a claimed value (result.claim:
         "consistent", "too-low" or "impossible", with the reason).
-        time_limit / Ctrl-C: the result holds proved bounds, certified False.
+        time_limit / Ctrl-C: the result holds proved bounds, certified False;
+        time_limit covers the batch stage and the walk after it (a stop in the
+        batch stage: result.batch holds bounds, and nothing is walked).
 
         The result (CertifyResult): functional_dimension (None unless
         certified), certified, lower_bound, upper_bound, evidence (how each

@@ -181,9 +181,16 @@ class ClaimVerdict:
 @dataclass(frozen=True)
 class BatchRank:
     """The exact batch functional dimension at given points: the rank over Q
-    of the stacked parameter Jacobians there."""
+    of the stacked parameter Jacobians there. lower_bound and upper_bound are
+    proved bounds on it, equal to it when it is exact; when time_limit or
+    Ctrl-C stopped the batch stage, batch_functional_dimension is None,
+    points_checked counts the points whose regions were decided before the
+    stop (regions_touched counts theirs) and nothing was walked."""
     points: int
-    batch_functional_dimension: int
+    batch_functional_dimension: Optional[int]
+    lower_bound: int
+    upper_bound: int
+    points_checked: int
     regions_touched: int
     claim: Optional[ClaimVerdict] = None
 

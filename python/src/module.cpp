@@ -17,6 +17,7 @@
 #include "core/network_io.hpp"
 #include "core/onnx_io.hpp"
 #include "core/random_network.hpp"
+#include "enumerate/batch_dimension.hpp"
 #include "enumerate/certified_by.hpp"
 #include "enumerate/claim.hpp"
 #include "enumerate/functional_dimension.hpp"
@@ -227,21 +228,26 @@ py::dict certify(const Network& network, const py::object& domain_spec, unsigned
                  const std::optional<std::uint64_t>& claim) {
   const Domain domain = domain_argument(domain_spec, network.input_dim);
   std::vector<RationalVector> points;
-  std::vector<ActivationPattern> patterns;
-  if (point_texts) {
+  if (point_texts)
     for (std::size_t i = 0; i < point_texts->size(); ++i)
       points.push_back(point_argument((*point_texts)[i], network.input_dim, "points[" + std::to_string(i) + "]"));
-    patterns = batch_point_patterns(network, domain, points,
-                                    [](std::size_t i) { return "points[" + std::to_string(i) + "]"; });
-  }
   std::atomic<bool> interrupt{false};
-  std::size_t batch_rank = 0;
+  BatchDimension batch;
+  // time_limit covers the batch stage and the walk after it; a stop in the
+  // batch stage leaves its bounds and no walk.
   const FunctionalDimensionResult result = run_without_gil(
       [&] {
-        if (point_texts) batch_rank = batch_functional_dimension(network, points);
+        const StopRequest stop(&interrupt, time_limit);
+        if (point_texts) {
+          batch = batch_dimension(
+              network, domain, points, [](std::size_t i) { return "points[" + std::to_string(i) + "]"; }, stop, threads);
+          if (batch.stop_reason != StopReason::none) return certify_result_not_started(network, batch.stop_reason);
+        }
         FunctionalDimensionOptions options;
         options.walk.threads = threads;
-        options.walk.time_limit_seconds = time_limit;
+        options.walk.time_limit_seconds = time_limit > 0 ? time_limit - stop.elapsed_seconds() : 0;
+        if (time_limit > 0 && options.walk.time_limit_seconds <= 0)
+          return certify_result_not_started(network, StopReason::time_limit);
         options.walk.interrupt = &interrupt;
         // Counting the regions the points miss needs every region.
         options.stop_at_scaling_bound = !full_walk && !point_texts;
@@ -251,12 +257,15 @@ py::dict certify(const Network& network, const py::object& domain_spec, unsigned
       interrupt);
   py::dict out = certify_dict(network, domain, result);
   if (point_texts) {
-    py::dict batch;
-    batch["points"] = points.size();
-    batch["batch_functional_dimension"] = batch_rank;
-    batch["regions_touched"] = std::set<ActivationPattern>(patterns.begin(), patterns.end()).size();
-    if (claim) batch["claim"] = verdict_dict(judge_claim_at_points(*claim, batch_rank));
-    out["batch"] = batch;
+    py::dict batch_out;
+    batch_out["points"] = batch.points;
+    batch_out["batch_functional_dimension"] = optional_value(batch.batch.value());
+    batch_out["lower_bound"] = batch.batch.lower;
+    batch_out["upper_bound"] = batch.batch.upper;
+    batch_out["points_checked"] = batch.points_checked;
+    batch_out["regions_touched"] = batch.regions_touched;
+    if (claim) batch_out["claim"] = verdict_dict(judge_claim_at_points(*claim, batch.batch.lower, batch.batch.upper));
+    out["batch"] = batch_out;
   } else {
     out["batch"] = py::none();
   }

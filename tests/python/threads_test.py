@@ -10,6 +10,7 @@
   call holds the GIL), and a plain Python loop keeps counting during a walk.
 """
 import os
+import random
 import signal
 import subprocess
 import sys
@@ -62,6 +63,30 @@ class InterruptTest(unittest.TestCase):
         self.assertFalse(result.certified)
         self.assertIsNone(result.functional_dimension)
         self.assertLessEqual(result.lower_bound, result.upper_bound)
+
+    def test_certify_at_points_returns_bounds(self):
+        # The batch stage (certify(points=...)) polls the stop too: 40 000
+        # points on 2,15,15,15,1 took tens of seconds deaf to Ctrl-C and to
+        # time_limit, which now covers the batch stage and the walk after it.
+        net = random_network("2,15,15,15,1", 1)
+        box = [[-2.5, 2.5], [-2.5, 2.5]]
+        rng = random.Random(5)
+        points = [[rng.uniform(-2, 2), rng.uniform(-2, 2)] for _ in range(40000)]
+        for stop in ("time-limit", "interrupted"):
+            started = time.monotonic()
+            if stop == "interrupted":
+                interrupt_after(1.5)
+                result = net.certify(box, points=points, threads=1)
+            else:
+                result = net.certify(box, points=points, threads=1, time_limit=1.0)
+            self.assertLess(time.monotonic() - started, 8.0)
+            self.assertEqual(result.stop_reason, stop)
+            self.assertFalse(result.certified)
+            self.assertEqual(result.regions_walked, 0)  # stopped in the batch stage: nothing walked
+            batch = result.batch
+            self.assertIsNone(batch.batch_functional_dimension)
+            self.assertLessEqual(batch.lower_bound, batch.upper_bound)
+            self.assertLessEqual(batch.upper_bound, result.scaling_bound)
 
     def test_survey_keeps_finished_samples(self):
         path = os.path.join(WORK, "interrupted.jsonl")

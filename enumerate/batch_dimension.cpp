@@ -1,0 +1,390 @@
+#include "enumerate/batch_dimension.hpp"
+
+#include "core/jacobian.hpp"
+#include "core/rank.hpp"
+#include "enumerate/claim.hpp"
+#include "core/detail/flint_matrix.hpp"
+#include "enumerate/detail/kernel_check.hpp"
+
+#include <algorithm>
+#include <map>
+#include <thread>
+#include <utility>
+
+namespace pleat {
+namespace {
+
+__extension__ typedef unsigned __int128 Wide;  // GCC/Clang: exact 64 x 64 -> 128 products
+
+std::uint64_t multiply_modulo(std::uint64_t a, std::uint64_t b, std::uint64_t prime) {
+  return static_cast<std::uint64_t>(static_cast<Wide>(a) * b % prime);
+}
+
+// The vectors x~ = (x, 1) of one region's chosen points in echelon form (1 at
+// each row's pivot, 0 there in every later row): decides exactly whether a
+// new point's x~ is independent of the chosen ones'.
+class AffineSpan {
+ public:
+  explicit AffineSpan(std::size_t inputs) : size_(inputs + 1) {}
+
+  bool is_full() const { return rows_.size() == size_; }
+
+  bool add_if_independent(const RationalVector& x) {
+    if (is_full()) return false;
+    RationalVector v(x);
+    v.push_back(Rational(1));
+    for (std::size_t i = 0; i < rows_.size(); ++i) {
+      const Rational factor = v[pivots_[i]];
+      if (factor == 0) continue;
+      for (std::size_t c = 0; c < size_; ++c) v[c] -= factor * rows_[i][c];
+    }
+    const auto pivot = std::find_if(v.begin(), v.end(), [](const Rational& value) { return value != 0; });
+    if (pivot == v.end()) return false;
+    const Rational lead = *pivot;
+    for (Rational& value : v) value /= lead;
+    pivots_.push_back(static_cast<std::size_t>(pivot - v.begin()));
+    rows_.push_back(std::move(v));
+    return true;
+  }
+
+ private:
+  std::size_t size_;
+  std::vector<RationalVector> rows_;
+  std::vector<std::size_t> pivots_;
+};
+
+struct TouchedRegion {
+  ActivationPattern pattern;
+  AffineSpan span;
+  ModularMatrix blocks_modulo;
+  RationalMatrix blocks;  // exact, filled when a rank is proved
+};
+
+struct ChosenPoint {
+  std::size_t region = 0;
+  const RationalVector* point = nullptr;
+};
+
+// The row times a positive rational: a primitive integer vector (same zero
+// pattern, same orthogonality, the smallest entries).
+std::vector<Integer> integer_row(const RationalVector& row) {
+  std::vector<Integer> out;
+  detail::primitive_integers(row.size(), [&](std::size_t i) -> const Rational& { return row[i]; }, out);
+  return out;
+}
+
+// Kernel vectors as sparse integer vectors (each scaled by the lcm of its
+// denominators), for exact dot products with integer rows.
+using SparseIntegerRow = std::vector<std::pair<std::size_t, Integer>>;
+
+std::vector<SparseIntegerRow> sparse_integer_rows(const RationalMatrix& matrix) {
+  std::vector<SparseIntegerRow> out;
+  for (std::size_t r = 0; r < matrix.rows(); ++r) {
+    const std::vector<Integer> scaled = integer_row(matrix.row(r));
+    SparseIntegerRow sparse;
+    for (std::size_t c = 0; c < scaled.size(); ++c)
+      if (sgn(scaled[c]) != 0) sparse.emplace_back(c, scaled[c]);
+    out.push_back(std::move(sparse));
+  }
+  return out;
+}
+
+bool is_annihilated(const RationalVector& row, const std::vector<SparseIntegerRow>& kernel) {
+  const std::vector<Integer> scaled = integer_row(row);
+  Integer sum;
+  for (const SparseIntegerRow& vector : kernel) {
+    sum = 0;
+    for (const auto& [c, value] : vector) mpz_addmul(sum.get_mpz_t(), value.get_mpz_t(), scaled[c].get_mpz_t());
+    if (sgn(sum) != 0) return false;
+  }
+  return true;
+}
+
+// Columns on which independent integer rows are nonsingular modulo p, the
+// rightmost such set (the pivots of the rows' echelon form with the columns
+// reversed, as kernel_basis_exact chooses: the later layers' parameters,
+// whose solves were 2-3 times cheaper here). Fewer columns when p loses
+// rank (the caller's solve then fails).
+std::vector<std::size_t> rightmost_pivots(const std::vector<std::vector<Integer>>& rows, std::uint64_t prime) {
+  if (rows.empty()) return {};
+  const std::size_t columns = rows[0].size();
+  detail::NmodMatrix reduced(rows.size(), columns, prime);
+  for (std::size_t i = 0; i < rows.size(); ++i)
+    for (std::size_t c = 0; c < columns; ++c)
+      nmod_mat_entry(reduced.get(), static_cast<slong>(i), static_cast<slong>(columns - 1 - c)) =
+          mpz_fdiv_ui(rows[i][c].get_mpz_t(), prime);
+  const auto rank = static_cast<std::size_t>(nmod_mat_rref(reduced.get()));
+  std::vector<std::size_t> pivots;
+  for (std::size_t i = 0; i < rank; ++i) {
+    std::size_t c = 0;
+    while (nmod_mat_entry(reduced.get(), static_cast<slong>(i), static_cast<slong>(c)) == 0) ++c;
+    pivots.push_back(columns - 1 - c);
+  }
+  return pivots;
+}
+
+class BatchRanker {
+ public:
+  BatchRanker(const Network& network, unsigned threads, const BatchProgress& on_progress)
+      : network_(network),
+        threads_(threads ? threads : std::max(1u, std::thread::hardware_concurrency())),
+        evaluator_(network),
+        modular_(reduce_modulo_some_prime(network, primary_prime())),
+        scaling_bound_(pleat::scaling_bound(network)),
+        outputs_(network.output_dim()),
+        blocks_per_region_(network.output_dim() * (network.input_dim + 1)),
+        batch_basis_(modular_.prime, network.parametric_dimension()),
+        region_basis_(modular_.prime, network.parametric_dimension()),
+        on_progress_(on_progress) {}
+
+  // Decides the point's region (input_error when it has none) and takes in
+  // the rows it adds.
+  void take_point(const Domain& domain, const RationalVector& point, const std::string& place) {
+    const ActivationPattern pattern = batch_point_pattern(network_, domain, point, place, &evaluator_);
+    const auto [found, is_new] = region_of_.try_emplace(pattern, regions_.size());
+    if (is_new) add_region(pattern);
+    TouchedRegion& region = regions_[found->second];
+    if (!region.span.add_if_independent(point)) return;
+    chosen_.push_back({found->second, &point});
+    add_point_rows(region, point);
+  }
+
+  // The exact proofs of both ranks; polls the current StopScope.
+  void prove(BatchDimension& result) {
+    prove_regions(result.regions);
+    result.batch.upper = std::min(result.batch.upper, result.regions.upper);
+    prove_batch(result.batch);
+  }
+
+  // Proved bounds with `remaining` points not yet taken in.
+  void bound(BatchDimension& result, std::size_t remaining) const {
+    result.regions_touched = regions_.size();
+    result.regions = {region_basis_.rank(),
+                      std::min(scaling_bound_, blocks_per_region_ * (regions_.size() + remaining))};
+    result.batch = {batch_basis_.rank(), std::min({scaling_bound_, outputs_ * (chosen_.size() + remaining),
+                                                   result.regions.upper})};
+  }
+
+ private:
+  void add_region(const ActivationPattern& pattern) {
+    regions_.push_back({pattern, AffineSpan(network_.input_dim), coefficient_blocks_mod(modular_, pattern), {}});
+    const ModularMatrix& blocks = regions_.back().blocks_modulo;
+    for (std::size_t b = 0; b < blocks.rows(); ++b) region_kept_.push_back(region_basis_.add_row_screened(blocks.row(b)));
+  }
+
+  // J(x)[o] modulo p from the region's blocks modulo p; none (no lower bound
+  // from them, still proved exactly) when p divides a coordinate's denominator.
+  void add_point_rows(const TouchedRegion& region, const RationalVector& point) {
+    const std::uint64_t prime = modular_.prime;
+    std::vector<std::uint64_t> x;
+    for (const Rational& value : point) {
+      const auto residue = reduce_modulo(value, prime);
+      if (!residue) {
+        batch_kept_.insert(batch_kept_.end(), outputs_, false);
+        return;
+      }
+      x.push_back(*residue);
+    }
+    const std::size_t stride = network_.input_dim + 1;
+    for (std::size_t o = 0; o < outputs_; ++o) {
+      ModularVector row = region.blocks_modulo.row(o * stride);
+      for (std::size_t t = 0; t < x.size(); ++t)
+        for (std::size_t c = 0; c < row.size(); ++c) {
+          const std::uint64_t term = multiply_modulo(x[t], region.blocks_modulo(o * stride + 1 + t, c), prime);
+          row[c] = (row[c] + term) % prime;
+        }
+      batch_kept_.push_back(batch_basis_.add_row_screened(row));
+    }
+  }
+
+  const RationalMatrix& exact_blocks(TouchedRegion& region) {
+    poll_stop();
+    if (region.blocks.rows() == 0) region.blocks = coefficient_blocks(network_, region.pattern);
+    return region.blocks;
+  }
+
+  // J(x)[o] = B[o, offset] + sum_t x_t B[o, slope t], exactly.
+  RationalVector batch_row(std::size_t k) {
+    const ChosenPoint& chosen = chosen_[k / outputs_];
+    const RationalMatrix& blocks = exact_blocks(regions_[chosen.region]);
+    const std::size_t first = (k % outputs_) * (network_.input_dim + 1);
+    RationalVector row = blocks.row(first);
+    for (std::size_t t = 0; t < chosen.point->size(); ++t)
+      for (std::size_t c = 0; c < row.size(); ++c) row[c] += (*chosen.point)[t] * blocks(first + 1 + t, c);
+    return row;
+  }
+
+  RationalVector region_row(std::size_t k) {
+    return exact_blocks(regions_[k / blocks_per_region_]).row(k % blocks_per_region_);
+  }
+
+  // D - r independent vectors (identity on the columns outside `pivots`)
+  // that annihilate the kept rows K when the solve is right: with P the
+  // pivot columns, on which K (in the order kept) is nonsingular modulo p,
+  // hence over Q, the vector of a free column f is 1 at f, 0 at the other
+  // free columns and -K_P^-1 K_f at P. Not proved here: the caller checks
+  // that they annihilate every row, which bounds the rank by r. FLINT's
+  // exact solve (Dixon's p-adic lifting) takes 16 free columns at a time, so
+  // that a stop is polled every fraction of a second; nullopt when it fails.
+  template <typename Row>
+  std::optional<RationalMatrix> kernel_candidate(const std::vector<bool>& kept, Row&& row) {
+    const std::size_t columns = network_.parametric_dimension();
+    std::vector<std::vector<Integer>> rows;  // K scaled to integer rows (the same kernel)
+    for (std::size_t k = 0; k < kept.size(); ++k)
+      if (kept[k]) rows.push_back(integer_row(row(k)));
+    const std::vector<std::size_t> pivots = rightmost_pivots(rows, modular_.prime);
+    if (pivots.size() != rows.size()) return std::nullopt;
+    const std::size_t rank = pivots.size();
+    std::vector<bool> is_pivot(columns, false);
+    for (std::size_t c : pivots) is_pivot[c] = true;
+    // Free columns where K is zero (parameters no kept row involves) have
+    // the unit vector itself, no solve.
+    std::vector<std::size_t> free, solved;
+    for (std::size_t c = 0; c < columns; ++c) {
+      if (is_pivot[c]) continue;
+      free.push_back(c);
+      if (std::any_of(rows.begin(), rows.end(), [&](const std::vector<Integer>& r) { return sgn(r[c]) != 0; }))
+        solved.push_back(free.size() - 1);
+    }
+    detail::FmpzMatrix square(rank, rank);
+    for (std::size_t i = 0; i < rank; ++i)
+      for (std::size_t j = 0; j < rank; ++j) fmpz_set_mpz(square.entry(i, j), rows[i][pivots[j]].get_mpz_t());
+    RationalMatrix kernel(free.size(), columns);
+    for (std::size_t j = 0; j < free.size(); ++j) kernel(j, free[j]) = 1;
+    constexpr std::size_t chunk = 32;
+    for (std::size_t first = 0; first < solved.size(); first += chunk) {
+      poll_stop();
+      const std::size_t width = std::min(chunk, solved.size() - first);
+      detail::FmpzMatrix right(rank, width);
+      for (std::size_t i = 0; i < rank; ++i)
+        for (std::size_t j = 0; j < width; ++j) {
+          fmpz_set_mpz(right.entry(i, j), rows[i][free[solved[first + j]]].get_mpz_t());
+          fmpz_neg(right.entry(i, j), right.entry(i, j));
+        }
+      detail::FmpqMatrix solution(rank, width);
+      if (!fmpq_mat_solve_fmpz_mat_dixon(solution.get(), square.get(), right.get())) return std::nullopt;
+      for (std::size_t j = 0; j < width; ++j)
+        for (std::size_t p = 0; p < rank; ++p)
+          fmpq_get_mpq(kernel(solved[first + j], pivots[p]).get_mpq_t(), solution.entry(p, j));
+    }
+    return kernel;
+  }
+
+  template <typename Row>
+  std::size_t rank_of_every_row(std::size_t count, Row&& row) {
+    RationalMatrix rows(0, network_.parametric_dimension());
+    for (std::size_t k = 0; k < count; ++k) rows.append_row(row(k));
+    return rank_exact(rows);
+  }
+
+  // Whether every kernel vector annihilates every coefficient-block row of
+  // the patterns: certify's exact check (enumerate/detail/kernel_check.hpp).
+  bool annihilates_blocks(const RationalMatrix& kernel, const std::vector<ActivationPattern>& patterns,
+                          const char* phase) {
+    if (patterns.empty() || kernel.rows() == 0) return true;
+    if (!check_scale_) check_scale_.emplace(network_);
+    const detail::AnnihilationCheck check(network_, kernel, *check_scale_, threads_);
+    bool is_stopped = false;
+    const auto rejected = detail::first_rejected_pattern(
+        check, patterns, threads_, *current_stop_request(), is_stopped, [&](std::size_t done, std::size_t total) {
+          if (on_progress_) on_progress_(phase, done, total);
+        });
+    if (is_stopped) throw Stopped(current_stop_request()->reason());
+    return !rejected;
+  }
+
+  // The regions' rank is the kept rows' count when D - r independent
+  // vectors (kernel_candidate) annihilate every region's blocks; when they
+  // do not (an unlucky prime: a row independent over Q but not modulo p),
+  // rank_exact of every block row.
+  void prove_regions(RankBounds& bounds) {
+    if (bounds.is_exact()) return;
+    const auto row = [this](std::size_t k) { return region_row(k); };
+    const auto kernel = kernel_candidate(region_kept_, row);
+    std::vector<ActivationPattern> patterns;
+    for (const TouchedRegion& region : regions_) patterns.push_back(region.pattern);
+    if (kernel && annihilates_blocks(*kernel, patterns, "regions"))
+      bounds.upper = bounds.lower;
+    else
+      bounds.lower = bounds.upper = rank_of_every_row(region_kept_.size(), row);
+  }
+
+  // The same for the chosen points' rows: in a region whose chosen points'
+  // x~ span Q^(n0+1) their rows span its blocks, so the blocks are checked
+  // (certify's check); in the others each chosen row is checked exactly.
+  void prove_batch(RankBounds& bounds) {
+    if (bounds.is_exact()) return;
+    const auto row = [this](std::size_t k) { return batch_row(k); };
+    const auto kernel = kernel_candidate(batch_kept_, row);
+    bool is_proved = kernel.has_value();
+    if (is_proved) {
+      std::vector<ActivationPattern> spanned;
+      for (const TouchedRegion& region : regions_)
+        if (region.span.is_full()) spanned.push_back(region.pattern);
+      is_proved = annihilates_blocks(*kernel, spanned, "batch");
+    }
+    const std::vector<SparseIntegerRow> sparse = is_proved ? sparse_integer_rows(*kernel) : std::vector<SparseIntegerRow>{};
+    for (std::size_t k = 0; k < batch_kept_.size() && is_proved; ++k) {
+      if (on_progress_ && k % 64 == 0) on_progress_("batch", k, batch_kept_.size());
+      if (regions_[chosen_[k / outputs_].region].span.is_full()) continue;
+      is_proved = is_annihilated(batch_row(k), sparse);
+    }
+    if (is_proved)
+      bounds.upper = bounds.lower;
+    else
+      bounds.lower = bounds.upper = rank_of_every_row(batch_kept_.size(), row);
+  }
+
+  const Network& network_;
+  const unsigned threads_;
+  std::optional<detail::CheckScale> check_scale_;
+  const IntegerPatternEvaluator evaluator_;
+  const ModularNetwork modular_;
+  const std::size_t scaling_bound_;
+  const std::size_t outputs_;
+  const std::size_t blocks_per_region_;
+  ModularRowBasis batch_basis_;
+  ModularRowBasis region_basis_;
+  std::map<ActivationPattern, std::size_t> region_of_;
+  std::vector<TouchedRegion> regions_;
+  std::vector<ChosenPoint> chosen_;
+  std::vector<bool> batch_kept_;   // per chosen point, one per output
+  std::vector<bool> region_kept_;  // per region, one per block row
+  BatchProgress on_progress_;
+};
+
+}  // namespace
+
+BatchDimension batch_dimension(const Network& network, const Domain& domain, const std::vector<RationalVector>& points,
+                               const std::function<std::string(std::size_t)>& place, const StopRequest& stop,
+                               unsigned threads, const BatchProgress& on_progress) {
+  const StopScope scope(stop);
+  BatchDimension result;
+  result.points = points.size();
+  BatchRanker ranker(network, threads, on_progress);
+  try {
+    for (; result.points_checked < points.size(); ++result.points_checked) {
+      poll_stop();
+      if (on_progress && result.points_checked % 64 == 0) on_progress("points", result.points_checked, points.size());
+      ranker.take_point(domain, points[result.points_checked], place(result.points_checked));
+    }
+    ranker.bound(result, 0);
+    ranker.prove(result);
+  } catch (const Stopped& stopped) {
+    // Stopped while proving: the bounds stand as they are.
+    if (result.points_checked < points.size()) ranker.bound(result, points.size() - result.points_checked);
+    result.stop_reason = stopped.reason();
+  }
+  return result;
+}
+
+FunctionalDimensionResult certify_result_not_started(const Network& network, StopReason reason) {
+  FunctionalDimensionResult result;
+  result.parametric_dimension = network.parametric_dimension();
+  result.scaling_bound = scaling_bound(network);
+  result.upper_bound = result.scaling_bound;
+  result.stop_reason = reason;
+  return result;
+}
+
+}  // namespace pleat
