@@ -215,9 +215,7 @@ void write_output(const std::string& path, std::string_view text) {
     check_standard_output();
     return;
   }
-  OutputFile file(path);
-  file.write(text);
-  file.close();
+  write_whole_file(path, text);
 }
 
 }  // namespace pleat::cli

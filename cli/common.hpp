@@ -115,7 +115,8 @@ Network read_network_input(const std::string& path);
 // Writes text to `path`, or to standard output when path is "" or "-".
 // A file that cannot be opened is an input_error naming it and the system's
 // reason; one that cannot be written (or standard output) an output_error
-// (cli/formats/output_file.hpp).
+// (cli/formats/output_file.hpp). A regular file is replaced whole
+// (write_whole_file): a failed write leaves an earlier file as it was.
 void write_output(const std::string& path, std::string_view text);
 
 }  // namespace pleat::cli

@@ -480,6 +480,7 @@ CertifyFollowerOptions follower_options_for_tests() {
 int run_certify(const CertifyArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   const Network network = read_network_input(arguments.network_path);
+  if (!arguments.points_path.empty() && arguments.points_path != "-") note_input_file(arguments.points_path, "points file");
   for (const std::string* output : {&arguments.rows_path, &arguments.kernel_path, &arguments.witness_path,
                                     &arguments.bundle_path})
     refuse_overwriting_input(*output);  // before the run, not after it

@@ -395,6 +395,7 @@ int run_summary(const SurveyArguments& arguments) {
 }
 
 int run_plot(const SurveyArguments& arguments) {
+  note_input_file(arguments.inputs.front(), "survey file");
   const SurveyRecord record = load_record(arguments.inputs.front());
   const SurveySummary summary = summarize_survey(record.samples);
   const std::string extension = std::filesystem::path(arguments.plot_path).extension().string();

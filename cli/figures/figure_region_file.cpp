@@ -1,5 +1,6 @@
 #include "cli/figures/figure_region_file.hpp"
 
+#include "cli/formats/output_file.hpp"
 #include "cli/formats/region_file_reader.hpp"
 #include "core/evaluate.hpp"
 
@@ -55,6 +56,7 @@ void require_walk_of(const Network& network, const RegionFile& file) {
 }  // namespace
 
 SavedWalk read_saved_walk(const Network& network, const std::string& path) {
+  note_input_file(path, "region file");  // draw --from R --out R / --table R would replace the walk
   RegionFile file = read_region_file(network, path, RegionFileReading::tolerant);
   require_whole_walk(network, file);
   require_walk_of(network, file);

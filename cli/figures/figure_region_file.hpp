@@ -21,6 +21,8 @@ struct SavedWalk {
 };
 
 // Throws input_error naming the file, the line and the key for any fault.
+// No output of the command may then be written over the file
+// (note_input_file).
 SavedWalk read_saved_walk(const Network& network, const std::string& path);
 
 }  // namespace pleat::cli

@@ -18,22 +18,47 @@ namespace pleat::cli {
 
 namespace {
 
+struct InputFile {
+  std::string path;  // as given
+  std::string what;  // "network", "points file", ...
+};
 std::mutex input_files_mutex;
-std::vector<std::string> input_files;  // note_input_file's paths, as given
+std::vector<InputFile> input_files;  // note_input_file's
 
 void refuse_overwriting(const std::string& path, const std::string& name) {
   const std::lock_guard lock(input_files_mutex);
   std::error_code error;
-  for (const std::string& input : input_files)
-    if (std::filesystem::equivalent(path, input, error))
-      throw input_error(name + ": is the network this command read (" + input + "); write the output elsewhere");
+  for (const InputFile& input : input_files)
+    if (std::filesystem::equivalent(path, input.path, error))
+      throw input_error(name + ": is the " + input.what + " this command read (" + input.path +
+                        "); write the output elsewhere");
+}
+
+// A regular file or nothing yet: written by rename, so that a failed or
+// interrupted write leaves an earlier file whole. Anything else (a device
+// such as /dev/null or /dev/full, a pipe) is written in place.
+bool is_replaceable(const std::string& path) {
+  std::error_code error;
+  const auto status = std::filesystem::status(path, error);
+  return status.type() == std::filesystem::file_type::not_found ||
+         status.type() == std::filesystem::file_type::regular;
 }
 
 }  // namespace
 
-void note_input_file(const std::string& path) {
+void note_input_file(const std::string& path, const std::string& what) {
   const std::lock_guard lock(input_files_mutex);
-  input_files.push_back(path);
+  input_files.push_back({path, what});
+}
+
+void write_whole_file(const std::string& path, std::string_view text) {
+  if (is_replaceable(path)) {
+    write_file_atomically(path, text);
+    return;
+  }
+  OutputFile file(path);
+  file.write(text);
+  file.close();
 }
 
 void refuse_overwriting_input(const std::string& path) {

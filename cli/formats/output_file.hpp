@@ -44,11 +44,12 @@ class OutputFile {
   std::FILE* file_ = nullptr;
 };
 
-// A file this command read its network from: opening an OutputFile on it, or
-// write_file_atomically over it, is refused (input_error "PATH: is the network
-// this command read (INPUT); write the output elsewhere"), so that a slip like
-// `pleat walk net.json -o net.json` cannot replace the network with the walk.
-void note_input_file(const std::string& path);
+// A file this command read (its network, or `what` it is: "points file",
+// "region file", ...): opening an OutputFile on it, or write_file_atomically
+// over it, is refused (input_error "PATH: is the network this command read
+// (INPUT); write the output elsewhere"), so that a slip like `pleat walk
+// net.json -o net.json` cannot replace the network with the walk.
+void note_input_file(const std::string& path, const std::string& what = "network");
 // The same refusal, asked before a long run rather than when its result is written.
 void refuse_overwriting_input(const std::string& path);
 
@@ -60,5 +61,11 @@ void check_standard_output();
 // `path`, so that a reader of `path` sees the old or the new content, never
 // a truncated one, and a failed write leaves `path` as it was.
 void write_file_atomically(const std::string& path, std::string_view text);
+
+// A whole result file (a bundle, a kernel, a figure, a table, a network):
+// write_file_atomically when `path` is a regular file or does not exist yet,
+// so that a full disk or a kill while writing cannot leave a truncated file
+// where a good one was; written in place otherwise (a device, a pipe).
+void write_whole_file(const std::string& path, std::string_view text);
 
 }  // namespace pleat::cli

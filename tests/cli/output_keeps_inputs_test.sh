@@ -1,0 +1,49 @@
+#!/usr/bin/env bash
+# Outputs never destroy what the user already had.
+# 1. An output over a data file the command read is refused before any work,
+#    the file intact: certify --points P --witness-out P (the old binary
+#    replaced the points with the witnesses), draw --from R --table R / --out R
+#    (the walk replaced by the table), survey plot S --out S.
+# 2. A whole-file output that fails while being written (here: the file-size
+#    limit, EFBIG, as a full disk would) leaves the earlier file whole, and no
+#    temporary file: the old binary truncated it to the limit (1 KB).
+set -u
+source "$(dirname "$0")/lib.sh"
+fold=$source_dir/data/fold2d.json
+
+run_refused() {  # WHAT FILE command...: exit 2 naming FILE as WHAT, FILE unchanged
+  local what=$1 file=$2
+  shift 2
+  cp "$file" "$work/before"
+  "$pleat" "$@" > "$work/out" 2> "$work/err"
+  local status=$?
+  [ $status -eq 2 ] || fail "$*: exit $status, expected 2 (stderr: $(cat "$work/err"))"
+  expect_contains "$(cat "$work/err")" "$file: is the $what this command read" "$*"
+  cmp -s "$file" "$work/before" || fail "$*: $file was changed"
+}
+
+printf -- '-1/3,1/7\n1/2,-2/9\n' > "$work/pts.txt"
+run_refused "points file" "$work/pts.txt" certify "$fold" -q --points "$work/pts.txt" --witness-out "$work/pts.txt"
+run_refused "points file" "$work/pts.txt" certify "$fold" -q --points "$work/pts.txt" --rows-out "$work/pts.txt"
+
+"$pleat" walk "$fold" --box -3,3 -q -o "$work/walk.jsonl" > /dev/null || fail "walk exited $?"
+run_refused "region file" "$work/walk.jsonl" draw "$fold" --from "$work/walk.jsonl" --out "$work/f.svg" --table "$work/walk.jsonl" -q
+cp "$work/walk.jsonl" "$work/walk.csv"
+run_refused "region file" "$work/walk.csv" draw "$fold" --from "$work/walk.csv" --out "$work/walk.csv" -q
+
+"$pleat" survey --arch 2,3,1 --samples 2 --seed 1 -q -o "$work/s.csv" > /dev/null || fail "survey exited $?"
+run_refused "survey file" "$work/s.csv" survey plot "$work/s.csv" --out "$work/s.csv"
+
+# A failed write keeps the earlier file. ulimit -f 1: files up to 1 KB; with
+# SIGXFSZ ignored a longer write fails with EFBIG.
+"$pleat" random --arch 2,3,1 --seed 1 -o "$work/net.json" || fail "random exited $?"
+cp "$work/net.json" "$work/good.json"
+(ulimit -f 1; trap '' XFSZ; "$pleat" random --arch 2,40,40,1 --seed 2 -o "$work/net.json") 2> "$work/err"
+status=$?
+[ $status -eq 1 ] || fail "a write past the size limit: exit $status, expected 1 ($(cat "$work/err"))"
+expect_contains "$(cat "$work/err")" "net.json: cannot write" "the failed write"
+cmp -s "$work/net.json" "$work/good.json" || fail "the failed write changed net.json ($(wc -c < "$work/net.json") bytes)"
+[ -z "$(ls -A "$work" | grep '^\.net\.json\.')" ] || fail "a temporary file was left: $(ls -A "$work")"
+# Devices are still written in place.
+"$pleat" random --arch 2,3,1 --seed 1 -o /dev/null || fail "-o /dev/null exited $?"
+echo "outputs keep inputs and earlier files: ok"
