@@ -96,7 +96,9 @@ void print_record(const Network& network, const Domain& domain, const Record& re
   const Region& region = record.region;
   const std::size_t dim = network.input_dim;
   out << "region      " << format_pattern(network, region.pattern) << "\n";
-  out << "point       " << point_text(region.interior.point, exact_only) << "  (strictly inside, checked exactly)\n";
+  // Not "point": after --at it read as the point asked about, which it is not.
+  out << "interior    " << point_text(region.interior.point, exact_only)
+      << "  (a point strictly inside the region, checked exactly)\n";
   out << "bounded     " << (region.bounded ? "yes" : "no") << " in R^" << dim;
   if (domain.kind != Domain::Kind::whole_space)
     out << "; within " << domain.describe() << ": " << (record.vertices.is_bounded() ? "bounded" : "unbounded");

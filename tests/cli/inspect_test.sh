@@ -91,7 +91,7 @@ assert any(f["side"] is not None for f in r["facets"])
 PY
 
 out=$("$pleat" inspect "$fold" --at 0.1,0.2) || fail "text inspect failed"
-for key in region point bounded facets vertices area map rank; do
+for key in region interior bounded facets vertices area map rank; do
   printf '%s\n' "$out" | grep -q "^$key " || fail "text output lacks '$key': $out"
 done
 "$pleat" inspect "$fold" --pattern 000000/00000 > /dev/null 2>&1; [ $? -eq 2 ] || fail "empty pattern accepted"
@@ -99,11 +99,17 @@ done
 "$pleat" inspect "$fold" > /dev/null 2>&1; [ $? -eq 2 ] || fail "neither --at nor --pattern accepted"
 
 # A decimal view beside each fraction for people, none with --exact-only
-# (1/2,-1 lies in region 001100|11100 of fold2d; its point is (3/4, -8/3)).
+# (1/2,-1 lies in region 001100|11100 of fold2d; its interior point is (3/4, -8/3)).
 out=$("$pleat" inspect "$fold" --at 1/2,-1) || fail "inspect exited $?"
 case "$out" in *"-8/3 (≈ -2.66667)"*) ;; *) fail "no decimal view beside -8/3: $out" ;; esac
 out=$("$pleat" inspect "$fold" --at 1/2,-1 --exact-only) || fail "inspect --exact-only exited $?"
 case "$out" in *"≈"*) fail "--exact-only printed a decimal: $out" ;; esac
 case "$out" in *"-8/3)"*) ;; *) fail "--exact-only lost the exact point: $out" ;; esac
+
+# The region's own interior point is labelled so: printed as "point" after
+# --at 1/3,1/5 it read as the point asked about, which it is not (5/9, 0).
+out=$("$pleat" inspect "$fold" --at 1/3,1/5 --exact-only) || fail "inspect --at 1/3,1/5 exited $?"
+grep -q '^point' <<< "$out" && fail "a line labelled point: $out"
+grep -q '^interior    (.*)  (a point strictly inside the region' <<< "$out" || fail "no interior line: $out"
 
 echo ok
