@@ -393,6 +393,7 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
       walk_stopped_by = StopReason::time_limit;
   }
   // Every region must be walked to count them (no early stop at the scaling bound).
+  if (walk_stopped_by != StopReason::none) finish_walks_across();  // an MPI job's other ranks wait for a walk
   const FunctionalDimensionResult result = walk_stopped_by == StopReason::none
                                                ? certify_with_progress(walk_arguments, network, domain, false)
                                                : certify_result_not_started(network, walk_stopped_by);

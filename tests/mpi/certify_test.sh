@@ -68,4 +68,19 @@ certify_both fold_points "$source_dir/data/fold2d.json" 2
   fail "mpirun -n 3 pleat certify exited $?"
 cmp -s "$work/alone.out" "$work/three.out" || fail "certify's text differs across 3 processes:"$'\n'"$(diff "$work/alone.out" "$work/three.out")"
 
+# certify --points stopped in its batch stage walks nothing; rank 0 must still
+# release the others (they waited for a walk forever: the job never ended).
+"$python" - "$work/points.txt" <<'PY' || fail "could not write the points"
+import random, sys
+random.seed(5)
+with open(sys.argv[1], "w") as out:
+    for _ in range(20000):
+        out.write("%.6f,%.6f\n" % (random.uniform(-2, 2), random.uniform(-2, 2)))
+PY
+"$pleat" random --arch 2,15,15,15,1 --seed 1 -o "$work/wide.json" || fail "pleat random exited $?"
+within 60 "${mpirun_cmd[@]}" -n 2 "$pleat" certify "$work/wide.json" --box -2.5,2.5 --points "$work/points.txt" \
+  --time-limit 0.3 --quiet --json --threads 1 > "$work/batch.json" 2> "$work/batch.err" ||
+  fail "mpirun -n 2 pleat certify --points --time-limit 0.3 exited $? ($(cat "$work/batch.err"))"
+grep -q '"stop_reason": "time-limit"' "$work/batch.json" || fail "not stopped by the time limit: $(cat "$work/batch.json")"
+
 echo "mpi certify: ok (value $value identical for 1, 2 and 4 processes; rows and kernel files too)"
