@@ -131,14 +131,56 @@ std::unique_ptr<ModularLu> factor_modulo_some_prime(const fmpz_mat_struct* a) {
   return nullptr;
 }
 
-// One column's lifting: its residual, X modulo p^k so far, and the last
-// candidate read off it.
+// A and B modulo a second word prime q (not the lifting's): a candidate
+// column x / d read off the p-adic digits is accepted when A x = d b modulo
+// q, n^2 word products, instead of waiting for the next digit to give the
+// same candidate (a step and a read-off more per column). The exact solution
+// always passes; a wrong candidate passes with probability about 1/q, and
+// the caller's exact check decides anyway.
+class SecondPrimeCheck {
+ public:
+  SecondPrimeCheck(const fmpz_mat_struct* a, const fmpz_mat_struct* b, std::uint64_t lifting_prime)
+      : prime_(n_nextprime((std::uint64_t{1} << 62) - (std::uint64_t{1} << 37), 1)),
+        a_(static_cast<std::size_t>(fmpz_mat_nrows(a)), static_cast<std::size_t>(fmpz_mat_ncols(a)), prime_),
+        b_(static_cast<std::size_t>(fmpz_mat_nrows(b)), static_cast<std::size_t>(fmpz_mat_ncols(b)), prime_) {
+    if (prime_ == lifting_prime) prime_ = n_nextprime(prime_, 1);  // not reached: the lifting primes lie above
+    fmpz_mat_get_nmod_mat(a_.get(), a);
+    fmpz_mat_get_nmod_mat(b_.get(), b);
+  }
+
+  // Whether A numerators = denominator B[:, c] modulo q.
+  bool passes(const std::vector<Integer>& numerators, const Integer& denominator, std::size_t c) {
+    const nmod_t mod = a_.get()->mod;
+    residues_.resize(numerators.size());
+    for (std::size_t j = 0; j < numerators.size(); ++j)
+      residues_[j] = mpz_fdiv_ui(numerators[j].get_mpz_t(), prime_);
+    const std::uint64_t d = mpz_fdiv_ui(denominator.get_mpz_t(), prime_);
+    for (std::size_t i = 0; i < numerators.size(); ++i) {
+      std::uint64_t total = nmod_mul(d, nmod_mat_entry(b_.get(), static_cast<slong>(i), static_cast<slong>(c)), mod);
+      total = nmod_neg(total, mod);
+      for (std::size_t j = 0; j < numerators.size(); ++j)
+        total = nmod_add(total, nmod_mul(nmod_mat_entry(a_.get(), static_cast<slong>(i), static_cast<slong>(j)), residues_[j], mod), mod);
+      if (total != 0) return false;
+    }
+    return true;
+  }
+
+ private:
+  std::uint64_t prime_;
+  NmodMatrix a_, b_;
+  std::vector<std::uint64_t> residues_;
+};
+
+// One column's lifting: its residual, X modulo p^k so far, and where to
+// read it off next.
 struct ColumnLift {
   std::vector<Integer> residual;  // (b - A x_k) / p^k
   std::vector<Integer> value;     // x_k: X modulo p^k, in [0, p^k)
-  std::vector<Integer> numerators;
-  Integer denominator;
-  bool has_candidate = false, is_done = false;
+  // The denominator the next read-off starts from: the last candidate's
+  // (which failed modulo the second prime), else the last column accepted
+  // (the columns share A's denominator; one try), else 1.
+  Integer guess = 1;
+  bool is_done = false;
   // The digit count at which to read the column off next: a failed attempt
   // (one reconstruction at that size, which costs more than a step on small
   // systems) waits a quarter more digits, a new candidate one.
@@ -214,6 +256,7 @@ std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, c
   if (!lu) return std::nullopt;
   const std::uint64_t prime = lu->prime;
   const WordMatrix words(a);
+  SecondPrimeCheck second_prime(a, b, prime);
   // Enough digits for any solution: p^k above 2 max(N, D)^2 (N and D
   // FLINT's Hadamard bounds on the numerators and the denominator: the
   // reconstruction reads fractions up to sqrt(p^k / 2) both ways), two more
@@ -282,32 +325,36 @@ std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, c
     }
     power *= static_cast<unsigned long>(prime);
     ++digits_so_far;
-    // Read each open column off; done when two steps in a row agree.
+    // Read each open column off; done when its candidate passes modulo the
+    // second prime. A column accepted makes the later ones try now with its
+    // denominator, the earlier ones at the next step.
     for (std::size_t c = 0; c < m; ++c) {
       ColumnLift& column = columns[c];
       if (column.is_done || (digits_so_far < column.next_attempt && extra == 0)) continue;
-      const Integer guess = column.has_candidate ? column.denominator : Integer(1);
-      if (!read_off(column.value, power, guess, numerators, denominator)) {
-        column.has_candidate = false;
+      if (!read_off(column.value, power, column.guess, numerators, denominator)) {
+        column.guess = 1;
         column.next_attempt = digits_so_far + std::max<std::size_t>(1, digits_so_far / 4);
         continue;
       }
       column.next_attempt = digits_so_far + 1;
-      if (column.has_candidate && denominator == column.denominator && numerators == column.numerators) {
-        column.is_done = true;
-        --open;
-        for (std::size_t i = 0; i < n; ++i) {
-          Rational& entry = solution(i, c);
-          entry.get_num() = column.numerators[i];
-          entry.get_den() = column.denominator;
-          entry.canonicalize();
-        }
-        column = ColumnLift{{}, {}, {}, {}, false, true};
+      if (!second_prime.passes(numerators, denominator, c)) {
+        column.guess = denominator;
         continue;
       }
-      column.numerators = numerators;
-      column.denominator = denominator;
-      column.has_candidate = true;
+      column.is_done = true;
+      --open;
+      for (std::size_t i = 0; i < n; ++i) {
+        Rational& entry = solution(i, c);
+        entry.get_num() = numerators[i];
+        entry.get_den() = denominator;
+        entry.canonicalize();
+      }
+      column = ColumnLift{{}, {}, 1, true};
+      for (ColumnLift& other : columns)
+        if (!other.is_done && other.guess == 1) {  // a read-off with the right guess: a product per entry
+          other.guess = denominator;
+          other.next_attempt = std::min(other.next_attempt, digits_so_far);
+        }
     }
   }
   if (open > 0) return std::nullopt;

@@ -33,7 +33,7 @@ class FmpzValue {
 // n^2 m word products; A's nonzero entries are kept as words, split by sign,
 // so those products need no multi-precision call. Each column's entries are
 // read off by rational reconstruction (one common denominator grown entry by
-// entry), accepted once two successive steps give the same column.
+// entry), accepted once it solves the system modulo a second word prime.
 // nullopt when A is singular modulo the primes tried, or when a column has
 // no stable reconstruction by the solution's Hadamard bound (A singular over
 // Q, or the caller's other solver then decides). Polls the current thread's

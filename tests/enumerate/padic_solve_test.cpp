@@ -67,6 +67,41 @@ TEST(PadicSolve, EqualsFlintsExactSolveOnRandomSystems) {
   EXPECT_EQ(compared, 56);
 }
 
+// Columns with different denominators: a column accepted first lends its
+// denominator to the others as the start of their read-off (a column whose
+// own denominator is smaller, 1 here, must still come out in lowest terms),
+// and a candidate is accepted only when it solves the system modulo a second
+// prime (accepting every candidate read off fails the random systems above).
+TEST(PadicSolve, ColumnsWithDifferentDenominatorsComeOutInLowestTerms) {
+  std::mt19937_64 random(20261204);
+  const std::size_t n = 24;
+  FmpzMatrix a(n, n), b(n, 4);
+  for (std::size_t i = 0; i < n; ++i) {
+    for (std::size_t j = 0; j < n; ++j) random_entry(a.entry(i, j), random, 40, 0.5);
+    fmpz_set_ui(a.entry(i, i), 1 + (random() & 0xff));
+    random_entry(b.entry(i, 0), random, 40, 0.0);
+  }
+  for (std::size_t i = 0; i < n; ++i) {  // column 1 = A u (u small integers), column 2 = 6 column 0
+    for (std::size_t j = 0; j < n; ++j) fmpz_addmul_ui(b.entry(i, 1), a.entry(i, j), j % 5);
+    fmpz_mul_ui(b.entry(i, 2), b.entry(i, 0), 6);
+  }
+  fmpz_set_ui(b.entry(0, 3), 1);  // column 3 = e_0
+  const std::optional<RationalMatrix> expected = flint_solution(a, b, n, 4);
+  ASSERT_TRUE(expected.has_value());
+  const std::optional<RationalMatrix> solved = solve_by_padic_lifting(a.get(), b.get());
+  ASSERT_TRUE(solved.has_value());
+  for (std::size_t i = 0; i < n; ++i)
+    for (std::size_t c = 0; c < 4; ++c) {
+      const Rational& entry = (*solved)(i, c);
+      EXPECT_EQ(entry, (*expected)(i, c)) << i << " " << c;
+      Rational lowest = entry;
+      lowest.canonicalize();
+      EXPECT_EQ(entry.get_num(), lowest.get_num()) << i << " " << c;
+      EXPECT_EQ(entry.get_den(), lowest.get_den()) << i << " " << c;
+    }
+  for (std::size_t i = 0; i < n; ++i) EXPECT_EQ((*solved)(i, 1), static_cast<long>(i % 5));
+}
+
 TEST(PadicSolve, ZeroRightHandSideGivesZero) {
   FmpzMatrix a(3, 3), b(3, 2);
   const long entries[3][3] = {{2, -1, 0}, {1, 3, -7}, {0, 5, 11}};
