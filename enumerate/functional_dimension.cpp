@@ -509,9 +509,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // independent rows and Q is nonsingular over Q (core/jacobian.hpp).
     const std::vector<std::size_t>& scaling_pivots = scaling.pivot_columns;
     report("kernel", 0, 0);
-    const ModularMatrix first_image = detail::extra_directions_of_basis(basis, scaling_pivots);
+    const detail::SparseModularRows first_image = detail::extra_directions_of_basis(basis, scaling_pivots);
     detail::SparseRationalRows extra{parameters, {}};
-    if (first_image.rows() > 0) {
+    if (!first_image.rows.empty()) {
       const detail::CheckScale check_scale(network);
       const auto check_progress = [&](std::size_t done, std::size_t total) { report("check", done, total); };
       detail::CandidateProof across_proof;

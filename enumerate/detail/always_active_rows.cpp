@@ -223,21 +223,22 @@ std::vector<char> rows_proved_by_always_active(const AlwaysActiveGenerators& alw
   return proved;
 }
 
-AlwaysActivePlan::AlwaysActivePlan(const AlwaysActiveGenerators& always_active, const ModularMatrix& image,
+AlwaysActivePlan::AlwaysActivePlan(const AlwaysActiveGenerators& always_active, const SparseModularRows& image,
                                    const std::vector<std::size_t>& hard) {
   if (hard.empty()) return;
   const std::vector<SparseVector>& generators = always_active.reduced();
   if (generators.empty()) return;
-  std::vector<std::size_t> row_of_lead(image.cols(), static_cast<std::size_t>(-1));
-  std::vector<std::size_t> entries(image.rows(), 0);  // nonzeros of each row modulo the prime
-  for (std::size_t r = 0; r < image.rows(); ++r)
-    for (std::size_t c = 0; c < image.cols(); ++c)
-      if (image(r, c) != 0 && entries[r]++ == 0) row_of_lead[c] = r;
+  std::vector<std::size_t> row_of_lead(image.cols, static_cast<std::size_t>(-1));
+  std::vector<std::size_t> entries(image.rows.size(), 0);  // nonzeros of each row modulo the prime
+  for (std::size_t r = 0; r < image.rows.size(); ++r) {
+    entries[r] = image.rows[r].size();
+    if (!image.rows[r].empty()) row_of_lead[image.rows[r].front().first] = r;
+  }
   std::vector<std::size_t> order = hard;  // costliest (most entries) first
   std::stable_sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return entries[a] > entries[b]; });
   std::vector<SparseVector> coordinates(generators.size());
   std::vector<std::vector<Rational>> on_hard(generators.size(), std::vector<Rational>(order.size()));
-  std::vector<std::size_t> place(image.rows(), static_cast<std::size_t>(-1));  // of a hard row in order
+  std::vector<std::size_t> place(image.rows.size(), static_cast<std::size_t>(-1));  // of a hard row in order
   for (std::size_t h = 0; h < order.size(); ++h) place[order[h]] = h;
   for (std::size_t g = 0; g < generators.size(); ++g)
     for (const auto& [c, value] : generators[g])

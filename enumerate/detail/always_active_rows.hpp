@@ -69,7 +69,7 @@ class AlwaysActivePlan {
   // image: E modulo a prime (reduced row-echelon, one row per direction);
   // hard: the rows not yet known.
   AlwaysActivePlan() = default;  // no rows
-  AlwaysActivePlan(const AlwaysActiveGenerators& generators, const ModularMatrix& image,
+  AlwaysActivePlan(const AlwaysActiveGenerators& generators, const SparseModularRows& image,
                    const std::vector<std::size_t>& hard);
   // B, increasing.
   const std::vector<std::size_t>& rows() const { return rows_; }

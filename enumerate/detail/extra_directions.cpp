@@ -126,7 +126,8 @@ ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vec
   return extra;
 }
 
-ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots) {
+SparseModularRows extra_directions_of_basis(const ModularRowBasis& basis,
+                                            const std::vector<std::size_t>& scaling_pivots) {
   const std::vector<std::size_t>& pivots = basis.pivot_columns();
   const std::vector<std::size_t>& free = basis.free_columns();
   const std::size_t columns = basis.columns(), rank = pivots.size();
@@ -191,18 +192,21 @@ ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std:
     }
   }
   // W's canonical basis, merged by leading column with the unit rows (W is
-  // 0 at their columns, they are 0 elsewhere): written once, at D columns.
+  // 0 at their columns, they are 0 elsewhere), by nonzero entries.
   const ModularMatrix carried_echelon = reduced_echelon_of_sparse_rows(std::move(spanning), carried.size(), prime);
   std::vector<std::size_t> leads = echelon_shape(carried_echelon);  // carried positions, then columns
   for (std::size_t& lead : leads) lead = carried[lead];
-  ModularMatrix extra(carried_echelon.rows() + untouched.size(), columns);
-  std::size_t next_unit = 0, out = 0;
+  SparseModularRows extra{columns, {}};
+  extra.rows.reserve(carried_echelon.rows() + untouched.size());
+  std::size_t next_unit = 0;
   for (std::size_t r = 0; r <= carried_echelon.rows(); ++r) {
     const std::size_t lead = r < carried_echelon.rows() ? leads[r] : columns;
-    for (; next_unit < untouched.size() && untouched[next_unit] < lead; ++next_unit) extra(out++, untouched[next_unit]) = 1;
+    for (; next_unit < untouched.size() && untouched[next_unit] < lead; ++next_unit)
+      extra.rows.push_back({{untouched[next_unit], 1}});
     if (r == carried_echelon.rows()) break;
-    for (std::size_t q = 0; q < carried.size(); ++q) extra(out, carried[q]) = carried_echelon(r, q);
-    ++out;
+    SparseModularRows::Row& row = extra.rows.emplace_back();
+    for (std::size_t q = 0; q < carried.size(); ++q)  // carried columns increase
+      if (carried_echelon(r, q) != 0) row.emplace_back(carried[q], carried_echelon(r, q));
   }
   return extra;
 }

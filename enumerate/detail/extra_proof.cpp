@@ -26,10 +26,10 @@ using SparseRow = SparseRationalRows::Row;
 // those bounds); nullopt for the others. A random residue passes that test
 // with probability about 2^-14, so a row that passes by chance is rare, and
 // the exact check catches it. Not proved. Rows on up to `threads` threads.
-std::vector<std::optional<SparseRow>> small_rows_from_one_prime(const ModularMatrix& image, std::uint64_t prime,
+std::vector<std::optional<SparseRow>> small_rows_from_one_prime(const SparseModularRows& image, std::uint64_t prime,
                                                                 unsigned threads) {
-  std::vector<std::optional<SparseRow>> rows(image.rows());
-  parallel_for(image.rows(), threads, [&](std::size_t r) {
+  std::vector<std::optional<SparseRow>> rows(image.rows.size());
+  parallel_for(image.rows.size(), threads, [&](std::size_t r) {
     poll_stop();
     fmpz_t residue, modulus, bound;
     fmpq_t value;
@@ -39,9 +39,9 @@ std::vector<std::optional<SparseRow>> small_rows_from_one_prime(const ModularMat
     fmpq_init(value);
     SparseRow row;
     bool is_small = true;
-    for (std::size_t c = 0; c < image.cols() && is_small; ++c) {
-      if (image(r, c) == 0) continue;
-      fmpz_set_ui(residue, image(r, c));
+    for (std::size_t e = 0; e < image.rows[r].size() && is_small; ++e) {
+      const auto [c, entry] = image.rows[r][e];
+      fmpz_set_ui(residue, entry);
       is_small = fmpq_reconstruct_fmpz_2(value, residue, modulus, bound, bound) != 0;
       if (is_small) {
         row.emplace_back(c, Rational());
@@ -80,7 +80,7 @@ std::vector<std::size_t> rows_by_check_cost(const SparseRationalRows& candidate)
 
 std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
-    const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
+    const std::vector<KeptRows>& kept, std::size_t rank, const SparseModularRows& first_image,
     const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
     const StopRequest& stop, bool& stopped, const LiftProgress& lift_progress,
     const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere) {
@@ -105,7 +105,7 @@ std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const AnnihilationCheck check(network, checked, check_scale, threads);
     return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress) && !stopped;
   };
-  const std::vector<std::size_t> leading = echelon_shape(first_image);
+  const std::vector<std::size_t> leading = first_image.leading_columns();
   // Small rows from the walk's prime alone (most extra directions of a
   // random network: one parameter no region depends on, or a few short
   // fractions); the others lifted row by row over further primes.
@@ -129,7 +129,7 @@ std::optional<SparseRationalRows> lift_and_prove_extra_directions(
   }
   (void)plan.fill(candidate_rows);  // false: a row is missing, and the exact solve below decides
   if (std::all_of(candidate_rows.begin(), candidate_rows.end(), [](const auto& row) { return row.has_value(); })) {
-    candidate = SparseRationalRows{first_image.cols(), {}};
+    candidate = SparseRationalRows{first_image.cols, {}};
     candidate->rows.reserve(candidate_rows.size());
     for (std::optional<SparseRow>& row : candidate_rows) candidate->rows.push_back(std::move(*row));
     if (is_proved(*candidate)) return candidate;
@@ -141,7 +141,7 @@ std::optional<SparseRationalRows> lift_and_prove_extra_directions(
   // A row read off p alone was wrong (a residue that looked small, an entry
   // divisible by p, an early stop too early): every row from one exact solve.
   if (lift_progress) lift_progress(2);
-  std::vector<std::size_t> all(first_image.rows());
+  std::vector<std::size_t> all(first_image.rows.size());
   for (std::size_t j = 0; j < all.size(); ++j) all[j] = j;
   const std::optional<RationalMatrix> solved =
       solve_extra_directions(exact_kept_rows(network, kept, rank, threads), scaling_pivots, leading, all);

@@ -30,10 +30,10 @@ using SparseRow = SparseRationalRows::Row;
 // The columns of row j of the image outside its leading column that are
 // nonzero modulo p: the support of E's row j over Q unless p divides one of
 // its entries (the exact check would then reject the row solved on it).
-std::vector<std::size_t> support_beyond_lead(const ModularMatrix& image, std::size_t j, std::size_t lead) {
+std::vector<std::size_t> support_beyond_lead(const SparseModularRows& image, std::size_t j, std::size_t lead) {
   std::vector<std::size_t> support;
-  for (std::size_t c = 0; c < image.cols(); ++c)
-    if (c != lead && image(j, c) != 0) support.push_back(c);
+  for (const auto& [c, value] : image.rows[j])
+    if (c != lead) support.push_back(c);
   return support;
 }
 
@@ -324,7 +324,7 @@ std::vector<RowLift> merged_where_cheaper(std::vector<RowLift> groups) {
 // sparse_limit columns alone (merged_where_cheaper), the others in one
 // group, and all in one group when the sparse rows' systems would cost more
 // than half of one r x r solve (sum of |S|^3 against r^3 / 2).
-std::vector<RowLift> row_groups(const ModularMatrix& image, const std::vector<std::size_t>& rows,
+std::vector<RowLift> row_groups(const SparseModularRows& image, const std::vector<std::size_t>& rows,
                                 const std::vector<std::size_t>& leading, std::size_t rank, std::size_t sparse_limit) {
   std::vector<RowLift> alone;
   RowLift together;
@@ -347,12 +347,12 @@ std::vector<RowLift> row_groups(const ModularMatrix& image, const std::vector<st
   }
   alone = merged_where_cheaper(std::move(alone));
   if (!together.rows.empty()) {
-    std::vector<char> in_support(image.cols(), 0);
+    std::vector<char> in_support(image.cols, 0);
     for (std::size_t row : together.rows) {
       together.leads.push_back(leading[row]);
       for (std::size_t c : support_beyond_lead(image, row, leading[row])) in_support[c] = 1;
     }
-    for (std::size_t c = 0; c < image.cols(); ++c)
+    for (std::size_t c = 0; c < image.cols; ++c)
       if (in_support[c]) together.support.push_back(c);
     alone.push_back(std::move(together));
   }
@@ -363,10 +363,10 @@ std::vector<RowLift> row_groups(const ModularMatrix& image, const std::vector<st
 
 std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
     const Network& network, const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,
-    const ModularMatrix& image, const std::vector<std::size_t>& rows, const std::vector<std::size_t>& leading,
+    const SparseModularRows& image, const std::vector<std::size_t>& rows, const std::vector<std::size_t>& leading,
     std::size_t sparse_limit, unsigned threads, const CheckScale* check_scale) {
   constexpr std::size_t max_primes = 4096;
-  const std::size_t columns = image.cols();
+  const std::size_t columns = image.cols;
   std::vector<RowLift> lifts = row_groups(image, rows, leading, rank, sparse_limit);
   // The kept rows modulo the walk's prime at the groups' supports only (what
   // picks each group's equations).
@@ -481,7 +481,7 @@ std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
       }
     }
   }
-  std::vector<SparseRow> out(image.rows());
+  std::vector<SparseRow> out(image.rows.size());
   for (RowLift& lift : lifts) {
     if (!lift.is_stable) return std::nullopt;
     for (std::size_t j = 0; j < lift.rows.size(); ++j) {

@@ -54,9 +54,10 @@ ModularMatrix extra_directions_of_rows(const ModularMatrix& rows, const std::vec
 // other pivots), cheaper when the kernel is smaller than the rank: its
 // kernel read off directly (D - r vectors), put in reduced row-echelon form
 // with the columns Q first; the rows led outside Q are E. Equal to
-// extra_directions_of_rows(basis.rows(), ...). Its products and
-// eliminations by nonzero entries (the sparse functions below).
-ModularMatrix extra_directions_of_basis(const ModularRowBasis& basis, const std::vector<std::size_t>& scaling_pivots);
+// extra_directions_of_rows(basis.rows(), ...), kept by nonzero entries. Its
+// products and eliminations by nonzero entries (the sparse functions below).
+SparseModularRows extra_directions_of_basis(const ModularRowBasis& basis,
+                                            const std::vector<std::size_t>& scaling_pivots);
 
 // The reduced row-echelon form modulo prime of rows (each `cols` residues)
 // and the canonical basis of their kernel: the same matrices as
@@ -100,7 +101,7 @@ using LiftProgress = std::function<void(std::size_t)>;
 // `smooth` here.
 std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
-    const std::vector<KeptRows>& kept, std::size_t rank, const ModularMatrix& first_image,
+    const std::vector<KeptRows>& kept, std::size_t rank, const SparseModularRows& first_image,
     const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
     const StopRequest& stop, bool& stopped, const LiftProgress& lift_progress,
     const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere = {});
@@ -145,7 +146,7 @@ std::optional<RationalMatrix> solve_extra_directions(const RationalMatrix& rows,
 // the order given, the same for any thread count.
 std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
     const Network& network, const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,
-    const ModularMatrix& image, const std::vector<std::size_t>& rows, const std::vector<std::size_t>& leading,
+    const SparseModularRows& image, const std::vector<std::size_t>& rows, const std::vector<std::size_t>& leading,
     std::size_t sparse_limit, unsigned threads, const CheckScale* check_scale = nullptr);
 
 // Whether E vanishes at the columns Q and is in reduced row-echelon form

@@ -93,7 +93,8 @@ TEST(AlwaysActiveRows, PlannedRowsFilledFromTheOthersEqualTheCertifiedRows) {
   ModularMatrix image(state.extra.rows.size(), state.extra.cols);
   for (std::size_t r = 0; r < state.extra.rows.size(); ++r)
     for (const auto& [c, value] : state.extra.rows[r]) image(r, c) = *reduce_modulo(value, prime);
-  const AlwaysActivePlan plan(AlwaysActiveGenerators(network, state.smooth), image, rows_with_at_least(state.extra, 8));
+  const AlwaysActivePlan plan(AlwaysActiveGenerators(network, state.smooth), SparseModularRows::from_dense(image),
+                              rows_with_at_least(state.extra, 8));
   ASSERT_GE(plan.rows().size(), 1u);
   std::vector<std::optional<SparseRationalRows::Row>> rows(state.extra.rows.begin(), state.extra.rows.end());
   for (std::size_t b : plan.rows()) rows[b].reset();

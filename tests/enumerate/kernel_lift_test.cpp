@@ -71,7 +71,7 @@ WalkState walk_state(const Network& network) {
   const std::vector<std::size_t>& pivots = scaling_structure(network).pivot_columns;
   state.first_image = detail::extra_directions_of_rows(basis.rows(), pivots, state.modular.prime);
   // Read off the basis directly: the same image (what certify uses).
-  EXPECT_EQ(detail::extra_directions_of_basis(basis, pivots), state.first_image);
+  EXPECT_EQ(detail::extra_directions_of_basis(basis, pivots).dense(), state.first_image);
   return state;
 }
 
@@ -118,7 +118,8 @@ TEST(KernelLift, ExactSolveAndMultiModularLiftGiveTheExactKernelsExtraDirections
     bool stopped = false;
     std::size_t furthest = 0;
     const auto lifted = detail::lift_and_prove_extra_directions(
-        network, state.modular, pivots, state.kept, state.rank, state.first_image, state.smooth,
+        network, state.modular, pivots, state.kept, state.rank,
+        detail::SparseModularRows::from_dense(state.first_image), state.smooth,
         detail::CheckScale(network), threads, StopRequest(), stopped,
         [&](std::size_t step) { furthest = std::max(furthest, step); }, {});
     ASSERT_TRUE(lifted.has_value());
@@ -152,7 +153,8 @@ TEST(KernelLift, RowsAloneAndTogetherGiveTheExactRows) {
       for (unsigned threads : {1u, 2u})
         for (const detail::CheckScale* scale : {static_cast<const detail::CheckScale*>(nullptr), &check_scale}) {
           const auto lifted = detail::lift_rows_multimodular(network, state.modular, state.kept, state.rank,
-                                                             state.first_image, rows, leads, sparse_limit, threads,
+                                                             detail::SparseModularRows::from_dense(state.first_image),
+                                                             rows, leads, sparse_limit, threads,
                                                              scale);
           ASSERT_TRUE(lifted.has_value());
           ASSERT_EQ(lifted->size(), expected.rows());
@@ -183,7 +185,8 @@ TEST(KernelLift, WrongImageFallsBackToTheExactSolve) {
   bool stopped = false;
   std::size_t furthest = 0;
   const auto lifted = detail::lift_and_prove_extra_directions(
-      network, state.modular, scaling_structure(network).pivot_columns, state.kept, state.rank, state.first_image,
+      network, state.modular, scaling_structure(network).pivot_columns, state.kept, state.rank,
+      detail::SparseModularRows::from_dense(state.first_image),
       state.smooth, detail::CheckScale(network), 1, StopRequest(), stopped,
       [&](std::size_t step) { furthest = std::max(furthest, step); }, {});
   ASSERT_TRUE(lifted.has_value());
