@@ -44,6 +44,19 @@ bool is_replaceable(const std::string& path) {
          status.type() == std::filesystem::file_type::regular;
 }
 
+// The file a chain of symbolic links ends at (itself when it is none),
+// existing or not.
+std::string link_target(const std::string& path) {
+  std::filesystem::path target(path);
+  std::error_code error;
+  for (int hops = 0; hops < 40 && std::filesystem::is_symlink(std::filesystem::symlink_status(target, error)); ++hops) {
+    const std::filesystem::path next = std::filesystem::read_symlink(target, error);
+    if (error) break;
+    target = next.is_absolute() ? next : target.parent_path() / next;
+  }
+  return target.string();
+}
+
 }  // namespace
 
 void note_input_file(const std::string& path, const std::string& what) {
@@ -53,7 +66,9 @@ void note_input_file(const std::string& path, const std::string& what) {
 
 void write_whole_file(const std::string& path, std::string_view text) {
   if (is_replaceable(path)) {
-    write_file_atomically(path, text);
+    // Through a symbolic link to the file it names, as writing in place did
+    // (renaming over the path would replace the link itself).
+    write_file_atomically(link_target(path), text);
     return;
   }
   OutputFile file(path);

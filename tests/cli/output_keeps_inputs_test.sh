@@ -44,6 +44,12 @@ status=$?
 expect_contains "$(cat "$work/err")" "net.json: cannot write" "the failed write"
 cmp -s "$work/net.json" "$work/good.json" || fail "the failed write changed net.json ($(wc -c < "$work/net.json") bytes)"
 [ -z "$(ls -A "$work" | grep '^\.net\.json\.')" ] || fail "a temporary file was left: $(ls -A "$work")"
+# Through a symbolic link the file it names is replaced, not the link.
+mkdir "$work/real"
+ln -s "$work/real/target.json" "$work/link.json"
+"$pleat" random --arch 2,3,1 --seed 1 -o "$work/link.json" || fail "-o through a link exited $?"
+[ -L "$work/link.json" ] || fail "the link was replaced by a file"
+cmp -s "$work/real/target.json" "$work/good.json" || fail "the link's target was not written"
 # Devices are still written in place.
 "$pleat" random --arch 2,3,1 --seed 1 -o /dev/null || fail "-o /dev/null exited $?"
 echo "outputs keep inputs and earlier files: ok"
