@@ -143,7 +143,7 @@ void lower_check_cost(std::vector<IntegerEntries>& rows) {
   for (std::size_t r = 0; r < rows.size(); ++r)
     if (rows[r].size() >= 2 && has_large_entry(rows[r])) heavy.push_back(r);
   const std::size_t n = heavy.size();
-  if (n < 2) return;
+  if (n < 2 || n > max_heavy_rows_lowered) return;  // the limit: check_basis.hpp
   std::vector<std::size_t> cost;
   std::vector<Residues> residues;
   for (std::size_t r : heavy) {

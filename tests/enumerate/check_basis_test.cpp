@@ -116,5 +116,36 @@ TEST(CheckBasis, RowsWithoutLargeEntriesOrAloneAreLeftAlone) {
   EXPECT_EQ(copy, alone);
 }
 
+// count rows u_i + (i + 1) t, u_i a unit vector, t 20 entries of about 300
+// bits: every row but one can lose the tail.
+std::vector<IntegerEntries> many_rows_sharing_a_tail(std::size_t count) {
+  std::mt19937_64 random(11);
+  const std::size_t cols = count + 20;
+  std::vector<Integer> tail(cols, 0);
+  for (std::size_t c = count; c < cols; ++c) tail[c] = Integer(static_cast<unsigned long>(random() | 1)) << 290;
+  std::vector<IntegerEntries> rows;
+  for (std::size_t i = 0; i < count; ++i) {
+    std::vector<Integer> row(cols, 0);
+    row[i] = 1;
+    for (std::size_t c = count; c < cols; ++c) row[c] = static_cast<long>(i + 1) * tail[c];
+    rows.push_back(sparse(row));
+  }
+  return rows;
+}
+
+// The search is quadratic in the rows with large entries, so past
+// max_heavy_rows_lowered it is not made (a batch rank's hundreds of kernel
+// vectors); at the limit it still is.
+TEST(CheckBasis, TooManyRowsWithLargeEntriesAreLeftAlone) {
+  const std::vector<IntegerEntries> at_limit = many_rows_sharing_a_tail(max_heavy_rows_lowered);
+  std::vector<IntegerEntries> copy = at_limit;
+  lower_check_cost(copy);
+  EXPECT_LT(total_cost(copy), total_cost(at_limit) / 2);
+  const std::vector<IntegerEntries> beyond = many_rows_sharing_a_tail(max_heavy_rows_lowered + 1);
+  copy = beyond;
+  lower_check_cost(copy);
+  EXPECT_EQ(copy, beyond);
+}
+
 }  // namespace
 }  // namespace pleat::detail
