@@ -4,7 +4,10 @@
 #include "core/rank.hpp"
 #include "enumerate/claim.hpp"
 #include "core/detail/flint_matrix.hpp"
+#include "enumerate/detail/check_basis.hpp"
 #include "enumerate/detail/kernel_check.hpp"
+
+#include <flint/nmod.h>
 
 #include <algorithm>
 #include <map>
@@ -13,12 +16,6 @@
 
 namespace pleat {
 namespace {
-
-__extension__ typedef unsigned __int128 Wide;  // GCC/Clang: exact 64 x 64 -> 128 products
-
-std::uint64_t multiply_modulo(std::uint64_t a, std::uint64_t b, std::uint64_t prime) {
-  return static_cast<std::uint64_t>(static_cast<Wide>(a) * b % prime);
-}
 
 // The vectors x~ = (x, 1) of one region's chosen points in echelon form (1 at
 // each row's pivot, 0 there in every later row): decides exactly whether a
@@ -75,7 +72,7 @@ std::vector<Integer> integer_row(const RationalVector& row) {
 
 // Kernel vectors as sparse integer vectors (each scaled by the lcm of its
 // denominators), for exact dot products with integer rows.
-using SparseIntegerRow = std::vector<std::pair<std::size_t, Integer>>;
+using SparseIntegerRow = detail::IntegerEntries;
 
 std::vector<SparseIntegerRow> sparse_integer_rows(const RationalMatrix& matrix) {
   std::vector<SparseIntegerRow> out;
@@ -185,14 +182,14 @@ class BatchRanker {
       }
       x.push_back(*residue);
     }
+    nmod_t modulus;
+    nmod_init(&modulus, prime);
     const std::size_t stride = network_.input_dim + 1;
     for (std::size_t o = 0; o < outputs_; ++o) {
       ModularVector row = region.blocks_modulo.row(o * stride);
       for (std::size_t t = 0; t < x.size(); ++t)
-        for (std::size_t c = 0; c < row.size(); ++c) {
-          const std::uint64_t term = multiply_modulo(x[t], region.blocks_modulo(o * stride + 1 + t, c), prime);
-          row[c] = (row[c] + term) % prime;
-        }
+        for (std::size_t c = 0; c < row.size(); ++c)
+          row[c] = nmod_add(row[c], nmod_mul(x[t], region.blocks_modulo(o * stride + 1 + t, c), modulus), modulus);
       batch_kept_.push_back(batch_basis_.add_row_screened(row));
     }
   }

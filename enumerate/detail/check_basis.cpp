@@ -2,6 +2,8 @@
 
 #include "core/stop.hpp"
 
+#include <flint/nmod.h>
+
 #include <algorithm>
 #include <cstdint>
 
@@ -57,24 +59,13 @@ bool has_large_entry(const IntegerEntries& row) {
 // costs less).
 constexpr std::uint64_t proposal_prime = (std::uint64_t{1} << 61) - 1;
 
-__extension__ typedef unsigned __int128 Wide;
+const nmod_t proposal_modulus = [] {
+  nmod_t modulus;
+  nmod_init(&modulus, proposal_prime);
+  return modulus;
+}();
 
-// x y modulo 2^61 - 1 (x, y below it): the high bits fold onto the low ones.
-std::uint64_t multiply_modulo(std::uint64_t x, std::uint64_t y) {
-  const Wide product = static_cast<Wide>(x) * y;
-  std::uint64_t folded = static_cast<std::uint64_t>(product & proposal_prime) + static_cast<std::uint64_t>(product >> 61);
-  folded = (folded & proposal_prime) + (folded >> 61);
-  return folded >= proposal_prime ? folded - proposal_prime : folded;
-}
-
-std::uint64_t inverse_modulo(std::uint64_t value) {  // value^(p-2) modulo p, value nonzero
-  std::uint64_t result = 1, base = value;
-  for (std::uint64_t e = proposal_prime - 2; e > 0; e >>= 1) {
-    if (e & 1) result = multiply_modulo(result, base);
-    base = multiply_modulo(base, base);
-  }
-  return result;
-}
+std::uint64_t multiply_modulo(std::uint64_t x, std::uint64_t y) { return nmod_mul(x, y, proposal_modulus); }
 
 // A row's entries and their inverses modulo the proposal prime (0 for 0),
 // in its column order: the inverses from one inversion (each prefix
@@ -89,7 +80,7 @@ struct Residues {
       prefix.push_back(product);
       if (values.back() != 0) product = multiply_modulo(product, values.back());
     }
-    std::uint64_t inverse = inverse_modulo(product);  // of every nonzero residue's product so far
+    std::uint64_t inverse = n_invmod(product, proposal_prime);  // of every nonzero residue's product so far
     for (std::size_t e = values.size(); e-- > 0;) {
       if (values[e] == 0) continue;
       inverses[e] = multiply_modulo(inverse, prefix[e]);
