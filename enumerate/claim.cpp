@@ -74,10 +74,6 @@ std::optional<RegionLimit> region_limit(const Network& network, const Functional
   return limit;
 }
 
-bool is_inside(const Domain& domain, const RationalVector& point) {
-  return placement_in(domain, point) == Placement::inside;
-}
-
 ActivationPattern batch_point_pattern(const Network& network, const Domain& domain, const RationalVector& point,
                                      const std::string& place, const IntegerPatternEvaluator* evaluator) {
   const Placement placement = placement_in(domain, point);
@@ -101,15 +97,6 @@ ActivationPattern batch_point_pattern(const Network& network, const Domain& doma
     }
   }
   return *pattern;
-}
-
-std::vector<ActivationPattern> batch_point_patterns(const Network& network, const Domain& domain,
-                                                    const std::vector<RationalVector>& points,
-                                                    const std::function<std::string(std::size_t)>& place_of) {
-  std::vector<ActivationPattern> patterns;
-  for (std::size_t i = 0; i < points.size(); ++i)
-    patterns.push_back(batch_point_pattern(network, domain, points[i], place_of(i)));
-  return patterns;
 }
 
 }  // namespace pleat

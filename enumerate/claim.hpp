@@ -15,7 +15,6 @@
 
 #include <cstddef>
 #include <cstdint>
-#include <functional>
 #include <optional>
 #include <string>
 #include <vector>
@@ -55,19 +54,12 @@ struct RegionLimit {
 };
 std::optional<RegionLimit> region_limit(const Network& network, const FunctionalDimensionResult& result);
 
-// Whether the point lies strictly inside the (open) domain. Exact.
-[[nodiscard]] bool is_inside(const Domain& domain, const RationalVector& point);
-
-// The activation pattern of each point's region, for the batch functional
-// dimension. A point outside the domain, on a bent hyperplane or in a region
-// without smooth points is an input_error starting with place(i) (e.g.
-// "pts.csv:4 (point 3)"). Exact.
-std::vector<ActivationPattern> batch_point_patterns(const Network& network, const Domain& domain,
-                                                    const std::vector<RationalVector>& points,
-                                                    const std::function<std::string(std::size_t)>& place);
-// One point's: the same checks, the error starting with place. With an
-// evaluator of the network, a point on no bent hyperplane costs one
-// evaluation in integers (the same pattern).
+// The activation pattern of a point's region, for the batch functional
+// dimension. A point outside the domain, on its boundary, on a bent
+// hyperplane or in a region without smooth points is an input_error
+// starting with place (e.g. "pts.csv:4 (point 3)"). With an evaluator of
+// the network, a point on no bent hyperplane costs one evaluation in
+// integers (the same pattern). Exact.
 ActivationPattern batch_point_pattern(const Network& network, const Domain& domain, const RationalVector& point,
                                      const std::string& place, const IntegerPatternEvaluator* evaluator = nullptr);
 
