@@ -17,7 +17,8 @@ then it checks:
                 each region's point is strictly inside its cell, each
                 constraint is a facet (a point) or not (Motzkin multipliers),
                 and every region that crossing a facet at its point can reach
-                is listed or proved empty there (Gordan multipliers).
+                is listed or proved empty there (Gordan multipliers); the
+                domain is connected, so a non-empty such list is every region.
 --network NET.json: the bundle's own network must be that file's (every weight
 and bias equal); an ONNX model is refused, naming 'pleat import' that writes its JSON. The report names the domain the value holds on.
 Exit status: 0 every proof checks, 1 one does not (its first failure is
@@ -416,6 +417,10 @@ def check(bundle, reference=None):
         raise Rejected(f"parametric_dimension {bundle['parametric_dimension']} but the network has {net.D} parameters")
     every_region = bundle["every_region"] is True
     regions = bundle["regions"]
+    if every_region and not regions:
+        # Crossing-closed is complete only from a first region: an empty list
+        # is closed too, and its kernel would be any D vectors (value 0).
+        raise Rejected("every_region: the list is empty, but the domain holds at least one region")
     patterns = [net.parse_pattern(r["pattern"], f"region {i}") for i, r in enumerate(regions)]
     listed = set(patterns)
     if len(listed) != len(patterns):

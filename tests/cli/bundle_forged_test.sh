@@ -7,6 +7,8 @@
 #    not describe), an unknown key in the network, a key written twice (json
 #    keeps the last value, a reader may take the first), a number spelled in
 #    a way pleat never writes, a box with fewer intervals than inputs.
+#  - An empty region list marked every_region (closed under crossings, it
+#    let any D vectors stand as the kernel: functional dimension 0).
 #  - --network NET.json: the bundle's network must be that file's (a bundle of
 #    another network, or with one weight changed, is rejected; the file's own
 #    bundle is accepted and said to be equal).
@@ -45,6 +47,12 @@ text = json.dumps(load("fold"))
 value = load("fold")["functional_dimension"]
 open(f"{work}/f_twice.json", "w").write(
     text.replace('"functional_dimension": ', f'"functional_dimension": {value + 5}, "functional_dimension": ', 1))
+# An empty list said to be every region: closed under crossings, so a kernel of
+# all D unit vectors annihilated "every" region and value 0 was CHECKED.
+doc = load("fold"); D = doc["parametric_dimension"]
+doc.update(every_region=True, regions=[], functional_dimension=0, lower_bound={"rows": [], "columns": []},
+           upper_bound={"method": "kernel", "kernel": [[str(int(i == j)) for j in range(D)] for i in range(D)]})
+save(doc, "empty_list")
 # The true fold2d bundle, its network one weight off: with --network only.
 doc = load("fold"); doc["network"]["layers"][2]["weights"][0][0] = "7"; save(doc, "other_weight")
 PY
@@ -63,6 +71,7 @@ expect_reject tanh_output 1 "^REJECTED .*network.layers\[2\].activation: 'tanh'"
 expect_reject short_box 1 "^REJECTED .*domain: a box needs 2 intervals, one per input"
 expect_reject reversed_box 1 "^REJECTED .*the lower end 2 is not below the upper end -2"
 expect_reject arabic_digit 1 "^REJECTED .*not a number as pleat writes one"
+expect_reject empty_list 1 "^REJECTED .*every_region: the list is empty, but the domain holds at least one region"
 expect_reject twice 2 "cannot read (the key 'functional_dimension' is written twice in one object)"
 expect_reject other_weight 1 "^REJECTED .*the bundle's network is not the one in $fold: layers\[2\].weights\[0\]\[0\] is 7 in the bundle" --network "$fold"
 
