@@ -9,6 +9,8 @@
 #include <cstdlib>
 #include <cstring>
 #include <filesystem>
+#include <fstream>
+#include <limits>
 #include <iostream>
 #include <mutex>
 #include <system_error>
@@ -55,6 +57,34 @@ std::string link_target(const std::string& path) {
     target = next.is_absolute() ? next : target.parent_path() / next;
   }
   return target.string();
+}
+
+// The process's umask, read without setting it: umask() sets it too, and
+// another thread creating a file meanwhile would get the wrong mode.
+mode_t current_umask() {
+  std::ifstream status("/proc/self/status");
+  std::string key;
+  while (status >> key) {
+    if (key == "Umask:") {
+      std::string octal;
+      status >> octal;
+      return static_cast<mode_t>(std::strtoul(octal.c_str(), nullptr, 8));
+    }
+    status.ignore(std::numeric_limits<std::streamsize>::max(), '\n');
+  }
+  return 022;  // no /proc: the usual default
+}
+
+// The mode of the file that replaces `path`: the mode `path` has (a file its
+// owner made private stays private), else a new file's (0666 less the
+// umask; mkstemp's 0600 would hide it from the group). A file this process
+// may not write is refused, as writing it in place was.
+mode_t replacement_mode(const std::string& path) {
+  struct stat existing {};
+  if (stat(path.c_str(), &existing) != 0) return 0666 & ~current_umask();
+  if (access(path.c_str(), W_OK) != 0)
+    throw input_error(path + ": cannot open for writing (" + std::strerror(errno) + ")");
+  return existing.st_mode & 0777;
 }
 
 }  // namespace
@@ -136,16 +166,17 @@ void write_file_atomically(const std::string& path, std::string_view text) {
   std::string hidden_name(".");
   hidden_name.append(target.filename().string()).append(".XXXXXX");
   std::string temporary = (directory / hidden_name).string();
+  const mode_t mode = replacement_mode(path);
   const int descriptor = mkstemp(temporary.data());
   if (descriptor < 0) throw input_error(path + ": cannot open for writing (" + std::strerror(errno) + ")");
-  const mode_t mask = umask(0);  // mkstemp makes the file 0600; give it the usual mode
-  umask(mask);
-  fchmod(descriptor, 0666 & ~mask);
   ::close(descriptor);
   try {
     OutputFile file(temporary, OutputFile::Mode::truncate, path);
     file.write(text);
     file.close();
+    // Once written: the mode may forbid writing (a 0444 file its owner may replace).
+    if (chmod(temporary.c_str(), mode) != 0)
+      throw output_error(path + ": cannot set its mode (" + std::string(std::strerror(errno)) + ")");
   } catch (...) {
     std::remove(temporary.c_str());
     throw;

@@ -59,7 +59,9 @@ void check_standard_output();
 
 // Writes `text` to a temporary file next to `path` and renames it over
 // `path`, so that a reader of `path` sees the old or the new content, never
-// a truncated one, and a failed write leaves `path` as it was.
+// a truncated one, and a failed write leaves `path` as it was. The new file
+// keeps the mode of the one it replaces; a file this process may not write
+// is refused (input_error), as opening it in place would be.
 void write_file_atomically(const std::string& path, std::string_view text);
 
 // A whole result file (a bundle, a kernel, a figure, a table, a network):

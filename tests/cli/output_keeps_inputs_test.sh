@@ -50,6 +50,17 @@ ln -s "$work/real/target.json" "$work/link.json"
 "$pleat" random --arch 2,3,1 --seed 1 -o "$work/link.json" || fail "-o through a link exited $?"
 [ -L "$work/link.json" ] || fail "the link was replaced by a file"
 cmp -s "$work/real/target.json" "$work/good.json" || fail "the link's target was not written"
+# The replacement keeps the mode of the file it replaces (a private file stayed
+# private only until pleat wrote it: the temporary's mode was 0666 less the
+# umask); a new file gets 0666 less the umask.
+chmod 600 "$work/good.json"
+"$pleat" random --arch 2,3,1 --seed 1 -o "$work/good.json" || fail "random over a 0600 file exited $?"
+[ "$(stat -c %a "$work/good.json")" = 600 ] || fail "a 0600 file became $(stat -c %a "$work/good.json")"
+chmod 640 "$work/real/target.json"
+"$pleat" random --arch 2,3,1 --seed 1 -o "$work/link.json" || fail "-o through a link exited $?"
+[ "$(stat -c %a "$work/real/target.json")" = 640 ] || fail "a 0640 file became $(stat -c %a "$work/real/target.json")"
+(umask 027; "$pleat" random --arch 2,3,1 --seed 1 -o "$work/new.json") || fail "random to a new file exited $?"
+[ "$(stat -c %a "$work/new.json")" = 640 ] || fail "a new file under umask 027 is $(stat -c %a "$work/new.json")"
 # Devices are still written in place.
 "$pleat" random --arch 2,3,1 --seed 1 -o /dev/null || fail "-o /dev/null exited $?"
 echo "outputs keep inputs and earlier files: ok"
