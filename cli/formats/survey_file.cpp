@@ -7,6 +7,7 @@
 #include <algorithm>
 #include <cstdint>
 #include <filesystem>
+#include <fstream>
 #include <limits>
 #include <set>
 #include <type_traits>
@@ -329,12 +330,34 @@ SurveyFile read_survey_file(const std::string& path) {
   return file;
 }
 
+namespace {
+
+// Whether a file whose only line is cut short is a survey killed while
+// writing its header: it starts as every survey header does (or is a cut of
+// that start). Anything else (a one-line file of something else, such as a
+// network json.dump wrote without a newline) is not a survey to start over.
+bool is_cut_survey_header(const std::string& path) {
+  static const std::string start = R"({"format":"pleat-survey/1")";
+  std::ifstream file(path, std::ios::binary);
+  std::string text(start.size(), '\0');
+  file.read(text.data(), static_cast<std::streamsize>(text.size()));
+  text.resize(static_cast<std::size_t>(file.gcount()));
+  return start.compare(0, text.size(), text) == 0;
+}
+
+}  // namespace
+
 SurveyResume resume_survey_file(const std::string& path, const Json& header) {
   SurveyResume resume;
   // Only a regular file can hold earlier samples (-o /dev/null is fine too).
   if (path.empty() || !std::filesystem::is_regular_file(path) || std::filesystem::file_size(path) == 0) return resume;
   SurveyFile existing = read_survey_file(path);
-  if (existing.header.is_null()) return resume;
+  if (existing.header.is_null()) {
+    if (!is_cut_survey_header(path))
+      throw input_error(path + ": is not a survey file (its one line, with no newline, is no pleat-survey/1 "
+                        "header) and would be replaced; use another -o");
+    return resume;
+  }
   const std::string difference = header_difference(existing.header, header);
   if (!difference.empty())
     throw input_error(path + ": holds a different survey ('" + difference + "' is " +

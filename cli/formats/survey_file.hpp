@@ -66,7 +66,8 @@ ShardSet shard_from_header(const Json& header, const std::string& where);
 // What an existing survey file holds for a run whose header is `header`:
 // its samples and the length of its whole lines (a last line cut short by a
 // killed run is dropped, and said so). A missing or empty file (or one that
-// is not regular, such as /dev/null) holds nothing. A file of another survey
+// is not regular, such as /dev/null) holds nothing, as does a header cut
+// short; a one-line file that is no survey header is an input_error. A file of another survey
 // or another shard is an input_error naming the first differing key.
 struct SurveyResume {
   std::uintmax_t keep_bytes = 0;

@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # pleat survey: the same lines at --threads 1 and 2; a resumed survey (file cut
 # after some lines and inside a line, or inside the header) equals an
-# uninterrupted one, also with the projection's timed samples (no -q); a different survey in the file is refused; each sample
+# uninterrupted one, also with the projection's timed samples (no -q); a different survey in the file is refused,
+# and so is a one-line file that is no survey; each sample
 # equals 'pleat certify' on 'pleat random --sample i'; the summary's mean and
 # variance equal Python's exact fractions.
 set -u
@@ -79,6 +80,12 @@ cmp -s "$work/again.jsonl" "$work/one.jsonl" || fail "rerunning a complete surve
 grep -q "different survey" "$work/other.err" || fail "unclear message: $(cat "$work/other.err")"
 grep -q "seed" "$work/other.err" || fail "the message does not name the key that differs"
 cmp -s <(normal "$work/one.jsonl") "$work/one.norm" || fail "the refused run touched the file"
+# A one-line file without a newline that is no survey header (a network
+# json.dump wrote) was taken for a cut header and replaced: refused, kept.
+printf '{"format":"pleat-network/1","layers":[]}' > "$work/oneline.json"
+run -o "$work/oneline.json" 2> "$work/oneline.err" && fail "a one-line non-survey file was replaced"
+grep -q "oneline.json: is not a survey file" "$work/oneline.err" || fail "unclear message: $(cat "$work/oneline.err")"
+[ "$(cat "$work/oneline.json")" = '{"format":"pleat-network/1","layers":[]}' ] || fail "the refused run touched the file"
 # A broken line in the middle is an error, not silently dropped.
 sed '3s/.*/{"sample": oops/' "$work/one.jsonl" > "$work/broken.jsonl"
 run -o "$work/broken.jsonl" 2> "$work/broken.err" && fail "a broken middle line was accepted"
