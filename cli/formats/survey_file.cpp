@@ -275,8 +275,11 @@ void check_sample_consistency(const SurveySample& sample, const ArchitectureLimi
   if (sample.lower_bound > sample.upper_bound)
     refuse("lower_bound " + std::to_string(sample.lower_bound) + " is above upper_bound " +
            std::to_string(sample.upper_bound));
-  if (sample.certified != (sample.lower_bound == sample.upper_bound))
-    refuse(sample.certified ? "certified with unequal bounds" : "the bounds meet but the line is not certified");
+  if (sample.certified && sample.lower_bound != sample.upper_bound) refuse("certified with unequal bounds");
+  // A run stopped after its bounds met (naming the extra directions, or the
+  // walk's last region) is not certified: stopped, never certified.
+  if (!sample.certified && sample.lower_bound == sample.upper_bound && sample.stop_reason == StopReason::none)
+    refuse("the bounds meet but the line is not certified, and the run was not stopped");
   if (sample.functional_dimension && *sample.functional_dimension != sample.lower_bound)
     refuse("functional_dimension " + std::to_string(*sample.functional_dimension) + " differs from its bounds " +
            std::to_string(sample.lower_bound));

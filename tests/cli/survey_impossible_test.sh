@@ -2,7 +2,8 @@
 # Survey files that claim the impossible are refused by 'survey summary',
 # 'survey merge' and a resumed run, naming the file and line: a functional
 # dimension above the scaling bound, lower_bound > upper_bound, certified with
-# unequal bounds, values above the parametric dimension, a parametric
+# unequal bounds, equal bounds not certified in a run that was not stopped,
+# values above the parametric dimension, a parametric
 # dimension that is not the header architecture's. The bounds come from the
 # architecture 2,3,1: D = (2+1)*3 + (3+1)*1 = 13 parameters, 3 hidden neurons,
 # so the scaling bound lies in [10, 13] (written here from the formula).
@@ -48,6 +49,11 @@ edit unequal 4 'd.update(certified=True, functional_dimension=8, lower_bound=8, 
 expect_refused unequal 4 "certified with unequal bounds"
 edit meet_uncertified 5 'd.update(certified=False, functional_dimension=None, early_stop=False)'
 expect_refused meet_uncertified 5 "the bounds meet but the line is not certified"
+# Bounds that meet in a stopped run are what pleat writes (a stop while naming
+# the proved extra directions): not certified, and read back, not refused.
+edit meet_stopped 5 'd.update(certified=False, functional_dimension=None, early_stop=False, stop_reason="time-limit")'
+out=$("$pleat" survey summary "$work/meet_stopped.jsonl" 2>&1) || fail "a stopped line whose bounds meet was refused: $out"
+expect_contains "$out" "samples               4 of 4: 3 certified, 1 cut short by the time limit" "meet_stopped summary"
 edit parameters 2 'd["parametric_dimension"] = 99'
 expect_refused parameters 2 "parametric_dimension 99, but the header's architecture has 13"
 edit scaling_above 3 'd["scaling_bound"] = d["upper_bound"] = d["lower_bound"] = d["functional_dimension"] = 14'

@@ -750,6 +750,26 @@ TEST(FunctionalDimension, TimeLimitDuringTheCheckGivesBoundsOnly) {
   EXPECT_GE(result.upper_bound, 17u);
 }
 
+// A stop while the proved extra directions are being named (after the bounds
+// are set) leaves bounds that meet and certified = false: what survey and
+// track lines of such a run hold, which their readers must take back.
+TEST(FunctionalDimension, StopWhileNamingLeavesMeetingBoundsUncertified) {
+  const Network network = random_network({2, 15, 15, 15, 1}, 1);  // 122 extra directions: two chunks
+  std::atomic<bool> interrupt{false};
+  FunctionalDimensionOptions options;
+  options.walk.threads = 1;
+  options.walk.interrupt = &interrupt;
+  options.stop_at_scaling_bound = false;
+  options.on_phase = [&](const CertifyProgress& progress) {
+    if (std::string(progress.phase) == "naming") interrupt = true;
+  };
+  const FunctionalDimensionResult result = certify_functional_dimension(network, make_whole_space(2), options);
+  EXPECT_TRUE(result.walk_complete);
+  EXPECT_EQ(result.stop_reason, StopReason::interrupted);
+  EXPECT_FALSE(result.certified);
+  EXPECT_EQ(result.lower_bound, result.upper_bound);
+  EXPECT_EQ(result.lower_bound, 374u);  // pleat certify --arch 2,15,15,15,1 --seed 1, run whole
+}
 
 // ---- Certified from points, without a walk -----------------------------------
 
