@@ -8,36 +8,79 @@
 #include <flint/ulong_extras.h>
 
 #include <algorithm>
+#include <cstdint>
 #include <utility>
 #include <vector>
 
 namespace pleat::detail {
 namespace {
 
-// R_T c for each row c of `combinations` (positions in T), by the nonzero
-// entries only: R's column at each touched column as (row, value) lists,
-// then per c the sum of c_t times column t. Both are mostly zero on random
-// networks (2,15,15,15,1 seed 1: 43 nonzeros in the 40 x 79 combinations,
-// 1299 of R_T's 374 x 79 entries), where a dense product costs
-// 40 x 39 x 374.
-// `entry` is called rank x |T| times: a template parameter, inlined (a
-// std::function cost a call each, a tenth of the read-off on
-// 2,15,15,15,15,1).
-template <typename Entry>
-std::vector<ModularVector> sparse_row_products(const ModularMatrix& combinations, std::size_t rank, const Entry& entry,
-                                               std::uint64_t prime) {
+// The kept rows' free parts by their nonzero entries, column by column:
+// column q of F (a position in free_columns) holds entries [first[q],
+// first[q + 1]), each (kept row, value), rows increasing. One sequential
+// pass over the rank x |F| words; the read-off then reads only these (on
+// 2,15,15,15,15,1 seed 1, about 2 800 of the 495 x 286 words), where reading
+// the touched columns row by row missed the cache at every entry.
+struct FreeColumns {
+  std::vector<std::size_t> first;
+  std::vector<std::pair<std::size_t, std::uint64_t>> entries;
+  bool is_touched(std::size_t q) const { return first[q] != first[q + 1]; }
+};
+
+FreeColumns free_columns_by_nonzeros(const ModularRowBasis& basis) {
+  const std::size_t rank = basis.rank(), width = basis.free_columns().size();
+  struct Nonzero {
+    std::size_t q, i;
+    std::uint64_t value;
+  };
+  std::vector<Nonzero> nonzeros;  // by rows
+  for (std::size_t i = 0; i < rank; ++i) {
+    const ModularVector& part = basis.free_part(i);
+    for (std::size_t q = 0; q < width; ++q)
+      if (part[q] != 0) nonzeros.push_back({q, i, part[q]});
+  }
+  FreeColumns out;
+  out.first.assign(width + 1, 0);
+  for (const Nonzero& nonzero : nonzeros) ++out.first[nonzero.q + 1];
+  for (std::size_t q = 0; q < width; ++q) out.first[q + 1] += out.first[q];
+  out.entries.resize(nonzeros.size());
+  std::vector<std::size_t> next(out.first.begin(), out.first.end() - 1);
+  for (const Nonzero& nonzero : nonzeros) out.entries[next[nonzero.q]++] = {nonzero.i, nonzero.value};
+  return out;
+}
+
+// R_T c for each row c of `combinations` (positions in T, the free columns
+// `touched`), by the nonzero entries only: per c the sum of c_t times R's
+// column at t, each product's nonzeros (kept row, value). Both are mostly zero on random networks (2,15,15,15,1 seed
+// 1: 43 nonzeros in the 40 x 79 combinations, 1299 of R_T's 374 x 79
+// entries). One rank-long accumulator, cleared at the rows it touched.
+std::vector<std::vector<std::pair<std::size_t, std::uint64_t>>> sparse_row_products(
+    const ModularMatrix& combinations, std::size_t rank, const FreeColumns& columns,
+    const std::vector<std::size_t>& touched, std::uint64_t prime) {
   nmod_t mod;
   nmod_init(&mod, prime);
-  std::vector<std::vector<std::pair<std::size_t, std::uint64_t>>> columns(combinations.cols());
-  for (std::size_t i = 0; i < rank; ++i)
-    for (std::size_t t = 0; t < combinations.cols(); ++t)
-      if (const std::uint64_t value = entry(i, t); value != 0) columns[t].emplace_back(i, value);
-  std::vector<ModularVector> products(combinations.rows(), ModularVector(rank, 0));
+  std::vector<std::vector<std::pair<std::size_t, std::uint64_t>>> products(combinations.rows());
+  ModularVector sum(rank, 0);
+  std::vector<char> is_hit(rank, 0);
+  std::vector<std::size_t> hit;
   for (std::size_t a = 0; a < combinations.rows(); ++a) {
     poll_stop();
+    hit.clear();
     for (std::size_t t = 0; t < combinations.cols(); ++t)
       if (const std::uint64_t c = combinations(a, t); c != 0)
-        for (const auto& [i, value] : columns[t]) products[a][i] = nmod_add(products[a][i], nmod_mul(c, value, mod), mod);
+        for (std::size_t e = columns.first[touched[t]]; e < columns.first[touched[t] + 1]; ++e) {
+          const auto [i, value] = columns.entries[e];
+          if (!is_hit[i]) {
+            is_hit[i] = 1;
+            hit.push_back(i);
+          }
+          sum[i] = nmod_add(sum[i], nmod_mul(c, value, mod), mod);
+        }
+    for (std::size_t i : hit) {
+      if (sum[i] != 0) products[a].emplace_back(i, sum[i]);
+      sum[i] = 0;
+      is_hit[i] = 0;
+    }
   }
   return products;
 }
@@ -136,10 +179,11 @@ SparseModularRows extra_directions_of_basis(const ModularRowBasis& basis,
   for (std::size_t c : scaling_pivots) is_scaling[c] = 1;
   for (std::size_t c : pivots) is_pivot[c] = 1;
   // Kept row i is 1 at pivot_i, 0 at the other pivots and free_part(i) at
-  // the free columns (read there, never written out as rank x D).
+  // the free columns (read there by nonzero entries, never written out as
+  // rank x D).
   std::vector<std::size_t> position(columns, 0);  // of a free column in free
   for (std::size_t q = 0; q < free.size(); ++q) position[free[q]] = q;
-  auto entry = [&](std::size_t i, std::size_t f) { return basis.free_part(i)[position[f]]; };
+  const FreeColumns free_parts = free_columns_by_nonzeros(basis);
   // The kernel read off the basis: a vector is free on the other columns F,
   // and at pivot_i it is minus row i times its F part. E is the part that
   // vanishes on Q. A column f of F no kept row touches gives e_f: outside Q
@@ -149,47 +193,57 @@ SparseModularRows extra_directions_of_basis(const ModularRowBasis& basis,
   // carry the rest, W: the vectors whose T part c meets the conditions of
   // the pivots in Q (row i times c is 0), a small kernel; W is then c on T
   // and -R c at the pivots, and its reduced echelon form is E's other rows.
-  std::vector<char> touched_at(free.size(), 0);
-  for (std::size_t i = 0; i < rank; ++i) {
-    const ModularVector& part = basis.free_part(i);
-    for (std::size_t q = 0; q < free.size(); ++q) touched_at[q] |= part[q] != 0 ? 1 : 0;
-  }
-  std::vector<std::size_t> touched, untouched;  // T; e_f as it stands
+  std::vector<std::size_t> touched, untouched;  // T (as positions in F); e_f as it stands
   for (std::size_t f = 0; f < columns; ++f)
-    if (!is_pivot[f] && !is_scaling[f]) (touched_at[position[f]] ? touched : untouched).push_back(f);
-  std::vector<std::size_t> conditions;  // the basis rows whose pivot is in Q
+    if (!is_pivot[f] && !is_scaling[f]) {
+      if (free_parts.is_touched(position[f]))
+        touched.push_back(position[f]);
+      else
+        untouched.push_back(f);
+    }
+  std::vector<std::size_t> condition_of(rank, rank);  // each basis row's place among the conditions, else rank
+  std::size_t conditions = 0;  // the basis rows whose pivot is in Q
   for (std::size_t i = 0; i < rank; ++i)
-    if (is_scaling[pivots[i]]) conditions.push_back(i);
+    if (is_scaling[pivots[i]]) condition_of[i] = conditions++;
   poll_stop();
   ModularMatrix combinations;  // the T parts c of W's basis, one per row
-  if (conditions.empty()) {
+  if (conditions == 0) {
     combinations = ModularMatrix(touched.size(), touched.size());
     for (std::size_t t = 0; t < touched.size(); ++t) combinations(t, t) = 1;
   } else if (!touched.empty()) {
-    std::vector<ModularVector> condition_rows(conditions.size(), ModularVector(touched.size(), 0));
-    for (std::size_t q = 0; q < conditions.size(); ++q)
-      for (std::size_t t = 0; t < touched.size(); ++t) condition_rows[q][t] = entry(conditions[q], touched[t]);
+    std::vector<ModularVector> condition_rows(conditions, ModularVector(touched.size(), 0));
+    for (std::size_t t = 0; t < touched.size(); ++t)
+      for (std::size_t e = free_parts.first[touched[t]]; e < free_parts.first[touched[t] + 1]; ++e)
+        if (const auto [i, value] = free_parts.entries[e]; condition_of[i] < rank) condition_rows[condition_of[i]][t] = value;
     combinations = kernel_of_sparse_rows(condition_rows, touched.size(), prime);
   }
   const std::size_t dimension = combinations.rows();
-  // W is 0 at Q (at a pivot in Q by its condition) and at the untouched
-  // columns: it is carried on T and the other pivots only, in column order
-  // (the same echelon form with the zero columns left out).
+  // W at the pivots: -(R_T c) for each c (sparse_row_products); 0 at Q (at
+  // a pivot in Q by its condition) and at the untouched columns. W is
+  // carried on the columns where some row of it is nonzero (U), in column
+  // order: the same echelon form with the zero columns left out.
+  const std::vector<std::vector<std::pair<std::size_t, std::uint64_t>>> at_pivots =
+      sparse_row_products(combinations, rank, free_parts, touched, prime);
+  std::vector<char> is_carried(columns, 0);
+  for (std::size_t a = 0; a < dimension; ++a) {
+    for (std::size_t t = 0; t < touched.size(); ++t)
+      if (combinations(a, t) != 0) is_carried[free[touched[t]]] = 1;
+    for (const auto& [i, value] : at_pivots[a])
+      if (!is_scaling[pivots[i]]) is_carried[pivots[i]] = 1;
+  }
   std::vector<std::size_t> carried;
-  for (std::size_t c = 0; c < columns; ++c)
-    if (!is_scaling[c] && (is_pivot[c] || touched_at[position[c]])) carried.push_back(c);
   std::vector<std::size_t> place(columns, 0);  // of a carried column
-  for (std::size_t q = 0; q < carried.size(); ++q) place[carried[q]] = q;
-  // W at the pivots: -(R_T c) for each c (sparse_row_products).
-  std::vector<ModularVector> spanning(dimension, ModularVector(carried.size(), 0));
-  if (dimension > 0) {
-    const std::vector<ModularVector> at_pivots = sparse_row_products(
-        combinations, rank, [&](std::size_t i, std::size_t t) { return entry(i, touched[t]); }, prime);
-    for (std::size_t a = 0; a < dimension; ++a) {
-      for (std::size_t t = 0; t < touched.size(); ++t) spanning[a][place[touched[t]]] = combinations(a, t);
-      for (std::size_t i = 0; i < rank; ++i)
-        if (!is_scaling[pivots[i]] && at_pivots[a][i] != 0) spanning[a][place[pivots[i]]] = prime - at_pivots[a][i];
+  for (std::size_t c = 0; c < columns; ++c)
+    if (is_carried[c]) {
+      place[c] = carried.size();
+      carried.push_back(c);
     }
+  std::vector<ModularVector> spanning(dimension, ModularVector(carried.size(), 0));
+  for (std::size_t a = 0; a < dimension; ++a) {
+    for (std::size_t t = 0; t < touched.size(); ++t)
+      if (combinations(a, t) != 0) spanning[a][place[free[touched[t]]]] = combinations(a, t);
+    for (const auto& [i, value] : at_pivots[a])
+      if (!is_scaling[pivots[i]]) spanning[a][place[pivots[i]]] = prime - value;
   }
   // W's canonical basis, merged by leading column with the unit rows (W is
   // 0 at their columns, they are 0 elsewhere), by nonzero entries.
