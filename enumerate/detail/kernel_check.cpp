@@ -325,15 +325,18 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
     integer_rows[r] = primitive_integer_entries(vectors.rows[r]);
   });
   lower_check_cost(integer_rows);  // the same span, smaller entries (check_basis.hpp): checked from here on
-  term_neurons_.resize(vector_count_);
-  for (std::size_t v = 0; v < vector_count_; ++v)
+  const std::size_t always_on = neuron_layer_.size();  // the flag live_vectors keeps at 1
+  first_term_.push_back(0);
+  for (std::size_t v = 0; v < vector_count_; ++v) {
     for (const auto& [c, value] : integer_rows[v]) {
       const ColumnRole& role = columns_[c];
-      const std::size_t own = first_neuron[role.layer] == none_ ? none_ : first_neuron[role.layer] + role.neuron;
+      const std::size_t own = first_neuron[role.layer] == none_ ? always_on : first_neuron[role.layer] + role.neuron;
       const std::size_t input =
-          role.input == ColumnRole::bias || role.layer == 0 ? none_ : first_neuron[role.layer - 1] + role.input;
-      term_neurons_[v].push_back({own, input});
+          role.input == ColumnRole::bias || role.layer == 0 ? always_on : first_neuron[role.layer - 1] + role.input;
+      term_neurons_.push_back({own, input});
     }
+    first_term_.push_back(term_neurons_.size());
+  }
   const std::vector<Integer>& bounds = check_scale.scaled_bounds;
   // Each vector's bound L^(d-1) sum_c B_c |e_c|: primes until their product exceeds it.
   std::vector<Integer> needed(vector_count_, 0);
@@ -466,21 +469,29 @@ bool annihilates_rows(const Entry& unit, const RegionFactors& factors, std::size
 
 }  // namespace
 
-bool AnnihilationCheck::has_live_term(std::size_t v, const ActivationPattern& pattern) const {
-  for (const TermNeurons& term : term_neurons_[v])
-    if ((term.own == none_ || pattern.is_on(term.own)) && (term.input == none_ || pattern.is_on(term.input)))
-      return true;
-  return false;
+bool AnnihilationCheck::live_vectors(const ActivationPattern& pattern, std::vector<char>& live) const {
+  const std::size_t neurons = neuron_layer_.size();
+  thread_local std::vector<unsigned char> on;  // the pattern's neurons on, then 1 (always_on)
+  on.resize(neurons + 1);
+  for (std::size_t n = 0; n < neurons; ++n) on[n] = pattern.states[n] == NeuronState::on ? 1 : 0;
+  on[neurons] = 1;
+  live.resize(vector_count_);
+  unsigned char any_live = 0;
+  for (std::size_t v = 0; v < vector_count_; ++v) {
+    unsigned char is_live = 0;
+    for (std::size_t t = first_term_[v]; t < first_term_[v + 1]; ++t)
+      is_live |= on[term_neurons_[t].own] & on[term_neurons_[t].input];
+    live[v] = static_cast<char>(is_live);
+    any_live |= is_live;
+  }
+  return any_live != 0;
 }
 
 bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
   // The vectors with a term on the pattern: the others annihilate its rows
-  // term by term (has_live_term), for every prime.
+  // term by term (live_vectors), for every prime.
   thread_local std::vector<char> live;
-  live.assign(vector_count_, 0);
-  bool any_live = false;
-  for (std::size_t v = 0; v < vector_count_; ++v) any_live |= (live[v] = has_live_term(v, pattern) ? 1 : 0) != 0;
-  if (!any_live) return true;
+  if (!live_vectors(pattern, live)) return true;
   if (integer_) return integer_->annihilates(pattern, live);
   // This thread's factors for each prime, with the pattern they were
   // computed for (reset for another check).
