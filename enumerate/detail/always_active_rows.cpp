@@ -63,21 +63,65 @@ SparseVector scaling_direction(const Network& network, std::size_t n) {
   return mix_direction(network, k, n, n);  // mix(n, n): n's own weights in, minus its own out
 }
 
-// The independent scaling directions and, for each pivot column q in Q,
-// those that are nonzero at q (at most two: a forest's incidence matrix,
-// core/jacobian.hpp) with their values there.
+// The independent scaling directions (each written out only when a
+// generator needs it: a generator's scaling part is a few of them, and
+// writing all out, on 2,5,5,5,5,1 seed 1 twenty maps of rationals for four
+// generators, was a third of the generators' cost) and, for each pivot
+// column q in Q, those that are nonzero at q (at most two: a forest's
+// incidence matrix, core/jacobian.hpp) with their values there.
 struct ScalingPart {
-  std::vector<SparseVector> directions;
+  const Network& network;
+  std::vector<std::size_t> neurons;  // the independent ones (ReLU neuron indices)
   std::vector<std::size_t> pivots;
   std::vector<std::vector<std::pair<std::size_t, Rational>>> at_pivot;
+  std::vector<std::optional<SparseVector>> directions;  // of each neuron, once needed
+
+  ScalingPart(const Network& network_in, const ScalingStructure& structure);
+  const SparseVector& direction(std::size_t n) {
+    if (!directions[n]) directions[n] = scaling_direction(network, neurons[n]);
+    return *directions[n];
+  }
 };
+
+// Neuron n's scaling direction (mix(n, n)) is its incoming weights and bias
+// as they are and its outgoing weights negated: at W_k[i,j] neuron i of
+// layer k has W_k[i,j] and neuron j of layer k - 1 has -W_k[i,j], at b_k[i]
+// neuron i has b_k[i] (zeros left out, as scaling_direction does).
+ScalingPart::ScalingPart(const Network& network_in, const ScalingStructure& structure)
+    : network(network_in), neurons(structure.independent_neurons), pivots(structure.pivot_columns),
+      at_pivot(structure.pivot_columns.size()), directions(structure.independent_neurons.size()) {
+  const std::size_t depth = network.depth();
+  std::vector<std::size_t> first_neuron(depth, 0);  // of each hidden layer
+  for (std::size_t k = 1; k < depth; ++k) first_neuron[k] = first_neuron[k - 1] + network.layers[k - 1].width();
+  std::vector<std::size_t> place(first_neuron.back() + network.layers.back().width(), neurons.size());
+  for (std::size_t n = 0; n < neurons.size(); ++n) place[neurons[n]] = n;
+  auto add = [&](std::size_t e, std::size_t k, std::size_t i, const Rational& value) {
+    if (k + 1 < depth && value != 0 && place[first_neuron[k] + i] < neurons.size())
+      at_pivot[e].emplace_back(place[first_neuron[k] + i], value);
+  };
+  for (std::size_t e = 0; e < pivots.size(); ++e) {
+    std::size_t k = 0;
+    while (k + 1 < depth && pivots[e] >= network.parameter_offset(k + 1)) ++k;
+    const Layer& layer = network.layers[k];
+    const std::size_t offset = pivots[e] - network.parameter_offset(k), weights = layer.width() * layer.fan_in();
+    if (offset >= weights) {
+      add(e, k, offset - weights, layer.bias[offset - weights]);
+    } else {
+      const std::size_t i = offset / layer.fan_in(), j = offset % layer.fan_in();
+      add(e, k, i, layer.weights(i, j));
+      if (k > 0) add(e, k - 1, j, -layer.weights(i, j));
+    }
+    std::sort(at_pivot[e].begin(), at_pivot[e].end(),
+              [](const auto& a, const auto& b) { return a.first < b.first; });
+  }
+}
 
 // g minus the combination of the independent scaling directions that
 // equals g on the pivot columns Q: 0 there. Solved equation by equation,
 // each once it has one unknown left (leaf by leaf); nullopt when that
 // stalls.
-std::optional<SparseVector> without_scaling_part(const SparseVector& g, const ScalingPart& scaling) {
-  const std::size_t count = scaling.directions.size();
+std::optional<SparseVector> without_scaling_part(const SparseVector& g, ScalingPart& scaling) {
+  const std::size_t count = scaling.neurons.size();
   std::vector<std::optional<Rational>> amount(count);
   std::vector<char> is_done(scaling.pivots.size(), 0);
   for (std::size_t solved = 0; solved < count;) {
@@ -107,7 +151,7 @@ std::optional<SparseVector> without_scaling_part(const SparseVector& g, const Sc
   SparseVector out = g;
   for (std::size_t n = 0; n < count; ++n)
     if (*amount[n] != 0)
-      for (const auto& [c, value] : scaling.directions[n]) add_to(out, c, -*amount[n] * value);
+      for (const auto& [c, value] : scaling.direction(n)) add_to(out, c, -*amount[n] * value);
   for (std::size_t q : scaling.pivots)
     if (out.count(q)) return std::nullopt;
   return out;
@@ -146,14 +190,7 @@ AlwaysActiveGenerators::AlwaysActiveGenerators(const Network& network, const std
         if (a != b && generators.size() < max_generators) generators.push_back(mix_direction(network, k, a, b));
     }
   if (generators.empty()) return;
-  const ScalingStructure structure = scaling_structure(network);
-  ScalingPart scaling{{}, structure.pivot_columns, std::vector<std::vector<std::pair<std::size_t, Rational>>>(
-                                                        structure.pivot_columns.size())};
-  for (std::size_t n : structure.independent_neurons) scaling.directions.push_back(scaling_direction(network, n));
-  for (std::size_t e = 0; e < scaling.pivots.size(); ++e)
-    for (std::size_t n = 0; n < scaling.directions.size(); ++n)
-      if (const auto found = scaling.directions[n].find(scaling.pivots[e]); found != scaling.directions[n].end())
-        scaling.at_pivot[e].emplace_back(n, found->second);
+  ScalingPart scaling(network, scaling_structure(network));
   for (const SparseVector& g : generators) {
     poll_stop();
     if (std::optional<SparseVector> without = without_scaling_part(g, scaling)) reduced.push_back(std::move(*without));

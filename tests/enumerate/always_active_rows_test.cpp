@@ -7,6 +7,7 @@
 // one entry are never proved; and a network with no such neurons proves none.
 #include "enumerate/detail/always_active_rows.hpp"
 
+#include "core/jacobian.hpp"
 #include "core/random_network.hpp"
 #include "core/rank.hpp"
 #include "enumerate/domain.hpp"
@@ -112,6 +113,33 @@ TEST(AlwaysActiveRows, PlannedRowsFilledFromTheOthersEqualTheCertifiedRows) {
       if (!plan.fill(without)) return;  // reported
     }
   ADD_FAILURE() << "no row outside the plan is needed by its generators";
+}
+
+// Every shift and mix generator of the neurons on in every region keeps
+// its place (none is dropped for want of its scaling part), is 0 at the
+// scaling pivots and, less that part, still annihilates every smooth
+// region's rows.
+TEST(AlwaysActiveRows, EveryGeneratorLosesItsScalingPartAndAnnihilatesEveryRegion) {
+  const Network network = random_network({2, 15, 15, 15, 15, 1}, 1);
+  const Certified state = certified(network);
+  std::size_t expected = 0;
+  for (std::size_t k = 0, n = 0; k + 1 < network.depth(); ++k) {
+    std::size_t always_on = 0;
+    for (std::size_t i = 0; i < network.layers[k].width(); ++i, ++n)
+      always_on += std::all_of(state.smooth.begin(), state.smooth.end(),
+                               [&](const ActivationPattern& pattern) { return pattern.is_on(n); });
+    expected += always_on * always_on;  // a shift each, a mix for each ordered pair
+  }
+  ASSERT_GE(expected, 2u);
+  const AlwaysActiveGenerators generators(network, state.smooth);
+  ASSERT_EQ(generators.reduced().size(), std::min<std::size_t>(expected, 256));
+  SparseRationalRows rows{network.parametric_dimension(), {}};
+  for (const auto& generator : generators.reduced()) {
+    for (std::size_t q : scaling_structure(network).pivot_columns) EXPECT_EQ(generator.count(q), 0u) << q;
+    rows.rows.emplace_back(generator.begin(), generator.end());
+  }
+  const AnnihilationCheck check(network, rows, CheckScale(network));
+  for (const ActivationPattern& pattern : state.smooth) ASSERT_TRUE(check.annihilates(pattern));
 }
 
 TEST(AlwaysActiveRows, NoNeuronOnInEveryRegionProvesNothing) {
