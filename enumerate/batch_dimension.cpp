@@ -6,6 +6,7 @@
 #include "core/detail/flint_matrix.hpp"
 #include "enumerate/detail/check_basis.hpp"
 #include "enumerate/detail/kernel_check.hpp"
+#include "enumerate/detail/span_proof.hpp"
 
 #include <flint/nmod.h>
 
@@ -215,34 +216,51 @@ class BatchRanker {
     return exact_blocks(regions_[k / blocks_per_region_]).row(k % blocks_per_region_);
   }
 
-  // D - r independent vectors (identity on the columns outside `pivots`)
-  // that annihilate the kept rows K when the solve is right: with P the
-  // pivot columns, on which K (in the order kept) is nonsingular modulo p,
-  // hence over Q, the vector of a free column f is 1 at f, 0 at the other
-  // free columns and -K_P^-1 K_f at P. Not proved here: the caller checks
-  // that they annihilate every row, which bounds the rank by r. FLINT's
-  // exact solve (Dixon's p-adic lifting) takes 16 free columns at a time, so
-  // that a stop is polled every fraction of a second; nullopt when it fails.
+  // The kept rows K scaled to integer rows (the same span and kernel), the
+  // columns P on which they are nonsingular modulo p, hence over Q, and the
+  // free columns that some kept row involves (the kernel candidate's
+  // solves). No pivots when p loses rank (the caller's proof then fails).
+  struct KeptSystem {
+    std::vector<detail::IntegerRow> rows;
+    std::vector<std::size_t> pivots;
+    std::vector<std::size_t> free;    // the columns outside P
+    std::vector<std::size_t> solved;  // indices into free
+  };
+
   template <typename Row>
-  std::optional<RationalMatrix> kernel_candidate(const std::vector<bool>& kept, Row&& row) {
-    const std::size_t columns = network_.parametric_dimension();
-    std::vector<std::vector<Integer>> rows;  // K scaled to integer rows (the same kernel)
+  KeptSystem kept_system(const std::vector<bool>& kept, Row&& row) {
+    KeptSystem system;
     for (std::size_t k = 0; k < kept.size(); ++k)
-      if (kept[k]) rows.push_back(integer_row(row(k)));
-    const std::vector<std::size_t> pivots = rightmost_pivots(rows, modular_.prime);
-    if (pivots.size() != rows.size()) return std::nullopt;
-    const std::size_t rank = pivots.size();
-    std::vector<bool> is_pivot(columns, false);
-    for (std::size_t c : pivots) is_pivot[c] = true;
-    // Free columns where K is zero (parameters no kept row involves) have
-    // the unit vector itself, no solve.
-    std::vector<std::size_t> free, solved;
-    for (std::size_t c = 0; c < columns; ++c) {
-      if (is_pivot[c]) continue;
-      free.push_back(c);
-      if (std::any_of(rows.begin(), rows.end(), [&](const std::vector<Integer>& r) { return sgn(r[c]) != 0; }))
-        solved.push_back(free.size() - 1);
+      if (kept[k]) system.rows.push_back(integer_row(row(k)));
+    system.pivots = rightmost_pivots(system.rows, modular_.prime);
+    if (system.pivots.size() != system.rows.size()) {
+      system.pivots.clear();
+      return system;
     }
+    std::vector<bool> is_pivot(network_.parametric_dimension(), false);
+    for (std::size_t c : system.pivots) is_pivot[c] = true;
+    for (std::size_t c = 0; c < is_pivot.size(); ++c) {
+      if (is_pivot[c]) continue;
+      system.free.push_back(c);
+      const auto involves_c = [&](const detail::IntegerRow& r) { return sgn(r[c]) != 0; };
+      if (std::any_of(system.rows.begin(), system.rows.end(), involves_c))
+        system.solved.push_back(system.free.size() - 1);
+    }
+    return system;
+  }
+
+  // D - r independent vectors (identity on the free columns) that
+  // annihilate the kept rows K when the solve is right: the vector of a free
+  // column f is 1 at f, 0 at the other free columns and -K_P^-1 K_f at P
+  // (no solve where K_f is zero). Not proved here: the caller checks that
+  // they annihilate every row, which bounds the rank by r. The exact solve
+  // (detail::solve_square_exactly, polling the stop) takes 32 free columns
+  // at a time; nullopt when it fails.
+  std::optional<RationalMatrix> kernel_candidate(const KeptSystem& system) {
+    const std::size_t columns = network_.parametric_dimension();
+    const std::size_t rank = system.rows.size();
+    if (system.pivots.size() != rank) return std::nullopt;
+    const auto& [rows, pivots, free, solved] = system;
     detail::FmpzMatrix square(rank, rank);
     for (std::size_t i = 0; i < rank; ++i)
       for (std::size_t j = 0; j < rank; ++j) fmpz_set_mpz(square.entry(i, j), rows[i][pivots[j]].get_mpz_t());
@@ -258,11 +276,10 @@ class BatchRanker {
           fmpz_set_mpz(right.entry(i, j), rows[i][free[solved[first + j]]].get_mpz_t());
           fmpz_neg(right.entry(i, j), right.entry(i, j));
         }
-      detail::FmpqMatrix solution(rank, width);
-      if (!fmpq_mat_solve_fmpz_mat_dixon(solution.get(), square.get(), right.get())) return std::nullopt;
+      const std::optional<RationalMatrix> solution = detail::solve_square_exactly(square.get(), right.get());
+      if (!solution) return std::nullopt;
       for (std::size_t j = 0; j < width; ++j)
-        for (std::size_t p = 0; p < rank; ++p)
-          fmpq_get_mpq(kernel(solved[first + j], pivots[p]).get_mpq_t(), solution.entry(p, j));
+        for (std::size_t p = 0; p < rank; ++p) kernel(solved[first + j], pivots[p]) = (*solution)(p, j);
     }
     return kernel;
   }
@@ -290,29 +307,69 @@ class BatchRanker {
     return !rejected;
   }
 
-  // The regions' rank is the kept rows' count when D - r independent
-  // vectors (kernel_candidate) annihilate every region's blocks; when they
-  // do not (an unlucky prime: a row independent over Q but not modulo p),
-  // rank_exact of every block row.
+  // Whether proving every row the basis did not keep a combination of the
+  // kept ones is cheaper than the kernel candidate: both are exact solves
+  // of K_P's system, one right-hand side per dependent row against one per
+  // solved free column (measured, 2,15,15,15,1: the check after the kernel
+  // costs little beside them). With few points per region few rows are
+  // dependent.
+  static bool span_proof_is_cheaper(const std::vector<bool>& kept, const KeptSystem& system) {
+    return kept.size() - system.rows.size() < system.solved.size();
+  }
+
+  // The kept rows' count is the rank when every other row is in their span
+  // (detail::rows_in_span, exact); false when one is not (an unlucky prime).
+  template <typename Row>
+  bool others_in_span(const std::vector<bool>& kept, const KeptSystem& system, Row&& row, const char* phase) {
+    if (system.pivots.size() != system.rows.size()) return false;
+    std::vector<detail::IntegerRow> others;
+    for (std::size_t k = 0; k < kept.size(); ++k)
+      if (!kept[k]) others.push_back(integer_row(row(k)));
+    return detail::rows_in_span(system.rows, system.pivots, others, [&](std::size_t done, std::size_t total) {
+      if (on_progress_) on_progress_(phase, done, total);
+    });
+  }
+
+  // The regions' rank is the kept rows' count when the other rows are in
+  // their span, or the kernel candidate annihilates every region's blocks,
+  // whichever is cheaper; when not (an unlucky prime: a row independent over
+  // Q but not modulo p), rank_exact of every block row.
   void prove_regions(RankBounds& bounds) {
     if (bounds.is_exact()) return;
     const auto row = [this](std::size_t k) { return region_row(k); };
-    const auto kernel = kernel_candidate(region_kept_, row);
-    std::vector<ActivationPattern> patterns;
-    for (const TouchedRegion& region : regions_) patterns.push_back(region.pattern);
-    if (kernel && annihilates_blocks(*kernel, patterns, "regions"))
+    const KeptSystem system = kept_system(region_kept_, row);
+    bool is_proved = false;
+    if (span_proof_is_cheaper(region_kept_, system)) {
+      is_proved = others_in_span(region_kept_, system, row, "regions");
+    } else {
+      const auto kernel = kernel_candidate(system);
+      std::vector<ActivationPattern> patterns;
+      for (const TouchedRegion& region : regions_) patterns.push_back(region.pattern);
+      is_proved = kernel && annihilates_blocks(*kernel, patterns, "regions");
+    }
+    if (is_proved)
       bounds.upper = bounds.lower;
     else
       bounds.lower = bounds.upper = rank_of_every_row(region_kept_.size(), row);
   }
 
-  // The same for the chosen points' rows: in a region whose chosen points'
-  // x~ span Q^(n0+1) their rows span its blocks, so the blocks are checked
-  // (certify's check); in the others each chosen row is checked exactly.
+  // The same for the chosen points' rows (every point's rows are in their
+  // span: J(x) is linear in x~ within a region). With kernel vectors: in a
+  // region whose chosen points' x~ span Q^(n0+1) their rows span its
+  // blocks, so the blocks are checked (certify's check); in the others each
+  // chosen row is checked exactly.
   void prove_batch(RankBounds& bounds) {
     if (bounds.is_exact()) return;
     const auto row = [this](std::size_t k) { return batch_row(k); };
-    const auto kernel = kernel_candidate(batch_kept_, row);
+    const KeptSystem system = kept_system(batch_kept_, row);
+    if (span_proof_is_cheaper(batch_kept_, system)) {
+      if (others_in_span(batch_kept_, system, row, "batch"))
+        bounds.upper = bounds.lower;
+      else
+        bounds.lower = bounds.upper = rank_of_every_row(batch_kept_.size(), row);
+      return;
+    }
+    const auto kernel = kernel_candidate(system);
     bool is_proved = kernel.has_value();
     if (is_proved) {
       std::vector<ActivationPattern> spanned;

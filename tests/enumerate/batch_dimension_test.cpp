@@ -69,10 +69,12 @@ struct Case {
 };
 
 // Few points (most regions hold one or two: their rows are checked one by
-// one) and many (regions spanned: their blocks are checked), one and two
-// outputs, 1 to 3 inputs.
-const std::vector<Case> cases = {{{2, 6, 5, 1}, 1, 12}, {{2, 6, 5, 1}, 1, 300}, {{1, 5, 4, 1}, 2, 40},
-                                 {{3, 5, 4, 2}, 3, 25}, {{3, 5, 4, 2}, 3, 200}, {{2, 4, 4, 4, 1}, 4, 150}};
+// one, or, fewer rows being dependent than the kernel has vectors, each
+// dependent row is proved a combination of the kept ones) and many (regions
+// spanned: their blocks are checked), one and two outputs, 1 to 3 inputs.
+const std::vector<Case> cases = {{{2, 6, 5, 1}, 1, 12},  {{2, 6, 5, 1}, 1, 300}, {{1, 5, 4, 1}, 2, 40},
+                                 {{3, 5, 4, 2}, 3, 25},  {{3, 5, 4, 2}, 3, 200}, {{2, 4, 4, 4, 1}, 4, 150},
+                                 {{2, 8, 8, 1}, 5, 40},  {{2, 8, 8, 2}, 6, 60}};
 
 TEST(BatchDimension, EqualsTheRanksOfTheStackedRows) {
   for (const Case& c : cases) {

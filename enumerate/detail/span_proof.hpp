@@ -1,0 +1,48 @@
+// An exact proof that integer rows lie in the row space of other integer
+// rows, for the batch rank (enumerate/batch_dimension.cpp): there the rank
+// r of a stack is first read modulo a prime (a proved lower bound, with the
+// rows that reached it "kept"), and every other row in the span of the kept
+// ones proves the upper bound. Internal to enumerate/ (not installed).
+#pragma once
+
+#include "core/matrix.hpp"
+#include "core/rational.hpp"
+
+#include <gmp.h>
+// FLINT after GMP so that its mpz conversion functions are declared.
+#include <flint/fmpz_mat.h>
+
+#include <cstddef>
+#include <functional>
+#include <optional>
+#include <vector>
+
+namespace pleat::detail {
+
+using IntegerRow = std::vector<Integer>;
+
+// X with A X = B over Q (A square and nonsingular, integers): the p-adic
+// solve of padic_solve.hpp (it accepts a column once its candidate solves
+// the system modulo a second prime; 2-3 times faster than FLINT's Dixon
+// solve on the batch ranks of a 2,15,15,15,1 network), else FLINT's.
+// Not proved: callers check the result exactly. nullopt when A is
+// singular. Polls the current StopScope.
+std::optional<RationalMatrix> solve_square_exactly(const fmpz_mat_struct* a, const fmpz_mat_struct* b);
+
+// Whether every row of `others` is a rational combination of the rows of
+// `kept`. Preconditions: all rows have the same length; `pivots` are
+// kept.size() distinct columns on which the kept rows form a matrix K_P that
+// is nonsingular (e.g. modulo a prime, hence over Q). Solves Y K_P = R_P for
+// the others' coefficients Y (solve_square_exactly), `chunk` rows at a
+// time, polling the current StopScope (Stopped propagates), then checks
+// Y K = R on every column in integer arithmetic.
+// True only when that exact check holds for every row: a proof. False when
+// a row is not in the span (or the solve fails). `on_chunk(done, total)`,
+// when given, hears before each chunk how many of the others are proved (a
+// stop it requests is honoured before the chunk).
+using SpanProgress = std::function<void(std::size_t done, std::size_t total)>;
+bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots,
+                  const std::vector<IntegerRow>& others, const SpanProgress& on_chunk = {},
+                  std::size_t chunk = 32);
+
+}  // namespace pleat::detail

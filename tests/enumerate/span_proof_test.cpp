@@ -1,0 +1,111 @@
+// detail::rows_in_span (enumerate/detail/span_proof.hpp): rows built as
+// rational combinations of kept rows are proved in their span; a row
+// altered in one entry, on a pivot column or off it (where the solve does
+// not look, only the exact check), in any chunk, is refused.
+#include "enumerate/detail/span_proof.hpp"
+
+#include "core/stop.hpp"
+
+#include <gtest/gtest.h>
+
+#include <atomic>
+#include <random>
+
+namespace pleat::detail {
+namespace {
+
+constexpr std::size_t columns = 12;
+
+// Integers of about 100 bits, so that the solve lifts several p-adic digits.
+Integer large_integer(std::mt19937_64& random) {
+  Integer value = static_cast<long>(random() % 2001) - 1000;
+  value *= Integer(1) << 90;
+  value += static_cast<unsigned long>(random() % 1000003);
+  return value;
+}
+
+std::vector<IntegerRow> kept_rows(std::mt19937_64& random, std::size_t count) {
+  std::vector<IntegerRow> rows(count, IntegerRow(columns));
+  for (IntegerRow& row : rows)
+    for (Integer& value : row) value = large_integer(random);
+  return rows;
+}
+
+// Rows sum_i c_i kept[i] with small integer c_i; the caller then scales the
+// kept rows by 7, so that the coefficients become c_i / 7 (not integers).
+std::vector<IntegerRow> combinations(std::mt19937_64& random, const std::vector<IntegerRow>& kept, std::size_t count) {
+  std::vector<IntegerRow> rows(count, IntegerRow(columns));
+  for (IntegerRow& row : rows)
+    for (const IntegerRow& source : kept) {
+      const long coefficient = static_cast<long>(random() % 11) - 5;
+      for (std::size_t c = 0; c < columns; ++c) row[c] += coefficient * source[c];
+    }
+  return rows;
+}
+
+std::vector<IntegerRow> times_seven(std::vector<IntegerRow> rows) {
+  for (IntegerRow& row : rows)
+    for (Integer& value : row) value *= 7;
+  return rows;
+}
+
+// The first kept.size() columns: nonsingular for random kept rows (checked
+// by the true cases below, which would fail otherwise).
+std::vector<std::size_t> leading_pivots(std::size_t count) {
+  std::vector<std::size_t> pivots;
+  for (std::size_t c = 0; c < count; ++c) pivots.push_back(c);
+  return pivots;
+}
+
+TEST(SpanProof, CombinationsOfTheKeptRowsAreInTheirSpan) {
+  std::mt19937_64 random(1);
+  const std::vector<IntegerRow> base = kept_rows(random, 5);
+  const std::vector<IntegerRow> others = combinations(random, base, 9);
+  const std::vector<IntegerRow> kept = times_seven(base);
+  EXPECT_TRUE(rows_in_span(kept, leading_pivots(5), others));
+  EXPECT_TRUE(rows_in_span(kept, leading_pivots(5), others, {}, 2));  // five chunks
+  EXPECT_TRUE(rows_in_span(kept, leading_pivots(5), {}));
+}
+
+TEST(SpanProof, ARowAlteredInOneEntryIsRefused) {
+  std::mt19937_64 random(2);
+  const std::vector<IntegerRow> base = kept_rows(random, 5);
+  const std::vector<IntegerRow> others = combinations(random, base, 7);
+  const std::vector<IntegerRow> kept = times_seven(base);
+  for (std::size_t row : {0u, 6u})
+    for (std::size_t column : {1u, 4u, 5u, 11u}) {  // pivot columns 1 and 4; 5 and 11 are checked only exactly
+      std::vector<IntegerRow> altered = others;
+      altered[row][column] += 1;
+      SCOPED_TRACE("row " + std::to_string(row) + ", column " + std::to_string(column));
+      EXPECT_FALSE(rows_in_span(kept, leading_pivots(5), altered));
+      EXPECT_FALSE(rows_in_span(kept, leading_pivots(5), altered, {}, 3));  // in the first or the last chunk
+    }
+}
+
+TEST(SpanProof, WithoutKeptRowsOnlyZeroRowsAreInTheSpan) {
+  const std::vector<IntegerRow> zero(2, IntegerRow(columns));
+  EXPECT_TRUE(rows_in_span({}, {}, zero));
+  std::vector<IntegerRow> one = zero;
+  one[1][7] = 1;
+  EXPECT_FALSE(rows_in_span({}, {}, one));
+}
+
+TEST(SpanProof, ProgressCountsTheRowsProvedAndAStopIsHonouredBetweenChunks) {
+  std::mt19937_64 random(3);
+  const std::vector<IntegerRow> kept = kept_rows(random, 4);
+  const std::vector<IntegerRow> others = combinations(random, kept, 10);
+  std::vector<std::size_t> done;
+  EXPECT_TRUE(rows_in_span(kept, leading_pivots(4), others, [&](std::size_t now, std::size_t total) {
+    EXPECT_EQ(total, 10u);
+    done.push_back(now);
+  }, 4));
+  EXPECT_EQ(done, (std::vector<std::size_t>{0, 4, 8}));
+  std::atomic<bool> interrupt{false};
+  const StopRequest request(&interrupt, 0);
+  const StopScope scope(request);
+  EXPECT_THROW(rows_in_span(kept, leading_pivots(4), others, [&](std::size_t, std::size_t) { interrupt = true; }, 4),
+               Stopped);
+}
+
+}  // namespace
+}  // namespace pleat::detail
