@@ -67,13 +67,13 @@ class InterruptTest(unittest.TestCase):
     def test_certify_at_points_returns_bounds(self):
         # The batch stage (certify(points=...)) polls the stop too: it was deaf
         # to Ctrl-C and to time_limit, which now covers the batch stage and
-        # the walk after it. 300 points on 2,15,15,15,1 fall in ~130 regions,
-        # most of them holding too few points to span them: their exact
-        # proof takes ~10 s (a wide margin above the stops at 1 s).
-        net = random_network("2,15,15,15,1", 1)
+        # the walk after it. 1000 points on 2,15,15,15,15,1: their exact
+        # proof takes ~24 s (a wide margin above the stops at 1 s; 300 points
+        # on 2,15,15,15,1 took ~10 s until the span proof took 0.6 s).
+        net = random_network("2,15,15,15,15,1", 1)
         box = [[-2.5, 2.5], [-2.5, 2.5]]
         rng = random.Random(5)
-        points = [[rng.uniform(-2, 2), rng.uniform(-2, 2)] for _ in range(300)]
+        points = [[rng.uniform(-2, 2), rng.uniform(-2, 2)] for _ in range(1000)]
         for stop in ("time-limit", "interrupted"):
             started = time.monotonic()
             if stop == "interrupted":
