@@ -108,7 +108,14 @@ std::optional<RationalMatrix> RationalReconstruction::reconstruct() const {
 
 std::uint64_t prime_sequence(std::size_t index) {
   static std::mutex mutex;
-  static std::vector<std::uint64_t> primes;
+  // The first 16 written out (tests/core/rank_test.cpp checks them against
+  // n_nextprime): a certify run's lift and check take a few, and each
+  // n_nextprime near 2^62 cost microseconds.
+  static std::vector<std::uint64_t> primes = {
+      4611686014132420697u, 4611686014132420771u, 4611686014132420777u, 4611686014132420801u,
+      4611686014132420819u, 4611686014132420841u, 4611686014132420859u, 4611686014132420897u,
+      4611686014132420907u, 4611686014132420991u, 4611686014132420999u, 4611686014132421009u,
+      4611686014132421017u, 4611686014132421143u, 4611686014132421171u, 4611686014132421221u};
   const std::lock_guard lock(mutex);
   while (primes.size() <= index) primes.push_back(n_nextprime(primes.empty() ? primary_prime() : primes.back(), 1));
   return primes[index];

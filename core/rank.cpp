@@ -325,15 +325,13 @@ RationalMatrix kernel_basis_exact(const RationalMatrix& matrix) {
 
 // ---- Primes and reduction modulo p ------------------------------------------
 
-std::uint64_t primary_prime() {
-  static const std::uint64_t prime = n_nextprime((std::uint64_t{1} << 62) - (std::uint64_t{1} << 32), 1);
-  return prime;
-}
+// n_nextprime((1 << 62) - (1 << 32)) and n_nextprime((1 << 61) - (1 << 32)),
+// written out (tests/core/rank_test.cpp checks both): finding the first
+// cost every certify run about 15 us before its walk, most of it the first
+// touch of FLINT's primality code.
+std::uint64_t primary_prime() { return 4611686014132420667u; }
 
-std::uint64_t screening_prime() {
-  static const std::uint64_t prime = n_nextprime((std::uint64_t{1} << 61) - (std::uint64_t{1} << 32), 1);
-  return prime;
-}
+std::uint64_t screening_prime() { return 2305843004918726671u; }
 
 std::uint64_t next_prime_after(std::uint64_t after) {
   if (after >= largest_supported_prime_bound - 1000)

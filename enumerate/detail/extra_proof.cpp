@@ -8,51 +8,62 @@
 #include "enumerate/detail/always_active_rows.hpp"
 #include "enumerate/detail/parallel_for.hpp"
 
-#include <flint/fmpq.h>
-#include <flint/fmpz.h>
-
 #include <algorithm>
+#include <cstdint>
+#include <numeric>
 #include <optional>
 #include <utility>
 #include <vector>
 
 namespace pleat::detail {
+
+std::optional<std::pair<std::int64_t, std::uint64_t>> small_fraction_modulo(std::uint64_t residue,
+                                                                            std::uint64_t prime) {
+  // The extended Euclidean algorithm on (prime, residue) keeps r_i = t_i
+  // residue modulo prime, |t_(i+1)| <= prime / r_i < 2^39 while r_i > 2^24;
+  // the first r_i <= 2^24 with its t_i is the fraction when there is one
+  // (rational reconstruction: with 2 N D = 2^49 < prime it is unique).
+  constexpr std::uint64_t bound = std::uint64_t{1} << 24;
+  std::uint64_t r0 = prime, r1 = residue % prime;
+  std::int64_t t0 = 0, t1 = 1;
+  while (r1 > bound) {
+    const std::uint64_t q = r0 / r1;
+    const std::uint64_t r2 = r0 - q * r1;
+    const std::int64_t t2 = t0 - static_cast<std::int64_t>(q) * t1;
+    r0 = r1;
+    r1 = r2;
+    t0 = t1;
+    t1 = t2;
+  }
+  const std::uint64_t d = t1 < 0 ? static_cast<std::uint64_t>(-t1) : static_cast<std::uint64_t>(t1);
+  if (d == 0 || d > bound || std::gcd(r1, d) != 1) return std::nullopt;
+  const auto n = static_cast<std::int64_t>(r1);
+  return std::make_pair(t1 < 0 ? -n : n, d);
+}
+
 namespace {
 
 using SparseRow = SparseRationalRows::Row;
 
 // Rows of the image modulo p whose every entry is a fraction with numerator
-// and denominator below 2^24 in absolute value (rational reconstruction with
-// those bounds); nullopt for the others. A random residue passes that test
-// with probability about 2^-14, so a row that passes by chance is rare, and
-// the exact check catches it. Not proved. Rows on up to `threads` threads.
+// and denominator at most 2^24 in absolute value (small_fraction_modulo);
+// nullopt for the others. A random residue passes that test with
+// probability about 2^-14, so a row that passes by chance is rare, and the
+// exact check catches it. Not proved. Rows on up to `threads` threads.
 std::vector<std::optional<SparseRow>> small_rows_from_one_prime(const SparseModularRows& image, std::uint64_t prime,
                                                                 unsigned threads) {
   std::vector<std::optional<SparseRow>> rows(image.rows.size());
   parallel_for(image.rows.size(), threads, [&](std::size_t r) {
     poll_stop();
-    fmpz_t residue, modulus, bound;
-    fmpq_t value;
-    fmpz_init(residue);
-    fmpz_init_set_ui(modulus, prime);
-    fmpz_init_set_ui(bound, std::uint64_t{1} << 24);
-    fmpq_init(value);
     SparseRow row;
-    bool is_small = true;
-    for (std::size_t e = 0; e < image.rows[r].size() && is_small; ++e) {
-      const auto [c, entry] = image.rows[r][e];
-      fmpz_set_ui(residue, entry);
-      is_small = fmpq_reconstruct_fmpz_2(value, residue, modulus, bound, bound) != 0;
-      if (is_small) {
-        row.emplace_back(c, Rational());
-        fmpq_get_mpq(row.back().second.get_mpq_t(), value);
-      }
+    for (const auto& [c, entry] : image.rows[r]) {
+      const std::optional<std::pair<std::int64_t, std::uint64_t>> fraction = small_fraction_modulo(entry, prime);
+      if (!fraction) return;
+      Rational& value = row.emplace_back(c, Rational()).second;
+      mpz_set_si(value.get_num_mpz_t(), fraction->first);
+      mpz_set_ui(value.get_den_mpz_t(), fraction->second);  // in lowest terms, positive
     }
-    if (is_small) rows[r] = std::move(row);
-    fmpq_clear(value);
-    fmpz_clear(bound);
-    fmpz_clear(modulus);
-    fmpz_clear(residue);
+    rows[r] = std::move(row);
   });
   return rows;
 }

@@ -26,6 +26,7 @@
 #include <cstdint>
 #include <functional>
 #include <optional>
+#include <utility>
 #include <vector>
 
 namespace pleat::detail {
@@ -148,6 +149,14 @@ std::optional<std::vector<SparseRationalRows::Row>> lift_rows_multimodular(
     const Network& network, const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,
     const SparseModularRows& image, const std::vector<std::size_t>& rows, const std::vector<std::size_t>& leading,
     std::size_t sparse_limit, unsigned threads, const CheckScale* check_scale = nullptr);
+
+// The fraction n / d with |n| <= 2^24, 0 < d <= 2^24 and gcd(n, d) = 1
+// that is `residue` modulo `prime` (prime > 2^49: there is at most one), or
+// nullopt: what FLINT's fmpq_reconstruct_fmpz_2 gives with those bounds, in
+// word arithmetic (it took a multi-precision path per entry of E modulo the
+// walk's prime). Exact.
+std::optional<std::pair<std::int64_t, std::uint64_t>> small_fraction_modulo(std::uint64_t residue,
+                                                                            std::uint64_t prime);
 
 // Whether E vanishes at the columns Q and is in reduced row-echelon form
 // with leading 1s: then S u E is independent whenever S restricted to Q is

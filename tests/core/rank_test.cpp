@@ -4,6 +4,7 @@
 #include "core/rank.hpp"
 #include "core/stop.hpp"
 
+#include <flint/ulong_extras.h>
 #include <gtest/gtest.h>
 
 #include <algorithm>
@@ -219,6 +220,11 @@ TEST(ReduceModulo, InvertsDenominatorsAndReportsDivisibleOnes) {
 TEST(Primes, WordSizeDistinctAndPrime) {
   const std::uint64_t p = primary_prime();
   const std::uint64_t q = screening_prime();
+  // The primes written out in core/: the first above their starting points, and the sequence after p.
+  EXPECT_EQ(p, n_nextprime((std::uint64_t{1} << 62) - (std::uint64_t{1} << 32), 1));
+  EXPECT_EQ(q, n_nextprime((std::uint64_t{1} << 61) - (std::uint64_t{1} << 32), 1));
+  for (std::uint64_t i = 0, before = p; i < 24; before = prime_sequence(i), ++i)
+    EXPECT_EQ(prime_sequence(i), n_nextprime(before, 1)) << i;
   EXPECT_GT(p, (std::uint64_t{1} << 62) - (std::uint64_t{1} << 32));
   EXPECT_LT(p, std::uint64_t{1} << 62);
   EXPECT_GT(q, (std::uint64_t{1} << 61) - (std::uint64_t{1} << 32));

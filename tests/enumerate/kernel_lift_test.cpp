@@ -17,6 +17,8 @@
 #include "enumerate/functional_dimension.hpp"
 #include "enumerate/walker.hpp"
 
+#include <flint/fmpq.h>
+#include <flint/fmpz.h>
 #include <gtest/gtest.h>
 
 #include <algorithm>
@@ -732,6 +734,51 @@ TEST(KernelCheck, StatesBeforeIsTheStatesLexicographicOrder) {
   for (const ActivationPattern& a : patterns)
     for (const ActivationPattern& b : patterns)
       EXPECT_EQ(detail::states_before(a, b), a.states < b.states) << a.states.size() << " " << b.states.size();
+}
+
+// The word-size read-off of E's small entries gives exactly what FLINT's
+// fmpq_reconstruct_fmpz_2 gives with bounds 2^24 both ways: on residues of
+// fractions at and just beyond the bounds, small integers of both signs,
+// 0, p - 1 and random residues (most of which have no such fraction).
+TEST(KernelLift, SmallFractionModuloEqualsFlintsReconstruction) {
+  const std::uint64_t prime = primary_prime();
+  const std::int64_t bound = std::int64_t{1} << 24;
+  std::vector<std::uint64_t> residues = {0, 1, 2, prime - 1, prime - 2, static_cast<std::uint64_t>(bound),
+                                         static_cast<std::uint64_t>(bound) + 1, prime - static_cast<std::uint64_t>(bound),
+                                         prime - static_cast<std::uint64_t>(bound) - 1};
+  std::mt19937_64 random(7);
+  auto residue_of = [&](std::int64_t n, std::int64_t d) { return *reduce_modulo(Rational(Integer(n), Integer(d)), prime); };
+  for (std::int64_t n : {std::int64_t{0}, std::int64_t{1}, -std::int64_t{1}, bound, -bound, bound + 1, -bound - 1, bound - 1})
+    for (std::int64_t d : {std::int64_t{1}, std::int64_t{2}, std::int64_t{3}, bound, bound + 1, bound - 1})
+      residues.push_back(residue_of(n, d));
+  for (int i = 0; i < 20000; ++i) {
+    const auto n = static_cast<std::int64_t>(random() % (2 * static_cast<std::uint64_t>(bound) + 5)) - bound - 2;
+    const auto d = static_cast<std::int64_t>(random() % (static_cast<std::uint64_t>(bound) + 3)) + 1;
+    residues.push_back(residue_of(n, d));
+    residues.push_back(random() % prime);
+  }
+  fmpz_t residue, modulus, limit;
+  fmpq_t value;
+  fmpz_init(residue);
+  fmpz_init_set_ui(modulus, prime);
+  fmpz_init_set_ui(limit, static_cast<std::uint64_t>(bound));
+  fmpq_init(value);
+  std::size_t found = 0;
+  for (std::uint64_t r : residues) {
+    fmpz_set_ui(residue, r);
+    const bool flint = fmpq_reconstruct_fmpz_2(value, residue, modulus, limit, limit) != 0;
+    const auto ours = detail::small_fraction_modulo(r, prime);
+    ASSERT_EQ(ours.has_value(), flint) << r;
+    if (!flint) continue;
+    ++found;
+    EXPECT_EQ(fmpz_get_si(fmpq_numref(value)), ours->first) << r;
+    EXPECT_EQ(fmpz_get_ui(fmpq_denref(value)), ours->second) << r;
+  }
+  fmpq_clear(value);
+  fmpz_clear(limit);
+  fmpz_clear(modulus);
+  fmpz_clear(residue);
+  EXPECT_GT(found, 20000u);  // the fractions' residues, most of them within the bounds
 }
 
 }  // namespace
