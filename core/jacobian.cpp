@@ -415,7 +415,11 @@ std::optional<ModularNetwork> reduce_modulo(const Network& network, std::uint64_
 }
 
 ModularNetwork reduce_modulo_some_prime(const Network& network, std::uint64_t preferred_prime) {
-  std::uint64_t prime = n_is_prime(preferred_prime) ? preferred_prime : next_prime_after(preferred_prime);
+  // The walk's prime is known prime (tests/core/rank_test.cpp): no
+  // primality test for it, whose first call in a process cost certify about
+  // 15 us before its walk (FLINT's BPSW code paged in).
+  const bool is_prime = preferred_prime == primary_prime() || n_is_prime(preferred_prime);
+  std::uint64_t prime = is_prime ? preferred_prime : next_prime_after(preferred_prime);
   // Each denominator has finitely many prime factors, so this ends quickly.
   while (true) {
     if (auto reduced = reduce_modulo(network, prime)) return std::move(*reduced);

@@ -378,13 +378,16 @@ TEST(KernelCheck, TheScaleClearsEveryEntrysDenominatorAndTheBoundsHold) {
 // the network of |theta| with every neuron on (coefficient_blocks, exact
 // rationals), times L^(d-1): computed from the layers' factors in integers,
 // the same numbers, on networks with one and two outputs, a ReLU on the
-// output, decimal and sevenths' denominators and depth one.
+// output, decimal and sevenths' denominators and depth one; in 128-bit
+// words where every value stays below 2^127 and in GMP integers where one
+// does not (weights scaled by 10^-30: L^2 alone is about 2^206).
 TEST(KernelCheck, TheBoundsAreTheLargestEntriesOfTheAbsoluteNetworksBlocks) {
   Network relu_output = random_network({3, 4, 2}, 5);
   relu_output.layers.back().activation = Activation::relu;
   for (const Network& network : {random_network({2, 4, 3, 1}, 11), random_network({2, 3, 3, 2}, 14),
                                  random_network({3, 5, 1}, 3), random_network({2, 1}, 8), relu_output,
-                                 scaled_degenerate()}) {
+                                 random_network({2, 5, 5, 5, 5, 1}, 1), scaled_degenerate(),
+                                 scaled_degenerate("1000000000000000000000000000000")}) {
     Network absolute = network;
     for (Layer& layer : absolute.layers) {
       for (std::size_t r = 0; r < layer.weights.rows(); ++r)
