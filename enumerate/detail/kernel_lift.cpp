@@ -60,6 +60,7 @@ struct RowLift {
 // entry (r, c) is values(r, place[c]). Not r x D: that buffer, zeroed and
 // mostly unused, cost as much as filling it (3 MB per prime on
 // 2,15,15,15,15,1).
+// Or the walk's own residues of the kept rows (D each), read in place.
 struct KeptRowsAt {
   // rank rows of zeros at the columns `wanted` marks.
   KeptRowsAt(std::size_t rank, const std::vector<char>& wanted) : place(wanted.size(), 0) {
@@ -68,9 +69,16 @@ struct KeptRowsAt {
       if (wanted[c]) place[c] = count++;
     values = ModularMatrix(rank, count);
   }
+  // The walk's residues of every kept row, in place.
+  explicit KeptRowsAt(const std::vector<KeptRows>& kept) {
+    for (const KeptRows& region : kept)
+      for (const ModularVector& residues : region.residues) full.push_back(residues.data());
+  }
   ModularMatrix values;
   std::vector<std::size_t> place;  // of each wanted column among the wanted ones
-  std::uint64_t at(std::size_t r, std::size_t c) const { return values(r, place[c]); }
+  std::vector<const std::uint64_t*> full;  // the walk's residues, when read in place (values then empty)
+  std::size_t rows() const { return full.empty() ? values.rows() : full.size(); }
+  std::uint64_t at(std::size_t r, std::size_t c) const { return full.empty() ? values(r, place[c]) : full[r][c]; }
 };
 
 // The kept rows modulo the network's prime at the columns `columns_needed`
@@ -100,23 +108,15 @@ KeptRowsAt kept_rows_modulo(const ModularNetwork& network, const std::vector<Kep
 }
 
 // The kept rows modulo the walk's prime at the columns `wanted` marks: the
-// residues the walk kept when every region has them, else computed
+// residues the walk kept, read in place, when every region has them (a
+// copy of the rank x |wanted| entries there cost a cache miss each, and
+// the equations' choice reads only the rows it needs), else computed
 // (kept_rows_modulo).
 KeptRowsAt kept_rows_at(const ModularNetwork& walk_network, const std::vector<KeptRows>& kept, std::size_t rank,
                         unsigned threads, const std::vector<char>& wanted) {
   if (!std::all_of(kept.begin(), kept.end(), [](const KeptRows& k) { return k.residues.size() == k.rows.size(); }))
     return kept_rows_modulo(walk_network, kept, rank, threads, nullptr, wanted);
-  KeptRowsAt out(rank, wanted);
-  std::vector<std::size_t> marked;
-  for (std::size_t c = 0; c < wanted.size(); ++c)
-    if (wanted[c]) marked.push_back(c);
-  std::size_t r = 0;
-  for (const KeptRows& region : kept)
-    for (const ModularVector& residues : region.residues) {
-      for (std::size_t q = 0; q < marked.size(); ++q) out.values(r, q) = residues[marked[q]];
-      ++r;
-    }
-  return out;
+  return KeptRowsAt(kept);
 }
 
 // |columns| rows of `rows` (residues modulo p) independent on those columns:
@@ -130,7 +130,7 @@ std::optional<std::vector<std::size_t>> independent_rows(const KeptRowsAt& rows,
   ModularRowBasis chosen_rows(prime, columns.size());
   std::vector<std::size_t> chosen;
   ModularVector restricted(columns.size());
-  for (std::size_t r = 0; r < rows.values.rows() && chosen.size() < columns.size(); ++r) {
+  for (std::size_t r = 0; r < rows.rows() && chosen.size() < columns.size(); ++r) {
     if (r % 64 == 0) poll_stop();
     bool is_zero = true;
     for (std::size_t q = 0; q < columns.size(); ++q) {
