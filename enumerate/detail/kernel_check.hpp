@@ -254,7 +254,8 @@ std::vector<char> live_on_some_pattern(const Network& network, const SparseRatio
 // pass. The patterns are taken in lexicographic order of their states, in
 // runs per thread, so that consecutive ones share their first layers'
 // inputs. Sets stopped (and returns nullopt) when the stop request fires;
-// progress(done, total) is called from the calling thread, about 64 times.
+// progress(done, total) is called from the calling thread, about 64 times
+// (at most every 16 patterns, and at the last).
 [[nodiscard]]
 std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,
                                                   const std::vector<ActivationPattern>& patterns, unsigned threads,
