@@ -18,10 +18,13 @@ bool is_proportional_row(const Layer& layer, std::size_t a, std::size_t b) {
   auto entry = [&](std::size_t row, std::size_t c) -> const Rational& {
     return c < fan_in ? layer.weights(row, c) : layer.bias[row];
   };
+  // A positive lambda keeps every sign, and a sign costs no division: on
+  // random weights most pairs differ in sign within two entries.
+  for (std::size_t c = 0; c <= fan_in; ++c)
+    if (sgn(entry(a, c)) != sgn(entry(b, c))) return false;
   std::optional<Rational> lambda;
   for (std::size_t c = 0; c <= fan_in; ++c) {
     const Rational &x = entry(a, c), &y = entry(b, c);
-    if ((x == 0) != (y == 0)) return false;
     if (x == 0) continue;
     const Rational ratio = x / y;
     if (lambda && *lambda != ratio) return false;
