@@ -69,12 +69,13 @@ struct Case {
 };
 
 // Few points (most regions hold one or two: their rows are checked one by
-// one, or, fewer rows being dependent than the kernel has vectors, each
-// dependent row is proved a combination of the kept ones) and many (regions
-// spanned: their blocks are checked), one and two outputs, 1 to 3 inputs.
-const std::vector<Case> cases = {{{2, 6, 5, 1}, 1, 12},  {{2, 6, 5, 1}, 1, 300}, {{1, 5, 4, 1}, 2, 40},
-                                 {{3, 5, 4, 2}, 3, 25},  {{3, 5, 4, 2}, 3, 200}, {{2, 4, 4, 4, 1}, 4, 150},
-                                 {{2, 8, 8, 1}, 5, 40},  {{2, 8, 8, 2}, 6, 60}};
+// one, or, few rows being dependent, each dependent row is proved a
+// combination of the kept ones: the regions' rank of seeds 5 and 7, the
+// batch rank of seed 9) and many (regions spanned: their blocks are
+// checked), one and two outputs, 1 to 3 inputs.
+const std::vector<Case> cases = {{{2, 6, 5, 1}, 1, 12},  {{2, 6, 5, 1}, 1, 300},   {{1, 5, 4, 1}, 2, 40},
+                                 {{3, 5, 4, 2}, 3, 25},  {{3, 5, 4, 2}, 3, 200},   {{2, 4, 4, 4, 1}, 4, 150},
+                                 {{2, 8, 8, 1}, 5, 40},  {{2, 10, 10, 1}, 7, 30}, {{3, 8, 8, 1}, 9, 100}};
 
 TEST(BatchDimension, EqualsTheRanksOfTheStackedRows) {
   for (const Case& c : cases) {
