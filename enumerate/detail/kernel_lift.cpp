@@ -77,27 +77,40 @@ struct KeptRowsAt {
   ModularMatrix values;
   std::vector<std::size_t> place;  // of each wanted column among the wanted ones
   std::vector<const std::uint64_t*> full;  // the walk's residues, when read in place (values then empty)
-  std::size_t rows() const { return full.empty() ? values.rows() : full.size(); }
-  std::uint64_t at(std::size_t r, std::size_t c) const { return full.empty() ? values(r, place[c]) : full[r][c]; }
+  // Of each kept row among values' rows when only some were computed (the
+  // others are not there to read), else empty (every row, in order).
+  std::vector<std::size_t> row_place;
+  std::size_t rows() const { return !full.empty() ? full.size() : row_place.empty() ? values.rows() : row_place.size(); }
+  std::uint64_t at(std::size_t r, std::size_t c) const {
+    return !full.empty() ? full[r][c] : values(row_place.empty() ? r : row_place[r], place[c]);
+  }
 };
 
 // The kept rows modulo the network's prime at the columns `columns_needed`
-// marks, only the rows that `needed` marks (when given; the others stay 0),
-// from the layer inputs and signals those columns need (coefficient_rows_at);
-// the regions on up to `threads` threads (each writes its own rows).
+// marks, only those of the regions with a row that `needed` marks (when
+// given; the others are not computed, nor given room: late primes need few
+// regions, and rank rows zeroed for each prime were fresh memory), from the
+// layer inputs and signals those columns need (coefficient_rows_at); the
+// regions on up to `threads` threads (each writes its own rows).
 KeptRowsAt kept_rows_modulo(const ModularNetwork& network, const std::vector<KeptRows>& kept, std::size_t rank,
                             unsigned threads, const std::vector<char>* needed, const std::vector<char>& columns_needed) {
-  KeptRowsAt out(rank, columns_needed);
-  std::vector<std::size_t> first_row(kept.size());  // of each region in out
+  std::vector<std::size_t> first_row(kept.size());  // of each needed region in out
   std::vector<std::size_t> regions;                  // the needed ones
-  std::size_t r = 0;
+  std::vector<std::size_t> row_place(needed ? rank : 0, rank);
+  std::size_t r = 0, computed = 0;
   for (std::size_t k = 0; k < kept.size(); ++k) {
-    first_row[k] = r;
     bool is_needed = needed == nullptr;
     for (std::size_t i = 0; i < kept[k].rows.size() && !is_needed; ++i) is_needed = (*needed)[r + i] != 0;
-    if (is_needed) regions.push_back(k);
+    if (is_needed) {
+      regions.push_back(k);
+      first_row[k] = computed;
+      for (std::size_t i = 0; i < kept[k].rows.size() && needed; ++i) row_place[r + i] = computed + i;
+      computed += kept[k].rows.size();
+    }
     r += kept[k].rows.size();
   }
+  KeptRowsAt out(computed, columns_needed);
+  out.row_place = std::move(row_place);
   parallel_for(regions.size(), threads, [&](std::size_t n) {
     poll_stop();
     const KeptRows& region = kept[regions[n]];
