@@ -9,6 +9,7 @@
 #include "enumerate/detail/kernel_check.hpp"
 #include "enumerate/detail/kernel_lift.hpp"
 #include "enumerate/detail/parallel_for.hpp"
+#include "enumerate/detail/proof_start.hpp"
 #include "enumerate/detail/reach_forecast.hpp"
 #include "enumerate/detail/row_backlog.hpp"
 #include "enumerate/interior_points.hpp"
@@ -509,10 +510,12 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // independent rows and Q is nonsingular over Q (core/jacobian.hpp).
     const std::vector<std::size_t>& scaling_pivots = scaling.pivot_columns;
     report("kernel", 0, 0);
-    const detail::SparseModularRows first_image = detail::extra_directions_of_basis(basis, scaling_pivots);
+    const detail::ProofStart start =
+        detail::start_proof(network, basis, scaling_pivots, smooth, !options.across, threads);
+    const detail::SparseModularRows& first_image = start.first_image;
     detail::SparseRationalRows extra{parameters, {}};
     if (!first_image.rows.empty()) {
-      const detail::CheckScale check_scale(network);
+      const detail::CheckScale& check_scale = *start.check_scale;
       const auto check_progress = [&](std::size_t done, std::size_t total) { report("check", done, total); };
       detail::CandidateProof across_proof;
       if (options.across)
@@ -521,7 +524,8 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
         };
       auto proved = detail::lift_and_prove_extra_directions(
           network, modular, scaling_pivots, kept, basis.rank(), first_image, smooth, check_scale, threads, stop,
-          stopped, [&](std::size_t step) { report("kernel", step, 0); }, check_progress, across_proof);
+          stopped, [&](std::size_t step) { report("kernel", step, 0); }, check_progress, across_proof,
+          &start.facts);
       if (stopped)
         result.stop_reason = stop.reason() != StopReason::none || !options.across ? stop.reason()
                                                                                   : options.across->stop_reason();

@@ -17,11 +17,14 @@
 
 namespace pleat::detail {
 
-std::vector<char> live_on_some_pattern(const Network& network, const SparseRationalRows& vectors,
-                                       const std::vector<ActivationPattern>& patterns) {
+LiveTerms::LiveTerms(const Network& network, const std::vector<ActivationPattern>& patterns) : network_(&network) {
   const std::size_t depth = network.depth();
-  std::vector<std::size_t> first(depth + 1, 0);  // each layer's first parameter column
-  std::vector<std::size_t> first_neuron(depth + 1, 0), first_word(depth + 1, 0);  // together's words per layer
+  first_.assign(depth + 1, 0);  // each layer's first parameter column
+  first_neuron_.assign(depth + 1, 0);
+  first_word_.assign(depth + 1, 0);  // together's words per layer
+  std::vector<std::size_t>& first = first_;
+  std::vector<std::size_t>& first_neuron = first_neuron_;
+  std::vector<std::size_t>& first_word = first_word_;
   std::vector<std::size_t> widths(depth), fan_ins(depth);
   std::vector<char> has_relu(depth);
   for (std::size_t k = 0; k < depth; ++k) {
@@ -36,8 +39,11 @@ std::vector<char> live_on_some_pattern(const Network& network, const SparseRatio
   // together (words of layer k's neuron i from first_word[k]): the inputs of
   // layer k (bits) on in some pattern where neuron i is on; own: i on in
   // some pattern. Flat arrays, one pass over the patterns.
-  std::vector<std::uint64_t> together(first_word[depth], 0), inputs;
-  std::vector<char> own(first_neuron[depth], 0);
+  std::vector<std::uint64_t>& together = together_;
+  std::vector<char>& own = own_;
+  together.assign(first_word[depth], 0);
+  own.assign(first_neuron[depth], 0);
+  std::vector<std::uint64_t> inputs;
   for (const ActivationPattern& pattern : patterns) {
     poll_stop();
     const NeuronState* states = pattern.states.data();
@@ -60,6 +66,13 @@ std::vector<char> live_on_some_pattern(const Network& network, const SparseRatio
       }
     }
   }
+}
+
+std::vector<char> LiveTerms::of(const SparseRationalRows& vectors) const {
+  const Network& network = *network_;
+  const std::vector<std::size_t>&first = first_, &first_neuron = first_neuron_, &first_word = first_word_;
+  const std::vector<std::uint64_t>& together = together_;
+  const std::vector<char>& own = own_;
   std::vector<char> live(vectors.rows.size(), 0);
   for (std::size_t v = 0; v < vectors.rows.size(); ++v)
     for (const auto& [c, value] : vectors.rows[v]) {
@@ -78,14 +91,26 @@ std::vector<char> live_on_some_pattern(const Network& network, const SparseRatio
   return live;
 }
 
-std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,
-                                                  const std::vector<ActivationPattern>& patterns, unsigned threads,
-                                                  const StopRequest& stop, bool& stopped,
-                                                  const std::function<void(std::size_t, std::size_t)>& progress) {
+std::vector<char> live_on_some_pattern(const Network& network, const SparseRationalRows& vectors,
+                                       const std::vector<ActivationPattern>& patterns) {
+  return LiveTerms(network, patterns).of(vectors);
+}
+
+std::vector<std::size_t> lexicographic_order(const std::vector<ActivationPattern>& patterns) {
   std::vector<std::size_t> order(patterns.size());
   for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
   std::sort(order.begin(), order.end(),
             [&](std::size_t a, std::size_t b) { return states_before(patterns[a], patterns[b]); });
+  return order;
+}
+
+std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,
+                                                  const std::vector<ActivationPattern>& patterns, unsigned threads,
+                                                  const StopRequest& stop, bool& stopped,
+                                                  const std::function<void(std::size_t, std::size_t)>& progress,
+                                                  const std::vector<std::size_t>* sorted) {
+  const std::vector<std::size_t> sorted_here = sorted ? std::vector<std::size_t>() : lexicographic_order(patterns);
+  const std::vector<std::size_t>& order = sorted ? *sorted : sorted_here;
   constexpr std::size_t run = 16;  // consecutive patterns per thread
   std::atomic<std::size_t> next{0}, done{0};
   std::atomic<std::size_t> first_rejected{patterns.size()};

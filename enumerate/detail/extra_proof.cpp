@@ -7,6 +7,7 @@
 
 #include "enumerate/detail/always_active_rows.hpp"
 #include "enumerate/detail/parallel_for.hpp"
+#include "enumerate/detail/proof_start.hpp"
 
 #include <algorithm>
 #include <cstdint>
@@ -94,10 +95,12 @@ std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const std::vector<KeptRows>& kept, std::size_t rank, const SparseModularRows& first_image,
     const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
     const StopRequest& stop, bool& stopped, const LiftProgress& lift_progress,
-    const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere) {
+    const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere,
+    const SmoothFacts* ready) {
   // The generators of the neurons on in every region, once (when needed).
   std::optional<AlwaysActiveGenerators> always_active;
   auto generators = [&]() -> const AlwaysActiveGenerators& {
+    if (ready && ready->generators) return *ready->generators;
     if (!always_active) always_active.emplace(network, smooth);
     return *always_active;
   };
@@ -109,12 +112,14 @@ std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const std::vector<char> spared = heavy.empty() ? std::vector<char>(candidate.rows.size(), 0)
                                                    : rows_proved_by_always_active(generators(), candidate, heavy);
     // Rows with no term on any region: 0 on every region's rows term by term.
-    const std::vector<char> live = live_on_some_pattern(network, candidate, smooth);
+    const std::vector<char> live = ready && ready->live_terms ? ready->live_terms->of(candidate)
+                                                              : live_on_some_pattern(network, candidate, smooth);
     SparseRationalRows checked{candidate.cols, {}};
     for (std::size_t r = 0; r < candidate.rows.size(); ++r)
       if (!spared[r] && live[r]) checked.rows.push_back(candidate.rows[r]);
     const AnnihilationCheck check(network, checked, check_scale, threads);
-    return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress) && !stopped;
+    const std::vector<std::size_t>* order = ready && ready->check_order ? &*ready->check_order : nullptr;
+    return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress, order) && !stopped;
   };
   const std::vector<std::size_t> leading = first_image.leading_columns();
   // Small rows from the walk's prime alone (most extra directions of a

@@ -249,17 +249,38 @@ inline bool states_before(const ActivationPattern& a, const ActivationPattern& b
 std::vector<char> live_on_some_pattern(const Network& network, const SparseRationalRows& vectors,
                                        const std::vector<ActivationPattern>& patterns);
 
+// live_on_some_pattern in two steps: the bitsets from the patterns (built
+// beside certify's read-off, proof_start.hpp), then any vectors against them.
+// The network must outlive it.
+class LiveTerms {
+ public:
+  LiveTerms(const Network& network, const std::vector<ActivationPattern>& patterns);
+  std::vector<char> of(const SparseRationalRows& vectors) const;
+
+ private:
+  const Network* network_;
+  std::vector<std::size_t> first_, first_neuron_, first_word_;  // per layer: parameter column, neuron, word
+  std::vector<std::uint64_t> together_;
+  std::vector<char> own_;
+};
+
+// The patterns' indices in lexicographic order of their states
+// (states_before): the order first_rejected_pattern checks them in.
+std::vector<std::size_t> lexicographic_order(const std::vector<ActivationPattern>& patterns);
+
 // The smallest index of a pattern the check rejects, checked on `threads`
 // threads (the answer does not depend on their number), or nullopt when all
 // pass. The patterns are taken in lexicographic order of their states, in
 // runs per thread, so that consecutive ones share their first layers'
 // inputs. Sets stopped (and returns nullopt) when the stop request fires;
 // progress(done, total) is called from the calling thread, about 64 times
-// (at most every 16 patterns, and at the last).
+// (at most every 16 patterns, and at the last). sorted:
+// lexicographic_order(patterns) when computed already.
 [[nodiscard]]
 std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,
                                                   const std::vector<ActivationPattern>& patterns, unsigned threads,
                                                   const StopRequest& stop, bool& stopped,
-                                                  const std::function<void(std::size_t, std::size_t)>& progress);
+                                                  const std::function<void(std::size_t, std::size_t)>& progress,
+                                                  const std::vector<std::size_t>* sorted = nullptr);
 
 }  // namespace pleat::detail

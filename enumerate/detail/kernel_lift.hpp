@@ -99,13 +99,16 @@ using LiftProgress = std::function<void(std::size_t)>;
 // count (E is unique: identity on L, zero on Q). lift_progress: 1 when
 // further primes start, 2 for the exact solve. prove_elsewhere, when given,
 // decides each candidate (as a dense matrix) instead of the check on
-// `smooth` here.
+// `smooth` here. ready, when given, holds what was built from `smooth`
+// already (proof_start.hpp); what it lacks is built here when needed.
+struct SmoothFacts;
 std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const Network& network, const ModularNetwork& walk_network, const std::vector<std::size_t>& scaling_pivots,
     const std::vector<KeptRows>& kept, std::size_t rank, const SparseModularRows& first_image,
     const std::vector<ActivationPattern>& smooth, const CheckScale& check_scale, unsigned threads,
     const StopRequest& stop, bool& stopped, const LiftProgress& lift_progress,
-    const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere = {});
+    const std::function<void(std::size_t, std::size_t)>& check_progress, const CandidateProof& prove_elsewhere = {},
+    const SmoothFacts* ready = nullptr);
 
 // The kept rows over Q: r x D, in the walk's order (each kept region's
 // exact blocks, computed on up to `threads` threads). Exact.
