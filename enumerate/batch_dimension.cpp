@@ -11,6 +11,8 @@
 #include <flint/nmod.h>
 
 #include <algorithm>
+#include <chrono>
+#include <limits>
 #include <map>
 #include <thread>
 #include <utility>
@@ -253,36 +255,61 @@ class BatchRanker {
   // annihilate the kept rows K when the solve is right: the vector of a free
   // column f is 1 at f, 0 at the other free columns and -K_P^-1 K_f at P
   // (no solve where K_f is zero). Not proved here: the caller checks that
-  // they annihilate every row, which bounds the rank by r. The exact solve
-  // (detail::solve_square_exactly, polling the stop) takes 32 free columns
-  // at a time; nullopt when it fails.
-  std::optional<RationalMatrix> kernel_candidate(const KeptSystem& system) {
-    const std::size_t columns = network_.parametric_dimension();
-    const std::size_t rank = system.rows.size();
-    if (system.pivots.size() != rank) return std::nullopt;
-    const auto& [rows, pivots, free, solved] = system;
-    detail::FmpzMatrix square(rank, rank);
-    for (std::size_t i = 0; i < rank; ++i)
-      for (std::size_t j = 0; j < rank; ++j) fmpz_set_mpz(square.entry(i, j), rows[i][pivots[j]].get_mpz_t());
-    RationalMatrix kernel(free.size(), columns);
-    for (std::size_t j = 0; j < free.size(); ++j) kernel(j, free[j]) = 1;
-    constexpr std::size_t chunk = 32;
-    for (std::size_t first = 0; first < solved.size(); first += chunk) {
-      poll_stop();
-      const std::size_t width = std::min(chunk, solved.size() - first);
+  // they annihilate every row, which bounds the rank by r. The exact solves
+  // (detail::solve_square_exactly, polling the stop) take 32 free columns at
+  // a time, one chunk per next_chunk.
+  class KernelCandidate {
+   public:
+    KernelCandidate(const KeptSystem& system, std::size_t columns)
+        : system_(system), square_(system.rows.size(), system.rows.size()), kernel_(system.free.size(), columns) {
+      is_failed_ = system.pivots.size() != system.rows.size();
+      if (is_failed_) return;
+      const std::size_t rank = system.rows.size();
+      for (std::size_t i = 0; i < rank; ++i)
+        for (std::size_t j = 0; j < rank; ++j)
+          fmpz_set_mpz(square_.entry(i, j), system.rows[i][system.pivots[j]].get_mpz_t());
+      for (std::size_t j = 0; j < system.free.size(); ++j) kernel_(j, system.free[j]) = 1;
+    }
+
+    bool is_done() const { return is_failed_ || first_ >= system_.solved.size(); }
+    std::size_t solved() const { return first_; }
+    std::size_t columns_left() const { return is_done() ? 0 : system_.solved.size() - first_; }
+
+    void next_chunk(std::size_t most = chunk) {
+      const auto& [rows, pivots, free, solved] = system_;
+      const std::size_t rank = rows.size();
+      const std::size_t width = std::min(most, solved.size() - first_);
       detail::FmpzMatrix right(rank, width);
       for (std::size_t i = 0; i < rank; ++i)
         for (std::size_t j = 0; j < width; ++j) {
-          fmpz_set_mpz(right.entry(i, j), rows[i][free[solved[first + j]]].get_mpz_t());
+          fmpz_set_mpz(right.entry(i, j), rows[i][free[solved[first_ + j]]].get_mpz_t());
           fmpz_neg(right.entry(i, j), right.entry(i, j));
         }
-      const std::optional<RationalMatrix> solution = detail::solve_square_exactly(square.get(), right.get());
-      if (!solution) return std::nullopt;
+      const std::optional<RationalMatrix> solution = detail::solve_square_exactly(square_.get(), right.get());
+      if (!solution) {
+        is_failed_ = true;
+        return;
+      }
       for (std::size_t j = 0; j < width; ++j)
-        for (std::size_t p = 0; p < rank; ++p) kernel(solved[first + j], pivots[p]) = (*solution)(p, j);
+        for (std::size_t p = 0; p < rank; ++p) kernel_(solved[first_ + j], pivots[p]) = (*solution)(p, j);
+      first_ += width;
     }
-    return kernel;
-  }
+
+    // The candidate after the remaining chunks; nullopt when a solve failed.
+    std::optional<RationalMatrix> finish() {
+      while (!is_done()) next_chunk();
+      if (is_failed_) return std::nullopt;
+      return std::move(kernel_);
+    }
+
+   private:
+    static constexpr std::size_t chunk = 32;
+    const KeptSystem& system_;
+    detail::FmpzMatrix square_;
+    RationalMatrix kernel_;
+    std::size_t first_ = 0;
+    bool is_failed_ = false;
+  };
 
   template <typename Row>
   std::size_t rank_of_every_row(std::size_t count, Row&& row) {
@@ -307,28 +334,52 @@ class BatchRanker {
     return !rejected;
   }
 
-  // Whether proving every row the basis did not keep a combination of the
-  // kept ones is cheaper than the kernel candidate: both are exact solves
-  // of K_P's system, one right-hand side per dependent row against one per
-  // solved free column, but a dependent row's solve costs more (its
-  // coefficients grow with the rows it combines). Measured on 2,15,15,15,1
-  // (100 to 5000 points; region and batch ranks, both paths forced): the
-  // span proof was faster at up to 0.69 dependent rows per solved column
-  // (2-20x) and slower from 0.93 (2.5x); hence 3/4.
-  static bool span_proof_is_cheaper(const std::vector<bool>& kept, const KeptSystem& system) {
-    return 4 * (kept.size() - system.rows.size()) < 3 * system.solved.size();
-  }
-
-  // The kept rows' count is the rank when every other row is in their span
-  // (detail::rows_in_span, exact); false when one is not (an unlucky prime).
+  // Whether the rank is proved by showing every row the basis did not keep
+  // a combination of the kept ones (detail::rows_in_span, exact) instead of
+  // by the kernel candidate. Both solve K_P's system, one right-hand side
+  // per dependent row against one per solved free column, but the counts
+  // alone do not tell which is cheaper: a dependent row's coefficients can
+  // be as large as K_P's determinant where a kernel column's are small
+  // (2,15,15,15,15,1, 1000 points: 25 000 bits against 1 000, the span
+  // proof 13x slower at 0.61 dependent rows per column), or the reverse
+  // (2,15,15,15,1, 300 points: the kernel 10x slower at 0.66). Measured
+  // there (100 to 5000 points, both forced): below 1/4 the span proof was
+  // always faster, from 0.93 slower. Between, it is raced: the kernel's
+  // time is projected from 8 of its columns solved here, and the span proof
+  // is given up once its own projection (each chunk costing at least as
+  // much as the last: later rows combine more) exceeds that. The values
+  // proved do not depend on which proof finishes.
   template <typename Row>
-  bool others_in_span(const std::vector<bool>& kept, const KeptSystem& system, Row&& row, const char* phase) {
-    if (system.pivots.size() != system.rows.size()) return false;
+  bool is_proved_by_span(const std::vector<bool>& kept, const KeptSystem& system, Row&& row, const char* phase,
+                         KernelCandidate& kernel) {
+    const std::size_t dependent = kept.size() - system.rows.size(), columns = kernel.columns_left();
+    if (system.pivots.size() != system.rows.size() || 4 * dependent >= 3 * columns) return false;
+    using Clock = std::chrono::steady_clock;
+    const auto seconds_since = [](Clock::time_point start) {
+      return std::chrono::duration<double>(Clock::now() - start).count();
+    };
+    double kernel_left = std::numeric_limits<double>::infinity();  // no race below 1/4
+    if (4 * dependent >= columns) {
+      const auto kernel_started = Clock::now();
+      kernel.next_chunk(8);
+      if (kernel.is_done()) return false;
+      kernel_left = seconds_since(kernel_started) / static_cast<double>(kernel.solved()) *
+                    static_cast<double>(kernel.columns_left());
+    }
     std::vector<detail::IntegerRow> others;
+    const auto span_started = Clock::now();
     for (std::size_t k = 0; k < kept.size(); ++k)
       if (!kept[k]) others.push_back(integer_row(row(k)));
+    double last_chunk = 0, elapsed = 0;
+    std::size_t last_done = 0;
     return detail::rows_in_span(system.rows, system.pivots, others, [&](std::size_t done, std::size_t total) {
       if (on_progress_) on_progress_(phase, done, total);
+      if (done == 0) return true;
+      const double now = seconds_since(span_started);
+      last_chunk = (now - elapsed) / static_cast<double>(done - last_done);  // per row
+      elapsed = now;
+      last_done = done;
+      return elapsed + last_chunk * static_cast<double>(total - done) < kernel_left;
     });
   }
 
@@ -340,14 +391,13 @@ class BatchRanker {
     if (bounds.is_exact()) return;
     const auto row = [this](std::size_t k) { return region_row(k); };
     const KeptSystem system = kept_system(region_kept_, row);
-    bool is_proved = false;
-    if (span_proof_is_cheaper(region_kept_, system)) {
-      is_proved = others_in_span(region_kept_, system, row, "regions");
-    } else {
-      const auto kernel = kernel_candidate(system);
+    KernelCandidate kernel(system, network_.parametric_dimension());
+    bool is_proved = is_proved_by_span(region_kept_, system, row, "regions", kernel);
+    if (!is_proved) {
+      const auto candidate = kernel.finish();
       std::vector<ActivationPattern> patterns;
       for (const TouchedRegion& region : regions_) patterns.push_back(region.pattern);
-      is_proved = kernel && annihilates_blocks(*kernel, patterns, "regions");
+      is_proved = candidate && annihilates_blocks(*candidate, patterns, "regions");
     }
     if (is_proved)
       bounds.upper = bounds.lower;
@@ -364,14 +414,12 @@ class BatchRanker {
     if (bounds.is_exact()) return;
     const auto row = [this](std::size_t k) { return batch_row(k); };
     const KeptSystem system = kept_system(batch_kept_, row);
-    if (span_proof_is_cheaper(batch_kept_, system)) {
-      if (others_in_span(batch_kept_, system, row, "batch"))
-        bounds.upper = bounds.lower;
-      else
-        bounds.lower = bounds.upper = rank_of_every_row(batch_kept_.size(), row);
+    KernelCandidate candidate(system, network_.parametric_dimension());
+    if (is_proved_by_span(batch_kept_, system, row, "batch", candidate)) {
+      bounds.upper = bounds.lower;
       return;
     }
-    const auto kernel = kernel_candidate(system);
+    const auto kernel = candidate.finish();
     bool is_proved = kernel.has_value();
     if (is_proved) {
       std::vector<ActivationPattern> spanned;

@@ -81,7 +81,7 @@ bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::si
     for (std::size_t c = 0; c < columns; ++c) fmpz_set_mpz(kept_matrix.entry(i, c), kept[i][c].get_mpz_t());
   chunk = std::max<std::size_t>(chunk, 1);
   for (std::size_t first = 0; first < others.size(); first += chunk) {
-    if (on_chunk) on_chunk(first, others.size());
+    if (on_chunk && !on_chunk(first, others.size())) return false;
     poll_stop();
     const std::size_t width = std::min(chunk, others.size() - first);
     FmpzMatrix right(rank, width);

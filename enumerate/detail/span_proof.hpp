@@ -37,10 +37,11 @@ std::optional<RationalMatrix> solve_square_exactly(const fmpz_mat_struct* a, con
 // time, polling the current StopScope (Stopped propagates), then checks
 // Y K = R on every column in integer arithmetic.
 // True only when that exact check holds for every row: a proof. False when
-// a row is not in the span (or the solve fails). `on_chunk(done, total)`,
-// when given, hears before each chunk how many of the others are proved (a
-// stop it requests is honoured before the chunk).
-using SpanProgress = std::function<void(std::size_t done, std::size_t total)>;
+// a row is not in the span (or the solve fails), or when `on_chunk(done,
+// total)`, which when given hears before each chunk how many of the others
+// are proved, returns false (the caller gives up; a stop it requests is
+// honoured before the chunk).
+using SpanProgress = std::function<bool(std::size_t done, std::size_t total)>;
 bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots,
                   const std::vector<IntegerRow>& others, const SpanProgress& on_chunk = {},
                   std::size_t chunk = 32);

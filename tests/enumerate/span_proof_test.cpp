@@ -98,13 +98,30 @@ TEST(SpanProof, ProgressCountsTheRowsProvedAndAStopIsHonouredBetweenChunks) {
   EXPECT_TRUE(rows_in_span(kept, leading_pivots(4), others, [&](std::size_t now, std::size_t total) {
     EXPECT_EQ(total, 10u);
     done.push_back(now);
+    return true;
   }, 4));
   EXPECT_EQ(done, (std::vector<std::size_t>{0, 4, 8}));
   std::atomic<bool> interrupt{false};
   const StopRequest request(&interrupt, 0);
   const StopScope scope(request);
-  EXPECT_THROW(rows_in_span(kept, leading_pivots(4), others, [&](std::size_t, std::size_t) { interrupt = true; }, 4),
-               Stopped);
+  EXPECT_THROW(rows_in_span(kept, leading_pivots(4), others, [&](std::size_t, std::size_t) {
+    interrupt = true;
+    return true;
+  }, 4), Stopped);
+}
+
+// A caller giving up before the last chunk has no proof, though every row
+// is in the span.
+TEST(SpanProof, GivingUpIsNoProof) {
+  std::mt19937_64 random(4);
+  const std::vector<IntegerRow> kept = kept_rows(random, 4);
+  const std::vector<IntegerRow> others = combinations(random, kept, 10);
+  std::size_t calls = 0;
+  EXPECT_FALSE(rows_in_span(kept, leading_pivots(4), others, [&](std::size_t done, std::size_t) {
+    ++calls;
+    return done < 8;
+  }, 4));
+  EXPECT_EQ(calls, 3u);
 }
 
 }  // namespace
