@@ -7,6 +7,7 @@
 #include "cli/progress.hpp"
 #include "cli/formats/output_file.hpp"
 #include "cli/formats/region_json.hpp"
+#include "cli/formats/track_file.hpp"
 #include "cli/signals.hpp"
 #include "cli/walk_options.hpp"
 #include "core/network_io.hpp"
@@ -38,130 +39,11 @@ struct TrackArguments {
   WalkLimitOptions limits;  // --time-limit-each: each checkpoint's limit
 };
 
-// One checkpoint's line (format pleat-track/1, after the header).
-struct TrackRow {
-  std::size_t index = 0;
-  std::string checkpoint;
-  std::string network;  // network_fingerprint of the checkpoint as certified
-  std::size_t parametric_dimension = 0;
-  std::size_t scaling_bound = 0;
-  std::optional<std::size_t> functional_dimension;  // set only when certified
-  std::size_t lower_bound = 0;
-  std::size_t upper_bound = 0;
-  std::size_t regions = 0;         // a lower bound unless walk_complete
-  // Only when walk_complete: a cut walk's pieces may be joined by regions not
-  // found, so their count bounds nothing.
-  std::optional<std::size_t> linear_regions;
-  bool walk_complete = false;
-  double seconds = 0;
-};
-
-Json row_json(const TrackRow& row) {
-  return Json{{"index", row.index},
-              {"checkpoint", row.checkpoint},
-              {"network_fingerprint", row.network},
-              {"parametric_dimension", row.parametric_dimension},
-              {"scaling_bound", row.scaling_bound},
-              {"functional_dimension", row.functional_dimension ? Json(*row.functional_dimension) : Json(nullptr)},
-              {"certified", row.functional_dimension.has_value()},
-              {"lower_bound", row.lower_bound},
-              {"upper_bound", row.upper_bound},
-              {"regions", row.regions},
-              {"linear_regions", row.linear_regions ? Json(*row.linear_regions) : Json(nullptr)},
-              {"walk_complete", row.walk_complete},
-              {"seconds", row.seconds}};
-}
-
-TrackRow row_from_json(const Json& line, const std::string& where) {
-  try {
-    TrackRow row;
-    row.index = line.at("index").get<std::size_t>();
-    row.checkpoint = line.at("checkpoint").get<std::string>();
-    row.network = line.at("network_fingerprint").get<std::string>();
-    row.parametric_dimension = line.at("parametric_dimension").get<std::size_t>();
-    row.scaling_bound = line.at("scaling_bound").get<std::size_t>();
-    if (!line.at("functional_dimension").is_null())
-      row.functional_dimension = line.at("functional_dimension").get<std::size_t>();
-    row.lower_bound = line.at("lower_bound").get<std::size_t>();
-    row.upper_bound = line.at("upper_bound").get<std::size_t>();
-    row.regions = line.at("regions").get<std::size_t>();
-    if (!line.at("linear_regions").is_null()) row.linear_regions = line.at("linear_regions").get<std::size_t>();
-    row.walk_complete = line.at("walk_complete").get<bool>();
-    row.seconds = line.at("seconds").get<double>();
-    return row;
-  } catch (const Json::exception& fault) {
-    throw input_error(where + ": not a pleat-track/1 row (" + fault.what() + ")");
-  }
-}
-
-// Which network a row was certified for: FNV-1a (64-bit; offset basis and
-// prime from the FNV specification) over its canonical text. A resumed run
-// compares it with the checkpoint file as it is now, so a file overwritten
-// since (a rerun of training) is not shown with another network's value.
-std::string network_fingerprint(const Network& network) {
-  std::uint64_t hash = 14695981039346656037ull;
-  for (const char c : write_network(network)) {
-    hash ^= static_cast<unsigned char>(c);
-    hash *= 1099511628211ull;
-  }
-  std::ostringstream text;
-  text << "fnv1a64:" << std::hex << std::setw(16) << std::setfill('0') << hash;
-  return text.str();
-}
-
 Json header_json(const TrackArguments& arguments, const Domain& domain) {
   return Json{{"format", "pleat-track/1"},
               {"checkpoints", arguments.checkpoints},
               {"domain", domain_to_json(domain)},
               {"time_limit_each", arguments.limits.time_limit}};
-}
-
-// The rows already in a track file (resuming), after checking that its header
-// describes the same run. A last line cut short by a killed run is dropped
-// (and truncated away); any other bad line is an error naming it.
-std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, const Json& header,
-                                                   const std::vector<std::string>& fingerprints) {
-  std::map<std::size_t, TrackRow> rows;
-  // Only a regular file holds earlier rows (/dev/full reads zeros forever; a folder fails on open for writing).
-  if (!std::filesystem::is_regular_file(path)) return rows;
-  std::ifstream file(path, std::ios::binary);
-  if (!file) return rows;
-  std::string text{std::istreambuf_iterator<char>(file), std::istreambuf_iterator<char>()};
-  file.close();
-  std::size_t start = 0, number = 0, complete_bytes = 0;
-  while (start < text.size()) {
-    ++number;
-    const std::size_t end = text.find('\n', start);
-    const std::string where = path + ":" + std::to_string(number);
-    const bool is_last = end == std::string::npos || end + 1 == text.size();
-    Json line;
-    try {
-      line = Json::parse(text.substr(start, end == std::string::npos ? std::string::npos : end - start));
-    } catch (const Json::exception&) {
-      if (is_last && end == std::string::npos) break;  // cut short by a killed run: rewritten
-      throw input_error(where + ": not a JSON line");
-    }
-    if (end == std::string::npos) break;  // no newline: the run was killed while writing it
-    if (number == 1) {
-      for (const auto& [key, value] : header.items())
-        if (!line.contains(key) || line[key] != value)
-          throw input_error(path + ": written by a different run ('" + key +
-                            "' differs); give another -o or remove the file");
-    } else {
-      TrackRow row = row_from_json(line, where);
-      if (row.index >= header["checkpoints"].size() || header["checkpoints"][row.index] != row.checkpoint)
-        throw input_error(where + ": checkpoint " + std::to_string(row.index) + " is not in this run");
-      if (row.network != fingerprints[row.index])
-        throw input_error(where + ": " + row.checkpoint +
-                          " holds another network than the one tracked there (the file changed since); give "
-                          "another -o or remove the file");
-      rows[row.index] = std::move(row);
-    }
-    complete_bytes = end + 1;
-    start = end + 1;
-  }
-  if (complete_bytes < text.size()) std::filesystem::resize_file(path, complete_bytes);
-  return rows;
 }
 
 TrackRow track_checkpoint(const TrackArguments& arguments, std::size_t index, ProgressLine& progress,
@@ -240,7 +122,7 @@ Json table_json(const std::vector<TrackRow>& rows, const Domain& domain, const s
                 bool is_interrupted) {
   Json table = Json::array();
   for (std::size_t i = 0; i < rows.size(); ++i) {
-    Json row = row_json(rows[i]);
+    Json row = track_row_json(rows[i]);
     const auto change = change_from_previous(rows, i);
     row["change"] = change ? Json(*change) : Json(nullptr);
     table.push_back(std::move(row));
@@ -401,10 +283,10 @@ int track_checkpoints(const TrackArguments& arguments, UnwrittenOutputs& outputs
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   // Every checkpoint must read before any work starts (nothing computed is lost to a typo).
   std::optional<std::size_t> input_dim;
-  std::vector<std::string> fingerprints;
+  std::vector<CheckpointFacts> facts;  // what a resumed row is checked against
   for (const auto& path : arguments.checkpoints) {
     const Network network = read_network_input(path);
-    fingerprints.push_back(network_fingerprint(network));
+    facts.push_back(checkpoint_facts(network));
     if (input_dim && *input_dim != network.input_dim)
       throw input_error(path + ": takes " + count_of(network.input_dim, "input") + ", the first checkpoint " +
                         std::to_string(*input_dim));
@@ -417,7 +299,7 @@ int track_checkpoints(const TrackArguments& arguments, UnwrittenOutputs& outputs
   std::map<std::size_t, TrackRow> finished;
   std::optional<OutputFile> lines;
   if (!arguments.output_path.empty()) {
-    finished = read_finished_rows(arguments.output_path, header, fingerprints);
+    finished = read_finished_rows(arguments.output_path, header, facts);
     const bool is_new = !std::filesystem::is_regular_file(arguments.output_path) ||
                         std::filesystem::file_size(arguments.output_path) == 0;
     lines.emplace(arguments.output_path, OutputFile::Mode::append);
@@ -438,7 +320,7 @@ int track_checkpoints(const TrackArguments& arguments, UnwrittenOutputs& outputs
       break;
     }
     if (lines) {
-      lines->write(json_text(row_json(row), false));
+      lines->write(json_text(track_row_json(row), false));
       lines->flush();  // kept even if a later checkpoint is interrupted
     }
     finished[i] = std::move(row);
