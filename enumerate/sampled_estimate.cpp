@@ -23,8 +23,12 @@ namespace {
 // The point stream documented at run_sampled_estimate.
 class PointStream {
  public:
+  // Throws input_error when some axis of a box cannot be drawn from.
   PointStream(std::uint64_t seed, const PointDistribution& dist, bool is_float32)
-      : stream_(seed, 0), dist_(dist), is_float32_(is_float32) {}
+      : stream_(seed, 0), dist_(dist), is_float32_(is_float32) {
+    if (dist_.is_box)
+      for (std::size_t axis = 0; axis < dist_.lower.size(); ++axis) require_drawable(axis);
+  }
 
   DoubleVector next_point(std::size_t dimension) {
     DoubleVector point(dimension);
@@ -41,6 +45,23 @@ class PointStream {
     const double u1 = static_cast<double>((stream_.next_word() >> 11) + 1) * two_to_minus_53;
     const double u2 = static_cast<double>(stream_.next_word() >> 11) * two_to_minus_53;
     return std::sqrt(-2.0 * std::log(u1)) * std::cos(2.0 * std::numbers::pi * u2);
+  }
+
+  // next_box draws until a point lies strictly inside: an axis with no
+  // double (or float32) there, such as (1, 1 + 10^-20), would draw forever,
+  // and one beyond the type's range (or as wide) draws infinities. Refused;
+  // a representable middle makes about every other draw land inside.
+  void require_drawable(std::size_t axis) const {
+    const double lo = to_double(dist_.lower[axis]), hi = to_double(dist_.upper[axis]);
+    const std::string where = dist_.name + ": axis " + std::to_string(axis) + ": the interval (" +
+                              dist_.lower[axis].get_str() + ", " + dist_.upper[axis].get_str() + ")";
+    const char* type = is_float32_ ? "float32" : "float64";
+    if (!std::isfinite(rounded(lo)) || !std::isfinite(rounded(hi)) || !std::isfinite(hi - lo))
+      throw input_error(where + " reaches beyond the " + type + " range the points are drawn in");
+    const double middle = rounded(lo + (hi - lo) * 0.5);
+    if (!std::isfinite(middle) || !(dist_.lower[axis] < rational_from_double(middle) &&
+                                    rational_from_double(middle) < dist_.upper[axis]))
+      throw input_error(where + " is too narrow to draw " + type + " points strictly inside it");
   }
 
   double next_box(std::size_t axis) {
@@ -159,6 +180,7 @@ PointDistribution box_distribution(RationalVector lower, RationalVector upper, s
   dist.is_box = true;
   dist.lower = std::move(lower);
   dist.upper = std::move(upper);
+  dist.name = what;
   return dist;
 }
 

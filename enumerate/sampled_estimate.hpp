@@ -33,10 +33,12 @@ namespace pleat {
 struct PointDistribution {
   bool is_box = false;
   RationalVector lower, upper;  // exact box, only when is_box
+  std::string name;             // names the box in messages ("--dist"), only when is_box
 };
 
 // The open box (lower_i, upper_i) as a distribution. Throws input_error
-// naming `what` and the axis when some lower_i >= upper_i.
+// naming `what` and the axis when some lower_i >= upper_i. Whether points in
+// double (or float32) can be drawn from it is checked when sampling starts.
 PointDistribution box_distribution(RationalVector lower, RationalVector upper, std::string_view what);
 
 // The domain a sample is judged against: R^n0 for the normal, else the box.

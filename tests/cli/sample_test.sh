@@ -185,5 +185,12 @@ huge 1e39 > "$work/huge32.json"
 err=$("$pleat" sample "$work/huge32.json" --batch 8 --seed 1 --dtype float32 -q 2>&1 > /dev/null)
 [ $? = 2 ] || fail "sample --dtype float32 with a weight beyond float32 must exit 2: $err"
 expect_contains "$err" "the float32 Jacobian's entry for parameter " "a weight beyond float32"
+# A --dist box with no double strictly inside an axis drew points forever
+# (unstoppable: the draw loop polled nothing); now exit 2 at once.
+err=$(timeout 60 "$pleat" sample "$work/huge32.json" --batch 8 --seed 1 --dist box:1,1.00000000000000000001 -q 2>&1 > /dev/null)
+status=$?
+[ $status = 2 ] || fail "sample with a box too narrow for float64 must exit 2, not $status: $err"
+expect_contains "$err" "pleat: --dist: axis 0: the interval (1, 100000000000000000001/100000000000000000000) is too narrow" \
+  "a box too narrow for float64"
 
 echo "sample: all checks passed"

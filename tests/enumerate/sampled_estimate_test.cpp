@@ -51,6 +51,41 @@ TEST(SampledEstimate, BoxPointsLieStrictlyInsideTheBoxAndFloat32PointsAreFloats)
     }
 }
 
+// The message of the input_error a sample with this box and type throws ("" when none).
+std::string box_error(const Rational& lower, const Rational& upper, bool is_float32) {
+  SampleOptions options = options_for(3);
+  options.dist = box_distribution({Rational(0), lower}, {Rational(1), upper}, "--dist");
+  options.is_float32 = is_float32;
+  try {
+    (void)run_sampled_estimate(small_network(), options);
+  } catch (const input_error& error) {
+    return error.what();
+  }
+  return "";
+}
+
+// A box axis with no double strictly inside drew forever (the points are
+// drawn until one lies inside), one beyond the range drew infinities
+// ("not a finite number", naming nothing): both refused, naming the axis.
+TEST(SampledEstimate, ABoxNoPointCanBeDrawnFromIsRefused) {
+  const Rational tiny(mpq_class("1/100000000000000000000"));  // 10^-20: 1 + 10^-20 rounds to 1
+  EXPECT_EQ(box_error(Rational(1), Rational(1) + tiny, false),
+            "--dist: axis 1: the interval (1, 100000000000000000001/100000000000000000000) is too narrow to draw "
+            "float64 points strictly inside it");
+  EXPECT_EQ(box_error(Rational(1), Rational(1) + Rational(1, 1000000000), true),
+            "--dist: axis 1: the interval (1, 1000000001/1000000000) is too narrow to draw float32 points strictly "
+            "inside it");
+  const Rational huge(mpq_class("1" + std::string(400, '0')));  // 10^400, beyond double
+  EXPECT_EQ(box_error(Rational(0), huge, false).rfind("--dist: axis 1: the interval (0, 1", 0), 0u);
+  EXPECT_NE(box_error(Rational(0), huge, false).find("reaches beyond the float64 range"), std::string::npos);
+  EXPECT_NE(box_error(Rational(0), Rational(1000000) * Rational(1000000) * Rational(1000000) * Rational(1000000) *
+                                       Rational(1000000) * Rational(1000000) * Rational(1000000),
+                      true)
+                .find("reaches beyond the float32 range"),
+            std::string::npos);  // 10^42 > float32's largest, about 3.4 * 10^38
+  EXPECT_EQ(box_error(Rational(1), Rational(1) + Rational(1, 1000000000), false), "");  // float64 has room there
+}
+
 TEST(SampledEstimate, ARankAboveTheProvedUpperBoundIsImpossible) {
   const SampleResult result = run_sampled_estimate(small_network(), options_for(40));
   ASSERT_TRUE(result.certified.certified);
