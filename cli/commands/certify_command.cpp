@@ -485,6 +485,8 @@ int run_certify(const CertifyArguments& arguments) {
   for (const std::string* output : {&arguments.rows_path, &arguments.kernel_path, &arguments.witness_path,
                                     &arguments.bundle_path})
     refuse_overwriting_input(*output);  // before the run, not after it
+  refuse_shared_outputs({{"--rows-out", arguments.rows_path}, {"--kernel-out", arguments.kernel_path},
+                         {"--witness-out", arguments.witness_path}, {"--bundle", arguments.bundle_path}});
   if (is_follower_process()) {  // an MPI job's rank other than 0: its share of the walk, no output
     const InterruptGuard interrupt;
     const auto work = certify_follower_work(network, &interrupt.flag(), follower_options_for_tests());

@@ -11,6 +11,7 @@
 #include "cli/figures/figure_mesh.hpp"
 #include "cli/figures/figure_region_file.hpp"
 #include "cli/figures/figure_scene.hpp"
+#include "cli/formats/output_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/signals.hpp"
 #include "cli/walk_options.hpp"
@@ -451,22 +452,6 @@ void refuse_figure_only_options(const DrawArguments& arguments, Format format) {
     throw input_error("--color-by: an .off mesh is coloured by region only (neighbours differ)");
 }
 
-int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interrupt);
-
-// Ctrl-C stops the walk and the exact clipping alike (both poll it); a
-// figure cut short would be wrong, so nothing is written.
-int run_draw(const DrawArguments& arguments) {
-  const InterruptGuard interrupt;
-  const StopRequest stop(&interrupt.flag(), 0);
-  const StopScope scope(stop);
-  try {
-    return draw_figure(arguments, interrupt.flag());
-  } catch (const Stopped&) {
-    std::cerr << "pleat: draw interrupted; no figure written\n";
-    return 130;
-  }
-}
-
 int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interrupt) {
   const Network network = read_network_input(arguments.network_path);
   const std::size_t dim = network.input_dim;
@@ -478,6 +463,7 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
     throw input_error("draw: the network has " + std::to_string(dim) + " inputs; draw handles 1 (a graph), "
                       "2 (regions) or 3 (a mesh)");
   refuse_figure_only_options(arguments, format);
+  refuse_shared_outputs({{"--out", arguments.output_path}, {"--table", arguments.table_path}});
   if (!arguments.size_text.empty()) (void)parse_figure_size(arguments.size_text);  // a bad --size fails before the walk
   std::optional<View> view;
   if (!arguments.view_text.empty()) {
@@ -524,6 +510,20 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
     std::cerr << "pleat: " << *scene.total_regions - drawn.regions << " of " << *scene.total_regions
               << " regions " << (*scene.total_regions - drawn.regions == 1 ? "lies" : "lie") << " outside the view\n";
   return 0;
+}
+
+// Ctrl-C stops the walk and the exact clipping alike (both poll it); a
+// figure cut short would be wrong, so nothing is written.
+int run_draw(const DrawArguments& arguments) {
+  const InterruptGuard interrupt;
+  const StopRequest stop(&interrupt.flag(), 0);
+  const StopScope scope(stop);
+  try {
+    return draw_figure(arguments, interrupt.flag());
+  } catch (const Stopped&) {
+    std::cerr << "pleat: draw interrupted; no figure written\n";
+    return 130;
+  }
 }
 
 }  // namespace

@@ -106,6 +106,7 @@ int run_walk(const WalkArguments& arguments) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
   const Network network = read_network_input(arguments.network_path);
   const Domain domain = make_domain(arguments.domain, network.input_dim);
+  refuse_shared_outputs({{"-o", arguments.output_path}, {"--points-out", arguments.points_path}});
   if (is_follower_process()) {  // an MPI job's rank other than 0: its share of the walk, no output
     const InterruptGuard interrupt;
     return follow_walks(network, domain, interrupt.flag());

@@ -106,6 +106,31 @@ void write_whole_file(const std::string& path, std::string_view text) {
   file.close();
 }
 
+namespace {
+
+// Whether two paths name one file, existing or not (through links and "..").
+bool is_same_file(const std::string& first, const std::string& second) {
+  std::error_code error;
+  if (first == second || std::filesystem::equivalent(first, second, error)) return true;
+  const auto first_path = std::filesystem::weakly_canonical(link_target(first), error);
+  if (error) return false;
+  const auto second_path = std::filesystem::weakly_canonical(link_target(second), error);
+  return !error && first_path == second_path;
+}
+
+}  // namespace
+
+void refuse_shared_outputs(const std::vector<std::pair<std::string, std::string>>& outputs) {
+  for (std::size_t i = 0; i < outputs.size(); ++i)
+    for (std::size_t j = 0; j < i; ++j) {
+      const auto& [option, path] = outputs[i];
+      const auto& [other_option, other_path] = outputs[j];
+      if (path.empty() || path == "-" || other_path.empty() || other_path == "-") continue;
+      if (is_same_file(path, other_path))
+        throw input_error(option + ": " + path + " is also " + other_option + "'s file; give each output its own");
+    }
+}
+
 void refuse_overwriting_input(const std::string& path) {
   if (!path.empty() && path != "-") refuse_overwriting(path, path);
 }

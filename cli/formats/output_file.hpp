@@ -10,6 +10,8 @@
 #include <stdexcept>
 #include <string>
 #include <string_view>
+#include <utility>
+#include <vector>
 
 namespace pleat::cli {
 
@@ -52,6 +54,13 @@ class OutputFile {
 void note_input_file(const std::string& path, const std::string& what = "network");
 // The same refusal, asked before a long run rather than when its result is written.
 void refuse_overwriting_input(const std::string& path);
+
+// Two outputs of one command on one file: the later would replace the
+// earlier, and the "written" line of the earlier would be false. Throws
+// input_error "OPTION: FILE is also OTHER's file; give each output its own"
+// for the first such pair, before the run; `outputs` are (option, path),
+// empty paths and "-" (standard output) left out.
+void refuse_shared_outputs(const std::vector<std::pair<std::string, std::string>>& outputs);
 
 // Throws output_error when standard output cannot be written (after
 // flushing it): "cannot write to standard output (No space left on device)".

@@ -7,6 +7,7 @@
 # 2. A whole-file output that fails while being written (here: the file-size
 #    limit, EFBIG, as a full disk would) leaves the earlier file whole, and no
 #    temporary file: the old binary truncated it to the limit (1 KB).
+# 3. Two outputs of one command on one file are refused before the run.
 set -u
 source "$(dirname "$0")/lib.sh"
 fold=$source_dir/data/fold2d.json
@@ -61,6 +62,32 @@ chmod 640 "$work/real/target.json"
 [ "$(stat -c %a "$work/real/target.json")" = 640 ] || fail "a 0640 file became $(stat -c %a "$work/real/target.json")"
 (umask 027; "$pleat" random --arch 2,3,1 --seed 1 -o "$work/new.json") || fail "random to a new file exited $?"
 [ "$(stat -c %a "$work/new.json")" = 640 ] || fail "a new file under umask 027 is $(stat -c %a "$work/new.json")"
+# Two outputs of one command on one file are refused before the run: the later
+# replaced the earlier while both "written" lines were printed (walk -o R
+# --points-out R left the points and said "written R (N region lines)").
+shared_refused() {  # NEEDLE command...: exit 2 with NEEDLE, nothing written
+  local needle=$1
+  shift
+  rm -f "$work/shared.out" "$work/shared.svg"
+  "$pleat" "$@" > /dev/null 2> "$work/err"
+  local status=$?
+  [ $status -eq 2 ] || fail "$*: exit $status, expected 2 (stderr: $(cat "$work/err"))"
+  expect_contains "$(cat "$work/err")" "$needle" "$*"
+  [ ! -e "$work/shared.out" ] && [ ! -e "$work/shared.svg" ] || fail "$*: the shared file was written"
+}
+shared_refused "--points-out: $work/./shared.out is also -o's file; give each output its own" \
+  walk "$fold" -q -o "$work/shared.out" --points-out "$work/./shared.out"
+shared_refused "--witness-out: $work/shared.out is also --rows-out's file" \
+  certify "$fold" -q --rows-out "$work/shared.out" --witness-out "$work/shared.out"
+shared_refused "--bundle: $work/shared.out is also --kernel-out's file" \
+  certify "$fold" -q --kernel-out "$work/shared.out" --bundle "$work/shared.out"
+shared_refused "--table: $work/shared.svg is also --out's file" \
+  draw "$fold" -q --out "$work/shared.svg" --table "$work/shared.svg"
+shared_refused "--svg: $work/shared.out is also --csv's file" \
+  track "$fold" -q --csv "$work/shared.out" --svg "$work/shared.out"
+ln -s "$work/shared.out" "$work/shared_link.out"
+shared_refused "--points-out: $work/shared_link.out is also -o's file" \
+  walk "$fold" -q -o "$work/shared.out" --points-out "$work/shared_link.out"
 # Devices are still written in place.
 "$pleat" random --arch 2,3,1 --seed 1 -o /dev/null || fail "-o /dev/null exited $?"
 echo "outputs keep inputs and earlier files: ok"
