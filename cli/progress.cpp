@@ -16,14 +16,17 @@ ProgressLine::ProgressLine(bool is_quiet) : shown_(!is_quiet && isatty(STDERR_FI
 
 ProgressLine::~ProgressLine() { finish(); }
 
-void ProgressLine::update(const std::string& text) {
-  if (!shown_) return;
-  const double now = now_seconds();
-  if (now - last_ < 0.2) return;
-  last_ = now;
+bool ProgressLine::is_due() const { return shown_ && now_seconds() - last_ >= 0.2; }
+
+void ProgressLine::show(const std::string& text) {
+  last_ = now_seconds();
   std::fprintf(stderr, "\r\033[K%s", text.c_str());
   std::fflush(stderr);
   dirty_ = true;
+}
+
+void ProgressLine::update(const std::string& text) {
+  if (is_due()) show(text);
 }
 
 void ProgressLine::finish() {

@@ -249,6 +249,21 @@ void print_result(const Network& network, const Domain& domain, const Functional
   }
 }
 
+// The progress line of a phase after the walk (or of the points before it).
+std::string phase_text(const CertifyProgress& state) {
+  std::string text = std::string("certifying: ") + state.phase;
+  if (std::string(state.phase) == "kernel")
+    text += state.done == 0   ? " (the extra directions from the walk's prime)"
+            : state.done == 1 ? " (the extra directions, further primes)"
+                              : " (the extra directions, exact solve)";
+  else if (std::string(state.phase) == "points")
+    text += ", rank " + std::to_string(state.done) + " of the scaling bound " + std::to_string(state.total);
+  else
+    text += " " + std::to_string(state.done) + "/" + std::to_string(state.total) +
+            (std::string(state.phase) == "check" ? " regions" : " directions");
+  return text;
+}
+
 // The walk and ranks of certify_functional_dimension, with the progress line,
 // interrupt handling and the command's limits.
 FunctionalDimensionResult certify_with_progress(const CertifyArguments& arguments, const Network& network,
@@ -258,22 +273,12 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
   FunctionalDimensionOptions options;
   apply_walk_limits(arguments.limits, interrupt.flag(), options.walk);
   options.walk.on_progress = [&](const WalkProgress& state) {
-    progress.update("certifying: " + std::to_string(state.regions) + " regions walked, frontier " +
-                    std::to_string(state.frontier));
+    progress.update([&] {
+      return "certifying: " + std::to_string(state.regions) + " regions walked, frontier " +
+             std::to_string(state.frontier);
+    });
   };
-  options.on_phase = [&](const CertifyProgress& state) {
-    std::string text = std::string("certifying: ") + state.phase;
-    if (std::string(state.phase) == "kernel")
-      text += state.done == 0   ? " (the extra directions from the walk's prime)"
-              : state.done == 1 ? " (the extra directions, further primes)"
-                                : " (the extra directions, exact solve)";
-    else if (std::string(state.phase) == "points")
-      text += ", rank " + std::to_string(state.done) + " of the scaling bound " + std::to_string(state.total);
-    else
-      text += " " + std::to_string(state.done) + "/" + std::to_string(state.total) +
-              (std::string(state.phase) == "check" ? " regions" : " directions");
-    progress.update(text);
-  };
+  options.on_phase = [&](const CertifyProgress& state) { progress.update([&] { return phase_text(state); }); };
   options.stop_at_scaling_bound = stop_at_scaling_bound;
   // In an MPI job the walk, the reduction of its regions' rows and the
   // exact check of every region run across its processes; the kernel's
@@ -371,7 +376,9 @@ BatchDimension batch_with_progress(const CertifyArguments& arguments, const Netw
   BatchDimension batch = batch_dimension(
       network, domain, file.points, [&](std::size_t i) { return file.places[i] + " (point " + std::to_string(i) + ")"; },
       stop, static_cast<unsigned>(arguments.limits.threads), [&](const char* phase, std::size_t done, std::size_t total) {
-        progress.update(std::string("batch: ") + phase + " " + std::to_string(done) + "/" + std::to_string(total));
+        progress.update([&] {
+          return std::string("batch: ") + phase + " " + std::to_string(done) + "/" + std::to_string(total);
+        });
       });
   progress.finish();
   return batch;
@@ -449,7 +456,7 @@ bool write_bundle(const CertifyArguments& arguments, const Network& network, con
   const InterruptGuard interrupt;
   walk.interrupt = &interrupt.flag();
   walk.on_progress = [&](const WalkProgress& state) {
-    progress.update("bundle: " + std::to_string(state.regions) + " regions walked");
+    progress.update([&] { return "bundle: " + std::to_string(state.regions) + " regions walked"; });
   };
   const bool needs_every_region = result.upper_bound < result.scaling_bound;
   StopReason stopped_by = StopReason::none;

@@ -107,7 +107,9 @@ std::vector<Region> walk_all(const Network& network, const Domain& domain, const
     return true;
   };
   options.on_progress = [&](const WalkProgress& state) {
-    progress.update("walking: " + std::to_string(state.regions) + " regions, frontier " + std::to_string(state.frontier));
+    progress.update([&] {
+      return "walking: " + std::to_string(state.regions) + " regions, frontier " + std::to_string(state.frontier);
+    });
   };
   const WalkSummary summary = walk_regions(network, domain, options);
   progress.finish();

@@ -74,7 +74,9 @@ Walked walk(const Network& network, const Domain& domain, const ReportArguments&
     return true;
   };
   options.on_progress = [&](const WalkProgress& state) {
-    progress.update(what + ": " + std::to_string(state.regions) + " regions, frontier " + std::to_string(state.frontier));
+    progress.update([&] {
+      return what + ": " + std::to_string(state.regions) + " regions, frontier " + std::to_string(state.frontier);
+    });
   };
   walked.summary = walk_regions(network, domain, options);
   progress.finish();
@@ -90,7 +92,7 @@ FunctionalDimensionResult certify(const Network& network, const Domain& domain, 
   FunctionalDimensionOptions options;
   apply_walk_limits(arguments.limits, interrupt, options.walk);
   options.walk.on_progress = [&](const WalkProgress& state) {
-    progress.update("certify: " + std::to_string(state.regions) + " regions walked");
+    progress.update([&] { return "certify: " + std::to_string(state.regions) + " regions walked"; });
   };
   FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
   progress.finish();

@@ -157,7 +157,7 @@ int run_sample(const SampleArguments& arguments) {
   const InterruptGuard interrupt;
   apply_walk_limits(arguments.limits, interrupt.flag(), options.walk);
   options.walk.on_progress = [&](const WalkProgress& state) {
-    progress.update("sample: certifying, " + std::to_string(state.regions) + " regions walked");
+    progress.update([&] { return "sample: certifying, " + std::to_string(state.regions) + " regions walked"; });
   };
   options.on_point = [&](std::uint64_t drawn) {
     progress.update("sample: drawing points, " + std::to_string(drawn) + " of " + std::to_string(arguments.batch));

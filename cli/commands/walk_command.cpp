@@ -136,10 +136,12 @@ int run_walk(const WalkArguments& arguments) {
     return true;
   };
   options.on_progress = [&](const WalkProgress& state) {
-    std::ostringstream line;
-    line << "walking: " << state.regions << " regions, frontier " << state.frontier << ", "
-         << static_cast<long>(state.seconds > 0 ? state.regions / state.seconds : 0) << " regions/s";
-    progress.update(line.str());
+    progress.update([&] {
+      std::ostringstream line;
+      line << "walking: " << state.regions << " regions, frontier " << state.frontier << ", "
+           << static_cast<long>(state.seconds > 0 ? state.regions / state.seconds : 0) << " regions/s";
+      return line.str();
+    });
   };
   DistributedWalkStatistics statistics;
   const WalkSummary summary = walk_here_or_across(network, domain, options, &statistics);

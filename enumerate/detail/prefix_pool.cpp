@@ -22,10 +22,10 @@ namespace {
 // stack) from scratch.
 PrefixRun run_inline(std::size_t count, const StopRequest& stop,
                      const std::function<void(std::size_t worker, std::size_t item)>& process,
-                     const std::function<void(std::size_t finished)>& on_tick) {
+                     const std::function<void(std::size_t finished)>& on_tick,
+                     std::chrono::steady_clock::time_point& last_tick) {
   using clock = std::chrono::steady_clock;
   PrefixRun run;
-  auto last_tick = clock::now();
   try {
     const StopScope scope(stop);
     for (; run.prefix < count; ++run.prefix) {
@@ -113,7 +113,6 @@ void PrefixPool::serve(std::size_t worker) {
 
 void PrefixPool::work(Job& job, std::size_t worker) {
   using clock = std::chrono::steady_clock;
-  auto last_tick = clock::now();
   try {
     const StopScope scope(*job.stop);
     while (!job.halt) {
@@ -128,9 +127,9 @@ void PrefixPool::work(Job& job, std::size_t worker) {
       (*job.process)(worker, i);
       job.done[i] = true;
       ++job.finished;
-      if (worker == 0 && job.on_tick && *job.on_tick && clock::now() - last_tick >= std::chrono::milliseconds(200)) {
+      if (worker == 0 && job.on_tick && *job.on_tick && clock::now() - last_tick_ >= std::chrono::milliseconds(200)) {
         (*job.on_tick)(job.finished);
-        last_tick = clock::now();
+        last_tick_ = clock::now();
       }
     }
   } catch (const Stopped& stopped) {  // mid-item: that item stays undone
@@ -148,7 +147,7 @@ PrefixRun PrefixPool::run(std::size_t count, const StopRequest& stop,
                           const std::function<void(std::size_t finished)>& on_tick) {
   PrefixRun run;
   if (count == 0) return run;
-  if (workers_ == 1 || count == 1) return run_inline(count, stop, process, on_tick);
+  if (workers_ == 1 || count == 1) return run_inline(count, stop, process, on_tick, last_tick_);
   Job job;
   job.count = count;
   job.stop = &stop;
@@ -178,6 +177,7 @@ PrefixRun PrefixPool::run(std::size_t count, const StopRequest& stop,
       if (on_tick) {
         lock.unlock();
         on_tick(job.finished);
+        last_tick_ = std::chrono::steady_clock::now();
         lock.lock();
       }
     }

@@ -4,6 +4,7 @@
 
 #include "core/stop.hpp"
 
+#include <chrono>
 #include <condition_variable>
 #include <cstddef>
 #include <cstdint>
@@ -66,6 +67,9 @@ class PrefixPool {
   std::uint64_t generation_ = 0;     // counts runs (under mutex_)
   std::size_t busy_ = 0;             // workers not yet out of the current run (under mutex_)
   bool is_closing_ = false;
+  // on_tick's last call, kept across runs so that a walk of many levels,
+  // each shorter than 0.2 s, still ticks every 0.2 s (worker 0's only).
+  std::chrono::steady_clock::time_point last_tick_ = std::chrono::steady_clock::now();
   std::vector<std::thread> threads_;  // last: started once the rest is set up
 };
 
