@@ -16,7 +16,7 @@ build=$(cd "$1" && pwd)
 pleat=$2
 seconds=${3:-${PLEAT_FUZZ_SECONDS:-40}}
 source_dir=$(cd "$(dirname "$0")/.." && pwd)
-readers=(network onnx domain points regions survey)
+readers=(network onnx domain points regions survey track)
 
 seeds=$build/seeds
 rm -rf "$seeds"
@@ -47,6 +47,9 @@ make_seeds() {
   /usr/bin/python3 -c 'import numpy, sys
 numpy.save(sys.argv[1], numpy.array([[0.5, -1.0], [0.25, 3.0]]))
 numpy.save(sys.argv[2], numpy.array([1.5, -2.0], dtype=numpy.float32))' "$seeds/points/two.npy" "$seeds/points/one_input.npy"
+  "$pleat" track "$source_dir/data/ramp1d.json" "$source_dir/tests/data/zero_row1d.json" --box -1,1 -q --threads 1 \
+    -o "$work/track.jsonl" > /dev/null
+  add_seed track track.jsonl "$work/track.jsonl"
   add_seed survey survey.jsonl "$work/survey.jsonl"
   add_seed survey shard.jsonl "$work/shard.jsonl"
 }
