@@ -18,6 +18,20 @@ expect_contains() {
 # json_key FILE KEY: the value of a top-level key, as JSON.
 json_key() { "$python" -c 'import json,sys; print(json.dumps(json.load(open(sys.argv[1]))[sys.argv[2]]))' "$1" "$2"; }
 
+# edit_json_line SOURCE TARGET LINE PYTHON: SOURCE (JSON lines) written to
+# TARGET with line LINE's object `d` changed by the Python statements.
+edit_json_line() {
+  "$python" - "$1" "$2" "$3" "$4" <<'PY'
+import json, sys
+lines = open(sys.argv[1]).read().splitlines()
+k = int(sys.argv[3]) - 1
+d = json.loads(lines[k])
+exec(sys.argv[4])
+lines[k] = json.dumps(d, separators=(",", ":"))
+open(sys.argv[2], "w").write("\n".join(lines) + "\n")
+PY
+}
+
 # json_eval FILE EXPR: a Python expression over the parsed file `d`, printed.
 json_eval() { "$python" -c 'import json,sys; d=json.load(open(sys.argv[1])); print(eval(sys.argv[2]))' "$1" "$2"; }
 

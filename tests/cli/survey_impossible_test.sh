@@ -16,17 +16,7 @@ survey=(survey --arch 2,3,1 --samples 4 --seed 1 -q)
 "$pleat" survey summary "$work/good.jsonl" > /dev/null || fail "summary of the untouched file failed"
 
 # edit NAME LINE PYTHON: set keys of the JSON object on file line LINE.
-edit() {
-  /usr/bin/python3 - "$work/good.jsonl" "$work/$1.jsonl" "$2" "$3" <<'PY'
-import json, sys
-lines = open(sys.argv[1]).read().splitlines()
-k = int(sys.argv[3]) - 1
-d = json.loads(lines[k])
-exec(sys.argv[4])
-lines[k] = json.dumps(d, separators=(",", ":"))
-open(sys.argv[2], "w").write("\n".join(lines) + "\n")
-PY
-}
+edit() { edit_json_line "$work/good.jsonl" "$work/$1.jsonl" "$2" "$3"; }
 
 # expect_refused NAME LINE NEEDLE: summary, merge and resume each exit 2 and name FILE:LINE.
 expect_refused() {

@@ -21,17 +21,7 @@ run -o "$work/good.jsonl" > /dev/null || fail "track exited $?"
   fail "epoch00 is no longer 21 of 48: $(sed -n 2p "$work/good.jsonl")"
 
 # edit NAME LINE PYTHON: the good file with line LINE's object changed.
-edit() {
-  "$python" - "$work/good.jsonl" "$work/$1.jsonl" "$2" "$3" <<'PY'
-import json, sys
-lines = open(sys.argv[1]).read().splitlines()
-k = int(sys.argv[3]) - 1
-d = json.loads(lines[k])
-exec(sys.argv[4])
-lines[k] = json.dumps(d, separators=(",", ":"))
-open(sys.argv[2], "w").write("\n".join(lines) + "\n")
-PY
-}
+edit() { edit_json_line "$work/good.jsonl" "$work/$1.jsonl" "$2" "$3"; }
 expect_refused() {
   local name=$1 needle=$2 out before
   before=$(cat "$work/$name.jsonl")
