@@ -125,7 +125,10 @@ void refuse_shared_outputs(const std::vector<std::pair<std::string, std::string>
     for (std::size_t j = 0; j < i; ++j) {
       const auto& [option, path] = outputs[i];
       const auto& [other_option, other_path] = outputs[j];
-      if (path.empty() || path == "-" || other_path.empty() || other_path == "-") continue;
+      if (path.empty() || other_path.empty()) continue;
+      if (path == "-" && other_path == "-")
+        throw input_error(option + ": standard output is also " + other_option + "'s; give each output its own");
+      if (path == "-" || other_path == "-") continue;
       if (is_same_file(path, other_path))
         throw input_error(option + ": " + path + " is also " + other_option + "'s file; give each output its own");
     }

@@ -58,8 +58,9 @@ void refuse_overwriting_input(const std::string& path);
 // Two outputs of one command on one file: the later would replace the
 // earlier, and the "written" line of the earlier would be false. Throws
 // input_error "OPTION: FILE is also OTHER's file; give each output its own"
-// for the first such pair, before the run; `outputs` are (option, path),
-// empty paths and "-" (standard output) left out.
+// for the first such pair, before the run, and "OPTION: standard output is
+// also OTHER's; ..." for two "-" (their lines would be interleaved);
+// `outputs` are (option, path), empty paths left out.
 void refuse_shared_outputs(const std::vector<std::pair<std::string, std::string>>& outputs);
 
 // Throws output_error when standard output cannot be written (after

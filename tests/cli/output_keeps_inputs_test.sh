@@ -88,6 +88,12 @@ shared_refused "--svg: $work/shared.out is also --csv's file" \
 ln -s "$work/shared.out" "$work/shared_link.out"
 shared_refused "--points-out: $work/shared_link.out is also -o's file" \
   walk "$fold" -q -o "$work/shared.out" --points-out "$work/shared_link.out"
+# Two outputs on standard output would interleave their lines.
+"$pleat" walk "$fold" -q -o - --points-out - > "$work/both.out" 2> "$work/err"
+status=$?
+[ $status -eq 2 ] || fail "walk -o - --points-out -: exit $status, expected 2"
+expect_contains "$(cat "$work/err")" "--points-out: standard output is also -o's" "walk -o - --points-out -"
+[ ! -s "$work/both.out" ] || fail "walk -o - --points-out -: wrote to standard output"
 # Devices are still written in place.
 "$pleat" random --arch 2,3,1 --seed 1 -o /dev/null || fail "-o /dev/null exited $?"
 echo "outputs keep inputs and earlier files: ok"
