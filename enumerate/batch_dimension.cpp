@@ -276,6 +276,7 @@ class BatchRanker {
     std::size_t columns_left() const { return is_done() ? 0 : system_.solved.size() - first_; }
 
     void next_chunk(std::size_t most = chunk) {
+      poll_stop();  // solve_square_exactly's FLINT fallback polls nothing
       const auto& [rows, pivots, free, solved] = system_;
       const std::size_t rank = rows.size();
       const std::size_t width = std::min(most, solved.size() - first_);
