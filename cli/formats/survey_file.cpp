@@ -303,12 +303,18 @@ SurveyFile read_survey_file(const std::string& path) {
     const std::string where = input.path() + ":" + std::to_string(number);
     Json document = Json::parse(line, nullptr, false);
     if (!input.last_had_newline() || document.is_discarded()) {
-      // A run killed while writing leaves one cut line at the very end.
-      if (input.at_end()) {
+      // A run killed while writing leaves one cut line at the very end, and
+      // a cut line has no newline (each line is written with its newline).
+      // A whole line that is no JSON was not cut by pleat: resuming would
+      // drop it and run its sample again, so it is refused, not dropped.
+      if (input.at_end() && !input.last_had_newline()) {
         file.has_partial_line = true;
         break;
       }
-      throw input_error(where + ": not a JSON line (only the last line of a survey file may be cut short)");
+      throw input_error(where + (input.last_had_newline()
+                                     ? ": not a JSON line (a whole line, ended by a newline: not cut short by an "
+                                       "interrupted run; mend or delete it)"
+                                     : ": not a JSON line (only the last line of a survey file may be cut short)"));
     }
     if (number == 1) {
       configuration = configuration_from_header(document, where);

@@ -2,7 +2,7 @@
 # pleat survey: the same lines at --threads 1 and 2; a resumed survey (file cut
 # after some lines and inside a line, or inside the header) equals an
 # uninterrupted one, also with the projection's timed samples (no -q); a different survey in the file is refused,
-# and so is a one-line file that is no survey; each sample
+# and so are a one-line file that is no survey and a whole line (newline and all) that is no JSON; each sample
 # equals 'pleat certify' on 'pleat random --sample i'; the summary's mean and
 # variance equal Python's exact fractions.
 set -u
@@ -90,6 +90,15 @@ grep -q "oneline.json: is not a survey file" "$work/oneline.err" || fail "unclea
 sed '3s/.*/{"sample": oops/' "$work/one.jsonl" > "$work/broken.jsonl"
 run -o "$work/broken.jsonl" 2> "$work/broken.err" && fail "a broken middle line was accepted"
 grep -q "broken.jsonl:3" "$work/broken.err" || fail "the message does not name the line: $(cat "$work/broken.err")"
+# So is a whole last line (ended by its newline) that is no JSON: an
+# interrupted run leaves a cut line without a newline; this one was dropped
+# and its sample run again, the file no longer holding what it held.
+sed '$s/.*/{"sample": oops/' "$work/one.jsonl" > "$work/broken_last.jsonl"
+cp "$work/broken_last.jsonl" "$work/broken_last.before"
+run -o "$work/broken_last.jsonl" 2> "$work/broken_last.err" && fail "a whole non-JSON last line was dropped"
+grep -q "broken_last.jsonl:$((samples + 1)): not a JSON line (a whole line" "$work/broken_last.err" ||
+  fail "the message does not name the line: $(cat "$work/broken_last.err")"
+cmp -s "$work/broken_last.jsonl" "$work/broken_last.before" || fail "the refused run touched the file"
 
 # Each sample equals pleat certify on pleat random --sample i.
 for i in 0 4 7; do
