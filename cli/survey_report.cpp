@@ -126,9 +126,16 @@ void print_summary(const SurveyRecord& record, const SurveySummary& summary, std
     out << "at the scaling bound  " << summary.at_scaling_bound << " of " << summary.certified
         << " certified samples (" << decimal(*summary.at_scaling_bound_fraction * 100, 4) << "%)\n";
   }
-  for (const SurveySample& s : summary.uncertified_samples)
-    out << "cut short             sample " << s.sample << ": between " << s.lower_bound << " and " << s.upper_bound
-        << " (" << (s.stop_reason == StopReason::none ? "stopped" : to_string(s.stop_reason)) << ")\n";
+  // Bounds that meet in a run cut short (stopped while naming, or as the
+  // walk's last region came) are said once, with why it is not certified.
+  for (const SurveySample& s : summary.uncertified_samples) {
+    const std::string reason = s.stop_reason == StopReason::none ? "stopped" : to_string(s.stop_reason);
+    out << "cut short             sample " << s.sample << ": ";
+    if (s.lower_bound == s.upper_bound)
+      out << s.lower_bound << " (its proved bounds meet; not certified: the run was cut short, " << reason << ")\n";
+    else
+      out << "between " << s.lower_bound << " and " << s.upper_bound << " (" << reason << ")\n";
+  }
 }
 
 void print_grid(const std::vector<SurveyRecord>& records, const std::vector<SurveySummary>& summaries,

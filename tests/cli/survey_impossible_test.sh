@@ -44,6 +44,10 @@ expect_refused meet_uncertified 5 "the bounds meet but the line is not certified
 edit meet_stopped 5 'd.update(certified=False, functional_dimension=None, early_stop=False, stop_reason="time-limit")'
 out=$("$pleat" survey summary "$work/meet_stopped.jsonl" 2>&1) || fail "a stopped line whose bounds meet was refused: $out"
 expect_contains "$out" "samples               4 of 4: 3 certified, 1 cut short by the time limit" "meet_stopped summary"
+# The one value is said once, with why it is not certified (was 'between 12 and 12').
+sample=$(sed -n 5p "$work/meet_stopped.jsonl" | "$python" -c 'import json,sys; d=json.load(sys.stdin); print(d["sample"], d["lower_bound"])')
+expect_contains "$out" "sample ${sample% *}: ${sample#* } (its proved bounds meet; not certified: the run was cut short, time-limit)" \
+  "meet_stopped summary's cut short line"
 edit parameters 2 'd["parametric_dimension"] = 99'
 expect_refused parameters 2 "parametric_dimension 99, but the header's architecture has 13"
 edit scaling_above 3 'd["scaling_bound"] = d["upper_bound"] = d["lower_bound"] = d["functional_dimension"] = 14'
