@@ -118,6 +118,34 @@ Rational parse_rational(std::string_view text) {
 
 std::string format_rational(const Rational& value) { return value.get_str(10); }
 
+std::string format_rational_brief(const Rational& value, std::size_t most) {
+  std::string exact = format_rational(value);
+  if (exact.size() <= most) return exact;
+  free_number_caches_at_thread_exit();  // MPFR pools integers per thread
+  mpfr_t rounded;
+  mpfr_init2(rounded, 64);
+  mpfr_set_q(rounded, value.get_mpq_t(), MPFR_RNDN);
+  mpfr_exp_t exponent = 0;
+  char* digits = mpfr_get_str(nullptr, &exponent, 10, 6, rounded, MPFR_RNDN);
+  std::string text = digits;
+  mpfr_free_str(digits);
+  mpfr_clear(rounded);
+  std::string sign;
+  if (!text.empty() && text[0] == '-') {
+    sign = "-";
+    text.erase(0, 1);
+  }
+  // mpfr_get_str's digits d1 d2 ... mean 0.d1d2... * 10^exponent (value is nonzero: "0" is short).
+  const long power = static_cast<long>(exponent) - 1;
+  const std::size_t numerator_digits = value.get_num().get_str().size() - (sgn(value) < 0 ? 1 : 0);
+  const std::string size = value.get_den() == 1
+                         ? "an integer of " + std::to_string(numerator_digits) + " digits"
+                         : "a fraction of " + std::to_string(numerator_digits) + "/" +
+                               std::to_string(value.get_den().get_str().size()) + " digits";
+  return "about " + sign + text.substr(0, 1) + "." + text.substr(1) + "e" + (power < 0 ? "-" : "+") +
+         std::to_string(power < 0 ? -power : power) + " (" + size + ")";
+}
+
 double to_double(const Rational& value) {
   // MPFR rounds correctly to 53 bits (mpq_get_d would truncate). Below the
   // normal range the second rounding to a subnormal may be off by one ulp.

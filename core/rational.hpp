@@ -8,6 +8,7 @@
 #include <gmpxx.h>
 
 #include <concepts>
+#include <cstddef>
 #include <string>
 #include <string_view>
 #include <type_traits>
@@ -107,6 +108,12 @@ Rational parse_rational(std::string_view text);
 
 // "-3/8", "7": lowest terms, positive denominator. Exact.
 std::string format_rational(const Rational& value);
+
+// For messages: format_rational when it is at most `most` characters, else
+// a decimal approximation with its size, "about 1.00000e+400 (an integer of
+// 401 digits)", "about -3.33333e-1 (a fraction of 120/121 digits)": an
+// error about a number given as 1e400 does not print 401 digits.
+std::string format_rational_brief(const Rational& value, std::size_t most = 48);
 
 // The nearest double, correctly rounded (MPFR; mpq_get_d would truncate),
 // except below the normal range, where it may be one ulp off. Not exact, by name.

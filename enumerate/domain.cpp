@@ -54,8 +54,8 @@ Domain make_box(const RationalVector& lower, const RationalVector& upper) {
   domain.upper = upper;
   for (std::size_t i = 0; i < domain.dim; ++i) {
     if (!(lower[i] < upper[i]))
-      throw input_error("axis " + std::to_string(i) + " has lower bound " + format_rational(lower[i]) +
-                        " not below upper bound " + format_rational(upper[i]));
+      throw input_error("axis " + std::to_string(i) + " has lower bound " + format_rational_brief(lower[i]) +
+                        " not below upper bound " + format_rational_brief(upper[i]));
     // x_i - lower_i > 0 and upper_i - x_i > 0.
     lp::Constraint above{RationalVector(domain.dim, Rational(0)), -lower[i]};
     above.normal[i] = 1;

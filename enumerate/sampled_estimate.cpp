@@ -54,7 +54,8 @@ class PointStream {
   void require_drawable(std::size_t axis) const {
     const double lo = to_double(dist_.lower[axis]), hi = to_double(dist_.upper[axis]);
     const std::string where = dist_.name + ": axis " + std::to_string(axis) + ": the interval (" +
-                              dist_.lower[axis].get_str() + ", " + dist_.upper[axis].get_str() + ")";
+                              format_rational_brief(dist_.lower[axis]) + ", " +
+                              format_rational_brief(dist_.upper[axis]) + ")";
     const char* type = is_float32_ ? "float32" : "float64";
     if (!std::isfinite(rounded(lo)) || !std::isfinite(rounded(hi)) || !std::isfinite(hi - lo))
       throw input_error(where + " reaches beyond the " + type + " range the points are drawn in");

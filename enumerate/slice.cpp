@@ -40,9 +40,9 @@ Domain slice_domain(const Domain& domain, std::size_t axis, const Rational& valu
       return make_whole_space(domain.dim - 1);
     case Domain::Kind::box:
       if (!(domain.lower[axis] < value && value < domain.upper[axis]))
-        throw input_error("the slice x" + std::to_string(axis + 1) + " = " + value.get_str() +
-                          " misses the box's interior (" + domain.lower[axis].get_str() + ", " +
-                          domain.upper[axis].get_str() + ")");
+        throw input_error("the slice x" + std::to_string(axis + 1) + " = " + format_rational_brief(value) +
+                          " misses the box's interior (" + format_rational_brief(domain.lower[axis]) + ", " +
+                          format_rational_brief(domain.upper[axis]) + ")");
       return make_box(without(domain.lower, axis), without(domain.upper, axis));
     case Domain::Kind::polytope: {
       std::vector<lp::Constraint> sides;
@@ -53,7 +53,7 @@ Domain slice_domain(const Domain& domain, std::size_t axis, const Rational& valu
         for (const auto& entry : normal) is_zero = is_zero && entry == 0;
         if (is_zero) {  // a side parallel to the plane: the plane is inside it or misses the domain
           if (offset > 0) continue;
-          throw input_error("the slice x" + std::to_string(axis + 1) + " = " + value.get_str() +
+          throw input_error("the slice x" + std::to_string(axis + 1) + " = " + format_rational_brief(value) +
                             " misses the domain's interior");
         }
         sides.push_back(lp::Constraint{std::move(normal), offset});
@@ -62,7 +62,7 @@ Domain slice_domain(const Domain& domain, std::size_t axis, const Rational& valu
       try {
         return make_polytope(domain.dim - 1, std::move(sides));
       } catch (const input_error&) {
-        throw input_error("the slice x" + std::to_string(axis + 1) + " = " + value.get_str() +
+        throw input_error("the slice x" + std::to_string(axis + 1) + " = " + format_rational_brief(value) +
                           " misses the domain's interior");
       }
     }

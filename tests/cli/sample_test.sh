@@ -192,5 +192,12 @@ status=$?
 [ $status = 2 ] || fail "sample with a box too narrow for float64 must exit 2, not $status: $err"
 expect_contains "$err" "pleat: --dist: axis 0: the interval (1, 100000000000000000001/100000000000000000000) is too narrow" \
   "a box too narrow for float64"
+# Long exact numbers in those messages are an approximation and a size (the
+# whole 401 digits of 10^400 were printed).
+err=$("$pleat" sample "$work/huge32.json" --batch 8 --seed 1 --dist box:0,1e400 -q 2>&1 > /dev/null)
+[ $? = 2 ] || fail "sample with a box beyond float64 must exit 2: $err"
+expect_contains "$err" "pleat: --dist: axis 0: the interval (0, about 1.00000e+400 (an integer of 401 digits)) reaches beyond" \
+  "a box beyond float64"
+[ ${#err} -lt 200 ] || fail "the message is ${#err} characters: $err"
 
 echo "sample: all checks passed"

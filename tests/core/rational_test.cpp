@@ -95,6 +95,20 @@ TEST(FormatRational, LowestTermsPositiveDenominator) {
     EXPECT_EQ(format_rational(parse_rational(text)), text);
 }
 
+// Messages print a long exact number as an approximation and its size:
+// --dist box:0,1e400 printed 401 digits.
+TEST(FormatRational, BriefKeepsShortNumbersAndApproximatesLongOnes) {
+  EXPECT_EQ(format_rational_brief(parse_rational("-3/8")), "-3/8");
+  EXPECT_EQ(format_rational_brief(parse_rational("1.00000000000000000001")),
+            "100000000000000000001/100000000000000000000");  // 43 characters: exact
+  EXPECT_EQ(format_rational_brief(parse_rational("1e400")), "about 1.00000e+400 (an integer of 401 digits)");
+  EXPECT_EQ(format_rational_brief(parse_rational("-1e400")), "about -1.00000e+400 (an integer of 401 digits)");
+  EXPECT_EQ(format_rational_brief(Rational(parse_rational("-1/3") / parse_rational("1e60"))), "about -3.33333e-61 (a fraction of 1/61 digits)");
+  EXPECT_EQ(format_rational_brief(parse_rational("123456789e-60")),
+            "about 1.23457e-52 (a fraction of 9/61 digits)");
+  EXPECT_EQ(format_rational_brief(parse_rational("1e40"), 8), "about 1.00000e+40 (an integer of 41 digits)");
+}
+
 TEST(Doubles, FromDoubleIsExactDyadic) {
   EXPECT_EQ(rational_from_double(0.375), fraction(3, 8));
   EXPECT_EQ(rational_from_double(-2.0), Rational(-2));
