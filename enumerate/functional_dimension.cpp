@@ -477,13 +477,18 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     else
       result.walk = options.walker ? options.walker(network, domain, walk_options)
                                    : walk_regions(network, domain, walk_options);
-    backlog.reduce_all();  // what the walk's threads left
-    result.regions_walked = stopped_at ? stopped_at->regions : delivered.regions;
-    if (stopped_at) {  // the walk as on_region would have stopped it, reducing each region's rows itself
-      result.early_stop = true;
-      smooth.resize(stopped_at->regions - stopped_at->nonsmooth);  // (activity is read only after a full walk)
-      detail::restate_walk_at(result.walk, *stopped_at);
+    // What the walk's threads left; after a stop (time limit, Ctrl-C), dropped
+    // from the first entry not reduced: the walk is then cut there.
+    std::optional<detail::RegionsSoFar> cut_at;
+    if (!backlog.reduce_all(stop) && !stopped_at) cut_at = backlog.last_reduced();
+    if (stopped_at || cut_at) {  // the walk as on_region would have stopped it, reducing each region's rows itself
+      const detail::RegionsSoFar& at = stopped_at ? *stopped_at : *cut_at;
+      result.early_stop = stopped_at.has_value();
+      smooth.resize(at.regions - at.nonsmooth);  // (activity is read only after a full walk)
+      detail::restate_walk_at(result.walk, at);
+      if (cut_at) result.walk.stop_reason = stop.reason();
     }
+    result.regions_walked = stopped_at ? stopped_at->regions : cut_at ? cut_at->regions : delivered.regions;
     result.walk_complete = result.walk.complete;
     result.nonsmooth_regions = result.walk.nonsmooth_regions;
     result.stop_reason = result.early_stop ? StopReason::none : result.walk.stop_reason;

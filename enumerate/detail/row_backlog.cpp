@@ -41,6 +41,7 @@ bool RowBacklog::reduce_one() {
     queue_.pop_front();
   }
   if (!reduce_(*oldest.pending, oldest.at)) is_closed_.store(true, std::memory_order_release);
+  last_reduced_ = oldest.at;
   const std::lock_guard lock(queue_mutex_);
   queued_bytes_ -= bytes_of(*oldest.pending);  // counted until reduced: the rows are held till then
   if (is_closed()) {
@@ -50,9 +51,21 @@ bool RowBacklog::reduce_one() {
   return true;
 }
 
-void RowBacklog::reduce_all() {
-  while (reduce_one()) {
-  }
+bool RowBacklog::reduce_all(const StopRequest& stop) {
+  while (!stop.is_requested())
+    if (!reduce_one()) return true;
+  const std::lock_guard reducing(reducing_);
+  const std::lock_guard lock(queue_mutex_);
+  const bool is_drained = queue_.empty() || is_closed();
+  is_closed_.store(true, std::memory_order_release);
+  queue_.clear();
+  queued_bytes_ = 0;
+  return is_drained;
+}
+
+RegionsSoFar RowBacklog::last_reduced() const {
+  const std::lock_guard reducing(reducing_);
+  return last_reduced_;
 }
 
 void restate_walk_at(WalkSummary& walk, const RegionsSoFar& at) {

@@ -8,6 +8,7 @@
 #include "core/matrix.hpp"
 #include "core/pattern.hpp"
 #include "core/rank.hpp"
+#include "core/stop.hpp"
 #include "enumerate/walker.hpp"
 
 #include <atomic>
@@ -55,8 +56,14 @@ class RowBacklog {
   void push(std::shared_ptr<const PendingRows> pending, const RegionsSoFar& at);
   // Reduces the oldest entry; false when the queue was empty or is closed. Any thread.
   bool reduce_one();
-  // Reduces every entry queued.
-  void reduce_all();
+  // Reduces every entry queued; true when it did. Polls `stop` before each
+  // entry: once it is requested the backlog is closed and the entries left
+  // are dropped unreduced (false), as if the walk had stopped at the last
+  // entry reduced (last_reduced). The drain after a walk stopped by its time
+  // limit at --threads 2 reduced up to 64 MB of rows, seconds past the limit.
+  bool reduce_all(const StopRequest& stop);
+  // The walk's regions up to the last entry reduced (none: all zero).
+  RegionsSoFar last_reduced() const;
   // True once reduce returned false. Any thread.
   bool is_closed() const { return is_closed_.load(std::memory_order_acquire); }
 
@@ -68,10 +75,11 @@ class RowBacklog {
   Reduce reduce_;
   std::size_t limit_bytes_;
   std::atomic<bool> is_closed_{false};
-  std::mutex reducing_;  // held while an entry is reduced: one at a time, in order
+  mutable std::mutex reducing_;  // held while an entry is reduced: one at a time, in order
   std::mutex queue_mutex_;
   std::deque<Entry> queue_;       // under queue_mutex_
   std::size_t queued_bytes_ = 0;  // under queue_mutex_
+  RegionsSoFar last_reduced_;     // under reducing_
 };
 
 // The walk as if it had stopped at region at.regions (on_region asking it to
