@@ -329,6 +329,8 @@ int report_survey(const ReportArguments& arguments) {
   if (!arguments.domain.box_text.empty() || !arguments.domain.domain_path.empty() || !arguments.slice_text.empty())
     throw input_error("report: a survey file carries its own domain; --box, --domain and --slice are for networks");
   SurveyFile file = read_survey_file(arguments.input_path);
+  if (file.has_partial_line)  // as survey summary says it (the page was silent)
+    std::cerr << "pleat: " << arguments.input_path << ": ignoring a last line cut short (rerun the survey to complete it)\n";
   const SurveyRecord record{std::move(file.header), std::move(file.samples), arguments.input_path};
   const SurveySummary summary = summarize_survey(record.samples);
   Json data;

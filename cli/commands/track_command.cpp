@@ -300,7 +300,10 @@ int track_checkpoints(const TrackArguments& arguments, UnwrittenOutputs& outputs
   std::map<std::size_t, TrackRow> finished;
   std::optional<OutputFile> lines;
   if (!arguments.output_path.empty()) {
-    finished = read_finished_rows(arguments.output_path, header, facts);
+    bool dropped_cut_line = false;
+    finished = read_finished_rows(arguments.output_path, header, facts, &dropped_cut_line);
+    if (dropped_cut_line)
+      std::cerr << "pleat: " << arguments.output_path << ": dropped a last line cut short by an earlier run\n";
     const bool is_new = !std::filesystem::is_regular_file(arguments.output_path) ||
                         std::filesystem::file_size(arguments.output_path) == 0;
     lines.emplace(arguments.output_path, OutputFile::Mode::append);

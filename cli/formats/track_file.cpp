@@ -129,7 +129,9 @@ bool is_cut_track_header(const std::string& line) {
 }  // namespace
 
 std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, const Json& header,
-                                                   const std::vector<CheckpointFacts>& checkpoints) {
+                                                   const std::vector<CheckpointFacts>& checkpoints,
+                                                   bool* dropped_cut_line) {
+  if (dropped_cut_line) *dropped_cut_line = false;
   std::map<std::size_t, TrackRow> rows;
   // Only a regular file holds earlier rows (/dev/full reads zeros forever; a folder fails on open for writing).
   if (!std::filesystem::is_regular_file(path)) return rows;
@@ -161,7 +163,10 @@ std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, cons
     }
     complete_bytes = input.bytes_read();
   }
-  if (complete_bytes < std::filesystem::file_size(path)) std::filesystem::resize_file(path, complete_bytes);
+  if (complete_bytes < std::filesystem::file_size(path)) {
+    std::filesystem::resize_file(path, complete_bytes);
+    if (dropped_cut_line) *dropped_cut_line = true;
+  }
   return rows;
 }
 

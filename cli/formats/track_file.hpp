@@ -52,8 +52,10 @@ std::string network_fingerprint(const Network& network);
 // complete, each checkpoint once. A last line cut short by a killed run is
 // truncated away (a header cut short too); a missing or non-regular file
 // holds no rows. Anything else is an input_error naming the file and line,
-// and the file is left as it was.
+// and the file is left as it was. dropped_cut_line: set to whether a cut
+// line was truncated away (the caller says so: nothing is dropped silently).
 std::map<std::size_t, TrackRow> read_finished_rows(const std::string& path, const Json& header,
-                                                   const std::vector<CheckpointFacts>& checkpoints);
+                                                   const std::vector<CheckpointFacts>& checkpoints,
+                                                   bool* dropped_cut_line = nullptr);
 
 }  // namespace pleat::cli

@@ -36,7 +36,9 @@ class SurveyResult:
     """A survey's samples and exact statistics over the certified ones: histogram
     (value -> count), mean and variance (Fractions; variance divides by n - 1),
     modes, at_scaling_bound (how many equal their scaling bound) and its
-    fraction. Uncertified samples (cut short) are bounds, out of the histogram."""
+    fraction. Uncertified samples (cut short) are bounds, out of the histogram.
+    dropped_partial_line: the file's last line was cut short by a killed run and
+    left out (read_survey) or dropped and its sample run again (survey)."""
     arch: list[int]
     samples: list[SurveySample] = field(repr=False)
     samples_total: int
@@ -54,6 +56,7 @@ class SurveyResult:
     resumed: int = field(repr=False)
     interrupted: bool  # shown: a survey stopped by Ctrl-C holds fewer samples than samples_total
     header: str = field(repr=False)
+    dropped_partial_line: bool = field(repr=False, default=False)
 
     def to_records(self) -> list[dict[str, Any]]:
         return [dataclasses.asdict(s) for s in self.samples]
@@ -75,7 +78,8 @@ def _survey_result(data: dict) -> SurveyResult:
                         at_scaling_bound=data["at_scaling_bound"],
                         at_scaling_bound_fraction=data["at_scaling_bound_fraction"],
                         scaling_bound=data["scaling_bound"], domain=data["domain"], path=data["path"],
-                        resumed=data["resumed"], interrupted=data["interrupted"], header=data["header"])
+                        resumed=data["resumed"], interrupted=data["interrupted"], header=data["header"],
+                        dropped_partial_line=data["dropped_partial_line"])
 
 
 def survey(arch: Sequence[int], samples: int, seed: int, *, init: str = "he", digits: int = 6,

@@ -149,6 +149,13 @@ for key in ('histogram', 'mean', 'variance', 'modes', 'at_scaling_bound', 'scali
     assert d['survey']['summary'][key] == s[key], key
 assert sum(len(v) for v in d['survey']['samples_by_value'].values()) == s['certified']
 " "$work/summary.json" || fail "survey page differs from survey summary"
+# A survey file whose last line was cut by a kill: the page leaves it out and
+# says so, as survey summary does (it was silent).
+head -n 4 "$work/s.jsonl" > "$work/s_cut.jsonl"
+sed -n 5p "$work/s.jsonl" | head -c 30 >> "$work/s_cut.jsonl"
+"$pleat" report "$work/s_cut.jsonl" -o "$work/s_cut.html" > /dev/null 2> "$work/s_cut.err" || fail "report of a cut survey failed"
+grep -q "s_cut.jsonl: ignoring a last line cut short" "$work/s_cut.err" ||
+  fail "the report did not say it left out the cut line: $(cat "$work/s_cut.err")"
 
 # A network whose name holds markup cannot break out of the page's data or text.
 /usr/bin/python3 - "$fold" "$work/named.json" <<'PY'

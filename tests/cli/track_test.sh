@@ -48,7 +48,11 @@ for line in open(sys.argv[1]):
     d = json.loads(line); d.pop("seconds", None); print(json.dumps(d, sort_keys=True))' "$1"; }
 head -n 3 "$work/full.jsonl" > "$work/resumed.jsonl"
 sed -n 4p "$work/full.jsonl" | head -c 40 >> "$work/resumed.jsonl"
-"$pleat" track "${checkpoints[@]}" --box -2,2 -o "$work/resumed.jsonl" -q > /dev/null || fail "resumed track exited $?"
+"$pleat" track "${checkpoints[@]}" --box -2,2 -o "$work/resumed.jsonl" -q > /dev/null 2> "$work/resumed.err" ||
+  fail "resumed track exited $?"
+# The cut line is dropped and its checkpoint run again, saying so (it was silent).
+grep -q "resumed.jsonl: dropped a last line cut short by an earlier run" "$work/resumed.err" ||
+  fail "the resume did not say it dropped the cut line: $(cat "$work/resumed.err")"
 [ "$(strip_seconds "$work/resumed.jsonl")" = "$(strip_seconds "$work/full.jsonl")" ] ||
   fail "a resumed run differs from an uninterrupted one"$'\n'"$(diff <(strip_seconds "$work/resumed.jsonl") <(strip_seconds "$work/full.jsonl"))"
 

@@ -69,8 +69,12 @@ class SurveyTest(unittest.TestCase):
             text = handle.read()
         with open(path, "w") as handle:
             handle.write(text[: text.rstrip("\n").rfind("\n") + 1] + text.rstrip("\n").rsplit("\n", 1)[1][:10])
+        self.assertTrue(pleat.read_survey(path).dropped_partial_line)  # said, not silent
         again = pleat.survey(**dict(ARGS, samples=6), output=path)
         self.assertEqual(again.resumed, 5)
+        self.assertTrue(again.dropped_partial_line)
+        self.assertFalse(first.dropped_partial_line)
+        self.assertFalse(pleat.read_survey(path).dropped_partial_line)
         self.assertEqual(sorted(s.sample for s in again.samples), list(range(6)))
         self.assertEqual(len(pleat.read_survey(path).samples), 6)
 
