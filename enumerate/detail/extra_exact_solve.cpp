@@ -8,7 +8,6 @@
 #include "enumerate/detail/padic_solve.hpp"
 #include "enumerate/detail/parallel_for.hpp"
 
-#include <flint/fmpq.h>
 #include <flint/fmpz.h>
 
 #include <optional>
@@ -25,10 +24,8 @@ void primitive_integer_row(const RationalMatrix& rows, std::size_t r, const std:
 }
 
 // The system sum_m K[chosen_i, unknowns_m] x_m = -K[chosen_i, target] over Q
-// (one scale per row for both sides), or nullopt when it is singular: from 8
-// unknowns by p-adic lifting (padic_solve.hpp), else or when that gives up
-// by FLINT (fraction-free for small systems, Dixon's lifting for larger; one
-// call, not interruptible).
+// (one scale per row for both sides), or nullopt when it is singular:
+// solve_square_exactly (padic_solve.hpp).
 std::optional<std::vector<RationalVector>> solve_square(const RationalMatrix& rows,
                                                         const std::vector<std::size_t>& chosen,
                                                         const std::vector<std::size_t>& unknowns,
@@ -48,17 +45,11 @@ std::optional<std::vector<RationalVector>> solve_square(const RationalMatrix& ro
     }
   }
   poll_stop();
+  const std::optional<RationalMatrix> solution = solve_square_exactly(square.get(), right.get());
+  if (!solution) return std::nullopt;
   std::vector<RationalVector> out(targets.size(), RationalVector(n));
-  if (n >= 8)
-    if (const std::optional<RationalMatrix> lifted = solve_by_padic_lifting(square.get(), right.get())) {
-      for (std::size_t m = 0; m < n; ++m)
-        for (std::size_t t = 0; t < targets.size(); ++t) out[t][m] = (*lifted)(m, t);
-      return out;
-    }
-  FmpqMatrix solution(n, targets.size());
-  if (!fmpq_mat_solve_fmpz_mat(solution.get(), square.get(), right.get())) return std::nullopt;
   for (std::size_t m = 0; m < n; ++m)
-    for (std::size_t t = 0; t < targets.size(); ++t) fmpq_get_mpq(out[t][m].get_mpq_t(), solution.entry(m, t));
+    for (std::size_t t = 0; t < targets.size(); ++t) out[t][m] = (*solution)(m, t);
   return out;
 }
 

@@ -8,7 +8,6 @@
 #include "enumerate/detail/padic_solve.hpp"
 #include "enumerate/detail/parallel_for.hpp"
 
-#include <flint/fmpq.h>
 #include <flint/fmpz.h>
 #include <flint/nmod_mat.h>
 #include <flint/ulong_extras.h>
@@ -212,8 +211,8 @@ struct CrtTables {
 // The rows solved exactly from their square system modulo the first further
 // primes, whose product exceeds twice every scaled entry's bound (CheckScale:
 // L^(d-1) times a block entry is an integer of absolute value at most
-// L^(d-1) B_c): the symmetric residues are those integers, and FLINT's
-// p-adic solve (Dixon) gives the rational solution. False when that system
+// L^(d-1) B_c): the symmetric residues are those integers, and
+// solve_square_exactly (padic_solve.hpp) gives the rational solution. False when that system
 // is singular over Q (the lift then fails: bounds, or the exact fallback).
 bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
   const std::size_t n = lift.support.size(), count = lift.leads.size();
@@ -275,23 +274,11 @@ bool solve_rows_exactly(RowLift& lift, const Integer& scale) {
     }
   }
   poll_stop();
+  const std::optional<RationalMatrix> solution = solve_square_exactly(square.get(), right.get());
+  if (!solution) return false;
   RationalMatrix rows(count, n);
-  // Beyond tiny systems, p-adic lifting (padic_solve.hpp: on the systems of
-  // 2,15,15,15,15,1, best of 20, 4.7 ms against 11.2 for FLINT's Dixon solve
-  // at 138 x 138, 0.05 against 0.16 ms for its fraction-free solve at
-  // 15 x 15), FLINT's Dixon solve when it gives up.
-  const std::optional<RationalMatrix> lifted =
-      n >= 8 ? solve_by_padic_lifting(square.get(), right.get()) : std::optional<RationalMatrix>();
-  FmpqMatrix solution(lifted ? 0 : n, count);
-  if (!lifted && !(n < 8 ? fmpq_mat_solve_fmpz_mat_fraction_free(solution.get(), square.get(), right.get())
-                         : fmpq_mat_solve_fmpz_mat_dixon(solution.get(), square.get(), right.get())))
-    return false;
   for (std::size_t m = 0; m < n; ++m)
-    for (std::size_t j = 0; j < count; ++j)
-      if (lifted)
-        rows(j, m) = (*lifted)(m, j);
-      else
-        fmpq_get_mpq(rows(j, m).get_mpq_t(), solution.entry(m, j));
+    for (std::size_t j = 0; j < count; ++j) rows(j, m) = (*solution)(m, j);
   lift.last = std::move(rows);
   lift.is_stable = true;
   return true;

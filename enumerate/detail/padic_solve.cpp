@@ -4,6 +4,7 @@
 #include "core/stop.hpp"
 
 #include <flint/fmpq.h>
+#include <flint/fmpq_mat.h>
 #include <flint/fmpz.h>
 #include <flint/ulong_extras.h>
 
@@ -388,6 +389,20 @@ std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, c
     }
   }
   if (open > 0) return std::nullopt;
+  return solution;
+}
+
+std::optional<RationalMatrix> solve_square_exactly(const fmpz_mat_struct* a, const fmpz_mat_struct* b) {
+  const auto n = static_cast<std::size_t>(fmpz_mat_nrows(a)), m = static_cast<std::size_t>(fmpz_mat_ncols(b));
+  if (n >= padic_from_unknowns)
+    if (std::optional<RationalMatrix> lifted = solve_by_padic_lifting(a, b)) return lifted;
+  FmpqMatrix flint_solution(n, m);
+  if (!(n < padic_from_unknowns ? fmpq_mat_solve_fmpz_mat_fraction_free(flint_solution.get(), a, b)
+                                : fmpq_mat_solve_fmpz_mat_dixon(flint_solution.get(), a, b)))
+    return std::nullopt;
+  RationalMatrix solution(n, m);
+  for (std::size_t i = 0; i < n; ++i)
+    for (std::size_t j = 0; j < m; ++j) fmpq_get_mpq(solution(i, j).get_mpq_t(), flint_solution.entry(i, j));
   return solution;
 }
 

@@ -55,17 +55,6 @@ bool chunk_in_span(FmpzMatrix& kept_matrix, FmpzMatrix& combination, const std::
 
 }  // namespace
 
-std::optional<RationalMatrix> solve_square_exactly(const fmpz_mat_struct* a, const fmpz_mat_struct* b) {
-  if (auto solution = solve_by_padic_lifting(a, b)) return solution;
-  FmpqMatrix flint_solution(static_cast<std::size_t>(fmpz_mat_nrows(b)), static_cast<std::size_t>(fmpz_mat_ncols(b)));
-  if (!fmpq_mat_solve_fmpz_mat_dixon(flint_solution.get(), a, b)) return std::nullopt;
-  RationalMatrix solution(static_cast<std::size_t>(fmpz_mat_nrows(b)), static_cast<std::size_t>(fmpz_mat_ncols(b)));
-  for (std::size_t i = 0; i < solution.rows(); ++i)
-    for (std::size_t j = 0; j < solution.cols(); ++j)
-      fmpq_get_mpq(solution(i, j).get_mpq_t(), flint_solution.entry(i, j));
-  return solution;
-}
-
 bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots,
                   const std::vector<IntegerRow>& others, const SpanProgress& on_chunk, std::size_t chunk) {
   if (others.empty()) return true;

@@ -7,6 +7,7 @@
 
 #include "core/matrix.hpp"
 #include "core/rational.hpp"
+#include "enumerate/detail/padic_solve.hpp"
 
 #include <gmp.h>
 // FLINT after GMP so that its mpz conversion functions are declared.
@@ -20,14 +21,6 @@
 namespace pleat::detail {
 
 using IntegerRow = std::vector<Integer>;
-
-// X with A X = B over Q (A square and nonsingular, integers): the p-adic
-// solve of padic_solve.hpp (it accepts a column once its candidate solves
-// the system modulo a second prime; 2-3 times faster than FLINT's Dixon
-// solve on the batch ranks of a 2,15,15,15,1 network), else FLINT's.
-// Not proved: callers check the result exactly. nullopt when A is
-// singular. Polls the current StopScope.
-std::optional<RationalMatrix> solve_square_exactly(const fmpz_mat_struct* a, const fmpz_mat_struct* b);
 
 // Whether every row of `others` is a rational combination of the rows of
 // `kept`. Preconditions: all rows have the same length; `pivots` are
