@@ -167,6 +167,11 @@ IntegerCheck::IntegerCheck(const Network& network, const CheckScale& check_scale
       append_limbs(value, vector.limbs, limbs_);
       ++vector.runs.back().last;
     }
+    vector.one_input = std::all_of(vector.runs.begin(), vector.runs.end(), [&](const Run& run) {
+      const Run& first = vector.runs.front();
+      return run.last - run.first == 1 && run.layer == first.layer && terms_[run.first].input != bias &&
+             terms_[run.first].input == terms_[first.first].input;
+    });
     for (Run& run : vector.runs)
       if (run.last - run.first >= 2 && run.layer + 1 < depth_) {
         run.slot = cached_runs_++;
@@ -313,6 +318,24 @@ bool IntegerCheck::annihilates(const ActivationPattern& pattern, const std::vect
       if (!live[vector.index]) continue;
       const std::size_t n = vector.limbs;
       std::vector<std::uint64_t>& sums = factors.sums;
+      if (vector.one_input) {
+        // N_t = X_k[j]_t S (Vector::one_input): N_t at the first t with
+        // X_k[j]_t != 0 decides. Each product h x is the exact F of its
+        // column, as below.
+        const Run& first = vector.runs.front();
+        const std::size_t j = terms_[first.first].input;
+        const Wide* slopes = factors.linear[first.layer].data() + j * n0;
+        Wide x = factors.offset[first.layer][j];
+        for (std::size_t t = 0; x == 0 && t < n0; ++t) x = slopes[t];
+        if (x == 0) continue;  // X_k[j] = 0: every N_t is 0
+        sums.assign(n, 0);
+        for (const Run& run : vector.runs) {
+          const Wide h = factors.signal[run.layer][o * widths_[run.layer] + run.neuron];
+          if (h != 0) add_product(sums.data(), limbs_.data() + terms_[run.first].limbs, n, h * x);
+        }
+        if (std::any_of(sums.begin(), sums.end(), [](std::uint64_t limb) { return limb != 0; })) return false;
+        continue;
+      }
       sums.assign((n0 + 1) * n, 0);
       for (const Run& run : vector.runs) {
         const Wide h = factors.signal[run.layer][o * widths_[run.layer] + run.neuron];

@@ -640,6 +640,61 @@ TEST(KernelCheck, VectorsSharingAHugePartPassAndChangedOnesNameTheExactFirstRegi
   EXPECT_GT(rejected, 10u);
 }
 
+// Vectors whose terms are all weights of one layer at one input, W_k[i, j]
+// for several neurons i and one j (the integer check decides them at one
+// component of X_k[j], integer_check.hpp): neurons 0 and 3 of the second
+// hidden layer always on together (3's weights and bias twice 0's), so
+// W_2[0,3] W_1[0,j] - W_2[0,0] W_1[3,j] passes on every region, and the
+// same changed by 1/3 in one entry, and every pair and triple of neurons at
+// every input of both hidden layers, must name the exact products' first region.
+TEST(KernelCheck, VectorsAtOneInputPassAndChangedOnesNameTheExactFirstRegion) {
+  Network network = random_network({2, 4, 4, 1}, 5);
+  Layer& middle = network.layers[1];
+  for (std::size_t j = 0; j < middle.fan_in(); ++j) middle.weights(3, j) = 2 * middle.weights(0, j);
+  middle.bias[3] = 2 * middle.bias[0];
+  const detail::CheckScale scale(network);
+  ASSERT_TRUE(detail::IntegerCheck::applies(scale));
+  const WalkState state = walk_state(network);
+  std::vector<RationalMatrix> blocks;
+  for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+  const std::size_t columns = network.parametric_dimension();
+  auto weight = [&](std::size_t k, std::size_t i, std::size_t j) {
+    return network.parameter_offset(k) + i * network.layers[k].fan_in() + j;
+  };
+  std::size_t passed = 0, rejected = 0;
+  auto expect_exact = [&](const RationalMatrix& vector, const std::string& label) {
+    (expect_check_names_first_exact_region(network, scale, state.smooth, blocks, vector, label) ? rejected : passed) +=
+        1;
+  };
+  const Rational& out0 = network.layers[2].weights(0, 0);
+  const Rational& out3 = network.layers[2].weights(0, 3);
+  for (std::size_t j = 0; j < middle.fan_in(); ++j)
+    for (const Rational& change : {Rational(0), Rational(1, 3)}) {
+      RationalMatrix vector(1, columns);
+      vector(0, weight(1, 0, j)) = out3 + change;
+      vector(0, weight(1, 3, j)) = -out0;
+      expect_exact(vector, "duplicate pair at input " + std::to_string(j) + (change == 0 ? "" : " changed"));
+      if (change == 0) {
+        EXPECT_FALSE(first_region_not_annihilated_exactly(blocks, vector).has_value()) << "input " << j;
+      }
+    }
+  for (std::size_t k = 0; k < 2; ++k)
+    for (std::size_t j = 0; j < network.layers[k].fan_in(); ++j)
+      for (std::size_t a = 0; a < 4; ++a)
+        for (std::size_t b = a + 1; b < 4; ++b) {
+          RationalMatrix vector(1, columns);
+          vector(0, weight(k, a, j)) = network.layers[k + 1].weights(0, b);
+          vector(0, weight(k, b, j)) = -network.layers[k + 1].weights(0, a);
+          const std::string label =
+              "layer " + std::to_string(k) + " input " + std::to_string(j) + " neurons " + std::to_string(a) + "," + std::to_string(b);
+          expect_exact(vector, label);
+          vector(0, weight(k, (b + 1) % 4 == a ? (b + 2) % 4 : (b + 1) % 4, j)) = Rational(5, 7);
+          expect_exact(vector, label + " and a third");
+        }
+  EXPECT_GE(passed, 4u);
+  EXPECT_GT(rejected, 30u);
+}
+
 // The vectors the check need not look at (live_on_some_pattern): a vector
 // with one or two entries is live exactly when one of its terms has its
 // neuron and its input neuron on in one smooth region (read off the
