@@ -68,7 +68,7 @@ class Exporter {
   double stored_value(const Rational& value, std::size_t parameter) {
     static const Rational largest = rational_from_double(std::numeric_limits<double>::max());
     if (abs(value) > largest)
-      throw input_error("parameter " + network_.parameter_name(parameter) + " = " + format_rational(value) +
+      throw input_error("parameter " + network_.parameter_name(parameter) + " = " + format_rational_brief(value) +
                         " is beyond the float64 range");
     const double stored = nearest_double(value);
     if (rational_from_double(stored) != value) {
