@@ -571,7 +571,8 @@ void register_certify(CommandTable& commands) {
                    "Walk every region: no certifying from points first, no stop when the rank meets "
                    "the scaling bound");
   command.add_option("--rows-out", arguments->rows_path,
-                     "Write the exact Jacobian rows of the contributing regions (one row per line)");
+                     "Write the exact Jacobian rows of the contributing regions (one row per line; computed once the run "
+                     "has ended, after a --time-limit too)");
   command.add_option("--kernel-out", arguments->kernel_path,
                      "Write a basis of the exact kernel of a certified value: the scaling directions, then the extra "
                      "ones checked on every region (one row per line; none written for bounds)");
