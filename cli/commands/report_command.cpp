@@ -42,13 +42,16 @@ struct ReportArguments {
   bool quiet = false;
 };
 
-// A survey file starts with a pleat-survey/1 header line.
+// A survey file starts with a pleat-survey/1 header line, or with one cut
+// short by a killed survey (its only line, no newline, past '{"format":"pleat-'
+// where a network's first line would differ), which the survey reader names.
 bool is_survey_file(const std::string& path) {
   std::ifstream in(path);
   std::string line;
   if (!in || !std::getline(in, line)) return false;
   const Json header = Json::parse(line, nullptr, false);
-  return header.is_object() && header.value("format", "") == "pleat-survey/1";
+  if (header.is_object() && header.value("format", "") == "pleat-survey/1") return true;
+  return in.eof() && line.size() > std::string_view(R"({"format":"pleat-)").size() && starts_like_survey_header(line);
 }
 
 std::string architecture_arrows(const Network& network) {
@@ -329,6 +332,7 @@ int report_survey(const ReportArguments& arguments) {
   if (!arguments.domain.box_text.empty() || !arguments.domain.domain_path.empty() || !arguments.slice_text.empty())
     throw input_error("report: a survey file carries its own domain; --box, --domain and --slice are for networks");
   SurveyFile file = read_survey_file(arguments.input_path);
+  require_survey_header(file, arguments.input_path);
   if (file.has_partial_line)  // as survey summary says it (the page was silent)
     std::cerr << "pleat: " << arguments.input_path << ": ignoring a last line cut short (rerun the survey to complete it)\n";
   const SurveyRecord record{std::move(file.header), std::move(file.samples), arguments.input_path};

@@ -377,7 +377,7 @@ int run_survey_command(const SurveyArguments& arguments) {
 
 SurveyRecord load_record(const std::string& path) {
   SurveyFile file = read_survey_file(path);
-  if (file.header.is_null()) throw input_error(path + ": no header line (not a survey file, or empty)");
+  require_survey_header(file, path);
   if (file.has_partial_line)
     std::cerr << "pleat: " << path << ": ignoring a last line cut short (rerun the survey to complete it)\n";
   return SurveyRecord{std::move(file.header), std::move(file.samples), path};

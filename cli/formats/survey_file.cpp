@@ -341,20 +341,34 @@ SurveyFile read_survey_file(const std::string& path) {
 
 namespace {
 
+constexpr std::string_view survey_header_start = R"({"format":"pleat-survey/1")";
+
 // Whether a file whose only line is cut short is a survey killed while
 // writing its header: it starts as every survey header does (or is a cut of
 // that start). Anything else (a one-line file of something else, such as a
 // network json.dump wrote without a newline) is not a survey to start over.
 bool is_cut_survey_header(const std::string& path) {
-  static const std::string start = R"({"format":"pleat-survey/1")";
   std::ifstream file(path, std::ios::binary);
-  std::string text(start.size(), '\0');
+  std::string text(survey_header_start.size(), '\0');
   file.read(text.data(), static_cast<std::streamsize>(text.size()));
   text.resize(static_cast<std::size_t>(file.gcount()));
-  return start.compare(0, text.size(), text) == 0;
+  return starts_like_survey_header(text);
 }
 
 }  // namespace
+
+bool starts_like_survey_header(std::string_view text) {
+  const std::size_t n = std::min(text.size(), survey_header_start.size());
+  return text.compare(0, n, survey_header_start, 0, n) == 0;
+}
+
+const Json& require_survey_header(const SurveyFile& file, const std::string& path) {
+  if (!file.header.is_null()) return file.header;
+  if (file.has_partial_line && is_cut_survey_header(path))
+    throw input_error(path + ":1: a survey header cut short (the survey was killed while writing it: it holds no "
+                      "samples; run the survey again)");
+  throw input_error(path + ": no header line (not a survey file, or empty)");
+}
 
 SurveyResume resume_survey_file(const std::string& path, const Json& header) {
   SurveyResume resume;

@@ -59,6 +59,16 @@ struct SurveyFile {
 // file and line.
 SurveyFile read_survey_file(const std::string& path);
 
+// The header of a file read_survey_file read, or an input_error: a file whose
+// one line, with no newline, begins as pleat writes a survey header is 'a
+// survey header cut short' (a survey killed while writing it) at FILE:1;
+// anything else without a header is 'no header line'.
+const Json& require_survey_header(const SurveyFile& file, const std::string& path);
+
+// Whether `text` (a file's first bytes) can begin a survey header as pleat
+// writes it: it starts with {"format":"pleat-survey/1" or is a prefix of it.
+bool starts_like_survey_header(std::string_view text);
+
 // The configuration back from a header (the domain rebuilt exactly).
 SurveyConfiguration configuration_from_header(const Json& header, const std::string& where);
 ShardSet shard_from_header(const Json& header, const std::string& where);

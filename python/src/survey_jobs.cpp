@@ -123,7 +123,7 @@ py::dict survey(const std::vector<std::size_t>& architecture, std::uint64_t samp
 
 py::dict read_survey(const std::string& path) {
   cli::SurveyFile file = cli::read_survey_file(path);
-  if (file.header.is_null()) throw input_error(path + ": no header line (not a survey file, or empty)");
+  cli::require_survey_header(file, path);
   const SurveyConfiguration configuration = cli::configuration_from_header(file.header, path + ":1");
   py::dict out = survey_dict(configuration, std::move(file.samples), file.header);
   out["path"] = path;

@@ -156,6 +156,20 @@ sed -n 5p "$work/s.jsonl" | head -c 30 >> "$work/s_cut.jsonl"
 "$pleat" report "$work/s_cut.jsonl" -o "$work/s_cut.html" > /dev/null 2> "$work/s_cut.err" || fail "report of a cut survey failed"
 grep -q "s_cut.jsonl: ignoring a last line cut short" "$work/s_cut.err" ||
   fail "the report did not say it left out the cut line: $(cat "$work/s_cut.err")"
+# A survey killed while writing its header (its one line cut short): the page
+# and survey summary both name it (the report printed a JSON parse error).
+head -n 1 "$work/s.jsonl" | head -c 60 > "$work/s_head.jsonl"
+for command in report summary; do
+  if [ $command = report ]; then
+    "$pleat" report "$work/s_head.jsonl" -o "$work/s_head.html" > /dev/null 2> "$work/s_head.err"
+  else
+    "$pleat" survey summary "$work/s_head.jsonl" > /dev/null 2> "$work/s_head.err"
+  fi
+  [ $? -eq 2 ] || fail "$command of a cut survey header did not exit 2"
+  grep -q "s_head.jsonl:1: a survey header cut short" "$work/s_head.err" ||
+    fail "$command of a cut survey header: $(cat "$work/s_head.err")"
+done
+[ ! -e "$work/s_head.html" ] || fail "a page was written for a cut survey header"
 
 # A network whose name holds markup cannot break out of the page's data or text.
 /usr/bin/python3 - "$fold" "$work/named.json" <<'PY'

@@ -77,6 +77,11 @@ class SurveyTest(unittest.TestCase):
         self.assertFalse(pleat.read_survey(path).dropped_partial_line)
         self.assertEqual(sorted(s.sample for s in again.samples), list(range(6)))
         self.assertEqual(len(pleat.read_survey(path).samples), 6)
+        # A file whose header was cut short is named as such, as the CLI does.
+        with open(path, "w") as handle:
+            handle.write(text.split("\n", 1)[0][:40])
+        with self.assertRaisesRegex(ValueError, ":1: a survey header cut short"):
+            pleat.read_survey(path)
 
     def test_a_different_survey_is_refused_with_the_cli_message(self):
         path = os.path.join(self.work, "other.jsonl")
