@@ -254,6 +254,8 @@ class Network:
         point_texts = None
         if points is not None:
             rows = _tolist(points)
+            if len(rows) == 0:  # as pleat certify --points refuses an empty file
+                raise ValueError("points: no points (give at least one, or None for no batch stage)")
             point_texts = [_exact_vector(p, f"points[{i}]") for i, p in enumerate(rows)]
         if claim is not None:
             claim = _count(claim, "claim")

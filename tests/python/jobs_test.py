@@ -162,6 +162,15 @@ class CertifyTest(unittest.TestCase):
             net.certify(points=[[1, 1], [0, 3]])
         self.assertIn("points[1]", str(caught.exception))
 
+    def test_no_points_is_refused_as_the_cli_refuses_an_empty_file(self):
+        # points=[] gave a batch rank 0 and, with a claim, 'impossible: exceeds
+        # the exact rank at these points, 0 (a floating-point rank above it was
+        # invented by rounding)'; pleat certify --points of an empty file exits 2.
+        net = pleat.Network.from_file(FOLD)
+        for empty in ([], (), [[]][1:]):
+            with self.assertRaisesRegex(ValueError, "points: no points"):
+                net.certify(points=empty, claim=20)
+
 
 def sympy_batch_rank(net, points):
     """Exact rank over QQ of the stacked parameter Jacobians (sympy)."""
