@@ -472,7 +472,7 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
     const RationalVector numbers = parse_number_list(arguments.view_text, "--view");
     if (numbers.size() != 2 * dim)
       throw input_error("--view: expected " + std::to_string(2 * dim) + " numbers (" +
-                        (dim == 2 ? "XMIN,XMAX,YMIN,YMAX" : "XMIN,XMAX") + "), found " + std::to_string(numbers.size()));
+                        (dim == 1 ? "XMIN,XMAX" : dim == 2 ? "XMIN,XMAX,YMIN,YMAX" : "XMIN,XMAX,YMIN,YMAX,ZMIN,ZMAX") + "), found " + std::to_string(numbers.size()));
     view = View{};
     for (std::size_t i = 0; i < dim; ++i) {
       if (!(numbers[2 * i] < numbers[2 * i + 1])) throw input_error("--view: each minimum must be below its maximum");

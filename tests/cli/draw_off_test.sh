@@ -97,4 +97,10 @@ for option in "--title T" --labels --no-lines --no-stats --no-legend "--color-by
 done
 "$pleat" draw "$source_dir/data/sensor3d.json" --view -1,1,-1,1,-1,1 --color-by region --out "$work/region.off" -q \
   > /dev/null || fail "--color-by region with .off (what a mesh is coloured by) refused"
+# A --view of the wrong length names the six numbers a 3-input view takes
+# (it said 'expected 6 numbers (XMIN,XMAX)', the 1-input form).
+"$pleat" draw "$source_dir/data/sensor3d.json" --view -1,1,-1,1 --out "$work/short.off" -q > /dev/null 2> "$work/short.err"
+[ $? -eq 2 ] || fail "a 4-number --view accepted for 3 inputs"
+grep -q -- "--view: expected 6 numbers (XMIN,XMAX,YMIN,YMAX,ZMIN,ZMAX), found 4" "$work/short.err" ||
+  fail "3-input --view of 4 numbers: $(cat "$work/short.err")"
 echo ok
