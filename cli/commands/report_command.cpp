@@ -199,9 +199,15 @@ SliceChoice parse_slice(const std::string& text, const Domain& domain) {
   const std::string usage = "--slice: expected AXIS=VALUE[,VALUE...] such as x3=0 or x1=-1/2,0,1/2, found '" + text + "'";
   if (equals == std::string::npos) throw input_error(usage);
   std::string axis_text = text.substr(0, equals);
+  const std::string axis_usage = "--slice: the axis must be x1 to x" + std::to_string(domain.dim) + ", found '" + axis_text + "'";
   if (!axis_text.empty() && axis_text[0] == 'x') axis_text = axis_text.substr(1);
-  const std::uint64_t axis = parse_unsigned(axis_text, "--slice");
-  if (axis < 1 || axis > domain.dim) throw input_error("--slice: the axis must be x1 to x" + std::to_string(domain.dim));
+  std::uint64_t axis = 0;
+  try {
+    axis = parse_unsigned(axis_text, "--slice");
+  } catch (const input_error&) {  // 'X3', 'y': the axis, not 'a non-negative integer below 2^64'
+    throw input_error(axis_usage);
+  }
+  if (axis < 1 || axis > domain.dim) throw input_error(axis_usage);
   RationalVector values = parse_number_list(text.substr(equals + 1), "--slice");
   if (values.empty() || values.size() > max_slices)
     throw input_error("--slice: give 1 to " + std::to_string(max_slices) + " values, found " + std::to_string(values.size()));

@@ -2,6 +2,7 @@
 // (cli/figures/figure_scene.hpp).
 #include "cli/figures/figure_scene.hpp"
 
+#include "core/errors.hpp"
 #include "core/jacobian.hpp"
 #include "core/rank.hpp"
 #include "core/stop.hpp"
@@ -27,7 +28,11 @@ std::vector<RationalVector> arrangement_vertices(const std::vector<Region>& regi
   return {vertices.begin(), vertices.end()};
 }
 
-// [lo, hi] per axis with a margin, rounded outwards to a tick step.
+// [lo, hi] per axis with a margin, rounded outwards to a tick step. The
+// step (1, 2 or 5 times a power of ten) is built exactly from its exponent,
+// and the tick counts are doubles' integers read exactly: a view of vertices
+// near 1e50 came out near 3e49 when the step was read back from its decimal
+// text and the counts cast to long.
 View rounded_view(const std::vector<double>& low, const std::vector<double>& high) {
   View view;
   for (std::size_t i = 0; i < low.size(); ++i) {
@@ -35,10 +40,13 @@ View rounded_view(const std::vector<double>& low, const std::vector<double>& hig
     const double lo = low[i] - margin, hi = high[i] + margin;
     const std::vector<double> ticks = nice_ticks(lo, hi);
     const double step = ticks.size() >= 2 ? ticks[1] - ticks[0] : 1.0;
-    // Whole multiples of the exact step (1, 2 or 5 times a power of ten): "1.4", not its binary double.
-    const Rational exact_step = parse_rational(tick_text(step));
-    view.lower.push_back(exact_step * Rational(static_cast<long>(std::floor(lo / step))));
-    view.upper.push_back(exact_step * Rational(static_cast<long>(std::ceil(hi / step))));
+    const int exponent = static_cast<int>(std::floor(std::log10(step) + 1e-9));
+    const auto mantissa = static_cast<long>(std::lround(step / std::pow(10.0, exponent)));
+    mpz_class power;
+    mpz_ui_pow_ui(power.get_mpz_t(), 10, static_cast<unsigned long>(std::abs(exponent)));
+    const Rational exact_step = exponent >= 0 ? Rational(mantissa * Rational(power)) : Rational(Rational(mantissa) / power);
+    view.lower.push_back(exact_step * rational_from_double(std::floor(lo / step)));
+    view.upper.push_back(exact_step * rational_from_double(std::ceil(hi / step)));
   }
   return view;
 }
@@ -74,6 +82,14 @@ lp::Polyhedron closed_cell(const Region& region, bool with_domain_sides) {
   return cell;
 }
 
+// The vertex coordinate of axis i that is largest (or, `lowest`, smallest).
+static Rational vertices_extreme(const std::vector<RationalVector>& vertices, std::size_t i, bool lowest) {
+  Rational best = vertices.front()[i];
+  for (const auto& p : vertices)
+    if (lowest ? p[i] < best : p[i] > best) best = p[i];
+  return best;
+}
+
 // The default view. A trained network's hyperplanes meet mostly near the data
 // but a few nearly parallel ones meet hundreds of units away; a view around
 // every vertex then crushes the structure into a dot. Per axis the bulk is the
@@ -95,6 +111,12 @@ FittedView fitted_view(const std::vector<Region>& regions, std::size_t dim) {
     std::vector<double> values;
     for (const auto& p : vertices) values.push_back(to_double(p[i]));
     std::sort(values.begin(), values.end());
+    if (!std::isfinite(values.front()) || !std::isfinite(values.back()))
+      throw input_error("the arrangement's vertices reach x" + std::to_string(i + 1) + " = " +
+                        format_rational_brief(std::isfinite(values.front()) ? vertices_extreme(vertices, i, false)
+                                                                            : vertices_extreme(vertices, i, true)) +
+                        ", beyond the float64 range a drawing uses; give the rectangle to show (draw --view, "
+                        "report --box or --domain)");
     low[i] = values.front();
     high[i] = values.back();
     const auto [first, last] = shortest_interval(values, (values.size() + 1) / 2);

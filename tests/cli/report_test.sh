@@ -196,6 +196,19 @@ expect_error() {
 }
 expect_error "--slice is for networks with 3 inputs" report "$fold" --slice x3=0 -o "$work/x.html"
 expect_error "--slice: the axis must be x1 to x3" report "$sensor" --slice x4=0 -o "$work/x.html"
+# An axis not of the form xK is named as one (it said 'expected a non-negative integer below 2^64').
+expect_error "--slice: the axis must be x1 to x3, found 'X3'" report "$sensor" --slice X3=0 -o "$work/x.html"
+# A slice far out: vertices beyond the float64 range are refused by name (it
+# was 'clip_rectangle: needs a non-empty 2-D rectangle'), ...
+expect_error "the arrangement's vertices reach x1 = about" report "$sensor" --slice x3=1e400 -o "$work/x.html"
+expect_error "report --box or --domain" report "$sensor" --slice x3=-1e400 -o "$work/x.html"
+# ... and at 1e50 the fitted view holds them as at x3 = 1e10 (6 of 50 regions
+# outside it; it was [-3.0000000000000002e46, 2.0e46] x ..., 49 outside).
+for v in 1e10 1e50; do
+  out=$("$pleat" report "$sensor" --slice x3=$v -o "$work/far.html" -q) || fail "--slice x3=$v failed"
+  zeros=$(printf "%0${v#1e}d" 0)
+  expect_contains "$out" "50 regions (6 outside the view [-3$zeros, 2$zeros] × [-5$zeros, 5$zeros])" "--slice x3=$v"
+done
 expect_error "misses the box" report "$sensor" --box -1,1 --slice x3=2 -o "$work/x.html"
 expect_error "--slice: expected AXIS=VALUE" report "$sensor" --slice 1/2 -o "$work/x.html"
 expect_error "carries its own domain" report "$work/s.jsonl" --box -1,1 -o "$work/x.html"
