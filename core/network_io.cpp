@@ -82,7 +82,7 @@ Network read_network(const JsonNode& root) {
     const std::string path = item_path("layers", k);
     network.layers.push_back(read_layer(layers.items[k], path, fan_in, fan_in_reason, k + 1 == layers.items.size()));
     fan_in = network.layers.back().width();
-    fan_in_reason = path + " has " + std::to_string(fan_in) + " neurons";
+    fan_in_reason = path + " has " + std::to_string(fan_in) + (fan_in == 1 ? " neuron" : " neurons");
   }
   network.validate();  // the reader's checks should have covered all of it
   return network;

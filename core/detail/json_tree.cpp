@@ -310,9 +310,10 @@ Rational read_number(const JsonNode& node, const std::string& path) {
 std::vector<Rational> read_numbers(const JsonNode& node, std::size_t expected_count,
                                    const std::string& path, const std::string& why) {
   if (node.kind != JsonNode::Kind::array)
-    fail(path, "expected an array of " + std::to_string(expected_count) + " numbers, found " + describe(node));
+    fail(path, "expected an array of " + std::to_string(expected_count) + (expected_count == 1 ? " number" : " numbers") +
+                   ", found " + describe(node));
   if (node.items.size() != expected_count)
-    fail(path, "expected " + std::to_string(expected_count) + " numbers, found " +
+    fail(path, "expected " + std::to_string(expected_count) + (expected_count == 1 ? " number" : " numbers") + ", found " +
                    std::to_string(node.items.size()) + " (" + why + ")");
   std::vector<Rational> values;
   values.reserve(expected_count);

@@ -33,4 +33,18 @@ expect_contains "$out" "left out              1 non-smooth region (a neuron" "ce
 err=$("$pleat" draw "$ramp" --from "$work/ramp.jsonl" --view -2,4 --out "$work/ramp.svg" -q 2>&1 > /dev/null) ||
   fail "draw --from exited $?"
 expect_contains "$err" "1 of 6 regions lies outside the view" "draw, one region outside"
+# A network file whose one-output layer has two biases, or a one-input layer
+# rows of two: "1 number", "1 neuron" (they read "expected 1 numbers", "1 neurons").
+"$python" - "$work/bias.json" "$work/cols.json" <<'PY'
+import json, sys
+json.dump({"format": "pleat-network/1", "input_dim": 2, "layers": [
+    {"weights": [["1", "2"]], "bias": ["0", "1"], "activation": "identity"}]}, open(sys.argv[1], "w"))
+json.dump({"format": "pleat-network/1", "input_dim": 1, "layers": [
+    {"weights": [["1"]], "bias": ["0"], "activation": "relu"},
+    {"weights": [["1", "2"]], "bias": ["0"], "activation": "identity"}]}, open(sys.argv[2], "w"))
+PY
+err=$("$pleat" eval "$work/bias.json" --at 0,0 2>&1 > /dev/null); [ $? -eq 2 ] || fail "eval of two biases for one row did not exit 2"
+expect_contains "$err" "bias: expected 1 number, found 2" "one bias expected"
+err=$("$pleat" eval "$work/cols.json" --at 0 2>&1 > /dev/null); [ $? -eq 2 ] || fail "eval of a row of two after width 1 did not exit 2"
+expect_contains "$err" "weights[0]: expected 1 number, found 2 (layers[0] has 1 neuron)" "one neuron before"
 echo "plurals: ok"
