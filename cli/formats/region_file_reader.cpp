@@ -306,7 +306,19 @@ void read_header(const Json& line, const Network& network, const LineRules& rule
     if (domain_to_json(file.domain) != written)
       reader.fail("the domain is not written as pleat writes it: " + domain_to_json(file.domain).dump());
     file.parametric_dimension = rules.index(reader.field(line, "parametric_dimension"), "\"parametric_dimension\"");
+  } else if (line.contains("parametric_dimension") && line.at("parametric_dimension").is_number_unsigned()) {
+    file.parametric_dimension = line.at("parametric_dimension").get<std::size_t>();  // only to name another network
   }
+}
+
+// After a region line that does not fit the network: when the header's
+// parametric dimension is not the network's, the file is a walk of another
+// network, and the message says so beside the line's own fault.
+std::string another_network_hint(const RegionFile& file, const Network& network) {
+  if (!file.parametric_dimension || *file.parametric_dimension == network.parametric_dimension()) return "";
+  return " (line 1 says \"parametric_dimension\": " + std::to_string(*file.parametric_dimension) +
+         ", the network given has " + std::to_string(network.parametric_dimension()) +
+         " parameters: the file holds a walk of another network)";
 }
 
 // JSON that repeats a key is refused in an exact copy: a reader keeping the
@@ -357,9 +369,10 @@ RegionFile read_region_file(const Network& network, const std::string& path, Reg
         file.regions.push_back(read_region(line, network, rules, number));
       }
     } catch (const input_error& fault) {
-      throw input_error(input.path() + ": " + fault.what());
+      throw input_error(input.path() + ": " + fault.what() + another_network_hint(file, network));
     } catch (const Json::exception& fault) {
-      throw input_error(input.path() + ": line " + std::to_string(number) + ": " + fault.what());
+      throw input_error(input.path() + ": line " + std::to_string(number) + ": " + fault.what() +
+                        another_network_hint(file, network));
     }
   }
   if (!has_header) throw input_error(input.path() + ": empty file (no header line)");

@@ -70,6 +70,17 @@ case "$err" in *"line "*": neighbour "*" is not in the file"*) ;; *) fail "unexp
 err=$("$pleat" draw "$fold" --from "$work/twice.jsonl" --out "$work/twice.svg" 2>&1 > /dev/null)
 [ $? = 2 ] || fail "draw --from a file with a region twice must exit 2 ($err)"
 case "$err" in *"appears twice"*) ;; *) fail "unexpected message: $err" ;; esac
+# A walk of another network (2,3,1: 13 parameters, not fold2d's 59) is named
+# as such, by draw --from and by verify, beside the pattern that does not fit
+# (they said only 'group 1 has 3 states, expected 6').
+"$pleat" random --arch 2,3,1 --seed 1 -o "$work/small.json" > /dev/null
+"$pleat" walk "$work/small.json" -q -o "$work/small.jsonl" > /dev/null || fail "walk of 2,3,1 failed"
+err=$("$pleat" draw "$fold" --from "$work/small.jsonl" --out "$work/other.svg" 2>&1 > /dev/null)
+[ $? = 2 ] || fail "draw --from a walk of another network must exit 2 ($err)"
+expect_contains "$err" 'line 1 says "parametric_dimension": 13, the network given has 59 parameters: the file holds a walk of another network' "draw --from another network's walk"
+err=$("$pleat" verify "$fold" "$work/small.jsonl" 2>&1 > /dev/null)
+[ $? = 2 ] || fail "verify of a walk of another network must exit 2 ($err)"
+expect_contains "$err" "the file holds a walk of another network" "verify of another network's walk"
 # A walk of another network is not drawn as this one's: one of the same widths
 # (its file reads without a fault; the old binary drew fold2d's 84 regions as
 # its own), and fold2d with one output weight changed (the same regions, other
