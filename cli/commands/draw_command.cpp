@@ -62,7 +62,6 @@ Format format_of(const std::string& path) {
   throw input_error("--out: " + path + ": the name must end in .svg, .tex, .csv or .off (3 inputs)");
 }
 
-
 // What is drawn: the regions, the view, whether the cells are clipped by the
 // domain's sides too (a saved walk, --domain), and how many regions the
 // domain has in all when known (so the figure can say how many lie outside).
@@ -118,9 +117,6 @@ std::vector<Region> walk_all(const Network& network, const Domain& domain, const
   return regions;
 }
 
-
-
-
 // The figure's counts under the legend, unless --no-stats (the summary
 // printed after drawing has them either way).
 void add_stats(Figure& figure, const DrawArguments& arguments, const std::vector<std::string>& lines) {
@@ -128,7 +124,6 @@ void add_stats(Figure& figure, const DrawArguments& arguments, const std::vector
   figure.notes.push_back("");
   figure.notes.insert(figure.notes.end(), lines.begin(), lines.end());
 }
-
 
 // With --labels, the key says what a number on the map is.
 void add_label_note(Figure& figure, const DrawArguments& arguments) {
@@ -138,7 +133,6 @@ void add_label_note(Figure& figure, const DrawArguments& arguments) {
   figure.notes.push_back("or the region's number where");
   figure.notes.push_back("the pattern does not fit (--table)");
 }
-
 
 // Regions narrower than this in the SVG are reported: a reader cannot see them.
 constexpr double thin_width_px = 3;
@@ -366,15 +360,17 @@ Drawn draw_mesh(const Network& network, const Scene& scene) {
 }
 
 // The domain cut to the view: a box stays a box, a polytope gains the
-// view's sides.
-Domain domain_in_view(const Domain& domain, const View& view) {
+// view's sides. A refusal names --box/--domain, or the --from file's domain.
+Domain domain_in_view(const Domain& domain, const View& view, const std::string& from_path = "") {
+  const std::string what = !from_path.empty() ? "the domain of the walk in " + from_path + " (" + domain.describe() + ")"
+                           : domain.kind == Domain::Kind::box ? "--box" : "--domain";
   if (domain.kind != Domain::Kind::polytope) {
     View cut = view;
     if (domain.kind == Domain::Kind::box)
       for (std::size_t i = 0; i < view.lower.size(); ++i) {
         cut.lower[i] = std::max(cut.lower[i], domain.lower[i]);
         cut.upper[i] = std::min(cut.upper[i], domain.upper[i]);
-        if (!(cut.lower[i] < cut.upper[i])) throw input_error("draw: the view and --box do not overlap");
+        if (!(cut.lower[i] < cut.upper[i])) throw input_error("draw: the view and " + what + " do not overlap");
       }
     return make_box(cut.lower, cut.upper);
   }
@@ -383,7 +379,7 @@ Domain domain_in_view(const Domain& domain, const View& view) {
   try {
     return make_polytope(domain.dim, std::move(sides));
   } catch (const input_error&) {
-    throw input_error("draw: the view and --domain do not overlap");
+    throw input_error("draw: the view and " + what + " do not overlap");
   }
 }
 
@@ -407,6 +403,7 @@ Scene make_scene(const Network& network, const Domain& domain, std::optional<Vie
     scene.regions = std::move(saved.regions);
     scene.with_domain_sides = true;
     scene.total_regions = scene.regions.size();
+    if (view) (void)domain_in_view(saved.domain, *view, arguments.from_path);  // else a figure of "0 regions"
     if (!view && saved.domain.kind == Domain::Kind::box) view = View{saved.domain.lower, saved.domain.upper};
     if (!view) {
       const FittedView fitted = fitted_view(scene.regions, dim);

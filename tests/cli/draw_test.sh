@@ -81,6 +81,15 @@ expect_contains "$err" 'line 1 says "parametric_dimension": 13, the network give
 err=$("$pleat" verify "$fold" "$work/small.jsonl" 2>&1 > /dev/null)
 [ $? = 2 ] || fail "verify of a walk of another network must exit 2 ($err)"
 expect_contains "$err" "the file holds a walk of another network" "verify of another network's walk"
+# A --view off the saved walk's box is refused as one off --box is (it drew an
+# empty figure, '0 regions', exit 0); one that overlaps it is drawn.
+"$pleat" walk "$fold" --box -1,1 -q -o "$work/box.jsonl" > /dev/null || fail "walk --box failed"
+err=$("$pleat" draw "$fold" --from "$work/box.jsonl" --view 2,3,2,3 --out "$work/off.svg" 2>&1 > /dev/null)
+[ $? = 2 ] || fail "draw --from with a view off the walk's box must exit 2 ($err)"
+expect_contains "$err" "the view and the domain of the walk in $work/box.jsonl (box:(-1,1)x(-1,1)) do not overlap" "view off --from"
+[ ! -e "$work/off.svg" ] || fail "a figure of a view off the walk was written"
+"$pleat" draw "$fold" --from "$work/box.jsonl" --view 0,3,0,3 --out "$work/part.svg" -q > /dev/null 2>&1 ||
+  fail "draw --from with a view overlapping the walk's box failed"
 # A walk of another network is not drawn as this one's: one of the same widths
 # (its file reads without a fault; the old binary drew fold2d's 84 regions as
 # its own), and fold2d with one output weight changed (the same regions, other
