@@ -3,6 +3,7 @@
 #include "core/stop.hpp"
 
 #include <algorithm>
+#include <array>
 #include <atomic>
 #include <type_traits>
 
@@ -88,6 +89,38 @@ inline void add_product_by_mpn(std::uint64_t* acc, const std::uint64_t* e, std::
   }
 }
 
+// X_{k+1}[i] = L^(k+1) b_k[i] + sum_j (L W_k[i,j]) X_k[j] (offset, then
+// the n0 slopes) at the rows i given, the sums over the inputs j given
+// (modulo 2^128). Inputs: n0 when known at compile time (1 to 3: the
+// slopes' sums then stay in registers), else 0 (n0 read at run time).
+template <std::size_t Inputs>
+void layer_inputs(const Wide* weights, std::size_t fan_in, const Wide* bias, const std::vector<std::size_t>& rows,
+                  const std::vector<std::size_t>& inputs, const Wide* in_offset, const Wide* in_linear, Wide* offset,
+                  Wide* linear, std::size_t n0_at_run_time) {
+  const std::size_t n0 = Inputs > 0 ? Inputs : n0_at_run_time;
+  for (std::size_t i : rows) {
+    const Wide* row = weights + i * fan_in;
+    Wide sum = bias[i];
+    if constexpr (Inputs > 0) {
+      std::array<Wide, Inputs> slopes{};
+      for (std::size_t j : inputs) {
+        const Wide w = row[j];
+        sum += w * in_offset[j];
+        for (std::size_t t = 0; t < Inputs; ++t) slopes[t] += w * in_linear[j * Inputs + t];
+      }
+      for (std::size_t t = 0; t < Inputs; ++t) linear[i * Inputs + t] = slopes[t];
+    } else {
+      Wide* slopes = linear + i * n0;
+      for (std::size_t j : inputs) {
+        const Wide w = row[j];
+        sum += w * in_offset[j];
+        for (std::size_t t = 0; t < n0; ++t) slopes[t] += w * in_linear[j * n0 + t];
+      }
+    }
+    offset[i] = sum;
+  }
+}
+
 }  // namespace
 
 // One thread's layer inputs X_k (offset: one per input; linear: n0 slopes
@@ -97,6 +130,7 @@ struct IntegerCheck::Factors {
   std::vector<std::vector<Wide>> offset, linear, signal;
   std::vector<std::vector<std::size_t>> passing;
   std::vector<std::uint64_t> sums;  // (n0 + 1) accumulators of n limbs
+  std::vector<std::size_t> rows;    // the passing neurons whose X_{forward_to} a term reads
 };
 
 bool IntegerCheck::applies(const CheckScale& check_scale) {
@@ -180,6 +214,15 @@ IntegerCheck::IntegerCheck(const Network& network, const CheckScale& check_scale
       }
     vectors_.push_back(std::move(vector));
   }
+  // The inputs of layer forward_to that a term reads (X_{forward_to} feeds no later layer).
+  read_last_.assign(forward_to_ > 0 ? widths_[forward_to_ - 1] : 0, 0);
+  for (const Vector& vector : vectors_)
+    for (const Run& run : vector.runs)
+      if (run.layer == forward_to_ && forward_to_ > 0)
+        for (std::size_t e = run.first; e < run.last; ++e)
+          if (terms_[e].input != bias) read_last_[terms_[e].input] = 1;
+  for (const Unit& unit : units_)
+    if (unit.layer == forward_to_ && forward_to_ > 0 && unit.input != bias) read_last_[unit.input] = 1;
 }
 
 void IntegerCheck::compute_factors(const ActivationPattern& pattern, Factors& factors, std::size_t reuse_below) const {
@@ -198,31 +241,36 @@ void IntegerCheck::compute_factors(const ActivationPattern& pattern, Factors& fa
   factors.offset[0].assign(n0_, 0);
   factors.linear[0].assign(n0_ * n0_, 0);
   for (std::size_t t = 0; t < n0_; ++t) factors.linear[0][t * n0_ + t] = 1;
-  // X_{k+1}[i] = L^(k+1) b_k[i] + sum_j (L W_k[i,j]) X_k[j] at the passing i.
+  // X_{k+1}[i] = L^(k+1) b_k[i] + sum_j (L W_k[i,j]) X_k[j] at the passing
+  // i; in the last layer computed, X_{forward_to}, only at the i a term reads.
   for (std::size_t k = reuse_below; k < forward_to_; ++k) {
     std::vector<Wide>& offset = factors.offset[k + 1];
     std::vector<Wide>& linear = factors.linear[k + 1];
     offset.assign(widths_[k], 0);
     linear.assign(widths_[k] * n0_, 0);
+    const std::vector<std::size_t>* rows = &factors.passing[k];
+    if (k + 1 == forward_to_) {
+      factors.rows.clear();
+      for (std::size_t i : factors.passing[k])
+        if (read_last_[i]) factors.rows.push_back(i);
+      rows = &factors.rows;
+    }
     if (k == 0) {  // from the input itself: offset L b_0[i], slopes L W_0[i,:], no products
-      for (std::size_t i : factors.passing[0]) {
+      for (std::size_t i : *rows) {
         offset[i] = biases_[0][i];
         for (std::size_t t = 0; t < n0_; ++t) linear[i * n0_ + t] = weights_[0][i * n0_ + t];
       }
       continue;
     }
-    const std::vector<Wide>& in_offset = factors.offset[k];
-    const std::vector<Wide>& in_linear = factors.linear[k];
-    for (std::size_t i : factors.passing[k]) {
-      const Wide* row = weights_[k].data() + i * widths_[k - 1];
-      Wide sum = biases_[k][i];
-      Wide* slopes = linear.data() + i * n0_;
-      auto add_input = [&](std::size_t j) {
-        sum += row[j] * in_offset[j];
-        for (std::size_t t = 0; t < n0_; ++t) slopes[t] += row[j] * in_linear[j * n0_ + t];
-      };
-      for (std::size_t j : factors.passing[k - 1]) add_input(j);
-      offset[i] = sum;
+    auto layer = [&]<std::size_t Inputs>() {
+      layer_inputs<Inputs>(weights_[k].data(), widths_[k - 1], biases_[k].data(), *rows, factors.passing[k - 1],
+                           factors.offset[k].data(), factors.linear[k].data(), offset.data(), linear.data(), n0_);
+    };
+    switch (n0_) {
+      case 1: layer.template operator()<1>(); break;
+      case 2: layer.template operator()<2>(); break;
+      case 3: layer.template operator()<3>(); break;
+      default: layer.template operator()<0>();
     }
   }
   // H_{d-1} = I at the passing outputs; H_k[o,i] = sum_m H_{k+1}[o,m] (L W_{k+1}[m,i]) at the passing i.

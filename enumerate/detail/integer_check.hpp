@@ -91,6 +91,7 @@ class IntegerCheck {
   std::vector<std::uint64_t> limbs_;
   std::vector<Unit> units_;
   std::size_t forward_to_ = 0, backward_to_ = 0, most_limbs_ = 1;
+  std::vector<char> read_last_;  // the inputs j of layer forward_to a term reads: X_{forward_to} only there
   std::size_t cached_runs_ = 0, cache_limbs_ = 0;
   std::uint64_t id_ = 0;  // for each thread's reuse of layer inputs
 
