@@ -18,6 +18,7 @@
 #include <cstdint>
 #include <functional>
 #include <optional>
+#include <span>
 #include <vector>
 
 namespace pleat {
@@ -183,7 +184,8 @@ class ModularRowBasis {
   // The screen alone: false when w . row == 0 (row in the span, or the 1/p
   // miss above), true when row is certainly outside the span. Same
   // precondition as add_row (throws usage_error on a wrong length only).
-  bool passes_screen(const ModularVector& row) const;
+  // Takes a row in place (a matrix's row: no copy; a ModularVector converts).
+  bool passes_screen(std::span<const std::uint64_t> row) const;
 
   // True when row lies in the span mod p of the kept rows (the basis is not
   // changed). Same precondition as add_row.
@@ -214,6 +216,7 @@ class ModularRowBasis {
   void fold_block(std::vector<ModularVector>& block, const std::vector<std::size_t>& block_pivots,
                   const ParallelFor& parallel);
   void check_row(const ModularVector& row, const char* where) const;
+  void write_screen_at_pivots();
 
   std::uint64_t prime_;
   std::uint64_t prime_inverse_;          // FLINT's n_preinvert_limb(prime)
@@ -225,6 +228,7 @@ class ModularRowBasis {
   // -screen_along_[i] = -(kept row i . c) at kept row i's pivot.
   ModularVector screen_random_;             // c, one per column (fixed seed)
   ModularVector screen_along_;              // kept row i . c, mod p
+  ModularVector screen_;                    // w itself, one per column: c, or -screen_along_[i] at pivot i
 };
 
 }  // namespace pleat

@@ -178,11 +178,13 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     } else {
       const ModularMatrix computed = rows_ready ? ModularMatrix() : coefficient_blocks_mod(modular, pattern);
       const ModularMatrix& rows = rows_ready ? *rows_ready : computed;
+      // add_row_screened, screened in place (most rows are dependent): only a row that passes is copied out.
       for (std::size_t r = 0; r < rows.rows(); ++r)
-        if (ModularVector row = rows.row(r); basis.add_row_screened(row)) {
-          region.rows.push_back(r);
-          region.residues.push_back(std::move(row));
-        }
+        if (basis.rank() < basis.columns() && basis.passes_screen({&rows(r, 0), rows.cols()}))
+          if (ModularVector row = rows.row(r); basis.add_row(row)) {
+            region.rows.push_back(r);
+            region.residues.push_back(std::move(row));
+          }
     }
     if (region.rows.empty()) return;
     kept.push_back(std::move(region));

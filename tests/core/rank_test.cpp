@@ -505,6 +505,34 @@ TEST(ModularRowBasis, IsTheEchelonFormOfWhatWasAddedAfterEveryAdd) {
   EXPECT_EQ(basis.rank(), 45u);
 }
 
+// The screen reads a row in place (a matrix's row, no copy) as it reads the
+// row copied out, before and after rows are kept one at a time and in
+// blocks; a row of the wrong length is refused.
+TEST(ModularRowBasis, TheScreenReadsARowInPlace) {
+  std::mt19937_64 random(67);
+  const std::uint64_t prime = primary_prime();
+  const ModularMatrix m = random_modular_matrix_of_rank(random, 60, 30, 40, prime);
+  ModularRowBasis basis(prime, m.cols());
+  const auto agree = [&] {
+    for (std::size_t r = 0; r < m.rows(); ++r) {
+      const bool in_place = basis.passes_screen({&m(r, 0), m.cols()});
+      ASSERT_EQ(in_place, basis.passes_screen(m.row(r))) << "row " << r;
+      ASSERT_EQ(in_place, !basis.contains(m.row(r))) << "row " << r;
+    }
+  };
+  agree();
+  for (std::size_t r = 0; r < 20; ++r) basis.add_row(m.row(r));
+  agree();
+  std::vector<ModularVector> rest;
+  for (std::size_t r = 20; r < m.rows(); ++r) rest.push_back(m.row(r));
+  std::vector<bool> kept(rest.size());
+  basis.add_rows(rest, m.cols(), kept);
+  EXPECT_EQ(basis.rank(), 30u);
+  agree();
+  const ModularVector short_row(m.cols() - 1, 0);
+  EXPECT_THROW((void)basis.passes_screen(short_row), usage_error);
+}
+
 TEST(ModularRowBasis, RowsSpanWhatWasAdded) {
   std::mt19937_64 random(43);
   const std::uint64_t prime = primary_prime();
