@@ -411,6 +411,7 @@ Scene make_scene(const Network& network, const Domain& domain, std::optional<Vie
       view = fitted.view;
     }
     scene.view = *view;
+    refuse_undrawable_view(scene.view, arguments.view_text.empty() ? "the view" : "--view");
     return scene;
   }
   if (!view && domain.kind == Domain::Kind::box) view = View{domain.lower, domain.upper};
@@ -423,6 +424,7 @@ Scene make_scene(const Network& network, const Domain& domain, std::optional<Vie
     scene.total_regions = whole.size();
   }
   scene.view = *view;
+  refuse_undrawable_view(scene.view, !arguments.view_text.empty() ? "--view" : domain.kind == Domain::Kind::box ? "--box" : "the view");
   const Domain walked = domain_in_view(domain, scene.view);
   scene.with_domain_sides = walked.kind == Domain::Kind::polytope;
   scene.regions = walk_all(network, walked, arguments, interrupt);

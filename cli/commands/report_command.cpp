@@ -110,9 +110,15 @@ struct ChosenView {
   bool is_fitted_bulk = false;
 };
 ChosenView choose_view(const Domain& domain, const std::vector<Region>& regions) {
-  if (domain.kind == Domain::Kind::box) return {View{domain.lower, domain.upper}, false};
+  if (domain.kind == Domain::Kind::box) {
+    refuse_undrawable_view(View{domain.lower, domain.upper}, "--box");
+    return {View{domain.lower, domain.upper}, false};
+  }
   if (domain.kind == Domain::Kind::polytope)
-    if (auto view = bounding_view(domain)) return {*view, false};
+    if (auto view = bounding_view(domain)) {
+      refuse_undrawable_view(*view, "the --domain's bounding box");
+      return {*view, false};
+    }
   const FittedView fitted = fitted_view(regions, domain.dim);
   return {fitted.view, fitted.is_bulk};
 }

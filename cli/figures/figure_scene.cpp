@@ -62,6 +62,21 @@ std::pair<double, double> shortest_interval(const std::vector<double>& values, s
 
 }  // namespace
 
+void refuse_undrawable_view(const View& view, const std::string& given_by) {
+  for (std::size_t i = 0; i < view.lower.size(); ++i) {
+    const double lo = to_double(view.lower[i]), hi = to_double(view.upper[i]);
+    const std::string axis = given_by + ": x" + std::to_string(i + 1) + " from " + format_rational_brief(view.lower[i]) +
+                             " to " + format_rational_brief(view.upper[i]);
+    if (!std::isfinite(lo) || !std::isfinite(hi) || !std::isfinite(hi - lo))
+      throw input_error(axis + " reaches beyond the float64 range a drawing is laid out in; give a smaller rectangle");
+    const double largest = std::max(std::abs(lo), std::abs(hi));
+    const double step = std::nextafter(largest, HUGE_VAL) - largest;  // float64's spacing there
+    if (!(hi - lo >= std::ldexp(step, 20)))
+      throw input_error(axis + " is too narrow for the float64 coordinates a drawing is laid out in (fewer than 2^20 "
+                        "of their steps across it); give a wider rectangle");
+  }
+}
+
 std::string describe_view(const View& view) {
   std::string text;
   for (std::size_t i = 0; i < view.lower.size(); ++i) {

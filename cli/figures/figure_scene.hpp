@@ -36,6 +36,11 @@ lp::Polyhedron closed_cell(const Region& region, bool with_domain_sides);
 // when it is unbounded.
 std::optional<View> bounding_view(const Domain& domain);
 
+// Throws input_error, naming `given_by` (e.g. "--view") and the axis, when a
+// drawing cannot place the view: figures are laid out in float64, so an axis
+// beyond its range, or narrower than 2^20 of its steps, gave NaN coordinates.
+void refuse_undrawable_view(const View& view, const std::string& given_by);
+
 // The default view of a walk (see fitted_view in figure_scene.cpp): the bulk
 // of the arrangement's vertices, or every vertex when they are not spread out.
 struct FittedView {

@@ -90,6 +90,19 @@ expect_contains "$err" "the view and the domain of the walk in $work/box.jsonl (
 [ ! -e "$work/off.svg" ] || fail "a figure of a view off the walk was written"
 "$pleat" draw "$fold" --from "$work/box.jsonl" --view 0,3,0,3 --out "$work/part.svg" -q > /dev/null 2>&1 ||
   fail "draw --from with a view overlapping the walk's box failed"
+# A view a float64 drawing cannot place is refused before the walk: beyond the
+# float64 range, or narrower than its steps (both wrote an SVG and a TikZ file of
+# NaN coordinates, "written", exit 0); a box used as the view likewise.
+for bad in "--view 0,1e400,0,1" "--view -1e308,1e308,0,1" "--view 1,1.00000000000000000000001,0,1" "--box 0,1e400,0,1"; do
+  for out in undrawable.svg undrawable.tex; do
+    err=$("$pleat" draw "$fold" $bad --out "$work/$out" 2>&1 > /dev/null)
+    [ $? = 2 ] || fail "draw $bad --out $out must exit 2 ($err)"
+    expect_contains "$err" "the float64" "draw $bad"
+    [ ! -e "$work/$out" ] || fail "draw $bad wrote $out"
+  done
+done
+"$pleat" draw "$fold" --view 0,1e-300,0,1 --out "$work/tiny.svg" -q > /dev/null 2>&1 || fail "a tiny but drawable view was refused"
+! grep -qi nan "$work/tiny.svg" || fail "the tiny view's SVG has NaN coordinates"
 # A walk of another network is not drawn as this one's: one of the same widths
 # (its file reads without a fault; the old binary drew fold2d's 84 regions as
 # its own), and fold2d with one output weight changed (the same regions, other

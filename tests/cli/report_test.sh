@@ -23,6 +23,11 @@ PY
 }
 
 out=$("$pleat" report "$fold" --box -3,3 -o "$work/fold.html" -q) || fail "report failed: $out"
+# A --box a float64 page cannot place is refused (its map's coordinates were infinite).
+err=$("$pleat" report "$fold" --box 0,1e400,0,1 -o "$work/huge.html" -q 2>&1 > /dev/null)
+[ $? = 2 ] || fail "report of a --box beyond float64 must exit 2 ($err)"
+expect_contains "$err" "--box: x1 from 0 to about 1.00000e+400" "report --box beyond float64"
+[ ! -e "$work/huge.html" ] || fail "report of a --box beyond float64 wrote a page"
 case "$out" in *"functional dimension  48  certified"*"written"*) ;; *) fail "summary: $out" ;; esac
 page_data "$work/fold.html" > "$work/fold.json" || fail "no embedded data"
 "$pleat" walk "$fold" --box -3,3 -o "$work/fold.jsonl" -q > /dev/null || fail "walk failed"
