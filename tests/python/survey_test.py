@@ -10,6 +10,7 @@ line cut short is dropped and rerun; the exact statistics equal
 import json
 import os
 import subprocess
+import shutil
 import sys
 import tempfile
 import unittest
@@ -34,6 +35,7 @@ def lines_without_seconds(path):
 class SurveyTest(unittest.TestCase):
     def setUp(self):
         self.work = tempfile.mkdtemp(prefix="pleat-python-survey-")
+        self.addCleanup(shutil.rmtree, self.work, ignore_errors=True)
 
     def test_same_file_as_the_cli(self):
         mine, theirs = os.path.join(self.work, "python.jsonl"), os.path.join(self.work, "cli.jsonl")

@@ -9,8 +9,10 @@
   [start, end] interval intersects the other's, which cannot happen when a
   call holds the GIL), and a plain Python loop keeps counting during a walk.
 """
+import atexit
 import os
 import random
+import shutil
 import signal
 import subprocess
 import sys
@@ -24,6 +26,7 @@ import harness  # noqa: E402
 import pleat  # noqa: E402
 
 WORK = tempfile.mkdtemp(prefix="pleat-python-threads-")
+atexit.register(shutil.rmtree, WORK, ignore_errors=True)
 
 
 def random_network(arch, seed):

@@ -23,9 +23,11 @@ Checked:
 
 Usage: onnx_export_test.py PLEAT_BINARY SOURCE_DIR  (exit 77 = skipped)
 """
+import atexit
 import json
 import os
 import random
+import shutil
 import sys
 import tempfile
 from fractions import Fraction
@@ -43,7 +45,8 @@ except ImportError:
 
 pleat, source_dir = sys.argv[1], sys.argv[2]
 checker = Checker()
-work = tempfile.mkdtemp()
+work = tempfile.mkdtemp(prefix="pleat-onnx-export-")
+atexit.register(shutil.rmtree, work, ignore_errors=True)
 generator = random.Random(12)
 
 

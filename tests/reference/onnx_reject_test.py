@@ -10,7 +10,9 @@ one change the case makes.
 
 Usage: onnx_reject_test.py PLEAT_BINARY SOURCE_DIR  (exit 77 = skipped)
 """
+import atexit
 import os
+import shutil
 import sys
 import tempfile
 
@@ -27,7 +29,8 @@ except ImportError:
 
 pleat = sys.argv[1]
 checker = Checker()
-work = tempfile.mkdtemp()
+work = tempfile.mkdtemp(prefix="pleat-onnx-reject-")
+atexit.register(shutil.rmtree, work, ignore_errors=True)
 rng = np.random.default_rng(3)
 
 

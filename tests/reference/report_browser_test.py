@@ -137,7 +137,10 @@ def widest(regions, count):
     return sorted(regions, key=lambda r: -r[key])[:count]
 
 
-work = tempfile.mkdtemp()
+work = tempfile.mkdtemp(prefix="pleat-browser-")
+# Chromium puts its singleton socket directories (org.chromium.Chromium.*) in
+# TMPDIR and leaves them behind: in the work directory they go with it.
+os.environ["TMPDIR"] = work
 os.makedirs(shots, exist_ok=True)
 started = time.time()
 fold = os.path.join(source, "data", "fold2d.json")
