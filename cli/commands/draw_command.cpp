@@ -393,42 +393,43 @@ void print_fitted(const FittedView& fitted) {
 // The regions and the view. Without --view: the --box, the bounding box of
 // a bounded --domain, the saved walk's box, or else a view fitted to the
 // vertices of a walk of the whole domain (fitted_view), whose region count
-// then tells how many regions lie outside.
+// then tells how many regions lie outside. The view is checked once, naming
+// where it came from, before the walk in it.
 Scene make_scene(const Network& network, const Domain& domain, std::optional<View> view,
                  const DrawArguments& arguments, const std::atomic<bool>& interrupt) {
   const std::size_t dim = network.input_dim;
-  Scene scene;
+  std::optional<std::size_t> walked_first;  // the regions of the whole domain, when walked to fit the view
+  std::optional<SavedWalk> saved;
   if (!arguments.from_path.empty()) {
-    SavedWalk saved = read_saved_walk(network, arguments.from_path);
-    scene.regions = std::move(saved.regions);
-    scene.with_domain_sides = true;
-    scene.total_regions = scene.regions.size();
-    if (view) (void)domain_in_view(saved.domain, *view, arguments.from_path);  // else a figure of "0 regions"
-    if (!view && saved.domain.kind == Domain::Kind::box) view = View{saved.domain.lower, saved.domain.upper};
-    if (!view) {
-      const FittedView fitted = fitted_view(scene.regions, dim);
-      print_fitted(fitted);
-      view = fitted.view;
-    }
-    scene.view = *view;
-    refuse_undrawable_view(scene.view, arguments.view_text.empty() ? "the view" : "--view");
-    return scene;
+    saved = read_saved_walk(network, arguments.from_path);
+    if (view) (void)domain_in_view(saved->domain, *view, arguments.from_path);  // else a figure of "0 regions"
   }
-  if (!view && domain.kind == Domain::Kind::box) view = View{domain.lower, domain.upper};
-  if (!view && domain.kind == Domain::Kind::polytope) view = bounding_view(domain);
+  const Domain& bounds = saved ? saved->domain : domain;
+  std::string source = "--view";
+  if (!view && bounds.kind == Domain::Kind::box) {
+    view = View{bounds.lower, bounds.upper};
+    source = saved ? "the box of the walk in " + arguments.from_path : "--box";
+  }
+  if (!view && !saved && domain.kind == Domain::Kind::polytope) {
+    view = bounding_view(domain);
+    source = "the --domain's bounding box";
+  }
   if (!view) {
-    std::vector<Region> whole = walk_all(network, domain, arguments, interrupt);
-    const FittedView fitted = fitted_view(whole, dim);
+    std::vector<Region> whole = saved ? std::vector<Region>() : walk_all(network, domain, arguments, interrupt);
+    const FittedView fitted = fitted_view(saved ? saved->regions : whole, dim);
     print_fitted(fitted);
     view = fitted.view;
-    scene.total_regions = whole.size();
+    source = "the view fitted to the walk's vertices";
+    if (!saved) walked_first = whole.size();
   }
-  scene.view = *view;
-  refuse_undrawable_view(scene.view, !arguments.view_text.empty() ? "--view" : domain.kind == Domain::Kind::box ? "--box" : "the view");
-  const Domain walked = domain_in_view(domain, scene.view);
-  scene.with_domain_sides = walked.kind == Domain::Kind::polytope;
-  scene.regions = walk_all(network, walked, arguments, interrupt);
-  return scene;
+  refuse_undrawable_view(*view, source);
+  if (saved) {  // (the count first: braced initialisers are evaluated in order)
+    const std::size_t count = saved->regions.size();
+    return Scene{*view, std::move(saved->regions), true, count};
+  }
+  const Domain walked = domain_in_view(domain, *view);
+  return Scene{*view, walk_all(network, walked, arguments, interrupt), walked.kind == Domain::Kind::polytope,
+               walked_first};
 }
 
 // A CSV or an OFF mesh has no title, key, lines or text on it: the options

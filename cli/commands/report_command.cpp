@@ -111,8 +111,9 @@ struct ChosenView {
 };
 ChosenView choose_view(const Domain& domain, const std::vector<Region>& regions) {
   if (domain.kind == Domain::Kind::box) {
-    refuse_undrawable_view(View{domain.lower, domain.upper}, "--box");
-    return {View{domain.lower, domain.upper}, false};
+    const View box{domain.lower, domain.upper};
+    refuse_undrawable_view(box, "--box");
+    return {box, false};
   }
   if (domain.kind == Domain::Kind::polytope)
     if (auto view = bounding_view(domain)) {

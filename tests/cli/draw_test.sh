@@ -101,6 +101,20 @@ for bad in "--view 0,1e400,0,1" "--view -1e308,1e308,0,1" "--view 1,1.0000000000
     [ ! -e "$work/$out" ] || fail "draw $bad wrote $out"
   done
 done
+# Each refusal names where the view came from: the saved walk's box (it said
+# only "the view"), a bounded --domain's bounding box.
+"$pleat" walk "$fold" --box -1,1,1,1.00000000000000000000001 -q -o "$work/thin.jsonl" > /dev/null || fail "walk of a thin box failed"
+err=$("$pleat" draw "$fold" --from "$work/thin.jsonl" --out "$work/thin.svg" 2>&1 > /dev/null)
+[ $? = 2 ] || fail "draw --from a walk of a box too thin to draw must exit 2 ($err)"
+expect_contains "$err" "the box of the walk in $work/thin.jsonl: x2 from 1 to" "draw --from a thin box"
+cat > "$work/huge.json" <<'DOMAIN'
+{ "format": "pleat-domain/1", "input_dim": 2,
+  "constraints": [ { "normal": ["1","0"], "offset": "0" }, { "normal": ["-1","0"], "offset": "1e400" },
+                   { "normal": ["0","1"], "offset": "0" }, { "normal": ["0","-1"], "offset": "1" } ] }
+DOMAIN
+err=$("$pleat" draw "$fold" --domain "$work/huge.json" --out "$work/huge.svg" 2>&1 > /dev/null)
+[ $? = 2 ] || fail "draw of a --domain beyond float64 must exit 2 ($err)"
+expect_contains "$err" "the --domain's bounding box: x1 from 0 to about 1.00000e+400" "draw --domain beyond float64"
 "$pleat" draw "$fold" --view 0,1e-300,0,1 --out "$work/tiny.svg" -q > /dev/null 2>&1 || fail "a tiny but drawable view was refused"
 ! grep -qi nan "$work/tiny.svg" || fail "the tiny view's SVG has NaN coordinates"
 # A walk of another network is not drawn as this one's: one of the same widths
