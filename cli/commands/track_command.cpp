@@ -279,8 +279,27 @@ struct UnwrittenOutputs {
   }
 };
 
+// A checkpoint listed twice (the same file, by any path, or standard input
+// twice) is a slip in the list, not a second point of the training run: its
+// row would show a change of 0 that no training step made, and '-' would be
+// read empty the second time. Refused naming both positions.
+void refuse_repeated_checkpoints(const std::vector<std::string>& checkpoints) {
+  for (std::size_t j = 1; j < checkpoints.size(); ++j)
+    for (std::size_t i = 0; i < j; ++i) {
+      std::error_code error;
+      const bool is_stdin = checkpoints[i] == "-" && checkpoints[j] == "-";
+      if (!is_stdin && (checkpoints[i] == "-" || checkpoints[j] == "-" ||
+                        !std::filesystem::equivalent(checkpoints[i], checkpoints[j], error) || error))
+        continue;
+      throw usage_error("checkpoint " + std::to_string(j + 1) + " (" + checkpoints[j] + ") is checkpoint " +
+                        std::to_string(i + 1) + " (" + checkpoints[i] + ") again" +
+                        (is_stdin ? " (standard input can be read once)" : "") + ": list each checkpoint once");
+    }
+}
+
 int track_checkpoints(const TrackArguments& arguments, UnwrittenOutputs& outputs) {
   const InterruptGuard early_interrupt;  // before reading: a Ctrl-C while reading stops cleanly too (signals.hpp)
+  refuse_repeated_checkpoints(arguments.checkpoints);
   // Every checkpoint must read before any work starts (nothing computed is lost to a typo).
   std::optional<std::size_t> input_dim;
   std::vector<CheckpointFacts> facts;  // what a resumed row is checked against
@@ -372,7 +391,8 @@ void register_track(CommandTable& commands) {
   auto arguments = std::make_shared<TrackArguments>();
   CLI::App& command = commands.add(
       "track", "The certified functional dimension along a training run, checkpoint by checkpoint",
-      "Certifies each checkpoint (pleat-network/1 JSON or ONNX) in the order given, e.g. a\n"
+      "Certifies each checkpoint (pleat-network/1 JSON or ONNX) in the order given, each file\n"
+      "once, e.g. a "
       "glob of epoch files, walking every region: per checkpoint the functional dimension\n"
       "(or, when --time-limit-each cuts a walk short, proved bounds [lower,upper]), the\n"
       "scaling bound, the regions (>= when cut short) and linear regions (- when cut short:\n"

@@ -157,4 +157,16 @@ if [ -w /dev/full ]; then
   [ "$(cat "$work/full.err")" = "pleat: $work/earlier2.svg is stale: an earlier run's, not rewritten (the run failed: see below)
 pleat: /dev/full: cannot write (No space left on device)" ] || fail "stderr: $(cat "$work/full.err")"
 fi
+# A checkpoint listed twice, by any path, or standard input twice, is refused
+# naming both positions, before any work (it was certified twice, its second
+# row showing a change of 0; '- -' read an empty second network).
+"$pleat" track "${checkpoints[0]}" "${checkpoints[1]}" "$(dirname "${checkpoints[0]}")/./$(basename "${checkpoints[0]}")" \
+  --box -2,2 -q > "$work/twice.out" 2> "$work/twice.err"
+[ $? = 2 ] || fail "a checkpoint listed twice must exit 2: $(cat "$work/twice.err")"
+expect_contains "$(cat "$work/twice.err")" "checkpoint 3 (" "twice"
+expect_contains "$(cat "$work/twice.err")" ") is checkpoint 1 (${checkpoints[0]}) again: list each checkpoint once" "twice"
+[ ! -s "$work/twice.out" ] || fail "a refused track printed a table"
+"$pleat" track - - --box -2,2 -q < "${checkpoints[0]}" > /dev/null 2> "$work/stdin2.err"
+[ $? = 2 ] || fail "track - - must exit 2: $(cat "$work/stdin2.err")"
+expect_contains "$(cat "$work/stdin2.err")" "checkpoint 2 (-) is checkpoint 1 (-) again (standard input can be read once)" "- -"
 echo "track: all checks passed"
