@@ -7,6 +7,7 @@ import json
 import math
 import numbers
 import os
+import reprlib
 from fractions import Fraction
 from typing import Any, Optional, Sequence, Union
 
@@ -78,14 +79,21 @@ def _box_spec(box: Any, input_dim: int, what: str) -> tuple[list[str], list[str]
         pairs = [_tolist(p) for p in box]
         return ([_exact_text(p[0], f"{what}[{i}]") for i, p in enumerate(pairs)],
                 [_exact_text(p[1], f"{what}[{i}]") for i, p in enumerate(pairs)])
-    raise ValueError(f"{what}: expected (LO, HI), a list of (LO, HI) per axis, a pleat-domain/1 dict or a file path")
+    others = ", a pleat-domain/1 dict or a file path" if what == "domain" else ""
+    raise ValueError(f"{what}: expected (LO, HI) or a list of (LO, HI) per axis{others}, got {reprlib.repr(box)}")
 
 
 def _domain_spec(domain: DomainSpec, input_dim: int) -> Any:
     if domain is None:
         return None
     if isinstance(domain, (str, os.PathLike)):
-        return ("file", os.fspath(domain))
+        path = os.fspath(domain)
+        if isinstance(path, str) and not os.path.exists(path):
+            # A string is a file name: 'box:0,1' or '-1,1' is no box here.
+            raise ValueError(f"domain: no file {path!r} (a string names a pleat-domain/1 file; give a box as "
+                             f"(LO, HI) for every axis or a list of (LO, HI) per axis, a pleat-domain/1 dict, "
+                             f"or None for all of R^n0)")
+        return ("file", path)
     if isinstance(domain, dict):
         return ("polytope", json.dumps(domain), "domain")
     lower, upper = _box_spec(domain, input_dim, "domain")

@@ -64,6 +64,19 @@ class WalkTest(unittest.TestCase):
         self.assertEqual(quadrants.walk(box).linear_regions, 3)
         self.assertIsNone(quadrants.walk(box, max_regions=4).linear_regions)
 
+    def test_a_string_that_names_no_file_says_how_to_give_a_box(self):
+        # A string is a pleat-domain/1 file name: "box:0,1" (sample --dist's
+        # form) was reported as "box:0,1: cannot open (No such file or directory)".
+        net = pleat.Network.from_file(FOLD)
+        for text in ("box:0,1", "-1,1"):
+            with self.assertRaises(ValueError) as caught:
+                net.walk(text)
+            self.assertIn(f"domain: no file {text!r} (a string names a pleat-domain/1 file; give a box as (LO, HI)",
+                          str(caught.exception))
+        with self.assertRaises(ValueError) as caught:
+            net.sample(5, 1, dist=[1, 2, 3])
+        self.assertEqual(str(caught.exception), "dist: expected (LO, HI) or a list of (LO, HI) per axis, got [1, 2, 3]")
+
     def test_records_and_pandas(self):
         result = pleat.Network.from_file(FOLD).walk()
         records = result.to_records()
