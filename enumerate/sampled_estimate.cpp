@@ -122,12 +122,19 @@ NumericalRank numerical_rank(const std::vector<DoubleMatrix>& jacobians, std::si
 // of prefixes never decrease (more rows), so the search is sound for them;
 // float ranks are monotone too unless rounding moves a singular value across
 // the tolerance, which the search does not guard against (an estimate).
+// An interrupt is polled before each SVD (each one is not interruptible):
+// then *interrupted is set and the answer is none.
 std::optional<std::size_t> first_batch_reaching(const std::vector<DoubleMatrix>& jacobians, std::size_t columns,
-                                                std::size_t target, std::size_t full_rank, bool is_float32) {
+                                                std::size_t target, std::size_t full_rank, bool is_float32,
+                                                const StopRequest& stop, bool* interrupted) {
   if (full_rank < target) return std::nullopt;
   std::size_t low = 0, high = jacobians.size();  // rank(low) < target <= rank(high); rank(0) = 0
   if (target == 0) return 0;
   while (high - low > 1) {
+    if (stop.is_requested()) {
+      *interrupted = true;
+      return std::nullopt;
+    }
     const std::size_t middle = low + (high - low) / 2;
     if (numerical_rank(jacobians, middle, columns, is_float32).customary >= target) high = middle;
     else low = middle;
@@ -253,8 +260,9 @@ SampleResult run_sampled_estimate(const Network& network, const SampleOptions& o
   result.certified = certify_functional_dimension(network, domain, certify_options);
   result.verdict = sample_verdict(result.rank.customary, result.certified);
   if (result.certified.certified)
-    result.first_batch_reaching = first_batch_reaching(jacobians, columns, *result.certified.functional_dimension,
-                                                       result.rank.customary, options.is_float32);
+    result.first_batch_reaching =
+        first_batch_reaching(jacobians, columns, *result.certified.functional_dimension, result.rank.customary,
+                             options.is_float32, sampling_stop, &result.interrupted_while_searching);
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   return result;
 }

@@ -64,7 +64,8 @@ struct SampleOptions {
   PointDistribution dist;  // standard normal by default
   bool is_float32 = false;  // parameters, points, Jacobian and SVD in float32
   // For the certifying walk (threads, time limit, interrupt, progress). The
-  // time limit covers the walk only; the interrupt also stops the sampling.
+  // time limit covers the walk only; the interrupt also stops the sampling
+  // and the search for first_batch_reaching (not an SVD under way).
   WalkOptions walk;
   std::function<void(std::uint64_t drawn)> on_point;  // before each point is drawn
   // After the last point is drawn, before the singular values (e.g. to save the points).
@@ -85,6 +86,10 @@ struct SampleResult {
   // The smallest m <= batch whose first m points give the certified value
   // (customary tolerance); none when not certified or never reached.
   std::optional<std::size_t> first_batch_reaching;
+  // Set when the interrupt arrived after a certified walk, during the search
+  // for first_batch_reaching (a binary search over SVDs of prefixes): it is
+  // then none, not known; the rest of the result stands.
+  bool interrupted_while_searching = false;
   // consistent (equal), too_low (below) or impossible (above-impossible),
   // written with sample_word; none when neither certified nor outside the
   // proved bounds.

@@ -82,7 +82,10 @@ Json result_to_json(const SampleArguments& arguments, const Domain& domain, cons
   out["upper_bound"] = result.certified.upper_bound;
   out["scaling_bound"] = result.certified.scaling_bound;
   out["parametric_dimension"] = result.certified.parametric_dimension;
-  out["stop_reason"] = stop_reason_json(result.certified.stop_reason);  // why certified_value is null, if it is
+  // Why certified_value is null, if it is; "interrupted" with a certified
+  // value: the search for first_batch_reaching was.
+  out["stop_reason"] = result.interrupted_while_searching ? Json("interrupted")
+                                                          : stop_reason_json(result.certified.stop_reason);
   out["seconds"] = result.seconds;
   return out;
 }
@@ -123,9 +126,10 @@ void print_result(const Network& network, const Domain& domain, const SampleResu
     out << "  (" << count_of(result.points_on_bent_hyperplanes, "point") << " fell on a bent hyperplane)";
   out << "\n";
   out << "first batch reaching  "
-      << (result.first_batch_reaching ? count_of(*result.first_batch_reaching, "point")
-          : certified.certified       ? std::string("none within the batch")
-                                      : std::string("not known (no certified value to reach)"))
+      << (result.first_batch_reaching      ? count_of(*result.first_batch_reaching, "point")
+          : result.interrupted_while_searching ? std::string("not known (interrupted while searching)")
+          : certified.certified                ? std::string("none within the batch")
+                                               : std::string("not known (no certified value to reach)"))
       << "\n";
   out << "The sample touched " << result.regions_touched << " of " << (certified.walk_complete ? "the " : "") << total
       << (total_count == 1 ? " region that exists" : " regions that exist") << " on this domain.\n"
@@ -183,7 +187,7 @@ int run_sample(const SampleArguments& arguments) {
 
   if (arguments.json) std::cout << json_text(result_to_json(arguments, domain, result));
   else print_result(network, domain, result, options.is_float32, std::cout);
-  return result.certified.stop_reason == StopReason::interrupted ? 130 : 0;
+  return result.certified.stop_reason == StopReason::interrupted || result.interrupted_while_searching ? 130 : 0;
 }
 
 constexpr const char* sample_help =
@@ -204,6 +208,10 @@ constexpr const char* sample_help =
     "                       certified rank (binary search over prefixes; rank only grows\n"
     "                       with m, up to rounding). none: K points were not enough;\n"
     "                       not known when the run was cut short (no certified value).\n"
+    "--time-limit bounds the certifying walk only (then bounds, no certified value).\n"
+    "Ctrl-C stops every phase: the drawing of the points (no rank then), the walk, the\n"
+    "search for the first batch reaching (then not known); an SVD under way is finished\n"
+    "first (seconds on a stack of thousands of points). Exit 130 after Ctrl-C.\n"
     "Points: --dist normal draws each coordinate from N(0,1) and is judged against\n"
     "R^n0; --dist box:LO,HI draws uniformly from the open box (LO,HI)^n0 (or\n"
     "box:L1,H1,L2,H2,... per axis) and is judged against that box. The stream is\n"

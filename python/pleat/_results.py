@@ -326,7 +326,10 @@ class SampleResult:
     the smallest m whose first m points reach the certified value (None when
     the batch never does, or without a certified value); points: the
     sampled points exactly. A run interrupted while drawing points has
-    rank None and stop_reason "interrupted"."""
+    rank None and stop_reason "interrupted"; one interrupted after a
+    certified walk, in the search for first_batch_reaching, keeps its
+    certified_value, with first_batch_reaching None (not known) and
+    stop_reason "interrupted"."""
     rank: Optional[int]
     certified_value: Optional[int]
     verdict: Optional[str]
