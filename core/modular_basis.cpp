@@ -138,15 +138,27 @@ inline std::uint64_t multiply_shoup(std::uint64_t factor, std::uint64_t value, s
   return result - (prime & (0 - static_cast<std::uint64_t>(result >= prime)));
 }
 
+// target[j] -= factor * source[j] (mod p) at one entry j.
+inline void subtract_product(std::uint64_t& target, std::uint64_t source, std::uint64_t factor,
+                             std::uint64_t precomputed, std::uint64_t prime) {
+  const std::uint64_t product = multiply_shoup(factor, source, precomputed, prime);
+  const std::uint64_t difference = target - product;
+  target = difference + (prime & (0 - static_cast<std::uint64_t>(target < product)));
+}
+
 // target -= factor * source (mod p), entry by entry.
 void subtract_multiple(ModularVector& target, const ModularVector& source, std::uint64_t factor,
                        std::uint64_t prime) {
   const std::uint64_t precomputed = n_mulmod_precomp_shoup(factor, prime);
-  for (std::size_t j = 0; j < target.size(); ++j) {
-    const std::uint64_t product = multiply_shoup(factor, source[j], precomputed, prime);
-    const std::uint64_t difference = target[j] - product;
-    target[j] = difference + (prime & (0 - static_cast<std::uint64_t>(target[j] < product)));
-  }
+  for (std::size_t j = 0; j < target.size(); ++j) subtract_product(target[j], source[j], factor, precomputed, prime);
+}
+
+// The same at source's nonzero entries only (their positions listed in
+// nonzero): the other entries of target would lose factor * 0.
+void subtract_multiple_at(ModularVector& target, const ModularVector& source, const std::vector<std::size_t>& nonzero,
+                          std::uint64_t factor, std::uint64_t prime) {
+  const std::uint64_t precomputed = n_mulmod_precomp_shoup(factor, prime);
+  for (std::size_t j : nonzero) subtract_product(target[j], source[j], factor, precomputed, prime);
 }
 
 // Removes entry q by moving the last entry into its place: the free columns
@@ -266,6 +278,44 @@ void subtract_combination(const std::vector<std::uint64_t>& factors, const std::
   }
 }
 
+// subtract_combination with parts[k] nonzero only at the positions
+// nonzeros[k] lists: each nonzero product goes into its entry's exact sum
+// (one 192-bit sum per entry, reduced once), the zero ones are skipped.
+template <typename Base>
+void subtract_sparse_combination(const std::vector<std::uint64_t>& factors,
+                                 const std::vector<const std::uint64_t*>& parts,
+                                 const std::vector<const std::vector<std::size_t>*>& nonzeros, std::size_t count,
+                                 Base base, std::uint64_t* out, std::uint64_t prime, std::uint64_t prime_inverse) {
+  std::vector<WideSum> sums(count);
+  for (std::size_t k = 0; k < factors.size(); ++k) {
+    const std::uint64_t factor = factors[k];
+    const std::uint64_t* part = parts[k];
+    for (std::size_t q : *nonzeros[k]) sums[q].add(factor, part[q]);
+  }
+  nmod_t mod;  // NMOD_RED3 inline, as in subtract_combination
+  mod.n = prime;
+  mod.ninv = prime_inverse;
+  mod.norm = static_cast<flint_bitcnt_t>(__builtin_clzll(prime));
+  for (std::size_t q = 0; q < count; ++q) {
+    const std::uint64_t value = base(q);
+    std::uint64_t subtrahend;
+    NMOD_RED3(subtrahend, sums[q].high, static_cast<std::uint64_t>(sums[q].low >> 64),
+              static_cast<std::uint64_t>(sums[q].low), mod);
+    out[q] = value >= subtrahend ? value - subtrahend : value + (prime - subtrahend);
+  }
+}
+
+// The positions of part's nonzero entries, increasing.
+void list_nonzeros(const ModularVector& part, std::vector<std::size_t>& positions) {
+  positions.resize(part.size());
+  std::size_t count = 0;
+  for (std::size_t q = 0; q < part.size(); ++q) {  // branch-free: zeros and nonzeros are mixed
+    positions[count] = q;
+    count += static_cast<std::size_t>(part[q] != 0);
+  }
+  positions.resize(count);
+}
+
 }  // namespace
 
 ModularVector ModularRowBasis::residual(const ModularVector& row) const {
@@ -274,15 +324,24 @@ ModularVector ModularRowBasis::residual(const ModularVector& row) const {
   // entry at once.
   std::vector<std::uint64_t> factors;
   std::vector<const std::uint64_t*> parts;
+  std::vector<const std::vector<std::size_t>*> nonzeros;
+  std::size_t products = 0;  // the nonzero products
   for (std::size_t i = 0; i < pivot_columns_.size(); ++i)
     if (const std::uint64_t factor = row[pivot_columns_[i]]; factor != 0) {
       factors.push_back(factor);
       parts.push_back(free_parts_[i].data());
+      nonzeros.push_back(&nonzero_positions_[i]);
+      products += nonzero_positions_[i].size();
     }
   ModularVector result(free_columns_.size());
-  subtract_combination(
-      factors, parts, result.size(), [&](std::size_t q) { return row[free_columns_[q]]; }, result.data(), prime_,
-      prime_inverse_);
+  const auto base = [&](std::size_t q) { return row[free_columns_[q]]; };
+  // Kept rows of a walk are sparse (a tenth nonzero on 2,15,15,15,1): then
+  // only their nonzero products are summed, each into its entry's exact sum.
+  // Dense ones go through the blocked sums (fewer loads per product).
+  if (products * 4 < factors.size() * result.size())
+    subtract_sparse_combination(factors, parts, nonzeros, result.size(), base, result.data(), prime_, prime_inverse_);
+  else
+    subtract_combination(factors, parts, result.size(), base, result.data(), prime_, prime_inverse_);
   return result;
 }
 
@@ -296,20 +355,49 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
     if (reduced[k] != 0 && (q == reduced.size() || free_columns_[k] < free_columns_[q])) q = k;
   if (q == reduced.size()) return false;
   scale(reduced, n_invmod(reduced[q], prime_), prime_);
+  // The new row's nonzero entries: kept rows are cleared at those only. A
+  // walk's rows are sparse (on 2,15,15,15,1 a new row has about a tenth of
+  // its entries nonzero), and clearing every entry was more than half of
+  // add_row's time.
+  std::vector<std::size_t> nonzero;
+  for (std::size_t k = 0; k < reduced.size(); ++k)
+    if (reduced[k] != 0) nonzero.push_back(k);
   // The screen follows (add_row_screened): kept row i loses part[q] times
   // the new row, so its product with c loses part[q] times the new row's.
   WideSum along_new;
-  for (std::size_t k = 0; k < reduced.size(); ++k) along_new.add(reduced[k], screen_random_[free_columns_[k]]);
+  for (std::size_t k : nonzero) along_new.add(reduced[k], screen_random_[free_columns_[k]]);
   const std::uint64_t new_along = along_new.reduce(prime_, prime_inverse_);
   // Clear the new pivot column from the kept rows, then drop it from the
   // free columns of every stored row.
+  // Each kept row's list of nonzero positions follows: rewritten for a row
+  // cleared here; for the others only the last entry moves (to q, where they
+  // are zero).
+  const std::size_t last = reduced.size() - 1;
+  std::vector<char> in_new(reduced.size(), 0);  // the new row's nonzero positions
+  for (std::size_t k : nonzero) in_new[k] = 1;
   for (std::size_t i = 0; i < free_parts_.size(); ++i) {
     ModularVector& part = free_parts_[i];
+    std::vector<std::size_t>& positions = nonzero_positions_[i];
     if (part[q] != 0) {
       const std::uint64_t lost = n_mulmod2_preinv(part[q], new_along, prime_, prime_inverse_);
       screen_along_[i] = n_submod(screen_along_[i], lost, prime_);
-      subtract_multiple(part, reduced, part[q], prime_);
+      subtract_multiple_at(part, reduced, nonzero, part[q], prime_);  // part[q] is now 0
+      // Its nonzeros: those outside the new row's (unchanged), then those of
+      // the new row's positions that are nonzero now.
+      // Branch-free: either outcome is common.
+      std::size_t count = 0;
+      for (std::size_t position : positions) {
+        positions[count] = position;
+        count += static_cast<std::size_t>(in_new[position] == 0);
+      }
+      positions.resize(count + nonzero.size());
+      for (std::size_t k : nonzero) {
+        positions[count] = k;
+        count += static_cast<std::size_t>(part[k] != 0);
+      }
+      positions.resize(count);
     }
+    if (q != last && part[last] != 0) *std::find(positions.begin(), positions.end(), last) = q;
     drop_entry(part, q);
   }
   // The new row is 0 at its pivot in the free part it keeps: minus c there.
@@ -317,6 +405,8 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
   pivot_columns_.push_back(free_columns_[q]);
   drop_entry(free_columns_, q);
   drop_entry(reduced, q);
+  nonzero_positions_.emplace_back();
+  list_nonzeros(reduced, nonzero_positions_.back());
   free_parts_.push_back(std::move(reduced));
   write_screen_at_pivots();
   return true;
@@ -434,9 +524,11 @@ void ModularRowBasis::fold_block(std::vector<ModularVector>& block, const std::v
   std::sort(dropped.begin(), dropped.end(), std::greater<>());
   for (std::size_t q : dropped) drop_entry(free_columns_, q);
   screen_along_.resize(free_parts_.size());
+  nonzero_positions_.resize(free_parts_.size());
   for_each_index(parallel, free_parts_.size(), [&](std::size_t i) {
     ModularVector& part = free_parts_[i];
     for (std::size_t q : dropped) drop_entry(part, q);
+    list_nonzeros(part, nonzero_positions_[i]);
     WideSum along;
     for (std::size_t k = 0; k < free_columns_.size(); ++k) along.add(part[k], screen_random_[free_columns_[k]]);
     screen_along_[i] = along.reduce(prime_, prime_inverse_);

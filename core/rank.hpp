@@ -137,9 +137,13 @@ std::uint64_t prime_sequence(std::size_t index);
 // The walker's lower-bound accumulator: the reduced row-echelon basis modulo a
 // prime of the rows added so far. Each kept row is 1 at its pivot column and
 // 0 at every other kept row's pivot, so only its entries at the free
-// (non-pivot) columns are stored. Testing a row then costs rank x (columns -
-// rank) multiply-adds (cheap near full rank, where most rows of a walk are
-// dependent); keeping one costs the same again.
+// (non-pivot) columns are stored. Testing a row then costs at most rank x
+// (columns - rank) multiply-adds (cheap near full rank, where most rows of a
+// walk are dependent); keeping one costs the same again. Both skip zeros: a
+// residual sums only the kept rows' nonzero products (each row's nonzero
+// positions are kept listed) when they are sparse, and a new row is cleared
+// from the kept rows at its own nonzero entries only. The rows of a walk
+// are (a tenth of a kept row's entries nonzero on 2,15,15,15,1).
 // rank() is the rank mod p of all rows ever added: a lower bound of their
 // rank over Q when they are images of rational rows (top of this header).
 class ModularRowBasis {
@@ -224,6 +228,9 @@ class ModularRowBasis {
   std::vector<std::size_t> pivot_columns_;
   std::vector<std::size_t> free_columns_;   // in no particular order
   std::vector<ModularVector> free_parts_;   // kept row i at free_columns_
+  // The positions of kept row i's nonzero entries in free_parts_[i]
+  // (residual sums only those products when the rows are sparse).
+  std::vector<std::vector<std::size_t>> nonzero_positions_;
   // The screen w of add_row_screened: random c at the free columns and
   // -screen_along_[i] = -(kept row i . c) at kept row i's pivot.
   ModularVector screen_random_;             // c, one per column (fixed seed)
