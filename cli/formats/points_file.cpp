@@ -102,6 +102,9 @@ PointsFile read_text_points(const std::string& path, std::size_t dimension) {
   std::string line;
   while (file.next(line)) {
     const std::string place = file.path() + ":" + std::to_string(file.line_number());
+    // A UTF-8 byte-order mark, as spreadsheets write at the start of a CSV
+    // file, is no part of the first value (it was read as one, invisibly).
+    if (file.line_number() == 1 && line.starts_with("\xEF\xBB\xBF")) line.erase(0, 3);
     const std::string content = trimmed(line);
     if (content.empty() || content.front() == '#') continue;
     std::vector<std::string> fields = split_fields(content);

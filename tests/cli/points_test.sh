@@ -47,12 +47,22 @@ open(work + "/extra.npy", "wb").write(raw + b"\0\0\0\0\0\0\0\0")
 header = b"{'descr': '<f8', 'fortran_order' False, 'shape': (2, 2), }"
 header += b" " * (63 - len(header) % 64) + b"\n"
 open(work + "/nocolon.npy", "wb").write(b"\x93NUMPY\x01\x00" + len(header).to_bytes(2, "little") + header + raw[-32:])
+# A spreadsheet's "CSV UTF-8" starts with a byte-order mark: it was read as
+# part of the first value ("value 1 ('\ufeff0.1...'): not a number").
+with open(work + "/bom.csv", "w", encoding="utf-8-sig") as handle:
+    for a, b in points:
+        handle.write(f"{a!r},{b!r}\n")
+with open(work + "/bom_header.csv", "w", encoding="utf-8-sig") as handle:
+    handle.write("temperature,wind\n")
+    for a, b in points:
+        handle.write(f"{a!r},{b!r}\n")
 with open(work + "/pandas_numbered.csv", "w") as handle:  # DataFrame(array).to_csv(): columns named 0, 1
     handle.write(",0,1\n")
     for index, (a, b) in enumerate(points):
         handle.write(f"{index},{a!r},{b!r}\n")
 PY
-for file in savetxt.txt savetxt.csv float64.npy float32.npy fortran.npy pandas.csv pandas_numbered.csv header.csv; do
+for file in savetxt.txt savetxt.csv float64.npy float32.npy fortran.npy pandas.csv pandas_numbered.csv header.csv \
+  bom.csv bom_header.csv; do
   [ "$(batch_rank "$fold" "$work/$file")" = "$expected" ] || fail "$file: rank differs from the plain file's $expected"
 done
 
