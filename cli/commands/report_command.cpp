@@ -218,6 +218,11 @@ SliceChoice parse_slice(const std::string& text, const Domain& domain) {
   RationalVector values = parse_number_list(text.substr(equals + 1), "--slice");
   if (values.empty() || values.size() > max_slices)
     throw input_error("--slice: give 1 to " + std::to_string(max_slices) + " values, found " + std::to_string(values.size()));
+  for (std::size_t j = 1; j < values.size(); ++j)  // the same plane twice: two slider steps showing one slice
+    for (std::size_t i = 0; i < j; ++i)
+      if (values[i] == values[j])
+        throw input_error("--slice: value " + std::to_string(j + 1) + " (" + format_rational_brief(values[j]) +
+                          ") repeats value " + std::to_string(i + 1) + ": give each plane once");
   return {static_cast<std::size_t>(axis - 1), std::move(values)};
 }
 

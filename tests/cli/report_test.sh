@@ -203,6 +203,10 @@ expect_error "--slice is for networks with 3 inputs" report "$fold" --slice x3=0
 expect_error "--slice: the axis must be x1 to x3" report "$sensor" --slice x4=0 -o "$work/x.html"
 # An axis not of the form xK is named as one (it said 'expected a non-negative integer below 2^64').
 expect_error "--slice: the axis must be x1 to x3, found 'X3'" report "$sensor" --slice X3=0 -o "$work/x.html"
+# A plane given twice (by equal values) is refused: it drew the same slice at two slider steps.
+expect_error "--slice: value 3 (0) repeats value 1: give each plane once" report "$sensor" --box -1,1 \
+  --slice x3=0,1/2,0.0 -o "$work/x.html"
+[ ! -e "$work/x.html" ] || fail "a refused --slice wrote a page"
 # A slice far out: vertices beyond the float64 range are refused by name (it
 # was 'clip_rectangle: needs a non-empty 2-D rectangle'), ...
 expect_error "the arrangement's vertices reach x1 = about" report "$sensor" --slice x3=1e400 -o "$work/x.html"
