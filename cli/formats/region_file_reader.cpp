@@ -290,12 +290,23 @@ SavedRegion read_region(const Json& line, const Network& network, const LineRule
   return saved;
 }
 
+constexpr const char* region_file_how = " (a region file is written by pleat walk NETWORK -o FILE --certificates)";
+
 // The header: format and domain; for an exact copy also the network's label
 // and the parametric dimension, and the domain written as pleat writes it.
 void read_header(const Json& line, const Network& network, const LineRules& rules, RegionFile& file) {
   const LineReader& reader = rules.reader;
-  if (!line.is_object() || !line.contains("format") || line.at("format") != "pleat-regions/1")
-    reader.fail("expected the header line with \"format\": \"pleat-regions/1\"");
+  if (!line.is_object() || !line.contains("format") || line.at("format") != "pleat-regions/1") {
+    // Another of pleat's files given here is named, with where it belongs.
+    const std::string format =
+        line.is_object() && line.contains("format") && line.at("format").is_string() ? line.at("format").get<std::string>() : "";
+    const std::string found =
+        format == "pleat-bundle/1"    ? ", found a proof bundle (pleat-bundle/1: check it with python3 scripts/check_bundle.py FILE)"
+        : format == "pleat-network/1" ? ", found a network (pleat-network/1: give the network first, then the region file)"
+        : format.empty()              ? ""
+                                      : ", found \"format\": " + line.at("format").dump() + region_file_how;
+    reader.fail("expected the header line with \"format\": \"pleat-regions/1\"" + found);
+  }
   rules.allow_only(line, {"format", "network", "domain", "parametric_dimension"}, "the header");
   const Json& written = reader.field(line, "domain");
   file.domain = domain_from_json(written, network.input_dim, reader);
@@ -336,6 +347,11 @@ Json parse_line(const std::string& text, const LineRules& rules) {
   try {
     return Json::parse(text, refuse_repeats);
   } catch (const Json::parse_error& error) {
+    // pleat walk/certify --json print a document over several lines: its first line is '{' alone.
+    if (rules.reader.line() == 1 && std::count(text.begin(), text.end(), '{') == 1 &&
+        text.find_first_not_of(" \t\r{") == std::string::npos)
+      rules.reader.fail("'{' alone: a JSON document written over several lines (as --json prints), not a region file of "
+                        "one JSON object per line" + std::string(region_file_how));
     std::string what = error.what();
     if (what.size() > 200) what = what.substr(0, 200) + "...";
     rules.reader.fail("not JSON (" + what + ")");

@@ -28,6 +28,7 @@ class LineReader {
   void require_canonical() { canonical_ = true; }
 
   [[noreturn]] void fail(const std::string& what) const;
+  std::size_t line() const { return line_; }
   const Json& field(const Json& object, const char* key) const;
   Rational rational(const Json& value) const;             // an exact number written as a string
   RationalVector rationals(const Json& value) const;

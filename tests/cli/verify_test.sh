@@ -64,4 +64,16 @@ tamper affine 'lines[1]["affine"]["c"][0] = "12345"' "affine map"
 sed '1s/"network":"[^"]*"/"network":"elsewhere.json"/' "$work/box.jsonl" > "$work/label.jsonl"
 out=$("$pleat" verify "$fold" "$work/label.jsonl") || fail "a changed label failed: $out"
 case "$out" in *'note: the file names its network "elsewhere.json"'*) ;; *) fail "no note on the label: $out" ;; esac
+# Another of pleat's files given as the region file is named, with where it
+# belongs: it said 'line 1: not JSON (... parse error at line 1, column 2 ...)'
+# for --json output (a document over several lines) and 'expected the header
+# line ...' for a proof bundle.
+"$pleat" walk "$fold" --box -1,1 --json -q > "$work/walk.json" || fail "walk --json failed"
+"$pleat" certify "$fold" --box -1,1 -q --bundle "$work/bundle.json" > /dev/null || fail "certify --bundle failed"
+err=$("$pleat" verify "$fold" "$work/walk.json" 2>&1)
+[ $? = 2 ] || fail "verify of walk --json output must exit 2: $err"
+expect_contains "$err" "walk.json: line 1: '{' alone: a JSON document written over several lines (as --json prints), not a region file of one JSON object per line (a region file is written by pleat walk NETWORK -o FILE --certificates)" "--json output"
+err=$("$pleat" verify "$fold" "$work/bundle.json" 2>&1)
+[ $? = 2 ] || fail "verify of a bundle must exit 2: $err"
+expect_contains "$err" "found a proof bundle (pleat-bundle/1: check it with python3 scripts/check_bundle.py FILE)" "bundle"
 echo "verify: all checks passed"
