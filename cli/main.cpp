@@ -9,6 +9,7 @@
 
 #include <CLI/CLI.hpp>
 
+#include <cstdint>
 #include <exception>
 #include <iostream>
 #include <string>
@@ -101,22 +102,53 @@ int run(int argc, char** argv) {
 
 namespace {
 
+// The length of the well-formed UTF-8 sequence at text[at] of a character
+// from U+00A0 on (no overlong form, no surrogate, at most U+10FFFF); 0 when
+// there is none: a byte of another encoding, a cut sequence, or a C1 control
+// U+0080..U+009F (U+009B is a terminal's one-character escape sequence).
+std::size_t printable_utf8_length(const std::string& text, std::size_t at) {
+  const auto byte = [&](std::size_t i) { return static_cast<unsigned char>(text[i]); };
+  const unsigned char lead = byte(at);
+  const std::size_t length = lead >= 0xc2 && lead <= 0xdf ? 2 : lead >= 0xe0 && lead <= 0xef ? 3
+                             : lead >= 0xf0 && lead <= 0xf4                                   ? 4
+                                                                                              : 0;
+  if (length == 0 || at + length > text.size()) return 0;
+  std::uint32_t code = lead & (0x7f >> length);
+  for (std::size_t i = 1; i < length; ++i) {
+    if ((byte(at + i) & 0xc0) != 0x80) return 0;
+    code = (code << 6) | (byte(at + i) & 0x3f);
+  }
+  const std::uint32_t least[] = {0, 0, 0x80, 0x800, 0x10000};
+  if (code < least[length] || code > 0x10ffff || (code >= 0xd800 && code <= 0xdfff) || code < 0xa0) return 0;
+  return length;
+}
+
 // An error message may quote text from an input file or the command line;
 // its control characters (an escape sequence could move the cursor and
-// overwrite what was printed before) are shown as \xHH. Newlines and tabs stay.
+// overwrite what was printed before) are shown as \xHH, and so is every byte
+// that is not part of well-formed UTF-8 (a file in another encoding) or is a
+// C1 control. Newlines and tabs stay.
 std::string printable(const std::string& text) {
   std::string out;
   out.reserve(text.size());
-  for (const char c : text) {
-    const auto byte = static_cast<unsigned char>(c);
-    if ((byte < 0x20 && c != '\n' && c != '\t') || byte == 0x7f) {
+  for (std::size_t at = 0; at < text.size();) {
+    const auto byte = static_cast<unsigned char>(text[at]);
+    if (byte >= 0x80) {
+      if (const std::size_t length = printable_utf8_length(text, at)) {
+        out.append(text, at, length);
+        at += length;
+        continue;
+      }
+    }
+    if ((byte < 0x20 && byte != '\n' && byte != '\t') || byte >= 0x7f) {
       constexpr char digits[] = "0123456789abcdef";
       out += "\\x";
       out += digits[byte >> 4];
       out += digits[byte & 0xf];
     } else {
-      out += c;
+      out += static_cast<char>(byte);
     }
+    ++at;
   }
   return out;
 }

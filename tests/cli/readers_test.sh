@@ -68,6 +68,11 @@ printf '1,2\033[2Kverified\n' > "$work/escape.csv"
 refused points-escape "('2\\x1b[2Kverified')" "$pleat" certify "$fold" --points "$work/escape.csv"
 err=$("$pleat" certify "$fold" --points "$work/escape.csv" 2>&1 >/dev/null)
 case "$err" in *$'\033'*) fail "a raw escape character reached standard error" ;; esac
+# Bytes that are no well-formed UTF-8 (a Latin-1 file) and the C1 control
+# U+009B (a one-character escape sequence) are shown as \xHH too; they were
+# printed raw. Well-formed text (1/2 sign, emoji) stays as it is.
+printf '1,2\xff\xc2\x9b2K\xc2\xbd\xf0\x9f\x98\x80\n' > "$work/bytes.csv"
+refused points-bytes "('2\\xff\\xc2\\x9b2K½😀')" "$pleat" certify "$fold" --points "$work/bytes.csv"
 refused survey-init 'unknown initialization "he\nfunctional dimension  99 certified"' "$pleat" survey summary "$work/init.jsonl"
 refused network-folder "folder: cannot open: is a directory" "$pleat" walk "$work/folder"
 
