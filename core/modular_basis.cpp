@@ -279,7 +279,7 @@ void subtract_combination(const std::vector<std::uint64_t>& factors, const std::
 }
 
 // subtract_combination with parts[k] nonzero only at the positions
-// nonzeros[k] lists: each nonzero product goes into its entry's exact sum
+// nonzeros[k] lists (every position when null): each nonzero product goes into its entry's exact sum
 // (one 192-bit sum per entry, reduced once), the zero ones are skipped.
 template <typename Base>
 void subtract_sparse_combination(const std::vector<std::uint64_t>& factors,
@@ -290,6 +290,10 @@ void subtract_sparse_combination(const std::vector<std::uint64_t>& factors,
   for (std::size_t k = 0; k < factors.size(); ++k) {
     const std::uint64_t factor = factors[k];
     const std::uint64_t* part = parts[k];
+    if (nonzeros[k] == nullptr) {  // a dense part, not listed
+      for (std::size_t q = 0; q < count; ++q) sums[q].add(factor, part[q]);
+      continue;
+    }
     for (std::size_t q : *nonzeros[k]) sums[q].add(factor, part[q]);
   }
   nmod_t mod;  // NMOD_RED3 inline, as in subtract_combination
@@ -305,8 +309,10 @@ void subtract_sparse_combination(const std::vector<std::uint64_t>& factors,
   }
 }
 
-// The positions of part's nonzero entries, increasing.
-void list_nonzeros(const ModularVector& part, std::vector<std::size_t>& positions) {
+// The positions of part's nonzero entries, increasing; false (and none
+// listed) when more than a quarter of its entries are nonzero: a dense row
+// is not listed (keeping its list would cost as much as using the row).
+bool list_nonzeros(const ModularVector& part, std::vector<std::size_t>& positions) {
   positions.resize(part.size());
   std::size_t count = 0;
   for (std::size_t q = 0; q < part.size(); ++q) {  // branch-free: zeros and nonzeros are mixed
@@ -314,6 +320,9 @@ void list_nonzeros(const ModularVector& part, std::vector<std::size_t>& position
     count += static_cast<std::size_t>(part[q] != 0);
   }
   positions.resize(count);
+  if (count * 2 <= part.size()) return true;
+  positions.clear();
+  return false;
 }
 
 }  // namespace
@@ -330,8 +339,8 @@ ModularVector ModularRowBasis::residual(const ModularVector& row) const {
     if (const std::uint64_t factor = row[pivot_columns_[i]]; factor != 0) {
       factors.push_back(factor);
       parts.push_back(free_parts_[i].data());
-      nonzeros.push_back(&nonzero_positions_[i]);
-      products += nonzero_positions_[i].size();
+      nonzeros.push_back(is_listed_[i] ? &nonzero_positions_[i] : nullptr);
+      products += is_listed_[i] ? nonzero_positions_[i].size() : free_columns_.size();
     }
   ModularVector result(free_columns_.size());
   const auto base = [&](std::size_t q) { return row[free_columns_[q]]; };
@@ -372,7 +381,10 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
   // Each kept row's list of nonzero positions follows: rewritten for a row
   // cleared here; for the others only the last entry moves (to q, where they
   // are zero).
+  // A dense row (rows of random entries, not a walk's) is cleared entry by
+  // entry, and a dense kept row has no list to follow.
   const std::size_t last = reduced.size() - 1;
+  const bool is_dense = nonzero.size() * 2 > reduced.size();
   std::vector<char> in_new(reduced.size(), 0);  // the new row's nonzero positions
   for (std::size_t k : nonzero) in_new[k] = 1;
   for (std::size_t i = 0; i < free_parts_.size(); ++i) {
@@ -381,7 +393,14 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
     if (part[q] != 0) {
       const std::uint64_t lost = n_mulmod2_preinv(part[q], new_along, prime_, prime_inverse_);
       screen_along_[i] = n_submod(screen_along_[i], lost, prime_);
-      subtract_multiple_at(part, reduced, nonzero, part[q], prime_);  // part[q] is now 0
+      if (is_dense)
+        subtract_multiple(part, reduced, part[q], prime_);  // part[q] is now 0
+      else
+        subtract_multiple_at(part, reduced, nonzero, part[q], prime_);
+      if (!is_listed_[i]) {
+        drop_entry(part, q);
+        continue;
+      }
       // Its nonzeros: those outside the new row's (unchanged), then those of
       // the new row's positions that are nonzero now.
       // Branch-free: either outcome is common.
@@ -396,8 +415,12 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
         count += static_cast<std::size_t>(part[k] != 0);
       }
       positions.resize(count);
+      if (count * 2 > part.size()) {  // dense now: no longer listed
+        positions.clear();
+        is_listed_[i] = 0;
+      }
     }
-    if (q != last && part[last] != 0) *std::find(positions.begin(), positions.end(), last) = q;
+    if (is_listed_[i] && q != last && part[last] != 0) *std::find(positions.begin(), positions.end(), last) = q;
     drop_entry(part, q);
   }
   // The new row is 0 at its pivot in the free part it keeps: minus c there.
@@ -406,7 +429,7 @@ bool ModularRowBasis::add_row(const ModularVector& row) {
   drop_entry(free_columns_, q);
   drop_entry(reduced, q);
   nonzero_positions_.emplace_back();
-  list_nonzeros(reduced, nonzero_positions_.back());
+  is_listed_.push_back(list_nonzeros(reduced, nonzero_positions_.back()) ? 1 : 0);
   free_parts_.push_back(std::move(reduced));
   write_screen_at_pivots();
   return true;
@@ -525,10 +548,11 @@ void ModularRowBasis::fold_block(std::vector<ModularVector>& block, const std::v
   for (std::size_t q : dropped) drop_entry(free_columns_, q);
   screen_along_.resize(free_parts_.size());
   nonzero_positions_.resize(free_parts_.size());
+  is_listed_.resize(free_parts_.size());
   for_each_index(parallel, free_parts_.size(), [&](std::size_t i) {
     ModularVector& part = free_parts_[i];
     for (std::size_t q : dropped) drop_entry(part, q);
-    list_nonzeros(part, nonzero_positions_[i]);
+    is_listed_[i] = list_nonzeros(part, nonzero_positions_[i]) ? 1 : 0;
     WideSum along;
     for (std::size_t k = 0; k < free_columns_.size(); ++k) along.add(part[k], screen_random_[free_columns_[k]]);
     screen_along_[i] = along.reduce(prime_, prime_inverse_);

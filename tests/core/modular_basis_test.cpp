@@ -64,15 +64,19 @@ struct PlainBasis {
 // or two (so the echelon rows stay sparse: a few groups' columns at most),
 // about half of those entries nonzero and a quarter of them p - 1 (the
 // largest products); every third row a combination of two earlier rows (in
-// the span, unless a group is full).
+// the span, unless a group is full). With `dense`, rows count / 3 and
+// 2 count / 3 are dense instead (every entry nonzero): such a row is kept
+// unlisted, and so is a kept row it fills in, among listed sparse ones.
 std::vector<ModularVector> sparse_rows(std::mt19937_64& random, std::uint64_t prime, std::size_t count,
-                                       std::size_t groups, std::size_t width) {
+                                       std::size_t groups, std::size_t width, bool dense) {
   const std::size_t columns = groups * width;
   std::vector<ModularVector> rows;
   const auto residue = [&] { return random() % 4 == 0 ? prime - 1 : 1 + random() % (prime - 1); };
   while (rows.size() < count) {
     ModularVector row(columns, 0);
-    if (rows.size() >= 2 && rows.size() % 3 == 2) {
+    if (dense && (rows.size() == count / 3 || rows.size() == 2 * count / 3)) {
+      for (std::uint64_t& value : row) value = residue();
+    } else if (rows.size() >= 2 && rows.size() % 3 == 2) {
       const ModularVector& a = rows[random() % rows.size()];
       const ModularVector& b = rows[random() % rows.size()];
       const std::uint64_t s = residue(), t = residue();
@@ -89,7 +93,8 @@ std::vector<ModularVector> sparse_rows(std::mt19937_64& random, std::uint64_t pr
   return rows;
 }
 
-// After every add (one row at a time, or a batch through add_rows): the
+// After every add (one row at a time, or a batch through add_rows; with a
+// couple of dense rows among the sparse ones, or none): the
 // same answer, pivots and echelon rows as the plain elimination, and a
 // screen and contains that stop exactly the span. A residual that skipped a
 // nonzero product (a stale list of nonzero positions) or a kept row left
@@ -99,7 +104,8 @@ TEST(ModularRowBasis, SparseRowsGiveThePlainEliminationsBasis) {
   for (std::uint64_t prime : {primary_prime(), screening_prime(), std::uint64_t{1000003}}) {
     for (int trial = 0; trial < 4; ++trial) {
       const std::size_t groups = 10 + random() % 6, width = 6 + random() % 6;
-      const std::vector<ModularVector> rows = sparse_rows(random, prime, 3 * groups * width / 2, groups, width);
+      const std::vector<ModularVector> rows =
+          sparse_rows(random, prime, 3 * groups * width / 2, groups, width, trial >= 2);
       ModularRowBasis basis(prime, groups * width);
       PlainBasis plain{prime, groups * width, {}, {}};
       std::size_t r = 0;
