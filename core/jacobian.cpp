@@ -402,14 +402,10 @@ std::optional<ModularNetwork> reduce_modulo(const Network& network, std::uint64_
   for (const Layer& layer : network.layers) {
     auto weights = reduce_modulo(layer.weights, prime);
     if (!weights) return std::nullopt;
-    ModularVector bias(layer.bias.size());
-    for (std::size_t i = 0; i < bias.size(); ++i) {
-      const auto residue = reduce_modulo(layer.bias[i], prime);
-      if (!residue) return std::nullopt;
-      bias[i] = *residue;
-    }
+    auto bias = reduce_modulo(layer.bias, prime);
+    if (!bias) return std::nullopt;
     out.weights.push_back(std::move(*weights));
-    out.bias.push_back(std::move(bias));
+    out.bias.push_back(std::move(*bias));
   }
   return out;
 }

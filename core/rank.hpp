@@ -81,6 +81,8 @@ std::optional<std::uint64_t> reduce_modulo(const Rational& value, std::uint64_t 
 
 // M mod p entrywise, or nullopt when p divides some denominator.
 std::optional<ModularMatrix> reduce_modulo(const RationalMatrix& matrix, std::uint64_t prime);
+// v mod p entrywise, or nullopt when p divides some denominator.
+std::optional<ModularVector> reduce_modulo(const RationalVector& values, std::uint64_t prime);
 
 // The rank of M mod p (FLINT nmod_mat_rank). A lower bound of the rank over Q
 // of any rational matrix that reduces to M (see the top of this header).

@@ -75,6 +75,12 @@ struct ScalingPart {
   std::vector<std::size_t> pivots;
   std::vector<std::vector<std::pair<std::size_t, Rational>>> at_pivot;
   std::vector<std::optional<SparseVector>> directions;  // of each neuron, once needed
+  // The equations in the order they are solved (each with one unknown left
+  // once the earlier ones are: leaf by leaf) and the unknown each solves:
+  // the order depends on which entries are nonzero only, not on g, so it is
+  // found once for every generator; empty with solvable false when it stalls.
+  std::vector<std::pair<std::size_t, std::size_t>> order;  // (equation e, its entry solved for)
+  bool solvable = true;
 
   ScalingPart(const Network& network_in, const ScalingStructure& structure);
   const SparseVector& direction(std::size_t n) {
@@ -114,44 +120,71 @@ ScalingPart::ScalingPart(const Network& network_in, const ScalingStructure& stru
     std::sort(at_pivot[e].begin(), at_pivot[e].end(),
               [](const auto& a, const auto& b) { return a.first < b.first; });
   }
-}
-
-// g minus the combination of the independent scaling directions that
-// equals g on the pivot columns Q: 0 there. Solved equation by equation,
-// each once it has one unknown left (leaf by leaf); nullopt when that
-// stalls.
-std::optional<SparseVector> without_scaling_part(const SparseVector& g, ScalingPart& scaling) {
-  const std::size_t count = scaling.neurons.size();
-  std::vector<std::optional<Rational>> amount(count);
-  std::vector<char> is_done(scaling.pivots.size(), 0);
-  for (std::size_t solved = 0; solved < count;) {
+  // Passes over the equations in order, each solved as soon as it has one
+  // unknown left, until every amount is known (or a pass makes no progress).
+  std::vector<char> is_known(neurons.size(), 0), is_done(pivots.size(), 0);
+  for (std::size_t solved = 0; solved < neurons.size();) {
     bool progress = false;
-    for (std::size_t e = 0; e < scaling.pivots.size(); ++e) {
+    for (std::size_t e = 0; e < pivots.size(); ++e) {
       if (is_done[e]) continue;
-      const auto at_q = g.find(scaling.pivots[e]);
-      Rational rest = at_q == g.end() ? Rational(0) : at_q->second;
-      const std::pair<std::size_t, Rational>* unknown = nullptr;
-      std::size_t unknowns = 0;
-      for (const auto& entry : scaling.at_pivot[e]) {
-        if (amount[entry.first]) {
-          rest -= *amount[entry.first] * entry.second;
-        } else {
-          unknown = &entry;
+      std::size_t unknowns = 0, unknown = 0;
+      for (std::size_t a = 0; a < at_pivot[e].size(); ++a)
+        if (!is_known[at_pivot[e][a].first]) {
+          unknown = a;
           ++unknowns;
         }
-      }
       if (unknowns != 1) continue;
-      amount[unknown->first] = rest / unknown->second;
+      order.emplace_back(e, unknown);
+      is_known[at_pivot[e][unknown].first] = 1;
       is_done[e] = 1;
       ++solved;
       progress = true;
     }
-    if (!progress) return std::nullopt;
+    if (!progress) {
+      solvable = false;
+      order.clear();
+      return;
+    }
+  }
+}
+
+// g minus the combination of the independent scaling directions that
+// equals g on the pivot columns Q: 0 there. Solved equation by equation in
+// the scaling part's order, each for its one unknown left; an amount is 0
+// unless g or an amount already found is nonzero in its equation (most of
+// them: a generator is nonzero at a few pivots), which costs no rational
+// operation. nullopt when the order stalls.
+std::optional<SparseVector> without_scaling_part(const SparseVector& g, ScalingPart& scaling) {
+  if (!scaling.solvable) return std::nullopt;
+  const std::size_t count = scaling.neurons.size();
+  std::vector<Rational> amount(count);  // 0 until solved
+  std::vector<char> is_nonzero(count, 0);
+  Rational rest, product;
+  for (const auto& [e, solved] : scaling.order) {
+    const auto at_q = g.find(scaling.pivots[e]);
+    bool is_zero = at_q == g.end();
+    if (!is_zero) rest = at_q->second;
+    const std::vector<std::pair<std::size_t, Rational>>& entries = scaling.at_pivot[e];
+    for (std::size_t a = 0; a < entries.size(); ++a) {
+      const std::size_t n = entries[a].first;
+      if (a == solved || !is_nonzero[n]) continue;
+      mpq_mul(product.get_mpq_t(), amount[n].get_mpq_t(), entries[a].second.get_mpq_t());
+      if (is_zero) {
+        mpq_neg(rest.get_mpq_t(), product.get_mpq_t());
+        is_zero = false;
+      } else {
+        rest -= product;
+      }
+    }
+    if (is_zero || rest == 0) continue;
+    const std::size_t n = entries[solved].first;
+    mpq_div(amount[n].get_mpq_t(), rest.get_mpq_t(), entries[solved].second.get_mpq_t());
+    is_nonzero[n] = 1;
   }
   SparseVector out = g;
   for (std::size_t n = 0; n < count; ++n)
-    if (*amount[n] != 0)
-      for (const auto& [c, value] : scaling.direction(n)) add_to(out, c, -*amount[n] * value);
+    if (is_nonzero[n])
+      for (const auto& [c, value] : scaling.direction(n)) add_to(out, c, -amount[n] * value);
   for (std::size_t q : scaling.pivots)
     if (out.count(q)) return std::nullopt;
   return out;

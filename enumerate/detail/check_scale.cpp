@@ -46,14 +46,18 @@ struct BigNumbers {
 struct WordNumbers {
   __extension__ typedef unsigned __int128 Number;
   static constexpr Number limit = Number{1} << 127;
-  static bool fits(const Integer& value, Number& out) {
-    if (sgn(value) < 0 || mpz_sizeinbase(value.get_mpz_t(), 2) > 126) return false;
-    out = (static_cast<Number>(mpz_getlimbn(value.get_mpz_t(), 1)) << 64) | mpz_getlimbn(value.get_mpz_t(), 0);
+  // |value| in a word when below 2^126, read off its limbs (no copy: the
+  // Integer temporaries of abs() and get_den() were an allocation each, two
+  // per parameter per pass).
+  static bool fits(mpz_srcptr value, Number& out) {
+    if (mpz_sizeinbase(value, 2) > 126) return false;
+    out = (static_cast<Number>(mpz_getlimbn(value, 1)) << 64) | mpz_getlimbn(value, 0);
     return true;
   }
+  static bool fits(const Integer& value, Number& out) { return sgn(value) >= 0 && fits(value.get_mpz_t(), out); }
   bool scaled_absolute(const Rational& value, const Integer& lcm, Number& out) const {
     Number l = 0, den = 0, num = 0;
-    if (!fits(lcm, l) || !fits(value.get_den(), den) || !fits(abs(value.get_num()), num)) return false;
+    if (!fits(lcm, l) || !fits(value.get_den_mpz_t(), den) || !fits(value.get_num_mpz_t(), num)) return false;
     return !__builtin_mul_overflow(l / den, num, &out) && out < limit;  // den divides L
   }
   bool from(const Integer& value, Number& out) const { return fits(value, out); }

@@ -146,10 +146,20 @@ IntegerCheck::IntegerCheck(const Network& network, const CheckScale& check_scale
   id_ = ++checks;
   const Integer& lcm = check_scale.lcm;
   Integer power = 1;  // L^k
-  auto scaled = [&](const Rational& value, const Integer& factor) {  // factor value, an integer
+  const Integer one = 1;
+  // L^k L value = L^k (L / den) num, an integer, modulo 2^128 (`power`
+  // L^k's residue). With L below 2^128, L / den is a word division and the
+  // products are taken modulo 2^128 as they are: the same residue as GMP's
+  // exact product (used when L is larger), without an allocation per
+  // parameter.
+  const bool lcm_fits = mpz_sizeinbase(lcm.get_mpz_t(), 2) <= 128;
+  const Wide lcm_word = wide_residue(lcm);
+  auto scaled = [&](const Rational& value, const Integer& power_k) {
+    if (lcm_fits) return wide_residue(power_k) * (lcm_word / wide_residue(value.get_den())) * wide_residue(value.get_num());
     Integer out;
-    mpz_divexact(out.get_mpz_t(), factor.get_mpz_t(), value.get_den_mpz_t());
+    mpz_divexact(out.get_mpz_t(), lcm.get_mpz_t(), value.get_den_mpz_t());
     out *= value.get_num();
+    out *= power_k;
     return wide_residue(out);
   };
   struct Role {
@@ -164,12 +174,12 @@ IntegerCheck::IntegerCheck(const Network& network, const CheckScale& check_scale
     weights_.emplace_back();
     for (std::size_t i = 0; i < layer.width(); ++i)
       for (std::size_t j = 0; j < layer.fan_in(); ++j) {
-        weights_.back().push_back(scaled(layer.weights(i, j), lcm));
+        weights_.back().push_back(scaled(layer.weights(i, j), one));
         roles.push_back({k, i, j});
       }
     biases_.emplace_back();
     for (std::size_t i = 0; i < layer.width(); ++i) {
-      biases_.back().push_back(scaled(layer.bias[i], next_power));
+      biases_.back().push_back(scaled(layer.bias[i], power));
       roles.push_back({k, i, bias});
     }
     if (k + 1 < depth_ || output_relu_) neuron_layer_.insert(neuron_layer_.end(), layer.width(), k);

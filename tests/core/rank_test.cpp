@@ -217,6 +217,45 @@ TEST(ReduceModulo, InvertsDenominatorsAndReportsDivisibleOnes) {
   EXPECT_EQ(reduce_modulo(Rational(202, 3), p), 0u);
 }
 
+// The matrix and vector reductions invert all denominators at once (one
+// inversion of their product): each entry must still be its own residue,
+// with 1 and repeated denominators, negative values and zeros, and a
+// denominator the prime divides anywhere (first, middle, last) gives nullopt.
+TEST(ReduceModulo, MatricesAndVectorsAreTheirEntriesResidues) {
+  std::mt19937_64 rng(7);
+  for (const std::uint64_t p : {std::uint64_t{101}, primary_prime(), screening_prime()}) {
+    for (std::size_t rows : {1u, 3u, 7u}) {
+      RationalMatrix m(rows, 5);
+      RationalVector v(rows * 5);
+      for (std::size_t r = 0; r < rows; ++r)
+        for (std::size_t c = 0; c < 5; ++c) {
+          const long num = static_cast<long>(rng() % 2001) - 1000;
+          const long den = rng() % 3 == 0 ? 1 : static_cast<long>(rng() % 100) + 1;
+          m(r, c) = Rational(num, den * 101 + 1);  // never divisible by 101
+          if (rng() % 4 == 0) m(r, c) = Rational(num, 1000000);
+          v[r * 5 + c] = m(r, c);
+        }
+      const ModularMatrix reduced = reduce_modulo(m, p).value();
+      const ModularVector reduced_vector = reduce_modulo(v, p).value();
+      for (std::size_t r = 0; r < rows; ++r)
+        for (std::size_t c = 0; c < 5; ++c) {
+          EXPECT_EQ(reduced(r, c), reduce_modulo(m(r, c), p).value()) << p << " " << m(r, c);
+          EXPECT_EQ(reduced_vector[r * 5 + c], reduced(r, c));
+        }
+      if (p != 101) continue;
+      for (const std::size_t at : {std::size_t{0}, v.size() / 2, v.size() - 1}) {
+        RationalMatrix divisible = m;
+        RationalVector divisible_vector = v;
+        divisible(at / 5, at % 5) = Rational(3, 202);
+        divisible_vector[at] = Rational(3, 202);
+        EXPECT_FALSE(reduce_modulo(divisible, p).has_value());
+        EXPECT_FALSE(reduce_modulo(divisible_vector, p).has_value());
+      }
+    }
+  }
+  EXPECT_TRUE(reduce_modulo(RationalVector{}, 101).value().empty());
+}
+
 TEST(Primes, WordSizeDistinctAndPrime) {
   const std::uint64_t p = primary_prime();
   const std::uint64_t q = screening_prime();
