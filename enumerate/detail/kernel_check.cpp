@@ -337,6 +337,21 @@ AnnihilationCheck::AnnihilationCheck(const Network& network, const SparseRationa
     }
     first_term_.push_back(term_neurons_.size());
   }
+  // The neurons the products depend on (read_states_): an entry at W_k[i,j]
+  // is G_k[o,i] x_k[j]_t, at b_k[i] G_k[o,i] L^k; G_k[o,i] depends on
+  // neuron i of layer k and every neuron of the layers after k, x_k[j] on
+  // neuron j of layer k - 1 and every neuron of the layers before k - 1.
+  std::vector<char> reads(always_on + 1, 0);
+  std::size_t signals_from = network.depth(), inputs_below = 0;  // layers read whole
+  for (std::size_t v = 0; v < vector_count_; ++v)
+    for (const auto& [c, value] : integer_rows[v]) {
+      const ColumnRole& role = columns_[c];
+      signals_from = std::min(signals_from, role.layer + 1);
+      if (role.input != ColumnRole::bias && role.layer > 0) inputs_below = std::max(inputs_below, role.layer - 1);
+    }
+  for (const TermNeurons& term : term_neurons_) reads[term.own] = reads[term.input] = 1;
+  for (std::size_t n = 0; n < always_on; ++n)
+    if (reads[n] || neuron_layer_[n] >= signals_from || neuron_layer_[n] < inputs_below) read_states_.push_back(n);
   const std::vector<Integer>& bounds = check_scale.scaled_bounds;
   // Each vector's bound L^(d-1) sum_c B_c |e_c|: primes until their product exceeds it.
   std::vector<Integer> needed(vector_count_, 0);
@@ -488,6 +503,25 @@ bool AnnihilationCheck::live_vectors(const ActivationPattern& pattern, std::vect
 }
 
 bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
+  // A pattern equal to the last one this thread found annihilated at every
+  // neuron the products read (read_states_) has the same products: every
+  // entry in the vectors' columns is the same polynomial in the parameters
+  // (on 2,5,5,5,5,1 seed 1 the vectors are in the last two layers, and
+  // regions differing only in other neurons of the last hidden layer follow
+  // each other in lexicographic order).
+  thread_local std::pair<std::uint64_t, std::vector<NeuronState>> passed{0, {}};
+  if (passed.first == id_ && passed.second.size() == pattern.states.size() &&
+      std::all_of(read_states_.begin(), read_states_.end(),
+                  [&](std::size_t n) { return passed.second[n] == pattern.states[n]; }))
+    return true;
+  passed.first = 0;  // invalid until this pattern is found annihilated
+  if (!annihilates_here(pattern)) return false;
+  passed.first = id_;
+  passed.second = pattern.states;
+  return true;
+}
+
+bool AnnihilationCheck::annihilates_here(const ActivationPattern& pattern) const {
   // The vectors with a term on the pattern: the others annihilate its rows
   // term by term (live_vectors), for every prime.
   thread_local std::vector<char> live;

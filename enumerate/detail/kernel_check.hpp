@@ -189,6 +189,8 @@ class AnnihilationCheck {
   // seed 1: 54 vectors, 226 terms, 1215 regions). Returns whether any
   // vector is live.
   bool live_vectors(const ActivationPattern& pattern, std::vector<char>& live) const;
+  // annihilates without the reuse of the last pattern's answer.
+  bool annihilates_here(const ActivationPattern& pattern) const;
   struct Modulus {
     ModularNetwork network;
     nmod_t mod{};  // FLINT's nmod_init(network.prime), once
@@ -211,6 +213,9 @@ class AnnihilationCheck {
   std::vector<std::size_t> neuron_layer_;
   std::vector<TermNeurons> term_neurons_;  // vector v's in [first_term_[v], first_term_[v + 1])
   std::vector<std::size_t> first_term_;
+  // The pattern's neurons the vectors' products depend on (the others
+  // change no entry in their columns), increasing.
+  std::vector<std::size_t> read_states_;
   std::uint64_t id_ = 0;
   std::unique_ptr<const IntegerCheck> integer_;  // the products in fixed-width integers, instead of moduli_
 };

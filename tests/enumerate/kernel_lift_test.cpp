@@ -505,6 +505,88 @@ TEST(KernelCheck, ReusedLayerInputsGiveEachPatternsOwnAnswer) {
   EXPECT_GT(rejected, 6u);
 }
 
+// A pattern equal to the last annihilated one at every neuron the vectors'
+// products read takes its answer (AnnihilationCheck::annihilates): vectors
+// in the last layers, where regions differing in other neurons of the last
+// hidden layer follow each other. Each unit vector, and each extra
+// direction changed at one column of the last two layers, gives every
+// pattern, in lexicographic order and in reverse, its exact products'
+// answer, in integers and modulo primes; a skip that missed a neuron the
+// products read would pass a pattern where they are not 0.
+TEST(KernelCheck, PatternsAgreeingOnTheNeuronsTheProductsReadShareTheirAnswer) {
+  for (const Network& network : {random_network({2, 5, 5, 5, 1}, 1), random_network({2, 4, 4, 2}, 3),
+                                 read_network_file(PLEAT_SOURCE_DIR "/tests/data/output_relu2d.json")}) {
+    const WalkState state = walk_state(network);
+    const RationalMatrix extra = exact_extra_directions(network, state.smooth);
+    const detail::CheckScale scale(network);
+    std::vector<RationalMatrix> blocks;
+    std::vector<ActivationPattern> order = state.smooth;
+    std::sort(order.begin(), order.end(),
+              [](const ActivationPattern& a, const ActivationPattern& b) { return a.states < b.states; });
+    for (const ActivationPattern& pattern : order) blocks.push_back(coefficient_blocks(network, pattern));
+    const std::size_t columns = network.parametric_dimension();
+    const std::size_t from = network.parameter_offset(network.depth() - 2);
+    std::size_t rejected = 0, passed = 0;
+    for (std::size_t c = from; c < columns; ++c) {
+      std::vector<RationalMatrix> vectors(1, RationalMatrix(1, columns));
+      vectors[0](0, c) = 1;
+      for (std::size_t j = 0; j < extra.rows(); ++j) {
+        RationalMatrix changed(1, columns);
+        for (std::size_t k = 0; k < columns; ++k) changed(0, k) = extra(j, k);
+        changed(0, c) += Rational(1, 3);
+        vectors.push_back(changed);
+      }
+      for (const RationalMatrix& vector : vectors)
+        for (const auto arithmetic : {detail::CheckArithmetic::fastest, detail::CheckArithmetic::primes}) {
+          const detail::AnnihilationCheck check(network, vector, scale, 1, arithmetic);
+          for (int pass = 0; pass < 2; ++pass)
+            for (std::size_t q = 0; q < order.size(); ++q) {
+              const std::size_t p = pass == 0 ? q : order.size() - 1 - q;
+              bool expected = true;
+              for (std::size_t r = 0; r < blocks[p].rows() && expected; ++r) {
+                Rational sum = 0;
+                for (std::size_t k = 0; k < columns; ++k) sum += blocks[p](r, k) * vector(0, k);
+                expected = sum == 0;
+              }
+              EXPECT_EQ(check.annihilates(order[p]), expected) << "column " << c << " pattern " << p;
+              (expected ? passed : rejected) += 1;
+            }
+        }
+    }
+    EXPECT_GT(rejected, 20u);
+    EXPECT_GT(passed, 20u);
+    // A vector in the last two layers' columns that annihilates one region
+    // (its blocks' kernel there), checked there and then at each other
+    // region: a region that differs in an earlier layer's neurons has other
+    // inputs to the last layers, and the products are then not 0.
+    std::size_t other_answers = 0;
+    for (std::size_t p = 0; p < order.size(); p += 3) {
+      RationalMatrix late(blocks[p].rows(), columns - from);
+      for (std::size_t r = 0; r < late.rows(); ++r)
+        for (std::size_t k = from; k < columns; ++k) late(r, k - from) = blocks[p](r, k);
+      const RationalMatrix kernel = kernel_basis_exact(late);
+      if (kernel.rows() == 0) continue;
+      RationalMatrix vector(1, columns);
+      for (std::size_t k = from; k < columns; ++k) vector(0, k) = kernel(kernel.rows() - 1, k - from);
+      for (const auto arithmetic : {detail::CheckArithmetic::fastest, detail::CheckArithmetic::primes}) {
+        const detail::AnnihilationCheck check(network, vector, scale, 1, arithmetic);
+        for (std::size_t q = 0; q < order.size(); ++q) {
+          EXPECT_TRUE(check.annihilates(order[p]));
+          bool expected = true;
+          for (std::size_t r = 0; r < blocks[q].rows() && expected; ++r) {
+            Rational sum = 0;
+            for (std::size_t k = 0; k < columns; ++k) sum += blocks[q](r, k) * vector(0, k);
+            expected = sum == 0;
+          }
+          EXPECT_EQ(check.annihilates(order[q]), expected) << "regions " << p << " then " << q;
+          other_answers += expected ? 0 : 1;
+        }
+      }
+    }
+    EXPECT_GT(other_answers, 5u);
+  }
+}
+
 // The check takes its products in fixed-width integers when every scaled
 // bound is below 2^127 (detail::IntegerCheck), else modulo primes; forced
 // to primes (CheckArithmetic::primes) it takes them modulo primes anyway.
