@@ -55,43 +55,59 @@ enum Part : unsigned { incoming = 1, bias = 2, outgoing = 4, next_biases = 8 };
 // One mechanism: which hidden neurons may carry it and which of their
 // parameters it may move. A direction has it exactly when every column of
 // its support is such a parameter of such a neuron; its neurons are those
-// whose parameters meet the support. covering[c]: those neurons for column
-// c, increasing.
+// whose parameters meet the support.
 struct MechanismCover {
   Mechanism mechanism;
-  std::vector<std::vector<std::size_t>> covering;
+  unsigned parts;
+  std::vector<char> qualifies;  // by hidden neuron
 };
 
-MechanismCover mechanism_cover(const Network& network, Mechanism mechanism, unsigned parts,
-                               const std::vector<char>& qualifies) {
-  MechanismCover cover{mechanism, std::vector<std::vector<std::size_t>>(network.parametric_dimension())};
-  std::size_t n = 0;  // hidden neurons in order
-  for (std::size_t k = 0; k + 1 < network.depth(); ++k) {
-    const Layer& layer = network.layers[k];
-    const Layer& next = network.layers[k + 1];
-    const std::size_t offset = network.parameter_offset(k);
-    const std::size_t next_offset = network.parameter_offset(k + 1);
-    for (std::size_t i = 0; i < layer.width(); ++i, ++n) {
-      if (!qualifies[n]) continue;
-      auto add = [&](std::size_t c) {
-        std::vector<std::size_t>& neurons = cover.covering[c];
-        if (neurons.empty() || neurons.back() != n) neurons.push_back(n);
-      };
-      if (parts & incoming)
-        for (std::size_t j = 0; j < layer.fan_in(); ++j) add(offset + i * layer.fan_in() + j);
-      if (parts & (incoming | bias)) add(offset + layer.width() * layer.fan_in() + i);
-      for (std::size_t o = 0; o < next.width(); ++o) {
-        if (parts & outgoing) add(next_offset + o * next.fan_in() + i);
-        if (parts & next_biases) add(next_offset + next.width() * next.fan_in() + o);
-      }
+// Where a column is: W_k[i, j], or b_k[i] (is_bias), and the first hidden
+// neuron of each layer.
+struct ColumnPlaces {
+  std::vector<std::size_t> offset, first_neuron;  // per layer (offset: its first column)
+  const Network& network;
+  explicit ColumnPlaces(const Network& network_in) : network(network_in) {
+    for (std::size_t k = 0, n = 0; k < network.depth(); n += network.layers[k].width(), ++k) {
+      offset.push_back(network.parameter_offset(k));
+      first_neuron.push_back(n);
     }
   }
-  return cover;
+};
+
+// Appends to `neurons` the hidden neurons whose parameters in the cover's
+// parts hold column c (incoming: W_k[i,:] and b_k[i] of neuron i of layer
+// k; bias: b_k[i]; outgoing: W_{k+1}[:,i]; next biases: b_{k+1}[:]);
+// false when there are none. Read off the column's place, not from a table
+// of every column's neurons built first (four tables of D lists: on
+// 2,5,5,5,5,1 most of the naming's time, for 30 directions of one or two
+// entries).
+bool add_covering(const MechanismCover& cover, const ColumnPlaces& places, std::size_t c,
+                  std::vector<std::size_t>& neurons) {
+  const Network& network = places.network;
+  const std::size_t k = static_cast<std::size_t>(
+      std::upper_bound(places.offset.begin(), places.offset.end(), c) - places.offset.begin() - 1);
+  const Layer& layer = network.layers[k];
+  const std::size_t offset = c - places.offset[k], weights = layer.width() * layer.fan_in();
+  const bool is_bias = offset >= weights, is_hidden = k + 1 < network.depth();
+  const std::size_t i = is_bias ? offset - weights : offset / layer.fan_in(), j = offset % layer.fan_in();
+  const std::size_t before = neurons.size();
+  if (k > 0) {  // layer k - 1 is hidden: its neurons' outgoing weights and next biases
+    if (!is_bias && (cover.parts & outgoing) && cover.qualifies[places.first_neuron[k - 1] + j])
+      neurons.push_back(places.first_neuron[k - 1] + j);
+    if (is_bias && (cover.parts & next_biases))
+      for (std::size_t m = 0; m < network.layers[k - 1].width(); ++m)
+        if (cover.qualifies[places.first_neuron[k - 1] + m]) neurons.push_back(places.first_neuron[k - 1] + m);
+  }
+  const unsigned own = is_bias ? (incoming | bias) : incoming;
+  if (is_hidden && (cover.parts & own) && cover.qualifies[places.first_neuron[k] + i])
+    neurons.push_back(places.first_neuron[k] + i);
+  return neurons.size() > before;
 }
 
 // The four mechanisms in the order they are tried.
 std::vector<MechanismCover> mechanism_covers(const Network& network, const NeuronActivity& activity) {
-  const std::vector<char> duplicated = duplicated_neurons(network);
+  std::vector<char> duplicated = duplicated_neurons(network);
   std::vector<char> zero_outgoing, dead, always_active;
   std::size_t n = 0;
   for (std::size_t k = 0; k + 1 < network.depth(); ++k) {
@@ -105,29 +121,27 @@ std::vector<MechanismCover> mechanism_covers(const Network& network, const Neuro
     }
   }
   std::vector<MechanismCover> covers;
-  covers.push_back(mechanism_cover(network, Mechanism::zero_outgoing_weights, incoming, zero_outgoing));
-  covers.push_back(mechanism_cover(network, Mechanism::dead_neuron, incoming | outgoing, dead));
-  covers.push_back(mechanism_cover(network, Mechanism::always_active_neuron, bias | next_biases, always_active));
-  covers.push_back(mechanism_cover(network, Mechanism::duplicate_neurons, incoming | outgoing, duplicated));
+  covers.push_back({Mechanism::zero_outgoing_weights, incoming, std::move(zero_outgoing)});
+  covers.push_back({Mechanism::dead_neuron, incoming | outgoing, std::move(dead)});
+  covers.push_back({Mechanism::always_active_neuron, bias | next_biases, std::move(always_active)});
+  covers.push_back({Mechanism::duplicate_neurons, incoming | outgoing, std::move(duplicated)});
   return covers;
 }
 
 // Names the mechanism behind one extra kernel vector by its support: the
 // first mechanism that covers every column of it.
-void recognise_mechanism(const std::vector<MechanismCover>& covers, const std::vector<std::size_t>& support,
-                         ExtraKernelDirection& direction) {
+void recognise_mechanism(const std::vector<MechanismCover>& covers, const ColumnPlaces& places,
+                         const std::vector<std::size_t>& support, ExtraKernelDirection& direction) {
   if (support.empty()) return;
+  std::vector<std::size_t> neurons;
   for (const MechanismCover& cover : covers) {
-    std::vector<std::size_t> neurons;
+    neurons.clear();
     bool is_covered = true;
-    for (std::size_t c : support) {
-      const std::vector<std::size_t>& covering = cover.covering[c];
-      if (covering.empty()) {
+    for (std::size_t c : support)
+      if (!add_covering(cover, places, c, neurons)) {
         is_covered = false;
         break;
       }
-      neurons.insert(neurons.end(), covering.begin(), covering.end());
-    }
     if (!is_covered) continue;
     std::sort(neurons.begin(), neurons.end());
     neurons.erase(std::unique(neurons.begin(), neurons.end()), neurons.end());
@@ -143,6 +157,7 @@ std::vector<ExtraKernelDirection> name_extra_directions(const Network& network, 
                                                         SparseRationalRows&& extra, unsigned threads,
                                                         const std::function<void(std::size_t)>& progress) {
   const std::vector<MechanismCover> covers = mechanism_covers(network, activity);
+  const ColumnPlaces places(network);
   const std::size_t rows = extra.rows.size();
   std::vector<ExtraKernelDirection> named(rows);
   const std::size_t chunk = 64 * static_cast<std::size_t>(std::max(1u, threads));
@@ -157,7 +172,7 @@ std::vector<ExtraKernelDirection> name_extra_directions(const Network& network, 
       for (const auto& entry : extra.rows[r]) support.push_back(entry.first);
       direction.entries = std::move(extra.rows[r]);  // each row is read by this call only
       direction.length = extra.cols;
-      recognise_mechanism(covers, support, direction);
+      recognise_mechanism(covers, places, support, direction);
     });
   }
   return named;
