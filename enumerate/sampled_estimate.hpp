@@ -90,6 +90,11 @@ struct SampleResult {
   // for first_batch_reaching (a binary search over SVDs of prefixes): it is
   // then none, not known; the rest of the result stands.
   bool interrupted_while_searching = false;
+  // Why the run was cut short, for every front end: the certifying walk's
+  // reason, or interrupted while searching (with a certified value then).
+  StopReason stop_reason() const {
+    return interrupted_while_searching ? StopReason::interrupted : certified.stop_reason;
+  }
   // consistent (equal), too_low (below) or impossible (above-impossible),
   // written with sample_word; none when neither certified nor outside the
   // proved bounds.

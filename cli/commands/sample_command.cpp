@@ -84,8 +84,7 @@ Json result_to_json(const SampleArguments& arguments, const Domain& domain, cons
   out["parametric_dimension"] = result.certified.parametric_dimension;
   // Why certified_value is null, if it is; "interrupted" with a certified
   // value: the search for first_batch_reaching was.
-  out["stop_reason"] = result.interrupted_while_searching ? Json("interrupted")
-                                                          : stop_reason_json(result.certified.stop_reason);
+  out["stop_reason"] = stop_reason_json(result.stop_reason());
   out["seconds"] = result.seconds;
   return out;
 }
@@ -187,7 +186,7 @@ int run_sample(const SampleArguments& arguments) {
 
   if (arguments.json) std::cout << json_text(result_to_json(arguments, domain, result));
   else print_result(network, domain, result, options.is_float32, std::cout);
-  return result.certified.stop_reason == StopReason::interrupted || result.interrupted_while_searching ? 130 : 0;
+  return result.stop_reason() == StopReason::interrupted ? 130 : 0;
 }
 
 constexpr const char* sample_help =

@@ -336,8 +336,7 @@ py::dict sample(const Network& network, std::uint64_t batch, std::uint64_t seed,
   out["upper_bound"] = certified.upper_bound;
   out["scaling_bound"] = certified.scaling_bound;
   out["parametric_dimension"] = certified.parametric_dimension;
-  out["stop_reason"] = result.interrupted_while_searching ? py::object(py::str("interrupted"))
-                                                          : stop_reason_value(certified.stop_reason);
+  out["stop_reason"] = stop_reason_value(result.stop_reason());
   py::list points;
   for (const RationalVector& point : result.points) points.append(fraction_list(point));
   out["points"] = points;
