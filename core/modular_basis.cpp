@@ -310,7 +310,7 @@ void subtract_sparse_combination(const std::vector<std::uint64_t>& factors,
 }
 
 // The positions of part's nonzero entries, increasing; false (and none
-// listed) when more than a quarter of its entries are nonzero: a dense row
+// listed) when more than half of its entries are nonzero: a dense row
 // is not listed (keeping its list would cost as much as using the row).
 bool list_nonzeros(const ModularVector& part, std::vector<std::size_t>& positions) {
   positions.resize(part.size());

@@ -232,7 +232,7 @@ class ModularRowBasis {
   std::vector<ModularVector> free_parts_;   // kept row i at free_columns_
   // The positions of kept row i's nonzero entries in free_parts_[i]
   // (residual sums only those products when the rows are sparse).
-  // Only while at most a quarter of them are nonzero: is_listed_[i] is 0
+  // Only while at most half of them are nonzero: is_listed_[i] is 0
   // for a dense row (its list empty; residual then reads all of it).
   std::vector<std::vector<std::size_t>> nonzero_positions_;
   std::vector<char> is_listed_;

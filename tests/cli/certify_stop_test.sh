@@ -8,7 +8,6 @@
 set -u
 source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
-now() { date +%s.%N; }
 
 net=$work/wide.json
 "$pleat" random --arch 1,64,64,1 --seed 1 -o "$net" || fail "pleat random exited $?"

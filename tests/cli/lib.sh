@@ -2,13 +2,15 @@
 #   source "$(dirname "$0")/lib.sh"
 # by a script run as SCRIPT PLEAT_BINARY [SOURCE_DIR]: sets pleat and
 # source_dir, a scratch directory $work removed on exit, fail(), within(),
-# expect_contains, json_key and json_eval ($python is Debian's /usr/bin/python3).
+# expect_contains, json_key, json_eval ($python is Debian's /usr/bin/python3)
+# and now (seconds since the epoch, with nanoseconds, for timing a stop).
 pleat=$1
 source_dir=${2:-}
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
 fail() { echo "FAIL: $*" >&2; exit 1; }
 python=/usr/bin/python3
+now() { date +%s.%N; }
 
 # expect_contains TEXT NEEDLE WHAT: fails unless TEXT contains NEEDLE.
 expect_contains() {

@@ -12,7 +12,6 @@
 set -u
 source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
-now() { date +%s.%N; }
 
 net=$work/n.json
 "$pleat" random --arch 1,30,30,1 --seed 1 -o "$net" || fail "pleat random exited $?"
