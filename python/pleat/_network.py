@@ -21,8 +21,8 @@ class Network:
     """A fully connected ReLU network with exact rational parameters.
 
     Build one with Network.from_torch(model), Network.from_arrays(weights,
-    biases), Network.from_file(path) (pleat-network/1 JSON or ONNX) or
-    Network.from_json(text). float32/float64 weights are converted exactly:
+    biases), Network.from_file(path) (pleat-network/1 JSON or ONNX),
+    Network.from_json(text) or Network.random(arch, seed) (as `pleat random`). float32/float64 weights are converted exactly:
     every float is a dyadic rational, and that rational is the parameter.
     """
 
@@ -63,6 +63,22 @@ class Network:
         if name:
             document["name"] = name
         return Network.from_json(json.dumps(document))
+
+    @staticmethod
+    def random(arch: Sequence[int], seed: int, *, sample: int = 0, init: str = "he", digits: int = 6) -> "Network":
+        """The reproducible random network that `pleat random --arch A --seed S
+        --sample I --init INIT --digits N` writes, the same on every machine;
+        it is sample I of a survey with seed S (pleat.survey), so an outlier of
+        a survey can be walked, certified or drawn. init "he": weights
+        N(0, 2/fan_in), biases N(0, 1/fan_in), never 0; "uniform": weights and
+        biases U(-1/sqrt(fan_in), 1/sqrt(fan_in)). Each parameter is rounded to
+        `digits` (1 to 40) significant decimal digits and is that exact
+        rational. Hidden layers are ReLU, the output layer linear."""
+        arch_list = [_count(w, f"arch[{i}]", 1, 2**20) for i, w in enumerate(arch)]
+        if init not in ("he", "uniform"):
+            raise ValueError(f"init: expected he or uniform, got {init!r}")
+        return Network(_core.Network.random(arch_list, _count(seed, "seed"), _count(sample, "sample"), init,
+                                            _count(digits, "digits", 1, 40)))
 
     @staticmethod
     def from_torch(model: Any, *, name: str = "") -> "Network":

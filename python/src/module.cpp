@@ -465,6 +465,7 @@ PYBIND11_MODULE(_core, module) {
   py::class_<Network, std::shared_ptr<Network>>(module, "Network")
       .def_static("from_json", [](const std::string& text) { return std::make_shared<Network>(parse_network(text)); })
       .def_static("from_file", [](const std::string& path) { return std::make_shared<Network>(read_network_any(path)); })
+      .def_static("random", &random_network_of)
       .def_static("from_onnx_bytes",
                   [](const py::bytes& bytes, const std::string& name) {
                     return std::make_shared<Network>(parse_onnx_model(std::string(bytes), name));

@@ -64,18 +64,31 @@ py::dict survey_dict(const SurveyConfiguration& configuration, std::vector<Surve
   return out;
 }
 
-}  // namespace
-
-py::dict survey(const std::vector<std::size_t>& architecture, std::uint64_t samples, std::uint64_t seed,
-                const std::string& init, std::uint64_t digits, const py::object& domain_spec, unsigned threads,
-                double time_limit_each, const std::string& output, const std::string& shard_text) {
+// What random_network requires of its arguments, as the survey's and
+// Network.random's messages say it.
+void check_random_arguments(const std::vector<std::size_t>& architecture, std::uint64_t digits) {
   if (architecture.size() < 2) throw input_error("arch: give the input width and at least one layer, e.g. 2,5,5,1");
   for (std::size_t width : architecture)
     if (width == 0) throw input_error("arch: every width must be positive");
   cli::check_parameter_count(architecture, "arch");
+  if (digits < 1 || digits > 40) throw input_error("digits: expected 1 to 40, got " + std::to_string(digits));
+}
+
+}  // namespace
+
+std::shared_ptr<Network> random_network_of(const std::vector<std::size_t>& architecture, std::uint64_t seed,
+                                           std::uint64_t sample, const std::string& init, std::uint64_t digits) {
+  check_random_arguments(architecture, digits);
+  return std::make_shared<Network>(
+      random_network(architecture, seed, sample, parse_initialization(init), static_cast<int>(digits)));
+}
+
+py::dict survey(const std::vector<std::size_t>& architecture, std::uint64_t samples, std::uint64_t seed,
+                const std::string& init, std::uint64_t digits, const py::object& domain_spec, unsigned threads,
+                double time_limit_each, const std::string& output, const std::string& shard_text) {
+  check_random_arguments(architecture, digits);
   if (samples == 0) throw input_error("samples: give the number of samples (at least 1)");
   if (samples > 1000000000) throw input_error("samples: at most 1000000000");
-  if (digits < 1 || digits > 40) throw input_error("digits: expected 1 to 40, got " + std::to_string(digits));
   SurveyConfiguration configuration;
   configuration.architecture = architecture;
   configuration.init = parse_initialization(init);

@@ -5,9 +5,13 @@ Outside references: the ONNX import of the command-line tool's own C++
 reader (via a file torch.onnx.export wrote) must give the very same rationals
 as from_torch (bit for bit: every float32 is a dyadic rational); torch's own
 forward pass must agree with the exact output rounded; the CLI's messages are
-the reference for the Python exceptions.
+the reference for the Python exceptions. Network.random: `pleat random`'s
+file and pleat.survey's samples are the references, and scipy.stats' KS test
+checks the draws against the documented distributions.
 """
+import json
 import os
+import subprocess
 import sys
 import tempfile
 import unittest
@@ -115,6 +119,56 @@ class TorchTest(unittest.TestCase):
         with self.assertRaises(ValueError) as caught:
             pleat.Network.from_torch(torch.nn.Sequential(torch.nn.Linear(2, 3), torch.nn.Linear(3, 1)))
         self.assertIn("model[1] (Linear)", str(caught.exception))
+
+
+class RandomTest(unittest.TestCase):
+    def cli_random(self, *arguments):
+        result = subprocess.run([harness.PLEAT, "random", *arguments], capture_output=True, text=True,
+                                check=True, timeout=60)
+        return result.stdout
+
+    def test_same_network_as_the_cli(self):
+        net = pleat.Network.random([2, 5, 4, 1], 7, sample=3, init="uniform", digits=3)
+        self.assertEqual(net.to_json(), self.cli_random("--arch", "2,5,4,1", "--seed", "7", "--sample", "3",
+                                                        "--init", "uniform", "--digits", "3"))
+        default = pleat.Network.random([3, 4, 1], 2**64 - 1)
+        self.assertEqual(json.loads(default.to_json()),
+                         json.loads(self.cli_random("--arch", "3,4,1", "--seed", str(2**64 - 1))))
+        self.assertNotEqual(pleat.Network.random([3, 4, 1], 1, sample=1), pleat.Network.random([3, 4, 1], 1))
+
+    def test_is_the_survey_sample(self):
+        survey = pleat.survey([2, 4, 3, 1], 4, 11, threads=1)
+        for record in survey.samples:
+            result = pleat.Network.random([2, 4, 3, 1], 11, sample=record.sample).certify(threads=1)
+            self.assertTrue(result.certified)
+            self.assertEqual(result.functional_dimension, record.functional_dimension)
+
+    def test_draws_follow_the_documented_distributions(self):
+        from scipy import stats  # outside reference: scipy's Kolmogorov-Smirnov test
+        he = pleat.Network.random([50, 200, 1], 3, digits=12)
+        weights = [float(w) for row in he.weights[0] for w in row]  # 10000 draws, fan-in 50
+        self.assertGreater(stats.kstest(weights, stats.norm(scale=(2 / 50) ** 0.5).cdf).pvalue, 1e-3)
+        self.assertLess(stats.kstest(weights, stats.norm(scale=(1 / 50) ** 0.5).cdf).pvalue, 1e-6)
+        uniform = pleat.Network.random([50, 200, 1], 3, init="uniform", digits=12)
+        bound = 50 ** -0.5
+        draws = [float(w) for row in uniform.weights[0] for w in row] + [float(b) for b in uniform.biases[0]]
+        self.assertLessEqual(max(abs(x) for x in draws), bound)
+        self.assertGreater(stats.kstest(draws, stats.uniform(loc=-bound, scale=2 * bound).cdf).pvalue, 1e-3)
+
+    def test_bad_arguments_name_the_argument(self):
+        for arguments, expected in (((([2], 1)), "arch: give the input width"),
+                                    ((([2, 0, 1], 1)), "arch[1]: expected an integer from 1"),
+                                    ((([2, 3, 1], -1)), "seed: expected an integer from 0"),
+                                    ((([2, 3, 1], 1.5)), "seed: expected an integer")):
+            with self.assertRaises(ValueError) as caught:
+                pleat.Network.random(*arguments)
+            self.assertIn(expected, str(caught.exception))
+        with self.assertRaises(ValueError) as caught:
+            pleat.Network.random([2, 3, 1], 1, digits=41)
+        self.assertIn("digits: expected an integer from 1 to 40", str(caught.exception))
+        with self.assertRaises(ValueError) as caught:
+            pleat.Network.random([2, 3, 1], 1, init="xavier")
+        self.assertEqual(str(caught.exception), "init: expected he or uniform, got 'xavier'")
 
 
 class DocumentationTest(unittest.TestCase):
