@@ -130,7 +130,9 @@ struct IntegerCheck::Factors {
   std::vector<std::vector<Wide>> offset, linear, signal;
   std::vector<std::vector<std::size_t>> passing;
   std::vector<std::uint64_t> sums;  // (n0 + 1) accumulators of n limbs
+  std::vector<std::uint64_t> group;  // a group's S (Run::group_end), n limbs
   std::vector<std::size_t> rows;    // the passing neurons whose X_{forward_to} a term reads
+  std::vector<std::size_t> signal_rows;  // the passing neurons whose H_{backward_to} a term reads
 };
 
 bool IntegerCheck::applies(const CheckScale& check_scale) {
@@ -216,6 +218,21 @@ IntegerCheck::IntegerCheck(const Network& network, const CheckScale& check_scale
       return run.last - run.first == 1 && run.layer == first.layer && terms_[run.first].input != bias &&
              terms_[run.first].input == terms_[first.first].input;
     });
+    auto is_single_weight = [&](const Run& run) { return run.last - run.first == 1 && terms_[run.first].input != bias; };
+    for (std::size_t r = 0; r < vector.runs.size() && !vector.one_input;) {
+      std::size_t end = r + 1;
+      if (is_single_weight(vector.runs[r]))
+        while (end < vector.runs.size() && is_single_weight(vector.runs[end]) &&
+               vector.runs[end].layer == vector.runs[r].layer &&
+               terms_[vector.runs[end].first].input == terms_[vector.runs[r].first].input)
+          ++end;
+      if (end - r >= 2) vector.runs[r].group_end = end;
+      r = end;
+    }
+    if (vector.one_input) {
+      vector.memo = memo_signals_;
+      memo_signals_ += vector.runs.size() + 1;  // the signals, then whether they are set
+    }
     for (Run& run : vector.runs)
       if (run.last - run.first >= 2 && run.layer + 1 < depth_) {
         run.slot = cached_runs_++;
@@ -233,6 +250,13 @@ IntegerCheck::IntegerCheck(const Network& network, const CheckScale& check_scale
           if (terms_[e].input != bias) read_last_[terms_[e].input] = 1;
   for (const Unit& unit : units_)
     if (unit.layer == forward_to_ && forward_to_ > 0 && unit.input != bias) read_last_[unit.input] = 1;
+  // The neurons of layer backward_to whose signal a term reads (H_{backward_to} feeds no earlier layer).
+  read_first_.assign(backward_to_ < depth_ ? widths_[backward_to_] : 0, 0);
+  for (const Vector& vector : vectors_)
+    for (const Run& run : vector.runs)
+      if (run.layer == backward_to_) read_first_[run.neuron] = 1;
+  for (const Unit& unit : units_)
+    if (unit.layer == backward_to_) read_first_[unit.neuron] = 1;
 }
 
 void IntegerCheck::compute_factors(const ActivationPattern& pattern, Factors& factors, std::size_t reuse_below) const {
@@ -283,7 +307,8 @@ void IntegerCheck::compute_factors(const ActivationPattern& pattern, Factors& fa
       default: layer.template operator()<0>();
     }
   }
-  // H_{d-1} = I at the passing outputs; H_k[o,i] = sum_m H_{k+1}[o,m] (L W_{k+1}[m,i]) at the passing i.
+  // H_{d-1} = I at the passing outputs; H_k[o,i] = sum_m H_{k+1}[o,m] (L W_{k+1}[m,i]) at the passing i;
+  // in the last layer computed, H_{backward_to}, only at the i a term reads (the others stay 0, unread).
   for (std::size_t k = depth_; k-- > backward_to_;) {
     std::vector<Wide>& signal = factors.signal[k];
     signal.assign(nd_ * widths_[k], 0);
@@ -293,8 +318,15 @@ void IntegerCheck::compute_factors(const ActivationPattern& pattern, Factors& fa
     }
     const std::vector<Wide>& next = factors.signal[k + 1];
     const std::size_t next_width = widths_[k + 1], width = widths_[k];
+    const std::vector<std::size_t>* rows = &factors.passing[k];
+    if (k == backward_to_) {
+      factors.signal_rows.clear();
+      for (std::size_t i : factors.passing[k])
+        if (read_first_[i]) factors.signal_rows.push_back(i);
+      rows = &factors.signal_rows;
+    }
     for (std::size_t o = 0; o < nd_; ++o)
-      for (std::size_t i : factors.passing[k]) {
+      for (std::size_t i : *rows) {
         Wide sum = 0;
         for (std::size_t m : factors.passing[k + 1]) sum += next[o * next_width + m] * weights_[k + 1][m * width + i];
         signal[o * width + i] = sum;
@@ -333,6 +365,7 @@ bool IntegerCheck::annihilates(const ActivationPattern& pattern, const std::vect
     std::vector<NeuronState> last;
     std::uint64_t generation = 0;
     std::vector<std::uint64_t> computed, changed, runs;
+    std::vector<Wide> passed;  // the one-input vectors' signals at their last pass (Vector::memo)
   };
   thread_local Reuse reuse;
   if (reuse.id != id_) {
@@ -342,6 +375,7 @@ bool IntegerCheck::annihilates(const ActivationPattern& pattern, const std::vect
     reuse.computed.assign(cached_runs_, 0);  // before every change: computed when first needed
     reuse.changed.assign(depth_ + 1, 1);
     reuse.runs.assign(cache_limbs_, 0);
+    reuse.passed.assign(nd_ * memo_signals_, 0);  // none set
   }
   // The layer inputs before the first neuron that differs from the last
   // pattern's are still valid.
@@ -357,6 +391,7 @@ bool IntegerCheck::annihilates(const ActivationPattern& pattern, const std::vect
   poll_stop();
   Factors& factors = reuse.factors;
   compute_factors(pattern, factors, same);
+  factors.group.resize(most_limbs_);
   reuse.last = pattern.states;
   const std::size_t n0 = n0_;
   for (std::size_t o = 0; o < nd_; ++o) {
@@ -386,16 +421,50 @@ bool IntegerCheck::annihilates(const ActivationPattern& pattern, const std::vect
         Wide x = factors.offset[first.layer][j];
         for (std::size_t t = 0; x == 0 && t < n0; ++t) x = slopes[t];
         if (x == 0) continue;  // X_k[j] = 0: every N_t is 0
+        // The signals of this vector's last pass: S = 0 (Vector::memo).
+        Wide* passed = reuse.passed.data() + o * memo_signals_ + vector.memo;
+        const std::size_t runs = vector.runs.size();
+        bool is_passed = passed[runs] != 0;
+        for (std::size_t r = 0; r < runs && is_passed; ++r)
+          is_passed = passed[r] == factors.signal[vector.runs[r].layer][o * widths_[vector.runs[r].layer] + vector.runs[r].neuron];
+        if (is_passed) continue;
+        passed[runs] = 0;  // set again only once these signals pass
         sums.assign(n, 0);
-        for (const Run& run : vector.runs) {
+        for (std::size_t r = 0; r < runs; ++r) {
+          const Run& run = vector.runs[r];
           const Wide h = factors.signal[run.layer][o * widths_[run.layer] + run.neuron];
+          passed[r] = h;
           if (h != 0) add_product(sums.data(), limbs_.data() + terms_[run.first].limbs, n, h * x);
         }
         if (std::any_of(sums.begin(), sums.end(), [](std::uint64_t limb) { return limb != 0; })) return false;
+        passed[runs] = 1;
         continue;
       }
       sums.assign((n0 + 1) * n, 0);
-      for (const Run& run : vector.runs) {
+      for (std::size_t r = 0; r < vector.runs.size(); ++r) {
+        const Run& run = vector.runs[r];
+        if (run.group_end != 0) {
+          // X_k[j]_t S (Run::group_end): S modulo 2^(64 n) from the exact
+          // signals (each below 2^127, as h below), then one product per t
+          // with the exact X_k[j]_t (as in run_sums).
+          const std::size_t j = terms_[run.first].input;
+          const Wide* slopes = factors.linear[run.layer].data() + j * n0;
+          const Wide x = factors.offset[run.layer][j];
+          const std::size_t end = run.group_end;
+          r = end - 1;
+          if (x == 0 && std::all_of(slopes, slopes + n0, [](Wide value) { return value == 0; })) continue;
+          std::uint64_t* s = factors.group.data();
+          std::fill(s, s + n, std::uint64_t{0});
+          for (std::size_t g = &run - vector.runs.data(); g < end; ++g) {
+            const Run& single = vector.runs[g];
+            const Wide h = factors.signal[single.layer][o * widths_[single.layer] + single.neuron];
+            if (h != 0) add_product(s, limbs_.data() + terms_[single.first].limbs, n, h);
+          }
+          if (std::all_of(s, s + n, [](std::uint64_t limb) { return limb == 0; })) continue;
+          add_product(sums.data(), s, n, x);
+          for (std::size_t t = 0; t < n0; ++t) add_product(sums.data() + (t + 1) * n, s, n, slopes[t]);
+          continue;
+        }
         const Wide h = factors.signal[run.layer][o * widths_[run.layer] + run.neuron];
         if (h == 0) continue;
         const Wide* offsets = factors.offset[run.layer].data();

@@ -64,6 +64,12 @@ class IntegerCheck {
   struct Run {
     std::size_t layer, neuron, first, last;
     std::size_t slot = 0, cache = 0;  // among the cached runs; offset of its (n0 + 1) n limbs
+    // Runs [this, group_end) of one term each, all a weight W_k[i_c, j] of
+    // one layer k at one input j (group_end > this one's index + 1; else 0):
+    // their N_t is X_k[j]_t S with S = sum_c e_c H_k[o, i_c], n limbs, so
+    // they cost g + n0 + 1 products, not g (n0 + 1) (on 2,15,15,15,15,1
+    // seed 1, three vectors with 9 to 12 such runs: a mix of two neurons).
+    std::size_t group_end = 0;
   };
   struct Vector {
     std::size_t index;  // among the check's vectors
@@ -75,6 +81,13 @@ class IntegerCheck {
     // an integer, so N_t = 0 for every t exactly when X_k[j] = 0 or N_t = 0
     // at one t where X_k[j]_t != 0. One product per term, not n0 + 1.
     bool one_input = false;
+    // A one-input vector's passing signals: N = 0 at an X_k[j] != 0 proves
+    // S = 0 for those H_k[o, i_c], hence N = 0 at every X_k[j] with the
+    // same signals. Each thread keeps, per output o, the signals of the last
+    // pass (runs.size() values from `memo`): on 2,15,15,15,15,1 seed 1 the
+    // one-input vectors read the last hidden layer, whose signals are the
+    // output weights or 0, the same over most consecutive regions.
+    std::size_t memo = 0;
   };
   struct Unit {  // a vector with one entry: its column must be 0
     std::size_t index, layer, neuron, input;
@@ -92,7 +105,11 @@ class IntegerCheck {
   std::vector<Unit> units_;
   std::size_t forward_to_ = 0, backward_to_ = 0, most_limbs_ = 1;
   std::vector<char> read_last_;  // the inputs j of layer forward_to a term reads: X_{forward_to} only there
+  // The neurons i of layer backward_to whose signal a term reads: H_{backward_to} (which feeds no earlier
+  // layer) only there.
+  std::vector<char> read_first_;
   std::size_t cached_runs_ = 0, cache_limbs_ = 0;
+  std::size_t memo_signals_ = 0;  // of every one-input vector (Vector::memo), per output
   std::uint64_t id_ = 0;  // for each thread's reuse of layer inputs
 
   struct Factors;

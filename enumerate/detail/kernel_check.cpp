@@ -494,8 +494,8 @@ bool AnnihilationCheck::live_vectors(const ActivationPattern& pattern, std::vect
   unsigned char any_live = 0;
   for (std::size_t v = 0; v < vector_count_; ++v) {
     unsigned char is_live = 0;
-    for (std::size_t t = first_term_[v]; t < first_term_[v + 1]; ++t)
-      is_live |= on[term_neurons_[t].own] & on[term_neurons_[t].input];
+    for (std::size_t t = first_term_[v]; t < first_term_[v + 1] && !is_live; ++t)
+      is_live = on[term_neurons_[t].own] & on[term_neurons_[t].input];
     live[v] = static_cast<char>(is_live);
     any_live |= is_live;
   }

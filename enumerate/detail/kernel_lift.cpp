@@ -132,18 +132,23 @@ KeptRowsAt kept_rows_at(const ModularNetwork& walk_network, const std::vector<Ke
 }
 
 // |columns| rows of `rows` (residues modulo p) independent on those columns:
-// the first such rows in order (each kept when it raises the rank of those
-// before on the columns; the same rows as the pivots of the transposed
-// restriction's echelon form), stopping once there are enough: about
-// |columns|^2 per row looked at instead of an elimination over every row;
-// nullopt when there are not that many.
+// the first such rows from the last one back (each kept when it raises the
+// rank of those before on the columns), stopping once there are enough:
+// about |columns|^2 per row looked at instead of an elimination over every
+// row; nullopt when there are not that many. Any such rows give the same
+// solution (the system's only one). From the last: the walk keeps a row
+// when it raises the rank, and the last kept rows are those that pin down
+// the columns the extra directions live on (on 2,15,15,15,15,1 seed 1, 42
+// such columns: 89 of the 495 kept rows looked at, against all 495 from the
+// first; the lift 3.2 -> 2.7 ms).
 std::optional<std::vector<std::size_t>> independent_rows(const KeptRowsAt& rows, const std::vector<std::size_t>& columns,
                                                          std::uint64_t prime) {
   ModularRowBasis chosen_rows(prime, columns.size());
   std::vector<std::size_t> chosen;
   ModularVector restricted(columns.size());
-  for (std::size_t r = 0; r < rows.rows() && chosen.size() < columns.size(); ++r) {
-    if (r % 64 == 0) poll_stop();
+  for (std::size_t seen = 0; seen < rows.rows() && chosen.size() < columns.size(); ++seen) {
+    const std::size_t r = rows.rows() - 1 - seen;  // from the last (see above)
+    if (seen % 64 == 0) poll_stop();
     bool is_zero = true;
     for (std::size_t q = 0; q < columns.size(); ++q) {
       restricted[q] = rows.at(r, columns[q]);

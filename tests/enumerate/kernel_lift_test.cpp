@@ -777,6 +777,118 @@ TEST(KernelCheck, VectorsAtOneInputPassAndChangedOnesNameTheExactFirstRegion) {
   EXPECT_GT(rejected, 30u);
 }
 
+// Exact products of one vector (a row) with a pattern's coefficient rows,
+// at its nonzero columns only: all 0?
+bool annihilates_exactly(const RationalMatrix& blocks, const RationalMatrix& vector) {
+  std::vector<std::size_t> nonzero;
+  for (std::size_t c = 0; c < vector.cols(); ++c)
+    if (sgn(vector(0, c)) != 0) nonzero.push_back(c);
+  for (std::size_t r = 0; r < blocks.rows(); ++r) {
+    Rational sum = 0;
+    for (std::size_t c : nonzero) sum += blocks(r, c) * vector(0, c);
+    if (sum != 0) return false;
+  }
+  return true;
+}
+
+// Vectors with several weights W_{k+1}[o, b] of one layer at one input b
+// besides other terms (the integer check's groups, Run::group_end: X[b]
+// times the sum of their signals): mix(a, b) of layer k
+// (always_active_rows.hpp) annihilates a region where a and b are both on
+// or both off, and not one where one of them is; the same changed in one
+// entry of its group passes fewer. Each pattern's answer, in sorted order
+// one after the other, must be the exact products'.
+TEST(KernelCheck, GroupsAtOneInputAnswerEachPatternAsTheExactProducts) {
+  const Network network = random_network({2, 4, 4, 4, 1}, 7);
+  const detail::CheckScale scale(network);
+  ASSERT_TRUE(detail::IntegerCheck::applies(scale));
+  const WalkState state = walk_state(network);
+  std::vector<ActivationPattern> order = state.smooth;
+  std::sort(order.begin(), order.end(), [](const auto& a, const auto& b) { return a.states < b.states; });
+  std::vector<RationalMatrix> blocks;
+  for (const ActivationPattern& pattern : order) blocks.push_back(coefficient_blocks(network, pattern));
+  const std::size_t columns = network.parametric_dimension();
+  auto weight = [&](std::size_t k, std::size_t i, std::size_t j) {
+    return network.parameter_offset(k) + i * network.layers[k].fan_in() + j;
+  };
+  auto bias = [&](std::size_t k, std::size_t i) {
+    return network.parameter_offset(k) + network.layers[k].width() * network.layers[k].fan_in() + i;
+  };
+  std::size_t passed = 0, rejected = 0, changed_rejected = 0;
+  for (std::size_t k = 0; k < 2; ++k)
+    for (std::size_t a = 0; a < 4; ++a)
+      for (std::size_t b = 0; b < 4; ++b) {
+        if (a == b) continue;
+        const Layer& layer = network.layers[k];
+        const Layer& next = network.layers[k + 1];
+        RationalMatrix mix(1, columns);
+        for (std::size_t j = 0; j < layer.fan_in(); ++j) mix(0, weight(k, a, j)) = layer.weights(b, j);
+        mix(0, bias(k, a)) = layer.bias[b];
+        for (std::size_t o = 0; o < next.width(); ++o) mix(0, weight(k + 1, o, b)) = -next.weights(o, a);
+        for (const Rational& change : {Rational(0), Rational(1, 3)}) {
+          RationalMatrix vector = mix;
+          vector(0, weight(k + 1, 2, b)) += change;
+          const detail::AnnihilationCheck check(network, vector, scale, 1, detail::CheckArithmetic::fastest);
+          const std::string label = "layer " + std::to_string(k) + " mix " + std::to_string(a) + "," +
+                                    std::to_string(b) + (change == 0 ? "" : " changed");
+          for (std::size_t p = 0; p < order.size(); ++p) {
+            const bool expected = annihilates_exactly(blocks[p], vector);
+            EXPECT_EQ(check.annihilates(order[p]), expected) << label << " pattern " << p;
+            (expected ? passed : change == 0 ? rejected : changed_rejected) += 1;
+          }
+        }
+      }
+  EXPECT_GT(passed, 20u);
+  EXPECT_GT(rejected, 20u);
+  EXPECT_GT(changed_rejected, rejected);
+}
+
+// A one-input vector's pass is kept with the signals it passed at
+// (IntegerCheck: Vector::memo): W_0[a, j] and W_0[b, j] with e = (H_0[b],
+// -H_0[a]) read off region A's exact rows annihilate A, and not a region B
+// where a and b are on as on A but the next layer is not (H_0 differs). A
+// key of a's and b's states alone would pass such a B; the check, asked
+// about A and then each region in turn, must answer each as the exact
+// products do, and such regions must be among them.
+TEST(KernelCheck, OneInputVectorsPassedOnARegionAreCheckedAgainWhereTheirSignalsDiffer) {
+  const Network network = random_network({2, 4, 4, 1}, 11);
+  const detail::CheckScale scale(network);
+  ASSERT_TRUE(detail::IntegerCheck::applies(scale));
+  const WalkState state = walk_state(network);
+  std::vector<RationalMatrix> blocks;
+  for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+  const std::size_t columns = network.parametric_dimension();
+  std::size_t coarse = 0, checked = 0;
+  for (std::size_t first = 0; first < state.smooth.size(); ++first)
+    for (std::size_t a = 0; a < 4; ++a)
+      for (std::size_t b = a + 1; b < 4; ++b)
+        for (std::size_t j = 0; j < 2; ++j) {
+          const ActivationPattern& pass = state.smooth[first];
+          if (!pass.is_on(a) || !pass.is_on(b)) continue;
+          const std::size_t ca = a * 2 + j, cb = b * 2 + j;  // W_0[a, j], W_0[b, j]
+          RationalMatrix vector(1, columns);
+          for (std::size_t r = 0; r < blocks[first].rows(); ++r)
+            if (sgn(blocks[first](r, ca)) != 0) {
+              vector(0, ca) = blocks[first](r, cb);
+              vector(0, cb) = -blocks[first](r, ca);
+              break;
+            }
+          if (sgn(vector(0, ca)) == 0) continue;
+          ASSERT_TRUE(annihilates_exactly(blocks[first], vector));
+          const detail::AnnihilationCheck check(network, vector, scale, 1, detail::CheckArithmetic::fastest);
+          for (std::size_t p = 0; p < state.smooth.size(); ++p) {
+            EXPECT_TRUE(check.annihilates(pass));
+            const bool expected = annihilates_exactly(blocks[p], vector);
+            EXPECT_EQ(check.annihilates(state.smooth[p]), expected) << "region " << first << " then " << p;
+            ++checked;
+            const ActivationPattern& other = state.smooth[p];
+            if (!expected && other.is_on(a) && other.is_on(b)) ++coarse;
+          }
+        }
+  EXPECT_GT(checked, 100u);
+  EXPECT_GT(coarse, 5u);
+}
+
 // The vectors the check need not look at (live_on_some_pattern): a vector
 // with one or two entries is live exactly when one of its terms has its
 // neuron and its input neuron on in one smooth region (read off the
