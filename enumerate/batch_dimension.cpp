@@ -256,7 +256,7 @@ class BatchRanker {
   // column f is 1 at f, 0 at the other free columns and -K_P^-1 K_f at P
   // (no solve where K_f is zero). Not proved here: the caller checks that
   // they annihilate every row, which bounds the rank by r. The exact solves
-  // (detail::solve_square_exactly, polling the stop) take 32 free columns at
+  // (detail::SquareSolver: one LU for all, polling the stop) take 32 free columns at
   // a time, one chunk per next_chunk.
   class KernelCandidate {
    public:
@@ -286,7 +286,7 @@ class BatchRanker {
           fmpz_set_mpz(right.entry(i, j), rows[i][free[solved[first_ + j]]].get_mpz_t());
           fmpz_neg(right.entry(i, j), right.entry(i, j));
         }
-      const std::optional<RationalMatrix> solution = detail::solve_square_exactly(square_.get(), right.get());
+      const std::optional<RationalMatrix> solution = solver_.solve(right.get());
       if (!solution) {
         is_failed_ = true;
         return;
@@ -307,6 +307,7 @@ class BatchRanker {
     static constexpr std::size_t chunk = 32;
     const KeptSystem& system_;
     detail::FmpzMatrix square_;
+    detail::SquareSolver solver_{square_.get()};  // one LU for every chunk
     RationalMatrix kernel_;
     std::size_t first_ = 0;
     bool is_failed_ = false;

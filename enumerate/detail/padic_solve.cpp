@@ -140,13 +140,16 @@ std::unique_ptr<ModularLu> factor_modulo_some_prime(const fmpz_mat_struct* a) {
 // the caller's exact check decides anyway.
 class SecondPrimeCheck {
  public:
-  SecondPrimeCheck(const fmpz_mat_struct* a, const fmpz_mat_struct* b, std::uint64_t lifting_prime)
+  explicit SecondPrimeCheck(const fmpz_mat_struct* a)
       : prime_(n_nextprime((std::uint64_t{1} << 62) - (std::uint64_t{1} << 37), 1)),
-        a_(static_cast<std::size_t>(fmpz_mat_nrows(a)), static_cast<std::size_t>(fmpz_mat_ncols(a)), prime_),
-        b_(static_cast<std::size_t>(fmpz_mat_nrows(b)), static_cast<std::size_t>(fmpz_mat_ncols(b)), prime_) {
-    if (prime_ == lifting_prime) prime_ = n_nextprime(prime_, 1);  // not reached: the lifting primes lie above
-    fmpz_mat_get_nmod_mat(a_.get(), a);
-    fmpz_mat_get_nmod_mat(b_.get(), b);
+        a_(static_cast<std::size_t>(fmpz_mat_nrows(a)), static_cast<std::size_t>(fmpz_mat_ncols(a)), prime_) {
+    fmpz_mat_get_nmod_mat(a_.get(), a);  // the lifting primes lie above q
+  }
+
+  // B modulo q, for the solve of A X = B that follows.
+  void set_right(const fmpz_mat_struct* b) {
+    b_.emplace(static_cast<std::size_t>(fmpz_mat_nrows(b)), static_cast<std::size_t>(fmpz_mat_ncols(b)), prime_);
+    fmpz_mat_get_nmod_mat(b_->get(), b);
   }
 
   // Whether A numerators = denominator B[:, c] modulo q.
@@ -157,7 +160,7 @@ class SecondPrimeCheck {
       residues_[j] = mpz_fdiv_ui(numerators[j].get_mpz_t(), prime_);
     const std::uint64_t d = mpz_fdiv_ui(denominator.get_mpz_t(), prime_);
     for (std::size_t i = 0; i < numerators.size(); ++i) {
-      std::uint64_t total = nmod_mul(d, nmod_mat_entry(b_.get(), static_cast<slong>(i), static_cast<slong>(c)), mod);
+      std::uint64_t total = nmod_mul(d, nmod_mat_entry(b_->get(), static_cast<slong>(i), static_cast<slong>(c)), mod);
       total = nmod_neg(total, mod);
       for (std::size_t j = 0; j < numerators.size(); ++j)
         total = nmod_add(total, nmod_mul(nmod_mat_entry(a_.get(), static_cast<slong>(i), static_cast<slong>(j)), residues_[j], mod), mod);
@@ -168,7 +171,8 @@ class SecondPrimeCheck {
 
  private:
   std::uint64_t prime_;
-  NmodMatrix a_, b_;
+  NmodMatrix a_;
+  std::optional<NmodMatrix> b_;
   std::vector<std::uint64_t> residues_;
 };
 
@@ -267,17 +271,35 @@ bool read_off(const std::vector<Integer>& value, const Integer& modulus, const I
 
 }  // namespace
 
-std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, const fmpz_mat_struct* b) {
+// What the lifting keeps of A between right-hand sides.
+struct SquareSolver::Lifting {
+  std::unique_ptr<ModularLu> lu;  // nullptr: singular modulo the primes tried
+  std::optional<WordMatrix> words;
+  std::optional<SecondPrimeCheck> second_prime;
+  explicit Lifting(const fmpz_mat_struct* a) : lu(factor_modulo_some_prime(a)) {
+    if (!lu) return;
+    words.emplace(a);
+    second_prime.emplace(a);
+  }
+};
+
+SquareSolver::SquareSolver(const fmpz_mat_struct* a) : a_(a) {}
+SquareSolver::~SquareSolver() = default;
+
+std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b) {
+  const fmpz_mat_struct* a = a_;
   const auto n = static_cast<std::size_t>(fmpz_mat_nrows(a)), m = static_cast<std::size_t>(fmpz_mat_ncols(b));
   if (static_cast<std::size_t>(fmpz_mat_ncols(a)) != n || static_cast<std::size_t>(fmpz_mat_nrows(b)) != n)
     return std::nullopt;
   RationalMatrix solution(n, m);
   if (n == 0 || m == 0) return solution;
-  const std::unique_ptr<ModularLu> lu = factor_modulo_some_prime(a);
-  if (!lu) return std::nullopt;
+  if (!lifting_) lifting_ = std::make_unique<Lifting>(a);
+  if (!lifting_->lu) return std::nullopt;
+  ModularLu* lu = lifting_->lu.get();
   const std::uint64_t prime = lu->prime;
-  const WordMatrix words(a);
-  SecondPrimeCheck second_prime(a, b, prime);
+  const WordMatrix& words = *lifting_->words;
+  SecondPrimeCheck& second_prime = *lifting_->second_prime;
+  second_prime.set_right(b);
   // Enough digits for any solution: p^k above 2 max(N, D)^2 (N and D
   // FLINT's Hadamard bounds on the numerators and the denominator: the
   // reconstruction reads fractions up to sqrt(p^k / 2) both ways), two more
@@ -392,18 +414,28 @@ std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, c
   return solution;
 }
 
-std::optional<RationalMatrix> solve_square_exactly(const fmpz_mat_struct* a, const fmpz_mat_struct* b) {
-  const auto n = static_cast<std::size_t>(fmpz_mat_nrows(a)), m = static_cast<std::size_t>(fmpz_mat_ncols(b));
-  if (n >= padic_from_unknowns)
-    if (std::optional<RationalMatrix> lifted = solve_by_padic_lifting(a, b)) return lifted;
+std::optional<RationalMatrix> SquareSolver::solve(const fmpz_mat_struct* b) {
+  const auto n = static_cast<std::size_t>(fmpz_mat_nrows(a_)), m = static_cast<std::size_t>(fmpz_mat_ncols(b));
+  if (n >= padic_from_unknowns && !gave_up_lifting_) {
+    if (std::optional<RationalMatrix> lifted = lift(b)) return lifted;
+    gave_up_lifting_ = lifting_ && !lifting_->lu;  // singular modulo three primes: no use trying again
+  }
   FmpqMatrix flint_solution(n, m);
-  if (!(n < padic_from_unknowns ? fmpq_mat_solve_fmpz_mat_fraction_free(flint_solution.get(), a, b)
-                                : fmpq_mat_solve_fmpz_mat_dixon(flint_solution.get(), a, b)))
+  if (!(n < padic_from_unknowns ? fmpq_mat_solve_fmpz_mat_fraction_free(flint_solution.get(), a_, b)
+                                : fmpq_mat_solve_fmpz_mat_dixon(flint_solution.get(), a_, b)))
     return std::nullopt;
   RationalMatrix solution(n, m);
   for (std::size_t i = 0; i < n; ++i)
     for (std::size_t j = 0; j < m; ++j) fmpq_get_mpq(solution(i, j).get_mpq_t(), flint_solution.entry(i, j));
   return solution;
+}
+
+std::optional<RationalMatrix> solve_by_padic_lifting(const fmpz_mat_struct* a, const fmpz_mat_struct* b) {
+  return SquareSolver(a).lift(b);
+}
+
+std::optional<RationalMatrix> solve_square_exactly(const fmpz_mat_struct* a, const fmpz_mat_struct* b) {
+  return SquareSolver(a).solve(b);
 }
 
 }  // namespace pleat::detail

@@ -69,6 +69,7 @@ bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::si
   for (std::size_t i = 0; i < rank; ++i)
     for (std::size_t c = 0; c < columns; ++c) fmpz_set_mpz(kept_matrix.entry(i, c), kept[i][c].get_mpz_t());
   chunk = std::max<std::size_t>(chunk, 1);
+  SquareSolver solver(square.get());  // one LU for every chunk
   for (std::size_t first = 0; first < others.size(); first += chunk) {
     if (on_chunk && !on_chunk(first, others.size())) return false;
     poll_stop();
@@ -77,7 +78,7 @@ bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::si
     for (std::size_t j = 0; j < width; ++j)
       for (std::size_t p = 0; p < rank; ++p)
         fmpz_set_mpz(right.entry(p, j), others[first + j][pivots[p]].get_mpz_t());
-    const std::optional<RationalMatrix> solution = solve_square_exactly(square.get(), right.get());
+    const std::optional<RationalMatrix> solution = solver.solve(right.get());
     if (!solution) return false;
     FmpzMatrix combination(width, rank);
     std::vector<Integer> dens;

@@ -102,6 +102,42 @@ TEST(PadicSolve, ColumnsWithDifferentDenominatorsComeOutInLowestTerms) {
   for (std::size_t i = 0; i < n; ++i) EXPECT_EQ((*solved)(i, 1), static_cast<long>(i % 5));
 }
 
+// One SquareSolver for several right-hand sides in turn (its LU and
+// words kept from the first): each solution equals FLINT's and the one-shot
+// solve's, also after a right-hand side of another width, and a singular A
+// gives no solution every time.
+TEST(PadicSolve, OneSolverForSeveralRightHandSidesGivesEachSolution) {
+  std::mt19937_64 random(20261205);
+  const std::size_t n = 30;
+  FmpzMatrix a(n, n);
+  for (std::size_t i = 0; i < n; ++i) {
+    for (std::size_t j = 0; j < n; ++j) random_entry(a.entry(i, j), random, 80, 0.5);
+    fmpz_set_ui(a.entry(i, i), 1 + (random() & 0xff));
+  }
+  SquareSolver solver(a.get());
+  for (std::size_t m : {3, 1, 5, 2}) {
+    FmpzMatrix b(n, m);
+    for (std::size_t i = 0; i < n; ++i)
+      for (std::size_t c = 0; c < m; ++c) random_entry(b.entry(i, c), random, 80, 0.2);
+    const std::optional<RationalMatrix> expected = flint_solution(a, b, n, m);
+    ASSERT_TRUE(expected.has_value());
+    const std::optional<RationalMatrix> solved = solver.solve(b.get());
+    ASSERT_TRUE(solved.has_value()) << m;
+    EXPECT_EQ(*solved, *expected) << m;
+    EXPECT_EQ(*solve_square_exactly(a.get(), b.get()), *expected) << m;
+  }
+  FmpzMatrix singular(n, n), b(n, 1);
+  for (std::size_t i = 0; i + 1 < n; ++i)
+    for (std::size_t j = 0; j < n; ++j) random_entry(singular.entry(i, j), random, 20, 0.3);
+  for (std::size_t j = 0; j < n; ++j)  // the last row: the sum of the others
+    for (std::size_t i = 0; i + 1 < n; ++i)
+      fmpz_add(singular.entry(n - 1, j), singular.entry(n - 1, j), singular.entry(i, j));
+  for (std::size_t i = 0; i < n; ++i) fmpz_set_ui(b.entry(i, 0), i + 1);  // not in A's column space
+  SquareSolver singular_solver(singular.get());
+  EXPECT_FALSE(singular_solver.solve(b.get()).has_value());
+  EXPECT_FALSE(singular_solver.solve(b.get()).has_value());
+}
+
 TEST(PadicSolve, ZeroRightHandSideGivesZero) {
   FmpzMatrix a(3, 3), b(3, 2);
   const long entries[3][3] = {{2, -1, 0}, {1, 3, -7}, {0, 5, 11}};
