@@ -275,25 +275,14 @@ class BatchRanker {
     std::size_t solved() const { return first_; }
     std::size_t columns_left() const { return is_done() ? 0 : system_.solved.size() - first_; }
 
-    void next_chunk(std::size_t most = chunk) {
-      poll_stop();  // solve_square_exactly's FLINT fallback polls nothing
-      const auto& [rows, pivots, free, solved] = system_;
-      const std::size_t rank = rows.size();
-      const std::size_t width = std::min(most, solved.size() - first_);
-      detail::FmpzMatrix right(rank, width);
-      for (std::size_t i = 0; i < rank; ++i)
-        for (std::size_t j = 0; j < width; ++j) {
-          fmpz_set_mpz(right.entry(i, j), rows[i][free[solved[first_ + j]]].get_mpz_t());
-          fmpz_neg(right.entry(i, j), right.entry(i, j));
-        }
-      const std::optional<RationalMatrix> solution = solver_.solve(right.get());
-      if (!solution) {
-        is_failed_ = true;
-        return;
-      }
-      for (std::size_t j = 0; j < width; ++j)
-        for (std::size_t p = 0; p < rank; ++p) kernel_(solved[first_ + j], pivots[p]) = (*solution)(p, j);
-      first_ += width;
+    void next_chunk(std::size_t most = chunk) { (void)solve_chunk(most, detail::SquareSolver::unlimited); }
+
+    // The digits that solving the next free column took (it is then
+    // solved), or nullopt when it needed more than most_digits (or the
+    // solve failed: is_done()). The race's probe (is_proved_by_span).
+    std::optional<std::size_t> probe_digits(std::size_t most_digits) {
+      if (is_done() || !solve_chunk(1, most_digits)) return std::nullopt;
+      return solver_.digits();
     }
 
     // The candidate after the remaining chunks; nullopt when a solve failed.
@@ -304,6 +293,31 @@ class BatchRanker {
     }
 
    private:
+    // The next `most` free columns solved, the lifting given up after
+    // most_digits: false when it was (the columns stay unsolved) or when
+    // the solve failed (is_failed_).
+    bool solve_chunk(std::size_t most, std::size_t most_digits) {
+      poll_stop();  // solve_square_exactly's FLINT fallback polls nothing
+      const auto& [rows, pivots, free, solved] = system_;
+      const std::size_t rank = rows.size();
+      const std::size_t width = std::min(most, solved.size() - first_);
+      detail::FmpzMatrix right(rank, width);
+      for (std::size_t i = 0; i < rank; ++i)
+        for (std::size_t j = 0; j < width; ++j) {
+          fmpz_set_mpz(right.entry(i, j), rows[i][free[solved[first_ + j]]].get_mpz_t());
+          fmpz_neg(right.entry(i, j), right.entry(i, j));
+        }
+      const std::optional<RationalMatrix> solution = solver_.solve(right.get(), most_digits);
+      if (!solution) {
+        is_failed_ = !solver_.ran_out();
+        return false;
+      }
+      for (std::size_t j = 0; j < width; ++j)
+        for (std::size_t p = 0; p < rank; ++p) kernel_(solved[first_ + j], pivots[p]) = (*solution)(p, j);
+      first_ += width;
+      return true;
+    }
+
     static constexpr std::size_t chunk = 32;
     const KeptSystem& system_;
     detail::FmpzMatrix square_;
@@ -337,51 +351,70 @@ class BatchRanker {
   }
 
   // Whether the rank is proved by showing every row the basis did not keep
-  // a combination of the kept ones (detail::rows_in_span, exact) instead of
+  // a combination of the kept ones (detail::SpanProof, exact) instead of
   // by the kernel candidate. Both solve K_P's system, one right-hand side
   // per dependent row against one per solved free column, but the counts
   // alone do not tell which is cheaper: a dependent row's coefficients can
   // be as large as K_P's determinant where a kernel column's are small
   // (2,15,15,15,15,1, 1000 points: 25 000 bits against 1 000, the span
   // proof 13x slower at 0.61 dependent rows per column), or the reverse
-  // (2,15,15,15,1, 300 points: the kernel 10x slower at 0.66). Measured
-  // there (100 to 5000 points, both forced): below 1/4 the span proof was
-  // always faster, from 0.93 slower. Between, it is raced: the kernel's
-  // time is projected from 8 of its columns solved here, and the span proof
-  // is given up once its own projection (each chunk costing at least as
-  // much as the last: later rows combine more) exceeds that. The values
-  // proved do not depend on which proof finishes.
+  // (2,15,15,15,1, 300 points: the kernel 10x slower at 0.66; 2,30,30,30,1,
+  // 566 points: a kernel column 1113 digits, a dependent row 26-52).
+  // Measured there (100 to 5000 points, both forced): below 1/4 the span
+  // proof was always faster, from 0.93 slower. Between, it is raced in
+  // p-adic digits times columns (a digit of K_P's lifting costs about the
+  // same for any column; deterministic, unlike seconds): one column of
+  // each is lifted with a digit limit doubled from 16 until one side's
+  // projection (its digits times its columns) is below the other's least
+  // (the limit reached times its columns); the span proof, once taken, is
+  // given up when its projection (the digits spent, plus the last chunk's
+  // digits for every row left: later rows combine more) exceeds the
+  // kernel's, the kernel's column lifted further (to the projection) when
+  // it was not read off yet. The values proved do not depend on which
+  // proof finishes.
   template <typename Row>
   bool is_proved_by_span(const std::vector<bool>& kept, const KeptSystem& system, Row&& row, const char* phase,
                          KernelCandidate& kernel) {
     const std::size_t dependent = kept.size() - system.rows.size(), columns = kernel.columns_left();
     if (system.pivots.size() != system.rows.size() || 4 * dependent >= 3 * columns) return false;
-    using Clock = std::chrono::steady_clock;
-    const auto seconds_since = [](Clock::time_point start) {
-      return std::chrono::duration<double>(Clock::now() - start).count();
-    };
-    double kernel_left = std::numeric_limits<double>::infinity();  // no race below 1/4
-    if (4 * dependent >= columns) {
-      const auto kernel_started = Clock::now();
-      kernel.next_chunk(8);
-      if (kernel.is_done()) return false;
-      kernel_left = seconds_since(kernel_started) / static_cast<double>(kernel.solved()) *
-                    static_cast<double>(kernel.columns_left());
-    }
     std::vector<detail::IntegerRow> others;
-    const auto span_started = Clock::now();
     for (std::size_t k = 0; k < kept.size(); ++k)
       if (!kept[k]) others.push_back(integer_row(row(k)));
-    double last_chunk = 0, elapsed = 0;
+    detail::SpanProof span(system.rows, system.pivots);
+    const bool is_raced = 4 * dependent >= columns && !others.empty();  // none below 1/4
+    std::optional<std::size_t> kernel_digits;
+    std::size_t kernel_limit = 16;
+    // The kernel's least cost in digit-columns, its column lifted up to `least` first.
+    const auto kernel_cost = [&](double least) {
+      while (!kernel_digits && !kernel.is_done() &&
+             static_cast<double>(kernel_limit) * static_cast<double>(columns) < least) {
+        kernel_limit *= 2;
+        kernel_digits = kernel.probe_digits(kernel_limit);
+      }
+      return static_cast<double>(kernel_digits.value_or(kernel_limit)) * static_cast<double>(columns);
+    };
+    if (is_raced) {
+      kernel_digits = kernel.probe_digits(kernel_limit);
+      std::optional<std::size_t> span_digits;
+      for (std::size_t limit = 16;; limit *= 2) {
+        if (kernel.is_done()) return false;
+        if (!span_digits) span_digits = span.probe_digits(others[0], limit);
+        const double span_least = static_cast<double>(span_digits.value_or(limit)) * static_cast<double>(dependent);
+        const double kernel_least = kernel_cost(span_least);
+        if (kernel_digits && kernel_least <= span_least) return false;
+        if (span_digits && span_least <= kernel_least) break;
+      }
+    }
+    double spent = 0;  // digit-columns
     std::size_t last_done = 0;
-    return detail::rows_in_span(system.rows, system.pivots, others, [&](std::size_t done, std::size_t total) {
+    return span.prove(others, [&](std::size_t done, std::size_t total) {
       if (on_progress_) on_progress_(phase, done, total);
-      if (done == 0) return true;
-      const double now = seconds_since(span_started);
-      last_chunk = (now - elapsed) / static_cast<double>(done - last_done);  // per row
-      elapsed = now;
+      if (done == 0 || !is_raced) return true;
+      const auto digits = static_cast<double>(span.digits());
+      spent += digits * static_cast<double>(done - last_done);
       last_done = done;
-      return elapsed + last_chunk * static_cast<double>(total - done) < kernel_left;
+      const double projection = spent + digits * static_cast<double>(total - done);
+      return projection <= kernel_cost(projection) || kernel.is_done();
     });
   }
 

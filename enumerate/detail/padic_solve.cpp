@@ -286,7 +286,9 @@ struct SquareSolver::Lifting {
 SquareSolver::SquareSolver(const fmpz_mat_struct* a) : a_(a) {}
 SquareSolver::~SquareSolver() = default;
 
-std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b) {
+std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b, std::size_t most_digits) {
+  ran_out_ = false;
+  digits_ = 0;
   const fmpz_mat_struct* a = a_;
   const auto n = static_cast<std::size_t>(fmpz_mat_nrows(a)), m = static_cast<std::size_t>(fmpz_mat_ncols(b));
   if (static_cast<std::size_t>(fmpz_mat_ncols(a)) != n || static_cast<std::size_t>(fmpz_mat_nrows(b)) != n)
@@ -339,6 +341,10 @@ std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b) {
   std::size_t open = m, digits_so_far = 0;
   for (std::size_t extra = 0; open > 0 && extra < 2;) {
     poll_stop();
+    if (digits_so_far >= most_digits) {
+      ran_out_ = true;
+      return std::nullopt;
+    }
     if (power > limit) ++extra;
     if (lifted.size() != open) {
       lifted.clear();
@@ -377,13 +383,14 @@ std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b) {
       }
     }
     power *= static_cast<unsigned long>(prime);
-    ++digits_so_far;
+    digits_ = ++digits_so_far;
     // Read each open column off; done when its candidate passes modulo the
     // second prime. A column accepted makes the later ones try now with its
     // denominator, the earlier ones at the next step.
     for (std::size_t c = 0; c < m; ++c) {
       ColumnLift& column = columns[c];
-      if (column.is_done || (digits_so_far < column.next_attempt && extra == 0)) continue;
+      if (column.is_done || (digits_so_far < column.next_attempt && extra == 0 && digits_so_far != most_digits))
+        continue;
       if (!read_off(column.value, power, column.guess, column.first, numerators, denominator)) {
         column.guess = 1;
         column.next_attempt = digits_so_far + std::max<std::size_t>(1, digits_so_far / 4);
@@ -414,10 +421,13 @@ std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b) {
   return solution;
 }
 
-std::optional<RationalMatrix> SquareSolver::solve(const fmpz_mat_struct* b) {
+std::optional<RationalMatrix> SquareSolver::solve(const fmpz_mat_struct* b, std::size_t most_digits) {
   const auto n = static_cast<std::size_t>(fmpz_mat_nrows(a_)), m = static_cast<std::size_t>(fmpz_mat_ncols(b));
+  ran_out_ = false;
+  digits_ = 0;
   if (n >= padic_from_unknowns && !gave_up_lifting_) {
-    if (std::optional<RationalMatrix> lifted = lift(b)) return lifted;
+    if (std::optional<RationalMatrix> lifted = lift(b, most_digits)) return lifted;
+    if (ran_out_) return std::nullopt;
     gave_up_lifting_ = lifting_ && !lifting_->lu;  // singular modulo three primes: no use trying again
   }
   FmpqMatrix flint_solution(n, m);

@@ -73,16 +73,29 @@ class SquareSolver {
   SquareSolver(const SquareSolver&) = delete;
   SquareSolver& operator=(const SquareSolver&) = delete;
 
-  // X with A X = B: solve_square_exactly(A, B).
-  std::optional<RationalMatrix> solve(const fmpz_mat_struct* b);
-  // solve_by_padic_lifting(A, B).
-  std::optional<RationalMatrix> lift(const fmpz_mat_struct* b);
+  // X with A X = B: solve_square_exactly(A, B). With most_digits, the
+  // p-adic lifting gives up after that many digits: nullopt, ran_out()
+  // true, and no fallback to FLINT's solve (a race's probe: a digit costs
+  // about the same for any right-hand side of one A, so the digits a
+  // column needs measure its cost).
+  std::optional<RationalMatrix> solve(const fmpz_mat_struct* b, std::size_t most_digits = unlimited);
+  // solve_by_padic_lifting(A, B), with most_digits as in solve.
+  std::optional<RationalMatrix> lift(const fmpz_mat_struct* b, std::size_t most_digits = unlimited);
+  // Whether the last solve gave up at most_digits.
+  bool ran_out() const { return ran_out_; }
+  // The p-adic digits (of the lifting prime, about 62 bits each) the last
+  // solve lifted: 0 when it did not lift.
+  std::size_t digits() const { return digits_; }
+
+  static constexpr std::size_t unlimited = ~std::size_t{0};
 
  private:
   struct Lifting;
   const fmpz_mat_struct* a_;
   std::unique_ptr<Lifting> lifting_;
   bool gave_up_lifting_ = false;
+  bool ran_out_ = false;
+  std::size_t digits_ = 0;
 };
 
 }  // namespace pleat::detail

@@ -55,21 +55,33 @@ bool chunk_in_span(FmpzMatrix& kept_matrix, FmpzMatrix& combination, const std::
 
 }  // namespace
 
-bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots,
-                  const std::vector<IntegerRow>& others, const SpanProgress& on_chunk, std::size_t chunk) {
+SpanProof::SpanProof(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots)
+    : kept_(kept), pivots_(pivots), square_(kept.size(), kept.size()), solver_(square_.get()) {
+  set_transposed_square(square_, kept, pivots);
+}
+
+std::optional<std::size_t> SpanProof::probe_digits(const IntegerRow& row, std::size_t most_digits) {
+  if (kept_.empty()) return 0;
+  FmpzMatrix right(kept_.size(), 1);
+  for (std::size_t p = 0; p < kept_.size(); ++p) fmpz_set_mpz(right.entry(p, 0), row[pivots_[p]].get_mpz_t());
+  (void)solver_.solve(right.get(), most_digits);
+  if (solver_.ran_out()) return std::nullopt;
+  return solver_.digits();
+}
+
+bool SpanProof::prove(const std::vector<IntegerRow>& others, const SpanProgress& on_chunk, std::size_t chunk) {
+  const std::vector<IntegerRow>& kept = kept_;
+  const std::vector<std::size_t>& pivots = pivots_;
   if (others.empty()) return true;
   if (kept.empty()) return std::all_of(others.begin(), others.end(), [](const IntegerRow& row) {
       return std::all_of(row.begin(), row.end(), [](const Integer& value) { return sgn(value) == 0; });
     });
   const std::size_t rank = kept.size();
   const std::size_t columns = kept[0].size();
-  FmpzMatrix square(rank, rank);
-  set_transposed_square(square, kept, pivots);
   FmpzMatrix kept_matrix(rank, columns);
   for (std::size_t i = 0; i < rank; ++i)
     for (std::size_t c = 0; c < columns; ++c) fmpz_set_mpz(kept_matrix.entry(i, c), kept[i][c].get_mpz_t());
   chunk = std::max<std::size_t>(chunk, 1);
-  SquareSolver solver(square.get());  // one LU for every chunk
   for (std::size_t first = 0; first < others.size(); first += chunk) {
     if (on_chunk && !on_chunk(first, others.size())) return false;
     poll_stop();
@@ -78,7 +90,7 @@ bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::si
     for (std::size_t j = 0; j < width; ++j)
       for (std::size_t p = 0; p < rank; ++p)
         fmpz_set_mpz(right.entry(p, j), others[first + j][pivots[p]].get_mpz_t());
-    const std::optional<RationalMatrix> solution = solver.solve(right.get());
+    const std::optional<RationalMatrix> solution = solver_.solve(right.get());  // one LU for every chunk
     if (!solution) return false;
     FmpzMatrix combination(width, rank);
     std::vector<Integer> dens;
@@ -88,6 +100,11 @@ bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::si
     if (!chunk_in_span(kept_matrix, combination, dens, others, first)) return false;
   }
   return true;
+}
+
+bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots,
+                  const std::vector<IntegerRow>& others, const SpanProgress& on_chunk, std::size_t chunk) {
+  return SpanProof(kept, pivots).prove(others, on_chunk, chunk);
 }
 
 }  // namespace pleat::detail

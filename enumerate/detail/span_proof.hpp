@@ -5,6 +5,7 @@
 // ones proves the upper bound. Internal to enumerate/ (not installed).
 #pragma once
 
+#include "core/detail/flint_matrix.hpp"
 #include "core/matrix.hpp"
 #include "core/rational.hpp"
 #include "enumerate/detail/padic_solve.hpp"
@@ -38,5 +39,28 @@ using SpanProgress = std::function<bool(std::size_t done, std::size_t total)>;
 bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots,
                   const std::vector<IntegerRow>& others, const SpanProgress& on_chunk = {},
                   std::size_t chunk = 32);
+
+// rows_in_span for one kept/pivots pair in steps: K_P^T's system is solved
+// by one SquareSolver (its LU kept between the probe and every chunk).
+// kept and pivots must outlive it.
+class SpanProof {
+ public:
+  SpanProof(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots);
+  // The p-adic digits that solving one row's coefficients took, or nullopt
+  // when it took more than most_digits (the race in batch_dimension.cpp:
+  // a digit costs about the same for every column of K_P's system, the
+  // kernel's too). Proves nothing.
+  std::optional<std::size_t> probe_digits(const IntegerRow& row, std::size_t most_digits);
+  // rows_in_span(kept, pivots, others, on_chunk, chunk).
+  bool prove(const std::vector<IntegerRow>& others, const SpanProgress& on_chunk = {}, std::size_t chunk = 32);
+  // The digits the last probe or chunk took (SquareSolver::digits).
+  std::size_t digits() const { return solver_.digits(); }
+
+ private:
+  const std::vector<IntegerRow>& kept_;
+  const std::vector<std::size_t>& pivots_;
+  FmpzMatrix square_;
+  SquareSolver solver_;
+};
 
 }  // namespace pleat::detail

@@ -138,6 +138,48 @@ TEST(PadicSolve, OneSolverForSeveralRightHandSidesGivesEachSolution) {
   EXPECT_FALSE(singular_solver.solve(b.get()).has_value());
 }
 
+// A digit limit (the batch rank's race): the exact solution, or none and
+// ran_out() (no fallback to FLINT's solve), never another answer; at or
+// above the digits an unlimited solve took, the solution; an altered A is
+// not solved by the same answer.
+TEST(PadicSolve, ADigitLimitGivesTheExactSolutionOrNone) {
+  std::mt19937_64 random(20261206);
+  const std::size_t n = 20, m = 2;
+  FmpzMatrix a(n, n), b(n, m);
+  for (std::size_t i = 0; i < n; ++i) {
+    for (std::size_t j = 0; j < n; ++j) random_entry(a.entry(i, j), random, 100, 0.4);
+    fmpz_set_ui(a.entry(i, i), 1 + (random() & 0xff));
+    for (std::size_t c = 0; c < m; ++c) random_entry(b.entry(i, c), random, 100, 0.1);
+  }
+  const std::optional<RationalMatrix> expected = flint_solution(a, b, n, m);
+  ASSERT_TRUE(expected.has_value());
+  SquareSolver solver(a.get());
+  ASSERT_EQ(solver.solve(b.get()), expected);
+  const std::size_t digits = solver.digits();
+  ASSERT_GE(digits, 3u);  // 100-bit entries: several 62-bit digits
+  EXPECT_FALSE(solver.ran_out());
+  EXPECT_FALSE(solver.solve(b.get(), 0).has_value());
+  EXPECT_TRUE(solver.ran_out());
+  EXPECT_FALSE(solver.solve(b.get(), 1).has_value());  // 100-bit entries: not one digit
+  EXPECT_TRUE(solver.ran_out());
+  for (std::size_t limit = 2; limit < digits; ++limit) {  // a read-off at the limit may come early
+    const std::optional<RationalMatrix> limited = solver.solve(b.get(), limit);
+    EXPECT_EQ(limited.has_value(), !solver.ran_out()) << limit;
+    if (limited) {
+      EXPECT_EQ(*limited, *expected) << limit;
+    }
+    EXPECT_LE(solver.digits(), limit);
+  }
+  EXPECT_EQ(solver.solve(b.get(), digits), expected);
+  EXPECT_EQ(solver.solve(b.get(), digits + 5), expected);
+  EXPECT_EQ(solver.digits(), digits);
+  fmpz_add_ui(a.entry(3, 7), a.entry(3, 7), 1);  // A altered in one entry: another solution
+  const std::optional<RationalMatrix> altered = solve_square_exactly(a.get(), b.get());
+  ASSERT_TRUE(altered.has_value());
+  EXPECT_NE(*altered, *expected);
+  EXPECT_EQ(altered, flint_solution(a, b, n, m));
+}
+
 TEST(PadicSolve, ZeroRightHandSideGivesZero) {
   FmpzMatrix a(3, 3), b(3, 2);
   const long entries[3][3] = {{2, -1, 0}, {1, 3, -7}, {0, 5, 11}};

@@ -67,6 +67,31 @@ TEST(SpanProof, CombinationsOfTheKeptRowsAreInTheirSpan) {
   EXPECT_TRUE(rows_in_span(kept, leading_pivots(5), {}));
 }
 
+// The race's probe (batch_dimension.cpp): the digits one row's
+// coefficients take, nullopt below them; it proves nothing, and the proof
+// after it (the same solver, its LU kept) still proves the combinations and
+// still refuses a row altered in one entry.
+TEST(SpanProof, AProbeCountsDigitsAndTheProofAfterItIsStillExact) {
+  std::mt19937_64 random(3);
+  const std::vector<IntegerRow> base = kept_rows(random, 10);  // 10 unknowns: the p-adic lifting
+  std::vector<IntegerRow> others = combinations(random, base, 5);
+  const std::vector<IntegerRow> kept = times_seven(base);
+  const std::vector<std::size_t> pivots = leading_pivots(10);
+  SpanProof span(kept, pivots);
+  const std::optional<std::size_t> digits = span.probe_digits(others[0], SquareSolver::unlimited);
+  ASSERT_TRUE(digits.has_value());
+  ASSERT_GE(*digits, 1u);
+  EXPECT_EQ(span.digits(), *digits);
+  EXPECT_FALSE(span.probe_digits(others[0], 0).has_value());
+  EXPECT_EQ(span.probe_digits(others[0], *digits), digits);
+  EXPECT_TRUE(span.prove(others, {}, 2));
+  others[3][11] += 1;  // off the pivots: only the exact check sees it
+  EXPECT_FALSE(span.prove(others, {}, 2));
+  others[3][11] -= 1;
+  others[4][0] += 1;  // on a pivot
+  EXPECT_FALSE(span.prove(others));
+}
+
 TEST(SpanProof, ARowAlteredInOneEntryIsRefused) {
   std::mt19937_64 random(2);
   const std::vector<IntegerRow> base = kept_rows(random, 5);
