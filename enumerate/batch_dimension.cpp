@@ -272,6 +272,7 @@ class BatchRanker {
     }
 
     bool is_done() const { return is_failed_ || first_ >= system_.solved.size(); }
+    detail::SquareSolver& solver() { return solver_; }
     std::size_t solved() const { return first_; }
     std::size_t columns_left() const { return is_done() ? 0 : system_.solved.size() - first_; }
 
@@ -380,7 +381,7 @@ class BatchRanker {
     std::vector<detail::IntegerRow> others;
     for (std::size_t k = 0; k < kept.size(); ++k)
       if (!kept[k]) others.push_back(integer_row(row(k)));
-    detail::SpanProof span(system.rows, system.pivots);
+    detail::SpanProof span(system.rows, system.pivots, &kernel.solver());  // K_P's LU shared
     const bool is_raced = 4 * dependent >= columns && !others.empty();  // none below 1/4
     std::optional<std::size_t> kernel_digits;
     std::size_t kernel_limit = 16;

@@ -95,6 +95,8 @@ class WordMatrix {
   std::vector<std::uint64_t> words_;  // limbs_ per entry
 };
 
+}  // namespace
+
 // A modulo a word prime p as FLINT's LU factorization (row i of the
 // factored matrix is row order[i] of A), with U's rows divided by their
 // diagonal entries (kept inverted in `inverse_diagonal`): FLINT's solve with
@@ -110,6 +112,8 @@ struct ModularLu {
         lu(static_cast<std::size_t>(fmpz_mat_nrows(a)), static_cast<std::size_t>(fmpz_mat_nrows(a)), p),
         order(static_cast<std::size_t>(fmpz_mat_nrows(a))) {}
 };
+
+namespace {
 
 // A's LU modulo the first of three fixed primes below 2^62 that does not
 // divide det A; nullptr when all three do (A is then most likely singular).
@@ -271,20 +275,38 @@ bool read_off(const std::vector<Integer>& value, const Integer& modulus, const I
 
 }  // namespace
 
-// What the lifting keeps of A between right-hand sides.
+// What the lifting keeps of A between right-hand sides. For A the
+// transpose of another solver's matrix (PA = LU there), that LU is shared:
+// A = U^T L^T P, so A x = b is U'^T w = b, y = D^-1 w, L^T z = y (the
+// triangles of LU's transpose, both unit) and x[order[i]] = z[i].
 struct SquareSolver::Lifting {
-  std::unique_ptr<ModularLu> lu;  // nullptr: singular modulo the primes tried
+  std::shared_ptr<ModularLu> lu;  // nullptr: singular modulo the primes tried
+  std::optional<NmodMatrix> transposed_lu;  // when lu is A^T's
   std::optional<WordMatrix> words;
   std::optional<SecondPrimeCheck> second_prime;
-  explicit Lifting(const fmpz_mat_struct* a) : lu(factor_modulo_some_prime(a)) {
+  Lifting(const fmpz_mat_struct* a, std::shared_ptr<ModularLu> transposes) {
+    if (transposes) {
+      lu = std::move(transposes);
+      const auto n = static_cast<std::size_t>(fmpz_mat_nrows(a));
+      transposed_lu.emplace(n, n, lu->prime);
+      nmod_mat_transpose(transposed_lu->get(), lu->lu.get());
+    } else {
+      lu = factor_modulo_some_prime(a);
+    }
     if (!lu) return;
     words.emplace(a);
     second_prime.emplace(a);
   }
 };
 
-SquareSolver::SquareSolver(const fmpz_mat_struct* a) : a_(a) {}
+SquareSolver::SquareSolver(const fmpz_mat_struct* a, SquareSolver* transpose) : a_(a), transpose_(transpose) {}
 SquareSolver::~SquareSolver() = default;
+
+std::shared_ptr<ModularLu> SquareSolver::factors() {
+  if (!lifting_) lifting_ = std::make_unique<Lifting>(a_, transpose_ ? transpose_->factors() : nullptr);
+  if (lifting_->transposed_lu) return nullptr;  // a transpose's transpose: factored anew
+  return lifting_->lu;
+}
 
 std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b, std::size_t most_digits) {
   ran_out_ = false;
@@ -295,9 +317,11 @@ std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b, std::
     return std::nullopt;
   RationalMatrix solution(n, m);
   if (n == 0 || m == 0) return solution;
-  if (!lifting_) lifting_ = std::make_unique<Lifting>(a);
+  if (!lifting_) lifting_ = std::make_unique<Lifting>(a, transpose_ ? transpose_->factors() : nullptr);
   if (!lifting_->lu) return std::nullopt;
   ModularLu* lu = lifting_->lu.get();
+  const bool is_transposed = lifting_->transposed_lu.has_value();
+  nmod_mat_struct* triangles = is_transposed ? lifting_->transposed_lu->get() : lu->lu.get();
   const std::uint64_t prime = lu->prime;
   const WordMatrix& words = *lifting_->words;
   SecondPrimeCheck& second_prime = *lifting_->second_prime;
@@ -354,26 +378,26 @@ std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b, std::
       digits.emplace(n, open, prime);
     }
     // The next digit of every open column: A^-1 (residual mod p), through
-    // the LU (rows in its order).
+    // the LU (rows in its order; A^T's LU: in A's order, unknowns in the LU's).
     for (std::size_t i = 0; i < n; ++i) {
-      const auto row = static_cast<std::size_t>(lu->order[i]);
+      const auto row = is_transposed ? i : static_cast<std::size_t>(lu->order[i]);
       for (std::size_t o = 0; o < open; ++o)
         nmod_mat_entry(right->get(), static_cast<slong>(i), static_cast<slong>(o)) =
             mpz_fdiv_ui(columns[lifted[o]].residual[row].get_mpz_t(), prime);
     }
-    nmod_mat_solve_tril(digits->get(), lu->lu.get(), right->get(), 1);
+    nmod_mat_solve_tril(digits->get(), triangles, right->get(), 1);
     for (std::size_t i = 0; i < n; ++i)  // U x = y is U' x = D^-1 y
       for (std::size_t o = 0; o < open; ++o) {
         mp_limb_t& entry = nmod_mat_entry(digits->get(), static_cast<slong>(i), static_cast<slong>(o));
         entry = nmod_mul(entry, lu->inverse_diagonal[i], digits->get()->mod);
       }
-    nmod_mat_solve_triu(digits->get(), lu->lu.get(), digits->get(), 1);
+    nmod_mat_solve_triu(digits->get(), triangles, digits->get(), 1);
     for (std::size_t o = 0; o < lifted.size(); ++o) {
       ColumnLift& column = columns[lifted[o]];
-      for (std::size_t i = 0; i < n; ++i) {
-        digit[i] = nmod_mat_entry(digits->get(), static_cast<slong>(i), static_cast<slong>(o));
-        mpz_addmul_ui(column.value[i].get_mpz_t(), power.get_mpz_t(), digit[i]);
-      }
+      for (std::size_t i = 0; i < n; ++i)
+        digit[is_transposed ? static_cast<std::size_t>(lu->order[i]) : i] =
+            nmod_mat_entry(digits->get(), static_cast<slong>(i), static_cast<slong>(o));
+      for (std::size_t i = 0; i < n; ++i) mpz_addmul_ui(column.value[i].get_mpz_t(), power.get_mpz_t(), digit[i]);
       // residual = (residual - A digit) / p, exactly.
       for (std::size_t i = 0; i < n; ++i) {
         words.row_times(i, digit.data(), product.get(), scratch.get());

@@ -55,8 +55,9 @@ bool chunk_in_span(FmpzMatrix& kept_matrix, FmpzMatrix& combination, const std::
 
 }  // namespace
 
-SpanProof::SpanProof(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots)
-    : kept_(kept), pivots_(pivots), square_(kept.size(), kept.size()), solver_(square_.get()) {
+SpanProof::SpanProof(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots,
+                     SquareSolver* kernel)
+    : kept_(kept), pivots_(pivots), square_(kept.size(), kept.size()), solver_(square_.get(), kernel) {
   set_transposed_square(square_, kept, pivots);
 }
 

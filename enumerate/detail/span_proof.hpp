@@ -41,11 +41,13 @@ bool rows_in_span(const std::vector<IntegerRow>& kept, const std::vector<std::si
                   std::size_t chunk = 32);
 
 // rows_in_span for one kept/pivots pair in steps: K_P^T's system is solved
-// by one SquareSolver (its LU kept between the probe and every chunk).
-// kept and pivots must outlive it.
+// by one SquareSolver (its LU kept between the probe and every chunk; with
+// `kernel`, a solver of K_P's system (A_ij = kept[i][pivots[j]]), its LU
+// shared). kept, pivots and kernel must outlive it.
 class SpanProof {
  public:
-  SpanProof(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots);
+  SpanProof(const std::vector<IntegerRow>& kept, const std::vector<std::size_t>& pivots,
+            SquareSolver* kernel = nullptr);
   // The p-adic digits that solving one row's coefficients took, or nullopt
   // when it took more than most_digits (the race in batch_dimension.cpp:
   // a digit costs about the same for every column of K_P's system, the

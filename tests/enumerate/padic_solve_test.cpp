@@ -180,6 +180,37 @@ TEST(PadicSolve, ADigitLimitGivesTheExactSolutionOrNone) {
   EXPECT_EQ(altered, flint_solution(a, b, n, m));
 }
 
+// A solver of A^T that shares A's LU (the span proof's K_P^T and the kernel
+// candidate's K_P): its solutions equal FLINT's for A^T, whichever solver
+// solves first, with row exchanges in the LU (zeros on A's diagonal), and
+// differ from A's own.
+TEST(PadicSolve, ASolverOfTheTransposeSharingTheLuGivesItsSolution) {
+  std::mt19937_64 random(20261207);
+  const std::size_t n = 26, m = 3;
+  for (bool transpose_first : {false, true}) {
+    FmpzMatrix a(n, n), at(n, n), b(n, m);
+    for (std::size_t i = 0; i < n; ++i) {
+      for (std::size_t j = 0; j < n; ++j) random_entry(a.entry(i, j), random, 70, 0.4);
+      if (i % 3 == 0) fmpz_zero(a.entry(i, i));  // the LU exchanges rows
+      for (std::size_t c = 0; c < m; ++c) random_entry(b.entry(i, c), random, 70, 0.1);
+    }
+    for (std::size_t i = 0; i < n; ++i)
+      for (std::size_t j = 0; j < n; ++j) fmpz_set(at.entry(j, i), a.entry(i, j));
+    const std::optional<RationalMatrix> expected = flint_solution(at, b, n, m), of_a = flint_solution(a, b, n, m);
+    ASSERT_TRUE(expected.has_value());
+    ASSERT_TRUE(of_a.has_value());
+    ASSERT_NE(*expected, *of_a);
+    SquareSolver solver(a.get());
+    SquareSolver transposed(at.get(), &solver);
+    if (transpose_first) {
+      EXPECT_EQ(transposed.lift(b.get()), expected);
+    }
+    EXPECT_EQ(solver.lift(b.get()), of_a);
+    EXPECT_EQ(transposed.lift(b.get()), expected);
+    EXPECT_EQ(transposed.solve(b.get()), expected);
+  }
+}
+
 TEST(PadicSolve, ZeroRightHandSideGivesZero) {
   FmpzMatrix a(3, 3), b(3, 2);
   const long entries[3][3] = {{2, -1, 0}, {1, 3, -7}, {0, 5, 11}};
