@@ -34,9 +34,18 @@ FreeColumns free_columns_by_nonzeros(const ModularRowBasis& basis) {
     std::uint64_t value;
   };
   std::vector<Nonzero> nonzeros;  // by rows
+  constexpr std::size_t block = 8;  // words tested at once: almost all are 0 (2% above)
   for (std::size_t i = 0; i < rank; ++i) {
-    const ModularVector& part = basis.free_part(i);
-    for (std::size_t q = 0; q < width; ++q)
+    const std::uint64_t* part = basis.free_part(i).data();
+    std::size_t q = 0;
+    for (; q + block <= width; q += block) {
+      std::uint64_t any = 0;
+      for (std::size_t b = 0; b < block; ++b) any |= part[q + b];
+      if (any == 0) continue;
+      for (std::size_t b = q; b < q + block; ++b)
+        if (part[b] != 0) nonzeros.push_back({b, i, part[b]});
+    }
+    for (; q < width; ++q)
       if (part[q] != 0) nonzeros.push_back({q, i, part[q]});
   }
   FreeColumns out;
