@@ -109,6 +109,33 @@ std::vector<char> live_on_some_pattern(const Network& network, const SparseRatio
   return LiveTerms(network, patterns).of(vectors);
 }
 
+AnnihilationCheck::LiveBits AnnihilationCheck::live_bits(const std::vector<ActivationPattern>& patterns) const {
+  LiveBits out;
+  const std::size_t count = patterns.size(), neurons = neuron_layer_.size();
+  out.words = (count + 63) / 64;
+  const std::size_t words = out.words;
+  // Each neuron's patterns (bits), then always_on (every pattern).
+  std::vector<std::uint64_t> on((neurons + 1) * words, 0);
+  for (std::size_t p = 0; p < count; ++p) {
+    if (p % 64 == 0) poll_stop();
+    const NeuronState* states = patterns[p].states.data();
+    std::uint64_t* word = on.data() + p / 64;
+    for (std::size_t n = 0; n < neurons; ++n)  // no branch on the states
+      word[n * words] |= static_cast<std::uint64_t>(states[n] == NeuronState::on) << (p % 64);
+    word[neurons * words] |= std::uint64_t{1} << (p % 64);
+  }
+  out.bits.assign(vector_count_ * words, 0);
+  for (std::size_t v = 0; v < vector_count_; ++v) {
+    std::uint64_t* live = out.bits.data() + v * words;
+    for (std::size_t t = first_term_[v]; t < first_term_[v + 1]; ++t) {
+      const std::uint64_t* own = on.data() + term_neurons_[t].own * words;
+      const std::uint64_t* input = on.data() + term_neurons_[t].input * words;
+      for (std::size_t w = 0; w < words; ++w) live[w] |= own[w] & input[w];
+    }
+  }
+  return out;
+}
+
 std::vector<std::size_t> lexicographic_order(const std::vector<ActivationPattern>& patterns) {
   std::vector<std::size_t> order(patterns.size());
   for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
@@ -124,6 +151,7 @@ std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check
                                                   const std::vector<std::size_t>* sorted) {
   const std::vector<std::size_t> sorted_here = sorted ? std::vector<std::size_t>() : lexicographic_order(patterns);
   const std::vector<std::size_t>& order = sorted ? *sorted : sorted_here;
+  const AnnihilationCheck::LiveBits live = check.live_bits(patterns);
   constexpr std::size_t run = 16;  // consecutive patterns per thread
   std::atomic<std::size_t> next{0}, done{0};
   std::atomic<std::size_t> first_rejected{patterns.size()};
@@ -148,7 +176,7 @@ std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check
             halt = true;
             break;
           }
-          if (!check.annihilates(patterns[i])) {
+          if (!check.annihilates(patterns[i], live, i)) {
             std::size_t current = first_rejected.load();
             while (i < current && !first_rejected.compare_exchange_weak(current, i)) {
             }

@@ -502,7 +502,9 @@ bool AnnihilationCheck::live_vectors(const ActivationPattern& pattern, std::vect
   return any_live != 0;
 }
 
-bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
+bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const { return annihilates(pattern, LiveBits(), 0); }
+
+bool AnnihilationCheck::annihilates(const ActivationPattern& pattern, const LiveBits& live, std::size_t index) const {
   // A pattern equal to the last one this thread found annihilated at every
   // neuron the products read (read_states_) has the same products: every
   // entry in the vectors' columns is the same polynomial in the parameters
@@ -515,17 +517,29 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern) const {
                   [&](std::size_t n) { return passed.second[n] == pattern.states[n]; }))
     return true;
   passed.first = 0;  // invalid until this pattern is found annihilated
-  if (!annihilates_here(pattern)) return false;
+  if (!annihilates_here(pattern, live.words > 0 ? &live : nullptr, index)) return false;
   passed.first = id_;
   passed.second = pattern.states;
   return true;
 }
 
-bool AnnihilationCheck::annihilates_here(const ActivationPattern& pattern) const {
+bool AnnihilationCheck::annihilates_here(const ActivationPattern& pattern, const LiveBits* live_bits,
+                                         std::size_t index) const {
   // The vectors with a term on the pattern: the others annihilate its rows
-  // term by term (live_vectors), for every prime.
+  // term by term (live_vectors, or read off live_bits), for every prime.
   thread_local std::vector<char> live;
-  if (!live_vectors(pattern, live)) return true;
+  if (live_bits) {
+    live.resize(vector_count_);
+    unsigned char any_live = 0;
+    const std::uint64_t* word = live_bits->bits.data() + index / 64;
+    for (std::size_t v = 0; v < vector_count_; ++v, word += live_bits->words) {
+      live[v] = static_cast<char>((*word >> (index % 64)) & 1);
+      any_live |= static_cast<unsigned char>(live[v]);
+    }
+    if (!any_live) return true;
+  } else if (!live_vectors(pattern, live)) {
+    return true;
+  }
   if (integer_) return integer_->annihilates(pattern, live);
   // This thread's factors for each prime, with the pattern they were
   // computed for (reset for another check).

@@ -140,6 +140,17 @@ class AnnihilationCheck {
   // prime, without writing the blocks out (a vector costs its nonzero
   // entries).
   [[nodiscard]] bool annihilates(const ActivationPattern& pattern) const;
+  // Which vectors have a term on each pattern (live_vectors), for every
+  // pattern at once: bit p of words [v words, (v + 1) words) for vector v
+  // and patterns[p]. From each neuron's patterns as bits: a word AND per
+  // term and 64 patterns, where live_vectors reads every term per pattern.
+  struct LiveBits {
+    std::size_t words = 0;
+    std::vector<std::uint64_t> bits;
+  };
+  [[nodiscard]] LiveBits live_bits(const std::vector<ActivationPattern>& patterns) const;
+  // annihilates for patterns[index] of the patterns `live` was made from.
+  [[nodiscard]] bool annihilates(const ActivationPattern& pattern, const LiveBits& live, std::size_t index) const;
 
  private:
   // What a parameter is: W_k[neuron, input] or, with input == bias, b_k[neuron].
@@ -190,7 +201,7 @@ class AnnihilationCheck {
   // vector is live.
   bool live_vectors(const ActivationPattern& pattern, std::vector<char>& live) const;
   // annihilates without the reuse of the last pattern's answer.
-  bool annihilates_here(const ActivationPattern& pattern) const;
+  bool annihilates_here(const ActivationPattern& pattern, const LiveBits* live_bits, std::size_t index) const;
   struct Modulus {
     ModularNetwork network;
     nmod_t mod{};  // FLINT's nmod_init(network.prime), once

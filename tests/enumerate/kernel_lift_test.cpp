@@ -889,6 +889,42 @@ TEST(KernelCheck, OneInputVectorsPassedOnARegionAreCheckedAgainWhereTheirSignals
   EXPECT_GT(coarse, 5u);
 }
 
+// Which vectors have a term on each pattern, for all patterns at once
+// (AnnihilationCheck::live_bits, what first_rejected_pattern reads): one
+// parameter's unit vector, and pairs, checked with the bits at each pattern
+// must answer as the exact products do (a bit wrongly 0 passes a pattern
+// where the column is not 0), and as the check without the bits.
+TEST(KernelCheck, LiveBitsAnswerEachPatternAsTheExactProducts) {
+  std::size_t rejected = 0;
+  for (const Network& network : {random_network({2, 4, 3, 3, 1}, 31),
+                                 read_network_file(PLEAT_SOURCE_DIR "/tests/data/output_relu2d.json"),
+                                 read_network_file(PLEAT_SOURCE_DIR "/tests/data/dead2d.json")}) {
+    const WalkState state = walk_state(network);
+    std::vector<RationalMatrix> blocks;
+    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const detail::CheckScale scale(network);
+    const std::size_t columns = network.parametric_dimension();
+    for (std::size_t c = 0; c < columns; ++c)
+      for (const std::size_t other : {c, (c + 7) % columns}) {
+        RationalMatrix vector(1, columns);
+        vector(0, c) = 1;
+        if (other != c) vector(0, other) = Rational(-2, 3);
+        for (const auto arithmetic : {detail::CheckArithmetic::fastest, detail::CheckArithmetic::primes}) {
+          const detail::AnnihilationCheck with_bits(network, vector, scale, 1, arithmetic),
+              without(network, vector, scale, 1, arithmetic);
+          const detail::AnnihilationCheck::LiveBits live = with_bits.live_bits(state.smooth);
+          for (std::size_t p = 0; p < state.smooth.size(); ++p) {
+            const bool expected = annihilates_exactly(blocks[p], vector);
+            EXPECT_EQ(with_bits.annihilates(state.smooth[p], live, p), expected) << "column " << c << " pattern " << p;
+            EXPECT_EQ(without.annihilates(state.smooth[p]), expected) << "column " << c << " pattern " << p;
+            rejected += expected ? 0 : 1;
+          }
+        }
+      }
+  }
+  EXPECT_GT(rejected, 100u);
+}
+
 // The vectors the check need not look at (live_on_some_pattern): a vector
 // with one or two entries is live exactly when one of its terms has its
 // neuron and its input neuron on in one smooth region (read off the
