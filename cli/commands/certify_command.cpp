@@ -374,7 +374,7 @@ BatchDimension batch_with_progress(const CertifyArguments& arguments, const Netw
                                    const PointsFile& file, const StopRequest& stop) {
   ProgressLine progress(arguments.quiet);
   BatchDimension batch = batch_dimension(
-      network, domain, file.points, [&](std::size_t i) { return file.places[i] + " (point " + std::to_string(i) + ")"; },
+      network, domain, file.points, [&](std::size_t i) { return file.places[i]; },
       stop, static_cast<unsigned>(arguments.limits.threads), [&](const char* phase, std::size_t done, std::size_t total) {
         progress.update([&] {
           return std::string("batch: ") + phase + " " + std::to_string(done) + "/" + std::to_string(total);

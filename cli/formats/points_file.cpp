@@ -127,7 +127,7 @@ PointsFile read_text_points(const std::string& path, std::size_t dimension) {
     }
     if (drops_index_column && !fields.empty()) fields.erase(fields.begin());
     result.points.push_back(parse_fields(fields, dimension, place));
-    result.places.push_back(place);
+    result.places.push_back(place + " (point " + std::to_string(result.points.size()) + ")");
   }
   return result;
 }
@@ -150,12 +150,13 @@ PointsFile npy_points(const xt::xarray<Value>& array, std::size_t dimension, con
     for (std::size_t column = 0; column < dimension; ++column) {
       const double value = static_cast<double>(is_column ? array(row) : array(row, column));
       if (!std::isfinite(value))
-        throw input_error(path + " row " + std::to_string(row) + ": value " + std::to_string(column + 1) +
-                          " is not a finite number");
+        throw input_error(path + "[" + std::to_string(row) + (is_column ? "" : ", " + std::to_string(column)) +
+                          "] (point " + std::to_string(row + 1) + ", value " + std::to_string(column + 1) +
+                          "): not a finite number");
       point.push_back(rational_from_double(value));  // exact: a double is a dyadic rational
     }
     result.points.push_back(std::move(point));
-    result.places.push_back(path + " row " + std::to_string(row));
+    result.places.push_back(path + "[" + std::to_string(row) + "] (point " + std::to_string(row + 1) + ")");
   }
   return result;
 }

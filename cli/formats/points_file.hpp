@@ -21,7 +21,9 @@ namespace pleat::cli {
 
 struct PointsFile {
   std::vector<RationalVector> points;
-  std::vector<std::string> places;  // "pts.csv:4" or "pts.npy row 3", one per point, for messages
+  // One per point, for messages: "pts.csv:4 (point 3)" (its line; points
+  // counted from 1, as lines are) or "pts.npy[2] (point 3)" (numpy's index).
+  std::vector<std::string> places;
 };
 
 // Reads a points file (by extension: .npy binary, anything else text).

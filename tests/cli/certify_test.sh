@@ -60,12 +60,12 @@ echo "$out" > "$work/batch.json"
 printf '%s\n' -1 -2 > "$work/one_region.csv"
 out=$("$pleat" certify "$ramp" --points "$work/one_region.csv") || fail "--points exited $?"
 expect_contains "$out" "batch functional dimension 2" "two points in one interval give its 2 rows"
-# 3/8 is neuron 1's bend (-0.8 x + 0.3 = 0): the third point (0-based index 2).
+# 3/8 is neuron 1's bend (-0.8 x + 0.3 = 0): the third point, on line 3.
 printf '%s\n' -1 5 3/8 0 > "$work/bent.csv"
 err=$("$pleat" certify "$ramp" --points "$work/bent.csv" 2>&1 >/dev/null)
 status=$?
 [ "$status" = 2 ] || fail "point on a bent hyperplane: exit $status, expected 2 ($err)"
-expect_contains "$err" "point 2" "the point is named"
+expect_contains "$err" "bent.csv:3 (point 3)" "the point is named"
 expect_contains "$err" "neuron 1" "the neuron is named"
 printf '%s\n' 1,2 > "$work/wrong_dim.csv"
 "$pleat" certify "$ramp" --points "$work/wrong_dim.csv" > /dev/null 2>&1

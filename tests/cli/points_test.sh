@@ -98,12 +98,27 @@ bad shape.npy "shape.npy: an array of shape (3, 3) where (points, 2) was expecte
 printf '%s\n' 0,0 3,0 > "$work/outside.csv"
 err=$("$pleat" certify "$fold" --points "$work/outside.csv" --box -2,2 -q 2>&1 >/dev/null)
 [ $? = 2 ] || fail "a point outside the box must be exit 2"
-expect_contains "$err" "outside.csv:2 (point 1): (3, 0) lies outside the domain" "outside point named"
+expect_contains "$err" "outside.csv:2 (point 2): (3, 0) lies outside the domain" "outside point named"
+# Lines and points are both counted from 1 (the point was counted from 0):
+# after a header and a comment, line 4 holds point 2.
+printf '%s\n' x,y '# two points' 0,0 3,0 > "$work/outside_header.csv"
+err=$("$pleat" certify "$fold" --points "$work/outside_header.csv" --box -2,2 -q 2>&1 >/dev/null)
+[ $? = 2 ] || fail "a point outside the box after a header must be exit 2"
+expect_contains "$err" "outside_header.csv:4 (point 2): (3, 0) lies outside the domain" "line and point from 1"
+# A .npy file's point by numpy's index, and its count from 1.
+"$python" -c "import numpy,sys; numpy.save(sys.argv[1], numpy.array([[0.0, 0.0], [3.0, 0.0]]))" "$work/outside.npy"
+err=$("$pleat" certify "$fold" --points "$work/outside.npy" --box -2,2 -q 2>&1 >/dev/null)
+[ $? = 2 ] || fail "a .npy point outside the box must be exit 2"
+expect_contains "$err" "outside.npy[1] (point 2): (3, 0) lies outside the domain" ".npy point named"
+"$python" -c "import numpy,sys; numpy.save(sys.argv[1], numpy.array([[0.0, 0.0], [1.0, numpy.nan]]))" "$work/nan.npy"
+err=$("$pleat" certify "$fold" --points "$work/nan.npy" -q 2>&1 >/dev/null)
+[ $? = 2 ] || fail "a NaN in a .npy file must be exit 2"
+expect_contains "$err" "nan.npy[1, 1] (point 2, value 2): not a finite number" ".npy NaN named"
 # On the open box's boundary: said so (it was called "outside").
 printf '%s\n' 0,0 2,1/2 > "$work/boundary.csv"
 err=$("$pleat" certify "$fold" --points "$work/boundary.csv" --box -2,2 -q 2>&1 >/dev/null)
 [ $? = 2 ] || fail "a point on the box's boundary must be exit 2"
-expect_contains "$err" "boundary.csv:2 (point 1): (2, 1/2) lies on the boundary of the domain box:(-2,2)x(-2,2), not strictly inside it" \
+expect_contains "$err" "boundary.csv:2 (point 2): (2, 1/2) lies on the boundary of the domain box:(-2,2)x(-2,2), not strictly inside it" \
   "boundary point named"
 
 # walk --points-out: one point per region; certify --points touches them all.
@@ -128,7 +143,7 @@ expect_contains "$out" "neuron 2 is identically zero" "eval names the z neuron"
 printf '%s\n' -1,1 > "$work/nonsmooth.csv"
 err=$("$pleat" certify "$source_dir/tests/data/zero_neuron2d.json" --points "$work/nonsmooth.csv" -q 2>&1 >/dev/null)
 [ $? = 2 ] || fail "a non-smooth region's point must be exit 2"
-expect_contains "$err" "nonsmooth.csv:1 (point 0)" "non-smooth point named"
+expect_contains "$err" "nonsmooth.csv:1 (point 1)" "non-smooth point named"
 expect_contains "$err" "neuron 2" "non-smooth neuron named"
 
 echo "points: all checks passed"
