@@ -59,7 +59,7 @@ ActivationPattern parse_pattern(const Network& network, std::string_view text, b
       if (position == text.size()) fail_at(text, position, "ends after group " + std::to_string(k), network);
       if (text[position] != '|' && text[position] != '/')
         fail_at(text, position, "expected '|' or '/' after " + std::to_string(network.layers[k - 1].width()) +
-                                    " states, found '" + std::string(1, text[position]) + "'",
+                                    " states, found " + quoted_character(text.substr(position)),
                 network);
       ++position;
     }
@@ -84,8 +84,8 @@ ActivationPattern parse_pattern(const Network& network, std::string_view text, b
                   network);
         default:
           fail_at(text, position,
-                  std::string("expected '0', '1'") + (allow_point_zero ? ", 'z' or '='" : " or 'z'") + ", found '" +
-                      std::string(1, text[position]) + "'",
+                  std::string("expected '0', '1'") + (allow_point_zero ? ", 'z' or '='" : " or 'z'") + ", found " +
+                      quoted_character(text.substr(position)),
                   network);
       }
     }

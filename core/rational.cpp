@@ -6,6 +6,7 @@
 #include <mpfr.h>
 
 #include <cmath>
+#include <cstdio>
 #include <cstddef>
 #include <string>
 
@@ -42,8 +43,8 @@ long parse_exponent(std::string_view text, std::string_view whole) {
   long value = 0;
   for (; at < text.size(); ++at) {
     if (!is_digit(text[at]))
-      throw input_error("not a number \"" + std::string(whole) + "\": unexpected character '" +
-                        std::string(1, text[at]) + "' in the exponent");
+      throw input_error("not a number \"" + std::string(whole) + "\": unexpected character " +
+                        quoted_character(text.substr(at)) + " in the exponent");
     value = value * 10 + (text[at] - '0');
     if (value > max_decimal_exponent)
       throw input_error("not a number \"" + std::string(whole) +
@@ -64,6 +65,33 @@ Rational power_of_ten(long exponent) {
 std::string quoted(std::string_view text) { return "\"" + std::string(text) + "\""; }
 
 }  // namespace
+
+std::string quoted_character(std::string_view text) {
+  const auto byte = [&](std::size_t k) { return static_cast<unsigned char>(text[k]); };
+  const unsigned char lead = byte(0);
+  std::size_t length = 1;
+  char32_t code = lead;
+  if (lead >= 0xC2 && lead <= 0xDF) length = 2, code = lead & 0x1F;
+  else if (lead >= 0xE0 && lead <= 0xEF) length = 3, code = lead & 0x0F;
+  else if (lead >= 0xF0 && lead <= 0xF4) length = 4, code = lead & 0x07;
+  bool is_sequence = length > 1 && text.size() >= length;
+  for (std::size_t k = 1; is_sequence && k < length; ++k) {
+    is_sequence = (byte(k) & 0xC0) == 0x80;
+    code = (code << 6) | (byte(k) & 0x3F);
+  }
+  const char32_t least[] = {0, 0, 0x80, 0x800, 0x10000};
+  // Not overlong, not a surrogate, not beyond U+10FFFF.
+  is_sequence = is_sequence && code >= least[length] && code <= 0x10FFFF && !(code >= 0xD800 && code <= 0xDFFF);
+  std::string named = "'";
+  named.append(text.data(), is_sequence ? length : 1);
+  named += '\'';
+  if (is_sequence) {
+    char hex[16];
+    std::snprintf(hex, sizeof hex, " (U+%04X)", static_cast<unsigned>(code));
+    named += hex;
+  }
+  return named;
+}
 
 Rational parse_rational(std::string_view text) {
   if (text.empty()) throw input_error("not a number: empty text");
@@ -106,8 +134,7 @@ Rational parse_rational(std::string_view text) {
       rest = {};
     }
     if (!rest.empty())
-      throw input_error("not a number " + quoted(whole) + ": unexpected character '" +
-                        std::string(1, rest.front()) + "'");
+      throw input_error("not a number " + quoted(whole) + ": unexpected character " + quoted_character(rest));
     // Digits with the point removed, times 10^(exponent - fraction length).
     Integer mantissa = integer_from_digits(std::string(integer_digits) + std::string(fraction_digits));
     value = Rational(mantissa) * power_of_ten(exponent - static_cast<long>(fraction_digits.size()));

@@ -106,6 +106,11 @@ using DoubleVector = std::vector<double>;
 // callers prefix one). Exact: "0.1" is 1/10.
 Rational parse_rational(std::string_view text);
 
+// For messages: the character text starts with (precondition: not empty),
+// quoted: a whole UTF-8 sequence with its code point ("'€' (U+20AC)"), a
+// byte that starts no valid sequence alone ("'\xff'", escaped where printed).
+std::string quoted_character(std::string_view text);
+
 // "-3/8", "7": lowest terms, positive denominator. Exact.
 std::string format_rational(const Rational& value);
 

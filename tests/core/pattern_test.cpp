@@ -87,6 +87,9 @@ TEST(Pattern, FaultsNamePositionAndGroupSizes) {
   expect_fault(network, "", "character 1");
   expect_fault(network, " 101|01", "character 1: expected");
   expect_fault(network, "101|01 ", "character 7");
+  // A multibyte character is named whole (its first byte was, alone).
+  expect_fault(network, "10\u2080|01", "character 3: expected '0', '1' or 'z', found '\u2080' (U+2080)");
+  expect_fault(network, "101\u2502" "01", "character 4: expected '|' or '/' after 3 states, found '\u2502' (U+2502)");
 }
 
 TEST(Pattern, NoReluNeuronsMeansEmptyPattern) {

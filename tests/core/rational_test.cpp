@@ -73,6 +73,29 @@ TEST(ParseRational, ZeroDenominatorMessage) {
   }
 }
 
+// The unexpected character is named whole, with its code point (the message
+// named one byte of a multibyte character, '\xe2' for '€'); a byte that
+// starts no valid UTF-8 sequence is named alone.
+TEST(ParseRational, UnexpectedCharacterNamedWhole) {
+  const auto message = [](const std::string& text) {
+    try {
+      parse_rational(text);
+    } catch (const input_error& error) {
+      return std::string(error.what());
+    }
+    return std::string("accepted");
+  };
+  EXPECT_EQ(message("1\u20AC"), "not a number \"1\u20AC\": unexpected character '\u20AC' (U+20AC)");
+  EXPECT_EQ(message("1\u00A0"), "not a number \"1\u00A0\": unexpected character '\u00A0' (U+00A0)");
+  EXPECT_EQ(message("1e\u22122"), "not a number \"1e\u22122\": unexpected character '\u2212' (U+2212) in the exponent");
+  EXPECT_EQ(message("2\U0001F600"), "not a number \"2\U0001F600\": unexpected character '\U0001F600' (U+1F600)");
+  EXPECT_EQ(message("1x"), "not a number \"1x\": unexpected character 'x'");
+  EXPECT_EQ(message("1\xff"), "not a number \"1\xff\": unexpected character '\xff'");
+  EXPECT_EQ(message("1\xe2\x82"), "not a number \"1\xe2\x82\": unexpected character '\xe2'");  // cut short
+  EXPECT_EQ(message("1\xc0\xb1"), "not a number \"1\xc0\xb1\": unexpected character '\xc0'");  // overlong
+  EXPECT_EQ(message("1\xed\xa0\x80"), "not a number \"1\xed\xa0\x80\": unexpected character '\xed'");  // surrogate
+}
+
 TEST(ParseRational, HugeExponentsRejectedFast) {
   const auto start = std::chrono::steady_clock::now();
   EXPECT_THROW(parse_rational("1e999999"), input_error);
