@@ -398,10 +398,33 @@ def check_crossings(net, domain, index, region, pattern, cell, facet_groups, lis
                            f"at the facet point but is not in the list: the list is incomplete")
 
 
+def only_keys(doc, allowed, where):
+    """A key this checker does not know is refused, not skipped: a bundle could
+    claim something there (a larger domain, another value) that a reader of
+    CHECKED would take as checked."""
+    if not isinstance(doc, dict):
+        raise Rejected(f"{where}: expected an object")
+    unknown = sorted(set(doc) - set(allowed))
+    if unknown:
+        raise Rejected(f"{where}: unknown key{'s' if len(unknown) > 1 else ''} " +
+                       ", ".join(repr(k) for k in unknown) + " (not checked; pleat writes " +
+                       ", ".join(allowed) + ")")
+
+
+BUNDLE_KEYS = ("format", "network", "domain", "parametric_dimension", "functional_dimension", "every_region",
+               "lower_bound", "upper_bound", "regions")
+
+
 def check(bundle, reference=None):
     """reference: (path, Network) that the bundle's network must equal, or None."""
     if not isinstance(bundle, dict) or bundle.get("format") != "pleat-bundle/1":
         raise Rejected("not a pleat-bundle/1 document")
+    only_keys(bundle, BUNDLE_KEYS, "the bundle")
+    only_keys(bundle["lower_bound"], ("rows", "columns"), "lower_bound")
+    for n, row in enumerate(bundle["lower_bound"]["rows"]):
+        only_keys(row, ("region", "block_row", "values"), f"lower_bound.rows[{n}]")
+    only_keys(bundle["upper_bound"], ("method", "kernel") if bundle["upper_bound"].get("method") == "kernel"
+              else ("method",), "upper_bound")
     net = Network(bundle["network"])
     if reference is not None:
         difference = same_network(net, reference[1])

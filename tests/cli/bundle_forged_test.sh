@@ -6,7 +6,8 @@
 #    hidden layer as ReLU and printed CHECKED for a function the document does
 #    not describe), an unknown key in the network, a key written twice (json
 #    keeps the last value, a reader may take the first), a number spelled in
-#    a way pleat never writes, a box with fewer intervals than inputs.
+#    a way pleat never writes, a box with fewer intervals than inputs, a key
+#    the checker does not know at the top or in a bound.
 #  - An empty region list marked every_region (closed under crossings, it
 #    let any D vectors stand as the kernel: functional dimension 0).
 #  - --network NET.json: the bundle's network must be that file's (a bundle of
@@ -53,6 +54,11 @@ doc = load("fold"); D = doc["parametric_dimension"]
 doc.update(every_region=True, regions=[], functional_dimension=0, lower_bound={"rows": [], "columns": []},
            upper_bound={"method": "kernel", "kernel": [[str(int(i == j)) for j in range(D)] for i in range(D)]})
 save(doc, "empty_list")
+# A key the checker does not know (it was skipped, and CHECKED printed beside
+# whatever it claimed): at the top, in a bound, in a minor row.
+doc = load("fold"); doc["domain_of_validity"] = "R^2"; save(doc, "unknown_top")
+doc = load("fold"); doc["upper_bound"]["note"] = "holds on R^2"; save(doc, "unknown_upper")
+doc = load("fold"); doc["lower_bound"]["rows"][0]["regions"] = "all"; save(doc, "unknown_row")
 # The true fold2d bundle, its network one weight off: with --network only.
 doc = load("fold"); doc["network"]["layers"][2]["weights"][0][0] = "7"; save(doc, "other_weight")
 PY
@@ -73,6 +79,9 @@ expect_reject reversed_box 1 "^REJECTED .*the lower end 2 is not below the upper
 expect_reject arabic_digit 1 "^REJECTED .*not a number as pleat writes one"
 expect_reject empty_list 1 "^REJECTED .*every_region: the list is empty, but the domain holds at least one region"
 expect_reject twice 2 "cannot read (the key 'functional_dimension' is written twice in one object)"
+expect_reject unknown_top 1 "^REJECTED .*the bundle: unknown key 'domain_of_validity' (not checked; pleat writes format, network"
+expect_reject unknown_upper 1 "^REJECTED .*upper_bound: unknown key 'note' (not checked; pleat writes method"
+expect_reject unknown_row 1 "^REJECTED .*lower_bound.rows\[0\]: unknown key 'regions'"
 expect_reject other_weight 1 "^REJECTED .*the bundle's network is not the one in $fold: layers\[2\].weights\[0\]\[0\] is 7 in the bundle" --network "$fold"
 
 # A true proof of another network, handed over as fold2d's.
