@@ -1,5 +1,6 @@
 // pleat certify: the functional dimension, certified exactly; the batch
 // functional dimension at given points; a verdict on someone else's estimate.
+#include "cli/commands/certify_files.hpp"
 #include "cli/formats/batch_json.hpp"
 #include "cli/formats/bundle_json.hpp"
 #include "cli/command.hpp"
@@ -51,37 +52,10 @@ struct CertifyArguments {
   std::uint64_t claim_value = 0;
 };
 
-void write_matrix(const std::string& path, const RationalMatrix& matrix) {
-  std::ostringstream out;
-  for (std::size_t r = 0; r < matrix.rows(); ++r) {
-    for (std::size_t c = 0; c < matrix.cols(); ++c) out << (c ? "," : "") << format_rational(matrix(r, c));
-    out << "\n";
-  }
-  write_output(path, out.str());
-}
-
-// The kernel basis of a certified value; nothing for bounds (said on stderr):
-// an empty or partial file would read as a kernel that was never proved.
-// A file not written this run: says why, and when PATH holds an earlier
-// run's file, that the file there is that run's (this one did not overwrite it).
-void say_not_written(const std::string& what, const std::string& path, const std::string& why) {
-  std::cerr << "pleat: no " << what << " written to " << path << ": " << why << "\n";
-  if (std::filesystem::exists(path))
-    std::cerr << "pleat: " << path << " is an earlier run's " << what << ", not this run's (not overwritten)\n";
-}
-
-void write_kernel(const std::string& path, const FunctionalDimensionResult& result) {
-  if (!result.certified) {
-    say_not_written("kernel", path, "the functional dimension was not certified (bounds only)");
-    return;
-  }
-  write_matrix(path, result.kernel);
-}
-
 // --rows-out, --kernel-out and --witness-out of the network's certify run
 // (with --points too: the run beside the points' rank).
 void write_result_files(const CertifyArguments& arguments, const FunctionalDimensionResult& result) {
-  if (!arguments.rows_path.empty()) write_matrix(arguments.rows_path, result.rows);
+  if (!arguments.rows_path.empty()) write_rows(arguments.rows_path, result);
   if (!arguments.kernel_path.empty()) write_kernel(arguments.kernel_path, result);
   if (!arguments.witness_path.empty())
     write_output(arguments.witness_path,
@@ -572,7 +546,7 @@ void register_certify(CommandTable& commands) {
                    "the scaling bound");
   command.add_option("--rows-out", arguments->rows_path,
                      "Write the exact Jacobian rows of the contributing regions (one row per line; computed once the run "
-                     "has ended, after a --time-limit too)");
+                     "has ended, after a --time-limit too; a run not certified writes first a line '# partial: ...')");
   command.add_option("--kernel-out", arguments->kernel_path,
                      "Write a basis of the exact kernel of a certified value: the scaling directions, then the extra "
                      "ones checked on every region (one row per line; none written for bounds)");

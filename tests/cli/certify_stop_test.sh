@@ -5,6 +5,8 @@
 # an interrupt exits 130. The network has one input and two wide layers: its
 # walk is short (few regions) and its kernel large (thousands of flat
 # directions), so the limit falls in the phase after the walk.
+# --rows-out of a stopped run holds the rows found before the stop: its first
+# line says it is partial, and so does stderr (it read as a certified run's).
 set -u
 source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
@@ -16,7 +18,8 @@ net=$work/wide.json
 # phase is cut; on a loaded one the walk may be cut instead (then only the
 # timing and the bounds are asserted, as for any stopped run).
 start=$(now)
-"$pleat" certify "$net" --json -q --full-walk --time-limit 2 > "$work/limit.json"
+"$pleat" certify "$net" --json -q --full-walk --time-limit 2 --rows-out "$work/rows.csv" > "$work/limit.json" \
+  2> "$work/limit.err"
 status=$?
 elapsed=$("$python" -c "print($(now) - $start)")
 [ $status = 0 ] || fail "time-limited certify exited $status"
@@ -26,6 +29,12 @@ elapsed=$("$python" -c "print($(now) - $start)")
 [ "$(json_eval "$work/limit.json" 'd["walk_complete"]')" = True ] && after_walk=1 || after_walk=0
 [ "$(json_eval "$work/limit.json" 'd["lower_bound"] <= d["upper_bound"] <= d["scaling_bound"]')" = True ] ||
   fail "bounds out of order"
+lower=$(json_eval "$work/limit.json" 'd["lower_bound"]')
+contributing=$(json_eval "$work/limit.json" 'd["regions_contributing"]')
+partial="# partial: the run was not certified (stopped: time-limit); the exact rows of the $contributing regions that contributed before it ended, of rank $lower, the proved lower bound"
+[ "$(head -n 1 "$work/rows.csv")" = "$partial" ] || fail "--rows-out of a stopped run: $(head -c 300 "$work/rows.csv")"
+grep -qF "pleat: $work/rows.csv: ${partial#\# }" "$work/limit.err" || fail "stderr: $(cat "$work/limit.err")"
+[ "$(grep -c '^#' "$work/rows.csv")" = 1 ] || fail "one comment line only"
 
 # An interrupt 2 s in: exit 130 within seconds, bounds, not certified.
 start=$(now)

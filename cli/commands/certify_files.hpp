@@ -1,0 +1,29 @@
+// certify's matrix files, one exact row per line, comma-separated.
+#pragma once
+
+#include "core/matrix.hpp"
+#include "enumerate/functional_dimension.hpp"
+
+#include <string>
+
+namespace pleat::cli {
+
+// The matrix, after a first line "# COMMENT" when comment is not empty.
+void write_matrix(const std::string& path, const RationalMatrix& matrix, const std::string& comment = "");
+
+// A file not written this run: says why on stderr, and when PATH holds an
+// earlier run's file, that the file there is that run's (not overwritten).
+void say_not_written(const std::string& what, const std::string& path, const std::string& why);
+
+// --kernel-out: the kernel basis of a certified value; nothing for bounds
+// (said on stderr): a file would read as a kernel that was never proved.
+void write_kernel(const std::string& path, const FunctionalDimensionResult& result);
+
+// --rows-out: the exact rows of the regions that contributed. Of a run not
+// certified (stopped, or its bounds apart) they are those found before it
+// ended, of rank the proved lower bound: the file's first line says so (a
+// comment, "# partial: ..."), and so does stderr (the file read as a
+// complete run's).
+void write_rows(const std::string& path, const FunctionalDimensionResult& result);
+
+}  // namespace pleat::cli
