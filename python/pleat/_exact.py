@@ -3,6 +3,7 @@ reads (private to the package)."""
 
 from __future__ import annotations
 
+import collections.abc
 import json
 import math
 import numbers
@@ -114,6 +115,15 @@ def _count(value: Optional[int], what: str, minimum: int = 0, maximum: int = 2**
     if isinstance(value, bool) or not isinstance(value, numbers.Integral) or not minimum <= int(value) <= maximum:
         raise ValueError(f"{what}: expected an integer from {minimum} to {maximum}, got {value!r}")
     return int(value)
+
+
+def _arch(arch: Any) -> list[int]:
+    """Layer widths, input first. A string ("2,8,1", as `pleat random
+    --arch` takes it) was taken apart character by character ("arch[0]:
+    expected an integer ..., got '2'"), a number was "not iterable"."""
+    if isinstance(arch, (str, bytes)) or not isinstance(arch, collections.abc.Iterable):
+        raise ValueError(f"arch: expected a list of layer widths, input first, such as [2, 8, 8, 1], got {arch!r}")
+    return [_count(w, f"arch[{i}]", 1, 2**20) for i, w in enumerate(arch)]
 
 
 def _threads(value: int) -> int:

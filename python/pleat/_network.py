@@ -9,7 +9,7 @@ from fractions import Fraction
 from typing import Any, Optional, Sequence, Union
 
 from . import _core
-from ._exact import (DomainSpec, Number, _box_spec, _count, _domain_spec, _exact_matrix, _exact_vector, _limit,
+from ._exact import (DomainSpec, Number, _arch, _box_spec, _count, _domain_spec, _exact_matrix, _exact_vector, _limit,
                      _threads, _tolist)
 from ._results import (CertifyResult, Evaluation, Inspection, SampleResult, WalkResult, _Regions,
                        _certify_result, _record, _sample_result)
@@ -74,7 +74,7 @@ class Network:
         biases U(-1/sqrt(fan_in), 1/sqrt(fan_in)). Each parameter is rounded to
         `digits` (1 to 40) significant decimal digits and is that exact
         rational. Hidden layers are ReLU, the output layer linear."""
-        arch_list = [_count(w, f"arch[{i}]", 1, 2**20) for i, w in enumerate(arch)]
+        arch_list = _arch(arch)
         if init not in ("he", "uniform"):
             raise ValueError(f"init: expected he or uniform, got {init!r}")
         return Network(_core.Network.random(arch_list, _count(seed, "seed"), _count(sample, "sample"), init,

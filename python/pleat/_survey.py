@@ -10,7 +10,7 @@ from fractions import Fraction
 from typing import Any, Optional, Sequence, Union
 
 from . import _core
-from ._exact import _domain_spec, _limit, _count, _threads, DomainSpec
+from ._exact import _arch, _domain_spec, _limit, _count, _threads, DomainSpec
 
 
 # ---- Surveys -------------------------------------------------------------------------
@@ -97,7 +97,7 @@ def survey(arch: Sequence[int], samples: int, seed: int, *, init: str = "he", di
     i with i % N == K (as `pleat survey --task-index K --task-count N`);
     `pleat survey merge` joins the tasks' files. Ctrl-C keeps the finished
     samples (result.interrupted)."""
-    arch_list = [_count(w, f"arch[{i}]", 1, 2**20) for i, w in enumerate(arch)]
+    arch_list = _arch(arch)
     count = _count(task_count, "task_count", 1)
     index = _count(task_index, "task_index")
     if index >= count:

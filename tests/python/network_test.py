@@ -158,6 +158,10 @@ class RandomTest(unittest.TestCase):
     def test_bad_arguments_name_the_argument(self):
         for arguments, expected in (((([2], 1)), "arch: give the input width"),
                                     ((([2, 0, 1], 1)), "arch[1]: expected an integer from 1"),
+                                    # A string was taken apart character by character, a number "not iterable".
+                                    ((("2,3,1", 1)), "arch: expected a list of layer widths, input first, such as "
+                                                     "[2, 8, 8, 1], got '2,3,1'"),
+                                    (((5, 1)), "arch: expected a list of layer widths"),
                                     ((([2, 3, 1], -1)), "seed: expected an integer from 0"),
                                     ((([2, 3, 1], 1.5)), "seed: expected an integer")):
             with self.assertRaises(ValueError) as caught:

@@ -56,6 +56,9 @@ class SurveyTest(unittest.TestCase):
         self.assertEqual([d["sample"] for d in lines_without_seconds(mine)[1]], [1, 4, 7, 10])
         with self.assertRaisesRegex(ValueError, "task_index: expected 0 to 2"):
             pleat.survey(**ARGS, task_index=3, task_count=3)
+        # The CLI's spelling of arch, a string, was taken apart character by character.
+        with self.assertRaisesRegex(ValueError, "arch: expected a list of layer widths, input first"):
+            pleat.survey(**dict(ARGS, arch="2,4,3,1"))
 
     def test_each_resumes_the_other(self):
         path = os.path.join(self.work, "shared.jsonl")
