@@ -531,9 +531,11 @@ bool AnnihilationCheck::annihilates_here(const ActivationPattern& pattern, const
   if (live_bits) {
     live.resize(vector_count_);
     unsigned char any_live = 0;
-    const std::uint64_t* word = live_bits->bits.data() + index / 64;
-    for (std::size_t v = 0; v < vector_count_; ++v, word += live_bits->words) {
-      live[v] = static_cast<char>((*word >> (index % 64)) & 1);
+    // Indexed, not a pointer walked from bits.data(): with no vectors the
+    // bits are empty and data() may be null.
+    for (std::size_t v = 0; v < vector_count_; ++v) {
+      const std::uint64_t word = live_bits->bits[v * live_bits->words + index / 64];
+      live[v] = static_cast<char>((word >> (index % 64)) & 1);
       any_live |= static_cast<unsigned char>(live[v]);
     }
     if (!any_live) return true;
