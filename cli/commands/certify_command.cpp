@@ -54,8 +54,9 @@ struct CertifyArguments {
 
 // --rows-out, --kernel-out and --witness-out of the network's certify run
 // (with --points too: the run beside the points' rank).
-void write_result_files(const CertifyArguments& arguments, const FunctionalDimensionResult& result) {
-  if (!arguments.rows_path.empty()) write_rows(arguments.rows_path, result);
+void write_result_files(const CertifyArguments& arguments, const FunctionalDimensionResult& result,
+                        bool stopped_in_batch = false) {
+  if (!arguments.rows_path.empty()) write_rows(arguments.rows_path, result, stopped_in_batch);
   if (!arguments.kernel_path.empty()) write_kernel(arguments.kernel_path, result);
   if (!arguments.witness_path.empty())
     write_output(arguments.witness_path,
@@ -378,7 +379,7 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
   const FunctionalDimensionResult result = walk_stopped_by == StopReason::none
                                                ? certify_with_progress(walk_arguments, network, domain, false)
                                                : certify_result_not_started(network, walk_stopped_by);
-  write_result_files(arguments, result);
+  write_result_files(arguments, result, walk_stopped_by != StopReason::none);
   std::optional<ClaimVerdict> at_points, network_verdict;
   if (arguments.claim) {
     at_points = judge_claim_at_points(*arguments.claim, batch.batch.lower, batch.batch.upper);

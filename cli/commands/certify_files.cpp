@@ -35,14 +35,18 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
   write_matrix(path, result.kernel);
 }
 
-void write_rows(const std::string& path, const FunctionalDimensionResult& result) {
+void write_rows(const std::string& path, const FunctionalDimensionResult& result, bool stopped_in_batch) {
   if (result.certified) return write_matrix(path, result.rows);
   const std::string why = result.stop_reason == StopReason::none ? "its bounds do not meet"
                                                                   : "stopped: " + to_string(result.stop_reason);
-  const std::string partial = "partial: the run was not certified (" + why + "); the exact rows of the " +
-                              std::to_string(result.regions_contributing) +
-                              " regions that contributed before it ended, of rank " +
-                              std::to_string(result.lower_bound) + ", the proved lower bound";
+  const std::string partial =
+      stopped_in_batch
+          ? "partial: the run was not certified (" + why +
+                " in the --points batch stage, before the walk); no region was walked, so no rows: the batch's "
+                "proved bounds are in the output, not here"
+          : "partial: the run was not certified (" + why + "); the exact rows of the " +
+                std::to_string(result.regions_contributing) + " regions that contributed before it ended, of rank " +
+                std::to_string(result.lower_bound) + ", the proved lower bound";
   write_matrix(path, result.rows, partial);
   std::cerr << "pleat: " << path << ": " << partial << "\n";
 }

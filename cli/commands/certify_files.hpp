@@ -23,7 +23,8 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
 // certified (stopped, or its bounds apart) they are those found before it
 // ended, of rank the proved lower bound: the file's first line says so (a
 // comment, "# partial: ..."), and so does stderr (the file read as a
-// complete run's).
-void write_rows(const std::string& path, const FunctionalDimensionResult& result);
+// complete run's). stopped_in_batch: certify --points stopped in its batch
+// stage, before the walk; the line says that no region was walked instead.
+void write_rows(const std::string& path, const FunctionalDimensionResult& result, bool stopped_in_batch = false);
 
 }  // namespace pleat::cli

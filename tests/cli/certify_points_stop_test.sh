@@ -60,6 +60,16 @@ expect_contains "$out" "batch functional dimension between " "human output"
 expect_contains "$out" "(stopped: time-limit; proved bounds)" "human output"
 case "$out" in *"  certified"*) fail "human output claims certified: $out" ;; esac
 
+# --rows-out of a run stopped in the batch stage: no region was walked, and the
+# file's first line says so (it said "the exact rows of the 0 regions that
+# contributed before it ended, of rank 0, the proved lower bound", as if the
+# walk had run and found nothing), and so does stderr.
+within 15 "${run[@]}" --time-limit 0.3 --rows-out "$work/rows.csv" > /dev/null 2> "$work/rows.err" \
+  || fail "--rows-out under --time-limit exited $?"
+partial="# partial: the run was not certified (stopped: time-limit in the --points batch stage, before the walk); no region was walked, so no rows: the batch's proved bounds are in the output, not here"
+[ "$(cat "$work/rows.csv")" = "$partial" ] || fail "--rows-out stopped in the batch stage: $(head -c 300 "$work/rows.csv")"
+grep -qF "pleat: $work/rows.csv: ${partial#\# }" "$work/rows.err" || fail "stderr: $(cat "$work/rows.err")"
+
 # --claim against bounds: a value outside them is judged, one inside is consistent.
 out=$(within 15 "${run[@]}" --time-limit 0.3 --claim 1)
 [ $? -eq 1 ] || fail "--claim 1 under bounds: exit not 1: $out"
