@@ -18,4 +18,16 @@ namespace pleat::detail {
 // std::thread.
 std::thread start_worker_thread(std::function<void()> body, std::size_t index);
 
+// One look's wait in a spin loop that keeps the processor (x86's pause; a
+// few nanoseconds elsewhere). The walk's threads and certify's loop helpers
+// spin so, not yielding, for their first tens to hundreds of microseconds of
+// waiting: on a machine shared with other programs, a yield hands this core
+// to one of them for the rest of its time slice (a millisecond or more), while
+// the work waited for usually comes within microseconds.
+inline void relax_processor() {
+#if defined(__x86_64__) || defined(__i386__)
+  for (int i = 0; i < 16; ++i) __builtin_ia32_pause();
+#endif
+}
+
 }  // namespace pleat::detail

@@ -232,6 +232,62 @@ TEST(Walker, TinyBoxCentredOnManyHyperplanesFindsEverySector) {
   }
 }
 
+// The walk starts in the region of the first point tried that is off every
+// bent hyperplane (decided in integers first): its exact pattern there. With a
+// dead neuron (zero weights and bias) every point has a zero there, and the
+// start takes the exact maps' path, which marks that neuron 'z' (a pattern
+// with a zero at the point would not be a region). Fails if the integer path
+// returned another pattern than region_pattern_at, or kept the zero.
+TEST(Walker, StartPatternIsTheExactPatternOfTheFirstPointOffTheHyperplanes) {
+  for (std::uint64_t seed : {1u, 2u, 3u}) {
+    const Network network = random_network({2, 15, 15, 15, 1}, seed);  // biases nonzero: the origin is in a region
+    const std::optional<ActivationPattern> at_centre = region_pattern_at(network, {Rational(0), Rational(0)});
+    ASSERT_TRUE(at_centre.has_value());
+    EXPECT_EQ(walk_start_pattern(network, make_whole_space(2)), *at_centre) << seed;
+  }
+  Network dead;
+  dead.input_dim = 2;
+  dead.layers.push_back(make_layer({{Rational(1), Rational(0)},
+                                    {Rational(0), Rational(1)},
+                                    {Rational(1), Rational(-1)},
+                                    {Rational(1), Rational(1)},
+                                    {Rational(0), Rational(0)}},  // neuron 4: zero weights, zero bias
+                                   RationalVector(5, Rational(0)), Activation::relu));
+  dead.layers.push_back(make_layer({RationalVector(5, Rational(1))}, {Rational(0)}, Activation::linear));
+  const ActivationPattern start = walk_start_pattern(dead, make_whole_space(2));
+  ASSERT_EQ(start.states.size(), 5u);
+  EXPECT_EQ(start.states[4], NeuronState::zero_on_region);
+  for (std::size_t i = 0; i < 4; ++i) EXPECT_NE(start.states[i], NeuronState::zero_at_point) << i;
+  EXPECT_EQ(walk(dead, make_whole_space(2)).regions, 8u);
+}
+
+// A worker that processed no region (more threads than the walk ever had
+// regions to share) counts no queries: the counts are those of one thread.
+TEST(Walker, MoreThreadsThanRegionsCountTheSameQueries) {
+  Network one_neuron;
+  one_neuron.input_dim = 2;
+  one_neuron.layers.push_back(make_layer({{Rational(1), Rational(2)}}, {Rational(1)}, Activation::relu));
+  one_neuron.layers.push_back(make_layer({{Rational(1)}}, {Rational(0)}, Activation::linear));
+  for (bool in_pool : {false, true}) {
+    SCOPED_TRACE(in_pool);
+    std::vector<WalkSummary> summaries;
+    for (unsigned threads : {1u, 4u}) {
+      WalkOptions options;
+      options.threads = threads;
+      if (in_pool) {
+        options.on_region_in_pool = true;
+        options.on_region = [](const Region&) { return true; };
+      }
+      summaries.push_back(walk_regions(one_neuron, make_whole_space(2), options));
+    }
+    EXPECT_EQ(summaries[0].regions, 2u);
+    EXPECT_EQ(summaries[1].regions, 2u);
+    EXPECT_EQ(summaries[0].counts.lp_queries, summaries[1].counts.lp_queries);
+    EXPECT_EQ(summaries[0].counts.filter_settled, summaries[1].counts.filter_settled);
+    EXPECT_EQ(summaries[0].counts.exact_fallbacks, summaries[1].counts.exact_fallbacks);
+  }
+}
+
 // An interrupt that is already set is seen inside the first region's exact
 // work (the start point search polls it): no region is reported.
 TEST(Walker, InterruptSetBeforeTheWalkStopsBeforeTheFirstRegion) {
