@@ -38,30 +38,22 @@ LiveTerms::LiveTerms(const Network& network, const std::vector<ActivationPattern
   }
   // together (words of layer k's neuron i from first_word[k]): the inputs of
   // layer k (bits) on in some pattern where neuron i is on; own: i on in
-  // some pattern. From each neuron's patterns as bits (one pass over the
-  // patterns), then a word AND per pair of neurons and 64 patterns: on
-  // 2,15,15,15,15,1 (1215 regions) a fifth of a pass that combined every
-  // neuron's inputs pattern by pattern.
+  // some pattern. From each neuron's patterns as bits (neuron_on_bits), then
+  // a word AND per pair of neurons and 64 patterns: on 2,15,15,15,15,1 (1215
+  // regions) a fifth of a pass that combined every neuron's inputs pattern
+  // by pattern.
   std::vector<std::uint64_t>& together = together_;
   std::vector<char>& own = own_;
   together.assign(first_word[depth], 0);
   own.assign(first_neuron[depth], 0);
-  const std::size_t count = patterns.size(), words = (count + 63) / 64;
   std::size_t relu_neurons = 0;
   for (std::size_t k = 0; k < depth; ++k) relu_neurons += has_relu[k] ? widths[k] : 0;
-  std::vector<std::uint64_t> on(relu_neurons * words, 0);  // neuron n's patterns from n words
-  for (std::size_t p = 0; p < count; ++p) {
-    if (p % 64 == 0) poll_stop();
-    const NeuronState* states = patterns[p].states.data();
-    std::uint64_t* word = on.data() + p / 64;
-    for (std::size_t n = 0; n < relu_neurons; ++n)  // no branch on the states
-      word[n * words] |= static_cast<std::uint64_t>(states[n] == NeuronState::on) << (p % 64);
-  }
-  std::vector<std::uint64_t> every(words, ~std::uint64_t{0});  // every pattern (a neuron without ReLU)
-  if (count % 64 != 0) every.back() = (std::uint64_t{1} << (count % 64)) - 1;
-  if (count == 0) every.clear();
+  on_ = neuron_on_bits(relu_neurons, patterns);
+  const NeuronOnBits& on = on_;
+  const std::size_t words = on.words;
+  const std::uint64_t* every = on.of(relu_neurons);  // every pattern (a neuron without ReLU)
   auto patterns_of = [&](std::size_t k, std::size_t i) {
-    return has_relu[k] ? on.data() + (first_neuron[k] + i) * words : every.data();
+    return has_relu[k] ? on.of(first_neuron[k] + i) : every;
   };
   auto meet = [&](const std::uint64_t* a, const std::uint64_t* b) {
     for (std::size_t w = 0; w < words; ++w)
@@ -72,7 +64,7 @@ LiveTerms::LiveTerms(const Network& network, const std::vector<ActivationPattern
     const std::size_t fan_in = fan_ins[k], row_words = (fan_in + 63) / 64;
     for (std::size_t i = 0; i < widths[k]; ++i) {
       const std::uint64_t* mine = patterns_of(k, i);
-      own[first_neuron[k] + i] = static_cast<char>(meet(mine, every.data()));
+      own[first_neuron[k] + i] = static_cast<char>(meet(mine, every));
       if (!own[first_neuron[k] + i]) continue;
       std::uint64_t* word = together.data() + first_word[k] + i * row_words;
       for (std::size_t j = 0; j < fan_in; ++j)
@@ -109,27 +101,40 @@ std::vector<char> live_on_some_pattern(const Network& network, const SparseRatio
   return LiveTerms(network, patterns).of(vectors);
 }
 
-AnnihilationCheck::LiveBits AnnihilationCheck::live_bits(const std::vector<ActivationPattern>& patterns) const {
-  LiveBits out;
-  const std::size_t count = patterns.size(), neurons = neuron_layer_.size();
+NeuronOnBits neuron_on_bits(std::size_t neurons, const std::vector<ActivationPattern>& patterns) {
+  NeuronOnBits out;
+  const std::size_t count = patterns.size();
+  out.neurons = neurons;
   out.words = (count + 63) / 64;
   const std::size_t words = out.words;
-  // Each neuron's patterns (bits), then always_on (every pattern).
-  std::vector<std::uint64_t> on((neurons + 1) * words, 0);
+  out.bits.assign((neurons + 1) * words, 0);
   for (std::size_t p = 0; p < count; ++p) {
     if (p % 64 == 0) poll_stop();
     const NeuronState* states = patterns[p].states.data();
-    std::uint64_t* word = on.data() + p / 64;
+    std::uint64_t* word = out.bits.data() + p / 64;
     for (std::size_t n = 0; n < neurons; ++n)  // no branch on the states
       word[n * words] |= static_cast<std::uint64_t>(states[n] == NeuronState::on) << (p % 64);
     word[neurons * words] |= std::uint64_t{1} << (p % 64);
   }
+  return out;
+}
+
+AnnihilationCheck::LiveBits AnnihilationCheck::live_bits(const std::vector<ActivationPattern>& patterns,
+                                                         const NeuronOnBits* given) const {
+  LiveBits out;
+  const std::size_t neurons = neuron_layer_.size();
+  // Each neuron's patterns (bits), then always_on (every pattern): given, or built here.
+  const bool fits = given && given->neurons == neurons && given->words == (patterns.size() + 63) / 64;
+  const NeuronOnBits built = fits ? NeuronOnBits() : neuron_on_bits(neurons, patterns);
+  const NeuronOnBits& on = fits ? *given : built;
+  out.words = on.words;
+  const std::size_t words = out.words;
   out.bits.assign(vector_count_ * words, 0);
   for (std::size_t v = 0; v < vector_count_; ++v) {
     std::uint64_t* live = out.bits.data() + v * words;
     for (std::size_t t = first_term_[v]; t < first_term_[v + 1]; ++t) {
-      const std::uint64_t* own = on.data() + term_neurons_[t].own * words;
-      const std::uint64_t* input = on.data() + term_neurons_[t].input * words;
+      const std::uint64_t* own = on.of(term_neurons_[t].own);
+      const std::uint64_t* input = on.of(term_neurons_[t].input);
       for (std::size_t w = 0; w < words; ++w) live[w] |= own[w] & input[w];
     }
   }
@@ -148,10 +153,10 @@ std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check
                                                   const std::vector<ActivationPattern>& patterns, unsigned threads,
                                                   const StopRequest& stop, bool& stopped,
                                                   const std::function<void(std::size_t, std::size_t)>& progress,
-                                                  const std::vector<std::size_t>* sorted) {
+                                                  const std::vector<std::size_t>* sorted, const NeuronOnBits* on) {
   const std::vector<std::size_t> sorted_here = sorted ? std::vector<std::size_t>() : lexicographic_order(patterns);
   const std::vector<std::size_t>& order = sorted ? *sorted : sorted_here;
-  const AnnihilationCheck::LiveBits live = check.live_bits(patterns);
+  const AnnihilationCheck::LiveBits live = check.live_bits(patterns, on);
   constexpr std::size_t run = 16;  // consecutive patterns per thread
   std::atomic<std::size_t> next{0}, done{0};
   std::atomic<std::size_t> first_rejected{patterns.size()};

@@ -104,6 +104,15 @@ std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     if (!always_active) always_active.emplace(network, smooth);
     return *always_active;
   };
+  // The live terms' bitsets, once: built beside the read-off (ready), or
+  // here at the first check; their neurons' bits serve the check's live
+  // vectors too (neuron_on_bits).
+  std::optional<LiveTerms> own_live_terms;
+  auto live_terms = [&]() -> const LiveTerms& {
+    if (ready && ready->live_terms) return *ready->live_terms;
+    if (!own_live_terms) own_live_terms.emplace(network, smooth);
+    return *own_live_terms;
+  };
   auto is_proved = [&](const SparseRationalRows& candidate) {
     if (prove_elsewhere) return prove_elsewhere(candidate.dense(), stopped) && !stopped;
     // Rows proved from neurons on in every region, given the others: only
@@ -112,14 +121,15 @@ std::optional<SparseRationalRows> lift_and_prove_extra_directions(
     const std::vector<char> spared = heavy.empty() ? std::vector<char>(candidate.rows.size(), 0)
                                                    : rows_proved_by_always_active(generators(), candidate, heavy);
     // Rows with no term on any region: 0 on every region's rows term by term.
-    const std::vector<char> live = ready && ready->live_terms ? ready->live_terms->of(candidate)
-                                                              : live_on_some_pattern(network, candidate, smooth);
+    const std::vector<char> live = live_terms().of(candidate);
     SparseRationalRows checked{candidate.cols, {}};
     for (std::size_t r = 0; r < candidate.rows.size(); ++r)
       if (!spared[r] && live[r]) checked.rows.push_back(candidate.rows[r]);
     const AnnihilationCheck check(network, checked, check_scale, threads);
     const std::vector<std::size_t>* order = ready && ready->check_order ? &*ready->check_order : nullptr;
-    return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress, order) && !stopped;
+    return !first_rejected_pattern(check, smooth, threads, stop, stopped, check_progress, order,
+                                   &live_terms().on_bits()) &&
+           !stopped;
   };
   const std::vector<std::size_t> leading = first_image.leading_columns();
   // Small rows from the walk's prime alone (most extra directions of a

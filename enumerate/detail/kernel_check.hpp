@@ -102,6 +102,20 @@ struct CheckScale {
 
 class IntegerCheck;  // integer_check.hpp
 
+// Each ReLU neuron's smooth patterns as bits: bit p of words [n words,
+// (n + 1) words) is set when neuron n is on in patterns[p]; then one more
+// row, at index `neurons`, with every pattern's bit set (a neuron without
+// ReLU, the network's input, a bias: always on). Built once per proof and
+// read by both LiveTerms and AnnihilationCheck::live_bits.
+struct NeuronOnBits {
+  std::size_t neurons = 0, words = 0;
+  std::vector<std::uint64_t> bits;
+  const std::uint64_t* of(std::size_t n) const { return bits.data() + n * words; }
+};
+// Polls the current thread's stop request every 64 patterns. `neurons`:
+// the patterns' ReLU neuron count (their states' size).
+NeuronOnBits neuron_on_bits(std::size_t neurons, const std::vector<ActivationPattern>& patterns);
+
 // How the check takes the products: `fastest` in fixed-width integers when
 // every scaled bound B_c is below 2^127 (integer_check.hpp: one pass per
 // region), else modulo primes; `primes` modulo primes always. Both exact.
@@ -144,11 +158,13 @@ class AnnihilationCheck {
   // pattern at once: bit p of words [v words, (v + 1) words) for vector v
   // and patterns[p]. From each neuron's patterns as bits: a word AND per
   // term and 64 patterns, where live_vectors reads every term per pattern.
+  // `on`: neuron_on_bits(patterns) when built already (LiveTerms::on_bits).
   struct LiveBits {
     std::size_t words = 0;
     std::vector<std::uint64_t> bits;
   };
-  [[nodiscard]] LiveBits live_bits(const std::vector<ActivationPattern>& patterns) const;
+  [[nodiscard]] LiveBits live_bits(const std::vector<ActivationPattern>& patterns,
+                                   const NeuronOnBits* on = nullptr) const;
   // annihilates for patterns[index] of the patterns `live` was made from.
   [[nodiscard]] bool annihilates(const ActivationPattern& pattern, const LiveBits& live, std::size_t index) const;
 
@@ -272,9 +288,12 @@ class LiveTerms {
  public:
   LiveTerms(const Network& network, const std::vector<ActivationPattern>& patterns);
   std::vector<char> of(const SparseRationalRows& vectors) const;
+  // The patterns' neuron bits it was built from (for the check's live_bits).
+  const NeuronOnBits& on_bits() const { return on_; }
 
  private:
   const Network* network_;
+  NeuronOnBits on_;
   std::vector<std::size_t> first_, first_neuron_, first_word_;  // per layer: parameter column, neuron, word
   std::vector<std::uint64_t> together_;
   std::vector<char> own_;
@@ -291,12 +310,14 @@ std::vector<std::size_t> lexicographic_order(const std::vector<ActivationPattern
 // inputs. Sets stopped (and returns nullopt) when the stop request fires;
 // progress(done, total) is called from the calling thread, about 64 times
 // (at most every 16 patterns, and at the last). sorted:
-// lexicographic_order(patterns) when computed already.
+// lexicographic_order(patterns) when computed already; on:
+// neuron_on_bits(patterns) when built already (LiveTerms::on_bits).
 [[nodiscard]]
 std::optional<std::size_t> first_rejected_pattern(const AnnihilationCheck& check,
                                                   const std::vector<ActivationPattern>& patterns, unsigned threads,
                                                   const StopRequest& stop, bool& stopped,
                                                   const std::function<void(std::size_t, std::size_t)>& progress,
-                                                  const std::vector<std::size_t>* sorted = nullptr);
+                                                  const std::vector<std::size_t>* sorted = nullptr,
+                                                  const NeuronOnBits* on = nullptr);
 
 }  // namespace pleat::detail

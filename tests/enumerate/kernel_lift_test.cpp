@@ -893,7 +893,8 @@ TEST(KernelCheck, OneInputVectorsPassedOnARegionAreCheckedAgainWhereTheirSignals
 // (AnnihilationCheck::live_bits, what first_rejected_pattern reads): one
 // parameter's unit vector, and pairs, checked with the bits at each pattern
 // must answer as the exact products do (a bit wrongly 0 passes a pattern
-// where the column is not 0), and as the check without the bits.
+// where the column is not 0), and as the check without the bits; the same
+// with the neurons' bits LiveTerms built (neuron_on_bits, shared by both).
 TEST(KernelCheck, LiveBitsAnswerEachPatternAsTheExactProducts) {
   std::size_t rejected = 0;
   for (const Network& network : {random_network({2, 4, 3, 3, 1}, 31),
@@ -903,6 +904,7 @@ TEST(KernelCheck, LiveBitsAnswerEachPatternAsTheExactProducts) {
     std::vector<RationalMatrix> blocks;
     for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
     const detail::CheckScale scale(network);
+    const detail::LiveTerms live_terms(network, state.smooth);
     const std::size_t columns = network.parametric_dimension();
     for (std::size_t c = 0; c < columns; ++c)
       for (const std::size_t other : {c, (c + 7) % columns}) {
@@ -913,9 +915,12 @@ TEST(KernelCheck, LiveBitsAnswerEachPatternAsTheExactProducts) {
           const detail::AnnihilationCheck with_bits(network, vector, scale, 1, arithmetic),
               without(network, vector, scale, 1, arithmetic);
           const detail::AnnihilationCheck::LiveBits live = with_bits.live_bits(state.smooth);
+          const detail::AnnihilationCheck::LiveBits shared = with_bits.live_bits(state.smooth, &live_terms.on_bits());
+          EXPECT_EQ(shared.bits, live.bits) << "column " << c;
           for (std::size_t p = 0; p < state.smooth.size(); ++p) {
             const bool expected = annihilates_exactly(blocks[p], vector);
             EXPECT_EQ(with_bits.annihilates(state.smooth[p], live, p), expected) << "column " << c << " pattern " << p;
+            EXPECT_EQ(with_bits.annihilates(state.smooth[p], shared, p), expected) << "column " << c << " pattern " << p;
             EXPECT_EQ(without.annihilates(state.smooth[p]), expected) << "column " << c << " pattern " << p;
             rejected += expected ? 0 : 1;
           }
