@@ -11,6 +11,7 @@
 
 #include <algorithm>
 #include <cstdint>
+#include <cstdlib>
 #include <memory>
 #include <optional>
 #include <vector>
@@ -51,11 +52,14 @@ class WordMatrix {
     fmpz_clear(magnitude);
   }
 
-  // out = row i of A times x (x's entries words), exactly.
-  void row_times(std::size_t i, const std::uint64_t* x, fmpz_t out, fmpz_t scratch) const {
-    sum(first_[2 * i], first_[2 * i + 1], x, out);
-    sum(first_[2 * i + 1], first_[2 * i + 2], x, scratch);
-    fmpz_sub(out, out, scratch);
+  // t -= row i of A times x (x's entries words), modulo 2^(64 size): t is
+  // `size` words, least significant first (two's complement).
+  void subtract_row_times(std::size_t i, const std::uint64_t* x, std::uint64_t* t, std::size_t size) const {
+    std::vector<std::uint64_t>& total = scratch_words();
+    sum_words(first_[2 * i], first_[2 * i + 1], x, total);
+    add_words(t, size, total, true);
+    sum_words(first_[2 * i + 1], first_[2 * i + 2], x, total);
+    add_words(t, size, total, false);
   }
 
  private:
@@ -65,9 +69,26 @@ class WordMatrix {
     return l < static_cast<std::size_t>(big->_mp_size) ? big->_mp_d[l] : 0;
   }
 
-  // The entries [begin, end) (magnitudes) times x at their columns.
-  void sum(std::size_t begin, std::size_t end, const std::uint64_t* x, fmpz_t out) const {
-    std::vector<std::uint64_t>& total = scratch_words();
+  // t += total (or t -= total) modulo 2^(64 size).
+  static void add_words(std::uint64_t* t, std::size_t size, const std::vector<std::uint64_t>& total, bool subtract) {
+    std::uint64_t carry = 0;
+    for (std::size_t w = 0; w < size; ++w) {
+      const std::uint64_t v = w < total.size() ? total[w] : 0;
+      if (subtract) {
+        const Wide d = static_cast<Wide>(t[w]) - v - carry;
+        t[w] = static_cast<std::uint64_t>(d);
+        carry = static_cast<std::uint64_t>(d >> 64) != 0 ? 1 : 0;
+      } else {
+        const Wide d = static_cast<Wide>(t[w]) + v + carry;
+        t[w] = static_cast<std::uint64_t>(d);
+        carry = static_cast<std::uint64_t>(d >> 64);
+      }
+    }
+  }
+
+  // The entries [begin, end) (magnitudes) times x at their columns, as
+  // limbs_ + 3 words.
+  void sum_words(std::size_t begin, std::size_t end, const std::uint64_t* x, std::vector<std::uint64_t>& total) const {
     total.assign(limbs_ + 3, 0);
     for (std::size_t l = 0; l < limbs_; ++l) {
       WideSum part;
@@ -82,7 +103,6 @@ class WordMatrix {
         carry = static_cast<std::uint64_t>(added >> 64);
       }
     }
-    fmpz_set_ui_array(out, total.data(), static_cast<slong>(total.size()));
   }
 
   static std::vector<std::uint64_t>& scratch_words() {
@@ -185,7 +205,8 @@ class SecondPrimeCheck {
 // One column's lifting: its residual, X modulo p^k so far, and where to
 // read it off next.
 struct ColumnLift {
-  std::vector<Integer> residual;  // (b - A x_k) / p^k
+  // (b - A x_k) / p^k: `size` words per entry (ResidualWords), two's complement
+  std::vector<std::uint64_t> residual;
   std::vector<Integer> value;     // x_k: X modulo p^k, in [0, p^k)
   // The denominator the next read-off starts from: the last candidate's
   // (which failed modulo the second prime), else the last column accepted
@@ -275,6 +296,70 @@ bool read_off(const std::vector<Integer>& value, const Integer& modulus, const I
   return is_read;
 }
 
+// The residuals (b - A x_k) / p^k in fixed-width words: |r_k| <= M =
+// max(|b|, 2 n max|A|) for every k (|r_(k+1)| <= |r_k| / p + n max|A|).
+// Each step works modulo 2^(64 size), size the words of M and a sign:
+// r_k - A d_k in word products (it may exceed 2^(64 size): only its residue
+// is needed), then one Hensel division, t p^-1 modulo 2^(64 size), which is
+// the exact quotient r_(k+1) since p divides t and |r_(k+1)| <= M <
+// 2^(64 size - 1). No multi-precision call.
+struct ResidualWords {
+  std::size_t size;
+  std::uint64_t prime, inverse;  // p^-1 modulo 2^64
+  std::uint64_t wrap;            // 2^(64 size) modulo p
+  ResidualWords(std::size_t a_bits, std::size_t b_bits, std::size_t n, std::uint64_t p) : prime(p) {
+    std::size_t n_bits = 0;
+    while ((std::size_t{1} << n_bits) <= n) ++n_bits;
+    const std::size_t bound_bits = std::max(b_bits, a_bits + n_bits + 1) + 1;  // M and a sign
+    size = (bound_bits + 63) / 64;
+    inverse = p;  // Newton's iteration modulo 2^64: 3, 6, 12, 24, 48, 96 bits
+    for (int i = 0; i < 5; ++i) inverse *= 2 - p * inverse;
+    Wide power = 1;
+    for (std::size_t w = 0; w < size; ++w) power = (power << 64) % p;
+    wrap = static_cast<std::uint64_t>(power);
+  }
+  void set(std::uint64_t* r, const fmpz_t value) const {
+    std::fill(r, r + size, std::uint64_t{0});
+    const bool negative = fmpz_sgn(value) < 0;
+    if (!COEFF_IS_MPZ(*value)) {
+      const slong small = *value;
+      r[0] = negative ? static_cast<std::uint64_t>(-small) : static_cast<std::uint64_t>(small);
+    } else {
+      const __mpz_struct* big = COEFF_TO_PTR(*value);
+      const auto limbs = static_cast<std::size_t>(big->_mp_size < 0 ? -big->_mp_size : big->_mp_size);
+      for (std::size_t l = 0; l < limbs && l < size; ++l) r[l] = big->_mp_d[l];
+    }
+    if (negative) negate(r);
+  }
+  void negate(std::uint64_t* r) const {
+    std::uint64_t carry = 1;
+    for (std::size_t w = 0; w < size; ++w) {
+      r[w] = ~r[w] + carry;
+      carry = carry != 0 && r[w] == 0 ? 1 : 0;
+    }
+  }
+  // r / p, exactly (p divides r).
+  void divide_exactly(std::uint64_t* r) const {
+    std::uint64_t borrow = 0;
+    for (std::size_t w = 0; w < size; ++w) {
+      const std::uint64_t s = r[w] - borrow;
+      const std::uint64_t below = r[w] < borrow ? 1 : 0;
+      const std::uint64_t q = s * inverse;
+      r[w] = q;
+      borrow = static_cast<std::uint64_t>((static_cast<Wide>(q) * prime) >> 64) + below;
+    }
+  }
+  // r modulo p, in [0, p): its words read as the unsigned U, less 2^(64
+  // size) when negative.
+  std::uint64_t residue(const std::uint64_t* r) const {
+    Wide acc = 0;
+    for (std::size_t w = size; w-- > 0;) acc = ((acc << 64) | r[w]) % prime;
+    const auto value = static_cast<std::uint64_t>(acc);
+    if ((r[size - 1] >> 63) == 0) return value;
+    return value >= wrap ? value - wrap : value + (prime - wrap);
+  }
+};
+
 }  // namespace
 
 // What the lifting keeps of A between right-hand sides. For A the
@@ -345,13 +430,16 @@ std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b, std::
     fmpz_clear(denominator_bound);
     fmpz_clear(numerator_bound);
   }
+  const ResidualWords residual_words(static_cast<std::size_t>(std::abs(fmpz_mat_max_bits(a))),
+                                     static_cast<std::size_t>(std::abs(fmpz_mat_max_bits(b))), n, prime);
+  const std::size_t size = residual_words.size;
   std::vector<ColumnLift> columns(m);
   for (std::size_t c = 0; c < m; ++c) {
-    columns[c].residual.resize(n);
+    columns[c].residual.resize(n * size);
     columns[c].value.assign(n, Integer(0));
     for (std::size_t i = 0; i < n; ++i)
-      fmpz_get_mpz(columns[c].residual[i].get_mpz_t(),
-                   fmpz_mat_entry(b, static_cast<slong>(i), static_cast<slong>(c)));
+      residual_words.set(columns[c].residual.data() + i * size,
+                         fmpz_mat_entry(b, static_cast<slong>(i), static_cast<slong>(c)));
   }
   Integer power = 1;  // p^k
   // The open columns (increasing) and their right-hand sides and digits
@@ -362,8 +450,6 @@ std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b, std::
   std::vector<std::uint64_t> digit(n);
   std::vector<Integer> numerators;
   Integer denominator;
-  FmpzValue product, scratch;  // cleared also when poll_stop throws
-  Integer product_value;
   std::size_t open = m, digits_so_far = 0;
   for (std::size_t extra = 0; open > 0 && extra < 2;) {
     poll_stop();
@@ -385,7 +471,7 @@ std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b, std::
       const auto row = is_transposed ? i : static_cast<std::size_t>(lu->order[i]);
       for (std::size_t o = 0; o < open; ++o)
         nmod_mat_entry(right->get(), static_cast<slong>(i), static_cast<slong>(o)) =
-            mpz_fdiv_ui(columns[lifted[o]].residual[row].get_mpz_t(), prime);
+            residual_words.residue(columns[lifted[o]].residual.data() + row * size);
     }
     nmod_mat_solve_tril(digits->get(), triangles, right->get(), 1);
     for (std::size_t i = 0; i < n; ++i)  // U x = y is U' x = D^-1 y
@@ -402,10 +488,9 @@ std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b, std::
       for (std::size_t i = 0; i < n; ++i) mpz_addmul_ui(column.value[i].get_mpz_t(), power.get_mpz_t(), digit[i]);
       // residual = (residual - A digit) / p, exactly.
       for (std::size_t i = 0; i < n; ++i) {
-        words.row_times(i, digit.data(), product.get(), scratch.get());
-        fmpz_get_mpz(product_value.get_mpz_t(), product.get());
-        column.residual[i] -= product_value;
-        mpz_divexact_ui(column.residual[i].get_mpz_t(), column.residual[i].get_mpz_t(), prime);
+        std::uint64_t* r = column.residual.data() + i * size;
+        words.subtract_row_times(i, digit.data(), r, size);
+        residual_words.divide_exactly(r);
       }
     }
     power *= static_cast<unsigned long>(prime);
