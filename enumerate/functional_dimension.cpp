@@ -10,6 +10,7 @@
 #include "enumerate/detail/kernel_lift.hpp"
 #include "enumerate/detail/parallel_for.hpp"
 #include "enumerate/detail/proof_start.hpp"
+#include "enumerate/detail/ray_reach.hpp"
 #include "enumerate/detail/reach_forecast.hpp"
 #include "enumerate/detail/row_backlog.hpp"
 #include "enumerate/interior_points.hpp"
@@ -104,22 +105,6 @@ RationalVector rational_from_vector(const DoubleVector& values) {
   RationalVector out(values.size());
   for (std::size_t i = 0; i < values.size(); ++i) out[i] = rational_from_double(values[i]);
   return out;
-}
-
-// The largest t keeping base + t direction inside the domain's sides, a
-// little short of the boundary (double: it only bounds where a sweep
-// proposes points); +infinity when the ray never leaves.
-double ray_reach(const Domain& domain, const DoubleVector& base, const DoubleVector& direction) {
-  double reach = std::numeric_limits<double>::infinity();
-  for (const auto& side : domain.constraints) {
-    double at_base = to_double(side.offset), slope = 0;
-    for (std::size_t i = 0; i < base.size(); ++i) {
-      at_base += to_double(side.normal[i]) * base[i];
-      slope += to_double(side.normal[i]) * direction[i];
-    }
-    if (slope < 0) reach = std::min(reach, at_base / -slope);
-  }
-  return reach * (1 - 1e-9);
 }
 
 }  // namespace
@@ -375,7 +360,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       std::vector<std::vector<SweptPoint>> swept(rays.size());
       parallel_for(rays.size(), threads, [&](std::size_t r) {
         const auto& [base, direction] = rays[r];
-        swept[r] = sweep_line(double_network, base, direction, ray_reach(domain, base, direction), points_per_line);
+        swept[r] = sweep_line(double_network, base, direction, detail::ray_reach(domain, base, direction), points_per_line);
       });
       std::vector<RationalVector> points;
       for (auto& ray : swept)
