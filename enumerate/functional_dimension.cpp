@@ -285,8 +285,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // On a plane, when the first batch cannot reach the bound alone (the
     // second is drawn then in any case), both are drawn before any row is
     // eliminated; when even every row of their new regions, and a rest
-    // decaying at their ratio, falls short, the walk runs at once
-    // (detail::candidate_rows_fall_short). Otherwise they go in as drawn.
+    // decaying at their ratio, falls short (detail::candidate_rows_fall_short),
+    // or finishing on points is dearer than the walk they would spare
+    // (detail::PlanarPointsCost, also after each batch), the walk runs at once.
     std::deque<Batch> held;
     if (domain.dim <= 2 && options.give_up_early) {
       std::set<ActivationPattern> found;
@@ -301,14 +302,17 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       const std::size_t first = new_rows(held[0]);
       if (basis.rank() + first < result.scaling_bound) {
         held.push_back(draw(&held[0]));
-        if (detail::candidate_rows_fall_short(basis.rank(), first, new_rows(held[1]), result.scaling_bound,
-                                              domain.dim)) {
+        const std::size_t rows = first + new_rows(held[1]);  // the most the rank can rise
+        if (detail::candidate_rows_fall_short(basis.rank(), first, rows - first, result.scaling_bound, domain.dim) ||
+            (domain.dim == 2 && detail::planar_points_dearer_at_start(basis.rank(), rows, result.scaling_bound,
+                                                                      parameters, 2 * batch, found.size()))) {
           points_far_below = true;
           result.points_drawn = drawn;  // drawn and decided; none of their rows kept
           return;
         }
       }
     }
+    detail::PlanarPointsCost cost(result.scaling_bound, parameters, batch);  // on a plane
     while (basis.rank() < result.scaling_bound && since_rise < patience && result.points_drawn < budget) {
       if (stop.is_requested()) return;
       Batch b = held.empty() ? draw() : std::move(held.front());
@@ -323,6 +327,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
         points_far_below = forecast.decayed();
         return;
       }
+      if (domain.dim == 2 && options.give_up_early &&
+          cost.dearer_than_walk(result.points_drawn, basis.rank(), seen_by_points.size(), since_rise))
+        return;
     }
   };
 
@@ -443,7 +450,9 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     const double points_started = stop.elapsed_seconds();
     try {
       rows_from_points();
-      if (options.sweep_lines && !points_far_below && basis.rank() < result.scaling_bound && !stop.is_requested())
+      if (options.sweep_lines && !points_far_below && basis.rank() < result.scaling_bound && !stop.is_requested() &&
+          (domain.dim != 2 || !options.give_up_early ||
+           detail::planar_lines_may_pay(result.points_drawn, seen_by_points.size())))
         rows_from_lines();
     } catch (const Stopped&) {
       // bounds below

@@ -2,7 +2,10 @@
 // points and lines phases). Internal to enumerate/ (not installed).
 #pragma once
 
+#include <algorithm>
+#include <cmath>
 #include <cstddef>
+#include <utility>
 #include <vector>
 
 namespace pleat::detail {
@@ -113,5 +116,87 @@ inline bool candidate_rows_fall_short(std::size_t rank, std::size_t first, std::
   return most < bound && ReachForecast::falls_short(static_cast<double>(second), static_cast<double>(first),
                                                     bound - most, 1, inputs < 2 ? 16 : 0);
 }
+
+// On a plane (2 inputs), the points phase against the walk, in the walk's own
+// unit: a region visited (about 200 ns per parameter: 21 us on 2,8,8,1, 48 us
+// on 2,10,10,10,1, 82 us on 2,100,1, 150 us on 2,15,15,15,1). Finishing on
+// points costs the points still to draw (half a region each: the exact
+// decision and a new region's rows) and every missing row eliminated densely
+// (the points' rows, scattered over the plane, fill the reduced echelon form:
+// about 4 ns x rank x free columns a row, rank x (columns - rank) / (50 x
+// columns) regions: 2.7 a row at rank 300 of 556 columns); the walk costs
+// the regions the points' landings suggest (regions_estimate, low by about
+// 4x: 100 of about 450 on 2,10,10,10,1 after 160 points, 1365 of 5051 on
+// 2,100,1 after 128, 20 of 155 on 2,8,8,1 after 32). The points go on only
+// while finishing on them is forecast to cost less than that estimate (a
+// quarter of the walk, about): giving up costs a network at its bound only
+// its walk, which stops at the bound and is cheap on a plane, while going on
+// costs one below it, most of the study grid's 2-input samples, every point
+// before the walk that follows anyway. Lines (a second walk, on a plane) are
+// swept only while the points have seen fewer than half the estimate.
+// (2,5,5,5,1 samples 11 and 26, at their bound, are walked now: 1.5-2 ms.)
+
+// How many regions of equal area n random points landing in `seen` distinct
+// ones suggest: the R >= seen with R (1 - exp(-n / R)) = seen (unequal areas
+// make it low, above); n squared when every point found a region of its own.
+inline double regions_estimate(std::size_t points, std::size_t seen) {
+  const double n = static_cast<double>(points), d = static_cast<double>(seen);
+  if (seen >= points) return n * n;
+  double low = d, high = n * n;
+  for (int step = 0; step < 60; ++step) {
+    const double mid = (low + high) / 2;
+    (mid * -std::expm1(-n / mid) < d ? low : high) = mid;
+  }
+  return (low + high) / 2;
+}
+
+// Whether finishing on points from rank to bound (`points_per_row` points a
+// row, `columns` parameters) is forecast dearer than `regions` regions.
+inline bool points_dearer_than_walk(std::size_t rank, std::size_t bound, std::size_t columns, double points_per_row,
+                                    double regions) {
+  const double p = static_cast<double>(columns);
+  double cost = 0.5 * points_per_row * static_cast<double>(bound - std::min(rank, bound));
+  for (std::size_t r = rank; r < bound && cost <= regions; ++r)
+    cost += static_cast<double>(r) * (p - static_cast<double>(r)) / (50 * p);
+  return cost > regions;
+}
+
+// The comparison before any row is eliminated: the first two batches'
+// `rows` (their new regions'), all raising the rank, from `seen` regions.
+inline bool planar_points_dearer_at_start(std::size_t rank, std::size_t rows, std::size_t bound, std::size_t columns,
+                                          std::size_t points, std::size_t seen) {
+  return points_dearer_than_walk(rank + rows, bound, columns,
+                                 static_cast<double>(points) / static_cast<double>(std::max<std::size_t>(rows, 1)),
+                                 regions_estimate(points, seen));
+}
+
+// Whether lines may still pay on a plane: the points saw under half the regions estimated.
+inline bool planar_lines_may_pay(std::size_t points, std::size_t seen) {
+  return regions_estimate(points, seen) >= 2 * static_cast<double>(seen);
+}
+
+// The comparison after each batch of the points phase (from the second on),
+// at the rise over the last two batches (none: a row per batch after the
+// point that last raised the rank).
+class PlanarPointsCost {
+ public:
+  PlanarPointsCost(std::size_t bound, std::size_t columns, std::size_t batch)
+      : bound_(bound), columns_(columns), batch_(batch) {}
+  // After a batch: points counted, rank, distinct regions they found, points
+  // since the last rise.
+  bool dearer_than_walk(std::size_t points, std::size_t rank, std::size_t seen, std::size_t since_rise) {
+    after_.emplace_back(points, rank);
+    if (after_.size() < 3 || rank >= bound_) return false;
+    const auto [points_then, rank_then] = after_[after_.size() - 3];
+    const double points_per_row = rank > rank_then ? static_cast<double>(points - points_then) /
+                                                         static_cast<double>(rank - rank_then)
+                                                   : static_cast<double>(since_rise + batch_);
+    return points_dearer_than_walk(rank, bound_, columns_, points_per_row, regions_estimate(points, seen));
+  }
+
+ private:
+  std::size_t bound_, columns_, batch_;
+  std::vector<std::pair<std::size_t, std::size_t>> after_{{0, 0}};  // (points, rank) before and after each batch
+};
 
 }  // namespace pleat::detail

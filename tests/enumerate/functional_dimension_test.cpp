@@ -8,6 +8,7 @@
 #include "core/network_io.hpp"
 #include "core/random_network.hpp"
 #include "core/rank.hpp"
+#include "enumerate/detail/reach_forecast.hpp"
 #include "enumerate/interior_points.hpp"
 #include "tests/support/network_builders.hpp"
 
@@ -946,6 +947,57 @@ TEST(CertifyFromPoints, OnAPlaneKeepsPointsThatRiseToTheBound) {
   EXPECT_EQ(result.regions_walked, 0u);
   EXPECT_EQ(*result.functional_dimension, result.scaling_bound);
   EXPECT_EQ(result.scaling_bound, 301u);
+}
+
+// On a plane the points stop when finishing on them is forecast dearer than
+// the walk (detail::PlanarPointsCost): below their bound, 2,8,8,1 sample 19
+// (88 < 89) drew 524 points and swept lines over nearly every region its walk
+// then visited again, 2,10,10,10,1 sample 26 (226 < 231) 809, and
+// 2,15,15,15,1 sample 2 (461 < 496) eliminated six batches; now 128, 224 and
+// the first two batches, none eliminated (finishing was forecast at more than
+// the 270 regions their landings suggest). The value is the full walk's.
+// Networks at their bound whose walk is dear keep their points (data/fold2d
+// 140 points; OnAPlaneKeepsPointsThatRiseToTheBound).
+TEST(CertifyFromPoints, OnAPlaneStopsWhenFinishingOnPointsCostsMoreThanTheWalk) {
+  struct Case {
+    std::vector<std::size_t> widths;
+    std::uint64_t sample;
+    std::size_t most_points;
+  };
+  for (const Case& c : {Case{{2, 8, 8, 1}, 19, 128}, Case{{2, 10, 10, 10, 1}, 26, 224}, Case{{2, 15, 15, 15, 1}, 2, 64}}) {
+    const Network network = random_network(c.widths, 1, c.sample);
+    const Domain plane = make_whole_space(2);
+    const auto fast = certify_with(network, plane, true, true);
+    const auto full = certify_with(network, plane, false, false);
+    ASSERT_TRUE(fast.certified && full.certified) << c.sample;
+    EXPECT_EQ(fast.functional_dimension, full.functional_dimension) << c.sample;
+    EXPECT_LT(*fast.functional_dimension, fast.scaling_bound) << c.sample;
+    EXPECT_LE(fast.points_drawn, c.most_points) << c.sample;
+  }
+  const Network fold = read_network_file(PLEAT_SOURCE_DIR "/data/fold2d.json");
+  const auto at = certify_with(fold, make_whole_space(2), true, true);
+  EXPECT_TRUE(at.certified_by_points);
+  EXPECT_EQ(at.regions_walked, 0u);
+}
+
+TEST(ReachForecast, RegionsEstimateAndThePlanarCostRule) {
+  // Equal areas: 100 regions and 200 points find 100 (1 - e^-2) = 86.5 of them.
+  EXPECT_NEAR(detail::regions_estimate(200, 86), 99.0, 2.0);
+  EXPECT_EQ(detail::regions_estimate(64, 64), 64.0 * 64.0);  // every point in its own region
+  EXPECT_GE(detail::regions_estimate(64, 10), 10.0);
+  // Rank 290 of 301 in 401 columns, a row every 2 points: about 27 regions
+  // to finish, against a walk of 1000 (go on) or 10 (give up).
+  EXPECT_FALSE(detail::points_dearer_than_walk(290, 301, 401, 2, 1000));
+  EXPECT_TRUE(detail::points_dearer_than_walk(290, 301, 401, 2, 10));
+  EXPECT_FALSE(detail::points_dearer_than_walk(301, 301, 401, 2, 0.5));  // at the bound: nothing left
+  // After each batch: judged from the second on, at the last two batches' rise.
+  detail::PlanarPointsCost cost(89, 105, 32);
+  EXPECT_FALSE(cost.dearer_than_walk(32, 62, 23, 0));
+  EXPECT_FALSE(cost.dearer_than_walk(64, 76, 36, 0));   // 76 rows in 64 points: about 10 regions to finish, 50 estimated
+  EXPECT_FALSE(cost.dearer_than_walk(96, 76, 46, 32));  // 14 rows in the last 64 points: about 35 of 57
+  // No rise in the last two batches: a row per 96 points (64 since the last
+  // rise and a batch), 13 missing: over 600 regions, against about 58.
+  EXPECT_TRUE(cost.dearer_than_walk(128, 76, 52, 64));
 }
 
 TEST(CertifyFromPoints, SameResultForAnyThreadCount) {
