@@ -257,18 +257,21 @@ class BatchRanker {
   // (no solve where K_f is zero). Not proved here: the caller checks that
   // they annihilate every row, which bounds the rank by r. The exact solves
   // (detail::SquareSolver: one LU for all, polling the stop) take 32 free columns at
-  // a time, one chunk per next_chunk.
+  // a time, one chunk per next_chunk. The D - r vectors are written out only
+  // by finish(), a row at a time between stop polls: on 2,30,30,30,1 with
+  // 300 points they are 1392 x 1981 rationals, and allocating them up front
+  // held off a stop for 0.2-1 s (more without tcmalloc, in the Python module)
+  // even when the span proof then won the race.
   class KernelCandidate {
    public:
     KernelCandidate(const KeptSystem& system, std::size_t columns)
-        : system_(system), square_(system.rows.size(), system.rows.size()), kernel_(system.free.size(), columns) {
+        : system_(system), square_(system.rows.size(), system.rows.size()), columns_(columns) {
       is_failed_ = system.pivots.size() != system.rows.size();
       if (is_failed_) return;
       const std::size_t rank = system.rows.size();
       for (std::size_t i = 0; i < rank; ++i)
         for (std::size_t j = 0; j < rank; ++j)
           fmpz_set_mpz(square_.entry(i, j), system.rows[i][system.pivots[j]].get_mpz_t());
-      for (std::size_t j = 0; j < system.free.size(); ++j) kernel_(j, system.free[j]) = 1;
     }
 
     bool is_done() const { return is_failed_ || first_ >= system_.solved.size(); }
@@ -290,7 +293,21 @@ class BatchRanker {
     std::optional<RationalMatrix> finish() {
       while (!is_done()) next_chunk();
       if (is_failed_) return std::nullopt;
-      return std::move(kernel_);
+      const auto& [rows, pivots, free, solved] = system_;
+      RationalMatrix kernel(0, columns_);
+      kernel.reserve_rows(free.size());
+      std::size_t next_solved = 0;  // solved is increasing
+      for (std::size_t j = 0; j < free.size(); ++j) {
+        if (j % 32 == 0) poll_stop();
+        RationalVector vector(columns_);
+        vector[free[j]] = 1;
+        if (next_solved < solved.size() && solved[next_solved] == j) {
+          for (std::size_t p = 0; p < pivots.size(); ++p) vector[pivots[p]] = std::move(solutions_[next_solved][p]);
+          ++next_solved;
+        }
+        kernel.append_row(std::move(vector));
+      }
+      return kernel;
     }
 
    private:
@@ -313,8 +330,10 @@ class BatchRanker {
         is_failed_ = !solver_.ran_out();
         return false;
       }
-      for (std::size_t j = 0; j < width; ++j)
-        for (std::size_t p = 0; p < rank; ++p) kernel_(solved[first_ + j], pivots[p]) = (*solution)(p, j);
+      for (std::size_t j = 0; j < width; ++j) {
+        RationalVector& values = solutions_.emplace_back(rank);
+        for (std::size_t p = 0; p < rank; ++p) values[p] = (*solution)(p, j);
+      }
       first_ += width;
       return true;
     }
@@ -323,7 +342,8 @@ class BatchRanker {
     const KeptSystem& system_;
     detail::FmpzMatrix square_;
     detail::SquareSolver solver_{square_.get()};  // one LU for every chunk
-    RationalMatrix kernel_;
+    const std::size_t columns_;
+    std::vector<RationalVector> solutions_;  // per solved free column: its values at the pivots P
     std::size_t first_ = 0;
     bool is_failed_ = false;
   };

@@ -36,20 +36,30 @@ void set_integer_combinations(const RationalMatrix& solution, FmpzMatrix& combin
 }
 
 // Whether d_j others[first + j] = combination row j times K on every
-// column, for the chunk's rows: one integer product.
+// column, for the chunk's rows: integer products of 256 columns of K at a
+// time, polling the stop between them (the whole product took 0.5 s on
+// 2,30,30,30,1 with 300 points: 32 x 589 times 589 x 1981).
 bool chunk_in_span(FmpzMatrix& kept_matrix, FmpzMatrix& combination, const std::vector<Integer>& dens,
                    const std::vector<IntegerRow>& others, std::size_t first) {
-  const std::size_t columns = static_cast<std::size_t>(fmpz_mat_ncols(kept_matrix.get()));
-  FmpzMatrix product(dens.size(), columns);
-  fmpz_mat_mul(product.get(), combination.get(), kept_matrix.get());
+  const slong rank = fmpz_mat_nrows(kept_matrix.get()), columns = fmpz_mat_ncols(kept_matrix.get());
+  constexpr slong block = 256;
   Integer expected;
   FmpzValue value;
-  for (std::size_t j = 0; j < dens.size(); ++j)
-    for (std::size_t c = 0; c < columns; ++c) {
-      expected = others[first + j][c] * dens[j];
-      fmpz_set_mpz(value.get(), expected.get_mpz_t());
-      if (!fmpz_equal(value.get(), product.entry(j, c))) return false;
-    }
+  for (slong begin = 0; begin < columns; begin += block) {
+    poll_stop();
+    const slong end = std::min(columns, begin + block);
+    fmpz_mat_t window;
+    fmpz_mat_window_init(window, kept_matrix.get(), 0, begin, rank, end);
+    FmpzMatrix product(dens.size(), static_cast<std::size_t>(end - begin));
+    fmpz_mat_mul(product.get(), combination.get(), window);
+    fmpz_mat_window_clear(window);
+    for (std::size_t j = 0; j < dens.size(); ++j)
+      for (slong c = begin; c < end; ++c) {
+        expected = others[first + j][static_cast<std::size_t>(c)] * dens[j];
+        fmpz_set_mpz(value.get(), expected.get_mpz_t());
+        if (!fmpz_equal(value.get(), product.entry(j, static_cast<std::size_t>(c - begin)))) return false;
+      }
+  }
   return true;
 }
 
