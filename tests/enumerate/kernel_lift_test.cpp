@@ -78,6 +78,20 @@ WalkState walk_state(const Network& network) {
   return state;
 }
 
+// Each pattern's exact coefficient blocks, in the patterns' order.
+std::vector<RationalMatrix> exact_blocks(const Network& network, const std::vector<ActivationPattern>& patterns) {
+  std::vector<RationalMatrix> blocks;
+  for (const ActivationPattern& pattern : patterns) blocks.push_back(coefficient_blocks(network, pattern));
+  return blocks;
+}
+
+// The patterns sorted by their states (the order the kernel check's groups take).
+std::vector<ActivationPattern> sorted_by_states(std::vector<ActivationPattern> patterns) {
+  std::sort(patterns.begin(), patterns.end(),
+            [](const ActivationPattern& a, const ActivationPattern& b) { return a.states < b.states; });
+  return patterns;
+}
+
 // The first region (index into blocks) on which some vector's exact product
 // with the region's rows is not zero, from rational arithmetic alone.
 std::optional<std::size_t> first_region_not_annihilated_exactly(const std::vector<RationalMatrix>& blocks,
@@ -232,8 +246,7 @@ TEST(KernelCheck, FirstRejectedRegionEqualsTheExactProductsOne) {
   for (const Network& network : networks) {
     const WalkState state = walk_state(network);
     const RationalMatrix extra = exact_extra_directions(network, state.smooth);
-    std::vector<RationalMatrix> blocks;
-    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const std::vector<RationalMatrix> blocks = exact_blocks(network, state.smooth);
     auto exact_first = [&](const RationalVector& vector) -> std::optional<std::size_t> {
       for (std::size_t p = 0; p < blocks.size(); ++p)
         for (std::size_t r = 0; r < blocks[p].rows(); ++r) {
@@ -270,8 +283,7 @@ TEST(KernelCheck, VectorsInOneLayerNameTheExactProductsFirstRegion) {
   std::size_t compared = 0, rejected = 0;
   for (const Network& network : networks) {
     const WalkState state = walk_state(network);
-    std::vector<RationalMatrix> blocks;
-    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const std::vector<RationalMatrix> blocks = exact_blocks(network, state.smooth);
     auto exact_first = [&](const RationalMatrix& vectors) { return first_region_not_annihilated_exactly(blocks, vectors); };
     const std::size_t columns = network.parametric_dimension();
     const Rational huge(Integer("1") << 300, 3);  // about 300 bits: several primes beyond the first
@@ -316,8 +328,7 @@ TEST(KernelCheck, VectorsThroughNeuronsThatAreOffPassOnlyWhereTheProductsVanish)
     const WalkState state = walk_state(network);
     const detail::CheckScale scale(network);
     const std::size_t columns = network.parametric_dimension();
-    std::vector<RationalMatrix> blocks;
-    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const std::vector<RationalMatrix> blocks = exact_blocks(network, state.smooth);
     for (std::size_t c = 0; c + 1 < columns; c += 2)
       for (const Rational& large : {Rational(1), Rational(Integer("1") << 300, 7)}) {
         RationalMatrix vectors(1, columns);
@@ -519,11 +530,8 @@ TEST(KernelCheck, PatternsAgreeingOnTheNeuronsTheProductsReadShareTheirAnswer) {
     const WalkState state = walk_state(network);
     const RationalMatrix extra = exact_extra_directions(network, state.smooth);
     const detail::CheckScale scale(network);
-    std::vector<RationalMatrix> blocks;
-    std::vector<ActivationPattern> order = state.smooth;
-    std::sort(order.begin(), order.end(),
-              [](const ActivationPattern& a, const ActivationPattern& b) { return a.states < b.states; });
-    for (const ActivationPattern& pattern : order) blocks.push_back(coefficient_blocks(network, pattern));
+    const std::vector<ActivationPattern> order = sorted_by_states(state.smooth);
+    const std::vector<RationalMatrix> blocks = exact_blocks(network, order);
     const std::size_t columns = network.parametric_dimension();
     const std::size_t from = network.parameter_offset(network.depth() - 2);
     std::size_t rejected = 0, passed = 0;
@@ -607,8 +615,7 @@ TEST(KernelCheck, IntegersAndPrimesNameTheExactProductsFirstRegion) {
     EXPECT_EQ(detail::IntegerCheck::applies(scale), integers);
     const WalkState state = walk_state(network);
     const RationalMatrix extra = exact_extra_directions(network, state.smooth);
-    std::vector<RationalMatrix> blocks;
-    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const std::vector<RationalMatrix> blocks = exact_blocks(network, state.smooth);
     auto exact_first = [&](const RationalMatrix& vectors) { return first_region_not_annihilated_exactly(blocks, vectors); };
     const Rational large(Integer("1") << 500, 3);
     for (std::size_t j = 0; j < extra.rows(); ++j)
@@ -647,8 +654,7 @@ TEST(KernelCheck, ManyLimbKernelCombinationsPassAndChangedOnesNameTheExactFirstR
     const RationalMatrix extra = exact_extra_directions(network, state.smooth);
     const RationalMatrix scaling = scaling_directions(network);
     ASSERT_GE(extra.rows(), 1u);
-    std::vector<RationalMatrix> blocks;
-    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const std::vector<RationalMatrix> blocks = exact_blocks(network, state.smooth);
     const Rational huge(Integer("1") << 300, 7);
     for (std::size_t j = 0; j < extra.rows(); ++j) {
       RationalMatrix combination(1, extra.cols());
@@ -686,8 +692,7 @@ TEST(KernelCheck, VectorsSharingAHugePartPassAndChangedOnesNameTheExactFirstRegi
     const RationalMatrix scaling = scaling_directions(network);
     ASSERT_GE(extra.rows(), 1u);
     ASSERT_GE(scaling.rows(), 2u);
-    std::vector<RationalMatrix> blocks;
-    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const std::vector<RationalMatrix> blocks = exact_blocks(network, state.smooth);
     const Rational huge(Integer("1") << 300, 7);
     RationalMatrix pair(2, extra.cols());
     for (std::size_t c = 0; c < extra.cols(); ++c) {
@@ -737,8 +742,7 @@ TEST(KernelCheck, VectorsAtOneInputPassAndChangedOnesNameTheExactFirstRegion) {
   const detail::CheckScale scale(network);
   ASSERT_TRUE(detail::IntegerCheck::applies(scale));
   const WalkState state = walk_state(network);
-  std::vector<RationalMatrix> blocks;
-  for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+  const std::vector<RationalMatrix> blocks = exact_blocks(network, state.smooth);
   const std::size_t columns = network.parametric_dimension();
   auto weight = [&](std::size_t k, std::size_t i, std::size_t j) {
     return network.parameter_offset(k) + i * network.layers[k].fan_in() + j;
@@ -803,10 +807,8 @@ TEST(KernelCheck, GroupsAtOneInputAnswerEachPatternAsTheExactProducts) {
   const detail::CheckScale scale(network);
   ASSERT_TRUE(detail::IntegerCheck::applies(scale));
   const WalkState state = walk_state(network);
-  std::vector<ActivationPattern> order = state.smooth;
-  std::sort(order.begin(), order.end(), [](const auto& a, const auto& b) { return a.states < b.states; });
-  std::vector<RationalMatrix> blocks;
-  for (const ActivationPattern& pattern : order) blocks.push_back(coefficient_blocks(network, pattern));
+  const std::vector<ActivationPattern> order = sorted_by_states(state.smooth);
+  const std::vector<RationalMatrix> blocks = exact_blocks(network, order);
   const std::size_t columns = network.parametric_dimension();
   auto weight = [&](std::size_t k, std::size_t i, std::size_t j) {
     return network.parameter_offset(k) + i * network.layers[k].fan_in() + j;
@@ -855,8 +857,7 @@ TEST(KernelCheck, OneInputVectorsPassedOnARegionAreCheckedAgainWhereTheirSignals
   const detail::CheckScale scale(network);
   ASSERT_TRUE(detail::IntegerCheck::applies(scale));
   const WalkState state = walk_state(network);
-  std::vector<RationalMatrix> blocks;
-  for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+  const std::vector<RationalMatrix> blocks = exact_blocks(network, state.smooth);
   const std::size_t columns = network.parametric_dimension();
   std::size_t coarse = 0, checked = 0;
   for (std::size_t first = 0; first < state.smooth.size(); ++first)
@@ -901,8 +902,7 @@ TEST(KernelCheck, LiveBitsAnswerEachPatternAsTheExactProducts) {
                                  read_network_file(PLEAT_SOURCE_DIR "/tests/data/output_relu2d.json"),
                                  read_network_file(PLEAT_SOURCE_DIR "/tests/data/dead2d.json")}) {
     const WalkState state = walk_state(network);
-    std::vector<RationalMatrix> blocks;
-    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const std::vector<RationalMatrix> blocks = exact_blocks(network, state.smooth);
     const detail::CheckScale scale(network);
     const detail::LiveTerms live_terms(network, state.smooth);
     const std::size_t columns = network.parametric_dimension();
@@ -942,8 +942,7 @@ TEST(KernelCheck, VectorsLiveOnNoRegionAnnihilateEveryRegion) {
                                  read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json"),
                                  read_network_file(PLEAT_SOURCE_DIR "/tests/data/dead2d.json")}) {
     const WalkState state = walk_state(network);
-    std::vector<RationalMatrix> blocks;
-    for (const ActivationPattern& pattern : state.smooth) blocks.push_back(coefficient_blocks(network, pattern));
+    const std::vector<RationalMatrix> blocks = exact_blocks(network, state.smooth);
     const std::size_t columns = network.parametric_dimension();
     // Each parameter's neuron and input neuron (none: -1).
     std::vector<std::pair<long, long>> neurons;
