@@ -12,6 +12,8 @@
 #include <limits>
 #include <set>
 #include <sstream>
+#include <string>
+#include <utility>
 
 namespace pleat::cli::draw {
 namespace {
@@ -48,6 +50,28 @@ void add_label_note(Figure& figure, const DrawArguments& arguments) {
   figure.notes.push_back("the pattern does not fit (--table)");
 }
 
+// What both figures set up alike: title, legend, labels and the view's x
+// range (the y range is the plane's view or the graph's values).
+Figure start_figure(const DrawArguments& arguments, const View& view, std::string x_label, std::string y_label) {
+  Figure figure;
+  figure.title = arguments.title;
+  figure.show_legend = !arguments.no_legend;
+  figure.show_labels = arguments.labels;
+  figure.x_min = to_double(view.lower[0]);
+  figure.x_max = to_double(view.upper[0]);
+  figure.x_label = std::move(x_label);
+  figure.y_label = std::move(y_label);
+  return figure;
+}
+
+// Polygon i (numbered i until now) is the region drawn[i]: the regions
+// coloured, the labels' key, and each polygon given its region's id.
+void colour_and_number(Figure& figure, const Network& network, const std::vector<const Region*>& drawn,
+                       const std::vector<std::set<std::size_t>>& adjacent, const DrawArguments& arguments) {
+  colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
+  add_label_note(figure, arguments);
+  for (std::size_t i = 0; i < drawn.size(); ++i) figure.polygons[i].region = drawn[i]->id;
+}
 
 // The side table of the regions drawn: the number on the map (the region's
 // id in the walk), its pattern, and an exact point inside it.
@@ -101,18 +125,11 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
     return result;
   }
 
-  Figure figure;
-  figure.title = arguments.title;
-  figure.show_legend = !arguments.no_legend;
-  figure.x_min = to_double(view.lower[0]);
-  figure.x_max = to_double(view.upper[0]);
+  Figure figure = start_figure(arguments, view, "x1", "x2");
   figure.y_min = to_double(view.lower[1]);
   figure.y_max = to_double(view.upper[1]);
-  figure.x_label = "x1";
-  figure.y_label = "x2";
   figure.layers = network.hidden_neuron_count() ? network.relu_layer_count() : 0;
   figure.show_lines = !arguments.no_lines;
-  figure.show_labels = arguments.labels;
 
   // Adjacency and bent-hyperplane pieces from the exact shared edges.
   std::vector<std::set<std::size_t>> adjacent(polygons.size());
@@ -163,9 +180,7 @@ Drawn draw_plane(const Network& network, const Scene& scene, const DrawArguments
     polygon.label = centre;
     figure.polygons.push_back(std::move(polygon));
   }
-  colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
-  add_label_note(figure, arguments);
-  for (std::size_t i = 0; i < polygons.size(); ++i) figure.polygons[i].region = drawn[i]->id;
+  colour_and_number(figure, network, drawn, adjacent, arguments);
   std::vector<std::string> stats{count_of(result.regions, "region") + ", " + count_of(result.edges, "edge") + ",",
                                  count_of(result.vertices, "vertex", "vertices") + " in the view"};
   apply_size(figure, arguments, format);
@@ -206,13 +221,7 @@ Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments&
     result.text = out.str();
     return result;
   }
-  Figure figure;
-  figure.title = arguments.title;
-  figure.show_legend = !arguments.no_legend;
-  figure.x_min = to_double(view.lower[0]);
-  figure.x_max = to_double(view.upper[0]);
-  figure.x_label = "x";
-  figure.y_label = network.output_dim() > 1 ? "F1" : "F";
+  Figure figure = start_figure(arguments, view, "x", network.output_dim() > 1 ? "F1" : "F");
   double low = std::numeric_limits<double>::infinity(), high = -low;
   for (std::size_t i = 0; i < pieces.size(); ++i) {
     const auto& piece = pieces[i];
@@ -231,7 +240,6 @@ Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments&
   figure.y_min = low - 0.08 * (high - low);
   figure.y_max = high + 0.08 * (high - low);
   figure.show_lines = false;
-  figure.show_labels = arguments.labels;
   std::vector<const Region*> drawn;
   std::vector<std::set<std::size_t>> adjacent(pieces.size());
   for (std::size_t i = 0; i < pieces.size(); ++i) {
@@ -249,9 +257,7 @@ Drawn draw_line(const Network& network, const Scene& scene, const DrawArguments&
     band.label = FigurePoint{(a + b) / 2, figure.y_min + 0.04 * (figure.y_max - figure.y_min)};
     figure.polygons.push_back(std::move(band));
   }
-  colour_regions(network, drawn, adjacent, arguments.colour_by, figure);
-  add_label_note(figure, arguments);
-  for (std::size_t i = 0; i < pieces.size(); ++i) figure.polygons[i].region = pieces[i].region->id;
+  colour_and_number(figure, network, drawn, adjacent, arguments);
   std::vector<std::string> stats{count_of(pieces.size(), "region") + ", " +
                                  count_of(figure.breakpoints.size(), "breakpoint")};
   for (auto& note : outside_note(scene, pieces.size())) stats.push_back(std::move(note));
