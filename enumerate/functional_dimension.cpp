@@ -572,8 +572,13 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     result.kernel = scaling_directions(network, scaling.independent_neurons);
   result.regions_contributing = kept.size();
   if (options.keep_rows && !kept.empty()) {
-    std::vector<RationalMatrix> blocks;
-    for (const KeptRows& region : kept) blocks.push_back(coefficient_blocks(network, region.pattern));
+    std::vector<RationalMatrix> blocks;  // a Ctrl-C ends the rows (not the value): the first rows_regions kept
+    for (std::size_t i = 0; i < kept.size() && !(options.walk.interrupt && options.walk.interrupt->load()); ++i) {
+      blocks.push_back(coefficient_blocks(network, kept[i].pattern));
+      report("rows", i + 1, kept.size());
+    }
+    result.rows_regions = blocks.size();
+    result.rows_interrupted = blocks.size() < kept.size();
     result.rows = stack_rows(blocks, parameters);
   }
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();

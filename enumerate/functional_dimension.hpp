@@ -66,7 +66,8 @@ struct ExtraKernelDirection {
 // Progress after the walk: phase "kernel" (lifting the extra directions:
 // done = 0 the walk's prime alone, 1 further primes for rows with large
 // entries, 2 an exact p-adic solve), "check" (done of total smooth regions checked) or
-// "naming" (done of total extra directions named).
+// "naming" (done of total extra directions named); with keep_rows, "rows" (done
+// of total contributing regions whose exact rows are formed).
 struct CertifyProgress {
   const char* phase = "";
   std::size_t done = 0;
@@ -149,6 +150,12 @@ struct FunctionalDimensionResult {
   std::vector<std::pair<ActivationPattern, std::vector<std::size_t>>> nonsmooth_regions;
   std::vector<ExtraKernelDirection> extra_kernel;
   RationalMatrix rows;    // with keep_rows: exact coefficient-block rows of the contributing regions
+  // With keep_rows, rows are those of the first rows_regions of the
+  // regions_contributing regions, in order: all of them unless an interrupt
+  // came while the rows were formed (phase "rows", after the value was
+  // settled: the value stands, rows_interrupted says the rows are cut short).
+  std::size_t rows_regions = 0;
+  bool rows_interrupted = false;
   // With keep_kernel, a basis of the exact kernel proved on every smooth
   // region: the independent scaling directions (ScalingStructure), then the
   // extra directions (empty on an early stop or when cut short).

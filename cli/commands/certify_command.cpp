@@ -235,7 +235,7 @@ std::string phase_text(const CertifyProgress& state) {
     text += ", rank " + std::to_string(state.done) + " of the scaling bound " + std::to_string(state.total);
   else
     text += " " + std::to_string(state.done) + "/" + std::to_string(state.total) +
-            (std::string(state.phase) == "check" ? " regions" : " directions");
+            (std::string(state.phase) == "naming" ? " directions" : " regions");  // check, rows (--rows-out)
   return text;
 }
 
@@ -398,7 +398,7 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
     print_batch(network, domain, arguments, batch, result, std::cout);
     if (arguments.claim) print_claim(*arguments.claim, at_points, *network_verdict, std::cout);
   }
-  if (result.stop_reason == StopReason::interrupted) return 130;
+  if (result.stop_reason == StopReason::interrupted || rows_cut_short(result)) return 130;
   return arguments.claim ? claim_status(at_points, *network_verdict) : 0;
 }
 
@@ -499,7 +499,7 @@ int run_certify(const CertifyArguments& arguments) {
     check_standard_output();  // the result stands even if the bundle's walk is interrupted
     is_bundle_done = write_bundle(arguments, network, domain, result);
   }
-  if (result.stop_reason == StopReason::interrupted || !is_bundle_done) return 130;
+  if (result.stop_reason == StopReason::interrupted || rows_cut_short(result) || !is_bundle_done) return 130;
   return arguments.claim ? claim_status(std::nullopt, *verdict) : 0;
 }
 
@@ -547,7 +547,8 @@ void register_certify(CommandTable& commands) {
                    "the scaling bound");
   command.add_option("--rows-out", arguments->rows_path,
                      "Write the exact Jacobian rows of the contributing regions (one row per line; computed once the run "
-                     "has ended, after a --time-limit too; a run not certified writes first a line '# partial: ...')");
+                     "has ended, after a --time-limit too; a run not certified, or a Ctrl-C while they are formed, writes "
+                     "first a line '# partial: ...')");
   command.add_option("--kernel-out", arguments->kernel_path,
                      "Write a basis of the exact kernel of a certified value: the scaling directions, then the extra "
                      "ones checked on every region (one row per line; none written for bounds)");

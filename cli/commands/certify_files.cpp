@@ -35,7 +35,20 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
   write_matrix(path, result.kernel);
 }
 
+bool rows_cut_short(const FunctionalDimensionResult& result) {
+  return result.rows_interrupted;
+}
+
 void write_rows(const std::string& path, const FunctionalDimensionResult& result, bool stopped_in_batch) {
+  if (rows_cut_short(result)) {
+    const std::string partial = "partial: interrupted while the rows were formed; the exact rows of the first " +
+                                std::to_string(result.rows_regions) + " of the " +
+                                std::to_string(result.regions_contributing) +
+                                " regions that contributed (the printed value or bounds stand)";
+    write_matrix(path, result.rows, partial);
+    std::cerr << "pleat: " << path << ": " << partial << "\n";
+    return;
+  }
   if (result.certified) return write_matrix(path, result.rows);
   const std::string why = result.stop_reason == StopReason::none ? "its bounds do not meet"
                                                                   : "stopped: " + to_string(result.stop_reason);

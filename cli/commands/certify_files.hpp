@@ -25,6 +25,11 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
 // comment, "# partial: ..."), and so does stderr (the file read as a
 // complete run's). stopped_in_batch: certify --points stopped in its batch
 // stage, before the walk; the line says that no region was walked instead.
+// A Ctrl-C while the rows were formed (rows_cut_short) writes the rows formed
+// before it, under a line that says so, whether or not the value was certified.
 void write_rows(const std::string& path, const FunctionalDimensionResult& result, bool stopped_in_batch = false);
+
+// Whether an interrupt cut --rows-out's rows short (the command then exits 130).
+bool rows_cut_short(const FunctionalDimensionResult& result);
 
 }  // namespace pleat::cli

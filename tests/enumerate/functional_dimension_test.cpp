@@ -323,6 +323,41 @@ TEST(FunctionalDimension, RawRankOfTheFullWalkNeverExceedsTheScalingBound) {
   }
 }
 
+// A Ctrl-C while the rows are formed (phase "rows", after the value is
+// settled) cuts the rows short, not the value: the rows kept are the first
+// regions' rows, in order, and the result says they are cut short. Fails if
+// the interrupt were ignored there (the rows complete, not flagged) or ended
+// the value too.
+TEST(FunctionalDimension, AnInterruptWhileTheRowsAreFormedKeepsTheValueAndTheFirstRows) {
+  const Network network = random_networks().front();
+  const Domain domain = make_whole_space(network.input_dim);
+  FunctionalDimensionOptions options;
+  options.walk.threads = 1;
+  options.stop_at_scaling_bound = false;
+  options.keep_rows = true;
+  const FunctionalDimensionResult whole = certify_functional_dimension(network, domain, options);
+  ASSERT_TRUE(whole.certified);
+  ASSERT_GE(whole.regions_contributing, 3u);
+  EXPECT_FALSE(whole.rows_interrupted);
+  EXPECT_EQ(whole.rows_regions, whole.regions_contributing);
+
+  std::atomic<bool> interrupt{false};
+  options.walk.interrupt = &interrupt;
+  options.on_phase = [&](const CertifyProgress& state) {
+    if (std::string(state.phase) == "rows" && state.done == 2) interrupt = true;
+  };
+  const FunctionalDimensionResult cut = certify_functional_dimension(network, domain, options);
+  EXPECT_TRUE(cut.certified);
+  EXPECT_EQ(cut.functional_dimension, whole.functional_dimension);
+  EXPECT_TRUE(cut.rows_interrupted);
+  EXPECT_EQ(cut.rows_regions, 2u);
+  EXPECT_EQ(cut.regions_contributing, whole.regions_contributing);
+  ASSERT_GT(cut.rows.rows(), 0u);
+  ASSERT_LT(cut.rows.rows(), whole.rows.rows());
+  for (std::size_t r = 0; r < cut.rows.rows(); ++r)
+    for (std::size_t c = 0; c < cut.rows.cols(); ++c) EXPECT_EQ(cut.rows(r, c), whole.rows(r, c));
+}
+
 TEST(FunctionalDimension, EveryScalingDirectionAnnihilatesEveryRegionsRows) {
   for (const Network& network : random_networks()) {
     const RationalMatrix scaling = scaling_directions(network);
