@@ -3,6 +3,7 @@
 #include "core/evaluate.hpp"
 #include "core/jacobian.hpp"
 #include "core/rank.hpp"
+#include "enumerate/detail/contributing_rows.hpp"
 #include "enumerate/detail/extra_naming.hpp"
 #include "enumerate/distributed_certify.hpp"
 #include "enumerate/domain.hpp"
@@ -34,17 +35,6 @@ namespace {
 
 using detail::KeptRows;
 using detail::parallel_for;
-
-RationalMatrix stack_rows(const std::vector<RationalMatrix>& blocks, std::size_t columns) {
-  std::size_t total = 0;
-  for (const auto& block : blocks) total += block.rows();
-  RationalMatrix out(total, columns);
-  std::size_t r = 0;
-  for (const auto& block : blocks)
-    for (std::size_t i = 0; i < block.rows(); ++i, ++r)
-      for (std::size_t c = 0; c < columns; ++c) out(r, c) = block(i, c);
-  return out;
-}
 
 }  // namespace
 
@@ -572,14 +562,13 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     result.kernel = scaling_directions(network, scaling.independent_neurons);
   result.regions_contributing = kept.size();
   if (options.keep_rows && !kept.empty()) {
-    std::vector<RationalMatrix> blocks;  // a Ctrl-C ends the rows (not the value): the first rows_regions kept
-    for (std::size_t i = 0; i < kept.size() && !(options.walk.interrupt && options.walk.interrupt->load()); ++i) {
-      blocks.push_back(coefficient_blocks(network, kept[i].pattern));
-      report("rows", i + 1, kept.size());
-    }
-    result.rows_regions = blocks.size();
-    result.rows_interrupted = blocks.size() < kept.size();
-    result.rows = stack_rows(blocks, parameters);
+    // A Ctrl-C that stopped the run leaves its rows formed whole (documented);
+    // one while they are formed ends them (not the value): the first rows_regions.
+    const bool run_interrupted = result.stop_reason == StopReason::interrupted;
+    result.rows = detail::contributing_rows(network, kept, run_interrupted ? nullptr : options.walk.interrupt,
+                                            result.rows_regions,
+                                            [&](std::size_t done, std::size_t total) { report("rows", done, total); });
+    result.rows_interrupted = result.rows_regions < kept.size();
   }
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   return result;

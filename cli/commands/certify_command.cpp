@@ -54,14 +54,17 @@ struct CertifyArguments {
 
 // --rows-out, --kernel-out and --witness-out of the network's certify run
 // (with --points too: the run beside the points' rank).
-void write_result_files(const CertifyArguments& arguments, const FunctionalDimensionResult& result,
-                        bool stopped_in_batch = false) {
-  if (!arguments.rows_path.empty()) write_rows(arguments.rows_path, result, stopped_in_batch);
+// Returns true when a Ctrl-C cut the rows short (exit 130).
+bool write_result_files(const CertifyArguments& arguments, const FunctionalDimensionResult& result,
+                        const std::atomic<bool>& interrupt, bool stopped_in_batch = false) {
+  const bool rows_cut_short =
+      !arguments.rows_path.empty() && write_rows(arguments.rows_path, result, interrupt, stopped_in_batch);
   if (!arguments.kernel_path.empty()) write_kernel(arguments.kernel_path, result);
   if (!arguments.witness_path.empty())
     write_output(arguments.witness_path,
                  points_text(result.witness_points,
                              "witness points: exact, strictly inside the domain, one per region whose rows raised the rank"));
+  return rows_cut_short;
 }
 
 Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", claim_word(verdict.verdict)}, {"reason", verdict.reason}}; }
@@ -379,7 +382,8 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
   const FunctionalDimensionResult result = walk_stopped_by == StopReason::none
                                                ? certify_with_progress(walk_arguments, network, domain, false)
                                                : certify_result_not_started(network, walk_stopped_by);
-  write_result_files(arguments, result, walk_stopped_by != StopReason::none);
+  const bool rows_cut_short =
+      write_result_files(arguments, result, interrupt.flag(), walk_stopped_by != StopReason::none);
   std::optional<ClaimVerdict> at_points, network_verdict;
   if (arguments.claim) {
     at_points = judge_claim_at_points(*arguments.claim, batch.batch.lower, batch.batch.upper);
@@ -398,7 +402,7 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
     print_batch(network, domain, arguments, batch, result, std::cout);
     if (arguments.claim) print_claim(*arguments.claim, at_points, *network_verdict, std::cout);
   }
-  if (result.stop_reason == StopReason::interrupted || rows_cut_short(result)) return 130;
+  if (result.stop_reason == StopReason::interrupted || rows_cut_short) return 130;
   return arguments.claim ? claim_status(at_points, *network_verdict) : 0;
 }
 
@@ -480,7 +484,7 @@ int run_certify(const CertifyArguments& arguments) {
   }
   const Domain domain = make_domain(arguments.domain, network.input_dim);
   const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, !arguments.full_walk);
-  write_result_files(arguments, result);
+  const bool rows_cut_short = write_result_files(arguments, result, early_interrupt.flag());
 
   Json document = result_to_json(network, domain, result);
   std::optional<ClaimVerdict> verdict;
@@ -499,7 +503,7 @@ int run_certify(const CertifyArguments& arguments) {
     check_standard_output();  // the result stands even if the bundle's walk is interrupted
     is_bundle_done = write_bundle(arguments, network, domain, result);
   }
-  if (result.stop_reason == StopReason::interrupted || rows_cut_short(result) || !is_bundle_done) return 130;
+  if (result.stop_reason == StopReason::interrupted || rows_cut_short || !is_bundle_done) return 130;
   return arguments.claim ? claim_status(std::nullopt, *verdict) : 0;
 }
 
@@ -547,7 +551,7 @@ void register_certify(CommandTable& commands) {
                    "the scaling bound");
   command.add_option("--rows-out", arguments->rows_path,
                      "Write the exact Jacobian rows of the contributing regions (one row per line; computed once the run "
-                     "has ended, after a --time-limit too; a run not certified, or a Ctrl-C while they are formed, writes "
+                     "has ended, after a --time-limit too; a run not certified, or a Ctrl-C while they are formed or written, writes "
                      "first a line '# partial: ...')");
   command.add_option("--kernel-out", arguments->kernel_path,
                      "Write a basis of the exact kernel of a certified value: the scaling directions, then the extra "

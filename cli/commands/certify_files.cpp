@@ -3,6 +3,7 @@
 
 #include "cli/common.hpp"
 
+#include <atomic>
 #include <filesystem>
 #include <iostream>
 #include <sstream>
@@ -35,33 +36,56 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
   write_matrix(path, result.kernel);
 }
 
-bool rows_cut_short(const FunctionalDimensionResult& result) {
-  return result.rows_interrupted;
+namespace {
+
+// The rows' text, one per line, until interrupt (null: never) is set, polled
+// between rows: how many rows it holds.
+std::size_t rows_text(const RationalMatrix& matrix, const std::atomic<bool>* interrupt, std::ostringstream& out) {
+  std::size_t r = 0;
+  for (; r < matrix.rows() && !(interrupt && interrupt->load()); ++r) {
+    for (std::size_t c = 0; c < matrix.cols(); ++c) out << (c ? "," : "") << format_rational(matrix(r, c));
+    out << "\n";
+  }
+  return r;
 }
 
-void write_rows(const std::string& path, const FunctionalDimensionResult& result, bool stopped_in_batch) {
-  if (rows_cut_short(result)) {
-    const std::string partial = "partial: interrupted while the rows were formed; the exact rows of the first " +
-                                std::to_string(result.rows_regions) + " of the " +
-                                std::to_string(result.regions_contributing) +
-                                " regions that contributed (the printed value or bounds stand)";
-    write_matrix(path, result.rows, partial);
-    std::cerr << "pleat: " << path << ": " << partial << "\n";
-    return;
-  }
-  if (result.certified) return write_matrix(path, result.rows);
+// The first line of a run not certified (stopped, or its bounds apart).
+std::string not_certified_line(const FunctionalDimensionResult& result, bool stopped_in_batch) {
   const std::string why = result.stop_reason == StopReason::none ? "its bounds do not meet"
                                                                   : "stopped: " + to_string(result.stop_reason);
-  const std::string partial =
-      stopped_in_batch
-          ? "partial: the run was not certified (" + why +
-                " in the --points batch stage, before the walk); no region was walked, so no rows: the batch's "
-                "proved bounds are in the output, not here"
-          : "partial: the run was not certified (" + why + "); the exact rows of the " +
-                std::to_string(result.regions_contributing) + " regions that contributed before it ended, of rank " +
-                std::to_string(result.lower_bound) + ", the proved lower bound";
-  write_matrix(path, result.rows, partial);
-  std::cerr << "pleat: " << path << ": " << partial << "\n";
+  if (stopped_in_batch)
+    return "partial: the run was not certified (" + why +
+           " in the --points batch stage, before the walk); no region was walked, so no rows: the batch's "
+           "proved bounds are in the output, not here";
+  return "partial: the run was not certified (" + why + "); the exact rows of the " +
+         std::to_string(result.regions_contributing) + " regions that contributed before it ended, of rank " +
+         std::to_string(result.lower_bound) + ", the proved lower bound";
+}
+
+}  // namespace
+
+bool write_rows(const std::string& path, const FunctionalDimensionResult& result, const std::atomic<bool>& interrupt,
+                bool stopped_in_batch) {
+  // A Ctrl-C that stopped the run, or the rows' forming, came before the
+  // text: what was formed is written whole. Any other ends the text.
+  const bool interrupted_before = result.stop_reason == StopReason::interrupted || result.rows_interrupted;
+  std::ostringstream rows;
+  const std::size_t written = rows_text(result.rows, interrupted_before ? nullptr : &interrupt, rows);
+  const bool cut_short = result.rows_interrupted || written < result.rows.rows();
+  std::string line;
+  if (result.rows_interrupted)
+    line = "partial: interrupted while the rows were formed; the exact rows of the first " +
+           std::to_string(result.rows_regions) + " of the " + std::to_string(result.regions_contributing) +
+           " regions that contributed (the printed value or bounds stand)";
+  else if (cut_short)
+    line = "partial: interrupted while the rows were written; the first " + std::to_string(written) + " of the " +
+           std::to_string(result.rows.rows()) + " exact rows of the " + std::to_string(result.regions_contributing) +
+           " regions that contributed (the printed value or bounds stand)";
+  else if (!result.certified)
+    line = not_certified_line(result, stopped_in_batch);
+  write_output(path, line.empty() ? rows.str() : "# " + line + "\n" + rows.str());
+  if (!line.empty()) std::cerr << "pleat: " << path << ": " << line << "\n";
+  return cut_short;
 }
 
 }  // namespace pleat::cli

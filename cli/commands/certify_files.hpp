@@ -4,6 +4,7 @@
 #include "core/matrix.hpp"
 #include "enumerate/functional_dimension.hpp"
 
+#include <atomic>
 #include <string>
 
 namespace pleat::cli {
@@ -25,11 +26,12 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
 // comment, "# partial: ..."), and so does stderr (the file read as a
 // complete run's). stopped_in_batch: certify --points stopped in its batch
 // stage, before the walk; the line says that no region was walked instead.
-// A Ctrl-C while the rows were formed (rows_cut_short) writes the rows formed
-// before it, under a line that says so, whether or not the value was certified.
-void write_rows(const std::string& path, const FunctionalDimensionResult& result, bool stopped_in_batch = false);
-
-// Whether an interrupt cut --rows-out's rows short (the command then exits 130).
-bool rows_cut_short(const FunctionalDimensionResult& result);
+// A Ctrl-C while the rows were formed (result.rows_interrupted) or while their
+// text is made (interrupt, polled between rows unless a Ctrl-C stopped the
+// run: then its rows are written whole, as documented) writes the rows done
+// before it, under a line that says so, whether or not the value was
+// certified; then it returns true (the command exits 130).
+bool write_rows(const std::string& path, const FunctionalDimensionResult& result, const std::atomic<bool>& interrupt,
+                bool stopped_in_batch = false);
 
 }  // namespace pleat::cli

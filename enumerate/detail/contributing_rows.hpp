@@ -1,0 +1,46 @@
+// The exact rows certify --rows-out writes: the coefficient blocks of the
+// regions that contributed, stacked in order (enumerate/functional_dimension.cpp,
+// after the value is settled). Internal to enumerate/ (not installed).
+#pragma once
+
+#include "core/jacobian.hpp"
+#include "core/matrix.hpp"
+#include "core/network.hpp"
+
+#include <atomic>
+#include <cstddef>
+#include <functional>
+#include <utility>
+#include <vector>
+
+namespace pleat::detail {
+
+// The blocks' rows, stacked in order (moved, not copied).
+inline RationalMatrix stack_rows(std::vector<RationalMatrix>&& blocks, std::size_t columns) {
+  std::size_t total = 0;
+  for (const auto& block : blocks) total += block.rows();
+  RationalMatrix out(total, columns);
+  std::size_t r = 0;
+  for (auto& block : blocks)
+    for (std::size_t i = 0; i < block.rows(); ++i, ++r)
+      for (std::size_t c = 0; c < columns; ++c) out(r, c) = std::move(block(i, c));
+  return out;
+}
+
+// The rows of the first of `kept` (their patterns) in order, until interrupt
+// (polled between regions; null: never) is set; `formed` says how many
+// regions. Exact.
+template <class Kept>
+RationalMatrix contributing_rows(const Network& network, const std::vector<Kept>& kept,
+                                 const std::atomic<bool>* interrupt, std::size_t& formed,
+                                 const std::function<void(std::size_t done, std::size_t total)>& report) {
+  std::vector<RationalMatrix> blocks;
+  for (std::size_t i = 0; i < kept.size() && !(interrupt && interrupt->load()); ++i) {
+    blocks.push_back(coefficient_blocks(network, kept[i].pattern));
+    report(i + 1, kept.size());
+  }
+  formed = blocks.size();
+  return stack_rows(std::move(blocks), network.parametric_dimension());
+}
+
+}  // namespace pleat::detail
