@@ -10,32 +10,6 @@
 
 namespace pleat::cli {
 
-void write_matrix(const std::string& path, const RationalMatrix& matrix, const std::string& comment) {
-  std::ostringstream out;
-  if (!comment.empty()) out << "# " << comment << "\n";
-  for (std::size_t r = 0; r < matrix.rows(); ++r) {
-    for (std::size_t c = 0; c < matrix.cols(); ++c) out << (c ? "," : "") << format_rational(matrix(r, c));
-    out << "\n";
-  }
-  write_output(path, out.str());
-}
-
-void say_not_written(const std::string& what, const std::string& path, const std::string& why) {
-  std::cerr << "pleat: no " << what << " written to " << path << ": " << why << "\n";
-  if (std::filesystem::exists(path))
-    std::cerr << "pleat: " << path << " is an earlier run's " << what << ", not this run's (not overwritten)\n";
-}
-
-// The kernel basis of a certified value; nothing for bounds (said on stderr):
-// an empty or partial file would read as a kernel that was never proved.
-void write_kernel(const std::string& path, const FunctionalDimensionResult& result) {
-  if (!result.certified) {
-    say_not_written("kernel", path, "the functional dimension was not certified (bounds only)");
-    return;
-  }
-  write_matrix(path, result.kernel);
-}
-
 namespace {
 
 // The rows' text, one per line, until interrupt (null: never) is set, polled
@@ -63,6 +37,28 @@ std::string not_certified_line(const FunctionalDimensionResult& result, bool sto
 }
 
 }  // namespace
+
+void write_matrix(const std::string& path, const RationalMatrix& matrix) {
+  std::ostringstream out;
+  rows_text(matrix, nullptr, out);
+  write_output(path, out.str());
+}
+
+void say_not_written(const std::string& what, const std::string& path, const std::string& why) {
+  std::cerr << "pleat: no " << what << " written to " << path << ": " << why << "\n";
+  if (std::filesystem::exists(path))
+    std::cerr << "pleat: " << path << " is an earlier run's " << what << ", not this run's (not overwritten)\n";
+}
+
+// The kernel basis of a certified value; nothing for bounds (said on stderr):
+// an empty or partial file would read as a kernel that was never proved.
+void write_kernel(const std::string& path, const FunctionalDimensionResult& result) {
+  if (!result.certified) {
+    say_not_written("kernel", path, "the functional dimension was not certified (bounds only)");
+    return;
+  }
+  write_matrix(path, result.kernel);
+}
 
 bool write_rows(const std::string& path, const FunctionalDimensionResult& result, const std::atomic<bool>& interrupt,
                 bool stopped_in_batch) {

@@ -9,8 +9,8 @@
 
 namespace pleat::cli {
 
-// The matrix, after a first line "# COMMENT" when comment is not empty.
-void write_matrix(const std::string& path, const RationalMatrix& matrix, const std::string& comment = "");
+// The matrix, one row per line, entries comma-separated.
+void write_matrix(const std::string& path, const RationalMatrix& matrix);
 
 // A file not written this run: says why on stderr, and when PATH holds an
 // earlier run's file, that the file there is that run's (not overwritten).
