@@ -14,17 +14,22 @@ source "$(dirname "$0")/lib.sh"
 [ -x "$python" ] || { echo "no /usr/bin/python3: skipped"; exit 77; }
 
 # 2,40,40,3,1 seed 1: its walk takes under a second, its rows about two more
-# (Release build), so the interrupt lands while they are formed.
+# (Release build), so the interrupt lands while they are formed. Its walk is
+# too short to interrupt: the walk's progress comes every 0.2 s, and a CI
+# machine walked it before the line first showed "regions walked". The walk
+# case takes 2,60,60,60,1 seed 1, whose walk takes about 20 s here (the first
+# progress line after 0.3 s), so the interrupt lands inside it on any machine.
 "$pleat" random --arch 2,40,40,3,1 --seed 1 -o "$work/net.json" || fail "random"
+"$pleat" random --arch 2,60,60,60,1 --seed 1 -o "$work/long_walk.json" || fail "random"
 
 "$python" - "$pleat" "$work" <<'PY' || fail "the interrupted runs (above)"
 import os, pty, signal, subprocess, sys, json
 pleat, work = sys.argv[1], sys.argv[2]
 
-def interrupted_at(trigger):
+def interrupted_at(trigger, net="net.json"):
     """certify with --rows-out, SIGINT when the progress line first shows trigger."""
     leader, follower = pty.openpty()
-    run = subprocess.Popen([pleat, "certify", work + "/net.json", "--json", "--rows-out", work + "/rows.txt"],
+    run = subprocess.Popen([pleat, "certify", work + "/" + net, "--json", "--rows-out", work + "/rows.txt"],
                            stdout=open(work + "/out.json", "w"), stderr=follower)
     os.close(follower)
     seen, sent = b"", False
@@ -61,7 +66,7 @@ if not int(formed) < int(of) == out["regions_contributing"]:
     sys.exit(f"the file claims {formed} of {of} regions; certify counted {out['regions_contributing']}")
 
 # In the walk: bounds, and every row of the regions that contributed.
-text, out, lines = interrupted_at(b"regions walked")
+text, out, lines = interrupted_at(b"regions walked", "long_walk.json")
 if out["certified"] or out["stop_reason"] != "interrupted":
     sys.exit("a walk interrupted should leave bounds: " + json.dumps(out)[:500])
 if not lines[0].startswith("# partial: the run was not certified (stopped: interrupted); the exact rows of the "):
