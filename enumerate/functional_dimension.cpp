@@ -389,7 +389,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   std::optional<detail::RegionsSoFar> stopped_at;
   detail::RowBacklog backlog(
       [&](const detail::PendingRows& pending, const detail::RegionsSoFar& at) {
-        add_region_rows(pending.pattern, &pending.interior, &pending.rows);
+        add_region_rows(pending.pattern, &pending.interior, pending.rows ? &*pending.rows : nullptr);
         if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) stopped_at = at;
         return !stopped_at;
       },
@@ -421,16 +421,27 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     return true;
   };
   if (!options.across) {
-    // A region's rows modulo p on the thread that processed it, and the rows'
-    // reduction (the basis, serial) on whichever thread is free, while the
-    // others go on walking: the kept rows are the same (on_region still runs
-    // in order), only the threads doing the work differ (reduced in on_region,
-    // the basis held back the delivery, which finds the next regions to process).
-    // seen_by_points is not written during the walk, so workers may read it.
+    // The rows' reduction (the basis, serial) on the walk's background thread,
+    // while the others go on walking: the kept rows are the same (on_region
+    // still runs in order), only the threads doing the work differ (reduced in
+    // on_region, the basis held back the delivery, which finds the next
+    // regions to process). A region's rows modulo p are formed there too, as
+    // long as that thread keeps up: formed on the thread that processed the
+    // region, each region's 3 x D words crossed processors to be reduced and
+    // their memory crossed back to be refilled (a 2-thread certify of
+    // 2,15,15,15,1 spent 41 ms of thread time in its walk, 35 so, 28 at one
+    // thread, on our virtual machine in its hours of slow cross-core lines).
+    // Once rows_behind entries wait, the thread that processed the region
+    // forms them, so that only the reduction is serial (2,30,30,30,1, whose
+    // reduction is most of its walk). seen_by_points is not written during
+    // the walk, so workers may read it.
+    constexpr std::size_t rows_behind = 8;
     walk_options.prepare_region = [&](const Region& region) -> std::any {
       if (!region.nonsmooth_neurons.empty() || seen_by_points.contains(region.pattern)) return {};
-      return std::shared_ptr<const detail::PendingRows>(new detail::PendingRows{
-          region.pattern, region.interior.point, coefficient_blocks_mod(modular, region.pattern)});
+      auto pending = std::make_shared<detail::PendingRows>(
+          detail::PendingRows{region.pattern, region.interior.point, std::nullopt});
+      if (backlog.queued() >= rows_behind) pending->rows = coefficient_blocks_mod(modular, region.pattern);
+      return std::shared_ptr<const detail::PendingRows>(std::move(pending));
     };
     walk_options.on_region_in_pool = true;
     walk_options.background = [&] { return backlog.reduce_one(); };

@@ -114,18 +114,20 @@ struct WalkOptions {
   // result reaches on_region as Region::prepared. Lets a caller's per-region
   // work that does not depend on the order run on every thread.
   std::function<std::any(const Region&)> prepare_region;
-  // When true, on_region may run on any of the walk's threads, still one call
-  // at a time and in output order, as soon as the regions before it are done,
-  // while the other threads go on processing this level and the next (false:
+  // When true, on_region runs as soon as the regions before it are done (on
+  // the calling thread; once the walk is stopping, on any of its threads),
+  // still one call at a time and in output order, while the other threads go
+  // on processing this level and the next (false:
   // on the calling thread after each chunk of a level, with the other threads
   // idle). For on_region callbacks that do heavy serial work and touch no
   // thread-bound state. on_region runs without the walk's StopScope either way.
   bool on_region_in_pool = false;
   // Optional, with on_region_in_pool: serial work on_region leaves behind (a
   // queue it fills), one unit per call; returns false when none is pending.
-  // A walk thread not needed by on_region runs it before starting another
-  // region, one call at a time, with no StopScope, concurrently with
-  // on_region and the processing of regions. The walk may return with work
+  // One walk thread runs it before starting another region (the second, so
+  // that what it works on stays in one processor's cache, while the caller's
+  // runs on_region; the caller's when it is the only one), with no
+  // StopScope, concurrently with on_region and the processing of regions. The walk may return with work
   // still pending (and never calls it without on_region_in_pool): the caller
   // finishes it.
   std::function<bool()> background;

@@ -6,8 +6,10 @@ namespace pleat::detail {
 
 namespace {
 
+// The rows' bytes (none yet: nothing counted; such an entry holds a pattern
+// and a point, as certify's list of smooth regions does for every region).
 std::size_t bytes_of(const PendingRows& pending) {
-  return pending.rows.rows() * pending.rows.cols() * sizeof(std::uint64_t);
+  return pending.rows ? pending.rows->rows() * pending.rows->cols() * sizeof(std::uint64_t) : 0;
 }
 
 }  // namespace
@@ -22,6 +24,7 @@ void RowBacklog::push(std::shared_ptr<const PendingRows> pending, const RegionsS
     const std::lock_guard lock(queue_mutex_);
     queued_bytes_ += bytes_of(*pending);
     queue_.push_back(Entry{std::move(pending), at});
+    queued_.store(queue_.size(), std::memory_order_relaxed);
     is_over = queued_bytes_ > limit_bytes_;
   }
   while (is_over && reduce_one()) {
@@ -36,9 +39,13 @@ bool RowBacklog::reduce_one() {
   {
     const std::lock_guard lock(queue_mutex_);
     if (is_closed()) queue_.clear();
-    if (queue_.empty()) return false;
+    if (queue_.empty()) {
+      queued_.store(0, std::memory_order_relaxed);
+      return false;
+    }
     oldest = std::move(queue_.front());
     queue_.pop_front();
+    queued_.store(queue_.size(), std::memory_order_relaxed);
   }
   if (!reduce_(*oldest.pending, oldest.at)) is_closed_.store(true, std::memory_order_release);
   last_reduced_ = oldest.at;
@@ -47,6 +54,7 @@ bool RowBacklog::reduce_one() {
   if (is_closed()) {
     queue_.clear();
     queued_bytes_ = 0;
+    queued_.store(0, std::memory_order_relaxed);
   }
   return true;
 }
@@ -60,6 +68,7 @@ bool RowBacklog::reduce_all(const StopRequest& stop) {
   is_closed_.store(true, std::memory_order_release);
   queue_.clear();
   queued_bytes_ = 0;
+  queued_.store(0, std::memory_order_relaxed);
   return is_drained;
 }
 

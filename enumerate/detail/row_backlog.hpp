@@ -17,6 +17,7 @@
 #include <functional>
 #include <memory>
 #include <mutex>
+#include <optional>
 
 namespace pleat::detail {
 
@@ -25,7 +26,7 @@ namespace pleat::detail {
 struct PendingRows {
   ActivationPattern pattern;
   RationalVector interior;  // the region's exact interior point (its witness)
-  ModularMatrix rows;
+  std::optional<ModularMatrix> rows;  // none: `reduce` forms them
 };
 
 // The walk's regions delivered up to and including one region: what certify
@@ -66,6 +67,8 @@ class RowBacklog {
   RegionsSoFar last_reduced() const;
   // True once reduce returned false. Any thread.
   bool is_closed() const { return is_closed_.load(std::memory_order_acquire); }
+  // Entries queued and not yet taken for reduction (a moment's count). Any thread.
+  std::size_t queued() const { return queued_.load(std::memory_order_relaxed); }
 
  private:
   struct Entry {
@@ -75,6 +78,7 @@ class RowBacklog {
   Reduce reduce_;
   std::size_t limit_bytes_;
   std::atomic<bool> is_closed_{false};
+  std::atomic<std::size_t> queued_{0};  // queue_.size(), readable without the lock
   mutable std::mutex reducing_;  // held while an entry is reduced: one at a time, in order
   std::mutex queue_mutex_;
   std::deque<Entry> queue_;       // under queue_mutex_

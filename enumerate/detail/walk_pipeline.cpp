@@ -139,10 +139,9 @@ void WalkPipeline::consume_ready(std::unique_lock<std::mutex>& lock, std::size_t
   is_consuming_ = false;
 }
 
-// One unit of background work, without the lock; one thread at a time.
+// One unit of background work, without the lock; on one thread (may_run_background).
 void WalkPipeline::run_background(std::unique_lock<std::mutex>& lock, const Hooks& hooks) {
   static const StopRequest never;
-  is_in_background_ = true;
   lock.unlock();
   bool is_more = false;
   try {
@@ -150,24 +149,29 @@ void WalkPipeline::run_background(std::unique_lock<std::mutex>& lock, const Hook
     is_more = hooks.background();
   } catch (...) {
     lock.lock();
-    is_in_background_ = false;
     fail(std::current_exception());
     return;
   }
   lock.lock();
-  is_in_background_ = false;
   if (!is_more) may_have_background_ = false;
 }
 
-// Worker 0 (run's caller) consumes while the run goes on, so that what
-// consume keeps from call to call (certify's row basis: a megabyte) stays in
-// one processor's cache; consumed on whichever thread was free, it moved
-// between processors, and a 2-thread certify of 2,15,15,15,1 spent about a
-// millisecond more in it. With background work (run by the threads not
-// consuming, which may then be all but the caller's) and once stopped (the
+// Worker 0 (run's caller) consumes while the run goes on, and worker 1 alone
+// runs the background work (worker 0 when there is no other), so that what
+// each keeps from call to call (the walk's pattern store and levels;
+// certify's row basis, a megabyte) stays in one processor's cache. Moving
+// between processors costs every cache line it touches: on our 2-core
+// virtual machine a line crossed in 50 ns in some hours and 320 ns in others
+// (two threads bouncing a flag), and with consume and background on
+// whichever thread was free a 2-thread certify of 2,15,15,15,1 spent 12 ms
+// of thread time more than one thread (41 against 29). Once stopped (the
 // caller may have left), any thread consumes.
-bool WalkPipeline::may_consume(std::size_t worker, const Hooks& hooks) const {
-  return worker == 0 || hooks.background || stopped_ != StopReason::none;
+bool WalkPipeline::may_consume(std::size_t worker) const {
+  return worker == 0 || stopped_ != StopReason::none;
+}
+
+bool WalkPipeline::may_run_background(std::size_t worker) const {
+  return worker == std::min<std::size_t>(1, workers_ - 1);
 }
 
 // Nothing to do: before sleeping, watch for a change for a while without the
@@ -211,7 +215,7 @@ void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
   const StopScope scope(hooks.stop);
   std::unique_lock lock(mutex_);
   while (!is_over_) {
-    if (!is_consuming_ && is_needed_done() && may_consume(worker, hooks)) {
+    if (!is_consuming_ && is_needed_done() && may_consume(worker)) {
       consume_ready(lock, worker, hooks);
       continue;
     }
@@ -222,7 +226,7 @@ void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
       }
     }
     if (stopped_ != StopReason::none) break;  // what is done gets consumed by whoever finishes it
-    if (may_have_background_ && !is_in_background_) {
+    if (may_have_background_ && may_run_background(worker)) {
       run_background(lock, hooks);
       continue;
     }

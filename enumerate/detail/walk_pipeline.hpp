@@ -31,9 +31,10 @@ struct WalkTask {
 
 // Tasks are numbered 0, 1, 2, ... in the order they are added. Any thread
 // processes any task, preferring the one the consumer needs next, then the
-// others in the order they were added; one thread at a time consumes them in
-// the order the consumer asks for (the caller's, unless there is background
-// work: see may_consume), while the others go on processing. So a
+// others in the order they were added; the caller's thread consumes them in
+// the order the consumer asks for, while the others go on processing, and
+// background work runs on one other thread (see may_consume,
+// may_run_background). So a
 // walk's next level is processed while this one is still being delivered,
 // and what is delivered, and in which order, does not depend on the thread
 // count.
@@ -90,11 +91,11 @@ class WalkPipeline {
   // needed next is among them. Returns the stop's reason (none when consume
   // ended the run). Rethrows the first other exception once every thread has
   // ended. Called once.
-  // A thread not consuming runs pending background work before starting
-  // another task (on one thread: right after each consume, as if consume did
-  // it): it is the serial stage that would otherwise hold back the end of the
-  // run, while the other threads process. Work still pending when the run
-  // ends is left to the caller.
+  // Worker 1 (worker 0 when it is the only one) runs pending background work
+  // before starting another task (on one thread: right after each consume,
+  // as if consume did it): it is the serial stage that would otherwise hold
+  // back the end of the run, while the other threads process. Work still
+  // pending when the run ends is left to the caller.
   StopReason run(std::size_t first, const StopRequest& stop, const Process& process, const Consume& consume,
                  const Tick& on_tick, const Background& background = {});
 
@@ -107,7 +108,8 @@ class WalkPipeline {
   std::optional<std::size_t> claim();
   void process_one(std::unique_lock<std::mutex>& lock, std::size_t worker, std::size_t index, const Hooks& hooks);
   void consume_ready(std::unique_lock<std::mutex>& lock, std::size_t worker, const Hooks& hooks);
-  bool may_consume(std::size_t worker, const Hooks& hooks) const;
+  bool may_consume(std::size_t worker) const;
+  bool may_run_background(std::size_t worker) const;
   void run_background(std::unique_lock<std::mutex>& lock, const Hooks& hooks);
   void signal_change();
   bool spin_for_change(std::unique_lock<std::mutex>& lock);
@@ -125,7 +127,6 @@ class WalkPipeline {
   std::size_t next_claim_ = 0;           // no task below it is waiting
   std::optional<std::size_t> needed_;    // the task consume asks for next
   bool is_consuming_ = false;
-  bool is_in_background_ = false;        // a thread runs background work
   bool may_have_background_ = false;     // consumed since background last found none
   bool is_over_ = false;                 // consume ended the run, or an exception did
   StopReason stopped_ = StopReason::none;  // set: no task is started any more

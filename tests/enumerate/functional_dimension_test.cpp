@@ -615,7 +615,7 @@ TEST(FunctionalDimension, CheckRejectsAKernelVectorAlteredInOneEntry) {
 }
 
 // The rows are reduced in the walk's pool (WalkOptions::on_region_in_pool)
-// and computed by its workers: the kept rows, their witnesses and the region
+// and formed by the reduction or by the workers: the kept rows, their witnesses and the region
 // where an early stop falls must not depend on the thread count either. Nor
 // may the phase after the walk, which splits its work by thread too (E's
 // image's product by row blocks, primes in batches, exact solves by row
@@ -633,18 +633,28 @@ TEST(FunctionalDimension, SameResultForAnyThreadCount) {
                                  random_network({2, 15, 15, 15, 1}, 1), random_network({2, 15, 15, 15, 15, 1}, 1),
                                  read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json")}) {
     for (const bool stop_at_scaling_bound : {false, true}) {
-      auto run = [&](unsigned threads) {
+      // is_background_dropped: no row is reduced during the walk, so once a
+      // few regions wait, the walk's threads form the rows of those processed
+      // after (prepare_region); the reduction after the walk forms the others'.
+      auto run = [&](unsigned threads, bool is_background_dropped = false) {
         FunctionalDimensionOptions options;
         options.walk.threads = threads;
         options.stop_at_scaling_bound = stop_at_scaling_bound;
         options.points_first = false;  // stopping at the bound: inside the walk
         options.keep_kernel = true;
+        if (is_background_dropped)
+          options.walker = [](const Network& n, const Domain& d, const WalkOptions& o) {
+            WalkOptions without = o;
+            without.background = {};
+            return walk_regions(n, d, without);
+          };
         return certify_functional_dimension(network, make_whole_space(network.input_dim), options);
       };
       const auto a = run(1);
       early_stops += a.early_stop;
-      for (unsigned threads : {2u, 3u}) {
-        const auto b = run(threads);
+      for (const auto& [threads, is_background_dropped] :
+           std::vector<std::pair<unsigned, bool>>{{2, false}, {3, false}, {2, true}}) {
+        const auto b = run(threads, is_background_dropped);
         EXPECT_EQ(a.functional_dimension, b.functional_dimension);
         EXPECT_EQ(a.lower_bound, b.lower_bound);
         EXPECT_EQ(a.regions_walked, b.regions_walked);

@@ -1,6 +1,6 @@
 // Serial work a walk's delivery leaves behind: detail::WalkPipeline's
 // background hook and certify's queue of rows for its basis
-// (detail::RowBacklog), which run it on whichever walk thread is free.
+// (detail::RowBacklog), which run it on one walk thread while the others walk.
 #include "core/stop.hpp"
 #include "enumerate/detail/row_backlog.hpp"
 #include "enumerate/detail/walk_pipeline.hpp"
@@ -29,6 +29,8 @@ struct BackgroundRun {
   std::size_t left = 0;           // units still queued when run returned
   std::size_t most_queued_at_process = 0;  // the longest queue a task's processing saw
   bool overlapped = false;        // two background calls at once
+  std::set<std::thread::id> consumers, background_threads;  // the threads that ran consume, background
+  std::set<std::thread::id> worker_1;  // the thread that processed as worker 1 (if it processed any)
 };
 
 BackgroundRun run_with_background(std::size_t workers, std::size_t total, std::size_t throw_at = SIZE_MAX) {
@@ -40,15 +42,17 @@ BackgroundRun run_with_background(std::size_t workers, std::size_t total, std::s
   pipeline.add(ActivationPattern{{NeuronState::on}});
   pipeline.run(
       0, StopRequest(),
-      [&](std::size_t, detail::WalkTask& task) {
+      [&](std::size_t worker, detail::WalkTask& task) {
         const std::lock_guard lock(mutex);
         out.most_queued_at_process = std::max(out.most_queued_at_process, queue.size());
+        if (worker == 1) out.worker_1.insert(std::this_thread::get_id());
         task.processed = std::make_unique<detail::Processed>();
       },
       [&](std::size_t index, detail::WalkTask&) -> std::optional<std::size_t> {
         {
           const std::lock_guard lock(mutex);
           queue.push_back(index);
+          out.consumers.insert(std::this_thread::get_id());
         }
         if (index + 1 == total) return std::nullopt;
         return pipeline.add(ActivationPattern{{NeuronState::off}});
@@ -60,6 +64,7 @@ BackgroundRun run_with_background(std::size_t workers, std::size_t total, std::s
         bool is_any = false;
         {
           const std::lock_guard lock(mutex);
+          out.background_threads.insert(std::this_thread::get_id());
           if (!queue.empty()) {
             unit = queue.front();
             queue.pop_front();
@@ -92,6 +97,29 @@ TEST(WalkBackground, RunsOneAtATimeInOrder) {
     if (workers == 1) {
       EXPECT_EQ(run.most_queued_at_process, 0u);
       EXPECT_LE(run.left, 1u);  // at most the last consume's unit
+    }
+  }
+}
+
+// Consume runs on the caller's thread and background work on one other (that
+// of worker 1), so that the consumer's data and the background's (certify's
+// row basis) each stay in one processor's cache; on one thread, both on the
+// caller's.
+TEST(WalkBackground, ConsumesOnTheCallerAndRunsBackgroundOnWorkerOne) {
+  for (std::size_t workers : {1u, 2u, 3u}) {
+    const BackgroundRun run = run_with_background(workers, 300);
+    EXPECT_EQ(run.consumers, std::set<std::thread::id>{std::this_thread::get_id()}) << workers;
+    if (workers == 1) {
+      EXPECT_EQ(run.background_threads, std::set<std::thread::id>{std::this_thread::get_id()});
+      continue;
+    }
+    // (A loaded machine may end the run before worker 1 ever looks for background work.)
+    ASSERT_LE(run.background_threads.size(), 1u) << workers;
+    if (!run.background_threads.empty()) {
+      EXPECT_NE(*run.background_threads.begin(), std::this_thread::get_id()) << workers;
+      if (!run.worker_1.empty()) {
+        EXPECT_EQ(run.worker_1, run.background_threads) << workers;
+      }
     }
   }
 }
@@ -218,8 +246,10 @@ TEST(RowBacklog, ReducesInOrderOneAtATimeWithinItsLimit) {
       4 * entry_bytes);
   for (std::size_t i = 0; i < 4; ++i) backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)), {i + 1, 0, 0});
   EXPECT_TRUE(reduced.empty());  // at the limit, not over it
+  EXPECT_EQ(backlog.queued(), 4u);
   backlog.push(std::make_shared<detail::PendingRows>(rows_of(4, 3, 10)), {5, 0, 0});
   EXPECT_EQ(reduced, (std::vector<std::size_t>{0}));  // one reduced: back at the limit
+  EXPECT_EQ(backlog.queued(), 4u);
   std::atomic<bool> is_pushing{true};
   std::thread drainer([&] {
     while (is_pushing || backlog.reduce_one()) {
@@ -234,6 +264,7 @@ TEST(RowBacklog, ReducesInOrderOneAtATimeWithinItsLimit) {
   ASSERT_EQ(reduced.size(), 2000u);
   for (std::size_t i = 0; i < reduced.size(); ++i) EXPECT_EQ(reduced[i], i);
   EXPECT_FALSE(backlog.reduce_one());
+  EXPECT_EQ(backlog.queued(), 0u);
 }
 
 // A stop (time limit, Ctrl-C) ends the drain after the walk at the next
