@@ -389,7 +389,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   std::optional<detail::RegionsSoFar> stopped_at;
   detail::RowBacklog backlog(
       [&](const detail::PendingRows& pending, const detail::RegionsSoFar& at) {
-        add_region_rows(pending.pattern, &pending.interior, pending.rows ? &*pending.rows : nullptr);
+        add_region_rows(pending.pattern, &pending.interior, pending.rows.get());
         if (options.stop_at_scaling_bound && basis.rank() == result.scaling_bound) stopped_at = at;
         return !stopped_at;
       },
@@ -408,8 +408,12 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     if (!options.across) smooth.push_back(region.pattern);  // across: each owner keeps its own
     if (seen_by_points.contains(region.pattern)) {
       // its rows are in the basis already
-    } else if (const auto* pending = std::any_cast<std::shared_ptr<const detail::PendingRows>>(&region.prepared)) {
-      backlog.push(*pending, delivered);  // reduced by walk_options.background, in this order
+    } else if (const auto* rows = std::any_cast<std::shared_ptr<const ModularMatrix>>(&region.prepared)) {
+      // Made on this thread, which frees it too (RowBacklog::push); reduced by
+      // walk_options.background, in this order.
+      backlog.push(std::make_shared<const detail::PendingRows>(
+                       detail::PendingRows{region.pattern, region.interior.point, *rows}),
+                   delivered);
     } else {
       add_region_rows(region.pattern, &region.interior.point);
       // (Only here is the rank read: the backlog's reduction may be writing it.)
@@ -425,23 +429,18 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // while the others go on walking: the kept rows are the same (on_region
     // still runs in order), only the threads doing the work differ (reduced in
     // on_region, the basis held back the delivery, which finds the next
-    // regions to process). A region's rows modulo p are formed there too, as
-    // long as that thread keeps up: formed on the thread that processed the
-    // region, each region's 3 x D words crossed processors to be reduced and
-    // their memory crossed back to be refilled (a 2-thread certify of
-    // 2,15,15,15,1 spent 41 ms of thread time in its walk, 35 so, 28 at one
-    // thread, on our virtual machine in its hours of slow cross-core lines).
-    // Once rows_behind entries wait, the thread that processed the region
-    // forms them, so that only the reduction is serial (2,30,30,30,1, whose
-    // reduction is most of its walk). seen_by_points is not written during
-    // the walk, so workers may read it.
+    // regions to process). A region's rows modulo p are formed there too while
+    // that thread keeps up: formed where the region was processed, its 3 x D
+    // words crossed processors to be reduced and their memory crossed back
+    // (2,15,15,15,1 at 2 threads: 41 ms of walk thread time, 35 so, 28 at one).
+    // Once rows_behind entries wait, the processing thread forms them, so that
+    // only the reduction is serial (2,30,30,30,1: most of its walk).
+    // seen_by_points is not written during the walk, so workers may read it.
     constexpr std::size_t rows_behind = 8;
     walk_options.prepare_region = [&](const Region& region) -> std::any {
       if (!region.nonsmooth_neurons.empty() || seen_by_points.contains(region.pattern)) return {};
-      auto pending = std::make_shared<detail::PendingRows>(
-          detail::PendingRows{region.pattern, region.interior.point, std::nullopt});
-      if (backlog.queued() >= rows_behind) pending->rows = coefficient_blocks_mod(modular, region.pattern);
-      return std::shared_ptr<const detail::PendingRows>(std::move(pending));
+      if (backlog.queued() < rows_behind) return std::shared_ptr<const ModularMatrix>();
+      return std::make_shared<const ModularMatrix>(coefficient_blocks_mod(modular, region.pattern));
     };
     walk_options.on_region_in_pool = true;
     walk_options.background = [&] { return backlog.reduce_one(); };

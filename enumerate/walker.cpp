@@ -213,12 +213,15 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
   // Delivers the region of the pattern at `slot` (in order): numbers it,
   // records its neighbours (new patterns join next_level, and the pipeline's
   // tasks when there is one), calls on_region and frees the record. Returns
-  // false when the walk must stop (delivery_stop says why).
+  // false when the walk must stop (delivery_stop says why). made_elsewhere:
+  // another thread processed it and frees its record (WalkPipeline::retire),
+  // so the adjacency keeps a copy of its affine map made here, not the
+  // map's own memory, which this thread would free, across processors.
   std::vector<std::uint32_t> next_level;
   std::vector<std::uint32_t> neighbors;
   StopReason delivery_stop = StopReason::none;
   detail::WalkPipeline* pipeline = nullptr;
-  const auto deliver = [&](std::uint32_t slot, detail::Processed& processed) {
+  const auto deliver = [&](std::uint32_t slot, detail::Processed& processed, bool made_elsewhere = false) {
     if (!processed.is_region) {
       anomaly = true;
       return true;
@@ -251,7 +254,8 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
       for (const auto& other : facet.other_neighbors) add_neighbor(other);
     }
     const bool is_stop_asked = options.on_region && !options.on_region(region);
-    adjacency.add_region(id, slot, neighbors, std::move(region.affine), id_of_slot);  // after on_region, which reads it
+    adjacency.add_region(id, slot, neighbors, made_elsewhere ? AffineMap(region.affine) : std::move(region.affine),
+                         id_of_slot);  // after on_region, which reads it
     if (!pipeline) processed = detail::Processed{};  // free the record now: a level can be large (the pipeline's: retire)
     if (is_stop_asked) {
       delivery_stop = StopReason::requested;
@@ -299,7 +303,7 @@ WalkSummary walk_regions(const Network& network, const Domain& domain, const Wal
           task.processed = std::make_unique<detail::Processed>(process(worker, task.pattern));
         },
         [&](std::size_t index, detail::WalkTask& task) -> std::optional<std::size_t> {
-          if (!deliver(static_cast<std::uint32_t>(index), *task.processed)) return std::nullopt;
+          if (!deliver(static_cast<std::uint32_t>(index), *task.processed, task.worker != 0)) return std::nullopt;
           tasks.retire(task);
           if (++position < level.size()) return level[position];
           position = 0;

@@ -20,8 +20,11 @@ RowBacklog::RowBacklog(Reduce reduce, std::size_t limit_bytes)
 void RowBacklog::push(std::shared_ptr<const PendingRows> pending, const RegionsSoFar& at) {
   if (is_closed()) return;
   bool is_over = false;
+  std::vector<std::shared_ptr<const PendingRows>> spent;
   {
     const std::lock_guard lock(queue_mutex_);
+    spent.swap(spent_);
+    pusher_ = std::this_thread::get_id();
     queued_bytes_ += bytes_of(*pending);
     queue_.push_back(Entry{std::move(pending), at});
     queued_.store(queue_.size(), std::memory_order_relaxed);
@@ -51,6 +54,7 @@ bool RowBacklog::reduce_one() {
   last_reduced_ = oldest.at;
   const std::lock_guard lock(queue_mutex_);
   queued_bytes_ -= bytes_of(*oldest.pending);  // counted until reduced: the rows are held till then
+  if (std::this_thread::get_id() != pusher_) spent_.push_back(std::move(oldest.pending));
   if (is_closed()) {
     queue_.clear();
     queued_bytes_ = 0;

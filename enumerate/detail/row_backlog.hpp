@@ -17,7 +17,8 @@
 #include <functional>
 #include <memory>
 #include <mutex>
-#include <optional>
+#include <thread>
+#include <vector>
 
 namespace pleat::detail {
 
@@ -26,7 +27,7 @@ namespace pleat::detail {
 struct PendingRows {
   ActivationPattern pattern;
   RationalVector interior;  // the region's exact interior point (its witness)
-  std::optional<ModularMatrix> rows;  // none: `reduce` forms them
+  std::shared_ptr<const ModularMatrix> rows;  // null: `reduce` forms them
 };
 
 // The walk's regions delivered up to and including one region: what certify
@@ -43,7 +44,11 @@ struct RegionsSoFar {
 // reduced each region's rows itself, for any thread count. reduce returning
 // false closes the backlog (certify's rank met the scaling bound): the
 // entries queued after it are dropped unreduced, and so is whatever is
-// pushed later, as if the walk had stopped at that entry's region.
+// pushed later, as if the walk had stopped at that entry's region. An entry
+// reduced on another thread than the one that pushed it is freed by the next
+// push (or with the backlog), on the pushing thread, where certify makes
+// them: freed by the reducing thread, their memory crossed processors back
+// through the allocator.
 class RowBacklog {
  public:
   using Reduce = std::function<bool(const PendingRows&, const RegionsSoFar&)>;
@@ -82,6 +87,8 @@ class RowBacklog {
   mutable std::mutex reducing_;  // held while an entry is reduced: one at a time, in order
   std::mutex queue_mutex_;
   std::deque<Entry> queue_;       // under queue_mutex_
+  std::vector<std::shared_ptr<const PendingRows>> spent_;  // reduced, for push to free (under queue_mutex_)
+  std::thread::id pusher_;  // the thread of the last push (under queue_mutex_)
   std::size_t queued_bytes_ = 0;  // under queue_mutex_
   RegionsSoFar last_reduced_;     // under reducing_
 };

@@ -224,7 +224,7 @@ TEST(WalkBackground, ConsumesOnTheCallerAndFreesOnTheMaker) {
 detail::PendingRows rows_of(std::size_t label, std::size_t rows, std::size_t columns) {
   detail::PendingRows pending;
   pending.pattern.states.assign(label + 1, NeuronState::on);
-  pending.rows = ModularMatrix(rows, columns);
+  pending.rows = std::make_shared<const ModularMatrix>(rows, columns);
   return pending;
 }
 
@@ -265,6 +265,34 @@ TEST(RowBacklog, ReducesInOrderOneAtATimeWithinItsLimit) {
   for (std::size_t i = 0; i < reduced.size(); ++i) EXPECT_EQ(reduced[i], i);
   EXPECT_FALSE(backlog.reduce_one());
   EXPECT_EQ(backlog.queued(), 0u);
+}
+
+// Entries are freed on the thread that pushed them: one reduced elsewhere by
+// the next push, one reduced by the pusher right away (certify makes them on
+// the walk's delivery thread and reduces them on another: the allocator then
+// takes their memory back where it gave it).
+TEST(RowBacklog, FreesEachEntryOnTheThreadThatPushedIt) {
+  std::mutex mutex;
+  std::vector<std::pair<std::size_t, std::thread::id>> freed;  // label, freeing thread
+  const auto entry = [&](std::size_t label) {
+    return std::shared_ptr<const detail::PendingRows>(new detail::PendingRows(rows_of(label, 1, 4)),
+                                                      [&, label](const detail::PendingRows* pending) {
+                                                        const std::lock_guard lock(mutex);
+                                                        freed.emplace_back(label, std::this_thread::get_id());
+                                                        delete pending;
+                                                      });
+  };
+  detail::RowBacklog backlog([](const detail::PendingRows&, const detail::RegionsSoFar&) { return true; },
+                             std::size_t{1} << 20);
+  backlog.push(entry(0), {1, 0, 0});
+  std::thread([&] { EXPECT_TRUE(backlog.reduce_one()); }).join();
+  EXPECT_TRUE(freed.empty());  // held for the pusher
+  backlog.push(entry(1), {2, 0, 0});
+  ASSERT_EQ(freed.size(), 1u);
+  EXPECT_EQ(freed[0], std::make_pair(std::size_t{0}, std::this_thread::get_id()));
+  EXPECT_TRUE(backlog.reduce_one());  // reduced by the pusher: freed now
+  ASSERT_EQ(freed.size(), 2u);
+  EXPECT_EQ(freed[1], std::make_pair(std::size_t{1}, std::this_thread::get_id()));
 }
 
 // A stop (time limit, Ctrl-C) ends the drain after the walk at the next
