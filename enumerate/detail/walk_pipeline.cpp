@@ -181,23 +181,12 @@ bool WalkPipeline::may_run_background(std::size_t worker) const {
 // between looks: by then the thread whose work this one waits for may need
 // this core. True when something changed.
 bool WalkPipeline::spin_for_change(std::unique_lock<std::mutex>& lock) {
-  using clock = std::chrono::steady_clock;
   const std::uint64_t seen = version_.load(std::memory_order_acquire);
   lock.unlock();
-  const auto start = clock::now();
-  const auto pause_until = start + std::chrono::microseconds(50);
-  const auto until = start + std::chrono::microseconds(200);
-  bool is_changed = false;
-  for (auto now = start; !is_changed && now < until; now = clock::now()) {
-    if (now < pause_until) {
-      relax_processor();
-    } else {
-      std::this_thread::yield();
-    }
-    is_changed = version_.load(std::memory_order_acquire) != seen;
-  }
+  spin_while([&] { return version_.load(std::memory_order_acquire) == seen; }, std::chrono::microseconds(50),
+             std::chrono::microseconds(200));
   lock.lock();
-  return is_changed || version_.load(std::memory_order_relaxed) != seen;
+  return version_.load(std::memory_order_relaxed) != seen;
 }
 
 void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
@@ -260,14 +249,8 @@ WalkPipeline::~WalkPipeline() {
 // milliseconds), then sleeps until they come; serves them, or ends when the
 // pipeline does without a run.
 void WalkPipeline::await_run(std::size_t worker) {
-  using clock = std::chrono::steady_clock;
-  const auto start = clock::now();
-  const auto pause_until = start + std::chrono::milliseconds(1);
-  const auto until = start + std::chrono::milliseconds(20);
-  for (auto now = start; version_.load(std::memory_order_acquire) == 0 && now < until; now = clock::now()) {
-    if (now < pause_until) relax_processor();
-    else std::this_thread::yield();
-  }
+  spin_while([&] { return version_.load(std::memory_order_acquire) == 0; }, std::chrono::milliseconds(1),
+             std::chrono::milliseconds(20));
   const Hooks* hooks = nullptr;
   {
     std::unique_lock lock(mutex_);

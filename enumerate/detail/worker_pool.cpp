@@ -82,16 +82,12 @@ void WorkerPool::serve() {
   std::size_t seen = 0;
   bool spins = false;  // not when just started: certify's walk starts now
   for (;;) {
-    if (spins) {  // a little while for the next job, then sleep until it comes
-      const auto spin_start = std::chrono::steady_clock::now();
-      const auto pause_end = spin_start + pause_time, spin_end = spin_start + spin_time;
-      for (auto now = spin_start; generation_.load(std::memory_order_acquire) == seen &&
-                                  !is_resting_.load(std::memory_order_relaxed) && now < spin_end;
-           now = std::chrono::steady_clock::now()) {
-        if (now < pause_end) relax_processor();
-        else std::this_thread::yield();
-      }
-    }
+    if (spins)  // a little while for the next job, then sleep until it comes
+      spin_while(
+          [&] {
+            return generation_.load(std::memory_order_acquire) == seen && !is_resting_.load(std::memory_order_relaxed);
+          },
+          pause_time, spin_time);
     std::unique_lock lock(mutex_);
     wake_.wait(lock, [&] { return generation_.load() != seen; });
     seen = generation_.load();

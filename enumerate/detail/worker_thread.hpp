@@ -2,6 +2,7 @@
 // (not installed).
 #pragma once
 
+#include <chrono>
 #include <cstddef>
 #include <functional>
 #include <thread>
@@ -28,6 +29,20 @@ inline void relax_processor() {
 #if defined(__x86_64__) || defined(__i386__)
   for (int i = 0; i < 16; ++i) __builtin_ia32_pause();
 #endif
+}
+
+// The spin of the walk's and the loop helpers' waits: while waiting() holds,
+// for at most `total`, pausing (relax_processor) between looks for the first
+// `pause` of it, then yielding. waiting() is read first, before any wait.
+template <class Waiting>
+void spin_while(Waiting&& waiting, std::chrono::microseconds pause, std::chrono::microseconds total) {
+  using clock = std::chrono::steady_clock;
+  const auto start = clock::now();
+  const auto pause_until = start + pause, until = start + total;
+  for (auto now = start; waiting() && now < until; now = clock::now()) {
+    if (now < pause_until) relax_processor();
+    else std::this_thread::yield();
+  }
 }
 
 }  // namespace pleat::detail
