@@ -15,15 +15,14 @@
 
 namespace pleat::detail {
 
-// The blocks' rows, stacked in order (moved, not copied).
+// The blocks' rows, stacked in order (moved, not copied). Each block is freed
+// once its rows are moved, so the rows are held about once, not twice.
 inline RationalMatrix stack_rows(std::vector<RationalMatrix>&& blocks, std::size_t columns) {
   std::size_t total = 0;
   for (const auto& block : blocks) total += block.rows();
-  RationalMatrix out(total, columns);
-  std::size_t r = 0;
-  for (auto& block : blocks)
-    for (std::size_t i = 0; i < block.rows(); ++i, ++r)
-      for (std::size_t c = 0; c < columns; ++c) out(r, c) = std::move(block(i, c));
+  RationalMatrix out(0, columns);
+  out.reserve_rows(total);
+  for (auto& block : blocks) out.append_rows(std::move(block));
   return out;
 }
 
