@@ -6,6 +6,7 @@
 #include "core/detail/flint_matrix.hpp"
 #include "enumerate/detail/check_basis.hpp"
 #include "enumerate/detail/kernel_check.hpp"
+#include "enumerate/detail/rightmost_pivots.hpp"
 #include "enumerate/detail/span_proof.hpp"
 
 #include <flint/nmod.h>
@@ -98,29 +99,6 @@ bool is_annihilated(const RationalVector& row, const std::vector<SparseIntegerRo
     if (sgn(sum) != 0) return false;
   }
   return true;
-}
-
-// Columns on which independent integer rows are nonsingular modulo p, the
-// rightmost such set (the pivots of the rows' echelon form with the columns
-// reversed, as kernel_basis_exact chooses: the later layers' parameters,
-// whose solves were 2-3 times cheaper here). Fewer columns when p loses
-// rank (the caller's solve then fails).
-std::vector<std::size_t> rightmost_pivots(const std::vector<std::vector<Integer>>& rows, std::uint64_t prime) {
-  if (rows.empty()) return {};
-  const std::size_t columns = rows[0].size();
-  detail::NmodMatrix reduced(rows.size(), columns, prime);
-  for (std::size_t i = 0; i < rows.size(); ++i)
-    for (std::size_t c = 0; c < columns; ++c)
-      nmod_mat_entry(reduced.get(), static_cast<slong>(i), static_cast<slong>(columns - 1 - c)) =
-          mpz_fdiv_ui(rows[i][c].get_mpz_t(), prime);
-  const auto rank = static_cast<std::size_t>(nmod_mat_rref(reduced.get()));
-  std::vector<std::size_t> pivots;
-  for (std::size_t i = 0; i < rank; ++i) {
-    std::size_t c = 0;
-    while (nmod_mat_entry(reduced.get(), static_cast<slong>(i), static_cast<slong>(c)) == 0) ++c;
-    pivots.push_back(columns - 1 - c);
-  }
-  return pivots;
 }
 
 class BatchRanker {
@@ -234,7 +212,9 @@ class BatchRanker {
     KeptSystem system;
     for (std::size_t k = 0; k < kept.size(); ++k)
       if (kept[k]) system.rows.push_back(integer_row(row(k)));
-    system.pivots = rightmost_pivots(system.rows, modular_.prime);
+    system.pivots = detail::rightmost_pivots(system.rows, modular_.prime, [this](std::size_t done, std::size_t total) {
+      if (on_progress_) on_progress_("pivots", done, total);
+    });
     if (system.pivots.size() != system.rows.size()) {
       system.pivots.clear();
       return system;

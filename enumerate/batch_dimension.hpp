@@ -53,13 +53,15 @@ struct BatchDimension {
   StopReason stop_reason = StopReason::none;  // none: both ranks exact
 };
 
-// Progress: phase "points" (done of total points decided), "regions" or
-// "batch" (the exact proof of that rank: done of total rows checked).
+// Progress: phase "points" (done of total points decided), "pivots" (before
+// each proof: done of total columns of the kept rows' elimination modulo p,
+// which chooses the columns the exact solves use), "regions" or "batch" (the
+// exact proof of that rank: done of total rows checked).
 using BatchProgress = std::function<void(const char* phase, std::size_t done, std::size_t total)>;
 
-// Both ranks, stopping when `stop` asks (polled between points and rows, and
-// inside exact evaluation; a single exact kernel solve of at most D rows is
-// not split). A point outside the domain, on its boundary, on a bent
+// Both ranks, stopping when `stop` asks (polled between points and rows,
+// between the elimination's column blocks, and inside exact evaluation and
+// the exact solves). A point outside the domain, on its boundary, on a bent
 // hyperplane or in a region without smooth points is an input_error starting
 // with place(i), as batch_point_patterns (enumerate/claim.hpp) says; a
 // stopped run has checked only the first points_checked points. threads:

@@ -102,7 +102,7 @@ TEST(BatchDimension, AStopAnywhereLeavesBoundsThatContainTheValue) {
     const std::vector<RationalVector> points = points_in_box(network, c.points, c.seed);
     const std::size_t batch_rank = stacked_jacobian_rank(network, points);
     const std::size_t regions_rank = stacked_block_rank(network, points);
-    for (const std::string phase : {"points", "regions", "batch"})
+    for (const std::string phase : {"points", "pivots", "regions", "batch"})
       for (std::size_t k = 0; k < 3; ++k) {
         std::atomic<bool> interrupt{false};
         std::size_t calls = 0;
@@ -125,7 +125,7 @@ TEST(BatchDimension, AStopAnywhereLeavesBoundsThatContainTheValue) {
         }
       }
   }
-  for (const std::string phase : {"points", "regions", "batch"}) EXPECT_GT(stops[phase], 0u) << phase;
+  for (const std::string phase : {"points", "pivots", "regions", "batch"}) EXPECT_GT(stops[phase], 0u) << phase;
 }
 
 TEST(BatchDimension, Ramp1dIs11AndAPointOnABendIsNamed) {
