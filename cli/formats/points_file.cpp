@@ -55,6 +55,17 @@ std::vector<std::string> split_fields(const std::string& line) {
   return fields;
 }
 
+// A field that starts as a number does (a digit, or a sign or point and a
+// digit): a fault in it makes a bad value, never a column name.
+bool looks_numeric(const std::string& field) {
+  const auto digit = [](char c) { return c >= '0' && c <= '9'; };
+  if (field.empty()) return false;
+  if (digit(field[0])) return true;
+  std::size_t i = (field[0] == '+' || field[0] == '-') ? 1 : 0;
+  if (i < field.size() && field[i] == '.') ++i;
+  return i > 0 && i < field.size() && digit(field[i]);
+}
+
 bool is_number(const std::string& field) {
   try {
     (void)parse_rational(field);
@@ -107,6 +118,13 @@ PointsFile read_text_points(const std::string& path, std::size_t dimension) {
     if (file.line_number() == 1 && line.starts_with("\xEF\xBB\xBF")) line.erase(0, 3);
     const std::string content = trimmed(line);
     if (content.empty() || content.front() == '#') continue;
+    // Values separated by ';' (a spreadsheet's CSV in some locales) were one
+    // field that is no number: '1;2' read as a header of one column name.
+    if (content.find(';') != std::string::npos) {
+      const std::string shown = content.size() > 40 ? content.substr(0, 40) + "..." : content;
+      throw input_error(place + ": '" + shown +
+                        "' separates values with ';': separate them with commas, or with spaces or tabs");
+    }
     std::vector<std::string> fields = split_fields(content);
     if (is_first_line) {
       is_first_line = false;
@@ -115,7 +133,10 @@ PointsFile read_text_points(const std::string& path, std::size_t dimension) {
       // line that mixes numbers with other text is a point with a fault,
       // not a header to skip (the old rule dropped '1,2a' silently).
       const bool is_pandas_index = fields.front().empty() && fields.size() == dimension + 1;
-      const bool has_number = std::any_of(fields.begin(), fields.end(), is_number);
+      // A field that starts as a number does ('0.5x') is a faulty value too,
+      // not a column name: with one input it was skipped as a header.
+      const bool has_number = std::any_of(fields.begin(), fields.end(), is_number) ||
+                              std::any_of(fields.begin(), fields.end(), looks_numeric);
       if (is_pandas_index || !has_number) {
         // pandas writes its row index as a first column with an empty name.
         drops_index_column = is_pandas_index;

@@ -82,6 +82,19 @@ printf '%s\n' 'a,b,c' '1,2' > "$work/header3.csv";           bad header3.csv "he
 # error, not a row silently skipped (the old binary dropped both as headers).
 printf '%s\n' '1,2a' '1/3,1/7' > "$work/typo.csv";             bad typo.csv "typo.csv:1: value 2 ('2a')"
 printf '%s\n' '1/0,2' '1/3,1/7' > "$work/zero.csv";            bad zero.csv "zero.csv:1: value 1 ('1/0')"
+# Values separated by ';': said so, with the line (the first line '1;2' was
+# reported as "a header of 1 column names", a later one as "1 value").
+printf '%s\n' '1;2' '1/3,1/7' > "$work/semi1.csv";            bad semi1.csv "semi1.csv:1: '1;2' separates values with ';': separate them with commas, or with spaces or tabs"
+printf '%s\n' '1/3,1/7' '0.5;0.25' > "$work/semi2.csv";       bad semi2.csv "semi2.csv:2: '0.5;0.25' separates values with ';'"
+# A first line whose only field starts as a number is a point with a fault,
+# not a header: with one input the old binary skipped '0.5x' and went on.
+printf '%s\n' '0.5x' '1/3' > "$work/typo1.csv"
+err=$("$pleat" certify "$ramp" --points "$work/typo1.csv" -q 2>&1 >/dev/null)
+[ $? = 2 ] || fail "typo1.csv: a first line '0.5x' on a 1-input network must be exit 2: $err"
+expect_contains "$err" "typo1.csv:1: value 1 ('0.5x')" "typo1.csv"
+printf '%s\n' '-.5e,1' '1/3,1/7' > "$work/typo2.csv";          bad typo2.csv "typo2.csv:1: value 1 ('-.5e')"
+printf '%s\n' 'x,y' '1/3,1/7' > "$work/names.csv"
+[ "$(batch_rank "$fold" "$work/names.csv")" -gt 0 ] || fail "a header of names is still skipped"
 bad truncated.npy "truncated.npy: the array data does not match the file's length"
 bad nocolon.npy "nocolon.npy: the .npy header is not a dictionary of 'descr', 'fortran_order' and 'shape' as numpy writes it"
 bad extra.npy "extra.npy: the array data does not match the file's length"
