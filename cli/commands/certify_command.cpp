@@ -60,10 +60,7 @@ bool write_result_files(const CertifyArguments& arguments, const FunctionalDimen
   const bool rows_cut_short =
       !arguments.rows_path.empty() && write_rows(arguments.rows_path, result, interrupt, stopped_in_batch);
   if (!arguments.kernel_path.empty()) write_kernel(arguments.kernel_path, result);
-  if (!arguments.witness_path.empty())
-    write_output(arguments.witness_path,
-                 points_text(result.witness_points,
-                             "witness points: exact, strictly inside the domain, one per region whose rows raised the rank"));
+  if (!arguments.witness_path.empty()) write_witnesses(arguments.witness_path, result, stopped_in_batch);
   return rows_cut_short;
 }
 
@@ -560,7 +557,7 @@ void register_certify(CommandTable& commands) {
                      "Write a proof of the certified value that scripts/check_bundle.py re-checks "
                      "(pleat-bundle/1; none when not certified)");
   command.add_option("--witness-out", arguments->witness_path,
-                     "Write the exact points whose regions' rows raised the rank (re-check: --points FILE)");
+                     "Write the exact points whose regions' rows raised the rank (re-check: --points FILE; a run not certified writes first a line '# partial: ...': they prove the lower bound only)");
   command.add_option("--points", arguments->points_path,
                      "Also: the exact batch functional dimension at these points (text or .npy)");
   CLI::Option* claim = add_unsigned_option(command, "--claim", arguments->claim_value,

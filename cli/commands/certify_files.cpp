@@ -2,6 +2,7 @@
 #include "cli/commands/certify_files.hpp"
 
 #include "cli/common.hpp"
+#include "cli/formats/points_file.hpp"
 
 #include <atomic>
 #include <filesystem>
@@ -82,6 +83,24 @@ bool write_rows(const std::string& path, const FunctionalDimensionResult& result
   write_output(path, line.empty() ? rows.str() : "# " + line + "\n" + rows.str());
   if (!line.empty()) std::cerr << "pleat: " << path << ": " << line << "\n";
   return cut_short;
+}
+
+void write_witnesses(const std::string& path, const FunctionalDimensionResult& result, bool stopped_in_batch) {
+  std::string line;
+  if (!result.certified && stopped_in_batch)
+    line = "partial: the run was not certified (stopped: " + to_string(result.stop_reason) +
+           " in the --points batch stage, before the walk); no points were drawn, so none follow: the batch's "
+           "proved bounds are in the output, not here";
+  else if (!result.certified)
+    line = "partial: the run was not certified (" +
+           (result.stop_reason == StopReason::none ? std::string("its bounds do not meet")
+                                                   : "stopped: " + to_string(result.stop_reason)) +
+           "); the " + std::to_string(result.witness_points.size()) +
+           " points whose regions' rows raised the rank before it ended, to " + std::to_string(result.lower_bound) +
+           ", the proved lower bound, not the functional dimension";
+  const std::string comment = "witness points: exact, strictly inside the domain, one per region whose rows raised the rank";
+  write_output(path, (line.empty() ? "" : "# " + line + "\n") + points_text(result.witness_points, comment));
+  if (!line.empty()) std::cerr << "pleat: " << path << ": " << line << "\n";
 }
 
 }  // namespace pleat::cli

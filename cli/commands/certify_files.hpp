@@ -34,4 +34,11 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
 bool write_rows(const std::string& path, const FunctionalDimensionResult& result, const std::atomic<bool>& interrupt,
                 bool stopped_in_batch = false);
 
+// --witness-out: the exact points whose regions' rows raised the rank (a
+// points file: re-check with --points). Of a run not certified they prove
+// only the lower bound: a first line "# partial: ..." says so, and stderr
+// the same (the file read as a certified run's evidence); stopped_in_batch as
+// for write_rows (no points then).
+void write_witnesses(const std::string& path, const FunctionalDimensionResult& result, bool stopped_in_batch = false);
+
 }  // namespace pleat::cli

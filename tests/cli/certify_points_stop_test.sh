@@ -64,11 +64,16 @@ case "$out" in *"  certified"*) fail "human output claims certified: $out" ;; es
 # file's first line says so (it said "the exact rows of the 0 regions that
 # contributed before it ended, of rank 0, the proved lower bound", as if the
 # walk had run and found nothing), and so does stderr.
-within 15 "${run[@]}" --time-limit 0.3 --rows-out "$work/rows.csv" > /dev/null 2> "$work/rows.err" \
-  || fail "--rows-out under --time-limit exited $?"
+within 15 "${run[@]}" --time-limit 0.3 --rows-out "$work/rows.csv" --witness-out "$work/witnesses.txt" > /dev/null \
+  2> "$work/rows.err" || fail "--rows-out under --time-limit exited $?"
 partial="# partial: the run was not certified (stopped: time-limit in the --points batch stage, before the walk); no region was walked, so no rows: the batch's proved bounds are in the output, not here"
 [ "$(cat "$work/rows.csv")" = "$partial" ] || fail "--rows-out stopped in the batch stage: $(head -c 300 "$work/rows.csv")"
 grep -qF "pleat: $work/rows.csv: ${partial#\# }" "$work/rows.err" || fail "stderr: $(cat "$work/rows.err")"
+# --witness-out there: no points were drawn, and the first line says so (the
+# file held only the comment that witnesses follow).
+partial="# partial: the run was not certified (stopped: time-limit in the --points batch stage, before the walk); no points were drawn, so none follow: the batch's proved bounds are in the output, not here"
+[ "$(head -n 1 "$work/witnesses.txt")" = "$partial" ] || fail "--witness-out stopped in the batch stage: $(head -c 300 "$work/witnesses.txt")"
+grep -qF "pleat: $work/witnesses.txt: ${partial#\# }" "$work/rows.err" || fail "stderr: $(cat "$work/rows.err")"
 
 # --claim against bounds: a value outside them is judged, one inside is consistent.
 out=$(within 15 "${run[@]}" --time-limit 0.3 --claim 1)

@@ -18,8 +18,8 @@ net=$work/wide.json
 # phase is cut; on a loaded one the walk may be cut instead (then only the
 # timing and the bounds are asserted, as for any stopped run).
 start=$(now)
-"$pleat" certify "$net" --json -q --full-walk --time-limit 2 --rows-out "$work/rows.csv" > "$work/limit.json" \
-  2> "$work/limit.err"
+"$pleat" certify "$net" --json -q --full-walk --time-limit 2 --rows-out "$work/rows.csv" \
+  --witness-out "$work/witnesses.txt" > "$work/limit.json" 2> "$work/limit.err"
 status=$?
 elapsed=$("$python" -c "print($(now) - $start)")
 [ $status = 0 ] || fail "time-limited certify exited $status"
@@ -35,6 +35,15 @@ partial="# partial: the run was not certified (stopped: time-limit); the exact r
 [ "$(head -n 1 "$work/rows.csv")" = "$partial" ] || fail "--rows-out of a stopped run: $(head -c 300 "$work/rows.csv")"
 grep -qF "pleat: $work/rows.csv: ${partial#\# }" "$work/limit.err" || fail "stderr: $(cat "$work/limit.err")"
 [ "$(grep -c '^#' "$work/rows.csv")" = 1 ] || fail "one comment line only"
+# --witness-out of a stopped run: its points prove the lower bound only, and
+# its first line says so (it read as a certified run's evidence), as does
+# stderr; the points still re-check to that bound with --points.
+witnesses=$(json_eval "$work/limit.json" 'len(d["witness_points"])')
+partial="# partial: the run was not certified (stopped: time-limit); the $witnesses points whose regions' rows raised the rank before it ended, to $lower, the proved lower bound, not the functional dimension"
+[ "$(head -n 1 "$work/witnesses.txt")" = "$partial" ] || fail "--witness-out of a stopped run: $(head -c 300 "$work/witnesses.txt")"
+grep -qF "pleat: $work/witnesses.txt: ${partial#\# }" "$work/limit.err" || fail "stderr: $(cat "$work/limit.err")"
+"$pleat" certify "$net" --points "$work/witnesses.txt" --json -q > "$work/recheck.json" || fail "re-check exited $?"
+[ "$(json_eval "$work/recheck.json" 'd["regions_rank"]')" = "$lower" ] || fail "witnesses re-check: $(head -c 300 "$work/recheck.json")"
 
 # An interrupt 2 s in: exit 130 within seconds, bounds, not certified.
 start=$(now)
