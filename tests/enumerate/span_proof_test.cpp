@@ -111,24 +111,32 @@ TEST(SpanProof, ARowAlteredInOneEntryIsRefused) {
 // a network of more than 256 parameters): an entry altered in any block, at
 // either side of a block's border, is refused; the rows as they are proved.
 TEST(SpanProof, RowsWiderThanTheChecksBlocksAreCheckedOnEveryColumn) {
-  constexpr std::size_t wide = 600;
-  std::mt19937_64 random(4);
-  std::vector<IntegerRow> base(3, IntegerRow(wide));
-  for (IntegerRow& row : base)
-    for (Integer& value : row) value = static_cast<long>(random() % 2001) - 1000;
-  std::vector<IntegerRow> others(4, IntegerRow(wide));
-  for (IntegerRow& row : others)
-    for (const IntegerRow& source : base) {
-      const long coefficient = static_cast<long>(random() % 11) - 5;
-      for (std::size_t c = 0; c < wide; ++c) row[c] += coefficient * source[c];
+  for (std::size_t wide : {255u, 256u, 257u, 512u, 513u, 600u}) {  // blocks of 256 columns: around their edges
+    std::mt19937_64 random(4);
+    std::vector<IntegerRow> base(3, IntegerRow(wide));
+    for (IntegerRow& row : base)
+      for (Integer& value : row) value = static_cast<long>(random() % 2001) - 1000;
+    std::vector<IntegerRow> others(4, IntegerRow(wide));
+    for (IntegerRow& row : others)
+      for (const IntegerRow& source : base) {
+        const long coefficient = static_cast<long>(random() % 11) - 5;
+        for (std::size_t c = 0; c < wide; ++c) row[c] += coefficient * source[c];
+      }
+    const std::vector<IntegerRow> kept = times_seven(base);
+    SCOPED_TRACE("width " + std::to_string(wide));
+    EXPECT_TRUE(rows_in_span(kept, leading_pivots(3), others));
+    for (std::size_t column : {0u, 3u, 254u, 255u, 256u, 257u, 511u, 512u, 599u}) {
+      if (column >= wide) continue;
+      for (std::size_t row : {0u, 3u}) {
+        std::vector<IntegerRow> altered = others;
+        altered[row][column] += 1;
+        SCOPED_TRACE("row " + std::to_string(row) + ", column " + std::to_string(column));
+        EXPECT_FALSE(rows_in_span(kept, leading_pivots(3), altered));
+      }
     }
-  const std::vector<IntegerRow> kept = times_seven(base);
-  EXPECT_TRUE(rows_in_span(kept, leading_pivots(3), others));
-  for (std::size_t column : {255u, 256u, 511u, 512u, 599u}) {
-    std::vector<IntegerRow> altered = others;
-    altered[3][column] += 1;
-    SCOPED_TRACE("column " + std::to_string(column));
-    EXPECT_FALSE(rows_in_span(kept, leading_pivots(3), altered));
+    std::vector<IntegerRow> last = others;  // the last column of the last block
+    last[2][wide - 1] -= 1;
+    EXPECT_FALSE(rows_in_span(kept, leading_pivots(3), last));
   }
 }
 
