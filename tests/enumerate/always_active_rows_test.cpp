@@ -8,6 +8,7 @@
 #include "enumerate/detail/always_active_rows.hpp"
 
 #include "core/jacobian.hpp"
+#include "core/stop.hpp"
 #include "core/random_network.hpp"
 #include "core/rank.hpp"
 #include "enumerate/domain.hpp"
@@ -113,6 +114,61 @@ TEST(AlwaysActiveRows, PlannedRowsFilledFromTheOthersEqualTheCertifiedRows) {
       if (!plan.fill(without)) return;  // reported
     }
   ADD_FAILURE() << "no row outside the plan is needed by its generators";
+}
+
+// certify spares the plan's filled rows B from the check by construction
+// (extra_proof.cpp): each is a combination of generators (annihilating
+// every region) and of the rows outside B, which are checked. So the rows
+// outside B and the filled rows pass the check on every smooth region; and
+// with a row outside B that the generators use changed in one entry before
+// the fill, the check of the rows outside B (all certify checks of such a
+// candidate) rejects a region, although the filled rows are then wrong too.
+TEST(AlwaysActiveRows, FilledRowsFollowFromTheCheckedRowsAndAChangedOneIsRejected) {
+  const Network network = random_network({2, 15, 15, 15, 15, 1}, 1);
+  const Certified state = certified(network);
+  const std::uint64_t prime = primary_prime();
+  ModularMatrix image(state.extra.rows.size(), state.extra.cols);
+  for (std::size_t r = 0; r < state.extra.rows.size(); ++r)
+    for (const auto& [c, value] : state.extra.rows[r]) image(r, c) = *reduce_modulo(value, prime);
+  const AlwaysActivePlan plan(AlwaysActiveGenerators(network, state.smooth), SparseModularRows::from_dense(image),
+                              rows_with_at_least(state.extra, 8));
+  ASSERT_GE(plan.rows().size(), 1u);
+  const CheckScale scale(network);
+  std::vector<char> in_plan(state.extra.rows.size(), 0);
+  for (std::size_t b : plan.rows()) in_plan[b] = 1;
+  // Filled from the given rows: (the rows outside B, the filled rows B).
+  auto filled = [&](const std::vector<std::optional<SparseRationalRows::Row>>& given) {
+    std::vector<std::optional<SparseRationalRows::Row>> rows = given;
+    for (std::size_t b : plan.rows()) rows[b].reset();
+    EXPECT_TRUE(plan.fill(rows));
+    std::pair<SparseRationalRows, SparseRationalRows> out{{state.extra.cols, {}}, {state.extra.cols, {}}};
+    for (std::size_t r = 0; r < rows.size(); ++r) (in_plan[r] ? out.second : out.first).rows.push_back(*rows[r]);
+    return out;
+  };
+  auto first_rejected = [&](const SparseRationalRows& rows) {
+    const AnnihilationCheck check(network, rows, scale);
+    bool stopped = false;
+    return first_rejected_pattern(check, state.smooth, 1, StopRequest(), stopped, nullptr);
+  };
+  const std::vector<std::optional<SparseRationalRows::Row>> rows(state.extra.rows.begin(), state.extra.rows.end());
+  const auto [outside, inside] = filled(rows);
+  EXPECT_FALSE(first_rejected(outside).has_value());
+  EXPECT_FALSE(first_rejected(inside).has_value());
+  std::size_t changed = 0;
+  for (std::size_t r = 0; r < rows.size() && changed < 3; ++r) {
+    if (in_plan[r] || rows[r]->size() < 2) continue;
+    std::vector<std::optional<SparseRationalRows::Row>> without = rows;
+    for (std::size_t b : plan.rows()) without[b].reset();
+    without[r].reset();
+    if (plan.fill(without)) continue;  // not used by the plan's generators
+    std::vector<std::optional<SparseRationalRows::Row>> wrong = rows;
+    wrong[r]->back().second += Rational(1, 3);
+    const auto [wrong_outside, wrong_inside] = filled(wrong);
+    EXPECT_NE(wrong_inside.rows, inside.rows) << "row " << r;
+    EXPECT_TRUE(first_rejected(wrong_outside).has_value()) << "row " << r;
+    ++changed;
+  }
+  EXPECT_GE(changed, 1u);
 }
 
 // Every shift and mix generator of the neurons on in every region keeps
