@@ -10,6 +10,7 @@
 #include "enumerate/detail/kernel_check.hpp"
 #include "enumerate/detail/kernel_lift.hpp"
 #include "enumerate/detail/parallel_for.hpp"
+#include "enumerate/detail/point_region.hpp"
 #include "enumerate/detail/proof_start.hpp"
 #include "enumerate/detail/ray_reach.hpp"
 #include "enumerate/detail/reach_forecast.hpp"
@@ -35,6 +36,10 @@ namespace {
 
 using detail::KeptRows;
 using detail::parallel_for;
+using detail::PointRegion;
+using detail::PointVerdict;
+using detail::rational_from_vector;
+using detail::region_of_point;
 
 }  // namespace
 
@@ -62,38 +67,6 @@ RationalMatrix stack_matrices(const RationalMatrix& top, const RationalMatrix& b
   RationalMatrix out(top.rows() + bottom.rows(), top.cols());
   for (std::size_t r = 0; r < top.rows(); ++r) out.set_row(r, top.row(r));
   for (std::size_t r = 0; r < bottom.rows(); ++r) out.set_row(top.rows() + r, bottom.row(r));
-  return out;
-}
-
-// ---- The no-walk path --------------------------------------------------------
-
-bool has_zero_at_point(const ActivationPattern& pattern) {
-  return std::find(pattern.states.begin(), pattern.states.end(), NeuronState::zero_at_point) != pattern.states.end();
-}
-
-// The pattern of the open region around x when x lies on no bent hyperplane
-// and that region has smooth points; nullopt otherwise (a bent hyperplane
-// through x: nudge it; a region without smooth points: no rows). Exact.
-enum class PointVerdict { smooth, on_bent_hyperplane, not_smooth };
-struct PointRegion {
-  PointVerdict verdict = PointVerdict::on_bent_hyperplane;
-  ActivationPattern pattern;
-};
-
-PointRegion region_of_point(const Network& network, const IntegerPatternEvaluator& evaluator,
-                            const RationalVector& x) {
-  ActivationPattern pattern = evaluator.pattern_at(x);  // evaluate_exact's pattern, in integers
-  if (has_zero_at_point(pattern)) {
-    pattern = pattern_around_point(network, x);  // identically-zero neurons become 'z'
-    if (has_zero_at_point(pattern)) return {PointVerdict::on_bent_hyperplane, {}};
-    if (!nonsmooth_neurons(network, pattern).empty()) return {PointVerdict::not_smooth, {}};
-  }
-  return {PointVerdict::smooth, std::move(pattern)};
-}
-
-RationalVector rational_from_vector(const DoubleVector& values) {
-  RationalVector out(values.size());
-  for (std::size_t i = 0; i < values.size(); ++i) out[i] = rational_from_double(values[i]);
   return out;
 }
 
