@@ -25,6 +25,7 @@
 #include <deque>
 #include <functional>
 #include <limits>
+#include <map>
 #include <memory>
 #include <optional>
 #include <set>
@@ -103,6 +104,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   std::vector<KeptRows> kept;
   std::vector<ActivationPattern> smooth;
   detail::NeuronActivity activity(network.relu_neuron_count());
+  // The rows (coefficient_blocks_mod) of the regions the first two batches
+  // found when the points give up before eliminating any: the walk takes
+  // them instead of computing them again. Read only during the walk.
+  std::map<ActivationPattern, ModularMatrix> rows_for_walk;
 
   // Rows are added screened (core/rank.hpp): most are dependent, and a
   // dependent row then costs one dot product. An independent row the screen
@@ -124,6 +129,8 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
           options.across->row_kept(row);
         }
     } else {
+      if (const auto ready = rows_for_walk.find(pattern); !rows_ready && ready != rows_for_walk.end())
+        rows_ready = &ready->second;
       const ModularMatrix computed = rows_ready ? ModularMatrix() : coefficient_blocks_mod(modular, pattern);
       const ModularMatrix& rows = rows_ready ? *rows_ready : computed;
       // add_row_screened, screened in place (most rows are dependent): only a row that passes is copied out.
@@ -223,7 +230,8 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     };
     std::size_t drawn = 0;  // points drawn before this batch (the nudges' seeds)
     // Rows are computed for the regions not seen before (nor in `before`'s
-    // regions when given: those are seen by the time this batch goes in).
+    // regions when given: those are seen by the time this batch goes in),
+    // once a region.
     auto draw = [&](const Batch* before = nullptr) {
       std::set<ActivationPattern> earlier;
       if (before)
@@ -238,9 +246,16 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
           b.points[i] = nudges.nudge(b.points[i], attempt);
           b.regions[i] = region_of_point(network, evaluator, b.points[i]);
         }
+      });
+      // Rows only at the first point of the batch in each such region (only
+      // those are read: keep_rows_of_points, new_rows).
+      std::vector<std::size_t> first_in_region;
+      for (std::size_t i = 0; i < batch; ++i)
         if (b.regions[i].verdict == PointVerdict::smooth && !seen_by_points.contains(b.regions[i].pattern) &&
-            !earlier.contains(b.regions[i].pattern))
-          b.rows[i] = coefficient_blocks_mod(modular, b.regions[i].pattern);
+            earlier.insert(b.regions[i].pattern).second)
+          first_in_region.push_back(i);
+      parallel_for(first_in_region.size(), threads, [&](std::size_t k) {
+        b.rows[first_in_region[k]] = coefficient_blocks_mod(modular, b.regions[first_in_region[k]].pattern);
       });
       drawn += batch;
       return b;
@@ -250,7 +265,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // eliminated; when even every row of their new regions, and a rest
     // decaying at their ratio, falls short (detail::candidate_rows_fall_short),
     // or finishing on points is dearer than the walk they would spare
-    // (detail::PlanarPointsCost, also after each batch), the walk runs at once.
+    // (detail::PlanarPointsCost, also after each batch), or a neuron past the
+    // first hidden layer has one state at all their points (a value below the
+    // bound proposed: detail::deeper_neuron_stable_at), the walk runs at once
+    // and takes their regions' rows (rows_for_walk).
     std::deque<Batch> held;
     if (domain.dim <= 2 && options.give_up_early) {
       std::set<ActivationPattern> found;
@@ -267,10 +285,16 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
         held.push_back(draw(&held[0]));
         const std::size_t rows = first + new_rows(held[1]);  // the most the rank can rise
         if (detail::candidate_rows_fall_short(basis.rank(), first, rows - first, result.scaling_bound, domain.dim) ||
-            (domain.dim == 2 && detail::planar_points_dearer_at_start(basis.rank(), rows, result.scaling_bound,
-                                                                      parameters, 2 * batch, found.size()))) {
+            (domain.dim == 2 &&
+             (detail::planar_points_dearer_at_start(basis.rank(), rows, result.scaling_bound, parameters, 2 * batch,
+                                                    found.size()) ||
+              (network.relu_layer_count() >= 2 && detail::deeper_neuron_stable_at({held[0].regions, held[1].regions},
+                                                                                  network.first_neuron_of_layer(1)))))) {
           points_far_below = true;
           result.points_drawn = drawn;  // drawn and decided; none of their rows kept
+          for (Batch& b : held)
+            for (std::size_t i = 0; i < batch; ++i)
+              if (b.rows[i].rows() > 0) rows_for_walk.emplace(std::move(b.regions[i].pattern), std::move(b.rows[i]));
           return;
         }
       }
@@ -408,12 +432,15 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // (2,15,15,15,1 at 2 threads: 41 ms of walk thread time, 35 so, 28 at one).
     // Once rows_behind entries wait, the processing thread forms them, so that
     // only the reduction is serial (2,30,30,30,1: most of its walk).
-    // seen_by_points is not written during the walk, so workers may read it.
+    // seen_by_points and rows_for_walk are not written during the walk, so
+    // workers may read them.
     constexpr std::size_t rows_behind = 8;
     walk_options.prepare_region = [&](const Region& region) -> std::any {
       if (!region.nonsmooth_neurons.empty() || seen_by_points.contains(region.pattern)) return {};
       if (backlog.queued() < rows_behind) return std::shared_ptr<const ModularMatrix>();
-      return std::make_shared<const ModularMatrix>(coefficient_blocks_mod(modular, region.pattern));
+      const auto ready = rows_for_walk.find(region.pattern);
+      return std::make_shared<const ModularMatrix>(
+          ready != rows_for_walk.end() ? ready->second : coefficient_blocks_mod(modular, region.pattern));
     };
     walk_options.on_region_in_pool = true;
     walk_options.background = [&] { return backlog.reduce_one(); };

@@ -8,6 +8,7 @@
 #include "core/network_io.hpp"
 #include "core/random_network.hpp"
 #include "core/rank.hpp"
+#include "enumerate/detail/point_region.hpp"
 #include "enumerate/detail/reach_forecast.hpp"
 #include "enumerate/interior_points.hpp"
 #include "tests/support/network_builders.hpp"
@@ -1043,6 +1044,65 @@ TEST(ReachForecast, RegionsEstimateAndThePlanarCostRule) {
   // No rise in the last two batches: a row per 96 points (64 since the last
   // rise and a batch), 13 missing: over 600 regions, against about 58.
   EXPECT_TRUE(cost.dearer_than_walk(128, 76, 52, 64));
+}
+
+// On a plane a neuron past the first hidden layer that has one state at all
+// of the first two batches' 64 points proposes a value below the bound: the
+// walk runs at once, none of their rows eliminated (the first witness is a
+// walked region's, not the first point's) and their regions' rows handed to
+// it. `pleat random --arch 2,10,10,10,1 --seed 1 --sample 2` (190 < 231)
+// eliminated three batches before (96 points), samples 0 and 4 of 2,5,5,5,1
+// (51 and 50 < 66) two. The value is the full walk's. Sample 1 (at its bound
+// 66, every such neuron turning among the points) is certified from points.
+TEST(CertifyFromPoints, OnAPlaneAStableDeeperNeuronSendsThePointsToTheWalk) {
+  const Domain plane = make_whole_space(2);
+  const RationalVector first_point = InteriorPointSource(plane, FunctionalDimensionOptions().points_seed).next();
+  struct Case {
+    std::vector<std::size_t> widths;
+    std::uint64_t sample;
+  };
+  for (const Case& c : {Case{{2, 10, 10, 10, 1}, 2}, Case{{2, 5, 5, 5, 1}, 0}, Case{{2, 5, 5, 5, 1}, 4}}) {
+    const Network network = random_network(c.widths, 1, c.sample);
+    const auto fast = certify_with(network, plane, true, true);
+    const auto full = certify_with(network, plane, false, false);
+    ASSERT_TRUE(fast.certified && full.certified) << c.sample;
+    EXPECT_EQ(fast.functional_dimension, full.functional_dimension) << c.sample;
+    EXPECT_LT(*fast.functional_dimension, fast.scaling_bound) << c.sample;
+    EXPECT_EQ(fast.points_drawn, 64u) << c.sample;
+    ASSERT_FALSE(fast.witness_points.empty());
+    EXPECT_NE(fast.witness_points.front(), first_point) << c.sample;
+  }
+  const auto at = certify_with(random_network({2, 5, 5, 5, 1}, 1, 1), plane, true, true);
+  EXPECT_TRUE(at.certified_by_points);
+  EXPECT_EQ(*at.functional_dimension, 66u);
+}
+
+// A neuron past the first hidden layer with one state at every smooth point
+// of the first two batches proposes a value below the bound
+// (detail::deeper_neuron_stable_at); here neurons 0 and 1 form the first
+// layer, 2 and 3 the second.
+TEST(ReachForecast, AStableDeeperNeuronProposesAValueBelowTheBound) {
+  using detail::PointRegion;
+  using detail::PointVerdict;
+  using S = NeuronState;
+  auto at = [](std::vector<S> states, PointVerdict verdict = PointVerdict::smooth) {
+    return PointRegion{verdict, ActivationPattern{std::move(states)}};
+  };
+  const std::vector<PointRegion> turning = {at({S::on, S::off, S::on, S::off}), at({S::off, S::off, S::off, S::on})};
+  EXPECT_FALSE(detail::deeper_neuron_stable_at({turning}, 2));  // neuron 1, off at both, is in the first layer
+  const std::vector<PointRegion> stable = {at({S::on, S::off, S::on, S::off}), at({S::off, S::on, S::on, S::on})};
+  EXPECT_TRUE(detail::deeper_neuron_stable_at({stable}, 2));  // neuron 2 on at both
+  EXPECT_FALSE(detail::deeper_neuron_stable_at({stable}, 4));  // no neuron past the first layer
+  // Over both batches; a point on a bent hyperplane or in a region without smooth points does not count.
+  const std::vector<PointRegion> off = {at({S::on, S::on, S::off, S::on})};
+  EXPECT_FALSE(detail::deeper_neuron_stable_at({stable, off}, 2));
+  const std::vector<PointRegion> not_counted = {at({S::on, S::on, S::off, S::on}, PointVerdict::on_bent_hyperplane),
+                                                at({S::on, S::on, S::off, S::on}, PointVerdict::not_smooth)};
+  EXPECT_TRUE(detail::deeper_neuron_stable_at({stable, not_counted}, 2));
+  // Identically zero ('z') at every point: neither on nor off.
+  const std::vector<PointRegion> zero = {at({S::on, S::off, S::zero_on_region, S::off}),
+                                         at({S::off, S::on, S::zero_on_region, S::on})};
+  EXPECT_FALSE(detail::deeper_neuron_stable_at({zero}, 2));
 }
 
 TEST(CertifyFromPoints, SameResultForAnyThreadCount) {
