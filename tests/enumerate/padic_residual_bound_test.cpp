@@ -11,6 +11,8 @@
 // an independent implementation) on every one.
 #include "enumerate/detail/padic_solve.hpp"
 
+#include "tests/support/flint_solution.hpp"
+
 #include <flint/fmpz.h>
 #include <flint/ulong_extras.h>
 
@@ -44,15 +46,6 @@ void edge_entry(fmpz* entry, std::mt19937_64& random, std::size_t bits, bool all
     fmpz_clear(noise);
   }
   if (sign < 0) fmpz_neg(entry, entry);
-}
-
-std::optional<RationalMatrix> flint_solution(FmpzMatrix& a, FmpzMatrix& b, std::size_t n, std::size_t m) {
-  FmpqMatrix solution(n, m);
-  if (!fmpq_mat_solve_fmpz_mat(solution.get(), a.get(), b.get())) return std::nullopt;
-  RationalMatrix out(n, m);
-  for (std::size_t i = 0; i < n; ++i)
-    for (std::size_t c = 0; c < m; ++c) fmpq_get_mpq(out(i, c).get_mpq_t(), solution.entry(i, c));
-  return out;
 }
 
 TEST(PadicResidualBound, SystemsOnTheEdgeOfTheResidualsWordsSolveExactly) {

@@ -6,6 +6,7 @@
 #include "enumerate/detail/padic_solve.hpp"
 
 #include "core/stop.hpp"
+#include "tests/support/flint_solution.hpp"
 
 #include <flint/fmpz.h>
 
@@ -32,16 +33,6 @@ void random_entry(fmpz* entry, std::mt19937_64& random, unsigned bits, double ze
   }
   fmpz_fdiv_q_2exp(entry, entry, (bits + 31) / 32 * 32 - bits);
   if (random() & 1) fmpz_neg(entry, entry);
-}
-
-// FLINT's exact solution, or nullopt when A is singular.
-std::optional<RationalMatrix> flint_solution(FmpzMatrix& a, FmpzMatrix& b, std::size_t n, std::size_t m) {
-  FmpqMatrix solution(n, m);
-  if (!fmpq_mat_solve_fmpz_mat(solution.get(), a.get(), b.get())) return std::nullopt;
-  RationalMatrix out(n, m);
-  for (std::size_t i = 0; i < n; ++i)
-    for (std::size_t c = 0; c < m; ++c) fmpq_get_mpq(out(i, c).get_mpq_t(), solution.entry(i, c));
-  return out;
 }
 
 TEST(PadicSolve, EqualsFlintsExactSolveOnRandomSystems) {
