@@ -30,26 +30,18 @@ import sys
 import tempfile
 from fractions import Fraction
 
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+import walk_reference as ref  # noqa: E402  (read_network: the network format's exact reading and defaults)
+
 SKIP = 77
-
-
-def load_network(path):
-    with open(path) as handle:
-        document = json.load(handle)
-    layers = []
-    for layer in document["layers"]:
-        weights = [[Fraction(x) for x in row] for row in layer["weights"]]
-        bias = [Fraction(x) for x in layer["bias"]]
-        layers.append((weights, bias, layer.get("activation", "relu")))
-    return document["input_dim"], layers
 
 
 def pattern_at(layers, point):
     """Each ReLU layer's on/off states at point, or None on a bend."""
     states, values = [], list(point)
-    for weights, bias, activation in layers:
+    for weights, bias, is_relu in layers:
         z = [sum((w * a for w, a in zip(row, values)), Fraction(0)) + b for row, b in zip(weights, bias)]
-        if activation == "relu":
+        if is_relu:
             # A neuron of zero weights and bias is zero everywhere: off (the
             # crafted ones also send it nowhere). Any other zero: on a bend.
             identically_zero = [all(w == 0 for w in row) and b == 0 for row, b in zip(weights, bias)]
@@ -168,7 +160,8 @@ def main():
             else:
                 subprocess.run([pleat, "random", "--arch", arch, "--seed", str(seed), "--digits", str(digits),
                                 "--init", init, "-o", net], check=True)
-            n0, layers = load_network(net)
+            network = ref.read_network(net)
+            n0, layers = network.input_dim, network.layers
             where = ["--box", "%s,%s" % (box[0], box[1])]
             values = []
             for extra in ([], ["--full-walk"]):

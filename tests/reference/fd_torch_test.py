@@ -31,19 +31,11 @@ import sys
 import tempfile
 from fractions import Fraction
 
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+import walk_reference as ref  # noqa: E402  (read_network: the network format's exact reading and defaults)
+
 SKIP = 77
 GAP = 1e6
-
-
-def load_network(path):
-    with open(path) as handle:
-        document = json.load(handle)
-    layers = []
-    for layer in document["layers"]:
-        weights = [[Fraction(x) for x in row] for row in layer["weights"]]
-        bias = [Fraction(x) for x in layer["bias"]]
-        layers.append((weights, bias, layer.get("activation", "relu")))
-    return document["input_dim"], layers
 
 
 def flat_parameters(layers):
@@ -59,14 +51,14 @@ def forward(torch, layers, theta, points):
     """F at each point (points: K x n0 tensor), parameters read from theta in spec order."""
     y = points
     offset = 0
-    for weights, bias, activation in layers:
+    for weights, bias, is_relu in layers:
         rows, cols = len(weights), len(weights[0])
         w = theta[offset:offset + rows * cols].reshape(rows, cols)
         offset += rows * cols
         b = theta[offset:offset + rows]
         offset += rows
         y = y @ w.T + b
-        if activation == "relu":
+        if is_relu:
             y = torch.relu(y)
     return y
 
@@ -125,7 +117,7 @@ def check_regions(torch, pleat, network_path, work, label):
     certified = run_json([pleat, "certify", network_path, "--json", "-q"])
     assert certified["certified"], f"{label}: not certified"
     value = certified["functional_dimension"]
-    _, layers = load_network(network_path)
+    layers = ref.read_network(network_path).layers
     theta = torch.tensor(flat_parameters(layers), dtype=torch.float64)
     with open(regions_path) as handle:
         lines = [json.loads(line) for line in handle if line.strip()]
@@ -149,7 +141,7 @@ def check_sample(torch, pleat, network_path, work, label, batch, seed):
     assert len(points) == batch, f"{label}: {len(points)} points written, batch {batch}"
     # Every written point is a double exactly (the sample's own coordinates).
     assert all(Fraction(float(c)) == c for p in points for c in p), f"{label}: a point is not a double"
-    _, layers = load_network(network_path)
+    layers = ref.read_network(network_path).layers
     theta = torch.tensor(flat_parameters(layers), dtype=torch.float64)
     jacobian = stacked_jacobian(torch, layers, theta, points).numpy()
     rank = int(numpy.linalg.matrix_rank(jacobian))
