@@ -60,6 +60,17 @@ std::vector<std::size_t> rows_with_at_least(const SparseRationalRows& rows, std:
   return out;
 }
 
+// certify's plan for the certified rows of 8 or more entries, from their
+// image modulo the walk's prime.
+AlwaysActivePlan plan_for(const Network& network, const Certified& state) {
+  const std::uint64_t prime = primary_prime();
+  ModularMatrix image(state.extra.rows.size(), state.extra.cols);
+  for (std::size_t r = 0; r < state.extra.rows.size(); ++r)
+    for (const auto& [c, value] : state.extra.rows[r]) image(r, c) = *reduce_modulo(value, prime);
+  return AlwaysActivePlan(AlwaysActiveGenerators(network, state.smooth), SparseModularRows::from_dense(image),
+                          rows_with_at_least(state.extra, 8));
+}
+
 TEST(AlwaysActiveRows, ProvedRowsAnnihilateEveryRegionAndChangedRowsAreNotProved) {
   const Network network = random_network({2, 15, 15, 15, 15, 1}, 1);
   const Certified state = certified(network);
@@ -91,12 +102,7 @@ TEST(AlwaysActiveRows, ProvedRowsAnnihilateEveryRegionAndChangedRowsAreNotProved
 TEST(AlwaysActiveRows, PlannedRowsFilledFromTheOthersEqualTheCertifiedRows) {
   const Network network = random_network({2, 15, 15, 15, 15, 1}, 1);
   const Certified state = certified(network);
-  const std::uint64_t prime = primary_prime();
-  ModularMatrix image(state.extra.rows.size(), state.extra.cols);
-  for (std::size_t r = 0; r < state.extra.rows.size(); ++r)
-    for (const auto& [c, value] : state.extra.rows[r]) image(r, c) = *reduce_modulo(value, prime);
-  const AlwaysActivePlan plan(AlwaysActiveGenerators(network, state.smooth), SparseModularRows::from_dense(image),
-                              rows_with_at_least(state.extra, 8));
+  const AlwaysActivePlan plan = plan_for(network, state);
   ASSERT_GE(plan.rows().size(), 1u);
   std::vector<std::optional<SparseRationalRows::Row>> rows(state.extra.rows.begin(), state.extra.rows.end());
   for (std::size_t b : plan.rows()) rows[b].reset();
@@ -126,12 +132,7 @@ TEST(AlwaysActiveRows, PlannedRowsFilledFromTheOthersEqualTheCertifiedRows) {
 TEST(AlwaysActiveRows, FilledRowsFollowFromTheCheckedRowsAndAChangedOneIsRejected) {
   const Network network = random_network({2, 15, 15, 15, 15, 1}, 1);
   const Certified state = certified(network);
-  const std::uint64_t prime = primary_prime();
-  ModularMatrix image(state.extra.rows.size(), state.extra.cols);
-  for (std::size_t r = 0; r < state.extra.rows.size(); ++r)
-    for (const auto& [c, value] : state.extra.rows[r]) image(r, c) = *reduce_modulo(value, prime);
-  const AlwaysActivePlan plan(AlwaysActiveGenerators(network, state.smooth), SparseModularRows::from_dense(image),
-                              rows_with_at_least(state.extra, 8));
+  const AlwaysActivePlan plan = plan_for(network, state);
   ASSERT_GE(plan.rows().size(), 1u);
   const CheckScale scale(network);
   std::vector<char> in_plan(state.extra.rows.size(), 0);
