@@ -24,10 +24,22 @@ std::size_t rows_text(const RationalMatrix& matrix, const std::atomic<bool>* int
   return r;
 }
 
+// Why a run was not certified, as its files' first lines say it.
+std::string not_certified_why(const FunctionalDimensionResult& result) {
+  return result.stop_reason == StopReason::none ? "its bounds do not meet"
+                                                : "stopped: " + to_string(result.stop_reason);
+}
+
+// The file's text after a first line "# LINE" when line is not empty; stderr
+// says the line too (the file read as a complete run's).
+void write_with_first_line(const std::string& path, const std::string& line, const std::string& text) {
+  write_output(path, line.empty() ? text : "# " + line + "\n" + text);
+  if (!line.empty()) std::cerr << "pleat: " << path << ": " << line << "\n";
+}
+
 // The first line of a run not certified (stopped, or its bounds apart).
 std::string not_certified_line(const FunctionalDimensionResult& result, bool stopped_in_batch) {
-  const std::string why = result.stop_reason == StopReason::none ? "its bounds do not meet"
-                                                                  : "stopped: " + to_string(result.stop_reason);
+  const std::string why = not_certified_why(result);
   if (stopped_in_batch)
     return "partial: the run was not certified (" + why +
            " in the --points batch stage, before the walk); no region was walked, so no rows: the batch's "
@@ -80,8 +92,7 @@ bool write_rows(const std::string& path, const FunctionalDimensionResult& result
            " regions that contributed (the printed value or bounds stand)";
   else if (!result.certified)
     line = not_certified_line(result, stopped_in_batch);
-  write_output(path, line.empty() ? rows.str() : "# " + line + "\n" + rows.str());
-  if (!line.empty()) std::cerr << "pleat: " << path << ": " << line << "\n";
+  write_with_first_line(path, line, rows.str());
   return cut_short;
 }
 
@@ -92,15 +103,12 @@ void write_witnesses(const std::string& path, const FunctionalDimensionResult& r
            " in the --points batch stage, before the walk); no points were drawn, so none follow: the batch's "
            "proved bounds are in the output, not here";
   else if (!result.certified)
-    line = "partial: the run was not certified (" +
-           (result.stop_reason == StopReason::none ? std::string("its bounds do not meet")
-                                                   : "stopped: " + to_string(result.stop_reason)) +
-           "); the " + std::to_string(result.witness_points.size()) +
+    line = "partial: the run was not certified (" + not_certified_why(result) + "); the " +
+           std::to_string(result.witness_points.size()) +
            " points whose regions' rows raised the rank before it ended, to " + std::to_string(result.lower_bound) +
            ", the proved lower bound, not the functional dimension";
   const std::string comment = "witness points: exact, strictly inside the domain, one per region whose rows raised the rank";
-  write_output(path, (line.empty() ? "" : "# " + line + "\n") + points_text(result.witness_points, comment));
-  if (!line.empty()) std::cerr << "pleat: " << path << ": " << line << "\n";
+  write_with_first_line(path, line, points_text(result.witness_points, comment));
 }
 
 }  // namespace pleat::cli
