@@ -96,6 +96,19 @@ std::string quoted_character(std::string_view text) {
 Rational parse_rational(std::string_view text) {
   if (text.empty()) throw input_error("not a number: empty text");
   const std::string_view whole = text;
+  // The grammar has no '+' sign ([-]?...): say so rather than "expected
+  // digits", which left '+0' looking like a number refused for its digits.
+  if (text.front() == '+') {
+    const std::string_view unsigned_text = whole.substr(1);
+    bool reads = !unsigned_text.empty() && unsigned_text.front() != '+' && unsigned_text.front() != '-';
+    try {
+      if (reads) (void)parse_rational(unsigned_text);
+    } catch (const input_error&) {
+      reads = false;
+    }
+    throw input_error("not a number " + quoted(whole) + ": a leading '+' is not part of a number" +
+                      (reads ? "; write " + quoted(unsigned_text) : std::string()));
+  }
   bool is_negative = false;
   if (text.front() == '-') {
     is_negative = true;

@@ -75,7 +75,20 @@ bool is_number(const std::string& field) {
   }
 }
 
-RationalVector parse_fields(const std::vector<std::string>& fields, std::size_t dimension, const std::string& place) {
+// after_index: a first field (pandas' row index) was dropped before them.
+RationalVector parse_fields(const std::vector<std::string>& fields, std::size_t dimension, const std::string& place,
+                            bool after_index) {
+  // An empty field (two commas with nothing between, or a comma at either
+  // end) is named before the count: '1,,2' and '1,2,' were "3 values".
+  for (std::size_t i = 0; i < fields.size(); ++i)
+    if (fields[i].empty())
+      throw input_error(place + ": value " + std::to_string(i + 1) + " of " + std::to_string(fields.size()) +
+                        " is empty (" +
+                        (i + 1 == fields.size() ? "the line ends with a comma"
+                         : i == 0 && !after_index ? "the line starts with a comma"
+                                                : "nothing between two commas") +
+                        "); the network takes " + std::to_string(dimension) +
+                        (dimension == 1 ? " input" : " inputs"));
   if (fields.size() != dimension)
     throw input_error(place + ": the network takes " + std::to_string(dimension) +
                       (dimension == 1 ? " input" : " inputs") + ", but the line has " + std::to_string(fields.size()) +
@@ -147,7 +160,7 @@ PointsFile read_text_points(const std::string& path, std::size_t dimension) {
       }
     }
     if (drops_index_column && !fields.empty()) fields.erase(fields.begin());
-    result.points.push_back(parse_fields(fields, dimension, place));
+    result.points.push_back(parse_fields(fields, dimension, place, drops_index_column));
     result.places.push_back(place + " (point " + std::to_string(result.points.size()) + ")");
   }
   return result;

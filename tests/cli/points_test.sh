@@ -93,6 +93,17 @@ err=$("$pleat" certify "$ramp" --points "$work/typo1.csv" -q 2>&1 >/dev/null)
 [ $? = 2 ] || fail "typo1.csv: a first line '0.5x' on a 1-input network must be exit 2: $err"
 expect_contains "$err" "typo1.csv:1: value 1 ('0.5x')" "typo1.csv"
 printf '%s\n' '-.5e,1' '1/3,1/7' > "$work/typo2.csv";          bad typo2.csv "typo2.csv:1: value 1 ('-.5e')"
+# An empty field is named, with where it is ('1,,2' and '1,2,' were "the line
+# has 3 values"); a leading '+' is refused as the sign it is (it was
+# "expected digits"), the number without it suggested.
+printf '%s\n' '1/3,1/7' '1,,2' > "$work/gap.csv";           bad gap.csv "gap.csv:2: value 2 of 3 is empty (nothing between two commas); the network takes 2 inputs"
+printf '%s\n' '1/3,1/7' '1,2,' > "$work/trail.csv";         bad trail.csv "trail.csv:2: value 3 of 3 is empty (the line ends with a comma)"
+printf '%s\n' '1/3,1/7' ',1,2' > "$work/lead.csv";          bad lead.csv "lead.csv:2: value 1 of 3 is empty (the line starts with a comma)"
+printf '%s\n' '1/3,1/7' '3, ' > "$work/short.csv";          bad short.csv "short.csv:2: value 2 of 2 is empty (the line ends with a comma)"
+printf '%s\n' ',x,y' '0,1,' > "$work/index_gap.csv";        bad index_gap.csv "index_gap.csv:2: value 2 of 2 is empty (the line ends with a comma)"
+printf '%s\n' ',x,y' '0,,1' > "$work/index_lead.csv";       bad index_lead.csv "index_lead.csv:2: value 1 of 2 is empty (nothing between two commas)"
+printf '%s\n' '+0,1/7' > "$work/plus.csv";                  bad plus.csv "plus.csv:1: value 1 ('+0'): not a number \"+0\": a leading '+' is not part of a number; write \"0\""
+printf '%s\n' '1/3,1/7' '1 +1/2' > "$work/plus2.txt";       bad plus2.txt "plus2.txt:2: value 2 ('+1/2'): not a number \"+1/2\": a leading '+' is not part of a number; write \"1/2\""
 printf '%s\n' 'x,y' '1/3,1/7' > "$work/names.csv"
 [ "$(batch_rank "$fold" "$work/names.csv")" -gt 0 ] || fail "a header of names is still skipped"
 bad truncated.npy "truncated.npy: the array data does not match the file's length"

@@ -73,6 +73,25 @@ TEST(ParseRational, ZeroDenominatorMessage) {
   }
 }
 
+// The grammar has no '+' sign: '+0' was refused with "expected digits", as
+// if its digits were at fault. The message names the sign, and suggests the
+// number without it when that reads.
+TEST(ParseRational, LeadingPlusNamedAsTheFault) {
+  const auto message = [](const std::string& text) {
+    try {
+      parse_rational(text);
+    } catch (const input_error& error) {
+      return std::string(error.what());
+    }
+    return std::string("accepted");
+  };
+  EXPECT_EQ(message("+0"), "not a number \"+0\": a leading '+' is not part of a number; write \"0\"");
+  EXPECT_EQ(message("+1/2"), "not a number \"+1/2\": a leading '+' is not part of a number; write \"1/2\"");
+  EXPECT_EQ(message("+.5e+1"), "not a number \"+.5e+1\": a leading '+' is not part of a number; write \".5e+1\"");
+  for (const char* bad : {"+", "+-1", "++1", "+abc", "+1/0"})
+    EXPECT_EQ(message(bad), std::string("not a number \"") + bad + "\": a leading '+' is not part of a number") << bad;
+}
+
 // The unexpected character is named whole, with its code point (the message
 // named one byte of a multibyte character, '\xe2' for '€'); a byte that
 // starts no valid UTF-8 sequence is named alone.
