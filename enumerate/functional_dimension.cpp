@@ -430,11 +430,12 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // that thread keeps up: formed where the region was processed, its 3 x D
     // words crossed processors to be reduced and their memory crossed back
     // (2,15,15,15,1 at 2 threads: 41 ms of walk thread time, 35 so, 28 at one).
-    // Once rows_behind entries wait, the processing thread forms them, so that
-    // only the reduction is serial (2,30,30,30,1: most of its walk).
-    // seen_by_points and rows_for_walk are not written during the walk, so
-    // workers may read them.
-    constexpr std::size_t rows_behind = 8;
+    // Once rows_behind entries wait (fewer is a passing burst, and rows formed
+    // then crossed processors for nothing: 1 ms of thread time at 2 threads on
+    // 2,15,15,15,1), the processing thread forms them, so that only the
+    // reduction is serial (2,30,30,30,1: most of its walk). seen_by_points and
+    // rows_for_walk are not written during the walk, so workers may read them.
+    constexpr std::size_t rows_behind = 64;
     walk_options.prepare_region = [&](const Region& region) -> std::any {
       if (!region.nonsmooth_neurons.empty() || seen_by_points.contains(region.pattern)) return {};
       if (backlog.queued() < rows_behind) return std::shared_ptr<const ModularMatrix>();

@@ -634,9 +634,10 @@ TEST(FunctionalDimension, SameResultForAnyThreadCount) {
                                  random_network({2, 15, 15, 15, 1}, 1), random_network({2, 15, 15, 15, 15, 1}, 1),
                                  read_network_file(PLEAT_SOURCE_DIR "/data/degenerate2d.json")}) {
     for (const bool stop_at_scaling_bound : {false, true}) {
-      // is_background_dropped: no row is reduced during the walk, so once a
-      // few regions wait, the walk's threads form the rows of those processed
-      // after (prepare_region); the reduction after the walk forms the others'.
+      // is_background_dropped: no row is reduced during the walk, so once 64
+      // regions wait (on the 2,15,15,15,1 networks' walks here), the walk's
+      // threads form the rows of those processed after (prepare_region); the
+      // reduction after the walk forms the others'.
       auto run = [&](unsigned threads, bool is_background_dropped = false) {
         FunctionalDimensionOptions options;
         options.walk.threads = threads;
