@@ -212,6 +212,12 @@ class ModularRowBasis {
   // (in no particular order) and kept row i at those columns.
   const std::vector<std::size_t>& free_columns() const { return free_columns_; }
   const ModularVector& free_part(std::size_t i) const { return free_parts_[i]; }
+  // The positions in free_part(i) of all its nonzero entries, in no
+  // particular order, when the row is listed (sparse: at most half nonzero
+  // when last listed), else nullptr: read only those, not the whole part.
+  const std::vector<std::size_t>* nonzero_positions(std::size_t i) const {
+    return is_listed_[i] != 0 ? &nonzero_positions_[i] : nullptr;
+  }
 
  private:
   // row minus its projection on the kept rows, on free_columns_ only (zero

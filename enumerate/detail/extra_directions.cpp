@@ -17,10 +17,12 @@ namespace {
 
 // The kept rows' free parts by their nonzero entries, column by column:
 // column q of F (a position in free_columns) holds entries [first[q],
-// first[q + 1]), each (kept row, value), rows increasing. One sequential
-// pass over the rank x |F| words; the read-off then reads only these (on
-// 2,15,15,15,15,1 seed 1, about 2 800 of the 495 x 286 words), where reading
-// the touched columns row by row missed the cache at every entry.
+// first[q + 1]), each (kept row, value), rows increasing. A sparse kept
+// row is read at its listed nonzero positions (ModularRowBasis keeps them),
+// a dense one in one sequential pass over its words; the read-off then
+// reads only these (on 2,15,15,15,15,1 seed 1, about 2 800 of the 495 x 286
+// words), where reading the touched columns row by row missed the cache at
+// every entry.
 struct FreeColumns {
   std::vector<std::size_t> first;
   std::vector<std::pair<std::size_t, std::uint64_t>> entries;
@@ -37,6 +39,13 @@ FreeColumns free_columns_by_nonzeros(const ModularRowBasis& basis) {
   constexpr std::size_t block = 8;  // words tested at once: almost all are 0 (2% above)
   for (std::size_t i = 0; i < rank; ++i) {
     const std::uint64_t* part = basis.free_part(i).data();
+    // A sparse row's nonzero positions are listed (all of them): only
+    // those are read, not its whole free part (cold after the walk).
+    if (const std::vector<std::size_t>* listed = basis.nonzero_positions(i)) {
+      for (std::size_t q : *listed)
+        if (part[q] != 0) nonzeros.push_back({q, i, part[q]});
+      continue;
+    }
     std::size_t q = 0;
     for (; q + block <= width; q += block) {
       std::uint64_t any = 0;
