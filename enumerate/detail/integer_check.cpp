@@ -1,6 +1,7 @@
 #include "enumerate/detail/integer_check.hpp"
 
 #include "core/stop.hpp"
+#include "enumerate/detail/thread_state.hpp"
 
 #include <algorithm>
 #include <array>
@@ -367,7 +368,7 @@ bool IntegerCheck::annihilates(const ActivationPattern& pattern, const std::vect
     std::vector<std::uint64_t> computed, changed, runs;
     std::vector<Wide> passed;  // the one-input vectors' signals at their last pass (Vector::memo)
   };
-  thread_local Reuse reuse;
+  Reuse& reuse = thread_state<Reuse>();
   if (reuse.id != id_) {
     reuse.id = id_;
     reuse.last.clear();

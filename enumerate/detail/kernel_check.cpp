@@ -10,6 +10,7 @@
 #include "enumerate/detail/check_basis.hpp"
 #include "enumerate/detail/integer_check.hpp"
 #include "enumerate/detail/parallel_for.hpp"
+#include "enumerate/detail/thread_state.hpp"
 
 namespace pleat::detail {
 namespace {
@@ -511,15 +512,16 @@ bool AnnihilationCheck::annihilates(const ActivationPattern& pattern, const Live
   // (on 2,5,5,5,5,1 seed 1 the vectors are in the last two layers, and
   // regions differing only in other neurons of the last hidden layer follow
   // each other in lexicographic order).
-  thread_local std::pair<std::uint64_t, std::vector<NeuronState>> passed{0, {}};
-  if (passed.first == id_ && passed.second.size() == pattern.states.size() &&
+  struct Passed { std::uint64_t id = 0; std::vector<NeuronState> states; };  // one per thread
+  Passed& passed = thread_state<Passed>();
+  if (passed.id == id_ && passed.states.size() == pattern.states.size() &&
       std::all_of(read_states_.begin(), read_states_.end(),
-                  [&](std::size_t n) { return passed.second[n] == pattern.states[n]; }))
+                  [&](std::size_t n) { return passed.states[n] == pattern.states[n]; }))
     return true;
-  passed.first = 0;  // invalid until this pattern is found annihilated
+  passed.id = 0;  // invalid until this pattern is found annihilated
   if (!annihilates_here(pattern, live.words > 0 ? &live : nullptr, index)) return false;
-  passed.first = id_;
-  passed.second = pattern.states;
+  passed.id = id_;
+  passed.states = pattern.states;
   return true;
 }
 
@@ -550,7 +552,7 @@ bool AnnihilationCheck::annihilates_here(const ActivationPattern& pattern, const
     std::vector<RegionFactors> factors;
     std::vector<std::vector<NeuronState>> patterns;
   };
-  thread_local Reuse reuse;
+  Reuse& reuse = thread_state<Reuse>();
   if (reuse.id != id_) {
     reuse.id = id_;
     reuse.factors.assign(moduli_.size(), RegionFactors());
