@@ -130,6 +130,11 @@ void layer_inputs(const Wide* weights, std::size_t fan_in, const Wide* bias, con
 struct IntegerCheck::Factors {
   std::vector<std::vector<Wide>> offset, linear, signal;
   std::vector<std::vector<std::size_t>> passing;
+  // computed[k][i]: X_k[i] holds its value (else it is 0); and, for the
+  // first layer recomputed, the rows that were not computed before.
+  std::vector<std::vector<char>> computed;
+  std::vector<char> wanted;
+  std::vector<std::size_t> fresh;
   std::vector<std::uint64_t> sums;  // (n0 + 1) accumulators of n limbs
   std::vector<std::uint64_t> group;  // a group's S (Run::group_end), n limbs
   std::vector<std::size_t> rows;    // the passing neurons whose X_{forward_to} a term reads
@@ -265,12 +270,22 @@ void IntegerCheck::compute_factors(const ActivationPattern& pattern, Factors& fa
   factors.offset.resize(depth_);
   factors.linear.resize(depth_);
   factors.signal.resize(depth_);
+  factors.computed.resize(depth_);
+  // The layers below reuse_below have the last pattern's states: their
+  // passing neurons too. Branch-free: on and off are mixed.
   for (std::size_t k = 0, neuron = 0; k < depth_; ++k) {
-    std::vector<std::size_t>& passing = factors.passing[k];
-    passing.clear();
     const bool has_relu = k + 1 < depth_ || output_relu_;
-    for (std::size_t i = 0; i < widths_[k]; ++i, neuron += has_relu ? 1 : 0)
-      if (!has_relu || pattern.is_on(neuron)) passing.push_back(i);
+    if (k >= reuse_below) {
+      std::vector<std::size_t>& passing = factors.passing[k];
+      passing.resize(widths_[k]);
+      std::size_t count = 0;
+      for (std::size_t i = 0; i < widths_[k]; ++i) {
+        passing[count] = i;
+        count += !has_relu || pattern.states[neuron + i] == NeuronState::on ? 1 : 0;
+      }
+      passing.resize(count);
+    }
+    neuron += has_relu ? widths_[k] : 0;
   }
   // X_0: the input itself (offset 0, slopes the identity).
   factors.offset[0].assign(n0_, 0);
@@ -281,14 +296,38 @@ void IntegerCheck::compute_factors(const ActivationPattern& pattern, Factors& fa
   for (std::size_t k = reuse_below; k < forward_to_; ++k) {
     std::vector<Wide>& offset = factors.offset[k + 1];
     std::vector<Wide>& linear = factors.linear[k + 1];
-    offset.assign(widths_[k], 0);
-    linear.assign(widths_[k] * n0_, 0);
+    std::vector<char>& computed = factors.computed[k + 1];
     const std::vector<std::size_t>* rows = &factors.passing[k];
     if (k + 1 == forward_to_) {
       factors.rows.clear();
       for (std::size_t i : factors.passing[k])
         if (read_last_[i]) factors.rows.push_back(i);
       rows = &factors.rows;
+    }
+    if (k == reuse_below && k > 0 && computed.size() == widths_[k]) {
+      // X_k and layer k - 1's states are the last pattern's (reuse_below):
+      // a row computed for it has the same value now. Only the rows newly
+      // wanted are computed, and those no longer wanted set to 0.
+      factors.fresh.clear();
+      std::vector<char>& wanted = factors.wanted;
+      wanted.assign(widths_[k], 0);
+      for (std::size_t i : *rows) wanted[i] = 1;
+      for (std::size_t i = 0; i < widths_[k]; ++i) {
+        if (computed[i] && !wanted[i]) {
+          offset[i] = 0;
+          std::fill(linear.begin() + static_cast<std::ptrdiff_t>(i * n0_),
+                    linear.begin() + static_cast<std::ptrdiff_t>((i + 1) * n0_), Wide{0});
+        } else if (!computed[i] && wanted[i]) {
+          factors.fresh.push_back(i);
+        }
+        computed[i] = wanted[i];
+      }
+      rows = &factors.fresh;
+    } else {
+      offset.assign(widths_[k], 0);
+      linear.assign(widths_[k] * n0_, 0);
+      computed.assign(widths_[k], 0);
+      for (std::size_t i : *rows) computed[i] = 1;
     }
     if (k == 0) {  // from the input itself: offset L b_0[i], slopes L W_0[i,:], no products
       for (std::size_t i : *rows) {

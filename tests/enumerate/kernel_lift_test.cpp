@@ -465,55 +465,62 @@ TEST(KernelCheck, RowsAtSomeColumnsEqualTheModularBlocks) {
 
 // Each thread keeps the layer inputs of the last pattern it checked, per
 // prime, and reuses those of the layers where the next pattern agrees
-// (detail::AnnihilationCheck::annihilates). Two checks used one after the
-// other and in turn on one thread, over the patterns in walk order, sorted
-// and reversed, answer each
-// pattern as exact products with coefficient_blocks do: the exact extra
-// directions pass everywhere, the same changed in one entry fail exactly
-// where the products are not zero.
+// (detail::AnnihilationCheck::annihilates); in integers, the first layer
+// recomputed keeps the rows it had computed and computes only those newly
+// on (IntegerCheck::compute_factors). Two checks used one after the other
+// and in turn on one thread, over the patterns in walk order, sorted and
+// reversed, answer each pattern as exact products with coefficient_blocks
+// do: the exact extra directions pass everywhere, the same changed in one
+// entry (a weight of each layer past the first, whose rows read that
+// layer's inputs) fail exactly where the products are not zero. A row kept
+// where it should have been recomputed or set to 0 would misplace them.
 TEST(KernelCheck, ReusedLayerInputsGiveEachPatternsOwnAnswer) {
   const Network network = random_network({2, 4, 3, 3, 1}, 31);
   const WalkState state = walk_state(network);
   const RationalMatrix extra = exact_extra_directions(network, state.smooth);
   ASSERT_GT(extra.rows(), 0u);
-  // Changed at W_last[0,0], whose rows are G times the last layer's input:
-  // stale inputs would misplace the regions where it is seen.
-  RationalMatrix altered = extra;
-  altered(0, network.parameter_offset(network.depth() - 1)) += Rational(1, 3);
   const detail::CheckScale scale(network);
-  auto annihilated = [&](const ActivationPattern& pattern) {
-    const RationalMatrix blocks = coefficient_blocks(network, pattern);
-    for (std::size_t r = 0; r < blocks.rows(); ++r) {
-      Rational sum = 0;
-      for (std::size_t c = 0; c < blocks.cols(); ++c) sum += blocks(r, c) * altered(0, c);
-      if (sum != 0) return false;
-    }
-    return true;
-  };
-  std::size_t rejected = 0;
-  // In fixed-width integers (this network's bounds allow them) and modulo primes.
-  for (const auto arithmetic : {detail::CheckArithmetic::fastest, detail::CheckArithmetic::primes}) {
-    const detail::AnnihilationCheck exact(network, extra, scale, 1, arithmetic),
-        wrong(network, altered, scale, 1, arithmetic);
-    std::vector<ActivationPattern> order = state.smooth;
-    for (int pass = 0; pass < 3; ++pass) {
-      if (pass == 1)
-        std::sort(order.begin(), order.end(),
-                  [](const ActivationPattern& a, const ActivationPattern& b) { return a.states < b.states; });
-      if (pass == 2) std::reverse(order.begin(), order.end());
-      for (const ActivationPattern& pattern : order) {  // one check after the other
-        const bool expected = annihilated(pattern);
-        EXPECT_EQ(wrong.annihilates(pattern), expected);
-        rejected += expected ? 0 : 1;
+  for (std::size_t k = 1; k < network.depth(); ++k) {
+    for (std::size_t i : {std::size_t{0}, network.layers[k].width() - 1}) {
+      // Changed at W_k[i,0] and W_k[i,1]: G times layer k's inputs 0 and 1.
+      RationalMatrix altered = extra;
+      altered(0, network.parameter_offset(k) + i * network.layers[k].fan_in()) += Rational(1, 3);
+      altered(0, network.parameter_offset(k) + i * network.layers[k].fan_in() + 1) -= Rational(2, 7);
+      auto annihilated = [&](const ActivationPattern& pattern) {
+        const RationalMatrix blocks = coefficient_blocks(network, pattern);
+        for (std::size_t r = 0; r < blocks.rows(); ++r) {
+          Rational sum = 0;
+          for (std::size_t c = 0; c < blocks.cols(); ++c) sum += blocks(r, c) * altered(0, c);
+          if (sum != 0) return false;
+        }
+        return true;
+      };
+      std::size_t rejected = 0;
+      // In fixed-width integers (this network's bounds allow them) and modulo primes.
+      for (const auto arithmetic : {detail::CheckArithmetic::fastest, detail::CheckArithmetic::primes}) {
+        const detail::AnnihilationCheck exact(network, extra, scale, 1, arithmetic),
+            wrong(network, altered, scale, 1, arithmetic);
+        std::vector<ActivationPattern> order = state.smooth;
+        for (int pass = 0; pass < 3; ++pass) {
+          if (pass == 1)
+            std::sort(order.begin(), order.end(),
+                      [](const ActivationPattern& a, const ActivationPattern& b) { return a.states < b.states; });
+          if (pass == 2) std::reverse(order.begin(), order.end());
+          for (const ActivationPattern& pattern : order) {  // one check after the other
+            const bool expected = annihilated(pattern);
+            EXPECT_EQ(wrong.annihilates(pattern), expected) << "layer " << k << " neuron " << i;
+            rejected += expected ? 0 : 1;
+          }
+          for (const ActivationPattern& pattern : order) EXPECT_TRUE(exact.annihilates(pattern));
+          for (const ActivationPattern& pattern : order) {  // in turn
+            EXPECT_TRUE(exact.annihilates(pattern));
+            EXPECT_EQ(wrong.annihilates(pattern), annihilated(pattern)) << "layer " << k << " neuron " << i;
+          }
+        }
       }
-      for (const ActivationPattern& pattern : order) EXPECT_TRUE(exact.annihilates(pattern));
-      for (const ActivationPattern& pattern : order) {  // in turn
-        EXPECT_TRUE(exact.annihilates(pattern));
-        EXPECT_EQ(wrong.annihilates(pattern), annihilated(pattern));
-      }
+      EXPECT_GT(rejected, 6u) << "layer " << k << " neuron " << i;
     }
   }
-  EXPECT_GT(rejected, 6u);
 }
 
 // A pattern equal to the last annihilated one at every neuron the vectors'
