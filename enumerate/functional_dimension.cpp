@@ -575,10 +575,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   if (options.keep_rows && !kept.empty()) {
     // A Ctrl-C that stopped the run leaves its rows formed whole (documented);
     // one while they are formed ends them (not the value): the first rows_regions.
-    const bool run_interrupted = result.stop_reason == StopReason::interrupted;
-    result.rows = detail::contributing_rows(network, kept, run_interrupted ? nullptr : options.walk.interrupt,
-                                            result.rows_regions,
-                                            [&](std::size_t done, std::size_t total) { report("rows", done, total); });
+    const std::atomic<bool>* interrupt = result.stop_reason == StopReason::interrupted ? nullptr : options.walk.interrupt;
+    const auto rows_progress = [&](std::size_t done, std::size_t total) { report("rows", done, total); };
+    result.rows = detail::contributing_rows(network, kept, interrupt, result.rows_regions, rows_progress,
+                                            options.on_region_rows);  // when set, handed on and none kept
     result.rows_interrupted = result.rows_regions < kept.size();
   }
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();

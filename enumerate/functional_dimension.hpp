@@ -106,6 +106,12 @@ struct FunctionalDimensionOptions {
   bool give_up_early = true;
   std::uint64_t points_seed = 1;
   bool keep_rows = false;  // fill FunctionalDimensionResult::rows (exact rows of contributing regions)
+  // With keep_rows: when set, each contributing region's exact rows are
+  // given to it as they are formed, in order, and FunctionalDimensionResult::rows
+  // stays empty (one region's rows held at a time, not all of them: certify
+  // --rows-out writes each region's text at once). An exception it throws
+  // ends the call.
+  std::function<void(const RationalMatrix& region_rows)> on_region_rows;
   // The walk to run when one is needed: walk_regions when empty, or one that
   // delivers the same regions in the same order (the walk across processes,
   // enumerate/distributed_walk.hpp). Called at most once.
@@ -149,7 +155,7 @@ struct FunctionalDimensionResult {
   std::vector<RationalVector> witness_points;
   std::vector<std::pair<ActivationPattern, std::vector<std::size_t>>> nonsmooth_regions;
   std::vector<ExtraKernelDirection> extra_kernel;
-  RationalMatrix rows;    // with keep_rows: exact coefficient-block rows of the contributing regions
+  RationalMatrix rows;    // with keep_rows (and no on_region_rows): exact coefficient-block rows of the contributing regions
   // With keep_rows, rows are those of the first rows_regions of the
   // regions_contributing regions, in order: all of them unless an interrupt
   // came while the rows were formed (phase "rows", after the value was

@@ -52,13 +52,12 @@ struct CertifyArguments {
   std::uint64_t claim_value = 0;
 };
 
-// --rows-out, --kernel-out and --witness-out of the network's certify run
-// (with --points too: the run beside the points' rank).
-// Returns true when a Ctrl-C cut the rows short (exit 130).
-bool write_result_files(const CertifyArguments& arguments, const FunctionalDimensionResult& result,
-                        const std::atomic<bool>& interrupt, bool stopped_in_batch = false) {
-  const bool rows_cut_short =
-      !arguments.rows_path.empty() && write_rows(arguments.rows_path, result, interrupt, stopped_in_batch);
+// --rows-out (its rows written as the run formed them: rows, when given),
+// --kernel-out and --witness-out of the network's certify run (with --points
+// too: the run beside the points' rank, or none when stopped_in_batch). Returns true when a Ctrl-C cut the rows short (exit 130).
+bool write_result_files(const CertifyArguments& arguments, const FunctionalDimensionResult& result, RowsOut* rows,
+                        bool stopped_in_batch = false) {
+  const bool rows_cut_short = rows && rows->finish(result, stopped_in_batch);
   if (!arguments.kernel_path.empty()) write_kernel(arguments.kernel_path, result);
   if (!arguments.witness_path.empty()) write_witnesses(arguments.witness_path, result, stopped_in_batch);
   return rows_cut_short;
@@ -242,7 +241,7 @@ std::string phase_text(const CertifyProgress& state) {
 // The walk and ranks of certify_functional_dimension, with the progress line,
 // interrupt handling and the command's limits.
 FunctionalDimensionResult certify_with_progress(const CertifyArguments& arguments, const Network& network,
-                                                const Domain& domain, bool stop_at_scaling_bound) {
+                                                const Domain& domain, bool stop_at_scaling_bound, RowsOut* rows) {
   ProgressLine progress(arguments.quiet);
   const InterruptGuard interrupt;
   FunctionalDimensionOptions options;
@@ -263,7 +262,8 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
     across = lead_certify_across(*group, arguments.limits.time_limit);
     options.across = across.get();
   }
-  options.keep_rows = !arguments.rows_path.empty();
+  options.keep_rows = rows != nullptr;
+  if (rows) options.on_region_rows = [rows](const RationalMatrix& region_rows) { rows->add(region_rows); };
   options.keep_kernel = !arguments.kernel_path.empty() || !arguments.bundle_path.empty();  // both print it
   FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
   finish_walks_across();
@@ -376,11 +376,14 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
   }
   // Every region must be walked to count them (no early stop at the scaling bound).
   if (walk_stopped_by != StopReason::none) finish_walks_across();  // an MPI job's other ranks wait for a walk
-  const FunctionalDimensionResult result = walk_stopped_by == StopReason::none
-                                               ? certify_with_progress(walk_arguments, network, domain, false)
-                                               : certify_result_not_started(network, walk_stopped_by);
+  std::optional<RowsOut> rows;
+  if (!arguments.rows_path.empty()) rows.emplace(arguments.rows_path);
+  const FunctionalDimensionResult result =
+      walk_stopped_by == StopReason::none
+          ? certify_with_progress(walk_arguments, network, domain, false, rows ? &*rows : nullptr)
+          : certify_result_not_started(network, walk_stopped_by);
   const bool rows_cut_short =
-      write_result_files(arguments, result, interrupt.flag(), walk_stopped_by != StopReason::none);
+      write_result_files(arguments, result, rows ? &*rows : nullptr, walk_stopped_by != StopReason::none);
   std::optional<ClaimVerdict> at_points, network_verdict;
   if (arguments.claim) {
     at_points = judge_claim_at_points(*arguments.claim, batch.batch.lower, batch.batch.upper);
@@ -480,8 +483,11 @@ int run_certify(const CertifyArguments& arguments) {
     return run_points(arguments, network);
   }
   const Domain domain = make_domain(arguments.domain, network.input_dim);
-  const FunctionalDimensionResult result = certify_with_progress(arguments, network, domain, !arguments.full_walk);
-  const bool rows_cut_short = write_result_files(arguments, result, early_interrupt.flag());
+  std::optional<RowsOut> rows;
+  if (!arguments.rows_path.empty()) rows.emplace(arguments.rows_path);
+  const FunctionalDimensionResult result =
+      certify_with_progress(arguments, network, domain, !arguments.full_walk, rows ? &*rows : nullptr);
+  const bool rows_cut_short = write_result_files(arguments, result, rows ? &*rows : nullptr);
 
   Json document = result_to_json(network, domain, result);
   std::optional<ClaimVerdict> verdict;
@@ -548,7 +554,7 @@ void register_certify(CommandTable& commands) {
                    "the scaling bound");
   command.add_option("--rows-out", arguments->rows_path,
                      "Write the exact Jacobian rows of the contributing regions (one row per line; computed once the run "
-                     "has ended, after a --time-limit too; a run not certified, or a Ctrl-C while they are formed or written, writes "
+                     "has ended, after a --time-limit too, and written as formed; a run not certified, or a Ctrl-C while they are formed, writes "
                      "first a line '# partial: ...')");
   command.add_option("--kernel-out", arguments->kernel_path,
                      "Write a basis of the exact kernel of a certified value: the scaling directions, then the extra "

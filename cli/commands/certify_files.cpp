@@ -4,7 +4,6 @@
 #include "cli/common.hpp"
 #include "cli/formats/points_file.hpp"
 
-#include <atomic>
 #include <filesystem>
 #include <iostream>
 #include <sstream>
@@ -13,15 +12,12 @@ namespace pleat::cli {
 
 namespace {
 
-// The rows' text, one per line, until interrupt (null: never) is set, polled
-// between rows: how many rows it holds.
-std::size_t rows_text(const RationalMatrix& matrix, const std::atomic<bool>* interrupt, std::ostringstream& out) {
-  std::size_t r = 0;
-  for (; r < matrix.rows() && !(interrupt && interrupt->load()); ++r) {
+// The rows' text, one per line.
+void rows_text(const RationalMatrix& matrix, std::ostringstream& out) {
+  for (std::size_t r = 0; r < matrix.rows(); ++r) {
     for (std::size_t c = 0; c < matrix.cols(); ++c) out << (c ? "," : "") << format_rational(matrix(r, c));
     out << "\n";
   }
-  return r;
 }
 
 // Why a run was not certified, as its files' first lines say it.
@@ -32,6 +28,11 @@ std::string not_certified_why(const FunctionalDimensionResult& result) {
 
 // The file's text after a first line "# LINE" when line is not empty; stderr
 // says the line too (the file read as a complete run's).
+void commit_with_first_line(StagedFile& file, const std::string& line) {
+  file.commit(line.empty() ? line : "# " + line + "\n");
+  if (!line.empty()) std::cerr << "pleat: " << file.path() << ": " << line << "\n";
+}
+
 void write_with_first_line(const std::string& path, const std::string& line, const std::string& text) {
   write_output(path, line.empty() ? text : "# " + line + "\n" + text);
   if (!line.empty()) std::cerr << "pleat: " << path << ": " << line << "\n";
@@ -53,7 +54,7 @@ std::string not_certified_line(const FunctionalDimensionResult& result, bool sto
 
 void write_matrix(const std::string& path, const RationalMatrix& matrix) {
   std::ostringstream out;
-  rows_text(matrix, nullptr, out);
+  rows_text(matrix, out);
   write_output(path, out.str());
 }
 
@@ -73,27 +74,22 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
   write_matrix(path, result.kernel);
 }
 
-bool write_rows(const std::string& path, const FunctionalDimensionResult& result, const std::atomic<bool>& interrupt,
-                bool stopped_in_batch) {
-  // A Ctrl-C that stopped the run, or the rows' forming, came before the
-  // text: what was formed is written whole. Any other ends the text.
-  const bool interrupted_before = result.stop_reason == StopReason::interrupted || result.rows_interrupted;
-  std::ostringstream rows;
-  const std::size_t written = rows_text(result.rows, interrupted_before ? nullptr : &interrupt, rows);
-  const bool cut_short = result.rows_interrupted || written < result.rows.rows();
+void RowsOut::add(const RationalMatrix& region_rows) {
+  std::ostringstream text;
+  rows_text(region_rows, text);
+  file_.write(text.view());
+}
+
+bool RowsOut::finish(const FunctionalDimensionResult& result, bool stopped_in_batch) {
   std::string line;
   if (result.rows_interrupted)
     line = "partial: interrupted while the rows were formed; the exact rows of the first " +
            std::to_string(result.rows_regions) + " of the " + std::to_string(result.regions_contributing) +
            " regions that contributed (the printed value or bounds stand)";
-  else if (cut_short)
-    line = "partial: interrupted while the rows were written; the first " + std::to_string(written) + " of the " +
-           std::to_string(result.rows.rows()) + " exact rows of the " + std::to_string(result.regions_contributing) +
-           " regions that contributed (the printed value or bounds stand)";
   else if (!result.certified)
     line = not_certified_line(result, stopped_in_batch);
-  write_with_first_line(path, line, rows.str());
-  return cut_short;
+  commit_with_first_line(file_, line);
+  return result.rows_interrupted;
 }
 
 void write_witnesses(const std::string& path, const FunctionalDimensionResult& result, bool stopped_in_batch) {

@@ -1,10 +1,10 @@
 // certify's matrix files, one exact row per line, comma-separated.
 #pragma once
 
+#include "cli/formats/output_file.hpp"
 #include "core/matrix.hpp"
 #include "enumerate/functional_dimension.hpp"
 
-#include <atomic>
 #include <string>
 
 namespace pleat::cli {
@@ -20,19 +20,29 @@ void say_not_written(const std::string& what, const std::string& path, const std
 // (said on stderr): a file would read as a kernel that was never proved.
 void write_kernel(const std::string& path, const FunctionalDimensionResult& result);
 
-// --rows-out: the exact rows of the regions that contributed. Of a run not
-// certified (stopped, or its bounds apart) they are those found before it
-// ended, of rank the proved lower bound: the file's first line says so (a
-// comment, "# partial: ..."), and so does stderr (the file read as a
-// complete run's). stopped_in_batch: certify --points stopped in its batch
-// stage, before the walk; the line says that no region was walked instead.
-// A Ctrl-C while the rows were formed (result.rows_interrupted) or while their
-// text is made (interrupt, polled between rows unless a Ctrl-C stopped the
-// run: then its rows are written whole, as documented) writes the rows done
-// before it, under a line that says so, whether or not the value was
-// certified; then it returns true (the command exits 130).
-bool write_rows(const std::string& path, const FunctionalDimensionResult& result, const std::atomic<bool>& interrupt,
-                bool stopped_in_batch = false);
+// --rows-out: the exact rows of the regions that contributed, written as
+// certify forms them (FunctionalDimensionOptions::on_region_rows: add), each
+// region's text at once, to a temporary file put in place by finish
+// (StagedFile), so that memory holds one region's rows, not the file. Of a
+// run not certified (stopped, or its bounds apart) they are those found
+// before it ended, of rank the proved lower bound: the file's first line
+// says so (a comment, "# partial: ..."), and so does stderr (the file read
+// as a complete run's). stopped_in_batch: certify --points stopped in its
+// batch stage, before the walk; the line says that no region was walked
+// instead. A Ctrl-C while the rows were formed (result.rows_interrupted;
+// polled between regions, unless a Ctrl-C stopped the run: then its rows are
+// written whole, as documented) leaves the rows of the regions done before
+// it, under a line that says so, whether or not the value was certified;
+// then finish returns true (the command exits 130).
+class RowsOut {
+ public:
+  explicit RowsOut(const std::string& path) : file_(path) {}
+  void add(const RationalMatrix& region_rows);
+  bool finish(const FunctionalDimensionResult& result, bool stopped_in_batch = false);
+
+ private:
+  StagedFile file_;
+};
 
 // --witness-out: the exact points whose regions' rows raised the rank (a
 // points file: re-check with --points). Of a run not certified they prove

@@ -186,7 +186,11 @@ void check_standard_output() {
     throw output_error(std::string("cannot write to standard output (") + std::strerror(error_number) + ")");
 }
 
-void write_file_atomically(const std::string& path, std::string_view text) {
+namespace {
+
+// A new empty hidden file next to `path` (".NAME.XXXXXX"), refused as
+// opening `path` would be.
+std::string temporary_beside(const std::string& path) {
   refuse_overwriting(path, path);
   const std::filesystem::path target(path);
   const std::filesystem::path directory = target.has_parent_path() ? target.parent_path() : ".";
@@ -194,16 +198,19 @@ void write_file_atomically(const std::string& path, std::string_view text) {
   std::string hidden_name(".");
   hidden_name.append(target.filename().string()).append(".XXXXXX");
   std::string temporary = (directory / hidden_name).string();
-  const mode_t mode = replacement_mode(path);
+  (void)replacement_mode(path);  // a file this process may not write is refused before anything is written
   const int descriptor = mkstemp(temporary.data());
   if (descriptor < 0) throw input_error(path + ": cannot open for writing (" + std::strerror(errno) + ")");
   ::close(descriptor);
+  return temporary;
+}
+
+// The written temporary file renamed over `path`, with the mode `path` had
+// (or a new file's); the temporary file is removed when that fails.
+void put_in_place(const std::string& temporary, const std::string& path) {
   try {
-    OutputFile file(temporary, OutputFile::Mode::truncate, path);
-    file.write(text);
-    file.close();
     // Once written: the mode may forbid writing (a 0444 file its owner may replace).
-    if (chmod(temporary.c_str(), mode) != 0)
+    if (chmod(temporary.c_str(), replacement_mode(path)) != 0)
       throw output_error(path + ": cannot set its mode (" + std::string(std::strerror(errno)) + ")");
   } catch (...) {
     std::remove(temporary.c_str());
@@ -214,6 +221,82 @@ void write_file_atomically(const std::string& path, std::string_view text) {
     std::remove(temporary.c_str());
     throw output_error(path + ": cannot replace (" + std::string(std::strerror(error_number)) + ")");
   }
+}
+
+}  // namespace
+
+void write_file_atomically(const std::string& path, std::string_view text) {
+  const std::string temporary = temporary_beside(path);
+  try {
+    OutputFile file(temporary, OutputFile::Mode::truncate, path);
+    file.write(text);
+    file.close();
+  } catch (...) {
+    std::remove(temporary.c_str());
+    throw;
+  }
+  put_in_place(temporary, path);
+}
+
+StagedFile::StagedFile(const std::string& path) : path_(path) {
+  if (path != "-" && is_replaceable(path)) target_ = link_target(path);
+}
+
+StagedFile::~StagedFile() {
+  file_.reset();
+  if (!temporary_.empty()) std::remove(temporary_.c_str());
+}
+
+void StagedFile::write(std::string_view text) {
+  if (target_.empty()) {
+    held_.append(text);
+    return;
+  }
+  if (!file_) {
+    temporary_ = temporary_beside(target_);
+    file_ = std::make_unique<OutputFile>(temporary_, OutputFile::Mode::truncate, path_);
+  }
+  file_->write(text);
+}
+
+void StagedFile::commit(std::string_view first_line) {
+  if (!file_) {  // nothing written to a temporary file: the whole text at once
+    std::string text(first_line);
+    text += held_;
+    if (path_ == "-") {
+      std::cout << text;
+      check_standard_output();
+    } else {
+      write_whole_file(path_, text);
+    }
+    held_.clear();
+    return;
+  }
+  file_->close();
+  std::string written = std::move(temporary_);
+  temporary_.clear();
+  try {
+    if (!first_line.empty()) {
+      // The line, then the pieces copied after it, into a second file.
+      temporary_ = temporary_beside(target_);
+      OutputFile lined(temporary_, OutputFile::Mode::truncate, path_);
+      lined.write(first_line);
+      std::ifstream pieces(written, std::ios::binary);
+      std::vector<char> buffer(std::size_t{1} << 20);
+      while (pieces.read(buffer.data(), static_cast<std::streamsize>(buffer.size())) || pieces.gcount() > 0)
+        lined.write(std::string_view(buffer.data(), static_cast<std::size_t>(pieces.gcount())));
+      if (pieces.bad()) throw output_error(path_ + ": cannot read back its temporary file " + written);
+      lined.close();
+      std::remove(written.c_str());
+      written = std::move(temporary_);
+      temporary_.clear();
+    }
+  } catch (...) {
+    std::remove(written.c_str());
+    throw;
+  }
+  file_.reset();
+  put_in_place(written, target_);
 }
 
 }  // namespace pleat::cli

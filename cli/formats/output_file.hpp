@@ -7,6 +7,7 @@
 #pragma once
 
 #include <cstdio>
+#include <memory>
 #include <stdexcept>
 #include <string>
 #include <string_view>
@@ -73,6 +74,33 @@ void check_standard_output();
 // keeps the mode of the one it replaces; a file this process may not write
 // is refused (input_error), as opening it in place would be.
 void write_file_atomically(const std::string& path, std::string_view text);
+
+// A file written a piece at a time and put in place whole by commit: the
+// pieces go to a temporary file next to `path` (made at the first write),
+// renamed over it as write_file_atomically does, when `path` is a regular
+// file or does not exist yet; otherwise (standard output "-", a device, a
+// pipe) they are held and written at commit. So memory holds one piece, and
+// until commit `path` keeps its earlier content. commit(first_line) puts the
+// line before the pieces (the temporary file is then copied after it into a
+// second one). Destroyed without commit, it removes its temporary file.
+class StagedFile {
+ public:
+  explicit StagedFile(const std::string& path);
+  ~StagedFile();
+  StagedFile(const StagedFile&) = delete;
+  StagedFile& operator=(const StagedFile&) = delete;
+  // Throws as OutputFile and write_file_atomically do.
+  void write(std::string_view text);
+  void commit(std::string_view first_line = {});
+  const std::string& path() const { return path_; }
+
+ private:
+  std::string path_;    // as given
+  std::string target_;  // the file renamed over (through links); empty: written in place at commit
+  std::string held_;    // the pieces when written in place
+  std::string temporary_;
+  std::unique_ptr<OutputFile> file_;  // the temporary file, once made
+};
 
 // A whole result file (a bundle, a kernel, a figure, a table, a network):
 // write_file_atomically when `path` is a regular file or does not exist yet,

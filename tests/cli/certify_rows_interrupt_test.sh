@@ -64,6 +64,14 @@ if not first.startswith("# partial: interrupted while the rows were formed; the 
 formed, of = first.split("the first ")[1].split(" regions")[0].split(" of the ")
 if not int(formed) < int(of) == out["regions_contributing"]:
     sys.exit(f"the file claims {formed} of {of} regions; certify counted {out['regions_contributing']}")
+# The rows of each of those regions, whole: nd (n0 + 1) = 3 rows a region,
+# 1887 entries a row (the rows are written as they are formed, a region at a
+# time: the line must count what the file holds).
+if len(lines) - 1 != 3 * int(formed) or any(len(line.split(",")) != 1887 for line in lines[1:]):
+    sys.exit(f"{len(lines) - 1} rows under a line that says {formed} regions (3 rows each)")
+# Nothing left beside the file (the rows went to a temporary file renamed over it).
+if sorted(os.listdir(work)) != ["long_walk.json", "net.json", "out.json", "rows.txt"]:
+    sys.exit("files left in the directory: " + " ".join(sorted(os.listdir(work))))
 
 # In the walk: bounds, and every row of the regions that contributed.
 text, out, lines = interrupted_at(b"regions walked", "long_walk.json")
