@@ -1,6 +1,10 @@
 #include "cli/signals.hpp"
 
+#include <unistd.h>
+
+#include <array>
 #include <csignal>
+#include <cstring>
 #include <ctime>
 
 namespace pleat::cli {
@@ -9,6 +13,24 @@ namespace {
 std::atomic<bool> interrupted{false};
 std::atomic<long long> first_signal_nanoseconds{0};
 int guard_depth = 0;  // guards are taken and dropped on the main thread only
+
+// RemovedIfKilled's files. A slot is free, being filled, set (its path
+// complete), or taken by the handler, which then owns it for good (the
+// process is ending), so that the path it reads is never rewritten under it.
+enum SlotState : int { free_slot, filling, set, taken };
+struct KillSlot {
+  std::atomic<int> state{free_slot};
+  std::array<char, 4096> path{};
+};
+std::array<KillSlot, 4> kill_slots;
+static_assert(std::atomic<int>::is_always_lock_free, "read in a signal handler");
+
+void remove_files_registered() {
+  for (KillSlot& slot : kill_slots) {
+    int expected = set;
+    if (slot.state.compare_exchange_strong(expected, taken)) ::unlink(slot.path.data());
+  }
+}
 
 long long monotonic_nanoseconds() {
   timespec now{};
@@ -31,6 +53,7 @@ extern "C" void on_interrupt(int signal_number) {
     return;
   }
   if (now - first >= 1000000000LL) {
+    remove_files_registered();
     std::signal(signal_number, SIG_DFL);
     std::raise(signal_number);
   }
@@ -53,5 +76,24 @@ InterruptGuard::~InterruptGuard() {
 }
 
 const std::atomic<bool>& InterruptGuard::flag() const { return interrupted; }
+
+RemovedIfKilled::RemovedIfKilled(const std::string& path) {
+  for (std::size_t i = 0; i < kill_slots.size(); ++i) {
+    KillSlot& slot = kill_slots[i];
+    if (path.size() >= slot.path.size()) return;
+    int expected = free_slot;
+    if (!slot.state.compare_exchange_strong(expected, filling)) continue;
+    std::memcpy(slot.path.data(), path.c_str(), path.size() + 1);
+    slot.state.store(set);
+    slot_ = static_cast<int>(i);
+    return;
+  }
+}
+
+RemovedIfKilled::~RemovedIfKilled() {
+  if (slot_ < 0) return;
+  int expected = set;  // taken by the handler: left so, the process is ending
+  kill_slots[static_cast<std::size_t>(slot_)].state.compare_exchange_strong(expected, free_slot);
+}
 
 }  // namespace pleat::cli

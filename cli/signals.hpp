@@ -10,6 +10,8 @@
 #pragma once
 
 #include <atomic>
+#include <memory>
+#include <string>
 
 namespace pleat::cli {
 
@@ -20,6 +22,23 @@ class InterruptGuard {
   InterruptGuard(const InterruptGuard&) = delete;
   InterruptGuard& operator=(const InterruptGuard&) = delete;
   const std::atomic<bool>& flag() const;
+};
+
+// A file to remove if a repeated signal ends the process (a staged file's
+// hidden temporary, which would otherwise stay behind: up to gigabytes for
+// certify --rows-out). Registered while this lives; the handler removes it
+// (unlink, async-signal-safe) just before it ends the process. Four at most
+// at once, paths under 4096 bytes: any other is not registered and stays
+// behind, as before.
+class RemovedIfKilled {
+ public:
+  explicit RemovedIfKilled(const std::string& path);
+  ~RemovedIfKilled();
+  RemovedIfKilled(const RemovedIfKilled&) = delete;
+  RemovedIfKilled& operator=(const RemovedIfKilled&) = delete;
+
+ private:
+  int slot_ = -1;
 };
 
 }  // namespace pleat::cli

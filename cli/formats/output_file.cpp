@@ -1,5 +1,6 @@
 #include "cli/formats/output_file.hpp"
 
+#include "cli/signals.hpp"
 #include "core/rational.hpp"
 
 #include <sys/stat.h>
@@ -227,6 +228,7 @@ void put_in_place(const std::string& temporary, const std::string& path) {
 
 void write_file_atomically(const std::string& path, std::string_view text) {
   const std::string temporary = temporary_beside(path);
+  const RemovedIfKilled removed_if_killed(temporary);
   try {
     OutputFile file(temporary, OutputFile::Mode::truncate, path);
     file.write(text);
@@ -254,6 +256,7 @@ void StagedFile::write(std::string_view text) {
   }
   if (!file_) {
     temporary_ = temporary_beside(target_);
+    removed_if_killed_ = std::make_unique<RemovedIfKilled>(temporary_);
     file_ = std::make_unique<OutputFile>(temporary_, OutputFile::Mode::truncate, path_);
   }
   file_->write(text);
@@ -275,10 +278,12 @@ void StagedFile::commit(std::string_view first_line) {
   file_->close();
   std::string written = std::move(temporary_);
   temporary_.clear();
+  std::unique_ptr<RemovedIfKilled> written_if_killed = std::move(removed_if_killed_);
   try {
     if (!first_line.empty()) {
       // The line, then the pieces copied after it, into a second file.
       temporary_ = temporary_beside(target_);
+      removed_if_killed_ = std::make_unique<RemovedIfKilled>(temporary_);
       OutputFile lined(temporary_, OutputFile::Mode::truncate, path_);
       lined.write(first_line);
       std::ifstream pieces(written, std::ios::binary);
@@ -290,6 +295,7 @@ void StagedFile::commit(std::string_view first_line) {
       std::remove(written.c_str());
       written = std::move(temporary_);
       temporary_.clear();
+      written_if_killed = std::move(removed_if_killed_);
     }
   } catch (...) {
     std::remove(written.c_str());

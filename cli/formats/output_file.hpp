@@ -16,6 +16,8 @@
 
 namespace pleat::cli {
 
+class RemovedIfKilled;  // cli/signals.hpp
+
 // A result could not be written (a full disk, a closed pipe, /dev/full).
 struct output_error : std::runtime_error {
   using std::runtime_error::runtime_error;
@@ -82,7 +84,8 @@ void write_file_atomically(const std::string& path, std::string_view text);
 // pipe) they are held and written at commit. So memory holds one piece, and
 // until commit `path` keeps its earlier content. commit(first_line) puts the
 // line before the pieces (the temporary file is then copied after it into a
-// second one). Destroyed without commit, it removes its temporary file.
+// second one). Destroyed without commit, it removes its temporary file, and
+// so does a repeated Ctrl-C that ends the process (cli/signals.hpp).
 class StagedFile {
  public:
   explicit StagedFile(const std::string& path);
@@ -100,6 +103,7 @@ class StagedFile {
   std::string held_;    // the pieces when written in place
   std::string temporary_;
   std::unique_ptr<OutputFile> file_;  // the temporary file, once made
+  std::unique_ptr<RemovedIfKilled> removed_if_killed_;  // temporary_, if a repeated Ctrl-C ends the process
 };
 
 // A whole result file (a bundle, a kernel, a figure, a table, a network):
