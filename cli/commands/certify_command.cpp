@@ -52,15 +52,16 @@ struct CertifyArguments {
   std::uint64_t claim_value = 0;
 };
 
-// --rows-out (its rows written as the run formed them: rows, when given),
-// --kernel-out and --witness-out of the network's certify run (with --points
-// too: the run beside the points' rank, or none when stopped_in_batch). Returns true when a Ctrl-C cut the rows short (exit 130).
+// --kernel-out, --witness-out and --rows-out (its rows written as the run
+// formed them: rows, when given) of the network's certify run (with --points
+// too: the run beside the points' rank, or none when stopped_in_batch), after
+// the result is printed: a file that cannot be written (exit 1) does not take
+// the printed value with it. Returns true when a Ctrl-C cut the rows short (exit 130).
 bool write_result_files(const CertifyArguments& arguments, const FunctionalDimensionResult& result, RowsOut* rows,
                         bool stopped_in_batch = false) {
-  const bool rows_cut_short = rows && rows->finish(result, stopped_in_batch);
   if (!arguments.kernel_path.empty()) write_kernel(arguments.kernel_path, result);
   if (!arguments.witness_path.empty()) write_witnesses(arguments.witness_path, result, stopped_in_batch);
-  return rows_cut_short;
+  return rows && rows->finish(result, stopped_in_batch);  // last: it may throw a failure met during the run
 }
 
 Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", claim_word(verdict.verdict)}, {"reason", verdict.reason}}; }
@@ -382,8 +383,6 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
       walk_stopped_by == StopReason::none
           ? certify_with_progress(walk_arguments, network, domain, false, rows ? &*rows : nullptr)
           : certify_result_not_started(network, walk_stopped_by);
-  const bool rows_cut_short =
-      write_result_files(arguments, result, rows ? &*rows : nullptr, walk_stopped_by != StopReason::none);
   std::optional<ClaimVerdict> at_points, network_verdict;
   if (arguments.claim) {
     at_points = judge_claim_at_points(*arguments.claim, batch.batch.lower, batch.batch.upper);
@@ -402,6 +401,8 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
     print_batch(network, domain, arguments, batch, result, std::cout);
     if (arguments.claim) print_claim(*arguments.claim, at_points, *network_verdict, std::cout);
   }
+  const bool rows_cut_short =
+      write_result_files(arguments, result, rows ? &*rows : nullptr, walk_stopped_by != StopReason::none);
   if (result.stop_reason == StopReason::interrupted || rows_cut_short) return 130;
   return arguments.claim ? claim_status(at_points, *network_verdict) : 0;
 }
@@ -487,8 +488,6 @@ int run_certify(const CertifyArguments& arguments) {
   if (!arguments.rows_path.empty()) rows.emplace(arguments.rows_path);
   const FunctionalDimensionResult result =
       certify_with_progress(arguments, network, domain, !arguments.full_walk, rows ? &*rows : nullptr);
-  const bool rows_cut_short = write_result_files(arguments, result, rows ? &*rows : nullptr);
-
   Json document = result_to_json(network, domain, result);
   std::optional<ClaimVerdict> verdict;
   if (arguments.claim) {
@@ -501,6 +500,7 @@ int run_certify(const CertifyArguments& arguments) {
     print_result(network, domain, result, std::cout);
     if (arguments.claim) print_claim(*arguments.claim, std::nullopt, *verdict, std::cout);
   }
+  const bool rows_cut_short = write_result_files(arguments, result, rows ? &*rows : nullptr);
   bool is_bundle_done = true;
   if (!arguments.bundle_path.empty()) {
     check_standard_output();  // the result stands even if the bundle's walk is interrupted

@@ -75,12 +75,19 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
 }
 
 void RowsOut::add(const RationalMatrix& region_rows) {
+  if (!file_) return;
   std::ostringstream text;
   rows_text(region_rows, text);
-  file_.write(text.view());
+  try {
+    file_->write(text.view());
+  } catch (const output_error& error) {
+    failure_ = error.what();
+    file_.reset();  // its temporary file removed now: the disk may be full
+  }
 }
 
 bool RowsOut::finish(const FunctionalDimensionResult& result, bool stopped_in_batch) {
+  if (!file_) throw output_error(failure_ + "; no rows file written (the printed result stands)");
   std::string line;
   if (result.rows_interrupted)
     line = "partial: interrupted while the rows were formed; the exact rows of the first " +
@@ -88,7 +95,7 @@ bool RowsOut::finish(const FunctionalDimensionResult& result, bool stopped_in_ba
            " regions that contributed (the printed value or bounds stand)";
   else if (!result.certified)
     line = not_certified_line(result, stopped_in_batch);
-  commit_with_first_line(file_, line);
+  commit_with_first_line(*file_, line);
   return result.rows_interrupted;
 }
 

@@ -5,6 +5,7 @@
 #include "core/matrix.hpp"
 #include "enumerate/functional_dimension.hpp"
 
+#include <optional>
 #include <string>
 
 namespace pleat::cli {
@@ -33,15 +34,19 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
 // polled between regions, unless a Ctrl-C stopped the run: then its rows are
 // written whole, as documented) leaves the rows of the regions done before
 // it, under a line that says so, whether or not the value was certified;
-// then finish returns true (the command exits 130).
+// then finish returns true (the command exits 130). A write that fails while
+// the run goes on (a full disk) does not end the run: the temporary file is
+// removed at once, the run's value still printed, and finish throws that
+// output_error (exit 1); call it after the result is printed.
 class RowsOut {
  public:
-  explicit RowsOut(const std::string& path) : file_(path) {}
+  explicit RowsOut(const std::string& path) : file_(std::in_place, path) {}
   void add(const RationalMatrix& region_rows);
   bool finish(const FunctionalDimensionResult& result, bool stopped_in_batch = false);
 
  private:
-  StagedFile file_;
+  std::optional<StagedFile> file_;  // empty once a write failed
+  std::string failure_;             // that write's output_error
 };
 
 // --witness-out: the exact points whose regions' rows raised the rank (a

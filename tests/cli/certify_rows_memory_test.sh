@@ -39,10 +39,10 @@ if with_rows - without > size_kb // 2:
     sys.exit(f"--rows-out added {with_rows - without} KB at its peak for a file of {size_kb} KB: the rows are held")
 
 # The same rows written whole from memory (standard output, held until the
-# end, before the result).
+# end, after the result: certify writes its files once the result is printed).
 text = open(work + "/rows.txt", "rb").read()
-if not subprocess.run([pleat] + common + ["--rows-out", "-"], check=True, capture_output=True).stdout.startswith(text):
-    sys.exit("--rows-out - does not start with the file's rows")
+if not subprocess.run([pleat] + common + ["--rows-out", "-"], check=True, capture_output=True).stdout.endswith(text):
+    sys.exit("--rows-out - does not end with the file's rows")
 lines = text.decode().splitlines()
 if len(lines) % 3 or any(line.startswith("#") for line in lines):
     sys.exit("a certified run's rows: 3 a region, no comment line")
