@@ -11,6 +11,16 @@
 namespace pleat {
 namespace {
 
+// parse_rational's refusal of `text`, or "accepted".
+std::string message(const std::string& text) {
+  try {
+    parse_rational(text);
+  } catch (const input_error& error) {
+    return std::string(error.what());
+  }
+  return std::string("accepted");
+}
+
 Rational fraction(long numerator, long denominator) {
   Rational value(numerator, denominator);
   value.canonicalize();
@@ -77,14 +87,6 @@ TEST(ParseRational, ZeroDenominatorMessage) {
 // if its digits were at fault. The message names the sign, and suggests the
 // number without it when that reads.
 TEST(ParseRational, LeadingPlusNamedAsTheFault) {
-  const auto message = [](const std::string& text) {
-    try {
-      parse_rational(text);
-    } catch (const input_error& error) {
-      return std::string(error.what());
-    }
-    return std::string("accepted");
-  };
   EXPECT_EQ(message("+0"), "not a number \"+0\": a leading '+' is not part of a number; write \"0\"");
   EXPECT_EQ(message("+1/2"), "not a number \"+1/2\": a leading '+' is not part of a number; write \"1/2\"");
   EXPECT_EQ(message("+.5e+1"), "not a number \"+.5e+1\": a leading '+' is not part of a number; write \".5e+1\"");
@@ -96,14 +98,6 @@ TEST(ParseRational, LeadingPlusNamedAsTheFault) {
 // named one byte of a multibyte character, '\xe2' for '€'); a byte that
 // starts no valid UTF-8 sequence is named alone.
 TEST(ParseRational, UnexpectedCharacterNamedWhole) {
-  const auto message = [](const std::string& text) {
-    try {
-      parse_rational(text);
-    } catch (const input_error& error) {
-      return std::string(error.what());
-    }
-    return std::string("accepted");
-  };
   EXPECT_EQ(message("1\u20AC"), "not a number \"1\u20AC\": unexpected character '\u20AC' (U+20AC)");
   EXPECT_EQ(message("1\u00A0"), "not a number \"1\u00A0\": unexpected character '\u00A0' (U+00A0)");
   EXPECT_EQ(message("1e\u22122"), "not a number \"1e\u22122\": unexpected character '\u2212' (U+2212) in the exponent");
