@@ -26,23 +26,6 @@ inline RationalMatrix stack_rows(std::vector<RationalMatrix>&& blocks, std::size
   return out;
 }
 
-// Each of `kept`'s rows (their patterns' coefficient blocks) in order,
-// given to take as it is formed (take may move it away), until interrupt (polled between regions;
-// null: never) is set; `formed` says how many regions. Exact.
-template <class Kept>
-void for_each_contributing_block(const Network& network, const std::vector<Kept>& kept,
-                                 const std::atomic<bool>* interrupt, std::size_t& formed,
-                                 const std::function<void(std::size_t done, std::size_t total)>& report,
-                                 const std::function<void(RationalMatrix&)>& take) {
-  formed = 0;
-  for (std::size_t i = 0; i < kept.size() && !(interrupt && interrupt->load()); ++i) {
-    RationalMatrix block = coefficient_blocks(network, kept[i].pattern);
-    take(block);
-    formed = i + 1;
-    report(i + 1, kept.size());
-  }
-}
-
 // The rows of the first of `kept` (their patterns) in order, until interrupt
 // (polled between regions; null: never) is set; `formed` says how many
 // regions. Exact. With `take` set, each region's rows are given to it as they
@@ -53,12 +36,16 @@ RationalMatrix contributing_rows(const Network& network, const std::vector<Kept>
                                  const std::function<void(std::size_t done, std::size_t total)>& report,
                                  const std::function<void(const RationalMatrix&)>& take = {}) {
   std::vector<RationalMatrix> blocks;
-  for_each_contributing_block(network, kept, interrupt, formed, report, [&](RationalMatrix& block) {
+  formed = 0;
+  for (std::size_t i = 0; i < kept.size() && !(interrupt && interrupt->load()); ++i) {
+    RationalMatrix block = coefficient_blocks(network, kept[i].pattern);
     if (take)
       take(block);
     else
       blocks.push_back(std::move(block));
-  });
+    formed = i + 1;
+    report(i + 1, kept.size());
+  }
   return stack_rows(std::move(blocks), network.parametric_dimension());
 }
 
