@@ -64,6 +64,11 @@ bool write_result_files(const CertifyArguments& arguments, const FunctionalDimen
   return rows && rows->finish(result, stopped_in_batch);  // last: it may throw a failure met during the run
 }
 
+// --rows-out's file, taking each region's rows as the run forms them; null without it.
+std::unique_ptr<RowsOut> rows_out(const CertifyArguments& arguments) {
+  return arguments.rows_path.empty() ? nullptr : std::make_unique<RowsOut>(arguments.rows_path);
+}
+
 Json verdict_json(const ClaimVerdict& verdict) { return Json{{"verdict", claim_word(verdict.verdict)}, {"reason", verdict.reason}}; }
 
 // The mechanism's word, or null when none was recognised.
@@ -377,11 +382,10 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
   }
   // Every region must be walked to count them (no early stop at the scaling bound).
   if (walk_stopped_by != StopReason::none) finish_walks_across();  // an MPI job's other ranks wait for a walk
-  std::optional<RowsOut> rows;
-  if (!arguments.rows_path.empty()) rows.emplace(arguments.rows_path);
+  const std::unique_ptr<RowsOut> rows = rows_out(arguments);
   const FunctionalDimensionResult result =
       walk_stopped_by == StopReason::none
-          ? certify_with_progress(walk_arguments, network, domain, false, rows ? &*rows : nullptr)
+          ? certify_with_progress(walk_arguments, network, domain, false, rows.get())
           : certify_result_not_started(network, walk_stopped_by);
   std::optional<ClaimVerdict> at_points, network_verdict;
   if (arguments.claim) {
@@ -402,7 +406,7 @@ int run_points(const CertifyArguments& arguments, const Network& network) {
     if (arguments.claim) print_claim(*arguments.claim, at_points, *network_verdict, std::cout);
   }
   const bool rows_cut_short =
-      write_result_files(arguments, result, rows ? &*rows : nullptr, walk_stopped_by != StopReason::none);
+      write_result_files(arguments, result, rows.get(), walk_stopped_by != StopReason::none);
   if (result.stop_reason == StopReason::interrupted || rows_cut_short) return 130;
   return arguments.claim ? claim_status(at_points, *network_verdict) : 0;
 }
@@ -484,10 +488,9 @@ int run_certify(const CertifyArguments& arguments) {
     return run_points(arguments, network);
   }
   const Domain domain = make_domain(arguments.domain, network.input_dim);
-  std::optional<RowsOut> rows;
-  if (!arguments.rows_path.empty()) rows.emplace(arguments.rows_path);
+  const std::unique_ptr<RowsOut> rows = rows_out(arguments);
   const FunctionalDimensionResult result =
-      certify_with_progress(arguments, network, domain, !arguments.full_walk, rows ? &*rows : nullptr);
+      certify_with_progress(arguments, network, domain, !arguments.full_walk, rows.get());
   Json document = result_to_json(network, domain, result);
   std::optional<ClaimVerdict> verdict;
   if (arguments.claim) {
@@ -500,7 +503,7 @@ int run_certify(const CertifyArguments& arguments) {
     print_result(network, domain, result, std::cout);
     if (arguments.claim) print_claim(*arguments.claim, std::nullopt, *verdict, std::cout);
   }
-  const bool rows_cut_short = write_result_files(arguments, result, rows ? &*rows : nullptr);
+  const bool rows_cut_short = write_result_files(arguments, result, rows.get());
   bool is_bundle_done = true;
   if (!arguments.bundle_path.empty()) {
     check_standard_output();  // the result stands even if the bundle's walk is interrupted
