@@ -93,6 +93,25 @@ def region_rows(layers, n0, point):
     return rows
 
 
+def walk_points(pleat, net, points_file, where=()):
+    """One exact interior point per region (pleat walk --points-out), as Fractions."""
+    subprocess.run([pleat, "walk", net, "-q", "--points-out", points_file] + list(where), check=True,
+                   stdout=subprocess.DEVNULL)
+    with open(points_file) as handle:
+        return [[Fraction(x) for x in line.strip().split(",")] for line in handle
+                if line.strip() and not line.startswith("#")]
+
+
+def rows_at(layers, n0, points):
+    """region_rows of every point, those on a bent hyperplane left out."""
+    rows = []
+    for point in points:
+        point_rows = region_rows(layers, n0, point)
+        if point_rows is not None:
+            rows.extend(point_rows)
+    return rows
+
+
 def rank_fractions(rows):
     """Exact rank by Gaussian elimination over Fractions."""
     basis = {}  # pivot column -> row with 1 there
@@ -171,18 +190,10 @@ def main():
                 values.append((document["certified"], document["functional_dimension"], document["certified_by"]))
                 scaling = document["scaling_bound"]
             points_file = os.path.join(work, "points.csv")
-            subprocess.run([pleat, "walk", net, "-q", "--points-out", points_file] + where, check=True,
-                           stdout=subprocess.DEVNULL)
-            with open(points_file) as handle:
-                points = [[Fraction(x) for x in line.strip().split(",")] for line in handle
-                          if line.strip() and not line.startswith("#")]
+            points = walk_points(pleat, net, points_file, where)
             for _ in range(60):
                 points.append([Fraction(generator.randrange(-999, 1000), 1000) for _ in range(n0)])
-            rows = []
-            for point in points:
-                point_rows = region_rows(layers, n0, point)
-                if point_rows is not None:
-                    rows.extend(point_rows)
+            rows = rows_at(layers, n0, points)
             rank = rank_fractions(rows)
             sympy_rank = DomainMatrix([[QQ(x.numerator, x.denominator) for x in row] for row in rows],
                                       (len(rows), len(rows[0])), QQ).rank()

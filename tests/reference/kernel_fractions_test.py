@@ -32,7 +32,7 @@ import tempfile
 from fractions import Fraction
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
-import fd_fractions_test as fd  # noqa: E402  (region_rows, rank_fractions: exact, no pleat code)
+import fd_fractions_test as fd  # noqa: E402  (walk_points, rows_at, rank_fractions: exact, no pleat code)
 import walk_reference as ref  # noqa: E402  (read_network)
 
 
@@ -65,17 +65,9 @@ def main():
                 continue
             with open(kernel_file) as handle:
                 kernel = [[Fraction(x) for x in line.split(",")] for line in handle if line.strip()]
-            subprocess.run([pleat, "walk", net, "-q", "--points-out", points_file], check=True,
-                           stdout=subprocess.DEVNULL)
-            with open(points_file) as handle:
-                points = [[Fraction(x) for x in line.strip().split(",")] for line in handle
-                          if line.strip() and not line.startswith("#")]
+            points = fd.walk_points(pleat, net, points_file)
             network = ref.read_network(net)
-            rows = []
-            for point in points:
-                point_rows = fd.region_rows(network.layers, network.input_dim, point)
-                if point_rows is not None:
-                    rows.extend(point_rows)
+            rows = fd.rows_at(network.layers, network.input_dim, points)
             bad = first_nonzero_product(kernel, rows)
             dimension = out["parametric_dimension"]
             print("%s: value %d, D %d, %d kernel rows checked on %d rows of %d regions: %s"
