@@ -23,29 +23,20 @@ source "$(dirname "$0")/lib.sh"
 "$pleat" random --arch 2,60,60,60,1 --seed 1 -o "$work/long_walk.json" || fail "random"
 
 "$python" - "$pleat" "$work" <<'PY' || fail "the interrupted runs (above)"
-import os, pty, signal, subprocess, sys, json
+import os, signal, subprocess, sys, json
+from terminal import run_on_terminal
 pleat, work = sys.argv[1], sys.argv[2]
 
 def interrupted_at(trigger, net="net.json"):
     """certify with --rows-out, SIGINT when the progress line first shows trigger."""
-    leader, follower = pty.openpty()
-    run = subprocess.Popen([pleat, "certify", work + "/" + net, "--json", "--rows-out", work + "/rows.txt"],
-                           stdout=open(work + "/out.json", "w"), stderr=follower)
-    os.close(follower)
-    seen, sent = b"", False
-    while True:
-        try:
-            chunk = os.read(leader, 65536)
-        except OSError:
-            break
-        if not chunk:
-            break
-        seen += chunk
+    sent = []
+    def interrupt_at_trigger(run, seen):
         if not sent and trigger in seen:
             run.send_signal(signal.SIGINT)
-            sent = True
-    status = run.wait()
-    text = seen.decode("utf-8", "replace")
+            sent.append(True)
+    status, text = run_on_terminal(
+        [pleat, "certify", work + "/" + net, "--json", "--rows-out", work + "/rows.txt"],
+        stdout=open(work + "/out.json", "w"), on_output=interrupt_at_trigger)
     if not sent:
         sys.exit(f"the progress line never showed {trigger!r}:\n" + text[-2000:])
     if status != 130:

@@ -10,6 +10,8 @@ work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
 fail() { echo "FAIL: $*" >&2; exit 1; }
 python=/usr/bin/python3
+# The scripts' Python parts import this folder's helpers (terminal.py).
+export PYTHONPATH="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)${PYTHONPATH:+:$PYTHONPATH}"
 now() { date +%s.%N; }
 
 # expect_contains TEXT NEEDLE WHAT: fails unless TEXT contains NEEDLE.

@@ -14,21 +14,11 @@ source "$(dirname "$0")/lib.sh"
 # and prints what it wrote there.
 on_terminal() {
   "$python" - "$pleat" "$@" <<'PY'
-import os, pty, subprocess, sys
-leader, follower = pty.openpty()
-run = subprocess.run(sys.argv[1:], stdout=subprocess.DEVNULL, stderr=follower)
-os.close(follower)
-seen = b""
-while True:
-    try:
-        chunk = os.read(leader, 65536)
-    except OSError:
-        break
-    if not chunk:
-        break
-    seen += chunk
-sys.stdout.write(seen.decode("utf-8", "replace"))
-sys.exit(run.returncode)
+import sys
+from terminal import run_on_terminal
+status, seen = run_on_terminal(sys.argv[1:])
+sys.stdout.write(seen)
+sys.exit(status)
 PY
 }
 
