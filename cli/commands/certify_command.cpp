@@ -483,6 +483,11 @@ int run_certify(const CertifyArguments& arguments) {
     const auto work = certify_follower_work(network, &interrupt.flag(), follower_options_for_tests());
     return follow_walks(network, make_domain(arguments.domain, network.input_dim), interrupt.flag(), work.get());
   }
+  // Each file tried now (rank 0 writes them), not after the run: a missing
+  // directory cost a whole run, and for --rows-out its printed result too.
+  for (const std::string* output : {&arguments.rows_path, &arguments.kernel_path, &arguments.witness_path,
+                                    &arguments.bundle_path})
+    refuse_unwritable_output(*output);
   if (!arguments.points_path.empty()) {
     if (!arguments.bundle_path.empty()) throw usage_error("--bundle certifies the network's value; leave out --points");
     return run_points(arguments, network);

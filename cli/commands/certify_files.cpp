@@ -3,6 +3,7 @@
 
 #include "cli/common.hpp"
 #include "cli/formats/points_file.hpp"
+#include "core/errors.hpp"
 
 #include <filesystem>
 #include <iostream>
@@ -78,11 +79,18 @@ void RowsOut::add(const RationalMatrix& region_rows) {
   if (!file_) return;
   std::ostringstream text;
   rows_text(region_rows, text);
+  const auto drop = [this](const std::exception& error) {
+    failure_ = error.what();
+    file_.reset();  // its temporary file removed now: the disk may be full
+  };
   try {
     file_->write(text.view());
   } catch (const output_error& error) {
-    failure_ = error.what();
-    file_.reset();  // its temporary file removed now: the disk may be full
+    drop(error);
+  } catch (const input_error& error) {
+    // Its temporary file could not be made at the first write: certify
+    // tried the path before the run, but its directory may have gone since.
+    drop(error);
   }
 }
 

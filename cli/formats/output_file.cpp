@@ -226,6 +226,17 @@ void put_in_place(const std::string& temporary, const std::string& path) {
 
 }  // namespace
 
+void refuse_unwritable_output(const std::string& path) {
+  if (path.empty() || path == "-") return;
+  std::error_code error;
+  if (std::filesystem::is_directory(path, error))
+    throw input_error(path + ": cannot open for writing (" + std::strerror(EISDIR) + ")");
+  if (!is_replaceable(path)) return;  // a device or a pipe: written in place
+  const std::string temporary = temporary_beside(link_target(path));
+  const RemovedIfKilled removed_if_killed(temporary);
+  std::remove(temporary.c_str());
+}
+
 void write_file_atomically(const std::string& path, std::string_view text) {
   const std::string temporary = temporary_beside(path);
   const RemovedIfKilled removed_if_killed(temporary);

@@ -66,6 +66,15 @@ void refuse_overwriting_input(const std::string& path);
 // `outputs` are (option, path), empty paths left out.
 void refuse_shared_outputs(const std::vector<std::pair<std::string, std::string>>& outputs);
 
+// An output a long run writes at its end, tried before the run: a path
+// whose directory is missing or not writable, a directory, or a file this
+// process may not replace throws input_error "PATH: cannot open for
+// writing (REASON)" now, as writing it would after the run (by then the
+// run's work was done, and certify --rows-out's result was not even
+// printed). Nothing is left behind (a hidden file is made and removed
+// beside the path); standard output "-", a device or a pipe are not tried.
+void refuse_unwritable_output(const std::string& path);
+
 // Throws output_error when standard output cannot be written (after
 // flushing it): "cannot write to standard output (No space left on device)".
 void check_standard_output();
