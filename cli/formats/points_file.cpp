@@ -10,6 +10,7 @@
 #include <xtensor/xnpy.hpp>
 
 #include <algorithm>
+#include <cctype>
 #include <cmath>
 #include <cstdint>
 #include <filesystem>
@@ -55,24 +56,26 @@ std::vector<std::string> split_fields(const std::string& line) {
   return fields;
 }
 
+// How numpy.savetxt, pandas and Python write a value that is no finite
+// number: 'nan', 'inf', '-inf', 'NaN', 'Infinity', ... (any case, signed).
+bool is_non_finite_word(const std::string& field) {
+  std::string word = field.substr(!field.empty() && (field[0] == '+' || field[0] == '-') ? 1 : 0);
+  std::transform(word.begin(), word.end(), word.begin(), [](unsigned char c) { return std::tolower(c); });
+  return word == "nan" || word == "inf" || word == "infinity";
+}
+
 // A field that starts as a number does (a digit, or a sign or point and a
-// digit): a fault in it makes a bad value, never a column name.
+// digit), or a non-finite value: a fault in it makes a bad value, never a
+// column name. Every number parse_rational reads is one ([-]? then a digit
+// or '.' and a digit). A first line 'nan,nan' or 'inf' (numpy.savetxt's
+// spellings) was taken for a header and skipped, its point lost unsaid.
 bool looks_numeric(const std::string& field) {
   const auto digit = [](char c) { return c >= '0' && c <= '9'; };
   if (field.empty()) return false;
-  if (digit(field[0])) return true;
+  if (digit(field[0]) || is_non_finite_word(field)) return true;
   std::size_t i = (field[0] == '+' || field[0] == '-') ? 1 : 0;
   if (i < field.size() && field[i] == '.') ++i;
   return i > 0 && i < field.size() && digit(field[i]);
-}
-
-bool is_number(const std::string& field) {
-  try {
-    (void)parse_rational(field);
-    return true;
-  } catch (const input_error&) {
-    return false;
-  }
 }
 
 // after_index: a first field (pandas' row index) was dropped before them.
@@ -98,7 +101,8 @@ RationalVector parse_fields(const std::vector<std::string>& fields, std::size_t 
     try {
       point.push_back(parse_rational(fields[i]));
     } catch (const input_error& fault) {
-      throw input_error(place + ": value " + std::to_string(i + 1) + " ('" + fields[i] + "'): " + fault.what());
+      throw input_error(place + ": value " + std::to_string(i + 1) + " ('" + fields[i] + "'): " +
+                        (is_non_finite_word(fields[i]) ? std::string("not a finite number") : fault.what()));
     }
   }
   return point;
@@ -148,8 +152,7 @@ PointsFile read_text_points(const std::string& path, std::size_t dimension) {
       const bool is_pandas_index = fields.front().empty() && fields.size() == dimension + 1;
       // A field that starts as a number does ('0.5x') is a faulty value too,
       // not a column name: with one input it was skipped as a header.
-      const bool has_number = std::any_of(fields.begin(), fields.end(), is_number) ||
-                              std::any_of(fields.begin(), fields.end(), looks_numeric);
+      const bool has_number = std::any_of(fields.begin(), fields.end(), looks_numeric);
       if (is_pandas_index || !has_number) {
         // pandas writes its row index as a first column with an empty name.
         drops_index_column = is_pandas_index;

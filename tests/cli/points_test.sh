@@ -102,6 +102,17 @@ printf '%s\n' '1/3,1/7' ',1,2' > "$work/lead.csv";          bad lead.csv "lead.c
 printf '%s\n' '1/3,1/7' '3, ' > "$work/short.csv";          bad short.csv "short.csv:2: value 2 of 2 is empty (the line ends with a comma)"
 printf '%s\n' ',x,y' '0,1,' > "$work/index_gap.csv";        bad index_gap.csv "index_gap.csv:2: value 2 of 2 is empty (the line ends with a comma)"
 printf '%s\n' ',x,y' '0,,1' > "$work/index_lead.csv";       bad index_lead.csv "index_lead.csv:2: value 1 of 2 is empty (nothing between two commas)"
+# numpy.savetxt's spellings of values that are no finite number, on a first
+# line (where no field was a number, so it was skipped as a header and its
+# point lost unsaid) or later; ramp1d has one input.
+printf '%s\n' 'nan,nan' '1/3,1/7' > "$work/nan_first.csv";   bad nan_first.csv "nan_first.csv:1: value 1 ('nan'): not a finite number"
+printf '%s\n' 'inf -inf' '1 2' > "$work/inf_first.txt";       bad inf_first.txt "inf_first.txt:1: value 1 ('inf'): not a finite number"
+printf '%s\n' '1,2' '3,-Infinity' > "$work/inf_later.csv";   bad inf_later.csv "inf_later.csv:2: value 2 ('-Infinity'): not a finite number"
+printf '%s\n' 'NaN' '0.5' > "$work/nan_one.txt"
+status=0
+"$pleat" certify "$ramp" --points "$work/nan_one.txt" -q > /dev/null 2> "$work/err.txt" || status=$?
+[ "$status" = 2 ] || fail "a first line 'NaN' on a 1-input network: exit $status, expected 2 (skipped as a header?)"
+expect_contains "$(cat "$work/err.txt")" "nan_one.txt:1: value 1 ('NaN'): not a finite number" "nan_one.txt"
 printf '%s\n' '+0,1/7' > "$work/plus.csv";                  bad plus.csv "plus.csv:1: value 1 ('+0'): not a number \"+0\": a leading '+' is not part of a number; write \"0\""
 printf '%s\n' '1/3,1/7' '1 +1/2' > "$work/plus2.txt";       bad plus2.txt "plus2.txt:2: value 2 ('+1/2'): not a number \"+1/2\": a leading '+' is not part of a number; write \"1/2\""
 printf '%s\n' 'x,y' '1/3,1/7' > "$work/names.csv"
