@@ -579,7 +579,8 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     const auto rows_progress = [&](std::size_t done, std::size_t total) { report("rows", done, total); };
     result.rows = detail::contributing_rows(network, kept, interrupt, result.rows_regions, rows_progress,
                                             options.on_region_rows);  // when set, handed on and none kept
-    result.rows_interrupted = result.rows_regions < kept.size();
+    // Cut short by the interrupt, not by on_region_rows wanting no more.
+    result.rows_interrupted = result.rows_regions < kept.size() && interrupt && interrupt->load();
   }
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   return result;

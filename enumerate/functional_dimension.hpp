@@ -109,9 +109,12 @@ struct FunctionalDimensionOptions {
   // With keep_rows: when set, each contributing region's exact rows are
   // given to it as they are formed, in order, and FunctionalDimensionResult::rows
   // stays empty (one region's rows held at a time, not all of them: certify
-  // --rows-out writes each region's text at once). An exception it throws
-  // ends the call.
-  std::function<void(const RationalMatrix& region_rows)> on_region_rows;
+  // --rows-out writes each region's text at once). It returns whether it
+  // wants more: false (the file it writes failed, say) ends the rows there,
+  // no more formed (rows_regions counts those given; rows_interrupted stays
+  // false; the value and its proof are settled before). An exception it
+  // throws ends the call.
+  std::function<bool(const RationalMatrix& region_rows)> on_region_rows;
   // The walk to run when one is needed: walk_regions when empty, or one that
   // delivers the same regions in the same order (the walk across processes,
   // enumerate/distributed_walk.hpp). Called at most once.

@@ -269,7 +269,7 @@ FunctionalDimensionResult certify_with_progress(const CertifyArguments& argument
     options.across = across.get();
   }
   options.keep_rows = rows != nullptr;
-  if (rows) options.on_region_rows = [rows](const RationalMatrix& region_rows) { rows->add(region_rows); };
+  if (rows) options.on_region_rows = [rows](const RationalMatrix& region_rows) { return rows->add(region_rows); };
   options.keep_kernel = !arguments.kernel_path.empty() || !arguments.bundle_path.empty();  // both print it
   FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
   finish_walks_across();

@@ -75,8 +75,8 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
   write_matrix(path, result.kernel);
 }
 
-void RowsOut::add(const RationalMatrix& region_rows) {
-  if (!file_) return;
+bool RowsOut::add(const RationalMatrix& region_rows) {
+  if (!file_) return false;
   std::ostringstream text;
   rows_text(region_rows, text);
   const auto drop = [this](const std::exception& error) {
@@ -92,6 +92,7 @@ void RowsOut::add(const RationalMatrix& region_rows) {
     // tried the path before the run, but its directory may have gone since.
     drop(error);
   }
+  return file_.has_value();
 }
 
 bool RowsOut::finish(const FunctionalDimensionResult& result, bool stopped_in_batch) {

@@ -36,12 +36,15 @@ void write_kernel(const std::string& path, const FunctionalDimensionResult& resu
 // it, under a line that says so, whether or not the value was certified;
 // then finish returns true (the command exits 130). A write that fails while
 // the run goes on (a full disk) does not end the run: the temporary file is
-// removed at once, the run's value still printed, and finish throws that
-// output_error (exit 1); call it after the result is printed.
+// removed at once, add returns false from then on (no more rows are formed),
+// the run's value is still printed, and finish throws that output_error
+// (exit 1); call it after the result is printed.
 class RowsOut {
  public:
   explicit RowsOut(const std::string& path) : file_(std::in_place, path) {}
-  void add(const RationalMatrix& region_rows);
+  // Returns false once the file is dropped (a write failed): certify then
+  // forms no more rows (FunctionalDimensionOptions::on_region_rows).
+  bool add(const RationalMatrix& region_rows);
   bool finish(const FunctionalDimensionResult& result, bool stopped_in_batch = false);
 
  private:

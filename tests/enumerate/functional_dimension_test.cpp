@@ -359,6 +359,40 @@ TEST(FunctionalDimension, AnInterruptWhileTheRowsAreFormedKeepsTheValueAndTheFir
     for (std::size_t c = 0; c < cut.rows.cols(); ++c) EXPECT_EQ(cut.rows(r, c), whole.rows(r, c));
 }
 
+// on_region_rows returning false (certify --rows-out's file failed, a full
+// disk say) ends the rows there: no region's rows are formed after it, the
+// value and its proof are the same, and the rows are not called interrupted.
+// They went on being formed for a file already dropped (time only).
+TEST(FunctionalDimension, RowsWantedNoMoreAreNoLongerFormed) {
+  const Network network = random_networks().front();
+  const Domain domain = make_whole_space(network.input_dim);
+  FunctionalDimensionOptions options;
+  options.walk.threads = 1;
+  options.stop_at_scaling_bound = false;
+  options.keep_rows = true;
+  std::size_t given = 0;
+  options.on_region_rows = [&](const RationalMatrix&) { return ++given < 2; };
+  std::size_t last_reported = 0;
+  options.on_phase = [&](const CertifyProgress& state) {
+    if (std::string(state.phase) == "rows") last_reported = state.done;
+  };
+  const FunctionalDimensionResult result = certify_functional_dimension(network, domain, options);
+  ASSERT_GE(result.regions_contributing, 3u);
+  EXPECT_EQ(given, 2u);
+  EXPECT_EQ(last_reported, 2u);
+  EXPECT_EQ(result.rows_regions, 2u);
+  EXPECT_FALSE(result.rows_interrupted);
+  EXPECT_EQ(result.rows.rows(), 0u);
+  options.on_region_rows = {};
+  options.on_phase = {};
+  const FunctionalDimensionResult whole = certify_functional_dimension(network, domain, options);
+  EXPECT_TRUE(result.certified);
+  EXPECT_EQ(result.functional_dimension, whole.functional_dimension);
+  EXPECT_EQ(result.lower_bound, whole.lower_bound);
+  EXPECT_EQ(result.upper_bound, whole.upper_bound);
+  EXPECT_EQ(result.regions_contributing, whole.regions_contributing);
+}
+
 TEST(FunctionalDimension, EveryScalingDirectionAnnihilatesEveryRegionsRows) {
   for (const Network& network : random_networks()) {
     const RationalMatrix scaling = scaling_directions(network);
