@@ -408,9 +408,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     } else if (const auto* rows = std::any_cast<std::shared_ptr<const ModularMatrix>>(&region.prepared)) {
       // Made on this thread, which frees it too (RowBacklog::push); reduced by
       // walk_options.background, in this order.
-      backlog.push(std::make_shared<const detail::PendingRows>(
-                       detail::PendingRows{region.pattern, region.interior.point, *rows}),
-                   delivered);
+      backlog.push(region.pattern, region.interior.point, *rows, delivered);
     } else {
       add_region_rows(region.pattern, &region.interior.point);
       // (Only here is the rank read: the backlog's reduction may be writing it.)

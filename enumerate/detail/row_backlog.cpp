@@ -1,65 +1,68 @@
 #include "enumerate/detail/row_backlog.hpp"
 
+#include <cstdint>
 #include <utility>
 
 namespace pleat::detail {
 
-namespace {
+RowBacklog::RowBacklog(Reduce reduce, std::size_t limit_bytes)
+    : reduce_(std::move(reduce)), limit_bytes_(limit_bytes), owner_(std::this_thread::get_id()) {}
 
-// The rows' bytes (none yet: nothing counted; such an entry holds a pattern
-// and a point, as certify's list of smooth regions does for every region).
-std::size_t bytes_of(const PendingRows& pending) {
-  return pending.rows ? pending.rows->rows() * pending.rows->cols() * sizeof(std::uint64_t) : 0;
+// The pusher's: frees the rows of the slots reduced since it last looked.
+// The acquire pairs with reduce_one's release of taken_: the reducer's reads
+// of those slots happen before these writes.
+void RowBacklog::free_reduced() {
+  taken_seen_ = taken_.load(std::memory_order_acquire);
+  for (; freed_ < taken_seen_; ++freed_) {
+    Slot& done = slot(freed_);
+    done.pending.rows.reset();
+    held_bytes_ -= done.bytes;
+    done.bytes = 0;
+  }
 }
 
-}  // namespace
-
-RowBacklog::RowBacklog(Reduce reduce, std::size_t limit_bytes)
-    : reduce_(std::move(reduce)), limit_bytes_(limit_bytes) {}
-
-void RowBacklog::push(std::shared_ptr<const PendingRows> pending, const RegionsSoFar& at) {
+void RowBacklog::push(const ActivationPattern& pattern, const RationalVector& interior,
+                      std::shared_ptr<const ModularMatrix> rows, const RegionsSoFar& at) {
   if (is_closed()) return;
-  bool is_over = false;
-  std::vector<std::shared_ptr<const PendingRows>> spent;
-  {
-    const std::lock_guard lock(queue_mutex_);
-    spent.swap(spent_);
-    pusher_ = std::this_thread::get_id();
-    queued_bytes_ += bytes_of(*pending);
-    queue_.push_back(Entry{std::move(pending), at});
-    queued_.store(queue_.size(), std::memory_order_relaxed);
-    is_over = queued_bytes_ > limit_bytes_;
+  const std::size_t index = written_.load(std::memory_order_relaxed);  // written by pushes alone
+  // Room: the slot's last entry reduced (the ring full: reduced here) and its rows freed.
+  while (index - taken_seen_ >= capacity) {
+    free_reduced();
+    if (index - taken_seen_ >= capacity && !reduce_one() && is_closed()) return;
   }
-  while (is_over && reduce_one()) {
-    const std::lock_guard lock(queue_mutex_);
-    is_over = queued_bytes_ > limit_bytes_;
-  }
+  if (held_bytes_ > 0 || freed_ + capacity <= index) free_reduced();
+  std::unique_ptr<Slot[]>& chunk = chunks_[(index % capacity) / chunk_slots];
+  if (!chunk) chunk = std::make_unique<Slot[]>(chunk_slots);
+  Slot& next = slot(index);
+  next.bytes = rows ? rows->rows() * rows->cols() * sizeof(std::uint64_t) : 0;
+  next.pending.pattern = pattern;  // into the slot's own memory
+  next.pending.interior = interior;
+  next.pending.rows = std::move(rows);
+  next.at = at;
+  held_bytes_ += next.bytes;
+  // Release: the slot (and its chunk) is written before the reducer, which
+  // reads written_ with acquire, reads it.
+  written_.store(index + 1, std::memory_order_release);
+  while (held_bytes_ > limit_bytes_ && reduce_one()) free_reduced();
 }
 
 bool RowBacklog::reduce_one() {
   const std::lock_guard reducing(reducing_);
-  Entry oldest;
-  {
-    const std::lock_guard lock(queue_mutex_);
-    if (is_closed()) queue_.clear();
-    if (queue_.empty()) {
-      queued_.store(0, std::memory_order_relaxed);
-      return false;
-    }
-    oldest = std::move(queue_.front());
-    queue_.pop_front();
-    queued_.store(queue_.size(), std::memory_order_relaxed);
+  const std::size_t taken = taken_.load(std::memory_order_relaxed);  // written under reducing_ alone
+  const std::size_t written = written_.load(std::memory_order_acquire);  // slots below it: published
+  if (is_closed()) {  // dropped unreduced
+    if (taken != written) taken_.store(written, std::memory_order_release);
+    return false;
   }
-  if (!reduce_(*oldest.pending, oldest.at)) is_closed_.store(true, std::memory_order_release);
+  if (taken == written) return false;
+  Slot& oldest = slot(taken);
+  const bool is_open = reduce_(oldest.pending, oldest.at);
   last_reduced_ = oldest.at;
-  const std::lock_guard lock(queue_mutex_);
-  queued_bytes_ -= bytes_of(*oldest.pending);  // counted until reduced: the rows are held till then
-  if (std::this_thread::get_id() != pusher_) spent_.push_back(std::move(oldest.pending));
-  if (is_closed()) {
-    queue_.clear();
-    queued_bytes_ = 0;
-    queued_.store(0, std::memory_order_relaxed);
-  }
+  if (std::this_thread::get_id() == owner_) oldest.pending.rows.reset();  // the pushing thread: freed now
+  if (!is_open) is_closed_.store(true, std::memory_order_release);
+  // Release: this thread's reads of the slot happen before the pusher reuses
+  // it or frees its rows. Closed: what is queued is dropped.
+  taken_.store(is_open ? taken + 1 : written_.load(std::memory_order_acquire), std::memory_order_release);
   return true;
 }
 
@@ -67,13 +70,17 @@ bool RowBacklog::reduce_all(const StopRequest& stop) {
   while (!stop.is_requested())
     if (!reduce_one()) return true;
   const std::lock_guard reducing(reducing_);
-  const std::lock_guard lock(queue_mutex_);
-  const bool is_drained = queue_.empty() || is_closed();
+  const std::size_t written = written_.load(std::memory_order_acquire);
+  const bool is_drained = taken_.load(std::memory_order_relaxed) == written || is_closed();
   is_closed_.store(true, std::memory_order_release);
-  queue_.clear();
-  queued_bytes_ = 0;
-  queued_.store(0, std::memory_order_relaxed);
+  taken_.store(written, std::memory_order_release);
   return is_drained;
+}
+
+std::size_t RowBacklog::queued() const {
+  const std::size_t taken = taken_.load(std::memory_order_relaxed);
+  const std::size_t written = written_.load(std::memory_order_relaxed);
+  return written > taken ? written - taken : 0;
 }
 
 RegionsSoFar RowBacklog::last_reduced() const {

@@ -11,9 +11,9 @@
 #include "core/stop.hpp"
 #include "enumerate/walker.hpp"
 
+#include <array>
 #include <atomic>
 #include <cstddef>
-#include <deque>
 #include <functional>
 #include <memory>
 #include <mutex>
@@ -44,22 +44,41 @@ struct RegionsSoFar {
 // reduced each region's rows itself, for any thread count. reduce returning
 // false closes the backlog (certify's rank met the scaling bound): the
 // entries queued after it are dropped unreduced, and so is whatever is
-// pushed later, as if the walk had stopped at that entry's region. An entry
-// reduced on another thread than the one that pushed it is freed by the next
-// push (or with the backlog), on the pushing thread, where certify makes
-// them: freed by the reducing thread, their memory crossed processors back
-// through the allocator.
+// pushed later, as if the walk had stopped at that entry's region.
+//
+// A ring of reused entries (slots) with no lock between the pushing thread
+// and the reducing one: the pusher copies a region's pattern and point into
+// the next slot (into the memory the slot held from its last use: no
+// allocation once the ring went round) and publishes it by a count the reducer
+// reads (written_); the reducer publishes what it finished by a count the
+// pusher reads only when it must (taken_: the ring full or rows held). Per
+// region, so, the slot's lines and the counts' go to the reducer once and
+// nothing else crosses: with a lock, a deque and a shared record per entry,
+// each region's hand-off moved the lock's line, the queue's and the record's
+// (and its reference count's) both ways, and the walk's delivery on a
+// 2-thread certify of 2,15,15,15,1 took nearly twice its one-thread time in
+// hours when a line took 330 ns to cross. An entry's rows are freed on the
+// pushing thread (by the next push once reduced elsewhere, or by the reducer
+// when it is that thread), where certify makes them: freed by the reducing
+// thread, their memory crossed processors back through the allocator.
 class RowBacklog {
  public:
   using Reduce = std::function<bool(const PendingRows&, const RegionsSoFar&)>;
-  // limit_bytes: above this many bytes of queued rows, push reduces entries
-  // itself until the queue is back under it (bounds the memory when the
-  // basis falls behind the walk).
+  // limit_bytes: above this many bytes of queued rows, or with the ring full,
+  // push reduces entries itself until it is back under it (bounds the memory
+  // when the basis falls behind the walk).
   RowBacklog(Reduce reduce, std::size_t limit_bytes);
+  RowBacklog(const RowBacklog&) = delete;
+  RowBacklog& operator=(const RowBacklog&) = delete;
 
-  // Queues one region's rows (one thread at a time: the walk's delivery);
-  // at: the walk's regions up to and including this one.
-  void push(std::shared_ptr<const PendingRows> pending, const RegionsSoFar& at);
+  // Queues a copy of one region's pattern and point, and its rows (one push
+  // at a time, each ordered after the one before: the walk's delivery); at:
+  // the walk's regions up to and including this one.
+  void push(const ActivationPattern& pattern, const RationalVector& interior,
+            std::shared_ptr<const ModularMatrix> rows, const RegionsSoFar& at);
+  void push(const PendingRows& pending, const RegionsSoFar& at) {
+    push(pending.pattern, pending.interior, pending.rows, at);
+  }
   // Reduces the oldest entry; false when the queue was empty or is closed. Any thread.
   bool reduce_one();
   // Reduces every entry queued; true when it did. Polls `stop` before each
@@ -72,24 +91,40 @@ class RowBacklog {
   RegionsSoFar last_reduced() const;
   // True once reduce returned false. Any thread.
   bool is_closed() const { return is_closed_.load(std::memory_order_acquire); }
-  // Entries queued and not yet taken for reduction (a moment's count). Any thread.
-  std::size_t queued() const { return queued_.load(std::memory_order_relaxed); }
+  // Entries queued and not yet reduced (a moment's count). Any thread.
+  std::size_t queued() const;
+
+  static constexpr std::size_t chunk_slots = 64;
+  // Entries the ring holds: 2,30,30,30,1's walk, reduction-bound, queues
+  // about 1300 (at 64 MB of rows) before push reduces them itself.
+  static constexpr std::size_t capacity = 64 * chunk_slots;
 
  private:
-  struct Entry {
-    std::shared_ptr<const PendingRows> pending;
+  struct alignas(64) Slot {  // lines of its own: the pusher writes the next slot while the reducer reads this one
+    PendingRows pending;
     RegionsSoFar at;
+    std::size_t bytes = 0;  // the rows' bytes, counted until the pusher frees them
   };
+  Slot& slot(std::size_t index) const { return chunks_[(index % capacity) / chunk_slots][index % chunk_slots]; }
+  void free_reduced();
+
+  // Set at construction, or (chunks_) by the pusher before it publishes the
+  // first slot in the chunk, which the reducer reads only after it.
   Reduce reduce_;
   std::size_t limit_bytes_;
+  std::thread::id owner_;  // the thread that made the backlog
+  std::array<std::unique_ptr<Slot[]>, capacity / chunk_slots> chunks_;
   std::atomic<bool> is_closed_{false};
-  std::atomic<std::size_t> queued_{0};  // queue_.size(), readable without the lock
+  // Entries pushed: written by the pusher (release, after the slot), read by the reducer.
+  alignas(64) std::atomic<std::size_t> written_{0};
+  // The pusher's alone (pushes are ordered one after another).
+  alignas(64) std::size_t freed_ = 0;   // slots below it hold no rows to free
+  std::size_t taken_seen_ = 0;          // taken_ as the pusher last read it
+  std::size_t held_bytes_ = 0;          // rows' bytes in slots [freed_, written_)
+  // Entries reduced (or dropped): written under reducing_ (release, once the
+  // slot is no longer read), read by the pusher (acquire) before it reuses or frees a slot.
+  alignas(64) std::atomic<std::size_t> taken_{0};
   mutable std::mutex reducing_;  // held while an entry is reduced: one at a time, in order
-  std::mutex queue_mutex_;
-  std::deque<Entry> queue_;       // under queue_mutex_
-  std::vector<std::shared_ptr<const PendingRows>> spent_;  // reduced, for push to free (under queue_mutex_)
-  std::thread::id pusher_;  // the thread of the last push (under queue_mutex_)
-  std::size_t queued_bytes_ = 0;  // under queue_mutex_
   RegionsSoFar last_reduced_;     // under reducing_
 };
 

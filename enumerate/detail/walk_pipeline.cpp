@@ -75,6 +75,23 @@ void WalkPipeline::signal_change() {
   changed_.notify_all();
 }
 
+// Under the lock: signal_change when a thread is waiting. A thread registers
+// (waiting_) under the lock before it last reads the state it waits on
+// change of, and reads version_ again under the lock before it sleeps, so a
+// change made under the lock either is seen or finds it registered. The
+// consumer changes something at every region; signalled unconditionally,
+// each change wrote version_, a line the other threads had read.
+void WalkPipeline::note_change() {
+  if (waiting_ > 0) signal_change();
+}
+
+// The background worker's, without the lock: a consume happened since
+// background last found nothing pending (the consume's own work, such as
+// certify's rows, happens before it is published: release there, acquire here).
+bool WalkPipeline::may_have_background() const {
+  return consumed_published_.load(std::memory_order_acquire) != background_idle_at_;
+}
+
 void WalkPipeline::fail(std::exception_ptr error) {
   if (!error_) error_ = std::move(error);
   is_over_ = true;
@@ -107,7 +124,8 @@ void WalkPipeline::process_one(std::unique_lock<std::mutex>& lock, std::size_t w
   --in_flight_;
   if (finished == State::waiting) --held_;
   // Someone may be waiting to consume it, or (stopped) for the last task in flight.
-  if (needed_ == index || stopped_ != StopReason::none) signal_change();
+  if (stopped_ != StopReason::none) signal_change();
+  else if (needed_ == index) note_change();
 }
 
 // Consumes while the task needed next is done; one thread at a time.
@@ -131,29 +149,46 @@ void WalkPipeline::consume_ready(std::unique_lock<std::mutex>& lock, std::size_t
     lock.lock();
     ++consumed_;
     --held_;
-    may_have_background_ = static_cast<bool>(hooks.background);
+    consumed_published_.store(consumed_, std::memory_order_release);  // its background work: pending now
     needed_ = next;
-    if (!next) is_over_ = true;
-    signal_change();  // new tasks, a new task needed, room in the window, or the end
+    if (!next) {
+      is_over_ = true;
+      signal_change();
+    } else {
+      note_change();  // new tasks, a new task needed, room in the window, or background work
+    }
   }
   is_consuming_ = false;
 }
 
-// One unit of background work, without the lock; on one thread (may_run_background).
+// Background work, without the lock, on one thread (may_run_background): up
+// to background_burst units while there are more and no stop is asked, so
+// that this thread takes the lock, which the consumer takes several times per
+// region, once per burst and not twice per unit (the consumer leaves about one
+// unit per region: a burst runs ahead only when the work fell behind).
 void WalkPipeline::run_background(std::unique_lock<std::mutex>& lock, const Hooks& hooks) {
   static const StopRequest never;
+  constexpr int background_burst = 8;
   lock.unlock();
-  bool is_more = false;
   try {
     const StopScope unstoppable(never);  // like consume: nothing partial to abandon
-    is_more = hooks.background();
+    for (int unit = 0; unit < background_burst && !hooks.stop.is_requested(); ++unit) {
+      if (hooks.background()) continue;
+      // None pending: read how far the consumer got, then look once more, so
+      // that a consume published before the look is not missed (the count is
+      // read only when the work runs dry, not before every unit: its line
+      // then stays with the consumer, which writes it at every region).
+      const std::size_t published = consumed_published_.load(std::memory_order_acquire);
+      if (hooks.background()) continue;
+      background_idle_at_ = published;  // none pending up to that consume
+      break;
+    }
   } catch (...) {
     lock.lock();
     fail(std::current_exception());
     return;
   }
   lock.lock();
-  if (!is_more) may_have_background_ = false;
 }
 
 // Worker 0 (run's caller) consumes while the run goes on, and worker 1 alone
@@ -180,11 +215,16 @@ bool WalkPipeline::may_run_background(std::size_t worker) const {
 // 50 us, one or two regions' work, in which most waits end; then yielding
 // between looks: by then the thread whose work this one waits for may need
 // this core. True when something changed.
-bool WalkPipeline::spin_for_change(std::unique_lock<std::mutex>& lock) {
+// The background worker watches for a consume too (may_have_background);
+// every consume also changes version_ while it waits, which is what decides.
+bool WalkPipeline::spin_for_change(std::unique_lock<std::mutex>& lock, bool watches_background) {
   const std::uint64_t seen = version_.load(std::memory_order_acquire);
   lock.unlock();
-  spin_while([&] { return version_.load(std::memory_order_acquire) == seen; }, std::chrono::microseconds(50),
-             std::chrono::microseconds(200));
+  spin_while(
+      [&] {
+        return version_.load(std::memory_order_acquire) == seen && !(watches_background && may_have_background());
+      },
+      std::chrono::microseconds(50), std::chrono::microseconds(200));
   lock.lock();
   return version_.load(std::memory_order_relaxed) != seen;
 }
@@ -215,7 +255,8 @@ void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
       }
     }
     if (stopped_ != StopReason::none) break;  // what is done gets consumed by whoever finishes it
-    if (may_have_background_ && may_run_background(worker)) {
+    const bool runs_background = hooks.background && may_run_background(worker);
+    if (runs_background && may_have_background()) {
       run_background(lock, hooks);
       continue;
     }
@@ -224,13 +265,12 @@ void WalkPipeline::serve(std::size_t worker, const Hooks& hooks) {
       tick(lock);
       continue;
     }
-    if (spin_for_change(lock)) continue;
-    if (worker == 0) {
-      changed_.wait_for(lock, std::chrono::milliseconds(200));
-      tick(lock);
-    } else {
-      changed_.wait(lock);
-    }
+    ++waiting_;  // until the wait ends, changes signal (note_change)
+    const bool is_changed = spin_for_change(lock, runs_background);
+    if (!is_changed && worker == 0) changed_.wait_for(lock, std::chrono::milliseconds(200));
+    else if (!is_changed) changed_.wait(lock);
+    --waiting_;
+    if (!is_changed && worker == 0) tick(lock);
   }
 }
 

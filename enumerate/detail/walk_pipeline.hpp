@@ -53,8 +53,9 @@ class WalkPipeline {
   using Tick = std::function<void(std::size_t consumed, std::size_t added)>;
   // background(): one unit of serial work that consume left behind (empty:
   // none); returns false when none is pending. One call at a time, with no
-  // StopScope, concurrently with process and consume. Asked again only after
-  // a consume once it returned false.
+  // StopScope, concurrently with process and consume. Once it returned false,
+  // asked once more right away (run_background), then again only after a
+  // consume.
   using Background = std::function<bool()>;
 
   // workers >= 1 threads, the caller's included; at most `window` tasks
@@ -112,22 +113,34 @@ class WalkPipeline {
   bool may_run_background(std::size_t worker) const;
   void run_background(std::unique_lock<std::mutex>& lock, const Hooks& hooks);
   void signal_change();
-  bool spin_for_change(std::unique_lock<std::mutex>& lock);
+  bool spin_for_change(std::unique_lock<std::mutex>& lock, bool watches_background);
   void fail(std::exception_ptr error);
+
+  bool may_have_background() const;
+  void note_change();
 
   std::size_t workers_;
   std::size_t window_;
-  std::mutex mutex_;
+  // Counts changes waiting threads watch for (spin_for_change), on a cache
+  // line of its own: a spinning thread's looks do not take the lock's line
+  // from the thread that holds it.
+  alignas(64) std::atomic<std::uint64_t> version_{0};
+  // consumed_, published for the background worker, which reads it without
+  // the lock (its own line: written by the consumer alone, once per region).
+  alignas(64) std::atomic<std::size_t> consumed_published_{0};
+  // The background worker's alone: consumed_published_ as it was read before
+  // background last found nothing pending.
+  alignas(64) std::size_t background_idle_at_ = 0;
+  alignas(64) std::mutex mutex_;
   std::condition_variable changed_;
-  std::atomic<std::uint64_t> version_{0};  // counts changes others may wait for
   // Everything below is guarded by mutex_.
+  std::size_t waiting_ = 0;  // threads watching for a change (spin_for_change, changed_)
   std::deque<WalkTask> tasks_;  // tasks offset_, offset_ + 1, ...
   std::deque<State> states_;
   std::size_t offset_ = 0;
   std::size_t next_claim_ = 0;           // no task below it is waiting
   std::optional<std::size_t> needed_;    // the task consume asks for next
   bool is_consuming_ = false;
-  bool may_have_background_ = false;     // consumed since background last found none
   bool is_over_ = false;                 // consume ended the run, or an exception did
   StopReason stopped_ = StopReason::none;  // set: no task is started any more
   std::size_t in_flight_ = 0;            // tasks being processed

@@ -244,10 +244,10 @@ TEST(RowBacklog, ReducesInOrderOneAtATimeWithinItsLimit) {
         return true;
       },
       4 * entry_bytes);
-  for (std::size_t i = 0; i < 4; ++i) backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)), {i + 1, 0, 0});
+  for (std::size_t i = 0; i < 4; ++i) backlog.push(rows_of(i, 3, 10), {i + 1, 0, 0});
   EXPECT_TRUE(reduced.empty());  // at the limit, not over it
   EXPECT_EQ(backlog.queued(), 4u);
-  backlog.push(std::make_shared<detail::PendingRows>(rows_of(4, 3, 10)), {5, 0, 0});
+  backlog.push(rows_of(4, 3, 10), {5, 0, 0});
   EXPECT_EQ(reduced, (std::vector<std::size_t>{0}));  // one reduced: back at the limit
   EXPECT_EQ(backlog.queued(), 4u);
   std::atomic<bool> is_pushing{true};
@@ -256,7 +256,7 @@ TEST(RowBacklog, ReducesInOrderOneAtATimeWithinItsLimit) {
       backlog.reduce_one();
     }
   });
-  for (std::size_t i = 5; i < 2000; ++i) backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)), {i + 1, 0, 0});
+  for (std::size_t i = 5; i < 2000; ++i) backlog.push(rows_of(i, 3, 10), {i + 1, 0, 0});
   is_pushing = false;
   drainer.join();
   EXPECT_TRUE(backlog.reduce_all(StopRequest()));
@@ -267,20 +267,22 @@ TEST(RowBacklog, ReducesInOrderOneAtATimeWithinItsLimit) {
   EXPECT_EQ(backlog.queued(), 0u);
 }
 
-// Entries are freed on the thread that pushed them: one reduced elsewhere by
-// the next push, one reduced by the pusher right away (certify makes them on
-// the walk's delivery thread and reduces them on another: the allocator then
-// takes their memory back where it gave it).
+// Entries' rows are freed on the thread that pushed them: one reduced
+// elsewhere by the next push, one reduced by the pusher right away (certify
+// makes them on the walk's delivery thread and reduces them on another: the
+// allocator then takes their memory back where it gave it).
 TEST(RowBacklog, FreesEachEntryOnTheThreadThatPushedIt) {
   std::mutex mutex;
   std::vector<std::pair<std::size_t, std::thread::id>> freed;  // label, freeing thread
   const auto entry = [&](std::size_t label) {
-    return std::shared_ptr<const detail::PendingRows>(new detail::PendingRows(rows_of(label, 1, 4)),
-                                                      [&, label](const detail::PendingRows* pending) {
-                                                        const std::lock_guard lock(mutex);
-                                                        freed.emplace_back(label, std::this_thread::get_id());
-                                                        delete pending;
-                                                      });
+    detail::PendingRows pending = rows_of(label, 1, 4);
+    pending.rows = std::shared_ptr<const ModularMatrix>(new ModularMatrix(1, 4),
+                                                        [&, label](const ModularMatrix* rows) {
+                                                          const std::lock_guard lock(mutex);
+                                                          freed.emplace_back(label, std::this_thread::get_id());
+                                                          delete rows;
+                                                        });
+    return pending;
   };
   detail::RowBacklog backlog([](const detail::PendingRows&, const detail::RegionsSoFar&) { return true; },
                              std::size_t{1} << 20);
@@ -293,6 +295,45 @@ TEST(RowBacklog, FreesEachEntryOnTheThreadThatPushedIt) {
   EXPECT_TRUE(backlog.reduce_one());  // reduced by the pusher: freed now
   ASSERT_EQ(freed.size(), 2u);
   EXPECT_EQ(freed[1], std::make_pair(std::size_t{1}, std::this_thread::get_id()));
+}
+
+// The ring goes round (more entries than it holds, reduced behind the pushes
+// on another thread and by the pusher when it is full): every entry reaches
+// reduce once, in order, with the pattern, point and counts it was pushed
+// with, though the slots' memory is reused.
+TEST(RowBacklog, ReusedSlotsHandOnEachEntryAsPushed) {
+  const std::size_t entries = 5 * detail::RowBacklog::capacity + 7;
+  std::vector<std::size_t> seen;
+  bool is_faithful = true;
+  detail::RowBacklog backlog(
+      [&](const detail::PendingRows& pending, const detail::RegionsSoFar& at) {
+        const std::size_t label = seen.size();
+        is_faithful = is_faithful && pending.pattern.states.size() == label % 37 + 1 &&
+                      pending.interior.size() == 2 && pending.interior[0] == Rational(static_cast<long>(label), 3) &&
+                      pending.interior[1] == Rational(-1, static_cast<long>(label) + 2) && at.regions == label + 1 &&
+                      (pending.rows != nullptr) == (label % 5 == 0);
+        seen.push_back(label);
+        return true;
+      },
+      std::size_t{1} << 20);
+  std::atomic<bool> is_pushing{true};
+  std::thread reducer([&] {
+    while (is_pushing) backlog.reduce_one();
+  });
+  for (std::size_t i = 0; i < entries; ++i) {
+    detail::PendingRows pending;
+    pending.pattern.states.assign(i % 37 + 1, NeuronState::on);
+    pending.interior = {Rational(static_cast<long>(i), 3), Rational(-1, static_cast<long>(i) + 2)};
+    if (i % 5 == 0) pending.rows = std::make_shared<const ModularMatrix>(2, 3);
+    backlog.push(pending, {i + 1, 0, 0});
+  }
+  is_pushing = false;
+  reducer.join();
+  EXPECT_TRUE(backlog.reduce_all(StopRequest()));
+  EXPECT_TRUE(is_faithful);
+  ASSERT_EQ(seen.size(), entries);
+  for (std::size_t i = 0; i < entries; ++i) ASSERT_EQ(seen[i], i);
+  EXPECT_EQ(backlog.last_reduced().regions, entries);
 }
 
 // A stop (time limit, Ctrl-C) ends the drain after the walk at the next
@@ -311,7 +352,7 @@ TEST(RowBacklog, ADrainStopsAtTheNextEntryOnceAStopIsRequested) {
       std::size_t{1} << 20);
   EXPECT_EQ(backlog.last_reduced().regions, 0u);
   for (std::size_t i = 0; i < 10; ++i)
-    backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)), {2 * i + 1, i, i / 2});
+    backlog.push(rows_of(i, 3, 10), {2 * i + 1, i, i / 2});
   const StopRequest stop(&interrupt, 0);
   EXPECT_FALSE(backlog.reduce_all(stop));
   EXPECT_EQ(reduced, (std::vector<std::size_t>{0, 1, 2, 3}));
@@ -319,7 +360,7 @@ TEST(RowBacklog, ADrainStopsAtTheNextEntryOnceAStopIsRequested) {
   EXPECT_EQ(backlog.last_reduced().bounded, 3u);
   EXPECT_EQ(backlog.last_reduced().nonsmooth, 1u);
   EXPECT_TRUE(backlog.is_closed());
-  backlog.push(std::make_shared<detail::PendingRows>(rows_of(10, 3, 10)), {21, 10, 5});
+  backlog.push(rows_of(10, 3, 10), {21, 10, 5});
   EXPECT_FALSE(backlog.reduce_one());
   EXPECT_EQ(reduced.size(), 4u);
   // Nothing left to drop: done, though a stop is requested.
@@ -341,7 +382,7 @@ TEST(RowBacklog, ClosesAtTheEntryWhoseReductionSaysSo) {
       },
       std::size_t{1} << 20);
   for (std::size_t i = 0; i < 10; ++i)
-    backlog.push(std::make_shared<detail::PendingRows>(rows_of(i, 3, 10)), {2 * i + 1, i, i / 2});
+    backlog.push(rows_of(i, 3, 10), {2 * i + 1, i, i / 2});
   EXPECT_FALSE(backlog.is_closed());
   EXPECT_TRUE(backlog.reduce_all(StopRequest()));
   EXPECT_TRUE(backlog.is_closed());
@@ -350,7 +391,7 @@ TEST(RowBacklog, ClosesAtTheEntryWhoseReductionSaysSo) {
   EXPECT_EQ(closed_at->regions, 13u);
   EXPECT_EQ(closed_at->bounded, 6u);
   EXPECT_EQ(closed_at->nonsmooth, 3u);
-  backlog.push(std::make_shared<detail::PendingRows>(rows_of(10, 3, 10)), {21, 10, 5});
+  backlog.push(rows_of(10, 3, 10), {21, 10, 5});
   EXPECT_FALSE(backlog.reduce_one());
   EXPECT_EQ(reduced.size(), 7u);
 }
