@@ -1,5 +1,7 @@
 #include "enumerate/detail/padic_solve.hpp"
 
+#include "enumerate/detail/modular_substitution.hpp"
+
 #include "core/detail/wide_sum.hpp"
 #include "core/stop.hpp"
 
@@ -446,7 +448,7 @@ std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b, std::
   // modulo p: the triangular solves take only those (on 2,15,15,15,15,1
   // seed 1, three of six columns are done after 4 of 27 digits).
   std::vector<std::size_t> lifted;
-  std::optional<NmodMatrix> right, digits;
+  std::vector<std::uint64_t> digits;  // n x open, row-major
   std::vector<std::uint64_t> digit(n);
   std::vector<Integer> numerators;
   Integer denominator;
@@ -462,29 +464,21 @@ std::optional<RationalMatrix> SquareSolver::lift(const fmpz_mat_struct* b, std::
       lifted.clear();
       for (std::size_t c = 0; c < m; ++c)
         if (!columns[c].is_done) lifted.push_back(c);
-      right.emplace(n, open, prime);
-      digits.emplace(n, open, prime);
+      digits.resize(n * open);
     }
     // The next digit of every open column: A^-1 (residual mod p), through
     // the LU (rows in its order; A^T's LU: in A's order, unknowns in the LU's).
     for (std::size_t i = 0; i < n; ++i) {
       const auto row = is_transposed ? i : static_cast<std::size_t>(lu->order[i]);
       for (std::size_t o = 0; o < open; ++o)
-        nmod_mat_entry(right->get(), static_cast<slong>(i), static_cast<slong>(o)) =
-            residual_words.residue(columns[lifted[o]].residual.data() + row * size);
+        digits[i * open + o] = residual_words.residue(columns[lifted[o]].residual.data() + row * size);
     }
-    nmod_mat_solve_tril(digits->get(), triangles, right->get(), 1);
-    for (std::size_t i = 0; i < n; ++i)  // U x = y is U' x = D^-1 y
-      for (std::size_t o = 0; o < open; ++o) {
-        mp_limb_t& entry = nmod_mat_entry(digits->get(), static_cast<slong>(i), static_cast<slong>(o));
-        entry = nmod_mul(entry, lu->inverse_diagonal[i], digits->get()->mod);
-      }
-    nmod_mat_solve_triu(digits->get(), triangles, digits->get(), 1);
+    // L y = r, then U x = y as U' x = D^-1 y.
+    solve_triangles_modulo(triangles, lu->inverse_diagonal.data(), digits.data(), n, open);
     for (std::size_t o = 0; o < lifted.size(); ++o) {
       ColumnLift& column = columns[lifted[o]];
       for (std::size_t i = 0; i < n; ++i)
-        digit[is_transposed ? static_cast<std::size_t>(lu->order[i]) : i] =
-            nmod_mat_entry(digits->get(), static_cast<slong>(i), static_cast<slong>(o));
+        digit[is_transposed ? static_cast<std::size_t>(lu->order[i]) : i] = digits[i * open + o];
       for (std::size_t i = 0; i < n; ++i) mpz_addmul_ui(column.value[i].get_mpz_t(), power.get_mpz_t(), digit[i]);
       // residual = (residual - A digit) / p, exactly.
       for (std::size_t i = 0; i < n; ++i) {
