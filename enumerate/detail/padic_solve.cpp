@@ -1,8 +1,8 @@
 #include "enumerate/detail/padic_solve.hpp"
 
 #include "enumerate/detail/modular_substitution.hpp"
+#include "enumerate/detail/word_matrix.hpp"
 
-#include "core/detail/wide_sum.hpp"
 #include "core/stop.hpp"
 
 #include <flint/fmpq.h>
@@ -22,101 +22,6 @@ namespace pleat::detail {
 namespace {
 
 __extension__ typedef unsigned __int128 Wide;
-
-// A's nonzero entries row by row, the positive ones first, each as its
-// column and the `limbs` words of its absolute value (least significant
-// first): A x is then two sums of word products per row and word.
-class WordMatrix {
- public:
-  explicit WordMatrix(const fmpz_mat_struct* a) {
-    const auto n = fmpz_mat_nrows(a);
-    const auto columns = fmpz_mat_ncols(a);
-    std::size_t largest = 1;
-    for (slong i = 0; i < n; ++i)
-      for (slong j = 0; j < columns; ++j)
-        largest = std::max(largest, static_cast<std::size_t>(fmpz_size(fmpz_mat_entry(a, i, j))));
-    limbs_ = largest;
-    first_.push_back(0);
-    fmpz_t magnitude;
-    fmpz_init(magnitude);
-    for (slong i = 0; i < n; ++i) {
-      for (int sign : {1, -1}) {
-        for (slong j = 0; j < columns; ++j) {
-          const fmpz* entry = fmpz_mat_entry(a, i, j);
-          if (fmpz_sgn(entry) != sign) continue;
-          fmpz_abs(magnitude, entry);
-          columns_.push_back(static_cast<std::size_t>(j));
-          for (std::size_t l = 0; l < limbs_; ++l) words_.push_back(limb(magnitude, l));
-        }
-        first_.push_back(columns_.size());
-      }
-    }
-    fmpz_clear(magnitude);
-  }
-
-  // t -= row i of A times x (x's entries words), modulo 2^(64 size): t is
-  // `size` words, least significant first (two's complement).
-  void subtract_row_times(std::size_t i, const std::uint64_t* x, std::uint64_t* t, std::size_t size) const {
-    std::vector<std::uint64_t>& total = scratch_words();
-    sum_words(first_[2 * i], first_[2 * i + 1], x, total);
-    add_words(t, size, total, true);
-    sum_words(first_[2 * i + 1], first_[2 * i + 2], x, total);
-    add_words(t, size, total, false);
-  }
-
- private:
-  static std::uint64_t limb(const fmpz_t value, std::size_t l) {
-    if (!COEFF_IS_MPZ(*value)) return l == 0 ? static_cast<std::uint64_t>(*value) : 0;
-    const __mpz_struct* big = COEFF_TO_PTR(*value);
-    return l < static_cast<std::size_t>(big->_mp_size) ? big->_mp_d[l] : 0;
-  }
-
-  // t += total (or t -= total) modulo 2^(64 size).
-  static void add_words(std::uint64_t* t, std::size_t size, const std::vector<std::uint64_t>& total, bool subtract) {
-    std::uint64_t carry = 0;
-    for (std::size_t w = 0; w < size; ++w) {
-      const std::uint64_t v = w < total.size() ? total[w] : 0;
-      if (subtract) {
-        const Wide d = static_cast<Wide>(t[w]) - v - carry;
-        t[w] = static_cast<std::uint64_t>(d);
-        carry = static_cast<std::uint64_t>(d >> 64) != 0 ? 1 : 0;
-      } else {
-        const Wide d = static_cast<Wide>(t[w]) + v + carry;
-        t[w] = static_cast<std::uint64_t>(d);
-        carry = static_cast<std::uint64_t>(d >> 64);
-      }
-    }
-  }
-
-  // The entries [begin, end) (magnitudes) times x at their columns, as
-  // limbs_ + 3 words.
-  void sum_words(std::size_t begin, std::size_t end, const std::uint64_t* x, std::vector<std::uint64_t>& total) const {
-    total.assign(limbs_ + 3, 0);
-    for (std::size_t l = 0; l < limbs_; ++l) {
-      WideSum part;
-      for (std::size_t e = begin; e < end; ++e) part.add(words_[e * limbs_ + l], x[columns_[e]]);
-      // total += part * 2^(64 l), with the carry run out.
-      const std::uint64_t words[3] = {static_cast<std::uint64_t>(part.low), static_cast<std::uint64_t>(part.low >> 64),
-                                      part.high};
-      std::uint64_t carry = 0;
-      for (std::size_t w = 0; w < 3 || carry; ++w) {
-        const Wide added = static_cast<Wide>(total[l + w]) + (w < 3 ? words[w] : 0) + carry;
-        total[l + w] = static_cast<std::uint64_t>(added);
-        carry = static_cast<std::uint64_t>(added >> 64);
-      }
-    }
-  }
-
-  static std::vector<std::uint64_t>& scratch_words() {
-    thread_local std::vector<std::uint64_t> words;
-    return words;
-  }
-
-  std::size_t limbs_ = 1;
-  std::vector<std::size_t> first_;    // row i's positives [2i, 2i+1), negatives [2i+1, 2i+2)
-  std::vector<std::size_t> columns_;  // of each entry
-  std::vector<std::uint64_t> words_;  // limbs_ per entry
-};
 
 }  // namespace
 
