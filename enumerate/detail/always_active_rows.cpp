@@ -489,12 +489,12 @@ bool AlwaysActivePlan::fill(std::vector<std::optional<SparseRationalRows::Row>>&
     poll_stop();
     terms.clear();
     for (std::size_t t = 0; t < rests.size(); ++t) terms.emplace_back(inverse_[s][t], &rests[t]);
-    const CommonRow sum = combination(terms, columns);
+    CommonRow sum = combination(terms, columns);
     SparseRationalRows::Row row;
     row.reserve(sum.entries.size());
-    for (const auto& [c, numerator] : sum.entries) {
+    for (auto& [c, numerator] : sum.entries) {
       Rational& value = row.emplace_back(c, Rational()).second;
-      mpz_set(value.get_num_mpz_t(), numerator.get_mpz_t());
+      mpz_swap(value.get_num_mpz_t(), numerator.get_mpz_t());  // not copied: sum is not read again
       mpz_set(value.get_den_mpz_t(), sum.denominator.get_mpz_t());
       value.canonicalize();
     }

@@ -213,8 +213,10 @@ bool read_off(const std::vector<Integer>& value, const Integer& modulus, const I
 struct ResidualWords {
   std::size_t size;
   std::uint64_t prime, inverse;  // p^-1 modulo 2^64
+  std::uint64_t prime_inverse;   // FLINT's precomputed inverse of p (n_preinvert_limb)
   std::uint64_t wrap;            // 2^(64 size) modulo p
-  ResidualWords(std::size_t a_bits, std::size_t b_bits, std::size_t n, std::uint64_t p) : prime(p) {
+  ResidualWords(std::size_t a_bits, std::size_t b_bits, std::size_t n, std::uint64_t p)
+      : prime(p), prime_inverse(n_preinvert_limb(p)) {
     std::size_t n_bits = 0;
     while ((std::size_t{1} << n_bits) <= n) ++n_bits;
     const std::size_t bound_bits = std::max(b_bits, a_bits + n_bits + 1) + 1;  // M and a sign
@@ -259,9 +261,8 @@ struct ResidualWords {
   // r modulo p, in [0, p): its words read as the unsigned U, less 2^(64
   // size) when negative.
   std::uint64_t residue(const std::uint64_t* r) const {
-    Wide acc = 0;
-    for (std::size_t w = size; w-- > 0;) acc = ((acc << 64) | r[w]) % prime;
-    const auto value = static_cast<std::uint64_t>(acc);
+    std::uint64_t value = 0;  // Horner's rule by words, each step a reduction by p's precomputed inverse
+    for (std::size_t w = size; w-- > 0;) value = n_ll_mod_preinv(value, r[w], prime, prime_inverse);
     if ((r[size - 1] >> 63) == 0) return value;
     return value >= wrap ? value - wrap : value + (prime - wrap);
   }
