@@ -15,6 +15,7 @@
 #include "enumerate/detail/ray_reach.hpp"
 #include "enumerate/detail/reach_forecast.hpp"
 #include "enumerate/detail/row_backlog.hpp"
+#include "enumerate/detail/rows_until_stopped.hpp"
 #include "enumerate/interior_points.hpp"
 #include "enumerate/line_sweep.hpp"
 
@@ -157,12 +158,11 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   // without a rise in rank.
   std::set<ActivationPattern> seen_by_points;
   // Adds the rows of each point's region the first time a point lands in it
-  // (rows were computed in parallel for every smooth region not seen before
-  // its batch), in point order, and keeps those that raise the rank, until
-  // the rank meets the bound: the points after that one are not counted.
-  // One call of add_rows for the batch (core/rank.hpp: the same rows kept as
-  // one add_row each, cheaper when most raise the rank, as here, and its
-  // residuals and clearing on every thread). Returns, for each point
+  // (rows computed in parallel for every smooth region not seen before its
+  // batch), in point order, and keeps those that raise the rank, until the
+  // rank meets the bound or a stop: the points after that one are not
+  // counted. By add_rows (core/rank.hpp: the rows add_row would keep, cheaper
+  // when most raise the rank, on every thread). Returns, for each point
   // counted, whether its rows raised the rank.
   auto keep_rows_of_points = [&](const std::vector<PointRegion>& point_regions, const std::vector<ModularMatrix>& rows,
                                  const std::vector<RationalVector>& points) {
@@ -183,17 +183,15 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     std::vector<bool> rose;
     if (basis.rank() >= result.scaling_bound) return rose;
     std::vector<bool> kept_rows;
-    const std::size_t considered = basis.add_rows(
-        candidates, result.scaling_bound, kept_rows,
-        [&](std::size_t count, const std::function<void(std::size_t)>& body) { parallel_for(count, threads, body); });
-    // Stopped at the bound: the last row considered raised the rank to it,
-    // and its point (the last i with first_row[i] <= that row) is the last
-    // one counted.
-    const std::size_t counted =
-        considered < candidates.size()
-            ? static_cast<std::size_t>(std::upper_bound(first_row.begin(), first_row.end(), considered - 1) -
-                                       first_row.begin())
-            : points.size();
+    const std::size_t considered = detail::add_rows_until_stopped(
+        basis, candidates, result.scaling_bound, kept_rows,
+        [&](std::size_t count, const std::function<void(std::size_t)>& body) { parallel_for(count, threads, body); },
+        stop);  // a stop acts between chunks of rows, not after the batch
+    std::size_t counted = points.size();  // cut short (at the bound, by a stop): to the last row's point
+    if (considered < candidates.size())
+      counted = considered == 0 ? 0
+                                : static_cast<std::size_t>(std::upper_bound(first_row.begin(), first_row.end(),
+                                                                            considered - 1) - first_row.begin());
     rose.assign(counted, false);
     for (std::size_t i = 0; i < counted; ++i) {
       const PointRegion& region = point_regions[i];
