@@ -8,9 +8,9 @@
 #include "cli/commands/certify_files.hpp"
 #include "cli/formats/output_file.hpp"
 #include "core/errors.hpp"
+#include "tests/support/temporary_directory.hpp"
 
 #include <gtest/gtest.h>
-#include <stdlib.h>
 
 #include <filesystem>
 #include <string>
@@ -18,16 +18,7 @@
 namespace pleat::cli {
 namespace {
 
-class RowsOutFile : public ::testing::Test {
- protected:
-  void SetUp() override {
-    std::string pattern = (std::filesystem::temp_directory_path() / "pleat_rows_XXXXXX").string();
-    ASSERT_NE(mkdtemp(pattern.data()), nullptr);
-    directory_ = pattern;
-  }
-  void TearDown() override { std::filesystem::remove_all(directory_); }
-  std::filesystem::path directory_;
-};
+class RowsOutFile : public test::TemporaryDirectoryTest {};
 
 RationalMatrix one_region_rows() {
   RationalMatrix rows(2, 3);

@@ -5,6 +5,7 @@
 // signal really ends.
 #include "cli/formats/output_file.hpp"
 #include "cli/signals.hpp"
+#include "tests/support/temporary_directory.hpp"
 
 #include <gtest/gtest.h>
 #include <sys/wait.h>
@@ -50,16 +51,7 @@ int status_after_two_interrupts(Body body) {
   return status;
 }
 
-class StagedFileKill : public ::testing::Test {
- protected:
-  void SetUp() override {
-    std::string pattern = (std::filesystem::temp_directory_path() / "pleat_kill_XXXXXX").string();
-    ASSERT_NE(mkdtemp(pattern.data()), nullptr);
-    directory_ = pattern;
-  }
-  void TearDown() override { std::filesystem::remove_all(directory_); }
-  std::filesystem::path directory_;
-};
+class StagedFileKill : public test::TemporaryDirectoryTest {};
 
 TEST_F(StagedFileKill, ARepeatedInterruptThatEndsTheProcessLeavesNoTemporaryFile) {
   const std::string path = (directory_ / "rows.txt").string();

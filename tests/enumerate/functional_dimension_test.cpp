@@ -324,6 +324,16 @@ TEST(FunctionalDimension, RawRankOfTheFullWalkNeverExceedsTheScalingBound) {
   }
 }
 
+// Every contributing region's rows kept (no stop at the scaling bound), on one
+// thread: the set-up of the tests of the rows phase below.
+FunctionalDimensionOptions every_regions_rows_on_one_thread() {
+  FunctionalDimensionOptions options;
+  options.walk.threads = 1;
+  options.stop_at_scaling_bound = false;
+  options.keep_rows = true;
+  return options;
+}
+
 // A Ctrl-C while the rows are formed (phase "rows", after the value is
 // settled) cuts the rows short, not the value: the rows kept are the first
 // regions' rows, in order, and the result says they are cut short. Fails if
@@ -332,10 +342,7 @@ TEST(FunctionalDimension, RawRankOfTheFullWalkNeverExceedsTheScalingBound) {
 TEST(FunctionalDimension, AnInterruptWhileTheRowsAreFormedKeepsTheValueAndTheFirstRows) {
   const Network network = random_networks().front();
   const Domain domain = make_whole_space(network.input_dim);
-  FunctionalDimensionOptions options;
-  options.walk.threads = 1;
-  options.stop_at_scaling_bound = false;
-  options.keep_rows = true;
+  FunctionalDimensionOptions options = every_regions_rows_on_one_thread();
   const FunctionalDimensionResult whole = certify_functional_dimension(network, domain, options);
   ASSERT_TRUE(whole.certified);
   ASSERT_GE(whole.regions_contributing, 3u);
@@ -366,10 +373,7 @@ TEST(FunctionalDimension, AnInterruptWhileTheRowsAreFormedKeepsTheValueAndTheFir
 TEST(FunctionalDimension, RowsWantedNoMoreAreNoLongerFormed) {
   const Network network = random_networks().front();
   const Domain domain = make_whole_space(network.input_dim);
-  FunctionalDimensionOptions options;
-  options.walk.threads = 1;
-  options.stop_at_scaling_bound = false;
-  options.keep_rows = true;
+  FunctionalDimensionOptions options = every_regions_rows_on_one_thread();
   std::size_t given = 0;
   options.on_region_rows = [&](const RationalMatrix&) { return ++given < 2; };
   std::size_t last_reported = 0;
