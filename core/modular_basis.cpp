@@ -488,7 +488,7 @@ void clear_at_pivots(ModularVector& v, const std::vector<ModularVector>& block, 
 }  // namespace
 
 std::size_t ModularRowBasis::add_rows(const std::vector<ModularVector>& rows, std::size_t rank_limit,
-                                      std::vector<bool>& kept, const ParallelFor& parallel) {
+                                      std::vector<bool>& kept, const ParallelFor& parallel, const StopRequest* stop) {
   kept.assign(rows.size(), false);
   // Rows go in chunks. A chunk's residuals against the kept rows are
   // independent of each other (computed in parallel); then, in order, each is
@@ -502,7 +502,7 @@ std::size_t ModularRowBasis::add_rows(const std::vector<ModularVector>& rows, st
   std::size_t considered = 0;
   std::vector<ModularVector> block;
   std::vector<std::size_t> block_pivots;  // positions in free_columns_
-  while (considered < rows.size() && rank() < limit) {
+  while (considered < rows.size() && rank() < limit && !(stop && stop->is_requested())) {
     const std::size_t start = considered, end = std::min(rows.size(), start + kChunk);
     for (std::size_t k = start; k < end; ++k) check_row(rows[k], "ModularRowBasis::add_rows");
     std::vector<ModularVector> reduced(end - start);

@@ -13,6 +13,7 @@
 
 #include "core/matrix.hpp"
 #include "core/rational.hpp"
+#include "core/stop.hpp"
 
 #include <cstddef>
 #include <cstdint>
@@ -183,9 +184,12 @@ class ModularRowBasis {
   // a chunk at a time, and the new pivots cleared from the earlier kept rows
   // once per chunk with one exact sum per entry, both through parallel when
   // given (cheaper when most rows are independent, as from scattered points).
-  // Same precondition as add_row for every row considered.
+  // stop, when given, is polled before each chunk: once requested, the rows
+  // considered so far are returned (a batch of thousands of long rows took
+  // up to a second past a time limit). Same precondition as add_row for
+  // every row considered.
   std::size_t add_rows(const std::vector<ModularVector>& rows, std::size_t rank_limit, std::vector<bool>& kept,
-                       const ParallelFor& parallel = {});
+                       const ParallelFor& parallel = {}, const StopRequest* stop = nullptr);
 
   // The screen alone: false when w . row == 0 (row in the span, or the 1/p
   // miss above), true when row is certainly outside the span. Same

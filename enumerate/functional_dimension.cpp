@@ -15,7 +15,6 @@
 #include "enumerate/detail/ray_reach.hpp"
 #include "enumerate/detail/reach_forecast.hpp"
 #include "enumerate/detail/row_backlog.hpp"
-#include "enumerate/detail/rows_until_stopped.hpp"
 #include "enumerate/interior_points.hpp"
 #include "enumerate/line_sweep.hpp"
 
@@ -183,10 +182,10 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     std::vector<bool> rose;
     if (basis.rank() >= result.scaling_bound) return rose;
     std::vector<bool> kept_rows;
-    const std::size_t considered = detail::add_rows_until_stopped(
-        basis, candidates, result.scaling_bound, kept_rows,
+    const std::size_t considered = basis.add_rows(
+        candidates, result.scaling_bound, kept_rows,
         [&](std::size_t count, const std::function<void(std::size_t)>& body) { parallel_for(count, threads, body); },
-        stop);  // a stop acts between chunks of rows, not after the batch
+        &stop);  // a stop acts between chunks of rows, not after the batch
     std::size_t counted = points.size();  // cut short (at the bound, by a stop): to the last row's point
     if (considered < candidates.size())
       counted = considered == 0 ? 0

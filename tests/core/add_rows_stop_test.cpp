@@ -1,9 +1,10 @@
-// certify's points stage adds a batch's rows a chunk at a time, polling the
-// stop between (enumerate/detail/rows_until_stopped.hpp): one add_rows call
-// for the batch ran up to a second past --time-limit on 3,40,40,40,1. The
-// basis must be what one call leaves, and a stop must act after the chunk it
-// came in, not after the batch.
-#include "enumerate/detail/rows_until_stopped.hpp"
+// ModularRowBasis::add_rows polls its stop before each chunk of rows
+// (certify's points stage: one call for a batch ran up to a second past
+// --time-limit on 3,40,40,40,1 when it polled none). With a stop never
+// requested the basis must be what a call without one leaves, and a stop must
+// act after the chunk it came in, not after the batch.
+#include "core/rank.hpp"
+#include "core/stop.hpp"
 
 #include <gtest/gtest.h>
 
@@ -13,7 +14,7 @@
 #include <random>
 #include <vector>
 
-namespace pleat::detail {
+namespace pleat {
 namespace {
 
 __extension__ typedef unsigned __int128 Wide;
@@ -43,21 +44,22 @@ void serially(std::size_t count, const std::function<void(std::size_t)>& body) {
   for (std::size_t i = 0; i < count; ++i) body(i);
 }
 
-TEST(RowsUntilStopped, WithoutAStopTheBasisIsOneAddRowsCallsAtEveryRankLimit) {
+TEST(AddRowsStop, WithAStopNeverRequestedTheBasisIsACallWithoutOneAtEveryRankLimit) {
   const std::uint64_t prime = primary_prime();
   const std::vector<ModularVector> rows = mixed_rows(prime);
   for (const std::size_t limit : {std::size_t{5}, std::size_t{48}, std::size_t{97}, std::size_t{1000}}) {
-    ModularRowBasis chunked(prime, 160), whole(prime, 160);
-    std::vector<bool> chunked_kept, whole_kept;
-    const std::size_t considered = add_rows_until_stopped(chunked, rows, limit, chunked_kept, serially, StopRequest());
+    ModularRowBasis stoppable(prime, 160), whole(prime, 160);
+    std::vector<bool> stoppable_kept, whole_kept;
+    const StopRequest never;
+    const std::size_t considered = stoppable.add_rows(rows, limit, stoppable_kept, serially, &never);
     EXPECT_EQ(considered, whole.add_rows(rows, limit, whole_kept, serially)) << "limit " << limit;
-    EXPECT_EQ(chunked_kept, whole_kept) << "limit " << limit;
-    EXPECT_EQ(chunked.pivot_columns(), whole.pivot_columns()) << "limit " << limit;
-    EXPECT_TRUE(chunked.rows() == whole.rows()) << "limit " << limit;
+    EXPECT_EQ(stoppable_kept, whole_kept) << "limit " << limit;
+    EXPECT_EQ(stoppable.pivot_columns(), whole.pivot_columns()) << "limit " << limit;
+    EXPECT_TRUE(stoppable.rows() == whole.rows()) << "limit " << limit;
   }
 }
 
-TEST(RowsUntilStopped, AStopInTheFirstChunkEndsTheRowsAfterIt) {
+TEST(AddRowsStop, AStopInTheFirstChunkEndsTheRowsAfterIt) {
   const std::uint64_t prime = primary_prime();
   const std::vector<ModularVector> rows = mixed_rows(prime);
   std::atomic<bool> interrupt{false};
@@ -69,7 +71,7 @@ TEST(RowsUntilStopped, AStopInTheFirstChunkEndsTheRowsAfterIt) {
   };
   ModularRowBasis basis(prime, 160), first_chunk(prime, 160);
   std::vector<bool> kept, first_kept;
-  EXPECT_EQ(add_rows_until_stopped(basis, rows, 1000, kept, stopping, stop), 48u);
+  EXPECT_EQ(basis.add_rows(rows, 1000, kept, stopping, &stop), 48u);  // add_rows' chunk (core/modular_basis.cpp)
   first_chunk.add_rows(std::vector<ModularVector>(rows.begin(), rows.begin() + 48), 1000, first_kept, serially);
   EXPECT_EQ(basis.rank(), first_chunk.rank());
   EXPECT_TRUE(basis.rows() == first_chunk.rows());
@@ -77,9 +79,9 @@ TEST(RowsUntilStopped, AStopInTheFirstChunkEndsTheRowsAfterIt) {
   for (std::size_t k = 0; k < rows.size(); ++k) EXPECT_EQ(kept[k], k < 48 && first_kept[k]) << "row " << k;
   // Stopped before: nothing is added.
   ModularRowBasis untouched(prime, 160);
-  EXPECT_EQ(add_rows_until_stopped(untouched, rows, 1000, kept, serially, stop), 0u);
+  EXPECT_EQ(untouched.add_rows(rows, 1000, kept, serially, &stop), 0u);
   EXPECT_EQ(untouched.rank(), 0u);
 }
 
 }  // namespace
-}  // namespace pleat::detail
+}  // namespace pleat
