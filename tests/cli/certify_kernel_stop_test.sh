@@ -32,7 +32,7 @@ status=$?
 after_walk=$(json_eval "$work/limit.json" 'd["walk_complete"]')
 
 # An interrupt 0.5 s in: exit 130 within seconds, bounds, not certified.
-within 13 timeout --preserve-status -s INT 0.5 "$pleat" certify "$net" --threads 2 --json -q > "$work/int.json"
+within 13 interrupt_when_ready 0.5 "$pleat" certify "$net" --threads 2 --json -q > "$work/int.json"
 status=$?
 [ $status = 130 ] || fail "interrupted certify exited $status, expected 130"
 [ "$(json_eval "$work/int.json" '(d["certified"], d["stop_reason"])')" = "(False, 'interrupted')" ] ||

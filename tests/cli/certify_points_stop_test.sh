@@ -50,7 +50,7 @@ regions=$(json_eval "$work/full.json" 'd["regions_rank"]')
 
 bounds "$work/limit.json" time-limit
 
-within 15 timeout --preserve-status -s INT "$(scaled 0.3)" "${run[@]}" --json > "$work/int.json"
+within 15 interrupt_when_ready 0.3 "${run[@]}" --json > "$work/int.json"
 status=$?
 [ $status -eq 130 ] || fail "certify --points under SIGINT exited $status, expected 130"
 bounds "$work/int.json" interrupted

@@ -48,13 +48,14 @@ time_scale=1
 [ -n "${PLEAT_SANITIZED:-}" ] && time_scale=5
 scaled() { awk -v s="$1" -v k="$time_scale" 'BEGIN { print s * k }'; }
 
-# within SECONDS command...: runs it (killed after 300 s), fails when it takes
-# longer than SECONDS (scaled); returns the command's status.
+# within SECONDS command...: runs it (killed after 300 s; a shell function such as
+# interrupt_when_ready runs as it is), fails when it takes longer than SECONDS
+# (scaled); returns the command's status.
 within() {
   local limit=$(($1 * time_scale))
   shift
   local start=$SECONDS
-  timeout -s KILL 300 "$@"
+  if declare -F "$1" > /dev/null; then "$@"; else timeout -s KILL 300 "$@"; fi
   local status=$?
   local took=$((SECONDS - start))
   [ $took -le "$limit" ] || fail "$* took $took s (limit $limit s)"
@@ -64,3 +65,38 @@ within() {
 # exact_rank FILE: the exact rank over the rationals of a comma-separated
 # matrix file (one row per line), by sympy (tests/cli/exact_rank.py).
 exact_rank() { "$python" "$(dirname "${BASH_SOURCE[0]}")/exact_rank.py" "$1"; }
+
+# interrupt_when_ready SECONDS command...: runs the command in the background and
+# sends it one SIGINT SECONDS (scaled) after it has installed its handler (SIGINT
+# caught in /proc/PID/status), then returns its status (killed after 300 s). A
+# plain `timeout -s INT` counts from the start: on a loaded machine pleat can
+# take longer than that to start, and the default action then ends it with 130
+# and no output, which is not the clean stop under test.
+interrupt_when_ready() {
+  local delay
+  delay=$(scaled "$1")
+  shift
+  "$@" &
+  local pid=$!
+  (sleep 300 && kill -KILL $pid) 2> /dev/null &
+  local watchdog=$!
+  local polls=0
+  until catches_sigint $pid; do
+    kill -0 $pid 2> /dev/null && [ $polls -lt 6000 ] || break
+    polls=$((polls + 1))
+    sleep 0.005
+  done
+  sleep "$delay"
+  kill -INT $pid 2> /dev/null
+  wait $pid
+  local status=$?
+  kill $watchdog 2> /dev/null
+  return $status
+}
+
+# catches_sigint PID: the process has a handler for SIGINT (bit 1 of SigCgt).
+catches_sigint() {
+  local mask
+  mask=$(awk '/^SigCgt:/ { print $2 }' "/proc/$1/status" 2> /dev/null)
+  [ -n "$mask" ] && (( (16#$mask >> 1) & 1 ))
+}
