@@ -156,6 +156,7 @@ std::string printable(const std::string& text) {
 }  // namespace
 
 int main(int argc, char** argv) {
+  pleat::cli::keep_standard_output_errors();  // "cannot write to standard output (REASON)" says the real reason
   // Joins the MPI job when mpirun or srun started pleat (cli/process_group.hpp).
   pleat::cli::ProcessGroupSession group(argc, argv);
   try {

@@ -6,6 +6,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include <atomic>
 #include <cerrno>
 #include <cstdlib>
 #include <cstring>
@@ -14,6 +15,7 @@
 #include <limits>
 #include <iostream>
 #include <mutex>
+#include <streambuf>
 #include <system_error>
 #include <vector>
 
@@ -175,6 +177,65 @@ void OutputFile::close() {
   if (std::fclose(file) != 0) fail(errno ? errno : EIO);
 }
 
+namespace {
+
+// Passes every write on to std::cout's own buffer (stdio's: the same
+// locking, the same order with anything else written there) and notes errno
+// when one fails, before later calls overwrite it.
+class ErrorKeepingBuffer : public std::streambuf {
+ public:
+  explicit ErrorKeepingBuffer(std::streambuf* inner) : inner_(inner) {}
+  int first_error() const { return first_error_.load(); }
+
+ protected:
+  int_type overflow(int_type c) override {
+    if (traits_type::eq_int_type(c, traits_type::eof())) return sync() == 0 ? traits_type::not_eof(c) : c;
+    const int saved = begin_write();
+    const int_type result = inner_->sputc(traits_type::to_char_type(c));
+    end_write(traits_type::eq_int_type(result, traits_type::eof()), saved);
+    return result;
+  }
+  std::streamsize xsputn(const char* text, std::streamsize count) override {
+    const int saved = begin_write();
+    const std::streamsize written = inner_->sputn(text, count);
+    end_write(written < count, saved);
+    return written;
+  }
+  int sync() override {
+    const int saved = begin_write();
+    const int result = inner_->pubsync();
+    end_write(result != 0, saved);
+    return result;
+  }
+
+ private:
+  // errno cleared for the write, so that a stale value is not taken for its
+  // reason, and restored after a write that did not fail (the caller's errno kept).
+  static int begin_write() {
+    const int saved = errno;
+    errno = 0;
+    return saved;
+  }
+  void end_write(bool has_failed, int saved) {
+    int none = 0;
+    if (has_failed && errno) first_error_.compare_exchange_strong(none, errno);
+    if (!has_failed) errno = saved;
+  }
+  std::streambuf* inner_;
+  std::atomic<int> first_error_{0};
+};
+
+ErrorKeepingBuffer* standard_output_buffer = nullptr;  // keep_standard_output_errors's
+
+}  // namespace
+
+void keep_standard_output_errors() {
+  if (standard_output_buffer) return;
+  // Never destroyed: std::cout is flushed after static objects are gone.
+  standard_output_buffer = new ErrorKeepingBuffer(std::cout.rdbuf());
+  std::cout.rdbuf(standard_output_buffer);
+}
+
 void check_standard_output() {
   errno = 0;
   std::cout.flush();
@@ -182,7 +243,8 @@ void check_standard_output() {
   const int stream_errno = errno;
   errno = 0;
   const bool is_stdio_bad = std::fflush(stdout) != 0 || std::ferror(stdout);
-  const int error_number = stream_errno ? stream_errno : (errno ? errno : EIO);
+  const int kept_errno = standard_output_buffer ? standard_output_buffer->first_error() : 0;
+  const int error_number = kept_errno ? kept_errno : stream_errno ? stream_errno : (errno ? errno : EIO);
   if (is_stream_bad || is_stdio_bad)
     throw output_error(std::string("cannot write to standard output (") + std::strerror(error_number) + ")");
 }

@@ -77,7 +77,15 @@ void refuse_unwritable_output(const std::string& path);
 
 // Throws output_error when standard output cannot be written (after
 // flushing it): "cannot write to standard output (No space left on device)".
+// The reason is the first failed write's once keep_standard_output_errors ran.
 void check_standard_output();
+
+// Keeps the reason (errno) of the first failed write to std::cout for
+// check_standard_output: a write that fails mid-run (its text past the stdio
+// buffer) leaves only the stream's error flag, and errno is long gone by the
+// check ("Input/output error" was said for /dev/full and a closed stdout
+// alike). Call once, at the start of main; the writes still go through stdio.
+void keep_standard_output_errors();
 
 // Writes `text` to a temporary file next to `path` and renames it over
 // `path`, so that a reader of `path` sees the old or the new content, never

@@ -38,6 +38,23 @@ stdout_full "$space" --help
 stdout_full "$space" walk --help
 "$pleat" walk "$net" -q -o "$work/r.jsonl" --certificates > /dev/null || fail "walk -o exited $?"
 stdout_full "$space" verify "$net" "$work/r.jsonl"
+# Output past stdio's buffer fails mid-run, long before the check at exit:
+# the reason is that write's, not "Input/output error" (errno was lost by then).
+"$pleat" random --arch 2,30,30,1 --seed 1 -o "$work/wide.json" || fail "random exited $?"
+[ "$(wc -c < "$work/wide.json")" -gt 8192 ] || fail "wide.json is too small to fail mid-run"
+stdout_full "cannot write to standard output ($space)" random --arch 2,30,30,1 --seed 1
+# A closed standard output: the system's reason for that, not /dev/full's nor "Input/output error".
+for arch in 2,3,1 2,30,30,1; do
+  "$pleat" random --arch $arch --seed 1 >&- 2> "$work/err"
+  code=$?
+  [ $code -eq 1 ] || fail "random --arch $arch >&-: exit $code, expected 1 ($(cat "$work/err"))"
+  [ "$(cat "$work/err")" = "pleat: cannot write to standard output (Bad file descriptor)" ] ||
+    fail "random --arch $arch >&-: $(cat "$work/err")"
+done
+# A pipe whose reader left (SIGPIPE ignored, as under some shells and launchers);
+# the output (190 kB) is more than a pipe holds, so the reader leaves before its end.
+(trap '' PIPE; "$pleat" random --arch 2,100,100,1 --seed 1 2> "$work/err" | head -c 1 > /dev/null)
+[ "$(cat "$work/err")" = "pleat: cannot write to standard output (Broken pipe)" ] || fail "closed pipe: $(cat "$work/err")"
 
 # -o FILE that cannot be written: the file and the reason, never "internal error".
 file_bad() {
