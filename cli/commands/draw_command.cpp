@@ -177,6 +177,8 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
                       "2 (regions) or 3 (a mesh)");
   refuse_figure_only_options(arguments, format);
   refuse_shared_outputs({{"--out", arguments.output_path}, {"--table", arguments.table_path}});
+  // Written after the walk and the clipping: tried before them.
+  for (const std::string* output : {&arguments.output_path, &arguments.table_path}) refuse_unwritable_output(*output);
   if (!arguments.size_text.empty()) (void)parse_figure_size(arguments.size_text);  // a bad --size fails before the walk
   std::optional<View> view;
   if (!arguments.view_text.empty()) {

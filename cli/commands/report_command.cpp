@@ -7,6 +7,7 @@
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
+#include "cli/formats/output_file.hpp"
 #include "cli/figures/figure_scene.hpp"
 #include "cli/progress.hpp"
 #include "cli/report_data.hpp"
@@ -233,6 +234,7 @@ void write_page(const ReportArguments& arguments, const std::string& title, cons
 
 int report_network(const ReportArguments& arguments, const std::atomic<bool>& interrupt) {
   const Network network = read_network_input(arguments.input_path);
+  refuse_unwritable_output(arguments.output_path);  // the page is written after the walk: tried before it
   const std::size_t dim = network.input_dim;
   if (dim < 1 || dim > 3)
     throw input_error("report: the network has " + std::to_string(dim) +

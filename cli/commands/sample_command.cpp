@@ -13,6 +13,7 @@
 #include "cli/command.hpp"
 #include "cli/common.hpp"
 #include "cli/domain_options.hpp"
+#include "cli/formats/output_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/signals.hpp"
 #include "cli/walk_options.hpp"
@@ -155,6 +156,7 @@ int run_sample(const SampleArguments& arguments) {
     throw input_error("--dtype: expected float64 or float32, got '" + arguments.dtype + "'");
   options.is_float32 = arguments.dtype == "float32";
   check_batch_size(arguments.batch, network, "--batch");
+  refuse_unwritable_output(arguments.points_path);  // written after the points are drawn: tried before
 
   ProgressLine progress(arguments.quiet);
   const InterruptGuard interrupt;

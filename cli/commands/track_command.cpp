@@ -314,6 +314,8 @@ int track_checkpoints(const TrackArguments& arguments, UnwrittenOutputs& outputs
   for (const std::string* output : {&arguments.output_path, &arguments.csv_path, &arguments.svg_path})
     refuse_overwriting_input(*output);  // before the run, not after it
   refuse_shared_outputs({{"-o", arguments.output_path}, {"--csv", arguments.csv_path}, {"--svg", arguments.svg_path}});
+  // Written after the last checkpoint: tried now, not after every checkpoint's walk.
+  for (const std::string* output : {&arguments.csv_path, &arguments.svg_path}) refuse_unwritable_output(*output);
   const Domain domain = make_domain(arguments.domain, *input_dim);
   const Json header = header_json(arguments, domain);
   std::map<std::size_t, TrackRow> finished;

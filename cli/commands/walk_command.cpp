@@ -111,6 +111,7 @@ int run_walk(const WalkArguments& arguments) {
     const InterruptGuard interrupt;
     return follow_walks(network, domain, interrupt.flag());
   }
+  refuse_unwritable_output(arguments.points_path);  // rank 0 writes it after the walk: tried before it
 
   std::optional<OutputFile> regions_file;
   if (!arguments.output_path.empty()) {

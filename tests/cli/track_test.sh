@@ -130,14 +130,18 @@ pleat: $work/earlier.svg is stale: an earlier run's, not rewritten (interrupted 
   fail "stderr: $(cat "$work/none.err")"
 [ ! -e "$work/none.csv" ] || fail "a CSV was written with no checkpoint done"
 [ "$(cat "$work/earlier.svg")" = "<svg>earlier</svg>" ] || fail "the earlier SVG was changed"
-# A run stopped by an error after its CSV (the SVG's folder is missing): the CSV is
-# this run's, the SVG's path unusable, and an earlier CSV is not named.
+# An unwritable --svg (its folder is missing) is refused before the run, as
+# --csv is: no checkpoint certified, the CSV not written (it was, and then the
+# run failed on the SVG), and an earlier CSV named as stale.
 echo "<svg>earlier</svg>" > "$work/earlier2.svg"
 echo "earlier" > "$work/earlier.csv"
 "$pleat" track "${checkpoints[0]}" --box -2,2 --csv "$work/earlier.csv" --svg "$work/missing/t.svg" -q \
   > /dev/null 2> "$work/failed.err"
 [ $? = 2 ] || fail "track with an unwritable --svg must exit 2: $(cat "$work/failed.err")"
-grep -q "stale" "$work/failed.err" && fail "a file this run wrote is named stale: $(cat "$work/failed.err")"
+[ "$(cat "$work/failed.err")" = "pleat: $work/earlier.csv is stale: an earlier run's, not rewritten (the run failed: see below)
+pleat: $work/missing/t.svg: cannot open for writing (No such file or directory)" ] ||
+  fail "stderr: $(cat "$work/failed.err")"
+[ "$(cat "$work/earlier.csv")" = "earlier" ] || fail "the CSV was written though the SVG was refused"
 # ... and stopped by an error before either was written (the CSV's folder is missing).
 "$pleat" track "${checkpoints[0]}" --box -2,2 --csv "$work/missing/t.csv" --svg "$work/earlier2.svg" -q \
   > /dev/null 2> "$work/failed.err"
