@@ -425,12 +425,12 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // that thread keeps up: formed where the region was processed, its 3 x D
     // words crossed processors to be reduced and their memory crossed back
     // (2,15,15,15,1 at 2 threads: 41 ms of walk thread time, 35 so, 28 at one).
-    // Once rows_behind entries wait (fewer is a passing burst, and rows formed
-    // then crossed processors for nothing: 1 ms of thread time at 2 threads on
-    // 2,15,15,15,1), the processing thread forms them, so that only the
-    // reduction is serial (2,30,30,30,1: most of its walk). seen_by_points and
-    // rows_for_walk are not written during the walk, so workers may read them.
-    constexpr std::size_t rows_behind = 64;
+    // Once rows_behind entries wait, the processing thread forms them: only the
+    // reduction is serial (2,30,30,30,1: most of its walk). Not sooner: waiting
+    // rows are new memory, a page fault a page (10 us on our virtual machine),
+    // and those left at the walk's end are formed on a second thread (reduce_all).
+    // seen_by_points and rows_for_walk are not written in the walk: workers read them.
+    constexpr std::size_t rows_behind = 512;
     walk_options.prepare_region = [&](const Region& region) -> std::any {
       if (!region.nonsmooth_neurons.empty() || seen_by_points.contains(region.pattern)) return {};
       if (backlog.queued() < rows_behind) return std::shared_ptr<const ModularMatrix>();
@@ -472,7 +472,12 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     // What the walk's threads left; after a stop (time limit, Ctrl-C), dropped
     // from the first entry not reduced: the walk is then cut there.
     std::optional<detail::RegionsSoFar> cut_at;
-    if (!backlog.reduce_all(stop) && !stopped_at) cut_at = backlog.last_reduced();
+    const auto form = [&](const detail::PendingRows& pending, ModularMatrix& rows) {  // as add_region_rows would
+      if (rows_for_walk.contains(pending.pattern)) return false;
+      rows = coefficient_blocks_mod(modular, pending.pattern);
+      return true;
+    };
+    if (!backlog.reduce_all(stop, threads, form) && !stopped_at) cut_at = backlog.last_reduced();
     if (stopped_at || cut_at) {  // the walk as on_region would have stopped it, reducing each region's rows itself
       const detail::RegionsSoFar& at = stopped_at ? *stopped_at : *cut_at;
       result.early_stop = stopped_at.has_value();

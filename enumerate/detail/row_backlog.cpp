@@ -1,7 +1,13 @@
 #include "enumerate/detail/row_backlog.hpp"
 
+#include "enumerate/detail/parallel_for.hpp"
+
+#include <atomic>
 #include <cstdint>
+#include <memory>
+#include <thread>
 #include <utility>
+#include <vector>
 
 namespace pleat::detail {
 
@@ -75,6 +81,61 @@ bool RowBacklog::reduce_all(const StopRequest& stop) {
   is_closed_.store(true, std::memory_order_release);
   taken_.store(written, std::memory_order_release);
   return is_drained;
+}
+
+bool RowBacklog::reduce_all(const StopRequest& stop, unsigned threads, const Form& form) {
+  const std::size_t first = taken_.load(std::memory_order_acquire), end = written_.load(std::memory_order_acquire);
+  if (threads < 2 || is_closed() || end - first < 2 * ahead) return reduce_all(stop);
+  // Entry i's rows go to formed[i % ahead], memory used again and again (new
+  // memory costs a page fault a page), which the entry points to without
+  // owning it; on the way out (an error included) no entry points there.
+  std::vector<ModularMatrix> formed(ahead);
+  struct Unpoint {
+    RowBacklog& backlog;
+    std::size_t first, end;
+    ~Unpoint() {
+      for (std::size_t i = first; i < end; ++i) backlog.slot(i).pending.rows.reset();
+    }
+  } unpoint{*this, first, end};
+  std::vector<std::atomic<char>> formed_ready(end - first);  // each 0 until its entry's claimer is done
+  alignas(64) std::atomic<std::size_t> next_to_form{first};  // the entries below it are claimed
+  alignas(64) std::atomic<std::size_t> reduced_below{first};
+  alignas(64) std::atomic<bool> finished{false};
+  auto form_ahead = [&] {  // claims entries in order, at most `ahead` past the last reduced
+    for (std::size_t i; !finished.load(std::memory_order_acquire) && (i = next_to_form.fetch_add(1)) < end;) {
+      while (i >= reduced_below.load(std::memory_order_acquire) + ahead) {
+        if (finished.load(std::memory_order_acquire)) return;
+        std::this_thread::yield();
+      }
+      try {
+        PendingRows& pending = slot(i).pending;
+        if (!pending.rows && form(pending, formed[i % ahead]))
+          pending.rows = std::shared_ptr<const ModularMatrix>(std::shared_ptr<void>(), &formed[i % ahead]);
+      } catch (...) {  // reduce forms this entry's rows itself, and meets the error there
+        formed_ready[i - first].store(1, std::memory_order_release);
+        return;
+      }
+      formed_ready[i - first].store(1, std::memory_order_release);
+    }
+  };
+  auto reduce_in_order = [&] {
+    struct Finish {
+      std::atomic<bool>& finished;
+      ~Finish() { finished.store(true, std::memory_order_release); }
+    } finish{finished};
+    for (std::size_t i = first; i < end; ++i) {
+      // Unclaimed (so not being formed: the entries before it are reduced):
+      // claimed here and reduced as it is, its rows formed by reduce.
+      std::size_t unclaimed = i;
+      if (!next_to_form.compare_exchange_strong(unclaimed, i + 1))
+        while (!formed_ready[i - first].load(std::memory_order_acquire)) std::this_thread::yield();
+      if (stop.is_requested() || !reduce_one()) return;
+      slot(i).pending.rows.reset();  // reduce_one frees the rows only on the pushing thread
+      reduced_below.store(i + 1, std::memory_order_release);
+    }
+  };
+  parallel_for(2, threads, [&](std::size_t task) { task == 0 ? reduce_in_order() : form_ahead(); });
+  return reduce_all(stop);  // a stop's close, or nothing left
 }
 
 std::size_t RowBacklog::queued() const {

@@ -87,6 +87,17 @@ class RowBacklog {
   // entry reduced (last_reduced). The drain after a walk stopped by its time
   // limit at --threads 2 reduced up to 64 MB of rows, seconds past the limit.
   bool reduce_all(const StopRequest& stop);
+  // Forms an entry's rows into `rows` ahead of its reduction; false when it
+  // forms none (reduce then finds or forms them itself).
+  using Form = std::function<bool(const PendingRows&, ModularMatrix& rows)>;
+  // reduce_all once no other thread pushes or reduces (the walk has ended),
+  // on up to two of `threads`: while one reduces the entries in order,
+  // another forms the rows of the next `ahead` (form) for reduce to find in
+  // their entries; an entry the other has not reached is reduced as it is.
+  // The same entries reduced in the same order, with the same rows, as
+  // reduce_all(stop); the stop is polled before each entry.
+  bool reduce_all(const StopRequest& stop, unsigned threads, const Form& form);
+  static constexpr std::size_t ahead = 16;
   // The walk's regions up to the last entry reduced (none: all zero).
   RegionsSoFar last_reduced() const;
   // True once reduce returned false. Any thread.
