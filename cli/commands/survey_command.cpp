@@ -141,6 +141,18 @@ std::vector<std::uint64_t> pending_samples(const SurveyConfiguration& configurat
 // architecture's first pending samples), written by run_one before the rest.
 using ProbedSamples = std::vector<SurveySample>;
 
+// A survey file tried before any sample runs: one of another survey, or a
+// path that cannot be written, was found only at its architecture's turn,
+// after the architectures before it (and the projection's samples) had run.
+// An existing file is opened for appending, which changes nothing.
+void refuse_unusable_survey_file(const SurveyConfiguration& configuration, const ShardSet& shard,
+                                 const std::string& path) {
+  if (path.empty() || path == "-") return;
+  (void)resume_survey_file(path, survey_header_json(configuration, shard));
+  if (std::filesystem::exists(path)) OutputFile(path, OutputFile::Mode::append).close();
+  else refuse_unwritable_output(path);
+}
+
 // Runs (or resumes) one architecture's survey; returns what its file holds.
 SurveyRecord run_one(const SurveyArguments& arguments, const SurveyConfiguration& configuration,
                      const ShardSet& shard, const std::string& path, const std::string& label,
@@ -344,6 +356,8 @@ int run_survey_command(const SurveyArguments& arguments) {
     for (std::size_t j = 0; j < k; ++j)
       if (!paths[k].empty() && paths[k] == paths[j])
         throw input_error("--arch: " + arguments.architectures[k] + " is given twice");
+  if (!is_follower_process())  // rank 0 writes the files
+    for (std::size_t k = 0; k < paths.size(); ++k) refuse_unusable_survey_file(configurations[k], shard, paths[k]);
 
   ProgressLine progress(arguments.quiet);
   const InterruptGuard interrupt;

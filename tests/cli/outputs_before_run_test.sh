@@ -1,11 +1,12 @@
 #!/bin/bash
 # The files written after a long run (walk --points-out, draw --out and
-# --table, sample --points-out, report -o, track --csv and --svg) were tried
-# only when written: a missing directory or a directory as the path ended
-# the command after its whole walk, with its result lost. Now each is tried
-# before the run (refuse_unwritable_output, as certify's files): exit 2 at
-# once, nothing on standard output, the path and the reason on standard
-# error, no other output written, nothing left behind.
+# --table, sample --points-out, report -o, track --csv and --svg, survey -o
+# for every architecture of a grid) were tried only when written: a missing
+# directory or a directory as the path ended the command after its whole
+# walk, with its result lost. Now each is tried before the run
+# (refuse_unwritable_output, as certify's files): exit 2 at once, nothing on
+# standard output, the path and the reason on standard error, no other
+# output written, nothing left behind.
 set -u
 source "$(dirname "$0")/lib.sh"
 
@@ -42,6 +43,30 @@ refused "$work/none/p.txt" walk "$long" -q --threads 1 -o "$work/regions.jsonl" 
 [ -z "$(ls -A "$work/dir")" ] || fail "left in the directory: $(ls -A "$work/dir")"
 leftover=$(ls -A "$work" | grep '^\.')
 [ -z "$leftover" ] || fail "hidden files left: $leftover"
+
+# survey: every architecture's file is tried before any sample runs. The
+# second's folder missing, or its file another survey's, was found after the
+# first architecture had run (its file written) and the projection's samples.
+mkdir "$work/grid" "$work/grid/2-3-1"
+for quiet in -q ""; do
+  status=0
+  "$pleat" survey --arch 2,3,1 --arch 2,4,1 --samples 3 --seed 1 $quiet -o "$work/grid/{arch}/s.jsonl" \
+    > "$work/out.txt" 2> "$work/err.txt" || status=$?
+  [ "$status" = 2 ] || fail "survey grid with a missing folder: exit status $status, expected 2"
+  expect_contains "$(cat "$work/err.txt")" "$work/grid/2-4-1/s.jsonl: cannot open for writing (No such file or directory)" \
+    "survey grid with a missing folder"
+  [ ! -e "$work/grid/2-3-1/s.jsonl" ] || fail "survey ran its first architecture though the second's file was refused"
+  [ ! -s "$work/out.txt" ] || fail "survey printed a report: $(cat "$work/out.txt")"
+done
+"$pleat" survey --arch 2,4,1 --samples 3 --seed 2 -q -o "$work/grid/s.2-4-1.jsonl" > /dev/null || fail "survey 2,4,1"
+cp "$work/grid/s.2-4-1.jsonl" "$work/grid/other.jsonl"
+status=0
+"$pleat" survey --arch 2,3,1 --arch 2,4,1 --samples 3 --seed 1 -q -o "$work/grid/s.jsonl" > /dev/null 2> "$work/err.txt" ||
+  status=$?
+[ "$status" = 2 ] || fail "survey grid with another survey's file: exit status $status, expected 2"
+expect_contains "$(cat "$work/err.txt")" "s.2-4-1.jsonl: holds a different survey ('seed' is 2 there, 1 here)" "survey grid"
+[ ! -e "$work/grid/s.2-3-1.jsonl" ] || fail "survey ran its first architecture though the second's file was refused"
+cmp -s "$work/grid/s.2-4-1.jsonl" "$work/grid/other.jsonl" || fail "survey changed another survey's file"
 
 # A writable path is still written, and so is the output a run wrote in the
 # folder it was given (a fresh file in an existing directory).
