@@ -64,8 +64,11 @@ SparseModularRows extra_directions_of_basis(const ModularRowBasis& basis,
 // and the canonical basis of their kernel: the same matrices as
 // row_space_basis_modulo and kernel_basis_modulo (both are unique), by
 // Gauss-Jordan elimination that reads a pivot row at its nonzero entries
-// only and skips rows that are zero at its column. For the read-off's
-// mostly-zero matrices, where FLINT's elimination costs their full size.
+// only and skips rows that are zero at its column: the echelon form on the
+// rows' nonzero entries alone (as the read-off reduces W), the kernel on one
+// dense matrix reduced in place (as the read-off reduces its conditions).
+// For the read-off's mostly-zero matrices, where FLINT's elimination costs
+// their full size.
 ModularMatrix reduced_echelon_of_sparse_rows(std::vector<ModularVector> rows, std::size_t cols, std::uint64_t prime);
 ModularMatrix kernel_of_sparse_rows(const std::vector<ModularVector>& rows, std::size_t cols, std::uint64_t prime);
 
