@@ -272,7 +272,7 @@ struct UnwrittenOutputs {
     std::vector<std::string> stale;
     for (const auto& [path, is_written] : {std::pair{arguments.csv_path, is_csv_written},
                                            std::pair{arguments.svg_path, is_svg_written}})
-      if (!is_written && !path.empty() && path != "-" && std::filesystem::exists(path) && !is_checkpoint(path))
+      if (!is_written && !path.empty() && path != "-" && std::filesystem::is_regular_file(path) && !is_checkpoint(path))
         stale.push_back(path);
     for (const auto& path : stale)
       std::cerr << "pleat: " << path << " is stale: an earlier run's, not rewritten (" << why << ")\n";
@@ -362,12 +362,14 @@ int track_checkpoints(const TrackArguments& arguments, UnwrittenOutputs& outputs
     return is_interrupted ? 130 : 0;
   }
 
+  // The table first: a CSV or SVG that fails to be written (a full disk)
+  // then loses itself, not every checkpoint's certified value as well.
+  if (arguments.json) std::cout << json_text(table_json(rows, domain, arguments.checkpoints, is_interrupted));
+  else print_table(rows, domain, std::cout);
   if (!arguments.csv_path.empty()) write_output(arguments.csv_path, table_csv(rows, arguments.checkpoints));
   outputs.is_csv_written = true;
   if (!arguments.svg_path.empty()) write_output(arguments.svg_path, track_svg(rows, domain, arguments.checkpoints.size()));
   outputs.is_svg_written = true;
-  if (arguments.json) std::cout << json_text(table_json(rows, domain, arguments.checkpoints, is_interrupted));
-  else print_table(rows, domain, std::cout);
   if (is_interrupted) {
     std::cerr << "pleat: track interrupted; " << rows.size() << " of " << count_of(arguments.checkpoints.size(), "checkpoint")
               << " done" << (arguments.output_path.empty() ? "" : ", kept in " + arguments.output_path)

@@ -152,17 +152,20 @@ int run_walk(const WalkArguments& arguments) {
     std::cerr << "pleat: walked across " << count_of(statistics.ranks, "process", "processes") << " (MPI), "
               << statistics.bytes_sent << " bytes sent between them ("
               << (summary.regions ? statistics.bytes_sent / summary.regions : 0) << " per region)\n";
-  if (regions_file) regions_file->close();
 
-  if (!arguments.points_path.empty())
-    write_interior_points(network, arguments.points_path, interior_points, interior_patterns, summary);
-
+  // The summary first: a file that fails to be written (a full disk) then
+  // loses itself, not the walk's counts as well.
   if (arguments.json) {
     std::cout << json_text(walk_summary_to_json(network, domain, summary, arguments.patterns));
   } else {
     print_summary(network, domain, summary, std::cout);
     if (arguments.patterns)
       for (const auto& pattern : summary.patterns) std::cout << format_pattern(network, pattern) << "\n";
+  }
+  if (regions_file) regions_file->close();
+  if (!arguments.points_path.empty())
+    write_interior_points(network, arguments.points_path, interior_points, interior_patterns, summary);
+  if (!arguments.json) {
     if (!arguments.output_path.empty())
       std::cout << "written     " << arguments.output_path << " (" << count_of(summary.regions, "region line")
                 << (summary.complete ? "" : ", one per region found; regions are missing") << ")\n";

@@ -75,6 +75,22 @@ file_bad 2 "$missing.jsonl: cannot open for writing (No such file or directory)"
 file_bad 2 "$missing.json: cannot open for writing (No such file or directory)" random --arch 2,3,1 --seed 1 -o "$missing.json"
 file_bad 2 "$missing.jsonl: cannot open for writing (No such file or directory)" survey --arch 2,3,1 --samples 2 --seed 1 -q -o "$missing.jsonl"
 
+# A file that fails at the end of a run (a full disk) loses itself, not the
+# run's result: the summary or table is printed first (walk printed nothing,
+# track no table: every checkpoint's certified value was lost), no "written"
+# line is printed for it, and a device is not named as an earlier run's file.
+"$pleat" walk "$net" -q --points-out /dev/full > "$work/out" 2> "$work/err"
+code=$?
+[ $code -eq 1 ] || fail "walk --points-out /dev/full: exit $code, expected 1"
+grep -q "^regions     " "$work/out" || fail "walk --points-out /dev/full printed no summary: $(cat "$work/out")"
+grep -q "^written" "$work/out" && fail "walk --points-out /dev/full said it was written: $(cat "$work/out")"
+[ "$(cat "$work/err")" = "pleat: /dev/full: cannot write ($space)" ] || fail "walk --points-out /dev/full: $(cat "$work/err")"
+"$pleat" track "$fold" "$net" --box -2,2 -q --csv /dev/full > "$work/out" 2> "$work/err"
+code=$?
+[ $code -eq 1 ] || fail "track --csv /dev/full: exit $code, expected 1"
+[ "$(grep -c "json  *[0-9]" "$work/out")" = 2 ] || fail "track --csv /dev/full printed no table: $(cat "$work/out")"
+[ "$(cat "$work/err")" = "pleat: /dev/full: cannot write ($space)" ] || fail "track --csv /dev/full: $(cat "$work/err")"
+
 # survey merge -o: one of its inputs is refused and left intact; an existing
 # other file is replaced whole.
 "$pleat" survey --arch 2,3,1 --samples 4 --seed 1 --task-index 0 --task-count 2 -q -o "$work/s0.jsonl" > /dev/null || fail "survey shard 0"
