@@ -118,6 +118,21 @@ class CertifyTest(unittest.TestCase):
         self.compare(harness.data("fold2d.json"), "--box", "-1,1", domain=(-1, 1))
         self.compare(harness.test_data("dead2d.json"), "--full-walk", full_walk=True)
 
+    def test_kernel_equals_the_kernel_file(self):
+        # Entry by entry, zeros included (one shared Fraction(0) stands for every
+        # zero: python/src/convert.cpp), as certify --kernel-out writes the kernel:
+        # the scaling directions, then the extra ones (dead2d.json has extra ones).
+        for path in (FOLD, harness.test_data("dead2d.json")):
+            with tempfile.TemporaryDirectory() as work:
+                kernel_file = os.path.join(work, "kernel.txt")
+                harness.cli_json("certify", path, "-q", "--full-walk", "--kernel-out", kernel_file)
+                with open(kernel_file) as text:
+                    expected = [fractions(line.split(",")) for line in text.read().splitlines()]
+            kernel = pleat.Network.from_file(path).certify(full_walk=True).kernel
+            self.assertEqual(kernel, expected, path)
+            self.assertTrue(all(type(v) is Fraction for row in kernel for v in row), path)
+            self.assertTrue(any(v == 0 for row in kernel for v in row) and any(v != 0 for row in kernel for v in row))
+
     def test_kernel_and_evidence_of_each_outcome(self):
         net = pleat.Network.from_file(FOLD)
         by_points, walked = net.certify(), net.certify(full_walk=True)
