@@ -177,7 +177,9 @@ int draw_figure(const DrawArguments& arguments, const std::atomic<bool>& interru
                       "2 (regions) or 3 (a mesh)");
   refuse_figure_only_options(arguments, format);
   refuse_shared_outputs({{"--out", arguments.output_path}, {"--table", arguments.table_path}});
-  // Written after the walk and the clipping: tried before them.
+  // Written after the walk and the clipping: tried before them, the saved walk
+  // read by --from among the files not to replace (it is read later).
+  if (!arguments.from_path.empty()) note_input_file(arguments.from_path, "region file");
   for (const std::string* output : {&arguments.output_path, &arguments.table_path}) refuse_unwritable_output(*output);
   if (!arguments.size_text.empty()) (void)parse_figure_size(arguments.size_text);  // a bad --size fails before the walk
   std::optional<View> view;

@@ -37,6 +37,19 @@ done
 refused "$work/none/f.svg" draw "$long" -q --threads 1 --out "$work/none/f.svg"
 refused "$work/none/t.csv" draw "$long" -q --threads 1 --out "$work/f.svg" --table "$work/none/t.csv"
 [ ! -e "$work/f.svg" ] || fail "draw wrote its figure though its --table was refused"
+# draw --from R --table R: the saved walk it reads is refused as an output
+# before the drawing (it was refused only when the table was written, after
+# the figure had been).
+"$pleat" walk "$source_dir/data/fold2d.json" -q -o "$work/saved.jsonl" > /dev/null || fail "walk -o saved.jsonl"
+cp "$work/saved.jsonl" "$work/saved.copy"
+status=0
+"$pleat" draw "$source_dir/data/fold2d.json" -q --from "$work/saved.jsonl" --out "$work/g.svg" --table "$work/saved.jsonl" \
+  > /dev/null 2> "$work/err.txt" || status=$?
+[ "$status" = 2 ] || fail "draw --table over its --from file: exit status $status, expected 2"
+expect_contains "$(cat "$work/err.txt")" "saved.jsonl: is the region file this command read" "draw --table over --from"
+[ ! -e "$work/g.svg" ] || fail "draw wrote its figure though its --table (the --from file) was refused"
+cmp -s "$work/saved.jsonl" "$work/saved.copy" || fail "draw changed the --from file"
+rm "$work/saved.jsonl" "$work/saved.copy"
 # The other output of the run is not written either (walk -o wrote every region).
 refused "$work/none/p.txt" walk "$long" -q --threads 1 -o "$work/regions.jsonl" --points-out "$work/none/p.txt"
 [ ! -e "$work/regions.jsonl" ] || fail "walk wrote its -o file though its --points-out was refused"
