@@ -114,9 +114,14 @@ void print_record(const Network& network, const Domain& domain, const Record& re
     out << "\n";
   }
   const auto& rep = record.vertices;
-  out << "vertices    " << rep.points.size();
-  if (dim == 2 && rep.lines.empty()) out << ", in counter-clockwise order along the boundary";
-  if (!rep.lines.empty()) out << " (a point of the region; it contains lines)";
+  if (rep.lines.empty()) {
+    out << "vertices    " << rep.points.size();
+    if (dim == 2) out << ", in counter-clockwise order along the boundary";
+  } else {
+    // Not "a point of the region": the V-representation's one point lies in the
+    // closure, often on a facet, and the region is open (every form > 0).
+    out << "vertices    none (the region contains lines); its closure is this point plus the rays and lines";
+  }
   out << "\n";
   for (const auto& p : rep.points) out << "  " << point_text(p, exact_only) << "\n";
   if (!rep.rays.empty()) {

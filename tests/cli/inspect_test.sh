@@ -112,4 +112,17 @@ out=$("$pleat" inspect "$fold" --at 1/3,1/5 --exact-only) || fail "inspect --at 
 grep -q '^point' <<< "$out" && fail "a line labelled point: $out"
 grep -q '^interior    (.*)  (a point strictly inside the region' <<< "$out" || fail "no interior line: $out"
 
+# A region that contains lines has no vertex; its V-representation's point is
+# on the boundary here (x1 > 0 of a one-neuron network: the point (0, 0)), so it
+# is not called a vertex nor a point of the (open) region.
+cat > "$work/half.json" <<'JSON'
+{"format": "pleat-network/1", "input_dim": 2, "layers": [
+  {"weights": [["1", "0"]], "bias": ["0"], "activation": "relu"},
+  {"weights": [["1"]], "bias": ["0"], "activation": "linear"}]}
+JSON
+out=$("$pleat" inspect "$work/half.json" --at 1,0 --exact-only) || fail "inspect of a half-plane exited $?"
+grep -q '^vertices    none (the region contains lines); its closure is this point plus the rays and lines$' <<< "$out" ||
+  fail "a half-plane's vertices line: $out"
+grep -q '^lines       (0, 1)$' <<< "$out" || fail "a half-plane's lines: $out"
+
 echo ok
