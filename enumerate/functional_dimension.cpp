@@ -102,11 +102,11 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
   const ModularNetwork modular = reduce_modulo_some_prime(network, primary_prime());
   ModularRowBasis basis(modular.prime, parameters);
   std::vector<KeptRows> kept;
+  detail::SpareRows spare_rows(parameters);  // kept rows' copies; topped up by the drain's second thread
   std::vector<ActivationPattern> smooth;
   detail::NeuronActivity activity(network.relu_neuron_count());
-  // The rows (coefficient_blocks_mod) of the regions the first two batches
-  // found when the points give up before eliminating any: the walk takes
-  // them instead of computing them again. Read only during the walk.
+  // The rows (coefficient_blocks_mod) of the regions the first two batches found when the points
+  // give up before eliminating any: the walk takes them instead of computing them again. Read only in the walk.
   std::map<ActivationPattern, ModularMatrix> rows_for_walk;
 
   // Rows are added screened (core/rank.hpp): most are dependent, and a
@@ -136,7 +136,7 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
       // add_row_screened, screened in place (most rows are dependent): only a row that passes is copied out.
       for (std::size_t r = 0; r < rows.rows(); ++r)
         if (basis.rank() < basis.columns() && basis.passes_screen({&rows(r, 0), rows.cols()}))
-          if (ModularVector row = rows.row(r); basis.add_row(row)) {
+          if (ModularVector row = spare_rows.copy(&rows(r, 0)); basis.add_row(row)) {
             region.rows.push_back(r);
             region.residues.push_back(std::move(row));
           }
@@ -469,12 +469,12 @@ FunctionalDimensionResult certify_functional_dimension(const Network& network, c
     else
       result.walk = options.walker ? options.walker(network, domain, walk_options)
                                    : walk_regions(network, domain, walk_options);
-    // What the walk's threads left; after a stop (time limit, Ctrl-C), dropped
-    // from the first entry not reduced: the walk is then cut there.
+    // What the walk's threads left; after a stop (time limit, Ctrl-C), dropped from the first entry not reduced.
     std::optional<detail::RegionsSoFar> cut_at;
     const auto form = [&](const detail::PendingRows& pending, ModularMatrix& rows) {  // as add_region_rows would
       if (rows_for_walk.contains(pending.pattern)) return false;
       rows = coefficient_blocks_mod(modular, pending.pattern);
+      spare_rows.top_up();
       return true;
     };
     if (!backlog.reduce_all(stop, threads, form) && !stopped_at) cut_at = backlog.last_reduced();

@@ -11,6 +11,7 @@
 #include "core/stop.hpp"
 #include "enumerate/walker.hpp"
 
+#include <algorithm>
 #include <array>
 #include <atomic>
 #include <cstddef>
@@ -137,6 +138,51 @@ class RowBacklog {
   alignas(64) std::atomic<std::size_t> taken_{0};
   mutable std::mutex reducing_;  // held while an entry is reduced: one at a time, in order
   RegionsSoFar last_reduced_;     // under reducing_
+};
+
+// Vectors of `columns` entries, made and first touched ahead by a thread with
+// time to spare, for certify's reduction to copy the rows it keeps into: on
+// this virtual machine a fresh page's first touch costs about 10 us, and a
+// kept row's copy is a page. Topped up by the drain's second thread
+// (reduce_all with a Form), idle about half the drain, while the first
+// reduces in order, the serial stage: on 2,15,15,15,1 at 2 threads the
+// drain's reducer met about 285 first touches, 135 so. Not during the walk:
+// there the thread with the delivery processes regions all the while, and the
+// walk then ended later by what the reducer saved. One thread tops up and one
+// takes at a time (a ring of `depth` with a count each); the threads that
+// take in turn are ordered by the backlog's lock. The values are the same.
+class SpareRows {
+ public:
+  explicit SpareRows(std::size_t columns) : columns_(columns) {}
+  SpareRows(const SpareRows&) = delete;
+  SpareRows& operator=(const SpareRows&) = delete;
+  // Makes one spare vector when fewer than `depth` wait.
+  void top_up() {
+    const std::size_t made = made_.load(std::memory_order_relaxed);
+    if (made - taken_.load(std::memory_order_acquire) >= depth) return;
+    ring_[made % depth] = ModularVector(columns_);  // zeroed: every page touched here
+    made_.store(made + 1, std::memory_order_release);
+  }
+  // A copy of the `columns` entries at row, in a spare vector when one waits.
+  ModularVector copy(const std::uint64_t* row) {
+    const std::size_t taken = taken_.load(std::memory_order_relaxed);
+    if (taken == made_.load(std::memory_order_acquire)) return ModularVector(row, row + columns_);
+    ModularVector spare = std::move(ring_[taken % depth]);
+    std::copy(row, row + columns_, spare.begin());
+    taken_.store(taken + 1, std::memory_order_release);
+    return spare;
+  }
+  // Spare vectors made and not yet taken (a moment's count). Any thread.
+  std::size_t waiting() const {
+    return made_.load(std::memory_order_acquire) - taken_.load(std::memory_order_acquire);
+  }
+  static constexpr std::size_t depth = 16;
+
+ private:
+  std::size_t columns_;
+  std::array<ModularVector, depth> ring_;
+  alignas(64) std::atomic<std::size_t> made_{0};
+  alignas(64) std::atomic<std::size_t> taken_{0};
 };
 
 // The walk as if it had stopped at region at.regions (on_region asking it to
